@@ -1,0 +1,114 @@
+"""Quantity parsing: numbers or strings with units ("0.45 kg*cm^2", "3000 rpm") to SI floats.
+
+Plain numbers are taken to be in the SI unit of the expected dimension (kg, m, N·m, rad/s, ...).
+Temperatures are the one exception to "SI inside": they are kept in degrees Celsius, and a plain
+number is read as °C. The pint registry is built on first use so that importing is cheap.
+"""
+
+from __future__ import annotations
+
+import math
+from functools import lru_cache
+from typing import Any
+
+from .errors import InputError
+
+#: expected dimension name -> SI unit (pint expression) used for conversion and messages
+SI_UNITS: dict[str, str] = {
+    "dimensionless": "dimensionless",
+    "mass": "kg",
+    "length": "m",
+    "area": "m**2",
+    "angle": "rad",
+    "time": "s",
+    "force": "N",
+    "torque": "N*m",
+    "inertia": "kg*m**2",
+    "angular_velocity": "rad/s",
+    "angular_acceleration": "rad/s**2",
+    "velocity": "m/s",
+    "acceleration": "m/s**2",
+    "voltage": "V",
+    "current": "A",
+    "resistance": "ohm",
+    "power": "W",
+    "energy": "J",
+    "torque_constant": "N*m/A",
+    "thermal_resistance": "K/W",
+    "stiffness_torsional": "N*m/rad",
+    "stiffness_linear": "N/m",
+    "temperature": "degC",
+    "screw_lead": "m/rad",
+    "ratio": "dimensionless",
+}
+
+
+@lru_cache(maxsize=1)
+def registry():
+    """The shared pint registry (built once, on first use)."""
+    import pint
+
+    ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+    ureg.define("rpm = revolution / minute")
+    return ureg
+
+
+def quantity(value: Any, dimension: str, *, file: str = "<api>", field: str = "value") -> float:
+    """Convert ``value`` (number or string with unit) to a float in the SI unit of ``dimension``.
+
+    Raises :class:`InputError` naming ``file`` and ``field`` when the value is not a number,
+    cannot be parsed, has the wrong dimension, or is not finite.
+    """
+    if dimension not in SI_UNITS:
+        raise KeyError(f"unknown dimension {dimension!r}")
+    si = SI_UNITS[dimension]
+    if isinstance(value, bool):
+        raise InputError(file, field, f"must be a number or a quantity in {si}, got {value!r}")
+    if isinstance(value, (int, float)):
+        out = float(value)
+    elif isinstance(value, str):
+        text = value.strip()
+        try:
+            out = float(text)
+        except ValueError:
+            out = _parse(text, dimension, si, file, field)
+    else:
+        raise InputError(file, field, f"must be a number or a quantity in {si}, got {value!r}")
+    if not math.isfinite(out):
+        raise InputError(file, field, f"must be finite, got {value!r}")
+    return out
+
+
+def _parse(text: str, dimension: str, si: str, file: str, field: str) -> float:
+    import pint
+
+    ureg = registry()
+    try:
+        q = ureg.Quantity(text)
+        if dimension == "temperature":
+            return float(q.to("degC").magnitude)
+        if dimension in ("dimensionless", "ratio"):
+            if not q.dimensionless:
+                raise pint.DimensionalityError(q.units, "dimensionless")
+            return float(q.to("dimensionless").magnitude)
+        return float(q.to(si).magnitude)
+    except pint.DimensionalityError:
+        raise InputError(file, field, f"must be a quantity convertible to {si}, got {text!r}") from None
+    except Exception:
+        raise InputError(file, field, f"cannot read {text!r} as a quantity in {si}") from None
+
+
+def positive(value: Any, dimension: str, *, file: str = "<api>", field: str = "value") -> float:
+    """Like :func:`quantity` but the result must be > 0."""
+    out = quantity(value, dimension, file=file, field=field)
+    if not out > 0:
+        raise InputError(file, field, f"must be > 0 {SI_UNITS[dimension]}, got {value!r}")
+    return out
+
+
+def nonnegative(value: Any, dimension: str, *, file: str = "<api>", field: str = "value") -> float:
+    """Like :func:`quantity` but the result must be >= 0."""
+    out = quantity(value, dimension, file=file, field=field)
+    if out < 0:
+        raise InputError(file, field, f"must be >= 0 {SI_UNITS[dimension]}, got {value!r}")
+    return out
