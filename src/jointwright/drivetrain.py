@@ -1,0 +1,203 @@
+"""Motor + stage stack -> the joint-side properties of one actuator, per power-flow mode.
+
+Stage order runs from the motor to the joint: ``stages[0]`` is driven by the motor shaft, the
+last stage drives the joint. The transmission law per joint (ratio N, forward efficiency η_f,
+backward efficiency η_b, rotor-side inertia I_r, motor torque τ_m, joint-side torque τ_j):
+
+* motoring (τ_j·q̇ > 0):    τ_j = η_f·N·(τ_m − N·I_r·q̈)
+* back-driven (τ_j·q̇ < 0): τ_j = (N/η_b)·(τ_m − N·I_r·q̈), η_b > 0
+* η_b ≤ 0: self-locking — the load cannot drive the motor; the joint holds up to the gear rating.
+
+Efficiencies of a stack multiply per direction; any stage with η_b ≤ 0 makes the stack
+self-locking; its backward efficiency is then reported as the most negative stage value times
+the product of the positive ones, and the stack is flagged.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from functools import cached_property
+
+import numpy as np
+
+from .catalog.model import Motor, StageFrame, StageType
+
+#: power-flow modes, in the order the metrics report them
+MODES = ("frictionless", "motoring", "backdriven")
+
+
+@dataclass(frozen=True)
+class StageChoice:
+    """One stage of a stack: its type, frame size and ratio (input speed / output speed)."""
+
+    stage: StageType
+    frame: StageFrame
+    ratio: float
+
+    @cached_property
+    def efficiencies(self) -> tuple[float, float]:
+        f, b = self.stage.efficiency.pair(np.asarray(self.ratio, dtype=float))
+        return float(f), float(b)
+
+    def label(self) -> str:
+        return f"{self.stage.name}/{self.frame.name} {self.ratio:g}:1"
+
+
+@dataclass(frozen=True)
+class Actuator:
+    """A motor driving a joint through a stack of stages (possibly empty: direct drive)."""
+
+    motor: Motor
+    stages: tuple[StageChoice, ...] = ()
+
+    # --- ratios and efficiencies -------------------------------------------------------------
+    @cached_property
+    def ratio(self) -> float:
+        """Total ratio N = Π N_k (motor speed / joint speed)."""
+        return float(math.prod(s.ratio for s in self.stages)) if self.stages else 1.0
+
+    @cached_property
+    def eta_forward(self) -> float:
+        """Stack forward efficiency Π η_f,k (power motor -> joint)."""
+        return float(math.prod(s.efficiencies[0] for s in self.stages)) if self.stages else 1.0
+
+    @cached_property
+    def self_locking(self) -> bool:
+        """True when any stage's backward efficiency is ≤ 0."""
+        return any(s.efficiencies[1] <= 0 for s in self.stages)
+
+    @cached_property
+    def eta_backward(self) -> float:
+        """Stack backward efficiency Π η_b,k (power joint -> motor); ≤ 0 when self-locking."""
+        if not self.stages:
+            return 1.0
+        values = [s.efficiencies[1] for s in self.stages]
+        if self.self_locking:
+            # two locking stages must not multiply to a positive number: keep the sign of the
+            # most-locking stage and scale it by the others that pass power
+            return float(min(values) * math.prod(v for v in values if v > 0))
+        return float(math.prod(values))
+
+    def _ratio_before(self, k: int) -> float:
+        return float(math.prod(s.ratio for s in self.stages[:k])) if k else 1.0
+
+    def _ratio_after(self, k: int) -> float:
+        return float(math.prod(s.ratio for s in self.stages[k + 1 :]))
+
+    # --- inertia and mass --------------------------------------------------------------------
+    @cached_property
+    def rotor_inertia(self) -> float:
+        """Rotor-side inertia I_r (kg·m²): rotor plus each stage's input inertia reflected to the
+        motor shaft, I_in,k / (N_1…N_{k−1})²."""
+        return self.motor.rotor_inertia + sum(
+            s.frame.input_inertia / self._ratio_before(k) ** 2 for k, s in enumerate(self.stages)
+        )
+
+    def reflected_inertia(self, mode: str) -> float:
+        """Inertia seen at the joint from the link side (kg·m²).
+
+        frictionless N²·I_r; motoring η_f·N²·I_r; back-driven N²·I_r/η_b (inf when self-locking).
+        """
+        base = self.ratio**2 * self.rotor_inertia
+        if mode == "frictionless":
+            return base
+        if mode == "motoring":
+            return self.eta_forward * base
+        if mode == "backdriven":
+            return math.inf if self.self_locking else base / self.eta_backward
+        raise ValueError(f"unknown mode {mode!r}; expected one of {MODES}")
+
+    @cached_property
+    def mass(self) -> float:
+        """Motor plus stage masses (kg)."""
+        return self.motor.mass + sum(s.frame.mass for s in self.stages)
+
+    @cached_property
+    def cost(self) -> float:
+        return self.motor.cost + sum(s.frame.cost for s in self.stages)
+
+    @cached_property
+    def diameter(self) -> float:
+        """Largest outer diameter of motor and stages (m)."""
+        return max([self.motor.diameter] + [s.frame.diameter for s in self.stages])
+
+    @cached_property
+    def length(self) -> float:
+        """Motor plus stage lengths stacked axially (m)."""
+        return self.motor.length + sum(s.frame.length for s in self.stages)
+
+    # --- torque capacity ---------------------------------------------------------------------
+    @cached_property
+    def gear_peak_torque(self) -> float:
+        """Joint-side torque at which the first stage reaches its peak rating (N·m), ideal
+        torque split: stage k carries τ_j / (N_{k+1}…N_n). inf for direct drive."""
+        if not self.stages:
+            return math.inf
+        return min(s.frame.rated_peak_torque * self._ratio_after(k) for k, s in enumerate(self.stages))
+
+    @cached_property
+    def gear_continuous_torque(self) -> float:
+        if not self.stages:
+            return math.inf
+        return min(
+            s.frame.rated_continuous_torque * self._ratio_after(k) for k, s in enumerate(self.stages)
+        )
+
+    def capacity(self, mode: str, *, continuous: bool = False) -> float:
+        """Joint torque capacity (N·m) in a mode, capped by the gear rating.
+
+        frictionless N·τ_m; motoring η_f·N·τ_m; back-driven (holding while the load drives)
+        N·τ_m/η_b; self-locking holds up to the gear rating whatever the motor does.
+        """
+        tau_m = self.motor.continuous_torque if continuous else self.motor.peak_torque
+        gear = self.gear_continuous_torque if continuous else self.gear_peak_torque
+        n = self.ratio
+        if mode == "frictionless":
+            value = n * tau_m
+        elif mode == "motoring":
+            value = self.eta_forward * n * tau_m
+        elif mode == "backdriven":
+            value = math.inf if self.self_locking else n * tau_m / self.eta_backward
+        else:
+            raise ValueError(f"unknown mode {mode!r}; expected one of {MODES}")
+        return min(value, gear)
+
+    @cached_property
+    def breakaway_torque(self) -> float:
+        """Joint-side torque that starts the unpowered actuator moving (N·m).
+
+        Motor cogging and each stage's input-side no-load starting torque are referred to the
+        motor shaft (divided by the ratio before the stage), then to the joint through the
+        back-driven law: τ = (N/η_b)·Σ. inf when self-locking.
+        """
+        if self.self_locking:
+            return math.inf
+        motor_side = self.motor.cogging_torque + sum(
+            s.frame.breakaway_torque / self._ratio_before(k) for k, s in enumerate(self.stages)
+        )
+        return self.ratio * motor_side / self.eta_backward
+
+    @cached_property
+    def max_joint_speed(self) -> float:
+        """Joint speed at the motor's maximum speed (rad/s)."""
+        return self.motor.max_speed / self.ratio
+
+    @cached_property
+    def stiffness(self) -> float:
+        """Joint-side torsional stiffness of the stages in series (N·m/rad); inf when unknown."""
+        compliance = sum(
+            1.0 / (s.frame.stiffness * self._ratio_after(k) ** 2)
+            for k, s in enumerate(self.stages)
+            if math.isfinite(s.frame.stiffness)
+        )
+        return math.inf if compliance == 0 else 1.0 / compliance
+
+    @cached_property
+    def backlash(self) -> float:
+        """Joint-side backlash (rad): each stage's output backlash divided by the ratio after it."""
+        return sum(s.frame.backlash / self._ratio_after(k) for k, s in enumerate(self.stages))
+
+    def label(self) -> str:
+        stack = " + ".join(s.label() for s in self.stages) or "direct drive"
+        return f"{self.motor.name} | {stack}"
