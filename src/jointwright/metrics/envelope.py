@@ -98,15 +98,20 @@ def stall_torque(torque_constant, resistance, bus_voltage, winding_temperature=2
     return kt * v / winding_resistance(resistance, winding_temperature)
 
 
-def _electrical(torque_constant, resistance, bus_voltage):
+def _line(torque_constant, resistance, bus_voltage, winding_temperature):
+    """(Kt, V, R(T)) as checked arrays, or None for the corner-point envelope."""
     given = [x is not None for x in (torque_constant, resistance, bus_voltage)]
-    if any(given) and not all(given):
+    if not any(given):
+        return None
+    if not all(given):
         raise InputError(
             "<api>",
             "torque_constant, resistance, bus_voltage",
             "give all three for the voltage-limited envelope or none for the corner-point one",
         )
-    return all(given)
+    kt = check_positive("torque_constant", torque_constant)
+    v = check_positive("bus_voltage", bus_voltage, allow_inf=True)
+    return kt, v, winding_resistance(resistance, winding_temperature)
 
 
 def torque_speed_envelope(
@@ -156,10 +161,9 @@ def torque_speed_envelope(
     peak = check_positive("peak_torque", peak_torque)
     wmax = check_positive("max_speed", max_speed, allow_inf=True)
     tau = np.broadcast_to(peak, np.broadcast_shapes(w.shape, peak.shape)).astype(float)
-    if _electrical(torque_constant, resistance, bus_voltage):
-        kt = check_positive("torque_constant", torque_constant)
-        v = check_positive("bus_voltage", bus_voltage, allow_inf=True)
-        r = winding_resistance(resistance, winding_temperature)
+    line = _line(torque_constant, resistance, bus_voltage, winding_temperature)
+    if line is not None:
+        kt, v, r = line
         emf = np.where(braking, 1.0, -1.0) * kt * w
         tau = np.clip(np.minimum(tau, kt * (v + emf) / r), 0.0, None)
     return np.where(w > wmax, 0.0, tau)
@@ -186,9 +190,8 @@ def speed_at_torque(
     peak = check_positive("peak_torque", peak_torque)
     wmax = check_positive("max_speed", max_speed, allow_inf=True)
     speed = np.broadcast_to(wmax, np.broadcast_shapes(t.shape, wmax.shape, peak.shape))
-    if _electrical(torque_constant, resistance, bus_voltage):
-        kt = check_positive("torque_constant", torque_constant)
-        v = check_positive("bus_voltage", bus_voltage, allow_inf=True)
-        r = winding_resistance(resistance, winding_temperature)
+    line = _line(torque_constant, resistance, bus_voltage, winding_temperature)
+    if line is not None:
+        kt, v, r = line
         speed = np.minimum(speed, (v - t * r / kt) / kt)
     return np.where(t > peak, 0.0, np.clip(speed, 0.0, None))
