@@ -1,0 +1,21 @@
+"""Trade studies: vary a base project into many cases, run each, keep every result in SQLite.
+
+- :mod:`.spec` reads the study file and expands it into cases with stable ids;
+- :mod:`.runner` runs the cases on a local process pool or a Dask cluster;
+- :mod:`.store` keeps the study and each finished case in one SQLite file;
+- :mod:`.summary` tabulates cases and returns arrays for plots.
+
+The format is described in docs/study-format.md.
+"""
+
+from .runner import DEFAULT_CASE_FN, StudyOutcome, execute_case, resolve_case_fn, run_study
+from .spec import Case, StudySpec, case_project, expand, load_study, parse_study
+from .store import CaseRecord, StoredCase, StoredStudy, StudyStore, read_cases, read_runs, read_study
+from .summary import PlotSeries, export_csv, plot_series, summary_rows, summary_table, variant_values
+
+__all__ = [
+    "DEFAULT_CASE_FN", "Case", "CaseRecord", "PlotSeries", "StoredCase", "StoredStudy", "StudyOutcome",
+    "StudySpec", "StudyStore", "case_project", "execute_case", "expand", "export_csv", "load_study",
+    "parse_study", "plot_series", "read_cases", "read_runs", "read_study", "resolve_case_fn",
+    "run_study", "summary_rows", "summary_table", "variant_values",
+]  # fmt: skip

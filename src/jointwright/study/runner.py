@@ -1,0 +1,486 @@
+"""Run every case of a study on a local process pool or a Dask cluster, storing each as it ends.
+
+The case function is pluggable: ``case_fn(project, base_dir, task, options) -> {"metrics":
+{name: float | int | str | None}, "result": <JSON-able>}``; raising means the case failed. It is
+given as a callable (module level, so it pickles) or as an import path ``"package.module:name"``;
+the default is ``"jointwright.study.tasks:run_case"``, imported only when a study runs.
+
+Only the parent process writes to the store, one transaction per finished case, so an
+interrupted run (Ctrl-C, or the process killed) keeps every finished case and ``resume=True``
+runs only the missing ones.
+"""
+
+from __future__ import annotations
+
+import importlib
+import multiprocessing
+import os
+import signal
+import socket
+import threading
+import time
+import traceback
+from collections import deque
+from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
+from concurrent.futures.process import BrokenProcessPool
+from dataclasses import dataclass
+from functools import lru_cache
+from pathlib import Path
+from typing import Any, Callable, Iterable
+
+from ..errors import InputError
+from .spec import Case, StudySpec, case_project, expand, load_study
+from .store import CaseRecord, StudyStore
+
+#: import path of the case function used when none is given
+DEFAULT_CASE_FN = "jointwright.study.tasks:run_case"
+_TRACEBACK_FRAMES = 8
+_TRACEBACK_CHARS = 8000
+_DASK_SLOT_REFRESH = 2.0  # s between looks at the cluster's thread count
+
+
+@dataclass(frozen=True)
+class StudyOutcome:
+    """How a run went.
+
+    Attributes
+    ----------
+    store : Path
+    study_hash : str
+    total : int
+        Cases in the study.
+    skipped : int
+        Cases already in the store before this run and not run again.
+    done, failed : int
+        Cases finished by this run, by status.
+    done_total, failed_total : int
+        Cases in the store after this run, by status.
+    wall_time : float
+        s, from the call to the return.
+    case_time : float
+        s, summed wall time of the cases this run finished (as measured in the workers).
+    workers : int
+        Parallel slots: processes of the local pool, or threads of the Dask cluster.
+    backend : str
+        ``processes`` or ``dask``.
+    """
+
+    store: Path
+    study_hash: str
+    total: int
+    skipped: int
+    done: int
+    failed: int
+    done_total: int
+    failed_total: int
+    wall_time: float
+    case_time: float
+    workers: int
+    backend: str
+
+    @property
+    def overhead(self) -> float:
+        """Worker-seconds not spent inside cases: ``workers·wall_time − case_time`` (s)."""
+        return self.workers * self.wall_time - self.case_time
+
+    @property
+    def overhead_fraction(self) -> float:
+        """:attr:`overhead` relative to :attr:`case_time` (0 when nothing ran)."""
+        return self.overhead / self.case_time if self.case_time > 0 else 0.0
+
+
+# ------------------------------------------------------------------ worker-side code
+
+
+def resolve_case_fn(ref: str | Callable | None) -> Callable:
+    """The case function for ``ref``: a callable, ``"module:name"``, or None for the default."""
+    if ref is None:
+        ref = DEFAULT_CASE_FN
+    if callable(ref):
+        return ref
+    if not isinstance(ref, str) or ref.count(":") != 1:
+        raise InputError("<api>", "case_fn", f"must be a callable or 'package.module:function', got {ref!r}")
+    return _import_case_fn(ref)
+
+
+@lru_cache(maxsize=16)
+def _import_case_fn(ref: str) -> Callable:
+    module_name, _, attr = ref.partition(":")
+    try:
+        obj: Any = importlib.import_module(module_name)
+    except ImportError as exc:
+        raise InputError("<api>", "case_fn", f"cannot import module {module_name!r}: {exc}") from None
+    for part in attr.split("."):
+        if not hasattr(obj, part):
+            raise InputError("<api>", "case_fn", f"module {module_name!r} has no {attr!r}")
+        obj = getattr(obj, part)
+    if not callable(obj):
+        raise InputError("<api>", "case_fn", f"{ref!r} is not callable")
+    return obj
+
+
+def execute_case(case_fn, project: dict, base_dir: Path, task: str, options: dict) -> CaseRecord:
+    """Run one case and capture its outcome; never raises for a failing case.
+
+    The case function's wall time is measured around the call only (s).
+    """
+    worker = f"{socket.gethostname()}:{os.getpid()}"
+    t0 = time.perf_counter()
+    try:
+        out = resolve_case_fn(case_fn)(project, Path(base_dir), task, options)
+        wall = time.perf_counter() - t0
+        metrics, result = _checked_output(out)
+    except Exception as exc:
+        wall = time.perf_counter() - t0
+        tb = traceback.TracebackException.from_exception(exc, limit=-_TRACEBACK_FRAMES)
+        text = "".join(tb.format())[-_TRACEBACK_CHARS:]
+        return CaseRecord("failed", error=f"{type(exc).__name__}: {exc}", traceback=text,
+                          wall_time=wall, worker=worker)  # fmt: skip
+    return CaseRecord("done", metrics, result, wall_time=wall, worker=worker)
+
+
+def _checked_output(out: Any) -> tuple[dict, str]:
+    import json
+    import numbers
+
+    if not isinstance(out, dict) or set(out) != {"metrics", "result"}:
+        raise TypeError("the case function must return {'metrics': {...}, 'result': ...}")
+    if not isinstance(out["metrics"], dict):
+        raise TypeError("'metrics' must be a dict of name -> number, string or None")
+    metrics: dict = {}
+    for name, value in out["metrics"].items():
+        if not isinstance(name, str) or not name or len(name) > 200 or not name.isprintable():
+            raise TypeError(f"metric name {name!r} must be printable text of 1 to 200 characters")
+        if value is None or isinstance(value, str):
+            metrics[name] = value
+        elif isinstance(value, numbers.Integral):
+            metrics[name] = int(value)
+        elif isinstance(value, numbers.Real):
+            metrics[name] = float(value)
+        else:
+            raise TypeError(f"metric {name!r} must be a number, a string or None, got {type(value).__name__}")
+    return metrics, json.dumps(out["result"], default=_jsonable, sort_keys=True)
+
+
+def _jsonable(obj: Any) -> Any:
+    if hasattr(obj, "tolist"):  # numpy arrays and scalars
+        return obj.tolist()
+    if isinstance(obj, Path):
+        return str(obj)
+    raise TypeError(f"result holds a {type(obj).__name__}, which is not JSON-serializable")
+
+
+def _worker_init() -> None:
+    """Pool workers leave Ctrl-C to the parent and exit when their parent process is gone."""
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    parent = os.getppid()
+
+    def watch() -> None:
+        while os.getppid() == parent:
+            time.sleep(0.5)
+        os._exit(1)
+
+    threading.Thread(target=watch, name="jointwright-parent-watch", daemon=True).start()
+
+
+# ------------------------------------------------------------------------ back-ends
+
+Sink = Callable[[Case, CaseRecord], None]
+Build = Callable[[Case], tuple]
+
+
+def _pool_context():
+    methods = multiprocessing.get_all_start_methods()
+    return multiprocessing.get_context("forkserver" if "forkserver" in methods else "spawn")
+
+
+def _new_pool(workers: int, preload: list[str]) -> ProcessPoolExecutor:
+    ctx = _pool_context()
+    if ctx.get_start_method() == "forkserver":
+        ctx.set_forkserver_preload(preload)
+    return ProcessPoolExecutor(workers, mp_context=ctx, initializer=_worker_init)
+
+
+def _stop_pool(pool: ProcessPoolExecutor) -> None:
+    """Cancel queued cases and end running workers now (used on interruption)."""
+    stop = getattr(pool, "terminate_workers", None)  # Python >= 3.14
+    if stop is not None:
+        stop()
+        return
+    procs = list((getattr(pool, "_processes", None) or {}).values())
+    pool.shutdown(wait=False, cancel_futures=True)
+    for p in procs:
+        p.terminate()
+    for p in procs:
+        p.join(5.0)
+
+
+def _run_pool(cases: Iterable[Case], build: Build, sink: Sink, workers: int, fn_ref, preload) -> None:
+    """Local process pool. A case that kills its worker is found by re-running the cases that were
+    in flight one at a time, and recorded as failed; the others run normally."""
+    pending, suspects = deque(cases), deque()
+    in_flight: dict = {}
+    pool = None
+    try:
+        while pending or suspects or in_flight:
+            if pool is None:
+                pool = _new_pool(workers, preload)
+            source, limit = (suspects, 1) if suspects else (pending, 2 * workers)
+            while source and len(in_flight) < limit:
+                case = source.popleft()
+                in_flight[pool.submit(execute_case, fn_ref, *build(case))] = case
+            done, _ = wait(in_flight, return_when=FIRST_COMPLETED)
+            if any(isinstance(f.exception(), BrokenProcessPool) for f in done):
+                done, _ = wait(in_flight)  # the others end at once, broken or finished
+            victims = []
+            for fut in sorted(done, key=lambda f: in_flight[f].index):
+                case, exc = in_flight.pop(fut), fut.exception()
+                if isinstance(exc, BrokenProcessPool):
+                    victims.append((case, exc))
+                elif exc is not None:
+                    sink(case, CaseRecord("failed", error=f"{type(exc).__name__}: {exc}"))
+                else:
+                    sink(case, fut.result())
+            if victims:
+                pool.shutdown(wait=True)
+                pool = None
+                if len(victims) == 1:
+                    case, exc = victims[0]
+                    sink(case, CaseRecord("failed", error=f"worker process died while running this case ({exc})"))
+                else:
+                    suspects.extend(case for case, _ in victims)
+    except BaseException:
+        if pool is not None:
+            _stop_pool(pool)
+            pool = None
+        raise
+    finally:
+        if pool is not None:
+            pool.shutdown(wait=True)
+
+
+def _dask_record(fut) -> CaseRecord:
+    if fut.status == "finished":
+        return fut.result()
+    if fut.status == "error":
+        exc = fut.exception()
+        return CaseRecord("failed", error=f"{type(exc).__name__}: {exc}")
+    return CaseRecord("failed", error=f"Dask task ended with status {fut.status!r}")
+
+
+def _run_dask(cases: Iterable[Case], build: Build, sink: Sink, scheduler, fn_ref) -> int:
+    """Run on a Dask cluster; returns its thread count."""
+    import uuid
+
+    from distributed import Client, as_completed
+
+    own = not isinstance(scheduler, Client)
+    client = Client(scheduler, set_as_default=False) if own else scheduler
+    pending, in_flight, futures = deque(cases), {}, {}
+    tag = uuid.uuid4().hex[:8]
+    ac = as_completed()
+    threads, looked = 1, -_DASK_SLOT_REFRESH
+
+    def refill() -> None:
+        nonlocal threads, looked
+        if time.monotonic() - looked > _DASK_SLOT_REFRESH:
+            threads, looked = max(1, sum(client.nthreads().values())), time.monotonic()
+        while pending and len(in_flight) < 2 * threads:
+            case = pending.popleft()
+            fut = client.submit(execute_case, fn_ref, *build(case), key=f"jointwright-{tag}-{case.id}")
+            in_flight[fut.key], futures[fut.key] = case, fut
+            ac.add(fut)
+
+    try:
+        refill()
+        for fut in ac:
+            case = in_flight.pop(fut.key)
+            futures.pop(fut.key)
+            record = _dask_record(fut)
+            fut.release()
+            sink(case, record)
+            refill()
+    except BaseException:
+        if futures:
+            client.cancel(list(futures.values()))
+        raise
+    finally:
+        if own:
+            client.close()
+    return threads
+
+
+# ------------------------------------------------------------------------- progress
+
+
+class _Progress:
+    """rich progress bar on stderr with done/failed counts and ETA (no-op when disabled)."""
+
+    def __init__(self, enabled: bool, name: str, total: int, skipped: int):
+        self.enabled = enabled
+        if not enabled:
+            return
+        from rich.console import Console
+        from rich.progress import (BarColumn, MofNCompleteColumn, Progress, TextColumn,
+                                   TimeElapsedColumn, TimeRemainingColumn)  # fmt: skip
+
+        self.console = Console(stderr=True)
+        self.bar = Progress(
+            TextColumn("[bold]{task.description}"), BarColumn(), MofNCompleteColumn(),
+            TextColumn("[green]{task.fields[done]} done[/] [red]{task.fields[failed]} failed[/]"),
+            TimeElapsedColumn(), TextColumn("ETA"), TimeRemainingColumn(), console=self.console,
+        )  # fmt: skip
+        label = f"{name} ({skipped} already stored)" if skipped else name
+        self.task = self.bar.add_task(label, total=total, done=0, failed=0)
+        self.bar.start()
+
+    def advance(self, done: int, failed: int) -> None:
+        if self.enabled:
+            self.bar.update(self.task, advance=1, done=done, failed=failed)
+
+    def close(self, outcome: StudyOutcome | None, interrupted: bool) -> None:
+        if not self.enabled:
+            return
+        self.bar.stop()
+        if outcome is None:
+            return
+        state = "interrupted" if interrupted else "finished"
+        self.console.print(
+            f"study {state}: {outcome.done} done, {outcome.failed} failed this run; store holds "
+            f"{outcome.done_total} done, {outcome.failed_total} failed of {outcome.total}. "
+            f"Wall {outcome.wall_time:.2f} s, case time {outcome.case_time:.2f} s on "
+            f"{outcome.workers} {outcome.backend} slot(s), overhead {100 * outcome.overhead_fraction:.1f} %"
+        )
+
+
+# --------------------------------------------------------------------------- runner
+
+
+def _check_arguments(workers, scheduler, resume: bool, restart: bool) -> None:
+    if resume and restart:
+        raise InputError("<api>", "restart", "cannot be combined with resume (restart starts anew)")
+    if workers is not None:
+        if not isinstance(workers, int) or isinstance(workers, bool) or workers < 1:
+            raise InputError("<api>", "workers", f"must be a whole number >= 1, got {workers!r}")
+        if scheduler is not None:
+            raise InputError("<api>", "workers", "applies to the local process pool only; a Dask cluster has its own workers")
+
+
+def _select(cases: list[Case], stored: dict[str, str], store: Path, resume: bool, retry_failed: bool) -> list[Case]:
+    if stored and not resume:
+        raise InputError(
+            str(store), "(file)",
+            f"already holds {len(stored)} case(s) of this study; resume to run only the missing ones, "
+            "or restart to start anew",
+        )  # fmt: skip
+    rerun = ("failed",) if retry_failed else ()
+    return [c for c in cases if c.id not in stored or stored[c.id] in rerun]
+
+
+def run_study(
+    study: str | Path | StudySpec,
+    store_path: str | Path,
+    *,
+    workers: int | None = None,
+    scheduler: Any = None,
+    resume: bool = False,
+    restart: bool = False,
+    retry_failed: bool = False,
+    case_fn: str | Callable | None = None,
+    progress: bool = True,
+) -> StudyOutcome:
+    """Run every case of a study and store each result as it finishes.
+
+    Parameters
+    ----------
+    study : path or StudySpec
+        The study file, or a spec from :func:`~jointwright.study.spec.load_study`.
+    store_path : path
+        SQLite store; created when missing.
+    workers : int, optional
+        Local pool size (default ``os.cpu_count()``). Not allowed with ``scheduler``.
+    scheduler : str or distributed.Client, optional
+        Dask scheduler address (``"tcp://host:8786"``) or a client: run there instead.
+    resume : bool
+        Continue a store of the same study: run only the cases it lacks. Without it a store that
+        already holds cases is refused.
+    restart : bool
+        Start a fresh store even if the study changed (the old file is kept as a backup).
+    retry_failed : bool
+        With ``resume``, also run again the cases stored as failed.
+    case_fn : callable or str, optional
+        The case function (see the module docstring); default ``DEFAULT_CASE_FN``.
+    progress : bool
+        Show a progress bar and a closing summary on stderr.
+
+    Returns
+    -------
+    StudyOutcome
+
+    Raises
+    ------
+    InputError
+        Bad study file, store of another study, bad arguments. ``KeyboardInterrupt`` is re-raised
+        after the workers are stopped; every case finished before it is in the store.
+    """
+    t0 = time.perf_counter()
+    _check_arguments(workers, scheduler, resume, restart)
+    spec = study if isinstance(study, StudySpec) else load_study(study)
+    fn = resolve_case_fn(case_fn)
+    fn_ref = case_fn if isinstance(case_fn, str) else (fn if case_fn is not None else DEFAULT_CASE_FN)
+    cases = expand(spec)
+    store = StudyStore.open(store_path, spec, len(cases), restart=restart)
+    try:
+        todo = _select(cases, store.statuses(), Path(store_path), resume, retry_failed)
+        return _run(spec, store, cases, todo, fn_ref, workers, scheduler, progress, t0)
+    finally:
+        store.close()
+
+
+def _run(spec, store, cases, todo, fn_ref, workers, scheduler, show, t0) -> StudyOutcome:
+    backend = "processes" if scheduler is None else "dask"
+    slots = min(workers or os.cpu_count() or 1, max(1, len(todo)))
+    run_id = store.start_run(backend, slots if scheduler is None else None)
+    counts = {"done": 0, "failed": 0}
+    case_time = 0.0
+    bar = _Progress(show, spec.name, len(todo), len(cases) - len(todo))
+
+    def build(case: Case) -> tuple:
+        return case_project(spec, case), spec.base_dir, case.task, case.options
+
+    def sink(case: Case, record: CaseRecord) -> None:
+        nonlocal case_time
+        stored = store.write(case, record, run_id)
+        counts[stored.status] += 1
+        case_time += stored.wall_time
+        bar.advance(counts["done"], counts["failed"])
+
+    def outcome() -> StudyOutcome:
+        final = list(store.statuses().values())
+        return StudyOutcome(
+            store.path, spec.hash, len(cases), len(cases) - len(todo), counts["done"], counts["failed"],
+            final.count("done"), final.count("failed"), time.perf_counter() - t0, case_time, slots, backend,
+        )  # fmt: skip
+
+    try:
+        if todo and scheduler is None:
+            _run_pool(todo, build, sink, slots, fn_ref, _preload(fn_ref))
+        elif todo:
+            slots = _run_dask(todo, build, sink, scheduler, fn_ref)
+    except BaseException:
+        store.finish_run(run_id, "interrupted", counts["done"], counts["failed"])
+        bar.close(outcome(), interrupted=True)
+        raise
+    store.finish_run(run_id, "complete", counts["done"], counts["failed"])
+    result = outcome()
+    bar.close(result, interrupted=False)
+    return result
+
+
+def _preload(fn_ref) -> list[str]:
+    """Modules the fork server imports once, so each worker starts with them loaded."""
+    names = [__name__]
+    module = fn_ref.partition(":")[0] if isinstance(fn_ref, str) else getattr(fn_ref, "__module__", None)
+    if module and module != "__main__":
+        names.append(module)
+    return names

@@ -1,0 +1,400 @@
+"""The study store: one SQLite file holding the study definition and every finished case.
+
+Tables (see docs/study-format.md for the full schema):
+
+``study``
+    one row: store format version, study hash, the study definition and base project (JSON),
+    varied parameter paths, package version, creation time.
+``cases``
+    one row per finished case (``case_id`` unique): parameters as JSON plus one column
+    ``"param:<path>"`` per varied parameter, status ``done``/``failed``, error and traceback
+    summary, one column ``"metric:<name>"`` per metric (added with ALTER TABLE the first time a
+    name appears), the full result as JSON, wall time, worker.
+``runs``
+    one row per call of the runner: start/finish time, host, back-end, workers, counts, status.
+
+Every finished case is written in its own transaction (WAL journal, synchronous=FULL), so a run
+killed at any point keeps every case that finished before it. No pickle: everything is JSON,
+text or numbers.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import json
+import os
+import socket
+import sqlite3
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from ..errors import InputError
+
+#: version of the store layout written by this module (readers refuse newer versions)
+STORE_FORMAT = 1
+PARAM_PREFIX = "param:"
+METRIC_PREFIX = "metric:"
+
+_CASE_COLUMNS = (
+    "case_id", "case_index", "variant", "task", "params", "status", "error", "traceback",
+    "result", "wall_time", "worker", "finished", "run_id",
+)  # fmt: skip
+
+_SCHEMA = """
+CREATE TABLE study (
+    format_version INTEGER NOT NULL,
+    study_hash TEXT NOT NULL,
+    name TEXT NOT NULL,
+    definition TEXT NOT NULL,
+    base_file TEXT NOT NULL,
+    base_project TEXT NOT NULL,
+    parameters TEXT NOT NULL,
+    case_count INTEGER NOT NULL,
+    package_version TEXT NOT NULL,
+    created TEXT NOT NULL
+);
+CREATE TABLE runs (
+    run_id INTEGER PRIMARY KEY AUTOINCREMENT,
+    started TEXT NOT NULL,
+    finished TEXT,
+    host TEXT NOT NULL,
+    backend TEXT NOT NULL,
+    workers INTEGER,
+    package_version TEXT NOT NULL,
+    cases_done INTEGER NOT NULL DEFAULT 0,
+    cases_failed INTEGER NOT NULL DEFAULT 0,
+    status TEXT NOT NULL CHECK (status IN ('running', 'complete', 'interrupted'))
+);
+CREATE TABLE cases (
+    case_id TEXT PRIMARY KEY,
+    case_index INTEGER NOT NULL,
+    variant TEXT,
+    task TEXT NOT NULL,
+    params TEXT NOT NULL,
+    status TEXT NOT NULL CHECK (status IN ('done', 'failed')),
+    error TEXT,
+    traceback TEXT,
+    result TEXT,
+    wall_time REAL,
+    worker TEXT,
+    finished TEXT,
+    run_id INTEGER REFERENCES runs(run_id)
+);
+"""
+
+
+def quote_identifier(name: str) -> str:
+    """SQL identifier in double quotes with inner quotes doubled (safe for any text)."""
+    if "\x00" in name:
+        raise ValueError("identifier contains a NUL character")
+    return '"' + name.replace('"', '""') + '"'
+
+
+def _now() -> str:
+    return _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
+
+
+def _sql_value(v: Any) -> Any:
+    """A parameter or metric value as SQLite stores it (text, integer, real or NULL)."""
+    if isinstance(v, bool):
+        return int(v)
+    if v is None or isinstance(v, (int, float, str)):
+        return v
+    return json.dumps(v, sort_keys=True)
+
+
+@dataclass(frozen=True)
+class CaseRecord:
+    """What a worker reports for one case (everything JSON-able; ``result`` already JSON text)."""
+
+    status: str  # "done" or "failed"
+    metrics: dict = field(default_factory=dict)
+    result: str | None = None
+    error: str | None = None
+    traceback: str | None = None
+    wall_time: float = 0.0
+    worker: str = ""
+
+
+class StudyStore:
+    """Read-write access to one study's SQLite file. The runner's parent process alone writes.
+
+    Use :meth:`open`; close with :meth:`close` (or as a context manager).
+    """
+
+    def __init__(self, path: Path, conn: sqlite3.Connection):
+        self.path, self._conn = path, conn
+        cols = [r[1] for r in conn.execute("PRAGMA table_info(cases)")]
+        self._columns = {c.lower(): c for c in cols}
+
+    # -------------------------------------------------------------------------- opening
+    @classmethod
+    def open(cls, path: str | Path, spec, case_count: int, *, restart: bool = False) -> StudyStore:
+        """Open the store for ``spec`` (a :class:`~jointwright.study.spec.StudySpec`), creating it.
+
+        An existing store made for another study hash is refused with :class:`InputError`
+        unless ``restart`` is true; ``restart`` always starts a fresh file, first copying the old
+        one to ``<name>.<UTC time>.bak``.
+        """
+        path = Path(path)
+        if path.exists():
+            old = _read_study_row(path)
+            if restart:
+                backup_store(path)
+            elif old["study_hash"] != spec.hash:
+                raise InputError(
+                    str(path), "study.hash",
+                    f"this store holds study {old['name']!r} (hash {old['study_hash'][:12]}) but the "
+                    f"study and base project now hash to {spec.hash[:12]}: the study file or base project "
+                    "changed. Restart to start anew (the old store is kept as a backup), or use another store file",
+                )  # fmt: skip
+            else:
+                return cls(path, _connect(path))
+        conn = _connect(path)
+        _create(conn, spec, case_count)
+        return cls(path, conn)
+
+    def close(self) -> None:
+        """Close the connection (finished cases are already committed)."""
+        self._conn.close()
+
+    def __enter__(self) -> StudyStore:
+        return self
+
+    def __exit__(self, *exc) -> None:
+        self.close()
+
+    # ------------------------------------------------------------------------- queries
+    def statuses(self) -> dict[str, str]:
+        """case id -> status of every case in the store."""
+        return dict(self._conn.execute("SELECT case_id, status FROM cases"))
+
+    # -------------------------------------------------------------------------- writing
+    def start_run(self, backend: str, workers: int | None) -> int:
+        """Record the start of a run; returns its id."""
+        from .. import __version__
+
+        cur = self._conn.execute(
+            "INSERT INTO runs (started, host, backend, workers, package_version, status) "
+            "VALUES (?, ?, ?, ?, ?, 'running')",
+            (_now(), socket.gethostname(), backend, workers, __version__),
+        )
+        return int(cur.lastrowid)
+
+    def finish_run(self, run_id: int, status: str, done: int, failed: int) -> None:
+        """Record how a run ended (``complete`` or ``interrupted``)."""
+        self._conn.execute(
+            "UPDATE runs SET finished = ?, status = ?, cases_done = ?, cases_failed = ? WHERE run_id = ?",
+            (_now(), status, done, failed, run_id),
+        )
+
+    def write(self, case, record: CaseRecord, run_id: int | None = None) -> CaseRecord:
+        """Store one finished case in one transaction; returns the record as stored.
+
+        A case already stored as ``done`` is never overwritten; a ``failed`` one is replaced.
+        A metric whose name differs from an existing metric column only in letter case turns
+        the record into a failure (SQLite column names ignore case).
+        """
+        record = self._check_metric_names(record)
+        row = {
+            "case_id": case.id, "case_index": case.index, "variant": case.variant,
+            "task": case.task, "params": json.dumps(dict(case.assignments), sort_keys=True),
+            "status": record.status, "error": record.error, "traceback": record.traceback,
+            "result": record.result, "wall_time": record.wall_time, "worker": record.worker,
+            "finished": _now(), "run_id": run_id,
+        }  # fmt: skip
+        row.update({PARAM_PREFIX + p: _sql_value(v) for p, v in case.values.items()})
+        row.update({METRIC_PREFIX + m: _sql_value(v) for m, v in record.metrics.items()})
+        conn = self._conn
+        conn.execute("BEGIN IMMEDIATE")
+        try:
+            prior = conn.execute("SELECT status FROM cases WHERE case_id = ?", (case.id,)).fetchone()
+            if prior is not None and prior[0] == "done":
+                conn.execute("ROLLBACK")
+                return record
+            if prior is not None:
+                conn.execute("DELETE FROM cases WHERE case_id = ?", (case.id,))
+            for name in row:
+                if name.lower() not in self._columns:
+                    conn.execute(f"ALTER TABLE cases ADD COLUMN {quote_identifier(name)}")
+            names = ", ".join(quote_identifier(n) for n in row)
+            marks = ", ".join("?" for _ in row)
+            conn.execute(f"INSERT INTO cases ({names}) VALUES ({marks})", tuple(row.values()))
+            conn.execute("COMMIT")
+        except BaseException:
+            conn.execute("ROLLBACK")
+            self._columns = {c[1].lower(): c[1] for c in conn.execute("PRAGMA table_info(cases)")}
+            raise
+        self._columns.update({n.lower(): n for n in row})
+        return record
+
+    def _check_metric_names(self, record: CaseRecord) -> CaseRecord:
+        for m in record.metrics:
+            have = self._columns.get((METRIC_PREFIX + m).lower())
+            if have is not None and have != METRIC_PREFIX + m:
+                rule = f"metric {m!r} differs from the stored metric {have[len(METRIC_PREFIX):]!r} only in letter case"
+                return CaseRecord("failed", error=f"ValueError: {rule}", wall_time=record.wall_time,
+                                  worker=record.worker)  # fmt: skip
+        return record
+
+
+def _connect(path: Path) -> sqlite3.Connection:
+    try:
+        conn = sqlite3.connect(path, isolation_level=None, timeout=30.0)
+        conn.execute("PRAGMA journal_mode=WAL")
+        conn.execute("PRAGMA synchronous=FULL")
+    except sqlite3.Error as exc:
+        raise InputError(str(path), "(file)", f"cannot open the store as SQLite: {exc}") from None
+    return conn
+
+
+def _create(conn: sqlite3.Connection, spec, case_count: int) -> None:
+    from .. import __version__
+    from .spec import canonical_json
+
+    params = [p.path for p in spec.parameters]
+    conn.execute("BEGIN IMMEDIATE")
+    for statement in _SCHEMA.split(";"):
+        if statement.strip():
+            conn.execute(statement)
+    for p in params:
+        conn.execute(f"ALTER TABLE cases ADD COLUMN {quote_identifier(PARAM_PREFIX + p)}")
+    conn.execute(
+        "INSERT INTO study VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+        (STORE_FORMAT, spec.hash, spec.name, canonical_json(spec.definition), str(spec.base_file),
+         canonical_json(spec.base_project), json.dumps(params), case_count, __version__, _now()),
+    )  # fmt: skip
+    conn.execute("COMMIT")
+
+
+def backup_store(path: str | Path) -> Path:
+    """Copy the store (with its WAL content) to ``<name>.<UTC time>.bak`` and delete it."""
+    path = Path(path)
+    stamp = _dt.datetime.now(_dt.timezone.utc).strftime("%Y%m%dT%H%M%SZ")
+    target = path.with_name(f"{path.name}.{stamp}.bak")
+    k = 1
+    while target.exists():
+        target, k = path.with_name(f"{path.name}.{stamp}-{k}.bak"), k + 1
+    src = sqlite3.connect(path)
+    dst = sqlite3.connect(target)
+    try:
+        src.backup(dst)
+    finally:
+        dst.close()
+        src.close()
+    for suffix in ("", "-wal", "-shm"):
+        extra = Path(f"{path}{suffix}")
+        if extra.exists():
+            os.remove(extra)
+    return target
+
+
+# ----------------------------------------------------------------------------- reading
+
+
+@dataclass(frozen=True)
+class StoredStudy:
+    """The ``study`` row of a store."""
+
+    path: Path
+    format_version: int
+    study_hash: str
+    name: str
+    definition: dict
+    base_file: str
+    base_project: dict
+    parameters: tuple[str, ...]
+    case_count: int
+    package_version: str
+    created: str
+
+
+@dataclass(frozen=True)
+class StoredCase:
+    """One row of ``cases``; ``result`` is the parsed JSON (None unless requested or failed)."""
+
+    case_id: str
+    index: int
+    variant: str | None
+    task: str
+    params: dict
+    values: dict
+    status: str
+    metrics: dict
+    result: Any
+    error: str | None
+    traceback: str | None
+    wall_time: float
+    worker: str
+    finished: str
+    run_id: int | None
+
+
+def _read_only(path: str | Path) -> sqlite3.Connection:
+    path = Path(path)
+    if not path.is_file():
+        raise InputError(str(path), "(file)", "study store not found")
+    return sqlite3.connect(path.resolve().as_uri() + "?mode=ro", uri=True)
+
+
+def _query(path: str | Path, sql: str) -> list[dict]:
+    """Rows of a read-only query as dicts (column name -> value)."""
+    conn = _read_only(path)
+    try:
+        cur = conn.execute(sql)
+        names = [d[0] for d in cur.description]
+        return [dict(zip(names, r)) for r in cur.fetchall()]
+    finally:
+        conn.close()
+
+
+def _read_study_row(path: Path) -> dict:
+    try:
+        rows = _query(path, "SELECT * FROM study")
+    except sqlite3.Error:
+        raise InputError(str(path), "(file)", "is not a jointwright study store (no readable study table)") from None
+    if len(rows) != 1:
+        raise InputError(str(path), "study", f"must hold exactly one study row, found {len(rows)}")
+    row = rows[0]
+    if not isinstance(row.get("format_version"), int) or row["format_version"] > STORE_FORMAT:
+        raise InputError(
+            str(path), "study.format_version",
+            f"store format {row.get('format_version')!r} is newer than this version reads ({STORE_FORMAT})",
+        )  # fmt: skip
+    return row
+
+
+def read_study(path: str | Path) -> StoredStudy:
+    """The study description held in a store."""
+    row = _read_study_row(Path(path))
+    return StoredStudy(
+        Path(path), row["format_version"], row["study_hash"], row["name"],
+        json.loads(row["definition"]), row["base_file"], json.loads(row["base_project"]),
+        tuple(json.loads(row["parameters"])), row["case_count"], row["package_version"], row["created"],
+    )  # fmt: skip
+
+
+def read_cases(path: str | Path, *, results: bool = False) -> list[StoredCase]:
+    """Every case in the store in expansion order; ``results=True`` also parses the results."""
+    _read_study_row(Path(path))
+    return [_stored_case(row, results) for row in _query(path, "SELECT * FROM cases ORDER BY case_index")]
+
+
+def _stored_case(row: dict, results: bool) -> StoredCase:
+    values = {k[len(PARAM_PREFIX) :]: v for k, v in row.items() if k.startswith(PARAM_PREFIX)}
+    metrics = {
+        k[len(METRIC_PREFIX) :]: v for k, v in row.items() if k.startswith(METRIC_PREFIX) and v is not None
+    }
+    result = json.loads(row["result"]) if results and row["result"] is not None else None
+    return StoredCase(
+        row["case_id"], row["case_index"], row["variant"], row["task"], json.loads(row["params"]),
+        values, row["status"], metrics, result, row["error"], row["traceback"], row["wall_time"],
+        row["worker"], row["finished"], row["run_id"],
+    )  # fmt: skip
+
+
+def read_runs(path: str | Path) -> list[dict]:
+    """Every run recorded in the store, oldest first."""
+    _read_study_row(Path(path))
+    return _query(path, "SELECT * FROM runs ORDER BY run_id")
