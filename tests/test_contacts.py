@@ -279,8 +279,11 @@ def test_infinite_bounds_statuses_and_linear_program_agree():
     g, jz = _single_leg()
     f_star, joint, _ = _ray_bound(g, jz, -TAU_MAX, TAU_MAX)
     loose = TAU_MAX.copy()
-    loose[(joint + 1) % 3] = math.inf  # a joint that does not limit: no change
-    assert mc.solve(_leg_case(loose)).payload == pytest.approx(f_star, rel=1e-7)
+    other = (joint + 1) % 3
+    loose[other] = math.inf  # a joint that does not limit: no change
+    res = mc.solve(_leg_case(loose))
+    assert res.payload == pytest.approx(f_star, rel=1e-7)
+    assert not res.torque_at_high[other] and res.torque_multiplier_high[other] == 0.0
     free = mc.solve(_leg_case(np.full(3, math.inf)))
     assert (free.status, free.payload) == ("unbounded", math.inf)
     # too weak to hold the leg's own weight plus a 500 N preload: no payload exists

@@ -423,8 +423,9 @@ class MultiContactPayload:
         _, nj, k, _ = self.shape
         tau = np.array(self._tau.value) if nj else np.zeros(0)
         at_low, at_high = _torque_activity(st, tau)
-        mult_lo = np.array(self._lo.dual_value) if nj else np.zeros(0)
-        mult_hi = np.array(self._hi.dual_value) if nj else np.zeros(0)
+        # a masked (infinite) bound is the void row 0 <= 0: its dual means nothing, report 0
+        mult_lo = np.where(np.isfinite(st.tau_low), self._lo.dual_value, 0.0) if nj else tau
+        mult_hi = np.where(np.isfinite(st.tau_high), self._hi.dual_value, 0.0) if nj else tau
         if k:
             lam, nu1, nu2 = (np.array(v.value) for v in (self._lam, self._nu1, self._nu2))
         else:
