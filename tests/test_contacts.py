@@ -405,6 +405,8 @@ def test_solve_batch_broadcasts_designs_by_poses():
                                        "tau_low": arrays["tau_low"][d, 0], "friction": mus[p]})
             assert out.payload[d, p] == pytest.approx(mc.solve(one).payload, rel=1e-7)
     assert (np.diff(out.payload, axis=0) > 0).all()
+    one_mu = mc.solve_batch(actuated=base["actuated"], **{**arrays, "friction": 0.8})
+    np.testing.assert_allclose(one_mu.payload, out.payload[:, 1:2], rtol=1e-7)  # (3, 1)
     with pytest.raises(InputError, match="unknown argument"):
         mc.solve_batch(actuated=base["actuated"], gravty=1.0, **arrays)
 

@@ -501,6 +501,8 @@ def solve_batch(*, actuated: Any, solver: str = "CLARABEL", **arrays: Any) -> Co
         raise InputError(_API, ", ".join(sorted(unknown or missing)),
                          "unknown argument" if unknown else "required argument missing")
     arr = {name: np.asarray(arrays[name], dtype=float) for name in _CORE_NDIM}
+    if arr["friction"].ndim == 0 and arr["contact_jacobians"].ndim >= 3:  # one μ for all
+        arr["friction"] = np.full(arr["contact_jacobians"].shape[-3], arr["friction"])
     lead = {}
     for name, a in arr.items():
         if a.ndim < _CORE_NDIM[name]:
