@@ -75,7 +75,8 @@ def test_hot_winding_lowers_the_line():
     hot = stall_torque(KT, R, V, winding_temperature=120.0)
     assert hot == pytest.approx(KT * V / 0.2786, rel=1e-12)
     cold = torque_speed_envelope(100.0, peak_torque=50.0, max_speed=1e3, **ELEC)
-    warm = torque_speed_envelope(100.0, peak_torque=50.0, max_speed=1e3, winding_temperature=120, **ELEC)
+    warm = torque_speed_envelope(100.0, peak_torque=50.0, max_speed=1e3, winding_temperature=120,
+                                 **ELEC)
     assert warm == pytest.approx(cold / 1.393, rel=1e-12)
 
 
