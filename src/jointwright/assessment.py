@@ -1,0 +1,183 @@
+"""All metrics of one design, with requirement margins: the result behind ``jointwright assess``."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import asdict, dataclass
+
+import numpy as np
+
+from .design import Design, arrays_from_designs
+from .evaluate import Evaluator
+from .problem import checks, feasible
+
+CAUTION = (
+    "Concept-stage sizing aid. Verify every selection against the supplier's data and by test. "
+    "A self-locking or high-ratio joint can trap or crush; apply the applicable machinery and "
+    "collaborative-robot safety standards, local codes and licensed engineering practice."
+)
+
+
+@dataclass(frozen=True)
+class JointSummary:
+    joint: str
+    actuator: str
+    motor: str
+    stages: tuple[str, ...]
+    ratio: float
+    eta_forward: float
+    eta_backward: float
+    self_locking: bool
+    mass: float  # kg
+    rotor_inertia: float  # kg·m², motor side
+    reflected_frictionless: float  # kg·m², N²·I_r
+    reflected_motoring: float
+    reflected_backdriven: float  # inf when self-locking
+    capacity_motoring: float  # N·m
+    capacity_backdriven: float  # N·m (holding while back-driven)
+    capacity_frictionless: float
+    gear_peak_torque: float
+    breakaway_torque: float  # N·m joint side, inf when self-locking
+    max_joint_speed: float  # rad/s
+
+
+@dataclass(frozen=True)
+class CheckResult:
+    subject: str
+    requirement: str
+    achieved: float
+    limit: float
+    sense: str
+    unit: str
+    margin: float
+    ok: bool
+
+
+@dataclass(frozen=True)
+class CaseResult:
+    name: str
+    kind: str
+    metrics: dict  # name -> float (SI)
+    limiting_joint: str | None
+    joint_modes: dict | None  # payload cases: joint -> motoring / back-driven / holding
+
+
+@dataclass(frozen=True)
+class Assessment:
+    project: str
+    design: str
+    joints: tuple[JointSummary, ...]
+    cases: tuple[CaseResult, ...]
+    checks: tuple[CheckResult, ...]
+    total_mass: float
+    total_cost: float
+    feasible: bool
+    cautions: tuple[str, ...]
+
+    def to_dict(self) -> dict:
+        return _jsonable(asdict(self))
+
+
+def _jsonable(x):
+    """JSON-safe: infinities as the strings "inf"/"-inf" (never NaN, never a silent number)."""
+    if isinstance(x, dict):
+        return {k: _jsonable(v) for k, v in x.items()}
+    if isinstance(x, (list, tuple)):
+        return [_jsonable(v) for v in x]
+    if isinstance(x, (np.floating, float)):
+        x = float(x)
+        if math.isinf(x):
+            return "inf" if x > 0 else "-inf"
+        if math.isnan(x):
+            return None
+        return x
+    if isinstance(x, (np.integer,)):
+        return int(x)
+    if isinstance(x, np.bool_):
+        return bool(x)
+    return x
+
+
+MODE_NAMES = {1: "motoring", -1: "back-driven", 0: "holding"}
+
+
+def joint_summary(joint: str, a) -> JointSummary:
+    return JointSummary(
+        joint=joint,
+        actuator=a.label(),
+        motor=a.motor.name,
+        stages=tuple(s.label() for s in a.stages),
+        ratio=a.ratio,
+        eta_forward=a.eta_forward,
+        eta_backward=a.eta_backward,
+        self_locking=a.self_locking,
+        mass=a.mass,
+        rotor_inertia=a.rotor_inertia,
+        reflected_frictionless=a.reflected_inertia("frictionless"),
+        reflected_motoring=a.reflected_inertia("motoring"),
+        reflected_backdriven=a.reflected_inertia("backdriven"),
+        capacity_motoring=a.capacity("motoring"),
+        capacity_backdriven=a.capacity("backdriven"),
+        capacity_frictionless=a.capacity("frictionless"),
+        gear_peak_torque=a.gear_peak_torque,
+        breakaway_torque=a.breakaway_torque,
+        max_joint_speed=a.max_joint_speed,
+    )
+
+
+def assess(project, design: Design, evaluator: Evaluator | None = None) -> Assessment:
+    """Every metric of every case for one design, and every requirement with its margin."""
+    evaluator = evaluator or Evaluator(project)
+    arrays = arrays_from_designs([design])
+    ev = evaluator.evaluate(arrays)
+    names = list(project.robot.actuated)
+    cases = []
+    for case in project.cases:
+        if case.name not in ev:
+            continue
+        metrics, limiting, modes = {}, None, None
+        for k, v in ev[case.name].items():
+            v = np.asarray(v)
+            if k == "limiting_joint":
+                idx = int(v.reshape(-1)[0])
+                limiting = names[idx] if idx >= 0 else None
+            elif k == "joint_torque":
+                tau = v.reshape(-1, len(names))[0]
+                metrics.update({f"joint_torque:{n}": float(t) for n, t in zip(names, tau)})
+                if case.kind == "payload":
+                    modes = _payload_modes(evaluator, case.name, tau)
+            elif v.ndim >= 1 and v.shape[0] == 1:
+                metrics[k] = v.reshape(-1)[0].item()
+        cases.append(CaseResult(case.name, case.kind, metrics, limiting, modes))
+    cl = checks(project, arrays, ev)
+    results = tuple(
+        CheckResult(c.subject, c.name, float(c.achieved[0]), c.limit, c.sense, c.unit,
+                    float(c.margin[0]), bool(c.ok[0]))
+        for c in cl
+    )
+    cautions = [CAUTION]
+    for j, a in zip(names, design.actuators):
+        if a.self_locking:
+            cautions.append(
+                f"{j}: self-locking transmission (backward efficiency {a.eta_backward:.2f} ≤ 0). It "
+                "holds its load when unpowered and cannot be pushed back by a person or an obstacle: "
+                "pinch and crush hazard. Apply the applicable safety standards."
+            )
+    return Assessment(
+        project=project.name,
+        design=design.name,
+        joints=tuple(joint_summary(j, a) for j, a in zip(names, design.actuators)),
+        cases=tuple(cases),
+        checks=results,
+        total_mass=design.mass,
+        total_cost=design.cost,
+        feasible=bool(feasible(cl, 1)[0]),
+        cautions=tuple(cautions),
+    )
+
+
+def _payload_modes(evaluator: Evaluator, case_name: str, tau: np.ndarray) -> dict:
+    pc = next(p for p in evaluator.cases if p.case.name == case_name)
+    sign = pc.velocity_sign
+    power = np.sign(tau) * sign
+    return {j: MODE_NAMES[int(p)] for j, p in zip(evaluator.robot.actuated, power)}

@@ -1,0 +1,58 @@
+"""The ``jointwright`` command: verbs new, check, assess, size, frontier, study, report.
+
+Each verb lives in ``jointwright.commands.<verb>`` and is imported only when used, so start-up
+stays fast. Bad input ends with one line naming file, field and rule, and exit code 2.
+"""
+
+from __future__ import annotations
+
+import importlib
+import sys
+
+import click
+
+from .errors import InputError
+
+VERBS = {
+    "new": "write a bundled example project into a folder",
+    "check": "validate a project and summarize robot, catalog, cases and requirements",
+    "assess": "every metric of a given design, per case and per power-flow mode",
+    "size": "choose motor, stages and ratio for every joint (proven optimum)",
+    "frontier": "payload versus back-drivability frontier",
+    "study": "run a trade study (many cases) into a SQLite file",
+    "report": "write the HTML report of a sizing, frontier or study",
+}
+
+
+class _Verbs(click.Group):
+    def list_commands(self, ctx):
+        return [v for v in VERBS if importlib.util.find_spec(f"jointwright.commands.{v}")]
+
+    def get_command(self, ctx, name):
+        if name not in VERBS or not importlib.util.find_spec(f"jointwright.commands.{name}"):
+            return None
+        return importlib.import_module(f"jointwright.commands.{name}").command
+
+    def invoke(self, ctx):
+        try:
+            return super().invoke(ctx)
+        except InputError as exc:
+            click.echo(f"jointwright: error: {exc}", err=True)
+            ctx.exit(2)
+        except KeyboardInterrupt:
+            click.echo("jointwright: interrupted", err=True)
+            ctx.exit(130)
+
+
+@click.group(cls=_Verbs, context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(package_name="jointwright")
+def main():
+    """Size every actuator of a robot at once: motor, gear stages and ratio per joint.
+
+    Concept-stage aid: verify selections against supplier data and by test, and apply the
+    applicable safety standards (self-locking and high-ratio joints can trap or crush).
+    """
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

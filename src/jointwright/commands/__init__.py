@@ -1,0 +1,1 @@
+"""One module per CLI verb; each defines ``command`` (a click command)."""

@@ -1,0 +1,231 @@
+"""A design (one actuator per actuated joint), its file format, and its batched array form.
+
+The design file (TOML)::
+
+    [design]
+    name = "baseline"
+
+    [joint.knee]
+    motor = "PK-80x20"
+    stages = [{ stage = "PL-1", frame = "PL-1-60", ratio = 6 }]
+
+Every evaluation of a design goes through :mod:`jointwright.evaluate`, which works on
+:class:`DesignArrays` — the per-joint actuator properties stacked over many designs.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, fields
+from pathlib import Path
+
+import numpy as np
+
+from .drivetrain import Actuator, StageChoice
+from .errors import InputError
+from .tomlfile import Table, load_toml
+
+
+@dataclass(frozen=True)
+class Design:
+    """One actuator per actuated joint, in the robot's actuated-joint order."""
+
+    name: str
+    joints: tuple[str, ...]
+    actuators: tuple[Actuator, ...]
+
+    def actuator(self, joint: str) -> Actuator:
+        return self.actuators[self.joints.index(joint)]
+
+    @property
+    def mass(self) -> float:
+        return sum(a.mass for a in self.actuators)
+
+    @property
+    def cost(self) -> float:
+        return sum(a.cost for a in self.actuators)
+
+
+def load_design(path: str | Path, project) -> Design:
+    """Read a design file against a project's robot and catalog."""
+    path = Path(path)
+    return design_from_dict(load_toml(path), project, str(path))
+
+
+def design_from_dict(data: dict, project, file: str = "<api>") -> Design:
+    top = Table(data, file, "")
+    head = top.table("design", {})
+    name = head.str("name", Path(file).stem)
+    head.done()
+    jt = top.table("joint")
+    robot, catalog = project.robot, project.catalog
+    for j in jt.data:
+        if j not in robot.actuated:
+            raise InputError(file, jt.field(j), f"unknown joint {j!r}; actuated joints are "
+                             f"{', '.join(robot.actuated)}")
+    acts = []
+    for j in robot.actuated:
+        if j not in jt.data:
+            raise InputError(file, jt.field(j), "is required: every actuated joint needs an actuator")
+        acts.append(_actuator(jt.table(j), catalog, project.max_stages))
+    jt.done()
+    top.done()
+    return Design(name=name, joints=tuple(robot.actuated), actuators=tuple(acts))
+
+
+def _actuator(t: Table, catalog, max_stages: int) -> Actuator:
+    mname = t.str("motor")
+    try:
+        motor = catalog.motor(mname)
+    except KeyError:
+        raise InputError(t.file, t.field("motor"), f"unknown motor {mname!r}; not in the catalog") from None
+    stages = []
+    entries = t.list("stages", [])
+    if len(entries) > max(max_stages, 0):
+        raise InputError(t.file, t.field("stages"), f"at most {max_stages} stages (catalog.max_stages), got {len(entries)}")
+    for i, e in enumerate(entries):
+        st = Table(e, t.file, f"{t.field('stages')}[{i}]")
+        sname = st.str("stage")
+        try:
+            stage = catalog.stage(sname)
+        except KeyError:
+            raise InputError(t.file, st.field("stage"), f"unknown stage type {sname!r}; not in the catalog") from None
+        fname = st.str("frame")
+        try:
+            frame = stage.frame(fname)
+        except KeyError:
+            names = ", ".join(f.name for f in stage.frames)
+            raise InputError(t.file, st.field("frame"), f"unknown frame {fname!r} of {sname}; it has {names}") from None
+        ratio = st.quantity("ratio", "ratio", sign="positive")
+        if not stage.allows(ratio):
+            allowed = (f"one of {list(stage.ratios)}" if stage.ratios is not None
+                       else f"in [{stage.ratio_range[0]:g}, {stage.ratio_range[1]:g}]")
+            raise InputError(t.file, st.field("ratio"), f"ratio {ratio:g} not offered by {sname}: must be {allowed}")
+        st.done()
+        stages.append(StageChoice(stage, frame, ratio))
+    t.done()
+    return Actuator(motor, tuple(stages))
+
+
+def design_to_toml(design: Design) -> str:
+    """The design file text for a design (round-trips through :func:`load_design`)."""
+    lines = ["[design]", f'name = "{design.name}"', ""]
+    for j, a in zip(design.joints, design.actuators):
+        lines.append(f"[joint.{j}]")
+        lines.append(f'motor = "{a.motor.name}"')
+        st = ", ".join(
+            f'{{ stage = "{s.stage.name}", frame = "{s.frame.name}", ratio = {s.ratio!r} }}' for s in a.stages
+        )
+        lines.append(f"stages = [{st}]")
+        lines.append("")
+    return "\n".join(lines)
+
+
+@dataclass(frozen=True)
+class DesignArrays:
+    """Per-joint actuator properties stacked over D designs: every field is (D, n_joints).
+
+    Units: kg, N·m, kg·m², rad/s, V, Ω, K/W, s, °C; efficiencies dimensionless.
+    """
+
+    mass: np.ndarray
+    ratio: np.ndarray
+    eta_forward: np.ndarray
+    eta_backward: np.ndarray
+    self_locking: np.ndarray
+    rotor_inertia: np.ndarray  # I_r on the motor shaft (rotor + stage input inertias)
+    motor_peak_torque: np.ndarray
+    motor_continuous_torque: np.ndarray
+    gear_peak_torque: np.ndarray  # joint side
+    gear_continuous_torque: np.ndarray
+    breakaway_torque: np.ndarray  # joint side, inf when self-locking
+    motor_max_speed: np.ndarray
+    torque_constant: np.ndarray  # nan when the catalog gives none
+    resistance: np.ndarray
+    bus_voltage: np.ndarray
+    thermal_resistance: np.ndarray
+    thermal_time_constant: np.ndarray
+    winding_temperature_max: np.ndarray
+    diameter: np.ndarray
+    length: np.ndarray
+    cost: np.ndarray
+
+    @property
+    def count(self) -> int:
+        return self.mass.shape[0]
+
+    def take(self, index) -> "DesignArrays":
+        return DesignArrays(**{f.name: getattr(self, f.name)[index] for f in fields(self)})
+
+    # -- joint-side capacities per mode (N·m) ---------------------------------------------------
+    def capacity(self, mode: str, *, continuous: bool = False) -> np.ndarray:
+        tau = self.motor_continuous_torque if continuous else self.motor_peak_torque
+        gear = self.gear_continuous_torque if continuous else self.gear_peak_torque
+        n = self.ratio
+        if mode == "frictionless":
+            value = n * tau
+        elif mode == "motoring":
+            value = self.eta_forward * n * tau
+        elif mode == "backdriven":
+            with np.errstate(divide="ignore"):
+                value = np.where(self.self_locking, np.inf, n * tau / np.where(self.self_locking, 1.0, self.eta_backward))
+        else:
+            raise ValueError(mode)
+        return np.minimum(value, gear)
+
+    def reflected_inertia(self, mode: str) -> np.ndarray:
+        base = self.ratio**2 * self.rotor_inertia
+        if mode == "frictionless":
+            return base
+        if mode == "motoring":
+            return self.eta_forward * base
+        if mode == "backdriven":
+            return np.where(self.self_locking, np.inf, base / np.where(self.self_locking, 1.0, self.eta_backward))
+        raise ValueError(mode)
+
+
+_ACTUATOR_FIELDS = {
+    "mass": lambda a: a.mass,
+    "ratio": lambda a: a.ratio,
+    "eta_forward": lambda a: a.eta_forward,
+    "eta_backward": lambda a: a.eta_backward,
+    "self_locking": lambda a: a.self_locking,
+    "rotor_inertia": lambda a: a.rotor_inertia,
+    "motor_peak_torque": lambda a: a.motor.peak_torque,
+    "motor_continuous_torque": lambda a: a.motor.continuous_torque,
+    "gear_peak_torque": lambda a: a.gear_peak_torque,
+    "gear_continuous_torque": lambda a: a.gear_continuous_torque,
+    "breakaway_torque": lambda a: a.breakaway_torque,
+    "motor_max_speed": lambda a: a.motor.max_speed,
+    "torque_constant": lambda a: _nan(a.motor.torque_constant),
+    "resistance": lambda a: _nan(a.motor.resistance),
+    "bus_voltage": lambda a: _nan(a.motor.bus_voltage),
+    "thermal_resistance": lambda a: _nan(a.motor.thermal_resistance),
+    "thermal_time_constant": lambda a: _nan(a.motor.thermal_time_constant),
+    "winding_temperature_max": lambda a: a.motor.winding_temperature_max,
+    "diameter": lambda a: a.diameter,
+    "length": lambda a: a.length,
+    "cost": lambda a: a.cost,
+}
+
+
+def _nan(x):
+    return math.nan if x is None else x
+
+
+def actuator_row(a: Actuator) -> dict[str, float]:
+    """One actuator's entries of :class:`DesignArrays`."""
+    return {k: fn(a) for k, fn in _ACTUATOR_FIELDS.items()}
+
+
+def arrays_from_rows(rows: list[list[dict]]) -> DesignArrays:
+    """Stack ``rows[d][j]`` (design d, joint j, as from :func:`actuator_row`) into arrays."""
+    out = {}
+    for k in _ACTUATOR_FIELDS:
+        dtype = bool if k == "self_locking" else float
+        out[k] = np.array([[r[k] for r in row] for row in rows], dtype=dtype)
+    return DesignArrays(**out)
+
+
+def arrays_from_designs(designs: list[Design]) -> DesignArrays:
+    return arrays_from_rows([[actuator_row(a) for a in d.actuators] for d in designs])

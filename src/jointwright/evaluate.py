@@ -1,0 +1,177 @@
+"""The one physics oracle: every metric of every case for many designs in one numpy call.
+
+Per case the pose terms are computed once (:mod:`jointwright.robot.basis`); a design's gravity
+and mass matrix are then multiply-adds over its actuator masses and reflected inertias, and the
+metrics come from the pure functions in :mod:`jointwright.metrics`.
+
+Payload cases treat the base as held (the limb's own payload: the tip force it can exert with the
+body supported); impact cases free the base (floating robots) so that the impact mitigation
+factor exists. Power-flow modes per case:
+
+* payload: each joint's mode follows the sign of τ_j·q̇_j with q̇ from the intended end-point
+  motion (``motion`` = along / against the force, or hold). ``payload_frictionless`` uses N·τ_m.
+* impact: the link drives the motors — back-driven reflected inertia N²·I_r/η_b (self-locking
+  joints are locked); the frictionless (N²·I_r) and motoring (η_f·N²·I_r) values are shown too.
+* backdrive: unpowered robot, joint-side breakaway torques, gravity held.
+* speed: joint speed limit = motor maximum speed / N.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .design import DesignArrays
+from .metrics.backdrive import backdrive_force
+from .metrics.inertia import effective_mass, impact_mitigation
+from .metrics.payload import payload_along, torque_bounds
+from .metrics.speed import endpoint_speed
+from .robot.basis import gravity, mass_matrix, pose_basis
+
+#: joint velocity components below this fraction of the largest count as zero (holding)
+VELOCITY_TOLERANCE = 1e-9
+
+
+@dataclass(frozen=True, eq=False)
+class PreparedCase:
+    """Pose terms of one case, computed once."""
+
+    case: object
+    basis: object  # PoseBasis
+    J: np.ndarray  # (3, nv) tip point Jacobian, world axes
+    Jj: np.ndarray  # (3, n_act) columns of the actuated joints
+    u: np.ndarray | None  # (3,) unit direction
+    velocity_sign: np.ndarray  # (n_act,) for payload cases
+
+
+class Evaluator:
+    """Prepares the cases of a project once and evaluates batches of designs.
+
+    Parameters
+    ----------
+    project : Project
+    """
+
+    def __init__(self, project):
+        self.project = project
+        robot = project.robot
+        self.robot = robot
+        self.floating = robot.n_base == 6
+        self.v_index = np.asarray(robot.v_index)
+        self.cases = tuple(self._prepare(c) for c in project.cases if c.kind != "duty")
+        self.duty = tuple(c for c in project.cases if c.kind == "duty")
+
+    def _prepare(self, case) -> PreparedCase:
+        robot = self.robot
+        q = robot.configuration(case.pose, case.base_xyz, case.base_rpy,
+                                file=str(self.project.file), field=f"case {case.name}.pose")
+        basis = pose_basis(robot, q, [case.frame])
+        J = basis.J[0, :3, :]
+        Jj = J[:, self.v_index]
+        u = np.asarray(case.direction, dtype=float) if case.direction is not None else None
+        sign = np.zeros(len(self.v_index))
+        if case.kind == "payload" and case.motion != "hold":
+            qd = np.linalg.pinv(Jj) @ u
+            qd = qd if case.motion == "along" else -qd
+            big = np.abs(qd).max() if qd.size else 0.0
+            sign = np.where(np.abs(qd) > VELOCITY_TOLERANCE * max(big, 1e-300), np.sign(qd), 0.0)
+        return PreparedCase(case=case, basis=basis, J=J, Jj=Jj, u=u, velocity_sign=sign)
+
+    # ------------------------------------------------------------------------------------------
+    def evaluate(self, d: DesignArrays) -> dict[str, dict[str, np.ndarray]]:
+        """Metrics per case name: dict of arrays with leading dimension D (designs)."""
+        out = {}
+        for pc in self.cases:
+            kind = pc.case.kind
+            if kind == "payload":
+                out[pc.case.name] = self._payload(pc, d)
+            elif kind == "impact":
+                out[pc.case.name] = self._impact(pc, d)
+            elif kind == "backdrive":
+                out[pc.case.name] = self._backdrive(pc, d)
+            elif kind == "speed":
+                out[pc.case.name] = self._speed(pc, d)
+        return out
+
+    def _bias(self, pc: PreparedCase, d: DesignArrays) -> np.ndarray:
+        return gravity(pc.basis, d.mass)[..., self.v_index]
+
+    def _payload(self, pc: PreparedCase, d: DesignArrays) -> dict[str, np.ndarray]:
+        """Tip force along u for three intended motions and with a frictionless transmission.
+
+        ``payload_raise``: the tip moves along its force (pushing, lifting); ``payload_lower``:
+        the tip yields (lowering, absorbing); ``payload_hold``: static, holding capacity both
+        ways. ``payload`` is the one the case's ``motion`` names.
+        """
+        bias = self._bias(pc, d)
+        cap_m, cap_b = d.capacity("motoring"), d.capacity("backdriven")
+        a = pc.Jj.T @ pc.u
+        # velocity_sign already points the way the case moves; flip it for the opposite motion
+        along = pc.velocity_sign if pc.case.motion != "against" else -pc.velocity_sign
+        results = {}
+        for label, s in (("raise", along), ("lower", -along), ("hold", np.zeros_like(along))):
+            lo, hi = torque_bounds(np.broadcast_to(s, bias.shape), cap_m, cap_b)
+            results[label] = payload_along(pc.Jj, bias, lo, hi, pc.u)
+        cap_0 = d.capacity("frictionless")
+        free = payload_along(pc.Jj, bias, -cap_0, cap_0, pc.u)
+        main = results[{"along": "raise", "against": "lower", "hold": "hold"}[pc.case.motion]]
+        force = np.where(np.isfinite(main.force), main.force, 0.0)
+        return {
+            "payload": main.force,
+            "limiting_joint": main.limiting_joint,
+            "self_supporting": main.feasible,
+            "payload_frictionless": free.force,
+            "payload_raise": results["raise"].force,
+            "payload_lower": results["lower"].force,
+            "payload_hold": results["hold"].force,
+            "joint_torque": bias + force[..., None] * a,
+        }
+
+    def _impact(self, pc: PreparedCase, d: DesignArrays) -> dict[str, np.ndarray]:
+        out = {}
+        locked = d.self_locking
+        for mode in ("frictionless", "motoring", "backdriven"):
+            refl = d.reflected_inertia(mode)
+            refl = np.where(np.isfinite(refl), refl, 0.0)
+            H = mass_matrix(pc.basis, d.mass, refl, rotor_inertia=d.rotor_inertia, ratio=d.ratio,
+                            coupling=self.project.rotor_coupling)
+            lock = locked if mode == "backdriven" else np.zeros_like(locked)
+            suffix = "" if mode == "backdriven" else f"_{mode}"
+            if self.floating:
+                J = np.broadcast_to(pc.J, H.shape[:-2] + pc.J.shape)
+                imf = impact_mitigation(H, J, 6, lock, direction=pc.u)
+                out["imf" + suffix] = imf.imf
+                out["imf_restricted" + suffix] = imf.imf_restricted
+                out["imf_direction" + suffix] = imf.imf_direction
+                out["contact_rank" + suffix] = imf.rank
+                lam = imf.Lambda
+                out["effective_mass" + suffix] = 1.0 / np.einsum("i,...ij,j->...", pc.u, np.linalg.inv(lam), pc.u)
+            else:
+                out["effective_mass" + suffix] = _effective_mass_locked(pc.J, H, pc.u, lock)
+        return out
+
+    def _backdrive(self, pc: PreparedCase, d: DesignArrays) -> dict[str, np.ndarray]:
+        r = backdrive_force(pc.Jj, d.breakaway_torque, pc.u)
+        return {"backdrive_force": r.force, "limiting_joint": r.limiting_joint}
+
+    def _speed(self, pc: PreparedCase, d: DesignArrays) -> dict[str, np.ndarray]:
+        r = endpoint_speed(pc.Jj, d.motor_max_speed / d.ratio, pc.u)
+        return {"speed": r.speed, "limiting_joint": r.limiting_joint}
+
+
+def _effective_mass_locked(J, H, u, locked) -> np.ndarray:
+    """Effective mass 1/(uᵀ·J·H⁻¹·Jᵀ·u) with locked joints removed (fixed base)."""
+    D = H.shape[0]
+    out = np.empty(D)
+    patterns = {tuple(row) for row in np.asarray(locked, dtype=bool)}
+    for pat in patterns:
+        rows = np.all(locked == np.array(pat), axis=1)
+        free = ~np.array(pat, dtype=bool)
+        if not free.any():
+            out[rows] = np.inf
+            continue
+        Hs = H[rows][:, free][:, :, free]
+        Js = J[:, free]
+        out[rows] = effective_mass(np.broadcast_to(Js, (Hs.shape[0],) + Js.shape), Hs, u).mass
+    return out

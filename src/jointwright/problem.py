@@ -1,0 +1,120 @@
+"""Requirements -> checks with margins, and the objective, for batches of designs.
+
+A check compares an achieved value with a limit: ``sense = "min"`` means achieved ≥ limit,
+``"max"`` achieved ≤ limit. Its margin is relative, (achieved − limit)/|limit| for "min" and
+(limit − achieved)/|limit| for "max", so a design meets a requirement exactly when the margin is
+≥ 0. Margins are what the optimizer constrains and what reports show.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from .project import CASE_LIMITS
+
+#: achieved value per case-limit key: (metric name in the evaluation, unit shown)
+_CASE_METRIC = {
+    "payload_min": ("payload", "N"),
+    "imf_min": ("imf", "-"),
+    "directional_imf_min": ("imf_direction", "-"),
+    "effective_mass_max": ("effective_mass", "kg"),
+    "backdrive_force_max": ("backdrive_force", "N"),
+    "speed_min": ("speed", "m/s"),
+}
+
+OBJECTIVES = ("payload", "mass", "imf")
+
+
+@dataclass(frozen=True)
+class Check:
+    """One requirement evaluated over D designs."""
+
+    name: str  # e.g. "payload_min", "joint mass_max"
+    subject: str  # case or joint name, or "robot"
+    achieved: np.ndarray  # (D,)
+    limit: float
+    sense: str  # "min" or "max"
+    unit: str
+
+    @property
+    def margin(self) -> np.ndarray:
+        a = np.asarray(self.achieved, dtype=float)
+        scale = abs(self.limit) if self.limit != 0 else 1.0
+        with np.errstate(invalid="ignore"):
+            m = (a - self.limit) / scale if self.sense == "min" else (self.limit - a) / scale
+        # inf − inf and the like: a self-locking holding capacity meets any "min" limit
+        return np.where(np.isnan(m), -np.inf, m)
+
+    @property
+    def ok(self) -> np.ndarray:
+        return self.margin >= -1e-12
+
+    def label(self) -> str:
+        return f"{self.subject}: {self.name.replace('_', ' ')}"
+
+
+def checks(project, arrays, evaluation) -> list[Check]:
+    """Every requirement of the project as a :class:`Check` over the designs in ``arrays``."""
+    out = []
+    for case in project.cases:
+        if case.kind == "duty":
+            continue
+        ev = evaluation[case.name]
+        for key, limit in case.limits.items():
+            metric, unit = _CASE_METRIC.get(key, (None, None))
+            if metric is None or metric not in ev:
+                continue
+            sense = CASE_LIMITS[case.kind][key][1]
+            out.append(Check(key, case.name, np.asarray(ev[metric], dtype=float), limit, sense, unit))
+    req = project.requirements
+    total = arrays.mass.sum(axis=1)
+    if math.isfinite(req.total_mass_max):
+        out.append(Check("total_mass_max", "robot", total, req.total_mass_max, "max", "kg"))
+    if math.isfinite(req.total_cost_max):
+        out.append(Check("total_cost_max", "robot", arrays.cost.sum(axis=1), req.total_cost_max, "max", "-"))
+    refl = arrays.reflected_inertia("backdriven")
+    for j, name in enumerate(project.robot.actuated):
+        lim = req.joint(name)
+        per = [
+            ("mass_max", arrays.mass[:, j], lim.mass_max, "max", "kg"),
+            ("reflected_inertia_max", refl[:, j], lim.reflected_inertia_max, "max", "kg*m^2"),
+            ("diameter_max", arrays.diameter[:, j], lim.diameter_max, "max", "m"),
+            ("length_max", arrays.length[:, j], lim.length_max, "max", "m"),
+            ("ratio_min", arrays.ratio[:, j], lim.ratio_min, "min", "-"),
+            ("ratio_max", arrays.ratio[:, j], lim.ratio_max, "max", "-"),
+        ]
+        for key, achieved, limit, sense, unit in per:
+            if (sense == "max" and math.isfinite(limit)) or (sense == "min" and limit > 0):
+                out.append(Check(key, name, achieved, limit, sense, unit))
+    return out
+
+
+def feasible(check_list: list[Check], count: int) -> np.ndarray:
+    ok = np.ones(count, dtype=bool)
+    for c in check_list:
+        ok &= c.ok
+    return ok
+
+
+def payload_cases(project) -> list[str]:
+    return [c.name for c in project.cases if c.kind == "payload"]
+
+
+def objective(project, arrays, evaluation, kind: str = "payload") -> np.ndarray:
+    """Objective values to maximize, (D,).
+
+    payload: the worst payload over the payload cases (N); mass: minus total actuator mass (kg);
+    imf: the worst impact mitigation factor over the impact cases.
+    """
+    if kind == "payload":
+        names = payload_cases(project)
+        return np.min([np.asarray(evaluation[n]["payload"], dtype=float) for n in names], axis=0)
+    if kind == "mass":
+        return -arrays.mass.sum(axis=1)
+    if kind == "imf":
+        names = [c.name for c in project.cases if c.kind == "impact" and "imf" in evaluation[c.name]]
+        return np.min([np.asarray(evaluation[n]["imf"], dtype=float) for n in names], axis=0)
+    raise ValueError(f"unknown objective {kind!r}; expected one of {OBJECTIVES}")

@@ -1,0 +1,281 @@
+"""The project file (TOML): robot, catalog, cases and requirements -> a :class:`Project`.
+
+See docs/project-format.md for the format with a complete example.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from .errors import InputError
+from .tomlfile import Table, load_toml
+
+CASE_KINDS = ("payload", "impact", "backdrive", "speed", "duty")
+MOTIONS = ("along", "against", "hold")
+STANDARD_GRAVITY = 9.80665
+
+
+@dataclass(frozen=True)
+class Case:
+    """One operating case: a pose (or trajectory), a tip frame, a direction and its requirements.
+
+    kind
+        ``payload``: largest force the tip can exert along ``direction`` (N), with the end point
+        moving ``motion`` = along / against the force, or holding still.
+        ``impact``: effective mass along ``direction`` and, for a floating base, the impact
+        mitigation factor at the contact point ``frame``; back-driven reflected inertia.
+        ``backdrive``: tip force along ``direction`` that starts the unpowered robot moving.
+        ``speed``: end-point speed along ``direction`` within the motors' speed limits.
+        ``duty``: a trajectory (CSV) for RMS/peak torque, temperature and energy.
+    """
+
+    name: str
+    kind: str
+    frame: str | None
+    pose: dict[str, float]
+    base_xyz: tuple[float, float, float] = (0.0, 0.0, 0.0)
+    base_rpy: tuple[float, float, float] = (0.0, 0.0, 0.0)
+    direction: tuple[float, ...] | None = None
+    motion: str = "along"
+    trajectory: Path | None = None
+    ambient: float = 25.0
+    #: requirement name -> limit, e.g. {"payload_min": 150.0} (SI)
+    limits: dict[str, float] = field(default_factory=dict)
+    #: for payload cases: the force is reported as a mass too when the direction is vertical
+    weight_equivalent: bool = False
+
+
+#: per kind: requirement key -> (dimension, sense); sense "min" means achieved >= limit
+CASE_LIMITS: dict[str, dict[str, tuple[str, str]]] = {
+    "payload": {"payload_min": ("force", "min")},
+    "impact": {
+        "imf_min": ("dimensionless", "min"),
+        "directional_imf_min": ("dimensionless", "min"),
+        "effective_mass_max": ("mass", "max"),
+    },
+    "backdrive": {"backdrive_force_max": ("force", "max")},
+    "speed": {"speed_min": ("velocity", "min")},
+    "duty": {"temperature_margin_min": ("temperature", "min")},
+}
+
+
+@dataclass(frozen=True)
+class JointLimits:
+    mass_max: float = math.inf
+    reflected_inertia_max: float = math.inf
+    diameter_max: float = math.inf
+    length_max: float = math.inf
+    ratio_min: float = 0.0
+    ratio_max: float = math.inf
+
+
+@dataclass(frozen=True)
+class Requirements:
+    total_mass_max: float = math.inf
+    total_cost_max: float = math.inf
+    joints: dict[str, JointLimits] = field(default_factory=dict)
+
+    def joint(self, name: str) -> JointLimits:
+        return self.joints.get(name, JointLimits())
+
+
+@dataclass(frozen=True)
+class Project:
+    """Everything read from one project file. Quantities are SI."""
+
+    name: str
+    file: Path
+    robot: Any  # jointwright.robot.Robot
+    catalog: Any  # jointwright.catalog.model.Catalog
+    cases: tuple[Case, ...]
+    requirements: Requirements
+    max_stages: int = 2
+    stage_kinds: tuple[str, ...] | None = None
+    rotor_coupling: bool = False
+    summary: str = ""
+    objective: dict = field(default_factory=dict)
+
+    @property
+    def base_dir(self) -> Path:
+        return self.file.parent
+
+    def case(self, name: str) -> Case:
+        for c in self.cases:
+            if c.name == name:
+                return c
+        raise KeyError(name)
+
+
+def load_project(path: str | Path) -> Project:
+    """Read and validate a project file; every error is one InputError naming file and field."""
+    path = Path(path)
+    data = load_toml(path)
+    return project_from_dict(data, path)
+
+
+def project_from_dict(data: dict, path: Path) -> Project:
+    file = str(path)
+    top = Table(data, file, "")
+    head = top.table("project", {})
+    name = head.str("name", path.stem)
+    summary = head.str("summary", "")
+    head.done()
+
+    robot = _load_robot(top.table("robot"), path.parent)
+    catalog, max_stages, kinds = _load_catalog(top.table("catalog"), path.parent)
+    model = top.table("model", {})
+    coupling = model.bool("rotor_coupling", False)
+    model.done()
+    requirements = _load_requirements(top.table("requirements", {}), robot)
+    cases = tuple(_load_case(t, robot, path.parent) for t in top.tables("case"))
+    if not cases:
+        raise InputError(file, "case", "at least one [[case]] is required")
+    names = [c.name for c in cases]
+    for i, n in enumerate(names):
+        if n in names[:i]:
+            raise InputError(file, f"case[{i}].name", f"duplicate case name {n!r}")
+    objective = top.raw("objective", {})
+    if not isinstance(objective, dict):
+        raise InputError(file, "objective", "must be a table")
+    top.done()
+    return Project(
+        name=name,
+        file=path,
+        robot=robot,
+        catalog=catalog,
+        cases=cases,
+        requirements=requirements,
+        max_stages=max_stages,
+        stage_kinds=kinds,
+        rotor_coupling=coupling,
+        summary=summary,
+        objective=dict(objective),
+    )
+
+
+def _load_robot(t: Table, base_dir: Path):
+    from .robot import Robot
+
+    if t.has("urdf"):
+        urdf = base_dir / t.str("urdf")
+        base = t.str("base", "fixed", choices=("fixed", "floating"))
+        actuated = t.list("actuated", None)
+        mounts = t.raw("mounts", None)
+        robot = Robot.from_urdf(
+            urdf, floating=(base == "floating"), actuated=actuated, mounts=mounts, file=t.file
+        )
+        t.done()
+        return robot
+    return Robot.from_links(t.data, file=t.file)
+
+
+def _load_catalog(t: Table, base_dir: Path):
+    from .catalog.io import load_catalogs
+    from .catalog.model import STAGE_KINDS
+
+    files = t.list("files")
+    if not files or not all(isinstance(f, str) for f in files):
+        raise InputError(t.file, t.field("files"), "must be a non-empty list of file paths")
+    catalog = load_catalogs([base_dir / f for f in files])
+    max_stages = t.raw("max_stages", 2)
+    if not isinstance(max_stages, int) or isinstance(max_stages, bool) or not 0 <= max_stages <= 3:
+        raise InputError(t.file, t.field("max_stages"), f"must be a whole number from 0 to 3, got {max_stages!r}")
+    kinds = t.list("stage_kinds", None)
+    if kinds is not None:
+        for i, k in enumerate(kinds):
+            if k not in STAGE_KINDS:
+                raise InputError(t.file, f"{t.field('stage_kinds')}[{i}]",
+                                 f"unknown stage kind {k!r}; known: {', '.join(STAGE_KINDS)}")
+        kinds = tuple(kinds)
+    t.done()
+    return catalog, max_stages, kinds
+
+
+def _load_requirements(t: Table, robot) -> Requirements:
+    total = t.quantity("total_mass_max", "mass", math.inf, sign="positive")
+    cost = t.quantity("total_cost_max", "dimensionless", math.inf, sign="positive")
+    joints = {}
+    jt = t.table("joint", {})
+    for jname in list(jt.data):
+        sub = jt.table(jname)
+        if jname not in robot.actuated:
+            raise InputError(t.file, sub.path, f"unknown actuated joint {jname!r}; the robot has "
+                             f"{', '.join(robot.actuated)}")
+        joints[jname] = JointLimits(
+            mass_max=sub.quantity("mass_max", "mass", math.inf, sign="positive"),
+            reflected_inertia_max=sub.quantity("reflected_inertia_max", "inertia", math.inf, sign="positive"),
+            diameter_max=sub.quantity("diameter_max", "length", math.inf, sign="positive"),
+            length_max=sub.quantity("length_max", "length", math.inf, sign="positive"),
+            ratio_min=sub.quantity("ratio_min", "ratio", 0.0, sign="nonnegative"),
+            ratio_max=sub.quantity("ratio_max", "ratio", math.inf, sign="positive"),
+        )
+        sub.done()
+    jt.done()
+    t.done()
+    return Requirements(total_mass_max=total, total_cost_max=cost, joints=joints)
+
+
+def _load_case(t: Table, robot, base_dir: Path) -> Case:
+    name = t.str("name")
+    kind = t.str("kind", choices=CASE_KINDS)
+    frame = None
+    if kind != "duty":
+        frame = t.str("frame")
+        robot.frame_id(frame, file=t.file, field=t.field("frame"))
+    pose = {}
+    if kind != "duty":
+        pt = t.table("pose")
+        for jn in list(pt.data):
+            if jn not in robot.actuated:
+                raise InputError(t.file, pt.field(jn), f"unknown joint {jn!r}; actuated joints are "
+                                 f"{', '.join(robot.actuated)}")
+            pose[jn] = pt.quantity(jn, "angle")
+        missing = [j for j in robot.actuated if j not in pose]
+        if missing:
+            raise InputError(t.file, pt.field(missing[0]), "is required (every actuated joint needs a position)")
+        pt.done()
+    base_xyz = t.vector("base_xyz", 3, (0.0, 0.0, 0.0), "length")
+    base_rpy = t.vector("base_rpy", 3, (0.0, 0.0, 0.0), "angle")
+    direction = None
+    if kind in ("payload", "impact", "backdrive", "speed"):
+        d = np.asarray(t.vector("direction", 3))
+        norm = float(np.linalg.norm(d))
+        if norm == 0:
+            raise InputError(t.file, t.field("direction"), "must not be the zero vector")
+        direction = tuple(float(x) for x in d / norm)
+    motion = t.str("motion", "along", choices=MOTIONS) if kind in ("payload",) else "along"
+    trajectory = None
+    if kind == "duty":
+        trajectory = base_dir / t.str("trajectory")
+        if not trajectory.is_file():
+            raise InputError(t.file, t.field("trajectory"), f"file not found: {trajectory}")
+    ambient = t.quantity("ambient", "temperature", 25.0)
+    limits = {}
+    for key, (dim, _sense) in CASE_LIMITS[kind].items():
+        if t.has(key):
+            if kind == "payload" and key == "payload_min":
+                limits[key] = _force_or_weight(t, key)
+            else:
+                limits[key] = t.quantity(key, dim, sign="nonnegative")
+    weight = bool(direction is not None and abs(abs(direction[2]) - 1.0) < 1e-9)
+    t.done()
+    return Case(name=name, kind=kind, frame=frame, pose=pose, base_xyz=base_xyz, base_rpy=base_rpy,
+                direction=direction, motion=motion, trajectory=trajectory, ambient=ambient,
+                limits=limits, weight_equivalent=weight)
+
+
+def _force_or_weight(t: Table, key: str) -> float:
+    """A payload requirement as a force ("150 N") or as a mass ("15 kg", weight at standard g)."""
+    from .units import quantity
+
+    v = t.raw(key)
+    try:
+        return quantity(v, "force", file=t.file, field=t.field(key))
+    except InputError:
+        m = quantity(v, "mass", file=t.file, field=t.field(key))
+        return m * STANDARD_GRAVITY

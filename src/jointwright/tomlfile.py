@@ -1,0 +1,107 @@
+"""Reading TOML tables strictly: unknown keys, wrong types and bad quantities name file and field."""
+
+from __future__ import annotations
+
+import tomllib
+from pathlib import Path
+from typing import Any
+
+from .errors import InputError
+from .units import nonnegative, positive, quantity
+
+
+def load_toml(path: str | Path) -> dict:
+    """Parse a TOML file; a missing or malformed file raises InputError naming it."""
+    path = Path(path)
+    if not path.is_file():
+        raise InputError(str(path), "(file)", "file not found")
+    try:
+        with path.open("rb") as fh:
+            return tomllib.load(fh)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(str(path), "(syntax)", f"malformed TOML: {exc}") from None
+    except UnicodeDecodeError:
+        raise InputError(str(path), "(encoding)", "must be UTF-8 text") from None
+
+
+class Table:
+    """A view of one TOML table that remembers where it came from and which keys were read."""
+
+    def __init__(self, data: Any, file: str, path: str):
+        if not isinstance(data, dict):
+            raise InputError(file, path or "(top level)", f"must be a table, got {type(data).__name__}")
+        self.data, self.file, self.path = data, file, path
+        self._seen: set[str] = set()
+
+    def field(self, key: str) -> str:
+        return f"{self.path}.{key}" if self.path else key
+
+    def has(self, key: str) -> bool:
+        return key in self.data
+
+    def raw(self, key: str, default: Any = ...) -> Any:
+        self._seen.add(key)
+        if key not in self.data:
+            if default is ...:
+                raise InputError(self.file, self.field(key), "is required")
+            return default
+        return self.data[key]
+
+    def str(self, key: str, default: Any = ..., choices: tuple[str, ...] | None = None) -> str:
+        v = self.raw(key, default)
+        if v is default and default is not ...:
+            return v
+        if not isinstance(v, str):
+            raise InputError(self.file, self.field(key), f"must be a string, got {v!r}")
+        if choices is not None and v not in choices:
+            raise InputError(self.file, self.field(key), f"must be one of {', '.join(choices)}; got {v!r}")
+        return v
+
+    def bool(self, key: str, default: Any = ...) -> bool:
+        v = self.raw(key, default)
+        if not isinstance(v, bool):
+            raise InputError(self.file, self.field(key), f"must be true or false, got {v!r}")
+        return v
+
+    def quantity(self, key: str, dimension: str, default: Any = ..., *, sign: str = "any") -> float:
+        v = self.raw(key, default)
+        if v is default and default is not ...:
+            return v
+        fn = {"any": quantity, "positive": positive, "nonnegative": nonnegative}[sign]
+        return fn(v, dimension, file=self.file, field=self.field(key))
+
+    def list(self, key: str, default: Any = ...) -> list:
+        v = self.raw(key, default)
+        if v is default and default is not ...:
+            return v
+        if not isinstance(v, list):
+            raise InputError(self.file, self.field(key), f"must be a list, got {v!r}")
+        return v
+
+    def vector(self, key: str, length: int, default: Any = ..., dimension: str = "dimensionless"):
+        v = self.raw(key, default)
+        if v is default and default is not ...:
+            return v
+        if not isinstance(v, list) or len(v) != length:
+            raise InputError(self.file, self.field(key), f"must be a list of {length} numbers, got {v!r}")
+        return tuple(
+            quantity(x, dimension, file=self.file, field=f"{self.field(key)}[{i}]") for i, x in enumerate(v)
+        )
+
+    def table(self, key: str, default: Any = ...) -> "Table":
+        v = self.raw(key, default)
+        if v is default and default is not ...:
+            return Table({}, self.file, self.field(key))
+        return Table(v, self.file, self.field(key))
+
+    def tables(self, key: str) -> list["Table"]:
+        v = self.raw(key, [])
+        if not isinstance(v, list):
+            raise InputError(self.file, self.field(key), "must be an array of tables ([[...]])")
+        return [Table(x, self.file, f"{self.field(key)}[{i}]") for i, x in enumerate(v)]
+
+    def done(self) -> None:
+        """Raise on keys nobody read (typo protection)."""
+        extra = sorted(set(self.data) - self._seen)
+        if extra:
+            raise InputError(self.file, self.field(extra[0]), "unknown field (check the spelling)")
