@@ -1,0 +1,530 @@
+"""Catalog files: TOML (motors, motor families, stage types with frames) and CSV tables.
+
+The format is documented with complete examples in docs/catalog-format.md. In short:
+
+* a catalog TOML holds ``[[motor]]``, ``[[motor_family]]`` and ``[[stage]]`` tables (each stage
+  with ``[[stage.frame]]`` frame sizes), and may point to CSV tables with ``motors_csv`` (one
+  motor per row) and ``frames_csv`` (one stage frame per row, the ``stage`` column naming the
+  stage type it belongs to);
+* a motors CSV can also be loaded on its own;
+* CSV header cells may carry a unit in brackets (``peak_torque [N*m]``) that applies to plain
+  numbers in the column; any cell may carry its own unit (``"0.8 kg*cm^2"``).
+
+Bad input raises :class:`~jointwright.errors.InputError` naming the file, the field
+(``motor[3].mass``, ``row 7, column mass``) and the rule. Values outside the typical range of a
+stage kind are not errors: they become lines in :attr:`Catalog.notes`.
+"""
+
+from __future__ import annotations
+
+import csv
+import difflib
+import math
+from dataclasses import MISSING, fields
+from pathlib import Path
+from typing import Any, NamedTuple
+
+import numpy as np
+
+from ..errors import InputError
+from ..tomlfile import Table, load_toml
+from ..units import positive, registry
+from .efficiency import efficiency_from_dict
+from .model import STAGE_KINDS, Catalog, Motor, MotorFamily, StageFrame, StageType
+
+#: Motor field -> (dimension for units.quantity, sign rule)
+MOTOR_FIELDS: dict[str, tuple[str, str]] = {
+    "peak_torque": ("torque", "positive"),
+    "continuous_torque": ("torque", "positive"),
+    "rotor_inertia": ("inertia", "positive"),
+    "mass": ("mass", "positive"),
+    "max_speed": ("angular_velocity", "positive"),
+    "torque_constant": ("torque_constant", "positive"),
+    "resistance": ("resistance", "positive"),
+    "bus_voltage": ("voltage", "positive"),
+    "thermal_resistance": ("thermal_resistance", "positive"),
+    "thermal_time_constant": ("time", "positive"),
+    "winding_temperature_max": ("temperature", "any"),
+    "cogging_torque": ("torque", "nonnegative"),
+    "diameter": ("length", "nonnegative"),
+    "length": ("length", "nonnegative"),
+    "cost": ("dimensionless", "nonnegative"),
+}
+
+#: StageFrame field -> (dimension, sign rule)
+FRAME_FIELDS: dict[str, tuple[str, str]] = {
+    "rated_peak_torque": ("torque", "positive"),
+    "rated_continuous_torque": ("torque", "positive"),
+    "mass": ("mass", "positive"),
+    "input_inertia": ("inertia", "nonnegative"),
+    "breakaway_torque": ("torque", "nonnegative"),
+    "backlash": ("angle", "nonnegative"),
+    "stiffness": ("stiffness_torsional", "positive"),
+    "diameter": ("length", "nonnegative"),
+    "length": ("length", "nonnegative"),
+    "cost": ("dimensionless", "nonnegative"),
+}
+
+#: typical single-stage ratio (low, high) and forward efficiency (low, high) per stage kind
+#: [trade, see REFERENCES.md]; None where no range is customary (screws: the ratio is rad/m)
+TYPICAL: dict[str, tuple[tuple[float, float] | None, tuple[float, float]]] = {
+    "spur": ((1.0, 10.0), (0.97, 0.995)),
+    "planetary": ((3.0, 10.0), (0.95, 0.98)),
+    "cycloidal": ((10.0, 100.0), (0.75, 0.93)),
+    "strain_wave": ((30.0, 160.0), (0.60, 0.85)),
+    "belt": ((1.0, 8.0), (0.94, 0.98)),
+    "cable": (None, (0.95, 0.99)),
+    "ball_screw": (None, (0.90, 0.95)),
+    "lead_screw": (None, (0.20, 0.80)),
+    "worm": (None, (0.40, 0.90)),
+}
+
+#: efficiency models that describe one stage kind only (others suit any kind)
+MODEL_KINDS = {
+    "screw": ("ball_screw", "lead_screw"),
+    "worm": ("worm",),
+    "planetary_basic_train": ("planetary",),
+}
+
+_TOP_KEYS = ("description", "motor", "motor_family", "stage", "motors_csv", "frames_csv")
+_STAGE_KEYS = ("name", "kind", "ratios", "ratio_range", "efficiency", "frame")
+
+
+class _Where(NamedTuple):
+    file: str
+    field: str
+
+
+class _Part(NamedTuple):
+    """What one file contributes, with where each item was defined."""
+
+    motors: list[tuple[Motor, _Where]]
+    families: list[tuple[MotorFamily, _Where]]
+    stages: list[tuple[StageType, _Where]]
+    notes: list[str]
+
+
+# --- public API ----------------------------------------------------------------------------
+
+
+def load_catalog(path: str | Path) -> Catalog:
+    """Load one catalog file.
+
+    Parameters
+    ----------
+    path : a catalog ``.toml`` (which may name CSV tables), or a motors ``.csv``
+
+    Returns
+    -------
+    Catalog
+        SI values; warnings about atypical stages in ``notes``; ``source`` is the path.
+
+    Raises
+    ------
+    InputError
+        Missing or malformed file, or any invalid entry (see docs/catalog-format.md).
+    """
+    return load_catalogs([path])
+
+
+def load_catalogs(paths) -> Catalog:
+    """Load several catalog files into one :class:`Catalog`, in the order given.
+
+    Parameters
+    ----------
+    paths : iterable of str or Path, at least one
+
+    Returns
+    -------
+    Catalog
+        Motors, families and stages of all files concatenated; notes in file order; ``source``
+        lists the files separated by ``"; "``.
+
+    Raises
+    ------
+    InputError
+        As :func:`load_catalog`, and for a name used twice: motors (including every
+        motor-family member), motor families and stage types are unique across all files.
+    """
+    paths = [Path(p) for p in paths]
+    if not paths:
+        raise InputError("<api>", "paths", "give at least one catalog file")
+    parts = [_load_part(p) for p in paths]
+    return _merge(parts, source="; ".join(str(p) for p in paths))
+
+
+# --- files ---------------------------------------------------------------------------------
+
+
+def _load_part(path: Path) -> _Part:
+    suffix = path.suffix.lower()
+    if suffix == ".toml":
+        return _toml_part(path)
+    if suffix == ".csv":
+        header_line, header, lines = _csv_lines(path)
+        if any(_split_header(cell)[0] == "stage" for cell in header):
+            raise InputError(str(path), f"row {header_line}, column stage", "a stage-frames "
+                             "table cannot be loaded on its own: name it in a catalog TOML "
+                             "(frames_csv = ...)")
+        rows = _csv_rows(str(path), header_line, header, lines, ("name", *MOTOR_FIELDS))
+        part = _Part([(_motor(row), _Where(row.file, row.path)) for row in rows], [], [], [])
+        _require_content(part, path)
+        return part
+    raise InputError(str(path), "(file)", "a catalog file must end in .toml or .csv")
+
+
+def _toml_part(path: Path) -> _Part:
+    file = str(path)
+    top = Table(load_toml(path), file, "")
+    _check_keys(top, _TOP_KEYS)
+    if top.has("description") and not isinstance(top.raw("description"), str):
+        raise InputError(file, "description", "must be a string")
+    part = _Part([], [], [], [])
+    for t in top.tables("motor"):
+        part.motors.append((_motor(t), _Where(file, t.path)))
+    for csv_path in _paths(top, "motors_csv", path.parent):
+        for row in _read_csv(csv_path, allowed=("name", *MOTOR_FIELDS)):
+            part.motors.append((_motor(row), _Where(row.file, row.path)))
+    for t in top.tables("motor_family"):
+        part.families.append((_family(t), _Where(file, t.path)))
+    stages = [_StageDraft(t) for t in top.tables("stage")]
+    for csv_path in _paths(top, "frames_csv", path.parent):
+        _attach_frames(stages, csv_path, file)
+    for draft in stages:
+        stage = draft.build()
+        part.stages.append((stage, _Where(file, draft.t.path)))
+        part.notes.extend(_stage_notes(stage, _Where(file, draft.t.path)))
+    _require_content(part, path)
+    return part
+
+
+def _paths(top: Table, key: str, base: Path) -> list[Path]:
+    value = top.raw(key, [])
+    items = [value] if isinstance(value, str) else value
+    if not isinstance(items, list) or not all(isinstance(v, str) and v for v in items):
+        raise InputError(top.file, key, "must be a file name or a list of file names, "
+                         f"got {value!r}")
+    return [base / v for v in items]
+
+
+def _require_content(part: _Part, path: Path) -> None:
+    if not (part.motors or part.families or part.stages):
+        raise InputError(str(path), "(top level)", "defines no motor, motor_family or stage")
+
+
+# --- CSV -----------------------------------------------------------------------------------
+
+
+class _Row(Table):
+    """One CSV row as a table; fields read ``row 7, column mass``."""
+
+    def field(self, key: str) -> str:
+        return f"{self.path}, column {key}"
+
+
+def _read_csv(path: Path, *, allowed: tuple[str, ...]) -> list[_Row]:
+    """Rows of a CSV table as :class:`_Row` tables (empty cells left out, header units applied)."""
+    return _csv_rows(str(path), *_csv_lines(path), allowed)
+
+
+def _csv_lines(path: Path) -> tuple[int, list[str], list[tuple[int, list[str]]]]:
+    """(header line number, header cells, [(line number, cells)]) of a CSV file.
+
+    Blank lines and lines whose first cell starts with ``#`` (comments) are skipped.
+    """
+    file = str(path)
+    if not path.is_file():
+        raise InputError(file, "(file)", "file not found")
+    try:
+        with path.open(newline="", encoding="utf-8-sig") as fh:
+            reader = csv.reader(fh)
+            lines = [(reader.line_num, cells) for cells in reader
+                     if any(c.strip() for c in cells) and not cells[0].lstrip().startswith("#")]
+    except UnicodeDecodeError:
+        raise InputError(file, "(encoding)", "must be UTF-8 text") from None
+    except csv.Error as exc:
+        raise InputError(file, "(syntax)", f"malformed CSV: {exc}") from None
+    if not lines:
+        raise InputError(file, "row 1", "the file has no header row")
+    return lines[0][0], lines[0][1], lines[1:]
+
+
+def _csv_rows(file: str, header_line: int, header: list[str], lines, allowed) -> list[_Row]:
+    columns = [_column(cell, i, header_line, file, allowed) for i, cell in enumerate(header)]
+    names = [name for name, _ in columns]
+    for i, name in enumerate(names):
+        if name in names[:i]:
+            raise InputError(file, f"row {header_line}, column {name}",
+                             "appears twice in the header")
+    rows = []
+    for line, cells in lines:
+        if len(cells) != len(columns):
+            raise InputError(file, f"row {line}", f"has {len(cells)} cells, the header has "
+                             f"{len(columns)} (check for a stray comma or a missing cell)")
+        data = {}
+        for (name, unit), cell in zip(columns, cells):
+            cell = cell.strip()
+            if cell:
+                data[name] = f"{cell} {unit}" if unit and _is_number(cell) else cell
+        rows.append(_Row(data, file, f"row {line}"))
+    return rows
+
+
+def _split_header(cell: str) -> tuple[str, str]:
+    """``"peak_torque [N*m]"`` -> ``("peak_torque", "N*m")``; no brackets -> empty unit."""
+    text = cell.strip()
+    if text.endswith("]") and "[" in text:
+        name, unit = text[:-1].split("[", 1)
+        return name.strip(), unit.strip()
+    return text, ""
+
+
+def _column(cell: str, i: int, line: int, file: str, allowed) -> tuple[str, str]:
+    """Split a header cell ``name [unit]`` and check both parts."""
+    name, unit = _split_header(cell)
+    where = f"row {line}, column {name or i + 1}"
+    if name not in allowed:
+        raise InputError(file, where, f"unknown column{_hint(name, allowed)}; known: "
+                         f"{', '.join(allowed)}")
+    if unit:
+        if name in ("name", "stage"):
+            raise InputError(file, where, "a name column takes no unit")
+        try:
+            registry().parse_units(unit)
+        except Exception:
+            raise InputError(file, where, f"unknown unit {unit!r}") from None
+    return name, unit
+
+
+def _is_number(text: str) -> bool:
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True
+
+
+# --- motors --------------------------------------------------------------------------------
+
+
+def _defaults(cls) -> dict[str, Any]:
+    return {f.name: f.default for f in fields(cls)}
+
+
+def _values(t: Table, spec: dict[str, tuple[str, str]], cls) -> dict[str, Any]:
+    """Read every field of ``spec`` present in ``t`` (required when ``cls`` has no default)."""
+    defaults = _defaults(cls)
+    out = {}
+    for key, (dim, sign) in spec.items():
+        if t.has(key) or defaults[key] is MISSING:
+            out[key] = t.quantity(key, dim, sign=sign)
+    return out
+
+
+def _name(t: Table, default: str | None = None) -> str:
+    if default is not None and not t.has("name"):
+        return default
+    name = t.str("name")
+    if not name.strip():
+        raise InputError(t.file, t.field("name"), "must not be empty")
+    return name.strip()
+
+
+def _motor(t: Table, default_name: str | None = None) -> Motor:
+    for key in ("family", "size"):
+        if t.has(key):
+            raise InputError(t.file, t.field(key), "is set by the catalog for members of a "
+                             "[[motor_family]]; a plain motor does not take it")
+    _check_keys(t, ("name", *MOTOR_FIELDS))
+    kw = _values(t, MOTOR_FIELDS, Motor)
+    _at_most(t, kw, "continuous_torque", "peak_torque", "N·m")
+    if kw.get("cogging_torque", 0.0) >= kw["continuous_torque"]:
+        raise InputError(t.file, t.field("cogging_torque"), "must be below continuous_torque "
+                         f"({kw['continuous_torque']:g} N·m), got {kw['cogging_torque']:g} N·m")
+    t_max = kw.get("winding_temperature_max", math.inf)
+    if t_max <= 20.0:
+        raise InputError(t.file, t.field("winding_temperature_max"), "must be above 20 °C (the "
+                         f"winding reference temperature), got {t_max:g} °C")
+    return Motor(name=_name(t, default_name), **kw)
+
+
+def _at_most(t: Table, kw: dict, small: str, big: str, unit: str) -> None:
+    if kw[small] > kw[big]:
+        raise InputError(t.file, t.field(small), f"must not exceed {big} ({kw[big]:g} {unit}), "
+                         f"got {kw[small]:g} {unit}")
+
+
+def _family(t: Table) -> MotorFamily:
+    _check_keys(t, ("name", "reference", "sizes"))
+    name = _name(t)
+    reference = _motor(t.table("reference"), default_name=name)
+    raw = t.list("sizes")
+    if not raw:
+        raise InputError(t.file, t.field("sizes"), "must list at least one [gap_radius_scale, "
+                         "length_scale] pair")
+    sizes = []
+    for i, pair in enumerate(raw):
+        where = f"{t.field('sizes')}[{i}]"
+        if not isinstance(pair, list) or len(pair) != 2:
+            raise InputError(t.file, where, "must be [gap_radius_scale, length_scale], "
+                             f"got {pair!r}")
+        s, l = (positive(v, "dimensionless", file=t.file, field=f"{where}[{j}]")
+                for j, v in enumerate(pair))
+        if (s, l) in sizes:
+            raise InputError(t.file, where, f"size [{s:g}, {l:g}] is listed twice")
+        sizes.append((s, l))
+    return MotorFamily(name=name, reference=reference, sizes=tuple(sizes))
+
+
+# --- stages --------------------------------------------------------------------------------
+
+
+def _frame(t: Table) -> StageFrame:
+    _check_keys(t, ("name", *FRAME_FIELDS))
+    kw = _values(t, FRAME_FIELDS, StageFrame)
+    _at_most(t, kw, "rated_continuous_torque", "rated_peak_torque", "N·m")
+    return StageFrame(name=_name(t), **kw)
+
+
+class _StageDraft:
+    """A ``[[stage]]`` table read up to its frames, which CSV rows may still add to."""
+
+    def __init__(self, t: Table):
+        _check_keys(t, _STAGE_KEYS)
+        self.t = t
+        self.name = _name(t)
+        self.kind = t.str("kind", choices=STAGE_KINDS)
+        self.ratios, self.ratio_range = _ratios(t)
+        self.efficiency = efficiency_from_dict(t.raw("efficiency"), file=t.file,
+                                               field=t.field("efficiency"))
+        check = getattr(self.efficiency, "check_ratios", None)
+        if check is not None:
+            key = "ratios" if self.ratios is not None else "ratio_range"
+            check(self.ratios or self.ratio_range, file=t.file, field=t.field(key))
+        self.frames = [(_frame(ft), ft) for ft in t.tables("frame")]
+
+    def build(self) -> StageType:
+        if not self.frames:
+            raise InputError(self.t.file, self.t.field("frame"), "a stage needs at least one "
+                             "frame size ([[stage.frame]] or a row of a frames_csv table)")
+        seen: dict[str, Table] = {}
+        for frame, ft in self.frames:
+            if frame.name in seen:
+                raise InputError(ft.file, ft.field("name"), f"duplicate frame name "
+                                 f"{frame.name!r} in stage {self.name!r}")
+            seen[frame.name] = ft
+        return StageType(name=self.name, kind=self.kind, efficiency=self.efficiency,
+                         frames=tuple(f for f, _ in self.frames), ratios=self.ratios,
+                         ratio_range=self.ratio_range)
+
+
+def _ratios(t: Table):
+    """``(ratios, None)`` or ``(None, (low, high))``; exactly one of the two keys is given."""
+    if t.has("ratios") == t.has("ratio_range"):
+        raise InputError(t.file, t.field("ratios"), "give exactly one of ratios = [...] "
+                         "(discrete) or ratio_range = [low, high] (continuous)")
+    if t.has("ratios"):
+        raw = t.list("ratios")
+        if not raw:
+            raise InputError(t.file, t.field("ratios"), "must list at least one ratio")
+        values = [positive(v, "ratio", file=t.file, field=f"{t.field('ratios')}[{i}]")
+                  for i, v in enumerate(raw)]
+        for i in range(1, len(values)):
+            if values[i] <= values[i - 1]:
+                raise InputError(t.file, f"{t.field('ratios')}[{i}]", "ratios must be strictly "
+                                 f"ascending, got {values[i]:g} after {values[i - 1]:g}")
+        return tuple(values), None
+    lo, hi = t.vector("ratio_range", 2, dimension="ratio")
+    if not lo > 0:
+        raise InputError(t.file, f"{t.field('ratio_range')}[0]", f"must be > 0, got {lo:g}")
+    if not hi > lo:
+        raise InputError(t.file, t.field("ratio_range"), f"low must be below high, got "
+                         f"[{lo:g}, {hi:g}]")
+    return None, (lo, hi)
+
+
+def _attach_frames(stages: list[_StageDraft], path: Path, toml_file: str) -> None:
+    by_name = {d.name: d for d in stages}
+    for row in _read_csv(path, allowed=("stage", "name", *FRAME_FIELDS)):
+        stage = row.str("stage")
+        if stage not in by_name:
+            raise InputError(row.file, row.field("stage"), f"no [[stage]] named {stage!r} in "
+                             f"{toml_file}{_hint(stage, by_name)}")
+        data = {k: v for k, v in row.data.items() if k != "stage"}
+        frame_row = _Row(data, row.file, row.path)
+        by_name[stage].frames.append((_frame(frame_row), frame_row))
+
+
+# --- notes ---------------------------------------------------------------------------------
+
+
+def _stage_notes(stage: StageType, where: _Where) -> list[str]:
+    """Warnings for values outside the typical range of the stage kind, and self-locking."""
+    at = f"{where.file}: {where.field} ({stage.name!r}, {stage.kind})"
+    if stage.ratios is not None:
+        ratios = np.array(stage.ratios)
+    else:  # a continuous range: sample it, a tabulated efficiency may dip inside
+        ratios = np.geomspace(*stage.ratio_range, 9)
+    forward, backward = stage.efficiency.pair(ratios)
+    ratio_typ, eta_typ = TYPICAL[stage.kind]
+    notes = []
+    model = getattr(stage.efficiency, "kind", "")
+    if stage.kind not in MODEL_KINDS.get(model, (stage.kind,)):
+        notes.append(f"{at}: efficiency model {model!r} is meant for "
+                     f"{' or '.join(MODEL_KINDS[model])} stages")
+    if ratio_typ is not None and (ratios.min() < ratio_typ[0] or ratios.max() > ratio_typ[1]):
+        notes.append(f"{at}: ratios {ratios.min():g}-{ratios.max():g} reach outside the typical "
+                     f"single-stage {ratio_typ[0]:g}-{ratio_typ[1]:g} [trade]")
+    out = (forward < eta_typ[0] - 1e-12) | (forward > eta_typ[1] + 1e-12)
+    if np.any(out):
+        notes.append(f"{at}: forward efficiency {forward[out][0]:.3f} at ratio {ratios[out][0]:g} "
+                     f"is outside the typical {eta_typ[0] * 100:g}-{eta_typ[1] * 100:g} % [trade]")
+    if np.any(backward <= 0):
+        notes.append(f"{at}: self-locking (backward efficiency {backward.min():.3f} ≤ 0): a joint "
+                     "with this stage cannot be back-driven and holds its load unpowered; it can "
+                     "trap or crush. Apply the applicable machinery safety standards.")
+    return notes
+
+
+# --- merging and checks --------------------------------------------------------------------
+
+
+def _merge(parts: list[_Part], *, source: str) -> Catalog:
+    seen: dict[tuple[str, str], _Where] = {}
+
+    def claim(what: str, name: str, where: _Where) -> None:
+        if (what, name) in seen:
+            first = seen[(what, name)]
+            raise InputError(where.file, where.field, f"duplicate {what} name {name!r} (first "
+                             f"defined in {first.file} at {first.field})")
+        seen[(what, name)] = where
+
+    for part in parts:
+        for motor, where in part.motors:
+            claim("motor", motor.name, where)
+        for family, where in part.families:
+            claim("motor family", family.name, where)
+            for member in family.members():
+                claim("motor", member.name, _Where(where.file, f"{where.field}.sizes"))
+        for stage, where in part.stages:
+            claim("stage", stage.name, where)
+    return Catalog(
+        motors=tuple(m for p in parts for m, _ in p.motors),
+        stages=tuple(s for p in parts for s, _ in p.stages),
+        families=tuple(f for p in parts for f, _ in p.families),
+        source=source,
+        notes=tuple(n for p in parts for n in p.notes),
+    )
+
+
+def _check_keys(t: Table, allowed) -> None:
+    """Unknown keys are typos until proven otherwise."""
+    for key in t.data:
+        if key not in allowed:
+            raise InputError(t.file, t.field(key), f"unknown field{_hint(key, allowed)}; "
+                             f"known: {', '.join(allowed)}")
+
+
+def _hint(word: str, choices) -> str:
+    near = difflib.get_close_matches(str(word), list(choices), n=1)
+    return f" (did you mean {near[0]!r}?)" if near else ""
