@@ -33,7 +33,11 @@ class EfficiencyModel(Protocol):
     ``pair(ratio)`` returns ``(eta_forward, eta_backward)`` as float arrays broadcast like
     ``ratio``. Forward: power flows input (motor side) -> output (joint side). Backward: power
     flows output -> input. ``eta_backward <= 0`` means the stage is self-locking.
-    ``0 < eta_forward <= 1`` and ``-1 < eta_backward <= 1`` always hold.
+    ``0 < eta_forward <= 1`` and ``eta_backward <= 1`` always hold. Given constants and table rows
+    keep ``eta_backward > -1``; friction models (coulomb, screw, worm) can return
+    ``eta_backward <= -1`` for a strongly self-locking stage (the magnitude is then the torque
+    needed to drive it backwards over the ideal torque). Implementations live in
+    :mod:`jointwright.catalog.efficiency`.
     """
 
     def pair(self, ratio: np.ndarray | float) -> tuple[np.ndarray, np.ndarray]: ...
