@@ -14,7 +14,8 @@ Rotor terms. The caller adds the diagonal reflected inertia of each actuated joi
 η_f·N²·I_r motoring or N²·I_r/η_b back-driven). With ``coupling=True`` the rotor's spin with its
 stator body is added too: the rotor of joint k turns at ω_k = w_k·q̇ + s_k·N_k·q̇_k about the
 joint axis, where w_k·q̇ is the stator (mount) body's angular velocity about that axis, N_k the
-signed ratio and s_k = ±1 the mount side. Its kinetic energy ½·I_r·ω_k² gives, beyond N²·I_r on
+signed ratio and s_k = ±1 the mount side (the rotor axis is fixed in the stator body; see
+:class:`~jointwright.robot.model.Mount`). Its kinetic energy ½·I_r·ω_k² gives, beyond N²·I_r on
 the diagonal,
 
     ΔH = I_r·s_k·N_k·(e_k·w_k + w_kᵀ·e_kᵀ) + I_r·w_kᵀ·w_k,
@@ -67,8 +68,8 @@ class PoseBasis(_Terms):
     g_mass : ndarray (n_act, nv)
         Gravity per kg of actuator k: −Jp_kᵀ·g_vec.
     axis_rate : ndarray (n_act, nv)
-        Row w_k: the angular velocity of actuator k's stator body about joint k's axis is w_k·q̇
-        (the parent body for the default mount).
+        Row w_k: the angular velocity of actuator k's stator body about its rotor axis is w_k·q̇
+        (the parent body about joint k's axis for the default mount).
     J : ndarray (n_frames, 6, nv)
         Jacobians of the requested frames' origins, world-aligned axes, linear rows first.
     frame_positions : ndarray (n_frames, 3)
@@ -133,12 +134,12 @@ def pose_basis(robot: Robot, q: np.ndarray, frames: Sequence[str] = ()) -> PoseB
     nv, n_act = model.nv, robot.n_act
     jp = np.empty((n_act, 3, nv))
     rate = np.empty((n_act, nv))
-    axes = robot.joint_axis_world(q)
     for k, mount in enumerate(robot.mounts):
         jac = joint_jacobian(model, data, mount.body_joint)
-        lever = data.oMi[mount.body_joint].act(mount.point) - data.oMi[mount.body_joint].translation
+        place = data.oMi[mount.body_joint]
+        lever = place.rotation @ mount.point  # from the body's joint origin to the mount
         jp[k] = jac[:3] - pin.skew(lever) @ jac[3:]  # v_p = v_o + ω × (p − o)
-        rate[k] = axes[k] @ jac[3:]
+        rate[k] = (place.rotation @ mount.axis) @ jac[3:]
     J = np.array([
         np.reshape(pin.getFrameJacobian(model, data, f, pin.LOCAL_WORLD_ALIGNED), (6, nv))
         for f in fids
@@ -198,19 +199,26 @@ def _design_array(value, name: str, n_act: int, n_poses: int, batch: tuple | Non
     raise InputError("<api>", name, rule)
 
 
-def _combine(coef: np.ndarray, per_pose: bool, basis: np.ndarray) -> np.ndarray:
-    """Σ_k coef[..., k]·basis[p, k, ...] -> (*batch, P, ...), one matrix product."""
-    P, n_act = basis.shape[:2]
-    tail = basis.shape[2:]
-    flat = basis.reshape(P, n_act, -1)
-    if per_pose:
-        batch = coef.shape[:-2]
-        c = coef.reshape(-1, P, n_act).transpose(1, 0, 2)  # (P, B, k)
-        out = np.matmul(c, flat).transpose(1, 0, 2)  # (B, P, F)
-    else:
-        batch = coef.shape[:-1]
-        c = coef.reshape(-1, n_act)
-        out = (c @ flat.transpose(1, 0, 2).reshape(n_act, -1)).reshape(-1, P, flat.shape[2])
+def _combine(terms, batch: tuple) -> np.ndarray:
+    """Σ over terms of Σ_k coef[..., k]·basis[p, k, ...] -> (*batch, P, ...).
+
+    ``terms`` holds (coef, per_pose, basis) with coef (*batch, k) or (*batch, P, k) and basis
+    (P, k, ...). The terms shared by all poses go through one fused matrix product.
+    """
+    P = terms[0][2].shape[0]
+    tail = terms[0][2].shape[2:]
+    B = int(np.prod(batch, dtype=int))
+    shared = [(c.reshape(B, -1), b.reshape(P, b.shape[1], -1)) for c, pp, b in terms if not pp]
+    out = np.zeros((B, P, int(np.prod(tail, dtype=int))))
+    if shared:
+        coef = np.concatenate([c for c, _ in shared], axis=1)  # (B, K)
+        basis = np.concatenate([b for _, b in shared], axis=1)  # (P, K, F)
+        K = basis.shape[1]
+        out += (coef @ basis.transpose(1, 0, 2).reshape(K, -1)).reshape(B, P, -1)
+    for c, pp, b in terms:
+        if pp:  # (P, B, k) @ (P, k, F) -> (P, B, F)
+            cp = c.reshape(B, P, -1).transpose(1, 0, 2)
+            out += np.matmul(cp, b.reshape(P, b.shape[1], -1)).transpose(1, 0, 2)
     return out.reshape(batch + (P,) + tail)
 
 
@@ -251,26 +259,26 @@ def mass_matrix(
     P, n_act = stack.M_mass.shape[:2]
     m, _ = _design_array(masses, "masses", n_act, P, None)
     batch = m.shape[:-1]
-    H = stack.M0 + _combine(m, False, stack.M_mass)
     r, r_pose = _design_array(reflected, "reflected", n_act, P, batch)
-    idx = stack.v_index
-    if not r_pose:
-        r = r[..., None, :]
-    H[..., idx, idx] += r
+    terms = [(m, False, stack.M_mass)]
     if coupling:
         if rotor_inertia is None or ratio is None:
             raise InputError("<api>", "coupling", "needs rotor_inertia and ratio")
         ir, ir_pose = _design_array(rotor_inertia, "rotor_inertia", n_act, P, batch)
         n, n_pose = _design_array(ratio, "ratio", n_act, P, batch)
         if ir_pose != n_pose:
-            ir, n = np.broadcast_arrays(_per_pose(ir, ir_pose, P), _per_pose(n, n_pose, P))
-            ir_pose = n_pose = True
+            ir, n = _per_pose(ir, ir_pose, P), _per_pose(n, n_pose, P)
+            ir_pose = True
         w = stack.axis_rate  # (P, k, nv)
         e = np.zeros_like(w)
-        e[:, np.arange(n_act), idx] = 1.0
+        e[:, np.arange(n_act), stack.v_index] = 1.0
         cross = np.einsum("pki,pkj->pkij", e, w)
-        H = H + _combine(ir * n * stack.spin_sign, ir_pose, cross + cross.transpose(0, 1, 3, 2))
-        H = H + _combine(ir, ir_pose, np.einsum("pki,pkj->pkij", w, w))
+        terms.append((ir * n * stack.spin_sign, ir_pose, cross + cross.transpose(0, 1, 3, 2)))
+        terms.append((ir, ir_pose, np.einsum("pki,pkj->pkij", w, w)))
+    H = _combine(terms, batch)
+    H += stack.M0
+    idx = stack.v_index
+    H[..., idx, idx] += r if r_pose else r[..., None, :]
     return H[..., 0, :, :] if single else H
 
 
@@ -293,5 +301,6 @@ def gravity(bases: PoseBasis | PoseBases, masses: np.ndarray) -> np.ndarray:
     stack, single = _as_stack(bases)
     P, n_act = stack.M_mass.shape[:2]
     m, _ = _design_array(masses, "masses", n_act, P, None)
-    g = stack.g0 + _combine(m, False, stack.g_mass)
+    g = _combine([(m, False, stack.g_mass)], m.shape[:-1])
+    g += stack.g0
     return g[..., 0, :] if single else g

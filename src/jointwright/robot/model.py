@@ -60,6 +60,10 @@ class Mount:
     spin_sign : int
         +1 when the carrying body is on the parent side of the joint, -1 when it moves with the
         child (the stator then turns with the child and the rotor's spin relative to it reverses).
+    axis : ndarray (3,)
+        Rotor axis in the frame of ``body_joint`` (unit): the joint axis, which is fixed in the
+        parent and the child body; for a mount on another link, the joint axis at the neutral
+        configuration (q = 0), carried by that link.
     """
 
     joint: str
@@ -68,6 +72,7 @@ class Mount:
     body_joint: int
     point: np.ndarray
     spin_sign: int
+    axis: np.ndarray
 
 
 @dataclass(frozen=True, eq=False)
@@ -444,14 +449,25 @@ def _resolve_mount(model, joint: str, spec: Mapping, where: str, file: str) -> M
         raise InputError(file, f"{where}.mount_xyz", rule)
     with_child = body_joint != 0 and body_joint in list(model.subtrees[jid])
     return Mount(joint, link, np.array(xyz, float), body_joint, np.array(point, float),
-                 -1 if with_child else 1)
+                 -1 if with_child else 1, _rotor_axis(model, jid, body_joint))
+
+
+def _rotor_axis(model, jid: int, body_joint: int) -> np.ndarray:
+    """Joint ``jid``'s axis at q = 0 in the frame of ``body_joint`` (world frame for 0)."""
+    data = model.createData()
+    q0 = pin.neutral(model)
+    pin.computeJointJacobians(model, data, q0)  # also places the joints at q0
+    col = joint_jacobian(model, data, jid)[:, model.joints[jid].idx_v]
+    axis = col[3:] if _is_revolute(model, jid) else col[:3]
+    return np.array(data.oMi[body_joint].rotation).T @ axis
 
 
 # ---------------------------------------------------------------------- value parsing
 def _check_keys(entry: Mapping, allowed: Sequence[str], file: str, where: str) -> None:
     for key in entry:
         if key not in allowed:
-            raise InputError(file, f"{where}.{key}", f"unknown field; allowed: {', '.join(allowed)}")
+            rule = f"unknown field; allowed: {', '.join(allowed)}"
+            raise InputError(file, f"{where}.{key}", rule)
 
 
 def _table(entry: Any, file: str, where: str) -> Mapping:
@@ -479,7 +495,8 @@ def _vec3(value: Any, dim: str, file: str, where: str) -> np.ndarray:
         value = value.tolist()
     if isinstance(value, (str, Mapping)) or not isinstance(value, Sequence) or len(value) != 3:
         raise InputError(file, where, f"must be a list of 3 numbers or quantities, got {value!r}")
-    return np.array([quantity(v, dim, file=file, field=f"{where}[{i}]") for i, v in enumerate(value)])
+    return np.array([quantity(v, dim, file=file, field=f"{where}[{i}]")
+                     for i, v in enumerate(value)])
 
 
 def _list_of_tables(table: Mapping, key: str, file: str, where: str, *, required: bool) -> list:
@@ -565,7 +582,8 @@ def _joint_entry(entry: Mapping, file: str, where: str) -> dict:
     name = _name(entry, file, where)
     kind = _required(entry, "type", file, where)
     if kind not in ("revolute", "prismatic", "fixed"):
-        raise InputError(file, f"{where}.type", f"must be revolute, prismatic or fixed, got {kind!r}")
+        rule = f"must be revolute, prismatic or fixed, got {kind!r}"
+        raise InputError(file, f"{where}.type", rule)
     out = {"name": name, "type": kind, "where": where}
     for key in ("parent", "child"):
         value = _required(entry, key, file, where)
@@ -688,7 +706,8 @@ def _attach_joint(model, j: dict, parent_place, inertia):
     pjid, p_in_joint, pframe = parent_place
     origin = p_in_joint * pin.SE3(pin.rpy.rpyToMatrix(*j["rpy"]), j["xyz"])
     if j["type"] == "fixed":
-        frame = model.addFrame(pin.Frame(j["name"], pjid, pframe, origin, pin.FrameType.FIXED_JOINT))
+        fixed = pin.Frame(j["name"], pjid, pframe, origin, pin.FrameType.FIXED_JOINT)
+        frame = model.addFrame(fixed)
         model.appendBodyToJoint(pjid, inertia, origin)
         return pjid, origin, model.addBodyFrame(j["child"], pjid, origin, frame)
     one = np.ones(1)
