@@ -239,7 +239,7 @@ def _lead_per_revolution(value: Any, *, file: str, field: str) -> float:
         try:
             q = registry().Quantity(value.strip())
             per_angle = any(exp < 0 and not registry().get_dimensionality(unit)
-                            for unit, exp in q._units.items())
+                            for unit, exp in q.unit_items())
         except Exception:
             per_angle = False
         if per_angle:
