@@ -129,7 +129,8 @@ def test_urdf_and_table_give_the_same_dynamics(floating):
     a = Robot.from_links(table, file="arm4.toml")
     b = Robot.from_urdf(DATA / "arm4.urdf", floating=floating, frames=table["frames"])
     assert a.joint_names == b.joint_names == ("yaw", "shoulder", "elbow", "wrist")
-    assert a.link_names == b.link_names and a.frame_names == b.frame_names == ("tool",)
+    assert a.link_names == b.link_names
+    assert a.frame_names == b.frame_names == ("tool",) + a.link_names
     assert a.link_mass_total == pytest.approx(b.link_mass_total, rel=1e-12)
     assert a.link_mass_total == pytest.approx(4.0 + 1.2 + 1.8 + 0.9 + 0.4 + 0.15, rel=1e-12)
     rng = np.random.default_rng(7)
@@ -365,3 +366,20 @@ def test_urdf_options_are_checked_against_the_model(tmp_path):
     with pytest.raises(InputError) as err:
         robot.with_actuator_masses([1.0, -1.0, 0.0, 0.0])
     assert err.value.field == "masses"
+
+
+def test_the_documented_example_loads():
+    # docs/robot-format.md: the complete example must stay a valid robot table
+    text = (Path(__file__).parents[1] / "docs" / "robot-format.md").read_text(encoding="utf-8")
+    block = text.split("```toml\n", 1)[1].split("```", 1)[0]
+    robot = Robot.from_links(tomllib.loads(block)["robot"], file="robot-format.md")
+    assert robot.n_base == 6 and robot.nv == 8 and robot.actuated == ("hip", "knee")
+    assert robot.link_mass_total == pytest.approx(6.0 + 0.9 + 0.35, rel=1e-12)
+    hip, knee = robot.mounts
+    assert (hip.link, knee.link, knee.spin_sign) == ("body", "body", 1)
+    np.testing.assert_allclose(knee.point, [0.04, 0.08, -0.06])
+    assert robot.frame_names[0] == "foot"
+    thigh = robot.model.inertias[2]  # rod along z: m·L²/12 across it [mem, inertia tables]
+    np.testing.assert_allclose(np.diag(thigh.inertia), [0.9 * 0.24**2 / 12] * 2 + [0], atol=1e-15)
+    deg = math.pi / 180
+    assert robot.position_limits("knee") == pytest.approx((-150 * deg, -5 * deg))

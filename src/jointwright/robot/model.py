@@ -97,8 +97,11 @@ class Robot:
         Every one-degree-of-freedom joint, in model order.
     revolute : tuple of bool
         Per entry of ``joint_names``: True for revolute (rad), False for prismatic (m).
-    link_names, frame_names : tuple of str
-        Links (body frames) and the named frames (tool and foot points).
+    link_names : tuple of str
+        Links (body frames), in model order.
+    frame_names : tuple of str
+        Points a case may name: the named frames (tool and foot points) first, then every link
+        (its frame origin).
     """
 
     model: Any = field(repr=False)
@@ -203,17 +206,10 @@ class Robot:
             if name not in act:
                 raise InputError(file, where, f"joint {name!r} is not actuated: no mount needed")
         mounts = tuple(_resolve_mount(model, j, *specs.get(j, ({}, j)), file) for j in act)
-        return cls(
-            model,
-            file,
-            base,
-            act,
-            mounts,
-            joint_names,
-            tuple(_is_revolute(model, j) for j in one_dof),
-            tuple(f.name for f in model.frames if f.type == pin.FrameType.BODY),
-            tuple(f.name for f in model.frames if f.type == pin.FrameType.OP_FRAME),
-        )
+        links = tuple(f.name for f in model.frames if f.type == pin.FrameType.BODY)
+        named = tuple(f.name for f in model.frames if f.type == pin.FrameType.OP_FRAME)
+        revolute = tuple(_is_revolute(model, j) for j in one_dof)
+        return cls(model, file, base, act, mounts, joint_names, revolute, links, named + links)
 
     # ------------------------------------------------------------------ sizes and names
     @property
