@@ -113,6 +113,13 @@ def test_holding_modes():
     assert tau[2, 0] == pytest.approx(50.0 * 1e-5 * 10.0)  # no torque through the gear
 
 
+def test_round_off_speed_counts_as_standstill():
+    # a differentiated trajectory has |q̇| ~ 1e-16 at its turning points: not a power flow
+    _, mode = motor_torque([5.0, 5.0, 5.0], [-4e-16, 0.3, -0.3], [0.0, 0.0, 0.0], 10.0, 0.9, 0.8,
+                           0.0, standstill=1e-9)
+    np.testing.assert_array_equal(mode, [HOLDING, MOTORING, BACKDRIVEN])
+
+
 def test_motor_torque_rejects_bad_efficiencies():
     with pytest.raises(InputError, match="eta_f"):
         motor_torque([1.0], [1.0], [0.0], 10.0, 1.2, 0.5, 0.0)

@@ -45,6 +45,8 @@ from .speed import check_efficiencies
 #: power-flow mode codes returned per sample (sign of τ_j·q̇)
 MOTORING, HOLDING, BACKDRIVEN = 1, 0, -1
 HOLDS = ("linear", "previous")
+#: in a duty summary, speeds below this share of a joint's peak speed count as standstill
+STANDSTILL = 1e-9
 
 
 def _lead(x) -> np.ndarray:
@@ -82,7 +84,7 @@ def weights(t, hold: str = "linear") -> np.ndarray:
     return np.concatenate(([h[0] / 2], (h[:-1] + h[1:]) / 2, [h[-1] / 2]))
 
 
-def motor_torque(tau_joint, qd, qdd, ratio, eta_f, eta_b, rotor_inertia):
+def motor_torque(tau_joint, qd, qdd, ratio, eta_f, eta_b, rotor_inertia, *, standstill=0.0):
     """Motor torque per sample and the power-flow mode that sets it.
 
     Parameters
@@ -97,6 +99,9 @@ def motor_torque(tau_joint, qd, qdd, ratio, eta_f, eta_b, rotor_inertia):
         Forward (0, 1] and backward (−1, 1] efficiency; η_b ≤ 0 is self-locking.
     rotor_inertia : array_like (...)
         Rotor-side inertia I_r at the motor shaft (kg·m²), ≥ 0.
+    standstill : array_like (...)
+        Joint speeds with |q̇| ≤ standstill (rad/s) count as holding, so that the round-off
+        of a differentiated trajectory at its turning points does not pick the mode.
 
     Returns
     -------
@@ -114,8 +119,7 @@ def motor_torque(tau_joint, qd, qdd, ratio, eta_f, eta_b, rotor_inertia):
     ir = _lead(rotor_inertia)
     if np.any(~(ir >= 0)):
         raise InputError("<api>", "rotor_inertia", "must be >= 0 kg*m^2")
-    power = tj * qd
-    mode = np.sign(power).astype(np.int8)
+    mode = np.where(np.abs(qd) <= _lead(standstill), 0, np.sign(tj * qd)).astype(np.int8)
     gear = np.where(
         mode == MOTORING,
         tj / (ef * n),
@@ -506,7 +510,9 @@ def duty_summary(
     tmax, ambient = np.asarray(winding_temperature_max, float), np.asarray(ambient, float)
     if np.any(~(tmax > ambient)):
         raise InputError("<api>", "winding_temperature_max", "must be above the ambient")
-    tau_m, mode = motor_torque(tau_joint, qd, qdd, ratio, eta_f, eta_b, rotor_inertia)
+    still = STANDSTILL * peak(qd)
+    tau_m, mode = motor_torque(tau_joint, qd, qdd, ratio, eta_f, eta_b, rotor_inertia,
+                               standstill=still)
     tau_m, omega = np.broadcast_arrays(tau_m, _lead(ratio) * qd)
     temps, e_regen, e_plain = _electrics(tau_m, omega, t, m, resistance_tempco, hold)
     t_peak = np.full(tau_m.shape[:-1], np.nan) if temps is None else temps.max(axis=-1)
