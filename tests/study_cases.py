@@ -11,7 +11,16 @@ import os
 import time
 from pathlib import Path
 
-from jointwright.units import quantity
+#: the few units the test projects use, to SI (kept here so workers start without pint)
+_UNITS = {"m": 1.0, "cm": 1e-2, "mm": 1e-3, "kg": 1.0, "g": 1e-3, "N": 1.0}
+
+
+def quantity(value, dimension: str = "") -> float:
+    """A number, or a string "<number> <unit>" with a unit from ``_UNITS``, in SI."""
+    if isinstance(value, (int, float)):
+        return float(value)
+    number, _, unit = value.strip().partition(" ")
+    return float(number) * (_UNITS[unit.strip()] if unit.strip() else 1.0)
 
 BASE_PROJECT = """\
 name = "test leg"
@@ -83,3 +92,8 @@ def busy(project: dict, base_dir: Path, task: str, options: dict) -> dict:
     while time.perf_counter() < end:
         n += 1
     return {"metrics": {"loops": n}, "result": None}
+
+
+def fixed_case(project: dict, base_dir: Path, task: str, options: dict) -> dict:
+    """:func:`leg_case` with its failure switch ignored (a case function after a bug fix)."""
+    return leg_case(project, base_dir, task, {k: v for k, v in options.items() if k != "fail_above"})

@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import importlib
 import multiprocessing
+import multiprocessing.connection
 import os
 import signal
 import socket
@@ -171,13 +172,15 @@ def _jsonable(obj: Any) -> Any:
 
 
 def _worker_init() -> None:
-    """Pool workers leave Ctrl-C to the parent and exit when their parent process is gone."""
+    """Pool workers leave Ctrl-C to the parent and exit as soon as the runner's process is gone
+    (its sentinel pipe closes), so a killed run leaves no orphans."""
     signal.signal(signal.SIGINT, signal.SIG_IGN)
-    parent = os.getppid()
+    parent = multiprocessing.parent_process()
+    if parent is None:
+        return
 
     def watch() -> None:
-        while os.getppid() == parent:
-            time.sleep(0.5)
+        multiprocessing.connection.wait([parent.sentinel])
         os._exit(1)
 
     threading.Thread(target=watch, name="jointwright-parent-watch", daemon=True).start()
@@ -227,8 +230,15 @@ def _run_pool(cases: Iterable[Case], build: Build, sink: Sink, workers: int, fn_
                 pool = _new_pool(workers, preload)
             source, limit = (suspects, 1) if suspects else (pending, 2 * workers)
             while source and len(in_flight) < limit:
-                case = source.popleft()
-                in_flight[pool.submit(execute_case, fn_ref, *build(case))] = case
+                try:
+                    fut = pool.submit(execute_case, fn_ref, *build(source[0]))
+                except BrokenProcessPool:  # a worker died since the last wait
+                    break
+                in_flight[fut] = source.popleft()
+            if not in_flight:  # broken while idle: nothing was lost, start a new pool
+                pool.shutdown(wait=True)
+                pool = None
+                continue
             done, _ = wait(in_flight, return_when=FIRST_COMPLETED)
             if any(isinstance(f.exception(), BrokenProcessPool) for f in done):
                 done, _ = wait(in_flight)  # the others end at once, broken or finished
@@ -278,7 +288,7 @@ def _run_dask(cases: Iterable[Case], build: Build, sink: Sink, scheduler, fn_ref
     client = Client(scheduler, set_as_default=False) if own else scheduler
     pending, in_flight, futures = deque(cases), {}, {}
     tag = uuid.uuid4().hex[:8]
-    ac = as_completed()
+    ac = as_completed(loop=client.loop)
     threads, looked = 1, -_DASK_SLOT_REFRESH
 
     def refill() -> None:
