@@ -25,6 +25,7 @@ import numpy as np
 from .design import DesignArrays
 from .metrics.backdrive import backdrive_force
 from .metrics.inertia import effective_mass, impact_mitigation
+from .metrics.linalg_small import inv_small
 from .metrics.payload import payload_along, torque_bounds
 from .metrics.speed import endpoint_speed
 from .robot.basis import gravity, mass_matrix, pose_basis
@@ -79,15 +80,19 @@ class Evaluator:
         return PreparedCase(case=case, basis=basis, J=J, Jj=Jj, u=u, velocity_sign=sign)
 
     # ------------------------------------------------------------------------------------------
-    def evaluate(self, d: DesignArrays) -> dict[str, dict[str, np.ndarray]]:
-        """Metrics per case name: dict of arrays with leading dimension D (designs)."""
+    def evaluate(self, d: DesignArrays, *, detail: bool = True) -> dict[str, dict[str, np.ndarray]]:
+        """Metrics per case name: dict of arrays with leading dimension D (designs).
+
+        ``detail=False`` computes only what requirements and objectives use (the case's own
+        power-flow mode); ``True`` adds the other modes and the frictionless comparison.
+        """
         out = {}
         for pc in self.cases:
             kind = pc.case.kind
             if kind == "payload":
-                out[pc.case.name] = self._payload(pc, d)
+                out[pc.case.name] = self._payload(pc, d, detail)
             elif kind == "impact":
-                out[pc.case.name] = self._impact(pc, d)
+                out[pc.case.name] = self._impact(pc, d, detail)
             elif kind == "backdrive":
                 out[pc.case.name] = self._backdrive(pc, d)
             elif kind == "speed":
@@ -97,7 +102,7 @@ class Evaluator:
     def _bias(self, pc: PreparedCase, d: DesignArrays) -> np.ndarray:
         return gravity(pc.basis, d.mass)[..., self.v_index]
 
-    def _payload(self, pc: PreparedCase, d: DesignArrays) -> dict[str, np.ndarray]:
+    def _payload(self, pc: PreparedCase, d: DesignArrays, detail: bool = True) -> dict[str, np.ndarray]:
         """Tip force along u for three intended motions and with a frictionless transmission.
 
         ``payload_raise``: the tip moves along its force (pushing, lifting); ``payload_lower``:
@@ -109,29 +114,28 @@ class Evaluator:
         a = pc.Jj.T @ pc.u
         # velocity_sign already points the way the case moves; flip it for the opposite motion
         along = pc.velocity_sign if pc.case.motion != "against" else -pc.velocity_sign
+        own = {"along": "raise", "against": "lower", "hold": "hold"}[pc.case.motion]
         results = {}
         for label, s in (("raise", along), ("lower", -along), ("hold", np.zeros_like(along))):
-            lo, hi = torque_bounds(np.broadcast_to(s, bias.shape), cap_m, cap_b)
-            results[label] = payload_along(pc.Jj, bias, lo, hi, pc.u)
-        cap_0 = d.capacity("frictionless")
-        free = payload_along(pc.Jj, bias, -cap_0, cap_0, pc.u)
-        main = results[{"along": "raise", "against": "lower", "hold": "hold"}[pc.case.motion]]
-        force = np.where(np.isfinite(main.force), main.force, 0.0)
-        return {
-            "payload": main.force,
-            "limiting_joint": main.limiting_joint,
-            "self_supporting": main.feasible,
-            "payload_frictionless": free.force,
-            "payload_raise": results["raise"].force,
-            "payload_lower": results["lower"].force,
-            "payload_hold": results["hold"].force,
-            "joint_torque": bias + force[..., None] * a,
-        }
+            if detail or label == own:
+                lo, hi = torque_bounds(np.broadcast_to(s, bias.shape), cap_m, cap_b)
+                results[label] = payload_along(pc.Jj, bias, lo, hi, pc.u)
+        main = results[own]
+        out = {"payload": main.force, "limiting_joint": main.limiting_joint,
+               "self_supporting": main.feasible}
+        if detail:
+            cap_0 = d.capacity("frictionless")
+            out["payload_frictionless"] = payload_along(pc.Jj, bias, -cap_0, cap_0, pc.u).force
+            for label in ("raise", "lower", "hold"):
+                out[f"payload_{label}"] = results[label].force
+            force = np.where(np.isfinite(main.force), main.force, 0.0)
+            out["joint_torque"] = bias + force[..., None] * a
+        return out
 
-    def _impact(self, pc: PreparedCase, d: DesignArrays) -> dict[str, np.ndarray]:
+    def _impact(self, pc: PreparedCase, d: DesignArrays, detail: bool = True) -> dict[str, np.ndarray]:
         out = {}
         locked = d.self_locking
-        for mode in ("frictionless", "motoring", "backdriven"):
+        for mode in ("frictionless", "motoring", "backdriven") if detail else ("backdriven",):
             refl = d.reflected_inertia(mode)
             refl = np.where(np.isfinite(refl), refl, 0.0)
             H = mass_matrix(pc.basis, d.mass, refl, rotor_inertia=d.rotor_inertia, ratio=d.ratio,
@@ -145,8 +149,8 @@ class Evaluator:
                 out["imf_restricted" + suffix] = imf.imf_restricted
                 out["imf_direction" + suffix] = imf.imf_direction
                 out["contact_rank" + suffix] = imf.rank
-                lam = imf.Lambda
-                out["effective_mass" + suffix] = 1.0 / np.einsum("i,...ij,j->...", pc.u, np.linalg.inv(lam), pc.u)
+                out["effective_mass" + suffix] = 1.0 / np.einsum(
+                    "i,...ij,j->...", pc.u, inv_small(imf.Lambda), pc.u)
             else:
                 out["effective_mass" + suffix] = _effective_mass_locked(pc.J, H, pc.u, lock)
         return out
