@@ -276,11 +276,12 @@ _BASES = stack_bases([pose_basis(_ROBOT, q) for q in random_poses(_ROBOT, 3, see
 
 
 def test_bad_calls_raise_input_errors():
-    robot = arm4()
+    robot, floating = arm4(), arm4("floating")
     q = robot.configuration()
     b = pose_basis(robot, q)
     cases = [
         (lambda: pose_basis(robot, q[:2]), "q"),
+        (lambda: pose_basis(floating, 2 * floating.configuration()), "q"),
         (lambda: pose_basis(robot, q, ["nose"]), "frames"),
         (lambda: mass_matrix(b, np.ones(3), np.ones(4)), "masses"),
         (lambda: mass_matrix(b, np.ones((2, 4)), np.ones((3, 4))), "reflected"),

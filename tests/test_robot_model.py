@@ -303,7 +303,8 @@ BAD_TABLES = [
 ]
 
 
-@pytest.mark.parametrize("edit, field, words", BAD_TABLES, ids=[f"{b[1]}:{b[2]}" for b in BAD_TABLES])
+@pytest.mark.parametrize("edit, field, words", BAD_TABLES,
+                         ids=[f"{f}:{w}" for _, f, w in BAD_TABLES])
 def test_bad_robot_tables_raise_one_input_error(edit, field, words):
     table = copy.deepcopy(arm4_table())
     edit(table)

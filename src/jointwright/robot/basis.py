@@ -123,8 +123,11 @@ def pose_basis(robot: Robot, q: np.ndarray, frames: Sequence[str] = ()) -> PoseB
     """
     model = robot.model
     q = np.asarray(q, dtype=float)
-    if q.shape != (model.nq,):
-        raise InputError("<api>", "q", f"needs shape ({model.nq},), got {q.shape}")
+    if q.shape != (model.nq,) or not np.all(np.isfinite(q)):
+        raise InputError("<api>", "q", f"needs {model.nq} finite values, got shape {q.shape}")
+    if not pin.isNormalized(model, q, 1e-9):
+        rule = "the base quaternion and continuous joints (cos, sin) must have unit norm"
+        raise InputError("<api>", "q", rule)
     fids = [robot.frame_id(name) for name in frames]
     data = model.createData()
     M0 = _symmetric(pin.crba(model, data, q))
