@@ -4,6 +4,8 @@ explicit rotor body, and batching."""
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 import pinocchio as pin
 import pytest
@@ -295,3 +297,41 @@ def test_bad_calls_raise_input_errors():
         with pytest.raises(InputError) as err:
             call()
         assert err.value.field == field
+
+
+def test_prismatic_screw_joint_basis_and_coupling():
+    # a screw-driven slider (ratio in rad/m) whose motor rides on the moving carriage: basis vs
+    # Pinocchio with the actuator masses, and the rotor energy ½·I_r·(ω_stator·a − N·q̇)² with the
+    # stator on the child (s = −1) [pub: rigid-body mechanics]
+    robot = Robot.from_links(
+        {
+            "base": "floating",
+            "links": [
+                {"name": "frame", "mass": 3.0, "shape": "box", "size": [0.4, 0.1, 0.1]},
+                {"name": "carriage", "mass": 0.8, "com": [0.02, 0, 0], "shape": "box",
+                 "size": [0.08, 0.06, 0.04]},
+            ],
+            "joints": [{"name": "slide", "type": "prismatic", "parent": "frame",
+                        "child": "carriage", "xyz": [0.1, 0.0, 0.05], "rpy": [0.2, 0, 0.4],
+                        "axis": [1, 1, 0], "mount": "child"}],
+        },
+        file="slider.toml",
+    )
+    (mount,) = robot.mounts
+    assert mount.spin_sign == -1 and robot.n_act == 1
+    ir, ratio = np.array([2e-5]), np.array([2 * math.pi / 0.005])  # 5 mm lead
+    rng = np.random.default_rng(13)
+    for q in random_poses(robot, 3, seed=14):
+        b = pose_basis(robot, q)
+        model = robot.with_actuator_masses([0.6])
+        np.testing.assert_allclose(mass_matrix(b, [0.6], [0.0]), full_mass_matrix(model, q),
+                                   atol=1e-12)
+        Hc = mass_matrix(b, [0.0], ratio**2 * ir, rotor_inertia=ir, ratio=ratio, coupling=True)
+        v = rng.normal(size=robot.nv)
+        data = robot.model.createData()
+        pin.forwardKinematics(robot.model, data, q, v)
+        omega = data.oMi[2].rotation @ data.v[2].angular  # carriage angular velocity, world
+        axis = data.oMi[2].rotation @ (np.array([1.0, 1.0, 0.0]) / math.sqrt(2))
+        spin = omega @ axis - ratio[0] * v[robot.v_index[0]]
+        H0 = mass_matrix(b, [0.0], [0.0])
+        assert 0.5 * v @ (Hc - H0) @ v == pytest.approx(0.5 * ir[0] * spin**2, rel=1e-10)
