@@ -1,0 +1,181 @@
+"""The evaluator (the one physics oracle) against independent computations.
+
+References: Pinocchio (`pin`) for the mass matrix (crba, with the actuator masses appended as
+bodies and the reflected inertia as `model.armature`), gravity and frame Jacobians; the impact
+mitigation factor ξ = det(I − Λ·Λ_L⁻¹) of Wensing et al., IEEE T-RO 33(3), 2017 [pub] computed
+with numpy.linalg; the one-variable LP ratio test for payload along a ray (Chiacchio et al.
+1997 [mem]) written out by hand; the power-flow law of DESIGN.md §2.3.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from importlib import resources
+
+import numpy as np
+import pinocchio as pin
+import pytest
+
+from jointwright.assessment import assess
+from jointwright.catalog.efficiency import ConstantEfficiency
+from jointwright.design import arrays_from_designs, load_design
+from jointwright.evaluate import Evaluator
+from jointwright.project import load_project
+
+
+def example(name):
+    with resources.as_file(resources.files("jointwright.examples") / name) as folder:
+        project = load_project(folder / "project.toml")
+        design = load_design(folder / "design.toml", project)
+    return project, design
+
+
+@pytest.fixture(scope="module")
+def leg():
+    return example("leg")
+
+
+@pytest.fixture(scope="module")
+def arm():
+    return example("arm")
+
+
+def _pin_terms(project, design, case, reflected):
+    """Mass matrix, gravity and tip Jacobian by Pinocchio on a model carrying the actuators."""
+    robot = project.robot
+    model = robot.with_actuator_masses([a.mass for a in design.actuators])
+    model.armature[:] = 0.0
+    for k, v in enumerate(robot.v_index):
+        model.armature[v] = reflected[k]
+    data = model.createData()
+    q = robot.configuration(case.pose, case.base_xyz, case.base_rpy)
+    H = pin.crba(model, data, q)
+    H = np.triu(H) + np.triu(H, 1).T
+    g = pin.computeGeneralizedGravity(model, data, q)
+    pin.computeJointJacobians(model, data, q)
+    pin.updateFramePlacements(model, data)
+    fid = model.getFrameId(case.frame)
+    J = pin.getFrameJacobian(model, data, fid, pin.LOCAL_WORLD_ALIGNED)[:3]
+    return H, g, J
+
+
+def test_payload_matches_ratio_test_on_pinocchio_terms(leg):
+    project, design = leg
+    ev = Evaluator(project).evaluate(arrays_from_designs([design]))
+    v = project.robot.v_index
+    for case in project.cases:
+        if case.kind != "payload":
+            continue
+        _, g, J = _pin_terms(project, design, case, np.zeros(len(v)))
+        u = np.array(case.direction)
+        a = J[:, v].T @ u
+        bias = g[v]
+        qd = np.linalg.pinv(J[:, v]) @ u * (1 if case.motion == "along" else -1)
+        best = math.inf
+        for k, act in enumerate(design.actuators):
+            drive, hold = act.capacity("motoring"), act.capacity("backdriven")
+            # joint torque sign equal to its velocity sign: motoring; opposite: back-driven
+            hi = drive if qd[k] > 0 else hold
+            lo = -(hold if qd[k] > 0 else drive)
+            if a[k] > 0:
+                best = min(best, (hi - bias[k]) / a[k])
+            elif a[k] < 0:
+                best = min(best, (lo - bias[k]) / a[k])
+        assert ev[case.name]["payload"][0] == pytest.approx(best, rel=1e-9), case.name
+
+
+def test_impact_mitigation_matches_numpy_on_pinocchio_mass_matrix(leg):
+    project, design = leg
+    case = next(c for c in project.cases if c.kind == "impact")
+    refl = np.array([a.reflected_inertia("backdriven") for a in design.actuators])
+    H, _, J = _pin_terms(project, design, case, refl)
+    lam = np.linalg.inv(J @ np.linalg.solve(H, J.T))
+    Jb, Hbb = J[:, :6], H[:6, :6]
+    lam_locked = np.linalg.inv(Jb @ np.linalg.solve(Hbb, Jb.T))
+    imf = np.linalg.det(np.eye(3) - lam @ np.linalg.inv(lam_locked))
+    u = np.array(case.direction)
+    ev = Evaluator(project).evaluate(arrays_from_designs([design]))[case.name]
+    assert ev["imf"][0] == pytest.approx(imf, rel=1e-8)
+    assert ev["imf_direction"][0] == pytest.approx(1 - u @ lam @ u / (u @ lam_locked @ u), rel=1e-8)
+    assert ev["effective_mass"][0] == pytest.approx(1 / (u @ np.linalg.inv(lam) @ u), rel=1e-8)
+    # Λ_L does not depend on the gears: the frictionless and back-driven IMF differ only via Λ
+    assert 0.0 <= ev["imf"][0] <= ev["imf_frictionless"][0] <= 1.0
+
+
+def test_fixed_base_effective_mass_matches_pinocchio(arm):
+    project, design = arm
+    case = next(c for c in project.cases if c.kind == "impact")
+    refl = np.array([a.reflected_inertia("backdriven") for a in design.actuators])
+    H, _, J = _pin_terms(project, design, case, refl)
+    u = np.array(case.direction)
+    expected = 1.0 / (u @ J @ np.linalg.solve(H, J.T) @ u)
+    ev = Evaluator(project).evaluate(arrays_from_designs([design]))[case.name]
+    assert ev["effective_mass"][0] == pytest.approx(expected, rel=1e-9)
+    assert ev["effective_mass_frictionless"][0] <= ev["effective_mass"][0]
+
+
+def _with_efficiency(design, forward, backward):
+    acts = []
+    for a in design.actuators:
+        stages = tuple(
+            dataclasses.replace(s, stage=dataclasses.replace(
+                s.stage, efficiency=ConstantEfficiency(forward=forward, backward=backward)))
+            for s in a.stages
+        )
+        acts.append(dataclasses.replace(a, stages=stages))
+    return dataclasses.replace(design, actuators=tuple(acts))
+
+
+def test_frictionless_gears_reduce_to_the_classical_model(leg):
+    project, design = leg
+    ideal = _with_efficiency(design, 1.0, 1.0)
+    ev = Evaluator(project).evaluate(arrays_from_designs([ideal]))
+    for case in project.cases:
+        e = ev[case.name]
+        if case.kind == "payload":
+            for key in ("payload_raise", "payload_lower", "payload_hold"):
+                assert e[key][0] == pytest.approx(e["payload_frictionless"][0], rel=1e-12)
+        if case.kind == "impact":
+            assert e["imf"][0] == pytest.approx(e["imf_frictionless"][0], rel=1e-12)
+            assert e["imf_motoring"][0] == pytest.approx(e["imf_frictionless"][0], rel=1e-12)
+
+
+def test_lossy_gears_lift_less_and_hold_more_than_frictionless(leg):
+    project, design = leg
+    ev = Evaluator(project).evaluate(arrays_from_designs([_with_efficiency(design, 0.8, 0.7)]))
+    push = ev["jump-push"]
+    assert push["payload_raise"][0] < push["payload_frictionless"][0] < push["payload_hold"][0]
+
+
+def test_self_locking_joint_is_locked_for_impact_and_infinite_holding_is_not_nan(arm):
+    project, design = arm
+    worm = project.catalog.stage("WG")
+    acts = list(design.actuators)
+    s0 = acts[2].stages[0]
+    acts[2] = dataclasses.replace(acts[2], stages=(dataclasses.replace(
+        s0, stage=worm, frame=worm.frames[1], ratio=50.0),))
+    locked = dataclasses.replace(design, actuators=tuple(acts))
+    a = assess(project, locked)
+    elbow = next(j for j in a.joints if j.joint == "elbow")
+    assert elbow.self_locking and elbow.reflected_backdriven == math.inf
+    data = a.to_dict()
+    assert data["joints"][2]["reflected_backdriven"] == "inf"
+    assert any("self-locking" in c for c in a.cautions)
+    # locking a joint can only raise the effective mass a collision meets
+    free = assess(project, design)
+    em = {c.name: c.metrics for c in a.cases}["side-collision"]["effective_mass"]
+    em_free = {c.name: c.metrics for c in free.cases}["side-collision"]["effective_mass"]
+    assert em >= em_free
+
+
+def test_batched_equals_one_by_one(leg):
+    project, design = leg
+    other = _with_efficiency(design, 0.9, 0.85)
+    evaluator = Evaluator(project)
+    both = evaluator.evaluate(arrays_from_designs([design, other]))
+    for i, d in enumerate((design, other)):
+        one = evaluator.evaluate(arrays_from_designs([d]))
+        for case, metrics in one.items():
+            for key, value in metrics.items():
+                np.testing.assert_allclose(both[case][key][i], value[0], rtol=1e-12)
