@@ -1,4 +1,5 @@
-"""Task-space inertia, effective mass and impact mitigation against published and independent values.
+"""Task-space inertia, effective mass and impact mitigation against published and independent
+values.
 
 Sources named beside each check: Wensing et al., IEEE T-RO 33(3) 2017 [pub] (one-joint model,
 eq. 8; IMF definition); rigid-body mechanics [pub] (locked single body); Spong, Hutchinson,
@@ -125,7 +126,8 @@ def test_locked_single_rigid_body_closed_form():
     r = skew(p - c)
     expected_inv = np.eye(3) / m - r @ np.linalg.inv(inertia_c) @ r
     res = impact_mitigation(H, J)
-    np.testing.assert_allclose(np.linalg.inv(res.Lambda_locked), expected_inv, rtol=1e-10, atol=1e-12)
+    lam_l_inv = np.linalg.inv(res.Lambda_locked)
+    np.testing.assert_allclose(lam_l_inv, expected_inv, rtol=1e-10, atol=1e-12)
     assert res.rank == 0 and res.imf == 0.0 and res.imf_restricted == 0.0
     tsi = task_space_inertia(J[:, :6], H[:6, :6])
     np.testing.assert_allclose(tsi.Lambda, np.linalg.inv(expected_inv), rtol=1e-10)

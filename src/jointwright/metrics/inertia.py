@@ -77,7 +77,7 @@ class TaskSpaceInertia:
 
 
 def task_space_inertia(J, M, *, cond_max: float = SINGULAR_CONDITION) -> TaskSpaceInertia:
-    """Task-space (operational-space) inertia Λ = (J·M⁻¹·Jᵀ)⁻¹ (Khatib 1987), with singular poses flagged.
+    """Task-space (operational-space) inertia Λ = (J·M⁻¹·Jᵀ)⁻¹ (Khatib 1987), singular poses flagged.
 
     Parameters
     ----------
@@ -219,7 +219,7 @@ class InertiaEllipsoid:
     Attributes
     ----------
     masses : array (..., m), eigenvalues of Λ ascending, kg
-    axes : array (..., m, m), unit eigenvectors as columns (``axes[..., :, k]`` ↔ ``masses[..., k]``)
+    axes : array (..., m, m), unit eigenvectors as columns, ``axes[..., :, k]`` ↔ ``masses[..., k]``
     semi_axes : array (..., m), √masses, √kg: the ellipsoid {x : xᵀ·Λ⁻¹·x ≤ 1} has these
         semi-axes, and its radius along a unit u is √(effective mass along u).
     """

@@ -65,7 +65,7 @@ def det_entries(a: list[list[np.ndarray]]) -> np.ndarray:
 
 
 def adjugate_entries(a: list[list[np.ndarray]]) -> list[list[np.ndarray]]:
-    """Adjugate (transposed cofactor matrix) of a 1×1, 2×2 or 3×3 entry list: A·adj(A) = det(A)·I."""
+    """Adjugate (transposed cofactors) of a 1×1, 2×2 or 3×3 entry list: A·adj(A) = det(A)·I."""
     k = len(a)
     if k == 1:
         return [[np.ones_like(np.asarray(a[0][0], dtype=float))]]
@@ -82,7 +82,7 @@ def adjugate_entries(a: list[list[np.ndarray]]) -> list[list[np.ndarray]]:
 
 
 def cholesky_entries(h: list[list[np.ndarray]]) -> tuple[list[list[np.ndarray]], np.ndarray]:
-    """Lower Cholesky factor L (H = L·Lᵀ) of a symmetric entry list; only the lower triangle is read.
+    """Lower Cholesky factor L (H = L·Lᵀ) of a symmetric entry list (lower triangle read).
 
     Returns ``(L, positive)``; ``positive`` is False where a pivot is ≤ 0 (H not positive
     definite). There the pivot is replaced by 1 so that no NaN spreads; the caller must act on
@@ -109,7 +109,9 @@ def cholesky_entries(h: list[list[np.ndarray]]) -> tuple[list[list[np.ndarray]],
     return low, positive
 
 
-def forward_entries(low: list[list[np.ndarray]], b: list[list[np.ndarray]]) -> list[list[np.ndarray]]:
+def forward_entries(
+    low: list[list[np.ndarray]], b: list[list[np.ndarray]]
+) -> list[list[np.ndarray]]:
     """Solve L·W = B by forward substitution (L lower triangular, B an n×c entry list)."""
     n, c = len(low), len(b[0])
     inv_diag = [1.0 / low[i][i] for i in range(n)]
