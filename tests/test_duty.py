@@ -145,12 +145,13 @@ def ivp_temperature(t, loss_of, r_th, tau_th, ambient, alpha):
 
 
 @pytest.mark.parametrize("hold", ["previous", "linear"])
-def test_step_response_matches_first_order_closed_form(hold):
+@pytest.mark.parametrize("n", [41, 4001])  # 5 s and 0.05 s samples: long and short intervals
+def test_step_response_matches_first_order_closed_form(hold, n):
     # [trade] ΔT(t) = P·R_th·(1 − e^(−t/τ_th)); P = 10 W, R_th = 2 K/W, τ_th = 30 s → 20 K rise
-    t = np.linspace(0.0, 200.0, 41)
-    got = thermal_response(np.full(41, 10.0), t, 2.0, 30.0, 25.0, resistance_tempco=False,
+    t = np.linspace(0.0, 200.0, n)
+    got = thermal_response(np.full(n, 10.0), t, 2.0, 30.0, 25.0, resistance_tempco=False,
                            hold=hold)
-    np.testing.assert_allclose(got, 25.0 + 20.0 * (1 - np.exp(-t / 30.0)), rtol=1e-13)
+    np.testing.assert_allclose(got, 25.0 + 20.0 * (1 - np.exp(-t / 30.0)), rtol=1e-12)
 
 
 def test_tempco_response_matches_numerical_integration():
@@ -347,6 +348,17 @@ def test_summary_of_lowering():
     locked = lift(-1, eta_b=-0.25)
     # self-locking: the motor drives the load down, nothing comes back
     assert locked.energy_no_regen == pytest.approx(locked.energy_regen) and locked.energy_regen > 0
+
+
+def test_summary_of_a_thermal_runaway():
+    # 1.5 N·m held with Km² = 0.01/0.5 = 0.02: P20 = 112.5 W; α·P20·R_th = 0.00393·112.5·2.5 = 1.1
+    # ≥ 1, so the winding has no steady state: temperature and energy are inf, never NaN
+    t = np.linspace(0.0, 1.0, 11)
+    s = duty_summary(np.full(11, 60.0), np.zeros(11), np.zeros(11), t, ratio=40.0, eta_f=0.8,
+                     eta_b=1.0, rotor_inertia=0.0, **dict(MOTOR, thermal_resistance=2.5))
+    assert s.rms_torque == pytest.approx(1.5)  # holding, η_b = 1: 60/40
+    assert math.isinf(s.peak_temperature) and math.isinf(s.energy_regen)
+    assert s.limiting == "temperature" and s.holding_share == pytest.approx(1.0)
 
 
 def test_summary_without_thermal_data_is_not_assessed():

@@ -28,6 +28,7 @@ and the motor needs no torque for it (hence max(η_b, 0)). With η = 1 every lin
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -147,14 +148,25 @@ def peak(x) -> np.ndarray:
     return np.max(np.abs(np.asarray(x, dtype=float)), axis=-1)
 
 
+def _horner(z: np.ndarray, coefficients) -> np.ndarray:
+    out = np.full_like(z, coefficients[-1])
+    for c in coefficients[-2::-1]:
+        out = out * z + c
+    return out
+
+
+#: Taylor coefficients of φ1 and φ2 (1/(k+1)! and 1/(k+2)!), used for |z| < 0.1
+_PHI1 = tuple(1.0 / math.factorial(k + 1) for k in range(10))
+_PHI2 = tuple(1.0 / math.factorial(k + 2) for k in range(10))
+
+
 def _phi(z: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """φ1 = (eᶻ − 1)/z and φ2 = (eᶻ − 1 − z)/z², with series near 0."""
+    """φ1 = (eᶻ − 1)/z and φ2 = (eᶻ − 1 − z)/z², by their series near 0."""
     small = np.abs(z) < 0.1
     zs = np.where(small, 1.0, z)
     em1 = np.expm1(zs)
-    p1 = np.where(small, 1 + z / 2 + z**2 / 6 + z**3 / 24 + z**4 / 120 + z**5 / 720, em1 / zs)
-    series2 = 0.5 + z / 6 + z**2 / 24 + z**3 / 120 + z**4 / 720 + z**5 / 5040 + z**6 / 40320
-    p2 = np.where(small, series2, (em1 - zs) / zs**2)
+    p1 = np.where(small, _horner(z, _PHI1), em1 / zs)
+    p2 = np.where(small, _horner(z, _PHI2), (em1 - zs) / (zs * zs))
     return p1, p2
 
 
@@ -185,9 +197,12 @@ def _thermal_maps(loss, t, r_th, tau_th, ambient, tempco, hold):
 
 
 def _run(phi, c, theta0):
-    out = [theta0]
-    for k in range(phi.shape[-1]):
-        out.append(phi[..., k] * out[-1] + c[..., k])
+    """Apply the interval maps in turn from θ_0; a run-away (inf) rise stays inf."""
+    out = [np.asarray(theta0, dtype=float)]
+    with np.errstate(invalid="ignore", over="ignore"):
+        for k in range(phi.shape[-1]):
+            prev = out[-1]
+            out.append(np.where(np.isinf(prev), prev, phi[..., k] * prev + c[..., k]))
     return np.stack(np.broadcast_arrays(*out), axis=-1)
 
 
@@ -448,9 +463,14 @@ def _electrics(tau_m, omega, t, m, tempco, hold):
             copper_loss(tau_m, _lead(km)), t, m["thermal_resistance"],
             m["thermal_time_constant"], m["ambient"], resistance_tempco=tempco, hold=hold,
         )
-    hot = temps if tempco else None
-    energy = cycle_energy(tau_m, omega, t, km, winding_temperature=hot, hold=hold)
-    return temps, energy.electrical_regen, energy.electrical_no_regen
+    if temps is None or not tempco:
+        energy = cycle_energy(tau_m, omega, t, km, hold=hold)
+        return temps, energy.electrical_regen, energy.electrical_no_regen
+    runaway = np.isinf(temps[..., 0])
+    energy = cycle_energy(tau_m, omega, t, km, hold=hold,
+                          winding_temperature=np.where(runaway[..., None], 20.0, temps))
+    inf = np.where(runaway, np.inf, 0.0)  # a run-away winding needs unbounded energy
+    return temps, energy.electrical_regen + inf, energy.electrical_no_regen + inf
 
 
 def _envelope_ratio(tau_m, omega, t_peak, m):
