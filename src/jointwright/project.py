@@ -167,7 +167,9 @@ def _load_robot(t: Table, base_dir: Path):
         actuated = t.list("actuated", None)
         mounts = t.raw("mounts", None)
         robot = Robot.from_urdf(
-            urdf, floating=(base == "floating"), actuated=actuated, mounts=mounts, file=t.file
+            urdf, floating=(base == "floating"), actuated=actuated, mounts=mounts,
+            frames=t.list("frames", None), gravity=t.list("gravity", None), file=t.file,
+            prefix=t.path,
         )
         t.done()
         return robot
@@ -277,5 +279,9 @@ def _force_or_weight(t: Table, key: str) -> float:
     try:
         return quantity(v, "force", file=t.file, field=t.field(key))
     except InputError:
-        m = quantity(v, "mass", file=t.file, field=t.field(key))
+        try:
+            m = quantity(v, "mass", file=t.file, field=t.field(key))
+        except InputError:
+            raise InputError(t.file, t.field(key), "must be a force (N) or a mass (kg, taken as its "
+                             f"weight at standard gravity), got {v!r}") from None
         return m * STANDARD_GRAVITY

@@ -1,0 +1,318 @@
+"""Bad input through the real command line: one line on stderr naming file, field and rule.
+
+Each case starts from a fresh copy of a bundled example (written by ``jointwright new``), breaks
+one thing, runs a verb and checks the contract of the design brief (section 5, "Interfaces"):
+exit code 2, exactly one line on stderr of the form ``jointwright: error: FILE: FIELD: RULE``,
+no traceback, nothing half-written on stdout. The rules asserted are the ones stated in
+docs/project-format.md, docs/design-format.md, docs/catalog-format.md and docs/robot-format.md.
+"""
+
+from __future__ import annotations
+
+import shutil
+import subprocess
+import sys
+from dataclasses import dataclass
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+
+from jointwright.cli import main
+
+PREFIX = "jointwright: error: "
+
+
+@dataclass(frozen=True)
+class Bad:
+    """One broken input: text edits (file, old, new) applied once each, then a verb."""
+
+    id: str
+    edits: tuple[tuple[str, str, str], ...]
+    verb: str  # "check" or "assess"
+    file: str  # the file the message must name (its base name)
+    field: str  # the field the message must name, exactly
+    rule: str  # a fragment of the rule the message must state
+    example: str = "leg"
+
+
+def _example(tmp_path_factory, name: str) -> Path:
+    folder = tmp_path_factory.mktemp(f"example-{name}") / name
+    result = CliRunner().invoke(main, ["new", str(folder), "--example", name])
+    assert result.exit_code == 0, result.output
+    return folder
+
+
+@pytest.fixture(scope="module")
+def examples(tmp_path_factory) -> dict[str, Path]:
+    return {name: _example(tmp_path_factory, name) for name in ("leg", "arm")}
+
+
+def _edit(folder: Path, file: str, old: str, new: str) -> None:
+    path = folder / file
+    text = path.read_text(encoding="utf-8") if path.exists() else ""
+    if old == "":  # prepend (or create)
+        path.write_text(new + text, encoding="utf-8")
+        return
+    assert old in text, f"test setup: {old!r} not in {file}"
+    path.write_text(text.replace(old, new, 1), encoding="utf-8")
+
+
+def _run(args: list[str]):
+    return CliRunner().invoke(main, args)
+
+
+def _one_error_line(result) -> str:
+    """The single stderr line of a failed run, with the contract of the brief checked."""
+    assert result.exit_code == 2, (result.exit_code, result.output, result.stderr)
+    assert "Traceback" not in result.stdout + result.stderr
+    assert result.exception is None or isinstance(result.exception, SystemExit)
+    lines = [ln for ln in result.stderr.splitlines() if ln.strip()]
+    assert len(lines) == 1, lines
+    assert lines[0].startswith(PREFIX), lines[0]
+    assert result.stdout == ""
+    return lines[0][len(PREFIX):]
+
+
+def _assert_names(message: str, file: str, field: str, rule: str) -> None:
+    head, sep, tail = message.partition(f": {field}: ")
+    assert sep, f"field {field!r} not named as ': {field}: ' in {message!r}"
+    assert Path(head).name == file, f"file {file!r} not named in {message!r}"
+    assert rule in tail, f"rule {rule!r} not stated in {message!r}"
+
+
+POSE = 'pose = { hip_ab = "0 deg", hip_fe = "-40 deg", knee = "80 deg" }'
+BELT = 'efficiency = { model = "constant", forward = 0.96, backward = 0.95 }'
+KNEE_STAGES = 'stages = [{ stage = "PL", frame = "PL-52", ratio = 6 }, { stage = "BT", frame = "BT-25", ratio = 1.5 }]'
+
+BAD = [
+    # --- project file: types, signs, dimensions, names -------------------------------------
+    Bad("mass budget not a quantity", (("project.toml", 'total_mass_max = "3.2 kg"', "total_mass_max = true"),),
+        "check", "project.toml", "requirements.total_mass_max", "must be a number or a quantity in kg"),
+    Bad("negative mass budget", (("project.toml", 'total_mass_max = "3.2 kg"', 'total_mass_max = "-3.2 kg"'),),
+        "check", "project.toml", "requirements.total_mass_max", "must be > 0 kg"),
+    Bad("zero joint mass limit", (("project.toml", 'mass_max = "1.3 kg"', "mass_max = 0"),),
+        "check", "project.toml", "requirements.joint.knee.mass_max", "must be > 0 kg"),
+    Bad("mass budget in newtons", (("project.toml", 'total_mass_max = "3.2 kg"', 'total_mass_max = "3.2 N"'),),
+        "check", "project.toml", "requirements.total_mass_max", "convertible to kg"),
+    Bad("payload as a torque", (("project.toml", 'payload_min = "150 N"', 'payload_min = "150 N*m"'),),
+        "check", "project.toml", "case[0].payload_min", "force"),
+    Bad("max_stages as text", (("project.toml", "max_stages = 2", 'max_stages = "two"'),),
+        "check", "project.toml", "catalog.max_stages", "whole number from 0 to 3"),
+    Bad("too many stages allowed", (("project.toml", "max_stages = 2", "max_stages = 4"),),
+        "check", "project.toml", "catalog.max_stages", "whole number from 0 to 3"),
+    Bad("unknown stage kind", (("project.toml", "max_stages = 2", 'max_stages = 2\nstage_kinds = ["planetary", "harmonic"]'),),
+        "check", "project.toml", "catalog.stage_kinds[1]", "unknown stage kind 'harmonic'"),
+    Bad("unknown case kind", (("project.toml", 'kind = "payload"', 'kind = "lift"'),),
+        "check", "project.toml", "case[0].kind", "must be one of payload, impact"),
+    Bad("unknown motion", (("project.toml", 'motion = "along"', 'motion = "up"'),),
+        "check", "project.toml", "case[0].motion", "must be one of along, against, hold"),
+    Bad("unknown joint in pose", (("project.toml", POSE, 'pose = { hip_ab = 0, hip_fe = 0, knee = 1, ankle = 0 }'),),
+        "check", "project.toml", "case[0].pose.ankle", "unknown joint 'ankle'"),
+    Bad("missing pose joint", (("project.toml", POSE, 'pose = { hip_ab = "0 deg", hip_fe = "-40 deg" }'),),
+        "check", "project.toml", "case[0].pose.knee", "every actuated joint needs a position"),
+    Bad("pose angle in metres", (("project.toml", POSE, 'pose = { hip_ab = "0 deg", hip_fe = "-40 deg", knee = "8 cm" }'),),
+        "check", "project.toml", "case[0].pose.knee", "convertible to rad"),
+    Bad("unknown joint in requirements", (("project.toml", "[requirements.joint.knee]", "[requirements.joint.ankle]"),),
+        "check", "project.toml", "requirements.joint.ankle", "unknown actuated joint 'ankle'"),
+    Bad("unknown frame", (("project.toml", 'frame = "foot"', 'frame = "toe"'),),
+        "check", "project.toml", "case[0].frame", "no frame, link or joint named 'toe'"),
+    Bad("zero direction", (("project.toml", "direction = [0, 0, -1]", "direction = [0, 0, 0]"),),
+        "check", "project.toml", "case[0].direction", "must not be the zero vector"),
+    Bad("direction with two numbers", (("project.toml", "direction = [0, 0, -1]", "direction = [0, -1]"),),
+        "check", "project.toml", "case[0].direction", "must be a list of 3 numbers"),
+    Bad("duplicate case name", (("project.toml", 'name = "landing-absorb"', 'name = "jump-push"'),),
+        "check", "project.toml", "case[1].name", "duplicate case name 'jump-push'"),
+    Bad("unknown field (typo)", (("project.toml", 'payload_min = "150 N"', 'payload_mn = "150 N"'),),
+        "check", "project.toml", "case[0].payload_mn", "unknown field"),
+    Bad("unknown base", (("project.toml", 'base = "floating"', 'base = "floatin"'),),
+        "check", "project.toml", "robot.base", "must be one of fixed, floating"),
+    Bad("unknown actuated joint", (("project.toml", 'actuated = ["hip_ab", "hip_fe", "knee"]', 'actuated = ["hip_ab", "hip_fe", "ankle"]'),),
+        "check", "project.toml", "robot.actuated[2]", "'ankle'"),
+    Bad("no cases", (("project.toml", "[[case]]", "[[cases]]"),),
+        "check", "project.toml", "cases", "unknown field"),
+    Bad("malformed project TOML", (("project.toml", "[catalog]", "[catalog"),),
+        "check", "project.toml", "(syntax)", "malformed TOML"),
+    Bad("missing URDF", (("project.toml", 'urdf = "leg.urdf"', 'urdf = "legs.urdf"'),),
+        "check", "legs.urdf", "urdf", "cannot read the file"),
+    Bad("missing catalog", (("project.toml", 'files = ["catalog.toml"]', 'files = ["catalogue.toml"]'),),
+        "check", "catalogue.toml", "(file)", "file not found"),
+    Bad("catalog list empty", (("project.toml", 'files = ["catalog.toml"]', "files = []"),),
+        "check", "project.toml", "catalog.files", "non-empty list of file paths"),
+    Bad("mount on a missing link", (("project.toml", 'mount_link = "thigh"', 'mount_link = "thig"'),),
+        "check", "project.toml", "robot.mounts.knee.mount_link", "no link named 'thig'"),
+    Bad("ambient temperature in kg", (("project.toml", "imf_min = 0.2", 'imf_min = 0.2\nambient = "25 kg"'),),
+        "check", "project.toml", "case[3].ambient", "convertible to degC"),
+    # --- URDF ------------------------------------------------------------------------------
+    Bad("malformed URDF", (("leg.urdf", '<joint name="knee" type="revolute">', '<joint name="knee" type="revolute"'),),
+        "check", "leg.urdf", "urdf line 41", "malformed XML"),  # where the parser notices
+    Bad("URDF joint to a missing link", (("leg.urdf", '<child link="shank"/>', '<child link="shin"/>'),),
+        "check", "leg.urdf", "urdf.joint[knee].child", "no link named 'shin'"),
+    # --- catalog file ----------------------------------------------------------------------
+    Bad("negative motor mass", (("catalog.toml", 'mass = "0.18 kg"', 'mass = "-0.18 kg"'),),
+        "check", "catalog.toml", "motor[0].mass", "must be > 0 kg"),
+    Bad("zero frame mass", (("catalog.toml", 'mass = "0.22 kg"', "mass = 0"),),
+        "check", "catalog.toml", "stage[0].frame[0].mass", "must be > 0 kg"),
+    Bad("torque written in kg", (("catalog.toml", 'peak_torque = "0.878 N*m"', 'peak_torque = "3 kg"'),),
+        "check", "catalog.toml", "motor[0].peak_torque", "convertible to N*m"),
+    Bad("rotor inertia as a bool", (("catalog.toml", 'rotor_inertia = "0.329 kg*cm^2"', "rotor_inertia = true"),),
+        "check", "catalog.toml", "motor[0].rotor_inertia", "must be a number or a quantity"),
+    Bad("forward efficiency above 1", (("catalog.toml", BELT, BELT.replace("forward = 0.96", "forward = 1.2")),),
+        "check", "catalog.toml", "stage[1].efficiency.forward", "(0, 1]"),
+    Bad("backward efficiency at -1", (("catalog.toml", BELT, BELT.replace("backward = 0.95", "backward = -1.0")),),
+        "check", "catalog.toml", "stage[1].efficiency.backward", "(-1, 1]"),
+    Bad("backward above forward (constant pair)", (("catalog.toml", BELT, BELT.replace("backward = 0.95", "backward = 0.97")),),
+        "check", "catalog.toml", "stage[1].efficiency.backward", "forward"),
+    Bad("unknown efficiency model", (("catalog.toml", BELT, BELT.replace('"constant"', '"lossless"')),),
+        "check", "catalog.toml", "stage[1].efficiency.model", "lossless"),
+    Bad("unknown stage kind in catalog", (("catalog.toml", 'kind = "belt"', 'kind = "chain"'),),
+        "check", "catalog.toml", "stage[1].kind", "'chain'"),
+    Bad("duplicate motor name", (("catalog.toml", 'name = "PX-70x14"', 'name = "PX-60x12"'),),
+        "check", "catalog.toml", "motor[1]", "duplicate motor name 'PX-60x12'"),
+    Bad("unknown motor field (typo)", (("catalog.toml", 'continuous_torque = "0.274 N*m"', 'continous_torque = "0.274 N*m"'),),
+        "check", "catalog.toml", "motor[0].continous_torque", "unknown field"),
+    Bad("continuous above peak", (("catalog.toml", 'continuous_torque = "0.274 N*m"', 'continuous_torque = "0.9 N*m"'),),
+        "check", "catalog.toml", "motor[0].continuous_torque", "must not exceed peak_torque"),
+    Bad("ratios not ascending", (("catalog.toml", "ratios = [11, 15, 21, 29]", "ratios = [11, 21, 15, 29]"),),
+        "check", "catalog.toml", "stage[2].ratios[2]", "strictly"),
+    Bad("malformed catalog TOML", (("catalog.toml", "[[stage]]", "[[stage]"),),
+        "check", "catalog.toml", "(syntax)", "malformed TOML"),
+    Bad("motors CSV row too short", (("catalog.toml", "", 'motors_csv = "more.csv"\n'),
+                                     ("more.csv", "", "name,peak_torque,continuous_torque,rotor_inertia,mass,max_speed\n"
+                                                      "QX-1,1.0,0.5,1e-5\n")),
+        "check", "more.csv", "row 2", "cells"),
+    Bad("motors CSV negative mass", (("catalog.toml", "", 'motors_csv = "more.csv"\n'),
+                                     ("more.csv", "", "name,peak_torque,continuous_torque,rotor_inertia,mass,max_speed\n"
+                                                      "QX-1,1.0,0.5,1e-5,-0.2,300\n")),
+        "check", "more.csv", "row 2, column mass", "must be > 0 kg"),
+    Bad("motors CSV missing", (("catalog.toml", "", 'motors_csv = "more.csv"\n'),),
+        "check", "more.csv", "(file)", "file not found"),
+    # --- design file -----------------------------------------------------------------------
+    Bad("ratio not offered", (("design.toml", "ratio = 6 }]", "ratio = 11 }]"),),
+        "assess", "design.toml", "joint.hip_ab.stages[0].ratio", "ratio 11 not offered by PL"),
+    Bad("ratio as text", (("design.toml", "ratio = 6 }]", 'ratio = "six" }]'),),
+        "assess", "design.toml", "joint.hip_ab.stages[0].ratio", "cannot read 'six'"),
+    Bad("negative ratio", (("design.toml", "ratio = 6 }]", "ratio = -6 }]"),),
+        "assess", "design.toml", "joint.hip_ab.stages[0].ratio", "must be > 0"),
+    Bad("unknown stage type", (("design.toml", 'stage = "PL"', 'stage = "PQ"'),),
+        "assess", "design.toml", "joint.hip_ab.stages[0].stage", "unknown stage type 'PQ'"),
+    Bad("unknown frame size", (("design.toml", 'frame = "PL-52"', 'frame = "PL-99"'),),
+        "assess", "design.toml", "joint.hip_ab.stages[0].frame", "unknown frame 'PL-99' of PL"),
+    Bad("unknown motor", (("design.toml", 'motor = "PX-96x24"', 'motor = "PX-99x99"'),),
+        "assess", "design.toml", "joint.hip_ab.motor", "unknown motor 'PX-99x99'"),
+    Bad("unknown joint in design", (("design.toml", "[joint.knee]", "[joint.ankle]"),),
+        "assess", "design.toml", "joint.ankle", "unknown joint 'ankle'"),
+    Bad("too many stages", (("design.toml", KNEE_STAGES, KNEE_STAGES[:-1] + ', { stage = "BT", frame = "BT-25", ratio = 1 }]'),),
+        "assess", "design.toml", "joint.knee.stages", "at most 2 stages"),
+    Bad("unknown design field (typo)", (("design.toml", 'motor = "PX-96x24"', 'motr = "PX-96x24"'),),
+        "assess", "design.toml", "joint.hip_ab.motor", "is required"),
+    Bad("malformed design TOML", (("design.toml", "[design]", "[design"),),
+        "assess", "design.toml", "(syntax)", "malformed TOML"),
+    # --- the arm example -------------------------------------------------------------------
+    Bad("arm: payload as a length", (("project.toml", 'payload_min = "3 kg"', 'payload_min = "3 m"'),),
+        "check", "project.toml", "case[0].payload_min", "force", example="arm"),
+    Bad("arm: stage kind restriction unknown", (("project.toml", "max_stages = 1", 'max_stages = 1\nstage_kinds = ["strainwave"]'),),
+        "check", "project.toml", "catalog.stage_kinds[0]", "unknown stage kind", example="arm"),
+]
+
+
+@pytest.mark.parametrize("bad", BAD, ids=[b.id for b in BAD])
+def test_bad_input_gives_one_clear_line(bad: Bad, examples, tmp_path):
+    folder = tmp_path / bad.example
+    shutil.copytree(examples[bad.example], folder)
+    for file, old, new in bad.edits:
+        _edit(folder, file, old, new)
+    args = [bad.verb, str(folder / "project.toml")]
+    if bad.verb == "assess":
+        args += ["--design", str(folder / "design.toml")]
+    message = _one_error_line(_run(args))
+    _assert_names(message, bad.file, bad.field, bad.rule)
+
+
+def test_at_least_25_distinct_bad_inputs():
+    # the task: at least 25 different broken inputs, each with its own field or rule
+    assert len({(b.file, b.field, b.rule) for b in BAD}) >= 25
+
+
+# --- missing files ---------------------------------------------------------------------------
+
+
+def test_missing_project_file(tmp_path):
+    message = _one_error_line(_run(["check", str(tmp_path / "nowhere.toml")]))
+    _assert_names(message, "nowhere.toml", "(file)", "file not found")
+
+
+def test_missing_design_file(examples, tmp_path):
+    project = examples["leg"] / "project.toml"
+    message = _one_error_line(_run(["assess", str(project), "--design", str(tmp_path / "none.toml")]))
+    _assert_names(message, "none.toml", "(file)", "file not found")
+
+
+def test_new_into_a_folder_that_is_not_empty(tmp_path):
+    (tmp_path / "notes.txt").write_text("keep me")
+    message = _one_error_line(_run(["new", str(tmp_path)]))
+    _assert_names(message, tmp_path.name, "(folder)", "must be new or empty")
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["notes.txt"]  # nothing was written
+
+
+def test_project_that_is_not_utf8(examples, tmp_path):
+    folder = tmp_path / "leg"
+    shutil.copytree(examples["leg"], folder)
+    (folder / "project.toml").write_bytes(b"[project]\nname = \"\xff\xfe\"\n")
+    message = _one_error_line(_run(["check", str(folder / "project.toml")]))
+    _assert_names(message, "project.toml", "(encoding)", "UTF-8")
+
+
+# --- a singular pose where a metric needs the task-space inertia ------------------------------
+
+# The arm stretched straight up (every pitch joint at 0) with the impact direction along the
+# arm: the joints cannot move the tool along z, so J·M⁻¹·Jᵀ is singular there and the
+# task-space inertia Λ = (J·M⁻¹·Jᵀ)⁻¹ does not exist (Khatib 1987 [pub]). Along z the effective
+# mass 1/(uᵀ·J·M⁻¹·Jᵀ·u) is unbounded: an infinite value, never NaN (design brief section 5).
+STRAIGHT = "pose = { shoulder_yaw = 0, shoulder_pitch = 0, elbow = 0, wrist_pitch = 0, wrist_yaw = 0, wrist_flex = 0 }"
+SIDE_POSE = ('pose = { shoulder_yaw = 0, shoulder_pitch = "40 deg", elbow = "70 deg", '
+             'wrist_pitch = "-20 deg", wrist_yaw = 0, wrist_flex = 0 }')
+
+
+def test_singular_pose_is_not_nan(examples, tmp_path):
+    import json
+    import math
+
+    folder = tmp_path / "arm"
+    shutil.copytree(examples["arm"], folder)
+    text = (folder / "project.toml").read_text()
+    start = text.index('name = "side-collision"')
+    head, tail = text[:start], text[start:]
+    tail = tail.replace("direction = [0, 1, 0]", "direction = [0, 0, 1]", 1).replace(SIDE_POSE, STRAIGHT, 1)
+    (folder / "project.toml").write_text(head + tail)
+    result = _run(["assess", str(folder / "project.toml"), "--design", str(folder / "design.toml"), "--json"])
+    if result.exit_code == 2:  # refused with a clear message: acceptable
+        message = _one_error_line(result)
+        _assert_names(message, "project.toml", "case[2]", "singular")
+        return
+    assert result.exit_code == 0, result.output
+    data = json.loads(result.stdout)
+    case = next(c for c in data["cases"] if c["name"] == "side-collision")
+    for key in ("effective_mass", "effective_mass_motoring", "effective_mass_frictionless"):
+        value = case["metrics"][key]
+        assert value is not None, f"{key} is NaN at a singular pose"
+        assert value == "inf" or (isinstance(value, float) and math.isfinite(value) and value > 1e3), (key, value)
+
+
+# --- a couple through a real process: exit code and stderr as a shell sees them --------------
+
+
+@pytest.mark.parametrize("verb", ["check", "assess"])
+def test_subprocess_exit_code_and_single_line(verb, examples, tmp_path):
+    folder = tmp_path / "leg"
+    shutil.copytree(examples["leg"], folder)
+    _edit(folder, "catalog.toml", 'mass = "0.18 kg"', 'mass = "-0.18 kg"')
+    args = [sys.executable, "-m", "jointwright.cli", verb, str(folder / "project.toml")]
+    if verb == "assess":
+        args += ["--design", str(folder / "design.toml")]
+    proc = subprocess.run(args, capture_output=True, text=True, timeout=120)
+    assert proc.returncode == 2
+    assert proc.stdout == ""
+    lines = proc.stderr.strip().splitlines()
+    assert len(lines) == 1 and "Traceback" not in proc.stderr
+    _assert_names(lines[0][len(PREFIX):], "catalog.toml", "motor[0].mass", "must be > 0 kg")
