@@ -1,0 +1,205 @@
+"""Happy paths of the command line: new, check and assess on both bundled examples.
+
+The JSON output must be the Python API's result (``assessment.assess``) number for number; the
+table output must show numbers with their units. A few joint numbers are recomputed by hand from
+the published transmission formulas (REFERENCES.md) so that CLI and API cannot agree on a wrong
+value unnoticed.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from importlib import resources
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+
+from jointwright.assessment import assess
+from jointwright.cli import main
+from jointwright.design import load_design
+from jointwright.project import STANDARD_GRAVITY, load_project
+
+EXAMPLES = ("leg", "arm")
+
+
+def _run(args: list[str]):
+    result = CliRunner().invoke(main, args)
+    assert result.exit_code == 0, (result.output, result.stderr)
+    assert result.stderr == ""
+    return result
+
+
+@pytest.fixture(scope="module")
+def folders(tmp_path_factory) -> dict[str, Path]:
+    out = {}
+    for name in EXAMPLES:
+        folder = tmp_path_factory.mktemp("cli") / name
+        _run(["new", str(folder), "--example", name])
+        out[name] = folder
+    return out
+
+
+@pytest.fixture(scope="module")
+def api(folders) -> dict:
+    """The Python API's assessment of each example's bundled design."""
+    out = {}
+    for name, folder in folders.items():
+        project = load_project(folder / "project.toml")
+        out[name] = (project, assess(project, load_design(folder / "design.toml", project)))
+    return out
+
+
+# --- new ---------------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("name", EXAMPLES)
+def test_new_writes_every_bundled_file(name, folders):
+    bundled = sorted(p.name for p in (resources.files("jointwright.examples") / name).iterdir()
+                     if p.is_file() and not p.name.startswith((".", "__")))
+    assert sorted(p.name for p in folders[name].iterdir()) == bundled
+    assert {"project.toml", "design.toml", "catalog.toml"} <= set(bundled)
+
+
+def test_new_into_an_empty_existing_folder(tmp_path):
+    result = _run(["new", str(tmp_path)])  # default example: leg
+    assert "wrote the 'leg' example" in result.stdout
+    assert (tmp_path / "leg.urdf").is_file()
+
+
+def test_help_lists_the_verbs_that_exist():
+    result = _run(["--help"])
+    for verb in ("new", "check", "assess"):
+        assert verb in result.stdout
+
+
+# --- check -------------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("name", EXAMPLES)
+def test_check_json_matches_the_loaded_project(name, folders):
+    data = json.loads(_run(["check", str(folders[name] / "project.toml"), "--json"]).stdout)
+    project = load_project(folders[name] / "project.toml")
+    assert data["project"] == project.name
+    assert data["robot"]["actuated"] == list(project.robot.actuated)
+    assert data["robot"]["base"] == project.robot.base
+    assert data["robot"]["link_mass"] == pytest.approx(project.robot.link_mass_total, rel=1e-12)
+    assert data["catalog"]["motors"] == len(project.catalog.all_motors())
+    assert data["catalog"]["max_stages"] == project.max_stages
+    assert [c["name"] for c in data["cases"]] == [c.name for c in project.cases]
+    if math.isfinite(project.requirements.total_mass_max):
+        assert data["requirements"]["total_mass_max"] == project.requirements.total_mass_max
+
+
+def test_check_leg_json_reads_units():
+    # the leg project writes "3.2 kg", "150 N", "2.0 m/s" and a direction [0, 0, -1]
+    folder = Path(resources.files("jointwright.examples") / "leg")
+    data = json.loads(_run(["check", str(folder / "project.toml"), "--json"]).stdout)
+    assert data["robot"]["base"] == "floating"
+    assert data["requirements"]["total_mass_max"] == 3.2
+    cases = {c["name"]: c for c in data["cases"]}
+    assert cases["jump-push"]["limits"] == {"payload_min": 150.0}
+    assert cases["jump-push"]["direction"] == [0.0, 0.0, -1.0]
+    assert cases["swing"]["limits"] == {"speed_min": 2.0}
+    # a mass written as "1.3 kg"; an inertia written as "0.05 kg*m^2"
+    assert data["requirements"]["joints"]["knee"] == {"mass_max": 1.3, "reflected_inertia_max": 0.05}
+
+
+def test_check_arm_payload_in_kg_is_its_weight(folders):
+    # payload_min = "3 kg" is a weight at standard gravity g_n = 9.80665 m/s²
+    # (3rd CGPM 1901; ISO 80000-3 [pub]): 3 × 9.80665 = 29.41995 N
+    data = json.loads(_run(["check", str(folders["arm"] / "project.toml"), "--json"]).stdout)
+    cases = {c["name"]: c for c in data["cases"]}
+    assert STANDARD_GRAVITY == 9.80665
+    assert cases["reach-lift"]["limits"]["payload_min"] == pytest.approx(29.41995, rel=1e-12)
+    assert cases["close-lift"]["limits"]["payload_min"] == pytest.approx(49.03325, rel=1e-12)
+
+
+@pytest.mark.parametrize("name", EXAMPLES)
+def test_check_table_says_valid_with_units(name, folders):
+    out = _run(["check", str(folders[name] / "project.toml")]).stdout
+    assert "inputs are valid" in out
+    assert " kg" in out
+    assert " N" in out and " m/s" in out
+
+
+# --- assess ------------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("name", EXAMPLES)
+def test_assess_json_equals_the_python_api(name, folders, api):
+    folder = folders[name]
+    out = _run(["assess", str(folder / "project.toml"), "--design", str(folder / "design.toml"), "--json"]).stdout
+    data = json.loads(out)
+    _, result = api[name]
+    assert data == result.to_dict()  # JSON floats round-trip exactly (shortest repr)
+    assert data["feasible"] is result.feasible
+    assert len(data["checks"]) == len(result.checks) > 0
+
+
+@pytest.mark.parametrize("name", EXAMPLES)
+def test_assess_json_has_no_nan(name, folders):
+    folder = folders[name]
+    out = _run(["assess", str(folder / "project.toml"), "--design", str(folder / "design.toml"), "--json"]).stdout
+    assert "NaN" not in out and "Infinity" not in out  # infinities are written "inf"
+
+
+@pytest.mark.parametrize("name", EXAMPLES)
+def test_assess_table_shows_api_numbers_with_units(name, folders, api):
+    folder = folders[name]
+    out = _run(["assess", str(folder / "project.toml"), "--design", str(folder / "design.toml")]).stdout
+    project, result = api[name]
+    assert f"actuators {result.total_mass:.4g} kg" in out
+    units = {"payload": "N", "speed": "m/s", "backdrive_force": "N", "effective_mass": "kg"}
+    shown = 0
+    for case in result.cases:
+        for key, unit in units.items():
+            value = case.metrics.get(key)
+            if isinstance(value, float) and math.isfinite(value):
+                assert f"{value:.4g} {unit}" in out, (case.name, key)
+                shown += 1
+    assert shown >= 4
+    for check in result.checks:
+        assert check.subject in out
+    assert "caution:" in out and "safety standards" in out
+
+
+def test_leg_joint_numbers_follow_the_published_formulas(api):
+    # Ring-fixed planetary by the basic-train (Willis) method (Müller 1982; del Castillo 2002
+    # [mem], REFERENCES.md): N = 6, η0 = 0.965 (leg catalog, stage PL):
+    #   η_f = (1 + η0·(N−1))/N = (1 + 0.965·5)/6 = 5.825/6 = 0.9708333
+    #   η_b = N/(1 + (N−1)/η0) = 6/(1 + 5/0.965) = 6/6.1813472 = 0.9706622
+    # Motor PX-96x24: τ_peak 4.49 N·m, rotor 2.7 kg·cm²; frame PL-52 input 0.06 kg·cm², 32 N·m.
+    #   drive capacity η_f·N·τ = 0.9708333·6·4.49 = 26.15425 N·m (design brief 2.3)
+    #   holding N·τ/η_b = 26.94/0.9706622 = 27.75425 N·m (below the 32 N·m gear rating)
+    #   reflected N²·I_r = 36·(2.7 + 0.06)e-4 = 9.936e-3 kg·m²
+    _, result = api["leg"]
+    hip = next(j for j in result.joints if j.joint == "hip_ab")
+    assert hip.eta_forward == pytest.approx(5.825 / 6, rel=1e-12)
+    assert hip.eta_backward == pytest.approx(6 / (1 + 5 / 0.965), rel=1e-12)
+    assert hip.capacity_motoring == pytest.approx(26.15425, rel=1e-9)
+    assert hip.capacity_backdriven == pytest.approx(26.94 / 0.9706621961, rel=1e-9)
+    assert hip.reflected_frictionless == pytest.approx(9.936e-3, rel=1e-9)
+    # Knee: PL 6:1 then belt BT 1.5:1 (constant 0.96 / 0.95). A stack multiplies ratios and
+    # efficiencies per direction (design brief 2.2): N = 9, η_f = 0.9708333·0.96 = 0.932.
+    # The belt's input inertia 0.05 kg·cm² sits after the 6:1 stage: seen at the motor as
+    # 0.05/6² kg·cm² [trade, reflected inertia through a ratio]; I_r = 2.76 + 0.0013889 kg·cm²,
+    #   N²·I_r = 81·2.7613889e-4 = 0.022367250 kg·m².
+    knee = next(j for j in result.joints if j.joint == "knee")
+    assert knee.ratio == pytest.approx(9.0, rel=1e-12)
+    assert knee.eta_forward == pytest.approx(5.825 / 6 * 0.96, rel=1e-12)
+    assert knee.eta_backward == pytest.approx(6 / (1 + 5 / 0.965) * 0.95, rel=1e-12)
+    assert knee.reflected_frictionless == pytest.approx(81 * (2.76e-4 + 0.05e-4 / 36), rel=1e-9)
+
+
+def test_payload_margin_is_achieved_over_limit(api):
+    # margin of a "min" requirement = achieved/limit − 1 [trade]; of a "max" one = 1 − achieved/limit
+    for name in EXAMPLES:
+        _, result = api[name]
+        for c in result.checks:
+            if not (math.isfinite(c.achieved) and c.limit > 0):
+                continue
+            expected = c.achieved / c.limit - 1 if c.sense == "min" else 1 - c.achieved / c.limit
+            assert c.margin == pytest.approx(expected, rel=1e-9, abs=1e-12), (name, c.subject, c.requirement)
+            assert c.ok == (c.margin >= 0)
