@@ -25,9 +25,11 @@ class EndpointSpeed:
     Attributes
     ----------
     speed : ndarray (...)
-        Largest speed v ≥ 0 along u (m/s for a linear direction); 0 where u is not reachable.
+        Largest speed v ≥ 0 along u (m/s for a linear direction); 0 where u is not reachable,
+        inf where no moving joint has a finite limit.
     limiting_joint : ndarray of int (...)
-        Index of the joint that reaches its limit first; −1 where u is not reachable.
+        Index of the joint that reaches its limit first; −1 where u is not reachable or
+        nothing limits.
     joint_speeds : ndarray (..., n)
         q̇ = J⁺·u·v at that speed (rad/s or m/s per joint).
     reachable : ndarray of bool (...)
