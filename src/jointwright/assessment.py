@@ -146,6 +146,8 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
                 metrics.update({f"joint_torque:{n}": float(t) for n, t in zip(names, tau)})
                 if case.kind == "payload":
                     modes = _payload_modes(evaluator, case.name, tau)
+            elif v.ndim == 2 and v.shape == (1, len(names)):
+                metrics.update({f"{k}:{n}": float(x) for n, x in zip(names, v[0])})
             elif v.ndim >= 1 and v.shape[0] == 1:
                 metrics[k] = v.reshape(-1)[0].item()
         cases.append(CaseResult(case.name, case.kind, metrics, limiting, modes))

@@ -14,6 +14,7 @@ factor exists. Power-flow modes per case:
   joints are locked); the frictionless (N²·I_r) and motoring (η_f·N²·I_r) values are shown too.
 * backdrive: unpowered robot, joint-side breakaway torques, gravity held.
 * speed: joint speed limit = motor maximum speed / N.
+* duty: per sample, from the sign of τ_j·q̇ along the trajectory (:mod:`jointwright.dutycase`).
 """
 
 from __future__ import annotations
@@ -23,6 +24,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .design import DesignArrays
+from .dutycase import evaluate_duty, prepare_duty
 from .metrics.backdrive import backdrive_force
 from .metrics.inertia import effective_mass, impact_mitigation
 from .metrics.linalg_small import inv_small
@@ -61,7 +63,8 @@ class Evaluator:
         self.floating = robot.n_base == 6
         self.v_index = np.asarray(robot.v_index)
         self.cases = tuple(self._prepare(c) for c in project.cases if c.kind != "duty")
-        self.duty = tuple(c for c in project.cases if c.kind == "duty")
+        self.duty = tuple(prepare_duty(robot, c, str(project.file)) for c in project.cases
+                          if c.kind == "duty")
 
     def _prepare(self, case) -> PreparedCase:
         robot = self.robot
@@ -97,6 +100,8 @@ class Evaluator:
                 out[pc.case.name] = self._backdrive(pc, d)
             elif kind == "speed":
                 out[pc.case.name] = self._speed(pc, d)
+        for pd in self.duty:
+            out[pd.case.name] = evaluate_duty(pd, d, detail=detail)
         return out
 
     def _bias(self, pc: PreparedCase, d: DesignArrays) -> np.ndarray:

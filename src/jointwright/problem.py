@@ -18,11 +18,12 @@ from .project import CASE_LIMITS
 #: achieved value per case-limit key: (metric name in the evaluation, unit shown)
 _CASE_METRIC = {
     "payload_min": ("payload", "N"),
-    "imf_min": ("imf", "-"),
-    "directional_imf_min": ("imf_direction", "-"),
+    "imf_min": ("imf", ""),
+    "directional_imf_min": ("imf_direction", ""),
     "effective_mass_max": ("effective_mass", "kg"),
     "backdrive_force_max": ("backdrive_force", "N"),
     "speed_min": ("speed", "m/s"),
+    "rating_use_max": ("rating_use", ""),
 }
 
 OBJECTIVES = ("payload", "mass", "imf")
@@ -60,8 +61,6 @@ def checks(project, arrays, evaluation) -> list[Check]:
     """Every requirement of the project as a :class:`Check` over the designs in ``arrays``."""
     out = []
     for case in project.cases:
-        if case.kind == "duty":
-            continue
         ev = evaluation[case.name]
         for key, limit in case.limits.items():
             metric, unit = _CASE_METRIC.get(key, (None, None))

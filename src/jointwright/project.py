@@ -60,7 +60,9 @@ CASE_LIMITS: dict[str, dict[str, tuple[str, str]]] = {
     },
     "backdrive": {"backdrive_force_max": ("force", "max")},
     "speed": {"speed_min": ("velocity", "min")},
-    "duty": {"temperature_margin_min": ("temperature", "min")},
+    # rating use: the worst of RMS/continuous, peak/peak torque, speed/max speed, torque/envelope
+    # and temperature rise/allowed rise over the joints; 1.0 uses a rating fully
+    "duty": {"rating_use_max": ("dimensionless", "max")},
 }
 
 
@@ -264,6 +266,8 @@ def _load_case(t: Table, robot, base_dir: Path) -> Case:
                 limits[key] = _force_or_weight(t, key)
             else:
                 limits[key] = t.quantity(key, dim, sign="nonnegative")
+    if kind == "duty" and "rating_use_max" not in limits:
+        limits["rating_use_max"] = 1.0
     weight = bool(direction is not None and abs(abs(direction[2]) - 1.0) < 1e-9)
     t.done()
     return Case(name=name, kind=kind, frame=frame, pose=pose, base_xyz=base_xyz, base_rpy=base_rpy,

@@ -15,7 +15,7 @@ _console = None
 def console() -> Console:
     global _console
     if _console is None:
-        _console = Console(highlight=False, soft_wrap=False, width=max(Console().width, 110))
+        _console = Console(highlight=False, soft_wrap=False, width=max(Console().width, 150))
     return _console
 
 

@@ -24,7 +24,16 @@ SHOWN = {
                ("effective_mass_frictionless", "effective mass (frictionless)", "kg")],
     "backdrive": [("backdrive_force", "force to back-drive, unpowered", "N")],
     "speed": [("speed", "end-point speed", "m/s")],
+    "duty": [("rating_use", "worst rating use over joints (1 = fully used)", ""),
+             ("cycle_energy_no_regen", "electrical energy per cycle, no regeneration", "J"),
+             ("cycle_energy_regen", "electrical energy per cycle, with regeneration", "J")],
 }
+
+#: per-joint duty metrics shown as a joints × quantities table
+DUTY_JOINT = [("rms_torque", "RMS motor torque", "N·m"), ("rms_ratio", "RMS / continuous", ""),
+              ("peak_torque", "peak motor torque", "N·m"), ("envelope_ratio", "torque / envelope", ""),
+              ("peak_speed", "peak motor speed", "rad/s"), ("peak_temperature", "peak winding", "°C"),
+              ("thermal_ratio", "rise / allowed", ""), ("backdriven_share", "time back-driven", "")]
 
 
 def print_assessment(a) -> None:
@@ -34,20 +43,27 @@ def print_assessment(a) -> None:
               f"actuators {num(a.total_mass, 'kg')}")
     rows = []
     for j in a.joints:
-        rows.append([j.joint, j.motor, " + ".join(j.stages) or "direct", num(j.ratio, ":1"),
+        rows.append([j.joint, j.motor, " + ".join(j.stages) or "direct", f"{j.ratio:g}:1",
                      f"{j.eta_forward:.3f} / {j.eta_backward:.3f}" + (" [red]self-locking[/red]" if j.self_locking else ""),
                      num(j.capacity_motoring, "N·m"), num(j.capacity_backdriven, "N·m"),
                      num(j.reflected_frictionless, "kg·m²"), num(j.reflected_backdriven, "kg·m²"),
                      num(j.mass, "kg")])
-    con.print(table("Joints", ["joint", "motor", "stages", "ratio", "η fwd / bwd", "drive torque",
-                               "holding torque", "refl. inertia N²I", "refl. back-driven", "mass"], rows,
-                    caption="drive torque = η_f·N·τ_peak; holding = N·τ_peak/η_b while the load back-drives; both capped by the gear rating"))
+    con.print(table("Joints", ["joint", "motor", "stages", "ratio", "η fwd / bwd", "drive",
+                               "holding", "refl. inertia", "back-driven", "mass"], rows))
+    con.print("  drive = η_f·N·τ_peak (motoring); holding = N·τ_peak/η_b while the load back-drives; both capped "
+              "by the gear rating.\n  refl. inertia = N²·I_r (frictionless); back-driven = N²·I_r/η_b, what an "
+              "impact meets.")
     for c in a.cases:
         rows = []
         for key, label, unit in SHOWN.get(c.kind, []):
             if key in c.metrics and c.metrics[key] is not None:
                 rows.append([label, num(c.metrics[key], unit)])
         extra = []
+        if c.kind == "duty":
+            joints = [j.joint for j in a.joints]
+            drows = [[label] + [num(c.metrics.get(f"{key}:{j}"), unit) for j in joints]
+                     for key, label, unit in DUTY_JOINT]
+            rows += [["limiting quantity", str(c.metrics.get("limiting_quantity", "—"))]]
         if c.limiting_joint:
             extra.append(f"limited by {c.limiting_joint}")
         if c.joint_modes:
@@ -55,8 +71,11 @@ def print_assessment(a) -> None:
         if c.kind == "impact" and c.metrics.get("contact_rank", 3) < 3:
             extra.append("the joints cannot move the contact in every direction: determinant IMF is 0; "
                          "see the directional IMF")
-        con.print(table(f"Case {c.name} ({c.kind})", ["metric", "value"], rows,
-                        caption="; ".join(extra) or None))
+        con.print(table(f"Case {c.name} ({c.kind})", ["metric", "value"], rows))
+        if c.kind == "duty":
+            con.print(table(f"Case {c.name}: per joint (steady periodic cycle)", ["quantity"] + joints, drows))
+        for line in extra:
+            con.print(f"  {line}")
     rows = [[c.subject, c.requirement.replace("_", " "), num(c.achieved, c.unit), num(c.limit, c.unit),
              pct(c.margin), "[green]ok[/green]" if c.ok else "[red]MISSED[/red]"] for c in a.checks]
     con.print(table("Requirements", ["subject", "requirement", "achieved", "limit", "margin", ""], rows))
