@@ -57,7 +57,7 @@ val = st.floats(-50.0, 50.0)
 @settings(max_examples=80, deadline=None)
 @given(tj=val, qd=val, qdd=val, n=st.floats(1.0, 200.0), ir=st.floats(0.0, 1e-3))
 def test_frictionless_gives_the_classical_model_exactly(tj, qd, qdd, n, ir):
-    # η = 1: τ_m = τ_j/N + N·I_r·q̈ in every mode (DESIGN.md 2.3)
+    # η = 1: the classical rigid gear with rotor inertia, τ_m = τ_j/N + N·I_r·q̈, in every mode
     tau, _ = motor_torque([tj], [qd], [qdd], n, 1.0, 1.0, ir)
     assert tau[0] == tj / n + n * ir * qdd
 
@@ -66,7 +66,8 @@ def test_frictionless_gives_the_classical_model_exactly(tj, qd, qdd, n, ir):
 @given(tj=val, qd=val, qdd=val, n=st.floats(1.0, 200.0), ir=st.floats(0.0, 1e-3),
        ef=eta_f_st, eb=st.floats(0.05, 1.0))
 def test_inverse_matches_the_forward_transmission_law(tj, qd, qdd, n, ir, ef, eb):
-    # DESIGN.md 2.3: motoring τ_j = η_f·N·(τ_m − N·I_r·q̈); back-driven τ_j = (N/η_b)·(…)
+    # forward law (Modelica LossyGear [pub]: one efficiency per direction of power flow):
+    # motoring τ_j = η_f·N·(τ_m − N·I_r·q̈); back-driven τ_j = (N/η_b)·(…)
     assume(tj * qd != 0)
     tau, mode = motor_torque([tj], [qd], [qdd], n, ef, eb, ir)
     gear_in = tau[0] - n * ir * qdd
@@ -299,7 +300,7 @@ def test_energy_balance_over_a_mixed_swing():
 @settings(max_examples=60, deadline=None)
 @given(tj=val, qd=val, ef=eta_f_st, eb=eta_b_st)
 def test_transmission_never_creates_energy(tj, qd, ef, eb):
-    # DESIGN.md 2.3: dissipated power is (1 − η) of the power entering, in either direction
+    # a passive gear dissipates (1 − η) of the power entering it, in either direction [trade]
     gear = transmission_energy(np.full(3, tj), np.full(3, qd), [0.0, 0.5, 1.0], 10.0, ef, eb, 0.0)
     assert gear.loss_motoring >= 0 and gear.loss_backdriven >= 0
 

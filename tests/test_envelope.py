@@ -19,7 +19,7 @@ from jointwright.metrics.envelope import (
     winding_resistance,
 )
 
-# Check motor of REFERENCES.md "Motors, thermal, ratio selection" [trade / mem]:
+# Check motor: DC-equivalent torque line [trade], Kt from Kv [mem]:
 # V = 24 V, R = 0.2 Ω (line to line), Kt = 0.095493 N·m/A (Kv = 100 rpm/V).
 V, R, KT = 24.0, 0.2, 0.095493
 ELEC = dict(torque_constant=KT, resistance=R, bus_voltage=V)
@@ -38,7 +38,8 @@ def test_stall_and_no_load():
 
 
 def test_motor_constant_and_copper_loss():
-    # Km = Kt/√R [derived in REFERENCES.md]: 0.095493/0.4472136 = 0.213529 N·m/√W;
+    # Km = Kt/√R [derived: copper loss i²·R with i = τ/Kt]:
+    # 0.095493/0.4472136 = 0.213529 N·m/√W;
     # loss at 2 N·m: 2²/0.213529² = 4/0.0455946 = 87.73 W
     km = motor_constant(torque_constant_from_kv(100.0), 0.2)
     assert km == pytest.approx(0.213529, rel=2e-6)
