@@ -273,7 +273,7 @@ def load_trajectory(path, joint_names, *, frames=None) -> Trajectory:
     file = str(path)
     joints = tuple(joint_names)
     if not joints or len(set(joints)) != len(joints):
-        raise InputError("<api>", "joint_names", f"must be distinct names, got {list(joints)}")
+        raise InputError("<api>", "joint_names", f"must be one or more distinct names, got {list(joints)}")
     rows = _read_rows(Path(path), file)
     if not rows:
         raise InputError(file, "header", "the file is empty")
