@@ -343,6 +343,8 @@ def test_imf_bounded_and_non_increasing(seed, nj, m, grow):
     for r in (a, b):
         assert 0.0 <= r.imf <= 1.0 and 0.0 <= r.imf_restricted <= 1.0
     assert b.imf <= a.imf * (1 + 1e-9) + 1e-15
+    if a.rank == b.rank:  # range(K) does not depend on the joint diagonal
+        assert b.imf_restricted <= a.imf_restricted * (1 + 1e-9) + 1e-15
     if a.full_rank:
         ref, _, _ = reference_imf(H, J)
         assert a.imf == pytest.approx(ref, rel=1e-8, abs=1e-10)
@@ -388,6 +390,61 @@ def test_broadcasting_designs_by_poses():
     assert res.imf.shape == (40, 3) and res.Lambda.shape == (40, 3, 3, 3)
     ref, _, _ = reference_imf(H, np.broadcast_to(J, (40, 3, 3, 9)))
     np.testing.assert_allclose(res.imf, ref, atol=1e-10)
+
+
+def test_chunked_batches_equal_one_call(monkeypatch):
+    import jointwright.metrics.linalg_small as ls
+
+    rng = np.random.default_rng(8)
+    H = random_spd(rng, 9, (30, 7))
+    J = rng.standard_normal((7, 3, 9))
+    lock = rng.random((30, 1, 3)) < 0.3
+    whole = impact_mitigation(H, J, locked=lock, direction=[1.0, 0.0, 0.0])
+    em = effective_mass(J[:, :, 6:], H[..., 6:, 6:], [0.0, 0.0, 1.0]).mass
+    monkeypatch.setattr(ls, "CHUNK", 16)  # 2 designs × 7 poses per chunk
+    parts = impact_mitigation(H, J, locked=lock, direction=[1.0, 0.0, 0.0])
+    for name in ("imf", "rank", "imf_restricted", "imf_direction", "Lambda", "Lambda_locked"):
+        np.testing.assert_array_equal(getattr(parts, name), getattr(whole, name))
+    np.testing.assert_array_equal(effective_mass(J[:, :, 6:], H[..., 6:, 6:], [0, 0, 1.0]).mass, em)
+
+
+def test_batched_lock_masks_equal_single_calls():
+    rng = np.random.default_rng(9)
+    H = random_spd(rng, 9, (8,))
+    J = rng.standard_normal((8, 3, 9))
+    lock = np.array([[a, b, c] for a in (0, 1) for b in (0, 1) for c in (0, 1)], dtype=bool)
+    res = impact_mitigation(H, J, locked=lock)
+    for i in range(8):
+        keep = [k for k in range(9) if k < 6 or not lock[i, k - 6]]
+        one = impact_mitigation(H[i][np.ix_(keep, keep)], J[i][:, keep]) if len(keep) > 6 else None
+        if one is None:  # every joint locked: nothing mitigates
+            assert res.imf[i] == 0.0 and res.rank[i] == 0
+            np.testing.assert_allclose(res.Lambda[i], res.Lambda_locked[i], rtol=1e-10)
+            continue
+        assert res.rank[i] == one.rank and res.imf[i] == pytest.approx(one.imf, abs=1e-12)
+        assert res.imf_restricted[i] == pytest.approx(one.imf_restricted, rel=1e-9)
+        np.testing.assert_allclose(res.Lambda[i], one.Lambda, rtol=1e-10)
+
+
+def test_generic_paths_for_wrench_rows_and_large_models():
+    # m = 6 (force and moment rows) takes the eigen-decomposition path; n = 20 > 16 joints
+    # takes np.linalg's Cholesky: both against the definition
+    rng = np.random.default_rng(12)
+    H = random_spd(rng, 12, (5,))
+    J = rng.standard_normal((5, 6, 12))
+    ref, lam, _ = reference_imf(H, J)
+    res = impact_mitigation(H, J)
+    assert res.full_rank.all()
+    np.testing.assert_allclose(res.imf, ref, rtol=1e-8, atol=1e-12)
+    np.testing.assert_allclose(task_space_inertia(J, H).Lambda, lam, rtol=1e-9)
+    M = random_spd(rng, 20, (4,))
+    Jl = rng.standard_normal((4, 3, 20))
+    lam_big = np.linalg.inv(Jl @ np.linalg.solve(M, np.swapaxes(Jl, -1, -2)))
+    np.testing.assert_allclose(task_space_inertia(Jl, M).Lambda, lam_big, rtol=1e-9)
+    u = np.array([0.0, 1.0, 0.0])
+    a = np.einsum("...mn,m->...n", Jl, u)
+    em_ref = 1 / np.einsum("...i,...i->...", a, np.linalg.solve(M, a[..., None])[..., 0])
+    np.testing.assert_allclose(effective_mass(Jl, M, u).mass, em_ref, rtol=1e-10)
 
 
 def test_bad_input_raises_input_error():

@@ -251,7 +251,7 @@ def require_spd(valid: np.ndarray, name: str) -> None:
         )
 
 
-def map_chunks(fn, arrays, core_ndims, out_core_ndims, chunk: int = CHUNK):
+def map_chunks(fn, arrays, core_ndims, out_core_ndims, chunk: int | None = None):
     """Apply ``fn`` to slices of the leading batch axis and concatenate the outputs.
 
     Inputs keep numpy broadcasting: only arrays that carry the full batch rank and a leading
@@ -264,8 +264,9 @@ def map_chunks(fn, arrays, core_ndims, out_core_ndims, chunk: int = CHUNK):
     arrays : sequence of arrays or None
     core_ndims : sequence of int, trailing (non-batch) dimensions of each input
     out_core_ndims : sequence of int, trailing dimensions of each output
-    chunk : int, batch items per call
+    chunk : int, batch items per call (default :data:`CHUNK`)
     """
+    chunk = CHUNK if chunk is None else chunk
     shapes = [a.shape[: a.ndim - k] for a, k in zip(arrays, core_ndims) if a is not None]
     batch = np.broadcast_shapes(*shapes)
     if len(batch) == 0 or batch[0] <= 1 or math.prod(batch) <= chunk:
