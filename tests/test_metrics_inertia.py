@@ -362,6 +362,16 @@ def test_small_inverse_and_determinant_match_numpy(seed, k):
     np.testing.assert_allclose(inv_small(a)[ok], np.linalg.inv(a[ok]), rtol=1e-8, atol=1e-10)
 
 
+def check_fixed_base_against_numpy(J, M, u):
+    """Λ and the effective mass against np.linalg solves of the definitions."""
+    lam = np.linalg.inv(J @ np.linalg.solve(M, np.swapaxes(J, -1, -2)))
+    np.testing.assert_allclose(task_space_inertia(J, M).Lambda, lam, rtol=1e-8)
+    u = np.asarray(u, dtype=float)
+    a = np.einsum("...mn,m->...n", J, u)
+    em_ref = 1 / np.einsum("...i,...i->...", a, np.linalg.solve(M, a[..., None])[..., 0])
+    np.testing.assert_allclose(effective_mass(J, M, u).mass, em_ref, rtol=1e-10)
+
+
 def test_batched_fast_paths_match_numpy():
     rng = np.random.default_rng(21)
     H = random_spd(rng, 9, (2000,))
@@ -373,13 +383,7 @@ def test_batched_fast_paths_match_numpy():
     np.testing.assert_allclose(res.imf[full], ref[full], atol=1e-10)
     np.testing.assert_allclose(res.Lambda, lam, rtol=1e-9, atol=1e-12)
     np.testing.assert_allclose(res.Lambda_locked, lam_l, rtol=1e-9, atol=1e-12)
-    m3, j3 = H[:, 6:, 6:], J[:, :, 6:]
-    lam3 = np.linalg.inv(j3 @ np.linalg.solve(m3, np.swapaxes(j3, -1, -2)))
-    np.testing.assert_allclose(task_space_inertia(j3, m3).Lambda, lam3, rtol=1e-8)
-    u = np.array([0.0, 0.6, 0.8])
-    a = np.einsum("...mn,m->...n", j3, u)
-    em_ref = 1 / np.einsum("...i,...i->...", a, np.linalg.solve(m3, a[..., None])[..., 0])
-    np.testing.assert_allclose(effective_mass(j3, m3, u).mass, em_ref, rtol=1e-10)
+    check_fixed_base_against_numpy(J[:, :, 6:], H[:, 6:, 6:], [0.0, 0.6, 0.8])
 
 
 def test_broadcasting_designs_by_poses():
@@ -437,14 +441,8 @@ def test_generic_paths_for_wrench_rows_and_large_models():
     assert res.full_rank.all()
     np.testing.assert_allclose(res.imf, ref, rtol=1e-8, atol=1e-12)
     np.testing.assert_allclose(task_space_inertia(J, H).Lambda, lam, rtol=1e-9)
-    M = random_spd(rng, 20, (4,))
-    Jl = rng.standard_normal((4, 3, 20))
-    lam_big = np.linalg.inv(Jl @ np.linalg.solve(M, np.swapaxes(Jl, -1, -2)))
-    np.testing.assert_allclose(task_space_inertia(Jl, M).Lambda, lam_big, rtol=1e-9)
-    u = np.array([0.0, 1.0, 0.0])
-    a = np.einsum("...mn,m->...n", Jl, u)
-    em_ref = 1 / np.einsum("...i,...i->...", a, np.linalg.solve(M, a[..., None])[..., 0])
-    np.testing.assert_allclose(effective_mass(Jl, M, u).mass, em_ref, rtol=1e-10)
+    check_fixed_base_against_numpy(rng.standard_normal((4, 3, 20)), random_spd(rng, 20, (4,)),
+                                   [0.0, 1.0, 0.0])
 
 
 def test_bad_input_raises_input_error():
