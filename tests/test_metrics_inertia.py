@@ -36,6 +36,12 @@ def random_spd(rng, n, batch=()):
     return x @ np.swapaxes(x, -1, -2) + n * np.eye(n)
 
 
+def random_system(seed, nv, m, batch):
+    """Seeded random SPD mass matrices (batch, nv, nv) and Jacobians (batch, m, nv)."""
+    rng = np.random.default_rng(seed)
+    return random_spd(rng, nv, batch), rng.standard_normal(batch + (m, nv)), rng
+
+
 def rigid_body_block(m, c, inertia_c):
     """Spatial inertia of one body about its frame origin, coordinates (v_origin, ω):
     KE = ½m|v − [c]×ω|² + ½ωᵀI_cω  [pub, rigid-body mechanics]."""
@@ -292,9 +298,7 @@ def test_rank_deficient_batch_paths_agree():
     # closed-form "one short" path vs the eigen-decomposition path, over a batch
     from jointwright.metrics.inertia import _spectral
 
-    rng = np.random.default_rng(5)
-    H = random_spd(rng, 8, (300,))
-    J = rng.standard_normal((300, 3, 8))
+    H, J, _ = random_system(5, 8, 3, (300,))
     res = impact_mitigation(H, J)
     jb = J[..., :6]
     a = J @ np.linalg.solve(H, np.swapaxes(J, -1, -2))
@@ -373,9 +377,7 @@ def check_fixed_base_against_numpy(J, M, u):
 
 
 def test_batched_fast_paths_match_numpy():
-    rng = np.random.default_rng(21)
-    H = random_spd(rng, 9, (2000,))
-    J = rng.standard_normal((2000, 3, 9))
+    H, J, _ = random_system(21, 9, 3, (2000,))
     ref, lam, lam_l = reference_imf(H, J)
     res = impact_mitigation(H, J)
     full = res.full_rank
@@ -433,9 +435,7 @@ def test_batched_lock_masks_equal_single_calls():
 def test_generic_paths_for_wrench_rows_and_large_models():
     # m = 6 (force and moment rows) takes the eigen-decomposition path; n = 20 > 16 joints
     # takes np.linalg's Cholesky: both against the definition
-    rng = np.random.default_rng(12)
-    H = random_spd(rng, 12, (5,))
-    J = rng.standard_normal((5, 6, 12))
+    H, J, rng = random_system(12, 12, 6, (5,))
     ref, lam, _ = reference_imf(H, J)
     res = impact_mitigation(H, J)
     assert res.full_rank.all()
