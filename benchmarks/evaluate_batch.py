@@ -52,25 +52,36 @@ def main():
 
     ev.evaluate(arrays.take(slice(0, 100)))  # warm up
 
-    def batched_run(detail):
+    duty = ev.duty
+
+    def batched_run(detail, with_duty=False):
+        ev.duty = duty if with_duty else ()
         t0 = time.perf_counter()
         for start in range(0, args.designs, args.chunk):
             ev.evaluate(arrays.take(slice(start, start + args.chunk)), detail=detail)
+        ev.duty = duty
         return time.perf_counter() - t0
 
     batched = min(batched_run(False) for _ in range(3))
     detailed = min(batched_run(True) for _ in range(2))
+    with_duty = batched_run(False, with_duty=True)
+    ev.duty = ()
     t0 = time.perf_counter()
     for i in range(args.loop):
         ev.evaluate(arrays.take(slice(i, i + 1)), detail=False)
     loop = (time.perf_counter() - t0) * args.designs / args.loop
+    ev.duty = duty
 
     rate_b = args.designs * n_cases / batched
     rate_l = args.designs * n_cases / loop
-    print(f"leg example: {args.designs} designs x {n_cases} cases ({len(rows)} options per joint)")
+    print(f"leg example: {args.designs} designs x {n_cases} static cases "
+          f"(+{len(duty)} duty cycle of {duty[0].trajectory.t.size if duty else 0} samples), "
+          f"{len(rows)} options per joint")
     print(f"{'path':<22}{'seconds':>12}{'designs*cases/s':>20}")
     print(f"{'batched (numpy)':<22}{batched:>12.3f}{rate_b:>20,.0f}")
     print(f"{'batched, all modes':<22}{detailed:>12.3f}{args.designs * n_cases / detailed:>20,.0f}")
+    print(f"{'batched + duty cycle':<22}{with_duty:>12.3f}{args.designs * (n_cases + len(duty)) / with_duty:>20,.0f}"
+          "   (duty counted as one more case)")
     print(f"{'per-design loop':<22}{loop:>12.3f}{rate_l:>20,.0f}   (timed on {args.loop}, scaled)")
     print(f"ratio batched/loop: {loop / batched:,.0f}x   target >= 100x; batched target >= 2,000,000/s")
 

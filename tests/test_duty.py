@@ -125,7 +125,10 @@ def test_motor_torque_rejects_bad_efficiencies():
     with pytest.raises(InputError, match="eta_f"):
         motor_torque([1.0], [1.0], [0.0], 10.0, 1.2, 0.5, 0.0)
     with pytest.raises(InputError, match="eta_b"):
-        motor_torque([1.0], [1.0], [0.0], 10.0, 0.8, -1.0, 0.0)
+        motor_torque([1.0], [1.0], [0.0], 10.0, 0.8, 1.2, 0.0)
+    # a strongly self-locking stage may have η_b ≤ −1 (catalog/efficiency.py): accepted
+    tau, _ = motor_torque([1.0], [-1.0], [0.0], 10.0, 0.3, -1.5, 0.0)
+    assert tau[0] == pytest.approx(-1.5 * 1.0 / 10.0)
     with pytest.raises(InputError, match="ratio"):
         motor_torque([1.0], [1.0], [0.0], 0.0, 0.8, 0.5, 0.0)
 

@@ -98,8 +98,9 @@ def evaluate_duty(pd: PreparedDuty, d, *, detail: bool = True) -> dict[str, np.n
     limiting = np.full((D, n), "", dtype=object)
     for j in range(n):
         present = np.stack([~np.isnan(getattr(d, k)[:, j]) for k in _OPTIONAL], axis=1)
-        for pattern in {tuple(row) for row in present}:
-            rows = np.all(present == np.array(pattern), axis=1)
+        patterns = [present[0]] if present.all() or (~present).all() else np.unique(present, axis=0)
+        for pattern in patterns:
+            rows = np.all(present == pattern, axis=1)
             opt = {k: (getattr(d, k)[rows, j] if has else None) for k, has in zip(_OPTIONAL, pattern)}
             s = duty_summary(
                 tau[rows, j], pd.qd[j], pd.qdd[j], pd.trajectory.t,

@@ -29,7 +29,7 @@ from .metrics.backdrive import backdrive_force
 from .metrics.inertia import effective_mass, impact_mitigation
 from .metrics.linalg_small import inv_small
 from .metrics.payload import payload_along, torque_bounds
-from .metrics.speed import endpoint_speed
+from .metrics.speed import endpoint_speed, payload_at_speed
 from .robot.basis import gravity, mass_matrix, pose_basis
 
 #: joint velocity components below this fraction of the largest count as zero (holding)
@@ -116,6 +116,8 @@ class Evaluator:
         """
         bias = self._bias(pc, d)
         cap_m, cap_b = d.capacity("motoring"), d.capacity("backdriven")
+        if pc.case.tip_speed > 0:
+            cap_m, cap_b = self._capacity_at_speed(pc, d)
         a = pc.Jj.T @ pc.u
         # velocity_sign already points the way the case moves; flip it for the opposite motion
         along = pc.velocity_sign if pc.case.motion != "against" else -pc.velocity_sign
@@ -136,6 +138,25 @@ class Evaluator:
             force = np.where(np.isfinite(main.force), main.force, 0.0)
             out["joint_torque"] = bias + force[..., None] * a
         return out
+
+    def _capacity_at_speed(self, pc: PreparedCase, d: DesignArrays):
+        """Drive and holding capacity with each motor at the speed the tip motion needs.
+
+        The envelope is taken at the winding temperature limit (hot winding: the conservative
+        end); motors without electrical data use the corner-point envelope.
+        """
+        qd = np.linalg.pinv(pc.Jj) @ pc.u * pc.case.tip_speed
+        known = ~(np.isnan(d.torque_constant) | np.isnan(d.resistance) | np.isnan(d.bus_voltage))
+        cap = payload_at_speed(
+            qd, d.ratio, eta_f=d.eta_forward, eta_b=d.eta_backward,
+            gear_rating=d.gear_peak_torque, peak_torque=d.motor_peak_torque,
+            max_speed=d.motor_max_speed, torque_constant=np.where(known, d.torque_constant, 1.0),
+            resistance=np.where(known, d.resistance, 1.0),
+            bus_voltage=np.where(known, d.bus_voltage, np.inf),
+            winding_temperature=d.winding_temperature_max,
+        )
+        hold = np.where(d.self_locking, d.gear_peak_torque, cap.backdriven)
+        return cap.forward, hold
 
     def _impact(self, pc: PreparedCase, d: DesignArrays, detail: bool = True) -> dict[str, np.ndarray]:
         out = {}

@@ -44,6 +44,9 @@ class Case:
     motion: str = "along"
     trajectory: Path | None = None
     ambient: float = 25.0
+    #: payload cases: end-point speed (m/s) during the motion; the motors' torque–speed
+    #: envelope at that speed then sets the capacity (0 = static capacity)
+    tip_speed: float = 0.0
     #: requirement name -> limit, e.g. {"payload_min": 150.0} (SI)
     limits: dict[str, float] = field(default_factory=dict)
     #: for payload cases: the force is reported as a mass too when the direction is vertical
@@ -259,6 +262,9 @@ def _load_case(t: Table, robot, base_dir: Path) -> Case:
         if not trajectory.is_file():
             raise InputError(t.file, t.field("trajectory"), f"file not found: {trajectory}")
     ambient = t.quantity("ambient", "temperature", 25.0)
+    tip_speed = t.quantity("tip_speed", "velocity", 0.0, sign="nonnegative") if kind == "payload" else 0.0
+    if tip_speed > 0 and motion == "hold":
+        raise InputError(t.file, t.field("tip_speed"), "a payload held still has no tip speed; use motion = along or against")
     limits = {}
     for key, (dim, _sense) in CASE_LIMITS[kind].items():
         if t.has(key):
@@ -272,6 +278,7 @@ def _load_case(t: Table, robot, base_dir: Path) -> Case:
     t.done()
     return Case(name=name, kind=kind, frame=frame, pose=pose, base_xyz=base_xyz, base_rpy=base_rpy,
                 direction=direction, motion=motion, trajectory=trajectory, ambient=ambient,
+                tip_speed=tip_speed,
                 limits=limits, weight_equivalent=weight)
 
 

@@ -162,13 +162,15 @@ def payload_at_speed(
 
 
 def check_efficiencies(eta_f, eta_b) -> tuple[np.ndarray, np.ndarray]:
-    """Forward and backward efficiencies as arrays: 0 < η_f ≤ 1 and −1 < η_b ≤ 1, else InputError."""
+    """Forward and backward efficiencies as arrays: 0 < η_f ≤ 1 and η_b ≤ 1, else InputError."""
     f = np.asarray(eta_f, dtype=float)
     b = np.asarray(eta_b, dtype=float)
     if np.any(~((f > 0) & (f <= 1))):
         raise InputError("<api>", "eta_f", f"must be in (0, 1], got {f[~((f > 0) & (f <= 1))].flat[0]!r}")
-    if np.any(~((b > -1) & (b <= 1))):
-        raise InputError("<api>", "eta_b", f"must be in (-1, 1], got {b[~((b > -1) & (b <= 1))].flat[0]!r}")
+    # a strongly self-locking stage (worm, lead screw) can have η_b ≤ −1: only the upper bound
+    # and finiteness are rules here
+    if np.any(~(np.isfinite(b) & (b <= 1))):
+        raise InputError("<api>", "eta_b", f"must be finite and <= 1, got {b[~(np.isfinite(b) & (b <= 1))].flat[0]!r}")
     return f, b
 
 
