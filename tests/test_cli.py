@@ -10,6 +10,8 @@ from __future__ import annotations
 
 import json
 import math
+import re
+import shutil
 from importlib import resources
 from pathlib import Path
 
@@ -92,18 +94,25 @@ def test_check_json_matches_the_loaded_project(name, folders):
         assert data["requirements"]["total_mass_max"] == project.requirements.total_mass_max
 
 
-def test_check_leg_json_reads_units():
-    # the leg project writes "3.2 kg", "150 N", "2.0 m/s" and a direction [0, 0, -1]
-    folder = Path(resources.files("jointwright.examples") / "leg")
+def test_check_json_converts_units(folders, tmp_path):
+    # quantities with units in the project file arrive in SI: conversions by hand
+    folder = tmp_path / "leg"
+    shutil.copytree(folders["leg"], folder)
+    text = (folder / "project.toml").read_text()
+    text = re.sub(r'total_mass_max = "[^"]*"', 'total_mass_max = "3200 g"', text, count=1)  # 3.2 kg
+    text = re.sub(r'speed_min = "[^"]*"', 'speed_min = "7.2 km/h"', text, count=1)  # 7.2/3.6 = 2 m/s
+    text = re.sub(r'payload_min = "[^"]*"', 'payload_min = "0.15 kN"', text, count=1)  # 150 N
+    text = re.sub(r'reflected_inertia_max = "[^"]*"', 'reflected_inertia_max = "500 kg*cm^2"', text, count=1)
+    (folder / "project.toml").write_text(text)
     data = json.loads(_run(["check", str(folder / "project.toml"), "--json"]).stdout)
-    assert data["robot"]["base"] == "floating"
-    assert data["requirements"]["total_mass_max"] == 3.2
-    cases = {c["name"]: c for c in data["cases"]}
-    assert cases["jump-push"]["limits"] == {"payload_min": 150.0}
-    assert cases["jump-push"]["direction"] == [0.0, 0.0, -1.0]
-    assert cases["swing"]["limits"] == {"speed_min": 2.0}
-    # a mass written as "1.3 kg"; an inertia written as "0.05 kg*m^2"
-    assert data["requirements"]["joints"]["knee"] == {"mass_max": 1.3, "reflected_inertia_max": 0.05}
+    assert data["requirements"]["total_mass_max"] == pytest.approx(3.2, rel=1e-12)
+    limits = [c["limits"] for c in data["cases"]]
+    assert {"speed_min": pytest.approx(2.0, rel=1e-12)} in limits
+    assert limits[0] == {"payload_min": pytest.approx(150.0, rel=1e-12)}
+    # 500 kg·cm² = 500e-4 kg·m² = 0.05 kg·m²
+    assert data["requirements"]["joints"]["knee"]["reflected_inertia_max"] == pytest.approx(0.05, rel=1e-12)
+    directions = [c["direction"] for c in data["cases"] if c["direction"] is not None]
+    assert all(math.isclose(sum(x * x for x in d), 1.0, rel_tol=1e-12) for d in directions)  # unit vectors
 
 
 def test_check_arm_payload_in_kg_is_its_weight(folders):
