@@ -1,0 +1,82 @@
+"""Assemble the design report: one self-contained HTML file plus its figures as PNG and SVG."""
+
+from __future__ import annotations
+
+from importlib.metadata import PackageNotFoundError, version
+from pathlib import Path
+
+from ..assessment import assess
+from ..design import arrays_from_designs
+from ..errors import InputError
+from ..evaluate import Evaluator
+from . import hooks, plots, sections
+from .markup import page
+
+REPORT_FILE = "report.html"
+FIGURE_DIR = "figures"
+
+
+def _version() -> str:
+    try:
+        return version("jointwright")
+    except PackageNotFoundError:  # running from a source tree
+        return "source tree"
+
+
+def build_report(project, design, out_dir, *, sizing: dict | None = None, frontier: dict | None = None,
+                 duty: list[dict] | None = None, study: dict | None = None) -> Path:
+    """Write the HTML report of one design and its figures; return the HTML file's path.
+
+    Parameters
+    ----------
+    project : Project
+    design : Design
+    out_dir : str or Path
+        Folder for ``report.html`` and ``figures/*.png|svg`` (created if missing).
+    sizing, frontier, duty, study : plain dicts, optional
+        JSON forms of a sizing result (runner-ups), a frontier, duty-cycle series and a study
+        summary; each adds its section (formats in docs/report.md).
+
+    Returns
+    -------
+    Path of the HTML file.
+    """
+    out = Path(out_dir)
+    if out.exists() and not out.is_dir():
+        raise InputError(str(out), "--out", "must be a folder, not a file")
+    fig_dir = out / FIGURE_DIR
+    fig_dir.mkdir(parents=True, exist_ok=True)
+    evaluator = Evaluator(project)
+    arrays = arrays_from_designs([design])
+    a = assess(project, design, evaluator).to_dict()
+    parts = [
+        sections.job_section(project),
+        sections.outcome_section(a, project),
+        sections.requirements_section(a),
+        sections.binding_section(a),
+        sections.joints_section(a),
+    ]
+    if sizing is not None:
+        parts.append(hooks.runner_ups_section(sizing))
+    if frontier is not None:
+        parts.append(hooks.frontier_section(frontier, fig_dir))
+    parts += [
+        plots.polytope_section(evaluator, arrays, a, fig_dir),
+        plots.ellipse_section(evaluator, arrays, fig_dir),
+        plots.ratio_section(project, evaluator, arrays, fig_dir),
+        plots.sensitivity_section(project, evaluator, arrays, fig_dir),
+    ]
+    parts += [hooks.duty_section(d, fig_dir) for d in duty or []]
+    if study is not None:
+        parts.append(hooks.study_section(study, fig_dir))
+    parts += [sections.cases_section(a), sections.cautions_section(a, project)]
+    text = page(
+        title=f"{project.name}: design report",
+        subtitle=f"Design “{design.name}” — concept-stage actuator sizing, not a certified design.",
+        sections=parts,
+        footer=f"jointwright {_version()}; project {project.file.name}. SI units throughout "
+               "(temperatures in °C). Figures are also in the figures folder as PNG and SVG.",
+    )
+    path = out / REPORT_FILE
+    path.write_text(text, encoding="utf-8")
+    return path

@@ -1,0 +1,227 @@
+"""The report's figures: the only module of the package that imports matplotlib (Agg, no pyplot).
+
+Each ``*_figure`` function takes plain numbers (from :mod:`.geometry`, :mod:`.sweeps` or a plain
+dict) and returns a matplotlib :class:`~matplotlib.figure.Figure`; :func:`save` writes it as PNG
+and SVG and returns the PNG bytes for embedding. One calm palette and one look throughout: modes
+always have the same colour and line style, joints the same colour in every figure.
+"""
+
+from __future__ import annotations
+
+import io
+import math
+import textwrap
+from pathlib import Path
+
+import numpy as np
+from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.figure import Figure
+from matplotlib.ticker import NullFormatter
+
+#: power-flow modes: colour, line style, legend label
+MODE_STYLE = {
+    "frictionless": ("#8a94a3", "--", "frictionless (η = 1)"),
+    "motoring": ("#2f7d6d", "-", "motoring (η_f)"),
+    "backdriven": ("#c0703c", "-", "back-driven (1/η_b)"),
+    "locked": ("#5a5f8f", ":", "all joints locked"),
+}
+#: joint colours, in actuated-joint order
+JOINT_COLOURS = ("#3b6ea5", "#2f7d6d", "#c0703c", "#8a5a9e", "#a8963a", "#5f6b7a", "#b55a6a")
+INK, GRID = "#2b2f36", "#d9dde3"
+WIDTH = 7.2  # in; 100 dpi PNG ≈ page width
+DPI = 110
+
+_RC = {"font.size": 9.5, "axes.titlesize": 10.5, "axes.labelsize": 9.5, "legend.fontsize": 8.5}
+
+
+def _figure(ncols: int = 1, height: float = 4.2, width: float = WIDTH):
+    fig = Figure(figsize=(width, height), dpi=DPI, layout="constrained")
+    FigureCanvasAgg(fig)
+    axes = [fig.add_subplot(1, ncols, k + 1) for k in range(ncols)]
+    for ax in axes:
+        ax.grid(True, color=GRID, linewidth=0.7)
+        ax.set_axisbelow(True)
+        for side in ("top", "right"):
+            ax.spines[side].set_visible(False)
+        for side in ("left", "bottom"):
+            ax.spines[side].set_color("#9aa1ab")
+        ax.tick_params(colors=INK, labelsize=_RC["font.size"] - 1)
+    return fig, axes
+
+
+def _title(ax, text: str, width: int = 70) -> None:
+    """Left-aligned title, wrapped to ``width`` characters (narrow panels need less)."""
+    ax.set_title(textwrap.fill(text, width), fontsize=_RC["axes.titlesize"], color=INK, loc="left")
+
+
+def _label(ax, x: str, y: str) -> None:
+    ax.set_xlabel(x, fontsize=_RC["axes.labelsize"], color=INK)
+    ax.set_ylabel(y, fontsize=_RC["axes.labelsize"], color=INK)
+
+
+def _legend(fig, axes, ncols: int = 2) -> None:
+    """One legend for the figure, below the axes, so it never hides data."""
+    handles, labels, seen = [], [], set()
+    for ax in axes:
+        for h, lab in zip(*ax.get_legend_handles_labels()):
+            if lab not in seen:
+                seen.add(lab)
+                handles.append(h)
+                labels.append(lab)
+    fig.legend(handles, labels, loc="outside lower center", ncols=ncols,
+               fontsize=_RC["legend.fontsize"], frameon=False)
+
+
+def save(fig: Figure, out_dir: Path, name: str) -> bytes:
+    """Write ``name``.png and ``name``.svg into ``out_dir``; return the PNG bytes."""
+    out_dir.mkdir(parents=True, exist_ok=True)
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", dpi=DPI, facecolor="white")
+    data = buf.getvalue()
+    (out_dir / f"{name}.png").write_bytes(data)
+    fig.savefig(out_dir / f"{name}.svg", format="svg", facecolor="white",
+                metadata={"Date": None})
+    return data
+
+
+def polytope_figure(section, axis_names: str = "xyz") -> Figure:
+    """Overlaid force-polytope sections per mode, with each case's payload marked."""
+    fig, (ax,) = _figure(height=6.2, width=6.4)
+    i, j = section.plane
+    reach = 0.0
+    for mode in ("frictionless", "backdriven", "motoring"):
+        v = section.vertices[mode]
+        colour, ls, label = MODE_STYLE[mode]
+        if v.shape[0] == 0:
+            continue
+        if section.clipped[mode]:
+            label += " — unbounded, clipped"
+        else:
+            reach = max(reach, float(np.abs(v).max()))
+        closed = np.vstack([v, v[:1]])
+        ax.fill(closed[:, 0], closed[:, 1], color=colour, alpha=0.10 if mode != "frictionless" else 0.0)
+        ax.plot(closed[:, 0], closed[:, 1], color=colour, ls=ls, lw=1.8, label=label)
+    for k, (name, point) in enumerate(section.markers):
+        ax.annotate("", xy=point, xytext=(0, 0),
+                    arrowprops=dict(arrowstyle="-|>", color=INK, lw=1.2, shrinkA=0, shrinkB=0))
+        ax.plot(*point, "o", color=INK, ms=4)
+        ax.annotate(f"{name}: {np.linalg.norm(point):.4g} N", point, textcoords="offset points",
+                    xytext=(8, -4 - 12 * (k % 2)), fontsize=8.5, color=INK,
+                    bbox=dict(boxstyle="round,pad=0.2", fc="white", ec="none", alpha=0.85))
+    ax.plot(0, 0, "+", color=INK, ms=8)
+    _square(fig, ax, 1.2 * reach, section.title, (f"tip force F_{axis_names[i]} (N)",
+                                                 f"tip force F_{axis_names[j]} (N)"), ncols=2)
+    return fig
+
+
+def _square(fig, ax, half: float, title: str, labels: tuple[str, str], ncols: int) -> None:
+    """Equal axes |x|, |y| ≤ ``half`` around the origin, labels, title and the legend below."""
+    if half > 0:
+        ax.set_xlim(-half, half)
+        ax.set_ylim(-half, half)
+    ax.set_aspect("equal", adjustable="box")
+    _label(ax, *labels)
+    _title(ax, title)
+    _legend(fig, [ax], ncols=ncols)
+
+
+def ellipse_figure(section, axis_names: str = "xyz") -> Figure:
+    """Inertia-ellipse sections per mode (and locked joints), with the case direction."""
+    fig, (ax,) = _figure(height=6.2, width=6.4)
+    i, j = section.plane
+    reach = 0.0
+    for mode in ("locked", "frictionless", "motoring", "backdriven"):
+        if mode not in section.curves:
+            continue
+        pts = section.curves[mode]
+        colour, ls, label = MODE_STYLE[mode]
+        m = section.mass_along.get(mode)
+        if m is not None:
+            label += f": {m:.4g} kg along the case direction" if math.isfinite(m) else ": ∞ kg (immovable)"
+        if section.unbounded[mode]:
+            label += " (unbounded, cut)"
+        else:
+            reach = max(reach, float(np.abs(pts).max()))
+        ax.plot(pts[:, 0], pts[:, 1], color=colour, ls=ls, lw=1.8, label=label)
+    u = section.direction
+    if np.linalg.norm(u) > 0 and reach > 0:
+        ax.annotate("", xy=1.1 * reach * u, xytext=(0, 0),
+                    arrowprops=dict(arrowstyle="-|>", color=INK, lw=1.0, shrinkA=0, shrinkB=0))
+        ax.annotate("case direction", 1.1 * reach * u, textcoords="offset points", xytext=(5, -12),
+                    fontsize=8.5, color=INK)
+    _square(fig, ax, 1.3 * reach, section.title, (f"{axis_names[i]} component (√kg)",
+                                                 f"{axis_names[j]} component (√kg)"), ncols=1)
+    return fig
+
+
+def ratio_figure(sweep, panels) -> Figure:
+    """Metric against ratio multiplier per joint; ``panels`` = [(metric key, title, y label, limit)]."""
+    fig, axes = _figure(ncols=len(panels), height=4.6)
+    for ax, (key, title, ylabel, limit) in zip(axes, panels):
+        values = sweep.values[key]
+        for k, joint in enumerate(sweep.joints):
+            ax.plot(sweep.factors, values[k], color=JOINT_COLOURS[k % len(JOINT_COLOURS)], lw=1.6,
+                    label=f"{joint} (design N = {sweep.design_ratio[k]:.4g})")
+        ax.axvline(1.0, color="#9aa1ab", lw=0.9, ls="--")
+        if limit is not None:
+            ax.axhline(limit, color="#b0413e", lw=1.0, ls=":", label=f"requirement {limit:.4g}")
+        ax.set_xscale("log")
+        ax.set_xticks([0.25, 0.5, 1, 2, 4], labels=["¼", "½", "1", "2", "4"])
+        ax.xaxis.set_minor_formatter(NullFormatter())
+        _label(ax, "ratio ÷ design ratio (log scale, 1)", ylabel)
+        _title(ax, title, 70 // len(panels))
+    _legend(fig, axes, ncols=3)
+    return fig
+
+
+def sensitivity_figure(sens, panels) -> Figure:
+    """Tornado bars: change of each metric, % of its design value, per efficiency moved ±step."""
+    fig, axes = _figure(ncols=len(panels), height=0.9 + 0.32 * 2 * len(sens.joints))
+    labels = [f"{j} {f}" for j in sens.joints for f in ("η_f", "η_b")]
+    y = np.arange(len(labels))[::-1]
+    pts = round(100 * sens.step)
+    for ax, (key, title) in zip(axes, panels):
+        base = sens.base[key]
+        v = sens.values[key].reshape(-1, 2)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            rel = 100.0 * (v - base) / abs(base) if base != 0 else np.zeros_like(v)
+        rel = np.where(np.isfinite(rel), rel, 0.0)
+        ax.barh(y + 0.18, rel[:, 0], height=0.34, color="#8a94a3", label=f"−{pts} points")
+        ax.barh(y - 0.18, rel[:, 1], height=0.34, color="#3b6ea5", label=f"+{pts} points")
+        ax.axvline(0.0, color=INK, lw=0.8)
+        ax.set_yticks(y, labels=labels if ax is axes[0] else [""] * len(labels))
+        if not np.any(np.abs(rel) > 1e-9):
+            ax.text(0.5, 0.5, f"no change at ±{pts} points", transform=ax.transAxes, ha="center",
+                    va="center", color=INK, fontsize=9, bbox=dict(fc="white", ec=GRID))
+        _label(ax, "change from the design value (%)", "")
+        _title(ax, title, 55 // len(panels))
+    _legend(fig, axes, ncols=2)
+    return fig
+
+
+def points_figure(points, chosen=None, *, x_label: str, y_label: str, title: str,
+                  label: str = "non-dominated designs") -> Figure:
+    """Points (x, y) joined in order of x (a frontier, a study series), ``chosen`` ringed."""
+    fig, (ax,) = _figure(height=4.2)
+    pts = np.asarray(points, dtype=float).reshape(-1, 2)
+    order = np.argsort(pts[:, 0], kind="stable")
+    ax.plot(pts[order, 0], pts[order, 1], "o-", color="#3b6ea5", lw=1.4, ms=4.5, label=label)
+    if chosen is not None:
+        ax.plot(*chosen, "o", ms=11, mfc="none", mec="#c0703c", mew=2.0, label="chosen design")
+    _label(ax, x_label, y_label)
+    _title(ax, title)
+    _legend(fig, [ax], ncols=3)
+    return fig
+
+
+def series_figure(time, series, limits, *, y_label: str, title: str) -> Figure:
+    """Time series per joint (duty cycles): ``series`` = {joint: values}, ``limits`` = {label: value}."""
+    fig, (ax,) = _figure(height=3.8)
+    for k, (joint, values) in enumerate(series.items()):
+        ax.plot(time, values, color=JOINT_COLOURS[k % len(JOINT_COLOURS)], lw=1.4, label=joint)
+    for label, value in limits.items():
+        ax.axhline(value, color="#b0413e", lw=1.0, ls=":", label=label)
+    _label(ax, "time (s)", y_label)
+    _title(ax, title)
+    _legend(fig, [ax], ncols=3)
+    return fig

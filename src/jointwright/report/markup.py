@@ -1,0 +1,158 @@
+"""HTML building blocks of the report: numbers with units, tables, figures, sections, the page.
+
+The page is one self-contained file: the style sheet is inline, figures are base64 PNG, and
+nothing is fetched from the network. Every number is written with its unit; an infinite value
+(a self-locking holding capacity) is written ∞, never NaN.
+"""
+
+from __future__ import annotations
+
+import base64
+import html
+import math
+from dataclasses import dataclass
+
+#: unit spellings of the input files -> as shown
+_UNIT_TEXT = {"kg*m^2": "kg·m²", "N*m": "N·m", "-": "", "1": ""}
+
+
+def esc(text) -> str:
+    return html.escape(str(text), quote=True)
+
+
+def unit_text(unit: str) -> str:
+    return _UNIT_TEXT.get(unit, unit)
+
+
+def number(value, digits: int = 4) -> str:
+    """``value`` with ``digits`` significant digits; ∞ for infinities, — for missing."""
+    if value is None:
+        return "—"
+    if isinstance(value, str):
+        value = {"inf": math.inf, "-inf": -math.inf}.get(value, value)
+        if isinstance(value, str):
+            return value
+    v = float(value)
+    if math.isnan(v):
+        return "—"
+    if math.isinf(v):
+        return "∞" if v > 0 else "−∞"
+    return f"{v:.{digits}g}".replace("-", "−")
+
+
+def fmt(value, unit: str = "", digits: int = 4) -> str:
+    """A number and its unit, e.g. ``235.5 N``; dimensionless quantities have no suffix."""
+    text = number(value, digits)
+    u = unit_text(unit)
+    return f"{text} {u}" if u and text != "—" else text
+
+
+def pct(margin) -> str:
+    """A relative margin as a signed percentage."""
+    if margin is None:
+        return "—"
+    m = float(margin)
+    if math.isinf(m):
+        return "+∞ %" if m > 0 else "−∞ %"
+    return f"{100 * m:+.1f} %".replace("-", "−")
+
+
+@dataclass(frozen=True)
+class Cell:
+    """A table cell with optional CSS class and data attributes (for tests and scripts)."""
+
+    text: str
+    cls: str = ""
+    data: tuple = ()  # ((name, value), ...)
+
+    def render(self, tag: str = "td") -> str:
+        attrs = f' class="{esc(self.cls)}"' if self.cls else ""
+        attrs += "".join(f' data-{esc(k)}="{esc(v)}"' for k, v in self.data)
+        return f"<{tag}{attrs}>{esc(self.text)}</{tag}>"
+
+
+def table(headers: list[str], rows: list[list], *, caption: str = "", cls: str = "") -> str:
+    """A table; cells are strings or :class:`Cell`; numeric-looking columns align right."""
+    head = "".join(f"<th>{esc(h)}</th>" for h in headers)
+    body = []
+    for row in rows:
+        cells = [c if isinstance(c, Cell) else Cell(str(c)) for c in row]
+        body.append("<tr>" + "".join(c.render() for c in cells) + "</tr>")
+    cap = f"<caption>{esc(caption)}</caption>" if caption else ""
+    klass = f' class="{esc(cls)}"' if cls else ""
+    return (f"<div class=\"scroll\"><table{klass}>{cap}<thead><tr>{head}</tr></thead>"
+            f"<tbody>{''.join(body)}</tbody></table></div>")
+
+
+def figure(png: bytes, name: str, alt: str, caption: str) -> str:
+    """An embedded PNG figure with its caption; ``name`` links the PNG/SVG files beside it."""
+    data = base64.b64encode(png).decode("ascii")
+    return (f'<figure id="fig-{esc(name)}"><img alt="{esc(alt)}" src="data:image/png;base64,{data}">'
+            f"<figcaption>{esc(caption)} <span class=\"files\">(files: figures/{esc(name)}.png, "
+            f"figures/{esc(name)}.svg)</span></figcaption></figure>")
+
+
+def paragraph(text: str, cls: str = "") -> str:
+    klass = f' class="{esc(cls)}"' if cls else ""
+    return f"<p{klass}>{esc(text)}</p>"
+
+
+def bullets(items: list[str], cls: str = "") -> str:
+    klass = f' class="{esc(cls)}"' if cls else ""
+    return f"<ul{klass}>" + "".join(f"<li>{esc(i)}</li>" for i in items) + "</ul>"
+
+
+@dataclass(frozen=True)
+class Section:
+    """One numbered part of the report: an anchor, a heading and its HTML body."""
+
+    anchor: str
+    title: str
+    body: str
+
+
+_STYLE = """
+:root { --ink:#2b2f36; --muted:#5f6b7a; --line:#d9dde3; --band:#f3f5f7; --ok:#2f7d6d;
+        --bad:#b0413e; --warn:#8a6d1f; --accent:#3b6ea5; }
+* { box-sizing: border-box; }
+body { margin: 0; color: var(--ink); background: #fff;
+       font: 15px/1.5 "DejaVu Sans", "Segoe UI", Helvetica, Arial, sans-serif; }
+main { max-width: 960px; margin: 0 auto; padding: 24px 28px 60px; }
+header { border-bottom: 3px solid var(--accent); margin-bottom: 18px; padding-bottom: 8px; }
+h1 { font-size: 1.6em; margin: 0 0 4px; }
+h2 { font-size: 1.22em; margin: 34px 0 8px; padding-bottom: 3px; border-bottom: 1px solid var(--line); }
+h3 { font-size: 1.04em; margin: 20px 0 6px; }
+.sub { color: var(--muted); margin: 0; }
+nav ol { columns: 2; margin: 8px 0 0; padding-left: 20px; color: var(--muted); }
+nav a { color: var(--accent); text-decoration: none; }
+.scroll { overflow-x: auto; }
+table { border-collapse: collapse; margin: 8px 0 14px; font-size: 0.88em; min-width: 50%; }
+caption { caption-side: bottom; text-align: left; color: var(--muted); font-size: 0.92em; padding-top: 4px; }
+th, td { border-bottom: 1px solid var(--line); padding: 4px 9px; text-align: left; vertical-align: top; }
+th { background: var(--band); font-weight: 600; }
+td.num { text-align: right; white-space: nowrap; font-variant-numeric: tabular-nums; }
+td.ok { color: var(--ok); font-weight: 600; }
+td.bad { color: var(--bad); font-weight: 600; }
+.verdict { padding: 10px 14px; border-left: 5px solid var(--ok); background: var(--band); }
+.verdict.bad { border-left-color: var(--bad); }
+.caution { padding: 10px 14px; border-left: 5px solid var(--warn); background: #faf6ea; }
+figure { margin: 14px 0 22px; }
+figure img { max-width: 100%; height: auto; border: 1px solid var(--line); }
+figcaption { color: var(--muted); font-size: 0.9em; margin-top: 4px; }
+.files { font-size: 0.9em; }
+footer { margin-top: 40px; color: var(--muted); font-size: 0.85em; border-top: 1px solid var(--line); padding-top: 8px; }
+"""
+
+
+def page(title: str, subtitle: str, sections: list[Section], footer: str) -> str:
+    """The whole HTML document."""
+    nav = "".join(f'<li><a href="#{esc(s.anchor)}">{esc(s.title)}</a></li>' for s in sections)
+    body = "".join(f'<section id="{esc(s.anchor)}"><h2>{k}. {esc(s.title)}</h2>{s.body}</section>'
+                   for k, s in enumerate(sections, start=1))
+    return (
+        "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
+        "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">"
+        f"<title>{esc(title)}</title><style>{_STYLE}</style></head><body><main>"
+        f"<header><h1>{esc(title)}</h1><p class=\"sub\">{esc(subtitle)}</p>"
+        f"<nav><ol>{nav}</ol></nav></header>{body}<footer>{esc(footer)}</footer></main></body></html>\n"
+    )

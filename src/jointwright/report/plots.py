@@ -1,0 +1,147 @@
+"""Figure sections of a design report: polytopes, ellipses, ratio trade and efficiency sensitivity.
+
+Each function computes its numbers (:mod:`.geometry`, :mod:`.sweeps`), draws them
+(:mod:`.figures`), writes the PNG and SVG files into the figures folder and returns a
+:class:`~.markup.Section` with the figure embedded and a reading guide.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+
+from . import figures
+from .geometry import ellipse_sections, plane_label, polytope_sections
+from .markup import Cell, Section, figure, fmt, paragraph, table
+from .sweeps import efficiency_sensitivity, impact_metric, ratio_sweep
+
+
+MODE_WORDS = {"frictionless": "frictionless", "motoring": "motoring", "backdriven": "back-driven",
+              "locked": "all joints locked"}
+
+
+def panel_title(short: str, case: str) -> str:
+    """E.g. "Back-driven IMF, touchdown"."""
+    return f"Back-driven {short}, {case}"
+
+
+def polytope_section(evaluator, arrays, a: dict, fig_dir: Path) -> Section:
+    payload = {c["name"]: float(c["metrics"]["payload"]) for c in a["cases"]
+               if c["kind"] == "payload" and isinstance(c["metrics"].get("payload"), (int, float))}
+    parts = [paragraph(
+        "Each outline is the set of tip forces the joints can exert at once at this pose, gravity "
+        "of the robot included, when every joint has the capacity of one transmission mode: "
+        "frictionless (N·τ_peak), all motoring (η_f·N·τ_peak) or all back-driven holding "
+        "(N·τ_peak/η_b). A real motion mixes modes joint by joint; the dots are the payloads of the "
+        "cases at this pose, computed with their own modes. The plot is the section of the 3-D "
+        "polytope by the plane of two world axes through zero force (not a projection).")]
+    for k, s in enumerate(polytope_sections(evaluator, arrays, payload)):
+        name = f"polytope-{k + 1}"
+        png = figures.save(figures.polytope_figure(s), fig_dir, name)
+        notes = [MODE_WORDS[m] for m, c in s.clipped.items() if c]
+        cap = (f"Force polytope sections in the {plane_label(s.plane)} plane through F = 0 at the pose "
+               f"of {', '.join(s.cases)}; forces in N.")
+        if notes:
+            cap += (f" Unbounded in {', '.join(notes)} mode (a self-locking joint or a direction no "
+                    "joint limits): drawn clipped.")
+        if _coincide(s.vertices):
+            cap += (" The outlines coincide: every bounding joint sits at its gear's rated peak "
+                    "torque, which caps all three modes alike.")
+        parts.append(figure(png, name, s.title, cap))
+    return Section("polytopes", "Force capability polytopes", "".join(parts))
+
+
+def _coincide(vertices: dict) -> bool:
+    """True when the three modes' polytopes have the same vertices (to 1e-9 relative)."""
+    shapes = [np.round(np.asarray(v), 9) for v in vertices.values()]
+    if any(v.shape != shapes[0].shape for v in shapes) or shapes[0].size == 0:
+        return False
+    ref = sorted(map(tuple, shapes[0]))
+    scale = float(np.abs(shapes[0]).max()) or 1.0
+    return all(np.allclose(sorted(map(tuple, v)), ref, rtol=0, atol=1e-9 * scale) for v in shapes[1:])
+
+
+def ellipse_section(evaluator, arrays, fig_dir: Path) -> Section:
+    parts = [paragraph(
+        "The inertia felt at the contact: the distance from the centre to a curve along a direction "
+        "is the square root of the effective mass along it, so a larger curve means a harder hit. "
+        "Back-driven is what an impact feels (the link drives the motors through N²·I_r/η_b; "
+        "self-locking joints count as locked). For a floating base the dotted curve is the "
+        "inertia with every joint locked; the impact mitigation factor measures how far the "
+        "back-driven curve stays inside it.")]
+    for k, s in enumerate(ellipse_sections(evaluator, arrays)):
+        name = f"inertia-{k + 1}"
+        png = figures.save(figures.ellipse_figure(s), fig_dir, name)
+        cap = (f"Inertia ellipse sections in the {plane_label(s.plane)} plane through the contact "
+               f"point, case {s.case}; axes in √kg. Effective mass along the case direction: "
+               + "; ".join(f"{MODE_WORDS[m]} {fmt(v, 'kg')}" for m, v in s.mass_along.items()) + ".")
+        parts.append(figure(png, name, s.title, cap))
+    return Section("ellipses", "Inertia ellipses", "".join(parts))
+
+
+def ratio_section(project, evaluator, arrays, fig_dir: Path) -> Section:
+    sweep = ratio_sweep(project, evaluator, arrays)
+    metrics = impact_metric(project, evaluator)
+    panels = []
+    if "payload" in sweep.values:
+        panels.append(("payload", "Smallest payload", "payload over the payload cases (N)", None))
+    for case, (key, short, unit) in metrics.items():
+        limit = project.case(case).limits.get("imf_min" if key == "imf" else "effective_mass_max")
+        panels.append((case, panel_title(short, case), f"back-driven {short} ({unit or 'dimensionless'})", limit))
+    if not panels:
+        return Section("ratio", "Gear ratio trade", paragraph("The project has no payload or impact case."))
+    parts = [paragraph(
+        "One joint's total ratio is scaled from ¼ to 4 times the design value while every other "
+        "joint keeps its design; each curve is re-evaluated with the same physics as the "
+        "assessment. A higher ratio raises a joint's drive torque until the gear rating caps it, "
+        "and raises its reflected inertia N²·I_r, which lowers the impact mitigation factor (or "
+        "raises the back-driven effective mass for a fixed base).")]
+    fig = figures.ratio_figure(sweep, panels)
+    png = figures.save(fig, fig_dir, "ratio-trade")
+    parts.append(figure(png, "ratio-trade", "metrics against gear ratio per joint",
+                        "Payload and impact metrics against each joint's ratio (others held). The "
+                        "dashed vertical line is the design; dotted horizontal lines are requirements. "
+                        "Stage masses, inertias, ratings and efficiencies are held at the design values."))
+    return Section("ratio", "Gear ratio trade", "".join(parts))
+
+
+def sensitivity_section(project, evaluator, arrays, fig_dir: Path) -> Section:
+    sens = efficiency_sensitivity(project, evaluator, arrays)
+    metrics = impact_metric(project, evaluator)
+    keys = [k for k in ["payload", *metrics] if k in sens.base]
+    titles = {"payload": "Smallest payload"}
+    titles.update({c: panel_title(short, c) for c, (_k, short, _u) in metrics.items()})
+    units = {"payload": "N"}
+    units.update({c: u for c, (_k, _l, u) in metrics.items()})
+    pts = round(100 * sens.step)
+    parts = [paragraph(
+        f"Catalog efficiencies are assumptions. Each joint's forward (η_f) and backward (η_b) "
+        f"efficiency is moved by ±{pts} percentage points in turn (η_f kept in (0, 1], η_b at most 1; "
+        "η_b ≤ 0 makes the joint self-locking) and the design re-evaluated. Forward efficiency "
+        "moves the drive torque and the motoring inertia; backward efficiency moves the holding "
+        "torque and the back-driven inertia that impacts feel.")]
+    if keys:
+        fig = figures.sensitivity_figure(sens, [(k, titles[k]) for k in keys])
+        png = figures.save(fig, fig_dir, "efficiency-sensitivity")
+        parts.append(figure(png, "efficiency-sensitivity", "sensitivity to efficiency assumptions",
+                            f"Change of each metric, in % of its design value, when one efficiency "
+                            f"moves by −{pts} (grey) or +{pts} (blue) percentage points."))
+    rows = []
+    for j, joint in enumerate(sens.joints):
+        for f, fname in enumerate(("η_f", "η_b")):
+            row = [joint, fname]
+            for k in keys:
+                for s in range(2):
+                    v = sens.values[k][j, f, s]
+                    row.append(Cell(fmt(v, units[k]), "num"))
+            flags = [f"{sign}{pts} limited by a bound" for s, sign in enumerate("−+") if sens.clipped[j, f, s]]
+            if sens.locking_changed[j, f].any():
+                flags.append("self-locking changes")
+            row.append(", ".join(flags))
+            rows.append(row)
+    headers = ["joint", "efficiency"] + [f"{titles[k]} {sign}{pts}" for k in keys for sign in ("−", "+")] + ["note"]
+    base = "; ".join(f"{titles[k]} {fmt(sens.base[k], units[k])}" for k in keys)
+    parts.append(table(headers, rows, caption=f"Design values: {base}."))
+    return Section("sensitivity", "Sensitivity to efficiency assumptions", "".join(parts))
+

@@ -1,0 +1,271 @@
+"""Text and tables of a design report, from the assessment's plain-dict (JSON) form.
+
+Every function here takes ``a = Assessment.to_dict()`` (infinities as the strings "inf"), so a
+report can be rebuilt from saved ``jointwright assess --json`` output as well.
+"""
+
+from __future__ import annotations
+
+import math
+
+from .markup import Cell, Section, bullets, esc, fmt, number, paragraph, pct, table
+
+G0 = 9.80665  # m/s², standard gravity (ISO 80000-3), for weight-equivalent payloads
+
+#: case metrics shown per kind: (key, label, unit)
+CASE_METRICS = {
+    "payload": (("payload", "payload along the direction, case motion", "N"),
+                ("payload_raise", "… tip moving along the force", "N"),
+                ("payload_lower", "… tip yielding to the force", "N"),
+                ("payload_hold", "… holding still", "N"),
+                ("payload_frictionless", "… frictionless gears (reference)", "N")),
+    "impact": (("imf", "impact mitigation factor, back-driven (dimensionless)", ""),
+               ("imf_restricted", "IMF over the directions the limb can move (dimensionless)", ""),
+               ("imf_direction", "directional IMF along the direction (dimensionless)", ""),
+               ("imf_frictionless", "IMF, frictionless gears (dimensionless)", ""),
+               ("effective_mass", "effective mass, back-driven", "kg"),
+               ("effective_mass_motoring", "effective mass, motoring", "kg"),
+               ("effective_mass_frictionless", "effective mass, frictionless", "kg")),
+    "backdrive": (("backdrive_force", "tip force that starts the unpowered robot moving", "N"),),
+    "speed": (("speed", "end-point speed along the direction", "m/s"),),
+}
+
+
+def _f(x) -> float:
+    return float({"inf": math.inf, "-inf": -math.inf}.get(x, x)) if x is not None else math.nan
+
+
+def job_section(project) -> Section:
+    """Who the robot is for and what it must do: summary, cases and budgets."""
+    rows = []
+    for c in project.cases:
+        limits = ", ".join(f"{k.replace('_', ' ')} {fmt(v, _limit_unit(k))}" for k, v in c.limits.items())
+        direction = "—" if c.direction is None else "(" + ", ".join(number(x, 3) for x in c.direction) + ")"
+        rows.append([c.name, c.kind, c.frame or "—", direction,
+                     c.motion if c.kind == "payload" else "—", limits or "none"])
+    req = project.requirements
+    budgets = []
+    if math.isfinite(req.total_mass_max):
+        budgets.append(f"total actuator mass at most {fmt(req.total_mass_max, 'kg')}")
+    for j, lim in req.joints.items():
+        for key, unit in (("mass_max", "kg"), ("reflected_inertia_max", "kg·m²"), ("diameter_max", "m"),
+                          ("length_max", "m"), ("ratio_max", "")):
+            v = getattr(lim, key)
+            if math.isfinite(v):
+                budgets.append(f"{j}: {key.replace('_', ' ')} {fmt(v, unit)}")
+        if lim.ratio_min > 0:
+            budgets.append(f"{j}: ratio min {fmt(lim.ratio_min)}")
+    base = "floating base (free-flying trunk)" if project.robot.base == "floating" else "fixed base"
+    body = (paragraph(project.summary.replace("\n", " ").strip() or "(no summary in the project file)")
+            + paragraph(f"Robot: {len(project.robot.actuated)} actuated joints "
+                        f"({', '.join(project.robot.actuated)}), {base}. Project file: {project.file.name}.")
+            + "<h3>Operating cases and their requirements</h3>"
+            + table(["case", "kind", "tip frame", "direction (world)", "motion", "requirements"], rows,
+                    caption="Directions are unit vectors in world axes; a payload is the force the tip "
+                            "exerts on its surroundings along the direction.")
+            + "<h3>Budgets</h3>" + bullets(budgets or ["no mass or size budgets set"]))
+    return Section("job", "The job and its requirements", body)
+
+
+def _limit_unit(key: str) -> str:
+    return {"payload_min": "N", "effective_mass_max": "kg", "backdrive_force_max": "N",
+            "speed_min": "m/s", "temperature_margin_min": "°C", "rating_use_max": ""}.get(key, "")
+
+
+def _check_label(c: dict) -> str:
+    return f"{c['subject']}: {c['requirement'].replace('_', ' ')}"
+
+
+def _limiting_reason(a: dict, case: dict) -> str:
+    """Why the limiting joint of a payload case stops: its motor or its gear rating."""
+    j = next((x for x in a["joints"] if x["joint"] == case["limiting_joint"]), None)
+    if j is None:
+        return ""
+    mode = (case.get("joint_modes") or {}).get(j["joint"], "motoring")
+    cap = _f(j["capacity_motoring"] if mode == "motoring" else j["capacity_backdriven"])
+    gear = _f(j["gear_peak_torque"])
+    if math.isfinite(gear) and math.isclose(cap, gear, rel_tol=1e-9):
+        return (f"it is {mode} and at its gear's rated peak torque ({fmt(gear, 'N·m')}): a larger "
+                "gear frame raises the payload, a larger motor or ratio does not")
+    return (f"it is {mode} and at its motor's peak torque through the gear ({fmt(cap, 'N·m')}): "
+            "a larger motor or a higher ratio raises the payload")
+
+
+def outcome_section(a: dict, project) -> Section:
+    """The outcome in plain words: missed requirements, what limits payload, self-locking joints."""
+    checks = a["checks"]
+    missed = [c for c in checks if not c["ok"]]
+    words = []
+    if not missed:
+        words.append(f"The design “{a['design']}” meets all {len(checks)} requirements.")
+    else:
+        items = "; ".join(f"{_check_label(c)} {fmt(c['achieved'], c['unit'])} against "
+                          f"{fmt(c['limit'], c['unit'])} ({pct(c['margin'])})" for c in missed)
+        words.append(f"The design “{a['design']}” misses {len(missed)} of {len(checks)} requirements: {items}.")
+    payload = [c for c in a["cases"] if c["kind"] == "payload" and c["metrics"].get("payload") is not None]
+    if payload:
+        worst = min(payload, key=lambda c: _f(c["metrics"]["payload"]))
+        value = _f(worst["metrics"]["payload"])
+        kg = ""
+        if project.case(worst["name"]).weight_equivalent and math.isfinite(value):
+            kg = f" (the weight of {fmt(value / G0, 'kg')} at standard gravity)"
+        text = f"The smallest payload is {fmt(value, 'N')}{kg}, in case {worst['name']}"
+        if worst["limiting_joint"]:
+            text += f", limited by joint {worst['limiting_joint']}: {_limiting_reason(a, worst)}"
+        words.append(text + ".")
+    locking = [j for j in a["joints"] if j["self_locking"]]
+    if locking:
+        words.append("Self-locking joints: " + ", ".join(
+            f"{j['joint']} (backward efficiency {number(j['eta_backward'], 3)})" for j in locking)
+            + ". They hold their load unpowered and cannot be pushed back by a person or an obstacle.")
+    else:
+        words.append("No joint is self-locking: every transmission can be back-driven by its load.")
+    words.append(f"Actuator mass {fmt(a['total_mass'], 'kg')} in total.")
+    cls = "verdict" if not missed else "verdict bad"
+    return Section("outcome", "Outcome", f'<div class="{cls}">' + "".join(paragraph(w) for w in words) + "</div>")
+
+
+def requirements_section(a: dict) -> Section:
+    """Every requirement, achieved value, limit and relative margin."""
+    rows = []
+    for c in a["checks"]:
+        key = f"{c['subject']}:{c['requirement']}"
+        rows.append([
+            c["subject"], c["requirement"].replace("_", " "),
+            Cell(fmt(c["achieved"], c["unit"]), "num", (("check", key), ("field", "achieved"))),
+            Cell(fmt(c["limit"], c["unit"]), "num", (("check", key), ("field", "limit"))),
+            Cell(pct(c["margin"]), "num", (("check", key), ("field", "margin"))),
+            Cell("met" if c["ok"] else "MISSED", "ok" if c["ok"] else "bad"),
+        ])
+    body = table(["subject", "requirement", "achieved", "limit", "margin", "status"], rows,
+                 caption="Margin = (achieved − limit)/|limit| for a minimum, (limit − achieved)/|limit| "
+                         "for a maximum; a requirement is met when its margin is ≥ 0. IMF values are "
+                         "dimensionless.")
+    return Section("requirements", "Requirements versus achieved", body)
+
+
+def binding_section(a: dict, count: int = 3) -> Section:
+    """The requirements with the smallest margins and the joint that sets each."""
+    order = sorted(a["checks"], key=lambda c: _f(c["margin"]))[:count]
+    cases = {c["name"]: c for c in a["cases"]}
+    rows = []
+    for c in order:
+        case = cases.get(c["subject"])
+        by = case["limiting_joint"] if case and case.get("limiting_joint") else (
+            c["subject"] if c["subject"] in [j["joint"] for j in a["joints"]] else "—")
+        rows.append([_check_label(c), Cell(pct(c["margin"]), "num"), by])
+    body = (paragraph("These requirements are closest to their limits (or furthest past them): any "
+                      "change of the design or the assumptions moves them first.")
+            + table(["requirement", "margin", "set by joint"], rows))
+    return Section("binding", "Binding constraints", body)
+
+
+def joints_section(a: dict) -> Section:
+    """Per joint: drivetrain, efficiencies, capacities, reflected inertia, mass, speed."""
+    drive, inertia = [], []
+    for j in a["joints"]:
+        lock = " (self-locking)" if j["self_locking"] else ""
+        drive.append([j["joint"], j["motor"], " + ".join(j["stages"]) or "direct drive",
+                      Cell(f"{number(j['ratio'])} : 1", "num"),
+                      Cell(number(j["eta_forward"], 3), "num"), Cell(number(j["eta_backward"], 3) + lock, "num"),
+                      Cell(fmt(j["capacity_motoring"], "N·m"), "num", (("joint", j["joint"]), ("field", "drive"))),
+                      Cell(fmt(j["capacity_backdriven"], "N·m"), "num", (("joint", j["joint"]), ("field", "holding"))),
+                      Cell(fmt(j["gear_peak_torque"], "N·m"), "num")])
+        inertia.append([j["joint"], Cell(fmt(j["rotor_inertia"], "kg·m²"), "num"),
+                        Cell(fmt(j["reflected_frictionless"], "kg·m²"), "num"),
+                        Cell(fmt(j["reflected_motoring"], "kg·m²"), "num"),
+                        Cell(fmt(j["reflected_backdriven"], "kg·m²"), "num"),
+                        Cell(fmt(j["mass"], "kg"), "num", (("joint", j["joint"]), ("field", "mass"))),
+                        Cell(fmt(j["max_joint_speed"], "rad/s"), "num"),
+                        Cell(fmt(j["breakaway_torque"], "N·m"), "num")])
+    total = [Cell("total", "num"), "", "", "", "", Cell(fmt(a["total_mass"], "kg"), "num", (("field", "total_mass"),)), "", ""]
+    body = (table(["joint", "motor", "stages", "ratio", "η forward", "η backward", "drive torque",
+                   "holding torque", "gear rated peak"], drive,
+                  caption="Drive torque = η_f·N·τ_peak (motoring); holding torque = N·τ_peak/η_b while "
+                          "the load back-drives the joint (∞ when self-locking); both capped by the gear's "
+                          "rated peak torque. Efficiencies are dimensionless.")
+            + table(["joint", "rotor-side inertia I_r", "reflected N²·I_r", "motoring η_f·N²·I_r",
+                     "back-driven N²·I_r/η_b", "mass", "max joint speed", "breakaway torque"],
+                    inertia + [total],
+                    caption="Reflected inertia as seen from the link side; the back-driven value is "
+                            "what an impact feels. Breakaway torque: joint-side torque that starts "
+                            "the unpowered actuator moving."))
+    return Section("joints", "Per-joint choices", body)
+
+
+#: duty-cycle quantities per joint: (key, column, unit)
+DUTY_COLUMNS = (("rms_torque", "RMS motor torque", "N·m"), ("peak_torque", "peak motor torque", "N·m"),
+                ("peak_speed", "peak motor speed", "rad/s"), ("peak_temperature", "peak winding temp.", "°C"),
+                ("rms_ratio", "RMS ÷ continuous rating", ""), ("peak_ratio", "peak ÷ peak rating", ""),
+                ("thermal_ratio", "temperature rise ÷ allowed", ""),
+                ("energy_regen", "electrical energy per cycle", "J"), ("backdriven_share", "time back-driven", "%"))
+
+
+def _duty_table(c: dict, joints: list[str]) -> str:
+    m = c["metrics"]
+    rows = []
+    for j in joints:
+        row = [j]
+        for key, _col, unit in DUTY_COLUMNS:
+            v = m.get(f"{key}:{j}")
+            if unit == "%" and isinstance(v, (int, float)):
+                v = 100.0 * v
+            row.append(Cell(fmt(v, unit), "num", (("case", c["name"]), ("metric", f"{key}:{j}"))))
+        rows.append(row)
+    use = m.get("rating_use")
+    cap = (f"Largest rating use {fmt(use)} (dimensionless; ≤ 1 passes), set by "
+           f"{c.get('limiting_joint') or '—'} through {str(m.get('limiting_quantity', '—')).replace('_', ' ')}.")
+    return table(["joint"] + [col for _k, col, _u in DUTY_COLUMNS], rows, caption=cap)
+
+
+def cases_section(a: dict) -> Section:
+    """Every metric of every case, with the limiting joint and the power-flow mode per joint."""
+    parts = []
+    for c in a["cases"]:
+        rows = [[label, Cell(fmt(c["metrics"][k], unit), "num", (("case", c["name"]), ("metric", k)))]
+                for k, label, unit in CASE_METRICS.get(c["kind"], ()) if c["metrics"].get(k) is not None]
+        notes = []
+        if c.get("limiting_joint"):
+            notes.append(f"limited by {c['limiting_joint']}")
+        if c.get("joint_modes"):
+            notes.append("modes: " + ", ".join(f"{j} {m}" for j, m in c["joint_modes"].items()))
+        if c["kind"] == "impact" and c["metrics"].get("contact_rank", 3) < 3:
+            notes.append("the joints cannot move the contact in every direction, so the determinant "
+                         "IMF is 0; read the restricted or directional IMF")
+        head = f"<h3>{esc(c['name'])} ({esc(c['kind'])})</h3>"
+        if c["kind"] == "duty":
+            parts.append(head + _duty_table(c, [j["joint"] for j in a["joints"]]))
+            continue
+        parts.append(head + table(["metric", "value"], rows, caption="; ".join(notes)))
+    return Section("cases", "Every case", "".join(parts))
+
+
+def cautions_section(a: dict, project) -> Section:
+    """Assumptions, the model's limits and the safety cautions."""
+    assumptions = [
+        "Rigid links and rigid transmissions; joint friction only as the gear's forward/backward "
+        "efficiency (and breakaway torque for back-driving); no backlash or compliance in the metrics.",
+        "Power-flow law per joint: motoring τ_j = η_f·N·τ_m, back-driven τ_j = N·τ_m/η_b, "
+        "self-locking when η_b ≤ 0; the mode follows the sign of τ_j·q̇_j of the case's intended motion.",
+        "Payload cases hold the base still; impact cases free a floating base (Wensing et al. 2017 "
+        "impact mitigation factor); a fixed base reports back-driven effective mass instead.",
+        "Peak torques are the catalog's peak ratings at any speed; thermal limits are only checked by "
+        "duty-cycle cases.",
+        "Efficiencies are the catalog's constants or models at the chosen ratio; real gears lose "
+        "efficiency at low load, low temperature and high speed (see the sensitivity section).",
+    ]
+    limits = [
+        "Concept-stage model: it ranks and sizes options, it does not certify a design.",
+        "Figures show sections through the origin of the force and velocity spaces, not projections.",
+        "The ratio sweep holds stage masses, inertias, ratings and efficiencies at the design's "
+        "values, including ratios the catalog does not offer.",
+    ]
+    body = ("<h3>Assumptions</h3>" + bullets(assumptions)
+            + "<h3>Limits of the model</h3>" + bullets(limits)
+            + "<h3>Cautions</h3><div class=\"caution\">" + bullets(list(a["cautions"]) + [
+                "Verify every selection against the supplier's data and by test before committing to it.",
+                "A self-locking or high-ratio joint can trap or crush a person; collaborative operation "
+                "needs the applicable robot and machinery safety standards (risk assessment, "
+                "power and force limits), local codes and licensed engineering practice.",
+            ]) + "</div>")
+    return Section("cautions", "Assumptions, limits and cautions", body)

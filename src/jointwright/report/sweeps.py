@@ -1,0 +1,137 @@
+"""Re-evaluations of one design with one assumption moved: gear ratio per joint, efficiencies.
+
+Both go through :class:`jointwright.evaluate.Evaluator` on :class:`DesignArrays` with one field
+changed, so they use exactly the physics of the assessment. Everything else of the actuator
+(motor, stage masses and input inertias, gear rating, efficiencies) is held at the design's
+values, including where the catalog would not offer the varied ratio: the sweep shows the trend,
+not an available product.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, fields, replace
+
+import numpy as np
+
+from ..design import DesignArrays
+from ..problem import payload_cases
+
+#: ratio multipliers of the sweep (log-spaced, includes 1)
+RATIO_FACTORS = np.geomspace(0.25, 4.0, 33)
+
+#: efficiency change of the sensitivity study, absolute (5 percentage points)
+EFFICIENCY_STEP = 0.05
+
+
+def repeat(arrays: DesignArrays, count: int) -> DesignArrays:
+    """``count`` copies of the first design of ``arrays``."""
+    return DesignArrays(**{f.name: np.repeat(getattr(arrays, f.name)[:1], count, axis=0)
+                           for f in fields(arrays)})
+
+
+def impact_metric(project, evaluator) -> dict[str, tuple[str, str, str]]:
+    """Per impact case: (metric key, short name, unit): back-driven IMF (floating base) or effective mass (fixed)."""
+    out = {}
+    for c in project.cases:
+        if c.kind != "impact":
+            continue
+        if evaluator.floating:
+            out[c.name] = ("imf", "IMF", "")
+        else:
+            out[c.name] = ("effective_mass", "effective mass", "kg")
+    return out
+
+
+def _summaries(project, evaluator, arrays) -> dict[str, np.ndarray]:
+    """Worst payload over the payload cases (N) and each impact metric, per design."""
+    ev = evaluator.evaluate(arrays)
+    out = {}
+    names = payload_cases(project)
+    if names:
+        out["payload"] = np.min([np.asarray(ev[n]["payload"], dtype=float) for n in names], axis=0)
+    for case, (key, _label, _unit) in impact_metric(project, evaluator).items():
+        out[case] = np.asarray(ev[case][key], dtype=float)
+    return out
+
+
+@dataclass(frozen=True)
+class RatioSweep:
+    """Metrics against each joint's ratio, the other joints held.
+
+    ``values[metric]`` is (n_joints, len(factors)); metric "payload" is the worst payload (N),
+    the others are impact case names (their metric from :func:`impact_metric`).
+    """
+
+    joints: tuple[str, ...]
+    design_ratio: np.ndarray  # (n_joints,)
+    factors: np.ndarray
+    values: dict
+
+
+def ratio_sweep(project, evaluator, arrays, factors=RATIO_FACTORS) -> RatioSweep:
+    """Vary one joint's total ratio N → k·N at a time (k in ``factors``) and re-evaluate.
+
+    Parameters
+    ----------
+    arrays : DesignArrays of one design
+    factors : 1-D array of positive multipliers
+    """
+    factors = np.asarray(factors, dtype=float)
+    n = arrays.ratio.shape[1]
+    K = factors.size
+    many = repeat(arrays, n * K)
+    ratio = many.ratio.copy()
+    for j in range(n):
+        ratio[j * K:(j + 1) * K, j] *= factors
+    values = _summaries(project, evaluator, replace(many, ratio=ratio))
+    return RatioSweep(
+        joints=tuple(project.robot.actuated), design_ratio=arrays.ratio[0].copy(), factors=factors,
+        values={k: v.reshape(n, K) for k, v in values.items()},
+    )
+
+
+@dataclass(frozen=True)
+class Sensitivity:
+    """Metrics with one joint's forward or backward efficiency moved by ±step.
+
+    ``base[metric]`` is the design's value; ``values[metric]`` is (n_joints, 2 fields, 2 signs)
+    with fields (η_f, η_b) and signs (−step, +step); ``clipped`` (same shape) marks a change
+    limited by the bounds η_f ∈ (0, 1], η_b ≤ 1; ``locking_changed`` marks a joint whose
+    self-locking flag the change flips.
+    """
+
+    joints: tuple[str, ...]
+    step: float
+    base: dict
+    values: dict
+    clipped: np.ndarray
+    locking_changed: np.ndarray
+
+
+def efficiency_sensitivity(project, evaluator, arrays, step: float = EFFICIENCY_STEP) -> Sensitivity:
+    """Re-evaluate with η_f,j or η_b,j changed by ±``step`` (absolute), one at a time.
+
+    η_f stays in [0.01, 1]; η_b at most 1 and the self-locking flag follows η_b ≤ 0.
+    """
+    n = arrays.ratio.shape[1]
+    many = repeat(arrays, 4 * n + 1)
+    ef, eb = many.eta_forward.copy(), many.eta_backward.copy()
+    clipped = np.zeros((n, 2, 2), dtype=bool)
+    for j in range(n):
+        for f, target in enumerate((ef, eb)):
+            for s, sign in enumerate((-1.0, 1.0)):
+                row = 1 + 4 * j + 2 * f + s
+                want = target[row, j] + sign * step
+                low = 0.01 if f == 0 else -np.inf
+                target[row, j] = float(np.clip(want, low, 1.0))
+                clipped[j, f, s] = not np.isclose(target[row, j], want)
+    locking = eb <= 0.0
+    moved = replace(many, eta_forward=ef, eta_backward=eb, self_locking=locking)
+    values = _summaries(project, evaluator, moved)
+    changed = (locking != arrays.self_locking[:1])[1:].any(axis=1).reshape(n, 2, 2)
+    return Sensitivity(
+        joints=tuple(project.robot.actuated), step=step,
+        base={k: float(v[0]) for k, v in values.items()},
+        values={k: v[1:].reshape(n, 2, 2) for k, v in values.items()},
+        clipped=clipped, locking_changed=changed,
+    )
