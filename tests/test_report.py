@@ -1,0 +1,249 @@
+"""The HTML design report: builds for both bundled examples, is self-contained, shows the assessment.
+
+Checks are against the assessment's own JSON (the numbers in the page must be those numbers, as
+formatted to 4 significant digits) and against the page as a browser renders it (headless
+Chromium, when installed; CI installs it).
+"""
+
+from __future__ import annotations
+
+import base64
+import io
+import json
+import math
+import re
+import shutil
+import subprocess
+from html.parser import HTMLParser
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+from PIL import Image
+
+from jointwright.assessment import assess
+from jointwright.cli import main
+from jointwright.design import load_design
+from jointwright.project import load_project
+from jointwright.report import build_report
+
+EXAMPLES = ("leg", "arm")
+#: 4 significant digits: a shown number is within half a unit of its 4th digit, rel ≤ 5e-4 [trade]
+SHOWN_RTOL = 6e-4
+
+
+def _new(folder: Path, example: str) -> Path:
+    r = CliRunner().invoke(main, ["new", str(folder), "--example", example])
+    assert r.exit_code == 0, r.output
+    return folder
+
+
+@pytest.fixture(scope="module", params=EXAMPLES)
+def built(request, tmp_path_factory):
+    folder = _new(tmp_path_factory.mktemp(request.param) / "project", request.param)
+    project = load_project(folder / "project.toml")
+    design = load_design(folder / "design.toml", project)
+    path = build_report(project, design, folder / "out")
+    return {"path": path, "html": path.read_text(encoding="utf-8"),
+            "assessment": json.loads(json.dumps(assess(project, design).to_dict())), "project": project}
+
+
+class _Cells(HTMLParser):
+    """Collects text of elements with data-* attributes, the img sources and external links."""
+
+    def __init__(self):
+        super().__init__()
+        self.cells, self.images, self.external, self._open = {}, [], [], []
+
+    def handle_starttag(self, tag, attrs):
+        a = dict(attrs)
+        if tag == "img":
+            self.images.append(a.get("src", ""))
+        for key in ("src", "href"):
+            v = a.get(key) or ""
+            if v and not v.startswith(("data:", "#")):
+                self.external.append(v)
+        if tag == "link" or tag == "script":
+            self.external.append(tag)
+        data = tuple(sorted((k, v) for k, v in attrs if k.startswith("data-")))
+        self._open.append((data, []))
+
+    def handle_endtag(self, tag):
+        if not self._open:
+            return
+        data, text = self._open.pop()
+        if data:
+            self.cells[data] = "".join(text)
+        if self._open:
+            self._open[-1][1].extend(text)
+
+    def handle_data(self, d):
+        if self._open:
+            self._open[-1][1].append(d)
+
+
+def _parse(html: str) -> _Cells:
+    p = _Cells()
+    p.feed(html)
+    return p
+
+
+def _value(text: str) -> float:
+    """The number at the start of a shown value: '235.5 N', '−23.2 %', '∞ N·m'."""
+    head = text.strip().split(" ")[0].replace("−", "-").lstrip("+")
+    return {"∞": math.inf, "-∞": -math.inf}.get(head, None) if "∞" in head else float(head)
+
+
+def _close(shown: float, value) -> bool:
+    v = {"inf": math.inf, "-inf": -math.inf}.get(value, value)
+    if math.isinf(v) or math.isinf(shown):
+        return shown == v
+    return math.isclose(shown, v, rel_tol=SHOWN_RTOL, abs_tol=1e-12)
+
+
+def _cell(cells, **data) -> str:
+    key = tuple(sorted((f"data-{k}", v) for k, v in data.items()))
+    assert key in cells, f"no element with {data}"
+    return cells[key]
+
+
+def test_requirement_values_equal_the_assessment(built):
+    cells = _parse(built["html"]).cells
+    a = built["assessment"]
+    assert a["checks"], "the examples state requirements"
+    for c in a["checks"]:
+        key = f"{c['subject']}:{c['requirement']}"
+        assert _close(_value(_cell(cells, check=key, field="achieved")), c["achieved"]), key
+        assert _close(_value(_cell(cells, check=key, field="limit")), c["limit"]), key
+        margin = _value(_cell(cells, check=key, field="margin"))
+        # margins are shown in % to one decimal: within 0.05 percentage points [trade]
+        assert abs(margin - 100 * c["margin"]) <= 0.05 + 1e-9, key
+
+
+def test_joint_table_and_total_mass_equal_the_assessment(built):
+    cells = _parse(built["html"]).cells
+    a = built["assessment"]
+    assert _close(_value(_cell(cells, field="total_mass")), a["total_mass"])
+    for j in a["joints"]:
+        assert _close(_value(_cell(cells, joint=j["joint"], field="mass")), j["mass"])
+        assert _close(_value(_cell(cells, joint=j["joint"], field="drive")), j["capacity_motoring"])
+        assert _close(_value(_cell(cells, joint=j["joint"], field="holding")), j["capacity_backdriven"])
+
+
+def test_case_metrics_equal_the_assessment(built):
+    cells = _parse(built["html"]).cells
+    shown = 0
+    for case in built["assessment"]["cases"]:
+        for key, value in case["metrics"].items():
+            k = tuple(sorted((("data-case", case["name"]), ("data-metric", key))))
+            if k in cells and isinstance(value, (int, float, str)) and value not in ("",):
+                v = value * 100 if key.startswith("backdriven_share") else value
+                assert _close(_value(cells[k]), v), (case["name"], key)
+                shown += 1
+    assert shown >= 8
+
+
+def test_page_is_self_contained_and_every_image_decodes(built):
+    p = _parse(built["html"])
+    assert p.external == [], "no external file, script or style sheet"
+    assert len(p.images) >= 4
+    for src in p.images:
+        assert src.startswith("data:image/png;base64,")
+        img = Image.open(io.BytesIO(base64.b64decode(src.split(",", 1)[1])))
+        img.load()
+        assert img.width >= 500 and img.height >= 250
+    figures = built["path"].parent / "figures"
+    pngs = sorted(figures.glob("*.png"))
+    assert len(pngs) == len(p.images)
+    for png in pngs:
+        Image.open(png).load()
+        svg = png.with_suffix(".svg").read_text(encoding="utf-8")
+        assert svg.lstrip().startswith("<?xml") and "<svg" in svg
+
+
+def test_no_nan_and_every_section_present(built):
+    text = re.sub(r'src="data:[^"]*"', "", built["html"])
+    assert not re.search(r"\bnan\b", text, flags=re.IGNORECASE)
+    for anchor in ("job", "outcome", "requirements", "binding", "joints", "polytopes", "ellipses",
+                   "ratio", "sensitivity", "cases", "cautions"):
+        assert f'id="{anchor}"' in text
+    for phrase in ("supplier", "trap or crush", "safety standards", "licensed engineering practice"):
+        assert phrase in text
+
+
+def test_outcome_names_missed_requirements_and_the_limiting_joint(built):
+    a = built["assessment"]
+    text = built["html"]
+    outcome = text[text.index('id="outcome"'):text.index('id="requirements"')]
+    missed = [c for c in a["checks"] if not c["ok"]]
+    assert (f"misses {len(missed)} of" in outcome) == bool(missed)
+    for c in missed:
+        assert f"{c['subject']}: {c['requirement'].replace('_', ' ')}" in outcome
+    payload = [c for c in a["cases"] if c["kind"] == "payload"]
+    worst = min(payload, key=lambda c: c["metrics"]["payload"])
+    assert f"limited by joint {worst['limiting_joint']}" in outcome
+    assert "self-locking" in outcome
+
+
+def test_infinite_capacity_is_shown_as_infinity():
+    from jointwright.report.markup import fmt, number, pct
+
+    assert fmt(math.inf, "N·m") == "∞ N·m"
+    assert fmt("inf", "kg*m^2") == "∞ kg·m²"
+    assert number(-math.inf) == "−∞"
+    assert number(math.nan) == "—" and number(None) == "—"
+    assert pct(-0.2335) == "−23.4 %" and pct(math.inf) == "+∞ %"
+
+
+def test_report_verb_writes_the_files(tmp_path):
+    folder = _new(tmp_path / "leg", "leg")
+    r = CliRunner().invoke(main, ["report", str(folder / "project.toml"), "--design",
+                                  str(folder / "design.toml"), "--out", str(tmp_path / "r"), "--json"])
+    assert r.exit_code == 0, r.output
+    out = json.loads(r.output[r.output.index("{"):])
+    assert Path(out["report"]).is_file()
+    assert {Path(f).suffix for f in out["figures"]} == {".png", ".svg"}
+
+
+def test_report_verb_rejects_bad_json_with_one_line(tmp_path):
+    folder = _new(tmp_path / "leg", "leg")
+    bad = tmp_path / "frontier.json"
+    bad.write_text("{not json", encoding="utf-8")
+    r = CliRunner().invoke(main, ["report", str(folder / "project.toml"), "--design",
+                                  str(folder / "design.toml"), "--frontier", str(bad)])
+    assert r.exit_code == 2
+    assert "frontier.json" in r.output and "--frontier" in r.output and "not valid JSON" in r.output
+    assert "Traceback" not in r.output
+
+
+# ---- the page in a browser -----------------------------------------------------------------
+CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
+needs_chromium = pytest.mark.skipif(CHROMIUM is None, reason="chromium is not installed (CI installs it)")
+
+
+def _chromium(args, profile: Path) -> subprocess.CompletedProcess:
+    cmd = [CHROMIUM, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+           "--disable-background-networking", "--disable-component-update", "--disable-sync",
+           f"--user-data-dir={profile}", *args]
+    return subprocess.run(cmd, capture_output=True, text=True, timeout=120)
+
+
+@needs_chromium
+@pytest.mark.slow
+def test_browser_renders_the_numbers_and_images(built, tmp_path):
+    url = built["path"].resolve().as_uri()
+    r = _chromium(["--dump-dom", url], tmp_path / "profile")
+    assert r.returncode == 0, r.stderr[-2000:]
+    dom = _parse(r.stdout)
+    assert len(dom.images) >= 4
+    a = built["assessment"]
+    assert _close(_value(_cell(dom.cells, field="total_mass")), a["total_mass"])
+    for c in a["checks"]:
+        key = f"{c['subject']}:{c['requirement']}"
+        assert _close(_value(_cell(dom.cells, check=key, field="achieved")), c["achieved"])
+    shot = tmp_path / "page.png"
+    r = _chromium([f"--screenshot={shot}", "--window-size=1100,2400", url], tmp_path / "profile2")
+    assert r.returncode == 0 and shot.is_file(), r.stderr[-2000:]
+    img = Image.open(shot).convert("L")
+    dark = sum(img.histogram()[:128])
+    assert dark > 0.005 * img.width * img.height, "the page rendered text"
