@@ -1,0 +1,203 @@
+"""The numbers behind the report's figures: sections, ellipses, ratio sweeps, efficiency sensitivity.
+
+Sources named beside each check:
+* force polytope P = {F : τ_low ≤ g + Jᵀ·F ≤ τ_high}, Chiacchio et al., J. Robotic Systems 1997
+  [mem]; the force along a ray u is the closed-form one-variable LP of the same paper;
+* operational-space inertia Λ = (J·H⁻¹·Jᵀ)⁻¹ (Khatib 1987 [pub]), effective mass 1/(uᵀ·Λ⁻¹·u)
+  (Khatib 1995 [mem]);
+* locked-joint inertia Λ_L ⪰ Λ and IMF non-increasing as reflected inertia grows (Wensing et al.,
+  IEEE T-RO 33(3), 2017 [pub]);
+* power-flow transmission law (motoring η_f·N·τ_m, back-driven N·τ_m/η_b, reflected inertia
+  η_f·N²·I_r and N²·I_r/η_b): Modelica LossyGear two-efficiency model [pub] and the brief's law.
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+
+import numpy as np
+import pytest
+from click.testing import CliRunner
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from scipy.spatial import ConvexHull
+
+from jointwright.assessment import assess
+from jointwright.cli import main
+from jointwright.design import arrays_from_designs, load_design
+from jointwright.errors import InputError
+from jointwright.evaluate import Evaluator
+from jointwright.metrics.payload import payload_along
+from jointwright.project import load_project
+from jointwright.report import hooks
+from jointwright.report.geometry import MODES, ellipse_sections, plane_for, polytope_sections
+from jointwright.report.sweeps import efficiency_sensitivity, impact_metric, ratio_sweep
+from jointwright.robot.basis import gravity
+
+
+@pytest.fixture(scope="module", params=("leg", "arm"))
+def example(request, tmp_path_factory):
+    folder = tmp_path_factory.mktemp(request.param)
+    r = CliRunner().invoke(main, ["new", str(folder / "p"), "--example", request.param])
+    assert r.exit_code == 0, r.output
+    project = load_project(folder / "p" / "project.toml")
+    design = load_design(folder / "p" / "design.toml", project)
+    ev = Evaluator(project)
+    a = assess(project, design, ev)
+    return {"project": project, "design": design, "ev": ev, "arrays": arrays_from_designs([design]),
+            "a": a, "cases": {c.name: c for c in a.cases}}
+
+
+def _payloads(ex) -> dict:
+    return {c.name: c.metrics["payload"] for c in ex["a"].cases if c.kind == "payload"}
+
+
+def _radial_extent(vertices: np.ndarray, d: np.ndarray) -> float:
+    """Largest s with s·d inside the convex polygon (which contains the origin)."""
+    eq = ConvexHull(vertices).equations  # a·x + c ≤ 0 inside
+    a, c = eq[:, :2], eq[:, 2]
+    ad = a @ d
+    return float(np.min(-c[ad > 1e-12] / ad[ad > 1e-12]))
+
+
+@settings(max_examples=25, deadline=None)
+@given(angle=st.floats(0.0, 2 * np.pi))
+def test_polytope_section_is_the_slice_of_the_3d_polytope(example, angle):
+    # Chiacchio et al. 1997 [mem]: along a ray s·u the force is the one-variable LP; a section by
+    # the plane through F = 0 must reach exactly as far along every in-plane direction.
+    ex = example
+    ev, arrays = ex["ev"], ex["arrays"]
+    caps = {m: arrays.capacity(m)[0] for m in MODES}
+    for s in polytope_sections(ev, arrays, _payloads(ex)):
+        pc = next(p for p in ev.cases if p.case.name == s.cases[0])
+        bias = gravity(pc.basis, arrays.mass)[0][ev.v_index]
+        d = np.array([np.cos(angle), np.sin(angle)])
+        u = np.zeros(3)
+        u[list(s.plane)] = d
+        for mode in MODES:
+            if s.clipped[mode]:
+                continue
+            ray = payload_along(pc.Jj, bias, -caps[mode], caps[mode], u).force
+            assert _radial_extent(s.vertices[mode], d) == pytest.approx(float(ray), rel=1e-7, abs=1e-6)
+
+
+def test_polytope_markers_are_the_case_payloads_along_their_directions(example):
+    pay = _payloads(example)
+    for s in polytope_sections(example["ev"], example["arrays"], pay):
+        for name, point in s.markers:
+            assert np.linalg.norm(point) == pytest.approx(pay[name], rel=1e-12)
+
+
+def test_ellipse_mass_along_the_case_equals_the_assessment(example):
+    # two code paths for Khatib's effective mass: the evaluator (IMF / locked-joint routine) and
+    # the report's direct J·H⁻¹·Jᵀ solve
+    suffix = {"backdriven": "", "motoring": "_motoring", "frictionless": "_frictionless"}
+    sections = ellipse_sections(example["ev"], example["arrays"])
+    assert sections
+    for s in sections:
+        metrics = example["cases"][s.case].metrics
+        for mode in MODES:
+            assert s.mass_along[mode] == pytest.approx(metrics["effective_mass" + suffix[mode]], rel=1e-9)
+
+
+def _radius(curve: np.ndarray, d: np.ndarray) -> float:
+    return _radial_extent(curve, d)
+
+
+@settings(max_examples=25, deadline=None)
+@given(angle=st.floats(0.0, 2 * np.pi))
+def test_ellipse_radius_is_root_effective_mass_and_modes_are_ordered(example, angle):
+    # radius of {y : yᵀ·Bᵀ·Λ⁻¹·B·y ≤ 1} along d is √(1/(dᵀ·Bᵀ·Λ⁻¹·B·d)) (Khatib 1995 [mem]);
+    # η_f·N²·I_r ≤ N²·I_r ≤ N²·I_r/η_b grows H in the Loewner order, so effective masses are
+    # ordered motoring ≤ frictionless ≤ back-driven ≤ locked (Wensing et al. 2017: Λ ⪯ Λ_L)
+    d = np.array([np.cos(angle), np.sin(angle)])
+    for s in ellipse_sections(example["ev"], example["arrays"]):
+        r = {m: _radius(c, d) for m, c in s.curves.items()}
+        tol = 1e-3  # polygon of 181 points inscribed in the ellipse: chord sag ≤ 1 − cos(π/180)
+        assert r["motoring"] <= r["frictionless"] * (1 + tol)
+        assert r["frictionless"] <= r["backdriven"] * (1 + tol)
+        if "locked" in r:
+            assert r["backdriven"] <= r["locked"] * (1 + tol)
+
+
+def test_ratio_sweep_at_the_design_ratio_equals_the_assessment(example):
+    sweep = ratio_sweep(example["project"], example["ev"], example["arrays"])
+    k = int(np.argmin(np.abs(np.log(sweep.factors))))
+    assert sweep.factors[k] == pytest.approx(1.0)
+    worst = min(_payloads(example).values())
+    assert np.allclose(sweep.values["payload"][:, k], worst, rtol=1e-12)
+    for case, (key, _s, _u) in impact_metric(example["project"], example["ev"]).items():
+        assert np.allclose(sweep.values[case][:, k], example["cases"][case].metrics[key], rtol=1e-12)
+
+
+def test_ratio_sweep_is_monotone(example):
+    # capacity η_f·N·τ_m (capped) widens the torque box as N grows: payload never falls
+    # (Chiacchio LP over a growing feasible set); N²·I_r grows H: IMF never rises and back-driven
+    # effective mass never falls (Wensing et al. 2017)
+    sweep = ratio_sweep(example["project"], example["ev"], example["arrays"])
+    assert np.all(np.diff(sweep.values["payload"], axis=1) >= -1e-9)
+    for case, (key, _s, _u) in impact_metric(example["project"], example["ev"]).items():
+        step = np.diff(sweep.values[case], axis=1)
+        assert np.all(step <= 1e-12) if key == "imf" else np.all(step >= -1e-12)
+
+
+def test_efficiency_sensitivity_signs(example):
+    sens = efficiency_sensitivity(example["project"], example["ev"], example["arrays"])
+    pay = sens.values["payload"]
+    # raising η_f widens the motoring capacity η_f·N·τ_m: payload never falls
+    assert np.all(pay[:, 0, 1] >= sens.base["payload"] - 1e-9)
+    assert np.all(pay[:, 0, 0] <= sens.base["payload"] + 1e-9)
+    for case, (key, _s, _u) in impact_metric(example["project"], example["ev"]).items():
+        v, base = sens.values[case], sens.base[case]
+        # impacts feel the back-driven inertia N²·I_r/η_b only: η_f changes nothing
+        assert np.allclose(v[:, 0, :], base, rtol=1e-12)
+        up = v[:, 1, 1] - base  # η_b up -> smaller reflected inertia
+        assert np.all(up >= -1e-12) if key == "imf" else np.all(up <= 1e-12)
+
+
+def test_sensitivity_flags_a_joint_that_becomes_self_locking(example):
+    arrays = example["arrays"]
+    eb = arrays.eta_backward.copy()
+    eb[0, 0] = 0.03  # −5 points makes it −0.02: self-locking (η_b ≤ 0)
+    sens = efficiency_sensitivity(example["project"], example["ev"], replace(arrays, eta_backward=eb))
+    assert sens.locking_changed[0, 1, 0]
+    assert not sens.locking_changed[0, 1, 1] and not sens.locking_changed[1:].any()
+
+
+def test_plane_keeps_the_case_directions():
+    J = np.array([[0.3, 0.0], [0.0, 0.0], [0.0, 0.2]])
+    assert plane_for([np.array([0, 0, -1.0]), np.array([0, -1.0, 0])], J) == (1, 2)
+    assert plane_for([np.array([0, 0, 1.0])], J) == (0, 2)  # x is the best-actuated other axis
+
+
+# ---- hooks taking plain dicts ------------------------------------------------------------------
+def test_frontier_hook_draws_points_and_rejects_bad_points(tmp_path):
+    data = {"x": {"label": "impact mitigation factor", "unit": ""}, "y": {"label": "payload", "unit": "N"},
+            "points": [{"x": 0.1, "y": 300.0, "design": "a"}, {"x": 0.3, "y": 200.0, "design": "b"}],
+            "chosen": 1, "knee": 1}
+    s = hooks.frontier_section(data, tmp_path)
+    assert "200 N" in s.body and "knee" in s.body and (tmp_path / "frontier.svg").is_file()
+    data["points"][1]["y"] = "lots"
+    with pytest.raises(InputError, match=r"points\[1\]\.y"):
+        hooks.frontier_section(data, tmp_path)
+
+
+def test_runner_ups_duty_and_study_hooks(tmp_path):
+    s = hooks.runner_ups_section({"objective": {"name": "worst payload", "unit": "N", "value": 240.0},
+                                  "runner_ups": [{"name": "r1", "objective": 230.0, "why": "heavier knee"}],
+                                  "per_joint": {"knee": [{"choice": "PL 9:1", "objective": 220.0, "why": "IMF"}]}})
+    assert "−10 N" in s.body and "heavier knee" in s.body and "Alternatives at knee" in s.body
+    with pytest.raises(InputError, match="runner_ups\\[0\\].why"):
+        hooks.runner_ups_section({"objective": {"value": 1.0}, "runner_ups": [{"name": "r", "objective": 1.0}]})
+    d = hooks.duty_section({"case": "trot", "time": [0.0, 0.5, 1.0], "motor_torque": {"knee": [0.1, 0.4, 0.1]},
+                            "limits": {"knee continuous": 0.3},
+                            "summary": [{"joint": "knee", "rms_torque": 0.25, "backdriven_share": 0.4}]}, tmp_path)
+    assert "0.25 N·m" in d.body and "40 %" in d.body
+    with pytest.raises(InputError, match="motor_torque.knee"):
+        hooks.duty_section({"case": "t", "time": [0.0, 1.0], "motor_torque": {"knee": [1.0]}}, tmp_path)
+    st_ = hooks.study_section({"name": "knee sweep", "columns": ["case", "payload"], "rows": [["a", 12.5]],
+                               "series": [{"metric": "payload", "metric_unit": "N", "parameter": "ratio",
+                                           "x": [1, 2], "y": [10, 12]}]}, tmp_path)
+    assert "12.5" in st_.body and (tmp_path / "study-1.png").is_file()
+    with pytest.raises(InputError, match=r"rows\[0\]"):
+        hooks.study_section({"name": "s", "columns": ["a", "b"], "rows": [["x"]]}, tmp_path)
