@@ -115,7 +115,7 @@ BAD = [
     Bad("unknown stage kind", (("project.toml", "max_stages = 2", 'max_stages = 2\nstage_kinds = ["planetary", "harmonic"]'),),
         "check", "project.toml", "catalog.stage_kinds[1]", "unknown stage kind 'harmonic'"),
     Bad("unknown case kind", (("project.toml", 'kind = "payload"', 'kind = "lift"'),),
-        "check", "project.toml", "case[0].kind", "must be one of payload, impact"),
+        "check", "project.toml", "case[0].kind", "must be one of payload, stance, impact"),
     Bad("unknown motion", (("project.toml", 'motion = "along"', 'motion = "up"'),),
         "check", "project.toml", "case[0].motion", "must be one of along, against, hold"),
     Bad("unknown joint in pose", (("project.toml", POSE, 'pose = { hip_ab = 0, hip_fe = 0, knee = 1, ankle = 0 }'),),

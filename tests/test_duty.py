@@ -71,12 +71,14 @@ def test_inverse_matches_the_forward_transmission_law(tj, qd, qdd, n, ir, ef, eb
     assume(tj * qd != 0)
     tau, mode = motor_torque([tj], [qd], [qdd], n, ef, eb, ir)
     gear_in = tau[0] - n * ir * qdd
+    # subtracting the rotor term back out loses the round-off of that term, scaled to the joint
+    slack = 1e-12 + 4e-16 * abs(n * ir * qdd) * n / min(ef, eb)
     if tj * qd > 0:
         assert mode[0] == MOTORING
-        assert ef * n * gear_in == pytest.approx(tj, rel=1e-9, abs=1e-12)
+        assert ef * n * gear_in == pytest.approx(tj, rel=1e-9, abs=slack)
     else:
         assert mode[0] == BACKDRIVEN
-        assert n / eb * gear_in == pytest.approx(tj, rel=1e-9, abs=1e-12)
+        assert n / eb * gear_in == pytest.approx(tj, rel=1e-9, abs=slack)
 
 
 @settings(max_examples=80, deadline=None)

@@ -45,7 +45,8 @@ class PreparedCase:
     J: np.ndarray  # (3, nv) tip point Jacobian, world axes
     Jj: np.ndarray  # (3, n_act) columns of the actuated joints
     u: np.ndarray | None  # (3,) unit direction
-    velocity_sign: np.ndarray  # (n_act,) for payload cases
+    velocity_sign: np.ndarray  # (n_act,) for payload and stance cases
+    contact_J: np.ndarray | None = None  # stance: (k, 3, nv) contact point Jacobians
 
 
 class Evaluator:
@@ -70,7 +71,8 @@ class Evaluator:
         robot = self.robot
         q = robot.configuration(case.pose, case.base_xyz, case.base_rpy,
                                 file=str(self.project.file), field=f"case {case.name}.pose")
-        basis = pose_basis(robot, q, [case.frame])
+        contact_frames = [c[0] for c in case.contacts]
+        basis = pose_basis(robot, q, [case.frame] + contact_frames)
         J = basis.J[0, :3, :]
         Jj = J[:, self.v_index]
         u = np.asarray(case.direction, dtype=float) if case.direction is not None else None
@@ -80,7 +82,11 @@ class Evaluator:
             qd = qd if case.motion == "along" else -qd
             big = np.abs(qd).max() if qd.size else 0.0
             sign = np.where(np.abs(qd) > VELOCITY_TOLERANCE * max(big, 1e-300), np.sign(qd), 0.0)
-        return PreparedCase(case=case, basis=basis, J=J, Jj=Jj, u=u, velocity_sign=sign)
+        contact_J = basis.J[1:, :3, :] if case.kind == "stance" else None
+        if case.kind == "stance" and case.motion != "hold":
+            sign = _stance_velocity_sign(contact_J, J, u, case.motion, self.v_index)
+        return PreparedCase(case=case, basis=basis, J=J, Jj=Jj, u=u, velocity_sign=sign,
+                            contact_J=contact_J)
 
     # ------------------------------------------------------------------------------------------
     def evaluate(self, d: DesignArrays, *, detail: bool = True) -> dict[str, dict[str, np.ndarray]]:
@@ -94,6 +100,8 @@ class Evaluator:
             kind = pc.case.kind
             if kind == "payload":
                 out[pc.case.name] = self._payload(pc, d, detail)
+            elif kind == "stance":
+                out[pc.case.name] = self._stance(pc, d, detail)
             elif kind == "impact":
                 out[pc.case.name] = self._impact(pc, d, detail)
             elif kind == "backdrive":
@@ -137,6 +145,36 @@ class Evaluator:
                 out[f"payload_{label}"] = results[label].force
             force = np.where(np.isfinite(main.force), main.force, 0.0)
             out["joint_torque"] = bias + force[..., None] * a
+        return out
+
+    def _stance(self, pc: PreparedCase, d: DesignArrays, detail: bool = True) -> dict[str, np.ndarray]:
+        """Robot-level payload on several contacts (second-order cone program per design).
+
+        The load at ``frame`` pushes on the robot with s·(−u); the contacts push with forces in
+        their friction cones; each joint's torque stays in its mode-dependent capacity.
+        """
+        from .metrics.contacts import solve_batch
+
+        g = gravity(pc.basis, d.mass)
+        lo, hi = torque_bounds(np.broadcast_to(pc.velocity_sign, d.mass.shape),
+                               d.capacity("motoring"), d.capacity("backdriven"))
+        frames = pc.case.contacts
+        res = solve_batch(
+            actuated=self.v_index, gravity=g, contact_jacobians=pc.contact_J,
+            normals=np.array([c[2] for c in frames]), friction=np.array([c[1] for c in frames]),
+            payload_jacobian=pc.J, payload_wrench=-pc.u, tau_low=lo, tau_high=hi,
+        )
+        ok = res.status == "optimal"
+        payload = np.where(ok, np.nan_to_num(res.payload, nan=0.0), 0.0)
+        payload = np.where(res.status == "unbounded", np.inf, payload)
+        span = np.where(np.isfinite(hi - lo), hi - lo, 1.0)
+        tight = np.where(res.torque_at_high | res.torque_at_low, 1.0, 0.0)
+        limiting = np.where(tight.any(axis=-1), np.argmax(tight / span, axis=-1), -1)
+        out = {"payload": payload, "limiting_joint": limiting, "self_supporting": ok}
+        if detail:
+            out["contact_force_z"] = res.contact_forces[..., 2]
+            out["slipping_contacts"] = res.cone_binding.sum(axis=-1)
+            out["joint_torque"] = res.joint_torques
         return out
 
     def _capacity_at_speed(self, pc: PreparedCase, d: DesignArrays):
@@ -188,6 +226,16 @@ class Evaluator:
     def _speed(self, pc: PreparedCase, d: DesignArrays) -> dict[str, np.ndarray]:
         r = endpoint_speed(pc.Jj, d.motor_max_speed / d.ratio, pc.u)
         return {"speed": r.speed, "limiting_joint": r.limiting_joint}
+
+
+def _stance_velocity_sign(contact_J, J, u, motion, v_index) -> np.ndarray:
+    """Joint velocity signs when the load point moves along u (``along``) or against it, with
+    every contact point fixed: minimum-norm solution of [J_c; J_p]·q̇ = [0; ±u]."""
+    A = np.concatenate([contact_J.reshape(-1, contact_J.shape[-1]), J], axis=0)
+    b = np.concatenate([np.zeros(contact_J.shape[0] * 3), u if motion == "along" else -u])
+    qd = np.linalg.lstsq(A, b, rcond=None)[0][v_index]
+    big = np.abs(qd).max() if qd.size else 0.0
+    return np.where(np.abs(qd) > VELOCITY_TOLERANCE * max(big, 1e-300), np.sign(qd), 0.0)
 
 
 def _effective_mass_locked(J, H, u, locked) -> np.ndarray:

@@ -99,7 +99,7 @@ def feasible(check_list: list[Check], count: int) -> np.ndarray:
 
 
 def payload_cases(project) -> list[str]:
-    return [c.name for c in project.cases if c.kind == "payload"]
+    return [c.name for c in project.cases if c.kind in ("payload", "stance")]
 
 
 def objective(project, arrays, evaluation, kind: str = "payload") -> np.ndarray:

@@ -15,7 +15,7 @@ import numpy as np
 from .errors import InputError
 from .tomlfile import Table, load_toml
 
-CASE_KINDS = ("payload", "impact", "backdrive", "speed", "duty")
+CASE_KINDS = ("payload", "stance", "impact", "backdrive", "speed", "duty")
 MOTIONS = ("along", "against", "hold")
 STANDARD_GRAVITY = 9.80665
 
@@ -32,6 +32,9 @@ class Case:
         ``backdrive``: tip force along ``direction`` that starts the unpowered robot moving.
         ``speed``: end-point speed along ``direction`` within the motors' speed limits.
         ``duty``: a trajectory (CSV) for RMS/peak torque, temperature and energy.
+        ``stance``: robot-level payload: the largest load at ``frame`` (the robot holding it with
+        a force along ``direction``) over every contact-force distribution on ``contacts``
+        within friction cones and each joint's mode-dependent torque capacity.
     """
 
     name: str
@@ -51,11 +54,14 @@ class Case:
     limits: dict[str, float] = field(default_factory=dict)
     #: for payload cases: the force is reported as a mass too when the direction is vertical
     weight_equivalent: bool = False
+    #: stance cases: (frame, friction coefficient, unit normal from the ground into the robot)
+    contacts: tuple[tuple[str, float, tuple[float, float, float]], ...] = ()
 
 
 #: per kind: requirement key -> (dimension, sense); sense "min" means achieved >= limit
 CASE_LIMITS: dict[str, dict[str, tuple[str, str]]] = {
     "payload": {"payload_min": ("force", "min")},
+    "stance": {"payload_min": ("force", "min")},
     "impact": {
         "imf_min": ("dimensionless", "min"),
         "directional_imf_min": ("dimensionless", "min"),
@@ -137,7 +143,8 @@ def project_from_dict(data: dict, path: Path) -> Project:
     coupling = model.bool("rotor_coupling", False)
     model.done()
     requirements = _load_requirements(top.table("requirements", {}), robot)
-    cases = tuple(_load_case(t, robot, path.parent) for t in top.tables("case"))
+    poses = _load_poses(top.table("poses", {}), robot)
+    cases = tuple(_load_case(t, robot, path.parent, poses) for t in top.tables("case"))
     if not cases:
         raise InputError(file, "case", "at least one [[case]] is required")
     names = [c.name for c in cases]
@@ -227,7 +234,49 @@ def _load_requirements(t: Table, robot) -> Requirements:
     return Requirements(total_mass_max=total, total_cost_max=cost, joints=joints)
 
 
-def _load_case(t: Table, robot, base_dir: Path) -> Case:
+def _read_pose(pt: Table, robot) -> dict[str, float]:
+    pose = {}
+    for jn in list(pt.data):
+        if jn not in robot.actuated:
+            raise InputError(pt.file, pt.field(jn), f"unknown joint {jn!r}; actuated joints are "
+                             f"{', '.join(robot.actuated)}")
+        pose[jn] = pt.quantity(jn, "angle")
+    missing = [j for j in robot.actuated if j not in pose]
+    if missing:
+        raise InputError(pt.file, pt.field(missing[0]), "is required (every actuated joint needs a position)")
+    pt.done()
+    return pose
+
+
+def _load_poses(t: Table, robot) -> dict[str, dict[str, float]]:
+    """Named poses (``[poses.NAME]`` tables) that cases refer to with ``pose = "NAME"``."""
+    out = {name: _read_pose(t.table(name), robot) for name in list(t.data)}
+    t.done()
+    return out
+
+
+def _load_contacts(t: Table, robot) -> tuple:
+    entries = t.tables("contacts")
+    if not entries:
+        raise InputError(t.file, t.field("contacts"), "a stance case needs at least one contact")
+    out = []
+    for c in entries:
+        frame = c.str("frame")
+        robot.frame_id(frame, file=c.file, field=c.field("frame"))
+        mu = c.quantity("friction", "dimensionless", sign="nonnegative")
+        n = np.asarray(c.vector("normal", 3, (0.0, 0.0, 1.0)))
+        if not np.linalg.norm(n) > 0:
+            raise InputError(c.file, c.field("normal"), "must not be the zero vector")
+        c.done()
+        out.append((frame, mu, tuple(float(x) for x in n / np.linalg.norm(n))))
+    names = [f for f, _, _ in out]
+    for i, f in enumerate(names):
+        if f in names[:i]:
+            raise InputError(t.file, f"{t.field('contacts')}[{i}].frame", f"duplicate contact {f!r}")
+    return tuple(out)
+
+
+def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Case:
     name = t.str("name")
     kind = t.str("kind", choices=CASE_KINDS)
     frame = None
@@ -236,26 +285,25 @@ def _load_case(t: Table, robot, base_dir: Path) -> Case:
         robot.frame_id(frame, file=t.file, field=t.field("frame"))
     pose = {}
     if kind != "duty":
-        pt = t.table("pose")
-        for jn in list(pt.data):
-            if jn not in robot.actuated:
-                raise InputError(t.file, pt.field(jn), f"unknown joint {jn!r}; actuated joints are "
-                                 f"{', '.join(robot.actuated)}")
-            pose[jn] = pt.quantity(jn, "angle")
-        missing = [j for j in robot.actuated if j not in pose]
-        if missing:
-            raise InputError(t.file, pt.field(missing[0]), "is required (every actuated joint needs a position)")
-        pt.done()
+        raw = t.raw("pose")
+        if isinstance(raw, str):
+            if raw not in (poses or {}):
+                raise InputError(t.file, t.field("pose"), f"unknown pose {raw!r}; named poses are "
+                                 f"{', '.join(poses) if poses else 'none ([poses.NAME] tables)'}")
+            pose = dict(poses[raw])
+        else:
+            pose = _read_pose(t.table("pose"), robot)
     base_xyz = t.vector("base_xyz", 3, (0.0, 0.0, 0.0), "length")
     base_rpy = t.vector("base_rpy", 3, (0.0, 0.0, 0.0), "angle")
     direction = None
-    if kind in ("payload", "impact", "backdrive", "speed"):
+    if kind in ("payload", "stance", "impact", "backdrive", "speed"):
         d = np.asarray(t.vector("direction", 3))
         norm = float(np.linalg.norm(d))
         if norm == 0:
             raise InputError(t.file, t.field("direction"), "must not be the zero vector")
         direction = tuple(float(x) for x in d / norm)
-    motion = t.str("motion", "along", choices=MOTIONS) if kind in ("payload",) else "along"
+    motion = t.str("motion", "along", choices=MOTIONS) if kind in ("payload", "stance") else "along"
+    contacts = _load_contacts(t, robot) if kind == "stance" else ()
     trajectory = None
     if kind == "duty":
         trajectory = base_dir / t.str("trajectory")
@@ -268,18 +316,20 @@ def _load_case(t: Table, robot, base_dir: Path) -> Case:
     limits = {}
     for key, (dim, _sense) in CASE_LIMITS[kind].items():
         if t.has(key):
-            if kind == "payload" and key == "payload_min":
+            if kind in ("payload", "stance") and key == "payload_min":
                 limits[key] = _force_or_weight(t, key)
             else:
                 limits[key] = t.quantity(key, dim, sign="nonnegative")
+            if key.endswith("imf_min") and robot.base != "floating":
+                raise InputError(t.file, t.field(key), "needs a floating base: with a fixed base the "
+                                 "locked-joint inertia is unbounded and the IMF is 1; use effective_mass_max")
     if kind == "duty" and "rating_use_max" not in limits:
         limits["rating_use_max"] = 1.0
     weight = bool(direction is not None and abs(abs(direction[2]) - 1.0) < 1e-9)
     t.done()
     return Case(name=name, kind=kind, frame=frame, pose=pose, base_xyz=base_xyz, base_rpy=base_rpy,
                 direction=direction, motion=motion, trajectory=trajectory, ambient=ambient,
-                tip_speed=tip_speed,
-                limits=limits, weight_equivalent=weight)
+                tip_speed=tip_speed, limits=limits, weight_equivalent=weight, contacts=contacts)
 
 
 def _force_or_weight(t: Table, key: str) -> float:
@@ -288,11 +338,13 @@ def _force_or_weight(t: Table, key: str) -> float:
 
     v = t.raw(key)
     try:
-        return quantity(v, "force", file=t.file, field=t.field(key))
+        force = quantity(v, "force", file=t.file, field=t.field(key))
     except InputError:
         try:
-            m = quantity(v, "mass", file=t.file, field=t.field(key))
+            force = quantity(v, "mass", file=t.file, field=t.field(key)) * STANDARD_GRAVITY
         except InputError:
             raise InputError(t.file, t.field(key), "must be a force (N) or a mass (kg, taken as its "
                              f"weight at standard gravity), got {v!r}") from None
-        return m * STANDARD_GRAVITY
+    if force < 0:
+        raise InputError(t.file, t.field(key), f"must be >= 0 N (or kg), got {v!r}")
+    return force

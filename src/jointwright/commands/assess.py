@@ -16,6 +16,8 @@ SHOWN = {
     "payload": [("payload", "tip force, case motion", "N"), ("payload_raise", "raising / pushing", "N"),
                 ("payload_lower", "lowering / yielding", "N"), ("payload_hold", "holding still", "N"),
                 ("payload_frictionless", "frictionless gears", "N")],
+    "stance": [("payload", "load carried at the frame (robot-level)", "N"),
+               ("slipping_contacts", "contacts at the friction limit", "")],
     "impact": [("imf", "impact mitigation factor (back-driven)", ""),
                ("imf_direction", "directional IMF along direction", ""),
                ("imf_frictionless", "IMF, frictionless gears", ""),
@@ -59,6 +61,11 @@ def print_assessment(a) -> None:
             if key in c.metrics and c.metrics[key] is not None:
                 rows.append([label, num(c.metrics[key], unit)])
         extra = []
+        if c.kind in ("payload", "stance") and c.metrics.get("payload") not in (None, "inf"):
+            rows.append(["as a mass at standard gravity", num(float(c.metrics["payload"]) / 9.80665, "kg")])
+        if c.kind == "stance":
+            rows += [[f"ground force on {k.split(':', 1)[1]} (vertical)", num(v, "N")]
+                     for k, v in c.metrics.items() if k.startswith("normal_force:")]
         if c.kind == "duty":
             joints = [j.joint for j in a.joints]
             drows = [[label] + [num(c.metrics.get(f"{key}:{j}"), unit) for j in joints]

@@ -1,0 +1,64 @@
+"""Robot-level payload on several feet (stance cases) in the evaluator.
+
+References: static equilibrium of the whole robot — the ground forces carry the total weight
+plus the load (Newton's second law at rest [pub, rigid-body mechanics]), with the total mass
+from Pinocchio (`computeTotalMass` on the model carrying the actuator masses); friction can
+only enlarge the set of admissible contact forces (a cone contains its axis).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from importlib import resources
+
+import numpy as np
+import pinocchio as pin
+import pytest
+
+from jointwright.design import arrays_from_designs, load_design
+from jointwright.evaluate import Evaluator
+from jointwright.project import STANDARD_GRAVITY, load_project
+
+
+@pytest.fixture(scope="module")
+def quadruped():
+    with resources.as_file(resources.files("jointwright.examples") / "quadruped") as folder:
+        project = load_project(folder / "project.toml")
+        design = load_design(folder / "design.toml", project)
+    return project, design
+
+
+def test_ground_forces_carry_robot_weight_plus_load(quadruped):
+    project, design = quadruped
+    ev = Evaluator(project).evaluate(arrays_from_designs([design]))
+    model = project.robot.with_actuator_masses([a.mass for a in design.actuators])
+    weight = pin.computeTotalMass(model) * 9.81  # the robot's gravity is 9.81 m/s²
+    for name in ("stand-carry", "walk-carry"):
+        e = ev[name]
+        assert e["self_supporting"][0]
+        assert e["payload"][0] > 0
+        total_up = e["contact_force_z"][0].sum()
+        assert total_up == pytest.approx(weight + e["payload"][0], rel=1e-5)
+
+
+def test_friction_never_lowers_the_payload_and_three_feet_carry_less_than_four(quadruped):
+    project, design = quadruped
+    stand = project.case("stand-carry")
+    slick = dataclasses.replace(stand, name="slick",
+                                contacts=tuple((f, 0.0, n) for f, _, n in stand.contacts))
+    p = dataclasses.replace(project, cases=(stand, slick, project.case("walk-carry")))
+    ev = Evaluator(p).evaluate(arrays_from_designs([design]))
+    assert ev["slick"]["payload"][0] <= ev["stand-carry"]["payload"][0] * (1 + 1e-6)
+    assert ev["walk-carry"]["payload"][0] < ev["stand-carry"]["payload"][0]
+
+
+def test_stance_is_the_objective_of_payload_projects(quadruped):
+    from jointwright.problem import objective, payload_cases
+
+    project, design = quadruped
+    arrays = arrays_from_designs([design])
+    ev = Evaluator(project).evaluate(arrays)
+    assert set(payload_cases(project)) == {"stand-carry", "walk-carry"}
+    worst = min(ev["stand-carry"]["payload"][0], ev["walk-carry"]["payload"][0])
+    assert objective(project, arrays, ev)[0] == pytest.approx(worst)
+    assert worst / STANDARD_GRAVITY > 10.0  # the starting design carries the 10 kg walking load
