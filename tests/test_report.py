@@ -247,3 +247,42 @@ def test_browser_renders_the_numbers_and_images(built, tmp_path):
     img = Image.open(shot).convert("L")
     dark = sum(img.histogram()[:128])
     assert dark > 0.005 * img.width * img.height, "the page rendered text"
+
+
+WORM = """
+[[stage]]
+name = "WM"
+kind = "worm"
+ratios = [20, 30]
+efficiency = { model = "worm", lead_angle = "5 deg", friction = 0.1, normal_pressure_angle = "20 deg" }
+
+[[stage.frame]]
+name = "WM-50"
+rated_peak_torque = "60 N*m"
+rated_continuous_torque = "30 N*m"
+mass = "0.5 kg"
+input_inertia = "0.1 kg*cm^2"
+breakaway_torque = "0.05 N*m"
+diameter = "50 mm"
+length = "60 mm"
+"""
+
+
+def test_self_locking_joint_shows_infinity_and_the_caution(tmp_path):
+    # worm, Shigley ch. 13 [mem]: self-locking when f ≥ cos φ_n·tan λ; 0.1 ≥ cos 20°·tan 5° = 0.0822
+    folder = _new(tmp_path / "leg", "leg")
+    with open(folder / "catalog.toml", "a", encoding="utf-8") as fh:
+        fh.write(WORM)
+    text = (folder / "design.toml").read_text(encoding="utf-8")
+    text = re.sub(r"(\[joint\.knee\][^\[]*?stages = )\[.*\]", r'\1[{ stage = "WM", frame = "WM-50", ratio = 20 }]', text,
+                  flags=re.S)
+    (folder / "design.toml").write_text(text, encoding="utf-8")
+    project = load_project(folder / "project.toml")
+    design = load_design(folder / "design.toml", project)
+    assert design.actuator("knee").self_locking
+    html = build_report(project, design, tmp_path / "out").read_text(encoding="utf-8")
+    outcome = html[html.index('id="outcome"'):html.index('id="requirements"')]
+    assert "Self-locking joints: knee" in outcome
+    assert "∞ kg·m²" in html and "∞ N·m" in html  # back-driven reflected inertia, breakaway torque
+    assert "pinch and crush hazard" in html
+    assert not re.search(r"\bnan\b", re.sub(r'src="data:[^"]*"', "", html), flags=re.IGNORECASE)

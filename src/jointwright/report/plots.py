@@ -70,12 +70,15 @@ def ellipse_section(evaluator, arrays, fig_dir: Path) -> Section:
         "self-locking joints count as locked). For a floating base the dotted curve is the "
         "inertia with every joint locked; the impact mitigation factor measures how far the "
         "back-driven curve stays inside it.")]
+    locked = [j for j, x in zip(evaluator.robot.actuated, arrays.self_locking[0]) if x]
     for k, s in enumerate(ellipse_sections(evaluator, arrays)):
         name = f"inertia-{k + 1}"
         png = figures.save(figures.ellipse_figure(s), fig_dir, name)
         cap = (f"Inertia ellipse sections in the {plane_label(s.plane)} plane through the contact "
                f"point, case {s.case}; axes in √kg. Effective mass along the case direction: "
                + "; ".join(f"{MODE_WORDS[m]} {fmt(v, 'kg')}" for m, v in s.mass_along.items()) + ".")
+        if locked:
+            cap += f" Self-locking, hence locked in the back-driven curve: {', '.join(locked)}."
         parts.append(figure(png, name, s.title, cap))
     return Section("ellipses", "Inertia ellipses", "".join(parts))
 

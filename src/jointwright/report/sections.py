@@ -182,8 +182,9 @@ def joints_section(a: dict) -> Section:
     body = (table(["joint", "motor", "stages", "ratio", "η forward", "η backward", "drive torque",
                    "holding torque", "gear rated peak"], drive,
                   caption="Drive torque = η_f·N·τ_peak (motoring); holding torque = N·τ_peak/η_b while "
-                          "the load back-drives the joint (∞ when self-locking); both capped by the gear's "
-                          "rated peak torque. Efficiencies are dimensionless.")
+                          "the load back-drives the joint; both capped by the gear's rated peak torque "
+                          "(a self-locking joint holds up to that rating whatever the motor). "
+                          "Efficiencies are dimensionless.")
             + table(["joint", "rotor-side inertia I_r", "reflected N²·I_r", "motoring η_f·N²·I_r",
                      "back-driven N²·I_r/η_b", "mass", "max joint speed", "breakaway torque"],
                     inertia + [total],
