@@ -247,6 +247,16 @@ BAD = [
         "check", "project.toml", "case[0].payload_min", "force", example="arm"),
     Bad("arm: stage kind restriction unknown", (("project.toml", "max_stages = 1", 'max_stages = 1\nstage_kinds = ["strainwave"]'),),
         "check", "project.toml", "catalog.stage_kinds[0]", "unknown stage kind", example="arm"),
+    Bad("URDF negative link mass", (("leg.urdf", '<mass value="0.45"/>', '<mass value="-0.45"/>'),),
+        "check", "leg.urdf", "urdf.link[hip].inertial.mass.value", "must be >= 0 kg"),
+    Bad("URDF mass not a number", (("leg.urdf", '<mass value="0.45"/>', '<mass value="abc"/>'),),
+        "check", "leg.urdf", "urdf.link[hip].inertial.mass.value", "number"),
+    Bad("URDF negative inertia", (("leg.urdf", 'ixx="0.0004"', 'ixx="-0.0004"'),),
+        "check", "leg.urdf", "urdf.link[hip].inertial.inertia", "positive semidefinite"),
+    Bad("URDF zero joint axis", (("leg.urdf", '<axis xyz="0 1 0"/>', '<axis xyz="0 0 0"/>'),),
+        "check", "leg.urdf", "urdf.joint[hip_fe].axis.xyz", "zero vector"),
+    Bad("trajectory: angle column in metres", (("gait.csv", None, CYCLE.replace("q:knee [deg]", "q:knee [m]")),),
+        "assess", "gait.csv", "column 'q:knee [m]'", "revolute"),
 ]
 
 
@@ -355,29 +365,3 @@ def test_subprocess_exit_code_and_single_line(verb, examples, tmp_path):
     lines = proc.stderr.strip().splitlines()
     assert len(lines) == 1 and "Traceback" not in proc.stderr
     _assert_names(lines[0][len(PREFIX):], "catalog.toml", "motor[0].mass", "must be > 0 kg")
-
-
-# --- inputs that are accepted today although they should not be (known gaps) ----------------
-# Each is expected to end in one clear line; they are strict xfails so that a fix shows up as
-# an unexpected pass and the mark is removed then.
-
-KNOWN_GAPS = [
-    Bad("URDF negative link mass", (("leg.urdf", '<mass value="0.45"/>', '<mass value="-0.45"/>'),),
-        "check", "leg.urdf", "urdf.link[hip].inertial.mass", "must be > 0"),
-    Bad("URDF mass not a number", (("leg.urdf", '<mass value="0.45"/>', '<mass value="abc"/>'),),
-        "check", "leg.urdf", "urdf.link[hip].inertial.mass", "number"),
-    Bad("URDF negative inertia", (("leg.urdf", 'ixx="0.0004"', 'ixx="-0.0004"'),),
-        "check", "leg.urdf", "urdf.link[hip].inertial.inertia", "positive"),
-    Bad("URDF zero joint axis", (("leg.urdf", '<axis xyz="0 1 0"/>', '<axis xyz="0 0 0"/>'),),
-        "check", "leg.urdf", "urdf.joint[hip_fe].axis", "zero"),
-    Bad("trajectory: angle column in metres", (("gait.csv", None, CYCLE.replace("q:knee [deg]", "q:knee [m]")),),
-        "assess", "gait.csv", "column 'q:knee [m]'", "rad"),
-]
-
-
-@pytest.mark.xfail(strict=True, reason="not yet rejected: accepted silently (see the case id)")
-@pytest.mark.parametrize("bad", KNOWN_GAPS, ids=[b.id for b in KNOWN_GAPS])
-def test_known_gap_gives_one_clear_line(bad: Bad, examples, tmp_path):
-    # only the contract (exit 2, one line naming the file): the field wording is the fix's choice
-    message = _one_error_line(_run_broken(bad, examples, tmp_path))
-    assert Path(message.split(": ")[0]).name == bad.file

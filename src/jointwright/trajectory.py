@@ -222,7 +222,7 @@ def _header(header, file, joints, frames):
     for joint in joints:
         if ("q", joint) not in keys:
             raise InputError(file, f"column 'q:{joint}'", "is missing: every joint needs its q")
-    return keys, np.asarray(factors)
+    return keys, np.asarray(factors), dims
 
 
 def _wrenches(columns, file):
@@ -246,7 +246,7 @@ def _frozen(x: np.ndarray) -> np.ndarray:
     return x
 
 
-def load_trajectory(path, joint_names, *, frames=None) -> Trajectory:
+def load_trajectory(path, joint_names, *, frames=None, revolute=None) -> Trajectory:
     """Read a duty-cycle CSV into a :class:`Trajectory` (SI units).
 
     Parameters
@@ -258,6 +258,9 @@ def load_trajectory(path, joint_names, *, frames=None) -> Trajectory:
         The robot's actuated joints; each needs a ``q:<joint>`` column, no other joint may appear.
     frames : sequence of str, optional
         Frames allowed in wrench columns; any frame name when None.
+    revolute : sequence of bool, optional
+        Per joint, True for a revolute joint (its columns must carry angular units) and False
+        for a prismatic one (linear units); not checked when None.
 
     Returns
     -------
@@ -278,7 +281,13 @@ def load_trajectory(path, joint_names, *, frames=None) -> Trajectory:
     if not rows:
         raise InputError(file, "header", "the file is empty")
     header = rows[0][1]
-    keys, factors = _header(header, file, joints, None if frames is None else tuple(frames))
+    keys, factors, dims = _header(header, file, joints, None if frames is None else tuple(frames))
+    if revolute is not None:
+        for joint, rev in zip(joints, revolute):
+            if joint in dims and dims[joint][1] != (0 if rev else 1):
+                raise InputError(file, f"column {dims[joint][0]!r}",
+                                 f"joint {joint} is {'revolute' if rev else 'prismatic'}: its units "
+                                 f"must be {'angular (rad, deg)' if rev else 'linear (m, mm)'}")
     data = _numbers(rows[1:], header, file) * factors
     if data.shape[0] < 2:
         raise InputError(file, "rows", f"needs at least 2 samples, got {data.shape[0]}")

@@ -756,3 +756,37 @@ def _check_urdf_text(text: str, file: str) -> None:
                 raise InputError(file, f"urdf.joint[{name}].{key}", f"no link named {got!r}")
         if e.get("type") in ("revolute", "prismatic") and e.find("limit") is None:
             raise InputError(file, f"urdf.joint[{name}].limit", "required for this joint type")
+        axis = e.find("axis")
+        if axis is not None and e.get("type") in ("revolute", "continuous", "prismatic"):
+            values = _urdf_numbers(axis.get("xyz", "1 0 0"), 3, file, f"urdf.joint[{name}].axis.xyz")
+            if not np.linalg.norm(values) > 0:
+                raise InputError(file, f"urdf.joint[{name}].axis.xyz", "must not be the zero vector")
+    for e in root.findall("link"):
+        inertial = e.find("inertial")
+        if inertial is None:
+            continue
+        where = f"urdf.link[{e.get('name')}].inertial"
+        mass = inertial.find("mass")
+        if mass is not None:
+            m = _urdf_numbers(mass.get("value", ""), 1, file, f"{where}.mass.value")[0]
+            if m < 0:
+                raise InputError(file, f"{where}.mass.value", f"must be >= 0 kg, got {m:g}")
+        inertia = inertial.find("inertia")
+        if inertia is not None:
+            keys = ("ixx", "ixy", "ixz", "iyy", "iyz", "izz")
+            v = {k: _urdf_numbers(inertia.get(k, "0"), 1, file, f"{where}.inertia.{k}")[0] for k in keys}
+            tensor = np.array([[v["ixx"], v["ixy"], v["ixz"]], [v["ixy"], v["iyy"], v["iyz"]],
+                               [v["ixz"], v["iyz"], v["izz"]]])
+            if np.linalg.eigvalsh(tensor).min() < -1e-12 * max(1.0, np.abs(tensor).max()):
+                raise InputError(file, f"{where}.inertia", "must be positive semidefinite (a physical inertia)")
+
+
+def _urdf_numbers(text: str, count: int, file: str, field: str) -> np.ndarray:
+    """``count`` numbers from a URDF attribute, or one InputError naming it."""
+    try:
+        values = np.array([float(x) for x in str(text).split()])
+    except ValueError:
+        raise InputError(file, field, f"must be {count} number(s), got {text!r}") from None
+    if values.size != count or not np.all(np.isfinite(values)):
+        raise InputError(file, field, f"must be {count} finite number(s), got {text!r}")
+    return values
