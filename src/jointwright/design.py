@@ -21,7 +21,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .drivetrain import Actuator, StageChoice
+from .drivetrain import Actuator, StageChoice, reflected_inertia, torque_capacity
 from .errors import InputError
 from .tomlfile import Table, load_toml
 
@@ -159,29 +159,16 @@ class DesignArrays:
 
     # -- joint-side capacities per mode (N·m) ---------------------------------------------------
     def capacity(self, mode: str, *, continuous: bool = False) -> np.ndarray:
+        """Joint-side torque capacity per mode (N·m), (D, n); see drivetrain.torque_capacity."""
         tau = self.motor_continuous_torque if continuous else self.motor_peak_torque
         gear = self.gear_continuous_torque if continuous else self.gear_peak_torque
-        n = self.ratio
-        if mode == "frictionless":
-            value = n * tau
-        elif mode == "motoring":
-            value = self.eta_forward * n * tau
-        elif mode == "backdriven":
-            with np.errstate(divide="ignore"):
-                value = np.where(self.self_locking, np.inf, n * tau / np.where(self.self_locking, 1.0, self.eta_backward))
-        else:
-            raise ValueError(mode)
-        return np.minimum(value, gear)
+        return torque_capacity(mode, self.ratio, self.eta_forward, self.eta_backward,
+                               self.self_locking, tau, gear)
 
     def reflected_inertia(self, mode: str) -> np.ndarray:
-        base = self.ratio**2 * self.rotor_inertia
-        if mode == "frictionless":
-            return base
-        if mode == "motoring":
-            return self.eta_forward * base
-        if mode == "backdriven":
-            return np.where(self.self_locking, np.inf, base / np.where(self.self_locking, 1.0, self.eta_backward))
-        raise ValueError(mode)
+        """Link-side reflected inertia per mode (kg·m²), (D, n); see drivetrain.reflected_inertia."""
+        return reflected_inertia(mode, self.ratio, self.eta_forward, self.eta_backward,
+                                 self.self_locking, self.rotor_inertia)
 
 
 _ACTUATOR_FIELDS = {

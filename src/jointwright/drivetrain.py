@@ -27,6 +27,41 @@ from .catalog.model import Motor, StageFrame, StageType
 MODES = ("frictionless", "motoring", "backdriven")
 
 
+def torque_capacity(mode, ratio, eta_forward, eta_backward, self_locking, motor_torque, gear_torque):
+    """Joint torque capacity in a power-flow mode (N·m), arrays broadcast.
+
+    frictionless N·τ_m; motoring η_f·N·τ_m; back-driven (holding while the load drives) N·τ_m/η_b;
+    a self-locking stack holds whatever the motor does. Every value is capped by the gear rating.
+    """
+    n, tau = np.asarray(ratio, float), np.asarray(motor_torque, float)
+    if mode == "frictionless":
+        value = n * tau
+    elif mode == "motoring":
+        value = eta_forward * n * tau
+    elif mode == "backdriven":
+        locked = np.asarray(self_locking, bool)
+        value = np.where(locked, np.inf, n * tau / np.where(locked, 1.0, eta_backward))
+    else:
+        raise ValueError(f"unknown mode {mode!r}; expected one of {MODES}")
+    return np.minimum(value, gear_torque)
+
+
+def reflected_inertia(mode, ratio, eta_forward, eta_backward, self_locking, rotor_inertia):
+    """Inertia seen at the joint from the link side (kg·m²), arrays broadcast.
+
+    frictionless N²·I_r; motoring η_f·N²·I_r; back-driven N²·I_r/η_b (inf when self-locking).
+    """
+    base = np.asarray(ratio, float) ** 2 * rotor_inertia
+    if mode == "frictionless":
+        return base
+    if mode == "motoring":
+        return eta_forward * base
+    if mode == "backdriven":
+        locked = np.asarray(self_locking, bool)
+        return np.where(locked, np.inf, base / np.where(locked, 1.0, eta_backward))
+    raise ValueError(f"unknown mode {mode!r}; expected one of {MODES}")
+
+
 @dataclass(frozen=True)
 class StageChoice:
     """One stage of a stack: its type, frame size and ratio (input speed / output speed)."""
@@ -95,18 +130,9 @@ class Actuator:
         )
 
     def reflected_inertia(self, mode: str) -> float:
-        """Inertia seen at the joint from the link side (kg·m²).
-
-        frictionless N²·I_r; motoring η_f·N²·I_r; back-driven N²·I_r/η_b (inf when self-locking).
-        """
-        base = self.ratio**2 * self.rotor_inertia
-        if mode == "frictionless":
-            return base
-        if mode == "motoring":
-            return self.eta_forward * base
-        if mode == "backdriven":
-            return math.inf if self.self_locking else base / self.eta_backward
-        raise ValueError(f"unknown mode {mode!r}; expected one of {MODES}")
+        """Inertia seen at the joint from the link side (kg·m²); see :func:`reflected_inertia`."""
+        return float(reflected_inertia(mode, self.ratio, self.eta_forward, self.eta_backward,
+                                       self.self_locking, self.rotor_inertia))
 
     @cached_property
     def mass(self) -> float:
@@ -145,23 +171,12 @@ class Actuator:
         )
 
     def capacity(self, mode: str, *, continuous: bool = False) -> float:
-        """Joint torque capacity (N·m) in a mode, capped by the gear rating.
-
-        frictionless N·τ_m; motoring η_f·N·τ_m; back-driven (holding while the load drives)
-        N·τ_m/η_b; self-locking holds up to the gear rating whatever the motor does.
-        """
+        """Joint torque capacity (N·m) in a mode, capped by the gear rating; see
+        :func:`torque_capacity`."""
         tau_m = self.motor.continuous_torque if continuous else self.motor.peak_torque
         gear = self.gear_continuous_torque if continuous else self.gear_peak_torque
-        n = self.ratio
-        if mode == "frictionless":
-            value = n * tau_m
-        elif mode == "motoring":
-            value = self.eta_forward * n * tau_m
-        elif mode == "backdriven":
-            value = math.inf if self.self_locking else n * tau_m / self.eta_backward
-        else:
-            raise ValueError(f"unknown mode {mode!r}; expected one of {MODES}")
-        return min(value, gear)
+        return float(torque_capacity(mode, self.ratio, self.eta_forward, self.eta_backward,
+                                     self.self_locking, tau_m, gear))
 
     @cached_property
     def breakaway_torque(self) -> float:
