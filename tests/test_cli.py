@@ -23,7 +23,7 @@ from jointwright.cli import main
 from jointwright.design import load_design
 from jointwright.project import STANDARD_GRAVITY, load_project
 
-EXAMPLES = ("leg", "arm")
+EXAMPLES = ("leg", "arm", "quadruped")
 
 
 def _run(args: list[str]):
@@ -128,9 +128,18 @@ def test_check_arm_payload_in_kg_is_its_weight(folders):
 @pytest.mark.parametrize("name", EXAMPLES)
 def test_check_table_says_valid_with_units(name, folders):
     out = _run(["check", str(folders[name] / "project.toml")]).stdout
+    project = load_project(folders[name] / "project.toml")
     assert "inputs are valid" in out
-    assert " kg" in out
-    assert " N" in out and " m/s" in out
+    units = {"payload_min": "N", "effective_mass_max": "kg", "speed_min": "m/s", "backdrive_force_max": "N"}
+    shown = 0
+    for case in project.cases:
+        for key, value in case.limits.items():
+            if key in units:  # e.g. "payload min 150 N"
+                assert f"{key.replace('_', ' ')} {value:.4g} {units[key]}" in out, (case.name, key)
+                shown += 1
+    assert shown >= 1
+    if math.isfinite(project.requirements.total_mass_max):
+        assert f"{project.requirements.total_mass_max:.4g} kg" in out
 
 
 # --- assess ------------------------------------------------------------------------------------
@@ -168,9 +177,12 @@ def test_assess_table_shows_api_numbers_with_units(name, folders, api):
             if isinstance(value, float) and math.isfinite(value):
                 assert f"{value:.4g} {unit}" in out, (case.name, key)
                 shown += 1
-    assert shown >= 4
     for check in result.checks:
         assert check.subject in out
+        if check.unit in ("N", "kg", "m/s") and math.isfinite(check.achieved):
+            assert f"{check.achieved:.4g} {check.unit}" in out, (check.subject, check.requirement)
+            shown += 1
+    assert shown >= 3
     assert "caution:" in out and "safety standards" in out
 
 

@@ -49,7 +49,7 @@ def _example(tmp_path_factory, name: str) -> Path:
 
 @pytest.fixture(scope="module")
 def examples(tmp_path_factory) -> dict[str, Path]:
-    return {name: _example(tmp_path_factory, name) for name in ("leg", "arm")}
+    return {name: _example(tmp_path_factory, name) for name in ("leg", "arm", "quadruped")}
 
 
 def _edit(folder: Path, file: str, old: str, new: str) -> None:
@@ -154,6 +154,16 @@ BAD = [
         "check", "project.toml", "robot.mounts.knee.mount_link", "no link named 'thig'"),
     Bad("ambient temperature in kg", (("project.toml", "imf_min = 0.2", 'imf_min = 0.2\nambient = "25 kg"'),),
         "check", "project.toml", "case[3].ambient", "convertible to degC"),
+    Bad("negative payload requirement", (("project.toml", 'payload_min = "150 N"', 'payload_min = "-150 N"'),),
+        "check", "project.toml", "case[0].payload_min", "must be >= 0 N"),
+    Bad("unknown named pose", (("project.toml", POSE, 'pose = "crouch"'),),
+        "check", "project.toml", "case[0].pose", "unknown pose 'crouch'"),
+    Bad("named pose missing a joint", (("project.toml", "[[case]]", '[poses.crouch]\nhip_ab = 0\nknee = 1\n\n[[case]]'),),
+        "check", "project.toml", "poses.crouch.hip_fe", "every actuated joint needs a position"),
+    Bad("tip speed while holding", (("project.toml", 'motion = "along"', 'motion = "hold"\ntip_speed = "1 m/s"'),),
+        "check", "project.toml", "case[0].tip_speed", "held still"),
+    Bad("negative tip speed", (("project.toml", 'motion = "along"', 'motion = "along"\ntip_speed = "-1 m/s"'),),
+        "check", "project.toml", "case[0].tip_speed", "must be >= 0 m/s"),
     # --- URDF ------------------------------------------------------------------------------
     Bad("malformed URDF", (("leg.urdf", '<joint name="knee" type="revolute">', '<joint name="knee" type="revolute"'),),
         "check", "leg.urdf", "urdf line 41", "malformed XML"),  # where the parser notices
@@ -245,6 +255,18 @@ BAD = [
     # --- the arm example -------------------------------------------------------------------
     Bad("arm: payload as a length", (("project.toml", 'payload_min = "3 kg"', 'payload_min = "3 m"'),),
         "check", "project.toml", "case[0].payload_min", "force", example="arm"),
+    Bad("arm: IMF on a fixed base", (("project.toml", 'effective_mass_max = "4 kg"', 'imf_min = 0.3'),),
+        "check", "project.toml", "case[2].imf_min", "needs a floating base", example="arm"),
+    Bad("quadruped: stance without contacts", (("project.toml", "contacts = [{", "contact = [{"),),
+        "check", "project.toml", "case[1].contacts", "at least one contact", example="quadruped"),
+    Bad("quadruped: contact on a missing frame", (("project.toml", '{ frame = "fl_foot", friction = 0.6 },\n', '{ frame = "fl_toe", friction = 0.6 },\n'),),
+        "check", "project.toml", "case[0].contacts[0].frame", "no frame, link or joint named 'fl_toe'", example="quadruped"),
+    Bad("quadruped: negative friction", (("project.toml", '{ frame = "fl_foot", friction = 0.6 },\n', '{ frame = "fl_foot", friction = -0.6 },\n'),),
+        "check", "project.toml", "case[0].contacts[0].friction", "must be >= 0", example="quadruped"),
+    Bad("quadruped: duplicate contact", (("project.toml", '{ frame = "fr_foot", friction = 0.6 },\n', '{ frame = "fl_foot", friction = 0.6 },\n'),),
+        "check", "project.toml", "case[0].contacts[1].frame", "duplicate contact 'fl_foot'", example="quadruped"),
+    Bad("quadruped: zero contact normal", (("project.toml", '{ frame = "fl_foot", friction = 0.6 },\n', '{ frame = "fl_foot", friction = 0.6, normal = [0, 0, 0] },\n'),),
+        "check", "project.toml", "case[0].contacts[0].normal", "zero vector", example="quadruped"),
     Bad("arm: stage kind restriction unknown", (("project.toml", "max_stages = 1", 'max_stages = 1\nstage_kinds = ["strainwave"]'),),
         "check", "project.toml", "catalog.stage_kinds[0]", "unknown stage kind", example="arm"),
     Bad("URDF negative link mass", (("leg.urdf", '<mass value="0.45"/>', '<mass value="-0.45"/>'),),
