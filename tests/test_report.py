@@ -27,7 +27,7 @@ from jointwright.design import load_design
 from jointwright.project import load_project
 from jointwright.report import build_report
 
-EXAMPLES = ("leg", "arm")
+EXAMPLES = ("leg", "arm", "quadruped")
 #: 4 significant digits: a shown number is within half a unit of its 4th digit, rel ≤ 5e-4 [trade]
 SHOWN_RTOL = 6e-4
 
@@ -146,7 +146,7 @@ def test_case_metrics_equal_the_assessment(built):
 def test_page_is_self_contained_and_every_image_decodes(built):
     p = _parse(built["html"])
     assert p.external == [], "no external file, script or style sheet"
-    assert len(p.images) >= 4
+    assert len(p.images) >= 3  # ellipse, ratio trade, sensitivity at least
     for src in p.images:
         assert src.startswith("data:image/png;base64,")
         img = Image.open(io.BytesIO(base64.b64decode(src.split(",", 1)[1])))
@@ -179,7 +179,7 @@ def test_outcome_names_missed_requirements_and_the_limiting_joint(built):
     assert (f"misses {len(missed)} of" in outcome) == bool(missed)
     for c in missed:
         assert f"{c['subject']}: {c['requirement'].replace('_', ' ')}" in outcome
-    payload = [c for c in a["cases"] if c["kind"] == "payload"]
+    payload = [c for c in a["cases"] if c["kind"] in ("payload", "stance")]
     worst = min(payload, key=lambda c: c["metrics"]["payload"])
     assert f"limited by joint {worst['limiting_joint']}" in outcome
     assert "self-locking" in outcome
@@ -235,7 +235,7 @@ def test_browser_renders_the_numbers_and_images(built, tmp_path):
     r = _chromium(["--dump-dom", url], tmp_path / "profile")
     assert r.returncode == 0, r.stderr[-2000:]
     dom = _parse(r.stdout)
-    assert len(dom.images) >= 4
+    assert len(dom.images) == len(_parse(built["html"]).images)
     a = built["assessment"]
     assert _close(_value(_cell(dom.cells, field="total_mass")), a["total_mass"])
     for c in a["checks"]:
@@ -286,3 +286,21 @@ def test_self_locking_joint_shows_infinity_and_the_caution(tmp_path):
     assert "∞ kg·m²" in html and "∞ N·m" in html  # back-driven reflected inertia, breakaway torque
     assert "pinch and crush hazard" in html
     assert not re.search(r"\bnan\b", re.sub(r'src="data:[^"]*"', "", html), flags=re.IGNORECASE)
+
+
+def test_sizing_and_frontier_sections_join_the_report(tmp_path):
+    folder = _new(tmp_path / "leg", "leg")
+    project = load_project(folder / "project.toml")
+    design = load_design(folder / "design.toml", project)
+    sizing = {"status": "time_limit", "objective_kind": "payload", "objective": 74.96, "bound": 80.0,
+              "gap": 0.067, "alternatives": [{"joint": "hip_ab", "actuator": "PX-80x20 | PL/PL-52 6:1",
+                                              "change": "other motor", "objective": 70.0, "loss": 4.96}]}
+    frontier = {"x": {"label": "impact mitigation factor", "unit": ""}, "y": {"label": "worst payload", "unit": "N"},
+                "points": [{"x": 0.10, "y": 90.0}, {"x": 0.15, "y": 74.96}, {"x": 0.22, "y": 50.0}], "chosen": 1}
+    html = build_report(project, design, tmp_path / "out", sizing=sizing, frontier=frontier).read_text("utf-8")
+    assert 'id="runner-ups"' in html and 'id="frontier"' in html
+    assert "proven bound 80 N" in html and "loses 4.96 N" in html
+    p = _parse(html)
+    for src in p.images:
+        Image.open(io.BytesIO(base64.b64decode(src.split(",", 1)[1]))).load()
+    assert (tmp_path / "out" / "figures" / "frontier.png").is_file()

@@ -183,12 +183,22 @@ def test_frontier_hook_draws_points_and_rejects_bad_points(tmp_path):
 
 
 def test_runner_ups_duty_and_study_hooks(tmp_path):
-    s = hooks.runner_ups_section({"objective": {"name": "worst payload", "unit": "N", "value": 240.0},
-                                  "runner_ups": [{"name": "r1", "objective": 230.0, "why": "heavier knee"}],
-                                  "per_joint": {"knee": [{"choice": "PL 9:1", "objective": 220.0, "why": "IMF"}]}})
-    assert "−10 N" in s.body and "heavier knee" in s.body and "Alternatives at knee" in s.body
-    with pytest.raises(InputError, match="runner_ups\\[0\\].why"):
-        hooks.runner_ups_section({"objective": {"value": 1.0}, "runner_ups": [{"name": "r", "objective": 1.0}]})
+    sizing = {"status": "optimal", "objective_kind": "payload", "objective": 240.0, "bound": 240.0, "gap": 0.0,
+              "backend": "search", "message": "proven optimum",
+              "alternatives": [{"joint": "knee", "actuator": "PX-80x20 | PL/PL-52 6:1", "change": "other motor",
+                                "objective": 230.0, "loss": 10.0, "ruled_out_by": None},
+                               {"joint": "knee", "actuator": "PX-96x24 | SW/SW-14 50:1", "change": "other stage type",
+                                "objective": None, "loss": None, "ruled_out_by": "touchdown: imf min"}],
+              "diagnosis": [{"requirement": "touchdown: imf min", "limit": 0.2, "best_achievable": 0.18,
+                             "shortfall": 0.1, "relaxed_objective": 250.0}]}
+    s = hooks.runner_ups_section(sizing)
+    assert "loses 10 N" in s.body and "misses touchdown: imf min" in s.body and "250 N" in s.body
+    assert "+0.0 %" in s.body and "230 N" in s.body
+    sizing["alternatives"][0]["objective"] = "high"
+    with pytest.raises(InputError, match=r"alternatives\[0\]\.objective"):
+        hooks.runner_ups_section(sizing)
+    with pytest.raises(InputError, match="objective_kind"):
+        hooks.runner_ups_section({"status": "optimal"})
     d = hooks.duty_section({"case": "trot", "time": [0.0, 0.5, 1.0], "motor_torque": {"knee": [0.1, 0.4, 0.1]},
                             "limits": {"knee continuous": 0.3},
                             "summary": [{"joint": "knee", "rms_torque": 0.25, "backdriven_share": 0.4}]}, tmp_path)

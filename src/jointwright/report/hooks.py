@@ -12,7 +12,7 @@ from pathlib import Path
 
 from ..errors import InputError
 from . import figures
-from .markup import Cell, Section, figure, fmt, paragraph, table
+from .markup import Cell, Section, figure, fmt, paragraph, pct, table
 
 
 def _need(data, key: str, kind, file: str, where: str):
@@ -30,37 +30,63 @@ def _need(data, key: str, kind, file: str, where: str):
     return value
 
 
-def runner_ups_section(data: dict, file: str = "<sizing>") -> Section:
-    """Runner-up designs (and per-joint alternatives) and why they lost.
+#: unit of the sizing objective per kind (payload N, total mass kg, IMF dimensionless)
+OBJECTIVE_UNITS = {"payload": "N", "mass": "kg", "imf": ""}
 
-    ``data``: ``{"objective": {"name", "unit", "value"}, "status": str,
-    "runner_ups": [{"name", "objective", "why", "joints": {joint: label}}],
-    "per_joint": {joint: [{"choice", "objective", "why"}]}}``; lists may be empty or absent.
+
+def _optional(data, key: str, file: str, where: str):
+    """A number or None (JSON null: not assessed / rules the option out)."""
+    return None if data.get(key) is None else _need(data, key, float, file, where)
+
+
+def runner_ups_section(data: dict, file: str = "<sizing>") -> Section:
+    """How the design was chosen, the per-joint runner-ups and why they lost.
+
+    ``data`` is the JSON form of a sizing result (``SizingResult.to_dict()``): ``status``,
+    ``objective_kind``, ``objective``, ``bound``, ``gap``, ``backend``, ``seconds``, ``message``,
+    ``alternatives`` = [{joint, actuator, change, objective, loss, ruled_out_by}] and, for an
+    infeasible problem, ``diagnosis`` = [{requirement, limit, best_achievable, shortfall,
+    relaxed_objective}]. Only ``status`` and ``objective_kind`` are required.
     """
-    obj = _need(data, "objective", dict, file, "")
-    unit = obj.get("unit", "")
-    chosen = _need(obj, "value", float, file, "objective.")
-    parts = [paragraph(f"Chosen design: {obj.get('name', 'objective')} {fmt(chosen, unit)}"
-                       + (f" (search status: {data['status']})" if data.get("status") else "") + ".")]
+    status = _need(data, "status", str, file, "")
+    kind = _need(data, "objective_kind", str, file, "")
+    unit = OBJECTIVE_UNITS.get(kind, "")
+    head = [f"Search status: {status}"]
+    if data.get("objective") is not None:
+        head.append(f"objective ({kind}) {fmt(_need(data, 'objective', float, file, ''), unit)}")
+    if data.get("bound") is not None:
+        head.append(f"proven bound {fmt(_need(data, 'bound', float, file, ''), unit)}")
+    if data.get("gap") is not None:
+        head.append(f"relative gap {pct(_need(data, 'gap', float, file, ''))}")
+    if data.get("backend"):
+        head.append(f"back-end {data['backend']}")
+    parts = [paragraph("; ".join(head) + "."), paragraph(str(data.get("message", "")))]
     rows = []
-    for k, r in enumerate(data.get("runner_ups", [])):
-        where = f"runner_ups[{k}]."
-        value = _need(r, "objective", float, file, where)
-        joints = r.get("joints", {})
-        rows.append([_need(r, "name", str, file, where), Cell(fmt(value, unit), "num"),
-                     Cell(fmt(value - chosen, unit), "num"), _need(r, "why", str, file, where),
-                     "; ".join(f"{j}: {v}" for j, v in joints.items())])
+    for k, r in enumerate(data.get("alternatives") or []):
+        where = f"alternatives[{k}]."
+        value = _optional(r, "objective", file, where)
+        loss = _optional(r, "loss", file, where)
+        why = (f"misses {r['ruled_out_by']}" if r.get("ruled_out_by")
+               else f"loses {fmt(loss, unit)}" if loss is not None else "—")
+        rows.append([_need(r, "joint", str, file, where), _need(r, "actuator", str, file, where),
+                     str(r.get("change", "")), Cell(fmt(value, unit), "num"), why])
     if rows:
-        parts.append(table(["runner-up", "objective", "versus chosen", "why it lost", "differs at"], rows))
-    for joint, alts in (data.get("per_joint") or {}).items():
-        jrows = []
-        for k, r in enumerate(alts):
-            where = f"per_joint.{joint}[{k}]."
-            value = _need(r, "objective", float, file, where)
-            jrows.append([_need(r, "choice", str, file, where), Cell(fmt(value, unit), "num"),
-                          _need(r, "why", str, file, where)])
-        parts.append(f"<h3>Alternatives at {joint}</h3>" + table(["choice", "objective", "why it lost"], jrows))
-    return Section("runner-ups", "Runner-ups and why they lost", "".join(parts))
+        parts.append(table(["joint", "runner-up actuator", "change", f"objective ({kind})", "why it lost"], rows,
+                           caption="Each runner-up changes one joint of the chosen design and keeps the rest; "
+                                   "it is re-evaluated with the full physics."))
+    diag = []
+    for k, r in enumerate(data.get("diagnosis") or []):
+        where = f"diagnosis[{k}]."
+        diag.append([_need(r, "requirement", str, file, where),
+                     Cell(fmt(_need(r, "limit", float, file, where)), "num"),
+                     Cell(fmt(_optional(r, "best_achievable", file, where)), "num"),
+                     Cell(pct(_optional(r, "shortfall", file, where)), "num"),
+                     Cell(fmt(_optional(r, "relaxed_objective", file, where), unit), "num")])
+    if diag:
+        parts.append("<h3>Why no design meets every requirement</h3>" + table(
+            ["requirement", "limit", "best achievable alone", "shortfall", "objective without it"], diag,
+            caption="One requirement at a time: its best value over all options, and what dropping it buys."))
+    return Section("runner-ups", "How the design was chosen: runner-ups and why they lost", "".join(parts))
 
 
 def _points(data, file):

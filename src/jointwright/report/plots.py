@@ -36,7 +36,12 @@ def polytope_section(evaluator, arrays, a: dict, fig_dir: Path) -> Section:
         "(N·τ_peak/η_b). A real motion mixes modes joint by joint; the dots are the payloads of the "
         "cases at this pose, computed with their own modes. The plot is the section of the 3-D "
         "polytope by the plane of two world axes through zero force (not a projection).")]
-    for k, s in enumerate(polytope_sections(evaluator, arrays, payload)):
+    drawn = polytope_sections(evaluator, arrays, payload)
+    if not drawn:
+        parts.append(paragraph("No single-contact payload case: nothing to draw. Stance cases (the "
+                               "body carried on several feet with friction cones) are solved as a "
+                               "cone program; their numbers are under Every case."))
+    for k, s in enumerate(drawn):
         name = f"polytope-{k + 1}"
         png = figures.save(figures.polytope_figure(s), fig_dir, name)
         notes = [MODE_WORDS[m] for m, c in s.clipped.items() if c]

@@ -19,6 +19,8 @@ CASE_METRICS = {
                 ("payload_lower", "… tip yielding to the force", "N"),
                 ("payload_hold", "… holding still", "N"),
                 ("payload_frictionless", "… frictionless gears (reference)", "N")),
+    "stance": (("payload", "payload carried by the body, case motion", "N"),
+               ("payload_frictionless", "… frictionless gears (reference)", "N")),
     "impact": (("imf", "impact mitigation factor, back-driven (dimensionless)", ""),
                ("imf_restricted", "IMF over the directions the limb can move (dimensionless)", ""),
                ("imf_direction", "directional IMF along the direction (dimensionless)", ""),
@@ -81,14 +83,16 @@ def _limiting_reason(a: dict, case: dict) -> str:
     j = next((x for x in a["joints"] if x["joint"] == case["limiting_joint"]), None)
     if j is None:
         return ""
-    mode = (case.get("joint_modes") or {}).get(j["joint"], "motoring")
-    cap = _f(j["capacity_motoring"] if mode == "motoring" else j["capacity_backdriven"])
+    mode = (case.get("joint_modes") or {}).get(j["joint"])
+    cap = _f(j["capacity_motoring"] if mode in (None, "motoring") else j["capacity_backdriven"])
     gear = _f(j["gear_peak_torque"])
+    who = "it is" if mode is None else f"it is {mode} and"
     if math.isfinite(gear) and math.isclose(cap, gear, rel_tol=1e-9):
-        return (f"it is {mode} and at its gear's rated peak torque ({fmt(gear, 'N·m')}): a larger "
+        return (f"{who} at its gear's rated peak torque ({fmt(gear, 'N·m')}): a larger "
                 "gear frame raises the payload, a larger motor or ratio does not")
-    return (f"it is {mode} and at its motor's peak torque through the gear ({fmt(cap, 'N·m')}): "
-            "a larger motor or a higher ratio raises the payload")
+    what = "drive torque" if mode is None else "motor's peak torque through the gear"
+    return (f"{who} at its {what} ({fmt(cap, 'N·m')}): a larger motor or a higher ratio raises "
+            "the payload")
 
 
 def outcome_section(a: dict, project) -> Section:
@@ -102,7 +106,8 @@ def outcome_section(a: dict, project) -> Section:
         items = "; ".join(f"{_check_label(c)} {fmt(c['achieved'], c['unit'])} against "
                           f"{fmt(c['limit'], c['unit'])} ({pct(c['margin'])})" for c in missed)
         words.append(f"The design “{a['design']}” misses {len(missed)} of {len(checks)} requirements: {items}.")
-    payload = [c for c in a["cases"] if c["kind"] == "payload" and c["metrics"].get("payload") is not None]
+    payload = [c for c in a["cases"] if c["kind"] in ("payload", "stance")
+               and c["metrics"].get("payload") is not None]
     if payload:
         worst = min(payload, key=lambda c: _f(c["metrics"]["payload"]))
         value = _f(worst["metrics"]["payload"])
@@ -223,8 +228,12 @@ def cases_section(a: dict) -> Section:
     """Every metric of every case, with the limiting joint and the power-flow mode per joint."""
     parts = []
     for c in a["cases"]:
+        shown = list(CASE_METRICS.get(c["kind"], ()))
+        if c["kind"] == "stance":
+            shown += [(k, f"normal force at {k.split(':', 1)[1]}", "N") for k in c["metrics"]
+                      if k.startswith("normal_force:")]
         rows = [[label, Cell(fmt(c["metrics"][k], unit), "num", (("case", c["name"]), ("metric", k)))]
-                for k, label, unit in CASE_METRICS.get(c["kind"], ()) if c["metrics"].get(k) is not None]
+                for k, label, unit in shown if c["metrics"].get(k) is not None]
         notes = []
         if c.get("limiting_joint"):
             notes.append(f"limited by {c['limiting_joint']}")
