@@ -224,3 +224,44 @@ def test_payload_margin_is_achieved_over_limit(api):
             expected = c.achieved / c.limit - 1 if c.sense == "min" else 1 - c.achieved / c.limit
             assert c.margin == pytest.approx(expected, rel=1e-9, abs=1e-12), (name, c.subject, c.requirement)
             assert c.ok == (c.margin >= 0)
+
+
+# --- the worked studies in studies/: every case is a valid project ------------------------------
+
+STUDIES = Path(__file__).parents[1] / "studies"
+
+
+def _study_projects(name: str):
+    from jointwright.project import project_from_dict
+    from jointwright.study.spec import case_project, expand, load_study
+
+    spec = load_study(STUDIES / name / "study.toml")
+    cases = expand(spec)
+    assert len({c.id for c in cases}) == len(cases)  # no case twice
+    return [(c, project_from_dict(case_project(spec, c), spec.base_file)) for c in cases]
+
+
+def test_leg_study_covers_every_budget_and_threshold():
+    pairs = set()
+    for _, p in _study_projects("leg"):
+        touchdown = p.case("touchdown")
+        pairs.add((round(p.requirements.total_mass_max, 9), touchdown.limits["imf_min"]))
+    # grid 2.6 to 3.8 kg in 4 steps: 2.6 + 0.4·k kg; IMF thresholds as listed
+    assert pairs == {(round(2.6 + 0.4 * k, 9), imf) for k in range(4) for imf in (0.1, 0.15, 0.2, 0.25, 0.3)}
+
+
+def test_arm_study_crosses_payloads_with_architectures():
+    seen = set()
+    for case, p in _study_projects("arm"):
+        kg = p.case("reach-lift").limits["payload_min"] / STANDARD_GRAVITY  # a weight at g_n
+        seen.add((case.variant, p.stage_kinds, round(kg, 9)))
+        assert p.objective == {"maximize": "mass"}
+    kinds = {"any-kind": None, "strain-wave": ("strain_wave",), "cycloidal": ("cycloidal",),
+             "planetary-belt": ("planetary", "belt")}
+    assert seen == {(v, k, float(m)) for v, k in kinds.items() for m in (2, 3, 4, 5)}
+
+
+@pytest.mark.parametrize("name", ["leg", "arm"])
+def test_study_base_project_checks(name):
+    data = json.loads(_run(["check", str(STUDIES / name / "project.toml"), "--json"]).stdout)
+    assert data["cases"]
