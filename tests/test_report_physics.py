@@ -143,10 +143,13 @@ def test_ratio_sweep_is_monotone(example):
 
 def test_efficiency_sensitivity_signs(example):
     sens = efficiency_sensitivity(example["project"], example["ev"], example["arrays"])
-    pay = sens.values["payload"]
-    # raising η_f widens the motoring capacity η_f·N·τ_m: payload never falls
-    assert np.all(pay[:, 0, 1] >= sens.base["payload"] - 1e-9)
-    assert np.all(pay[:, 0, 0] <= sens.base["payload"] + 1e-9)
+    keys = [k for k in sens.values if k.startswith("payload")]
+    assert len(keys) == 1 + len(_payloads(example))  # the smallest and one per case
+    for k in keys:
+        pay = sens.values[k]
+        # raising η_f widens the motoring capacity η_f·N·τ_m: payload never falls
+        assert np.all(pay[:, 0, 1] >= sens.base[k] - 1e-9)
+        assert np.all(pay[:, 0, 0] <= sens.base[k] + 1e-9)
     for case, (key, _s, _u) in impact_metric(example["project"], example["ev"]).items():
         v, base = sens.values[case], sens.base[case]
         # impacts feel the back-driven inertia N²·I_r/η_b only: η_f changes nothing

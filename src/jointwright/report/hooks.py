@@ -124,7 +124,7 @@ def frontier_section(data: dict, fig_dir: Path, file: str = "<frontier>") -> Sec
             for k, (p, (px, py)) in enumerate(zip(pts, xy))]
     body = (figure(png, "frontier", "frontier", "Each point is a design no other design beats on both "
                    "axes; the ring is the chosen design.")
-            + table(["#", xl, yl, "design", "what changes", ""], rows))
+            + table(["#", xl, yl, "design", "what changes", "note"], rows))
     return Section("frontier", "Payload versus back-drivability frontier", body)
 
 

@@ -13,7 +13,7 @@ import numpy as np
 
 from . import figures
 from .geometry import ellipse_sections, plane_label, polytope_sections
-from .markup import Cell, Section, figure, fmt, paragraph, table
+from .markup import Cell, Section, figure, fmt, number, paragraph, table
 from .sweeps import efficiency_sensitivity, impact_metric, ratio_sweep
 
 
@@ -135,21 +135,24 @@ def sensitivity_section(project, evaluator, arrays, fig_dir: Path) -> Section:
         parts.append(figure(png, "efficiency-sensitivity", "sensitivity to efficiency assumptions",
                             f"Change of each metric, in % of its design value, when one efficiency "
                             f"moves by −{pts} (grey) or +{pts} (blue) percentage points."))
+    columns = keys[:1] + [k for k in sens.base if k.startswith("payload:")] + keys[1:]
+    titles.update({k: f"Payload, {k.split(':', 1)[1]}" for k in columns if k.startswith("payload:")})
+    units.update({k: "N" for k in columns if k.startswith("payload:")})
     rows = []
     for j, joint in enumerate(sens.joints):
         for f, fname in enumerate(("η_f", "η_b")):
             row = [joint, fname]
-            for k in keys:
-                for s in range(2):
-                    v = sens.values[k][j, f, s]
-                    row.append(Cell(fmt(v, units[k]), "num"))
+            for k in columns:
+                low, high = sens.values[k][j, f]
+                row.append(Cell(f"{number(low)} / {fmt(high, units[k])}", "num"))
             flags = [f"{sign}{pts} limited by a bound" for s, sign in enumerate("−+") if sens.clipped[j, f, s]]
             if sens.locking_changed[j, f].any():
                 flags.append("self-locking changes")
             row.append(", ".join(flags))
             rows.append(row)
-    headers = ["joint", "efficiency"] + [f"{titles[k]} {sign}{pts}" for k in keys for sign in ("−", "+")] + ["note"]
-    base = "; ".join(f"{titles[k]} {fmt(sens.base[k], units[k])}" for k in keys)
-    parts.append(table(headers, rows, caption=f"Design values: {base}."))
+    headers = ["joint", "efficiency"] + [titles[k] for k in columns] + ["note"]
+    base = "; ".join(f"{titles[k]} {fmt(sens.base[k], units[k])}" for k in columns)
+    parts.append(table(headers, rows, caption=f"Each cell: value with the efficiency −{pts} / +{pts} "
+                                              f"points. Design values: {base}."))
     return Section("sensitivity", "Sensitivity to efficiency assumptions", "".join(parts))
 

@@ -273,9 +273,11 @@ def cautions_section(a: dict, project) -> Section:
     body = ("<h3>Assumptions</h3>" + bullets(assumptions)
             + "<h3>Limits of the model</h3>" + bullets(limits)
             + "<h3>Cautions</h3><div class=\"caution\">" + bullets(list(a["cautions"]) + [
-                "Verify every selection against the supplier's data and by test before committing to it.",
-                "A self-locking or high-ratio joint can trap or crush a person; collaborative operation "
-                "needs the applicable robot and machinery safety standards (risk assessment, "
-                "power and force limits), local codes and licensed engineering practice.",
+                "Effective masses and back-drive forces here are inputs to a contact-safety assessment, "
+                "not its verdict: collaborative operation needs a risk assessment and the body-region "
+                "force and pressure limits of the applicable collaborative-robot standard.",
+                "Holding capacity, self-locking and breakaway torques come from catalog efficiencies and "
+                "friction that vary with load, temperature and wear: do not rely on them to hold a "
+                "load safely without a brake designed for it.",
             ]) + "</div>")
     return Section("cautions", "Assumptions, limits and cautions", body)

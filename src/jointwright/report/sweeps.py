@@ -43,12 +43,15 @@ def impact_metric(project, evaluator) -> dict[str, tuple[str, str, str]]:
 
 
 def _summaries(project, evaluator, arrays) -> dict[str, np.ndarray]:
-    """Worst payload over the payload cases (N) and each impact metric, per design."""
+    """Worst payload over the payload cases (N), each case's payload ("payload:<case>") and each
+    impact metric, per design."""
     ev = evaluator.evaluate(arrays)
     out = {}
     names = payload_cases(project)
     if names:
-        out["payload"] = np.min([np.asarray(ev[n]["payload"], dtype=float) for n in names], axis=0)
+        each = [np.asarray(ev[n]["payload"], dtype=float) for n in names]
+        out["payload"] = np.min(each, axis=0)
+        out.update({f"payload:{n}": v for n, v in zip(names, each)})
     for case, (key, _label, _unit) in impact_metric(project, evaluator).items():
         out[case] = np.asarray(ev[case][key], dtype=float)
     return out
