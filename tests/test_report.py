@@ -304,3 +304,10 @@ def test_sizing_and_frontier_sections_join_the_report(tmp_path):
     for src in p.images:
         Image.open(io.BytesIO(base64.b64decode(src.split(",", 1)[1]))).load()
     assert (tmp_path / "out" / "figures" / "frontier.png").is_file()
+
+
+def test_duty_cycle_section_plots_the_project_duty_case(built):
+    duty = [c for c in built["assessment"]["cases"] if c["kind"] == "duty"]
+    for c in duty:
+        assert f'id="duty-{c["name"]}"' in built["html"]
+        assert (built["path"].parent / "figures" / f"duty-{c['name']}.png").is_file()

@@ -214,3 +214,20 @@ def test_runner_ups_duty_and_study_hooks(tmp_path):
     assert "12.5" in st_.body and (tmp_path / "study-1.png").is_file()
     with pytest.raises(InputError, match=r"rows\[0\]"):
         hooks.study_section({"name": "s", "columns": ["a", "b"], "rows": [["x"]]}, tmp_path)
+
+
+def test_duty_plot_series_has_the_assessed_rms_and_peak(example):
+    # RMS over the cycle √(∫τ²dt / T) [trade] and peak |τ_m| of the plotted motor torque must be
+    # the assessment's numbers: the plot and the table come from one power-flow law
+    from jointwright.metrics.duty import rms
+    from jointwright.report.plots import duty_data
+
+    a = example["a"].to_dict()
+    data = duty_data(example["ev"], example["arrays"], a)
+    assert len(data) == sum(c.kind == "duty" for c in example["project"].cases)
+    for d in data:
+        t = np.asarray(d["time"])
+        for row in d["summary"]:
+            x = np.asarray(d["motor_torque"][row["joint"]])
+            assert float(rms(x, t)) == pytest.approx(row["rms_torque"], rel=1e-9)
+            assert float(np.abs(x).max()) == pytest.approx(row["peak_torque"], rel=1e-9)

@@ -66,7 +66,7 @@ def build_report(project, design, out_dir, *, sizing: dict | None = None, fronti
         plots.ratio_section(project, evaluator, arrays, fig_dir),
         plots.sensitivity_section(project, evaluator, arrays, fig_dir),
     ]
-    parts += [hooks.duty_section(d, fig_dir) for d in duty or []]
+    parts += [hooks.duty_section(d, fig_dir) for d in plots.duty_data(evaluator, arrays, a) + list(duty or [])]
     if study is not None:
         parts.append(hooks.study_section(study, fig_dir))
     parts += [sections.cases_section(a), sections.cautions_section(a, project)]

@@ -215,12 +215,15 @@ def points_figure(points, chosen=None, *, x_label: str, y_label: str, title: str
 
 
 def series_figure(time, series, limits, *, y_label: str, title: str) -> Figure:
-    """Time series per joint (duty cycles): ``series`` = {joint: values}, ``limits`` = {label: value}."""
+    """Time series per joint (duty cycles): ``series`` = {joint: values}; ``limits`` = {label: value},
+    drawn at ±value."""
     fig, (ax,) = _figure(height=3.8)
     for k, (joint, values) in enumerate(series.items()):
         ax.plot(time, values, color=JOINT_COLOURS[k % len(JOINT_COLOURS)], lw=1.4, label=joint)
-    for label, value in limits.items():
-        ax.axhline(value, color="#b0413e", lw=1.0, ls=":", label=label)
+    for k, (label, value) in enumerate(limits.items()):
+        ls = (":", "-.", "--")[k % 3]
+        ax.axhline(value, color="#b0413e", lw=1.0, ls=ls, label=f"{label} (±)")
+        ax.axhline(-value, color="#b0413e", lw=1.0, ls=ls)
     _label(ax, "time (s)", y_label)
     _title(ax, title)
     _legend(fig, [ax], ncols=3)

@@ -148,7 +148,7 @@ def duty_section(data: dict, fig_dir: Path, file: str = "<duty>") -> Section:
              Cell(fmt(s.get("peak_torque"), "N·m"), "num"), Cell(fmt(s.get("peak_temperature"), "°C"), "num"),
              Cell(fmt(100 * s["backdriven_share"] if s.get("backdriven_share") is not None else None, "%"), "num")]
             for s in data.get("summary", [])]
-    body = figure(png, name, f"duty cycle {case}", "Motor torque per joint; dotted lines are ratings.")
+    body = figure(png, name, f"duty cycle {case}", "Motor torque per joint over the cycle, by the power-flow law sample by sample; red lines are ratings (±).")
     if rows:
         body += table(["joint", "RMS torque", "peak torque", "peak winding temperature", "time back-driven"], rows)
     return Section(f"duty-{case}", f"Duty cycle {case}", body)

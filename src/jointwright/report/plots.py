@@ -156,3 +156,35 @@ def sensitivity_section(project, evaluator, arrays, fig_dir: Path) -> Section:
                                               f"points. Design values: {base}."))
     return Section("sensitivity", "Sensitivity to efficiency assumptions", "".join(parts))
 
+
+
+def duty_data(evaluator, arrays, a: dict) -> list[dict]:
+    """The duty-cycle hook's dicts (see :func:`.hooks.duty_section`) for the project's duty cases.
+
+    Motor torque per sample follows the power-flow law of :func:`metrics.duty.motor_torque` on
+    the joint torques of the case's inverse dynamics with this design's actuator masses.
+    """
+    from ..dutycase import joint_torques
+    from ..metrics.duty import motor_torque
+
+    out = []
+    cases = {c["name"]: c for c in a["cases"]}
+    joints = list(evaluator.robot.actuated)
+    for pd in evaluator.duty:
+        tau = joint_torques(pd, arrays.mass)[0]  # (n, T)
+        tm, _mode = motor_torque(tau, pd.qd, pd.qdd, arrays.ratio[0], arrays.eta_forward[0],
+                                 arrays.eta_backward[0], arrays.rotor_inertia[0])
+        m = cases.get(pd.case.name, {}).get("metrics", {})
+        summary = [{"joint": j, **{k: m.get(f"{k}:{j}") for k in
+                                   ("rms_torque", "peak_torque", "peak_temperature", "backdriven_share")}}
+                   for j in joints]
+        worst = cases.get(pd.case.name, {}).get("limiting_joint")
+        limits = {}
+        if worst in joints:
+            k = joints.index(worst)
+            limits = {f"{worst} continuous rating": float(arrays.motor_continuous_torque[0, k]),
+                      f"{worst} peak rating": float(arrays.motor_peak_torque[0, k])}
+        out.append({"case": pd.case.name, "time": pd.trajectory.t.tolist(),
+                    "motor_torque": {j: tm[k].tolist() for k, j in enumerate(joints)},
+                    "limits": limits, "summary": summary})
+    return out
