@@ -162,10 +162,11 @@ def duty_data(evaluator, arrays, a: dict) -> list[dict]:
     """The duty-cycle hook's dicts (see :func:`.hooks.duty_section`) for the project's duty cases.
 
     Motor torque per sample follows the power-flow law of :func:`metrics.duty.motor_torque` on
-    the joint torques of the case's inverse dynamics with this design's actuator masses.
+    the joint torques of the case's inverse dynamics with this design's actuator masses, with the
+    same standstill threshold as the duty summary.
     """
     from ..dutycase import joint_torques
-    from ..metrics.duty import motor_torque
+    from ..metrics.duty import STANDSTILL, motor_torque, peak
 
     out = []
     cases = {c["name"]: c for c in a["cases"]}
@@ -173,7 +174,8 @@ def duty_data(evaluator, arrays, a: dict) -> list[dict]:
     for pd in evaluator.duty:
         tau = joint_torques(pd, arrays.mass)[0]  # (n, T)
         tm, _mode = motor_torque(tau, pd.qd, pd.qdd, arrays.ratio[0], arrays.eta_forward[0],
-                                 arrays.eta_backward[0], arrays.rotor_inertia[0])
+                                 arrays.eta_backward[0], arrays.rotor_inertia[0],
+                                 standstill=STANDSTILL * peak(pd.qd))
         m = cases.get(pd.case.name, {}).get("metrics", {})
         summary = [{"joint": j, **{k: m.get(f"{k}:{j}") for k in
                                    ("rms_torque", "peak_torque", "peak_temperature", "backdriven_share")}}
