@@ -1,0 +1,229 @@
+"""Size every actuator at once: the public entry point behind ``jointwright size``.
+
+``size(project)`` builds every motor × stage-stack option, keeps per joint those that pass the
+joint's own requirements, tightens the lists with bounds that hold for every completion, and
+hands the discrete problem to a back-end (the project's exact branch and bound, Pyomo/HiGHS, or
+enumeration). Whatever a back-end returns is re-evaluated by the numpy physics before it is
+reported. The file fields read from the project's ``[objective]`` table are documented in
+docs/optimizer.md.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+
+import numpy as np
+
+from .assessment import assess
+from .design import Design
+from .errors import InputError
+from .options import JointCandidates, build_table, joint_candidates
+from .problem import OBJECTIVES
+from .solve.model import SizingModel
+from .solve.result import SizingResult, SolveOutcome, relative_gap
+
+BACKENDS = ("search", "pyomo", "enumerate")
+_OBJECTIVE_KEYS = ("maximize", "pin", "exclude", "shared", "ratio_grid")
+
+
+def read_objective(project) -> dict:
+    """The project file's ``[objective]`` table, checked: maximize, pin, exclude, shared, ratio_grid."""
+    raw, file = dict(project.objective), str(project.file)
+    joints = list(project.robot.actuated)
+    for key in raw:
+        if key not in _OBJECTIVE_KEYS:
+            raise InputError(file, f"objective.{key}", f"unknown field; known: {', '.join(_OBJECTIVE_KEYS)}")
+    out = {"maximize": raw.get("maximize", "payload"), "pin": raw.get("pin", {}),
+           "exclude": raw.get("exclude", []), "shared": raw.get("shared", [])}
+    if out["maximize"] not in OBJECTIVES:
+        raise InputError(file, "objective.maximize", f"must be one of {', '.join(OBJECTIVES)}, got {out['maximize']!r}")
+    if raw.get("ratio_grid", "R20") != "R20":
+        raise InputError(file, "objective.ratio_grid", "only the R20 preferred-number grid is offered")
+    check_pins(out["pin"], project, file, "objective.pin")
+    if not isinstance(out["exclude"], list) or not all(isinstance(x, str) for x in out["exclude"]):
+        raise InputError(file, "objective.exclude", "must be a list of motor, stage or frame names")
+    check_shared(out["shared"], joints, file, "objective.shared")
+    return out
+
+
+def check_pins(pins, project, file: str, field: str) -> None:
+    if not isinstance(pins, dict):
+        raise InputError(file, field, "must be a table joint = {motor = ..., stages = [...]}")
+    names = {m.name for m in project.catalog.all_motors()}
+    for j, pin in pins.items():
+        if j not in project.robot.actuated:
+            raise InputError(file, f"{field}.{j}", f"unknown joint; actuated joints are {', '.join(project.robot.actuated)}")
+        if not isinstance(pin, dict) or not set(pin) <= {"motor", "stages"} or not pin:
+            raise InputError(file, f"{field}.{j}", "must be a table with motor and/or stages")
+        if "motor" in pin and pin["motor"] not in names:
+            raise InputError(file, f"{field}.{j}.motor", f"unknown motor {pin['motor']!r}")
+        if "stages" in pin and (not isinstance(pin["stages"], list)
+                                or not all(isinstance(s, dict) for s in pin["stages"])):
+            raise InputError(file, f"{field}.{j}.stages", "must be a list of {stage, frame, ratio} tables")
+
+
+def check_shared(shared, joints, file: str, field: str) -> None:
+    if not isinstance(shared, (list, tuple)):
+        raise InputError(file, field, "must be a list of lists of joint names")
+    seen = set()
+    for i, group in enumerate(shared):
+        if not isinstance(group, (list, tuple)) or len(group) < 2:
+            raise InputError(file, f"{field}[{i}]", "must list at least two joints")
+        for j in group:
+            if j not in joints:
+                raise InputError(file, f"{field}[{i}]", f"unknown joint {j!r}")
+            if j in seen:
+                raise InputError(file, f"{field}[{i}]", f"joint {j!r} is in two shared groups")
+            seen.add(j)
+
+
+def units_of(n: int, shared_idx) -> list[tuple]:
+    """Decision units: each shared group together, every other joint alone."""
+    grouped = {j for g in shared_idx for j in g}
+    return [tuple(g) for g in shared_idx] + [(j,) for j in range(n) if j not in grouped]
+
+
+def build_model(project, kind: str, pins: dict, exclude, shared) -> tuple[SizingModel, JointCandidates]:
+    """Options, per-joint filters and root tightening (every cut holds for every completion)."""
+    table = build_table(project, exclude)
+    n = len(project.robot.actuated)
+    joints = list(project.robot.actuated)
+    shared_idx = [tuple(joints.index(j) for j in g) for g in shared]
+    model = SizingModel(project, table, [np.arange(len(table))] * n, kind, shared_idx)
+    cands = joint_candidates(project, table, model.evaluator, pins)
+    model.candidates = list(cands.index)
+    tighten(model, units_of(n, shared_idx))
+    return model, cands
+
+
+def tighten(model: SizingModel, units: list[tuple], rounds: int = 10) -> None:
+    """Remove options that miss a requirement for every completion; repeat until nothing changes."""
+    root = np.full(model.n, -1, dtype=np.int64)
+    for _ in range(rounds):
+        changed = False
+        for unit in units:
+            opts = model.candidates[unit[0]]
+            for j in unit[1:]:
+                opts = np.intersect1d(opts, model.candidates[j])
+            if opts.size == 0:
+                return
+            st = model.stats(model.candidates)
+            ok = model.child_bounds(root, unit, opts, st)["ok"]
+            ok[ok] = model.costly_ok(root, unit, opts[ok], st)
+            keep = opts[ok]
+            for j in unit:
+                if keep.size != model.candidates[j].size:
+                    changed = True
+                model.candidates[j] = keep
+        if not changed:
+            return
+
+
+def run_backend(model: SizingModel, units, backend: str, time_limit, progress) -> SolveOutcome:
+    if backend == "search":
+        from .solve.search import BranchAndBound
+
+        return BranchAndBound(model, units, time_limit=time_limit, progress=progress).run()
+    if backend == "pyomo":
+        from .solve.pyomo_backend import solve_pyomo
+
+        return solve_pyomo(model, units, time_limit=time_limit)
+    from .solve.enumerate import enumerate_all
+
+    return enumerate_all(model)
+
+
+def size(project, *, objective=None, backend="search", time_limit=None, pins=None, exclude=None,
+         shared=None, progress=None, explain=True) -> SizingResult:
+    """Choose motor, stage stack and ratio for every actuated joint.
+
+    Parameters
+    ----------
+    project : Project
+    objective : "payload" (maximize the worst payload over payload cases, N), "mass" (minimize
+        total actuator mass, kg) or "imf" (maximize the worst IMF); None: the project's
+        ``[objective] maximize``, else "payload".
+    backend : "search" (exact branch and bound), "pyomo" (MILP with HiGHS and lazy cuts) or
+        "enumerate" (every combination; small instances only)
+    time_limit : float, s, optional. On expiry the best design so far with a proven bound.
+    pins : dict joint -> {"motor": name, "stages": [{"stage", "frame", "ratio"}, ...]}
+    exclude : list of motor, stage-type or frame names
+    shared : list of joint-name lists that must get the same option
+    progress : callable(nodes, best objective or None), optional
+    explain : compute alternatives and, when infeasible, the per-requirement diagnosis
+
+    Returns
+    -------
+    SizingResult
+    """
+    start = time.perf_counter()
+    cfg = read_objective(project)
+    kind = objective or cfg["maximize"]
+    if kind not in OBJECTIVES:
+        raise InputError("<api>", "objective", f"must be one of {', '.join(OBJECTIVES)}, got {kind!r}")
+    if backend not in BACKENDS:
+        raise InputError("<api>", "backend", f"must be one of {', '.join(BACKENDS)}, got {backend!r}")
+    if time_limit is not None and not (isinstance(time_limit, (int, float)) and time_limit > 0):
+        raise InputError("<api>", "time_limit", f"must be a positive number of seconds, got {time_limit!r}")
+    pins = cfg["pin"] if pins is None else pins
+    check_pins(pins, project, "<api>", "pins")
+    exclude = cfg["exclude"] if exclude is None else list(exclude)
+    shared = cfg["shared"] if shared is None else [list(g) for g in shared]
+    check_shared(shared, list(project.robot.actuated), "<api>", "shared")
+    _check_objective_cases(project, kind)
+    model, cands = build_model(project, kind, pins, exclude, shared)
+    units = units_of(model.n, model.shared)
+    outcome = run_backend(model, units, backend, time_limit, progress)
+    return finish(project, model, cands, outcome, kind, backend, start, explain, time_limit)
+
+
+def _check_objective_cases(project, kind: str) -> None:
+    if kind == "payload" and not any(c.kind == "payload" for c in project.cases):
+        raise InputError(str(project.file), "case", "objective payload needs at least one payload case")
+    if kind == "imf" and not (project.robot.n_base == 6 and any(c.kind == "impact" for c in project.cases)):
+        raise InputError(str(project.file), "objective.maximize",
+                         "objective imf needs a floating base and at least one impact case")
+
+
+def design_of(project, model: SizingModel, index, name: str) -> Design:
+    acts = tuple(model.table.actuators[int(i)] for i in index)
+    return Design(name=name, joints=tuple(project.robot.actuated), actuators=acts)
+
+
+def finish(project, model, cands, outcome: SolveOutcome, kind, backend, start, explain, time_limit):
+    """Re-evaluate the back-end's design with the numpy physics and explain it."""
+    from .solve.explain import alternatives, binding, diagnose
+
+    sense = -1.0 if kind == "mass" else 1.0
+    options = {j: int(c.size) for j, c in zip(project.robot.actuated, model.candidates)}
+    if outcome.index is None:
+        diag = diagnose(project, model, kind, time_limit) if explain and outcome.status == "infeasible" else ()
+        return SizingResult(outcome.status, kind, None, None, math.nan, sense * outcome.bound, math.inf,
+                            time.perf_counter() - start, backend, outcome.native, outcome.nodes,
+                            diagnosis=diag, options=options,
+                            message=_message(outcome.status, kind, None, diag))
+    design = design_of(project, model, outcome.index, f"{project.name} — {kind} optimum")
+    a = assess(project, design, model.evaluator)
+    value = float(model.score(outcome.index[None, :]).objective[0])
+    status = outcome.status
+    if not a.feasible:
+        status = "error"
+    alts = alternatives(project, model, outcome.index, value) if explain else ()
+    return SizingResult(
+        status=status, objective_kind=kind, design=design, assessment=a, objective=sense * value,
+        bound=sense * outcome.bound, gap=relative_gap(value, outcome.bound),
+        seconds=time.perf_counter() - start, backend=backend, native_status=outcome.native,
+        nodes=outcome.nodes, binding=binding(a), alternatives=alts, options=options,
+        message=_message(status, kind, sense * value, ()))
+
+
+def _message(status, kind, value, diag) -> str:
+    unit = {"payload": "N", "mass": "kg", "imf": ""}[kind]
+    if status == "optimal":
+        return f"proven optimum over the discrete options: {kind} {value:.6g} {unit}".rstrip()
+    if status == "time_limit":
+        return f"time limit reached: best {kind} {value:.6g} {unit}, see bound and gap".rstrip()
+    if status == "infeasible":
+        return "no design meets every requirement" + ("; see the diagnosis" if diag else "")
+    return "the back-end's design failed re-evaluation by the physics; not reported as a solution"

@@ -1,0 +1,415 @@
+"""The discrete co-design problem shared by every back-end: options, payload terms, exact scoring.
+
+A design is one option index per actuated joint (into an :class:`~jointwright.options.OptionTable`).
+Payload cases are linear in the actuator masses (robot/basis.py): with a = Jᵀu,
+
+    τ_j(s) = g0_j + Σ_k m_k·G[k, j] + s·a_j,
+
+and the case's payload is the largest s ≥ 0 with lo_j ≤ τ_j(s) ≤ hi_j for every joint (0 when
+s = 0 already fails), lo/hi the mode-dependent bounds of joint j's option
+(metrics.payload.torque_bounds). This module keeps those terms, the interval bounds the search
+prunes with, and :meth:`SizingModel.score`, which scores complete designs with the one physics
+oracle (:class:`~jointwright.evaluate.Evaluator`) and the project's checks.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..evaluate import Evaluator
+from ..metrics.payload import torque_bounds
+from ..problem import checks, feasible, objective
+
+#: designs whose duty cases are checked per oracle call
+DUTY_CHUNK = 32
+
+#: relative tolerance under which two objective (or mass) values count as a tie
+TIE_TOLERANCE = 1e-9
+
+
+def tie_tol(value: float) -> float:
+    return TIE_TOLERANCE * max(1.0, abs(value)) if math.isfinite(value) else 0.0
+
+
+@dataclass(frozen=True, eq=False)
+class PayloadTerms:
+    """One payload case: τ_j(s) = g0_j + Σ_k m_k·G[k, j] + s·a_j against [lo, hi] per option."""
+
+    name: str
+    a: np.ndarray  # (n,)
+    g0: np.ndarray  # (n,)
+    G: np.ndarray  # (n, n): G[k, j] torque at joint j per kg of actuator k
+    lo: np.ndarray  # (n, O)
+    hi: np.ndarray  # (n, O)
+    minimum: float  # payload_min (0 when none)
+
+
+@dataclass(frozen=True)
+class Scored:
+    """Complete designs scored by the physics oracle (arrays of length D)."""
+
+    index: np.ndarray  # (D, n) option indices
+    objective: np.ndarray  # value to maximize
+    feasible: np.ndarray
+    mass: np.ndarray
+    reflected: np.ndarray  # sum of back-driven reflected inertia, kg·m²
+
+
+class SizingModel:
+    """Options, candidates and case terms of one project for one objective.
+
+    Parameters
+    ----------
+    project : Project
+    table : OptionTable
+    candidates : list of int arrays, per joint
+    kind : "payload", "mass" or "imf"
+    shared : list of tuples of joint indices that must take the same option
+    """
+
+    def __init__(self, project, table, candidates, kind="payload", shared=()):
+        self.project = project
+        self.table = table
+        self.kind = kind
+        self.n = len(project.robot.actuated)
+        self.shared = tuple(tuple(g) for g in shared)
+        self.evaluator = Evaluator(project)
+        impact = tuple(c for c in project.cases if c.kind == "impact")
+        self.impact_cases = impact
+        self.impact_evaluator = Evaluator(dataclasses.replace(project, cases=impact)) if impact else None
+        # duty cases set no objective; only those with a limit take part in the search
+        self.duty = tuple(c for c in project.cases if c.kind == "duty" and c.limits)
+        self.static_project = dataclasses.replace(
+            project, cases=tuple(c for c in project.cases if c.kind != "duty"))
+        self.static_evaluator = Evaluator(self.static_project)
+        self.payload = tuple(self._payload_terms(pc) for pc in self.evaluator.cases
+                             if pc.case.kind == "payload")
+        self.candidates = [np.asarray(c, dtype=np.int64) for c in candidates]
+        self.reflected = table.reflected_backdriven
+        self.mass = table.rows["mass"]
+        self.cost = table.rows["cost"]
+        self.breakaway = table.rows["breakaway_torque"]
+        self.backdrive = tuple(
+            (np.abs(pc.Jj.T @ pc.u), pc.case.limits["backdrive_force_max"])
+            for pc in self.evaluator.cases
+            if pc.case.kind == "backdrive" and "backdrive_force_max" in pc.case.limits)
+        self.effective_mass_limits = tuple(
+            (c.name, c.limits["effective_mass_max"]) for c in impact if "effective_mass_max" in c.limits)
+        from .duty_bound import DutyBound
+
+        self.duty_bound = DutyBound(self.evaluator, table)
+        req = project.requirements
+        self.total_mass_max = req.total_mass_max
+        self.total_cost_max = req.total_cost_max
+
+    # ------------------------------------------------------------------------------------------
+    def _payload_terms(self, pc) -> PayloadTerms:
+        t = self.table
+        O = len(t)
+        # every joint with every option: the evaluator's own capacity formulas (tip speed included)
+        arr = t.arrays(np.repeat(np.arange(O)[:, None], self.n, axis=1))
+        if getattr(pc.case, "tip_speed", 0.0) > 0:
+            cap_m, cap_b = self.evaluator._capacity_at_speed(pc, arr)
+        else:
+            cap_m, cap_b = arr.capacity("motoring"), arr.capacity("backdriven")
+        along = pc.velocity_sign if pc.case.motion != "against" else -pc.velocity_sign
+        sign = {"along": along, "against": -along, "hold": np.zeros_like(along)}[pc.case.motion]
+        lo, hi = torque_bounds(np.broadcast_to(sign, (O, self.n)), cap_m, cap_b)
+        vi = np.asarray(pc.basis.v_index)
+        return PayloadTerms(
+            name=pc.case.name, a=pc.Jj.T @ pc.u, g0=np.asarray(pc.basis.g0)[vi],
+            G=np.asarray(pc.basis.g_mass)[:, vi], lo=np.asarray(lo).T.copy(),
+            hi=np.asarray(hi).T.copy(), minimum=float(pc.case.limits.get("payload_min", 0.0)))
+
+    # ------------------------------------------------------------------------------------------
+    def score(self, index: np.ndarray, *, full: bool = True) -> Scored:
+        """Objective, feasibility, mass and reflected-inertia sum of complete designs (physics
+        oracle). ``full=False`` leaves the duty cases out of the feasibility (a cheaper screen)."""
+        index = np.atleast_2d(np.asarray(index, dtype=np.int64))
+        arrays = self.table.arrays(index)
+        full = full and bool(self.duty)
+        project = self.project if full else self.static_project
+        ev = (self.evaluator if full else self.static_evaluator).evaluate(arrays, detail=False)
+        ok = feasible(checks(project, arrays, ev), index.shape[0])
+        for group in self.shared:
+            ok &= np.all(index[:, list(group)] == index[:, [group[0]]], axis=1)
+        f = np.asarray(objective(project, arrays, ev, self.kind), dtype=float)
+        f = np.where(np.isnan(f), -np.inf, f)
+        return Scored(index, f, ok, arrays.mass.sum(axis=1), self.reflected[index].sum(axis=1))
+
+    def best_key(self, index: np.ndarray) -> tuple | None:
+        """Key of the best design among ``index`` (D, n) that meets every requirement, or None.
+
+        Static cases screen all rows at once; duty cases, the costly ones, are checked only for
+        the leading rows until the best fully feasible one is known.
+        """
+        s = self.score(index, full=not self.duty)
+        if not self.duty:
+            row = self.best(s)
+            return None if row is None else self.key(s, row)
+        known = np.zeros(s.index.shape[0], dtype=bool)
+        ok = s.feasible.copy()
+        order = np.lexsort(tuple(s.index.T[::-1]) + (s.reflected, s.mass, -s.objective))
+        while True:
+            row = self.best(dataclasses.replace(s, feasible=ok))
+            if row is None:
+                return None
+            if known[row]:
+                return self.key(s, row)
+            todo = [row] + [r for r in order if ok[r] and not known[r] and r != row][:DUTY_CHUNK - 1]
+            verdict = self.score(s.index[todo]).feasible
+            known[todo] = True
+            ok[todo] = verdict
+
+    def best(self, s: Scored) -> int | None:
+        """Row of the best feasible design: highest objective (ties within TIE_TOLERANCE), then
+        least mass, then lowest back-driven reflected-inertia sum, then option order."""
+        rows = np.flatnonzero(s.feasible)
+        if rows.size == 0:
+            return None
+        f = s.objective[rows]
+        top = f.max()
+        rows = rows[f >= top - tie_tol(top)]
+        m = s.mass[rows]
+        rows = rows[m <= m.min() + tie_tol(m.min())]
+        r = s.reflected[rows]
+        rmin = r.min()
+        rows = rows[r <= rmin + (tie_tol(rmin) if math.isfinite(rmin) else 0.0)]
+        order = np.lexsort(s.index[rows].T[::-1])
+        return int(rows[order[0]])
+
+    @staticmethod
+    def better(a: tuple, b: tuple | None) -> bool:
+        """Whether key a = (objective, mass, reflected, index tuple) beats key b."""
+        if b is None:
+            return True
+        for k in range(3):
+            x, y = a[k], b[k]
+            sign = 1 if k == 0 else -1
+            tol = tie_tol(y) if math.isfinite(y) else 0.0
+            if sign * (x - y) > tol:
+                return True
+            if sign * (x - y) < -tol:
+                return False
+        return tuple(a[3]) < tuple(b[3])
+
+    def key(self, s: Scored, row: int) -> tuple:
+        return (float(s.objective[row]), float(s.mass[row]), float(s.reflected[row]),
+                tuple(int(v) for v in s.index[row]))
+
+    # --- bounds over partial designs -----------------------------------------------------------
+    def stats(self, candidates) -> dict:
+        """Per joint, extremes over its candidate options (what an unassigned joint can reach)."""
+        def ext(values, fn):
+            return np.array([fn(values[c]) if c.size else np.nan for c in candidates])
+        out = {
+            "mmin": ext(self.mass, np.min), "mmax": ext(self.mass, np.max),
+            "cmin": ext(self.cost, np.min), "rmin": ext(self.reflected, np.min),
+            "bmin": ext(self.breakaway, np.min),
+            "hi": [np.array([t.hi[j, c].max() if c.size else np.nan for j, c in enumerate(candidates)])
+                   for t in self.payload],
+            "lo": [np.array([t.lo[j, c].min() if c.size else np.nan for j, c in enumerate(candidates)])
+                   for t in self.payload],
+            "reach": [self._reach_front(j, c) for j, c in enumerate(candidates)],
+        }
+        out["own"] = [self._own_bounds(j, c, out) for j, c in enumerate(candidates)]
+        return out
+
+    def _own_bounds(self, j: int, cands: np.ndarray, st: dict):
+        """Options of joint j sorted by their own payload bound (most favourable bias over all
+        designs), descending, with the running least mass: an improving design needs
+        min over cases of joint j's ratio bound ≥ the incumbent, so only that prefix is useful."""
+        if self.kind != "payload" or not self.payload or cands.size == 0:
+            return None
+        own = np.full(cands.size, np.inf)
+        for t in self.payload:
+            lo_b = t.g0[j] + np.minimum(st["mmin"][:, None] * t.G, st["mmax"][:, None] * t.G).sum(axis=0)[j]
+            hi_b = t.g0[j] + np.maximum(st["mmin"][:, None] * t.G, st["mmax"][:, None] * t.G).sum(axis=0)[j]
+            a = t.a[j]
+            if a > 0:
+                own = np.minimum(own, (t.hi[j, cands] - lo_b) / a)
+            elif a < 0:
+                own = np.minimum(own, (t.lo[j, cands] - hi_b) / a)
+        order = np.argsort(-own, kind="stable")
+        return own[order], np.minimum.accumulate(self.mass[cands][order])
+
+    def useful_mmin(self, st: dict, floor: float | None) -> np.ndarray:
+        """Least mass per joint over the options that can still reach objective ``floor``."""
+        if floor is None or self.kind != "payload":
+            return st["mmin"]
+        out = st["mmin"].copy()
+        for j, entry in enumerate(st["own"]):
+            if entry is None:
+                continue
+            own, run = entry
+            count = int(np.searchsorted(-own, -floor, side="right"))
+            out[j] = run[count - 1] if count else np.inf
+        return out
+
+    def _reach_front(self, j: int, cands: np.ndarray) -> np.ndarray:
+        """(P, C) non-dominated 'reach' of joint j's options over the payload cases.
+
+        Reach in case c is the bound the ray meets first: hi for a_j > 0, lo for a_j < 0
+        (stored signed so that (reach − τ_bias)/a_j is the joint's ratio bound); +inf where
+        a_j = 0. Options whose reach is no better in every case are dropped: they can never
+        give a larger bound."""
+        if not self.payload or cands.size == 0:
+            return np.zeros((0, len(self.payload)))
+        cols = []
+        for t in self.payload:
+            a = t.a[j]
+            cols.append(t.hi[j, cands] if a > 0 else (t.lo[j, cands] if a < 0 else np.full(cands.size, np.inf)))
+        R = np.stack(cols, axis=1)
+        signs = np.array([1.0 if t.a[j] >= 0 else -1.0 for t in self.payload])
+        good = R * signs  # larger is better in every column
+        good = np.where(np.isnan(good), -np.inf, good)
+        order = np.lexsort(good.T[::-1])[::-1]
+        front = []
+        for i in order:
+            g = good[i]
+            if not any(np.all(good[f] >= g) for f in front):
+                front = [f for f in front if not np.all(g >= good[f])] + [i]
+        return R[np.array(front, dtype=int)]
+
+    def child_bounds(self, idx: np.ndarray, unit: tuple, options: np.ndarray, st: dict,
+                     floor: float | None = None) -> dict:
+        """Bounds for giving the joints of ``unit`` each option in ``options`` (K,).
+
+        ``idx`` (n,) holds the option of every assigned joint and −1 elsewhere; ``st`` the
+        :meth:`stats` of the candidates. Returned arrays are (K,): ``objective`` an upper bound
+        on the objective of every completion, ``mass``/``reflected`` lower bounds, ``ok`` False
+        where some requirement is provably missed by every completion. Exact when every joint
+        is assigned (up to rounding). With ``floor`` (payload objective) only completions whose
+        objective reaches ``floor`` are bounded, so free joints count their useful options only
+        (:meth:`useful_mmin`); the mass bound then holds for those completions.
+        """
+        if floor is not None and self.kind == "payload":
+            st = dict(st, mmin=self.useful_mmin(st, floor))
+        n, K = self.n, options.size
+        unit = list(unit)
+        assigned = idx >= 0
+        assigned[unit] = False
+        free = ~assigned
+        free[unit] = False
+        A, F = np.flatnonzero(assigned), np.flatnonzero(free)
+        if not np.all(np.isfinite(st["mmin"][F])):  # a free joint cannot reach the floor
+            none = np.zeros(K, dtype=bool)
+            return {"objective": np.full(K, -np.inf), "mass": np.full(K, np.inf),
+                    "reflected": np.full(K, np.inf), "ok": none}
+        mass_lb = self.mass[idx[A]].sum() + st["mmin"][F].sum() + len(unit) * self.mass[options]
+        refl_lb = self.reflected[idx[A]].sum() + st["rmin"][F].sum() + len(unit) * self.reflected[options]
+        ok = (mass_lb <= self.total_mass_max * (1 + 1e-9)) & np.isfinite(mass_lb)
+        if math.isfinite(self.total_cost_max):
+            cost_lb = self.cost[idx[A]].sum() + st["cmin"][F].sum() + len(unit) * self.cost[options]
+            ok &= cost_lb <= self.total_cost_max * (1 + 1e-9)
+        worst = np.full(K, np.inf)
+        b_lo = []
+        for c, t in enumerate(self.payload):
+            bound, bias_lo, bias_hi = self._payload_bound(t, c, idx, A, F, unit, options, st)
+            ok &= bound >= t.minimum * (1 - 1e-9) - 1e-12
+            worst = np.minimum(worst, bound)
+            b_lo.append(np.where((t.a > 0), bias_lo, bias_hi))
+        if self.kind == "payload" and F.size:
+            worst = np.minimum(worst, self._free_bound(F, b_lo, st))
+        for absa, fmax in self.backdrive:
+            b = np.empty((K, n))
+            b[:, A] = self.breakaway[idx[A]]
+            b[:, F] = st["bmin"][F]
+            b[:, unit] = self.breakaway[options][:, None]
+            with np.errstate(divide="ignore", invalid="ignore"):
+                force = np.where(absa > 0, b / absa, np.inf).min(axis=1)
+            ok &= force <= fmax * (1 + 1e-9) + 1e-12
+        if self.kind == "payload":
+            f = worst
+        elif self.kind == "mass":
+            f = -mass_lb
+        else:
+            f = np.ones(K)  # the IMF is at most 1; no tighter proven bound is used
+        return {"objective": f, "mass": mass_lb, "reflected": refl_lb, "ok": ok}
+
+    def _payload_bound(self, t, c, idx, A, F, unit, options, st) -> np.ndarray:
+        """Upper bound on the payload of case t over all completions (interval arithmetic)."""
+        K = options.size
+        Gm_lo = np.minimum(st["mmin"][F, None] * t.G[F], st["mmax"][F, None] * t.G[F]).sum(axis=0)
+        Gm_hi = np.maximum(st["mmin"][F, None] * t.G[F], st["mmax"][F, None] * t.G[F]).sum(axis=0)
+        base = t.g0 + self.mass[idx[A]] @ t.G[A]
+        add = self.mass[options][:, None] * t.G[unit].sum(axis=0)
+        b_lo, b_hi = base + Gm_lo + add, base + Gm_hi + add
+        hi = np.empty((K, self.n))
+        lo = np.empty((K, self.n))
+        hi[:, A], lo[:, A] = t.hi[A, idx[A]], t.lo[A, idx[A]]
+        hi[:, F], lo[:, F] = st["hi"][c][F], st["lo"][c][F]
+        hi[:, unit], lo[:, unit] = t.hi[unit][:, options].T, t.lo[unit][:, options].T
+        eps = 1e-9 * (np.abs(b_lo) + np.abs(b_hi) + 1.0)
+        with np.errstate(invalid="ignore"):
+            cannot_hold = np.any((hi < b_lo - eps) | (lo > b_hi + eps), axis=1)
+        a = t.a
+        with np.errstate(divide="ignore", invalid="ignore"):
+            s = np.where(a > 0, (hi - b_lo) / a, np.where(a < 0, (lo - b_hi) / a, np.inf))
+        s = np.where(np.isnan(s), np.inf, s)
+        bound = np.maximum(s.min(axis=1), 0.0)
+        return np.where(cannot_hold, 0.0, bound), b_lo, b_hi
+
+    def _free_bound(self, F, bias, st) -> np.ndarray:
+        """max over options of min over cases of each free joint's ratio bound; min over joints.
+
+        ``bias[c]`` (K, n) is the least favourable-to-nothing bias per case: its lower end where
+        a_j > 0, upper end where a_j < 0, so each ratio bound is optimistic."""
+        K = bias[0].shape[0]
+        out = np.full(K, np.inf)
+        for j in F:
+            R = st["reach"][j]  # (P, C)
+            if R.shape[0] == 0:
+                continue
+            per = []
+            for c, t in enumerate(self.payload):
+                a = t.a[j]
+                if a == 0:
+                    continue
+                with np.errstate(invalid="ignore"):
+                    v = (R[None, :, c] - bias[c][:, j, None]) / a  # (K, P)
+                per.append(np.where(np.isnan(v), np.inf, v))
+            if per:
+                out = np.minimum(out, np.maximum(np.min(per, axis=0).max(axis=1), 0.0))
+        return out
+
+    def costly_ok(self, idx: np.ndarray, unit: tuple, options: np.ndarray, st: dict) -> np.ndarray:
+        """The bounds that cost an oracle call or a trajectory: effective mass, then duty."""
+        ok = self.effective_mass_ok(idx, unit, options, st)
+        if self.duty_bound and ok.any():
+            rows = np.flatnonzero(ok)
+            ok[rows] = self.duty_bound.ok(idx, unit, options[rows], st, self.mass)
+        return ok
+
+    def effective_mass_ok(self, idx: np.ndarray, unit: tuple, options: np.ndarray, st: dict) -> np.ndarray:
+        """False where the effective mass with every unassigned joint at its lightest mass and
+        least reflected inertia already exceeds a limit (effective mass grows with the mass
+        matrix in the Loewner order, so no completion can do better). True without limits or
+        with rotor coupling (then the bound is not proven)."""
+        K = options.size
+        if not self.effective_mass_limits or self.project.rotor_coupling or K == 0:
+            return np.ones(K, dtype=bool)
+        full = np.broadcast_to(idx, (K, self.n)).copy()
+        full[:, list(unit)] = options[:, None]
+        free = np.flatnonzero(full[0] < 0)
+        safe = np.where(full < 0, 0, full)
+        arrays = self.table.arrays(safe)
+        fields_ = {f.name: getattr(arrays, f.name).copy() for f in dataclasses.fields(arrays)}
+        for k in free:
+            fields_["mass"][:, k] = st["mmin"][k]
+            fields_["ratio"][:, k] = 1.0
+            fields_["eta_backward"][:, k] = 1.0
+            fields_["eta_forward"][:, k] = 1.0
+            locked = not math.isfinite(st["rmin"][k])
+            fields_["self_locking"][:, k] = locked
+            fields_["rotor_inertia"][:, k] = 0.0 if locked else st["rmin"][k]
+        virtual = type(arrays)(**fields_)
+        ev = self.impact_evaluator.evaluate(virtual, detail=False)
+        ok = np.ones(K, dtype=bool)
+        for name, limit in self.effective_mass_limits:
+            ok &= np.asarray(ev[name]["effective_mass"]) <= limit * (1 + 1e-9) + 1e-12
+        return ok
