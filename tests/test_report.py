@@ -27,7 +27,7 @@ from jointwright.design import load_design
 from jointwright.project import load_project
 from jointwright.report import build_report
 
-EXAMPLES = ("leg", "arm", "quadruped")
+EXAMPLES = ("leg", "arm", pytest.param("quadruped", marks=pytest.mark.slow))  # 12 joints, cone programs
 #: 4 significant digits: a shown number is within half a unit of its 4th digit, rel ≤ 5e-4 [trade]
 SHOWN_RTOL = 6e-4
 

@@ -17,7 +17,7 @@ from ..design import DesignArrays
 from ..problem import payload_cases
 
 #: ratio multipliers of the sweep (log-spaced, includes 1)
-RATIO_FACTORS = np.geomspace(0.25, 4.0, 33)
+RATIO_FACTORS = np.geomspace(0.25, 4.0, 25)
 
 #: efficiency change of the sensitivity study, absolute (5 percentage points)
 EFFICIENCY_STEP = 0.05
@@ -45,7 +45,7 @@ def impact_metric(project, evaluator) -> dict[str, tuple[str, str, str]]:
 def _summaries(project, evaluator, arrays) -> dict[str, np.ndarray]:
     """Worst payload over the payload cases (N), each case's payload ("payload:<case>") and each
     impact metric, per design."""
-    ev = evaluator.evaluate(arrays)
+    ev = evaluator.evaluate(arrays, detail=False)
     out = {}
     names = payload_cases(project)
     if names:
