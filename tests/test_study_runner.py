@@ -263,3 +263,15 @@ def test_dask_client_and_callable(tmp_path, cluster):
     assert (out.done, out.failed) == (8, 0)
     workers = {c.worker for c in read_cases(tmp_path / "d.sqlite")}
     assert all(w.count(":") == 1 for w in workers)
+
+
+
+def test_dask_retries_lost_tasks_smaller_then_alone():
+    from jointwright.study.runner import _retry_queue
+
+    assert _retry_queue("batch", 5, lost_worker=True) == "single"
+    assert _retry_queue("batch", 5, lost_worker=False) == "single"
+    assert _retry_queue("single", 1, lost_worker=True) == "solo"
+    assert _retry_queue("batch", 1, lost_worker=True) == "solo"
+    assert _retry_queue("solo", 1, lost_worker=True) is None
+    assert _retry_queue("single", 1, lost_worker=False) is None  # e.g. arguments that do not unpickle

@@ -133,6 +133,17 @@ def test_ids_and_hash_are_stable_and_content_based(tmp_path):
     assert ids_a[0] == ids_b[0] and ids_a[1] != ids_b[1]
 
 
+def test_listed_input_files_enter_the_hash(tmp_path):
+    body = HEAD + 'inputs = ["catalog.toml"]\n[[variant]]\nname = "a"\n'
+    (tmp_path / "catalog.toml").write_text("[[motor]]\nname = 'm1'\n")
+    first = load_study(write(tmp_path, body)).hash
+    (tmp_path / "catalog.toml").write_text("[[motor]]\nname = 'm2'\n")
+    assert load_study(write(tmp_path, body)).hash != first
+    with pytest.raises(InputError) as info:
+        load_study(write(tmp_path, body.replace("catalog.toml", "missing.toml")))
+    assert info.value.field == "study.inputs[0]"
+
+
 def test_case_project_applies_assignments_on_a_copy(tmp_path):
     path = write(tmp_path, HEAD + """
         [[vary]]

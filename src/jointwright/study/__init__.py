@@ -10,12 +10,17 @@ The format is described in docs/study-format.md.
 
 from .runner import DEFAULT_CASE_FN, StudyOutcome, execute_case, resolve_case_fn, run_study
 from .spec import Case, StudySpec, case_project, expand, load_study, parse_study
-from .store import CaseRecord, StoredCase, StoredStudy, StudyStore, read_cases, read_runs, read_study
-from .summary import PlotSeries, export_csv, plot_series, summary_rows, summary_table, variant_values
+from .store import (
+    CaseRecord, StoredCase, StoredStudy, StudyStore, read_cases, read_runs, read_study,
+)  # fmt: skip
+from .summary import (
+    PlotSeries, export_csv, plot_series, summary_rows, summary_table, variant_values,
+)  # fmt: skip
 
 __all__ = [
-    "DEFAULT_CASE_FN", "Case", "CaseRecord", "PlotSeries", "StoredCase", "StoredStudy", "StudyOutcome",
-    "StudySpec", "StudyStore", "case_project", "execute_case", "expand", "export_csv", "load_study",
-    "parse_study", "plot_series", "read_cases", "read_runs", "read_study", "resolve_case_fn",
-    "run_study", "summary_rows", "summary_table", "variant_values",
+    "DEFAULT_CASE_FN", "Case", "CaseRecord", "PlotSeries", "StoredCase", "StoredStudy",
+    "StudyOutcome", "StudySpec", "StudyStore", "case_project", "execute_case", "expand",
+    "export_csv", "load_study", "parse_study", "plot_series", "read_cases", "read_runs",
+    "read_study", "resolve_case_fn", "run_study", "summary_rows", "summary_table",
+    "variant_values",
 ]  # fmt: skip

@@ -27,7 +27,7 @@ from concurrent.futures.process import BrokenProcessPool
 from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
-from typing import Any, Callable, Iterable
+from typing import Any, Callable, Iterable, Iterator
 
 from ..errors import InputError
 from .spec import Case, StudySpec, case_project, expand, load_study
@@ -38,6 +38,7 @@ DEFAULT_CASE_FN = "jointwright.study.tasks:run_case"
 _TRACEBACK_FRAMES = 8
 _TRACEBACK_CHARS = 8000
 _DASK_SLOT_REFRESH = 2.0  # s between looks at the cluster's thread count
+_DASK_BATCH_S = 0.25  # s of case work per Dask task, aimed at
 
 
 @dataclass(frozen=True)
@@ -100,7 +101,9 @@ def resolve_case_fn(ref: str | Callable | None) -> Callable:
     if callable(ref):
         return ref
     if not isinstance(ref, str) or ref.count(":") != 1:
-        raise InputError("<api>", "case_fn", f"must be a callable or 'package.module:function', got {ref!r}")
+        raise InputError(
+            "<api>", "case_fn", f"must be a callable or 'package.module:function', got {ref!r}"
+        )
     return _import_case_fn(ref)
 
 
@@ -110,7 +113,9 @@ def _import_case_fn(ref: str) -> Callable:
     try:
         obj: Any = importlib.import_module(module_name)
     except ImportError as exc:
-        raise InputError("<api>", "case_fn", f"cannot import module {module_name!r}: {exc}") from None
+        raise InputError(
+            "<api>", "case_fn", f"cannot import module {module_name!r}: {exc}"
+        ) from None
     for part in attr.split("."):
         if not hasattr(obj, part):
             raise InputError("<api>", "case_fn", f"module {module_name!r} has no {attr!r}")
@@ -159,7 +164,9 @@ def _checked_output(out: Any) -> tuple[dict, str]:
         elif isinstance(value, numbers.Real):
             metrics[name] = float(value)
         else:
-            raise TypeError(f"metric {name!r} must be a number, a string or None, got {type(value).__name__}")
+            raise TypeError(
+                f"metric {name!r} must be a number, a string or None, got {type(value).__name__}"
+            )
     return metrics, json.dumps(out["result"], default=_jsonable, sort_keys=True)
 
 
@@ -218,7 +225,9 @@ def _stop_pool(pool: ProcessPoolExecutor) -> None:
         p.join(5.0)
 
 
-def _run_pool(cases: Iterable[Case], build: Build, sink: Sink, workers: int, fn_ref, preload) -> None:
+def _run_pool(
+    cases: Iterable[Case], build: Build, sink: Sink, workers: int, fn_ref, preload: list[str]
+) -> None:
     """Local process pool. A case that kills its worker is found by re-running the cases that were
     in flight one at a time, and recorded as failed; the others run normally."""
     pending, suspects = deque(cases), deque()
@@ -256,7 +265,8 @@ def _run_pool(cases: Iterable[Case], build: Build, sink: Sink, workers: int, fn_
                 pool = None
                 if len(victims) == 1:
                     case, exc = victims[0]
-                    sink(case, CaseRecord("failed", error=f"worker process died while running this case ({exc})"))
+                    why = f"worker process died while running this case ({exc})"
+                    sink(case, CaseRecord("failed", error=why))
                 else:
                     suspects.extend(case for case, _ in victims)
     except BaseException:
@@ -269,55 +279,124 @@ def _run_pool(cases: Iterable[Case], build: Build, sink: Sink, workers: int, fn_
             pool.shutdown(wait=True)
 
 
-def _dask_record(fut) -> CaseRecord:
-    if fut.status == "finished":
-        return fut.result()
-    if fut.status == "error":
-        exc = fut.exception()
-        return CaseRecord("failed", error=f"{type(exc).__name__}: {exc}")
-    return CaseRecord("failed", error=f"Dask task ended with status {fut.status!r}")
+def execute_cases(case_fn, jobs: list[tuple]) -> list[CaseRecord]:
+    """Run several cases in one task (see :func:`execute_case`)."""
+    return [execute_case(case_fn, *job) for job in jobs]
+
+
+def _retry_queue(queue: str, n_cases: int, lost_worker: bool) -> str | None:
+    """Where the cases of a task that did not finish go next (None: record them as failed)."""
+    if n_cases > 1:
+        return "single"
+    if lost_worker and queue != "solo":
+        return "solo"
+    return None
+
+
+class _DaskFeed:
+    """Keeps a Dask cluster busy with batches of cases.
+
+    Dask costs a few ms per task, so cases are shipped in batches of about ``_DASK_BATCH_S`` of
+    work (from the mean case time so far), small enough that every thread keeps two batches.
+    A task lost with its worker is retried smaller: a batch as single cases, then a single case
+    alone on the cluster (Dask blames every task that was on a dying worker; alone, only the
+    culprit can be). A case lost even alone is recorded as failed.
+    """
+
+    def __init__(self, client, cases: Iterable[Case], build: Build, fn_ref):
+        import uuid
+
+        from distributed import as_completed
+
+        self.client, self.build, self.fn_ref = client, build, fn_ref
+        self.queues: dict[str, deque] = {"solo": deque(), "single": deque(), "batch": deque(cases)}
+        self.in_flight: dict = {}  # key -> (future, [cases], queue name)
+        self.tag, self.serial = uuid.uuid4().hex[:8], 0
+        self.ac = as_completed(loop=client.loop)
+        self.threads, self.looked = 1, -_DASK_SLOT_REFRESH
+        self.case_time, self.cases_done = 0.0, 0
+
+    def _batch_size(self) -> int:
+        if self.cases_done == 0:
+            return 1
+        per_case = max(self.case_time / self.cases_done, 1e-6)
+        spread = max(1, len(self.queues["batch"]) // (2 * self.threads))
+        return int(min(max(1, round(_DASK_BATCH_S / per_case)), spread))
+
+    def _next(self) -> tuple[str, list[Case]] | None:
+        q = self.queues
+        if q["solo"] or any(name == "solo" for _, _, name in self.in_flight.values()):
+            return ("solo", [q["solo"].popleft()]) if q["solo"] and not self.in_flight else None
+        if q["single"]:
+            return "single", [q["single"].popleft()]
+        n = min(self._batch_size(), len(q["batch"]))
+        return ("batch", [q["batch"].popleft() for _ in range(n)]) if n else None
+
+    def refill(self) -> None:
+        if time.monotonic() - self.looked > _DASK_SLOT_REFRESH:
+            self.threads = max(1, sum(self.client.nthreads().values()))
+            self.looked = time.monotonic()
+        while len(self.in_flight) < 2 * self.threads and (item := self._next()) is not None:
+            name, cases = item
+            self.serial += 1
+            key = f"jointwright-{self.tag}-{self.serial}"
+            jobs = [self.build(c) for c in cases]
+            fut = self.client.submit(execute_cases, self.fn_ref, jobs, key=key)
+            self.in_flight[key] = (fut, cases, name)
+            self.ac.add(fut)
+
+    def _lost(self, exc, status: str, cases: list[Case], name: str) -> list[CaseRecord]:
+        """Records for a task that did not finish, or [] when its cases are retried smaller."""
+        retry = _retry_queue(name, len(cases), exc is None or type(exc).__name__ == "KilledWorker")
+        if retry is not None:
+            self.queues[retry].extend(cases)
+            return []
+        why = f"{type(exc).__name__}: {exc}" if exc else f"Dask task ended with status {status!r}"
+        return [CaseRecord("failed", error=why)]
+
+    def _records(self, fut, cases: list[Case], name: str) -> list[CaseRecord]:
+        if fut.status not in ("finished", "error"):
+            return self._lost(None, fut.status, cases, name)
+        try:  # a finished result can still be lost with its worker before it is fetched
+            return fut.result()
+        except Exception as exc:
+            return self._lost(exc, fut.status, cases, name)
+
+    def results(self) -> Iterator[tuple[Case, CaseRecord]]:
+        """Finished cases as they arrive, refilling the cluster as it goes."""
+        self.refill()
+        for fut in self.ac:
+            _, cases, name = self.in_flight.pop(fut.key)
+            records = self._records(fut, cases, name)
+            fut.release()
+            for case, record in zip(cases, records):
+                self.case_time += record.wall_time
+                self.cases_done += 1
+                yield case, record
+            self.refill()
+
+    def cancel(self) -> None:
+        if self.in_flight:
+            self.client.cancel([f for f, _, _ in self.in_flight.values()])
 
 
 def _run_dask(cases: Iterable[Case], build: Build, sink: Sink, scheduler, fn_ref) -> int:
-    """Run on a Dask cluster; returns its thread count."""
-    import uuid
-
-    from distributed import Client, as_completed
+    """Run on a Dask cluster (address or ``distributed.Client``); returns its thread count."""
+    from distributed import Client
 
     own = not isinstance(scheduler, Client)
     client = Client(scheduler, set_as_default=False) if own else scheduler
-    pending, in_flight, futures = deque(cases), {}, {}
-    tag = uuid.uuid4().hex[:8]
-    ac = as_completed(loop=client.loop)
-    threads, looked = 1, -_DASK_SLOT_REFRESH
-
-    def refill() -> None:
-        nonlocal threads, looked
-        if time.monotonic() - looked > _DASK_SLOT_REFRESH:
-            threads, looked = max(1, sum(client.nthreads().values())), time.monotonic()
-        while pending and len(in_flight) < 2 * threads:
-            case = pending.popleft()
-            fut = client.submit(execute_case, fn_ref, *build(case), key=f"jointwright-{tag}-{case.id}")
-            in_flight[fut.key], futures[fut.key] = case, fut
-            ac.add(fut)
-
+    feed = _DaskFeed(client, cases, build, fn_ref)
     try:
-        refill()
-        for fut in ac:
-            case = in_flight.pop(fut.key)
-            futures.pop(fut.key)
-            record = _dask_record(fut)
-            fut.release()
+        for case, record in feed.results():
             sink(case, record)
-            refill()
     except BaseException:
-        if futures:
-            client.cancel(list(futures.values()))
+        feed.cancel()
         raise
     finally:
         if own:
             client.close()
-    return threads
+    return feed.threads
 
 
 # ------------------------------------------------------------------------- progress
@@ -359,7 +438,8 @@ class _Progress:
             f"study {state}: {outcome.done} done, {outcome.failed} failed this run; store holds "
             f"{outcome.done_total} done, {outcome.failed_total} failed of {outcome.total}. "
             f"Wall {outcome.wall_time:.2f} s, case time {outcome.case_time:.2f} s on "
-            f"{outcome.workers} {outcome.backend} slot(s), overhead {100 * outcome.overhead_fraction:.1f} %"
+            f"{outcome.workers} {outcome.backend} slot(s), "
+            f"overhead {100 * outcome.overhead_fraction:.1f} %"
         )
 
 
@@ -373,15 +453,21 @@ def _check_arguments(workers, scheduler, resume: bool, restart: bool) -> None:
         if not isinstance(workers, int) or isinstance(workers, bool) or workers < 1:
             raise InputError("<api>", "workers", f"must be a whole number >= 1, got {workers!r}")
         if scheduler is not None:
-            raise InputError("<api>", "workers", "applies to the local process pool only; a Dask cluster has its own workers")
+            raise InputError(
+                "<api>",
+                "workers",
+                "applies to the local process pool only; a Dask cluster has its own workers",
+            )
 
 
-def _select(cases: list[Case], stored: dict[str, str], store: Path, resume: bool, retry_failed: bool) -> list[Case]:
+def _select(
+    cases: list[Case], stored: dict[str, str], store: Path, resume: bool, retry_failed: bool
+) -> list[Case]:
     if stored and not resume:
         raise InputError(
             str(store), "(file)",
-            f"already holds {len(stored)} case(s) of this study; resume to run only the missing ones, "
-            "or restart to start anew",
+            f"already holds {len(stored)} case(s) of this study; resume to run only the missing "
+            "ones, or restart to start anew",
         )  # fmt: skip
     rerun = ("failed",) if retry_failed else ()
     return [c for c in cases if c.id not in stored or stored[c.id] in rerun]
@@ -437,7 +523,7 @@ def run_study(
     _check_arguments(workers, scheduler, resume, restart)
     spec = study if isinstance(study, StudySpec) else load_study(study)
     fn = resolve_case_fn(case_fn)
-    fn_ref = case_fn if isinstance(case_fn, str) else (fn if case_fn is not None else DEFAULT_CASE_FN)
+    fn_ref = DEFAULT_CASE_FN if case_fn is None else (case_fn if isinstance(case_fn, str) else fn)
     cases = expand(spec)
     store = StudyStore.open(store_path, spec, len(cases), restart=restart)
     try:
@@ -468,8 +554,9 @@ def _run(spec, store, cases, todo, fn_ref, workers, scheduler, show, t0) -> Stud
     def outcome() -> StudyOutcome:
         final = list(store.statuses().values())
         return StudyOutcome(
-            store.path, spec.hash, len(cases), len(cases) - len(todo), counts["done"], counts["failed"],
-            final.count("done"), final.count("failed"), time.perf_counter() - t0, case_time, slots, backend,
+            store.path, spec.hash, len(cases), len(cases) - len(todo), counts["done"],
+            counts["failed"], final.count("done"), final.count("failed"),
+            time.perf_counter() - t0, case_time, slots, backend,
         )  # fmt: skip
 
     try:
@@ -490,7 +577,10 @@ def _run(spec, store, cases, todo, fn_ref, workers, scheduler, show, t0) -> Stud
 def _preload(fn_ref) -> list[str]:
     """Modules the fork server imports once, so each worker starts with them loaded."""
     names = [__name__]
-    module = fn_ref.partition(":")[0] if isinstance(fn_ref, str) else getattr(fn_ref, "__module__", None)
+    if isinstance(fn_ref, str):
+        module = fn_ref.partition(":")[0]
+    else:
+        module = getattr(fn_ref, "__module__", None)
     if module and module != "__main__":
         names.append(module)
     return names

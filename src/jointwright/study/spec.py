@@ -121,7 +121,9 @@ def parse_path(text: Any, *, file: str = "<api>", field: str = "path") -> tuple[
     ``robot.links."upper.arm".inertia[2]`` -> ``("robot", "links", "upper.arm", "inertia", 2)``.
     """
     if not isinstance(text, str) or not text:
-        raise InputError(file, field, f"must be a dotted path such as robot.links.thigh.length, got {text!r}")
+        raise InputError(
+            file, field, f"must be a dotted path such as robot.links.thigh.length, got {text!r}"
+        )
     steps: list[str | int] = []
     pos, expect_key = 0, True
     while pos < len(text):
@@ -135,7 +137,9 @@ def parse_path(text: Any, *, file: str = "<api>", field: str = "path") -> tuple[
             else:
                 m = _BARE.match(text, pos)
                 if not m:
-                    raise InputError(file, field, f"bad key at character {pos + 1} of path {text!r}")
+                    raise InputError(
+                        file, field, f"bad key at character {pos + 1} of path {text!r}"
+                    )
                 steps.append(m.group())
                 pos = m.end()
             expect_key = False
@@ -170,9 +174,13 @@ def _walk(project: dict, steps: tuple, file: str, field: str, text: str) -> tupl
         where = format_path(steps[:depth]) or "the top level"
         if isinstance(step, int):
             if not isinstance(node, list):
-                raise InputError(file, field, f"{text!r}: {where} is not a list in the base project")
+                raise InputError(
+                    file, field, f"{text!r}: {where} is not a list in the base project"
+                )
             if step >= len(node):
-                raise InputError(file, field, f"{text!r}: {where} has {len(node)} items, no [{step}]")
+                raise InputError(
+                    file, field, f"{text!r}: {where} has {len(node)} items, no [{step}]"
+                )
         elif not isinstance(node, dict):
             raise InputError(file, field, f"{text!r}: {where} is not a table in the base project")
         elif step not in node and depth < len(steps) - 1:
@@ -220,28 +228,50 @@ def parse_study(definition: dict, *, file: str = "<api>", study_dir: str | Path 
     head = top.table("study")
     fmt = head.raw("format", STUDY_FORMAT)
     if fmt != STUDY_FORMAT or isinstance(fmt, bool):
-        raise InputError(file, "study.format", f"must be {STUDY_FORMAT} (the format this version reads), got {fmt!r}")
+        raise InputError(
+            file,
+            "study.format",
+            f"must be {STUDY_FORMAT} (the format this version reads), got {fmt!r}",
+        )
     name = head.str("name")
     description = head.str("description", "")
     base_rel = head.str("base")
     task = head.str("task", "size", choices=TASKS)
     combine = head.str("combine", "product", choices=COMBINE)
+    inputs = head.list("inputs", [])
     head.done()
     base_file = (Path(study_dir) / base_rel).resolve()
     if not base_file.is_file():
         raise InputError(file, "study.base", f"base project {str(base_file)!r} not found")
     base = load_toml(base_file)
+    digests = _input_digests(inputs, base_file.parent, file)
     options = _options(top.raw("options", {}), file, "options")
     parameters = tuple(_parameter(t, base, file) for t in top.tables("vary"))
     variants = tuple(_variant(t, base, file) for t in top.tables("variant"))
     top.done()
     _check_structure(parameters, variants, combine, file)
     canonical = {"definition": definition, "base_project": base}
+    if digests:
+        canonical["inputs"] = digests
     digest = hashlib.sha256(canonical_json(canonical).encode()).hexdigest()
     return StudySpec(
         file, name, description, base_file, base, task, options, combine,
         parameters, variants, copy.deepcopy(definition), digest,
     )  # fmt: skip
+
+
+def _input_digests(inputs: list, folder: Path, file: str) -> dict[str, str]:
+    """sha256 of each further input file (relative to the base project's folder)."""
+    out = {}
+    for i, rel in enumerate(inputs):
+        if not isinstance(rel, str) or not (folder / rel).is_file():
+            raise InputError(
+                file,
+                f"study.inputs[{i}]",
+                f"must name a file next to the base project, got {rel!r}",
+            )
+        out[rel] = hashlib.sha256((folder / rel).read_bytes()).hexdigest()
+    return out
 
 
 def canonical_json(value: Any) -> str:
@@ -280,7 +310,9 @@ def _parameter(t: Table, base: dict, file: str) -> Parameter:
     for i, v in enumerate(values):
         key = canonical_json(v)
         if key in seen:
-            raise InputError(file, t.field(kind), f"value {v!r} appears twice (item {i}); cases would repeat")
+            raise InputError(
+                file, t.field(kind), f"value {v!r} appears twice (item {i}); cases would repeat"
+            )
         seen.add(key)
     return Parameter(format_path(steps), tuple(values), kind)
 
@@ -309,7 +341,9 @@ def _flatten(table: dict, prefix: tuple, file: str, field: str) -> Iterator[tupl
         steps = prefix + parse_path(key, file=file, field=f"{field}.{key}")
         if isinstance(value, dict):
             if not value:
-                raise InputError(file, f"{field}.{key}", "empty table; set each value by its dotted path")
+                raise InputError(
+                    file, f"{field}.{key}", "empty table; set each value by its dotted path"
+                )
             yield from _flatten(value, steps, file, field)
         else:
             yield steps, value
@@ -329,7 +363,9 @@ def _as_quantity(v: Any, file: str, field: str):
             raise InputError(file, field, f"must be finite, got {v!r}")
         return float(v), None, None
     if not isinstance(v, str):
-        raise InputError(file, field, f"must be a number or a quantity string such as '2 kg', got {v!r}")
+        raise InputError(
+            file, field, f"must be a number or a quantity string such as '2 kg', got {v!r}"
+        )
     try:
         return float(v), None, None
     except ValueError:
@@ -349,8 +385,14 @@ def _same_dimension(items: list, file: str, field: str) -> None:
     dims = {str(d) for _, _, d in items}
     if len(dims) > 1:
         if "None" in dims:
-            raise InputError(file, field, "mixes plain numbers and quantities with units; write every value with its unit")
-        raise InputError(file, field, f"values have different dimensions: {', '.join(sorted(dims))}")
+            raise InputError(
+                file,
+                field,
+                "mixes plain numbers and quantities with units; write every value with its unit",
+            )
+        raise InputError(
+            file, field, f"values have different dimensions: {', '.join(sorted(dims))}"
+        )
 
 
 def _listed(values: list, file: str, field: str) -> list:
@@ -372,7 +414,11 @@ def _endpoints(t: Table, keys: tuple[str, str], scale: str) -> tuple[float, floa
 
         hi = float(registry().Quantity(b.strip()).to(unit).magnitude)
     if scale == "log" and not (lo > 0 and hi > 0):
-        raise InputError(t.file, t.field(keys[0]), f"log scale needs {keys[0]} and {keys[1]} > 0, got {a!r}, {b!r}")
+        raise InputError(
+            t.file,
+            t.field(keys[0]),
+            f"log scale needs {keys[0]} and {keys[1]} > 0, got {a!r}, {b!r}",
+        )
     return lo, hi, unit
 
 
@@ -397,7 +443,9 @@ def _grid(t: Table, file: str) -> list:
     start, stop, unit = _endpoints(t, ("start", "stop"), scale)
     num = _count(t, "num")
     if num > 1 and start == stop:
-        raise InputError(file, t.field("stop"), f"must differ from start when num > 1, got {start!r}")
+        raise InputError(
+            file, t.field("stop"), f"must differ from start when num > 1, got {start!r}"
+        )
     xs = np.geomspace(start, stop, num) if scale == "log" else np.linspace(start, stop, num)
     return _written(xs, unit)
 
@@ -409,7 +457,9 @@ def _random(t: Table, file: str) -> list:
     scale = t.str("scale", "linear", choices=("linear", "log"))
     low, high, unit = _endpoints(t, ("low", "high"), scale)
     if not low < high:
-        raise InputError(file, t.field("high"), f"must be greater than low, got low={low!r}, high={high!r}")
+        raise InputError(
+            file, t.field("high"), f"must be greater than low, got low={low!r}, high={high!r}"
+        )
     count = _count(t, "count")
     seed = t.raw("seed")
     if not isinstance(seed, int) or isinstance(seed, bool) or seed < 0:
@@ -427,27 +477,45 @@ def _random(t: Table, file: str) -> list:
 
 def _check_structure(parameters, variants, combine: str, file: str) -> None:
     if not parameters and not variants:
-        raise InputError(file, "vary", "empty study: give at least one [[vary]] parameter or [[variant]]")
+        raise InputError(
+            file, "vary", "empty study: give at least one [[vary]] parameter or [[variant]]"
+        )
     seen: dict[str, int] = {}
     for i, v in enumerate(variants):
         if v.name in seen:
-            raise InputError(file, f"variant[{i}].name", f"duplicate variant name {v.name!r} (also variant[{seen[v.name]}])")
+            raise InputError(
+                file,
+                f"variant[{i}].name",
+                f"duplicate variant name {v.name!r} (also variant[{seen[v.name]}])",
+            )
         seen[v.name] = i
     steps = [parse_path(p.path) for p in parameters]
     for i, j in itertools.combinations(range(len(parameters)), 2):
         if _overlap(steps[i], steps[j]):
-            raise InputError(file, f"vary[{j}].path", f"{parameters[j].path!r} overlaps vary[{i}] ({parameters[i].path!r})")
+            raise InputError(
+                file,
+                f"vary[{j}].path",
+                f"{parameters[j].path!r} overlaps vary[{i}] ({parameters[i].path!r})",
+            )
     for k, v in enumerate(variants):
         for path, _ in v.assignments:
             for i, s in enumerate(steps):
                 if _overlap(parse_path(path), s):
-                    raise InputError(file, f"variant[{k}].set", f"{path!r} overlaps vary[{i}] ({parameters[i].path!r})")
+                    raise InputError(
+                        file,
+                        f"variant[{k}].set",
+                        f"{path!r} overlaps vary[{i}] ({parameters[i].path!r})",
+                    )
     if combine == "zip" and len({len(p.values) for p in parameters}) > 1:
         sizes = ", ".join(f"{p.path}: {len(p.values)}" for p in parameters)
-        raise InputError(file, "study.combine", f"zip needs the same number of values per parameter ({sizes})")
+        raise InputError(
+            file, "study.combine", f"zip needs the same number of values per parameter ({sizes})"
+        )
     n = count_cases(parameters, variants, combine)
     if n > MAX_CASES:
-        raise InputError(file, "vary", f"study expands to {n} cases; at most {MAX_CASES} are allowed")
+        raise InputError(
+            file, "vary", f"study expands to {n} cases; at most {MAX_CASES} are allowed"
+        )
 
 
 def count_cases(parameters, variants, combine: str) -> int:
@@ -483,7 +551,8 @@ def expand(spec: StudySpec) -> list[Case]:
             task = (variant.task if variant else None) or spec.task
             options = {**spec.options, **((variant.options or {}) if variant else {})}
             name = variant.name if variant else None
-            key = {"variant": name, "set": [*fixed, *values.items()], "task": task, "options": options}
+            assigned = (*fixed, *values.items())
+            key = {"variant": name, "set": list(assigned), "task": task, "options": options}
             cid = hashlib.sha256(canonical_json(key).encode()).hexdigest()[:16]
-            cases.append(Case(cid, len(cases), name, values, (*fixed, *values.items()), task, options))
+            cases.append(Case(cid, len(cases), name, values, assigned, task, options))
     return cases

@@ -145,9 +145,10 @@ class StudyStore:
             elif old["study_hash"] != spec.hash:
                 raise InputError(
                     str(path), "study.hash",
-                    f"this store holds study {old['name']!r} (hash {old['study_hash'][:12]}) but the "
-                    f"study and base project now hash to {spec.hash[:12]}: the study file or base project "
-                    "changed. Restart to start anew (the old store is kept as a backup), or use another store file",
+                    f"this store holds study {old['name']!r} (hash {old['study_hash'][:12]}) but "
+                    f"the study and base project now hash to {spec.hash[:12]}: the study file or "
+                    "base project changed. Restart to start anew (the old store is kept as a "
+                    "backup), or use another store file",
                 )  # fmt: skip
             else:
                 return cls(path, _connect(path))
@@ -185,7 +186,8 @@ class StudyStore:
     def finish_run(self, run_id: int, status: str, done: int, failed: int) -> None:
         """Record how a run ended (``complete`` or ``interrupted``)."""
         self._conn.execute(
-            "UPDATE runs SET finished = ?, status = ?, cases_done = ?, cases_failed = ? WHERE run_id = ?",
+            "UPDATE runs SET finished = ?, status = ?, cases_done = ?, cases_failed = ? "
+            "WHERE run_id = ?",
             (_now(), status, done, failed, run_id),
         )
 
@@ -209,7 +211,9 @@ class StudyStore:
         conn = self._conn
         conn.execute("BEGIN IMMEDIATE")
         try:
-            prior = conn.execute("SELECT status FROM cases WHERE case_id = ?", (case.id,)).fetchone()
+            prior = conn.execute(
+                "SELECT status FROM cases WHERE case_id = ?", (case.id,)
+            ).fetchone()
             if prior is not None and prior[0] == "done":
                 conn.execute("ROLLBACK")
                 return record
@@ -233,7 +237,8 @@ class StudyStore:
         for m in record.metrics:
             have = self._columns.get((METRIC_PREFIX + m).lower())
             if have is not None and have != METRIC_PREFIX + m:
-                rule = f"metric {m!r} differs from the stored metric {have[len(METRIC_PREFIX):]!r} only in letter case"
+                old = have[len(METRIC_PREFIX) :]
+                rule = f"metric {m!r} differs from the stored metric {old!r} only in letter case"
                 return CaseRecord("failed", error=f"ValueError: {rule}", wall_time=record.wall_time,
                                   worker=record.worker)  # fmt: skip
         return record
@@ -353,14 +358,17 @@ def _read_study_row(path: Path) -> dict:
     try:
         rows = _query(path, "SELECT * FROM study")
     except sqlite3.Error:
-        raise InputError(str(path), "(file)", "is not a jointwright study store (no readable study table)") from None
+        raise InputError(
+            str(path), "(file)", "is not a jointwright study store (no readable study table)"
+        ) from None
     if len(rows) != 1:
         raise InputError(str(path), "study", f"must hold exactly one study row, found {len(rows)}")
     row = rows[0]
     if not isinstance(row.get("format_version"), int) or row["format_version"] > STORE_FORMAT:
         raise InputError(
             str(path), "study.format_version",
-            f"store format {row.get('format_version')!r} is newer than this version reads ({STORE_FORMAT})",
+            f"store format {row.get('format_version')!r} is newer than this version reads "
+            f"({STORE_FORMAT})",
         )  # fmt: skip
     return row
 
@@ -371,20 +379,24 @@ def read_study(path: str | Path) -> StoredStudy:
     return StoredStudy(
         Path(path), row["format_version"], row["study_hash"], row["name"],
         json.loads(row["definition"]), row["base_file"], json.loads(row["base_project"]),
-        tuple(json.loads(row["parameters"])), row["case_count"], row["package_version"], row["created"],
+        tuple(json.loads(row["parameters"])), row["case_count"], row["package_version"],
+        row["created"],
     )  # fmt: skip
 
 
 def read_cases(path: str | Path, *, results: bool = False) -> list[StoredCase]:
     """Every case in the store in expansion order; ``results=True`` also parses the results."""
     _read_study_row(Path(path))
-    return [_stored_case(row, results) for row in _query(path, "SELECT * FROM cases ORDER BY case_index")]
+    rows = _query(path, "SELECT * FROM cases ORDER BY case_index")
+    return [_stored_case(row, results) for row in rows]
 
 
 def _stored_case(row: dict, results: bool) -> StoredCase:
     values = {k[len(PARAM_PREFIX) :]: v for k, v in row.items() if k.startswith(PARAM_PREFIX)}
     metrics = {
-        k[len(METRIC_PREFIX) :]: v for k, v in row.items() if k.startswith(METRIC_PREFIX) and v is not None
+        k[len(METRIC_PREFIX) :]: v
+        for k, v in row.items()
+        if k.startswith(METRIC_PREFIX) and v is not None
     }
     result = json.loads(row["result"]) if results and row["result"] is not None else None
     return StoredCase(

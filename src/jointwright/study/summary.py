@@ -56,7 +56,9 @@ def metric_names(cases: Sequence[StoredCase]) -> list[str]:
     return list(names)
 
 
-def summary_rows(store: str | Path, metrics: Sequence[str] | None = None) -> tuple[list[str], list[list]]:
+def summary_rows(
+    store: str | Path, metrics: Sequence[str] | None = None
+) -> tuple[list[str], list[list]]:
     """Header and one row per stored case: id, variant, each varied parameter (as written),
     the chosen metrics (default all), status, wall time (s), worker, error."""
     study = read_study(store)
@@ -77,11 +79,17 @@ def _chosen(metrics: Sequence[str] | None, cases: Sequence[StoredCase], store) -
         return known
     for m in metrics:
         if m not in known:
-            raise InputError(str(store), "metrics", f"no case reports metric {m!r}; known: {', '.join(known) or 'none'}")
+            raise InputError(
+                str(store),
+                "metrics",
+                f"no case reports metric {m!r}; known: {', '.join(known) or 'none'}",
+            )
     return list(metrics)
 
 
-def export_csv(store: str | Path, csv_path: str | Path, metrics: Sequence[str] | None = None) -> Path:
+def export_csv(
+    store: str | Path, csv_path: str | Path, metrics: Sequence[str] | None = None
+) -> Path:
     """Write :func:`summary_rows` as CSV (UTF-8, header row; empty cell for missing values)."""
     header, rows = summary_rows(store, metrics)
     csv_path = Path(csv_path)
@@ -100,8 +108,14 @@ def _cell(v: Any) -> str:
     return str(v)
 
 
-def summary_table(store: str | Path, metrics: Sequence[str] | None = None, *, max_rows: int | None = None,
-                  sort_by: str | None = None, descending: bool = True):  # fmt: skip
+def summary_table(
+    store: str | Path,
+    metrics: Sequence[str] | None = None,
+    *,
+    max_rows: int | None = None,
+    sort_by: str | None = None,
+    descending: bool = True,
+):
     """A ``rich.table.Table`` of the cases; optionally sorted by a metric (missing values last)
     and cut to ``max_rows``. The caption counts done and failed cases."""
     from rich.table import Table
@@ -109,17 +123,22 @@ def summary_table(store: str | Path, metrics: Sequence[str] | None = None, *, ma
     header, rows = summary_rows(store, metrics)
     if sort_by is not None:
         if sort_by not in header:
-            raise InputError(str(store), "sort_by", f"unknown column {sort_by!r}; columns: {', '.join(header)}")
+            raise InputError(
+                str(store), "sort_by", f"unknown column {sort_by!r}; columns: {', '.join(header)}"
+            )
         k = header.index(sort_by)
         numeric = [r for r in rows if isinstance(r[k], (int, float))]
         rest = [r for r in rows if not isinstance(r[k], (int, float))]
         rows = sorted(numeric, key=lambda r: r[k], reverse=descending) + rest
     status = [r[header.index("status")] for r in rows]
     study = read_study(store)
-    table = Table(title=f"study {study.name}", caption=(
-        f"{status.count('done')} done, {status.count('failed')} failed of {study.case_count} cases"))  # fmt: skip
+    counts = f"{status.count('done')} done, {status.count('failed')} failed"
+    table = Table(title=f"study {study.name}", caption=f"{counts} of {study.case_count} cases")
     for name in header:
-        table.add_column(name, justify="right" if name not in ("case_id", "variant", "error", "worker") else "left")
+        table.add_column(
+            name,
+            justify="right" if name not in ("case_id", "variant", "error", "worker") else "left",
+        )
     for row in rows[:max_rows]:
         table.add_row(*(_cell(v) for v in row))
     return table
@@ -144,11 +163,15 @@ def _numbers(values: Sequence[Any], store, parameter: str) -> tuple[np.ndarray, 
             unit = unit or format(q.units, "~C")
             out.append(float(q.to(unit).magnitude))
         except Exception:
-            raise InputError(str(store), f"param:{parameter}", f"cannot read {v!r} as a number for plotting") from None
+            raise InputError(
+                str(store), f"param:{parameter}", f"cannot read {v!r} as a number for plotting"
+            ) from None
     return np.asarray(out, dtype=float), unit
 
 
-def plot_series(store: str | Path, metrics: Sequence[str], parameters: Sequence[str] | None = None) -> list[PlotSeries]:
+def plot_series(
+    store: str | Path, metrics: Sequence[str], parameters: Sequence[str] | None = None
+) -> list[PlotSeries]:
     """Each chosen numeric metric against each varied parameter (default all), done cases only.
 
     Points are in expansion order; cases whose metric is missing or text are left out.
@@ -159,7 +182,11 @@ def plot_series(store: str | Path, metrics: Sequence[str], parameters: Sequence[
     params = list(study.parameters if parameters is None else parameters)
     for p in params:
         if p not in study.parameters:
-            raise InputError(str(store), "parameters", f"{p!r} is not varied; varied: {', '.join(study.parameters)}")
+            raise InputError(
+                str(store),
+                "parameters",
+                f"{p!r} is not varied; varied: {', '.join(study.parameters)}",
+            )
     out = []
     for m in chosen:
         keep = [c for c in cases if isinstance(c.metrics.get(m), (int, float))]
