@@ -203,7 +203,7 @@ def _speed_masks(evaluator, table: OptionTable) -> list[tuple[int, str, np.ndarr
         v = pc.case.limits.get("speed_min")
         if pc.case.kind != "speed" or v is None or v <= 0:
             continue
-        a = np.linalg.pinv(pc.Jj) @ pc.u
+        a = np.linalg.pinv(pc.Jj) @ (pc.u / np.linalg.norm(pc.u))
         for j, aj in enumerate(np.abs(a)):
             if aj > 0:
                 out.append((j, f"speed_min ({pc.case.name})", speed / aj >= v * (1 - FILTER_SLACK)))

@@ -222,6 +222,8 @@ def _message(status, kind, value, diag) -> str:
     unit = {"payload": "N", "mass": "kg", "imf": ""}[kind]
     if status == "optimal":
         return f"proven optimum over the discrete options: {kind} {value:.6g} {unit}".rstrip()
+    if status == "time_limit" and value is None:
+        return "time limit reached before any design met every requirement"
     if status == "time_limit":
         return f"time limit reached: best {kind} {value:.6g} {unit}, see bound and gap".rstrip()
     if status == "infeasible":

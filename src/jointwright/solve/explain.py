@@ -137,7 +137,7 @@ def _alone(project, model, subject, key, limit, seconds) -> float:
             return float(np.min(np.where(absa > 0, model.breakaway.min() / absa, np.inf)))
     if key == "speed_min":
         pc = next(p for p in model.evaluator.cases if p.case.name == subject)
-        a = np.abs(np.linalg.pinv(pc.Jj) @ pc.u)
+        a = np.abs(np.linalg.pinv(pc.Jj) @ (pc.u / np.linalg.norm(pc.u)))
         best = float((r["motor_max_speed"] / r["ratio"]).max())
         with np.errstate(divide="ignore"):
             return float(np.min(np.where(a > 0, best / a, np.inf)))

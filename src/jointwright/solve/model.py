@@ -94,7 +94,7 @@ class SizingModel:
         self.cost = table.rows["cost"]
         self.breakaway = table.rows["breakaway_torque"]
         self.backdrive = tuple(
-            (np.abs(pc.Jj.T @ pc.u), pc.case.limits["backdrive_force_max"])
+            (np.abs(pc.Jj.T @ (pc.u / np.linalg.norm(pc.u))), pc.case.limits["backdrive_force_max"])
             for pc in self.evaluator.cases
             if pc.case.kind == "backdrive" and "backdrive_force_max" in pc.case.limits)
         self.effective_mass_limits = tuple(
@@ -121,7 +121,7 @@ class SizingModel:
         lo, hi = torque_bounds(np.broadcast_to(sign, (O, self.n)), cap_m, cap_b)
         vi = np.asarray(pc.basis.v_index)
         return PayloadTerms(
-            name=pc.case.name, a=pc.Jj.T @ pc.u, g0=np.asarray(pc.basis.g0)[vi],
+            name=pc.case.name, a=pc.Jj.T @ (pc.u / np.linalg.norm(pc.u)), g0=np.asarray(pc.basis.g0)[vi],
             G=np.asarray(pc.basis.g_mass)[:, vi], lo=np.asarray(lo).T.copy(),
             hi=np.asarray(hi).T.copy(), minimum=float(pc.case.limits.get("payload_min", 0.0)))
 
