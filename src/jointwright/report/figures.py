@@ -34,6 +34,12 @@ DPI = 110
 _RC = {"font.size": 9.5, "axes.titlesize": 10.5, "axes.labelsize": 9.5, "legend.fontsize": 8.5}
 
 
+def joint_style(k: int) -> dict:
+    """Colour and line style of the k-th joint: colours first, then dashes for the next round."""
+    n = len(JOINT_COLOURS)
+    return {"color": JOINT_COLOURS[k % n], "ls": ("-", "--", "-.", ":")[(k // n) % 4]}
+
+
 def _figure(ncols: int = 1, height: float = 4.2, width: float = WIDTH):
     fig = Figure(figsize=(width, height), dpi=DPI, layout="constrained")
     FigureCanvasAgg(fig)
@@ -51,7 +57,7 @@ def _figure(ncols: int = 1, height: float = 4.2, width: float = WIDTH):
 
 def _title(ax, text: str, width: int = 70) -> None:
     """Left-aligned title, wrapped to ``width`` characters (narrow panels need less)."""
-    ax.set_title(textwrap.fill(text, width), fontsize=_RC["axes.titlesize"], color=INK, loc="left")
+    ax.set_title(textwrap.fill(text, width, break_on_hyphens=False), fontsize=_RC["axes.titlesize"], color=INK, loc="left")
 
 
 def _label(ax, x: str, y: str) -> None:
@@ -160,7 +166,7 @@ def ratio_figure(sweep, panels) -> Figure:
     for ax, (key, title, ylabel, limit) in zip(axes, panels):
         values = sweep.values[key]
         for k, joint in enumerate(sweep.joints):
-            ax.plot(sweep.factors, values[k], color=JOINT_COLOURS[k % len(JOINT_COLOURS)], lw=1.6,
+            ax.plot(sweep.factors, values[k], lw=1.6, **joint_style(k),
                     label=f"{joint} (design N = {sweep.design_ratio[k]:.4g})")
         ax.axvline(1.0, color="#9aa1ab", lw=0.9, ls="--")
         if limit is not None:
@@ -219,7 +225,7 @@ def series_figure(time, series, limits, *, y_label: str, title: str) -> Figure:
     drawn at ±value."""
     fig, (ax,) = _figure(height=3.8)
     for k, (joint, values) in enumerate(series.items()):
-        ax.plot(time, values, color=JOINT_COLOURS[k % len(JOINT_COLOURS)], lw=1.4, label=joint)
+        ax.plot(time, values, lw=1.4, label=joint, **joint_style(k))
     for k, (label, value) in enumerate(limits.items()):
         ls = (":", "-.", "--")[k % 3]
         ax.axhline(value, color="#b0413e", lw=1.0, ls=ls, label=f"{label} (±)")
