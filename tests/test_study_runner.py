@@ -12,13 +12,17 @@ import time
 from pathlib import Path
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 ROOT = Path(__file__).resolve().parents[1]
 if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
 from jointwright.errors import InputError  # noqa: E402
-from jointwright.study import case_project, expand, load_study, read_cases, read_runs, run_study  # noqa: E402
+from jointwright.study import (  # noqa: E402
+    CaseRecord, StudyStore, case_project, expand, load_study, read_cases, read_runs, run_study,
+)  # fmt: skip
 from tests import study_cases  # noqa: E402
 
 LEG = "tests.study_cases:leg_case"
@@ -117,6 +121,32 @@ def test_resume_skips_stored_cases_and_retries_failed_only_when_asked(tmp_path):
     assert (retry.skipped, retry.done, retry.failed, retry.done_total) == (12, 4, 0, 16)
     assert len(read_cases(store)) == 16
     assert [r["status"] for r in read_runs(store)] == ["complete"] * 3
+
+
+@settings(max_examples=8, deadline=None)
+@given(marks=st.lists(st.sampled_from(["missing", "done", "failed"]), min_size=8, max_size=8),
+       retry=st.booleans())  # fmt: skip
+def test_resume_runs_exactly_the_missing_cases(tmp_path_factory, marks, retry):
+    tmp_path = tmp_path_factory.mktemp("resume")
+    path, store = make_study(tmp_path, n_thigh=2), tmp_path / "s.sqlite"
+    spec = load_study(path)
+    cases = expand(spec)
+    with StudyStore.open(store, spec, len(cases)) as st_:
+        for case, mark in zip(cases, marks):
+            if mark != "missing":
+                st_.write(case, CaseRecord(mark, {"earlier": 1.0} if mark == "done" else {}, "null"))
+    out = run_study(path, store, workers=1, case_fn=LEG, resume=True, retry_failed=retry,
+                    progress=False)  # fmt: skip
+    rerun = {"missing", "failed"} if retry else {"missing"}
+    assert out.done == sum(m in rerun for m in marks) and out.skipped == 8 - out.done
+    rows = {c.case_id: c for c in read_cases(store)}
+    assert len(rows) == 8  # every case exactly once
+    for case, mark in zip(cases, marks):
+        row = rows[case.id]
+        if mark in rerun:
+            assert row.status == "done" and "reach" in row.metrics
+        else:  # kept as it was
+            assert row.status == mark and ("earlier" in row.metrics) == (mark == "done")
 
 
 def test_changed_study_is_refused_and_restart_keeps_a_backup(tmp_path):
