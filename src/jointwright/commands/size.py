@@ -1,0 +1,103 @@
+"""``jointwright size PROJECT``: the proven-optimal motor, stages and ratio for every joint."""
+
+from __future__ import annotations
+
+import time
+from pathlib import Path
+
+import click
+
+from ..design import design_to_toml
+from ..errors import InputError
+from ..project import load_project
+from ._format import console, emit_json, num, pct, table
+
+UNITS = {"payload": "N", "mass": "kg", "imf": ""}
+
+
+class Progress:
+    """A rich status line on stderr, shown once a search has run for a second."""
+
+    def __init__(self, enabled: bool):
+        self.enabled = enabled
+        self.start = time.perf_counter()
+        self.status = None
+
+    def __call__(self, nodes: int, best) -> None:
+        if not self.enabled or time.perf_counter() - self.start < 1.0:
+            return
+        text = f"searching: {nodes} nodes, best {'—' if best is None else f'{best:.6g}'}"
+        if self.status is None:
+            from rich.console import Console
+
+            self.status = Console(stderr=True).status(text)
+            self.status.start()
+        else:
+            self.status.update(text)
+
+    def stop(self) -> None:
+        if self.status is not None:
+            self.status.stop()
+
+
+def print_result(r) -> None:
+    from .assess import print_assessment
+
+    con = console()
+    unit = UNITS[r.objective_kind]
+    con.print(f"[bold]size[/bold] ({r.backend}, objective {r.objective_kind}): {r.message}")
+    con.print(f"status {r.status}; objective {num(r.objective, unit)}; bound {num(r.bound, unit)}; "
+              f"gap {pct(r.gap) if r.gap == r.gap else '—'}; {r.seconds:.2f} s; {r.native_status}")
+    con.print("options per joint after its own filters: "
+              + ", ".join(f"{j} {k}" for j, k in r.options.items()))
+    if r.assessment is not None:
+        print_assessment(r.assessment)
+    if r.binding:
+        con.print("[bold]binding requirements[/bold] (smallest margins): " + "; ".join(r.binding))
+    if r.alternatives:
+        rows = [[a.joint, a.change, a.actuator,
+                 "—" if a.objective is None else num(a.objective, unit),
+                 "—" if a.loss is None else num(a.loss, unit), a.ruled_out_by or ""]
+                for a in r.alternatives]
+        con.print(table("Runner-ups per joint (rest of the design kept)",
+                        ["joint", "change", "actuator", "objective", "loss", "ruled out by"], rows))
+    if r.diagnosis:
+        rows = [[d.requirement, num(d.limit), num(d.best_achievable),
+                 "—" if d.shortfall != d.shortfall else pct(-d.shortfall),
+                 "infeasible" if d.relaxed_objective is None else num(d.relaxed_objective, unit)]
+                for d in r.diagnosis]
+        con.print(table("Diagnosis: each requirement alone, and the optimum without it",
+                        ["requirement", "limit", "best alone", "margin alone", "optimum without it"], rows,
+                        caption="margin alone < 0: no design meets it even ignoring every other requirement"))
+
+
+@click.command("size")
+@click.argument("project", type=click.Path(path_type=Path))
+@click.option("--objective", type=click.Choice(["payload", "mass", "imf"]), default=None,
+              help="default: the project's [objective] maximize, else payload")
+@click.option("--backend", type=click.Choice(["search", "pyomo"]), default="search")
+@click.option("--time-limit", type=float, default=None, help="seconds; then best design with bound and gap")
+@click.option("--out", type=click.Path(path_type=Path), default=None, help="write the design file here")
+@click.option("--json", "as_json", is_flag=True, help="machine-readable output")
+def command(project: Path, objective, backend, time_limit, out, as_json):
+    """Choose motor, stage stack and ratio for every joint of PROJECT (proven optimum)."""
+    from ..sizing import size
+
+    if time_limit is not None and time_limit <= 0:
+        raise InputError("<command line>", "--time-limit", f"must be > 0 s, got {time_limit}")
+    p = load_project(project)
+    progress = Progress(not as_json)
+    try:
+        r = size(p, objective=objective, backend=backend, time_limit=time_limit, progress=progress)
+    finally:
+        progress.stop()
+    if out is not None and r.design is not None:
+        out.write_text(design_to_toml(r.design) + "\n", encoding="utf-8")
+    if as_json:
+        emit_json(r.to_dict())
+    else:
+        print_result(r)
+        if out is not None:
+            console().print(f"design written to {out}" if r.design is not None else "no design to write")
+    if r.status in ("infeasible", "error"):
+        raise SystemExit(1)
