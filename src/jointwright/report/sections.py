@@ -95,6 +95,19 @@ def _limiting_reason(a: dict, case: dict) -> str:
             "the payload")
 
 
+def _impact_words(case: dict) -> str:
+    """One sentence on what an impact at the case's contact feels (back-driven transmissions)."""
+    m = case["metrics"]
+    text = f"An impact in case {case['name']} meets"
+    if m.get("imf") is not None:
+        text += f" an impact mitigation factor of {number(m['imf'])} (back-driven; 0 is no better than locked joints)"
+        if m.get("contact_rank", 3) < 3:
+            text += (f", {number(m.get('imf_restricted'))} over the directions the limb can move"
+                     if m.get("imf_restricted") is not None else "")
+        text += " and"
+    return text + f" an effective mass of {fmt(m.get('effective_mass'), 'kg')} along its direction."
+
+
 def outcome_section(a: dict, project) -> Section:
     """The outcome in plain words: missed requirements, what limits payload, self-locking joints."""
     checks = a["checks"]
@@ -118,6 +131,7 @@ def outcome_section(a: dict, project) -> Section:
         if worst["limiting_joint"]:
             text += f", limited by joint {worst['limiting_joint']}: {_limiting_reason(a, worst)}"
         words.append(text + ".")
+    words += [_impact_words(c) for c in a["cases"] if c["kind"] == "impact"]
     locking = [j for j in a["joints"] if j["self_locking"]]
     if locking:
         words.append("Self-locking joints: " + ", ".join(
