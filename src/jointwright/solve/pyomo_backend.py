@@ -1,0 +1,154 @@
+"""Pyomo back-end: the payload/mass problem as a MILP solved by HiGHS, nonlinear checks as lazy cuts.
+
+Binary x[j, o] picks option o for joint j (Σ_o x[j, o] = 1; shared joints take equal x). For each
+payload case and joint, with a = Jᵀu and the option bounds lo/hi of metrics.payload.torque_bounds:
+
+    bias_j = g0_j + Σ_k Σ_o G[k, j]·m_o·x[k, o]
+    Σ_o lo[j, o]·x[j, o] ≤ bias_j ≤ Σ_o hi[j, o]·x[j, o]                 (holds itself, s = 0)
+    bias_j + s·a_j ≤ Σ_o hi[j, o]·x[j, o]  (a_j > 0),   ≥ Σ_o lo·x  (a_j < 0)
+
+with one payload variable s for all cases (s ≤ every case's payload: the epigraph of the min).
+The mass budget and cost are linear. Everything else (impact mitigation, effective mass,
+back-drive force as a minimum over joints, duty cycles) is checked on the MILP's answer by the
+numpy physics; a design that misses a requirement is cut off by a no-good cut
+Σ_j x[j, o_j] ≤ n − 1 and the MILP is solved again. The MILP is a relaxation of the true problem
+for every design that can hold itself (for the payload objective: every design with a positive
+payload; when no design has one the back-end reports infeasible), so the loop stops with a proven optimum once the numpy
+value of the incumbent reaches the MILP bound. Independent of the branch and bound: a cross-check.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import math
+import os
+import sys
+import time
+
+import numpy as np
+
+from ..errors import InputError
+from .model import SizingModel, tie_tol
+from .result import SolveOutcome
+
+#: finite stand-in for an infinite torque bound (N·m); no real joint comes near it
+BIG = 1e9
+
+
+@contextlib.contextmanager
+def _quiet_stdout():
+    """Send solver output written to file descriptor 1 to stderr (keeps --json clean)."""
+    sys.stdout.flush()
+    saved = os.dup(1)
+    try:
+        os.dup2(2, 1)
+        yield
+    finally:
+        sys.stdout.flush()
+        os.dup2(saved, 1)
+        os.close(saved)
+
+
+def build_milp(model: SizingModel, units):
+    """The Pyomo model; returns (m, options per joint)."""
+    import pyomo.environ as pe
+
+    n = model.n
+    opts = [model.candidates[j] for j in range(n)]
+    m = pe.ConcreteModel()
+    m.x = pe.Var([(j, int(o)) for j in range(n) for o in opts[j]], within=pe.Binary)
+    m.one = pe.Constraint(range(n), rule=lambda m, j: sum(m.x[j, int(o)] for o in opts[j]) == 1)
+    m.shared = pe.ConstraintList()
+    for g in model.shared:
+        common = set(map(int, opts[g[0]]))
+        for j in g[1:]:
+            common &= set(map(int, opts[j]))
+        for j in g:
+            for o in opts[j]:
+                if int(o) not in common:
+                    m.x[j, int(o)].fix(0)
+            for o in common:
+                if j != g[0]:
+                    m.shared.add(m.x[j, o] == m.x[g[0], o])
+
+    def total(values):
+        return sum(float(values[o]) * m.x[j, int(o)] for j in range(n) for o in opts[j])
+
+    m.budget = pe.ConstraintList()
+    if math.isfinite(model.total_mass_max):
+        m.budget.add(total(model.mass) <= model.total_mass_max)
+    if math.isfinite(model.total_cost_max):
+        m.budget.add(total(model.cost) <= model.total_cost_max)
+    m.s = pe.Var(bounds=(0, None))
+    m.torque = pe.ConstraintList()
+    for t in model.payload:
+        levels = [m.s] if model.kind == "payload" else []
+        if t.minimum > 0:
+            levels.append(t.minimum)  # the case's own requirement payload_c ≥ payload_min
+        for j in range(n):
+            bias = float(t.g0[j]) + sum(float(t.G[k, j] * model.mass[o]) * m.x[k, int(o)]
+                                        for k in range(n) if t.G[k, j] != 0 for o in opts[k])
+            hi = sum(float(min(t.hi[j, o], BIG)) * m.x[j, int(o)] for o in opts[j])
+            lo = sum(float(max(t.lo[j, o], -BIG)) * m.x[j, int(o)] for o in opts[j])
+            if levels:  # only a case with a payload to carry needs the robot to hold itself
+                m.torque.add(bias <= hi)
+                m.torque.add(bias >= lo)
+            for s_case in levels:
+                if t.a[j] > 0:
+                    m.torque.add(bias + s_case * float(t.a[j]) <= hi)
+                elif t.a[j] < 0:
+                    m.torque.add(bias + s_case * float(t.a[j]) >= lo)
+    if model.kind == "payload":
+        m.obj = pe.Objective(expr=m.s, sense=pe.maximize)
+        m.s.setub(BIG)
+    else:
+        m.obj = pe.Objective(expr=total(model.mass), sense=pe.minimize)
+    m.cuts = pe.ConstraintList()
+    return m, opts
+
+
+def solve_pyomo(model: SizingModel, units, *, time_limit=None, max_rounds=10_000) -> SolveOutcome:
+    """Solve by MILP plus lazy no-good cuts (see the module notes)."""
+    import pyomo.environ  # noqa: F401  (registers the solvers)
+    from pyomo.contrib.solver.common.factory import SolverFactory
+
+    if model.kind == "imf":
+        raise InputError("<api>", "backend", "the pyomo back-end handles the payload and mass objectives; "
+                         "use backend search for imf")
+    start = time.perf_counter()
+    deadline = math.inf if time_limit is None else start + time_limit
+    if any(c.size == 0 for c in model.candidates):
+        return SolveOutcome("infeasible", None, -math.inf, -math.inf, 0.0, "a joint has no option", 0)
+    m, opts = build_milp(model, units)
+    solver = SolverFactory("highs")
+    sense = 1.0 if model.kind == "payload" else -1.0
+    best, bound, rounds, native = None, math.inf, 0, ""
+    while rounds < max_rounds:
+        rounds += 1
+        left = deadline - time.perf_counter()
+        if left <= 0:
+            break
+        with _quiet_stdout():
+            res = solver.solve(m, time_limit=min(left, 1e7), load_solutions=False,
+                               raise_exception_on_nonoptimal_result=False)
+        native = str(res.termination_condition).split(".")[-1]
+        if res.incumbent_objective is None:
+            bound = -math.inf if "infeasible" in native.lower() else bound
+            break
+        bound = min(bound, sense * float(res.objective_bound)) if res.objective_bound is not None else bound
+        res.solution_loader.load_vars()
+        index = np.array([next(int(o) for o in opts[j] if m.x[j, int(o)].value > 0.5) for j in range(model.n)])
+        key = model.best_key(index[None, :])
+        if key is not None and model.better(key, best):
+            best = key
+        if best is not None and best[0] >= bound - tie_tol(bound):
+            break
+        m.cuts.add(sum(m.x[j, int(index[j])] for j in range(model.n)) <= model.n - 1)
+    seconds = time.perf_counter() - start
+    proven = best is not None and best[0] >= bound - tie_tol(bound)
+    if best is None:
+        status = "infeasible" if bound == -math.inf else "time_limit"
+        return SolveOutcome(status, None, -math.inf, bound, seconds, f"{native}, {rounds} MILP solves", rounds)
+    status = "optimal" if proven else "time_limit"
+    return SolveOutcome(status, np.array(best[3]), best[0], max(bound, best[0]) if not proven else best[0],
+                        seconds, f"HiGHS {native}, {rounds} MILP solves", rounds)
