@@ -211,6 +211,9 @@ BAD = [
     # --- design file -----------------------------------------------------------------------
     Bad("ratio not offered", (("design.toml", "ratio = 6 }]", "ratio = 11 }]"),),
         "assess", "design.toml", "joint.hip_ab.stages[0].ratio", "ratio 11 not offered by PL"),
+    Bad("ratio outside a continuous range", (("catalog.toml", "ratios = [1.0, 1.5, 2.0, 2.5, 3.0]", "ratio_range = [1.0, 3.0]"),
+                                             ("design.toml", "ratio = 1.5 }]", "ratio = 3.5 }]")),
+        "assess", "design.toml", "joint.knee.stages[1].ratio", "ratio 3.5 not offered by BT: must be in [1, 3]"),
     Bad("ratio as text", (("design.toml", "ratio = 6 }]", 'ratio = "six" }]'),),
         "assess", "design.toml", "joint.hip_ab.stages[0].ratio", "cannot read 'six'"),
     Bad("negative ratio", (("design.toml", "ratio = 6 }]", "ratio = -6 }]"),),
@@ -392,3 +395,20 @@ def test_subprocess_exit_code_and_single_line(verb, examples, tmp_path):
     lines = proc.stderr.strip().splitlines()
     assert len(lines) == 1 and "Traceback" not in proc.stderr
     _assert_names(lines[0][len(PREFIX):], "catalog.toml", "motor[0].mass", "must be > 0 kg")
+
+
+# --- usage errors (the command line itself, not a file) ----------------------------------------
+
+
+@pytest.mark.parametrize("args, says", [
+    (["new", "somewhere", "--example", "hexapod"], "Invalid value for '--example'"),
+    (["assess", "project.toml"], "Missing option '--design'"),
+    (["chek", "project.toml"], "No such command 'chek'"),
+])
+def test_usage_errors_exit_2_without_traceback(args, says):
+    # click's usage errors: exit code 2, the usage line and one "Error:" line, no traceback
+    result = _run(args)
+    assert result.exit_code == 2
+    assert "Traceback" not in result.stderr
+    errors = [ln for ln in result.stderr.splitlines() if ln.startswith("Error:")]
+    assert len(errors) == 1 and says in errors[0]
