@@ -20,7 +20,8 @@ def _json(path: Path | None, option: str):
     except OSError as exc:
         raise InputError(str(path), option, f"cannot be read: {exc.strerror}") from None
     except json.JSONDecodeError as exc:
-        raise InputError(str(path), option, f"is not valid JSON (line {exc.lineno}: {exc.msg})") from None
+        rule = f"is not valid JSON (line {exc.lineno}: {exc.msg})"
+        raise InputError(str(path), option, rule) from None
 
 
 @click.command("report")

@@ -23,8 +23,9 @@ def _version() -> str:
         return "source tree"
 
 
-def build_report(project, design, out_dir, *, sizing: dict | None = None, frontier: dict | None = None,
-                 duty: list[dict] | None = None, study: dict | None = None) -> Path:
+def build_report(project, design, out_dir, *, sizing: dict | None = None,
+                 frontier: dict | None = None, duty: list[dict] | None = None,
+                 study: dict | None = None) -> Path:
     """Write the HTML report of one design and its figures; return the HTML file's path.
 
     Parameters
@@ -66,13 +67,15 @@ def build_report(project, design, out_dir, *, sizing: dict | None = None, fronti
         plots.ratio_section(project, evaluator, arrays, fig_dir),
         plots.sensitivity_section(project, evaluator, arrays, fig_dir),
     ]
-    parts += [hooks.duty_section(d, fig_dir) for d in plots.duty_data(evaluator, arrays, a) + list(duty or [])]
+    duties = plots.duty_data(evaluator, arrays, a) + list(duty or [])
+    parts += [hooks.duty_section(d, fig_dir) for d in duties]
     if study is not None:
         parts.append(hooks.study_section(study, fig_dir))
     parts += [sections.cases_section(a), sections.cautions_section(a, project)]
     text = page(
         title=f"{project.name}: design report",
-        subtitle=f"Design “{design.name}” — concept-stage actuator sizing, not a certified design.",
+        subtitle=f"Design “{design.name}” — concept-stage actuator sizing, "
+                 "not a certified design.",
         sections=parts,
         footer=f"jointwright {_version()}; project {project.file.name}. SI units throughout "
                "(temperatures in °C). Figures are also in the figures folder as PNG and SVG.",

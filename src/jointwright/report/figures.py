@@ -57,7 +57,8 @@ def _figure(ncols: int = 1, height: float = 4.2, width: float = WIDTH):
 
 def _title(ax, text: str, width: int = 70) -> None:
     """Left-aligned title, wrapped to ``width`` characters (narrow panels need less)."""
-    ax.set_title(textwrap.fill(text, width, break_on_hyphens=False), fontsize=_RC["axes.titlesize"], color=INK, loc="left")
+    ax.set_title(textwrap.fill(text, width, break_on_hyphens=False),
+                 fontsize=_RC["axes.titlesize"], color=INK, loc="left")
 
 
 def _label(ax, x: str, y: str) -> None:
@@ -105,7 +106,8 @@ def polytope_figure(section, axis_names: str = "xyz") -> Figure:
         else:
             reach = max(reach, float(np.abs(v).max()))
         closed = np.vstack([v, v[:1]])
-        ax.fill(closed[:, 0], closed[:, 1], color=colour, alpha=0.10 if mode != "frictionless" else 0.0)
+        shade = 0.0 if mode == "frictionless" else 0.10
+        ax.fill(closed[:, 0], closed[:, 1], color=colour, alpha=shade)
         ax.plot(closed[:, 0], closed[:, 1], color=colour, ls=ls, lw=1.8, label=label)
     for k, (name, point) in enumerate(section.markers):
         ax.annotate("", xy=point, xytext=(0, 0),
@@ -143,7 +145,8 @@ def ellipse_figure(section, axis_names: str = "xyz") -> Figure:
         colour, ls, label = MODE_STYLE[mode]
         m = section.mass_along.get(mode)
         if m is not None:
-            label += f": {m:.4g} kg along the case direction" if math.isfinite(m) else ": ∞ kg (immovable)"
+            label += (f": {m:.4g} kg along the case direction" if math.isfinite(m)
+                      else ": ∞ kg (immovable)")
         if section.unbounded[mode]:
             label += " (unbounded, cut)"
         else:
@@ -161,7 +164,10 @@ def ellipse_figure(section, axis_names: str = "xyz") -> Figure:
 
 
 def ratio_figure(sweep, panels) -> Figure:
-    """Metric against ratio multiplier per joint; ``panels`` = [(metric key, title, y label, limit)]."""
+    """Metric against ratio multiplier per joint.
+
+    ``panels`` = [(metric key, title, y label, limit or None)], one axes each.
+    """
     fig, axes = _figure(ncols=len(panels), height=4.6)
     for ax, (key, title, ylabel, limit) in zip(axes, panels):
         values = sweep.values[key]
@@ -221,8 +227,10 @@ def points_figure(points, chosen=None, *, x_label: str, y_label: str, title: str
 
 
 def series_figure(time, series, limits, *, y_label: str, title: str) -> Figure:
-    """Time series per joint (duty cycles): ``series`` = {joint: values}; ``limits`` = {label: value},
-    drawn at ±value."""
+    """Time series per joint (duty cycles).
+
+    ``series`` = {joint: values}; ``limits`` = {label: value}, drawn at ±value.
+    """
     fig, (ax,) = _figure(height=3.8)
     for k, (joint, values) in enumerate(series.items()):
         ax.plot(time, values, lw=1.4, label=joint, **joint_style(k))

@@ -102,7 +102,8 @@ def polytope_sections(evaluator, arrays, payload) -> list[PolytopeSection]:
     for pc in evaluator.cases:
         if pc.case.kind != "payload":
             continue
-        key = (pc.case.frame, tuple(sorted(pc.case.pose.items())), pc.case.base_xyz, pc.case.base_rpy)
+        c = pc.case
+        key = (c.frame, tuple(sorted(c.pose.items())), c.base_xyz, c.base_rpy)
         groups.setdefault(key, []).append(pc)
     caps = {m: arrays.capacity(m)[0] for m in MODES}
     out = []

@@ -26,7 +26,8 @@ def _need(data, key: str, kind, file: str, where: str):
             raise InputError(file, f"{where}{key}", f"must be a number, got {value!r}")
         return float(value)
     if not isinstance(value, kind):
-        raise InputError(file, f"{where}{key}", f"must be a {kind.__name__}, got {type(value).__name__}")
+        got = type(value).__name__
+        raise InputError(file, f"{where}{key}", f"must be a {kind.__name__}, got {got}")
     return value
 
 
@@ -71,9 +72,10 @@ def runner_ups_section(data: dict, file: str = "<sizing>") -> Section:
         rows.append([_need(r, "joint", str, file, where), _need(r, "actuator", str, file, where),
                      str(r.get("change", "")), Cell(fmt(value, unit), "num"), why])
     if rows:
-        parts.append(table(["joint", "runner-up actuator", "change", f"objective ({kind})", "why it lost"], rows,
-                           caption="Each runner-up changes one joint of the chosen design and keeps the rest; "
-                                   "it is re-evaluated with the full physics."))
+        parts.append(table(
+            ["joint", "runner-up actuator", "change", f"objective ({kind})", "why it lost"], rows,
+            caption="Each runner-up changes one joint of the chosen design and keeps the rest; it "
+                    "is re-evaluated with the full physics."))
     diag = []
     for k, r in enumerate(data.get("diagnosis") or []):
         where = f"diagnosis[{k}]."
@@ -84,9 +86,19 @@ def runner_ups_section(data: dict, file: str = "<sizing>") -> Section:
                      Cell(fmt(_optional(r, "relaxed_objective", file, where), unit), "num")])
     if diag:
         parts.append("<h3>Why no design meets every requirement</h3>" + table(
-            ["requirement", "limit", "best achievable alone", "shortfall", "objective without it"], diag,
-            caption="One requirement at a time: its best value over all options, and what dropping it buys."))
-    return Section("runner-ups", "How the design was chosen: runner-ups and why they lost", "".join(parts))
+            ["requirement", "limit", "best achievable alone", "shortfall", "objective without it"],
+            diag, caption="One requirement at a time: its best value over all options, and what "
+                          "dropping it buys."))
+    return Section("runner-ups", "How the design was chosen: runner-ups and why they lost",
+                   "".join(parts))
+
+
+def _numbers(data, key: str, file: str, where: str, size: int | None = None) -> list[float]:
+    """A list of numbers (``size`` of them when given)."""
+    values = _need(data, key, list, file, where)
+    if size is not None and len(values) != size:
+        raise InputError(file, f"{where}{key}", f"must have {size} entries, got {len(values)}")
+    return [_need({key: v}, key, float, file, f"{where}{key}[{i}]") for i, v in enumerate(values)]
 
 
 def _points(data, file):
@@ -98,6 +110,21 @@ def _points(data, file):
     return pts, xy
 
 
+def _chosen(data, xy, file):
+    chosen = data.get("chosen")
+    if isinstance(chosen, int) and not isinstance(chosen, bool) and 0 <= chosen < len(xy):
+        return xy[chosen]
+    if isinstance(chosen, dict):
+        return tuple(_need(chosen, k, float, file, "chosen.") for k in ("x", "y"))
+    if chosen is not None:
+        raise InputError(file, "chosen", f"must be a point index (0 to {len(xy) - 1}) or {{x, y}}")
+    return None
+
+
+def _axis_label(axis: dict, default: str) -> str:
+    return f"{axis.get('label', default)} ({axis.get('unit') or 'dimensionless'})"
+
+
 def frontier_section(data: dict, fig_dir: Path, file: str = "<frontier>") -> Section:
     """Payload versus back-drivability frontier with the chosen design marked.
 
@@ -106,24 +133,18 @@ def frontier_section(data: dict, fig_dir: Path, file: str = "<frontier>") -> Sec
     """
     x, y = _need(data, "x", dict, file, ""), _need(data, "y", dict, file, "")
     pts, xy = _points(data, file)
-    chosen = data.get("chosen")
-    if isinstance(chosen, int) and 0 <= chosen < len(xy):
-        chosen = xy[chosen]
-    elif isinstance(chosen, dict):
-        chosen = (_need(chosen, "x", float, file, "chosen."), _need(chosen, "y", float, file, "chosen."))
-    elif chosen is not None:
-        raise InputError(file, "chosen", "must be a point index or {x, y}")
-    xl = f"{x.get('label', 'x')} ({x.get('unit') or 'dimensionless'})"
-    yl = f"{y.get('label', 'y')} ({y.get('unit') or 'dimensionless'})"
-    fig = figures.points_figure(xy, chosen, x_label=xl, y_label=yl, title=f"{y.get('label', 'y')} "
-                                  f"against {x.get('label', 'x')}: non-dominated designs")
-    png = figures.save(fig, fig_dir, "frontier")
+    chosen = _chosen(data, xy, file)
+    xl, yl = _axis_label(x, "x"), _axis_label(y, "y")
+    title = f"{y.get('label', 'y')} against {x.get('label', 'x')}: non-dominated designs"
+    png = figures.save(figures.points_figure(xy, chosen, x_label=xl, y_label=yl, title=title),
+                       fig_dir, "frontier")
     knee = data.get("knee")
-    rows = [[str(k + 1), Cell(fmt(px, x.get("unit", "")), "num"), Cell(fmt(py, y.get("unit", "")), "num"),
-             str(p.get("design", "")), str(p.get("changes", "")), "knee" if k == knee else ""]
+    rows = [[str(k + 1), Cell(fmt(px, x.get("unit", "")), "num"),
+             Cell(fmt(py, y.get("unit", "")), "num"), str(p.get("design", "")),
+             str(p.get("changes", "")), "knee" if k == knee else ""]
             for k, (p, (px, py)) in enumerate(zip(pts, xy))]
-    body = (figure(png, "frontier", "frontier", "Each point is a design no other design beats on both "
-                   "axes; the ring is the chosen design.")
+    body = (figure(png, "frontier", "frontier", "Each point is a design no other design beats on "
+                   "both axes; the ring is the chosen design.")
             + table(["#", xl, yl, "design", "what changes", "note"], rows))
     return Section("frontier", "Payload versus back-drivability frontier", body)
 
@@ -135,50 +156,59 @@ def duty_section(data: dict, fig_dir: Path, file: str = "<duty>") -> Section:
     "summary": [{"joint", "rms_torque", "peak_torque", "peak_temperature", "backdriven_share"}]}``.
     """
     case = _need(data, "case", str, file, "")
-    time = _need(data, "time", list, file, "")
-    series = _need(data, "motor_torque", dict, file, "")
-    for j, v in series.items():
-        if not isinstance(v, list) or len(v) != len(time):
-            raise InputError(file, f"motor_torque.{j}", f"must be a list of {len(time)} numbers (one per time)")
-    fig = figures.series_figure(time, series, data.get("limits", {}), y_label="motor torque (N·m)",
+    time = _numbers(data, "time", file, "")
+    torque = _need(data, "motor_torque", dict, file, "")
+    series = {j: _numbers(torque, j, file, "motor_torque.", len(time)) for j in torque}
+    limits = {k: _need(data["limits"], k, float, file, "limits.") for k in data.get("limits", {})}
+    fig = figures.series_figure(time, series, limits, y_label="motor torque (N·m)",
                                 title=f"Motor torque over the duty cycle {case}")
     name = f"duty-{case}"
     png = figures.save(fig, fig_dir, name)
-    rows = [[s.get("joint", ""), Cell(fmt(s.get("rms_torque"), "N·m"), "num"),
-             Cell(fmt(s.get("peak_torque"), "N·m"), "num"), Cell(fmt(s.get("peak_temperature"), "°C"), "num"),
-             Cell(fmt(100 * s["backdriven_share"] if s.get("backdriven_share") is not None else None, "%"), "num")]
-            for s in data.get("summary", [])]
-    body = figure(png, name, f"duty cycle {case}", "Motor torque per joint over the cycle, by the power-flow law sample by sample; red lines are ratings (±).")
+    rows = []
+    for s in data.get("summary", []):
+        share = s.get("backdriven_share")
+        rows.append([s.get("joint", ""), Cell(fmt(s.get("rms_torque"), "N·m"), "num"),
+                     Cell(fmt(s.get("peak_torque"), "N·m"), "num"),
+                     Cell(fmt(s.get("peak_temperature"), "°C"), "num"),
+                     Cell(fmt(None if share is None else 100 * share, "%"), "num")])
+    body = figure(png, name, f"duty cycle {case}", "Motor torque per joint over the cycle, by the "
+                  "power-flow law sample by sample; red lines are ratings (±).")
     if rows:
-        body += table(["joint", "RMS torque", "peak torque", "peak winding temperature", "time back-driven"], rows)
+        body += table(["joint", "RMS torque", "peak torque", "peak winding temperature",
+                       "time back-driven"], rows)
     return Section(f"duty-{case}", f"Duty cycle {case}", body)
+
+
+def _cell(v):
+    number_like = isinstance(v, (int, float)) and not isinstance(v, bool)
+    return Cell(fmt(v), "num") if number_like else str(v)
 
 
 def study_section(data: dict, fig_dir: Path, file: str = "<study>") -> Section:
     """A study summary: one table of cases and optional metric-against-parameter series.
 
-    ``data``: ``{"name": str, "columns": [str], "rows": [[...]], "series": [{"metric", "parameter",
-    "unit", "x": [...], "y": [...]}]}``.
+    ``data``: ``{"name": str, "columns": [str], "rows": [[...]], "series": [{"metric",
+    "metric_unit", "parameter", "unit", "x": [...], "y": [...]}]}``.
     """
     name = _need(data, "name", str, file, "")
     columns = _need(data, "columns", list, file, "")
     rows = _need(data, "rows", list, file, "")
     for k, r in enumerate(rows):
         if not isinstance(r, list) or len(r) != len(columns):
-            raise InputError(file, f"rows[{k}]", f"must have {len(columns)} entries, one per column")
-    cells = [[Cell(fmt(v), "num") if isinstance(v, (int, float)) and not isinstance(v, bool) else str(v)
-              for v in r] for r in rows]
-    body = table([str(c) for c in columns], cells)
+            rule = f"must have {len(columns)} entries, one per column"
+            raise InputError(file, f"rows[{k}]", rule)
+    body = table([str(c) for c in columns], [[_cell(v) for v in r] for r in rows])
     for k, s in enumerate(data.get("series", [])):
         where = f"series[{k}]."
-        xs, ys = _need(s, "x", list, file, where), _need(s, "y", list, file, where)
-        if len(xs) != len(ys):
-            raise InputError(file, f"{where}y", "must have as many entries as x")
-        unit = s.get("unit") or "as in the study file"
+        xs = _numbers(s, "x", file, where)
+        ys = _numbers(s, "y", file, where, len(xs))
         metric = str(s.get("metric", "y"))
-        fig = figures.points_figure(list(zip(xs, ys)), None, x_label=f"{s.get('parameter', 'x')} ({unit})",
-                                    y_label=f"{metric} ({s.get('metric_unit') or 'dimensionless'})",
-                                    title=f"{metric} across the study", label="finished cases")
+        fig = figures.points_figure(
+            list(zip(xs, ys)), None,
+            x_label=f"{s.get('parameter', 'x')} ({s.get('unit') or 'as in the study file'})",
+            y_label=f"{metric} ({s.get('metric_unit') or 'dimensionless'})",
+            title=f"{metric} across the study", label="finished cases")
         fname = f"study-{k + 1}"
-        body += figure(figures.save(fig, fig_dir, fname), fname, str(s.get("metric", "")), "One point per finished case.")
+        body += figure(figures.save(fig, fig_dir, fname), fname, metric,
+                       "One point per finished case.")
     return Section("study", f"Study {name}", body)

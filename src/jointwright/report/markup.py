@@ -87,7 +87,8 @@ def table(headers: list[str], rows: list[list], *, caption: str = "", cls: str =
 def figure(png: bytes, name: str, alt: str, caption: str) -> str:
     """An embedded PNG figure with its caption; ``name`` links the PNG/SVG files beside it."""
     data = base64.b64encode(png).decode("ascii")
-    return (f'<figure id="fig-{esc(name)}"><img alt="{esc(alt)}" src="data:image/png;base64,{data}">'
+    img = f'<img alt="{esc(alt)}" src="data:image/png;base64,{data}">'
+    return (f'<figure id="fig-{esc(name)}">{img}'
             f"<figcaption>{esc(caption)} <span class=\"files\">(files: figures/{esc(name)}.png, "
             f"figures/{esc(name)}.svg)</span></figcaption></figure>")
 
@@ -120,15 +121,18 @@ body { margin: 0; color: var(--ink); background: #fff;
 main { max-width: 960px; margin: 0 auto; padding: 24px 28px 60px; }
 header { border-bottom: 3px solid var(--accent); margin-bottom: 18px; padding-bottom: 8px; }
 h1 { font-size: 1.6em; margin: 0 0 4px; }
-h2 { font-size: 1.22em; margin: 34px 0 8px; padding-bottom: 3px; border-bottom: 1px solid var(--line); }
+h2 { font-size: 1.22em; margin: 34px 0 8px; padding-bottom: 3px;
+     border-bottom: 1px solid var(--line); }
 h3 { font-size: 1.04em; margin: 20px 0 6px; }
 .sub { color: var(--muted); margin: 0; }
 nav ol { columns: 2; margin: 8px 0 0; padding-left: 20px; color: var(--muted); }
 nav a { color: var(--accent); text-decoration: none; }
 .scroll { overflow-x: auto; }
 table { border-collapse: collapse; margin: 8px 0 14px; font-size: 0.88em; min-width: 50%; }
-caption { caption-side: bottom; text-align: left; color: var(--muted); font-size: 0.92em; padding-top: 4px; }
-th, td { border-bottom: 1px solid var(--line); padding: 4px 9px; text-align: left; vertical-align: top; }
+caption { caption-side: bottom; text-align: left; color: var(--muted); font-size: 0.92em;
+          padding-top: 4px; }
+th, td { border-bottom: 1px solid var(--line); padding: 4px 9px; text-align: left;
+         vertical-align: top; }
 th { background: var(--band); font-weight: 600; }
 td.num { text-align: right; white-space: nowrap; font-variant-numeric: tabular-nums; }
 td.ok { color: var(--ok); font-weight: 600; }
@@ -140,7 +144,8 @@ figure { margin: 14px 0 22px; }
 figure img { max-width: 100%; height: auto; border: 1px solid var(--line); }
 figcaption { color: var(--muted); font-size: 0.9em; margin-top: 4px; }
 .files { font-size: 0.9em; }
-footer { margin-top: 40px; color: var(--muted); font-size: 0.85em; border-top: 1px solid var(--line); padding-top: 8px; }
+footer { margin-top: 40px; color: var(--muted); font-size: 0.85em;
+         border-top: 1px solid var(--line); padding-top: 8px; }
 """
 
 
@@ -154,5 +159,6 @@ def page(title: str, subtitle: str, sections: list[Section], footer: str) -> str
         "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">"
         f"<title>{esc(title)}</title><style>{_STYLE}</style></head><body><main>"
         f"<header><h1>{esc(title)}</h1><p class=\"sub\">{esc(subtitle)}</p>"
-        f"<nav><ol>{nav}</ol></nav></header>{body}<footer>{esc(footer)}</footer></main></body></html>\n"
+        f"<nav><ol>{nav}</ol></nav></header>{body}<footer>{esc(footer)}</footer>"
+        "</main></body></html>\n"
     )

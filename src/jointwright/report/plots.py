@@ -20,40 +20,71 @@ from .sweeps import efficiency_sensitivity, impact_metric, ratio_sweep
 MODE_WORDS = {"frictionless": "frictionless", "motoring": "motoring", "backdriven": "back-driven",
               "locked": "all joints locked"}
 
+POLYTOPE_GUIDE = (
+    "Each outline is the set of tip forces the joints can exert at once at this pose, gravity of "
+    "the robot included, when every joint has the capacity of one transmission mode: "
+    "frictionless (N·τ_peak), all motoring (η_f·N·τ_peak) or all back-driven holding "
+    "(N·τ_peak/η_b). A real motion mixes modes joint by joint; the dots are the payloads of the "
+    "cases at this pose, computed with their own modes. The plot is the section of the 3-D "
+    "polytope by the plane of two world axes through zero force (not a projection).")
+NO_POLYTOPE = (
+    "No single-contact payload case: nothing to draw. Stance cases (the body carried on several "
+    "feet with friction cones) are solved as a cone program; their numbers are under Every case.")
+ELLIPSE_GUIDE = (
+    "The inertia felt at the contact: the distance from the centre to a curve along a direction "
+    "is the square root of the effective mass along it, so a larger curve means a harder hit. "
+    "Back-driven is what an impact feels (the link drives the motors through N²·I_r/η_b; "
+    "self-locking joints count as locked). For a floating base the dotted curve is the inertia "
+    "with every joint locked; the impact mitigation factor measures how far the back-driven "
+    "curve stays inside it.")
+RATIO_GUIDE = (
+    "One joint's total ratio is scaled from ¼ to 4 times the design value while every other "
+    "joint keeps its design; each curve is re-evaluated with the same physics as the "
+    "assessment. A higher ratio raises a joint's drive torque until the gear rating caps it, and "
+    "raises its reflected inertia N²·I_r, which lowers the impact mitigation factor (or raises "
+    "the back-driven effective mass for a fixed base).")
+RATIO_CAPTION = (
+    "Payload and impact metrics against each joint's ratio (others held). The dashed vertical "
+    "line is the design; dotted horizontal lines are requirements. Stage masses, inertias, "
+    "ratings and efficiencies are held at the design values.")
+SENSITIVITY_GUIDE = (
+    "Catalog efficiencies are assumptions. Each joint's forward (η_f) and backward (η_b) "
+    "efficiency is moved by ±{pts} percentage points in turn (η_f kept in (0, 1], η_b at most 1; "
+    "η_b ≤ 0 makes the joint self-locking) and the design re-evaluated. Forward efficiency moves "
+    "the drive torque and the motoring inertia; backward efficiency moves the holding torque and "
+    "the back-driven inertia that impacts feel.")
+
 
 def panel_title(short: str, case: str) -> str:
     """E.g. "Back-driven IMF, touchdown"."""
     return f"Back-driven {short}, {case}"
 
 
+def _polytope_caption(s) -> str:
+    cap = (f"Force polytope sections in the {plane_label(s.plane)} plane through F = 0 at the "
+           f"pose of {', '.join(s.cases)}; forces in N.")
+    unbounded = [MODE_WORDS[m] for m, c in s.clipped.items() if c]
+    if unbounded:
+        cap += (f" Unbounded in {', '.join(unbounded)} mode (a self-locking joint or a direction "
+                "no joint limits): drawn clipped.")
+    if _coincide(s.vertices):
+        cap += (" The outlines coincide: every bounding joint sits at its gear's rated peak "
+                "torque, which caps all three modes alike.")
+    return cap
+
+
 def polytope_section(evaluator, arrays, a: dict, fig_dir: Path) -> Section:
+    """Force-polytope sections per payload pose, three modes overlaid."""
     payload = {c["name"]: float(c["metrics"]["payload"]) for c in a["cases"]
                if c["kind"] == "payload" and isinstance(c["metrics"].get("payload"), (int, float))}
-    parts = [paragraph(
-        "Each outline is the set of tip forces the joints can exert at once at this pose, gravity "
-        "of the robot included, when every joint has the capacity of one transmission mode: "
-        "frictionless (N·τ_peak), all motoring (η_f·N·τ_peak) or all back-driven holding "
-        "(N·τ_peak/η_b). A real motion mixes modes joint by joint; the dots are the payloads of the "
-        "cases at this pose, computed with their own modes. The plot is the section of the 3-D "
-        "polytope by the plane of two world axes through zero force (not a projection).")]
+    parts = [paragraph(POLYTOPE_GUIDE)]
     drawn = polytope_sections(evaluator, arrays, payload)
     if not drawn:
-        parts.append(paragraph("No single-contact payload case: nothing to draw. Stance cases (the "
-                               "body carried on several feet with friction cones) are solved as a "
-                               "cone program; their numbers are under Every case."))
+        parts.append(paragraph(NO_POLYTOPE))
     for k, s in enumerate(drawn):
         name = f"polytope-{k + 1}"
         png = figures.save(figures.polytope_figure(s), fig_dir, name)
-        notes = [MODE_WORDS[m] for m, c in s.clipped.items() if c]
-        cap = (f"Force polytope sections in the {plane_label(s.plane)} plane through F = 0 at the pose "
-               f"of {', '.join(s.cases)}; forces in N.")
-        if notes:
-            cap += (f" Unbounded in {', '.join(notes)} mode (a self-locking joint or a direction no "
-                    "joint limits): drawn clipped.")
-        if _coincide(s.vertices):
-            cap += (" The outlines coincide: every bounding joint sits at its gear's rated peak "
-                    "torque, which caps all three modes alike.")
-        parts.append(figure(png, name, s.title, cap))
+        parts.append(figure(png, name, s.title, _polytope_caption(s)))
     return Section("polytopes", "Force capability polytopes", "".join(parts))
 
 
@@ -63,25 +94,21 @@ def _coincide(vertices: dict) -> bool:
     if any(v.shape != shapes[0].shape for v in shapes) or shapes[0].size == 0:
         return False
     ref = sorted(map(tuple, shapes[0]))
-    scale = float(np.abs(shapes[0]).max()) or 1.0
-    return all(np.allclose(sorted(map(tuple, v)), ref, rtol=0, atol=1e-9 * scale) for v in shapes[1:])
+    tol = 1e-9 * (float(np.abs(shapes[0]).max()) or 1.0)
+    return all(np.allclose(sorted(map(tuple, v)), ref, rtol=0, atol=tol) for v in shapes[1:])
 
 
 def ellipse_section(evaluator, arrays, fig_dir: Path) -> Section:
-    parts = [paragraph(
-        "The inertia felt at the contact: the distance from the centre to a curve along a direction "
-        "is the square root of the effective mass along it, so a larger curve means a harder hit. "
-        "Back-driven is what an impact feels (the link drives the motors through N²·I_r/η_b; "
-        "self-locking joints count as locked). For a floating base the dotted curve is the "
-        "inertia with every joint locked; the impact mitigation factor measures how far the "
-        "back-driven curve stays inside it.")]
+    """Inertia-ellipse sections per impact case, per mode (and locked joints)."""
+    parts = [paragraph(ELLIPSE_GUIDE)]
     locked = [j for j, x in zip(evaluator.robot.actuated, arrays.self_locking[0]) if x]
     for k, s in enumerate(ellipse_sections(evaluator, arrays)):
         name = f"inertia-{k + 1}"
         png = figures.save(figures.ellipse_figure(s), fig_dir, name)
+        masses = "; ".join(f"{MODE_WORDS[m]} {fmt(v, 'kg')}" for m, v in s.mass_along.items())
         cap = (f"Inertia ellipse sections in the {plane_label(s.plane)} plane through the contact "
                f"point, case {s.case}; axes in √kg. Effective mass along the case direction: "
-               + "; ".join(f"{MODE_WORDS[m]} {fmt(v, 'kg')}" for m, v in s.mass_along.items()) + ".")
+               f"{masses}.")
         if locked:
             cap += f" Self-locking, hence locked in the back-driven curve: {', '.join(locked)}."
         parts.append(figure(png, name, s.title, cap))
@@ -89,55 +116,26 @@ def ellipse_section(evaluator, arrays, fig_dir: Path) -> Section:
 
 
 def ratio_section(project, evaluator, arrays, fig_dir: Path) -> Section:
+    """Smallest payload and impact metrics against each joint's ratio."""
     sweep = ratio_sweep(project, evaluator, arrays)
-    metrics = impact_metric(project, evaluator)
     panels = []
     if "payload" in sweep.values:
         panels.append(("payload", "Smallest payload", "payload over the payload cases (N)", None))
-    for case, (key, short, unit) in metrics.items():
+    for case, (key, short, unit) in impact_metric(project, evaluator).items():
         limit = project.case(case).limits.get("imf_min" if key == "imf" else "effective_mass_max")
-        panels.append((case, panel_title(short, case), f"back-driven {short} ({unit or 'dimensionless'})", limit))
+        ylabel = f"back-driven {short} ({unit or 'dimensionless'})"
+        panels.append((case, panel_title(short, case), ylabel, limit))
     if not panels:
-        return Section("ratio", "Gear ratio trade", paragraph("The project has no payload or impact case."))
-    parts = [paragraph(
-        "One joint's total ratio is scaled from ¼ to 4 times the design value while every other "
-        "joint keeps its design; each curve is re-evaluated with the same physics as the "
-        "assessment. A higher ratio raises a joint's drive torque until the gear rating caps it, "
-        "and raises its reflected inertia N²·I_r, which lowers the impact mitigation factor (or "
-        "raises the back-driven effective mass for a fixed base).")]
-    fig = figures.ratio_figure(sweep, panels)
-    png = figures.save(fig, fig_dir, "ratio-trade")
-    parts.append(figure(png, "ratio-trade", "metrics against gear ratio per joint",
-                        "Payload and impact metrics against each joint's ratio (others held). The "
-                        "dashed vertical line is the design; dotted horizontal lines are requirements. "
-                        "Stage masses, inertias, ratings and efficiencies are held at the design values."))
-    return Section("ratio", "Gear ratio trade", "".join(parts))
+        body = paragraph("The project has no payload or impact case.")
+        return Section("ratio", "Gear ratio trade", body)
+    png = figures.save(figures.ratio_figure(sweep, panels), fig_dir, "ratio-trade")
+    body = paragraph(RATIO_GUIDE) + figure(png, "ratio-trade", "metrics against gear ratio per "
+                                           "joint", RATIO_CAPTION)
+    return Section("ratio", "Gear ratio trade", body)
 
 
-def sensitivity_section(project, evaluator, arrays, fig_dir: Path) -> Section:
-    sens = efficiency_sensitivity(project, evaluator, arrays)
-    metrics = impact_metric(project, evaluator)
-    keys = [k for k in ["payload", *metrics] if k in sens.base]
-    titles = {"payload": "Smallest payload"}
-    titles.update({c: panel_title(short, c) for c, (_k, short, _u) in metrics.items()})
-    units = {"payload": "N"}
-    units.update({c: u for c, (_k, _l, u) in metrics.items()})
+def _sensitivity_table(sens, columns, titles, units) -> str:
     pts = round(100 * sens.step)
-    parts = [paragraph(
-        f"Catalog efficiencies are assumptions. Each joint's forward (η_f) and backward (η_b) "
-        f"efficiency is moved by ±{pts} percentage points in turn (η_f kept in (0, 1], η_b at most 1; "
-        "η_b ≤ 0 makes the joint self-locking) and the design re-evaluated. Forward efficiency "
-        "moves the drive torque and the motoring inertia; backward efficiency moves the holding "
-        "torque and the back-driven inertia that impacts feel.")]
-    if keys:
-        fig = figures.sensitivity_figure(sens, [(k, titles[k]) for k in keys])
-        png = figures.save(fig, fig_dir, "efficiency-sensitivity")
-        parts.append(figure(png, "efficiency-sensitivity", "sensitivity to efficiency assumptions",
-                            f"Change of each metric, in % of its design value, when one efficiency "
-                            f"moves by −{pts} (grey) or +{pts} (blue) percentage points."))
-    columns = keys[:1] + [k for k in sens.base if k.startswith("payload:")] + keys[1:]
-    titles.update({k: f"Payload, {k.split(':', 1)[1]}" for k in columns if k.startswith("payload:")})
-    units.update({k: "N" for k in columns if k.startswith("payload:")})
     rows = []
     for j, joint in enumerate(sens.joints):
         for f, fname in enumerate(("η_f", "η_b")):
@@ -145,17 +143,42 @@ def sensitivity_section(project, evaluator, arrays, fig_dir: Path) -> Section:
             for k in columns:
                 low, high = sens.values[k][j, f]
                 row.append(Cell(f"{number(low)} / {fmt(high, units[k])}", "num"))
-            flags = [f"{sign}{pts} limited by a bound" for s, sign in enumerate("−+") if sens.clipped[j, f, s]]
+            flags = [f"{sign}{pts} limited by a bound"
+                     for s, sign in enumerate("−+") if sens.clipped[j, f, s]]
             if sens.locking_changed[j, f].any():
                 flags.append("self-locking changes")
-            row.append(", ".join(flags))
-            rows.append(row)
-    headers = ["joint", "efficiency"] + [titles[k] for k in columns] + ["note"]
+            rows.append(row + [", ".join(flags)])
     base = "; ".join(f"{titles[k]} {fmt(sens.base[k], units[k])}" for k in columns)
-    parts.append(table(headers, rows, caption=f"Each cell: value with the efficiency −{pts} / +{pts} "
-                                              f"points. Design values: {base}."))
+    return table(["joint", "efficiency"] + [titles[k] for k in columns] + ["note"], rows,
+                 caption=f"Each cell: value with the efficiency −{pts} / +{pts} points. "
+                         f"Design values: {base}.")
+
+
+def sensitivity_section(project, evaluator, arrays, fig_dir: Path) -> Section:
+    """Payload and impact metrics with each efficiency moved ±5 points: bars and a table."""
+    sens = efficiency_sensitivity(project, evaluator, arrays)
+    metrics = impact_metric(project, evaluator)
+    keys = [k for k in ["payload", *metrics] if k in sens.base]
+    titles = {"payload": "Smallest payload"}
+    titles.update({c: panel_title(short, c) for c, (_k, short, _u) in metrics.items()})
+    units = {"payload": "N"}
+    units.update({c: u for c, (_k, _l, u) in metrics.items()})
+    cases = [k for k in sens.base if k.startswith("payload:")]
+    titles.update({k: f"Payload, {k.split(':', 1)[1]}" for k in cases})
+    units.update({k: "N" for k in cases})
+    pts = round(100 * sens.step)
+    parts = [paragraph(SENSITIVITY_GUIDE.format(pts=pts))]
+    if keys:
+        fig = figures.sensitivity_figure(sens, [(k, titles[k]) for k in keys])
+        png = figures.save(fig, fig_dir, "efficiency-sensitivity")
+        parts.append(figure(png, "efficiency-sensitivity", "sensitivity to efficiency assumptions",
+                            f"Change of each metric, in % of its design value, when one efficiency "
+                            f"moves by −{pts} (grey) or +{pts} (blue) percentage points."))
+    parts.append(_sensitivity_table(sens, keys[:1] + cases + keys[1:], titles, units))
     return Section("sensitivity", "Sensitivity to efficiency assumptions", "".join(parts))
 
+
+_DUTY_SUMMARY = ("rms_torque", "peak_torque", "peak_temperature", "backdriven_share")
 
 
 def duty_data(evaluator, arrays, a: dict) -> list[dict]:
@@ -177,9 +200,7 @@ def duty_data(evaluator, arrays, a: dict) -> list[dict]:
                                  arrays.eta_backward[0], arrays.rotor_inertia[0],
                                  standstill=STANDSTILL * peak(pd.qd))
         m = cases.get(pd.case.name, {}).get("metrics", {})
-        summary = [{"joint": j, **{k: m.get(f"{k}:{j}") for k in
-                                   ("rms_torque", "peak_torque", "peak_temperature", "backdriven_share")}}
-                   for j in joints]
+        summary = [{"joint": j, **{k: m.get(f"{k}:{j}") for k in _DUTY_SUMMARY}} for j in joints]
         worst = cases.get(pd.case.name, {}).get("limiting_joint")
         limits = {}
         if worst in joints:

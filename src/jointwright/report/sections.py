@@ -41,32 +41,45 @@ def job_section(project) -> Section:
     """Who the robot is for and what it must do: summary, cases and budgets."""
     rows = []
     for c in project.cases:
-        limits = ", ".join(f"{k.replace('_', ' ')} {fmt(v, _limit_unit(k))}" for k, v in c.limits.items())
-        direction = "—" if c.direction is None else "(" + ", ".join(number(x, 3) for x in c.direction) + ")"
-        rows.append([c.name, c.kind, c.frame or "—", direction,
-                     c.motion if c.kind == "payload" else "—", limits or "none"])
-    req = project.requirements
-    budgets = []
+        limits = ", ".join(f"{k.replace('_', ' ')} {fmt(v, _limit_unit(k))}"
+                           for k, v in c.limits.items())
+        direction = ("—" if c.direction is None
+                     else "(" + ", ".join(number(x, 3) for x in c.direction) + ")")
+        motion = c.motion if c.kind in ("payload", "stance") else "—"
+        rows.append([c.name, c.kind, c.frame or "—", direction, motion, limits or "none"])
+    base = ("floating base (free-flying trunk)" if project.robot.base == "floating"
+            else "fixed base")
+    joints = ", ".join(project.robot.actuated)
+    summary = project.summary.replace("\n", " ").strip() or "(no summary in the project file)"
+    body = (paragraph(summary)
+            + paragraph(f"Robot: {len(project.robot.actuated)} actuated joints ({joints}), "
+                        f"{base}. Project file: {project.file.name}.")
+            + "<h3>Operating cases and their requirements</h3>"
+            + table(["case", "kind", "tip frame", "direction (world)", "motion", "requirements"],
+                    rows, caption="Directions are unit vectors in world axes; a payload is the "
+                                  "force the tip exerts on its surroundings along the direction.")
+            + "<h3>Budgets</h3>" + bullets(_budgets(project.requirements)
+                                           or ["no mass or size budgets set"]))
+    return Section("job", "The job and its requirements", body)
+
+
+#: per-joint budgets shown: (field of JointLimits, unit)
+_JOINT_BUDGETS = (("mass_max", "kg"), ("reflected_inertia_max", "kg·m²"), ("diameter_max", "m"),
+                  ("length_max", "m"), ("ratio_max", ""))
+
+
+def _budgets(req) -> list[str]:
+    out = []
     if math.isfinite(req.total_mass_max):
-        budgets.append(f"total actuator mass at most {fmt(req.total_mass_max, 'kg')}")
+        out.append(f"total actuator mass at most {fmt(req.total_mass_max, 'kg')}")
     for j, lim in req.joints.items():
-        for key, unit in (("mass_max", "kg"), ("reflected_inertia_max", "kg·m²"), ("diameter_max", "m"),
-                          ("length_max", "m"), ("ratio_max", "")):
+        for key, unit in _JOINT_BUDGETS:
             v = getattr(lim, key)
             if math.isfinite(v):
-                budgets.append(f"{j}: {key.replace('_', ' ')} {fmt(v, unit)}")
+                out.append(f"{j}: {key.replace('_', ' ')} {fmt(v, unit)}")
         if lim.ratio_min > 0:
-            budgets.append(f"{j}: ratio min {fmt(lim.ratio_min)}")
-    base = "floating base (free-flying trunk)" if project.robot.base == "floating" else "fixed base"
-    body = (paragraph(project.summary.replace("\n", " ").strip() or "(no summary in the project file)")
-            + paragraph(f"Robot: {len(project.robot.actuated)} actuated joints "
-                        f"({', '.join(project.robot.actuated)}), {base}. Project file: {project.file.name}.")
-            + "<h3>Operating cases and their requirements</h3>"
-            + table(["case", "kind", "tip frame", "direction (world)", "motion", "requirements"], rows,
-                    caption="Directions are unit vectors in world axes; a payload is the force the tip "
-                            "exerts on its surroundings along the direction.")
-            + "<h3>Budgets</h3>" + bullets(budgets or ["no mass or size budgets set"]))
-    return Section("job", "The job and its requirements", body)
+            out.append(f"{j}: ratio min {fmt(lim.ratio_min)}")
+    return out
 
 
 def _limit_unit(key: str) -> str:
@@ -100,66 +113,74 @@ def _impact_words(case: dict) -> str:
     m = case["metrics"]
     text = f"An impact in case {case['name']} meets"
     if m.get("imf") is not None:
-        text += f" an impact mitigation factor of {number(m['imf'])} (back-driven; 0 is no better than locked joints)"
-        if m.get("contact_rank", 3) < 3:
-            text += (f", {number(m.get('imf_restricted'))} over the directions the limb can move"
-                     if m.get("imf_restricted") is not None else "")
+        text += (f" an impact mitigation factor of {number(m['imf'])} (back-driven; 0 is no "
+                 "better than locked joints)")
+        if m.get("contact_rank", 3) < 3 and m.get("imf_restricted") is not None:
+            text += f", {number(m['imf_restricted'])} over the directions the limb can move"
         text += " and"
     return text + f" an effective mass of {fmt(m.get('effective_mass'), 'kg')} along its direction."
+
+
+def _payload_words(a: dict, project) -> list[str]:
+    payload = [c for c in a["cases"] if c["kind"] in ("payload", "stance")
+               and c["metrics"].get("payload") is not None]
+    if not payload:
+        return []
+    worst = min(payload, key=lambda c: _f(c["metrics"]["payload"]))
+    value = _f(worst["metrics"]["payload"])
+    kg = ""
+    if project.case(worst["name"]).weight_equivalent and math.isfinite(value):
+        kg = f" (the weight of {fmt(value / G0, 'kg')} at standard gravity)"
+    text = f"The smallest payload is {fmt(value, 'N')}{kg}, in case {worst['name']}"
+    if worst["limiting_joint"]:
+        text += f", limited by joint {worst['limiting_joint']}: {_limiting_reason(a, worst)}"
+    return [text + "."]
 
 
 def outcome_section(a: dict, project) -> Section:
     """The outcome in plain words: missed requirements, what limits payload, self-locking joints."""
     checks = a["checks"]
     missed = [c for c in checks if not c["ok"]]
-    words = []
+    name = a["design"]
     if not missed:
-        words.append(f"The design “{a['design']}” meets all {len(checks)} requirements.")
+        words = [f"The design “{name}” meets all {len(checks)} requirements."]
     else:
         items = "; ".join(f"{_check_label(c)} {fmt(c['achieved'], c['unit'])} against "
                           f"{fmt(c['limit'], c['unit'])} ({pct(c['margin'])})" for c in missed)
-        words.append(f"The design “{a['design']}” misses {len(missed)} of {len(checks)} requirements: {items}.")
-    payload = [c for c in a["cases"] if c["kind"] in ("payload", "stance")
-               and c["metrics"].get("payload") is not None]
-    if payload:
-        worst = min(payload, key=lambda c: _f(c["metrics"]["payload"]))
-        value = _f(worst["metrics"]["payload"])
-        kg = ""
-        if project.case(worst["name"]).weight_equivalent and math.isfinite(value):
-            kg = f" (the weight of {fmt(value / G0, 'kg')} at standard gravity)"
-        text = f"The smallest payload is {fmt(value, 'N')}{kg}, in case {worst['name']}"
-        if worst["limiting_joint"]:
-            text += f", limited by joint {worst['limiting_joint']}: {_limiting_reason(a, worst)}"
-        words.append(text + ".")
+        words = [f"The design “{name}” misses {len(missed)} of {len(checks)} requirements: "
+                 f"{items}."]
+    words += _payload_words(a, project)
     words += [_impact_words(c) for c in a["cases"] if c["kind"] == "impact"]
     locking = [j for j in a["joints"] if j["self_locking"]]
     if locking:
-        words.append("Self-locking joints: " + ", ".join(
-            f"{j['joint']} (backward efficiency {number(j['eta_backward'], 3)})" for j in locking)
-            + ". They hold their load unpowered and cannot be pushed back by a person or an obstacle.")
+        names = ", ".join(f"{j['joint']} (backward efficiency {number(j['eta_backward'], 3)})"
+                          for j in locking)
+        words.append(f"Self-locking joints: {names}. They hold their load unpowered and cannot be "
+                     "pushed back by a person or an obstacle.")
     else:
         words.append("No joint is self-locking: every transmission can be back-driven by its load.")
     words.append(f"Actuator mass {fmt(a['total_mass'], 'kg')} in total.")
     cls = "verdict" if not missed else "verdict bad"
-    return Section("outcome", "Outcome", f'<div class="{cls}">' + "".join(paragraph(w) for w in words) + "</div>")
+    body = f'<div class="{cls}">' + "".join(paragraph(w) for w in words) + "</div>"
+    return Section("outcome", "Outcome", body)
 
 
 def requirements_section(a: dict) -> Section:
     """Every requirement, achieved value, limit and relative margin."""
     rows = []
     for c in a["checks"]:
-        key = f"{c['subject']}:{c['requirement']}"
+        key = (("check", f"{c['subject']}:{c['requirement']}"),)
         rows.append([
             c["subject"], c["requirement"].replace("_", " "),
-            Cell(fmt(c["achieved"], c["unit"]), "num", (("check", key), ("field", "achieved"))),
-            Cell(fmt(c["limit"], c["unit"]), "num", (("check", key), ("field", "limit"))),
-            Cell(pct(c["margin"]), "num", (("check", key), ("field", "margin"))),
+            Cell(fmt(c["achieved"], c["unit"]), "num", key + (("field", "achieved"),)),
+            Cell(fmt(c["limit"], c["unit"]), "num", key + (("field", "limit"),)),
+            Cell(pct(c["margin"]), "num", key + (("field", "margin"),)),
             Cell("met" if c["ok"] else "MISSED", "ok" if c["ok"] else "bad"),
         ])
     body = table(["subject", "requirement", "achieved", "limit", "margin", "status"], rows,
-                 caption="Margin = (achieved − limit)/|limit| for a minimum, (limit − achieved)/|limit| "
-                         "for a maximum; a requirement is met when its margin is ≥ 0. IMF values are "
-                         "dimensionless.")
+                 caption="Margin = (achieved − limit)/|limit| for a minimum, "
+                         "(limit − achieved)/|limit| for a maximum; a requirement is met when its "
+                         "margin is ≥ 0. IMF values are dimensionless.")
     return Section("requirements", "Requirements versus achieved", body)
 
 
@@ -167,58 +188,74 @@ def binding_section(a: dict, count: int = 3) -> Section:
     """The requirements with the smallest margins and the joint that sets each."""
     order = sorted(a["checks"], key=lambda c: _f(c["margin"]))[:count]
     cases = {c["name"]: c for c in a["cases"]}
+    joints = [j["joint"] for j in a["joints"]]
     rows = []
     for c in order:
         case = cases.get(c["subject"])
-        by = case["limiting_joint"] if case and case.get("limiting_joint") else (
-            c["subject"] if c["subject"] in [j["joint"] for j in a["joints"]] else "—")
+        if case and case.get("limiting_joint"):
+            by = case["limiting_joint"]
+        else:
+            by = c["subject"] if c["subject"] in joints else "—"
         rows.append([_check_label(c), Cell(pct(c["margin"]), "num"), by])
-    body = (paragraph("These requirements are closest to their limits (or furthest past them): any "
-                      "change of the design or the assumptions moves them first.")
+    body = (paragraph("These requirements are closest to their limits (or furthest past them): "
+                      "any change of the design or the assumptions moves them first.")
             + table(["requirement", "margin", "set by joint"], rows))
     return Section("binding", "Binding constraints", body)
+
+
+def _tagged(value, unit: str, joint: str, field: str) -> Cell:
+    return Cell(fmt(value, unit), "num", (("joint", joint), ("field", field)))
+
+
+_INERTIAS = ("rotor_inertia", "reflected_frictionless", "reflected_motoring",
+             "reflected_backdriven")
 
 
 def joints_section(a: dict) -> Section:
     """Per joint: drivetrain, efficiencies, capacities, reflected inertia, mass, speed."""
     drive, inertia = [], []
     for j in a["joints"]:
+        name = j["joint"]
         lock = " (self-locking)" if j["self_locking"] else ""
-        drive.append([j["joint"], j["motor"], " + ".join(j["stages"]) or "direct drive",
+        drive.append([name, j["motor"], " + ".join(j["stages"]) or "direct drive",
                       Cell(f"{number(j['ratio'])} : 1", "num"),
-                      Cell(number(j["eta_forward"], 3), "num"), Cell(number(j["eta_backward"], 3) + lock, "num"),
-                      Cell(fmt(j["capacity_motoring"], "N·m"), "num", (("joint", j["joint"]), ("field", "drive"))),
-                      Cell(fmt(j["capacity_backdriven"], "N·m"), "num", (("joint", j["joint"]), ("field", "holding"))),
+                      Cell(number(j["eta_forward"], 3), "num"),
+                      Cell(number(j["eta_backward"], 3) + lock, "num"),
+                      _tagged(j["capacity_motoring"], "N·m", name, "drive"),
+                      _tagged(j["capacity_backdriven"], "N·m", name, "holding"),
                       Cell(fmt(j["gear_peak_torque"], "N·m"), "num")])
-        inertia.append([j["joint"], Cell(fmt(j["rotor_inertia"], "kg·m²"), "num"),
-                        Cell(fmt(j["reflected_frictionless"], "kg·m²"), "num"),
-                        Cell(fmt(j["reflected_motoring"], "kg·m²"), "num"),
-                        Cell(fmt(j["reflected_backdriven"], "kg·m²"), "num"),
-                        Cell(fmt(j["mass"], "kg"), "num", (("joint", j["joint"]), ("field", "mass"))),
-                        Cell(fmt(j["max_joint_speed"], "rad/s"), "num"),
-                        Cell(fmt(j["breakaway_torque"], "N·m"), "num")])
-    total = [Cell("total", "num"), "", "", "", "", Cell(fmt(a["total_mass"], "kg"), "num", (("field", "total_mass"),)), "", ""]
+        inertia.append([name] + [Cell(fmt(j[k], "kg·m²"), "num") for k in _INERTIAS]
+                       + [_tagged(j["mass"], "kg", name, "mass"),
+                          Cell(fmt(j["max_joint_speed"], "rad/s"), "num"),
+                          Cell(fmt(j["breakaway_torque"], "N·m"), "num")])
+    total = Cell(fmt(a["total_mass"], "kg"), "num", (("field", "total_mass"),))
+    inertia.append([Cell("total", "num"), "", "", "", "", total, "", ""])
     body = (table(["joint", "motor", "stages", "ratio", "η forward", "η backward", "drive torque",
-                   "holding torque", "gear rated peak"], drive,
-                  caption="Drive torque = η_f·N·τ_peak (motoring); holding torque = N·τ_peak/η_b while "
-                          "the load back-drives the joint; both capped by the gear's rated peak torque "
-                          "(a self-locking joint holds up to that rating whatever the motor). "
-                          "Efficiencies are dimensionless.")
+                   "holding torque", "gear rated peak"], drive, caption=_DRIVE_CAPTION)
             + table(["joint", "rotor-side inertia I_r", "reflected N²·I_r", "motoring η_f·N²·I_r",
                      "back-driven N²·I_r/η_b", "mass", "max joint speed", "breakaway torque"],
-                    inertia + [total],
-                    caption="Reflected inertia as seen from the link side; the back-driven value is "
-                            "what an impact feels. Breakaway torque: joint-side torque that starts "
-                            "the unpowered actuator moving."))
+                    inertia, caption=_INERTIA_CAPTION))
     return Section("joints", "Per-joint choices", body)
 
 
+_DRIVE_CAPTION = (
+    "Drive torque = η_f·N·τ_peak (motoring); holding torque = N·τ_peak/η_b while the load "
+    "back-drives the joint; both capped by the gear's rated peak torque (a self-locking joint "
+    "holds up to that rating whatever the motor). Efficiencies are dimensionless.")
+_INERTIA_CAPTION = (
+    "Reflected inertia as seen from the link side; the back-driven value is what an impact "
+    "feels. Breakaway torque: joint-side torque that starts the unpowered actuator moving.")
+
 #: duty-cycle quantities per joint: (key, column, unit)
-DUTY_COLUMNS = (("rms_torque", "RMS motor torque", "N·m"), ("peak_torque", "peak motor torque", "N·m"),
-                ("peak_speed", "peak motor speed", "rad/s"), ("peak_temperature", "peak winding temp.", "°C"),
-                ("rms_ratio", "RMS ÷ continuous rating", ""), ("peak_ratio", "peak ÷ peak rating", ""),
-                ("thermal_ratio", "temperature rise ÷ allowed", ""),
-                ("energy_regen", "electrical energy per cycle", "J"), ("backdriven_share", "time back-driven", "%"))
+DUTY_COLUMNS = (
+    ("rms_torque", "RMS motor torque", "N·m"), ("peak_torque", "peak motor torque", "N·m"),
+    ("peak_speed", "peak motor speed", "rad/s"),
+    ("peak_temperature", "peak winding temp.", "°C"),
+    ("rms_ratio", "RMS ÷ continuous rating", ""), ("peak_ratio", "peak ÷ peak rating", ""),
+    ("thermal_ratio", "temperature rise ÷ allowed", ""),
+    ("energy_regen", "electrical energy per cycle", "J"),
+    ("backdriven_share", "time back-driven", "%"),
+)
 
 
 def _duty_table(c: dict, joints: list[str]) -> str:
@@ -232,66 +269,78 @@ def _duty_table(c: dict, joints: list[str]) -> str:
                 v = 100.0 * v
             row.append(Cell(fmt(v, unit), "num", (("case", c["name"]), ("metric", f"{key}:{j}"))))
         rows.append(row)
-    use = m.get("rating_use")
-    cap = (f"Largest rating use {fmt(use)} (dimensionless; ≤ 1 passes), set by "
-           f"{c.get('limiting_joint') or '—'} through {str(m.get('limiting_quantity', '—')).replace('_', ' ')}.")
+    quantity = str(m.get("limiting_quantity", "—")).replace("_", " ")
+    cap = (f"Largest rating use {fmt(m.get('rating_use'))} (dimensionless; ≤ 1 passes), set by "
+           f"{c.get('limiting_joint') or '—'} through {quantity}.")
     return table(["joint"] + [col for _k, col, _u in DUTY_COLUMNS], rows, caption=cap)
+
+
+def _case_notes(c: dict) -> list[str]:
+    notes = []
+    if c.get("limiting_joint"):
+        notes.append(f"limited by {c['limiting_joint']}")
+    if c.get("joint_modes"):
+        notes.append("modes: " + ", ".join(f"{j} {m}" for j, m in c["joint_modes"].items()))
+    if c["kind"] == "impact" and c["metrics"].get("contact_rank", 3) < 3:
+        notes.append("the joints cannot move the contact in every direction, so the determinant "
+                     "IMF is 0; read the restricted or directional IMF")
+    return notes
 
 
 def cases_section(a: dict) -> Section:
     """Every metric of every case, with the limiting joint and the power-flow mode per joint."""
     parts = []
     for c in a["cases"]:
-        shown = list(CASE_METRICS.get(c["kind"], ()))
-        if c["kind"] == "stance":
-            shown += [(k, f"normal force at {k.split(':', 1)[1]}", "N") for k in c["metrics"]
-                      if k.startswith("normal_force:")]
-        rows = [[label, Cell(fmt(c["metrics"][k], unit), "num", (("case", c["name"]), ("metric", k)))]
-                for k, label, unit in shown if c["metrics"].get(k) is not None]
-        notes = []
-        if c.get("limiting_joint"):
-            notes.append(f"limited by {c['limiting_joint']}")
-        if c.get("joint_modes"):
-            notes.append("modes: " + ", ".join(f"{j} {m}" for j, m in c["joint_modes"].items()))
-        if c["kind"] == "impact" and c["metrics"].get("contact_rank", 3) < 3:
-            notes.append("the joints cannot move the contact in every direction, so the determinant "
-                         "IMF is 0; read the restricted or directional IMF")
         head = f"<h3>{esc(c['name'])} ({esc(c['kind'])})</h3>"
         if c["kind"] == "duty":
             parts.append(head + _duty_table(c, [j["joint"] for j in a["joints"]]))
             continue
-        parts.append(head + table(["metric", "value"], rows, caption="; ".join(notes)))
+        shown = list(CASE_METRICS.get(c["kind"], ()))
+        if c["kind"] == "stance":
+            shown += [(k, f"normal force at {k.split(':', 1)[1]}", "N") for k in c["metrics"]
+                      if k.startswith("normal_force:")]
+        rows = [[label, Cell(fmt(c["metrics"][k], unit), "num",
+                             (("case", c["name"]), ("metric", k)))]
+                for k, label, unit in shown if c["metrics"].get(k) is not None]
+        parts.append(head + table(["metric", "value"], rows, caption="; ".join(_case_notes(c))))
     return Section("cases", "Every case", "".join(parts))
+
+
+ASSUMPTIONS = (
+    "Rigid links and rigid transmissions; joint friction only as the gear's forward/backward "
+    "efficiency (and breakaway torque for back-driving); no backlash or compliance in the "
+    "metrics.",
+    "Power-flow law per joint: motoring τ_j = η_f·N·τ_m, back-driven τ_j = N·τ_m/η_b, "
+    "self-locking when η_b ≤ 0; the mode follows the sign of τ_j·q̇_j of the case's intended "
+    "motion.",
+    "Payload cases hold the base still; impact cases free a floating base (Wensing et al. 2017 "
+    "impact mitigation factor); a fixed base reports back-driven effective mass instead.",
+    "Peak torques are the catalog's peak ratings at any speed; thermal limits are only checked "
+    "by duty-cycle cases.",
+    "Efficiencies are the catalog's constants or models at the chosen ratio; real gears lose "
+    "efficiency at low load, low temperature and high speed (see the sensitivity section).",
+)
+LIMITS = (
+    "Concept-stage model: it ranks and sizes options, it does not certify a design.",
+    "Polytope and ellipse figures are sections through the origin by a plane of two world axes, "
+    "not projections.",
+    "The ratio sweep holds stage masses, inertias, ratings and efficiencies at the design's "
+    "values, including ratios the catalog does not offer.",
+)
+CAUTIONS = (
+    "Effective masses and back-drive forces here are inputs to a contact-safety assessment, not "
+    "its verdict: collaborative operation needs a risk assessment and the body-region force and "
+    "pressure limits of the applicable collaborative-robot standard.",
+    "Holding capacity, self-locking and breakaway torques come from catalog efficiencies and "
+    "friction that vary with load, temperature and wear: do not rely on them to hold a load "
+    "safely without a brake designed for it.",
+)
 
 
 def cautions_section(a: dict, project) -> Section:
     """Assumptions, the model's limits and the safety cautions."""
-    assumptions = [
-        "Rigid links and rigid transmissions; joint friction only as the gear's forward/backward "
-        "efficiency (and breakaway torque for back-driving); no backlash or compliance in the metrics.",
-        "Power-flow law per joint: motoring τ_j = η_f·N·τ_m, back-driven τ_j = N·τ_m/η_b, "
-        "self-locking when η_b ≤ 0; the mode follows the sign of τ_j·q̇_j of the case's intended motion.",
-        "Payload cases hold the base still; impact cases free a floating base (Wensing et al. 2017 "
-        "impact mitigation factor); a fixed base reports back-driven effective mass instead.",
-        "Peak torques are the catalog's peak ratings at any speed; thermal limits are only checked by "
-        "duty-cycle cases.",
-        "Efficiencies are the catalog's constants or models at the chosen ratio; real gears lose "
-        "efficiency at low load, low temperature and high speed (see the sensitivity section).",
-    ]
-    limits = [
-        "Concept-stage model: it ranks and sizes options, it does not certify a design.",
-        "Figures show sections through the origin of the force and velocity spaces, not projections.",
-        "The ratio sweep holds stage masses, inertias, ratings and efficiencies at the design's "
-        "values, including ratios the catalog does not offer.",
-    ]
-    body = ("<h3>Assumptions</h3>" + bullets(assumptions)
-            + "<h3>Limits of the model</h3>" + bullets(limits)
-            + "<h3>Cautions</h3><div class=\"caution\">" + bullets(list(a["cautions"]) + [
-                "Effective masses and back-drive forces here are inputs to a contact-safety assessment, "
-                "not its verdict: collaborative operation needs a risk assessment and the body-region "
-                "force and pressure limits of the applicable collaborative-robot standard.",
-                "Holding capacity, self-locking and breakaway torques come from catalog efficiencies and "
-                "friction that vary with load, temperature and wear: do not rely on them to hold a "
-                "load safely without a brake designed for it.",
-            ]) + "</div>")
+    body = ("<h3>Assumptions</h3>" + bullets(list(ASSUMPTIONS))
+            + "<h3>Limits of the model</h3>" + bullets(list(LIMITS))
+            + '<h3>Cautions</h3><div class="caution">'
+            + bullets(list(a["cautions"]) + list(CAUTIONS)) + "</div>")
     return Section("cautions", "Assumptions, limits and cautions", body)

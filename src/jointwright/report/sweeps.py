@@ -30,7 +30,11 @@ def repeat(arrays: DesignArrays, count: int) -> DesignArrays:
 
 
 def impact_metric(project, evaluator) -> dict[str, tuple[str, str, str]]:
-    """Per impact case: (metric key, short name, unit): back-driven IMF (floating base) or effective mass (fixed)."""
+    """Per impact case: (metric key, short name, unit).
+
+    Back-driven IMF for a floating base, back-driven effective mass for a fixed one (where the
+    floating-base IMF is identically 1).
+    """
     out = {}
     for c in project.cases:
         if c.kind != "impact":
@@ -111,7 +115,8 @@ class Sensitivity:
     locking_changed: np.ndarray
 
 
-def efficiency_sensitivity(project, evaluator, arrays, step: float = EFFICIENCY_STEP) -> Sensitivity:
+def efficiency_sensitivity(project, evaluator, arrays,
+                           step: float = EFFICIENCY_STEP) -> Sensitivity:
     """Re-evaluate with η_f,j or η_b,j changed by ±``step`` (absolute), one at a time.
 
     η_f stays in [0.01, 1]; η_b at most 1 and the self-locking flag follows η_b ≤ 0.
