@@ -1,4 +1,4 @@
-"""The HTML design report: builds for both bundled examples, is self-contained, shows the assessment.
+"""The HTML design report: builds for the bundled examples, is self-contained, shows the assessment.
 
 Checks are against the assessment's own JSON (the numbers in the page must be those numbers, as
 formatted to 4 significant digits) and against the page as a browser renders it (headless
@@ -27,7 +27,8 @@ from jointwright.design import load_design
 from jointwright.project import load_project
 from jointwright.report import build_report
 
-EXAMPLES = ("leg", "arm", pytest.param("quadruped", marks=pytest.mark.slow))  # 12 joints, cone programs
+# the quadruped has 12 joints and stance cases (cone programs): a few seconds more
+EXAMPLES = ("leg", "arm", pytest.param("quadruped", marks=pytest.mark.slow))
 #: 4 significant digits: a shown number is within half a unit of its 4th digit, rel ≤ 5e-4 [trade]
 SHOWN_RTOL = 6e-4
 
@@ -44,8 +45,9 @@ def built(request, tmp_path_factory):
     project = load_project(folder / "project.toml")
     design = load_design(folder / "design.toml", project)
     path = build_report(project, design, folder / "out")
-    return {"path": path, "html": path.read_text(encoding="utf-8"),
-            "assessment": json.loads(json.dumps(assess(project, design).to_dict())), "project": project}
+    a = json.loads(json.dumps(assess(project, design).to_dict()))
+    return {"path": path, "html": path.read_text(encoding="utf-8"), "assessment": a,
+            "project": project}
 
 
 class _Cells(HTMLParser):
@@ -125,9 +127,9 @@ def test_joint_table_and_total_mass_equal_the_assessment(built):
     a = built["assessment"]
     assert _close(_value(_cell(cells, field="total_mass")), a["total_mass"])
     for j in a["joints"]:
-        assert _close(_value(_cell(cells, joint=j["joint"], field="mass")), j["mass"])
-        assert _close(_value(_cell(cells, joint=j["joint"], field="drive")), j["capacity_motoring"])
-        assert _close(_value(_cell(cells, joint=j["joint"], field="holding")), j["capacity_backdriven"])
+        for field, key in (("mass", "mass"), ("drive", "capacity_motoring"),
+                           ("holding", "capacity_backdriven")):
+            assert _close(_value(_cell(cells, joint=j["joint"], field=field)), j[key])
 
 
 def test_case_metrics_equal_the_assessment(built):
@@ -167,7 +169,8 @@ def test_no_nan_and_every_section_present(built):
     for anchor in ("job", "outcome", "requirements", "binding", "joints", "polytopes", "ellipses",
                    "ratio", "sensitivity", "cases", "cautions"):
         assert f'id="{anchor}"' in text
-    for phrase in ("supplier", "trap or crush", "safety standards", "licensed engineering practice"):
+    for phrase in ("supplier", "trap or crush", "safety standards",
+                   "licensed engineering practice"):
         assert phrase in text
 
 
@@ -197,8 +200,9 @@ def test_infinite_capacity_is_shown_as_infinity():
 
 def test_report_verb_writes_the_files(tmp_path):
     folder = _new(tmp_path / "leg", "leg")
-    r = CliRunner().invoke(main, ["report", str(folder / "project.toml"), "--design",
-                                  str(folder / "design.toml"), "--out", str(tmp_path / "r"), "--json"])
+    r = CliRunner().invoke(main, ["report", str(folder / "project.toml"),
+                                  "--design", str(folder / "design.toml"),
+                                  "--out", str(tmp_path / "r"), "--json"])
     assert r.exit_code == 0, r.output
     out = json.loads(r.output[r.output.index("{"):])
     assert Path(out["report"]).is_file()
@@ -218,12 +222,14 @@ def test_report_verb_rejects_bad_json_with_one_line(tmp_path):
 
 # ---- the page in a browser -----------------------------------------------------------------
 CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
-needs_chromium = pytest.mark.skipif(CHROMIUM is None, reason="chromium is not installed (CI installs it)")
+needs_chromium = pytest.mark.skipif(CHROMIUM is None,
+                                    reason="chromium is not installed (CI installs it)")
 
 
 def _chromium(args, profile: Path) -> subprocess.CompletedProcess:
-    cmd = [CHROMIUM, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-           "--disable-background-networking", "--disable-component-update", "--disable-sync",
+    cmd = [CHROMIUM, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic",
+           "--no-first-run", "--disable-background-networking", "--disable-component-update",
+           "--disable-sync",
            f"--user-data-dir={profile}", *args]
     return subprocess.run(cmd, capture_output=True, text=True, timeout=120)
 
@@ -254,7 +260,12 @@ WORM = """
 name = "WM"
 kind = "worm"
 ratios = [20, 30]
-efficiency = { model = "worm", lead_angle = "5 deg", friction = 0.1, normal_pressure_angle = "20 deg" }
+
+[stage.efficiency]
+model = "worm"
+lead_angle = "5 deg"
+friction = 0.1
+normal_pressure_angle = "20 deg"
 
 [[stage.frame]]
 name = "WM-50"
@@ -274,7 +285,8 @@ def test_self_locking_joint_shows_infinity_and_the_caution(tmp_path):
     with open(folder / "catalog.toml", "a", encoding="utf-8") as fh:
         fh.write(WORM)
     text = (folder / "design.toml").read_text(encoding="utf-8")
-    text = re.sub(r"(\[joint\.knee\][^\[]*?stages = )\[.*\]", r'\1[{ stage = "WM", frame = "WM-50", ratio = 20 }]', text,
+    worm = '[{ stage = "WM", frame = "WM-50", ratio = 20 }]'
+    text = re.sub(r"(\[joint\.knee\][^\[]*?stages = )\[.*\]", lambda m: m.group(1) + worm, text,
                   flags=re.S)
     (folder / "design.toml").write_text(text, encoding="utf-8")
     project = load_project(folder / "project.toml")
@@ -292,12 +304,16 @@ def test_sizing_and_frontier_sections_join_the_report(tmp_path):
     folder = _new(tmp_path / "leg", "leg")
     project = load_project(folder / "project.toml")
     design = load_design(folder / "design.toml", project)
-    sizing = {"status": "time_limit", "objective_kind": "payload", "objective": 74.96, "bound": 80.0,
-              "gap": 0.067, "alternatives": [{"joint": "hip_ab", "actuator": "PX-80x20 | PL/PL-52 6:1",
-                                              "change": "other motor", "objective": 70.0, "loss": 4.96}]}
-    frontier = {"x": {"label": "impact mitigation factor", "unit": ""}, "y": {"label": "worst payload", "unit": "N"},
-                "points": [{"x": 0.10, "y": 90.0}, {"x": 0.15, "y": 74.96}, {"x": 0.22, "y": 50.0}], "chosen": 1}
-    html = build_report(project, design, tmp_path / "out", sizing=sizing, frontier=frontier).read_text("utf-8")
+    alternative = {"joint": "hip_ab", "actuator": "PX-80x20 | PL/PL-52 6:1",
+                   "change": "other motor", "objective": 70.0, "loss": 4.96}
+    sizing = {"status": "time_limit", "objective_kind": "payload", "objective": 74.96,
+              "bound": 80.0, "gap": 0.067, "alternatives": [alternative]}
+    frontier = {"x": {"label": "impact mitigation factor", "unit": ""},
+                "y": {"label": "worst payload", "unit": "N"},
+                "points": [{"x": 0.10, "y": 90.0}, {"x": 0.15, "y": 74.96}, {"x": 0.22, "y": 50.0}],
+                "chosen": 1}
+    path = build_report(project, design, tmp_path / "out", sizing=sizing, frontier=frontier)
+    html = path.read_text("utf-8")
     assert 'id="runner-ups"' in html and 'id="frontier"' in html
     assert "proven bound 80 N" in html and "loses 4.96 N" in html
     p = _parse(html)

@@ -1,4 +1,4 @@
-"""The numbers behind the report's figures: sections, ellipses, ratio sweeps, efficiency sensitivity.
+"""The numbers behind the report's figures: sections, ellipses, ratio and efficiency sweeps.
 
 Sources named beside each check:
 * force polytope P = {F : τ_low ≤ g + Jᵀ·F ≤ τ_high}, Chiacchio et al., J. Robotic Systems 1997
@@ -78,7 +78,8 @@ def test_polytope_section_is_the_slice_of_the_3d_polytope(example, angle):
             if s.clipped[mode]:
                 continue
             ray = payload_along(pc.Jj, bias, -caps[mode], caps[mode], u).force
-            assert _radial_extent(s.vertices[mode], d) == pytest.approx(float(ray), rel=1e-7, abs=1e-6)
+            reach = _radial_extent(s.vertices[mode], d)
+            assert reach == pytest.approx(float(ray), rel=1e-7, abs=1e-6)
 
 
 def test_polytope_markers_are_the_case_payloads_along_their_directions(example):
@@ -97,7 +98,8 @@ def test_ellipse_mass_along_the_case_equals_the_assessment(example):
     for s in sections:
         metrics = example["cases"][s.case].metrics
         for mode in MODES:
-            assert s.mass_along[mode] == pytest.approx(metrics["effective_mass" + suffix[mode]], rel=1e-9)
+            expected = metrics["effective_mass" + suffix[mode]]
+            assert s.mass_along[mode] == pytest.approx(expected, rel=1e-9)
 
 
 def _radius(curve: np.ndarray, d: np.ndarray) -> float:
@@ -127,7 +129,8 @@ def test_ratio_sweep_at_the_design_ratio_equals_the_assessment(example):
     worst = min(_payloads(example).values())
     assert np.allclose(sweep.values["payload"][:, k], worst, rtol=1e-12)
     for case, (key, _s, _u) in impact_metric(example["project"], example["ev"]).items():
-        assert np.allclose(sweep.values[case][:, k], example["cases"][case].metrics[key], rtol=1e-12)
+        expected = example["cases"][case].metrics[key]
+        assert np.allclose(sweep.values[case][:, k], expected, rtol=1e-12)
 
 
 def test_ratio_sweep_is_monotone(example):
@@ -162,7 +165,8 @@ def test_sensitivity_flags_a_joint_that_becomes_self_locking(example):
     arrays = example["arrays"]
     eb = arrays.eta_backward.copy()
     eb[0, 0] = 0.03  # −5 points makes it −0.02: self-locking (η_b ≤ 0)
-    sens = efficiency_sensitivity(example["project"], example["ev"], replace(arrays, eta_backward=eb))
+    moved = replace(arrays, eta_backward=eb)
+    sens = efficiency_sensitivity(example["project"], example["ev"], moved)
     assert sens.locking_changed[0, 1, 0]
     assert not sens.locking_changed[0, 1, 1] and not sens.locking_changed[1:].any()
 
@@ -174,46 +178,71 @@ def test_plane_keeps_the_case_directions():
 
 
 # ---- hooks taking plain dicts ------------------------------------------------------------------
-def test_frontier_hook_draws_points_and_rejects_bad_points(tmp_path):
-    data = {"x": {"label": "impact mitigation factor", "unit": ""}, "y": {"label": "payload", "unit": "N"},
-            "points": [{"x": 0.1, "y": 300.0, "design": "a"}, {"x": 0.3, "y": 200.0, "design": "b"}],
+FRONTIER = {"x": {"label": "impact mitigation factor", "unit": ""},
+            "y": {"label": "payload", "unit": "N"},
+            "points": [{"x": 0.1, "y": 300.0, "design": "a"},
+                       {"x": 0.3, "y": 200.0, "design": "b"}],
             "chosen": 1, "knee": 1}
-    s = hooks.frontier_section(data, tmp_path)
+
+
+def test_frontier_hook_draws_points_and_rejects_bad_points(tmp_path):
+    s = hooks.frontier_section(FRONTIER, tmp_path)
     assert "200 N" in s.body and "knee" in s.body and (tmp_path / "frontier.svg").is_file()
-    data["points"][1]["y"] = "lots"
+    bad = {**FRONTIER, "points": [{"x": 0.1, "y": 300.0}, {"x": 0.3, "y": "lots"}]}
     with pytest.raises(InputError, match=r"points\[1\]\.y"):
-        hooks.frontier_section(data, tmp_path)
+        hooks.frontier_section(bad, tmp_path)
+    with pytest.raises(InputError, match="chosen"):
+        hooks.frontier_section({**FRONTIER, "chosen": 7}, tmp_path)
 
 
-def test_runner_ups_duty_and_study_hooks(tmp_path):
-    sizing = {"status": "optimal", "objective_kind": "payload", "objective": 240.0, "bound": 240.0, "gap": 0.0,
-              "backend": "search", "message": "proven optimum",
-              "alternatives": [{"joint": "knee", "actuator": "PX-80x20 | PL/PL-52 6:1", "change": "other motor",
-                                "objective": 230.0, "loss": 10.0, "ruled_out_by": None},
-                               {"joint": "knee", "actuator": "PX-96x24 | SW/SW-14 50:1", "change": "other stage type",
-                                "objective": None, "loss": None, "ruled_out_by": "touchdown: imf min"}],
-              "diagnosis": [{"requirement": "touchdown: imf min", "limit": 0.2, "best_achievable": 0.18,
-                             "shortfall": 0.1, "relaxed_objective": 250.0}]}
-    s = hooks.runner_ups_section(sizing)
+def _alternative(actuator, objective, loss, ruled_out_by, change="other motor"):
+    return {"joint": "knee", "actuator": actuator, "change": change, "objective": objective,
+            "loss": loss, "ruled_out_by": ruled_out_by}
+
+
+SIZING = {"status": "optimal", "objective_kind": "payload", "objective": 240.0, "bound": 240.0,
+          "gap": 0.0, "backend": "search", "message": "proven optimum",
+          "alternatives": [_alternative("PX-80x20 | PL/PL-52 6:1", 230.0, 10.0, None),
+                           _alternative("PX-96x24 | SW/SW-14 50:1", None, None,
+                                        "touchdown: imf min", "other stage type")],
+          "diagnosis": [{"requirement": "touchdown: imf min", "limit": 0.2, "best_achievable": 0.18,
+                         "shortfall": 0.1, "relaxed_objective": 250.0}]}
+
+
+def test_runner_ups_hook_reads_the_sizing_result_form():
+    s = hooks.runner_ups_section(SIZING)
     assert "loses 10 N" in s.body and "misses touchdown: imf min" in s.body and "250 N" in s.body
     assert "+0.0 %" in s.body and "230 N" in s.body
-    sizing["alternatives"][0]["objective"] = "high"
+    bad = {**SIZING, "alternatives": [_alternative("m", "high", None, None)]}
     with pytest.raises(InputError, match=r"alternatives\[0\]\.objective"):
-        hooks.runner_ups_section(sizing)
+        hooks.runner_ups_section(bad)
     with pytest.raises(InputError, match="objective_kind"):
         hooks.runner_ups_section({"status": "optimal"})
-    d = hooks.duty_section({"case": "trot", "time": [0.0, 0.5, 1.0], "motor_torque": {"knee": [0.1, 0.4, 0.1]},
-                            "limits": {"knee continuous": 0.3},
-                            "summary": [{"joint": "knee", "rms_torque": 0.25, "backdriven_share": 0.4}]}, tmp_path)
+
+
+def test_duty_hook_table_and_bad_series(tmp_path):
+    data = {"case": "trot", "time": [0.0, 0.5, 1.0], "motor_torque": {"knee": [0.1, 0.4, 0.1]},
+            "limits": {"knee continuous": 0.3},
+            "summary": [{"joint": "knee", "rms_torque": 0.25, "backdriven_share": 0.4}]}
+    d = hooks.duty_section(data, tmp_path)
     assert "0.25 N·m" in d.body and "40 %" in d.body
     with pytest.raises(InputError, match="motor_torque.knee"):
-        hooks.duty_section({"case": "t", "time": [0.0, 1.0], "motor_torque": {"knee": [1.0]}}, tmp_path)
-    st_ = hooks.study_section({"name": "knee sweep", "columns": ["case", "payload"], "rows": [["a", 12.5]],
-                               "series": [{"metric": "payload", "metric_unit": "N", "parameter": "ratio",
-                                           "x": [1, 2], "y": [10, 12]}]}, tmp_path)
-    assert "12.5" in st_.body and (tmp_path / "study-1.png").is_file()
+        hooks.duty_section({**data, "motor_torque": {"knee": [1.0]}}, tmp_path)
+    with pytest.raises(InputError, match=r"time\[1\]"):
+        hooks.duty_section({**data, "time": [0.0, "x", 1.0]}, tmp_path)
+
+
+def test_study_hook_table_series_and_bad_rows(tmp_path):
+    series = {"metric": "payload", "metric_unit": "N", "parameter": "ratio", "x": [1, 2],
+              "y": [10, 12]}
+    data = {"name": "knee sweep", "columns": ["case", "payload"], "rows": [["a", 12.5]],
+            "series": [series]}
+    s = hooks.study_section(data, tmp_path)
+    assert "12.5" in s.body and (tmp_path / "study-1.png").is_file()
     with pytest.raises(InputError, match=r"rows\[0\]"):
-        hooks.study_section({"name": "s", "columns": ["a", "b"], "rows": [["x"]]}, tmp_path)
+        hooks.study_section({**data, "rows": [["x"]]}, tmp_path)
+    with pytest.raises(InputError, match=r"series\[0\]\.y"):
+        hooks.study_section({**data, "series": [{**series, "y": [1]}]}, tmp_path)
 
 
 def test_duty_plot_series_has_the_assessed_rms_and_peak(example):
