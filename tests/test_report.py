@@ -307,7 +307,10 @@ def test_sizing_and_frontier_sections_join_the_report(tmp_path):
     alternative = {"joint": "hip_ab", "actuator": "PX-80x20 | PL/PL-52 6:1",
                    "change": "other motor", "objective": 70.0, "loss": 4.96}
     sizing = {"status": "time_limit", "objective_kind": "payload", "objective": 74.96,
-              "bound": 80.0, "gap": 0.067, "alternatives": [alternative]}
+              "bound": 80.0, "gap": 0.067, "alternatives": [alternative],
+              "diagnosis": [{"requirement": "jump-push: payload min", "limit": 150.0,
+                             "best_achievable": 561.2, "shortfall": -2.74,
+                             "relaxed_objective": None}]}
     frontier = {"x": {"label": "impact mitigation factor", "unit": ""},
                 "y": {"label": "worst payload", "unit": "N"},
                 "points": [{"x": 0.10, "y": 90.0}, {"x": 0.15, "y": 74.96}, {"x": 0.22, "y": 50.0}],
@@ -316,6 +319,7 @@ def test_sizing_and_frontier_sections_join_the_report(tmp_path):
     html = path.read_text("utf-8")
     assert 'id="runner-ups"' in html and 'id="frontier"' in html
     assert "proven bound 80 N" in html and "loses 4.96 N" in html
+    assert "561.2 N" in html  # the diagnosis takes the requirement's unit from the assessment
     p = _parse(html)
     for src in p.images:
         Image.open(io.BytesIO(base64.b64decode(src.split(",", 1)[1]))).load()

@@ -58,7 +58,9 @@ def build_report(project, design, out_dir, *, sizing: dict | None = None,
         sections.joints_section(a),
     ]
     if sizing is not None:
-        parts.append(hooks.runner_ups_section(sizing))
+        units = {f"{c['subject']}: {c['requirement'].replace('_', ' ')}": c["unit"]
+                 for c in a["checks"]}
+        parts.append(hooks.runner_ups_section(sizing, units=units))
     if frontier is not None:
         parts.append(hooks.frontier_section(frontier, fig_dir))
     parts += [

@@ -40,15 +40,17 @@ def _optional(data, key: str, file: str, where: str):
     return None if data.get(key) is None else _need(data, key, float, file, where)
 
 
-def runner_ups_section(data: dict, file: str = "<sizing>") -> Section:
+def runner_ups_section(data: dict, file: str = "<sizing>", units: dict | None = None) -> Section:
     """How the design was chosen, the per-joint runner-ups and why they lost.
 
     ``data`` is the JSON form of a sizing result (``SizingResult.to_dict()``): ``status``,
     ``objective_kind``, ``objective``, ``bound``, ``gap``, ``backend``, ``seconds``, ``message``,
     ``alternatives`` = [{joint, actuator, change, objective, loss, ruled_out_by}] and, for an
     infeasible problem, ``diagnosis`` = [{requirement, limit, best_achievable, shortfall,
-    relaxed_objective}]. Only ``status`` and ``objective_kind`` are required.
+    relaxed_objective}]. Only ``status`` and ``objective_kind`` are required. ``units`` maps a
+    requirement label ("case: payload min") to its unit for the diagnosis table.
     """
+    units = units or {}
     status = _need(data, "status", str, file, "")
     kind = _need(data, "objective_kind", str, file, "")
     unit = OBJECTIVE_UNITS.get(kind, "")
@@ -79,15 +81,17 @@ def runner_ups_section(data: dict, file: str = "<sizing>") -> Section:
     diag = []
     for k, r in enumerate(data.get("diagnosis") or []):
         where = f"diagnosis[{k}]."
-        diag.append([_need(r, "requirement", str, file, where),
-                     Cell(fmt(_need(r, "limit", float, file, where)), "num"),
-                     Cell(fmt(_optional(r, "best_achievable", file, where)), "num"),
+        label = _need(r, "requirement", str, file, where)
+        u = units.get(label, "")
+        diag.append([label, Cell(fmt(_need(r, "limit", float, file, where), u), "num"),
+                     Cell(fmt(_optional(r, "best_achievable", file, where), u), "num"),
                      Cell(pct(_optional(r, "shortfall", file, where)), "num"),
                      Cell(fmt(_optional(r, "relaxed_objective", file, where), unit), "num")])
     if diag:
         parts.append("<h3>Why no design meets every requirement</h3>" + table(
             ["requirement", "limit", "best achievable alone", "shortfall", "objective without it"],
-            diag, caption="One requirement at a time: its best value over all options, and what "
+            diag, caption="One requirement at a time: its best value over all options (shortfall "
+                          "relative to the limit; ≤ 0 means it alone can be met), and what "
                           "dropping it buys."))
     return Section("runner-ups", "How the design was chosen: runner-ups and why they lost",
                    "".join(parts))
