@@ -331,3 +331,14 @@ def test_duty_cycle_section_plots_the_project_duty_case(built):
     for c in duty:
         assert f'id="duty-{c["name"]}"' in built["html"]
         assert (built["path"].parent / "figures" / f"duty-{c['name']}.png").is_file()
+
+
+def test_same_input_same_files(tmp_path):
+    folder = _new(tmp_path / "arm", "arm")
+    project = load_project(folder / "project.toml")
+    design = load_design(folder / "design.toml", project)
+    one = build_report(project, design, tmp_path / "one")
+    two = build_report(project, design, tmp_path / "two")
+    assert one.read_bytes() == two.read_bytes()
+    for f in sorted((one.parent / "figures").iterdir()):
+        assert f.read_bytes() == (two.parent / "figures" / f.name).read_bytes(), f.name

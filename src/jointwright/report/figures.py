@@ -14,6 +14,7 @@ import textwrap
 from pathlib import Path
 
 import numpy as np
+from matplotlib import rc_context
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 from matplotlib.ticker import NullFormatter
@@ -86,8 +87,9 @@ def save(fig: Figure, out_dir: Path, name: str) -> bytes:
     fig.savefig(buf, format="png", dpi=DPI, facecolor="white")
     data = buf.getvalue()
     (out_dir / f"{name}.png").write_bytes(data)
-    fig.savefig(out_dir / f"{name}.svg", format="svg", facecolor="white",
-                metadata={"Date": None})
+    with rc_context({"svg.hashsalt": "jointwright"}):  # stable ids: same input, same file
+        fig.savefig(out_dir / f"{name}.svg", format="svg", facecolor="white",
+                    metadata={"Date": None})
     return data
 
 
