@@ -19,6 +19,8 @@ from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from PIL import Image
 
 from jointwright.assessment import assess
@@ -196,6 +198,18 @@ def test_infinite_capacity_is_shown_as_infinity():
     assert number(-math.inf) == "−∞"
     assert number(math.nan) == "—" and number(None) == "—"
     assert pct(-0.2335) == "−23.4 %" and pct(math.inf) == "+∞ %"
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.one_of(st.floats(-1e300, 1e300), st.sampled_from([math.inf, -math.inf])))
+def test_shown_numbers_read_back_to_four_digits(x):
+    # 4 significant digits: |shown − x| ≤ 5e-4·|x| (round half a unit in the 4th digit) [trade]
+    from jointwright.report.markup import fmt
+
+    text = fmt(x, "N·m")
+    assert text.endswith(" N·m") and "nan" not in text.lower()
+    shown = _value(text)
+    assert shown == x if math.isinf(x) else abs(shown - x) <= 5e-4 * abs(x) + 1e-300
 
 
 def test_report_verb_writes_the_files(tmp_path):
