@@ -270,6 +270,8 @@ BAD = [
         "check", "project.toml", "case[0].contacts[1].frame", "duplicate contact 'fl_foot'", example="quadruped"),
     Bad("quadruped: zero contact normal", (("project.toml", '{ frame = "fl_foot", friction = 0.6 },\n', '{ frame = "fl_foot", friction = 0.6, normal = [0, 0, 0] },\n'),),
         "check", "project.toml", "case[0].contacts[0].normal", "zero vector", example="quadruped"),
+    Bad("arm: base pose on a fixed base", (("project.toml", 'motion = "along"', 'motion = "along"\nbase_rpy = [0, "90 deg", 0]'),),
+        "check", "project.toml", "case[0].base_rpy", "only for a floating base", example="arm"),
     Bad("arm: stage kind restriction unknown", (("project.toml", "max_stages = 1", 'max_stages = 1\nstage_kinds = ["strainwave"]'),),
         "check", "project.toml", "catalog.stage_kinds[0]", "unknown stage kind", example="arm"),
     Bad("URDF negative link mass", (("leg.urdf", '<mass value="0.45"/>', '<mass value="-0.45"/>'),),

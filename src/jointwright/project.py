@@ -295,6 +295,9 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
             pose = _read_pose(t.table("pose"), robot)
     base_xyz = t.vector("base_xyz", 3, (0.0, 0.0, 0.0), "length")
     base_rpy = t.vector("base_rpy", 3, (0.0, 0.0, 0.0), "angle")
+    for key in ("base_xyz", "base_rpy"):
+        if t.has(key) and robot.base != "floating":
+            raise InputError(t.file, t.field(key), "only for a floating base; a fixed base is the world frame")
     direction = None
     if kind in ("payload", "stance", "impact", "backdrive", "speed"):
         d = np.asarray(t.vector("direction", 3))
