@@ -226,6 +226,8 @@ def test_duty_hook_table_and_bad_series(tmp_path):
             "summary": [{"joint": "knee", "rms_torque": 0.25, "backdriven_share": 0.4}]}
     d = hooks.duty_section(data, tmp_path)
     assert "0.25 N·m" in d.body and "40 %" in d.body
+    odd = hooks.duty_section({**data, "case": "walk / run 2"}, tmp_path)
+    assert odd.anchor == "duty-walk-run-2" and (tmp_path / "duty-walk-run-2.png").is_file()
     with pytest.raises(InputError, match="motor_torque.knee"):
         hooks.duty_section({**data, "motor_torque": {"knee": [1.0]}}, tmp_path)
     with pytest.raises(InputError, match=r"time\[1\]"):

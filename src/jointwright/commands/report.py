@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import re
 from pathlib import Path
 
 import click
@@ -10,6 +11,7 @@ import click
 from ..design import load_design
 from ..errors import InputError
 from ..project import load_project
+from ._format import console, emit_json, table
 
 
 def _json(path: Path | None, option: str):
@@ -45,9 +47,14 @@ def command(project: Path, design_file: Path, out_dir: Path | None, sizing_file:
     out = out_dir if out_dir is not None else p.base_dir / "report"
     path = build_report(p, d, out, sizing=_json(sizing_file, "--sizing"),
                         frontier=_json(frontier_file, "--frontier"))
-    figures = sorted(str(f) for f in (path.parent / "figures").iterdir())
+    # the figures this report links (a reused folder may hold older ones)
+    names = sorted(set(re.findall(r"figures/([^/\s)]+)\.png", path.read_text(encoding="utf-8"))))
+    folder = path.parent / "figures"
+    figures = [str(folder / f"{n}{ext}") for n in names for ext in (".png", ".svg")]
     if as_json:
-        click.echo(json.dumps({"report": str(path), "figures": figures}, indent=2))
-    else:
-        click.echo(f"wrote {path}")
-        click.echo(f"      {len(figures)} figure files in {path.parent / 'figures'}")
+        emit_json({"report": str(path), "figures": figures})
+        return
+    rows = [["report", str(path)], ["figures", f"{len(names)} (PNG and SVG) in {folder}"]]
+    rows += [["", n] for n in names]
+    console().print(table("Report written", ["", ""], rows,
+                          caption="open report.html in any browser; it needs no network"))

@@ -8,6 +8,7 @@ the field, never a traceback.
 from __future__ import annotations
 
 import math
+import re
 from pathlib import Path
 
 from ..errors import InputError
@@ -166,7 +167,7 @@ def duty_section(data: dict, fig_dir: Path, file: str = "<duty>") -> Section:
     limits = {k: _need(data["limits"], k, float, file, "limits.") for k in data.get("limits", {})}
     fig = figures.series_figure(time, series, limits, y_label="motor torque (N·m)",
                                 title=f"Motor torque over the duty cycle {case}")
-    name = f"duty-{case}"
+    name = "duty-" + (re.sub(r"[^A-Za-z0-9_.-]+", "-", case).strip("-.") or "case")
     png = figures.save(fig, fig_dir, name)
     rows = []
     for s in data.get("summary", []):
@@ -180,7 +181,7 @@ def duty_section(data: dict, fig_dir: Path, file: str = "<duty>") -> Section:
     if rows:
         body += table(["joint", "RMS torque", "peak torque", "peak winding temperature",
                        "time back-driven"], rows)
-    return Section(f"duty-{case}", f"Duty cycle {case}", body)
+    return Section(name, f"Duty cycle {case}", body)
 
 
 def _cell(v):
