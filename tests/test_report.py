@@ -234,6 +234,15 @@ def test_report_verb_rejects_bad_json_with_one_line(tmp_path):
     assert "Traceback" not in r.output
 
 
+def test_report_verb_rejects_an_out_path_that_is_a_file(tmp_path):
+    folder = _new(tmp_path / "leg", "leg")
+    taken = tmp_path / "taken"
+    taken.write_text("", encoding="utf-8")
+    r = CliRunner().invoke(main, ["report", str(folder / "project.toml"), "--design",
+                                  str(folder / "design.toml"), "--out", str(taken)])
+    assert r.exit_code == 2 and "--out" in r.output and "must be a folder" in r.output
+
+
 # ---- the page in a browser -----------------------------------------------------------------
 CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
 needs_chromium = pytest.mark.skipif(CHROMIUM is None,
