@@ -265,3 +265,27 @@ def test_arm_study_crosses_payloads_with_architectures():
 def test_study_base_project_checks(name):
     data = json.loads(_run(["check", str(STUDIES / name / "project.toml"), "--json"]).stdout)
     assert data["cases"]
+
+
+# --- the complete examples in the format docs are valid files ----------------------------------
+
+DOCS = Path(__file__).parents[1] / "docs"
+
+
+def _first_toml_block(doc: str) -> str:
+    text = (DOCS / doc).read_text(encoding="utf-8")
+    return re.search(r"```toml\n(.*?)```", text, re.S).group(1)
+
+
+def test_documented_project_and_design_examples_load(folders, tmp_path):
+    # docs/project-format.md and docs/design-format.md: the complete examples, next to the
+    # bundled leg files they name, pass `check` and `assess`
+    folder = tmp_path / "leg"
+    shutil.copytree(folders["leg"], folder)
+    (folder / "project.toml").write_text(_first_toml_block("project-format.md"), encoding="utf-8")
+    (folder / "design.toml").write_text(_first_toml_block("design-format.md"), encoding="utf-8")
+    _run(["check", str(folder / "project.toml")])
+    data = json.loads(_run(["assess", str(folder / "project.toml"), "--design", str(folder / "design.toml"),
+                            "--json"]).stdout)
+    assert data["design"] == "QL-3 starting point"
+    assert [j["ratio"] for j in data["joints"]] == pytest.approx([6.0, 6.0, 9.0], rel=1e-12)
