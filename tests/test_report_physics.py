@@ -13,6 +13,7 @@ Sources named beside each check:
 
 from __future__ import annotations
 
+import re
 from dataclasses import replace
 
 import numpy as np
@@ -262,3 +263,32 @@ def test_duty_plot_series_has_the_assessed_rms_and_peak(example):
             x = np.asarray(d["motor_torque"][row["joint"]])
             assert float(rms(x, t)) == pytest.approx(row["rms_torque"], rel=1e-9)
             assert float(np.abs(x).max()) == pytest.approx(row["peak_torque"], rel=1e-9)
+
+
+def test_study_store_becomes_the_study_section(tmp_path):
+    import sys
+    from pathlib import Path
+
+    from jointwright.report.study import study_data
+    from jointwright.study import CaseRecord, StudyStore, expand, parse_study
+
+    sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+    from tests.study_cases import BASE_PROJECT
+
+    (tmp_path / "leg.toml").write_text(BASE_PROJECT)
+    spec = parse_study({"study": {"name": "thigh study", "base": "leg.toml"},
+                        "vary": [{"path": "robot.links.thigh.length", "values": [0.2, 0.3]}]},
+                       study_dir=tmp_path)
+    store = tmp_path / "s.sqlite"
+    with StudyStore.open(store, spec, 2) as st:
+        for case in expand(spec):
+            thigh = case.values["robot.links.thigh.length"]
+            st.write(case, CaseRecord("done", {"payload": 1000 * thigh, "holding": float("inf")},
+                                      "null", wall_time=0.1, worker="w:1"))
+    data = study_data(store)
+    assert data["name"] == "thigh study" and "worker" not in data["columns"]
+    payload = next(s for s in data["series"] if s["metric"] == "payload")
+    assert payload["x"] == [0.2, 0.3] and payload["y"] == pytest.approx([200.0, 300.0])
+    section = hooks.study_section(data, tmp_path)
+    text = re.sub(r'src="data:[^"]*"', "", section.body)
+    assert "∞" in text and "300" in text and not re.search(r"\bnan\b", text, flags=re.I)

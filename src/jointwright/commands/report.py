@@ -36,17 +36,26 @@ def _json(path: Path | None, option: str):
               help="sizing result JSON: adds runner-ups and why they lost")
 @click.option("--frontier", "frontier_file", type=click.Path(path_type=Path), default=None,
               help="frontier JSON: adds the frontier with the chosen design marked")
+@click.option("--study", "study_store", type=click.Path(path_type=Path), default=None,
+              help="study store (SQLite): adds the study's case table and plots")
 @click.option("--json", "as_json", is_flag=True, help="print the written paths as JSON")
 def command(project: Path, design_file: Path, out_dir: Path | None, sizing_file: Path | None,
-            frontier_file: Path | None, as_json: bool):
+            frontier_file: Path | None, study_store: Path | None, as_json: bool):
     """Write the HTML report of the design in DESIGN for PROJECT (figures embedded)."""
     from ..report import build_report
 
     p = load_project(project)
     d = load_design(design_file, p)
     out = out_dir if out_dir is not None else p.base_dir / "report"
+    study = None
+    if study_store is not None:
+        from ..report.study import study_data
+
+        if not study_store.is_file():
+            raise InputError(str(study_store), "--study", "no such study store (SQLite file)")
+        study = study_data(study_store)
     path = build_report(p, d, out, sizing=_json(sizing_file, "--sizing"),
-                        frontier=_json(frontier_file, "--frontier"))
+                        frontier=_json(frontier_file, "--frontier"), study=study)
     # the figures this report links (a reused folder may hold older ones)
     names = sorted(set(re.findall(r"figures/([^/\s)]+)\.png", path.read_text(encoding="utf-8"))))
     folder = path.parent / "figures"

@@ -228,6 +228,19 @@ def points_figure(points, chosen=None, *, x_label: str, y_label: str, title: str
     return fig
 
 
+def grouped_figure(groups, *, x_label: str, y_label: str, title: str) -> Figure:
+    """One line of markers per group (a study's variants): ``groups`` = {label: (xs, ys)}."""
+    fig, (ax,) = _figure(height=4.0)
+    for k, (label, (xs, ys)) in enumerate(groups.items()):
+        order = np.argsort(np.asarray(xs, dtype=float), kind="stable")
+        ax.plot(np.asarray(xs, float)[order], np.asarray(ys, float)[order], "o", ms=4.5, lw=1.4,
+                label=label, **joint_style(k))
+    _label(ax, x_label, y_label)
+    _title(ax, title)
+    _legend(fig, [ax], ncols=4)
+    return fig
+
+
 def series_figure(time, series, limits, *, y_label: str, title: str) -> Figure:
     """Time series per joint (duty cycles).
 

@@ -193,7 +193,8 @@ def study_section(data: dict, fig_dir: Path, file: str = "<study>") -> Section:
     """A study summary: one table of cases and optional metric-against-parameter series.
 
     ``data``: ``{"name": str, "columns": [str], "rows": [[...]], "series": [{"metric",
-    "metric_unit", "parameter", "unit", "x": [...], "y": [...]}]}``.
+    "metric_unit", "parameter", "unit", "x": [...], "y": [...], "variant": [...]}]}``; one line
+    per variant.
     """
     name = _need(data, "name", str, file, "")
     columns = _need(data, "columns", list, file, "")
@@ -208,11 +209,19 @@ def study_section(data: dict, fig_dir: Path, file: str = "<study>") -> Section:
         xs = _numbers(s, "x", file, where)
         ys = _numbers(s, "y", file, where, len(xs))
         metric = str(s.get("metric", "y"))
-        fig = figures.points_figure(
-            list(zip(xs, ys)), None,
-            x_label=f"{s.get('parameter', 'x')} ({s.get('unit') or 'as in the study file'})",
-            y_label=f"{metric} ({s.get('metric_unit') or 'dimensionless'})",
-            title=f"{metric} across the study", label="finished cases")
+        variant = [str(v) for v in s.get("variant") or [""] * len(xs)]
+        if len(variant) != len(xs):
+            raise InputError(file, f"{where}variant", f"must have {len(xs)} entries, one per x")
+        groups: dict = {}
+        for v, px, py in zip(variant, xs, ys):
+            g = groups.setdefault(f"variant {v}" if v else "finished cases", ([], []))
+            g[0].append(px)
+            g[1].append(py)
+        x_unit = s.get("unit") or "as in the study file"
+        fig = figures.grouped_figure(
+            groups, x_label=f"{s.get('parameter', 'x')} ({x_unit})",
+            y_label=f"{metric} ({s.get('metric_unit') or 'SI unit'})",
+            title=f"{metric} across the study")
         fname = f"study-{k + 1}"
         body += figure(figures.save(fig, fig_dir, fname), fname, metric,
                        "One point per finished case.")
