@@ -33,7 +33,7 @@ class Bad:
 
     id: str
     edits: tuple[tuple[str, str | None, str], ...]
-    verb: str  # "check" or "assess"
+    verb: str  # "check", "assess" (with the example's design file) or "size"
     file: str  # the file the message must name (its base name)
     field: str  # the field the message must name, exactly
     rule: str  # a fragment of the rule the message must state
@@ -98,13 +98,13 @@ CYCLE = ("t [s],q:hip_ab [deg],q:hip_fe [deg],q:knee [deg]\n"
 
 BAD = [
     # --- project file: types, signs, dimensions, names -------------------------------------
-    Bad("mass budget not a quantity", (("project.toml", 'total_mass_max = "3.2 kg"', "total_mass_max = true"),),
+    Bad("mass budget not a quantity", (("project.toml", 'total_mass_max = "4.0 kg"', "total_mass_max = true"),),
         "check", "project.toml", "requirements.total_mass_max", "must be a number or a quantity in kg"),
-    Bad("negative mass budget", (("project.toml", 'total_mass_max = "3.2 kg"', 'total_mass_max = "-3.2 kg"'),),
+    Bad("negative mass budget", (("project.toml", 'total_mass_max = "4.0 kg"', 'total_mass_max = "-3.2 kg"'),),
         "check", "project.toml", "requirements.total_mass_max", "must be > 0 kg"),
-    Bad("zero joint mass limit", (("project.toml", 'mass_max = "1.3 kg"', "mass_max = 0"),),
+    Bad("zero joint mass limit", (("project.toml", 'mass_max = "1.6 kg"', "mass_max = 0"),),
         "check", "project.toml", "requirements.joint.knee.mass_max", "must be > 0 kg"),
-    Bad("mass budget in newtons", (("project.toml", 'total_mass_max = "3.2 kg"', 'total_mass_max = "3.2 N"'),),
+    Bad("mass budget in newtons", (("project.toml", 'total_mass_max = "4.0 kg"', 'total_mass_max = "3.2 N"'),),
         "check", "project.toml", "requirements.total_mass_max", "convertible to kg"),
     Bad("payload as a torque", (("project.toml", 'payload_min = "150 N"', 'payload_min = "150 N*m"'),),
         "check", "project.toml", "case[0].payload_min", "force"),
@@ -152,7 +152,7 @@ BAD = [
         "check", "project.toml", "catalog.files", "non-empty list of file paths"),
     Bad("mount on a missing link", (("project.toml", 'mount_link = "thigh"', 'mount_link = "thig"'),),
         "check", "project.toml", "robot.mounts.knee.mount_link", "no link named 'thig'"),
-    Bad("ambient temperature in kg", (("project.toml", "imf_min = 0.2", 'imf_min = 0.2\nambient = "25 kg"'),),
+    Bad("ambient temperature in kg", (("project.toml", "imf_min = 0.1", 'imf_min = 0.1\nambient = "25 kg"'),),
         "check", "project.toml", "case[3].ambient", "convertible to degC"),
     Bad("negative payload requirement", (("project.toml", 'payload_min = "150 N"', 'payload_min = "-150 N"'),),
         "check", "project.toml", "case[0].payload_min", "must be >= 0 N"),
@@ -272,6 +272,19 @@ BAD = [
         "check", "project.toml", "case[0].contacts[0].normal", "zero vector", example="quadruped"),
     Bad("arm: base pose on a fixed base", (("project.toml", 'motion = "along"', 'motion = "along"\nbase_rpy = [0, "90 deg", 0]'),),
         "check", "project.toml", "case[0].base_rpy", "only for a floating base", example="arm"),
+    # --- the [objective] table, read when sizing starts (before any search) ----------------
+    Bad("objective: unknown key", (("project.toml", "max_stages = 1", 'max_stages = 1\n\n[objective]\nmaximise = "mass"\n'),),
+        "size", "project.toml", "objective.maximise", "unknown field", example="arm"),
+    Bad("objective: unknown objective", (("project.toml", "max_stages = 1", 'max_stages = 1\n\n[objective]\nmaximize = "weight"\n'),),
+        "size", "project.toml", "objective.maximize", "must be one of payload, mass, imf", example="arm"),
+    Bad("objective: pin on an unknown joint", (("project.toml", "max_stages = 1", 'max_stages = 1\n\n[objective]\npin = { ankle = { motor = "RX-50x10" } }\n'),),
+        "size", "project.toml", "objective.pin.ankle", "unknown joint", example="arm"),
+    Bad("objective: pin an unknown motor", (("project.toml", "max_stages = 1", 'max_stages = 1\n\n[objective]\npin = { elbow = { motor = "RX-00" } }\n'),),
+        "size", "project.toml", "objective.pin.elbow.motor", "unknown motor 'RX-00'", example="arm"),
+    Bad("objective: shared group of one", (("project.toml", "max_stages = 1", 'max_stages = 1\n\n[objective]\nshared = [["elbow"]]\n'),),
+        "size", "project.toml", "objective.shared[0]", "at least two joints", example="arm"),
+    Bad("objective: exclude not a list", (("project.toml", "max_stages = 1", 'max_stages = 1\n\n[objective]\nexclude = "HW"\n'),),
+        "size", "project.toml", "objective.exclude", "must be a list", example="arm"),
     Bad("arm: stage kind restriction unknown", (("project.toml", "max_stages = 1", 'max_stages = 1\nstage_kinds = ["strainwave"]'),),
         "check", "project.toml", "catalog.stage_kinds[0]", "unknown stage kind", example="arm"),
     Bad("URDF negative link mass", (("leg.urdf", '<mass value="0.45"/>', '<mass value="-0.45"/>'),),
@@ -322,6 +335,12 @@ def test_missing_design_file(examples, tmp_path):
     project = examples["leg"] / "project.toml"
     message = _one_error_line(_run(["assess", str(project), "--design", str(tmp_path / "none.toml")]))
     _assert_names(message, "none.toml", "(file)", "file not found")
+
+
+def test_size_time_limit_must_be_positive(examples):
+    project = examples["arm"] / "project.toml"
+    message = _one_error_line(_run(["size", str(project), "--time-limit", "-1"]))
+    _assert_names(message, "<command line>", "--time-limit", "must be > 0 s")
 
 
 def test_new_into_a_folder_that_is_not_empty(tmp_path):
