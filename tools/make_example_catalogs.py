@@ -31,7 +31,7 @@ def motor(name, d_mm, l_mm, spread=1.0, volts=48.0):
         "bus_voltage": f"{volts:g} V",
         "thermal_resistance": f"{2.2 / (s * l):.3g} K/W",
         "thermal_time_constant": f"{60 + 40 * s * l:.3g} s",
-        "winding_temperature_max": "120 degC",
+        "winding_temperature_max": "140 degC",
         "cogging_torque": f"{0.008 * peak:.3g} N*m",
         "diameter": f"{d_mm + 6:g} mm",
         "length": f"{l_mm + 10:g} mm",
@@ -101,7 +101,7 @@ ARM_HEADER = """# Invented catalog for the mobile-arm example: 20 RX frameless m
 def leg():
     motors = [motor(f"PX-{d}x{l}", d, l, sp) for d, l, sp in
               [(60, 12, 1.0), (70, 14, 1.02), (80, 16, 0.98), (80, 20, 1.0), (90, 20, 1.03),
-               (96, 24, 1.0), (105, 24, 0.97), (115, 28, 1.0)]]
+               (96, 24, 1.0), (105, 24, 0.97), (115, 28, 1.0), (125, 30, 1.01)]]
     stages = [
         stage_block("PL", "planetary", [3, 4, 5, 6, 7, 8, 9, 10],
                     '{ model = "planetary_basic_train", basic_efficiency = 0.965 }',

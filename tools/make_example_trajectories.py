@@ -1,7 +1,7 @@
 """Write the bundled example duty cycles (our own invented motions).
 
-leg/gait.csv: a 0.4 s trot cycle of the QL-3 leg relative to its trunk; stance in the first
-half with a half-sine ground reaction force at the foot whose cycle mean is the leg's quarter
+leg/gait.csv: a 0.5 s trot cycle of the QL-3 leg relative to its trunk; stance in the first
+60 % with a half-sine ground reaction force at the foot whose cycle mean is the leg's quarter
 share of the 24 kg robot's weight. Positions only: the tool differentiates them (periodic spline).
 arm/pick_place.csv: a 4 s pick-and-place of the MA-6 arm with minimum-jerk moves, carrying 3 kg
 during the transfer; positions, speeds and accelerations given in closed form.
@@ -20,17 +20,19 @@ G = 9.80665
 
 
 def gait(path: Path):
-    period, n = 0.4, 81
+    period, n, duty = 0.5, 101, 0.6
     t = np.linspace(0.0, period, n)
     w = 2 * math.pi / period
     hip_ab = np.deg2rad(3.0) * np.sin(w * t)
     hip_fe = np.deg2rad(-40.0) + np.deg2rad(18.0) * np.sin(w * t)
     knee = np.deg2rad(80.0) + np.deg2rad(25.0) * np.sin(w * t + 0.6)
-    stance = t < period / 2
+    stance = t < duty * period
     mean_load = 24.0 * G / 4  # N, the leg's share of the robot weight
-    fz = np.where(stance, mean_load * math.pi * np.sin(math.pi * t / (period / 2)), 0.0)
-    fx = np.where(stance, -0.1 * fz * np.cos(math.pi * t / (period / 2)), 0.0)
-    rows = ["# QL-3 trot cycle (invented). Ground reaction force on the foot in world axes.",
+    # half-sine of peak P over the stance has cycle mean P·(2/π)·duty
+    peak = mean_load * math.pi / (2 * duty)
+    fz = np.where(stance, peak * np.sin(math.pi * t / (duty * period)), 0.0)
+    fx = np.where(stance, -0.1 * fz * np.cos(math.pi * t / (duty * period)), 0.0)
+    rows = ["# QL-3 trot cycle (invented), 0.5 s, stance 60 %. Ground reaction force on the foot in world axes.",
             "t [s],q:hip_ab [deg],q:hip_fe [deg],q:knee [deg],f:foot:x [N],f:foot:y [N],f:foot:z [N]"]
     for i in range(n):
         rows.append(f"{t[i]:.4f},{math.degrees(hip_ab[i]):.5f},{math.degrees(hip_fe[i]):.5f},"
