@@ -289,3 +289,23 @@ def test_documented_project_and_design_examples_load(folders, tmp_path):
                             "--json"]).stdout)
     assert data["design"] == "QL-3 starting point"
     assert [j["ratio"] for j in data["joints"]] == pytest.approx([6.0, 6.0, 9.0], rel=1e-12)
+
+
+def test_self_locking_joint_is_infinite_not_nan_in_table_and_json(folders, tmp_path):
+    # worm WG of the arm catalog: λ = 3.5°, f = 0.07, φ_n = 20°. Self-locking when
+    # f ≥ cos φ_n·tan λ (Shigley ch. 13 [mem]): cos 20°·tan 3.5° = 0.93969·0.061163 = 0.05747 ≤ 0.07.
+    # Back-driven reflected inertia N²·I_r/η_b and holding capacity are then ∞ (design brief §2.3).
+    folder = tmp_path / "arm"
+    shutil.copytree(folders["arm"], folder)
+    text = (folder / "design.toml").read_text()
+    head, sep, tail = text.partition("[joint.elbow]")
+    tail = re.sub(r'stages = \[.*\]', 'stages = [{ stage = "WG", frame = "WG-30", ratio = 50 }]', tail, count=1)
+    (folder / "design.toml").write_text(head + sep + tail)
+    args = ["assess", str(folder / "project.toml"), "--design", str(folder / "design.toml")]
+    data = json.loads(_run(args + ["--json"]).stdout)
+    elbow = next(j for j in data["joints"] if j["joint"] == "elbow")
+    assert elbow["self_locking"] is True and elbow["eta_backward"] < 0
+    assert elbow["reflected_backdriven"] == "inf" and elbow["breakaway_torque"] == "inf"
+    out = _run(args).stdout
+    assert "self-locking" in out and "∞" in out and "nan" not in out.lower()
+    assert "pinch and crush hazard" in out
