@@ -184,9 +184,12 @@ def test_outcome_names_missed_requirements_and_the_limiting_joint(built):
     assert (f"misses {len(missed)} of" in outcome) == bool(missed)
     for c in missed:
         assert f"{c['subject']}: {c['requirement'].replace('_', ' ')}" in outcome
-    payload = [c for c in a["cases"] if c["kind"] in ("payload", "stance")]
-    worst = min(payload, key=lambda c: c["metrics"]["payload"])
-    assert f"limited by joint {worst['limiting_joint']}" in outcome
+    # the payload case with the smallest margin against its own requirement
+    margins = {c["subject"]: c["margin"] for c in a["checks"] if c["requirement"] == "payload_min"}
+    worst = min(margins, key=margins.get)
+    case = next(c for c in a["cases"] if c["name"] == worst)
+    assert f"tightest against its requirement in case {worst}" in outcome
+    assert f"limited by joint {case['limiting_joint']}" in outcome
     assert "self-locking" in outcome
 
 

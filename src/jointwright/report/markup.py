@@ -144,6 +144,8 @@ figure { margin: 14px 0 22px; }
 figure img { max-width: 100%; height: auto; border: 1px solid var(--line); }
 figcaption { color: var(--muted); font-size: 0.9em; margin-top: 4px; }
 .files { font-size: 0.9em; }
+@media print { nav { display: none; } figure, table, .verdict, .caution { break-inside: avoid; }
+               main { max-width: none; padding: 0; } }
 footer { margin-top: 40px; color: var(--muted); font-size: 0.85em;
          border-top: 1px solid var(--line); padding-top: 8px; }
 """

@@ -126,12 +126,20 @@ def _payload_words(a: dict, project) -> list[str]:
                and c["metrics"].get("payload") is not None]
     if not payload:
         return []
-    worst = min(payload, key=lambda c: _f(c["metrics"]["payload"]))
+    margins = {c["subject"]: _f(c["margin"]) for c in a["checks"]
+               if c["requirement"] == "payload_min"}
+    if any(c["name"] in margins for c in payload):
+        # the tightest against its own requirement, which need not be the smallest force
+        worst = min((c for c in payload if c["name"] in margins), key=lambda c: margins[c["name"]])
+        lead = f"Payload is tightest against its requirement in case {worst['name']}"
+    else:
+        worst = min(payload, key=lambda c: _f(c["metrics"]["payload"]))
+        lead = f"The smallest payload is in case {worst['name']}"
     value = _f(worst["metrics"]["payload"])
     kg = ""
     if project.case(worst["name"]).weight_equivalent and math.isfinite(value):
         kg = f" (the weight of {fmt(value / G0, 'kg')} at standard gravity)"
-    text = f"The smallest payload is {fmt(value, 'N')}{kg}, in case {worst['name']}"
+    text = f"{lead}: {fmt(value, 'N')}{kg}"
     if worst["limiting_joint"]:
         text += f", limited by joint {worst['limiting_joint']}: {_limiting_reason(a, worst)}"
     return [text + "."]
