@@ -112,3 +112,24 @@ def nonnegative(value: Any, dimension: str, *, file: str = "<api>", field: str =
     if out < 0:
         raise InputError(file, field, f"must be >= 0 {SI_UNITS[dimension]}, got {value!r}")
     return out
+
+
+def format_number(value, digits: int = 4, *, minus: str = "-") -> str:
+    """``value`` with ``digits`` significant digits for people to read.
+
+    Infinities are written ∞ / −∞ (a self-locking holding capacity is infinite, never NaN);
+    None and NaN are "—" (not assessed); strings "inf"/"-inf" from JSON count as infinities and
+    other strings pass through. ``minus`` is the sign used for negative numbers.
+    """
+    if value is None:
+        return "—"
+    if isinstance(value, str):
+        value = {"inf": math.inf, "-inf": -math.inf}.get(value, value)
+        if isinstance(value, str):
+            return value
+    v = float(value)
+    if math.isnan(v):
+        return "—"
+    if math.isinf(v):
+        return "∞" if v > 0 else f"{minus}∞"
+    return f"{v:.{digits}g}".replace("-", minus)

@@ -9,6 +9,8 @@ import sys
 from rich.console import Console
 from rich.table import Table
 
+from ..units import format_number
+
 _console = None
 
 
@@ -21,18 +23,8 @@ def console() -> Console:
 
 def num(value, unit: str = "", digits: int = 4) -> str:
     """A number with its unit; infinities written out (a self-locking capacity is ∞)."""
-    if value is None:
-        return "—"
-    if isinstance(value, str):
-        return value
-    v = float(value)
-    if math.isnan(v):
-        return "—"
-    if math.isinf(v):
-        text = "∞" if v > 0 else "-∞"
-    else:
-        text = f"{v:.{digits}g}"
-    return f"{text} {unit}".strip()
+    text = format_number(value, digits)
+    return text if text == "—" else f"{text} {unit}".strip()
 
 
 def pct(margin: float) -> str:

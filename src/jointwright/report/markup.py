@@ -12,6 +12,8 @@ import html
 import math
 from dataclasses import dataclass
 
+from ..units import format_number
+
 #: unit spellings of the input files -> as shown
 _UNIT_TEXT = {"kg*m^2": "kg·m²", "N*m": "N·m", "-": "", "1": ""}
 
@@ -26,18 +28,7 @@ def unit_text(unit: str) -> str:
 
 def number(value, digits: int = 4) -> str:
     """``value`` with ``digits`` significant digits; ∞ for infinities, — for missing."""
-    if value is None:
-        return "—"
-    if isinstance(value, str):
-        value = {"inf": math.inf, "-inf": -math.inf}.get(value, value)
-        if isinstance(value, str):
-            return value
-    v = float(value)
-    if math.isnan(v):
-        return "—"
-    if math.isinf(v):
-        return "∞" if v > 0 else "−∞"
-    return f"{v:.{digits}g}".replace("-", "−")
+    return format_number(value, digits, minus="−")
 
 
 def fmt(value, unit: str = "", digits: int = 4) -> str:
