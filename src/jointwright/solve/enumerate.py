@@ -29,13 +29,15 @@ def combinations(options: list[np.ndarray], start: int, stop: int) -> np.ndarray
     return np.stack([o[c] for o, c in zip(options, cols)], axis=1)
 
 
-def enumerate_all(model: SizingModel, options: list[np.ndarray] | None = None) -> SolveOutcome:
-    """Best design over every combination of ``options`` (default: the model's candidates)."""
+def enumerate_all(model: SizingModel, options: list[np.ndarray] | None = None, *,
+                  limit: int = MAX_DESIGNS) -> SolveOutcome:
+    """Best design over every combination of ``options`` (default: the model's candidates);
+    refuses more than ``limit`` designs."""
     start_time = time.perf_counter()
     options = [np.asarray(o, dtype=np.int64) for o in (options or model.candidates)]
     total = math.prod(o.size for o in options)
-    if total > MAX_DESIGNS:
-        raise ValueError(f"{total} designs is too many to enumerate (limit {MAX_DESIGNS})")
+    if total > limit:
+        raise ValueError(f"{total} designs is too many to enumerate (limit {limit})")
     best = None
     for start in range(0, total, BATCH):
         key = model.best_key(combinations(options, start, min(total, start + BATCH)))

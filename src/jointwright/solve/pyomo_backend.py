@@ -107,6 +107,38 @@ def build_milp(model: SizingModel, units):
     return m, opts
 
 
+def cut_sets(model: SizingModel, index: np.ndarray, opts) -> list[list[np.ndarray]]:
+    """Per failed requirement, the options per joint that fail it too (a valid cut each).
+
+    Effective mass grows with every mass and back-driven reflected inertia (docs/optimizer.md,
+    item 6): a design at least as heavy and as inert at every joint misses it too. The IMF falls
+    with reflected inertia at fixed masses. The back-drive force min_i b_i/|a_i| only grows with
+    the breakaway torques. Anything else cuts the one combination.
+    """
+    from ..problem import checks
+
+    arrays = model.table.arrays(index[None, :])
+    failed = {c.name for c in checks(model.project, arrays, model.evaluator.evaluate(arrays, detail=False))
+              if not c.ok[0]}
+    mono = not model.project.rotor_coupling
+    out = []
+    for name in sorted(failed) or ["shared"]:
+        group = []
+        for j in range(model.n):
+            o, cand = int(index[j]), opts[j]
+            if name == "effective_mass_max" and mono:
+                keep = (model.mass[cand] >= model.mass[o]) & (model.reflected[cand] >= model.reflected[o])
+            elif name in ("imf_min", "directional_imf_min") and mono:
+                keep = (model.mass[cand] == model.mass[o]) & (model.reflected[cand] >= model.reflected[o])
+            elif name == "backdrive_force_max":
+                keep = model.breakaway[cand] >= model.breakaway[o]
+            else:
+                keep = cand == o
+            group.append(cand[keep])
+        out.append(group)
+    return out
+
+
 def solve_pyomo(model: SizingModel, units, *, time_limit=None, max_rounds=10_000) -> SolveOutcome:
     """Solve by MILP plus lazy no-good cuts (see the module notes)."""
     import pyomo.environ  # noqa: F401  (registers the solvers)
@@ -143,7 +175,8 @@ def solve_pyomo(model: SizingModel, units, *, time_limit=None, max_rounds=10_000
             best = key
         if best is not None and best[0] >= bound - tie_tol(bound):
             break
-        m.cuts.add(sum(m.x[j, int(index[j])] for j in range(model.n)) <= model.n - 1)
+        for group in cut_sets(model, index, opts):
+            m.cuts.add(sum(m.x[j, int(o)] for j in range(model.n) for o in group[j]) <= model.n - 1)
     seconds = time.perf_counter() - start
     proven = best is not None and best[0] >= bound - tie_tol(bound)
     if best is None:

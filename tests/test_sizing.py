@@ -1,0 +1,101 @@
+"""The public sizing API and the ``size`` verb: inputs, outputs, diagnosis, determinism."""
+
+from __future__ import annotations
+
+import dataclasses
+import json
+import math
+
+import numpy as np
+import pytest
+from click.testing import CliRunner
+
+from jointwright.cli import main
+from jointwright.design import load_design
+from jointwright.errors import InputError
+from jointwright.sizing import size
+from test_solve_search import build_table, example, set_limits, small_catalog
+
+
+@pytest.fixture(scope="module")
+def small():
+    leg = example("leg")
+    rng = np.random.default_rng(4)
+    p = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng, motors=3), max_stages=1,
+                            stage_kinds=None, objective={})
+    return set_limits(p, rng, build_table(p), keep_duty=False)
+
+
+@pytest.mark.parametrize("kwargs, field", [
+    ({"objective": "speed"}, "objective"),
+    ({"backend": "magic"}, "backend"),
+    ({"time_limit": -1}, "time_limit"),
+    ({"pins": {"elbow": {"motor": "x"}}}, "pins.elbow"),
+    ({"pins": {"knee": {"motor": "no-such-motor"}}}, "pins.knee.motor"),
+    ({"shared": [["knee"]]}, "shared[0]"),
+    ({"shared": [["knee", "hip_fe"], ["knee", "hip_ab"]]}, "shared[1]"),
+])
+def test_bad_arguments_name_the_field(small, kwargs, field):
+    with pytest.raises(InputError) as e:
+        size(small, explain=False, **kwargs)
+    assert e.value.field == field
+
+
+def test_objective_table_is_read_and_checked(small):
+    p = dataclasses.replace(small, objective={"maximize": "mass"})
+    assert size(p, explain=False).objective_kind == "mass"
+    with pytest.raises(InputError, match="objective.colour"):
+        size(dataclasses.replace(small, objective={"colour": 1}), explain=False)
+    with pytest.raises(InputError, match="objective.maximize"):
+        size(dataclasses.replace(small, objective={"maximize": "fun"}), explain=False)
+
+
+def test_same_input_same_design(small):
+    a, b = size(small, explain=False), size(small, explain=False)
+    assert a.design == b.design and a.objective == b.objective
+
+
+def test_result_is_reevaluated_and_explained(small):
+    r = size(small)
+    if r.status != "optimal":
+        pytest.skip("instance infeasible")
+    assert r.assessment.feasible and r.gap == 0.0
+    assert all(a.loss is None or a.loss >= -1e-9 * abs(r.objective) for a in r.alternatives)
+    json.dumps(r.to_dict(), allow_nan=False)
+
+
+def test_infeasible_requirement_is_diagnosed(small):
+    case = next(c for c in small.cases if c.kind == "payload")
+    p = dataclasses.replace(small, cases=tuple(
+        dataclasses.replace(c, limits={"payload_min": 1e6}) if c.name == case.name else c for c in small.cases))
+    r = size(p)
+    assert r.status == "infeasible" and r.design is None
+    row = next(d for d in r.diagnosis if d.requirement.startswith(case.name))
+    assert row.best_achievable < 1e6 and row.shortfall > 0  # cannot be met even alone
+    assert row.relaxed_objective is not None  # dropping it leaves a feasible problem here
+
+
+def test_cli_size_writes_a_design_that_assess_reads(tmp_path):
+    runner = CliRunner()
+    assert runner.invoke(main, ["new", str(tmp_path / "arm"), "--example", "arm"]).exit_code == 0
+    project = tmp_path / "arm" / "project.toml"
+    out = tmp_path / "best.toml"
+    r = runner.invoke(main, ["size", str(project), "--out", str(out), "--json"])
+    assert r.exit_code == 0, r.output
+    data = json.loads(r.output[r.output.index("{"):])
+    assert data["status"] == "optimal" and data["gap"] == 0.0
+    from jointwright.project import load_project
+
+    p = load_project(project)
+    d = load_design(out, p)
+    assert d.joints == tuple(p.robot.actuated)
+    r2 = runner.invoke(main, ["assess", str(project), "--design", str(out), "--json"])
+    assert r2.exit_code == 0 and json.loads(r2.output)["feasible"] is True
+    assert math.isclose(json.loads(r2.output)["cases"][0]["metrics"]["payload"], data["objective"], rel_tol=1e-9)
+
+
+def test_cli_bad_time_limit_exits_2(tmp_path):
+    runner = CliRunner()
+    runner.invoke(main, ["new", str(tmp_path / "leg")])
+    r = runner.invoke(main, ["size", str(tmp_path / "leg" / "project.toml"), "--time-limit", "-3"])
+    assert r.exit_code == 2 and "--time-limit" in r.output
