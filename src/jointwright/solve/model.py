@@ -77,6 +77,11 @@ class SizingModel:
         self.kind = kind
         self.n = len(project.robot.actuated)
         self.shared = tuple(tuple(g) for g in shared)
+        #: "metric@case" kinds (frontier): maximize sign·metric of one case
+        self.measure = None
+        if "@" in kind:
+            metric, case = kind.split("@", 1)
+            self.measure = (metric, case, 1.0 if metric == "imf" else -1.0)
         self.evaluator = Evaluator(project)
         impact = tuple(c for c in project.cases if c.kind == "impact")
         self.impact_cases = impact
@@ -137,7 +142,11 @@ class SizingModel:
         ok = feasible(checks(project, arrays, ev), index.shape[0])
         for group in self.shared:
             ok &= np.all(index[:, list(group)] == index[:, [group[0]]], axis=1)
-        f = np.asarray(objective(project, arrays, ev, self.kind), dtype=float)
+        if self.measure is not None:
+            metric, case, sign = self.measure
+            f = sign * np.asarray(ev[case][metric], dtype=float)
+        else:
+            f = np.asarray(objective(project, arrays, ev, self.kind), dtype=float)
         f = np.where(np.isnan(f), -np.inf, f)
         return Scored(index, f, ok, arrays.mass.sum(axis=1), self.reflected[index].sum(axis=1))
 
@@ -327,6 +336,15 @@ class SizingModel:
             f = worst
         elif self.kind == "mass":
             f = -mass_lb
+        elif self.measure is not None and self.measure[0] == "backdrive_force":
+            pc = next(p for p in self.evaluator.cases if p.case.name == self.measure[1])
+            absa = np.abs(pc.Jj.T @ (pc.u / np.linalg.norm(pc.u)))
+            b = np.empty((K, n))
+            b[:, A], b[:, F], b[:, unit] = self.breakaway[idx[A]], st["bmin"][F], self.breakaway[options][:, None]
+            with np.errstate(divide="ignore", invalid="ignore"):
+                f = -np.where(absa > 0, b / absa, np.inf).min(axis=1)
+        elif self.measure is not None and self.measure[0] == "effective_mass":
+            f = np.full(K, np.inf)  # bounded in costly_ok
         else:
             f = np.ones(K)  # the IMF is at most 1; no tighter proven bound is used
         return {"objective": f, "mass": mass_lb, "reflected": refl_lb, "ok": ok}
@@ -377,21 +395,25 @@ class SizingModel:
                 out = np.minimum(out, np.maximum(np.min(per, axis=0).max(axis=1), 0.0))
         return out
 
-    def costly_ok(self, idx: np.ndarray, unit: tuple, options: np.ndarray, st: dict) -> np.ndarray:
-        """The bounds that cost an oracle call or a trajectory: effective mass, then duty."""
-        ok = self.effective_mass_ok(idx, unit, options, st)
+    def costly_ok(self, idx: np.ndarray, unit: tuple, options: np.ndarray, st: dict,
+                  bounds: dict | None = None) -> np.ndarray:
+        """The bounds that cost an oracle call or a trajectory: effective mass, then duty.
+        For an effective-mass objective the objective bound in ``bounds`` is set here."""
+        ok = self.effective_mass_ok(idx, unit, options, st, bounds)
         if self.duty_bound and ok.any():
             rows = np.flatnonzero(ok)
             ok[rows] = self.duty_bound.ok(idx, unit, options[rows], st, self.mass)
         return ok
 
-    def effective_mass_ok(self, idx: np.ndarray, unit: tuple, options: np.ndarray, st: dict) -> np.ndarray:
+    def effective_mass_ok(self, idx: np.ndarray, unit: tuple, options: np.ndarray, st: dict,
+                          bounds: dict | None = None) -> np.ndarray:
         """False where the effective mass with every unassigned joint at its lightest mass and
         least reflected inertia already exceeds a limit (effective mass grows with the mass
         matrix in the Loewner order, so no completion can do better). True without limits or
         with rotor coupling (then the bound is not proven)."""
         K = options.size
-        if not self.effective_mass_limits or self.project.rotor_coupling or K == 0:
+        em_kind = self.measure is not None and self.measure[0] == "effective_mass"
+        if not (self.effective_mass_limits or em_kind) or self.project.rotor_coupling or K == 0:
             return np.ones(K, dtype=bool)
         full = np.broadcast_to(idx, (K, self.n)).copy()
         full[:, list(unit)] = options[:, None]
@@ -412,4 +434,6 @@ class SizingModel:
         ok = np.ones(K, dtype=bool)
         for name, limit in self.effective_mass_limits:
             ok &= np.asarray(ev[name]["effective_mass"]) <= limit * (1 + 1e-9) + 1e-12
+        if em_kind and bounds is not None:
+            bounds["objective"] = np.minimum(bounds["objective"], -np.asarray(ev[self.measure[1]]["effective_mass"]))
         return ok

@@ -115,7 +115,8 @@ class BranchAndBound:
         keep = self._prune(b)
         opts, b = opts[keep], {k: v[keep] for k, v in b.items()}
         if opts.size:
-            em = self.model.costly_ok(idx, unit, opts, self.st)
+            em = self.model.costly_ok(idx, unit, opts, self.st, b)
+            em &= self._prune(b)
             opts, b = opts[em], {k: v[em] for k, v in b.items()}
         order = np.lexsort((opts, b["mass"], -b["objective"]))
         return opts[order], {k: v[order] for k, v in b.items()}

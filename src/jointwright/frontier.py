@@ -1,0 +1,219 @@
+"""Payload versus back-drivability: the Pareto frontier by exact ε-constraint sweeps.
+
+Each point is an exact :func:`jointwright.sizing.size` (payload objective) with the chosen
+measure of one case turned into a constraint: ``imf`` ≥ ε, ``effective_mass`` ≤ ε or
+``backdrive_force`` ≤ ε; every other requirement of the project stays. The sweep starts with the
+measure free (the largest payload), then asks each time for a measure strictly better than the
+last point's (by a relative step of 1e-7) until nothing is feasible. Each step has two exact
+solves: the largest payload P under ε, then the best measure among designs with payload ≥ P
+(a search with the measure as its objective), so each point is non-dominated. Over the discrete
+options this yields every non-dominated (payload, measure) pair: for a non-dominated (P*, μ*),
+the step whose ε lies between the previous point's measure and μ* has largest payload ≥ P* and,
+by non-dominance, exactly P*, and its second stage reaches μ*. Points whose successor has the
+same payload (within 1e-9) are dropped as dominated (a safeguard). When the sweep stops early (``points`` or the time limit) the
+set is a sample, and ``complete`` says so.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+import time
+from dataclasses import dataclass
+
+from .errors import InputError
+from .solve.model import tie_tol
+
+#: measure -> (case kind, case-limit key, metric in the assessment, sense: "min" = larger is better)
+MEASURES = {
+    "imf": ("impact", "imf_min", "imf", "min"),
+    "effective_mass": ("impact", "effective_mass_max", "effective_mass", "max"),
+    "backdrive_force": ("backdrive", "backdrive_force_max", "backdrive_force", "max"),
+}
+#: relative step by which each new point must improve the measure
+STEP = 1e-7
+
+
+@dataclass(frozen=True)
+class FrontierPoint:
+    payload: float  # N, the worst payload over the payload cases
+    measure: float  # the measure of the frontier's case
+    design: object  # Design
+    mass: float  # kg
+    changes: tuple  # joints whose actuator differs from the previous point's
+    result: object  # the SizingResult of this point
+
+
+@dataclass(frozen=True)
+class Frontier:
+    measure: str
+    case: str
+    sense: str  # "min": larger measure is better; "max": smaller is better
+    points: tuple  # FrontierPoint, largest payload first
+    complete: bool
+    knee: int | None  # index into points
+    seconds: float
+    solves: int
+
+    def to_dict(self) -> dict:
+        from .assessment import _jsonable
+        from .design import design_to_toml
+
+        return _jsonable({
+            "measure": self.measure, "case": self.case, "sense": self.sense, "complete": self.complete,
+            "knee": self.knee, "seconds": self.seconds, "solves": self.solves,
+            "points": [{"payload": p.payload, "measure": p.measure, "mass": p.mass,
+                        "changes": list(p.changes),
+                        "actuators": {j: a.label() for j, a in zip(p.design.joints, p.design.actuators)},
+                        "design_toml": design_to_toml(p.design)} for p in self.points],
+        })
+
+
+def _case(project, measure: str, case: str | None):
+    kind = MEASURES[measure][0]
+    if case is None:
+        for c in project.cases:
+            if c.kind == kind:
+                return c
+        raise InputError(str(project.file), "case", f"measure {measure} needs a {kind} case")
+    try:
+        c = project.case(case)
+    except KeyError:
+        raise InputError("<api>", "case", f"no case named {case!r}") from None
+    if c.kind != kind:
+        raise InputError("<api>", "case", f"measure {measure} needs a {kind} case; {case!r} is {c.kind}")
+    if measure == "imf" and project.robot.n_base != 6:
+        raise InputError(str(project.file), "robot.base", "the IMF needs a floating base; use effective_mass")
+    return c
+
+
+def with_limit(project, case_name: str, key: str, value: float | None):
+    """The project with one limit of one case set (None: removed)."""
+    cases = []
+    for c in project.cases:
+        if c.name == case_name:
+            limits = {k: v for k, v in c.limits.items() if k != key}
+            if value is not None:
+                limits[key] = value
+            c = dataclasses.replace(c, limits=limits)
+        cases.append(c)
+    return dataclasses.replace(project, cases=tuple(cases))
+
+
+def frontier(project, measure: str = "imf", *, case: str | None = None, points: int = 50,
+             time_limit: float | None = None, backend: str = "search") -> Frontier:
+    """Payload versus ``measure`` at ``case``: the non-dominated designs, largest payload first.
+
+    Parameters
+    ----------
+    project : Project
+    measure : "imf" (floating base), "effective_mass" (kg) or "backdrive_force" (N)
+    case : name of the impact / back-drive case; default the first of that kind
+    points : most sizing solves (the frontier is marked incomplete when it is reached)
+    time_limit : s for the whole sweep
+    backend : passed to :func:`jointwright.sizing.size`
+
+    Returns
+    -------
+    Frontier
+    """
+    from .sizing import size
+
+    if measure not in MEASURES:
+        raise InputError("<api>", "measure", f"must be one of {', '.join(MEASURES)}, got {measure!r}")
+    if not isinstance(points, int) or points < 1:
+        raise InputError("<api>", "points", f"must be a whole number >= 1, got {points!r}")
+    c = _case(project, measure, case)
+    _kind, key, metric, sense = MEASURES[measure]
+    start = time.perf_counter()
+    deadline = math.inf if time_limit is None else start + time_limit
+    found, eps, solves, complete = [], None, 0, False
+    while solves < points:
+        left = deadline - time.perf_counter()
+        if left <= 0:
+            break
+        res = size(with_limit(project, c.name, key, eps), objective="payload", backend=backend,
+                   time_limit=None if time_limit is None else left, explain=False)
+        solves += 1
+        if res.status == "infeasible":
+            complete = True
+            break
+        if res.design is None or res.status != "optimal":
+            break
+        best = _best_measure(with_limit(project, c.name, key, eps), res.objective, metric, c.name,
+                             None if time_limit is None else max(deadline - time.perf_counter(), 1e-3))
+        solves += 1
+        design = res.design if best is None else best
+        mu = _measure(project, design, c.name, metric)
+        found.append((res.objective, mu, res, design))
+        if not math.isfinite(mu):
+            complete = sense == "max" and False
+            break
+        step = STEP * max(abs(mu), 1e-12)
+        eps = mu + step if sense == "min" else mu - step
+        if sense == "max" and eps < 0:
+            complete = True
+            break
+    pts = _points(found)
+    return Frontier(measure, c.name, sense, pts, complete, knee(pts, sense), time.perf_counter() - start, solves)
+
+
+def _best_measure(project, payload: float, metric: str, case: str, time_limit):
+    """Second, lexicographic stage: among designs with payload ≥ ``payload`` (all other
+    requirements kept) the best measure, so that each point is non-dominated."""
+    from .sizing import build_model, design_of, read_objective, run_backend, units_of
+
+    floor = payload * (1 - 1e-9) - 1e-12
+    cases = tuple(dataclasses.replace(c, limits={**c.limits, "payload_min": max(floor, c.limits.get("payload_min", 0.0))})
+                  if c.kind == "payload" else c for c in project.cases)
+    p = dataclasses.replace(project, cases=cases)
+    cfg = read_objective(project)
+    model, _ = build_model(p, f"{metric}@{case}", cfg["pin"], cfg["exclude"], cfg["shared"])
+    out = run_backend(model, units_of(model.n, model.shared), "search", time_limit, None)
+    if out.index is None or out.status != "optimal":
+        return None
+    return design_of(project, model, out.index, f"{project.name} — frontier point")
+
+
+def _measure(project, design, case: str, metric: str) -> float:
+    from .assessment import assess
+
+    a = assess(project, design)
+    return float(next(c for c in a.cases if c.name == case).metrics[metric])
+
+
+def _points(found) -> tuple:
+    keep = [f for i, f in enumerate(found)
+            if i + 1 == len(found) or found[i + 1][0] < f[0] - tie_tol(f[0])]
+    out, prev = [], None
+    for payload, mu, res, d in keep:
+        changes = () if prev is None else tuple(
+            j for j, a, b in zip(d.joints, d.actuators, prev.actuators) if a != b)
+        out.append(FrontierPoint(payload, mu, d, d.mass, changes, res))
+        prev = d
+    return tuple(out)
+
+
+def knee(points, sense: str) -> int | None:
+    """The point farthest from the chord between the two ends, both axes scaled to [0, 1]."""
+    if len(points) < 3:
+        return None
+    p = [pt.payload for pt in points]
+    m = [pt.measure for pt in points]
+    if not all(math.isfinite(v) for v in p + m):
+        return None
+    span_p = (max(p) - min(p)) or 1.0
+    span_m = (max(m) - min(m)) or 1.0
+    xs = [(v - min(p)) / span_p for v in p]
+    ys = [(v - min(m)) / span_m for v in m]
+    (x0, y0), (x1, y1) = (xs[0], ys[0]), (xs[-1], ys[-1])
+    norm = math.hypot(x1 - x0, y1 - y0) or 1.0
+    dist = [abs((x1 - x0) * (y0 - y) - (x0 - x) * (y1 - y0)) / norm for x, y in zip(xs, ys)]
+    return int(max(range(len(points)), key=lambda i: (dist[i], -i)))
+
+
+def dominates(a, b, sense: str) -> bool:
+    """Whether point a dominates point b (payload larger is better; measure by ``sense``)."""
+    better_m = a.measure >= b.measure if sense == "min" else a.measure <= b.measure
+    strict = a.payload > b.payload or (a.measure > b.measure if sense == "min" else a.measure < b.measure)
+    return a.payload >= b.payload and better_m and strict

@@ -1,0 +1,112 @@
+"""The payload / back-drivability frontier against the non-dominated set found by enumeration.
+
+Reference: the Pareto (non-dominated) set of a finite set of (payload, measure) pairs, computed
+here by brute force over every design of small seeded instances (solve/enumerate.py's
+combinations, the evaluator and the checks). Invariants: every point meets every requirement when
+re-evaluated; no point dominates another; the knee lies on the frontier.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+
+import numpy as np
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from jointwright.assessment import assess
+from jointwright.errors import InputError
+from jointwright.frontier import MEASURES, dominates, frontier, with_limit
+from jointwright.problem import checks, feasible, objective
+from jointwright.solve.enumerate import combinations
+from jointwright.solve.model import SizingModel
+from test_solve_search import build_table, example, planar_arm, set_limits, small_catalog
+
+
+@pytest.fixture(scope="module")
+def leg():
+    return example("leg")
+
+
+def brute_front(project, measure, case):
+    """Non-dominated (payload, measure) pairs over every feasible design, the measure free."""
+    _kind, key, metric, sense = MEASURES[measure]
+    p = with_limit(project, case, key, None)
+    table = build_table(p)
+    n = len(p.robot.actuated)
+    opts = [np.arange(len(table))] * n
+    model = SizingModel(p, table, opts)
+    idx = combinations(opts, 0, len(table) ** n)
+    arrays = table.arrays(idx)
+    ev = model.evaluator.evaluate(arrays, detail=False)
+    ok = feasible(checks(p, arrays, ev), idx.shape[0])
+    pay = objective(p, arrays, ev, "payload")[ok]
+    mu = np.asarray(ev[case][metric], dtype=float)[ok]
+    good = mu if sense == "min" else -mu
+    front = []
+    for i in np.lexsort((-good, -pay)):
+        if not front or good[i] > front[-1][2] + 1e-7 * max(abs(good[i]), 1e-12):
+            front.append((pay[i], mu[i], good[i]))
+    # keep only pairs not dominated by a later (smaller-payload, better-measure) one with equal payload
+    out = []
+    for k, (pp, mm, gg) in enumerate(front):
+        if k + 1 < len(front) and abs(front[k + 1][0] - pp) <= 1e-9 * max(1.0, abs(pp)):
+            continue
+        out.append((pp, mm))
+    return out
+
+
+def check_front(project, f):
+    free = with_limit(project, f.case, MEASURES[f.measure][1], None)  # the sweep sets that limit
+    for pt in f.points:  # re-evaluated by the numpy physics
+        assert assess(free, pt.design).feasible
+    for a in f.points:
+        for b in f.points:
+            assert a is b or not dominates(a, b, f.sense)
+    if f.knee is not None:
+        assert 0 <= f.knee < len(f.points)
+
+
+@settings(max_examples=6, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(seed=st.integers(0, 2**31 - 1), measure=st.sampled_from(["imf", "effective_mass", "backdrive_force"]))
+def test_leg_frontier_equals_enumerated_front(leg, seed, measure):
+    rng = np.random.default_rng(seed)
+    p = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng), max_stages=1, stage_kinds=None,
+                            objective={})
+    p = set_limits(p, rng, build_table(p), keep_duty=False)
+    f = frontier(p, measure)
+    check_front(p, f)
+    ref = brute_front(p, measure, f.case)
+    assert f.complete
+    got = [(pt.payload, pt.measure) for pt in f.points]
+    assert len(got) == len(ref)
+    for (pa, ma), (pb, mb) in zip(got, ref):
+        assert pa == pytest.approx(pb, rel=1e-9, abs=1e-9)
+        assert ma == pytest.approx(mb, rel=1e-6, abs=1e-9)
+
+
+def test_arm_effective_mass_frontier_matches_enumeration():
+    arm = example("arm")
+    rng = np.random.default_rng(8)
+    from jointwright.project import Case, Requirements
+
+    robot = planar_arm(rng)
+    pose = {"j0": 0.4, "j1": -0.7, "j2": 0.5}
+    cases = (Case("lift", "payload", "tip", pose, direction=(0.0, 0.0, 1.0), limits={}),
+             Case("bump", "impact", "tip", pose, direction=(1.0, 0.0, 0.0), limits={}))
+    p = dataclasses.replace(arm, robot=robot, cases=cases, catalog=small_catalog(arm.catalog, rng),
+                            max_stages=1, stage_kinds=None, objective={}, requirements=Requirements())
+    f = frontier(p, "effective_mass")
+    check_front(p, f)
+    ref = brute_front(p, "effective_mass", "bump")
+    assert [round(x, 6) for x, _ in ref] == [round(pt.payload, 6) for pt in f.points]
+
+
+def test_bad_measure_and_case(leg):
+    with pytest.raises(InputError, match="measure"):
+        frontier(leg, "stiffness")
+    with pytest.raises(InputError, match="case"):
+        frontier(leg, "imf", case="swing")
+    with pytest.raises(InputError, match="points"):
+        frontier(leg, "imf", points=0)
