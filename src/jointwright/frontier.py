@@ -41,7 +41,6 @@ class FrontierPoint:
     design: object  # Design
     mass: float  # kg
     changes: tuple  # joints whose actuator differs from the previous point's
-    result: object  # the SizingResult of this point
 
 
 @dataclass(frozen=True)
@@ -117,8 +116,6 @@ def frontier(project, measure: str = "imf", *, case: str | None = None, points: 
     -------
     Frontier
     """
-    from .sizing import size
-
     if measure not in MEASURES:
         raise InputError("<api>", "measure", f"must be one of {', '.join(MEASURES)}, got {measure!r}")
     if not isinstance(points, int) or points < 1:
@@ -132,20 +129,22 @@ def frontier(project, measure: str = "imf", *, case: str | None = None, points: 
         left = deadline - time.perf_counter()
         if left <= 0:
             break
-        res = size(with_limit(project, c.name, key, eps), objective="payload", backend=backend,
-                   time_limit=None if time_limit is None else left, explain=False)
+        current = with_limit(project, c.name, key, eps)
+        upper = found[-1][0] if found else None  # the neighbour's payload bounds this one
+        status, payload, design = _solve(current, "payload", None, time_limit and left, upper, backend)
         solves += 1
-        if res.status == "infeasible":
+        if status == "infeasible":
             complete = True
             break
-        if res.design is None or res.status != "optimal":
+        if status != "optimal":
             break
-        best = _best_measure(with_limit(project, c.name, key, eps), res.objective, metric, c.name,
-                             None if time_limit is None else max(deadline - time.perf_counter(), 1e-3))
+        left = None if time_limit is None else max(deadline - time.perf_counter(), 1e-3)
+        status2, _value, best = _solve(current, f"{metric}@{c.name}", payload, left, None, "search")
         solves += 1
-        design = res.design if best is None else best
+        if status2 == "optimal":
+            design = best
         mu = _measure(project, design, c.name, metric)
-        found.append((res.objective, mu, res, design))
+        found.append((payload, mu, design))
         if not math.isfinite(mu):
             complete = sense == "max" and False
             break
@@ -158,21 +157,34 @@ def frontier(project, measure: str = "imf", *, case: str | None = None, points: 
     return Frontier(measure, c.name, sense, pts, complete, knee(pts, sense), time.perf_counter() - start, solves)
 
 
-def _best_measure(project, payload: float, metric: str, case: str, time_limit):
-    """Second, lexicographic stage: among designs with payload ≥ ``payload`` (all other
-    requirements kept) the best measure, so that each point is non-dominated."""
-    from .sizing import build_model, design_of, read_objective, run_backend, units_of
+def _solve(project, kind: str, payload_floor, time_limit, upper, backend):
+    """One exact solve of the sweep: (status, objective, design).
 
-    floor = payload * (1 - 1e-9) - 1e-12
-    cases = tuple(dataclasses.replace(c, limits={**c.limits, "payload_min": max(floor, c.limits.get("payload_min", 0.0))})
-                  if c.kind == "payload" else c for c in project.cases)
-    p = dataclasses.replace(project, cases=cases)
+    ``payload_floor``: every payload case must reach it (the lexicographic second stage);
+    ``upper``: a known bound from the neighbouring point, which ends the search when reached.
+    Only the optimal value matters here, so ties are not searched.
+    """
+    from .sizing import build_model, design_of, read_objective, units_of
+    from .solve.search import BranchAndBound
+
+    p = project
+    if payload_floor is not None:
+        floor = payload_floor * (1 - 1e-9) - 1e-12
+        p = dataclasses.replace(project, cases=tuple(
+            dataclasses.replace(c, limits={**c.limits, "payload_min": max(floor, c.limits.get("payload_min", 0.0))})
+            if c.kind == "payload" else c for c in project.cases))
     cfg = read_objective(project)
-    model, _ = build_model(p, f"{metric}@{case}", cfg["pin"], cfg["exclude"], cfg["shared"])
-    out = run_backend(model, units_of(model.n, model.shared), "search", time_limit, None)
-    if out.index is None or out.status != "optimal":
-        return None
-    return design_of(project, model, out.index, f"{project.name} — frontier point")
+    model, _ = build_model(p, kind, cfg["pin"], cfg["exclude"], cfg["shared"])
+    units = units_of(model.n, model.shared)
+    if backend == "search" or "@" in kind:
+        out = BranchAndBound(model, units, time_limit=time_limit, ties=False, upper=upper).run()
+    else:
+        from .sizing import run_backend
+
+        out = run_backend(model, units, backend, time_limit, None)
+    if out.index is None:
+        return out.status, None, None
+    return out.status, out.objective, design_of(project, model, out.index, f"{project.name} — frontier point")
 
 
 def _measure(project, design, case: str, metric: str) -> float:
@@ -186,10 +198,10 @@ def _points(found) -> tuple:
     keep = [f for i, f in enumerate(found)
             if i + 1 == len(found) or found[i + 1][0] < f[0] - tie_tol(f[0])]
     out, prev = [], None
-    for payload, mu, res, d in keep:
+    for payload, mu, d in keep:
         changes = () if prev is None else tuple(
             j for j, a, b in zip(d.joints, d.actuators, prev.actuators) if a != b)
-        out.append(FrontierPoint(payload, mu, d, d.mass, changes, res))
+        out.append(FrontierPoint(payload, mu, d, d.mass, changes))
         prev = d
     return tuple(out)
 

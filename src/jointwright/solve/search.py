@@ -54,7 +54,10 @@ def search_order(model: SizingModel, units: list[tuple]) -> list[tuple]:
 class BranchAndBound:
     """Depth-first branch and bound; see the module docstring."""
 
-    def __init__(self, model: SizingModel, units: list[tuple], *, time_limit=None, progress=None):
+    def __init__(self, model: SizingModel, units: list[tuple], *, time_limit=None, progress=None,
+                 ties=True, upper=None):
+        """``ties=False`` proves only the optimal value (ties are not searched for the preferred
+        design); ``upper`` is a known upper bound on the optimum: reaching it ends the search."""
         self.model = model
         self.units = search_order(model, units)
         self.st = model.stats(model.candidates)
@@ -65,6 +68,9 @@ class BranchAndBound:
         self.scored = 0
         self.open_bound = -math.inf
         self.stopped = False
+        self.ties = ties
+        self.reached = False
+        self.upper = math.inf if upper is None else upper
 
     def unit_options(self, unit) -> np.ndarray:
         opts = self.model.candidates[unit[0]]
@@ -98,7 +104,7 @@ class BranchAndBound:
         if self.best_key is not None:
             f0, m0 = self.best_key[0], self.best_key[1]
             tol = tie_tol(f0)
-            keep &= b["objective"] >= f0 - tol
+            keep &= b["objective"] >= f0 - tol if self.ties else b["objective"] > f0 + tol
             r0 = self.best_key[2]
             tie = b["objective"] <= f0 + tol
             keep &= ~(tie & (b["mass"] > m0 + tie_tol(m0)))
@@ -138,6 +144,8 @@ class BranchAndBound:
                 opts, b = self._children(idx, unit, opts[i:])
                 i = 0
                 continue
+            if self.reached:
+                return
             if time.perf_counter() > self.deadline:
                 self.stopped = True
             if self.stopped:
@@ -152,7 +160,7 @@ class BranchAndBound:
     def _leaves(self, idx: np.ndarray, unit: tuple, opts: np.ndarray, b: dict) -> None:
         """Score complete designs best bound first, re-cutting after each new incumbent."""
         model = self.model
-        while opts.size:
+        while opts.size and not self.reached:
             keep = self._prune(b)
             opts, b = opts[keep], {k: v[keep] for k, v in b.items()}
             chunk_opts = opts[:LEAF_CHUNK]
@@ -166,6 +174,8 @@ class BranchAndBound:
             if key is not None:
                 if model.better(key, self.best_key):
                     self.best_key = key
+                    if key[0] >= self.upper - tie_tol(self.upper):
+                        self.reached = True
             if time.perf_counter() > self.deadline and opts.size:
                 self.stopped = True
                 self.open_bound = max(self.open_bound, float(b["objective"].max()))
