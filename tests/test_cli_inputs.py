@@ -458,7 +458,7 @@ def test_any_value_replaced_by_a_hostile_one_ends_cleanly(example, examples):
     source = examples[example]
     files = sorted(p.name for p in source.iterdir() if p.suffix == ".toml")
 
-    @settings(max_examples=80, deadline=None, derandomize=True, suppress_health_check=list(HealthCheck))
+    @settings(max_examples=40, deadline=None, derandomize=True, suppress_health_check=list(HealthCheck))
     @given(which=st.sampled_from(files), k=st.integers(0, 10**6), value=st.sampled_from(HOSTILE))
     def check(which, k, value):
         with tempfile.TemporaryDirectory() as tmp:
