@@ -502,3 +502,11 @@ def test_known_gap_gives_one_clear_line(bad: Bad, examples, tmp_path):
     # only the contract (exit 2, one line naming the file): the wording is the fix's choice
     message = _one_error_line(_run_broken(bad, examples, tmp_path))
     assert Path(message.split(": ")[0]).name == bad.file
+
+
+@pytest.mark.xfail(strict=True, reason="KeyError 'imf' traceback from the search instead of an InputError")
+def test_frontier_imf_on_a_fixed_base_gives_one_clear_line(examples):
+    # a fixed-base arm has no impact mitigation factor (its locked-joint inertia is unbounded,
+    # REFERENCES.md); asking for the IMF frontier must say so in one line, not search and crash
+    message = _one_error_line(_run(["frontier", str(examples["arm"] / "project.toml"), "--measure", "imf"]))
+    assert "imf" in message
