@@ -99,3 +99,25 @@ def test_cli_bad_time_limit_exits_2(tmp_path):
     runner.invoke(main, ["new", str(tmp_path / "leg")])
     r = runner.invoke(main, ["size", str(tmp_path / "leg" / "project.toml"), "--time-limit", "-3"])
     assert r.exit_code == 2 and "--time-limit" in r.output
+
+
+def test_continuous_ratio_range_is_gridded_then_refined(small):
+    """A stage with a ratio range is searched on the R20 grid (ISO 3 [pub]) and then refined:
+    the refined design is feasible, inside the range and at least as good as the grid optimum."""
+    st = small.catalog.stages[0]
+    lo, hi = min(st.ratios), max(st.ratios) * 1.5
+    stage = dataclasses.replace(st, ratios=None, ratio_range=(lo, hi))
+    cat = dataclasses.replace(small.catalog, stages=(stage,) + small.catalog.stages[1:])
+    p = dataclasses.replace(small, catalog=cat)
+    r = size(p, explain=False)
+    if r.design is None:
+        pytest.skip("instance infeasible")
+    assert r.assessment.feasible
+    for a in r.design.actuators:
+        for s in a.stages:
+            if s.stage.name == stage.name:
+                assert lo * (1 - 1e-12) <= s.ratio <= hi * (1 + 1e-12)
+    from jointwright.solve.refine import refine  # noqa: F401  (module documented in optimizer.md)
+
+    grid = size(p, explain=False, backend="enumerate")
+    assert r.objective >= grid.objective * (1 - 1e-9)

@@ -16,7 +16,7 @@ import time
 import numpy as np
 
 from .assessment import assess
-from .design import Design
+from .design import Design, arrays_from_designs
 from .errors import InputError
 from .options import JointCandidates, build_table, joint_candidates
 from .problem import OBJECTIVES
@@ -204,15 +204,22 @@ def finish(project, model, cands, outcome: SolveOutcome, kind, backend, start, e
                             diagnosis=diag, options=options,
                             message=_message(outcome.status, kind, None, diag))
     design = design_of(project, model, outcome.index, f"{project.name} — {kind} optimum")
-    a = assess(project, design, model.evaluator)
     value = float(model.score(outcome.index[None, :]).objective[0])
+    if any(s.stage.ratio_range is not None for a_ in design.actuators for s in a_.stages):
+        from .solve.refine import refine
+
+        pinned = [j for j, pin in read_objective(project)["pin"].items() if "stages" in pin]
+        design = refine(model, design, pinned)
+    a = assess(project, design, model.evaluator)
+    refined = model.score_arrays(arrays_from_designs([design]), outcome.index[None, :])
+    value = max(value, float(refined.objective[0]))
     status = outcome.status
     if not a.feasible:
         status = "error"
     alts = alternatives(project, model, outcome.index, value) if explain else ()
     return SizingResult(
         status=status, objective_kind=kind, design=design, assessment=a, objective=sense * value,
-        bound=sense * outcome.bound, gap=relative_gap(value, outcome.bound),
+        bound=sense * max(outcome.bound, value), gap=relative_gap(value, max(outcome.bound, value)),
         seconds=time.perf_counter() - start, backend=backend, native_status=outcome.native,
         nodes=outcome.nodes, binding=binding(a), alternatives=alts, options=options,
         message=_message(status, kind, sense * value, ()))

@@ -135,7 +135,10 @@ class SizingModel:
         """Objective, feasibility, mass and reflected-inertia sum of complete designs (physics
         oracle). ``full=False`` leaves the duty cases out of the feasibility (a cheaper screen)."""
         index = np.atleast_2d(np.asarray(index, dtype=np.int64))
-        arrays = self.table.arrays(index)
+        return self.score_arrays(self.table.arrays(index), index, full=full)
+
+    def score_arrays(self, arrays, index: np.ndarray, *, full: bool = True) -> Scored:
+        """:meth:`score` for designs given as DesignArrays (``index`` only labels them)."""
         full = full and bool(self.duty)
         project = self.project if full else self.static_project
         ev = (self.evaluator if full else self.static_evaluator).evaluate(arrays, detail=False)
@@ -148,7 +151,8 @@ class SizingModel:
         else:
             f = np.asarray(objective(project, arrays, ev, self.kind), dtype=float)
         f = np.where(np.isnan(f), -np.inf, f)
-        return Scored(index, f, ok, arrays.mass.sum(axis=1), self.reflected[index].sum(axis=1))
+        refl = arrays.reflected_inertia("backdriven").sum(axis=1)
+        return Scored(index, f, ok, arrays.mass.sum(axis=1), refl)
 
     def best_key(self, index: np.ndarray) -> tuple | None:
         """Key of the best design among ``index`` (D, n) that meets every requirement, or None.
