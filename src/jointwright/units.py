@@ -49,7 +49,8 @@ def registry():
     import pint
 
     ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
-    ureg.define("rpm = revolution / minute")
+    if "rpm" not in ureg:
+        ureg.define("rpm = revolution / minute")
     return ureg
 
 

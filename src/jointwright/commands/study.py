@@ -1,0 +1,59 @@
+"""``jointwright study STUDY``: run a trade study into a SQLite store, resumably."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+from ._format import console, emit_json
+
+
+@click.command("study")
+@click.argument("study", type=click.Path(path_type=Path))
+@click.option("--store", type=click.Path(path_type=Path), default=None,
+              help="SQLite results file (default: results.sqlite beside the study file)")
+@click.option("--workers", type=click.IntRange(min=1), default=None, help="local processes (default: cores)")
+@click.option("--scheduler", default=None, help="Dask scheduler address, e.g. tcp://127.0.0.1:8786")
+@click.option("--resume", is_flag=True, help="run only the cases the store lacks")
+@click.option("--restart", is_flag=True, help="start the store anew (the old file is kept as .bak)")
+@click.option("--retry-failed", is_flag=True, help="with --resume, run failed cases again")
+@click.option("--csv", "csv_path", type=click.Path(path_type=Path), default=None,
+              help="also export the summary table as CSV")
+@click.option("--json", "as_json", is_flag=True, help="machine-readable summary")
+def command(study: Path, store: Path | None, workers, scheduler, resume, restart, retry_failed,
+            csv_path, as_json):
+    """Run every case of STUDY (sizing or frontier per case); each finished case is stored at once,
+    so an interrupted run loses nothing and --resume goes on where it stopped."""
+    from ..errors import InputError
+    from ..study import export_csv, run_study, summary_table
+
+    if workers is not None and scheduler is not None:
+        raise InputError(str(study), "--workers", "give either --workers or --scheduler, not both")
+    store = store or study.with_name("results.sqlite")
+    outcome = run_study(study, store, workers=workers, scheduler=scheduler, resume=resume,
+                        restart=restart, retry_failed=retry_failed, progress=not as_json)
+    if csv_path is not None:
+        export_csv(store, csv_path)
+    if as_json:
+        emit_json({"store": str(outcome.store), "total": outcome.total, "done": outcome.done_total,
+                   "failed": outcome.failed_total, "skipped": outcome.skipped,
+                   "wall_time": outcome.wall_time, "case_time": outcome.case_time,
+                   "workers": outcome.workers, "backend": outcome.backend})
+        return
+    con = console()
+    con.print(f"study {study}: {outcome.done_total} done, {outcome.failed_total} failed of "
+              f"{outcome.total} cases ({outcome.skipped} already stored); {outcome.wall_time:.1f} s "
+              f"on {outcome.workers} {outcome.backend} workers; results in {outcome.store}")
+    key = ["sizing_status", "objective", "gap", "total_mass", "points", "knee_payload", "knee_measure"]
+    from ..study import read_cases
+
+    present = set()
+    for row in read_cases(store):
+        present.update(row.metrics)
+    shown = [m for m in key if m in present] or None
+    con.print(summary_table(store, shown, max_rows=40))
+    con.print("objective: N for payload, kg for mass, dimensionless for imf; total_mass in kg; "
+              "wall_time in s. All metrics: --csv FILE, or open the SQLite store.")
+    if csv_path is not None:
+        con.print(f"summary written to {csv_path}")
