@@ -75,6 +75,7 @@ def test_infeasible_requirement_is_diagnosed(small):
     assert row.relaxed_objective is not None  # dropping it leaves a feasible problem here
 
 
+@pytest.mark.slow
 def test_cli_size_writes_a_design_that_assess_reads(tmp_path):
     runner = CliRunner()
     assert runner.invoke(main, ["new", str(tmp_path / "arm"), "--example", "arm"]).exit_code == 0

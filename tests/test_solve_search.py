@@ -190,6 +190,7 @@ def test_arm_with_pins_and_shared_joints_matches_enumeration(arm):
         assert not d.actuator("wrist_flex").stages
 
 
+@pytest.mark.slow
 def test_search_design_is_feasible_and_no_sampled_design_beats_it(arm):
     """The bundled arm: proven optimum, re-evaluated feasible, and none of 20,000 random
     feasible designs has a larger objective (a check that cannot pass by construction)."""
