@@ -202,16 +202,15 @@ def test_leg_joint_numbers_follow_the_published_formulas(api):
     assert hip.capacity_motoring == pytest.approx(26.15425, rel=1e-9)
     assert hip.capacity_backdriven == pytest.approx(26.94 / 0.9706621961, rel=1e-9)
     assert hip.reflected_frictionless == pytest.approx(9.936e-3, rel=1e-9)
-    # Knee: PL 6:1 then belt BT 1.5:1 (constant 0.96 / 0.95). A stack multiplies ratios and
-    # efficiencies per direction (design brief 2.2): N = 9, η_f = 0.9708333·0.96 = 0.932.
-    # The belt's input inertia 0.05 kg·cm² sits after the 6:1 stage: seen at the motor as
-    # 0.05/6² kg·cm² [trade, reflected inertia through a ratio]; I_r = 2.76 + 0.0013889 kg·cm²,
-    #   N²·I_r = 81·2.7613889e-4 = 0.022367250 kg·m².
+    # Knee: PL-62 at 9:1: η_f = (1 + 0.965·8)/9 = 8.72/9, η_b = 9/(1 + 8/0.965); frame input
+    # inertia 0.12 kg·cm², so I_r = 2.7 + 0.12 = 2.82 kg·cm² and N²·I_r = 81·2.82e-4 kg·m²;
+    # drive η_f·N·τ = 8.72·4.49 = 39.1528 N·m, below the 60 N·m gear rating.
     knee = next(j for j in result.joints if j.joint == "knee")
     assert knee.ratio == pytest.approx(9.0, rel=1e-12)
-    assert knee.eta_forward == pytest.approx(5.825 / 6 * 0.96, rel=1e-12)
-    assert knee.eta_backward == pytest.approx(6 / (1 + 5 / 0.965) * 0.95, rel=1e-12)
-    assert knee.reflected_frictionless == pytest.approx(81 * (2.76e-4 + 0.05e-4 / 36), rel=1e-9)
+    assert knee.eta_forward == pytest.approx(8.72 / 9, rel=1e-12)
+    assert knee.eta_backward == pytest.approx(9 / (1 + 8 / 0.965), rel=1e-12)
+    assert knee.reflected_frictionless == pytest.approx(81 * 2.82e-4, rel=1e-9)
+    assert knee.capacity_motoring == pytest.approx(8.72 * 4.49, rel=1e-9)
 
 
 def test_payload_margin_is_achieved_over_limit(api):

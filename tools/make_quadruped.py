@@ -56,8 +56,7 @@ def design() -> str:
             lines += [f"[joint.{leg}_{j}]", 'motor = "PX-96x24"',
                       'stages = [{ stage = "PL", frame = "PL-52", ratio = 6 }]', ""]
         lines += [f"[joint.{leg}_knee]", 'motor = "PX-96x24"',
-                  'stages = [{ stage = "PL", frame = "PL-52", ratio = 6 }, '
-                  '{ stage = "BT", frame = "BT-25", ratio = 1.5 }]', ""]
+                  'stages = [{ stage = "PL", frame = "PL-62", ratio = 9 }]', ""]
     return "\n".join(lines)
 
 

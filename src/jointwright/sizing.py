@@ -84,9 +84,10 @@ def units_of(n: int, shared_idx) -> list[tuple]:
     return [tuple(g) for g in shared_idx] + [(j,) for j in range(n) if j not in grouped]
 
 
-def build_model(project, kind: str, pins: dict, exclude, shared) -> tuple[SizingModel, JointCandidates]:
-    """Options, per-joint filters and root tightening (every cut holds for every completion)."""
-    table = build_table(project, exclude)
+def build_model(project, kind: str, pins: dict, exclude, shared, table=None) -> tuple[SizingModel, JointCandidates]:
+    """Options, per-joint filters and root tightening (every cut holds for every completion).
+    ``table``: an option table already built for this catalog and ``exclude`` (reused by re-solves)."""
+    table = build_table(project, exclude) if table is None else table
     n = len(project.robot.actuated)
     joints = list(project.robot.actuated)
     shared_idx = [tuple(joints.index(j) for j in g) for g in shared]
@@ -118,6 +119,15 @@ def tighten(model: SizingModel, units: list[tuple], rounds: int = 10) -> None:
                 model.candidates[j] = keep
         if not changed:
             return
+
+
+def solve_value(project, kind: str, *, table=None, time_limit=None) -> SolveOutcome:
+    """An exact search for the value only (no explanation, ties not searched): for re-solves."""
+    from .solve.search import BranchAndBound
+
+    cfg = read_objective(project)
+    model, _ = build_model(project, kind, cfg["pin"], cfg["exclude"], cfg["shared"], table)
+    return BranchAndBound(model, units_of(model.n, model.shared), time_limit=time_limit, ties=False).run()
 
 
 def run_backend(model: SizingModel, units, backend: str, time_limit, progress) -> SolveOutcome:
@@ -179,8 +189,8 @@ def size(project, *, objective=None, backend="search", time_limit=None, pins=Non
 
 
 def _check_objective_cases(project, kind: str) -> None:
-    if kind == "payload" and not any(c.kind == "payload" for c in project.cases):
-        raise InputError(str(project.file), "case", "objective payload needs at least one payload case")
+    if kind == "payload" and not any(c.kind in ("payload", "stance") for c in project.cases):
+        raise InputError(str(project.file), "case", "objective payload needs at least one payload or stance case")
     if kind == "imf" and not (project.robot.n_base == 6 and any(c.kind == "impact" for c in project.cases)):
         raise InputError(str(project.file), "objective.maximize",
                          "objective imf needs a floating base and at least one impact case")

@@ -88,8 +88,11 @@ class SizingModel:
         self.impact_evaluator = Evaluator(dataclasses.replace(project, cases=impact)) if impact else None
         # duty cases set no objective; only those with a limit take part in the search
         self.duty = tuple(c for c in project.cases if c.kind == "duty" and c.limits)
+        # stance cases (a cone program per design) are checked lazily like duty cycles; their
+        # payload joins the objective only there, so the screen's objective is an upper bound
+        self.stance = tuple(c for c in project.cases if c.kind == "stance")
         self.static_project = dataclasses.replace(
-            project, cases=tuple(c for c in project.cases if c.kind != "duty"))
+            project, cases=tuple(c for c in project.cases if c.kind not in ("duty", "stance")))
         self.static_evaluator = Evaluator(self.static_project)
         self.payload = tuple(self._payload_terms(pc) for pc in self.evaluator.cases
                              if pc.case.kind == "payload")
@@ -139,7 +142,7 @@ class SizingModel:
 
     def score_arrays(self, arrays, index: np.ndarray, *, full: bool = True) -> Scored:
         """:meth:`score` for designs given as DesignArrays (``index`` only labels them)."""
-        full = full and bool(self.duty)
+        full = full and bool(self.duty or self.stance)
         project = self.project if full else self.static_project
         ev = (self.evaluator if full else self.static_evaluator).evaluate(arrays, detail=False)
         ok = feasible(checks(project, arrays, ev), index.shape[0])
@@ -148,6 +151,8 @@ class SizingModel:
         if self.measure is not None:
             metric, case, sign = self.measure
             f = sign * np.asarray(ev[case][metric], dtype=float)
+        elif self.kind == "payload" and not any(c.kind in ("payload", "stance") for c in project.cases):
+            f = np.full(index.shape[0], np.inf)  # screen without stance cases: no payload bound yet
         else:
             f = np.asarray(objective(project, arrays, ev, self.kind), dtype=float)
         f = np.where(np.isnan(f), -np.inf, f)
@@ -160,23 +165,28 @@ class SizingModel:
         Static cases screen all rows at once; duty cases, the costly ones, are checked only for
         the leading rows until the best fully feasible one is known.
         """
-        s = self.score(index, full=not self.duty)
-        if not self.duty:
+        costly = bool(self.duty or self.stance)
+        s = self.score(index, full=not costly)
+        if not costly:
             row = self.best(s)
             return None if row is None else self.key(s, row)
         known = np.zeros(s.index.shape[0], dtype=bool)
-        ok = s.feasible.copy()
+        ok, f = s.feasible.copy(), s.objective.copy()
         order = np.lexsort(tuple(s.index.T[::-1]) + (s.reflected, s.mass, -s.objective))
         while True:
-            row = self.best(dataclasses.replace(s, feasible=ok))
+            current = dataclasses.replace(s, feasible=ok, objective=f)
+            row = self.best(current)
             if row is None:
                 return None
             if known[row]:
-                return self.key(s, row)
+                return self.key(current, row)
             todo = [row] + [r for r in order if ok[r] and not known[r] and r != row][:DUTY_CHUNK - 1]
-            verdict = self.score(s.index[todo]).feasible
+            verdict = self.score(s.index[todo])
             known[todo] = True
-            ok[todo] = verdict
+            ok[todo] = verdict.feasible
+            # the screen's objective bounds the full one from above (stance cases can only lower
+            # the worst payload), so a row that stays best once known is the true best
+            f[todo] = verdict.objective
 
     def best(self, s: Scored) -> int | None:
         """Row of the best feasible design: highest objective (ties within TIE_TOLERANCE), then
@@ -326,7 +336,7 @@ class SizingModel:
             ok &= bound >= t.minimum * (1 - 1e-9) - 1e-12
             worst = np.minimum(worst, bound)
             b_lo.append(np.where((t.a > 0), bias_lo, bias_hi))
-        if self.kind == "payload" and F.size:
+        if self.kind == "payload" and F.size and self.payload:
             worst = np.minimum(worst, self._free_bound(F, b_lo, st))
         for absa, fmax in self.backdrive:
             b = np.empty((K, n))
