@@ -446,7 +446,7 @@ VALUE_RE = r"(?m)(=\s*)([^\n#{\[]+?|\[[^\]\n]*\])(\s*(#.*)?$|\s*[,}])"
 @pytest.mark.parametrize("example", [
     "leg",
     # these draws hit the first known gap below (an efficiency model given as a list)
-    pytest.param("arm", marks=pytest.mark.xfail(strict=True, reason="efficiency model = [] raises TypeError")),
+    "arm",
     "quadruped",
 ])
 def test_any_value_replaced_by_a_hostile_one_ends_cleanly(example, examples):
@@ -484,10 +484,9 @@ def test_any_value_replaced_by_a_hostile_one_ends_cleanly(example, examples):
     check()
 
 
-# --- inputs that still end in a traceback (found by the property test above with other draws) ---
-# Strict xfails: a fix shows up as an unexpected pass, and the case then moves into BAD.
+# --- values of the wrong type where a name is expected (found by the property test above) ---
 
-KNOWN_GAPS = [
+WRONG_TYPES = [
     Bad("efficiency model given as a list", (("catalog.toml", BELT, BELT.replace('"constant"', "[]")),),
         "check", "catalog.toml", "stage[1].efficiency.model", "must be"),
     Bad("mount link given as a list", (("project.toml", 'mount_link = "thigh"', "mount_link = []"),),
@@ -495,15 +494,12 @@ KNOWN_GAPS = [
 ]
 
 
-@pytest.mark.xfail(strict=True, reason="TypeError (unhashable list) instead of an InputError")
-@pytest.mark.parametrize("bad", KNOWN_GAPS, ids=[b.id for b in KNOWN_GAPS])
-def test_known_gap_gives_one_clear_line(bad: Bad, examples, tmp_path):
-    # only the contract (exit 2, one line naming the file): the wording is the fix's choice
+@pytest.mark.parametrize("bad", WRONG_TYPES, ids=[b.id for b in WRONG_TYPES])
+def test_a_list_where_a_name_belongs_gives_one_clear_line(bad: Bad, examples, tmp_path):
     message = _one_error_line(_run_broken(bad, examples, tmp_path))
-    assert Path(message.split(": ")[0]).name == bad.file
+    _assert_names(message, bad.file, bad.field, bad.rule)
 
 
-@pytest.mark.xfail(strict=True, reason="KeyError 'imf' traceback from the search instead of an InputError")
 def test_frontier_imf_on_a_fixed_base_gives_one_clear_line(examples):
     # a fixed-base arm has no impact mitigation factor (its locked-joint inertia is unbounded,
     # REFERENCES.md); asking for the IMF frontier must say so in one line, not search and crash

@@ -70,6 +70,10 @@ class Frontier:
 
 def _case(project, measure: str, case: str | None):
     kind = MEASURES[measure][0]
+    if measure == "imf" and project.robot.n_base != 6:
+        raise InputError(str(project.file), "robot.base",
+                         "measure imf (impact mitigation factor) needs a floating base; for a "
+                         "fixed-base arm use --measure effective_mass")
     if case is None:
         for c in project.cases:
             if c.kind == kind:
@@ -81,8 +85,6 @@ def _case(project, measure: str, case: str | None):
         raise InputError("<api>", "case", f"no case named {case!r}") from None
     if c.kind != kind:
         raise InputError("<api>", "case", f"measure {measure} needs a {kind} case; {case!r} is {c.kind}")
-    if measure == "imf" and project.robot.n_base != 6:
-        raise InputError(str(project.file), "robot.base", "the IMF needs a floating base; use effective_mass")
     return c
 
 

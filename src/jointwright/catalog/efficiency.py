@@ -494,7 +494,7 @@ def efficiency_from_dict(d: dict, *, file: str, field: str):
         raise InputError(file, field, 'must be a table such as { model = "constant", '
                          f"forward = 0.9, backward = 0.85 }}, got {d!r}")
     name = d.get("model")
-    if name not in MODELS:
+    if not isinstance(name, str) or name not in MODELS:
         near = difflib.get_close_matches(str(name), MODELS, n=1)
         hint = f" (did you mean {near[0]!r}?)" if near else ""
         got = "nothing" if name is None else repr(name)

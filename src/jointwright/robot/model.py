@@ -422,11 +422,13 @@ def _resolve_mount(model, joint: str, spec: Mapping, where: str, file: str) -> M
     parent_link = model.frames[model.frames[jframe].parentFrame].name
     child_link = next(n for n, f in bodies.items() if f.parentFrame == jframe)
     side = spec.get("mount", "parent")
-    if side not in ("parent", "child"):
+    if not isinstance(side, str) or side not in ("parent", "child"):
         raise InputError(file, f"{where}.mount", f"must be 'parent' or 'child', got {side!r}")
     if "mount" in spec and "mount_link" in spec:
         raise InputError(file, f"{where}.mount_link", "give mount or mount_link, not both")
     link = spec.get("mount_link", parent_link if side == "parent" else child_link)
+    if not isinstance(link, str):
+        raise InputError(file, f"{where}.mount_link", f"must be a link name, got {link!r}")
     if link not in bodies:
         raise InputError(file, f"{where}.mount_link", f"no link named {link!r}")
     frame = bodies[link]
