@@ -64,7 +64,8 @@ def print_result(r) -> None:
     if r.diagnosis:
         rows = [[d.requirement, num(d.limit), num(d.best_achievable),
                  "—" if d.shortfall != d.shortfall else pct(-d.shortfall),
-                 "infeasible" if d.relaxed_objective is None else num(d.relaxed_objective, unit)]
+                 "infeasible / not solved" if d.relaxed_objective is None else
+                 num(d.relaxed_objective, unit) + ("" if d.relaxed_proven else " (bound, time out)")]
                 for d in r.diagnosis]
         con.print(table("Diagnosis: each requirement alone, and the optimum without it",
                         ["requirement", "limit", "best alone", "margin alone", "optimum without it"], rows,

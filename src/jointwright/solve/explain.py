@@ -13,8 +13,9 @@ from .result import Alternative, Diagnosis
 
 #: runner-up motors listed per joint
 MOTORS_SHOWN = 3
-#: seconds allowed to each re-solve of the diagnosis
+#: seconds allowed to each re-solve of the diagnosis, and to the whole diagnosis
 DIAGNOSIS_SECONDS = 20.0
+DIAGNOSIS_BUDGET = 90.0
 
 
 def binding(assessment, count: int = 3) -> tuple[str, ...]:
@@ -115,7 +116,7 @@ def relax(project, subject: str, key: str):
 
 def _alone(project, model, subject, key, limit, seconds) -> float:
     """Best value of one requirement over all options, ignoring every other requirement."""
-    from ..sizing import size
+    from ..sizing import solve_value
 
     r = model.table.rows
     if subject == "robot":
@@ -129,8 +130,10 @@ def _alone(project, model, subject, key, limit, seconds) -> float:
     if key == "payload_min":
         bare = dataclasses.replace(project, cases=(dataclasses.replace(case, limits={}),),
                                    requirements=Requirements(), objective={})
-        res = size(bare, objective="payload", time_limit=seconds, explain=False)
-        return res.bound if res.status != "optimal" else res.objective
+        if seconds <= 0:
+            return math.nan
+        res = solve_value(bare, "payload", table=model.table, time_limit=seconds)
+        return res.bound
     if key == "backdrive_force_max":
         absa = next(a for a, _f in model.backdrive)
         with np.errstate(divide="ignore"):
@@ -145,14 +148,24 @@ def _alone(project, model, subject, key, limit, seconds) -> float:
 
 
 def diagnose(project, model, kind: str, time_limit) -> tuple[Diagnosis, ...]:
-    """Per requirement: best achievable alone, shortfall, and the optimum with it dropped."""
-    from ..sizing import size
+    """Per requirement: best achievable alone, shortfall, and the optimum with it dropped.
 
-    seconds = min(DIAGNOSIS_SECONDS, time_limit or DIAGNOSIS_SECONDS)
+    Re-solves share one option table and a total budget; a re-solve that runs out of time
+    reports its proven bound (``relaxed_proven`` False), one that gets no time reports nothing.
+    """
+    import time
+
+    from ..sizing import solve_value
+
+    reqs = requirement_list(project)
+    budget_end = time.perf_counter() + min(DIAGNOSIS_BUDGET, 4 * (time_limit or DIAGNOSIS_BUDGET))
+    sense_ = -1.0 if kind == "mass" else 1.0
     sense = {"payload_min": "min", "imf_min": "min", "directional_imf_min": "min", "speed_min": "min",
              "ratio_min": "min"}
     out = []
-    for subject, key, limit in requirement_list(project):
+    for i, (subject, key, limit) in enumerate(reqs):
+        share = (budget_end - time.perf_counter()) / (2 * (len(reqs) - i))
+        seconds = min(DIAGNOSIS_SECONDS, max(share, 0.0))
         best = _alone(project, model, subject, key, limit, seconds)
         scale = abs(limit) if limit else 1.0
         if math.isnan(best):
@@ -161,11 +174,12 @@ def diagnose(project, model, kind: str, time_limit) -> tuple[Diagnosis, ...]:
             short = (limit - best) / scale
         else:
             short = (best - limit) / scale
-        relaxed = relax(project, subject, key)
-        try:
-            res = size(relaxed, objective=kind, time_limit=seconds, explain=False)
-            rel = res.objective if res.design is not None else None
-        except ValueError:
-            rel = None
-        out.append(Diagnosis(f"{subject}: {key.replace('_', ' ')}", limit, best, short, rel))
+        seconds = min(DIAGNOSIS_SECONDS, max((budget_end - time.perf_counter()) / (2 * (len(reqs) - i) - 1), 0.0))
+        rel, proven = None, False
+        if seconds > 0:
+            res = solve_value(relax(project, subject, key), kind, table=model.table, time_limit=seconds)
+            proven = res.status in ("optimal", "infeasible")
+            if res.index is not None:
+                rel = sense_ * (res.objective if proven else res.bound)
+        out.append(Diagnosis(f"{subject}: {key.replace('_', ' ')}", limit, best, short, rel, proven))
     return tuple(out)
