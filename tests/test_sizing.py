@@ -118,7 +118,5 @@ def test_continuous_ratio_range_is_gridded_then_refined(small):
         for s in a.stages:
             if s.stage.name == stage.name:
                 assert lo * (1 - 1e-12) <= s.ratio <= hi * (1 + 1e-12)
-    from jointwright.solve.refine import refine  # noqa: F401  (module documented in optimizer.md)
-
     grid = size(p, explain=False, backend="enumerate")
     assert r.objective >= grid.objective * (1 - 1e-9)

@@ -22,8 +22,7 @@ from hypothesis import strategies as st
 
 from jointwright.catalog.model import Catalog
 from jointwright.options import build_table, matches_pin
-from jointwright.problem import checks, feasible
-from jointwright.project import Case, JointLimits, Requirements, load_project
+from jointwright.project import Case, Requirements, load_project
 from jointwright.robot import Robot
 from jointwright.sizing import size
 from jointwright.solve.enumerate import enumerate_all

@@ -229,7 +229,8 @@ def finish(project, model, cands, outcome: SolveOutcome, kind, backend, start, e
     alts = alternatives(project, model, outcome.index, value) if explain else ()
     return SizingResult(
         status=status, objective_kind=kind, design=design, assessment=a, objective=sense * value,
-        bound=sense * max(outcome.bound, value), gap=relative_gap(value, max(outcome.bound, value)),
+        bound=sense * max(outcome.bound, value),
+        gap=0.0 if status == "optimal" else relative_gap(value, max(outcome.bound, value)),
         seconds=time.perf_counter() - start, backend=backend, native_status=outcome.native,
         nodes=outcome.nodes, binding=binding(a), alternatives=alts, options=options,
         message=_message(status, kind, sense * value, ()))

@@ -70,7 +70,6 @@ def alternatives(project, model, index: np.ndarray, value: float) -> tuple[Alter
             rows = [p for p in picks if p[0] == change]
             rows.sort(key=lambda p: (p[2] is None, -(p[2] or 0.0), p[1]))
             for _c, o, fo, why in rows[: MOTORS_SHOWN if change == "other motor" else len(rows)]:
-                loss = None if fo is None else sense * (value - fo) * sense
                 out.append(Alternative(name, table.actuators[o].label(), change,
                                        None if fo is None else sense * fo,
                                        None if fo is None else (value - fo), why))
