@@ -57,10 +57,12 @@ def print_result(r) -> None:
     if r.alternatives:
         rows = [[a.joint, a.change, a.actuator,
                  "—" if a.objective is None else num(a.objective, unit),
-                 "—" if a.loss is None else num(a.loss, unit), a.ruled_out_by or ""]
+                 "—" if a.loss is None else num(a.loss, unit), f"{a.mass_change:+.3f} kg", a.ruled_out_by or ""]
                 for a in r.alternatives]
         con.print(table("Runner-ups per joint (rest of the design kept)",
-                        ["joint", "change", "actuator", "objective", "loss", "ruled out by"], rows))
+                        ["joint", "change", "actuator", "objective", "loss", "Δ mass", "ruled out by"], rows,
+                        caption="loss 0: the joint does not limit the objective; the choice was made by "
+                                "the tie-break (least mass, then least back-driven reflected inertia)"))
     if r.diagnosis:
         rows = [[d.requirement, num(d.limit), num(d.best_achievable),
                  "—" if d.shortfall != d.shortfall else pct(-d.shortfall),

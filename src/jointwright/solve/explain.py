@@ -49,6 +49,7 @@ def alternatives(project, model, index: np.ndarray, value: float) -> tuple[Alter
         margins = np.stack([c.margin for c in cl]) if cl else np.zeros((0, len(table)))
         worst = margins.argmin(axis=0) if cl else np.zeros(len(table), dtype=int)
         score = np.where(ok, f, -np.inf)
+        dmass = arrays.mass.sum(axis=1) - arrays.mass.sum(axis=1)[int(index[j])]
         chosen = table.actuators[int(index[j])]
         groups = {}
         for o, a in enumerate(table.actuators):
@@ -72,7 +73,7 @@ def alternatives(project, model, index: np.ndarray, value: float) -> tuple[Alter
             for _c, o, fo, why in rows[: MOTORS_SHOWN if change == "other motor" else len(rows)]:
                 out.append(Alternative(name, table.actuators[o].label(), change,
                                        None if fo is None else sense * fo,
-                                       None if fo is None else (value - fo), why))
+                                       None if fo is None else (value - fo), why, float(dmass[o])))
     return tuple(out)
 
 

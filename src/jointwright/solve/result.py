@@ -48,6 +48,7 @@ class Alternative:
     objective: float | None  # objective of the changed design (None when it misses a requirement)
     loss: float | None  # objective loss against the chosen design
     ruled_out_by: str | None  # the requirement with the smallest margin when it misses one
+    mass_change: float = 0.0  # kg, total actuator mass of the changed design minus the chosen one
 
 
 @dataclass(frozen=True)
