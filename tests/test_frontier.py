@@ -110,3 +110,25 @@ def test_bad_measure_and_case(leg):
         frontier(leg, "imf", case="swing")
     with pytest.raises(InputError, match="points"):
         frontier(leg, "imf", points=0)
+
+
+@pytest.mark.slow
+def test_cli_frontier_json_and_out(tmp_path):
+    import json
+
+    from click.testing import CliRunner
+
+    from jointwright.cli import main
+
+    runner = CliRunner()
+    assert runner.invoke(main, ["new", str(tmp_path / "leg")]).exit_code == 0
+    out = tmp_path / "front.json"
+    r = runner.invoke(main, ["frontier", str(tmp_path / "leg" / "project.toml"), "--measure", "backdrive_force",
+                             "--points", "4", "--json", "--out", str(out)])
+    assert r.exit_code == 0, r.output
+    data = json.loads(out.read_text())
+    assert data["measure"] == "backdrive_force" and data["points"]
+    pays = [p["payload"] for p in data["points"]]
+    assert pays == sorted(pays, reverse=True)  # largest payload first
+    forces = [p["measure"] for p in data["points"]]
+    assert forces == sorted(forces, reverse=True) and len(set(forces)) == len(forces)  # strictly better
