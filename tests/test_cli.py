@@ -245,8 +245,8 @@ def test_leg_study_covers_every_budget_and_threshold():
     for _, p in _study_projects("leg"):
         touchdown = p.case("touchdown")
         pairs.add((round(p.requirements.total_mass_max, 9), touchdown.limits["imf_min"]))
-    # grid 2.6 to 3.8 kg in 4 steps: 2.6 + 0.4·k kg; IMF thresholds as listed
-    assert pairs == {(round(2.6 + 0.4 * k, 9), imf) for k in range(4) for imf in (0.1, 0.15, 0.2, 0.25, 0.3)}
+    # grid 3.4 to 4.6 kg in 4 steps: 3.4 + 0.4·k kg; IMF thresholds as listed
+    assert pairs == {(round(3.4 + 0.4 * k, 9), imf) for k in range(4) for imf in (0.05, 0.1, 0.15, 0.2, 0.25)}
 
 
 def test_arm_study_crosses_payloads_with_architectures():
