@@ -125,7 +125,7 @@ class Evaluator:
         bias = self._bias(pc, d)
         cap_m, cap_b = d.capacity("motoring"), d.capacity("backdriven")
         if pc.case.tip_speed > 0:
-            cap_m, cap_b = self._capacity_at_speed(pc, d)
+            cap_m, cap_b = self.capacity_at_speed(pc, d)
         a = pc.Jj.T @ pc.u
         # velocity_sign already points the way the case moves; flip it for the opposite motion
         along = pc.velocity_sign if pc.case.motion != "against" else -pc.velocity_sign
@@ -177,7 +177,7 @@ class Evaluator:
             out["joint_torque"] = res.joint_torques
         return out
 
-    def _capacity_at_speed(self, pc: PreparedCase, d: DesignArrays):
+    def capacity_at_speed(self, pc: PreparedCase, d: DesignArrays):
         """Drive and holding capacity with each motor at the speed the tip motion needs.
 
         The envelope is taken at the winding temperature limit (hot winding: the conservative

@@ -40,20 +40,71 @@ def print_frontier(f) -> None:
 @click.option("--time-limit", type=float, default=None, help="seconds for the whole sweep")
 @click.option("--json", "as_json", is_flag=True, help="machine-readable output")
 @click.option("--out", type=click.Path(path_type=Path), default=None, help="write the frontier as JSON here")
-def command(project: Path, measure, case_name, points, time_limit, as_json, out):
+@click.option("--plot", "plot_dir", type=click.Path(file_okay=False, path_type=Path), default=None,
+              help="write frontier.png and frontier.svg into this folder")
+@click.option("--frictionless", is_flag=True,
+              help="also sweep with every gear frictionless (η = 1 both ways), for comparison")
+def command(project: Path, measure, case_name, points, time_limit, as_json, out, plot_dir, frictionless):
     """Payload versus MEASURE over the non-dominated designs of PROJECT (exact ε-constraint sweep)."""
     from ..errors import InputError
     from ..frontier import frontier
 
     if time_limit is not None and time_limit <= 0:
         raise InputError("<command line>", "--time-limit", f"must be > 0 s, got {time_limit}")
-    f = frontier(load_project(project), measure, case=case_name, points=points, time_limit=time_limit)
+    p = load_project(project)
+    f = frontier(p, measure, case=case_name, points=points, time_limit=time_limit)
     data = f.to_dict()
+    ideal = None
+    if frictionless:
+        ideal = frontier(frictionless_project(p), measure, case=case_name, points=points,
+                         time_limit=time_limit)
+        data["frictionless"] = ideal.to_dict()
+    if plot_dir is not None:
+        write_plot(f, ideal, plot_dir)
     if out is not None:
         out.write_text(json.dumps(data, indent=2, allow_nan=False) + "\n", encoding="utf-8")
     if as_json:
         emit_json(data)
     else:
         print_frontier(f)
+        if ideal is not None:
+            con = console()
+            con.print(f"frictionless gears: {len(ideal.points)} non-dominated designs; largest payload "
+                      f"{num(ideal.points[0].payload if ideal.points else None, 'N')} against "
+                      f"{num(f.points[0].payload if f.points else None, 'N')} with the catalog's efficiencies")
         if out is not None:
             console().print(f"frontier written to {out}")
+        if plot_dir is not None:
+            console().print(f"plot written to {plot_dir}/frontier.png and .svg")
+
+
+def frictionless_project(project):
+    """The same project with every stage's efficiency model replaced by η_f = η_b = 1."""
+    import dataclasses
+
+    from ..catalog.efficiency import ConstantEfficiency
+
+    ideal = ConstantEfficiency(forward=1.0, backward=1.0)
+    stages = tuple(dataclasses.replace(s, efficiency=ideal) for s in project.catalog.stages)
+    return dataclasses.replace(project, catalog=dataclasses.replace(project.catalog, stages=stages))
+
+
+def write_plot(f, ideal, folder: Path) -> None:
+    from ..report import figures
+
+    unit = UNITS[f.measure]
+    label = {"imf": "impact mitigation factor", "effective_mass": "back-driven effective mass",
+             "backdrive_force": "back-drive force"}[f.measure]
+    series = {"catalog efficiencies": ([p.measure for p in f.points], [p.payload for p in f.points])}
+    if ideal is not None:
+        series["frictionless gears (η = 1)"] = ([p.measure for p in ideal.points],
+                                                [p.payload for p in ideal.points])
+    knee = None if f.knee is None else (f.points[f.knee].measure, f.points[f.knee].payload)
+    better = "higher is more back-drivable" if f.sense == "min" else "lower is more back-drivable"
+    fig = figures.frontier_figure(
+        series, knee, x_label=f"{label}{f' ({unit})' if unit else ''} at case {f.case}; {better}",
+        y_label="payload, worst over the payload cases (N)",
+        title=f"Payload versus {label}: non-dominated designs "
+              f"({'complete' if f.complete else 'sampled'})",
+        steps="pre" if f.sense == "min" else "post")
+    figures.save(fig, folder, "frontier")

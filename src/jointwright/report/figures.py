@@ -257,3 +257,26 @@ def series_figure(time, series, limits, *, y_label: str, title: str) -> Figure:
     _title(ax, title)
     _legend(fig, [ax], ncols=3)
     return fig
+
+
+def frontier_figure(series, knee=None, *, x_label: str, y_label: str, title: str,
+                    steps: str = "post") -> Figure:
+    """Frontiers as staircases through their points, one per label; ``knee`` (x, y) ringed.
+
+    ``series`` = {label: (xs, ys)}; the first is drawn in the main colour, the others (e.g. the
+    frictionless-transmission frontier) dashed for comparison. ``steps`` "post" when a smaller
+    x is better (each payload holds from its point to the right), "pre" when a larger x is.
+    """
+    fig, (ax,) = _figure(height=4.4)
+    for k, (label, (xs, ys)) in enumerate(series.items()):
+        xs, ys = np.asarray(xs, dtype=float), np.asarray(ys, dtype=float)
+        order = np.argsort(xs, kind="stable")
+        style = dict(color="#3b6ea5", lw=1.6, ms=5) if k == 0 else dict(color="#8a8a8a", lw=1.2, ms=4, ls="--")
+        ax.plot(xs[order], ys[order], "o-", label=label, drawstyle=f"steps-{steps}", **style)
+    if knee is not None:
+        ax.plot(*knee, "o", ms=12, mfc="none", mec="#c0703c", mew=2.0, label="knee point")
+    ax.ticklabel_format(axis="both", useOffset=False)
+    _label(ax, x_label, y_label)
+    _title(ax, title)
+    _legend(fig, [ax], ncols=3)
+    return fig

@@ -121,7 +121,7 @@ class SizingModel:
         # every joint with every option: the evaluator's own capacity formulas (tip speed included)
         arr = t.arrays(np.repeat(np.arange(O)[:, None], self.n, axis=1))
         if getattr(pc.case, "tip_speed", 0.0) > 0:
-            cap_m, cap_b = self.evaluator._capacity_at_speed(pc, arr)
+            cap_m, cap_b = self.evaluator.capacity_at_speed(pc, arr)
         else:
             cap_m, cap_b = arr.capacity("motoring"), arr.capacity("backdriven")
         along = pc.velocity_sign if pc.case.motion != "against" else -pc.velocity_sign

@@ -1,0 +1,37 @@
+"""`jointwright frontier --plot --frictionless`: the figure files exist and decode, and the
+frictionless sweep is a frontier of its own: largest payload first, each later point trading
+payload for a strictly better back-drivability measure (Pareto non-domination)."""
+
+from __future__ import annotations
+
+import json
+import shutil
+from importlib import resources
+
+import pytest
+from click.testing import CliRunner
+from PIL import Image
+
+from jointwright.cli import main
+
+
+@pytest.mark.slow
+def test_frontier_plot_and_frictionless_comparison(tmp_path):
+    with resources.as_file(resources.files("jointwright.examples") / "leg") as src:
+        shutil.copytree(src, tmp_path / "leg")
+    out = tmp_path / "frontier.json"
+    res = CliRunner().invoke(main, ["frontier", str(tmp_path / "leg" / "project.toml"), "--measure",
+                                    "imf", "--points", "2", "--plot", str(tmp_path / "fig"),
+                                    "--frictionless", "--out", str(out)])
+    assert res.exit_code == 0, res.output
+    with Image.open(tmp_path / "fig" / "frontier.png") as im:
+        im.verify()
+    assert (tmp_path / "fig" / "frontier.svg").read_text().lstrip().startswith("<?xml")
+    data = json.loads(out.read_text())
+    lossy, ideal = data["points"], data["frictionless"]["points"]
+    assert lossy and ideal
+    better = (lambda a, b: a > b) if data["sense"] == "min" else (lambda a, b: a < b)
+    for pts in (lossy, ideal):
+        for first, second in zip(pts, pts[1:]):
+            assert second["payload"] <= first["payload"]
+            assert better(second["measure"], first["measure"])
