@@ -36,7 +36,7 @@ def print_frontier(f) -> None:
 @click.argument("project", type=click.Path(path_type=Path))
 @click.option("--measure", type=click.Choice(["imf", "effective_mass", "backdrive_force"]), default="imf")
 @click.option("--case", "case_name", default=None, help="impact or back-drive case (default: the first)")
-@click.option("--points", type=int, default=50, help="most exact solves")
+@click.option("--points", type=click.IntRange(min=1), default=50, help="most exact solves")
 @click.option("--time-limit", type=float, default=None, help="seconds for the whole sweep")
 @click.option("--json", "as_json", is_flag=True, help="machine-readable output")
 @click.option("--out", type=click.Path(path_type=Path), default=None, help="write the frontier as JSON here")
