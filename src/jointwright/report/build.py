@@ -62,6 +62,8 @@ def build_report(project, design, out_dir, *, sizing: dict | None = None,
                  for c in a["checks"]}
         parts.append(hooks.runner_ups_section(sizing, units=units))
     if frontier is not None:
+        if "measure" in frontier:  # written by `jointwright frontier --out`
+            frontier = hooks.frontier_from_sweep(frontier, a)
         parts.append(hooks.frontier_section(frontier, fig_dir))
     parts += [
         plots.polytope_section(evaluator, arrays, a, fig_dir),

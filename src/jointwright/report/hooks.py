@@ -226,3 +226,32 @@ def study_section(data: dict, fig_dir: Path, file: str = "<study>") -> Section:
         body += figure(figures.save(fig, fig_dir, fname), fname, metric,
                        "One point per finished case.")
     return Section("study", f"Study {name}", body)
+
+
+_MEASURE_AXES = {"imf": ("impact mitigation factor", ""), "effective_mass": ("back-driven effective mass", "kg"),
+                 "backdrive_force": ("back-drive force", "N")}
+
+
+def frontier_from_sweep(data: dict, assessment: dict, file: str = "<frontier>") -> dict:
+    """The :func:`frontier_section` form of a ``jointwright frontier --out`` file, with the
+    reported design marked at its own (measure, worst payload)."""
+    measure, case = data.get("measure"), data.get("case")
+    if measure not in _MEASURE_AXES or not isinstance(data.get("points"), list):
+        raise InputError(file, "measure", f"must be one of {', '.join(_MEASURE_AXES)} with a points list")
+    label, unit = _MEASURE_AXES[measure]
+    points = []
+    for i, p in enumerate(data["points"]):
+        if not isinstance(p, dict) or "payload" not in p or "measure" not in p:
+            raise InputError(file, f"points[{i}]", "needs payload and measure")
+        points.append({"x": p["measure"], "y": p["payload"],
+                       "design": "; ".join(f"{j}: {a}" for j, a in p.get("actuators", {}).items()),
+                       "changes": ", ".join(p.get("changes", []))})
+    out = {"x": {"label": f"{label} at case {case}", "unit": unit},
+           "y": {"label": "payload, worst over the payload cases", "unit": "N"},
+           "points": points, "knee": data.get("knee")}
+    cases = {c["name"]: c for c in assessment.get("cases", [])}
+    payloads = [c["metrics"].get("payload") for c in cases.values() if c["kind"] in ("payload", "stance")]
+    own = cases.get(case, {}).get("metrics", {}).get(measure)
+    if payloads and all(isinstance(v, (int, float)) for v in payloads) and isinstance(own, (int, float)):
+        out["chosen"] = {"x": float(own), "y": float(min(payloads))}
+    return out
