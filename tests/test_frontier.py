@@ -132,3 +132,21 @@ def test_cli_frontier_json_and_out(tmp_path):
     assert pays == sorted(pays, reverse=True)  # largest payload first
     forces = [p["measure"] for p in data["points"]]
     assert forces == sorted(forces, reverse=True) and len(set(forces)) == len(forces)  # strictly better
+
+
+@settings(max_examples=4, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(seed=st.integers(0, 2**31 - 1), small=st.integers(1, 3))
+def test_more_sweep_points_never_lose_a_frontier_point(leg, seed, small):
+    # the sweep walks from the largest payload towards better back-drivability, each point exact:
+    # a larger point budget can only extend the list, never drop or move an earlier point
+    rng = np.random.default_rng(seed)
+    p = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng), max_stages=1, stage_kinds=None,
+                            objective={})
+    p = set_limits(p, rng, build_table(p), keep_duty=False)
+    few = frontier(p, "imf", points=2 * small)
+    many = frontier(p, "imf", points=2 * small + 6)
+    got = [(pt.payload, pt.measure) for pt in many.points]
+    for pt in few.points:
+        assert any(pt.payload == pytest.approx(a, rel=1e-9, abs=1e-9)
+                   and pt.measure == pytest.approx(b, rel=1e-6, abs=1e-9) for a, b in got)
+    assert len(many.points) >= len(few.points)
