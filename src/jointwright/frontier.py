@@ -186,7 +186,7 @@ def _solve(project, kind: str, payload_floor, time_limit, upper, backend):
         out = run_backend(model, units, backend, time_limit, None)
     if out.index is None:
         return out.status, None, None
-    return out.status, out.objective, design_of(project, model, out.index, f"{project.name} — frontier point")
+    return out.status, out.objective, design_of(project, model, out.index, "frontier point")
 
 
 def _measure(project, design, case: str, metric: str) -> float:

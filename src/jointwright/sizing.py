@@ -213,7 +213,7 @@ def finish(project, model, cands, outcome: SolveOutcome, kind, backend, start, e
                             time.perf_counter() - start, backend, outcome.native, outcome.nodes,
                             diagnosis=diag, options=options,
                             message=_message(outcome.status, kind, None, diag))
-    design = design_of(project, model, outcome.index, f"{project.name} — {kind} optimum")
+    design = design_of(project, model, outcome.index, f"{kind} optimum")
     value = float(model.score(outcome.index[None, :]).objective[0])
     if any(s.stage.ratio_range is not None for a_ in design.actuators for s in a_.stages):
         from .solve.refine import refine
