@@ -85,8 +85,11 @@ def command(project: Path, as_json: bool):
     req = s["requirements"]
     line = f"total actuator mass ≤ {num(req['total_mass_max'], 'kg')}" if math.isfinite(req["total_mass_max"]) else "no total mass budget"
     con.print("requirements: " + line)
+    joint_units = {"mass_max": "kg", "reflected_inertia_max": "kg·m²", "diameter_max": "m",
+                   "length_max": "m", "ratio_min": "", "ratio_max": ""}
     for j, lim in req["joints"].items():
-        con.print(f"  {j}: " + ", ".join(f"{k.replace('_', ' ')} {v:g}" for k, v in lim.items()))
+        con.print(f"  {j}: " + ", ".join(f"{k.replace('_', ' ')} {num(v, joint_units.get(k, ''))}"
+                                         for k, v in lim.items()))
     for n in c["notes"]:
         con.print(f"[yellow]note:[/yellow] {n}")
 
