@@ -79,7 +79,7 @@ def checks(project, arrays, evaluation) -> list[Check]:
         lim = req.joint(name)
         per = [
             ("mass_max", arrays.mass[:, j], lim.mass_max, "max", "kg"),
-            ("reflected_inertia_max", refl[:, j], lim.reflected_inertia_max, "max", "kg*m^2"),
+            ("reflected_inertia_max", refl[:, j], lim.reflected_inertia_max, "max", "kg·m²"),
             ("diameter_max", arrays.diameter[:, j], lim.diameter_max, "max", "m"),
             ("length_max", arrays.length[:, j], lim.length_max, "max", "m"),
             ("ratio_min", arrays.ratio[:, j], lim.ratio_min, "min", "-"),

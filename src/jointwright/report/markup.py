@@ -15,7 +15,7 @@ from dataclasses import dataclass
 from ..units import format_number
 
 #: unit spellings of the input files -> as shown
-_UNIT_TEXT = {"kg*m^2": "kg·m²", "N*m": "N·m", "-": "", "1": ""}
+_UNIT_TEXT = {"kg*m^2": "kg·m²", "kg·m²": "kg·m²", "N*m": "N·m", "-": "", "1": ""}
 
 
 def esc(text) -> str:
