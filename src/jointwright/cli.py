@@ -26,10 +26,10 @@ VERBS = {
 
 class _Verbs(click.Group):
     def list_commands(self, ctx):
-        return [v for v in VERBS if importlib.util.find_spec(f"jointwright.commands.{v}")]
+        return list(VERBS)
 
     def get_command(self, ctx, name):
-        if name not in VERBS or not importlib.util.find_spec(f"jointwright.commands.{name}"):
+        if name not in VERBS:
             return None
         return importlib.import_module(f"jointwright.commands.{name}").command
 
@@ -42,6 +42,11 @@ class _Verbs(click.Group):
         except KeyboardInterrupt:
             click.echo("jointwright: interrupted", err=True)
             ctx.exit(130)
+
+    def format_commands(self, ctx, formatter):
+        # the one-line help comes from VERBS, so --help imports no verb module
+        with formatter.section("Commands"):
+            formatter.write_dl(list(VERBS.items()))
 
 
 @click.group(cls=_Verbs, context_settings={"help_option_names": ["-h", "--help"]})
