@@ -60,6 +60,7 @@ class CaseResult:
     metrics: dict  # name -> float (SI)
     limiting_joint: str | None
     joint_modes: dict | None  # payload cases: joint -> motoring / back-driven / holding
+    note: str | None = None  # why a payload is 0, in words
 
 
 @dataclass(frozen=True)
@@ -140,7 +141,7 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
             v = np.asarray(v)
             if k == "limiting_joint":
                 idx = int(v.reshape(-1)[0])
-                limiting = names[idx] if idx >= 0 else None
+                limiting = evaluator.limit_joints[idx] if idx >= 0 else None
             elif k == "contact_force_z":
                 for (frame, _, _), f in zip(case.contacts, v.reshape(-1)):
                     metrics[f"normal_force:{frame}"] = float(f)
@@ -153,7 +154,8 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
                 metrics.update({f"{k}:{n}": float(x) for n, x in zip(names, v[0])})
             elif v.ndim >= 1 and v.shape[0] == 1:
                 metrics[k] = v.reshape(-1)[0].item()
-        cases.append(CaseResult(case.name, case.kind, metrics, limiting, modes))
+        note = _zero_payload_note(project, case, metrics, limiting)
+        cases.append(CaseResult(case.name, case.kind, metrics, limiting, modes, note))
     cl = checks(project, arrays, ev)
     results = tuple(
         CheckResult(c.subject, c.name, float(c.achieved[0]), c.limit, c.sense, c.unit,
@@ -181,8 +183,55 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
     )
 
 
+def _zero_payload_note(project, case, metrics: dict, limiting: str | None) -> str | None:
+    """Why a payload or stance case carries nothing, in words (None when it carries a load)."""
+    if case.kind not in ("payload", "stance") or metrics.get("payload") != 0.0:
+        return None
+    robot = project.robot
+    if limiting in robot.free:
+        return (f"free joint {limiting} would have to carry torque to hold this load at this pose; a "
+                "free joint holds none (make it held or actuated, or change the pose)")
+    if not metrics.get("self_supporting", True):
+        if case.kind == "stance" and not metrics.get("holds_with_unlimited_torque", True):
+            free = f", or a free joint ({', '.join(robot.free)}) would need torque" if robot.free else ""
+            return ("no contact forces inside the friction cones hold the robot even with unlimited "
+                    "joint torque: the centre of mass is outside the support, or a contact would have "
+                    f"to pull or slip{free}")
+        who = f": joint {limiting} runs out of torque first" if limiting else ""
+        return f"the actuators cannot hold the robot's own weight at this pose{who}"
+    if limiting:
+        return f"joint {limiting} is at its torque limit before any load is added"
+    return "the load direction cannot be resisted at this pose (the joints cannot push along it)"
+
+
 def _payload_modes(evaluator: Evaluator, case_name: str, tau: np.ndarray) -> dict:
     pc = next(p for p in evaluator.cases if p.case.name == case_name)
     sign = pc.velocity_sign
     power = np.sign(tau) * sign
     return {j: MODE_NAMES[int(p)] for j, p in zip(evaluator.robot.actuated, power)}
+
+
+def unloaded_joints(project, evaluator: Evaluator | None = None) -> tuple[str, ...]:
+    """Actuated joints that no case loads: sized against nothing but their own limits.
+
+    A payload or stance case loads joint i when the case's force reaches it
+    (|J_iᵀ·u| > 0) or the links' weight does (|g_0,i| > 0) at the case's pose; a duty cycle loads
+    every joint it moves or whose links' weight it carries. Impact and speed cases load none
+    (they set inertia and speed, not torque), nor do back-drive cases (an upper limit on breakaway). Thresholds: 1e-9 of the largest term of the case.
+    """
+    evaluator = evaluator or Evaluator(project)
+    names = project.robot.actuated
+    loaded = np.zeros(len(names), dtype=bool)
+    for pc in evaluator.cases:
+        if pc.case.kind not in ("payload", "stance"):
+            continue
+        a = np.abs(pc.Jj.T @ pc.u)
+        g = np.abs(np.asarray(pc.basis.g0)[evaluator.v_index])
+        for term in (a, g):
+            loaded |= term > 1e-9 * max(float(term.max(initial=0.0)), 1e-300)
+    for pd in evaluator.duty:  # torques of the links' motion and weight, (n_act, T)
+        peak = np.abs(np.asarray(pd.tau_links)).max(axis=-1)
+        loaded |= peak > 1e-9 * max(float(peak.max(initial=0.0)), 1e-300)
+        loaded |= np.abs(np.asarray(pd.qd)).max(axis=-1) > 0
+    return tuple(n for n, ok in zip(names, loaded, strict=True) if not ok)
+

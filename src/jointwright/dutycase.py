@@ -18,6 +18,7 @@ from dataclasses import dataclass
 import numpy as np
 import pinocchio as pin
 
+from .errors import InputError
 from .metrics.duty import duty_summary
 from .trajectory import load_trajectory
 
@@ -55,6 +56,7 @@ def prepare_duty(robot, case, file: str) -> PreparedDuty:
         return out
 
     tau0 = inverse_dynamics(base)
+    _check_free_joints(robot, case, traj)
     per_kg = np.empty((n, n, T))
     for k in range(n):
         masses[:] = 0.0
@@ -73,6 +75,31 @@ def prepare_duty(robot, case, file: str) -> PreparedDuty:
                 ext[s] += (J.T @ traj.wrench[s, f])[v]
     return PreparedDuty(case=case, trajectory=traj, tau_links=(tau0 - ext).T, tau_mass=per_kg,
                         qd=traj.qd.T.copy(), qdd=traj.qdd.T.copy())
+
+
+#: torque a free joint may need along a duty cycle before the cycle is refused, N·m or N
+FREE_TORQUE_TOLERANCE = 1e-6
+
+
+def _check_free_joints(robot, case, traj) -> None:
+    """A free joint carries no torque: a cycle whose link-only inverse dynamics needs torque there
+    is not a motion the robot can make (the trajectory moves the actuated joints only)."""
+    if not robot.free:
+        return
+    model, v = robot.model, np.asarray(robot.v_index)
+    data = model.createData()
+    idx = [robot.joint_v_index[robot.joint_names.index(j)] for j in robot.free]
+    peak = np.zeros(len(idx))
+    for s in range(traj.t.size):
+        q = robot.configuration(dict(zip(robot.actuated, traj.q[s])), case.base_xyz, case.base_rpy)
+        qd, qdd = np.zeros(model.nv), np.zeros(model.nv)
+        qd[v], qdd[v] = traj.qd[s], traj.qdd[s]
+        peak = np.maximum(peak, np.abs(pin.rnea(model, data, q, qd, qdd)[idx]))
+    worst = int(np.argmax(peak))
+    if peak[worst] > FREE_TORQUE_TOLERANCE:
+        raise InputError(str(case.trajectory), f"free joint {robot.free[worst]}",
+                         f"the cycle needs up to {peak[worst]:.4g} N·m (or N) there, but a free "
+                         "joint carries none: make it held or actuated, or give a motion it can follow")
 
 
 def joint_torques(pd: PreparedDuty, masses: np.ndarray) -> np.ndarray:

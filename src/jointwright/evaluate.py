@@ -15,6 +15,13 @@ factor exists. Power-flow modes per case:
 * backdrive: unpowered robot, joint-side breakaway torques, gravity held.
 * speed: joint speed limit = motor maximum speed / N.
 * duty: per sample, from the sign of τ_j·q̇ along the trajectory (:mod:`jointwright.dutycase`).
+
+Joints that are not actuated (docs/robot-format.md): a *held* joint never moves and its torque
+goes to the structure — it sets no payload limit, joins the locked set of an impact and never
+yields to a back-drive push; a *free* joint carries no torque — a payload or stance case must
+leave it unloaded (else the robot cannot hold the load: payload 0 with that joint limiting), it
+moves freely in an impact (no reflected inertia) and yields to any back-drive push. Speed and
+duty cycles move the actuated joints only; held and free joints stay at their pose position.
 """
 
 from __future__ import annotations
@@ -34,6 +41,8 @@ from .robot.basis import gravity, mass_matrix, pose_basis
 
 #: joint velocity components below this fraction of the largest count as zero (holding)
 VELOCITY_TOLERANCE = 1e-9
+#: a free joint's gravity torque at or below this is rounding, taken as 0 (N·m or N)
+FREE_JOINT_TOLERANCE = 1e-9
 
 
 @dataclass(frozen=True, eq=False)
@@ -63,6 +72,14 @@ class Evaluator:
         self.robot = robot
         self.floating = robot.n_base == 6
         self.v_index = np.asarray(robot.v_index)
+        # joints not actuated: held ones take any torque (structure, brake) and never move;
+        # free ones take none and move
+        self.free_index = np.array([robot.joint_v_index[robot.joint_names.index(j)]
+                                    for j in robot.free], dtype=int)
+        self.held_index = np.array([robot.joint_v_index[robot.joint_names.index(j)]
+                                    for j in robot.held], dtype=int)
+        #: joints a limiting-joint index of a payload or back-drive result refers to
+        self.limit_joints = tuple(robot.actuated) + tuple(robot.free)
         self.cases = tuple(self._prepare(c) for c in project.cases if c.kind != "duty")
         self.duty = tuple(prepare_duty(robot, c, str(project.file)) for c in project.cases
                           if c.kind == "duty")
@@ -130,22 +147,41 @@ class Evaluator:
         # velocity_sign already points the way the case moves; flip it for the opposite motion
         along = pc.velocity_sign if pc.case.motion != "against" else -pc.velocity_sign
         own = {"along": "raise", "against": "lower", "hold": "hold"}[pc.case.motion]
+        Jx, bias_x = self._with_free(pc, d, pc.Jj, bias)
         results = {}
         for label, s in (("raise", along), ("lower", -along), ("hold", np.zeros_like(along))):
             if detail or label == own:
                 lo, hi = torque_bounds(np.broadcast_to(s, bias.shape), cap_m, cap_b)
-                results[label] = payload_along(pc.Jj, bias, lo, hi, pc.u)
+                lo, hi = self._free_bounds(lo, hi)
+                results[label] = payload_along(Jx, bias_x, lo, hi, pc.u)
         main = results[own]
         out = {"payload": main.force, "limiting_joint": main.limiting_joint,
                "self_supporting": main.feasible}
         if detail:
             cap_0 = d.capacity("frictionless")
-            out["payload_frictionless"] = payload_along(pc.Jj, bias, -cap_0, cap_0, pc.u).force
+            lo0, hi0 = self._free_bounds(-cap_0, cap_0)
+            out["payload_frictionless"] = payload_along(Jx, bias_x, lo0, hi0, pc.u).force
             for label in ("raise", "lower", "hold"):
                 out[f"payload_{label}"] = results[label].force
             force = np.where(np.isfinite(main.force), main.force, 0.0)
             out["joint_torque"] = bias + force[..., None] * a
         return out
+
+    def _with_free(self, pc: PreparedCase, d: DesignArrays, Jj: np.ndarray, bias: np.ndarray):
+        """Tip Jacobian columns and bias torques of the actuated joints, then the free ones."""
+        if not self.free_index.size:
+            return Jj, bias
+        g_free = gravity(pc.basis, d.mass)[..., self.free_index]
+        g_free = np.where(np.abs(g_free) <= FREE_JOINT_TOLERANCE, 0.0, g_free)  # rounding only
+        return (np.concatenate([Jj, pc.J[:, self.free_index]], axis=1),
+                np.concatenate([bias, g_free], axis=-1))
+
+    def _free_bounds(self, lo: np.ndarray, hi: np.ndarray):
+        """Torque bounds with the free joints appended: a free joint carries no torque."""
+        if not self.free_index.size:
+            return lo, hi
+        zeros = np.zeros(lo.shape[:-1] + (self.free_index.size,))
+        return np.concatenate([lo, zeros], axis=-1), np.concatenate([hi, zeros], axis=-1)
 
     def _stance(self, pc: PreparedCase, d: DesignArrays, detail: bool = True) -> dict[str, np.ndarray]:
         """Robot-level payload on several contacts (second-order cone program per design).
@@ -158,23 +194,38 @@ class Evaluator:
         g = gravity(pc.basis, d.mass)
         lo, hi = torque_bounds(np.broadcast_to(pc.velocity_sign, d.mass.shape),
                                d.capacity("motoring"), d.capacity("backdriven"))
+        n = lo.shape[-1]
+        rows = self.v_index
+        if self.held_index.size:  # held joints: rows with any torque (the structure takes it)
+            rows = np.concatenate([rows, self.held_index])
+            inf = np.full(lo.shape[:-1] + (self.held_index.size,), np.inf)
+            lo, hi = np.concatenate([lo, -inf], axis=-1), np.concatenate([hi, inf], axis=-1)
         frames = pc.case.contacts
         res = solve_batch(
-            actuated=self.v_index, gravity=g, contact_jacobians=pc.contact_J,
+            actuated=rows, gravity=g, contact_jacobians=pc.contact_J,
             normals=np.array([c[2] for c in frames]), friction=np.array([c[1] for c in frames]),
             payload_jacobian=pc.J, payload_wrench=-pc.u, tau_low=lo, tau_high=hi,
         )
+        lo, hi = lo[..., :n], hi[..., :n]
         ok = res.status == "optimal"
         payload = np.where(ok, np.nan_to_num(res.payload, nan=0.0), 0.0)
         payload = np.where(res.status == "unbounded", np.inf, payload)
         span = np.where(np.isfinite(hi - lo), hi - lo, 1.0)
-        tight = np.where(res.torque_at_high | res.torque_at_low, 1.0, 0.0)
+        tight = np.where(res.torque_at_high[..., :n] | res.torque_at_low[..., :n], 1.0, 0.0)
         limiting = np.where(tight.any(axis=-1), np.argmax(tight / span, axis=-1), -1)
         out = {"payload": payload, "limiting_joint": limiting, "self_supporting": ok}
         if detail:
+            if not np.all(ok):  # why not: is it the joints, or the contacts and balance?
+                inf = np.full(lo.shape[:-1] + (rows.size,), np.inf)
+                rigid = solve_batch(
+                    actuated=rows, gravity=g, contact_jacobians=pc.contact_J,
+                    normals=np.array([c[2] for c in frames]),
+                    friction=np.array([c[1] for c in frames]),
+                    payload_jacobian=pc.J, payload_wrench=-pc.u, tau_low=-inf, tau_high=inf)
+                out["holds_with_unlimited_torque"] = rigid.status != "infeasible"
             out["contact_force_z"] = res.contact_forces[..., 2]
             out["slipping_contacts"] = res.cone_binding.sum(axis=-1)
-            out["joint_torque"] = res.joint_torques
+            out["joint_torque"] = res.joint_torques[..., :n]
         return out
 
     def capacity_at_speed(self, pc: PreparedCase, d: DesignArrays):
@@ -198,17 +249,22 @@ class Evaluator:
 
     def _impact(self, pc: PreparedCase, d: DesignArrays, detail: bool = True) -> dict[str, np.ndarray]:
         out = {}
-        locked = d.self_locking
+        nv = self.robot.nv
+        # locked in an impact: held joints always, self-locking transmissions back-driven
+        structure = np.zeros(d.self_locking.shape[:-1] + (nv,), dtype=bool)
+        structure[..., self.held_index] = True
+        locked = structure.copy()
+        locked[..., self.v_index] = d.self_locking
         for mode in ("frictionless", "motoring", "backdriven") if detail else ("backdriven",):
             refl = d.reflected_inertia(mode)
             refl = np.where(np.isfinite(refl), refl, 0.0)
             H = mass_matrix(pc.basis, d.mass, refl, rotor_inertia=d.rotor_inertia, ratio=d.ratio,
                             coupling=self.project.rotor_coupling)
-            lock = locked if mode == "backdriven" else np.zeros_like(locked)
+            lock = locked if mode == "backdriven" else structure
             suffix = "" if mode == "backdriven" else f"_{mode}"
             if self.floating:
                 J = np.broadcast_to(pc.J, H.shape[:-2] + pc.J.shape)
-                imf = impact_mitigation(H, J, 6, lock, direction=pc.u)
+                imf = impact_mitigation(H, J, 6, lock[..., 6:], direction=pc.u)
                 out["imf" + suffix] = imf.imf
                 out["imf_restricted" + suffix] = imf.imf_restricted
                 out["imf_direction" + suffix] = imf.imf_direction
@@ -220,7 +276,13 @@ class Evaluator:
         return out
 
     def _backdrive(self, pc: PreparedCase, d: DesignArrays) -> dict[str, np.ndarray]:
-        r = backdrive_force(pc.Jj, d.breakaway_torque, pc.u)
+        # free joints start moving under any torque; held ones never do
+        Jx, breakaway = pc.Jj, d.breakaway_torque
+        if self.free_index.size:
+            Jx = np.concatenate([pc.Jj, pc.J[:, self.free_index]], axis=1)
+            breakaway = np.concatenate([breakaway, np.zeros(
+                breakaway.shape[:-1] + (self.free_index.size,))], axis=-1)
+        r = backdrive_force(Jx, breakaway, pc.u)
         return {"backdrive_force": r.force, "limiting_joint": r.limiting_joint}
 
     def _speed(self, pc: PreparedCase, d: DesignArrays) -> dict[str, np.ndarray]:

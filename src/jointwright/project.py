@@ -122,6 +122,10 @@ class Project:
         raise KeyError(name)
 
 
+#: ambient temperatures the copper-resistance and thermal models cover, °C
+AMBIENT_RANGE = (-100.0, 200.0)
+
+
 def load_project(path: str | Path) -> Project:
     """Read and validate a project file; every error is one InputError naming file and field."""
     path = Path(path)
@@ -175,11 +179,12 @@ def _load_robot(t: Table, base_dir: Path):
 
     if t.has("urdf"):
         urdf = base_dir / t.str("urdf")
-        base = t.str("base", "fixed", choices=("fixed", "floating"))
+        base = t.str("base", None, choices=("fixed", "floating"))
         actuated = t.list("actuated", None)
         mounts = t.raw("mounts", None)
         robot = Robot.from_urdf(
-            urdf, floating=(base == "floating"), actuated=actuated, mounts=mounts,
+            urdf, floating=None if base is None else (base == "floating"), actuated=actuated,
+            mounts=mounts, unactuated=t.raw("unactuated", None), included=t.raw("included", None),
             frames=t.list("frames", None), gravity=t.list("gravity", None), file=t.file,
             prefix=t.path,
         )
@@ -235,12 +240,33 @@ def _load_requirements(t: Table, robot) -> Requirements:
 
 
 def _read_pose(pt: Table, robot) -> dict[str, float]:
+    """Joint positions of a pose: every actuated joint, optionally the others (docs/project-format.md).
+
+    A plain number is radians (metres for a prismatic joint); a revolute joint's plain number
+    beyond ±2π is refused as a likely angle in degrees. Positions must lie within the joint's
+    limits. Joints not given take :meth:`Robot.rest_position`.
+    """
     pose = {}
     for jn in list(pt.data):
-        if jn not in robot.actuated:
-            raise InputError(pt.file, pt.field(jn), f"unknown joint {jn!r}; actuated joints are "
-                             f"{', '.join(robot.actuated)}")
-        pose[jn] = pt.quantity(jn, "angle")
+        if jn not in robot.joint_names:
+            mimic = {f: lead for f, lead, *_ in robot.mimic}
+            if jn in mimic:
+                raise InputError(pt.file, pt.field(jn), f"{jn!r} is a mimic joint: it follows "
+                                 f"{mimic[jn]!r}; give the leader's position")
+            raise InputError(pt.file, pt.field(jn), f"unknown joint {jn!r}; the robot's joints are "
+                             f"{', '.join(robot.joint_names)}")
+        revolute = robot.revolute[robot.joint_names.index(jn)]
+        raw = pt.raw(jn)
+        value = pt.quantity(jn, "angle" if revolute else "length")
+        if revolute and not isinstance(raw, str) and abs(value) > 2 * math.pi:
+            raise InputError(pt.file, pt.field(jn), f"a plain number is radians and {raw!r} rad is "
+                             "more than a full turn; write the unit, e.g. \"90 deg\"")
+        lo, hi = robot.position_limits(jn)
+        if not lo - 1e-9 <= value <= hi + 1e-9:
+            unit = "rad" if revolute else "m"
+            raise InputError(pt.file, pt.field(jn), f"{value:.6g} {unit} is outside the joint's "
+                             f"limits [{lo:.6g}, {hi:.6g}] {unit} (from {robot.file})")
+        pose[jn] = value
     missing = [j for j in robot.actuated if j not in pose]
     if missing:
         raise InputError(pt.file, pt.field(missing[0]), "is required (every actuated joint needs a position)")
@@ -301,10 +327,11 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
     direction = None
     if kind in ("payload", "stance", "impact", "backdrive", "speed"):
         d = np.asarray(t.vector("direction", 3))
-        norm = float(np.linalg.norm(d))
-        if norm == 0:
+        scale = float(np.abs(d).max())
+        if scale == 0:
             raise InputError(t.file, t.field("direction"), "must not be the zero vector")
-        direction = tuple(float(x) for x in d / norm)
+        d = d / scale  # scaled first: huge components must not overflow the norm
+        direction = tuple(float(x) for x in d / np.linalg.norm(d))
     motion = t.str("motion", "along", choices=MOTIONS) if kind in ("payload", "stance") else "along"
     contacts = _load_contacts(t, robot) if kind == "stance" else ()
     trajectory = None
@@ -313,6 +340,10 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
         if not trajectory.is_file():
             raise InputError(t.file, t.field("trajectory"), f"file not found: {trajectory}")
     ambient = t.quantity("ambient", "temperature", 25.0)
+    if not AMBIENT_RANGE[0] <= ambient <= AMBIENT_RANGE[1]:
+        raise InputError(t.file, t.field("ambient"), f"must be from {AMBIENT_RANGE[0]:g} to "
+                         f"{AMBIENT_RANGE[1]:g} degC (the range of the winding resistance and "
+                         f"thermal models), got {ambient:g} degC")
     tip_speed = t.quantity("tip_speed", "velocity", 0.0, sign="nonnegative") if kind == "payload" else 0.0
     if tip_speed > 0 and motion == "hold":
         raise InputError(t.file, t.field("tip_speed"), "a payload held still has no tip speed; use motion = along or against")

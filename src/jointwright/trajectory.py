@@ -127,6 +127,10 @@ def _read_rows(path: Path, file: str) -> list[tuple[int, list[str]]]:
     ]
 
 
+#: largest magnitude a cell may hold, in its column's unit
+MAX_MAGNITUDE = 1e9
+
+
 def _numbers(rows, header, file) -> np.ndarray:
     data = np.empty((len(rows), len(header)))
     for i, (line, row) in enumerate(rows, start=1):
@@ -141,6 +145,9 @@ def _numbers(rows, header, file) -> np.ndarray:
                 raise InputError(file, field, f"must be a number, got {cell!r}") from None
             if not math.isfinite(value):
                 raise InputError(file, field, f"must be finite, got {cell!r}")
+            if abs(value) > MAX_MAGNITUDE:
+                raise InputError(file, field, f"must be within ±{MAX_MAGNITUDE:g} in the column's "
+                                 f"unit, got {cell!r} (no robot quantity; the cycle's sums would overflow)")
             data[i - 1, j] = value
     return data
 

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 import math
+import os
 import sys
 
 from rich.console import Console
@@ -14,10 +15,24 @@ from ..units import format_number
 _console = None
 
 
+#: table width when the output is not a terminal and COLUMNS is not set
+DEFAULT_WIDTH = 100
+
+
+def terminal_width() -> int:
+    """Columns to fit: ``COLUMNS`` when set, the terminal's width, else :data:`DEFAULT_WIDTH`."""
+    env = os.environ.get("COLUMNS", "")
+    if env.strip().isdigit() and int(env) >= 40:
+        return int(env)
+    if sys.stdout.isatty():
+        return Console().width
+    return DEFAULT_WIDTH
+
+
 def console() -> Console:
     global _console
     if _console is None:
-        _console = Console(highlight=False, soft_wrap=False, width=max(Console().width, 150))
+        _console = Console(highlight=False, soft_wrap=False, width=terminal_width())
     return _console
 
 

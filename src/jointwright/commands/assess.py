@@ -71,7 +71,9 @@ def print_assessment(a) -> None:
             drows = [[label] + [num(c.metrics.get(f"{key}:{j}"), unit) for j in joints]
                      for key, label, unit in DUTY_JOINT]
             rows += [["limiting quantity", str(c.metrics.get("limiting_quantity", "—"))]]
-        if c.limiting_joint:
+        if c.note:
+            extra.append(f"[red]carries nothing:[/red] {c.note}")
+        elif c.limiting_joint:
             extra.append(f"limited by {c.limiting_joint}")
         if c.joint_modes:
             extra.append("modes: " + ", ".join(f"{j} {m}" for j, m in c.joint_modes.items()))

@@ -11,7 +11,9 @@ from ..project import load_project
 from ._format import console, emit_json, num, table
 
 
-def project_summary(p) -> dict:
+def project_summary(p, evaluator=None) -> dict:
+    from ..assessment import unloaded_joints
+
     robot, cat = p.robot, p.catalog
     motors = cat.all_motors()
     stages = [s for s in cat.stages if p.stage_kinds is None or s.kind in p.stage_kinds]
@@ -22,7 +24,16 @@ def project_summary(p) -> dict:
             "base": robot.base,
             "actuated": list(robot.actuated),
             "link_mass": robot.link_mass_total,
-            "mounts": {m.joint: {"link": m.link, "xyz": [float(x) for x in m.xyz]} for m in robot.mounts},
+            "included_actuator_mass": float(sum(robot.included_mass)),
+            "mounts": {m.joint: {"link": m.link, "xyz": [float(x) for x in m.xyz],
+                                 "included_mass": float(inc)}
+                       for m, inc in zip(robot.mounts, robot.included_mass, strict=True)},
+            "joints": {j: {"role": robot.role(j), "kind": "revolute" if rev else "prismatic",
+                           **robot.joint_limits(j)}
+                       for j, rev in zip(robot.joint_names, robot.revolute, strict=True)},
+            "mimic": {f: {"leader": lead, "multiplier": k, "offset": o}
+                      for f, lead, k, o in robot.mimic},
+            "unloaded": list(unloaded_joints(p, evaluator)),
         },
         "catalog": {
             "motors": len(motors),
@@ -54,19 +65,35 @@ def project_summary(p) -> dict:
 @click.option("--json", "as_json", is_flag=True, help="machine-readable output")
 def command(project: Path, as_json: bool):
     """Validate PROJECT (robot, catalogs, cases, requirements) and summarize it."""
+    from ..evaluate import Evaluator
+
     p = load_project(project)
-    s = project_summary(p)
+    # the same preparation assess and size make (poses, trajectories), so check rejects what they would
+    evaluator = Evaluator(p)
+    s = project_summary(p, evaluator)
     if as_json:
         emit_json(_finite(s))
         return
     con = console()
-    con.print(f"[bold]{p.name}[/bold]  ({p.file})  — inputs are valid")
+    con.print(f"[bold]{p.name}[/bold] — inputs are valid")
+    con.print(f"file: {p.file}")
     if p.summary:
         con.print(p.summary)
     r = s["robot"]
-    con.print(f"robot: {r['base']} base, {len(r['actuated'])} actuated joints, links {num(r['link_mass'], 'kg')}")
-    con.print(table("Actuator mounts", ["joint", "mass sits on", "at (m, link frame)"],
-                    [[j, m["link"], ", ".join(f"{x:g}" for x in m["xyz"])] for j, m in r["mounts"].items()]))
+    included = r["included_actuator_mass"]
+    con.print(f"robot: {r['base']} base, {len(r['actuated'])} actuated joints, links "
+              f"{num(r['link_mass'], 'kg')}" + (f" (after taking out {num(included, 'kg')} of actuators "
+                                                "already in the link masses)" if included > 0 else ""))
+    con.print(table("Joints", ["joint", "role", "lower", "upper", "effort", "velocity"],
+                    [_joint_row(j, x) for j, x in r["joints"].items()]
+                    + [[f, f"follows {m['leader']} (×{m['multiplier']:g}, {m['offset']:+g})", "", "", "", ""]
+                       for f, m in r["mimic"].items()],
+                    caption="held: not actuated, locked by structure or brake; free: not actuated, "
+                            "moves without torque; limits from the robot file (— where none)"))
+    con.print(table("Actuator mounts", ["joint", "mass sits on", "at (m, link frame)", "already in link masses"],
+                    [[j, m["link"], ", ".join(f"{x:g}" for x in m["xyz"]),
+                      num(m["included_mass"], "kg") if m["included_mass"] > 0 else "none"]
+                     for j, m in r["mounts"].items()]))
     c = s["catalog"]
     con.print(table(f"Catalog: {c['motors']} motors, up to {c['max_stages']} stages per joint",
                     ["stage type", "kind", "frames", "ratios", "efficiency model"],
@@ -92,6 +119,17 @@ def command(project: Path, as_json: bool):
                                          for k, v in lim.items()))
     for n in c["notes"]:
         con.print(f"[yellow]note:[/yellow] {n}")
+    for j in r["unloaded"]:
+        con.print(f"[yellow]warning:[/yellow] no case loads joint {j}: sizing would give it the "
+                  "smallest actuator that meets its own limits; add a case that loads it (a payload, "
+                  "stance or duty case) or a joint requirement")
+
+
+def _joint_row(name: str, x: dict) -> list[str]:
+    ang = x["kind"] == "revolute"
+    pos, eff, vel = ("rad", "N·m", "rad/s") if ang else ("m", "N", "m/s")
+    return [name, x["role"], num(x["lower"], pos), num(x["upper"], pos), num(x["effort"], eff),
+            num(x["velocity"], vel)]
 
 
 def _finite(x):

@@ -96,11 +96,18 @@ def command(project: Path, objective, backend, time_limit, out, as_json):
         progress.stop()
     if out is not None and r.design is not None:
         out.write_text(design_to_toml(r.design) + "\n", encoding="utf-8")
+    from ..assessment import unloaded_joints
+
+    unloaded = unloaded_joints(p)
     if as_json:
-        emit_json(r.to_dict())
+        emit_json({**r.to_dict(), "unloaded_joints": list(unloaded)})
     else:
         print_result(r)
+        for j in unloaded:
+            console().print(f"[yellow]note:[/yellow] no case loads joint {j}: its choice is the "
+                            "smallest actuator that meets its own limits, not a sized one")
         if out is not None:
             console().print(f"design written to {out}" if r.design is not None else "no design to write")
-    if r.status in ("infeasible", "error"):
+    if r.status in ("infeasible", "error") or r.design is None:
+        # no design that meets every requirement: the diagnosis above says why; never exit 0
         raise SystemExit(1)

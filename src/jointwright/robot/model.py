@@ -26,14 +26,16 @@ import numpy as np
 import pinocchio as pin
 
 from ..errors import InputError
-from ..units import positive, quantity
+from ..units import nonnegative, positive, quantity
+from .urdf import read_urdf
 
 #: gravity used when a file gives none (m/s², world frame)
 DEFAULT_GRAVITY = (0.0, 0.0, -9.81)
 #: name Pinocchio gives the free-flyer joint of a floating base
 BASE_JOINT = "root_joint"
 
-_ROBOT_KEYS = ("name", "base", "gravity", "links", "joints", "frames", "actuated")
+_ROBOT_KEYS = ("name", "base", "gravity", "links", "joints", "frames", "actuated", "unactuated",
+               "included")
 _LINK_KEYS = ("name", "mass", "com", "inertia", "shape", "length", "along", "size")
 _JOINT_KEYS = ("name", "type", "parent", "child", "xyz", "rpy", "axis", "lower", "upper")
 _MOUNT_KEYS = ("mount", "mount_link", "mount_xyz")
@@ -102,6 +104,17 @@ class Robot:
     frame_names : tuple of str
         Points a case may name: the named frames (tool and foot points) first, then every link
         (its frame origin).
+    held : tuple of str
+        1-dof joints that are not actuated and do not move: locked by structure or a brake, their
+        torque taken by the structure (the default role of a joint left out of ``actuated``).
+    free : tuple of str
+        1-dof joints that are not actuated and move without torque (sliders, passive hinges).
+    included_mass : tuple of float
+        Per actuated joint, the actuator mass (kg) that the link masses already held and that was
+        taken out of ``model`` at the mount (0 for none).
+    mimic : tuple of (follower, leader, multiplier, offset)
+        URDF ``<mimic>`` joints: they follow their leader (q_f = multiplier·q_l + offset) and have
+        no degree of freedom of their own.
     """
 
     model: Any = field(repr=False)
@@ -113,6 +126,10 @@ class Robot:
     revolute: tuple[bool, ...] = field(repr=False)
     link_names: tuple[str, ...]
     frame_names: tuple[str, ...]
+    held: tuple[str, ...] = ()
+    free: tuple[str, ...] = ()
+    included_mass: tuple[float, ...] = ()
+    mimic: tuple[tuple[str, str, float, float], ...] = ()
 
     # ------------------------------------------------------------------ construction
     @classmethod
@@ -120,9 +137,11 @@ class Robot:
         cls,
         path: str,
         *,
-        floating: bool,
+        floating: bool | None = None,
         actuated: Sequence[str] | None = None,
         mounts: Mapping[str, Any] | None = None,
+        unactuated: Mapping[str, Any] | None = None,
+        included: Mapping[str, Any] | None = None,
         frames: Sequence[Mapping[str, Any]] | None = None,
         gravity: Sequence[Any] | None = None,
         file_for_messages: str | None = None,
@@ -135,10 +154,18 @@ class Robot:
         ----------
         path : str
             URDF file.
-        floating : bool
-            Give the root link a free-flyer joint (legged robots, mobile bases).
+        floating : bool, optional
+            Give the root link a free-flyer joint (legged robots, mobile bases). Default: floating
+            when the URDF declares its own floating joint (which is then replaced by ours), else
+            fixed.
         actuated : list of str, optional
             Actuated joints in design order; default every 1-dof joint in model order.
+        unactuated : dict, optional
+            Joint name -> ``"held"`` (locked by structure or a brake) or ``"free"`` (moves without
+            torque) for 1-dof joints not in ``actuated``; default ``"held"``.
+        included : dict, optional
+            Actuated joint -> actuator mass already inside the link masses (a quantity, or
+            ``"none"``); it is taken out at the joint's mount so the sized actuator replaces it.
         mounts : dict, optional
             Joint name -> ``"parent"``, ``"child"`` or a table with keys ``mount``,
             ``mount_link``, ``mount_xyz`` (docs/robot-format.md). Default: on the parent link at
@@ -156,26 +183,29 @@ class Robot:
         """
         urdf = str(path)
         file = str(file_for_messages or file or urdf)
-        try:
-            with open(path, encoding="utf-8") as fh:
-                text = fh.read()
-        except OSError as exc:
-            raise InputError(urdf, "urdf", f"cannot read the file ({exc.strerror})") from None
-        _check_urdf_text(text, urdf)
+        at = f"{prefix}." if prefix else ""
+        prepared = read_urdf(urdf)
+        if prepared.floating_joint is not None:
+            if floating is False:
+                raise InputError(file, f"{at}base", f"is 'fixed', but {urdf} declares the floating "
+                                 f"joint {prepared.floating_joint!r}: write base = \"floating\" or "
+                                 "leave base out")
+            floating = True
         try:
             if floating:
-                model = pin.buildModelFromXML(text, pin.JointModelFreeFlyer())
+                model = pin.buildModelFromXML(prepared.text, pin.JointModelFreeFlyer(), mimic=True)
             else:
-                model = pin.buildModelFromXML(text)
+                model = pin.buildModelFromXML(prepared.text, mimic=True)
         except (ValueError, RuntimeError) as exc:
             raise InputError(urdf, "urdf", f"not a valid URDF model ({exc})") from None
-        at = f"{prefix}." if prefix else ""
         g = DEFAULT_GRAVITY if gravity is None else gravity
         model.gravity.linear = _vec3(g, "acceleration", file, f"{at}gravity")
         _add_frames(model, frames or (), file, f"{at}frames")
         specs = {} if mounts is None else _mount_specs(mounts, file, f"{at}mounts")
         base = "floating" if floating else "fixed"
-        robot = cls._finish(model, file, base, actuated, specs, f"{at}actuated")
+        robot = cls._finish(model, file, base, actuated, specs, f"{at}actuated",
+                            unactuated=unactuated, included=included, prefix=prefix,
+                            mimic=prepared.mimic)
         return dataclasses.replace(robot, file=urdf)
 
     @classmethod
@@ -193,23 +223,36 @@ class Robot:
             Dotted path of ``table`` inside the file, for messages.
         """
         model, base, specs = _build_from_table(table, file, prefix)
-        return cls._finish(model, file, base, table.get("actuated"), specs, f"{prefix}.actuated")
+        return cls._finish(model, file, base, table.get("actuated"), specs, f"{prefix}.actuated",
+                           unactuated=table.get("unactuated"), included=table.get("included"),
+                           prefix=prefix)
 
     @classmethod
-    def _finish(cls, model, file, base, actuated, specs, act_field) -> Robot:
+    def _finish(cls, model, file, base, actuated, specs, act_field, *, unactuated=None,
+                included=None, prefix="robot", mimic=None) -> Robot:
         one_dof = [j for j in range(1, model.njoints) if model.joints[j].nv == 1]
         joint_names = tuple(model.names[j] for j in one_dof)
+        mimic = dict(mimic or {})
+        _check_not_followers(actuated, mimic, file, act_field)
         act = _actuated_list(actuated, joint_names, model, file, act_field)
         for name, (_, where) in specs.items():
             if name not in joint_names:
                 raise InputError(file, where, f"no 1-dof joint named {name!r} in the robot")
             if name not in act:
                 raise InputError(file, where, f"joint {name!r} is not actuated: no mount needed")
+        at = f"{prefix}." if prefix else ""
+        roles = _roles(unactuated, joint_names, act, mimic, file, f"{at}unactuated")
         mounts = tuple(_resolve_mount(model, j, *specs.get(j, ({}, j)), file) for j in act)
+        inc = _included_masses(included, act, file, f"{at}included")
+        _remove_included(model, mounts, inc, file, f"{at}included")
         links = tuple(f.name for f in model.frames if f.type == pin.FrameType.BODY)
         named = tuple(f.name for f in model.frames if f.type == pin.FrameType.OP_FRAME)
         revolute = tuple(_is_revolute(model, j) for j in one_dof)
-        return cls(model, file, base, act, mounts, joint_names, revolute, links, named + links)
+        held = tuple(j for j in joint_names if roles.get(j) == "held")
+        free = tuple(j for j in joint_names if roles.get(j) == "free")
+        return cls(model, file, base, act, mounts, joint_names, revolute, links, named + links,
+                   held=held, free=free, included_mass=inc,
+                   mimic=tuple((f, *v) for f, v in mimic.items()))
 
     # ------------------------------------------------------------------ sizes and names
     @property
@@ -256,6 +299,36 @@ class Robot:
         hi = float(self.model.upperPositionLimit[jm.idx_q])
         return (-math.inf if lo <= -_BIG else lo, math.inf if hi >= _BIG else hi)
 
+    def rest_position(self, joint: str) -> float:
+        """Position a pose gives a joint it does not list: 0 when inside the joint's limits, else
+        the middle of its limits (rad or m)."""
+        lo, hi = self.position_limits(joint)
+        if lo <= 0.0 <= hi:
+            return 0.0
+        return 0.5 * (lo + hi) if math.isfinite(lo) and math.isfinite(hi) else (lo if lo > 0 else hi)
+
+    def joint_limits(self, joint: str) -> dict[str, float]:
+        """Limits a URDF gives a 1-dof joint: ``lower``, ``upper`` (rad or m), ``effort``
+        (N·m or N), ``velocity`` (rad/s or m/s); ±inf (or inf) where none is given."""
+        lo, hi = self.position_limits(joint)
+        jm = self._joint(joint)
+        eff = float(self.model.effortLimit[jm.idx_v])
+        vel = float(self.model.velocityLimit[jm.idx_v])
+        return {"lower": lo, "upper": hi,
+                "effort": eff if 0 < eff < _BIG else math.inf,
+                "velocity": vel if 0 < vel < _BIG else math.inf}
+
+    def role(self, joint: str) -> str:
+        """``"actuated"``, ``"held"`` or ``"free"`` for a 1-dof joint."""
+        if joint in self.actuated:
+            return "actuated"
+        return "free" if joint in self.free else "held"
+
+    @property
+    def joint_v_index(self) -> np.ndarray:
+        """Velocity index of every 1-dof joint (``joint_names`` order), shape (n_joints,)."""
+        return np.array([self._joint(n).idx_v for n in self.joint_names], dtype=int)
+
     def frame_id(self, name: str, *, file: str = "<api>", field: str = "frames") -> int:
         """Pinocchio frame index of a named frame, link or joint (in that order of preference)."""
         for kind in (pin.FrameType.OP_FRAME, pin.FrameType.BODY, pin.FrameType.JOINT):
@@ -292,6 +365,10 @@ class Robot:
             Floating base orientation, R = Rz(yaw)·Ry(pitch)·Rx(roll).
         """
         q = pin.neutral(self.model)
+        for name in self.joint_names:
+            rest = self.rest_position(name)
+            if rest != 0.0:
+                q[self._joint(name).idx_q] = rest
         if isinstance(joint_values, Mapping):
             values = dict(joint_values)
         else:
@@ -389,6 +466,78 @@ def _actuated_list(actuated, joint_names, model, file, field) -> tuple[str, ...]
             kind = "is not a 1-dof joint" if known else "is not a joint"
             raise InputError(file, where, f"{name!r} {kind} of the robot")
     return tuple(actuated)
+
+
+def _check_not_followers(actuated, mimic, file, field) -> None:
+    if not mimic or actuated is None or isinstance(actuated, str):
+        return
+    for i, name in enumerate(actuated):
+        if name in mimic:
+            raise InputError(file, f"{field}[{i}]", f"{name!r} is a mimic joint: it follows "
+                             f"{mimic[name][0]!r} and has no actuator of its own; size the leader")
+
+
+#: roles of a 1-dof joint that is not actuated (docs/robot-format.md)
+UNACTUATED_ROLES = ("held", "free")
+
+
+def _roles(unactuated, joint_names, actuated, mimic, file, field) -> dict[str, str]:
+    """Role of every 1-dof joint not actuated: ``held`` unless the table says ``free``."""
+    roles = {j: "held" for j in joint_names if j not in actuated}
+    if unactuated is None:
+        return roles
+    if not isinstance(unactuated, Mapping):
+        raise InputError(file, field, "must be a table joint -> 'held' or 'free'")
+    for name, role in unactuated.items():
+        where = f"{field}.{name}"
+        if name in actuated:
+            raise InputError(file, where, f"joint {name!r} is actuated; only joints left out of "
+                             "actuated take a role")
+        if name in mimic:
+            raise InputError(file, where, f"{name!r} is a mimic joint: it follows {mimic[name][0]!r}")
+        if name not in joint_names:
+            raise InputError(file, where, f"no 1-dof joint named {name!r} in the robot")
+        if role not in UNACTUATED_ROLES:
+            raise InputError(file, where, f"must be one of {', '.join(UNACTUATED_ROLES)}; got {role!r}")
+        roles[name] = role
+    return roles
+
+
+def _included_masses(included, actuated, file, field) -> tuple[float, ...]:
+    """Per actuated joint, the actuator mass already inside the link masses (kg; 0 for none)."""
+    out = dict.fromkeys(actuated, 0.0)
+    if included is None:
+        return tuple(out.values())
+    if not isinstance(included, Mapping):
+        raise InputError(file, field, "must be a table joint -> mass (e.g. \"0.6 kg\") or \"none\"")
+    for name, value in included.items():
+        where = f"{field}.{name}"
+        if name not in out:
+            raise InputError(file, where, f"{name!r} is not an actuated joint; actuated: "
+                             f"{', '.join(actuated)}")
+        if isinstance(value, Mapping):
+            _check_keys(value, ("mass",), file, where)
+            value = _required(value, "mass", file, where)
+            where = f"{where}.mass"
+        out[name] = 0.0 if value == "none" else nonnegative(value, "mass", file=file, field=where)
+    return tuple(out.values())
+
+
+def _remove_included(model, mounts, masses, file, field) -> None:
+    """Take each included actuator out of its carrying body as a point mass at the mount."""
+    for mount, mass in zip(mounts, masses, strict=True):
+        if mass <= 0:
+            continue
+        body = model.inertias[mount.body_joint]
+        if mount.body_joint == 0 or mass > body.mass * (1 + 1e-12):
+            have = 0.0 if mount.body_joint == 0 else body.mass
+            raise InputError(file, f"{field}.{mount.joint}", f"{mass:g} kg is more than the "
+                             f"{have:g} kg of the body that carries the actuator ({mount.link})")
+        point = pin.Inertia(float(mass), mount.point.copy(), np.zeros((3, 3)))
+        rest = body - point
+        if rest.mass <= 1e-12 * max(body.mass, 1.0):
+            rest = pin.Inertia.Zero()
+        model.inertias[mount.body_joint] = rest
 
 
 def _mount_specs(mounts, file, field) -> dict[str, tuple[dict, str]]:
@@ -736,59 +885,3 @@ def _add_frames(model, frames: Sequence[Mapping], file: str, where: str) -> None
         placement = body.placement * pin.SE3(np.eye(3), xyz)
         model.addFrame(pin.Frame(name, body.parentJoint, fid, placement, pin.FrameType.OP_FRAME))
 
-
-# ---------------------------------------------------------------------- URDF pre-check
-def _check_urdf_text(text: str, file: str) -> None:
-    """Catch the common URDF mistakes with a precise message before Pinocchio parses it."""
-    try:
-        root = ET.fromstring(text)
-    except ET.ParseError as exc:
-        raise InputError(file, f"urdf line {exc.position[0]}", f"malformed XML ({exc})") from None
-    if root.tag != "robot":
-        raise InputError(file, "urdf", f"the root element must be <robot>, got <{root.tag}>")
-    links = [e.get("name") for e in root.findall("link")]
-    if not links or any(not n for n in links):
-        raise InputError(file, "urdf.link", "needs at least one <link>, each with a name")
-    for e in root.findall("joint"):
-        name = e.get("name") or "?"
-        for key in ("parent", "child"):
-            ref = e.find(key)
-            if ref is None or ref.get("link") not in links:
-                got = None if ref is None else ref.get("link")
-                raise InputError(file, f"urdf.joint[{name}].{key}", f"no link named {got!r}")
-        if e.get("type") in ("revolute", "prismatic") and e.find("limit") is None:
-            raise InputError(file, f"urdf.joint[{name}].limit", "required for this joint type")
-        axis = e.find("axis")
-        if axis is not None and e.get("type") in ("revolute", "continuous", "prismatic"):
-            values = _urdf_numbers(axis.get("xyz", "1 0 0"), 3, file, f"urdf.joint[{name}].axis.xyz")
-            if not np.linalg.norm(values) > 0:
-                raise InputError(file, f"urdf.joint[{name}].axis.xyz", "must not be the zero vector")
-    for e in root.findall("link"):
-        inertial = e.find("inertial")
-        if inertial is None:
-            continue
-        where = f"urdf.link[{e.get('name')}].inertial"
-        mass = inertial.find("mass")
-        if mass is not None:
-            m = _urdf_numbers(mass.get("value", ""), 1, file, f"{where}.mass.value")[0]
-            if m < 0:
-                raise InputError(file, f"{where}.mass.value", f"must be >= 0 kg, got {m:g}")
-        inertia = inertial.find("inertia")
-        if inertia is not None:
-            keys = ("ixx", "ixy", "ixz", "iyy", "iyz", "izz")
-            v = {k: _urdf_numbers(inertia.get(k, "0"), 1, file, f"{where}.inertia.{k}")[0] for k in keys}
-            tensor = np.array([[v["ixx"], v["ixy"], v["ixz"]], [v["ixy"], v["iyy"], v["iyz"]],
-                               [v["ixz"], v["iyz"], v["izz"]]])
-            if np.linalg.eigvalsh(tensor).min() < -1e-12 * max(1.0, np.abs(tensor).max()):
-                raise InputError(file, f"{where}.inertia", "must be positive semidefinite (a physical inertia)")
-
-
-def _urdf_numbers(text: str, count: int, file: str, field: str) -> np.ndarray:
-    """``count`` numbers from a URDF attribute, or one InputError naming it."""
-    try:
-        values = np.array([float(x) for x in str(text).split()])
-    except ValueError:
-        raise InputError(file, field, f"must be {count} number(s), got {text!r}") from None
-    if values.size != count or not np.all(np.isfinite(values)):
-        raise InputError(file, field, f"must be {count} finite number(s), got {text!r}")
-    return values

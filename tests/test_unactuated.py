@@ -1,0 +1,209 @@
+"""Joints that are not actuated: held (locked by structure or brake) and free (no torque), on the
+planar elbow arm with closed forms.
+
+Reference: Spong, Hutchinson & Vidyasagar, Robot Modeling and Control, planar elbow manipulator
+(mass matrix and gravity) [mem, verified in tests/test_robot_model.py]; effective mass along u
+1/(uᵀ·J·M⁻¹·Jᵀ·u) (Khatib 1995 [mem]); payload along a ray by the one-variable LP ratio test
+(Chiacchio et al. 1997 [mem]). Only the shoulder q1 is actuated, by a direct-drive motor of our
+own invented test catalog.
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from jointwright.assessment import assess, unloaded_joints
+from jointwright.design import design_from_dict
+from jointwright.errors import InputError
+from jointwright.project import load_project
+from test_robot_model import spong_elbow
+
+G = 9.81
+M1, M2, L1, L2, LC1, I1, I2 = 2.0, 1.5, 0.4, 0.35, 0.2, 0.03, 0.02
+TAU_PEAK, ROTOR, BREAKAWAY = 40.0, 2e-3, 0.5
+
+CATALOG = f"""
+[[motor]]
+name = "test-rotor-a"
+peak_torque = "{TAU_PEAK} N*m"
+continuous_torque = "10 N*m"
+rotor_inertia = "{ROTOR} kg*m^2"
+mass = "0.8 kg"
+max_speed = "3000 rpm"
+cogging_torque = "{BREAKAWAY} N*m"
+"""
+
+
+def project(tmp_path: Path, role: str | None, lc2: float = 0.15, extra_case: str = "",
+            pose: str = "q1 = 0, q2 = 0") -> Path:
+    unact = f'unactuated = {{ q2 = "{role}" }}' if role else ""
+    (tmp_path / "catalog.toml").write_text(CATALOG, encoding="utf-8")
+    path = tmp_path / "project.toml"
+    path.write_text(f"""
+[robot]
+base = "fixed"
+gravity = [0, -{G}, 0]
+actuated = ["q1"]
+{unact}
+frames = [{{ name = "tip", link = "link2", xyz = [{L2}, 0, 0] }}]
+[[robot.links]]
+name = "ground"
+mass = 1.0
+shape = "point"
+[[robot.links]]
+name = "link1"
+mass = {M1}
+com = [{LC1}, 0, 0]
+inertia = [{0.2 * I1}, {0.8 * I1}, {I1}]
+[[robot.links]]
+name = "link2"
+mass = {M2}
+com = [{lc2}, 0, 0]
+inertia = [{0.3 * I2}, {0.7 * I2}, {I2}]
+[[robot.joints]]
+name = "q1"
+type = "revolute"
+parent = "ground"
+child = "link1"
+axis = [0, 0, 1]
+lower = "-170 deg"
+upper = "170 deg"
+[[robot.joints]]
+name = "q2"
+type = "revolute"
+parent = "link1"
+child = "link2"
+xyz = [{L1}, 0, 0]
+axis = [0, 0, 1]
+lower = "-150 deg"
+upper = "150 deg"
+[catalog]
+files = ["catalog.toml"]
+max_stages = 0
+[[case]]
+name = "lift"
+kind = "payload"
+frame = "tip"
+direction = [0, 1, 0]
+motion = "hold"
+pose = {{ {pose} }}
+[[case]]
+name = "bump"
+kind = "impact"
+frame = "tip"
+direction = [0, 1, 0]
+pose = {{ {pose} }}
+[[case]]
+name = "push"
+kind = "backdrive"
+frame = "tip"
+direction = [0, 1, 0]
+pose = {{ {pose} }}
+{extra_case}
+""", encoding="utf-8")
+    return path
+
+
+def assessed(path: Path):
+    p = load_project(path)
+    d = design_from_dict({"design": {"name": "direct"}, "joint": {"q1": {"motor": "test-rotor-a"}}}, p)
+    return p, {c.name: c for c in assess(p, d).cases}
+
+
+def test_default_role_is_held(tmp_path):
+    p = load_project(project(tmp_path, None))
+    assert p.robot.held == ("q2",) and p.robot.free == ()
+    assert p.robot.role("q2") == "held" and p.robot.role("q1") == "actuated"
+
+
+def test_held_elbow_closed_forms(tmp_path):
+    lc2 = 0.15
+    p, c = assessed(project(tmp_path, "held", lc2))
+    # payload: τ1 = g1 + s·(l1 + l2) ≤ τ_peak, g1 = G(m1·lc1 + m2·(l1 + lc2)) at q = 0; the held
+    # elbow takes its own torque (no limit)
+    g1 = G * (M1 * LC1 + M2 * (L1 + lc2))
+    assert c["lift"].metrics["payload"] == pytest.approx((TAU_PEAK - g1) / (L1 + L2), rel=1e-12)
+    assert c["lift"].limiting_joint == "q1"
+    # effective mass: the arm is one rigid body about q1, m = (d11 + I_r)/(l1 + l2)²
+    D, _ = spong_elbow(0.0, 0.0, M1, M2, L1, LC1, lc2, I1, I2)
+    assert c["bump"].metrics["effective_mass"] == pytest.approx((D[0, 0] + ROTOR) / (L1 + L2) ** 2,
+                                                               rel=1e-9)
+    # back-drive: only q1 can yield, against its breakaway torque
+    assert c["push"].metrics["backdrive_force"] == pytest.approx(BREAKAWAY / (L1 + L2), rel=1e-12)
+
+
+def test_free_elbow_closed_forms(tmp_path):
+    lc2 = 0.15
+    p, c = assessed(project(tmp_path, "free", lc2))
+    # the elbow's own weight needs torque m2·lc2·G there: a free elbow cannot hold the arm
+    assert c["lift"].metrics["payload"] == 0.0
+    assert c["lift"].limiting_joint == "q2" and "free joint q2" in c["lift"].note
+    # effective mass with the elbow moving: 1/(uᵀ J M⁻¹ Jᵀ u), M = D + diag(I_r, 0)
+    D, _ = spong_elbow(0.0, 0.0, M1, M2, L1, LC1, lc2, I1, I2)
+    M = D + np.diag([ROTOR, 0.0])
+    J = np.array([[0.0, 0.0], [L1 + L2, L2]])  # tip velocity at q = 0, rows x, y
+    u = np.array([0.0, 1.0])
+    ref = 1.0 / (u @ J @ np.linalg.solve(M, J.T @ u))
+    assert c["bump"].metrics["effective_mass"] == pytest.approx(ref, rel=1e-9)
+    assert ref < (D[0, 0] + ROTOR) / (L1 + L2) ** 2  # a free elbow makes the tip lighter
+    # a push moves the free elbow with no force at all
+    assert c["push"].metrics["backdrive_force"] == 0.0
+    assert c["push"].limiting_joint == "q2"
+
+
+def test_free_elbow_balanced_carries_nothing_along_its_motion(tmp_path):
+    # centre of mass of link 2 on the elbow axis: no weight torque there, but any tip force along
+    # y turns the elbow (a = l2 ≠ 0), so nothing can be held; the arm still holds itself up
+    p, c = assessed(project(tmp_path, "free", lc2=0.0))
+    assert c["lift"].metrics["payload"] == 0.0 and c["lift"].metrics["self_supporting"]
+    assert c["lift"].limiting_joint == "q2"
+
+
+def test_unloaded_joint_is_reported(tmp_path):
+    # a pushing case along x at q = 0 reaches no joint (the force passes through both axes) and
+    # gravity along -y loads q1: nothing is unloaded; with gravity along z (horizontal arm plane)
+    # and a force along x, q1 carries nothing
+    p = load_project(project(tmp_path, "held"))
+    assert unloaded_joints(p) == ()
+    path = project(tmp_path, "held")
+    text = path.read_text().replace(f"gravity = [0, -{G}, 0]", f"gravity = [0, 0, -{G}]")
+    text = text.replace("direction = [0, 1, 0]\nmotion", "direction = [1, 0, 0]\nmotion")
+    path.write_text(text)
+    assert unloaded_joints(load_project(path)) == ("q1",)
+
+
+@pytest.mark.parametrize("snippet, field, rule", [
+    ('unactuated = { q1 = "held" }', "robot.unactuated.q1", "is actuated"),
+    ('unactuated = { q2 = "loose" }', "robot.unactuated.q2", "must be one of held, free"),
+    ('unactuated = { q9 = "free" }', "robot.unactuated.q9", "no 1-dof joint"),
+    ('included = { q2 = "0.1 kg" }', "robot.included.q2", "not an actuated joint"),
+    ('included = { q1 = "1 kg" }', "robot.included.q1", "more than"),
+])
+def test_bad_roles_and_included_masses(tmp_path, snippet, field, rule):
+    path = project(tmp_path, None)
+    path.write_text(path.read_text().replace('actuated = ["q1"]', f'actuated = ["q1"]\n{snippet}'))
+    with pytest.raises(InputError) as exc:
+        load_project(path)
+    assert exc.value.field == field and rule in exc.value.rule
+
+
+@pytest.mark.parametrize("pose, rule", [
+    ("q1 = 90, q2 = 0", "more than a full turn"),          # degrees meant, radians read
+    ('q1 = "175 deg", q2 = 0', "outside the joint's limits"),
+    ('q1 = 0, q2 = "-2.7 rad"', "outside the joint's limits"),
+    ('q1 = "0.1 m", q2 = 0', "convertible to rad"),
+])
+def test_pose_units_and_limits(tmp_path, pose, rule):
+    with pytest.raises(InputError) as exc:
+        load_project(project(tmp_path, None, pose=pose))
+    assert "pose" in exc.value.field and rule in exc.value.rule
+
+
+def test_plain_radians_within_limits_are_read_as_radians(tmp_path):
+    p = load_project(project(tmp_path, None, pose="q1 = 0.5, q2 = -1.2"))
+    assert p.case("lift").pose == {"q1": 0.5, "q2": -1.2}
+    assert math.isclose(p.robot.position_limits("q1")[1], math.radians(170))
