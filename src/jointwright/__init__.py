@@ -4,6 +4,62 @@ Every actuated joint gets a motor, a gear stage stack and a ratio, chosen togeth
 robot's payload is as large as possible while back-drivability, reflected inertia, speed,
 thermal and mass limits hold. Gear losses are modelled as two efficiencies, forward and backward,
 chosen per joint by the direction of power flow.
+
+The operations of the command line, as Python functions (docs/api.md)::
+
+    import jointwright as jw
+
+    project = jw.load_example("leg")            # or jw.load_project("my/project.toml")
+    result = jw.size(project, time_limit=60)     # proven optimum, or best design with its gap
+    report = jw.assess(project, result.design)   # every metric, every requirement with margin
+    front = jw.sweep_frontier(project, "imf")    # payload against impact mitigation
+    jw.build_report(project, result.design, "out/")
+
+Names are loaded on first use, so ``import jointwright`` stays cheap.
 """
 
+from __future__ import annotations
+
+import importlib
+from typing import Any
+
 __version__ = "0.1.0"
+
+#: public name -> module that defines it
+_EXPORTS = {
+    "load_project": "jointwright.project",
+    "load_example": "jointwright.project",
+    "EXAMPLES": "jointwright.project",
+    "Project": "jointwright.project",
+    "load_design": "jointwright.design",
+    "Design": "jointwright.design",
+    "assess": "jointwright.assessment",
+    "Assessment": "jointwright.assessment",
+    "unloaded_joints": "jointwright.assessment",
+    "size": "jointwright.sizing",
+    "SizingResult": "jointwright.solve.result",
+    "sweep_frontier": "jointwright.frontier",
+    "Frontier": "jointwright.frontier",
+    "run_study": "jointwright.study.runner",
+    "StudyOutcome": "jointwright.study.runner",
+    "build_report": "jointwright.report.build",
+    "InputError": "jointwright.errors",
+}
+
+#: public names that differ from the defining module's (``jointwright.frontier`` is a module)
+_SOURCE_NAME = {"sweep_frontier": "frontier"}
+
+__all__ = sorted(_EXPORTS)
+
+
+def __getattr__(name: str) -> Any:
+    module = _EXPORTS.get(name)
+    if module is None:
+        raise AttributeError(f"module 'jointwright' has no attribute {name!r}")
+    value = getattr(importlib.import_module(module), _SOURCE_NAME.get(name, name))
+    globals()[name] = value
+    return value
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(__all__))

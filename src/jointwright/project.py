@@ -133,6 +133,25 @@ def load_project(path: str | Path) -> Project:
     return project_from_dict(data, path)
 
 
+#: bundled example projects (``jointwright new DIR --example NAME``)
+EXAMPLES = ("leg", "arm", "quadruped")
+
+
+def load_example(name: str) -> Project:
+    """A bundled example project, read from the installed package (``EXAMPLES``).
+
+    Its starting design is ``design.toml`` beside ``project.file``:
+    ``load_design(project.file.with_name("design.toml"), project)``.
+    """
+    from importlib import resources
+
+    if name not in EXAMPLES:
+        raise InputError("<api>", "name", f"must be one of {', '.join(EXAMPLES)}, got {name!r}")
+    folder = resources.files("jointwright.examples") / name
+    with resources.as_file(folder / "project.toml") as path:
+        return load_project(path)
+
+
 def project_from_dict(data: dict, path: Path) -> Project:
     file = str(path)
     top = Table(data, file, "")

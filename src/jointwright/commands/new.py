@@ -10,7 +10,7 @@ import click
 
 from ..errors import InputError
 
-EXAMPLES = ("leg", "arm", "quadruped")
+from ..project import EXAMPLES
 
 
 @click.command("new")
