@@ -20,18 +20,25 @@ from ._format import console, emit_json
 @click.option("--retry-failed", is_flag=True, help="with --resume, run failed cases again")
 @click.option("--csv", "csv_path", type=click.Path(path_type=Path), default=None,
               help="also export the summary table as CSV")
+@click.option("--force", is_flag=True, help="replace an existing --csv file")
 @click.option("--json", "as_json", is_flag=True, help="machine-readable summary")
 def command(study: Path, store: Path | None, workers, scheduler, resume, restart, retry_failed,
-            csv_path, as_json):
+            csv_path, force, as_json):
     """Run every case of STUDY (sizing or frontier per case); each finished case is stored at once,
     so an interrupted run loses nothing and --resume goes on where it stopped."""
     from ..errors import InputError
-    from ..study import export_csv, run_study, summary_table
+    from ..study import export_csv, load_study, run_study, summary_table
+    from ._output import check_target
 
     if workers is not None and scheduler is not None:
         raise InputError(str(study), "--workers", "give either --workers or --scheduler, not both")
     store = store or study.with_name("results.sqlite")
-    outcome = run_study(study, store, workers=workers, scheduler=scheduler, resume=resume,
+    spec = load_study(study)
+    inputs = {study, spec.base_file, *(spec.base_dir / f for f in spec.definition["study"].get("inputs", []))}
+    check_target(store, "--store", inputs=inputs, force=True)
+    if csv_path is not None:
+        check_target(csv_path, "--csv", inputs=inputs | {store}, force=force)
+    outcome = run_study(spec, store, workers=workers, scheduler=scheduler, resume=resume,
                         restart=restart, retry_failed=retry_failed, progress=not as_json)
     if csv_path is not None:
         export_csv(store, csv_path)
