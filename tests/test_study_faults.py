@@ -151,6 +151,15 @@ def test_a_damaged_store_is_one_line_everywhere(tmp_path):
     assert info.value.file == str(store)
     with pytest.raises(InputError, match="damaged|not a jointwright study store"):
         run_study(path, store, workers=2, case_fn=LEG, resume=True, progress=False)
+    damaged_bytes = store.read_bytes()
+    out = run_study(path, store, workers=2, case_fn=LEG, restart=True, progress=False)
+    assert out.done_total == 16
+    kept = [p for p in tmp_path.iterdir() if p.name.startswith("s.sqlite.") and p.name.endswith(".bak")]
+    assert len(kept) == 1 and kept[0].read_bytes() == damaged_bytes  # kept byte for byte
+    store.unlink()
+    for extra in ("-wal", "-shm"):
+        Path(f"{store}{extra}").unlink(missing_ok=True)
+    store.write_bytes(damaged_bytes)
     res = subprocess.run([sys.executable, "-c", "from jointwright.cli import main; main()", "study",
                           str(path), "--store", str(store), "--resume", "--workers", "1"],
                          capture_output=True, text=True, env=_env(), cwd=ROOT)

@@ -250,8 +250,16 @@ class StudyStore:
     @classmethod
     def _open_locked(cls, path: Path, spec, case_count: int, restart: bool, lock) -> StudyStore:
         if path.exists():
-            old = _read_study_row(path)
-            if restart:
+            try:
+                old = _read_study_row(path)
+            except InputError as exc:
+                if not (restart and "damaged" in exc.rule):
+                    raise
+                old = None
+                _move_aside(path)  # a damaged store is kept byte for byte, not copied by SQLite
+            if old is None:
+                pass
+            elif restart:
                 backup_store(path)
             elif old["study_hash"] != spec.hash:
                 raise InputError(
@@ -418,14 +426,29 @@ def _create(conn: sqlite3.Connection, spec, case_count: int) -> None:
     conn.execute("COMMIT")
 
 
-def backup_store(path: str | Path) -> Path:
-    """Copy the store (with its WAL content) to ``<name>.<UTC time>.bak`` and delete it."""
-    path = Path(path)
+def _backup_name(path: Path) -> Path:
     stamp = _dt.datetime.now(_dt.timezone.utc).strftime("%Y%m%dT%H%M%SZ")
     target = path.with_name(f"{path.name}.{stamp}.bak")
     k = 1
     while target.exists():
         target, k = path.with_name(f"{path.name}.{stamp}-{k}.bak"), k + 1
+    return target
+
+
+def _move_aside(path: Path) -> Path:
+    """Rename a damaged store (and its -wal, -shm files) to ``<name>.<UTC time>.bak[-wal|-shm]``."""
+    target = _backup_name(path)
+    for suffix in ("-wal", "-shm", ""):
+        extra = Path(f"{path}{suffix}")
+        if extra.exists():
+            os.replace(extra, Path(f"{target}{suffix}"))
+    return target
+
+
+def backup_store(path: str | Path) -> Path:
+    """Copy the store (with its WAL content) to ``<name>.<UTC time>.bak`` and delete it."""
+    path = Path(path)
+    target = _backup_name(path)
     src = sqlite3.connect(path)
     dst = sqlite3.connect(target)
     try:
