@@ -228,6 +228,9 @@ def _load_requirements(t: Table, robot) -> Requirements:
             ratio_min=sub.quantity("ratio_min", "ratio", 0.0, sign="nonnegative"),
             ratio_max=sub.quantity("ratio_max", "ratio", math.inf, sign="positive"),
         )
+        if joints[jname].ratio_min > joints[jname].ratio_max:
+            raise InputError(t.file, sub.field("ratio_min"), f"must not exceed ratio_max "
+                             f"({joints[jname].ratio_max:g}), got {joints[jname].ratio_min:g}")
         sub.done()
     jt.done()
     t.done()

@@ -120,7 +120,11 @@ def _read_rows(path: Path, file: str) -> list[tuple[int, list[str]]]:
         with path.open(newline="", encoding="utf-8-sig") as fh:
             reader = csv.reader(fh)
             rows = [(reader.line_num, row) for row in reader]
-    except (OSError, UnicodeDecodeError, csv.Error) as exc:
+    except UnicodeDecodeError as exc:
+        raise InputError(file, "(encoding)", "must be UTF-8 text") from None
+    except OSError as exc:
+        raise InputError(file, "file", f"cannot be read ({exc.strerror or exc})") from None
+    except csv.Error as exc:
         raise InputError(file, "file", f"cannot be read as CSV text ({exc})") from None
     return [
         (n, r) for n, r in rows if any(c.strip() for c in r) and not r[0].lstrip().startswith("#")

@@ -66,7 +66,10 @@ def quantity(value: Any, dimension: str, *, file: str = "<api>", field: str = "v
     if isinstance(value, bool):
         raise InputError(file, field, f"must be a number or a quantity in {si}, got {value!r}")
     if isinstance(value, (int, float)):
-        out = float(value)
+        try:
+            out = float(value)
+        except OverflowError:  # a whole number beyond float range (about 1.8e308)
+            raise InputError(file, field, f"must be finite, got a {len(str(abs(value)))}-digit number") from None
     elif isinstance(value, str):
         text = value.strip()
         try:

@@ -369,6 +369,8 @@ def _is_number(v: Any) -> bool:
 def _as_quantity(v: Any, file: str, field: str):
     """(magnitude, unit text or None, dimensionality or None) of a number or quantity string."""
     if _is_number(v):
+        if isinstance(v, int) and abs(v) > 2**1023:
+            raise InputError(file, field, f"must be finite, got a {len(str(abs(v)))}-digit number")
         if not math.isfinite(v):
             raise InputError(file, field, f"must be finite, got {v!r}")
         return float(v), None, None
@@ -440,6 +442,9 @@ def _count(t: Table, key: str) -> int:
     n = t.raw(key)
     if not isinstance(n, int) or isinstance(n, bool) or n < 1:
         raise InputError(t.file, t.field(key), f"must be a whole number >= 1, got {n!r}")
+    if n > MAX_CASES:
+        raise InputError(t.file, t.field(key), f"must be at most {MAX_CASES} (the most cases a "
+                         f"study may have), got {n if n < 10**12 else f'a {len(str(n))}-digit number'}")
     return n
 
 
