@@ -20,6 +20,7 @@ from pathlib import Path
 import numpy as np
 
 from .errors import InputError
+from .progress import report
 from .units import quantity
 
 #: column kind -> dimensions its unit may have, in the order they are tried
@@ -134,6 +135,8 @@ def _read_rows(path: Path, file: str) -> list[tuple[int, list[str]]]:
 def _numbers(rows, header, file) -> np.ndarray:
     data = np.empty((len(rows), len(header)))
     for i, (line, row) in enumerate(rows, start=1):
+        if i % 5000 == 0:
+            report(f"reading {Path(file).name}", i, len(rows))
         where = f"row {i} (line {line})"
         if len(row) != len(header):
             raise InputError(file, where, f"has {len(row)} cells, the header has {len(header)}")
