@@ -357,6 +357,70 @@ def test_project_that_is_not_utf8(examples, tmp_path):
     _assert_names(message, "project.toml", "(encoding)", "UTF-8")
 
 
+# --- files that cannot be read, or are not UTF-8; numbers beyond float range ------------------
+
+@pytest.mark.parametrize("file, verb", [("project.toml", "check"), ("catalog.toml", "check"),
+                                        ("gait.csv", "assess"), ("design.toml", "assess")])
+def test_a_file_that_is_not_utf8(examples, tmp_path, file, verb):
+    # 0xFF never occurs in UTF-8 (RFC 3629, section 1) [pub]
+    folder = tmp_path / "leg"
+    shutil.copytree(examples["leg"], folder)
+    (folder / file).write_bytes((folder / file).read_bytes() + b"\n# caf\xe9\xff\n")
+    args = [verb, str(folder / "project.toml")] + (["--design", str(folder / "design.toml")]
+                                                   if verb == "assess" else [])
+    message = _one_error_line(_run(args))
+    assert Path(message[len(PREFIX):].split(":")[0]).name == file and "UTF-8" in message
+
+
+@pytest.mark.parametrize("file, verb", [("project.toml", "check"), ("catalog.toml", "check"),
+                                        ("gait.csv", "assess"), ("design.toml", "assess")])
+def test_a_file_that_cannot_be_read(examples, tmp_path, monkeypatch, file, verb):
+    # the tests may run as root, for whom chmod 000 still reads: the refusal is injected as the
+    # operating system reports it (PermissionError, errno EACCES)
+    import builtins
+    import errno
+    import io
+    import pathlib
+
+    folder = tmp_path / "leg"
+    shutil.copytree(examples["leg"], folder)
+    target = str(folder / file)
+    real_open, real_io_open, real_path_open = builtins.open, io.open, pathlib.Path.open
+
+    def refuse(path):
+        if str(path) == target:
+            raise PermissionError(errno.EACCES, "Permission denied", str(path))
+
+    def fake_open(path, *a, **k):
+        refuse(path)
+        return real_open(path, *a, **k)
+
+    def fake_path_open(self, *a, **k):
+        refuse(self)
+        return real_path_open(self, *a, **k)
+
+    monkeypatch.setattr(builtins, "open", fake_open)
+    monkeypatch.setattr(pathlib.Path, "open", fake_path_open)
+    args = [verb, str(folder / "project.toml")] + (["--design", str(folder / "design.toml")]
+                                                   if verb == "assess" else [])
+    message = _one_error_line(_run(args))
+    assert Path(message[len(PREFIX):].split(":")[0]).name == file and "Permission denied" in message
+
+
+@pytest.mark.parametrize("old, new, field, rule", [
+    ('total_mass_max = "4.0 kg"', "total_mass_max = " + "9" * 400, "requirements.total_mass_max",
+     "must be finite, got a 400-digit number"),
+    ('mass_max = "1.6 kg"', "mass_max = -" + "1" * 400, "requirements.joint.knee.mass_max", "must be finite"),
+    ('mass_max = "1.6 kg"', 'mass_max = "1.6 kg"\nratio_min = 40\nratio_max = 20',
+     "requirements.joint.knee.ratio_min", "must not exceed ratio_max (20), got 40"),
+])  # fmt: skip
+def test_out_of_range_numbers_and_crossed_limits(examples, tmp_path, old, new, field, rule):
+    folder = tmp_path / "leg"
+    shutil.copytree(examples["leg"], folder)
+    _edit(folder, "project.toml", old, new)
+    _assert_names(_one_error_line(_run(["check", str(folder / "project.toml")])), "project.toml", field, rule)
+
+
 # --- a singular pose where a metric needs the task-space inertia ------------------------------
 
 # The arm stretched straight up (every pitch joint at 0) with every case's direction along the
@@ -438,7 +502,7 @@ def test_usage_errors_exit_2_without_traceback(args, says):
 
 HOSTILE = ['0', '-1', '1e9', '1e-12', '-0.0', '"0 kg"', '"-3 N*m"', '"3 kg"', '"abc"', 'true', '[]',
            '[0, 0, 0]', '{}', '"1e400"', '"nan"', '"inf"', '"-inf"', '"5 deg"', '"-1 m/s"', '""',
-           '[1, 2]', '"foot"', '"hip_ab"']
+           '[1, 2]', '"foot"', '"hip_ab"', "9" * 400, "-" + "9" * 400]
 VALUE_RE = r"(?m)(=\s*)([^\n#{\[]+?|\[[^\]\n]*\])(\s*(#.*)?$|\s*[,}])"
 
 

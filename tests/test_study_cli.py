@@ -64,3 +64,59 @@ def test_refuses_to_overwrite_a_store_without_resume(study_dir):
     second = runner.invoke(main, ["study", str(bad), "--workers", "1"])
     assert second.exit_code == 2
     assert "resume" in second.output
+
+
+# ---- exit codes and up-front checks (the default case function) ----------------------------
+
+LEG_STUDY = """
+[study]
+format = 1
+name = "leg check"
+base = "project.toml"
+[options]
+{options}
+[[vary]]
+path = "{path}"
+values = {values}
+"""
+
+
+def _leg_study(tmp_path, *, options="time_limit = 60", path="requirements.total_mass_max",
+               values='["4.0 kg"]'):
+    from importlib import resources
+
+    with resources.as_file(resources.files("jointwright.examples") / "leg") as src:
+        shutil.copytree(src, tmp_path / "leg")
+    study = tmp_path / "leg" / "study.toml"
+    study.write_text(LEG_STUDY.format(options=options, path=path, values=values), encoding="utf-8")
+    return study
+
+
+@pytest.mark.parametrize("options, values, path, field, rule", [
+    ("time_limt = 5", '["4 kg"]', "requirements.total_mass_max", "options.time_limt", "did you mean 'time_limit'"),
+    ("time_limit = -5", '["4 kg"]', "requirements.total_mass_max", "options.time_limit", "> 0"),
+    ("objective = 'speed'", '["4 kg"]', "requirements.total_mass_max", "options.objective", "one of payload"),
+    ("", '["3 m", "4 m"]', "requirements.total_mass_max", "vary[0].values", "convertible to kg"),
+    ("", '["leg A", "leg B"]', "project.name", "vary[0].path", "only numbers and quantities"),
+    ("", '["a", "b"]', "requirements.total_mass_max", "vary[0].values[0]", "quantity string"),
+])  # fmt: skip
+def test_study_file_mistakes_are_caught_before_any_case_runs(tmp_path, options, values, path, field, rule):
+    study = _leg_study(tmp_path, options=options, path=path, values=values)
+    res = CliRunner().invoke(main, ["study", str(study), "--workers", "1"])
+    assert res.exit_code == 2, res.output
+    assert f"{study}: {field}: " in res.output and rule in res.output and "Traceback" not in res.output
+    assert not (study.parent / "results.sqlite").exists()
+
+
+def test_failed_cases_give_exit_3_with_the_count_and_first_errors(tmp_path):
+    study = _leg_study(tmp_path, values='["-1 kg", "-2 kg"]')  # loads, then every case fails
+    res = CliRunner().invoke(main, ["study", str(study), "--workers", "1"])
+    assert res.exit_code == 3, res.output
+    assert "2 of 2 stored cases failed" in res.output and "must be > 0 kg" in res.output
+    res = CliRunner().invoke(main, ["study", str(study), "--resume", "--json"])
+    assert res.exit_code == 3
+    import json
+
+    data = json.loads(res.output[res.output.index("{"):res.output.rindex("}") + 1])
+    assert data["failed"] == 2 and len(data["failures"]) == 2
+    assert all("total_mass_max" in f["error"] for f in data["failures"])

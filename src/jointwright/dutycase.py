@@ -14,12 +14,14 @@ the ground reaction forces given as external wrenches in the trajectory file.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from pathlib import Path
 
 import numpy as np
 import pinocchio as pin
 
 from .errors import InputError
 from .metrics.duty import duty_summary
+from .progress import report
 from .trajectory import load_trajectory
 
 
@@ -44,15 +46,29 @@ def prepare_duty(robot, case, file: str) -> PreparedDuty:
     base = robot.model
     masses = np.zeros(n)
 
+    # one configuration per sample, shared by the n + 1 inverse-dynamics passes below
+    configs = []
+    for s in range(T):
+        configs.append(robot.configuration(dict(zip(robot.actuated, traj.q[s])), case.base_xyz,
+                                           case.base_rpy))
+        if s % 5000 == 4999:
+            report(f"configurations along {Path(case.trajectory).name}", s + 1, T)
+    passes = n + 2 if traj.frames else n + 1
+    done = [0]
+
     def inverse_dynamics(model):
         data = model.createData()
         out = np.empty((T, n))
         for s in range(T):
-            q = robot.configuration(dict(zip(robot.actuated, traj.q[s])), case.base_xyz, case.base_rpy)
+            q = configs[s]
             qd = np.zeros(model.nv)
             qdd = np.zeros(model.nv)
             qd[v], qdd[v] = traj.qd[s], traj.qdd[s]
             out[s] = pin.rnea(model, data, q, qd, qdd)[v]
+            if s % 5000 == 4999:
+                report(f"inverse dynamics along {Path(case.trajectory).name}", done[0] * T + s + 1,
+                       passes * T)
+        done[0] += 1
         return out
 
     tau0 = inverse_dynamics(base)
@@ -67,7 +83,7 @@ def prepare_duty(robot, case, file: str) -> PreparedDuty:
         data = base.createData()
         fids = [robot.frame_id(f) for f in traj.frames]
         for s in range(T):
-            q = robot.configuration(dict(zip(robot.actuated, traj.q[s])), case.base_xyz, case.base_rpy)
+            q = configs[s]
             pin.computeJointJacobians(base, data, q)
             pin.updateFramePlacements(base, data)
             for f, fid in enumerate(fids):

@@ -13,6 +13,7 @@ from typing import Any
 import numpy as np
 
 from .errors import InputError
+from .progress import report
 from .tomlfile import Table, load_toml
 
 CASE_KINDS = ("payload", "stance", "impact", "backdrive", "speed", "duty")
@@ -167,13 +168,20 @@ def project_from_dict(data: dict, path: Path) -> Project:
     model.done()
     requirements = _load_requirements(top.table("requirements", {}), robot)
     poses = _load_poses(top.table("poses", {}), robot)
-    cases = tuple(_load_case(t, robot, path.parent, poses) for t in top.tables("case"))
+    tables = top.tables("case")
+    cases = []
+    for i, t in enumerate(tables):
+        cases.append(_load_case(t, robot, path.parent, poses))
+        if i % 500 == 499:
+            report("reading cases", i + 1, len(tables))
+    cases = tuple(cases)
     if not cases:
         raise InputError(file, "case", "at least one [[case]] is required")
-    names = [c.name for c in cases]
-    for i, n in enumerate(names):
-        if n in names[:i]:
-            raise InputError(file, f"case[{i}].name", f"duplicate case name {n!r}")
+    seen: set[str] = set()  # a set, not a list scan: a project may hold tens of thousands of cases
+    for i, c in enumerate(cases):
+        if c.name in seen:
+            raise InputError(file, f"case[{i}].name", f"duplicate case name {c.name!r}")
+        seen.add(c.name)
     objective = top.raw("objective", {})
     if not isinstance(objective, dict):
         raise InputError(file, "objective", "must be a table")
@@ -252,6 +260,9 @@ def _load_requirements(t: Table, robot) -> Requirements:
             ratio_min=sub.quantity("ratio_min", "ratio", 0.0, sign="nonnegative"),
             ratio_max=sub.quantity("ratio_max", "ratio", math.inf, sign="positive"),
         )
+        if joints[jname].ratio_min > joints[jname].ratio_max:
+            raise InputError(t.file, sub.field("ratio_min"), f"must not exceed ratio_max "
+                             f"({joints[jname].ratio_max:g}), got {joints[jname].ratio_min:g}")
         sub.done()
     jt.done()
     t.done()

@@ -20,8 +20,10 @@ def load_toml(path: str | Path) -> dict:
             return tomllib.load(fh)
     except tomllib.TOMLDecodeError as exc:
         raise InputError(str(path), "(syntax)", f"malformed TOML: {exc}") from None
-    except UnicodeDecodeError:
-        raise InputError(str(path), "(encoding)", "must be UTF-8 text") from None
+    except UnicodeDecodeError as exc:
+        raise InputError(str(path), "(encoding)", f"must be UTF-8 text (byte {exc.start + 1} is not)") from None
+    except OSError as exc:
+        raise InputError(str(path), "(file)", f"cannot be read ({exc.strerror or exc})") from None
 
 
 class Table:

@@ -20,6 +20,7 @@ from pathlib import Path
 import numpy as np
 
 from .errors import InputError
+from .progress import report
 from .units import quantity
 
 #: column kind -> dimensions its unit may have, in the order they are tried
@@ -120,7 +121,11 @@ def _read_rows(path: Path, file: str) -> list[tuple[int, list[str]]]:
         with path.open(newline="", encoding="utf-8-sig") as fh:
             reader = csv.reader(fh)
             rows = [(reader.line_num, row) for row in reader]
-    except (OSError, UnicodeDecodeError, csv.Error) as exc:
+    except UnicodeDecodeError as exc:
+        raise InputError(file, "(encoding)", "must be UTF-8 text") from None
+    except OSError as exc:
+        raise InputError(file, "file", f"cannot be read ({exc.strerror or exc})") from None
+    except csv.Error as exc:
         raise InputError(file, "file", f"cannot be read as CSV text ({exc})") from None
     return [
         (n, r) for n, r in rows if any(c.strip() for c in r) and not r[0].lstrip().startswith("#")
@@ -134,6 +139,8 @@ MAX_MAGNITUDE = 1e9
 def _numbers(rows, header, file) -> np.ndarray:
     data = np.empty((len(rows), len(header)))
     for i, (line, row) in enumerate(rows, start=1):
+        if i % 5000 == 0:
+            report(f"reading {Path(file).name}", i, len(rows))
         where = f"row {i} (line {line})"
         if len(row) != len(header):
             raise InputError(file, where, f"has {len(row)} cells, the header has {len(header)}")

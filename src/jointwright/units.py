@@ -8,6 +8,7 @@ number is read as °C. The pint registry is built on first use so that importing
 from __future__ import annotations
 
 import math
+import re
 from functools import lru_cache
 from typing import Any
 
@@ -66,7 +67,10 @@ def quantity(value: Any, dimension: str, *, file: str = "<api>", field: str = "v
     if isinstance(value, bool):
         raise InputError(file, field, f"must be a number or a quantity in {si}, got {value!r}")
     if isinstance(value, (int, float)):
-        out = float(value)
+        try:
+            out = float(value)
+        except OverflowError:  # a whole number beyond float range (about 1.8e308)
+            raise InputError(file, field, f"must be finite, got a {len(str(abs(value)))}-digit number") from None
     elif isinstance(value, str):
         text = value.strip()
         try:
@@ -80,7 +84,34 @@ def quantity(value: Any, dimension: str, *, file: str = "<api>", field: str = "v
     return out
 
 
+#: "<number> <unit>" with a unit that starts with a letter: the unit's factor is looked up once
+_NUMBER_UNIT = re.compile(r"\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*([A-Za-zµ°Ω][A-Za-z0-9_µ°Ω*/^. ]*?)\s*")
+
+
+@lru_cache(maxsize=512)
+def _unit_factor(unit: str, dimension: str) -> float | None:
+    """SI value of one ``unit`` for ``dimension`` (None when pint refuses it: the full parse then
+    gives the message). Temperatures are affine, not a factor: never here."""
+    if dimension == "temperature":
+        return None
+    try:
+        return _parse_pint(f"1 {unit}", dimension, SI_UNITS[dimension], "<unit>", "unit")
+    except InputError:
+        return None
+
+
 def _parse(text: str, dimension: str, si: str, file: str, field: str) -> float:
+    # Large projects hold tens of thousands of quantities; pint takes about a millisecond for
+    # each, so "<number> <unit>" is read as number × (the unit's SI factor, found once).
+    m = _NUMBER_UNIT.fullmatch(text)
+    if m is not None and dimension != "temperature":
+        factor = _unit_factor(m.group(2), dimension)
+        if factor is not None:
+            return float(m.group(1)) * factor
+    return _parse_pint(text, dimension, si, file, field)
+
+
+def _parse_pint(text: str, dimension: str, si: str, file: str, field: str) -> float:
     import pint
 
     ureg = registry()

@@ -242,6 +242,8 @@ def _csv_lines(path: Path) -> tuple[int, list[str], list[tuple[int, list[str]]]]
                      if any(c.strip() for c in cells) and not cells[0].lstrip().startswith("#")]
     except UnicodeDecodeError:
         raise InputError(file, "(encoding)", "must be UTF-8 text") from None
+    except OSError as exc:
+        raise InputError(file, "(file)", f"cannot be read ({exc.strerror or exc})") from None
     except csv.Error as exc:
         raise InputError(file, "(syntax)", f"malformed CSV: {exc}") from None
     if not lines:

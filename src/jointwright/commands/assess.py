@@ -10,6 +10,7 @@ from ..assessment import assess
 from ..design import load_design
 from ..project import load_project
 from ._format import console, emit_json, num, pct, table
+from ._progress import status_line
 
 #: metric -> (label, unit) in the order shown
 SHOWN = {
@@ -99,9 +100,10 @@ def print_assessment(a) -> None:
 @click.option("--json", "as_json", is_flag=True, help="machine-readable output")
 def command(project: Path, design_file: Path, as_json: bool):
     """Every metric of the design in DESIGN for the cases of PROJECT, with margins."""
-    p = load_project(project)
-    d = load_design(design_file, p)
-    a = assess(p, d)
+    with status_line():
+        p = load_project(project)
+        d = load_design(design_file, p)
+        a = assess(p, d)
     if as_json:
         emit_json(a.to_dict())
     else:

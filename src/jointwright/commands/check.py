@@ -9,6 +9,10 @@ import click
 
 from ..project import load_project
 from ._format import console, emit_json, num, table
+from ._progress import status_line
+
+#: cases listed in the terminal table (all of them are in --json)
+SHOWN_CASES = 200
 
 
 def project_summary(p, evaluator=None) -> dict:
@@ -67,9 +71,10 @@ def command(project: Path, as_json: bool):
     """Validate PROJECT (robot, catalogs, cases, requirements) and summarize it."""
     from ..evaluate import Evaluator
 
-    p = load_project(project)
-    # the same preparation assess and size make (poses, trajectories), so check rejects what they would
-    evaluator = Evaluator(p)
+    with status_line():
+        p = load_project(project)
+        # the same preparation assess and size make (poses, trajectories): check rejects what they would
+        evaluator = Evaluator(p)
     s = project_summary(p, evaluator)
     if as_json:
         emit_json(_finite(s))
@@ -103,12 +108,15 @@ def command(project: Path, as_json: bool):
                       t["efficiency"]] for t in c["stage_types"]]))
     units = {"payload_min": "N", "imf_min": "", "directional_imf_min": "", "effective_mass_max": "kg",
              "backdrive_force_max": "N", "speed_min": "m/s", "temperature_margin_min": "K"}
+    more = len(s["cases"]) - SHOWN_CASES
     con.print(table("Cases", ["case", "kind", "frame", "direction", "motion", "requirements"],
                     [[x["name"], x["kind"], x["frame"] or "—",
                       "—" if x["direction"] is None else "(" + ", ".join(f"{v:.3g}" for v in x["direction"]) + ")",
                       x["motion"] or "—",
                       "; ".join(f"{k.replace('_', ' ')} {num(v, units.get(k, ''))}" for k, v in x["limits"].items()) or "—"]
-                     for x in s["cases"]]))
+                     for x in s["cases"][:SHOWN_CASES]],
+                    caption=f"the first {SHOWN_CASES} of {len(s['cases']):,} cases; --json lists all"
+                    if more > 0 else None))
     req = s["requirements"]
     line = f"total actuator mass ≤ {num(req['total_mass_max'], 'kg')}" if math.isfinite(req["total_mass_max"]) else "no total mass budget"
     con.print("requirements: " + line)

@@ -9,6 +9,7 @@ import click
 
 from ..project import load_project
 from ._format import console, emit_json, num, table
+from ._output import atomic_folder, check_target, project_inputs, write_text
 
 UNITS = {"imf": "", "effective_mass": "kg", "backdrive_force": "N"}
 
@@ -44,7 +45,9 @@ def print_frontier(f) -> None:
               help="write frontier.png and frontier.svg into this folder")
 @click.option("--frictionless", is_flag=True,
               help="also sweep with every gear frictionless (η = 1 both ways), for comparison")
-def command(project: Path, measure, case_name, points, time_limit, as_json, out, plot_dir, frictionless):
+@click.option("--force", is_flag=True, help="replace an existing --out file or --plot figures")
+def command(project: Path, measure, case_name, points, time_limit, as_json, out, plot_dir, frictionless,
+            force):
     """Payload versus MEASURE over the non-dominated designs of PROJECT (exact ε-constraint sweep)."""
     from ..errors import InputError
     from ..frontier import frontier
@@ -52,6 +55,11 @@ def command(project: Path, measure, case_name, points, time_limit, as_json, out,
     if time_limit is not None and time_limit <= 0:
         raise InputError("<command line>", "--time-limit", f"must be > 0 s, got {time_limit}")
     p = load_project(project)
+    inputs = project_inputs(p)
+    if out is not None:
+        check_target(out, "--out", inputs=inputs, force=force)
+    if plot_dir is not None:
+        check_target(plot_dir, "--plot", inputs=inputs, force=force, exists_hint="frontier.png")
     f = frontier(p, measure, case=case_name, points=points, time_limit=time_limit)
     data = f.to_dict()
     ideal = None
@@ -60,9 +68,10 @@ def command(project: Path, measure, case_name, points, time_limit, as_json, out,
                          time_limit=time_limit)
         data["frictionless"] = ideal.to_dict()
     if plot_dir is not None:
-        write_plot(f, ideal, plot_dir)
+        with atomic_folder(plot_dir, "--plot") as tmp:
+            write_plot(f, ideal, tmp)
     if out is not None:
-        out.write_text(json.dumps(data, indent=2, allow_nan=False) + "\n", encoding="utf-8")
+        write_text(out, json.dumps(data, indent=2, allow_nan=False) + "\n")
     if as_json:
         emit_json(data)
     else:

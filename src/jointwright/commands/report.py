@@ -12,6 +12,7 @@ from ..design import load_design
 from ..errors import InputError
 from ..project import load_project
 from ._format import console, emit_json, table
+from ._output import _key, atomic_folder, check_target, project_inputs
 
 
 def _json(path: Path | None, option: str):
@@ -39,14 +40,19 @@ def _json(path: Path | None, option: str):
 @click.option("--study", "study_store", type=click.Path(path_type=Path), default=None,
               help="study store (SQLite): adds the study's case table and plots")
 @click.option("--json", "as_json", is_flag=True, help="print the written paths as JSON")
+@click.option("--force", is_flag=True, help="replace an existing report.html in the --out folder")
 def command(project: Path, design_file: Path, out_dir: Path | None, sizing_file: Path | None,
-            frontier_file: Path | None, study_store: Path | None, as_json: bool):
+            frontier_file: Path | None, study_store: Path | None, as_json: bool, force: bool):
     """Write the HTML report of the design in DESIGN for PROJECT (figures embedded)."""
     from ..report import build_report
 
     p = load_project(project)
     d = load_design(design_file, p)
     out = out_dir if out_dir is not None else p.base_dir / "report"
+    inputs = project_inputs(p) | {Path(f) for f in (design_file, sizing_file, frontier_file, study_store) if f}
+    if out.exists() and not out.is_dir() and _key(out) not in {_key(f) for f in inputs}:
+        raise InputError(str(out), "--out", "must be a folder, not a file")
+    check_target(out, "--out", inputs=inputs, force=force, exists_hint="report.html")
     study = None
     if study_store is not None:
         from ..report.study import study_data
@@ -54,8 +60,10 @@ def command(project: Path, design_file: Path, out_dir: Path | None, sizing_file:
         if not study_store.is_file():
             raise InputError(str(study_store), "--study", "no such study store (SQLite file)")
         study = study_data(study_store)
-    path = build_report(p, d, out, sizing=_json(sizing_file, "--sizing"),
-                        frontier=_json(frontier_file, "--frontier"), study=study)
+    sizing, frontier = _json(sizing_file, "--sizing"), _json(frontier_file, "--frontier")
+    with atomic_folder(out, "--out") as tmp:
+        built = build_report(p, d, tmp, sizing=sizing, frontier=frontier, study=study)
+    path = out / built.relative_to(tmp)
     # the figures this report links (a reused folder may hold older ones)
     names = sorted(set(re.findall(r"figures/([^/\s)]+)\.png", path.read_text(encoding="utf-8"))))
     folder = path.parent / "figures"

@@ -11,6 +11,7 @@ from ..design import design_to_toml
 from ..errors import InputError
 from ..project import load_project
 from ._format import console, emit_json, num, pct, table
+from ._output import check_target, project_inputs, write_text
 
 UNITS = {"payload": "N", "mass": "kg", "imf": ""}
 
@@ -81,21 +82,24 @@ def print_result(r) -> None:
 @click.option("--backend", type=click.Choice(["search", "pyomo"]), default="search")
 @click.option("--time-limit", type=float, default=None, help="seconds; then best design with bound and gap")
 @click.option("--out", type=click.Path(path_type=Path), default=None, help="write the design file here")
+@click.option("--force", is_flag=True, help="replace an existing --out file (inputs are never replaced)")
 @click.option("--json", "as_json", is_flag=True, help="machine-readable output")
-def command(project: Path, objective, backend, time_limit, out, as_json):
+def command(project: Path, objective, backend, time_limit, out, force, as_json):
     """Choose motor, stage stack and ratio for every joint of PROJECT (proven optimum)."""
     from ..sizing import size
 
     if time_limit is not None and time_limit <= 0:
         raise InputError("<command line>", "--time-limit", f"must be > 0 s, got {time_limit}")
     p = load_project(project)
+    if out is not None:
+        check_target(out, "--out", inputs=project_inputs(p), force=force)
     progress = Progress(not as_json)
     try:
         r = size(p, objective=objective, backend=backend, time_limit=time_limit, progress=progress)
     finally:
         progress.stop()
     if out is not None and r.design is not None:
-        out.write_text(design_to_toml(r.design) + "\n", encoding="utf-8")
+        write_text(out, design_to_toml(r.design) + "\n")
     from ..assessment import unloaded_joints
 
     unloaded = unloaded_joints(p)

@@ -8,6 +8,11 @@ import click
 
 from ._format import console, emit_json
 
+#: exit status when the study ran but some or all of its cases failed (bad input: 2)
+EXIT_CASES_FAILED = 3
+#: failed cases listed in the summary
+SHOWN_FAILURES = 5
+
 
 @click.command("study")
 @click.argument("study", type=click.Path(path_type=Path))
@@ -20,36 +25,49 @@ from ._format import console, emit_json
 @click.option("--retry-failed", is_flag=True, help="with --resume, run failed cases again")
 @click.option("--csv", "csv_path", type=click.Path(path_type=Path), default=None,
               help="also export the summary table as CSV")
+@click.option("--force", is_flag=True, help="replace an existing --csv file")
 @click.option("--json", "as_json", is_flag=True, help="machine-readable summary")
 def command(study: Path, store: Path | None, workers, scheduler, resume, restart, retry_failed,
-            csv_path, as_json):
+            csv_path, force, as_json):
     """Run every case of STUDY (sizing or frontier per case); each finished case is stored at once,
     so an interrupted run loses nothing and --resume goes on where it stopped."""
     from ..errors import InputError
-    from ..study import export_csv, run_study, summary_table
+    from ..study import export_csv, load_study, run_study, summary_table
+    from ._output import check_target
 
     if workers is not None and scheduler is not None:
         raise InputError(str(study), "--workers", "give either --workers or --scheduler, not both")
     store = store or study.with_name("results.sqlite")
-    outcome = run_study(study, store, workers=workers, scheduler=scheduler, resume=resume,
+    spec = load_study(study)
+    inputs = {study, spec.base_file, *(spec.base_dir / f for f in spec.definition["study"].get("inputs", []))}
+    check_target(store, "--store", inputs=inputs, force=True)
+    if csv_path is not None:
+        check_target(csv_path, "--csv", inputs=inputs | {store}, force=force)
+    outcome = run_study(spec, store, workers=workers, scheduler=scheduler, resume=resume,
                         restart=restart, retry_failed=retry_failed, progress=not as_json)
     if csv_path is not None:
         export_csv(store, csv_path)
+    from ..study import read_cases
+
+    rows = read_cases(store)
+    failures = [{"case_id": r.case_id, "variant": r.variant, "params": r.params, "error": r.error}
+                for r in rows if r.status == "failed"]
     if as_json:
         emit_json({"store": str(outcome.store), "total": outcome.total, "done": outcome.done_total,
                    "failed": outcome.failed_total, "skipped": outcome.skipped,
                    "wall_time": outcome.wall_time, "case_time": outcome.case_time,
-                   "workers": outcome.workers, "backend": outcome.backend})
+                   "workers": outcome.workers, "backend": outcome.backend,
+                   "failures": failures[:SHOWN_FAILURES]})
+        if failures:
+            raise SystemExit(EXIT_CASES_FAILED)
         return
     con = console()
     con.print(f"study {study}: {outcome.done_total} done, {outcome.failed_total} failed of "
               f"{outcome.total} cases ({outcome.skipped} already stored); {outcome.wall_time:.1f} s "
               f"on {outcome.workers} {outcome.backend} workers; results in {outcome.store}")
     key = ["sizing_status", "objective", "gap", "total_mass", "points", "knee_payload", "knee_measure"]
-    from ..study import read_cases
-
     present = set()
-    for row in read_cases(store):
+    for row in rows:
         present.update(row.metrics)
     shown = [m for m in key if m in present] or None
     con.print(summary_table(store, shown, max_rows=40))
@@ -57,3 +75,20 @@ def command(study: Path, store: Path | None, workers, scheduler, resume, restart
               "wall_time in s. All metrics: --csv FILE, or open the SQLite store.")
     if csv_path is not None:
         con.print(f"summary written to {csv_path}")
+    if failures:
+        print_failures(failures, len(rows), store)
+        raise SystemExit(EXIT_CASES_FAILED)
+
+
+def print_failures(failures: list[dict], stored: int, store: Path) -> None:
+    """The count and the first errors of the failed cases, on stderr (the table is on stdout)."""
+    import click
+
+    click.echo(f"jointwright: {len(failures)} of {stored} stored cases failed; first "
+               f"{min(len(failures), SHOWN_FAILURES)}:", err=True)
+    for f in failures[:SHOWN_FAILURES]:
+        where = ", ".join(f"{k} = {v!r}" for k, v in f["params"].items())
+        label = f"{f['case_id']}" + (f" ({f['variant']})" if f["variant"] else "")
+        click.echo(f"  {label} [{where}]: {f['error']}", err=True)
+    click.echo(f"  all errors and tracebacks: the cases table of {store}; after a fix, run again "
+               "with --resume --retry-failed", err=True)

@@ -18,6 +18,7 @@ import multiprocessing.connection
 import os
 import signal
 import socket
+import sqlite3
 import threading
 import time
 import traceback
@@ -525,12 +526,37 @@ def run_study(
     fn = resolve_case_fn(case_fn)
     fn_ref = DEFAULT_CASE_FN if case_fn is None else (case_fn if isinstance(case_fn, str) else fn)
     cases = expand(spec)
+    if fn_ref == DEFAULT_CASE_FN:
+        from .tasks import check_study_options, check_study_values
+
+        check_study_options(spec)
+        check_study_values(spec)
     store = StudyStore.open(store_path, spec, len(cases), restart=restart)
     try:
         todo = _select(cases, store.statuses(), Path(store_path), resume, retry_failed)
         return _run(spec, store, cases, todo, fn_ref, workers, scheduler, progress, t0)
+    except sqlite3.DatabaseError as exc:
+        raise _fault(store.path, exc) from None
+    except OSError as exc:
+        raise _fault(store.path, exc) from None
     finally:
         store.close()
+
+
+def _fault(path: Path, exc: BaseException) -> InputError:
+    """One line for a run stopped by a fault outside the cases (full disk, I/O error, damage)."""
+    text = str(exc) if not isinstance(exc, OSError) or not exc.strerror else exc.strerror
+    if isinstance(exc, sqlite3.DatabaseError) and any(
+            w in text for w in ("malformed", "corrupt", "not a database")):
+        from .store import damaged
+
+        return damaged(path, exc)
+    return InputError(
+        str(path), "(run)",
+        f"the run stopped on a fault ({type(exc).__name__}: {text}); every case finished before "
+        "it is in the store and the run is marked interrupted. Fix the cause (free disk space, "
+        "permissions), then resume to run only the missing cases",
+    )  # fmt: skip
 
 
 def _run(spec, store, cases, todo, fn_ref, workers, scheduler, show, t0) -> StudyOutcome:
@@ -565,8 +591,12 @@ def _run(spec, store, cases, todo, fn_ref, workers, scheduler, show, t0) -> Stud
         elif todo:
             slots = _run_dask(todo, build, sink, scheduler, fn_ref)
     except BaseException:
-        store.finish_run(run_id, "interrupted", counts["done"], counts["failed"])
-        bar.close(outcome(), interrupted=True)
+        try:  # may fail too (a full disk); the next run then marks this one interrupted
+            store.finish_run(run_id, "interrupted", counts["done"], counts["failed"])
+            summary = outcome()
+        except (sqlite3.Error, OSError):
+            summary = None
+        bar.close(summary, interrupted=True)
         raise
     store.finish_run(run_id, "complete", counts["done"], counts["failed"])
     result = outcome()

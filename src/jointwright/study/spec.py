@@ -33,6 +33,9 @@ COMBINE = ("product", "zip")
 MAX_CASES = 1_000_000
 
 _BARE = re.compile(r"[A-Za-z0-9_-]+")
+_NUMBER_FIRST = re.compile(r"\s*[-+]?(\d|\.\d|inf|nan)", re.IGNORECASE)
+#: project fields that are text, not numbers: never varied (a [[variant]] may set them)
+TEXT_FIELDS = ("project.name", "project.summary")
 _INDEX = re.compile(r"\[(\d+)\]")
 
 
@@ -295,6 +298,13 @@ def _parameter(t: Table, base: dict, file: str) -> Parameter:
             file, t.field("path"), f"{text!r} is a table or list in the base project; "
             "a varied parameter must be a number or quantity (use a [[variant]] to replace it)",
         )  # fmt: skip
+    if format_path(steps) in TEXT_FIELDS or (
+            isinstance(current, str) and not _NUMBER_FIRST.match(current)) or isinstance(current, bool):
+        raise InputError(
+            file, t.field("path"), f"{text!r} is text or true/false in the base project, not a "
+            "number or quantity; only numbers and quantities can be varied (a [[variant]] may "
+            "set other values)",
+        )  # fmt: skip
     kinds = [k for k in ("values", "grid", "random") if t.has(k)]
     if len(kinds) != 1:
         raise InputError(file, t.field("path"), "give exactly one of values, grid or random")
@@ -359,6 +369,8 @@ def _is_number(v: Any) -> bool:
 def _as_quantity(v: Any, file: str, field: str):
     """(magnitude, unit text or None, dimensionality or None) of a number or quantity string."""
     if _is_number(v):
+        if isinstance(v, int) and abs(v) > 2**1023:
+            raise InputError(file, field, f"must be finite, got a {len(str(abs(v)))}-digit number")
         if not math.isfinite(v):
             raise InputError(file, field, f"must be finite, got {v!r}")
         return float(v), None, None
@@ -370,6 +382,10 @@ def _as_quantity(v: Any, file: str, field: str):
         return float(v), None, None
     except ValueError:
         pass
+    if not _NUMBER_FIRST.match(v):
+        raise InputError(
+            file, field, f"must be a number or a quantity string such as '2 kg', got {v!r}"
+        )
     from ..units import registry
 
     try:
@@ -426,6 +442,9 @@ def _count(t: Table, key: str) -> int:
     n = t.raw(key)
     if not isinstance(n, int) or isinstance(n, bool) or n < 1:
         raise InputError(t.file, t.field(key), f"must be a whole number >= 1, got {n!r}")
+    if n > MAX_CASES:
+        raise InputError(t.file, t.field(key), f"must be at most {MAX_CASES} (the most cases a "
+                         f"study may have), got {n if n < 10**12 else f'a {len(str(n))}-digit number'}")
     return n
 
 

@@ -16,6 +16,12 @@ Tables (see docs/study-format.md for the full schema):
 Every finished case is written in its own transaction (WAL journal, synchronous=FULL), so a run
 killed at any point keeps every case that finished before it. No pickle: everything is JSON,
 text or numbers.
+
+One writer at a time: :meth:`StudyStore.open` takes an exclusive lock on ``<store>.lock`` (an
+operating-system file lock, released by the kernel when the process ends, however it ends) and
+writes its pid, host and start time there, so a second writer is refused with a message naming
+the first. Readers take no lock. A run found still marked ``running`` by the next writer (its
+process was killed) is marked ``interrupted``.
 """
 
 from __future__ import annotations
@@ -117,15 +123,110 @@ class CaseRecord:
     worker: str = ""
 
 
+class WriterLock:
+    """An exclusive operating-system lock on ``<store>.lock``, held while a store is written.
+
+    The lock file records ``pid``, ``host`` and ``since`` (UTC) of the holder as JSON, which a
+    refused writer reports. The kernel drops the lock when the holder's process ends, so a killed
+    run never leaves a stale lock; the file itself may stay and is harmless. (POSIX ``flock``;
+    ``msvcrt.locking`` on Windows. Network file systems may not honour either.)
+    """
+
+    def __init__(self, store: Path):
+        self.path = Path(f"{store}.lock")
+        self._fh = None
+
+    def acquire(self, store: Path) -> None:
+        try:
+            fh = open(self.path, "a+", encoding="utf-8")
+        except OSError as exc:
+            raise InputError(str(store), "(lock)", f"cannot create the writer lock {self.path.name} "
+                             f"({exc.strerror or exc})") from None
+        if not _try_lock(fh):
+            fh.seek(0)
+            holder = _holder(fh.read())
+            fh.close()
+            raise InputError(
+                str(store), "(lock)",
+                f"another run is writing to this store ({holder}); wait for it to end, or give "
+                "another store file. Reading the store (summaries, reports) is fine meanwhile",
+            )  # fmt: skip
+        fh.seek(0)
+        fh.truncate()
+        fh.write(json.dumps({"pid": os.getpid(), "host": socket.gethostname(), "since": _now()}))
+        fh.flush()
+        self._fh = fh
+
+    def release(self) -> None:
+        if self._fh is not None:
+            try:
+                self._fh.seek(0)
+                self._fh.truncate()
+            except OSError:
+                pass
+            _unlock(self._fh)
+            self._fh.close()
+            self._fh = None
+
+
+def _try_lock(fh) -> bool:
+    try:
+        import fcntl
+    except ImportError:  # Windows
+        import msvcrt
+
+        try:
+            fh.seek(0)
+            msvcrt.locking(fh.fileno(), msvcrt.LK_NBLCK, 1)
+            return True
+        except OSError:
+            return False
+    try:
+        fcntl.flock(fh.fileno(), fcntl.LOCK_EX | fcntl.LOCK_NB)
+        return True
+    except BlockingIOError:
+        return False
+    except OSError as exc:  # a file system without locks: say so rather than run unguarded
+        raise InputError(fh.name, "(lock)", f"the file system does not support locking "
+                         f"({exc.strerror or exc}); put the store on a local disk") from None
+
+
+def _unlock(fh) -> None:
+    try:
+        import fcntl
+    except ImportError:  # Windows
+        import msvcrt
+
+        try:
+            fh.seek(0)
+            msvcrt.locking(fh.fileno(), msvcrt.LK_UNLCK, 1)
+        except OSError:
+            pass
+        return
+    fcntl.flock(fh.fileno(), fcntl.LOCK_UN)
+
+
+def _holder(text: str) -> str:
+    try:
+        info = json.loads(text)
+        return f"process {int(info['pid'])} on host {info['host']}, since {info['since']}"
+    except (ValueError, KeyError, TypeError):
+        return "a process that has not yet written its name"
+
+
 class StudyStore:
-    """Read-write access to one study's SQLite file. The runner's parent process alone writes.
+    """Read-write access to one study's SQLite file. The runner's parent process alone writes,
+    and only one process at a time (see :class:`WriterLock`).
 
     Use :meth:`open`; close with :meth:`close` (or as a context manager).
     """
 
-    def __init__(self, path: Path, conn: sqlite3.Connection):
-        self.path, self._conn = path, conn
-        cols = [r[1] for r in conn.execute("PRAGMA table_info(cases)")]
+    def __init__(self, path: Path, conn: sqlite3.Connection, lock: WriterLock | None = None):
+        self.path, self._conn, self._lock = path, conn, lock
+        try:
+            cols = [r[1] for r in conn.execute("PRAGMA table_info(cases)")]
+        except sqlite3.DatabaseError as exc:
+            raise damaged(path, exc) from None
         self._columns = {c.lower(): c for c in cols}
 
     # -------------------------------------------------------------------------- opening
@@ -138,9 +239,27 @@ class StudyStore:
         one to ``<name>.<UTC time>.bak``.
         """
         path = Path(path)
+        lock = WriterLock(path)
+        lock.acquire(path)
+        try:
+            return cls._open_locked(path, spec, case_count, restart, lock)
+        except BaseException:
+            lock.release()
+            raise
+
+    @classmethod
+    def _open_locked(cls, path: Path, spec, case_count: int, restart: bool, lock) -> StudyStore:
         if path.exists():
-            old = _read_study_row(path)
-            if restart:
+            try:
+                old = _read_study_row(path)
+            except InputError as exc:
+                if not (restart and "damaged" in exc.rule):
+                    raise
+                old = None
+                _move_aside(path)  # a damaged store is kept byte for byte, not copied by SQLite
+            if old is None:
+                pass
+            elif restart:
                 backup_store(path)
             elif old["study_hash"] != spec.hash:
                 raise InputError(
@@ -151,14 +270,32 @@ class StudyStore:
                     "backup), or use another store file",
                 )  # fmt: skip
             else:
-                return cls(path, _connect(path))
+                store = cls(path, _connect(path), lock)
+                store._close_dead_runs()
+                return store
         conn = _connect(path)
-        _create(conn, spec, case_count)
-        return cls(path, conn)
+        try:
+            _create(conn, spec, case_count)
+        except sqlite3.Error as exc:
+            conn.close()
+            raise InputError(str(path), "(file)", f"cannot create the store ({exc})") from None
+        return cls(path, conn, lock)
+
+    def _close_dead_runs(self) -> None:
+        """Runs still marked ``running`` belong to processes that ended without saying so (we
+        hold the writer lock, so none is alive): mark them ``interrupted``."""
+        try:
+            self._conn.execute("UPDATE runs SET status = 'interrupted' WHERE status = 'running'")
+        except sqlite3.DatabaseError as exc:
+            raise damaged(self.path, exc) from None
 
     def close(self) -> None:
-        """Close the connection (finished cases are already committed)."""
-        self._conn.close()
+        """Close the connection (finished cases are already committed) and release the lock."""
+        try:
+            self._conn.close()
+        finally:
+            if self._lock is not None:
+                self._lock.release()
 
     def __enter__(self) -> StudyStore:
         return self
@@ -219,6 +356,8 @@ class StudyStore:
                 return record
             if prior is not None:
                 conn.execute("DELETE FROM cases WHERE case_id = ?", (case.id,))
+            if any(name.lower() not in self._columns for name in row):  # look again, then add
+                self._columns = {c[1].lower(): c[1] for c in conn.execute("PRAGMA table_info(cases)")}
             for name in row:
                 if name.lower() not in self._columns:
                     conn.execute(f"ALTER TABLE cases ADD COLUMN {quote_identifier(name)}")
@@ -227,8 +366,12 @@ class StudyStore:
             conn.execute(f"INSERT INTO cases ({names}) VALUES ({marks})", tuple(row.values()))
             conn.execute("COMMIT")
         except BaseException:
-            conn.execute("ROLLBACK")
-            self._columns = {c[1].lower(): c[1] for c in conn.execute("PRAGMA table_info(cases)")}
+            try:  # SQLite may have rolled back already (a full disk does)
+                if conn.in_transaction:
+                    conn.execute("ROLLBACK")
+                self._columns = {c[1].lower(): c[1] for c in conn.execute("PRAGMA table_info(cases)")}
+            except sqlite3.Error:
+                pass
             raise
         self._columns.update({n.lower(): n for n in row})
         return record
@@ -242,6 +385,16 @@ class StudyStore:
                 return CaseRecord("failed", error=f"ValueError: {rule}", wall_time=record.wall_time,
                                   worker=record.worker)  # fmt: skip
         return record
+
+
+def damaged(path: Path, exc: BaseException) -> InputError:
+    """The one-line error for a store SQLite cannot read (a damaged page, a truncated file)."""
+    return InputError(
+        str(path), "(file)",
+        f"the store is damaged or unreadable ({exc}); its finished cases may still be read with "
+        "the sqlite3 tool's .recover command. Start a new store (restart keeps this one as a "
+        "backup) or give another store file",
+    )  # fmt: skip
 
 
 def _connect(path: Path) -> sqlite3.Connection:
@@ -273,14 +426,29 @@ def _create(conn: sqlite3.Connection, spec, case_count: int) -> None:
     conn.execute("COMMIT")
 
 
-def backup_store(path: str | Path) -> Path:
-    """Copy the store (with its WAL content) to ``<name>.<UTC time>.bak`` and delete it."""
-    path = Path(path)
+def _backup_name(path: Path) -> Path:
     stamp = _dt.datetime.now(_dt.timezone.utc).strftime("%Y%m%dT%H%M%SZ")
     target = path.with_name(f"{path.name}.{stamp}.bak")
     k = 1
     while target.exists():
         target, k = path.with_name(f"{path.name}.{stamp}-{k}.bak"), k + 1
+    return target
+
+
+def _move_aside(path: Path) -> Path:
+    """Rename a damaged store (and its -wal, -shm files) to ``<name>.<UTC time>.bak[-wal|-shm]``."""
+    target = _backup_name(path)
+    for suffix in ("-wal", "-shm", ""):
+        extra = Path(f"{path}{suffix}")
+        if extra.exists():
+            os.replace(extra, Path(f"{target}{suffix}"))
+    return target
+
+
+def backup_store(path: str | Path) -> Path:
+    """Copy the store (with its WAL content) to ``<name>.<UTC time>.bak`` and delete it."""
+    path = Path(path)
+    target = _backup_name(path)
     src = sqlite3.connect(path)
     dst = sqlite3.connect(target)
     try:
@@ -350,6 +518,10 @@ def _query(path: str | Path, sql: str) -> list[dict]:
         cur = conn.execute(sql)
         names = [d[0] for d in cur.description]
         return [dict(zip(names, r)) for r in cur.fetchall()]
+    except sqlite3.DatabaseError as exc:
+        if any(w in str(exc) for w in ("malformed", "corrupt", "disk I/O error")):
+            raise damaged(Path(path), exc) from None
+        raise
     finally:
         conn.close()
 
@@ -357,6 +529,12 @@ def _query(path: str | Path, sql: str) -> list[dict]:
 def _read_study_row(path: Path) -> dict:
     try:
         rows = _query(path, "SELECT * FROM study")
+    except sqlite3.OperationalError as exc:
+        if "no such table" not in str(exc):
+            raise damaged(path, exc) from None
+        raise InputError(
+            str(path), "(file)", "is not a jointwright study store (no readable study table)"
+        ) from None
     except sqlite3.Error:
         raise InputError(
             str(path), "(file)", "is not a jointwright study store (no readable study table)"

@@ -9,6 +9,8 @@ from __future__ import annotations
 
 import csv
 import math
+import os
+import tempfile
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Sequence
@@ -93,11 +95,30 @@ def export_csv(
     """Write :func:`summary_rows` as CSV (UTF-8, header row; empty cell for missing values)."""
     header, rows = summary_rows(store, metrics)
     csv_path = Path(csv_path)
-    with csv_path.open("w", newline="", encoding="utf-8") as fh:
-        writer = csv.writer(fh)
-        writer.writerow(header)
-        writer.writerows([["" if v is None else v for v in row] for row in rows])
+    # a temporary file beside the target, renamed over it: a failed write keeps the old file
+    fd, name = tempfile.mkstemp(prefix=f".{csv_path.name}.", suffix=".tmp", dir=csv_path.parent)
+    try:
+        with os.fdopen(fd, "w", newline="", encoding="utf-8") as fh:
+            writer = csv.writer(fh)
+            writer.writerow(header)
+            writer.writerows([["" if v is None else v for v in row] for row in rows])
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.chmod(name, 0o666 & ~_umask())
+        os.replace(name, csv_path)
+    except OSError as exc:
+        raise InputError(str(csv_path), "csv", f"cannot be written ({exc.strerror or exc}); "
+                         "any earlier file there is unchanged") from None
+    finally:
+        if os.path.exists(name):
+            os.unlink(name)
     return csv_path
+
+
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
 
 
 def _cell(v: Any) -> str:

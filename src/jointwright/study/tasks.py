@@ -10,12 +10,101 @@ options (all optional): ``objective`` (payload / mass / imf), ``backend`` (searc
 
 from __future__ import annotations
 
+import re
 from pathlib import Path
 
 from ..errors import InputError
 
 TASKS = ("size", "frontier")
 _OPTIONS = {"objective", "backend", "time_limit", "measure", "points", "case"}
+
+
+_CHOICES = {"objective": ("payload", "mass", "imf"), "backend": ("search", "pyomo"),
+            "measure": ("imf", "effective_mass", "backdrive_force")}
+
+
+def check_options(options: dict, file: str, field: str) -> None:
+    """Raise InputError for an option this case function does not know or a value it cannot use,
+    naming the study file and ``<field>.<option>``; called before any case runs."""
+    import difflib
+    import math
+
+    for key, value in options.items():
+        where = f"{field}.{key}"
+        if key not in _OPTIONS:
+            close = difflib.get_close_matches(key, sorted(_OPTIONS), n=1)
+            hint = f" (did you mean {close[0]!r}?)" if close else ""
+            raise InputError(file, where, f"unknown option{hint}; known: {', '.join(sorted(_OPTIONS))}")
+        if key in _CHOICES:
+            if value not in _CHOICES[key]:
+                raise InputError(file, where, f"must be one of {', '.join(_CHOICES[key])}, got {value!r}")
+        elif key == "time_limit":
+            ok = isinstance(value, (int, float)) and not isinstance(value, bool)
+            if not ok or not math.isfinite(value) or value <= 0:
+                raise InputError(file, where, f"must be a number of seconds > 0, got {value!r}")
+        elif key == "points":
+            if not isinstance(value, int) or isinstance(value, bool) or value < 1:
+                raise InputError(file, where, f"must be a whole number >= 1, got {value!r}")
+        elif key == "case" and not (isinstance(value, str) and value):
+            raise InputError(file, where, f"must be a case name of the base project, got {value!r}")
+
+
+def check_study_options(spec) -> None:
+    """Check the options of a study (``[options]`` and each variant's) for :func:`run_case`."""
+    check_options(spec.options, spec.file, "options")
+    for i, v in enumerate(spec.variants):
+        if v.options:
+            check_options(v.options, spec.file, f"variant[{i}].options")
+
+
+def check_study_values(spec) -> None:
+    """Load the base project once per varied parameter written with units, with that
+    parameter's first value set: a unit the project cannot take there (``"3 m"`` for a mass) is
+    rejected before any case runs, naming the study file and the ``[[vary]]`` entry. (The
+    values of one parameter share one dimension, so the first stands for all.) Other problems
+    of that project are left to the cases, which record them."""
+    for i, p in enumerate(spec.parameters):
+        value = p.values[0]
+        if not isinstance(value, str):
+            continue
+        try:
+            float(value)
+            continue
+        except ValueError:
+            pass
+        error = _load_error(spec, p.path, value)
+        if error is None or error.field != p.path:
+            continue
+        m = re.match(r"\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?", value)
+        if m and _load_error(spec, p.path, _number(m.group().strip())) is None:  # the number fits, the unit not
+            raise InputError(spec.file, f"vary[{i}].{p.source}",
+                             f"{value!r} for {p.path}: {error.rule}") from None
+
+
+def _number(text: str):
+    try:
+        return int(text)
+    except ValueError:
+        try:
+            return float(text)
+        except ValueError:
+            return text
+
+
+def _load_error(spec, path: str, value) -> InputError | None:
+    """The error the project loader raises for the base project with ``path`` set to ``value``."""
+    import copy
+
+    from ..project import project_from_dict
+    from .spec import set_path
+
+    project = copy.deepcopy(spec.base_project)
+    set_path(project, path, value)
+    try:
+        project_from_dict(project, spec.base_dir / "project (study case).toml")
+    except InputError as exc:
+        return exc
+    return None
 
 
 def run_case(project: dict, base_dir: Path, task: str, options: dict) -> dict:

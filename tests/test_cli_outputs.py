@@ -1,0 +1,146 @@
+"""Outputs never overwrite inputs, replace an existing file only with --force, and are written
+through a temporary file and a rename, so a failed write leaves the old file as it was.
+(Atomic replacement by rename within one file system: POSIX rename(2) [trade].)"""
+
+from __future__ import annotations
+
+import json
+import os
+import shutil
+from importlib import resources
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+
+from jointwright.cli import main
+from jointwright.commands import _output
+from jointwright.errors import InputError
+
+
+def _leg(tmp_path: Path) -> Path:
+    with resources.as_file(resources.files("jointwright.examples") / "leg") as src:
+        shutil.copytree(src, tmp_path / "leg")
+    return tmp_path / "leg"
+
+
+def _run(args):
+    return CliRunner().invoke(main, [str(a) for a in args])
+
+
+@pytest.mark.parametrize("name", ["project.toml", "catalog.toml", "leg.urdf", "gait.csv"])
+def test_size_refuses_every_input_as_out_even_with_force(tmp_path, name):
+    d = _leg(tmp_path)
+    before = (d / name).read_bytes()
+    r = _run(["size", d / "project.toml", "--out", d / name, "--force"])
+    assert r.exit_code == 2, r.output
+    assert "input files" in r.output and name in r.output and "Traceback" not in r.output
+    assert (d / name).read_bytes() == before
+
+
+def test_size_refuses_the_project_file_and_leaves_it_byte_for_byte(tmp_path):
+    d = _leg(tmp_path)
+    before = (d / "project.toml").read_bytes()
+    r = _run(["size", d / "project.toml", "--out", d / "project.toml"])
+    assert r.exit_code == 2 and "input files" in r.output
+    assert (d / "project.toml").read_bytes() == before
+
+
+def test_existing_out_needs_force(tmp_path):
+    d = _leg(tmp_path)
+    out = tmp_path / "best.toml"
+    out.write_text("keep me\n", encoding="utf-8")
+    r = _run(["size", d / "project.toml", "--out", out, "--time-limit", "30"])
+    assert r.exit_code == 2 and "already exists" in r.output and "--force" in r.output
+    assert out.read_text(encoding="utf-8") == "keep me\n"
+    r = _run(["size", d / "project.toml", "--out", out, "--force", "--json"])
+    assert r.exit_code == 0, r.output
+    assert out.read_text(encoding="utf-8").startswith(("#", "[")) and "keep me" not in out.read_text()
+    assert not [p for p in tmp_path.iterdir() if p.name.startswith(".best.toml.")]
+
+
+def test_frontier_out_and_plot_need_force(tmp_path):
+    d = _leg(tmp_path)
+    out = tmp_path / "f.json"
+    out.write_text("{}", encoding="utf-8")
+    r = _run(["frontier", d / "project.toml", "--points", "2", "--out", out])
+    assert r.exit_code == 2 and "already exists" in r.output and out.read_text() == "{}"
+    r = _run(["frontier", d / "project.toml", "--points", "2", "--out", d / "catalog.toml", "--force"])
+    assert r.exit_code == 2 and "input files" in r.output
+
+
+def test_report_needs_force_over_an_existing_report_and_never_takes_an_input(tmp_path):
+    d = _leg(tmp_path)
+    args = ["report", d / "project.toml", "--design", d / "design.toml", "--out", tmp_path / "r"]
+    assert _run(args).exit_code == 0
+    html = tmp_path / "r" / "report.html"
+    first = html.read_bytes()
+    r = _run(args)
+    assert r.exit_code == 2 and "already exists" in r.output and html.read_bytes() == first
+    assert _run(args + ["--force"]).exit_code == 0
+    assert not [p for p in (tmp_path / "r").iterdir() if p.name.startswith(".partial-")]
+    r = _run(["report", d / "project.toml", "--design", d / "design.toml", "--out", d / "design.toml"])
+    assert r.exit_code == 2 and "input files" in r.output
+
+
+def test_a_failed_write_keeps_the_old_file(tmp_path, monkeypatch):
+    target = tmp_path / "out.toml"
+    target.write_text("good\n", encoding="utf-8")
+
+    def broken(src, dst):
+        raise OSError(28, "No space left on device")
+
+    monkeypatch.setattr(_output.os, "replace", broken)
+    with pytest.raises(InputError, match="No space left on device"):
+        _output.write_text(target, "new\n")
+    assert target.read_text(encoding="utf-8") == "good\n"
+    assert [p.name for p in tmp_path.iterdir()] == ["out.toml"]  # no temporary file left
+
+
+def test_an_error_while_writing_keeps_the_old_file(tmp_path):
+    target = tmp_path / "out.json"
+    target.write_text("good\n", encoding="utf-8")
+    with pytest.raises(RuntimeError):
+        with _output.atomic_path(target) as tmp:
+            tmp.write_text("half", encoding="utf-8")
+            raise RuntimeError("interrupted")
+    assert target.read_text(encoding="utf-8") == "good\n"
+    assert [p.name for p in tmp_path.iterdir()] == ["out.json"]
+
+
+def test_replacement_keeps_the_file_mode(tmp_path):
+    target = tmp_path / "out.toml"
+    target.write_text("old\n", encoding="utf-8")
+    os.chmod(target, 0o640)
+    _output.write_text(target, "new\n")
+    assert target.read_text() == "new\n" and (target.stat().st_mode & 0o777) == 0o640
+
+
+LEG_STUDY = """
+[study]
+format = 1
+name = "leg budget"
+base = "project.toml"
+[[vary]]
+path = "requirements.total_mass_max"
+values = ["4.0 kg"]
+"""
+
+
+def test_study_csv_needs_force_and_never_takes_an_input(tmp_path):
+    d = _leg(tmp_path)
+    study = d / "study.toml"
+    study.write_text(LEG_STUDY, encoding="utf-8")
+    csv_out = tmp_path / "summary.csv"
+    csv_out.write_text("old\n", encoding="utf-8")
+    r = _run(["study", study, "--workers", "1", "--csv", csv_out])
+    assert r.exit_code == 2 and "already exists" in r.output
+    assert csv_out.read_text() == "old\n" and not (d / "results.sqlite").exists()  # refused before running
+    for name in ("study.toml", "project.toml"):
+        r = _run(["study", study, "--workers", "1", "--csv", d / name, "--force"])
+        assert r.exit_code == 2 and "input files" in r.output, r.output
+    r = _run(["study", study, "--workers", "1", "--store", d / "project.toml"])
+    assert r.exit_code == 2 and "input files" in r.output
+    r = _run(["study", study, "--workers", "1", "--csv", csv_out, "--force", "--json"])
+    assert r.exit_code == 0, r.output
+    assert csv_out.read_text(encoding="utf-8").startswith("case_id,variant,requirements.total_mass_max")
