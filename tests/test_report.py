@@ -33,6 +33,8 @@ from jointwright.report import build_report
 EXAMPLES = ("leg", "arm", pytest.param("quadruped", marks=pytest.mark.slow))
 #: 4 significant digits: a shown number is within half a unit of its 4th digit, rel ≤ 5e-4 [trade]
 SHOWN_RTOL = 6e-4
+#: duty metrics that are fractions, shown in %
+PERCENT_METRICS = ("backdriven_share", "rms_ratio", "peak_ratio", "thermal_ratio")
 
 
 def _new(folder: Path, example: str) -> Path:
@@ -141,7 +143,7 @@ def test_case_metrics_equal_the_assessment(built):
         for key, value in case["metrics"].items():
             k = tuple(sorted((("data-case", case["name"]), ("data-metric", key))))
             if k in cells and isinstance(value, (int, float, str)) and value not in ("",):
-                v = value * 100 if key.startswith("backdriven_share") else value
+                v = value * 100 if key.split(":")[0] in PERCENT_METRICS else value
                 assert _close(_value(cells[k]), v), (case["name"], key)
                 shown += 1
     assert shown >= 8
@@ -330,7 +332,7 @@ def test_sizing_and_frontier_sections_join_the_report(tmp_path):
     folder = _new(tmp_path / "leg", "leg")
     project = load_project(folder / "project.toml")
     design = load_design(folder / "design.toml", project)
-    alternative = {"joint": "hip_ab", "actuator": "PX-80x20 | PL/PL-52 6:1",
+    alternative = {"joint": "hip_ab", "actuator": "Flatwind-4 | Orbit/Orbit-2 6:1",
                    "change": "other motor", "objective": 70.0, "loss": 4.96}
     sizing = {"status": "time_limit", "objective_kind": "payload", "objective": 74.96,
               "bound": 80.0, "gap": 0.067, "alternatives": [alternative],

@@ -203,8 +203,8 @@ def _alternative(actuator, objective, loss, ruled_out_by, change="other motor"):
 
 SIZING = {"status": "optimal", "objective_kind": "payload", "objective": 240.0, "bound": 240.0,
           "gap": 0.0, "backend": "search", "message": "proven optimum",
-          "alternatives": [_alternative("PX-80x20 | PL/PL-52 6:1", 230.0, 10.0, None),
-                           _alternative("PX-96x24 | SW/SW-14 50:1", None, None,
+          "alternatives": [_alternative("Flatwind-4 | Orbit/Orbit-2 6:1", 230.0, 10.0, None),
+                           _alternative("Flatwind-6 | Flexring/Flexring-1 50:1", None, None,
                                         "touchdown: imf min", "other stage type")],
           "diagnosis": [{"requirement": "touchdown: imf min", "limit": 0.2, "best_achievable": 0.18,
                          "shortfall": 0.1, "relaxed_objective": 250.0}]}

@@ -26,16 +26,26 @@ SHOWN = {
                ("effective_mass_frictionless", "effective mass (frictionless)", "kg")],
     "backdrive": [("backdrive_force", "force to back-drive, unpowered", "N")],
     "speed": [("speed", "end-point speed", "m/s")],
-    "duty": [("rating_use", "worst rating use over joints (1 = fully used)", ""),
+    "duty": [("rating_use", "largest rating use over joints (1 = fully used)", ""),
              ("cycle_energy_no_regen", "electrical energy per cycle, no regeneration", "J"),
              ("cycle_energy_regen", "electrical energy per cycle, with regeneration", "J")],
 }
 
-#: per-joint duty metrics shown as a joints × quantities table
-DUTY_JOINT = [("rms_torque", "RMS motor torque", "N·m"), ("rms_ratio", "RMS / continuous", ""),
-              ("peak_torque", "peak motor torque", "N·m"), ("envelope_ratio", "torque / envelope", ""),
-              ("peak_speed", "peak motor speed", "rad/s"), ("peak_temperature", "peak winding", "°C"),
-              ("thermal_ratio", "rise / allowed", ""), ("backdriven_share", "time back-driven", "")]
+#: per-joint duty metrics shown as a joints × quantities table: (key, label, unit, scale); the
+#: rating uses and the back-driven share are fractions shown in %
+DUTY_JOINT = [("rms_ratio", "continuous torque used (RMS)", "%", 100.0),
+              ("peak_ratio", "peak torque used", "%", 100.0),
+              ("envelope_ratio", "torque-speed line used", "%", 100.0),
+              ("thermal_ratio", "temperature rise used", "%", 100.0),
+              ("rms_torque", "RMS motor torque", "N·m", 1.0),
+              ("peak_torque", "highest motor torque", "N·m", 1.0),
+              ("peak_speed", "highest motor speed", "rad/s", 1.0),
+              ("peak_temperature", "hottest winding", "°C", 1.0),
+              ("backdriven_share", "time back-driven", "%", 100.0)]
+
+
+def _scaled(value, scale: float):
+    return value * scale if isinstance(value, (int, float)) and not isinstance(value, bool) else value
 
 
 def print_assessment(a) -> None:
@@ -68,8 +78,8 @@ def print_assessment(a) -> None:
                      for k, v in c.metrics.items() if k.startswith("normal_force:")]
         if c.kind == "duty":
             joints = [j.joint for j in a.joints]
-            drows = [[label] + [num(c.metrics.get(f"{key}:{j}"), unit) for j in joints]
-                     for key, label, unit in DUTY_JOINT]
+            drows = [[label] + [num(_scaled(c.metrics.get(f"{key}:{j}"), scale), unit) for j in joints]
+                     for key, label, unit, scale in DUTY_JOINT]
             rows += [["limiting quantity", str(c.metrics.get("limiting_quantity", "—"))]]
         if c.limiting_joint:
             extra.append(f"limited by {c.limiting_joint}")

@@ -179,7 +179,7 @@ def duty_section(data: dict, fig_dir: Path, file: str = "<duty>") -> Section:
     body = figure(png, name, f"duty cycle {case}", "Motor torque per joint over the cycle, by the "
                   "power-flow law sample by sample; red lines are ratings (±).")
     if rows:
-        body += table(["joint", "RMS torque", "peak torque", "peak winding temperature",
+        body += table(["joint", "RMS motor torque", "highest motor torque", "hottest winding",
                        "time back-driven"], rows)
     return Section(name, f"Duty cycle {case}", body)
 

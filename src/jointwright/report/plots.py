@@ -68,8 +68,8 @@ def _polytope_caption(s) -> str:
         cap += (f" Unbounded in {', '.join(unbounded)} mode (a self-locking joint or a direction "
                 "no joint limits): drawn clipped.")
     if _coincide(s.vertices):
-        cap += (" The outlines coincide: every bounding joint sits at its gear's rated peak "
-                "torque, which caps all three modes alike.")
+        cap += (" The outlines coincide: every bounding joint sits at its gear torque limit "
+                "(peak), which caps all three modes alike.")
     return cap
 
 

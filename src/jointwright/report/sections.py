@@ -101,7 +101,7 @@ def _limiting_reason(a: dict, case: dict) -> str:
     gear = _f(j["gear_peak_torque"])
     who = "it is" if mode is None else f"it is {mode} and"
     if math.isfinite(gear) and math.isclose(cap, gear, rel_tol=1e-9):
-        return (f"{who} at its gear's rated peak torque ({fmt(gear, 'N·m')}): a larger "
+        return (f"{who} at its gear torque limit (peak) ({fmt(gear, 'N·m')}): a larger "
                 "gear frame raises the payload, a larger motor or ratio does not")
     what = "drive torque" if mode is None else "motor's peak torque through the gear"
     return (f"{who} at its {what} ({fmt(cap, 'N·m')}): a larger motor or a higher ratio raises "
@@ -239,7 +239,7 @@ def joints_section(a: dict) -> Section:
     total = Cell(fmt(a["total_mass"], "kg"), "num", (("field", "total_mass"),))
     inertia.append([Cell("total", "num"), "", "", "", "", total, "", ""])
     body = (table(["joint", "motor", "stages", "ratio", "η forward", "η backward", "drive torque",
-                   "holding torque", "gear rated peak"], drive, caption=_DRIVE_CAPTION)
+                   "holding torque", "gear torque limit (peak)"], drive, caption=_DRIVE_CAPTION)
             + table(["joint", "rotor-side inertia I_r", "reflected N²·I_r", "motoring η_f·N²·I_r",
                      "back-driven N²·I_r/η_b", "mass", "max joint speed", "breakaway torque"],
                     inertia, caption=_INERTIA_CAPTION))
@@ -248,21 +248,24 @@ def joints_section(a: dict) -> Section:
 
 _DRIVE_CAPTION = (
     "Drive torque = η_f·N·τ_peak (motoring); holding torque = N·τ_peak/η_b while the load "
-    "back-drives the joint; both capped by the gear's rated peak torque (a self-locking joint "
-    "holds up to that rating whatever the motor). Efficiencies are dimensionless.")
+    "back-drives the joint; both capped by the gear torque limit (peak) (a self-locking joint "
+    "holds up to that limit whatever the motor). Efficiencies are dimensionless.")
 _INERTIA_CAPTION = (
     "Reflected inertia as seen from the link side; the back-driven value is what an impact "
     "feels. Breakaway torque: joint-side torque that starts the unpowered actuator moving.")
 
-#: duty-cycle quantities per joint: (key, column, unit)
+#: duty-cycle quantities per joint: (key, column, unit, scale). Rating uses come first (how hard
+#: each joint works, in % of what its motor allows), then the quantities behind them.
 DUTY_COLUMNS = (
-    ("rms_torque", "RMS motor torque", "N·m"), ("peak_torque", "peak motor torque", "N·m"),
-    ("peak_speed", "peak motor speed", "rad/s"),
-    ("peak_temperature", "peak winding temp.", "°C"),
-    ("rms_ratio", "RMS ÷ continuous rating", ""), ("peak_ratio", "peak ÷ peak rating", ""),
-    ("thermal_ratio", "temperature rise ÷ allowed", ""),
-    ("energy_regen", "electrical energy per cycle", "J"),
-    ("backdriven_share", "time back-driven", "%"),
+    ("rms_ratio", "continuous torque used (RMS)", "%", 100.0),
+    ("peak_ratio", "peak torque used", "%", 100.0),
+    ("thermal_ratio", "temperature rise used", "%", 100.0),
+    ("rms_torque", "RMS motor torque", "N·m", 1.0),
+    ("peak_torque", "highest motor torque", "N·m", 1.0),
+    ("peak_speed", "highest motor speed", "rad/s", 1.0),
+    ("peak_temperature", "hottest winding", "°C", 1.0),
+    ("energy_regen", "energy per cycle", "J", 1.0),
+    ("backdriven_share", "time back-driven", "%", 100.0),
 )
 
 
@@ -271,16 +274,20 @@ def _duty_table(c: dict, joints: list[str]) -> str:
     rows = []
     for j in joints:
         row = [j]
-        for key, _col, unit in DUTY_COLUMNS:
+        for key, _col, unit, scale in DUTY_COLUMNS:
             v = m.get(f"{key}:{j}")
-            if unit == "%" and isinstance(v, (int, float)):
-                v = 100.0 * v
+            if isinstance(v, (int, float)) and not isinstance(v, bool):
+                v = scale * v
             row.append(Cell(fmt(v, unit), "num", (("case", c["name"]), ("metric", f"{key}:{j}"))))
         rows.append(row)
     quantity = str(m.get("limiting_quantity", "—")).replace("_", " ")
-    cap = (f"Largest rating use {fmt(m.get('rating_use'))} (dimensionless; ≤ 1 passes), set by "
-           f"{c.get('limiting_joint') or '—'} through {quantity}.")
-    return table(["joint"] + [col for _k, col, _u in DUTY_COLUMNS], rows, caption=cap)
+    use = m.get("rating_use")
+    use = 100.0 * use if isinstance(use, (int, float)) and not isinstance(use, bool) else use
+    cap = (f"Largest rating use {fmt(use, '%')} (up to 100 % passes), set by "
+           f"{c.get('limiting_joint') or '—'} through {quantity}. Energy per cycle is electrical, "
+           "with regeneration.")
+    return table(["joint"] + [col for _k, col, _u, _s in DUTY_COLUMNS], rows, caption=cap,
+                 cls="wide")
 
 
 def _case_notes(c: dict) -> list[str]:
