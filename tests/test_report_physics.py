@@ -292,3 +292,21 @@ def test_study_store_becomes_the_study_section(tmp_path):
     section = hooks.study_section(data, tmp_path)
     text = re.sub(r'src="data:[^"]*"', "", section.body)
     assert "∞" in text and "300" in text and not re.search(r"\bnan\b", text, flags=re.I)
+
+
+def test_frontier_figure_with_a_frictionless_series_draws_without_a_warning(tmp_path):
+    # `jointwright frontier --frictionless --plot` draws two staircases; matplotlib must not warn
+    # about a line style given twice (format string and keyword)
+    import warnings
+
+    from jointwright.report import figures
+
+    series = {"catalog efficiencies": ([0.1, 0.2], [300.0, 200.0]),
+              "frictionless gears (η = 1)": ([0.12, 0.25], [320.0, 210.0])}
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        fig = figures.frontier_figure(series, (0.2, 200.0), x_label="impact mitigation factor",
+                                      y_label="payload (N)", title="frontier")
+        figures.save(fig, tmp_path, "frontier")
+    lines = [ln for ln in fig.axes[0].get_lines() if not ln.get_label().startswith("knee")]
+    assert [ln.get_linestyle() for ln in lines] == ["-", "--"]

@@ -51,19 +51,22 @@ def _scaled(value, scale: float):
 def print_assessment(a) -> None:
     con = console()
     verdict = "[green]meets every requirement[/green]" if a.feasible else "[red]misses requirements[/red]"
+    costs = a.total_cost > 0  # the catalog gives costs
+    cost = f", cost {num(a.total_cost)} (catalog currency units)" if costs else ""
     con.print(f"[bold]{a.project}[/bold] — design [bold]{a.design}[/bold]: {verdict}; "
-              f"actuators {num(a.total_mass, 'kg')}")
+              f"actuators {num(a.total_mass, 'kg')}{cost}")
     rows = []
     for j in a.joints:
         rows.append([j.joint, j.motor, " + ".join(j.stages) or "direct", f"{j.ratio:g}:1",
                      f"{j.eta_forward:.3f} / {j.eta_backward:.3f}" + (" [red]self-locking[/red]" if j.self_locking else ""),
                      num(j.capacity_motoring, "N·m"), num(j.capacity_backdriven, "N·m"),
                      num(j.reflected_frictionless, "kg·m²"), num(j.reflected_backdriven, "kg·m²"),
-                     num(j.mass, "kg")])
+                     num(j.mass, "kg")] + ([num(j.cost)] if costs else []))
     con.print(table("Joints", ["joint", "motor", "stages", "ratio", "η fwd / bwd", "drive",
-                               "holding", "refl. inertia", "back-driven", "mass"], rows))
+                               "holding", "refl. inertia", "back-driven", "mass"] + (["cost"] if costs else []),
+                    rows))
     con.print("  drive = η_f·N·τ_peak (motoring); holding = N·τ_peak/η_b while the load back-drives; both capped "
-              "by the gear rating.\n  refl. inertia = N²·I_r (frictionless); back-driven = N²·I_r/η_b, what an "
+              "by the gear torque limit (peak).\n  refl. inertia = N²·I_r (frictionless); back-driven = N²·I_r/η_b, what an "
               "impact meets.")
     for c in a.cases:
         rows = []
@@ -93,7 +96,10 @@ def print_assessment(a) -> None:
             con.print(table(f"Case {c.name}: per joint (steady periodic cycle)", ["quantity"] + joints, drows))
         for line in extra:
             con.print(f"  {line}")
-    rows = [[c.subject, c.requirement.replace("_", " "), num(c.achieved, c.unit), num(c.limit, c.unit),
+    def shown(c, v):  # a rating use is a fraction, shown in %
+        return num(100 * v, "%") if c.requirement == "rating_use_max" else num(v, c.unit)
+
+    rows = [[c.subject, c.requirement.replace("_", " "), shown(c, c.achieved), shown(c, c.limit),
              pct(c.margin), "[green]ok[/green]" if c.ok else "[red]MISSED[/red]"] for c in a.checks]
     con.print(table("Requirements", ["subject", "requirement", "achieved", "limit", "margin", ""], rows))
     for text in a.cautions:

@@ -154,9 +154,12 @@ def _sensitivity_table(sens, columns, titles, units) -> str:
                          f"Design values: {base}.")
 
 
-def sensitivity_section(project, evaluator, arrays, fig_dir: Path) -> Section:
-    """Payload and impact metrics with each efficiency moved ±5 points: bars and a table."""
-    sens = efficiency_sensitivity(project, evaluator, arrays)
+def sensitivity_section(project, evaluator, arrays, fig_dir: Path, sens=None) -> Section:
+    """Payload and impact metrics with each efficiency moved ±5 points: bars and a table.
+
+    ``sens``: the :func:`.sweeps.efficiency_sensitivity` of the design when already computed.
+    """
+    sens = sens if sens is not None else efficiency_sensitivity(project, evaluator, arrays)
     metrics = impact_metric(project, evaluator)
     keys = [k for k in ["payload", *metrics] if k in sens.base]
     titles = {"payload": "Smallest payload"}

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import math
 
-from .markup import Cell, Section, bullets, esc, fmt, number, paragraph, pct, table
+from .markup import Cell, Section, check_value, bullets, esc, fmt, number, paragraph, pct, table
 
 G0 = 9.80665  # m/s², standard gravity (ISO 80000-3), for weight-equivalent payloads
 
@@ -153,8 +153,8 @@ def outcome_section(a: dict, project) -> Section:
     if not missed:
         words = [f"The design “{name}” meets all {len(checks)} requirements."]
     else:
-        items = "; ".join(f"{_check_label(c)} {fmt(c['achieved'], c['unit'])} against "
-                          f"{fmt(c['limit'], c['unit'])} ({pct(c['margin'])})" for c in missed)
+        items = "; ".join(f"{_check_label(c)} {check_value(c, 'achieved')} against "
+                          f"{check_value(c, 'limit')} ({pct(c['margin'])})" for c in missed)
         words = [f"The design “{name}” misses {len(missed)} of {len(checks)} requirements: "
                  f"{items}."]
     words += _payload_words(a, project)
@@ -167,7 +167,9 @@ def outcome_section(a: dict, project) -> Section:
                      "pushed back by a person or an obstacle.")
     else:
         words.append("No joint is self-locking: every transmission can be back-driven by its load.")
-    words.append(f"Actuator mass {fmt(a['total_mass'], 'kg')} in total.")
+    cost = (f" and cost {fmt(a['total_cost'])} (catalog currency units)"
+            if _f(a.get("total_cost", 0.0)) > 0 else "")
+    words.append(f"Actuator mass {fmt(a['total_mass'], 'kg')}{cost} in total.")
     cls = "verdict" if not missed else "verdict bad"
     body = f'<div class="{cls}">' + "".join(paragraph(w) for w in words) + "</div>"
     return Section("outcome", "Outcome", body)
@@ -180,8 +182,8 @@ def requirements_section(a: dict) -> Section:
         key = (("check", f"{c['subject']}:{c['requirement']}"),)
         rows.append([
             c["subject"], c["requirement"].replace("_", " "),
-            Cell(fmt(c["achieved"], c["unit"]), "num", key + (("field", "achieved"),)),
-            Cell(fmt(c["limit"], c["unit"]), "num", key + (("field", "limit"),)),
+            Cell(check_value(c, "achieved"), "num", key + (("field", "achieved"),)),
+            Cell(check_value(c, "limit"), "num", key + (("field", "limit"),)),
             Cell(pct(c["margin"]), "num", key + (("field", "margin"),)),
             Cell("met" if c["ok"] else "MISSED", "ok" if c["ok"] else "bad"),
         ])
@@ -220,7 +222,8 @@ _INERTIAS = ("rotor_inertia", "reflected_frictionless", "reflected_motoring",
 
 
 def joints_section(a: dict) -> Section:
-    """Per joint: drivetrain, efficiencies, capacities, reflected inertia, mass, speed."""
+    """Per joint: drivetrain, efficiencies, capacities, reflected inertia, mass, cost, speed."""
+    costs = _f(a.get("total_cost", 0.0)) > 0
     drive, inertia = [], []
     for j in a["joints"]:
         name = j["joint"]
@@ -232,17 +235,25 @@ def joints_section(a: dict) -> Section:
                       _tagged(j["capacity_motoring"], "N·m", name, "drive"),
                       _tagged(j["capacity_backdriven"], "N·m", name, "holding"),
                       Cell(fmt(j["gear_peak_torque"], "N·m"), "num")])
-        inertia.append([name] + [Cell(fmt(j[k], "kg·m²"), "num") for k in _INERTIAS]
-                       + [_tagged(j["mass"], "kg", name, "mass"),
-                          Cell(fmt(j["max_joint_speed"], "rad/s"), "num"),
-                          Cell(fmt(j["breakaway_torque"], "N·m"), "num")])
-    total = Cell(fmt(a["total_mass"], "kg"), "num", (("field", "total_mass"),))
-    inertia.append([Cell("total", "num"), "", "", "", "", total, "", ""])
+        row = ([name] + [Cell(fmt(j[k], "kg·m²"), "num") for k in _INERTIAS]
+               + [_tagged(j["mass"], "kg", name, "mass")])
+        if costs:
+            row.append(Cell(fmt(j.get("cost")), "num", (("joint", name), ("field", "cost"))))
+        inertia.append(row + [Cell(fmt(j["max_joint_speed"], "rad/s"), "num"),
+                              Cell(fmt(j["breakaway_torque"], "N·m"), "num")])
+    total = [Cell("total", "num"), "", "", "", "",
+             Cell(fmt(a["total_mass"], "kg"), "num", (("field", "total_mass"),))]
+    if costs:
+        total.append(Cell(fmt(a["total_cost"]), "num", (("field", "total_cost"),)))
+    inertia.append(total + ["", ""])
+    head = (["joint", "rotor-side inertia I_r", "reflected N²·I_r", "motoring η_f·N²·I_r",
+             "back-driven N²·I_r/η_b", "mass"] + (["cost"] if costs else [])
+            + ["max joint speed", "breakaway torque"])
+    caption = _INERTIA_CAPTION + (" Cost in the catalog's currency units." if costs else "")
     body = (table(["joint", "motor", "stages", "ratio", "η forward", "η backward", "drive torque",
-                   "holding torque", "gear torque limit (peak)"], drive, caption=_DRIVE_CAPTION)
-            + table(["joint", "rotor-side inertia I_r", "reflected N²·I_r", "motoring η_f·N²·I_r",
-                     "back-driven N²·I_r/η_b", "mass", "max joint speed", "breakaway torque"],
-                    inertia, caption=_INERTIA_CAPTION))
+                   "holding torque", "gear torque limit (peak)"], drive, caption=_DRIVE_CAPTION,
+                  cls="wide")
+            + table(head, inertia, caption=caption, cls="wide"))
     return Section("joints", "Per-joint choices", body)
 
 
