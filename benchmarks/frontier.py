@@ -1,6 +1,6 @@
 """Frontier: exact ε-constraint sweep versus the non-dominated set by brute force.
 
-Instance: the bundled leg with 2 motors, PL and CY stage types (all frames and ratios), one stage
+Instance: the bundled leg with 2 motors, Orbit and Lobe stage types (all frames and ratios), one stage
 per joint, duty case left out, payload versus IMF at the touchdown case (IMF limit replaced by the
 sweep). The brute force scores every design and filters the non-dominated (payload, IMF) pairs.
 Prints both times, the number of points and whether the two sets agree. Results: docs/benchmarks.md.
@@ -24,7 +24,7 @@ from size_exact import example
 
 def instance():
     leg = example("leg")
-    stages = tuple(s for s in leg.catalog.stages if s.name in ("PL", "CY"))
+    stages = tuple(s for s in leg.catalog.stages if s.name in ("Orbit", "Lobe"))
     cases = tuple(c for c in leg.cases if c.kind != "duty")
     return dataclasses.replace(leg, catalog=Catalog(motors=leg.catalog.motors[2:4], stages=stages),
                                max_stages=1, cases=cases, objective={})

@@ -1,7 +1,7 @@
 """Exact sizing: enumeration versus branch and bound versus the Pyomo/HiGHS back-end.
 
 (1) a 3-joint instance small enough to enumerate: the bundled leg with its 8 motors, two stage
-types (PL and CY, all frames and ratios), one stage per joint (264 options per joint, 18.4 M
+types (Orbit and Lobe, all frames and ratios), one stage per joint (264 options per joint, 18.4 M
 designs); the duty case and the IMF limit left out (the Pyomo back-end handles the IMF only by
 cuts, which is slow; the search handles it, see the tests);
 (2) the bundled 6-joint arm example: time to the proven optimum.
@@ -34,7 +34,7 @@ def small_leg():
     leg = example("leg")
     cat = leg.catalog
     motors = cat.motors
-    stages = tuple(s for s in cat.stages if s.name in ("PL", "CY"))
+    stages = tuple(s for s in cat.stages if s.name in ("Orbit", "Lobe"))
     cases = tuple(dataclasses.replace(c, limits={}) if c.kind == "impact" else c
                   for c in leg.cases if c.kind != "duty")
     return dataclasses.replace(leg, catalog=Catalog(motors=motors, stages=stages), max_stages=1,

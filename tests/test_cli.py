@@ -188,10 +188,10 @@ def test_assess_table_shows_api_numbers_with_units(name, folders, api):
 
 def test_leg_joint_numbers_follow_the_published_formulas(api):
     # Ring-fixed planetary by the basic-train (Willis) method (Müller 1982; del Castillo 2002
-    # [mem], REFERENCES.md): N = 6, η0 = 0.965 (leg catalog, stage PL):
+    # [mem], REFERENCES.md): N = 6, η0 = 0.965 (leg catalog, stage Orbit):
     #   η_f = (1 + η0·(N−1))/N = (1 + 0.965·5)/6 = 5.825/6 = 0.9708333
     #   η_b = N/(1 + (N−1)/η0) = 6/(1 + 5/0.965) = 6/6.1813472 = 0.9706622
-    # Motor PX-96x24: τ_peak 4.49 N·m, rotor 2.7 kg·cm²; frame PL-52 input 0.06 kg·cm², 32 N·m.
+    # Motor Flatwind-6: τ_peak 4.49 N·m, rotor 2.7 kg·cm²; frame Orbit-2 input 0.06 kg·cm², 32 N·m.
     #   drive capacity η_f·N·τ = 0.9708333·6·4.49 = 26.15425 N·m (design brief 2.3)
     #   holding N·τ/η_b = 26.94/0.9706622 = 27.75425 N·m (below the 32 N·m gear rating)
     #   reflected N²·I_r = 36·(2.7 + 0.06)e-4 = 9.936e-3 kg·m²
@@ -202,7 +202,7 @@ def test_leg_joint_numbers_follow_the_published_formulas(api):
     assert hip.capacity_motoring == pytest.approx(26.15425, rel=1e-9)
     assert hip.capacity_backdriven == pytest.approx(26.94 / 0.9706621961, rel=1e-9)
     assert hip.reflected_frictionless == pytest.approx(9.936e-3, rel=1e-9)
-    # Knee: PL-62 at 9:1: η_f = (1 + 0.965·8)/9 = 8.72/9, η_b = 9/(1 + 8/0.965); frame input
+    # Knee: Orbit-3 at 9:1: η_f = (1 + 0.965·8)/9 = 8.72/9, η_b = 9/(1 + 8/0.965); frame input
     # inertia 0.12 kg·cm², so I_r = 2.7 + 0.12 = 2.82 kg·cm² and N²·I_r = 81·2.82e-4 kg·m²;
     # drive η_f·N·τ = 8.72·4.49 = 39.1528 N·m, below the 60 N·m gear rating.
     knee = next(j for j in result.joints if j.joint == "knee")
@@ -291,14 +291,14 @@ def test_documented_project_and_design_examples_load(folders, tmp_path):
 
 
 def test_self_locking_joint_is_infinite_not_nan_in_table_and_json(folders, tmp_path):
-    # worm WG of the arm catalog: λ = 3.5°, f = 0.07, φ_n = 20°. Self-locking when
+    # worm Spiral of the arm catalog: λ = 3.5°, f = 0.07, φ_n = 20°. Self-locking when
     # f ≥ cos φ_n·tan λ (Shigley ch. 13 [mem]): cos 20°·tan 3.5° = 0.93969·0.061163 = 0.05747 ≤ 0.07.
     # Back-driven reflected inertia N²·I_r/η_b and holding capacity are then ∞ (design brief §2.3).
     folder = tmp_path / "arm"
     shutil.copytree(folders["arm"], folder)
     text = (folder / "design.toml").read_text()
     head, sep, tail = text.partition("[joint.elbow]")
-    tail = re.sub(r'stages = \[.*\]', 'stages = [{ stage = "WG", frame = "WG-30", ratio = 50 }]', tail, count=1)
+    tail = re.sub(r'stages = \[.*\]', 'stages = [{ stage = "Spiral", frame = "Spiral-1", ratio = 50 }]', tail, count=1)
     (folder / "design.toml").write_text(head + sep + tail)
     args = ["assess", str(folder / "project.toml"), "--design", str(folder / "design.toml")]
     data = json.loads(_run(args + ["--json"]).stdout)

@@ -150,7 +150,7 @@ def test_lossy_gears_lift_less_and_hold_more_than_frictionless(leg):
 
 def test_self_locking_joint_is_locked_for_impact_and_infinite_holding_is_not_nan(arm):
     project, design = arm
-    worm = project.catalog.stage("WG")
+    worm = project.catalog.stage("Spiral")
     acts = list(design.actuators)
     s0 = acts[2].stages[0]
     acts[2] = dataclasses.replace(acts[2], stages=(dataclasses.replace(

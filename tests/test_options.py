@@ -56,11 +56,11 @@ def test_table_counts_every_motor_and_stack(leg):
 
 def test_stage_kinds_and_exclusions(leg):
     p = dataclasses.replace(leg, stage_kinds=("planetary",), max_stages=1)
-    table = build_table(p, exclude=[leg.catalog.motors[0].name, "PL-42"])
+    table = build_table(p, exclude=[leg.catalog.motors[0].name, "Orbit-1"])
     kinds = {s.stage.kind for a in table.actuators for s in a.stages}
     assert kinds == {"planetary"}
     assert leg.catalog.motors[0].name not in table.motors
-    assert all(s.frame.name != "PL-42" for a in table.actuators for s in a.stages)
+    assert all(s.frame.name != "Orbit-1" for a in table.actuators for s in a.stages)
 
 
 def test_too_many_options_is_an_input_error(leg):
@@ -74,7 +74,7 @@ def test_pins_match_motor_and_stages(leg):
     assert matches_pin(a, {"motor": m.name})
     assert matches_pin(a, {"stages": []})
     assert not matches_pin(a, {"motor": leg.catalog.motors[1].name})
-    assert not matches_pin(a, {"stages": [{"stage": "PL"}]})
+    assert not matches_pin(a, {"stages": [{"stage": "Orbit"}]})
 
 
 def test_filters_only_remove_options_that_miss_a_requirement(leg):

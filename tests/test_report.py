@@ -33,6 +33,8 @@ from jointwright.report import build_report
 EXAMPLES = ("leg", "arm", pytest.param("quadruped", marks=pytest.mark.slow))
 #: 4 significant digits: a shown number is within half a unit of its 4th digit, rel ≤ 5e-4 [trade]
 SHOWN_RTOL = 6e-4
+#: duty metrics that are fractions, shown in %
+PERCENT_METRICS = ("backdriven_share", "rms_ratio", "peak_ratio", "thermal_ratio")
 
 
 def _new(folder: Path, example: str) -> Path:
@@ -105,6 +107,10 @@ def _close(shown: float, value) -> bool:
     return math.isclose(shown, v, rel_tol=SHOWN_RTOL, abs_tol=1e-12)
 
 
+def _scaled(value, scale: float):
+    return value if isinstance(value, str) else value * scale
+
+
 def _cell(cells, **data) -> str:
     key = tuple(sorted((f"data-{k}", v) for k, v in data.items()))
     assert key in cells, f"no element with {data}"
@@ -117,8 +123,11 @@ def test_requirement_values_equal_the_assessment(built):
     assert a["checks"], "the examples state requirements"
     for c in a["checks"]:
         key = f"{c['subject']}:{c['requirement']}"
-        assert _close(_value(_cell(cells, check=key, field="achieved")), c["achieved"]), key
-        assert _close(_value(_cell(cells, check=key, field="limit")), c["limit"]), key
+        scale = 100.0 if c["requirement"] == "rating_use_max" else 1.0  # a fraction, shown in %
+        achieved = _cell(cells, check=key, field="achieved")
+        assert _close(_value(achieved), _scaled(c["achieved"], scale)), key
+        assert _close(_value(_cell(cells, check=key, field="limit")), _scaled(c["limit"], scale))
+        assert scale == 1.0 or achieved.endswith(" %"), key
         margin = _value(_cell(cells, check=key, field="margin"))
         # margins are shown in % to one decimal: within 0.05 percentage points [trade]
         assert abs(margin - 100 * c["margin"]) <= 0.05 + 1e-9, key
@@ -141,7 +150,7 @@ def test_case_metrics_equal_the_assessment(built):
         for key, value in case["metrics"].items():
             k = tuple(sorted((("data-case", case["name"]), ("data-metric", key))))
             if k in cells and isinstance(value, (int, float, str)) and value not in ("",):
-                v = value * 100 if key.startswith("backdriven_share") else value
+                v = value * 100 if key.split(":")[0] in PERCENT_METRICS else value
                 assert _close(_value(cells[k]), v), (case["name"], key)
                 shown += 1
     assert shown >= 8
@@ -168,12 +177,53 @@ def test_page_is_self_contained_and_every_image_decodes(built):
 def test_no_nan_and_every_section_present(built):
     text = re.sub(r'src="data:[^"]*"', "", built["html"])
     assert not re.search(r"\bnan\b", text, flags=re.IGNORECASE)
-    for anchor in ("job", "outcome", "requirements", "binding", "joints", "polytopes", "ellipses",
+    for anchor in ("summary", "appendix", "job", "outcome", "requirements", "binding", "joints", "polytopes", "ellipses",
                    "ratio", "sensitivity", "cases", "cautions"):
         assert f'id="{anchor}"' in text
     for phrase in ("supplier", "trap or crush", "safety standards",
                    "licensed engineering practice"):
         assert phrase in text
+
+
+def _summary(html: str) -> str:
+    return html[html.index('id="summary"'):html.index('id="appendix"')]
+
+
+def test_summary_comes_first_with_the_decision_and_the_tightest_margins(built):
+    html, a = built["html"], built["assessment"]
+    assert html.index('id="summary"') < html.index('id="appendix"') < html.index('id="job"')
+    top = _summary(html)
+    cells = _parse(top).cells
+    # every joint is in the decision table, with its catalog mass
+    for j in a["joints"]:
+        assert j["joint"] in top and j["motor"] in top
+    assert _close(_value(_cell(cells, field="summary_total_mass")), a["total_mass"])
+    missed = sum(not c["ok"] for c in a["checks"])
+    verdict = (f"meets all {len(a['checks'])} requirements" if not missed
+               else f"misses {missed} of {len(a['checks'])} requirements")
+    assert verdict in top
+    # the three smallest margins, smallest first
+    shown = [k for k in re.findall(r'data-summary-check="([^"]+)"', top)]
+    order = sorted(a["checks"], key=lambda c: float(c["margin"]))[:3]
+    assert shown == [f"{c['subject']}:{c['requirement']}" for c in order]
+    for phrase in ("safety standards", "local codes", "licensed engineering practice"):
+        assert phrase in top
+
+
+def test_cost_is_shown_beside_mass_and_adds_up_from_the_catalog(built):
+    # each actuator's cost is its motor's plus its frames' catalog costs (catalog-format.md)
+    project, a = built["project"], built["assessment"]
+    motors = {m.name: m.cost for m in project.catalog.motors}
+    frames = {f.name: f.cost for st in project.catalog.stages for f in st.frames}
+    design = load_design(built["path"].parents[1] / "design.toml", project)
+    want = sum(motors[x.motor.name] + sum(frames[s.frame.name] for s in x.stages)
+               for x in design.actuators)
+    assert want > 0, "the example catalogs give costs"
+    cells = _parse(built["html"]).cells
+    assert _close(_value(_cell(cells, field="total_cost")), want)
+    assert _close(_value(_cell(cells, field="summary_total_cost")), want)
+    for j in a["joints"]:
+        assert _close(_value(_cell(cells, joint=j["joint"], field="cost")), j["cost"])
 
 
 def test_outcome_names_missed_requirements_and_the_limiting_joint(built):
@@ -321,6 +371,7 @@ def test_self_locking_joint_shows_infinity_and_the_caution(tmp_path):
     html = build_report(project, design, tmp_path / "out").read_text(encoding="utf-8")
     outcome = html[html.index('id="outcome"'):html.index('id="requirements"')]
     assert "Self-locking joints: knee" in outcome
+    assert "Self-locking: knee" in _summary(html)  # a top risk on the summary page
     assert "∞ kg·m²" in html and "∞ N·m" in html  # back-driven reflected inertia, breakaway torque
     assert "pinch and crush hazard" in html
     assert not re.search(r"\bnan\b", re.sub(r'src="data:[^"]*"', "", html), flags=re.IGNORECASE)
@@ -330,7 +381,7 @@ def test_sizing_and_frontier_sections_join_the_report(tmp_path):
     folder = _new(tmp_path / "leg", "leg")
     project = load_project(folder / "project.toml")
     design = load_design(folder / "design.toml", project)
-    alternative = {"joint": "hip_ab", "actuator": "PX-80x20 | PL/PL-52 6:1",
+    alternative = {"joint": "hip_ab", "actuator": "Flatwind-4 | Orbit/Orbit-2 6:1",
                    "change": "other motor", "objective": 70.0, "loss": 4.96}
     sizing = {"status": "time_limit", "objective_kind": "payload", "objective": 74.96,
               "bound": 80.0, "gap": 0.067, "alternatives": [alternative],

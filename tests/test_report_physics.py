@@ -203,8 +203,8 @@ def _alternative(actuator, objective, loss, ruled_out_by, change="other motor"):
 
 SIZING = {"status": "optimal", "objective_kind": "payload", "objective": 240.0, "bound": 240.0,
           "gap": 0.0, "backend": "search", "message": "proven optimum",
-          "alternatives": [_alternative("PX-80x20 | PL/PL-52 6:1", 230.0, 10.0, None),
-                           _alternative("PX-96x24 | SW/SW-14 50:1", None, None,
+          "alternatives": [_alternative("Flatwind-4 | Orbit/Orbit-2 6:1", 230.0, 10.0, None),
+                           _alternative("Flatwind-6 | Flexring/Flexring-1 50:1", None, None,
                                         "touchdown: imf min", "other stage type")],
           "diagnosis": [{"requirement": "touchdown: imf min", "limit": 0.2, "best_achievable": 0.18,
                          "shortfall": 0.1, "relaxed_objective": 250.0}]}
@@ -292,3 +292,21 @@ def test_study_store_becomes_the_study_section(tmp_path):
     section = hooks.study_section(data, tmp_path)
     text = re.sub(r'src="data:[^"]*"', "", section.body)
     assert "∞" in text and "300" in text and not re.search(r"\bnan\b", text, flags=re.I)
+
+
+def test_frontier_figure_with_a_frictionless_series_draws_without_a_warning(tmp_path):
+    # `jointwright frontier --frictionless --plot` draws two staircases; matplotlib must not warn
+    # about a line style given twice (format string and keyword)
+    import warnings
+
+    from jointwright.report import figures
+
+    series = {"catalog efficiencies": ([0.1, 0.2], [300.0, 200.0]),
+              "frictionless gears (η = 1)": ([0.12, 0.25], [320.0, 210.0])}
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        fig = figures.frontier_figure(series, (0.2, 200.0), x_label="impact mitigation factor",
+                                      y_label="payload (N)", title="frontier")
+        figures.save(fig, tmp_path, "frontier")
+    lines = [ln for ln in fig.axes[0].get_lines() if not ln.get_label().startswith("knee")]
+    assert [ln.get_linestyle() for ln in lines] == ["-", "--"]

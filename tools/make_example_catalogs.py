@@ -46,19 +46,22 @@ def toml_table(header, d):
     return "\n".join(lines)
 
 
-PLANETARY_FRAMES = [  # name, peak N·m, mass kg, input inertia kg·cm², breakaway N·m, dia mm, len mm
-    ("42", 16, 0.22, 0.03, 0.015, 42, 30),
-    ("52", 32, 0.36, 0.06, 0.02, 52, 36),
-    ("62", 60, 0.58, 0.12, 0.03, 62, 42),
-    ("72", 95, 0.85, 0.22, 0.04, 72, 48),
+#: one frame per row: size index, gear torque limit (peak) N·m, mass kg, own inertia at the stage
+#: input kg·cm², breakaway torque N·m, diameter mm, length mm. Frames are named
+#: "<family>-<size index>", the index counting up from 1 within the family (our own scheme).
+PLANETARY_FRAMES = [
+    (1, 16, 0.22, 0.03, 0.015, 42, 30),
+    (2, 32, 0.36, 0.06, 0.02, 52, 36),
+    (3, 60, 0.58, 0.12, 0.03, 62, 42),
+    (4, 95, 0.85, 0.22, 0.04, 72, 48),
 ]
 
 
-def frames(prefix, rows, backlash, stiffness):
+def frames(family, rows, backlash, stiffness):
     out = []
     for size, peak, mass, inertia, brk, dia, length in rows:
         out.append({
-            "name": f"{prefix}-{size}",
+            "name": f"{family}-{size}",
             "rated_peak_torque": f"{peak:g} N*m",
             "rated_continuous_torque": f"{peak / 2:g} N*m",
             "mass": f"{mass:g} kg",
@@ -91,58 +94,66 @@ def write(path, header, motors, stages):
     path.write_text("\n".join(text))
 
 
-LEG_HEADER = """# Invented catalog for the quadruped-leg example: the PX pancake motors and four gear families.
-# Every name and number here is made up for the example; none describes a real product."""
+LEG_HEADER = """# Invented catalog for the quadruped-leg example: the Flatwind short motors (size index 1 to 9,
+# smallest first) and four gear families (Orbit planetary, Strap belt, Lobe cycloidal, Flexring
+# strain-wave), each frame named <family>-<size index>. Every name and number here is made up
+# for the example; none describes a real product."""
 
-ARM_HEADER = """# Invented catalog for the mobile-arm example: 20 RX frameless motors and six gear families with
-# twelve ratios each. Every name and number here is made up; none describes a real product."""
+ARM_HEADER = """# Invented catalog for the mobile-arm example: 20 Ringwind frameless motors (size index 01 to 20,
+# by diameter then length) and six gear families (Orbit planetary, Mesh spur, Strap belt, Lobe
+# cycloidal, Flexring strain-wave, Spiral worm) with twelve ratios each, each frame named
+# <family>-<size index>. Every name and number here is made up; none describes a real product."""
+
+#: leg motors: (outer gap diameter mm, active length mm, spread); named Flatwind-<k>, k from 1
+LEG_MOTORS = [(60, 12, 1.0), (70, 14, 1.02), (80, 16, 0.98), (80, 20, 1.0), (90, 20, 1.03),
+              (96, 24, 1.0), (105, 24, 0.97), (115, 28, 1.0), (125, 30, 1.01)]
+#: arm motors: (gap diameter mm, active length mm); named Ringwind-<kk>, kk from 01
+ARM_MOTORS = [(50, 10), (50, 16), (60, 10), (60, 16), (60, 24), (70, 12), (70, 18), (70, 26),
+              (80, 12), (80, 18), (80, 26), (90, 14), (90, 22), (90, 30), (100, 16), (100, 24),
+              (110, 18), (110, 28), (120, 20), (120, 30)]
 
 
 def leg():
-    motors = [motor(f"PX-{d}x{l}", d, l, sp) for d, l, sp in
-              [(60, 12, 1.0), (70, 14, 1.02), (80, 16, 0.98), (80, 20, 1.0), (90, 20, 1.03),
-               (96, 24, 1.0), (105, 24, 0.97), (115, 28, 1.0), (125, 30, 1.01)]]
+    motors = [motor(f"Flatwind-{k}", d, l, sp) for k, (d, l, sp) in enumerate(LEG_MOTORS, start=1)]
     stages = [
-        stage_block("PL", "planetary", [3, 4, 5, 6, 7, 8, 9, 10],
+        stage_block("Orbit", "planetary", [3, 4, 5, 6, 7, 8, 9, 10],
                     '{ model = "planetary_basic_train", basic_efficiency = 0.965 }',
-                    frames("PL", PLANETARY_FRAMES[:3], 15, 40)),
-        stage_block("BT", "belt", [1.0, 1.5, 2.0, 2.5, 3.0],
+                    frames("Orbit", PLANETARY_FRAMES[:3], 15, 40)),
+        stage_block("Strap", "belt", [1.0, 1.5, 2.0, 2.5, 3.0],
                     '{ model = "constant", forward = 0.96, backward = 0.95 }',
-                    frames("BT", [("15", 20, 0.08, 0.02, 0.01, 40, 20), ("25", 45, 0.14, 0.05, 0.015, 50, 25)], 5, 15)),
-        stage_block("CY", "cycloidal", [11, 15, 21, 29],
+                    frames("Strap", [(1, 20, 0.08, 0.02, 0.01, 40, 20), (2, 45, 0.14, 0.05, 0.015, 50, 25)], 5, 15)),
+        stage_block("Lobe", "cycloidal", [11, 15, 21, 29],
                     '{ model = "coulomb", forward = 0.86 }',
-                    frames("CY", [("60", 50, 0.55, 0.25, 0.05, 60, 35), ("75", 90, 0.85, 0.45, 0.07, 75, 40)], 1, 120)),
-        stage_block("SW", "strain_wave", [30, 50, 80, 100],
+                    frames("Lobe", [(1, 50, 0.55, 0.25, 0.05, 60, 35), (2, 90, 0.85, 0.45, 0.07, 75, 40)], 1, 120)),
+        stage_block("Flexring", "strain_wave", [30, 50, 80, 100],
                     '{ model = "table", rows = [[30, 0.78, 0.70], [50, 0.74, 0.64], [80, 0.70, 0.58], [100, 0.66, 0.52]] }',
-                    frames("SW", [("14", 28, 0.18, 0.03, 0.04, 50, 30), ("17", 55, 0.30, 0.08, 0.06, 60, 32)], 0.5, 150)),
+                    frames("Flexring", [(1, 28, 0.18, 0.03, 0.04, 50, 30), (2, 55, 0.30, 0.08, 0.06, 60, 32)], 0.5, 150)),
     ]
     write(ROOT / "leg" / "catalog.toml", LEG_HEADER, motors, stages)
 
 
 def arm():
-    sizes = [(50, 10), (50, 16), (60, 10), (60, 16), (60, 24), (70, 12), (70, 18), (70, 26),
-             (80, 12), (80, 18), (80, 26), (90, 14), (90, 22), (90, 30), (100, 16), (100, 24),
-             (110, 18), (110, 28), (120, 20), (120, 30)]
-    motors = [motor(f"RX-{d}x{l}", d, l, 1.0 + 0.03 * math.sin(i)) for i, (d, l) in enumerate(sizes)]
+    motors = [motor(f"Ringwind-{i + 1:02d}", d, l, 1.0 + 0.03 * math.sin(i))
+              for i, (d, l) in enumerate(ARM_MOTORS)]
     stages = [
-        stage_block("PA", "planetary", [3, 3.5, 4, 4.5, 5, 5.5, 6, 6.5, 7, 8, 9, 10],
+        stage_block("Orbit", "planetary", [3, 3.5, 4, 4.5, 5, 5.5, 6, 6.5, 7, 8, 9, 10],
                     '{ model = "planetary_basic_train", basic_efficiency = 0.965 }',
-                    frames("PA", PLANETARY_FRAMES, 12, 40)),
-        stage_block("SG", "spur", [1.5, 2, 2.5, 3, 3.5, 4, 4.5, 5, 5.5, 6, 7, 8],
+                    frames("Orbit", PLANETARY_FRAMES, 12, 40)),
+        stage_block("Mesh", "spur", [1.5, 2, 2.5, 3, 3.5, 4, 4.5, 5, 5.5, 6, 7, 8],
                     '{ model = "coulomb", forward = 0.98 }',
-                    frames("SG", [("M1", 25, 0.15, 0.04, 0.01, 45, 20), ("M2", 70, 0.35, 0.15, 0.02, 65, 26)], 10, 30)),
-        stage_block("TB", "belt", [1, 1.25, 1.5, 2, 2.5, 3, 3.5, 4, 4.5, 5, 5.5, 6],
+                    frames("Mesh", [(1, 25, 0.15, 0.04, 0.01, 45, 20), (2, 70, 0.35, 0.15, 0.02, 65, 26)], 10, 30)),
+        stage_block("Strap", "belt", [1, 1.25, 1.5, 2, 2.5, 3, 3.5, 4, 4.5, 5, 5.5, 6],
                     '{ model = "constant", forward = 0.96, backward = 0.95 }',
-                    frames("TB", [("15", 20, 0.08, 0.02, 0.01, 40, 20), ("25", 45, 0.14, 0.05, 0.015, 50, 25)], 5, 15)),
-        stage_block("CD", "cycloidal", [11, 15, 17, 21, 25, 29, 35, 41, 47, 59, 71, 87],
+                    frames("Strap", [(1, 20, 0.08, 0.02, 0.01, 40, 20), (2, 45, 0.14, 0.05, 0.015, 50, 25)], 5, 15)),
+        stage_block("Lobe", "cycloidal", [11, 15, 17, 21, 25, 29, 35, 41, 47, 59, 71, 87],
                     '{ model = "coulomb", forward = 0.85 }',
-                    frames("CD", [("60", 60, 0.6, 0.25, 0.05, 60, 35), ("80", 140, 1.1, 0.6, 0.08, 80, 42)], 1, 120)),
-        stage_block("HW", "strain_wave", [30, 40, 50, 60, 70, 80, 90, 100, 110, 120, 140, 160],
+                    frames("Lobe", [(1, 60, 0.6, 0.25, 0.05, 60, 35), (2, 140, 1.1, 0.6, 0.08, 80, 42)], 1, 120)),
+        stage_block("Flexring", "strain_wave", [30, 40, 50, 60, 70, 80, 90, 100, 110, 120, 140, 160],
                     '{ model = "table", rows = [[30, 0.80, 0.72], [50, 0.76, 0.66], [80, 0.72, 0.60], [120, 0.66, 0.52], [160, 0.60, 0.44]] }',
-                    frames("HW", [("14", 28, 0.18, 0.03, 0.04, 50, 30), ("20", 80, 0.45, 0.15, 0.07, 70, 34)], 0.5, 150)),
-        stage_block("WG", "worm", [10, 15, 20, 25, 30, 40, 50, 60, 70, 80, 90, 100],
+                    frames("Flexring", [(1, 28, 0.18, 0.03, 0.04, 50, 30), (2, 80, 0.45, 0.15, 0.07, 70, 34)], 0.5, 150)),
+        stage_block("Spiral", "worm", [10, 15, 20, 25, 30, 40, 50, 60, 70, 80, 90, 100],
                     '{ model = "worm", lead_angle = "3.5 deg", friction = 0.07, normal_pressure_angle = "20 deg" }',
-                    frames("WG", [("30", 40, 0.5, 0.08, 0.05, 60, 55), ("40", 90, 0.9, 0.2, 0.08, 75, 65)], 15, 60)),
+                    frames("Spiral", [(1, 40, 0.5, 0.08, 0.05, 60, 55), (2, 90, 0.9, 0.2, 0.08, 75, 65)], 15, 60)),
     ]
     write(ROOT / "arm" / "catalog.toml", ARM_HEADER, motors, stages)
 

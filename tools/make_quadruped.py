@@ -53,10 +53,10 @@ def design() -> str:
              "[design]", 'name = "QX-4 starting point"', ""]
     for leg in LEGS:
         for j in ("hip_ab", "hip_fe"):
-            lines += [f"[joint.{leg}_{j}]", 'motor = "PX-96x24"',
-                      'stages = [{ stage = "PL", frame = "PL-52", ratio = 6 }]', ""]
-        lines += [f"[joint.{leg}_knee]", 'motor = "PX-96x24"',
-                  'stages = [{ stage = "PL", frame = "PL-62", ratio = 9 }]', ""]
+            lines += [f"[joint.{leg}_{j}]", 'motor = "Flatwind-6"',
+                      'stages = [{ stage = "Orbit", frame = "Orbit-2", ratio = 6 }]', ""]
+        lines += [f"[joint.{leg}_knee]", 'motor = "Flatwind-6"',
+                  'stages = [{ stage = "Orbit", frame = "Orbit-3", ratio = 9 }]', ""]
     return "\n".join(lines)
 
 

@@ -39,6 +39,7 @@ class JointSummary:
     gear_peak_torque: float
     breakaway_torque: float  # N·m joint side, inf when self-locking
     max_joint_speed: float  # rad/s
+    cost: float = 0.0  # catalog currency units (0 when the catalog gives no costs)
 
 
 @dataclass(frozen=True)
@@ -123,6 +124,7 @@ def joint_summary(joint: str, a) -> JointSummary:
         gear_peak_torque=a.gear_peak_torque,
         breakaway_torque=a.breakaway_torque,
         max_joint_speed=a.max_joint_speed,
+        cost=a.cost,
     )
 
 

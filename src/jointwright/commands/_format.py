@@ -42,6 +42,28 @@ def num(value, unit: str = "", digits: int = 4) -> str:
     return text if text == "—" else f"{text} {unit}".strip()
 
 
+#: unit of each requirement key as shown; rating uses are fractions, shown in % (scale 100)
+REQUIREMENT_UNITS = {
+    "payload_min": ("N", 1.0), "imf_min": ("", 1.0), "directional_imf_min": ("", 1.0),
+    "effective_mass_max": ("kg", 1.0), "backdrive_force_max": ("N", 1.0),
+    "speed_min": ("m/s", 1.0), "temperature_margin_min": ("K", 1.0),
+    "rating_use_max": ("%", 100.0), "mass_max": ("kg", 1.0), "total_mass_max": ("kg", 1.0),
+    "reflected_inertia_max": ("kg·m²", 1.0), "diameter_max": ("m", 1.0),
+    "length_max": ("m", 1.0), "ratio_min": ("", 1.0), "ratio_max": ("", 1.0),
+    "total_cost_max": ("", 1.0),
+}
+
+
+def requirement_num(label: str, value) -> str:
+    """A requirement's value with its unit, from a label "subject: key words" (e.g.
+    "trot: rating use max" -> "%", "jump-push: payload min" -> "N")."""
+    key = label.rsplit(": ", 1)[-1].strip().replace(" ", "_")
+    unit, scale = REQUIREMENT_UNITS.get(key, ("", 1.0))
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        value = scale * value
+    return num(value, unit)
+
+
 def pct(margin: float) -> str:
     if math.isinf(margin):
         return "+∞" if margin > 0 else "-∞"

@@ -27,34 +27,47 @@ SHOWN = {
                ("effective_mass_frictionless", "effective mass (frictionless)", "kg")],
     "backdrive": [("backdrive_force", "force to back-drive, unpowered", "N")],
     "speed": [("speed", "end-point speed", "m/s")],
-    "duty": [("rating_use", "worst rating use over joints (1 = fully used)", ""),
+    "duty": [("rating_use", "largest rating use over joints (1 = fully used)", ""),
              ("cycle_energy_no_regen", "electrical energy per cycle, no regeneration", "J"),
              ("cycle_energy_regen", "electrical energy per cycle, with regeneration", "J")],
 }
 
-#: per-joint duty metrics shown as a joints × quantities table
-DUTY_JOINT = [("rms_torque", "RMS motor torque", "N·m"), ("rms_ratio", "RMS / continuous", ""),
-              ("peak_torque", "peak motor torque", "N·m"), ("envelope_ratio", "torque / envelope", ""),
-              ("peak_speed", "peak motor speed", "rad/s"), ("peak_temperature", "peak winding", "°C"),
-              ("thermal_ratio", "rise / allowed", ""), ("backdriven_share", "time back-driven", "")]
+#: per-joint duty metrics shown as a joints × quantities table: (key, label, unit, scale); the
+#: rating uses and the back-driven share are fractions shown in %
+DUTY_JOINT = [("rms_ratio", "continuous torque used (RMS)", "%", 100.0),
+              ("peak_ratio", "peak torque used", "%", 100.0),
+              ("envelope_ratio", "torque-speed line used", "%", 100.0),
+              ("thermal_ratio", "temperature rise used", "%", 100.0),
+              ("rms_torque", "RMS motor torque", "N·m", 1.0),
+              ("peak_torque", "highest motor torque", "N·m", 1.0),
+              ("peak_speed", "highest motor speed", "rad/s", 1.0),
+              ("peak_temperature", "hottest winding", "°C", 1.0),
+              ("backdriven_share", "time back-driven", "%", 100.0)]
+
+
+def _scaled(value, scale: float):
+    return value * scale if isinstance(value, (int, float)) and not isinstance(value, bool) else value
 
 
 def print_assessment(a) -> None:
     con = console()
     verdict = "[green]meets every requirement[/green]" if a.feasible else "[red]misses requirements[/red]"
+    costs = a.total_cost > 0  # the catalog gives costs
+    cost = f", cost {num(a.total_cost)} (catalog currency units)" if costs else ""
     con.print(f"[bold]{a.project}[/bold] — design [bold]{a.design}[/bold]: {verdict}; "
-              f"actuators {num(a.total_mass, 'kg')}")
+              f"actuators {num(a.total_mass, 'kg')}{cost}")
     rows = []
     for j in a.joints:
         rows.append([j.joint, j.motor, " + ".join(j.stages) or "direct", f"{j.ratio:g}:1",
                      f"{j.eta_forward:.3f} / {j.eta_backward:.3f}" + (" [red]self-locking[/red]" if j.self_locking else ""),
                      num(j.capacity_motoring, "N·m"), num(j.capacity_backdriven, "N·m"),
                      num(j.reflected_frictionless, "kg·m²"), num(j.reflected_backdriven, "kg·m²"),
-                     num(j.mass, "kg")])
+                     num(j.mass, "kg")] + ([num(j.cost)] if costs else []))
     con.print(table("Joints", ["joint", "motor", "stages", "ratio", "η fwd / bwd", "drive",
-                               "holding", "refl. inertia", "back-driven", "mass"], rows))
+                               "holding", "refl. inertia", "back-driven", "mass"] + (["cost"] if costs else []),
+                    rows))
     con.print("  drive = η_f·N·τ_peak (motoring); holding = N·τ_peak/η_b while the load back-drives; both capped "
-              "by the gear rating.\n  refl. inertia = N²·I_r (frictionless); back-driven = N²·I_r/η_b, what an "
+              "by the gear torque limit (peak).\n  refl. inertia = N²·I_r (frictionless); back-driven = N²·I_r/η_b, what an "
               "impact meets.")
     for c in a.cases:
         rows = []
@@ -69,8 +82,8 @@ def print_assessment(a) -> None:
                      for k, v in c.metrics.items() if k.startswith("normal_force:")]
         if c.kind == "duty":
             joints = [j.joint for j in a.joints]
-            drows = [[label] + [num(c.metrics.get(f"{key}:{j}"), unit) for j in joints]
-                     for key, label, unit in DUTY_JOINT]
+            drows = [[label] + [num(_scaled(c.metrics.get(f"{key}:{j}"), scale), unit) for j in joints]
+                     for key, label, unit, scale in DUTY_JOINT]
             rows += [["limiting quantity", str(c.metrics.get("limiting_quantity", "—"))]]
         if c.note:
             extra.append(f"[red]carries nothing:[/red] {c.note}")
@@ -86,7 +99,10 @@ def print_assessment(a) -> None:
             con.print(table(f"Case {c.name}: per joint (steady periodic cycle)", ["quantity"] + joints, drows))
         for line in extra:
             con.print(f"  {line}")
-    rows = [[c.subject, c.requirement.replace("_", " "), num(c.achieved, c.unit), num(c.limit, c.unit),
+    def shown(c, v):  # a rating use is a fraction, shown in %
+        return num(100 * v, "%") if c.requirement == "rating_use_max" else num(v, c.unit)
+
+    rows = [[c.subject, c.requirement.replace("_", " "), shown(c, c.achieved), shown(c, c.limit),
              pct(c.margin), "[green]ok[/green]" if c.ok else "[red]MISSED[/red]"] for c in a.checks]
     con.print(table("Requirements", ["subject", "requirement", "achieved", "limit", "margin", ""], rows))
     for text in a.cautions:

@@ -21,14 +21,18 @@ def print_frontier(f) -> None:
               f"back-drivable); {len(f.points)} non-dominated designs, "
               f"{'complete' if f.complete else 'sampled (stopped early)'}; {f.solves} exact solves, {f.seconds:.1f} s")
     rows = []
+    costs = any(p.design.cost > 0 for p in f.points)  # the catalog gives costs
     for i, p in enumerate(f.points):
         mark = " [bold]knee[/bold]" if i == f.knee else ""
-        rows.append([str(i) + mark, num(p.payload, "N"), num(p.measure, UNITS[f.measure]), num(p.mass, "kg"),
-                     ", ".join(p.changes) or ("—" if i else "first point"),
-                     "; ".join(f"{j}: {a.label()}" for j, a in zip(p.design.joints, p.design.actuators))])
-    con.print(table("Frontier (largest payload first)", ["#", "payload", f.measure, "mass", "joints changed", "design"],
-                    rows, caption="each point: the largest payload with the measure at least this good; "
-                                  "every other requirement of the project is kept"))
+        rows.append([str(i) + mark, num(p.payload, "N"), num(p.measure, UNITS[f.measure]), num(p.mass, "kg")]
+                    + ([num(p.design.cost)] if costs else [])
+                    + [", ".join(p.changes) or ("—" if i else "first point"),
+                       "; ".join(f"{j}: {a.label()}" for j, a in zip(p.design.joints, p.design.actuators))])
+    caption = ("each point: the largest payload with the measure at least this good; every other requirement of "
+               "the project is kept" + ("; cost in the catalog's currency units" if costs else ""))
+    con.print(table("Frontier (largest payload first)",
+                    ["#", "payload", f.measure, "mass"] + (["cost"] if costs else []) + ["joints changed", "design"],
+                    rows, caption=caption))
     con.print("[yellow]caution:[/yellow] back-drivability figures are concept-stage estimates; contact safety "
               "must be assessed under the applicable collaborative-robot and machinery safety standards.")
 

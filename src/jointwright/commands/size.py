@@ -10,7 +10,7 @@ import click
 from ..design import design_to_toml
 from ..errors import InputError
 from ..project import load_project
-from ._format import console, emit_json, num, pct, table
+from ._format import console, emit_json, num, pct, requirement_num, table
 from ._output import check_target, project_inputs, write_text
 
 UNITS = {"payload": "N", "mass": "kg", "imf": ""}
@@ -65,7 +65,8 @@ def print_result(r) -> None:
                         caption="loss 0: the joint does not limit the objective; the choice was made by "
                                 "the tie-break (least mass, then least back-driven reflected inertia)"))
     if r.diagnosis:
-        rows = [[d.requirement, num(d.limit), num(d.best_achievable),
+        rows = [[d.requirement, requirement_num(d.requirement, d.limit),
+                 requirement_num(d.requirement, d.best_achievable),
                  "—" if d.shortfall != d.shortfall else pct(-d.shortfall),
                  "infeasible / not solved" if d.relaxed_objective is None else
                  num(d.relaxed_objective, unit) + ("" if d.relaxed_proven else " (bound, time out)")]

@@ -9,8 +9,9 @@ from ..assessment import assess
 from ..design import arrays_from_designs
 from ..errors import InputError
 from ..evaluate import Evaluator
-from . import hooks, plots, sections
-from .markup import page
+from . import hooks, plots, sections, summary
+from .markup import PERCENT_REQUIREMENTS, page
+from .sweeps import efficiency_sensitivity
 
 REPORT_FILE = "report.html"
 FIGURE_DIR = "figures"
@@ -58,29 +59,34 @@ def build_report(project, design, out_dir, *, sizing: dict | None = None,
         sections.joints_section(a),
     ]
     if sizing is not None:
-        units = {f"{c['subject']}: {c['requirement'].replace('_', ' ')}": c["unit"]
+        units = {f"{c['subject']}: {c['requirement'].replace('_', ' ')}":
+                 "%" if c["requirement"] in PERCENT_REQUIREMENTS else c["unit"]
                  for c in a["checks"]}
         parts.append(hooks.runner_ups_section(sizing, units=units))
     if frontier is not None:
         if "measure" in frontier:  # written by `jointwright frontier --out`
             frontier = hooks.frontier_from_sweep(frontier, a)
         parts.append(hooks.frontier_section(frontier, fig_dir))
+    sens = efficiency_sensitivity(project, evaluator, arrays)
     parts += [
         plots.polytope_section(evaluator, arrays, a, fig_dir),
         plots.ellipse_section(evaluator, arrays, fig_dir),
         plots.ratio_section(project, evaluator, arrays, fig_dir),
-        plots.sensitivity_section(project, evaluator, arrays, fig_dir),
+        plots.sensitivity_section(project, evaluator, arrays, fig_dir, sens=sens),
     ]
     duties = plots.duty_data(evaluator, arrays, a) + list(duty or [])
     parts += [hooks.duty_section(d, fig_dir) for d in duties]
     if study is not None:
         parts.append(hooks.study_section(study, fig_dir))
     parts += [sections.cases_section(a), sections.cautions_section(a, project)]
+    top = summary.summary_section(a, fig_dir, frontier=frontier,
+                                  sensitivity=summary.payload_sensitivity(sens))
     text = page(
         title=f"{project.name}: design report",
         subtitle=f"Design “{design.name}” — concept-stage actuator sizing, "
                  "not a certified design.",
         sections=parts,
+        summary=top,
         footer=f"jointwright {_version()}; project {project.file.name}. SI units throughout "
                "(temperatures in °C). Figures are also in the figures folder as PNG and SVG.",
     )

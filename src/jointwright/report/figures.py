@@ -214,17 +214,19 @@ def sensitivity_figure(sens, panels) -> Figure:
 
 
 def points_figure(points, chosen=None, *, x_label: str, y_label: str, title: str,
-                  label: str = "non-dominated designs") -> Figure:
-    """Points (x, y) joined in order of x (a frontier, a study series), ``chosen`` ringed."""
-    fig, (ax,) = _figure(height=4.2)
+                  label: str = "non-dominated designs", width: float = WIDTH,
+                  height: float = 4.2) -> Figure:
+    """Points (x, y) joined in order of x (a frontier), ``chosen`` ringed; ``width`` and
+    ``height`` in inches (the summary's thumbnail is smaller)."""
+    fig, (ax,) = _figure(height=height, width=width)
     pts = np.asarray(points, dtype=float).reshape(-1, 2)
     order = np.argsort(pts[:, 0], kind="stable")
     ax.plot(pts[order, 0], pts[order, 1], "o-", color="#3b6ea5", lw=1.4, ms=4.5, label=label)
     if chosen is not None:
         ax.plot(*chosen, "o", ms=11, mfc="none", mec="#c0703c", mew=2.0, label="chosen design")
     _label(ax, x_label, y_label)
-    _title(ax, title)
-    _legend(fig, [ax], ncols=3)
+    _title(ax, title, width=int(70 * width / WIDTH))
+    _legend(fig, [ax], ncols=3 if width >= WIDTH else 2)
     return fig
 
 
@@ -271,8 +273,10 @@ def frontier_figure(series, knee=None, *, x_label: str, y_label: str, title: str
     for k, (label, (xs, ys)) in enumerate(series.items()):
         xs, ys = np.asarray(xs, dtype=float), np.asarray(ys, dtype=float)
         order = np.argsort(xs, kind="stable")
-        style = dict(color="#3b6ea5", lw=1.6, ms=5) if k == 0 else dict(color="#8a8a8a", lw=1.2, ms=4, ls="--")
-        ax.plot(xs[order], ys[order], "o-", label=label, drawstyle=f"steps-{steps}", **style)
+        style = (dict(color="#3b6ea5", lw=1.6, ms=5, ls="-") if k == 0
+                 else dict(color="#8a8a8a", lw=1.2, ms=4, ls="--"))
+        ax.plot(xs[order], ys[order], marker="o", label=label, drawstyle=f"steps-{steps}",
+                **style)
     if knee is not None:
         ax.plot(*knee, "o", ms=12, mfc="none", mec="#c0703c", mew=2.0, label="knee point")
     ax.ticklabel_format(axis="both", useOffset=False)

@@ -49,7 +49,8 @@ def runner_ups_section(data: dict, file: str = "<sizing>", units: dict | None = 
     ``alternatives`` = [{joint, actuator, change, objective, loss, ruled_out_by}] and, for an
     infeasible problem, ``diagnosis`` = [{requirement, limit, best_achievable, shortfall,
     relaxed_objective}]. Only ``status`` and ``objective_kind`` are required. ``units`` maps a
-    requirement label ("case: payload min") to its unit for the diagnosis table.
+    requirement label ("case: payload min") to its unit for the diagnosis table ("%" for a
+    fraction such as a rating use, shown ×100).
     """
     units = units or {}
     status = _need(data, "status", str, file, "")
@@ -84,8 +85,10 @@ def runner_ups_section(data: dict, file: str = "<sizing>", units: dict | None = 
         where = f"diagnosis[{k}]."
         label = _need(r, "requirement", str, file, where)
         u = units.get(label, "")
-        diag.append([label, Cell(fmt(_need(r, "limit", float, file, where), u), "num"),
-                     Cell(fmt(_optional(r, "best_achievable", file, where), u), "num"),
+        scale = 100.0 if u == "%" else 1.0  # rating uses are fractions, shown in %
+        best = _optional(r, "best_achievable", file, where)
+        diag.append([label, Cell(fmt(scale * _need(r, "limit", float, file, where), u), "num"),
+                     Cell(fmt(None if best is None else scale * best, u), "num"),
                      Cell(pct(_optional(r, "shortfall", file, where)), "num"),
                      Cell(fmt(_optional(r, "relaxed_objective", file, where), unit), "num")])
     if diag:
@@ -179,7 +182,7 @@ def duty_section(data: dict, fig_dir: Path, file: str = "<duty>") -> Section:
     body = figure(png, name, f"duty cycle {case}", "Motor torque per joint over the cycle, by the "
                   "power-flow law sample by sample; red lines are ratings (±).")
     if rows:
-        body += table(["joint", "RMS torque", "peak torque", "peak winding temperature",
+        body += table(["joint", "RMS motor torque", "highest motor torque", "hottest winding",
                        "time back-driven"], rows)
     return Section(name, f"Duty cycle {case}", body)
 

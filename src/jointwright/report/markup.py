@@ -31,6 +31,19 @@ def number(value, digits: int = 4) -> str:
     return format_number(value, digits, minus="−")
 
 
+#: requirements whose values are fractions of a rating, shown in %
+PERCENT_REQUIREMENTS = ("rating_use_max",)
+
+
+def check_value(c: dict, key: str) -> str:
+    """A requirement check's ``achieved`` or ``limit`` with its unit (rating uses in %)."""
+    v = c[key]
+    if c.get("requirement") in PERCENT_REQUIREMENTS and v is not None:
+        v = {"inf": math.inf, "-inf": -math.inf}.get(v, v)
+        return fmt(100.0 * float(v), "%")
+    return fmt(v, c.get("unit", ""))
+
+
 def fmt(value, unit: str = "", digits: int = 4) -> str:
     """A number and its unit, e.g. ``235.5 N``; dimensionless quantities have no suffix."""
     text = number(value, digits)
@@ -110,48 +123,90 @@ _STYLE = """
 body { margin: 0; color: var(--ink); background: #fff;
        font: 15px/1.5 "DejaVu Sans", "Segoe UI", Helvetica, Arial, sans-serif; }
 main { max-width: 960px; margin: 0 auto; padding: 24px 28px 60px; }
-header { border-bottom: 3px solid var(--accent); margin-bottom: 18px; padding-bottom: 8px; }
+header { border-bottom: 3px solid var(--accent); margin-bottom: 14px; padding-bottom: 6px; }
 h1 { font-size: 1.6em; margin: 0 0 4px; }
 h2 { font-size: 1.22em; margin: 34px 0 8px; padding-bottom: 3px;
      border-bottom: 1px solid var(--line); }
+h2.appendix { font-size: 1.4em; margin-top: 48px; border-bottom: 3px solid var(--accent); }
 h3 { font-size: 1.04em; margin: 20px 0 6px; }
 .sub { color: var(--muted); margin: 0; }
-nav ol { columns: 2; margin: 8px 0 0; padding-left: 20px; color: var(--muted); }
+nav ul { columns: 2; margin: 8px 0 0; padding-left: 0; list-style: none; color: var(--muted); }
 nav a { color: var(--accent); text-decoration: none; }
-.scroll { overflow-x: auto; }
-table { border-collapse: collapse; margin: 8px 0 14px; font-size: 0.88em; min-width: 50%; }
+.scroll { overflow-x: auto; max-width: 100%; }
+table { border-collapse: collapse; margin: 8px 0 14px; font-size: 0.88em; min-width: 50%;
+        max-width: 100%; }
 caption { caption-side: bottom; text-align: left; color: var(--muted); font-size: 0.92em;
           padding-top: 4px; }
 th, td { border-bottom: 1px solid var(--line); padding: 4px 9px; text-align: left;
-         vertical-align: top; }
+         vertical-align: top; overflow-wrap: break-word; }
 th { background: var(--band); font-weight: 600; }
 td.num { text-align: right; white-space: nowrap; font-variant-numeric: tabular-nums; }
 td.ok { color: var(--ok); font-weight: 600; }
 td.bad { color: var(--bad); font-weight: 600; }
+table.wide { font-size: 0.8em; }
+table.wide th, table.wide td { padding: 3px 6px; }
+table.wide td.num { white-space: normal; }
 .verdict { padding: 10px 14px; border-left: 5px solid var(--ok); background: var(--band); }
 .verdict.bad { border-left-color: var(--bad); }
+.verdict p { margin: 0; }
 .caution { padding: 10px 14px; border-left: 5px solid var(--warn); background: #faf6ea; }
+.caution p { margin: 0; }
 figure { margin: 14px 0 22px; }
 figure img { max-width: 100%; height: auto; border: 1px solid var(--line); }
 figcaption { color: var(--muted); font-size: 0.9em; margin-top: 4px; }
 .files { font-size: 0.9em; }
-@media print { nav { display: none; } figure, table, .verdict, .caution { break-inside: avoid; }
-               main { max-width: none; padding: 0; } }
+#summary h2 { margin-top: 10px; }
+#summary h3 { margin: 12px 0 4px; }
+#summary table.compact { font-size: 0.84em; margin: 4px 0 6px; min-width: 0; }
+#summary table.compact th, #summary table.compact td { padding: 2px 7px; white-space: nowrap; }
+#summary table.compact td:first-child { white-space: normal; }
+#summary figure { margin: 4px 0 0; }
+#summary ul.risks { margin: 4px 0; padding-left: 20px; font-size: 0.92em; }
+#summary .caution { font-size: 0.9em; padding: 6px 12px; }
+#summary .caution + p { margin-top: 8px; font-size: 0.9em; }
+.pair { display: flex; gap: 18px; align-items: flex-start; }
+.pair > div { flex: 1 1 50%; min-width: 0; }
+@page { margin: 12mm; }
+@media print {
+  body { font-size: 10pt; line-height: 1.35; }
+  main { max-width: none; padding: 0; }
+  nav, .files { display: none; }
+  .scroll { overflow: visible; }
+  table { width: 100%; }
+  th, td { padding: 2px 5px; }
+  td.num { white-space: normal; }
+  figure, tr, .verdict, .caution { break-inside: avoid; }
+  h2, h3 { break-after: avoid; }
+  figure img { max-height: 150mm; width: auto; }
+  #summary { break-after: page; }
+  #summary figure img { max-height: 52mm; }
+  #summary h3 { margin: 8px 0 3px; }
+  #summary table.compact { width: auto; }
+}
 footer { margin-top: 40px; color: var(--muted); font-size: 0.85em;
          border-top: 1px solid var(--line); padding-top: 8px; }
 """
 
 
-def page(title: str, subtitle: str, sections: list[Section], footer: str) -> str:
-    """The whole HTML document."""
-    nav = "".join(f'<li><a href="#{esc(s.anchor)}">{esc(s.title)}</a></li>' for s in sections)
-    body = "".join(f'<section id="{esc(s.anchor)}"><h2>{k}. {esc(s.title)}</h2>{s.body}</section>'
-                   for k, s in enumerate(sections, start=1))
+def page(title: str, subtitle: str, sections: list[Section], footer: str,
+         summary: Section | None = None) -> str:
+    """The whole HTML document: the summary (when given) first, then the sections, numbered
+    A1, A2, … as its appendix (1, 2, … without a summary)."""
+    mark = "A" if summary is not None else ""
+    nav = "".join(f'<li><a href="#{esc(s.anchor)}">{mark}{k}. {esc(s.title)}</a></li>'
+                  for k, s in enumerate(sections, start=1))
+    body = "".join(f'<section id="{esc(s.anchor)}"><h2>{mark}{k}. {esc(s.title)}</h2>{s.body}'
+                   "</section>" for k, s in enumerate(sections, start=1))
+    top = ""
+    if summary is not None:
+        top = (f'<section id="{esc(summary.anchor)}"><h2>{esc(summary.title)}</h2>'
+               f"{summary.body}</section>"
+               '<h2 class="appendix" id="appendix">Appendix: the full assessment</h2>')
     return (
         "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
         "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">"
         f"<title>{esc(title)}</title><style>{_STYLE}</style></head><body><main>"
-        f"<header><h1>{esc(title)}</h1><p class=\"sub\">{esc(subtitle)}</p>"
-        f"<nav><ol>{nav}</ol></nav></header>{body}<footer>{esc(footer)}</footer>"
+        f"<header><h1>{esc(title)}</h1><p class=\"sub\">{esc(subtitle)}</p></header>"
+        f"{top}<nav><ul>{nav}</ul></nav>{body}<footer>{esc(footer)}</footer>"
         "</main></body></html>\n"
     )

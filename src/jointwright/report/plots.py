@@ -68,8 +68,8 @@ def _polytope_caption(s) -> str:
         cap += (f" Unbounded in {', '.join(unbounded)} mode (a self-locking joint or a direction "
                 "no joint limits): drawn clipped.")
     if _coincide(s.vertices):
-        cap += (" The outlines coincide: every bounding joint sits at its gear's rated peak "
-                "torque, which caps all three modes alike.")
+        cap += (" The outlines coincide: every bounding joint sits at its gear torque limit "
+                "(peak), which caps all three modes alike.")
     return cap
 
 
@@ -154,9 +154,12 @@ def _sensitivity_table(sens, columns, titles, units) -> str:
                          f"Design values: {base}.")
 
 
-def sensitivity_section(project, evaluator, arrays, fig_dir: Path) -> Section:
-    """Payload and impact metrics with each efficiency moved ±5 points: bars and a table."""
-    sens = efficiency_sensitivity(project, evaluator, arrays)
+def sensitivity_section(project, evaluator, arrays, fig_dir: Path, sens=None) -> Section:
+    """Payload and impact metrics with each efficiency moved ±5 points: bars and a table.
+
+    ``sens``: the :func:`.sweeps.efficiency_sensitivity` of the design when already computed.
+    """
+    sens = sens if sens is not None else efficiency_sensitivity(project, evaluator, arrays)
     metrics = impact_metric(project, evaluator)
     keys = [k for k in ["payload", *metrics] if k in sens.base]
     titles = {"payload": "Smallest payload"}

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import math
 
-from .markup import Cell, Section, bullets, esc, fmt, number, paragraph, pct, table
+from .markup import Cell, Section, check_value, bullets, esc, fmt, number, paragraph, pct, table
 
 G0 = 9.80665  # m/s², standard gravity (ISO 80000-3), for weight-equivalent payloads
 
@@ -101,7 +101,7 @@ def _limiting_reason(a: dict, case: dict) -> str:
     gear = _f(j["gear_peak_torque"])
     who = "it is" if mode is None else f"it is {mode} and"
     if math.isfinite(gear) and math.isclose(cap, gear, rel_tol=1e-9):
-        return (f"{who} at its gear's rated peak torque ({fmt(gear, 'N·m')}): a larger "
+        return (f"{who} at its gear torque limit (peak) ({fmt(gear, 'N·m')}): a larger "
                 "gear frame raises the payload, a larger motor or ratio does not")
     what = "drive torque" if mode is None else "motor's peak torque through the gear"
     return (f"{who} at its {what} ({fmt(cap, 'N·m')}): a larger motor or a higher ratio raises "
@@ -153,8 +153,8 @@ def outcome_section(a: dict, project) -> Section:
     if not missed:
         words = [f"The design “{name}” meets all {len(checks)} requirements."]
     else:
-        items = "; ".join(f"{_check_label(c)} {fmt(c['achieved'], c['unit'])} against "
-                          f"{fmt(c['limit'], c['unit'])} ({pct(c['margin'])})" for c in missed)
+        items = "; ".join(f"{_check_label(c)} {check_value(c, 'achieved')} against "
+                          f"{check_value(c, 'limit')} ({pct(c['margin'])})" for c in missed)
         words = [f"The design “{name}” misses {len(missed)} of {len(checks)} requirements: "
                  f"{items}."]
     words += _payload_words(a, project)
@@ -167,7 +167,9 @@ def outcome_section(a: dict, project) -> Section:
                      "pushed back by a person or an obstacle.")
     else:
         words.append("No joint is self-locking: every transmission can be back-driven by its load.")
-    words.append(f"Actuator mass {fmt(a['total_mass'], 'kg')} in total.")
+    cost = (f" and cost {fmt(a['total_cost'])} (catalog currency units)"
+            if _f(a.get("total_cost", 0.0)) > 0 else "")
+    words.append(f"Actuator mass {fmt(a['total_mass'], 'kg')}{cost} in total.")
     cls = "verdict" if not missed else "verdict bad"
     body = f'<div class="{cls}">' + "".join(paragraph(w) for w in words) + "</div>"
     return Section("outcome", "Outcome", body)
@@ -180,8 +182,8 @@ def requirements_section(a: dict) -> Section:
         key = (("check", f"{c['subject']}:{c['requirement']}"),)
         rows.append([
             c["subject"], c["requirement"].replace("_", " "),
-            Cell(fmt(c["achieved"], c["unit"]), "num", key + (("field", "achieved"),)),
-            Cell(fmt(c["limit"], c["unit"]), "num", key + (("field", "limit"),)),
+            Cell(check_value(c, "achieved"), "num", key + (("field", "achieved"),)),
+            Cell(check_value(c, "limit"), "num", key + (("field", "limit"),)),
             Cell(pct(c["margin"]), "num", key + (("field", "margin"),)),
             Cell("met" if c["ok"] else "MISSED", "ok" if c["ok"] else "bad"),
         ])
@@ -220,7 +222,8 @@ _INERTIAS = ("rotor_inertia", "reflected_frictionless", "reflected_motoring",
 
 
 def joints_section(a: dict) -> Section:
-    """Per joint: drivetrain, efficiencies, capacities, reflected inertia, mass, speed."""
+    """Per joint: drivetrain, efficiencies, capacities, reflected inertia, mass, cost, speed."""
+    costs = _f(a.get("total_cost", 0.0)) > 0
     drive, inertia = [], []
     for j in a["joints"]:
         name = j["joint"]
@@ -232,37 +235,48 @@ def joints_section(a: dict) -> Section:
                       _tagged(j["capacity_motoring"], "N·m", name, "drive"),
                       _tagged(j["capacity_backdriven"], "N·m", name, "holding"),
                       Cell(fmt(j["gear_peak_torque"], "N·m"), "num")])
-        inertia.append([name] + [Cell(fmt(j[k], "kg·m²"), "num") for k in _INERTIAS]
-                       + [_tagged(j["mass"], "kg", name, "mass"),
-                          Cell(fmt(j["max_joint_speed"], "rad/s"), "num"),
-                          Cell(fmt(j["breakaway_torque"], "N·m"), "num")])
-    total = Cell(fmt(a["total_mass"], "kg"), "num", (("field", "total_mass"),))
-    inertia.append([Cell("total", "num"), "", "", "", "", total, "", ""])
+        row = ([name] + [Cell(fmt(j[k], "kg·m²"), "num") for k in _INERTIAS]
+               + [_tagged(j["mass"], "kg", name, "mass")])
+        if costs:
+            row.append(Cell(fmt(j.get("cost")), "num", (("joint", name), ("field", "cost"))))
+        inertia.append(row + [Cell(fmt(j["max_joint_speed"], "rad/s"), "num"),
+                              Cell(fmt(j["breakaway_torque"], "N·m"), "num")])
+    total = [Cell("total", "num"), "", "", "", "",
+             Cell(fmt(a["total_mass"], "kg"), "num", (("field", "total_mass"),))]
+    if costs:
+        total.append(Cell(fmt(a["total_cost"]), "num", (("field", "total_cost"),)))
+    inertia.append(total + ["", ""])
+    head = (["joint", "rotor-side inertia I_r", "reflected N²·I_r", "motoring η_f·N²·I_r",
+             "back-driven N²·I_r/η_b", "mass"] + (["cost"] if costs else [])
+            + ["max joint speed", "breakaway torque"])
+    caption = _INERTIA_CAPTION + (" Cost in the catalog's currency units." if costs else "")
     body = (table(["joint", "motor", "stages", "ratio", "η forward", "η backward", "drive torque",
-                   "holding torque", "gear rated peak"], drive, caption=_DRIVE_CAPTION)
-            + table(["joint", "rotor-side inertia I_r", "reflected N²·I_r", "motoring η_f·N²·I_r",
-                     "back-driven N²·I_r/η_b", "mass", "max joint speed", "breakaway torque"],
-                    inertia, caption=_INERTIA_CAPTION))
+                   "holding torque", "gear torque limit (peak)"], drive, caption=_DRIVE_CAPTION,
+                  cls="wide")
+            + table(head, inertia, caption=caption, cls="wide"))
     return Section("joints", "Per-joint choices", body)
 
 
 _DRIVE_CAPTION = (
     "Drive torque = η_f·N·τ_peak (motoring); holding torque = N·τ_peak/η_b while the load "
-    "back-drives the joint; both capped by the gear's rated peak torque (a self-locking joint "
-    "holds up to that rating whatever the motor). Efficiencies are dimensionless.")
+    "back-drives the joint; both capped by the gear torque limit (peak) (a self-locking joint "
+    "holds up to that limit whatever the motor). Efficiencies are dimensionless.")
 _INERTIA_CAPTION = (
     "Reflected inertia as seen from the link side; the back-driven value is what an impact "
     "feels. Breakaway torque: joint-side torque that starts the unpowered actuator moving.")
 
-#: duty-cycle quantities per joint: (key, column, unit)
+#: duty-cycle quantities per joint: (key, column, unit, scale). Rating uses come first (how hard
+#: each joint works, in % of what its motor allows), then the quantities behind them.
 DUTY_COLUMNS = (
-    ("rms_torque", "RMS motor torque", "N·m"), ("peak_torque", "peak motor torque", "N·m"),
-    ("peak_speed", "peak motor speed", "rad/s"),
-    ("peak_temperature", "peak winding temp.", "°C"),
-    ("rms_ratio", "RMS ÷ continuous rating", ""), ("peak_ratio", "peak ÷ peak rating", ""),
-    ("thermal_ratio", "temperature rise ÷ allowed", ""),
-    ("energy_regen", "electrical energy per cycle", "J"),
-    ("backdriven_share", "time back-driven", "%"),
+    ("rms_ratio", "continuous torque used (RMS)", "%", 100.0),
+    ("peak_ratio", "peak torque used", "%", 100.0),
+    ("thermal_ratio", "temperature rise used", "%", 100.0),
+    ("rms_torque", "RMS motor torque", "N·m", 1.0),
+    ("peak_torque", "highest motor torque", "N·m", 1.0),
+    ("peak_speed", "highest motor speed", "rad/s", 1.0),
+    ("peak_temperature", "hottest winding", "°C", 1.0),
+    ("energy_regen", "energy per cycle", "J", 1.0),
+    ("backdriven_share", "time back-driven", "%", 100.0),
 )
 
 
@@ -271,16 +285,20 @@ def _duty_table(c: dict, joints: list[str]) -> str:
     rows = []
     for j in joints:
         row = [j]
-        for key, _col, unit in DUTY_COLUMNS:
+        for key, _col, unit, scale in DUTY_COLUMNS:
             v = m.get(f"{key}:{j}")
-            if unit == "%" and isinstance(v, (int, float)):
-                v = 100.0 * v
+            if isinstance(v, (int, float)) and not isinstance(v, bool):
+                v = scale * v
             row.append(Cell(fmt(v, unit), "num", (("case", c["name"]), ("metric", f"{key}:{j}"))))
         rows.append(row)
     quantity = str(m.get("limiting_quantity", "—")).replace("_", " ")
-    cap = (f"Largest rating use {fmt(m.get('rating_use'))} (dimensionless; ≤ 1 passes), set by "
-           f"{c.get('limiting_joint') or '—'} through {quantity}.")
-    return table(["joint"] + [col for _k, col, _u in DUTY_COLUMNS], rows, caption=cap)
+    use = m.get("rating_use")
+    use = 100.0 * use if isinstance(use, (int, float)) and not isinstance(use, bool) else use
+    cap = (f"Largest rating use {fmt(use, '%')} (up to 100 % passes), set by "
+           f"{c.get('limiting_joint') or '—'} through {quantity}. Energy per cycle is electrical, "
+           "with regeneration.")
+    return table(["joint"] + [col for _k, col, _u, _s in DUTY_COLUMNS], rows, caption=cap,
+                 cls="wide")
 
 
 def _case_notes(c: dict) -> list[str]:

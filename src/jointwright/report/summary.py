@@ -1,0 +1,235 @@
+"""The one-page summary at the top of a design report: decision, verdict, risks, cautions.
+
+Written for a decision meeting: it must print on one A4 or Letter page (the browser tests check
+this), so it holds only the decision (the actuator per joint with mass and cost), whether every
+requirement is met and the three tightest margins, the frontier thumbnail with the reported
+design when a frontier is given, the top risks and the cautions. Everything else is in the
+appendix that follows it.
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+from . import figures
+from .markup import Cell, Section, check_value, bullets, figure, fmt, number, paragraph, pct, table
+
+#: a met requirement with a relative margin below this is called thin (10 %) [trade]
+THIN_MARGIN = 0.10
+#: a duty-cycle rating use above this is called close to the motor's limits (90 %) [trade]
+HIGH_RATING_USE = 0.90
+#: at most this many risk lines, most serious first
+MAX_RISKS = 6
+
+SUMMARY_CAUTION = (
+    "Concept-stage sizing on the stated model and catalog data, not a certified design. Before "
+    "building, verify every actuator against supplier data and by test. Self-locking and "
+    "high-ratio joints can trap or crush; contact with people, holding brakes and guarding "
+    "follow the applicable machinery and collaborative-robot safety standards, local codes and "
+    "licensed engineering practice.")
+
+
+def _f(x) -> float:
+    return float({"inf": math.inf, "-inf": -math.inf}.get(x, x)) if x is not None else math.nan
+
+
+def has_costs(a: dict) -> bool:
+    """True when the catalog gives costs (a zero total means it gives none)."""
+    return _f(a.get("total_cost", 0.0)) > 0.0
+
+
+def cost_text(value) -> str:
+    """A cost in the catalog's currency units (the catalog states no currency)."""
+    return fmt(value, "", digits=4)
+
+
+def _label(c: dict) -> str:
+    return f"{c['subject']}: {c['requirement'].replace('_', ' ')}"
+
+
+#: with more joints than this, joints with the same actuator share one row of the decision table
+GROUP_ABOVE = 8
+
+
+def _groups(joints: list[dict]) -> list[list[dict]]:
+    """Joints in order; with more than :data:`GROUP_ABOVE`, those with one actuator together."""
+    if len(joints) <= GROUP_ABOVE:
+        return [[j] for j in joints]
+    groups: dict = {}
+    for j in joints:
+        groups.setdefault(j["actuator"], []).append(j)
+    return list(groups.values())
+
+
+def decision_table(a: dict) -> str:
+    """The actuator per joint with its mass (and cost when the catalog gives costs)."""
+    costs = has_costs(a)
+    rows = []
+    groups = _groups(a["joints"])
+    shared = any(len(g) > 1 for g in groups)
+    for g in groups:
+        j = g[0]
+        lock = " (self-locking)" if j["self_locking"] else ""
+        names = ", ".join(x["joint"] for x in g)
+        row = [names, j["motor"], (" + ".join(j["stages"]) or "direct drive") + lock,
+               Cell(f"{number(j['ratio'])} : 1", "num")]
+        if shared:
+            row.append(Cell(f"{len(g)} ×", "num"))
+        row.append(Cell(fmt(j["mass"], "kg"), "num", (("summary-joint", names),
+                                                      ("field", "mass"))))
+        if costs:
+            row.append(Cell(cost_text(j.get("cost")), "num",
+                            (("summary-joint", names), ("field", "cost"))))
+        rows.append(row)
+    total = [Cell("total", "num"), "", "", ""] + ([""] if shared else [])
+    total.append(Cell(fmt(a["total_mass"], "kg"), "num", (("field", "summary_total_mass"),)))
+    if costs:
+        total.append(Cell(cost_text(a["total_cost"]), "num", (("field", "summary_total_cost"),)))
+    rows.append(total)
+    each = " each" if shared else ""
+    head = (["joints" if shared else "joint", "motor", "gear stages", "ratio"]
+            + (["count"] if shared else []) + [f"mass{each}"] + ([f"cost{each}"] if costs else []))
+    notes = []
+    if shared:
+        notes.append("Joints with the same actuator share a row.")
+    if costs:
+        notes.append("Cost in the catalog's currency units.")
+    return table(head, rows, caption=" ".join(notes), cls="compact")
+
+
+def _verdict(a: dict) -> tuple[str, bool]:
+    checks = a["checks"]
+    missed = [c for c in checks if not c["ok"]]
+    totals = f"actuators {fmt(a['total_mass'], 'kg')}"
+    if has_costs(a):
+        totals += f", cost {cost_text(a['total_cost'])} (catalog currency)"
+    if not checks:
+        return f"The design “{a['design']}” is assessed against no requirement; {totals}.", True
+    if not missed:
+        return (f"The design “{a['design']}” meets all {len(checks)} requirements; {totals}.",
+                True)
+    return (f"The design “{a['design']}” misses {len(missed)} of {len(checks)} requirements; "
+            f"{totals}.", False)
+
+
+def margins_table(a: dict, count: int = 3) -> str:
+    """The ``count`` requirements with the smallest margins."""
+    order = sorted(a["checks"], key=lambda c: _f(c["margin"]))[:count]
+    rows = [[_label(c), Cell(check_value(c, "achieved"), "num"),
+             Cell(check_value(c, "limit"), "num"),
+             Cell(pct(c["margin"]), "num" + ("" if c["ok"] else " bad"),
+                  (("summary-check", f"{c['subject']}:{c['requirement']}"),))]
+            for c in order]
+    if not rows:
+        return paragraph("The project states no requirement.")
+    return table(["requirement", "achieved", "limit", "margin"], rows, cls="compact",
+                 caption="Margin: how far past its limit each requirement is; below 0 it is "
+                         "missed.")
+
+
+def risks(a: dict, sensitivity: dict | None = None) -> list[str]:
+    """The top risks, most serious first: missed requirements, self-locking joints, thin
+    margins, duty cycles close to the motor's limits, the efficiency assumption."""
+    out = []
+    missed = [c for c in a["checks"] if not c["ok"]]
+    for c in sorted(missed, key=lambda c: _f(c["margin"])):
+        out.append(f"Missed: {_label(c)} is {check_value(c, 'achieved')} against "
+                   f"{check_value(c, 'limit')} ({pct(c['margin'])}).")
+    locking = [j["joint"] for j in a["joints"] if j["self_locking"]]
+    if locking:
+        out.append(f"Self-locking: {', '.join(locking)} cannot be pushed back by a person or an "
+                   "obstacle and hold their load unpowered only as long as the gear friction "
+                   "lasts; treat them as pinch and crush points.")
+    thin = [c for c in a["checks"] if c["ok"] and _f(c["margin"]) < THIN_MARGIN]
+    if thin:
+        items = ", ".join(f"{_label(c)} ({pct(c['margin'])})"
+                          for c in sorted(thin, key=lambda c: _f(c["margin"])))
+        out.append(f"Thin margins (below {100 * THIN_MARGIN:.0f} %): {items}; a small change of "
+                   "load, catalog data or efficiency can miss them.")
+    for c in a["cases"]:
+        use = c["metrics"].get("rating_use") if c["kind"] == "duty" else None
+        if isinstance(use, (int, float)) and HIGH_RATING_USE < use <= 1.0:
+            quantity = str(c["metrics"].get("limiting_quantity", "")).replace("_", " ")
+            out.append(f"Duty cycle {c['name']}: {c.get('limiting_joint') or 'a joint'} uses "
+                       f"{fmt(100 * use, '%')} of its motor's {quantity or 'rating'}; a hotter "
+                       "room or a longer cycle can overheat it.")
+    if sensitivity:
+        out.append(sensitivity_risk(sensitivity))
+    out.append("Assumed: rigid links and gears, the catalog's efficiencies and peak ratings at "
+               "any speed; thermal limits only over the duty cycles given (Appendix: "
+               "assumptions, limits and cautions).")
+    return out[:MAX_RISKS]
+
+
+def payload_sensitivity(sens) -> dict | None:
+    """The largest relative change of the smallest payload in a :class:`.sweeps.Sensitivity`,
+    as the dict :func:`sensitivity_risk` reads; None without a finite, nonzero payload."""
+    import numpy as np
+
+    base = sens.base.get("payload")
+    if base is None or not math.isfinite(base) or base == 0:
+        return None
+    rel = np.abs(np.asarray(sens.values["payload"], dtype=float) - base) / abs(base)
+    rel = np.where(np.isfinite(rel), rel, 0.0)
+    j, f, _s = np.unravel_index(int(np.argmax(rel)), rel.shape)
+    return {"points": round(100 * sens.step), "change": float(rel[j, f, _s]),
+            "joint": sens.joints[j], "efficiency": ("η_f", "η_b")[f]}
+
+
+def sensitivity_risk(s: dict) -> str:
+    """One sentence on how far the payload moves when one gear efficiency moves by a few points.
+
+    ``s`` = {"points": percentage points, "change": largest |relative change| of the smallest
+    payload, "joint": its joint, "efficiency": "η_f" or "η_b"}.
+    """
+    return (f"Efficiency assumption: moving one gear efficiency by ±{s['points']} points moves "
+            f"the smallest payload by up to {fmt(100 * s['change'], '%', 3)} "
+            f"({s['efficiency']} of {s['joint']}).")
+
+
+def frontier_thumbnail(frontier: dict, fig_dir: Path) -> str:
+    """A small frontier figure with the reported design ringed (the frontier section's form)."""
+    x, y = frontier["x"], frontier["y"]
+    xy = [(float(p["x"]), float(p["y"])) for p in frontier["points"]]
+    chosen = frontier.get("chosen")
+    if isinstance(chosen, int) and not isinstance(chosen, bool):
+        chosen = xy[chosen]
+    elif isinstance(chosen, dict):
+        chosen = (float(chosen["x"]), float(chosen["y"]))
+    else:
+        chosen = None
+
+    def label(axis, default):
+        return f"{axis.get('label', default)} ({axis.get('unit') or 'dimensionless'})"
+
+    fig = figures.points_figure(xy, chosen, x_label=label(x, "x"), y_label=label(y, "y"),
+                                title="Frontier of non-dominated designs", width=4.8,
+                                height=2.8)
+    png = figures.save(fig, fig_dir, "summary-frontier")
+    where = ("the ring is this design" if chosen is not None
+             else "this design is not placed on it (its measures are not both known)")
+    return figure(png, "summary-frontier", "frontier thumbnail",
+                  f"Non-dominated designs; {where}.")
+
+
+def summary_section(a: dict, fig_dir: Path, *, frontier: dict | None = None,
+                    sensitivity: dict | None = None) -> Section:
+    """The one-page summary (see the module docstring)."""
+    words, ok = _verdict(a)
+    parts = [f'<div class="{"verdict" if ok else "verdict bad"}">{paragraph(words)}</div>',
+             "<h3>Decision: the actuator of each joint</h3>", decision_table(a)]
+    margins = "<h3>Tightest margins</h3>" + margins_table(a)
+    if frontier is not None:
+        parts.append(f'<div class="pair"><div>{margins}</div>'
+                     f"<div>{frontier_thumbnail(frontier, fig_dir)}</div></div>")
+    else:
+        parts.append(margins)
+    parts.append("<h3>Top risks</h3>" + bullets(risks(a, sensitivity), cls="risks"))
+    parts.append('<h3>Cautions</h3><div class="caution">' + paragraph(SUMMARY_CAUTION)
+                 + "</div>")
+    parts.append(paragraph("The appendix that follows holds the full assessment: every "
+                           "requirement, every case, the figures and the assumptions.",
+                           cls="sub"))
+    return Section("summary", "Summary", "".join(parts))
+
