@@ -138,7 +138,40 @@ def test_frictionless_gears_reduce_to_the_classical_model(leg):
                 assert e[key][0] == pytest.approx(e["payload_frictionless"][0], rel=1e-12)
         if case.kind == "impact":
             assert e["imf"][0] == pytest.approx(e["imf_frictionless"][0], rel=1e-12)
-            assert e["imf_motoring"][0] == pytest.approx(e["imf_frictionless"][0], rel=1e-12)
+            assert e["effective_mass"][0] == pytest.approx(e["effective_mass_frictionless"][0], rel=1e-12)
+            assert e["effective_mass_motoring"][0] == pytest.approx(e["effective_mass_frictionless"][0],
+                                                                    rel=1e-10)
+            assert "imf_motoring" not in e  # an impact back-drives the joints: no forward IMF
+
+
+@pytest.mark.parametrize("name", ["leg", "arm"])
+def test_lossy_gears_raise_the_effective_mass_in_both_power_flow_directions(name):
+    # DESIGN.md §2.3: with losses the end-point inertia is larger than frictionless whichever way
+    # the power flows; the forward-driving value at η = 1 would be the frictionless one
+    project, design = example(name)
+    for ef, eb in ((0.9, 0.8), (0.7, 0.4), (0.95, 0.1)):
+        ev = Evaluator(project).evaluate(arrays_from_designs([_with_efficiency(design, ef, eb)]))
+        for case in project.cases:
+            if case.kind != "impact":
+                continue
+            e = ev[case.name]
+            assert e["effective_mass_motoring"][0] > e["effective_mass_frictionless"][0]
+            assert e["effective_mass"][0] > e["effective_mass_frictionless"][0]
+
+
+def test_backdriven_imf_non_increasing_as_backward_efficiency_falls_and_zero_when_self_locking(leg):
+    # Wensing et al. 2017: ξ falls as the joint inertia grows (N²·I_r/η_b); a self-locking gear
+    # locks its joint for the impact, and with every joint locked the contact meets Λ_L: ξ = 0
+    project, design = leg
+    case = next(c for c in project.cases if c.kind == "impact")
+    values = []
+    for eb in (0.9, 0.7, 0.5, 0.3, 0.1):
+        ev = Evaluator(project).evaluate(arrays_from_designs([_with_efficiency(design, 0.9, eb)]))
+        values.append(float(ev[case.name]["imf"][0]))
+    assert all(b <= a * (1 + 1e-12) for a, b in zip(values, values[1:]))
+    assert values[-1] < values[0]
+    ev = Evaluator(project).evaluate(arrays_from_designs([_with_efficiency(design, 0.9, -0.2)]))[case.name]
+    assert ev["imf"][0] == 0.0 and ev["imf_direction"][0] == pytest.approx(0.0, abs=1e-12)
 
 
 def test_lossy_gears_lift_less_and_hold_more_than_frictionless(leg):

@@ -11,7 +11,8 @@ factor exists. Power-flow modes per case:
 * payload: each joint's mode follows the sign of τ_j·q̇_j with q̇ from the intended end-point
   motion (``motion`` = along / against the force, or hold). ``payload_frictionless`` uses N·τ_m.
 * impact: the link drives the motors — back-driven reflected inertia N²·I_r/η_b (self-locking
-  joints are locked); the frictionless (N²·I_r) and motoring (η_f·N²·I_r) values are shown too.
+  joints are locked); the frictionless (N²·I_r) values are shown too, and the forward-driving
+  effective mass (the motors drive the contact: E_f⁻¹·M + R by each joint's power flow).
 * backdrive: unpowered robot, joint-side breakaway torques, gravity held.
 * speed: end-point speed along u while the joints carry the case's load (gravity, payload mass,
   commanded acceleration), each motor inside its torque–speed envelope (hot winding) in its
@@ -29,7 +30,7 @@ import numpy as np
 from .design import DesignArrays
 from .dutycase import evaluate_duty, prepare_duty
 from .metrics.backdrive import backdrive_force
-from .metrics.inertia import effective_mass, impact_mitigation
+from .metrics.inertia import effective_mass, forward_effective_mass, impact_mitigation
 from .metrics.linalg_small import inv_small
 from .metrics.payload import payload_along, torque_bounds
 from .metrics.speed import (acceleration_from_rest, endpoint_speed, loaded_endpoint_speed,
@@ -205,9 +206,19 @@ class Evaluator:
         return cap.forward, hold
 
     def _impact(self, pc: PreparedCase, d: DesignArrays, detail: bool = True) -> dict[str, np.ndarray]:
+        """Inertia at the contact per power-flow direction (docs/metrics.md).
+
+        Back-driven (the impact drives the motors): M + N²·I_r/η_b, self-locking joints locked;
+        frictionless: M + N²·I_r; both give the IMF (floating base) and the effective mass.
+        Forward-driving (``effective_mass_motoring``: the motors drive the contact): the energy
+        reading of E_f⁻¹·M + R per joint power-flow sign (metrics.inertia.forward_effective_mass);
+        it has no IMF (an impact back-drives the joints).
+        """
         out = {}
         locked = d.self_locking
-        for mode in ("frictionless", "motoring", "backdriven") if detail else ("backdriven",):
+        if detail:
+            out["effective_mass_motoring"] = self._forward_effective_mass(pc, d)
+        for mode in ("frictionless", "backdriven") if detail else ("backdriven",):
             refl = d.reflected_inertia(mode)
             refl = np.where(np.isfinite(refl), refl, 0.0)
             H = mass_matrix(pc.basis, d.mass, refl, rotor_inertia=d.rotor_inertia, ratio=d.ratio,
@@ -226,6 +237,19 @@ class Evaluator:
             else:
                 out["effective_mass" + suffix] = _effective_mass_locked(pc.J, H, pc.u, lock)
         return out
+
+    def _forward_effective_mass(self, pc: PreparedCase, d: DesignArrays) -> np.ndarray:
+        coupling = self.project.rotor_coupling
+        M = mass_matrix(pc.basis, d.mass, np.zeros_like(d.mass))
+        H0 = mass_matrix(pc.basis, d.mass, d.reflected_inertia("frictionless"),
+                         rotor_inertia=d.rotor_inertia, ratio=d.ratio, coupling=coupling)
+        nv = M.shape[-1]
+        ef = np.ones(d.mass.shape[:-1] + (nv,))
+        eb = np.ones_like(ef)
+        ef[..., self.v_index] = d.eta_forward
+        eb[..., self.v_index] = d.eta_backward
+        J = np.broadcast_to(pc.J, M.shape[:-2] + pc.J.shape)
+        return forward_effective_mass(J, M, H0 - M, ef, eb, pc.u).mass
 
     def _backdrive(self, pc: PreparedCase, d: DesignArrays) -> dict[str, np.ndarray]:
         r = backdrive_force(pc.Jj, d.breakaway_torque, pc.u)
