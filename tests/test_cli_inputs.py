@@ -164,6 +164,12 @@ BAD = [
         "check", "project.toml", "case[0].tip_speed", "held still"),
     Bad("negative tip speed", (("project.toml", 'motion = "along"', 'motion = "along"\ntip_speed = "-1 m/s"'),),
         "check", "project.toml", "case[0].tip_speed", "must be >= 0 m/s"),
+    Bad("negative payload mass on a speed case", (("project.toml", 'speed_min = "6.0 m/s"', 'speed_min = "6.0 m/s"\npayload_mass = "-2 kg"'),),
+        "check", "project.toml", "case[4].payload_mass", "must be >= 0 kg"),
+    Bad("speed-case acceleration in m/s", (("project.toml", 'speed_min = "6.0 m/s"', 'speed_min = "6.0 m/s"\nacceleration = "3 m/s"'),),
+        "check", "project.toml", "case[4].acceleration", "convertible to m/s**2"),
+    Bad("payload mass on a payload case", (("project.toml", 'payload_min = "150 N"', 'payload_min = "150 N"\npayload_mass = "2 kg"'),),
+        "check", "project.toml", "case[0].payload_mass", "unknown field"),
     # --- URDF ------------------------------------------------------------------------------
     Bad("malformed URDF", (("leg.urdf", '<joint name="knee" type="revolute">', '<joint name="knee" type="revolute"'),),
         "check", "leg.urdf", "urdf line 41", "malformed XML"),  # where the parser notices

@@ -138,7 +138,40 @@ def test_frictionless_gears_reduce_to_the_classical_model(leg):
                 assert e[key][0] == pytest.approx(e["payload_frictionless"][0], rel=1e-12)
         if case.kind == "impact":
             assert e["imf"][0] == pytest.approx(e["imf_frictionless"][0], rel=1e-12)
-            assert e["imf_motoring"][0] == pytest.approx(e["imf_frictionless"][0], rel=1e-12)
+            assert e["effective_mass"][0] == pytest.approx(e["effective_mass_frictionless"][0], rel=1e-12)
+            assert e["effective_mass_motoring"][0] == pytest.approx(e["effective_mass_frictionless"][0],
+                                                                    rel=1e-10)
+            assert "imf_motoring" not in e  # an impact back-drives the joints: no forward IMF
+
+
+@pytest.mark.parametrize("name", ["leg", "arm"])
+def test_lossy_gears_raise_the_effective_mass_in_both_power_flow_directions(name):
+    # DESIGN.md §2.3: with losses the end-point inertia is larger than frictionless whichever way
+    # the power flows; the forward-driving value at η = 1 would be the frictionless one
+    project, design = example(name)
+    for ef, eb in ((0.9, 0.8), (0.7, 0.4), (0.95, 0.1)):
+        ev = Evaluator(project).evaluate(arrays_from_designs([_with_efficiency(design, ef, eb)]))
+        for case in project.cases:
+            if case.kind != "impact":
+                continue
+            e = ev[case.name]
+            assert e["effective_mass_motoring"][0] > e["effective_mass_frictionless"][0]
+            assert e["effective_mass"][0] > e["effective_mass_frictionless"][0]
+
+
+def test_backdriven_imf_non_increasing_as_backward_efficiency_falls_and_zero_when_self_locking(leg):
+    # Wensing et al. 2017: ξ falls as the joint inertia grows (N²·I_r/η_b); a self-locking gear
+    # locks its joint for the impact, and with every joint locked the contact meets Λ_L: ξ = 0
+    project, design = leg
+    case = next(c for c in project.cases if c.kind == "impact")
+    values = []
+    for eb in (0.9, 0.7, 0.5, 0.3, 0.1):
+        ev = Evaluator(project).evaluate(arrays_from_designs([_with_efficiency(design, 0.9, eb)]))
+        values.append(float(ev[case.name]["imf"][0]))
+    assert all(b <= a * (1 + 1e-12) for a, b in zip(values, values[1:]))
+    assert values[-1] < values[0]
+    ev = Evaluator(project).evaluate(arrays_from_designs([_with_efficiency(design, 0.9, -0.2)]))[case.name]
+    assert ev["imf"][0] == 0.0 and ev["imf_direction"][0] == pytest.approx(0.0, abs=1e-12)
 
 
 def test_lossy_gears_lift_less_and_hold_more_than_frictionless(leg):
@@ -182,3 +215,55 @@ def test_batched_equals_one_by_one(leg):
                     np.testing.assert_allclose(both[case][key][i], value[0], rtol=1e-12)
                 else:
                     assert both[case][key][i] == value[0]
+
+
+def test_speed_case_under_load_matches_pinocchio_terms(arm):
+    # the speed case's load, built independently: Pinocchio gravity, mass matrix and Coriolis
+    # terms c(q, q̇) (rnea with and without velocity) on the model carrying the actuators, the
+    # payload's weight and inertia through Jᵀ, then the loaded-speed metric; DESIGN.md §2.4
+    import dataclasses as dc
+
+    from jointwright.metrics.speed import acceleration_from_rest, loaded_endpoint_speed
+
+    project, design = arm
+    base = next(c for c in project.cases if c.kind == "speed")
+    case = dc.replace(base, payload_mass=2.0, acceleration=3.0)
+    project = dc.replace(project, cases=(case,))
+    H, g, J = _pin_terms(project, design, case, np.zeros(len(design.actuators)))
+    robot = project.robot
+    v_idx = np.asarray(robot.v_index)
+    Jj = J[:, v_idx]
+    u = np.array(case.direction)
+    a = np.linalg.pinv(Jj) @ u
+    model = robot.with_actuator_masses([x.mass for x in design.actuators])
+    data = model.createData()
+    q = robot.configuration(case.pose, case.base_xyz, case.base_rpy)
+    v = np.zeros(robot.nv)
+    v[v_idx] = a
+    c2 = (pin.rnea(model, data, q, v, np.zeros(robot.nv)) - pin.rnea(model, data, q, 0 * v, 0 * v))[v_idx]
+    weight = -case.payload_mass * robot.gravity
+    tau_rest = g[v_idx] + Jj.T @ weight
+    per_acc = H[np.ix_(v_idx, v_idx)] @ a + case.payload_mass * Jj.T @ u
+    arrays = arrays_from_designs([design])
+    motor = dict(peak_torque=arrays.motor_peak_torque[0], max_speed=arrays.motor_max_speed[0],
+                 torque_constant=arrays.torque_constant[0], resistance=arrays.resistance[0],
+                 bus_voltage=arrays.bus_voltage[0], winding_temperature=arrays.winding_temperature_max[0])
+    trans = dict(eta_f=arrays.eta_forward[0], eta_b=arrays.eta_backward[0],
+                 rotor_inertia=arrays.rotor_inertia[0], gear_rating=arrays.gear_peak_torque[0])
+    expected = loaded_endpoint_speed(Jj, tau_rest + 3.0 * per_acc, u, arrays.ratio[0], tau_per_speed2=c2,
+                                     joint_acceleration=3.0 * a, **trans, **motor)
+    accel = acceleration_from_rest(Jj, tau_rest, per_acc, u, arrays.ratio[0], **trans, **motor)
+    ev = Evaluator(project).evaluate(arrays)[case.name]
+    assert ev["speed"][0] == pytest.approx(float(expected.speed), rel=1e-9)
+    assert ev["acceleration"][0] == pytest.approx(float(accel.acceleration), rel=1e-9)
+    assert ev["limiting_joint"][0] == expected.limiting_joint
+    # plausibility [trade]: under load never faster than the no-load figure, and the end point's
+    # speed is each moving joint's motor speed / N over its rate per unit end-point speed
+    assert 0 < ev["speed"][0] <= ev["speed_no_load"][0]
+    k = int(ev["limiting_joint"][0])
+    assert ev["speed"][0] == pytest.approx(ev["motor_speed"][0, k] / arrays.ratio[0, k] / abs(a[k]), rel=1e-9)
+    assert np.all(ev["motor_speed"][0] <= arrays.motor_max_speed[0] * (1 + 1e-12))
+    # a heavier payload never makes the tool faster or quicker to accelerate
+    heavy = dc.replace(case, payload_mass=6.0)
+    ev6 = Evaluator(dc.replace(project, cases=(heavy,))).evaluate(arrays)[case.name]
+    assert ev6["speed"][0] <= ev["speed"][0] and ev6["acceleration"][0] < ev["acceleration"][0]

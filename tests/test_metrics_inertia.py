@@ -459,3 +459,107 @@ def test_bad_input_raises_input_error():
         effective_mass(np.array([[np.nan, 1.0]]), np.eye(2), [1.0])
     with pytest.raises(InputError, match="nonzero"):
         effective_mass(np.ones((2, 2)), np.eye(2), [0.0, 0.0])
+
+
+# ----------------------------------------------------------------------------------------------
+# inertia per power-flow direction (DESIGN.md §2.3; docs/metrics.md)
+# ----------------------------------------------------------------------------------------------
+from jointwright.metrics.inertia import forward_apparent_inertia, forward_effective_mass  # noqa: E402
+
+
+def _backdriven_mass(J, M, R, eta_b, u):
+    return effective_mass(J, M + np.diag(R / eta_b), u).mass
+
+
+@settings(derandomize=True, max_examples=80, deadline=None)
+@given(seed=SEEDS, n=st.integers(1, 6), m=st.integers(1, 3))
+def test_lossy_transmission_never_lowers_effective_mass_in_either_direction(seed, n, m):
+    # energy bound [derived]: through a lossy gear the actuators supply p/η_f ≥ p for the link
+    # work they send and get back only η_b·p ≤ p (p < 0) for the work they receive, so forward
+    # effective mass ≥ frictionless; back-driven M + R/η_b ⪰ M + R (Loewner), so its effective
+    # mass ≥ frictionless too; both along every direction
+    rng = np.random.default_rng(seed)
+    M = random_spd(rng, n)
+    J = rng.standard_normal((m, n))
+    R = rng.uniform(0, 2, n)
+    ef = rng.uniform(0.3, 1.0, n)
+    eb = ef * rng.uniform(0.1, 1.0, n)
+    for _ in range(5):
+        u = rng.standard_normal(m)
+        base = effective_mass(J, M + np.diag(R), u).mass
+        fwd = forward_effective_mass(J, M, R, ef, eb, u)
+        assert fwd.frictionless == pytest.approx(base, rel=1e-9)
+        assert fwd.mass >= base * (1 - 1e-12)
+        assert _backdriven_mass(J, M, R, eb, u) >= base * (1 - 1e-12)
+        # a self-locking backward efficiency: the motor drives back-driven joints along, still ≥
+        lock = forward_effective_mass(J, M, R, ef, -0.2 * np.ones(n), u)
+        assert lock.mass >= base * (1 - 1e-12)
+
+
+@settings(derandomize=True, max_examples=40, deadline=None)
+@given(seed=SEEDS, n=st.integers(1, 6))
+def test_frictionless_transmission_is_the_classical_model(seed, n):
+    # η_f = η_b = 1: both directions are 1/(uᵀ·J·(M + R)⁻¹·Jᵀ·u) (Khatib 1995)
+    rng = np.random.default_rng(seed)
+    M = random_spd(rng, n)
+    J = rng.standard_normal((3, n))
+    R = rng.uniform(0, 2, n)
+    u = rng.standard_normal(3)
+    u /= np.linalg.norm(u)
+    classical = 1.0 / (u @ J @ np.linalg.solve(M + np.diag(R), J.T) @ u)
+    ones = np.ones(n)
+    assert forward_effective_mass(J, M, R, ones, ones, u).mass == pytest.approx(classical, rel=1e-10)
+    assert _backdriven_mass(J, M, R, ones, u) == pytest.approx(classical, rel=1e-10)
+
+
+def test_one_joint_closed_form_per_direction():
+    # one revolute joint, link inertia I about it, tip at lever L (J = [L]), R = N²·I_r:
+    # forward (I/η_f + N²·I_r)/L², back-driven (I + N²·I_r/η_b)/L², frictionless (I + N²·I_r)/L²
+    # [derived from the transmission law of DESIGN.md §2.3]
+    I, L, N, Ir, ef, eb = 0.04, 0.3, 20.0, 2e-5, 0.8, 0.6
+    R = N * N * Ir
+    J, M = np.array([[L]]), np.array([[I]])
+    fwd = forward_effective_mass(J, M, [R], [ef], [eb], [1.0])
+    assert fwd.mass == pytest.approx((I / ef + R) / L**2, rel=1e-12)
+    assert fwd.frictionless == pytest.approx((I + R) / L**2, rel=1e-12)
+    assert _backdriven_mass(J, M, np.array([R]), eb, [1.0]) == pytest.approx((I + R / eb) / L**2, rel=1e-12)
+    # the old reading η_f·N²·I_r would give (I + η_f·R)/L² < frictionless: not what the motor feels
+    assert (I + ef * R) / L**2 < fwd.frictionless < fwd.mass
+    # forward apparent inertia of one joint: I/η_f + N²·I_r
+    assert forward_apparent_inertia(M, [R], [ef])[0, 0] == pytest.approx(I / ef + R, rel=1e-12)
+
+
+def test_coupled_joints_need_the_per_joint_power_flow_sign():
+    # two coupled joints: along this direction the natural motion back-drives joint 0
+    # (v_0·(M·v)_0 < 0). Reading the all-motoring quadratic form vᵀ·(E_f⁻¹·M + R)·v there would
+    # fall below the frictionless effective mass, which no lossy gear can do; with each joint's
+    # own power-flow sign the forward value stays above it [derived]
+    M = np.array([[1.0, 0.9], [0.9, 1.0]])
+    J = np.eye(2)
+    R = np.zeros(2)
+    ef = np.array([0.1, 1.0])
+    u = np.array([0.1, 1.0])
+    fwd = forward_effective_mass(J, M, R, ef, ef, u)
+    v = fwd.motion
+    assert fwd.backdriven_joints[0] and not fwd.backdriven_joints[1]
+    all_motoring = v @ forward_apparent_inertia(M, R, ef) @ v
+    assert all_motoring < fwd.frictionless < fwd.mass
+
+
+def test_backdriven_imf_falls_with_backward_efficiency_and_vanishes_when_self_locking():
+    # H = M + R/η_b grows in the Loewner order as η_b falls, so ξ = det(I − Λ·Λ_L⁻¹) cannot rise
+    # (Wensing et al. 2017); with every joint self-locking the contact meets Λ_L: ξ = 0
+    rng = np.random.default_rng(7)
+    nj = 3
+    H0 = random_spd(rng, 6 + nj)
+    J = rng.standard_normal((3, 6 + nj))
+    R = rng.uniform(0.05, 0.5, nj)
+    values = []
+    for eb in (1.0, 0.8, 0.5, 0.3, 0.1):
+        H = H0.copy()
+        H[6:, 6:] += np.diag(R / eb)
+        values.append(float(impact_mitigation(H, J).imf))
+    assert all(b <= a * (1 + 1e-12) for a, b in zip(values, values[1:]))
+    assert values[-1] < values[0]
+    locked = impact_mitigation(H0, J, locked=np.ones(nj, dtype=bool), direction=np.array([0.0, 0, 1]))
+    assert locked.imf == 0.0 and locked.imf_direction == pytest.approx(0.0, abs=1e-12)

@@ -144,6 +144,9 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
             if k == "limiting_joint":
                 idx = int(v.reshape(-1)[0])
                 limiting = evaluator.limit_joints[idx] if idx >= 0 else None
+            elif k.endswith("_limiting_joint"):
+                idx = int(v.reshape(-1)[0])
+                metrics[k] = names[idx] if idx >= 0 else None
             elif k == "contact_force_z":
                 for (frame, _, _), f in zip(case.contacts, v.reshape(-1)):
                     metrics[f"normal_force:{frame}"] = float(f)

@@ -47,9 +47,12 @@ def torque_capacity(mode, ratio, eta_forward, eta_backward, self_locking, motor_
 
 
 def reflected_inertia(mode, ratio, eta_forward, eta_backward, self_locking, rotor_inertia):
-    """Inertia seen at the joint from the link side (kg·m²), arrays broadcast.
+    """Rotor inertia seen at the joint (kg·m²) per mode, arrays broadcast.
 
-    frictionless N²·I_r; motoring η_f·N²·I_r; back-driven N²·I_r/η_b (inf when self-locking).
+    frictionless N²·I_r; back-driven N²·I_r/η_b (inf when self-locking), what the link side
+    meets when it drives the motor. ``"motoring"`` gives η_f·N²·I_r: only the rotor's share per
+    unit of torque that reaches the joint, not the forward-driving inertia of the robot (that is
+    E_f⁻¹·M + R, metrics.inertia.forward_effective_mass).
     """
     base = np.asarray(ratio, float) ** 2 * rotor_inertia
     if mode == "frictionless":

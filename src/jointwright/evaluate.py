@@ -11,9 +11,13 @@ factor exists. Power-flow modes per case:
 * payload: each joint's mode follows the sign of τ_j·q̇_j with q̇ from the intended end-point
   motion (``motion`` = along / against the force, or hold). ``payload_frictionless`` uses N·τ_m.
 * impact: the link drives the motors — back-driven reflected inertia N²·I_r/η_b (self-locking
-  joints are locked); the frictionless (N²·I_r) and motoring (η_f·N²·I_r) values are shown too.
+  joints are locked); the frictionless (N²·I_r) values are shown too, and the forward-driving
+  effective mass (the motors drive the contact: E_f⁻¹·M + R by each joint's power flow).
 * backdrive: unpowered robot, joint-side breakaway torques, gravity held.
-* speed: joint speed limit = motor maximum speed / N.
+* speed: end-point speed along u while the joints carry the case's load (gravity, payload mass,
+  commanded acceleration), each motor inside its torque–speed envelope (hot winding) in its
+  joint's power-flow mode; the acceleration from rest with the load; the no-load figure
+  (motor maximum speed / N) only as ``speed_no_load``.
 * duty: per sample, from the sign of τ_j·q̇ along the trajectory (:mod:`jointwright.dutycase`).
 
 Joints that are not actuated (docs/robot-format.md): a *held* joint never moves and its torque
@@ -33,10 +37,11 @@ import numpy as np
 from .design import DesignArrays
 from .dutycase import evaluate_duty, prepare_duty
 from .metrics.backdrive import backdrive_force
-from .metrics.inertia import effective_mass, impact_mitigation
+from .metrics.inertia import effective_mass, forward_effective_mass, impact_mitigation
 from .metrics.linalg_small import inv_small
 from .metrics.payload import payload_along, torque_bounds
-from .metrics.speed import endpoint_speed, payload_at_speed
+from .metrics.speed import (acceleration_from_rest, endpoint_speed, loaded_endpoint_speed,
+                            payload_at_speed)
 from .robot.basis import gravity, mass_matrix, pose_basis
 
 #: joint velocity components below this fraction of the largest count as zero (holding)
@@ -56,6 +61,9 @@ class PreparedCase:
     u: np.ndarray | None  # (3,) unit direction
     velocity_sign: np.ndarray  # (n_act,) for payload and stance cases
     contact_J: np.ndarray | None = None  # stance: (k, 3, nv) contact point Jacobians
+    #: speed cases: (1 + n_act, n_act) Coriolis and centrifugal torques at the actuated joints per
+    #: (end-point speed)², links only (row 0) and per kg of each actuator's mass (rows 1...)
+    speed_terms: np.ndarray | None = None
 
 
 class Evaluator:
@@ -102,8 +110,9 @@ class Evaluator:
         contact_J = basis.J[1:, :3, :] if case.kind == "stance" else None
         if case.kind == "stance" and case.motion != "hold":
             sign = _stance_velocity_sign(contact_J, J, u, case.motion, self.v_index)
+        speed_terms = _speed_terms(robot, q, Jj, u) if case.kind == "speed" else None
         return PreparedCase(case=case, basis=basis, J=J, Jj=Jj, u=u, velocity_sign=sign,
-                            contact_J=contact_J)
+                            contact_J=contact_J, speed_terms=speed_terms)
 
     # ------------------------------------------------------------------------------------------
     def evaluate(self, d: DesignArrays, *, detail: bool = True) -> dict[str, dict[str, np.ndarray]]:
@@ -124,7 +133,7 @@ class Evaluator:
             elif kind == "backdrive":
                 out[pc.case.name] = self._backdrive(pc, d)
             elif kind == "speed":
-                out[pc.case.name] = self._speed(pc, d)
+                out[pc.case.name] = self._speed(pc, d, detail)
         for pd in self.duty:
             out[pd.case.name] = evaluate_duty(pd, d, detail=detail)
         return out
@@ -248,6 +257,14 @@ class Evaluator:
         return cap.forward, hold
 
     def _impact(self, pc: PreparedCase, d: DesignArrays, detail: bool = True) -> dict[str, np.ndarray]:
+        """Inertia at the contact per power-flow direction (docs/metrics.md).
+
+        Back-driven (the impact drives the motors): M + N²·I_r/η_b, self-locking joints locked;
+        frictionless: M + N²·I_r; both give the IMF (floating base) and the effective mass.
+        Forward-driving (``effective_mass_motoring``: the motors drive the contact): the energy
+        reading of E_f⁻¹·M + R per joint power-flow sign (metrics.inertia.forward_effective_mass);
+        it has no IMF (an impact back-drives the joints).
+        """
         out = {}
         nv = self.robot.nv
         # locked in an impact: held joints always, self-locking transmissions back-driven
@@ -255,7 +272,9 @@ class Evaluator:
         structure[..., self.held_index] = True
         locked = structure.copy()
         locked[..., self.v_index] = d.self_locking
-        for mode in ("frictionless", "motoring", "backdriven") if detail else ("backdriven",):
+        if detail:
+            out["effective_mass_motoring"] = self._forward_effective_mass(pc, d)
+        for mode in ("frictionless", "backdriven") if detail else ("backdriven",):
             refl = d.reflected_inertia(mode)
             refl = np.where(np.isfinite(refl), refl, 0.0)
             H = mass_matrix(pc.basis, d.mass, refl, rotor_inertia=d.rotor_inertia, ratio=d.ratio,
@@ -275,6 +294,24 @@ class Evaluator:
                 out["effective_mass" + suffix] = _effective_mass_locked(pc.J, H, pc.u, lock)
         return out
 
+    def _forward_effective_mass(self, pc: PreparedCase, d: DesignArrays) -> np.ndarray:
+        coupling = self.project.rotor_coupling
+        M = mass_matrix(pc.basis, d.mass, np.zeros_like(d.mass))
+        H0 = mass_matrix(pc.basis, d.mass, d.reflected_inertia("frictionless"),
+                         rotor_inertia=d.rotor_inertia, ratio=d.ratio, coupling=coupling)
+        nv = M.shape[-1]
+        ef = np.ones(d.mass.shape[:-1] + (nv,))
+        eb = np.ones_like(ef)
+        ef[..., self.v_index] = d.eta_forward
+        eb[..., self.v_index] = d.eta_backward
+        R = H0 - M
+        J = np.broadcast_to(pc.J, M.shape[:-2] + pc.J.shape)
+        if self.held_index.size:  # held joints do not move: their coordinates leave the problem
+            keep = np.setdiff1d(np.arange(nv), self.held_index)
+            M, R = M[..., keep[:, None], keep], R[..., keep[:, None], keep]
+            J, ef, eb = J[..., keep], ef[..., keep], eb[..., keep]
+        return forward_effective_mass(J, M, R, ef, eb, pc.u).mass
+
     def _backdrive(self, pc: PreparedCase, d: DesignArrays) -> dict[str, np.ndarray]:
         # free joints start moving under any torque; held ones never do
         Jx, breakaway = pc.Jj, d.breakaway_torque
@@ -285,9 +322,70 @@ class Evaluator:
         r = backdrive_force(Jx, breakaway, pc.u)
         return {"backdrive_force": r.force, "limiting_joint": r.limiting_joint}
 
-    def _speed(self, pc: PreparedCase, d: DesignArrays) -> dict[str, np.ndarray]:
-        r = endpoint_speed(pc.Jj, d.motor_max_speed / d.ratio, pc.u)
-        return {"speed": r.speed, "limiting_joint": r.limiting_joint}
+    def _speed(self, pc: PreparedCase, d: DesignArrays, detail: bool = True) -> dict[str, np.ndarray]:
+        """End-point speed along u under the case's load, acceleration from rest, no-load speed.
+
+        Load: gravity of links and actuators, the payload mass at the frame (its weight and, with
+        ``acceleration``, its inertia), M·q̈ for the commanded end-point acceleration and the
+        Coriolis and centrifugal torques of the motion (base held, as for payload cases; the
+        joints move along q̇ = J⁺·u·v, q̈ = J⁺·u·acceleration). Motors: torque–speed envelope at the hot winding
+        (corner-point envelope without electrical data), each joint in its power-flow mode.
+        """
+        case = pc.case
+        n_act = len(self.v_index)
+        zeros = np.zeros_like(d.mass)
+        M = mass_matrix(pc.basis, d.mass, zeros)[..., self.v_index[:, None], self.v_index]
+        a = np.linalg.pinv(pc.Jj) @ pc.u
+        g_vec = self.robot.gravity
+        weight = case.payload_mass * (-g_vec)  # force the tip exerts to carry the payload, N
+        tau_rest = self._bias(pc, d) + pc.Jj.T @ weight
+        tau_per_acc = M @ a + case.payload_mass * (pc.Jj.T @ pc.u)
+        acc = case.acceleration
+        known = ~(np.isnan(d.torque_constant) | np.isnan(d.resistance) | np.isnan(d.bus_voltage))
+        motor = dict(peak_torque=d.motor_peak_torque, max_speed=d.motor_max_speed,
+                     torque_constant=np.where(known, d.torque_constant, 1.0),
+                     resistance=np.where(known, d.resistance, 1.0),
+                     bus_voltage=np.where(known, d.bus_voltage, np.inf),
+                     winding_temperature=d.winding_temperature_max)
+        trans = dict(eta_f=d.eta_forward, eta_b=d.eta_backward, rotor_inertia=d.rotor_inertia,
+                     gear_rating=d.gear_peak_torque)
+        c2 = pc.speed_terms[0] + d.mass @ pc.speed_terms[1:]
+        loaded = loaded_endpoint_speed(pc.Jj, tau_rest + acc * tau_per_acc, pc.u, d.ratio,
+                                       tau_per_speed2=c2,
+                                       joint_acceleration=np.broadcast_to(a * acc, (n_act,)),
+                                       **trans, **motor)
+        accel = acceleration_from_rest(pc.Jj, tau_rest, tau_per_acc, pc.u, d.ratio, **trans, **motor)
+        out = {"speed": loaded.speed, "limiting_joint": loaded.limiting_joint,
+               "carries_load": loaded.carries_load,
+               "acceleration": accel.acceleration,
+               "acceleration_limiting_joint": accel.limiting_joint}
+        if detail:
+            out["speed_no_load"] = endpoint_speed(pc.Jj, d.motor_max_speed / d.ratio, pc.u).speed
+            out["motor_torque"] = loaded.motor_torque
+            out["motor_speed"] = loaded.motor_speed
+        return out
+
+
+def _speed_terms(robot, q, Jj, u) -> np.ndarray:
+    """Coriolis and centrifugal torques c(q, a) at the actuated joints for joint rates a = J⁺·u
+    (one unit of end-point speed along u, base at rest), links only and per kg of each
+    actuator: c is linear in the inertial parameters, so c(m) = c_0 + Σ_k m_k·(c(e_k) − c_0)."""
+    import pinocchio as pin
+
+    a = np.linalg.pinv(Jj) @ u
+    v = np.zeros(robot.nv)
+    v[np.asarray(robot.v_index)] = a
+
+    def coriolis(masses):
+        model = robot.with_actuator_masses(masses)
+        data = model.createData()
+        c = pin.nonLinearEffects(model, data, q, v) - pin.computeGeneralizedGravity(model, data, q)
+        return np.asarray(c)[np.asarray(robot.v_index)]
+
+    n = robot.n_act
+    base = coriolis(np.zeros(n))
+    rows = [base] + [coriolis(np.eye(n)[k]) - base for k in range(n)]
+    return np.array(rows)
 
 
 def _stance_velocity_sign(contact_J, J, u, motion, v_index) -> np.ndarray:

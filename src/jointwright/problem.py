@@ -23,6 +23,7 @@ _CASE_METRIC = {
     "effective_mass_max": ("effective_mass", "kg"),
     "backdrive_force_max": ("backdrive_force", "N"),
     "speed_min": ("speed", "m/s"),
+    "acceleration_min": ("acceleration", "m/s²"),
     "rating_use_max": ("rating_use", ""),
 }
 

@@ -31,7 +31,9 @@ class Case:
         ``impact``: effective mass along ``direction`` and, for a floating base, the impact
         mitigation factor at the contact point ``frame``; back-driven reflected inertia.
         ``backdrive``: tip force along ``direction`` that starts the unpowered robot moving.
-        ``speed``: end-point speed along ``direction`` within the motors' speed limits.
+        ``speed``: end-point speed along ``direction`` reachable while the joints carry the
+        case's load (gravity, ``payload_mass``, ``acceleration``) inside each motor's
+        torque–speed envelope; also the acceleration along ``direction`` from rest.
         ``duty``: a trajectory (CSV) for RMS/peak torque, temperature and energy.
         ``stance``: robot-level payload: the largest load at ``frame`` (the robot holding it with
         a force along ``direction``) over every contact-force distribution on ``contacts``
@@ -51,6 +53,10 @@ class Case:
     #: payload cases: end-point speed (m/s) during the motion; the motors' torque–speed
     #: envelope at that speed then sets the capacity (0 = static capacity)
     tip_speed: float = 0.0
+    #: speed cases: mass carried at the frame (kg; its weight, and its inertia when accelerating)
+    payload_mass: float = 0.0
+    #: speed cases: end-point acceleration along ``direction`` held during the motion (m/s²)
+    acceleration: float = 0.0
     #: requirement name -> limit, e.g. {"payload_min": 150.0} (SI)
     limits: dict[str, float] = field(default_factory=dict)
     #: for payload cases: the force is reported as a mass too when the direction is vertical
@@ -69,7 +75,7 @@ CASE_LIMITS: dict[str, dict[str, tuple[str, str]]] = {
         "effective_mass_max": ("mass", "max"),
     },
     "backdrive": {"backdrive_force_max": ("force", "max")},
-    "speed": {"speed_min": ("velocity", "min")},
+    "speed": {"speed_min": ("velocity", "min"), "acceleration_min": ("acceleration", "min")},
     # rating use: the worst of RMS/continuous, peak/peak torque, speed/max speed, torque/envelope
     # and temperature rise/allowed rise over the joints; 1.0 uses a rating fully
     "duty": {"rating_use_max": ("dimensionless", "max")},
@@ -377,6 +383,8 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
     tip_speed = t.quantity("tip_speed", "velocity", 0.0, sign="nonnegative") if kind == "payload" else 0.0
     if tip_speed > 0 and motion == "hold":
         raise InputError(t.file, t.field("tip_speed"), "a payload held still has no tip speed; use motion = along or against")
+    payload_mass = t.quantity("payload_mass", "mass", 0.0, sign="nonnegative") if kind == "speed" else 0.0
+    acceleration = t.quantity("acceleration", "acceleration", 0.0, sign="nonnegative") if kind == "speed" else 0.0
     limits = {}
     for key, (dim, _sense) in CASE_LIMITS[kind].items():
         if t.has(key):
@@ -393,7 +401,8 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
     t.done()
     return Case(name=name, kind=kind, frame=frame, pose=pose, base_xyz=base_xyz, base_rpy=base_rpy,
                 direction=direction, motion=motion, trajectory=trajectory, ambient=ambient,
-                tip_speed=tip_speed, limits=limits, weight_equivalent=weight, contacts=contacts)
+                tip_speed=tip_speed, limits=limits, weight_equivalent=weight, contacts=contacts,
+                payload_mass=payload_mass, acceleration=acceleration)
 
 
 def _force_or_weight(t: Table, key: str) -> float:

@@ -3,7 +3,8 @@
 Pure functions of matrices with leading batch dimensions ``...`` (designs, poses):
 a Jacobian ``J`` is ``(..., m, n)``, a mass matrix ``(..., n, n)``, a direction ``(..., m)``.
 The mass matrix is the caller's: it includes whichever reflected rotor inertia the power-flow
-mode calls for (η_f·N²·I_r motoring, N²·I_r/η_b back-driven, N²·I_r frictionless).
+direction calls for (N²·I_r/η_b back-driven, N²·I_r frictionless). The forward-driving
+direction is not a mass matrix of that kind (E_f⁻¹·M + R): see :func:`forward_effective_mass`.
 
 All products X = J·M⁻¹·Jᵀ are formed as Wᵀ·W with W = L⁻¹·Jᵀ and M = L·Lᵀ (Cholesky), entry by
 entry over the batch (see :mod:`.linalg_small`). Sources: Khatib 1987 (operational-space
@@ -210,6 +211,115 @@ def _em_chunk(J, M, u):
     with np.errstate(divide="ignore"):
         mass = np.where(immovable, np.inf, 1.0 / np.where(immovable, 1.0, mobility))
     return mass, immovable
+
+
+# --------------------------------------------------------------------------------------------
+# inertia per power-flow direction
+# --------------------------------------------------------------------------------------------
+def forward_apparent_inertia(M, R, eta_f):
+    """Forward-driving apparent inertia A_f = E_f⁻¹·M + R (DESIGN §2.3), arrays broadcast.
+
+    With every joint motoring, the motoring law τ_j = η_f·(τ_id − R·q̈) (τ_id = N·τ_m the ideal
+    joint torque, R = diag(N²·I_r)) and the link dynamics M·q̈ = τ_j + Jᵀ·F give
+    (E_f⁻¹·M + R)·q̈ = τ_id + E_f⁻¹·Jᵀ·F: A_f is the inertia the actuators overcome per unit of
+    ideal joint torque. Rows of joints without a transmission (η_f = 1: base, free joints) are
+    untouched. A_f is not symmetric unless M is diagonal or E_f a multiple of I; its quadratic
+    form vᵀ·A_f·v is twice the actuators' energy for an impulsive start along v when every
+    joint motors (see :func:`forward_effective_mass`).
+
+    Parameters
+    ----------
+    M : array (..., n, n), link-side mass matrix (actuator masses included, no rotor inertia)
+    R : array (..., n) diagonal or (..., n, n), rotor-side inertia seen at the joints, N²·I_r
+    eta_f : array (..., n), forward efficiency per joint, 1 where no transmission
+    """
+    M = np.asarray(M, dtype=float)
+    R = np.asarray(R, dtype=float)
+    ef = np.asarray(eta_f, dtype=float)
+    Rm = R if R.ndim >= 2 and R.shape[-2:] == M.shape[-2:] else R[..., None] * np.eye(M.shape[-1])
+    return M / ef[..., :, None] + Rm
+
+
+@dataclass(frozen=True)
+class ForwardEffectiveMass:
+    """Forward-driving effective mass along u (see :func:`forward_effective_mass`).
+
+    Attributes
+    ----------
+    mass : array (...), kg; ``inf`` where ``immovable``
+    frictionless : array (...), kg: 1/(uᵀ·J·(M + R)⁻¹·Jᵀ·u) of the same motion
+    motion : array (..., n), the joint-velocity pattern v used (per unit end-point speed along u)
+    backdriven_joints : bool array (..., n), joints whose link-side power p_i < 0 along v
+    immovable : bool array (...)
+    """
+
+    mass: np.ndarray
+    frictionless: np.ndarray
+    motion: np.ndarray
+    backdriven_joints: np.ndarray
+    immovable: np.ndarray
+
+
+def forward_effective_mass(J, M, R, eta_f, eta_b, u) -> ForwardEffectiveMass:
+    """Effective mass along u that the actuators feel when they drive the end point.
+
+    Energy reading (the classical effective mass is m_u = min{vᵀ·H·v : uᵀ·J·v = 1}, twice the
+    least kinetic energy that gives the end point unit speed along u, attained by the natural
+    motion v ∝ H⁻¹·Jᵀ·u of a frictionless robot; Khatib 1995). Driving through lossy gears, the
+    actuators must supply for an impulsive start along v: the rotors' kinetic energy ½·vᵀ·R·v,
+    plus, per joint, the link-side work p_i = ½·v_i·(M·v)_i through the gear, which costs
+    p_i/η_f where it flows motor → link (motoring) and returns only η_b·p_i where it flows back
+    (a joint that the motion back-drives; η_b ≤ 0 for a self-locking joint, which the motor must
+    drive along). With the natural motion v = (M + R)⁻¹·Jᵀ·û scaled to unit speed along û:
+
+        m_f(u) = [ Σ_i φ_i(v_i·(M·v)_i) + vᵀ·R·v ] / (ûᵀ·J·v)²,
+        φ_i(p) = p/η_f,i for p > 0,  η_b,i·p for p ≤ 0.
+
+    Properties (tested): φ_i(p) ≥ p, so m_f ≥ the frictionless m_u in every direction; it equals
+    m_u when η_f = η_b = 1; for one joint it is (I_link/η_f + N²·I_r)/J²; and where every joint
+    motors it is the quadratic form of the forward-driving apparent inertia E_f⁻¹·M + R
+    (:func:`forward_apparent_inertia`) along v. Using vᵀ·(E_f⁻¹·M + R)·v for every v instead
+    would credit a joint that the motion back-drives with the motoring loss, and can fall below
+    the frictionless value when joints are coupled, which no lossy transmission can do; hence the
+    per-joint power-flow sign. m_f is not a quadratic form in u, so there is no forward-driving
+    Λ matrix: plot √m_f(u) over directions (it encloses the frictionless ellipse).
+
+    Parameters
+    ----------
+    J : array (..., m, n)
+    M : array (..., n, n), link-side mass matrix (actuator masses, no rotor inertia), SPD
+    R : array (..., n) diagonal or (..., n, n) symmetric PSD, rotor-side inertia at the joints
+    eta_f, eta_b : array (..., n), per joint (1 where no transmission), 0 < η_f ≤ 1, η_b ≤ 1
+    u : array (..., m), nonzero
+
+    Returns
+    -------
+    ForwardEffectiveMass
+    """
+    J, M = _jacobian_and_mass(J, M)
+    u = unit_vectors(u, "u", J.shape[-2])
+    R = np.asarray(R, dtype=float)
+    n = M.shape[-1]
+    Rm = R if R.ndim >= 2 and R.shape[-2:] == (n, n) else R[..., None] * np.eye(n)
+    ef = np.asarray(eta_f, dtype=float)
+    eb = np.asarray(eta_b, dtype=float)
+    if np.any(~((ef > 0) & (ef <= 1))) or np.any(~(np.isfinite(eb) & (eb <= 1))):
+        raise InputError(API, "eta_f, eta_b", "need 0 < eta_f <= 1 and a finite eta_b <= 1")
+    H = M + Rm
+    y = np.einsum("...mn,...m->...n", J, u)
+    v = np.linalg.solve(H, y[..., None])[..., 0]
+    s = np.einsum("...n,...n->...", y, v)  # ûᵀ·J·v = ûᵀ·J·H⁻¹·Jᵀ·û
+    immovable = np.linalg.norm(y, axis=-1) <= 1e-12 * np.linalg.norm(J, axis=(-2, -1))
+    p = v * np.einsum("...ij,...j->...i", M, v)
+    phi = np.where(p > 0, p / ef, eb * p)
+    rotor = np.einsum("...i,...ij,...j->...", v, Rm, v)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        scale = np.where(immovable, 1.0, s)
+        mass = np.where(immovable, np.inf, (phi.sum(-1) + rotor) / scale**2)
+        free = np.where(immovable, np.inf, 1.0 / scale)
+        motion = v / scale[..., None]
+    return ForwardEffectiveMass(mass=mass, frictionless=free, motion=motion,
+                                backdriven_joints=(p < 0) & ~immovable[..., None], immovable=immovable)
 
 
 @dataclass(frozen=True)
