@@ -165,11 +165,19 @@ class SizingModel:
         Static cases screen all rows at once; duty cases, the costly ones, are checked only for
         the leading rows until the best fully feasible one is known.
         """
+        return self.best_key_until(index, None)[0]
+
+    def best_key_until(self, index: np.ndarray, deadline) -> tuple[tuple | None, float]:
+        """:meth:`best_key`, stopping the costly checks at ``deadline`` (``time.perf_counter()``
+        value). Returns (key of the best fully checked feasible row or None, an upper bound on the
+        objective of the rows left unchecked, −inf when none is left)."""
+        import time
+
         costly = bool(self.duty or self.stance)
         s = self.score(index, full=not costly)
         if not costly:
             row = self.best(s)
-            return None if row is None else self.key(s, row)
+            return (None if row is None else self.key(s, row)), -math.inf
         known = np.zeros(s.index.shape[0], dtype=bool)
         ok, f = s.feasible.copy(), s.objective.copy()
         order = np.lexsort(tuple(s.index.T[::-1]) + (s.reflected, s.mass, -s.objective))
@@ -177,9 +185,17 @@ class SizingModel:
             current = dataclasses.replace(s, feasible=ok, objective=f)
             row = self.best(current)
             if row is None:
-                return None
+                return None, -math.inf
             if known[row]:
-                return self.key(current, row)
+                return self.key(current, row), -math.inf
+            if deadline is not None and time.perf_counter() > deadline:
+                done = ok & known
+                left = ok & ~known
+                best = None
+                if done.any():
+                    r = self.best(dataclasses.replace(s, feasible=done, objective=f))
+                    best = self.key(current, r)
+                return best, float(f[left].max())
             todo = [row] + [r for r in order if ok[r] and not known[r] and r != row][:DUTY_CHUNK - 1]
             verdict = self.score(s.index[todo])
             known[todo] = True

@@ -169,14 +169,19 @@ class BranchAndBound:
             full = np.broadcast_to(idx, (chunk_opts.size, model.n)).copy()
             full[:, list(unit)] = chunk_opts[:, None]
             opts, b = opts[LEAF_CHUNK:], {k: v[LEAF_CHUNK:] for k, v in b.items()}
-            key = model.best_key(full)
+            key, left = model.best_key_until(full, self.deadline if math.isfinite(self.deadline) else None)
             self.scored += full.shape[0]
+            if left > -math.inf:  # the limit struck inside the costly checks of this chunk
+                self.stopped = True
+                self.open_bound = max(self.open_bound, left)
             if key is not None:
                 if model.better(key, self.best_key):
                     self.best_key = key
                     if key[0] >= self.upper - tie_tol(self.upper):
                         self.reached = True
-            if time.perf_counter() > self.deadline and opts.size:
+            if (self.stopped or time.perf_counter() > self.deadline) and opts.size:
                 self.stopped = True
                 self.open_bound = max(self.open_bound, float(b["objective"].max()))
+                return
+            if self.stopped:
                 return
