@@ -210,3 +210,28 @@ def test_time_limit_reports_a_bound_and_gap(arm):
     if res.status == "time_limit" and res.design is not None:
         assert res.bound >= res.objective - 1e-9
         assert res.gap >= 0.0
+
+
+@settings(max_examples=6, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(seed=st.integers(0, 2**31 - 1), kind=st.sampled_from(["payload", "mass", "imf"]))
+def test_first_design_is_feasible_and_never_beats_the_optimum(leg, seed, kind):
+    """The primal heuristics' design (solve/heuristic.py) meets every requirement when
+    re-evaluated and is no better than the enumerated optimum (it is a feasible point)."""
+    from jointwright.assessment import assess
+    from jointwright.sizing import build_model, design_of, units_of
+    from jointwright.solve.heuristic import Heuristic
+
+    rng = np.random.default_rng(seed)
+    project = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng), max_stages=1,
+                                  stage_kinds=None, objective={})
+    project = set_limits(project, rng, build_table(project), keep_duty=rng.random() < 0.5)
+    ref, _ = oracle(project, kind)
+    model, _ = build_model(project, kind, {}, [], [])
+    key = Heuristic(model, units_of(model.n, ()), math.inf).run()
+    if ref.status == "infeasible":
+        assert key is None
+        return
+    if key is None:
+        return
+    assert key[0] <= ref.objective + 1e-9 * max(1.0, abs(ref.objective))
+    assert assess(project, design_of(project, model, np.array(key[3]), "first")).feasible

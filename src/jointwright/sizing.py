@@ -122,6 +122,9 @@ def tighten(model: SizingModel, units: list[tuple], rounds: int = 10, deadline=N
     root = np.full(model.n, -1, dtype=np.int64)
     for _ in range(rounds):
         changed = False
+        # statistics of the candidates at the start of the round: a superset of the current
+        # ones, so every bound from them still holds for every completion
+        st = model.stats(model.candidates)
         for unit in units:
             if deadline is not None and time.perf_counter() > deadline:
                 return
@@ -130,7 +133,6 @@ def tighten(model: SizingModel, units: list[tuple], rounds: int = 10, deadline=N
                 opts = np.intersect1d(opts, model.candidates[j])
             if opts.size == 0:
                 return
-            st = model.stats(model.candidates)
             ok = model.child_bounds(root, unit, opts, st)["ok"]
             ok[ok] = model.costly_ok(root, unit, opts[ok], st)
             keep = opts[ok]
@@ -151,11 +153,30 @@ def solve_value(project, kind: str, *, table=None, time_limit=None) -> SolveOutc
     return BranchAndBound(model, units_of(model.n, model.shared), time_limit=time_limit, ties=False).run()
 
 
-def run_backend(model: SizingModel, units, backend: str, time_limit, progress) -> SolveOutcome:
+#: share of the search's time given to the primal heuristics, and its cap in seconds
+HEURISTIC_SHARE, HEURISTIC_SECONDS = 0.25, 10.0
+
+
+def first_design(model: SizingModel, units, time_limit, phase=None):
+    """A feasible design from the primal heuristics (solve/heuristic.py), as a search key, or
+    None; it takes a quarter of ``time_limit`` (at most 10 s, 10 s without a limit)."""
+    from .solve.heuristic import Heuristic
+
+    (phase or (lambda text: None))("first designs")
+    share = HEURISTIC_SECONDS if time_limit is None else min(HEURISTIC_SHARE * time_limit, HEURISTIC_SECONDS)
+    return Heuristic(model, units, time.perf_counter() + share).run()
+
+
+def run_backend(model: SizingModel, units, backend: str, time_limit, progress, phase=None) -> SolveOutcome:
     if backend == "search":
         from .solve.search import BranchAndBound
 
-        return BranchAndBound(model, units, time_limit=time_limit, progress=progress).run()
+        t0 = time.perf_counter()
+        incumbent = first_design(model, units, time_limit, phase)
+        if time_limit is not None:
+            time_limit = max(time_limit - (time.perf_counter() - t0), 1e-3)
+        (phase or (lambda text: None))("searching")
+        return BranchAndBound(model, units, time_limit=time_limit, progress=progress, incumbent=incumbent).run()
     if backend == "pyomo":
         from .solve.pyomo_backend import solve_pyomo
 
@@ -247,8 +268,9 @@ def size(project, *, objective=None, backend="search", time_limit=None, pins=Non
                             time.perf_counter() - start, backend, str(e), 0,
                             message="time limit reached before any design was searched")
     units = units_of(model.n, model.shared)
-    phase("searching")
-    outcome = run_backend(model, units, backend, plan.solve_left(), progress)
+    if backend != "search":
+        phase("searching")
+    outcome = run_backend(model, units, backend, plan.solve_left(), progress, phase)
     return finish(project, model, cands, outcome, kind, backend, start, explain, plan, phase)
 
 

@@ -55,15 +55,17 @@ class BranchAndBound:
     """Depth-first branch and bound; see the module docstring."""
 
     def __init__(self, model: SizingModel, units: list[tuple], *, time_limit=None, progress=None,
-                 ties=True, upper=None):
+                 ties=True, upper=None, incumbent=None):
         """``ties=False`` proves only the optimal value (ties are not searched for the preferred
-        design); ``upper`` is a known upper bound on the optimum: reaching it ends the search."""
+        design); ``upper`` is a known upper bound on the optimum: reaching it ends the search;
+        ``incumbent`` the key (:meth:`SizingModel.key`) of a design known to be feasible (from
+        the primal heuristics) to start from."""
         self.model = model
         self.units = search_order(model, units)
         self.st = model.stats(model.candidates)
         self.deadline = math.inf if time_limit is None else time.perf_counter() + time_limit
         self.progress = progress
-        self.best_key = None
+        self.best_key = incumbent
         self.nodes = 0
         self.scored = 0
         self.open_bound = -math.inf
