@@ -525,9 +525,113 @@ class SizingModel:
         """The bounds that cost an oracle call or a trajectory: effective mass, then duty.
         For an effective-mass objective the objective bound in ``bounds`` is set here."""
         ok = self.effective_mass_ok(idx, unit, options, st, bounds)
+        if ok.any() and self.imf_limits_or_objective():
+            rows = np.flatnonzero(ok)
+            sub = None if bounds is None else {"objective": bounds["objective"][rows]}
+            ok[rows] = self.impact_ok(idx, unit, options[rows], st, sub)
+            if sub is not None:
+                bounds["objective"][rows] = sub["objective"]
+                bounds["objective"][~ok] = np.minimum(bounds["objective"][~ok], -np.inf)
         if self.duty_bound and ok.any():
             rows = np.flatnonzero(ok)
             ok[rows] = self.duty_bound.ok(idx, unit, options[rows], st, self.mass)
+        return ok
+
+    # --- impact mitigation bounds --------------------------------------------------------------
+    def imf_limits_or_objective(self) -> bool:
+        if self.impact_evaluator is None or self.project.rotor_coupling or not self.impact_evaluator.floating:
+            return False
+        if self.kind == "imf" or (self.measure is not None and self.measure[0] == "imf"):
+            return True
+        return any("imf_min" in c.limits or "directional_imf_min" in c.limits for c in self.impact_cases)
+
+    def impact_bounds(self, idx: np.ndarray, unit: tuple, options: np.ndarray, st: dict) -> dict:
+        """Upper bounds (K,) on the IMF ξ and the directional IMF ξ_x of every impact case over
+        all completions of the K children (docs/optimizer.md, item 8).
+
+        With A = Λ⁻¹ = J·H⁻¹·Jᵀ (base and unlocked joints) and B = Λ_L⁻¹ = J_b·H_bb⁻¹·J_bᵀ,
+        ξ = det(A − B)/det(A) grows with A and falls with B in the Loewner order, and
+        ξ_x = 1 − xᵀA⁻¹x / xᵀB⁻¹x likewise. H only grows with every actuator mass and every
+        reflected inertia (locking is the limit of infinite inertia), so A is largest with every
+        unassigned joint at its least mass and least back-driven reflected inertia, and B is
+        smallest with every unassigned joint at its greatest mass (B does not see the reflected
+        inertia). Evaluating ξ at (A_max, B_min) bounds every completion."""
+        K0 = options.size
+        # children differ only in the unit's mass and reflected inertia: bound each pair once
+        pairs = np.stack([self.mass[options], np.where(np.isfinite(self.reflected[options]),
+                                                       self.reflected[options], -1.0)], axis=1)
+        _u, first, back = np.unique(pairs, axis=0, return_index=True, return_inverse=True)
+        back = np.asarray(back).reshape(-1)
+        if first.size < K0:
+            sub = self.impact_bounds(idx, unit, options[first], st)
+            return {k: (v[0][back], v[1][back]) for k, v in sub.items()}
+        from ..robot.basis import mass_matrix
+
+        K = options.size
+        unit = list(unit)
+        full = np.broadcast_to(idx, (K, self.n)).copy()
+        full[:, unit] = options[:, None]
+        free = full < 0
+        safe = np.where(free, 0, full)
+        m_lo = np.where(free, st["mmin"][None, :], self.mass[safe])
+        m_hi = np.where(free, st["mmax"][None, :], self.mass[safe])
+        r_lo = np.where(free, st["rmin"][None, :], self.reflected[safe])
+        locked = ~np.isfinite(r_lo)
+        r_lo = np.where(locked, 0.0, r_lo)
+        out = {}
+        for pc in self.impact_evaluator.cases:
+            if pc.case.kind != "impact":
+                continue
+            nb = 6
+            H_lo = mass_matrix(pc.basis, m_lo, r_lo)
+            H_hi = mass_matrix(pc.basis, m_hi, np.zeros_like(r_lo))
+            J = np.asarray(pc.J, dtype=float)
+            nv = H_lo.shape[-1]
+            keep = np.concatenate([np.ones((K, nb), dtype=bool), ~locked], axis=1)
+            both = keep[:, :, None] & keep[:, None, :]
+            H_lo = np.where(both, H_lo, np.eye(nv))
+            Jt = np.where(keep[:, :, None], np.broadcast_to(J.T, (K,) + J.T.shape), 0.0)
+            A = np.einsum("ij,kjl->kil", J, np.linalg.solve(H_lo, Jt)) if J.ndim == 2 else None
+            Jb = J[:, :nb]
+            B = np.einsum("ij,kjl->kil", Jb, np.linalg.solve(H_hi[:, :nb, :nb], np.broadcast_to(Jb.T, (K,) + Jb.T.shape)))
+            A = 0.5 * (A + np.swapaxes(A, 1, 2))
+            B = 0.5 * (B + np.swapaxes(B, 1, 2))
+            det_a = np.linalg.det(A)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                xi = np.linalg.det(A - B) / det_a
+                x = np.asarray(pc.u, dtype=float) / np.linalg.norm(pc.u)
+                qa = np.einsum("i,kij,j->k", x, np.linalg.inv(A), x)
+                qb = np.einsum("i,kij,j->k", x, np.linalg.inv(B), x)
+                xd = np.where(qb > 0, 1.0 - qa / qb, 1.0)
+            xi = np.where(np.isfinite(xi), np.clip(xi, 0.0, 1.0), 1.0)
+            xd = np.where(np.isfinite(xd), np.clip(xd, 0.0, 1.0), 1.0)
+            # round-off: a relative slack on both
+            out[pc.case.name] = (np.minimum(xi * (1 + 1e-7) + 1e-9, 1.0), np.minimum(xd * (1 + 1e-7) + 1e-9, 1.0))
+        return out
+
+    def impact_ok(self, idx, unit, options, st, bounds=None) -> np.ndarray:
+        """False where an IMF limit is provably missed by every completion; for the ``imf``
+        objective (and an IMF measure) the objective bound in ``bounds`` is lowered to the
+        worst case's bound (:meth:`impact_bounds`)."""
+        K = options.size
+        ok = np.ones(K, dtype=bool)
+        if K == 0:
+            return ok
+        ub = self.impact_bounds(idx, unit, options, st)
+        for c in self.impact_cases:
+            if c.name not in ub:
+                continue
+            xi, xd = ub[c.name]
+            if "imf_min" in c.limits:
+                ok &= xi >= c.limits["imf_min"] * (1 - 1e-9) - 1e-12
+            if "directional_imf_min" in c.limits:
+                ok &= xd >= c.limits["directional_imf_min"] * (1 - 1e-9) - 1e-12
+        if bounds is not None:
+            if self.kind == "imf":
+                f = np.min([ub[n][0] for n in ub], axis=0) if ub else np.ones(K)
+                bounds["objective"] = np.minimum(bounds["objective"], f)
+            elif self.measure is not None and self.measure[0] == "imf" and self.measure[1] in ub:
+                bounds["objective"] = np.minimum(bounds["objective"], ub[self.measure[1]][0])
         return ok
 
     def effective_mass_ok(self, idx: np.ndarray, unit: tuple, options: np.ndarray, st: dict,
