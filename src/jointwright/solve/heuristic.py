@@ -30,20 +30,29 @@ from .model import SizingModel
 BATCH = 1024
 #: options tried per unit and local-search move (a random subset when there are more)
 MOVE_OPTIONS = 2048
+#: the same when every design must be scored in full (cone programs)
+MOVE_OPTIONS_FULL = 48
 
 
 def _merit(model: SizingModel, index: np.ndarray):
     """(screen-feasible, objective, mass, total violation) of designs ``index`` (D, n) with the
     static cases (duty and stance cases left out: a screen)."""
     arrays = model.table.arrays(index)
-    ev = model.static_evaluator.evaluate(arrays, detail=False)
-    cl = checks(model.static_project, arrays, ev)
-    s = model.score_arrays(arrays, index, full=False)
+    full = blind_screen(model)
+    ev = (model.evaluator if full else model.static_evaluator).evaluate(arrays, detail=False)
+    cl = checks(model.project if full else model.static_project, arrays, ev)
+    s = model.score_arrays(arrays, index, full=full)
     viol = np.zeros(index.shape[0])
     for c in cl:
         m = c.margin
         viol += np.where(m < -1e-12, np.minimum(-m, 1e6), 0.0)
     return s.feasible, s.objective, s.mass, viol
+
+
+def blind_screen(model: SizingModel) -> bool:
+    """Whether the screen without duty and stance cases carries no objective (a payload
+    objective set by stance cases only): the heuristics then score designs in full."""
+    return model.kind == "payload" and not model.payload and bool(model.stance)
 
 
 def _order(ok, f, mass, viol) -> np.ndarray:
@@ -55,8 +64,12 @@ def _order(ok, f, mass, viol) -> np.ndarray:
 class Heuristic:
     """First incumbent for the exact search; see the module docstring."""
 
-    def __init__(self, model: SizingModel, units: list[tuple], deadline: float, seed: int = 0):
+    def __init__(self, model: SizingModel, units: list[tuple], deadline: float, seed: int = 0,
+                 extend: bool = False):
+        """``extend``: keep sampling until half the time to ``deadline`` is used (a run with a
+        time limit); otherwise a fixed number of samples."""
         self.model = model
+        self.extend = extend
         self.units = units
         self.deadline = deadline
         self.rng = np.random.default_rng(seed)
@@ -140,18 +153,29 @@ class Heuristic:
                 hi = level
 
     def sample_and_improve(self, samples: int = 4 * BATCH, starts: int = 3) -> None:
+        """Random designs: at least ``samples``, and more while less than half of the time left
+        at the start has been used; then local search from the best few."""
         model = self.model
         pool = []
-        for _ in range(max(1, samples // BATCH)):
+        t0 = time.perf_counter()
+        half = t0 + 0.5 * max(self.deadline - t0, 0.0) if self.extend else t0
+        batches = 0
+        while batches < max(1, samples // BATCH) or time.perf_counter() < half:
+            batches += 1
             if self.out_of_time():
                 break
-            index = np.empty((BATCH, model.n), dtype=np.int64)
+            size = 64 if blind_screen(model) else BATCH
+            index = np.empty((size, model.n), dtype=np.int64)
             for u, opts in zip(self.units, self.options):
-                index[:, list(u)] = self.rng.choice(opts, BATCH)[:, None]
+                index[:, list(u)] = self.rng.choice(opts, size)[:, None]
             ok, f, mass, viol = _merit(model, index)
             order = _order(ok, f, mass, viol)
             self.offer(index[order[:32]])
-            pool.extend(index[order[:starts]])
+            pool.append((index[order[:starts]], ok[order[:starts]], f[order[:starts]],
+                         mass[order[:starts]], viol[order[:starts]]))
+        if pool:
+            idx_all, *merit = (np.concatenate(x) for x in zip(*pool))
+            pool = list(idx_all[_order(*merit)[:starts]])
         if self.best is not None:
             pool.insert(0, np.array(self.best[3]))
         for start in pool[:starts + 1]:
@@ -169,8 +193,9 @@ class Heuristic:
                 if self.out_of_time():
                     self.offer(index[None, :])
                     return
-                if opts.size > MOVE_OPTIONS:
-                    opts = np.unique(np.concatenate([self.rng.choice(opts, MOVE_OPTIONS, replace=False),
+                cap = MOVE_OPTIONS_FULL if blind_screen(model) else MOVE_OPTIONS
+                if opts.size > cap:
+                    opts = np.unique(np.concatenate([self.rng.choice(opts, cap, replace=False),
                                                      [index[u[0]]]]))
                 trial = np.broadcast_to(index, (opts.size, model.n)).copy()
                 trial[:, list(u)] = opts[:, None]
