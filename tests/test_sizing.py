@@ -120,3 +120,45 @@ def test_continuous_ratio_range_is_gridded_then_refined(small):
                 assert lo * (1 - 1e-12) <= s.ratio <= hi * (1 + 1e-12)
     grid = size(p, explain=False, backend="enumerate")
     assert r.objective >= grid.objective * (1 - 1e-9)
+
+
+def test_time_limit_covers_option_building(small):
+    """A limit that runs out before the options are built ends the run with status time_limit
+    and no design (not an exception, not an unlimited search)."""
+    r = size(small, time_limit=1e-9)
+    assert r.status == "time_limit" and r.design is None
+    assert "time limit" in r.message
+
+
+def test_runner_ups_change_a_shared_group_as_a_whole(small):
+    """With joints shared, a runner-up gives the whole group the other option: its objective is
+    the one of the design with every joint of the group changed (scored by the evaluator)."""
+    from jointwright.sizing import build_model
+
+    shared = [["hip_fe", "knee"]]
+    r = size(small, shared=shared)
+    if r.status != "optimal":
+        pytest.skip("instance infeasible")
+    model, _ = build_model(small, "payload", {}, [], shared)
+    labels = {a.label(): o for o, a in enumerate(model.table.actuators)}
+    index = np.array([labels[a.label()] for a in r.design.actuators])
+    group = [list(small.robot.actuated).index(j) for j in shared[0]]
+    rows = [a for a in r.alternatives if a.joint == "hip_fe, knee"]
+    assert rows and not any(a.joint in ("hip_fe", "knee") for a in r.alternatives)
+    for a in rows:
+        if a.objective is None:
+            continue
+        changed = index.copy()
+        changed[group] = labels[a.actuator]
+        s = model.score(changed[None, :])
+        assert s.feasible[0]
+        assert s.objective[0] == pytest.approx(a.objective, rel=1e-12)
+
+
+def test_cli_no_explain_skips_the_runner_ups(tmp_path):
+    runner = CliRunner()
+    runner.invoke(main, ["new", str(tmp_path / "leg")])
+    project = str(tmp_path / "leg" / "project.toml")
+    r = runner.invoke(main, ["size", project, "--no-explain", "--json"])
+    data = json.loads(r.output[r.output.index("{"):])
+    assert data["alternatives"] == [] and data["diagnosis"] == []

@@ -77,6 +77,7 @@ def set_limits(project, rng, table, keep_duty=True):
     sample = rng.integers(0, len(table), (8, n))
     ev = model.evaluator.evaluate(table.arrays(sample), detail=False)
     key = {"payload_min": "payload", "imf_min": "imf", "effective_mass_max": "effective_mass",
+           "directional_imf_min": "imf_direction",
            "backdrive_force_max": "backdrive_force", "speed_min": "speed", "rating_use_max": "rating_use"}
     cases = []
     for c in project.cases:
@@ -210,3 +211,77 @@ def test_time_limit_reports_a_bound_and_gap(arm):
     if res.status == "time_limit" and res.design is not None:
         assert res.bound >= res.objective - 1e-9
         assert res.gap >= 0.0
+
+
+@settings(max_examples=6, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(seed=st.integers(0, 2**31 - 1), kind=st.sampled_from(["payload", "mass", "imf"]))
+def test_first_design_is_feasible_and_never_beats_the_optimum(leg, seed, kind):
+    """The primal heuristics' design (solve/heuristic.py) meets every requirement when
+    re-evaluated and is no better than the enumerated optimum (it is a feasible point)."""
+    from jointwright.assessment import assess
+    from jointwright.sizing import build_model, design_of, units_of
+    from jointwright.solve.heuristic import Heuristic
+
+    rng = np.random.default_rng(seed)
+    project = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng), max_stages=1,
+                                  stage_kinds=None, objective={})
+    project = set_limits(project, rng, build_table(project), keep_duty=rng.random() < 0.5)
+    ref, _ = oracle(project, kind)
+    model, _ = build_model(project, kind, {}, [], [])
+    key = Heuristic(model, units_of(model.n, ()), math.inf).run()
+    if ref.status == "infeasible":
+        assert key is None
+        return
+    if key is None:
+        return
+    assert key[0] <= ref.objective + 1e-9 * max(1.0, abs(ref.objective))
+    assert assess(project, design_of(project, model, np.array(key[3]), "first")).feasible
+
+
+@settings(max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(seed=st.integers(0, 2**31 - 1))
+def test_impact_bounds_hold_for_every_completion(leg, seed):
+    """The IMF bounds of a partial design (Loewner-order monotonicity, docs/optimizer.md item 8;
+    IMF definition: Wensing et al., IEEE T-RO 33(3), 2017 [pub]) are at or above the IMF and the
+    directional IMF the evaluator computes for random completions of it."""
+    rng = np.random.default_rng(seed)
+    project = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng, motors=3, kinds=2, ratios=3),
+                                  max_stages=1, stage_kinds=None, objective={})
+    table = build_table(project)
+    n = len(project.robot.actuated)
+    model = SizingModel(project, table, [np.arange(len(table))] * n, "imf")
+    st_ = model.stats(model.candidates)
+    for _ in range(4):
+        idx = np.full(n, -1, dtype=np.int64)
+        assigned = rng.random(n) < 0.4
+        idx[assigned] = rng.integers(0, len(table), int(assigned.sum()))
+        free = np.flatnonzero(idx < 0)
+        unit = (int(rng.choice(free)),) if free.size else (0,)
+        options = np.arange(len(table))
+        ub = model.impact_bounds(idx, unit, options, st_)
+        for _k in range(6):
+            full = np.broadcast_to(idx, (len(table), n)).copy()
+            full[:, list(unit)] = options[:, None]
+            for j in range(n):
+                if j not in unit and idx[j] < 0:
+                    full[:, j] = rng.integers(0, len(table), len(table))
+            ev = model.impact_evaluator.evaluate(table.arrays(full), detail=False)
+            for name, (xi, xd) in ub.items():
+                assert np.all(np.asarray(ev[name]["imf"]) <= xi + 1e-12)
+                assert np.all(np.asarray(ev[name]["imf_direction"]) <= xd + 1e-12)
+
+
+@settings(max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(seed=st.integers(0, 2**31 - 1), kind=st.sampled_from(["payload", "imf", "mass"]))
+def test_impact_limits_and_budgets_match_enumeration(leg, seed, kind):
+    """imf_min, directional_imf_min and effective_mass_max on the impact case together with a
+    total-mass budget: the search (IMF bounds, effective-mass bound, budget level bound) finds
+    the enumerated optimum."""
+    rng = np.random.default_rng(seed)
+    cases = tuple(dataclasses.replace(c, limits={"imf_min": 1.0, "directional_imf_min": 1.0,
+                                                 "effective_mass_max": 1.0})
+                  if c.kind == "impact" else c for c in leg.cases if c.kind != "duty")
+    project = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng, motors=3, ratios=3),
+                                  max_stages=1, stage_kinds=None, objective={}, cases=cases)
+    project = set_limits(project, rng, build_table(project), keep_duty=False)
+    agree(project, kind)

@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import itertools
 import math
+import time
 from dataclasses import dataclass, fields
 
 import numpy as np
@@ -33,6 +34,10 @@ MAX_OPTIONS = 250_000
 
 #: filters never remove an option whose margin is above this (looser than the checks' −1e-12)
 FILTER_SLACK = 1e-9
+
+
+class OutOfTime(Exception):
+    """The caller's time limit ran out while options were built or prepared."""
 
 
 def preferred_ratios(low: float, high: float) -> tuple[float, ...]:
@@ -100,7 +105,7 @@ def stage_choices(project) -> list[StageChoice]:
     return out
 
 
-def build_table(project, exclude=()) -> OptionTable:
+def build_table(project, exclude=(), deadline=None) -> OptionTable:
     """Every motor × stack of 0..max_stages stages (order: motor, then stack length, then stages).
 
     Parameters
@@ -108,6 +113,8 @@ def build_table(project, exclude=()) -> OptionTable:
     project : Project
     exclude : iterable of str
         Motor, stage-type or frame names never to use.
+    deadline : float, optional
+        A ``time.perf_counter()`` value; :class:`OutOfTime` is raised once it has passed.
     """
     banned = set(exclude)
     motors = [m for m in project.catalog.all_motors() if m.name not in banned]
@@ -126,7 +133,11 @@ def build_table(project, exclude=()) -> OptionTable:
         for stack in stacks:
             acts.append(Actuator(m, tuple(stack)))
             motor_index.append(i)
-    rows_list = [actuator_row(a) for a in acts]
+    rows_list = []
+    for k, a in enumerate(acts):
+        if deadline is not None and k % 2048 == 0 and time.perf_counter() > deadline:
+            raise OutOfTime(f"the time limit ran out while building {len(acts)} options")
+        rows_list.append(actuator_row(a))
     rows = {}
     for f in fields(DesignArrays):
         dtype = bool if f.name == "self_locking" else float

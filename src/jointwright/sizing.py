@@ -18,7 +18,7 @@ import numpy as np
 from .assessment import assess
 from .design import Design, arrays_from_designs
 from .errors import InputError
-from .options import JointCandidates, build_table, joint_candidates
+from .options import JointCandidates, OutOfTime, build_table, joint_candidates
 from .problem import OBJECTIVES
 from .solve.model import SizingModel
 from .solve.result import SizingResult, SolveOutcome, relative_gap
@@ -84,32 +84,55 @@ def units_of(n: int, shared_idx) -> list[tuple]:
     return [tuple(g) for g in shared_idx] + [(j,) for j in range(n) if j not in grouped]
 
 
-def build_model(project, kind: str, pins: dict, exclude, shared, table=None) -> tuple[SizingModel, JointCandidates]:
+def build_model(project, kind: str, pins: dict, exclude, shared, table=None, deadline=None,
+                phase=None) -> tuple[SizingModel, JointCandidates]:
     """Options, per-joint filters and root tightening (every cut holds for every completion).
-    ``table``: an option table already built for this catalog and ``exclude`` (reused by re-solves)."""
-    table = build_table(project, exclude) if table is None else table
+    ``table``: an option table already built for this catalog and ``exclude`` (reused by re-solves).
+    ``deadline`` (time.perf_counter() value): building the table raises :class:`OutOfTime` past it;
+    tightening stops early (it only removes options, so stopping is safe). ``phase(text)`` is told
+    each phase as it starts."""
+    phase = phase or (lambda text: None)
+    if any(c.kind == "stance" for c in project.cases):
+        phase("loading the cone solver")  # its import takes seconds: count it inside the limit
+        import cvxpy  # noqa: F401
+    if table is None:
+        phase("building options")
+        table = build_table(project, exclude, deadline=deadline)
     n = len(project.robot.actuated)
     joints = list(project.robot.actuated)
     shared_idx = [tuple(joints.index(j) for j in g) for g in shared]
+    phase("filtering options")
     model = SizingModel(project, table, [np.arange(len(table))] * n, kind, shared_idx)
     cands = joint_candidates(project, table, model.evaluator, pins)
     model.candidates = list(cands.index)
-    tighten(model, units_of(n, shared_idx))
+    _check_deadline(deadline)
+    phase("tightening")
+    tighten(model, units_of(n, shared_idx), deadline=deadline)
     return model, cands
 
 
-def tighten(model: SizingModel, units: list[tuple], rounds: int = 10) -> None:
-    """Remove options that miss a requirement for every completion; repeat until nothing changes."""
+def _check_deadline(deadline) -> None:
+    if deadline is not None and time.perf_counter() > deadline:
+        raise OutOfTime("the time limit ran out while the options were prepared")
+
+
+def tighten(model: SizingModel, units: list[tuple], rounds: int = 10, deadline=None) -> None:
+    """Remove options that miss a requirement for every completion; repeat until nothing changes
+    (or ``deadline`` passes: every round only removes options, so stopping early is safe)."""
     root = np.full(model.n, -1, dtype=np.int64)
     for _ in range(rounds):
         changed = False
+        # statistics of the candidates at the start of the round: a superset of the current
+        # ones, so every bound from them still holds for every completion
+        st = model.stats(model.candidates)
         for unit in units:
+            if deadline is not None and time.perf_counter() > deadline:
+                return
             opts = model.candidates[unit[0]]
             for j in unit[1:]:
                 opts = np.intersect1d(opts, model.candidates[j])
             if opts.size == 0:
                 return
-            st = model.stats(model.candidates)
             ok = model.child_bounds(root, unit, opts, st)["ok"]
             ok[ok] = model.costly_ok(root, unit, opts[ok], st)
             keep = opts[ok]
@@ -130,11 +153,35 @@ def solve_value(project, kind: str, *, table=None, time_limit=None) -> SolveOutc
     return BranchAndBound(model, units_of(model.n, model.shared), time_limit=time_limit, ties=False).run()
 
 
-def run_backend(model: SizingModel, units, backend: str, time_limit, progress) -> SolveOutcome:
+#: share of the search's time given to the primal heuristics, and its cap in seconds
+HEURISTIC_SHARE, HEURISTIC_SECONDS = 0.25, 10.0
+
+
+def first_design(model: SizingModel, units, time_limit, phase=None):
+    """A feasible design from the primal heuristics (solve/heuristic.py), as a search key, or
+    None; it takes a quarter of ``time_limit`` (at most 10 s, 10 s without a limit; 90 % of the
+    limit when only stance cases set the objective, which the search cannot bound)."""
+    from .solve.heuristic import Heuristic, blind_screen
+
+    (phase or (lambda text: None))("first designs")
+    share = HEURISTIC_SECONDS if time_limit is None else min(HEURISTIC_SHARE * time_limit, HEURISTIC_SECONDS)
+    if blind_screen(model) and time_limit is not None:
+        # stance cases alone set the objective: the search has no finite bound to prune with,
+        # so the heuristics get most of the time
+        share = 0.9 * time_limit
+    return Heuristic(model, units, time.perf_counter() + share, extend=time_limit is not None).run()
+
+
+def run_backend(model: SizingModel, units, backend: str, time_limit, progress, phase=None) -> SolveOutcome:
     if backend == "search":
         from .solve.search import BranchAndBound
 
-        return BranchAndBound(model, units, time_limit=time_limit, progress=progress).run()
+        t0 = time.perf_counter()
+        incumbent = first_design(model, units, time_limit, phase)
+        if time_limit is not None:
+            time_limit = max(time_limit - (time.perf_counter() - t0), 1e-3)
+        (phase or (lambda text: None))("searching")
+        return BranchAndBound(model, units, time_limit=time_limit, progress=progress, incumbent=incumbent).run()
     if backend == "pyomo":
         from .solve.pyomo_backend import solve_pyomo
 
@@ -142,6 +189,37 @@ def run_backend(model: SizingModel, units, backend: str, time_limit, progress) -
     from .solve.enumerate import enumerate_all
 
     return enumerate_all(model)
+
+
+#: share of the time limit kept for the explanation (runner-ups, diagnosis) when it is asked for
+EXPLAIN_SHARE = 0.2
+
+
+class Plan:
+    """How a time limit is shared: preparing and solving end at ``solve_end``; the explanation
+    gets the rest of the limit, and never more than the time already spent (at least 1 s when
+    there is no limit)."""
+
+    def __init__(self, start: float, time_limit, explain: bool):
+        self.start = start
+        self.limit = time_limit
+        self.end = math.inf if time_limit is None else start + time_limit
+        self.solve_end = self.end if (time_limit is None or not explain) else start + (1 - EXPLAIN_SHARE) * time_limit
+
+    def solve_left(self):
+        return None if math.isinf(self.solve_end) else max(self.solve_end - time.perf_counter(), 1e-3)
+
+    def explain_end(self) -> float:
+        """Stop explaining here: within the limit (less 5 % kept for the last oracle call to
+        finish) and after no more time than the run has spent so far."""
+        now = time.perf_counter()
+        end = self.end if self.limit is None else self.end - 0.05 * self.limit
+        return min(end, now + max(now - self.start, 1.0))
+
+
+def _phase_of(progress):
+    fn = getattr(progress, "phase", None)
+    return fn if callable(fn) else (lambda text: None)
 
 
 def size(project, *, objective=None, backend="search", time_limit=None, pins=None, exclude=None,
@@ -156,11 +234,13 @@ def size(project, *, objective=None, backend="search", time_limit=None, pins=Non
         ``[objective] maximize``, else "payload".
     backend : "search" (exact branch and bound), "pyomo" (MILP with HiGHS and lazy cuts) or
         "enumerate" (every combination; small instances only)
-    time_limit : float, s, optional. On expiry the best design so far with a proven bound.
+    time_limit : float, s, optional. Bounds the whole run: option building, filtering,
+        tightening, search and explanation. On expiry the best design so far with a proven bound.
     pins : dict joint -> {"motor": name, "stages": [{"stage", "frame", "ratio"}, ...]}
     exclude : list of motor, stage-type or frame names
     shared : list of joint-name lists that must get the same option
-    progress : callable(nodes, best objective or None), optional
+    progress : callable(nodes, best objective or None), optional; when it also has a ``phase``
+        method, ``phase(text)`` is called as each phase starts
     explain : compute alternatives and, when infeasible, the per-requirement diagnosis
 
     Returns
@@ -182,10 +262,21 @@ def size(project, *, objective=None, backend="search", time_limit=None, pins=Non
     shared = cfg["shared"] if shared is None else [list(g) for g in shared]
     check_shared(shared, list(project.robot.actuated), "<api>", "shared")
     _check_objective_cases(project, kind)
-    model, cands = build_model(project, kind, pins, exclude, shared)
+    plan = Plan(start, time_limit, explain)
+    phase = _phase_of(progress)
+    deadline = None if math.isinf(plan.solve_end) else plan.solve_end
+    try:
+        model, cands = build_model(project, kind, pins, exclude, shared, deadline=deadline, phase=phase)
+    except OutOfTime as e:
+        sense = -1.0 if kind == "mass" else 1.0
+        return SizingResult("time_limit", kind, None, None, math.nan, sense * math.inf, math.inf,
+                            time.perf_counter() - start, backend, str(e), 0,
+                            message="time limit reached before any design was searched")
     units = units_of(model.n, model.shared)
-    outcome = run_backend(model, units, backend, time_limit, progress)
-    return finish(project, model, cands, outcome, kind, backend, start, explain, time_limit)
+    if backend != "search":
+        phase("searching")
+    outcome = run_backend(model, units, backend, plan.solve_left(), progress, phase)
+    return finish(project, model, cands, outcome, kind, backend, start, explain, plan, phase)
 
 
 def _check_objective_cases(project, kind: str) -> None:
@@ -201,14 +292,21 @@ def design_of(project, model: SizingModel, index, name: str) -> Design:
     return Design(name=name, joints=tuple(project.robot.actuated), actuators=acts)
 
 
-def finish(project, model, cands, outcome: SolveOutcome, kind, backend, start, explain, time_limit):
-    """Re-evaluate the back-end's design with the numpy physics and explain it."""
+def finish(project, model, cands, outcome: SolveOutcome, kind, backend, start, explain, plan, phase=None):
+    """Re-evaluate the back-end's design with the numpy physics and explain it (``plan``:
+    a :class:`Plan`, or a time limit in seconds for callers outside :func:`size`)."""
     from .solve.explain import alternatives, binding, diagnose
 
+    if not isinstance(plan, Plan):
+        plan = Plan(start, plan, explain)
+    phase = phase or (lambda text: None)
     sense = -1.0 if kind == "mass" else 1.0
     options = {j: int(c.size) for j, c in zip(project.robot.actuated, model.candidates)}
     if outcome.index is None:
-        diag = diagnose(project, model, kind, time_limit) if explain and outcome.status == "infeasible" else ()
+        diag = ()
+        if explain and outcome.status == "infeasible":
+            phase("diagnosing")
+            diag = diagnose(project, model, kind, plan.limit, deadline=plan.explain_end())
         return SizingResult(outcome.status, kind, None, None, math.nan, sense * outcome.bound, math.inf,
                             time.perf_counter() - start, backend, outcome.native, outcome.nodes,
                             diagnosis=diag, options=options,
@@ -218,15 +316,19 @@ def finish(project, model, cands, outcome: SolveOutcome, kind, backend, start, e
     if any(s.stage.ratio_range is not None for a_ in design.actuators for s in a_.stages):
         from .solve.refine import refine
 
+        phase("refining ratios")
         pinned = [j for j, pin in read_objective(project)["pin"].items() if "stages" in pin]
-        design = refine(model, design, pinned)
+        design = refine(model, design, pinned, deadline=None if math.isinf(plan.end) else plan.end)
     a = assess(project, design, model.evaluator)
     refined = model.score_arrays(arrays_from_designs([design]), outcome.index[None, :])
     value = max(value, float(refined.objective[0]))
     status = outcome.status
     if not a.feasible:
         status = "error"
-    alts = alternatives(project, model, outcome.index, value) if explain else ()
+    alts = ()
+    if explain:
+        phase("explaining")
+        alts = alternatives(project, model, outcome.index, value, deadline=plan.explain_end())
     return SizingResult(
         status=status, objective_kind=kind, design=design, assessment=a, objective=sense * value,
         bound=sense * max(outcome.bound, value),

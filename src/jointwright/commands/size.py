@@ -17,17 +17,20 @@ UNITS = {"payload": "N", "mass": "kg", "imf": ""}
 
 
 class Progress:
-    """A rich status line on stderr, shown once a search has run for a second."""
+    """A rich status line on stderr, shown once a run has taken a second: the phase (building
+    options, filtering, tightening, first designs, searching, explaining) and the search's
+    nodes and best objective."""
 
     def __init__(self, enabled: bool):
         self.enabled = enabled
         self.start = time.perf_counter()
         self.status = None
+        self.stage = "preparing"
 
-    def __call__(self, nodes: int, best) -> None:
+    def _show(self, text: str) -> None:
         if not self.enabled or time.perf_counter() - self.start < 1.0:
             return
-        text = f"searching: {nodes} nodes, best {'—' if best is None else f'{best:.6g}'}"
+        text = f"{text} ({time.perf_counter() - self.start:.0f} s)"
         if self.status is None:
             from rich.console import Console
 
@@ -35,6 +38,13 @@ class Progress:
             self.status.start()
         else:
             self.status.update(text)
+
+    def phase(self, text: str) -> None:
+        self.stage = text
+        self._show(text)
+
+    def __call__(self, nodes: int, best) -> None:
+        self._show(f"{self.stage}: {nodes} nodes, best {'—' if best is None else f'{best:.6g}'}")
 
     def stop(self) -> None:
         if self.status is not None:
@@ -81,11 +91,13 @@ def print_result(r) -> None:
 @click.option("--objective", type=click.Choice(["payload", "mass", "imf"]), default=None,
               help="default: the project's [objective] maximize, else payload")
 @click.option("--backend", type=click.Choice(["search", "pyomo"]), default="search")
-@click.option("--time-limit", type=float, default=None, help="seconds; then best design with bound and gap")
+@click.option("--time-limit", type=float, default=None,
+              help="seconds for the whole run (explanation included); then best design with bound and gap")
+@click.option("--no-explain", is_flag=True, help="skip the runner-ups and the infeasibility diagnosis")
 @click.option("--out", type=click.Path(path_type=Path), default=None, help="write the design file here")
 @click.option("--force", is_flag=True, help="replace an existing --out file (inputs are never replaced)")
 @click.option("--json", "as_json", is_flag=True, help="machine-readable output")
-def command(project: Path, objective, backend, time_limit, out, force, as_json):
+def command(project: Path, objective, backend, time_limit, no_explain, out, force, as_json):
     """Choose motor, stage stack and ratio for every joint of PROJECT (proven optimum)."""
     from ..sizing import size
 
@@ -96,7 +108,8 @@ def command(project: Path, objective, backend, time_limit, out, force, as_json):
         check_target(out, "--out", inputs=project_inputs(p), force=force)
     progress = Progress(not as_json)
     try:
-        r = size(p, objective=objective, backend=backend, time_limit=time_limit, progress=progress)
+        r = size(p, objective=objective, backend=backend, time_limit=time_limit, progress=progress,
+                 explain=not no_explain)
     finally:
         progress.stop()
     if out is not None and r.design is not None:

@@ -29,51 +29,154 @@ def _stack_kind(a) -> str:
     return " + ".join(s.stage.name for s in a.stages) or "direct drive"
 
 
-def alternatives(project, model, index: np.ndarray, value: float) -> tuple[Alternative, ...]:
-    """Per joint, the best design with that joint changed to another motor or another stage type.
+#: designs per oracle call while screening runner-ups
+SCREEN_CHUNK = 4096
 
-    Every option of the table is tried at the joint with the rest of the design kept; feasible
-    ones are ranked by objective, the others report the requirement with the worst margin.
+
+def _units(model) -> list[tuple]:
+    """Decision units in joint order: a shared group is changed as a whole."""
+    grouped = {j: tuple(g) for g in model.shared for j in g}
+    out, seen = [], set()
+    for j in range(model.n):
+        u = grouped.get(j, (j,))
+        if u not in seen:
+            seen.add(u)
+            out.append(u)
+    return out
+
+
+def _evaluate(model, full_idx: np.ndarray, costly: bool):
+    """(feasible, objective, margins (R, D), checks) of designs ``full_idx``; ``costly=False``
+    leaves duty and stance cases out (a screen whose objective bounds the full one from above)."""
+    project = model.project if costly else model.static_project
+    ev_ = model.evaluator if costly else model.static_evaluator
+    arrays = model.table.arrays(full_idx)
+    ev = ev_.evaluate(arrays, detail=False)
+    cl = checks(project, arrays, ev)
+    D = full_idx.shape[0]
+    ok = feasible(cl, D)
+    s = model.score_arrays(arrays, full_idx, full=costly)
+    margins = np.stack([c.margin for c in cl]) if cl else np.zeros((0, D))
+    return ok & s.feasible, s.objective, margins, cl
+
+
+def alternatives(project, model, index: np.ndarray, value: float, deadline=None) -> tuple[Alternative, ...]:
+    """Per joint, or per shared group changed as a whole, the best design with it given another
+    motor or another stage type, the rest of the design kept.
+
+    The runner-ups are drawn from the unit's candidates (every option that can belong to a
+    feasible design: the others provably miss a requirement). Candidates are screened in batches
+    without the costly duty and stance cases; the leading ones are then checked in full. A motor
+    or stage type with no candidate is shown with the requirement that rules out its best
+    option. Stops at ``deadline`` (a ``time.perf_counter()`` value), keeping the units done.
     """
+    import time
+
     table = model.table
     out = []
     sense = -1.0 if model.kind == "mass" else 1.0
-    for j, name in enumerate(project.robot.actuated):
-        full = np.broadcast_to(index, (len(table), model.n)).copy()
-        full[:, j] = np.arange(len(table))
-        arrays = table.arrays(full)
-        ev = model.evaluator.evaluate(arrays)
-        cl = checks(project, arrays, ev)
-        ok = feasible(cl, len(table))
-        f = np.asarray(objective(project, arrays, ev, model.kind), dtype=float)
-        margins = np.stack([c.margin for c in cl]) if cl else np.zeros((0, len(table)))
-        worst = margins.argmin(axis=0) if cl else np.zeros(len(table), dtype=int)
-        score = np.where(ok, f, -np.inf)
-        dmass = arrays.mass.sum(axis=1) - arrays.mass.sum(axis=1)[int(index[j])]
-        chosen = table.actuators[int(index[j])]
+    costly = bool(model.duty or model.stance)
+    names = project.robot.actuated
+    for unit in _units(model):
+        if deadline is not None and time.perf_counter() > deadline:
+            break
+        label = ", ".join(names[j] for j in unit)
+        ulist = list(unit)
+        chosen = table.actuators[int(index[unit[0]])]
+        cand = model.candidates[unit[0]]
+        for j in unit[1:]:
+            cand = np.intersect1d(cand, model.candidates[j])
+        cand = cand[cand != index[unit[0]]]
+        # screen every candidate (static cases), in chunks
+        scr_ok, scr_f = np.zeros(cand.size, bool), np.full(cand.size, -np.inf)
+        for a in range(0, cand.size, SCREEN_CHUNK):
+            part = cand[a:a + SCREEN_CHUNK]
+            full = np.broadcast_to(index, (part.size, model.n)).copy()
+            full[:, ulist] = part[:, None]
+            ok, f, _m, _cl = _evaluate(model, full, False)
+            scr_ok[a:a + part.size], scr_f[a:a + part.size] = ok, f
+            if deadline is not None and time.perf_counter() > deadline:
+                break
         groups = {}
-        for o, a in enumerate(table.actuators):
-            if a.motor.name != chosen.motor.name:
-                groups.setdefault(("other motor", a.motor.name), []).append(o)
-            if _stack_kind(a) != _stack_kind(chosen):
-                groups.setdefault(("other stage type", _stack_kind(a)), []).append(o)
-        picks = []
-        for (change, _label), opts in groups.items():
-            opts = np.array(opts)
-            if np.isfinite(score[opts]).any():
-                o = int(opts[np.argmax(score[opts])])
-                picks.append((change, o, float(f[o]), None))
-            else:
-                best_margin = margins[:, opts].min(axis=0) if cl else np.zeros(opts.size)
-                o = int(opts[np.argmax(best_margin)])
-                picks.append((change, o, None, cl[worst[o]].label() if cl else None))
+        for pos, o in enumerate(cand):
+            a_ = table.actuators[int(o)]
+            if a_.motor.name != chosen.motor.name:
+                groups.setdefault(("other motor", a_.motor.name), []).append(pos)
+            if _stack_kind(a_) != _stack_kind(chosen):
+                groups.setdefault(("other stage type", _stack_kind(a_)), []).append(pos)
+        # groups whose options all left the candidates: represented by their options in the table
+        missing = {}
+        for o, a_ in enumerate(table.actuators):
+            for key in ((("other motor", a_.motor.name),) if a_.motor.name != chosen.motor.name else ()) + \
+                    ((("other stage type", _stack_kind(a_)),) if _stack_kind(a_) != _stack_kind(chosen) else ()):
+                if key not in groups:
+                    missing.setdefault(key, []).append(o)
+        picks = {}
         for change in ("other motor", "other stage type"):
-            rows = [p for p in picks if p[0] == change]
+            rows = []
+            for key, pos in groups.items():
+                if key[0] != change:
+                    continue
+                pos = np.array(pos)
+                good = pos[scr_ok[pos]]
+                if good.size:
+                    good = good[np.lexsort((cand[good], -scr_f[good]))]
+                    rows.append((key, good))
+            rows.sort(key=lambda r: (-scr_f[r[1][0]], int(cand[r[1][0]])))
+            want = MOTORS_SHOWN if change == "other motor" else len(rows)
+            found = []
+            for key, good in rows:
+                if len(found) >= want or (deadline is not None and time.perf_counter() > deadline):
+                    break
+                for pos in good[:3]:
+                    o = int(cand[pos])
+                    if not costly:
+                        found.append((key, o, float(scr_f[pos]), None))
+                        break
+                    full = np.array(index)[None, :].copy()
+                    full[:, ulist] = o
+                    ok, f, margins, cl = _evaluate(model, full, True)
+                    if ok[0]:
+                        found.append((key, o, float(f[0]), None))
+                        break
+                else:
+                    o = int(cand[good[0]])
+                    full = np.array(index)[None, :].copy()
+                    full[:, ulist] = o
+                    ok, f, margins, cl = _evaluate(model, full, True)
+                    worst = int(margins[:, 0].argmin()) if cl else None
+                    found.append((key, o, None, cl[worst].label() if worst is not None else None))
+            picks[change] = found
+        # ruled-out motors / stage types: the option with the best worst margin in each group
+        shown_motor = len([p for p in picks["other motor"] if p[2] is not None])
+        for key, opts in sorted(missing.items()):
+            change = key[0]
+            if change == "other motor" and shown_motor + len(
+                    [p for p in picks[change] if p[2] is None]) >= MOTORS_SHOWN:
+                continue
+            if deadline is not None and time.perf_counter() > deadline:
+                break
+            opts = np.array(opts[:64])
+            full = np.broadcast_to(index, (opts.size, model.n)).copy()
+            full[:, ulist] = opts[:, None]
+            ok, f, margins, cl = _evaluate(model, full, False)
+            if cl:
+                o_pos = int(margins.min(axis=0).argmax())
+                why = cl[int(margins[:, o_pos].argmin())].label()
+                if margins[:, o_pos].min() >= -1e-12 and costly:  # it misses a duty or stance case
+                    _ok, _f, m_full, cl_full = _evaluate(model, full[o_pos:o_pos + 1], True)
+                    why = cl_full[int(m_full[:, 0].argmin())].label() if cl_full else None
+            else:
+                o_pos, why = 0, None
+            picks[change].append((key, int(opts[o_pos]), None, why))
+        for change in ("other motor", "other stage type"):
+            rows = picks[change]
             rows.sort(key=lambda p: (p[2] is None, -(p[2] or 0.0), p[1]))
-            for _c, o, fo, why in rows[: MOTORS_SHOWN if change == "other motor" else len(rows)]:
-                out.append(Alternative(name, table.actuators[o].label(), change,
+            for _key, o, fo, why in rows[: MOTORS_SHOWN if change == "other motor" else len(rows)]:
+                dmass = len(unit) * float(model.mass[o] - model.mass[int(index[unit[0]])])
+                out.append(Alternative(label, table.actuators[o].label(), change,
                                        None if fo is None else sense * fo,
-                                       None if fo is None else (value - fo), why, float(dmass[o])))
+                                       None if fo is None else (value - fo), why, dmass))
     return tuple(out)
 
 
@@ -147,10 +250,11 @@ def _alone(project, model, subject, key, limit, seconds) -> float:
     return math.nan  # impact measures: no closed form; see the relaxation column
 
 
-def diagnose(project, model, kind: str, time_limit) -> tuple[Diagnosis, ...]:
+def diagnose(project, model, kind: str, time_limit, deadline=None) -> tuple[Diagnosis, ...]:
     """Per requirement: best achievable alone, shortfall, and the optimum with it dropped.
 
-    Re-solves share one option table and a total budget; a re-solve that runs out of time
+    Re-solves share one option table and a total budget (ending at ``deadline`` when the run
+    has a time limit); a re-solve that runs out of time
     reports its proven bound (``relaxed_proven`` False), one that gets no time reports nothing.
     """
     import time
@@ -159,6 +263,8 @@ def diagnose(project, model, kind: str, time_limit) -> tuple[Diagnosis, ...]:
 
     reqs = requirement_list(project)
     budget_end = time.perf_counter() + min(DIAGNOSIS_BUDGET, 4 * (time_limit or DIAGNOSIS_BUDGET))
+    if deadline is not None and time_limit is not None:  # a time limit bounds the whole run
+        budget_end = min(budget_end, deadline)
     sense_ = -1.0 if kind == "mass" else 1.0
     sense = {"payload_min": "min", "imf_min": "min", "directional_imf_min": "min", "speed_min": "min",
              "ratio_min": "min"}

@@ -165,11 +165,19 @@ class SizingModel:
         Static cases screen all rows at once; duty cases, the costly ones, are checked only for
         the leading rows until the best fully feasible one is known.
         """
+        return self.best_key_until(index, None)[0]
+
+    def best_key_until(self, index: np.ndarray, deadline) -> tuple[tuple | None, float]:
+        """:meth:`best_key`, stopping the costly checks at ``deadline`` (``time.perf_counter()``
+        value). Returns (key of the best fully checked feasible row or None, an upper bound on the
+        objective of the rows left unchecked, −inf when none is left)."""
+        import time
+
         costly = bool(self.duty or self.stance)
         s = self.score(index, full=not costly)
         if not costly:
             row = self.best(s)
-            return None if row is None else self.key(s, row)
+            return (None if row is None else self.key(s, row)), -math.inf
         known = np.zeros(s.index.shape[0], dtype=bool)
         ok, f = s.feasible.copy(), s.objective.copy()
         order = np.lexsort(tuple(s.index.T[::-1]) + (s.reflected, s.mass, -s.objective))
@@ -177,9 +185,17 @@ class SizingModel:
             current = dataclasses.replace(s, feasible=ok, objective=f)
             row = self.best(current)
             if row is None:
-                return None
+                return None, -math.inf
             if known[row]:
-                return self.key(current, row)
+                return self.key(current, row), -math.inf
+            if deadline is not None and time.perf_counter() > deadline:
+                done = ok & known
+                left = ok & ~known
+                best = None
+                if done.any():
+                    r = self.best(dataclasses.replace(s, feasible=done, objective=f))
+                    best = self.key(current, r)
+                return best, float(f[left].max())
             todo = [row] + [r for r in order if ok[r] and not known[r] and r != row][:DUTY_CHUNK - 1]
             verdict = self.score(s.index[todo])
             known[todo] = True
@@ -249,16 +265,17 @@ class SizingModel:
         if self.kind != "payload" or not self.payload or cands.size == 0:
             return None
         own = np.full(cands.size, np.inf)
-        for t in self.payload:
+        for c, t in enumerate(self.payload):
             lo_b = t.g0[j] + np.minimum(st["mmin"][:, None] * t.G, st["mmax"][:, None] * t.G).sum(axis=0)[j]
             hi_b = t.g0[j] + np.maximum(st["mmin"][:, None] * t.G, st["mmax"][:, None] * t.G).sum(axis=0)[j]
             a = t.a[j]
             if a > 0:
-                own = np.minimum(own, (t.hi[j, cands] - lo_b) / a)
+                own = np.minimum(own, self.case_value(c, (t.hi[j, cands] - lo_b) / a))
             elif a < 0:
-                own = np.minimum(own, (t.lo[j, cands] - hi_b) / a)
+                own = np.minimum(own, self.case_value(c, (t.lo[j, cands] - hi_b) / a))
         order = np.argsort(-own, kind="stable")
-        return own[order], np.minimum.accumulate(self.mass[cands][order])
+        return (own[order], np.minimum.accumulate(self.mass[cands][order]),
+                np.minimum.accumulate(self.cost[cands][order]))
 
     def useful_mmin(self, st: dict, floor: float | None) -> np.ndarray:
         """Least mass per joint over the options that can still reach objective ``floor``."""
@@ -268,7 +285,7 @@ class SizingModel:
         for j, entry in enumerate(st["own"]):
             if entry is None:
                 continue
-            own, run = entry
+            own, run = entry[0], entry[1]
             count = int(np.searchsorted(-own, -floor, side="right"))
             out[j] = run[count - 1] if count else np.inf
         return out
@@ -290,12 +307,18 @@ class SizingModel:
         signs = np.array([1.0 if t.a[j] >= 0 else -1.0 for t in self.payload])
         good = R * signs  # larger is better in every column
         good = np.where(np.isnan(good), -np.inf, good)
-        order = np.lexsort(good.T[::-1])[::-1]
+        _u, first = np.unique(good, axis=0, return_index=True)  # equal reaches: keep one
+        first = np.sort(first)
+        order = first[np.lexsort(good[first].T[::-1])[::-1]]
         front = []
+        block = np.empty((0, good.shape[1]))
         for i in order:
             g = good[i]
-            if not any(np.all(good[f] >= g) for f in front):
-                front = [f for f in front if not np.all(g >= good[f])] + [i]
+            if block.shape[0] and np.any(np.all(block >= g, axis=1)):
+                continue
+            keep = ~np.all(g >= block, axis=1) if block.shape[0] else np.zeros(0, dtype=bool)
+            front = [f for f, k in zip(front, keep) if k] + [i]
+            block = np.vstack([block[keep], g[None, :]])
         return R[np.array(front, dtype=int)]
 
     def child_bounds(self, idx: np.ndarray, unit: tuple, options: np.ndarray, st: dict,
@@ -334,10 +357,12 @@ class SizingModel:
         for c, t in enumerate(self.payload):
             bound, bias_lo, bias_hi = self._payload_bound(t, c, idx, A, F, unit, options, st)
             ok &= bound >= t.minimum * (1 - 1e-9) - 1e-12
-            worst = np.minimum(worst, bound)
+            worst = np.minimum(worst, self.case_value(c, bound))
             b_lo.append(np.where((t.a > 0), bias_lo, bias_hi))
         if self.kind == "payload" and F.size and self.payload:
             worst = np.minimum(worst, self._free_bound(F, b_lo, st))
+        if self.kind == "payload" and F.size and self.payload:
+            worst = np.minimum(worst, self.budget_level_bound(F, idx, A, unit, options, st))
         for absa, fmax in self.backdrive:
             b = np.empty((K, n))
             b[:, A] = self.breakaway[idx[A]]
@@ -363,27 +388,113 @@ class SizingModel:
             f = np.ones(K)  # the IMF is at most 1; no tighter proven bound is used
         return {"objective": f, "mass": mass_lb, "reflected": refl_lb, "ok": ok}
 
+    def case_value(self, c: int, bound: np.ndarray) -> np.ndarray:
+        """The objective's value of payload case ``c`` given an upper bound on its payload (N):
+        the identity for the payload objective. Any monotone nondecreasing per-case transform
+        may replace it; every bound here applies it to each case's bound before the minimum
+        over cases, which keeps the bounds valid."""
+        return bound
+
+    def _level_table(self, F: np.ndarray, st: dict):
+        """For the free joints F: the candidate levels (every own bound of their options,
+        descending) and, at each level f, the least total mass and cost of options of F whose
+        own bound reaches f (the per-joint least over the useful options, summed). Cached per
+        set F (the search meets few distinct sets: one per depth)."""
+        key = (id(st["own"]), F.tobytes())
+        cache = self.__dict__.setdefault("_levels", {})
+        hit = cache.get(key)
+        if hit is not None and hit[0] is st["own"]:  # the reference held keeps the id unique
+            return hit[1]
+        entries = [st["own"][j] for j in F]
+        if any(e is None for e in entries):
+            return None
+        levels = np.unique(np.concatenate([e[0][np.isfinite(e[0])] for e in entries]))[::-1]
+        g_mass = np.zeros(levels.size)
+        g_cost = np.zeros(levels.size)
+        for own, run_m, run_c in entries:
+            count = np.searchsorted(-own, -levels, side="right")  # options with own ≥ level
+            g_mass += np.where(count > 0, run_m[np.maximum(count - 1, 0)], np.inf)
+            g_cost += np.where(count > 0, run_c[np.maximum(count - 1, 0)], np.inf)
+        if len(cache) > 256:
+            cache.pop(next(iter(cache)))
+        cache[key] = (st["own"], (levels, g_mass, g_cost))
+        return levels, g_mass, g_cost
+
+    def budget_level_bound(self, F, idx, A, unit, options, st) -> np.ndarray:
+        """Upper bound on the payload objective that sees the mass and cost budgets (K,).
+
+        A design with objective ≥ f has, at every joint j, an option whose own bound (the most
+        favourable bias over all designs, :meth:`_own_bounds`) is ≥ f, so the free joints weigh
+        at least g(f) = Σ_j least mass over those options; g never decreases with f. With the
+        mass already fixed by the assigned joints and the unit's option, the objective is at
+        most the largest level f with fixed + g(f) ≤ total_mass_max (likewise for cost): a
+        relaxation of the multiple-choice knapsack over per-joint options."""
+        K = options.size
+        out = np.full(K, np.inf)
+        budgets = [(self.mass, self.total_mass_max, 1), (self.cost, self.total_cost_max, 2)]
+        if not any(math.isfinite(b[1]) for b in budgets):
+            return out
+        table = self._level_table(F, st)
+        if table is None or table[0].size == 0:
+            return out
+        levels = table[0]
+        for values, limit, col in budgets:
+            if not math.isfinite(limit):
+                continue
+            fixed = values[idx[A]].sum() + len(unit) * values[options]
+            room = limit * (1 + 1e-9) - fixed
+            g = table[col]  # nonincreasing along the descending levels
+            first = np.searchsorted(-g, -room, side="left")  # first level whose g fits the room
+            bound = np.where(first < levels.size, levels[np.minimum(first, levels.size - 1)], -np.inf)
+            # the payload is never below 0: a design of payload 0 needs no level
+            out = np.minimum(out, np.maximum(bound, 0.0))
+        return out
+
     def _payload_bound(self, t, c, idx, A, F, unit, options, st) -> np.ndarray:
-        """Upper bound on the payload of case t over all completions (interval arithmetic)."""
+        """Upper bound on the payload of case t over all completions (interval arithmetic).
+
+        Only the joints of the unit and the joints its mass loads differ between the K
+        children; every other joint's ratio bound is computed once."""
         K = options.size
         Gm_lo = np.minimum(st["mmin"][F, None] * t.G[F], st["mmax"][F, None] * t.G[F]).sum(axis=0)
         Gm_hi = np.maximum(st["mmin"][F, None] * t.G[F], st["mmax"][F, None] * t.G[F]).sum(axis=0)
         base = t.g0 + self.mass[idx[A]] @ t.G[A]
-        add = self.mass[options][:, None] * t.G[unit].sum(axis=0)
+        load = t.G[unit].sum(axis=0)
+        add = self.mass[options][:, None] * load
         b_lo, b_hi = base + Gm_lo + add, base + Gm_hi + add
-        hi = np.empty((K, self.n))
-        lo = np.empty((K, self.n))
-        hi[:, A], lo[:, A] = t.hi[A, idx[A]], t.lo[A, idx[A]]
-        hi[:, F], lo[:, F] = st["hi"][c][F], st["lo"][c][F]
-        hi[:, unit], lo[:, unit] = t.hi[unit][:, options].T, t.lo[unit][:, options].T
-        eps = 1e-9 * (np.abs(b_lo) + np.abs(b_hi) + 1.0)
-        with np.errstate(invalid="ignore"):
-            cannot_hold = np.any((hi < b_lo - eps) | (lo > b_hi + eps), axis=1)
+        hi1 = np.empty(self.n)
+        lo1 = np.empty(self.n)
+        hi1[A], lo1[A] = t.hi[A, idx[A]], t.lo[A, idx[A]]
+        hi1[F], lo1[F] = st["hi"][c][F], st["lo"][c][F]
+        moving = np.zeros(self.n, dtype=bool)
+        moving[unit] = True
+        moving |= load != 0
+        cols = np.flatnonzero(moving)
+        still = np.flatnonzero(~moving)
         a = t.a
-        with np.errstate(divide="ignore", invalid="ignore"):
-            s = np.where(a > 0, (hi - b_lo) / a, np.where(a < 0, (lo - b_hi) / a, np.inf))
-        s = np.where(np.isnan(s), np.inf, s)
-        bound = np.maximum(s.min(axis=1), 0.0)
+
+        def ratio(hi, lo, blo, bhi, av):
+            eps = 1e-9 * (np.abs(blo) + np.abs(bhi) + 1.0)
+            with np.errstate(invalid="ignore"):
+                cannot = (hi < blo - eps) | (lo > bhi + eps)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                s_ = np.where(av > 0, (hi - blo) / av, np.where(av < 0, (lo - bhi) / av, np.inf))
+            return cannot, np.where(np.isnan(s_), np.inf, s_)
+
+        # joints no child changes: one value for all children
+        c_still, s_still = ratio(hi1[still], lo1[still], b_lo[0, still] - add[0, still],
+                                 b_hi[0, still] - add[0, still], a[still])
+        hi = np.broadcast_to(hi1[cols], (K, cols.size)).copy()
+        lo = np.broadcast_to(lo1[cols], (K, cols.size)).copy()
+        pos = {j: i for i, j in enumerate(cols)}
+        for j in unit:
+            hi[:, pos[j]], lo[:, pos[j]] = t.hi[j, options], t.lo[j, options]
+        c_move, s_move = ratio(hi, lo, b_lo[:, cols], b_hi[:, cols], a[cols])
+        cannot_hold = c_move.any(axis=1) | bool(c_still.any())
+        smin = s_move.min(axis=1) if cols.size else np.full(K, np.inf)
+        if still.size:
+            smin = np.minimum(smin, s_still.min())
+        bound = np.maximum(smin, 0.0)
         return np.where(cannot_hold, 0.0, bound), b_lo, b_hi
 
     def _free_bound(self, F, bias, st) -> np.ndarray:
@@ -404,7 +515,7 @@ class SizingModel:
                     continue
                 with np.errstate(invalid="ignore"):
                     v = (R[None, :, c] - bias[c][:, j, None]) / a  # (K, P)
-                per.append(np.where(np.isnan(v), np.inf, v))
+                per.append(self.case_value(c, np.where(np.isnan(v), np.inf, v)))
             if per:
                 out = np.minimum(out, np.maximum(np.min(per, axis=0).max(axis=1), 0.0))
         return out
@@ -414,9 +525,113 @@ class SizingModel:
         """The bounds that cost an oracle call or a trajectory: effective mass, then duty.
         For an effective-mass objective the objective bound in ``bounds`` is set here."""
         ok = self.effective_mass_ok(idx, unit, options, st, bounds)
+        if ok.any() and self.imf_limits_or_objective():
+            rows = np.flatnonzero(ok)
+            sub = None if bounds is None else {"objective": bounds["objective"][rows]}
+            ok[rows] = self.impact_ok(idx, unit, options[rows], st, sub)
+            if sub is not None:
+                bounds["objective"][rows] = sub["objective"]
+                bounds["objective"][~ok] = np.minimum(bounds["objective"][~ok], -np.inf)
         if self.duty_bound and ok.any():
             rows = np.flatnonzero(ok)
             ok[rows] = self.duty_bound.ok(idx, unit, options[rows], st, self.mass)
+        return ok
+
+    # --- impact mitigation bounds --------------------------------------------------------------
+    def imf_limits_or_objective(self) -> bool:
+        if self.impact_evaluator is None or self.project.rotor_coupling or not self.impact_evaluator.floating:
+            return False
+        if self.kind == "imf" or (self.measure is not None and self.measure[0] == "imf"):
+            return True
+        return any("imf_min" in c.limits or "directional_imf_min" in c.limits for c in self.impact_cases)
+
+    def impact_bounds(self, idx: np.ndarray, unit: tuple, options: np.ndarray, st: dict) -> dict:
+        """Upper bounds (K,) on the IMF ξ and the directional IMF ξ_x of every impact case over
+        all completions of the K children (docs/optimizer.md, item 8).
+
+        With A = Λ⁻¹ = J·H⁻¹·Jᵀ (base and unlocked joints) and B = Λ_L⁻¹ = J_b·H_bb⁻¹·J_bᵀ,
+        ξ = det(A − B)/det(A) grows with A and falls with B in the Loewner order, and
+        ξ_x = 1 − xᵀA⁻¹x / xᵀB⁻¹x likewise. H only grows with every actuator mass and every
+        reflected inertia (locking is the limit of infinite inertia), so A is largest with every
+        unassigned joint at its least mass and least back-driven reflected inertia, and B is
+        smallest with every unassigned joint at its greatest mass (B does not see the reflected
+        inertia). Evaluating ξ at (A_max, B_min) bounds every completion."""
+        K0 = options.size
+        # children differ only in the unit's mass and reflected inertia: bound each pair once
+        pairs = np.stack([self.mass[options], np.where(np.isfinite(self.reflected[options]),
+                                                       self.reflected[options], -1.0)], axis=1)
+        _u, first, back = np.unique(pairs, axis=0, return_index=True, return_inverse=True)
+        back = np.asarray(back).reshape(-1)
+        if first.size < K0:
+            sub = self.impact_bounds(idx, unit, options[first], st)
+            return {k: (v[0][back], v[1][back]) for k, v in sub.items()}
+        from ..robot.basis import mass_matrix
+
+        K = options.size
+        unit = list(unit)
+        full = np.broadcast_to(idx, (K, self.n)).copy()
+        full[:, unit] = options[:, None]
+        free = full < 0
+        safe = np.where(free, 0, full)
+        m_lo = np.where(free, st["mmin"][None, :], self.mass[safe])
+        m_hi = np.where(free, st["mmax"][None, :], self.mass[safe])
+        r_lo = np.where(free, st["rmin"][None, :], self.reflected[safe])
+        locked = ~np.isfinite(r_lo)
+        r_lo = np.where(locked, 0.0, r_lo)
+        out = {}
+        for pc in self.impact_evaluator.cases:
+            if pc.case.kind != "impact":
+                continue
+            nb = 6
+            H_lo = mass_matrix(pc.basis, m_lo, r_lo)
+            H_hi = mass_matrix(pc.basis, m_hi, np.zeros_like(r_lo))
+            J = np.asarray(pc.J, dtype=float)
+            nv = H_lo.shape[-1]
+            keep = np.concatenate([np.ones((K, nb), dtype=bool), ~locked], axis=1)
+            both = keep[:, :, None] & keep[:, None, :]
+            H_lo = np.where(both, H_lo, np.eye(nv))
+            Jt = np.where(keep[:, :, None], np.broadcast_to(J.T, (K,) + J.T.shape), 0.0)
+            A = np.einsum("ij,kjl->kil", J, np.linalg.solve(H_lo, Jt)) if J.ndim == 2 else None
+            Jb = J[:, :nb]
+            B = np.einsum("ij,kjl->kil", Jb, np.linalg.solve(H_hi[:, :nb, :nb], np.broadcast_to(Jb.T, (K,) + Jb.T.shape)))
+            A = 0.5 * (A + np.swapaxes(A, 1, 2))
+            B = 0.5 * (B + np.swapaxes(B, 1, 2))
+            det_a = np.linalg.det(A)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                xi = np.linalg.det(A - B) / det_a
+                x = np.asarray(pc.u, dtype=float) / np.linalg.norm(pc.u)
+                qa = np.einsum("i,kij,j->k", x, np.linalg.inv(A), x)
+                qb = np.einsum("i,kij,j->k", x, np.linalg.inv(B), x)
+                xd = np.where(qb > 0, 1.0 - qa / qb, 1.0)
+            xi = np.where(np.isfinite(xi), np.clip(xi, 0.0, 1.0), 1.0)
+            xd = np.where(np.isfinite(xd), np.clip(xd, 0.0, 1.0), 1.0)
+            # round-off: a relative slack on both
+            out[pc.case.name] = (np.minimum(xi * (1 + 1e-7) + 1e-9, 1.0), np.minimum(xd * (1 + 1e-7) + 1e-9, 1.0))
+        return out
+
+    def impact_ok(self, idx, unit, options, st, bounds=None) -> np.ndarray:
+        """False where an IMF limit is provably missed by every completion; for the ``imf``
+        objective (and an IMF measure) the objective bound in ``bounds`` is lowered to the
+        worst case's bound (:meth:`impact_bounds`)."""
+        K = options.size
+        ok = np.ones(K, dtype=bool)
+        if K == 0:
+            return ok
+        ub = self.impact_bounds(idx, unit, options, st)
+        for c in self.impact_cases:
+            if c.name not in ub:
+                continue
+            xi, xd = ub[c.name]
+            if "imf_min" in c.limits:
+                ok &= xi >= c.limits["imf_min"] * (1 - 1e-9) - 1e-12
+            if "directional_imf_min" in c.limits:
+                ok &= xd >= c.limits["directional_imf_min"] * (1 - 1e-9) - 1e-12
+        if bounds is not None:
+            if self.kind == "imf":
+                f = np.min([ub[n][0] for n in ub], axis=0) if ub else np.ones(K)
+                bounds["objective"] = np.minimum(bounds["objective"], f)
+            elif self.measure is not None and self.measure[0] == "imf" and self.measure[1] in ub:
+                bounds["objective"] = np.minimum(bounds["objective"], ub[self.measure[1]][0])
         return ok
 
     def effective_mass_ok(self, idx: np.ndarray, unit: tuple, options: np.ndarray, st: dict,

@@ -49,8 +49,12 @@ def _quiet_stdout():
         os.close(saved)
 
 
-def build_milp(model: SizingModel, units):
-    """The Pyomo model; returns (m, options per joint)."""
+class _OutOfTime(Exception):
+    pass
+
+
+def build_milp(model: SizingModel, units, deadline=math.inf):
+    """The Pyomo model; returns (m, options per joint). Raises _OutOfTime past ``deadline``."""
     import pyomo.environ as pe
 
     n = model.n
@@ -86,6 +90,8 @@ def build_milp(model: SizingModel, units):
         if t.minimum > 0:
             levels.append(t.minimum)  # the case's own requirement payload_c ≥ payload_min
         for j in range(n):
+            if time.perf_counter() > deadline:
+                raise _OutOfTime
             bias = float(t.g0[j]) + sum(float(t.G[k, j] * model.mass[o]) * m.x[k, int(o)]
                                         for k in range(n) if t.G[k, j] != 0 for o in opts[k])
             hi = sum(float(min(t.hi[j, o], BIG)) * m.x[j, int(o)] for o in opts[j])
@@ -151,7 +157,11 @@ def solve_pyomo(model: SizingModel, units, *, time_limit=None, max_rounds=10_000
     deadline = math.inf if time_limit is None else start + time_limit
     if any(c.size == 0 for c in model.candidates):
         return SolveOutcome("infeasible", None, -math.inf, -math.inf, 0.0, "a joint has no option", 0)
-    m, opts = build_milp(model, units)
+    try:
+        m, opts = build_milp(model, units, deadline)
+    except _OutOfTime:
+        return SolveOutcome("time_limit", None, -math.inf, math.inf, time.perf_counter() - start,
+                            "time limit reached while building the MILP", 0)
     solver = SolverFactory("highs")
     sense = 1.0 if model.kind == "payload" else -1.0
     best, bound, rounds, native = None, math.inf, 0, ""

@@ -10,6 +10,8 @@ refinement, not a proof of optimality over the continuum.
 
 from __future__ import annotations
 
+import time
+
 import numpy as np
 
 from ..design import Design, arrays_from_designs
@@ -29,8 +31,9 @@ def _neighbours(stage, ratio: float) -> tuple[float, float]:
     return below, above
 
 
-def refine(model, design: Design, pinned=()) -> Design:
-    """The design with every range-ratio stage refined (joints in ``pinned`` are left alone)."""
+def refine(model, design: Design, pinned=(), deadline=None) -> Design:
+    """The design with every range-ratio stage refined (joints in ``pinned`` are left alone).
+    ``deadline`` (a ``time.perf_counter()`` value): stop refining there, keeping the moves made."""
     def key(d_list):
         s = model.score_arrays(arrays_from_designs(d_list), np.zeros((len(d_list), model.n), dtype=np.int64))
         return s
@@ -49,6 +52,8 @@ def refine(model, design: Design, pinned=()) -> Design:
             for k, st in enumerate(act.stages):
                 if st.stage.ratio_range is None:
                     continue
+                if deadline is not None and time.perf_counter() > deadline:
+                    return current
                 lo, hi = _neighbours(st.stage, st.ratio)
                 trials = []
                 for r in np.linspace(lo, hi, SAMPLES):

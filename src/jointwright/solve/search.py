@@ -55,15 +55,17 @@ class BranchAndBound:
     """Depth-first branch and bound; see the module docstring."""
 
     def __init__(self, model: SizingModel, units: list[tuple], *, time_limit=None, progress=None,
-                 ties=True, upper=None):
+                 ties=True, upper=None, incumbent=None):
         """``ties=False`` proves only the optimal value (ties are not searched for the preferred
-        design); ``upper`` is a known upper bound on the optimum: reaching it ends the search."""
+        design); ``upper`` is a known upper bound on the optimum: reaching it ends the search;
+        ``incumbent`` the key (:meth:`SizingModel.key`) of a design known to be feasible (from
+        the primal heuristics) to start from."""
         self.model = model
         self.units = search_order(model, units)
         self.st = model.stats(model.candidates)
         self.deadline = math.inf if time_limit is None else time.perf_counter() + time_limit
         self.progress = progress
-        self.best_key = None
+        self.best_key = incumbent
         self.nodes = 0
         self.scored = 0
         self.open_bound = -math.inf
@@ -169,14 +171,19 @@ class BranchAndBound:
             full = np.broadcast_to(idx, (chunk_opts.size, model.n)).copy()
             full[:, list(unit)] = chunk_opts[:, None]
             opts, b = opts[LEAF_CHUNK:], {k: v[LEAF_CHUNK:] for k, v in b.items()}
-            key = model.best_key(full)
+            key, left = model.best_key_until(full, self.deadline if math.isfinite(self.deadline) else None)
             self.scored += full.shape[0]
+            if left > -math.inf:  # the limit struck inside the costly checks of this chunk
+                self.stopped = True
+                self.open_bound = max(self.open_bound, left)
             if key is not None:
                 if model.better(key, self.best_key):
                     self.best_key = key
                     if key[0] >= self.upper - tie_tol(self.upper):
                         self.reached = True
-            if time.perf_counter() > self.deadline and opts.size:
+            if (self.stopped or time.perf_counter() > self.deadline) and opts.size:
                 self.stopped = True
                 self.open_bound = max(self.open_bound, float(b["objective"].max()))
+                return
+            if self.stopped:
                 return

@@ -1,0 +1,224 @@
+"""Primal heuristics: a good feasible design within seconds, to start the exact search from.
+
+Nothing here proves anything; every design returned has been scored by the physics oracle and
+the project's checks (duty and stance cases included), so it is feasible, and the exact search
+only uses it as its first incumbent (a cut against it is as safe as against any incumbent).
+
+* **Level greedy** (payload objective): for a target payload level s, the joints are assigned in
+  the search order, each to its lightest option whose interval bound (docs/optimizer.md, items
+  2-4, with every unassigned joint limited to its options that can still reach s) reaches s and
+  meets every bounded requirement. Light choices load the joints assigned later the least. The
+  largest level whose design scores feasible is found by bisection.
+* **Sampling and local search** (every objective): random designs drawn from the per-joint
+  candidates are scored in batches; the best ones are improved by changing one decision unit
+  (a joint or a shared group) at a time to the option that scores best with the rest kept
+  (feasible first, then objective, then least mass; an infeasible design moves to the option with
+  the least total requirement violation).
+"""
+
+from __future__ import annotations
+
+import math
+import time
+
+import numpy as np
+
+from ..problem import checks
+from .model import SizingModel
+
+#: designs per oracle call
+BATCH = 1024
+#: options tried per unit and local-search move (a random subset when there are more)
+MOVE_OPTIONS = 2048
+#: the same when every design must be scored in full (cone programs)
+MOVE_OPTIONS_FULL = 48
+
+
+def _merit(model: SizingModel, index: np.ndarray):
+    """(screen-feasible, objective, mass, total violation) of designs ``index`` (D, n) with the
+    static cases (duty and stance cases left out: a screen)."""
+    arrays = model.table.arrays(index)
+    full = blind_screen(model)
+    ev = (model.evaluator if full else model.static_evaluator).evaluate(arrays, detail=False)
+    cl = checks(model.project if full else model.static_project, arrays, ev)
+    s = model.score_arrays(arrays, index, full=full)
+    viol = np.zeros(index.shape[0])
+    for c in cl:
+        m = c.margin
+        viol += np.where(m < -1e-12, np.minimum(-m, 1e6), 0.0)
+    return s.feasible, s.objective, s.mass, viol
+
+
+def blind_screen(model: SizingModel) -> bool:
+    """Whether the screen without duty and stance cases carries no objective (a payload
+    objective set by stance cases only): the heuristics then score designs in full."""
+    return model.kind == "payload" and not model.payload and bool(model.stance)
+
+
+def _order(ok, f, mass, viol) -> np.ndarray:
+    """Rows best first: feasible by objective then mass; then infeasible by least violation."""
+    f = np.where(np.isfinite(f), f, np.where(f > 0, 1e300, -1e300))
+    return np.lexsort((mass, -f, viol, ~ok))
+
+
+class Heuristic:
+    """First incumbent for the exact search; see the module docstring."""
+
+    def __init__(self, model: SizingModel, units: list[tuple], deadline: float, seed: int = 0,
+                 extend: bool = False):
+        """``extend``: keep sampling until half the time to ``deadline`` is used (a run with a
+        time limit); otherwise a fixed number of samples."""
+        self.model = model
+        self.extend = extend
+        self.units = units
+        self.deadline = deadline
+        self.rng = np.random.default_rng(seed)
+        self.best = None
+        self.tried = 0
+        self.options = []
+        for u in units:
+            opts = model.candidates[u[0]]
+            for j in u[1:]:
+                opts = np.intersect1d(opts, model.candidates[j])
+            self.options.append(opts)
+
+    def out_of_time(self) -> bool:
+        return time.perf_counter() > self.deadline
+
+    def offer(self, index: np.ndarray) -> None:
+        """Score designs in full (best first among them) and keep the best feasible one."""
+        if index.size == 0:
+            return
+        key = self.model.best_key_until(index, self.deadline)[0]
+        self.tried += index.shape[0]
+        if key is not None and self.model.better(key, self.best):
+            self.best = key
+
+    def run(self, stats=None) -> tuple | None:
+        if any(o.size == 0 for o in self.options):
+            return None
+        if self.model.kind == "payload" and self.model.payload:
+            self.level_greedy(stats)
+        elif self.model.kind == "mass":
+            from .search import search_order
+
+            st = stats if stats is not None else self.model.stats(self.model.candidates)
+            idx = self.greedy_at(None, st, search_order(self.model, self.units))
+            if idx is not None:
+                self.offer(idx[None, :])
+        if not self.out_of_time():
+            self.sample_and_improve()
+        return self.best
+
+    # ------------------------------------------------------------------------------------------
+    def greedy_at(self, level, st, order) -> np.ndarray | None:
+        model = self.model
+        idx = np.full(model.n, -1, dtype=np.int64)
+        for u in order:
+            opts = self.options[self.units.index(u)]
+            b = model.child_bounds(idx, u, opts, st, level)
+            good = b["ok"] if level is None else b["ok"] & (b["objective"] >= level * (1 - 1e-9))
+            if not good.any():
+                return None
+            rows = np.flatnonzero(good)
+            pick = rows[np.lexsort((opts[rows], model.mass[opts[rows]]))[0]]
+            idx[list(u)] = opts[pick]
+        return idx
+
+    def level_greedy(self, st=None) -> None:
+        from .search import search_order
+
+        model = self.model
+        st = st if st is not None else model.stats(model.candidates)
+        order = search_order(model, self.units)
+        root = np.full(model.n, -1, dtype=np.int64)
+        top = model.child_bounds(root, order[0], self.options[self.units.index(order[0])], st)["objective"]
+        hi = float(top.max()) if top.size else 0.0
+        lo = 0.0
+        if not math.isfinite(hi) or hi <= 0:
+            return
+        for _ in range(24):
+            if self.out_of_time() or hi - lo <= 1e-4 * max(hi, 1e-9):
+                break
+            level = 0.5 * (lo + hi)
+            idx = self.greedy_at(level, st, order)
+            if idx is None:
+                hi = level
+                continue
+            before = self.best
+            self.offer(idx[None, :])
+            if self.best is not None and self.best is not before and self.best[0] >= level * (1 - 1e-9):
+                lo = max(lo, self.best[0])
+            else:
+                hi = level
+
+    def sample_and_improve(self, samples: int = 4 * BATCH, starts: int = 3) -> None:
+        """Random designs: at least ``samples``, and more while less than half of the time left
+        at the start has been used; then local search from the best few."""
+        model = self.model
+        pool = []
+        t0 = time.perf_counter()
+        half = t0 + 0.5 * max(self.deadline - t0, 0.0) if self.extend else t0
+        batches = 0
+        while batches < max(1, samples // BATCH) or time.perf_counter() < half:
+            batches += 1
+            if self.out_of_time():
+                break
+            size = 64 if blind_screen(model) else BATCH
+            index = np.empty((size, model.n), dtype=np.int64)
+            for u, opts in zip(self.units, self.options):
+                index[:, list(u)] = self.rng.choice(opts, size)[:, None]
+            ok, f, mass, viol = _merit(model, index)
+            order = _order(ok, f, mass, viol)
+            self.offer(index[order[:32]])
+            pool.append((index[order[:starts]], ok[order[:starts]], f[order[:starts]],
+                         mass[order[:starts]], viol[order[:starts]]))
+        if pool:
+            idx_all, *merit = (np.concatenate(x) for x in zip(*pool))
+            pool = list(idx_all[_order(*merit)[:starts]])
+        if self.best is not None:
+            pool.insert(0, np.array(self.best[3]))
+        for start in pool[:starts + 1]:
+            if self.out_of_time():
+                break
+            self.improve(np.array(start))
+
+    def improve(self, index: np.ndarray, passes: int = 4) -> None:
+        """One-unit moves, best move per unit, until a pass changes nothing."""
+        model = self.model
+        cur = _merit(model, index[None, :])
+        for _ in range(passes):
+            moved = False
+            for u, opts in zip(self.units, self.options):
+                if self.out_of_time():
+                    self.offer(index[None, :])
+                    return
+                cap = MOVE_OPTIONS_FULL if blind_screen(model) else MOVE_OPTIONS
+                if opts.size > cap:
+                    opts = np.unique(np.concatenate([self.rng.choice(opts, cap, replace=False),
+                                                     [index[u[0]]]]))
+                trial = np.broadcast_to(index, (opts.size, model.n)).copy()
+                trial[:, list(u)] = opts[:, None]
+                ok, f, mass, viol = _merit(model, trial)
+                row = int(_order(ok, f, mass, viol)[0])
+                cand = (ok[row], f[row], mass[row], viol[row])
+                if _better_merit(cand, tuple(x[0] for x in cur)):
+                    index = trial[row].copy()
+                    cur = tuple(np.array([x]) for x in cand)
+                    moved = True
+            if not moved:
+                break
+        self.offer(index[None, :])
+
+
+def _better_merit(a, b) -> bool:
+    ok_a, f_a, m_a, v_a = a
+    ok_b, f_b, m_b, v_b = b
+    if ok_a != ok_b:
+        return bool(ok_a)
+    if not ok_a:
+        return v_a < v_b * (1 - 1e-9)
+    tol = 1e-9 * max(1.0, abs(f_b)) if math.isfinite(f_b) else 0.0
+    if f_a > f_b + tol:
+        return True
+    return abs(f_a - f_b) <= tol and m_a < m_b * (1 - 1e-12)
