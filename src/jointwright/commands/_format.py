@@ -70,10 +70,19 @@ def pct(margin: float) -> str:
     return f"{100 * margin:+.1f} %"
 
 
+#: cells up to this long (numbers with units, short names) are never broken across lines
+UNBROKEN = 12
+
+
 def table(title: str, columns: list[str], rows: list[list[str]], *, caption: str | None = None) -> Table:
+    """A rich table that fits the console: short cells (numbers with units) stay whole, long
+    text (design strings, notes) wraps inside its own cell at spaces, folding only long words."""
     t = Table(title=title, title_justify="left", caption=caption, caption_justify="left")
-    for c in columns:
-        t.add_column(c, overflow="fold")
+    for k, c in enumerate(columns):
+        cells = [str(r[k]) for r in rows if k < len(r)]
+        short = all(len(x) <= UNBROKEN for x in cells)
+        t.add_column(c, overflow="fold", no_wrap=short,
+                     min_width=min(UNBROKEN, max([len(w) for w in c.split()] + [1])))
     for r in rows:
         t.add_row(*r)
     return t

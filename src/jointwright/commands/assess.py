@@ -56,19 +56,21 @@ def print_assessment(a) -> None:
     cost = f", cost {num(a.total_cost)} (catalog currency units)" if costs else ""
     con.print(f"[bold]{a.project}[/bold] — design [bold]{a.design}[/bold]: {verdict}; "
               f"actuators {num(a.total_mass, 'kg')}{cost}")
-    rows = []
+    rows, caps = [], []
     for j in a.joints:
+        lock = " [red]self-locking[/red]" if j.self_locking else ""
         rows.append([j.joint, j.motor, " + ".join(j.stages) or "direct", f"{j.ratio:g}:1",
-                     f"{j.eta_forward:.3f} / {j.eta_backward:.3f}" + (" [red]self-locking[/red]" if j.self_locking else ""),
-                     num(j.capacity_motoring, "N·m"), num(j.capacity_backdriven, "N·m"),
-                     num(j.reflected_frictionless, "kg·m²"), num(j.reflected_backdriven, "kg·m²"),
-                     num(j.mass, "kg")] + ([num(j.cost)] if costs else []))
-    con.print(table("Joints", ["joint", "motor", "stages", "ratio", "η fwd / bwd", "drive",
-                               "holding", "refl. inertia", "back-driven", "mass"] + (["cost"] if costs else []),
-                    rows))
-    con.print("  drive = η_f·N·τ_peak (motoring); holding = N·τ_peak/η_b while the load back-drives; both capped "
-              "by the gear torque limit (peak).\n  refl. inertia = N²·I_r (frictionless); back-driven = N²·I_r/η_b, what an "
-              "impact meets.")
+                     f"{j.eta_forward:.3f} / {j.eta_backward:.3f}{lock}", num(j.mass, "kg")]
+                    + ([num(j.cost)] if costs else []))
+        caps.append([j.joint, num(j.capacity_motoring, "N·m"), num(j.capacity_backdriven, "N·m"),
+                     num(j.reflected_frictionless, "kg·m²"), num(j.reflected_backdriven, "kg·m²")])
+    con.print(table("Joints", ["joint", "motor", "stages", "ratio", "η fwd / bwd", "mass"]
+                    + (["cost"] if costs else []), rows))
+    con.print(table("Joint torque and reflected inertia", ["joint", "drive", "holding",
+                                                             "refl. inertia", "back-driven"], caps,
+                    caption="drive = η_f·N·τ_peak (motoring); holding = N·τ_peak/η_b while the load "
+                            "back-drives; both capped by the gear torque limit (peak). refl. inertia = "
+                            "N²·I_r (frictionless); back-driven = N²·I_r/η_b, what an impact meets."))
     for c in a.cases:
         rows = []
         for key, label, unit in SHOWN.get(c.kind, []):
