@@ -68,14 +68,18 @@ def check_front(project, f):
         assert 0 <= f.knee < len(f.points)
 
 
+@pytest.mark.parametrize("method", ["exhaustive", "sweep"])
 @settings(max_examples=6, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
 @given(seed=st.integers(0, 2**31 - 1), measure=st.sampled_from(["imf", "effective_mass", "backdrive_force"]))
-def test_leg_frontier_equals_enumerated_front(leg, seed, measure):
+def test_leg_frontier_equals_enumerated_front(leg, method, seed, measure):
+    # both methods (every candidate scored after the proven filters; exact ε-constraint solves)
+    # against the brute-force front over every design with no filter at all
     rng = np.random.default_rng(seed)
     p = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng), max_stages=1, stage_kinds=None,
                             objective={})
     p = set_limits(p, rng, build_table(p), keep_duty=False)
-    f = frontier(p, measure)
+    f = frontier(p, measure, method=method)
+    assert f.method == method
     check_front(p, f)
     ref = brute_front(p, measure, f.case)
     assert f.complete
@@ -97,10 +101,11 @@ def test_arm_effective_mass_frontier_matches_enumeration():
              Case("bump", "impact", "tip", pose, direction=(1.0, 0.0, 0.0), limits={}))
     p = dataclasses.replace(arm, robot=robot, cases=cases, catalog=small_catalog(arm.catalog, rng),
                             max_stages=1, stage_kinds=None, objective={}, requirements=Requirements())
-    f = frontier(p, "effective_mass")
-    check_front(p, f)
     ref = brute_front(p, "effective_mass", "bump")
-    assert [round(x, 6) for x, _ in ref] == [round(pt.payload, 6) for pt in f.points]
+    for method in ("exhaustive", "sweep"):
+        f = frontier(p, "effective_mass", method=method)
+        check_front(p, f)
+        assert [round(x, 6) for x, _ in ref] == [round(pt.payload, 6) for pt in f.points]
 
 
 def test_bad_measure_and_case(leg):
@@ -110,6 +115,8 @@ def test_bad_measure_and_case(leg):
         frontier(leg, "imf", case="swing")
     with pytest.raises(InputError, match="points"):
         frontier(leg, "imf", points=0)
+    with pytest.raises(InputError, match="method"):
+        frontier(leg, "imf", method="guess")
 
 
 @pytest.mark.slow
@@ -124,7 +131,7 @@ def test_cli_frontier_json_and_out(tmp_path):
     assert runner.invoke(main, ["new", str(tmp_path / "leg")]).exit_code == 0
     out = tmp_path / "front.json"
     r = runner.invoke(main, ["frontier", str(tmp_path / "leg" / "project.toml"), "--measure", "backdrive_force",
-                             "--points", "4", "--json", "--out", str(out)])
+                             "--method", "sweep", "--points", "4", "--json", "--out", str(out)])
     assert r.exit_code == 0, r.output
     data = json.loads(out.read_text())
     assert data["measure"] == "backdrive_force" and data["points"]
@@ -143,8 +150,8 @@ def test_more_sweep_points_never_lose_a_frontier_point(leg, seed, small):
     p = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng), max_stages=1, stage_kinds=None,
                             objective={})
     p = set_limits(p, rng, build_table(p), keep_duty=False)
-    few = frontier(p, "imf", points=2 * small)
-    many = frontier(p, "imf", points=2 * small + 6)
+    few = frontier(p, "imf", points=2 * small, method="sweep")
+    many = frontier(p, "imf", points=2 * small + 6, method="sweep")
     got = [(pt.payload, pt.measure) for pt in many.points]
     for pt in few.points:
         assert any(pt.payload == pytest.approx(a, rel=1e-9, abs=1e-9)

@@ -19,7 +19,9 @@ def print_frontier(f) -> None:
     better = "higher" if f.sense == "min" else "lower"
     con.print(f"[bold]frontier[/bold]: payload versus {f.measure} at case {f.case} ({better} is more "
               f"back-drivable); {len(f.points)} non-dominated designs, "
-              f"{'complete' if f.complete else 'sampled (stopped early)'}; {f.solves} exact solves, {f.seconds:.1f} s")
+              f"{'complete' if f.complete else 'sampled (stopped early)'}; " + (
+                  f"every one of {f.scored:,} candidate designs scored" if f.method == "exhaustive"
+                  else f"{f.solves} exact solves") + f", {f.seconds:.1f} s")
     rows = []
     costs = any(p.design.cost > 0 for p in f.points)  # the catalog gives costs
     for i, p in enumerate(f.points):
@@ -41,7 +43,10 @@ def print_frontier(f) -> None:
 @click.argument("project", type=click.Path(path_type=Path))
 @click.option("--measure", type=click.Choice(["imf", "effective_mass", "backdrive_force"]), default="imf")
 @click.option("--case", "case_name", default=None, help="impact or back-drive case (default: the first)")
-@click.option("--points", type=click.IntRange(min=1), default=50, help="most exact solves")
+@click.option("--method", type=click.Choice(["auto", "exhaustive", "sweep"]), default="auto",
+              help="exhaustive: score every candidate design (complete); sweep: exact ε-constraint "
+                   "solves; auto: exhaustive up to 2 million candidate designs")
+@click.option("--points", type=click.IntRange(min=1), default=50, help="most exact solves (sweep)")
 @click.option("--time-limit", type=float, default=None, help="seconds for the whole sweep")
 @click.option("--json", "as_json", is_flag=True, help="machine-readable output")
 @click.option("--out", type=click.Path(path_type=Path), default=None, help="write the frontier as JSON here")
@@ -50,9 +55,10 @@ def print_frontier(f) -> None:
 @click.option("--frictionless", is_flag=True,
               help="also sweep with every gear frictionless (η = 1 both ways), for comparison")
 @click.option("--force", is_flag=True, help="replace an existing --out file or --plot figures")
-def command(project: Path, measure, case_name, points, time_limit, as_json, out, plot_dir, frictionless,
-            force):
-    """Payload versus MEASURE over the non-dominated designs of PROJECT (exact ε-constraint sweep)."""
+def command(project: Path, measure, case_name, method, points, time_limit, as_json, out, plot_dir,
+            frictionless, force):
+    """Payload versus MEASURE over the non-dominated designs of PROJECT (exhaustive or exact
+    ε-constraint sweep)."""
     from ..errors import InputError
     from ..frontier import frontier
 
@@ -64,7 +70,7 @@ def command(project: Path, measure, case_name, points, time_limit, as_json, out,
         check_target(out, "--out", inputs=inputs, force=force)
     if plot_dir is not None:
         check_target(plot_dir, "--plot", inputs=inputs, force=force, exists_hint="frontier.png")
-    f = frontier(p, measure, case=case_name, points=points, time_limit=time_limit)
+    f = frontier(p, measure, case=case_name, points=points, time_limit=time_limit, method=method)
     data = f.to_dict()
     ideal = None
     if frictionless:
