@@ -322,7 +322,9 @@ def test_browser_renders_the_numbers_and_images(built, tmp_path):
     assert _close(_value(_cell(dom.cells, field="total_mass")), a["total_mass"])
     for c in a["checks"]:
         key = f"{c['subject']}:{c['requirement']}"
-        assert _close(_value(_cell(dom.cells, check=key, field="achieved")), c["achieved"])
+        scale = 100.0 if c["requirement"] == "rating_use_max" else 1.0  # a fraction, in %
+        shown = _value(_cell(dom.cells, check=key, field="achieved"))
+        assert _close(shown, _scaled(c["achieved"], scale))
     shot = tmp_path / "page.png"
     r = _chromium([f"--screenshot={shot}", "--window-size=1100,2400", url], tmp_path / "profile2")
     assert r.returncode == 0 and shot.is_file(), r.stderr[-2000:]
