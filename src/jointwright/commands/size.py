@@ -10,7 +10,7 @@ import click
 from ..design import design_to_toml
 from ..errors import InputError
 from ..project import load_project
-from ._format import requirement_num, console, emit_json, num, pct, table
+from ._format import console, emit_json, num, pct, requirement_num, table
 
 UNITS = {"payload": "N", "mass": "kg", "imf": ""}
 

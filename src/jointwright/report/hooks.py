@@ -331,10 +331,12 @@ def study_section(data: dict, fig_dir: Path, file: str = "<study>") -> Section:
             if best is None:
                 rows.append([v, "—", "no case has a result"] + ([""] if others else []) + [""])
                 continue
-            where = ", ".join(f"{p['label']} {_study_value(best['values'].get(p['key']), p['unit'])}"
-                              for p in params)
-            rest = "; ".join(f"{r['label']} {_study_value(best['results'].get(r['key']), r['unit'])}"
-                             for r in results if r is not lead)
+            where = ", ".join(
+                f"{p['label']} {_study_value(best['values'].get(p['key']), p['unit'])}"
+                for p in params)
+            rest = "; ".join(
+                f"{r['label']} {_study_value(best['results'].get(r['key']), r['unit'])}"
+                for r in results if r is not lead)
             design = "\n".join((best.get("design") or "—").split("; "))
             row = [v, where, Cell(_study_value(best["results"][lead["key"]], lead["unit"]),
                                   "num", (("study-best", v),))]

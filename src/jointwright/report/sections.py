@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import math
 
-from .markup import Cell, Section, check_value, bullets, esc, fmt, number, paragraph, pct, table
+from .markup import Cell, Section, bullets, check_value, esc, fmt, number, paragraph, pct, table
 
 G0 = 9.80665  # m/s², standard gravity (ISO 80000-3), for weight-equivalent payloads
 

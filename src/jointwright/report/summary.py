@@ -13,7 +13,7 @@ import math
 from pathlib import Path
 
 from . import figures
-from .markup import Cell, Section, check_value, bullets, figure, fmt, number, paragraph, pct, table
+from .markup import Cell, Section, bullets, check_value, figure, fmt, number, paragraph, pct, table
 
 #: a met requirement with a relative margin below this is called thin (10 %) [trade]
 THIN_MARGIN = 0.10
