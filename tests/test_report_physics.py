@@ -348,3 +348,12 @@ def test_study_store_becomes_the_study_section(tmp_path):
     assert "largest worst-case payload (N)" in text and "300 N" in text
     assert 'data-study-best="short">300 N<' in text and 'data-study-best="long">300 N<' in text
     assert not re.search(r"\bnan\b", text, flags=re.I)
+    # the same store through the command line, beside a design report
+    r = CliRunner().invoke(main, ["new", str(tmp_path / "leg"), "--example", "leg"])
+    assert r.exit_code == 0, r.output
+    r = CliRunner().invoke(main, ["report", str(tmp_path / "leg" / "project.toml"), "--design",
+                                  str(tmp_path / "leg" / "design.toml"), "--study", str(store),
+                                  "--out", str(tmp_path / "out"), "--json"])
+    assert r.exit_code == 0, r.output
+    html = (tmp_path / "out" / "report.html").read_text(encoding="utf-8")
+    assert 'id="study"' in html and "Variants side by side" in html
