@@ -322,7 +322,9 @@ def test_browser_renders_the_numbers_and_images(built, tmp_path):
     assert _close(_value(_cell(dom.cells, field="total_mass")), a["total_mass"])
     for c in a["checks"]:
         key = f"{c['subject']}:{c['requirement']}"
-        assert _close(_value(_cell(dom.cells, check=key, field="achieved")), c["achieved"])
+        scale = 100.0 if c["requirement"] == "rating_use_max" else 1.0  # a fraction, in %
+        shown = _value(_cell(dom.cells, check=key, field="achieved"))
+        assert _close(shown, _scaled(c["achieved"], scale))
     shot = tmp_path / "page.png"
     r = _chromium([f"--screenshot={shot}", "--window-size=1100,2400", url], tmp_path / "profile2")
     assert r.returncode == 0 and shot.is_file(), r.stderr[-2000:]
@@ -419,3 +421,32 @@ def test_same_input_same_files(tmp_path):
     assert one.read_bytes() == two.read_bytes()
     for f in sorted((one.parent / "figures").iterdir()):
         assert f.read_bytes() == (two.parent / "figures" / f.name).read_bytes(), f.name
+
+
+def _check(subject, requirement, achieved, limit, margin, unit="N"):
+    return {"subject": subject, "requirement": requirement, "achieved": achieved,
+            "limit": limit, "margin": margin, "ok": margin >= 0, "unit": unit, "sense": "min"}
+
+
+def test_summary_risks_order_and_thresholds():
+    # relative margin (achieved − limit)/|limit| [trade]: 105/100 → +5 % is thin (< 10 %),
+    # 130/100 → +30 % is not; 90/100 → −10 % is missed and comes first
+    from jointwright.report.summary import MAX_RISKS, risks
+
+    a = {"checks": [_check("lift", "payload_min", 105.0, 100.0, 0.05),
+                    _check("push", "payload_min", 130.0, 100.0, 0.30),
+                    _check("reach", "payload_min", 90.0, 100.0, -0.10)],
+         "joints": [{"joint": "knee", "self_locking": True},
+                    {"joint": "hip", "self_locking": False}],
+         "cases": [{"name": "walk", "kind": "duty", "limiting_joint": "hip",
+                    "metrics": {"rating_use": 0.95, "limiting_quantity": "rms_torque"}}]}
+    got = risks(a, {"points": 5, "change": 0.0468, "joint": "hip", "efficiency": "η_f"})
+    assert len(got) <= MAX_RISKS
+    assert got[0].startswith("Missed: reach: payload min is 90 N against 100 N (−10.0 %)")
+    assert got[1].startswith("Self-locking: knee")
+    assert "lift: payload min (+5.0 %)" in got[2] and "push" not in got[2]
+    assert "walk" in got[3] and "95 %" in got[3]
+    assert "4.68 %" in got[4] and "η_f of hip" in got[4]
+    assert got[-1].startswith("Assumed:")
+    flat = risks(a, {"points": 5, "change": 0.0, "joint": "hip", "efficiency": "η_f"})
+    assert "leaves the smallest payload unchanged" in " ".join(flat)

@@ -13,6 +13,7 @@ Sources named beside each check:
 
 from __future__ import annotations
 
+import json
 import re
 from dataclasses import replace
 
@@ -30,7 +31,7 @@ from jointwright.errors import InputError
 from jointwright.evaluate import Evaluator
 from jointwright.metrics.payload import payload_along
 from jointwright.project import load_project
-from jointwright.report import hooks
+from jointwright.report import figures, hooks
 from jointwright.report.geometry import MODES, ellipse_sections, plane_for, polytope_sections
 from jointwright.report.sweeps import efficiency_sensitivity, impact_metric, ratio_sweep
 from jointwright.robot.basis import gravity
@@ -238,17 +239,58 @@ def test_duty_hook_table_and_bad_series(tmp_path):
         hooks.duty_section({**data, "time": [0.0, "x", 1.0]}, tmp_path)
 
 
-def test_study_hook_table_series_and_bad_rows(tmp_path):
-    series = {"metric": "payload", "metric_unit": "N", "parameter": "ratio", "x": [1, 2],
-              "y": [10, 12]}
-    data = {"name": "knee sweep", "columns": ["case", "payload"], "rows": [["a", 12.5]],
-            "series": [series]}
-    s = hooks.study_section(data, tmp_path)
-    assert "12.5" in s.body and (tmp_path / "study-1.png").is_file()
-    with pytest.raises(InputError, match=r"rows\[0\]"):
-        hooks.study_section({**data, "rows": [["x"]]}, tmp_path)
-    with pytest.raises(InputError, match=r"series\[0\]\.y"):
-        hooks.study_section({**data, "series": [{**series, "y": [1]}]}, tmp_path)
+STUDY = {
+    "name": "knee sweep", "description": "knee ratio against budget",
+    "parameters": [{"key": "ratio", "label": "knee ratio", "unit": ""},
+                   {"key": "budget", "label": "total mass max", "unit": "kg"}],
+    "results": [{"key": "objective", "label": "largest worst-case payload", "unit": "N",
+                 "better": "max"},
+                {"key": "total_mass", "label": "actuator mass", "unit": "kg", "better": None}],
+    "cases": [{"case": f"c{k}", "variant": "", "status": "optimal",
+               "values": {"ratio": r, "budget": b},
+               "results": {"objective": 10.0 * r + b, "total_mass": b - 0.1},
+               "design": f"knee: Flatwind-{k % 9 + 1} | Orbit/Orbit-2 {r}:1"}
+              for k, (r, b) in enumerate((r, b) for b in (3.0, 4.0) for r in (6, 9, 12))],
+}
+
+
+def test_study_hook_table_has_units_best_case_and_rejects_bad_rows(tmp_path):
+    s = hooks.study_section(STUDY, tmp_path)
+    text = re.sub(r'src="data:[^"]*"', "", s.body)
+    # every header names its unit; every number carries it
+    for head in ("knee ratio (dimensionless)", "total mass max (kg)",
+                 "largest worst-case payload (N)", "actuator mass (kg)"):
+        assert head in text
+    assert "124 N" in text and "3.9 kg" in text
+    # the best case: ratio 12 at 4 kg gives 10·12 + 4 = 124 N
+    assert re.search(r'data-study-best="all cases">124 N<', text)
+    assert "Flatwind-6 | Orbit/Orbit-2 12:1" in text
+    assert (tmp_path / "study-1.png").is_file() and (tmp_path / "study-2.png").is_file()
+    with pytest.raises(InputError, match=r"cases\[0\]\.values"):
+        hooks.study_section({**STUDY, "cases": [{"case": "x", "results": {}}]}, tmp_path)
+    bad = {**STUDY["cases"][0], "results": {"objective": [1, 2]}}
+    with pytest.raises(InputError, match=r"cases\[0\]\.results\.objective"):
+        hooks.study_section({**STUDY, "cases": [bad]}, tmp_path)
+
+
+def test_study_lines_join_only_cases_that_share_the_other_parameters():
+    # a line through cases that differ in another parameter would zig-zag between unrelated
+    # designs; each group must hold one value of every other parameter
+    for param, other in (("ratio", "budget"), ("budget", "ratio")):
+        p = next(x for x in STUDY["parameters"] if x["key"] == param)
+        groups = hooks._study_groups(STUDY["cases"], STUDY["parameters"], p,
+                                     STUDY["results"][0], variants=False)
+        n_other = len({c["values"][other] for c in STUDY["cases"]})
+        assert len(groups) == n_other
+        for label, (xs, ys) in groups.items():
+            members = [c for c in STUDY["cases"] if c["values"][param] in xs
+                       and 10.0 * c["values"]["ratio"] + c["values"]["budget"] in ys]
+            assert len({c["values"][other] for c in members}) == 1, label
+            assert sorted(xs) == sorted({c["values"][param] for c in STUDY["cases"]})
+    fig = figures.study_figure([("knee ratio (dimensionless)", groups)],
+                               y_label="payload (N)", title="payload")
+    assert len(fig.axes[0].get_lines()) == len(groups)
+    assert fig.axes[0].get_xlabel() == "knee ratio (dimensionless)"
 
 
 def test_duty_plot_series_has_the_assessed_rms_and_peak(example):
@@ -280,36 +322,41 @@ def test_study_store_becomes_the_study_section(tmp_path):
 
     (tmp_path / "leg.toml").write_text(BASE_PROJECT)
     spec = parse_study({"study": {"name": "thigh study", "base": "leg.toml"},
-                        "vary": [{"path": "robot.links.thigh.length", "values": [0.2, 0.3]}]},
+                        "vary": [{"path": "robot.links.thigh.length", "values": [0.2, 0.3]},
+                                 {"path": "requirements.mass_budget",
+                                  "values": ["2 kg", "3000 g"]}],
+                        "variant": [{"name": "short", "set": {"robot.links.shank.length": 0.2}},
+                                    {"name": "long", "set": {"robot.links.shank.length": 0.4}}]},
                        study_dir=tmp_path)
     store = tmp_path / "s.sqlite"
     with StudyStore.open(store, spec, 2) as st:
         for case in expand(spec):
             thigh = case.values["robot.links.thigh.length"]
-            st.write(case, CaseRecord("done", {"payload": 1000 * thigh, "holding": float("inf")},
-                                      "null", wall_time=0.1, worker="w:1"))
+            result = json.dumps({"objective_kind": "payload"})
+            st.write(case, CaseRecord("done", {"objective": 1000 * thigh, "total_mass": 2.5,
+                                               "sizing_status": "optimal",
+                                               "knee:actuator": f"m{thigh}"},
+                                      result, wall_time=0.1, worker="w:1"))
     data = study_data(store)
-    assert data["name"] == "thigh study" and "worker" not in data["columns"]
-    payload = next(s for s in data["series"] if s["metric"] == "payload")
-    assert payload["x"] == [0.2, 0.3] and payload["y"] == pytest.approx([200.0, 300.0])
+    assert data["name"] == "thigh study"
+    params = {p["key"]: p for p in data["parameters"]}
+    assert params["robot.links.thigh.length"]["label"] == "length"
+    assert params["requirements.mass_budget"]["unit"] == "kg"
+    # "3000 g" is shown in the parameter's unit, kg
+    assert sorted({c["values"]["requirements.mass_budget"] for c in data["cases"]}) == [2.0, 3.0]
+    assert [r["unit"] for r in data["results"]] == ["N", "kg"]
+    assert {c["variant"] for c in data["cases"]} == {"short", "long"}
     section = hooks.study_section(data, tmp_path)
     text = re.sub(r'src="data:[^"]*"', "", section.body)
-    assert "∞" in text and "300" in text and not re.search(r"\bnan\b", text, flags=re.I)
-
-
-def test_frontier_figure_with_a_frictionless_series_draws_without_a_warning(tmp_path):
-    # `jointwright frontier --frictionless --plot` draws two staircases; matplotlib must not warn
-    # about a line style given twice (format string and keyword)
-    import warnings
-
-    from jointwright.report import figures
-
-    series = {"catalog efficiencies": ([0.1, 0.2], [300.0, 200.0]),
-              "frictionless gears (η = 1)": ([0.12, 0.25], [320.0, 210.0])}
-    with warnings.catch_warnings():
-        warnings.simplefilter("error")
-        fig = figures.frontier_figure(series, (0.2, 200.0), x_label="impact mitigation factor",
-                                      y_label="payload (N)", title="frontier")
-        figures.save(fig, tmp_path, "frontier")
-    lines = [ln for ln in fig.axes[0].get_lines() if not ln.get_label().startswith("knee")]
-    assert [ln.get_linestyle() for ln in lines] == ["-", "--"]
+    assert "largest worst-case payload (N)" in text and "300 N" in text
+    assert 'data-study-best="short">300 N<' in text and 'data-study-best="long">300 N<' in text
+    assert not re.search(r"\bnan\b", text, flags=re.I)
+    # the same store through the command line, beside a design report
+    r = CliRunner().invoke(main, ["new", str(tmp_path / "leg"), "--example", "leg"])
+    assert r.exit_code == 0, r.output
+    r = CliRunner().invoke(main, ["report", str(tmp_path / "leg" / "project.toml"), "--design",
+                                  str(tmp_path / "leg" / "design.toml"), "--study", str(store),
+                                  "--out", str(tmp_path / "out"), "--json"])
+    assert r.exit_code == 0, r.output
+    html = (tmp_path / "out" / "report.html").read_text(encoding="utf-8")
+    assert 'id="study"' in html and "Variants side by side" in html

@@ -185,7 +185,7 @@ class Actuator:
     def breakaway_torque(self) -> float:
         """Joint-side torque that starts the unpowered actuator moving (N·m).
 
-        Motor cogging and each stage's input-side no-load starting torque are referred to the
+        Motor cogging and each stage's breakaway torque (at its input) are referred to the
         motor shaft (divided by the ratio before the stage), then to the joint through the
         back-driven law: τ = (N/η_b)·Σ. inf when self-locking.
         """

@@ -103,7 +103,7 @@ class StageFrame:
     rated_peak_torque, rated_continuous_torque : N·m at the stage output
     mass : kg
     input_inertia : kg·m², seen at the stage input (its own rotating parts)
-    breakaway_torque : N·m, no-load starting torque measured at the stage input
+    breakaway_torque : N·m, torque that starts the unloaded stage turning, at its input
     backlash : rad at the output
     stiffness : N·m/rad torsional, at the output (inf when unknown)
     diameter, length : m (0 when unknown)

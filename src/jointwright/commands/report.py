@@ -38,7 +38,7 @@ def _json(path: Path | None, option: str):
 @click.option("--frontier", "frontier_file", type=click.Path(path_type=Path), default=None,
               help="frontier JSON: adds the frontier with the chosen design marked")
 @click.option("--study", "study_store", type=click.Path(path_type=Path), default=None,
-              help="study store (SQLite): adds the study's case table and plots")
+              help="study store (SQLite): adds what the study found: tables with units and plots")
 @click.option("--json", "as_json", is_flag=True, help="print the written paths as JSON")
 @click.option("--force", is_flag=True, help="replace an existing report.html in the --out folder")
 def command(project: Path, design_file: Path, out_dir: Path | None, sizing_file: Path | None,

@@ -88,7 +88,8 @@ def build_report(project, design, out_dir, *, sizing: dict | None = None,
         sections=parts,
         summary=top,
         footer=f"jointwright {_version()}; project {project.file.name}. SI units throughout "
-               "(temperatures in °C). Figures are also in the figures folder as PNG and SVG.",
+               "(temperatures in °C, costs in the catalog's currency units). Figures are also in "
+               "the figures folder as PNG and SVG.",
     )
     path = out / REPORT_FILE
     path.write_text(text, encoding="utf-8")

@@ -243,6 +243,31 @@ def grouped_figure(groups, *, x_label: str, y_label: str, title: str) -> Figure:
     return fig
 
 
+def study_figure(panels, *, y_label: str, title: str) -> Figure:
+    """One result against each varied parameter, one panel per parameter.
+
+    ``panels`` = [(x_label, groups)] with ``groups`` = {label: (xs, ys)}: the cases that share
+    every other parameter (and variant). Each group is drawn as markers joined in order of x
+    (a group of one case is a lone marker), so a line never joins unrelated cases; groups keep
+    their colour and marker across panels of one figure only by label.
+    """
+    fig, axes = _figure(ncols=len(panels), height=3.6)
+    markers = ("o", "s", "^", "D", "v", "P", "X", "*")
+    for ax, (x_label, groups) in zip(axes, panels):
+        for k, (label, (xs, ys)) in enumerate(groups.items()):
+            xs, ys = np.asarray(xs, dtype=float), np.asarray(ys, dtype=float)
+            order = np.argsort(xs, kind="stable")
+            style = joint_style(k)
+            ax.plot(xs[order], ys[order], marker=markers[k % len(markers)], ms=4.5, lw=1.3,
+                    color=style["color"], ls=style["ls"], label=label)
+        ax.margins(x=0.08, y=0.12)
+        _label(ax, x_label, y_label if ax is axes[0] else "")
+        ax.legend(fontsize=_RC["legend.fontsize"] - 1, frameon=False, loc="best")
+    fig.suptitle(textwrap.fill(title, 90), fontsize=_RC["axes.titlesize"], color=INK, x=0.01,
+                 ha="left")
+    return fig
+
+
 def series_figure(time, series, limits, *, y_label: str, title: str) -> Figure:
     """Time series per joint (duty cycles).
 

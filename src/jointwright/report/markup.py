@@ -144,6 +144,7 @@ td.num { text-align: right; white-space: nowrap; font-variant-numeric: tabular-n
 td.ok { color: var(--ok); font-weight: 600; }
 td.bad { color: var(--bad); font-weight: 600; }
 table.wide { font-size: 0.8em; }
+td.lines { white-space: pre-line; }
 table.wide th, table.wide td { padding: 3px 6px; }
 table.wide td.num { white-space: normal; }
 .verdict { padding: 10px 14px; border-left: 5px solid var(--ok); background: var(--band); }

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import math
 
-from .markup import Cell, Section, check_value, bullets, esc, fmt, number, paragraph, pct, table
+from .markup import Cell, Section, bullets, check_value, esc, fmt, number, paragraph, pct, table
 
 G0 = 9.80665  # m/s², standard gravity (ISO 80000-3), for weight-equivalent payloads
 
@@ -41,7 +41,7 @@ def job_section(project) -> Section:
     """Who the robot is for and what it must do: summary, cases and budgets."""
     rows = []
     for c in project.cases:
-        limits = ", ".join(f"{k.replace('_', ' ')} {fmt(v, _limit_unit(k))}"
+        limits = ", ".join(f"{k.replace('_', ' ')} {_limit_text(k, v)}"
                            for k, v in c.limits.items())
         direction = ("—" if c.direction is None
                      else "(" + ", ".join(number(x, 3) for x in c.direction) + ")")
@@ -80,6 +80,13 @@ def _budgets(req) -> list[str]:
         if lim.ratio_min > 0:
             out.append(f"{j}: ratio min {fmt(lim.ratio_min)}")
     return out
+
+
+def _limit_text(key: str, value) -> str:
+    """A case limit with its unit; a rating use (a fraction) in %."""
+    if key == "rating_use_max":
+        return fmt(100.0 * value, "%")
+    return fmt(value, _limit_unit(key))
 
 
 def _limit_unit(key: str) -> str:

@@ -13,7 +13,7 @@ import math
 from pathlib import Path
 
 from . import figures
-from .markup import Cell, Section, check_value, bullets, figure, fmt, number, paragraph, pct, table
+from .markup import Cell, Section, bullets, check_value, figure, fmt, number, paragraph, pct, table
 
 #: a met requirement with a relative margin below this is called thin (10 %) [trade]
 THIN_MARGIN = 0.10
@@ -183,6 +183,10 @@ def sensitivity_risk(s: dict) -> str:
     ``s`` = {"points": percentage points, "change": largest |relative change| of the smallest
     payload, "joint": its joint, "efficiency": "η_f" or "η_b"}.
     """
+    if s["change"] < 5e-4:  # below the 4th shown digit
+        return (f"Efficiency assumption: moving any one gear efficiency by ±{s['points']} points "
+                "leaves the smallest payload unchanged; impact figures may still move "
+                "(Appendix: sensitivity).")
     return (f"Efficiency assumption: moving one gear efficiency by ±{s['points']} points moves "
             f"the smallest payload by up to {fmt(100 * s['change'], '%', 3)} "
             f"({s['efficiency']} of {s['joint']}).")
