@@ -1,9 +1,11 @@
-"""Frontier: exact ε-constraint sweep versus the non-dominated set by brute force.
+"""Frontier: the exhaustive method and the exact ε-constraint sweep versus brute force.
 
 Instance: the bundled leg with 2 motors, Orbit and Lobe stage types (all frames and ratios), one stage
 per joint, duty case left out, payload versus IMF at the touchdown case (IMF limit replaced by the
 sweep). The brute force scores every design and filters the non-dominated (payload, IMF) pairs.
-Prints both times, the number of points and whether the two sets agree. Results: docs/benchmarks.md.
+Prints wall and CPU time of each method, the number of points and whether each set agrees with
+brute force, side by side in one run; then both methods on the whole bundled leg (payload vs
+IMF, duty cycle included), where brute force does not fit. Results: docs/benchmarks.md.
 """
 
 from __future__ import annotations
@@ -54,19 +56,38 @@ def brute(project, case):
     return front, total
 
 
+def timed(fn):
+    wall, cpu = time.perf_counter(), time.process_time()
+    out = fn()
+    return out, time.perf_counter() - wall, time.process_time() - cpu
+
+
+def same(points, ref) -> bool:
+    return len(ref) == len(points) and all(
+        abs(a.payload - b[0]) <= 1e-9 * b[0] and abs(a.measure - b[1]) <= 1e-6 for a, b in zip(points, ref))
+
+
 def main():
     p = instance()
-    t = time.perf_counter()
-    f = frontier(p, "imf", points=1000)
-    t_front = time.perf_counter() - t
-    t = time.perf_counter()
-    ref, total = brute(p, f.case)
-    t_brute = time.perf_counter() - t
-    same = len(ref) == len(f.points) and all(
-        abs(a.payload - b[0]) <= 1e-9 * b[0] and abs(a.measure - b[1]) <= 1e-6 for a, b in zip(f.points, ref))
-    print(f"leg, {total} designs: frontier {t_front:.2f} s ({f.solves} exact solves, {len(f.points)} points, "
-          f"complete {f.complete}, knee {f.knee}); brute force {t_brute:.2f} s ({len(ref)} points); "
-          f"ratio {t_brute / t_front:.1f}x; same set: {same}")
+    (ref, total), w_b, c_b = timed(lambda: brute(p, "touchdown"))
+    print(f"small leg, {total} designs: brute force {w_b:.2f} s wall, {c_b:.2f} s CPU, {len(ref)} points")
+    for method in ("exhaustive", "sweep"):
+        f, w, c = timed(lambda m=method: frontier(p, "imf", points=1000, method=m))
+        print(f"  {method:10s} {w:7.2f} s wall {c:7.2f} s CPU  {len(f.points)} points, complete "
+              f"{f.complete}, same set as brute force: {same(f.points, ref)}; brute force / this "
+              f"{c_b / c:.1f}x CPU")
+    leg = example("leg")
+    print("bundled leg (duty cycle included), payload vs IMF at touchdown:")
+    got = {}
+    for method, points in (("exhaustive", 50), ("sweep", 50)):
+        f, w, c = timed(lambda m=method, k=points: frontier(leg, "imf", points=k, method=m))
+        got[method] = f
+        extra = f"{f.scored} designs scored" if method == "exhaustive" else f"{f.solves} exact solves"
+        print(f"  {method:10s} {w:7.2f} s wall {c:7.2f} s CPU  {len(f.points)} points, complete "
+              f"{f.complete}, {extra}")
+    ex = {(round(pt.payload, 6), round(pt.measure, 6)) for pt in got["exhaustive"].points}
+    missing = [pt for pt in got["sweep"].points if (round(pt.payload, 6), round(pt.measure, 6)) not in ex]
+    print(f"  sweep points not on the exhaustive front: {len(missing)}")
 
 
 if __name__ == "__main__":
