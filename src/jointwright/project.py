@@ -52,6 +52,12 @@ class Case:
     #: payload cases: end-point speed (m/s) during the motion; the motors' torque–speed
     #: envelope at that speed then sets the capacity (0 = static capacity)
     tip_speed: float = 0.0
+    #: payload and stance cases: how the required load grows with the robot's payload mass m_p:
+    #: required = fixed_load + payload_share·m_p·g_n (N); the payload-mass objective reads the
+    #: case's achieved force F as the payload it carries, (F − fixed_load)/(payload_share·g_n).
+    #: payload_share = 0: the load does not grow with the payload (a constraint only)
+    fixed_load: float = 0.0
+    payload_share: float = 1.0
     #: speed cases: mass carried at the frame (kg; its weight, and its inertia when accelerating)
     payload_mass: float = 0.0
     #: speed cases: end-point acceleration along ``direction`` held during the motion (m/s²)
@@ -322,6 +328,10 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
     tip_speed = t.quantity("tip_speed", "velocity", 0.0, sign="nonnegative") if kind == "payload" else 0.0
     if tip_speed > 0 and motion == "hold":
         raise InputError(t.file, t.field("tip_speed"), "a payload held still has no tip speed; use motion = along or against")
+    fixed_load, payload_share = 0.0, 1.0
+    if kind in ("payload", "stance"):
+        fixed_load = _force_or_weight(t, "fixed_load") if t.has("fixed_load") else 0.0
+        payload_share = t.quantity("payload_share", "dimensionless", 1.0, sign="nonnegative")
     payload_mass = t.quantity("payload_mass", "mass", 0.0, sign="nonnegative") if kind == "speed" else 0.0
     acceleration = t.quantity("acceleration", "acceleration", 0.0, sign="nonnegative") if kind == "speed" else 0.0
     limits = {}
@@ -341,7 +351,8 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
     return Case(name=name, kind=kind, frame=frame, pose=pose, base_xyz=base_xyz, base_rpy=base_rpy,
                 direction=direction, motion=motion, trajectory=trajectory, ambient=ambient,
                 tip_speed=tip_speed, limits=limits, weight_equivalent=weight, contacts=contacts,
-                payload_mass=payload_mass, acceleration=acceleration)
+                payload_mass=payload_mass, acceleration=acceleration, fixed_load=fixed_load,
+                payload_share=payload_share)
 
 
 def _force_or_weight(t: Table, key: str) -> float:

@@ -22,7 +22,7 @@ import numpy as np
 
 from ..evaluate import Evaluator
 from ..metrics.payload import torque_bounds
-from ..problem import checks, feasible, objective
+from ..problem import carried_payload, checks, feasible, objective
 
 #: designs whose duty cases are checked per oracle call
 DUTY_CHUNK = 32
@@ -96,6 +96,9 @@ class SizingModel:
         self.static_evaluator = Evaluator(self.static_project)
         self.payload = tuple(self._payload_terms(pc) for pc in self.evaluator.cases
                              if pc.case.kind == "payload")
+        # the payload objective is the payload mass every case carries: each case's force bound
+        # goes through its own increasing transform (problem.carried_payload) before the min
+        self.carry = tuple(lambda f, c=project.case(t.name): carried_payload(c, f) for t in self.payload)
         self.candidates = [np.asarray(c, dtype=np.int64) for c in candidates]
         self.reflected = table.reflected_backdriven
         self.mass = table.rows["mass"]
@@ -254,9 +257,9 @@ class SizingModel:
             hi_b = t.g0[j] + np.maximum(st["mmin"][:, None] * t.G, st["mmax"][:, None] * t.G).sum(axis=0)[j]
             a = t.a[j]
             if a > 0:
-                own = np.minimum(own, (t.hi[j, cands] - lo_b) / a)
+                own = np.minimum(own, self.carry[self.payload.index(t)]((t.hi[j, cands] - lo_b) / a))
             elif a < 0:
-                own = np.minimum(own, (t.lo[j, cands] - hi_b) / a)
+                own = np.minimum(own, self.carry[self.payload.index(t)]((t.lo[j, cands] - hi_b) / a))
         order = np.argsort(-own, kind="stable")
         return own[order], np.minimum.accumulate(self.mass[cands][order])
 
@@ -334,7 +337,7 @@ class SizingModel:
         for c, t in enumerate(self.payload):
             bound, bias_lo, bias_hi = self._payload_bound(t, c, idx, A, F, unit, options, st)
             ok &= bound >= t.minimum * (1 - 1e-9) - 1e-12
-            worst = np.minimum(worst, bound)
+            worst = np.minimum(worst, self.carry[c](bound))
             b_lo.append(np.where((t.a > 0), bias_lo, bias_hi))
         if self.kind == "payload" and F.size and self.payload:
             worst = np.minimum(worst, self._free_bound(F, b_lo, st))
@@ -404,7 +407,7 @@ class SizingModel:
                     continue
                 with np.errstate(invalid="ignore"):
                     v = (R[None, :, c] - bias[c][:, j, None]) / a  # (K, P)
-                per.append(np.where(np.isnan(v), np.inf, v))
+                per.append(self.carry[c](np.where(np.isnan(v), np.inf, v)))
             if per:
                 out = np.minimum(out, np.maximum(np.min(per, axis=0).max(axis=1), 0.0))
         return out
