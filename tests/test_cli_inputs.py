@@ -178,6 +178,10 @@ BAD = [
         "check", "project.toml", "case[0].payload_share", "must be >= 0"),
     Bad("payload share on an impact case", (("project.toml", "imf_min = 0.1", "imf_min = 0.1\npayload_share = 1"),),
         "check", "project.toml", "case[3].payload_share", "unknown field"),
+    Bad("stroke and acceleration together", (("project.toml", 'stroke = "0.1 m"', 'stroke = "0.1 m"\nacceleration = "5 m/s^2"'),),
+        "check", "project.toml", "case[4].stroke", "not both"),
+    Bad("zero stroke", (("project.toml", 'stroke = "0.1 m"', 'stroke = "0 m"'),),
+        "check", "project.toml", "case[4].stroke", "must be > 0"),
     # --- URDF ------------------------------------------------------------------------------
     Bad("malformed URDF", (("leg.urdf", '<joint name="knee" type="revolute">', '<joint name="knee" type="revolute"'),),
         "check", "leg.urdf", "urdf line 41", "malformed XML"),  # where the parser notices

@@ -227,7 +227,7 @@ def test_speed_case_under_load_matches_pinocchio_terms(arm):
 
     project, design = arm
     base = next(c for c in project.cases if c.kind == "speed")
-    case = dc.replace(base, payload_mass=2.0, acceleration=3.0)
+    case = dc.replace(base, payload_mass=2.0, acceleration=3.0, stroke=0.0)
     project = dc.replace(project, cases=(case,))
     H, g, J = _pin_terms(project, design, case, np.zeros(len(design.actuators)))
     robot = project.robot
@@ -267,3 +267,13 @@ def test_speed_case_under_load_matches_pinocchio_terms(arm):
     heavy = dc.replace(case, payload_mass=6.0)
     ev6 = Evaluator(dc.replace(project, cases=(heavy,))).evaluate(arrays)[case.name]
     assert ev6["speed"][0] <= ev["speed"][0] and ev6["acceleration"][0] < ev["acceleration"][0]
+    # within a stroke: the same terms through speed_within_stroke, never above the steady speed
+    from jointwright.metrics.speed import speed_within_stroke
+
+    stroke = dc.replace(case, acceleration=0.0, stroke=0.2)
+    evs = Evaluator(dc.replace(project, cases=(stroke,))).evaluate(arrays)[case.name]
+    within = speed_within_stroke(Jj, tau_rest, per_acc, u, arrays.ratio[0], 0.2, tau_per_speed2=c2,
+                                 **trans, **motor)
+    assert evs["speed"][0] == pytest.approx(float(within.speed), rel=1e-9)
+    assert 0 < evs["speed"][0] < evs["speed_steady"][0] <= evs["speed_no_load"][0]
+    assert evs["stroke_time"][0] > 0.2 / evs["speed_steady"][0]

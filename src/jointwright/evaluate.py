@@ -34,7 +34,7 @@ from .metrics.inertia import effective_mass, forward_effective_mass, impact_miti
 from .metrics.linalg_small import inv_small
 from .metrics.payload import payload_along, torque_bounds
 from .metrics.speed import (acceleration_from_rest, endpoint_speed, loaded_endpoint_speed,
-                            payload_at_speed)
+                            payload_at_speed, speed_within_stroke)
 from .robot.basis import gravity, mass_matrix, pose_basis
 
 #: joint velocity components below this fraction of the largest count as zero (holding)
@@ -288,7 +288,14 @@ class Evaluator:
                                        joint_acceleration=np.broadcast_to(a * acc, (n_act,)),
                                        **trans, **motor)
         accel = acceleration_from_rest(pc.Jj, tau_rest, tau_per_acc, pc.u, d.ratio, **trans, **motor)
-        out = {"speed": loaded.speed, "limiting_joint": loaded.limiting_joint,
+        speed, limiting = loaded.speed, loaded.limiting_joint
+        extra = {}
+        if case.stroke > 0:
+            within = speed_within_stroke(pc.Jj, tau_rest, tau_per_acc, pc.u, d.ratio, case.stroke,
+                                         tau_per_speed2=c2, **trans, **motor)
+            speed, limiting = within.speed, within.limiting_joint
+            extra = {"speed_steady": loaded.speed, "stroke_time": within.time}
+        out = {"speed": speed, "limiting_joint": limiting, **extra,
                "carries_load": loaded.carries_load,
                "acceleration": accel.acceleration,
                "acceleration_limiting_joint": accel.limiting_joint}

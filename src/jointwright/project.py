@@ -62,6 +62,9 @@ class Case:
     payload_mass: float = 0.0
     #: speed cases: end-point acceleration along ``direction`` held during the motion (m/s²)
     acceleration: float = 0.0
+    #: speed cases: distance along ``direction`` over which the end point gets up to speed from
+    #: rest (m); 0 = the steady loaded speed, however long it takes to reach
+    stroke: float = 0.0
     #: requirement name -> limit, e.g. {"payload_min": 150.0} (SI)
     limits: dict[str, float] = field(default_factory=dict)
     #: for payload cases: the force is reported as a mass too when the direction is vertical
@@ -334,6 +337,10 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
         payload_share = t.quantity("payload_share", "dimensionless", 1.0, sign="nonnegative")
     payload_mass = t.quantity("payload_mass", "mass", 0.0, sign="nonnegative") if kind == "speed" else 0.0
     acceleration = t.quantity("acceleration", "acceleration", 0.0, sign="nonnegative") if kind == "speed" else 0.0
+    stroke = t.quantity("stroke", "length", 0.0, sign="positive") if kind == "speed" and t.has("stroke") else 0.0
+    if stroke > 0 and acceleration > 0:
+        raise InputError(t.file, t.field("stroke"), "give either stroke (reach the speed from rest within "
+                         "it) or acceleration (keep accelerating at speed), not both")
     limits = {}
     for key, (dim, _sense) in CASE_LIMITS[kind].items():
         if t.has(key):
@@ -351,7 +358,7 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
     return Case(name=name, kind=kind, frame=frame, pose=pose, base_xyz=base_xyz, base_rpy=base_rpy,
                 direction=direction, motion=motion, trajectory=trajectory, ambient=ambient,
                 tip_speed=tip_speed, limits=limits, weight_equivalent=weight, contacts=contacts,
-                payload_mass=payload_mass, acceleration=acceleration, fixed_load=fixed_load,
+                payload_mass=payload_mass, acceleration=acceleration, stroke=stroke, fixed_load=fixed_load,
                 payload_share=payload_share)
 
 
