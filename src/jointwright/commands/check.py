@@ -38,7 +38,9 @@ def project_summary(p) -> dict:
         },
         "cases": [
             {"name": c.name, "kind": c.kind, "frame": c.frame, "direction": c.direction,
-             "motion": c.motion if c.kind == "payload" else None, "limits": c.limits}
+             "motion": c.motion if c.kind == "payload" else None, "limits": c.limits,
+             "payload_growth": ({"fixed_load": c.fixed_load, "payload_share": c.payload_share}
+                                if c.kind in ("payload", "stance") else None)}
             for c in p.cases
         ],
         "requirements": {
@@ -75,13 +77,19 @@ def command(project: Path, as_json: bool):
                       f"{t['ratio_range'][0]:g} to {t['ratio_range'][1]:g} (continuous)",
                       t["efficiency"]] for t in c["stage_types"]]))
     units = {"payload_min": "N", "imf_min": "", "directional_imf_min": "", "effective_mass_max": "kg",
-             "backdrive_force_max": "N", "speed_min": "m/s", "temperature_margin_min": "K"}
+             "backdrive_force_max": "N", "speed_min": "m/s", "acceleration_min": "m/s²",
+             "temperature_margin_min": "K"}
     con.print(table("Cases", ["case", "kind", "frame", "direction", "motion", "requirements"],
                     [[x["name"], x["kind"], x["frame"] or "—",
                       "—" if x["direction"] is None else "(" + ", ".join(f"{v:.3g}" for v in x["direction"]) + ")",
                       x["motion"] or "—",
                       "; ".join(f"{k.replace('_', ' ')} {num(v, units.get(k, ''))}" for k, v in x["limits"].items()) or "—"]
                      for x in s["cases"]]))
+    grows = [x for x in s["cases"] if x.get("payload_growth")]
+    if grows:
+        con.print("load per payload mass m_p (the payload objective reads each case's force as kg carried): "
+                  + "; ".join(f"{x['name']} {num(x['payload_growth']['fixed_load'], 'N')} + "
+                              f"{x['payload_growth']['payload_share']:g}·m_p·g" for x in grows))
     req = s["requirements"]
     line = f"total actuator mass ≤ {num(req['total_mass_max'], 'kg')}" if math.isfinite(req["total_mass_max"]) else "no total mass budget"
     con.print("requirements: " + line)
