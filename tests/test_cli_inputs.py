@@ -180,6 +180,8 @@ BAD = [
         "check", "project.toml", "case[3].payload_share", "unknown field"),
     Bad("stroke and acceleration together", (("project.toml", 'stroke = "0.1 m"', 'stroke = "0.1 m"\nacceleration = "5 m/s^2"'),),
         "check", "project.toml", "case[4].stroke", "not both"),
+    Bad("tip force in kg", (("project.toml", 'stroke = "0.1 m"', 'stroke = "0.1 m"\ntip_force = [0, 0, "2 kg"]'),),
+        "check", "project.toml", "case[4].tip_force[2]", "convertible to N"),
     Bad("zero stroke", (("project.toml", 'stroke = "0.1 m"', 'stroke = "0 m"'),),
         "check", "project.toml", "case[4].stroke", "must be > 0"),
     # --- URDF ------------------------------------------------------------------------------

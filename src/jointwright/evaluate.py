@@ -259,7 +259,7 @@ class Evaluator:
         """End-point speed along u under the case's load, acceleration from rest, no-load speed.
 
         Load: gravity of links and actuators, the payload mass at the frame (its weight and, with
-        ``acceleration``, its inertia), M·q̈ for the commanded end-point acceleration and the
+        ``acceleration``, its inertia), the force the tip exerts (``tip_force``), M·q̈ for the commanded end-point acceleration and the
         Coriolis and centrifugal torques of the motion (base held, as for payload cases; the
         joints move along q̇ = J⁺·u·v, q̈ = J⁺·u·acceleration). Motors: torque–speed envelope at the hot winding
         (corner-point envelope without electrical data), each joint in its power-flow mode.
@@ -271,7 +271,7 @@ class Evaluator:
         a = np.linalg.pinv(pc.Jj) @ pc.u
         g_vec = self.robot.gravity
         weight = case.payload_mass * (-g_vec)  # force the tip exerts to carry the payload, N
-        tau_rest = self._bias(pc, d) + pc.Jj.T @ weight
+        tau_rest = self._bias(pc, d) + pc.Jj.T @ (weight + np.asarray(case.tip_force, dtype=float))
         tau_per_acc = M @ a + case.payload_mass * (pc.Jj.T @ pc.u)
         acc = case.acceleration
         known = ~(np.isnan(d.torque_constant) | np.isnan(d.resistance) | np.isnan(d.bus_voltage))

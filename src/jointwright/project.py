@@ -60,6 +60,9 @@ class Case:
     payload_share: float = 1.0
     #: speed cases: mass carried at the frame (kg; its weight, and its inertia when accelerating)
     payload_mass: float = 0.0
+    #: speed cases: force the end point exerts on the environment during the motion (N, world
+    #: axes), e.g. pushing a cart or pressing a tool; added to the payload's weight
+    tip_force: tuple[float, float, float] = (0.0, 0.0, 0.0)
     #: speed cases: end-point acceleration along ``direction`` held during the motion (m/s²)
     acceleration: float = 0.0
     #: speed cases: distance along ``direction`` over which the end point gets up to speed from
@@ -338,6 +341,7 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
     payload_mass = t.quantity("payload_mass", "mass", 0.0, sign="nonnegative") if kind == "speed" else 0.0
     acceleration = t.quantity("acceleration", "acceleration", 0.0, sign="nonnegative") if kind == "speed" else 0.0
     stroke = t.quantity("stroke", "length", 0.0, sign="positive") if kind == "speed" and t.has("stroke") else 0.0
+    tip_force = t.vector("tip_force", 3, (0.0, 0.0, 0.0), "force") if kind == "speed" else (0.0, 0.0, 0.0)
     if stroke > 0 and acceleration > 0:
         raise InputError(t.file, t.field("stroke"), "give either stroke (reach the speed from rest within "
                          "it) or acceleration (keep accelerating at speed), not both")
@@ -358,7 +362,7 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
     return Case(name=name, kind=kind, frame=frame, pose=pose, base_xyz=base_xyz, base_rpy=base_rpy,
                 direction=direction, motion=motion, trajectory=trajectory, ambient=ambient,
                 tip_speed=tip_speed, limits=limits, weight_equivalent=weight, contacts=contacts,
-                payload_mass=payload_mass, acceleration=acceleration, stroke=stroke, fixed_load=fixed_load,
+                payload_mass=payload_mass, acceleration=acceleration, stroke=stroke, tip_force=tip_force, fixed_load=fixed_load,
                 payload_share=payload_share)
 
 
