@@ -259,10 +259,12 @@ class Evaluator:
         """End-point speed along u under the case's load, acceleration from rest, no-load speed.
 
         Load: gravity of links and actuators, the payload mass at the frame (its weight and, with
-        ``acceleration``, its inertia), the force the tip exerts (``tip_force``), M·q̈ for the commanded end-point acceleration and the
-        Coriolis and centrifugal torques of the motion (base held, as for payload cases; the
-        joints move along q̇ = J⁺·u·v, q̈ = J⁺·u·acceleration). Motors: torque–speed envelope at the hot winding
-        (corner-point envelope without electrical data), each joint in its power-flow mode.
+        ``acceleration``, its inertia), the force the tip exerts (``tip_force``), M·q̈ for the
+        commanded end-point acceleration and the Coriolis and centrifugal torques of links and
+        actuators (base held, as for payload cases; the joints move along q̇ = J⁺·u·v,
+        q̈ = J⁺·u·acceleration). Motors: torque–speed envelope at the hot winding (corner-point
+        envelope without electrical data), each joint in its power-flow mode. With ``stroke``,
+        ``speed`` is the speed reached from rest within it (metrics.speed.speed_within_stroke).
         """
         case = pc.case
         n_act = len(self.v_index)
