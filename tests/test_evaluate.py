@@ -227,7 +227,7 @@ def test_speed_case_under_load_matches_pinocchio_terms(arm):
 
     project, design = arm
     base = next(c for c in project.cases if c.kind == "speed")
-    case = dc.replace(base, payload_mass=2.0, acceleration=3.0)
+    case = dc.replace(base, payload_mass=2.0, acceleration=3.0, stroke=0.0, tip_force=(5.0, -3.0, 2.0))
     project = dc.replace(project, cases=(case,))
     H, g, J = _pin_terms(project, design, case, np.zeros(len(design.actuators)))
     robot = project.robot
@@ -242,7 +242,7 @@ def test_speed_case_under_load_matches_pinocchio_terms(arm):
     v[v_idx] = a
     c2 = (pin.rnea(model, data, q, v, np.zeros(robot.nv)) - pin.rnea(model, data, q, 0 * v, 0 * v))[v_idx]
     weight = -case.payload_mass * robot.gravity
-    tau_rest = g[v_idx] + Jj.T @ weight
+    tau_rest = g[v_idx] + Jj.T @ (weight + np.array([5.0, -3.0, 2.0]))
     per_acc = H[np.ix_(v_idx, v_idx)] @ a + case.payload_mass * Jj.T @ u
     arrays = arrays_from_designs([design])
     motor = dict(peak_torque=arrays.motor_peak_torque[0], max_speed=arrays.motor_max_speed[0],
@@ -263,7 +263,17 @@ def test_speed_case_under_load_matches_pinocchio_terms(arm):
     k = int(ev["limiting_joint"][0])
     assert ev["speed"][0] == pytest.approx(ev["motor_speed"][0, k] / arrays.ratio[0, k] / abs(a[k]), rel=1e-9)
     assert np.all(ev["motor_speed"][0] <= arrays.motor_max_speed[0] * (1 + 1e-12))
-    # a heavier payload never makes the tool faster or quicker to accelerate
+    # a heavier payload never makes the tool faster or quicker to accelerate (same tip force)
     heavy = dc.replace(case, payload_mass=6.0)
     ev6 = Evaluator(dc.replace(project, cases=(heavy,))).evaluate(arrays)[case.name]
     assert ev6["speed"][0] <= ev["speed"][0] and ev6["acceleration"][0] < ev["acceleration"][0]
+    # within a stroke: the same terms through speed_within_stroke, never above the steady speed
+    from jointwright.metrics.speed import speed_within_stroke
+
+    stroke = dc.replace(case, acceleration=0.0, stroke=0.2, tip_force=(0.0, 0.0, 0.0))
+    evs = Evaluator(dc.replace(project, cases=(stroke,))).evaluate(arrays)[case.name]
+    within = speed_within_stroke(Jj, g[v_idx] + Jj.T @ weight, per_acc, u, arrays.ratio[0], 0.2, tau_per_speed2=c2,
+                                 **trans, **motor)
+    assert evs["speed"][0] == pytest.approx(float(within.speed), rel=1e-9)
+    assert 0 < evs["speed"][0] < evs["speed_steady"][0] <= evs["speed_no_load"][0]
+    assert evs["stroke_time"][0] > 0.2 / evs["speed_steady"][0]

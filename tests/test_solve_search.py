@@ -285,3 +285,36 @@ def test_impact_limits_and_budgets_match_enumeration(leg, seed, kind):
                                   max_stages=1, stage_kinds=None, objective={}, cases=cases)
     project = set_limits(project, rng, build_table(project), keep_duty=False)
     agree(project, kind)
+
+
+@settings(max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(seed=st.integers(0, 2**31 - 1))
+def test_payload_mass_objective_matches_enumeration_with_case_transforms(arm, seed):
+    # each payload case reads its force as a payload mass through its own increasing transform
+    # (F − fixed_load)/(payload_share·g_n); the search's bounds apply the same transform before
+    # combining cases, so its optimum must equal exhaustive enumeration (share 0: constraint only)
+    from jointwright.problem import carried_payload
+
+    rng = np.random.default_rng(seed)
+    robot = planar_arm(rng)
+    pose = {f"j{i}": float(v) for i, v in enumerate(rng.uniform(-1.2, 1.2, 3))}
+    up = (0.0, 0.0, 1.0)
+    side = (float(np.cos(rng.uniform(0, np.pi))), 0.0, float(np.sin(rng.uniform(0, np.pi))))
+    shares = [float(rng.choice([0.0, 0.25, 1.0, 3.0])), float(rng.choice([0.25, 1.0, 3.0]))]
+    fixed = [float(rng.uniform(0, 30)), float(rng.uniform(0, 30))]
+    cases = (
+        Case("lift", "payload", "tip", pose, direction=up, motion="along", limits={"payload_min": 1.0},
+             fixed_load=fixed[0], payload_share=shares[0]),
+        Case("press", "payload", "tip", pose, direction=side, motion="against", limits={"payload_min": 1.0},
+             fixed_load=fixed[1], payload_share=shares[1]),
+        Case("move", "speed", "tip", pose, direction=side, limits={"speed_min": 0.1}),
+    )
+    project = dataclasses.replace(arm, robot=robot, cases=cases, catalog=small_catalog(arm.catalog, rng),
+                                  max_stages=1, stage_kinds=None, objective={}, requirements=Requirements())
+    project = set_limits(project, rng, build_table(project))
+    res = agree(project, "payload")
+    if res.status == "optimal":
+        # the reported objective is the smallest carried payload over the cases, in kg
+        metrics = {c.name: c.metrics for c in res.assessment.cases}
+        carried = [float(carried_payload(c, metrics[c.name]["payload"])) for c in cases[:2]]
+        assert res.objective == pytest.approx(min(carried), rel=1e-9, abs=1e-9)

@@ -9,7 +9,7 @@ import numpy as np
 
 from .design import Design, arrays_from_designs
 from .evaluate import Evaluator
-from .problem import checks, feasible
+from .problem import carried_payload, checks, feasible
 
 CAUTION = (
     "Concept-stage sizing aid. Verify every selection against the supplier's data and by test. "
@@ -159,6 +159,9 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
                 metrics.update({f"{k}:{n}": float(x) for n, x in zip(names, v[0])})
             elif v.ndim >= 1 and v.shape[0] == 1:
                 metrics[k] = v.reshape(-1)[0].item()
+        if case.kind in ("payload", "stance") and "payload" in metrics:
+            # the robot payload mass this case's force carries (problem.carried_payload), kg
+            metrics["payload_carried"] = float(carried_payload(case, metrics["payload"]))
         note = _zero_payload_note(project, case, metrics, limiting)
         cases.append(CaseResult(case.name, case.kind, metrics, limiting, modes, note))
     cl = checks(project, arrays, ev)

@@ -41,7 +41,7 @@ from .metrics.inertia import effective_mass, forward_effective_mass, impact_miti
 from .metrics.linalg_small import inv_small
 from .metrics.payload import payload_along, torque_bounds
 from .metrics.speed import (acceleration_from_rest, endpoint_speed, loaded_endpoint_speed,
-                            payload_at_speed)
+                            payload_at_speed, speed_within_stroke)
 from .robot.basis import gravity, mass_matrix, pose_basis
 
 #: joint velocity components below this fraction of the largest count as zero (holding)
@@ -326,10 +326,12 @@ class Evaluator:
         """End-point speed along u under the case's load, acceleration from rest, no-load speed.
 
         Load: gravity of links and actuators, the payload mass at the frame (its weight and, with
-        ``acceleration``, its inertia), M·q̈ for the commanded end-point acceleration and the
-        Coriolis and centrifugal torques of the motion (base held, as for payload cases; the
-        joints move along q̇ = J⁺·u·v, q̈ = J⁺·u·acceleration). Motors: torque–speed envelope at the hot winding
-        (corner-point envelope without electrical data), each joint in its power-flow mode.
+        ``acceleration``, its inertia), the force the tip exerts (``tip_force``), M·q̈ for the
+        commanded end-point acceleration and the Coriolis and centrifugal torques of links and
+        actuators (base held, as for payload cases; the joints move along q̇ = J⁺·u·v,
+        q̈ = J⁺·u·acceleration). Motors: torque–speed envelope at the hot winding (corner-point
+        envelope without electrical data), each joint in its power-flow mode. With ``stroke``,
+        ``speed`` is the speed reached from rest within it (metrics.speed.speed_within_stroke).
         """
         case = pc.case
         n_act = len(self.v_index)
@@ -338,7 +340,7 @@ class Evaluator:
         a = np.linalg.pinv(pc.Jj) @ pc.u
         g_vec = self.robot.gravity
         weight = case.payload_mass * (-g_vec)  # force the tip exerts to carry the payload, N
-        tau_rest = self._bias(pc, d) + pc.Jj.T @ weight
+        tau_rest = self._bias(pc, d) + pc.Jj.T @ (weight + np.asarray(case.tip_force, dtype=float))
         tau_per_acc = M @ a + case.payload_mass * (pc.Jj.T @ pc.u)
         acc = case.acceleration
         known = ~(np.isnan(d.torque_constant) | np.isnan(d.resistance) | np.isnan(d.bus_voltage))
@@ -355,7 +357,14 @@ class Evaluator:
                                        joint_acceleration=np.broadcast_to(a * acc, (n_act,)),
                                        **trans, **motor)
         accel = acceleration_from_rest(pc.Jj, tau_rest, tau_per_acc, pc.u, d.ratio, **trans, **motor)
-        out = {"speed": loaded.speed, "limiting_joint": loaded.limiting_joint,
+        speed, limiting = loaded.speed, loaded.limiting_joint
+        extra = {}
+        if case.stroke > 0:
+            within = speed_within_stroke(pc.Jj, tau_rest, tau_per_acc, pc.u, d.ratio, case.stroke,
+                                         tau_per_speed2=c2, **trans, **motor)
+            speed, limiting = within.speed, within.limiting_joint
+            extra = {"speed_steady": loaded.speed, "stroke_time": within.time}
+        out = {"speed": speed, "limiting_joint": limiting, **extra,
                "carries_load": loaded.carries_load,
                "acceleration": accel.acceleration,
                "acceleration_limiting_joint": accel.limiting_joint}

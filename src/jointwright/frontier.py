@@ -38,7 +38,7 @@ STEP = 1e-7
 
 @dataclass(frozen=True)
 class FrontierPoint:
-    payload: float  # N, the worst payload over the payload cases
+    payload: float  # kg, the payload mass every payload and stance case carries
     measure: float  # the measure of the frontier's case
     design: object  # Design
     mass: float  # kg
@@ -213,12 +213,16 @@ def _solve(project, kind: str, payload_floor, time_limit, upper, backend):
     from .sizing import build_model, design_of, read_objective, units_of
     from .solve.search import BranchAndBound
 
+    from .problem import load_for_payload
+
     p = project
     if payload_floor is not None:
-        floor = payload_floor * (1 - 1e-9) - 1e-12
+        # the floor is a payload mass (kg); each case must reach the force that carries it
+        floor = payload_floor - 1e-9 * abs(payload_floor) - 1e-12
         p = dataclasses.replace(project, cases=tuple(
-            dataclasses.replace(c, limits={**c.limits, "payload_min": max(floor, c.limits.get("payload_min", 0.0))})
-            if c.kind == "payload" else c for c in project.cases))
+            dataclasses.replace(c, limits={**c.limits, "payload_min": max(
+                float(load_for_payload(c, floor)), c.limits.get("payload_min", 0.0))})
+            if c.kind == "payload" and c.payload_share > 0 else c for c in project.cases))
     cfg = read_objective(project)
     model, _ = build_model(p, kind, cfg["pin"], cfg["exclude"], cfg["shared"])
     units = units_of(model.n, model.shared)

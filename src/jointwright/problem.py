@@ -13,7 +13,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .project import CASE_LIMITS
+from .project import CASE_LIMITS, STANDARD_GRAVITY
 
 #: achieved value per case-limit key: (metric name in the evaluation, unit shown)
 _CASE_METRIC = {
@@ -103,15 +103,51 @@ def payload_cases(project) -> list[str]:
     return [c.name for c in project.cases if c.kind in ("payload", "stance")]
 
 
+def carried_payload(case, force) -> np.ndarray:
+    """The robot payload mass (kg) a case's achieved force carries.
+
+    The case states required(m_p) = fixed_load + payload_share·m_p·g_n, so the force F carries
+    m_p = (F − fixed_load)/(payload_share·g_n): increasing in F (the transform the optimizer
+    applies to each case's payload bound). Negative when F does not even reach the fixed load;
+    +inf for a case with payload_share = 0 (its load does not grow with the payload, so it does
+    not limit the payload mass; its payload_min still constrains).
+    """
+    f = np.asarray(force, dtype=float)
+    if case.payload_share <= 0:
+        return np.full(f.shape, np.inf)
+    with np.errstate(invalid="ignore"):
+        return (f - case.fixed_load) / (case.payload_share * STANDARD_GRAVITY)
+
+
+def load_for_payload(case, mass) -> np.ndarray:
+    """Force (N) the case must reach to carry a payload mass (kg): the inverse of
+    :func:`carried_payload` (0 payload share: the fixed load)."""
+    return case.fixed_load + case.payload_share * STANDARD_GRAVITY * np.asarray(mass, dtype=float)
+
+
+def payload_objective_cases(project) -> list:
+    """Payload and stance cases whose load grows with the payload (payload_share > 0)."""
+    return [c for c in project.cases if c.kind in ("payload", "stance") and c.payload_share > 0]
+
+
+def payload_mass(project, evaluation) -> np.ndarray:
+    """The payload mass every case carries (kg), (D,): min over the payload and stance cases of
+    :func:`carried_payload` of each case's achieved force. Cases not in ``evaluation`` (a screen
+    without the stance cases) are left out, which can only raise the value."""
+    values = [carried_payload(c, evaluation[c.name]["payload"]) for c in payload_objective_cases(project)
+              if c.name in evaluation]
+    return np.min(values, axis=0)
+
+
 def objective(project, arrays, evaluation, kind: str = "payload") -> np.ndarray:
     """Objective values to maximize, (D,).
 
-    payload: the worst payload over the payload cases (N); mass: minus total actuator mass (kg);
-    imf: the worst impact mitigation factor over the impact cases.
+    payload: the payload mass every payload and stance case carries (kg, :func:`payload_mass`);
+    mass: minus total actuator mass (kg); imf: the worst impact mitigation factor over the
+    impact cases.
     """
     if kind == "payload":
-        names = payload_cases(project)
-        return np.min([np.asarray(evaluation[n]["payload"], dtype=float) for n in names], axis=0)
+        return payload_mass(project, evaluation)
     if kind == "mass":
         return -arrays.mass.sum(axis=1)
     if kind == "imf":

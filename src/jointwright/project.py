@@ -53,10 +53,22 @@ class Case:
     #: payload cases: end-point speed (m/s) during the motion; the motors' torque–speed
     #: envelope at that speed then sets the capacity (0 = static capacity)
     tip_speed: float = 0.0
+    #: payload and stance cases: how the required load grows with the robot's payload mass m_p:
+    #: required = fixed_load + payload_share·m_p·g_n (N); the payload-mass objective reads the
+    #: case's achieved force F as the payload it carries, (F − fixed_load)/(payload_share·g_n).
+    #: payload_share = 0: the load does not grow with the payload (a constraint only)
+    fixed_load: float = 0.0
+    payload_share: float = 1.0
     #: speed cases: mass carried at the frame (kg; its weight, and its inertia when accelerating)
     payload_mass: float = 0.0
+    #: speed cases: force the end point exerts on the environment during the motion (N, world
+    #: axes), e.g. pushing a cart or pressing a tool; added to the payload's weight
+    tip_force: tuple[float, float, float] = (0.0, 0.0, 0.0)
     #: speed cases: end-point acceleration along ``direction`` held during the motion (m/s²)
     acceleration: float = 0.0
+    #: speed cases: distance along ``direction`` over which the end point gets up to speed from
+    #: rest (m); 0 = the steady loaded speed, however long it takes to reach
+    stroke: float = 0.0
     #: requirement name -> limit, e.g. {"payload_min": 150.0} (SI)
     limits: dict[str, float] = field(default_factory=dict)
     #: for payload cases: the force is reported as a mass too when the direction is vertical
@@ -383,8 +395,17 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
     tip_speed = t.quantity("tip_speed", "velocity", 0.0, sign="nonnegative") if kind == "payload" else 0.0
     if tip_speed > 0 and motion == "hold":
         raise InputError(t.file, t.field("tip_speed"), "a payload held still has no tip speed; use motion = along or against")
+    fixed_load, payload_share = 0.0, 1.0
+    if kind in ("payload", "stance"):
+        fixed_load = _force_or_weight(t, "fixed_load") if t.has("fixed_load") else 0.0
+        payload_share = t.quantity("payload_share", "dimensionless", 1.0, sign="nonnegative")
     payload_mass = t.quantity("payload_mass", "mass", 0.0, sign="nonnegative") if kind == "speed" else 0.0
     acceleration = t.quantity("acceleration", "acceleration", 0.0, sign="nonnegative") if kind == "speed" else 0.0
+    stroke = t.quantity("stroke", "length", 0.0, sign="positive") if kind == "speed" and t.has("stroke") else 0.0
+    tip_force = t.vector("tip_force", 3, (0.0, 0.0, 0.0), "force") if kind == "speed" else (0.0, 0.0, 0.0)
+    if stroke > 0 and acceleration > 0:
+        raise InputError(t.file, t.field("stroke"), "give either stroke (reach the speed from rest within "
+                         "it) or acceleration (keep accelerating at speed), not both")
     limits = {}
     for key, (dim, _sense) in CASE_LIMITS[kind].items():
         if t.has(key):
@@ -402,7 +423,8 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
     return Case(name=name, kind=kind, frame=frame, pose=pose, base_xyz=base_xyz, base_rpy=base_rpy,
                 direction=direction, motion=motion, trajectory=trajectory, ambient=ambient,
                 tip_speed=tip_speed, limits=limits, weight_equivalent=weight, contacts=contacts,
-                payload_mass=payload_mass, acceleration=acceleration)
+                payload_mass=payload_mass, acceleration=acceleration, stroke=stroke, tip_force=tip_force, fixed_load=fixed_load,
+                payload_share=payload_share)
 
 
 def _force_or_weight(t: Table, key: str) -> float:

@@ -19,7 +19,7 @@ from .assessment import assess
 from .design import Design, arrays_from_designs
 from .errors import InputError
 from .options import JointCandidates, OutOfTime, build_table, joint_candidates
-from .problem import OBJECTIVES
+from .problem import OBJECTIVES, payload_objective_cases
 from .solve.model import SizingModel
 from .solve.result import SizingResult, SolveOutcome, relative_gap
 
@@ -229,7 +229,8 @@ def size(project, *, objective=None, backend="search", time_limit=None, pins=Non
     Parameters
     ----------
     project : Project
-    objective : "payload" (maximize the worst payload over payload cases, N), "mass" (minimize
+    objective : "payload" (maximize the payload mass every payload and stance case carries, kg,
+        problem.payload_mass), "mass" (minimize
         total actuator mass, kg) or "imf" (maximize the worst IMF); None: the project's
         ``[objective] maximize``, else "payload".
     backend : "search" (exact branch and bound), "pyomo" (MILP with HiGHS and lazy cuts) or
@@ -282,6 +283,9 @@ def size(project, *, objective=None, backend="search", time_limit=None, pins=Non
 def _check_objective_cases(project, kind: str) -> None:
     if kind == "payload" and not any(c.kind in ("payload", "stance") for c in project.cases):
         raise InputError(str(project.file), "case", "objective payload needs at least one payload or stance case")
+    if kind == "payload" and not payload_objective_cases(project):
+        raise InputError(str(project.file), "case", "objective payload (the payload mass every case carries) "
+                         "needs a payload or stance case with payload_share > 0")
     if kind == "imf" and not (project.robot.n_base == 6 and any(c.kind == "impact" for c in project.cases)):
         raise InputError(str(project.file), "objective.maximize",
                          "objective imf needs a floating base and at least one impact case")
@@ -339,7 +343,8 @@ def finish(project, model, cands, outcome: SolveOutcome, kind, backend, start, e
 
 
 def _message(status, kind, value, diag) -> str:
-    unit = {"payload": "N", "mass": "kg", "imf": ""}[kind]
+    unit = {"payload": "kg", "mass": "kg", "imf": ""}[kind]
+    kind = "payload mass" if kind == "payload" else kind
     if status == "optimal":
         return f"proven optimum over the discrete options: {kind} {value:.6g} {unit}".rstrip()
     if status == "time_limit" and value is None:

@@ -53,7 +53,9 @@ def project_summary(p, evaluator=None) -> dict:
         },
         "cases": [
             {"name": c.name, "kind": c.kind, "frame": c.frame, "direction": c.direction,
-             "motion": c.motion if c.kind == "payload" else None, "limits": c.limits}
+             "motion": c.motion if c.kind == "payload" else None, "limits": c.limits,
+             "payload_growth": ({"fixed_load": c.fixed_load, "payload_share": c.payload_share}
+                                if c.kind in ("payload", "stance") else None)}
             for c in p.cases
         ],
         "requirements": {
@@ -107,7 +109,8 @@ def command(project: Path, as_json: bool):
                       f"{t['ratio_range'][0]:g} to {t['ratio_range'][1]:g} (continuous)",
                       t["efficiency"]] for t in c["stage_types"]]))
     units = {"payload_min": "N", "imf_min": "", "directional_imf_min": "", "effective_mass_max": "kg",
-             "backdrive_force_max": "N", "speed_min": "m/s", "temperature_margin_min": "K"}
+             "backdrive_force_max": "N", "speed_min": "m/s", "acceleration_min": "m/s²",
+             "temperature_margin_min": "K"}
     more = len(s["cases"]) - SHOWN_CASES
     con.print(table("Cases", ["case", "kind", "frame", "direction", "motion", "requirements"],
                     [[x["name"], x["kind"], x["frame"] or "—",
@@ -117,6 +120,11 @@ def command(project: Path, as_json: bool):
                      for x in s["cases"][:SHOWN_CASES]],
                     caption=f"the first {SHOWN_CASES} of {len(s['cases']):,} cases; --json lists all"
                     if more > 0 else None))
+    grows = [x for x in s["cases"] if x.get("payload_growth")]
+    if grows:
+        con.print("load per payload mass m_p (the payload objective reads each case's force as kg carried): "
+                  + "; ".join(f"{x['name']} {num(x['payload_growth']['fixed_load'], 'N')} + "
+                              f"{x['payload_growth']['payload_share']:g}·m_p·g" for x in grows))
     req = s["requirements"]
     line = f"total actuator mass ≤ {num(req['total_mass_max'], 'kg')}" if math.isfinite(req["total_mass_max"]) else "no total mass budget"
     con.print("requirements: " + line)

@@ -26,14 +26,14 @@ def print_frontier(f) -> None:
     costs = any(p.design.cost > 0 for p in f.points)  # the catalog gives costs
     for i, p in enumerate(f.points):
         mark = " [bold]knee[/bold]" if i == f.knee else ""
-        rows.append([str(i) + mark, num(p.payload, "N"), num(p.measure, UNITS[f.measure]), num(p.mass, "kg")]
+        rows.append([str(i) + mark, num(p.payload, "kg"), num(p.measure, UNITS[f.measure]), num(p.mass, "kg")]
                     + ([num(p.design.cost)] if costs else [])
                     + [", ".join(p.changes) or ("—" if i else "first point"),
                        "; ".join(f"{j}: {a.label()}" for j, a in zip(p.design.joints, p.design.actuators))])
     caption = ("each point: the largest payload with the measure at least this good; every other requirement of "
                "the project is kept" + ("; cost in the catalog's currency units" if costs else ""))
     con.print(table("Frontier (largest payload first)",
-                    ["#", "payload", f.measure, "mass"] + (["cost"] if costs else []) + ["joints changed", "design"],
+                    ["#", "payload mass", f.measure, "mass"] + (["cost"] if costs else []) + ["joints changed", "design"],
                     rows, caption=caption))
     con.print("[yellow]caution:[/yellow] back-drivability figures are concept-stage estimates; contact safety "
               "must be assessed under the applicable collaborative-robot and machinery safety standards.")
@@ -89,8 +89,8 @@ def command(project: Path, measure, case_name, method, points, time_limit, as_js
         if ideal is not None:
             con = console()
             con.print(f"frictionless gears: {len(ideal.points)} non-dominated designs; largest payload "
-                      f"{num(ideal.points[0].payload if ideal.points else None, 'N')} against "
-                      f"{num(f.points[0].payload if f.points else None, 'N')} with the catalog's efficiencies")
+                      f"{num(ideal.points[0].payload if ideal.points else None, 'kg')} against "
+                      f"{num(f.points[0].payload if f.points else None, 'kg')} with the catalog's efficiencies")
         if out is not None:
             console().print(f"frontier written to {out}")
         if plot_dir is not None:
@@ -122,7 +122,7 @@ def write_plot(f, ideal, folder: Path) -> None:
     better = "higher is more back-drivable" if f.sense == "min" else "lower is more back-drivable"
     fig = figures.frontier_figure(
         series, knee, x_label=f"{label}{f' ({unit})' if unit else ''} at case {f.case}; {better}",
-        y_label="payload, worst over the payload cases (N)",
+        y_label="payload mass every payload case carries (kg)",
         title=f"Payload versus {label}: non-dominated designs "
               f"({'complete' if f.complete else 'sampled'})",
         steps="pre" if f.sense == "min" else "post")

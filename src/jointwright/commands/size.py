@@ -13,7 +13,7 @@ from ..project import load_project
 from ._format import console, emit_json, num, pct, requirement_num, table
 from ._output import check_target, project_inputs, write_text
 
-UNITS = {"payload": "N", "mass": "kg", "imf": ""}
+UNITS = {"payload": "kg", "mass": "kg", "imf": ""}
 
 
 class Progress:
@@ -51,7 +51,21 @@ class Progress:
             self.status.stop()
 
 
-def print_result(r) -> None:
+def payload_rows(project, assessment) -> list[list[str]]:
+    """Per payload/stance case: the force reached (N) and the payload mass it carries (kg)."""
+    rows = []
+    for c in assessment.cases:
+        if c.kind not in ("payload", "stance"):
+            continue
+        case = project.case(c.name)
+        share = case.payload_share
+        carried = c.metrics.get("payload_carried")
+        rows.append([c.name, num(c.metrics.get("payload"), "N"), num(case.fixed_load, "N"), f"{share:g}",
+                     "not limiting (share 0)" if share == 0 else num(carried, "kg")])
+    return rows
+
+
+def print_result(r, project=None) -> None:
     from .assess import print_assessment
 
     con = console()
@@ -61,6 +75,10 @@ def print_result(r) -> None:
               f"gap {pct(r.gap) if r.gap == r.gap else '—'}; {r.seconds:.2f} s; {r.native_status}")
     con.print("options per joint after its own filters: "
               + ", ".join(f"{j} {k}" for j, k in r.options.items()))
+    if r.objective_kind == "payload" and r.assessment is not None and project is not None:
+        con.print(table("Payload mass carried per case (the objective is the smallest)",
+                        ["case", "force reached", "fixed load", "share of payload weight", "payload carried"],
+                        payload_rows(project, r.assessment)))
     if r.assessment is not None:
         print_assessment(r.assessment)
     if r.binding:
@@ -120,7 +138,7 @@ def command(project: Path, objective, backend, time_limit, no_explain, out, forc
     if as_json:
         emit_json({**r.to_dict(), "unloaded_joints": list(unloaded)})
     else:
-        print_result(r)
+        print_result(r, p)
         for j in unloaded:
             console().print(f"[yellow]note:[/yellow] no case loads joint {j}: its choice is the "
                             "smallest actuator that meets its own limits, not a sized one")

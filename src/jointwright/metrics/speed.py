@@ -499,26 +499,8 @@ def acceleration_from_rest(J, tau_load, tau_per_acceleration, u, ratio, *, eta_f
     sigma = np.sign(np.where(np.abs(a) > 1e-12 * np.abs(a).max(-1, keepdims=True), a, 0.0))
     ir = np.asarray(rotor_inertia, dtype=float)
     limit = np.broadcast_to(_standstill_torque(motor), t0.shape)
-    # break point where τ_j changes sign (the joint's mode may switch there)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        brk = np.where(k != 0, -t0 / k, -1.0)
-    brk = np.where(brk > 0, brk, np.inf)
-
-    def piece(start, end):
-        mid = np.where(np.isfinite(end), 0.5 * (start + end), start + 1.0)
-        tj = t0 + k * mid
-        _, mode = _motor_torque(tj, sigma, n, eta_f, eta_b, 0.0)
-        c = _mode_factor(mode, eta_f, eta_b)
-        f0 = c * t0 / n
-        f1 = c * k / n + n * ir * a
-        return _first_exit(start, end, f0, f1, limit)
-
-    zero = np.zeros_like(t0)
-    first = piece(zero, brk)
-    second = piece(np.where(np.isfinite(brk), brk, 0.0), np.full_like(t0, np.inf))
-    motor_exit = np.where(np.isfinite(first), first, np.where(np.isfinite(brk), second, np.inf))
-    gear_exit = _first_exit(zero, np.full_like(t0, np.inf), t0, k, np.broadcast_to(gear, t0.shape))
-    exit_ = np.minimum(motor_exit, gear_exit)
+    exit_ = _acceleration_exits(t0, k, a, sigma, n, eta_f, eta_b, ir, limit, limit,
+                                np.broadcast_to(gear, t0.shape))
     joint = np.argmin(exit_, axis=-1)
     alpha = np.take_along_axis(exit_, joint[..., None], axis=-1)[..., 0]
     carries = alpha > 0
@@ -528,3 +510,150 @@ def acceleration_from_rest(J, tau_load, tau_per_acceleration, u, ratio, *, eta_f
     qdd = a * np.where(np.isfinite(alpha), alpha, 0.0)[..., None]
     return LoadedAcceleration(acceleration=alpha, limiting_joint=joint, carries_load=carries,
                               joint_accelerations=qdd)
+
+
+def _acceleration_exits(t0, k, a, sigma, n, eta_f, eta_b, ir, hi, lo, gear):
+    """Per joint, the first end-point acceleration α ≥ 0 at which the joint leaves its limits.
+
+    τ_j(α) = t0 + k·α; the motor torque by the joint's power-flow law (motoring while
+    τ_j·σ > 0, back-driven otherwise, holding when σ = 0) plus the rotor term N·I_r·a·α;
+    −lo ≤ σ·τ_m ≤ hi (σ = 1 for a joint that does not move) and |τ_j| ≤ gear. The mode can
+    switch once, where τ_j changes sign; each piece is linear in α.
+    """
+    with np.errstate(divide="ignore", invalid="ignore"):
+        brk = np.where(k != 0, -t0 / k, -1.0)
+    brk = np.where(brk > 0, brk, np.inf)
+    s = np.where(sigma == 0, 1.0, sigma)
+    zero = np.zeros_like(t0)
+    inf = np.full_like(t0, np.inf)
+
+    def piece(start, end):
+        mid = np.where(np.isfinite(end), 0.5 * (start + end), start + 1.0)
+        _, mode = _motor_torque(t0 + k * mid, sigma, n, eta_f, eta_b, 0.0)
+        f = _mode_factor(mode, eta_f, eta_b)
+        p0 = s * f * t0 / n
+        p1 = s * (f * k / n + n * ir * a)
+        return np.minimum(_first_rise(start, end, zero, p1, p0 - hi),
+                          _first_rise(start, end, zero, -p1, -p0 - lo))
+
+    first = piece(zero, brk)
+    second = piece(np.where(np.isfinite(brk), brk, 0.0), inf)
+    motor_exit = np.where(np.isfinite(first), first, np.where(np.isfinite(brk), second, np.inf))
+    gear_exit = np.minimum(_first_rise(zero, inf, zero, k, t0 - gear),
+                           _first_rise(zero, inf, zero, -k, -t0 - gear))
+    return np.minimum(motor_exit, gear_exit)
+
+
+@dataclass(frozen=True)
+class StrokeSpeed:
+    """End-point speed reached from rest within a stroke (arrays over ``...``).
+
+    Attributes
+    ----------
+    speed : ndarray (...)
+        Speed reached after accelerating along u over the stroke with the load carried, at
+        each speed as fast as the motors allow (m/s); at most ``steady_speed``.
+    steady_speed : ndarray (...)
+        The loaded speed of :func:`loaded_endpoint_speed` (the motors' limit along the motion).
+    limiting_joint : ndarray of int (...)
+        The joint that limits the acceleration at the reached speed (−1 if none).
+    time : ndarray (...)
+        Time to reach ``speed`` over the stroke, s (conservative like ``speed``).
+    """
+
+    speed: np.ndarray
+    steady_speed: np.ndarray
+    limiting_joint: np.ndarray
+    time: np.ndarray
+
+
+def speed_within_stroke(J, tau_load, tau_per_acceleration, u, ratio, stroke, *, tau_per_speed2=0.0,
+                        eta_f=1.0, eta_b=1.0, rotor_inertia=0.0, gear_rating=math.inf, steps=64,
+                        **motor) -> StrokeSpeed:
+    """Speed the end point reaches from rest along u within a stroke, carrying the load.
+
+    At end-point speed v the largest acceleration along u is α(v): joint torques
+    τ_j = τ_load + v²·c(q, a) + α·(M·a + m_p·Jᵀ·û), each motor inside its envelope at its speed
+    (the limits of :func:`loaded_endpoint_speed`, the rotor term N·I_r·a·α included), |τ_j|
+    within the gear rating. The distance to reach v is x(v) = ∫₀ᵛ w/α(w) dw. On a grid of
+    ``steps`` speeds from 0 to the steady loaded speed v*, each interval is crossed with the
+    smaller of its two end accelerations, so the distance is overestimated and the speed
+    reached within ``stroke`` underestimated wherever α falls with speed (back-EMF and
+    centrifugal torques grow with it); the answer is exact in the limit of a fine grid and
+    never above v* (the last interval, where α → 0, is not crossed). Quasi-static in the joint
+    path: q̇ = a·v, q̈ = a·α with a = J⁺·û at the case's pose (the pose is not advanced along
+    the stroke).
+
+    Parameters are those of :func:`loaded_endpoint_speed` and :func:`acceleration_from_rest`,
+    plus ``stroke`` (m along u, > 0) and ``steps`` (grid size).
+
+    Returns
+    -------
+    StrokeSpeed
+    """
+    stroke = check_positive("stroke", stroke)
+    steady = loaded_endpoint_speed(J, tau_load, u, ratio, tau_per_speed2=tau_per_speed2, eta_f=eta_f,
+                                   eta_b=eta_b, rotor_inertia=rotor_inertia, gear_rating=gear_rating,
+                                   **motor)
+    a, reachable = _direction_rates(J, u)
+    n = check_positive("ratio", ratio)
+    eta_f, eta_b = check_efficiencies(eta_f, eta_b)
+    gear = check_positive("gear_rating", gear_rating, allow_inf=True)
+    t0 = np.asarray(tau_load, dtype=float)
+    c2 = np.asarray(tau_per_speed2, dtype=float)
+    k = np.asarray(tau_per_acceleration, dtype=float)
+    t0, c2, k, a = np.broadcast_arrays(t0, c2, k, a)
+    sigma = np.sign(np.where(np.abs(a) > 1e-12 * np.abs(a).max(-1, keepdims=True), a, 0.0))
+    ir = np.asarray(rotor_inertia, dtype=float)
+    peak = np.broadcast_to(check_positive("peak_torque", motor["peak_torque"]), t0.shape)
+    line = _line(motor.get("torque_constant"), motor.get("resistance"), motor.get("bus_voltage"),
+                 motor.get("winding_temperature", REFERENCE_TEMPERATURE))
+    rate = n * np.abs(a) * (sigma != 0)
+    if line is None:
+        A, B = np.full(t0.shape, np.inf), np.zeros(t0.shape)
+    else:
+        kt, v_bus, r_hot = line
+        A = np.broadcast_to(kt * v_bus / r_hot, t0.shape)
+        B = np.where(np.isfinite(A), np.broadcast_to(kt * kt / r_hot, t0.shape) * rate, 0.0)
+    gear_b = np.broadcast_to(gear, t0.shape)
+    top = np.where(np.isfinite(steady.speed), steady.speed, 0.0)
+    stroke_b = np.broadcast_to(stroke, top.shape)
+
+    def alpha_at(v):
+        vv = v[..., None]
+        hi = np.minimum(peak, A - B * vv)
+        lo = np.minimum(peak, A + B * vv)
+        ex = _acceleration_exits(t0 + c2 * vv * vv, k, a, sigma, n, eta_f, eta_b, ir, hi, lo, gear_b)
+        return ex.min(axis=-1), np.argmin(ex, axis=-1)
+
+    x = np.zeros(top.shape)
+    t = np.zeros(top.shape)
+    reached = np.zeros(top.shape)
+    done = ~(reachable & steady.carries_load) | (top <= 0)
+    joint = np.full(top.shape, -1)
+    prev_alpha, prev_joint = alpha_at(np.zeros(top.shape))
+    for i in range(1, steps + 1):
+        v0, v1 = top * (i - 1) / steps, top * i / steps
+        alpha, jnt = alpha_at(v1)
+        low = np.minimum(prev_alpha, alpha)
+        lim_joint = np.where(prev_alpha <= alpha, prev_joint, jnt)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            dx = np.where(low > 0, (v1 * v1 - v0 * v0) / (2.0 * low), np.inf)
+            dt = np.where(low > 0, (v1 - v0) / low, np.inf)
+        ends = ~done & (x + dx >= stroke_b)
+        with np.errstate(invalid="ignore"):
+            v_end = np.sqrt(np.maximum(v0 * v0 + 2.0 * np.where(low > 0, low, 0.0) * (stroke_b - x), 0.0))
+            t_end = np.where(low > 0, (v_end - v0) / np.where(low > 0, low, 1.0), 0.0)
+        reached = np.where(ends, np.minimum(v_end, v1), reached)
+        t = np.where(ends, t + t_end, t)
+        joint = np.where(ends, lim_joint, joint)
+        go = ~done & ~ends
+        reached = np.where(go, v1, reached)
+        x = np.where(go, x + dx, x)
+        t = np.where(go, t + dt, t)
+        joint = np.where(go, lim_joint, joint)
+        done = done | ends
+        prev_alpha, prev_joint = alpha, jnt
+    reached = np.where(reachable & steady.carries_load, reached, 0.0)
+    joint = np.where(reachable & steady.carries_load, joint, steady.limiting_joint)
+    return StrokeSpeed(speed=reached, steady_speed=steady.speed, limiting_joint=joint, time=t)

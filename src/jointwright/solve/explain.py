@@ -8,7 +8,7 @@ import math
 import numpy as np
 
 from ..problem import checks, feasible, objective
-from ..project import JointLimits, Requirements
+from ..project import STANDARD_GRAVITY, JointLimits, Requirements
 from .result import Alternative, Diagnosis
 
 #: runner-up motors listed per joint
@@ -235,8 +235,10 @@ def _alone(project, model, subject, key, limit, seconds) -> float:
                                    requirements=Requirements(), objective={})
         if seconds <= 0:
             return math.nan
-        res = solve_value(bare, "payload", table=model.table, time_limit=seconds)
-        return res.bound
+        one = dataclasses.replace(bare, cases=(dataclasses.replace(case, limits={}, fixed_load=0.0,
+                                                                  payload_share=1.0),))
+        res = solve_value(one, "payload", table=model.table, time_limit=seconds)
+        return res.bound * STANDARD_GRAVITY  # kg carried with share 1, no fixed load -> N
     if key == "backdrive_force_max":
         absa = next(a for a, _f in model.backdrive)
         with np.errstate(divide="ignore"):

@@ -22,7 +22,7 @@ import numpy as np
 
 from ..evaluate import Evaluator
 from ..metrics.payload import torque_bounds
-from ..problem import checks, feasible, objective
+from ..problem import carried_payload, checks, feasible, objective
 
 #: designs whose duty cases are checked per oracle call
 DUTY_CHUNK = 32
@@ -96,6 +96,9 @@ class SizingModel:
         self.static_evaluator = Evaluator(self.static_project)
         self.payload = tuple(self._payload_terms(pc) for pc in self.evaluator.cases
                              if pc.case.kind == "payload")
+        # the payload objective is the payload mass every case carries: each case's force bound
+        # goes through its own increasing transform (problem.carried_payload) before the min
+        self.carry = tuple(lambda f, c=project.case(t.name): carried_payload(c, f) for t in self.payload)
         self.candidates = [np.asarray(c, dtype=np.int64) for c in candidates]
         self.reflected = table.reflected_backdriven
         self.mass = table.rows["mass"]
@@ -392,8 +395,9 @@ class SizingModel:
         """The objective's value of payload case ``c`` given an upper bound on its payload (N):
         the identity for the payload objective. Any monotone nondecreasing per-case transform
         may replace it; every bound here applies it to each case's bound before the minimum
-        over cases, which keeps the bounds valid."""
-        return bound
+        over cases, which keeps the bounds valid. Here: the payload mass the case carries at
+        that force (:func:`jointwright.problem.carried_payload`), increasing in the force."""
+        return self.carry[c](bound)
 
     def _level_table(self, F: np.ndarray, st: dict):
         """For the free joints F: the candidate levels (every own bound of their options,

@@ -28,6 +28,7 @@ import time
 import numpy as np
 
 from ..errors import InputError
+from ..project import STANDARD_GRAVITY
 from .model import SizingModel, tie_tol
 from .result import SolveOutcome
 
@@ -86,7 +87,9 @@ def build_milp(model: SizingModel, units, deadline=math.inf):
     m.s = pe.Var(bounds=(0, None))
     m.torque = pe.ConstraintList()
     for t in model.payload:
-        levels = [m.s] if model.kind == "payload" else []
+        case = model.project.case(t.name)  # m.s is the payload mass (kg): the force it needs
+        levels = ([case.fixed_load + case.payload_share * STANDARD_GRAVITY * m.s]
+                  if model.kind == "payload" and case.payload_share > 0 else [])
         if t.minimum > 0:
             levels.append(t.minimum)  # the case's own requirement payload_c ≥ payload_min
         for j in range(n):
