@@ -192,10 +192,22 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
 
 
 def _zero_payload_note(project, case, metrics: dict, limiting: str | None) -> str | None:
-    """Why a payload or stance case carries nothing, in words (None when it carries a load)."""
+    """Why a payload, stance or speed case carries nothing, in words (None when it carries)."""
+    robot = project.robot
+    if case.kind == "speed":
+        if metrics.get("carries_load", True):
+            return None
+        if limiting in robot.free:
+            return (f"free joint {limiting} would have to carry torque to hold this load; a free "
+                    "joint holds none (make it held or actuated, or change the pose)")
+        return "the joints cannot carry this load at this pose, even at rest"
     if case.kind not in ("payload", "stance") or metrics.get("payload") != 0.0:
         return None
-    robot = project.robot
+    if case.kind == "payload" and getattr(case, "tip_speed", 0.0) > 0 and limiting in robot.actuated \
+            and metrics.get("self_supporting", True) is False:
+        return (f"at a tip speed of {case.tip_speed:g} m/s joint {limiting}'s motor runs out of torque "
+                "on its torque-speed line (or past its top speed) before it holds the robot's own "
+                "weight: lower the tip speed or give that joint more speed")
     if limiting in robot.free:
         return (f"free joint {limiting} would have to carry torque to hold this load at this pose; a "
                 "free joint holds none (make it held or actuated, or change the pose)")

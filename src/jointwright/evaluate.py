@@ -364,9 +364,23 @@ class Evaluator:
                                          tau_per_speed2=c2, **trans, **motor)
             speed, limiting = within.speed, within.limiting_joint
             extra = {"speed_steady": loaded.speed, "stroke_time": within.time}
+        carries = loaded.carries_load
+        if self.free_index.size:
+            # a free joint carries no torque: a load that needs torque there cannot be carried
+            # (the motion is held still at the free joints; their weight and the load's share)
+            g_free = gravity(pc.basis, d.mass)[..., self.free_index]
+            Jf = pc.J[:, self.free_index]
+            tau_free = g_free + Jf.T @ (weight + np.asarray(case.tip_force, dtype=float))
+            stuck = np.any(np.abs(tau_free) > FREE_JOINT_TOLERANCE, axis=-1)
+            carries = carries & ~stuck
+            speed = np.where(stuck, 0.0, speed)
+            accel_value = np.where(stuck, 0.0, accel.acceleration)
+            limiting = np.where(stuck, len(self.v_index) + np.argmax(np.abs(tau_free), axis=-1), limiting)
+        else:
+            accel_value = accel.acceleration
         out = {"speed": speed, "limiting_joint": limiting, **extra,
-               "carries_load": loaded.carries_load,
-               "acceleration": accel.acceleration,
+               "carries_load": carries,
+               "acceleration": accel_value,
                "acceleration_limiting_joint": accel.limiting_joint}
         if detail:
             out["speed_no_load"] = endpoint_speed(pc.Jj, d.motor_max_speed / d.ratio, pc.u).speed

@@ -311,9 +311,14 @@ def _read_pose(pt: Table, robot) -> dict[str, float]:
                              "more than a full turn; write the unit, e.g. \"90 deg\"")
         lo, hi = robot.position_limits(jn)
         if not lo - 1e-9 <= value <= hi + 1e-9:
-            unit = "rad" if revolute else "m"
-            raise InputError(pt.file, pt.field(jn), f"{value:.6g} {unit} is outside the joint's "
-                             f"limits [{lo:.6g}, {hi:.6g}] {unit} (from {robot.file})")
+            if revolute:
+                got = f"{value:.6g} rad ({math.degrees(value):.4g} deg)"
+                lim = (f"[{lo:.6g}, {hi:.6g}] rad ([{math.degrees(lo):.4g}, "
+                       f"{math.degrees(hi):.4g}] deg)")
+            else:
+                got, lim = f"{value:.6g} m", f"[{lo:.6g}, {hi:.6g}] m"
+            raise InputError(pt.file, pt.field(jn), f"{got} is outside the joint's limits {lim} "
+                             f"(from {robot.file})")
         pose[jn] = value
     missing = [j for j in robot.actuated if j not in pose]
     if missing:

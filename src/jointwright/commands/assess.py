@@ -98,7 +98,10 @@ def print_assessment(a) -> None:
                          "see the directional IMF")
         con.print(table(f"Case {c.name} ({c.kind})", ["metric", "value"], rows))
         if c.kind == "duty":
-            con.print(table(f"Case {c.name}: per joint (steady periodic cycle)", ["quantity"] + joints, drows))
+            for part, cols in enumerate(_column_groups(drows, joints, con.width)):
+                title = f"Case {c.name}: per joint (steady periodic cycle)" + (" (cont.)" if part else "")
+                con.print(table(title, ["quantity"] + [joints[k] for k in cols],
+                                [[r[0]] + [r[1 + k] for k in cols] for r in drows]))
         for line in extra:
             con.print(f"  {line}")
     def shown(c, v):  # a rating use is a fraction, shown in %
@@ -126,3 +129,18 @@ def command(project: Path, design_file: Path, as_json: bool):
         emit_json(a.to_dict())
     else:
         print_assessment(a)
+
+
+def _column_groups(rows: list[list[str]], joints: list[str], width: int) -> list[list[int]]:
+    """Joint columns split into groups whose table fits ``width`` (the label column repeated)."""
+    label = max(len(r[0]) for r in rows) + 3
+    groups, current, used = [], [], label + 1
+    for k, j in enumerate(joints):
+        w = max([len(j)] + [len(r[1 + k]) for r in rows]) + 3
+        if current and used + w > width:
+            groups.append(current)
+            current, used = [], label + 1
+        current.append(k)
+        used += w
+    return groups + [current] if current else groups
+

@@ -102,7 +102,8 @@ def command(project: Path, as_json: bool):
                       num(m["included_mass"], "kg") if m["included_mass"] > 0 else "none"]
                      for j, m in r["mounts"].items()]))
     c = s["catalog"]
-    con.print(table(f"Catalog: {c['motors']} motors, up to {c['max_stages']} stages per joint",
+    stages = "stage" if c["max_stages"] == 1 else "stages"
+    con.print(table(f"Catalog: {c['motors']} motors, up to {c['max_stages']} {stages} per joint",
                     ["stage type", "kind", "frames", "ratios", "efficiency model"],
                     [[t["name"], t["kind"], str(t["frames"]),
                       ", ".join(f"{x:g}" for x in t["ratios"]) if t["ratios"] else

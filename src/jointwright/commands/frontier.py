@@ -25,13 +25,15 @@ def print_frontier(f) -> None:
     rows = []
     costs = any(p.design.cost > 0 for p in f.points)  # the catalog gives costs
     for i, p in enumerate(f.points):
-        mark = " [bold]knee[/bold]" if i == f.knee else ""
+        mark = " ◆" if i == f.knee else ""
         rows.append([str(i) + mark, num(p.payload, "kg"), num(p.measure, UNITS[f.measure]), num(p.mass, "kg")]
                     + ([num(p.design.cost)] if costs else [])
                     + [", ".join(p.changes) or ("—" if i else "first point"),
                        "; ".join(f"{j}: {a.label()}" for j, a in zip(p.design.joints, p.design.actuators))])
     caption = ("each point: the largest payload with the measure at least this good; every other requirement of "
-               "the project is kept" + ("; cost in the catalog's currency units" if costs else ""))
+               "the project is kept" + ("; cost in the catalog's currency units" if costs else "")
+               + ("; ◆ the turning point of the trade-off (farthest from the line joining the two ends)"
+                  if f.knee is not None else ""))
     con.print(table("Frontier (largest payload first)",
                     ["#", "payload mass", f.measure, "mass"] + (["cost"] if costs else []) + ["joints changed", "design"],
                     rows, caption=caption))

@@ -84,12 +84,12 @@ def print_result(r, project=None) -> None:
     if r.binding:
         con.print("[bold]binding requirements[/bold] (smallest margins): " + "; ".join(r.binding))
     if r.alternatives:
-        rows = [[a.joint, a.change, a.actuator,
-                 "—" if a.objective is None else num(a.objective, unit),
-                 "—" if a.loss is None else num(a.loss, unit), f"{a.mass_change:+.3f} kg", a.ruled_out_by or ""]
+        rows = [[a.joint, a.change.replace("other ", ""), a.actuator.replace(" | ", " + "),
+                 a.ruled_out_by or ("—" if a.loss is None else f"{num(a.objective, unit)} (−{num(a.loss, unit)})"),
+                 f"{a.mass_change:+.3f} kg"]
                 for a in r.alternatives]
         con.print(table("Runner-ups per joint (rest of the design kept)",
-                        ["joint", "change", "actuator", "objective", "loss", "Δ mass", "ruled out by"], rows,
+                        ["joint", "other", "actuator", "objective (loss) or ruled out by", "Δ mass"], rows,
                         caption="loss 0: the joint does not limit the objective; the choice was made by "
                                 "the tie-break (least mass, then least back-driven reflected inertia)"))
     if r.diagnosis:

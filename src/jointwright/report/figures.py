@@ -303,7 +303,7 @@ def frontier_figure(series, knee=None, *, x_label: str, y_label: str, title: str
         ax.plot(xs[order], ys[order], marker="o", label=label, drawstyle=f"steps-{steps}",
                 **style)
     if knee is not None:
-        ax.plot(*knee, "o", ms=12, mfc="none", mec="#c0703c", mew=2.0, label="knee point")
+        ax.plot(*knee, "D", ms=11, mfc="none", mec="#c0703c", mew=2.0, label="turning point of the trade-off")
     ax.ticklabel_format(axis="both", useOffset=False)
     _label(ax, x_label, y_label)
     _title(ax, title)

@@ -149,7 +149,7 @@ def frontier_section(data: dict, fig_dir: Path, file: str = "<frontier>") -> Sec
     knee = data.get("knee")
     rows = [[str(k + 1), Cell(fmt(px, x.get("unit", "")), "num"),
              Cell(fmt(py, y.get("unit", "")), "num"), str(p.get("design", "")),
-             str(p.get("changes", "")), "knee" if k == knee else ""]
+             str(p.get("changes", "")), "◆ turning point" if k == knee else ""]
             for k, (p, (px, py)) in enumerate(zip(pts, xy))]
     body = (figure(png, "frontier", "frontier", "Each point is a design no other design beats on "
                    "both axes; the ring is the chosen design.")
