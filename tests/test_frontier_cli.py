@@ -40,12 +40,14 @@ def test_frontier_plot_and_frictionless_comparison(tmp_path):
 def test_report_reads_the_frontier_file_and_marks_the_design(tmp_path):
     from jointwright.report.hooks import frontier_from_sweep
 
-    sweep = {"measure": "imf", "case": "touchdown", "sense": "min", "knee": 1,
-             "points": [{"payload": 240.0, "measure": 0.02, "actuators": {"knee": "A"}, "changes": []},
-                        {"payload": 200.0, "measure": 0.05, "actuators": {"knee": "B"}, "changes": ["knee"]}]}
-    assessment = {"cases": [{"name": "push", "kind": "payload", "metrics": {"payload": 180.0}},
+    # frontier payloads are the payload mass every case carries (kg), and so is the chosen point
+    sweep = {"measure": "imf", "case": "touchdown", "sense": "min", "knee": 1, "complete": False,
+             "points": [{"payload": 24.0, "measure": 0.02, "actuators": {"knee": "A"}, "changes": []},
+                        {"payload": 20.0, "measure": 0.05, "actuators": {"knee": "B"}, "changes": ["knee"]}]}
+    assessment = {"cases": [{"name": "push", "kind": "payload",
+                             "metrics": {"payload": 180.0, "payload_carried": 18.0}},
                             {"name": "touchdown", "kind": "impact", "metrics": {"imf": 0.07}}]}
     data = frontier_from_sweep(sweep, assessment)
-    assert [(p["x"], p["y"]) for p in data["points"]] == [(0.02, 240.0), (0.05, 200.0)]
-    assert data["chosen"] == {"x": 0.07, "y": 180.0}
-    assert data["y"]["unit"] == "N" and data["knee"] == 1
+    assert [(p["x"], p["y"]) for p in data["points"]] == [(0.02, 24.0), (0.05, 20.0)]
+    assert data["chosen"] == {"x": 0.07, "y": 18.0}
+    assert data["y"]["unit"] == "kg" and data["knee"] == 1 and data["complete"] is False

@@ -151,8 +151,12 @@ def frontier_section(data: dict, fig_dir: Path, file: str = "<frontier>") -> Sec
              Cell(fmt(py, y.get("unit", "")), "num"), str(p.get("design", "")),
              str(p.get("changes", "")), "◆ turning point" if k == knee else ""]
             for k, (p, (px, py)) in enumerate(zip(pts, xy))]
-    body = (figure(png, "frontier", "frontier", "Each point is a design no other design beats on "
-                   "both axes; the ring is the chosen design.")
+    caption = ("Each point is a design no other design beats on both axes; the ring is the chosen "
+               "design.")
+    if data.get("complete") is False:
+        caption += (" This frontier is a sample: its computation stopped early (point budget or "
+                    "time limit), so designs between and beyond these points may be missing.")
+    body = (figure(png, "frontier", "frontier", caption)
             + table(["#", xl, yl, "design", "what changes", "note"], rows))
     return Section("frontier", "Payload versus back-drivability frontier", body)
 
@@ -394,10 +398,11 @@ def frontier_from_sweep(data: dict, assessment: dict, file: str = "<frontier>") 
                        "design": "; ".join(f"{j}: {a}" for j, a in p.get("actuators", {}).items()),
                        "changes": ", ".join(p.get("changes", []))})
     out = {"x": {"label": f"{label} at case {case}", "unit": unit},
-           "y": {"label": "payload, worst over the payload cases", "unit": "N"},
-           "points": points, "knee": data.get("knee")}
+           "y": {"label": "payload mass every case carries", "unit": "kg"},
+           "points": points, "knee": data.get("knee"), "complete": data.get("complete", True)}
     cases = {c["name"]: c for c in assessment.get("cases", [])}
-    payloads = [c["metrics"].get("payload") for c in cases.values() if c["kind"] in ("payload", "stance")]
+    payloads = [c["metrics"].get("payload_carried") for c in cases.values()
+                if c["kind"] in ("payload", "stance") and "payload_carried" in c["metrics"]]
     own = cases.get(case, {}).get("metrics", {}).get(measure)
     if payloads and all(isinstance(v, (int, float)) for v in payloads) and isinstance(own, (int, float)):
         out["chosen"] = {"x": float(own), "y": float(min(payloads))}
