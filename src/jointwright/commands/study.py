@@ -6,7 +6,7 @@ from pathlib import Path
 
 import click
 
-from ._format import console, emit_json
+from ._format import console, emit_json, num, table
 
 #: exit status when the study ran but some or all of its cases failed (bad input: 2)
 EXIT_CASES_FAILED = 3
@@ -32,7 +32,7 @@ def command(study: Path, store: Path | None, workers, scheduler, resume, restart
     """Run every case of STUDY (sizing or frontier per case); each finished case is stored at once,
     so an interrupted run loses nothing and --resume goes on where it stopped."""
     from ..errors import InputError
-    from ..study import export_csv, load_study, run_study, summary_table
+    from ..study import export_csv, load_study, run_study
     from ._output import check_target
 
     if workers is not None and scheduler is not None:
@@ -64,15 +64,11 @@ def command(study: Path, store: Path | None, workers, scheduler, resume, restart
     con = console()
     con.print(f"study {study}: {outcome.done_total} done, {outcome.failed_total} failed of "
               f"{outcome.total} cases ({outcome.skipped} already stored); {outcome.wall_time:.1f} s "
-              f"on {outcome.workers} {outcome.backend} workers; results in {outcome.store}")
-    key = ["sizing_status", "objective", "gap", "total_mass", "points", "knee_payload", "knee_measure"]
-    present = set()
-    for row in rows:
-        present.update(row.metrics)
-    shown = [m for m in key if m in present] or None
-    con.print(summary_table(store, shown, max_rows=40))
-    con.print("objective: N for payload, kg for mass, dimensionless for imf; total_mass in kg; "
-              "wall_time in s. All metrics: --csv FILE, or open the SQLite store.")
+              f"on {_slots(outcome.workers, outcome.backend)}; results in {outcome.store}")
+    con.print(case_table(spec.name, rows, max_rows=40))
+    con.print("objective: the payload mass every case carries (kg) when sizing for payload, the "
+              "actuator mass (kg) for mass, the IMF for imf. All metrics: --csv FILE, or open the "
+              "SQLite store.")
     if csv_path is not None:
         con.print(f"summary written to {csv_path}")
     if failures:
@@ -92,3 +88,42 @@ def print_failures(failures: list[dict], stored: int, store: Path) -> None:
         click.echo(f"  {label} [{where}]: {f['error']}", err=True)
     click.echo(f"  all errors and tracebacks: the cases table of {store}; after a fix, run again "
                "with --resume --retry-failed", err=True)
+
+
+#: short status words for the terminal table
+_STATUS = {"optimal": "optimal", "infeasible": "infeasible", "time_limit": "time limit"}
+
+
+def case_table(name: str, rows, *, max_rows: int):
+    """The cases as a table that fits the terminal: the varied values (named by their last path
+    part), status, objective, gap, actuator mass and time; identifiers and every other metric
+    stay in the store and the CSV export."""
+    from ..units import format_number
+
+    params = list(dict.fromkeys(k for r in rows for k in r.params))
+    short = {k: k.rsplit(".", 1)[-1] for k in params}
+    variants = any(r.variant for r in rows)
+    cols = ["#"] + (["variant"] if variants else []) + [short[k] for k in params] + [
+        "status", "objective", "gap", "actuators", "time"]
+    body = []
+    for r in rows[:max_rows]:
+        m = r.metrics
+        status = "failed" if r.status == "failed" else _STATUS.get(m.get("sizing_status"), m.get("sizing_status") or r.status)
+        gap = m.get("gap")
+        body.append([str(r.index + 1)] + ([r.variant or ""] if variants else [])
+                    + [str(r.params.get(k, "")) for k in params]
+                    + [status, format_number(m.get("objective"), 4) if m.get("objective") is not None else "—",
+                       f"{100 * gap:.2g} %" if isinstance(gap, (int, float)) and gap == gap
+                       and abs(gap) != float("inf") else "—",
+                       num(m.get("total_mass"), "kg") if m.get("total_mass") is not None else "—",
+                       f"{r.wall_time:.3g} s" if isinstance(r.wall_time, (int, float)) else "—"])
+    more = len(rows) - max_rows
+    caption = f"the first {max_rows} of {len(rows)} cases" if more > 0 else None
+    return table(f"study {name}", cols, body, caption=caption)
+
+
+def _slots(count: int, backend: str) -> str:
+    """"2 local processes", "1 Dask worker thread"."""
+    kind = "local process" if backend == "processes" else "Dask worker thread"
+    return f"{count} {kind}" + ("" if count == 1 else ("es" if kind.endswith("s") else "s"))
+
