@@ -285,3 +285,30 @@ def test_impact_limits_and_budgets_match_enumeration(leg, seed, kind):
                                   max_stages=1, stage_kinds=None, objective={}, cases=cases)
     project = set_limits(project, rng, build_table(project), keep_duty=False)
     agree(project, kind)
+
+
+@settings(max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(seed=st.integers(0, 2**31 - 1))
+def test_budget_bounds_are_above_the_enumerated_optimum(leg, seed):
+    """The payload bounds that see the mass budget (docs/optimizer.md items 4a and 4b) are never
+    below the optimum found by enumerating every design under a random budget."""
+    from jointwright.sizing import build_model
+
+    rng = np.random.default_rng(seed)
+    cases = tuple(c for c in leg.cases if c.kind != "duty")
+    project = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng, motors=3, ratios=3),
+                                  max_stages=1, stage_kinds=None, objective={}, cases=cases)
+    project = set_limits(project, rng, build_table(project), keep_duty=False)
+    masses = build_table(project).rows["mass"]
+    budget = float(rng.uniform(3 * masses.min(), 3 * masses.max()))
+    project = dataclasses.replace(project, requirements=Requirements(total_mass_max=budget))
+    ref, _ = oracle(project, "payload")
+    if ref.status == "infeasible":
+        return
+    model, _ = build_model(project, "payload", {}, [], [])
+    st_ = model.stats(model.candidates)
+    assert model.budget_cap(st_) >= ref.objective * (1 - 1e-9)
+    root = np.full(model.n, -1, dtype=np.int64)
+    unit = (0,)
+    b = model.child_bounds(root, unit, model.candidates[0], st_)
+    assert b["objective"].max() >= ref.objective * (1 - 1e-9)

@@ -444,7 +444,8 @@ class SizingModel:
             cache[key] = (st["own"], (levels, g_mass, g_cost))
         return levels, g_mass, g_cost
 
-    def budget_cap(self, st: dict, idx: np.ndarray | None = None, rounds: int = 3, steps: int = 40) -> float:
+    def budget_cap(self, st: dict, idx: np.ndarray | None = None, rounds: int = 3, steps: int = 40,
+                   deadline: float = math.inf) -> float:
         """A bound on the payload objective of every design (completion of ``idx``) that sees the
         budgets with consistent loader masses (docs/optimizer.md, item 4b).
 
@@ -507,7 +508,11 @@ class SizingModel:
         lo = 0.0
         if fits(hi):
             return math.inf
+        import time
+
         for _ in range(steps):
+            if time.perf_counter() > deadline:  # every hi so far is a valid bound
+                break
             mid = 0.5 * (lo + hi)
             if fits(mid):
                 lo = mid

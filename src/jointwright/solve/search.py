@@ -70,7 +70,9 @@ class BranchAndBound:
         self.deadline = math.inf if time_limit is None else time.perf_counter() + time_limit
         self.progress = progress
         self.best_key = incumbent
-        self.cap = model.budget_cap(self.st)  # a bound on every design (budget, item 4b)
+        # a bound on every design (budget, item 4b), within a tenth of the time limit
+        cap_end = math.inf if time_limit is None else time.perf_counter() + 0.1 * time_limit
+        self.cap = model.budget_cap(self.st, deadline=cap_end)
         self.nodes = 0
         self.scored = 0
         self.open_bound = -math.inf
