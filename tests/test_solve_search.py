@@ -318,3 +318,63 @@ def test_payload_mass_objective_matches_enumeration_with_case_transforms(arm, se
         metrics = {c.name: c.metrics for c in res.assessment.cases}
         carried = [float(carried_payload(c, metrics[c.name]["payload"])) for c in cases[:2]]
         assert res.objective == pytest.approx(min(carried), rel=1e-9, abs=1e-9)
+
+
+@settings(max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(seed=st.integers(0, 2**31 - 1))
+def test_budget_bounds_are_above_the_enumerated_optimum(leg, seed):
+    """The payload bounds that see the mass budget (docs/optimizer.md items 4a and 4b) are never
+    below the optimum found by enumerating every design under a random budget."""
+    from jointwright.sizing import build_model
+
+    rng = np.random.default_rng(seed)
+    cases = tuple(c for c in leg.cases if c.kind != "duty")
+    project = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng, motors=3, ratios=3),
+                                  max_stages=1, stage_kinds=None, objective={}, cases=cases)
+    project = set_limits(project, rng, build_table(project), keep_duty=False)
+    masses = build_table(project).rows["mass"]
+    budget = float(rng.uniform(3 * masses.min(), 3 * masses.max()))
+    project = dataclasses.replace(project, requirements=Requirements(total_mass_max=budget))
+    ref, _ = oracle(project, "payload")
+    if ref.status == "infeasible":
+        return
+    model, _ = build_model(project, "payload", {}, [], [])
+    st_ = model.stats(model.candidates)
+    assert model.budget_cap(st_) >= ref.objective * (1 - 1e-9)
+    root = np.full(model.n, -1, dtype=np.int64)
+    unit = (0,)
+    b = model.child_bounds(root, unit, model.candidates[0], st_)
+    assert b["objective"].max() >= ref.objective * (1 - 1e-9)
+
+
+@pytest.mark.parametrize("seed, kind", [(1, "payload"), (2, "mass")])
+def test_quadruped_with_stance_cases_matches_enumeration(seed, kind):
+    """The bundled quadruped (floating base, legs shared, two stance cases with friction cones,
+    a leg payload case and an IMF limit) on a small random catalog: the search's optimum equals
+    the best of every combination of the three shared groups' options, each scored in full."""
+    import itertools
+
+    q = example("quadruped")
+    rng = np.random.default_rng(seed)
+    project = dataclasses.replace(q, catalog=small_catalog(q.catalog, rng, motors=2, kinds=1, ratios=2),
+                                  max_stages=1, stage_kinds=None,
+                                  objective={"maximize": kind, "shared": q.objective["shared"]})
+    project = set_limits(project, rng, build_table(project), keep_duty=False)
+    table = build_table(project)
+    joints = list(project.robot.actuated)
+    groups = [[joints.index(j) for j in g] for g in q.objective["shared"]]
+    model = SizingModel(project, table, [np.arange(len(table))] * len(joints), kind, groups)
+    rows = []
+    for combo in itertools.product(range(len(table)), repeat=len(groups)):
+        idx = np.empty(len(joints), dtype=np.int64)
+        for g, o in zip(groups, combo):
+            idx[g] = o
+        rows.append(idx)
+    key = model.best_key(np.array(rows))
+    res = size(project, explain=False)
+    if key is None:
+        assert res.status == "infeasible"
+        return
+    assert res.status == "optimal" and res.assessment.feasible
+    sense = -1.0 if kind == "mass" else 1.0
+    assert sense * res.objective == pytest.approx(key[0], rel=1e-9, abs=1e-9)

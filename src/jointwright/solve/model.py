@@ -278,7 +278,7 @@ class SizingModel:
                 own = np.minimum(own, self.case_value(c, (t.lo[j, cands] - hi_b) / a))
         order = np.argsort(-own, kind="stable")
         return (own[order], np.minimum.accumulate(self.mass[cands][order]),
-                np.minimum.accumulate(self.cost[cands][order]))
+                np.minimum.accumulate(self.cost[cands][order]), self.mass[cands][order])
 
     def useful_mmin(self, st: dict, floor: float | None) -> np.ndarray:
         """Least mass per joint over the options that can still reach objective ``floor``."""
@@ -399,14 +399,37 @@ class SizingModel:
         that force (:func:`jointwright.problem.carried_payload`), increasing in the force."""
         return self.carry[c](bound)
 
-    def _level_table(self, F: np.ndarray, st: dict):
+    def _node_level_table(self, F: np.ndarray, idx: np.ndarray, A: np.ndarray, st: dict):
+        """:meth:`_level_table` with the own bounds of the free joints recomputed at this node:
+        the assigned joints' masses are known exactly, which narrows the bias interval of the
+        joints they load (the unit's and the free joints' masses keep their ranges)."""
+        key = (idx.tobytes(), F.tobytes(), st["mmin"].tobytes())
+        cache = self.__dict__.setdefault("_node_levels", {})
+        if key in cache:
+            return cache[key]
+        node = dict(st)
+        node["mmin"], node["mmax"] = st["mmin"].copy(), st["mmax"].copy()
+        node["mmin"][A] = self.mass[idx[A]]
+        node["mmax"][A] = self.mass[idx[A]]
+        own = list(st["own"])
+        for j in F:
+            own[j] = self._own_bounds(int(j), self.candidates[j], node)
+        node["own"] = own
+        out = self._level_table(F, node, cache=False)
+        if len(cache) > 512:
+            cache.pop(next(iter(cache)))
+        cache[key] = out
+        return out
+
+    def _level_table(self, F: np.ndarray, st: dict, cache: bool = True):
         """For the free joints F: the candidate levels (every own bound of their options,
         descending) and, at each level f, the least total mass and cost of options of F whose
         own bound reaches f (the per-joint least over the useful options, summed). Cached per
         set F (the search meets few distinct sets: one per depth)."""
         key = (id(st["own"]), F.tobytes())
+        store = cache
         cache = self.__dict__.setdefault("_levels", {})
-        hit = cache.get(key)
+        hit = cache.get(key) if store else None
         if hit is not None and hit[0] is st["own"]:  # the reference held keeps the id unique
             return hit[1]
         entries = [st["own"][j] for j in F]
@@ -415,14 +438,91 @@ class SizingModel:
         levels = np.unique(np.concatenate([e[0][np.isfinite(e[0])] for e in entries]))[::-1]
         g_mass = np.zeros(levels.size)
         g_cost = np.zeros(levels.size)
-        for own, run_m, run_c in entries:
+        for own, run_m, run_c, _m in entries:
             count = np.searchsorted(-own, -levels, side="right")  # options with own ≥ level
             g_mass += np.where(count > 0, run_m[np.maximum(count - 1, 0)], np.inf)
             g_cost += np.where(count > 0, run_c[np.maximum(count - 1, 0)], np.inf)
-        if len(cache) > 256:
-            cache.pop(next(iter(cache)))
-        cache[key] = (st["own"], (levels, g_mass, g_cost))
+        if store:
+            if len(cache) > 256:
+                cache.pop(next(iter(cache)))
+            cache[key] = (st["own"], (levels, g_mass, g_cost))
         return levels, g_mass, g_cost
+
+    def budget_cap(self, st: dict, idx: np.ndarray | None = None, rounds: int = 3, steps: int = 40,
+                   deadline: float = math.inf) -> float:
+        """A bound on the payload objective of every design (completion of ``idx``) that sees the
+        budgets with consistent loader masses (docs/optimizer.md, item 4b).
+
+        For a level f, lb_k starts at each joint's least mass; a design reaching f has, at every
+        joint j, an option whose own bound with every mass k in [lb_k, m_max,k] is ≥ f, so its
+        mass is ≥ the least such option's: that is the next lb_j; and ≤ the heaviest such option
+        that leaves room for the others' lb within the mass budget: the next ub_j. Repeating
+        keeps [lb_k, ub_k] an interval holding joint k's mass in any design reaching f; it only
+        narrows as f grows. The largest f with Σ lb ≤ total_mass_max (and likewise cost) is
+        found by bisection."""
+        if self.kind != "payload" or not self.payload or not (
+                math.isfinite(self.total_mass_max) or math.isfinite(self.total_cost_max)):
+            return math.inf
+        n = self.n
+        idx = np.full(n, -1, dtype=np.int64) if idx is None else idx
+        fixed = idx >= 0
+        cands = [np.array([idx[j]]) if fixed[j] else self.candidates[j] for j in range(n)]
+        if any(c.size == 0 for c in cands):
+            return math.inf
+        mmax = np.array([self.mass[c].max() for c in cands])
+        mmin0 = np.array([self.mass[c].min() for c in cands])
+
+        budget = self.total_mass_max * (1 + 1e-9)
+
+        def fits(f: float) -> bool:
+            lb, ub = mmin0.copy(), mmax.copy()
+            cost = None
+            for _ in range(rounds):
+                node = dict(st, mmin=lb, mmax=ub)
+                new, new_ub, cost = lb.copy(), ub.copy(), 0.0
+                for j in range(n):
+                    entry = self._own_bounds(j, cands[j], node)
+                    if entry is None:
+                        continue
+                    own, run_m, run_c, m_sorted = entry
+                    count = int(np.searchsorted(-own, -f, side="right"))
+                    if count == 0:
+                        return False
+                    new[j] = max(lb[j], run_m[count - 1])
+                    cost += run_c[count - 1]
+                    # the heaviest option that reaches f and leaves room for the others' least
+                    room = budget - (lb.sum() - lb[j])
+                    useful = m_sorted[:count]
+                    useful = useful[useful <= room]
+                    if useful.size == 0:
+                        return False
+                    new_ub[j] = min(ub[j], float(useful.max()))
+                lb, ub = new, np.maximum(new_ub, new)
+            ok = lb.sum() <= self.total_mass_max * (1 + 1e-9)
+            if math.isfinite(self.total_cost_max):
+                ok = ok and cost <= self.total_cost_max * (1 + 1e-9)
+            return ok
+
+        ents = [self._own_bounds(j, cands[j], dict(st, mmin=mmin0, mmax=mmax)) for j in range(n)]
+        tops = [float(e[0][0]) for e in ents if e is not None and e[0].size]
+        hi = min(tops) if tops else math.inf
+        if not math.isfinite(hi) or hi <= 0:
+            return math.inf
+        hi = hi * (1 + 1e-12) + 1e-12  # no design reaches above every joint's best own bound
+        lo = 0.0
+        if fits(hi):
+            return math.inf
+        import time
+
+        for _ in range(steps):
+            if time.perf_counter() > deadline:  # every hi so far is a valid bound
+                break
+            mid = 0.5 * (lo + hi)
+            if fits(mid):
+                lo = mid
+            else:
+                hi = mid
+        return hi
 
     def budget_level_bound(self, F, idx, A, unit, options, st) -> np.ndarray:
         """Upper bound on the payload objective that sees the mass and cost budgets (K,).
@@ -438,7 +538,7 @@ class SizingModel:
         budgets = [(self.mass, self.total_mass_max, 1), (self.cost, self.total_cost_max, 2)]
         if not any(math.isfinite(b[1]) for b in budgets):
             return out
-        table = self._level_table(F, st)
+        table = self._node_level_table(F, idx, A, st) if A.size else self._level_table(F, st)
         if table is None or table[0].size == 0:
             return out
         levels = table[0]

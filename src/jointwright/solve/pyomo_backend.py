@@ -165,6 +165,12 @@ def solve_pyomo(model: SizingModel, units, *, time_limit=None, max_rounds=10_000
     except _OutOfTime:
         return SolveOutcome("time_limit", None, -math.inf, math.inf, time.perf_counter() - start,
                             "time limit reached while building the MILP", 0)
+    built = time.perf_counter() - start
+    if deadline - time.perf_counter() < 2.0 * built:
+        # handing the model to HiGHS takes about as long as building it again and cannot be
+        # interrupted: starting it now would overrun the limit
+        return SolveOutcome("time_limit", None, -math.inf, math.inf, time.perf_counter() - start,
+                            f"the MILP took {built:.0f} s to build; no time left to solve it", 0)
     solver = SolverFactory("highs")
     sense = 1.0 if model.kind == "payload" else -1.0
     best, bound, rounds, native = None, math.inf, 0, ""

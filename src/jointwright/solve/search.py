@@ -26,8 +26,10 @@ def search_order(model: SizingModel, units: list[tuple]) -> list[tuple]:
     """Units (groups of joints decided together) ordered so that influencers come first.
 
     Joint j is influenced by actuator k when k's mass loads j in some payload case
-    (G[k, j] ≠ 0). Kahn's order on that graph, ties broken by fewer candidates; on a cycle
-    the unit with the fewest unassigned influencers goes next.
+    (G[k, j] ≠ 0). Kahn's order on that graph; among the ready units the one loaded by the most
+    assigned units goes first (so a leg is finished before the next is started and its cases'
+    bounds become exact early), then the one loading the most, then fewer candidates; on a
+    cycle the unit with the fewest unassigned influencers goes next.
     """
     n = model.n
     infl = np.zeros((n, n), dtype=bool)
@@ -44,7 +46,9 @@ def search_order(model: SizingModel, units: list[tuple]) -> list[tuple]:
             return int(np.count_nonzero(cols & ~done))
         def reach(u):
             return int(np.count_nonzero(infl[list(u)].any(axis=0) & ~done))
-        u = min(left, key=lambda u: (waiting(u), -reach(u), model.candidates[u[0]].size, u))
+        def linked(u):  # assigned units that load u: finish one component before the next
+            return int(np.count_nonzero(infl[:, list(u)].any(axis=1) & done))
+        u = min(left, key=lambda u: (waiting(u), -linked(u), -reach(u), model.candidates[u[0]].size, u))
         out.append(u)
         left.remove(u)
         done[list(u)] = True
@@ -66,6 +70,9 @@ class BranchAndBound:
         self.deadline = math.inf if time_limit is None else time.perf_counter() + time_limit
         self.progress = progress
         self.best_key = incumbent
+        # a bound on every design (budget, item 4b), within a tenth of the time limit
+        cap_end = math.inf if time_limit is None else time.perf_counter() + 0.1 * time_limit
+        self.cap = model.budget_cap(self.st, deadline=cap_end)
         self.nodes = 0
         self.scored = 0
         self.open_bound = -math.inf
@@ -120,6 +127,7 @@ class BranchAndBound:
         if self.best_key is not None:
             floor = self.best_key[0] - tie_tol(self.best_key[0])
         b = self.model.child_bounds(idx, unit, opts, self.st, floor)
+        b["objective"] = np.minimum(b["objective"], self.cap)
         keep = self._prune(b)
         opts, b = opts[keep], {k: v[keep] for k, v in b.items()}
         if opts.size:
