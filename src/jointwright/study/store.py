@@ -36,6 +36,7 @@ from pathlib import Path
 from typing import Any
 
 from ..errors import InputError
+from ..tomlfile import is_file
 
 #: version of the store layout written by this module (readers refuse newer versions)
 STORE_FORMAT = 1
@@ -506,7 +507,7 @@ class StoredCase:
 
 def _read_only(path: str | Path) -> sqlite3.Connection:
     path = Path(path)
-    if not path.is_file():
+    if not is_file(path):
         raise InputError(str(path), "(file)", "study store not found")
     return sqlite3.connect(path.resolve().as_uri() + "?mode=ro", uri=True)
 
