@@ -195,3 +195,15 @@ def test_a_tls_scheduler_without_a_client_certificate_is_one_line(tmp_path, monk
         run_study(path, tmp_path / "s.sqlite", scheduler="tls://127.0.0.1:9", case_fn=LEG,
                   progress=False)
     assert info.value.field == "--scheduler"
+
+
+@pytest.mark.parametrize("content", [b"", None], ids=["empty file", "sqlite without tables"])
+def test_a_store_killed_before_its_first_commit_starts_afresh(tmp_path, content):
+    path, store = make_study(tmp_path, n_thigh=1), tmp_path / "s.sqlite"
+    if content is None:
+        sqlite3.connect(store).close()  # a database file with no table yet
+        sqlite3.connect(store).execute("PRAGMA user_version = 0").connection.close()
+    else:
+        store.write_bytes(content)
+    out = run_study(path, store, workers=1, case_fn=LEG, progress=False)
+    assert out.done_total == 4

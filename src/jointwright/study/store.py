@@ -250,6 +250,9 @@ class StudyStore:
 
     @classmethod
     def _open_locked(cls, path: Path, spec, case_count: int, restart: bool, lock) -> StudyStore:
+        if path.exists() and _never_created(path):
+            for suffix in ("", "-wal", "-shm"):  # a run killed while creating it: start afresh
+                Path(f"{path}{suffix}").unlink(missing_ok=True)
         if path.exists():
             try:
                 old = _read_study_row(path)
@@ -386,6 +389,17 @@ class StudyStore:
                 return CaseRecord("failed", error=f"ValueError: {rule}", wall_time=record.wall_time,
                                   worker=record.worker)  # fmt: skip
         return record
+
+
+def _never_created(path: Path) -> bool:
+    """True for an empty file or an SQLite file without a single table: what a run killed
+    before its first commit leaves (creating the tables is one transaction)."""
+    try:
+        if path.stat().st_size == 0:
+            return True
+        return not _query(path, "SELECT name FROM sqlite_master")
+    except (OSError, sqlite3.Error, InputError):
+        return False
 
 
 def damaged(path: Path, exc: BaseException) -> InputError:
