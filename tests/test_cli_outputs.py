@@ -144,3 +144,24 @@ def test_study_csv_needs_force_and_never_takes_an_input(tmp_path):
     r = _run(["study", study, "--workers", "1", "--csv", csv_out, "--force", "--json"])
     assert r.exit_code == 0, r.output
     assert csv_out.read_text(encoding="utf-8").startswith("case_id,variant,requirements.total_mass_max")
+
+
+def test_a_report_that_fails_half_way_leaves_the_old_one(tmp_path, monkeypatch):
+    d = _leg(tmp_path)
+    args = ["report", d / "project.toml", "--design", d / "design.toml", "--out", tmp_path / "r"]
+    assert _run(args).exit_code == 0
+    before = {p.relative_to(tmp_path / "r"): p.read_bytes() for p in (tmp_path / "r").rglob("*") if p.is_file()}
+    import jointwright.report as report_pkg
+
+    real = report_pkg.build_report
+
+    def half(project, design, out_dir, **kw):
+        path = real(project, design, out_dir, **kw)
+        (Path(out_dir) / "figures").mkdir(exist_ok=True)
+        raise OSError(28, "No space left on device")  # after writing everything into the temp folder
+
+    monkeypatch.setattr(report_pkg, "build_report", half)
+    r = _run(args + ["--force"])
+    assert r.exit_code != 0 and "Traceback" not in r.output
+    after = {p.relative_to(tmp_path / "r"): p.read_bytes() for p in (tmp_path / "r").rglob("*") if p.is_file()}
+    assert after == before

@@ -185,3 +185,25 @@ def test_twenty_random_kills_then_resume_equal_an_uninterrupted_run(tmp_path):
     assert len(ids) == len(set(ids)) == 32
     assert all(r["status"] in ("interrupted", "complete") for r in read_runs(store))
     assert outcomes(store) == _reference(tmp_path, path)
+
+
+def test_a_tls_scheduler_without_a_client_certificate_is_one_line(tmp_path, monkeypatch):
+    for name in ("DASK_DISTRIBUTED__COMM__TLS__CA_FILE", "DASK_DISTRIBUTED__COMM__TLS__CLIENT__CERT"):
+        monkeypatch.delenv(name, raising=False)
+    path = make_study(tmp_path, n_thigh=1)
+    with pytest.raises(InputError, match="certificate, key and CA") as info:
+        run_study(path, tmp_path / "s.sqlite", scheduler="tls://127.0.0.1:9", case_fn=LEG,
+                  progress=False)
+    assert info.value.field == "--scheduler"
+
+
+@pytest.mark.parametrize("content", [b"", None], ids=["empty file", "sqlite without tables"])
+def test_a_store_killed_before_its_first_commit_starts_afresh(tmp_path, content):
+    path, store = make_study(tmp_path, n_thigh=1), tmp_path / "s.sqlite"
+    if content is None:
+        sqlite3.connect(store).close()  # a database file with no table yet
+        sqlite3.connect(store).execute("PRAGMA user_version = 0").connection.close()
+    else:
+        store.write_bytes(content)
+    out = run_study(path, store, workers=1, case_fn=LEG, progress=False)
+    assert out.done_total == 4

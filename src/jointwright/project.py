@@ -14,7 +14,7 @@ import numpy as np
 
 from .errors import InputError
 from .progress import report
-from .tomlfile import Table, load_toml
+from .tomlfile import Table, is_file, load_toml
 
 CASE_KINDS = ("payload", "stance", "impact", "backdrive", "speed", "duty")
 MOTIONS = ("along", "against", "hold")
@@ -390,7 +390,7 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
     trajectory = None
     if kind == "duty":
         trajectory = base_dir / t.str("trajectory")
-        if not trajectory.is_file():
+        if not is_file(trajectory, t.file, t.field("trajectory")):
             raise InputError(t.file, t.field("trajectory"), f"file not found: {trajectory}")
     ambient = t.quantity("ambient", "temperature", 25.0)
     if not AMBIENT_RANGE[0] <= ambient <= AMBIENT_RANGE[1]:

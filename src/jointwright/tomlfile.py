@@ -10,10 +10,19 @@ from .errors import InputError
 from .units import nonnegative, positive, quantity
 
 
+def is_file(path: str | Path, file: str | None = None, field: str = "(file)") -> bool:
+    """``Path.is_file`` that turns an operating-system refusal (a name too long, a folder that
+    cannot be searched) into InputError naming ``file`` (default: the path) and ``field``."""
+    try:
+        return Path(path).is_file()
+    except OSError as exc:
+        raise InputError(file or str(path), field, f"cannot be read ({exc.strerror or exc})") from None
+
+
 def load_toml(path: str | Path) -> dict:
     """Parse a TOML file; a missing or malformed file raises InputError naming it."""
     path = Path(path)
-    if not path.is_file():
+    if not is_file(path):
         raise InputError(str(path), "(file)", "file not found")
     try:
         with path.open("rb") as fh:

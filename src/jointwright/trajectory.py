@@ -21,6 +21,7 @@ import numpy as np
 
 from .errors import InputError
 from .progress import report
+from .tomlfile import is_file
 from .units import quantity
 
 #: column kind -> dimensions its unit may have, in the order they are tried
@@ -115,7 +116,7 @@ def _column(raw: str, file: str, joints, frames) -> tuple[tuple, float, int]:
 
 
 def _read_rows(path: Path, file: str) -> list[tuple[int, list[str]]]:
-    if not path.is_file():
+    if not is_file(path, file, "file"):
         raise InputError(file, "file", "does not exist or is not a file")
     try:
         with path.open(newline="", encoding="utf-8-sig") as fh:

@@ -27,7 +27,7 @@ from typing import Any, NamedTuple
 import numpy as np
 
 from ..errors import InputError
-from ..tomlfile import Table, load_toml
+from ..tomlfile import Table, is_file, load_toml
 from ..units import positive, registry
 from .efficiency import efficiency_from_dict
 from .model import STAGE_KINDS, Catalog, Motor, MotorFamily, StageFrame, StageType
@@ -233,7 +233,7 @@ def _csv_lines(path: Path) -> tuple[int, list[str], list[tuple[int, list[str]]]]
     Blank lines and lines whose first cell starts with ``#`` (comments) are skipped.
     """
     file = str(path)
-    if not path.is_file():
+    if not is_file(path):
         raise InputError(file, "(file)", "file not found")
     try:
         with path.open(newline="", encoding="utf-8-sig") as fh:

@@ -43,7 +43,14 @@ def project_inputs(project) -> set[Path]:
     for case in project.cases:
         if getattr(case, "trajectory", None) is not None:
             files.add(Path(case.trajectory))
-    return {f for f in files if f.is_file()}
+    out = set()
+    for f in files:
+        try:
+            if f.is_file():
+                out.add(f)
+        except OSError:
+            pass
+    return out
 
 
 def _catalog_tables(path: Path) -> list[Path]:

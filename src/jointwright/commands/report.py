@@ -11,6 +11,7 @@ import click
 from ..design import load_design
 from ..errors import InputError
 from ..project import load_project
+from ..tomlfile import is_file
 from ._format import console, emit_json, table
 from ._output import _key, atomic_folder, check_target, project_inputs
 
@@ -57,7 +58,7 @@ def command(project: Path, design_file: Path, out_dir: Path | None, sizing_file:
     if study_store is not None:
         from ..report.study import study_data
 
-        if not study_store.is_file():
+        if not is_file(study_store, field="--study"):
             raise InputError(str(study_store), "--study", "no such study store (SQLite file)")
         study = study_data(study_store)
     sizing, frontier = _json(sizing_file, "--sizing"), _json(frontier_file, "--frontier")

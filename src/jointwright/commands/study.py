@@ -30,7 +30,10 @@ SHOWN_FAILURES = 5
 def command(study: Path, store: Path | None, workers, scheduler, resume, restart, retry_failed,
             csv_path, force, as_json):
     """Run every case of STUDY (sizing or frontier per case); each finished case is stored at once,
-    so an interrupted run loses nothing and --resume goes on where it stopped."""
+    so an interrupted run loses nothing and --resume goes on where it stopped.
+
+    Exit status: 0 every case done; 3 some or all cases failed (listed on stderr); 2 bad input
+    or a fault (nothing lost; resume)."""
     from ..errors import InputError
     from ..study import export_csv, load_study, run_study
     from ._output import check_target

@@ -21,7 +21,7 @@ from pathlib import Path
 from typing import Any, Iterator
 
 from ..errors import InputError
-from ..tomlfile import Table, load_toml
+from ..tomlfile import Table, is_file, load_toml
 
 #: version of the study file format this module reads
 STUDY_FORMAT = 1
@@ -244,7 +244,7 @@ def parse_study(definition: dict, *, file: str = "<api>", study_dir: str | Path 
     inputs = head.list("inputs", [])
     head.done()
     base_file = (Path(study_dir) / base_rel).resolve()
-    if not base_file.is_file():
+    if not is_file(base_file, file, "study.base"):
         raise InputError(file, "study.base", f"base project {str(base_file)!r} not found")
     base = load_toml(base_file)
     digests = _input_digests(inputs, base_file.parent, file)
@@ -267,7 +267,7 @@ def _input_digests(inputs: list, folder: Path, file: str) -> dict[str, str]:
     """sha256 of each further input file (relative to the base project's folder)."""
     out = {}
     for i, rel in enumerate(inputs):
-        if not isinstance(rel, str) or not (folder / rel).is_file():
+        if not isinstance(rel, str) or not is_file(folder / rel, file, f"study.inputs[{i}]"):
             raise InputError(
                 file,
                 f"study.inputs[{i}]",

@@ -36,6 +36,7 @@ from pathlib import Path
 from typing import Any
 
 from ..errors import InputError
+from ..tomlfile import is_file
 
 #: version of the store layout written by this module (readers refuse newer versions)
 STORE_FORMAT = 1
@@ -249,6 +250,9 @@ class StudyStore:
 
     @classmethod
     def _open_locked(cls, path: Path, spec, case_count: int, restart: bool, lock) -> StudyStore:
+        if path.exists() and _never_created(path):
+            for suffix in ("", "-wal", "-shm"):  # a run killed while creating it: start afresh
+                Path(f"{path}{suffix}").unlink(missing_ok=True)
         if path.exists():
             try:
                 old = _read_study_row(path)
@@ -387,6 +391,17 @@ class StudyStore:
         return record
 
 
+def _never_created(path: Path) -> bool:
+    """True for an empty file or an SQLite file without a single table: what a run killed
+    before its first commit leaves (creating the tables is one transaction)."""
+    try:
+        if path.stat().st_size == 0:
+            return True
+        return not _query(path, "SELECT name FROM sqlite_master")
+    except (OSError, sqlite3.Error, InputError):
+        return False
+
+
 def damaged(path: Path, exc: BaseException) -> InputError:
     """The one-line error for a store SQLite cannot read (a damaged page, a truncated file)."""
     return InputError(
@@ -506,7 +521,7 @@ class StoredCase:
 
 def _read_only(path: str | Path) -> sqlite3.Connection:
     path = Path(path)
-    if not path.is_file():
+    if not is_file(path):
         raise InputError(str(path), "(file)", "study store not found")
     return sqlite3.connect(path.resolve().as_uri() + "?mode=ro", uri=True)
 

@@ -96,7 +96,10 @@ def export_csv(
     header, rows = summary_rows(store, metrics)
     csv_path = Path(csv_path)
     # a temporary file beside the target, renamed over it: a failed write keeps the old file
-    fd, name = tempfile.mkstemp(prefix=f".{csv_path.name}.", suffix=".tmp", dir=csv_path.parent)
+    try:
+        fd, name = tempfile.mkstemp(prefix=f".{csv_path.name}.", suffix=".tmp", dir=csv_path.parent)
+    except OSError as exc:
+        raise InputError(str(csv_path), "csv", f"cannot be written ({exc.strerror or exc})") from None
     try:
         with os.fdopen(fd, "w", newline="", encoding="utf-8") as fh:
             writer = csv.writer(fh)

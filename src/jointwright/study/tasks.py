@@ -40,7 +40,7 @@ def check_options(options: dict, file: str, field: str) -> None:
                 raise InputError(file, where, f"must be one of {', '.join(_CHOICES[key])}, got {value!r}")
         elif key == "time_limit":
             ok = isinstance(value, (int, float)) and not isinstance(value, bool)
-            if not ok or not math.isfinite(value) or value <= 0:
+            if not ok or abs(value) > 1e300 or not math.isfinite(value) or value <= 0:
                 raise InputError(file, where, f"must be a number of seconds > 0, got {value!r}")
         elif key == "points":
             if not isinstance(value, int) or isinstance(value, bool) or value < 1:
