@@ -207,3 +207,62 @@ def test_plain_radians_within_limits_are_read_as_radians(tmp_path):
     p = load_project(project(tmp_path, None, pose="q1 = 0.5, q2 = -1.2"))
     assert p.case("lift").pose == {"q1": 0.5, "q2": -1.2}
     assert math.isclose(p.robot.position_limits("q1")[1], math.radians(170))
+
+
+STAGES = """
+[[motor]]
+name = "test-rotor-b"
+peak_torque = "4 N*m"
+continuous_torque = "1.5 N*m"
+rotor_inertia = "1e-4 kg*m^2"
+mass = "0.4 kg"
+max_speed = "3000 rpm"
+
+[[motor]]
+name = "test-rotor-c"
+peak_torque = "9 N*m"
+continuous_torque = "3 N*m"
+rotor_inertia = "4e-4 kg*m^2"
+mass = "0.9 kg"
+max_speed = "2500 rpm"
+
+[[stage]]
+name = "test-orbit"
+kind = "planetary"
+ratios = [3, 5, 8, 12]
+efficiency = { model = "constant", forward = 0.95, backward = 0.93 }
+
+[[stage.frame]]
+name = "test-orbit-1"
+rated_peak_torque = "60 N*m"
+rated_continuous_torque = "30 N*m"
+mass = "0.3 kg"
+input_inertia = "1e-6 kg*m^2"
+"""
+
+
+@pytest.mark.parametrize("role", ["held", "free"])
+def test_floating_robot_with_an_unactuated_joint_sized_under_an_imf_limit(tmp_path, role):
+    # a floating base, the shoulder sized, the elbow held or free, a minimum IMF at the tip: the
+    # search's proven IMF bounds must treat the unactuated joint as the evaluator does (held:
+    # locked; free: moving), so the search's optimum equals exhaustive enumeration
+    from jointwright.sizing import size
+
+    path = project(tmp_path, role)
+    (tmp_path / "catalog.toml").write_text(CATALOG + STAGES, encoding="utf-8")
+    text = path.read_text().replace('base = "fixed"', 'base = "floating"')
+    text = text.replace("max_stages = 0", "max_stages = 1")
+    text = text.replace('name = "bump"\nkind = "impact"', 'name = "bump"\nkind = "impact"\nimf_min = 0.02')
+    # a free elbow cannot hold the arm's weight: lift along the elbow-neutral direction only
+    text = text.replace('name = "lift"\nkind = "payload"\nframe = "tip"\ndirection = [0, 1, 0]',
+                        'name = "lift"\nkind = "payload"\nframe = "link1"\ndirection = [0, 1, 0]')
+    path.write_text(text)
+    p = load_project(path)
+    assert p.robot.base == "floating"
+    search = size(p, explain=False)
+    exhaustive = size(p, backend="enumerate", explain=False)
+    assert search.status == exhaustive.status
+    if search.status == "optimal":
+        assert search.objective == pytest.approx(exhaustive.objective, rel=1e-9, abs=1e-12)
+        imf = next(c for c in search.assessment.cases if c.name == "bump").metrics["imf"]
+        assert imf >= 0.02 * (1 - 1e-9)

@@ -691,7 +691,11 @@ class SizingModel:
             H_hi = mass_matrix(pc.basis, m_hi, np.zeros_like(r_lo))
             J = np.asarray(pc.J, dtype=float)
             nv = H_lo.shape[-1]
-            keep = np.concatenate([np.ones((K, nb), dtype=bool), ~locked], axis=1)
+            # moving coordinates: the base, free joints, and actuated joints that do not self-lock
+            # (held joints never move: they join the locked set, as in the evaluator)
+            keep = np.ones((K, nv), dtype=bool)
+            keep[:, self.evaluator.held_index] = False
+            keep[:, self.evaluator.v_index] = ~locked
             both = keep[:, :, None] & keep[:, None, :]
             H_lo = np.where(both, H_lo, np.eye(nv))
             Jt = np.where(keep[:, :, None], np.broadcast_to(J.T, (K,) + J.T.shape), 0.0)
