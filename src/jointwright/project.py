@@ -245,6 +245,10 @@ def _load_catalog(t: Table, base_dir: Path):
     files = t.list("files")
     if not files or not all(isinstance(f, str) for f in files):
         raise InputError(t.file, t.field("files"), "must be a non-empty list of file paths")
+    for i, f in enumerate(files):
+        if not (base_dir / f).is_file():
+            raise InputError(t.file, f"{t.field('files')}[{i}]",
+                             f"no catalog file {str(base_dir / f)!r} (paths are relative to the project file)")
     catalog = load_catalogs([base_dir / f for f in files])
     max_stages = t.raw("max_stages", 2)
     if not isinstance(max_stages, int) or isinstance(max_stages, bool) or not 0 <= max_stages <= 3:
@@ -412,6 +416,7 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
         raise InputError(t.file, t.field("stroke"), "give either stroke (reach the speed from rest within "
                          "it) or acceleration (keep accelerating at speed), not both")
     limits = {}
+    t.allow(*CASE_LIMITS[kind])
     for key, (dim, _sense) in CASE_LIMITS[kind].items():
         if t.has(key):
             if kind in ("payload", "stance") and key == "payload_min":

@@ -111,8 +111,19 @@ class Table:
             raise InputError(self.file, self.field(key), "must be an array of tables ([[...]])")
         return [Table(x, self.file, f"{self.field(key)}[{i}]") for i, x in enumerate(v)]
 
+    def allow(self, *keys: str) -> None:
+        """Count ``keys`` as known fields of this table (for :meth:`done`'s hints) without reading them."""
+        self._seen.update(keys)
+
     def done(self) -> None:
         """Raise on keys nobody read (typo protection)."""
         extra = sorted(set(self.data) - self._seen)
         if extra:
-            raise InputError(self.file, self.field(extra[0]), "unknown field (check the spelling)")
+            import difflib
+
+            known = sorted(self._seen)  # every key the reader asked for, given or not
+            close = difflib.get_close_matches(extra[0], known, n=1)
+            hint = f"; did you mean {close[0]!r}?" if close else ""
+            listed = f" Known here: {', '.join(known)}." if known and len(known) <= 30 else ""
+            raise InputError(self.file, self.field(extra[0]),
+                             f"unknown field (check the spelling){hint}{listed}")

@@ -93,7 +93,7 @@ def command(project: Path, as_json: bool):
                                                 "already in the link masses)" if included > 0 else ""))
     con.print(table("Joints", ["joint", "role", "lower", "upper", "effort", "velocity"],
                     [_joint_row(j, x) for j, x in r["joints"].items()]
-                    + [[f, f"follows {m['leader']} (×{m['multiplier']:g}, {m['offset']:+g})", "", "", "", ""]
+                    + [[f, f"follows {m['leader']} (×{m['multiplier']:g}, {m['offset']:+g})", "—", "—", "—", "—"]
                        for f, m in r["mimic"].items()],
                     caption="held: not actuated, locked by structure or brake; free: not actuated, "
                             "moves without torque; limits from the robot file (— where none)"))
@@ -145,8 +145,11 @@ def command(project: Path, as_json: bool):
 def _joint_row(name: str, x: dict) -> list[str]:
     ang = x["kind"] == "revolute"
     pos, eff, vel = ("rad", "N·m", "rad/s") if ang else ("m", "N", "m/s")
-    return [name, x["role"], num(x["lower"], pos), num(x["upper"], pos), num(x["effort"], eff),
-            num(x["velocity"], vel)]
+    def limit(v, unit):  # a limit the robot file does not give is shown as —
+        return num(v, unit) if math.isfinite(v) else "—"
+
+    return [name, x["role"], limit(x["lower"], pos), limit(x["upper"], pos), limit(x["effort"], eff),
+            limit(x["velocity"], vel)]
 
 
 def _finite(x):
