@@ -18,6 +18,10 @@ import numpy as np
 from ..errors import InputError
 
 
+#: joint types of the URDF specification
+JOINT_TYPES = ("revolute", "continuous", "prismatic", "fixed", "floating", "planar")
+
+
 @dataclass(frozen=True)
 class UrdfText:
     """A checked URDF: the text to give Pinocchio and what was found in it.
@@ -112,8 +116,23 @@ def check_urdf_text(text: str, file: str):
     links = [e.get("name") for e in root.findall("link")]
     if not links or any(not n for n in links):
         raise InputError(file, "urdf.link", "needs at least one <link>, each with a name")
+    for link in root.findall("link"):  # inertial, visual and collision origins
+        for part in link:
+            origin = part.find("origin")
+            for key in ("xyz", "rpy"):
+                if origin is not None and origin.get(key) is not None:
+                    _urdf_numbers(origin.get(key), 3, file,
+                                  f"urdf.link[{link.get('name')}].{part.tag}.origin.{key}")
     for e in root.findall("joint"):
         name = e.get("name") or "?"
+        if e.get("type") not in JOINT_TYPES:
+            raise InputError(file, f"urdf.joint[{name}].type", f"must be one of "
+                             f"{', '.join(JOINT_TYPES)}; got {e.get('type')!r}")
+        origin = e.find("origin")
+        if origin is not None:
+            for key in ("xyz", "rpy"):
+                if origin.get(key) is not None:
+                    _urdf_numbers(origin.get(key), 3, file, f"urdf.joint[{name}].origin.{key}")
         for key in ("parent", "child"):
             ref = e.find(key)
             if ref is None or ref.get("link") not in links:
