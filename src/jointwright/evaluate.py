@@ -294,7 +294,11 @@ class Evaluator:
                 out["effective_mass" + suffix] = _effective_mass_locked(pc.J, H, pc.u, lock)
         return out
 
-    def _forward_effective_mass(self, pc: PreparedCase, d: DesignArrays) -> np.ndarray:
+    def _forward_effective_mass(self, pc: PreparedCase, d: DesignArrays,
+                                directions: np.ndarray | None = None) -> np.ndarray:
+        """Forward-driving effective mass (metrics.inertia.forward_effective_mass) along the
+        case direction for D designs, (D,); or, for one design, along each of ``directions``
+        (k, 3), (k,)."""
         coupling = self.project.rotor_coupling
         M = mass_matrix(pc.basis, d.mass, np.zeros_like(d.mass))
         H0 = mass_matrix(pc.basis, d.mass, d.reflected_inertia("frictionless"),
@@ -310,7 +314,12 @@ class Evaluator:
             keep = np.setdiff1d(np.arange(nv), self.held_index)
             M, R = M[..., keep[:, None], keep], R[..., keep[:, None], keep]
             J, ef, eb = J[..., keep], ef[..., keep], eb[..., keep]
-        return forward_effective_mass(J, M, R, ef, eb, pc.u).mass
+        u = pc.u
+        if directions is not None:  # one design, several directions
+            u = np.asarray(directions, dtype=float)
+            k = u.shape[0]
+            M, R, J, ef, eb = (np.broadcast_to(x[0], (k,) + x.shape[1:]) for x in (M, R, J, ef, eb))
+        return forward_effective_mass(J, M, R, ef, eb, u).mass
 
     def _backdrive(self, pc: PreparedCase, d: DesignArrays) -> dict[str, np.ndarray]:
         # free joints start moving under any torque; held ones never do

@@ -145,6 +145,8 @@ def ellipse_figure(section, axis_names: str = "xyz") -> Figure:
             continue
         pts = section.curves[mode]
         colour, ls, label = MODE_STYLE[mode]
+        if mode == "motoring":  # forward driving: the energy reading, not an ellipse
+            label = "motors driving (forward, E_f⁻¹·M + R)"
         m = section.mass_along.get(mode)
         if m is not None:
             label += (f": {m:.4g} kg along the case direction" if math.isfinite(m)

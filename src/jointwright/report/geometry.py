@@ -10,7 +10,8 @@ the origin of the 3-D tip-force (or tip-velocity) space by a plane spanned by tw
   plane is {y : yᵀ·(Bᵀ·Λ⁻¹·B)·y ≤ 1}; its radius along an in-plane unit direction is the square
   root of the effective mass 1/(uᵀ·Λ⁻¹·u) along it.
 
-Modes: frictionless (capacity N·τ_m, inertia N²·I_r), motoring (η_f·N·τ_m, η_f·N²·I_r) and
+Modes: frictionless (capacity N·τ_m, inertia N²·I_r), motoring (η_f·N·τ_m; inertia: the
+forward-driving effective mass of docs/metrics.md, drawn as √m_f(u)·u, not an ellipse) and
 back-driven (N·τ_m/η_b, N²·I_r/η_b; self-locking joints hold without limit and are locked).
 """
 
@@ -160,6 +161,17 @@ def _ellipse(S: np.ndarray, n: int = 181) -> tuple[np.ndarray, bool]:
     return pts, bool(tiny.any())
 
 
+def _forward_curve(evaluator, pc, arrays, B, n: int = 181) -> tuple[np.ndarray, bool]:
+    """Points √m_f(d)·d over in-plane unit directions d, m_f the forward-driving effective mass
+    (not a quadratic form in d, so not an ellipse); immovable directions cut at 1e3 √kg."""
+    t = np.linspace(0.0, 2.0 * np.pi, n)
+    d2 = np.vstack([np.cos(t), np.sin(t)]).T
+    m = np.asarray(evaluator._forward_effective_mass(pc, arrays, d2 @ B.T), dtype=float)
+    bad = ~np.isfinite(m) | (m > 1e6)
+    r = np.where(bad, 1e3, np.sqrt(np.where(bad, 1.0, m)))
+    return r[:, None] * d2, bool(bad.any())
+
+
 def ellipse_sections(evaluator, arrays) -> list[EllipseSection]:
     """One section per impact case (or the first payload case when the project has none)."""
     pcs = [p for p in evaluator.cases if p.case.kind == "impact"]
@@ -172,6 +184,10 @@ def ellipse_sections(evaluator, arrays) -> list[EllipseSection]:
         curves, unbounded, along = {}, {}, {}
         locked_X = None
         for mode in MODES:
+            if mode == "motoring":  # forward driving: no ellipse, the curve √m_f(u)·u (docs/metrics.md)
+                curves[mode], unbounded[mode] = _forward_curve(evaluator, pc, arrays, B)
+                along[mode] = float(evaluator._forward_effective_mass(pc, arrays)[0])
+                continue
             X, X_locked = mobility(evaluator, pc, arrays, mode)
             curves[mode], unbounded[mode] = _ellipse(B.T @ X @ B)
             q = float(pc.u @ X @ pc.u)
