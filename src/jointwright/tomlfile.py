@@ -16,7 +16,8 @@ def is_file(path: str | Path, file: str | None = None, field: str = "(file)") ->
     try:
         return Path(path).is_file()
     except OSError as exc:
-        raise InputError(file or str(path), field, f"cannot be read ({exc.strerror or exc})") from None
+        rule = f"cannot be read ({exc.strerror or exc})"
+        raise InputError(file or str(path), field, rule) from None
 
 
 def load_toml(path: str | Path) -> dict:

@@ -122,7 +122,7 @@ def _read_rows(path: Path, file: str) -> list[tuple[int, list[str]]]:
         with path.open(newline="", encoding="utf-8-sig") as fh:
             reader = csv.reader(fh)
             rows = [(reader.line_num, row) for row in reader]
-    except UnicodeDecodeError as exc:
+    except UnicodeDecodeError:
         raise InputError(file, "(encoding)", "must be UTF-8 text") from None
     except OSError as exc:
         raise InputError(file, "file", f"cannot be read ({exc.strerror or exc})") from None

@@ -70,7 +70,8 @@ def quantity(value: Any, dimension: str, *, file: str = "<api>", field: str = "v
         try:
             out = float(value)
         except OverflowError:  # a whole number beyond float range (about 1.8e308)
-            raise InputError(file, field, f"must be finite, got a {len(str(abs(value)))}-digit number") from None
+            digits = len(str(abs(value)))
+            raise InputError(file, field, f"must be finite, got a {digits}-digit number") from None
     elif isinstance(value, str):
         text = value.strip()
         try:
@@ -85,7 +86,8 @@ def quantity(value: Any, dimension: str, *, file: str = "<api>", field: str = "v
 
 
 #: "<number> <unit>" with a unit that starts with a letter: the unit's factor is looked up once
-_NUMBER_UNIT = re.compile(r"\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*([A-Za-zµ°Ω][A-Za-z0-9_µ°Ω*/^. ]*?)\s*")
+_NUMBER_UNIT = re.compile(r"\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)"
+                          r"\s*([A-Za-zµ°Ω][A-Za-z0-9_µ°Ω*/^. ]*?)\s*")
 
 
 @lru_cache(maxsize=512)

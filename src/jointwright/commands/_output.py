@@ -169,6 +169,7 @@ def atomic_folder(target: Path, option: str = "--out") -> Iterator[Path]:
             dest.parent.mkdir(parents=True, exist_ok=True)
             os.replace(f, dest)
     except OSError as exc:
-        raise InputError(str(target), option, f"cannot be written ({exc.strerror or exc})") from None
+        raise InputError(str(target), option,
+                         f"cannot be written ({exc.strerror or exc})") from None
     finally:
         shutil.rmtree(tmp, ignore_errors=True)

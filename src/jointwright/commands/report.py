@@ -50,7 +50,8 @@ def command(project: Path, design_file: Path, out_dir: Path | None, sizing_file:
     p = load_project(project)
     d = load_design(design_file, p)
     out = out_dir if out_dir is not None else p.base_dir / "report"
-    inputs = project_inputs(p) | {Path(f) for f in (design_file, sizing_file, frontier_file, study_store) if f}
+    given = (design_file, sizing_file, frontier_file, study_store)
+    inputs = project_inputs(p) | {Path(f) for f in given if f}
     if out.exists() and not out.is_dir() and _key(out) not in {_key(f) for f in inputs}:
         raise InputError(str(out), "--out", "must be a folder, not a file")
     check_target(out, "--out", inputs=inputs, force=force, exists_hint="report.html")

@@ -42,7 +42,8 @@ def command(study: Path, store: Path | None, workers, scheduler, resume, restart
         raise InputError(str(study), "--workers", "give either --workers or --scheduler, not both")
     store = store or study.with_name("results.sqlite")
     spec = load_study(study)
-    inputs = {study, spec.base_file, *(spec.base_dir / f for f in spec.definition["study"].get("inputs", []))}
+    named = spec.definition["study"].get("inputs", [])
+    inputs = {study, spec.base_file, *(spec.base_dir / f for f in named)}
     check_target(store, "--store", inputs=inputs, force=True)
     if csv_path is not None:
         check_target(csv_path, "--csv", inputs=inputs | {store}, force=force)

@@ -389,7 +389,7 @@ def _run_dask(cases: Iterable[Case], build: Build, sink: Sink, scheduler, fn_ref
     if own and str(scheduler).startswith("tls://"):
         from distributed.security import Security
 
-        sec = Security()  # from dask's configuration (files or DASK_DISTRIBUTED__COMM__TLS__* variables)
+        sec = Security()  # dask's configuration: files or DASK_DISTRIBUTED__COMM__TLS__* variables
         if not (sec.tls_ca_file and sec.tls_client_cert):
             raise InputError(str(scheduler), "--scheduler", "a tls:// scheduler needs the client's "
                              "certificate, key and CA in dask's configuration "
@@ -399,8 +399,9 @@ def _run_dask(cases: Iterable[Case], build: Build, sink: Sink, scheduler, fn_ref
         client = Client(scheduler, set_as_default=False, timeout=30) if own else scheduler
     except (OSError, TypeError, ValueError) as exc:  # unreachable, refused, TLS not configured
         text = " ".join(str(exc).split())
-        hint = ("a tls:// scheduler needs the client's certificate, key and CA (docs/study-format.md, "
-                "'A cluster only you can reach')" if str(scheduler).startswith("tls://") else
+        hint = ("a tls:// scheduler needs the client's certificate, key and CA "
+                "(docs/study-format.md, 'A cluster only you can reach')"
+                if str(scheduler).startswith("tls://") else
                 "is the scheduler running, and is the address right?")
         raise InputError(str(scheduler), "--scheduler", f"cannot connect ({type(exc).__name__}: "
                          f"{text}); {hint}") from None

@@ -298,8 +298,8 @@ def _parameter(t: Table, base: dict, file: str) -> Parameter:
             file, t.field("path"), f"{text!r} is a table or list in the base project; "
             "a varied parameter must be a number or quantity (use a [[variant]] to replace it)",
         )  # fmt: skip
-    if format_path(steps) in TEXT_FIELDS or (
-            isinstance(current, str) and not _NUMBER_FIRST.match(current)) or isinstance(current, bool):
+    text_value = isinstance(current, str) and not _NUMBER_FIRST.match(current)
+    if format_path(steps) in TEXT_FIELDS or text_value or isinstance(current, bool):
         raise InputError(
             file, t.field("path"), f"{text!r} is text or true/false in the base project, not a "
             "number or quantity; only numbers and quantities can be varied (a [[variant]] may "
@@ -443,8 +443,9 @@ def _count(t: Table, key: str) -> int:
     if not isinstance(n, int) or isinstance(n, bool) or n < 1:
         raise InputError(t.file, t.field(key), f"must be a whole number >= 1, got {n!r}")
     if n > MAX_CASES:
+        got = n if n < 10**12 else f"a {len(str(n))}-digit number"
         raise InputError(t.file, t.field(key), f"must be at most {MAX_CASES} (the most cases a "
-                         f"study may have), got {n if n < 10**12 else f'a {len(str(n))}-digit number'}")
+                         f"study may have), got {got}")
     return n
 
 

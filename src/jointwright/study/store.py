@@ -141,8 +141,8 @@ class WriterLock:
         try:
             fh = open(self.path, "a+", encoding="utf-8")
         except OSError as exc:
-            raise InputError(str(store), "(lock)", f"cannot create the writer lock {self.path.name} "
-                             f"({exc.strerror or exc})") from None
+            raise InputError(str(store), "(lock)", "cannot create the writer lock "
+                             f"{self.path.name} ({exc.strerror or exc})") from None
         if not _try_lock(fh):
             fh.seek(0)
             holder = _holder(fh.read())
@@ -361,7 +361,7 @@ class StudyStore:
             if prior is not None:
                 conn.execute("DELETE FROM cases WHERE case_id = ?", (case.id,))
             if any(name.lower() not in self._columns for name in row):  # look again, then add
-                self._columns = {c[1].lower(): c[1] for c in conn.execute("PRAGMA table_info(cases)")}
+                self._columns = _column_names(conn)
             for name in row:
                 if name.lower() not in self._columns:
                     conn.execute(f"ALTER TABLE cases ADD COLUMN {quote_identifier(name)}")
@@ -373,7 +373,7 @@ class StudyStore:
             try:  # SQLite may have rolled back already (a full disk does)
                 if conn.in_transaction:
                     conn.execute("ROLLBACK")
-                self._columns = {c[1].lower(): c[1] for c in conn.execute("PRAGMA table_info(cases)")}
+                self._columns = _column_names(conn)
             except sqlite3.Error:
                 pass
             raise
@@ -389,6 +389,11 @@ class StudyStore:
                 return CaseRecord("failed", error=f"ValueError: {rule}", wall_time=record.wall_time,
                                   worker=record.worker)  # fmt: skip
         return record
+
+
+def _column_names(conn: sqlite3.Connection) -> dict[str, str]:
+    """lower-case name -> name of every column of ``cases``, as the file has them now."""
+    return {c[1].lower(): c[1] for c in conn.execute("PRAGMA table_info(cases)")}
 
 
 def _never_created(path: Path) -> bool:

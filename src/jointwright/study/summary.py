@@ -99,7 +99,8 @@ def export_csv(
     try:
         fd, name = tempfile.mkstemp(prefix=f".{csv_path.name}.", suffix=".tmp", dir=csv_path.parent)
     except OSError as exc:
-        raise InputError(str(csv_path), "csv", f"cannot be written ({exc.strerror or exc})") from None
+        raise InputError(str(csv_path), "csv",
+                         f"cannot be written ({exc.strerror or exc})") from None
     try:
         with os.fdopen(fd, "w", newline="", encoding="utf-8") as fh:
             writer = csv.writer(fh)

@@ -34,10 +34,12 @@ def check_options(options: dict, file: str, field: str) -> None:
         if key not in _OPTIONS:
             close = difflib.get_close_matches(key, sorted(_OPTIONS), n=1)
             hint = f" (did you mean {close[0]!r}?)" if close else ""
-            raise InputError(file, where, f"unknown option{hint}; known: {', '.join(sorted(_OPTIONS))}")
+            known = ", ".join(sorted(_OPTIONS))
+            raise InputError(file, where, f"unknown option{hint}; known: {known}")
         if key in _CHOICES:
             if value not in _CHOICES[key]:
-                raise InputError(file, where, f"must be one of {', '.join(_CHOICES[key])}, got {value!r}")
+                choices = ", ".join(_CHOICES[key])
+                raise InputError(file, where, f"must be one of {choices}, got {value!r}")
         elif key == "time_limit":
             ok = isinstance(value, (int, float)) and not isinstance(value, bool)
             if not ok or abs(value) > 1e300 or not math.isfinite(value) or value <= 0:
@@ -76,7 +78,8 @@ def check_study_values(spec) -> None:
         if error is None or error.field != p.path:
             continue
         m = re.match(r"\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?", value)
-        if m and _load_error(spec, p.path, _number(m.group().strip())) is None:  # the number fits, the unit not
+        # the number alone fits, so the unit is what the project cannot take there
+        if m and _load_error(spec, p.path, _number(m.group().strip())) is None:
             raise InputError(spec.file, f"vary[{i}].{p.source}",
                              f"{value!r} for {p.path}: {error.rule}") from None
 
