@@ -248,7 +248,7 @@ BAD = [
     Bad("too many stages", (("design.toml", KNEE_STAGES, KNEE_STAGES[:-1] + ', { stage = "Strap", frame = "Strap-2", ratio = 1 }]'),),
         "assess", "design.toml", "joint.knee.stages", "at most 1 stages"),
     Bad("unknown design field (typo)", (("design.toml", 'motor = "Flatwind-6"', 'motr = "Flatwind-6"'),),
-        "assess", "design.toml", "joint.hip_ab.motor", "is required"),
+        "assess", "design.toml", "joint.hip_ab.motr", "did you mean 'motor'"),
     Bad("malformed design TOML", (("design.toml", "[design]", "[design"),),
         "assess", "design.toml", "(syntax)", "malformed TOML"),
     # --- duty-cycle trajectory (CSV) -------------------------------------------------------

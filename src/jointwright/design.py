@@ -74,6 +74,7 @@ def design_from_dict(data: dict, project, file: str = "<api>") -> Design:
 
 
 def _actuator(t: Table, catalog, max_stages: int) -> Actuator:
+    t.expect("motor", "stages")
     mname = t.str("motor")
     try:
         motor = catalog.motor(mname)
@@ -85,6 +86,7 @@ def _actuator(t: Table, catalog, max_stages: int) -> Actuator:
         raise InputError(t.file, t.field("stages"), f"at most {max_stages} stages (catalog.max_stages), got {len(entries)}")
     for i, e in enumerate(entries):
         st = Table(e, t.file, f"{t.field('stages')}[{i}]")
+        st.expect("stage", "frame", "ratio")
         sname = st.str("stage")
         try:
             stage = catalog.stage(sname)

@@ -112,6 +112,12 @@ class Table:
             raise InputError(self.file, self.field(key), "must be an array of tables ([[...]])")
         return [Table(x, self.file, f"{self.field(key)}[{i}]") for i, x in enumerate(v)]
 
+    def expect(self, *keys: str) -> None:
+        """The table's fields are ``keys``: an unknown one fails now, before a required field
+        it was probably meant to be is reported missing."""
+        self._seen.update(keys)
+        self.done()
+
     def allow(self, *keys: str) -> None:
         """Count ``keys`` as known fields of this table (for :meth:`done`'s hints) without reading them."""
         self._seen.update(keys)
