@@ -171,6 +171,12 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
         for c in cl
     )
     cautions = [CAUTION]
+    if any(getattr(c, "body_region", None) is not None for c in project.cases):
+        cautions.append(
+            "Contact speeds use the two-body transient-contact model of ISO/TS 15066 with the body-"
+            "region values given in the project: they do not cover clamping, pressure limits, the "
+            "robot's stopping time or the risk assessment, which stay with the applicable standards "
+            "and licensed engineering practice.")
     for j, a in zip(names, design.actuators):
         if a.self_locking:
             cautions.append(

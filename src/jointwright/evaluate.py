@@ -37,6 +37,7 @@ import numpy as np
 from .design import DesignArrays
 from .dutycase import evaluate_duty, prepare_duty
 from .metrics.backdrive import backdrive_force
+from .metrics.contact_safety import transient_contact
 from .metrics.inertia import effective_mass, forward_effective_mass, impact_mitigation
 from .metrics.linalg_small import inv_small
 from .metrics.payload import payload_along, torque_bounds
@@ -292,6 +293,13 @@ class Evaluator:
                     "i,...ij,j->...", pc.u, inv_small(imf.Lambda), pc.u)
             else:
                 out["effective_mass" + suffix] = _effective_mass_locked(pc.J, H, pc.u, lock)
+        region = getattr(pc.case, "body_region", None)
+        if region is not None:  # a person struck along the case direction (back-driven robot)
+            force, stiffness, body = region
+            contact = transient_contact(out["effective_mass"], body, stiffness, force)
+            out["contact_speed"] = contact.speed
+            if detail:
+                out["contact_energy"] = contact.energy
         return out
 
     def _forward_effective_mass(self, pc: PreparedCase, d: DesignArrays,

@@ -24,6 +24,7 @@ _CASE_METRIC = {
     "backdrive_force_max": ("backdrive_force", "N"),
     "speed_min": ("speed", "m/s"),
     "acceleration_min": ("acceleration", "m/s²"),
+    "contact_speed_min": ("contact_speed", "m/s"),
     "rating_use_max": ("rating_use", ""),
 }
 

@@ -69,6 +69,10 @@ class Case:
     #: speed cases: distance along ``direction`` over which the end point gets up to speed from
     #: rest (m); 0 = the steady loaded speed, however long it takes to reach
     stroke: float = 0.0
+    #: impact cases: the body region a person may be hit on, as the user's applicable standard
+    #: gives it (ISO/TS 15066 two-body transient contact): (largest permissible force N,
+    #: effective spring constant N/m, effective body-region mass kg); None: no contact check
+    body_region: tuple[float, float, float] | None = None
     #: requirement name -> limit, e.g. {"payload_min": 150.0} (SI)
     limits: dict[str, float] = field(default_factory=dict)
     #: for payload cases: the force is reported as a mass too when the direction is vertical
@@ -85,6 +89,7 @@ CASE_LIMITS: dict[str, dict[str, tuple[str, str]]] = {
         "imf_min": ("dimensionless", "min"),
         "directional_imf_min": ("dimensionless", "min"),
         "effective_mass_max": ("mass", "max"),
+        "contact_speed_min": ("velocity", "min"),
     },
     "backdrive": {"backdrive_force_max": ("force", "max")},
     "speed": {"speed_min": ("velocity", "min"), "acceleration_min": ("acceleration", "min")},
@@ -428,13 +433,35 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
                                  "locked-joint inertia is unbounded and the IMF is 1; use effective_mass_max")
     if kind == "duty" and "rating_use_max" not in limits:
         limits["rating_use_max"] = 1.0
+    body_region = _body_region(t) if kind == "impact" else None
+    if "contact_speed_min" in limits and body_region is None:
+        raise InputError(t.file, t.field("contact_speed_min"), "needs the body region's "
+                         "body_force_max, body_stiffness and body_mass (from the safety standard "
+                         "that applies; jointwright ships no values)")
     weight = bool(direction is not None and abs(abs(direction[2]) - 1.0) < 1e-9)
     t.done()
     return Case(name=name, kind=kind, frame=frame, pose=pose, base_xyz=base_xyz, base_rpy=base_rpy,
                 direction=direction, motion=motion, trajectory=trajectory, ambient=ambient,
                 tip_speed=tip_speed, limits=limits, weight_equivalent=weight, contacts=contacts,
                 payload_mass=payload_mass, acceleration=acceleration, stroke=stroke, tip_force=tip_force, fixed_load=fixed_load,
-                payload_share=payload_share)
+                payload_share=payload_share, body_region=body_region)
+
+
+#: fields of an impact case's body region (transient contact, ISO/TS 15066 two-body model)
+BODY_REGION = (("body_force_max", "force"), ("body_stiffness", "stiffness_linear"), ("body_mass", "mass"))
+
+
+def _body_region(t: Table) -> tuple[float, float, float] | None:
+    """The user's body-region values of an impact case, all three or none (docs/project-format.md)."""
+    given = [key for key, _ in BODY_REGION if t.has(key)]
+    if not given:
+        t.allow(*(key for key, _ in BODY_REGION))
+        return None
+    missing = [key for key, _ in BODY_REGION if key not in given]
+    if missing:
+        raise InputError(t.file, t.field(missing[0]), "is required with "
+                         f"{', '.join(given)}: a body region needs force, stiffness and mass")
+    return tuple(t.quantity(key, dim, sign="positive") for key, dim in BODY_REGION)
 
 
 def _force_or_weight(t: Table, key: str) -> float:
