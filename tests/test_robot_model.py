@@ -384,3 +384,45 @@ def test_the_documented_example_loads():
     np.testing.assert_allclose(np.diag(thigh.inertia), [0.9 * 0.24**2 / 12] * 2 + [0], atol=1e-15)
     deg = math.pi / 180
     assert robot.position_limits("knee") == pytest.approx((-150 * deg, -5 * deg))
+
+
+def test_branching_tree_from_tables_has_a_valid_mass_matrix():
+    # a trunk with two two-link legs written as project tables: the joints reach Pinocchio in
+    # depth-first order (each subtree contiguous), so its mass matrix is symmetric positive
+    # definite and equals the one of the same robot built joint by joint in depth-first order by
+    # hand (Pinocchio, rigid-body mechanics [pub])
+    links = [{"name": "trunk", "mass": 5.0, "shape": "box", "size": [0.4, 0.2, 0.1]}]
+    joints = []
+    for leg, y in (("l", 0.1), ("r", -0.1)):
+        links += [{"name": f"{leg}_thigh", "mass": 1.0, "com": [0, 0, -0.1], "inertia": [0.004, 0.004, 0.001]},
+                  {"name": f"{leg}_shin", "mass": 0.5, "com": [0, 0, -0.1], "inertia": [0.002, 0.002, 0.0005]}]
+        joints += [{"name": f"{leg}_hip", "type": "revolute", "parent": "trunk", "child": f"{leg}_thigh",
+                    "xyz": [0, y, 0], "axis": [0, 1, 0]},
+                   {"name": f"{leg}_knee", "type": "revolute", "parent": f"{leg}_thigh", "child": f"{leg}_shin",
+                    "xyz": [0, 0, -0.2], "axis": [0, 1, 0]}]
+    # list the joints breadth first, as a user may write them
+    joints = [joints[0], joints[2], joints[1], joints[3]]
+    robot = Robot.from_links({"base": "floating", "links": links, "joints": joints}, file="two_legs.toml")
+    q = robot.configuration({"l_hip": 0.3, "l_knee": -0.6, "r_hip": -0.2, "r_knee": 0.5})
+    M = full_mass_matrix(robot.model, q)
+    assert np.linalg.eigvalsh(M).min() > 0
+    # reference: the same bodies, each leg's joints added one after the other
+    ref = pin.Model()
+    trunk = ref.addJoint(0, pin.JointModelFreeFlyer(), pin.SE3.Identity(), "root_joint")
+    ref.appendBodyToJoint(trunk, pin.Inertia(5.0, np.zeros(3), np.diag([5.0 * (0.2**2 + 0.1**2) / 12,
+                                                                        5.0 * (0.4**2 + 0.1**2) / 12,
+                                                                        5.0 * (0.4**2 + 0.2**2) / 12])), pin.SE3.Identity())
+    for leg, y in (("l", 0.1), ("r", -0.1)):
+        hip = ref.addJoint(trunk, pin.JointModelRY(), pin.SE3(np.eye(3), np.array([0, y, 0])), f"{leg}_hip")
+        ref.appendBodyToJoint(hip, pin.Inertia(1.0, np.array([0, 0, -0.1]), np.diag([0.004, 0.004, 0.001])), pin.SE3.Identity())
+        knee = ref.addJoint(hip, pin.JointModelRY(), pin.SE3(np.eye(3), np.array([0, 0, -0.2])), f"{leg}_knee")
+        ref.appendBodyToJoint(knee, pin.Inertia(0.5, np.array([0, 0, -0.1]), np.diag([0.002, 0.002, 0.0005])), pin.SE3.Identity())
+    q_ref = pin.neutral(ref)
+    for name, v in {"l_hip": 0.3, "l_knee": -0.6, "r_hip": -0.2, "r_knee": 0.5}.items():
+        q_ref[ref.joints[ref.getJointId(name)].idx_q] = v
+    M_ref = full_mass_matrix(ref, q_ref)
+    order = [robot.model.joints[robot.model.getJointId(n)].idx_v for n in ("l_hip", "l_knee", "r_hip", "r_knee")]
+    order_ref = [ref.joints[ref.getJointId(n)].idx_v for n in ("l_hip", "l_knee", "r_hip", "r_knee")]
+    idx = list(range(6)) + order
+    idx_ref = list(range(6)) + order_ref
+    np.testing.assert_allclose(M[np.ix_(idx, idx)], M_ref[np.ix_(idx_ref, idx_ref)], rtol=0, atol=1e-12)

@@ -787,12 +787,16 @@ def _tree_order(links: dict, joints: list[dict], file: str, where: str) -> tuple
     if len(roots) != 1:
         rule = "the links form a cycle" if not roots else f"several root links {roots}"
         raise InputError(file, f"{where}.joints", f"must form one tree: {rule}")
-    order, stack = [], [roots[0]]
+    # depth-first preorder of the joints: Pinocchio needs every subtree's joints contiguous
+    # (its algorithms walk a joint's subtree as a range of indices)
+    children: dict[str, list[dict]] = {}
+    for j in joints:
+        children.setdefault(j["parent"], []).append(j)
+    order, stack = [], list(reversed(children.get(roots[0], [])))
     while stack:
-        link = stack.pop()
-        kids = [j for j in joints if j["parent"] == link]
-        order.extend(kids)
-        stack.extend(j["child"] for j in reversed(kids))
+        j = stack.pop()
+        order.append(j)
+        stack.extend(reversed(children.get(j["child"], [])))
     if len(order) != len(joints):
         stray = next(j for j in joints if j not in order)
         raise InputError(file, f"{stray['where']}.parent", "the links form a cycle")
