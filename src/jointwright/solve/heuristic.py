@@ -168,13 +168,15 @@ class Heuristic:
             batches += 1
             if self.out_of_time():
                 break
-            size = 64 if blind_screen(model) else BATCH
+            blind = blind_screen(model)
+            size = 256 if blind else BATCH
             index = np.empty((size, model.n), dtype=np.int64)
             for u, opts in zip(self.units, self.options):
                 index[:, list(u)] = self.rng.choice(opts, size)[:, None]
             ok, f, mass, viol = _merit(model, index)
             order = _order(ok, f, mass, viol)
-            self.offer(index[order[:32]])
+            # scored in full already when blind: only the batch's best is offered (re-scored)
+            self.offer(index[order[:1 if blind else 32]])
             pool.append((index[order[:starts]], ok[order[:starts]], f[order[:starts]],
                          mass[order[:starts]], viol[order[:starts]]))
         if pool:
