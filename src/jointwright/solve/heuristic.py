@@ -153,16 +153,18 @@ class Heuristic:
                 hi = level
 
     def sample_and_improve(self, samples: int = 4 * BATCH, starts: int = 3) -> None:
-        """Random designs: at least ``samples``, and with ``extend`` more until half of the time
-        left has been used (80 % when designs are scored in full); then local search from the
-        best few."""
+        """Random designs: at least ``samples``, and, with ``extend`` and no design yet, more until
+        half of the time left has been used (80 % when designs are scored in full); then local
+        search from the best few."""
         model = self.model
         pool = []
         t0 = time.perf_counter()
         # scored in full (stance cases alone set the objective), one-unit moves cost a cone
         # program per option and gain little: sampling gets most of the time
         share = 0.8 if blind_screen(model) else 0.5
-        half = t0 + share * max(self.deadline - t0, 0.0) if self.extend else t0
+        # longer sampling only when the greedy found nothing (random designs rarely beat it)
+        extend = self.extend and self.best is None
+        half = t0 + share * max(self.deadline - t0, 0.0) if extend else t0
         batches = 0
         while batches < max(1, samples // BATCH) or time.perf_counter() < half:
             batches += 1
