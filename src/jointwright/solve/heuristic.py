@@ -173,7 +173,7 @@ class Heuristic:
             blind = blind_screen(model)
             size = 256 if blind else BATCH
             index = np.empty((size, model.n), dtype=np.int64)
-            for u, opts in zip(self.units, self.options):
+            for u, opts in zip(self.units, self.options, strict=True):
                 index[:, list(u)] = self.rng.choice(opts, size)[:, None]
             ok, f, mass, viol = _merit(model, index)
             order = _order(ok, f, mass, viol)
@@ -182,7 +182,7 @@ class Heuristic:
             pool.append((index[order[:starts]], ok[order[:starts]], f[order[:starts]],
                          mass[order[:starts]], viol[order[:starts]]))
         if pool:
-            idx_all, *merit = (np.concatenate(x) for x in zip(*pool))
+            idx_all, *merit = (np.concatenate(x) for x in zip(*pool, strict=True))
             pool = list(idx_all[_order(*merit)[:starts]])
         if self.best is not None:
             pool.insert(0, np.array(self.best[3]))
@@ -197,7 +197,7 @@ class Heuristic:
         cur = _merit(model, index[None, :])
         for _ in range(passes):
             moved = False
-            for u, opts in zip(self.units, self.options):
+            for u, opts in zip(self.units, self.options, strict=True):
                 if self.out_of_time():
                     self.offer(index[None, :])
                     return

@@ -317,7 +317,7 @@ class SizingModel:
             if block.shape[0] and np.any(np.all(block >= g, axis=1)):
                 continue
             keep = ~np.all(g >= block, axis=1) if block.shape[0] else np.zeros(0, dtype=bool)
-            front = [f for f, k in zip(front, keep) if k] + [i]
+            front = [f for f, k in zip(front, keep, strict=True) if k] + [i]
             block = np.vstack([block[keep], g[None, :]])
         return R[np.array(front, dtype=int)]
 
@@ -693,7 +693,8 @@ class SizingModel:
             Jt = np.where(keep[:, :, None], np.broadcast_to(J.T, (K,) + J.T.shape), 0.0)
             A = np.einsum("ij,kjl->kil", J, np.linalg.solve(H_lo, Jt)) if J.ndim == 2 else None
             Jb = J[:, :nb]
-            B = np.einsum("ij,kjl->kil", Jb, np.linalg.solve(H_hi[:, :nb, :nb], np.broadcast_to(Jb.T, (K,) + Jb.T.shape)))
+            rhs = np.broadcast_to(Jb.T, (K,) + Jb.T.shape)
+            B = np.einsum("ij,kjl->kil", Jb, np.linalg.solve(H_hi[:, :nb, :nb], rhs))
             A = 0.5 * (A + np.swapaxes(A, 1, 2))
             B = 0.5 * (B + np.swapaxes(B, 1, 2))
             det_a = np.linalg.det(A)
@@ -706,7 +707,8 @@ class SizingModel:
             xi = np.where(np.isfinite(xi), np.clip(xi, 0.0, 1.0), 1.0)
             xd = np.where(np.isfinite(xd), np.clip(xd, 0.0, 1.0), 1.0)
             # round-off: a relative slack on both
-            out[pc.case.name] = (np.minimum(xi * (1 + 1e-7) + 1e-9, 1.0), np.minimum(xd * (1 + 1e-7) + 1e-9, 1.0))
+            out[pc.case.name] = (np.minimum(xi * (1 + 1e-7) + 1e-9, 1.0),
+                                 np.minimum(xd * (1 + 1e-7) + 1e-9, 1.0))
         return out
 
     def impact_ok(self, idx, unit, options, st, bounds=None) -> np.ndarray:
