@@ -162,3 +162,22 @@ def test_cli_no_explain_skips_the_runner_ups(tmp_path):
     r = runner.invoke(main, ["size", project, "--no-explain", "--json"])
     data = json.loads(r.output[r.output.index("{"):])
     assert data["alternatives"] == [] and data["diagnosis"] == []
+
+
+def test_progress_is_told_every_phase(small):
+    """A progress object with a phase method hears each phase in order (the command line shows
+    them on stderr)."""
+    seen = []
+
+    class Progress:
+        def __call__(self, nodes, best):
+            pass
+
+        def phase(self, text):
+            seen.append(text)
+
+    r = size(small, progress=Progress())
+    assert seen[:4] == ["building options", "filtering options", "tightening", "first designs"]
+    assert "searching" in seen
+    if r.design is not None:
+        assert seen[-1] == "explaining"
