@@ -55,7 +55,7 @@ def _evaluate(model, full_idx: np.ndarray, costly: bool):
     cl = checks(project, arrays, ev)
     D = full_idx.shape[0]
     ok = feasible(cl, D)
-    s = model.score_arrays(arrays, full_idx, full=costly)
+    s = model.score_arrays(arrays, full_idx, full=costly, evaluation=ev)
     margins = np.stack([c.margin for c in cl]) if cl else np.zeros((0, D))
     return ok & s.feasible, s.objective, margins, cl
 

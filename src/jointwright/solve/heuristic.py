@@ -41,7 +41,7 @@ def _merit(model: SizingModel, index: np.ndarray):
     full = blind_screen(model)
     ev = (model.evaluator if full else model.static_evaluator).evaluate(arrays, detail=False)
     cl = checks(model.project if full else model.static_project, arrays, ev)
-    s = model.score_arrays(arrays, index, full=full)
+    s = model.score_arrays(arrays, index, full=full, evaluation=ev)
     viol = np.zeros(index.shape[0])
     for c in cl:
         m = c.margin

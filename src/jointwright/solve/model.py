@@ -140,11 +140,13 @@ class SizingModel:
         index = np.atleast_2d(np.asarray(index, dtype=np.int64))
         return self.score_arrays(self.table.arrays(index), index, full=full)
 
-    def score_arrays(self, arrays, index: np.ndarray, *, full: bool = True) -> Scored:
-        """:meth:`score` for designs given as DesignArrays (``index`` only labels them)."""
+    def score_arrays(self, arrays, index: np.ndarray, *, full: bool = True, evaluation=None) -> Scored:
+        """:meth:`score` for designs given as DesignArrays (``index`` only labels them);
+        ``evaluation``: the matching evaluator output when the caller has it already."""
         full = full and bool(self.duty or self.stance)
         project = self.project if full else self.static_project
-        ev = (self.evaluator if full else self.static_evaluator).evaluate(arrays, detail=False)
+        ev = evaluation if evaluation is not None else (
+            self.evaluator if full else self.static_evaluator).evaluate(arrays, detail=False)
         ok = feasible(checks(project, arrays, ev), index.shape[0])
         for group in self.shared:
             ok &= np.all(index[:, list(group)] == index[:, [group[0]]], axis=1)
