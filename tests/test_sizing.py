@@ -188,3 +188,22 @@ def test_bundled_leg_maximizes_the_payload_mass_every_case_carries():
     # get far more than the 200 N the raw minimum gave them
     raw_min = min(metrics[c.name]["payload"] for c in leg.cases if c.kind == "payload" and c.name != "side-step")
     assert raw_min > 300.0
+
+
+def test_progress_is_told_every_phase(small):
+    """A progress object with a phase method hears each phase in order (the command line shows
+    them on stderr)."""
+    seen = []
+
+    class Progress:
+        def __call__(self, nodes, best):
+            pass
+
+        def phase(self, text):
+            seen.append(text)
+
+    r = size(small, progress=Progress())
+    assert seen[:4] == ["building options", "filtering options", "tightening", "first designs"]
+    assert "searching" in seen
+    if r.design is not None:
+        assert seen[-1] == "explaining"

@@ -367,7 +367,7 @@ def test_quadruped_with_stance_cases_matches_enumeration(seed, kind):
     rows = []
     for combo in itertools.product(range(len(table)), repeat=len(groups)):
         idx = np.empty(len(joints), dtype=np.int64)
-        for g, o in zip(groups, combo):
+        for g, o in zip(groups, combo, strict=True):
             idx[g] = o
         rows.append(idx)
     key = model.best_key(np.array(rows))

@@ -181,7 +181,8 @@ def run_backend(model: SizingModel, units, backend: str, time_limit, progress, p
         if time_limit is not None:
             time_limit = max(time_limit - (time.perf_counter() - t0), 1e-3)
         (phase or (lambda text: None))("searching")
-        return BranchAndBound(model, units, time_limit=time_limit, progress=progress, incumbent=incumbent).run()
+        return BranchAndBound(model, units, time_limit=time_limit, progress=progress,
+                              incumbent=incumbent).run()
     if backend == "pyomo":
         from .solve.pyomo_backend import solve_pyomo
 
@@ -204,7 +205,8 @@ class Plan:
         self.start = start
         self.limit = time_limit
         self.end = math.inf if time_limit is None else start + time_limit
-        self.solve_end = self.end if (time_limit is None or not explain) else start + (1 - EXPLAIN_SHARE) * time_limit
+        self.solve_end = (self.end if (time_limit is None or not explain)
+                          else start + (1 - EXPLAIN_SHARE) * time_limit)
 
     def solve_left(self):
         return None if math.isinf(self.solve_end) else max(self.solve_end - time.perf_counter(), 1e-3)

@@ -7,7 +7,7 @@ import math
 
 import numpy as np
 
-from ..problem import checks, feasible, objective
+from ..problem import checks, feasible
 from ..project import STANDARD_GRAVITY, JointLimits, Requirements
 from .result import Alternative, Diagnosis
 
@@ -55,7 +55,7 @@ def _evaluate(model, full_idx: np.ndarray, costly: bool):
     cl = checks(project, arrays, ev)
     D = full_idx.shape[0]
     ok = feasible(cl, D)
-    s = model.score_arrays(arrays, full_idx, full=costly)
+    s = model.score_arrays(arrays, full_idx, full=costly, evaluation=ev)
     margins = np.stack([c.margin for c in cl]) if cl else np.zeros((0, D))
     return ok & s.feasible, s.objective, margins, cl
 
@@ -107,8 +107,12 @@ def alternatives(project, model, index: np.ndarray, value: float, deadline=None)
         # groups whose options all left the candidates: represented by their options in the table
         missing = {}
         for o, a_ in enumerate(table.actuators):
-            for key in ((("other motor", a_.motor.name),) if a_.motor.name != chosen.motor.name else ()) + \
-                    ((("other stage type", _stack_kind(a_)),) if _stack_kind(a_) != _stack_kind(chosen) else ()):
+            keys = []
+            if a_.motor.name != chosen.motor.name:
+                keys.append(("other motor", a_.motor.name))
+            if _stack_kind(a_) != _stack_kind(chosen):
+                keys.append(("other stage type", _stack_kind(a_)))
+            for key in keys:
                 if key not in groups:
                     missing.setdefault(key, []).append(o)
         picks = {}

@@ -41,7 +41,7 @@ def _merit(model: SizingModel, index: np.ndarray):
     full = blind_screen(model)
     ev = (model.evaluator if full else model.static_evaluator).evaluate(arrays, detail=False)
     cl = checks(model.project if full else model.static_project, arrays, ev)
-    s = model.score_arrays(arrays, index, full=full)
+    s = model.score_arrays(arrays, index, full=full, evaluation=ev)
     viol = np.zeros(index.shape[0])
     for c in cl:
         m = c.margin
@@ -153,32 +153,36 @@ class Heuristic:
                 hi = level
 
     def sample_and_improve(self, samples: int = 4 * BATCH, starts: int = 3) -> None:
-        """Random designs: at least ``samples``, and with ``extend`` more until half of the time
-        left has been used (80 % when designs are scored in full); then local search from the
-        best few."""
+        """Random designs: at least ``samples``, and, with ``extend`` and no design yet, more until
+        half of the time left has been used (80 % when designs are scored in full); then local
+        search from the best few."""
         model = self.model
         pool = []
         t0 = time.perf_counter()
         # scored in full (stance cases alone set the objective), one-unit moves cost a cone
         # program per option and gain little: sampling gets most of the time
         share = 0.8 if blind_screen(model) else 0.5
-        half = t0 + share * max(self.deadline - t0, 0.0) if self.extend else t0
+        # longer sampling only when the greedy found nothing (random designs rarely beat it)
+        extend = self.extend and self.best is None
+        half = t0 + share * max(self.deadline - t0, 0.0) if extend else t0
         batches = 0
         while batches < max(1, samples // BATCH) or time.perf_counter() < half:
             batches += 1
             if self.out_of_time():
                 break
-            size = 64 if blind_screen(model) else BATCH
+            blind = blind_screen(model)
+            size = 256 if blind else BATCH
             index = np.empty((size, model.n), dtype=np.int64)
-            for u, opts in zip(self.units, self.options):
+            for u, opts in zip(self.units, self.options, strict=True):
                 index[:, list(u)] = self.rng.choice(opts, size)[:, None]
             ok, f, mass, viol = _merit(model, index)
             order = _order(ok, f, mass, viol)
-            self.offer(index[order[:32]])
+            # scored in full already when blind: only the batch's best is offered (re-scored)
+            self.offer(index[order[:1 if blind else 32]])
             pool.append((index[order[:starts]], ok[order[:starts]], f[order[:starts]],
                          mass[order[:starts]], viol[order[:starts]]))
         if pool:
-            idx_all, *merit = (np.concatenate(x) for x in zip(*pool))
+            idx_all, *merit = (np.concatenate(x) for x in zip(*pool, strict=True))
             pool = list(idx_all[_order(*merit)[:starts]])
         if self.best is not None:
             pool.insert(0, np.array(self.best[3]))
@@ -193,7 +197,7 @@ class Heuristic:
         cur = _merit(model, index[None, :])
         for _ in range(passes):
             moved = False
-            for u, opts in zip(self.units, self.options):
+            for u, opts in zip(self.units, self.options, strict=True):
                 if self.out_of_time():
                     self.offer(index[None, :])
                     return

@@ -143,11 +143,13 @@ class SizingModel:
         index = np.atleast_2d(np.asarray(index, dtype=np.int64))
         return self.score_arrays(self.table.arrays(index), index, full=full)
 
-    def score_arrays(self, arrays, index: np.ndarray, *, full: bool = True) -> Scored:
-        """:meth:`score` for designs given as DesignArrays (``index`` only labels them)."""
+    def score_arrays(self, arrays, index: np.ndarray, *, full: bool = True, evaluation=None) -> Scored:
+        """:meth:`score` for designs given as DesignArrays (``index`` only labels them);
+        ``evaluation``: the matching evaluator output when the caller has it already."""
         full = full and bool(self.duty or self.stance)
         project = self.project if full else self.static_project
-        ev = (self.evaluator if full else self.static_evaluator).evaluate(arrays, detail=False)
+        ev = evaluation if evaluation is not None else (
+            self.evaluator if full else self.static_evaluator).evaluate(arrays, detail=False)
         ok = feasible(checks(project, arrays, ev), index.shape[0])
         for group in self.shared:
             ok &= np.all(index[:, list(group)] == index[:, [group[0]]], axis=1)
@@ -320,7 +322,7 @@ class SizingModel:
             if block.shape[0] and np.any(np.all(block >= g, axis=1)):
                 continue
             keep = ~np.all(g >= block, axis=1) if block.shape[0] else np.zeros(0, dtype=bool)
-            front = [f for f, k in zip(front, keep) if k] + [i]
+            front = [f for f, k in zip(front, keep, strict=True) if k] + [i]
             block = np.vstack([block[keep], g[None, :]])
         return R[np.array(front, dtype=int)]
 
@@ -701,7 +703,8 @@ class SizingModel:
             Jt = np.where(keep[:, :, None], np.broadcast_to(J.T, (K,) + J.T.shape), 0.0)
             A = np.einsum("ij,kjl->kil", J, np.linalg.solve(H_lo, Jt)) if J.ndim == 2 else None
             Jb = J[:, :nb]
-            B = np.einsum("ij,kjl->kil", Jb, np.linalg.solve(H_hi[:, :nb, :nb], np.broadcast_to(Jb.T, (K,) + Jb.T.shape)))
+            rhs = np.broadcast_to(Jb.T, (K,) + Jb.T.shape)
+            B = np.einsum("ij,kjl->kil", Jb, np.linalg.solve(H_hi[:, :nb, :nb], rhs))
             A = 0.5 * (A + np.swapaxes(A, 1, 2))
             B = 0.5 * (B + np.swapaxes(B, 1, 2))
             det_a = np.linalg.det(A)
@@ -714,7 +717,8 @@ class SizingModel:
             xi = np.where(np.isfinite(xi), np.clip(xi, 0.0, 1.0), 1.0)
             xd = np.where(np.isfinite(xd), np.clip(xd, 0.0, 1.0), 1.0)
             # round-off: a relative slack on both
-            out[pc.case.name] = (np.minimum(xi * (1 + 1e-7) + 1e-9, 1.0), np.minimum(xd * (1 + 1e-7) + 1e-9, 1.0))
+            out[pc.case.name] = (np.minimum(xi * (1 + 1e-7) + 1e-9, 1.0),
+                                 np.minimum(xd * (1 + 1e-7) + 1e-9, 1.0))
         return out
 
     def impact_ok(self, idx, unit, options, st, bounds=None) -> np.ndarray:
