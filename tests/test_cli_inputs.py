@@ -147,7 +147,7 @@ BAD = [
     Bad("missing URDF", (("project.toml", 'urdf = "leg.urdf"', 'urdf = "legs.urdf"'),),
         "check", "legs.urdf", "urdf", "cannot read the file"),
     Bad("missing catalog", (("project.toml", 'files = ["catalog.toml"]', 'files = ["catalogue.toml"]'),),
-        "check", "catalogue.toml", "(file)", "file not found"),
+        "check", "project.toml", "catalog.files[0]", "no catalog file"),
     Bad("catalog list empty", (("project.toml", 'files = ["catalog.toml"]', "files = []"),),
         "check", "project.toml", "catalog.files", "non-empty list of file paths"),
     Bad("mount on a missing link", (("project.toml", 'mount_link = "thigh"', 'mount_link = "thig"'),),

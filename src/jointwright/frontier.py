@@ -155,6 +155,10 @@ def frontier(project, measure: str = "imf", *, case: str | None = None, points: 
             complete = True
             break
         if status != "optimal":
+            if design is not None and not found:
+                # stopped before the first proof: the best design found is still a feasible
+                # point the architect can start from (the frontier is marked sampled)
+                found.append((payload, _measure(project, design, c.name, metric), design))
             break
         left = None if time_limit is None else max(deadline - time.perf_counter(), 1e-3)
         status2, _value, best = _solve(current, f"{metric}@{c.name}", payload, left, None, "search")

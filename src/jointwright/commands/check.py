@@ -121,7 +121,7 @@ def command(project: Path, as_json: bool):
                      for x in s["cases"][:SHOWN_CASES]],
                     caption=f"the first {SHOWN_CASES} of {len(s['cases']):,} cases; --json lists all"
                     if more > 0 else None))
-    grows = [x for x in s["cases"] if x.get("payload_growth")]
+    grows = [x for x in s["cases"][:SHOWN_CASES] if x.get("payload_growth")]
     if grows:
         con.print("load per payload mass m_p (the payload objective reads each case's force as kg carried): "
                   + "; ".join(f"{x['name']} {num(x['payload_growth']['fixed_load'], 'N')} + "
