@@ -48,7 +48,8 @@ def print_frontier(f) -> None:
 @click.option("--method", type=click.Choice(["auto", "exhaustive", "sweep"]), default="auto",
               help="exhaustive: score every candidate design (complete); sweep: exact ε-constraint "
                    "solves; auto: exhaustive up to 2 million candidate designs")
-@click.option("--points", type=click.IntRange(min=1), default=50, help="most exact solves (sweep)")
+@click.option("--points", type=click.IntRange(min=1), default=50, show_default=True,
+              help="most exact solves (sweep)")
 @click.option("--time-limit", type=float, default=None, help="seconds for the whole sweep")
 @click.option("--json", "as_json", is_flag=True, help="machine-readable output")
 @click.option("--out", type=click.Path(path_type=Path), default=None, help="write the frontier as JSON here")
