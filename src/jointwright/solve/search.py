@@ -90,9 +90,13 @@ class BranchAndBound:
     def run(self) -> SolveOutcome:
         start = time.perf_counter()
         n = self.model.n
-        if any(self.unit_options(u).size == 0 for u in self.units):
+        empty = [u for u in self.units if self.unit_options(u).size == 0]
+        if empty:
+            names = ", ".join(self.model.project.robot.actuated[j] for j in empty[0])
             return SolveOutcome("infeasible", None, -math.inf, -math.inf, time.perf_counter() - start,
-                                "a joint has no option left after its own filters", 0)
+                                f"no option of {names} can meet every requirement in any design "
+                                "(per-joint filters and proven bounds; the diagnosis names the "
+                                "requirement)", 0)
         self._node(np.full(n, -1, dtype=np.int64), 0)
         elapsed = time.perf_counter() - start
         best = self.best_key
