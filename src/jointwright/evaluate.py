@@ -139,9 +139,6 @@ class Evaluator:
             out[pd.case.name] = evaluate_duty(pd, d, detail=detail)
         return out
 
-    def _bias(self, pc: PreparedCase, d: DesignArrays) -> np.ndarray:
-        return gravity(pc.basis, d.mass)[..., self.v_index]
-
     def _payload(self, pc: PreparedCase, d: DesignArrays, detail: bool = True) -> dict[str, np.ndarray]:
         """Tip force along u for three intended motions and with a frictionless transmission.
 
@@ -149,7 +146,8 @@ class Evaluator:
         the tip yields (lowering, absorbing); ``payload_hold``: static, holding capacity both
         ways. ``payload`` is the one the case's ``motion`` names.
         """
-        bias = self._bias(pc, d)
+        g = gravity(pc.basis, d.mass)
+        bias = g[..., self.v_index]
         cap_m, cap_b = d.capacity("motoring"), d.capacity("backdriven")
         if pc.case.tip_speed > 0:
             cap_m, cap_b = self.capacity_at_speed(pc, d)
@@ -157,7 +155,7 @@ class Evaluator:
         # velocity_sign already points the way the case moves; flip it for the opposite motion
         along = pc.velocity_sign if pc.case.motion != "against" else -pc.velocity_sign
         own = {"along": "raise", "against": "lower", "hold": "hold"}[pc.case.motion]
-        Jx, bias_x = self._with_free(pc, d, pc.Jj, bias)
+        Jx, bias_x = self._with_free(pc, g, bias)
         results = {}
         for label, s in (("raise", along), ("lower", -along), ("hold", np.zeros_like(along))):
             if detail or label == own:
@@ -177,14 +175,18 @@ class Evaluator:
             out["joint_torque"] = bias + force[..., None] * a
         return out
 
-    def _with_free(self, pc: PreparedCase, d: DesignArrays, Jj: np.ndarray, bias: np.ndarray):
-        """Tip Jacobian columns and bias torques of the actuated joints, then the free ones."""
+    def _free_gravity(self, g: np.ndarray) -> np.ndarray:
+        """Gravity torques of the free joints from the full vector ``g``; rounding taken as 0."""
+        g_free = g[..., self.free_index]
+        return np.where(np.abs(g_free) <= FREE_JOINT_TOLERANCE, 0.0, g_free)
+
+    def _with_free(self, pc: PreparedCase, g: np.ndarray, bias: np.ndarray):
+        """Tip Jacobian columns and bias torques of the actuated joints, then the free ones
+        (``g``: the full gravity vector, already computed)."""
         if not self.free_index.size:
-            return Jj, bias
-        g_free = gravity(pc.basis, d.mass)[..., self.free_index]
-        g_free = np.where(np.abs(g_free) <= FREE_JOINT_TOLERANCE, 0.0, g_free)  # rounding only
-        return (np.concatenate([Jj, pc.J[:, self.free_index]], axis=1),
-                np.concatenate([bias, g_free], axis=-1))
+            return pc.Jj, bias
+        return (np.concatenate([pc.Jj, pc.J[:, self.free_index]], axis=1),
+                np.concatenate([bias, self._free_gravity(g)], axis=-1))
 
     def _free_bounds(self, lo: np.ndarray, hi: np.ndarray):
         """Torque bounds with the free joints appended: a free joint carries no torque."""
@@ -357,7 +359,8 @@ class Evaluator:
         a = np.linalg.pinv(pc.Jj) @ pc.u
         g_vec = self.robot.gravity
         weight = case.payload_mass * (-g_vec)  # force the tip exerts to carry the payload, N
-        tau_rest = self._bias(pc, d) + pc.Jj.T @ (weight + np.asarray(case.tip_force, dtype=float))
+        g = gravity(pc.basis, d.mass)
+        tau_rest = g[..., self.v_index] + pc.Jj.T @ (weight + np.asarray(case.tip_force, dtype=float))
         tau_per_acc = M @ a + case.payload_mass * (pc.Jj.T @ pc.u)
         acc = case.acceleration
         known = ~(np.isnan(d.torque_constant) | np.isnan(d.resistance) | np.isnan(d.bus_voltage))
@@ -385,9 +388,8 @@ class Evaluator:
         if self.free_index.size:
             # a free joint carries no torque: a load that needs torque there cannot be carried
             # (the motion is held still at the free joints; their weight and the load's share)
-            g_free = gravity(pc.basis, d.mass)[..., self.free_index]
             Jf = pc.J[:, self.free_index]
-            tau_free = g_free + Jf.T @ (weight + np.asarray(case.tip_force, dtype=float))
+            tau_free = self._free_gravity(g) + Jf.T @ (weight + np.asarray(case.tip_force, dtype=float))
             stuck = np.any(np.abs(tau_free) > FREE_JOINT_TOLERANCE, axis=-1)
             carries = carries & ~stuck
             speed = np.where(stuck, 0.0, speed)
