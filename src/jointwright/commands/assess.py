@@ -33,10 +33,15 @@ SHOWN = {
               ("stroke_time", "time to cover the stroke from rest", "s"),
               ("acceleration", "acceleration along the direction from rest, with the load", "m/s²"),
               ("speed_no_load", "no-load speed (motor top speed / ratio; for reference only)", "m/s")],
-    "duty": [("rating_use", "largest rating use over joints (1 = fully used)", ""),
+    "duty": [("rating_use", "largest rating use over joints (100 % = a rating fully used)", "%"),
              ("cycle_energy_no_regen", "electrical energy per cycle, no regeneration", "J"),
              ("cycle_energy_regen", "electrical energy per cycle, with regeneration", "J")],
 }
+
+#: duty-cycle rating checks (metrics.duty.CHECKS) in words
+LIMITING_QUANTITY = {"rms_torque": "continuous torque (RMS)", "peak_torque": "peak torque",
+                     "speed": "motor top speed", "envelope": "torque-speed line",
+                     "temperature": "winding temperature"}
 
 #: per-joint duty metrics shown as a joints × quantities table: (key, label, unit, scale); the
 #: rating uses and the back-driven share are fractions shown in %
@@ -81,7 +86,10 @@ def print_assessment(a) -> None:
         rows = []
         for key, label, unit in SHOWN.get(c.kind, []):
             if key in c.metrics and c.metrics[key] is not None:
-                rows.append([label, num(c.metrics[key], unit)])
+                value = c.metrics[key]
+                if unit == "%":  # a fraction shown in per cent, as in the requirements table
+                    value = _scaled(value, 100.0)
+                rows.append([label, num(value, unit)])
         extra = []
         if c.kind in ("payload", "stance") and c.metrics.get("payload") not in (None, "inf"):
             rows.append(["as a mass at standard gravity", num(float(c.metrics["payload"]) / 9.80665, "kg")])
@@ -92,7 +100,8 @@ def print_assessment(a) -> None:
             joints = [j.joint for j in a.joints]
             drows = [[label] + [num(_scaled(c.metrics.get(f"{key}:{j}"), scale), unit) for j in joints]
                      for key, label, unit, scale in DUTY_JOINT]
-            rows += [["limiting quantity", str(c.metrics.get("limiting_quantity", "—"))]]
+            quantity = str(c.metrics.get("limiting_quantity", "—"))
+            rows += [["limiting quantity", LIMITING_QUANTITY.get(quantity, quantity)]]
         if c.note:
             extra.append(f"[red]carries nothing:[/red] {c.note}")
         elif c.limiting_joint:
