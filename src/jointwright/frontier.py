@@ -137,9 +137,14 @@ def frontier(project, measure: str = "imf", *, case: str | None = None, points: 
     deadline = math.inf if time_limit is None else start + time_limit
     if method not in ("auto", "exhaustive", "sweep"):
         raise InputError("<api>", "method", f"must be auto, exhaustive or sweep, got {method!r}")
+    from .options import build_table
+    from .sizing import read_objective
+
+    # one option table for every solve: it depends on the catalog and the exclusions only
+    table = build_table(project, read_objective(project)["exclude"])
     if method != "sweep":
         limit = EXHAUSTIVE_MAX if method == "auto" else math.inf
-        exhaustive = _exhaustive(project, c.name, key, metric, sense, deadline, start, limit)
+        exhaustive = _exhaustive(project, c.name, key, metric, sense, deadline, start, limit, table)
         if exhaustive is not None:
             return exhaustive
     found, eps, solves, complete = [], None, 0, False
@@ -149,7 +154,8 @@ def frontier(project, measure: str = "imf", *, case: str | None = None, points: 
             break
         current = with_limit(project, c.name, key, eps)
         upper = found[-1][0] if found else None  # the neighbour's payload bounds this one
-        status, payload, design = _solve(current, "payload", None, time_limit and left, upper, backend)
+        status, payload, design = _solve(current, "payload", None, time_limit and left, upper, backend,
+                                         table)
         solves += 1
         if status == "infeasible":
             complete = True
@@ -161,7 +167,8 @@ def frontier(project, measure: str = "imf", *, case: str | None = None, points: 
                 found.append((payload, _measure(project, design, c.name, metric), design))
             break
         left = None if time_limit is None else max(deadline - time.perf_counter(), 1e-3)
-        status2, _value, best = _solve(current, f"{metric}@{c.name}", payload, left, None, "search")
+        status2, _value, best = _solve(current, f"{metric}@{c.name}", payload, left, None, "search",
+                                       table)
         solves += 1
         if status2 == "optimal":
             design = best
@@ -186,7 +193,7 @@ EXHAUSTIVE_MAX = 2_000_000
 
 
 def _exhaustive(project, case: str, key: str, metric: str, sense: str, deadline: float,
-                start: float, limit: float) -> Frontier | None:
+                start: float, limit: float, table) -> Frontier | None:
     """The complete front by scoring every candidate combination, or None when there are too
     many (the ε-constraint sweep takes over)."""
     from .sizing import build_model, design_of, read_objective, units_of
@@ -194,7 +201,7 @@ def _exhaustive(project, case: str, key: str, metric: str, sense: str, deadline:
 
     free = with_limit(project, case, key, None)
     cfg = read_objective(project)
-    model, _ = build_model(free, "payload", cfg["pin"], cfg["exclude"], cfg["shared"])
+    model, _ = build_model(free, "payload", cfg["pin"], cfg["exclude"], cfg["shared"], table=table)
     units = units_of(model.n, model.shared)
     total = count(model, units)
     if total > limit:
@@ -207,7 +214,7 @@ def _exhaustive(project, case: str, key: str, metric: str, sense: str, deadline:
                     time.perf_counter() - start, 0, "exhaustive", out.scored)
 
 
-def _solve(project, kind: str, payload_floor, time_limit, upper, backend):
+def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=None):
     """One exact solve of the sweep: (status, objective, design).
 
     ``payload_floor``: every payload case must reach it (the lexicographic second stage);
@@ -228,7 +235,7 @@ def _solve(project, kind: str, payload_floor, time_limit, upper, backend):
                 float(load_for_payload(c, floor)), c.limits.get("payload_min", 0.0))})
             if c.kind == "payload" and c.payload_share > 0 else c for c in project.cases))
     cfg = read_objective(project)
-    model, _ = build_model(p, kind, cfg["pin"], cfg["exclude"], cfg["shared"])
+    model, _ = build_model(p, kind, cfg["pin"], cfg["exclude"], cfg["shared"], table=table)
     units = units_of(model.n, model.shared)
     if backend == "search" or "@" in kind:
         out = BranchAndBound(model, units, time_limit=time_limit, ties=False, upper=upper).run()
