@@ -28,13 +28,17 @@ def stance(rng: np.random.Generator, spread: float) -> dict:
     jac = np.zeros((4, 3, nv))
     jac[:, :, :6] = mc.rigid_point_jacobian(feet)
     for leg in range(4):  # limb block: hip-knee lever arms of order 0.2-0.4 m
-        jac[leg, :, 6 + 3 * leg: 9 + 3 * leg] = 0.3 * np.eye(3) + rng.normal(0, 0.05, (3, 3))
+        jac[leg, :, 6 + 3 * leg : 9 + 3 * leg] = 0.3 * np.eye(3) + rng.normal(0, 0.05, (3, 3))
     weight = 20.0 * 9.81
     joint_g = rng.normal(0, 1.0, 12)
-    return dict(gravity=np.concatenate([[0, 0, weight, 0, 0, 0], joint_g]),
-                contact_jacobians=jac, normals=np.tile([0, 0, 1.0], (4, 1)), friction=0.6,
-                payload_jacobian=mc.rigid_point_jacobian(np.zeros(3)) @ np.eye(6, nv),
-                payload_wrench=np.array([0, 0, -1.0]))
+    return dict(
+        gravity=np.concatenate([[0, 0, weight, 0, 0, 0], joint_g]),
+        contact_jacobians=jac,
+        normals=np.tile([0, 0, 1.0], (4, 1)),
+        friction=0.6,
+        payload_jacobian=mc.rigid_point_jacobian(np.zeros(3)) @ np.eye(6, nv),
+        payload_wrench=np.array([0, 0, -1.0]),
+    )
 
 
 def cases(designs: int, poses: int, seed: int = 1) -> list[mc.ContactStatics]:
@@ -47,8 +51,14 @@ def cases(designs: int, poses: int, seed: int = 1) -> list[mc.ContactStatics]:
         for pose in base:
             g = pose["gravity"].copy()
             g[6:] *= mass_scale
-            out.append(mc.ContactStatics(**{**pose, "gravity": g}, tau_low=-torque,
-                                         tau_high=torque, actuated=range(6, 18)))
+            out.append(
+                mc.ContactStatics(
+                    **{**pose, "gravity": g},
+                    tau_low=-torque,
+                    tau_high=torque,
+                    actuated=range(6, 18),
+                )
+            )
     return out
 
 
@@ -78,12 +88,16 @@ def main() -> None:
     pay_fast = np.array([r.payload for r in fast])
     pay_slow = np.array([r.payload for r in slow])
     solver = np.nanmean([r.solver_time for r in fast])
-    print(f"machine: {platform.processor() or platform.machine()}, python "
-          f"{platform.python_version()}; {len(items)} solves ({args.designs} designs × "
-          f"{args.poses} poses), nv = 18, 4 contacts, 12 joints")
-    print(f"statuses: {sorted(set(r.status for r in fast))}; payload range "
-          f"{np.nanmin(pay_fast):.1f}..{np.nanmax(pay_fast):.1f} N; "
-          f"max |resolve - rebuild| / payload = {np.nanmax(abs(pay_fast - pay_slow) / pay_slow):.1e}")
+    print(
+        f"machine: {platform.processor() or platform.machine()}, python "
+        f"{platform.python_version()}; {len(items)} solves ({args.designs} designs × "
+        f"{args.poses} poses), nv = 18, 4 contacts, 12 joints"
+    )
+    print(
+        f"statuses: {sorted(set(r.status for r in fast))}; payload range "
+        f"{np.nanmin(pay_fast):.1f}..{np.nanmax(pay_fast):.1f} N; "
+        f"max |resolve - rebuild| / payload = {np.nanmax(abs(pay_fast - pay_slow) / pay_slow):.1e}"
+    )
     print(f"{'method':34s} {'ms / solve':>10s} {'ratio':>8s}")
     print(f"{'import cvxpy (once per process)':34s} {1e3 * t_import:10.2f}")
     print(f"{'compile once + first solve':34s} {1e3 * first:10.2f}")

@@ -26,7 +26,9 @@ def option_rows(project, joint_count):
     for motor in project.catalog.all_motors():
         for stage in project.catalog.stages:
             for frame, ratio in itertools.product(stage.frames, stage.ratios):
-                rows.append(actuator_row(Actuator(motor, (StageChoice(stage, frame, float(ratio)),))))
+                rows.append(
+                    actuator_row(Actuator(motor, (StageChoice(stage, frame, float(ratio)),)))
+                )
     return rows
 
 
@@ -36,7 +38,9 @@ def main():
     ap.add_argument("--loop", type=int, default=1000, help="designs timed in the per-design loop")
     ap.add_argument("--chunk", type=int, default=10_000)
     args = ap.parse_args()
-    with resources.as_file(resources.files("jointwright.examples") / "leg" / "project.toml") as path:
+    with resources.as_file(
+        resources.files("jointwright.examples") / "leg" / "project.toml"
+    ) as path:
         project = load_project(path)
     ev = Evaluator(project)
     n_cases = len(ev.cases)
@@ -74,16 +78,22 @@ def main():
 
     rate_b = args.designs * n_cases / batched
     rate_l = args.designs * n_cases / loop
-    print(f"leg example: {args.designs} designs x {n_cases} static cases "
-          f"(+{len(duty)} duty cycle of {duty[0].trajectory.t.size if duty else 0} samples), "
-          f"{len(rows)} options per joint")
+    print(
+        f"leg example: {args.designs} designs x {n_cases} static cases "
+        f"(+{len(duty)} duty cycle of {duty[0].trajectory.t.size if duty else 0} samples), "
+        f"{len(rows)} options per joint"
+    )
     print(f"{'path':<22}{'seconds':>12}{'designs*cases/s':>20}")
     print(f"{'batched (numpy)':<22}{batched:>12.3f}{rate_b:>20,.0f}")
     print(f"{'batched, all modes':<22}{detailed:>12.3f}{args.designs * n_cases / detailed:>20,.0f}")
-    print(f"{'batched + duty cycle':<22}{with_duty:>12.3f}{args.designs * (n_cases + len(duty)) / with_duty:>20,.0f}"
-          "   (duty counted as one more case)")
+    print(
+        f"{'batched + duty cycle':<22}{with_duty:>12.3f}{args.designs * (n_cases + len(duty)) / with_duty:>20,.0f}"
+        "   (duty counted as one more case)"
+    )
     print(f"{'per-design loop':<22}{loop:>12.3f}{rate_l:>20,.0f}   (timed on {args.loop}, scaled)")
-    print(f"ratio batched/loop: {loop / batched:,.0f}x   target >= 100x; batched target >= 2,000,000/s")
+    print(
+        f"ratio batched/loop: {loop / batched:,.0f}x   target >= 100x; batched target >= 2,000,000/s"
+    )
 
 
 if __name__ == "__main__":

@@ -28,8 +28,13 @@ def instance():
     leg = example("leg")
     stages = tuple(s for s in leg.catalog.stages if s.name in ("Orbit", "Lobe"))
     cases = tuple(c for c in leg.cases if c.kind != "duty")
-    return dataclasses.replace(leg, catalog=Catalog(motors=leg.catalog.motors[2:4], stages=stages),
-                               max_stages=1, cases=cases, objective={})
+    return dataclasses.replace(
+        leg,
+        catalog=Catalog(motors=leg.catalog.motors[2:4], stages=stages),
+        max_stages=1,
+        cases=cases,
+        objective={},
+    )
 
 
 def brute(project, case):
@@ -64,29 +69,41 @@ def timed(fn):
 
 def same(points, ref) -> bool:
     return len(ref) == len(points) and all(
-        abs(a.payload - b[0]) <= 1e-9 * b[0] and abs(a.measure - b[1]) <= 1e-6 for a, b in zip(points, ref))
+        abs(a.payload - b[0]) <= 1e-9 * b[0] and abs(a.measure - b[1]) <= 1e-6
+        for a, b in zip(points, ref)
+    )
 
 
 def main():
     p = instance()
     (ref, total), w_b, c_b = timed(lambda: brute(p, "touchdown"))
-    print(f"small leg, {total} designs: brute force {w_b:.2f} s wall, {c_b:.2f} s CPU, {len(ref)} points")
+    print(
+        f"small leg, {total} designs: brute force {w_b:.2f} s wall, {c_b:.2f} s CPU, {len(ref)} points"
+    )
     for method in ("exhaustive", "sweep"):
         f, w, c = timed(lambda m=method: frontier(p, "imf", points=1000, method=m))
-        print(f"  {method:10s} {w:7.2f} s wall {c:7.2f} s CPU  {len(f.points)} points, complete "
-              f"{f.complete}, same set as brute force: {same(f.points, ref)}; brute force / this "
-              f"{c_b / c:.1f}x CPU")
+        print(
+            f"  {method:10s} {w:7.2f} s wall {c:7.2f} s CPU  {len(f.points)} points, complete "
+            f"{f.complete}, same set as brute force: {same(f.points, ref)}; brute force / this "
+            f"{c_b / c:.1f}x CPU"
+        )
     leg = example("leg")
     print("bundled leg (duty cycle included), payload vs IMF at touchdown:")
     got = {}
     for method, points in (("exhaustive", 50), ("sweep", 50)):
         f, w, c = timed(lambda m=method, k=points: frontier(leg, "imf", points=k, method=m))
         got[method] = f
-        extra = f"{f.scored} designs scored" if method == "exhaustive" else f"{f.solves} exact solves"
-        print(f"  {method:10s} {w:7.2f} s wall {c:7.2f} s CPU  {len(f.points)} points, complete "
-              f"{f.complete}, {extra}")
+        extra = (
+            f"{f.scored} designs scored" if method == "exhaustive" else f"{f.solves} exact solves"
+        )
+        print(
+            f"  {method:10s} {w:7.2f} s wall {c:7.2f} s CPU  {len(f.points)} points, complete "
+            f"{f.complete}, {extra}"
+        )
     ex = {(round(pt.payload, 6), round(pt.measure, 6)) for pt in got["exhaustive"].points}
-    missing = [pt for pt in got["sweep"].points if (round(pt.payload, 6), round(pt.measure, 6)) not in ex]
+    missing = [
+        pt for pt in got["sweep"].points if (round(pt.payload, 6), round(pt.measure, 6)) not in ex
+    ]
     print(f"  sweep points not on the exhaustive front: {len(missing)}")
 
 

@@ -37,9 +37,11 @@ def many_cases(folder: Path, n: int) -> Path:
     cases = []
     for i in range(n):
         hip = -40 + 20 * math.sin(i)
-        cases.append(f'[[case]]\nname = "push-{i}"\nkind = "payload"\nframe = "foot"\n'
-                     f'direction = [0, 0, -1]\nmotion = "along"\npayload_min = "10 N"\n'
-                     f'pose = {{ hip_ab = "0 deg", hip_fe = "{hip:.3f} deg", knee = "80 deg" }}\n')
+        cases.append(
+            f'[[case]]\nname = "push-{i}"\nkind = "payload"\nframe = "foot"\n'
+            f'direction = [0, 0, -1]\nmotion = "along"\npayload_min = "10 N"\n'
+            f'pose = {{ hip_ab = "0 deg", hip_fe = "{hip:.3f} deg", knee = "80 deg" }}\n'
+        )
     (folder / "project.toml").write_text(head + "\n".join(cases), encoding="utf-8")
     return folder / "project.toml"
 
@@ -48,12 +50,16 @@ def long_cycle(folder: Path, rows: int) -> Path:
     _leg(folder)
     period = 0.5
     with open(folder / "gait.csv", "w", encoding="utf-8") as fh:
-        fh.write("t [s],q:hip_ab [deg],q:hip_fe [deg],q:knee [deg],f:foot:x [N],f:foot:y [N],f:foot:z [N]\n")
+        fh.write(
+            "t [s],q:hip_ab [deg],q:hip_fe [deg],q:knee [deg],f:foot:x [N],f:foot:y [N],f:foot:z [N]\n"
+        )
         for i in range(rows):
             t = period * i / (rows - 1)
             w = 2 * math.pi * t / period
-            fh.write(f"{t:.9f},{2 * math.sin(w):.6f},{-40 + 8 * math.sin(w):.6f},"
-                     f"{90 + 6 * math.cos(w):.6f},{-5 * math.sin(w):.4f},0,{max(0.0, 300 * math.sin(w)):.4f}\n")
+            fh.write(
+                f"{t:.9f},{2 * math.sin(w):.6f},{-40 + 8 * math.sin(w):.6f},"
+                f"{90 + 6 * math.cos(w):.6f},{-5 * math.sin(w):.4f},0,{max(0.0, 300 * math.sin(w)):.4f}\n"
+            )
     return folder / "project.toml"
 
 
@@ -86,8 +92,12 @@ def main() -> None:
         for n in args.cases:
             path = many_cases(Path(tmp) / f"cases-{n}", n)
             secs.append(cpu(lambda: project_summary(load_project(path)), args.repeat))
-        table("check: read, validate and summarize a project of N payload cases", "ms per case",
-              args.cases, secs)
+        table(
+            "check: read, validate and summarize a project of N payload cases",
+            "ms per case",
+            args.cases,
+            secs,
+        )
         secs = []
         for r in args.rows:
             path = long_cycle(Path(tmp) / f"rows-{r}", r)
@@ -97,8 +107,12 @@ def main() -> None:
                 assess(p, load_design(path.parent / "design.toml", p))
 
             secs.append(cpu(run, args.repeat))
-        table("assess: the leg example with its trot cycle resampled to R samples", "ms per sample",
-              args.rows, secs)
+        table(
+            "assess: the leg example with its trot cycle resampled to R samples",
+            "ms per sample",
+            args.rows,
+            secs,
+        )
 
 
 if __name__ == "__main__":

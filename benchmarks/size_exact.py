@@ -35,10 +35,14 @@ def small_leg():
     cat = leg.catalog
     motors = cat.motors
     stages = tuple(s for s in cat.stages if s.name in ("Orbit", "Lobe"))
-    cases = tuple(dataclasses.replace(c, limits={}) if c.kind == "impact" else c
-                  for c in leg.cases if c.kind != "duty")
-    return dataclasses.replace(leg, catalog=Catalog(motors=motors, stages=stages), max_stages=1,
-                               cases=cases, objective={})
+    cases = tuple(
+        dataclasses.replace(c, limits={}) if c.kind == "impact" else c
+        for c in leg.cases
+        if c.kind != "duty"
+    )
+    return dataclasses.replace(
+        leg, catalog=Catalog(motors=motors, stages=stages), max_stages=1, cases=cases, objective={}
+    )
 
 
 def timed(fn):
@@ -58,17 +62,28 @@ def main():
     pyo, t_pyomo = timed(lambda: size(p, backend="pyomo", explain=False))
     print(f"(1) leg, {len(table)} options per joint, {len(table) ** n} designs")
     print(f"    enumeration {t_enum:8.2f} s  payload {ref.objective:.6f} N")
-    print(f"    search      {t_search:8.2f} s  payload {res.objective:.6f} N  ({res.status}, {res.native_status})")
-    print(f"    pyomo       {t_pyomo:8.2f} s  payload {pyo.objective:.6f} N  ({pyo.status}, {pyo.native_status})")
-    print(f"    enumeration / search = {t_enum / t_search:.0f}x; enumeration / pyomo = {t_enum / t_pyomo:.0f}x")
-    same = abs(res.objective - ref.objective) <= 1e-9 * ref.objective and abs(pyo.objective - ref.objective) <= 1e-9 * ref.objective
+    print(
+        f"    search      {t_search:8.2f} s  payload {res.objective:.6f} N  ({res.status}, {res.native_status})"
+    )
+    print(
+        f"    pyomo       {t_pyomo:8.2f} s  payload {pyo.objective:.6f} N  ({pyo.status}, {pyo.native_status})"
+    )
+    print(
+        f"    enumeration / search = {t_enum / t_search:.0f}x; enumeration / pyomo = {t_enum / t_pyomo:.0f}x"
+    )
+    same = (
+        abs(res.objective - ref.objective) <= 1e-9 * ref.objective
+        and abs(pyo.objective - ref.objective) <= 1e-9 * ref.objective
+    )
     print(f"    objectives equal: {same}")
     arm = example("arm")
     (model, _c), t_build = timed(lambda: build_model(arm, "payload", {}, [], []))
     r, t_arm = timed(lambda: size(arm, explain=False))
-    print(f"(2) arm, {len(build_table(arm))} options per joint, 6 joints: {r.status} payload {r.objective:.6f} N, "
-          f"bound {r.bound:.6f} N, {t_arm:.2f} s end to end ({r.native_status}); "
-          f"candidates after filters {[int(c.size) for c in model.candidates]}")
+    print(
+        f"(2) arm, {len(build_table(arm))} options per joint, 6 joints: {r.status} payload {r.objective:.6f} N, "
+        f"bound {r.bound:.6f} N, {t_arm:.2f} s end to end ({r.native_status}); "
+        f"candidates after filters {[int(c.size) for c in model.candidates]}"
+    )
 
 
 if __name__ == "__main__":

@@ -51,10 +51,20 @@ def motors(base_catalog, count: int, seed: int = 0):
     for i in range(count):
         m = base[i % len(base)]
         s = float(np.exp(rng.uniform(-0.35, 0.35)))  # size factor
-        out.append(dataclasses.replace(
-            m, name=f"GM-{count}-{i:03d}", peak_torque=m.peak_torque * s ** 1.6,
-            continuous_torque=m.continuous_torque * s ** 1.5, rotor_inertia=m.rotor_inertia * s ** 2,
-            mass=m.mass * s, max_speed=m.max_speed / s ** 0.3, cost=m.cost * s, family=None, size=None))
+        out.append(
+            dataclasses.replace(
+                m,
+                name=f"GM-{count}-{i:03d}",
+                peak_torque=m.peak_torque * s**1.6,
+                continuous_torque=m.continuous_torque * s**1.5,
+                rotor_inertia=m.rotor_inertia * s**2,
+                mass=m.mass * s,
+                max_speed=m.max_speed / s**0.3,
+                cost=m.cost * s,
+                family=None,
+                size=None,
+            )
+        )
     return tuple(out)
 
 
@@ -70,10 +80,17 @@ def stages(base_catalog, types: int, frames: int, seed: int = 1):
         for k in range(frames):
             f = st.frames[k % len(st.frames)]
             s = 1.0 + 0.35 * (k // len(st.frames)) + float(rng.uniform(-0.05, 0.05))
-            fr.append(dataclasses.replace(f, name=f"GS{t}-{k}", rated_peak_torque=f.rated_peak_torque * s ** 2,
-                                          rated_continuous_torque=f.rated_continuous_torque * s ** 2,
-                                          mass=f.mass * s ** 1.5, input_inertia=f.input_inertia * s ** 2,
-                                          cost=f.cost * s))
+            fr.append(
+                dataclasses.replace(
+                    f,
+                    name=f"GS{t}-{k}",
+                    rated_peak_torque=f.rated_peak_torque * s**2,
+                    rated_continuous_torque=f.rated_continuous_torque * s**2,
+                    mass=f.mass * s**1.5,
+                    input_inertia=f.input_inertia * s**2,
+                    cost=f.cost * s,
+                )
+            )
         out.append(dataclasses.replace(st, name=f"GS{t}", frames=tuple(fr)))
     return tuple(out)
 
@@ -83,15 +100,23 @@ def quadruped(n_motors=40, types=4, frames=3, stance=False):
     leg = example("leg")
     cat = Catalog(motors=motors(leg.catalog, n_motors), stages=stages(q.catalog, types, frames))
     pose = next(c.pose for c in q.cases if c.kind == "stance")
-    cases = [Case(f"{f}-push", "payload", f"{f}_foot", pose, direction=(-0.3, 0.0, -1.0), motion="along")
-             for f in FEET]
+    cases = [
+        Case(f"{f}-push", "payload", f"{f}_foot", pose, direction=(-0.3, 0.0, -1.0), motion="along")
+        for f in FEET
+    ]
     cases.append(Case("fl-touchdown", "impact", "fl_foot", pose, direction=(0.0, 0.0, 1.0)))
     if stance:
         cases = [c for c in q.cases if c.kind == "stance"]
         cases = [dataclasses.replace(c, limits={}) for c in cases]
-    return dataclasses.replace(q, catalog=cat, cases=tuple(cases), objective={"maximize": "payload"},
-                               requirements=Requirements(total_mass_max=13.0), max_stages=1,
-                               stage_kinds=None)
+    return dataclasses.replace(
+        q,
+        catalog=cat,
+        cases=tuple(cases),
+        objective={"maximize": "payload"},
+        requirements=Requirements(total_mass_max=13.0),
+        max_stages=1,
+        stage_kinds=None,
+    )
 
 
 def leg(n_motors=40, kind="payload", imf_min=None, budget=None, max_stages=1, types=4, frames=3):
@@ -106,14 +131,21 @@ def leg(n_motors=40, kind="payload", imf_min=None, budget=None, max_stages=1, ty
             limits["imf_min"] = imf_min
         cases.append(dataclasses.replace(c, limits=limits))
     req = Requirements(total_mass_max=budget if budget is not None else math.inf)
-    return dataclasses.replace(lg, catalog=cat, cases=tuple(cases), objective={"maximize": kind},
-                               requirements=req, max_stages=max_stages, stage_kinds=None)
+    return dataclasses.replace(
+        lg,
+        catalog=cat,
+        cases=tuple(cases),
+        objective={"maximize": kind},
+        requirements=req,
+        max_stages=max_stages,
+        stage_kinds=None,
+    )
 
 
 def _inertia(m, length, radius=0.03):
     """Solid-cylinder inertia about its centre, axis along the link's z."""
-    a = m * (3 * radius ** 2 + length ** 2) / 12
-    return [[a, 0, 0], [0, a, 0], [0, 0, m * radius ** 2 / 2]]
+    a = m * (3 * radius**2 + length**2) / 12
+    return [[a, 0, 0], [0, a, 0], [0, 0, m * radius**2 / 2]]
 
 
 def humanoid(n_motors=40, types=4, frames=3):
@@ -128,16 +160,20 @@ def humanoid(n_motors=40, types=4, frames=3):
     parts = ['<?xml version="1.0"?>', '<robot name="generated_humanoid">']
 
     def link(name, mass, length, radius=0.03, com_z=None):
-        a = mass * (3 * radius ** 2 + length ** 2) / 12
+        a = mass * (3 * radius**2 + length**2) / 12
         cz = -length / 2 if com_z is None else com_z
-        parts.append(f'<link name="{name}"><inertial><origin xyz="0 0 {cz}" rpy="0 0 0"/><mass value="{mass}"/>'
-                     f'<inertia ixx="{a}" ixy="0" ixz="0" iyy="{a}" iyz="0" izz="{mass * radius ** 2 / 2}"/>'
-                     '</inertial></link>')
+        parts.append(
+            f'<link name="{name}"><inertial><origin xyz="0 0 {cz}" rpy="0 0 0"/><mass value="{mass}"/>'
+            f'<inertia ixx="{a}" ixy="0" ixz="0" iyy="{a}" iyz="0" izz="{mass * radius**2 / 2}"/>'
+            "</inertial></link>"
+        )
 
     def joint(name, parent, child, xyz, axis):
-        parts.append(f'<joint name="{name}" type="revolute"><parent link="{parent}"/><child link="{child}"/>'
-                     f'<origin xyz="{xyz[0]} {xyz[1]} {xyz[2]}" rpy="0 0 0"/><axis xyz="{axis}"/>'
-                     '<limit lower="-3" upper="3" effort="1000" velocity="100"/></joint>')
+        parts.append(
+            f'<joint name="{name}" type="revolute"><parent link="{parent}"/><child link="{child}"/>'
+            f'<origin xyz="{xyz[0]} {xyz[1]} {xyz[2]}" rpy="0 0 0"/><axis xyz="{axis}"/>'
+            '<limit lower="-3" upper="3" effort="1000" velocity="100"/></joint>'
+        )
 
     tips = []
 
@@ -146,7 +182,13 @@ def humanoid(n_motors=40, types=4, frames=3):
         for i, axis in enumerate(axes):
             name = f"{prefix}{i}"
             link(f"{name}_link", mass_total / len(axes), seg, com_z=-seg / 2 if down else seg / 2)
-            joint(name, parent, f"{name}_link", origin if i == 0 else (0, 0, -seg if down else seg), axis)
+            joint(
+                name,
+                parent,
+                f"{name}_link",
+                origin if i == 0 else (0, 0, -seg if down else seg),
+                axis,
+            )
             parent = f"{name}_link"
         tips.append((tip, parent, -seg if down else seg))
 
@@ -156,44 +198,78 @@ def humanoid(n_motors=40, types=4, frames=3):
     chain("r_leg", "pelvis", (0, -0.1, -0.05), [z, x, y, y, y, x], 0.9, 9.0, "r_foot")
     chain("waist", "pelvis", (0, 0, 0.1), [z, y], 0.1, 2.0, "waist_tip", down=False)
     link("chest", 12.0, 0.3, 0.15, com_z=0.15)
-    parts.append('<joint name="chest_fix" type="fixed"><parent link="waist1_link"/><child link="chest"/>'
-                 '<origin xyz="0 0 0.05" rpy="0 0 0"/></joint>')
+    parts.append(
+        '<joint name="chest_fix" type="fixed"><parent link="waist1_link"/><child link="chest"/>'
+        '<origin xyz="0 0 0.05" rpy="0 0 0"/></joint>'
+    )
     chain("l_arm", "chest", (0, 0.2, 0.3), [y, x, z, y, z, y, x], 0.6, 4.0, "l_hand")
     chain("r_arm", "chest", (0, -0.2, 0.3), [y, x, z, y, z, y, x], 0.6, 4.0, "r_hand")
     chain("neck", "chest", (0, 0, 0.35), [z, y], 0.12, 2.0, "head_top", down=False)
     parts.append("</robot>")
-    joint_names = [ln.split('"')[1] for ln in parts if ln.startswith('<joint') and 'revolute' in ln]
+    joint_names = [ln.split('"')[1] for ln in parts if ln.startswith("<joint") and "revolute" in ln]
     folder = Path(tempfile.mkdtemp(prefix="humanoid-"))
     (folder / "humanoid.urdf").write_text("\n".join(parts), encoding="utf-8")
     with resources.as_file(resources.files("jointwright.examples") / "quadruped") as q_folder:
         shutil.copy(q_folder / "catalog.toml", folder / "catalog.toml")
-    frames_toml = ", ".join(f'{{ name = "{t}", link = "{lk}", xyz = [0.0, 0.0, {dz}] }}' for t, lk, dz in tips)
+    frames_toml = ", ".join(
+        f'{{ name = "{t}", link = "{lk}", xyz = [0.0, 0.0, {dz}] }}' for t, lk, dz in tips
+    )
     (folder / "project.toml").write_text(
         '[project]\nname = "generated humanoid"\n\n[robot]\nurdf = "humanoid.urdf"\nbase = "floating"\n'
-        f"frames = [{frames_toml}]\n\n[catalog]\nfiles = [\"catalog.toml\"]\nmax_stages = 1\n\n"
-        '[poses.zero]\n' + "".join(f"{j} = 0\n" for j in joint_names) + '\n[[case]]\nname = "l-foot-push"\nkind = "payload"\npose = "zero"\n'
+        f'frames = [{frames_toml}]\n\n[catalog]\nfiles = ["catalog.toml"]\nmax_stages = 1\n\n'
+        "[poses.zero]\n"
+        + "".join(f"{j} = 0\n" for j in joint_names)
+        + '\n[[case]]\nname = "l-foot-push"\nkind = "payload"\npose = "zero"\n'
         'frame = "l_foot"\ndirection = [0, 0, -1]\n',
-        encoding="utf-8")
+        encoding="utf-8",
+    )
     p = load_project(folder / "project.toml")
     shutil.rmtree(folder)
     pose = {j: 0.0 for j in p.robot.actuated}
     for side in ("l", "r"):
         pose[f"{side}_leg2"], pose[f"{side}_leg3"], pose[f"{side}_leg4"] = -0.4, 0.8, -0.4
         pose[f"{side}_arm3"] = -0.6
-    cases = [Case(f"{s_}-foot-push", "payload", f"{s_}_foot", pose, direction=(0.0, 0.0, -1.0), motion="along")
-             for s_ in ("l", "r")]
-    cases += [Case(f"{s_}-hand-lift", "payload", f"{s_}_hand", pose, direction=(0.0, 0.0, 1.0), motion="along")
-              for s_ in ("l", "r")]
+    cases = [
+        Case(
+            f"{s_}-foot-push",
+            "payload",
+            f"{s_}_foot",
+            pose,
+            direction=(0.0, 0.0, -1.0),
+            motion="along",
+        )
+        for s_ in ("l", "r")
+    ]
+    cases += [
+        Case(
+            f"{s_}-hand-lift",
+            "payload",
+            f"{s_}_hand",
+            pose,
+            direction=(0.0, 0.0, 1.0),
+            motion="along",
+        )
+        for s_ in ("l", "r")
+    ]
     cases.append(Case("hand-bump", "impact", "r_hand", pose, direction=(1.0, 0.0, 0.0)))
     lg, q = example("leg"), example("quadruped")
     cat = Catalog(motors=motors(lg.catalog, n_motors), stages=stages(q.catalog, types, frames))
-    return dataclasses.replace(p, catalog=cat, cases=tuple(cases), objective={"maximize": "payload"},
-                               requirements=Requirements(total_mass_max=38.0), max_stages=1, stage_kinds=None)
+    return dataclasses.replace(
+        p,
+        catalog=cat,
+        cases=tuple(cases),
+        objective={"maximize": "payload"},
+        requirements=Requirements(total_mass_max=38.0),
+        max_stages=1,
+        stage_kinds=None,
+    )
 
 
 INSTANCES = {
-    "a": ("quadruped, 40 motors x 4 types x 3 frames, 13 kg, 4 foot payload + impact",
-          lambda: quadruped(40, 4, 3)),
+    "a": (
+        "quadruped, 40 motors x 4 types x 3 frames, 13 kg, 4 foot payload + impact",
+        lambda: quadruped(40, 4, 3),
+    ),
     "b": ("quadruped, 160 motors x 5 types x 4 frames, 13 kg", lambda: quadruped(160, 5, 4)),
     "c": ("leg, 40 motors, imf_min 0.2, 2.5 kg", lambda: leg(40, imf_min=0.2, budget=2.5)),
     "d": ("leg, 40 motors, objective imf", lambda: leg(40, kind="imf")),
@@ -244,8 +320,10 @@ def run(name, limit, pyomo=True):
         c0, t0 = cpu(), time.perf_counter()
         try:
             r = size(p, backend=backend, time_limit=limit, explain=False)
-            text = (f"{r.status:10s} objective {r.objective:10.4f} bound {r.bound:10.4f} gap {r.gap:9.2e}"
-                    f"  ({r.native_status})")
+            text = (
+                f"{r.status:10s} objective {r.objective:10.4f} bound {r.bound:10.4f} gap {r.gap:9.2e}"
+                f"  ({r.native_status})"
+            )
         except Exception as e:  # a back-end refusing the instance is a result too
             text = f"refused: {str(e)[:90]}"
         c1, t1 = cpu(), time.perf_counter()
@@ -257,8 +335,11 @@ def run(name, limit, pyomo=True):
     except Exception as e:
         print(f"    random   refused: {str(e)[:90]}")
         return
-    print(f"    random   {count} designs in {max(cpu_search, 1.0):.1f} CPU-s, {found} feasible, best "
-          f"{'—' if best is None else f'{best:.4f}'}", flush=True)
+    print(
+        f"    random   {count} designs in {max(cpu_search, 1.0):.1f} CPU-s, {found} feasible, best "
+        f"{'—' if best is None else f'{best:.4f}'}",
+        flush=True,
+    )
 
 
 def main():
@@ -267,7 +348,9 @@ def main():
     ap.add_argument("--limit", type=float, default=60.0)
     ap.add_argument("--no-pyomo", action="store_true")
     a = ap.parse_args()
-    print(f"load average {os.getloadavg()[0]:.2f} on {os.cpu_count()} cores; time limit {a.limit} s")
+    print(
+        f"load average {os.getloadavg()[0]:.2f} on {os.cpu_count()} cores; time limit {a.limit} s"
+    )
     for name in a.only.split(","):
         run(name, a.limit, not a.no_pyomo)
 

@@ -97,15 +97,27 @@ def main() -> None:
                           host="127.0.0.1") as cluster:  # fmt: skip
             best("Dask LocalCluster, 2 workers", scheduler=cluster.scheduler_address)
     base_wall = rows[0][1].wall_time
-    head = ("back-end", "wall s", "cases/s", "case s", "mean ms", "overhead", "speed-up", "parent ms")
+    head = (
+        "back-end",
+        "wall s",
+        "cases/s",
+        "case s",
+        "mean ms",
+        "overhead",
+        "speed-up",
+        "parent ms",
+    )
     print(f"{args.cases} cases, {loops} loops per case (calibrated to {args.ms:.0f} ms), best of "
           f"{args.repeat}, load average {load:.2f} on {os.cpu_count()} cores before the first run")  # fmt: skip
     print(f"{head[0]:30}" + "".join(f"{h:>10}" for h in head[1:]))
     for name, o, cpu in rows:
         n = o.done + o.failed
         cells = (o.wall_time, n / o.wall_time, o.case_time, 1000 * o.case_time / n)
-        print(f"{name:30}" + "".join(f"{c:10.2f}" for c in cells)
-              + f"{100 * o.overhead_fraction:9.1f}%{base_wall / o.wall_time:9.2f}x{1000 * cpu / n:10.2f}")
+        print(
+            f"{name:30}"
+            + "".join(f"{c:10.2f}" for c in cells)
+            + f"{100 * o.overhead_fraction:9.1f}%{base_wall / o.wall_time:9.2f}x{1000 * cpu / n:10.2f}"
+        )
 
 
 if __name__ == "__main__":

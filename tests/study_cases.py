@@ -22,6 +22,7 @@ def quantity(value, dimension: str = "") -> float:
     number, _, unit = value.strip().partition(" ")
     return float(number) * (_UNITS[unit.strip()] if unit.strip() else 1.0)
 
+
 BASE_PROJECT = """\
 name = "test leg"
 
@@ -96,4 +97,6 @@ def busy(project: dict, base_dir: Path, task: str, options: dict) -> dict:
 
 def fixed_case(project: dict, base_dir: Path, task: str, options: dict) -> dict:
     """:func:`leg_case` with its failure switch ignored (a case function after a bug fix)."""
-    return leg_case(project, base_dir, task, {k: v for k, v in options.items() if k != "fail_above"})
+    return leg_case(
+        project, base_dir, task, {k: v for k, v in options.items() if k != "fail_above"}
+    )

@@ -26,8 +26,19 @@ def test_import_loads_no_numerics():
     assert out.stdout.strip() == "[]"
 
 
-@pytest.mark.parametrize("name", ["load_project", "load_example", "load_design", "assess", "size",
-                                  "sweep_frontier", "run_study", "build_report"])
+@pytest.mark.parametrize(
+    "name",
+    [
+        "load_project",
+        "load_example",
+        "load_design",
+        "assess",
+        "size",
+        "sweep_frontier",
+        "run_study",
+        "build_report",
+    ],
+)
 def test_operations_reject_unknown_keywords(name):
     fn = getattr(jw, name)
     params = inspect.signature(fn).parameters

@@ -64,17 +64,33 @@ def test_bad_input_is_one_clear_line(bad: Bad, leg, tmp_path):
 #: diagnostics to the process's stderr before jointwright's one line, which an in-process run does
 #: not see. A known gap of the URDF reader (robot/), kept here so that its fix shows up.
 URDFDOM_SPEAKS: set[str] = set()  # none left: the URDF pre-check catches them first
-SUBPROCESS = [pytest.param(b, id=f"{b.kind}: {b.id}", marks=pytest.mark.xfail(
-    strict=True, reason="urdfdom prints its own diagnostics on stderr")) if b.kind == "URDF" and b.id in URDFDOM_SPEAKS
-    else pytest.param(b, id=f"{b.kind}: {b.id}") for b in CORPUS]
+SUBPROCESS = [
+    pytest.param(
+        b,
+        id=f"{b.kind}: {b.id}",
+        marks=pytest.mark.xfail(strict=True, reason="urdfdom prints its own diagnostics on stderr"),
+    )
+    if b.kind == "URDF" and b.id in URDFDOM_SPEAKS
+    else pytest.param(b, id=f"{b.kind}: {b.id}")
+    for b in CORPUS
+]
 
 
 @pytest.mark.slow
 @pytest.mark.parametrize("bad", SUBPROCESS)
 def test_bad_input_through_a_subprocess(bad: Bad, leg, tmp_path):
     env = {**os.environ, "PYTHONPATH": str(ROOT / "src")}
-    res = subprocess.run([sys.executable, "-c", "from jointwright.cli import main; main()",
-                          *_broken(bad, leg, tmp_path)], capture_output=True, text=True, env=env)
+    res = subprocess.run(
+        [
+            sys.executable,
+            "-c",
+            "from jointwright.cli import main; main()",
+            *_broken(bad, leg, tmp_path),
+        ],
+        capture_output=True,
+        text=True,
+        env=env,
+    )
     assert res.returncode == 2 and "Traceback" not in res.stderr, res.stderr
     assert res.stdout == ""
     lines = [ln for ln in res.stderr.splitlines() if ln.strip()]

@@ -58,8 +58,11 @@ def api(folders) -> dict:
 
 @pytest.mark.parametrize("name", EXAMPLES)
 def test_new_writes_every_bundled_file(name, folders):
-    bundled = sorted(p.name for p in (resources.files("jointwright.examples") / name).iterdir()
-                     if p.is_file() and not p.name.startswith((".", "__")))
+    bundled = sorted(
+        p.name
+        for p in (resources.files("jointwright.examples") / name).iterdir()
+        if p.is_file() and not p.name.startswith((".", "__"))
+    )
     assert sorted(p.name for p in folders[name].iterdir()) == bundled
     assert {"project.toml", "design.toml", "catalog.toml"} <= set(bundled)
 
@@ -100,9 +103,13 @@ def test_check_json_converts_units(folders, tmp_path):
     shutil.copytree(folders["leg"], folder)
     text = (folder / "project.toml").read_text()
     text = re.sub(r'total_mass_max = "[^"]*"', 'total_mass_max = "3200 g"', text, count=1)  # 3.2 kg
-    text = re.sub(r'speed_min = "[^"]*"', 'speed_min = "7.2 km/h"', text, count=1)  # 7.2/3.6 = 2 m/s
+    text = re.sub(
+        r'speed_min = "[^"]*"', 'speed_min = "7.2 km/h"', text, count=1
+    )  # 7.2/3.6 = 2 m/s
     text = re.sub(r'payload_min = "[^"]*"', 'payload_min = "0.15 kN"', text, count=1)  # 150 N
-    text = re.sub(r'reflected_inertia_max = "[^"]*"', 'reflected_inertia_max = "500 kg*cm^2"', text, count=1)
+    text = re.sub(
+        r'reflected_inertia_max = "[^"]*"', 'reflected_inertia_max = "500 kg*cm^2"', text, count=1
+    )
     (folder / "project.toml").write_text(text)
     data = json.loads(_run(["check", str(folder / "project.toml"), "--json"]).stdout)
     assert data["requirements"]["total_mass_max"] == pytest.approx(3.2, rel=1e-12)
@@ -110,9 +117,13 @@ def test_check_json_converts_units(folders, tmp_path):
     assert {"speed_min": pytest.approx(2.0, rel=1e-12)} in limits
     assert limits[0] == {"payload_min": pytest.approx(150.0, rel=1e-12)}
     # 500 kg·cm² = 500e-4 kg·m² = 0.05 kg·m²
-    assert data["requirements"]["joints"]["knee"]["reflected_inertia_max"] == pytest.approx(0.05, rel=1e-12)
+    assert data["requirements"]["joints"]["knee"]["reflected_inertia_max"] == pytest.approx(
+        0.05, rel=1e-12
+    )
     directions = [c["direction"] for c in data["cases"] if c["direction"] is not None]
-    assert all(math.isclose(sum(x * x for x in d), 1.0, rel_tol=1e-12) for d in directions)  # unit vectors
+    assert all(
+        math.isclose(sum(x * x for x in d), 1.0, rel_tol=1e-12) for d in directions
+    )  # unit vectors
 
 
 def test_check_arm_payload_in_kg_is_its_weight(folders):
@@ -130,7 +141,12 @@ def test_check_table_says_valid_with_units(name, folders):
     out = _run(["check", str(folders[name] / "project.toml")]).stdout
     project = load_project(folders[name] / "project.toml")
     assert "inputs are valid" in out
-    units = {"payload_min": "N", "effective_mass_max": "kg", "speed_min": "m/s", "backdrive_force_max": "N"}
+    units = {
+        "payload_min": "N",
+        "effective_mass_max": "kg",
+        "speed_min": "m/s",
+        "backdrive_force_max": "N",
+    }
     shown = 0
     for case in project.cases:
         for key, value in case.limits.items():
@@ -148,7 +164,9 @@ def test_check_table_says_valid_with_units(name, folders):
 @pytest.mark.parametrize("name", EXAMPLES)
 def test_assess_json_equals_the_python_api(name, folders, api):
     folder = folders[name]
-    out = _run(["assess", str(folder / "project.toml"), "--design", str(folder / "design.toml"), "--json"]).stdout
+    out = _run(
+        ["assess", str(folder / "project.toml"), "--design", str(folder / "design.toml"), "--json"]
+    ).stdout
     data = json.loads(out)
     _, result = api[name]
     assert data == result.to_dict()  # JSON floats round-trip exactly (shortest repr)
@@ -159,14 +177,18 @@ def test_assess_json_equals_the_python_api(name, folders, api):
 @pytest.mark.parametrize("name", EXAMPLES)
 def test_assess_json_has_no_nan(name, folders):
     folder = folders[name]
-    out = _run(["assess", str(folder / "project.toml"), "--design", str(folder / "design.toml"), "--json"]).stdout
+    out = _run(
+        ["assess", str(folder / "project.toml"), "--design", str(folder / "design.toml"), "--json"]
+    ).stdout
     assert "NaN" not in out and "Infinity" not in out  # infinities are written "inf"
 
 
 @pytest.mark.parametrize("name", EXAMPLES)
 def test_assess_table_shows_api_numbers_with_units(name, folders, api):
     folder = folders[name]
-    out = _run(["assess", str(folder / "project.toml"), "--design", str(folder / "design.toml")]).stdout
+    out = _run(
+        ["assess", str(folder / "project.toml"), "--design", str(folder / "design.toml")]
+    ).stdout
     project, result = api[name]
     assert f"actuators {result.total_mass:.4g} kg" in out
     units = {"payload": "N", "speed": "m/s", "backdrive_force": "N", "effective_mass": "kg"}
@@ -221,7 +243,11 @@ def test_payload_margin_is_achieved_over_limit(api):
             if not (math.isfinite(c.achieved) and c.limit > 0):
                 continue
             expected = c.achieved / c.limit - 1 if c.sense == "min" else 1 - c.achieved / c.limit
-            assert c.margin == pytest.approx(expected, rel=1e-9, abs=1e-12), (name, c.subject, c.requirement)
+            assert c.margin == pytest.approx(expected, rel=1e-9, abs=1e-12), (
+                name,
+                c.subject,
+                c.requirement,
+            )
             assert c.ok == (c.margin >= 0)
 
 
@@ -246,7 +272,9 @@ def test_leg_study_covers_every_budget_and_threshold():
         touchdown = p.case("touchdown")
         pairs.add((round(p.requirements.total_mass_max, 9), touchdown.limits["imf_min"]))
     # grid 3.4 to 4.6 kg in 4 steps: 3.4 + 0.4·k kg; IMF thresholds as listed
-    assert pairs == {(round(3.4 + 0.4 * k, 9), imf) for k in range(4) for imf in (0.05, 0.1, 0.15, 0.2, 0.25)}
+    assert pairs == {
+        (round(3.4 + 0.4 * k, 9), imf) for k in range(4) for imf in (0.05, 0.1, 0.15, 0.2, 0.25)
+    }
 
 
 def test_arm_study_crosses_payloads_with_architectures():
@@ -255,8 +283,12 @@ def test_arm_study_crosses_payloads_with_architectures():
         kg = p.case("reach-lift").limits["payload_min"] / STANDARD_GRAVITY  # a weight at g_n
         seen.add((case.variant, p.stage_kinds, round(kg, 9)))
         assert p.objective == {"maximize": "mass"}
-    kinds = {"any-kind": None, "strain-wave": ("strain_wave",), "cycloidal": ("cycloidal",),
-             "planetary-belt": ("planetary", "belt")}
+    kinds = {
+        "any-kind": None,
+        "strain-wave": ("strain_wave",),
+        "cycloidal": ("cycloidal",),
+        "planetary-belt": ("planetary", "belt"),
+    }
     assert seen == {(v, k, float(m)) for v, k in kinds.items() for m in (3, 5, 7, 9)}
 
 
@@ -284,8 +316,17 @@ def test_documented_project_and_design_examples_load(folders, tmp_path):
     (folder / "project.toml").write_text(_first_toml_block("project-format.md"), encoding="utf-8")
     (folder / "design.toml").write_text(_first_toml_block("design-format.md"), encoding="utf-8")
     _run(["check", str(folder / "project.toml")])
-    data = json.loads(_run(["assess", str(folder / "project.toml"), "--design", str(folder / "design.toml"),
-                            "--json"]).stdout)
+    data = json.loads(
+        _run(
+            [
+                "assess",
+                str(folder / "project.toml"),
+                "--design",
+                str(folder / "design.toml"),
+                "--json",
+            ]
+        ).stdout
+    )
     assert data["design"] == "QL-3 starting point"
     assert [j["ratio"] for j in data["joints"]] == pytest.approx([6.0, 6.0, 9.0], rel=1e-12)
 
@@ -298,7 +339,12 @@ def test_self_locking_joint_is_infinite_not_nan_in_table_and_json(folders, tmp_p
     shutil.copytree(folders["arm"], folder)
     text = (folder / "design.toml").read_text()
     head, sep, tail = text.partition("[joint.elbow]")
-    tail = re.sub(r'stages = \[.*\]', 'stages = [{ stage = "Spiral", frame = "Spiral-1", ratio = 50 }]', tail, count=1)
+    tail = re.sub(
+        r"stages = \[.*\]",
+        'stages = [{ stage = "Spiral", frame = "Spiral-1", ratio = 50 }]',
+        tail,
+        count=1,
+    )
     (folder / "design.toml").write_text(head + sep + tail)
     args = ["assess", str(folder / "project.toml"), "--design", str(folder / "design.toml")]
     data = json.loads(_run(args + ["--json"]).stdout)

@@ -78,7 +78,7 @@ def _one_error_line(result) -> str:
     assert len(lines) == 1, lines
     assert lines[0].startswith(PREFIX), lines[0]
     assert result.stdout == ""
-    return lines[0][len(PREFIX):]
+    return lines[0][len(PREFIX) :]
 
 
 def _assert_names(message: str, file: str, field: str, rule: str) -> None:
@@ -93,232 +93,992 @@ BELT = 'efficiency = { model = "constant", forward = 0.96, backward = 0.95 }'
 KNEE_STAGES = 'stages = [{ stage = "Orbit", frame = "Orbit-3", ratio = 9 }]'
 
 # a small valid trot-like cycle for the leg (t in s, joint angles in degrees)
-CYCLE = ("t [s],q:hip_ab [deg],q:hip_fe [deg],q:knee [deg]\n"
-         "0,0,-40,80\n0.1,0,-42,84\n0.2,0,-44,88\n0.3,0,-42,84\n")
+CYCLE = (
+    "t [s],q:hip_ab [deg],q:hip_fe [deg],q:knee [deg]\n"
+    "0,0,-40,80\n0.1,0,-42,84\n0.2,0,-44,88\n0.3,0,-42,84\n"
+)
 
 BAD = [
     # --- project file: types, signs, dimensions, names -------------------------------------
-    Bad("mass budget not a quantity", (("project.toml", 'total_mass_max = "4.0 kg"', "total_mass_max = true"),),
-        "check", "project.toml", "requirements.total_mass_max", "must be a number or a quantity in kg"),
-    Bad("negative mass budget", (("project.toml", 'total_mass_max = "4.0 kg"', 'total_mass_max = "-3.2 kg"'),),
-        "check", "project.toml", "requirements.total_mass_max", "must be > 0 kg"),
-    Bad("zero joint mass limit", (("project.toml", 'mass_max = "1.6 kg"', "mass_max = 0"),),
-        "check", "project.toml", "requirements.joint.knee.mass_max", "must be > 0 kg"),
-    Bad("mass budget in newtons", (("project.toml", 'total_mass_max = "4.0 kg"', 'total_mass_max = "3.2 N"'),),
-        "check", "project.toml", "requirements.total_mass_max", "convertible to kg"),
-    Bad("payload as a torque", (("project.toml", 'payload_min = "150 N"', 'payload_min = "150 N*m"'),),
-        "check", "project.toml", "case[0].payload_min", "force"),
-    Bad("max_stages as text", (("project.toml", "max_stages = 1", 'max_stages = "two"'),),
-        "check", "project.toml", "catalog.max_stages", "whole number from 0 to 3"),
-    Bad("too many stages allowed", (("project.toml", "max_stages = 1", "max_stages = 4"),),
-        "check", "project.toml", "catalog.max_stages", "whole number from 0 to 3"),
-    Bad("unknown stage kind", (("project.toml", "max_stages = 1", 'max_stages = 1\nstage_kinds = ["planetary", "harmonic"]'),),
-        "check", "project.toml", "catalog.stage_kinds[1]", "unknown stage kind 'harmonic'"),
-    Bad("unknown case kind", (("project.toml", 'kind = "payload"', 'kind = "lift"'),),
-        "check", "project.toml", "case[0].kind", "must be one of payload, stance, impact"),
-    Bad("unknown motion", (("project.toml", 'motion = "along"', 'motion = "up"'),),
-        "check", "project.toml", "case[0].motion", "must be one of along, against, hold"),
-    Bad("unknown joint in pose", (("project.toml", POSE, 'pose = { hip_ab = 0, hip_fe = 0, knee = 1, ankle = 0 }'),),
-        "check", "project.toml", "case[0].pose.ankle", "unknown joint 'ankle'"),
-    Bad("missing pose joint", (("project.toml", POSE, 'pose = { hip_ab = "0 deg", hip_fe = "-40 deg" }'),),
-        "check", "project.toml", "case[0].pose.knee", "every actuated joint needs a position"),
-    Bad("pose angle in metres", (("project.toml", POSE, 'pose = { hip_ab = "0 deg", hip_fe = "-40 deg", knee = "8 cm" }'),),
-        "check", "project.toml", "case[0].pose.knee", "convertible to rad"),
-    Bad("unknown joint in requirements", (("project.toml", "[requirements.joint.knee]", "[requirements.joint.ankle]"),),
-        "check", "project.toml", "requirements.joint.ankle", "unknown actuated joint 'ankle'"),
-    Bad("unknown frame", (("project.toml", 'frame = "foot"', 'frame = "toe"'),),
-        "check", "project.toml", "case[0].frame", "no frame, link or joint named 'toe'"),
-    Bad("zero direction", (("project.toml", "direction = [0, 0, -1]", "direction = [0, 0, 0]"),),
-        "check", "project.toml", "case[0].direction", "must not be the zero vector"),
-    Bad("direction with two numbers", (("project.toml", "direction = [0, 0, -1]", "direction = [0, -1]"),),
-        "check", "project.toml", "case[0].direction", "must be a list of 3 numbers"),
-    Bad("duplicate case name", (("project.toml", 'name = "landing-absorb"', 'name = "jump-push"'),),
-        "check", "project.toml", "case[1].name", "duplicate case name 'jump-push'"),
-    Bad("unknown field (typo)", (("project.toml", 'payload_min = "150 N"', 'payload_mn = "150 N"'),),
-        "check", "project.toml", "case[0].payload_mn", "unknown field"),
-    Bad("unknown base", (("project.toml", 'base = "floating"', 'base = "floatin"'),),
-        "check", "project.toml", "robot.base", "must be one of fixed, floating"),
-    Bad("unknown actuated joint", (("project.toml", 'actuated = ["hip_ab", "hip_fe", "knee"]', 'actuated = ["hip_ab", "hip_fe", "ankle"]'),),
-        "check", "project.toml", "robot.actuated[2]", "'ankle'"),
-    Bad("no cases", (("project.toml", "[[case]]", "[[cases]]"),),
-        "check", "project.toml", "cases", "unknown field"),
-    Bad("malformed project TOML", (("project.toml", "[catalog]", "[catalog"),),
-        "check", "project.toml", "(syntax)", "malformed TOML"),
-    Bad("missing URDF", (("project.toml", 'urdf = "leg.urdf"', 'urdf = "legs.urdf"'),),
-        "check", "legs.urdf", "urdf", "cannot read the file"),
-    Bad("missing catalog", (("project.toml", 'files = ["catalog.toml"]', 'files = ["catalogue.toml"]'),),
-        "check", "project.toml", "catalog.files[0]", "no catalog file"),
-    Bad("catalog list empty", (("project.toml", 'files = ["catalog.toml"]', "files = []"),),
-        "check", "project.toml", "catalog.files", "non-empty list of file paths"),
-    Bad("mount on a missing link", (("project.toml", 'mount_link = "thigh"', 'mount_link = "thig"'),),
-        "check", "project.toml", "robot.mounts.knee.mount_link", "no link named 'thig'"),
-    Bad("ambient temperature in kg", (("project.toml", "imf_min = 0.1", 'imf_min = 0.1\nambient = "25 kg"'),),
-        "check", "project.toml", "case[3].ambient", "convertible to degC"),
-    Bad("negative payload requirement", (("project.toml", 'payload_min = "150 N"', 'payload_min = "-150 N"'),),
-        "check", "project.toml", "case[0].payload_min", "must be >= 0 N"),
-    Bad("unknown named pose", (("project.toml", POSE, 'pose = "crouch"'),),
-        "check", "project.toml", "case[0].pose", "unknown pose 'crouch'"),
-    Bad("named pose missing a joint", (("project.toml", "[[case]]", '[poses.crouch]\nhip_ab = 0\nknee = 1\n\n[[case]]'),),
-        "check", "project.toml", "poses.crouch.hip_fe", "every actuated joint needs a position"),
-    Bad("tip speed while holding", (("project.toml", 'motion = "along"', 'motion = "hold"\ntip_speed = "1 m/s"'),),
-        "check", "project.toml", "case[0].tip_speed", "held still"),
-    Bad("negative tip speed", (("project.toml", 'motion = "along"', 'motion = "along"\ntip_speed = "-1 m/s"'),),
-        "check", "project.toml", "case[0].tip_speed", "must be >= 0 m/s"),
-    Bad("negative payload mass on a speed case", (("project.toml", 'speed_min = "6.0 m/s"', 'speed_min = "6.0 m/s"\npayload_mass = "-2 kg"'),),
-        "check", "project.toml", "case[4].payload_mass", "must be >= 0 kg"),
-    Bad("speed-case acceleration in m/s", (("project.toml", 'speed_min = "6.0 m/s"', 'speed_min = "6.0 m/s"\nacceleration = "3 m/s"'),),
-        "check", "project.toml", "case[4].acceleration", "convertible to m/s**2"),
-    Bad("payload mass on a payload case", (("project.toml", 'payload_min = "150 N"', 'payload_min = "150 N"\npayload_mass = "2 kg"'),),
-        "check", "project.toml", "case[0].payload_mass", "unknown field"),
-    Bad("negative fixed load", (("project.toml", 'fixed_load = "117.7 N"', 'fixed_load = "-5 N"'),),
-        "check", "project.toml", "case[0].fixed_load", "must be >= 0 N"),
-    Bad("fixed load as a torque", (("project.toml", 'fixed_load = "117.7 N"', 'fixed_load = "5 N*m"'),),
-        "check", "project.toml", "case[0].fixed_load", "must be a force (N) or a mass"),
-    Bad("negative payload share", (("project.toml", 'payload_share = 0.5', 'payload_share = -1'),),
-        "check", "project.toml", "case[0].payload_share", "must be >= 0"),
-    Bad("payload share on an impact case", (("project.toml", "imf_min = 0.1", "imf_min = 0.1\npayload_share = 1"),),
-        "check", "project.toml", "case[3].payload_share", "unknown field"),
-    Bad("stroke and acceleration together", (("project.toml", 'stroke = "0.1 m"', 'stroke = "0.1 m"\nacceleration = "5 m/s^2"'),),
-        "check", "project.toml", "case[4].stroke", "not both"),
-    Bad("tip force in kg", (("project.toml", 'stroke = "0.1 m"', 'stroke = "0.1 m"\ntip_force = [0, 0, "2 kg"]'),),
-        "check", "project.toml", "case[4].tip_force[2]", "convertible to N"),
-    Bad("zero stroke", (("project.toml", 'stroke = "0.1 m"', 'stroke = "0 m"'),),
-        "check", "project.toml", "case[4].stroke", "must be > 0"),
+    Bad(
+        "mass budget not a quantity",
+        (("project.toml", 'total_mass_max = "4.0 kg"', "total_mass_max = true"),),
+        "check",
+        "project.toml",
+        "requirements.total_mass_max",
+        "must be a number or a quantity in kg",
+    ),
+    Bad(
+        "negative mass budget",
+        (("project.toml", 'total_mass_max = "4.0 kg"', 'total_mass_max = "-3.2 kg"'),),
+        "check",
+        "project.toml",
+        "requirements.total_mass_max",
+        "must be > 0 kg",
+    ),
+    Bad(
+        "zero joint mass limit",
+        (("project.toml", 'mass_max = "1.6 kg"', "mass_max = 0"),),
+        "check",
+        "project.toml",
+        "requirements.joint.knee.mass_max",
+        "must be > 0 kg",
+    ),
+    Bad(
+        "mass budget in newtons",
+        (("project.toml", 'total_mass_max = "4.0 kg"', 'total_mass_max = "3.2 N"'),),
+        "check",
+        "project.toml",
+        "requirements.total_mass_max",
+        "convertible to kg",
+    ),
+    Bad(
+        "payload as a torque",
+        (("project.toml", 'payload_min = "150 N"', 'payload_min = "150 N*m"'),),
+        "check",
+        "project.toml",
+        "case[0].payload_min",
+        "force",
+    ),
+    Bad(
+        "max_stages as text",
+        (("project.toml", "max_stages = 1", 'max_stages = "two"'),),
+        "check",
+        "project.toml",
+        "catalog.max_stages",
+        "whole number from 0 to 3",
+    ),
+    Bad(
+        "too many stages allowed",
+        (("project.toml", "max_stages = 1", "max_stages = 4"),),
+        "check",
+        "project.toml",
+        "catalog.max_stages",
+        "whole number from 0 to 3",
+    ),
+    Bad(
+        "unknown stage kind",
+        (
+            (
+                "project.toml",
+                "max_stages = 1",
+                'max_stages = 1\nstage_kinds = ["planetary", "harmonic"]',
+            ),
+        ),
+        "check",
+        "project.toml",
+        "catalog.stage_kinds[1]",
+        "unknown stage kind 'harmonic'",
+    ),
+    Bad(
+        "unknown case kind",
+        (("project.toml", 'kind = "payload"', 'kind = "lift"'),),
+        "check",
+        "project.toml",
+        "case[0].kind",
+        "must be one of payload, stance, impact",
+    ),
+    Bad(
+        "unknown motion",
+        (("project.toml", 'motion = "along"', 'motion = "up"'),),
+        "check",
+        "project.toml",
+        "case[0].motion",
+        "must be one of along, against, hold",
+    ),
+    Bad(
+        "unknown joint in pose",
+        (("project.toml", POSE, "pose = { hip_ab = 0, hip_fe = 0, knee = 1, ankle = 0 }"),),
+        "check",
+        "project.toml",
+        "case[0].pose.ankle",
+        "unknown joint 'ankle'",
+    ),
+    Bad(
+        "missing pose joint",
+        (("project.toml", POSE, 'pose = { hip_ab = "0 deg", hip_fe = "-40 deg" }'),),
+        "check",
+        "project.toml",
+        "case[0].pose.knee",
+        "every actuated joint needs a position",
+    ),
+    Bad(
+        "pose angle in metres",
+        (("project.toml", POSE, 'pose = { hip_ab = "0 deg", hip_fe = "-40 deg", knee = "8 cm" }'),),
+        "check",
+        "project.toml",
+        "case[0].pose.knee",
+        "convertible to rad",
+    ),
+    Bad(
+        "unknown joint in requirements",
+        (("project.toml", "[requirements.joint.knee]", "[requirements.joint.ankle]"),),
+        "check",
+        "project.toml",
+        "requirements.joint.ankle",
+        "unknown actuated joint 'ankle'",
+    ),
+    Bad(
+        "unknown frame",
+        (("project.toml", 'frame = "foot"', 'frame = "toe"'),),
+        "check",
+        "project.toml",
+        "case[0].frame",
+        "no frame, link or joint named 'toe'",
+    ),
+    Bad(
+        "zero direction",
+        (("project.toml", "direction = [0, 0, -1]", "direction = [0, 0, 0]"),),
+        "check",
+        "project.toml",
+        "case[0].direction",
+        "must not be the zero vector",
+    ),
+    Bad(
+        "direction with two numbers",
+        (("project.toml", "direction = [0, 0, -1]", "direction = [0, -1]"),),
+        "check",
+        "project.toml",
+        "case[0].direction",
+        "must be a list of 3 numbers",
+    ),
+    Bad(
+        "duplicate case name",
+        (("project.toml", 'name = "landing-absorb"', 'name = "jump-push"'),),
+        "check",
+        "project.toml",
+        "case[1].name",
+        "duplicate case name 'jump-push'",
+    ),
+    Bad(
+        "unknown field (typo)",
+        (("project.toml", 'payload_min = "150 N"', 'payload_mn = "150 N"'),),
+        "check",
+        "project.toml",
+        "case[0].payload_mn",
+        "unknown field",
+    ),
+    Bad(
+        "unknown base",
+        (("project.toml", 'base = "floating"', 'base = "floatin"'),),
+        "check",
+        "project.toml",
+        "robot.base",
+        "must be one of fixed, floating",
+    ),
+    Bad(
+        "unknown actuated joint",
+        (
+            (
+                "project.toml",
+                'actuated = ["hip_ab", "hip_fe", "knee"]',
+                'actuated = ["hip_ab", "hip_fe", "ankle"]',
+            ),
+        ),
+        "check",
+        "project.toml",
+        "robot.actuated[2]",
+        "'ankle'",
+    ),
+    Bad(
+        "no cases",
+        (("project.toml", "[[case]]", "[[cases]]"),),
+        "check",
+        "project.toml",
+        "cases",
+        "unknown field",
+    ),
+    Bad(
+        "malformed project TOML",
+        (("project.toml", "[catalog]", "[catalog"),),
+        "check",
+        "project.toml",
+        "(syntax)",
+        "malformed TOML",
+    ),
+    Bad(
+        "missing URDF",
+        (("project.toml", 'urdf = "leg.urdf"', 'urdf = "legs.urdf"'),),
+        "check",
+        "legs.urdf",
+        "urdf",
+        "cannot read the file",
+    ),
+    Bad(
+        "missing catalog",
+        (("project.toml", 'files = ["catalog.toml"]', 'files = ["catalogue.toml"]'),),
+        "check",
+        "project.toml",
+        "catalog.files[0]",
+        "no catalog file",
+    ),
+    Bad(
+        "catalog list empty",
+        (("project.toml", 'files = ["catalog.toml"]', "files = []"),),
+        "check",
+        "project.toml",
+        "catalog.files",
+        "non-empty list of file paths",
+    ),
+    Bad(
+        "mount on a missing link",
+        (("project.toml", 'mount_link = "thigh"', 'mount_link = "thig"'),),
+        "check",
+        "project.toml",
+        "robot.mounts.knee.mount_link",
+        "no link named 'thig'",
+    ),
+    Bad(
+        "ambient temperature in kg",
+        (("project.toml", "imf_min = 0.1", 'imf_min = 0.1\nambient = "25 kg"'),),
+        "check",
+        "project.toml",
+        "case[3].ambient",
+        "convertible to degC",
+    ),
+    Bad(
+        "negative payload requirement",
+        (("project.toml", 'payload_min = "150 N"', 'payload_min = "-150 N"'),),
+        "check",
+        "project.toml",
+        "case[0].payload_min",
+        "must be >= 0 N",
+    ),
+    Bad(
+        "unknown named pose",
+        (("project.toml", POSE, 'pose = "crouch"'),),
+        "check",
+        "project.toml",
+        "case[0].pose",
+        "unknown pose 'crouch'",
+    ),
+    Bad(
+        "named pose missing a joint",
+        (("project.toml", "[[case]]", "[poses.crouch]\nhip_ab = 0\nknee = 1\n\n[[case]]"),),
+        "check",
+        "project.toml",
+        "poses.crouch.hip_fe",
+        "every actuated joint needs a position",
+    ),
+    Bad(
+        "tip speed while holding",
+        (("project.toml", 'motion = "along"', 'motion = "hold"\ntip_speed = "1 m/s"'),),
+        "check",
+        "project.toml",
+        "case[0].tip_speed",
+        "held still",
+    ),
+    Bad(
+        "negative tip speed",
+        (("project.toml", 'motion = "along"', 'motion = "along"\ntip_speed = "-1 m/s"'),),
+        "check",
+        "project.toml",
+        "case[0].tip_speed",
+        "must be >= 0 m/s",
+    ),
+    Bad(
+        "negative payload mass on a speed case",
+        (
+            (
+                "project.toml",
+                'speed_min = "6.0 m/s"',
+                'speed_min = "6.0 m/s"\npayload_mass = "-2 kg"',
+            ),
+        ),
+        "check",
+        "project.toml",
+        "case[4].payload_mass",
+        "must be >= 0 kg",
+    ),
+    Bad(
+        "speed-case acceleration in m/s",
+        (
+            (
+                "project.toml",
+                'speed_min = "6.0 m/s"',
+                'speed_min = "6.0 m/s"\nacceleration = "3 m/s"',
+            ),
+        ),
+        "check",
+        "project.toml",
+        "case[4].acceleration",
+        "convertible to m/s**2",
+    ),
+    Bad(
+        "payload mass on a payload case",
+        (
+            (
+                "project.toml",
+                'payload_min = "150 N"',
+                'payload_min = "150 N"\npayload_mass = "2 kg"',
+            ),
+        ),
+        "check",
+        "project.toml",
+        "case[0].payload_mass",
+        "unknown field",
+    ),
+    Bad(
+        "negative fixed load",
+        (("project.toml", 'fixed_load = "117.7 N"', 'fixed_load = "-5 N"'),),
+        "check",
+        "project.toml",
+        "case[0].fixed_load",
+        "must be >= 0 N",
+    ),
+    Bad(
+        "fixed load as a torque",
+        (("project.toml", 'fixed_load = "117.7 N"', 'fixed_load = "5 N*m"'),),
+        "check",
+        "project.toml",
+        "case[0].fixed_load",
+        "must be a force (N) or a mass",
+    ),
+    Bad(
+        "negative payload share",
+        (("project.toml", "payload_share = 0.5", "payload_share = -1"),),
+        "check",
+        "project.toml",
+        "case[0].payload_share",
+        "must be >= 0",
+    ),
+    Bad(
+        "payload share on an impact case",
+        (("project.toml", "imf_min = 0.1", "imf_min = 0.1\npayload_share = 1"),),
+        "check",
+        "project.toml",
+        "case[3].payload_share",
+        "unknown field",
+    ),
+    Bad(
+        "stroke and acceleration together",
+        (("project.toml", 'stroke = "0.1 m"', 'stroke = "0.1 m"\nacceleration = "5 m/s^2"'),),
+        "check",
+        "project.toml",
+        "case[4].stroke",
+        "not both",
+    ),
+    Bad(
+        "tip force in kg",
+        (("project.toml", 'stroke = "0.1 m"', 'stroke = "0.1 m"\ntip_force = [0, 0, "2 kg"]'),),
+        "check",
+        "project.toml",
+        "case[4].tip_force[2]",
+        "convertible to N",
+    ),
+    Bad(
+        "zero stroke",
+        (("project.toml", 'stroke = "0.1 m"', 'stroke = "0 m"'),),
+        "check",
+        "project.toml",
+        "case[4].stroke",
+        "must be > 0",
+    ),
     # --- URDF ------------------------------------------------------------------------------
-    Bad("malformed URDF", (("leg.urdf", '<joint name="knee" type="revolute">', '<joint name="knee" type="revolute"'),),
-        "check", "leg.urdf", "urdf line 41", "malformed XML"),  # where the parser notices
-    Bad("URDF joint to a missing link", (("leg.urdf", '<child link="shank"/>', '<child link="shin"/>'),),
-        "check", "leg.urdf", "urdf.joint[knee].child", "no link named 'shin'"),
+    Bad(
+        "malformed URDF",
+        (
+            (
+                "leg.urdf",
+                '<joint name="knee" type="revolute">',
+                '<joint name="knee" type="revolute"',
+            ),
+        ),
+        "check",
+        "leg.urdf",
+        "urdf line 41",
+        "malformed XML",
+    ),  # where the parser notices
+    Bad(
+        "URDF joint to a missing link",
+        (("leg.urdf", '<child link="shank"/>', '<child link="shin"/>'),),
+        "check",
+        "leg.urdf",
+        "urdf.joint[knee].child",
+        "no link named 'shin'",
+    ),
     # --- catalog file ----------------------------------------------------------------------
-    Bad("negative motor mass", (("catalog.toml", 'mass = "0.18 kg"', 'mass = "-0.18 kg"'),),
-        "check", "catalog.toml", "motor[0].mass", "must be > 0 kg"),
-    Bad("zero frame mass", (("catalog.toml", 'mass = "0.22 kg"', "mass = 0"),),
-        "check", "catalog.toml", "stage[0].frame[0].mass", "must be > 0 kg"),
-    Bad("torque written in kg", (("catalog.toml", 'peak_torque = "0.878 N*m"', 'peak_torque = "3 kg"'),),
-        "check", "catalog.toml", "motor[0].peak_torque", "convertible to N*m"),
-    Bad("rotor inertia as a bool", (("catalog.toml", 'rotor_inertia = "0.329 kg*cm^2"', "rotor_inertia = true"),),
-        "check", "catalog.toml", "motor[0].rotor_inertia", "must be a number or a quantity"),
-    Bad("forward efficiency above 1", (("catalog.toml", BELT, BELT.replace("forward = 0.96", "forward = 1.2")),),
-        "check", "catalog.toml", "stage[1].efficiency.forward", "(0, 1]"),
-    Bad("backward efficiency at -1", (("catalog.toml", BELT, BELT.replace("backward = 0.95", "backward = -1.0")),),
-        "check", "catalog.toml", "stage[1].efficiency.backward", "(-1, 1]"),
-    Bad("backward above forward (constant pair)", (("catalog.toml", BELT, BELT.replace("backward = 0.95", "backward = 0.97")),),
-        "check", "catalog.toml", "stage[1].efficiency.backward", "forward"),
-    Bad("unknown efficiency model", (("catalog.toml", BELT, BELT.replace('"constant"', '"lossless"')),),
-        "check", "catalog.toml", "stage[1].efficiency.model", "lossless"),
-    Bad("unknown stage kind in catalog", (("catalog.toml", 'kind = "belt"', 'kind = "chain"'),),
-        "check", "catalog.toml", "stage[1].kind", "'chain'"),
-    Bad("duplicate motor name", (("catalog.toml", 'name = "Flatwind-2"', 'name = "Flatwind-1"'),),
-        "check", "catalog.toml", "motor[1]", "duplicate motor name 'Flatwind-1'"),
-    Bad("unknown motor field (typo)", (("catalog.toml", 'continuous_torque = "0.274 N*m"', 'continous_torque = "0.274 N*m"'),),
-        "check", "catalog.toml", "motor[0].continous_torque", "unknown field"),
-    Bad("continuous above peak", (("catalog.toml", 'continuous_torque = "0.274 N*m"', 'continuous_torque = "0.9 N*m"'),),
-        "check", "catalog.toml", "motor[0].continuous_torque", "must not exceed peak_torque"),
-    Bad("ratios not ascending", (("catalog.toml", "ratios = [11, 15, 21, 29]", "ratios = [11, 21, 15, 29]"),),
-        "check", "catalog.toml", "stage[2].ratios[2]", "strictly"),
-    Bad("malformed catalog TOML", (("catalog.toml", "[[stage]]", "[[stage]"),),
-        "check", "catalog.toml", "(syntax)", "malformed TOML"),
-    Bad("motors CSV row too short", (("catalog.toml", "", 'motors_csv = "more.csv"\n'),
-                                     ("more.csv", "", "name,peak_torque,continuous_torque,rotor_inertia,mass,max_speed\n"
-                                                      "QX-1,1.0,0.5,1e-5\n")),
-        "check", "more.csv", "row 2", "cells"),
-    Bad("motors CSV negative mass", (("catalog.toml", "", 'motors_csv = "more.csv"\n'),
-                                     ("more.csv", "", "name,peak_torque,continuous_torque,rotor_inertia,mass,max_speed\n"
-                                                      "QX-1,1.0,0.5,1e-5,-0.2,300\n")),
-        "check", "more.csv", "row 2, column mass", "must be > 0 kg"),
-    Bad("motors CSV missing", (("catalog.toml", "", 'motors_csv = "more.csv"\n'),),
-        "check", "more.csv", "(file)", "file not found"),
+    Bad(
+        "negative motor mass",
+        (("catalog.toml", 'mass = "0.18 kg"', 'mass = "-0.18 kg"'),),
+        "check",
+        "catalog.toml",
+        "motor[0].mass",
+        "must be > 0 kg",
+    ),
+    Bad(
+        "zero frame mass",
+        (("catalog.toml", 'mass = "0.22 kg"', "mass = 0"),),
+        "check",
+        "catalog.toml",
+        "stage[0].frame[0].mass",
+        "must be > 0 kg",
+    ),
+    Bad(
+        "torque written in kg",
+        (("catalog.toml", 'peak_torque = "0.878 N*m"', 'peak_torque = "3 kg"'),),
+        "check",
+        "catalog.toml",
+        "motor[0].peak_torque",
+        "convertible to N*m",
+    ),
+    Bad(
+        "rotor inertia as a bool",
+        (("catalog.toml", 'rotor_inertia = "0.329 kg*cm^2"', "rotor_inertia = true"),),
+        "check",
+        "catalog.toml",
+        "motor[0].rotor_inertia",
+        "must be a number or a quantity",
+    ),
+    Bad(
+        "forward efficiency above 1",
+        (("catalog.toml", BELT, BELT.replace("forward = 0.96", "forward = 1.2")),),
+        "check",
+        "catalog.toml",
+        "stage[1].efficiency.forward",
+        "(0, 1]",
+    ),
+    Bad(
+        "backward efficiency at -1",
+        (("catalog.toml", BELT, BELT.replace("backward = 0.95", "backward = -1.0")),),
+        "check",
+        "catalog.toml",
+        "stage[1].efficiency.backward",
+        "(-1, 1]",
+    ),
+    Bad(
+        "backward above forward (constant pair)",
+        (("catalog.toml", BELT, BELT.replace("backward = 0.95", "backward = 0.97")),),
+        "check",
+        "catalog.toml",
+        "stage[1].efficiency.backward",
+        "forward",
+    ),
+    Bad(
+        "unknown efficiency model",
+        (("catalog.toml", BELT, BELT.replace('"constant"', '"lossless"')),),
+        "check",
+        "catalog.toml",
+        "stage[1].efficiency.model",
+        "lossless",
+    ),
+    Bad(
+        "unknown stage kind in catalog",
+        (("catalog.toml", 'kind = "belt"', 'kind = "chain"'),),
+        "check",
+        "catalog.toml",
+        "stage[1].kind",
+        "'chain'",
+    ),
+    Bad(
+        "duplicate motor name",
+        (("catalog.toml", 'name = "Flatwind-2"', 'name = "Flatwind-1"'),),
+        "check",
+        "catalog.toml",
+        "motor[1]",
+        "duplicate motor name 'Flatwind-1'",
+    ),
+    Bad(
+        "unknown motor field (typo)",
+        (("catalog.toml", 'continuous_torque = "0.274 N*m"', 'continous_torque = "0.274 N*m"'),),
+        "check",
+        "catalog.toml",
+        "motor[0].continous_torque",
+        "unknown field",
+    ),
+    Bad(
+        "continuous above peak",
+        (("catalog.toml", 'continuous_torque = "0.274 N*m"', 'continuous_torque = "0.9 N*m"'),),
+        "check",
+        "catalog.toml",
+        "motor[0].continuous_torque",
+        "must not exceed peak_torque",
+    ),
+    Bad(
+        "ratios not ascending",
+        (("catalog.toml", "ratios = [11, 15, 21, 29]", "ratios = [11, 21, 15, 29]"),),
+        "check",
+        "catalog.toml",
+        "stage[2].ratios[2]",
+        "strictly",
+    ),
+    Bad(
+        "malformed catalog TOML",
+        (("catalog.toml", "[[stage]]", "[[stage]"),),
+        "check",
+        "catalog.toml",
+        "(syntax)",
+        "malformed TOML",
+    ),
+    Bad(
+        "motors CSV row too short",
+        (
+            ("catalog.toml", "", 'motors_csv = "more.csv"\n'),
+            (
+                "more.csv",
+                "",
+                "name,peak_torque,continuous_torque,rotor_inertia,mass,max_speed\n"
+                "QX-1,1.0,0.5,1e-5\n",
+            ),
+        ),
+        "check",
+        "more.csv",
+        "row 2",
+        "cells",
+    ),
+    Bad(
+        "motors CSV negative mass",
+        (
+            ("catalog.toml", "", 'motors_csv = "more.csv"\n'),
+            (
+                "more.csv",
+                "",
+                "name,peak_torque,continuous_torque,rotor_inertia,mass,max_speed\n"
+                "QX-1,1.0,0.5,1e-5,-0.2,300\n",
+            ),
+        ),
+        "check",
+        "more.csv",
+        "row 2, column mass",
+        "must be > 0 kg",
+    ),
+    Bad(
+        "motors CSV missing",
+        (("catalog.toml", "", 'motors_csv = "more.csv"\n'),),
+        "check",
+        "more.csv",
+        "(file)",
+        "file not found",
+    ),
     # --- design file -----------------------------------------------------------------------
-    Bad("ratio not offered", (("design.toml", "ratio = 6 }]", "ratio = 11 }]"),),
-        "assess", "design.toml", "joint.hip_ab.stages[0].ratio", "ratio 11 not offered by Orbit"),
-    Bad("ratio outside a continuous range", (("catalog.toml", "ratios = [3, 4, 5, 6, 7, 8, 9, 10]", "ratio_range = [3.0, 8.0]"),),
-        "assess", "design.toml", "joint.knee.stages[0].ratio", "ratio 9 not offered by Orbit: must be in [3, 8]"),
-    Bad("ratio as text", (("design.toml", "ratio = 6 }]", 'ratio = "six" }]'),),
-        "assess", "design.toml", "joint.hip_ab.stages[0].ratio", "cannot read 'six'"),
-    Bad("negative ratio", (("design.toml", "ratio = 6 }]", "ratio = -6 }]"),),
-        "assess", "design.toml", "joint.hip_ab.stages[0].ratio", "must be > 0"),
-    Bad("unknown stage type", (("design.toml", 'stage = "Orbit"', 'stage = "PQ"'),),
-        "assess", "design.toml", "joint.hip_ab.stages[0].stage", "unknown stage type 'PQ'"),
-    Bad("unknown frame size", (("design.toml", 'frame = "Orbit-2"', 'frame = "Orbit-9"'),),
-        "assess", "design.toml", "joint.hip_ab.stages[0].frame", "unknown frame 'Orbit-9' of Orbit"),
-    Bad("unknown motor", (("design.toml", 'motor = "Flatwind-6"', 'motor = "Flatwind-99"'),),
-        "assess", "design.toml", "joint.hip_ab.motor", "unknown motor 'Flatwind-99'"),
-    Bad("unknown joint in design", (("design.toml", "[joint.knee]", "[joint.ankle]"),),
-        "assess", "design.toml", "joint.ankle", "unknown joint 'ankle'"),
-    Bad("too many stages", (("design.toml", KNEE_STAGES, KNEE_STAGES[:-1] + ', { stage = "Strap", frame = "Strap-2", ratio = 1 }]'),),
-        "assess", "design.toml", "joint.knee.stages", "at most 1 stages"),
-    Bad("unknown design field (typo)", (("design.toml", 'motor = "Flatwind-6"', 'motr = "Flatwind-6"'),),
-        "assess", "design.toml", "joint.hip_ab.motr", "did you mean 'motor'"),
-    Bad("malformed design TOML", (("design.toml", "[design]", "[design"),),
-        "assess", "design.toml", "(syntax)", "malformed TOML"),
+    Bad(
+        "ratio not offered",
+        (("design.toml", "ratio = 6 }]", "ratio = 11 }]"),),
+        "assess",
+        "design.toml",
+        "joint.hip_ab.stages[0].ratio",
+        "ratio 11 not offered by Orbit",
+    ),
+    Bad(
+        "ratio outside a continuous range",
+        (("catalog.toml", "ratios = [3, 4, 5, 6, 7, 8, 9, 10]", "ratio_range = [3.0, 8.0]"),),
+        "assess",
+        "design.toml",
+        "joint.knee.stages[0].ratio",
+        "ratio 9 not offered by Orbit: must be in [3, 8]",
+    ),
+    Bad(
+        "ratio as text",
+        (("design.toml", "ratio = 6 }]", 'ratio = "six" }]'),),
+        "assess",
+        "design.toml",
+        "joint.hip_ab.stages[0].ratio",
+        "cannot read 'six'",
+    ),
+    Bad(
+        "negative ratio",
+        (("design.toml", "ratio = 6 }]", "ratio = -6 }]"),),
+        "assess",
+        "design.toml",
+        "joint.hip_ab.stages[0].ratio",
+        "must be > 0",
+    ),
+    Bad(
+        "unknown stage type",
+        (("design.toml", 'stage = "Orbit"', 'stage = "PQ"'),),
+        "assess",
+        "design.toml",
+        "joint.hip_ab.stages[0].stage",
+        "unknown stage type 'PQ'",
+    ),
+    Bad(
+        "unknown frame size",
+        (("design.toml", 'frame = "Orbit-2"', 'frame = "Orbit-9"'),),
+        "assess",
+        "design.toml",
+        "joint.hip_ab.stages[0].frame",
+        "unknown frame 'Orbit-9' of Orbit",
+    ),
+    Bad(
+        "unknown motor",
+        (("design.toml", 'motor = "Flatwind-6"', 'motor = "Flatwind-99"'),),
+        "assess",
+        "design.toml",
+        "joint.hip_ab.motor",
+        "unknown motor 'Flatwind-99'",
+    ),
+    Bad(
+        "unknown joint in design",
+        (("design.toml", "[joint.knee]", "[joint.ankle]"),),
+        "assess",
+        "design.toml",
+        "joint.ankle",
+        "unknown joint 'ankle'",
+    ),
+    Bad(
+        "too many stages",
+        (
+            (
+                "design.toml",
+                KNEE_STAGES,
+                KNEE_STAGES[:-1] + ', { stage = "Strap", frame = "Strap-2", ratio = 1 }]',
+            ),
+        ),
+        "assess",
+        "design.toml",
+        "joint.knee.stages",
+        "at most 1 stages",
+    ),
+    Bad(
+        "unknown design field (typo)",
+        (("design.toml", 'motor = "Flatwind-6"', 'motr = "Flatwind-6"'),),
+        "assess",
+        "design.toml",
+        "joint.hip_ab.motr",
+        "did you mean 'motor'",
+    ),
+    Bad(
+        "malformed design TOML",
+        (("design.toml", "[design]", "[design"),),
+        "assess",
+        "design.toml",
+        "(syntax)",
+        "malformed TOML",
+    ),
     # --- duty-cycle trajectory (CSV) -------------------------------------------------------
-    Bad("trajectory missing", (("project.toml", 'trajectory = "gait.csv"', 'trajectory = "gaits.csv"'),),
-        "check", "project.toml", "case[6].trajectory", "file not found"),
-    Bad("ambient in kg", (("project.toml", 'ambient = "30 degC"', 'ambient = "30 kg"'),),
-        "check", "project.toml", "case[6].ambient", "convertible to degC"),
-    Bad("pose on a duty case", (("project.toml", 'ambient = "30 degC"', 'ambient = "30 degC"\npose = { knee = 1 }'),),
-        "check", "project.toml", "case[6].pose", "unknown field"),
-    Bad("trajectory: unknown joint column", (("gait.csv", None, CYCLE.replace("q:knee [deg]", "q:ankle [deg]")),),
-        "assess", "gait.csv", "column 'q:ankle [deg]'", "unknown joint 'ankle'"),
-    Bad("trajectory: joint column missing", (("gait.csv", None, "\n".join(
-        ",".join(row.split(",")[:3]) for row in CYCLE.splitlines()) + "\n"),),
-        "assess", "gait.csv", "column 'q:knee'", "every joint needs its q"),
-    Bad("trajectory: row too short", (("gait.csv", None, CYCLE.replace("0.1,0,-42,84", "0.1,0,-42")),),
-        "assess", "gait.csv", "row 2 (line 3)", "has 3 cells, the header has 4"),
-    Bad("trajectory: not a number", (("gait.csv", None, CYCLE.replace("0.1,0,-42,84", "0.1,0,-42,abc")),),
-        "assess", "gait.csv", "row 2 (line 3), column 'q:knee [deg]'", "must be a number"),
-    Bad("trajectory: time goes back", (("gait.csv", None, CYCLE.replace("0.2,0,-44,88", "0.05,0,-44,88")),),
-        "assess", "gait.csv", "row 3 (line 4), column 't'", "strictly increasing"),
-    Bad("trajectory: half a force", (("gait.csv", None, CYCLE.replace("q:knee [deg]\n", "q:knee [deg],f:foot:x [N]\n")
-                                      .replace("80\n", "80,0\n").replace("84\n", "84,0\n").replace("88\n", "88,0\n")),),
-        "assess", "gait.csv", "column 'f:foot:x'", "give all of f:foot:x, f:foot:y, f:foot:z"),
-    Bad("trajectory: empty file", (("gait.csv", None, ""),),
-        "assess", "gait.csv", "header", "empty"),
+    Bad(
+        "trajectory missing",
+        (("project.toml", 'trajectory = "gait.csv"', 'trajectory = "gaits.csv"'),),
+        "check",
+        "project.toml",
+        "case[6].trajectory",
+        "file not found",
+    ),
+    Bad(
+        "ambient in kg",
+        (("project.toml", 'ambient = "30 degC"', 'ambient = "30 kg"'),),
+        "check",
+        "project.toml",
+        "case[6].ambient",
+        "convertible to degC",
+    ),
+    Bad(
+        "pose on a duty case",
+        (("project.toml", 'ambient = "30 degC"', 'ambient = "30 degC"\npose = { knee = 1 }'),),
+        "check",
+        "project.toml",
+        "case[6].pose",
+        "unknown field",
+    ),
+    Bad(
+        "trajectory: unknown joint column",
+        (("gait.csv", None, CYCLE.replace("q:knee [deg]", "q:ankle [deg]")),),
+        "assess",
+        "gait.csv",
+        "column 'q:ankle [deg]'",
+        "unknown joint 'ankle'",
+    ),
+    Bad(
+        "trajectory: joint column missing",
+        (
+            (
+                "gait.csv",
+                None,
+                "\n".join(",".join(row.split(",")[:3]) for row in CYCLE.splitlines()) + "\n",
+            ),
+        ),
+        "assess",
+        "gait.csv",
+        "column 'q:knee'",
+        "every joint needs its q",
+    ),
+    Bad(
+        "trajectory: row too short",
+        (("gait.csv", None, CYCLE.replace("0.1,0,-42,84", "0.1,0,-42")),),
+        "assess",
+        "gait.csv",
+        "row 2 (line 3)",
+        "has 3 cells, the header has 4",
+    ),
+    Bad(
+        "trajectory: not a number",
+        (("gait.csv", None, CYCLE.replace("0.1,0,-42,84", "0.1,0,-42,abc")),),
+        "assess",
+        "gait.csv",
+        "row 2 (line 3), column 'q:knee [deg]'",
+        "must be a number",
+    ),
+    Bad(
+        "trajectory: time goes back",
+        (("gait.csv", None, CYCLE.replace("0.2,0,-44,88", "0.05,0,-44,88")),),
+        "assess",
+        "gait.csv",
+        "row 3 (line 4), column 't'",
+        "strictly increasing",
+    ),
+    Bad(
+        "trajectory: half a force",
+        (
+            (
+                "gait.csv",
+                None,
+                CYCLE.replace("q:knee [deg]\n", "q:knee [deg],f:foot:x [N]\n")
+                .replace("80\n", "80,0\n")
+                .replace("84\n", "84,0\n")
+                .replace("88\n", "88,0\n"),
+            ),
+        ),
+        "assess",
+        "gait.csv",
+        "column 'f:foot:x'",
+        "give all of f:foot:x, f:foot:y, f:foot:z",
+    ),
+    Bad(
+        "trajectory: empty file", (("gait.csv", None, ""),), "assess", "gait.csv", "header", "empty"
+    ),
     # --- the arm example -------------------------------------------------------------------
-    Bad("arm: payload as a length", (("project.toml", 'payload_min = "3 kg"', 'payload_min = "3 m"'),),
-        "check", "project.toml", "case[0].payload_min", "force", example="arm"),
-    Bad("arm: IMF on a fixed base", (("project.toml", 'effective_mass_max = "4 kg"', 'imf_min = 0.3'),),
-        "check", "project.toml", "case[2].imf_min", "needs a floating base", example="arm"),
-    Bad("quadruped: stance without contacts", (("project.toml", "contacts = [{", "contact = [{"),),
-        "check", "project.toml", "case[1].contacts", "at least one contact", example="quadruped"),
-    Bad("quadruped: contact on a missing frame", (("project.toml", '{ frame = "fl_foot", friction = 0.6 },\n', '{ frame = "fl_toe", friction = 0.6 },\n'),),
-        "check", "project.toml", "case[0].contacts[0].frame", "no frame, link or joint named 'fl_toe'", example="quadruped"),
-    Bad("quadruped: negative friction", (("project.toml", '{ frame = "fl_foot", friction = 0.6 },\n', '{ frame = "fl_foot", friction = -0.6 },\n'),),
-        "check", "project.toml", "case[0].contacts[0].friction", "must be >= 0", example="quadruped"),
-    Bad("quadruped: duplicate contact", (("project.toml", '{ frame = "fr_foot", friction = 0.6 },\n', '{ frame = "fl_foot", friction = 0.6 },\n'),),
-        "check", "project.toml", "case[0].contacts[1].frame", "duplicate contact 'fl_foot'", example="quadruped"),
-    Bad("quadruped: zero contact normal", (("project.toml", '{ frame = "fl_foot", friction = 0.6 },\n', '{ frame = "fl_foot", friction = 0.6, normal = [0, 0, 0] },\n'),),
-        "check", "project.toml", "case[0].contacts[0].normal", "zero vector", example="quadruped"),
-    Bad("arm: base pose on a fixed base", (("project.toml", 'motion = "along"', 'motion = "along"\nbase_rpy = [0, "90 deg", 0]'),),
-        "check", "project.toml", "case[0].base_rpy", "only for a floating base", example="arm"),
+    Bad(
+        "arm: payload as a length",
+        (("project.toml", 'payload_min = "3 kg"', 'payload_min = "3 m"'),),
+        "check",
+        "project.toml",
+        "case[0].payload_min",
+        "force",
+        example="arm",
+    ),
+    Bad(
+        "arm: IMF on a fixed base",
+        (("project.toml", 'effective_mass_max = "4 kg"', "imf_min = 0.3"),),
+        "check",
+        "project.toml",
+        "case[2].imf_min",
+        "needs a floating base",
+        example="arm",
+    ),
+    Bad(
+        "quadruped: stance without contacts",
+        (("project.toml", "contacts = [{", "contact = [{"),),
+        "check",
+        "project.toml",
+        "case[1].contacts",
+        "at least one contact",
+        example="quadruped",
+    ),
+    Bad(
+        "quadruped: contact on a missing frame",
+        (
+            (
+                "project.toml",
+                '{ frame = "fl_foot", friction = 0.6 },\n',
+                '{ frame = "fl_toe", friction = 0.6 },\n',
+            ),
+        ),
+        "check",
+        "project.toml",
+        "case[0].contacts[0].frame",
+        "no frame, link or joint named 'fl_toe'",
+        example="quadruped",
+    ),
+    Bad(
+        "quadruped: negative friction",
+        (
+            (
+                "project.toml",
+                '{ frame = "fl_foot", friction = 0.6 },\n',
+                '{ frame = "fl_foot", friction = -0.6 },\n',
+            ),
+        ),
+        "check",
+        "project.toml",
+        "case[0].contacts[0].friction",
+        "must be >= 0",
+        example="quadruped",
+    ),
+    Bad(
+        "quadruped: duplicate contact",
+        (
+            (
+                "project.toml",
+                '{ frame = "fr_foot", friction = 0.6 },\n',
+                '{ frame = "fl_foot", friction = 0.6 },\n',
+            ),
+        ),
+        "check",
+        "project.toml",
+        "case[0].contacts[1].frame",
+        "duplicate contact 'fl_foot'",
+        example="quadruped",
+    ),
+    Bad(
+        "quadruped: zero contact normal",
+        (
+            (
+                "project.toml",
+                '{ frame = "fl_foot", friction = 0.6 },\n',
+                '{ frame = "fl_foot", friction = 0.6, normal = [0, 0, 0] },\n',
+            ),
+        ),
+        "check",
+        "project.toml",
+        "case[0].contacts[0].normal",
+        "zero vector",
+        example="quadruped",
+    ),
+    Bad(
+        "arm: base pose on a fixed base",
+        (("project.toml", 'motion = "along"', 'motion = "along"\nbase_rpy = [0, "90 deg", 0]'),),
+        "check",
+        "project.toml",
+        "case[0].base_rpy",
+        "only for a floating base",
+        example="arm",
+    ),
     # --- the [objective] table, read when sizing starts (before any search) ----------------
-    Bad("objective: unknown key", (("project.toml", "max_stages = 1", 'max_stages = 1\n\n[objective]\nmaximise = "mass"\n'),),
-        "size", "project.toml", "objective.maximise", "unknown field", example="arm"),
-    Bad("objective: unknown objective", (("project.toml", "max_stages = 1", 'max_stages = 1\n\n[objective]\nmaximize = "weight"\n'),),
-        "size", "project.toml", "objective.maximize", "must be one of payload, mass, imf", example="arm"),
-    Bad("payload objective with no case growing with the payload",
-        (("project.toml", "payload_share = 1.0", "payload_share = 0"), ("project.toml", "payload_share = 1.0", "payload_share = 0")),
-        "size", "project.toml", "case", "payload_share > 0", example="arm"),
-    Bad("objective: pin on an unknown joint", (("project.toml", "max_stages = 1", 'max_stages = 1\n\n[objective]\npin = { ankle = { motor = "Ringwind-01" } }\n'),),
-        "size", "project.toml", "objective.pin.ankle", "unknown joint", example="arm"),
-    Bad("objective: pin an unknown motor", (("project.toml", "max_stages = 1", 'max_stages = 1\n\n[objective]\npin = { elbow = { motor = "Ringwind-00" } }\n'),),
-        "size", "project.toml", "objective.pin.elbow.motor", "unknown motor 'Ringwind-00'", example="arm"),
-    Bad("objective: shared group of one", (("project.toml", "max_stages = 1", 'max_stages = 1\n\n[objective]\nshared = [["elbow"]]\n'),),
-        "size", "project.toml", "objective.shared[0]", "at least two joints", example="arm"),
-    Bad("objective: exclude not a list", (("project.toml", "max_stages = 1", 'max_stages = 1\n\n[objective]\nexclude = "Flexring"\n'),),
-        "size", "project.toml", "objective.exclude", "must be a list", example="arm"),
-    Bad("arm: stage kind restriction unknown", (("project.toml", "max_stages = 1", 'max_stages = 1\nstage_kinds = ["strainwave"]'),),
-        "check", "project.toml", "catalog.stage_kinds[0]", "unknown stage kind", example="arm"),
-    Bad("URDF negative link mass", (("leg.urdf", '<mass value="0.45"/>', '<mass value="-0.45"/>'),),
-        "check", "leg.urdf", "urdf.link[hip].inertial.mass.value", "must be >= 0 kg"),
-    Bad("URDF mass not a number", (("leg.urdf", '<mass value="0.45"/>', '<mass value="abc"/>'),),
-        "check", "leg.urdf", "urdf.link[hip].inertial.mass.value", "number"),
-    Bad("URDF negative inertia", (("leg.urdf", 'ixx="0.0004"', 'ixx="-0.0004"'),),
-        "check", "leg.urdf", "urdf.link[hip].inertial.inertia", "positive semidefinite"),
-    Bad("URDF zero joint axis", (("leg.urdf", '<axis xyz="0 1 0"/>', '<axis xyz="0 0 0"/>'),),
-        "check", "leg.urdf", "urdf.joint[hip_fe].axis.xyz", "zero vector"),
-    Bad("trajectory: angle column in metres", (("gait.csv", None, CYCLE.replace("q:knee [deg]", "q:knee [m]")),),
-        "assess", "gait.csv", "column 'q:knee [m]'", "revolute"),
+    Bad(
+        "objective: unknown key",
+        (("project.toml", "max_stages = 1", 'max_stages = 1\n\n[objective]\nmaximise = "mass"\n'),),
+        "size",
+        "project.toml",
+        "objective.maximise",
+        "unknown field",
+        example="arm",
+    ),
+    Bad(
+        "objective: unknown objective",
+        (
+            (
+                "project.toml",
+                "max_stages = 1",
+                'max_stages = 1\n\n[objective]\nmaximize = "weight"\n',
+            ),
+        ),
+        "size",
+        "project.toml",
+        "objective.maximize",
+        "must be one of payload, mass, imf",
+        example="arm",
+    ),
+    Bad(
+        "payload objective with no case growing with the payload",
+        (
+            ("project.toml", "payload_share = 1.0", "payload_share = 0"),
+            ("project.toml", "payload_share = 1.0", "payload_share = 0"),
+        ),
+        "size",
+        "project.toml",
+        "case",
+        "payload_share > 0",
+        example="arm",
+    ),
+    Bad(
+        "objective: pin on an unknown joint",
+        (
+            (
+                "project.toml",
+                "max_stages = 1",
+                'max_stages = 1\n\n[objective]\npin = { ankle = { motor = "Ringwind-01" } }\n',
+            ),
+        ),
+        "size",
+        "project.toml",
+        "objective.pin.ankle",
+        "unknown joint",
+        example="arm",
+    ),
+    Bad(
+        "objective: pin an unknown motor",
+        (
+            (
+                "project.toml",
+                "max_stages = 1",
+                'max_stages = 1\n\n[objective]\npin = { elbow = { motor = "Ringwind-00" } }\n',
+            ),
+        ),
+        "size",
+        "project.toml",
+        "objective.pin.elbow.motor",
+        "unknown motor 'Ringwind-00'",
+        example="arm",
+    ),
+    Bad(
+        "objective: shared group of one",
+        (
+            (
+                "project.toml",
+                "max_stages = 1",
+                'max_stages = 1\n\n[objective]\nshared = [["elbow"]]\n',
+            ),
+        ),
+        "size",
+        "project.toml",
+        "objective.shared[0]",
+        "at least two joints",
+        example="arm",
+    ),
+    Bad(
+        "objective: exclude not a list",
+        (
+            (
+                "project.toml",
+                "max_stages = 1",
+                'max_stages = 1\n\n[objective]\nexclude = "Flexring"\n',
+            ),
+        ),
+        "size",
+        "project.toml",
+        "objective.exclude",
+        "must be a list",
+        example="arm",
+    ),
+    Bad(
+        "arm: stage kind restriction unknown",
+        (("project.toml", "max_stages = 1", 'max_stages = 1\nstage_kinds = ["strainwave"]'),),
+        "check",
+        "project.toml",
+        "catalog.stage_kinds[0]",
+        "unknown stage kind",
+        example="arm",
+    ),
+    Bad(
+        "URDF negative link mass",
+        (("leg.urdf", '<mass value="0.45"/>', '<mass value="-0.45"/>'),),
+        "check",
+        "leg.urdf",
+        "urdf.link[hip].inertial.mass.value",
+        "must be >= 0 kg",
+    ),
+    Bad(
+        "URDF mass not a number",
+        (("leg.urdf", '<mass value="0.45"/>', '<mass value="abc"/>'),),
+        "check",
+        "leg.urdf",
+        "urdf.link[hip].inertial.mass.value",
+        "number",
+    ),
+    Bad(
+        "URDF negative inertia",
+        (("leg.urdf", 'ixx="0.0004"', 'ixx="-0.0004"'),),
+        "check",
+        "leg.urdf",
+        "urdf.link[hip].inertial.inertia",
+        "positive semidefinite",
+    ),
+    Bad(
+        "URDF zero joint axis",
+        (("leg.urdf", '<axis xyz="0 1 0"/>', '<axis xyz="0 0 0"/>'),),
+        "check",
+        "leg.urdf",
+        "urdf.joint[hip_fe].axis.xyz",
+        "zero vector",
+    ),
+    Bad(
+        "trajectory: angle column in metres",
+        (("gait.csv", None, CYCLE.replace("q:knee [deg]", "q:knee [m]")),),
+        "assess",
+        "gait.csv",
+        "column 'q:knee [m]'",
+        "revolute",
+    ),
 ]
 
 
@@ -355,7 +1115,9 @@ def test_missing_project_file(tmp_path):
 
 def test_missing_design_file(examples, tmp_path):
     project = examples["leg"] / "project.toml"
-    message = _one_error_line(_run(["assess", str(project), "--design", str(tmp_path / "none.toml")]))
+    message = _one_error_line(
+        _run(["assess", str(project), "--design", str(tmp_path / "none.toml")])
+    )
     _assert_names(message, "none.toml", "(file)", "file not found")
 
 
@@ -375,28 +1137,44 @@ def test_new_into_a_folder_that_is_not_empty(tmp_path):
 def test_project_that_is_not_utf8(examples, tmp_path):
     folder = tmp_path / "leg"
     shutil.copytree(examples["leg"], folder)
-    (folder / "project.toml").write_bytes(b"[project]\nname = \"\xff\xfe\"\n")
+    (folder / "project.toml").write_bytes(b'[project]\nname = "\xff\xfe"\n')
     message = _one_error_line(_run(["check", str(folder / "project.toml")]))
     _assert_names(message, "project.toml", "(encoding)", "UTF-8")
 
 
 # --- files that cannot be read, or are not UTF-8; numbers beyond float range ------------------
 
-@pytest.mark.parametrize("file, verb", [("project.toml", "check"), ("catalog.toml", "check"),
-                                        ("gait.csv", "assess"), ("design.toml", "assess")])
+
+@pytest.mark.parametrize(
+    "file, verb",
+    [
+        ("project.toml", "check"),
+        ("catalog.toml", "check"),
+        ("gait.csv", "assess"),
+        ("design.toml", "assess"),
+    ],
+)
 def test_a_file_that_is_not_utf8(examples, tmp_path, file, verb):
     # 0xFF never occurs in UTF-8 (RFC 3629, section 1) [pub]
     folder = tmp_path / "leg"
     shutil.copytree(examples["leg"], folder)
     (folder / file).write_bytes((folder / file).read_bytes() + b"\n# caf\xe9\xff\n")
-    args = [verb, str(folder / "project.toml")] + (["--design", str(folder / "design.toml")]
-                                                   if verb == "assess" else [])
+    args = [verb, str(folder / "project.toml")] + (
+        ["--design", str(folder / "design.toml")] if verb == "assess" else []
+    )
     message = _one_error_line(_run(args))
-    assert Path(message[len(PREFIX):].split(":")[0]).name == file and "UTF-8" in message
+    assert Path(message[len(PREFIX) :].split(":")[0]).name == file and "UTF-8" in message
 
 
-@pytest.mark.parametrize("file, verb", [("project.toml", "check"), ("catalog.toml", "check"),
-                                        ("gait.csv", "assess"), ("design.toml", "assess")])
+@pytest.mark.parametrize(
+    "file, verb",
+    [
+        ("project.toml", "check"),
+        ("catalog.toml", "check"),
+        ("gait.csv", "assess"),
+        ("design.toml", "assess"),
+    ],
+)
 def test_a_file_that_cannot_be_read(examples, tmp_path, monkeypatch, file, verb):
     # the tests may run as root, for whom chmod 000 still reads: the refusal is injected as the
     # operating system reports it (PermissionError, errno EACCES)
@@ -424,10 +1202,13 @@ def test_a_file_that_cannot_be_read(examples, tmp_path, monkeypatch, file, verb)
 
     monkeypatch.setattr(builtins, "open", fake_open)
     monkeypatch.setattr(pathlib.Path, "open", fake_path_open)
-    args = [verb, str(folder / "project.toml")] + (["--design", str(folder / "design.toml")]
-                                                   if verb == "assess" else [])
+    args = [verb, str(folder / "project.toml")] + (
+        ["--design", str(folder / "design.toml")] if verb == "assess" else []
+    )
     message = _one_error_line(_run(args))
-    assert Path(message[len(PREFIX):].split(":")[0]).name == file and "Permission denied" in message
+    assert (
+        Path(message[len(PREFIX) :].split(":")[0]).name == file and "Permission denied" in message
+    )
 
 
 @pytest.mark.parametrize("old, new, field, rule", [
@@ -441,7 +1222,9 @@ def test_out_of_range_numbers_and_crossed_limits(examples, tmp_path, old, new, f
     folder = tmp_path / "leg"
     shutil.copytree(examples["leg"], folder)
     _edit(folder, "project.toml", old, new)
-    _assert_names(_one_error_line(_run(["check", str(folder / "project.toml")])), "project.toml", field, rule)
+    _assert_names(
+        _one_error_line(_run(["check", str(folder / "project.toml")])), "project.toml", field, rule
+    )
 
 
 # --- a singular pose where a metric needs the task-space inertia ------------------------------
@@ -469,7 +1252,9 @@ def test_singular_pose_gives_infinities_not_nan(examples, tmp_path):
     text = re.sub(POSE_RE, STRAIGHT, text)
     text = re.sub(r"direction = \[[^\]]*\]", "direction = [0, 0, 1]", text)
     (folder / "project.toml").write_text(text)
-    result = _run(["assess", str(folder / "project.toml"), "--design", str(folder / "design.toml"), "--json"])
+    result = _run(
+        ["assess", str(folder / "project.toml"), "--design", str(folder / "design.toml"), "--json"]
+    )
     assert result.exit_code == 0, result.output
     assert "NaN" not in result.stdout
     data = json.loads(result.stdout)
@@ -501,17 +1286,20 @@ def test_subprocess_exit_code_and_single_line(verb, examples, tmp_path):
     assert proc.stdout == ""
     lines = proc.stderr.strip().splitlines()
     assert len(lines) == 1 and "Traceback" not in proc.stderr
-    _assert_names(lines[0][len(PREFIX):], "catalog.toml", "motor[0].mass", "must be > 0 kg")
+    _assert_names(lines[0][len(PREFIX) :], "catalog.toml", "motor[0].mass", "must be > 0 kg")
 
 
 # --- usage errors (the command line itself, not a file) ----------------------------------------
 
 
-@pytest.mark.parametrize("args, says", [
-    (["new", "somewhere", "--example", "hexapod"], "Invalid value for '--example'"),
-    (["assess", "project.toml"], "Missing option '--design'"),
-    (["chek", "project.toml"], "No such command 'chek'"),
-])
+@pytest.mark.parametrize(
+    "args, says",
+    [
+        (["new", "somewhere", "--example", "hexapod"], "Invalid value for '--example'"),
+        (["assess", "project.toml"], "Missing option '--design'"),
+        (["chek", "project.toml"], "No such command 'chek'"),
+    ],
+)
 def test_usage_errors_exit_2_without_traceback(args, says):
     # click's usage errors: exit code 2, the usage line and one "Error:" line, no traceback
     result = _run(args)
@@ -523,19 +1311,46 @@ def test_usage_errors_exit_2_without_traceback(args, says):
 
 # --- property: any one value replaced by a hostile one ends cleanly --------------------------
 
-HOSTILE = ['0', '-1', '1e9', '1e-12', '-0.0', '"0 kg"', '"-3 N*m"', '"3 kg"', '"abc"', 'true', '[]',
-           '[0, 0, 0]', '{}', '"1e400"', '"nan"', '"inf"', '"-inf"', '"5 deg"', '"-1 m/s"', '""',
-           '[1, 2]', '"foot"', '"hip_ab"', "9" * 400, "-" + "9" * 400]
+HOSTILE = [
+    "0",
+    "-1",
+    "1e9",
+    "1e-12",
+    "-0.0",
+    '"0 kg"',
+    '"-3 N*m"',
+    '"3 kg"',
+    '"abc"',
+    "true",
+    "[]",
+    "[0, 0, 0]",
+    "{}",
+    '"1e400"',
+    '"nan"',
+    '"inf"',
+    '"-inf"',
+    '"5 deg"',
+    '"-1 m/s"',
+    '""',
+    "[1, 2]",
+    '"foot"',
+    '"hip_ab"',
+    "9" * 400,
+    "-" + "9" * 400,
+]
 VALUE_RE = r"(?m)(=\s*)([^\n#{\[]+?|\[[^\]\n]*\])(\s*(#.*)?$|\s*[,}])"
 
 
 @pytest.mark.slow
-@pytest.mark.parametrize("example", [
-    "leg",
-    # these draws hit the first known gap below (an efficiency model given as a list)
-    "arm",
-    "quadruped",
-])
+@pytest.mark.parametrize(
+    "example",
+    [
+        "leg",
+        # these draws hit the first known gap below (an efficiency model given as a list)
+        "arm",
+        "quadruped",
+    ],
+)
 def test_any_value_replaced_by_a_hostile_one_ends_cleanly(example, examples):
     # The contract of the design brief §5 as a property: whatever one value of a project,
     # catalog or design file is replaced by, the run either succeeds without NaN in its JSON or
@@ -549,7 +1364,9 @@ def test_any_value_replaced_by_a_hostile_one_ends_cleanly(example, examples):
     source = examples[example]
     files = sorted(p.name for p in source.iterdir() if p.suffix == ".toml")
 
-    @settings(max_examples=40, deadline=None, derandomize=True, suppress_health_check=list(HealthCheck))
+    @settings(
+        max_examples=40, deadline=None, derandomize=True, suppress_health_check=list(HealthCheck)
+    )
     @given(which=st.sampled_from(files), k=st.integers(0, 10**6), value=st.sampled_from(HOSTILE))
     def check(which, k, value):
         with tempfile.TemporaryDirectory() as tmp:
@@ -558,10 +1375,18 @@ def test_any_value_replaced_by_a_hostile_one_ends_cleanly(example, examples):
             text = (folder / which).read_text(encoding="utf-8")
             spots = list(re.finditer(VALUE_RE, text))
             m = spots[k % len(spots)]
-            (folder / which).write_text(text[:m.start(2)] + value + text[m.end(2):], encoding="utf-8")
+            (folder / which).write_text(
+                text[: m.start(2)] + value + text[m.end(2) :], encoding="utf-8"
+            )
             args = ["check", str(folder / "project.toml"), "--json"]
             if which == "design.toml":  # only assess reads the design
-                args = ["assess", str(folder / "project.toml"), "--design", str(folder / "design.toml"), "--json"]
+                args = [
+                    "assess",
+                    str(folder / "project.toml"),
+                    "--design",
+                    str(folder / "design.toml"),
+                    "--json",
+                ]
             result = _run(args)
             if result.exit_code == 0:
                 assert "NaN" not in result.stdout
@@ -574,10 +1399,22 @@ def test_any_value_replaced_by_a_hostile_one_ends_cleanly(example, examples):
 # --- values of the wrong type where a name is expected (found by the property test above) ---
 
 WRONG_TYPES = [
-    Bad("efficiency model given as a list", (("catalog.toml", BELT, BELT.replace('"constant"', "[]")),),
-        "check", "catalog.toml", "stage[1].efficiency.model", "must be"),
-    Bad("mount link given as a list", (("project.toml", 'mount_link = "thigh"', "mount_link = []"),),
-        "check", "project.toml", "robot.mounts.knee.mount_link", "must be"),
+    Bad(
+        "efficiency model given as a list",
+        (("catalog.toml", BELT, BELT.replace('"constant"', "[]")),),
+        "check",
+        "catalog.toml",
+        "stage[1].efficiency.model",
+        "must be",
+    ),
+    Bad(
+        "mount link given as a list",
+        (("project.toml", 'mount_link = "thigh"', "mount_link = []"),),
+        "check",
+        "project.toml",
+        "robot.mounts.knee.mount_link",
+        "must be",
+    ),
 ]
 
 
@@ -590,5 +1427,7 @@ def test_a_list_where_a_name_belongs_gives_one_clear_line(bad: Bad, examples, tm
 def test_frontier_imf_on_a_fixed_base_gives_one_clear_line(examples):
     # a fixed-base arm has no impact mitigation factor (its locked-joint inertia is unbounded,
     # REFERENCES.md); asking for the IMF frontier must say so in one line, not search and crash
-    message = _one_error_line(_run(["frontier", str(examples["arm"] / "project.toml"), "--measure", "imf"]))
+    message = _one_error_line(
+        _run(["frontier", str(examples["arm"] / "project.toml"), "--measure", "imf"])
+    )
     assert "imf" in message

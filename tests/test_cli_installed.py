@@ -25,15 +25,26 @@ def _script() -> str | None:
 
 
 SCRIPT = _script()
-pytestmark = pytest.mark.skipif(SCRIPT is None, reason="the jointwright console script is not "
-                                "installed in this environment (pip install .)")
+pytestmark = pytest.mark.skipif(
+    SCRIPT is None,
+    reason="the jointwright console script is not installed in this environment (pip install .)",
+)
 
 
-def run(*args: str, cwd: Path, ok: bool = True, timeout: float = 600) -> subprocess.CompletedProcess:
+def run(
+    *args: str, cwd: Path, ok: bool = True, timeout: float = 600
+) -> subprocess.CompletedProcess:
     env = {k: v for k, v in os.environ.items() if k not in ("COLUMNS",)}
     env["COLUMNS"] = "100"
-    proc = subprocess.run([SCRIPT, *args], cwd=cwd, env=env, capture_output=True, text=True,
-                          timeout=timeout, stdin=subprocess.DEVNULL)
+    proc = subprocess.run(
+        [SCRIPT, *args],
+        cwd=cwd,
+        env=env,
+        capture_output=True,
+        text=True,
+        timeout=timeout,
+        stdin=subprocess.DEVNULL,
+    )
     if ok:
         assert proc.returncode == 0, f"{args}: exit {proc.returncode}\n{proc.stdout}\n{proc.stderr}"
     assert "Traceback" not in proc.stderr, proc.stderr
@@ -89,14 +100,34 @@ def test_main_job_end_to_end(example, tmp_path):
     assert (proj / "best.toml").read_text(encoding="utf-8").strip()
     (proj / "size.json").write_text(proc.stdout, encoding="utf-8")
 
-    proc = run("frontier", "proj/project.toml", *_measure(example), "--points", "3",
-               "--time-limit", "60", "--out", "proj/frontier.json", cwd=tmp_path)
+    proc = run(
+        "frontier",
+        "proj/project.toml",
+        *_measure(example),
+        "--points",
+        "3",
+        "--time-limit",
+        "60",
+        "--out",
+        "proj/frontier.json",
+        cwd=tmp_path,
+    )
     front = json.loads((proj / "frontier.json").read_text(encoding="utf-8"))
     assert front["points"], proc.stdout
 
-    out = run("report", "proj/project.toml", "--design", "proj/best.toml", "--sizing",
-              "proj/size.json", "--frontier", "proj/frontier.json", "--out", "proj/report",
-              cwd=tmp_path).stdout
+    out = run(
+        "report",
+        "proj/project.toml",
+        "--design",
+        "proj/best.toml",
+        "--sizing",
+        "proj/size.json",
+        "--frontier",
+        "proj/frontier.json",
+        "--out",
+        "proj/report",
+        cwd=tmp_path,
+    ).stdout
     html = list((proj / "report").glob("*.html"))
     assert html, out
     assert "<img" in html[0].read_text(encoding="utf-8")

@@ -55,7 +55,9 @@ def test_existing_out_needs_force(tmp_path):
     assert out.read_text(encoding="utf-8") == "keep me\n"
     r = _run(["size", d / "project.toml", "--out", out, "--force", "--json"])
     assert r.exit_code == 0, r.output
-    assert out.read_text(encoding="utf-8").startswith(("#", "[")) and "keep me" not in out.read_text()
+    assert (
+        out.read_text(encoding="utf-8").startswith(("#", "[")) and "keep me" not in out.read_text()
+    )
     assert not [p for p in tmp_path.iterdir() if p.name.startswith(".best.toml.")]
 
 
@@ -65,7 +67,9 @@ def test_frontier_out_and_plot_need_force(tmp_path):
     out.write_text("{}", encoding="utf-8")
     r = _run(["frontier", d / "project.toml", "--points", "2", "--out", out])
     assert r.exit_code == 2 and "already exists" in r.output and out.read_text() == "{}"
-    r = _run(["frontier", d / "project.toml", "--points", "2", "--out", d / "catalog.toml", "--force"])
+    r = _run(
+        ["frontier", d / "project.toml", "--points", "2", "--out", d / "catalog.toml", "--force"]
+    )
     assert r.exit_code == 2 and "input files" in r.output
 
 
@@ -79,7 +83,9 @@ def test_report_needs_force_over_an_existing_report_and_never_takes_an_input(tmp
     assert r.exit_code == 2 and "already exists" in r.output and html.read_bytes() == first
     assert _run(args + ["--force"]).exit_code == 0
     assert not [p for p in (tmp_path / "r").iterdir() if p.name.startswith(".partial-")]
-    r = _run(["report", d / "project.toml", "--design", d / "design.toml", "--out", d / "design.toml"])
+    r = _run(
+        ["report", d / "project.toml", "--design", d / "design.toml", "--out", d / "design.toml"]
+    )
     assert r.exit_code == 2 and "input files" in r.output
 
 
@@ -135,7 +141,9 @@ def test_study_csv_needs_force_and_never_takes_an_input(tmp_path):
     csv_out.write_text("old\n", encoding="utf-8")
     r = _run(["study", study, "--workers", "1", "--csv", csv_out])
     assert r.exit_code == 2 and "already exists" in r.output
-    assert csv_out.read_text() == "old\n" and not (d / "results.sqlite").exists()  # refused before running
+    assert (
+        csv_out.read_text() == "old\n" and not (d / "results.sqlite").exists()
+    )  # refused before running
     for name in ("study.toml", "project.toml"):
         r = _run(["study", study, "--workers", "1", "--csv", d / name, "--force"])
         assert r.exit_code == 2 and "input files" in r.output, r.output
@@ -143,14 +151,20 @@ def test_study_csv_needs_force_and_never_takes_an_input(tmp_path):
     assert r.exit_code == 2 and "input files" in r.output
     r = _run(["study", study, "--workers", "1", "--csv", csv_out, "--force", "--json"])
     assert r.exit_code == 0, r.output
-    assert csv_out.read_text(encoding="utf-8").startswith("case_id,variant,requirements.total_mass_max")
+    assert csv_out.read_text(encoding="utf-8").startswith(
+        "case_id,variant,requirements.total_mass_max"
+    )
 
 
 def test_a_report_that_fails_half_way_leaves_the_old_one(tmp_path, monkeypatch):
     d = _leg(tmp_path)
     args = ["report", d / "project.toml", "--design", d / "design.toml", "--out", tmp_path / "r"]
     assert _run(args).exit_code == 0
-    before = {p.relative_to(tmp_path / "r"): p.read_bytes() for p in (tmp_path / "r").rglob("*") if p.is_file()}
+    before = {
+        p.relative_to(tmp_path / "r"): p.read_bytes()
+        for p in (tmp_path / "r").rglob("*")
+        if p.is_file()
+    }
     import jointwright.report as report_pkg
 
     real = report_pkg.build_report
@@ -158,10 +172,16 @@ def test_a_report_that_fails_half_way_leaves_the_old_one(tmp_path, monkeypatch):
     def half(project, design, out_dir, **kw):
         path = real(project, design, out_dir, **kw)
         (Path(out_dir) / "figures").mkdir(exist_ok=True)
-        raise OSError(28, "No space left on device")  # after writing everything into the temp folder
+        raise OSError(
+            28, "No space left on device"
+        )  # after writing everything into the temp folder
 
     monkeypatch.setattr(report_pkg, "build_report", half)
     r = _run(args + ["--force"])
     assert r.exit_code != 0 and "Traceback" not in r.output
-    after = {p.relative_to(tmp_path / "r"): p.read_bytes() for p in (tmp_path / "r").rglob("*") if p.is_file()}
+    after = {
+        p.relative_to(tmp_path / "r"): p.read_bytes()
+        for p in (tmp_path / "r").rglob("*")
+        if p.is_file()
+    }
     assert after == before

@@ -27,7 +27,9 @@ def test_closed_form():
     assert float(r.speed) == pytest.approx(0.268080, rel=1e-5)
     assert float(r.energy) == pytest.approx(140.0**2 / 150_000.0, rel=1e-12)
     # energy check: ½·μ·v² at the limit speed equals the spring energy F²/(2k)
-    assert 0.5 * float(r.reduced_mass) * float(r.speed) ** 2 == pytest.approx(float(r.energy), rel=1e-12)
+    assert 0.5 * float(r.reduced_mass) * float(r.speed) ** 2 == pytest.approx(
+        float(r.energy), rel=1e-12
+    )
 
 
 def test_immovable_robot_leaves_the_body_mass():
@@ -56,25 +58,36 @@ def _arm_with_region(tmp_path, extra: str) -> str:
 
 
 def test_arm_side_collision_contact_speed_from_its_effective_mass(tmp_path):
-    path = _arm_with_region(tmp_path, 'body_force_max = "140 N"\nbody_stiffness = "75 N/mm"\n'
-                                      'body_mass = "40 kg"\ncontact_speed_min = "0.1 m/s"')
+    path = _arm_with_region(
+        tmp_path,
+        'body_force_max = "140 N"\nbody_stiffness = "75 N/mm"\n'
+        'body_mass = "40 kg"\ncontact_speed_min = "0.1 m/s"',
+    )
     p = load_project(path)
     d = load_design(p.file.with_name("design.toml"), p)
     a = assess(p, d)
     case = next(c for c in a.cases if c.name == "side-collision")
     m_r = case.metrics["effective_mass"]
     mu = 1.0 / (1.0 / 40.0 + 1.0 / m_r)
-    assert case.metrics["contact_speed"] == pytest.approx(140.0 / math.sqrt(mu * 75_000.0), rel=1e-12)
+    assert case.metrics["contact_speed"] == pytest.approx(
+        140.0 / math.sqrt(mu * 75_000.0), rel=1e-12
+    )
     check = next(c for c in a.checks if c.requirement == "contact_speed_min")
     assert check.achieved == pytest.approx(case.metrics["contact_speed"], rel=1e-12)
     assert any("ISO/TS 15066" in text for text in a.cautions)
 
 
-@pytest.mark.parametrize("extra, field", [
-    ('contact_speed_min = "0.1 m/s"', "contact_speed_min"),
-    ('body_force_max = "140 N"', "body_stiffness"),
-    ('body_force_max = "140 N"\nbody_stiffness = "-3 N/mm"\nbody_mass = "40 kg"', "body_stiffness"),
-])
+@pytest.mark.parametrize(
+    "extra, field",
+    [
+        ('contact_speed_min = "0.1 m/s"', "contact_speed_min"),
+        ('body_force_max = "140 N"', "body_stiffness"),
+        (
+            'body_force_max = "140 N"\nbody_stiffness = "-3 N/mm"\nbody_mass = "40 kg"',
+            "body_stiffness",
+        ),
+    ],
+)
 def test_body_region_is_complete_or_absent(tmp_path, extra, field):
     with pytest.raises(InputError) as exc:
         load_project(_arm_with_region(tmp_path, extra))
@@ -94,18 +107,31 @@ def test_sizing_honours_a_contact_speed_limit_exactly():
     robot = planar_arm(rng)
     pose = {"j0": 0.4, "j1": -0.7, "j2": 0.5}
     region = (140.0, 75_000.0, 40.0)
-    cases = (Case("lift", "payload", "tip", pose, direction=(0.0, 0.0, 1.0), limits={}),
-             Case("bump", "impact", "tip", pose, direction=(1.0, 0.0, 0.0), limits={},
-                  body_region=region))
-    p = dataclasses.replace(arm, robot=robot, cases=cases, catalog=small_catalog(arm.catalog, rng, motors=3),
-                            max_stages=1, stage_kinds=None, objective={}, requirements=Requirements())
+    cases = (
+        Case("lift", "payload", "tip", pose, direction=(0.0, 0.0, 1.0), limits={}),
+        Case(
+            "bump", "impact", "tip", pose, direction=(1.0, 0.0, 0.0), limits={}, body_region=region
+        ),
+    )
+    p = dataclasses.replace(
+        arm,
+        robot=robot,
+        cases=cases,
+        catalog=small_catalog(arm.catalog, rng, motors=3),
+        max_stages=1,
+        stage_kinds=None,
+        objective={},
+        requirements=Requirements(),
+    )
     from jointwright.evaluate import Evaluator
 
     table = build_table(p)
     sample = rng.integers(0, len(table), (12, 3))
     speeds = Evaluator(p).evaluate(table.arrays(sample), detail=False)["bump"]["contact_speed"]
     limit = float(np.median(speeds))
-    p = dataclasses.replace(p, cases=(cases[0], dataclasses.replace(cases[1], limits={"contact_speed_min": limit})))
+    p = dataclasses.replace(
+        p, cases=(cases[0], dataclasses.replace(cases[1], limits={"contact_speed_min": limit}))
+    )
     res = agree(p, "payload")
     if res.status == "optimal":
         bump = next(c for c in res.assessment.cases if c.name == "bump")

@@ -31,6 +31,7 @@ POSE = np.array([0.0, 0.7, -1.1])  # front-leg joint angles, rad
 
 # --- models built with Pinocchio ------------------------------------------------------------
 
+
 def _add_leg(model: pin.Model, parent: int, hip: np.ndarray, name: str) -> int:
     """Abduction (x), hip pitch (y), knee (y); returns the foot frame id."""
     down = pin.SE3(np.eye(3), np.array([0.0, 0.0, -THIGH / 2]))
@@ -74,15 +75,22 @@ def _stance(n_legs: int, mu, normals=None, yaw=0.0) -> mc.ContactStatics:
     q = pin.neutral(model)
     q[5:7] = [math.sin(yaw / 2), math.cos(yaw / 2)]
     for i, hip in enumerate(hips):
-        q[7 + 3 * i: 10 + 3 * i] = POSE if hip[0] > 0 else POSE * [1, -1, -1]
+        q[7 + 3 * i : 10 + 3 * i] = POSE if hip[0] > 0 else POSE * [1, -1, -1]
     g = pin.computeGeneralizedGravity(model, data, q)
     jc = np.array([_jacobian(model, data, q, f)[:3] for f in feet])
     jp = _jacobian(model, data, q, centre)[:3]
     k = len(feet)
     return mc.ContactStatics(
-        gravity=g, contact_jacobians=jc, normals=np.tile([0, 0, 1.0], (k, 1)) if normals is None
-        else normals, friction=mu, payload_jacobian=jp, payload_wrench=[0, 0, -1.0],
-        tau_low=-np.tile(TAU_MAX, k), tau_high=np.tile(TAU_MAX, k), actuated=range(6, 6 + 3 * k))
+        gravity=g,
+        contact_jacobians=jc,
+        normals=np.tile([0, 0, 1.0], (k, 1)) if normals is None else normals,
+        friction=mu,
+        payload_jacobian=jp,
+        payload_wrench=[0, 0, -1.0],
+        tau_low=-np.tile(TAU_MAX, k),
+        tau_high=np.tile(TAU_MAX, k),
+        actuated=range(6, 6 + 3 * k),
+    )
 
 
 def _single_leg():
@@ -97,12 +105,18 @@ def _single_leg():
 def _ray_bound(bias, a, low, high):
     """Largest f ≥ 0 with low ≤ bias − a·f ≤ high, joint by joint (closed-form one-variable
     LP, Chiacchio et al. 1997 [mem]); returns (f*, limiting joint, its side)."""
-    cands = [((bias[i] - low[i]) / a[i], i, "low") if a[i] > 0 else
-             ((bias[i] - high[i]) / a[i], i, "high") for i in range(len(a)) if a[i] != 0]
+    cands = [
+        ((bias[i] - low[i]) / a[i], i, "low")
+        if a[i] > 0
+        else ((bias[i] - high[i]) / a[i], i, "high")
+        for i in range(len(a))
+        if a[i] != 0
+    ]
     return min(cands)
 
 
 # --- symmetric stance -----------------------------------------------------------------------
+
 
 def test_symmetric_stance_is_single_leg_times_number_of_legs():
     # Assumptions: frictionless feet (μ = 0) so foot forces are vertical; body weight shared
@@ -190,9 +204,16 @@ def _box(mu, point, wrench, height=0.1) -> mc.ContactStatics:
     g = (0, 0, W, W·(c × e_z)) = (0, 0, W, 0, 0, 0) since c ∥ e_z."""
     jp = mc.rigid_point_jacobian(np.asarray(point, float), angular=len(wrench) == 6)
     return mc.ContactStatics(
-        gravity=[0, 0, W, 0, 0, 0], contact_jacobians=mc.rigid_point_jacobian(CORNERS),
-        normals=np.tile([0, 0, 1.0], (4, 1)), friction=mu, payload_jacobian=jp,
-        payload_wrench=wrench, tau_low=[], tau_high=[], actuated=[])
+        gravity=[0, 0, W, 0, 0, 0],
+        contact_jacobians=mc.rigid_point_jacobian(CORNERS),
+        normals=np.tile([0, 0, 1.0], (4, 1)),
+        friction=mu,
+        payload_jacobian=jp,
+        payload_wrench=wrench,
+        tau_low=[],
+        tau_high=[],
+        actuated=[],
+    )
 
 
 def test_rigid_body_tips_over_an_edge():
@@ -252,14 +273,22 @@ def test_rigid_point_jacobian_matches_pinocchio_free_flyer():
 
 # --- fixed base, bounds, statuses ------------------------------------------------------------
 
+
 def _leg_case(high=TAU_MAX, low=None, bias_force=0.0) -> mc.ContactStatics:
     """The fixed-hip leg with the foot pushing up: payload s along +z at the foot."""
     g, jz = _single_leg()
     jp = np.vstack([np.zeros((2, 3)), jz])
     return mc.ContactStatics(
-        gravity=g - jz * bias_force, contact_jacobians=np.zeros((0, 3, 3)), normals=np.zeros((0, 3)),
-        friction=[], payload_jacobian=jp, payload_wrench=[0, 0, 1.0],
-        tau_low=-np.asarray(high) if low is None else low, tau_high=high, actuated=[0, 1, 2])
+        gravity=g - jz * bias_force,
+        contact_jacobians=np.zeros((0, 3, 3)),
+        normals=np.zeros((0, 3)),
+        friction=[],
+        payload_jacobian=jp,
+        payload_wrench=[0, 0, 1.0],
+        tau_low=-np.asarray(high) if low is None else low,
+        tau_high=high,
+        actuated=[0, 1, 2],
+    )
 
 
 def test_fixed_base_leg_matches_closed_form_and_multiplier():
@@ -272,7 +301,9 @@ def test_fixed_base_leg_matches_closed_form_and_multiplier():
     mult = res.torque_multiplier_high if side == "high" else res.torque_multiplier_low
     assert mult[joint] == pytest.approx(1.0 / abs(jz[joint]), rel=1e-5)
     assert np.delete(mult, joint).max() < 1e-6
-    assert res.binding() == (f"joint {joint} {'upper' if side == 'high' else 'lower'} torque bound",)
+    assert res.binding() == (
+        f"joint {joint} {'upper' if side == 'high' else 'lower'} torque bound",
+    )
 
 
 def test_infinite_bounds_statuses_and_linear_program_agree():
@@ -289,8 +320,10 @@ def test_infinite_bounds_statuses_and_linear_program_agree():
     # too weak to hold the leg's own weight plus a 500 N preload: no payload exists
     weak = mc.solve(_leg_case(bias_force=500.0))
     assert weak.status == "infeasible" and math.isnan(weak.payload)
-    for case, status in ((_leg_case(np.full(3, math.inf)), "unbounded"),
-                         (_leg_case(bias_force=500.0), "infeasible")):
+    for case, status in (
+        (_leg_case(np.full(3, math.inf)), "unbounded"),
+        (_leg_case(bias_force=500.0), "infeasible"),
+    ):
         b = mc.pyramid_bounds(case)
         assert b.inner.status == b.outer.status == status
 
@@ -317,7 +350,7 @@ def _random_legged(seed: int, k: int, mu: float, planted: bool) -> mc.ContactSta
     jc = np.zeros((k, 3, nv))
     jc[:, :, :6] = mc.rigid_point_jacobian(feet)
     for c in range(k):
-        jc[c, :, 6 + 3 * c: 9 + 3 * c] = rng.normal(0, 0.3, (3, 3))
+        jc[c, :, 6 + 3 * c : 9 + 3 * c] = rng.normal(0, 0.3, (3, 3))
     normals = np.column_stack([rng.normal(0, 0.2, (k, 2)), np.ones(k)])
     tau = rng.uniform(5, 40, 3 * k)
     w = rng.normal(size=3)
@@ -328,25 +361,41 @@ def _random_legged(seed: int, k: int, mu: float, planted: bool) -> mc.ContactSta
         fn = rng.uniform(10, 100, k)
         angle = rng.uniform(0, 2 * np.pi, k)
         ft = 0.5 * mu * fn
-        f = (fn[:, None] * n + (ft * np.cos(angle))[:, None] * t1
-             + (ft * np.sin(angle))[:, None] * t2)
+        f = (
+            fn[:, None] * n
+            + (ft * np.cos(angle))[:, None] * t1
+            + (ft * np.sin(angle))[:, None] * t2
+        )
         g = np.einsum("kiv,ki->v", jc, f) + jp.T @ w
         g[6:] += rng.uniform(-0.5, 0.5, 3 * k) * tau
     else:
         weight, com = rng.uniform(50, 200), rng.uniform(-0.05, 0.05, 3)
-        g = np.concatenate([[0, 0, weight], weight * np.cross(com, [0, 0, 1]),
-                            rng.normal(0, 1, 3 * k)])
+        g = np.concatenate(
+            [[0, 0, weight], weight * np.cross(com, [0, 0, 1]), rng.normal(0, 1, 3 * k)]
+        )
     return mc.ContactStatics(
-        gravity=g, contact_jacobians=jc, normals=normals, friction=mu, payload_jacobian=jp,
-        payload_wrench=w, tau_low=-tau, tau_high=tau, actuated=range(6, nv))
+        gravity=g,
+        contact_jacobians=jc,
+        normals=normals,
+        friction=mu,
+        payload_jacobian=jp,
+        payload_wrench=w,
+        tau_low=-tau,
+        tau_high=tau,
+        actuated=range(6, nv),
+    )
 
 
 ORDER = {"infeasible": 0, "optimal": 1, "unbounded": 2}
 
 
 @settings(max_examples=25, deadline=None, database=None)
-@given(seed=hs.integers(0, 2**32 - 1), k=hs.integers(1, 4), mu=hs.floats(0.0, 1.2),
-       planted=hs.booleans())
+@given(
+    seed=hs.integers(0, 2**32 - 1),
+    k=hs.integers(1, 4),
+    mu=hs.floats(0.0, 1.2),
+    planted=hs.booleans(),
+)
 def test_cone_between_pyramids_on_random_robots(seed, k, mu, planted):
     # Inner ⊂ cone ⊂ outer holds for any statics: infeasible/optimal/unbounded are ordered too.
     st = _random_legged(seed, k, mu, planted)
@@ -361,13 +410,17 @@ def test_cone_between_pyramids_on_random_robots(seed, k, mu, planted):
         tol = 1e-6 * max(1.0, cone.payload)
         assert b.inner.payload <= cone.payload + tol <= b.outer.payload + 2 * tol
         # the cone solution satisfies the statics it was given (residual of g = Sᵀτ + Σ Jᵀf + ...)
-        resid = (st.gravity - st.selection_transpose() @ cone.joint_torques
-                 - np.einsum("kiv,ki->v", st.contact_jacobians, cone.contact_forces)
-                 - st.payload_jacobian.T @ st.payload_wrench * cone.payload)
+        resid = (
+            st.gravity
+            - st.selection_transpose() @ cone.joint_torques
+            - np.einsum("kiv,ki->v", st.contact_jacobians, cone.contact_forces)
+            - st.payload_jacobian.T @ st.payload_wrench * cone.payload
+        )
         assert np.abs(resid).max() < 1e-6 * max(1.0, np.abs(st.gravity).max(), cone.payload)
 
 
 # --- re-solving, batches ---------------------------------------------------------------------
+
 
 def test_resolve_matches_fresh_solve_and_is_dpp():
     problem = mc.MultiContactPayload.for_statics(_stance(2, 0.6))
@@ -375,8 +428,13 @@ def test_resolve_matches_fresh_solve_and_is_dpp():
     rng = np.random.default_rng(7)
     for _ in range(3):
         st = _stance(2, rng.uniform(0.0, 1.0, 2))
-        scaled = mc.ContactStatics(**{**_fields(st), "tau_high": st.tau_high * rng.uniform(0.8, 1.5),
-                                      "tau_low": st.tau_low * rng.uniform(0.8, 1.5)})
+        scaled = mc.ContactStatics(
+            **{
+                **_fields(st),
+                "tau_high": st.tau_high * rng.uniform(0.8, 1.5),
+                "tau_low": st.tau_low * rng.uniform(0.8, 1.5),
+            }
+        )
         again = problem.resolve(scaled)
         assert again.payload == pytest.approx(mc.solve(scaled).payload, rel=1e-7)
     with pytest.raises(InputError, match="problem built for"):
@@ -384,8 +442,17 @@ def test_resolve_matches_fresh_solve_and_is_dpp():
 
 
 def _fields(st: mc.ContactStatics) -> dict:
-    names = ("gravity", "contact_jacobians", "normals", "friction", "payload_jacobian",
-             "payload_wrench", "tau_low", "tau_high", "actuated")
+    names = (
+        "gravity",
+        "contact_jacobians",
+        "normals",
+        "friction",
+        "payload_jacobian",
+        "payload_wrench",
+        "tau_low",
+        "tau_high",
+        "actuated",
+    )
     return {n: getattr(st, n) for n in names}
 
 
@@ -394,15 +461,24 @@ def test_solve_batch_broadcasts_designs_by_poses():
     base = _fields(_stance(2, 0.6))
     scales = np.array([0.8, 1.0, 1.3])[:, None, None]
     mus = np.array([[0.3, 0.3], [0.8, 0.8]])
-    arrays = {**{n: v for n, v in base.items() if n != "actuated"},
-              "tau_high": base["tau_high"] * scales, "tau_low": base["tau_low"] * scales,
-              "friction": mus}
+    arrays = {
+        **{n: v for n, v in base.items() if n != "actuated"},
+        "tau_high": base["tau_high"] * scales,
+        "tau_low": base["tau_low"] * scales,
+        "friction": mus,
+    }
     out = mc.solve_batch(actuated=base["actuated"], **arrays)
     assert out.payload.shape == (3, 2) and out.contact_forces.shape == (3, 2, 2, 3)
     for d in range(3):
         for p in range(2):
-            one = mc.ContactStatics(**{**base, "tau_high": arrays["tau_high"][d, 0],
-                                       "tau_low": arrays["tau_low"][d, 0], "friction": mus[p]})
+            one = mc.ContactStatics(
+                **{
+                    **base,
+                    "tau_high": arrays["tau_high"][d, 0],
+                    "tau_low": arrays["tau_low"][d, 0],
+                    "friction": mus[p],
+                }
+            )
             assert out.payload[d, p] == pytest.approx(mc.solve(one).payload, rel=1e-7)
     assert (np.diff(out.payload, axis=0) > 0).all()
     one_mu = mc.solve_batch(actuated=base["actuated"], **{**arrays, "friction": 0.8})
@@ -416,21 +492,24 @@ def test_solve_batch_broadcasts_designs_by_poses():
 ONE_JOINT = {"tau_low": [-1.0], "tau_high": [1.0], "actuated": [0]}
 
 
-@pytest.mark.parametrize("change, field", [
-    ({"friction": -0.1}, "friction"),
-    ({"friction": "slippery"}, "friction"),
-    ({"normals": np.zeros((4, 3))}, "normals"),
-    ({"payload_wrench": [0.0, 0.0, 0.0]}, "payload_wrench"),
-    ({"gravity": [0, 0, math.nan, 0, 0, 0]}, "gravity"),
-    ({"contact_jacobians": np.zeros((4, 3, 5))}, "contact_jacobians"),
-    ({"payload_jacobian": np.zeros((4, 6))}, "payload_jacobian"),
-    ({"actuated": None}, "actuated"),
-    ({**ONE_JOINT, "actuated": [6]}, "actuated"),
-    ({**ONE_JOINT, "actuated": [0.5]}, "actuated"),
-    ({**ONE_JOINT, "tau_low": [1.0], "tau_high": [0.0]}, "tau_low[0]"),
-    ({**ONE_JOINT, "tau_low": [math.inf], "tau_high": [math.inf]}, "tau_low/tau_high"),
-    ({**ONE_JOINT, "tau_high": [1.0, 2.0]}, "tau_high"),
-])
+@pytest.mark.parametrize(
+    "change, field",
+    [
+        ({"friction": -0.1}, "friction"),
+        ({"friction": "slippery"}, "friction"),
+        ({"normals": np.zeros((4, 3))}, "normals"),
+        ({"payload_wrench": [0.0, 0.0, 0.0]}, "payload_wrench"),
+        ({"gravity": [0, 0, math.nan, 0, 0, 0]}, "gravity"),
+        ({"contact_jacobians": np.zeros((4, 3, 5))}, "contact_jacobians"),
+        ({"payload_jacobian": np.zeros((4, 6))}, "payload_jacobian"),
+        ({"actuated": None}, "actuated"),
+        ({**ONE_JOINT, "actuated": [6]}, "actuated"),
+        ({**ONE_JOINT, "actuated": [0.5]}, "actuated"),
+        ({**ONE_JOINT, "tau_low": [1.0], "tau_high": [0.0]}, "tau_low[0]"),
+        ({**ONE_JOINT, "tau_low": [math.inf], "tau_high": [math.inf]}, "tau_low/tau_high"),
+        ({**ONE_JOINT, "tau_high": [1.0, 2.0]}, "tau_high"),
+    ],
+)
 def test_bad_input_names_the_field(change, field):
     args = {**_fields(_box(0.5, [0, 0, 0], [0, 0, -1.0])), **change}
     with pytest.raises(InputError) as err:
@@ -448,8 +527,9 @@ def test_bad_problem_arguments():
 
 
 @settings(max_examples=50, deadline=None, database=None)
-@given(hs.lists(hs.floats(-1, 1), min_size=3, max_size=3).filter(
-    lambda v: np.linalg.norm(v) > 1e-3))
+@given(
+    hs.lists(hs.floats(-1, 1), min_size=3, max_size=3).filter(lambda v: np.linalg.norm(v) > 1e-3)
+)
 def test_tangent_basis_is_right_handed_orthonormal(normal):
     t1, t2, n = mc.tangent_basis(np.array(normal))
     frame = np.array([t1, t2, n])
@@ -459,6 +539,5 @@ def test_tangent_basis_is_right_handed_orthonormal(normal):
 
 def test_import_does_not_load_cvxpy():
     code = "import sys, jointwright.metrics.contacts; print('cvxpy' in sys.modules)"
-    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
-                         check=True)
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == "False"

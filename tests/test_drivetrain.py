@@ -29,15 +29,33 @@ class Pair:
         return "test pair"
 
 
-MOTOR = Motor(name="m", peak_torque=2.0, continuous_torque=0.8, rotor_inertia=5e-5, mass=0.3,
-              max_speed=300.0, cogging_torque=0.01)
+MOTOR = Motor(
+    name="m",
+    peak_torque=2.0,
+    continuous_torque=0.8,
+    rotor_inertia=5e-5,
+    mass=0.3,
+    max_speed=300.0,
+    cogging_torque=0.01,
+)
 
 
 def stage(fwd, bwd, *, peak=100.0, inertia=1e-6, breakaway=0.02, mass=0.2, name="s"):
-    frame = StageFrame(name=name + "-f", rated_peak_torque=peak, rated_continuous_torque=peak / 2,
-                       mass=mass, input_inertia=inertia, breakaway_torque=breakaway)
-    return StageType(name=name, kind="planetary", efficiency=Pair(fwd, bwd), frames=(frame,),
-                     ratio_range=(1.0, 200.0)), frame
+    frame = StageFrame(
+        name=name + "-f",
+        rated_peak_torque=peak,
+        rated_continuous_torque=peak / 2,
+        mass=mass,
+        input_inertia=inertia,
+        breakaway_torque=breakaway,
+    )
+    return StageType(
+        name=name,
+        kind="planetary",
+        efficiency=Pair(fwd, bwd),
+        frames=(frame,),
+        ratio_range=(1.0, 200.0),
+    ), frame
 
 
 def actuator(*specs):

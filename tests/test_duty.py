@@ -63,8 +63,15 @@ def test_frictionless_gives_the_classical_model_exactly(tj, qd, qdd, n, ir):
 
 
 @settings(max_examples=80, deadline=None)
-@given(tj=val, qd=val, qdd=val, n=st.floats(1.0, 200.0), ir=st.floats(0.0, 1e-3),
-       ef=eta_f_st, eb=st.floats(0.05, 1.0))
+@given(
+    tj=val,
+    qd=val,
+    qdd=val,
+    n=st.floats(1.0, 200.0),
+    ir=st.floats(0.0, 1e-3),
+    ef=eta_f_st,
+    eb=st.floats(0.05, 1.0),
+)
 def test_inverse_matches_the_forward_transmission_law(tj, qd, qdd, n, ir, ef, eb):
     # forward law (Modelica LossyGear [pub]: one efficiency per direction of power flow):
     # motoring τ_j = η_f·N·(τ_m − N·I_r·q̈); back-driven τ_j = (N/η_b)·(…)
@@ -82,8 +89,13 @@ def test_inverse_matches_the_forward_transmission_law(tj, qd, qdd, n, ir, ef, eb
 
 
 @settings(max_examples=80, deadline=None)
-@given(tj=st.floats(0.1, 50.0), speed=st.floats(0.01, 10.0), n=st.floats(1.0, 200.0),
-       ef=eta_f_st, eb=eta_b_st)
+@given(
+    tj=st.floats(0.1, 50.0),
+    speed=st.floats(0.01, 10.0),
+    n=st.floats(1.0, 200.0),
+    ef=eta_f_st,
+    eb=eta_b_st,
+)
 def test_backdriven_needs_less_motor_torque_than_motoring(tj, speed, n, ef, eb):
     # lowering a load at constant speed (τ_j·q̇ < 0) against raising it (τ_j·q̇ > 0) [trade]:
     # |η_b·τ_j/N| ≤ τ_j/(η_f·N) because |η_b|·η_f ≤ 1
@@ -118,8 +130,9 @@ def test_holding_modes():
 
 def test_round_off_speed_counts_as_standstill():
     # a differentiated trajectory has |q̇| ~ 1e-16 at its turning points: not a power flow
-    _, mode = motor_torque([5.0, 5.0, 5.0], [-4e-16, 0.3, -0.3], [0.0, 0.0, 0.0], 10.0, 0.9, 0.8,
-                           0.0, standstill=1e-9)
+    _, mode = motor_torque(
+        [5.0, 5.0, 5.0], [-4e-16, 0.3, -0.3], [0.0, 0.0, 0.0], 10.0, 0.9, 0.8, 0.0, standstill=1e-9
+    )
     np.testing.assert_array_equal(mode, [HOLDING, MOTORING, BACKDRIVEN])
 
 
@@ -142,8 +155,10 @@ def ivp_temperature(t, loss_of, r_th, tau_th, ambient, alpha):
     c = tau_th / r_th
     out, theta = [ambient], 0.0
     for k in range(len(t) - 1):
+
         def rhs(s, y, k=k):
             return [(loss_of(k, s) * (1 + alpha * (ambient - 20 + y[0])) - y[0] / r_th) / c]
+
         sol = solve_ivp(rhs, (t[k], t[k + 1]), [theta], method="DOP853", rtol=1e-12, atol=1e-12)
         theta = sol.y[0, -1]
         out.append(ambient + theta)
@@ -155,8 +170,7 @@ def ivp_temperature(t, loss_of, r_th, tau_th, ambient, alpha):
 def test_step_response_matches_first_order_closed_form(hold, n):
     # [trade] ΔT(t) = P·R_th·(1 − e^(−t/τ_th)); P = 10 W, R_th = 2 K/W, τ_th = 30 s → 20 K rise
     t = np.linspace(0.0, 200.0, n)
-    got = thermal_response(np.full(n, 10.0), t, 2.0, 30.0, 25.0, resistance_tempco=False,
-                           hold=hold)
+    got = thermal_response(np.full(n, 10.0), t, 2.0, 30.0, 25.0, resistance_tempco=False, hold=hold)
     np.testing.assert_allclose(got, 25.0 + 20.0 * (1 - np.exp(-t / 30.0)), rtol=1e-12)
 
 
@@ -185,6 +199,7 @@ def test_linear_loss_with_tempco_is_second_order():
     for n in (21, 41):
         t = np.linspace(0.0, 30.0, n)
         p = 30.0 * (1 + np.sin(t / 2.0))
+
         def lin(k, s, t=t, p=p):
             return p[k] + (p[k + 1] - p[k]) * (s - t[k]) / (t[k + 1] - t[k])
 
@@ -231,8 +246,9 @@ def test_thermal_batches_over_designs():
     r_th = rng.uniform(0.5, 3.0, size=4)
     got = periodic_temperature(p, t, r_th, 15.0, 25.0)
     for i in range(4):
-        np.testing.assert_allclose(got[i], periodic_temperature(p[i], t, r_th[i], 15.0, 25.0),
-                                   rtol=1e-13)
+        np.testing.assert_allclose(
+            got[i], periodic_temperature(p[i], t, r_th[i], 15.0, 25.0), rtol=1e-13
+        )
 
 
 # ----------------------------------------------------------------------------------------------
@@ -246,8 +262,9 @@ def test_cycle_energy_regeneration():
     g = cycle_energy(np.full(5, -1.0), np.full(5, 50.0), t, 0.2)
     assert g.electrical_regen == pytest.approx(-25.0) and g.electrical_no_regen == 0.0
     # hot winding: R(120 °C)/R20 = 1.393 → copper 139.3 J
-    hot = cycle_energy(np.full(5, 2.0), np.full(5, 50.0), t, 0.2,
-                       winding_temperature=np.full(5, 120.0))
+    hot = cycle_energy(
+        np.full(5, 2.0), np.full(5, 50.0), t, 0.2, winding_temperature=np.full(5, 120.0)
+    )
     assert hot.copper_loss == pytest.approx(139.3)
 
 
@@ -312,17 +329,27 @@ def test_transmission_never_creates_energy(tj, qd, ef, eb):
 
 # ----------------------------------------------------------------------------------------------
 # summary
-MOTOR = dict(peak_torque=2.0, continuous_torque=0.5, max_speed=100.0, torque_constant=0.1,
-             resistance=0.5, bus_voltage=24.0, thermal_resistance=2.0, thermal_time_constant=60.0,
-             winding_temperature_max=155.0, ambient=25.0)
+MOTOR = dict(
+    peak_torque=2.0,
+    continuous_torque=0.5,
+    max_speed=100.0,
+    torque_constant=0.1,
+    resistance=0.5,
+    bus_voltage=24.0,
+    thermal_resistance=2.0,
+    thermal_time_constant=60.0,
+    winding_temperature_max=155.0,
+    ambient=25.0,
+)
 
 
 def lift(qd_sign, eta_b=0.6):
     t = np.linspace(0.0, 10.0, 11)
     tj = np.full(11, 20.0)
     qd = np.full(11, 0.5 * qd_sign)
-    return duty_summary(tj, qd, np.zeros(11), t, ratio=40.0, eta_f=0.8, eta_b=eta_b,
-                        rotor_inertia=1e-5, **MOTOR)
+    return duty_summary(
+        tj, qd, np.zeros(11), t, ratio=40.0, eta_f=0.8, eta_b=eta_b, rotor_inertia=1e-5, **MOTOR
+    )
 
 
 def test_summary_of_a_constant_lift():
@@ -360,8 +387,17 @@ def test_summary_of_a_thermal_runaway():
     # 1.5 N·m held with Km² = 0.01/0.5 = 0.02: P20 = 112.5 W; α·P20·R_th = 0.00393·112.5·2.5 = 1.1
     # ≥ 1, so the winding has no steady state: temperature and energy are inf, never NaN
     t = np.linspace(0.0, 1.0, 11)
-    s = duty_summary(np.full(11, 60.0), np.zeros(11), np.zeros(11), t, ratio=40.0, eta_f=0.8,
-                     eta_b=1.0, rotor_inertia=0.0, **dict(MOTOR, thermal_resistance=2.5))
+    s = duty_summary(
+        np.full(11, 60.0),
+        np.zeros(11),
+        np.zeros(11),
+        t,
+        ratio=40.0,
+        eta_f=0.8,
+        eta_b=1.0,
+        rotor_inertia=0.0,
+        **dict(MOTOR, thermal_resistance=2.5),
+    )
     assert s.rms_torque == pytest.approx(1.5)  # holding, η_b = 1: 60/40
     assert math.isinf(s.peak_temperature) and math.isinf(s.energy_regen)
     assert s.limiting == "temperature" and s.holding_share == pytest.approx(1.0)
@@ -369,9 +405,19 @@ def test_summary_of_a_thermal_runaway():
 
 def test_summary_without_thermal_data_is_not_assessed():
     t = np.linspace(0.0, 1.0, 11)
-    s = duty_summary(np.full(11, 5.0), np.full(11, 1.0), np.zeros(11), t, ratio=10.0, eta_f=0.9,
-                     eta_b=0.8, rotor_inertia=0.0, peak_torque=1.0, continuous_torque=0.4,
-                     max_speed=50.0)
+    s = duty_summary(
+        np.full(11, 5.0),
+        np.full(11, 1.0),
+        np.zeros(11),
+        t,
+        ratio=10.0,
+        eta_f=0.9,
+        eta_b=0.8,
+        rotor_inertia=0.0,
+        peak_torque=1.0,
+        continuous_torque=0.4,
+        max_speed=50.0,
+    )
     assert math.isnan(s.peak_temperature) and math.isnan(s.energy_regen)
     assert s.limiting == "rms_torque"  # 5/(0.9·10) = 0.556 N·m against 0.4 N·m
     assert s.worst_ratio == pytest.approx(5 / 9 / 0.4)
@@ -387,10 +433,24 @@ def test_summary_batches_over_designs():
     s = duty_summary(tj, qd, qdd, t, ratio=ratio, eta_f=0.8, eta_b=0.5, rotor_inertia=3e-5, **MOTOR)
     assert s.rms_torque.shape == (3, 2)
     for i, j in np.ndindex(3, 2):
-        one = duty_summary(tj[j], qd[j], qdd[j], t, ratio=ratio[i, j], eta_f=0.8, eta_b=0.5,
-                           rotor_inertia=3e-5, **MOTOR)
-        for name in ("rms_torque", "peak_temperature", "envelope_ratio", "energy_regen",
-                     "backdriven_share"):
+        one = duty_summary(
+            tj[j],
+            qd[j],
+            qdd[j],
+            t,
+            ratio=ratio[i, j],
+            eta_f=0.8,
+            eta_b=0.5,
+            rotor_inertia=3e-5,
+            **MOTOR,
+        )
+        for name in (
+            "rms_torque",
+            "peak_temperature",
+            "envelope_ratio",
+            "energy_regen",
+            "backdriven_share",
+        ):
             assert getattr(s, name)[i, j] == pytest.approx(float(getattr(one, name)), rel=1e-12)
         assert s.limiting[i, j] == one.limiting
     assert s.backdriven_share[0, 0] == pytest.approx(0.5, abs=0.01)
@@ -406,8 +466,17 @@ def test_summary_batches_over_designs():
     ],
 )
 def test_summary_rejects_bad_arguments(change, field):
-    args = dict(tau_joint=[1.0, 2.0, 3.0], qd=[1.0, 1.0, 1.0], qdd=[0.0, 0.0, 0.0],
-                t=[0.0, 0.5, 1.0], ratio=10.0, eta_f=0.9, eta_b=0.8, rotor_inertia=0.0, **MOTOR)
+    args = dict(
+        tau_joint=[1.0, 2.0, 3.0],
+        qd=[1.0, 1.0, 1.0],
+        qdd=[0.0, 0.0, 0.0],
+        t=[0.0, 0.5, 1.0],
+        ratio=10.0,
+        eta_f=0.9,
+        eta_b=0.8,
+        rotor_inertia=0.0,
+        **MOTOR,
+    )
     args.update(change)
     with pytest.raises(InputError) as err:
         duty_summary(**args)

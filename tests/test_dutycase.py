@@ -67,8 +67,15 @@ def test_joint_torques_equal_rnea_with_actuator_bodies_and_external_forces(examp
 def _lossless(design):
     acts = []
     for a in design.actuators:
-        stages = tuple(dataclasses.replace(s, stage=dataclasses.replace(
-            s.stage, efficiency=ConstantEfficiency(forward=1.0, backward=1.0))) for s in a.stages)
+        stages = tuple(
+            dataclasses.replace(
+                s,
+                stage=dataclasses.replace(
+                    s.stage, efficiency=ConstantEfficiency(forward=1.0, backward=1.0)
+                ),
+            )
+            for s in a.stages
+        )
         acts.append(dataclasses.replace(a, stages=stages))
     return dataclasses.replace(design, actuators=tuple(acts))
 
@@ -89,8 +96,12 @@ def test_gear_losses_are_never_negative_and_vanish_when_frictionless(example):
 def test_rating_use_is_the_worst_ratio_and_names_its_joint(example):
     project, design, ev = example
     e = ev.evaluate(arrays_from_designs([design]))[ev.duty[0].case.name]
-    ratios = np.stack([e[k][0] for k in ("rms_ratio", "peak_ratio", "speed_ratio",
-                                          "envelope_ratio", "thermal_ratio")])
+    ratios = np.stack(
+        [
+            e[k][0]
+            for k in ("rms_ratio", "peak_ratio", "speed_ratio", "envelope_ratio", "thermal_ratio")
+        ]
+    )
     worst = np.nanmax(ratios, axis=0)
     assert e["rating_use"][0] == pytest.approx(worst.max())
     assert e["limiting_joint"][0] == int(np.argmax(worst))

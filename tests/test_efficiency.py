@@ -111,14 +111,40 @@ def test_self_locking_screw_forward_efficiency_below_half(lam, f):
 
 
 def test_screw_lead_with_units():
-    a = efficiency_from_dict({"model": "screw", "lead": "8 mm", "mean_diameter": "30 mm",
-                              "friction": 0.1, "thread_half_angle": 0}, file="f", field="e")
-    b = efficiency_from_dict({"model": "screw", "lead": "8 mm/turn", "mean_diameter": "3 cm",
-                              "friction": 0.1, "thread_half_angle": "0 deg"}, file="f", field="e")
+    a = efficiency_from_dict(
+        {
+            "model": "screw",
+            "lead": "8 mm",
+            "mean_diameter": "30 mm",
+            "friction": 0.1,
+            "thread_half_angle": 0,
+        },
+        file="f",
+        field="e",
+    )
+    b = efficiency_from_dict(
+        {
+            "model": "screw",
+            "lead": "8 mm/turn",
+            "mean_diameter": "3 cm",
+            "friction": 0.1,
+            "thread_half_angle": "0 deg",
+        },
+        file="f",
+        field="e",
+    )
     # 8 mm per turn = 8/(2*pi) = 1.27324 mm per radian
-    c = efficiency_from_dict({"model": "screw", "lead": f"{8 / (2 * math.pi)} mm/rad",
-                              "mean_diameter": 0.03, "friction": 0.1, "thread_half_angle": 0},
-                             file="f", field="e")
+    c = efficiency_from_dict(
+        {
+            "model": "screw",
+            "lead": f"{8 / (2 * math.pi)} mm/rad",
+            "mean_diameter": 0.03,
+            "friction": 0.1,
+            "thread_half_angle": 0,
+        },
+        file="f",
+        field="e",
+    )
     assert a.lead == pytest.approx(0.008) and b.lead == pytest.approx(0.008)
     assert c.lead == pytest.approx(0.008)
 
@@ -256,23 +282,55 @@ def test_table_interpolates_linearly_and_refuses_to_extrapolate():
         ({"model": "coulomb", "forward": 0.0}, "e.forward", "(0, 1]"),
         ({"model": "coulomb", "forward": 0.9, "backward": 0.8}, "e.backward", "unknown"),
         ({"model": "constnt", "forward": 0.9}, "e.model", "did you mean 'constant'"),
-        ({"model": "screw", "lead_angle": 0.05, "friction": -0.1, "thread_half_angle": 0},
-         "e.friction", "[0, inf)"),
-        ({"model": "screw", "lead_angle": "95 deg", "friction": 0.1, "thread_half_angle": 0},
-         "e.lead_angle", "(0°, 90°)"),
-        ({"model": "screw", "lead": "8 mm", "friction": 0.1, "thread_half_angle": 0},
-         "e.mean_diameter", "together with lead"),
-        ({"model": "screw", "lead": "8 mm", "mean_diameter": "30 mm", "lead_angle": "5 deg",
-          "friction": 0.1, "thread_half_angle": 0}, "e.lead_angle", "either"),
-        ({"model": "worm", "lead_angle": 10, "friction": 0.05, "normal_pressure_angle": "20 deg"},
-         "e.lead_angle", "radians"),
-        ({"model": "planetary_basic_train", "basic_efficiency": 1.01}, "e.basic_efficiency",
-         "(0, 1]"),
+        (
+            {"model": "screw", "lead_angle": 0.05, "friction": -0.1, "thread_half_angle": 0},
+            "e.friction",
+            "[0, inf)",
+        ),
+        (
+            {"model": "screw", "lead_angle": "95 deg", "friction": 0.1, "thread_half_angle": 0},
+            "e.lead_angle",
+            "(0°, 90°)",
+        ),
+        (
+            {"model": "screw", "lead": "8 mm", "friction": 0.1, "thread_half_angle": 0},
+            "e.mean_diameter",
+            "together with lead",
+        ),
+        (
+            {
+                "model": "screw",
+                "lead": "8 mm",
+                "mean_diameter": "30 mm",
+                "lead_angle": "5 deg",
+                "friction": 0.1,
+                "thread_half_angle": 0,
+            },
+            "e.lead_angle",
+            "either",
+        ),
+        (
+            {
+                "model": "worm",
+                "lead_angle": 10,
+                "friction": 0.05,
+                "normal_pressure_angle": "20 deg",
+            },
+            "e.lead_angle",
+            "radians",
+        ),
+        (
+            {"model": "planetary_basic_train", "basic_efficiency": 1.01},
+            "e.basic_efficiency",
+            "(0, 1]",
+        ),
         ({"model": "table", "rows": [[50, 0.8, 0.7]]}, "e.rows", "at least two"),
-        ({"model": "table", "rows": [[50, 0.8, 0.7], [40, 0.7, 0.6]]}, "e.rows[1][0]",
-         "ascending"),
-        ({"model": "table", "rows": [[50, 0.8, 0.7], [60, 0.7, 0.75]]}, "e.rows[1].backward",
-         "forward"),
+        ({"model": "table", "rows": [[50, 0.8, 0.7], [40, 0.7, 0.6]]}, "e.rows[1][0]", "ascending"),
+        (
+            {"model": "table", "rows": [[50, 0.8, 0.7], [60, 0.7, 0.75]]},
+            "e.rows[1].backward",
+            "forward",
+        ),
     ],
 )
 def test_bad_parameters_name_file_and_field(table, field, words):
@@ -288,8 +346,12 @@ def test_every_model_is_registered_and_builds_from_a_dict():
         "constant": {"forward": 0.9, "backward": 0.85},
         "coulomb": {"forward": 0.9},
         "proportional": {"forward": 0.9},
-        "screw": {"lead": "5 mm", "mean_diameter": "16 mm", "friction": 0.005,
-                  "thread_half_angle": 0},
+        "screw": {
+            "lead": "5 mm",
+            "mean_diameter": "16 mm",
+            "friction": 0.005,
+            "thread_half_angle": 0,
+        },
         "worm": {"lead_angle": "8 deg", "friction": 0.04, "normal_pressure_angle": "20 deg"},
         "planetary_basic_train": {"basic_efficiency": 0.98},
         "table": {"rows": [[30, 0.7, 0.6], [100, 0.8, 0.7]]},

@@ -76,8 +76,9 @@ def test_hot_winding_lowers_the_line():
     hot = stall_torque(KT, R, V, winding_temperature=120.0)
     assert hot == pytest.approx(KT * V / 0.2786, rel=1e-12)
     cold = torque_speed_envelope(100.0, peak_torque=50.0, max_speed=1e3, **ELEC)
-    warm = torque_speed_envelope(100.0, peak_torque=50.0, max_speed=1e3, winding_temperature=120,
-                                 **ELEC)
+    warm = torque_speed_envelope(
+        100.0, peak_torque=50.0, max_speed=1e3, winding_temperature=120, **ELEC
+    )
     assert warm == pytest.approx(cold / 1.393, rel=1e-12)
 
 
@@ -103,8 +104,12 @@ def test_speed_at_torque_inverts_the_envelope():
         (dict(peak_torque=-1.0, max_speed=10.0), "peak_torque"),
         (dict(peak_torque=1.0, max_speed=0.0), "max_speed"),
         (dict(peak_torque=1.0, max_speed=10.0, torque_constant=0.1), "torque_constant, resistance"),
-        (dict(peak_torque=1.0, max_speed=10.0, torque_constant=0.1, resistance=-1, bus_voltage=24),
-         "resistance"),
+        (
+            dict(
+                peak_torque=1.0, max_speed=10.0, torque_constant=0.1, resistance=-1, bus_voltage=24
+            ),
+            "resistance",
+        ),
         (dict(peak_torque=np.array([1.0, np.nan]), max_speed=10.0), "peak_torque"),
     ],
 )
@@ -118,12 +123,25 @@ pos = st.floats(1e-3, 1e3, allow_nan=False)
 
 
 @settings(max_examples=60, deadline=None)
-@given(peak=pos, kt=st.floats(0.01, 1.0), r=st.floats(0.01, 5.0), v=st.floats(5.0, 400.0),
-       temp=st.floats(-20.0, 180.0), w1=st.floats(0, 5e3), w2=st.floats(0, 5e3))
+@given(
+    peak=pos,
+    kt=st.floats(0.01, 1.0),
+    r=st.floats(0.01, 5.0),
+    v=st.floats(5.0, 400.0),
+    temp=st.floats(-20.0, 180.0),
+    w1=st.floats(0, 5e3),
+    w2=st.floats(0, 5e3),
+)
 def test_envelope_invariants(peak, kt, r, v, temp, w1, w2):
     # within [0, peak], non-increasing in |ω|, and never above its braking counterpart [trade]
-    kw = dict(peak_torque=peak, max_speed=2e3, torque_constant=kt, resistance=r, bus_voltage=v,
-              winding_temperature=temp)
+    kw = dict(
+        peak_torque=peak,
+        max_speed=2e3,
+        torque_constant=kt,
+        resistance=r,
+        bus_voltage=v,
+        winding_temperature=temp,
+    )
     lo, hi = sorted((w1, w2))
     a, b = torque_speed_envelope(lo, **kw), torque_speed_envelope(hi, **kw)
     assert 0.0 <= b <= a <= peak
@@ -136,12 +154,25 @@ def test_envelope_broadcasts_like_a_loop():
     peak = rng.uniform(1, 12, size=(3, 1))
     kt = rng.uniform(0.05, 0.2, size=(3, 1))
     temp = rng.uniform(20, 120, size=(1, 6))
-    got = torque_speed_envelope(w, peak_torque=peak, max_speed=280.0, torque_constant=kt,
-                                resistance=0.3, bus_voltage=48.0, winding_temperature=temp)
+    got = torque_speed_envelope(
+        w,
+        peak_torque=peak,
+        max_speed=280.0,
+        torque_constant=kt,
+        resistance=0.3,
+        bus_voltage=48.0,
+        winding_temperature=temp,
+    )
     assert got.shape == (4, 3, 6)
     for i, j, k in np.ndindex(4, 3, 6):
-        one = torque_speed_envelope(w[i, 0, k], peak_torque=peak[j, 0], max_speed=280.0,
-                                    torque_constant=kt[j, 0], resistance=0.3, bus_voltage=48.0,
-                                    winding_temperature=temp[0, k])
+        one = torque_speed_envelope(
+            w[i, 0, k],
+            peak_torque=peak[j, 0],
+            max_speed=280.0,
+            torque_constant=kt[j, 0],
+            resistance=0.3,
+            bus_voltage=48.0,
+            winding_temperature=temp[0, k],
+        )
         assert got[i, j, k] == pytest.approx(float(one), rel=1e-14)
     assert math.isfinite(got.sum())

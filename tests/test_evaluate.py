@@ -119,8 +119,12 @@ def _with_efficiency(design, forward, backward):
     acts = []
     for a in design.actuators:
         stages = tuple(
-            dataclasses.replace(s, stage=dataclasses.replace(
-                s.stage, efficiency=ConstantEfficiency(forward=forward, backward=backward)))
+            dataclasses.replace(
+                s,
+                stage=dataclasses.replace(
+                    s.stage, efficiency=ConstantEfficiency(forward=forward, backward=backward)
+                ),
+            )
             for s in a.stages
         )
         acts.append(dataclasses.replace(a, stages=stages))
@@ -138,9 +142,12 @@ def test_frictionless_gears_reduce_to_the_classical_model(leg):
                 assert e[key][0] == pytest.approx(e["payload_frictionless"][0], rel=1e-12)
         if case.kind == "impact":
             assert e["imf"][0] == pytest.approx(e["imf_frictionless"][0], rel=1e-12)
-            assert e["effective_mass"][0] == pytest.approx(e["effective_mass_frictionless"][0], rel=1e-12)
-            assert e["effective_mass_motoring"][0] == pytest.approx(e["effective_mass_frictionless"][0],
-                                                                    rel=1e-10)
+            assert e["effective_mass"][0] == pytest.approx(
+                e["effective_mass_frictionless"][0], rel=1e-12
+            )
+            assert e["effective_mass_motoring"][0] == pytest.approx(
+                e["effective_mass_frictionless"][0], rel=1e-10
+            )
             assert "imf_motoring" not in e  # an impact back-drives the joints: no forward IMF
 
 
@@ -170,7 +177,9 @@ def test_backdriven_imf_non_increasing_as_backward_efficiency_falls_and_zero_whe
         values.append(float(ev[case.name]["imf"][0]))
     assert all(b <= a * (1 + 1e-12) for a, b in zip(values, values[1:]))
     assert values[-1] < values[0]
-    ev = Evaluator(project).evaluate(arrays_from_designs([_with_efficiency(design, 0.9, -0.2)]))[case.name]
+    ev = Evaluator(project).evaluate(arrays_from_designs([_with_efficiency(design, 0.9, -0.2)]))[
+        case.name
+    ]
     assert ev["imf"][0] == 0.0 and ev["imf_direction"][0] == pytest.approx(0.0, abs=1e-12)
 
 
@@ -186,8 +195,9 @@ def test_self_locking_joint_is_locked_for_impact_and_infinite_holding_is_not_nan
     worm = project.catalog.stage("Spiral")
     acts = list(design.actuators)
     s0 = acts[2].stages[0]
-    acts[2] = dataclasses.replace(acts[2], stages=(dataclasses.replace(
-        s0, stage=worm, frame=worm.frames[1], ratio=50.0),))
+    acts[2] = dataclasses.replace(
+        acts[2], stages=(dataclasses.replace(s0, stage=worm, frame=worm.frames[1], ratio=50.0),)
+    )
     locked = dataclasses.replace(design, actuators=tuple(acts))
     a = assess(project, locked)
     elbow = next(j for j in a.joints if j.joint == "elbow")
@@ -227,7 +237,9 @@ def test_speed_case_under_load_matches_pinocchio_terms(arm):
 
     project, design = arm
     base = next(c for c in project.cases if c.kind == "speed")
-    case = dc.replace(base, payload_mass=2.0, acceleration=3.0, stroke=0.0, tip_force=(5.0, -3.0, 2.0))
+    case = dc.replace(
+        base, payload_mass=2.0, acceleration=3.0, stroke=0.0, tip_force=(5.0, -3.0, 2.0)
+    )
     project = dc.replace(project, cases=(case,))
     H, g, J = _pin_terms(project, design, case, np.zeros(len(design.actuators)))
     robot = project.robot
@@ -240,18 +252,37 @@ def test_speed_case_under_load_matches_pinocchio_terms(arm):
     q = robot.configuration(case.pose, case.base_xyz, case.base_rpy)
     v = np.zeros(robot.nv)
     v[v_idx] = a
-    c2 = (pin.rnea(model, data, q, v, np.zeros(robot.nv)) - pin.rnea(model, data, q, 0 * v, 0 * v))[v_idx]
+    c2 = (pin.rnea(model, data, q, v, np.zeros(robot.nv)) - pin.rnea(model, data, q, 0 * v, 0 * v))[
+        v_idx
+    ]
     weight = -case.payload_mass * robot.gravity
     tau_rest = g[v_idx] + Jj.T @ (weight + np.array([5.0, -3.0, 2.0]))
     per_acc = H[np.ix_(v_idx, v_idx)] @ a + case.payload_mass * Jj.T @ u
     arrays = arrays_from_designs([design])
-    motor = dict(peak_torque=arrays.motor_peak_torque[0], max_speed=arrays.motor_max_speed[0],
-                 torque_constant=arrays.torque_constant[0], resistance=arrays.resistance[0],
-                 bus_voltage=arrays.bus_voltage[0], winding_temperature=arrays.winding_temperature_max[0])
-    trans = dict(eta_f=arrays.eta_forward[0], eta_b=arrays.eta_backward[0],
-                 rotor_inertia=arrays.rotor_inertia[0], gear_rating=arrays.gear_peak_torque[0])
-    expected = loaded_endpoint_speed(Jj, tau_rest + 3.0 * per_acc, u, arrays.ratio[0], tau_per_speed2=c2,
-                                     joint_acceleration=3.0 * a, **trans, **motor)
+    motor = dict(
+        peak_torque=arrays.motor_peak_torque[0],
+        max_speed=arrays.motor_max_speed[0],
+        torque_constant=arrays.torque_constant[0],
+        resistance=arrays.resistance[0],
+        bus_voltage=arrays.bus_voltage[0],
+        winding_temperature=arrays.winding_temperature_max[0],
+    )
+    trans = dict(
+        eta_f=arrays.eta_forward[0],
+        eta_b=arrays.eta_backward[0],
+        rotor_inertia=arrays.rotor_inertia[0],
+        gear_rating=arrays.gear_peak_torque[0],
+    )
+    expected = loaded_endpoint_speed(
+        Jj,
+        tau_rest + 3.0 * per_acc,
+        u,
+        arrays.ratio[0],
+        tau_per_speed2=c2,
+        joint_acceleration=3.0 * a,
+        **trans,
+        **motor,
+    )
     accel = acceleration_from_rest(Jj, tau_rest, per_acc, u, arrays.ratio[0], **trans, **motor)
     ev = Evaluator(project).evaluate(arrays)[case.name]
     assert ev["speed"][0] == pytest.approx(float(expected.speed), rel=1e-9)
@@ -261,7 +292,9 @@ def test_speed_case_under_load_matches_pinocchio_terms(arm):
     # speed is each moving joint's motor speed / N over its rate per unit end-point speed
     assert 0 < ev["speed"][0] <= ev["speed_no_load"][0]
     k = int(ev["limiting_joint"][0])
-    assert ev["speed"][0] == pytest.approx(ev["motor_speed"][0, k] / arrays.ratio[0, k] / abs(a[k]), rel=1e-9)
+    assert ev["speed"][0] == pytest.approx(
+        ev["motor_speed"][0, k] / arrays.ratio[0, k] / abs(a[k]), rel=1e-9
+    )
     assert np.all(ev["motor_speed"][0] <= arrays.motor_max_speed[0] * (1 + 1e-12))
     # a heavier payload never makes the tool faster or quicker to accelerate (same tip force)
     heavy = dc.replace(case, payload_mass=6.0)
@@ -272,8 +305,17 @@ def test_speed_case_under_load_matches_pinocchio_terms(arm):
 
     stroke = dc.replace(case, acceleration=0.0, stroke=0.2, tip_force=(0.0, 0.0, 0.0))
     evs = Evaluator(dc.replace(project, cases=(stroke,))).evaluate(arrays)[case.name]
-    within = speed_within_stroke(Jj, g[v_idx] + Jj.T @ weight, per_acc, u, arrays.ratio[0], 0.2, tau_per_speed2=c2,
-                                 **trans, **motor)
+    within = speed_within_stroke(
+        Jj,
+        g[v_idx] + Jj.T @ weight,
+        per_acc,
+        u,
+        arrays.ratio[0],
+        0.2,
+        tau_per_speed2=c2,
+        **trans,
+        **motor,
+    )
     assert evs["speed"][0] == pytest.approx(float(within.speed), rel=1e-9)
     assert 0 < evs["speed"][0] < evs["speed_steady"][0] <= evs["speed_no_load"][0]
     assert evs["stroke_time"][0] > 0.2 / evs["speed_steady"][0]

@@ -69,14 +69,20 @@ def check_front(project, f):
 
 
 @pytest.mark.parametrize("method", ["exhaustive", "sweep"])
-@settings(max_examples=6, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
-@given(seed=st.integers(0, 2**31 - 1), measure=st.sampled_from(["imf", "effective_mass", "backdrive_force"]))
+@settings(
+    max_examples=6, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
+@given(
+    seed=st.integers(0, 2**31 - 1),
+    measure=st.sampled_from(["imf", "effective_mass", "backdrive_force"]),
+)
 def test_leg_frontier_equals_enumerated_front(leg, method, seed, measure):
     # both methods (every candidate scored after the proven filters; exact ε-constraint solves)
     # against the brute-force front over every design with no filter at all
     rng = np.random.default_rng(seed)
-    p = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng), max_stages=1, stage_kinds=None,
-                            objective={})
+    p = dataclasses.replace(
+        leg, catalog=small_catalog(leg.catalog, rng), max_stages=1, stage_kinds=None, objective={}
+    )
     p = set_limits(p, rng, build_table(p), keep_duty=False)
     f = frontier(p, measure, method=method)
     assert f.method == method
@@ -97,10 +103,20 @@ def test_arm_effective_mass_frontier_matches_enumeration():
 
     robot = planar_arm(rng)
     pose = {"j0": 0.4, "j1": -0.7, "j2": 0.5}
-    cases = (Case("lift", "payload", "tip", pose, direction=(0.0, 0.0, 1.0), limits={}),
-             Case("bump", "impact", "tip", pose, direction=(1.0, 0.0, 0.0), limits={}))
-    p = dataclasses.replace(arm, robot=robot, cases=cases, catalog=small_catalog(arm.catalog, rng),
-                            max_stages=1, stage_kinds=None, objective={}, requirements=Requirements())
+    cases = (
+        Case("lift", "payload", "tip", pose, direction=(0.0, 0.0, 1.0), limits={}),
+        Case("bump", "impact", "tip", pose, direction=(1.0, 0.0, 0.0), limits={}),
+    )
+    p = dataclasses.replace(
+        arm,
+        robot=robot,
+        cases=cases,
+        catalog=small_catalog(arm.catalog, rng),
+        max_stages=1,
+        stage_kinds=None,
+        objective={},
+        requirements=Requirements(),
+    )
     ref = brute_front(p, "effective_mass", "bump")
     for method in ("exhaustive", "sweep"):
         f = frontier(p, "effective_mass", method=method)
@@ -130,30 +146,52 @@ def test_cli_frontier_json_and_out(tmp_path):
     runner = CliRunner()
     assert runner.invoke(main, ["new", str(tmp_path / "leg")]).exit_code == 0
     out = tmp_path / "front.json"
-    r = runner.invoke(main, ["frontier", str(tmp_path / "leg" / "project.toml"), "--measure", "backdrive_force",
-                             "--method", "sweep", "--points", "4", "--json", "--out", str(out)])
+    r = runner.invoke(
+        main,
+        [
+            "frontier",
+            str(tmp_path / "leg" / "project.toml"),
+            "--measure",
+            "backdrive_force",
+            "--method",
+            "sweep",
+            "--points",
+            "4",
+            "--json",
+            "--out",
+            str(out),
+        ],
+    )
     assert r.exit_code == 0, r.output
     data = json.loads(out.read_text())
     assert data["measure"] == "backdrive_force" and data["points"]
     pays = [p["payload"] for p in data["points"]]
     assert pays == sorted(pays, reverse=True)  # largest payload first
     forces = [p["measure"] for p in data["points"]]
-    assert forces == sorted(forces, reverse=True) and len(set(forces)) == len(forces)  # strictly better
+    assert forces == sorted(forces, reverse=True) and len(set(forces)) == len(
+        forces
+    )  # strictly better
 
 
-@settings(max_examples=4, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@settings(
+    max_examples=4, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
 @given(seed=st.integers(0, 2**31 - 1), small=st.integers(1, 3))
 def test_more_sweep_points_never_lose_a_frontier_point(leg, seed, small):
     # the sweep walks from the largest payload towards better back-drivability, each point exact:
     # a larger point budget can only extend the list, never drop or move an earlier point
     rng = np.random.default_rng(seed)
-    p = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng), max_stages=1, stage_kinds=None,
-                            objective={})
+    p = dataclasses.replace(
+        leg, catalog=small_catalog(leg.catalog, rng), max_stages=1, stage_kinds=None, objective={}
+    )
     p = set_limits(p, rng, build_table(p), keep_duty=False)
     few = frontier(p, "imf", points=2 * small, method="sweep")
     many = frontier(p, "imf", points=2 * small + 6, method="sweep")
     got = [(pt.payload, pt.measure) for pt in many.points]
     for pt in few.points:
-        assert any(pt.payload == pytest.approx(a, rel=1e-9, abs=1e-9)
-                   and pt.measure == pytest.approx(b, rel=1e-6, abs=1e-9) for a, b in got)
+        assert any(
+            pt.payload == pytest.approx(a, rel=1e-9, abs=1e-9)
+            and pt.measure == pytest.approx(b, rel=1e-6, abs=1e-9)
+            for a, b in got
+        )
     assert len(many.points) >= len(few.points)

@@ -20,9 +20,22 @@ def test_frontier_plot_and_frictionless_comparison(tmp_path):
     with resources.as_file(resources.files("jointwright.examples") / "leg") as src:
         shutil.copytree(src, tmp_path / "leg")
     out = tmp_path / "frontier.json"
-    res = CliRunner().invoke(main, ["frontier", str(tmp_path / "leg" / "project.toml"), "--measure",
-                                    "imf", "--points", "2", "--plot", str(tmp_path / "fig"),
-                                    "--frictionless", "--out", str(out)])
+    res = CliRunner().invoke(
+        main,
+        [
+            "frontier",
+            str(tmp_path / "leg" / "project.toml"),
+            "--measure",
+            "imf",
+            "--points",
+            "2",
+            "--plot",
+            str(tmp_path / "fig"),
+            "--frictionless",
+            "--out",
+            str(out),
+        ],
+    )
     assert res.exit_code == 0, res.output
     with Image.open(tmp_path / "fig" / "frontier.png") as im:
         im.verify()
@@ -41,12 +54,27 @@ def test_report_reads_the_frontier_file_and_marks_the_design(tmp_path):
     from jointwright.report.hooks import frontier_from_sweep
 
     # frontier payloads are the payload mass every case carries (kg), and so is the chosen point
-    sweep = {"measure": "imf", "case": "touchdown", "sense": "min", "knee": 1, "complete": False,
-             "points": [{"payload": 24.0, "measure": 0.02, "actuators": {"knee": "A"}, "changes": []},
-                        {"payload": 20.0, "measure": 0.05, "actuators": {"knee": "B"}, "changes": ["knee"]}]}
-    assessment = {"cases": [{"name": "push", "kind": "payload",
-                             "metrics": {"payload": 180.0, "payload_carried": 18.0}},
-                            {"name": "touchdown", "kind": "impact", "metrics": {"imf": 0.07}}]}
+    sweep = {
+        "measure": "imf",
+        "case": "touchdown",
+        "sense": "min",
+        "knee": 1,
+        "complete": False,
+        "points": [
+            {"payload": 24.0, "measure": 0.02, "actuators": {"knee": "A"}, "changes": []},
+            {"payload": 20.0, "measure": 0.05, "actuators": {"knee": "B"}, "changes": ["knee"]},
+        ],
+    }
+    assessment = {
+        "cases": [
+            {
+                "name": "push",
+                "kind": "payload",
+                "metrics": {"payload": 180.0, "payload_carried": 18.0},
+            },
+            {"name": "touchdown", "kind": "impact", "metrics": {"imf": 0.07}},
+        ]
+    }
     data = frontier_from_sweep(sweep, assessment)
     assert [(p["x"], p["y"]) for p in data["points"]] == [(0.02, 24.0), (0.05, 20.0)]
     assert data["chosen"] == {"x": 0.07, "y": 18.0}

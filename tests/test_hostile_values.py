@@ -19,14 +19,58 @@ if str(ROOT) not in sys.path:
 from jointwright.errors import InputError  # noqa: E402
 from tests.bad_inputs import HEADER, ROW, STUDY, TRAJ_HEADER, TRAJ_ROWS  # noqa: E402
 
-TOML_HOSTILE = ["0", "-1", "1e308", "-1e-320", "nan", "inf", "-inf", "true", "[]", "{}", '""', '"x"',
-                '"3 m"', '"-5 kg"', '"1e999 kg"', '"nan kg"', "9" * 400, "-" + "9" * 400, '"' + "9" * 400 + ' kg"',
-                "[1, [2]]", '{ a = 1 }', '"requirements"', '"project.name"', "1979-05-27", '"\\u0000"']
-CELL_HOSTILE = ["", " ", "x", "nan", "-inf", "1e999", "9" * 400, "-" + "9" * 400, "0x10", "1,5", '"', "1e-400",
-                "١٢", "+-1", "--1", "1e", ".", "∞", "NULL"]
+TOML_HOSTILE = [
+    "0",
+    "-1",
+    "1e308",
+    "-1e-320",
+    "nan",
+    "inf",
+    "-inf",
+    "true",
+    "[]",
+    "{}",
+    '""',
+    '"x"',
+    '"3 m"',
+    '"-5 kg"',
+    '"1e999 kg"',
+    '"nan kg"',
+    "9" * 400,
+    "-" + "9" * 400,
+    '"' + "9" * 400 + ' kg"',
+    "[1, [2]]",
+    "{ a = 1 }",
+    '"requirements"',
+    '"project.name"',
+    "1979-05-27",
+    '"\\u0000"',
+]
+CELL_HOSTILE = [
+    "",
+    " ",
+    "x",
+    "nan",
+    "-inf",
+    "1e999",
+    "9" * 400,
+    "-" + "9" * 400,
+    "0x10",
+    "1,5",
+    '"',
+    "1e-400",
+    "١٢",
+    "+-1",
+    "--1",
+    "1e",
+    ".",
+    "∞",
+    "NULL",
+]
 TOML_VALUE = re.compile(r"(?m)(=\s*)([^\n\[{]+?|\[[^\]\n]*\])\s*$")
-SETTINGS = settings(max_examples=60, deadline=None, derandomize=True,
-                    suppress_health_check=list(HealthCheck))
+SETTINGS = settings(
+    max_examples=60, deadline=None, derandomize=True, suppress_health_check=list(HealthCheck)
+)
 
 
 @pytest.fixture(scope="module")
@@ -51,7 +95,7 @@ def test_any_study_value_replaced(leg):
     @given(k=st.integers(0, len(spots) - 1), value=st.sampled_from(TOML_HOSTILE))
     def check(k, value):
         m = spots[k]
-        path.write_text(STUDY[:m.start(2)] + value + STUDY[m.end(2):], encoding="utf-8")
+        path.write_text(STUDY[: m.start(2)] + value + STUDY[m.end(2) :], encoding="utf-8")
         try:  # what `jointwright study` does before any case runs
             spec = load_study(path)
             check_study_options(spec)
@@ -69,11 +113,17 @@ def test_any_trajectory_cell_replaced(leg):
     path = leg / "hostile.csv"
 
     @SETTINGS
-    @given(i=st.integers(0, len(rows) - 1), j=st.integers(0, len(rows[0]) - 1), cell=st.sampled_from(CELL_HOSTILE))
+    @given(
+        i=st.integers(0, len(rows) - 1),
+        j=st.integers(0, len(rows[0]) - 1),
+        cell=st.sampled_from(CELL_HOSTILE),
+    )
     def check(i, j, cell):
         table = [list(r) for r in rows]
         table[i][j] = cell
-        path.write_text(TRAJ_HEADER + "\n" + "\n".join(",".join(r) for r in table) + "\n", encoding="utf-8")
+        path.write_text(
+            TRAJ_HEADER + "\n" + "\n".join(",".join(r) for r in table) + "\n", encoding="utf-8"
+        )
         try:
             load_trajectory(path, ["hip_ab", "hip_fe", "knee"], revolute=[True] * 3)
         except InputError as exc:

@@ -26,8 +26,10 @@ def test_many_cases_are_read_with_progress_reports(tmp_path):
     with listening(lambda what, done, total: seen.append((what, done, total))):
         p = load_project(path)
     assert len(p.cases) == 1200
-    assert [s for s in seen if s[0] == "reading cases"] == [("reading cases", 500, 1200),
-                                                           ("reading cases", 1000, 1200)]
+    assert [s for s in seen if s[0] == "reading cases"] == [
+        ("reading cases", 500, 1200),
+        ("reading cases", 1000, 1200),
+    ]
 
 
 def test_a_duplicate_case_name_far_down_is_still_found(tmp_path):
@@ -58,6 +60,10 @@ def test_a_long_cycle_reports_its_inverse_dynamics(tmp_path):
         a = assess(p, load_design(path.parent / "design.toml", p))
     assert a.cases
     steps = {what for what, _, _ in seen}
-    assert {"reading gait.csv", "configurations along gait.csv", "inverse dynamics along gait.csv"} <= steps
+    assert {
+        "reading gait.csv",
+        "configurations along gait.csv",
+        "inverse dynamics along gait.csv",
+    } <= steps
     last = [s for s in seen if s[0] == "inverse dynamics along gait.csv"][-1]
     assert last[1] <= last[2] == 5 * 10_000  # 3 joints: links, one pass per joint, wrenches

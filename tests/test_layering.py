@@ -13,10 +13,30 @@ PACKAGE = Path(__file__).resolve().parents[1] / "src" / "jointwright"
 #: layer of each top-level module or subpackage; higher numbers may import lower ones.
 #: solve/ and sizing.py are one layer: the optimizer (sizing is its front door).
 LAYERS = {
-    "errors": 0, "progress": 0, "units": 0, "tomlfile": 1, "catalog": 2, "drivetrain": 3, "robot": 3,
-    "trajectory": 3, "metrics": 4, "project": 5, "design": 5, "dutycase": 6, "evaluate": 6,
-    "problem": 7, "assessment": 7, "options": 8, "solve": 8, "sizing": 8, "frontier": 10,
-    "study": 11, "report": 11, "commands": 12, "cli": 13, "examples": 0,
+    "errors": 0,
+    "progress": 0,
+    "units": 0,
+    "tomlfile": 1,
+    "catalog": 2,
+    "drivetrain": 3,
+    "robot": 3,
+    "trajectory": 3,
+    "metrics": 4,
+    "project": 5,
+    "design": 5,
+    "dutycase": 6,
+    "evaluate": 6,
+    "problem": 7,
+    "assessment": 7,
+    "options": 8,
+    "solve": 8,
+    "sizing": 8,
+    "frontier": 10,
+    "study": 11,
+    "report": 11,
+    "commands": 12,
+    "cli": 13,
+    "examples": 0,
 }
 
 

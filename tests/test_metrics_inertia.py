@@ -156,14 +156,34 @@ def pinocchio_leg(armature=(0.05, 0.08, 0.06), q_leg=(0.1, 0.4, -0.8)):
     def se3(x, y, z):
         return pin.SE3(np.eye(3), np.array([x, y, z]))
 
-    base, _ = link(0, pin.JointModelFreeFlyer(), se3(0, 0, 0), "base",
-                   pin.Inertia(8.0, np.array([0.02, 0.01, 0.0]), np.diag([0.1, 0.2, 0.15])))
-    j1, _ = link(base, pin.JointModelRX(), se3(0.05, 0.1, -0.05), "hip_roll",
-                 pin.Inertia(0.5, np.array([0, 0, -0.02]), np.diag([1e-3, 1e-3, 1e-3])))
-    j2, _ = link(j1, pin.JointModelRY(), se3(0, 0, 0), "hip_pitch",
-                 pin.Inertia(1.0, np.array([0, 0, -0.15]), np.diag([0.01, 0.01, 0.002])))
-    j3, f3 = link(j2, pin.JointModelRY(), se3(0, 0, -0.3), "knee",
-                  pin.Inertia(0.6, np.array([0, 0, -0.15]), np.diag([0.008, 0.008, 0.001])))
+    base, _ = link(
+        0,
+        pin.JointModelFreeFlyer(),
+        se3(0, 0, 0),
+        "base",
+        pin.Inertia(8.0, np.array([0.02, 0.01, 0.0]), np.diag([0.1, 0.2, 0.15])),
+    )
+    j1, _ = link(
+        base,
+        pin.JointModelRX(),
+        se3(0.05, 0.1, -0.05),
+        "hip_roll",
+        pin.Inertia(0.5, np.array([0, 0, -0.02]), np.diag([1e-3, 1e-3, 1e-3])),
+    )
+    j2, _ = link(
+        j1,
+        pin.JointModelRY(),
+        se3(0, 0, 0),
+        "hip_pitch",
+        pin.Inertia(1.0, np.array([0, 0, -0.15]), np.diag([0.01, 0.01, 0.002])),
+    )
+    j3, f3 = link(
+        j2,
+        pin.JointModelRY(),
+        se3(0, 0, -0.3),
+        "knee",
+        pin.Inertia(0.6, np.array([0, 0, -0.15]), np.diag([0.008, 0.008, 0.001])),
+    )
     model.addFrame(pin.Frame("foot", j3, f3, se3(0, 0, -0.3), pin.FrameType.OP_FRAME))
     model.armature[6:] = armature
     q = pin.neutral(model)
@@ -179,7 +199,7 @@ def pin_contact(pin, model, q):
     pin.updateFramePlacements(model, data)
     J = pin.getFrameJacobian(model, data, model.getFrameId("foot"), pin.LOCAL_WORLD_ALIGNED)[:3]
     kkt = pin.computeKKTContactDynamicMatrixInverse(model, data, q, J)
-    return M, J, -kkt[model.nv:, model.nv:]  # lower-right block of [[M Jᵀ][J 0]]⁻¹ is −Λ
+    return M, J, -kkt[model.nv :, model.nv :]  # lower-right block of [[M Jᵀ][J 0]]⁻¹ is −Λ
 
 
 def pin_reduced_lambda(pin, model, q, lock):
@@ -441,8 +461,9 @@ def test_generic_paths_for_wrench_rows_and_large_models():
     assert res.full_rank.all()
     np.testing.assert_allclose(res.imf, ref, rtol=1e-8, atol=1e-12)
     np.testing.assert_allclose(task_space_inertia(J, H).Lambda, lam, rtol=1e-9)
-    check_fixed_base_against_numpy(rng.standard_normal((4, 3, 20)), random_spd(rng, 20, (4,)),
-                                   [0.0, 1.0, 0.0])
+    check_fixed_base_against_numpy(
+        rng.standard_normal((4, 3, 20)), random_spd(rng, 20, (4,)), [0.0, 1.0, 0.0]
+    )
 
 
 def test_bad_input_raises_input_error():
@@ -508,7 +529,9 @@ def test_frictionless_transmission_is_the_classical_model(seed, n):
     u /= np.linalg.norm(u)
     classical = 1.0 / (u @ J @ np.linalg.solve(M + np.diag(R), J.T) @ u)
     ones = np.ones(n)
-    assert forward_effective_mass(J, M, R, ones, ones, u).mass == pytest.approx(classical, rel=1e-10)
+    assert forward_effective_mass(J, M, R, ones, ones, u).mass == pytest.approx(
+        classical, rel=1e-10
+    )
     assert _backdriven_mass(J, M, R, ones, u) == pytest.approx(classical, rel=1e-10)
 
 
@@ -522,7 +545,9 @@ def test_one_joint_closed_form_per_direction():
     fwd = forward_effective_mass(J, M, [R], [ef], [eb], [1.0])
     assert fwd.mass == pytest.approx((I / ef + R) / L**2, rel=1e-12)
     assert fwd.frictionless == pytest.approx((I + R) / L**2, rel=1e-12)
-    assert _backdriven_mass(J, M, np.array([R]), eb, [1.0]) == pytest.approx((I + R / eb) / L**2, rel=1e-12)
+    assert _backdriven_mass(J, M, np.array([R]), eb, [1.0]) == pytest.approx(
+        (I + R / eb) / L**2, rel=1e-12
+    )
     # the old reading η_f·N²·I_r would give (I + η_f·R)/L² < frictionless: not what the motor feels
     assert (I + ef * R) / L**2 < fwd.frictionless < fwd.mass
     # forward apparent inertia of one joint: I/η_f + N²·I_r
@@ -561,5 +586,7 @@ def test_backdriven_imf_falls_with_backward_efficiency_and_vanishes_when_self_lo
         values.append(float(impact_mitigation(H, J).imf))
     assert all(b <= a * (1 + 1e-12) for a, b in zip(values, values[1:]))
     assert values[-1] < values[0]
-    locked = impact_mitigation(H0, J, locked=np.ones(nj, dtype=bool), direction=np.array([0.0, 0, 1]))
+    locked = impact_mitigation(
+        H0, J, locked=np.ones(nj, dtype=bool), direction=np.array([0.0, 0, 1])
+    )
     assert locked.imf == 0.0 and locked.imf_direction == pytest.approx(0.0, abs=1e-12)

@@ -16,7 +16,13 @@ from hypothesis import strategies as st
 from jointwright.catalog.model import Catalog
 from jointwright.drivetrain import Actuator
 from jointwright.errors import InputError
-from jointwright.options import build_table, joint_candidates, matches_pin, option_key, preferred_ratios
+from jointwright.options import (
+    build_table,
+    joint_candidates,
+    matches_pin,
+    option_key,
+    preferred_ratios,
+)
 from jointwright.problem import checks
 from jointwright.solve.model import SizingModel
 from test_solve_search import example
@@ -29,7 +35,20 @@ def leg():
 
 def test_r20_grid_inside_a_range():
     # ISO 3 R20 [pub]: between 3 and 12 the series gives 3.15 … 11.2
-    assert preferred_ratios(3.0, 12.0) == (3.15, 3.55, 4.0, 4.5, 5.0, 5.6, 6.3, 7.1, 8.0, 9.0, 10.0, 11.2)
+    assert preferred_ratios(3.0, 12.0) == (
+        3.15,
+        3.55,
+        4.0,
+        4.5,
+        5.0,
+        5.6,
+        6.3,
+        7.1,
+        8.0,
+        9.0,
+        10.0,
+        11.2,
+    )
     assert preferred_ratios(4.6, 4.9) == (4.6,)  # no grid value inside: the low end
 
 
@@ -42,8 +61,11 @@ def test_r20_values_stay_in_range_and_ascend(low, factor):
 
 
 def test_table_counts_every_motor_and_stack(leg):
-    small = dataclasses.replace(leg, catalog=Catalog(motors=leg.catalog.motors[:2], stages=leg.catalog.stages[:2]),
-                                max_stages=2)
+    small = dataclasses.replace(
+        leg,
+        catalog=Catalog(motors=leg.catalog.motors[:2], stages=leg.catalog.stages[:2]),
+        max_stages=2,
+    )
     singles = sum(len(s.frames) * len(s.ratios) for s in small.catalog.stages)
     table = build_table(small)
     assert len(table) == 2 * (1 + singles + singles**2)
@@ -51,7 +73,9 @@ def test_table_counts_every_motor_and_stack(leg):
     assert len(keys) == len(table)  # every option is distinct
     a = table.actuators[5]
     arrays = table.arrays(np.array([[5, 5, 5]]))
-    assert arrays.mass[0, 0] == pytest.approx(a.mass) and arrays.ratio[0, 2] == pytest.approx(a.ratio)
+    assert arrays.mass[0, 0] == pytest.approx(a.mass) and arrays.ratio[0, 2] == pytest.approx(
+        a.ratio
+    )
 
 
 def test_stage_kinds_and_exclusions(leg):
@@ -93,8 +117,7 @@ def test_filters_only_remove_options_that_miss_a_requirement(leg):
         idx[:, j] = removed
         arrays = table.arrays(idx)
         ev = model.evaluator.evaluate(arrays, detail=False)
-        own = [c for c in checks(p, arrays, ev)
-               if c.subject == name or c.name == "speed_min"]
+        own = [c for c in checks(p, arrays, ev) if c.subject == name or c.name == "speed_min"]
         ok = np.ones(removed.size, dtype=bool)
         for c in own:
             ok &= c.ok

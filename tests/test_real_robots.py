@@ -26,7 +26,13 @@ from jointwright.project import load_project
 from jointwright.robot.basis import gravity, pose_basis
 from jointwright.sizing import size
 
-ROBOTS = Path(sysconfig.get_paths()["purelib"]) / "cmeel.prefix" / "share" / "example-robot-data" / "robots"
+ROBOTS = (
+    Path(sysconfig.get_paths()["purelib"])
+    / "cmeel.prefix"
+    / "share"
+    / "example-robot-data"
+    / "robots"
+)
 pytestmark = pytest.mark.skipif(
     not ROBOTS.is_dir(),
     reason="example-robot-data is not installed (pip install '.[robots]'); real-robot checks skipped",
@@ -40,7 +46,9 @@ TALOS = ROBOTS / "talos_data" / "robots" / "talos_reduced.urdf"
 
 
 def _catalog(tmp_path: Path, example: str) -> str:
-    text = resources.files("jointwright.examples").joinpath(example, "catalog.toml").read_text("utf-8")
+    text = (
+        resources.files("jointwright.examples").joinpath(example, "catalog.toml").read_text("utf-8")
+    )
     (tmp_path / "catalog.toml").write_text(text, encoding="utf-8")
     return "catalog.toml"
 
@@ -58,22 +66,35 @@ def _pose(values: dict) -> str:
 def _pin_gravity(urdf: Path, floating: bool, q: np.ndarray) -> np.ndarray:
     """Generalized gravity straight from Pinocchio on the URDF (the outside reference)."""
     text = urdf.read_text(encoding="utf-8")
-    model = (pin.buildModelFromXML(text, pin.JointModelFreeFlyer(), mimic=True) if floating
-             else pin.buildModelFromXML(text, mimic=True))
+    model = (
+        pin.buildModelFromXML(text, pin.JointModelFreeFlyer(), mimic=True)
+        if floating
+        else pin.buildModelFromXML(text, mimic=True)
+    )
     return pin.computeGeneralizedGravity(model, model.createData(), q)
 
 
 # ---------------------------------------------------------------------------------- quadruped
-SOLO_STAND = {f"{leg}_{j}": v for leg in ("FL", "FR", "HL", "HR")
-              for j, v in (("HAA", 0), ("HFE", 40 if leg[0] == "F" else -40),
-                           ("KFE", -80 if leg[0] == "F" else 80))}
+SOLO_STAND = {
+    f"{leg}_{j}": v
+    for leg in ("FL", "FR", "HL", "HR")
+    for j, v in (
+        ("HAA", 0),
+        ("HFE", 40 if leg[0] == "F" else -40),
+        ("KFE", -80 if leg[0] == "F" else 80),
+    )
+}
 
 
 def _solo_project(tmp_path: Path, extra_robot: str = "", actuated: str = "") -> Path:
     cat = _catalog(tmp_path, "leg")
     legs = ("FL", "FR", "HL", "HR")
-    shared = ", ".join("[" + ", ".join(f'"{leg}_{j}"' for leg in legs) + "]" for j in ("HAA", "HFE", "KFE"))
-    return _write(tmp_path, f"""
+    shared = ", ".join(
+        "[" + ", ".join(f'"{leg}_{j}"' for leg in legs) + "]" for j in ("HAA", "HFE", "KFE")
+    )
+    return _write(
+        tmp_path,
+        f"""
 [project]
 name = "solo12 whole robot"
 [robot]
@@ -111,7 +132,8 @@ frame = "FL_FOOT"
 direction = [0, 0, 1]
 pose = "stand"
 imf_min = 0.01
-""")
+""",
+    )
 
 
 def test_solo12_gravity_equals_pinocchio(tmp_path):
@@ -186,13 +208,21 @@ def test_included_mass_larger_than_its_link_is_refused(tmp_path):
 
 
 # ---------------------------------------------------------------------------------- arms
-UR5_POSE = {"shoulder_pan_joint": 0, "shoulder_lift_joint": -60, "elbow_joint": 60,
-            "wrist_1_joint": -90, "wrist_2_joint": -90, "wrist_3_joint": 0}
+UR5_POSE = {
+    "shoulder_pan_joint": 0,
+    "shoulder_lift_joint": -60,
+    "elbow_joint": 60,
+    "wrist_1_joint": -90,
+    "wrist_2_joint": -90,
+    "wrist_3_joint": 0,
+}
 
 
 def _arm_project(tmp_path, urdf, pose, frame, extra="") -> Path:
     cat = _catalog(tmp_path, "arm")
-    return _write(tmp_path, f"""
+    return _write(
+        tmp_path,
+        f"""
 [project]
 name = "arm"
 [robot]
@@ -218,7 +248,8 @@ frame = "{frame}"
 direction = [0, 1, 0]
 pose = "work"
 effective_mass_max = "40 kg"
-""")
+""",
+    )
 
 
 def test_ur5_six_joint_arm(tmp_path):
@@ -234,8 +265,15 @@ def test_ur5_six_joint_arm(tmp_path):
     assert "shoulder_pan_joint" in unloaded_joints(p)
 
 
-PANDA_POSE = {"panda_joint1": 0, "panda_joint2": 30, "panda_joint3": 0, "panda_joint4": -90,
-              "panda_joint5": 0, "panda_joint6": 100, "panda_joint7": 0}
+PANDA_POSE = {
+    "panda_joint1": 0,
+    "panda_joint2": 30,
+    "panda_joint3": 0,
+    "panda_joint4": -90,
+    "panda_joint5": 0,
+    "panda_joint6": 100,
+    "panda_joint7": 0,
+}
 
 
 def test_panda_arm_with_unactuated_gripper(tmp_path):
@@ -267,7 +305,9 @@ def test_panda_free_finger_yields_and_carries_nothing_it_cannot(tmp_path):
     b = pose_basis(p.robot, q, ["panda_leftfinger"])
     axis = b.J[0, :3, p.robot.joint_v_index[p.robot.joint_names.index("panda_finger_joint1")]]
     u = axis / np.linalg.norm(axis)
-    text = path.read_text() + f"""
+    text = (
+        path.read_text()
+        + f"""
 [[case]]
 name = "pinch"
 kind = "payload"
@@ -281,6 +321,7 @@ frame = "panda_leftfinger"
 direction = [{u[0]:.12f}, {u[1]:.12f}, {u[2]:.12f}]
 pose = "work"
 """
+    )
     path.write_text(text)
     p = load_project(path)
     r = size(p, time_limit=60, explain=False)
@@ -298,7 +339,10 @@ def test_bolt_biped(tmp_path):
     # example-robot-data bolt.urdf: a small biped, three joints per leg, floating base
     cat = _catalog(tmp_path, "leg")
     pose = {"FL_HAA": 0, "FL_HFE": 30, "FL_KFE": -60, "FR_HAA": 0, "FR_HFE": 30, "FR_KFE": -60}
-    p = load_project(_write(tmp_path, f"""
+    p = load_project(
+        _write(
+            tmp_path,
+            f"""
 [robot]
 urdf = "{BOLT}"
 base = "floating"
@@ -320,7 +364,9 @@ kind = "impact"
 frame = "FL_FOOT"
 direction = [0, 0, 1]
 pose = "stand"
-"""))
+""",
+        )
+    )
     assert p.robot.n_act == 6
     q = p.robot.configuration(p.case("push").pose)
     g = gravity(pose_basis(p.robot, q), np.zeros((1, 6)))[0]
@@ -336,9 +382,19 @@ def test_talos_legs_inside_the_whole_humanoid(tmp_path):
     # head and grippers stay held (not sized)
     cat = _catalog(tmp_path, "leg")
     legs = [f"leg_{side}_{i}_joint" for side in ("left", "right") for i in range(1, 7)]
-    pose = {j: v for side in ("left", "right") for j, v in
-            ((f"leg_{side}_3_joint", -25), (f"leg_{side}_4_joint", 50), (f"leg_{side}_5_joint", -25))}
-    p = load_project(_write(tmp_path, f"""
+    pose = {
+        j: v
+        for side in ("left", "right")
+        for j, v in (
+            (f"leg_{side}_3_joint", -25),
+            (f"leg_{side}_4_joint", 50),
+            (f"leg_{side}_5_joint", -25),
+        )
+    }
+    p = load_project(
+        _write(
+            tmp_path,
+            f"""
 [robot]
 urdf = "{TALOS}"
 base = "floating"
@@ -361,7 +417,9 @@ kind = "impact"
 frame = "leg_left_6_link"
 direction = [0, 0, 1]
 pose = "stand"
-"""))
+""",
+        )
+    )
     robot = p.robot
     assert robot.n_act == 12 and len(robot.held) == len(robot.joint_names) - 12
     q = robot.configuration(p.case("push").pose)
@@ -380,9 +438,16 @@ def test_urdf_own_floating_joint_becomes_the_one_floating_base(tmp_path):
     # link and a floating joint to the trunk. The robot gets one free-flyer, never two, and the
     # same gravity as the plain file on a floating base (Pinocchio).
     text = SOLO12.read_text(encoding="utf-8")
-    head, sep, rest = text.partition("<link name=\"base_link\"")
-    own = head + ('<link name="world"/>\n<joint name="trunk_free" type="floating">'
-                  '<parent link="world"/><child link="base_link"/></joint>\n') + sep + rest
+    head, sep, rest = text.partition('<link name="base_link"')
+    own = (
+        head
+        + (
+            '<link name="world"/>\n<joint name="trunk_free" type="floating">'
+            '<parent link="world"/><child link="base_link"/></joint>\n'
+        )
+        + sep
+        + rest
+    )
     urdf = tmp_path / "solo12_floating.urdf"
     urdf.write_text(own, encoding="utf-8")
     cat = _catalog(tmp_path, "leg")

@@ -50,8 +50,12 @@ def built(request, tmp_path_factory):
     design = load_design(folder / "design.toml", project)
     path = build_report(project, design, folder / "out")
     a = json.loads(json.dumps(assess(project, design).to_dict()))
-    return {"path": path, "html": path.read_text(encoding="utf-8"), "assessment": a,
-            "project": project}
+    return {
+        "path": path,
+        "html": path.read_text(encoding="utf-8"),
+        "assessment": a,
+        "project": project,
+    }
 
 
 class _Cells(HTMLParser):
@@ -138,8 +142,11 @@ def test_joint_table_and_total_mass_equal_the_assessment(built):
     a = built["assessment"]
     assert _close(_value(_cell(cells, field="total_mass")), a["total_mass"])
     for j in a["joints"]:
-        for field, key in (("mass", "mass"), ("drive", "capacity_motoring"),
-                           ("holding", "capacity_backdriven")):
+        for field, key in (
+            ("mass", "mass"),
+            ("drive", "capacity_motoring"),
+            ("holding", "capacity_backdriven"),
+        ):
             assert _close(_value(_cell(cells, joint=j["joint"], field=field)), j[key])
 
 
@@ -177,16 +184,33 @@ def test_page_is_self_contained_and_every_image_decodes(built):
 def test_no_nan_and_every_section_present(built):
     text = re.sub(r'src="data:[^"]*"', "", built["html"])
     assert not re.search(r"\bnan\b", text, flags=re.IGNORECASE)
-    for anchor in ("summary", "appendix", "job", "outcome", "requirements", "binding", "joints", "polytopes", "ellipses",
-                   "ratio", "sensitivity", "cases", "cautions"):
+    for anchor in (
+        "summary",
+        "appendix",
+        "job",
+        "outcome",
+        "requirements",
+        "binding",
+        "joints",
+        "polytopes",
+        "ellipses",
+        "ratio",
+        "sensitivity",
+        "cases",
+        "cautions",
+    ):
         assert f'id="{anchor}"' in text
-    for phrase in ("supplier", "trap or crush", "safety standards",
-                   "licensed engineering practice"):
+    for phrase in (
+        "supplier",
+        "trap or crush",
+        "safety standards",
+        "licensed engineering practice",
+    ):
         assert phrase in text
 
 
 def _summary(html: str) -> str:
-    return html[html.index('id="summary"'):html.index('id="appendix"')]
+    return html[html.index('id="summary"') : html.index('id="appendix"')]
 
 
 def test_summary_comes_first_with_the_decision_and_the_tightest_margins(built):
@@ -199,8 +223,11 @@ def test_summary_comes_first_with_the_decision_and_the_tightest_margins(built):
         assert j["joint"] in top and j["motor"] in top
     assert _close(_value(_cell(cells, field="summary_total_mass")), a["total_mass"])
     missed = sum(not c["ok"] for c in a["checks"])
-    verdict = (f"meets all {len(a['checks'])} requirements" if not missed
-               else f"misses {missed} of {len(a['checks'])} requirements")
+    verdict = (
+        f"meets all {len(a['checks'])} requirements"
+        if not missed
+        else f"misses {missed} of {len(a['checks'])} requirements"
+    )
     assert verdict in top
     # the three smallest margins, smallest first
     shown = [k for k in re.findall(r'data-summary-check="([^"]+)"', top)]
@@ -216,8 +243,9 @@ def test_cost_is_shown_beside_mass_and_adds_up_from_the_catalog(built):
     motors = {m.name: m.cost for m in project.catalog.motors}
     frames = {f.name: f.cost for st in project.catalog.stages for f in st.frames}
     design = load_design(built["path"].parents[1] / "design.toml", project)
-    want = sum(motors[x.motor.name] + sum(frames[s.frame.name] for s in x.stages)
-               for x in design.actuators)
+    want = sum(
+        motors[x.motor.name] + sum(frames[s.frame.name] for s in x.stages) for x in design.actuators
+    )
     assert want > 0, "the example catalogs give costs"
     cells = _parse(built["html"]).cells
     assert _close(_value(_cell(cells, field="total_cost")), want)
@@ -229,7 +257,7 @@ def test_cost_is_shown_beside_mass_and_adds_up_from_the_catalog(built):
 def test_outcome_names_missed_requirements_and_the_limiting_joint(built):
     a = built["assessment"]
     text = built["html"]
-    outcome = text[text.index('id="outcome"'):text.index('id="requirements"')]
+    outcome = text[text.index('id="outcome"') : text.index('id="requirements"')]
     missed = [c for c in a["checks"] if not c["ok"]]
     assert (f"misses {len(missed)} of" in outcome) == bool(missed)
     for c in missed:
@@ -267,11 +295,20 @@ def test_shown_numbers_read_back_to_four_digits(x):
 
 def test_report_verb_writes_the_files(tmp_path):
     folder = _new(tmp_path / "leg", "leg")
-    r = CliRunner().invoke(main, ["report", str(folder / "project.toml"),
-                                  "--design", str(folder / "design.toml"),
-                                  "--out", str(tmp_path / "r"), "--json"])
+    r = CliRunner().invoke(
+        main,
+        [
+            "report",
+            str(folder / "project.toml"),
+            "--design",
+            str(folder / "design.toml"),
+            "--out",
+            str(tmp_path / "r"),
+            "--json",
+        ],
+    )
     assert r.exit_code == 0, r.output
-    out = json.loads(r.output[r.output.index("{"):])
+    out = json.loads(r.output[r.output.index("{") :])
     assert Path(out["report"]).is_file()
     assert {Path(f).suffix for f in out["figures"]} == {".png", ".svg"}
 
@@ -280,8 +317,17 @@ def test_report_verb_rejects_bad_json_with_one_line(tmp_path):
     folder = _new(tmp_path / "leg", "leg")
     bad = tmp_path / "frontier.json"
     bad.write_text("{not json", encoding="utf-8")
-    r = CliRunner().invoke(main, ["report", str(folder / "project.toml"), "--design",
-                                  str(folder / "design.toml"), "--frontier", str(bad)])
+    r = CliRunner().invoke(
+        main,
+        [
+            "report",
+            str(folder / "project.toml"),
+            "--design",
+            str(folder / "design.toml"),
+            "--frontier",
+            str(bad),
+        ],
+    )
     assert r.exit_code == 2
     assert "frontier.json" in r.output and "--frontier" in r.output and "not valid JSON" in r.output
     assert "Traceback" not in r.output
@@ -291,22 +337,41 @@ def test_report_verb_rejects_an_out_path_that_is_a_file(tmp_path):
     folder = _new(tmp_path / "leg", "leg")
     taken = tmp_path / "taken"
     taken.write_text("", encoding="utf-8")
-    r = CliRunner().invoke(main, ["report", str(folder / "project.toml"), "--design",
-                                  str(folder / "design.toml"), "--out", str(taken)])
+    r = CliRunner().invoke(
+        main,
+        [
+            "report",
+            str(folder / "project.toml"),
+            "--design",
+            str(folder / "design.toml"),
+            "--out",
+            str(taken),
+        ],
+    )
     assert r.exit_code == 2 and "--out" in r.output and "must be a folder" in r.output
 
 
 # ---- the page in a browser -----------------------------------------------------------------
 CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
-needs_chromium = pytest.mark.skipif(CHROMIUM is None,
-                                    reason="chromium is not installed (CI installs it)")
+needs_chromium = pytest.mark.skipif(
+    CHROMIUM is None, reason="chromium is not installed (CI installs it)"
+)
 
 
 def _chromium(args, profile: Path) -> subprocess.CompletedProcess:
-    cmd = [CHROMIUM, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic",
-           "--no-first-run", "--disable-background-networking", "--disable-component-update",
-           "--disable-sync",
-           f"--user-data-dir={profile}", *args]
+    cmd = [
+        CHROMIUM,
+        "--headless",
+        "--no-sandbox",
+        "--disable-gpu",
+        "--disable-quic",
+        "--no-first-run",
+        "--disable-background-networking",
+        "--disable-component-update",
+        "--disable-sync",
+        f"--user-data-dir={profile}",
+        *args,
+    ]
     return subprocess.run(cmd, capture_output=True, text=True, timeout=120)
 
 
@@ -364,14 +429,15 @@ def test_self_locking_joint_shows_infinity_and_the_caution(tmp_path):
         fh.write(WORM)
     text = (folder / "design.toml").read_text(encoding="utf-8")
     worm = '[{ stage = "WM", frame = "WM-50", ratio = 20 }]'
-    text = re.sub(r"(\[joint\.knee\][^\[]*?stages = )\[.*\]", lambda m: m.group(1) + worm, text,
-                  flags=re.S)
+    text = re.sub(
+        r"(\[joint\.knee\][^\[]*?stages = )\[.*\]", lambda m: m.group(1) + worm, text, flags=re.S
+    )
     (folder / "design.toml").write_text(text, encoding="utf-8")
     project = load_project(folder / "project.toml")
     design = load_design(folder / "design.toml", project)
     assert design.actuator("knee").self_locking
     html = build_report(project, design, tmp_path / "out").read_text(encoding="utf-8")
-    outcome = html[html.index('id="outcome"'):html.index('id="requirements"')]
+    outcome = html[html.index('id="outcome"') : html.index('id="requirements"')]
     assert "Self-locking joints: knee" in outcome
     assert "Self-locking: knee" in _summary(html)  # a top risk on the summary page
     assert "∞ kg·m²" in html and "∞ N·m" in html  # back-driven reflected inertia, breakaway torque
@@ -383,17 +449,36 @@ def test_sizing_and_frontier_sections_join_the_report(tmp_path):
     folder = _new(tmp_path / "leg", "leg")
     project = load_project(folder / "project.toml")
     design = load_design(folder / "design.toml", project)
-    alternative = {"joint": "hip_ab", "actuator": "Flatwind-4 | Orbit/Orbit-2 6:1",
-                   "change": "other motor", "objective": 70.0, "loss": 4.96}
-    sizing = {"status": "time_limit", "objective_kind": "payload", "objective": 74.96,
-              "bound": 80.0, "gap": 0.067, "alternatives": [alternative],
-              "diagnosis": [{"requirement": "jump-push: payload min", "limit": 150.0,
-                             "best_achievable": 561.2, "shortfall": -2.74,
-                             "relaxed_objective": None}]}
-    frontier = {"x": {"label": "impact mitigation factor", "unit": ""},
-                "y": {"label": "worst payload", "unit": "N"},
-                "points": [{"x": 0.10, "y": 90.0}, {"x": 0.15, "y": 74.96}, {"x": 0.22, "y": 50.0}],
-                "chosen": 1}
+    alternative = {
+        "joint": "hip_ab",
+        "actuator": "Flatwind-4 | Orbit/Orbit-2 6:1",
+        "change": "other motor",
+        "objective": 70.0,
+        "loss": 4.96,
+    }
+    sizing = {
+        "status": "time_limit",
+        "objective_kind": "payload",
+        "objective": 74.96,
+        "bound": 80.0,
+        "gap": 0.067,
+        "alternatives": [alternative],
+        "diagnosis": [
+            {
+                "requirement": "jump-push: payload min",
+                "limit": 150.0,
+                "best_achievable": 561.2,
+                "shortfall": -2.74,
+                "relaxed_objective": None,
+            }
+        ],
+    }
+    frontier = {
+        "x": {"label": "impact mitigation factor", "unit": ""},
+        "y": {"label": "worst payload", "unit": "N"},
+        "points": [{"x": 0.10, "y": 90.0}, {"x": 0.15, "y": 74.96}, {"x": 0.22, "y": 50.0}],
+        "chosen": 1,
+    }
     path = build_report(project, design, tmp_path / "out", sizing=sizing, frontier=frontier)
     html = path.read_text("utf-8")
     assert 'id="runner-ups"' in html and 'id="frontier"' in html
@@ -424,8 +509,16 @@ def test_same_input_same_files(tmp_path):
 
 
 def _check(subject, requirement, achieved, limit, margin, unit="N"):
-    return {"subject": subject, "requirement": requirement, "achieved": achieved,
-            "limit": limit, "margin": margin, "ok": margin >= 0, "unit": unit, "sense": "min"}
+    return {
+        "subject": subject,
+        "requirement": requirement,
+        "achieved": achieved,
+        "limit": limit,
+        "margin": margin,
+        "ok": margin >= 0,
+        "unit": unit,
+        "sense": "min",
+    }
 
 
 def test_summary_risks_order_and_thresholds():
@@ -433,13 +526,25 @@ def test_summary_risks_order_and_thresholds():
     # 130/100 → +30 % is not; 90/100 → −10 % is missed and comes first
     from jointwright.report.summary import MAX_RISKS, risks
 
-    a = {"checks": [_check("lift", "payload_min", 105.0, 100.0, 0.05),
-                    _check("push", "payload_min", 130.0, 100.0, 0.30),
-                    _check("reach", "payload_min", 90.0, 100.0, -0.10)],
-         "joints": [{"joint": "knee", "self_locking": True},
-                    {"joint": "hip", "self_locking": False}],
-         "cases": [{"name": "walk", "kind": "duty", "limiting_joint": "hip",
-                    "metrics": {"rating_use": 0.95, "limiting_quantity": "rms_torque"}}]}
+    a = {
+        "checks": [
+            _check("lift", "payload_min", 105.0, 100.0, 0.05),
+            _check("push", "payload_min", 130.0, 100.0, 0.30),
+            _check("reach", "payload_min", 90.0, 100.0, -0.10),
+        ],
+        "joints": [
+            {"joint": "knee", "self_locking": True},
+            {"joint": "hip", "self_locking": False},
+        ],
+        "cases": [
+            {
+                "name": "walk",
+                "kind": "duty",
+                "limiting_joint": "hip",
+                "metrics": {"rating_use": 0.95, "limiting_quantity": "rms_torque"},
+            }
+        ],
+    }
     got = risks(a, {"points": 5, "change": 0.0468, "joint": "hip", "efficiency": "η_f"})
     assert len(got) <= MAX_RISKS
     assert got[0].startswith("Missed: reach: payload min is 90 N against 100 N (−10.0 %)")

@@ -27,8 +27,10 @@ from jointwright.report import build_report
 
 CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
 pytestmark = pytest.mark.skipif(
-    CHROMIUM is None, reason="chromium is not installed: the reports cannot be rendered and "
-                             "printed here (install it, e.g. apt-get install chromium)")
+    CHROMIUM is None,
+    reason="chromium is not installed: the reports cannot be rendered and "
+    "printed here (install it, e.g. apt-get install chromium)",
+)
 
 #: printable width of an A4 page with the report's 12 mm margins: (210 − 2·12) mm at 96 px/in
 #: (CSS px are 1/96 in) = 703 px; Letter gives (8.5 in − 24 mm) = 725 px, so A4 is the narrower
@@ -67,16 +69,28 @@ _MEASURE = """<script>
 
 
 def _chromium(args: list[str], profile: Path) -> subprocess.CompletedProcess:
-    cmd = [CHROMIUM, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic",
-           "--no-first-run", "--disable-background-networking", "--disable-component-update",
-           "--disable-sync", "--hide-scrollbars", f"--user-data-dir={profile}", *args]
+    cmd = [
+        CHROMIUM,
+        "--headless",
+        "--no-sandbox",
+        "--disable-gpu",
+        "--disable-quic",
+        "--no-first-run",
+        "--disable-background-networking",
+        "--disable-component-update",
+        "--disable-sync",
+        "--hide-scrollbars",
+        f"--user-data-dir={profile}",
+        *args,
+    ]
     r = subprocess.run(cmd, capture_output=True, text=True, timeout=180)
     assert r.returncode == 0, r.stderr[-2000:]
     return r
 
 
-def _variant(html_path: Path, name: str, css: str = "", script: str = "",
-             print_rules_on_screen: bool = False) -> Path:
+def _variant(
+    html_path: Path, name: str, css: str = "", script: str = "", print_rules_on_screen: bool = False
+) -> Path:
     """A copy of the report with extra CSS in the head and a script at the end of the body."""
     text = html_path.read_text(encoding="utf-8")
     if print_rules_on_screen:
@@ -104,8 +118,10 @@ def pdf_pages(pdf: Path) -> int:
 def print_pages(html_path: Path, tmp: Path, paper: str, css: str = "") -> int:
     page = _variant(html_path, f"print-{paper}", css=f"@page {{ size: {paper}; }} {css}")
     pdf = tmp / f"{page.stem}.pdf"
-    _chromium(["--no-pdf-header-footer", f"--print-to-pdf={pdf}", page.as_uri()],
-              tmp / f"profile-{page.stem}")
+    _chromium(
+        ["--no-pdf-header-footer", f"--print-to-pdf={pdf}", page.as_uri()],
+        tmp / f"profile-{page.stem}",
+    )
     return pdf_pages(pdf)
 
 
@@ -116,14 +132,21 @@ WHOLE_WORDS = "th, td { overflow-wrap: normal !important; word-break: normal !im
 
 def overflowing_tables(html_path: Path, tmp: Path, width: int, printed: bool) -> dict:
     name = f"measure-{width}{'-print' if printed else ''}"
-    page = _variant(html_path, name, css=WHOLE_WORDS, script=_MEASURE,
-                    print_rules_on_screen=printed)
-    r = _chromium(["--dump-dom", f"--window-size={width},1200", page.as_uri()],
-                  tmp / f"profile-{name}")
+    page = _variant(
+        html_path, name, css=WHOLE_WORDS, script=_MEASURE, print_rules_on_screen=printed
+    )
+    r = _chromium(
+        ["--dump-dom", f"--window-size={width},1200", page.as_uri()], tmp / f"profile-{name}"
+    )
     m = re.search(r'<pre id="overflow-report">(.*?)</pre>', r.stdout, flags=re.S)
     assert m, "the measuring script did not run"
-    report = json.loads(m.group(1).replace("&quot;", '"').replace("&amp;", "&")
-                        .replace("&lt;", "<").replace("&gt;", ">"))
+    report = json.loads(
+        m.group(1)
+        .replace("&quot;", '"')
+        .replace("&amp;", "&")
+        .replace("&lt;", "<")
+        .replace("&gt;", ">")
+    )
     assert report["width"] <= width
     return report
 
@@ -132,8 +155,10 @@ def screenshot(html_path: Path, tmp: Path, width: int, height: int, printed: boo
     name = f"screen-{width}{'-print' if printed else ''}"
     page = _variant(html_path, name, print_rules_on_screen=printed)
     shot = html_path.parent / f"{name}.png"
-    _chromium([f"--screenshot={shot}", f"--window-size={width},{height}", page.as_uri()],
-              tmp / f"profile-shot-{name}")
+    _chromium(
+        [f"--screenshot={shot}", f"--window-size={width},{height}", page.as_uri()],
+        tmp / f"profile-shot-{name}",
+    )
     img = Image.open(shot).convert("L")
     assert img.size == (width, height)
     dark = sum(img.histogram()[:128])
@@ -148,30 +173,56 @@ def _new(folder: Path, example: str) -> Path:
     return folder
 
 
-FRONTIER = {"x": {"label": "impact mitigation factor", "unit": ""},
-            "y": {"label": "worst payload", "unit": "N"},
-            "points": [{"x": 0.08, "y": 260.0, "design": "a", "changes": "knee 9:1"},
-                       {"x": 0.156, "y": 240.0, "design": "b", "changes": "knee 6:1"},
-                       {"x": 0.22, "y": 150.0, "design": "c", "changes": "hip_fe 6:1"}],
-            "chosen": 1, "knee": 1}
-SIZING = {"status": "time_limit", "objective_kind": "payload", "objective": 240.0,
-          "bound": 251.0, "gap": 0.044,
-          "alternatives": [{"joint": "knee", "actuator": "Flatwind-4 | Orbit/Orbit-2 6:1",
-                            "change": "other motor", "objective": 230.0, "loss": 10.0}],
-          "diagnosis": [{"requirement": "trot: rating use max", "limit": 1.0,
-                         "best_achievable": 0.93, "shortfall": -0.07,
-                         "relaxed_objective": 262.0}]}
+FRONTIER = {
+    "x": {"label": "impact mitigation factor", "unit": ""},
+    "y": {"label": "worst payload", "unit": "N"},
+    "points": [
+        {"x": 0.08, "y": 260.0, "design": "a", "changes": "knee 9:1"},
+        {"x": 0.156, "y": 240.0, "design": "b", "changes": "knee 6:1"},
+        {"x": 0.22, "y": 150.0, "design": "c", "changes": "hip_fe 6:1"},
+    ],
+    "chosen": 1,
+    "knee": 1,
+}
+SIZING = {
+    "status": "time_limit",
+    "objective_kind": "payload",
+    "objective": 240.0,
+    "bound": 251.0,
+    "gap": 0.044,
+    "alternatives": [
+        {
+            "joint": "knee",
+            "actuator": "Flatwind-4 | Orbit/Orbit-2 6:1",
+            "change": "other motor",
+            "objective": 230.0,
+            "loss": 10.0,
+        }
+    ],
+    "diagnosis": [
+        {
+            "requirement": "trot: rating use max",
+            "limit": 1.0,
+            "best_achievable": 0.93,
+            "shortfall": -0.07,
+            "relaxed_objective": 262.0,
+        }
+    ],
+}
 
 
 def _study(tmp: Path) -> dict:
     """A study summary with three varied parameters and two variants (many columns if every
     metric were shown), in the hook's plain-dict form."""
-    params = [{"key": "requirements.total_mass_max", "label": "total mass max", "unit": "kg"},
-              {"key": "case[3].imf_min", "label": "touchdown: imf min", "unit": ""},
-              {"key": "catalog.max_stages", "label": "max stages", "unit": ""}]
-    results = [{"key": "objective", "label": "largest worst-case payload", "unit": "N",
-                "better": "max"},
-               {"key": "total_mass", "label": "actuator mass", "unit": "kg", "better": None}]
+    params = [
+        {"key": "requirements.total_mass_max", "label": "total mass max", "unit": "kg"},
+        {"key": "case[3].imf_min", "label": "touchdown: imf min", "unit": ""},
+        {"key": "catalog.max_stages", "label": "max stages", "unit": ""},
+    ]
+    results = [
+        {"key": "objective", "label": "largest worst-case payload", "unit": "N", "better": "max"},
+        {"key": "total_mass", "label": "actuator mass", "unit": "kg", "better": None},
+    ]
     cases = []
     for variant in ("planetary", "strain-wave"):
         for budget in (3.4, 3.8, 4.2, 4.6):
@@ -179,17 +230,31 @@ def _study(tmp: Path) -> dict:
                 for stages in (1, 2):
                     payload = 60 * budget - 300 * imf + 5 * stages + (8 if variant[0] == "s" else 0)
                     ok = payload > 130
-                    cases.append({
-                        "case": f"{variant}-{budget}-{imf}-{stages}", "variant": variant,
-                        "status": "optimal" if ok else "infeasible",
-                        "values": {"requirements.total_mass_max": budget,
-                                   "case[3].imf_min": imf, "catalog.max_stages": stages},
-                        "results": {"objective": payload if ok else None,
-                                    "total_mass": budget - 0.1 if ok else None},
-                        "design": "hip_ab: Flatwind-8 | Orbit/Orbit-3 7:1; hip_fe: Flatwind-2 | "
-                                  "Flexring/Flexring-1 30:1; knee: Flatwind-9 | Orbit/Orbit-3 7:1"})
-    return {"name": "leg budget study", "description": "budget, IMF and stage count",
-            "parameters": params, "results": results, "cases": cases}
+                    cases.append(
+                        {
+                            "case": f"{variant}-{budget}-{imf}-{stages}",
+                            "variant": variant,
+                            "status": "optimal" if ok else "infeasible",
+                            "values": {
+                                "requirements.total_mass_max": budget,
+                                "case[3].imf_min": imf,
+                                "catalog.max_stages": stages,
+                            },
+                            "results": {
+                                "objective": payload if ok else None,
+                                "total_mass": budget - 0.1 if ok else None,
+                            },
+                            "design": "hip_ab: Flatwind-8 | Orbit/Orbit-3 7:1; hip_fe: Flatwind-2 | "
+                            "Flexring/Flexring-1 30:1; knee: Flatwind-9 | Orbit/Orbit-3 7:1",
+                        }
+                    )
+    return {
+        "name": "leg budget study",
+        "description": "budget, IMF and stage count",
+        "parameters": params,
+        "results": results,
+        "cases": cases,
+    }
 
 
 def _build(tmp: Path, example: str, **extra) -> Path:
@@ -199,11 +264,15 @@ def _build(tmp: Path, example: str, **extra) -> Path:
     return build_report(project, design, folder / "out", **extra)
 
 
-@pytest.fixture(scope="module", params=[
-    "leg-everything", "arm",
-    pytest.param("quadruped", marks=pytest.mark.slow),
-    pytest.param("self-locking", marks=pytest.mark.slow),
-])
+@pytest.fixture(
+    scope="module",
+    params=[
+        "leg-everything",
+        "arm",
+        pytest.param("quadruped", marks=pytest.mark.slow),
+        pytest.param("self-locking", marks=pytest.mark.slow),
+    ],
+)
 def report(request, tmp_path_factory):
     tmp = tmp_path_factory.mktemp(request.param)
     if request.param == "leg-everything":
@@ -216,12 +285,15 @@ def report(request, tmp_path_factory):
             fh.write(WORM)
         text = (folder / "design.toml").read_text(encoding="utf-8")
         worm = '[{ stage = "WM", frame = "WM-50", ratio = 20 }]'
-        text = re.sub(r"(\[joint\.knee\][^\[]*?stages = )\[.*\]",
-                      lambda m: m.group(1) + worm, text, flags=re.S)
+        text = re.sub(
+            r"(\[joint\.knee\][^\[]*?stages = )\[.*\]",
+            lambda m: m.group(1) + worm,
+            text,
+            flags=re.S,
+        )
         (folder / "design.toml").write_text(text, encoding="utf-8")
         project = load_project(folder / "project.toml")
-        path = build_report(project, load_design(folder / "design.toml", project),
-                            folder / "out")
+        path = build_report(project, load_design(folder / "design.toml", project), folder / "out")
     else:
         path = _build(tmp, request.param)
     return {"path": path, "tmp": tmp, "name": request.param}
@@ -241,13 +313,14 @@ def test_whole_report_prints_and_the_appendix_starts_on_a_new_page(report):
     # the summary page, then at least one page of appendix (the summary breaks the page)
     assert whole >= 2
     without_summary = print_pages(
-        report["path"], report["tmp"], "A4",
-        css="#summary { display: none !important; }")
+        report["path"], report["tmp"], "A4", css="#summary { display: none !important; }"
+    )
     assert whole == without_summary + 1
 
 
-@pytest.mark.parametrize("width,printed", [(SCREEN_PX, False), (A4_PRINT_PX, True)],
-                         ids=["screen", "A4-printable-width"])
+@pytest.mark.parametrize(
+    "width,printed", [(SCREEN_PX, False), (A4_PRINT_PX, True)], ids=["screen", "A4-printable-width"]
+)
 def test_no_table_overflows_the_page(report, width, printed):
     got = overflowing_tables(report["path"], report["tmp"], width, printed)
     assert got["tables"] >= 5
@@ -273,7 +346,7 @@ def test_rendered_summary_states_the_decision_and_the_cautions(report):
     page = _variant(report["path"], "dom")
     r = _chromium(["--dump-dom", page.as_uri()], report["tmp"] / "profile-dom")
     dom = r.stdout
-    top = dom[dom.index('id="summary"'):dom.index('id="appendix"')]
+    top = dom[dom.index('id="summary"') : dom.index('id="appendix"')]
     p = _Text()
     p.feed(top)
     text = " ".join(p.text)

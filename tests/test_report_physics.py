@@ -46,8 +46,14 @@ def example(request, tmp_path_factory):
     design = load_design(folder / "p" / "design.toml", project)
     ev = Evaluator(project)
     a = assess(project, design, ev)
-    return {"project": project, "design": design, "ev": ev, "arrays": arrays_from_designs([design]),
-            "a": a, "cases": {c.name: c for c in a.cases}}
+    return {
+        "project": project,
+        "design": design,
+        "ev": ev,
+        "arrays": arrays_from_designs([design]),
+        "a": a,
+        "cases": {c.name: c for c in a.cases},
+    }
 
 
 def _payloads(ex) -> dict:
@@ -181,16 +187,20 @@ def test_plane_keeps_the_case_directions():
 
 
 # ---- hooks taking plain dicts ------------------------------------------------------------------
-FRONTIER = {"x": {"label": "impact mitigation factor", "unit": ""},
-            "y": {"label": "payload", "unit": "N"},
-            "points": [{"x": 0.1, "y": 300.0, "design": "a"},
-                       {"x": 0.3, "y": 200.0, "design": "b"}],
-            "chosen": 1, "knee": 1}
+FRONTIER = {
+    "x": {"label": "impact mitigation factor", "unit": ""},
+    "y": {"label": "payload", "unit": "N"},
+    "points": [{"x": 0.1, "y": 300.0, "design": "a"}, {"x": 0.3, "y": 200.0, "design": "b"}],
+    "chosen": 1,
+    "knee": 1,
+}
 
 
 def test_frontier_hook_draws_points_and_rejects_bad_points(tmp_path):
     s = hooks.frontier_section(FRONTIER, tmp_path)
-    assert "200 N" in s.body and "◆ turning point" in s.body and (tmp_path / "frontier.svg").is_file()
+    assert (
+        "200 N" in s.body and "◆ turning point" in s.body and (tmp_path / "frontier.svg").is_file()
+    )
     bad = {**FRONTIER, "points": [{"x": 0.1, "y": 300.0}, {"x": 0.3, "y": "lots"}]}
     with pytest.raises(InputError, match=r"points\[1\]\.y"):
         hooks.frontier_section(bad, tmp_path)
@@ -199,17 +209,44 @@ def test_frontier_hook_draws_points_and_rejects_bad_points(tmp_path):
 
 
 def _alternative(actuator, objective, loss, ruled_out_by, change="other motor"):
-    return {"joint": "knee", "actuator": actuator, "change": change, "objective": objective,
-            "loss": loss, "ruled_out_by": ruled_out_by}
+    return {
+        "joint": "knee",
+        "actuator": actuator,
+        "change": change,
+        "objective": objective,
+        "loss": loss,
+        "ruled_out_by": ruled_out_by,
+    }
 
 
-SIZING = {"status": "optimal", "objective_kind": "payload", "objective": 240.0, "bound": 240.0,
-          "gap": 0.0, "backend": "search", "message": "proven optimum",
-          "alternatives": [_alternative("Flatwind-4 | Orbit/Orbit-2 6:1", 230.0, 10.0, None),
-                           _alternative("Flatwind-6 | Flexring/Flexring-1 50:1", None, None,
-                                        "touchdown: imf min", "other stage type")],
-          "diagnosis": [{"requirement": "touchdown: imf min", "limit": 0.2, "best_achievable": 0.18,
-                         "shortfall": 0.1, "relaxed_objective": 250.0}]}
+SIZING = {
+    "status": "optimal",
+    "objective_kind": "payload",
+    "objective": 240.0,
+    "bound": 240.0,
+    "gap": 0.0,
+    "backend": "search",
+    "message": "proven optimum",
+    "alternatives": [
+        _alternative("Flatwind-4 | Orbit/Orbit-2 6:1", 230.0, 10.0, None),
+        _alternative(
+            "Flatwind-6 | Flexring/Flexring-1 50:1",
+            None,
+            None,
+            "touchdown: imf min",
+            "other stage type",
+        ),
+    ],
+    "diagnosis": [
+        {
+            "requirement": "touchdown: imf min",
+            "limit": 0.2,
+            "best_achievable": 0.18,
+            "shortfall": 0.1,
+            "relaxed_objective": 250.0,
+        }
+    ],
+}
 
 
 def test_runner_ups_hook_reads_the_sizing_result_form():
@@ -224,9 +261,13 @@ def test_runner_ups_hook_reads_the_sizing_result_form():
 
 
 def test_duty_hook_table_and_bad_series(tmp_path):
-    data = {"case": "trot", "time": [0.0, 0.5, 1.0], "motor_torque": {"knee": [0.1, 0.4, 0.1]},
-            "limits": {"knee continuous": 0.3},
-            "summary": [{"joint": "knee", "rms_torque": 0.25, "backdriven_share": 0.4}]}
+    data = {
+        "case": "trot",
+        "time": [0.0, 0.5, 1.0],
+        "motor_torque": {"knee": [0.1, 0.4, 0.1]},
+        "limits": {"knee continuous": 0.3},
+        "summary": [{"joint": "knee", "rms_torque": 0.25, "backdriven_share": 0.4}],
+    }
     d = hooks.duty_section(data, tmp_path)
     assert "0.25 N·m" in d.body and "40 %" in d.body
     odd = hooks.duty_section({**data, "case": "walk / run 2"}, tmp_path)
@@ -238,17 +279,27 @@ def test_duty_hook_table_and_bad_series(tmp_path):
 
 
 STUDY = {
-    "name": "knee sweep", "description": "knee ratio against budget",
-    "parameters": [{"key": "ratio", "label": "knee ratio", "unit": ""},
-                   {"key": "budget", "label": "total mass max", "unit": "kg"}],
-    "results": [{"key": "objective", "label": "largest worst-case payload", "unit": "N",
-                 "better": "max"},
-                {"key": "total_mass", "label": "actuator mass", "unit": "kg", "better": None}],
-    "cases": [{"case": f"c{k}", "variant": "", "status": "optimal",
-               "values": {"ratio": r, "budget": b},
-               "results": {"objective": 10.0 * r + b, "total_mass": b - 0.1},
-               "design": f"knee: Flatwind-{k % 9 + 1} | Orbit/Orbit-2 {r}:1"}
-              for k, (r, b) in enumerate((r, b) for b in (3.0, 4.0) for r in (6, 9, 12))],
+    "name": "knee sweep",
+    "description": "knee ratio against budget",
+    "parameters": [
+        {"key": "ratio", "label": "knee ratio", "unit": ""},
+        {"key": "budget", "label": "total mass max", "unit": "kg"},
+    ],
+    "results": [
+        {"key": "objective", "label": "largest worst-case payload", "unit": "N", "better": "max"},
+        {"key": "total_mass", "label": "actuator mass", "unit": "kg", "better": None},
+    ],
+    "cases": [
+        {
+            "case": f"c{k}",
+            "variant": "",
+            "status": "optimal",
+            "values": {"ratio": r, "budget": b},
+            "results": {"objective": 10.0 * r + b, "total_mass": b - 0.1},
+            "design": f"knee: Flatwind-{k % 9 + 1} | Orbit/Orbit-2 {r}:1",
+        }
+        for k, (r, b) in enumerate((r, b) for b in (3.0, 4.0) for r in (6, 9, 12))
+    ],
 }
 
 
@@ -256,8 +307,12 @@ def test_study_hook_table_has_units_best_case_and_rejects_bad_rows(tmp_path):
     s = hooks.study_section(STUDY, tmp_path)
     text = re.sub(r'src="data:[^"]*"', "", s.body)
     # every header names its unit; every number carries it
-    for head in ("knee ratio (dimensionless)", "total mass max (kg)",
-                 "largest worst-case payload (N)", "actuator mass (kg)"):
+    for head in (
+        "knee ratio (dimensionless)",
+        "total mass max (kg)",
+        "largest worst-case payload (N)",
+        "actuator mass (kg)",
+    ):
         assert head in text
     assert "124 N" in text and "3.9 kg" in text
     # the best case: ratio 12 at 4 kg gives 10·12 + 4 = 124 N
@@ -276,17 +331,23 @@ def test_study_lines_join_only_cases_that_share_the_other_parameters():
     # designs; each group must hold one value of every other parameter
     for param, other in (("ratio", "budget"), ("budget", "ratio")):
         p = next(x for x in STUDY["parameters"] if x["key"] == param)
-        groups = hooks._study_groups(STUDY["cases"], STUDY["parameters"], p,
-                                     STUDY["results"][0], variants=False)
+        groups = hooks._study_groups(
+            STUDY["cases"], STUDY["parameters"], p, STUDY["results"][0], variants=False
+        )
         n_other = len({c["values"][other] for c in STUDY["cases"]})
         assert len(groups) == n_other
         for label, (xs, ys) in groups.items():
-            members = [c for c in STUDY["cases"] if c["values"][param] in xs
-                       and 10.0 * c["values"]["ratio"] + c["values"]["budget"] in ys]
+            members = [
+                c
+                for c in STUDY["cases"]
+                if c["values"][param] in xs
+                and 10.0 * c["values"]["ratio"] + c["values"]["budget"] in ys
+            ]
             assert len({c["values"][other] for c in members}) == 1, label
             assert sorted(xs) == sorted({c["values"][param] for c in STUDY["cases"]})
-    fig = figures.study_figure([("knee ratio (dimensionless)", groups)],
-                               y_label="payload (N)", title="payload")
+    fig = figures.study_figure(
+        [("knee ratio (dimensionless)", groups)], y_label="payload (N)", title="payload"
+    )
     assert len(fig.axes[0].get_lines()) == len(groups)
     assert fig.axes[0].get_xlabel() == "knee ratio (dimensionless)"
 
@@ -319,22 +380,40 @@ def test_study_store_becomes_the_study_section(tmp_path):
     from tests.study_cases import BASE_PROJECT
 
     (tmp_path / "leg.toml").write_text(BASE_PROJECT)
-    spec = parse_study({"study": {"name": "thigh study", "base": "leg.toml"},
-                        "vary": [{"path": "robot.links.thigh.length", "values": [0.2, 0.3]},
-                                 {"path": "requirements.mass_budget",
-                                  "values": ["2 kg", "3000 g"]}],
-                        "variant": [{"name": "short", "set": {"robot.links.shank.length": 0.2}},
-                                    {"name": "long", "set": {"robot.links.shank.length": 0.4}}]},
-                       study_dir=tmp_path)
+    spec = parse_study(
+        {
+            "study": {"name": "thigh study", "base": "leg.toml"},
+            "vary": [
+                {"path": "robot.links.thigh.length", "values": [0.2, 0.3]},
+                {"path": "requirements.mass_budget", "values": ["2 kg", "3000 g"]},
+            ],
+            "variant": [
+                {"name": "short", "set": {"robot.links.shank.length": 0.2}},
+                {"name": "long", "set": {"robot.links.shank.length": 0.4}},
+            ],
+        },
+        study_dir=tmp_path,
+    )
     store = tmp_path / "s.sqlite"
     with StudyStore.open(store, spec, 2) as st:
         for case in expand(spec):
             thigh = case.values["robot.links.thigh.length"]
             result = json.dumps({"objective_kind": "payload"})
-            st.write(case, CaseRecord("done", {"objective": 1000 * thigh, "total_mass": 2.5,
-                                               "sizing_status": "optimal",
-                                               "knee:actuator": f"m{thigh}"},
-                                      result, wall_time=0.1, worker="w:1"))
+            st.write(
+                case,
+                CaseRecord(
+                    "done",
+                    {
+                        "objective": 1000 * thigh,
+                        "total_mass": 2.5,
+                        "sizing_status": "optimal",
+                        "knee:actuator": f"m{thigh}",
+                    },
+                    result,
+                    wall_time=0.1,
+                    worker="w:1",
+                ),
+            )
     data = study_data(store)
     assert data["name"] == "thigh study"
     params = {p["key"]: p for p in data["parameters"]}
@@ -352,9 +431,20 @@ def test_study_store_becomes_the_study_section(tmp_path):
     # the same store through the command line, beside a design report
     r = CliRunner().invoke(main, ["new", str(tmp_path / "leg"), "--example", "leg"])
     assert r.exit_code == 0, r.output
-    r = CliRunner().invoke(main, ["report", str(tmp_path / "leg" / "project.toml"), "--design",
-                                  str(tmp_path / "leg" / "design.toml"), "--study", str(store),
-                                  "--out", str(tmp_path / "out"), "--json"])
+    r = CliRunner().invoke(
+        main,
+        [
+            "report",
+            str(tmp_path / "leg" / "project.toml"),
+            "--design",
+            str(tmp_path / "leg" / "design.toml"),
+            "--study",
+            str(store),
+            "--out",
+            str(tmp_path / "out"),
+            "--json",
+        ],
+    )
     assert r.exit_code == 0, r.output
     html = (tmp_path / "out" / "report.html").read_text(encoding="utf-8")
     assert 'id="study"' in html and "Variants side by side" in html

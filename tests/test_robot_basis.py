@@ -33,8 +33,14 @@ def arm4(base="fixed", mixed_mounts=False) -> Robot:
 
 def random_poses(robot, n, seed):
     rng = np.random.default_rng(seed)
-    return [robot.configuration(rng.uniform(-1.5, 1.5, len(robot.joint_names)),
-                                rng.uniform(-1, 1, 3), rng.uniform(-1, 1, 3)) for _ in range(n)]
+    return [
+        robot.configuration(
+            rng.uniform(-1.5, 1.5, len(robot.joint_names)),
+            rng.uniform(-1, 1, 3),
+            rng.uniform(-1, 1, 3),
+        )
+        for _ in range(n)
+    ]
 
 
 # --------------------------------------------------------------------------- against Pinocchio
@@ -160,8 +166,9 @@ def with_rotor_bodies(robot, ir, ratio):
 
     def visit(j):
         if j:
-            new[j] = model.addJoint(new[src.parents[j]], src.joints[j], src.jointPlacements[j],
-                                    src.names[j])
+            new[j] = model.addJoint(
+                new[src.parents[j]], src.joints[j], src.jointPlacements[j], src.names[j]
+            )
             model.appendBodyToJoint(new[j], src.inertias[j], pin.SE3.Identity())
         for c in range(j + 1, src.njoints):
             if src.parents[c] == j:
@@ -169,8 +176,12 @@ def with_rotor_bodies(robot, ir, ratio):
         for k, mount in enumerate(robot.mounts):
             if mount.body_joint == j:
                 axis = rotor_axis_in_stator(robot, mount)
-                rid = model.addJoint(new[j], pin.JointModelRevoluteUnaligned(axis),
-                                     pin.SE3(np.eye(3), mount.point), f"rotor_{k}")
+                rid = model.addJoint(
+                    new[j],
+                    pin.JointModelRevoluteUnaligned(axis),
+                    pin.SE3(np.eye(3), mount.point),
+                    f"rotor_{k}",
+                )
                 inertia = pin.Inertia(0.0, np.zeros(3), ir[k] * np.outer(axis, axis))
                 model.appendBodyToJoint(rid, inertia, pin.SE3.Identity())
                 rotors.append((k, rid))
@@ -269,8 +280,9 @@ def test_mass_matrix_invariants(seed, scale, n):
     Hc = mass_matrix(b, m1, n**2 * ir, rotor_inertia=ir, ratio=ratio, coupling=True)
     added = np.linalg.eigvalsh(Hc - mass_matrix(b, m1, 0 * r))
     assert np.all(added > -1e-10 * max(1.0, n**2))
-    np.testing.assert_allclose(gravity(b, m1 + m2) + gravity(b, 0 * m1),
-                               gravity(b, m1) + gravity(b, m2), atol=1e-11)
+    np.testing.assert_allclose(
+        gravity(b, m1 + m2) + gravity(b, 0 * m1), gravity(b, m1) + gravity(b, m2), atol=1e-11
+    )
 
 
 _ROBOT = arm4("floating", mixed_mounts=True)
@@ -308,12 +320,26 @@ def test_prismatic_screw_joint_basis_and_coupling():
             "base": "floating",
             "links": [
                 {"name": "frame", "mass": 3.0, "shape": "box", "size": [0.4, 0.1, 0.1]},
-                {"name": "carriage", "mass": 0.8, "com": [0.02, 0, 0], "shape": "box",
-                 "size": [0.08, 0.06, 0.04]},
+                {
+                    "name": "carriage",
+                    "mass": 0.8,
+                    "com": [0.02, 0, 0],
+                    "shape": "box",
+                    "size": [0.08, 0.06, 0.04],
+                },
             ],
-            "joints": [{"name": "slide", "type": "prismatic", "parent": "frame",
-                        "child": "carriage", "xyz": [0.1, 0.0, 0.05], "rpy": [0.2, 0, 0.4],
-                        "axis": [1, 1, 0], "mount": "child"}],
+            "joints": [
+                {
+                    "name": "slide",
+                    "type": "prismatic",
+                    "parent": "frame",
+                    "child": "carriage",
+                    "xyz": [0.1, 0.0, 0.05],
+                    "rpy": [0.2, 0, 0.4],
+                    "axis": [1, 1, 0],
+                    "mount": "child",
+                }
+            ],
         },
         file="slider.toml",
     )
@@ -324,8 +350,9 @@ def test_prismatic_screw_joint_basis_and_coupling():
     for q in random_poses(robot, 3, seed=14):
         b = pose_basis(robot, q)
         model = robot.with_actuator_masses([0.6])
-        np.testing.assert_allclose(mass_matrix(b, [0.6], [0.0]), full_mass_matrix(model, q),
-                                   atol=1e-12)
+        np.testing.assert_allclose(
+            mass_matrix(b, [0.6], [0.0]), full_mass_matrix(model, q), atol=1e-12
+        )
         Hc = mass_matrix(b, [0.0], ratio**2 * ir, rotor_inertia=ir, ratio=ratio, coupling=True)
         v = rng.normal(size=robot.nv)
         data = robot.model.createData()

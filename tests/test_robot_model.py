@@ -42,16 +42,35 @@ def planar_elbow(m1, m2, l1, lc1, lc2, I1, I2) -> Robot:
             "links": [
                 {"name": "ground", "mass": 1.0, "shape": "point"},
                 # thin plates in the x-y plane: Izz = Ixx + Iyy (perpendicular-axis theorem)
-                {"name": "link1", "mass": m1, "com": [lc1, 0, 0],
-                 "inertia": [0.2 * I1, 0.8 * I1, I1]},
-                {"name": "link2", "mass": m2, "com": [lc2, 0, 0],
-                 "inertia": [0.3 * I2, 0.7 * I2, I2]},
+                {
+                    "name": "link1",
+                    "mass": m1,
+                    "com": [lc1, 0, 0],
+                    "inertia": [0.2 * I1, 0.8 * I1, I1],
+                },
+                {
+                    "name": "link2",
+                    "mass": m2,
+                    "com": [lc2, 0, 0],
+                    "inertia": [0.3 * I2, 0.7 * I2, I2],
+                },
             ],
             "joints": [
-                {"name": "q1", "type": "revolute", "parent": "ground", "child": "link1",
-                 "axis": [0, 0, 1]},
-                {"name": "q2", "type": "revolute", "parent": "link1", "child": "link2",
-                 "xyz": [l1, 0, 0], "axis": [0, 0, 1]},
+                {
+                    "name": "q1",
+                    "type": "revolute",
+                    "parent": "ground",
+                    "child": "link1",
+                    "axis": [0, 0, 1],
+                },
+                {
+                    "name": "q2",
+                    "type": "revolute",
+                    "parent": "link1",
+                    "child": "link2",
+                    "xyz": [l1, 0, 0],
+                    "axis": [0, 0, 1],
+                },
             ],
         },
         file="elbow.toml",
@@ -108,8 +127,15 @@ def test_shape_shorthands_give_textbook_moments():
                 {"name": "rod", "mass": 3.0, "shape": "rod", "length": "40 cm", "along": "y"},
                 {"name": "box", "mass": 2.0, "shape": "box", "size": [0.1, 0.2, 0.3]},
             ],
-            "joints": [{"name": "j", "type": "revolute", "parent": "rod", "child": "box",
-                        "axis": [1, 0, 0]}],
+            "joints": [
+                {
+                    "name": "j",
+                    "type": "revolute",
+                    "parent": "rod",
+                    "child": "box",
+                    "axis": [1, 0, 0],
+                }
+            ],
         },
         file="shapes.toml",
     )
@@ -136,8 +162,9 @@ def test_urdf_and_table_give_the_same_dynamics(floating):
     rng = np.random.default_rng(7)
     for _ in range(5):
         q = a.configuration(rng.uniform(-1, 1, 4), rng.uniform(-1, 1, 3), rng.uniform(-1, 1, 3))
-        np.testing.assert_allclose(full_mass_matrix(a.model, q), full_mass_matrix(b.model, q),
-                                   atol=1e-12)
+        np.testing.assert_allclose(
+            full_mass_matrix(a.model, q), full_mass_matrix(b.model, q), atol=1e-12
+        )
         ga = pin.computeGeneralizedGravity(a.model, a.model.createData(), q)
         gb = pin.computeGeneralizedGravity(b.model, b.model.createData(), q)
         np.testing.assert_allclose(ga, gb, atol=1e-12)
@@ -150,8 +177,14 @@ def test_urdf_and_table_give_the_same_dynamics(floating):
 def test_joint_axis_and_floating_base_pose_follow_the_rpy_convention():
     # URDF convention R = Rz(yaw)·Ry(pitch)·Rx(roll) [pub: URDF joint/origin specification]
     def rot(r, p, y):
-        cr, sr, cp, sp, cy, sy = (math.cos(r), math.sin(r), math.cos(p), math.sin(p),
-                                  math.cos(y), math.sin(y))
+        cr, sr, cp, sp, cy, sy = (
+            math.cos(r),
+            math.sin(r),
+            math.cos(p),
+            math.sin(p),
+            math.cos(y),
+            math.sin(y),
+        )
         rz = np.array([[cy, -sy, 0], [sy, cy, 0], [0, 0, 1]])
         ry = np.array([[cp, 0, sp], [0, 1, 0], [-sp, 0, cp]])
         rx = np.array([[1, 0, 0], [0, cr, -sr], [0, sr, cr]])
@@ -237,8 +270,9 @@ def test_robot_pickles_for_worker_processes():
     robot = Robot.from_links(arm4_table(), file="arm4.toml")
     again = pickle.loads(pickle.dumps(robot))
     q = robot.configuration([0.1, 0.2, 0.3, 0.4])
-    np.testing.assert_array_equal(full_mass_matrix(again.model, q),
-                                  full_mass_matrix(robot.model, q))
+    np.testing.assert_array_equal(
+        full_mass_matrix(again.model, q), full_mass_matrix(robot.model, q)
+    )
     assert again.actuated == robot.actuated
 
 
@@ -250,6 +284,7 @@ def _set(path, value):
         for key in head:
             node = node[key]
         node[last] = value
+
     return edit
 
 
@@ -277,11 +312,17 @@ BAD_TABLES = [
     (_set(["links", 1, "mass"], 0), "robot.links[1].mass", "> 0"),
     (_set(["links", 1, "mass"], "-2 kg"), "robot.links[1].mass", "> 0"),
     (_set(["links", 1, "mass"], "2 m"), "robot.links[1].mass", "kg"),
-    (_set(["links", 1, "inertia"], [[0.01, 0.02, 0], [0.02, 0.01, 0], [0, 0, 0.01]]),
-     "robot.links[1].inertia", "semidefinite"),
+    (
+        _set(["links", 1, "inertia"], [[0.01, 0.02, 0], [0.02, 0.01, 0], [0, 0, 0.01]]),
+        "robot.links[1].inertia",
+        "semidefinite",
+    ),
     (_set(["links", 1, "inertia"], [0.001, 0.001, 0.01]), "robot.links[1].inertia", "triangle"),
-    (_set(["links", 1, "inertia"], [[0.01, 0.001, 0], [0, 0.01, 0], [0, 0, 0.01]]),
-     "robot.links[1].inertia", "symmetric"),
+    (
+        _set(["links", 1, "inertia"], [[0.01, 0.001, 0], [0, 0.01, 0], [0, 0, 0.01]]),
+        "robot.links[1].inertia",
+        "symmetric",
+    ),
     (_set(["links", 1, "shape"], "rod"), "robot.links[1].inertia", "exactly one"),
     (_set(["links", 0, "colour"], "red"), "robot.links[0].colour", "unknown field"),
     (_set(["basis"], "fixed"), "robot.basis", "unknown field"),
@@ -303,8 +344,9 @@ BAD_TABLES = [
 ]
 
 
-@pytest.mark.parametrize("edit, field, words", BAD_TABLES,
-                         ids=[f"{f}:{w}" for _, f, w in BAD_TABLES])
+@pytest.mark.parametrize(
+    "edit, field, words", BAD_TABLES, ids=[f"{f}:{w}" for _, f, w in BAD_TABLES]
+)
 def test_bad_robot_tables_raise_one_input_error(edit, field, words):
     table = copy.deepcopy(arm4_table())
     edit(table)
@@ -329,11 +371,16 @@ def test_mount_on_an_unactuated_joint_is_refused():
     [
         ('<robot name="x"><link name="a"></robot>', "urdf line 1"),
         ('<model name="x"><link name="a"/></model>', "urdf"),
-        ('<robot name="x"><link name="a"/><joint name="j" type="revolute"><parent link="a"/>'
-         '<child link="b"/><limit lower="0" upper="1" effort="1" velocity="1"/></joint></robot>',
-         "urdf.joint[j].child"),
-        ('<robot name="x"><link name="a"/><link name="b"/><joint name="j" type="revolute">'
-         '<parent link="a"/><child link="b"/></joint></robot>', "urdf.joint[j].limit"),
+        (
+            '<robot name="x"><link name="a"/><joint name="j" type="revolute"><parent link="a"/>'
+            '<child link="b"/><limit lower="0" upper="1" effort="1" velocity="1"/></joint></robot>',
+            "urdf.joint[j].child",
+        ),
+        (
+            '<robot name="x"><link name="a"/><link name="b"/><joint name="j" type="revolute">'
+            '<parent link="a"/><child link="b"/></joint></robot>',
+            "urdf.joint[j].limit",
+        ),
     ],
 )
 def test_malformed_urdf_names_the_file(tmp_path, text, field):
@@ -350,15 +397,17 @@ def test_urdf_options_are_checked_against_the_model(tmp_path):
         Robot.from_urdf(tmp_path / "missing.urdf", floating=False)
     assert err.value.field == "urdf" and "cannot read" in err.value.rule
     with pytest.raises(InputError) as err:
-        Robot.from_urdf(path, floating=True, mounts={"knee": "child"}, file="p.toml",
-                        prefix="robot")
+        Robot.from_urdf(
+            path, floating=True, mounts={"knee": "child"}, file="p.toml", prefix="robot"
+        )
     assert (err.value.file, err.value.field) == ("p.toml", "robot.mounts.knee")
     with pytest.raises(InputError) as err:
         Robot.from_urdf(path, floating=True, actuated=["root_joint"], file="p.toml")
     assert err.value.field == "actuated[0]" and "not a 1-dof joint" in err.value.rule
     with pytest.raises(InputError) as err:
-        Robot.from_urdf(path, floating=False, mounts={"elbow": {"mount_lnk": "base"}},
-                        file="p.toml")
+        Robot.from_urdf(
+            path, floating=False, mounts={"elbow": {"mount_lnk": "base"}}, file="p.toml"
+        )
     assert err.value.field == "mounts.elbow.mount_lnk"
     robot = Robot.from_urdf(path, floating=False)
     with pytest.raises(InputError) as err:
@@ -394,35 +443,94 @@ def test_branching_tree_from_tables_has_a_valid_mass_matrix():
     links = [{"name": "trunk", "mass": 5.0, "shape": "box", "size": [0.4, 0.2, 0.1]}]
     joints = []
     for leg, y in (("l", 0.1), ("r", -0.1)):
-        links += [{"name": f"{leg}_thigh", "mass": 1.0, "com": [0, 0, -0.1], "inertia": [0.004, 0.004, 0.001]},
-                  {"name": f"{leg}_shin", "mass": 0.5, "com": [0, 0, -0.1], "inertia": [0.002, 0.002, 0.0005]}]
-        joints += [{"name": f"{leg}_hip", "type": "revolute", "parent": "trunk", "child": f"{leg}_thigh",
-                    "xyz": [0, y, 0], "axis": [0, 1, 0]},
-                   {"name": f"{leg}_knee", "type": "revolute", "parent": f"{leg}_thigh", "child": f"{leg}_shin",
-                    "xyz": [0, 0, -0.2], "axis": [0, 1, 0]}]
+        links += [
+            {
+                "name": f"{leg}_thigh",
+                "mass": 1.0,
+                "com": [0, 0, -0.1],
+                "inertia": [0.004, 0.004, 0.001],
+            },
+            {
+                "name": f"{leg}_shin",
+                "mass": 0.5,
+                "com": [0, 0, -0.1],
+                "inertia": [0.002, 0.002, 0.0005],
+            },
+        ]
+        joints += [
+            {
+                "name": f"{leg}_hip",
+                "type": "revolute",
+                "parent": "trunk",
+                "child": f"{leg}_thigh",
+                "xyz": [0, y, 0],
+                "axis": [0, 1, 0],
+            },
+            {
+                "name": f"{leg}_knee",
+                "type": "revolute",
+                "parent": f"{leg}_thigh",
+                "child": f"{leg}_shin",
+                "xyz": [0, 0, -0.2],
+                "axis": [0, 1, 0],
+            },
+        ]
     # list the joints breadth first, as a user may write them
     joints = [joints[0], joints[2], joints[1], joints[3]]
-    robot = Robot.from_links({"base": "floating", "links": links, "joints": joints}, file="two_legs.toml")
+    robot = Robot.from_links(
+        {"base": "floating", "links": links, "joints": joints}, file="two_legs.toml"
+    )
     q = robot.configuration({"l_hip": 0.3, "l_knee": -0.6, "r_hip": -0.2, "r_knee": 0.5})
     M = full_mass_matrix(robot.model, q)
     assert np.linalg.eigvalsh(M).min() > 0
     # reference: the same bodies, each leg's joints added one after the other
     ref = pin.Model()
     trunk = ref.addJoint(0, pin.JointModelFreeFlyer(), pin.SE3.Identity(), "root_joint")
-    ref.appendBodyToJoint(trunk, pin.Inertia(5.0, np.zeros(3), np.diag([5.0 * (0.2**2 + 0.1**2) / 12,
-                                                                        5.0 * (0.4**2 + 0.1**2) / 12,
-                                                                        5.0 * (0.4**2 + 0.2**2) / 12])), pin.SE3.Identity())
+    ref.appendBodyToJoint(
+        trunk,
+        pin.Inertia(
+            5.0,
+            np.zeros(3),
+            np.diag(
+                [
+                    5.0 * (0.2**2 + 0.1**2) / 12,
+                    5.0 * (0.4**2 + 0.1**2) / 12,
+                    5.0 * (0.4**2 + 0.2**2) / 12,
+                ]
+            ),
+        ),
+        pin.SE3.Identity(),
+    )
     for leg, y in (("l", 0.1), ("r", -0.1)):
-        hip = ref.addJoint(trunk, pin.JointModelRY(), pin.SE3(np.eye(3), np.array([0, y, 0])), f"{leg}_hip")
-        ref.appendBodyToJoint(hip, pin.Inertia(1.0, np.array([0, 0, -0.1]), np.diag([0.004, 0.004, 0.001])), pin.SE3.Identity())
-        knee = ref.addJoint(hip, pin.JointModelRY(), pin.SE3(np.eye(3), np.array([0, 0, -0.2])), f"{leg}_knee")
-        ref.appendBodyToJoint(knee, pin.Inertia(0.5, np.array([0, 0, -0.1]), np.diag([0.002, 0.002, 0.0005])), pin.SE3.Identity())
+        hip = ref.addJoint(
+            trunk, pin.JointModelRY(), pin.SE3(np.eye(3), np.array([0, y, 0])), f"{leg}_hip"
+        )
+        ref.appendBodyToJoint(
+            hip,
+            pin.Inertia(1.0, np.array([0, 0, -0.1]), np.diag([0.004, 0.004, 0.001])),
+            pin.SE3.Identity(),
+        )
+        knee = ref.addJoint(
+            hip, pin.JointModelRY(), pin.SE3(np.eye(3), np.array([0, 0, -0.2])), f"{leg}_knee"
+        )
+        ref.appendBodyToJoint(
+            knee,
+            pin.Inertia(0.5, np.array([0, 0, -0.1]), np.diag([0.002, 0.002, 0.0005])),
+            pin.SE3.Identity(),
+        )
     q_ref = pin.neutral(ref)
     for name, v in {"l_hip": 0.3, "l_knee": -0.6, "r_hip": -0.2, "r_knee": 0.5}.items():
         q_ref[ref.joints[ref.getJointId(name)].idx_q] = v
     M_ref = full_mass_matrix(ref, q_ref)
-    order = [robot.model.joints[robot.model.getJointId(n)].idx_v for n in ("l_hip", "l_knee", "r_hip", "r_knee")]
-    order_ref = [ref.joints[ref.getJointId(n)].idx_v for n in ("l_hip", "l_knee", "r_hip", "r_knee")]
+    order = [
+        robot.model.joints[robot.model.getJointId(n)].idx_v
+        for n in ("l_hip", "l_knee", "r_hip", "r_knee")
+    ]
+    order_ref = [
+        ref.joints[ref.getJointId(n)].idx_v for n in ("l_hip", "l_knee", "r_hip", "r_knee")
+    ]
     idx = list(range(6)) + order
     idx_ref = list(range(6)) + order_ref
-    np.testing.assert_allclose(M[np.ix_(idx, idx)], M_ref[np.ix_(idx_ref, idx_ref)], rtol=0, atol=1e-12)
+    np.testing.assert_allclose(
+        M[np.ix_(idx, idx)], M_ref[np.ix_(idx_ref, idx_ref)], rtol=0, atol=1e-12
+    )

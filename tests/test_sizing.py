@@ -21,20 +21,28 @@ from test_solve_search import build_table, example, set_limits, small_catalog
 def small():
     leg = example("leg")
     rng = np.random.default_rng(4)
-    p = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng, motors=3), max_stages=1,
-                            stage_kinds=None, objective={})
+    p = dataclasses.replace(
+        leg,
+        catalog=small_catalog(leg.catalog, rng, motors=3),
+        max_stages=1,
+        stage_kinds=None,
+        objective={},
+    )
     return set_limits(p, rng, build_table(p), keep_duty=False)
 
 
-@pytest.mark.parametrize("kwargs, field", [
-    ({"objective": "speed"}, "objective"),
-    ({"backend": "magic"}, "backend"),
-    ({"time_limit": -1}, "time_limit"),
-    ({"pins": {"elbow": {"motor": "x"}}}, "pins.elbow"),
-    ({"pins": {"knee": {"motor": "no-such-motor"}}}, "pins.knee.motor"),
-    ({"shared": [["knee"]]}, "shared[0]"),
-    ({"shared": [["knee", "hip_fe"], ["knee", "hip_ab"]]}, "shared[1]"),
-])
+@pytest.mark.parametrize(
+    "kwargs, field",
+    [
+        ({"objective": "speed"}, "objective"),
+        ({"backend": "magic"}, "backend"),
+        ({"time_limit": -1}, "time_limit"),
+        ({"pins": {"elbow": {"motor": "x"}}}, "pins.elbow"),
+        ({"pins": {"knee": {"motor": "no-such-motor"}}}, "pins.knee.motor"),
+        ({"shared": [["knee"]]}, "shared[0]"),
+        ({"shared": [["knee", "hip_fe"], ["knee", "hip_ab"]]}, "shared[1]"),
+    ],
+)
 def test_bad_arguments_name_the_field(small, kwargs, field):
     with pytest.raises(InputError) as e:
         size(small, explain=False, **kwargs)
@@ -66,8 +74,13 @@ def test_result_is_reevaluated_and_explained(small):
 
 def test_infeasible_requirement_is_diagnosed(small):
     case = next(c for c in small.cases if c.kind == "payload")
-    p = dataclasses.replace(small, cases=tuple(
-        dataclasses.replace(c, limits={"payload_min": 1e6}) if c.name == case.name else c for c in small.cases))
+    p = dataclasses.replace(
+        small,
+        cases=tuple(
+            dataclasses.replace(c, limits={"payload_min": 1e6}) if c.name == case.name else c
+            for c in small.cases
+        ),
+    )
     r = size(p)
     assert r.status == "infeasible" and r.design is None
     row = next(d for d in r.diagnosis if d.requirement.startswith(case.name))
@@ -83,7 +96,7 @@ def test_cli_size_writes_a_design_that_assess_reads(tmp_path):
     out = tmp_path / "best.toml"
     r = runner.invoke(main, ["size", str(project), "--out", str(out), "--json"])
     assert r.exit_code == 0, r.output
-    data = json.loads(r.output[r.output.index("{"):])
+    data = json.loads(r.output[r.output.index("{") :])
     assert data["status"] == "optimal" and data["gap"] == 0.0
     from jointwright.project import load_project
 
@@ -93,7 +106,11 @@ def test_cli_size_writes_a_design_that_assess_reads(tmp_path):
     r2 = runner.invoke(main, ["assess", str(project), "--design", str(out), "--json"])
     assert r2.exit_code == 0 and json.loads(r2.output)["feasible"] is True
     # the objective is the payload mass (kg) every payload case carries, as assess reports it
-    carried = [c["metrics"]["payload_carried"] for c in json.loads(r2.output)["cases"] if c["kind"] == "payload"]
+    carried = [
+        c["metrics"]["payload_carried"]
+        for c in json.loads(r2.output)["cases"]
+        if c["kind"] == "payload"
+    ]
     assert math.isclose(min(carried), data["objective"], rel_tol=1e-9)
 
 
@@ -162,7 +179,7 @@ def test_cli_no_explain_skips_the_runner_ups(tmp_path):
     runner.invoke(main, ["new", str(tmp_path / "leg")])
     project = str(tmp_path / "leg" / "project.toml")
     r = runner.invoke(main, ["size", project, "--no-explain", "--json"])
-    data = json.loads(r.output[r.output.index("{"):])
+    data = json.loads(r.output[r.output.index("{") :])
     assert data["alternatives"] == [] and data["diagnosis"] == []
 
 
@@ -176,17 +193,26 @@ def test_bundled_leg_maximizes_the_payload_mass_every_case_carries():
     r = size(leg, explain=False)
     assert r.status == "optimal" and r.assessment.feasible
     metrics = {c.name: c.metrics for c in r.assessment.cases}
-    carried = {c.name: float(carried_payload(c, metrics[c.name]["payload"]))
-               for c in leg.cases if c.kind == "payload"}
+    carried = {
+        c.name: float(carried_payload(c, metrics[c.name]["payload"]))
+        for c in leg.cases
+        if c.kind == "payload"
+    }
     assert r.objective == pytest.approx(min(carried.values()), rel=1e-9)
     assert min(carried, key=carried.get) != "side-step"
     for c in leg.cases:
         if c.kind == "payload":
-            expected = (metrics[c.name]["payload"] - c.fixed_load) / (c.payload_share * STANDARD_GRAVITY)
+            expected = (metrics[c.name]["payload"] - c.fixed_load) / (
+                c.payload_share * STANDARD_GRAVITY
+            )
             assert metrics[c.name]["payload_carried"] == pytest.approx(expected, rel=1e-12)
     # the issue the objective answers: with the side-step no longer deciding, the vertical cases
     # get far more than the 200 N the raw minimum gave them
-    raw_min = min(metrics[c.name]["payload"] for c in leg.cases if c.kind == "payload" and c.name != "side-step")
+    raw_min = min(
+        metrics[c.name]["payload"]
+        for c in leg.cases
+        if c.kind == "payload" and c.name != "side-step"
+    )
     assert raw_min > 300.0
 
 

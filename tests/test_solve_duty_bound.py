@@ -28,10 +28,16 @@ from test_solve_search import example, small_catalog
 def setup():
     leg = example("leg")
     rng = np.random.default_rng(0)
-    p = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng, motors=4, kinds=3, ratios=3),
-                            max_stages=1, objective={})
-    cases = tuple(dataclasses.replace(c, limits={"rating_use_max": 1.0}) if c.kind == "duty" else c
-                  for c in p.cases)
+    p = dataclasses.replace(
+        leg,
+        catalog=small_catalog(leg.catalog, rng, motors=4, kinds=3, ratios=3),
+        max_stages=1,
+        objective={},
+    )
+    cases = tuple(
+        dataclasses.replace(c, limits={"rating_use_max": 1.0}) if c.kind == "duty" else c
+        for c in p.cases
+    )
     p = dataclasses.replace(p, cases=cases)
     table = build_table(p)
     model = SizingModel(p, table, [np.arange(len(table))] * 3)
@@ -44,7 +50,9 @@ def uses(model, pd, idx):
     return np.nanmax(np.stack([ev["rms_ratio"], ev["peak_ratio"], ev["speed_ratio"]]), axis=0)
 
 
-@settings(max_examples=15, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@settings(
+    max_examples=15, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
 @given(seed=st.integers(0, 2**31 - 1))
 def test_bound_below_rating_use(setup, seed):
     _p, table, model = setup
@@ -76,8 +84,23 @@ def test_closed_form_motor_torque_matches_the_metric(setup):
     o = rng.integers(0, len(table), 10)
     tau = rng.normal(0, 5, (10, pd.qd.shape[1]))
     j = 1
-    ref, _mode = motor_torque(tau, pd.qd[j], pd.qdd[j], r["ratio"][o], r["eta_forward"][o], r["eta_backward"][o],
-                              r["rotor_inertia"][o], standstill=STANDSTILL * np.max(np.abs(pd.qd[j])))
-    got = motor_torque_linear(tau, pd.qd[j], pd.qdd[j], r["ratio"][o][:, None], r["eta_forward"][o][:, None],
-                              r["eta_backward"][o][:, None], r["rotor_inertia"][o][:, None])
+    ref, _mode = motor_torque(
+        tau,
+        pd.qd[j],
+        pd.qdd[j],
+        r["ratio"][o],
+        r["eta_forward"][o],
+        r["eta_backward"][o],
+        r["rotor_inertia"][o],
+        standstill=STANDSTILL * np.max(np.abs(pd.qd[j])),
+    )
+    got = motor_torque_linear(
+        tau,
+        pd.qd[j],
+        pd.qdd[j],
+        r["ratio"][o][:, None],
+        r["eta_forward"][o][:, None],
+        r["eta_backward"][o][:, None],
+        r["rotor_inertia"][o][:, None],
+    )
     np.testing.assert_allclose(got, ref, rtol=1e-12, atol=1e-12)

@@ -22,8 +22,9 @@ def leg():
 
 def instance(leg, seed):
     rng = np.random.default_rng(seed)
-    project = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng), max_stages=1,
-                                  stage_kinds=None, objective={})
+    project = dataclasses.replace(
+        leg, catalog=small_catalog(leg.catalog, rng), max_stages=1, stage_kinds=None, objective={}
+    )
     return set_limits(project, rng, build_table(project), keep_duty=bool(seed % 2))
 
 
@@ -55,11 +56,28 @@ def test_pyomo_on_a_planar_arm_with_effective_mass_cuts(leg):
 
     robot = planar_arm(rng)
     pose = {"j0": 0.3, "j1": -0.6, "j2": 0.4}
-    cases = (Case("lift", "payload", "tip", pose, direction=(0.0, 0.0, 1.0), limits={}),
-             Case("bump", "impact", "tip", pose, direction=(1.0, 0.0, 0.0), limits={"effective_mass_max": 1.0}))
+    cases = (
+        Case("lift", "payload", "tip", pose, direction=(0.0, 0.0, 1.0), limits={}),
+        Case(
+            "bump",
+            "impact",
+            "tip",
+            pose,
+            direction=(1.0, 0.0, 0.0),
+            limits={"effective_mass_max": 1.0},
+        ),
+    )
     arm = example("arm")
-    project = dataclasses.replace(arm, robot=robot, cases=cases, catalog=small_catalog(arm.catalog, rng),
-                                  max_stages=1, stage_kinds=None, objective={}, requirements=Requirements())
+    project = dataclasses.replace(
+        arm,
+        robot=robot,
+        cases=cases,
+        catalog=small_catalog(arm.catalog, rng),
+        max_stages=1,
+        stage_kinds=None,
+        objective={},
+        requirements=Requirements(),
+    )
     project = set_limits(project, rng, build_table(project))
     ref, _ = oracle(project, "payload")
     res = size(project, backend="pyomo", explain=False)

@@ -51,7 +51,11 @@ def small_catalog(catalog, rng, motors=2, kinds=2, ratios=2):
     for i in sorted(rng.choice(len(catalog.stages), kinds, replace=False)):
         s = catalog.stages[i]
         fr = (s.frames[int(rng.integers(len(s.frames)))],)
-        rs = tuple(sorted(float(r) for r in rng.choice(s.ratios, min(ratios, len(s.ratios)), replace=False)))
+        rs = tuple(
+            sorted(
+                float(r) for r in rng.choice(s.ratios, min(ratios, len(s.ratios)), replace=False)
+            )
+        )
         stages.append(dataclasses.replace(s, frames=fr, ratios=rs))
     return Catalog(motors=tuple(ms), stages=tuple(stages))
 
@@ -76,9 +80,15 @@ def set_limits(project, rng, table, keep_duty=True):
     model = SizingModel(project, table, [np.arange(len(table))] * n)
     sample = rng.integers(0, len(table), (8, n))
     ev = model.evaluator.evaluate(table.arrays(sample), detail=False)
-    key = {"payload_min": "payload", "imf_min": "imf", "effective_mass_max": "effective_mass",
-           "directional_imf_min": "imf_direction",
-           "backdrive_force_max": "backdrive_force", "speed_min": "speed", "rating_use_max": "rating_use"}
+    key = {
+        "payload_min": "payload",
+        "imf_min": "imf",
+        "effective_mass_max": "effective_mass",
+        "directional_imf_min": "imf_direction",
+        "backdrive_force_max": "backdrive_force",
+        "speed_min": "speed",
+        "rating_use_max": "rating_use",
+    }
     cases = []
     for c in project.cases:
         if c.kind == "duty" and not keep_duty:
@@ -92,7 +102,9 @@ def set_limits(project, rng, table, keep_duty=True):
         cases.append(dataclasses.replace(c, limits=limits))
     masses = table.rows["mass"][sample].sum(axis=1)
     total = float(rng.choice(masses) * rng.uniform(0.9, 1.3)) if rng.random() < 0.6 else math.inf
-    return dataclasses.replace(project, cases=tuple(cases), requirements=Requirements(total_mass_max=total))
+    return dataclasses.replace(
+        project, cases=tuple(cases), requirements=Requirements(total_mass_max=total)
+    )
 
 
 def agree(project, kind, pins=None, shared=None):
@@ -112,22 +124,32 @@ def agree(project, kind, pins=None, shared=None):
     return res
 
 
-@settings(max_examples=10, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@settings(
+    max_examples=10, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
 @given(seed=st.integers(0, 2**31 - 1), kind=st.sampled_from(["payload", "mass", "imf"]))
 def test_leg_instances_match_enumeration(leg, seed, kind):
     rng = np.random.default_rng(seed)
-    project = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng), max_stages=1,
-                                  stage_kinds=None, objective={})
+    project = dataclasses.replace(
+        leg, catalog=small_catalog(leg.catalog, rng), max_stages=1, stage_kinds=None, objective={}
+    )
     project = set_limits(project, rng, build_table(project), keep_duty=rng.random() < 0.5)
     agree(project, kind)
 
 
-@settings(max_examples=6, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@settings(
+    max_examples=6, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
 @given(seed=st.integers(0, 2**31 - 1))
 def test_two_stage_stacks_match_enumeration(leg, seed):
     rng = np.random.default_rng(seed)
-    project = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng, kinds=1), max_stages=2,
-                                  stage_kinds=None, objective={})
+    project = dataclasses.replace(
+        leg,
+        catalog=small_catalog(leg.catalog, rng, kinds=1),
+        max_stages=2,
+        stage_kinds=None,
+        objective={},
+    )
     project = set_limits(project, rng, build_table(project), keep_duty=False)
     agree(project, "payload")
 
@@ -135,23 +157,51 @@ def test_two_stage_stacks_match_enumeration(leg, seed):
 def planar_arm(rng):
     """A random 3-link planar arm (fixed base, joints about y, gravity −z) with a tip frame."""
     lengths = rng.uniform(0.15, 0.4, 3)
-    links = [{"name": "base", "mass": 2.0, "com": [0, 0, 0], "inertia": [[0.01, 0, 0], [0, 0.01, 0], [0, 0, 0.01]]}]
+    links = [
+        {
+            "name": "base",
+            "mass": 2.0,
+            "com": [0, 0, 0],
+            "inertia": [[0.01, 0, 0], [0, 0.01, 0], [0, 0, 0.01]],
+        }
+    ]
     joints = []
     parent = "base"
     for i, L in enumerate(lengths):
         m = float(rng.uniform(0.3, 1.5))
-        links.append({"name": f"l{i}", "mass": m, "com": [float(L / 2), 0, 0],
-                      "inertia": [[1e-3, 0, 0], [0, m * L * L / 12, 0], [0, 0, m * L * L / 12]]})
+        links.append(
+            {
+                "name": f"l{i}",
+                "mass": m,
+                "com": [float(L / 2), 0, 0],
+                "inertia": [[1e-3, 0, 0], [0, m * L * L / 12, 0], [0, 0, m * L * L / 12]],
+            }
+        )
         xyz = [0, 0, 0] if i == 0 else [float(lengths[i - 1]), 0, 0]
-        joints.append({"name": f"j{i}", "type": "revolute", "parent": parent, "child": f"l{i}",
-                       "xyz": xyz, "axis": [0, 1, 0]})
+        joints.append(
+            {
+                "name": f"j{i}",
+                "type": "revolute",
+                "parent": parent,
+                "child": f"l{i}",
+                "xyz": xyz,
+                "axis": [0, 1, 0],
+            }
+        )
         parent = f"l{i}"
-    table = {"base": "fixed", "gravity": [0, 0, -9.81], "links": links, "joints": joints,
-             "frames": [{"name": "tip", "link": "l2", "xyz": [float(lengths[2]), 0, 0]}]}
+    table = {
+        "base": "fixed",
+        "gravity": [0, 0, -9.81],
+        "links": links,
+        "joints": joints,
+        "frames": [{"name": "tip", "link": "l2", "xyz": [float(lengths[2]), 0, 0]}],
+    }
     return Robot.from_links(table, file="random-arm.toml")
 
 
-@settings(max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@settings(
+    max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
 @given(seed=st.integers(0, 2**31 - 1), kind=st.sampled_from(["payload", "mass"]))
 def test_random_planar_arms_match_enumeration(arm, seed, kind):
     rng = np.random.default_rng(seed)
@@ -160,28 +210,59 @@ def test_random_planar_arms_match_enumeration(arm, seed, kind):
     up = (0.0, 0.0, 1.0)
     side = (float(np.cos(rng.uniform(0, np.pi))), 0.0, float(np.sin(rng.uniform(0, np.pi))))
     cases = (
-        Case("lift", "payload", "tip", pose, direction=up, motion="along", limits={"payload_min": 1.0}),
-        Case("press", "payload", "tip", pose, direction=side, motion="against", limits={"payload_min": 1.0}),
+        Case(
+            "lift",
+            "payload",
+            "tip",
+            pose,
+            direction=up,
+            motion="along",
+            limits={"payload_min": 1.0},
+        ),
+        Case(
+            "press",
+            "payload",
+            "tip",
+            pose,
+            direction=side,
+            motion="against",
+            limits={"payload_min": 1.0},
+        ),
         Case("bump", "impact", "tip", pose, direction=side, limits={"effective_mass_max": 1.0}),
         Case("push", "backdrive", "tip", pose, direction=side, limits={"backdrive_force_max": 1.0}),
         Case("move", "speed", "tip", pose, direction=side, limits={"speed_min": 0.1}),
     )
-    project = dataclasses.replace(arm, robot=robot, cases=cases, catalog=small_catalog(arm.catalog, rng),
-                                  max_stages=1, stage_kinds=None, objective={},
-                                  requirements=Requirements())
+    project = dataclasses.replace(
+        arm,
+        robot=robot,
+        cases=cases,
+        catalog=small_catalog(arm.catalog, rng),
+        max_stages=1,
+        stage_kinds=None,
+        objective={},
+        requirements=Requirements(),
+    )
     project = set_limits(project, rng, build_table(project))
     agree(project, kind)
 
 
 def test_arm_with_pins_and_shared_joints_matches_enumeration(arm):
     rng = np.random.default_rng(7)
-    project = dataclasses.replace(arm, catalog=small_catalog(arm.catalog, rng, motors=2, kinds=2, ratios=2),
-                                  max_stages=1, stage_kinds=None, objective={})
+    project = dataclasses.replace(
+        arm,
+        catalog=small_catalog(arm.catalog, rng, motors=2, kinds=2, ratios=2),
+        max_stages=1,
+        stage_kinds=None,
+        objective={},
+    )
     table = build_table(project)
     project = set_limits(project, rng, table, keep_duty=True)
     a = table.actuators[3]
-    pins = {"shoulder_yaw": {"motor": a.motor.name}, "wrist_yaw": {"motor": a.motor.name},
-            "wrist_flex": {"motor": table.actuators[0].motor.name, "stages": []}}
+    pins = {
+        "shoulder_yaw": {"motor": a.motor.name},
+        "wrist_yaw": {"motor": a.motor.name},
+        "wrist_flex": {"motor": table.actuators[0].motor.name, "stages": []},
+    }
     res = agree(project, "payload", pins=pins, shared=[["wrist_pitch", "elbow"]])
     if res.design is not None:
         d = res.design
@@ -213,7 +294,9 @@ def test_time_limit_reports_a_bound_and_gap(arm):
         assert res.gap >= 0.0
 
 
-@settings(max_examples=6, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@settings(
+    max_examples=6, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
 @given(seed=st.integers(0, 2**31 - 1), kind=st.sampled_from(["payload", "mass", "imf"]))
 def test_first_design_is_feasible_and_never_beats_the_optimum(leg, seed, kind):
     """The primal heuristics' design (solve/heuristic.py) meets every requirement when
@@ -223,8 +306,9 @@ def test_first_design_is_feasible_and_never_beats_the_optimum(leg, seed, kind):
     from jointwright.solve.heuristic import Heuristic
 
     rng = np.random.default_rng(seed)
-    project = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng), max_stages=1,
-                                  stage_kinds=None, objective={})
+    project = dataclasses.replace(
+        leg, catalog=small_catalog(leg.catalog, rng), max_stages=1, stage_kinds=None, objective={}
+    )
     project = set_limits(project, rng, build_table(project), keep_duty=rng.random() < 0.5)
     ref, _ = oracle(project, kind)
     model, _ = build_model(project, kind, {}, [], [])
@@ -238,15 +322,22 @@ def test_first_design_is_feasible_and_never_beats_the_optimum(leg, seed, kind):
     assert assess(project, design_of(project, model, np.array(key[3]), "first")).feasible
 
 
-@settings(max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@settings(
+    max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
 @given(seed=st.integers(0, 2**31 - 1))
 def test_impact_bounds_hold_for_every_completion(leg, seed):
     """The IMF bounds of a partial design (Loewner-order monotonicity, docs/optimizer.md item 8;
     IMF definition: Wensing et al., IEEE T-RO 33(3), 2017 [pub]) are at or above the IMF and the
     directional IMF the evaluator computes for random completions of it."""
     rng = np.random.default_rng(seed)
-    project = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng, motors=3, kinds=2, ratios=3),
-                                  max_stages=1, stage_kinds=None, objective={})
+    project = dataclasses.replace(
+        leg,
+        catalog=small_catalog(leg.catalog, rng, motors=3, kinds=2, ratios=3),
+        max_stages=1,
+        stage_kinds=None,
+        objective={},
+    )
     table = build_table(project)
     n = len(project.robot.actuated)
     model = SizingModel(project, table, [np.arange(len(table))] * n, "imf")
@@ -271,23 +362,39 @@ def test_impact_bounds_hold_for_every_completion(leg, seed):
                 assert np.all(np.asarray(ev[name]["imf_direction"]) <= xd + 1e-12)
 
 
-@settings(max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@settings(
+    max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
 @given(seed=st.integers(0, 2**31 - 1), kind=st.sampled_from(["payload", "imf", "mass"]))
 def test_impact_limits_and_budgets_match_enumeration(leg, seed, kind):
     """imf_min, directional_imf_min and effective_mass_max on the impact case together with a
     total-mass budget: the search (IMF bounds, effective-mass bound, budget level bound) finds
     the enumerated optimum."""
     rng = np.random.default_rng(seed)
-    cases = tuple(dataclasses.replace(c, limits={"imf_min": 1.0, "directional_imf_min": 1.0,
-                                                 "effective_mass_max": 1.0})
-                  if c.kind == "impact" else c for c in leg.cases if c.kind != "duty")
-    project = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng, motors=3, ratios=3),
-                                  max_stages=1, stage_kinds=None, objective={}, cases=cases)
+    cases = tuple(
+        dataclasses.replace(
+            c, limits={"imf_min": 1.0, "directional_imf_min": 1.0, "effective_mass_max": 1.0}
+        )
+        if c.kind == "impact"
+        else c
+        for c in leg.cases
+        if c.kind != "duty"
+    )
+    project = dataclasses.replace(
+        leg,
+        catalog=small_catalog(leg.catalog, rng, motors=3, ratios=3),
+        max_stages=1,
+        stage_kinds=None,
+        objective={},
+        cases=cases,
+    )
     project = set_limits(project, rng, build_table(project), keep_duty=False)
     agree(project, kind)
 
 
-@settings(max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@settings(
+    max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
 @given(seed=st.integers(0, 2**31 - 1))
 def test_payload_mass_objective_matches_enumeration_with_case_transforms(arm, seed):
     # each payload case reads its force as a payload mass through its own increasing transform
@@ -303,14 +410,40 @@ def test_payload_mass_objective_matches_enumeration_with_case_transforms(arm, se
     shares = [float(rng.choice([0.0, 0.25, 1.0, 3.0])), float(rng.choice([0.25, 1.0, 3.0]))]
     fixed = [float(rng.uniform(0, 30)), float(rng.uniform(0, 30))]
     cases = (
-        Case("lift", "payload", "tip", pose, direction=up, motion="along", limits={"payload_min": 1.0},
-             fixed_load=fixed[0], payload_share=shares[0]),
-        Case("press", "payload", "tip", pose, direction=side, motion="against", limits={"payload_min": 1.0},
-             fixed_load=fixed[1], payload_share=shares[1]),
+        Case(
+            "lift",
+            "payload",
+            "tip",
+            pose,
+            direction=up,
+            motion="along",
+            limits={"payload_min": 1.0},
+            fixed_load=fixed[0],
+            payload_share=shares[0],
+        ),
+        Case(
+            "press",
+            "payload",
+            "tip",
+            pose,
+            direction=side,
+            motion="against",
+            limits={"payload_min": 1.0},
+            fixed_load=fixed[1],
+            payload_share=shares[1],
+        ),
         Case("move", "speed", "tip", pose, direction=side, limits={"speed_min": 0.1}),
     )
-    project = dataclasses.replace(arm, robot=robot, cases=cases, catalog=small_catalog(arm.catalog, rng),
-                                  max_stages=1, stage_kinds=None, objective={}, requirements=Requirements())
+    project = dataclasses.replace(
+        arm,
+        robot=robot,
+        cases=cases,
+        catalog=small_catalog(arm.catalog, rng),
+        max_stages=1,
+        stage_kinds=None,
+        objective={},
+        requirements=Requirements(),
+    )
     project = set_limits(project, rng, build_table(project))
     res = agree(project, "payload")
     if res.status == "optimal":
@@ -320,7 +453,9 @@ def test_payload_mass_objective_matches_enumeration_with_case_transforms(arm, se
         assert res.objective == pytest.approx(min(carried), rel=1e-9, abs=1e-9)
 
 
-@settings(max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@settings(
+    max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
 @given(seed=st.integers(0, 2**31 - 1))
 def test_budget_bounds_are_above_the_enumerated_optimum(leg, seed):
     """The payload bounds that see the mass budget (docs/optimizer.md items 4a and 4b) are never
@@ -329,8 +464,14 @@ def test_budget_bounds_are_above_the_enumerated_optimum(leg, seed):
 
     rng = np.random.default_rng(seed)
     cases = tuple(c for c in leg.cases if c.kind != "duty")
-    project = dataclasses.replace(leg, catalog=small_catalog(leg.catalog, rng, motors=3, ratios=3),
-                                  max_stages=1, stage_kinds=None, objective={}, cases=cases)
+    project = dataclasses.replace(
+        leg,
+        catalog=small_catalog(leg.catalog, rng, motors=3, ratios=3),
+        max_stages=1,
+        stage_kinds=None,
+        objective={},
+        cases=cases,
+    )
     project = set_limits(project, rng, build_table(project), keep_duty=False)
     masses = build_table(project).rows["mass"]
     budget = float(rng.uniform(3 * masses.min(), 3 * masses.max()))
@@ -357,9 +498,13 @@ def test_quadruped_with_stance_cases_matches_enumeration(seed, kind):
 
     q = example("quadruped")
     rng = np.random.default_rng(seed)
-    project = dataclasses.replace(q, catalog=small_catalog(q.catalog, rng, motors=2, kinds=1, ratios=2),
-                                  max_stages=1, stage_kinds=None,
-                                  objective={"maximize": kind, "shared": q.objective["shared"]})
+    project = dataclasses.replace(
+        q,
+        catalog=small_catalog(q.catalog, rng, motors=2, kinds=1, ratios=2),
+        max_stages=1,
+        stage_kinds=None,
+        objective={"maximize": kind, "shared": q.objective["shared"]},
+    )
     project = set_limits(project, rng, build_table(project), keep_duty=False)
     table = build_table(project)
     joints = list(project.robot.actuated)

@@ -115,14 +115,22 @@ def test_joint_speed_limit():
     # corner-point motor: max speed / N = 300/50 = 6 rad/s
     assert joint_speed_limit(50.0, peak_torque=2.0, max_speed=300.0) == pytest.approx(6.0)
     # on the torque line [trade]: ω = (V − τ·R/Kt)/Kt = (24 − 1·0.2/0.1)/0.1 = 220 rad/s → /20
-    got = joint_speed_limit(20.0, 1.0, peak_torque=3.0, max_speed=400.0,
-                            torque_constant=0.1, resistance=0.2, bus_voltage=24.0)
+    got = joint_speed_limit(
+        20.0,
+        1.0,
+        peak_torque=3.0,
+        max_speed=400.0,
+        torque_constant=0.1,
+        resistance=0.2,
+        bus_voltage=24.0,
+    )
     assert got == pytest.approx(11.0, rel=1e-12)
 
 
 def test_payload_at_speed_uses_envelope_through_the_transmission_law():
-    elec = dict(peak_torque=5.0, max_speed=260.0, torque_constant=0.1, resistance=0.2,
-                bus_voltage=24.0)
+    elec = dict(
+        peak_torque=5.0, max_speed=260.0, torque_constant=0.1, resistance=0.2, bus_voltage=24.0
+    )
     qd = np.array([0.0, 2.0, -2.0, 10.0])
     cap = payload_at_speed(qd, 20.0, eta_f=0.9, eta_b=0.8, **elec)
     np.testing.assert_allclose(cap.motor_speed, [0.0, 40.0, 40.0, 200.0])
@@ -136,8 +144,15 @@ def test_payload_at_speed_uses_envelope_through_the_transmission_law():
 
 
 def test_payload_at_speed_self_locking_and_gear_cap():
-    cap = payload_at_speed([1.0, 1.0], 40.0, eta_f=0.4, eta_b=[-0.3, 0.2],
-                           gear_rating=[math.inf, 150.0], peak_torque=1.0, max_speed=500.0)
+    cap = payload_at_speed(
+        [1.0, 1.0],
+        40.0,
+        eta_f=0.4,
+        eta_b=[-0.3, 0.2],
+        gear_rating=[math.inf, 150.0],
+        peak_torque=1.0,
+        max_speed=500.0,
+    )
     assert math.isinf(cap.backdriven[0])  # self-locking: holds whatever the motor does
     assert cap.backdriven[1] == pytest.approx(150.0)  # 40·1/0.2 = 200, capped by the gear
     assert cap.forward[1] == pytest.approx(16.0)  # 0.4·40·1
@@ -161,14 +176,23 @@ def accel(n, jl, jm, eta, tl, tm):
 def test_inertia_matching_reference_values(eta, tl, expected):
     got = inertia_matching_ratio(0.04, 1e-4, eta, tl, 1.0)
     assert got == pytest.approx(expected, abs=5e-5)
-    best = minimize_scalar(lambda n: -accel(n, 0.04, 1e-4, eta, tl, 1.0), bounds=(1, 200),
-                           method="bounded", options={"xatol": 1e-8})
+    best = minimize_scalar(
+        lambda n: -accel(n, 0.04, 1e-4, eta, tl, 1.0),
+        bounds=(1, 200),
+        method="bounded",
+        options={"xatol": 1e-8},
+    )
     assert best.x == pytest.approx(float(got), rel=1e-5)
 
 
 @settings(max_examples=50, deadline=None)
-@given(jl=st.floats(1e-3, 1.0), jm=st.floats(1e-6, 1e-3), eta=st.floats(0.3, 1.0),
-       tl=st.floats(0.0, 5.0), tm=st.floats(0.1, 5.0))
+@given(
+    jl=st.floats(1e-3, 1.0),
+    jm=st.floats(1e-6, 1e-3),
+    eta=st.floats(0.3, 1.0),
+    tl=st.floats(0.0, 5.0),
+    tm=st.floats(0.1, 5.0),
+)
 def test_inertia_matching_maximizes_acceleration(jl, jm, eta, tl, tm):
     n = float(inertia_matching_ratio(jl, jm, eta, tl, tm))
     a = accel(n, jl, jm, eta, tl, tm)
@@ -179,10 +203,24 @@ def test_inertia_matching_maximizes_acceleration(jl, jm, eta, tl, tm):
 def test_envelope_and_payload_agree():
     # the forward capacity divided by η_f·N is the envelope torque itself
     w = np.linspace(0, 12, 7)
-    cap = payload_at_speed(w, 25.0, eta_f=0.85, peak_torque=4.0, max_speed=300.0,
-                           torque_constant=0.12, resistance=0.4, bus_voltage=36.0)
-    env = torque_speed_envelope(25.0 * w, peak_torque=4.0, max_speed=300.0,
-                                torque_constant=0.12, resistance=0.4, bus_voltage=36.0)
+    cap = payload_at_speed(
+        w,
+        25.0,
+        eta_f=0.85,
+        peak_torque=4.0,
+        max_speed=300.0,
+        torque_constant=0.12,
+        resistance=0.4,
+        bus_voltage=36.0,
+    )
+    env = torque_speed_envelope(
+        25.0 * w,
+        peak_torque=4.0,
+        max_speed=300.0,
+        torque_constant=0.12,
+        resistance=0.4,
+        bus_voltage=36.0,
+    )
     np.testing.assert_allclose(cap.forward / (0.85 * 25.0), env, rtol=1e-12)
 
 
@@ -198,8 +236,14 @@ from jointwright.metrics.speed import (  # noqa: E402
 )
 
 # one-joint drive of an invented motor: Kt = 0.1 N·m/A, R20 = 0.5 Ω, 48 V, peak 3 N·m, 6000 rpm
-ONE = dict(peak_torque=3.0, max_speed=6000 * 2 * math.pi / 60, torque_constant=0.1, resistance=0.5,
-           bus_voltage=48.0, winding_temperature=120.0)
+ONE = dict(
+    peak_torque=3.0,
+    max_speed=6000 * 2 * math.pi / 60,
+    torque_constant=0.1,
+    resistance=0.5,
+    bus_voltage=48.0,
+    winding_temperature=120.0,
+)
 
 
 def test_one_joint_lifting_speed_closed_form():
@@ -242,18 +286,39 @@ def test_centrifugal_load_closed_form_corner_point_motor():
     # τ_j = k·v² (centrifugal, motoring); corner-point motor: k·v²/(η_f·N) = τ_peak at
     # v = √(τ_peak·η_f·N/k)
     k, N, ef = 0.02, 10.0, 0.9
-    r = loaded_endpoint_speed([[0.5]], [0.0], [1.0], [N], tau_per_speed2=[k], eta_f=[ef],
-                              peak_torque=[2.0], max_speed=[1e4])
+    r = loaded_endpoint_speed(
+        [[0.5]],
+        [0.0],
+        [1.0],
+        [N],
+        tau_per_speed2=[k],
+        eta_f=[ef],
+        peak_torque=[2.0],
+        max_speed=[1e4],
+    )
     assert r.speed == pytest.approx(math.sqrt(2.0 * ef * N / k), rel=1e-12)
 
 
 def test_load_that_cannot_be_held_gives_zero_speed_and_names_the_joint():
-    r = loaded_endpoint_speed(np.eye(2), [1.0, 500.0], [1.0, 1.0], [10.0, 10.0], peak_torque=[3.0, 3.0],
-                              max_speed=[100.0, 100.0])
+    r = loaded_endpoint_speed(
+        np.eye(2),
+        [1.0, 500.0],
+        [1.0, 1.0],
+        [10.0, 10.0],
+        peak_torque=[3.0, 3.0],
+        max_speed=[100.0, 100.0],
+    )
     assert not r.carries_load and r.speed == 0.0 and r.limiting_joint == 1
     # a gear rating below the load torque also stops it
-    r = loaded_endpoint_speed(np.eye(2), [1.0, 5.0], [1.0, 1.0], [10.0, 10.0], peak_torque=[3.0, 3.0],
-                              max_speed=[100.0, 100.0], gear_rating=[100.0, 4.0])
+    r = loaded_endpoint_speed(
+        np.eye(2),
+        [1.0, 5.0],
+        [1.0, 1.0],
+        [10.0, 10.0],
+        peak_torque=[3.0, 3.0],
+        max_speed=[100.0, 100.0],
+        gear_rating=[100.0, 4.0],
+    )
     assert not r.carries_load and r.limiting_joint == 1
 
 
@@ -271,7 +336,9 @@ def _feasible_brute(v, J, tau, c2, u, N, ef, eb, motor):
     hi = np.minimum(motor["peak_torque"], kt * (V - kt * w) / R)
     lo = -np.minimum(motor["peak_torque"], kt * (V + kt * w) / R)
     st_ = sigma * tm
-    return bool(np.all((w <= motor["max_speed"] * (1 + 1e-12)) & (st_ <= hi + 1e-12) & (st_ >= lo - 1e-12)))
+    return bool(
+        np.all((w <= motor["max_speed"] * (1 + 1e-12)) & (st_ <= hi + 1e-12) & (st_ >= lo - 1e-12))
+    )
 
 
 @settings(max_examples=60, deadline=None)
@@ -290,8 +357,14 @@ def test_loaded_speed_is_physically_bounded(seed, load):
     eb = ef * rng.uniform(0.3, 1.0, 3)
     tau = J.T @ np.array([0.0, load]) + rng.normal(scale=0.5, size=3)
     c2 = rng.normal(scale=0.05, size=3)
-    motor = dict(peak_torque=np.full(3, 3.0), max_speed=np.full(3, 600.0), torque_constant=np.full(3, 0.1),
-                 resistance=np.full(3, 0.5), bus_voltage=np.full(3, 48.0), winding_temperature=120.0)
+    motor = dict(
+        peak_torque=np.full(3, 3.0),
+        max_speed=np.full(3, 600.0),
+        torque_constant=np.full(3, 0.1),
+        resistance=np.full(3, 0.5),
+        bus_voltage=np.full(3, 48.0),
+        winding_temperature=120.0,
+    )
     r = loaded_endpoint_speed(J, tau, u, N, tau_per_speed2=c2, eta_f=ef, eta_b=eb, **motor)
     free = endpoint_speed(J, motor["max_speed"] / N, u)
     assert r.speed <= free.speed * (1 + 1e-12)
@@ -313,8 +386,9 @@ def test_one_joint_acceleration_from_rest_closed_form():
     # motoring τ_m = τ_j/(η_f·N) + N·I_r·q̈ must stay ≤ the standstill torque T = min(peak, Kt·V/R):
     # α = (T − W·L/(η_f·N)) / (I_L/(L·η_f·N) + N·I_r/L)  [Newton's law through the gear, trade]
     L, W, IL, Ir, N, ef = 0.3, 40.0, 0.2, 3e-5, 20.0, 0.8
-    r = acceleration_from_rest([[L]], [W * L], [IL / L], [1.0], [N], eta_f=[ef], eta_b=[0.6],
-                               rotor_inertia=[Ir], **ONE)
+    r = acceleration_from_rest(
+        [[L]], [W * L], [IL / L], [1.0], [N], eta_f=[ef], eta_b=[0.6], rotor_inertia=[Ir], **ONE
+    )
     T = min(3.0, 0.1 * 48 / float(winding_resistance(0.5, 120.0)))
     expected = (T - W * L / (ef * N)) / (IL / (L * ef * N) + N * Ir / L)
     assert r.acceleration == pytest.approx(expected, rel=1e-12)
@@ -326,8 +400,9 @@ def test_acceleration_with_a_load_that_helps_switches_mode():
     # changes sign and the joint motors: τ_m = η_b·τ_j/N before, τ_j/(η_f·N) after the break
     L, N, ef, eb, IL = 1.0, 10.0, 0.8, 0.5, 1.0
     tau0 = -5.0
-    r = acceleration_from_rest([[L]], [tau0], [IL], [1.0], [N], eta_f=[ef], eta_b=[eb],
-                               peak_torque=[2.0], max_speed=[1e3])
+    r = acceleration_from_rest(
+        [[L]], [tau0], [IL], [1.0], [N], eta_f=[ef], eta_b=[eb], peak_torque=[2.0], max_speed=[1e3]
+    )
     # after the break (α > 5): τ_m = (α − 5)/(η_f·N) = 2 → α = 5 + 2·η_f·N
     assert r.acceleration == pytest.approx(5.0 + 2.0 * ef * N, rel=1e-12)
 
@@ -360,11 +435,31 @@ def test_stroke_speed_constant_acceleration_closed_form():
     motor = dict(peak_torque=[3.0], max_speed=[600.0])
     alpha = (3.0 - W * L / (ef * N)) / (IL / (L * ef * N) + N * Ir / L)
     for s in (0.01, 0.05):
-        r = speed_within_stroke([[L]], [W * L], [IL / L], [1.0], [N], s, eta_f=[ef], eta_b=[0.6],
-                                rotor_inertia=[Ir], **motor)
+        r = speed_within_stroke(
+            [[L]],
+            [W * L],
+            [IL / L],
+            [1.0],
+            [N],
+            s,
+            eta_f=[ef],
+            eta_b=[0.6],
+            rotor_inertia=[Ir],
+            **motor,
+        )
         assert r.speed == pytest.approx(min(math.sqrt(2 * alpha * s), 600.0 * L / N), rel=1e-12)
-    r = speed_within_stroke([[L]], [W * L], [IL / L], [1.0], [N], 5.0, eta_f=[ef], eta_b=[0.6],
-                            rotor_inertia=[Ir], **motor)
+    r = speed_within_stroke(
+        [[L]],
+        [W * L],
+        [IL / L],
+        [1.0],
+        [N],
+        5.0,
+        eta_f=[ef],
+        eta_b=[0.6],
+        rotor_inertia=[Ir],
+        **motor,
+    )
     assert r.speed == pytest.approx(600.0 * L / N, rel=1e-12) == r.steady_speed
 
 
@@ -375,8 +470,14 @@ def test_stroke_speed_on_the_motor_line_matches_the_integral():
     L, IL, N = 0.3, 0.05, 10.0
     R = float(winding_resistance(0.5, 120.0))
     A_m = 0.1 * 48 / R  # stall torque at the motor, N·m (below the 30 N·m peak)
-    motor = dict(peak_torque=[30.0], max_speed=[1e4], torque_constant=[0.1], resistance=[0.5],
-                 bus_voltage=[48.0], winding_temperature=120.0)
+    motor = dict(
+        peak_torque=[30.0],
+        max_speed=[1e4],
+        torque_constant=[0.1],
+        resistance=[0.5],
+        bus_voltage=[48.0],
+        winding_temperature=120.0,
+    )
     # per unit tip speed the motor runs at N/L rad/s; tip force from motor torque τ: τ·N/L
     m = IL / L**2
     A = A_m * N / L

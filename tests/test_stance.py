@@ -44,8 +44,9 @@ def test_ground_forces_carry_robot_weight_plus_load(quadruped):
 def test_friction_never_lowers_the_payload_and_three_feet_carry_less_than_four(quadruped):
     project, design = quadruped
     stand = project.case("stand-carry")
-    slick = dataclasses.replace(stand, name="slick",
-                                contacts=tuple((f, 0.0, n) for f, _, n in stand.contacts))
+    slick = dataclasses.replace(
+        stand, name="slick", contacts=tuple((f, 0.0, n) for f, _, n in stand.contacts)
+    )
     p = dataclasses.replace(project, cases=(stand, slick, project.case("walk-carry")))
     ev = Evaluator(p).evaluate(arrays_from_designs([design]))
     assert ev["slick"]["payload"][0] <= ev["stand-carry"]["payload"][0] * (1 + 1e-6)
@@ -61,8 +62,11 @@ def test_stance_is_the_objective_of_payload_projects(quadruped):
     assert {"stand-carry", "walk-carry"} <= set(payload_cases(project))
     # the objective is the payload mass every case carries: (F − fixed_load)/(payload_share·g_n)
     # per case, the smallest; the stance cases carry the payload itself (share 1, no fixed part)
-    carried = [(ev[n]["payload"][0] - project.case(n).fixed_load) / (project.case(n).payload_share * STANDARD_GRAVITY)
-               for n in payload_cases(project)]
+    carried = [
+        (ev[n]["payload"][0] - project.case(n).fixed_load)
+        / (project.case(n).payload_share * STANDARD_GRAVITY)
+        for n in payload_cases(project)
+    ]
     assert objective(project, arrays, ev, "payload")[0] == pytest.approx(min(carried))
     # the starting design carries the 10 kg walking load
     assert ev["walk-carry"]["payload"][0] / STANDARD_GRAVITY > 10.0

@@ -57,8 +57,11 @@ def test_study_verb_sizes_every_case_once_and_matches_the_api(study_dir):
 def test_refuses_to_overwrite_a_store_without_resume(study_dir):
     runner = CliRunner()
     bad = study_dir / "study.toml"
-    bad.write_text(STUDY.replace('values = ["3 kg", "6 kg"]', 'values = ["3 kg"]').replace(
-        'task = "size"', 'task = "size"\n').replace("[options]\ntime_limit = 60", "[options]\ntime_limit = 30"))
+    bad.write_text(
+        STUDY.replace('values = ["3 kg", "6 kg"]', 'values = ["3 kg"]')
+        .replace('task = "size"', 'task = "size"\n')
+        .replace("[options]\ntime_limit = 60", "[options]\ntime_limit = 30")
+    )
     first = runner.invoke(main, ["study", str(bad), "--workers", "1", "--json"])
     assert first.exit_code == 0, first.output
     second = runner.invoke(main, ["study", str(bad), "--workers", "1"])
@@ -81,8 +84,9 @@ values = {values}
 """
 
 
-def _leg_study(tmp_path, *, options="time_limit = 60", path="requirements.total_mass_max",
-               values='["4.0 kg"]'):
+def _leg_study(
+    tmp_path, *, options="time_limit = 60", path="requirements.total_mass_max", values='["4.0 kg"]'
+):
     from importlib import resources
 
     with resources.as_file(resources.files("jointwright.examples") / "leg") as src:
@@ -100,11 +104,15 @@ def _leg_study(tmp_path, *, options="time_limit = 60", path="requirements.total_
     ("", '["leg A", "leg B"]', "project.name", "vary[0].path", "only numbers and quantities"),
     ("", '["a", "b"]', "requirements.total_mass_max", "vary[0].values[0]", "quantity string"),
 ])  # fmt: skip
-def test_study_file_mistakes_are_caught_before_any_case_runs(tmp_path, options, values, path, field, rule):
+def test_study_file_mistakes_are_caught_before_any_case_runs(
+    tmp_path, options, values, path, field, rule
+):
     study = _leg_study(tmp_path, options=options, path=path, values=values)
     res = CliRunner().invoke(main, ["study", str(study), "--workers", "1"])
     assert res.exit_code == 2, res.output
-    assert f"{study}: {field}: " in res.output and rule in res.output and "Traceback" not in res.output
+    assert (
+        f"{study}: {field}: " in res.output and rule in res.output and "Traceback" not in res.output
+    )
     assert not (study.parent / "results.sqlite").exists()
 
 
@@ -117,6 +125,6 @@ def test_failed_cases_give_exit_3_with_the_count_and_first_errors(tmp_path):
     assert res.exit_code == 3
     import json
 
-    data = json.loads(res.output[res.output.index("{"):res.output.rindex("}") + 1])
+    data = json.loads(res.output[res.output.index("{") : res.output.rindex("}") + 1])
     assert data["failed"] == 2 and len(data["failures"]) == 2
     assert all("total_mass_max" in f["error"] for f in data["failures"])

@@ -39,8 +39,14 @@ def _env() -> dict:
 
 
 def _start(path: Path, store: Path) -> subprocess.Popen:
-    return subprocess.Popen([sys.executable, "-c", SCRIPT, str(path), str(store)], cwd=ROOT,
-                            env=_env(), stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    return subprocess.Popen(
+        [sys.executable, "-c", SCRIPT, str(path), str(store)],
+        cwd=ROOT,
+        env=_env(),
+        stdout=subprocess.PIPE,
+        stderr=subprocess.PIPE,
+        text=True,
+    )
 
 
 def _reference(tmp_path: Path, path: Path) -> dict:
@@ -59,7 +65,9 @@ def test_second_writer_is_refused_with_the_first_ones_pid_and_host(tmp_path):
         assert f"process {os.getpid()} on host" in str(info.value) and info.value.field == "(lock)"
         # readers are never blocked
         assert read_cases(store) == [] and read_runs(store) == []
-    out = run_study(path, store, workers=1, case_fn=LEG, resume=True, progress=False)  # lock released
+    out = run_study(
+        path, store, workers=1, case_fn=LEG, resume=True, progress=False
+    )  # lock released
     assert out.done_total == 4
 
 
@@ -91,8 +99,11 @@ def _fail_on_write(monkeypatch, after: int, exc: BaseException) -> None:
     monkeypatch.setattr(StudyStore, "write", write)
 
 
-@pytest.mark.parametrize("exc", [OSError(28, "No space left on device"),
-                                 sqlite3.OperationalError("disk I/O error")], ids=["enospc", "eio"])
+@pytest.mark.parametrize(
+    "exc",
+    [OSError(28, "No space left on device"), sqlite3.OperationalError("disk I/O error")],
+    ids=["enospc", "eio"],
+)
 def test_a_fault_while_storing_is_one_line_marks_the_run_and_resumes(tmp_path, monkeypatch, exc):
     path, store = make_study(tmp_path), tmp_path / "s.sqlite"
     _fail_on_write(monkeypatch, 5, exc)
@@ -144,7 +155,7 @@ def test_a_damaged_store_is_one_line_everywhere(tmp_path):
     data = bytearray(store.read_bytes())
     rng = random.Random(7)
     for p in range(1, pages):  # every page but the header page: scribble over its b-tree header
-        data[p * page: p * page + 16] = bytes(rng.randrange(256) for _ in range(16))
+        data[p * page : p * page + 16] = bytes(rng.randrange(256) for _ in range(16))
     store.write_bytes(bytes(data))
     with pytest.raises(InputError, match="damaged") as info:
         read_cases(store)
@@ -154,15 +165,32 @@ def test_a_damaged_store_is_one_line_everywhere(tmp_path):
     damaged_bytes = store.read_bytes()
     out = run_study(path, store, workers=2, case_fn=LEG, restart=True, progress=False)
     assert out.done_total == 16
-    kept = [p for p in tmp_path.iterdir() if p.name.startswith("s.sqlite.") and p.name.endswith(".bak")]
+    kept = [
+        p for p in tmp_path.iterdir() if p.name.startswith("s.sqlite.") and p.name.endswith(".bak")
+    ]
     assert len(kept) == 1 and kept[0].read_bytes() == damaged_bytes  # kept byte for byte
     store.unlink()
     for extra in ("-wal", "-shm"):
         Path(f"{store}{extra}").unlink(missing_ok=True)
     store.write_bytes(damaged_bytes)
-    res = subprocess.run([sys.executable, "-c", "from jointwright.cli import main; main()", "study",
-                          str(path), "--store", str(store), "--resume", "--workers", "1"],
-                         capture_output=True, text=True, env=_env(), cwd=ROOT)
+    res = subprocess.run(
+        [
+            sys.executable,
+            "-c",
+            "from jointwright.cli import main; main()",
+            "study",
+            str(path),
+            "--store",
+            str(store),
+            "--resume",
+            "--workers",
+            "1",
+        ],
+        capture_output=True,
+        text=True,
+        env=_env(),
+        cwd=ROOT,
+    )
     assert res.returncode == 2 and "Traceback" not in res.stderr, res.stderr
     assert len(res.stderr.strip().splitlines()) == 1 and str(store) in res.stderr
 
@@ -188,12 +216,16 @@ def test_twenty_random_kills_then_resume_equal_an_uninterrupted_run(tmp_path):
 
 
 def test_a_tls_scheduler_without_a_client_certificate_is_one_line(tmp_path, monkeypatch):
-    for name in ("DASK_DISTRIBUTED__COMM__TLS__CA_FILE", "DASK_DISTRIBUTED__COMM__TLS__CLIENT__CERT"):
+    for name in (
+        "DASK_DISTRIBUTED__COMM__TLS__CA_FILE",
+        "DASK_DISTRIBUTED__COMM__TLS__CLIENT__CERT",
+    ):
         monkeypatch.delenv(name, raising=False)
     path = make_study(tmp_path, n_thigh=1)
     with pytest.raises(InputError, match="certificate, key and CA") as info:
-        run_study(path, tmp_path / "s.sqlite", scheduler="tls://127.0.0.1:9", case_fn=LEG,
-                  progress=False)
+        run_study(
+            path, tmp_path / "s.sqlite", scheduler="tls://127.0.0.1:9", case_fn=LEG, progress=False
+        )
     assert info.value.field == "--scheduler"
 
 

@@ -32,7 +32,8 @@ def make_study(tmp_path: Path, options: str = "", n_thigh: int = 4) -> Path:
     """2 budgets x n_thigh thigh lengths x 2 variants."""
     (tmp_path / "leg.toml").write_text(study_cases.BASE_PROJECT)
     path = tmp_path / "study.toml"
-    path.write_text(textwrap.dedent(f"""\
+    path.write_text(
+        textwrap.dedent(f"""\
         [study]
         name = "runner test"
         base = "leg.toml"
@@ -49,7 +50,8 @@ def make_study(tmp_path: Path, options: str = "", n_thigh: int = 4) -> Path:
         set = {{ "catalog.stage_kinds" = ["planetary"] }}
         [[variant]]
         name = "all"
-        """))
+        """)
+    )
     return path
 
 
@@ -103,7 +105,9 @@ def test_case_that_kills_its_worker_is_isolated(tmp_path):
 
 def test_contract_breach_is_a_failure(tmp_path):
     path = make_study(tmp_path, n_thigh=1)
-    out = run_study(path, tmp_path / "s.sqlite", workers=1, case_fn=study_cases.bad_shape, progress=False)
+    out = run_study(
+        path, tmp_path / "s.sqlite", workers=1, case_fn=study_cases.bad_shape, progress=False
+    )
     assert out.failed == 4
     assert all("must return" in c.error for c in read_cases(tmp_path / "s.sqlite"))
 
@@ -134,7 +138,9 @@ def test_resume_runs_exactly_the_missing_cases(tmp_path_factory, marks, retry):
     with StudyStore.open(store, spec, len(cases)) as st_:
         for case, mark in zip(cases, marks):
             if mark != "missing":
-                st_.write(case, CaseRecord(mark, {"earlier": 1.0} if mark == "done" else {}, "null"))
+                st_.write(
+                    case, CaseRecord(mark, {"earlier": 1.0} if mark == "done" else {}, "null")
+                )
     out = run_study(path, store, workers=1, case_fn=LEG, resume=True, retry_failed=retry,
                     progress=False)  # fmt: skip
     rerun = {"missing", "failed"} if retry else {"missing"}
@@ -242,7 +248,9 @@ def _interrupt_part_way(proc: subprocess.Popen, store: Path, sig: int, *, group:
 
 
 @pytest.mark.skipif(not Path("/proc/self/stat").exists(), reason="reads process states from /proc")
-@pytest.mark.parametrize("sig, group", [(signal.SIGKILL, False), (signal.SIGINT, True)], ids=["kill", "ctrl-c"])
+@pytest.mark.parametrize(
+    "sig, group", [(signal.SIGKILL, False), (signal.SIGINT, True)], ids=["kill", "ctrl-c"]
+)
 def test_interrupted_study_resumes_to_the_uninterrupted_result(tmp_path, sig, group):
     path = make_study(tmp_path, "sleep = 0.1", n_thigh=6)  # 24 cases of 0.1 s on 2 workers
     store = tmp_path / "s.sqlite"
@@ -295,7 +303,6 @@ def test_dask_client_and_callable(tmp_path, cluster):
     assert all(w.count(":") == 1 for w in workers)
 
 
-
 def test_dask_retries_lost_tasks_smaller_then_alone():
     from jointwright.study.runner import _retry_queue
 
@@ -304,4 +311,6 @@ def test_dask_retries_lost_tasks_smaller_then_alone():
     assert _retry_queue("single", 1, lost_worker=True) == "solo"
     assert _retry_queue("batch", 1, lost_worker=True) == "solo"
     assert _retry_queue("solo", 1, lost_worker=True) is None
-    assert _retry_queue("single", 1, lost_worker=False) is None  # e.g. arguments that do not unpickle
+    assert (
+        _retry_queue("single", 1, lost_worker=False) is None
+    )  # e.g. arguments that do not unpickle

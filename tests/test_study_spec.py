@@ -34,7 +34,10 @@ def write(tmp_path: Path, body: str, base: str = BASE_PROJECT) -> Path:
 
 
 def test_product_of_grid_values_and_variants(tmp_path):
-    path = write(tmp_path, HEAD + """
+    path = write(
+        tmp_path,
+        HEAD
+        + """
         [[vary]]
         path = "robot.links.thigh.length"
         grid = { start = 0.2, stop = 0.4, num = 5 }
@@ -46,7 +49,8 @@ def test_product_of_grid_values_and_variants(tmp_path):
         set = { "catalog.stage_kinds" = ["planetary"] }
         [[variant]]
         name = "all"
-        """)
+        """,
+    )
     spec = load_study(path)
     cases = expand(spec)
     assert len(cases) == 2 * 5 * 2
@@ -62,7 +66,10 @@ def test_product_of_grid_values_and_variants(tmp_path):
 
 
 def test_zip_pairs_values(tmp_path):
-    path = write(tmp_path, HEAD + """
+    path = write(
+        tmp_path,
+        HEAD
+        + """
         combine = "zip"
         [[vary]]
         path = "robot.links.thigh.length"
@@ -70,21 +77,26 @@ def test_zip_pairs_values(tmp_path):
         [[vary]]
         path = "cases[0].payload"
         values = [10, 20, 30]
-        """)
+        """,
+    )
     cases = expand(load_study(path))
     pairs = [(c.values["robot.links.thigh.length"], c.values["cases[0].payload"]) for c in cases]
     assert pairs == [(0.2, 10), (0.3, 20), (0.4, 30)]
 
 
 def test_log_grid_and_units_kept(tmp_path):
-    path = write(tmp_path, HEAD + """
+    path = write(
+        tmp_path,
+        HEAD
+        + """
         [[vary]]
         path = "requirements.mass_budget"
         grid = { start = "1 kg", stop = "100000 g", num = 3, scale = "log" }
         [[vary]]
         path = "robot.links.shank.length"
         grid = { start = "0.2 m", stop = "40 cm", num = 3 }
-        """)
+        """,
+    )
     spec = load_study(path)
     # geometric progression 1, 10, 100 kg (100000 g = 100 kg by the SI prefix) [trade]
     assert spec.parameters[0].values == ("1.0 kg", "10.0 kg", "100.0 kg")
@@ -92,11 +104,14 @@ def test_log_grid_and_units_kept(tmp_path):
 
 
 def test_random_is_seeded_and_in_range(tmp_path):
-    body = HEAD + """
+    body = (
+        HEAD
+        + """
         [[vary]]
         path = "cases[0].payload"
         random = { low = 5, high = 50, count = 40, seed = SEED, scale = "log" }
         """
+    )
     a = load_study(write(tmp_path, body.replace("SEED", "7"))).parameters[0].values
     b = load_study(write(tmp_path, body.replace("SEED", "7"))).parameters[0].values
     c = load_study(write(tmp_path, body.replace("SEED", "8"))).parameters[0].values
@@ -108,7 +123,9 @@ def test_random_is_seeded_and_in_range(tmp_path):
 
 
 def test_ids_and_hash_are_stable_and_content_based(tmp_path):
-    body = HEAD + """
+    body = (
+        HEAD
+        + """
         [options]
         a = 1
         b = 2
@@ -116,6 +133,7 @@ def test_ids_and_hash_are_stable_and_content_based(tmp_path):
         path = "requirements.mass_budget"
         values = ["2 kg", "3 kg"]
         """
+    )
     first = load_study(write(tmp_path, body))
     # same content, other key order and comments: same hash and ids
     reordered = body.replace("a = 1\n        b = 2", "b = 2   # comment\n        a = 1")
@@ -123,7 +141,9 @@ def test_ids_and_hash_are_stable_and_content_based(tmp_path):
     assert first.hash == second.hash
     assert [c.id for c in expand(first)] == [c.id for c in expand(second)]
     # the base project's content is part of the hash, but not its formatting
-    third = load_study(write(tmp_path, body, BASE_PROJECT.replace("length = 0.30", "length = 0.31")))
+    third = load_study(
+        write(tmp_path, body, BASE_PROJECT.replace("length = 0.30", "length = 0.31"))
+    )
     assert third.hash != first.hash
     fourth = load_study(write(tmp_path, body, "# note\n" + BASE_PROJECT))
     assert fourth.hash == first.hash
@@ -145,14 +165,18 @@ def test_listed_input_files_enter_the_hash(tmp_path):
 
 
 def test_case_project_applies_assignments_on_a_copy(tmp_path):
-    path = write(tmp_path, HEAD + """
+    path = write(
+        tmp_path,
+        HEAD
+        + """
         [[vary]]
         path = "requirements.imf_min"
         values = [0.3]
         [[variant]]
         name = "nested"
         set = { robot = { links = { thigh = { length = 0.5 } } } }
-        """)
+        """,
+    )
     spec = load_study(path)
     before = copy.deepcopy(spec.base_project)
     (case,) = expand(spec)
@@ -163,8 +187,17 @@ def test_case_project_applies_assignments_on_a_copy(tmp_path):
     assert spec.base_project == before
 
 
-@given(st.lists(st.one_of(st.integers(0, 5), st.from_regex(r"[a-z_][a-z0-9_-]{0,6}", fullmatch=True),
-                          st.text(alphabet="ab.c d", min_size=1, max_size=5)), min_size=1, max_size=5))
+@given(
+    st.lists(
+        st.one_of(
+            st.integers(0, 5),
+            st.from_regex(r"[a-z_][a-z0-9_-]{0,6}", fullmatch=True),
+            st.text(alphabet="ab.c d", min_size=1, max_size=5),
+        ),
+        min_size=1,
+        max_size=5,
+    )
+)
 def test_path_round_trip(steps):
     steps = [f"k{s}" if i == 0 and isinstance(s, int) else s for i, s in enumerate(steps)]
     steps = tuple(steps)
@@ -184,7 +217,9 @@ def test_product_expansion_covers_each_combination_once(base_dir, sizes, n_varia
     keys = [f"p{i}" for i in range(len(sizes))]
     definition = {
         "study": {"name": "h", "base": "leg.toml"},
-        "vary": [{"path": f"requirements.{k}", "values": list(range(n))} for k, n in zip(keys, sizes)],
+        "vary": [
+            {"path": f"requirements.{k}", "values": list(range(n))} for k, n in zip(keys, sizes)
+        ],
         "variant": [{"name": f"v{j}"} for j in range(n_variants)],
     }
     spec = parse_study(definition, study_dir=base_dir)
@@ -199,41 +234,111 @@ def test_product_expansion_covers_each_combination_once(base_dir, sizes, n_varia
 
 BAD = [
     # (body after HEAD, expected field in the message, words of the rule)
-    ('[[vary]]\npath = "robot.links.knee.length"\nvalues = [1]\n', "vary[0].path", "no robot.links.knee"),
+    (
+        '[[vary]]\npath = "robot.links.knee.length"\nvalues = [1]\n',
+        "vary[0].path",
+        "no robot.links.knee",
+    ),
     ('[[vary]]\npath = "robot.arms.x"\nvalues = [1]\n', "vary[0].path", "no robot.arms"),
     ('[[vary]]\npath = "cases[3].payload"\nvalues = [1]\n', "vary[0].path", "has 1 items"),
     ('[[vary]]\npath = "robot.links"\nvalues = [1]\n', "vary[0].path", "table or list"),
-    ('[[vary]]\npath = "cases[0].payload"\ngrid = {start = 1, stop = 2, num = 0}\n', "vary[0].grid.num", ">= 1"),
-    ('[[vary]]\npath = "cases[0].payload"\ngrid = {start = 0, stop = 2, num = 3, scale = "log"}\n',
-     "vary[0].grid.start", "log scale"),
-    ('[[vary]]\npath = "cases[0].payload"\ngrid = {start = 2, stop = 2, num = 3}\n', "vary[0].grid.stop", "differ"),
-    ('[[vary]]\npath = "cases[0].payload"\ngrid = {start = "1 kg", stop = "2 m", num = 3}\n',
-     "vary[0].grid.stop", "dimensions"),
-    ('[[vary]]\npath = "cases[0].payload"\ngrid = {start = 1, stop = 2, num = 3, step = 1}\n',
-     "vary[0].grid.step", "unknown field"),
-    ('[[vary]]\npath = "cases[0].payload"\nrandom = {low = 1, high = 2, count = 3}\n',
-     "vary[0].random.seed", "required"),
-    ('[[vary]]\npath = "cases[0].payload"\nrandom = {low = 3, high = 2, count = 3, seed = 1}\n',
-     "vary[0].random.high", "greater than low"),
+    (
+        '[[vary]]\npath = "cases[0].payload"\ngrid = {start = 1, stop = 2, num = 0}\n',
+        "vary[0].grid.num",
+        ">= 1",
+    ),
+    (
+        '[[vary]]\npath = "cases[0].payload"\ngrid = {start = 0, stop = 2, num = 3, scale = "log"}\n',
+        "vary[0].grid.start",
+        "log scale",
+    ),
+    (
+        '[[vary]]\npath = "cases[0].payload"\ngrid = {start = 2, stop = 2, num = 3}\n',
+        "vary[0].grid.stop",
+        "differ",
+    ),
+    (
+        '[[vary]]\npath = "cases[0].payload"\ngrid = {start = "1 kg", stop = "2 m", num = 3}\n',
+        "vary[0].grid.stop",
+        "dimensions",
+    ),
+    (
+        '[[vary]]\npath = "cases[0].payload"\ngrid = {start = 1, stop = 2, num = 3, step = 1}\n',
+        "vary[0].grid.step",
+        "unknown field",
+    ),
+    (
+        '[[vary]]\npath = "cases[0].payload"\nrandom = {low = 1, high = 2, count = 3}\n',
+        "vary[0].random.seed",
+        "required",
+    ),
+    (
+        '[[vary]]\npath = "cases[0].payload"\nrandom = {low = 3, high = 2, count = 3, seed = 1}\n',
+        "vary[0].random.high",
+        "greater than low",
+    ),
     ("", "vary", "empty study"),
-    ('[[variant]]\nname = "a"\n[[variant]]\nname = "a"\n', "variant[1].name", "duplicate variant name"),
+    (
+        '[[variant]]\nname = "a"\n[[variant]]\nname = "a"\n',
+        "variant[1].name",
+        "duplicate variant name",
+    ),
     ('task = "optimize"\n[[variant]]\nname = "a"\n', "study.task", "must be one of size, frontier"),
-    ('combine = "zip"\n[[vary]]\npath = "cases[0].payload"\nvalues = [1, 2]\n'
-     '[[vary]]\npath = "requirements.mass_budget"\nvalues = [1]\n', "study.combine", "same number"),
-    ('[[vary]]\npath = "cases[0].payload"\nvlaues = [1]\n', "vary[0].path", "exactly one of values"),
-    ('[[vary]]\npath = "cases[0].payload"\nvalues = [1]\ngrid = {start = 1, stop = 2, num = 2}\n',
-     "vary[0].path", "exactly one of"),
+    (
+        'combine = "zip"\n[[vary]]\npath = "cases[0].payload"\nvalues = [1, 2]\n'
+        '[[vary]]\npath = "requirements.mass_budget"\nvalues = [1]\n',
+        "study.combine",
+        "same number",
+    ),
+    (
+        '[[vary]]\npath = "cases[0].payload"\nvlaues = [1]\n',
+        "vary[0].path",
+        "exactly one of values",
+    ),
+    (
+        '[[vary]]\npath = "cases[0].payload"\nvalues = [1]\ngrid = {start = 1, stop = 2, num = 2}\n',
+        "vary[0].path",
+        "exactly one of",
+    ),
     ('[[vary]]\npath = "cases[0].payload"\nvalues = []\n', "vary[0].values", "at least one"),
-    ('[[vary]]\npath = "cases[0].payload"\nvalues = [1, 1.0e0, 1]\n', "vary[0].values", "appears twice"),
-    ('[[vary]]\npath = "requirements.mass_budget"\nvalues = ["2 kg", "3 m"]\n', "vary[0].values", "dimensions"),
-    ('[[vary]]\npath = "requirements.mass_budget"\nvalues = ["2 kg", 3]\n', "vary[0].values", "mixes"),
-    ('[[vary]]\npath = "requirements.mass_budget"\nvalues = ["2 kgg"]\n', "vary[0].values[0]", "cannot read"),
+    (
+        '[[vary]]\npath = "cases[0].payload"\nvalues = [1, 1.0e0, 1]\n',
+        "vary[0].values",
+        "appears twice",
+    ),
+    (
+        '[[vary]]\npath = "requirements.mass_budget"\nvalues = ["2 kg", "3 m"]\n',
+        "vary[0].values",
+        "dimensions",
+    ),
+    (
+        '[[vary]]\npath = "requirements.mass_budget"\nvalues = ["2 kg", 3]\n',
+        "vary[0].values",
+        "mixes",
+    ),
+    (
+        '[[vary]]\npath = "requirements.mass_budget"\nvalues = ["2 kgg"]\n',
+        "vary[0].values[0]",
+        "cannot read",
+    ),
     ('[[vary]]\npath = "robot..links"\nvalues = [1]\n', "vary[0].path", "bad key"),
-    ('[[vary]]\npath = "robot.links.thigh.length"\nvalues = [1]\n[[vary]]\n'
-     'path = \'robot.links."thigh".length\'\nvalues = [2]\n', "vary[1].path", "overlaps"),
-    ('[[vary]]\npath = "cases[0].payload"\nvalues = [1]\n[[variant]]\nname = "x"\n'
-     'set = {"cases[0]" = 1}\n', "variant[0].set", "overlaps"),
-    ('[[variant]]\nname = "x"\nset = {"catalog.motors.small" = 1}\n', "variant[0].set", "no catalog.motors"),
+    (
+        '[[vary]]\npath = "robot.links.thigh.length"\nvalues = [1]\n[[vary]]\n'
+        "path = 'robot.links.\"thigh\".length'\nvalues = [2]\n",
+        "vary[1].path",
+        "overlaps",
+    ),
+    (
+        '[[vary]]\npath = "cases[0].payload"\nvalues = [1]\n[[variant]]\nname = "x"\n'
+        'set = {"cases[0]" = 1}\n',
+        "variant[0].set",
+        "overlaps",
+    ),
+    (
+        '[[variant]]\nname = "x"\nset = {"catalog.motors.small" = 1}\n',
+        "variant[0].set",
+        "no catalog.motors",
+    ),
     ('[[variant]]\nname = "x"\ncolour = "red"\n', "variant[0].colour", "unknown field"),
     ("[options]\n[[vary]]\n", "vary[0].path", "required"),
     ('[extra]\nx = 1\n[[variant]]\nname = "a"\n', "extra", "unknown field"),

@@ -40,7 +40,11 @@ def test_new_store_describes_the_study(tmp_path):
     with StudyStore.open(tmp_path / "s.sqlite", spec, 4) as store:
         assert store.statuses() == {}
     info = read_study(tmp_path / "s.sqlite")
-    assert (info.format_version, info.study_hash, info.name) == (STORE_FORMAT, spec.hash, "store test")
+    assert (info.format_version, info.study_hash, info.name) == (
+        STORE_FORMAT,
+        spec.hash,
+        "store test",
+    )
     assert info.package_version == jointwright.__version__
     assert info.parameters == ("requirements.mass_budget", "robot.links.thigh.length")
     assert info.definition == spec.definition and info.base_project == spec.base_project
@@ -62,13 +66,23 @@ def test_metrics_become_columns_and_values_round_trip(tmp_path):
     rows = {r.case_id: r for r in read_cases(tmp_path / "s.sqlite", results=True)}
     assert rows[a.id].metrics == {"payload": 12.5, "joint": "knee"}
     assert rows[b.id].metrics == {"payload": math.inf, "imf": 0.4, "count": 3}
-    assert rows[a.id].values == {"requirements.mass_budget": "2 kg", "robot.links.thigh.length": 0.2}
+    assert rows[a.id].values == {
+        "requirements.mass_budget": "2 kg",
+        "robot.links.thigh.length": 0.2,
+    }
     assert rows[a.id].result == {"ok": True}
-    assert (rows[c.id].status, rows[c.id].error, rows[c.id].traceback) == ("failed", "ValueError: no", "tb")
+    assert (rows[c.id].status, rows[c.id].error, rows[c.id].traceback) == (
+        "failed",
+        "ValueError: no",
+        "tb",
+    )
     # no pickled blobs anywhere: text, numbers or NULL only
     with sqlite3.connect(tmp_path / "s.sqlite") as conn:
         cols = [r[1] for r in conn.execute("PRAGMA table_info(cases)")]
-        kinds = {conn.execute(f"SELECT typeof({quote_identifier(n)}) FROM cases").fetchall()[0][0] for n in cols}
+        kinds = {
+            conn.execute(f"SELECT typeof({quote_identifier(n)}) FROM cases").fetchall()[0][0]
+            for n in cols
+        }
     assert "blob" not in kinds
 
 

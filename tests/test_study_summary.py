@@ -51,10 +51,18 @@ def test_rows_hold_parameters_metrics_and_status(store):
                       "payload", "joint", "holding", "status", "wall_time", "worker", "error"]  # fmt: skip
     assert len(rows) == 8
     first = dict(zip(header, rows[0]))
-    assert (first["variant"], first["requirements.mass_budget"], first["robot.links.thigh.length"]) == ("a", "2 kg", 0.2)
+    assert (
+        first["variant"],
+        first["requirements.mass_budget"],
+        first["robot.links.thigh.length"],
+    ) == ("a", "2 kg", 0.2)
     assert first["payload"] == pytest.approx(100 * 0.2 + 0) and first["status"] == "done"
     failed = dict(zip(header, rows[5]))
-    assert (failed["status"], failed["payload"], failed["error"]) == ("failed", None, "ValueError: boom")
+    assert (failed["status"], failed["payload"], failed["error"]) == (
+        "failed",
+        None,
+        "ValueError: boom",
+    )
     header, rows = summary_rows(store, ["holding"])
     assert "payload" not in header and "holding" in header
 

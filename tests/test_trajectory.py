@@ -92,8 +92,11 @@ GOOD = "t,q:hip,q:knee\n0,0,0\n0.1,0.1,0.2\n0.2,0.2,0.3\n0.3,0.1,0.2\n0.4,0,0\n"
         ("t,q:hip\n0,0\n0.1,0.1\n0.2,0.2\n0.3,0.1\n", "column 'q:knee'", "is missing"),
         (GOOD.replace("q:knee", "q:ankle"), "column 'q:ankle'", "unknown joint"),
         (GOOD.replace("0.2,0.3", "0.2,abc"), "row 3 (line 4), column 'q:knee'", "must be a number"),
-        (GOOD.replace("0.3,0.1,0.2", "0.2,0.1,0.2"), "row 4 (line 5), column 't'",
-         "strictly increasing"),
+        (
+            GOOD.replace("0.3,0.1,0.2", "0.2,0.1,0.2"),
+            "row 4 (line 5), column 't'",
+            "strictly increasing",
+        ),
         ("t,q:hip,q:knee\n0,0,0\n0.1,0.1,0.1\n0.2,0,0\n", "column 'q:hip'", "at least 4 samples"),
         ("t,q:hip,q:knee\n0,0,0\n", "rows", "at least 2 samples"),
         (GOOD.replace("0.2,0.3", "0.2,nan"), "row 3 (line 4), column 'q:knee'", "finite"),

@@ -38,12 +38,18 @@ cogging_torque = "{BREAKAWAY} N*m"
 """
 
 
-def project(tmp_path: Path, role: str | None, lc2: float = 0.15, extra_case: str = "",
-            pose: str = "q1 = 0, q2 = 0") -> Path:
+def project(
+    tmp_path: Path,
+    role: str | None,
+    lc2: float = 0.15,
+    extra_case: str = "",
+    pose: str = "q1 = 0, q2 = 0",
+) -> Path:
     unact = f'unactuated = {{ q2 = "{role}" }}' if role else ""
     (tmp_path / "catalog.toml").write_text(CATALOG, encoding="utf-8")
     path = tmp_path / "project.toml"
-    path.write_text(f"""
+    path.write_text(
+        f"""
 [robot]
 base = "fixed"
 gravity = [0, -{G}, 0]
@@ -104,13 +110,17 @@ frame = "tip"
 direction = [0, 1, 0]
 pose = {{ {pose} }}
 {extra_case}
-""", encoding="utf-8")
+""",
+        encoding="utf-8",
+    )
     return path
 
 
 def assessed(path: Path):
     p = load_project(path)
-    d = design_from_dict({"design": {"name": "direct"}, "joint": {"q1": {"motor": "test-rotor-a"}}}, p)
+    d = design_from_dict(
+        {"design": {"name": "direct"}, "joint": {"q1": {"motor": "test-rotor-a"}}}, p
+    )
     return p, {c.name: c for c in assess(p, d).cases}
 
 
@@ -130,8 +140,9 @@ def test_held_elbow_closed_forms(tmp_path):
     assert c["lift"].limiting_joint == "q1"
     # effective mass: the arm is one rigid body about q1, m = (d11 + I_r)/(l1 + l2)²
     D, _ = spong_elbow(0.0, 0.0, M1, M2, L1, LC1, lc2, I1, I2)
-    assert c["bump"].metrics["effective_mass"] == pytest.approx((D[0, 0] + ROTOR) / (L1 + L2) ** 2,
-                                                               rel=1e-9)
+    assert c["bump"].metrics["effective_mass"] == pytest.approx(
+        (D[0, 0] + ROTOR) / (L1 + L2) ** 2, rel=1e-9
+    )
     # back-drive: only q1 can yield, against its breakaway torque
     assert c["push"].metrics["backdrive_force"] == pytest.approx(BREAKAWAY / (L1 + L2), rel=1e-12)
 
@@ -176,13 +187,16 @@ def test_unloaded_joint_is_reported(tmp_path):
     assert unloaded_joints(load_project(path)) == ("q1",)
 
 
-@pytest.mark.parametrize("snippet, field, rule", [
-    ('unactuated = { q1 = "held" }', "robot.unactuated.q1", "is actuated"),
-    ('unactuated = { q2 = "loose" }', "robot.unactuated.q2", "must be one of held, free"),
-    ('unactuated = { q9 = "free" }', "robot.unactuated.q9", "no 1-dof joint"),
-    ('included = { q2 = "0.1 kg" }', "robot.included.q2", "not an actuated joint"),
-    ('included = { q1 = "1 kg" }', "robot.included.q1", "more than"),
-])
+@pytest.mark.parametrize(
+    "snippet, field, rule",
+    [
+        ('unactuated = { q1 = "held" }', "robot.unactuated.q1", "is actuated"),
+        ('unactuated = { q2 = "loose" }', "robot.unactuated.q2", "must be one of held, free"),
+        ('unactuated = { q9 = "free" }', "robot.unactuated.q9", "no 1-dof joint"),
+        ('included = { q2 = "0.1 kg" }', "robot.included.q2", "not an actuated joint"),
+        ('included = { q1 = "1 kg" }', "robot.included.q1", "more than"),
+    ],
+)
 def test_bad_roles_and_included_masses(tmp_path, snippet, field, rule):
     path = project(tmp_path, None)
     path.write_text(path.read_text().replace('actuated = ["q1"]', f'actuated = ["q1"]\n{snippet}'))
@@ -191,12 +205,15 @@ def test_bad_roles_and_included_masses(tmp_path, snippet, field, rule):
     assert exc.value.field == field and rule in exc.value.rule
 
 
-@pytest.mark.parametrize("pose, rule", [
-    ("q1 = 90, q2 = 0", "more than a full turn"),          # degrees meant, radians read
-    ('q1 = "175 deg", q2 = 0', "outside the joint's limits"),
-    ('q1 = 0, q2 = "-2.7 rad"', "outside the joint's limits"),
-    ('q1 = "0.1 m", q2 = 0', "convertible to rad"),
-])
+@pytest.mark.parametrize(
+    "pose, rule",
+    [
+        ("q1 = 90, q2 = 0", "more than a full turn"),  # degrees meant, radians read
+        ('q1 = "175 deg", q2 = 0', "outside the joint's limits"),
+        ('q1 = 0, q2 = "-2.7 rad"', "outside the joint's limits"),
+        ('q1 = "0.1 m", q2 = 0', "convertible to rad"),
+    ],
+)
 def test_pose_units_and_limits(tmp_path, pose, rule):
     with pytest.raises(InputError) as exc:
         load_project(project(tmp_path, None, pose=pose))
@@ -252,10 +269,14 @@ def test_floating_robot_with_an_unactuated_joint_sized_under_an_imf_limit(tmp_pa
     (tmp_path / "catalog.toml").write_text(CATALOG + STAGES, encoding="utf-8")
     text = path.read_text().replace('base = "fixed"', 'base = "floating"')
     text = text.replace("max_stages = 0", "max_stages = 1")
-    text = text.replace('name = "bump"\nkind = "impact"', 'name = "bump"\nkind = "impact"\nimf_min = 0.02')
+    text = text.replace(
+        'name = "bump"\nkind = "impact"', 'name = "bump"\nkind = "impact"\nimf_min = 0.02'
+    )
     # a free elbow cannot hold the arm's weight: lift along the elbow-neutral direction only
-    text = text.replace('name = "lift"\nkind = "payload"\nframe = "tip"\ndirection = [0, 1, 0]',
-                        'name = "lift"\nkind = "payload"\nframe = "link1"\ndirection = [0, 1, 0]')
+    text = text.replace(
+        'name = "lift"\nkind = "payload"\nframe = "tip"\ndirection = [0, 1, 0]',
+        'name = "lift"\nkind = "payload"\nframe = "link1"\ndirection = [0, 1, 0]',
+    )
     path.write_text(text)
     p = load_project(path)
     assert p.robot.base == "floating"

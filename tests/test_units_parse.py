@@ -11,25 +11,50 @@ from hypothesis import strategies as st
 from jointwright.errors import InputError
 from jointwright.units import SI_UNITS, _parse, _parse_pint, quantity
 
-UNITS = [("kg", "mass"), ("g", "mass"), ("deg", "angle"), ("N", "force"), ("N*m", "torque"),
-         ("kg*m^2", "inertia"), ("kg*cm^2", "inertia"), ("rpm", "angular_velocity"),
-         ("m/s", "velocity"), ("mm", "length"), ("km/h", "velocity"), ("mN*m/A", "torque_constant"),
-         ("ohm", "resistance"), ("K/W", "thermal_resistance"), ("g*cm**2", "inertia"),
-         ("degC", "temperature"), ("degF", "temperature"), ("kelvin", "temperature")]
+UNITS = [
+    ("kg", "mass"),
+    ("g", "mass"),
+    ("deg", "angle"),
+    ("N", "force"),
+    ("N*m", "torque"),
+    ("kg*m^2", "inertia"),
+    ("kg*cm^2", "inertia"),
+    ("rpm", "angular_velocity"),
+    ("m/s", "velocity"),
+    ("mm", "length"),
+    ("km/h", "velocity"),
+    ("mN*m/A", "torque_constant"),
+    ("ohm", "resistance"),
+    ("K/W", "thermal_resistance"),
+    ("g*cm**2", "inertia"),
+    ("degC", "temperature"),
+    ("degF", "temperature"),
+    ("kelvin", "temperature"),
+]
 
 
-@given(x=st.floats(-1e6, 1e6, allow_nan=False), unit=st.sampled_from(UNITS),
-       style=st.sampled_from(["{x:.6g} {u}", "{x!r} {u}", "{x:.3e}{u}", "  {x:g}   {u} "]))
+@given(
+    x=st.floats(-1e6, 1e6, allow_nan=False),
+    unit=st.sampled_from(UNITS),
+    style=st.sampled_from(["{x:.6g} {u}", "{x!r} {u}", "{x:.3e}{u}", "  {x:g}   {u} "]),
+)
 def test_same_value_as_pint(x, unit, style):
     u, dim = unit
     text = style.format(x=x, u=u).strip()
-    assert _parse(text, dim, SI_UNITS[dim], "f", "x") == _parse_pint(text, dim, SI_UNITS[dim], "f", "x")
+    assert _parse(text, dim, SI_UNITS[dim], "f", "x") == _parse_pint(
+        text, dim, SI_UNITS[dim], "f", "x"
+    )
 
 
-@pytest.mark.parametrize("text, dim, rule", [("3 m", "mass", "convertible to kg"),
-                                             ("3 N*m", "force", "convertible to N"),
-                                             ("2 furlongs", "mass", "convertible to kg"),
-                                             ("5 kg", "dimensionless", "dimensionless")])
+@pytest.mark.parametrize(
+    "text, dim, rule",
+    [
+        ("3 m", "mass", "convertible to kg"),
+        ("3 N*m", "force", "convertible to N"),
+        ("2 furlongs", "mass", "convertible to kg"),
+        ("5 kg", "dimensionless", "dimensionless"),
+    ],
+)
 def test_wrong_units_still_fail_with_the_rule(text, dim, rule):
     for _ in range(2):  # the second time through the factor cache
         with pytest.raises(InputError, match=rule):

@@ -148,15 +148,17 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
                 idx = int(v.reshape(-1)[0])
                 metrics[k] = names[idx] if idx >= 0 else None
             elif k == "contact_force_z":
-                for (frame, _, _), f in zip(case.contacts, v.reshape(-1)):
+                for (frame, _, _), f in zip(case.contacts, v.reshape(-1), strict=True):
                     metrics[f"normal_force:{frame}"] = float(f)
             elif k == "joint_torque":
                 tau = v.reshape(-1, len(names))[0]
-                metrics.update({f"joint_torque:{n}": float(t) for n, t in zip(names, tau)})
+                metrics.update(
+                    {f"joint_torque:{n}": float(t) for n, t in zip(names, tau, strict=True)}
+                )
                 if case.kind == "payload":
                     modes = _payload_modes(evaluator, case.name, tau)
             elif v.ndim == 2 and v.shape == (1, len(names)):
-                metrics.update({f"{k}:{n}": float(x) for n, x in zip(names, v[0])})
+                metrics.update({f"{k}:{n}": float(x) for n, x in zip(names, v[0], strict=True)})
             elif v.ndim >= 1 and v.shape[0] == 1:
                 metrics[k] = v.reshape(-1)[0].item()
         if case.kind in ("payload", "stance") and "payload" in metrics:
@@ -166,8 +168,16 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
         cases.append(CaseResult(case.name, case.kind, metrics, limiting, modes, note))
     cl = checks(project, arrays, ev)
     results = tuple(
-        CheckResult(c.subject, c.name, float(c.achieved[0]), c.limit, c.sense, c.unit,
-                    float(c.margin[0]), bool(c.ok[0]))
+        CheckResult(
+            c.subject,
+            c.name,
+            float(c.achieved[0]),
+            c.limit,
+            c.sense,
+            c.unit,
+            float(c.margin[0]),
+            bool(c.ok[0]),
+        )
         for c in cl
     )
     cautions = [CAUTION]
@@ -176,8 +186,9 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
             "Contact speeds use the two-body transient-contact model of ISO/TS 15066 with the body-"
             "region values given in the project: they do not cover clamping, pressure limits, the "
             "robot's stopping time or the risk assessment, which stay with the applicable standards "
-            "and licensed engineering practice.")
-    for j, a in zip(names, design.actuators):
+            "and licensed engineering practice."
+        )
+    for j, a in zip(names, design.actuators, strict=True):
         if a.self_locking:
             cautions.append(
                 f"{j}: self-locking transmission (backward efficiency {a.eta_backward:.2f} ≤ 0). It "
@@ -187,7 +198,7 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
     return Assessment(
         project=project.name,
         design=design.name,
-        joints=tuple(joint_summary(j, a) for j, a in zip(names, design.actuators)),
+        joints=tuple(joint_summary(j, a) for j, a in zip(names, design.actuators, strict=True)),
         cases=tuple(cases),
         checks=results,
         total_mass=design.mass,
@@ -204,25 +215,41 @@ def _zero_payload_note(project, case, metrics: dict, limiting: str | None) -> st
         if metrics.get("carries_load", True):
             return None
         if limiting in robot.free:
-            return (f"free joint {limiting} would have to carry torque to hold this load; a free "
-                    "joint holds none (make it held or actuated, or change the pose)")
+            return (
+                f"free joint {limiting} would have to carry torque to hold this load; a free "
+                "joint holds none (make it held or actuated, or change the pose)"
+            )
         return "the joints cannot carry this load at this pose, even at rest"
     if case.kind not in ("payload", "stance") or metrics.get("payload") != 0.0:
         return None
-    if case.kind == "payload" and getattr(case, "tip_speed", 0.0) > 0 and limiting in robot.actuated \
-            and metrics.get("self_supporting", True) is False:
-        return (f"at a tip speed of {case.tip_speed:g} m/s joint {limiting}'s motor runs out of torque "
-                "on its torque-speed line (or past its top speed) before it holds the robot's own "
-                "weight: lower the tip speed or give that joint more speed")
+    if (
+        case.kind == "payload"
+        and getattr(case, "tip_speed", 0.0) > 0
+        and limiting in robot.actuated
+        and metrics.get("self_supporting", True) is False
+    ):
+        return (
+            f"at a tip speed of {case.tip_speed:g} m/s joint {limiting}'s motor runs out of torque "
+            "on its torque-speed line (or past its top speed) before it holds the robot's own "
+            "weight: lower the tip speed or give that joint more speed"
+        )
     if limiting in robot.free:
-        return (f"free joint {limiting} would have to carry torque to hold this load at this pose; a "
-                "free joint holds none (make it held or actuated, or change the pose)")
+        return (
+            f"free joint {limiting} would have to carry torque to hold this load at this pose; a "
+            "free joint holds none (make it held or actuated, or change the pose)"
+        )
     if not metrics.get("self_supporting", True):
         if case.kind == "stance" and not metrics.get("holds_with_unlimited_torque", True):
-            free = f", or a free joint ({', '.join(robot.free)}) would need torque" if robot.free else ""
-            return ("no contact forces inside the friction cones hold the robot even with unlimited "
-                    "joint torque: the centre of mass is outside the support, or a contact would have "
-                    f"to pull or slip{free}")
+            free = (
+                f", or a free joint ({', '.join(robot.free)}) would need torque"
+                if robot.free
+                else ""
+            )
+            return (
+                "no contact forces inside the friction cones hold the robot even with unlimited "
+                "joint torque: the centre of mass is outside the support, or a contact would have "
+                f"to pull or slip{free}"
+            )
         who = f": joint {limiting} runs out of torque first" if limiting else ""
         return f"the actuators cannot hold the robot's own weight at this pose{who}"
     if limiting:
@@ -234,7 +261,7 @@ def _payload_modes(evaluator: Evaluator, case_name: str, tau: np.ndarray) -> dic
     pc = next(p for p in evaluator.cases if p.case.name == case_name)
     sign = pc.velocity_sign
     power = np.sign(tau) * sign
-    return {j: MODE_NAMES[int(p)] for j, p in zip(evaluator.robot.actuated, power)}
+    return {j: MODE_NAMES[int(p)] for j, p in zip(evaluator.robot.actuated, power, strict=True)}
 
 
 def unloaded_joints(project, evaluator: Evaluator | None = None) -> tuple[str, ...]:
@@ -260,4 +287,3 @@ def unloaded_joints(project, evaluator: Evaluator | None = None) -> tuple[str, .
         loaded |= peak > 1e-9 * max(float(peak.max(initial=0.0)), 1e-300)
         loaded |= np.abs(np.asarray(pd.qd)).max(axis=-1) > 0
     return tuple(n for n, ok in zip(names, loaded, strict=True) if not ok)
-

@@ -61,12 +61,17 @@ def design_from_dict(data: dict, project, file: str = "<api>") -> Design:
     robot, catalog = project.robot, project.catalog
     for j in jt.data:
         if j not in robot.actuated:
-            raise InputError(file, jt.field(j), f"unknown joint {j!r}; actuated joints are "
-                             f"{', '.join(robot.actuated)}")
+            raise InputError(
+                file,
+                jt.field(j),
+                f"unknown joint {j!r}; actuated joints are {', '.join(robot.actuated)}",
+            )
     acts = []
     for j in robot.actuated:
         if j not in jt.data:
-            raise InputError(file, jt.field(j), "is required: every actuated joint needs an actuator")
+            raise InputError(
+                file, jt.field(j), "is required: every actuated joint needs an actuator"
+            )
         acts.append(_actuator(jt.table(j), catalog, project.max_stages))
     jt.done()
     top.done()
@@ -79,11 +84,17 @@ def _actuator(t: Table, catalog, max_stages: int) -> Actuator:
     try:
         motor = catalog.motor(mname)
     except KeyError:
-        raise InputError(t.file, t.field("motor"), f"unknown motor {mname!r}; not in the catalog") from None
+        raise InputError(
+            t.file, t.field("motor"), f"unknown motor {mname!r}; not in the catalog"
+        ) from None
     stages = []
     entries = t.list("stages", [])
     if len(entries) > max(max_stages, 0):
-        raise InputError(t.file, t.field("stages"), f"at most {max_stages} stages (catalog.max_stages), got {len(entries)}")
+        raise InputError(
+            t.file,
+            t.field("stages"),
+            f"at most {max_stages} stages (catalog.max_stages), got {len(entries)}",
+        )
     for i, e in enumerate(entries):
         st = Table(e, t.file, f"{t.field('stages')}[{i}]")
         st.expect("stage", "frame", "ratio")
@@ -91,18 +102,29 @@ def _actuator(t: Table, catalog, max_stages: int) -> Actuator:
         try:
             stage = catalog.stage(sname)
         except KeyError:
-            raise InputError(t.file, st.field("stage"), f"unknown stage type {sname!r}; not in the catalog") from None
+            raise InputError(
+                t.file, st.field("stage"), f"unknown stage type {sname!r}; not in the catalog"
+            ) from None
         fname = st.str("frame")
         try:
             frame = stage.frame(fname)
         except KeyError:
             names = ", ".join(f.name for f in stage.frames)
-            raise InputError(t.file, st.field("frame"), f"unknown frame {fname!r} of {sname}; it has {names}") from None
+            raise InputError(
+                t.file, st.field("frame"), f"unknown frame {fname!r} of {sname}; it has {names}"
+            ) from None
         ratio = st.quantity("ratio", "ratio", sign="positive")
         if not stage.allows(ratio):
-            allowed = (f"one of {list(stage.ratios)}" if stage.ratios is not None
-                       else f"in [{stage.ratio_range[0]:g}, {stage.ratio_range[1]:g}]")
-            raise InputError(t.file, st.field("ratio"), f"ratio {ratio:g} not offered by {sname}: must be {allowed}")
+            allowed = (
+                f"one of {list(stage.ratios)}"
+                if stage.ratios is not None
+                else f"in [{stage.ratio_range[0]:g}, {stage.ratio_range[1]:g}]"
+            )
+            raise InputError(
+                t.file,
+                st.field("ratio"),
+                f"ratio {ratio:g} not offered by {sname}: must be {allowed}",
+            )
         st.done()
         stages.append(StageChoice(stage, frame, ratio))
     t.done()
@@ -112,11 +134,12 @@ def _actuator(t: Table, catalog, max_stages: int) -> Actuator:
 def design_to_toml(design: Design) -> str:
     """The design file text for a design (round-trips through :func:`load_design`)."""
     lines = ["[design]", f'name = "{design.name}"', ""]
-    for j, a in zip(design.joints, design.actuators):
+    for j, a in zip(design.joints, design.actuators, strict=True):
         lines.append(f"[joint.{j}]")
         lines.append(f'motor = "{a.motor.name}"')
         st = ", ".join(
-            f'{{ stage = "{s.stage.name}", frame = "{s.frame.name}", ratio = {s.ratio!r} }}' for s in a.stages
+            f'{{ stage = "{s.stage.name}", frame = "{s.frame.name}", ratio = {s.ratio!r} }}'
+            for s in a.stages
         )
         lines.append(f"stages = [{st}]")
         lines.append("")
@@ -164,13 +187,20 @@ class DesignArrays:
         """Joint-side torque capacity per mode (N·m), (D, n); see drivetrain.torque_capacity."""
         tau = self.motor_continuous_torque if continuous else self.motor_peak_torque
         gear = self.gear_continuous_torque if continuous else self.gear_peak_torque
-        return torque_capacity(mode, self.ratio, self.eta_forward, self.eta_backward,
-                               self.self_locking, tau, gear)
+        return torque_capacity(
+            mode, self.ratio, self.eta_forward, self.eta_backward, self.self_locking, tau, gear
+        )
 
     def reflected_inertia(self, mode: str) -> np.ndarray:
         """Link-side reflected inertia per mode (kg·m²), (D, n); see drivetrain.reflected_inertia."""
-        return reflected_inertia(mode, self.ratio, self.eta_forward, self.eta_backward,
-                                 self.self_locking, self.rotor_inertia)
+        return reflected_inertia(
+            mode,
+            self.ratio,
+            self.eta_forward,
+            self.eta_backward,
+            self.self_locking,
+            self.rotor_inertia,
+        )
 
 
 _ACTUATOR_FIELDS = {

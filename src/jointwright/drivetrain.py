@@ -27,7 +27,9 @@ from .catalog.model import Motor, StageFrame, StageType
 MODES = ("frictionless", "motoring", "backdriven")
 
 
-def torque_capacity(mode, ratio, eta_forward, eta_backward, self_locking, motor_torque, gear_torque):
+def torque_capacity(
+    mode, ratio, eta_forward, eta_backward, self_locking, motor_torque, gear_torque
+):
     """Joint torque capacity in a power-flow mode (N·m), arrays broadcast.
 
     frictionless N·τ_m; motoring η_f·N·τ_m; back-driven (holding while the load drives) N·τ_m/η_b;
@@ -134,8 +136,16 @@ class Actuator:
 
     def reflected_inertia(self, mode: str) -> float:
         """Inertia seen at the joint from the link side (kg·m²); see :func:`reflected_inertia`."""
-        return float(reflected_inertia(mode, self.ratio, self.eta_forward, self.eta_backward,
-                                       self.self_locking, self.rotor_inertia))
+        return float(
+            reflected_inertia(
+                mode,
+                self.ratio,
+                self.eta_forward,
+                self.eta_backward,
+                self.self_locking,
+                self.rotor_inertia,
+            )
+        )
 
     @cached_property
     def mass(self) -> float:
@@ -163,14 +173,17 @@ class Actuator:
         torque split: stage k carries τ_j / (N_{k+1}…N_n). inf for direct drive."""
         if not self.stages:
             return math.inf
-        return min(s.frame.rated_peak_torque * self._ratio_after(k) for k, s in enumerate(self.stages))
+        return min(
+            s.frame.rated_peak_torque * self._ratio_after(k) for k, s in enumerate(self.stages)
+        )
 
     @cached_property
     def gear_continuous_torque(self) -> float:
         if not self.stages:
             return math.inf
         return min(
-            s.frame.rated_continuous_torque * self._ratio_after(k) for k, s in enumerate(self.stages)
+            s.frame.rated_continuous_torque * self._ratio_after(k)
+            for k, s in enumerate(self.stages)
         )
 
     def capacity(self, mode: str, *, continuous: bool = False) -> float:
@@ -178,8 +191,17 @@ class Actuator:
         :func:`torque_capacity`."""
         tau_m = self.motor.continuous_torque if continuous else self.motor.peak_torque
         gear = self.gear_continuous_torque if continuous else self.gear_peak_torque
-        return float(torque_capacity(mode, self.ratio, self.eta_forward, self.eta_backward,
-                                     self.self_locking, tau_m, gear))
+        return float(
+            torque_capacity(
+                mode,
+                self.ratio,
+                self.eta_forward,
+                self.eta_backward,
+                self.self_locking,
+                tau_m,
+                gear,
+            )
+        )
 
     @cached_property
     def breakaway_torque(self) -> float:

@@ -49,8 +49,11 @@ def prepare_duty(robot, case, file: str) -> PreparedDuty:
     # one configuration per sample, shared by the n + 1 inverse-dynamics passes below
     configs = []
     for s in range(T):
-        configs.append(robot.configuration(dict(zip(robot.actuated, traj.q[s])), case.base_xyz,
-                                           case.base_rpy))
+        configs.append(
+            robot.configuration(
+                dict(zip(robot.actuated, traj.q[s], strict=True)), case.base_xyz, case.base_rpy
+            )
+        )
         if s % 5000 == 4999:
             report(f"configurations along {Path(case.trajectory).name}", s + 1, T)
     passes = n + 2 if traj.frames else n + 1
@@ -66,8 +69,11 @@ def prepare_duty(robot, case, file: str) -> PreparedDuty:
             qd[v], qdd[v] = traj.qd[s], traj.qdd[s]
             out[s] = pin.rnea(model, data, q, qd, qdd)[v]
             if s % 5000 == 4999:
-                report(f"inverse dynamics along {Path(case.trajectory).name}", done[0] * T + s + 1,
-                       passes * T)
+                report(
+                    f"inverse dynamics along {Path(case.trajectory).name}",
+                    done[0] * T + s + 1,
+                    passes * T,
+                )
         done[0] += 1
         return out
 
@@ -89,8 +95,14 @@ def prepare_duty(robot, case, file: str) -> PreparedDuty:
             for f, fid in enumerate(fids):
                 J = pin.getFrameJacobian(base, data, fid, pin.LOCAL_WORLD_ALIGNED)
                 ext[s] += (J.T @ traj.wrench[s, f])[v]
-    return PreparedDuty(case=case, trajectory=traj, tau_links=(tau0 - ext).T, tau_mass=per_kg,
-                        qd=traj.qd.T.copy(), qdd=traj.qdd.T.copy())
+    return PreparedDuty(
+        case=case,
+        trajectory=traj,
+        tau_links=(tau0 - ext).T,
+        tau_mass=per_kg,
+        qd=traj.qd.T.copy(),
+        qdd=traj.qdd.T.copy(),
+    )
 
 
 #: torque a free joint may need along a duty cycle before the cycle is refused, N·m or N
@@ -107,15 +119,20 @@ def _check_free_joints(robot, case, traj) -> None:
     idx = [robot.joint_v_index[robot.joint_names.index(j)] for j in robot.free]
     peak = np.zeros(len(idx))
     for s in range(traj.t.size):
-        q = robot.configuration(dict(zip(robot.actuated, traj.q[s])), case.base_xyz, case.base_rpy)
+        q = robot.configuration(
+            dict(zip(robot.actuated, traj.q[s], strict=True)), case.base_xyz, case.base_rpy
+        )
         qd, qdd = np.zeros(model.nv), np.zeros(model.nv)
         qd[v], qdd[v] = traj.qd[s], traj.qdd[s]
         peak = np.maximum(peak, np.abs(pin.rnea(model, data, q, qd, qdd)[idx]))
     worst = int(np.argmax(peak))
     if peak[worst] > FREE_TORQUE_TOLERANCE:
-        raise InputError(str(case.trajectory), f"free joint {robot.free[worst]}",
-                         f"the cycle needs up to {peak[worst]:.4g} N·m (or N) there, but a free "
-                         "joint carries none: make it held or actuated, or give a motion it can follow")
+        raise InputError(
+            str(case.trajectory),
+            f"free joint {robot.free[worst]}",
+            f"the cycle needs up to {peak[worst]:.4g} N·m (or N) there, but a free "
+            "joint carries none: make it held or actuated, or give a motion it can follow",
+        )
 
 
 def joint_torques(pd: PreparedDuty, masses: np.ndarray) -> np.ndarray:
@@ -123,10 +140,30 @@ def joint_torques(pd: PreparedDuty, masses: np.ndarray) -> np.ndarray:
     return pd.tau_links + np.einsum("dk,knt->dnt", masses, pd.tau_mass)
 
 
-_OPTIONAL = ("torque_constant", "resistance", "bus_voltage", "thermal_resistance", "thermal_time_constant")
-_PER_JOINT = ("rms_torque", "peak_torque", "peak_speed", "peak_temperature", "rms_ratio", "peak_ratio",
-              "speed_ratio", "envelope_ratio", "thermal_ratio", "energy_regen", "energy_no_regen",
-              "backdriven_share", "transmission_loss", "joint_work", "worst_ratio")
+_OPTIONAL = (
+    "torque_constant",
+    "resistance",
+    "bus_voltage",
+    "thermal_resistance",
+    "thermal_time_constant",
+)
+_PER_JOINT = (
+    "rms_torque",
+    "peak_torque",
+    "peak_speed",
+    "peak_temperature",
+    "rms_ratio",
+    "peak_ratio",
+    "speed_ratio",
+    "envelope_ratio",
+    "thermal_ratio",
+    "energy_regen",
+    "energy_no_regen",
+    "backdriven_share",
+    "transmission_loss",
+    "joint_work",
+    "worst_ratio",
+)
 
 
 def evaluate_duty(pd: PreparedDuty, d, *, detail: bool = True) -> dict[str, np.ndarray]:
@@ -145,23 +182,36 @@ def evaluate_duty(pd: PreparedDuty, d, *, detail: bool = True) -> dict[str, np.n
         patterns = [present[0]] if present.all() or (~present).all() else np.unique(present, axis=0)
         for pattern in patterns:
             rows = np.all(present == pattern, axis=1)
-            opt = {k: (getattr(d, k)[rows, j] if has else None) for k, has in zip(_OPTIONAL, pattern)}
+            opt = {
+                k: (getattr(d, k)[rows, j] if has else None)
+                for k, has in zip(_OPTIONAL, pattern, strict=True)
+            }
             s = duty_summary(
-                tau[rows, j], pd.qd[j], pd.qdd[j], pd.trajectory.t,
-                ratio=d.ratio[rows, j], eta_f=d.eta_forward[rows, j], eta_b=d.eta_backward[rows, j],
-                rotor_inertia=d.rotor_inertia[rows, j], peak_torque=d.motor_peak_torque[rows, j],
+                tau[rows, j],
+                pd.qd[j],
+                pd.qdd[j],
+                pd.trajectory.t,
+                ratio=d.ratio[rows, j],
+                eta_f=d.eta_forward[rows, j],
+                eta_b=d.eta_backward[rows, j],
+                rotor_inertia=d.rotor_inertia[rows, j],
+                peak_torque=d.motor_peak_torque[rows, j],
                 continuous_torque=d.motor_continuous_torque[rows, j],
                 max_speed=d.motor_max_speed[rows, j],
                 winding_temperature_max=d.winding_temperature_max[rows, j],
-                ambient=pd.case.ambient, **opt,
+                ambient=pd.case.ambient,
+                **opt,
             )
             for k in _PER_JOINT:
                 per[k][rows, j] = getattr(s, k)
             limiting[rows, j] = np.asarray(s.limiting)
     j = np.argmax(np.where(np.isnan(per["worst_ratio"]), -np.inf, per["worst_ratio"]), axis=-1)
     pick = lambda x: np.take_along_axis(x, j[:, None], axis=-1)[:, 0]  # noqa: E731
-    out = {"rating_use": pick(per["worst_ratio"]), "limiting_joint": j,
-           "limiting_quantity": pick(limiting).astype(str)}
+    out = {
+        "rating_use": pick(per["worst_ratio"]),
+        "limiting_joint": j,
+        "limiting_quantity": pick(limiting).astype(str),
+    }
     if detail:
         out.update({k: per[k] for k in _PER_JOINT if k != "worst_ratio"})
         out["cycle_energy_regen"] = np.nansum(per["energy_regen"], axis=-1)

@@ -41,8 +41,13 @@ from .metrics.contact_safety import transient_contact
 from .metrics.inertia import effective_mass, forward_effective_mass, impact_mitigation
 from .metrics.linalg_small import inv_small
 from .metrics.payload import payload_along, torque_bounds
-from .metrics.speed import (acceleration_from_rest, endpoint_speed, loaded_endpoint_speed,
-                            payload_at_speed, speed_within_stroke)
+from .metrics.speed import (
+    acceleration_from_rest,
+    endpoint_speed,
+    loaded_endpoint_speed,
+    payload_at_speed,
+    speed_within_stroke,
+)
 from .robot.basis import gravity, mass_matrix, pose_basis
 
 #: joint velocity components below this fraction of the largest count as zero (holding)
@@ -83,20 +88,28 @@ class Evaluator:
         self.v_index = np.asarray(robot.v_index)
         # joints not actuated: held ones take any torque (structure, brake) and never move;
         # free ones take none and move
-        self.free_index = np.array([robot.joint_v_index[robot.joint_names.index(j)]
-                                    for j in robot.free], dtype=int)
-        self.held_index = np.array([robot.joint_v_index[robot.joint_names.index(j)]
-                                    for j in robot.held], dtype=int)
+        self.free_index = np.array(
+            [robot.joint_v_index[robot.joint_names.index(j)] for j in robot.free], dtype=int
+        )
+        self.held_index = np.array(
+            [robot.joint_v_index[robot.joint_names.index(j)] for j in robot.held], dtype=int
+        )
         #: joints a limiting-joint index of a payload or back-drive result refers to
         self.limit_joints = tuple(robot.actuated) + tuple(robot.free)
         self.cases = tuple(self._prepare(c) for c in project.cases if c.kind != "duty")
-        self.duty = tuple(prepare_duty(robot, c, str(project.file)) for c in project.cases
-                          if c.kind == "duty")
+        self.duty = tuple(
+            prepare_duty(robot, c, str(project.file)) for c in project.cases if c.kind == "duty"
+        )
 
     def _prepare(self, case) -> PreparedCase:
         robot = self.robot
-        q = robot.configuration(case.pose, case.base_xyz, case.base_rpy,
-                                file=str(self.project.file), field=f"case {case.name}.pose")
+        q = robot.configuration(
+            case.pose,
+            case.base_xyz,
+            case.base_rpy,
+            file=str(self.project.file),
+            field=f"case {case.name}.pose",
+        )
         contact_frames = [c[0] for c in case.contacts]
         basis = pose_basis(robot, q, [case.frame] + contact_frames)
         J = basis.J[0, :3, :]
@@ -112,8 +125,16 @@ class Evaluator:
         if case.kind == "stance" and case.motion != "hold":
             sign = _stance_velocity_sign(contact_J, J, u, case.motion, self.v_index)
         speed_terms = _speed_terms(robot, q, Jj, u) if case.kind == "speed" else None
-        return PreparedCase(case=case, basis=basis, J=J, Jj=Jj, u=u, velocity_sign=sign,
-                            contact_J=contact_J, speed_terms=speed_terms)
+        return PreparedCase(
+            case=case,
+            basis=basis,
+            J=J,
+            Jj=Jj,
+            u=u,
+            velocity_sign=sign,
+            contact_J=contact_J,
+            speed_terms=speed_terms,
+        )
 
     # ------------------------------------------------------------------------------------------
     def evaluate(self, d: DesignArrays, *, detail: bool = True) -> dict[str, dict[str, np.ndarray]]:
@@ -139,7 +160,9 @@ class Evaluator:
             out[pd.case.name] = evaluate_duty(pd, d, detail=detail)
         return out
 
-    def _payload(self, pc: PreparedCase, d: DesignArrays, detail: bool = True) -> dict[str, np.ndarray]:
+    def _payload(
+        self, pc: PreparedCase, d: DesignArrays, detail: bool = True
+    ) -> dict[str, np.ndarray]:
         """Tip force along u for three intended motions and with a frictionless transmission.
 
         ``payload_raise``: the tip moves along its force (pushing, lifting); ``payload_lower``:
@@ -163,8 +186,11 @@ class Evaluator:
                 lo, hi = self._free_bounds(lo, hi)
                 results[label] = payload_along(Jx, bias_x, lo, hi, pc.u)
         main = results[own]
-        out = {"payload": main.force, "limiting_joint": main.limiting_joint,
-               "self_supporting": main.feasible}
+        out = {
+            "payload": main.force,
+            "limiting_joint": main.limiting_joint,
+            "self_supporting": main.feasible,
+        }
         if detail:
             cap_0 = d.capacity("frictionless")
             lo0, hi0 = self._free_bounds(-cap_0, cap_0)
@@ -185,8 +211,10 @@ class Evaluator:
         (``g``: the full gravity vector, already computed)."""
         if not self.free_index.size:
             return pc.Jj, bias
-        return (np.concatenate([pc.Jj, pc.J[:, self.free_index]], axis=1),
-                np.concatenate([bias, self._free_gravity(g)], axis=-1))
+        return (
+            np.concatenate([pc.Jj, pc.J[:, self.free_index]], axis=1),
+            np.concatenate([bias, self._free_gravity(g)], axis=-1),
+        )
 
     def _free_bounds(self, lo: np.ndarray, hi: np.ndarray):
         """Torque bounds with the free joints appended: a free joint carries no torque."""
@@ -195,7 +223,9 @@ class Evaluator:
         zeros = np.zeros(lo.shape[:-1] + (self.free_index.size,))
         return np.concatenate([lo, zeros], axis=-1), np.concatenate([hi, zeros], axis=-1)
 
-    def _stance(self, pc: PreparedCase, d: DesignArrays, detail: bool = True) -> dict[str, np.ndarray]:
+    def _stance(
+        self, pc: PreparedCase, d: DesignArrays, detail: bool = True
+    ) -> dict[str, np.ndarray]:
         """Robot-level payload on several contacts (second-order cone program per design).
 
         The load at ``frame`` pushes on the robot with s·(−u); the contacts push with forces in
@@ -204,8 +234,11 @@ class Evaluator:
         from .metrics.contacts import solve_batch
 
         g = gravity(pc.basis, d.mass)
-        lo, hi = torque_bounds(np.broadcast_to(pc.velocity_sign, d.mass.shape),
-                               d.capacity("motoring"), d.capacity("backdriven"))
+        lo, hi = torque_bounds(
+            np.broadcast_to(pc.velocity_sign, d.mass.shape),
+            d.capacity("motoring"),
+            d.capacity("backdriven"),
+        )
         n = lo.shape[-1]
         rows = self.v_index
         if self.held_index.size:  # held joints: rows with any torque (the structure takes it)
@@ -214,9 +247,15 @@ class Evaluator:
             lo, hi = np.concatenate([lo, -inf], axis=-1), np.concatenate([hi, inf], axis=-1)
         frames = pc.case.contacts
         res = solve_batch(
-            actuated=rows, gravity=g, contact_jacobians=pc.contact_J,
-            normals=np.array([c[2] for c in frames]), friction=np.array([c[1] for c in frames]),
-            payload_jacobian=pc.J, payload_wrench=-pc.u, tau_low=lo, tau_high=hi,
+            actuated=rows,
+            gravity=g,
+            contact_jacobians=pc.contact_J,
+            normals=np.array([c[2] for c in frames]),
+            friction=np.array([c[1] for c in frames]),
+            payload_jacobian=pc.J,
+            payload_wrench=-pc.u,
+            tau_low=lo,
+            tau_high=hi,
         )
         lo, hi = lo[..., :n], hi[..., :n]
         ok = res.status == "optimal"
@@ -230,10 +269,16 @@ class Evaluator:
             if not np.all(ok):  # why not: is it the joints, or the contacts and balance?
                 inf = np.full(lo.shape[:-1] + (rows.size,), np.inf)
                 rigid = solve_batch(
-                    actuated=rows, gravity=g, contact_jacobians=pc.contact_J,
+                    actuated=rows,
+                    gravity=g,
+                    contact_jacobians=pc.contact_J,
                     normals=np.array([c[2] for c in frames]),
                     friction=np.array([c[1] for c in frames]),
-                    payload_jacobian=pc.J, payload_wrench=-pc.u, tau_low=-inf, tau_high=inf)
+                    payload_jacobian=pc.J,
+                    payload_wrench=-pc.u,
+                    tau_low=-inf,
+                    tau_high=inf,
+                )
                 out["holds_with_unlimited_torque"] = rigid.status != "infeasible"
             out["contact_force_z"] = res.contact_forces[..., 2]
             out["slipping_contacts"] = res.cone_binding.sum(axis=-1)
@@ -249,9 +294,14 @@ class Evaluator:
         qd = np.linalg.pinv(pc.Jj) @ pc.u * pc.case.tip_speed
         known = ~(np.isnan(d.torque_constant) | np.isnan(d.resistance) | np.isnan(d.bus_voltage))
         cap = payload_at_speed(
-            qd, d.ratio, eta_f=d.eta_forward, eta_b=d.eta_backward,
-            gear_rating=d.gear_peak_torque, peak_torque=d.motor_peak_torque,
-            max_speed=d.motor_max_speed, torque_constant=np.where(known, d.torque_constant, 1.0),
+            qd,
+            d.ratio,
+            eta_f=d.eta_forward,
+            eta_b=d.eta_backward,
+            gear_rating=d.gear_peak_torque,
+            peak_torque=d.motor_peak_torque,
+            max_speed=d.motor_max_speed,
+            torque_constant=np.where(known, d.torque_constant, 1.0),
             resistance=np.where(known, d.resistance, 1.0),
             bus_voltage=np.where(known, d.bus_voltage, np.inf),
             winding_temperature=d.winding_temperature_max,
@@ -259,7 +309,9 @@ class Evaluator:
         hold = np.where(d.self_locking, d.gear_peak_torque, cap.backdriven)
         return cap.forward, hold
 
-    def _impact(self, pc: PreparedCase, d: DesignArrays, detail: bool = True) -> dict[str, np.ndarray]:
+    def _impact(
+        self, pc: PreparedCase, d: DesignArrays, detail: bool = True
+    ) -> dict[str, np.ndarray]:
         """Inertia at the contact per power-flow direction (docs/metrics.md).
 
         Back-driven (the impact drives the motors): M + N²·I_r/η_b, self-locking joints locked;
@@ -280,8 +332,14 @@ class Evaluator:
         for mode in ("frictionless", "backdriven") if detail else ("backdriven",):
             refl = d.reflected_inertia(mode)
             refl = np.where(np.isfinite(refl), refl, 0.0)
-            H = mass_matrix(pc.basis, d.mass, refl, rotor_inertia=d.rotor_inertia, ratio=d.ratio,
-                            coupling=self.project.rotor_coupling)
+            H = mass_matrix(
+                pc.basis,
+                d.mass,
+                refl,
+                rotor_inertia=d.rotor_inertia,
+                ratio=d.ratio,
+                coupling=self.project.rotor_coupling,
+            )
             lock = locked if mode == "backdriven" else structure
             suffix = "" if mode == "backdriven" else f"_{mode}"
             if self.floating:
@@ -292,7 +350,8 @@ class Evaluator:
                 out["imf_direction" + suffix] = imf.imf_direction
                 out["contact_rank" + suffix] = imf.rank
                 out["effective_mass" + suffix] = 1.0 / np.einsum(
-                    "i,...ij,j->...", pc.u, inv_small(imf.Lambda), pc.u)
+                    "i,...ij,j->...", pc.u, inv_small(imf.Lambda), pc.u
+                )
             else:
                 out["effective_mass" + suffix] = _effective_mass_locked(pc.J, H, pc.u, lock)
         region = getattr(pc.case, "body_region", None)
@@ -304,15 +363,22 @@ class Evaluator:
                 out["contact_energy"] = contact.energy
         return out
 
-    def _forward_effective_mass(self, pc: PreparedCase, d: DesignArrays,
-                                directions: np.ndarray | None = None) -> np.ndarray:
+    def _forward_effective_mass(
+        self, pc: PreparedCase, d: DesignArrays, directions: np.ndarray | None = None
+    ) -> np.ndarray:
         """Forward-driving effective mass (metrics.inertia.forward_effective_mass) along the
         case direction for D designs, (D,); or, for one design, along each of ``directions``
         (k, 3), (k,)."""
         coupling = self.project.rotor_coupling
         M = mass_matrix(pc.basis, d.mass, np.zeros_like(d.mass))
-        H0 = mass_matrix(pc.basis, d.mass, d.reflected_inertia("frictionless"),
-                         rotor_inertia=d.rotor_inertia, ratio=d.ratio, coupling=coupling)
+        H0 = mass_matrix(
+            pc.basis,
+            d.mass,
+            d.reflected_inertia("frictionless"),
+            rotor_inertia=d.rotor_inertia,
+            ratio=d.ratio,
+            coupling=coupling,
+        )
         nv = M.shape[-1]
         ef = np.ones(d.mass.shape[:-1] + (nv,))
         eb = np.ones_like(ef)
@@ -336,12 +402,15 @@ class Evaluator:
         Jx, breakaway = pc.Jj, d.breakaway_torque
         if self.free_index.size:
             Jx = np.concatenate([pc.Jj, pc.J[:, self.free_index]], axis=1)
-            breakaway = np.concatenate([breakaway, np.zeros(
-                breakaway.shape[:-1] + (self.free_index.size,))], axis=-1)
+            breakaway = np.concatenate(
+                [breakaway, np.zeros(breakaway.shape[:-1] + (self.free_index.size,))], axis=-1
+            )
         r = backdrive_force(Jx, breakaway, pc.u)
         return {"backdrive_force": r.force, "limiting_joint": r.limiting_joint}
 
-    def _speed(self, pc: PreparedCase, d: DesignArrays, detail: bool = True) -> dict[str, np.ndarray]:
+    def _speed(
+        self, pc: PreparedCase, d: DesignArrays, detail: bool = True
+    ) -> dict[str, np.ndarray]:
         """End-point speed along u under the case's load, acceleration from rest, no-load speed.
 
         Load: gravity of links and actuators, the payload mass at the frame (its weight and, with
@@ -360,28 +429,54 @@ class Evaluator:
         g_vec = self.robot.gravity
         weight = case.payload_mass * (-g_vec)  # force the tip exerts to carry the payload, N
         g = gravity(pc.basis, d.mass)
-        tau_rest = g[..., self.v_index] + pc.Jj.T @ (weight + np.asarray(case.tip_force, dtype=float))
+        tau_rest = g[..., self.v_index] + pc.Jj.T @ (
+            weight + np.asarray(case.tip_force, dtype=float)
+        )
         tau_per_acc = M @ a + case.payload_mass * (pc.Jj.T @ pc.u)
         acc = case.acceleration
         known = ~(np.isnan(d.torque_constant) | np.isnan(d.resistance) | np.isnan(d.bus_voltage))
-        motor = dict(peak_torque=d.motor_peak_torque, max_speed=d.motor_max_speed,
-                     torque_constant=np.where(known, d.torque_constant, 1.0),
-                     resistance=np.where(known, d.resistance, 1.0),
-                     bus_voltage=np.where(known, d.bus_voltage, np.inf),
-                     winding_temperature=d.winding_temperature_max)
-        trans = dict(eta_f=d.eta_forward, eta_b=d.eta_backward, rotor_inertia=d.rotor_inertia,
-                     gear_rating=d.gear_peak_torque)
+        motor = dict(
+            peak_torque=d.motor_peak_torque,
+            max_speed=d.motor_max_speed,
+            torque_constant=np.where(known, d.torque_constant, 1.0),
+            resistance=np.where(known, d.resistance, 1.0),
+            bus_voltage=np.where(known, d.bus_voltage, np.inf),
+            winding_temperature=d.winding_temperature_max,
+        )
+        trans = dict(
+            eta_f=d.eta_forward,
+            eta_b=d.eta_backward,
+            rotor_inertia=d.rotor_inertia,
+            gear_rating=d.gear_peak_torque,
+        )
         c2 = pc.speed_terms[0] + d.mass @ pc.speed_terms[1:]
-        loaded = loaded_endpoint_speed(pc.Jj, tau_rest + acc * tau_per_acc, pc.u, d.ratio,
-                                       tau_per_speed2=c2,
-                                       joint_acceleration=np.broadcast_to(a * acc, (n_act,)),
-                                       **trans, **motor)
-        accel = acceleration_from_rest(pc.Jj, tau_rest, tau_per_acc, pc.u, d.ratio, **trans, **motor)
+        loaded = loaded_endpoint_speed(
+            pc.Jj,
+            tau_rest + acc * tau_per_acc,
+            pc.u,
+            d.ratio,
+            tau_per_speed2=c2,
+            joint_acceleration=np.broadcast_to(a * acc, (n_act,)),
+            **trans,
+            **motor,
+        )
+        accel = acceleration_from_rest(
+            pc.Jj, tau_rest, tau_per_acc, pc.u, d.ratio, **trans, **motor
+        )
         speed, limiting = loaded.speed, loaded.limiting_joint
         extra = {}
         if case.stroke > 0:
-            within = speed_within_stroke(pc.Jj, tau_rest, tau_per_acc, pc.u, d.ratio, case.stroke,
-                                         tau_per_speed2=c2, **trans, **motor)
+            within = speed_within_stroke(
+                pc.Jj,
+                tau_rest,
+                tau_per_acc,
+                pc.u,
+                d.ratio,
+                case.stroke,
+                tau_per_speed2=c2,
+                **trans,
+                **motor,
+            )
             speed, limiting = within.speed, within.limiting_joint
             extra = {"speed_steady": loaded.speed, "stroke_time": within.time}
         carries = loaded.carries_load
@@ -389,18 +484,26 @@ class Evaluator:
             # a free joint carries no torque: a load that needs torque there cannot be carried
             # (the motion is held still at the free joints; their weight and the load's share)
             Jf = pc.J[:, self.free_index]
-            tau_free = self._free_gravity(g) + Jf.T @ (weight + np.asarray(case.tip_force, dtype=float))
+            tau_free = self._free_gravity(g) + Jf.T @ (
+                weight + np.asarray(case.tip_force, dtype=float)
+            )
             stuck = np.any(np.abs(tau_free) > FREE_JOINT_TOLERANCE, axis=-1)
             carries = carries & ~stuck
             speed = np.where(stuck, 0.0, speed)
             accel_value = np.where(stuck, 0.0, accel.acceleration)
-            limiting = np.where(stuck, len(self.v_index) + np.argmax(np.abs(tau_free), axis=-1), limiting)
+            limiting = np.where(
+                stuck, len(self.v_index) + np.argmax(np.abs(tau_free), axis=-1), limiting
+            )
         else:
             accel_value = accel.acceleration
-        out = {"speed": speed, "limiting_joint": limiting, **extra,
-               "carries_load": carries,
-               "acceleration": accel_value,
-               "acceleration_limiting_joint": accel.limiting_joint}
+        out = {
+            "speed": speed,
+            "limiting_joint": limiting,
+            **extra,
+            "carries_load": carries,
+            "acceleration": accel_value,
+            "acceleration_limiting_joint": accel.limiting_joint,
+        }
         if detail:
             out["speed_no_load"] = endpoint_speed(pc.Jj, d.motor_max_speed / d.ratio, pc.u).speed
             out["motor_torque"] = loaded.motor_torque

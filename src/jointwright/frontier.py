@@ -62,23 +62,44 @@ class Frontier:
         from .assessment import _jsonable
         from .design import design_to_toml
 
-        return _jsonable({
-            "measure": self.measure, "case": self.case, "sense": self.sense, "complete": self.complete,
-            "knee": self.knee, "seconds": self.seconds, "solves": self.solves,
-            "method": self.method, "designs_scored": self.scored,
-            "points": [{"payload": p.payload, "measure": p.measure, "mass": p.mass,
+        return _jsonable(
+            {
+                "measure": self.measure,
+                "case": self.case,
+                "sense": self.sense,
+                "complete": self.complete,
+                "knee": self.knee,
+                "seconds": self.seconds,
+                "solves": self.solves,
+                "method": self.method,
+                "designs_scored": self.scored,
+                "points": [
+                    {
+                        "payload": p.payload,
+                        "measure": p.measure,
+                        "mass": p.mass,
                         "changes": list(p.changes),
-                        "actuators": {j: a.label() for j, a in zip(p.design.joints, p.design.actuators)},
-                        "design_toml": design_to_toml(p.design)} for p in self.points],
-        })
+                        "actuators": {
+                            j: a.label()
+                            for j, a in zip(p.design.joints, p.design.actuators, strict=True)
+                        },
+                        "design_toml": design_to_toml(p.design),
+                    }
+                    for p in self.points
+                ],
+            }
+        )
 
 
 def _case(project, measure: str, case: str | None):
     kind = MEASURES[measure][0]
     if measure == "imf" and project.robot.n_base != 6:
-        raise InputError(str(project.file), "robot.base",
-                         "measure imf (impact mitigation factor) needs a floating base; for a "
-                         "fixed-base arm use --measure effective_mass")
+        raise InputError(
+            str(project.file),
+            "robot.base",
+            "measure imf (impact mitigation factor) needs a floating base; for a "
+            "fixed-base arm use --measure effective_mass",
+        )
     if case is None:
         for c in project.cases:
             if c.kind == kind:
@@ -89,7 +110,9 @@ def _case(project, measure: str, case: str | None):
     except KeyError:
         raise InputError("<api>", "case", f"no case named {case!r}") from None
     if c.kind != kind:
-        raise InputError("<api>", "case", f"measure {measure} needs a {kind} case; {case!r} is {c.kind}")
+        raise InputError(
+            "<api>", "case", f"measure {measure} needs a {kind} case; {case!r} is {c.kind}"
+        )
     return c
 
 
@@ -106,9 +129,16 @@ def with_limit(project, case_name: str, key: str, value: float | None):
     return dataclasses.replace(project, cases=tuple(cases))
 
 
-def frontier(project, measure: str = "imf", *, case: str | None = None, points: int = 50,
-             time_limit: float | None = None, backend: str = "search",
-             method: str = "auto") -> Frontier:
+def frontier(
+    project,
+    measure: str = "imf",
+    *,
+    case: str | None = None,
+    points: int = 50,
+    time_limit: float | None = None,
+    backend: str = "search",
+    method: str = "auto",
+) -> Frontier:
     """Payload versus ``measure`` at ``case``: the non-dominated designs, largest payload first.
 
     Parameters
@@ -128,7 +158,9 @@ def frontier(project, measure: str = "imf", *, case: str | None = None, points: 
     Frontier
     """
     if measure not in MEASURES:
-        raise InputError("<api>", "measure", f"must be one of {', '.join(MEASURES)}, got {measure!r}")
+        raise InputError(
+            "<api>", "measure", f"must be one of {', '.join(MEASURES)}, got {measure!r}"
+        )
     if not isinstance(points, int) or points < 1:
         raise InputError("<api>", "points", f"must be a whole number >= 1, got {points!r}")
     c = _case(project, measure, case)
@@ -154,8 +186,9 @@ def frontier(project, measure: str = "imf", *, case: str | None = None, points: 
             break
         current = with_limit(project, c.name, key, eps)
         upper = found[-1][0] if found else None  # the neighbour's payload bounds this one
-        status, payload, design = _solve(current, "payload", None, time_limit and left, upper, backend,
-                                         table)
+        status, payload, design = _solve(
+            current, "payload", None, time_limit and left, upper, backend, table
+        )
         solves += 1
         if status == "infeasible":
             complete = True
@@ -167,8 +200,9 @@ def frontier(project, measure: str = "imf", *, case: str | None = None, points: 
                 found.append((payload, _measure(project, design, c.name, metric), design))
             break
         left = None if time_limit is None else max(deadline - time.perf_counter(), 1e-3)
-        status2, _value, best = _solve(current, f"{metric}@{c.name}", payload, left, None, "search",
-                                       table)
+        status2, _value, best = _solve(
+            current, f"{metric}@{c.name}", payload, left, None, "search", table
+        )
         solves += 1
         if status2 == "optimal":
             design = best
@@ -183,7 +217,9 @@ def frontier(project, measure: str = "imf", *, case: str | None = None, points: 
             complete = True
             break
     pts = _points(found)
-    return Frontier(measure, c.name, sense, pts, complete, knee(pts, sense), time.perf_counter() - start, solves)
+    return Frontier(
+        measure, c.name, sense, pts, complete, knee(pts, sense), time.perf_counter() - start, solves
+    )
 
 
 #: the exhaustive front is used when the candidates combine into at most this many designs:
@@ -192,8 +228,17 @@ def frontier(project, measure: str = "imf", *, case: str | None = None, points: 
 EXHAUSTIVE_MAX = 2_000_000
 
 
-def _exhaustive(project, case: str, key: str, metric: str, sense: str, deadline: float,
-                start: float, limit: float, table) -> Frontier | None:
+def _exhaustive(
+    project,
+    case: str,
+    key: str,
+    metric: str,
+    sense: str,
+    deadline: float,
+    start: float,
+    limit: float,
+    table,
+) -> Frontier | None:
     """The complete front by scoring every candidate combination, or None when there are too
     many (the ε-constraint sweep takes over)."""
     from .sizing import build_model, design_of, read_objective, units_of
@@ -207,11 +252,23 @@ def _exhaustive(project, case: str, key: str, metric: str, sense: str, deadline:
     if total > limit:
         return None
     out = pareto_front(model, units, case, metric, sense, deadline=deadline)
-    found = [(payload, mu, design_of(project, model, idx, "frontier point"))
-             for payload, mu, idx, _mass in out.points]
+    found = [
+        (payload, mu, design_of(project, model, idx, "frontier point"))
+        for payload, mu, idx, _mass in out.points
+    ]
     pts = _points(found)
-    return Frontier(MEASURES_NAME[metric], case, sense, pts, out.complete, knee(pts, sense),
-                    time.perf_counter() - start, 0, "exhaustive", out.scored)
+    return Frontier(
+        MEASURES_NAME[metric],
+        case,
+        sense,
+        pts,
+        out.complete,
+        knee(pts, sense),
+        time.perf_counter() - start,
+        0,
+        "exhaustive",
+        out.scored,
+    )
 
 
 def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=None):
@@ -221,19 +278,31 @@ def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=
     ``upper``: a known bound from the neighbouring point, which ends the search when reached.
     Only the optimal value matters here, so ties are not searched.
     """
+    from .problem import load_for_payload
     from .sizing import build_model, design_of, read_objective, units_of
     from .solve.search import BranchAndBound
-
-    from .problem import load_for_payload
 
     p = project
     if payload_floor is not None:
         # the floor is a payload mass (kg); each case must reach the force that carries it
         floor = payload_floor - 1e-9 * abs(payload_floor) - 1e-12
-        p = dataclasses.replace(project, cases=tuple(
-            dataclasses.replace(c, limits={**c.limits, "payload_min": max(
-                float(load_for_payload(c, floor)), c.limits.get("payload_min", 0.0))})
-            if c.kind == "payload" and c.payload_share > 0 else c for c in project.cases))
+        p = dataclasses.replace(
+            project,
+            cases=tuple(
+                dataclasses.replace(
+                    c,
+                    limits={
+                        **c.limits,
+                        "payload_min": max(
+                            float(load_for_payload(c, floor)), c.limits.get("payload_min", 0.0)
+                        ),
+                    },
+                )
+                if c.kind == "payload" and c.payload_share > 0
+                else c
+                for c in project.cases
+            ),
+        )
     cfg = read_objective(project)
     model, _ = build_model(p, kind, cfg["pin"], cfg["exclude"], cfg["shared"], table=table)
     units = units_of(model.n, model.shared)
@@ -256,12 +325,20 @@ def _measure(project, design, case: str, metric: str) -> float:
 
 
 def _points(found) -> tuple:
-    keep = [f for i, f in enumerate(found)
-            if i + 1 == len(found) or found[i + 1][0] < f[0] - tie_tol(f[0])]
+    keep = [
+        f
+        for i, f in enumerate(found)
+        if i + 1 == len(found) or found[i + 1][0] < f[0] - tie_tol(f[0])
+    ]
     out, prev = [], None
     for payload, mu, d in keep:
-        changes = () if prev is None else tuple(
-            j for j, a, b in zip(d.joints, d.actuators, prev.actuators) if a != b)
+        changes = (
+            ()
+            if prev is None
+            else tuple(
+                j for j, a, b in zip(d.joints, d.actuators, prev.actuators, strict=True) if a != b
+            )
+        )
         out.append(FrontierPoint(payload, mu, d, d.mass, changes))
         prev = d
     return tuple(out)
@@ -281,12 +358,16 @@ def knee(points, sense: str) -> int | None:
     ys = [(v - min(m)) / span_m for v in m]
     (x0, y0), (x1, y1) = (xs[0], ys[0]), (xs[-1], ys[-1])
     norm = math.hypot(x1 - x0, y1 - y0) or 1.0
-    dist = [abs((x1 - x0) * (y0 - y) - (x0 - x) * (y1 - y0)) / norm for x, y in zip(xs, ys)]
+    dist = [
+        abs((x1 - x0) * (y0 - y) - (x0 - x) * (y1 - y0)) / norm for x, y in zip(xs, ys, strict=True)
+    ]
     return int(max(range(len(points)), key=lambda i: (dist[i], -i)))
 
 
 def dominates(a, b, sense: str) -> bool:
     """Whether point a dominates point b (payload larger is better; measure by ``sense``)."""
     better_m = a.measure >= b.measure if sense == "min" else a.measure <= b.measure
-    strict = a.payload > b.payload or (a.measure > b.measure if sense == "min" else a.measure < b.measure)
+    strict = a.payload > b.payload or (
+        a.measure > b.measure if sense == "min" else a.measure < b.measure
+    )
     return a.payload >= b.payload and better_m and strict

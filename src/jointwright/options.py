@@ -26,8 +26,28 @@ from .drivetrain import Actuator, StageChoice
 from .errors import InputError
 
 #: ISO 3 Renard R20 basic series over one decade [pub]
-R20 = (1.00, 1.12, 1.25, 1.40, 1.60, 1.80, 2.00, 2.24, 2.50, 2.80,
-       3.15, 3.55, 4.00, 4.50, 5.00, 5.60, 6.30, 7.10, 8.00, 9.00)
+R20 = (
+    1.00,
+    1.12,
+    1.25,
+    1.40,
+    1.60,
+    1.80,
+    2.00,
+    2.24,
+    2.50,
+    2.80,
+    3.15,
+    3.55,
+    4.00,
+    4.50,
+    5.00,
+    5.60,
+    6.30,
+    7.10,
+    8.00,
+    9.00,
+)
 
 #: largest number of options the table may hold (memory and build time)
 MAX_OPTIONS = 250_000
@@ -88,7 +108,11 @@ class OptionTable:
         r = self.rows
         refl = r["ratio"] ** 2 * r["rotor_inertia"]
         with np.errstate(divide="ignore"):
-            return np.where(r["self_locking"], np.inf, refl / np.where(r["self_locking"], 1.0, r["eta_backward"]))
+            return np.where(
+                r["self_locking"],
+                np.inf,
+                refl / np.where(r["self_locking"], 1.0, r["eta_backward"]),
+            )
 
 
 def stage_choices(project) -> list[StageChoice]:
@@ -118,13 +142,19 @@ def build_table(project, exclude=(), deadline=None) -> OptionTable:
     """
     banned = set(exclude)
     motors = [m for m in project.catalog.all_motors() if m.name not in banned]
-    singles = [s for s in stage_choices(project)
-               if s.stage.name not in banned and s.frame.name not in banned]
+    singles = [
+        s
+        for s in stage_choices(project)
+        if s.stage.name not in banned and s.frame.name not in banned
+    ]
     count = len(motors) * sum(len(singles) ** k for k in range(project.max_stages + 1))
     if count > MAX_OPTIONS:
-        raise InputError(str(project.file), "catalog.max_stages",
-                         f"{count} motor × stage-stack options exceed the limit of {MAX_OPTIONS}; "
-                         "lower max_stages, restrict stage_kinds or exclude stages")
+        raise InputError(
+            str(project.file),
+            "catalog.max_stages",
+            f"{count} motor × stage-stack options exceed the limit of {MAX_OPTIONS}; "
+            "lower max_stages, restrict stage_kinds or exclude stages",
+        )
     stacks = [()]
     for k in range(1, project.max_stages + 1):
         stacks.extend(itertools.product(singles, repeat=k))
@@ -142,8 +172,9 @@ def build_table(project, exclude=(), deadline=None) -> OptionTable:
     for f in fields(DesignArrays):
         dtype = bool if f.name == "self_locking" else float
         rows[f.name] = np.array([r[f.name] for r in rows_list], dtype=dtype)
-    return OptionTable(tuple(acts), np.array(motor_index, dtype=np.int64),
-                       tuple(m.name for m in motors), rows)
+    return OptionTable(
+        tuple(acts), np.array(motor_index, dtype=np.int64), tuple(m.name for m in motors), rows
+    )
 
 
 def option_key(a: Actuator) -> tuple:
@@ -159,8 +190,10 @@ def matches_pin(a: Actuator, pin: dict) -> bool:
         want = pin["stages"]
         if len(want) != len(a.stages):
             return False
-        for s, w in zip(a.stages, want):
-            if s.stage.name != w.get("stage", s.stage.name) or s.frame.name != w.get("frame", s.frame.name):
+        for s, w in zip(a.stages, want, strict=True):
+            if s.stage.name != w.get("stage", s.stage.name) or s.frame.name != w.get(
+                "frame", s.frame.name
+            ):
                 return False
             if "ratio" in w and abs(s.ratio - float(w["ratio"])) > 1e-9 * s.ratio:
                 return False
@@ -221,7 +254,9 @@ def _speed_masks(evaluator, table: OptionTable) -> list[tuple[int, str, np.ndarr
     return out
 
 
-def joint_candidates(project, table: OptionTable, evaluator, pins: dict | None = None) -> JointCandidates:
+def joint_candidates(
+    project, table: OptionTable, evaluator, pins: dict | None = None
+) -> JointCandidates:
     """Per joint, the options that pass its pin and every requirement that depends on it alone.
 
     Parameters

@@ -69,13 +69,19 @@ def checks(project, arrays, evaluation) -> list[Check]:
             if metric is None or metric not in ev:
                 continue
             sense = CASE_LIMITS[case.kind][key][1]
-            out.append(Check(key, case.name, np.asarray(ev[metric], dtype=float), limit, sense, unit))
+            out.append(
+                Check(key, case.name, np.asarray(ev[metric], dtype=float), limit, sense, unit)
+            )
     req = project.requirements
     total = arrays.mass.sum(axis=1)
     if math.isfinite(req.total_mass_max):
         out.append(Check("total_mass_max", "robot", total, req.total_mass_max, "max", "kg"))
     if math.isfinite(req.total_cost_max):
-        out.append(Check("total_cost_max", "robot", arrays.cost.sum(axis=1), req.total_cost_max, "max", "-"))
+        out.append(
+            Check(
+                "total_cost_max", "robot", arrays.cost.sum(axis=1), req.total_cost_max, "max", "-"
+            )
+        )
     refl = arrays.reflected_inertia("backdriven")
     for j, name in enumerate(project.robot.actuated):
         lim = req.joint(name)
@@ -135,8 +141,11 @@ def payload_mass(project, evaluation) -> np.ndarray:
     """The payload mass every case carries (kg), (D,): min over the payload and stance cases of
     :func:`carried_payload` of each case's achieved force. Cases not in ``evaluation`` (a screen
     without the stance cases) are left out, which can only raise the value."""
-    values = [carried_payload(c, evaluation[c.name]["payload"]) for c in payload_objective_cases(project)
-              if c.name in evaluation]
+    values = [
+        carried_payload(c, evaluation[c.name]["payload"])
+        for c in payload_objective_cases(project)
+        if c.name in evaluation
+    ]
     return np.min(values, axis=0)
 
 
@@ -152,6 +161,8 @@ def objective(project, arrays, evaluation, kind: str = "payload") -> np.ndarray:
     if kind == "mass":
         return -arrays.mass.sum(axis=1)
     if kind == "imf":
-        names = [c.name for c in project.cases if c.kind == "impact" and "imf" in evaluation[c.name]]
+        names = [
+            c.name for c in project.cases if c.kind == "impact" and "imf" in evaluation[c.name]
+        ]
         return np.min([np.asarray(evaluation[n]["imf"], dtype=float) for n in names], axis=0)
     raise ValueError(f"unknown objective {kind!r}; expected one of {OBJECTIVES}")

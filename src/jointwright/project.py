@@ -233,9 +233,15 @@ def _load_robot(t: Table, base_dir: Path):
         actuated = t.list("actuated", None)
         mounts = t.raw("mounts", None)
         robot = Robot.from_urdf(
-            urdf, floating=None if base is None else (base == "floating"), actuated=actuated,
-            mounts=mounts, unactuated=t.raw("unactuated", None), included=t.raw("included", None),
-            frames=t.list("frames", None), gravity=t.list("gravity", None), file=t.file,
+            urdf,
+            floating=None if base is None else (base == "floating"),
+            actuated=actuated,
+            mounts=mounts,
+            unactuated=t.raw("unactuated", None),
+            included=t.raw("included", None),
+            frames=t.list("frames", None),
+            gravity=t.list("gravity", None),
+            file=t.file,
             prefix=t.path,
         )
         t.done()
@@ -252,18 +258,26 @@ def _load_catalog(t: Table, base_dir: Path):
         raise InputError(t.file, t.field("files"), "must be a non-empty list of file paths")
     for i, f in enumerate(files):
         if not (base_dir / f).is_file():
-            raise InputError(t.file, f"{t.field('files')}[{i}]",
-                             f"no catalog file {str(base_dir / f)!r} (paths are relative to the project file)")
+            raise InputError(
+                t.file,
+                f"{t.field('files')}[{i}]",
+                f"no catalog file {str(base_dir / f)!r} (paths are relative to the project file)",
+            )
     catalog = load_catalogs([base_dir / f for f in files])
     max_stages = t.raw("max_stages", 2)
     if not isinstance(max_stages, int) or isinstance(max_stages, bool) or not 0 <= max_stages <= 3:
-        raise InputError(t.file, t.field("max_stages"), f"must be a whole number from 0 to 3, got {max_stages!r}")
+        raise InputError(
+            t.file, t.field("max_stages"), f"must be a whole number from 0 to 3, got {max_stages!r}"
+        )
     kinds = t.list("stage_kinds", None)
     if kinds is not None:
         for i, k in enumerate(kinds):
             if k not in STAGE_KINDS:
-                raise InputError(t.file, f"{t.field('stage_kinds')}[{i}]",
-                                 f"unknown stage kind {k!r}; known: {', '.join(STAGE_KINDS)}")
+                raise InputError(
+                    t.file,
+                    f"{t.field('stage_kinds')}[{i}]",
+                    f"unknown stage kind {k!r}; known: {', '.join(STAGE_KINDS)}",
+                )
         kinds = tuple(kinds)
     t.done()
     return catalog, max_stages, kinds
@@ -277,19 +291,28 @@ def _load_requirements(t: Table, robot) -> Requirements:
     for jname in list(jt.data):
         sub = jt.table(jname)
         if jname not in robot.actuated:
-            raise InputError(t.file, sub.path, f"unknown actuated joint {jname!r}; the robot has "
-                             f"{', '.join(robot.actuated)}")
+            raise InputError(
+                t.file,
+                sub.path,
+                f"unknown actuated joint {jname!r}; the robot has {', '.join(robot.actuated)}",
+            )
         joints[jname] = JointLimits(
             mass_max=sub.quantity("mass_max", "mass", math.inf, sign="positive"),
-            reflected_inertia_max=sub.quantity("reflected_inertia_max", "inertia", math.inf, sign="positive"),
+            reflected_inertia_max=sub.quantity(
+                "reflected_inertia_max", "inertia", math.inf, sign="positive"
+            ),
             diameter_max=sub.quantity("diameter_max", "length", math.inf, sign="positive"),
             length_max=sub.quantity("length_max", "length", math.inf, sign="positive"),
             ratio_min=sub.quantity("ratio_min", "ratio", 0.0, sign="nonnegative"),
             ratio_max=sub.quantity("ratio_max", "ratio", math.inf, sign="positive"),
         )
         if joints[jname].ratio_min > joints[jname].ratio_max:
-            raise InputError(t.file, sub.field("ratio_min"), f"must not exceed ratio_max "
-                             f"({joints[jname].ratio_max:g}), got {joints[jname].ratio_min:g}")
+            raise InputError(
+                t.file,
+                sub.field("ratio_min"),
+                f"must not exceed ratio_max "
+                f"({joints[jname].ratio_max:g}), got {joints[jname].ratio_min:g}",
+            )
         sub.done()
     jt.done()
     t.done()
@@ -308,30 +331,48 @@ def _read_pose(pt: Table, robot) -> dict[str, float]:
         if jn not in robot.joint_names:
             mimic = {f: lead for f, lead, *_ in robot.mimic}
             if jn in mimic:
-                raise InputError(pt.file, pt.field(jn), f"{jn!r} is a mimic joint: it follows "
-                                 f"{mimic[jn]!r}; give the leader's position")
-            raise InputError(pt.file, pt.field(jn), f"unknown joint {jn!r}; the robot's joints are "
-                             f"{', '.join(robot.joint_names)}")
+                raise InputError(
+                    pt.file,
+                    pt.field(jn),
+                    f"{jn!r} is a mimic joint: it follows "
+                    f"{mimic[jn]!r}; give the leader's position",
+                )
+            raise InputError(
+                pt.file,
+                pt.field(jn),
+                f"unknown joint {jn!r}; the robot's joints are {', '.join(robot.joint_names)}",
+            )
         revolute = robot.revolute[robot.joint_names.index(jn)]
         raw = pt.raw(jn)
         value = pt.quantity(jn, "angle" if revolute else "length")
         if revolute and not isinstance(raw, str) and abs(value) > 2 * math.pi:
-            raise InputError(pt.file, pt.field(jn), f"a plain number is radians and {raw!r} rad is "
-                             "more than a full turn; write the unit, e.g. \"90 deg\"")
+            raise InputError(
+                pt.file,
+                pt.field(jn),
+                f"a plain number is radians and {raw!r} rad is "
+                'more than a full turn; write the unit, e.g. "90 deg"',
+            )
         lo, hi = robot.position_limits(jn)
         if not lo - 1e-9 <= value <= hi + 1e-9:
             if revolute:
                 got = f"{value:.6g} rad ({math.degrees(value):.4g} deg)"
-                lim = (f"[{lo:.6g}, {hi:.6g}] rad ([{math.degrees(lo):.4g}, "
-                       f"{math.degrees(hi):.4g}] deg)")
+                lim = (
+                    f"[{lo:.6g}, {hi:.6g}] rad ([{math.degrees(lo):.4g}, "
+                    f"{math.degrees(hi):.4g}] deg)"
+                )
             else:
                 got, lim = f"{value:.6g} m", f"[{lo:.6g}, {hi:.6g}] m"
-            raise InputError(pt.file, pt.field(jn), f"{got} is outside the joint's limits {lim} "
-                             f"(from {robot.file})")
+            raise InputError(
+                pt.file,
+                pt.field(jn),
+                f"{got} is outside the joint's limits {lim} (from {robot.file})",
+            )
         pose[jn] = value
     missing = [j for j in robot.actuated if j not in pose]
     if missing:
-        raise InputError(pt.file, pt.field(missing[0]), "is required (every actuated joint needs a position)")
+        raise InputError(
+            pt.file, pt.field(missing[0]), "is required (every actuated joint needs a position)"
+        )
     pt.done()
     return pose
 
@@ -360,7 +401,9 @@ def _load_contacts(t: Table, robot) -> tuple:
     names = [f for f, _, _ in out]
     for i, f in enumerate(names):
         if f in names[:i]:
-            raise InputError(t.file, f"{t.field('contacts')}[{i}].frame", f"duplicate contact {f!r}")
+            raise InputError(
+                t.file, f"{t.field('contacts')}[{i}].frame", f"duplicate contact {f!r}"
+            )
     return tuple(out)
 
 
@@ -376,8 +419,12 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
         raw = t.raw("pose")
         if isinstance(raw, str):
             if raw not in (poses or {}):
-                raise InputError(t.file, t.field("pose"), f"unknown pose {raw!r}; named poses are "
-                                 f"{', '.join(poses) if poses else 'none ([poses.NAME] tables)'}")
+                raise InputError(
+                    t.file,
+                    t.field("pose"),
+                    f"unknown pose {raw!r}; named poses are "
+                    f"{', '.join(poses) if poses else 'none ([poses.NAME] tables)'}",
+                )
             pose = dict(poses[raw])
         else:
             pose = _read_pose(t.table("pose"), robot)
@@ -385,7 +432,9 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
     base_rpy = t.vector("base_rpy", 3, (0.0, 0.0, 0.0), "angle")
     for key in ("base_xyz", "base_rpy"):
         if t.has(key) and robot.base != "floating":
-            raise InputError(t.file, t.field(key), "only for a floating base; a fixed base is the world frame")
+            raise InputError(
+                t.file, t.field(key), "only for a floating base; a fixed base is the world frame"
+            )
     direction = None
     if kind in ("payload", "stance", "impact", "backdrive", "speed"):
         d = np.asarray(t.vector("direction", 3))
@@ -403,23 +452,49 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
             raise InputError(t.file, t.field("trajectory"), f"file not found: {trajectory}")
     ambient = t.quantity("ambient", "temperature", 25.0)
     if not AMBIENT_RANGE[0] <= ambient <= AMBIENT_RANGE[1]:
-        raise InputError(t.file, t.field("ambient"), f"must be from {AMBIENT_RANGE[0]:g} to "
-                         f"{AMBIENT_RANGE[1]:g} degC (the range of the winding resistance and "
-                         f"thermal models), got {ambient:g} degC")
-    tip_speed = t.quantity("tip_speed", "velocity", 0.0, sign="nonnegative") if kind == "payload" else 0.0
+        raise InputError(
+            t.file,
+            t.field("ambient"),
+            f"must be from {AMBIENT_RANGE[0]:g} to "
+            f"{AMBIENT_RANGE[1]:g} degC (the range of the winding resistance and "
+            f"thermal models), got {ambient:g} degC",
+        )
+    tip_speed = (
+        t.quantity("tip_speed", "velocity", 0.0, sign="nonnegative") if kind == "payload" else 0.0
+    )
     if tip_speed > 0 and motion == "hold":
-        raise InputError(t.file, t.field("tip_speed"), "a payload held still has no tip speed; use motion = along or against")
+        raise InputError(
+            t.file,
+            t.field("tip_speed"),
+            "a payload held still has no tip speed; use motion = along or against",
+        )
     fixed_load, payload_share = 0.0, 1.0
     if kind in ("payload", "stance"):
         fixed_load = _force_or_weight(t, "fixed_load") if t.has("fixed_load") else 0.0
         payload_share = t.quantity("payload_share", "dimensionless", 1.0, sign="nonnegative")
-    payload_mass = t.quantity("payload_mass", "mass", 0.0, sign="nonnegative") if kind == "speed" else 0.0
-    acceleration = t.quantity("acceleration", "acceleration", 0.0, sign="nonnegative") if kind == "speed" else 0.0
-    stroke = t.quantity("stroke", "length", 0.0, sign="positive") if kind == "speed" and t.has("stroke") else 0.0
-    tip_force = t.vector("tip_force", 3, (0.0, 0.0, 0.0), "force") if kind == "speed" else (0.0, 0.0, 0.0)
+    payload_mass = (
+        t.quantity("payload_mass", "mass", 0.0, sign="nonnegative") if kind == "speed" else 0.0
+    )
+    acceleration = (
+        t.quantity("acceleration", "acceleration", 0.0, sign="nonnegative")
+        if kind == "speed"
+        else 0.0
+    )
+    stroke = (
+        t.quantity("stroke", "length", 0.0, sign="positive")
+        if kind == "speed" and t.has("stroke")
+        else 0.0
+    )
+    tip_force = (
+        t.vector("tip_force", 3, (0.0, 0.0, 0.0), "force") if kind == "speed" else (0.0, 0.0, 0.0)
+    )
     if stroke > 0 and acceleration > 0:
-        raise InputError(t.file, t.field("stroke"), "give either stroke (reach the speed from rest within "
-                         "it) or acceleration (keep accelerating at speed), not both")
+        raise InputError(
+            t.file,
+            t.field("stroke"),
+            "give either stroke (reach the speed from rest within "
+            "it) or acceleration (keep accelerating at speed), not both",
+        )
     limits = {}
     t.allow(*CASE_LIMITS[kind])
     for key, (dim, _sense) in CASE_LIMITS[kind].items():
@@ -429,26 +504,56 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
             else:
                 limits[key] = t.quantity(key, dim, sign="nonnegative")
             if key.endswith("imf_min") and robot.base != "floating":
-                raise InputError(t.file, t.field(key), "needs a floating base: with a fixed base the "
-                                 "locked-joint inertia is unbounded and the IMF is 1; use effective_mass_max")
+                raise InputError(
+                    t.file,
+                    t.field(key),
+                    "needs a floating base: with a fixed base the "
+                    "locked-joint inertia is unbounded and the IMF is 1; use effective_mass_max",
+                )
     if kind == "duty" and "rating_use_max" not in limits:
         limits["rating_use_max"] = 1.0
     body_region = _body_region(t) if kind == "impact" else None
     if "contact_speed_min" in limits and body_region is None:
-        raise InputError(t.file, t.field("contact_speed_min"), "needs the body region's "
-                         "body_force_max, body_stiffness and body_mass (from the safety standard "
-                         "that applies; jointwright ships no values)")
+        raise InputError(
+            t.file,
+            t.field("contact_speed_min"),
+            "needs the body region's "
+            "body_force_max, body_stiffness and body_mass (from the safety standard "
+            "that applies; jointwright ships no values)",
+        )
     weight = bool(direction is not None and abs(abs(direction[2]) - 1.0) < 1e-9)
     t.done()
-    return Case(name=name, kind=kind, frame=frame, pose=pose, base_xyz=base_xyz, base_rpy=base_rpy,
-                direction=direction, motion=motion, trajectory=trajectory, ambient=ambient,
-                tip_speed=tip_speed, limits=limits, weight_equivalent=weight, contacts=contacts,
-                payload_mass=payload_mass, acceleration=acceleration, stroke=stroke, tip_force=tip_force, fixed_load=fixed_load,
-                payload_share=payload_share, body_region=body_region)
+    return Case(
+        name=name,
+        kind=kind,
+        frame=frame,
+        pose=pose,
+        base_xyz=base_xyz,
+        base_rpy=base_rpy,
+        direction=direction,
+        motion=motion,
+        trajectory=trajectory,
+        ambient=ambient,
+        tip_speed=tip_speed,
+        limits=limits,
+        weight_equivalent=weight,
+        contacts=contacts,
+        payload_mass=payload_mass,
+        acceleration=acceleration,
+        stroke=stroke,
+        tip_force=tip_force,
+        fixed_load=fixed_load,
+        payload_share=payload_share,
+        body_region=body_region,
+    )
 
 
 #: fields of an impact case's body region (transient contact, ISO/TS 15066 two-body model)
-BODY_REGION = (("body_force_max", "force"), ("body_stiffness", "stiffness_linear"), ("body_mass", "mass"))
+BODY_REGION = (
+    ("body_force_max", "force"),
+    ("body_stiffness", "stiffness_linear"),
+    ("body_mass", "mass"),
+)
 
 
 def _body_region(t: Table) -> tuple[float, float, float] | None:
@@ -459,8 +564,11 @@ def _body_region(t: Table) -> tuple[float, float, float] | None:
         return None
     missing = [key for key, _ in BODY_REGION if key not in given]
     if missing:
-        raise InputError(t.file, t.field(missing[0]), "is required with "
-                         f"{', '.join(given)}: a body region needs force, stiffness and mass")
+        raise InputError(
+            t.file,
+            t.field(missing[0]),
+            f"is required with {', '.join(given)}: a body region needs force, stiffness and mass",
+        )
     return tuple(t.quantity(key, dim, sign="positive") for key, dim in BODY_REGION)
 
 
@@ -475,8 +583,12 @@ def _force_or_weight(t: Table, key: str) -> float:
         try:
             force = quantity(v, "mass", file=t.file, field=t.field(key)) * STANDARD_GRAVITY
         except InputError:
-            raise InputError(t.file, t.field(key), "must be a force (N) or a mass (kg, taken as its "
-                             f"weight at standard gravity), got {v!r}") from None
+            raise InputError(
+                t.file,
+                t.field(key),
+                "must be a force (N) or a mass (kg, taken as its "
+                f"weight at standard gravity), got {v!r}",
+            ) from None
     if force < 0:
         raise InputError(t.file, t.field(key), f"must be >= 0 N (or kg), got {v!r}")
     return force

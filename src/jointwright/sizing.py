@@ -33,13 +33,25 @@ def read_objective(project) -> dict:
     joints = list(project.robot.actuated)
     for key in raw:
         if key not in _OBJECTIVE_KEYS:
-            raise InputError(file, f"objective.{key}", f"unknown field; known: {', '.join(_OBJECTIVE_KEYS)}")
-    out = {"maximize": raw.get("maximize", "payload"), "pin": raw.get("pin", {}),
-           "exclude": raw.get("exclude", []), "shared": raw.get("shared", [])}
+            raise InputError(
+                file, f"objective.{key}", f"unknown field; known: {', '.join(_OBJECTIVE_KEYS)}"
+            )
+    out = {
+        "maximize": raw.get("maximize", "payload"),
+        "pin": raw.get("pin", {}),
+        "exclude": raw.get("exclude", []),
+        "shared": raw.get("shared", []),
+    }
     if out["maximize"] not in OBJECTIVES:
-        raise InputError(file, "objective.maximize", f"must be one of {', '.join(OBJECTIVES)}, got {out['maximize']!r}")
+        raise InputError(
+            file,
+            "objective.maximize",
+            f"must be one of {', '.join(OBJECTIVES)}, got {out['maximize']!r}",
+        )
     if raw.get("ratio_grid", "R20") != "R20":
-        raise InputError(file, "objective.ratio_grid", "only the R20 preferred-number grid is offered")
+        raise InputError(
+            file, "objective.ratio_grid", "only the R20 preferred-number grid is offered"
+        )
     check_pins(out["pin"], project, file, "objective.pin")
     if not isinstance(out["exclude"], list) or not all(isinstance(x, str) for x in out["exclude"]):
         raise InputError(file, "objective.exclude", "must be a list of motor, stage or frame names")
@@ -53,14 +65,22 @@ def check_pins(pins, project, file: str, field: str) -> None:
     names = {m.name for m in project.catalog.all_motors()}
     for j, pin in pins.items():
         if j not in project.robot.actuated:
-            raise InputError(file, f"{field}.{j}", f"unknown joint; actuated joints are {', '.join(project.robot.actuated)}")
+            raise InputError(
+                file,
+                f"{field}.{j}",
+                f"unknown joint; actuated joints are {', '.join(project.robot.actuated)}",
+            )
         if not isinstance(pin, dict) or not set(pin) <= {"motor", "stages"} or not pin:
             raise InputError(file, f"{field}.{j}", "must be a table with motor and/or stages")
         if "motor" in pin and pin["motor"] not in names:
             raise InputError(file, f"{field}.{j}.motor", f"unknown motor {pin['motor']!r}")
-        if "stages" in pin and (not isinstance(pin["stages"], list)
-                                or not all(isinstance(s, dict) for s in pin["stages"])):
-            raise InputError(file, f"{field}.{j}.stages", "must be a list of {stage, frame, ratio} tables")
+        if "stages" in pin and (
+            not isinstance(pin["stages"], list)
+            or not all(isinstance(s, dict) for s in pin["stages"])
+        ):
+            raise InputError(
+                file, f"{field}.{j}.stages", "must be a list of {stage, frame, ratio} tables"
+            )
 
 
 def check_shared(shared, joints, file: str, field: str) -> None:
@@ -84,8 +104,9 @@ def units_of(n: int, shared_idx) -> list[tuple]:
     return [tuple(g) for g in shared_idx] + [(j,) for j in range(n) if j not in grouped]
 
 
-def build_model(project, kind: str, pins: dict, exclude, shared, table=None, deadline=None,
-                phase=None) -> tuple[SizingModel, JointCandidates]:
+def build_model(
+    project, kind: str, pins: dict, exclude, shared, table=None, deadline=None, phase=None
+) -> tuple[SizingModel, JointCandidates]:
     """Options, per-joint filters and root tightening (every cut holds for every completion).
     ``table``: an option table already built for this catalog and ``exclude`` (reused by re-solves).
     ``deadline`` (time.perf_counter() value): building the table raises :class:`OutOfTime` past it;
@@ -150,7 +171,9 @@ def solve_value(project, kind: str, *, table=None, time_limit=None) -> SolveOutc
 
     cfg = read_objective(project)
     model, _ = build_model(project, kind, cfg["pin"], cfg["exclude"], cfg["shared"], table)
-    return BranchAndBound(model, units_of(model.n, model.shared), time_limit=time_limit, ties=False).run()
+    return BranchAndBound(
+        model, units_of(model.n, model.shared), time_limit=time_limit, ties=False
+    ).run()
 
 
 #: share of the search's time given to the primal heuristics, and its cap in seconds
@@ -164,7 +187,11 @@ def first_design(model: SizingModel, units, time_limit, phase=None):
     from .solve.heuristic import Heuristic, blind_screen
 
     (phase or (lambda text: None))("first designs")
-    share = HEURISTIC_SECONDS if time_limit is None else min(HEURISTIC_SHARE * time_limit, HEURISTIC_SECONDS)
+    share = (
+        HEURISTIC_SECONDS
+        if time_limit is None
+        else min(HEURISTIC_SHARE * time_limit, HEURISTIC_SECONDS)
+    )
     if blind_screen(model) and time_limit is not None:
         # stance cases alone set the objective: the search has no finite bound to prune with,
         # so the heuristics get most of the time
@@ -172,7 +199,9 @@ def first_design(model: SizingModel, units, time_limit, phase=None):
     return Heuristic(model, units, time.perf_counter() + share, extend=time_limit is not None).run()
 
 
-def run_backend(model: SizingModel, units, backend: str, time_limit, progress, phase=None) -> SolveOutcome:
+def run_backend(
+    model: SizingModel, units, backend: str, time_limit, progress, phase=None
+) -> SolveOutcome:
     if backend == "search":
         from .solve.search import BranchAndBound
 
@@ -181,8 +210,9 @@ def run_backend(model: SizingModel, units, backend: str, time_limit, progress, p
         if time_limit is not None:
             time_limit = max(time_limit - (time.perf_counter() - t0), 1e-3)
         (phase or (lambda text: None))("searching")
-        return BranchAndBound(model, units, time_limit=time_limit, progress=progress,
-                              incumbent=incumbent).run()
+        return BranchAndBound(
+            model, units, time_limit=time_limit, progress=progress, incumbent=incumbent
+        ).run()
     if backend == "pyomo":
         from .solve.pyomo_backend import solve_pyomo
 
@@ -205,11 +235,16 @@ class Plan:
         self.start = start
         self.limit = time_limit
         self.end = math.inf if time_limit is None else start + time_limit
-        self.solve_end = (self.end if (time_limit is None or not explain)
-                          else start + (1 - EXPLAIN_SHARE) * time_limit)
+        self.solve_end = (
+            self.end
+            if (time_limit is None or not explain)
+            else start + (1 - EXPLAIN_SHARE) * time_limit
+        )
 
     def solve_left(self):
-        return None if math.isinf(self.solve_end) else max(self.solve_end - time.perf_counter(), 1e-3)
+        return (
+            None if math.isinf(self.solve_end) else max(self.solve_end - time.perf_counter(), 1e-3)
+        )
 
     def explain_end(self) -> float:
         """Stop explaining here: within the limit (less 5 % kept for the last oracle call to
@@ -224,8 +259,18 @@ def _phase_of(progress):
     return fn if callable(fn) else (lambda text: None)
 
 
-def size(project, *, objective=None, backend="search", time_limit=None, pins=None, exclude=None,
-         shared=None, progress=None, explain=True) -> SizingResult:
+def size(
+    project,
+    *,
+    objective=None,
+    backend="search",
+    time_limit=None,
+    pins=None,
+    exclude=None,
+    shared=None,
+    progress=None,
+    explain=True,
+) -> SizingResult:
     """Choose motor, stage stack and ratio for every actuated joint.
 
     Parameters
@@ -254,11 +299,17 @@ def size(project, *, objective=None, backend="search", time_limit=None, pins=Non
     cfg = read_objective(project)
     kind = objective or cfg["maximize"]
     if kind not in OBJECTIVES:
-        raise InputError("<api>", "objective", f"must be one of {', '.join(OBJECTIVES)}, got {kind!r}")
+        raise InputError(
+            "<api>", "objective", f"must be one of {', '.join(OBJECTIVES)}, got {kind!r}"
+        )
     if backend not in BACKENDS:
-        raise InputError("<api>", "backend", f"must be one of {', '.join(BACKENDS)}, got {backend!r}")
+        raise InputError(
+            "<api>", "backend", f"must be one of {', '.join(BACKENDS)}, got {backend!r}"
+        )
     if time_limit is not None and not (isinstance(time_limit, (int, float)) and time_limit > 0):
-        raise InputError("<api>", "time_limit", f"must be a positive number of seconds, got {time_limit!r}")
+        raise InputError(
+            "<api>", "time_limit", f"must be a positive number of seconds, got {time_limit!r}"
+        )
     pins = cfg["pin"] if pins is None else pins
     check_pins(pins, project, "<api>", "pins")
     exclude = cfg["exclude"] if exclude is None else list(exclude)
@@ -269,12 +320,25 @@ def size(project, *, objective=None, backend="search", time_limit=None, pins=Non
     phase = _phase_of(progress)
     deadline = None if math.isinf(plan.solve_end) else plan.solve_end
     try:
-        model, cands = build_model(project, kind, pins, exclude, shared, deadline=deadline, phase=phase)
+        model, cands = build_model(
+            project, kind, pins, exclude, shared, deadline=deadline, phase=phase
+        )
     except OutOfTime as e:
         sense = -1.0 if kind == "mass" else 1.0
-        return SizingResult("time_limit", kind, None, None, math.nan, sense * math.inf, math.inf,
-                            time.perf_counter() - start, backend, str(e), 0,
-                            message="time limit reached before any design was searched")
+        return SizingResult(
+            "time_limit",
+            kind,
+            None,
+            None,
+            math.nan,
+            sense * math.inf,
+            math.inf,
+            time.perf_counter() - start,
+            backend,
+            str(e),
+            0,
+            message="time limit reached before any design was searched",
+        )
     units = units_of(model.n, model.shared)
     if backend != "search":
         phase("searching")
@@ -284,13 +348,24 @@ def size(project, *, objective=None, backend="search", time_limit=None, pins=Non
 
 def _check_objective_cases(project, kind: str) -> None:
     if kind == "payload" and not any(c.kind in ("payload", "stance") for c in project.cases):
-        raise InputError(str(project.file), "case", "objective payload needs at least one payload or stance case")
+        raise InputError(
+            str(project.file), "case", "objective payload needs at least one payload or stance case"
+        )
     if kind == "payload" and not payload_objective_cases(project):
-        raise InputError(str(project.file), "case", "objective payload (the payload mass every case carries) "
-                         "needs a payload or stance case with payload_share > 0")
-    if kind == "imf" and not (project.robot.n_base == 6 and any(c.kind == "impact" for c in project.cases)):
-        raise InputError(str(project.file), "objective.maximize",
-                         "objective imf needs a floating base and at least one impact case")
+        raise InputError(
+            str(project.file),
+            "case",
+            "objective payload (the payload mass every case carries) "
+            "needs a payload or stance case with payload_share > 0",
+        )
+    if kind == "imf" and not (
+        project.robot.n_base == 6 and any(c.kind == "impact" for c in project.cases)
+    ):
+        raise InputError(
+            str(project.file),
+            "objective.maximize",
+            "objective imf needs a floating base and at least one impact case",
+        )
 
 
 def design_of(project, model: SizingModel, index, name: str) -> Design:
@@ -298,7 +373,9 @@ def design_of(project, model: SizingModel, index, name: str) -> Design:
     return Design(name=name, joints=tuple(project.robot.actuated), actuators=acts)
 
 
-def finish(project, model, cands, outcome: SolveOutcome, kind, backend, start, explain, plan, phase=None):
+def finish(
+    project, model, cands, outcome: SolveOutcome, kind, backend, start, explain, plan, phase=None
+):
     """Re-evaluate the back-end's design with the numpy physics and explain it (``plan``:
     a :class:`Plan`, or a time limit in seconds for callers outside :func:`size`)."""
     from .solve.explain import alternatives, binding, diagnose
@@ -307,16 +384,30 @@ def finish(project, model, cands, outcome: SolveOutcome, kind, backend, start, e
         plan = Plan(start, plan, explain)
     phase = phase or (lambda text: None)
     sense = -1.0 if kind == "mass" else 1.0
-    options = {j: int(c.size) for j, c in zip(project.robot.actuated, model.candidates)}
+    options = {
+        j: int(c.size) for j, c in zip(project.robot.actuated, model.candidates, strict=True)
+    }
     if outcome.index is None:
         diag = ()
         if explain and outcome.status == "infeasible":
             phase("diagnosing")
             diag = diagnose(project, model, kind, plan.limit, deadline=plan.explain_end())
-        return SizingResult(outcome.status, kind, None, None, math.nan, sense * outcome.bound, math.inf,
-                            time.perf_counter() - start, backend, outcome.native, outcome.nodes,
-                            diagnosis=diag, options=options,
-                            message=_message(outcome.status, kind, None, diag))
+        return SizingResult(
+            outcome.status,
+            kind,
+            None,
+            None,
+            math.nan,
+            sense * outcome.bound,
+            math.inf,
+            time.perf_counter() - start,
+            backend,
+            outcome.native,
+            outcome.nodes,
+            diagnosis=diag,
+            options=options,
+            message=_message(outcome.status, kind, None, diag),
+        )
     design = design_of(project, model, outcome.index, f"{kind} optimum")
     value = float(model.score(outcome.index[None, :]).objective[0])
     if any(s.stage.ratio_range is not None for a_ in design.actuators for s in a_.stages):
@@ -336,12 +427,22 @@ def finish(project, model, cands, outcome: SolveOutcome, kind, backend, start, e
         phase("explaining")
         alts = alternatives(project, model, outcome.index, value, deadline=plan.explain_end())
     return SizingResult(
-        status=status, objective_kind=kind, design=design, assessment=a, objective=sense * value,
+        status=status,
+        objective_kind=kind,
+        design=design,
+        assessment=a,
+        objective=sense * value,
         bound=sense * max(outcome.bound, value),
         gap=0.0 if status == "optimal" else relative_gap(value, max(outcome.bound, value)),
-        seconds=time.perf_counter() - start, backend=backend, native_status=outcome.native,
-        nodes=outcome.nodes, binding=binding(a), alternatives=alts, options=options,
-        message=_message(status, kind, sense * value, ()))
+        seconds=time.perf_counter() - start,
+        backend=backend,
+        native_status=outcome.native,
+        nodes=outcome.nodes,
+        binding=binding(a),
+        alternatives=alts,
+        options=options,
+        message=_message(status, kind, sense * value, ()),
+    )
 
 
 def _message(status, kind, value, diag) -> str:

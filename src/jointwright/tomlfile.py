@@ -31,7 +31,9 @@ def load_toml(path: str | Path) -> dict:
     except tomllib.TOMLDecodeError as exc:
         raise InputError(str(path), "(syntax)", f"malformed TOML: {exc}") from None
     except UnicodeDecodeError as exc:
-        raise InputError(str(path), "(encoding)", f"must be UTF-8 text (byte {exc.start + 1} is not)") from None
+        raise InputError(
+            str(path), "(encoding)", f"must be UTF-8 text (byte {exc.start + 1} is not)"
+        ) from None
     except OSError as exc:
         raise InputError(str(path), "(file)", f"cannot be read ({exc.strerror or exc})") from None
 
@@ -41,7 +43,9 @@ class Table:
 
     def __init__(self, data: Any, file: str, path: str):
         if not isinstance(data, dict):
-            raise InputError(file, path or "(top level)", f"must be a table, got {type(data).__name__}")
+            raise InputError(
+                file, path or "(top level)", f"must be a table, got {type(data).__name__}"
+            )
         self.data, self.file, self.path = data, file, path
         self._seen: set[str] = set()
 
@@ -66,7 +70,9 @@ class Table:
         if not isinstance(v, str):
             raise InputError(self.file, self.field(key), f"must be a string, got {v!r}")
         if choices is not None and v not in choices:
-            raise InputError(self.file, self.field(key), f"must be one of {', '.join(choices)}; got {v!r}")
+            raise InputError(
+                self.file, self.field(key), f"must be one of {', '.join(choices)}; got {v!r}"
+            )
         return v
 
     def bool(self, key: str, default: Any = ...) -> bool:
@@ -95,9 +101,12 @@ class Table:
         if v is default and default is not ...:
             return v
         if not isinstance(v, list) or len(v) != length:
-            raise InputError(self.file, self.field(key), f"must be a list of {length} numbers, got {v!r}")
+            raise InputError(
+                self.file, self.field(key), f"must be a list of {length} numbers, got {v!r}"
+            )
         return tuple(
-            quantity(x, dimension, file=self.file, field=f"{self.field(key)}[{i}]") for i, x in enumerate(v)
+            quantity(x, dimension, file=self.file, field=f"{self.field(key)}[{i}]")
+            for i, x in enumerate(v)
         )
 
     def table(self, key: str, default: Any = ...) -> "Table":
@@ -132,5 +141,6 @@ class Table:
             close = difflib.get_close_matches(extra[0], known, n=1)
             hint = f"; did you mean {close[0]!r}?" if close else ""
             listed = f" Known here: {', '.join(known)}." if known and len(known) <= 30 else ""
-            raise InputError(self.file, self.field(extra[0]),
-                             f"unknown field (check the spelling){hint}{listed}")
+            raise InputError(
+                self.file, self.field(extra[0]), f"unknown field (check the spelling){hint}{listed}"
+            )

@@ -154,8 +154,12 @@ def _numbers(rows, header, file) -> np.ndarray:
             if not math.isfinite(value):
                 raise InputError(file, field, f"must be finite, got {cell!r}")
             if abs(value) > MAX_MAGNITUDE:
-                raise InputError(file, field, f"must be within ±{MAX_MAGNITUDE:g} in the column's "
-                                 f"unit, got {cell!r} (no robot quantity; the cycle's sums would overflow)")
+                raise InputError(
+                    file,
+                    field,
+                    f"must be within ±{MAX_MAGNITUDE:g} in the column's "
+                    f"unit, got {cell!r} (no robot quantity; the cycle's sums would overflow)",
+                )
             data[i - 1, j] = value
     return data
 
@@ -291,18 +295,23 @@ def load_trajectory(path, joint_names, *, frames=None, revolute=None) -> Traject
     file = str(path)
     joints = tuple(joint_names)
     if not joints or len(set(joints)) != len(joints):
-        raise InputError("<api>", "joint_names", f"must be one or more distinct names, got {list(joints)}")
+        raise InputError(
+            "<api>", "joint_names", f"must be one or more distinct names, got {list(joints)}"
+        )
     rows = _read_rows(Path(path), file)
     if not rows:
         raise InputError(file, "header", "the file is empty")
     header = rows[0][1]
     keys, factors, dims = _header(header, file, joints, None if frames is None else tuple(frames))
     if revolute is not None:
-        for joint, rev in zip(joints, revolute):
+        for joint, rev in zip(joints, revolute, strict=True):
             if joint in dims and dims[joint][1] != (0 if rev else 1):
-                raise InputError(file, f"column {dims[joint][0]!r}",
-                                 f"joint {joint} is {'revolute' if rev else 'prismatic'}: its units "
-                                 f"must be {'angular (rad, deg)' if rev else 'linear (m, mm)'}")
+                raise InputError(
+                    file,
+                    f"column {dims[joint][0]!r}",
+                    f"joint {joint} is {'revolute' if rev else 'prismatic'}: its units "
+                    f"must be {'angular (rad, deg)' if rev else 'linear (m, mm)'}",
+                )
     data = _numbers(rows[1:], header, file) * factors
     if data.shape[0] < 2:
         raise InputError(file, "rows", f"needs at least 2 samples, got {data.shape[0]}")

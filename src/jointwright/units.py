@@ -86,8 +86,10 @@ def quantity(value: Any, dimension: str, *, file: str = "<api>", field: str = "v
 
 
 #: "<number> <unit>" with a unit that starts with a letter: the unit's factor is looked up once
-_NUMBER_UNIT = re.compile(r"\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)"
-                          r"\s*([A-Za-zµ°Ω][A-Za-z0-9_µ°Ω*/^. ]*?)\s*")
+_NUMBER_UNIT = re.compile(
+    r"\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)"
+    r"\s*([A-Za-zµ°Ω][A-Za-z0-9_µ°Ω*/^. ]*?)\s*"
+)
 
 
 @lru_cache(maxsize=512)
@@ -127,7 +129,9 @@ def _parse_pint(text: str, dimension: str, si: str, file: str, field: str) -> fl
             return float(q.to("dimensionless").magnitude)
         return float(q.to(si).magnitude)
     except pint.DimensionalityError:
-        raise InputError(file, field, f"must be a quantity convertible to {si}, got {text!r}") from None
+        raise InputError(
+            file, field, f"must be a quantity convertible to {si}, got {text!r}"
+        ) from None
     except Exception:
         raise InputError(file, field, f"cannot read {text!r} as a quantity in {si}") from None
 

@@ -50,4 +50,3 @@ __all__ = [
     "screw_lower_torque",
     "screw_raise_torque",
 ]
-

@@ -30,8 +30,16 @@ _DEG = math.pi / 180.0
 _API = ("<api>", "efficiency")
 
 
-def _num(model: Any, name: str, lo: float, hi: float, *, lo_open: bool, hi_open: bool,
-         angle: bool = False) -> float:
+def _num(
+    model: Any,
+    name: str,
+    lo: float,
+    hi: float,
+    *,
+    lo_open: bool,
+    hi_open: bool,
+    angle: bool = False,
+) -> float:
     """Check ``model.<name>`` is a real number in the interval; store and return it as float.
 
     Angles are checked in rad and shown in degrees in the message.
@@ -46,9 +54,10 @@ def _num(model: Any, name: str, lo: float, hi: float, *, lo_open: bool, hi_open:
     value = float(value)
     ok = (value > lo if lo_open else value >= lo) and (value < hi if hi_open else value <= hi)
     if not ok or math.isnan(value):
-        hint = " (a plain number is read as radians; write e.g. \"5 deg\")" if angle else ""
-        raise InputError(file, f"{where}.{name}",
-                         f"must be in {interval}, got {value * scale:g}{unit}{hint}")
+        hint = ' (a plain number is read as radians; write e.g. "5 deg")' if angle else ""
+        raise InputError(
+            file, f"{where}.{name}", f"must be in {interval}, got {value * scale:g}{unit}{hint}"
+        )
     object.__setattr__(model, name, value)
     return value
 
@@ -71,7 +80,7 @@ def _summary(model: Any) -> str:
 
 _BACKWARD_ABOVE_FORWARD = (
     "must not exceed the forward efficiency ({f:g}), got {b:g}: a friction loss does not shrink "
-    "when the load drives the stage. For data where it does, use model = \"proportional\" "
+    'when the load drives the stage. For data where it does, use model = "proportional" '
     "(loss proportional to the input torque, backward = 1/(2 - forward))"
 )
 
@@ -165,8 +174,16 @@ class ProportionalEfficiency:
 # --- power screw ---------------------------------------------------------------------------
 
 
-def screw_raise_torque(load, lead, mean_diameter, friction, *, thread_half_angle=0.0,
-                       collar_friction=0.0, collar_diameter=0.0):
+def screw_raise_torque(
+    load,
+    lead,
+    mean_diameter,
+    friction,
+    *,
+    thread_half_angle=0.0,
+    collar_friction=0.0,
+    collar_diameter=0.0,
+):
     """Torque to raise a load with a power screw (thread plus thrust collar).
 
     T_R = (F·d_m/2)·(l + π·f'·d_m)/(π·d_m − f'·l) + F·f_c·d_c/2, with f' = f·sec α
@@ -186,14 +203,26 @@ def screw_raise_torque(load, lead, mean_diameter, friction, *, thread_half_angle
     torque, N·m (array-like, broadcast over the inputs)
     """
     fe = np.asarray(friction) / np.cos(thread_half_angle)
-    thread = load * mean_diameter / 2 * (lead + np.pi * fe * mean_diameter) / (
-        np.pi * mean_diameter - fe * lead
+    thread = (
+        load
+        * mean_diameter
+        / 2
+        * (lead + np.pi * fe * mean_diameter)
+        / (np.pi * mean_diameter - fe * lead)
     )
     return thread + load * collar_friction * collar_diameter / 2
 
 
-def screw_lower_torque(load, lead, mean_diameter, friction, *, thread_half_angle=0.0,
-                       collar_friction=0.0, collar_diameter=0.0):
+def screw_lower_torque(
+    load,
+    lead,
+    mean_diameter,
+    friction,
+    *,
+    thread_half_angle=0.0,
+    collar_friction=0.0,
+    collar_diameter=0.0,
+):
     """Torque to lower a load with a power screw (thread plus thrust collar).
 
     T_L = (F·d_m/2)·(π·f'·d_m − l)/(π·d_m + f'·l) + F·f_c·d_c/2, with f' = f·sec α; a negative
@@ -201,8 +230,12 @@ def screw_lower_torque(load, lead, mean_diameter, friction, *, thread_half_angle
     :func:`screw_raise_torque`; returns N·m.
     """
     fe = np.asarray(friction) / np.cos(thread_half_angle)
-    thread = load * mean_diameter / 2 * (np.pi * fe * mean_diameter - lead) / (
-        np.pi * mean_diameter + fe * lead
+    thread = (
+        load
+        * mean_diameter
+        / 2
+        * (np.pi * fe * mean_diameter - lead)
+        / (np.pi * mean_diameter + fe * lead)
     )
     return thread + load * collar_friction * collar_diameter / 2
 
@@ -220,13 +253,17 @@ class _SlidingThread:
     def _check_drivable(self) -> None:
         """η_f > 0 needs λ + φ < 90°, i.e. f'·tan λ < 1."""
         if self.friction_angle_tan * math.tan(self.lead_angle_rad) >= 1.0:
-            raise _fail(self, "friction", "lead angle + friction angle must be below 90°: the "
-                        "stage cannot be driven forward")
+            raise _fail(
+                self,
+                "friction",
+                "lead angle + friction angle must be below 90°: the stage cannot be driven forward",
+            )
 
     def pair(self, ratio):
         lam, phi = self.lead_angle_rad, math.atan(self.friction_angle_tan)
-        return _full(ratio, math.tan(lam) / math.tan(lam + phi),
-                     math.tan(lam - phi) / math.tan(lam))
+        return _full(
+            ratio, math.tan(lam) / math.tan(lam + phi), math.tan(lam - phi) / math.tan(lam)
+        )
 
 
 def _lead_per_revolution(value: Any, *, file: str, field: str) -> float:
@@ -238,8 +275,9 @@ def _lead_per_revolution(value: Any, *, file: str, field: str) -> float:
     if isinstance(value, str):
         try:
             q = registry().Quantity(value.strip())
-            per_angle = any(exp < 0 and not registry().get_dimensionality(unit)
-                            for unit, exp in q.unit_items())
+            per_angle = any(
+                exp < 0 and not registry().get_dimensionality(unit) for unit, exp in q.unit_items()
+            )
         except Exception:
             per_angle = False
         if per_angle:
@@ -276,8 +314,7 @@ class ScrewEfficiency(_SlidingThread):
 
     def __post_init__(self):
         _num(self, "friction", 0.0, math.inf, lo_open=False, hi_open=True)
-        _num(self, "thread_half_angle", 0.0, 60 * _DEG, lo_open=False, hi_open=True,
-             angle=True)
+        _num(self, "thread_half_angle", 0.0, 60 * _DEG, lo_open=False, hi_open=True, angle=True)
         geometric = self.lead is not None or self.mean_diameter is not None
         if geometric == (self.lead_angle is not None):
             raise _fail(self, "lead_angle", "give either lead and mean_diameter, or lead_angle")
@@ -336,8 +373,7 @@ class WormEfficiency(_SlidingThread):
     def __post_init__(self):
         _num(self, "lead_angle", 0.0, 90 * _DEG, lo_open=True, hi_open=True, angle=True)
         _num(self, "friction", 0.0, math.inf, lo_open=False, hi_open=True)
-        _num(self, "normal_pressure_angle", 0.0, 45 * _DEG, lo_open=False, hi_open=True,
-             angle=True)
+        _num(self, "normal_pressure_angle", 0.0, 45 * _DEG, lo_open=False, hi_open=True, angle=True)
         self._check_drivable()
 
     @property
@@ -382,8 +418,11 @@ class PlanetaryBasicTrainEfficiency:
         r = np.asarray(ratios, dtype=float)
         if not np.all(r > 1.0):
             bad = float(r[~(r > 1.0)].flat[0])
-            raise InputError(file, field, f"a ring-fixed planetary needs ratios > 1 (N = 1 + "
-                             f"Z_r/Z_s), got {bad:g}")
+            raise InputError(
+                file,
+                field,
+                f"a ring-fixed planetary needs ratios > 1 (N = 1 + Z_r/Z_s), got {bad:g}",
+            )
 
     def pair(self, ratio):
         n = np.asarray(ratio, dtype=float)
@@ -423,11 +462,14 @@ class TableEfficiency:
             where = f"{field_}.rows[{i}]"
             if not isinstance(row, (list, tuple)) or len(row) != 3:
                 raise InputError(file, where, f"must be [ratio, forward, backward], got {row!r}")
-            r, f, b = (quantity(x, "dimensionless", file=file, field=f"{where}[{j}]")
-                       for j, x in enumerate(row))
+            r, f, b = (
+                quantity(x, "dimensionless", file=file, field=f"{where}[{j}]")
+                for j, x in enumerate(row)
+            )
             if not r > 0 or (clean and r <= clean[-1][0]):
-                raise InputError(file, f"{where}[0]", f"ratios must be > 0 and strictly "
-                                 f"ascending, got {r:g}")
+                raise InputError(
+                    file, f"{where}[0]", f"ratios must be > 0 and strictly ascending, got {r:g}"
+                )
             ConstantEfficiency(forward=f, backward=b, origin=(file, where))  # same rules per row
             clean.append((r, f, b))
         object.__setattr__(self, "rows", tuple(clean))
@@ -443,13 +485,17 @@ class TableEfficiency:
         inside = (r >= lo * (1 - 1e-9)) & (r <= hi * (1 + 1e-9))
         if not np.all(inside):
             bad = float(r[~inside].flat[0])
-            raise InputError(file, field, f"ratio {bad:g} is outside the efficiency table "
-                             f"[{lo:g}, {hi:g}]; the table is not extrapolated")
+            raise InputError(
+                file,
+                field,
+                f"ratio {bad:g} is outside the efficiency table "
+                f"[{lo:g}, {hi:g}]; the table is not extrapolated",
+            )
 
     def pair(self, ratio):
         r = np.asarray(ratio, dtype=float)
         self.check_ratios(r, file=self.origin[0], field=f"{self.origin[1]}.rows")
-        x, f, b = (np.array(c) for c in zip(*self.rows))
+        x, f, b = (np.array(c) for c in zip(*self.rows, strict=True))
         return np.interp(r, x, f), np.interp(r, x, b)
 
     def describe(self) -> str:
@@ -491,15 +537,20 @@ def efficiency_from_dict(d: dict, *, file: str, field: str):
         Not a table, unknown model, unknown or missing parameter, or a parameter out of range.
     """
     if not isinstance(d, dict):
-        raise InputError(file, field, 'must be a table such as { model = "constant", '
-                         f"forward = 0.9, backward = 0.85 }}, got {d!r}")
+        raise InputError(
+            file,
+            field,
+            'must be a table such as { model = "constant", '
+            f"forward = 0.9, backward = 0.85 }}, got {d!r}",
+        )
     name = d.get("model")
     if not isinstance(name, str) or name not in MODELS:
         near = difflib.get_close_matches(str(name), MODELS, n=1)
         hint = f" (did you mean {near[0]!r}?)" if near else ""
         got = "nothing" if name is None else repr(name)
-        raise InputError(file, f"{field}.model", f"must be one of {', '.join(MODELS)}; "
-                         f"got {got}{hint}")
+        raise InputError(
+            file, f"{field}.model", f"must be one of {', '.join(MODELS)}; got {got}{hint}"
+        )
     cls = MODELS[name]
     kwargs: dict[str, Any] = {}
     for key, value in d.items():
@@ -507,8 +558,11 @@ def efficiency_from_dict(d: dict, *, file: str, field: str):
             continue
         where = f"{field}.{key}"
         if key not in cls.params:
-            raise InputError(file, where, f"unknown parameter of model {name!r}; it takes "
-                             f"{', '.join(cls.params)}")
+            raise InputError(
+                file,
+                where,
+                f"unknown parameter of model {name!r}; it takes {', '.join(cls.params)}",
+            )
         dim = cls.params[key]
         if dim == "lead":
             kwargs[key] = _lead_per_revolution(value, file=file, field=where)
@@ -516,8 +570,11 @@ def efficiency_from_dict(d: dict, *, file: str, field: str):
             kwargs[key] = value
         else:
             kwargs[key] = quantity(value, dim, file=file, field=where)
-    required = [k for k, f in cls.__dataclass_fields__.items()
-                if k in cls.params and f.default is MISSING and k not in kwargs]
+    required = [
+        k
+        for k, f in cls.__dataclass_fields__.items()
+        if k in cls.params and f.default is MISSING and k not in kwargs
+    ]
     if required:
         raise InputError(file, f"{field}.{required[0]}", f"is required by model {name!r}")
     return cls(**kwargs, origin=(file, field))

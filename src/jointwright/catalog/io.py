@@ -163,9 +163,13 @@ def _load_part(path: Path) -> _Part:
     if suffix == ".csv":
         header_line, header, lines = _csv_lines(path)
         if any(_split_header(cell)[0] == "stage" for cell in header):
-            raise InputError(str(path), f"row {header_line}, column stage", "a stage-frames "
-                             "table cannot be loaded on its own: name it in a catalog TOML "
-                             "(frames_csv = ...)")
+            raise InputError(
+                str(path),
+                f"row {header_line}, column stage",
+                "a stage-frames "
+                "table cannot be loaded on its own: name it in a catalog TOML "
+                "(frames_csv = ...)",
+            )
         rows = _csv_rows(str(path), header_line, header, lines, ("name", *MOTOR_FIELDS))
         part = _Part([(_motor(row), _Where(row.file, row.path)) for row in rows], [], [], [])
         _require_content(part, path)
@@ -202,8 +206,9 @@ def _paths(top: Table, key: str, base: Path) -> list[Path]:
     value = top.raw(key, [])
     items = [value] if isinstance(value, str) else value
     if not isinstance(items, list) or not all(isinstance(v, str) and v for v in items):
-        raise InputError(top.file, key, "must be a file name or a list of file names, "
-                         f"got {value!r}")
+        raise InputError(
+            top.file, key, f"must be a file name or a list of file names, got {value!r}"
+        )
     return [base / v for v in items]
 
 
@@ -238,8 +243,11 @@ def _csv_lines(path: Path) -> tuple[int, list[str], list[tuple[int, list[str]]]]
     try:
         with path.open(newline="", encoding="utf-8-sig") as fh:
             reader = csv.reader(fh)
-            lines = [(reader.line_num, cells) for cells in reader
-                     if any(c.strip() for c in cells) and not cells[0].lstrip().startswith("#")]
+            lines = [
+                (reader.line_num, cells)
+                for cells in reader
+                if any(c.strip() for c in cells) and not cells[0].lstrip().startswith("#")
+            ]
     except UnicodeDecodeError:
         raise InputError(file, "(encoding)", "must be UTF-8 text") from None
     except OSError as exc:
@@ -256,15 +264,20 @@ def _csv_rows(file: str, header_line: int, header: list[str], lines, allowed) ->
     names = [name for name, _ in columns]
     for i, name in enumerate(names):
         if name in names[:i]:
-            raise InputError(file, f"row {header_line}, column {name}",
-                             "appears twice in the header")
+            raise InputError(
+                file, f"row {header_line}, column {name}", "appears twice in the header"
+            )
     rows = []
     for line, cells in lines:
         if len(cells) != len(columns):
-            raise InputError(file, f"row {line}", f"has {len(cells)} cells, the header has "
-                             f"{len(columns)} (check for a stray comma or a missing cell)")
+            raise InputError(
+                file,
+                f"row {line}",
+                f"has {len(cells)} cells, the header has "
+                f"{len(columns)} (check for a stray comma or a missing cell)",
+            )
         data = {}
-        for (name, unit), cell in zip(columns, cells):
+        for (name, unit), cell in zip(columns, cells, strict=True):
             cell = cell.strip()
             if cell:
                 data[name] = f"{cell} {unit}" if unit and _is_number(cell) else cell
@@ -286,8 +299,9 @@ def _column(cell: str, i: int, line: int, file: str, allowed) -> tuple[str, str]
     name, unit = _split_header(cell)
     where = f"row {line}, column {name or i + 1}"
     if name not in allowed:
-        raise InputError(file, where, f"unknown column{_hint(name, allowed)}; known: "
-                         f"{', '.join(allowed)}")
+        raise InputError(
+            file, where, f"unknown column{_hint(name, allowed)}; known: {', '.join(allowed)}"
+        )
     if unit:
         if name in ("name", "stage"):
             raise InputError(file, where, "a name column takes no unit")
@@ -335,25 +349,39 @@ def _name(t: Table, default: str | None = None) -> str:
 def _motor(t: Table, default_name: str | None = None) -> Motor:
     for key in ("family", "size"):
         if t.has(key):
-            raise InputError(t.file, t.field(key), "is set by the catalog for members of a "
-                             "[[motor_family]]; a plain motor does not take it")
+            raise InputError(
+                t.file,
+                t.field(key),
+                "is set by the catalog for members of a "
+                "[[motor_family]]; a plain motor does not take it",
+            )
     _check_keys(t, ("name", *MOTOR_FIELDS))
     kw = _values(t, MOTOR_FIELDS, Motor)
     _at_most(t, kw, "continuous_torque", "peak_torque", "N·m")
     if kw.get("cogging_torque", 0.0) >= kw["continuous_torque"]:
-        raise InputError(t.file, t.field("cogging_torque"), "must be below continuous_torque "
-                         f"({kw['continuous_torque']:g} N·m), got {kw['cogging_torque']:g} N·m")
+        raise InputError(
+            t.file,
+            t.field("cogging_torque"),
+            "must be below continuous_torque "
+            f"({kw['continuous_torque']:g} N·m), got {kw['cogging_torque']:g} N·m",
+        )
     t_max = kw.get("winding_temperature_max", math.inf)
     if t_max <= 20.0:
-        raise InputError(t.file, t.field("winding_temperature_max"), "must be above 20 °C (the "
-                         f"winding reference temperature), got {t_max:g} °C")
+        raise InputError(
+            t.file,
+            t.field("winding_temperature_max"),
+            f"must be above 20 °C (the winding reference temperature), got {t_max:g} °C",
+        )
     return Motor(name=_name(t, default_name), **kw)
 
 
 def _at_most(t: Table, kw: dict, small: str, big: str, unit: str) -> None:
     if kw[small] > kw[big]:
-        raise InputError(t.file, t.field(small), f"must not exceed {big} ({kw[big]:g} {unit}), "
-                         f"got {kw[small]:g} {unit}")
+        raise InputError(
+            t.file,
+            t.field(small),
+            f"must not exceed {big} ({kw[big]:g} {unit}), got {kw[small]:g} {unit}",
+        )
 
 
 def _family(t: Table) -> MotorFamily:
@@ -362,16 +390,20 @@ def _family(t: Table) -> MotorFamily:
     reference = _motor(t.table("reference"), default_name=name)
     raw = t.list("sizes")
     if not raw:
-        raise InputError(t.file, t.field("sizes"), "must list at least one [gap_radius_scale, "
-                         "length_scale] pair")
+        raise InputError(
+            t.file, t.field("sizes"), "must list at least one [gap_radius_scale, length_scale] pair"
+        )
     sizes = []
     for i, pair in enumerate(raw):
         where = f"{t.field('sizes')}[{i}]"
         if not isinstance(pair, list) or len(pair) != 2:
-            raise InputError(t.file, where, "must be [gap_radius_scale, length_scale], "
-                             f"got {pair!r}")
-        s, l = (positive(v, "dimensionless", file=t.file, field=f"{where}[{j}]")
-                for j, v in enumerate(pair))
+            raise InputError(
+                t.file, where, f"must be [gap_radius_scale, length_scale], got {pair!r}"
+            )
+        s, l = (
+            positive(v, "dimensionless", file=t.file, field=f"{where}[{j}]")
+            for j, v in enumerate(pair)
+        )
         if (s, l) in sizes:
             raise InputError(t.file, where, f"size [{s:g}, {l:g}] is listed twice")
         sizes.append((s, l))
@@ -397,8 +429,9 @@ class _StageDraft:
         self.name = _name(t)
         self.kind = t.str("kind", choices=STAGE_KINDS)
         self.ratios, self.ratio_range = _ratios(t)
-        self.efficiency = efficiency_from_dict(t.raw("efficiency"), file=t.file,
-                                               field=t.field("efficiency"))
+        self.efficiency = efficiency_from_dict(
+            t.raw("efficiency"), file=t.file, field=t.field("efficiency")
+        )
         check = getattr(self.efficiency, "check_ratios", None)
         if check is not None:
             key = "ratios" if self.ratios is not None else "ratio_range"
@@ -407,41 +440,63 @@ class _StageDraft:
 
     def build(self) -> StageType:
         if not self.frames:
-            raise InputError(self.t.file, self.t.field("frame"), "a stage needs at least one "
-                             "frame size ([[stage.frame]] or a row of a frames_csv table)")
+            raise InputError(
+                self.t.file,
+                self.t.field("frame"),
+                "a stage needs at least one "
+                "frame size ([[stage.frame]] or a row of a frames_csv table)",
+            )
         seen: dict[str, Table] = {}
         for frame, ft in self.frames:
             if frame.name in seen:
-                raise InputError(ft.file, ft.field("name"), f"duplicate frame name "
-                                 f"{frame.name!r} in stage {self.name!r}")
+                raise InputError(
+                    ft.file,
+                    ft.field("name"),
+                    f"duplicate frame name {frame.name!r} in stage {self.name!r}",
+                )
             seen[frame.name] = ft
-        return StageType(name=self.name, kind=self.kind, efficiency=self.efficiency,
-                         frames=tuple(f for f, _ in self.frames), ratios=self.ratios,
-                         ratio_range=self.ratio_range)
+        return StageType(
+            name=self.name,
+            kind=self.kind,
+            efficiency=self.efficiency,
+            frames=tuple(f for f, _ in self.frames),
+            ratios=self.ratios,
+            ratio_range=self.ratio_range,
+        )
 
 
 def _ratios(t: Table):
     """``(ratios, None)`` or ``(None, (low, high))``; exactly one of the two keys is given."""
     if t.has("ratios") == t.has("ratio_range"):
-        raise InputError(t.file, t.field("ratios"), "give exactly one of ratios = [...] "
-                         "(discrete) or ratio_range = [low, high] (continuous)")
+        raise InputError(
+            t.file,
+            t.field("ratios"),
+            "give exactly one of ratios = [...] "
+            "(discrete) or ratio_range = [low, high] (continuous)",
+        )
     if t.has("ratios"):
         raw = t.list("ratios")
         if not raw:
             raise InputError(t.file, t.field("ratios"), "must list at least one ratio")
-        values = [positive(v, "ratio", file=t.file, field=f"{t.field('ratios')}[{i}]")
-                  for i, v in enumerate(raw)]
+        values = [
+            positive(v, "ratio", file=t.file, field=f"{t.field('ratios')}[{i}]")
+            for i, v in enumerate(raw)
+        ]
         for i in range(1, len(values)):
             if values[i] <= values[i - 1]:
-                raise InputError(t.file, f"{t.field('ratios')}[{i}]", "ratios must be strictly "
-                                 f"ascending, got {values[i]:g} after {values[i - 1]:g}")
+                raise InputError(
+                    t.file,
+                    f"{t.field('ratios')}[{i}]",
+                    f"ratios must be strictly ascending, got {values[i]:g} after {values[i - 1]:g}",
+                )
         return tuple(values), None
     lo, hi = t.vector("ratio_range", 2, dimension="ratio")
     if not lo > 0:
         raise InputError(t.file, f"{t.field('ratio_range')}[0]", f"must be > 0, got {lo:g}")
     if not hi > lo:
-        raise InputError(t.file, t.field("ratio_range"), f"low must be below high, got "
-                         f"[{lo:g}, {hi:g}]")
+        raise InputError(
+            t.file, t.field("ratio_range"), f"low must be below high, got [{lo:g}, {hi:g}]"
+        )
     return None, (lo, hi)
 
 
@@ -450,8 +505,11 @@ def _attach_frames(stages: list[_StageDraft], path: Path, toml_file: str) -> Non
     for row in _read_csv(path, allowed=("stage", "name", *FRAME_FIELDS)):
         stage = row.str("stage")
         if stage not in by_name:
-            raise InputError(row.file, row.field("stage"), f"no [[stage]] named {stage!r} in "
-                             f"{toml_file}{_hint(stage, by_name)}")
+            raise InputError(
+                row.file,
+                row.field("stage"),
+                f"no [[stage]] named {stage!r} in {toml_file}{_hint(stage, by_name)}",
+            )
         data = {k: v for k, v in row.data.items() if k != "stage"}
         frame_row = _Row(data, row.file, row.path)
         by_name[stage].frames.append((_frame(frame_row), frame_row))
@@ -472,19 +530,27 @@ def _stage_notes(stage: StageType, where: _Where) -> list[str]:
     notes = []
     model = getattr(stage.efficiency, "kind", "")
     if stage.kind not in MODEL_KINDS.get(model, (stage.kind,)):
-        notes.append(f"{at}: efficiency model {model!r} is meant for "
-                     f"{' or '.join(MODEL_KINDS[model])} stages")
+        notes.append(
+            f"{at}: efficiency model {model!r} is meant for "
+            f"{' or '.join(MODEL_KINDS[model])} stages"
+        )
     if ratio_typ is not None and (ratios.min() < ratio_typ[0] or ratios.max() > ratio_typ[1]):
-        notes.append(f"{at}: ratios {ratios.min():g}-{ratios.max():g} reach outside the typical "
-                     f"single-stage {ratio_typ[0]:g}-{ratio_typ[1]:g} [trade]")
+        notes.append(
+            f"{at}: ratios {ratios.min():g}-{ratios.max():g} reach outside the typical "
+            f"single-stage {ratio_typ[0]:g}-{ratio_typ[1]:g} [trade]"
+        )
     out = (forward < eta_typ[0] - 1e-12) | (forward > eta_typ[1] + 1e-12)
     if np.any(out):
-        notes.append(f"{at}: forward efficiency {forward[out][0]:.3f} at ratio {ratios[out][0]:g} "
-                     f"is outside the typical {eta_typ[0] * 100:g}-{eta_typ[1] * 100:g} % [trade]")
+        notes.append(
+            f"{at}: forward efficiency {forward[out][0]:.3f} at ratio {ratios[out][0]:g} "
+            f"is outside the typical {eta_typ[0] * 100:g}-{eta_typ[1] * 100:g} % [trade]"
+        )
     if np.any(backward <= 0):
-        notes.append(f"{at}: self-locking (backward efficiency {backward.min():.3f} ≤ 0): a joint "
-                     "with this stage cannot be back-driven and holds its load unpowered; it can "
-                     "trap or crush. Apply the applicable machinery safety standards.")
+        notes.append(
+            f"{at}: self-locking (backward efficiency {backward.min():.3f} ≤ 0): a joint "
+            "with this stage cannot be back-driven and holds its load unpowered; it can "
+            "trap or crush. Apply the applicable machinery safety standards."
+        )
     return notes
 
 
@@ -497,8 +563,11 @@ def _merge(parts: list[_Part], *, source: str) -> Catalog:
     def claim(what: str, name: str, where: _Where) -> None:
         if (what, name) in seen:
             first = seen[(what, name)]
-            raise InputError(where.file, where.field, f"duplicate {what} name {name!r} (first "
-                             f"defined in {first.file} at {first.field})")
+            raise InputError(
+                where.file,
+                where.field,
+                f"duplicate {what} name {name!r} (first defined in {first.file} at {first.field})",
+            )
         seen[(what, name)] = where
 
     for part in parts:
@@ -523,8 +592,11 @@ def _check_keys(t: Table, allowed) -> None:
     """Unknown keys are typos until proven otherwise."""
     for key in t.data:
         if key not in allowed:
-            raise InputError(t.file, t.field(key), f"unknown field{_hint(key, allowed)}; "
-                             f"known: {', '.join(allowed)}")
+            raise InputError(
+                t.file,
+                t.field(key),
+                f"unknown field{_hint(key, allowed)}; known: {', '.join(allowed)}",
+            )
 
 
 def _hint(word: str, choices) -> str:

@@ -44,12 +44,21 @@ def num(value, unit: str = "", digits: int = 4) -> str:
 
 #: unit of each requirement key as shown; rating uses are fractions, shown in % (scale 100)
 REQUIREMENT_UNITS = {
-    "payload_min": ("N", 1.0), "imf_min": ("", 1.0), "directional_imf_min": ("", 1.0),
-    "effective_mass_max": ("kg", 1.0), "backdrive_force_max": ("N", 1.0),
-    "speed_min": ("m/s", 1.0), "temperature_margin_min": ("K", 1.0),
-    "rating_use_max": ("%", 100.0), "mass_max": ("kg", 1.0), "total_mass_max": ("kg", 1.0),
-    "reflected_inertia_max": ("kg·m²", 1.0), "diameter_max": ("m", 1.0),
-    "length_max": ("m", 1.0), "ratio_min": ("", 1.0), "ratio_max": ("", 1.0),
+    "payload_min": ("N", 1.0),
+    "imf_min": ("", 1.0),
+    "directional_imf_min": ("", 1.0),
+    "effective_mass_max": ("kg", 1.0),
+    "backdrive_force_max": ("N", 1.0),
+    "speed_min": ("m/s", 1.0),
+    "temperature_margin_min": ("K", 1.0),
+    "rating_use_max": ("%", 100.0),
+    "mass_max": ("kg", 1.0),
+    "total_mass_max": ("kg", 1.0),
+    "reflected_inertia_max": ("kg·m²", 1.0),
+    "diameter_max": ("m", 1.0),
+    "length_max": ("m", 1.0),
+    "ratio_min": ("", 1.0),
+    "ratio_max": ("", 1.0),
     "total_cost_max": ("", 1.0),
 }
 
@@ -74,15 +83,21 @@ def pct(margin: float) -> str:
 UNBROKEN = 12
 
 
-def table(title: str, columns: list[str], rows: list[list[str]], *, caption: str | None = None) -> Table:
+def table(
+    title: str, columns: list[str], rows: list[list[str]], *, caption: str | None = None
+) -> Table:
     """A rich table that fits the console: short cells (numbers with units) stay whole, long
     text (design strings, notes) wraps inside its own cell at spaces, folding only long words."""
     t = Table(title=title, title_justify="left", caption=caption, caption_justify="left")
     for k, c in enumerate(columns):
         cells = [str(r[k]) for r in rows if k < len(r)]
         short = all(len(x) <= UNBROKEN for x in cells)
-        t.add_column(c, overflow="fold", no_wrap=short,
-                     min_width=min(UNBROKEN, max([len(w) for w in c.split()] + [1])))
+        t.add_column(
+            c,
+            overflow="fold",
+            no_wrap=short,
+            min_width=min(UNBROKEN, max([len(w) for w in c.split()] + [1])),
+        )
     for r in rows:
         t.add_row(*r)
     return t

@@ -72,8 +72,14 @@ def _catalog_tables(path: Path) -> list[Path]:
     return out
 
 
-def check_target(target: Path, option: str, *, inputs: Iterable[Path] = (), force: bool = False,
-                 exists_hint: str | None = None) -> None:
+def check_target(
+    target: Path,
+    option: str,
+    *,
+    inputs: Iterable[Path] = (),
+    force: bool = False,
+    exists_hint: str | None = None,
+) -> None:
     """Refuse to write ``target`` when it is an input, or when it exists and ``force`` is off.
 
     ``exists_hint`` names what inside a folder target counts as existing output (e.g.
@@ -82,14 +88,21 @@ def check_target(target: Path, option: str, *, inputs: Iterable[Path] = (), forc
     target = Path(target)
     keys = {_key(p) for p in inputs}
     if _key(target) in keys:
-        raise InputError(str(target), option, "is one of this command's input files; "
-                         "write the output elsewhere (inputs are never overwritten)")
+        raise InputError(
+            str(target),
+            option,
+            "is one of this command's input files; "
+            "write the output elsewhere (inputs are never overwritten)",
+        )
     existing = target / exists_hint if exists_hint else target
     if exists_hint is None and target.is_dir():
         raise InputError(str(target), option, "is a folder; give a file name")
     if existing.exists() and not force:
-        raise InputError(str(existing), option, "already exists; give --force to replace it, "
-                         "or choose another name")
+        raise InputError(
+            str(existing),
+            option,
+            "already exists; give --force to replace it, or choose another name",
+        )
     if not target.parent.is_dir():
         raise InputError(str(target), option, f"folder {str(target.parent)!r} does not exist")
 
@@ -125,8 +138,11 @@ def atomic_path(target: Path, option: str = "--out") -> Iterator[Path]:
         _keep_mode(target, tmp)
         os.replace(tmp, target)
     except OSError as exc:
-        raise InputError(str(target), option, f"cannot be written ({exc.strerror or exc}); "
-                         "any earlier file there is unchanged") from None
+        raise InputError(
+            str(target),
+            option,
+            f"cannot be written ({exc.strerror or exc}); any earlier file there is unchanged",
+        ) from None
     finally:
         with contextlib.suppress(OSError):
             tmp.unlink()
@@ -162,14 +178,17 @@ def atomic_folder(target: Path, option: str = "--out") -> Iterator[Path]:
         raise InputError(str(target), option, f"cannot write here: {exc.strerror or exc}") from None
     try:
         yield tmp
-        files = sorted((p for p in tmp.rglob("*") if p.is_file()),
-                       key=lambda p: (len(p.relative_to(tmp).parts) == 1, str(p)))
+        files = sorted(
+            (p for p in tmp.rglob("*") if p.is_file()),
+            key=lambda p: (len(p.relative_to(tmp).parts) == 1, str(p)),
+        )
         for f in files:
             dest = target / f.relative_to(tmp)
             dest.parent.mkdir(parents=True, exist_ok=True)
             os.replace(f, dest)
     except OSError as exc:
-        raise InputError(str(target), option,
-                         f"cannot be written ({exc.strerror or exc})") from None
+        raise InputError(
+            str(target), option, f"cannot be written ({exc.strerror or exc})"
+        ) from None
     finally:
         shutil.rmtree(tmp, ignore_errors=True)

@@ -14,74 +14,128 @@ from ._progress import status_line
 
 #: metric -> (label, unit) in the order shown
 SHOWN = {
-    "payload": [("payload", "tip force, case motion", "N"), ("payload_raise", "raising / pushing", "N"),
-                ("payload_lower", "lowering / yielding", "N"), ("payload_hold", "holding still", "N"),
-                ("payload_frictionless", "frictionless gears", "N")],
-    "stance": [("payload", "load carried at the frame (robot-level)", "N"),
-               ("slipping_contacts", "contacts at the friction limit", "")],
-    "impact": [("imf", "impact mitigation factor (back-driven)", ""),
-               ("imf_direction", "directional IMF along direction", ""),
-               ("imf_frictionless", "IMF, frictionless gears", ""),
-               ("effective_mass", "effective mass (back-driven)", "kg"),
-               ("effective_mass_motoring", "effective mass (motoring)", "kg"),
-               ("effective_mass_frictionless", "effective mass (frictionless)", "kg"),
-               ("contact_speed", "largest transient contact speed (two-body model, your body region)", "m/s"),
-               ("contact_energy", "energy the body region takes at that speed", "J")],
+    "payload": [
+        ("payload", "tip force, case motion", "N"),
+        ("payload_raise", "raising / pushing", "N"),
+        ("payload_lower", "lowering / yielding", "N"),
+        ("payload_hold", "holding still", "N"),
+        ("payload_frictionless", "frictionless gears", "N"),
+    ],
+    "stance": [
+        ("payload", "load carried at the frame (robot-level)", "N"),
+        ("slipping_contacts", "contacts at the friction limit", ""),
+    ],
+    "impact": [
+        ("imf", "impact mitigation factor (back-driven)", ""),
+        ("imf_direction", "directional IMF along direction", ""),
+        ("imf_frictionless", "IMF, frictionless gears", ""),
+        ("effective_mass", "effective mass (back-driven)", "kg"),
+        ("effective_mass_motoring", "effective mass (motoring)", "kg"),
+        ("effective_mass_frictionless", "effective mass (frictionless)", "kg"),
+        (
+            "contact_speed",
+            "largest transient contact speed (two-body model, your body region)",
+            "m/s",
+        ),
+        ("contact_energy", "energy the body region takes at that speed", "J"),
+    ],
     "backdrive": [("backdrive_force", "force to back-drive, unpowered", "N")],
-    "speed": [("speed", "end-point speed carrying the case's load", "m/s"),
-              ("speed_steady", "steady speed with no stroke limit", "m/s"),
-              ("stroke_time", "time to cover the stroke from rest", "s"),
-              ("acceleration", "acceleration along the direction from rest, with the load", "m/s²"),
-              ("speed_no_load", "no-load speed (motor top speed / ratio; for reference only)", "m/s")],
-    "duty": [("rating_use", "largest rating use over joints (100 % = a rating fully used)", "%"),
-             ("cycle_energy_no_regen", "electrical energy per cycle, no regeneration", "J"),
-             ("cycle_energy_regen", "electrical energy per cycle, with regeneration", "J")],
+    "speed": [
+        ("speed", "end-point speed carrying the case's load", "m/s"),
+        ("speed_steady", "steady speed with no stroke limit", "m/s"),
+        ("stroke_time", "time to cover the stroke from rest", "s"),
+        ("acceleration", "acceleration along the direction from rest, with the load", "m/s²"),
+        ("speed_no_load", "no-load speed (motor top speed / ratio; for reference only)", "m/s"),
+    ],
+    "duty": [
+        ("rating_use", "largest rating use over joints (100 % = a rating fully used)", "%"),
+        ("cycle_energy_no_regen", "electrical energy per cycle, no regeneration", "J"),
+        ("cycle_energy_regen", "electrical energy per cycle, with regeneration", "J"),
+    ],
 }
 
 #: duty-cycle rating checks (metrics.duty.CHECKS) in words
-LIMITING_QUANTITY = {"rms_torque": "continuous torque (RMS)", "peak_torque": "peak torque",
-                     "speed": "motor top speed", "envelope": "torque-speed line",
-                     "temperature": "winding temperature"}
+LIMITING_QUANTITY = {
+    "rms_torque": "continuous torque (RMS)",
+    "peak_torque": "peak torque",
+    "speed": "motor top speed",
+    "envelope": "torque-speed line",
+    "temperature": "winding temperature",
+}
 
 #: per-joint duty metrics shown as a joints × quantities table: (key, label, unit, scale); the
 #: rating uses and the back-driven share are fractions shown in %
-DUTY_JOINT = [("rms_ratio", "continuous torque used (RMS)", "%", 100.0),
-              ("peak_ratio", "peak torque used", "%", 100.0),
-              ("envelope_ratio", "torque-speed line used", "%", 100.0),
-              ("thermal_ratio", "temperature rise used", "%", 100.0),
-              ("rms_torque", "RMS motor torque", "N·m", 1.0),
-              ("peak_torque", "highest motor torque", "N·m", 1.0),
-              ("peak_speed", "highest motor speed", "rad/s", 1.0),
-              ("peak_temperature", "hottest winding", "°C", 1.0),
-              ("backdriven_share", "time back-driven", "%", 100.0)]
+DUTY_JOINT = [
+    ("rms_ratio", "continuous torque used (RMS)", "%", 100.0),
+    ("peak_ratio", "peak torque used", "%", 100.0),
+    ("envelope_ratio", "torque-speed line used", "%", 100.0),
+    ("thermal_ratio", "temperature rise used", "%", 100.0),
+    ("rms_torque", "RMS motor torque", "N·m", 1.0),
+    ("peak_torque", "highest motor torque", "N·m", 1.0),
+    ("peak_speed", "highest motor speed", "rad/s", 1.0),
+    ("peak_temperature", "hottest winding", "°C", 1.0),
+    ("backdriven_share", "time back-driven", "%", 100.0),
+]
 
 
 def _scaled(value, scale: float):
-    return value * scale if isinstance(value, (int, float)) and not isinstance(value, bool) else value
+    return (
+        value * scale if isinstance(value, (int, float)) and not isinstance(value, bool) else value
+    )
 
 
 def print_assessment(a) -> None:
     con = console()
-    verdict = "[green]meets every requirement[/green]" if a.feasible else "[red]misses requirements[/red]"
+    verdict = (
+        "[green]meets every requirement[/green]" if a.feasible else "[red]misses requirements[/red]"
+    )
     costs = a.total_cost > 0  # the catalog gives costs
     cost = f", cost {num(a.total_cost)} (catalog currency units)" if costs else ""
-    con.print(f"[bold]{a.project}[/bold] — design [bold]{a.design}[/bold]: {verdict}; "
-              f"actuators {num(a.total_mass, 'kg')}{cost}")
+    con.print(
+        f"[bold]{a.project}[/bold] — design [bold]{a.design}[/bold]: {verdict}; "
+        f"actuators {num(a.total_mass, 'kg')}{cost}"
+    )
     rows, caps = [], []
     for j in a.joints:
         lock = " [red]self-locking[/red]" if j.self_locking else ""
-        rows.append([j.joint, j.motor, " + ".join(j.stages) or "direct", f"{j.ratio:g}:1",
-                     f"{j.eta_forward:.3f} / {j.eta_backward:.3f}{lock}", num(j.mass, "kg")]
-                    + ([num(j.cost)] if costs else []))
-        caps.append([j.joint, num(j.capacity_motoring, "N·m"), num(j.capacity_backdriven, "N·m"),
-                     num(j.reflected_frictionless, "kg·m²"), num(j.reflected_backdriven, "kg·m²")])
-    con.print(table("Joints", ["joint", "motor", "stages", "ratio", "η fwd / bwd", "mass"]
-                    + (["cost"] if costs else []), rows))
-    con.print(table("Joint torque and reflected inertia", ["joint", "drive", "holding",
-                                                             "refl. inertia", "back-driven"], caps,
-                    caption="drive = η_f·N·τ_peak (motoring); holding = N·τ_peak/η_b while the load "
-                            "back-drives; both capped by the gear torque limit (peak). refl. inertia = "
-                            "N²·I_r (frictionless); back-driven = N²·I_r/η_b, what an impact meets."))
+        rows.append(
+            [
+                j.joint,
+                j.motor,
+                " + ".join(j.stages) or "direct",
+                f"{j.ratio:g}:1",
+                f"{j.eta_forward:.3f} / {j.eta_backward:.3f}{lock}",
+                num(j.mass, "kg"),
+            ]
+            + ([num(j.cost)] if costs else [])
+        )
+        caps.append(
+            [
+                j.joint,
+                num(j.capacity_motoring, "N·m"),
+                num(j.capacity_backdriven, "N·m"),
+                num(j.reflected_frictionless, "kg·m²"),
+                num(j.reflected_backdriven, "kg·m²"),
+            ]
+        )
+    con.print(
+        table(
+            "Joints",
+            ["joint", "motor", "stages", "ratio", "η fwd / bwd", "mass"]
+            + (["cost"] if costs else []),
+            rows,
+        )
+    )
+    con.print(
+        table(
+            "Joint torque and reflected inertia",
+            ["joint", "drive", "holding", "refl. inertia", "back-driven"],
+            caps,
+            caption="drive = η_f·N·τ_peak (motoring); holding = N·τ_peak/η_b while the load "
+            "back-drives; both capped by the gear torque limit (peak). refl. inertia = "
+            "N²·I_r (frictionless); back-driven = N²·I_r/η_b, what an impact meets.",
+        )
+    )
     for c in a.cases:
         rows = []
         for key, label, unit in SHOWN.get(c.kind, []):
@@ -92,14 +146,21 @@ def print_assessment(a) -> None:
                 rows.append([label, num(value, unit)])
         extra = []
         if c.kind in ("payload", "stance") and c.metrics.get("payload") not in (None, "inf"):
-            rows.append(["as a mass at standard gravity", num(float(c.metrics["payload"]) / 9.80665, "kg")])
+            rows.append(
+                ["as a mass at standard gravity", num(float(c.metrics["payload"]) / 9.80665, "kg")]
+            )
         if c.kind == "stance":
-            rows += [[f"ground force on {k.split(':', 1)[1]} (vertical)", num(v, "N")]
-                     for k, v in c.metrics.items() if k.startswith("normal_force:")]
+            rows += [
+                [f"ground force on {k.split(':', 1)[1]} (vertical)", num(v, "N")]
+                for k, v in c.metrics.items()
+                if k.startswith("normal_force:")
+            ]
         if c.kind == "duty":
             joints = [j.joint for j in a.joints]
-            drows = [[label] + [num(_scaled(c.metrics.get(f"{key}:{j}"), scale), unit) for j in joints]
-                     for key, label, unit, scale in DUTY_JOINT]
+            drows = [
+                [label] + [num(_scaled(c.metrics.get(f"{key}:{j}"), scale), unit) for j in joints]
+                for key, label, unit, scale in DUTY_JOINT
+            ]
             quantity = str(c.metrics.get("limiting_quantity", "—"))
             rows += [["limiting quantity", LIMITING_QUANTITY.get(quantity, quantity)]]
         if c.note:
@@ -109,30 +170,56 @@ def print_assessment(a) -> None:
         if c.joint_modes:
             extra.append("modes: " + ", ".join(f"{j} {m}" for j, m in c.joint_modes.items()))
         if c.kind == "impact" and c.metrics.get("contact_rank", 3) < 3:
-            extra.append("the joints cannot move the contact in every direction: determinant IMF is 0; "
-                         "see the directional IMF")
+            extra.append(
+                "the joints cannot move the contact in every direction: determinant IMF is 0; "
+                "see the directional IMF"
+            )
         con.print(table(f"Case {c.name} ({c.kind})", ["metric", "value"], rows))
         if c.kind == "duty":
             for part, cols in enumerate(_column_groups(drows, joints, con.width)):
-                title = f"Case {c.name}: per joint (steady periodic cycle)" + (" (cont.)" if part else "")
-                con.print(table(title, ["quantity"] + [joints[k] for k in cols],
-                                [[r[0]] + [r[1 + k] for k in cols] for r in drows]))
+                title = f"Case {c.name}: per joint (steady periodic cycle)" + (
+                    " (cont.)" if part else ""
+                )
+                con.print(
+                    table(
+                        title,
+                        ["quantity"] + [joints[k] for k in cols],
+                        [[r[0]] + [r[1 + k] for k in cols] for r in drows],
+                    )
+                )
         for line in extra:
             con.print(f"  {line}")
+
     def shown(c, v):  # a rating use is a fraction, shown in %
         return num(100 * v, "%") if c.requirement == "rating_use_max" else num(v, c.unit)
 
-    rows = [[c.subject, c.requirement.replace("_", " "), shown(c, c.achieved), shown(c, c.limit),
-             pct(c.margin), "[green]ok[/green]" if c.ok else "[red]MISSED[/red]"] for c in a.checks]
-    con.print(table("Requirements", ["subject", "requirement", "achieved", "limit", "margin", ""], rows))
+    rows = [
+        [
+            c.subject,
+            c.requirement.replace("_", " "),
+            shown(c, c.achieved),
+            shown(c, c.limit),
+            pct(c.margin),
+            "[green]ok[/green]" if c.ok else "[red]MISSED[/red]",
+        ]
+        for c in a.checks
+    ]
+    con.print(
+        table("Requirements", ["subject", "requirement", "achieved", "limit", "margin", ""], rows)
+    )
     for text in a.cautions:
         con.print(f"[yellow]caution:[/yellow] {text}")
 
 
 @click.command("assess")
 @click.argument("project", type=click.Path(path_type=Path))
-@click.option("--design", "design_file", required=True, type=click.Path(path_type=Path),
-              help="design file (TOML) naming motor and stages per joint")
+@click.option(
+    "--design",
+    "design_file",
+    required=True,
+    type=click.Path(path_type=Path),
+    help="design file (TOML) naming motor and stages per joint",
+)
 @click.option("--json", "as_json", is_flag=True, help="machine-readable output")
 def command(project: Path, design_file: Path, as_json: bool):
     """Every metric of the design in DESIGN for the cases of PROJECT, with margins."""
@@ -158,4 +245,3 @@ def _column_groups(rows: list[list[str]], joints: list[str], width: int) -> list
         current.append(k)
         used += w
     return groups + [current] if current else groups
-

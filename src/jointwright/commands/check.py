@@ -29,39 +29,65 @@ def project_summary(p, evaluator=None) -> dict:
             "actuated": list(robot.actuated),
             "link_mass": robot.link_mass_total,
             "included_actuator_mass": float(sum(robot.included_mass)),
-            "mounts": {m.joint: {"link": m.link, "xyz": [float(x) for x in m.xyz],
-                                 "included_mass": float(inc)}
-                       for m, inc in zip(robot.mounts, robot.included_mass, strict=True)},
-            "joints": {j: {"role": robot.role(j), "kind": "revolute" if rev else "prismatic",
-                           **robot.joint_limits(j)}
-                       for j, rev in zip(robot.joint_names, robot.revolute, strict=True)},
-            "mimic": {f: {"leader": lead, "multiplier": k, "offset": o}
-                      for f, lead, k, o in robot.mimic},
+            "mounts": {
+                m.joint: {
+                    "link": m.link,
+                    "xyz": [float(x) for x in m.xyz],
+                    "included_mass": float(inc),
+                }
+                for m, inc in zip(robot.mounts, robot.included_mass, strict=True)
+            },
+            "joints": {
+                j: {
+                    "role": robot.role(j),
+                    "kind": "revolute" if rev else "prismatic",
+                    **robot.joint_limits(j),
+                }
+                for j, rev in zip(robot.joint_names, robot.revolute, strict=True)
+            },
+            "mimic": {
+                f: {"leader": lead, "multiplier": k, "offset": o} for f, lead, k, o in robot.mimic
+            },
             "unloaded": list(unloaded_joints(p, evaluator)),
         },
         "catalog": {
             "motors": len(motors),
             "stage_types": [
-                {"name": s.name, "kind": s.kind, "frames": len(s.frames),
-                 "ratios": list(s.ratios) if s.ratios is not None else None,
-                 "ratio_range": list(s.ratio_range) if s.ratio_range is not None else None,
-                 "efficiency": s.efficiency.describe()}
+                {
+                    "name": s.name,
+                    "kind": s.kind,
+                    "frames": len(s.frames),
+                    "ratios": list(s.ratios) if s.ratios is not None else None,
+                    "ratio_range": list(s.ratio_range) if s.ratio_range is not None else None,
+                    "efficiency": s.efficiency.describe(),
+                }
                 for s in stages
             ],
             "max_stages": p.max_stages,
             "notes": list(cat.notes),
         },
         "cases": [
-            {"name": c.name, "kind": c.kind, "frame": c.frame, "direction": c.direction,
-             "motion": c.motion if c.kind == "payload" else None, "limits": c.limits,
-             "payload_growth": ({"fixed_load": c.fixed_load, "payload_share": c.payload_share}
-                                if c.kind in ("payload", "stance") else None)}
+            {
+                "name": c.name,
+                "kind": c.kind,
+                "frame": c.frame,
+                "direction": c.direction,
+                "motion": c.motion if c.kind == "payload" else None,
+                "limits": c.limits,
+                "payload_growth": (
+                    {"fixed_load": c.fixed_load, "payload_share": c.payload_share}
+                    if c.kind in ("payload", "stance")
+                    else None
+                ),
+            }
             for c in p.cases
         ],
         "requirements": {
             "total_mass_max": p.requirements.total_mass_max,
-            "joints": {j: {k: v for k, v in vars(l).items() if math.isfinite(v) and v != 0}
-                       for j, l in p.requirements.joints.items()},
+            "joints": {
+                j: {k: v for k, v in vars(l).items() if math.isfinite(v) and v != 0}
+                for j, l in p.requirements.joints.items()
+            },
         },
     }
 
@@ -88,70 +114,167 @@ def command(project: Path, as_json: bool):
         con.print(p.summary)
     r = s["robot"]
     included = r["included_actuator_mass"]
-    con.print(f"robot: {r['base']} base, {len(r['actuated'])} actuated joints, links "
-              f"{num(r['link_mass'], 'kg')}" + (f" (after taking out {num(included, 'kg')} of actuators "
-                                                "already in the link masses)" if included > 0 else ""))
-    con.print(table("Joints", ["joint", "role", "lower", "upper", "effort", "velocity"],
-                    [_joint_row(j, x) for j, x in r["joints"].items()]
-                    + [[f, f"follows {m['leader']} (×{m['multiplier']:g}, {m['offset']:+g})", "—", "—", "—", "—"]
-                       for f, m in r["mimic"].items()],
-                    caption="held: not actuated, locked by structure or brake; free: not actuated, "
-                            "moves without torque; limits from the robot file (— where none)"))
-    con.print(table("Actuator mounts", ["joint", "mass sits on", "at (m, link frame)", "already in link masses"],
-                    [[j, m["link"], ", ".join(f"{x:g}" for x in m["xyz"]),
-                      num(m["included_mass"], "kg") if m["included_mass"] > 0 else "none"]
-                     for j, m in r["mounts"].items()]))
+    con.print(
+        f"robot: {r['base']} base, {len(r['actuated'])} actuated joints, links "
+        f"{num(r['link_mass'], 'kg')}"
+        + (
+            f" (after taking out {num(included, 'kg')} of actuators already in the link masses)"
+            if included > 0
+            else ""
+        )
+    )
+    con.print(
+        table(
+            "Joints",
+            ["joint", "role", "lower", "upper", "effort", "velocity"],
+            [_joint_row(j, x) for j, x in r["joints"].items()]
+            + [
+                [
+                    f,
+                    f"follows {m['leader']} (×{m['multiplier']:g}, {m['offset']:+g})",
+                    "—",
+                    "—",
+                    "—",
+                    "—",
+                ]
+                for f, m in r["mimic"].items()
+            ],
+            caption="held: not actuated, locked by structure or brake; free: not actuated, "
+            "moves without torque; limits from the robot file (— where none)",
+        )
+    )
+    con.print(
+        table(
+            "Actuator mounts",
+            ["joint", "mass sits on", "at (m, link frame)", "already in link masses"],
+            [
+                [
+                    j,
+                    m["link"],
+                    ", ".join(f"{x:g}" for x in m["xyz"]),
+                    num(m["included_mass"], "kg") if m["included_mass"] > 0 else "none",
+                ]
+                for j, m in r["mounts"].items()
+            ],
+        )
+    )
     c = s["catalog"]
     stages = "stage" if c["max_stages"] == 1 else "stages"
-    con.print(table(f"Catalog: {c['motors']} motors, up to {c['max_stages']} {stages} per joint",
-                    ["stage type", "kind", "frames", "ratios", "efficiency model"],
-                    [[t["name"], t["kind"], str(t["frames"]),
-                      ", ".join(f"{x:g}" for x in t["ratios"]) if t["ratios"] else
-                      f"{t['ratio_range'][0]:g} to {t['ratio_range'][1]:g} (continuous)",
-                      t["efficiency"]] for t in c["stage_types"]]))
-    units = {"payload_min": "N", "imf_min": "", "directional_imf_min": "", "effective_mass_max": "kg",
-             "backdrive_force_max": "N", "speed_min": "m/s", "acceleration_min": "m/s²",
-             "temperature_margin_min": "K"}
+    con.print(
+        table(
+            f"Catalog: {c['motors']} motors, up to {c['max_stages']} {stages} per joint",
+            ["stage type", "kind", "frames", "ratios", "efficiency model"],
+            [
+                [
+                    t["name"],
+                    t["kind"],
+                    str(t["frames"]),
+                    ", ".join(f"{x:g}" for x in t["ratios"])
+                    if t["ratios"]
+                    else f"{t['ratio_range'][0]:g} to {t['ratio_range'][1]:g} (continuous)",
+                    t["efficiency"],
+                ]
+                for t in c["stage_types"]
+            ],
+        )
+    )
+    units = {
+        "payload_min": "N",
+        "imf_min": "",
+        "directional_imf_min": "",
+        "effective_mass_max": "kg",
+        "backdrive_force_max": "N",
+        "speed_min": "m/s",
+        "acceleration_min": "m/s²",
+        "temperature_margin_min": "K",
+    }
     more = len(s["cases"]) - SHOWN_CASES
-    con.print(table("Cases", ["case", "kind", "frame", "direction", "motion", "requirements"],
-                    [[x["name"], x["kind"], x["frame"] or "—",
-                      "—" if x["direction"] is None else "(" + ", ".join(f"{v:.3g}" for v in x["direction"]) + ")",
-                      x["motion"] or "—",
-                      "; ".join(f"{k.replace('_', ' ')} {num(v, units.get(k, ''))}" for k, v in x["limits"].items()) or "—"]
-                     for x in s["cases"][:SHOWN_CASES]],
-                    caption=f"the first {SHOWN_CASES} of {len(s['cases']):,} cases; --json lists all"
-                    if more > 0 else None))
+    con.print(
+        table(
+            "Cases",
+            ["case", "kind", "frame", "direction", "motion", "requirements"],
+            [
+                [
+                    x["name"],
+                    x["kind"],
+                    x["frame"] or "—",
+                    "—"
+                    if x["direction"] is None
+                    else "(" + ", ".join(f"{v:.3g}" for v in x["direction"]) + ")",
+                    x["motion"] or "—",
+                    "; ".join(
+                        f"{k.replace('_', ' ')} {num(v, units.get(k, ''))}"
+                        for k, v in x["limits"].items()
+                    )
+                    or "—",
+                ]
+                for x in s["cases"][:SHOWN_CASES]
+            ],
+            caption=f"the first {SHOWN_CASES} of {len(s['cases']):,} cases; --json lists all"
+            if more > 0
+            else None,
+        )
+    )
     grows = [x for x in s["cases"][:SHOWN_CASES] if x.get("payload_growth")]
     if grows:
-        con.print("load per payload mass m_p (the payload objective reads each case's force as kg carried): "
-                  + "; ".join(f"{x['name']} {num(x['payload_growth']['fixed_load'], 'N')} + "
-                              f"{x['payload_growth']['payload_share']:g}·m_p·g" for x in grows))
+        con.print(
+            "load per payload mass m_p (the payload objective reads each case's force as kg carried): "
+            + "; ".join(
+                f"{x['name']} {num(x['payload_growth']['fixed_load'], 'N')} + "
+                f"{x['payload_growth']['payload_share']:g}·m_p·g"
+                for x in grows
+            )
+        )
     req = s["requirements"]
-    line = f"total actuator mass ≤ {num(req['total_mass_max'], 'kg')}" if math.isfinite(req["total_mass_max"]) else "no total mass budget"
+    line = (
+        f"total actuator mass ≤ {num(req['total_mass_max'], 'kg')}"
+        if math.isfinite(req["total_mass_max"])
+        else "no total mass budget"
+    )
     con.print("requirements: " + line)
-    joint_units = {"mass_max": "kg", "reflected_inertia_max": "kg·m²", "diameter_max": "m",
-                   "length_max": "m", "ratio_min": "", "ratio_max": ""}
+    joint_units = {
+        "mass_max": "kg",
+        "reflected_inertia_max": "kg·m²",
+        "diameter_max": "m",
+        "length_max": "m",
+        "ratio_min": "",
+        "ratio_max": "",
+    }
     for j, lim in req["joints"].items():
-        con.print(f"  {j}: " + ", ".join(f"{k.replace('_', ' ')} {num(v, joint_units.get(k, ''))}"
-                                         for k, v in lim.items()))
+        con.print(
+            f"  {j}: "
+            + ", ".join(
+                f"{k.replace('_', ' ')} {num(v, joint_units.get(k, ''))}" for k, v in lim.items()
+            )
+        )
     for n in c["notes"]:
         con.print(f"[yellow]note:[/yellow] {n}")
     for j in r["unloaded"]:
-        con.print(f"[yellow]warning:[/yellow] no case loads joint {j}: sizing would give it the "
-                  "smallest actuator that meets its own limits; add a case that loads it (a payload, "
-                  "stance or duty case) or a joint requirement")
+        con.print(
+            f"[yellow]warning:[/yellow] no case loads joint {j}: sizing would give it the "
+            "smallest actuator that meets its own limits; add a case that loads it (a payload, "
+            "stance or duty case) or a joint requirement"
+        )
 
 
 def _joint_row(name: str, x: dict) -> list[str]:
     ang = x["kind"] == "revolute"
     pos, eff, vel = ("rad", "N·m", "rad/s") if ang else ("m", "N", "m/s")
+
     def limit(v, unit):  # a limit the robot file does not give is shown as —
         return num(v, unit) if math.isfinite(v) else "—"
 
-    return [name, x["role"], limit(x["lower"], pos), limit(x["upper"], pos), limit(x["effort"], eff),
-            limit(x["velocity"], vel)]
+    return [
+        name,
+        x["role"],
+        limit(x["lower"], pos),
+        limit(x["upper"], pos),
+        limit(x["effort"], eff),
+        limit(x["velocity"], vel),
+    ]
 
 
 def _finite(x):
     from ..assessment import _jsonable
+
     return _jsonable(x)

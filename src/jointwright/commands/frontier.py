@@ -17,49 +17,116 @@ UNITS = {"imf": "", "effective_mass": "kg", "backdrive_force": "N"}
 def print_frontier(f) -> None:
     con = console()
     better = "higher" if f.sense == "min" else "lower"
-    con.print(f"[bold]frontier[/bold]: payload versus {f.measure} at case {f.case} ({better} is more "
-              f"back-drivable); {len(f.points)} non-dominated designs, "
-              f"{'complete' if f.complete else 'sampled (stopped early)'}; " + (
-                  f"every one of {f.scored:,} candidate designs scored" if f.method == "exhaustive"
-                  else f"{f.solves} exact solves") + f", {f.seconds:.1f} s")
+    con.print(
+        f"[bold]frontier[/bold]: payload versus {f.measure} at case {f.case} ({better} is more "
+        f"back-drivable); {len(f.points)} non-dominated designs, "
+        f"{'complete' if f.complete else 'sampled (stopped early)'}; "
+        + (
+            f"every one of {f.scored:,} candidate designs scored"
+            if f.method == "exhaustive"
+            else f"{f.solves} exact solves"
+        )
+        + f", {f.seconds:.1f} s"
+    )
     rows = []
     costs = any(p.design.cost > 0 for p in f.points)  # the catalog gives costs
     for i, p in enumerate(f.points):
         mark = " ◆" if i == f.knee else ""
-        rows.append([str(i) + mark, num(p.payload, "kg"), num(p.measure, UNITS[f.measure]), num(p.mass, "kg")]
-                    + ([num(p.design.cost)] if costs else [])
-                    + [", ".join(p.changes) or ("—" if i else "first point"),
-                       "; ".join(f"{j}: {a.label()}" for j, a in zip(p.design.joints, p.design.actuators))])
-    caption = ("each point: the largest payload with the measure at least this good; every other requirement of "
-               "the project is kept" + ("; cost in the catalog's currency units" if costs else "")
-               + ("; ◆ the turning point of the trade-off (farthest from the line joining the two ends)"
-                  if f.knee is not None else ""))
-    con.print(table("Frontier (largest payload first)",
-                    ["#", "payload mass", f.measure, "mass"] + (["cost"] if costs else []) + ["joints changed", "design"],
-                    rows, caption=caption))
-    con.print("[yellow]caution:[/yellow] back-drivability figures are concept-stage estimates; contact safety "
-              "must be assessed under the applicable collaborative-robot and machinery safety standards.")
+        rows.append(
+            [
+                str(i) + mark,
+                num(p.payload, "kg"),
+                num(p.measure, UNITS[f.measure]),
+                num(p.mass, "kg"),
+            ]
+            + ([num(p.design.cost)] if costs else [])
+            + [
+                ", ".join(p.changes) or ("—" if i else "first point"),
+                "; ".join(
+                    f"{j}: {a.label()}"
+                    for j, a in zip(p.design.joints, p.design.actuators, strict=True)
+                ),
+            ]
+        )
+    caption = (
+        "each point: the largest payload with the measure at least this good; every other requirement of "
+        "the project is kept"
+        + ("; cost in the catalog's currency units" if costs else "")
+        + (
+            "; ◆ the turning point of the trade-off (farthest from the line joining the two ends)"
+            if f.knee is not None
+            else ""
+        )
+    )
+    con.print(
+        table(
+            "Frontier (largest payload first)",
+            ["#", "payload mass", f.measure, "mass"]
+            + (["cost"] if costs else [])
+            + ["joints changed", "design"],
+            rows,
+            caption=caption,
+        )
+    )
+    con.print(
+        "[yellow]caution:[/yellow] back-drivability figures are concept-stage estimates; contact safety "
+        "must be assessed under the applicable collaborative-robot and machinery safety standards."
+    )
 
 
 @click.command("frontier")
 @click.argument("project", type=click.Path(path_type=Path))
-@click.option("--measure", type=click.Choice(["imf", "effective_mass", "backdrive_force"]), default="imf")
-@click.option("--case", "case_name", default=None, help="impact or back-drive case (default: the first)")
-@click.option("--method", type=click.Choice(["auto", "exhaustive", "sweep"]), default="auto",
-              help="exhaustive: score every candidate design (complete); sweep: exact ε-constraint "
-                   "solves; auto: exhaustive up to 2 million candidate designs")
-@click.option("--points", type=click.IntRange(min=1), default=50, show_default=True,
-              help="most exact solves (sweep)")
+@click.option(
+    "--measure", type=click.Choice(["imf", "effective_mass", "backdrive_force"]), default="imf"
+)
+@click.option(
+    "--case", "case_name", default=None, help="impact or back-drive case (default: the first)"
+)
+@click.option(
+    "--method",
+    type=click.Choice(["auto", "exhaustive", "sweep"]),
+    default="auto",
+    help="exhaustive: score every candidate design (complete); sweep: exact ε-constraint "
+    "solves; auto: exhaustive up to 2 million candidate designs",
+)
+@click.option(
+    "--points",
+    type=click.IntRange(min=1),
+    default=50,
+    show_default=True,
+    help="most exact solves (sweep)",
+)
 @click.option("--time-limit", type=float, default=None, help="seconds for the whole sweep")
 @click.option("--json", "as_json", is_flag=True, help="machine-readable output")
-@click.option("--out", type=click.Path(path_type=Path), default=None, help="write the frontier as JSON here")
-@click.option("--plot", "plot_dir", type=click.Path(file_okay=False, path_type=Path), default=None,
-              help="write frontier.png and frontier.svg into this folder")
-@click.option("--frictionless", is_flag=True,
-              help="also sweep with every gear frictionless (η = 1 both ways), for comparison")
+@click.option(
+    "--out", type=click.Path(path_type=Path), default=None, help="write the frontier as JSON here"
+)
+@click.option(
+    "--plot",
+    "plot_dir",
+    type=click.Path(file_okay=False, path_type=Path),
+    default=None,
+    help="write frontier.png and frontier.svg into this folder",
+)
+@click.option(
+    "--frictionless",
+    is_flag=True,
+    help="also sweep with every gear frictionless (η = 1 both ways), for comparison",
+)
 @click.option("--force", is_flag=True, help="replace an existing --out file or --plot figures")
-def command(project: Path, measure, case_name, method, points, time_limit, as_json, out, plot_dir,
-            frictionless, force):
+def command(
+    project: Path,
+    measure,
+    case_name,
+    method,
+    points,
+    time_limit,
+    as_json,
+    out,
+    plot_dir,
+    frictionless,
+    force,
+):
     """Payload versus MEASURE over the non-dominated designs of PROJECT (exhaustive or exact
     ε-constraint sweep)."""
     from ..errors import InputError
@@ -77,8 +144,9 @@ def command(project: Path, measure, case_name, method, points, time_limit, as_js
     data = f.to_dict()
     ideal = None
     if frictionless:
-        ideal = frontier(frictionless_project(p), measure, case=case_name, points=points,
-                         time_limit=time_limit)
+        ideal = frontier(
+            frictionless_project(p), measure, case=case_name, points=points, time_limit=time_limit
+        )
         data["frictionless"] = ideal.to_dict()
     if plot_dir is not None:
         with atomic_folder(plot_dir, "--plot") as tmp:
@@ -91,9 +159,11 @@ def command(project: Path, measure, case_name, method, points, time_limit, as_js
         print_frontier(f)
         if ideal is not None:
             con = console()
-            con.print(f"frictionless gears: {len(ideal.points)} non-dominated designs; largest payload "
-                      f"{num(ideal.points[0].payload if ideal.points else None, 'kg')} against "
-                      f"{num(f.points[0].payload if f.points else None, 'kg')} with the catalog's efficiencies")
+            con.print(
+                f"frictionless gears: {len(ideal.points)} non-dominated designs; largest payload "
+                f"{num(ideal.points[0].payload if ideal.points else None, 'kg')} against "
+                f"{num(f.points[0].payload if f.points else None, 'kg')} with the catalog's efficiencies"
+            )
         if out is not None:
             console().print(f"frontier written to {out}")
         if plot_dir is not None:
@@ -115,18 +185,28 @@ def write_plot(f, ideal, folder: Path) -> None:
     from ..report import figures
 
     unit = UNITS[f.measure]
-    label = {"imf": "impact mitigation factor", "effective_mass": "back-driven effective mass",
-             "backdrive_force": "back-drive force"}[f.measure]
-    series = {"catalog efficiencies": ([p.measure for p in f.points], [p.payload for p in f.points])}
+    label = {
+        "imf": "impact mitigation factor",
+        "effective_mass": "back-driven effective mass",
+        "backdrive_force": "back-drive force",
+    }[f.measure]
+    series = {
+        "catalog efficiencies": ([p.measure for p in f.points], [p.payload for p in f.points])
+    }
     if ideal is not None:
-        series["frictionless gears (η = 1)"] = ([p.measure for p in ideal.points],
-                                                [p.payload for p in ideal.points])
+        series["frictionless gears (η = 1)"] = (
+            [p.measure for p in ideal.points],
+            [p.payload for p in ideal.points],
+        )
     knee = None if f.knee is None else (f.points[f.knee].measure, f.points[f.knee].payload)
     better = "higher is more back-drivable" if f.sense == "min" else "lower is more back-drivable"
     fig = figures.frontier_figure(
-        series, knee, x_label=f"{label}{f' ({unit})' if unit else ''} at case {f.case}; {better}",
+        series,
+        knee,
+        x_label=f"{label}{f' ({unit})' if unit else ''} at case {f.case}; {better}",
         y_label="payload mass every payload case carries (kg)",
         title=f"Payload versus {label}: non-dominated designs "
-              f"({'complete' if f.complete else 'sampled'})",
-        steps="pre" if f.sense == "min" else "post")
+        f"({'complete' if f.complete else 'sampled'})",
+        steps="pre" if f.sense == "min" else "post",
+    )
     figures.save(fig, folder, "frontier")

@@ -9,14 +9,18 @@ from pathlib import Path
 import click
 
 from ..errors import InputError
-
 from ..project import EXAMPLES
 
 
 @click.command("new")
 @click.argument("directory", type=click.Path(file_okay=False, path_type=Path))
-@click.option("--example", type=click.Choice(EXAMPLES), default="leg", show_default=True,
-              help="leg: three-joint quadruped leg on a floating trunk; arm: six-joint arm on a mobile base; quadruped: four legs, robot-level payload on several feet.")
+@click.option(
+    "--example",
+    type=click.Choice(EXAMPLES),
+    default="leg",
+    show_default=True,
+    help="leg: three-joint quadruped leg on a floating trunk; arm: six-joint arm on a mobile base; quadruped: four legs, robot-level payload on several feet.",
+)
 def command(directory: Path, example: str):
     """Write the bundled example project EXAMPLE into DIRECTORY (which must be new or empty)."""
     if directory.exists() and any(directory.iterdir()):

@@ -30,20 +30,53 @@ def _json(path: Path | None, option: str):
 
 @click.command("report")
 @click.argument("project", type=click.Path(path_type=Path))
-@click.option("--design", "design_file", required=True, type=click.Path(path_type=Path),
-              help="design file (TOML) naming motor and stages per joint")
-@click.option("--out", "out_dir", type=click.Path(path_type=Path), default=None,
-              help="folder for report.html and figures/ (default: report/ beside the project file)")
-@click.option("--sizing", "sizing_file", type=click.Path(path_type=Path), default=None,
-              help="sizing result JSON: adds runner-ups and why they lost")
-@click.option("--frontier", "frontier_file", type=click.Path(path_type=Path), default=None,
-              help="frontier JSON: adds the frontier with the chosen design marked")
-@click.option("--study", "study_store", type=click.Path(path_type=Path), default=None,
-              help="study store (SQLite): adds what the study found: tables with units and plots")
+@click.option(
+    "--design",
+    "design_file",
+    required=True,
+    type=click.Path(path_type=Path),
+    help="design file (TOML) naming motor and stages per joint",
+)
+@click.option(
+    "--out",
+    "out_dir",
+    type=click.Path(path_type=Path),
+    default=None,
+    help="folder for report.html and figures/ (default: report/ beside the project file)",
+)
+@click.option(
+    "--sizing",
+    "sizing_file",
+    type=click.Path(path_type=Path),
+    default=None,
+    help="sizing result JSON: adds runner-ups and why they lost",
+)
+@click.option(
+    "--frontier",
+    "frontier_file",
+    type=click.Path(path_type=Path),
+    default=None,
+    help="frontier JSON: adds the frontier with the chosen design marked",
+)
+@click.option(
+    "--study",
+    "study_store",
+    type=click.Path(path_type=Path),
+    default=None,
+    help="study store (SQLite): adds what the study found: tables with units and plots",
+)
 @click.option("--json", "as_json", is_flag=True, help="print the written paths as JSON")
 @click.option("--force", is_flag=True, help="replace an existing report.html in the --out folder")
-def command(project: Path, design_file: Path, out_dir: Path | None, sizing_file: Path | None,
-            frontier_file: Path | None, study_store: Path | None, as_json: bool, force: bool):
+def command(
+    project: Path,
+    design_file: Path,
+    out_dir: Path | None,
+    sizing_file: Path | None,
+    frontier_file: Path | None,
+    study_store: Path | None,
+    as_json: bool,
+    force: bool,
+):
     """Write the HTML report of the design in DESIGN for PROJECT (figures embedded)."""
     from ..report import build_report
 
@@ -75,5 +108,11 @@ def command(project: Path, design_file: Path, out_dir: Path | None, sizing_file:
         return
     rows = [["report", str(path)], ["figures", f"{len(names)} (PNG and SVG) in {folder}"]]
     rows += [["", n] for n in names]
-    console().print(table("Report written", ["", ""], rows,
-                          caption="open report.html in any browser; it needs no network"))
+    console().print(
+        table(
+            "Report written",
+            ["", ""],
+            rows,
+            caption="open report.html in any browser; it needs no network",
+        )
+    )

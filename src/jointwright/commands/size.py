@@ -60,8 +60,15 @@ def payload_rows(project, assessment) -> list[list[str]]:
         case = project.case(c.name)
         share = case.payload_share
         carried = c.metrics.get("payload_carried")
-        rows.append([c.name, num(c.metrics.get("payload"), "N"), num(case.fixed_load, "N"), f"{share:g}",
-                     "not limiting (share 0)" if share == 0 else num(carried, "kg")])
+        rows.append(
+            [
+                c.name,
+                num(c.metrics.get("payload"), "N"),
+                num(case.fixed_load, "N"),
+                f"{share:g}",
+                "not limiting (share 0)" if share == 0 else num(carried, "kg"),
+            ]
+        )
     return rows
 
 
@@ -71,49 +78,101 @@ def print_result(r, project=None) -> None:
     con = console()
     unit = UNITS[r.objective_kind]
     con.print(f"[bold]size[/bold] ({r.backend}, objective {r.objective_kind}): {r.message}")
-    con.print(f"status {r.status}; objective {num(r.objective, unit)}; bound {num(r.bound, unit)}; "
-              f"gap {pct(r.gap) if r.gap == r.gap else '—'}; {r.seconds:.2f} s; {r.native_status}")
-    con.print("options per joint after its own filters: "
-              + ", ".join(f"{j} {k}" for j, k in r.options.items()))
+    con.print(
+        f"status {r.status}; objective {num(r.objective, unit)}; bound {num(r.bound, unit)}; "
+        f"gap {pct(r.gap) if r.gap == r.gap else '—'}; {r.seconds:.2f} s; {r.native_status}"
+    )
+    con.print(
+        "options per joint after its own filters: "
+        + ", ".join(f"{j} {k}" for j, k in r.options.items())
+    )
     if r.objective_kind == "payload" and r.assessment is not None and project is not None:
-        con.print(table("Payload mass carried per case (the objective is the smallest)",
-                        ["case", "force reached", "fixed load", "share of payload weight", "payload carried"],
-                        payload_rows(project, r.assessment)))
+        con.print(
+            table(
+                "Payload mass carried per case (the objective is the smallest)",
+                [
+                    "case",
+                    "force reached",
+                    "fixed load",
+                    "share of payload weight",
+                    "payload carried",
+                ],
+                payload_rows(project, r.assessment),
+            )
+        )
     if r.assessment is not None:
         print_assessment(r.assessment)
     if r.binding:
         con.print("[bold]binding requirements[/bold] (smallest margins): " + "; ".join(r.binding))
     if r.alternatives:
-        rows = [[a.joint, a.change.replace("other ", ""), a.actuator.replace(" | ", " + "),
-                 a.ruled_out_by or ("—" if a.loss is None else f"{num(a.objective, unit)} (−{num(a.loss, unit)})"),
-                 f"{a.mass_change:+.3f} kg"]
-                for a in r.alternatives]
-        con.print(table("Runner-ups per joint (rest of the design kept)",
-                        ["joint", "other", "actuator", "objective (loss) or ruled out by", "Δ mass"], rows,
-                        caption="loss 0: the joint does not limit the objective; the choice was made by "
-                                "the tie-break (least mass, then least back-driven reflected inertia)"))
+        rows = [
+            [
+                a.joint,
+                a.change.replace("other ", ""),
+                a.actuator.replace(" | ", " + "),
+                a.ruled_out_by
+                or ("—" if a.loss is None else f"{num(a.objective, unit)} (−{num(a.loss, unit)})"),
+                f"{a.mass_change:+.3f} kg",
+            ]
+            for a in r.alternatives
+        ]
+        con.print(
+            table(
+                "Runner-ups per joint (rest of the design kept)",
+                ["joint", "other", "actuator", "objective (loss) or ruled out by", "Δ mass"],
+                rows,
+                caption="loss 0: the joint does not limit the objective; the choice was made by "
+                "the tie-break (least mass, then least back-driven reflected inertia)",
+            )
+        )
     if r.diagnosis:
-        rows = [[d.requirement, requirement_num(d.requirement, d.limit),
-                 requirement_num(d.requirement, d.best_achievable),
-                 "—" if d.shortfall != d.shortfall else pct(-d.shortfall),
-                 "infeasible / not solved" if d.relaxed_objective is None else
-                 num(d.relaxed_objective, unit) + ("" if d.relaxed_proven else " (bound, time out)")]
-                for d in r.diagnosis]
-        con.print(table("Diagnosis: each requirement alone, and the optimum without it",
-                        ["requirement", "limit", "best alone", "margin alone", "optimum without it"], rows,
-                        caption="margin alone < 0: no design meets it even ignoring every other requirement"))
+        rows = [
+            [
+                d.requirement,
+                requirement_num(d.requirement, d.limit),
+                requirement_num(d.requirement, d.best_achievable),
+                "—" if d.shortfall != d.shortfall else pct(-d.shortfall),
+                "infeasible / not solved"
+                if d.relaxed_objective is None
+                else num(d.relaxed_objective, unit)
+                + ("" if d.relaxed_proven else " (bound, time out)"),
+            ]
+            for d in r.diagnosis
+        ]
+        con.print(
+            table(
+                "Diagnosis: each requirement alone, and the optimum without it",
+                ["requirement", "limit", "best alone", "margin alone", "optimum without it"],
+                rows,
+                caption="margin alone < 0: no design meets it even ignoring every other requirement",
+            )
+        )
 
 
 @click.command("size")
 @click.argument("project", type=click.Path(path_type=Path))
-@click.option("--objective", type=click.Choice(["payload", "mass", "imf"]), default=None,
-              help="default: the project's [objective] maximize, else payload")
+@click.option(
+    "--objective",
+    type=click.Choice(["payload", "mass", "imf"]),
+    default=None,
+    help="default: the project's [objective] maximize, else payload",
+)
 @click.option("--backend", type=click.Choice(["search", "pyomo"]), default="search")
-@click.option("--time-limit", type=float, default=None,
-              help="seconds for the whole run (explanation included); then best design with bound and gap")
-@click.option("--no-explain", is_flag=True, help="skip the runner-ups and the infeasibility diagnosis")
-@click.option("--out", type=click.Path(path_type=Path), default=None, help="write the design file here")
-@click.option("--force", is_flag=True, help="replace an existing --out file (inputs are never replaced)")
+@click.option(
+    "--time-limit",
+    type=float,
+    default=None,
+    help="seconds for the whole run (explanation included); then best design with bound and gap",
+)
+@click.option(
+    "--no-explain", is_flag=True, help="skip the runner-ups and the infeasibility diagnosis"
+)
+@click.option(
+    "--out", type=click.Path(path_type=Path), default=None, help="write the design file here"
+)
+@click.option(
+    "--force", is_flag=True, help="replace an existing --out file (inputs are never replaced)"
+)
 @click.option("--json", "as_json", is_flag=True, help="machine-readable output")
 def command(project: Path, objective, backend, time_limit, no_explain, out, force, as_json):
     """Choose motor, stage stack and ratio for every joint of PROJECT (proven optimum)."""
@@ -126,8 +185,14 @@ def command(project: Path, objective, backend, time_limit, no_explain, out, forc
         check_target(out, "--out", inputs=project_inputs(p), force=force)
     progress = Progress(not as_json)
     try:
-        r = size(p, objective=objective, backend=backend, time_limit=time_limit, progress=progress,
-                 explain=not no_explain)
+        r = size(
+            p,
+            objective=objective,
+            backend=backend,
+            time_limit=time_limit,
+            progress=progress,
+            explain=not no_explain,
+        )
     finally:
         progress.stop()
     if out is not None and r.design is not None:
@@ -140,10 +205,14 @@ def command(project: Path, objective, backend, time_limit, no_explain, out, forc
     else:
         print_result(r, p)
         for j in unloaded:
-            console().print(f"[yellow]note:[/yellow] no case loads joint {j}: its choice is the "
-                            "smallest actuator that meets its own limits, not a sized one")
+            console().print(
+                f"[yellow]note:[/yellow] no case loads joint {j}: its choice is the "
+                "smallest actuator that meets its own limits, not a sized one"
+            )
         if out is not None:
-            console().print(f"design written to {out}" if r.design is not None else "no design to write")
+            console().print(
+                f"design written to {out}" if r.design is not None else "no design to write"
+            )
     if r.status in ("infeasible", "error") or r.design is None:
         # no design that meets every requirement: the diagnosis above says why; never exit 0
         raise SystemExit(1)

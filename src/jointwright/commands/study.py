@@ -16,19 +16,40 @@ SHOWN_FAILURES = 5
 
 @click.command("study")
 @click.argument("study", type=click.Path(path_type=Path))
-@click.option("--store", type=click.Path(path_type=Path), default=None,
-              help="SQLite results file (default: results.sqlite beside the study file)")
-@click.option("--workers", type=click.IntRange(min=1), default=None, help="local processes (default: cores)")
+@click.option(
+    "--store",
+    type=click.Path(path_type=Path),
+    default=None,
+    help="SQLite results file (default: results.sqlite beside the study file)",
+)
+@click.option(
+    "--workers", type=click.IntRange(min=1), default=None, help="local processes (default: cores)"
+)
 @click.option("--scheduler", default=None, help="Dask scheduler address, e.g. tcp://127.0.0.1:8786")
 @click.option("--resume", is_flag=True, help="run only the cases the store lacks")
 @click.option("--restart", is_flag=True, help="start the store anew (the old file is kept as .bak)")
 @click.option("--retry-failed", is_flag=True, help="with --resume, run failed cases again")
-@click.option("--csv", "csv_path", type=click.Path(path_type=Path), default=None,
-              help="also export the summary table as CSV")
+@click.option(
+    "--csv",
+    "csv_path",
+    type=click.Path(path_type=Path),
+    default=None,
+    help="also export the summary table as CSV",
+)
 @click.option("--force", is_flag=True, help="replace an existing --csv file")
 @click.option("--json", "as_json", is_flag=True, help="machine-readable summary")
-def command(study: Path, store: Path | None, workers, scheduler, resume, restart, retry_failed,
-            csv_path, force, as_json):
+def command(
+    study: Path,
+    store: Path | None,
+    workers,
+    scheduler,
+    resume,
+    restart,
+    retry_failed,
+    csv_path,
+    force,
+    as_json,
+):
     """Run every case of STUDY (sizing or frontier per case); each finished case is stored at once,
     so an interrupted run loses nothing and --resume goes on where it stopped.
 
@@ -47,32 +68,56 @@ def command(study: Path, store: Path | None, workers, scheduler, resume, restart
     check_target(store, "--store", inputs=inputs, force=True)
     if csv_path is not None:
         check_target(csv_path, "--csv", inputs=inputs | {store}, force=force)
-    outcome = run_study(spec, store, workers=workers, scheduler=scheduler, resume=resume,
-                        restart=restart, retry_failed=retry_failed, progress=not as_json)
+    outcome = run_study(
+        spec,
+        store,
+        workers=workers,
+        scheduler=scheduler,
+        resume=resume,
+        restart=restart,
+        retry_failed=retry_failed,
+        progress=not as_json,
+    )
     if csv_path is not None:
         export_csv(store, csv_path)
     from ..study import read_cases
 
     rows = read_cases(store)
-    failures = [{"case_id": r.case_id, "variant": r.variant, "params": r.params, "error": r.error}
-                for r in rows if r.status == "failed"]
+    failures = [
+        {"case_id": r.case_id, "variant": r.variant, "params": r.params, "error": r.error}
+        for r in rows
+        if r.status == "failed"
+    ]
     if as_json:
-        emit_json({"store": str(outcome.store), "total": outcome.total, "done": outcome.done_total,
-                   "failed": outcome.failed_total, "skipped": outcome.skipped,
-                   "wall_time": outcome.wall_time, "case_time": outcome.case_time,
-                   "workers": outcome.workers, "backend": outcome.backend,
-                   "failures": failures[:SHOWN_FAILURES]})
+        emit_json(
+            {
+                "store": str(outcome.store),
+                "total": outcome.total,
+                "done": outcome.done_total,
+                "failed": outcome.failed_total,
+                "skipped": outcome.skipped,
+                "wall_time": outcome.wall_time,
+                "case_time": outcome.case_time,
+                "workers": outcome.workers,
+                "backend": outcome.backend,
+                "failures": failures[:SHOWN_FAILURES],
+            }
+        )
         if failures:
             raise SystemExit(EXIT_CASES_FAILED)
         return
     con = console()
-    con.print(f"study {study}: {outcome.done_total} done, {outcome.failed_total} failed of "
-              f"{outcome.total} cases ({outcome.skipped} already stored); {outcome.wall_time:.1f} s "
-              f"on {_slots(outcome.workers, outcome.backend)}; results in {outcome.store}")
+    con.print(
+        f"study {study}: {outcome.done_total} done, {outcome.failed_total} failed of "
+        f"{outcome.total} cases ({outcome.skipped} already stored); {outcome.wall_time:.1f} s "
+        f"on {_slots(outcome.workers, outcome.backend)}; results in {outcome.store}"
+    )
     con.print(case_table(spec.name, rows, max_rows=40))
-    con.print("objective: the payload mass every case carries (kg) when sizing for payload, the "
-              "actuator mass (kg) for mass, the IMF for imf. All metrics: --csv FILE, or open the "
-              "SQLite store.")
+    con.print(
+        "objective: the payload mass every case carries (kg) when sizing for payload, the "
+        "actuator mass (kg) for mass, the IMF for imf. All metrics: --csv FILE, or open the "
+        "SQLite store."
+    )
     if csv_path is not None:
         con.print(f"summary written to {csv_path}")
     if failures:
@@ -84,14 +129,20 @@ def print_failures(failures: list[dict], stored: int, store: Path) -> None:
     """The count and the first errors of the failed cases, on stderr (the table is on stdout)."""
     import click
 
-    click.echo(f"jointwright: {len(failures)} of {stored} stored cases failed; first "
-               f"{min(len(failures), SHOWN_FAILURES)}:", err=True)
+    click.echo(
+        f"jointwright: {len(failures)} of {stored} stored cases failed; first "
+        f"{min(len(failures), SHOWN_FAILURES)}:",
+        err=True,
+    )
     for f in failures[:SHOWN_FAILURES]:
         where = ", ".join(f"{k} = {v!r}" for k, v in f["params"].items())
         label = f"{f['case_id']}" + (f" ({f['variant']})" if f["variant"] else "")
         click.echo(f"  {label} [{where}]: {f['error']}", err=True)
-    click.echo(f"  all errors and tracebacks: the cases table of {store}; after a fix, run again "
-               "with --resume --retry-failed", err=True)
+    click.echo(
+        f"  all errors and tracebacks: the cases table of {store}; after a fix, run again "
+        "with --resume --retry-failed",
+        err=True,
+    )
 
 
 #: short status words for the terminal table
@@ -107,27 +158,41 @@ def case_table(name: str, rows, *, max_rows: int):
     params = list(dict.fromkeys(k for r in rows for k in r.params))
     short = {k: k.rsplit(".", 1)[-1] for k in params}
     variants = any(r.variant for r in rows)
-    cols = ["#"] + (["variant"] if variants else []) + [short[k] for k in params] + [
-        "status", "objective", "gap", "actuators", "time"]
+    cols = (
+        ["#"]
+        + (["variant"] if variants else [])
+        + [short[k] for k in params]
+        + ["status", "objective", "gap", "actuators", "time"]
+    )
     body = []
     for r in rows[:max_rows]:
         m = r.metrics
-        status = "failed" if r.status == "failed" else _STATUS.get(m.get("sizing_status"), m.get("sizing_status") or r.status)
+        status = (
+            "failed"
+            if r.status == "failed"
+            else _STATUS.get(m.get("sizing_status"), m.get("sizing_status") or r.status)
+        )
         gap = m.get("gap")
-        body.append([str(r.index + 1)] + ([r.variant or ""] if variants else [])
-                    + [str(r.params.get(k, "")) for k in params]
-                    + [status, format_number(m.get("objective"), 4) if m.get("objective") is not None else "—",
-                       f"{100 * gap:.2g} %" if isinstance(gap, (int, float)) and gap == gap
-                       and abs(gap) != float("inf") else "—",
-                       num(m.get("total_mass"), "kg") if m.get("total_mass") is not None else "—",
-                       f"{r.wall_time:.3g} s" if isinstance(r.wall_time, (int, float)) else "—"])
+        body.append(
+            [str(r.index + 1)]
+            + ([r.variant or ""] if variants else [])
+            + [str(r.params.get(k, "")) for k in params]
+            + [
+                status,
+                format_number(m.get("objective"), 4) if m.get("objective") is not None else "—",
+                f"{100 * gap:.2g} %"
+                if isinstance(gap, (int, float)) and gap == gap and abs(gap) != float("inf")
+                else "—",
+                num(m.get("total_mass"), "kg") if m.get("total_mass") is not None else "—",
+                f"{r.wall_time:.3g} s" if isinstance(r.wall_time, (int, float)) else "—",
+            ]
+        )
     more = len(rows) - max_rows
     caption = f"the first {max_rows} of {len(rows)} cases" if more > 0 else None
     return table(f"study {name}", cols, body, caption=caption)
 
 
 def _slots(count: int, backend: str) -> str:
-    """"2 local processes", "1 Dask worker thread"."""
+    """ "2 local processes", "1 Dask worker thread"."""
     kind = "local process" if backend == "processes" else "Dask worker thread"
     return f"{count} {kind}" + ("" if count == 1 else ("es" if kind.endswith("s") else "s"))
-

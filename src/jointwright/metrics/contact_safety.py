@@ -30,8 +30,9 @@ class TransientContact:
     reduced_mass: np.ndarray
 
 
-def transient_contact(robot_mass, body_mass: float, stiffness: float,
-                      force_max: float) -> TransientContact:
+def transient_contact(
+    robot_mass, body_mass: float, stiffness: float, force_max: float
+) -> TransientContact:
     """v_max = F_max/√(μ·k), μ = (1/m_H + 1/m_R)⁻¹ (ISO/TS 15066 annex A two-body model).
 
     Parameters

@@ -179,9 +179,17 @@ class ContactStatics:
             raise InputError(_API, "payload_wrench", "must be a nonzero direction")
         act = self._actuated(nv)
         lo, hi = self._bounds(act.size)
-        values = dict(gravity=g, contact_jacobians=jc, normals=tangent_basis(n)[2] if k else n,
-                      friction=mu, payload_jacobian=jp, payload_wrench=w, tau_low=lo,
-                      tau_high=hi, actuated=act)
+        values = dict(
+            gravity=g,
+            contact_jacobians=jc,
+            normals=tangent_basis(n)[2] if k else n,
+            friction=mu,
+            payload_jacobian=jp,
+            payload_wrench=w,
+            tau_low=lo,
+            tau_high=hi,
+            actuated=act,
+        )
         for name, arr in values.items():
             arr.setflags(write=False)
             object.__setattr__(self, name, arr)
@@ -212,8 +220,12 @@ class ContactStatics:
     @property
     def shape(self) -> tuple[int, int, int, int]:
         """(nv, n_joints, n_contacts, payload_dim), the shape a compiled problem is built for."""
-        return (self.gravity.size, self.actuated.size, self.normals.shape[0],
-                self.payload_wrench.size)
+        return (
+            self.gravity.size,
+            self.actuated.size,
+            self.normals.shape[0],
+            self.payload_wrench.size,
+        )
 
     def contact_columns(self, *, scaled: bool = True) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """Generalized-force columns of each contact's normal and tangential force components.
@@ -292,12 +304,26 @@ class ContactPayloadResult:
         return tuple(out)
 
 
-def _failed(status: str, native: str, nj: int, k: int, wall: float, solver: str,
-            payload: float = math.nan) -> ContactPayloadResult:
+def _failed(
+    status: str, native: str, nj: int, k: int, wall: float, solver: str, payload: float = math.nan
+) -> ContactPayloadResult:
     nan_j, no_j, no_k = np.full(nj, np.nan), np.zeros(nj, bool), np.zeros(k, bool)
-    return ContactPayloadResult(status, native, payload, np.full((k, 3), np.nan), nan_j,
-                                no_j, no_j.copy(), nan_j.copy(), nan_j.copy(), no_k,
-                                no_k.copy(), wall, math.nan, solver)
+    return ContactPayloadResult(
+        status,
+        native,
+        payload,
+        np.full((k, 3), np.nan),
+        nan_j,
+        no_j,
+        no_j.copy(),
+        nan_j.copy(),
+        nan_j.copy(),
+        no_k,
+        no_k.copy(),
+        wall,
+        math.nan,
+        solver,
+    )
 
 
 def _torque_activity(st: ContactStatics, tau: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -308,8 +334,9 @@ def _torque_activity(st: ContactStatics, tau: np.ndarray) -> tuple[np.ndarray, n
     return at_low, at_high
 
 
-def _contact_forces(st: ContactStatics, normal: np.ndarray, tan1: np.ndarray,
-                    tan2: np.ndarray) -> np.ndarray:
+def _contact_forces(
+    st: ContactStatics, normal: np.ndarray, tan1: np.ndarray, tan2: np.ndarray
+) -> np.ndarray:
     """World-aligned contact forces (k, 3) from components along n, t1, t2 (N)."""
     if not normal.size:
         return np.zeros((0, 3))
@@ -330,14 +357,27 @@ class MultiContactPayload:
     solver_options : extra keyword arguments for ``Problem.solve``
     """
 
-    def __init__(self, nv: int, n_joints: int, n_contacts: int, *, payload_dim: int = 3,
-                 solver: str = "CLARABEL", solver_options: dict[str, Any] | None = None):
-        for name, val, low, high in (("nv", nv, 1, math.inf), ("n_joints", n_joints, 0, nv),
-                                     ("n_contacts", n_contacts, 0, math.inf)):
-            if isinstance(val, bool) or not isinstance(val, (int, np.integer)) or not (
-                    low <= val <= high):
-                raise InputError(_API, name, f"must be an integer in [{low}, {high}], "
-                                             f"got {val!r}")
+    def __init__(
+        self,
+        nv: int,
+        n_joints: int,
+        n_contacts: int,
+        *,
+        payload_dim: int = 3,
+        solver: str = "CLARABEL",
+        solver_options: dict[str, Any] | None = None,
+    ):
+        for name, val, low, high in (
+            ("nv", nv, 1, math.inf),
+            ("n_joints", n_joints, 0, nv),
+            ("n_contacts", n_contacts, 0, math.inf),
+        ):
+            if (
+                isinstance(val, bool)
+                or not isinstance(val, (int, np.integer))
+                or not (low <= val <= high)
+            ):
+                raise InputError(_API, name, f"must be an integer in [{low}, {high}], got {val!r}")
         if payload_dim not in (3, 6):
             raise InputError(_API, "payload_dim", f"must be 3 or 6, got {payload_dim!r}")
         self.shape = (int(nv), int(n_joints), int(n_contacts), int(payload_dim))
@@ -381,8 +421,12 @@ class MultiContactPayload:
 
     def _load(self, st: ContactStatics) -> None:
         if st.shape != self.shape:
-            raise InputError(_API, "statics", f"has shape {st.shape}, problem built for "
-                                              f"{self.shape} (nv, n_joints, k, payload_dim)")
+            raise InputError(
+                _API,
+                "statics",
+                f"has shape {st.shape}, problem built for "
+                f"{self.shape} (nv, n_joints, k, payload_dim)",
+            )
         p = self._par
         p["g"].value = np.array(st.gravity)
         p["b"].value = st.payload_jacobian.T @ st.payload_wrench
@@ -437,9 +481,21 @@ class MultiContactPayload:
         stats = self.problem.solver_stats
         solver_time = float(stats.solve_time) if stats.solve_time is not None else math.nan
         return ContactPayloadResult(
-            "optimal", native, float(self._s.value), forces, tau, at_low, at_high,
-            np.maximum(mult_lo, 0.0), np.maximum(mult_hi, 0.0), slip, unloaded, wall,
-            solver_time, self.solver)
+            "optimal",
+            native,
+            float(self._s.value),
+            forces,
+            tau,
+            at_low,
+            at_high,
+            np.maximum(mult_lo, 0.0),
+            np.maximum(mult_hi, 0.0),
+            slip,
+            unloaded,
+            wall,
+            solver_time,
+            self.solver,
+        )
 
 
 def solve(statics: ContactStatics, **kwargs: Any) -> ContactPayloadResult:
@@ -453,8 +509,16 @@ def solve(statics: ContactStatics, **kwargs: Any) -> ContactPayloadResult:
 
 
 #: core (non-batch) number of dimensions of each batched input of :func:`solve_batch`
-_CORE_NDIM = {"gravity": 1, "contact_jacobians": 3, "normals": 2, "friction": 1,
-              "payload_jacobian": 2, "payload_wrench": 1, "tau_low": 1, "tau_high": 1}
+_CORE_NDIM = {
+    "gravity": 1,
+    "contact_jacobians": 3,
+    "normals": 2,
+    "friction": 1,
+    "payload_jacobian": 2,
+    "payload_wrench": 1,
+    "tau_low": 1,
+    "tau_high": 1,
+}
 
 
 @dataclass(frozen=True)
@@ -498,8 +562,11 @@ def solve_batch(*, actuated: Any, solver: str = "CLARABEL", **arrays: Any) -> Co
     unknown = set(arrays) - set(_CORE_NDIM)
     missing = set(_CORE_NDIM) - set(arrays)
     if unknown or missing:
-        raise InputError(_API, ", ".join(sorted(unknown or missing)),
-                         "unknown argument" if unknown else "required argument missing")
+        raise InputError(
+            _API,
+            ", ".join(sorted(unknown or missing)),
+            "unknown argument" if unknown else "required argument missing",
+        )
     arr = {name: np.asarray(arrays[name], dtype=float) for name in _CORE_NDIM}
     if arr["friction"].ndim == 0 and arr["contact_jacobians"].ndim >= 3:  # one μ for all
         arr["friction"] = np.full(arr["contact_jacobians"].shape[-3], arr["friction"])
@@ -512,9 +579,11 @@ def solve_batch(*, actuated: Any, solver: str = "CLARABEL", **arrays: Any) -> Co
         batch = np.broadcast_shapes(*lead.values())
     except ValueError:
         raise InputError(_API, "batch dimensions", f"do not broadcast: {lead}") from None
-    cases = {n: np.broadcast_to(a, batch + a.shape[len(lead[n]):]) for n, a in arr.items()}
-    statics = [ContactStatics(**{n: a[idx] for n, a in cases.items()}, actuated=actuated)
-               for idx in np.ndindex(*batch)]
+    cases = {n: np.broadcast_to(a, batch + a.shape[len(lead[n]) :]) for n, a in arr.items()}
+    statics = [
+        ContactStatics(**{n: a[idx] for n, a in cases.items()}, actuated=actuated)
+        for idx in np.ndindex(*batch)
+    ]
     problem = MultiContactPayload.for_statics(statics[0], solver=solver)
     return _stack([problem.resolve(st) for st in statics], batch)
 
@@ -525,9 +594,15 @@ def _stack(results: list[ContactPayloadResult], batch: tuple[int, ...]) -> Conta
         return out.reshape(batch + out.shape[1:])
 
     return ContactPayloadBatch(
-        stacked("payload"), stacked("status"), stacked("contact_forces"),
-        stacked("joint_torques"), stacked("torque_at_low"), stacked("torque_at_high"),
-        stacked("cone_binding"), float(sum(r.solve_time for r in results)))
+        stacked("payload"),
+        stacked("status"),
+        stacked("contact_forces"),
+        stacked("joint_torques"),
+        stacked("torque_at_low"),
+        stacked("torque_at_high"),
+        stacked("cone_binding"),
+        float(sum(r.solve_time for r in results)),
+    )
 
 
 @dataclass(frozen=True)
@@ -568,8 +643,11 @@ def pyramid_bounds(statics: ContactStatics, *, sides: int = 8) -> PyramidBounds:
     """
     if isinstance(sides, bool) or not isinstance(sides, (int, np.integer)) or sides < 3:
         raise InputError(_API, "sides", f"must be an integer >= 3, got {sides!r}")
-    return PyramidBounds(_pyramid_lp(statics, int(sides), inner=True),
-                         _pyramid_lp(statics, int(sides), inner=False), int(sides))
+    return PyramidBounds(
+        _pyramid_lp(statics, int(sides), inner=True),
+        _pyramid_lp(statics, int(sides), inner=False),
+        int(sides),
+    )
 
 
 def _pyramid_lp(st: ContactStatics, p: int, *, inner: bool) -> ContactPayloadResult:
@@ -578,8 +656,15 @@ def _pyramid_lp(st: ContactStatics, p: int, *, inner: bool) -> ContactPayloadRes
     _, nj, k, _ = st.shape
     normal, t1, t2 = st.contact_columns(scaled=False)
     # unknowns z = [tau (nj), f_n (k), f_t1 (k), f_t2 (k), s]
-    a_eq = np.hstack([st.selection_transpose(), normal, t1, t2,
-                      (st.payload_jacobian.T @ st.payload_wrench)[:, None]])
+    a_eq = np.hstack(
+        [
+            st.selection_transpose(),
+            normal,
+            t1,
+            t2,
+            (st.payload_jacobian.T @ st.payload_wrench)[:, None],
+        ]
+    )
     phi = (2 * np.arange(p) + (1 if inner else 0)) * math.pi / p
     reach = math.cos(math.pi / p) if inner else 1.0
     a_ub = np.zeros((p * k, nj + 3 * k + 1))
@@ -587,14 +672,23 @@ def _pyramid_lp(st: ContactStatics, p: int, *, inner: bool) -> ContactPayloadRes
         rows = slice(c * p, (c + 1) * p)
         a_ub[rows, nj + c] = -st.friction[c] * reach
         a_ub[rows, nj + k + c], a_ub[rows, nj + 2 * k + c] = np.cos(phi), np.sin(phi)
-    bounds = [(None if math.isinf(lo) else lo, None if math.isinf(hi) else hi)
-              for lo, hi in zip(st.tau_low, st.tau_high)]
+    bounds = [
+        (None if math.isinf(lo) else lo, None if math.isinf(hi) else hi)
+        for lo, hi in zip(st.tau_low, st.tau_high, strict=True)
+    ]
     bounds += [(0, None)] * k + [(None, None)] * (2 * k) + [(0, None)]
     cost = np.zeros(nj + 3 * k + 1)
     cost[-1] = -1.0
     start = time.perf_counter()
-    res = linprog(cost, A_ub=a_ub if k else None, b_ub=np.zeros(p * k) if k else None,
-                  A_eq=a_eq, b_eq=st.gravity, bounds=bounds, method="highs")
+    res = linprog(
+        cost,
+        A_ub=a_ub if k else None,
+        b_ub=np.zeros(p * k) if k else None,
+        A_eq=a_eq,
+        b_eq=st.gravity,
+        bounds=bounds,
+        method="highs",
+    )
     wall = time.perf_counter() - start
     status = _LINPROG_STATUS.get(res.status, "error")
     if status != "optimal":
@@ -603,11 +697,12 @@ def _pyramid_lp(st: ContactStatics, p: int, *, inner: bool) -> ContactPayloadRes
     return _pyramid_result(st, res, a_ub, wall)
 
 
-def _pyramid_result(st: ContactStatics, res: Any, a_ub: np.ndarray,
-                    wall: float) -> ContactPayloadResult:
+def _pyramid_result(
+    st: ContactStatics, res: Any, a_ub: np.ndarray, wall: float
+) -> ContactPayloadResult:
     _, nj, k, _ = st.shape
     z = res.x
-    tau, fn, ft1, ft2 = z[:nj], z[nj:nj + k], z[nj + k:nj + 2 * k], z[nj + 2 * k:nj + 3 * k]
+    tau, fn, ft1, ft2 = z[:nj], z[nj : nj + k], z[nj + k : nj + 2 * k], z[nj + 2 * k : nj + 3 * k]
     forces = _contact_forces(st, fn, ft1, ft2)
     at_low, at_high = _torque_activity(st, tau)
     tol = _ACTIVE_RTOL * max(1.0, float(np.max(fn, initial=0.0)))
@@ -619,6 +714,19 @@ def _pyramid_result(st: ContactStatics, res: Any, a_ub: np.ndarray,
         slip = np.zeros(0, bool)
     mult_lo = np.maximum(np.asarray(res.lower.marginals[:nj]), 0.0)
     mult_hi = np.maximum(-np.asarray(res.upper.marginals[:nj]), 0.0)
-    return ContactPayloadResult("optimal", str(res.message), float(z[-1]), forces, tau, at_low,
-                                at_high, mult_lo, mult_hi, slip, unloaded, wall, wall,
-                                "scipy-highs")
+    return ContactPayloadResult(
+        "optimal",
+        str(res.message),
+        float(z[-1]),
+        forces,
+        tau,
+        at_low,
+        at_high,
+        mult_lo,
+        mult_hi,
+        slip,
+        unloaded,
+        wall,
+        wall,
+        "scipy-highs",
+    )

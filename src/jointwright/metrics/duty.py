@@ -412,8 +412,13 @@ class DutySummary:
     def ratios(self) -> np.ndarray:
         """The five ratios stacked on a last axis, in the order of :data:`CHECKS`."""
         return np.stack(
-            [self.rms_ratio, self.peak_ratio, self.speed_ratio, self.envelope_ratio,
-             self.thermal_ratio],
+            [
+                self.rms_ratio,
+                self.peak_ratio,
+                self.speed_ratio,
+                self.envelope_ratio,
+                self.thermal_ratio,
+            ],
             axis=-1,
         )
 
@@ -460,15 +465,26 @@ def _electrics(tau_m, omega, t, m, tempco, hold):
     temps = None
     if m["thermal_resistance"] is not None and m["thermal_time_constant"] is not None:
         temps = periodic_temperature(
-            copper_loss(tau_m, _lead(km)), t, m["thermal_resistance"],
-            m["thermal_time_constant"], m["ambient"], resistance_tempco=tempco, hold=hold,
+            copper_loss(tau_m, _lead(km)),
+            t,
+            m["thermal_resistance"],
+            m["thermal_time_constant"],
+            m["ambient"],
+            resistance_tempco=tempco,
+            hold=hold,
         )
     if temps is None or not tempco:
         energy = cycle_energy(tau_m, omega, t, km, hold=hold)
         return temps, energy.electrical_regen, energy.electrical_no_regen
     runaway = np.isinf(temps[..., 0])
-    energy = cycle_energy(tau_m, omega, t, km, hold=hold,
-                          winding_temperature=np.where(runaway[..., None], 20.0, temps))
+    energy = cycle_energy(
+        tau_m,
+        omega,
+        t,
+        km,
+        hold=hold,
+        winding_temperature=np.where(runaway[..., None], 20.0, temps),
+    )
     inf = np.where(runaway, np.inf, 0.0)  # a run-away winding needs unbounded energy
     return temps, energy.electrical_regen + inf, energy.electrical_no_regen + inf
 
@@ -478,20 +494,40 @@ def _envelope_ratio(tau_m, omega, t_peak, m):
     (at most the limit; 20 °C when the temperature is not assessed)."""
     t_env = np.where(np.isnan(t_peak), 20.0, np.minimum(t_peak, m["winding_temperature_max"]))
     avail = torque_speed_envelope(
-        omega, peak_torque=_lead(m["peak_torque"]), max_speed=_lead(m["max_speed"]),
+        omega,
+        peak_torque=_lead(m["peak_torque"]),
+        max_speed=_lead(m["max_speed"]),
         torque_constant=_optional(m["torque_constant"] if m["bus_voltage"] is not None else None),
         resistance=_optional(m["resistance"] if m["bus_voltage"] is not None else None),
-        bus_voltage=_optional(m["bus_voltage"]), winding_temperature=t_env[..., None],
+        bus_voltage=_optional(m["bus_voltage"]),
+        winding_temperature=t_env[..., None],
         braking=tau_m * omega < 0,
     )
     return np.max(_over(np.abs(tau_m), avail), axis=-1)
 
 
 def duty_summary(
-    tau_joint, qd, qdd, t, *, ratio, eta_f, eta_b, rotor_inertia, peak_torque,
-    continuous_torque, max_speed, torque_constant=None, resistance=None, bus_voltage=None,
-    thermal_resistance=None, thermal_time_constant=None, winding_temperature_max=155.0,
-    ambient=25.0, resistance_tempco=True, hold="linear",
+    tau_joint,
+    qd,
+    qdd,
+    t,
+    *,
+    ratio,
+    eta_f,
+    eta_b,
+    rotor_inertia,
+    peak_torque,
+    continuous_torque,
+    max_speed,
+    torque_constant=None,
+    resistance=None,
+    bus_voltage=None,
+    thermal_resistance=None,
+    thermal_time_constant=None,
+    winding_temperature_max=155.0,
+    ambient=25.0,
+    resistance_tempco=True,
+    hold="linear",
 ) -> DutySummary:
     """Everything a duty cycle asks of each joint's motor, against its ratings.
 
@@ -520,19 +556,29 @@ def duty_summary(
     -------
     DutySummary
     """
-    m = dict(peak_torque=peak_torque, max_speed=max_speed, torque_constant=torque_constant,
-             resistance=resistance, bus_voltage=bus_voltage, ambient=ambient,
-             thermal_resistance=thermal_resistance, thermal_time_constant=thermal_time_constant,
-             winding_temperature_max=winding_temperature_max)
+    m = dict(
+        peak_torque=peak_torque,
+        max_speed=max_speed,
+        torque_constant=torque_constant,
+        resistance=resistance,
+        bus_voltage=bus_voltage,
+        ambient=ambient,
+        thermal_resistance=thermal_resistance,
+        thermal_time_constant=thermal_time_constant,
+        winding_temperature_max=winding_temperature_max,
+    )
     t = check_time(t, hold)
-    tau_joint, qd, qdd = (_signal(k, x, t) for k, x in zip(("tau_joint", "qd", "qdd"),
-                                                           (tau_joint, qd, qdd)))
+    tau_joint, qd, qdd = (
+        _signal(k, x, t)
+        for k, x in zip(("tau_joint", "qd", "qdd"), (tau_joint, qd, qdd), strict=True)
+    )
     tmax, ambient = np.asarray(winding_temperature_max, float), np.asarray(ambient, float)
     if np.any(~(tmax > ambient)):
         raise InputError("<api>", "winding_temperature_max", "must be above the ambient")
     still = STANDSTILL * peak(qd)
-    tau_m, mode = motor_torque(tau_joint, qd, qdd, ratio, eta_f, eta_b, rotor_inertia,
-                               standstill=still)
+    tau_m, mode = motor_torque(
+        tau_joint, qd, qdd, ratio, eta_f, eta_b, rotor_inertia, standstill=still
+    )
     tau_m, omega = np.broadcast_arrays(tau_m, _lead(ratio) * qd)
     temps, e_regen, e_plain = _electrics(tau_m, omega, t, m, resistance_tempco, hold)
     t_peak = np.full(tau_m.shape[:-1], np.nan) if temps is None else temps.max(axis=-1)
@@ -540,13 +586,20 @@ def duty_summary(
     w = weights(t, hold) / (t[-1] - t[0])
     rms_t, pk, pk_w = rms(tau_m, t, hold=hold), peak(tau_m), peak(omega)
     fields = [
-        rms_t, pk, pk_w, t_peak,
+        rms_t,
+        pk,
+        pk_w,
+        t_peak,
         rms_t / check_positive("continuous_torque", continuous_torque),
         pk / check_positive("peak_torque", peak_torque),
         pk_w / check_positive("max_speed", max_speed, allow_inf=True),
         _envelope_ratio(tau_m, omega, t_peak, m),
         (t_peak - ambient) / (tmax - ambient),
-        e_regen, e_plain, gear.joint_work, gear.loss_motoring + gear.loss_backdriven,
-        np.sum((mode == BACKDRIVEN) * w, axis=-1), np.sum((mode == HOLDING) * w, axis=-1),
+        e_regen,
+        e_plain,
+        gear.joint_work,
+        gear.loss_motoring + gear.loss_backdriven,
+        np.sum((mode == BACKDRIVEN) * w, axis=-1),
+        np.sum((mode == HOLDING) * w, axis=-1),
     ]
     return DutySummary(*np.broadcast_arrays(*fields))

@@ -318,8 +318,13 @@ def forward_effective_mass(J, M, R, eta_f, eta_b, u) -> ForwardEffectiveMass:
         mass = np.where(immovable, np.inf, (phi.sum(-1) + rotor) / scale**2)
         free = np.where(immovable, np.inf, 1.0 / scale)
         motion = v / scale[..., None]
-    return ForwardEffectiveMass(mass=mass, frictionless=free, motion=motion,
-                                backdriven_joints=(p < 0) & ~immovable[..., None], immovable=immovable)
+    return ForwardEffectiveMass(
+        mass=mass,
+        frictionless=free,
+        motion=motion,
+        backdriven_joints=(p < 0) & ~immovable[..., None],
+        immovable=immovable,
+    )
 
 
 @dataclass(frozen=True)
@@ -454,8 +459,10 @@ def impact_mitigation(
 def _imf_inputs(H, J, n_base, locked, direction):
     J, H = _jacobian_and_mass(J, H, "H")
     nv = H.shape[-1]
-    if isinstance(n_base, bool) or not isinstance(n_base, (int, np.integer)) or not (
-        1 <= n_base < nv
+    if (
+        isinstance(n_base, bool)
+        or not isinstance(n_base, (int, np.integer))
+        or not (1 <= n_base < nv)
     ):
         raise InputError(API, "n_base", f"must be an integer in [1, {nv - 1}], got {n_base!r}")
     if locked is not None:

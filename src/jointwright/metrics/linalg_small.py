@@ -267,26 +267,26 @@ def map_chunks(fn, arrays, core_ndims, out_core_ndims, chunk: int | None = None)
     chunk : int, batch items per call (default :data:`CHUNK`)
     """
     chunk = CHUNK if chunk is None else chunk
-    shapes = [a.shape[: a.ndim - k] for a, k in zip(arrays, core_ndims) if a is not None]
+    shapes = [
+        a.shape[: a.ndim - k] for a, k in zip(arrays, core_ndims, strict=True) if a is not None
+    ]
     batch = np.broadcast_shapes(*shapes)
     if len(batch) == 0 or batch[0] <= 1 or math.prod(batch) <= chunk:
         outs = fn(*arrays)
-        return tuple(_fit(o, batch, k) for o, k in zip(outs, out_core_ndims))
+        return tuple(_fit(o, batch, k) for o, k in zip(outs, out_core_ndims, strict=True))
     step = max(1, chunk // max(1, math.prod(batch[1:])))
     pieces: list[list[np.ndarray | None]] = [[] for _ in out_core_ndims]
     for start in range(0, batch[0], step):
         sl = slice(start, min(start + step, batch[0]))
         sub = batch[1:]
         args = []
-        for a, k in zip(arrays, core_ndims):
+        for a, k in zip(arrays, core_ndims, strict=True):
             full = a is not None and a.ndim - k == len(batch) and a.shape[0] > 1
             args.append(a[sl] if full else a)
         outs = fn(*args)
-        for p, o, k in zip(pieces, outs, out_core_ndims):
+        for p, o, k in zip(pieces, outs, out_core_ndims, strict=True):
             p.append(_fit(o, (sl.stop - sl.start,) + sub, k))
-    return tuple(
-        None if p[0] is None else np.concatenate(p, axis=0) for p in pieces
-    )
+    return tuple(None if p[0] is None else np.concatenate(p, axis=0) for p in pieces)
 
 
 def _fit(o, batch, core):
@@ -331,9 +331,7 @@ def checked(value, name: str, core: int, *, allow_inf: bool = False) -> np.ndarr
 def check_size(a: np.ndarray, name: str, axis: int, size: int, what: str) -> None:
     """Raise InputError unless ``a.shape[axis] == size``."""
     if a.shape[axis] != size:
-        raise InputError(
-            API, name, f"must have {size} {what} on axis {axis}, got shape {a.shape}"
-        )
+        raise InputError(API, name, f"must have {size} {what} on axis {axis}, got shape {a.shape}")
 
 
 def batch_shape(**named: tuple[np.ndarray | None, int]) -> tuple[int, ...]:

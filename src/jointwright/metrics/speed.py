@@ -12,8 +12,13 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError
-from .envelope import (REFERENCE_TEMPERATURE, _line, check_positive, speed_at_torque,
-                       torque_speed_envelope)
+from .envelope import (
+    REFERENCE_TEMPERATURE,
+    _line,
+    check_positive,
+    speed_at_torque,
+    torque_speed_envelope,
+)
 
 #: relative residual ‖J·J⁺·u − u‖ above which a direction counts as unreachable at a pose
 REACH_TOLERANCE = 1e-9
@@ -167,11 +172,17 @@ def check_efficiencies(eta_f, eta_b) -> tuple[np.ndarray, np.ndarray]:
     f = np.asarray(eta_f, dtype=float)
     b = np.asarray(eta_b, dtype=float)
     if np.any(~((f > 0) & (f <= 1))):
-        raise InputError("<api>", "eta_f", f"must be in (0, 1], got {f[~((f > 0) & (f <= 1))].flat[0]!r}")
+        raise InputError(
+            "<api>", "eta_f", f"must be in (0, 1], got {f[~((f > 0) & (f <= 1))].flat[0]!r}"
+        )
     # a strongly self-locking stage (worm, lead screw) can have η_b ≤ −1: only the upper bound
     # and finiteness are rules here
     if np.any(~(np.isfinite(b) & (b <= 1))):
-        raise InputError("<api>", "eta_b", f"must be finite and <= 1, got {b[~(np.isfinite(b) & (b <= 1))].flat[0]!r}")
+        raise InputError(
+            "<api>",
+            "eta_b",
+            f"must be finite and <= 1, got {b[~(np.isfinite(b) & (b <= 1))].flat[0]!r}",
+        )
     return f, b
 
 
@@ -286,9 +297,20 @@ def _standstill_torque(motor):
     return torque_speed_envelope(0.0, **motor)
 
 
-def loaded_endpoint_speed(J, tau_load, u, ratio, *, tau_per_speed2=0.0, eta_f=1.0, eta_b=1.0,
-                          rotor_inertia=0.0, joint_acceleration=0.0, gear_rating=math.inf,
-                          **motor) -> LoadedSpeed:
+def loaded_endpoint_speed(
+    J,
+    tau_load,
+    u,
+    ratio,
+    *,
+    tau_per_speed2=0.0,
+    eta_f=1.0,
+    eta_b=1.0,
+    rotor_inertia=0.0,
+    joint_acceleration=0.0,
+    gear_rating=math.inf,
+    **motor,
+) -> LoadedSpeed:
     """End-point speed along u reachable from rest while the joints carry a load.
 
     Each joint moves at q̇_i = a_i·v with a = J⁺·û (minimum-norm rates, as
@@ -340,9 +362,15 @@ def loaded_endpoint_speed(J, tau_load, u, ratio, *, tau_per_speed2=0.0, eta_f=1.
     sigma = np.sign(np.where(np.abs(a) > 1e-12 * np.abs(a).max(-1, keepdims=True), a, 0.0))
     rotor = n * np.asarray(rotor_inertia, float) * np.asarray(joint_acceleration, float)
     peak = np.broadcast_to(check_positive("peak_torque", motor["peak_torque"]), t0.shape)
-    wmax = np.broadcast_to(check_positive("max_speed", motor["max_speed"], allow_inf=True), t0.shape)
-    line = _line(motor.get("torque_constant"), motor.get("resistance"), motor.get("bus_voltage"),
-                 motor.get("winding_temperature", REFERENCE_TEMPERATURE))
+    wmax = np.broadcast_to(
+        check_positive("max_speed", motor["max_speed"], allow_inf=True), t0.shape
+    )
+    line = _line(
+        motor.get("torque_constant"),
+        motor.get("resistance"),
+        motor.get("bus_voltage"),
+        motor.get("winding_temperature", REFERENCE_TEMPERATURE),
+    )
     rate = n * np.abs(a) * (sigma != 0)  # motor speed per unit end-point speed
     if line is None:
         A, B = np.full(t0.shape, np.inf), np.zeros(t0.shape)
@@ -377,8 +405,10 @@ def loaded_endpoint_speed(J, tau_load, u, ratio, *, tau_per_speed2=0.0, eta_f=1.
     second = piece(np.where(np.isfinite(brk), brk, 0.0), inf)
     motor_exit = np.where(np.isfinite(first), first, np.where(np.isfinite(brk), second, np.inf))
     gear_b = np.broadcast_to(gear, t0.shape)
-    gear_exit = np.minimum(_first_rise(zero, inf, c2, zero, t0 - gear_b),
-                           _first_rise(zero, inf, -c2, zero, -t0 - gear_b))
+    gear_exit = np.minimum(
+        _first_rise(zero, inf, c2, zero, t0 - gear_b),
+        _first_rise(zero, inf, -c2, zero, -t0 - gear_b),
+    )
     with np.errstate(divide="ignore"):
         speed_exit = np.where(rate > 0, wmax / np.where(rate > 0, rate, 1.0), np.inf)
     bound = np.minimum(np.minimum(motor_exit, gear_exit), speed_exit)
@@ -394,14 +424,23 @@ def loaded_endpoint_speed(J, tau_load, u, ratio, *, tau_per_speed2=0.0, eta_f=1.
     v = np.where(np.isfinite(speed), speed, 0.0)[..., None]
     tm, mode = _motor_torque(t0 + c2 * v * v, sigma, n, eta_f, eta_b, rotor)
     wm = rate * v
-    return LoadedSpeed(speed=speed, limiting_joint=joint, carries_load=carries, reachable=reachable,
-                       motor_torque=tm, motor_speed=wm, mode=mode, joint_speeds=a * v)
+    return LoadedSpeed(
+        speed=speed,
+        limiting_joint=joint,
+        carries_load=carries,
+        reachable=reachable,
+        motor_torque=tm,
+        motor_speed=wm,
+        mode=mode,
+        joint_speeds=a * v,
+    )
 
 
 def _mode_factor(mode, eta_f, eta_b):
     """τ_m·N/τ_j per mode: 1/η_f motoring, η_b back-driven, max(η_b, 0) holding."""
-    return np.where(mode == MOTORING, 1.0 / eta_f,
-                    np.where(mode == BACKDRIVEN, eta_b, np.maximum(eta_b, 0.0)))
+    return np.where(
+        mode == MOTORING, 1.0 / eta_f, np.where(mode == BACKDRIVEN, eta_b, np.maximum(eta_b, 0.0))
+    )
 
 
 def _first_rise(start, end, c2, c1, c0):
@@ -468,8 +507,19 @@ def _first_exit(start, end, f0, f1, limit):
     return np.where(e <= end, e, np.inf)
 
 
-def acceleration_from_rest(J, tau_load, tau_per_acceleration, u, ratio, *, eta_f=1.0, eta_b=1.0,
-                           rotor_inertia=0.0, gear_rating=math.inf, **motor) -> LoadedAcceleration:
+def acceleration_from_rest(
+    J,
+    tau_load,
+    tau_per_acceleration,
+    u,
+    ratio,
+    *,
+    eta_f=1.0,
+    eta_b=1.0,
+    rotor_inertia=0.0,
+    gear_rating=math.inf,
+    **motor,
+) -> LoadedAcceleration:
     """Largest end-point acceleration along u from rest while the joints carry a load.
 
     At rest (q̇ = 0, so J̇·q̇ = 0 and no Coriolis terms) an end-point acceleration α along û
@@ -499,8 +549,9 @@ def acceleration_from_rest(J, tau_load, tau_per_acceleration, u, ratio, *, eta_f
     sigma = np.sign(np.where(np.abs(a) > 1e-12 * np.abs(a).max(-1, keepdims=True), a, 0.0))
     ir = np.asarray(rotor_inertia, dtype=float)
     limit = np.broadcast_to(_standstill_torque(motor), t0.shape)
-    exit_ = _acceleration_exits(t0, k, a, sigma, n, eta_f, eta_b, ir, limit, limit,
-                                np.broadcast_to(gear, t0.shape))
+    exit_ = _acceleration_exits(
+        t0, k, a, sigma, n, eta_f, eta_b, ir, limit, limit, np.broadcast_to(gear, t0.shape)
+    )
     joint = np.argmin(exit_, axis=-1)
     alpha = np.take_along_axis(exit_, joint[..., None], axis=-1)[..., 0]
     carries = alpha > 0
@@ -508,8 +559,9 @@ def acceleration_from_rest(J, tau_load, tau_per_acceleration, u, ratio, *, eta_f
     alpha = np.where(reachable, alpha, 0.0)
     joint = np.where(reachable & np.isfinite(alpha), joint, -1)
     qdd = a * np.where(np.isfinite(alpha), alpha, 0.0)[..., None]
-    return LoadedAcceleration(acceleration=alpha, limiting_joint=joint, carries_load=carries,
-                              joint_accelerations=qdd)
+    return LoadedAcceleration(
+        acceleration=alpha, limiting_joint=joint, carries_load=carries, joint_accelerations=qdd
+    )
 
 
 def _acceleration_exits(t0, k, a, sigma, n, eta_f, eta_b, ir, hi, lo, gear):
@@ -533,14 +585,16 @@ def _acceleration_exits(t0, k, a, sigma, n, eta_f, eta_b, ir, hi, lo, gear):
         f = _mode_factor(mode, eta_f, eta_b)
         p0 = s * f * t0 / n
         p1 = s * (f * k / n + n * ir * a)
-        return np.minimum(_first_rise(start, end, zero, p1, p0 - hi),
-                          _first_rise(start, end, zero, -p1, -p0 - lo))
+        return np.minimum(
+            _first_rise(start, end, zero, p1, p0 - hi), _first_rise(start, end, zero, -p1, -p0 - lo)
+        )
 
     first = piece(zero, brk)
     second = piece(np.where(np.isfinite(brk), brk, 0.0), inf)
     motor_exit = np.where(np.isfinite(first), first, np.where(np.isfinite(brk), second, np.inf))
-    gear_exit = np.minimum(_first_rise(zero, inf, zero, k, t0 - gear),
-                           _first_rise(zero, inf, zero, -k, -t0 - gear))
+    gear_exit = np.minimum(
+        _first_rise(zero, inf, zero, k, t0 - gear), _first_rise(zero, inf, zero, -k, -t0 - gear)
+    )
     return np.minimum(motor_exit, gear_exit)
 
 
@@ -567,9 +621,22 @@ class StrokeSpeed:
     time: np.ndarray
 
 
-def speed_within_stroke(J, tau_load, tau_per_acceleration, u, ratio, stroke, *, tau_per_speed2=0.0,
-                        eta_f=1.0, eta_b=1.0, rotor_inertia=0.0, gear_rating=math.inf, steps=64,
-                        **motor) -> StrokeSpeed:
+def speed_within_stroke(
+    J,
+    tau_load,
+    tau_per_acceleration,
+    u,
+    ratio,
+    stroke,
+    *,
+    tau_per_speed2=0.0,
+    eta_f=1.0,
+    eta_b=1.0,
+    rotor_inertia=0.0,
+    gear_rating=math.inf,
+    steps=64,
+    **motor,
+) -> StrokeSpeed:
     """Speed the end point reaches from rest along u within a stroke, carrying the load.
 
     At end-point speed v the largest acceleration along u is α(v): joint torques
@@ -592,9 +659,18 @@ def speed_within_stroke(J, tau_load, tau_per_acceleration, u, ratio, stroke, *, 
     StrokeSpeed
     """
     stroke = check_positive("stroke", stroke)
-    steady = loaded_endpoint_speed(J, tau_load, u, ratio, tau_per_speed2=tau_per_speed2, eta_f=eta_f,
-                                   eta_b=eta_b, rotor_inertia=rotor_inertia, gear_rating=gear_rating,
-                                   **motor)
+    steady = loaded_endpoint_speed(
+        J,
+        tau_load,
+        u,
+        ratio,
+        tau_per_speed2=tau_per_speed2,
+        eta_f=eta_f,
+        eta_b=eta_b,
+        rotor_inertia=rotor_inertia,
+        gear_rating=gear_rating,
+        **motor,
+    )
     a, reachable = _direction_rates(J, u)
     n = check_positive("ratio", ratio)
     eta_f, eta_b = check_efficiencies(eta_f, eta_b)
@@ -606,8 +682,12 @@ def speed_within_stroke(J, tau_load, tau_per_acceleration, u, ratio, stroke, *, 
     sigma = np.sign(np.where(np.abs(a) > 1e-12 * np.abs(a).max(-1, keepdims=True), a, 0.0))
     ir = np.asarray(rotor_inertia, dtype=float)
     peak = np.broadcast_to(check_positive("peak_torque", motor["peak_torque"]), t0.shape)
-    line = _line(motor.get("torque_constant"), motor.get("resistance"), motor.get("bus_voltage"),
-                 motor.get("winding_temperature", REFERENCE_TEMPERATURE))
+    line = _line(
+        motor.get("torque_constant"),
+        motor.get("resistance"),
+        motor.get("bus_voltage"),
+        motor.get("winding_temperature", REFERENCE_TEMPERATURE),
+    )
     rate = n * np.abs(a) * (sigma != 0)
     if line is None:
         A, B = np.full(t0.shape, np.inf), np.zeros(t0.shape)
@@ -623,7 +703,9 @@ def speed_within_stroke(J, tau_load, tau_per_acceleration, u, ratio, stroke, *, 
         vv = v[..., None]
         hi = np.minimum(peak, A - B * vv)
         lo = np.minimum(peak, A + B * vv)
-        ex = _acceleration_exits(t0 + c2 * vv * vv, k, a, sigma, n, eta_f, eta_b, ir, hi, lo, gear_b)
+        ex = _acceleration_exits(
+            t0 + c2 * vv * vv, k, a, sigma, n, eta_f, eta_b, ir, hi, lo, gear_b
+        )
         return ex.min(axis=-1), np.argmin(ex, axis=-1)
 
     x = np.zeros(top.shape)
@@ -642,7 +724,9 @@ def speed_within_stroke(J, tau_load, tau_per_acceleration, u, ratio, stroke, *, 
             dt = np.where(low > 0, (v1 - v0) / low, np.inf)
         ends = ~done & (x + dx >= stroke_b)
         with np.errstate(invalid="ignore"):
-            v_end = np.sqrt(np.maximum(v0 * v0 + 2.0 * np.where(low > 0, low, 0.0) * (stroke_b - x), 0.0))
+            v_end = np.sqrt(
+                np.maximum(v0 * v0 + 2.0 * np.where(low > 0, low, 0.0) * (stroke_b - x), 0.0)
+            )
             t_end = np.where(low > 0, (v_end - v0) / np.where(low > 0, low, 1.0), 0.0)
         reached = np.where(ends, np.minimum(v_end, v1), reached)
         t = np.where(ends, t + t_end, t)

@@ -24,9 +24,16 @@ def _version() -> str:
         return "source tree"
 
 
-def build_report(project, design, out_dir, *, sizing: dict | None = None,
-                 frontier: dict | None = None, duty: list[dict] | None = None,
-                 study: dict | None = None) -> Path:
+def build_report(
+    project,
+    design,
+    out_dir,
+    *,
+    sizing: dict | None = None,
+    frontier: dict | None = None,
+    duty: list[dict] | None = None,
+    study: dict | None = None,
+) -> Path:
     """Write the HTML report of one design and its figures; return the HTML file's path.
 
     Parameters
@@ -59,9 +66,12 @@ def build_report(project, design, out_dir, *, sizing: dict | None = None,
         sections.joints_section(a),
     ]
     if sizing is not None:
-        units = {f"{c['subject']}: {c['requirement'].replace('_', ' ')}":
-                 "%" if c["requirement"] in PERCENT_REQUIREMENTS else c["unit"]
-                 for c in a["checks"]}
+        units = {
+            f"{c['subject']}: {c['requirement'].replace('_', ' ')}": "%"
+            if c["requirement"] in PERCENT_REQUIREMENTS
+            else c["unit"]
+            for c in a["checks"]
+        }
         parts.append(hooks.runner_ups_section(sizing, units=units))
     if frontier is not None:
         if "measure" in frontier:  # written by `jointwright frontier --out`
@@ -79,17 +89,17 @@ def build_report(project, design, out_dir, *, sizing: dict | None = None,
     if study is not None:
         parts.append(hooks.study_section(study, fig_dir))
     parts += [sections.cases_section(a), sections.cautions_section(a, project)]
-    top = summary.summary_section(a, fig_dir, frontier=frontier,
-                                  sensitivity=summary.payload_sensitivity(sens))
+    top = summary.summary_section(
+        a, fig_dir, frontier=frontier, sensitivity=summary.payload_sensitivity(sens)
+    )
     text = page(
         title=f"{project.name}: design report",
-        subtitle=f"Design “{design.name}” — concept-stage actuator sizing, "
-                 "not a certified design.",
+        subtitle=f"Design “{design.name}” — concept-stage actuator sizing, not a certified design.",
         sections=parts,
         summary=top,
         footer=f"jointwright {_version()}; project {project.file.name}. SI units throughout "
-               "(temperatures in °C, costs in the catalog's currency units). Figures are also in "
-               "the figures folder as PNG and SVG.",
+        "(temperatures in °C, costs in the catalog's currency units). Figures are also in "
+        "the figures folder as PNG and SVG.",
     )
     path = out / REPORT_FILE
     path.write_text(text, encoding="utf-8")

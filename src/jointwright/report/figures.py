@@ -58,8 +58,12 @@ def _figure(ncols: int = 1, height: float = 4.2, width: float = WIDTH):
 
 def _title(ax, text: str, width: int = 70) -> None:
     """Left-aligned title, wrapped to ``width`` characters (narrow panels need less)."""
-    ax.set_title(textwrap.fill(text, width, break_on_hyphens=False),
-                 fontsize=_RC["axes.titlesize"], color=INK, loc="left")
+    ax.set_title(
+        textwrap.fill(text, width, break_on_hyphens=False),
+        fontsize=_RC["axes.titlesize"],
+        color=INK,
+        loc="left",
+    )
 
 
 def _label(ax, x: str, y: str) -> None:
@@ -71,13 +75,19 @@ def _legend(fig, axes, ncols: int = 2) -> None:
     """One legend for the figure, below the axes, so it never hides data."""
     handles, labels, seen = [], [], set()
     for ax in axes:
-        for h, lab in zip(*ax.get_legend_handles_labels()):
+        for h, lab in zip(*ax.get_legend_handles_labels(), strict=True):
             if lab not in seen:
                 seen.add(lab)
                 handles.append(h)
                 labels.append(lab)
-    fig.legend(handles, labels, loc="outside lower center", ncols=ncols,
-               fontsize=_RC["legend.fontsize"], frameon=False)
+    fig.legend(
+        handles,
+        labels,
+        loc="outside lower center",
+        ncols=ncols,
+        fontsize=_RC["legend.fontsize"],
+        frameon=False,
+    )
 
 
 def save(fig: Figure, out_dir: Path, name: str) -> bytes:
@@ -88,8 +98,9 @@ def save(fig: Figure, out_dir: Path, name: str) -> bytes:
     data = buf.getvalue()
     (out_dir / f"{name}.png").write_bytes(data)
     with rc_context({"svg.hashsalt": "jointwright"}):  # stable ids: same input, same file
-        fig.savefig(out_dir / f"{name}.svg", format="svg", facecolor="white",
-                    metadata={"Date": None})
+        fig.savefig(
+            out_dir / f"{name}.svg", format="svg", facecolor="white", metadata={"Date": None}
+        )
     return data
 
 
@@ -112,15 +123,31 @@ def polytope_figure(section, axis_names: str = "xyz") -> Figure:
         ax.fill(closed[:, 0], closed[:, 1], color=colour, alpha=shade)
         ax.plot(closed[:, 0], closed[:, 1], color=colour, ls=ls, lw=1.8, label=label)
     for k, (name, point) in enumerate(section.markers):
-        ax.annotate("", xy=point, xytext=(0, 0),
-                    arrowprops=dict(arrowstyle="-|>", color=INK, lw=1.2, shrinkA=0, shrinkB=0))
+        ax.annotate(
+            "",
+            xy=point,
+            xytext=(0, 0),
+            arrowprops=dict(arrowstyle="-|>", color=INK, lw=1.2, shrinkA=0, shrinkB=0),
+        )
         ax.plot(*point, "o", color=INK, ms=4)
-        ax.annotate(f"{name}: {np.linalg.norm(point):.4g} N", point, textcoords="offset points",
-                    xytext=(8, -4 - 12 * (k % 2)), fontsize=8.5, color=INK,
-                    bbox=dict(boxstyle="round,pad=0.2", fc="white", ec="none", alpha=0.85))
+        ax.annotate(
+            f"{name}: {np.linalg.norm(point):.4g} N",
+            point,
+            textcoords="offset points",
+            xytext=(8, -4 - 12 * (k % 2)),
+            fontsize=8.5,
+            color=INK,
+            bbox=dict(boxstyle="round,pad=0.2", fc="white", ec="none", alpha=0.85),
+        )
     ax.plot(0, 0, "+", color=INK, ms=8)
-    _square(fig, ax, 1.2 * reach, section.title, (f"tip force F_{axis_names[i]} (N)",
-                                                 f"tip force F_{axis_names[j]} (N)"), ncols=2)
+    _square(
+        fig,
+        ax,
+        1.2 * reach,
+        section.title,
+        (f"tip force F_{axis_names[i]} (N)", f"tip force F_{axis_names[j]} (N)"),
+        ncols=2,
+    )
     return fig
 
 
@@ -149,8 +176,11 @@ def ellipse_figure(section, axis_names: str = "xyz") -> Figure:
             label = "motors driving (forward, E_f⁻¹·M + R)"
         m = section.mass_along.get(mode)
         if m is not None:
-            label += (f": {m:.4g} kg along the case direction" if math.isfinite(m)
-                      else ": ∞ kg (immovable)")
+            label += (
+                f": {m:.4g} kg along the case direction"
+                if math.isfinite(m)
+                else ": ∞ kg (immovable)"
+            )
         if section.unbounded[mode]:
             label += " (unbounded, cut)"
         else:
@@ -158,12 +188,28 @@ def ellipse_figure(section, axis_names: str = "xyz") -> Figure:
         ax.plot(pts[:, 0], pts[:, 1], color=colour, ls=ls, lw=1.8, label=label)
     u = section.direction
     if np.linalg.norm(u) > 0 and reach > 0:
-        ax.annotate("", xy=1.1 * reach * u, xytext=(0, 0),
-                    arrowprops=dict(arrowstyle="-|>", color=INK, lw=1.0, shrinkA=0, shrinkB=0))
-        ax.annotate("case direction", 1.1 * reach * u, textcoords="offset points", xytext=(5, -12),
-                    fontsize=8.5, color=INK)
-    _square(fig, ax, 1.3 * reach, section.title, (f"{axis_names[i]} component (√kg)",
-                                                 f"{axis_names[j]} component (√kg)"), ncols=1)
+        ax.annotate(
+            "",
+            xy=1.1 * reach * u,
+            xytext=(0, 0),
+            arrowprops=dict(arrowstyle="-|>", color=INK, lw=1.0, shrinkA=0, shrinkB=0),
+        )
+        ax.annotate(
+            "case direction",
+            1.1 * reach * u,
+            textcoords="offset points",
+            xytext=(5, -12),
+            fontsize=8.5,
+            color=INK,
+        )
+    _square(
+        fig,
+        ax,
+        1.3 * reach,
+        section.title,
+        (f"{axis_names[i]} component (√kg)", f"{axis_names[j]} component (√kg)"),
+        ncols=1,
+    )
     return fig
 
 
@@ -173,11 +219,16 @@ def ratio_figure(sweep, panels) -> Figure:
     ``panels`` = [(metric key, title, y label, limit or None)], one axes each.
     """
     fig, axes = _figure(ncols=len(panels), height=4.6)
-    for ax, (key, title, ylabel, limit) in zip(axes, panels):
+    for ax, (key, title, ylabel, limit) in zip(axes, panels, strict=True):
         values = sweep.values[key]
         for k, joint in enumerate(sweep.joints):
-            ax.plot(sweep.factors, values[k], lw=1.6, **joint_style(k),
-                    label=f"{joint} (design N = {sweep.design_ratio[k]:.4g})")
+            ax.plot(
+                sweep.factors,
+                values[k],
+                lw=1.6,
+                **joint_style(k),
+                label=f"{joint} (design N = {sweep.design_ratio[k]:.4g})",
+            )
         ax.axvline(1.0, color="#9aa1ab", lw=0.9, ls="--")
         if limit is not None:
             ax.axhline(limit, color="#b0413e", lw=1.0, ls=":", label=f"requirement {limit:.4g}")
@@ -196,7 +247,7 @@ def sensitivity_figure(sens, panels) -> Figure:
     labels = [f"{j} {f}" for j in sens.joints for f in ("η_f", "η_b")]
     y = np.arange(len(labels))[::-1]
     pts = round(100 * sens.step)
-    for ax, (key, title) in zip(axes, panels):
+    for ax, (key, title) in zip(axes, panels, strict=True):
         base = sens.base[key]
         v = sens.values[key].reshape(-1, 2)
         with np.errstate(divide="ignore", invalid="ignore"):
@@ -207,17 +258,34 @@ def sensitivity_figure(sens, panels) -> Figure:
         ax.axvline(0.0, color=INK, lw=0.8)
         ax.set_yticks(y, labels=labels if ax is axes[0] else [""] * len(labels))
         if not np.any(np.abs(rel) > 1e-9):
-            ax.text(0.5, 0.5, f"no change at ±{pts} points", transform=ax.transAxes, ha="center",
-                    va="center", color=INK, fontsize=9, bbox=dict(fc="white", ec=GRID))
+            ax.text(
+                0.5,
+                0.5,
+                f"no change at ±{pts} points",
+                transform=ax.transAxes,
+                ha="center",
+                va="center",
+                color=INK,
+                fontsize=9,
+                bbox=dict(fc="white", ec=GRID),
+            )
         _label(ax, "change from the design value (%)", "")
         _title(ax, title, 55 // len(panels))
     _legend(fig, axes, ncols=2)
     return fig
 
 
-def points_figure(points, chosen=None, *, x_label: str, y_label: str, title: str,
-                  label: str = "non-dominated designs", width: float = WIDTH,
-                  height: float = 4.2) -> Figure:
+def points_figure(
+    points,
+    chosen=None,
+    *,
+    x_label: str,
+    y_label: str,
+    title: str,
+    label: str = "non-dominated designs",
+    width: float = WIDTH,
+    height: float = 4.2,
+) -> Figure:
     """Points (x, y) joined in order of x (a frontier), ``chosen`` ringed; ``width`` and
     ``height`` in inches (the summary's thumbnail is smaller)."""
     fig, (ax,) = _figure(height=height, width=width)
@@ -237,8 +305,15 @@ def grouped_figure(groups, *, x_label: str, y_label: str, title: str) -> Figure:
     fig, (ax,) = _figure(height=4.0)
     for k, (label, (xs, ys)) in enumerate(groups.items()):
         order = np.argsort(np.asarray(xs, dtype=float), kind="stable")
-        ax.plot(np.asarray(xs, float)[order], np.asarray(ys, float)[order], "o", ms=4.5, lw=1.4,
-                label=label, **joint_style(k))
+        ax.plot(
+            np.asarray(xs, float)[order],
+            np.asarray(ys, float)[order],
+            "o",
+            ms=4.5,
+            lw=1.4,
+            label=label,
+            **joint_style(k),
+        )
     _label(ax, x_label, y_label)
     _title(ax, title)
     _legend(fig, [ax], ncols=4)
@@ -255,18 +330,27 @@ def study_figure(panels, *, y_label: str, title: str) -> Figure:
     """
     fig, axes = _figure(ncols=len(panels), height=3.6)
     markers = ("o", "s", "^", "D", "v", "P", "X", "*")
-    for ax, (x_label, groups) in zip(axes, panels):
+    for ax, (x_label, groups) in zip(axes, panels, strict=True):
         for k, (label, (xs, ys)) in enumerate(groups.items()):
             xs, ys = np.asarray(xs, dtype=float), np.asarray(ys, dtype=float)
             order = np.argsort(xs, kind="stable")
             style = joint_style(k)
-            ax.plot(xs[order], ys[order], marker=markers[k % len(markers)], ms=4.5, lw=1.3,
-                    color=style["color"], ls=style["ls"], label=label)
+            ax.plot(
+                xs[order],
+                ys[order],
+                marker=markers[k % len(markers)],
+                ms=4.5,
+                lw=1.3,
+                color=style["color"],
+                ls=style["ls"],
+                label=label,
+            )
         ax.margins(x=0.08, y=0.12)
         _label(ax, x_label, y_label if ax is axes[0] else "")
         ax.legend(fontsize=_RC["legend.fontsize"] - 1, frameon=False, loc="best")
-    fig.suptitle(textwrap.fill(title, 90), fontsize=_RC["axes.titlesize"], color=INK, x=0.01,
-                 ha="left")
+    fig.suptitle(
+        textwrap.fill(title, 90), fontsize=_RC["axes.titlesize"], color=INK, x=0.01, ha="left"
+    )
     return fig
 
 
@@ -288,8 +372,9 @@ def series_figure(time, series, limits, *, y_label: str, title: str) -> Figure:
     return fig
 
 
-def frontier_figure(series, knee=None, *, x_label: str, y_label: str, title: str,
-                    steps: str = "post") -> Figure:
+def frontier_figure(
+    series, knee=None, *, x_label: str, y_label: str, title: str, steps: str = "post"
+) -> Figure:
     """Frontiers as staircases through their points, one per label; ``knee`` (x, y) ringed.
 
     ``series`` = {label: (xs, ys)}; the first is drawn in the main colour, the others (e.g. the
@@ -300,12 +385,22 @@ def frontier_figure(series, knee=None, *, x_label: str, y_label: str, title: str
     for k, (label, (xs, ys)) in enumerate(series.items()):
         xs, ys = np.asarray(xs, dtype=float), np.asarray(ys, dtype=float)
         order = np.argsort(xs, kind="stable")
-        style = (dict(color="#3b6ea5", lw=1.6, ms=5, ls="-") if k == 0
-                 else dict(color="#8a8a8a", lw=1.2, ms=4, ls="--"))
-        ax.plot(xs[order], ys[order], marker="o", label=label, drawstyle=f"steps-{steps}",
-                **style)
+        style = (
+            dict(color="#3b6ea5", lw=1.6, ms=5, ls="-")
+            if k == 0
+            else dict(color="#8a8a8a", lw=1.2, ms=4, ls="--")
+        )
+        ax.plot(xs[order], ys[order], marker="o", label=label, drawstyle=f"steps-{steps}", **style)
     if knee is not None:
-        ax.plot(*knee, "D", ms=11, mfc="none", mec="#c0703c", mew=2.0, label="turning point of the trade-off")
+        ax.plot(
+            *knee,
+            "D",
+            ms=11,
+            mfc="none",
+            mec="#c0703c",
+            mew=2.0,
+            label="turning point of the trade-off",
+        )
     ax.ticklabel_format(axis="both", useOffset=False)
     _label(ax, x_label, y_label)
     _title(ax, title)

@@ -118,12 +118,22 @@ def polytope_sections(evaluator, arrays, payload) -> list[PolytopeSection]:
         for mode in MODES:
             poly = force_polytope(J2, -caps[mode], caps[mode], bias)
             verts[mode], clipped[mode] = poly.vertices, poly.clipped
-        markers = tuple((p.case.name, B.T @ (payload[p.case.name] * p.u)) for p in pcs
-                        if np.isfinite(payload.get(p.case.name, np.nan)))
+        markers = tuple(
+            (p.case.name, B.T @ (payload[p.case.name] * p.u))
+            for p in pcs
+            if np.isfinite(payload.get(p.case.name, np.nan))
+        )
         names = tuple(p.case.name for p in pcs)
-        out.append(PolytopeSection(
-            title=f"Force capability at the pose of {', '.join(names)}",
-            cases=names, plane=plane, vertices=verts, clipped=clipped, markers=markers))
+        out.append(
+            PolytopeSection(
+                title=f"Force capability at the pose of {', '.join(names)}",
+                cases=names,
+                plane=plane,
+                vertices=verts,
+                clipped=clipped,
+                markers=markers,
+            )
+        )
     return out
 
 
@@ -135,8 +145,14 @@ def mobility(evaluator, pc, arrays, mode: str) -> tuple[np.ndarray, np.ndarray |
     """
     refl = arrays.reflected_inertia(mode)
     refl = np.where(np.isfinite(refl), refl, 0.0)
-    H = mass_matrix(pc.basis, arrays.mass, refl, rotor_inertia=arrays.rotor_inertia,
-                    ratio=arrays.ratio, coupling=evaluator.project.rotor_coupling)[0]
+    H = mass_matrix(
+        pc.basis,
+        arrays.mass,
+        refl,
+        rotor_inertia=arrays.rotor_inertia,
+        ratio=arrays.ratio,
+        coupling=evaluator.project.rotor_coupling,
+    )[0]
     nv = H.shape[-1]
     locked = np.zeros(nv, dtype=bool)
     if mode == "backdriven":
@@ -184,7 +200,9 @@ def ellipse_sections(evaluator, arrays) -> list[EllipseSection]:
         curves, unbounded, along = {}, {}, {}
         locked_X = None
         for mode in MODES:
-            if mode == "motoring":  # forward driving: no ellipse, the curve √m_f(u)·u (docs/metrics.md)
+            if (
+                mode == "motoring"
+            ):  # forward driving: no ellipse, the curve √m_f(u)·u (docs/metrics.md)
                 curves[mode], unbounded[mode] = _forward_curve(evaluator, pc, arrays, B)
                 along[mode] = float(evaluator._forward_effective_mass(pc, arrays)[0])
                 continue
@@ -195,8 +213,15 @@ def ellipse_sections(evaluator, arrays) -> list[EllipseSection]:
             locked_X = X_locked
         if locked_X is not None:
             curves["locked"], unbounded["locked"] = _ellipse(B.T @ locked_X @ B)
-        out.append(EllipseSection(
-            title=f"Inertia felt at the contact, case {pc.case.name}", case=pc.case.name,
-            plane=plane, curves=curves, unbounded=unbounded, mass_along=along,
-            direction=B.T @ pc.u))
+        out.append(
+            EllipseSection(
+                title=f"Inertia felt at the contact, case {pc.case.name}",
+                case=pc.case.name,
+                plane=plane,
+                curves=curves,
+                unbounded=unbounded,
+                mass_along=along,
+                direction=B.T @ pc.u,
+            )
+        )
     return out

@@ -71,15 +71,31 @@ def runner_ups_section(data: dict, file: str = "<sizing>", units: dict | None = 
         where = f"alternatives[{k}]."
         value = _optional(r, "objective", file, where)
         loss = _optional(r, "loss", file, where)
-        why = (f"misses {r['ruled_out_by']}" if r.get("ruled_out_by")
-               else f"loses {fmt(loss, unit)}" if loss is not None else "—")
-        rows.append([_need(r, "joint", str, file, where), _need(r, "actuator", str, file, where),
-                     str(r.get("change", "")), Cell(fmt(value, unit), "num"), why])
+        why = (
+            f"misses {r['ruled_out_by']}"
+            if r.get("ruled_out_by")
+            else f"loses {fmt(loss, unit)}"
+            if loss is not None
+            else "—"
+        )
+        rows.append(
+            [
+                _need(r, "joint", str, file, where),
+                _need(r, "actuator", str, file, where),
+                str(r.get("change", "")),
+                Cell(fmt(value, unit), "num"),
+                why,
+            ]
+        )
     if rows:
-        parts.append(table(
-            ["joint", "runner-up actuator", "change", f"objective ({kind})", "why it lost"], rows,
-            caption="Each runner-up changes one joint of the chosen design and keeps the rest; it "
-                    "is re-evaluated with the full physics."))
+        parts.append(
+            table(
+                ["joint", "runner-up actuator", "change", f"objective ({kind})", "why it lost"],
+                rows,
+                caption="Each runner-up changes one joint of the chosen design and keeps the rest; it "
+                "is re-evaluated with the full physics.",
+            )
+        )
     diag = []
     for k, r in enumerate(data.get("diagnosis") or []):
         where = f"diagnosis[{k}]."
@@ -87,18 +103,35 @@ def runner_ups_section(data: dict, file: str = "<sizing>", units: dict | None = 
         u = units.get(label, "")
         scale = 100.0 if u == "%" else 1.0  # rating uses are fractions, shown in %
         best = _optional(r, "best_achievable", file, where)
-        diag.append([label, Cell(fmt(scale * _need(r, "limit", float, file, where), u), "num"),
-                     Cell(fmt(None if best is None else scale * best, u), "num"),
-                     Cell(pct(_optional(r, "shortfall", file, where)), "num"),
-                     Cell(fmt(_optional(r, "relaxed_objective", file, where), unit), "num")])
+        diag.append(
+            [
+                label,
+                Cell(fmt(scale * _need(r, "limit", float, file, where), u), "num"),
+                Cell(fmt(None if best is None else scale * best, u), "num"),
+                Cell(pct(_optional(r, "shortfall", file, where)), "num"),
+                Cell(fmt(_optional(r, "relaxed_objective", file, where), unit), "num"),
+            ]
+        )
     if diag:
-        parts.append("<h3>Why no design meets every requirement</h3>" + table(
-            ["requirement", "limit", "best achievable alone", "shortfall", "objective without it"],
-            diag, caption="One requirement at a time: its best value over all options (shortfall "
-                          "relative to the limit; ≤ 0 means it alone can be met), and what "
-                          "dropping it buys."))
-    return Section("runner-ups", "How the design was chosen: runner-ups and why they lost",
-                   "".join(parts))
+        parts.append(
+            "<h3>Why no design meets every requirement</h3>"
+            + table(
+                [
+                    "requirement",
+                    "limit",
+                    "best achievable alone",
+                    "shortfall",
+                    "objective without it",
+                ],
+                diag,
+                caption="One requirement at a time: its best value over all options (shortfall "
+                "relative to the limit; ≤ 0 means it alone can be met), and what "
+                "dropping it buys.",
+            )
+        )
+    return Section(
+        "runner-ups", "How the design was chosen: runner-ups and why they lost", "".join(parts)
+    )
 
 
 def _numbers(data, key: str, file: str, where: str, size: int | None = None) -> list[float]:
@@ -111,8 +144,10 @@ def _numbers(data, key: str, file: str, where: str, size: int | None = None) -> 
 
 def _points(data, file):
     pts = _need(data, "points", list, file, "")
-    xy = [(_need(p, "x", float, file, f"points[{k}]."), _need(p, "y", float, file, f"points[{k}]."))
-          for k, p in enumerate(pts)]
+    xy = [
+        (_need(p, "x", float, file, f"points[{k}]."), _need(p, "y", float, file, f"points[{k}]."))
+        for k, p in enumerate(pts)
+    ]
     if not xy:
         raise InputError(file, "points", "needs at least one point")
     return pts, xy
@@ -144,20 +179,32 @@ def frontier_section(data: dict, fig_dir: Path, file: str = "<frontier>") -> Sec
     chosen = _chosen(data, xy, file)
     xl, yl = _axis_label(x, "x"), _axis_label(y, "y")
     title = f"{y.get('label', 'y')} against {x.get('label', 'x')}: non-dominated designs"
-    png = figures.save(figures.points_figure(xy, chosen, x_label=xl, y_label=yl, title=title),
-                       fig_dir, "frontier")
+    png = figures.save(
+        figures.points_figure(xy, chosen, x_label=xl, y_label=yl, title=title), fig_dir, "frontier"
+    )
     knee = data.get("knee")
-    rows = [[str(k + 1), Cell(fmt(px, x.get("unit", "")), "num"),
-             Cell(fmt(py, y.get("unit", "")), "num"), str(p.get("design", "")),
-             str(p.get("changes", "")), "◆ turning point" if k == knee else ""]
-            for k, (p, (px, py)) in enumerate(zip(pts, xy))]
-    caption = ("Each point is a design no other design beats on both axes; the ring is the chosen "
-               "design.")
+    rows = [
+        [
+            str(k + 1),
+            Cell(fmt(px, x.get("unit", "")), "num"),
+            Cell(fmt(py, y.get("unit", "")), "num"),
+            str(p.get("design", "")),
+            str(p.get("changes", "")),
+            "◆ turning point" if k == knee else "",
+        ]
+        for k, (p, (px, py)) in enumerate(zip(pts, xy, strict=True))
+    ]
+    caption = (
+        "Each point is a design no other design beats on both axes; the ring is the chosen design."
+    )
     if data.get("complete") is False:
-        caption += (" This frontier is a sample: its computation stopped early (point budget or "
-                    "time limit), so designs between and beyond these points may be missing.")
-    body = (figure(png, "frontier", "frontier", caption)
-            + table(["#", xl, yl, "design", "what changes", "note"], rows))
+        caption += (
+            " This frontier is a sample: its computation stopped early (point budget or "
+            "time limit), so designs between and beyond these points may be missing."
+        )
+    body = figure(png, "frontier", "frontier", caption) + table(
+        ["#", xl, yl, "design", "what changes", "note"], rows
+    )
     return Section("frontier", "Payload versus back-drivability frontier", body)
 
 
@@ -172,22 +219,45 @@ def duty_section(data: dict, fig_dir: Path, file: str = "<duty>") -> Section:
     torque = _need(data, "motor_torque", dict, file, "")
     series = {j: _numbers(torque, j, file, "motor_torque.", len(time)) for j in torque}
     limits = {k: _need(data["limits"], k, float, file, "limits.") for k in data.get("limits", {})}
-    fig = figures.series_figure(time, series, limits, y_label="motor torque (N·m)",
-                                title=f"Motor torque over the duty cycle {case}")
+    fig = figures.series_figure(
+        time,
+        series,
+        limits,
+        y_label="motor torque (N·m)",
+        title=f"Motor torque over the duty cycle {case}",
+    )
     name = "duty-" + (re.sub(r"[^A-Za-z0-9_.-]+", "-", case).strip("-.") or "case")
     png = figures.save(fig, fig_dir, name)
     rows = []
     for s in data.get("summary", []):
         share = s.get("backdriven_share")
-        rows.append([s.get("joint", ""), Cell(fmt(s.get("rms_torque"), "N·m"), "num"),
-                     Cell(fmt(s.get("peak_torque"), "N·m"), "num"),
-                     Cell(fmt(s.get("peak_temperature"), "°C"), "num"),
-                     Cell(fmt(None if share is None else 100 * share, "%"), "num")])
-    body = figure(png, name, f"duty cycle {case}", "Motor torque per joint over the cycle, by the "
-                  "power-flow law sample by sample; red lines are ratings (±).")
+        rows.append(
+            [
+                s.get("joint", ""),
+                Cell(fmt(s.get("rms_torque"), "N·m"), "num"),
+                Cell(fmt(s.get("peak_torque"), "N·m"), "num"),
+                Cell(fmt(s.get("peak_temperature"), "°C"), "num"),
+                Cell(fmt(None if share is None else 100 * share, "%"), "num"),
+            ]
+        )
+    body = figure(
+        png,
+        name,
+        f"duty cycle {case}",
+        "Motor torque per joint over the cycle, by the "
+        "power-flow law sample by sample; red lines are ratings (±).",
+    )
     if rows:
-        body += table(["joint", "RMS motor torque", "highest motor torque", "hottest winding",
-                       "time back-driven"], rows)
+        body += table(
+            [
+                "joint",
+                "RMS motor torque",
+                "highest motor torque",
+                "hottest winding",
+                "time back-driven",
+            ],
+            rows,
+        )
     return Section(name, f"Duty cycle {case}", body)
 
 
@@ -210,8 +280,12 @@ def _best(cases: list[dict], result: dict) -> dict | None:
     """The finished case with the best value of ``result`` (None when none has a number)."""
     if result.get("better") not in ("max", "min"):
         return None
-    numeric = [c for c in cases if isinstance(c["results"].get(result["key"]), (int, float))
-               and not isinstance(c["results"].get(result["key"]), bool)]
+    numeric = [
+        c
+        for c in cases
+        if isinstance(c["results"].get(result["key"]), (int, float))
+        and not isinstance(c["results"].get(result["key"]), bool)
+    ]
     if not numeric:
         return None
     pick = max if result["better"] == "max" else min
@@ -227,8 +301,9 @@ def _study_groups(cases, params, param, result, variants: bool):
         if not all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in (x, y)):
             continue
         parts = [c["variant"]] if variants and c["variant"] else []
-        parts += [f"{p['label']} {_study_value(c['values'].get(p['key']), p['unit'])}"
-                  for p in others]
+        parts += [
+            f"{p['label']} {_study_value(c['values'].get(p['key']), p['unit'])}" for p in others
+        ]
         g = groups.setdefault(", ".join(parts) or "all cases", ([], []))
         g[0].append(float(x))
         g[1].append(float(y))
@@ -253,19 +328,29 @@ def _variant_pivot(cases: list[dict], params: list[dict], lead: dict) -> str:
                 row.append("—")
                 continue
             value = c["results"].get(lead["key"])
-            text = (_study_value(value, lead.get("unit"))
-                    if isinstance(value, (int, float)) and not isinstance(value, bool)
-                    else str(c.get("status") or "—").replace("_", " "))
+            text = (
+                _study_value(value, lead.get("unit"))
+                if isinstance(value, (int, float)) and not isinstance(value, bool)
+                else str(c.get("status") or "—").replace("_", " ")
+            )
             mark = c is best
-            row.append(Cell(text + (" (best)" if mark else ""), "num ok" if mark else "num",
-                            (("study-pivot", f"{c['case']}"),)))
+            row.append(
+                Cell(
+                    text + (" (best)" if mark else ""),
+                    "num ok" if mark else "num",
+                    (("study-pivot", f"{c['case']}"),),
+                )
+            )
         body.append(row)
     head = [_head(p["label"], p.get("unit")) for p in params] + variants
-    return ("<h3>Variants side by side</h3>" + table(
-        head, body, cls="wide",
+    return "<h3>Variants side by side</h3>" + table(
+        head,
+        body,
+        cls="wide",
         caption=f"{lead['label'][:1].upper()}{lead['label'][1:]} ({_unit_words(lead.get('unit'))}) "
-                "of each variant at each setting of the varied parameters; a status instead of "
-                "a number when the case found no design."))
+        "of each variant at each setting of the varied parameters; a status instead of "
+        "a number when the case found no design.",
+    )
 
 
 def study_section(data: dict, fig_dir: Path, file: str = "<study>") -> Section:
@@ -294,16 +379,21 @@ def study_section(data: dict, fig_dir: Path, file: str = "<study>") -> Section:
         for r in results:
             v = c["results"].get(r["key"])
             if v is not None and not isinstance(v, (int, float, str)) or isinstance(v, bool):
-                raise InputError(file, f"{where}results.{r['key']}",
-                                 f"must be a number, text or null, got {v!r}")
+                raise InputError(
+                    file, f"{where}results.{r['key']}", f"must be a number, text or null, got {v!r}"
+                )
     variants = any(c.get("variant") for c in cases)
     done = [c for c in cases if c.get("status") not in ("failed", "pending", "running")]
     failed = len(cases) - len(done)
     parts = []
     if data.get("description"):
         parts.append(paragraph(str(data["description"]).replace("\n", " ")))
-    parts.append(paragraph(f"{len(cases)} cases, {failed} without a result; every value with "
-                           "its unit (parameters as written in the study file, results in SI)."))
+    parts.append(
+        paragraph(
+            f"{len(cases)} cases, {failed} without a result; every value with "
+            "its unit (parameters as written in the study file, results in SI)."
+        )
+    )
 
     lead = next((r for r in results if r.get("better") in ("max", "min")), None)
     if variants and lead is not None:
@@ -316,12 +406,20 @@ def study_section(data: dict, fig_dir: Path, file: str = "<study>") -> Section:
     for c in cases:
         row = [c.get("variant") or ""] if variants else []
         row += [Cell(_study_value(c["values"].get(p["key"]), p.get("unit")), "num") for p in params]
-        row += [Cell(_study_value(c["results"].get(r["key"]), r.get("unit")), "num",
-                     (("study-case", c["case"]), ("field", r["key"]))) for r in results]
+        row += [
+            Cell(
+                _study_value(c["results"].get(r["key"]), r.get("unit")),
+                "num",
+                (("study-case", c["case"]), ("field", r["key"])),
+            )
+            for r in results
+        ]
         row.append(str(c.get("status", "")).replace("_", " "))
         rows.append(row)
-    parts.append("<h3>Cases</h3>" + table(head, rows, cls="wide",
-                                          caption="One row per case, in the study's order."))
+    parts.append(
+        "<h3>Cases</h3>"
+        + table(head, rows, cls="wide", caption="One row per case, in the study's order.")
+    )
 
     # what each variant does best
     if lead is not None:
@@ -337,24 +435,44 @@ def study_section(data: dict, fig_dir: Path, file: str = "<study>") -> Section:
                 continue
             where = ", ".join(
                 f"{p['label']} {_study_value(best['values'].get(p['key']), p['unit'])}"
-                for p in params)
+                for p in params
+            )
             rest = "; ".join(
                 f"{r['label']} {_study_value(best['results'].get(r['key']), r['unit'])}"
-                for r in results if r is not lead)
+                for r in results
+                if r is not lead
+            )
             design = "\n".join((best.get("design") or "—").split("; "))
-            row = [v, where, Cell(_study_value(best["results"][lead["key"]], lead["unit"]),
-                                  "num", (("study-best", v),))]
+            row = [
+                v,
+                where,
+                Cell(
+                    _study_value(best["results"][lead["key"]], lead["unit"]),
+                    "num",
+                    (("study-best", v),),
+                ),
+            ]
             rows.append(row + ([rest] if others else []) + [Cell(design, "lines")])
-        parts.append(f"<h3>{'Best design per variant' if variants else 'Best design'}</h3>" + table(
-            ["variant", "at", _head(lead["label"], lead.get("unit"))]
-            + (["other results"] if others else []) + ["design"],
-            rows, cls="wide",
-            caption=f"The case with the best result ({lead['label']}) in each variant, and the "
-                    "actuators it chose."))
+        parts.append(
+            f"<h3>{'Best design per variant' if variants else 'Best design'}</h3>"
+            + table(
+                ["variant", "at", _head(lead["label"], lead.get("unit"))]
+                + (["other results"] if others else [])
+                + ["design"],
+                rows,
+                cls="wide",
+                caption=f"The case with the best result ({lead['label']}) in each variant, and the "
+                "actuators it chose.",
+            )
+        )
 
     # each numeric result against each numeric parameter, grouped by the other parameters
-    numeric = [p for p in params if p.get("numeric", True)
-               and any(isinstance(c["values"].get(p["key"]), (int, float)) for c in done)]
+    numeric = [
+        p
+        for p in params
+        if p.get("numeric", True)
+        and any(isinstance(c["values"].get(p["key"]), (int, float)) for c in done)
+    ]
     for k, r in enumerate(results):
         panels = []
         for p in numeric:
@@ -363,24 +481,39 @@ def study_section(data: dict, fig_dir: Path, file: str = "<study>") -> Section:
                 panels.append((_head(p["label"], p.get("unit")), groups))
         if not panels:
             continue
-        fig = figures.study_figure(panels, y_label=_head(r["label"], r.get("unit")),
-                                   title=f"{r['label']} against "
-                                         f"{' and '.join(p['label'] for p in numeric)}")
+        fig = figures.study_figure(
+            panels,
+            y_label=_head(r["label"], r.get("unit")),
+            title=f"{r['label']} against {' and '.join(p['label'] for p in numeric)}",
+        )
         fname = f"study-{k + 1}"
-        drawn = {c["case"] for c in done
-                 if isinstance(c["results"].get(r["key"]), (int, float))}
+        drawn = {c["case"] for c in done if isinstance(c["results"].get(r["key"]), (int, float))}
         missing = len(cases) - len(drawn)
-        note = (f" {missing} of {len(cases)} cases have no {r['label']} (no design found or "
-                "failed) and are not drawn." if missing else "")
-        parts.append(figure(figures.save(fig, fig_dir, fname), fname, r["label"],
-                            "Each line joins the cases that share every other parameter"
-                            + (" and the variant" if variants else "")
-                            + "; a lone marker is a case with no such neighbour." + note))
+        note = (
+            f" {missing} of {len(cases)} cases have no {r['label']} (no design found or "
+            "failed) and are not drawn."
+            if missing
+            else ""
+        )
+        parts.append(
+            figure(
+                figures.save(fig, fig_dir, fname),
+                fname,
+                r["label"],
+                "Each line joins the cases that share every other parameter"
+                + (" and the variant" if variants else "")
+                + "; a lone marker is a case with no such neighbour."
+                + note,
+            )
+        )
     return Section("study", f"Study {name}", "".join(parts))
 
 
-_MEASURE_AXES = {"imf": ("impact mitigation factor", ""), "effective_mass": ("back-driven effective mass", "kg"),
-                 "backdrive_force": ("back-drive force", "N")}
+_MEASURE_AXES = {
+    "imf": ("impact mitigation factor", ""),
+    "effective_mass": ("back-driven effective mass", "kg"),
+    "backdrive_force": ("back-drive force", "N"),
+}
 
 
 def frontier_from_sweep(data: dict, assessment: dict, file: str = "<frontier>") -> dict:
@@ -388,22 +521,40 @@ def frontier_from_sweep(data: dict, assessment: dict, file: str = "<frontier>") 
     reported design marked at its own (measure, worst payload)."""
     measure, case = data.get("measure"), data.get("case")
     if measure not in _MEASURE_AXES or not isinstance(data.get("points"), list):
-        raise InputError(file, "measure", f"must be one of {', '.join(_MEASURE_AXES)} with a points list")
+        raise InputError(
+            file, "measure", f"must be one of {', '.join(_MEASURE_AXES)} with a points list"
+        )
     label, unit = _MEASURE_AXES[measure]
     points = []
     for i, p in enumerate(data["points"]):
         if not isinstance(p, dict) or "payload" not in p or "measure" not in p:
             raise InputError(file, f"points[{i}]", "needs payload and measure")
-        points.append({"x": p["measure"], "y": p["payload"],
-                       "design": "; ".join(f"{j}: {a}" for j, a in p.get("actuators", {}).items()),
-                       "changes": ", ".join(p.get("changes", []))})
-    out = {"x": {"label": f"{label} at case {case}", "unit": unit},
-           "y": {"label": "payload mass every case carries", "unit": "kg"},
-           "points": points, "knee": data.get("knee"), "complete": data.get("complete", True)}
+        points.append(
+            {
+                "x": p["measure"],
+                "y": p["payload"],
+                "design": "; ".join(f"{j}: {a}" for j, a in p.get("actuators", {}).items()),
+                "changes": ", ".join(p.get("changes", [])),
+            }
+        )
+    out = {
+        "x": {"label": f"{label} at case {case}", "unit": unit},
+        "y": {"label": "payload mass every case carries", "unit": "kg"},
+        "points": points,
+        "knee": data.get("knee"),
+        "complete": data.get("complete", True),
+    }
     cases = {c["name"]: c for c in assessment.get("cases", [])}
-    payloads = [c["metrics"].get("payload_carried") for c in cases.values()
-                if c["kind"] in ("payload", "stance") and "payload_carried" in c["metrics"]]
+    payloads = [
+        c["metrics"].get("payload_carried")
+        for c in cases.values()
+        if c["kind"] in ("payload", "stance") and "payload_carried" in c["metrics"]
+    ]
     own = cases.get(case, {}).get("metrics", {}).get(measure)
-    if payloads and all(isinstance(v, (int, float)) for v in payloads) and isinstance(own, (int, float)):
+    if (
+        payloads
+        and all(isinstance(v, (int, float)) for v in payloads)
+        and isinstance(own, (int, float))
+    ):
         out["chosen"] = {"x": float(own), "y": float(min(payloads))}
     return out

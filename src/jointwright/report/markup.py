@@ -84,17 +84,21 @@ def table(headers: list[str], rows: list[list], *, caption: str = "", cls: str =
         body.append("<tr>" + "".join(c.render() for c in cells) + "</tr>")
     cap = f"<caption>{esc(caption)}</caption>" if caption else ""
     klass = f' class="{esc(cls)}"' if cls else ""
-    return (f"<div class=\"scroll\"><table{klass}>{cap}<thead><tr>{head}</tr></thead>"
-            f"<tbody>{''.join(body)}</tbody></table></div>")
+    return (
+        f'<div class="scroll"><table{klass}>{cap}<thead><tr>{head}</tr></thead>'
+        f"<tbody>{''.join(body)}</tbody></table></div>"
+    )
 
 
 def figure(png: bytes, name: str, alt: str, caption: str) -> str:
     """An embedded PNG figure with its caption; ``name`` links the PNG/SVG files beside it."""
     data = base64.b64encode(png).decode("ascii")
     img = f'<img alt="{esc(alt)}" src="data:image/png;base64,{data}">'
-    return (f'<figure id="fig-{esc(name)}">{img}'
-            f"<figcaption>{esc(caption)} <span class=\"files\">(files: figures/{esc(name)}.png, "
-            f"figures/{esc(name)}.svg)</span></figcaption></figure>")
+    return (
+        f'<figure id="fig-{esc(name)}">{img}'
+        f'<figcaption>{esc(caption)} <span class="files">(files: figures/{esc(name)}.png, '
+        f"figures/{esc(name)}.svg)</span></figcaption></figure>"
+    )
 
 
 def paragraph(text: str, cls: str = "") -> str:
@@ -189,25 +193,32 @@ footer { margin-top: 40px; color: var(--muted); font-size: 0.85em;
 """
 
 
-def page(title: str, subtitle: str, sections: list[Section], footer: str,
-         summary: Section | None = None) -> str:
+def page(
+    title: str, subtitle: str, sections: list[Section], footer: str, summary: Section | None = None
+) -> str:
     """The whole HTML document: the summary (when given) first, then the sections, numbered
     A1, A2, … as its appendix (1, 2, … without a summary)."""
     mark = "A" if summary is not None else ""
-    nav = "".join(f'<li><a href="#{esc(s.anchor)}">{mark}{k}. {esc(s.title)}</a></li>'
-                  for k, s in enumerate(sections, start=1))
-    body = "".join(f'<section id="{esc(s.anchor)}"><h2>{mark}{k}. {esc(s.title)}</h2>{s.body}'
-                   "</section>" for k, s in enumerate(sections, start=1))
+    nav = "".join(
+        f'<li><a href="#{esc(s.anchor)}">{mark}{k}. {esc(s.title)}</a></li>'
+        for k, s in enumerate(sections, start=1)
+    )
+    body = "".join(
+        f'<section id="{esc(s.anchor)}"><h2>{mark}{k}. {esc(s.title)}</h2>{s.body}</section>'
+        for k, s in enumerate(sections, start=1)
+    )
     top = ""
     if summary is not None:
-        top = (f'<section id="{esc(summary.anchor)}"><h2>{esc(summary.title)}</h2>'
-               f"{summary.body}</section>"
-               '<h2 class="appendix" id="appendix">Appendix: the full assessment</h2>')
+        top = (
+            f'<section id="{esc(summary.anchor)}"><h2>{esc(summary.title)}</h2>'
+            f"{summary.body}</section>"
+            '<h2 class="appendix" id="appendix">Appendix: the full assessment</h2>'
+        )
     return (
-        "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
-        "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">"
+        '<!DOCTYPE html>\n<html lang="en"><head><meta charset="utf-8">'
+        '<meta name="viewport" content="width=device-width, initial-scale=1">'
         f"<title>{esc(title)}</title><style>{_STYLE}</style></head><body><main>"
-        f"<header><h1>{esc(title)}</h1><p class=\"sub\">{esc(subtitle)}</p></header>"
+        f'<header><h1>{esc(title)}</h1><p class="sub">{esc(subtitle)}</p></header>'
         f"{top}<nav><ul>{nav}</ul></nav>{body}<footer>{esc(footer)}</footer>"
         "</main></body></html>\n"
     )

@@ -16,9 +16,12 @@ from .geometry import ellipse_sections, plane_label, polytope_sections
 from .markup import Cell, Section, figure, fmt, number, paragraph, table
 from .sweeps import efficiency_sensitivity, impact_metric, ratio_sweep
 
-
-MODE_WORDS = {"frictionless": "frictionless", "motoring": "motoring", "backdriven": "back-driven",
-              "locked": "all joints locked"}
+MODE_WORDS = {
+    "frictionless": "frictionless",
+    "motoring": "motoring",
+    "backdriven": "back-driven",
+    "locked": "all joints locked",
+}
 
 POLYTOPE_GUIDE = (
     "Each outline is the set of tip forces the joints can exert at once at this pose, gravity of "
@@ -26,33 +29,39 @@ POLYTOPE_GUIDE = (
     "frictionless (N·τ_peak), all motoring (η_f·N·τ_peak) or all back-driven holding "
     "(N·τ_peak/η_b). A real motion mixes modes joint by joint; the dots are the payloads of the "
     "cases at this pose, computed with their own modes. The plot is the section of the 3-D "
-    "polytope by the plane of two world axes through zero force (not a projection).")
+    "polytope by the plane of two world axes through zero force (not a projection)."
+)
 NO_POLYTOPE = (
     "No single-contact payload case: nothing to draw. Stance cases (the body carried on several "
-    "feet with friction cones) are solved as a cone program; their numbers are under Every case.")
+    "feet with friction cones) are solved as a cone program; their numbers are under Every case."
+)
 ELLIPSE_GUIDE = (
     "The inertia felt at the contact: the distance from the centre to a curve along a direction "
     "is the square root of the effective mass along it, so a larger curve means a harder hit. "
     "Back-driven is what an impact feels (the link drives the motors through N²·I_r/η_b; "
     "self-locking joints count as locked). For a floating base the dotted curve is the inertia "
     "with every joint locked; the impact mitigation factor measures how far the back-driven "
-    "curve stays inside it.")
+    "curve stays inside it."
+)
 RATIO_GUIDE = (
     "One joint's total ratio is scaled from ¼ to 4 times the design value while every other "
     "joint keeps its design; each curve is re-evaluated with the same physics as the "
     "assessment. A higher ratio raises a joint's drive torque until the gear rating caps it, and "
     "raises its reflected inertia N²·I_r, which lowers the impact mitigation factor (or raises "
-    "the back-driven effective mass for a fixed base).")
+    "the back-driven effective mass for a fixed base)."
+)
 RATIO_CAPTION = (
     "Payload and impact metrics against each joint's ratio (others held). The dashed vertical "
     "line is the design; dotted horizontal lines are requirements. Stage masses, inertias, "
-    "ratings and efficiencies are held at the design values.")
+    "ratings and efficiencies are held at the design values."
+)
 SENSITIVITY_GUIDE = (
     "Catalog efficiencies are assumptions. Each joint's forward (η_f) and backward (η_b) "
     "efficiency is moved by ±{pts} percentage points in turn (η_f kept in (0, 1], η_b at most 1; "
     "η_b ≤ 0 makes the joint self-locking) and the design re-evaluated. Forward efficiency moves "
     "the drive torque and the motoring inertia; backward efficiency moves the holding torque and "
-    "the back-driven inertia that impacts feel.")
+    "the back-driven inertia that impacts feel."
+)
 
 
 def panel_title(short: str, case: str) -> str:
@@ -61,22 +70,31 @@ def panel_title(short: str, case: str) -> str:
 
 
 def _polytope_caption(s) -> str:
-    cap = (f"Force polytope sections in the {plane_label(s.plane)} plane through F = 0 at the "
-           f"pose of {', '.join(s.cases)}; forces in N.")
+    cap = (
+        f"Force polytope sections in the {plane_label(s.plane)} plane through F = 0 at the "
+        f"pose of {', '.join(s.cases)}; forces in N."
+    )
     unbounded = [MODE_WORDS[m] for m, c in s.clipped.items() if c]
     if unbounded:
-        cap += (f" Unbounded in {', '.join(unbounded)} mode (a self-locking joint or a direction "
-                "no joint limits): drawn clipped.")
+        cap += (
+            f" Unbounded in {', '.join(unbounded)} mode (a self-locking joint or a direction "
+            "no joint limits): drawn clipped."
+        )
     if _coincide(s.vertices):
-        cap += (" The outlines coincide: every bounding joint sits at its gear torque limit "
-                "(peak), which caps all three modes alike.")
+        cap += (
+            " The outlines coincide: every bounding joint sits at its gear torque limit "
+            "(peak), which caps all three modes alike."
+        )
     return cap
 
 
 def polytope_section(evaluator, arrays, a: dict, fig_dir: Path) -> Section:
     """Force-polytope sections per payload pose, three modes overlaid."""
-    payload = {c["name"]: float(c["metrics"]["payload"]) for c in a["cases"]
-               if c["kind"] == "payload" and isinstance(c["metrics"].get("payload"), (int, float))}
+    payload = {
+        c["name"]: float(c["metrics"]["payload"])
+        for c in a["cases"]
+        if c["kind"] == "payload" and isinstance(c["metrics"].get("payload"), (int, float))
+    }
     parts = [paragraph(POLYTOPE_GUIDE)]
     drawn = polytope_sections(evaluator, arrays, payload)
     if not drawn:
@@ -101,14 +119,16 @@ def _coincide(vertices: dict) -> bool:
 def ellipse_section(evaluator, arrays, fig_dir: Path) -> Section:
     """Inertia-ellipse sections per impact case, per mode (and locked joints)."""
     parts = [paragraph(ELLIPSE_GUIDE)]
-    locked = [j for j, x in zip(evaluator.robot.actuated, arrays.self_locking[0]) if x]
+    locked = [j for j, x in zip(evaluator.robot.actuated, arrays.self_locking[0], strict=True) if x]
     for k, s in enumerate(ellipse_sections(evaluator, arrays)):
         name = f"inertia-{k + 1}"
         png = figures.save(figures.ellipse_figure(s), fig_dir, name)
         masses = "; ".join(f"{MODE_WORDS[m]} {fmt(v, 'kg')}" for m, v in s.mass_along.items())
-        cap = (f"Inertia ellipse sections in the {plane_label(s.plane)} plane through the contact "
-               f"point, case {s.case}; axes in √kg. Effective mass along the case direction: "
-               f"{masses}.")
+        cap = (
+            f"Inertia ellipse sections in the {plane_label(s.plane)} plane through the contact "
+            f"point, case {s.case}; axes in √kg. Effective mass along the case direction: "
+            f"{masses}."
+        )
         if locked:
             cap += f" Self-locking, hence locked in the back-driven curve: {', '.join(locked)}."
         parts.append(figure(png, name, s.title, cap))
@@ -129,8 +149,9 @@ def ratio_section(project, evaluator, arrays, fig_dir: Path) -> Section:
         body = paragraph("The project has no payload or impact case.")
         return Section("ratio", "Gear ratio trade", body)
     png = figures.save(figures.ratio_figure(sweep, panels), fig_dir, "ratio-trade")
-    body = paragraph(RATIO_GUIDE) + figure(png, "ratio-trade", "metrics against gear ratio per "
-                                           "joint", RATIO_CAPTION)
+    body = paragraph(RATIO_GUIDE) + figure(
+        png, "ratio-trade", "metrics against gear ratio per joint", RATIO_CAPTION
+    )
     return Section("ratio", "Gear ratio trade", body)
 
 
@@ -143,15 +164,21 @@ def _sensitivity_table(sens, columns, titles, units) -> str:
             for k in columns:
                 low, high = sens.values[k][j, f]
                 row.append(Cell(f"{number(low)} / {fmt(high, units[k])}", "num"))
-            flags = [f"{sign}{pts} limited by a bound"
-                     for s, sign in enumerate("−+") if sens.clipped[j, f, s]]
+            flags = [
+                f"{sign}{pts} limited by a bound"
+                for s, sign in enumerate("−+")
+                if sens.clipped[j, f, s]
+            ]
             if sens.locking_changed[j, f].any():
                 flags.append("self-locking changes")
             rows.append(row + [", ".join(flags)])
     base = "; ".join(f"{titles[k]} {fmt(sens.base[k], units[k])}" for k in columns)
-    return table(["joint", "efficiency"] + [titles[k] for k in columns] + ["note"], rows,
-                 caption=f"Each cell: value with the efficiency −{pts} / +{pts} points. "
-                         f"Design values: {base}.")
+    return table(
+        ["joint", "efficiency"] + [titles[k] for k in columns] + ["note"],
+        rows,
+        caption=f"Each cell: value with the efficiency −{pts} / +{pts} points. "
+        f"Design values: {base}.",
+    )
 
 
 def sensitivity_section(project, evaluator, arrays, fig_dir: Path, sens=None) -> Section:
@@ -174,9 +201,15 @@ def sensitivity_section(project, evaluator, arrays, fig_dir: Path, sens=None) ->
     if keys:
         fig = figures.sensitivity_figure(sens, [(k, titles[k]) for k in keys])
         png = figures.save(fig, fig_dir, "efficiency-sensitivity")
-        parts.append(figure(png, "efficiency-sensitivity", "sensitivity to efficiency assumptions",
-                            f"Change of each metric, in % of its design value, when one efficiency "
-                            f"moves by −{pts} (grey) or +{pts} (blue) percentage points."))
+        parts.append(
+            figure(
+                png,
+                "efficiency-sensitivity",
+                "sensitivity to efficiency assumptions",
+                f"Change of each metric, in % of its design value, when one efficiency "
+                f"moves by −{pts} (grey) or +{pts} (blue) percentage points.",
+            )
+        )
     parts.append(_sensitivity_table(sens, keys[:1] + cases + keys[1:], titles, units))
     return Section("sensitivity", "Sensitivity to efficiency assumptions", "".join(parts))
 
@@ -199,18 +232,33 @@ def duty_data(evaluator, arrays, a: dict) -> list[dict]:
     joints = list(evaluator.robot.actuated)
     for pd in evaluator.duty:
         tau = joint_torques(pd, arrays.mass)[0]  # (n, T)
-        tm, _mode = motor_torque(tau, pd.qd, pd.qdd, arrays.ratio[0], arrays.eta_forward[0],
-                                 arrays.eta_backward[0], arrays.rotor_inertia[0],
-                                 standstill=STANDSTILL * peak(pd.qd))
+        tm, _mode = motor_torque(
+            tau,
+            pd.qd,
+            pd.qdd,
+            arrays.ratio[0],
+            arrays.eta_forward[0],
+            arrays.eta_backward[0],
+            arrays.rotor_inertia[0],
+            standstill=STANDSTILL * peak(pd.qd),
+        )
         m = cases.get(pd.case.name, {}).get("metrics", {})
         summary = [{"joint": j, **{k: m.get(f"{k}:{j}") for k in _DUTY_SUMMARY}} for j in joints]
         worst = cases.get(pd.case.name, {}).get("limiting_joint")
         limits = {}
         if worst in joints:
             k = joints.index(worst)
-            limits = {f"{worst} continuous rating": float(arrays.motor_continuous_torque[0, k]),
-                      f"{worst} peak rating": float(arrays.motor_peak_torque[0, k])}
-        out.append({"case": pd.case.name, "time": pd.trajectory.t.tolist(),
-                    "motor_torque": {j: tm[k].tolist() for k, j in enumerate(joints)},
-                    "limits": limits, "summary": summary})
+            limits = {
+                f"{worst} continuous rating": float(arrays.motor_continuous_torque[0, k]),
+                f"{worst} peak rating": float(arrays.motor_peak_torque[0, k]),
+            }
+        out.append(
+            {
+                "case": pd.case.name,
+                "time": pd.trajectory.t.tolist(),
+                "motor_torque": {j: tm[k].tolist() for k, j in enumerate(joints)},
+                "limits": limits,
+                "summary": summary,
+            }
+        )
     return out

@@ -14,20 +14,26 @@ G0 = 9.80665  # m/s², standard gravity (ISO 80000-3), for weight-equivalent pay
 
 #: case metrics shown per kind: (key, label, unit)
 CASE_METRICS = {
-    "payload": (("payload", "payload along the direction, case motion", "N"),
-                ("payload_raise", "… tip moving along the force", "N"),
-                ("payload_lower", "… tip yielding to the force", "N"),
-                ("payload_hold", "… holding still", "N"),
-                ("payload_frictionless", "… frictionless gears (reference)", "N")),
-    "stance": (("payload", "payload carried by the body, case motion", "N"),
-               ("payload_frictionless", "… frictionless gears (reference)", "N")),
-    "impact": (("imf", "impact mitigation factor, back-driven (dimensionless)", ""),
-               ("imf_restricted", "IMF over the directions the limb can move (dimensionless)", ""),
-               ("imf_direction", "directional IMF along the direction (dimensionless)", ""),
-               ("imf_frictionless", "IMF, frictionless gears (dimensionless)", ""),
-               ("effective_mass", "effective mass, back-driven", "kg"),
-               ("effective_mass_motoring", "effective mass, motoring", "kg"),
-               ("effective_mass_frictionless", "effective mass, frictionless", "kg")),
+    "payload": (
+        ("payload", "payload along the direction, case motion", "N"),
+        ("payload_raise", "… tip moving along the force", "N"),
+        ("payload_lower", "… tip yielding to the force", "N"),
+        ("payload_hold", "… holding still", "N"),
+        ("payload_frictionless", "… frictionless gears (reference)", "N"),
+    ),
+    "stance": (
+        ("payload", "payload carried by the body, case motion", "N"),
+        ("payload_frictionless", "… frictionless gears (reference)", "N"),
+    ),
+    "impact": (
+        ("imf", "impact mitigation factor, back-driven (dimensionless)", ""),
+        ("imf_restricted", "IMF over the directions the limb can move (dimensionless)", ""),
+        ("imf_direction", "directional IMF along the direction (dimensionless)", ""),
+        ("imf_frictionless", "IMF, frictionless gears (dimensionless)", ""),
+        ("effective_mass", "effective mass, back-driven", "kg"),
+        ("effective_mass_motoring", "effective mass, motoring", "kg"),
+        ("effective_mass_frictionless", "effective mass, frictionless", "kg"),
+    ),
     "backdrive": (("backdrive_force", "tip force that starts the unpowered robot moving", "N"),),
     "speed": (("speed", "end-point speed along the direction", "m/s"),),
 }
@@ -41,31 +47,44 @@ def job_section(project) -> Section:
     """Who the robot is for and what it must do: summary, cases and budgets."""
     rows = []
     for c in project.cases:
-        limits = ", ".join(f"{k.replace('_', ' ')} {_limit_text(k, v)}"
-                           for k, v in c.limits.items())
-        direction = ("—" if c.direction is None
-                     else "(" + ", ".join(number(x, 3) for x in c.direction) + ")")
+        limits = ", ".join(
+            f"{k.replace('_', ' ')} {_limit_text(k, v)}" for k, v in c.limits.items()
+        )
+        direction = (
+            "—" if c.direction is None else "(" + ", ".join(number(x, 3) for x in c.direction) + ")"
+        )
         motion = c.motion if c.kind in ("payload", "stance") else "—"
         rows.append([c.name, c.kind, c.frame or "—", direction, motion, limits or "none"])
-    base = ("floating base (free-flying trunk)" if project.robot.base == "floating"
-            else "fixed base")
+    base = "floating base (free-flying trunk)" if project.robot.base == "floating" else "fixed base"
     joints = ", ".join(project.robot.actuated)
     summary = project.summary.replace("\n", " ").strip() or "(no summary in the project file)"
-    body = (paragraph(summary)
-            + paragraph(f"Robot: {len(project.robot.actuated)} actuated joints ({joints}), "
-                        f"{base}. Project file: {project.file.name}.")
-            + "<h3>Operating cases and their requirements</h3>"
-            + table(["case", "kind", "tip frame", "direction (world)", "motion", "requirements"],
-                    rows, caption="Directions are unit vectors in world axes; a payload is the "
-                                  "force the tip exerts on its surroundings along the direction.")
-            + "<h3>Budgets</h3>" + bullets(_budgets(project.requirements)
-                                           or ["no mass or size budgets set"]))
+    body = (
+        paragraph(summary)
+        + paragraph(
+            f"Robot: {len(project.robot.actuated)} actuated joints ({joints}), "
+            f"{base}. Project file: {project.file.name}."
+        )
+        + "<h3>Operating cases and their requirements</h3>"
+        + table(
+            ["case", "kind", "tip frame", "direction (world)", "motion", "requirements"],
+            rows,
+            caption="Directions are unit vectors in world axes; a payload is the "
+            "force the tip exerts on its surroundings along the direction.",
+        )
+        + "<h3>Budgets</h3>"
+        + bullets(_budgets(project.requirements) or ["no mass or size budgets set"])
+    )
     return Section("job", "The job and its requirements", body)
 
 
 #: per-joint budgets shown: (field of JointLimits, unit)
-_JOINT_BUDGETS = (("mass_max", "kg"), ("reflected_inertia_max", "kg·m²"), ("diameter_max", "m"),
-                  ("length_max", "m"), ("ratio_max", ""))
+_JOINT_BUDGETS = (
+    ("mass_max", "kg"),
+    ("reflected_inertia_max", "kg·m²"),
+    ("diameter_max", "m"),
+    ("length_max", "m"),
+    ("ratio_max", ""),
+)
 
 
 def _budgets(req) -> list[str]:
@@ -90,8 +109,14 @@ def _limit_text(key: str, value) -> str:
 
 
 def _limit_unit(key: str) -> str:
-    return {"payload_min": "N", "effective_mass_max": "kg", "backdrive_force_max": "N",
-            "speed_min": "m/s", "temperature_margin_min": "°C", "rating_use_max": ""}.get(key, "")
+    return {
+        "payload_min": "N",
+        "effective_mass_max": "kg",
+        "backdrive_force_max": "N",
+        "speed_min": "m/s",
+        "temperature_margin_min": "°C",
+        "rating_use_max": "",
+    }.get(key, "")
 
 
 def _check_label(c: dict) -> str:
@@ -108,11 +133,15 @@ def _limiting_reason(a: dict, case: dict) -> str:
     gear = _f(j["gear_peak_torque"])
     who = "it is" if mode is None else f"it is {mode} and"
     if math.isfinite(gear) and math.isclose(cap, gear, rel_tol=1e-9):
-        return (f"{who} at its gear torque limit (peak) ({fmt(gear, 'N·m')}): a larger "
-                "gear frame raises the payload, a larger motor or ratio does not")
+        return (
+            f"{who} at its gear torque limit (peak) ({fmt(gear, 'N·m')}): a larger "
+            "gear frame raises the payload, a larger motor or ratio does not"
+        )
     what = "drive torque" if mode is None else "motor's peak torque through the gear"
-    return (f"{who} at its {what} ({fmt(cap, 'N·m')}): a larger motor or a higher ratio raises "
-            "the payload")
+    return (
+        f"{who} at its {what} ({fmt(cap, 'N·m')}): a larger motor or a higher ratio raises "
+        "the payload"
+    )
 
 
 def _impact_words(case: dict) -> str:
@@ -120,8 +149,10 @@ def _impact_words(case: dict) -> str:
     m = case["metrics"]
     text = f"An impact in case {case['name']} meets"
     if m.get("imf") is not None:
-        text += (f" an impact mitigation factor of {number(m['imf'])} (back-driven; 0 is no "
-                 "better than locked joints)")
+        text += (
+            f" an impact mitigation factor of {number(m['imf'])} (back-driven; 0 is no "
+            "better than locked joints)"
+        )
         if m.get("contact_rank", 3) < 3 and m.get("imf_restricted") is not None:
             text += f", {number(m['imf_restricted'])} over the directions the limb can move"
         text += " and"
@@ -129,12 +160,16 @@ def _impact_words(case: dict) -> str:
 
 
 def _payload_words(a: dict, project) -> list[str]:
-    payload = [c for c in a["cases"] if c["kind"] in ("payload", "stance")
-               and c["metrics"].get("payload") is not None]
+    payload = [
+        c
+        for c in a["cases"]
+        if c["kind"] in ("payload", "stance") and c["metrics"].get("payload") is not None
+    ]
     if not payload:
         return []
-    margins = {c["subject"]: _f(c["margin"]) for c in a["checks"]
-               if c["requirement"] == "payload_min"}
+    margins = {
+        c["subject"]: _f(c["margin"]) for c in a["checks"] if c["requirement"] == "payload_min"
+    }
     if any(c["name"] in margins for c in payload):
         # the tightest against its own requirement, which need not be the smallest force
         worst = min((c for c in payload if c["name"] in margins), key=lambda c: margins[c["name"]])
@@ -160,22 +195,32 @@ def outcome_section(a: dict, project) -> Section:
     if not missed:
         words = [f"The design “{name}” meets all {len(checks)} requirements."]
     else:
-        items = "; ".join(f"{_check_label(c)} {check_value(c, 'achieved')} against "
-                          f"{check_value(c, 'limit')} ({pct(c['margin'])})" for c in missed)
-        words = [f"The design “{name}” misses {len(missed)} of {len(checks)} requirements: "
-                 f"{items}."]
+        items = "; ".join(
+            f"{_check_label(c)} {check_value(c, 'achieved')} against "
+            f"{check_value(c, 'limit')} ({pct(c['margin'])})"
+            for c in missed
+        )
+        words = [
+            f"The design “{name}” misses {len(missed)} of {len(checks)} requirements: {items}."
+        ]
     words += _payload_words(a, project)
     words += [_impact_words(c) for c in a["cases"] if c["kind"] == "impact"]
     locking = [j for j in a["joints"] if j["self_locking"]]
     if locking:
-        names = ", ".join(f"{j['joint']} (backward efficiency {number(j['eta_backward'], 3)})"
-                          for j in locking)
-        words.append(f"Self-locking joints: {names}. They hold their load unpowered and cannot be "
-                     "pushed back by a person or an obstacle.")
+        names = ", ".join(
+            f"{j['joint']} (backward efficiency {number(j['eta_backward'], 3)})" for j in locking
+        )
+        words.append(
+            f"Self-locking joints: {names}. They hold their load unpowered and cannot be "
+            "pushed back by a person or an obstacle."
+        )
     else:
         words.append("No joint is self-locking: every transmission can be back-driven by its load.")
-    cost = (f" and cost {fmt(a['total_cost'])} (catalog currency units)"
-            if _f(a.get("total_cost", 0.0)) > 0 else "")
+    cost = (
+        f" and cost {fmt(a['total_cost'])} (catalog currency units)"
+        if _f(a.get("total_cost", 0.0)) > 0
+        else ""
+    )
     words.append(f"Actuator mass {fmt(a['total_mass'], 'kg')}{cost} in total.")
     cls = "verdict" if not missed else "verdict bad"
     body = f'<div class="{cls}">' + "".join(paragraph(w) for w in words) + "</div>"
@@ -187,17 +232,23 @@ def requirements_section(a: dict) -> Section:
     rows = []
     for c in a["checks"]:
         key = (("check", f"{c['subject']}:{c['requirement']}"),)
-        rows.append([
-            c["subject"], c["requirement"].replace("_", " "),
-            Cell(check_value(c, "achieved"), "num", key + (("field", "achieved"),)),
-            Cell(check_value(c, "limit"), "num", key + (("field", "limit"),)),
-            Cell(pct(c["margin"]), "num", key + (("field", "margin"),)),
-            Cell("met" if c["ok"] else "MISSED", "ok" if c["ok"] else "bad"),
-        ])
-    body = table(["subject", "requirement", "achieved", "limit", "margin", "status"], rows,
-                 caption="Margin = (achieved − limit)/|limit| for a minimum, "
-                         "(limit − achieved)/|limit| for a maximum; a requirement is met when its "
-                         "margin is ≥ 0. IMF values are dimensionless.")
+        rows.append(
+            [
+                c["subject"],
+                c["requirement"].replace("_", " "),
+                Cell(check_value(c, "achieved"), "num", key + (("field", "achieved"),)),
+                Cell(check_value(c, "limit"), "num", key + (("field", "limit"),)),
+                Cell(pct(c["margin"]), "num", key + (("field", "margin"),)),
+                Cell("met" if c["ok"] else "MISSED", "ok" if c["ok"] else "bad"),
+            ]
+        )
+    body = table(
+        ["subject", "requirement", "achieved", "limit", "margin", "status"],
+        rows,
+        caption="Margin = (achieved − limit)/|limit| for a minimum, "
+        "(limit − achieved)/|limit| for a maximum; a requirement is met when its "
+        "margin is ≥ 0. IMF values are dimensionless.",
+    )
     return Section("requirements", "Requirements versus achieved", body)
 
 
@@ -214,9 +265,10 @@ def binding_section(a: dict, count: int = 3) -> Section:
         else:
             by = c["subject"] if c["subject"] in joints else "—"
         rows.append([_check_label(c), Cell(pct(c["margin"]), "num"), by])
-    body = (paragraph("These requirements are closest to their limits (or furthest past them): "
-                      "any change of the design or the assumptions moves them first.")
-            + table(["requirement", "margin", "set by joint"], rows))
+    body = paragraph(
+        "These requirements are closest to their limits (or furthest past them): "
+        "any change of the design or the assumptions moves them first."
+    ) + table(["requirement", "margin", "set by joint"], rows)
     return Section("binding", "Binding constraints", body)
 
 
@@ -224,8 +276,12 @@ def _tagged(value, unit: str, joint: str, field: str) -> Cell:
     return Cell(fmt(value, unit), "num", (("joint", joint), ("field", field)))
 
 
-_INERTIAS = ("rotor_inertia", "reflected_frictionless", "reflected_motoring",
-             "reflected_backdriven")
+_INERTIAS = (
+    "rotor_inertia",
+    "reflected_frictionless",
+    "reflected_motoring",
+    "reflected_backdriven",
+)
 
 
 def joints_section(a: dict) -> Section:
@@ -235,42 +291,85 @@ def joints_section(a: dict) -> Section:
     for j in a["joints"]:
         name = j["joint"]
         lock = " (self-locking)" if j["self_locking"] else ""
-        drive.append([name, j["motor"], " + ".join(j["stages"]) or "direct drive",
-                      Cell(f"{number(j['ratio'])} : 1", "num"),
-                      Cell(number(j["eta_forward"], 3), "num"),
-                      Cell(number(j["eta_backward"], 3) + lock, "num"),
-                      _tagged(j["capacity_motoring"], "N·m", name, "drive"),
-                      _tagged(j["capacity_backdriven"], "N·m", name, "holding"),
-                      Cell(fmt(j["gear_peak_torque"], "N·m"), "num")])
-        row = ([name] + [Cell(fmt(j[k], "kg·m²"), "num") for k in _INERTIAS]
-               + [_tagged(j["mass"], "kg", name, "mass")])
+        drive.append(
+            [
+                name,
+                j["motor"],
+                " + ".join(j["stages"]) or "direct drive",
+                Cell(f"{number(j['ratio'])} : 1", "num"),
+                Cell(number(j["eta_forward"], 3), "num"),
+                Cell(number(j["eta_backward"], 3) + lock, "num"),
+                _tagged(j["capacity_motoring"], "N·m", name, "drive"),
+                _tagged(j["capacity_backdriven"], "N·m", name, "holding"),
+                Cell(fmt(j["gear_peak_torque"], "N·m"), "num"),
+            ]
+        )
+        row = (
+            [name]
+            + [Cell(fmt(j[k], "kg·m²"), "num") for k in _INERTIAS]
+            + [_tagged(j["mass"], "kg", name, "mass")]
+        )
         if costs:
             row.append(Cell(fmt(j.get("cost")), "num", (("joint", name), ("field", "cost"))))
-        inertia.append(row + [Cell(fmt(j["max_joint_speed"], "rad/s"), "num"),
-                              Cell(fmt(j["breakaway_torque"], "N·m"), "num")])
-    total = [Cell("total", "num"), "", "", "", "",
-             Cell(fmt(a["total_mass"], "kg"), "num", (("field", "total_mass"),))]
+        inertia.append(
+            row
+            + [
+                Cell(fmt(j["max_joint_speed"], "rad/s"), "num"),
+                Cell(fmt(j["breakaway_torque"], "N·m"), "num"),
+            ]
+        )
+    total = [
+        Cell("total", "num"),
+        "",
+        "",
+        "",
+        "",
+        Cell(fmt(a["total_mass"], "kg"), "num", (("field", "total_mass"),)),
+    ]
     if costs:
         total.append(Cell(fmt(a["total_cost"]), "num", (("field", "total_cost"),)))
     inertia.append(total + ["", ""])
-    head = (["joint", "rotor-side inertia I_r", "reflected N²·I_r", "motoring η_f·N²·I_r",
-             "back-driven N²·I_r/η_b", "mass"] + (["cost"] if costs else [])
-            + ["max joint speed", "breakaway torque"])
+    head = (
+        [
+            "joint",
+            "rotor-side inertia I_r",
+            "reflected N²·I_r",
+            "motoring η_f·N²·I_r",
+            "back-driven N²·I_r/η_b",
+            "mass",
+        ]
+        + (["cost"] if costs else [])
+        + ["max joint speed", "breakaway torque"]
+    )
     caption = _INERTIA_CAPTION + (" Cost in the catalog's currency units." if costs else "")
-    body = (table(["joint", "motor", "stages", "ratio", "η forward", "η backward", "drive torque",
-                   "holding torque", "gear torque limit (peak)"], drive, caption=_DRIVE_CAPTION,
-                  cls="wide")
-            + table(head, inertia, caption=caption, cls="wide"))
+    body = table(
+        [
+            "joint",
+            "motor",
+            "stages",
+            "ratio",
+            "η forward",
+            "η backward",
+            "drive torque",
+            "holding torque",
+            "gear torque limit (peak)",
+        ],
+        drive,
+        caption=_DRIVE_CAPTION,
+        cls="wide",
+    ) + table(head, inertia, caption=caption, cls="wide")
     return Section("joints", "Per-joint choices", body)
 
 
 _DRIVE_CAPTION = (
     "Drive torque = η_f·N·τ_peak (motoring); holding torque = N·τ_peak/η_b while the load "
     "back-drives the joint; both capped by the gear torque limit (peak) (a self-locking joint "
-    "holds up to that limit whatever the motor). Efficiencies are dimensionless.")
+    "holds up to that limit whatever the motor). Efficiencies are dimensionless."
+)
 _INERTIA_CAPTION = (
     "Reflected inertia as seen from the link side; the back-driven value is what an impact "
-    "feels. Breakaway torque: joint-side torque that starts the unpowered actuator moving.")
+    "feels. Breakaway torque: joint-side torque that starts the unpowered actuator moving."
+)
 
 #: duty-cycle quantities per joint: (key, column, unit, scale). Rating uses come first (how hard
 #: each joint works, in % of what its motor allows), then the quantities behind them.
@@ -301,11 +400,14 @@ def _duty_table(c: dict, joints: list[str]) -> str:
     quantity = str(m.get("limiting_quantity", "—")).replace("_", " ")
     use = m.get("rating_use")
     use = 100.0 * use if isinstance(use, (int, float)) and not isinstance(use, bool) else use
-    cap = (f"Largest rating use {fmt(use, '%')} (up to 100 % passes), set by "
-           f"{c.get('limiting_joint') or '—'} through {quantity}. Energy per cycle is electrical, "
-           "with regeneration.")
-    return table(["joint"] + [col for _k, col, _u, _s in DUTY_COLUMNS], rows, caption=cap,
-                 cls="wide")
+    cap = (
+        f"Largest rating use {fmt(use, '%')} (up to 100 % passes), set by "
+        f"{c.get('limiting_joint') or '—'} through {quantity}. Energy per cycle is electrical, "
+        "with regeneration."
+    )
+    return table(
+        ["joint"] + [col for _k, col, _u, _s in DUTY_COLUMNS], rows, caption=cap, cls="wide"
+    )
 
 
 def _case_notes(c: dict) -> list[str]:
@@ -315,8 +417,10 @@ def _case_notes(c: dict) -> list[str]:
     if c.get("joint_modes"):
         notes.append("modes: " + ", ".join(f"{j} {m}" for j, m in c["joint_modes"].items()))
     if c["kind"] == "impact" and c["metrics"].get("contact_rank", 3) < 3:
-        notes.append("the joints cannot move the contact in every direction, so the determinant "
-                     "IMF is 0; read the restricted or directional IMF")
+        notes.append(
+            "the joints cannot move the contact in every direction, so the determinant "
+            "IMF is 0; read the restricted or directional IMF"
+        )
     return notes
 
 
@@ -330,11 +434,16 @@ def cases_section(a: dict) -> Section:
             continue
         shown = list(CASE_METRICS.get(c["kind"], ()))
         if c["kind"] == "stance":
-            shown += [(k, f"normal force at {k.split(':', 1)[1]}", "N") for k in c["metrics"]
-                      if k.startswith("normal_force:")]
-        rows = [[label, Cell(fmt(c["metrics"][k], unit), "num",
-                             (("case", c["name"]), ("metric", k)))]
-                for k, label, unit in shown if c["metrics"].get(k) is not None]
+            shown += [
+                (k, f"normal force at {k.split(':', 1)[1]}", "N")
+                for k in c["metrics"]
+                if k.startswith("normal_force:")
+            ]
+        rows = [
+            [label, Cell(fmt(c["metrics"][k], unit), "num", (("case", c["name"]), ("metric", k)))]
+            for k, label, unit in shown
+            if c["metrics"].get(k) is not None
+        ]
         parts.append(head + table(["metric", "value"], rows, caption="; ".join(_case_notes(c))))
     return Section("cases", "Every case", "".join(parts))
 
@@ -372,8 +481,13 @@ CAUTIONS = (
 
 def cautions_section(a: dict, project) -> Section:
     """Assumptions, the model's limits and the safety cautions."""
-    body = ("<h3>Assumptions</h3>" + bullets(list(ASSUMPTIONS))
-            + "<h3>Limits of the model</h3>" + bullets(list(LIMITS))
-            + '<h3>Cautions</h3><div class="caution">'
-            + bullets(list(a["cautions"]) + list(CAUTIONS)) + "</div>")
+    body = (
+        "<h3>Assumptions</h3>"
+        + bullets(list(ASSUMPTIONS))
+        + "<h3>Limits of the model</h3>"
+        + bullets(list(LIMITS))
+        + '<h3>Cautions</h3><div class="caution">'
+        + bullets(list(a["cautions"]) + list(CAUTIONS))
+        + "</div>"
+    )
     return Section("cautions", "Assumptions, limits and cautions", body)

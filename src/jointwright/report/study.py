@@ -17,18 +17,33 @@ from ..study.store import read_cases, read_study
 from ..units import registry
 
 #: sizing objective kind -> (label, unit, which is better)
-OBJECTIVES = {"payload": ("largest worst-case payload", "N", "max"),
-              "mass": ("least actuator mass", "kg", "min"),
-              "imf": ("best impact mitigation factor", "", "max")}
+OBJECTIVES = {
+    "payload": ("largest worst-case payload", "N", "max"),
+    "mass": ("least actuator mass", "kg", "min"),
+    "imf": ("best impact mitigation factor", "", "max"),
+}
 #: frontier measure -> unit
 MEASURE_UNITS = {"imf": "", "effective_mass": "kg", "backdrive_force": "N"}
 #: unit a plain-number parameter has by its name (the project's SI convention)
-PARAMETER_UNITS = {"payload_min": "N", "imf_min": "", "directional_imf_min": "",
-                   "effective_mass_max": "kg", "backdrive_force_max": "N", "speed_min": "m/s",
-                   "temperature_margin_min": "K", "rating_use_max": "", "mass_max": "kg",
-                   "total_mass_max": "kg", "total_cost_max": "", "reflected_inertia_max": "kg·m²",
-                   "diameter_max": "m", "length_max": "m", "ratio_min": "", "ratio_max": "",
-                   "max_stages": ""}
+PARAMETER_UNITS = {
+    "payload_min": "N",
+    "imf_min": "",
+    "directional_imf_min": "",
+    "effective_mass_max": "kg",
+    "backdrive_force_max": "N",
+    "speed_min": "m/s",
+    "temperature_margin_min": "K",
+    "rating_use_max": "",
+    "mass_max": "kg",
+    "total_mass_max": "kg",
+    "total_cost_max": "",
+    "reflected_inertia_max": "kg·m²",
+    "diameter_max": "m",
+    "length_max": "m",
+    "ratio_min": "",
+    "ratio_max": "",
+    "max_stages": "",
+}
 _UNIT_TEXT = {"kilogram": "kg", "newton": "N", "meter": "m", "second": "s"}
 
 
@@ -80,9 +95,14 @@ def _parameters(study, cases, store) -> list[dict]:
             unit = unit or u
         if unit is None and numeric:
             unit = PARAMETER_UNITS.get(p.rsplit(".", 1)[-1])
-        out.append({"key": p, "label": parameter_label(p, study.base_project),
-                    "unit": _unit_text(unit) if unit is not None else None,
-                    "numeric": numeric})
+        out.append(
+            {
+                "key": p,
+                "label": parameter_label(p, study.base_project),
+                "unit": _unit_text(unit) if unit is not None else None,
+                "numeric": numeric,
+            }
+        )
     return out
 
 
@@ -102,22 +122,32 @@ def _value_in(value, unit: str | None):
 def _results(task: str, cases) -> list[dict]:
     """The headline results of the study's task, with units and which way is better."""
     if task == "frontier":
-        measure = next((c.result.get("measure") for c in cases
-                        if isinstance(c.result, dict) and c.result.get("measure")), "imf")
+        measure = next(
+            (
+                c.result.get("measure")
+                for c in cases
+                if isinstance(c.result, dict) and c.result.get("measure")
+            ),
+            "imf",
+        )
         mu = MEASURE_UNITS.get(measure, "")
-        return [{"key": "payload_max", "label": "largest payload", "unit": "N", "better": "max"},
-                {"key": "knee_payload", "label": "payload at the knee", "unit": "N",
-                 "better": None},
-                {"key": "knee_measure", "label": f"{measure.replace('_', ' ')} at the knee",
-                 "unit": mu, "better": None}]
+        return [
+            {"key": "payload_max", "label": "largest payload", "unit": "N", "better": "max"},
+            {"key": "knee_payload", "label": "payload at the knee", "unit": "N", "better": None},
+            {
+                "key": "knee_measure",
+                "label": f"{measure.replace('_', ' ')} at the knee",
+                "unit": mu,
+                "better": None,
+            },
+        ]
     kinds = {c.result.get("objective_kind") for c in cases if isinstance(c.result, dict)}
     kinds.discard(None)
     kind = kinds.pop() if len(kinds) == 1 else None
     label, unit, better = OBJECTIVES.get(kind, ("objective", "", None))
     out = [{"key": "objective", "label": label, "unit": unit, "better": better}]
     if kind != "mass":
-        out.append({"key": "total_mass", "label": "actuator mass", "unit": "kg",
-                    "better": None})
+        out.append({"key": "total_mass", "label": "actuator mass", "unit": "kg", "better": None})
     return out
 
 
@@ -138,30 +168,45 @@ def study_data(store: str | Path, metrics=None, parameters=None) -> dict:
         known = {p["key"] for p in params}
         for p in parameters:
             if p not in known:
-                raise InputError(str(store), "parameters",
-                                 f"{p!r} is not varied; varied: {', '.join(sorted(known))}")
+                raise InputError(
+                    str(store),
+                    "parameters",
+                    f"{p!r} is not varied; varied: {', '.join(sorted(known))}",
+                )
         params = [p for p in params if p["key"] in parameters]
     task = next((c.task for c in cases), "size")
     results = _results(task, [c for c in cases if c.status == "done"])
     names = {k for c in cases for k in c.metrics}
     for m in metrics or ():
         if m not in names:
-            raise InputError(str(store), "metrics",
-                             f"no case reports metric {m!r}; known: {', '.join(sorted(names))}")
-        results.append({"key": m, "label": m.replace("_", " "), "unit": "as computed",
-                        "better": None})
+            raise InputError(
+                str(store),
+                "metrics",
+                f"no case reports metric {m!r}; known: {', '.join(sorted(names))}",
+            )
+        results.append(
+            {"key": m, "label": m.replace("_", " "), "unit": "as computed", "better": None}
+        )
     rows = []
     for c in cases:
-        joints = [k[:-len(":actuator")] for k in c.metrics if k.endswith(":actuator")]
+        joints = [k[: -len(":actuator")] for k in c.metrics if k.endswith(":actuator")]
         status = c.metrics.get("sizing_status") or c.status
         if c.status != "done":
             status = c.status
-        rows.append({
-            "case": c.case_id, "variant": c.variant or "", "status": str(status),
-            "values": {p["key"]: _value_in(c.values.get(p["key"]), p["unit"]) for p in params},
-            "results": {r["key"]: c.metrics.get(r["key"]) for r in results},
-            "design": "; ".join(f"{j}: {c.metrics[f'{j}:actuator']}" for j in joints),
-        })
-    return {"name": study.name, "description": str(study.definition.get("study", {})
-                                                   .get("description", "")).strip(),
-            "parameters": params, "results": results, "cases": rows}
+        rows.append(
+            {
+                "case": c.case_id,
+                "variant": c.variant or "",
+                "status": str(status),
+                "values": {p["key"]: _value_in(c.values.get(p["key"]), p["unit"]) for p in params},
+                "results": {r["key"]: c.metrics.get(r["key"]) for r in results},
+                "design": "; ".join(f"{j}: {c.metrics[f'{j}:actuator']}" for j in joints),
+            }
+        )
+    return {
+        "name": study.name,
+        "description": str(study.definition.get("study", {}).get("description", "")).strip(),
+        "parameters": params,
+        "results": results,
+        "cases": rows,
+    }

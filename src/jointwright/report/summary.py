@@ -27,7 +27,8 @@ SUMMARY_CAUTION = (
     "building, verify every actuator against supplier data and by test. Self-locking and "
     "high-ratio joints can trap or crush; contact with people, holding brakes and guarding "
     "follow the applicable machinery and collaborative-robot safety standards, local codes and "
-    "licensed engineering practice.")
+    "licensed engineering practice."
+)
 
 
 def _f(x) -> float:
@@ -72,15 +73,19 @@ def decision_table(a: dict) -> str:
         j = g[0]
         lock = " (self-locking)" if j["self_locking"] else ""
         names = ", ".join(x["joint"] for x in g)
-        row = [names, j["motor"], (" + ".join(j["stages"]) or "direct drive") + lock,
-               Cell(f"{number(j['ratio'])} : 1", "num")]
+        row = [
+            names,
+            j["motor"],
+            (" + ".join(j["stages"]) or "direct drive") + lock,
+            Cell(f"{number(j['ratio'])} : 1", "num"),
+        ]
         if shared:
             row.append(Cell(f"{len(g)} ×", "num"))
-        row.append(Cell(fmt(j["mass"], "kg"), "num", (("summary-joint", names),
-                                                      ("field", "mass"))))
+        row.append(Cell(fmt(j["mass"], "kg"), "num", (("summary-joint", names), ("field", "mass"))))
         if costs:
-            row.append(Cell(cost_text(j.get("cost")), "num",
-                            (("summary-joint", names), ("field", "cost"))))
+            row.append(
+                Cell(cost_text(j.get("cost")), "num", (("summary-joint", names), ("field", "cost")))
+            )
         rows.append(row)
     total = [Cell("total", "num"), "", "", ""] + ([""] if shared else [])
     total.append(Cell(fmt(a["total_mass"], "kg"), "num", (("field", "summary_total_mass"),)))
@@ -88,8 +93,12 @@ def decision_table(a: dict) -> str:
         total.append(Cell(cost_text(a["total_cost"]), "num", (("field", "summary_total_cost"),)))
     rows.append(total)
     each = " each" if shared else ""
-    head = (["joints" if shared else "joint", "motor", "gear stages", "ratio"]
-            + (["count"] if shared else []) + [f"mass{each}"] + ([f"cost{each}"] if costs else []))
+    head = (
+        ["joints" if shared else "joint", "motor", "gear stages", "ratio"]
+        + (["count"] if shared else [])
+        + [f"mass{each}"]
+        + ([f"cost{each}"] if costs else [])
+    )
     notes = []
     if shared:
         notes.append("Joints with the same actuator share a row.")
@@ -107,25 +116,37 @@ def _verdict(a: dict) -> tuple[str, bool]:
     if not checks:
         return f"The design “{a['design']}” is assessed against no requirement; {totals}.", True
     if not missed:
-        return (f"The design “{a['design']}” meets all {len(checks)} requirements; {totals}.",
-                True)
-    return (f"The design “{a['design']}” misses {len(missed)} of {len(checks)} requirements; "
-            f"{totals}.", False)
+        return (f"The design “{a['design']}” meets all {len(checks)} requirements; {totals}.", True)
+    return (
+        f"The design “{a['design']}” misses {len(missed)} of {len(checks)} requirements; {totals}.",
+        False,
+    )
 
 
 def margins_table(a: dict, count: int = 3) -> str:
     """The ``count`` requirements with the smallest margins."""
     order = sorted(a["checks"], key=lambda c: _f(c["margin"]))[:count]
-    rows = [[_label(c), Cell(check_value(c, "achieved"), "num"),
-             Cell(check_value(c, "limit"), "num"),
-             Cell(pct(c["margin"]), "num" + ("" if c["ok"] else " bad"),
-                  (("summary-check", f"{c['subject']}:{c['requirement']}"),))]
-            for c in order]
+    rows = [
+        [
+            _label(c),
+            Cell(check_value(c, "achieved"), "num"),
+            Cell(check_value(c, "limit"), "num"),
+            Cell(
+                pct(c["margin"]),
+                "num" + ("" if c["ok"] else " bad"),
+                (("summary-check", f"{c['subject']}:{c['requirement']}"),),
+            ),
+        ]
+        for c in order
+    ]
     if not rows:
         return paragraph("The project states no requirement.")
-    return table(["requirement", "achieved", "limit", "margin"], rows, cls="compact",
-                 caption="Margin: how far past its limit each requirement is; below 0 it is "
-                         "missed.")
+    return table(
+        ["requirement", "achieved", "limit", "margin"],
+        rows,
+        cls="compact",
+        caption="Margin: how far past its limit each requirement is; below 0 it is missed.",
+    )
 
 
 def risks(a: dict, sensitivity: dict | None = None) -> list[str]:
@@ -134,31 +155,42 @@ def risks(a: dict, sensitivity: dict | None = None) -> list[str]:
     out = []
     missed = [c for c in a["checks"] if not c["ok"]]
     for c in sorted(missed, key=lambda c: _f(c["margin"])):
-        out.append(f"Missed: {_label(c)} is {check_value(c, 'achieved')} against "
-                   f"{check_value(c, 'limit')} ({pct(c['margin'])}).")
+        out.append(
+            f"Missed: {_label(c)} is {check_value(c, 'achieved')} against "
+            f"{check_value(c, 'limit')} ({pct(c['margin'])})."
+        )
     locking = [j["joint"] for j in a["joints"] if j["self_locking"]]
     if locking:
-        out.append(f"Self-locking: {', '.join(locking)} cannot be pushed back by a person or an "
-                   "obstacle and hold their load unpowered only as long as the gear friction "
-                   "lasts; treat them as pinch and crush points.")
+        out.append(
+            f"Self-locking: {', '.join(locking)} cannot be pushed back by a person or an "
+            "obstacle and hold their load unpowered only as long as the gear friction "
+            "lasts; treat them as pinch and crush points."
+        )
     thin = [c for c in a["checks"] if c["ok"] and _f(c["margin"]) < THIN_MARGIN]
     if thin:
-        items = ", ".join(f"{_label(c)} ({pct(c['margin'])})"
-                          for c in sorted(thin, key=lambda c: _f(c["margin"])))
-        out.append(f"Thin margins (below {100 * THIN_MARGIN:.0f} %): {items}; a small change of "
-                   "load, catalog data or efficiency can miss them.")
+        items = ", ".join(
+            f"{_label(c)} ({pct(c['margin'])})" for c in sorted(thin, key=lambda c: _f(c["margin"]))
+        )
+        out.append(
+            f"Thin margins (below {100 * THIN_MARGIN:.0f} %): {items}; a small change of "
+            "load, catalog data or efficiency can miss them."
+        )
     for c in a["cases"]:
         use = c["metrics"].get("rating_use") if c["kind"] == "duty" else None
         if isinstance(use, (int, float)) and HIGH_RATING_USE < use <= 1.0:
             quantity = str(c["metrics"].get("limiting_quantity", "")).replace("_", " ")
-            out.append(f"Duty cycle {c['name']}: {c.get('limiting_joint') or 'a joint'} uses "
-                       f"{fmt(100 * use, '%')} of its motor's {quantity or 'rating'}; a hotter "
-                       "room or a longer cycle can overheat it.")
+            out.append(
+                f"Duty cycle {c['name']}: {c.get('limiting_joint') or 'a joint'} uses "
+                f"{fmt(100 * use, '%')} of its motor's {quantity or 'rating'}; a hotter "
+                "room or a longer cycle can overheat it."
+            )
     if sensitivity:
         out.append(sensitivity_risk(sensitivity))
-    out.append("Assumed: rigid links and gears, the catalog's efficiencies and peak ratings at "
-               "any speed; thermal limits only over the duty cycles given (Appendix: "
-               "assumptions, limits and cautions).")
+    out.append(
+        "Assumed: rigid links and gears, the catalog's efficiencies and peak ratings at "
+        "any speed; thermal limits only over the duty cycles given (Appendix: "
+        "assumptions, limits and cautions)."
+    )
     return out[:MAX_RISKS]
 
 
@@ -173,8 +205,12 @@ def payload_sensitivity(sens) -> dict | None:
     rel = np.abs(np.asarray(sens.values["payload"], dtype=float) - base) / abs(base)
     rel = np.where(np.isfinite(rel), rel, 0.0)
     j, f, _s = np.unravel_index(int(np.argmax(rel)), rel.shape)
-    return {"points": round(100 * sens.step), "change": float(rel[j, f, _s]),
-            "joint": sens.joints[j], "efficiency": ("η_f", "η_b")[f]}
+    return {
+        "points": round(100 * sens.step),
+        "change": float(rel[j, f, _s]),
+        "joint": sens.joints[j],
+        "efficiency": ("η_f", "η_b")[f],
+    }
 
 
 def sensitivity_risk(s: dict) -> str:
@@ -184,12 +220,16 @@ def sensitivity_risk(s: dict) -> str:
     payload, "joint": its joint, "efficiency": "η_f" or "η_b"}.
     """
     if s["change"] < 5e-4:  # below the 4th shown digit
-        return (f"Efficiency assumption: moving any one gear efficiency by ±{s['points']} points "
-                "leaves the smallest payload unchanged; impact figures may still move "
-                "(Appendix: sensitivity).")
-    return (f"Efficiency assumption: moving one gear efficiency by ±{s['points']} points moves "
-            f"the smallest payload by up to {fmt(100 * s['change'], '%', 3)} "
-            f"({s['efficiency']} of {s['joint']}).")
+        return (
+            f"Efficiency assumption: moving any one gear efficiency by ±{s['points']} points "
+            "leaves the smallest payload unchanged; impact figures may still move "
+            "(Appendix: sensitivity)."
+        )
+    return (
+        f"Efficiency assumption: moving one gear efficiency by ±{s['points']} points moves "
+        f"the smallest payload by up to {fmt(100 * s['change'], '%', 3)} "
+        f"({s['efficiency']} of {s['joint']})."
+    )
 
 
 def frontier_thumbnail(frontier: dict, fig_dir: Path) -> str:
@@ -207,33 +247,49 @@ def frontier_thumbnail(frontier: dict, fig_dir: Path) -> str:
     def label(axis, default):
         return f"{axis.get('label', default)} ({axis.get('unit') or 'dimensionless'})"
 
-    fig = figures.points_figure(xy, chosen, x_label=label(x, "x"), y_label=label(y, "y"),
-                                title="Frontier of non-dominated designs", width=4.8,
-                                height=2.8)
+    fig = figures.points_figure(
+        xy,
+        chosen,
+        x_label=label(x, "x"),
+        y_label=label(y, "y"),
+        title="Frontier of non-dominated designs",
+        width=4.8,
+        height=2.8,
+    )
     png = figures.save(fig, fig_dir, "summary-frontier")
-    where = ("the ring is this design" if chosen is not None
-             else "this design is not placed on it (its measures are not both known)")
-    return figure(png, "summary-frontier", "frontier thumbnail",
-                  f"Non-dominated designs; {where}.")
+    where = (
+        "the ring is this design"
+        if chosen is not None
+        else "this design is not placed on it (its measures are not both known)"
+    )
+    return figure(png, "summary-frontier", "frontier thumbnail", f"Non-dominated designs; {where}.")
 
 
-def summary_section(a: dict, fig_dir: Path, *, frontier: dict | None = None,
-                    sensitivity: dict | None = None) -> Section:
+def summary_section(
+    a: dict, fig_dir: Path, *, frontier: dict | None = None, sensitivity: dict | None = None
+) -> Section:
     """The one-page summary (see the module docstring)."""
     words, ok = _verdict(a)
-    parts = [f'<div class="{"verdict" if ok else "verdict bad"}">{paragraph(words)}</div>',
-             "<h3>Decision: the actuator of each joint</h3>", decision_table(a)]
+    parts = [
+        f'<div class="{"verdict" if ok else "verdict bad"}">{paragraph(words)}</div>',
+        "<h3>Decision: the actuator of each joint</h3>",
+        decision_table(a),
+    ]
     margins = "<h3>Tightest margins</h3>" + margins_table(a)
     if frontier is not None:
-        parts.append(f'<div class="pair"><div>{margins}</div>'
-                     f"<div>{frontier_thumbnail(frontier, fig_dir)}</div></div>")
+        parts.append(
+            f'<div class="pair"><div>{margins}</div>'
+            f"<div>{frontier_thumbnail(frontier, fig_dir)}</div></div>"
+        )
     else:
         parts.append(margins)
     parts.append("<h3>Top risks</h3>" + bullets(risks(a, sensitivity), cls="risks"))
-    parts.append('<h3>Cautions</h3><div class="caution">' + paragraph(SUMMARY_CAUTION)
-                 + "</div>")
-    parts.append(paragraph("The appendix that follows holds the full assessment: every "
-                           "requirement, every case, the figures and the assumptions.",
-                           cls="sub"))
+    parts.append('<h3>Cautions</h3><div class="caution">' + paragraph(SUMMARY_CAUTION) + "</div>")
+    parts.append(
+        paragraph(
+            "The appendix that follows holds the full assessment: every "
+            "requirement, every case, the figures and the assumptions.",
+            cls="sub",
+        )
+    )
     return Section("summary", "Summary", "".join(parts))
-

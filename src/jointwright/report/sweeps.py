@@ -25,8 +25,9 @@ EFFICIENCY_STEP = 0.05
 
 def repeat(arrays: DesignArrays, count: int) -> DesignArrays:
     """``count`` copies of the first design of ``arrays``."""
-    return DesignArrays(**{f.name: np.repeat(getattr(arrays, f.name)[:1], count, axis=0)
-                           for f in fields(arrays)})
+    return DesignArrays(
+        **{f.name: np.repeat(getattr(arrays, f.name)[:1], count, axis=0) for f in fields(arrays)}
+    )
 
 
 def impact_metric(project, evaluator) -> dict[str, tuple[str, str, str]]:
@@ -55,7 +56,7 @@ def _summaries(project, evaluator, arrays) -> dict[str, np.ndarray]:
     if names:
         each = [np.asarray(ev[n]["payload"], dtype=float) for n in names]
         out["payload"] = np.min(each, axis=0)
-        out.update({f"payload:{n}": v for n, v in zip(names, each)})
+        out.update({f"payload:{n}": v for n, v in zip(names, each, strict=True)})
     for case, (key, _label, _unit) in impact_metric(project, evaluator).items():
         out[case] = np.asarray(ev[case][key], dtype=float)
     return out
@@ -89,10 +90,12 @@ def ratio_sweep(project, evaluator, arrays, factors=RATIO_FACTORS) -> RatioSweep
     many = repeat(arrays, n * K)
     ratio = many.ratio.copy()
     for j in range(n):
-        ratio[j * K:(j + 1) * K, j] *= factors
+        ratio[j * K : (j + 1) * K, j] *= factors
     values = _summaries(project, evaluator, replace(many, ratio=ratio))
     return RatioSweep(
-        joints=tuple(project.robot.actuated), design_ratio=arrays.ratio[0].copy(), factors=factors,
+        joints=tuple(project.robot.actuated),
+        design_ratio=arrays.ratio[0].copy(),
+        factors=factors,
         values={k: v.reshape(n, K) for k, v in values.items()},
     )
 
@@ -115,8 +118,9 @@ class Sensitivity:
     locking_changed: np.ndarray
 
 
-def efficiency_sensitivity(project, evaluator, arrays,
-                           step: float = EFFICIENCY_STEP) -> Sensitivity:
+def efficiency_sensitivity(
+    project, evaluator, arrays, step: float = EFFICIENCY_STEP
+) -> Sensitivity:
     """Re-evaluate with η_f,j or η_b,j changed by ±``step`` (absolute), one at a time.
 
     η_f stays in [0.01, 1]; η_b at most 1 and the self-locking flag follows η_b ≤ 0.
@@ -138,8 +142,10 @@ def efficiency_sensitivity(project, evaluator, arrays,
     values = _summaries(project, evaluator, moved)
     changed = (locking != arrays.self_locking[:1])[1:].any(axis=1).reshape(n, 2, 2)
     return Sensitivity(
-        joints=tuple(project.robot.actuated), step=step,
+        joints=tuple(project.robot.actuated),
+        step=step,
         base={k: float(v[0]) for k, v in values.items()},
         values={k: v[1:].reshape(n, 2, 2) for k, v in values.items()},
-        clipped=clipped, locking_changed=changed,
+        clipped=clipped,
+        locking_changed=changed,
     )

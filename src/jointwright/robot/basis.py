@@ -143,10 +143,12 @@ def pose_basis(robot: Robot, q: np.ndarray, frames: Sequence[str] = ()) -> PoseB
         lever = place.rotation @ mount.point  # from the body's joint origin to the mount
         jp[k] = jac[:3] - pin.skew(lever) @ jac[3:]  # v_p = v_o + ω × (p − o)
         rate[k] = (place.rotation @ mount.axis) @ jac[3:]
-    J = np.array([
-        np.reshape(pin.getFrameJacobian(model, data, f, pin.LOCAL_WORLD_ALIGNED), (6, nv))
-        for f in fids
-    ])
+    J = np.array(
+        [
+            np.reshape(pin.getFrameJacobian(model, data, f, pin.LOCAL_WORLD_ALIGNED), (6, nv))
+            for f in fids
+        ]
+    )
     pos = np.array([data.oMf[f].translation for f in fids])
     return PoseBasis(
         q=q.copy(),

@@ -15,10 +15,9 @@ velocities are the base's linear and angular velocity expressed in the base fram
 
 from __future__ import annotations
 
-import math
-import xml.etree.ElementTree as ET
-from collections.abc import Mapping, Sequence
 import dataclasses
+import math
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -34,8 +33,17 @@ DEFAULT_GRAVITY = (0.0, 0.0, -9.81)
 #: name Pinocchio gives the free-flyer joint of a floating base
 BASE_JOINT = "root_joint"
 
-_ROBOT_KEYS = ("name", "base", "gravity", "links", "joints", "frames", "actuated", "unactuated",
-               "included")
+_ROBOT_KEYS = (
+    "name",
+    "base",
+    "gravity",
+    "links",
+    "joints",
+    "frames",
+    "actuated",
+    "unactuated",
+    "included",
+)
 _LINK_KEYS = ("name", "mass", "com", "inertia", "shape", "length", "along", "size")
 _JOINT_KEYS = ("name", "type", "parent", "child", "xyz", "rpy", "axis", "lower", "upper")
 _MOUNT_KEYS = ("mount", "mount_link", "mount_xyz")
@@ -187,9 +195,13 @@ class Robot:
         prepared = read_urdf(urdf)
         if prepared.floating_joint is not None:
             if floating is False:
-                raise InputError(file, f"{at}base", f"is 'fixed', but {urdf} declares the floating "
-                                 f"joint {prepared.floating_joint!r}: write base = \"floating\" or "
-                                 "leave base out")
+                raise InputError(
+                    file,
+                    f"{at}base",
+                    f"is 'fixed', but {urdf} declares the floating "
+                    f'joint {prepared.floating_joint!r}: write base = "floating" or '
+                    "leave base out",
+                )
             floating = True
         try:
             if floating:
@@ -203,9 +215,18 @@ class Robot:
         _add_frames(model, frames or (), file, f"{at}frames")
         specs = {} if mounts is None else _mount_specs(mounts, file, f"{at}mounts")
         base = "floating" if floating else "fixed"
-        robot = cls._finish(model, file, base, actuated, specs, f"{at}actuated",
-                            unactuated=unactuated, included=included, prefix=prefix,
-                            mimic=prepared.mimic)
+        robot = cls._finish(
+            model,
+            file,
+            base,
+            actuated,
+            specs,
+            f"{at}actuated",
+            unactuated=unactuated,
+            included=included,
+            prefix=prefix,
+            mimic=prepared.mimic,
+        )
         return dataclasses.replace(robot, file=urdf)
 
     @classmethod
@@ -223,13 +244,33 @@ class Robot:
             Dotted path of ``table`` inside the file, for messages.
         """
         model, base, specs = _build_from_table(table, file, prefix)
-        return cls._finish(model, file, base, table.get("actuated"), specs, f"{prefix}.actuated",
-                           unactuated=table.get("unactuated"), included=table.get("included"),
-                           prefix=prefix)
+        return cls._finish(
+            model,
+            file,
+            base,
+            table.get("actuated"),
+            specs,
+            f"{prefix}.actuated",
+            unactuated=table.get("unactuated"),
+            included=table.get("included"),
+            prefix=prefix,
+        )
 
     @classmethod
-    def _finish(cls, model, file, base, actuated, specs, act_field, *, unactuated=None,
-                included=None, prefix="robot", mimic=None) -> Robot:
+    def _finish(
+        cls,
+        model,
+        file,
+        base,
+        actuated,
+        specs,
+        act_field,
+        *,
+        unactuated=None,
+        included=None,
+        prefix="robot",
+        mimic=None,
+    ) -> Robot:
         one_dof = [j for j in range(1, model.njoints) if model.joints[j].nv == 1]
         joint_names = tuple(model.names[j] for j in one_dof)
         mimic = dict(mimic or {})
@@ -250,9 +291,21 @@ class Robot:
         revolute = tuple(_is_revolute(model, j) for j in one_dof)
         held = tuple(j for j in joint_names if roles.get(j) == "held")
         free = tuple(j for j in joint_names if roles.get(j) == "free")
-        return cls(model, file, base, act, mounts, joint_names, revolute, links, named + links,
-                   held=held, free=free, included_mass=inc,
-                   mimic=tuple((f, *v) for f, v in mimic.items()))
+        return cls(
+            model,
+            file,
+            base,
+            act,
+            mounts,
+            joint_names,
+            revolute,
+            links,
+            named + links,
+            held=held,
+            free=free,
+            included_mass=inc,
+            mimic=tuple((f, *v) for f, v in mimic.items()),
+        )
 
     # ------------------------------------------------------------------ sizes and names
     @property
@@ -305,7 +358,9 @@ class Robot:
         lo, hi = self.position_limits(joint)
         if lo <= 0.0 <= hi:
             return 0.0
-        return 0.5 * (lo + hi) if math.isfinite(lo) and math.isfinite(hi) else (lo if lo > 0 else hi)
+        return (
+            0.5 * (lo + hi) if math.isfinite(lo) and math.isfinite(hi) else (lo if lo > 0 else hi)
+        )
 
     def joint_limits(self, joint: str) -> dict[str, float]:
         """Limits a URDF gives a 1-dof joint: ``lower``, ``upper`` (rad or m), ``effort``
@@ -314,9 +369,12 @@ class Robot:
         jm = self._joint(joint)
         eff = float(self.model.effortLimit[jm.idx_v])
         vel = float(self.model.velocityLimit[jm.idx_v])
-        return {"lower": lo, "upper": hi,
-                "effort": eff if 0 < eff < _BIG else math.inf,
-                "velocity": vel if 0 < vel < _BIG else math.inf}
+        return {
+            "lower": lo,
+            "upper": hi,
+            "effort": eff if 0 < eff < _BIG else math.inf,
+            "velocity": vel if 0 < vel < _BIG else math.inf,
+        }
 
     def role(self, joint: str) -> str:
         """``"actuated"``, ``"held"`` or ``"free"`` for a 1-dof joint."""
@@ -376,7 +434,7 @@ class Robot:
             if seq and len(seq) != len(self.joint_names):
                 rule = f"needs {len(self.joint_names)} joint values, got {len(seq)}"
                 raise InputError(file, field, rule)
-            values = dict(zip(self.joint_names, seq, strict=False))
+            values = dict(zip(self.joint_names, seq, strict=True))
         for name, value in values.items():
             jm = self._joint(name, file, f"{field}.{name}")
             dim = "angle" if self.revolute[self.joint_names.index(name)] else "length"
@@ -473,8 +531,12 @@ def _check_not_followers(actuated, mimic, file, field) -> None:
         return
     for i, name in enumerate(actuated):
         if name in mimic:
-            raise InputError(file, f"{field}[{i}]", f"{name!r} is a mimic joint: it follows "
-                             f"{mimic[name][0]!r} and has no actuator of its own; size the leader")
+            raise InputError(
+                file,
+                f"{field}[{i}]",
+                f"{name!r} is a mimic joint: it follows "
+                f"{mimic[name][0]!r} and has no actuator of its own; size the leader",
+            )
 
 
 #: roles of a 1-dof joint that is not actuated (docs/robot-format.md)
@@ -491,14 +553,21 @@ def _roles(unactuated, joint_names, actuated, mimic, file, field) -> dict[str, s
     for name, role in unactuated.items():
         where = f"{field}.{name}"
         if name in actuated:
-            raise InputError(file, where, f"joint {name!r} is actuated; only joints left out of "
-                             "actuated take a role")
+            raise InputError(
+                file,
+                where,
+                f"joint {name!r} is actuated; only joints left out of actuated take a role",
+            )
         if name in mimic:
-            raise InputError(file, where, f"{name!r} is a mimic joint: it follows {mimic[name][0]!r}")
+            raise InputError(
+                file, where, f"{name!r} is a mimic joint: it follows {mimic[name][0]!r}"
+            )
         if name not in joint_names:
             raise InputError(file, where, f"no 1-dof joint named {name!r} in the robot")
         if role not in UNACTUATED_ROLES:
-            raise InputError(file, where, f"must be one of {', '.join(UNACTUATED_ROLES)}; got {role!r}")
+            raise InputError(
+                file, where, f"must be one of {', '.join(UNACTUATED_ROLES)}; got {role!r}"
+            )
         roles[name] = role
     return roles
 
@@ -509,12 +578,13 @@ def _included_masses(included, actuated, file, field) -> tuple[float, ...]:
     if included is None:
         return tuple(out.values())
     if not isinstance(included, Mapping):
-        raise InputError(file, field, "must be a table joint -> mass (e.g. \"0.6 kg\") or \"none\"")
+        raise InputError(file, field, 'must be a table joint -> mass (e.g. "0.6 kg") or "none"')
     for name, value in included.items():
         where = f"{field}.{name}"
         if name not in out:
-            raise InputError(file, where, f"{name!r} is not an actuated joint; actuated: "
-                             f"{', '.join(actuated)}")
+            raise InputError(
+                file, where, f"{name!r} is not an actuated joint; actuated: {', '.join(actuated)}"
+            )
         if isinstance(value, Mapping):
             _check_keys(value, ("mass",), file, where)
             value = _required(value, "mass", file, where)
@@ -531,8 +601,12 @@ def _remove_included(model, mounts, masses, file, field) -> None:
         body = model.inertias[mount.body_joint]
         if mount.body_joint == 0 or mass > body.mass * (1 + 1e-12):
             have = 0.0 if mount.body_joint == 0 else body.mass
-            raise InputError(file, f"{field}.{mount.joint}", f"{mass:g} kg is more than the "
-                             f"{have:g} kg of the body that carries the actuator ({mount.link})")
+            raise InputError(
+                file,
+                f"{field}.{mount.joint}",
+                f"{mass:g} kg is more than the "
+                f"{have:g} kg of the body that carries the actuator ({mount.link})",
+            )
         point = pin.Inertia(float(mass), mount.point.copy(), np.zeros((3, 3)))
         rest = body - point
         if rest.mass <= 1e-12 * max(body.mass, 1.0):
@@ -595,8 +669,15 @@ def _resolve_mount(model, joint: str, spec: Mapping, where: str, file: str) -> M
         rule = f"required: link {link!r} is not rigidly attached next to joint {joint!r}"
         raise InputError(file, f"{where}.mount_xyz", rule)
     with_child = body_joint != 0 and body_joint in list(model.subtrees[jid])
-    return Mount(joint, link, np.array(xyz, float), body_joint, np.array(point, float),
-                 -1 if with_child else 1, _rotor_axis(model, jid, body_joint))
+    return Mount(
+        joint,
+        link,
+        np.array(xyz, float),
+        body_joint,
+        np.array(point, float),
+        -1 if with_child else 1,
+        _rotor_axis(model, jid, body_joint),
+    )
 
 
 def _rotor_axis(model, jid: int, body_joint: int) -> np.ndarray:
@@ -642,8 +723,9 @@ def _vec3(value: Any, dim: str, file: str, where: str) -> np.ndarray:
         value = value.tolist()
     if isinstance(value, (str, Mapping)) or not isinstance(value, Sequence) or len(value) != 3:
         raise InputError(file, where, f"must be a list of 3 numbers or quantities, got {value!r}")
-    return np.array([quantity(v, dim, file=file, field=f"{where}[{i}]")
-                     for i, v in enumerate(value)])
+    return np.array(
+        [quantity(v, dim, file=file, field=f"{where}[{i}]") for i, v in enumerate(value)]
+    )
 
 
 def _list_of_tables(table: Mapping, key: str, file: str, where: str, *, required: bool) -> list:
@@ -707,8 +789,9 @@ def _shape_inertia(entry: Mapping, mass: float, file: str, where: str) -> np.nda
     if shape == "point":
         return np.zeros((3, 3))
     if shape == "rod":  # thin rod: m·L²/12 about both transverse axes, 0 about its own
-        length = positive(_required(entry, "length", file, where), "length", file=file,
-                          field=f"{where}.length")
+        length = positive(
+            _required(entry, "length", file, where), "length", file=file, field=f"{where}.length"
+        )
         along = entry.get("along", "x")
         if along not in ("x", "y", "z"):
             raise InputError(file, f"{where}.along", f"must be x, y or z, got {along!r}")
@@ -750,8 +833,10 @@ def _joint_entry(entry: Mapping, file: str, where: str) -> dict:
         raise InputError(file, f"{where}.axis", "must not be the zero vector")
     out["axis"] = axis / norm
     dim = "angle" if kind == "revolute" else "length"
-    lim = [quantity(entry[k], dim, file=file, field=f"{where}.{k}") if k in entry else None
-           for k in ("lower", "upper")]
+    lim = [
+        quantity(entry[k], dim, file=file, field=f"{where}.{k}") if k in entry else None
+        for k in ("lower", "upper")
+    ]
     if lim[0] is not None and lim[1] is not None and not lim[0] < lim[1]:
         raise InputError(file, f"{where}.upper", f"must be > lower ({lim[0]:g})")
     out["lower"] = -_BIG if lim[0] is None else lim[0]
@@ -824,13 +909,18 @@ def _build_from_table(table: Any, file: str, prefix: str):
     root, order = _tree_order(links, joints, file, prefix)
     model = pin.Model()
     model.name = str(table.get("name", "robot"))
-    model.gravity.linear = _vec3(table.get("gravity", DEFAULT_GRAVITY), "acceleration", file,
-                                 f"{prefix}.gravity")
+    model.gravity.linear = _vec3(
+        table.get("gravity", DEFAULT_GRAVITY), "acceleration", file, f"{prefix}.gravity"
+    )
     place = {root: _attach_root(model, root, links[root], base == "floating")}
     for j in order:
         place[j["child"]] = _attach_joint(model, j, place[j["parent"]], links[j["child"]])
-    _add_frames(model, _list_of_tables(table, "frames", file, prefix, required=False), file,
-                f"{prefix}.frames")
+    _add_frames(
+        model,
+        _list_of_tables(table, "frames", file, prefix, required=False),
+        file,
+        f"{prefix}.frames",
+    )
     specs = {j["name"]: (j["mount_spec"], j["where"]) for j in joints if j.get("mount_spec")}
     return model, base, specs
 
@@ -862,8 +952,16 @@ def _attach_joint(model, j: dict, parent_place, inertia):
         model.appendBodyToJoint(pjid, inertia, origin)
         return pjid, origin, model.addBodyFrame(j["child"], pjid, origin, frame)
     one = np.ones(1)
-    jid = model.addJoint(pjid, _joint_model(j["type"], j["axis"]), origin, j["name"],
-                         _BIG * one, _BIG * one, j["lower"] * one, j["upper"] * one)
+    jid = model.addJoint(
+        pjid,
+        _joint_model(j["type"], j["axis"]),
+        origin,
+        j["name"],
+        _BIG * one,
+        _BIG * one,
+        j["lower"] * one,
+        j["upper"] * one,
+    )
     frame = model.addJointFrame(jid, pframe)
     model.appendBodyToJoint(jid, inertia, pin.SE3.Identity())
     return jid, pin.SE3.Identity(), model.addBodyFrame(j["child"], jid, pin.SE3.Identity(), frame)
@@ -888,4 +986,3 @@ def _add_frames(model, frames: Sequence[Mapping], file: str, where: str) -> None
         fid, body = bodies[link]
         placement = body.placement * pin.SE3(np.eye(3), xyz)
         model.addFrame(pin.Frame(name, body.parentJoint, fid, placement, pin.FrameType.OP_FRAME))
-

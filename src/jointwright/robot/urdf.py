@@ -17,7 +17,6 @@ import numpy as np
 
 from ..errors import InputError
 
-
 #: joint types of the URDF specification
 JOINT_TYPES = ("revolute", "continuous", "prismatic", "fixed", "floating", "planar")
 
@@ -78,25 +77,49 @@ def _strip_floating_root(root, file: str) -> str | None:
         return None
     if len(floating) > 1:
         names = ", ".join(e.get("name") or "?" for e in floating)
-        raise InputError(file, "urdf.joint", f"declares {len(floating)} floating joints ({names}); "
-                         "a robot has one floating base")
+        raise InputError(
+            file,
+            "urdf.joint",
+            f"declares {len(floating)} floating joints ({names}); a robot has one floating base",
+        )
     joint = floating[0]
     name = joint.get("name") or "?"
     parent = joint.find("parent").get("link")
     children = {e.find("child").get("link") for e in root.findall("joint")}
     where = f"urdf.joint[{name}]"
     if parent in children:
-        raise InputError(file, where, "a floating joint must leave the root link of the tree "
-                         "(it stands for the free motion of the whole robot)")
-    others = [e for e in root.findall("joint") if e is not joint and e.find("parent").get("link") == parent]
+        raise InputError(
+            file,
+            where,
+            "a floating joint must leave the root link of the tree "
+            "(it stands for the free motion of the whole robot)",
+        )
+    others = [
+        e
+        for e in root.findall("joint")
+        if e is not joint and e.find("parent").get("link") == parent
+    ]
     if others:
-        raise InputError(file, where, f"the root link {parent!r} of the floating joint carries "
-                         f"other joints too ({others[0].get('name')}); it must hold only the floating joint")
+        raise InputError(
+            file,
+            where,
+            f"the root link {parent!r} of the floating joint carries "
+            f"other joints too ({others[0].get('name')}); it must hold only the floating joint",
+        )
     link = next(e for e in root.findall("link") if e.get("name") == parent)
     mass = link.find("inertial/mass")
-    if mass is not None and _urdf_numbers(mass.get("value", "0"), 1, file, f"urdf.link[{parent}].inertial.mass.value")[0] > 0:
-        raise InputError(file, f"urdf.link[{parent}].inertial", "the root link of a floating joint "
-                         "must be massless (it stands for the world)")
+    if (
+        mass is not None
+        and _urdf_numbers(
+            mass.get("value", "0"), 1, file, f"urdf.link[{parent}].inertial.mass.value"
+        )[0]
+        > 0
+    ):
+        raise InputError(
+            file,
+            f"urdf.link[{parent}].inertial",
+            "the root link of a floating joint must be massless (it stands for the world)",
+        )
     root.remove(joint)
     root.remove(link)
     return name
@@ -121,13 +144,20 @@ def check_urdf_text(text: str, file: str):
             origin = part.find("origin")
             for key in ("xyz", "rpy"):
                 if origin is not None and origin.get(key) is not None:
-                    _urdf_numbers(origin.get(key), 3, file,
-                                  f"urdf.link[{link.get('name')}].{part.tag}.origin.{key}")
+                    _urdf_numbers(
+                        origin.get(key),
+                        3,
+                        file,
+                        f"urdf.link[{link.get('name')}].{part.tag}.origin.{key}",
+                    )
     for e in root.findall("joint"):
         name = e.get("name") or "?"
         if e.get("type") not in JOINT_TYPES:
-            raise InputError(file, f"urdf.joint[{name}].type", f"must be one of "
-                             f"{', '.join(JOINT_TYPES)}; got {e.get('type')!r}")
+            raise InputError(
+                file,
+                f"urdf.joint[{name}].type",
+                f"must be one of {', '.join(JOINT_TYPES)}; got {e.get('type')!r}",
+            )
         origin = e.find("origin")
         if origin is not None:
             for key in ("xyz", "rpy"):
@@ -154,9 +184,13 @@ def check_urdf_text(text: str, file: str):
                         raise InputError(file, f"{where}.{key}", f"must be >= 0, got {v:g}")
         axis = e.find("axis")
         if axis is not None and e.get("type") in ("revolute", "continuous", "prismatic"):
-            values = _urdf_numbers(axis.get("xyz", "1 0 0"), 3, file, f"urdf.joint[{name}].axis.xyz")
+            values = _urdf_numbers(
+                axis.get("xyz", "1 0 0"), 3, file, f"urdf.joint[{name}].axis.xyz"
+            )
             if not np.linalg.norm(values) > 0:
-                raise InputError(file, f"urdf.joint[{name}].axis.xyz", "must not be the zero vector")
+                raise InputError(
+                    file, f"urdf.joint[{name}].axis.xyz", "must not be the zero vector"
+                )
     for e in root.findall("link"):
         inertial = e.find("inertial")
         if inertial is None:
@@ -170,11 +204,21 @@ def check_urdf_text(text: str, file: str):
         inertia = inertial.find("inertia")
         if inertia is not None:
             keys = ("ixx", "ixy", "ixz", "iyy", "iyz", "izz")
-            v = {k: _urdf_numbers(inertia.get(k, "0"), 1, file, f"{where}.inertia.{k}")[0] for k in keys}
-            tensor = np.array([[v["ixx"], v["ixy"], v["ixz"]], [v["ixy"], v["iyy"], v["iyz"]],
-                               [v["ixz"], v["iyz"], v["izz"]]])
+            v = {
+                k: _urdf_numbers(inertia.get(k, "0"), 1, file, f"{where}.inertia.{k}")[0]
+                for k in keys
+            }
+            tensor = np.array(
+                [
+                    [v["ixx"], v["ixy"], v["ixz"]],
+                    [v["ixy"], v["iyy"], v["iyz"]],
+                    [v["ixz"], v["iyz"], v["izz"]],
+                ]
+            )
             if np.linalg.eigvalsh(tensor).min() < -1e-12 * max(1.0, np.abs(tensor).max()):
-                raise InputError(file, f"{where}.inertia", "must be positive semidefinite (a physical inertia)")
+                raise InputError(
+                    file, f"{where}.inertia", "must be positive semidefinite (a physical inertia)"
+                )
     return root
 
 

@@ -36,8 +36,11 @@ class DutyBound:
 
     def __init__(self, evaluator, table):
         self.table = table
-        self.cases = [(pd, pd.case.limits["rating_use_max"]) for pd in evaluator.duty
-                      if "rating_use_max" in pd.case.limits]
+        self.cases = [
+            (pd, pd.case.limits["rating_use_max"])
+            for pd in evaluator.duty
+            if "rating_use_max" in pd.case.limits
+        ]
 
     def __bool__(self) -> bool:
         return bool(self.cases)
@@ -45,10 +48,15 @@ class DutyBound:
     def lower_bound(self, pd, j: int, options: np.ndarray, tau_lo: np.ndarray, tau_hi: np.ndarray):
         """Lower bound (K,) on joint j's rating use with options (K,) and τ_j within [τ_lo, τ_hi] (K, T)."""
         r = self.table.rows
-        n, ef, eb, ir = (r[k][options][:, None] for k in ("ratio", "eta_forward", "eta_backward", "rotor_inertia"))
+        n, ef, eb, ir = (
+            r[k][options][:, None]
+            for k in ("ratio", "eta_forward", "eta_backward", "rotor_inertia")
+        )
         qd, qdd, t = pd.qd[j], pd.qdd[j], pd.trajectory.t
-        vals = [motor_torque_linear(x, qd, qdd, n, ef, eb, ir)
-                for x in (tau_lo, np.clip(0.0, tau_lo, tau_hi), tau_hi)]
+        vals = [
+            motor_torque_linear(x, qd, qdd, n, ef, eb, ir)
+            for x in (tau_lo, np.clip(0.0, tau_lo, tau_hi), tau_hi)
+        ]
         lo_v = np.minimum(np.minimum(vals[0], vals[1]), vals[2])
         hi_v = np.maximum(np.maximum(vals[0], vals[1]), vals[2])
         least = np.where((lo_v <= 0) & (hi_v >= 0), 0.0, np.minimum(np.abs(lo_v), np.abs(hi_v)))
@@ -58,7 +66,10 @@ class DutyBound:
         sq = np.where(same, (a * a + a * b + b * b) / 3.0, (a * a + b * b) / 6.0)
         h = np.diff(t)
         rms = np.sqrt(np.sum(sq * h, axis=-1) / (t[-1] - t[0]))
-        use = np.maximum(rms / r["motor_continuous_torque"][options], least.max(axis=-1) / r["motor_peak_torque"][options])
+        use = np.maximum(
+            rms / r["motor_continuous_torque"][options],
+            least.max(axis=-1) / r["motor_peak_torque"][options],
+        )
         speed = np.max(np.abs(n * qd), axis=-1) / r["motor_max_speed"][options]
         return np.maximum(use, speed)
 
@@ -71,13 +82,23 @@ class DutyBound:
         F = [k for k in range(idx.size) if idx[k] < 0 and k not in unit]
         for pd, limit in self.cases:
             tm = pd.tau_mass  # (n_act, n, T)
-            base = pd.tau_links + np.einsum("k,knt->nt", mass[idx[A]], tm[A]) if A else pd.tau_links.copy()
-            lo_f = np.minimum(st["mmin"][F, None, None] * tm[F], st["mmax"][F, None, None] * tm[F]).sum(axis=0)
-            hi_f = np.maximum(st["mmin"][F, None, None] * tm[F], st["mmax"][F, None, None] * tm[F]).sum(axis=0)
+            base = (
+                pd.tau_links + np.einsum("k,knt->nt", mass[idx[A]], tm[A])
+                if A
+                else pd.tau_links.copy()
+            )
+            lo_f = np.minimum(
+                st["mmin"][F, None, None] * tm[F], st["mmax"][F, None, None] * tm[F]
+            ).sum(axis=0)
+            hi_f = np.maximum(
+                st["mmin"][F, None, None] * tm[F], st["mmax"][F, None, None] * tm[F]
+            ).sum(axis=0)
             add = mass[options][:, None, None] * tm[unit].sum(axis=0)  # (K, n, T)
             touched = set(unit) | {k for k in A if np.any(tm[unit][:, k] != 0)}
             for j in sorted(touched):
                 opts = options if j in unit else np.full(K, idx[j])
-                lb = self.lower_bound(pd, j, opts, base[j] + lo_f[j] + add[:, j], base[j] + hi_f[j] + add[:, j])
+                lb = self.lower_bound(
+                    pd, j, opts, base[j] + lo_f[j] + add[:, j], base[j] + hi_f[j] + add[:, j]
+                )
                 keep &= lb <= limit * (1 + 1e-9) + 1e-12
         return keep

@@ -26,11 +26,12 @@ def combinations(options: list[np.ndarray], start: int, stop: int) -> np.ndarray
     sizes = [o.size for o in options]
     flat = np.arange(start, stop)
     cols = np.unravel_index(flat, sizes)
-    return np.stack([o[c] for o, c in zip(options, cols)], axis=1)
+    return np.stack([o[c] for o, c in zip(options, cols, strict=True)], axis=1)
 
 
-def enumerate_all(model: SizingModel, options: list[np.ndarray] | None = None, *,
-                  limit: int = MAX_DESIGNS) -> SolveOutcome:
+def enumerate_all(
+    model: SizingModel, options: list[np.ndarray] | None = None, *, limit: int = MAX_DESIGNS
+) -> SolveOutcome:
     """Best design over every combination of ``options`` (default: the model's candidates);
     refuses more than ``limit`` designs."""
     start_time = time.perf_counter()
@@ -46,7 +47,21 @@ def enumerate_all(model: SizingModel, options: list[np.ndarray] | None = None, *
                 best = key
     seconds = time.perf_counter() - start_time
     if best is None:
-        return SolveOutcome("infeasible", None, -math.inf, -math.inf, seconds,
-                            f"{total} designs, none feasible", total)
-    return SolveOutcome("optimal", np.array(best[3]), best[0], best[0], seconds,
-                        f"{total} designs enumerated", total)
+        return SolveOutcome(
+            "infeasible",
+            None,
+            -math.inf,
+            -math.inf,
+            seconds,
+            f"{total} designs, none feasible",
+            total,
+        )
+    return SolveOutcome(
+        "optimal",
+        np.array(best[3]),
+        best[0],
+        best[0],
+        seconds,
+        f"{total} designs enumerated",
+        total,
+    )

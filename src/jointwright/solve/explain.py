@@ -21,8 +21,10 @@ DIAGNOSIS_BUDGET = 90.0
 def binding(assessment, count: int = 3) -> tuple[str, ...]:
     """Labels of the requirements with the smallest margins (the ones that decide the design)."""
     rows = sorted((c for c in assessment.checks if math.isfinite(c.margin)), key=lambda c: c.margin)
-    return tuple(f"{c.subject}: {c.requirement.replace('_', ' ')} (margin {100 * c.margin:+.1f} %)"
-                 for c in rows[:count])
+    return tuple(
+        f"{c.subject}: {c.requirement.replace('_', ' ')} (margin {100 * c.margin:+.1f} %)"
+        for c in rows[:count]
+    )
 
 
 def _stack_kind(a) -> str:
@@ -60,7 +62,9 @@ def _evaluate(model, full_idx: np.ndarray, costly: bool):
     return ok & s.feasible, s.objective, margins, cl
 
 
-def alternatives(project, model, index: np.ndarray, value: float, deadline=None) -> tuple[Alternative, ...]:
+def alternatives(
+    project, model, index: np.ndarray, value: float, deadline=None
+) -> tuple[Alternative, ...]:
     """Per joint, or per shared group changed as a whole, the best design with it given another
     motor or another stage type, the rest of the design kept.
 
@@ -90,11 +94,11 @@ def alternatives(project, model, index: np.ndarray, value: float, deadline=None)
         # screen every candidate (static cases), in chunks
         scr_ok, scr_f = np.zeros(cand.size, bool), np.full(cand.size, -np.inf)
         for a in range(0, cand.size, SCREEN_CHUNK):
-            part = cand[a:a + SCREEN_CHUNK]
+            part = cand[a : a + SCREEN_CHUNK]
             full = np.broadcast_to(index, (part.size, model.n)).copy()
             full[:, ulist] = part[:, None]
             ok, f, _m, _cl = _evaluate(model, full, False)
-            scr_ok[a:a + part.size], scr_f[a:a + part.size] = ok, f
+            scr_ok[a : a + part.size], scr_f[a : a + part.size] = ok, f
             if deadline is not None and time.perf_counter() > deadline:
                 break
         groups = {}
@@ -155,8 +159,10 @@ def alternatives(project, model, index: np.ndarray, value: float, deadline=None)
         shown_motor = len([p for p in picks["other motor"] if p[2] is not None])
         for key, opts in sorted(missing.items()):
             change = key[0]
-            if change == "other motor" and shown_motor + len(
-                    [p for p in picks[change] if p[2] is None]) >= MOTORS_SHOWN:
+            if (
+                change == "other motor"
+                and shown_motor + len([p for p in picks[change] if p[2] is None]) >= MOTORS_SHOWN
+            ):
                 continue
             if deadline is not None and time.perf_counter() > deadline:
                 break
@@ -168,7 +174,7 @@ def alternatives(project, model, index: np.ndarray, value: float, deadline=None)
                 o_pos = int(margins.min(axis=0).argmax())
                 why = cl[int(margins[:, o_pos].argmin())].label()
                 if margins[:, o_pos].min() >= -1e-12 and costly:  # it misses a duty or stance case
-                    _ok, _f, m_full, cl_full = _evaluate(model, full[o_pos:o_pos + 1], True)
+                    _ok, _f, m_full, cl_full = _evaluate(model, full[o_pos : o_pos + 1], True)
                     why = cl_full[int(m_full[:, 0].argmin())].label() if cl_full else None
             else:
                 o_pos, why = 0, None
@@ -178,9 +184,17 @@ def alternatives(project, model, index: np.ndarray, value: float, deadline=None)
             rows.sort(key=lambda p: (p[2] is None, -(p[2] or 0.0), p[1]))
             for _key, o, fo, why in rows[: MOTORS_SHOWN if change == "other motor" else len(rows)]:
                 dmass = len(unit) * float(model.mass[o] - model.mass[int(index[unit[0]])])
-                out.append(Alternative(label, table.actuators[o].label(), change,
-                                       None if fo is None else sense * fo,
-                                       None if fo is None else (value - fo), why, dmass))
+                out.append(
+                    Alternative(
+                        label,
+                        table.actuators[o].label(),
+                        change,
+                        None if fo is None else sense * fo,
+                        None if fo is None else (value - fo),
+                        why,
+                        dmass,
+                    )
+                )
     return tuple(out)
 
 
@@ -216,8 +230,12 @@ def relax(project, subject: str, key: str):
         if key in [f.name for f in dataclasses.fields(JointLimits)]:
             req = dataclasses.replace(project.requirements, joints=joints)
             return dataclasses.replace(project, requirements=req)
-    cases = tuple(dataclasses.replace(c, limits={k: v for k, v in c.limits.items() if k != key})
-                  if c.name == subject else c for c in project.cases)
+    cases = tuple(
+        dataclasses.replace(c, limits={k: v for k, v in c.limits.items() if k != key})
+        if c.name == subject
+        else c
+        for c in project.cases
+    )
     return dataclasses.replace(project, cases=cases)
 
 
@@ -227,20 +245,32 @@ def _alone(project, model, subject, key, limit, seconds) -> float:
 
     r = model.table.rows
     if subject == "robot":
-        return sum(float(r["mass" if key == "total_mass_max" else "cost"].min()) for _ in range(model.n))
+        return sum(
+            float(r["mass" if key == "total_mass_max" else "cost"].min()) for _ in range(model.n)
+        )
     if key in [f.name for f in dataclasses.fields(JointLimits)]:
-        values = {"mass_max": r["mass"], "reflected_inertia_max": model.reflected,
-                  "diameter_max": r["diameter"], "length_max": r["length"], "ratio_min": r["ratio"],
-                  "ratio_max": r["ratio"]}[key]
+        values = {
+            "mass_max": r["mass"],
+            "reflected_inertia_max": model.reflected,
+            "diameter_max": r["diameter"],
+            "length_max": r["length"],
+            "ratio_min": r["ratio"],
+            "ratio_max": r["ratio"],
+        }[key]
         return float(values.max() if key == "ratio_min" else values.min())
     case = project.case(subject)
     if key == "payload_min":
-        bare = dataclasses.replace(project, cases=(dataclasses.replace(case, limits={}),),
-                                   requirements=Requirements(), objective={})
+        bare = dataclasses.replace(
+            project,
+            cases=(dataclasses.replace(case, limits={}),),
+            requirements=Requirements(),
+            objective={},
+        )
         if seconds <= 0:
             return math.nan
-        one = dataclasses.replace(bare, cases=(dataclasses.replace(case, limits={}, fixed_load=0.0,
-                                                                  payload_share=1.0),))
+        one = dataclasses.replace(
+            bare, cases=(dataclasses.replace(case, limits={}, fixed_load=0.0, payload_share=1.0),)
+        )
         res = solve_value(one, "payload", table=model.table, time_limit=seconds)
         return res.bound * STANDARD_GRAVITY  # kg carried with share 1, no fixed load -> N
     if key == "backdrive_force_max":
@@ -272,8 +302,13 @@ def diagnose(project, model, kind: str, time_limit, deadline=None) -> tuple[Diag
     if deadline is not None and time_limit is not None:  # a time limit bounds the whole run
         budget_end = min(budget_end, deadline)
     sense_ = -1.0 if kind == "mass" else 1.0
-    sense = {"payload_min": "min", "imf_min": "min", "directional_imf_min": "min", "speed_min": "min",
-             "ratio_min": "min"}
+    sense = {
+        "payload_min": "min",
+        "imf_min": "min",
+        "directional_imf_min": "min",
+        "speed_min": "min",
+        "ratio_min": "min",
+    }
     out = []
     for i, (subject, key, limit) in enumerate(reqs):
         share = (budget_end - time.perf_counter()) / (2 * (len(reqs) - i))
@@ -286,12 +321,19 @@ def diagnose(project, model, kind: str, time_limit, deadline=None) -> tuple[Diag
             short = (limit - best) / scale
         else:
             short = (best - limit) / scale
-        seconds = min(DIAGNOSIS_SECONDS, max((budget_end - time.perf_counter()) / (2 * (len(reqs) - i) - 1), 0.0))
+        seconds = min(
+            DIAGNOSIS_SECONDS,
+            max((budget_end - time.perf_counter()) / (2 * (len(reqs) - i) - 1), 0.0),
+        )
         rel, proven = None, False
         if seconds > 0:
-            res = solve_value(relax(project, subject, key), kind, table=model.table, time_limit=seconds)
+            res = solve_value(
+                relax(project, subject, key), kind, table=model.table, time_limit=seconds
+            )
             proven = res.status in ("optimal", "infeasible")
             if res.index is not None:
                 rel = sense_ * (res.objective if proven else res.bound)
-        out.append(Diagnosis(f"{subject}: {key.replace('_', ' ')}", limit, best, short, rel, proven))
+        out.append(
+            Diagnosis(f"{subject}: {key.replace('_', ' ')}", limit, best, short, rel, proven)
+        )
     return tuple(out)

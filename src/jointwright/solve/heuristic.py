@@ -64,8 +64,14 @@ def _order(ok, f, mass, viol) -> np.ndarray:
 class Heuristic:
     """First incumbent for the exact search; see the module docstring."""
 
-    def __init__(self, model: SizingModel, units: list[tuple], deadline: float, seed: int = 0,
-                 extend: bool = False):
+    def __init__(
+        self,
+        model: SizingModel,
+        units: list[tuple],
+        deadline: float,
+        seed: int = 0,
+        extend: bool = False,
+    ):
         """``extend``: keep sampling until half the time to ``deadline`` is used (a run with a
         time limit); otherwise a fixed number of samples."""
         self.model = model
@@ -132,7 +138,9 @@ class Heuristic:
         st = st if st is not None else model.stats(model.candidates)
         order = search_order(model, self.units)
         root = np.full(model.n, -1, dtype=np.int64)
-        top = model.child_bounds(root, order[0], self.options[self.units.index(order[0])], st)["objective"]
+        top = model.child_bounds(root, order[0], self.options[self.units.index(order[0])], st)[
+            "objective"
+        ]
         hi = float(top.max()) if top.size else 0.0
         lo = 0.0
         if not math.isfinite(hi) or hi <= 0:
@@ -147,7 +155,11 @@ class Heuristic:
                 continue
             before = self.best
             self.offer(idx[None, :])
-            if self.best is not None and self.best is not before and self.best[0] >= level * (1 - 1e-9):
+            if (
+                self.best is not None
+                and self.best is not before
+                and self.best[0] >= level * (1 - 1e-9)
+            ):
                 lo = max(lo, self.best[0])
             else:
                 hi = level
@@ -178,15 +190,22 @@ class Heuristic:
             ok, f, mass, viol = _merit(model, index)
             order = _order(ok, f, mass, viol)
             # scored in full already when blind: only the batch's best is offered (re-scored)
-            self.offer(index[order[:1 if blind else 32]])
-            pool.append((index[order[:starts]], ok[order[:starts]], f[order[:starts]],
-                         mass[order[:starts]], viol[order[:starts]]))
+            self.offer(index[order[: 1 if blind else 32]])
+            pool.append(
+                (
+                    index[order[:starts]],
+                    ok[order[:starts]],
+                    f[order[:starts]],
+                    mass[order[:starts]],
+                    viol[order[:starts]],
+                )
+            )
         if pool:
             idx_all, *merit = (np.concatenate(x) for x in zip(*pool, strict=True))
             pool = list(idx_all[_order(*merit)[:starts]])
         if self.best is not None:
             pool.insert(0, np.array(self.best[3]))
-        for start in pool[:starts + 1]:
+        for start in pool[: starts + 1]:
             if self.out_of_time():
                 break
             self.improve(np.array(start))
@@ -203,8 +222,9 @@ class Heuristic:
                     return
                 cap = MOVE_OPTIONS_FULL if blind_screen(model) else MOVE_OPTIONS
                 if opts.size > cap:
-                    opts = np.unique(np.concatenate([self.rng.choice(opts, cap, replace=False),
-                                                     [index[u[0]]]]))
+                    opts = np.unique(
+                        np.concatenate([self.rng.choice(opts, cap, replace=False), [index[u[0]]]])
+                    )
                 trial = np.broadcast_to(index, (opts.size, model.n)).copy()
                 trial[:, list(u)] = opts[:, None]
                 ok, f, mass, viol = _merit(model, trial)

@@ -85,20 +85,26 @@ class SizingModel:
         self.evaluator = Evaluator(project)
         impact = tuple(c for c in project.cases if c.kind == "impact")
         self.impact_cases = impact
-        self.impact_evaluator = Evaluator(dataclasses.replace(project, cases=impact)) if impact else None
+        self.impact_evaluator = (
+            Evaluator(dataclasses.replace(project, cases=impact)) if impact else None
+        )
         # duty cases set no objective; only those with a limit take part in the search
         self.duty = tuple(c for c in project.cases if c.kind == "duty" and c.limits)
         # stance cases (a cone program per design) are checked lazily like duty cycles; their
         # payload joins the objective only there, so the screen's objective is an upper bound
         self.stance = tuple(c for c in project.cases if c.kind == "stance")
         self.static_project = dataclasses.replace(
-            project, cases=tuple(c for c in project.cases if c.kind not in ("duty", "stance")))
+            project, cases=tuple(c for c in project.cases if c.kind not in ("duty", "stance"))
+        )
         self.static_evaluator = Evaluator(self.static_project)
-        self.payload = tuple(self._payload_terms(pc) for pc in self.evaluator.cases
-                             if pc.case.kind == "payload")
+        self.payload = tuple(
+            self._payload_terms(pc) for pc in self.evaluator.cases if pc.case.kind == "payload"
+        )
         # the payload objective is the payload mass every case carries: each case's force bound
         # goes through its own increasing transform (problem.carried_payload) before the min
-        self.carry = tuple(lambda f, c=project.case(t.name): carried_payload(c, f) for t in self.payload)
+        self.carry = tuple(
+            lambda f, c=project.case(t.name): carried_payload(c, f) for t in self.payload
+        )
         self.candidates = [np.asarray(c, dtype=np.int64) for c in candidates]
         self.reflected = table.reflected_backdriven
         self.mass = table.rows["mass"]
@@ -107,9 +113,13 @@ class SizingModel:
         self.backdrive = tuple(
             (np.abs(pc.Jj.T @ (pc.u / np.linalg.norm(pc.u))), pc.case.limits["backdrive_force_max"])
             for pc in self.evaluator.cases
-            if pc.case.kind == "backdrive" and "backdrive_force_max" in pc.case.limits)
+            if pc.case.kind == "backdrive" and "backdrive_force_max" in pc.case.limits
+        )
         self.effective_mass_limits = tuple(
-            (c.name, c.limits["effective_mass_max"]) for c in impact if "effective_mass_max" in c.limits)
+            (c.name, c.limits["effective_mass_max"])
+            for c in impact
+            if "effective_mass_max" in c.limits
+        )
         from .duty_bound import DutyBound
 
         self.duty_bound = DutyBound(self.evaluator, table)
@@ -132,9 +142,14 @@ class SizingModel:
         lo, hi = torque_bounds(np.broadcast_to(sign, (O, self.n)), cap_m, cap_b)
         vi = np.asarray(pc.basis.v_index)
         return PayloadTerms(
-            name=pc.case.name, a=pc.Jj.T @ (pc.u / np.linalg.norm(pc.u)), g0=np.asarray(pc.basis.g0)[vi],
-            G=np.asarray(pc.basis.g_mass)[:, vi], lo=np.asarray(lo).T.copy(),
-            hi=np.asarray(hi).T.copy(), minimum=float(pc.case.limits.get("payload_min", 0.0)))
+            name=pc.case.name,
+            a=pc.Jj.T @ (pc.u / np.linalg.norm(pc.u)),
+            g0=np.asarray(pc.basis.g0)[vi],
+            G=np.asarray(pc.basis.g_mass)[:, vi],
+            lo=np.asarray(lo).T.copy(),
+            hi=np.asarray(hi).T.copy(),
+            minimum=float(pc.case.limits.get("payload_min", 0.0)),
+        )
 
     # ------------------------------------------------------------------------------------------
     def score(self, index: np.ndarray, *, full: bool = True) -> Scored:
@@ -143,20 +158,27 @@ class SizingModel:
         index = np.atleast_2d(np.asarray(index, dtype=np.int64))
         return self.score_arrays(self.table.arrays(index), index, full=full)
 
-    def score_arrays(self, arrays, index: np.ndarray, *, full: bool = True, evaluation=None) -> Scored:
+    def score_arrays(
+        self, arrays, index: np.ndarray, *, full: bool = True, evaluation=None
+    ) -> Scored:
         """:meth:`score` for designs given as DesignArrays (``index`` only labels them);
         ``evaluation``: the matching evaluator output when the caller has it already."""
         full = full and bool(self.duty or self.stance)
         project = self.project if full else self.static_project
-        ev = evaluation if evaluation is not None else (
-            self.evaluator if full else self.static_evaluator).evaluate(arrays, detail=False)
+        ev = (
+            evaluation
+            if evaluation is not None
+            else (self.evaluator if full else self.static_evaluator).evaluate(arrays, detail=False)
+        )
         ok = feasible(checks(project, arrays, ev), index.shape[0])
         for group in self.shared:
             ok &= np.all(index[:, list(group)] == index[:, [group[0]]], axis=1)
         if self.measure is not None:
             metric, case, sign = self.measure
             f = sign * np.asarray(ev[case][metric], dtype=float)
-        elif self.kind == "payload" and not any(c.kind in ("payload", "stance") for c in project.cases):
+        elif self.kind == "payload" and not any(
+            c.kind in ("payload", "stance") for c in project.cases
+        ):
             f = np.full(index.shape[0], np.inf)  # screen without stance cases: no payload bound yet
         else:
             f = np.asarray(objective(project, arrays, ev, self.kind), dtype=float)
@@ -201,7 +223,9 @@ class SizingModel:
                     r = self.best(dataclasses.replace(s, feasible=done, objective=f))
                     best = self.key(current, r)
                 return best, float(f[left].max())
-            todo = [row] + [r for r in order if ok[r] and not known[r] and r != row][:DUTY_CHUNK - 1]
+            todo = [row] + [r for r in order if ok[r] and not known[r] and r != row][
+                : DUTY_CHUNK - 1
+            ]
             verdict = self.score(s.index[todo])
             known[todo] = True
             ok[todo] = verdict.feasible
@@ -242,22 +266,34 @@ class SizingModel:
         return tuple(a[3]) < tuple(b[3])
 
     def key(self, s: Scored, row: int) -> tuple:
-        return (float(s.objective[row]), float(s.mass[row]), float(s.reflected[row]),
-                tuple(int(v) for v in s.index[row]))
+        return (
+            float(s.objective[row]),
+            float(s.mass[row]),
+            float(s.reflected[row]),
+            tuple(int(v) for v in s.index[row]),
+        )
 
     # --- bounds over partial designs -----------------------------------------------------------
     def stats(self, candidates) -> dict:
         """Per joint, extremes over its candidate options (what an unassigned joint can reach)."""
+
         def ext(values, fn):
             return np.array([fn(values[c]) if c.size else np.nan for c in candidates])
+
         out = {
-            "mmin": ext(self.mass, np.min), "mmax": ext(self.mass, np.max),
-            "cmin": ext(self.cost, np.min), "rmin": ext(self.reflected, np.min),
+            "mmin": ext(self.mass, np.min),
+            "mmax": ext(self.mass, np.max),
+            "cmin": ext(self.cost, np.min),
+            "rmin": ext(self.reflected, np.min),
             "bmin": ext(self.breakaway, np.min),
-            "hi": [np.array([t.hi[j, c].max() if c.size else np.nan for j, c in enumerate(candidates)])
-                   for t in self.payload],
-            "lo": [np.array([t.lo[j, c].min() if c.size else np.nan for j, c in enumerate(candidates)])
-                   for t in self.payload],
+            "hi": [
+                np.array([t.hi[j, c].max() if c.size else np.nan for j, c in enumerate(candidates)])
+                for t in self.payload
+            ],
+            "lo": [
+                np.array([t.lo[j, c].min() if c.size else np.nan for j, c in enumerate(candidates)])
+                for t in self.payload
+            ],
             "reach": [self._reach_front(j, c) for j, c in enumerate(candidates)],
         }
         out["own"] = [self._own_bounds(j, c, out) for j, c in enumerate(candidates)]
@@ -271,16 +307,26 @@ class SizingModel:
             return None
         own = np.full(cands.size, np.inf)
         for c, t in enumerate(self.payload):
-            lo_b = t.g0[j] + np.minimum(st["mmin"][:, None] * t.G, st["mmax"][:, None] * t.G).sum(axis=0)[j]
-            hi_b = t.g0[j] + np.maximum(st["mmin"][:, None] * t.G, st["mmax"][:, None] * t.G).sum(axis=0)[j]
+            lo_b = (
+                t.g0[j]
+                + np.minimum(st["mmin"][:, None] * t.G, st["mmax"][:, None] * t.G).sum(axis=0)[j]
+            )
+            hi_b = (
+                t.g0[j]
+                + np.maximum(st["mmin"][:, None] * t.G, st["mmax"][:, None] * t.G).sum(axis=0)[j]
+            )
             a = t.a[j]
             if a > 0:
                 own = np.minimum(own, self.case_value(c, (t.hi[j, cands] - lo_b) / a))
             elif a < 0:
                 own = np.minimum(own, self.case_value(c, (t.lo[j, cands] - hi_b) / a))
         order = np.argsort(-own, kind="stable")
-        return (own[order], np.minimum.accumulate(self.mass[cands][order]),
-                np.minimum.accumulate(self.cost[cands][order]), self.mass[cands][order])
+        return (
+            own[order],
+            np.minimum.accumulate(self.mass[cands][order]),
+            np.minimum.accumulate(self.cost[cands][order]),
+            self.mass[cands][order],
+        )
 
     def useful_mmin(self, st: dict, floor: float | None) -> np.ndarray:
         """Least mass per joint over the options that can still reach objective ``floor``."""
@@ -307,7 +353,11 @@ class SizingModel:
         cols = []
         for t in self.payload:
             a = t.a[j]
-            cols.append(t.hi[j, cands] if a > 0 else (t.lo[j, cands] if a < 0 else np.full(cands.size, np.inf)))
+            cols.append(
+                t.hi[j, cands]
+                if a > 0
+                else (t.lo[j, cands] if a < 0 else np.full(cands.size, np.inf))
+            )
         R = np.stack(cols, axis=1)
         signs = np.array([1.0 if t.a[j] >= 0 else -1.0 for t in self.payload])
         good = R * signs  # larger is better in every column
@@ -326,8 +376,14 @@ class SizingModel:
             block = np.vstack([block[keep], g[None, :]])
         return R[np.array(front, dtype=int)]
 
-    def child_bounds(self, idx: np.ndarray, unit: tuple, options: np.ndarray, st: dict,
-                     floor: float | None = None) -> dict:
+    def child_bounds(
+        self,
+        idx: np.ndarray,
+        unit: tuple,
+        options: np.ndarray,
+        st: dict,
+        floor: float | None = None,
+    ) -> dict:
         """Bounds for giving the joints of ``unit`` each option in ``options`` (K,).
 
         ``idx`` (n,) holds the option of every assigned joint and −1 elsewhere; ``st`` the
@@ -349,10 +405,16 @@ class SizingModel:
         A, F = np.flatnonzero(assigned), np.flatnonzero(free)
         if not np.all(np.isfinite(st["mmin"][F])):  # a free joint cannot reach the floor
             none = np.zeros(K, dtype=bool)
-            return {"objective": np.full(K, -np.inf), "mass": np.full(K, np.inf),
-                    "reflected": np.full(K, np.inf), "ok": none}
+            return {
+                "objective": np.full(K, -np.inf),
+                "mass": np.full(K, np.inf),
+                "reflected": np.full(K, np.inf),
+                "ok": none,
+            }
         mass_lb = self.mass[idx[A]].sum() + st["mmin"][F].sum() + len(unit) * self.mass[options]
-        refl_lb = self.reflected[idx[A]].sum() + st["rmin"][F].sum() + len(unit) * self.reflected[options]
+        refl_lb = (
+            self.reflected[idx[A]].sum() + st["rmin"][F].sum() + len(unit) * self.reflected[options]
+        )
         ok = (mass_lb <= self.total_mass_max * (1 + 1e-9)) & np.isfinite(mass_lb)
         if math.isfinite(self.total_cost_max):
             cost_lb = self.cost[idx[A]].sum() + st["cmin"][F].sum() + len(unit) * self.cost[options]
@@ -384,7 +446,11 @@ class SizingModel:
             pc = next(p for p in self.evaluator.cases if p.case.name == self.measure[1])
             absa = np.abs(pc.Jj.T @ (pc.u / np.linalg.norm(pc.u)))
             b = np.empty((K, n))
-            b[:, A], b[:, F], b[:, unit] = self.breakaway[idx[A]], st["bmin"][F], self.breakaway[options][:, None]
+            b[:, A], b[:, F], b[:, unit] = (
+                self.breakaway[idx[A]],
+                st["bmin"][F],
+                self.breakaway[options][:, None],
+            )
             with np.errstate(divide="ignore", invalid="ignore"):
                 f = -np.where(absa > 0, b / absa, np.inf).min(axis=1)
         elif self.measure is not None and self.measure[0] == "effective_mass":
@@ -450,8 +516,14 @@ class SizingModel:
             cache[key] = (st["own"], (levels, g_mass, g_cost))
         return levels, g_mass, g_cost
 
-    def budget_cap(self, st: dict, idx: np.ndarray | None = None, rounds: int = 3, steps: int = 40,
-                   deadline: float = math.inf) -> float:
+    def budget_cap(
+        self,
+        st: dict,
+        idx: np.ndarray | None = None,
+        rounds: int = 3,
+        steps: int = 40,
+        deadline: float = math.inf,
+    ) -> float:
         """A bound on the payload objective of every design (completion of ``idx``) that sees the
         budgets with consistent loader masses (docs/optimizer.md, item 4b).
 
@@ -462,8 +534,11 @@ class SizingModel:
         keeps [lb_k, ub_k] an interval holding joint k's mass in any design reaching f; it only
         narrows as f grows. The largest f with Σ lb ≤ total_mass_max (and likewise cost) is
         found by bisection."""
-        if self.kind != "payload" or not self.payload or not (
-                math.isfinite(self.total_mass_max) or math.isfinite(self.total_cost_max)):
+        if (
+            self.kind != "payload"
+            or not self.payload
+            or not (math.isfinite(self.total_mass_max) or math.isfinite(self.total_cost_max))
+        ):
             return math.inf
         n = self.n
         idx = np.full(n, -1, dtype=np.int64) if idx is None else idx
@@ -551,7 +626,9 @@ class SizingModel:
             room = limit * (1 + 1e-9) - fixed
             g = table[col]  # nonincreasing along the descending levels
             first = np.searchsorted(-g, -room, side="left")  # first level whose g fits the room
-            bound = np.where(first < levels.size, levels[np.minimum(first, levels.size - 1)], -np.inf)
+            bound = np.where(
+                first < levels.size, levels[np.minimum(first, levels.size - 1)], -np.inf
+            )
             # the payload is never below 0: a design of payload 0 needs no level
             out = np.minimum(out, np.maximum(bound, 0.0))
         return out
@@ -588,8 +665,13 @@ class SizingModel:
             return cannot, np.where(np.isnan(s_), np.inf, s_)
 
         # joints no child changes: one value for all children
-        c_still, s_still = ratio(hi1[still], lo1[still], b_lo[0, still] - add[0, still],
-                                 b_hi[0, still] - add[0, still], a[still])
+        c_still, s_still = ratio(
+            hi1[still],
+            lo1[still],
+            b_lo[0, still] - add[0, still],
+            b_hi[0, still] - add[0, still],
+            a[still],
+        )
         hi = np.broadcast_to(hi1[cols], (K, cols.size)).copy()
         lo = np.broadcast_to(lo1[cols], (K, cols.size)).copy()
         pos = {j: i for i, j in enumerate(cols)}
@@ -626,8 +708,14 @@ class SizingModel:
                 out = np.minimum(out, np.maximum(np.min(per, axis=0).max(axis=1), 0.0))
         return out
 
-    def costly_ok(self, idx: np.ndarray, unit: tuple, options: np.ndarray, st: dict,
-                  bounds: dict | None = None) -> np.ndarray:
+    def costly_ok(
+        self,
+        idx: np.ndarray,
+        unit: tuple,
+        options: np.ndarray,
+        st: dict,
+        bounds: dict | None = None,
+    ) -> np.ndarray:
         """The bounds that cost an oracle call or a trajectory: effective mass, then duty.
         For an effective-mass objective the objective bound in ``bounds`` is set here."""
         ok = self.effective_mass_ok(idx, unit, options, st, bounds)
@@ -645,11 +733,17 @@ class SizingModel:
 
     # --- impact mitigation bounds --------------------------------------------------------------
     def imf_limits_or_objective(self) -> bool:
-        if self.impact_evaluator is None or self.project.rotor_coupling or not self.impact_evaluator.floating:
+        if (
+            self.impact_evaluator is None
+            or self.project.rotor_coupling
+            or not self.impact_evaluator.floating
+        ):
             return False
         if self.kind == "imf" or (self.measure is not None and self.measure[0] == "imf"):
             return True
-        return any("imf_min" in c.limits or "directional_imf_min" in c.limits for c in self.impact_cases)
+        return any(
+            "imf_min" in c.limits or "directional_imf_min" in c.limits for c in self.impact_cases
+        )
 
     def impact_bounds(self, idx: np.ndarray, unit: tuple, options: np.ndarray, st: dict) -> dict:
         """Upper bounds (K,) on the IMF ξ and the directional IMF ξ_x of every impact case over
@@ -664,8 +758,13 @@ class SizingModel:
         inertia). Evaluating ξ at (A_max, B_min) bounds every completion."""
         K0 = options.size
         # children differ only in the unit's mass and reflected inertia: bound each pair once
-        pairs = np.stack([self.mass[options], np.where(np.isfinite(self.reflected[options]),
-                                                       self.reflected[options], -1.0)], axis=1)
+        pairs = np.stack(
+            [
+                self.mass[options],
+                np.where(np.isfinite(self.reflected[options]), self.reflected[options], -1.0),
+            ],
+            axis=1,
+        )
         _u, first, back = np.unique(pairs, axis=0, return_index=True, return_inverse=True)
         back = np.asarray(back).reshape(-1)
         if first.size < K0:
@@ -717,8 +816,10 @@ class SizingModel:
             xi = np.where(np.isfinite(xi), np.clip(xi, 0.0, 1.0), 1.0)
             xd = np.where(np.isfinite(xd), np.clip(xd, 0.0, 1.0), 1.0)
             # round-off: a relative slack on both
-            out[pc.case.name] = (np.minimum(xi * (1 + 1e-7) + 1e-9, 1.0),
-                                 np.minimum(xd * (1 + 1e-7) + 1e-9, 1.0))
+            out[pc.case.name] = (
+                np.minimum(xi * (1 + 1e-7) + 1e-9, 1.0),
+                np.minimum(xd * (1 + 1e-7) + 1e-9, 1.0),
+            )
         return out
 
     def impact_ok(self, idx, unit, options, st, bounds=None) -> np.ndarray:
@@ -746,8 +847,14 @@ class SizingModel:
                 bounds["objective"] = np.minimum(bounds["objective"], ub[self.measure[1]][0])
         return ok
 
-    def effective_mass_ok(self, idx: np.ndarray, unit: tuple, options: np.ndarray, st: dict,
-                          bounds: dict | None = None) -> np.ndarray:
+    def effective_mass_ok(
+        self,
+        idx: np.ndarray,
+        unit: tuple,
+        options: np.ndarray,
+        st: dict,
+        bounds: dict | None = None,
+    ) -> np.ndarray:
         """False where the effective mass with every unassigned joint at its lightest mass and
         least reflected inertia already exceeds a limit (effective mass grows with the mass
         matrix in the Loewner order, so no completion can do better). True without limits or
@@ -776,5 +883,7 @@ class SizingModel:
         for name, limit in self.effective_mass_limits:
             ok &= np.asarray(ev[name]["effective_mass"]) <= limit * (1 + 1e-9) + 1e-12
         if em_kind and bounds is not None:
-            bounds["objective"] = np.minimum(bounds["objective"], -np.asarray(ev[self.measure[1]]["effective_mass"]))
+            bounds["objective"] = np.minimum(
+                bounds["objective"], -np.asarray(ev[self.measure[1]]["effective_mass"])
+            )
         return ok

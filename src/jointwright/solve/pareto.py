@@ -55,8 +55,15 @@ def count(model: SizingModel, units: list[tuple]) -> int:
     return math.prod(o.size for o in unit_options(model, units))
 
 
-def pareto_front(model: SizingModel, units: list[tuple], case: str, metric: str, sense: str,
-                 *, deadline: float = math.inf) -> ParetoOutcome:
+def pareto_front(
+    model: SizingModel,
+    units: list[tuple],
+    case: str,
+    metric: str,
+    sense: str,
+    *,
+    deadline: float = math.inf,
+) -> ParetoOutcome:
     """Non-dominated (payload, measure) designs over every combination of the candidates.
 
     ``sense`` "min": a larger measure is better (IMF); "max": a smaller one is (effective mass,
@@ -121,8 +128,9 @@ def pareto_front(model: SizingModel, units: list[tuple], case: str, metric: str,
         # the full objective (stance payloads) can only be lower than the static bound
         p[todo] = np.where(full.feasible, np.minimum(p[todo], full.objective), p[todo])
     order = np.argsort(-p[front], kind="stable")
-    pts = tuple((float(p[k]), float(sign * m[k]), idx[k].copy(), float(mass[k]))
-                for k in front[order])
+    pts = tuple(
+        (float(p[k]), float(sign * m[k]), idx[k].copy(), float(mass[k])) for k in front[order]
+    )
     return ParetoOutcome(pts, complete, scored, time.perf_counter() - start)
 
 

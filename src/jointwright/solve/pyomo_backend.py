@@ -88,15 +88,22 @@ def build_milp(model: SizingModel, units, deadline=math.inf):
     m.torque = pe.ConstraintList()
     for t in model.payload:
         case = model.project.case(t.name)  # m.s is the payload mass (kg): the force it needs
-        levels = ([case.fixed_load + case.payload_share * STANDARD_GRAVITY * m.s]
-                  if model.kind == "payload" and case.payload_share > 0 else [])
+        levels = (
+            [case.fixed_load + case.payload_share * STANDARD_GRAVITY * m.s]
+            if model.kind == "payload" and case.payload_share > 0
+            else []
+        )
         if t.minimum > 0:
             levels.append(t.minimum)  # the case's own requirement payload_c ≥ payload_min
         for j in range(n):
             if time.perf_counter() > deadline:
                 raise _OutOfTime
-            bias = float(t.g0[j]) + sum(float(t.G[k, j] * model.mass[o]) * m.x[k, int(o)]
-                                        for k in range(n) if t.G[k, j] != 0 for o in opts[k])
+            bias = float(t.g0[j]) + sum(
+                float(t.G[k, j] * model.mass[o]) * m.x[k, int(o)]
+                for k in range(n)
+                if t.G[k, j] != 0
+                for o in opts[k]
+            )
             hi = sum(float(min(t.hi[j, o], BIG)) * m.x[j, int(o)] for o in opts[j])
             lo = sum(float(max(t.lo[j, o], -BIG)) * m.x[j, int(o)] for o in opts[j])
             if levels:  # only a case with a payload to carry needs the robot to hold itself
@@ -127,8 +134,11 @@ def cut_sets(model: SizingModel, index: np.ndarray, opts) -> list[list[np.ndarra
     from ..problem import checks
 
     arrays = model.table.arrays(index[None, :])
-    failed = {c.name for c in checks(model.project, arrays, model.evaluator.evaluate(arrays, detail=False))
-              if not c.ok[0]}
+    failed = {
+        c.name
+        for c in checks(model.project, arrays, model.evaluator.evaluate(arrays, detail=False))
+        if not c.ok[0]
+    }
     mono = not model.project.rotor_coupling
     out = []
     for name in sorted(failed) or ["shared"]:
@@ -136,9 +146,13 @@ def cut_sets(model: SizingModel, index: np.ndarray, opts) -> list[list[np.ndarra
         for j in range(model.n):
             o, cand = int(index[j]), opts[j]
             if name == "effective_mass_max" and mono:
-                keep = (model.mass[cand] >= model.mass[o]) & (model.reflected[cand] >= model.reflected[o])
+                keep = (model.mass[cand] >= model.mass[o]) & (
+                    model.reflected[cand] >= model.reflected[o]
+                )
             elif name in ("imf_min", "directional_imf_min") and mono:
-                keep = (model.mass[cand] == model.mass[o]) & (model.reflected[cand] >= model.reflected[o])
+                keep = (model.mass[cand] == model.mass[o]) & (
+                    model.reflected[cand] >= model.reflected[o]
+                )
             elif name == "backdrive_force_max":
                 keep = model.breakaway[cand] >= model.breakaway[o]
             else:
@@ -154,23 +168,43 @@ def solve_pyomo(model: SizingModel, units, *, time_limit=None, max_rounds=10_000
     from pyomo.contrib.solver.common.factory import SolverFactory
 
     if model.kind == "imf":
-        raise InputError("<api>", "backend", "the pyomo back-end handles the payload and mass objectives; "
-                         "use backend search for imf")
+        raise InputError(
+            "<api>",
+            "backend",
+            "the pyomo back-end handles the payload and mass objectives; "
+            "use backend search for imf",
+        )
     start = time.perf_counter()
     deadline = math.inf if time_limit is None else start + time_limit
     if any(c.size == 0 for c in model.candidates):
-        return SolveOutcome("infeasible", None, -math.inf, -math.inf, 0.0, "a joint has no option", 0)
+        return SolveOutcome(
+            "infeasible", None, -math.inf, -math.inf, 0.0, "a joint has no option", 0
+        )
     try:
         m, opts = build_milp(model, units, deadline)
     except _OutOfTime:
-        return SolveOutcome("time_limit", None, -math.inf, math.inf, time.perf_counter() - start,
-                            "time limit reached while building the MILP", 0)
+        return SolveOutcome(
+            "time_limit",
+            None,
+            -math.inf,
+            math.inf,
+            time.perf_counter() - start,
+            "time limit reached while building the MILP",
+            0,
+        )
     built = time.perf_counter() - start
     if deadline - time.perf_counter() < 6.0 * built:
         # handing the model to HiGHS took up to six times as long as building it (measured)
         # and cannot be interrupted: starting it now would overrun the limit
-        return SolveOutcome("time_limit", None, -math.inf, math.inf, time.perf_counter() - start,
-                            f"the MILP took {built:.0f} s to build; no time left to solve it", 0)
+        return SolveOutcome(
+            "time_limit",
+            None,
+            -math.inf,
+            math.inf,
+            time.perf_counter() - start,
+            f"the MILP took {built:.0f} s to build; no time left to solve it",
+            0,
+        )
     solver = SolverFactory("highs")
     sense = 1.0 if model.kind == "payload" else -1.0
     best, bound, rounds, native = None, math.inf, 0, ""
@@ -180,15 +214,25 @@ def solve_pyomo(model: SizingModel, units, *, time_limit=None, max_rounds=10_000
         if left <= 0:
             break
         with _quiet_stdout():
-            res = solver.solve(m, time_limit=min(left, 1e7), load_solutions=False,
-                               raise_exception_on_nonoptimal_result=False)
+            res = solver.solve(
+                m,
+                time_limit=min(left, 1e7),
+                load_solutions=False,
+                raise_exception_on_nonoptimal_result=False,
+            )
         native = str(res.termination_condition).split(".")[-1]
         if res.incumbent_objective is None:
             bound = -math.inf if "infeasible" in native.lower() else bound
             break
-        bound = min(bound, sense * float(res.objective_bound)) if res.objective_bound is not None else bound
+        bound = (
+            min(bound, sense * float(res.objective_bound))
+            if res.objective_bound is not None
+            else bound
+        )
         res.solution_loader.load_vars()
-        index = np.array([next(int(o) for o in opts[j] if m.x[j, int(o)].value > 0.5) for j in range(model.n)])
+        index = np.array(
+            [next(int(o) for o in opts[j] if m.x[j, int(o)].value > 0.5) for j in range(model.n)]
+        )
         key = model.best_key(index[None, :])
         if key is not None and model.better(key, best):
             best = key
@@ -200,7 +244,16 @@ def solve_pyomo(model: SizingModel, units, *, time_limit=None, max_rounds=10_000
     proven = best is not None and best[0] >= bound - tie_tol(bound)
     if best is None:
         status = "infeasible" if bound == -math.inf else "time_limit"
-        return SolveOutcome(status, None, -math.inf, bound, seconds, f"{native}, {rounds} MILP solves", rounds)
+        return SolveOutcome(
+            status, None, -math.inf, bound, seconds, f"{native}, {rounds} MILP solves", rounds
+        )
     status = "optimal" if proven else "time_limit"
-    return SolveOutcome(status, np.array(best[3]), best[0], max(bound, best[0]) if not proven else best[0],
-                        seconds, f"HiGHS {native}, {rounds} MILP solves", rounds)
+    return SolveOutcome(
+        status,
+        np.array(best[3]),
+        best[0],
+        max(bound, best[0]) if not proven else best[0],
+        seconds,
+        f"HiGHS {native}, {rounds} MILP solves",
+        rounds,
+    )

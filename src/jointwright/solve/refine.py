@@ -34,8 +34,11 @@ def _neighbours(stage, ratio: float) -> tuple[float, float]:
 def refine(model, design: Design, pinned=(), deadline=None) -> Design:
     """The design with every range-ratio stage refined (joints in ``pinned`` are left alone).
     ``deadline`` (a ``time.perf_counter()`` value): stop refining there, keeping the moves made."""
+
     def key(d_list):
-        s = model.score_arrays(arrays_from_designs(d_list), np.zeros((len(d_list), model.n), dtype=np.int64))
+        s = model.score_arrays(
+            arrays_from_designs(d_list), np.zeros((len(d_list), model.n), dtype=np.int64)
+        )
         return s
 
     current = design

@@ -59,7 +59,9 @@ class Diagnosis:
     limit: float
     best_achievable: float  # over all options, this requirement alone
     shortfall: float  # relative, > 0 when it alone cannot be met
-    relaxed_objective: float | None  # optimum with only this requirement dropped (None: infeasible or no time)
+    relaxed_objective: (
+        float | None
+    )  # optimum with only this requirement dropped (None: infeasible or no time)
     relaxed_proven: bool = True  # False: the re-solve ran out of time and this is its bound
 
 

@@ -40,15 +40,21 @@ def search_order(model: SizingModel, units: list[tuple]) -> list[tuple]:
     done = np.zeros(n, dtype=bool)
     out = []
     while left:
+
         def waiting(u):
             cols = infl[:, list(u)].any(axis=1)
             cols[list(u)] = False
             return int(np.count_nonzero(cols & ~done))
+
         def reach(u):
             return int(np.count_nonzero(infl[list(u)].any(axis=0) & ~done))
+
         def linked(u):  # assigned units that load u: finish one component before the next
             return int(np.count_nonzero(infl[:, list(u)].any(axis=1) & done))
-        u = min(left, key=lambda u: (waiting(u), -linked(u), -reach(u), model.candidates[u[0]].size, u))
+
+        u = min(
+            left, key=lambda u: (waiting(u), -linked(u), -reach(u), model.candidates[u[0]].size, u)
+        )
         out.append(u)
         left.remove(u)
         done[list(u)] = True
@@ -58,8 +64,17 @@ def search_order(model: SizingModel, units: list[tuple]) -> list[tuple]:
 class BranchAndBound:
     """Depth-first branch and bound; see the module docstring."""
 
-    def __init__(self, model: SizingModel, units: list[tuple], *, time_limit=None, progress=None,
-                 ties=True, upper=None, incumbent=None):
+    def __init__(
+        self,
+        model: SizingModel,
+        units: list[tuple],
+        *,
+        time_limit=None,
+        progress=None,
+        ties=True,
+        upper=None,
+        incumbent=None,
+    ):
         """``ties=False`` proves only the optimal value (ties are not searched for the preferred
         design); ``upper`` is a known upper bound on the optimum: reaching it ends the search;
         ``incumbent`` the key (:meth:`SizingModel.key`) of a design known to be feasible (from
@@ -93,10 +108,17 @@ class BranchAndBound:
         empty = [u for u in self.units if self.unit_options(u).size == 0]
         if empty:
             names = ", ".join(self.model.project.robot.actuated[j] for j in empty[0])
-            return SolveOutcome("infeasible", None, -math.inf, -math.inf, time.perf_counter() - start,
-                                f"no option of {names} can meet every requirement in any design "
-                                "(per-joint filters and proven bounds; the diagnosis names the "
-                                "requirement)", 0)
+            return SolveOutcome(
+                "infeasible",
+                None,
+                -math.inf,
+                -math.inf,
+                time.perf_counter() - start,
+                f"no option of {names} can meet every requirement in any design "
+                "(per-joint filters and proven bounds; the diagnosis names the "
+                "requirement)",
+                0,
+            )
         self._node(np.full(n, -1, dtype=np.int64), 0)
         elapsed = time.perf_counter() - start
         best = self.best_key
@@ -108,8 +130,9 @@ class BranchAndBound:
             status = "optimal" if best else "infeasible"
         native = f"{self.nodes} nodes, {self.scored} designs scored"
         index = np.array(best[3]) if best else None
-        return SolveOutcome(status, index, best[0] if best else -math.inf, bound, elapsed, native,
-                            self.nodes)
+        return SolveOutcome(
+            status, index, best[0] if best else -math.inf, bound, elapsed, native, self.nodes
+        )
 
     # ------------------------------------------------------------------------------------------
     def _prune(self, b: dict) -> np.ndarray:
@@ -122,7 +145,9 @@ class BranchAndBound:
             tie = b["objective"] <= f0 + tol
             keep &= ~(tie & (b["mass"] > m0 + tie_tol(m0)))
             if math.isfinite(r0):
-                keep &= ~(tie & (b["mass"] >= m0 - tie_tol(m0)) & (b["reflected"] > r0 + tie_tol(r0)))
+                keep &= ~(
+                    tie & (b["mass"] >= m0 - tie_tol(m0)) & (b["reflected"] > r0 + tie_tol(r0))
+                )
         return keep
 
     def _children(self, idx: np.ndarray, unit: tuple, opts: np.ndarray):
@@ -165,7 +190,7 @@ class BranchAndBound:
             if self.stopped:
                 self.open_bound = max(self.open_bound, float(b["objective"][i:].max()))
                 return
-            if self._prune({k: v[i:i + 1] for k, v in b.items()})[0]:
+            if self._prune({k: v[i : i + 1] for k, v in b.items()})[0]:
                 child = idx.copy()
                 child[list(unit)] = opts[i]
                 self._node(child, level + 1)
@@ -183,7 +208,9 @@ class BranchAndBound:
             full = np.broadcast_to(idx, (chunk_opts.size, model.n)).copy()
             full[:, list(unit)] = chunk_opts[:, None]
             opts, b = opts[LEAF_CHUNK:], {k: v[LEAF_CHUNK:] for k, v in b.items()}
-            key, left = model.best_key_until(full, self.deadline if math.isfinite(self.deadline) else None)
+            key, left = model.best_key_until(
+                full, self.deadline if math.isfinite(self.deadline) else None
+            )
             self.scored += full.shape[0]
             if left > -math.inf:  # the limit struck inside the costly checks of this chunk
                 self.stopped = True

@@ -11,10 +11,21 @@ The format is described in docs/study-format.md.
 from .runner import DEFAULT_CASE_FN, StudyOutcome, execute_case, resolve_case_fn, run_study
 from .spec import Case, StudySpec, case_project, expand, load_study, parse_study
 from .store import (
-    CaseRecord, StoredCase, StoredStudy, StudyStore, read_cases, read_runs, read_study,
+    CaseRecord,
+    StoredCase,
+    StoredStudy,
+    StudyStore,
+    read_cases,
+    read_runs,
+    read_study,
 )  # fmt: skip
 from .summary import (
-    PlotSeries, export_csv, plot_series, summary_rows, summary_table, variant_values,
+    PlotSeries,
+    export_csv,
+    plot_series,
+    summary_rows,
+    summary_table,
+    variant_values,
 )  # fmt: skip
 
 __all__ = [

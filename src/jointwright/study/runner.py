@@ -370,7 +370,7 @@ class _DaskFeed:
             _, cases, name = self.in_flight.pop(fut.key)
             records = self._records(fut, cases, name)
             fut.release()
-            for case, record in zip(cases, records):
+            for case, record in zip(cases, records, strict=True):
                 self.case_time += record.wall_time
                 self.cases_done += 1
                 yield case, record
@@ -391,20 +391,27 @@ def _run_dask(cases: Iterable[Case], build: Build, sink: Sink, scheduler, fn_ref
 
         sec = Security()  # dask's configuration: files or DASK_DISTRIBUTED__COMM__TLS__* variables
         if not (sec.tls_ca_file and sec.tls_client_cert):
-            raise InputError(str(scheduler), "--scheduler", "a tls:// scheduler needs the client's "
-                             "certificate, key and CA in dask's configuration "
-                             "(distributed.comm.tls.ca-file, .client.cert, .client.key); see "
-                             "docs/study-format.md, 'A cluster only you can reach'")
+            raise InputError(
+                str(scheduler),
+                "--scheduler",
+                "a tls:// scheduler needs the client's "
+                "certificate, key and CA in dask's configuration "
+                "(distributed.comm.tls.ca-file, .client.cert, .client.key); see "
+                "docs/study-format.md, 'A cluster only you can reach'",
+            )
     try:
         client = Client(scheduler, set_as_default=False, timeout=30) if own else scheduler
     except (OSError, TypeError, ValueError) as exc:  # unreachable, refused, TLS not configured
         text = " ".join(str(exc).split())
-        hint = ("a tls:// scheduler needs the client's certificate, key and CA "
-                "(docs/study-format.md, 'A cluster only you can reach')"
-                if str(scheduler).startswith("tls://") else
-                "is the scheduler running, and is the address right?")
-        raise InputError(str(scheduler), "--scheduler", f"cannot connect ({type(exc).__name__}: "
-                         f"{text}); {hint}") from None
+        hint = (
+            "a tls:// scheduler needs the client's certificate, key and CA "
+            "(docs/study-format.md, 'A cluster only you can reach')"
+            if str(scheduler).startswith("tls://")
+            else "is the scheduler running, and is the address right?"
+        )
+        raise InputError(
+            str(scheduler), "--scheduler", f"cannot connect ({type(exc).__name__}: {text}); {hint}"
+        ) from None
     feed = _DaskFeed(client, cases, build, fn_ref)
     try:
         for case, record in feed.results():
@@ -429,8 +436,14 @@ class _Progress:
         if not enabled:
             return
         from rich.console import Console
-        from rich.progress import (BarColumn, MofNCompleteColumn, Progress, TextColumn,
-                                   TimeElapsedColumn, TimeRemainingColumn)  # fmt: skip
+        from rich.progress import (
+            BarColumn,
+            MofNCompleteColumn,
+            Progress,
+            TextColumn,
+            TimeElapsedColumn,  # fmt: skip
+            TimeRemainingColumn,
+        )
 
         self.console = Console(stderr=True)
         self.bar = Progress(
@@ -566,7 +579,8 @@ def _fault(path: Path, exc: BaseException) -> InputError:
     """One line for a run stopped by a fault outside the cases (full disk, I/O error, damage)."""
     text = str(exc) if not isinstance(exc, OSError) or not exc.strerror else exc.strerror
     if isinstance(exc, sqlite3.DatabaseError) and any(
-            w in text for w in ("malformed", "corrupt", "not a database")):
+        w in text for w in ("malformed", "corrupt", "not a database")
+    ):
         from .store import damaged
 
         return damaged(path, exc)

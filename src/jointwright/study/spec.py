@@ -444,8 +444,11 @@ def _count(t: Table, key: str) -> int:
         raise InputError(t.file, t.field(key), f"must be a whole number >= 1, got {n!r}")
     if n > MAX_CASES:
         got = n if n < 10**12 else f"a {len(str(n))}-digit number"
-        raise InputError(t.file, t.field(key), f"must be at most {MAX_CASES} (the most cases a "
-                         f"study may have), got {got}")
+        raise InputError(
+            t.file,
+            t.field(key),
+            f"must be at most {MAX_CASES} (the most cases a study may have), got {got}",
+        )
     return n
 
 
@@ -559,14 +562,14 @@ def expand(spec: StudySpec) -> list[Case]:
     paths = [p.path for p in spec.parameters]
     lists = [p.values for p in spec.parameters]
     if spec.combine == "zip" and lists:
-        combos = list(zip(*lists))
+        combos = list(zip(*lists, strict=True))
     else:
         combos = list(itertools.product(*lists))
     variants = spec.variants or (None,)
     cases = []
     for variant in variants:
         for combo in combos:
-            values = dict(zip(paths, combo))
+            values = dict(zip(paths, combo, strict=True))
             fixed = variant.assignments if variant else ()
             task = (variant.task if variant else None) or spec.task
             options = {**spec.options, **((variant.options or {}) if variant else {})}

@@ -141,8 +141,11 @@ class WriterLock:
         try:
             fh = open(self.path, "a+", encoding="utf-8")
         except OSError as exc:
-            raise InputError(str(store), "(lock)", "cannot create the writer lock "
-                             f"{self.path.name} ({exc.strerror or exc})") from None
+            raise InputError(
+                str(store),
+                "(lock)",
+                f"cannot create the writer lock {self.path.name} ({exc.strerror or exc})",
+            ) from None
         if not _try_lock(fh):
             fh.seek(0)
             holder = _holder(fh.read())
@@ -188,8 +191,12 @@ def _try_lock(fh) -> bool:
     except BlockingIOError:
         return False
     except OSError as exc:  # a file system without locks: say so rather than run unguarded
-        raise InputError(fh.name, "(lock)", f"the file system does not support locking "
-                         f"({exc.strerror or exc}); put the store on a local disk") from None
+        raise InputError(
+            fh.name,
+            "(lock)",
+            f"the file system does not support locking "
+            f"({exc.strerror or exc}); put the store on a local disk",
+        ) from None
 
 
 def _unlock(fh) -> None:
@@ -537,7 +544,7 @@ def _query(path: str | Path, sql: str) -> list[dict]:
     try:
         cur = conn.execute(sql)
         names = [d[0] for d in cur.description]
-        return [dict(zip(names, r)) for r in cur.fetchall()]
+        return [dict(zip(names, r, strict=True)) for r in cur.fetchall()]
     except sqlite3.DatabaseError as exc:
         if any(w in str(exc) for w in ("malformed", "corrupt", "disk I/O error")):
             raise damaged(Path(path), exc) from None

@@ -99,8 +99,9 @@ def export_csv(
     try:
         fd, name = tempfile.mkstemp(prefix=f".{csv_path.name}.", suffix=".tmp", dir=csv_path.parent)
     except OSError as exc:
-        raise InputError(str(csv_path), "csv",
-                         f"cannot be written ({exc.strerror or exc})") from None
+        raise InputError(
+            str(csv_path), "csv", f"cannot be written ({exc.strerror or exc})"
+        ) from None
     try:
         with os.fdopen(fd, "w", newline="", encoding="utf-8") as fh:
             writer = csv.writer(fh)
@@ -111,8 +112,11 @@ def export_csv(
         os.chmod(name, 0o666 & ~_umask())
         os.replace(name, csv_path)
     except OSError as exc:
-        raise InputError(str(csv_path), "csv", f"cannot be written ({exc.strerror or exc}); "
-                         "any earlier file there is unchanged") from None
+        raise InputError(
+            str(csv_path),
+            "csv",
+            f"cannot be written ({exc.strerror or exc}); any earlier file there is unchanged",
+        ) from None
     finally:
         if os.path.exists(name):
             os.unlink(name)

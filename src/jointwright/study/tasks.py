@@ -19,8 +19,11 @@ TASKS = ("size", "frontier")
 _OPTIONS = {"objective", "backend", "time_limit", "measure", "points", "case"}
 
 
-_CHOICES = {"objective": ("payload", "mass", "imf"), "backend": ("search", "pyomo"),
-            "measure": ("imf", "effective_mass", "backdrive_force")}
+_CHOICES = {
+    "objective": ("payload", "mass", "imf"),
+    "backend": ("search", "pyomo"),
+    "measure": ("imf", "effective_mass", "backdrive_force"),
+}
 
 
 def check_options(options: dict, file: str, field: str) -> None:
@@ -80,8 +83,9 @@ def check_study_values(spec) -> None:
         m = re.match(r"\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?", value)
         # the number alone fits, so the unit is what the project cannot take there
         if m and _load_error(spec, p.path, _number(m.group().strip())) is None:
-            raise InputError(spec.file, f"vary[{i}].{p.source}",
-                             f"{value!r} for {p.path}: {error.rule}") from None
+            raise InputError(
+                spec.file, f"vary[{i}].{p.source}", f"{value!r} for {p.path}: {error.rule}"
+            ) from None
 
 
 def _number(text: str):
@@ -115,7 +119,11 @@ def run_case(project: dict, base_dir: Path, task: str, options: dict) -> dict:
 
     unknown = sorted(set(options) - _OPTIONS)
     if unknown:
-        raise InputError("study", f"options.{unknown[0]}", f"unknown option; known: {', '.join(sorted(_OPTIONS))}")
+        raise InputError(
+            "study",
+            f"options.{unknown[0]}",
+            f"unknown option; known: {', '.join(sorted(_OPTIONS))}",
+        )
     if task not in TASKS:
         raise InputError("study", "task", f"must be one of {', '.join(TASKS)}, got {task!r}")
     p = project_from_dict(project, Path(base_dir) / "project (study case).toml")
@@ -127,15 +135,32 @@ def run_case(project: dict, base_dir: Path, task: str, options: dict) -> dict:
 def _size(p, options: dict) -> dict:
     from ..sizing import size
 
-    r = size(p, objective=options.get("objective"), backend=options.get("backend", "search"),
-             time_limit=options.get("time_limit"), explain=False)
-    metrics = {"sizing_status": r.status, "objective": r.objective, "bound": r.bound, "gap": r.gap,
-               "seconds": r.seconds}
+    r = size(
+        p,
+        objective=options.get("objective"),
+        backend=options.get("backend", "search"),
+        time_limit=options.get("time_limit"),
+        explain=False,
+    )
+    metrics = {
+        "sizing_status": r.status,
+        "objective": r.objective,
+        "bound": r.bound,
+        "gap": r.gap,
+        "seconds": r.seconds,
+    }
     if r.assessment is not None:
         a = r.assessment
         metrics["total_mass"] = a.total_mass
         for c in a.cases:
-            for key in ("payload", "imf", "effective_mass", "speed", "backdrive_force", "rating_use"):
+            for key in (
+                "payload",
+                "imf",
+                "effective_mass",
+                "speed",
+                "backdrive_force",
+                "rating_use",
+            ):
                 if key in c.metrics:
                     metrics[f"{c.name}:{key}"] = c.metrics[key]
         for j in a.joints:
@@ -148,9 +173,14 @@ def _size(p, options: dict) -> dict:
 def _frontier(p, options: dict) -> dict:
     from ..frontier import frontier
 
-    f = frontier(p, options.get("measure", "imf"), case=options.get("case"),
-                 points=int(options.get("points", 50)), time_limit=options.get("time_limit"),
-                 backend=options.get("backend", "search"))
+    f = frontier(
+        p,
+        options.get("measure", "imf"),
+        case=options.get("case"),
+        points=int(options.get("points", 50)),
+        time_limit=options.get("time_limit"),
+        backend=options.get("backend", "search"),
+    )
     metrics = {"points": len(f.points), "complete": int(f.complete), "seconds": f.seconds}
     if f.points:
         metrics["payload_max"] = f.points[0].payload
