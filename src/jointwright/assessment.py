@@ -185,14 +185,16 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
         cautions.append(
             "Contact speeds use the two-body transient-contact model of ISO/TS 15066 with the body-"
             "region values given in the project: they do not cover clamping, pressure limits, the "
-            "robot's stopping time or the risk assessment, which stay with the applicable standards "
+            "robot's stopping time or the risk assessment, which stay with the applicable "
+            "standards "
             "and licensed engineering practice."
         )
     for j, a in zip(names, design.actuators, strict=True):
         if a.self_locking:
             cautions.append(
-                f"{j}: self-locking transmission (backward efficiency {a.eta_backward:.2f} ≤ 0). It "
-                "holds its load when unpowered and cannot be pushed back by a person or an obstacle: "
+                f"{j}: self-locking transmission (backward efficiency {a.eta_backward:.2f} ≤ 0). "
+                "It holds its load when unpowered and cannot be pushed back by a person or an "
+                "obstacle: "
                 "pinch and crush hazard. Apply the applicable safety standards."
             )
     return Assessment(
@@ -270,7 +272,8 @@ def unloaded_joints(project, evaluator: Evaluator | None = None) -> tuple[str, .
     A payload or stance case loads joint i when the case's force reaches it
     (|J_iᵀ·u| > 0) or the links' weight does (|g_0,i| > 0) at the case's pose; a duty cycle loads
     every joint it moves or whose links' weight it carries. Impact and speed cases load none
-    (they set inertia and speed, not torque), nor do back-drive cases (an upper limit on breakaway). Thresholds: 1e-9 of the largest term of the case.
+    (they set inertia and speed, not torque), nor do back-drive cases (an upper limit on breakaway).
+    Thresholds: 1e-9 of the largest term of the case.
     """
     evaluator = evaluator or Evaluator(project)
     names = project.robot.actuated

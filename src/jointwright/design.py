@@ -192,7 +192,10 @@ class DesignArrays:
         )
 
     def reflected_inertia(self, mode: str) -> np.ndarray:
-        """Link-side reflected inertia per mode (kg·m²), (D, n); see drivetrain.reflected_inertia."""
+        """Link-side reflected inertia per mode (kg·m²), (D, n).
+
+        See drivetrain.reflected_inertia.
+        """
         return reflected_inertia(
             mode,
             self.ratio,

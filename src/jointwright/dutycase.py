@@ -39,7 +39,7 @@ def prepare_duty(robot, case, file: str) -> PreparedDuty:
     """Read the case's trajectory and compute its inverse-dynamics terms."""
     revolute = [robot.revolute[robot.joint_names.index(j)] for j in robot.actuated]
     traj = load_trajectory(case.trajectory, robot.actuated, frames=None, revolute=revolute)
-    for i, frame in enumerate(traj.frames):
+    for frame in traj.frames:
         robot.frame_id(frame, file=str(case.trajectory), field=f"wrench column for frame {frame!r}")
     n, T = robot.n_act, traj.t.size
     v = np.asarray(robot.v_index)

@@ -10,7 +10,8 @@ solves: the largest payload P under ε, then the best measure among designs with
 options this yields every non-dominated (payload, measure) pair: for a non-dominated (P*, μ*),
 the step whose ε lies between the previous point's measure and μ* has largest payload ≥ P* and,
 by non-dominance, exactly P*, and its second stage reaches μ*. Points whose successor has the
-same payload (within 1e-9) are dropped as dominated (a safeguard). When the sweep stops early (``points`` or the time limit) the
+same payload (within 1e-9) are dropped as dominated (a safeguard).
+When the sweep stops early (``points`` or the time limit) the
 set is a sample, and ``complete`` says so.
 """
 

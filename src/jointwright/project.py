@@ -320,7 +320,9 @@ def _load_requirements(t: Table, robot) -> Requirements:
 
 
 def _read_pose(pt: Table, robot) -> dict[str, float]:
-    """Joint positions of a pose: every actuated joint, optionally the others (docs/project-format.md).
+    """Joint positions of a pose: every actuated joint, optionally the others.
+
+    See docs/project-format.md.
 
     A plain number is radians (metres for a prismatic joint); a revolute joint's plain number
     beyond ±2π is refused as a likely angle in degrees. Positions must lie within the joint's
@@ -557,7 +559,10 @@ BODY_REGION = (
 
 
 def _body_region(t: Table) -> tuple[float, float, float] | None:
-    """The user's body-region values of an impact case, all three or none (docs/project-format.md)."""
+    """The user's body-region values of an impact case, all three or none.
+
+    See docs/project-format.md.
+    """
     given = [key for key, _ in BODY_REGION if t.has(key)]
     if not given:
         t.allow(*(key for key, _ in BODY_REGION))

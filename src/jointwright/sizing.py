@@ -28,7 +28,10 @@ _OBJECTIVE_KEYS = ("maximize", "pin", "exclude", "shared", "ratio_grid")
 
 
 def read_objective(project) -> dict:
-    """The project file's ``[objective]`` table, checked: maximize, pin, exclude, shared, ratio_grid."""
+    """The project file's ``[objective]`` table, checked.
+
+    Fields: maximize, pin, exclude, shared, ratio_grid.
+    """
     raw, file = dict(project.objective), str(project.file)
     joints = list(project.robot.actuated)
     for key in raw:

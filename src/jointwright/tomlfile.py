@@ -1,4 +1,7 @@
-"""Reading TOML tables strictly: unknown keys, wrong types and bad quantities name file and field."""
+"""Reading TOML tables strictly.
+
+Unknown keys, wrong types and bad quantities name file and field.
+"""
 
 from __future__ import annotations
 
@@ -128,7 +131,10 @@ class Table:
         self.done()
 
     def allow(self, *keys: str) -> None:
-        """Count ``keys`` as known fields of this table (for :meth:`done`'s hints) without reading them."""
+        """Count ``keys`` as known fields of this table without reading them.
+
+        For :meth:`done`'s hints.
+        """
         self._seen.update(keys)
 
     def done(self) -> None:

@@ -400,13 +400,13 @@ def _family(t: Table) -> MotorFamily:
             raise InputError(
                 t.file, where, f"must be [gap_radius_scale, length_scale], got {pair!r}"
             )
-        s, l = (
+        s, length = (
             positive(v, "dimensionless", file=t.file, field=f"{where}[{j}]")
             for j, v in enumerate(pair)
         )
-        if (s, l) in sizes:
-            raise InputError(t.file, where, f"size [{s:g}, {l:g}] is listed twice")
-        sizes.append((s, l))
+        if (s, length) in sizes:
+            raise InputError(t.file, where, f"size [{s:g}, {length:g}] is listed twice")
+        sizes.append((s, length))
     return MotorFamily(name=name, reference=reference, sizes=tuple(sizes))
 
 

@@ -166,7 +166,7 @@ class MotorFamily:
     reference: Motor
     sizes: tuple[tuple[float, float], ...]
 
-    def member(self, s: float, l: float = 1.0) -> Motor:
+    def member(self, s: float, l: float = 1.0) -> Motor:  # noqa: E741 (the length scale)
         """The member with gap-radius scale ``s`` and length scale ``l`` (both 1 = reference).
 
         The winding is taken as rewound to keep the line-to-line resistance of the reference, so
@@ -203,7 +203,7 @@ class MotorFamily:
         )
 
     def members(self) -> tuple[Motor, ...]:
-        return tuple(self.member(s, l) for s, l in self.sizes)
+        return tuple(self.member(s, length) for s, length in self.sizes)
 
 
 @dataclass(frozen=True)

@@ -85,8 +85,8 @@ def project_summary(p, evaluator=None) -> dict:
         "requirements": {
             "total_mass_max": p.requirements.total_mass_max,
             "joints": {
-                j: {k: v for k, v in vars(l).items() if math.isfinite(v) and v != 0}
-                for j, l in p.requirements.joints.items()
+                j: {k: v for k, v in vars(lim).items() if math.isfinite(v) and v != 0}
+                for j, lim in p.requirements.joints.items()
             },
         },
     }
@@ -101,7 +101,8 @@ def command(project: Path, as_json: bool):
 
     with status_line():
         p = load_project(project)
-        # the same preparation assess and size make (poses, trajectories): check rejects what they would
+        # the same preparation assess and size make (poses, trajectories):
+        # check rejects what they would
         evaluator = Evaluator(p)
     s = project_summary(p, evaluator)
     if as_json:
@@ -218,7 +219,8 @@ def command(project: Path, as_json: bool):
     grows = [x for x in s["cases"][:SHOWN_CASES] if x.get("payload_growth")]
     if grows:
         con.print(
-            "load per payload mass m_p (the payload objective reads each case's force as kg carried): "
+            "load per payload mass m_p "
+            "(the payload objective reads each case's force as kg carried): "
             + "; ".join(
                 f"{x['name']} {num(x['payload_growth']['fixed_load'], 'N')} + "
                 f"{x['payload_growth']['payload_share']:g}·m_p·g"

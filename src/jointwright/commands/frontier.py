@@ -49,7 +49,8 @@ def print_frontier(f) -> None:
             ]
         )
     caption = (
-        "each point: the largest payload with the measure at least this good; every other requirement of "
+        "each point: the largest payload with the measure at least this good; "
+        "every other requirement of "
         "the project is kept"
         + ("; cost in the catalog's currency units" if costs else "")
         + (
@@ -69,7 +70,8 @@ def print_frontier(f) -> None:
         )
     )
     con.print(
-        "[yellow]caution:[/yellow] back-drivability figures are concept-stage estimates; contact safety "
+        "[yellow]caution:[/yellow] back-drivability figures are concept-stage estimates; "
+        "contact safety "
         "must be assessed under the applicable collaborative-robot and machinery safety standards."
     )
 
@@ -162,7 +164,8 @@ def command(
             con.print(
                 f"frictionless gears: {len(ideal.points)} non-dominated designs; largest payload "
                 f"{num(ideal.points[0].payload if ideal.points else None, 'kg')} against "
-                f"{num(f.points[0].payload if f.points else None, 'kg')} with the catalog's efficiencies"
+                f"{num(f.points[0].payload if f.points else None, 'kg')} "
+                "with the catalog's efficiencies"
             )
         if out is not None:
             console().print(f"frontier written to {out}")

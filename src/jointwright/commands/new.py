@@ -19,7 +19,10 @@ from ..project import EXAMPLES
     type=click.Choice(EXAMPLES),
     default="leg",
     show_default=True,
-    help="leg: three-joint quadruped leg on a floating trunk; arm: six-joint arm on a mobile base; quadruped: four legs, robot-level payload on several feet.",
+    help=(
+        "leg: three-joint quadruped leg on a floating trunk; arm: six-joint arm on a mobile base; "
+        "quadruped: four legs, robot-level payload on several feet."
+    ),
 )
 def command(directory: Path, example: str):
     """Write the bundled example project EXAMPLE into DIRECTORY (which must be new or empty)."""

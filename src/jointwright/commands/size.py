@@ -144,7 +144,9 @@ def print_result(r, project=None) -> None:
                 "Diagnosis: each requirement alone, and the optimum without it",
                 ["requirement", "limit", "best alone", "margin alone", "optimum without it"],
                 rows,
-                caption="margin alone < 0: no design meets it even ignoring every other requirement",
+                caption=(
+                    "margin alone < 0: no design meets it even ignoring every other requirement"
+                ),
             )
         )
 

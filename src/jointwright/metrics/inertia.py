@@ -78,7 +78,9 @@ class TaskSpaceInertia:
 
 
 def task_space_inertia(J, M, *, cond_max: float = SINGULAR_CONDITION) -> TaskSpaceInertia:
-    """Task-space (operational-space) inertia Λ = (J·M⁻¹·Jᵀ)⁻¹ (Khatib 1987), singular poses flagged.
+    """Task-space (operational-space) inertia Λ = (J·M⁻¹·Jᵀ)⁻¹ (Khatib 1987).
+
+    Singular poses are flagged.
 
     Parameters
     ----------

@@ -92,7 +92,8 @@ def runner_ups_section(data: dict, file: str = "<sizing>", units: dict | None = 
             table(
                 ["joint", "runner-up actuator", "change", f"objective ({kind})", "why it lost"],
                 rows,
-                caption="Each runner-up changes one joint of the chosen design and keeps the rest; it "
+                caption="Each runner-up changes one joint of the chosen design and keeps the rest; "
+                "it "
                 "is re-evaluated with the full physics.",
             )
         )

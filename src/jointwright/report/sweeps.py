@@ -2,9 +2,9 @@
 
 Both go through :class:`jointwright.evaluate.Evaluator` on :class:`DesignArrays` with one field
 changed, so they use exactly the physics of the assessment. Everything else of the actuator
-(motor, stage masses and their own inertias, gear torque limits, efficiencies) is held at the design's
-values, including where the catalog would not offer the varied ratio: the sweep shows the trend,
-not an available product.
+(motor, stage masses and their own inertias, gear torque limits, efficiencies) is held at the
+design's values, including where the catalog would not offer the varied ratio: the sweep shows
+the trend, not an available product.
 """
 
 from __future__ import annotations

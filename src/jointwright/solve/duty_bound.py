@@ -46,7 +46,10 @@ class DutyBound:
         return bool(self.cases)
 
     def lower_bound(self, pd, j: int, options: np.ndarray, tau_lo: np.ndarray, tau_hi: np.ndarray):
-        """Lower bound (K,) on joint j's rating use with options (K,) and τ_j within [τ_lo, τ_hi] (K, T)."""
+        """Lower bound (K,) on joint j's rating use.
+
+        For options (K,) and τ_j within [τ_lo, τ_hi] (K, T).
+        """
         r = self.table.rows
         n, ef, eb, ir = (
             r[k][options][:, None]
@@ -74,7 +77,10 @@ class DutyBound:
         return np.maximum(use, speed)
 
     def ok(self, idx, unit, options, st, mass) -> np.ndarray:
-        """False where a limited duty case's rating use provably exceeds its limit for every completion."""
+        """False where a limited duty case's rating use provably exceeds its limit.
+
+        That is, for every completion of the partial design.
+        """
         K = options.size
         keep = np.ones(K, dtype=bool)
         unit = list(unit)

@@ -1,4 +1,7 @@
-"""Why the chosen design won: binding requirements, per-joint runner-ups, infeasibility diagnosis."""
+"""Why the chosen design won.
+
+Binding requirements, per-joint runner-ups, infeasibility diagnosis.
+"""
 
 from __future__ import annotations
 

@@ -31,6 +31,11 @@ DUTY_CHUNK = 32
 TIE_TOLERANCE = 1e-9
 
 
+def _carried(case):
+    """The increasing map from a payload case's force bound to the payload mass it carries."""
+    return lambda f: carried_payload(case, f)
+
+
 def tie_tol(value: float) -> float:
     return TIE_TOLERANCE * max(1.0, abs(value)) if math.isfinite(value) else 0.0
 
@@ -102,9 +107,7 @@ class SizingModel:
         )
         # the payload objective is the payload mass every case carries: each case's force bound
         # goes through its own increasing transform (problem.carried_payload) before the min
-        self.carry = tuple(
-            lambda f, c=project.case(t.name): carried_payload(c, f) for t in self.payload
-        )
+        self.carry = tuple(_carried(project.case(t.name)) for t in self.payload)
         self.candidates = [np.asarray(c, dtype=np.int64) for c in candidates]
         self.reflected = table.reflected_backdriven
         self.mass = table.rows["mass"]
@@ -130,16 +133,16 @@ class SizingModel:
     # ------------------------------------------------------------------------------------------
     def _payload_terms(self, pc) -> PayloadTerms:
         t = self.table
-        O = len(t)
+        n_options = len(t)
         # every joint with every option: the evaluator's own capacity formulas (tip speed included)
-        arr = t.arrays(np.repeat(np.arange(O)[:, None], self.n, axis=1))
+        arr = t.arrays(np.repeat(np.arange(n_options)[:, None], self.n, axis=1))
         if getattr(pc.case, "tip_speed", 0.0) > 0:
             cap_m, cap_b = self.evaluator.capacity_at_speed(pc, arr)
         else:
             cap_m, cap_b = arr.capacity("motoring"), arr.capacity("backdriven")
         along = pc.velocity_sign if pc.case.motion != "against" else -pc.velocity_sign
         sign = {"along": along, "against": -along, "hold": np.zeros_like(along)}[pc.case.motion]
-        lo, hi = torque_bounds(np.broadcast_to(sign, (O, self.n)), cap_m, cap_b)
+        lo, hi = torque_bounds(np.broadcast_to(sign, (n_options, self.n)), cap_m, cap_b)
         vi = np.asarray(pc.basis.v_index)
         return PayloadTerms(
             name=pc.case.name,

@@ -1,4 +1,6 @@
-"""Pyomo back-end: the payload/mass problem as a MILP solved by HiGHS, nonlinear checks as lazy cuts.
+"""Pyomo back-end: the payload/mass problem as a MILP solved by HiGHS.
+
+Nonlinear checks are lazy cuts.
 
 Binary x[j, o] picks option o for joint j (Σ_o x[j, o] = 1; shared joints take equal x). For each
 payload case and joint, with a = Jᵀu and the option bounds lo/hi of metrics.payload.torque_bounds:
@@ -13,8 +15,9 @@ back-drive force as a minimum over joints, duty cycles) is checked on the MILP's
 numpy physics; a design that misses a requirement is cut off by a no-good cut
 Σ_j x[j, o_j] ≤ n − 1 and the MILP is solved again. The MILP is a relaxation of the true problem
 for every design that can hold itself (for the payload objective: every design with a positive
-payload; when no design has one the back-end reports infeasible), so the loop stops with a proven optimum once the numpy
-value of the incumbent reaches the MILP bound. Independent of the branch and bound: a cross-check.
+payload; when no design has one the back-end reports infeasible), so the loop stops with a
+proven optimum once the numpy value of the incumbent reaches the MILP bound.
+Independent of the branch and bound: a cross-check.
 """
 
 from __future__ import annotations

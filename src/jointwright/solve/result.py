@@ -40,7 +40,10 @@ class SolveOutcome:
 
 @dataclass(frozen=True)
 class Alternative:
-    """A runner-up for one joint with the rest of the design kept: what it costs or what rules it out."""
+    """A runner-up for one joint with the rest of the design kept.
+
+    What it costs or what rules it out.
+    """
 
     joint: str
     actuator: str

@@ -470,7 +470,8 @@ class _Progress:
             f"study {state}: {outcome.done} done, {outcome.failed} failed this run; store holds "
             f"{outcome.done_total} done, {outcome.failed_total} failed of {outcome.total}. "
             f"Wall {outcome.wall_time:.2f} s, case time {outcome.case_time:.2f} s on "
-            f"{outcome.workers} {'local process' if outcome.backend == 'processes' else 'Dask slot'}"
+            f"{outcome.workers} "
+            f"{'local process' if outcome.backend == 'processes' else 'Dask slot'}"
             f"{'' if outcome.workers == 1 else ('es' if outcome.backend == 'processes' else 's')}, "
             f"overhead {100 * outcome.overhead_fraction:.1f} %"
         )
