@@ -49,7 +49,7 @@ class CheckResult:
     achieved: float
     limit: float
     sense: str
-    unit: str
+    unit: str | None
     margin: float
     ok: bool
 

@@ -55,7 +55,7 @@ def load_design(path: str | Path, project) -> Design:
 def design_from_dict(data: dict, project, file: str = "<api>") -> Design:
     top = Table(data, file, "")
     head = top.table("design", {})
-    name = head.str("name", Path(file).stem)
+    name = head.text("name", Path(file).stem)
     head.done()
     jt = top.table("joint")
     robot, catalog = project.robot, project.catalog
@@ -80,7 +80,7 @@ def design_from_dict(data: dict, project, file: str = "<api>") -> Design:
 
 def _actuator(t: Table, catalog, max_stages: int) -> Actuator:
     t.expect("motor", "stages")
-    mname = t.str("motor")
+    mname = t.text("motor")
     try:
         motor = catalog.motor(mname)
     except KeyError:
@@ -88,7 +88,7 @@ def _actuator(t: Table, catalog, max_stages: int) -> Actuator:
             t.file, t.field("motor"), f"unknown motor {mname!r}; not in the catalog"
         ) from None
     stages = []
-    entries = t.list("stages", [])
+    entries = t.array("stages", [])
     if len(entries) > max(max_stages, 0):
         raise InputError(
             t.file,
@@ -98,14 +98,14 @@ def _actuator(t: Table, catalog, max_stages: int) -> Actuator:
     for i, e in enumerate(entries):
         st = Table(e, t.file, f"{t.field('stages')}[{i}]")
         st.expect("stage", "frame", "ratio")
-        sname = st.str("stage")
+        sname = st.text("stage")
         try:
             stage = catalog.stage(sname)
         except KeyError:
             raise InputError(
                 t.file, st.field("stage"), f"unknown stage type {sname!r}; not in the catalog"
             ) from None
-        fname = st.str("frame")
+        fname = st.text("frame")
         try:
             frame = stage.frame(fname)
         except KeyError:

@@ -15,6 +15,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 import pinocchio as pin
@@ -22,13 +23,13 @@ import pinocchio as pin
 from .errors import InputError
 from .metrics.duty import duty_summary
 from .progress import report
-from .trajectory import load_trajectory
+from .trajectory import Trajectory, load_trajectory
 
 
 @dataclass(frozen=True, eq=False)
 class PreparedDuty:
-    case: object
-    trajectory: object  # Trajectory
+    case: Any  # project.Case (kind duty)
+    trajectory: Trajectory
     tau_links: np.ndarray  # (n, T) joint torques of the links and external wrenches
     tau_mass: np.ndarray  # (n_act, n, T) per kg of actuator k
     qd: np.ndarray  # (n, T)

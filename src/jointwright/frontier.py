@@ -180,7 +180,9 @@ def frontier(
         exhaustive = _exhaustive(project, c.name, key, metric, sense, deadline, start, limit, table)
         if exhaustive is not None:
             return exhaustive
-    found, eps, solves, complete = [], None, 0, False
+    found: list[tuple] = []
+    eps: float | None = None
+    solves, complete = 0, False
     while solves < points:
         left = deadline - time.perf_counter()
         if left <= 0:
@@ -200,9 +202,9 @@ def frontier(
                 # point the architect can start from (the frontier is marked sampled)
                 found.append((payload, _measure(project, design, c.name, metric), design))
             break
-        left = None if time_limit is None else max(deadline - time.perf_counter(), 1e-3)
+        rest = None if time_limit is None else max(deadline - time.perf_counter(), 1e-3)
         status2, _value, best = _solve(
-            current, f"{metric}@{c.name}", payload, left, None, "search", table
+            current, f"{metric}@{c.name}", payload, rest, None, "search", table
         )
         solves += 1
         if status2 == "optimal":

@@ -155,7 +155,7 @@ def build_table(project, exclude=(), deadline=None) -> OptionTable:
             f"{count} motor × stage-stack options exceed the limit of {MAX_OPTIONS}; "
             "lower max_stages, restrict stage_kinds or exclude stages",
         )
-    stacks = [()]
+    stacks: list[tuple[StageChoice, ...]] = [()]
     for k in range(1, project.max_stages + 1):
         stacks.extend(itertools.product(singles, repeat=k))
     acts, motor_index = [], []
@@ -275,7 +275,7 @@ def joint_candidates(
     index, removed = [], []
     for j, name in enumerate(project.robot.actuated):
         keep = np.ones(len(table), dtype=bool)
-        counts = {}
+        counts: dict[str, int] = {}
         masks = []
         if name in pins:
             masks.append(("pin", np.array([matches_pin(a, pins[name]) for a in table.actuators])))

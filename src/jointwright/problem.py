@@ -40,7 +40,7 @@ class Check:
     achieved: np.ndarray  # (D,)
     limit: float
     sense: str  # "min" or "max"
-    unit: str
+    unit: str | None
 
     @property
     def margin(self) -> np.ndarray:

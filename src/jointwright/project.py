@@ -180,24 +180,24 @@ def project_from_dict(data: dict, path: Path) -> Project:
     file = str(path)
     top = Table(data, file, "")
     head = top.table("project", {})
-    name = head.str("name", path.stem)
-    summary = head.str("summary", "")
+    name = head.text("name", path.stem)
+    summary = head.text("summary", "")
     head.done()
 
     robot = _load_robot(top.table("robot"), path.parent)
     catalog, max_stages, kinds = _load_catalog(top.table("catalog"), path.parent)
     model = top.table("model", {})
-    coupling = model.bool("rotor_coupling", False)
+    coupling = model.flag("rotor_coupling", False)
     model.done()
     requirements = _load_requirements(top.table("requirements", {}), robot)
     poses = _load_poses(top.table("poses", {}), robot)
     tables = top.tables("case")
-    cases = []
+    read: list[Case] = []
     for i, t in enumerate(tables):
-        cases.append(_load_case(t, robot, path.parent, poses))
+        read.append(_load_case(t, robot, path.parent, poses))
         if i % 500 == 499:
             report("reading cases", i + 1, len(tables))
-    cases = tuple(cases)
+    cases = tuple(read)
     if not cases:
         raise InputError(file, "case", "at least one [[case]] is required")
     seen: set[str] = set()  # a set, not a list scan: a project may hold tens of thousands of cases
@@ -228,19 +228,19 @@ def _load_robot(t: Table, base_dir: Path):
     from .robot import Robot
 
     if t.has("urdf"):
-        urdf = base_dir / t.str("urdf")
-        base = t.str("base", None, choices=("fixed", "floating"))
-        actuated = t.list("actuated", None)
+        urdf = base_dir / t.text("urdf")
+        base = t.text("base", None, choices=("fixed", "floating"))
+        actuated = t.array("actuated", None)
         mounts = t.raw("mounts", None)
         robot = Robot.from_urdf(
-            urdf,
+            str(urdf),
             floating=None if base is None else (base == "floating"),
             actuated=actuated,
             mounts=mounts,
             unactuated=t.raw("unactuated", None),
             included=t.raw("included", None),
-            frames=t.list("frames", None),
-            gravity=t.list("gravity", None),
+            frames=t.array("frames", None),
+            gravity=t.array("gravity", None),
             file=t.file,
             prefix=t.path,
         )
@@ -253,7 +253,7 @@ def _load_catalog(t: Table, base_dir: Path):
     from .catalog.io import load_catalogs
     from .catalog.model import STAGE_KINDS
 
-    files = t.list("files")
+    files = t.array("files")
     if not files or not all(isinstance(f, str) for f in files):
         raise InputError(t.file, t.field("files"), "must be a non-empty list of file paths")
     for i, f in enumerate(files):
@@ -269,7 +269,7 @@ def _load_catalog(t: Table, base_dir: Path):
         raise InputError(
             t.file, t.field("max_stages"), f"must be a whole number from 0 to 3, got {max_stages!r}"
         )
-    kinds = t.list("stage_kinds", None)
+    kinds: Any = t.array("stage_kinds", None)
     if kinds is not None:
         for i, k in enumerate(kinds):
             if k not in STAGE_KINDS:
@@ -392,7 +392,7 @@ def _load_contacts(t: Table, robot) -> tuple:
         raise InputError(t.file, t.field("contacts"), "a stance case needs at least one contact")
     out = []
     for c in entries:
-        frame = c.str("frame")
+        frame = c.text("frame")
         robot.frame_id(frame, file=c.file, field=c.field("frame"))
         mu = c.quantity("friction", "dimensionless", sign="nonnegative")
         n = np.asarray(c.vector("normal", 3, (0.0, 0.0, 1.0)))
@@ -410,17 +410,18 @@ def _load_contacts(t: Table, robot) -> tuple:
 
 
 def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Case:
-    name = t.str("name")
-    kind = t.str("kind", choices=CASE_KINDS)
+    name = t.text("name")
+    kind = t.text("kind", choices=CASE_KINDS)
     frame = None
     if kind != "duty":
-        frame = t.str("frame")
+        frame = t.text("frame")
         robot.frame_id(frame, file=t.file, field=t.field("frame"))
     pose = {}
     if kind != "duty":
         raw = t.raw("pose")
         if isinstance(raw, str):
-            if raw not in (poses or {}):
+            poses = poses or {}
+            if raw not in poses:
                 raise InputError(
                     t.file,
                     t.field("pose"),
@@ -445,11 +446,13 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
             raise InputError(t.file, t.field("direction"), "must not be the zero vector")
         d = d / scale  # scaled first: huge components must not overflow the norm
         direction = tuple(float(x) for x in d / np.linalg.norm(d))
-    motion = t.str("motion", "along", choices=MOTIONS) if kind in ("payload", "stance") else "along"
+    motion = (
+        t.text("motion", "along", choices=MOTIONS) if kind in ("payload", "stance") else "along"
+    )
     contacts = _load_contacts(t, robot) if kind == "stance" else ()
     trajectory = None
     if kind == "duty":
-        trajectory = base_dir / t.str("trajectory")
+        trajectory = base_dir / t.text("trajectory")
         if not is_file(trajectory, t.file, t.field("trajectory")):
             raise InputError(t.file, t.field("trajectory"), f"file not found: {trajectory}")
     ambient = t.quantity("ambient", "temperature", 25.0)
@@ -574,7 +577,8 @@ def _body_region(t: Table) -> tuple[float, float, float] | None:
             t.field(missing[0]),
             f"is required with {', '.join(given)}: a body region needs force, stiffness and mass",
         )
-    return tuple(t.quantity(key, dim, sign="positive") for key, dim in BODY_REGION)
+    force, stiffness, mass = (t.quantity(key, dim, sign="positive") for key, dim in BODY_REGION)
+    return force, stiffness, mass
 
 
 def _force_or_weight(t: Table, key: str) -> float:

@@ -391,7 +391,7 @@ def finish(
         j: int(c.size) for j, c in zip(project.robot.actuated, model.candidates, strict=True)
     }
     if outcome.index is None:
-        diag = ()
+        diag: tuple = ()
         if explain and outcome.status == "infeasible":
             phase("diagnosing")
             diag = diagnose(project, model, kind, plan.limit, deadline=plan.explain_end())
@@ -425,7 +425,7 @@ def finish(
     status = outcome.status
     if not a.feasible:
         status = "error"
-    alts = ()
+    alts: tuple = ()
     if explain:
         phase("explaining")
         alts = alternatives(project, model, outcome.index, value, deadline=plan.explain_end())

@@ -66,19 +66,21 @@ class Table:
             return default
         return self.data[key]
 
-    def str(self, key: str, default: Any = ..., choices: tuple[str, ...] | None = None) -> str:
+    def text(self, key: str, default: Any = ..., choices: tuple[str, ...] | None = None) -> str:
         v = self.raw(key, default)
         if v is default and default is not ...:
             return v
         if not isinstance(v, str):
             raise InputError(self.file, self.field(key), f"must be a string, got {v!r}")
+        if "\x00" in v:  # no name, path or label has one; the file system refuses it
+            raise InputError(self.file, self.field(key), "must not contain a NUL character")
         if choices is not None and v not in choices:
             raise InputError(
                 self.file, self.field(key), f"must be one of {', '.join(choices)}; got {v!r}"
             )
         return v
 
-    def bool(self, key: str, default: Any = ...) -> bool:
+    def flag(self, key: str, default: Any = ...) -> bool:
         v = self.raw(key, default)
         if not isinstance(v, bool):
             raise InputError(self.file, self.field(key), f"must be true or false, got {v!r}")
@@ -91,7 +93,7 @@ class Table:
         fn = {"any": quantity, "positive": positive, "nonnegative": nonnegative}[sign]
         return fn(v, dimension, file=self.file, field=self.field(key))
 
-    def list(self, key: str, default: Any = ...) -> list:
+    def array(self, key: str, default: Any = ...) -> list:
         v = self.raw(key, default)
         if v is default and default is not ...:
             return v

@@ -92,6 +92,7 @@ def _column(raw: str, file: str, joints, frames) -> tuple[tuple, float, int]:
     parts = name.split(":")
     field = f"column {raw.strip()!r}"
     kind = parts[0]
+    key: tuple[str, ...]
     if kind == "t" and len(parts) == 1:
         key = ("t",)
     elif kind in ("q", "qd", "qdd") and len(parts) == 2 and parts[1]:

@@ -340,7 +340,7 @@ def _values(t: Table, spec: dict[str, tuple[str, str]], cls) -> dict[str, Any]:
 def _name(t: Table, default: str | None = None) -> str:
     if default is not None and not t.has("name"):
         return default
-    name = t.str("name")
+    name = t.text("name")
     if not name.strip():
         raise InputError(t.file, t.field("name"), "must not be empty")
     return name.strip()
@@ -388,7 +388,7 @@ def _family(t: Table) -> MotorFamily:
     _check_keys(t, ("name", "reference", "sizes"))
     name = _name(t)
     reference = _motor(t.table("reference"), default_name=name)
-    raw = t.list("sizes")
+    raw = t.array("sizes")
     if not raw:
         raise InputError(
             t.file, t.field("sizes"), "must list at least one [gap_radius_scale, length_scale] pair"
@@ -427,7 +427,7 @@ class _StageDraft:
         _check_keys(t, _STAGE_KEYS)
         self.t = t
         self.name = _name(t)
-        self.kind = t.str("kind", choices=STAGE_KINDS)
+        self.kind = t.text("kind", choices=STAGE_KINDS)
         self.ratios, self.ratio_range = _ratios(t)
         self.efficiency = efficiency_from_dict(
             t.raw("efficiency"), file=t.file, field=t.field("efficiency")
@@ -475,7 +475,7 @@ def _ratios(t: Table):
             "(discrete) or ratio_range = [low, high] (continuous)",
         )
     if t.has("ratios"):
-        raw = t.list("ratios")
+        raw = t.array("ratios")
         if not raw:
             raise InputError(t.file, t.field("ratios"), "must list at least one ratio")
         values = [
@@ -503,7 +503,7 @@ def _ratios(t: Table):
 def _attach_frames(stages: list[_StageDraft], path: Path, toml_file: str) -> None:
     by_name = {d.name: d for d in stages}
     for row in _read_csv(path, allowed=("stage", "name", *FRAME_FIELDS)):
-        stage = row.str("stage")
+        stage = row.text("stage")
         if stage not in by_name:
             raise InputError(
                 row.file,
@@ -524,7 +524,8 @@ def _stage_notes(stage: StageType, where: _Where) -> list[str]:
     if stage.ratios is not None:
         ratios = np.array(stage.ratios)
     else:  # a continuous range: sample it, a tabulated efficiency may dip inside
-        ratios = np.geomspace(*stage.ratio_range, 9)
+        lo, hi = stage.ratio_range or (math.nan, math.nan)
+        ratios = np.geomspace(lo, hi, 9)
     forward, backward = stage.efficiency.pair(ratios)
     ratio_typ, eta_typ = TYPICAL[stage.kind]
     notes = []

@@ -148,6 +148,7 @@ class StageType:
         """Whether ``ratio`` is one this stage can have."""
         if self.ratios is not None:
             return any(abs(ratio - r) <= rtol * r for r in self.ratios)
+        assert self.ratio_range is not None  # exactly one of ratios / ratio_range is set
         lo, hi = self.ratio_range
         return lo * (1 - rtol) <= ratio <= hi * (1 + rtol)
 
@@ -176,8 +177,8 @@ class MotorFamily:
         ref = self.reference
         torque = s**2 * l
         kt, res, speed = ref.torque_constant, ref.resistance, ref.max_speed
-        if kt is not None and res is not None:
-            kt = kt * math.sqrt(s**3 * l)
+        if ref.torque_constant is not None and res is not None:
+            kt = ref.torque_constant * math.sqrt(s**3 * l)
             speed = ref.max_speed * ref.torque_constant / kt
         return Motor(
             name=f"{self.name}-{s:g}x{l:g}",

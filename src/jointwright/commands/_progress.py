@@ -5,7 +5,10 @@ from __future__ import annotations
 
 import contextlib
 import time
-from typing import Iterator
+from typing import TYPE_CHECKING, Iterator
+
+if TYPE_CHECKING:
+    from rich.status import Status
 
 from ..progress import listening
 
@@ -15,7 +18,7 @@ class _StatusLine:
         self.start = time.perf_counter()
         self.delay, self.interval = delay, interval
         self.last = 0.0
-        self.status = None
+        self.status: Status | None = None
 
     def __call__(self, what: str, done: int, total: int) -> None:
         now = time.perf_counter()

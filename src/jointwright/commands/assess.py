@@ -236,7 +236,9 @@ def command(project: Path, design_file: Path, as_json: bool):
 def _column_groups(rows: list[list[str]], joints: list[str], width: int) -> list[list[int]]:
     """Joint columns split into groups whose table fits ``width`` (the label column repeated)."""
     label = max(len(r[0]) for r in rows) + 3
-    groups, current, used = [], [], label + 1
+    groups: list[list[int]] = []
+    current: list[int] = []
+    used = label + 1
     for k, j in enumerate(joints):
         w = max([len(j)] + [len(r[1 + k]) for r in rows]) + 3
         if current and used + w > width:

@@ -2,6 +2,11 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from rich.status import Status
+
 import time
 from pathlib import Path
 
@@ -24,7 +29,7 @@ class Progress:
     def __init__(self, enabled: bool):
         self.enabled = enabled
         self.start = time.perf_counter()
-        self.status = None
+        self.status: Status | None = None
         self.stage = "preparing"
 
     def _show(self, text: str) -> None:

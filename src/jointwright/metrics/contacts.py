@@ -148,7 +148,7 @@ class ContactStatics:
     payload_wrench: np.ndarray
     tau_low: np.ndarray
     tau_high: np.ndarray
-    actuated: np.ndarray = field(default=None)  # type: ignore[assignment]
+    actuated: np.ndarray = field(default=None)  # type: ignore[arg-type]
 
     def __post_init__(self) -> None:
         g = _array(self.gravity, "gravity", 1)
@@ -483,7 +483,7 @@ class MultiContactPayload:
         return ContactPayloadResult(
             "optimal",
             native,
-            float(self._s.value),
+            float(np.asarray(self._s.value)),
             forces,
             tau,
             at_low,

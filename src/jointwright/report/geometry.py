@@ -76,7 +76,8 @@ def plane_for(directions, J) -> tuple[int, int]:
             break
         if int(k) not in chosen:
             chosen.append(int(k))
-    return tuple(sorted(chosen[:2]))
+    first, second = sorted(chosen[:2])
+    return first, second
 
 
 def _basis(plane) -> np.ndarray:

@@ -390,7 +390,7 @@ def _duty_table(c: dict, joints: list[str]) -> str:
     m = c["metrics"]
     rows = []
     for j in joints:
-        row = [j]
+        row: list = [j]
         for key, _col, unit, scale in DUTY_COLUMNS:
             v = m.get(f"{key}:{j}")
             if isinstance(v, (int, float)) and not isinstance(v, bool):

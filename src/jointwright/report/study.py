@@ -11,13 +11,14 @@ from __future__ import annotations
 
 import re
 from pathlib import Path
+from typing import Any
 
 from ..errors import InputError
 from ..study.store import read_cases, read_study
 from ..units import registry
 
 #: sizing objective kind -> (label, unit, which is better)
-OBJECTIVES = {
+OBJECTIVES: dict[str | None, tuple[str, str, str | None]] = {
     "payload": ("largest worst-case payload", "N", "max"),
     "mass": ("least actuator mass", "kg", "min"),
     "imf": ("best impact mitigation factor", "", "max"),
@@ -119,12 +120,12 @@ def _value_in(value, unit: str | None):
     return x
 
 
-def _results(task: str, cases) -> list[dict]:
+def _results(task: str, cases) -> list[dict[str, Any]]:
     """The headline results of the study's task, with units and which way is better."""
     if task == "frontier":
-        measure = next(
+        measure: str = next(
             (
-                c.result.get("measure")
+                str(c.result["measure"])
                 for c in cases
                 if isinstance(c.result, dict) and c.result.get("measure")
             ),

@@ -630,7 +630,8 @@ def _mount_specs(mounts, file, field) -> dict[str, tuple[dict, str]]:
     return out
 
 
-def _resolve_mount(model, joint: str, spec: Mapping, where: str, file: str) -> Mount:
+def _resolve_mount(model, joint: str, *where_spec: Any) -> Mount:
+    spec, where, file = where_spec
     """Turn a mount spec (keys ``mount``, ``mount_link``, ``mount_xyz``) into a :class:`Mount`.
 
     Default: on the parent link at the joint origin. ``mount = "child"``: on the child link at

@@ -145,7 +145,7 @@ def check_urdf_text(text: str, file: str):
             for key in ("xyz", "rpy"):
                 if origin is not None and origin.get(key) is not None:
                     _urdf_numbers(
-                        origin.get(key),
+                        origin.get(key, ""),
                         3,
                         file,
                         f"urdf.link[{link.get('name')}].{part.tag}.origin.{key}",
@@ -222,7 +222,7 @@ def check_urdf_text(text: str, file: str):
     return root
 
 
-def _urdf_numbers(text: str, count: int, file: str, field: str) -> np.ndarray:
+def _urdf_numbers(text: str | None, count: int, file: str, field: str) -> np.ndarray:
     """``count`` numbers from a URDF attribute, or one InputError naming it."""
     try:
         values = np.array([float(x) for x in str(text).split()])

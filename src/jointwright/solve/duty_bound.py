@@ -104,7 +104,7 @@ class DutyBound:
             for j in sorted(touched):
                 opts = options if j in unit else np.full(K, idx[j])
                 lb = self.lower_bound(
-                    pd, j, opts, base[j] + lo_f[j] + add[:, j], base[j] + hi_f[j] + add[:, j]
+                    pd, int(j), opts, base[j] + lo_f[j] + add[:, j], base[j] + hi_f[j] + add[:, j]
                 )
                 keep &= lb <= limit * (1 + 1e-9) + 1e-12
         return keep

@@ -104,7 +104,7 @@ def alternatives(
             scr_ok[a : a + part.size], scr_f[a : a + part.size] = ok, f
             if deadline is not None and time.perf_counter() > deadline:
                 break
-        groups = {}
+        groups: dict[tuple[str, str], list[int]] = {}
         for pos, o in enumerate(cand):
             a_ = table.actuators[int(o)]
             if a_.motor.name != chosen.motor.name:
@@ -112,7 +112,7 @@ def alternatives(
             if _stack_kind(a_) != _stack_kind(chosen):
                 groups.setdefault(("other stage type", _stack_kind(a_)), []).append(pos)
         # groups whose options all left the candidates: represented by their options in the table
-        missing = {}
+        missing: dict[tuple[str, str], list[int]] = {}
         for o, a_ in enumerate(table.actuators):
             keys = []
             if a_.motor.name != chosen.motor.name:
@@ -122,20 +122,20 @@ def alternatives(
             for key in keys:
                 if key not in groups:
                     missing.setdefault(key, []).append(o)
-        picks = {}
+        picks: dict[str, list[tuple[tuple[str, str], int, float | None, str | None]]] = {}
         for change in ("other motor", "other stage type"):
             rows = []
-            for key, pos in groups.items():
+            for key, members in groups.items():
                 if key[0] != change:
                     continue
-                pos = np.array(pos)
-                good = pos[scr_ok[pos]]
+                at = np.array(members)
+                good = at[scr_ok[at]]
                 if good.size:
                     good = good[np.lexsort((cand[good], -scr_f[good]))]
                     rows.append((key, good))
             rows.sort(key=lambda r: (-scr_f[r[1][0]], int(cand[r[1][0]])))
             want = MOTORS_SHOWN if change == "other motor" else len(rows)
-            found = []
+            found: list[tuple[tuple[str, str], int, float | None, str | None]] = []
             for key, good in rows:
                 if len(found) >= want or (deadline is not None and time.perf_counter() > deadline):
                     break
@@ -169,9 +169,9 @@ def alternatives(
                 continue
             if deadline is not None and time.perf_counter() > deadline:
                 break
-            opts = np.array(opts[:64])
-            full = np.broadcast_to(index, (opts.size, model.n)).copy()
-            full[:, ulist] = opts[:, None]
+            first = np.array(opts[:64])
+            full = np.broadcast_to(index, (first.size, model.n)).copy()
+            full[:, ulist] = first[:, None]
             ok, f, margins, cl = _evaluate(model, full, False)
             if cl:
                 o_pos = int(margins.min(axis=0).argmax())
@@ -181,11 +181,13 @@ def alternatives(
                     why = cl_full[int(m_full[:, 0].argmin())].label() if cl_full else None
             else:
                 o_pos, why = 0, None
-            picks[change].append((key, int(opts[o_pos]), None, why))
+            picks[change].append((key, int(first[o_pos]), None, why))
         for change in ("other motor", "other stage type"):
-            rows = picks[change]
-            rows.sort(key=lambda p: (p[2] is None, -(p[2] or 0.0), p[1]))
-            for _key, o, fo, why in rows[: MOTORS_SHOWN if change == "other motor" else len(rows)]:
+            picked = picks[change]
+            picked.sort(key=lambda p: (p[2] is None, -(p[2] or 0.0), p[1]))
+            for _key, o, fo, why in picked[
+                : MOTORS_SHOWN if change == "other motor" else len(picked)
+            ]:
                 dmass = len(unit) * float(model.mass[o] - model.mass[int(index[unit[0]])])
                 out.append(
                     Alternative(

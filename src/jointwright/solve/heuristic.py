@@ -79,7 +79,7 @@ class Heuristic:
         self.units = units
         self.deadline = deadline
         self.rng = np.random.default_rng(seed)
-        self.best = None
+        self.best: tuple | None = None
         self.tried = 0
         self.options = []
         for u in units:
@@ -202,9 +202,9 @@ class Heuristic:
             )
         if pool:
             idx_all, *merit = (np.concatenate(x) for x in zip(*pool, strict=True))
-            pool = list(idx_all[_order(*merit)[:starts]])
+            pool = list(idx_all[_order(*merit)[:starts]])  # type: ignore[arg-type]
         if self.best is not None:
-            pool.insert(0, np.array(self.best[3]))
+            pool.insert(0, np.array(self.best[3]))  # type: ignore[arg-type]
         for start in pool[: starts + 1]:
             if self.out_of_time():
                 break

@@ -9,8 +9,13 @@ from __future__ import annotations
 
 import math
 from dataclasses import asdict, dataclass, field
+from typing import TYPE_CHECKING
 
 import numpy as np
+
+if TYPE_CHECKING:
+    from ..assessment import Assessment
+    from ..design import Design
 
 #: why a solve stopped
 STATUSES = ("optimal", "time_limit", "infeasible", "error")
@@ -93,8 +98,8 @@ class SizingResult:
 
     status: str
     objective_kind: str
-    design: object | None
-    assessment: object | None
+    design: Design | None
+    assessment: Assessment | None
     objective: float
     bound: float
     gap: float

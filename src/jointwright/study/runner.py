@@ -231,7 +231,7 @@ def _run_pool(
 ) -> None:
     """Local process pool. A case that kills its worker is found by re-running the cases that were
     in flight one at a time, and recorded as failed; the others run normally."""
-    pending, suspects = deque(cases), deque()
+    pending, suspects = deque(cases), deque[Any]()
     in_flight: dict = {}
     pool = None
     try:
@@ -389,7 +389,9 @@ def _run_dask(cases: Iterable[Case], build: Build, sink: Sink, scheduler, fn_ref
     if own and str(scheduler).startswith("tls://"):
         from distributed.security import Security
 
-        sec = Security()  # dask's configuration: files or DASK_DISTRIBUTED__COMM__TLS__* variables
+        sec: Any = (
+            Security()
+        )  # dask's configuration: files or DASK_DISTRIBUTED__COMM__TLS__* variables
         if not (sec.tls_ca_file and sec.tls_client_cert):
             raise InputError(
                 str(scheduler),
@@ -641,6 +643,7 @@ def _run(spec, store, cases, todo, fn_ref, workers, scheduler, show, t0) -> Stud
 def _preload(fn_ref) -> list[str]:
     """Modules the fork server imports once, so each worker starts with them loaded."""
     names = [__name__]
+    module: str | None
     if isinstance(fn_ref, str):
         module = fn_ref.partition(":")[0]
     else:

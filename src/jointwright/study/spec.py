@@ -236,12 +236,12 @@ def parse_study(definition: dict, *, file: str = "<api>", study_dir: str | Path 
             "study.format",
             f"must be {STUDY_FORMAT} (the format this version reads), got {fmt!r}",
         )
-    name = head.str("name")
-    description = head.str("description", "")
-    base_rel = head.str("base")
-    task = head.str("task", "size", choices=TASKS)
-    combine = head.str("combine", "product", choices=COMBINE)
-    inputs = head.list("inputs", [])
+    name = head.text("name")
+    description = head.text("description", "")
+    base_rel = head.text("base")
+    task = head.text("task", "size", choices=TASKS)
+    combine = head.text("combine", "product", choices=COMBINE)
+    inputs = head.array("inputs", [])
     head.done()
     base_file = (Path(study_dir) / base_rel).resolve()
     if not is_file(base_file, file, "study.base"):
@@ -289,7 +289,7 @@ def _options(value: Any, file: str, field: str) -> dict:
 
 
 def _parameter(t: Table, base: dict, file: str) -> Parameter:
-    text = t.str("path")
+    text = t.text("path")
     steps = parse_path(text, file=file, field=t.field("path"))
     container, last = _walk(base, steps, file, t.field("path"), text)
     current = container[last] if isinstance(last, int) or last in container else None
@@ -310,7 +310,7 @@ def _parameter(t: Table, base: dict, file: str) -> Parameter:
         raise InputError(file, t.field("path"), "give exactly one of values, grid or random")
     kind = kinds[0]
     if kind == "values":
-        values = _listed(t.list("values"), file, t.field("values"))
+        values = _listed(t.array("values"), file, t.field("values"))
     else:
         sub = t.table(kind)
         values = _grid(sub, file) if kind == "grid" else _random(sub, file)
@@ -328,7 +328,7 @@ def _parameter(t: Table, base: dict, file: str) -> Parameter:
 
 
 def _variant(t: Table, base: dict, file: str) -> Variant:
-    name = t.str("name")
+    name = t.text("name")
     if not name.strip():
         raise InputError(file, t.field("name"), "must not be empty")
     settings = t.raw("set", {})
@@ -339,7 +339,7 @@ def _variant(t: Table, base: dict, file: str) -> Variant:
         steps_text = format_path(text)
         _walk(base, text, file, t.field("set"), steps_text)
         assignments.append((steps_text, copy.deepcopy(value)))
-    task = t.str("task", None, choices=TASKS) if t.has("task") else None
+    task = t.text("task", None, choices=TASKS) if t.has("task") else None
     options = _options(t.raw("options"), file, t.field("options")) if t.has("options") else None
     t.done()
     return Variant(name, tuple(assignments), task, options)
@@ -462,7 +462,7 @@ def _grid(t: Table, file: str) -> list:
     """``{start, stop, num, scale}``: ``num`` points from start to stop inclusive."""
     import numpy as np
 
-    scale = t.str("scale", "linear", choices=("linear", "log"))
+    scale = t.text("scale", "linear", choices=("linear", "log"))
     start, stop, unit = _endpoints(t, ("start", "stop"), scale)
     num = _count(t, "num")
     if num > 1 and start == stop:
@@ -477,7 +477,7 @@ def _random(t: Table, file: str) -> list:
     """``{low, high, count, seed, scale}``: uniform samples (of the log when scale = log)."""
     import numpy as np
 
-    scale = t.str("scale", "linear", choices=("linear", "log"))
+    scale = t.text("scale", "linear", choices=("linear", "log"))
     low, high, unit = _endpoints(t, ("low", "high"), scale)
     if not low < high:
         raise InputError(
@@ -566,7 +566,7 @@ def expand(spec: StudySpec) -> list[Case]:
     else:
         combos = list(itertools.product(*lists))
     variants = spec.variants or (None,)
-    cases = []
+    cases: list = []
     for variant in variants:
         for combo in combos:
             values = dict(zip(paths, combo, strict=True))

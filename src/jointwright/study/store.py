@@ -139,7 +139,7 @@ class WriterLock:
 
     def acquire(self, store: Path) -> None:
         try:
-            fh = open(self.path, "a+", encoding="utf-8")
+            fh: Any = open(self.path, "a+", encoding="utf-8")
         except OSError as exc:
             raise InputError(
                 str(store),
@@ -173,7 +173,7 @@ class WriterLock:
             self._fh = None
 
 
-def _try_lock(fh) -> bool:
+def _try_lock(fh: Any) -> bool:
     try:
         import fcntl
     except ImportError:  # Windows
@@ -181,7 +181,7 @@ def _try_lock(fh) -> bool:
 
         try:
             fh.seek(0)
-            msvcrt.locking(fh.fileno(), msvcrt.LK_NBLCK, 1)
+            msvcrt.locking(fh.fileno(), msvcrt.LK_NBLCK, 1)  # type: ignore[attr-defined]
             return True
         except OSError:
             return False
@@ -207,7 +207,7 @@ def _unlock(fh) -> None:
 
         try:
             fh.seek(0)
-            msvcrt.locking(fh.fileno(), msvcrt.LK_UNLCK, 1)
+            msvcrt.locking(fh.fileno(), msvcrt.LK_UNLCK, 1)  # type: ignore[attr-defined]
         except OSError:
             pass
         return
@@ -329,6 +329,7 @@ class StudyStore:
             "VALUES (?, ?, ?, ?, ?, 'running')",
             (_now(), socket.gethostname(), backend, workers, __version__),
         )
+        assert cur.lastrowid is not None  # an INSERT sets it
         return int(cur.lastrowid)
 
     def finish_run(self, run_id: int, status: str, done: int, failed: int) -> None:
