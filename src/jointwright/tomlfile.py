@@ -9,7 +9,7 @@ import tomllib
 from pathlib import Path
 from typing import Any
 
-from .errors import InputError
+from .errors import InputError, did_you_mean, unknown_name
 from .units import nonnegative, positive, quantity
 
 
@@ -76,7 +76,9 @@ class Table:
             raise InputError(self.file, self.field(key), "must not contain a NUL character")
         if choices is not None and v not in choices:
             raise InputError(
-                self.file, self.field(key), f"must be one of {', '.join(choices)}; got {v!r}"
+                self.file,
+                self.field(key),
+                f"must be one of {', '.join(choices)}; got {v!r}{did_you_mean(v, choices)}",
             )
         return v
 
@@ -142,13 +144,5 @@ class Table:
     def done(self) -> None:
         """Raise on keys nobody read (typo protection)."""
         extra = sorted(set(self.data) - self._seen)
-        if extra:
-            import difflib
-
-            known = sorted(self._seen)  # every key the reader asked for, given or not
-            close = difflib.get_close_matches(extra[0], known, n=1)
-            hint = f"; did you mean {close[0]!r}?" if close else ""
-            listed = f" Known here: {', '.join(known)}." if known and len(known) <= 30 else ""
-            raise InputError(
-                self.file, self.field(extra[0]), f"unknown field (check the spelling){hint}{listed}"
-            )
+        if extra:  # every key the reader asked for, given or not, is a known one
+            raise unknown_name(self.file, self.field(extra[0]), extra[0], sorted(self._seen))

@@ -14,14 +14,13 @@ file and the field. The formulas and their sources are listed in docs/catalog-fo
 
 from __future__ import annotations
 
-import difflib
 import math
 from dataclasses import MISSING, dataclass, field
 from typing import Any, ClassVar
 
 import numpy as np
 
-from ..errors import InputError
+from ..errors import InputError, did_you_mean
 from ..units import quantity, registry
 
 _DEG = math.pi / 180.0
@@ -545,8 +544,7 @@ def efficiency_from_dict(d: dict, *, file: str, field: str):
         )
     name = d.get("model")
     if not isinstance(name, str) or name not in MODELS:
-        near = difflib.get_close_matches(str(name), MODELS, n=1)
-        hint = f" (did you mean {near[0]!r}?)" if near else ""
+        hint = did_you_mean(name, MODELS)
         got = "nothing" if name is None else repr(name)
         raise InputError(
             file, f"{field}.model", f"must be one of {', '.join(MODELS)}; got {got}{hint}"

@@ -18,7 +18,6 @@ stage kind are not errors: they become lines in :attr:`Catalog.notes`.
 from __future__ import annotations
 
 import csv
-import difflib
 import math
 from dataclasses import MISSING, fields
 from pathlib import Path
@@ -26,7 +25,7 @@ from typing import Any, NamedTuple
 
 import numpy as np
 
-from ..errors import InputError
+from ..errors import InputError, did_you_mean, unknown_name
 from ..tomlfile import Table, is_file, load_toml
 from ..units import positive, registry
 from .efficiency import efficiency_from_dict
@@ -299,9 +298,7 @@ def _column(cell: str, i: int, line: int, file: str, allowed) -> tuple[str, str]
     name, unit = _split_header(cell)
     where = f"row {line}, column {name or i + 1}"
     if name not in allowed:
-        raise InputError(
-            file, where, f"unknown column{_hint(name, allowed)}; known: {', '.join(allowed)}"
-        )
+        raise unknown_name(file, where, name, allowed, "column")
     if unit:
         if name in ("name", "stage"):
             raise InputError(file, where, "a name column takes no unit")
@@ -508,7 +505,7 @@ def _attach_frames(stages: list[_StageDraft], path: Path, toml_file: str) -> Non
             raise InputError(
                 row.file,
                 row.field("stage"),
-                f"no [[stage]] named {stage!r} in {toml_file}{_hint(stage, by_name)}",
+                f"no [[stage]] named {stage!r} in {toml_file}{did_you_mean(stage, by_name)}",
             )
         data = {k: v for k, v in row.data.items() if k != "stage"}
         frame_row = _Row(data, row.file, row.path)
@@ -593,13 +590,4 @@ def _check_keys(t: Table, allowed) -> None:
     """Unknown keys are typos until proven otherwise."""
     for key in t.data:
         if key not in allowed:
-            raise InputError(
-                t.file,
-                t.field(key),
-                f"unknown field{_hint(key, allowed)}; known: {', '.join(allowed)}",
-            )
-
-
-def _hint(word: str, choices) -> str:
-    near = difflib.get_close_matches(str(word), list(choices), n=1)
-    return f" (did you mean {near[0]!r}?)" if near else ""
+            raise unknown_name(t.file, t.field(key), key, allowed)

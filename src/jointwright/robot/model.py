@@ -24,7 +24,7 @@ from typing import Any
 import numpy as np
 import pinocchio as pin
 
-from ..errors import InputError
+from ..errors import InputError, check_keys
 from ..units import nonnegative, positive, quantity
 from .urdf import read_urdf
 
@@ -693,10 +693,7 @@ def _rotor_axis(model, jid: int, body_joint: int) -> np.ndarray:
 
 # ---------------------------------------------------------------------- value parsing
 def _check_keys(entry: Mapping, allowed: Sequence[str], file: str, where: str) -> None:
-    for key in entry:
-        if key not in allowed:
-            rule = f"unknown field; allowed: {', '.join(allowed)}"
-            raise InputError(file, f"{where}.{key}", rule)
+    check_keys(entry, allowed, file, where)
 
 
 def _table(entry: Any, file: str, where: str) -> Mapping:

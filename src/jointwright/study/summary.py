@@ -17,7 +17,7 @@ from typing import Any, Sequence
 
 import numpy as np
 
-from ..errors import InputError
+from ..errors import InputError, unknown_name
 from .store import StoredCase, read_cases, read_study
 
 FIXED_BEFORE = ("case_id", "variant")
@@ -152,9 +152,7 @@ def summary_table(
     header, rows = summary_rows(store, metrics)
     if sort_by is not None:
         if sort_by not in header:
-            raise InputError(
-                str(store), "sort_by", f"unknown column {sort_by!r}; columns: {', '.join(header)}"
-            )
+            raise unknown_name(str(store), "sort_by", sort_by, header, "column")
         k = header.index(sort_by)
         numeric = [r for r in rows if isinstance(r[k], (int, float))]
         rest = [r for r in rows if not isinstance(r[k], (int, float))]

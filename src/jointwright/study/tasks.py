@@ -13,7 +13,7 @@ from __future__ import annotations
 import re
 from pathlib import Path
 
-from ..errors import InputError
+from ..errors import InputError, unknown_name
 
 TASKS = ("size", "frontier")
 _OPTIONS = {"objective", "backend", "time_limit", "measure", "points", "case"}
@@ -29,16 +29,12 @@ _CHOICES = {
 def check_options(options: dict, file: str, field: str) -> None:
     """Raise InputError for an option this case function does not know or a value it cannot use,
     naming the study file and ``<field>.<option>``; called before any case runs."""
-    import difflib
     import math
 
     for key, value in options.items():
         where = f"{field}.{key}"
         if key not in _OPTIONS:
-            close = difflib.get_close_matches(key, sorted(_OPTIONS), n=1)
-            hint = f" (did you mean {close[0]!r}?)" if close else ""
-            known = ", ".join(sorted(_OPTIONS))
-            raise InputError(file, where, f"unknown option{hint}; known: {known}")
+            raise unknown_name(file, where, key, sorted(_OPTIONS), "option")
         if key in _CHOICES:
             if value not in _CHOICES[key]:
                 choices = ", ".join(_CHOICES[key])
@@ -119,11 +115,7 @@ def run_case(project: dict, base_dir: Path, task: str, options: dict) -> dict:
 
     unknown = sorted(set(options) - _OPTIONS)
     if unknown:
-        raise InputError(
-            "study",
-            f"options.{unknown[0]}",
-            f"unknown option; known: {', '.join(sorted(_OPTIONS))}",
-        )
+        raise unknown_name("study", f"options.{unknown[0]}", unknown[0], sorted(_OPTIONS), "option")
     if task not in TASKS:
         raise InputError("study", "task", f"must be one of {', '.join(TASKS)}, got {task!r}")
     p = project_from_dict(project, Path(base_dir) / "project (study case).toml")
