@@ -92,3 +92,63 @@ def test_matplotlib_only_in_the_report_layer():
             continue
         text = path.read_text(encoding="utf-8")
         assert "import matplotlib" not in text and "from matplotlib" not in text, path
+
+
+def _module_name(path: Path) -> str:
+    rel = path.relative_to(PACKAGE).with_suffix("")
+    parts = [p for p in rel.parts if p != "__init__"]
+    return ".".join(["jointwright", *parts])
+
+
+def _module_graph() -> dict[str, set[str]]:
+    """Module -> the package modules it imports (anywhere in its text, deferred imports too)."""
+    names = {_module_name(p): p for p in PACKAGE.rglob("*.py")}
+    graph: dict[str, set[str]] = {}
+    for name, path in names.items():
+        package = name if path.name == "__init__.py" else name.rpartition(".")[0]
+        out = set()
+        for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+            if isinstance(node, ast.ImportFrom):
+                if node.level:
+                    base = package.split(".")
+                    base = base[: len(base) - (node.level - 1)]
+                    target = ".".join([*base, node.module] if node.module else base)
+                else:
+                    target = node.module or ""
+                for alias in node.names:  # `from . import x` may name a module
+                    sub = f"{target}.{alias.name}"
+                    out.add(sub if sub in names else target)
+            elif isinstance(node, ast.Import):
+                out.update(a.name for a in node.names)
+        graph[name] = {t for t in out if t in names and t != name}
+    return graph
+
+
+def test_no_import_cycles():
+    """No module imports, even late inside a function, a module that imports it back.
+
+    Package ``__init__`` files re-export and are left out (they import their own modules).
+    """
+    graph = {
+        m: {t for t in ts if not (PACKAGE / Path(*t.split(".")[1:]) / "__init__.py").exists()}
+        for m, ts in _module_graph().items()
+        if not (PACKAGE / Path(*m.split(".")[1:]) / "__init__.py").exists()
+    }
+    state: dict[str, int] = {}
+    stack: list[str] = []
+
+    def visit(m: str) -> None:
+        state[m] = 1
+        stack.append(m)
+        for t in sorted(graph.get(m, ())):
+            if state.get(t) == 1:
+                cycle = stack[stack.index(t) :] + [t]
+                pytest.fail("import cycle: " + " -> ".join(cycle))
+            if t not in state:
+                visit(t)
+        stack.pop()
+        state[m] = 2
+
+    for m in sorted(graph):
+        if m not in state:
+            visit(m)

@@ -394,7 +394,9 @@ def finish(
         diag: tuple = ()
         if explain and outcome.status == "infeasible":
             phase("diagnosing")
-            diag = diagnose(project, model, kind, plan.limit, deadline=plan.explain_end())
+            diag = diagnose(
+                project, model, kind, plan.limit, resolve=solve_value, deadline=plan.explain_end()
+            )
         return SizingResult(
             outcome.status,
             kind,

@@ -7,12 +7,16 @@ from __future__ import annotations
 
 import dataclasses
 import math
+from typing import Callable
 
 import numpy as np
 
 from ..problem import checks, feasible
 from ..project import STANDARD_GRAVITY, JointLimits, Requirements
-from .result import Alternative, Diagnosis
+from .result import Alternative, Diagnosis, SolveOutcome
+
+#: the exact value search a re-solve runs: (project, kind, *, table, time_limit) -> outcome
+Resolve = Callable[..., SolveOutcome]
 
 #: runner-up motors listed per joint
 MOTORS_SHOWN = 3
@@ -244,9 +248,8 @@ def relax(project, subject: str, key: str):
     return dataclasses.replace(project, cases=cases)
 
 
-def _alone(project, model, subject, key, limit, seconds) -> float:
+def _alone(project, model, subject, key, limit, seconds, solve_value: Resolve) -> float:
     """Best value of one requirement over all options, ignoring every other requirement."""
-    from ..sizing import solve_value
 
     r = model.table.rows
     if subject == "robot":
@@ -291,8 +294,13 @@ def _alone(project, model, subject, key, limit, seconds) -> float:
     return math.nan  # impact measures: no closed form; see the relaxation column
 
 
-def diagnose(project, model, kind: str, time_limit, deadline=None) -> tuple[Diagnosis, ...]:
+def diagnose(
+    project, model, kind: str, time_limit, *, resolve: Resolve, deadline=None
+) -> tuple[Diagnosis, ...]:
     """Per requirement: best achievable alone, shortfall, and the optimum with it dropped.
+
+    ``resolve(project, kind, table=..., time_limit=...)`` is the exact value search the
+    re-solves use (the sizing layer passes its own; this module does not import it back).
 
     Re-solves share one option table and a total budget (ending at ``deadline`` when the run
     has a time limit); a re-solve that runs out of time
@@ -300,8 +308,7 @@ def diagnose(project, model, kind: str, time_limit, deadline=None) -> tuple[Diag
     """
     import time
 
-    from ..sizing import solve_value
-
+    solve_value = resolve
     reqs = requirement_list(project)
     budget_end = time.perf_counter() + min(DIAGNOSIS_BUDGET, 4 * (time_limit or DIAGNOSIS_BUDGET))
     if deadline is not None and time_limit is not None:  # a time limit bounds the whole run
@@ -318,7 +325,7 @@ def diagnose(project, model, kind: str, time_limit, deadline=None) -> tuple[Diag
     for i, (subject, key, limit) in enumerate(reqs):
         share = (budget_end - time.perf_counter()) / (2 * (len(reqs) - i))
         seconds = min(DIAGNOSIS_SECONDS, max(share, 0.0))
-        best = _alone(project, model, subject, key, limit, seconds)
+        best = _alone(project, model, subject, key, limit, seconds, resolve)
         scale = abs(limit) if limit else 1.0
         if math.isnan(best):
             short = math.nan
