@@ -33,8 +33,8 @@ from jointwright.report import build_report
 EXAMPLES = ("leg", "arm", pytest.param("quadruped", marks=pytest.mark.slow))
 #: 4 significant digits: a shown number is within half a unit of its 4th digit, rel ≤ 5e-4 [trade]
 SHOWN_RTOL = 6e-4
-#: duty metrics that are fractions, shown in %
-PERCENT_METRICS = ("backdriven_share", "rms_ratio", "peak_ratio", "thermal_ratio")
+#: duty metrics that are fractions, shown in % (the report's own list must agree with this one)
+PERCENT_METRICS = ("backdriven_share", "rms_ratio", "peak_ratio", "envelope_ratio", "thermal_ratio")
 
 
 def _new(folder: Path, example: str) -> Path:

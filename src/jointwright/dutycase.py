@@ -148,6 +148,21 @@ _OPTIONAL = (
     "thermal_resistance",
     "thermal_time_constant",
 )
+#: per-joint duty quantities as the CLI and the report show them: (key, label, unit, scale).
+#: Rating uses first (how hard each joint works, in % of what its motor allows), then the
+#: quantities behind them; rating uses and the back-driven share are fractions shown in %.
+DUTY_QUANTITIES = (
+    ("rms_ratio", "continuous torque used (RMS)", "%", 100.0),
+    ("peak_ratio", "peak torque used", "%", 100.0),
+    ("envelope_ratio", "torque-speed line used", "%", 100.0),
+    ("thermal_ratio", "temperature rise used", "%", 100.0),
+    ("rms_torque", "RMS motor torque", "N·m", 1.0),
+    ("peak_torque", "highest motor torque", "N·m", 1.0),
+    ("peak_speed", "highest motor speed", "rad/s", 1.0),
+    ("peak_temperature", "hottest winding", "°C", 1.0),
+    ("energy_regen", "energy per cycle", "J", 1.0),
+    ("backdriven_share", "time back-driven", "%", 100.0),
+)
 _PER_JOINT = (
     "rms_torque",
     "peak_torque",

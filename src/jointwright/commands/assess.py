@@ -8,6 +8,7 @@ import click
 
 from ..assessment import assess
 from ..design import load_design
+from ..dutycase import DUTY_QUANTITIES
 from ..project import load_project
 from ._format import console, emit_json, num, pct, table
 from ._progress import status_line
@@ -62,20 +63,6 @@ LIMITING_QUANTITY = {
     "envelope": "torque-speed line",
     "temperature": "winding temperature",
 }
-
-#: per-joint duty metrics shown as a joints × quantities table: (key, label, unit, scale); the
-#: rating uses and the back-driven share are fractions shown in %
-DUTY_JOINT = [
-    ("rms_ratio", "continuous torque used (RMS)", "%", 100.0),
-    ("peak_ratio", "peak torque used", "%", 100.0),
-    ("envelope_ratio", "torque-speed line used", "%", 100.0),
-    ("thermal_ratio", "temperature rise used", "%", 100.0),
-    ("rms_torque", "RMS motor torque", "N·m", 1.0),
-    ("peak_torque", "highest motor torque", "N·m", 1.0),
-    ("peak_speed", "highest motor speed", "rad/s", 1.0),
-    ("peak_temperature", "hottest winding", "°C", 1.0),
-    ("backdriven_share", "time back-driven", "%", 100.0),
-]
 
 
 def _scaled(value, scale: float):
@@ -159,7 +146,7 @@ def print_assessment(a) -> None:
             joints = [j.joint for j in a.joints]
             drows = [
                 [label] + [num(_scaled(c.metrics.get(f"{key}:{j}"), scale), unit) for j in joints]
-                for key, label, unit, scale in DUTY_JOINT
+                for key, label, unit, scale in DUTY_QUANTITIES
             ]
             quantity = str(c.metrics.get("limiting_quantity", "—"))
             rows += [["limiting quantity", LIMITING_QUANTITY.get(quantity, quantity)]]

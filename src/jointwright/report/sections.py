@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import math
 
+from ..dutycase import DUTY_QUANTITIES
 from .markup import Cell, Section, bullets, check_value, esc, fmt, number, paragraph, pct, table
 
 G0 = 9.80665  # m/s², standard gravity (ISO 80000-3), for weight-equivalent payloads
@@ -371,27 +372,13 @@ _INERTIA_CAPTION = (
     "feels. Breakaway torque: joint-side torque that starts the unpowered actuator moving."
 )
 
-#: duty-cycle quantities per joint: (key, column, unit, scale). Rating uses come first (how hard
-#: each joint works, in % of what its motor allows), then the quantities behind them.
-DUTY_COLUMNS = (
-    ("rms_ratio", "continuous torque used (RMS)", "%", 100.0),
-    ("peak_ratio", "peak torque used", "%", 100.0),
-    ("thermal_ratio", "temperature rise used", "%", 100.0),
-    ("rms_torque", "RMS motor torque", "N·m", 1.0),
-    ("peak_torque", "highest motor torque", "N·m", 1.0),
-    ("peak_speed", "highest motor speed", "rad/s", 1.0),
-    ("peak_temperature", "hottest winding", "°C", 1.0),
-    ("energy_regen", "energy per cycle", "J", 1.0),
-    ("backdriven_share", "time back-driven", "%", 100.0),
-)
-
 
 def _duty_table(c: dict, joints: list[str]) -> str:
     m = c["metrics"]
     rows = []
     for j in joints:
         row: list = [j]
-        for key, _col, unit, scale in DUTY_COLUMNS:
+        for key, _col, unit, scale in DUTY_QUANTITIES:
             v = m.get(f"{key}:{j}")
             if isinstance(v, (int, float)) and not isinstance(v, bool):
                 v = scale * v
@@ -406,7 +393,7 @@ def _duty_table(c: dict, joints: list[str]) -> str:
         "with regeneration."
     )
     return table(
-        ["joint"] + [col for _k, col, _u, _s in DUTY_COLUMNS], rows, caption=cap, cls="wide"
+        ["joint"] + [col for _k, col, _u, _s in DUTY_QUANTITIES], rows, caption=cap, cls="wide"
     )
 
 
