@@ -304,7 +304,7 @@ def test_dask_client_and_callable(tmp_path, cluster):
 
 
 def test_dask_retries_lost_tasks_smaller_then_alone():
-    from jointwright.study.runner import _retry_queue
+    from jointwright.study.backends import _retry_queue
 
     assert _retry_queue("batch", 5, lost_worker=True) == "single"
     assert _retry_queue("batch", 5, lost_worker=False) == "single"

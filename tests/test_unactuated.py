@@ -185,6 +185,11 @@ def test_unloaded_joint_is_reported(tmp_path):
     text = text.replace("direction = [0, 1, 0]\nmotion", "direction = [1, 0, 0]\nmotion")
     path.write_text(text)
     assert unloaded_joints(load_project(path)) == ("q1",)
+    # the sizing result carries the same note (the CLI prints it, --json lists it)
+    from jointwright.sizing import size
+
+    r = size(load_project(path), explain=False)
+    assert r.unloaded_joints == ("q1",) and r.to_dict()["unloaded_joints"] == ["q1"]
 
 
 @pytest.mark.parametrize(

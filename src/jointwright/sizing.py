@@ -15,7 +15,7 @@ import time
 
 import numpy as np
 
-from .assessment import assess
+from .assessment import assess, unloaded_joints
 from .design import Design, arrays_from_designs
 from .errors import InputError
 from .options import JointCandidates, OutOfTime, build_table, joint_candidates
@@ -412,6 +412,7 @@ def finish(
             diagnosis=diag,
             options=options,
             message=_message(outcome.status, kind, None, diag),
+            unloaded_joints=unloaded_joints(project, model.evaluator),
         )
     design = design_of(project, model, outcome.index, f"{kind} optimum")
     value = float(model.score(outcome.index[None, :]).objective[0])
@@ -447,6 +448,7 @@ def finish(
         alternatives=alts,
         options=options,
         message=_message(status, kind, sense * value, ()),
+        unloaded_joints=unloaded_joints(project, model.evaluator),
     )
 
 

@@ -204,11 +204,9 @@ def command(project: Path, objective, backend, time_limit, no_explain, out, forc
         progress.stop()
     if out is not None and r.design is not None:
         write_text(out, design_to_toml(r.design) + "\n")
-    from ..assessment import unloaded_joints
-
-    unloaded = unloaded_joints(p)
+    unloaded = r.unloaded_joints
     if as_json:
-        emit_json({**r.to_dict(), "unloaded_joints": list(unloaded)})
+        emit_json(r.to_dict())
     else:
         print_result(r, p)
         for j in unloaded:

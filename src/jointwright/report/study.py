@@ -14,7 +14,7 @@ from pathlib import Path
 from typing import Any
 
 from ..errors import InputError
-from ..study.store import read_cases, read_study
+from ..study.reading import read_cases, read_study
 from ..units import registry
 
 #: sizing objective kind -> (label, unit, which is better)

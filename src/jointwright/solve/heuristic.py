@@ -249,4 +249,5 @@ def _better_merit(a, b) -> bool:
     tol = 1e-9 * max(1.0, abs(f_b)) if math.isfinite(f_b) else 0.0
     if f_a > f_b + tol:
         return True
-    return abs(f_a - f_b) <= tol and m_a < m_b * (1 - 1e-12)
+    tied = f_a == f_b or abs(f_a - f_b) <= tol  # equal infinities tie (no inf − inf)
+    return tied and m_a < m_b * (1 - 1e-12)

@@ -94,6 +94,8 @@ class SizingResult:
     diagnosis : for infeasible problems, per requirement
     options : number of options per joint after the joint's own filters
     message : one line for people
+    unloaded_joints : actuated joints no case loads (their choice is only the smallest actuator
+        that meets its own limits)
     """
 
     status: str
@@ -112,6 +114,7 @@ class SizingResult:
     diagnosis: tuple = ()
     options: dict = field(default_factory=dict)
     message: str = ""
+    unloaded_joints: tuple[str, ...] = ()
 
     def to_dict(self) -> dict:
         from ..assessment import _jsonable

@@ -37,6 +37,7 @@ from typing import Any
 
 from ..errors import InputError
 from ..tomlfile import is_file
+from .lock import WriterLock, _now
 
 #: version of the store layout written by this module (readers refuse newer versions)
 STORE_FORMAT = 1
@@ -98,10 +99,6 @@ def quote_identifier(name: str) -> str:
     return '"' + name.replace('"', '""') + '"'
 
 
-def _now() -> str:
-    return _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
-
-
 def _sql_value(v: Any) -> Any:
     """A parameter or metric value as SQLite stores it (text, integer, real or NULL)."""
     if isinstance(v, bool):
@@ -122,104 +119,6 @@ class CaseRecord:
     traceback: str | None = None
     wall_time: float = 0.0
     worker: str = ""
-
-
-class WriterLock:
-    """An exclusive operating-system lock on ``<store>.lock``, held while a store is written.
-
-    The lock file records ``pid``, ``host`` and ``since`` (UTC) of the holder as JSON, which a
-    refused writer reports. The kernel drops the lock when the holder's process ends, so a killed
-    run never leaves a stale lock; the file itself may stay and is harmless. (POSIX ``flock``;
-    ``msvcrt.locking`` on Windows. Network file systems may not honour either.)
-    """
-
-    def __init__(self, store: Path):
-        self.path = Path(f"{store}.lock")
-        self._fh = None
-
-    def acquire(self, store: Path) -> None:
-        try:
-            fh: Any = open(self.path, "a+", encoding="utf-8")
-        except OSError as exc:
-            raise InputError(
-                str(store),
-                "(lock)",
-                f"cannot create the writer lock {self.path.name} ({exc.strerror or exc})",
-            ) from None
-        if not _try_lock(fh):
-            fh.seek(0)
-            holder = _holder(fh.read())
-            fh.close()
-            raise InputError(
-                str(store), "(lock)",
-                f"another run is writing to this store ({holder}); wait for it to end, or give "
-                "another store file. Reading the store (summaries, reports) is fine meanwhile",
-            )  # fmt: skip
-        fh.seek(0)
-        fh.truncate()
-        fh.write(json.dumps({"pid": os.getpid(), "host": socket.gethostname(), "since": _now()}))
-        fh.flush()
-        self._fh = fh
-
-    def release(self) -> None:
-        if self._fh is not None:
-            try:
-                self._fh.seek(0)
-                self._fh.truncate()
-            except OSError:
-                pass
-            _unlock(self._fh)
-            self._fh.close()
-            self._fh = None
-
-
-def _try_lock(fh: Any) -> bool:
-    try:
-        import fcntl
-    except ImportError:  # Windows
-        import msvcrt
-
-        try:
-            fh.seek(0)
-            msvcrt.locking(fh.fileno(), msvcrt.LK_NBLCK, 1)  # type: ignore[attr-defined]
-            return True
-        except OSError:
-            return False
-    try:
-        fcntl.flock(fh.fileno(), fcntl.LOCK_EX | fcntl.LOCK_NB)
-        return True
-    except BlockingIOError:
-        return False
-    except OSError as exc:  # a file system without locks: say so rather than run unguarded
-        raise InputError(
-            fh.name,
-            "(lock)",
-            f"the file system does not support locking "
-            f"({exc.strerror or exc}); put the store on a local disk",
-        ) from None
-
-
-def _unlock(fh) -> None:
-    try:
-        import fcntl
-    except ImportError:  # Windows
-        import msvcrt
-
-        try:
-            fh.seek(0)
-            msvcrt.locking(fh.fileno(), msvcrt.LK_UNLCK, 1)  # type: ignore[attr-defined]
-        except OSError:
-            pass
-        return
-    fcntl.flock(fh.fileno(), fcntl.LOCK_UN)
-
-
-def _holder(text: str) -> str:
-    try:
-        info = json.loads(text)
-        return f"process {int(info['pid'])} on host {info['host']}, since {info['since']}"
-    except (ValueError, KeyError, TypeError):
-        return "a process that has not yet written its name"
 
 
 class StudyStore:
@@ -491,47 +390,6 @@ def backup_store(path: str | Path) -> Path:
     return target
 
 
-# ----------------------------------------------------------------------------- reading
-
-
-@dataclass(frozen=True)
-class StoredStudy:
-    """The ``study`` row of a store."""
-
-    path: Path
-    format_version: int
-    study_hash: str
-    name: str
-    definition: dict
-    base_file: str
-    base_project: dict
-    parameters: tuple[str, ...]
-    case_count: int
-    package_version: str
-    created: str
-
-
-@dataclass(frozen=True)
-class StoredCase:
-    """One row of ``cases``; ``result`` is the parsed JSON (None unless requested or failed)."""
-
-    case_id: str
-    index: int
-    variant: str | None
-    task: str
-    params: dict
-    values: dict
-    status: str
-    metrics: dict
-    result: Any
-    error: str | None
-    traceback: str | None
-    wall_time: float
-    worker: str
-    finished: str
-    run_id: int | None
-
-
 def _read_only(path: str | Path) -> sqlite3.Connection:
     path = Path(path)
     if not is_file(path):
@@ -577,42 +435,3 @@ def _read_study_row(path: Path) -> dict:
             f"({STORE_FORMAT})",
         )  # fmt: skip
     return row
-
-
-def read_study(path: str | Path) -> StoredStudy:
-    """The study description held in a store."""
-    row = _read_study_row(Path(path))
-    return StoredStudy(
-        Path(path), row["format_version"], row["study_hash"], row["name"],
-        json.loads(row["definition"]), row["base_file"], json.loads(row["base_project"]),
-        tuple(json.loads(row["parameters"])), row["case_count"], row["package_version"],
-        row["created"],
-    )  # fmt: skip
-
-
-def read_cases(path: str | Path, *, results: bool = False) -> list[StoredCase]:
-    """Every case in the store in expansion order; ``results=True`` also parses the results."""
-    _read_study_row(Path(path))
-    rows = _query(path, "SELECT * FROM cases ORDER BY case_index")
-    return [_stored_case(row, results) for row in rows]
-
-
-def _stored_case(row: dict, results: bool) -> StoredCase:
-    values = {k[len(PARAM_PREFIX) :]: v for k, v in row.items() if k.startswith(PARAM_PREFIX)}
-    metrics = {
-        k[len(METRIC_PREFIX) :]: v
-        for k, v in row.items()
-        if k.startswith(METRIC_PREFIX) and v is not None
-    }
-    result = json.loads(row["result"]) if results and row["result"] is not None else None
-    return StoredCase(
-        row["case_id"], row["case_index"], row["variant"], row["task"], json.loads(row["params"]),
-        values, row["status"], metrics, result, row["error"], row["traceback"], row["wall_time"],
-        row["worker"], row["finished"], row["run_id"],
-    )  # fmt: skip
-
-
-def read_runs(path: str | Path) -> list[dict]:
-    """Every run recorded in the store, oldest first."""
-    _read_study_row(Path(path))
-    return _query(path, "SELECT * FROM runs ORDER BY run_id")

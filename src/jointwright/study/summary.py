@@ -18,7 +18,7 @@ from typing import Any, Sequence
 import numpy as np
 
 from ..errors import InputError, unknown_name
-from .store import StoredCase, read_cases, read_study
+from .reading import StoredCase, read_cases, read_study
 
 FIXED_BEFORE = ("case_id", "variant")
 FIXED_AFTER = ("status", "wall_time", "worker", "error")
