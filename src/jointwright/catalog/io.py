@@ -385,7 +385,7 @@ def _at_most(t: Table, kw: dict, small: str, big: str, unit: str) -> None:
 
 
 def _family(t: Table) -> MotorFamily:
-    _check_keys(t, ("name", "reference", "sizes"))
+    _check_keys(t, ("name", "reference", "sizes", *FAMILY_SPEED_FIELDS))
     name = _name(t)
     reference = _motor(t.table("reference"), default_name=name)
     raw = t.list("sizes")
@@ -407,7 +407,37 @@ def _family(t: Table) -> MotorFamily:
         if (s, l) in sizes:
             raise InputError(t.file, where, f"size [{s:g}, {l:g}] is listed twice")
         sizes.append((s, l))
-    return MotorFamily(name=name, reference=reference, sizes=tuple(sizes))
+    return MotorFamily(name=name, reference=reference, sizes=tuple(sizes), **_family_speed(t))
+
+
+# --- motor families: mechanical speed limit ------------------------------------------------
+
+#: a family's mechanical speed limit at size 1 and its scaling exponent (docs/catalog-format.md)
+FAMILY_SPEED_FIELDS = ("speed_limit", "speed_limit_scaling")
+
+
+def _family_speed(t: Table) -> dict[str, float]:
+    """``speed_limit`` and ``speed_limit_scaling`` of a ``[[motor_family]]``: both or neither."""
+    given = [k for k in FAMILY_SPEED_FIELDS if t.has(k)]
+    if not given:
+        return {}
+    if len(given) == 1:
+        missing = next(k for k in FAMILY_SPEED_FIELDS if k not in given)
+        raise InputError(
+            t.file,
+            t.field(missing),
+            f"is required with {given[0]}: a mechanical speed limit states how it scales "
+            "with the gap radius (-1 keeps the rotor surface speed)",
+        )
+    limit = t.quantity("speed_limit", "angular_velocity", sign="positive")
+    scaling = t.quantity("speed_limit_scaling", "dimensionless")
+    if not -3.0 <= scaling <= 0.0:
+        raise InputError(
+            t.file,
+            t.field("speed_limit_scaling"),
+            f"must be from -3 to 0 (a larger rotor is not allowed a higher speed), got {scaling:g}",
+        )
+    return {"speed_limit": limit, "speed_limit_scaling": scaling}
 
 
 # --- stages --------------------------------------------------------------------------------

@@ -165,6 +165,20 @@ class MotorFamily:
     name: str
     reference: Motor
     sizes: tuple[tuple[float, float], ...]
+    #: mechanical speed limit (rad/s) of the size-1 member (bearings, rotor retention), or None;
+    #: a member of gap-radius scale s is capped at speed_limit·s**speed_limit_scaling
+    speed_limit: float | None = None
+    #: exponent of the gap-radius scale in the mechanical speed limit (≤ 0); −1 keeps the rotor's
+    #: surface speed (and the bearing's speed × bore product) of the reference [trade]
+    speed_limit_scaling: float = -1.0
+
+    def mechanical_speed(self, s: float) -> float:
+        """The mechanical speed limit (rad/s) of a member of gap-radius scale ``s``; inf without
+        a stated limit. The length scale does not enter: rotor radius and bearing bore follow
+        the gap radius."""
+        if self.speed_limit is None:
+            return math.inf
+        return self.speed_limit * s**self.speed_limit_scaling
 
     def member(self, s: float, l: float = 1.0) -> Motor:
         """The member with gap-radius scale ``s`` and length scale ``l`` (both 1 = reference).
@@ -172,6 +186,9 @@ class MotorFamily:
         The winding is taken as rewound to keep the line-to-line resistance of the reference, so
         Kt = Km·√R scales as √(s³·l) and the no-load speed at the same bus voltage as 1/Kt.
         Thermal resistance scales inversely with the outer surface, ∝ 1/(s·l) [trade].
+        With a stated mechanical speed limit the member's maximum speed is the smaller of that
+        electrical figure and :meth:`mechanical_speed`, so a scaled-down member does not gain an
+        unbounded speed from its smaller torque constant.
         """
         ref = self.reference
         torque = s**2 * l
@@ -179,6 +196,7 @@ class MotorFamily:
         if kt is not None and res is not None:
             kt = kt * math.sqrt(s**3 * l)
             speed = ref.max_speed * ref.torque_constant / kt
+        speed = min(speed, self.mechanical_speed(s))
         return Motor(
             name=f"{self.name}-{s:g}x{l:g}",
             peak_torque=ref.peak_torque * torque,
