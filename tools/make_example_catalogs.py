@@ -57,9 +57,20 @@ PLANETARY_FRAMES = [
 ]
 
 
-def frames(family, rows, backlash, stiffness):
+def frames(family, rows, backlash, stiffness, life=None):
+    """``life``: (rated-life torque / peak, speed key, speed, rated life, momentary / peak) or
+    None for frames without life and shock ratings."""
     out = []
     for size, peak, mass, inertia, brk, dia, length in rows:
+        ratings = {}
+        if life is not None:
+            share, speed_key, speed, hours, momentary = life
+            ratings = {
+                "rated_life_torque": f"{share * peak:g} N*m",
+                speed_key: speed,
+                "rated_life": hours,
+                "rated_momentary_torque": f"{momentary * peak:g} N*m",
+            }
         out.append({
             "name": f"{family}-{size}",
             "rated_peak_torque": f"{peak:g} N*m",
@@ -72,13 +83,17 @@ def frames(family, rows, backlash, stiffness):
             "diameter": f"{dia:g} mm",
             "length": f"{length:g} mm",
             "cost": round(40 + 3 * peak),
+            **ratings,
         })
     return out
 
 
-def stage_block(name, kind, ratios, efficiency, frame_rows):
+def stage_block(name, kind, ratios, efficiency, frame_rows, life_exponent=None):
     lines = ["[[stage]]", f'name = "{name}"', f'kind = "{kind}"', f"ratios = {ratios!r}",
-             f"efficiency = {efficiency}", ""]
+             f"efficiency = {efficiency}"]
+    if life_exponent is not None:
+        lines.append(f'life_exponent = "{life_exponent}"')
+    lines.append("")
     for fr in frame_rows:
         lines.append(toml_table("[[stage.frame]]", fr))
         lines.append("")
@@ -97,7 +112,18 @@ def write(path, header, motors, stages):
 LEG_HEADER = """# Invented catalog for the quadruped-leg example: the Flatwind short motors (size index 1 to 9,
 # smallest first) and four gear families (Orbit planetary, Strap belt, Lobe cycloidal, Flexring
 # strain-wave), each frame named <family>-<size index>. Every name and number here is made up
-# for the example; none describes a real product."""
+# for the example; none describes a real product.
+# Life and shock ratings (rated_life_*, rated_momentary_torque) are invented too: rated torque,
+# speed and hours of each frame's rated life, and its emergency-stop (momentary) torque."""
+
+#: leg gear families' life and shock ratings (invented): (rated-life torque / peak, speed key,
+#: speed, rated life, momentary / peak)
+LEG_LIFE = {
+    "Orbit": (0.3, "rated_life_input_speed", "3000 rpm", "5000 h", 2.0),
+    "Strap": (0.5, "rated_life_speed", "1000 rpm", "10000 h", 1.5),
+    "Lobe": (0.4, "rated_life_speed", "15 rpm", "6000 h", 2.0),
+    "Flexring": (0.4, "rated_life_input_speed", "2000 rpm", "7000 h", 1.8),
+}
 
 ARM_HEADER = """# Invented catalog for the mobile-arm example: 20 Ringwind frameless motors (size index 01 to 20,
 # by diameter then length) and six gear families (Orbit planetary, Mesh spur, Strap belt, Lobe
@@ -118,16 +144,19 @@ def leg():
     stages = [
         stage_block("Orbit", "planetary", [3, 4, 5, 6, 7, 8, 9, 10],
                     '{ model = "planetary_basic_train", basic_efficiency = 0.965 }',
-                    frames("Orbit", PLANETARY_FRAMES[:3], 15, 40)),
+                    frames("Orbit", PLANETARY_FRAMES[:3], 15, 40, LEG_LIFE["Orbit"]), "roller_bearing"),
         stage_block("Strap", "belt", [1.0, 1.5, 2.0, 2.5, 3.0],
                     '{ model = "constant", forward = 0.96, backward = 0.95 }',
-                    frames("Strap", [(1, 20, 0.08, 0.02, 0.01, 40, 20), (2, 45, 0.14, 0.05, 0.015, 50, 25)], 5, 15)),
+                    frames("Strap", [(1, 20, 0.08, 0.02, 0.01, 40, 20), (2, 45, 0.14, 0.05, 0.015, 50, 25)], 5, 15,
+                           LEG_LIFE["Strap"]), "ball_bearing"),
         stage_block("Lobe", "cycloidal", [11, 15, 21, 29],
                     '{ model = "coulomb", forward = 0.86 }',
-                    frames("Lobe", [(1, 50, 0.55, 0.25, 0.05, 60, 35), (2, 90, 0.85, 0.45, 0.07, 75, 40)], 1, 120)),
+                    frames("Lobe", [(1, 50, 0.55, 0.25, 0.05, 60, 35), (2, 90, 0.85, 0.45, 0.07, 75, 40)], 1, 120,
+                           LEG_LIFE["Lobe"]), "roller_bearing"),
         stage_block("Flexring", "strain_wave", [30, 50, 80, 100],
                     '{ model = "table", rows = [[30, 0.78, 0.70], [50, 0.74, 0.64], [80, 0.70, 0.58], [100, 0.66, 0.52]] }',
-                    frames("Flexring", [(1, 28, 0.18, 0.03, 0.04, 50, 30), (2, 55, 0.30, 0.08, 0.06, 60, 32)], 0.5, 150)),
+                    frames("Flexring", [(1, 28, 0.18, 0.03, 0.04, 50, 30), (2, 55, 0.30, 0.08, 0.06, 60, 32)], 0.5, 150,
+                           LEG_LIFE["Flexring"]), "ball_bearing"),
     ]
     write(ROOT / "leg" / "catalog.toml", LEG_HEADER, motors, stages)
 
