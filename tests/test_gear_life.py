@@ -49,7 +49,8 @@ def test_life_equation_reduces_to_iso_281_basic_rating_life(p, expected_h):
 def test_spectrum_mean_load_by_hand():
     # Two load levels: 100 N·m at 20 rad/s for 1 s, 50 N·m at 10 rad/s for 3 s, p = 3.
     # Revolution weights 20 and 30 rad: P_m³ = (20·10⁶ + 30·1.25·10⁵)/50 = 4.75·10⁵,
-    # P_m = 78.0245 N·m (78³ = 474,552, + 448/(3·78²)); the average speed is 50 rad / 4 s = 12.5 rad/s.
+    # P_m = 78.0245 N·m (78³ = 474,552, + 448/(3·78²)); the average speed is
+    # 50 rad / 4 s = 12.5 rad/s.
     t_eq, n_avg = equivalent_torque([100.0, -50.0], [20.0, -10.0], [1.0, 3.0], 3.0)
     assert float(t_eq) == pytest.approx(4.75e5 ** (1 / 3), rel=1e-12)
     assert float(t_eq) == pytest.approx(78.0245, rel=1e-6)
