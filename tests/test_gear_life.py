@@ -305,3 +305,23 @@ def test_life_min_is_a_sizing_constraint_the_search_honours():
     assert res.design != free.design
     lives = [c.achieved for c in res.assessment.checks if c.requirement == "life_min"]
     assert len(lives) == 3 and min(lives) >= limit / HOUR * (1 - 1e-9)
+
+
+def test_a_study_varies_the_life_requirement():
+    # a study path into the project: requirements.life_min, as written ("5000 h", "20000 h")
+    from jointwright.project import project_from_dict
+    from jointwright.study.spec import case_project, expand, parse_study
+
+    leg = load_example("leg")
+    spec = parse_study(
+        {
+            "study": {"format": 1, "name": "life", "base": "project.toml"},
+            "vary": [{"path": "requirements.life_min", "values": ["5000 h", "20000 h"]}],
+        },
+        study_dir=leg.file.parent,
+    )
+    lives = [
+        project_from_dict(case_project(spec, c), leg.file).requirements.life_min / HOUR
+        for c in expand(spec)
+    ]
+    assert lives == [pytest.approx(5000.0), pytest.approx(20000.0)]
