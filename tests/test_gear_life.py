@@ -269,6 +269,7 @@ def test_leg_assessment_reports_life_per_joint_with_margin():
     assert checks["knee"].achieved == pytest.approx(hand / HOUR, rel=1e-12)
 
 
+@pytest.mark.slow
 def test_life_min_is_a_sizing_constraint_the_search_honours():
     # the search against exhaustive enumeration on a small seeded leg instance, with a life
     # requirement just above the life of the unconstrained optimum, so that it binds
@@ -325,3 +326,47 @@ def test_a_study_varies_the_life_requirement():
         for c in expand(spec)
     ]
     assert lives == [pytest.approx(5000.0), pytest.approx(20000.0)]
+
+
+def test_the_per_joint_life_filter_never_removes_an_option_of_a_design_that_meets_it():
+    # solve/life_bound.py: the bound holds for every completion, checked on random designs of a
+    # small leg instance with the life limit at the median of their lives
+    from test_solve_search import build_table, small_catalog
+
+    from jointwright.evaluate import Evaluator
+    from jointwright.problem import checks, combined_gear_life
+    from jointwright.solve.life_bound import life_masks
+
+    leg = load_example("leg")
+    rng = np.random.default_rng(8)
+    project = dataclasses.replace(
+        leg,
+        catalog=small_catalog(leg.catalog, rng, motors=3, kinds=3, ratios=3),
+        max_stages=1,
+        stage_kinds=None,
+        cases=tuple(c for c in leg.cases if c.kind == "duty"),
+        requirements=Requirements(),
+    )
+    table = build_table(project)
+    ev_ = Evaluator(project)
+    sample = rng.integers(0, len(table), (300, 3))
+    limit = float(
+        np.nanmedian(
+            np.nanmin(combined_gear_life(project, ev_.evaluate(table.arrays(sample))), axis=1)
+        )
+    )
+    project = dataclasses.replace(project, requirements=Requirements(life_min=limit))
+    masks = life_masks(project, table, ev_)
+    ev = ev_.evaluate(table.arrays(sample))
+    by_joint = {}
+    for c in checks(project, table.arrays(sample), ev):
+        if c.name in ("life_min", "gear_peak_use_max"):
+            j = project.robot.actuated.index(c.subject)
+            by_joint[(j, c.name)] = c.ok
+    removed = 0
+    for j, label, keep in masks:
+        ok = by_joint[(j, label)]
+        # a design meeting the joint's check keeps its option at that joint
+        assert np.all(keep[sample[ok, j]]), label
+        removed += int((~keep).sum())
+    assert removed > 0  # the filter does remove options here (so the test can fail)
