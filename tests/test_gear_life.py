@@ -370,3 +370,33 @@ def test_the_per_joint_life_filter_never_removes_an_option_of_a_design_that_meet
         assert np.all(keep[sample[ok, j]]), label
         removed += int((~keep).sum())
     assert removed > 0  # the filter does remove options here (so the test can fail)
+
+
+def test_two_duty_cycles_combine_by_miner_rule_in_assess(tmp_path):
+    # the trot and the same gait at half speed (times doubled), 30 % / 70 % of the operating
+    # time: each joint's life check equals 1/(0.3/L_trot + 0.7/L_slow) from the cases' own lives
+    import csv
+
+    leg = load_example("leg")
+    rows = list(csv.reader(leg.file.with_name("gait.csv").read_text().splitlines()))
+    slow = [
+        r if not r or r[0].startswith(("#", "t")) else [f"{2 * float(r[0]):.6f}", *r[1:]]
+        for r in rows
+    ]
+    path = _leg_with(
+        tmp_path,
+        'ambient = "30 degC"',
+        'ambient = "30 degC"\nlife_share = 0.3\n\n[[case]]\nname = "walk"\nkind = "duty"\n'
+        'trajectory = "slow.csv"\nlife_share = 0.7',
+    )
+    with open(tmp_path / "slow.csv", "w", newline="") as fh:
+        csv.writer(fh).writerows(slow)
+    p = load_project(path)
+    a = assess(p, load_design(p.file.with_name("design.toml"), p))
+    trot = next(c for c in a.cases if c.name == "trot").metrics
+    walk = next(c for c in a.cases if c.name == "walk").metrics
+    for check in (c for c in a.checks if c.requirement == "life_min"):
+        j = check.subject
+        assert walk[f"gear_life:{j}"] != pytest.approx(trot[f"gear_life:{j}"], rel=1e-3)
+        combined = 1.0 / (0.3 / trot[f"gear_life:{j}"] + 0.7 / walk[f"gear_life:{j}"])
+        assert check.achieved == pytest.approx(combined / HOUR, rel=1e-12)
