@@ -189,3 +189,44 @@ def test_bad_shock_inputs_name_the_field(tmp_path, extra, field):
     with pytest.raises(InputError) as err:
         _project(tmp_path, extra=extra)
     assert err.value.field.endswith(field)
+
+
+@pytest.mark.slow
+def test_shock_use_max_is_a_sizing_constraint_the_search_honours():
+    # the search against exhaustive enumeration on a small seeded leg instance, with a shock
+    # limit just below the shock use of the unconstrained optimum, so that it binds
+    import dataclasses
+
+    from test_solve_search import agree, small_catalog
+
+    from jointwright.project import Requirements, load_example
+    from jointwright.sizing import size
+
+    leg = load_example("leg")
+    rng = np.random.default_rng(3)
+    touchdown = dataclasses.replace(leg.case("touchdown"), limits={})
+    project = dataclasses.replace(
+        leg,
+        catalog=small_catalog(leg.catalog, rng, motors=3, kinds=2, ratios=3),
+        max_stages=1,
+        stage_kinds=None,
+        objective={},
+        cases=tuple(dataclasses.replace(c, limits={}) for c in leg.cases if c.kind == "payload")
+        + (touchdown,),
+        requirements=Requirements(),
+    )
+    free = size(project, objective="payload", explain=False)
+    assert free.status == "optimal"
+    use = next(c for c in free.assessment.cases if c.name == "touchdown").metrics["shock_use"]
+    limit = 0.95 * use
+    bound = dataclasses.replace(
+        project,
+        cases=tuple(
+            dataclasses.replace(c, limits={"shock_use_max": limit}) if c.name == "touchdown" else c
+            for c in project.cases
+        ),
+    )
+    res = agree(bound, "payload")
+    assert res.status == "optimal"  # a design meets the tighter limit (payload may fall)
+    check = next(c for c in res.assessment.checks if c.requirement == "shock_use_max")
+    assert check.achieved <= limit * (1 + 1e-9) and res.design != free.design
