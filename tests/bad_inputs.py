@@ -1352,4 +1352,70 @@ STUDIES = [
     _study("not TOML", "[study]", "[study", "(syntax)", "malformed TOML"),
 ]
 
+# gear life and shock ratings (docs/catalog-format.md, "Life and shock ratings")
+CATALOG += [
+    _one(
+        "catalog",
+        "rated life without a life exponent",
+        "catalog.toml",
+        'life_exponent = "roller_bearing"\n',
+        "",
+        "check",
+        "stage[0].life_exponent",
+        "is required",
+    ),
+    _one(
+        "catalog",
+        "life exponent not a known basis",
+        "catalog.toml",
+        'life_exponent = "roller_bearing"',
+        'life_exponent = "roller"',
+        "check",
+        "stage[0].life_exponent",
+        "must be 'ball_bearing' or 'roller_bearing' or a number",
+    ),
+    _one(
+        "catalog",
+        "momentary rating below the repeated peak",
+        "catalog.toml",
+        'rated_momentary_torque = "32 N*m"',
+        'rated_momentary_torque = "12 N*m"',
+        "check",
+        "stage[0].frame[0].rated_momentary_torque",
+        "must be at least rated_peak_torque",
+    ),
+    _one(
+        "catalog",
+        "rated life negative",
+        "catalog.toml",
+        'rated_life = "5000 h"',
+        'rated_life = "-5000 h"',
+        "check",
+        "stage[0].frame[0].rated_life",
+        "must be > 0 s",
+    ),
+    _one(
+        "catalog",
+        "rated life speed given twice",
+        "catalog.toml",
+        'rated_life_input_speed = "3000 rpm"',
+        'rated_life_input_speed = "3000 rpm"\nrated_life_speed = "500 rpm"',
+        "check",
+        "stage[0].frame[0].rated_life_input_speed",
+        "give the rated life's speed once",
+    ),
+    _one(
+        "catalog",
+        "family speed limit without its scaling",
+        "catalog.toml",
+        "",
+        '[[motor_family]]\nname = "F"\nsizes = [[1, 1]]\nspeed_limit = "5000 rpm"\n'
+        "[motor_family.reference]\npeak_torque = 1\ncontinuous_torque = 0.5\n"
+        "rotor_inertia = 1e-5\nmass = 0.3\nmax_speed = 300\n\n",
+        "check",
+        "motor_family[0].speed_limit_scaling",
+        "is required with speed_limit",
+    ),
+]
+
 CORPUS = CATALOG + CSV + DESIGN + TRAJECTORY + URDF + STUDIES

@@ -1079,6 +1079,50 @@ BAD = [
         "column 'q:knee [m]'",
         "revolute",
     ),
+    # --- gear life and landing shock -------------------------------------------------------
+    Bad(
+        "life requirement negative",
+        (("project.toml", 'life_min = "10000 h"', 'life_min = "-10000 h"'),),
+        "check",
+        "project.toml",
+        "requirements.life_min",
+        "must be > 0 s",
+    ),
+    Bad(
+        "life share above one",
+        (("project.toml", 'ambient = "30 degC"', 'ambient = "30 degC"\nlife_share = 2'),),
+        "check",
+        "project.toml",
+        "case[6].life_share",
+        "must be from 0 to 1",
+    ),
+    Bad(
+        "impact speed without restitution",
+        (("project.toml", "restitution = 0.0\n", ""),),
+        "check",
+        "project.toml",
+        "case[3].restitution",
+        "is required with impact_speed",
+    ),
+    Bad(
+        "restitution above one",
+        (("project.toml", "restitution = 0.0", "restitution = 1.2"),),
+        "check",
+        "project.toml",
+        "case[3].restitution",
+        "must be from 0 to 1",
+    ),
+    Bad(
+        "shock limit without an impact speed",
+        (
+            ("project.toml", 'impact_speed = "1.0 m/s"\n', ""),
+            ("project.toml", "restitution = 0.0\n", ""),
+        ),
+        "check",
+        "project.toml",
+        "case[3].impact_speed",
+        "is required with shock_use_max",
+    ),
 ]
 
 

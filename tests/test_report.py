@@ -28,6 +28,7 @@ from jointwright.cli import main
 from jointwright.design import load_design
 from jointwright.project import load_project
 from jointwright.report import build_report
+from jointwright.report.markup import PERCENT_REQUIREMENTS
 
 # the quadruped has 12 joints and stance cases (cone programs): a few seconds more
 EXAMPLES = ("leg", "arm", pytest.param("quadruped", marks=pytest.mark.slow))
@@ -127,7 +128,8 @@ def test_requirement_values_equal_the_assessment(built):
     assert a["checks"], "the examples state requirements"
     for c in a["checks"]:
         key = f"{c['subject']}:{c['requirement']}"
-        scale = 100.0 if c["requirement"] == "rating_use_max" else 1.0  # a fraction, shown in %
+        # rating, shock and peak uses are fractions, shown in %
+        scale = 100.0 if c["requirement"] in PERCENT_REQUIREMENTS else 1.0
         achieved = _cell(cells, check=key, field="achieved")
         assert _close(_value(achieved), _scaled(c["achieved"], scale)), key
         assert _close(_value(_cell(cells, check=key, field="limit")), _scaled(c["limit"], scale))
@@ -387,7 +389,7 @@ def test_browser_renders_the_numbers_and_images(built, tmp_path):
     assert _close(_value(_cell(dom.cells, field="total_mass")), a["total_mass"])
     for c in a["checks"]:
         key = f"{c['subject']}:{c['requirement']}"
-        scale = 100.0 if c["requirement"] == "rating_use_max" else 1.0  # a fraction, in %
+        scale = 100.0 if c["requirement"] in PERCENT_REQUIREMENTS else 1.0  # a fraction, in %
         shown = _value(_cell(dom.cells, check=key, field="achieved"))
         assert _close(shown, _scaled(c["achieved"], scale))
     shot = tmp_path / "page.png"

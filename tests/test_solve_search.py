@@ -88,6 +88,7 @@ def set_limits(project, rng, table, keep_duty=True):
         "backdrive_force_max": "backdrive_force",
         "speed_min": "speed",
         "rating_use_max": "rating_use",
+        "shock_use_max": "shock_use",
     }
     cases = []
     for c in project.cases:

@@ -189,6 +189,7 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
             "standards "
             "and licensed engineering practice."
         )
+    cautions.extend(gear_cautions(project))
     for j, a in zip(names, design.actuators, strict=True):
         if a.self_locking:
             cautions.append(
@@ -208,6 +209,32 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
         feasible=bool(feasible(cl, 1)[0]),
         cautions=tuple(cautions),
     )
+
+
+#: cautions for the gear life and landing-shock checks (docs/metrics.md)
+SHOCK_CAUTION = (
+    "Gear shock at impacts is a concept-stage estimate (rigid contact, the links take the impulse "
+    "before the rotors move, an undamped gear spring; backlash, a softer or harder contact and "
+    "repeated impacts are not in it) compared with the supplier's momentary rating. A gear that "
+    "breaks at an impact can drop the robot or release its load: hurting someone nearby. Verify "
+    "by the supplier's data and by test, and apply the applicable machinery safety standards and "
+    "licensed engineering practice."
+)
+LIFE_CAUTION = (
+    "Gear life uses the rated-life equation with the catalog's rated point and life exponent and "
+    "Miner's rule over the duty cycles; lubrication, temperature, misalignment and shock loads "
+    "change real lives. Confirm with the supplier and by test before relying on it."
+)
+
+
+def gear_cautions(project) -> list[str]:
+    """The usual cautions for the gear-shock and gear-life checks a project makes."""
+    out = []
+    if any(getattr(c, "impact_speed", 0.0) > 0 for c in project.cases):
+        out.append(SHOCK_CAUTION)
+    if getattr(project.requirements, "life_min", 0.0) > 0:
+        out.append(LIFE_CAUTION)
+    return out
 
 
 def _zero_payload_note(project, case, metrics: dict, limiting: str | None) -> str | None:

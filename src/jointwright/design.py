@@ -174,6 +174,15 @@ class DesignArrays:
     diameter: np.ndarray
     length: np.ndarray
     cost: np.ndarray
+    # --- gear life and shock (metrics/gear_life.py, metrics/gear_shock.py) ---
+    #: per stage slot (D, n, LIFE_SLOTS), joint side: rated life torque (N·m), speed (rad/s),
+    #: life (s) and exponent; an empty slot has life inf, an unrated stage NaN
+    life_torque: np.ndarray
+    life_speed: np.ndarray
+    life_rated: np.ndarray
+    life_exponent: np.ndarray
+    gear_momentary_torque: np.ndarray  # joint side; inf direct drive, NaN when unrated
+    stiffness: np.ndarray  # joint side, N·m/rad; inf when unknown
 
     @property
     def count(self) -> int:
@@ -228,7 +237,22 @@ _ACTUATOR_FIELDS = {
     "diameter": lambda a: a.diameter,
     "length": lambda a: a.length,
     "cost": lambda a: a.cost,
+    "life_torque": lambda a: _slots(a, 0, math.inf),
+    "life_speed": lambda a: _slots(a, 1, 1.0),
+    "life_rated": lambda a: _slots(a, 2, math.inf),
+    "life_exponent": lambda a: _slots(a, 3, 3.0),
+    "gear_momentary_torque": lambda a: a.gear_momentary_torque,
+    "stiffness": lambda a: a.stiffness,
 }
+
+#: stage slots of the life arrays: the most stages a stack may have (project max_stages ≤ 3)
+LIFE_SLOTS = 3
+
+
+def _slots(a: Actuator, k: int, empty: float) -> tuple[float, ...]:
+    """Entry ``k`` of each stage's joint-side life rating, padded to LIFE_SLOTS with ``empty``."""
+    values = [r[k] for r in a.life_ratings]
+    return tuple(values + [empty] * (LIFE_SLOTS - len(values)))
 
 
 def _nan(x):

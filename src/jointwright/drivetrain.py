@@ -238,6 +238,49 @@ class Actuator:
         """Joint-side backlash (rad): each stage's output backlash divided by the ratio after it."""
         return sum(s.frame.backlash / self._ratio_after(k) for k, s in enumerate(self.stages))
 
+    # --- life and shock ratings, joint side (metrics/gear_life.py, metrics/gear_shock.py) ----
+    @cached_property
+    def life_ratings(self) -> tuple[tuple[float, float, float, float], ...]:
+        """Per stage, its rated life referred to the joint: (torque N·m, speed rad/s, life s,
+        exponent). Stage k carries τ_j/(N_{k+1}…N_n) at q̇·(N_{k+1}…N_n) (ideal split, as the
+        gear ratings), so its rated torque T_r and output speed n_r become T_r·N_after and
+        n_r/N_after at the joint. NaN for a stage without a rated life."""
+        out = []
+        for k, s in enumerate(self.stages):
+            f, after = s.frame, self._ratio_after(k)
+            speed = f.life_output_speed(s.ratio)
+            if (
+                f.rated_life is None
+                or f.rated_life_torque is None
+                or speed is None
+                or s.stage.life_exponent is None
+            ):
+                out.append((math.nan,) * 4)
+            else:
+                out.append(
+                    (
+                        f.rated_life_torque * after,
+                        speed / after,
+                        f.rated_life,
+                        s.stage.life_exponent,
+                    )
+                )
+        return tuple(out)
+
+    @cached_property
+    def gear_momentary_torque(self) -> float:
+        """Joint-side torque at which the first stage reaches its momentary (emergency-stop)
+        rating (N·m); inf for direct drive, NaN when a stage states none."""
+        if not self.stages:
+            return math.inf
+        values = [
+            math.nan
+            if s.frame.rated_momentary_torque is None
+            else s.frame.rated_momentary_torque * self._ratio_after(k)
+            for k, s in enumerate(self.stages)
+        ]
+        return math.nan if any(math.isnan(v) for v in values) else min(values)
+
     def label(self) -> str:
         stack = " + ".join(s.label() for s in self.stages) or "direct drive"
         return f"{self.motor.name} | {stack}"

@@ -21,7 +21,8 @@ import numpy as np
 import pinocchio as pin
 
 from .errors import InputError
-from .metrics.duty import duty_summary
+from .metrics.duty import duty_summary, weights
+from .metrics.gear_life import stack_life
 from .progress import report
 from .trajectory import Trajectory, load_trajectory
 
@@ -232,4 +233,30 @@ def evaluate_duty(pd: PreparedDuty, d, *, detail: bool = True) -> dict[str, np.n
         out.update({k: per[k] for k in _PER_JOINT if k != "worst_ratio"})
         out["cycle_energy_regen"] = np.nansum(per["energy_regen"], axis=-1)
         out["cycle_energy_no_regen"] = np.nansum(per["energy_no_regen"], axis=-1)
+    out.update(gear_life_of_cycle(pd, d, tau, detail=detail))
+    return out
+
+
+def gear_life_of_cycle(pd: PreparedDuty, d, tau: np.ndarray, *, detail: bool = True) -> dict:
+    """Gear life (s) of each joint's stack if it ran this cycle only, and the repeated-peak use.
+
+    The gear's output carries the joint torque τ_j(t) at the joint speed q̇_j(t) in every
+    power-flow mode (the rotor's inertia torque acts on the motor side); metrics.gear_life.
+    ``gear_peak_use`` is max_t |τ_j| over the joint-side repeated-peak rating.
+    """
+    life, _slot, t_eq, n_avg = stack_life(
+        tau,
+        pd.qd,
+        weights(pd.trajectory.t),
+        d.life_torque,
+        d.life_speed,
+        d.life_rated,
+        d.life_exponent,
+    )
+    with np.errstate(divide="ignore"):
+        peak = np.abs(tau).max(axis=-1) / d.gear_peak_torque
+    out = {"gear_life": life, "gear_peak_use": peak}
+    if detail:
+        out["gear_equivalent_torque"] = t_eq
+        out["gear_average_speed"] = np.broadcast_to(n_avg, life.shape).copy()
     return out

@@ -38,6 +38,7 @@ from .design import DesignArrays
 from .dutycase import evaluate_duty, prepare_duty
 from .metrics.backdrive import backdrive_force
 from .metrics.contact_safety import transient_contact
+from .metrics.gear_shock import gear_shock_torque, link_velocity_step
 from .metrics.inertia import effective_mass, forward_effective_mass, impact_mitigation
 from .metrics.linalg_small import inv_small
 from .metrics.payload import payload_along, torque_bounds
@@ -361,7 +362,39 @@ class Evaluator:
             out["contact_speed"] = contact.speed
             if detail:
                 out["contact_energy"] = contact.energy
+        if getattr(pc.case, "impact_speed", 0.0) > 0:
+            out.update(self._gear_shock(pc, d, structure))
         return out
+
+    def _gear_shock(self, pc: PreparedCase, d: DesignArrays, structure) -> dict[str, np.ndarray]:
+        """Peak gear torque per joint at the impact and its use of the momentary rating
+        (metrics/gear_shock.py): the links take the impulse with the rotors still, then each
+        gear spring meets the joint's velocity step. Held joints are structure."""
+        M = mass_matrix(pc.basis, d.mass, np.zeros_like(d.mass))
+        impulse, dq = link_velocity_step(
+            pc.J, M, pc.u, pc.case.impact_speed, pc.case.restitution, structure
+        )
+        # direct drive: momentary rating inf (no gear); an unrated stage: NaN (use unknown)
+        has_gear = ~np.isposinf(d.gear_momentary_torque)
+        torque = gear_shock_torque(
+            dq[..., self.v_index],
+            d.stiffness,
+            d.reflected_inertia("backdriven"),
+            d.self_locking,
+            has_gear,
+        )
+        with np.errstate(invalid="ignore", divide="ignore"):
+            use = np.where(has_gear, torque / d.gear_momentary_torque, 0.0)
+        worst = np.where(np.isnan(use), np.inf, use)
+        j = np.argmax(worst, axis=-1)
+        return {
+            "shock_use": np.take_along_axis(worst, j[..., None], axis=-1)[..., 0],
+            "shock_limiting_joint": j,
+            "impulse": impulse,
+            "shock_torque": torque,
+            "shock_use_joint": use,
+            "shock_joint_speed": dq[..., self.v_index],
+        }
 
     def _forward_effective_mass(
         self, pc: PreparedCase, d: DesignArrays, directions: np.ndarray | None = None

@@ -270,8 +270,10 @@ def joint_candidates(
     -------
     JointCandidates
     """
+    from .solve.life_bound import life_masks
+
     pins = pins or {}
-    speed = _speed_masks(evaluator, table)
+    speed = _speed_masks(evaluator, table) + life_masks(project, table, evaluator)
     index, removed = [], []
     for j, name in enumerate(project.robot.actuated):
         keep = np.ones(len(table), dtype=bool)

@@ -13,7 +13,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .project import CASE_LIMITS, STANDARD_GRAVITY
+from .metrics.gear_life import miner_life
+from .project import CASE_LIMITS, STANDARD_GRAVITY, life_shares
 
 #: achieved value per case-limit key: (metric name in the evaluation, unit shown)
 _CASE_METRIC = {
@@ -26,6 +27,7 @@ _CASE_METRIC = {
     "acceleration_min": ("acceleration", "m/s²"),
     "contact_speed_min": ("contact_speed", "m/s"),
     "rating_use_max": ("rating_use", ""),
+    "shock_use_max": ("shock_use", ""),
 }
 
 OBJECTIVES = ("payload", "mass", "imf")
@@ -96,6 +98,37 @@ def checks(project, arrays, evaluation) -> list[Check]:
         for key, achieved, limit, sense, unit in per:
             if (sense == "max" and math.isfinite(limit)) or (sense == "min" and limit > 0):
                 out.append(Check(key, name, achieved, limit, sense, unit))
+    out.extend(gear_life_checks(project, evaluation))
+    return out
+
+
+#: seconds per hour: gear lives are shown in hours
+HOUR = 3600.0
+
+
+def combined_gear_life(project, evaluation) -> np.ndarray | None:
+    """Each joint's gear life (s) over the counted duty cycles by Miner's rule, (D, n); None
+    when a counted cycle is not in ``evaluation`` (a screen without the duty cases)."""
+    shares = life_shares(project)
+    if not shares or any(name not in evaluation for name, _ in shares):
+        return None
+    lives = [np.asarray(evaluation[name]["gear_life"], dtype=float) for name, _ in shares]
+    return miner_life(lives, [s for _, s in shares])
+
+
+def gear_life_checks(project, evaluation) -> list[Check]:
+    """``life_min``: per joint, the combined gear life (h) against the requirement, and every
+    counted cycle's peak joint torque against the repeated-peak rating (use ≤ 1)."""
+    limit = project.requirements.life_min
+    life = combined_gear_life(project, evaluation) if limit > 0 else None
+    if life is None:
+        return []
+    names = [n for n, _ in life_shares(project)]
+    peak = np.max([np.asarray(evaluation[n]["gear_peak_use"], dtype=float) for n in names], axis=0)
+    out = []
+    for j, joint in enumerate(project.robot.actuated):
+        out.append(Check("life_min", joint, life[:, j] / HOUR, limit / HOUR, "min", "h"))
+        out.append(Check("gear_peak_use_max", joint, peak[:, j], 1.0, "max", ""))
     return out
 
 

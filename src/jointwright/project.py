@@ -75,6 +75,13 @@ class Case:
     body_region: tuple[float, float, float] | None = None
     #: requirement name -> limit, e.g. {"payload_min": 150.0} (SI)
     limits: dict[str, float] = field(default_factory=dict)
+    #: duty cases: share of the operating time spent in this cycle, for the gear life of
+    #: ``[requirements] life_min`` (Miner's rule over the cycles); None: not counted
+    life_share: float | None = None
+    #: impact cases: approach speed along ``direction`` (m/s) and restitution of the impact, for
+    #: the peak gear torque (metrics/gear_shock.py); 0: no gear shock check
+    impact_speed: float = 0.0
+    restitution: float = 0.0
     #: for payload cases: the force is reported as a mass too when the direction is vertical
     weight_equivalent: bool = False
     #: stance cases: (frame, friction coefficient, unit normal from the ground into the robot)
@@ -90,6 +97,8 @@ CASE_LIMITS: dict[str, dict[str, tuple[str, str]]] = {
         "directional_imf_min": ("dimensionless", "min"),
         "effective_mass_max": ("mass", "max"),
         "contact_speed_min": ("velocity", "min"),
+        # peak gear torque at the impact over the momentary rating, worst joint (1 = at rating)
+        "shock_use_max": ("dimensionless", "max"),
     },
     "backdrive": {"backdrive_force_max": ("force", "max")},
     "speed": {"speed_min": ("velocity", "min"), "acceleration_min": ("acceleration", "min")},
@@ -114,6 +123,9 @@ class Requirements:
     total_mass_max: float = math.inf
     total_cost_max: float = math.inf
     joints: dict[str, JointLimits] = field(default_factory=dict)
+    #: least gear life of every joint over the duty cycles (s; Miner's rule with the cycles'
+    #: life shares, metrics/gear_life.py); 0 = no requirement
+    life_min: float = 0.0
 
     def joint(self, name: str) -> JointLimits:
         return self.joints.get(name, JointLimits())
@@ -205,6 +217,7 @@ def project_from_dict(data: dict, path: Path) -> Project:
         if c.name in seen:
             raise InputError(file, f"case[{i}].name", f"duplicate case name {c.name!r}")
         seen.add(c.name)
+    _check_life_shares(file, requirements, cases)
     objective = top.raw("objective", {})
     if not isinstance(objective, dict):
         raise InputError(file, "objective", "must be a table")
@@ -286,6 +299,7 @@ def _load_catalog(t: Table, base_dir: Path):
 def _load_requirements(t: Table, robot) -> Requirements:
     total = t.quantity("total_mass_max", "mass", math.inf, sign="positive")
     cost = t.quantity("total_cost_max", "dimensionless", math.inf, sign="positive")
+    life = t.quantity("life_min", "time", 0.0, sign="positive")
     joints = {}
     jt = t.table("joint", {})
     for jname in list(jt.data):
@@ -316,7 +330,45 @@ def _load_requirements(t: Table, robot) -> Requirements:
         sub.done()
     jt.done()
     t.done()
-    return Requirements(total_mass_max=total, total_cost_max=cost, joints=joints)
+    return Requirements(total_mass_max=total, total_cost_max=cost, joints=joints, life_min=life)
+
+
+#: life shares of the counted duty cases must sum to 1 within this
+LIFE_SHARE_TOLERANCE = 1e-6
+
+
+def _check_life_shares(file: str, req: Requirements, cases: tuple[Case, ...]) -> None:
+    """``life_min`` needs duty cycles whose ``life_share`` values sum to 1 (docs/project-format.md);
+    a project with a single duty case may leave its share out (the whole life in that cycle)."""
+    duty = [(i, c) for i, c in enumerate(cases) if c.kind == "duty"]
+    counted = [(i, c) for i, c in duty if c.life_share is not None]
+    if req.life_min > 0 and not duty:
+        raise InputError(
+            file, "requirements.life_min", "needs at least one duty case (the cycles the gears run)"
+        )
+    if req.life_min > 0 and not counted and len(duty) > 1:
+        raise InputError(
+            file,
+            f"case[{duty[0][0]}].life_share",
+            "is required with requirements.life_min and several duty cases: give each counted "
+            "cycle its share of the operating time (the shares sum to 1)",
+        )
+    total = sum(float(c.life_share or 0.0) for _, c in counted)
+    if counted and abs(total - 1.0) > LIFE_SHARE_TOLERANCE:
+        raise InputError(
+            file,
+            f"case[{counted[-1][0]}].life_share",
+            f"the duty cases' life shares must sum to 1 (the whole operating time), got {total:g}",
+        )
+
+
+def life_shares(project: Project) -> list[tuple[str, float]]:
+    """(duty case name, share of the operating time) of the cycles the gear life counts."""
+    duty = [c for c in project.cases if c.kind == "duty"]
+    counted = [(c.name, c.life_share) for c in duty if c.life_share is not None]
+    if not counted and len(duty) == 1:
+        return [(duty[0].name, 1.0)]
+    return counted
 
 
 def _read_pose(pt: Table, robot) -> dict[str, float]:
@@ -517,7 +569,15 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
                 )
     if kind == "duty" and "rating_use_max" not in limits:
         limits["rating_use_max"] = 1.0
+    life_share = None
+    if kind == "duty" and t.has("life_share"):
+        life_share = t.quantity("life_share", "dimensionless", sign="positive")
+        if life_share > 1:
+            raise InputError(
+                t.file, t.field("life_share"), f"must be from 0 to 1, got {life_share:g}"
+            )
     body_region = _body_region(t) if kind == "impact" else None
+    impact_speed, restitution = _impact_shock(t, limits) if kind == "impact" else (0.0, 0.0)
     if "contact_speed_min" in limits and body_region is None:
         raise InputError(
             t.file,
@@ -550,7 +610,39 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
         fixed_load=fixed_load,
         payload_share=payload_share,
         body_region=body_region,
+        life_share=life_share,
+        impact_speed=impact_speed,
+        restitution=restitution,
     )
+
+
+def _impact_shock(t: Table, limits: dict) -> tuple[float, float]:
+    """An impact case's ``impact_speed`` and ``restitution`` (both or neither); ``shock_use_max``
+    needs them."""
+    given = [k for k in ("impact_speed", "restitution") if t.has(k)]
+    if not given:
+        t.allow("impact_speed", "restitution")
+        if "shock_use_max" in limits:
+            raise InputError(
+                t.file,
+                t.field("impact_speed"),
+                "is required with shock_use_max (with restitution): the approach speed of the "
+                "impact along direction",
+            )
+        return 0.0, 0.0
+    if len(given) == 1:
+        missing = "restitution" if given[0] == "impact_speed" else "impact_speed"
+        raise InputError(
+            t.file,
+            t.field(missing),
+            f"is required with {given[0]}: a gear-shock impact needs its approach speed and its "
+            "restitution (0 = plastic, the foot stays down; 1 = elastic)",
+        )
+    speed = t.quantity("impact_speed", "velocity", sign="positive")
+    e = t.quantity("restitution", "dimensionless", sign="nonnegative")
+    if e > 1:
+        raise InputError(t.file, t.field("restitution"), f"must be from 0 to 1, got {e:g}")
+    return speed, e
 
 
 #: fields of an impact case's body region (transient contact, ISO/TS 15066 two-body model)

@@ -29,7 +29,7 @@ from ..errors import InputError, did_you_mean, unknown_name
 from ..tomlfile import Table, is_file, load_toml
 from ..units import positive, registry
 from .efficiency import efficiency_from_dict
-from .model import STAGE_KINDS, Catalog, Motor, MotorFamily, StageFrame, StageType
+from .model import LIFE_BASES, STAGE_KINDS, Catalog, Motor, MotorFamily, StageFrame, StageType
 
 #: Motor field -> (dimension for units.quantity, sign rule)
 MOTOR_FIELDS: dict[str, tuple[str, str]] = {
@@ -64,6 +64,16 @@ FRAME_FIELDS: dict[str, tuple[str, str]] = {
     "cost": ("dimensionless", "nonnegative"),
 }
 
+#: StageFrame life and shock ratings (docs/catalog-format.md, "Life and shock ratings")
+FRAME_RATING_FIELDS: dict[str, tuple[str, str]] = {
+    "rated_life_torque": ("torque", "positive"),
+    "rated_life_speed": ("angular_velocity", "positive"),
+    "rated_life_input_speed": ("angular_velocity", "positive"),
+    "rated_life": ("time", "positive"),
+    "rated_momentary_torque": ("torque", "positive"),
+}
+FRAME_FIELDS.update(FRAME_RATING_FIELDS)
+
 #: typical single-stage ratio (low, high) and forward efficiency (low, high) per stage kind
 #: [trade, see REFERENCES.md]; None where no range is customary (screws: the ratio is rad/m)
 TYPICAL: dict[str, tuple[tuple[float, float] | None, tuple[float, float]]] = {
@@ -86,7 +96,7 @@ MODEL_KINDS = {
 }
 
 _TOP_KEYS = ("description", "motor", "motor_family", "stage", "motors_csv", "frames_csv")
-_STAGE_KEYS = ("name", "kind", "ratios", "ratio_range", "efficiency", "frame")
+_STAGE_KEYS = ("name", "kind", "ratios", "ratio_range", "efficiency", "frame", "life_exponent")
 
 
 class _Where(NamedTuple):
@@ -382,7 +392,7 @@ def _at_most(t: Table, kw: dict, small: str, big: str, unit: str) -> None:
 
 
 def _family(t: Table) -> MotorFamily:
-    _check_keys(t, ("name", "reference", "sizes"))
+    _check_keys(t, ("name", "reference", "sizes", *FAMILY_SPEED_FIELDS))
     name = _name(t)
     reference = _motor(t.table("reference"), default_name=name)
     raw = t.array("sizes")
@@ -404,7 +414,37 @@ def _family(t: Table) -> MotorFamily:
         if (s, length) in sizes:
             raise InputError(t.file, where, f"size [{s:g}, {length:g}] is listed twice")
         sizes.append((s, length))
-    return MotorFamily(name=name, reference=reference, sizes=tuple(sizes))
+    return MotorFamily(name=name, reference=reference, sizes=tuple(sizes), **_family_speed(t))
+
+
+# --- motor families: mechanical speed limit ------------------------------------------------
+
+#: a family's mechanical speed limit at size 1 and its scaling exponent (docs/catalog-format.md)
+FAMILY_SPEED_FIELDS = ("speed_limit", "speed_limit_scaling")
+
+
+def _family_speed(t: Table) -> dict[str, float]:
+    """``speed_limit`` and ``speed_limit_scaling`` of a ``[[motor_family]]``: both or neither."""
+    given = [k for k in FAMILY_SPEED_FIELDS if t.has(k)]
+    if not given:
+        return {}
+    if len(given) == 1:
+        missing = next(k for k in FAMILY_SPEED_FIELDS if k not in given)
+        raise InputError(
+            t.file,
+            t.field(missing),
+            f"is required with {given[0]}: a mechanical speed limit states how it scales "
+            "with the gap radius (-1 keeps the rotor surface speed)",
+        )
+    limit = t.quantity("speed_limit", "angular_velocity", sign="positive")
+    scaling = t.quantity("speed_limit_scaling", "dimensionless")
+    if not -3.0 <= scaling <= 0.0:
+        raise InputError(
+            t.file,
+            t.field("speed_limit_scaling"),
+            f"must be from -3 to 0 (a larger rotor is not allowed a higher speed), got {scaling:g}",
+        )
+    return {"speed_limit": limit, "speed_limit_scaling": scaling}
 
 
 # --- stages --------------------------------------------------------------------------------
@@ -414,7 +454,69 @@ def _frame(t: Table) -> StageFrame:
     _check_keys(t, ("name", *FRAME_FIELDS))
     kw = _values(t, FRAME_FIELDS, StageFrame)
     _at_most(t, kw, "rated_continuous_torque", "rated_peak_torque", "N·m")
+    _frame_ratings(t, kw)
     return StageFrame(name=_name(t), **kw)
+
+
+# --- stages: life and shock ratings ---------------------------------------------------------
+
+_LIFE_KEYS = ("rated_life_torque", "rated_life")
+_LIFE_SPEEDS = ("rated_life_speed", "rated_life_input_speed")
+
+
+def _frame_ratings(t: Table, kw: dict) -> None:
+    """A rated life needs its torque, life and exactly one speed; ratings order with the peak."""
+    life = [k for k in (*_LIFE_KEYS, *_LIFE_SPEEDS) if k in kw]
+    speeds = [k for k in _LIFE_SPEEDS if k in kw]
+    if len(speeds) == 2:
+        raise InputError(
+            t.file,
+            t.field(speeds[1]),
+            "give the rated life's speed once: at the output (rated_life_speed) or at the "
+            "input (rated_life_input_speed)",
+        )
+    if life:
+        missing = [k for k in _LIFE_KEYS if k not in kw] or (
+            ["rated_life_speed"] if not speeds else []
+        )
+        if missing:
+            raise InputError(
+                t.file,
+                t.field(missing[0]),
+                f"is required with {life[0]}: a rated life needs rated_life_torque, rated_life "
+                "and rated_life_speed (or rated_life_input_speed)",
+            )
+        if kw["rated_life_torque"] > kw["rated_peak_torque"]:
+            raise InputError(
+                t.file,
+                t.field("rated_life_torque"),
+                f"must not exceed rated_peak_torque ({kw['rated_peak_torque']:g} N·m), got "
+                f"{kw['rated_life_torque']:g} N·m",
+            )
+    if kw.get("rated_momentary_torque", math.inf) < kw["rated_peak_torque"]:
+        raise InputError(
+            t.file,
+            t.field("rated_momentary_torque"),
+            f"must be at least rated_peak_torque ({kw['rated_peak_torque']:g} N·m, the repeated "
+            f"peak), got {kw['rated_momentary_torque']:g} N·m",
+        )
+
+
+def _life_exponent(t: Table) -> float | None:
+    """A stage's ``life_exponent``: a number > 0 or a named basis (LIFE_BASES)."""
+    if not t.has("life_exponent"):
+        return None
+    raw = t.raw("life_exponent")
+    if isinstance(raw, str) and raw in LIFE_BASES:
+        return LIFE_BASES[raw]
+    if isinstance(raw, (int, float)) and not isinstance(raw, bool) and 0 < raw <= 20:
+        return float(raw)
+    raise InputError(
+        t.file,
+        t.field("life_exponent"),
+        f"must be {' or '.join(repr(k) for k in LIFE_BASES)} or a number from 0 to 20 (the "
+        f"supplier's life exponent), got {raw!r}",
+    )
 
 
 class _StageDraft:
@@ -434,6 +536,7 @@ class _StageDraft:
             key = "ratios" if self.ratios is not None else "ratio_range"
             check(self.ratios or self.ratio_range, file=t.file, field=t.field(key))
         self.frames = [(_frame(ft), ft) for ft in t.tables("frame")]
+        self.life_exponent = _life_exponent(t)
 
     def build(self) -> StageType:
         if not self.frames:
@@ -452,6 +555,15 @@ class _StageDraft:
                     f"duplicate frame name {frame.name!r} in stage {self.name!r}",
                 )
             seen[frame.name] = ft
+        rated = [ft for frame, ft in self.frames if frame.rated_life is not None]
+        if rated and self.life_exponent is None:
+            raise InputError(
+                self.t.file,
+                self.t.field("life_exponent"),
+                f"is required: frame {rated[0].path} states a rated life; give the life "
+                'exponent ("ball_bearing" = 3, "roller_bearing" = 10/3 per ISO 281, or the '
+                "supplier's number)",
+            )
         return StageType(
             name=self.name,
             kind=self.kind,
@@ -459,6 +571,7 @@ class _StageDraft:
             frames=tuple(f for f, _ in self.frames),
             ratios=self.ratios,
             ratio_range=self.ratio_range,
+            life_exponent=self.life_exponent,
         )
 
 

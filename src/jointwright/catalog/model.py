@@ -108,6 +108,16 @@ class StageFrame:
     stiffness : N·m/rad torsional, at the output (inf when unknown)
     diameter, length : m (0 when unknown)
     cost : currency units (0 when unknown)
+
+    Life and shock ratings (None: not rated; docs/catalog-format.md). ``rated_peak_torque`` is
+    the repeated-peak rating (starts and stops of the normal cycle).
+
+    rated_life_torque : N·m at the output, the torque of the rated life
+    rated_life_speed : rad/s at the output, the speed of the rated life (or
+        ``rated_life_input_speed`` at the input; exactly one of the two with a rated life)
+    rated_life : s, the life at rated_life_torque and that speed
+    rated_momentary_torque : N·m at the output, the emergency-stop / collision rating (a rare
+        event, not a cycle)
     """
 
     name: str
@@ -121,6 +131,25 @@ class StageFrame:
     diameter: float = 0.0
     length: float = 0.0
     cost: float = 0.0
+    # --- life and shock ratings (None: not rated) ---
+    rated_life_torque: float | None = None
+    rated_life_speed: float | None = None
+    rated_life_input_speed: float | None = None
+    rated_life: float | None = None
+    rated_momentary_torque: float | None = None
+
+    def life_output_speed(self, ratio: float) -> float | None:
+        """The output speed (rad/s) of the rated life for a stage of this ``ratio``."""
+        if self.rated_life_speed is not None:
+            return self.rated_life_speed
+        if self.rated_life_input_speed is not None:
+            return self.rated_life_input_speed / ratio
+        return None
+
+
+#: life exponents p of L = L_r·(T_r/T_eq)^p·(n_r/n_avg) by the named basis: the basic rating
+#: life of ISO 281 for ball (3) and roller (10/3) bearings [pub]
+LIFE_BASES = {"ball_bearing": 3.0, "roller_bearing": 10.0 / 3.0}
 
 
 @dataclass(frozen=True)
@@ -137,6 +166,9 @@ class StageType:
     frames: tuple[StageFrame, ...]
     ratios: tuple[float, ...] | None = None
     ratio_range: tuple[float, float] | None = None
+    #: life exponent p of the stage's life equation (LIFE_BASES, or the supplier's); None when
+    #: no frame states a rated life
+    life_exponent: float | None = None
 
     def frame(self, name: str) -> StageFrame:
         for f in self.frames:
@@ -166,6 +198,20 @@ class MotorFamily:
     name: str
     reference: Motor
     sizes: tuple[tuple[float, float], ...]
+    #: mechanical speed limit (rad/s) of the size-1 member (bearings, rotor retention), or None;
+    #: a member of gap-radius scale s is capped at speed_limit·s**speed_limit_scaling
+    speed_limit: float | None = None
+    #: exponent of the gap-radius scale in the mechanical speed limit (≤ 0); −1 keeps the rotor's
+    #: surface speed (and the bearing's speed × bore product) of the reference [trade]
+    speed_limit_scaling: float = -1.0
+
+    def mechanical_speed(self, s: float) -> float:
+        """The mechanical speed limit (rad/s) of a member of gap-radius scale ``s``; inf without
+        a stated limit. The length scale does not enter: rotor radius and bearing bore follow
+        the gap radius."""
+        if self.speed_limit is None:
+            return math.inf
+        return self.speed_limit * s**self.speed_limit_scaling
 
     def member(self, s: float, l: float = 1.0) -> Motor:  # noqa: E741 (the length scale)
         """The member with gap-radius scale ``s`` and length scale ``l`` (both 1 = reference).
@@ -173,6 +219,9 @@ class MotorFamily:
         The winding is taken as rewound to keep the line-to-line resistance of the reference, so
         Kt = Km·√R scales as √(s³·l) and the no-load speed at the same bus voltage as 1/Kt.
         Thermal resistance scales inversely with the outer surface, ∝ 1/(s·l) [trade].
+        With a stated mechanical speed limit the member's maximum speed is the smaller of that
+        electrical figure and :meth:`mechanical_speed`, so a scaled-down member does not gain an
+        unbounded speed from its smaller torque constant.
         """
         ref = self.reference
         torque = s**2 * l
@@ -180,6 +229,7 @@ class MotorFamily:
         if ref.torque_constant is not None and res is not None:
             kt = ref.torque_constant * math.sqrt(s**3 * l)
             speed = ref.max_speed * ref.torque_constant / kt
+        speed = min(speed, self.mechanical_speed(s))
         return Motor(
             name=f"{self.name}-{s:g}x{l:g}",
             peak_torque=ref.peak_torque * torque,

@@ -60,6 +60,9 @@ REQUIREMENT_UNITS = {
     "ratio_min": ("", 1.0),
     "ratio_max": ("", 1.0),
     "total_cost_max": ("", 1.0),
+    "life_min": ("h", 1.0 / 3600.0),
+    "shock_use_max": ("%", 100.0),
+    "gear_peak_use_max": ("%", 100.0),
 }
 
 

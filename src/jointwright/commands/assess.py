@@ -39,6 +39,8 @@ SHOWN = {
             "m/s",
         ),
         ("contact_energy", "energy the body region takes at that speed", "J"),
+        ("impulse", "contact impulse (links only; the rotors not yet moving)", "N·s"),
+        ("shock_use", "peak gear torque over the momentary rating, worst joint", "%"),
     ],
     "backdrive": [("backdrive_force", "force to back-drive, unpowered", "N")],
     "speed": [
@@ -63,6 +65,19 @@ LIMITING_QUANTITY = {
     "envelope": "torque-speed line",
     "temperature": "winding temperature",
 }
+
+#: per-joint gear life rows of a duty case, shown when a stage states a rated life
+DUTY_GEAR = [
+    ("gear_life", "gear life on this cycle alone", "h", 1.0 / 3600.0),
+    ("gear_equivalent_torque", "gear equivalent torque (life)", "N·m", 1.0),
+    ("gear_average_speed", "gear average speed", "rad/s", 1.0),
+    ("gear_peak_use", "gear repeated-peak rating used", "%", 100.0),
+]
+
+
+def _rated(c, joints) -> bool:
+    """Whether a duty case has a gear life for any joint (some stage states a rated life)."""
+    return any(isinstance(c.metrics.get(f"gear_life:{j}"), (int, float)) for j in joints)
 
 
 def _scaled(value, scale: float):
@@ -146,10 +161,21 @@ def print_assessment(a) -> None:
             joints = [j.joint for j in a.joints]
             drows = [
                 [label] + [num(_scaled(c.metrics.get(f"{key}:{j}"), scale), unit) for j in joints]
-                for key, label, unit, scale in DUTY_QUANTITIES
+                for key, label, unit, scale in list(DUTY_QUANTITIES)
+                + (DUTY_GEAR if _rated(c, joints) else [])
             ]
             quantity = str(c.metrics.get("limiting_quantity", "—"))
             rows += [["limiting quantity", LIMITING_QUANTITY.get(quantity, quantity)]]
+        if c.kind == "impact" and "shock_use" in c.metrics:
+            for j in a.joints:
+                torque = c.metrics.get(f"shock_torque:{j.joint}")
+                use = c.metrics.get(f"shock_use_joint:{j.joint}")
+                rows.append(
+                    [
+                        f"peak gear torque at the impact, {j.joint}",
+                        f"{num(torque, 'N·m')} ({num(_scaled(use, 100.0), '%')} of momentary)",
+                    ]
+                )
         if c.note:
             extra.append(f"[red]carries nothing:[/red] {c.note}")
         elif c.limiting_joint:
@@ -178,7 +204,8 @@ def print_assessment(a) -> None:
             con.print(f"  {line}")
 
     def shown(c, v):  # a rating use is a fraction, shown in %
-        return num(100 * v, "%") if c.requirement == "rating_use_max" else num(v, c.unit)
+        uses = ("rating_use_max", "shock_use_max", "gear_peak_use_max")
+        return num(100 * v, "%") if c.requirement in uses else num(v, c.unit)
 
     rows = [
         [

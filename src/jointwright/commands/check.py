@@ -84,6 +84,7 @@ def project_summary(p, evaluator=None) -> dict:
         ],
         "requirements": {
             "total_mass_max": p.requirements.total_mass_max,
+            "life_min": p.requirements.life_min,
             "joints": {
                 j: {k: v for k, v in vars(lim).items() if math.isfinite(v) and v != 0}
                 for j, lim in p.requirements.joints.items()
@@ -233,6 +234,8 @@ def command(project: Path, as_json: bool):
         if math.isfinite(req["total_mass_max"])
         else "no total mass budget"
     )
+    if req.get("life_min", 0.0) > 0:
+        line += f"; gear life ≥ {num(req['life_min'] / 3600.0, 'h')} per joint (Miner's rule)"
     con.print("requirements: " + line)
     joint_units = {
         "mass_max": "kg",

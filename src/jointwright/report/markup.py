@@ -32,7 +32,7 @@ def number(value, digits: int = 4) -> str:
 
 
 #: requirements whose values are fractions of a rating, shown in %
-PERCENT_REQUIREMENTS = ("rating_use_max",)
+PERCENT_REQUIREMENTS = ("rating_use_max", "shock_use_max", "gear_peak_use_max")
 
 
 def check_value(c: dict, key: str) -> str:

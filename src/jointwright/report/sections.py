@@ -34,6 +34,7 @@ CASE_METRICS = {
         ("effective_mass", "effective mass, back-driven", "kg"),
         ("effective_mass_motoring", "effective mass, motoring", "kg"),
         ("effective_mass_frictionless", "effective mass, frictionless", "kg"),
+        ("impulse", "contact impulse (links only, rotors not yet moving)", "N·s"),
     ),
     "backdrive": (("backdrive_force", "tip force that starts the unpowered robot moving", "N"),),
     "speed": (("speed", "end-point speed along the direction", "m/s"),),
@@ -92,6 +93,11 @@ def _budgets(req) -> list[str]:
     out = []
     if math.isfinite(req.total_mass_max):
         out.append(f"total actuator mass at most {fmt(req.total_mass_max, 'kg')}")
+    if getattr(req, "life_min", 0.0) > 0:
+        out.append(
+            f"every joint's gear life at least {fmt(req.life_min / 3600.0, 'h')} over the duty "
+            "cycles (Miner's rule), peaks within the repeated-peak rating"
+        )
     for j, lim in req.joints.items():
         for key, unit in _JOINT_BUDGETS:
             v = getattr(lim, key)
@@ -104,7 +110,7 @@ def _budgets(req) -> list[str]:
 
 def _limit_text(key: str, value) -> str:
     """A case limit with its unit; a rating use (a fraction) in %."""
-    if key == "rating_use_max":
+    if key in ("rating_use_max", "shock_use_max"):
         return fmt(100.0 * value, "%")
     return fmt(value, _limit_unit(key))
 
@@ -157,7 +163,23 @@ def _impact_words(case: dict) -> str:
         if m.get("contact_rank", 3) < 3 and m.get("imf_restricted") is not None:
             text += f", {number(m['imf_restricted'])} over the directions the limb can move"
         text += " and"
-    return text + f" an effective mass of {fmt(m.get('effective_mass'), 'kg')} along its direction."
+    text += f" an effective mass of {fmt(m.get('effective_mass'), 'kg')} along its direction."
+    return text + _shock_words(m)
+
+
+def _shock_words(m: dict) -> str:
+    """The landing or collision shock on the gears, when the case states an impact speed."""
+    use = m.get("shock_use")
+    if use is None and "shock_limiting_joint" not in m:
+        return ""
+    who = m.get("shock_limiting_joint") or "—"
+    torque = m.get(f"shock_torque:{who}")
+    use = 100.0 * use if isinstance(use, (int, float)) and not isinstance(use, bool) else use
+    return (
+        f" At its impact speed the gear teeth of {who} take the largest share of their momentary "
+        f"(emergency-stop) rating: {fmt(torque, 'N·m')}, {fmt(use, '%')} (docs/metrics.md, gear "
+        "shock; a rigid contact and an undamped gear spring, an estimate to verify by test)."
+    )
 
 
 def _payload_words(a: dict, project) -> list[str]:
@@ -392,6 +414,10 @@ def _duty_table(c: dict, joints: list[str]) -> str:
         f"{c.get('limiting_joint') or '—'} through {quantity}. Energy per cycle is electrical, "
         "with regeneration."
     )
+    lives = [(j, m.get(f"gear_life:{j}")) for j in joints]
+    if any(v is not None for _j, v in lives):
+        shown = ", ".join(f"{j} {fmt(_f(v) / 3600.0, 'h')}" for j, v in lives)
+        cap += f" Gear life on this cycle alone (rated-life equation, docs/metrics.md): {shown}."
     return table(
         ["joint"] + [col for _k, col, _u, _s in DUTY_QUANTITIES], rows, caption=cap, cls="wide"
     )

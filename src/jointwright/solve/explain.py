@@ -219,6 +219,8 @@ def requirement_list(project) -> list[tuple[str, str, float]]:
         out.append(("robot", "total_mass_max", req.total_mass_max))
     if math.isfinite(req.total_cost_max):
         out.append(("robot", "total_cost_max", req.total_cost_max))
+    if req.life_min > 0:
+        out.append(("robot", "life_min", req.life_min))
     for j, lim in req.joints.items():
         for f in dataclasses.fields(JointLimits):
             v = getattr(lim, f.name)
@@ -231,7 +233,9 @@ def requirement_list(project) -> list[tuple[str, str, float]]:
 def relax(project, subject: str, key: str):
     """The project with one requirement removed."""
     if subject == "robot":
-        req = dataclasses.replace(project.requirements, **{key: math.inf})
+        req = dataclasses.replace(
+            project.requirements, **{key: 0.0 if key == "life_min" else math.inf}
+        )
         return dataclasses.replace(project, requirements=req)
     if subject in project.requirements.joints:
         joints = dict(project.requirements.joints)
@@ -252,6 +256,8 @@ def _alone(project, model, subject, key, limit, seconds, solve_value: Resolve) -
     """Best value of one requirement over all options, ignoring every other requirement."""
 
     r = model.table.rows
+    if subject == "robot" and key == "life_min":
+        return math.nan  # coupled through every actuator's mass: see the relaxation column
     if subject == "robot":
         return sum(
             float(r["mass" if key == "total_mass_max" else "cost"].min()) for _ in range(model.n)
@@ -320,6 +326,7 @@ def diagnose(
         "directional_imf_min": "min",
         "speed_min": "min",
         "ratio_min": "min",
+        "life_min": "min",
     }
     out = []
     for i, (subject, key, limit) in enumerate(reqs):
