@@ -18,9 +18,8 @@ if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
 from jointwright.errors import InputError  # noqa: E402
-from jointwright.study.spec import (  # noqa: E402
-    case_project, expand, format_path, load_study, parse_path, parse_study,
-)  # fmt: skip
+from jointwright.study.paths import format_path, parse_path  # noqa: E402
+from jointwright.study.spec import case_project, expand, load_study, parse_study  # noqa: E402
 from tests.study_cases import BASE_PROJECT  # noqa: E402
 
 HEAD = '[study]\nname = "t"\nbase = "leg.toml"\n'

@@ -1,6 +1,7 @@
 """Trade studies: vary a base project into many cases, run each, keep every result in SQLite.
 
-- :mod:`.spec` reads the study file and expands it into cases with stable ids;
+- :mod:`.spec` reads the study file and expands it into cases with stable ids (dotted paths
+  into the project in :mod:`.paths`, parameter values in :mod:`.values`);
 - :mod:`.runner` runs the cases (progress, resume, faults) and stores each as it ends;
 - :mod:`.backends` is where they run: a local process pool or a Dask cluster;
 - :mod:`.worker` runs one case in a worker and checks its output;

@@ -15,13 +15,14 @@ import hashlib
 import itertools
 import json
 import math
-import re
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Iterator
 
 from ..errors import InputError
 from ..tomlfile import Table, is_file, load_toml
+from .paths import _overlap, _walk, format_path, parse_path, set_path
+from .values import _NUMBER_FIRST, MAX_CASES, _grid, _listed, _random
 
 #: version of the study file format this module reads
 STUDY_FORMAT = 1
@@ -29,14 +30,9 @@ STUDY_FORMAT = 1
 TASKS = ("size", "frontier")
 #: how the varied parameters combine
 COMBINE = ("product", "zip")
-#: largest number of cases one study may expand to
-MAX_CASES = 1_000_000
 
-_BARE = re.compile(r"[A-Za-z0-9_-]+")
-_NUMBER_FIRST = re.compile(r"\s*[-+]?(\d|\.\d|inf|nan)", re.IGNORECASE)
 #: project fields that are text, not numbers: never varied (a [[variant]] may set them)
 TEXT_FIELDS = ("project.name", "project.summary")
-_INDEX = re.compile(r"\[(\d+)\]")
 
 
 @dataclass(frozen=True)
@@ -113,107 +109,12 @@ class Case:
     options: dict
 
 
-# ---------------------------------------------------------------------------------- paths
-
-
-def parse_path(text: Any, *, file: str = "<api>", field: str = "path") -> tuple[str | int, ...]:
-    """Split a dotted path into keys (str) and list indices (int).
-
-    Grammar: ``segment ("." segment)*``; a segment is a bare key ``[A-Za-z0-9_-]+`` or a
-    double-quoted key, followed by any number of ``[index]``. Example:
-    ``robot.links."upper.arm".inertia[2]`` -> ``("robot", "links", "upper.arm", "inertia", 2)``.
-    """
-    if not isinstance(text, str) or not text:
-        raise InputError(
-            file, field, f"must be a dotted path such as robot.links.thigh.length, got {text!r}"
-        )
-    steps: list[str | int] = []
-    pos, expect_key = 0, True
-    while pos < len(text):
-        if expect_key:
-            if text[pos] == '"':
-                end = text.find('"', pos + 1)
-                if end < 0:
-                    raise InputError(file, field, f"unclosed quote in path {text!r}")
-                steps.append(text[pos + 1 : end])
-                pos = end + 1
-            else:
-                m = _BARE.match(text, pos)
-                if not m:
-                    raise InputError(
-                        file, field, f"bad key at character {pos + 1} of path {text!r}"
-                    )
-                steps.append(m.group())
-                pos = m.end()
-            expect_key = False
-        elif (m := _INDEX.match(text, pos)) is not None:
-            steps.append(int(m.group(1)))
-            pos = m.end()
-        elif text[pos] == ".":
-            pos, expect_key = pos + 1, True
-        else:
-            raise InputError(file, field, f"bad character {text[pos]!r} in path {text!r}")
-    if expect_key:
-        raise InputError(file, field, f"path {text!r} ends with a dot")
-    return tuple(steps)
-
-
-def format_path(steps: tuple[str | int, ...]) -> str:
-    """Inverse of :func:`parse_path` (quotes keys that are not bare)."""
-    out = ""
-    for s in steps:
-        if isinstance(s, int):
-            out += f"[{s}]"
-        else:
-            key = s if _BARE.fullmatch(s) else f'"{s}"'
-            out += f".{key}" if out else key
-    return out
-
-
-def _walk(project: dict, steps: tuple, file: str, field: str, text: str) -> tuple[Any, Any]:
-    """Return (container, last step) for ``steps``; every container on the way must exist."""
-    node: Any = project
-    for depth, step in enumerate(steps):
-        where = format_path(steps[:depth]) or "the top level"
-        if isinstance(step, int):
-            if not isinstance(node, list):
-                raise InputError(
-                    file, field, f"{text!r}: {where} is not a list in the base project"
-                )
-            if step >= len(node):
-                raise InputError(
-                    file, field, f"{text!r}: {where} has {len(node)} items, no [{step}]"
-                )
-        elif not isinstance(node, dict):
-            raise InputError(file, field, f"{text!r}: {where} is not a table in the base project")
-        elif step not in node and depth < len(steps) - 1:
-            raise InputError(
-                file, field, f"{text!r}: the base project has no {format_path(steps[: depth + 1])}"
-            )
-        if depth == len(steps) - 1:
-            return node, step
-        node = node[step]
-    raise InputError(file, field, "empty path")
-
-
-def set_path(project: dict, path: str, value: Any) -> None:
-    """Set ``value`` at dotted ``path`` in ``project`` (in place; the parent must exist)."""
-    steps = parse_path(path)
-    container, last = _walk(project, steps, "<api>", "path", path)
-    container[last] = copy.deepcopy(value)
-
-
 def case_project(spec: StudySpec, case: Case) -> dict:
     """The base project with the case's assignments applied (a fresh deep copy)."""
     project = copy.deepcopy(spec.base_project)
     for path, value in case.assignments:
         set_path(project, path, value)
     return project
-
-
-def _overlap(a: tuple, b: tuple) -> bool:
-    n = min(len(a), len(b))
-    return a[:n] == b[:n]
 
 
 # ------------------------------------------------------------------------------- loading
@@ -357,142 +258,6 @@ def _flatten(table: dict, prefix: tuple, file: str, field: str) -> Iterator[tupl
             yield from _flatten(value, steps, file, field)
         else:
             yield steps, value
-
-
-# ------------------------------------------------------------------------ value sources
-
-
-def _is_number(v: Any) -> bool:
-    return isinstance(v, (int, float)) and not isinstance(v, bool)
-
-
-def _as_quantity(v: Any, file: str, field: str):
-    """(magnitude, unit text or None, dimensionality or None) of a number or quantity string."""
-    if _is_number(v):
-        if isinstance(v, int) and abs(v) > 2**1023:
-            raise InputError(file, field, f"must be finite, got a {len(str(abs(v)))}-digit number")
-        if not math.isfinite(v):
-            raise InputError(file, field, f"must be finite, got {v!r}")
-        return float(v), None, None
-    if not isinstance(v, str):
-        raise InputError(
-            file, field, f"must be a number or a quantity string such as '2 kg', got {v!r}"
-        )
-    try:
-        return float(v), None, None
-    except ValueError:
-        pass
-    if not _NUMBER_FIRST.match(v):
-        raise InputError(
-            file, field, f"must be a number or a quantity string such as '2 kg', got {v!r}"
-        )
-    from ..units import registry
-
-    try:
-        q = registry().Quantity(v.strip())
-    except Exception:
-        raise InputError(file, field, f"cannot read {v!r} as a number with a unit") from None
-    if not math.isfinite(float(q.magnitude)):
-        raise InputError(file, field, f"must be finite, got {v!r}")
-    return float(q.magnitude), format(q.units, "~C"), q.dimensionality
-
-
-def _same_dimension(items: list, file: str, field: str) -> None:
-    dims = {str(d) for _, _, d in items}
-    if len(dims) > 1:
-        if "None" in dims:
-            raise InputError(
-                file,
-                field,
-                "mixes plain numbers and quantities with units; write every value with its unit",
-            )
-        raise InputError(
-            file, field, f"values have different dimensions: {', '.join(sorted(dims))}"
-        )
-
-
-def _listed(values: list, file: str, field: str) -> list:
-    if not values:
-        raise InputError(file, field, "must list at least one value")
-    items = [_as_quantity(v, file, f"{field}[{i}]") for i, v in enumerate(values)]
-    _same_dimension(items, file, field)
-    return list(values)
-
-
-def _endpoints(t: Table, keys: tuple[str, str], scale: str) -> tuple[float, float, str | None]:
-    a, b = (t.raw(k) for k in keys)
-    qa = _as_quantity(a, t.file, t.field(keys[0]))
-    qb = _as_quantity(b, t.file, t.field(keys[1]))
-    _same_dimension([qa, qb], t.file, t.field(keys[1]))
-    lo, hi, unit = qa[0], qb[0], qa[1]
-    if unit is not None and qb[1] != unit:
-        from ..units import registry
-
-        hi = float(registry().Quantity(b.strip()).to(unit).magnitude)
-    if scale == "log" and not (lo > 0 and hi > 0):
-        raise InputError(
-            t.file,
-            t.field(keys[0]),
-            f"log scale needs {keys[0]} and {keys[1]} > 0, got {a!r}, {b!r}",
-        )
-    return lo, hi, unit
-
-
-def _count(t: Table, key: str) -> int:
-    n = t.raw(key)
-    if not isinstance(n, int) or isinstance(n, bool) or n < 1:
-        raise InputError(t.file, t.field(key), f"must be a whole number >= 1, got {n!r}")
-    if n > MAX_CASES:
-        got = n if n < 10**12 else f"a {len(str(n))}-digit number"
-        raise InputError(
-            t.file,
-            t.field(key),
-            f"must be at most {MAX_CASES} (the most cases a study may have), got {got}",
-        )
-    return n
-
-
-def _written(xs, unit: str | None) -> list:
-    """Round to 12 significant digits (so 0.30000000000000004 reads 0.3) and re-attach the unit."""
-    out = [float(f"{float(x):.12g}") for x in xs]
-    return out if unit is None else [f"{x!r} {unit}" for x in out]
-
-
-def _grid(t: Table, file: str) -> list:
-    """``{start, stop, num, scale}``: ``num`` points from start to stop inclusive."""
-    import numpy as np
-
-    scale = t.text("scale", "linear", choices=("linear", "log"))
-    start, stop, unit = _endpoints(t, ("start", "stop"), scale)
-    num = _count(t, "num")
-    if num > 1 and start == stop:
-        raise InputError(
-            file, t.field("stop"), f"must differ from start when num > 1, got {start!r}"
-        )
-    xs = np.geomspace(start, stop, num) if scale == "log" else np.linspace(start, stop, num)
-    return _written(xs, unit)
-
-
-def _random(t: Table, file: str) -> list:
-    """``{low, high, count, seed, scale}``: uniform samples (of the log when scale = log)."""
-    import numpy as np
-
-    scale = t.text("scale", "linear", choices=("linear", "log"))
-    low, high, unit = _endpoints(t, ("low", "high"), scale)
-    if not low < high:
-        raise InputError(
-            file, t.field("high"), f"must be greater than low, got low={low!r}, high={high!r}"
-        )
-    count = _count(t, "count")
-    seed = t.raw("seed")
-    if not isinstance(seed, int) or isinstance(seed, bool) or seed < 0:
-        raise InputError(file, t.field("seed"), f"must be a whole number >= 0, got {seed!r}")
-    rng = np.random.default_rng(seed)
-    if scale == "log":
-        xs = np.exp(rng.uniform(math.log(low), math.log(high), count))
-    else:
-        xs = rng.uniform(low, high, count)
-    return _written(xs, unit)
 
 
 # ---------------------------------------------------------------------------- structure

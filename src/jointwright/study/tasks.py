@@ -99,7 +99,7 @@ def _load_error(spec, path: str, value) -> InputError | None:
     import copy
 
     from ..project import project_from_dict
-    from .spec import set_path
+    from .paths import set_path
 
     project = copy.deepcopy(spec.base_project)
     set_path(project, path, value)
