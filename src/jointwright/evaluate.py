@@ -30,7 +30,8 @@ duty cycles move the actuated joints only; held and free joints stay at their po
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from concurrent.futures import ThreadPoolExecutor
+from dataclasses import dataclass, fields
 
 import numpy as np
 
@@ -38,6 +39,12 @@ from .design import DesignArrays
 from .dutycase import evaluate_duty, prepare_duty
 from .metrics.backdrive import backdrive_force
 from .metrics.contact_safety import transient_contact
+from .metrics.impact_fused import (
+    FusedImpact,
+    entries_batch_last,
+    impact_fused,
+    mass_matrix_entries,
+)
 from .metrics.inertia import effective_mass, forward_effective_mass, impact_mitigation
 from .metrics.linalg_small import inv_small
 from .metrics.payload import payload_along, torque_bounds
@@ -52,6 +59,19 @@ from .robot.basis import gravity, mass_matrix, pose_basis
 
 #: joint velocity components below this fraction of the largest count as zero (holding)
 VELOCITY_TOLERANCE = 1e-9
+#: designs per call of the fused impact kernel (its entry rows stay in the core's cache)
+IMPACT_CHUNK = 4096
+#: threads sharing the chunks of the fused impact kernel (numpy releases the GIL in its loops)
+THREADS = 2
+_POOL: list[ThreadPoolExecutor] = []
+
+
+def _pool() -> ThreadPoolExecutor:
+    if not _POOL:
+        _POOL.append(ThreadPoolExecutor(THREADS, thread_name_prefix="jointwright-eval"))
+    return _POOL[0]
+
+
 #: a free joint's gravity torque at or below this is rounding, taken as 0 (N·m or N)
 FREE_JOINT_TOLERANCE = 1e-9
 
@@ -79,6 +99,10 @@ class Evaluator:
     ----------
     project : Project
     """
+
+    #: impact cases of floating-base robots through metrics.impact_fused (False: the generic
+    #: metrics.inertia.impact_mitigation path, kept as the reference)
+    fused_impact: bool = True
 
     def __init__(self, project):
         self.project = project
@@ -332,6 +356,11 @@ class Evaluator:
         for mode in ("frictionless", "backdriven") if detail else ("backdriven",):
             refl = d.reflected_inertia(mode)
             refl = np.where(np.isfinite(refl), refl, 0.0)
+            lock = locked if mode == "backdriven" else structure
+            suffix = "" if mode == "backdriven" else f"_{mode}"
+            if self.floating and self.fused_impact and pc.J.shape[0] <= 3:
+                out.update(self._impact_fused(pc, d, refl, lock, suffix))
+                continue
             H = mass_matrix(
                 pc.basis,
                 d.mass,
@@ -340,8 +369,6 @@ class Evaluator:
                 ratio=d.ratio,
                 coupling=self.project.rotor_coupling,
             )
-            lock = locked if mode == "backdriven" else structure
-            suffix = "" if mode == "backdriven" else f"_{mode}"
             if self.floating:
                 J = np.broadcast_to(pc.J, H.shape[:-2] + pc.J.shape)
                 imf = impact_mitigation(H, J, 6, lock[..., 6:], direction=pc.u)
@@ -362,6 +389,48 @@ class Evaluator:
             if detail:
                 out["contact_energy"] = contact.energy
         return out
+
+    def _impact_fused(
+        self, pc: PreparedCase, d: DesignArrays, refl: np.ndarray, lock: np.ndarray, suffix: str
+    ) -> dict[str, np.ndarray]:
+        """The floating-base fields of :meth:`_impact` for one mode through the fused kernel
+        (metrics.impact_fused; equal to the generic path to round-off), designs in chunks of
+        :data:`IMPACT_CHUNK`, the chunks shared between :data:`THREADS` threads."""
+        D = d.mass.shape[0]
+        n_base = self.robot.n_base
+        coupling = self.project.rotor_coupling
+        basis = pc.basis
+
+        def run(sl: slice) -> FusedImpact:
+            if coupling:
+                H = mass_matrix(
+                    basis,
+                    d.mass[sl],
+                    refl[sl],
+                    rotor_inertia=d.rotor_inertia[sl],
+                    ratio=d.ratio[sl],
+                    coupling=True,
+                )
+                h = entries_batch_last(np.ascontiguousarray(np.moveaxis(H, 0, -1)))
+            else:
+                h = mass_matrix_entries(basis.M0, basis.M_mass, d.mass[sl], basis.v_index, refl[sl])
+            return impact_fused(h, pc.J, n_base, lock[sl, n_base:], pc.u)
+
+        slices = [slice(s, min(s + IMPACT_CHUNK, D)) for s in range(0, D, IMPACT_CHUNK)]
+        if THREADS > 1 and len(slices) > 1:
+            parts = list(_pool().map(run, slices))
+        else:
+            parts = [run(sl) for sl in slices]
+        res = {
+            f.name: np.concatenate([getattr(r, f.name) for r in parts]) for f in fields(FusedImpact)
+        }
+        return {
+            "imf" + suffix: res["imf"],
+            "imf_restricted" + suffix: res["imf_restricted"],
+            "imf_direction" + suffix: res["imf_direction"],
+            "contact_rank" + suffix: res["rank"],
+            "effective_mass" + suffix: 1.0 / res["mobility"],
+        }
 
     def _forward_effective_mass(
         self, pc: PreparedCase, d: DesignArrays, directions: np.ndarray | None = None
