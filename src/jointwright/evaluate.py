@@ -30,6 +30,8 @@ duty cycles move the actuated joints only; held and free joints stay at their po
 
 from __future__ import annotations
 
+import os
+import threading
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, fields
 
@@ -61,15 +63,30 @@ from .robot.basis import gravity, mass_matrix, pose_basis
 VELOCITY_TOLERANCE = 1e-9
 #: designs per call of the fused impact kernel (its entry rows stay in the core's cache)
 IMPACT_CHUNK = 4096
-#: threads sharing the chunks of the fused impact kernel (numpy releases the GIL in its loops)
+#: threads that share a batch of designs, or the chunks of the fused impact kernel (numpy
+#: releases the GIL inside its loops); 1 runs everything on the calling thread
 THREADS = 2
-_POOL: list[ThreadPoolExecutor] = []
+_POOL: dict[int, ThreadPoolExecutor] = {}  # per process id: a forked child makes its own
+#: batches of at least this many designs are evaluated on THREADS threads
+PARALLEL_MIN = 2048
+_LOCAL = threading.local()
+
+
+def _join(values: list, sizes: list[int]):
+    """Per-design results of consecutive design slices joined along the design axis."""
+    per_design = all(
+        isinstance(v, np.ndarray) and v.ndim and v.shape[0] == n
+        for v, n in zip(values, sizes, strict=True)
+    )
+    return np.concatenate(values, axis=0) if per_design else values[0]
 
 
 def _pool() -> ThreadPoolExecutor:
-    if not _POOL:
-        _POOL.append(ThreadPoolExecutor(THREADS, thread_name_prefix="jointwright-eval"))
-    return _POOL[0]
+    pid = os.getpid()
+    if pid not in _POOL:
+        _POOL.clear()
+        _POOL[pid] = ThreadPoolExecutor(THREADS, thread_name_prefix="jointwright-eval")
+    return _POOL[pid]
 
 
 #: a free joint's gravity torque at or below this is rounding, taken as 0 (N·m or N)
@@ -166,7 +183,11 @@ class Evaluator:
 
         ``detail=False`` computes only what requirements and objectives use (the case's own
         power-flow mode); ``True`` adds the other modes and the frictionless comparison.
+        A batch of at least :data:`PARALLEL_MIN` designs is split between :data:`THREADS`
+        threads (every design's metrics are its own, so the result is the same).
         """
+        if THREADS > 1 and d.mass.shape[0] >= PARALLEL_MIN and not _LOCAL.__dict__.get("inner"):
+            return self._evaluate_threads(d, detail)
         out = {}
         for pc in self.cases:
             kind = pc.case.kind
@@ -183,6 +204,27 @@ class Evaluator:
         for pd in self.duty:
             out[pd.case.name] = evaluate_duty(pd, d, detail=detail)
         return out
+
+    def _evaluate_threads(self, d: DesignArrays, detail: bool) -> dict[str, dict[str, np.ndarray]]:
+        """:meth:`evaluate` on :data:`THREADS` slices of the designs at once (numpy releases the
+        GIL inside its loops, so the slices share the cores), results joined in order."""
+        D = d.mass.shape[0]
+        cuts = np.linspace(0, D, THREADS + 1).astype(int)
+        parts = [d.take(slice(a, b)) for a, b in zip(cuts[:-1], cuts[1:], strict=True)]
+
+        def run(part: DesignArrays) -> dict[str, dict[str, np.ndarray]]:
+            _LOCAL.inner = True
+            try:
+                return self.evaluate(part, detail=detail)
+            finally:
+                _LOCAL.inner = False
+
+        results = list(_pool().map(run, parts))
+        sizes = [p.mass.shape[0] for p in parts]
+        return {
+            name: {key: _join([r[name][key] for r in results], sizes) for key in results[0][name]}
+            for name in results[0]
+        }
 
     def _payload(
         self, pc: PreparedCase, d: DesignArrays, detail: bool = True
@@ -417,7 +459,7 @@ class Evaluator:
             return impact_fused(h, pc.J, n_base, lock[sl, n_base:], pc.u)
 
         slices = [slice(s, min(s + IMPACT_CHUNK, D)) for s in range(0, D, IMPACT_CHUNK)]
-        if THREADS > 1 and len(slices) > 1:
+        if THREADS > 1 and len(slices) > 1 and not _LOCAL.__dict__.get("inner"):
             parts = list(_pool().map(run, slices))
         else:
             parts = [run(sl) for sl in slices]
