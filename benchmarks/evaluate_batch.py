@@ -33,6 +33,7 @@ import types
 from collections.abc import Callable
 from dataclasses import fields
 from importlib import resources
+from typing import Any
 
 import numpy as np
 
@@ -40,12 +41,12 @@ import jointwright.evaluate as evaluate_module
 from jointwright.design import DesignArrays, actuator_row, arrays_from_rows
 from jointwright.drivetrain import Actuator, StageChoice
 from jointwright.evaluate import Evaluator
-from jointwright.project import load_project
+from jointwright.project import Project, load_project
 
 FLOPS_PER_CYCLE = 16  # per core, double precision
 
 
-def option_rows(project, joint_count: int) -> list:
+def option_rows(project: Project, joint_count: int) -> list[dict[str, float]]:
     """One row per (motor, single stage, frame, ratio) option — the same table for every joint."""
     rows = []
     for motor in project.catalog.all_motors():
@@ -74,7 +75,7 @@ class Counted(np.ndarray):
     flops = 0
     ARITH = {np.add, np.subtract, np.multiply, np.divide, np.sqrt, np.negative, np.square}
 
-    def __array_ufunc__(self, ufunc, method, *inputs, **kwargs):
+    def __array_ufunc__(self, ufunc: np.ufunc, method: str, *inputs: Any, **kwargs: Any) -> Any:
         args = [x.view(np.ndarray) if isinstance(x, Counted) else x for x in inputs]
         if "out" in kwargs:
             kwargs["out"] = tuple(
@@ -94,7 +95,7 @@ class _CountingNumpy(types.ModuleType):
     """numpy as seen by the package's modules while flops are counted: conversions keep the
     counting subclass (``asarray`` → ``asanyarray``, broadcasts with ``subok``)."""
 
-    def __getattr__(self, name: str):
+    def __getattr__(self, name: str) -> Any:
         return getattr(np, name)
 
 
@@ -108,7 +109,7 @@ def count_flops(ev: Evaluator, run: Callable[[DesignArrays], object], d: DesignA
     proxy.broadcast_arrays = lambda *a, **k: np.broadcast_arrays(*a, subok=True)
     proxy.broadcast_to = lambda a, shape, **k: np.broadcast_to(a, shape, subok=True)
 
-    def concatenate(arrays, *a, **k):
+    def concatenate(arrays: Any, *a: Any, **k: Any) -> np.ndarray:
         out = np.concatenate(arrays, *a, **k)
         return out.view(Counted) if any(isinstance(x, Counted) for x in arrays) else out
 

@@ -72,7 +72,7 @@ PARALLEL_MIN = 2048
 _LOCAL = threading.local()
 
 
-def _join(values: list, sizes: list[int]):
+def _join(values: list[object], sizes: list[int]) -> object:
     """Per-design results of consecutive design slices joined along the design axis."""
     per_design = all(
         isinstance(v, np.ndarray) and v.ndim and v.shape[0] == n

@@ -152,7 +152,7 @@ def impact_fused(
         Base coordinates (6 for a free-flyer).
     locked : bool array (D, nv − n_base) or None
         Joints locked in the impact (their rows and columns leave H, their columns leave J).
-    direction : array (m,), unit vector x
+    direction : array (m,), x (normally a unit vector; ξ_x does not depend on its length)
     rank_tol : float
         As in :func:`jointwright.metrics.inertia.impact_mitigation`.
 
@@ -167,7 +167,7 @@ def impact_fused(
     SingularPoseError
         Base and free joints cannot move the contact in every direction.
     """
-    nv, D = len(H), masses_count(H)
+    nv, D = len(H), batch_size(H)
     m = J.shape[0]
     if m > 3:
         raise ValueError(f"the fused impact kernel is for m ≤ 3 contact rows, got {m}")
@@ -232,7 +232,7 @@ def impact_fused(
     )
 
 
-def masses_count(h: list[list[Entry]]) -> int:
+def batch_size(h: list[list[Entry]]) -> int:
     """Number of designs D in an entry list (the length of its first row entry)."""
     for row in h:
         for x in row:
