@@ -7,23 +7,11 @@ may change nothing but round-off in the batched matrix products.
 
 from __future__ import annotations
 
-from importlib import resources
-
 import numpy as np
 import pytest
 
 import jointwright.evaluate as evaluate_module
 from jointwright.evaluate import Evaluator
-from jointwright.project import load_project
-from tests.test_impact_fused import _random_designs
-
-
-@pytest.fixture(scope="module")
-def leg_project():
-    with resources.as_file(
-        resources.files("jointwright.examples") / "leg" / "project.toml"
-    ) as path:
-        return load_project(path)
 
 
 def _same(a: dict, b: dict) -> None:
@@ -40,9 +28,9 @@ def _same(a: dict, b: dict) -> None:
 
 
 @pytest.mark.parametrize("detail", [False, True])
-def test_threaded_evaluation_equals_one_thread(leg_project, detail, monkeypatch):
+def test_threaded_evaluation_equals_one_thread(leg_project, random_designs, detail, monkeypatch):
     monkeypatch.setattr(evaluate_module, "PARALLEL_MIN", 64)
-    d = _random_designs(leg_project, 301, seed=9)  # odd: unequal slices
+    d = random_designs(leg_project, 301, 9)  # odd: unequal slices
     ev = Evaluator(leg_project)
     monkeypatch.setattr(evaluate_module, "THREADS", 1)
     one = ev.evaluate(d, detail=detail)

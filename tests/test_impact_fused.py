@@ -9,44 +9,17 @@ and tests/test_metrics_inertia.py). The evaluator runs either path (``Evaluator.
 from __future__ import annotations
 
 import dataclasses
-import itertools
-from importlib import resources
 
 import numpy as np
 import pytest
 
 import jointwright.evaluate as evaluate_module
-from jointwright.design import DesignArrays, actuator_row, arrays_from_rows
-from jointwright.drivetrain import Actuator, StageChoice
 from jointwright.errors import InputError, SingularPoseError
 from jointwright.evaluate import Evaluator
 from jointwright.metrics.impact_fused import entries_batch_last, impact_fused
 from jointwright.metrics.inertia import impact_mitigation
-from jointwright.project import load_project
 
 RTOL = 1e-9
-
-
-@pytest.fixture(scope="module")
-def leg_project():
-    with resources.as_file(
-        resources.files("jointwright.examples") / "leg" / "project.toml"
-    ) as path:
-        return load_project(path)
-
-
-def _random_designs(project, count: int, seed: int) -> DesignArrays:
-    """``count`` designs drawn from the single-stage options of the leg's catalog."""
-    rows = [
-        actuator_row(Actuator(motor, (StageChoice(stage, frame, float(ratio)),)))
-        for motor in project.catalog.all_motors()
-        for stage in project.catalog.stages
-        for frame, ratio in itertools.product(stage.frames, stage.ratios)
-    ]
-    table = arrays_from_rows([rows])
-    pick = np.random.default_rng(seed).integers(0, len(rows), size=(count, 3))
-    fields = dataclasses.fields(DesignArrays)
-    return DesignArrays(**{f.name: getattr(table, f.name)[0][pick] for f in fields})
 
 
 def _assert_same(a: dict, b: dict) -> None:
@@ -58,11 +31,11 @@ def _assert_same(a: dict, b: dict) -> None:
 
 
 @pytest.mark.parametrize("detail", [False, True])
-def test_leg_impact_case_equals_the_generic_path(leg_project, detail, monkeypatch):
+def test_leg_impact_case_equals_the_generic_path(leg_project, random_designs, detail, monkeypatch):
     # several chunks, shared between two threads, with some self-locking joints (locked)
     monkeypatch.setattr(evaluate_module, "IMPACT_CHUNK", 700)
     monkeypatch.setattr(evaluate_module, "THREADS", 2)
-    d = _random_designs(leg_project, 3000, seed=11)
+    d = random_designs(leg_project, 3000, 11)
     locking = np.random.default_rng(3).random(d.self_locking.shape) < 0.2
     d = dataclasses.replace(d, self_locking=locking)
     ev = Evaluator(leg_project)
@@ -75,8 +48,8 @@ def test_leg_impact_case_equals_the_generic_path(leg_project, detail, monkeypatc
     assert (fused["contact_rank"] < 3).any() and (fused["contact_rank"] == 3).any()
 
 
-def test_leg_whole_evaluation_unchanged_by_the_fused_kernel(leg_project):
-    d = _random_designs(leg_project, 500, seed=5)
+def test_leg_whole_evaluation_unchanged_by_the_fused_kernel(leg_project, random_designs):
+    d = random_designs(leg_project, 500, 5)
     ev = Evaluator(leg_project)
     ev.duty = ()
     ev.fused_impact = False
