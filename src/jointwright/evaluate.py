@@ -64,8 +64,9 @@ VELOCITY_TOLERANCE = 1e-9
 #: designs per call of the fused impact kernel (its entry rows stay in the core's cache)
 IMPACT_CHUNK = 4096
 #: threads that share a batch of designs, or the chunks of the fused impact kernel (numpy
-#: releases the GIL inside its loops); 1 runs everything on the calling thread
-THREADS = 2
+#: releases the GIL inside its loops); 1, the default, runs everything on the calling thread:
+#: two threads did not pay on the shared 2-core machine (docs/benchmarks.md)
+THREADS = 1
 _POOL: dict[int, ThreadPoolExecutor] = {}  # per process id: a forked child makes its own
 #: batches of at least this many designs are evaluated on THREADS threads
 PARALLEL_MIN = 2048
