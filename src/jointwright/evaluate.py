@@ -34,6 +34,7 @@ import os
 import threading
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, fields
+from typing import cast
 
 import numpy as np
 
@@ -57,7 +58,7 @@ from .metrics.speed import (
     payload_at_speed,
     speed_within_stroke,
 )
-from .robot.basis import gravity, mass_matrix, pose_basis
+from .robot.basis import PoseBasis, gravity, mass_matrix, pose_basis
 
 #: joint velocity components below this fraction of the largest count as zero (holding)
 VELOCITY_TOLERANCE = 1e-9
@@ -79,7 +80,7 @@ def _join(values: list[object], sizes: list[int]) -> object:
         isinstance(v, np.ndarray) and v.ndim and v.shape[0] == n
         for v, n in zip(values, sizes, strict=True)
     )
-    return np.concatenate(values, axis=0) if per_design else values[0]
+    return np.concatenate(cast(list[np.ndarray], values), axis=0) if per_design else values[0]
 
 
 def _pool() -> ThreadPoolExecutor:
@@ -442,7 +443,7 @@ class Evaluator:
         D = d.mass.shape[0]
         n_base = self.robot.n_base
         coupling = self.project.rotor_coupling
-        basis = pc.basis
+        basis = cast(PoseBasis, pc.basis)
 
         def run(sl: slice) -> FusedImpact:
             if coupling:
@@ -457,7 +458,7 @@ class Evaluator:
                 h = entries_batch_last(np.ascontiguousarray(np.moveaxis(H, 0, -1)))
             else:
                 h = mass_matrix_entries(basis.M0, basis.M_mass, d.mass[sl], basis.v_index, refl[sl])
-            return impact_fused(h, pc.J, n_base, lock[sl, n_base:], pc.u)
+            return impact_fused(h, pc.J, n_base, lock[sl, n_base:], cast(np.ndarray, pc.u))
 
         slices = [slice(s, min(s + IMPACT_CHUNK, D)) for s in range(0, D, IMPACT_CHUNK)]
         if THREADS > 1 and len(slices) > 1 and not _LOCAL.__dict__.get("inner"):

@@ -125,12 +125,12 @@ def entries_batch_last(H: np.ndarray) -> list[list[Entry]]:
     """Lower-triangle entry list of mass matrices laid out ``(nv, nv, D)``; entries zero in every
     design become 0.0."""
     nv = H.shape[0]
-    nonzero = H.any(axis=-1)
+    nonzero = np.asarray(H.any(axis=-1))
     return [[H[i, j] if nonzero[i, j] else 0.0 for j in range(nv)] for i in range(nv)]
 
 
 def impact_fused(
-    H: np.ndarray,
+    H: list[list[Entry]],
     J: np.ndarray,
     n_base: int,
     locked: np.ndarray | None,
@@ -180,19 +180,22 @@ def impact_fused(
     for i in range(nv):
         for j in range(i + 1):
             e = H[i][j]
-            if i == j and free[i] is not None:
-                e = np.where(free[i], e, 1.0)
+            fi = free[i]
+            if i == j and fi is not None:
+                e = np.where(fi, e, 1.0)
             elif i != j and not _zero(e):
                 for k in (i, j):
-                    if free[k] is not None:
-                        e = np.where(free[k], e, 0.0)
+                    fk = free[k]
+                    if fk is not None:
+                        e = np.where(fk, e, 0.0)
             h[i][j] = e
     b: list[list[Entry]] = []
     for i in range(nv):
         row: list[Entry] = []
         for c in range(m):
             v = float(J[c, i])
-            row.append(v if free[i] is None or v == 0.0 else np.where(free[i], v, 0.0))
+            fi = free[i]
+            row.append(v if fi is None or v == 0.0 else np.where(fi, v, 0.0))
         b.append(row)
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         w, positive = _cholesky_whiten(h, b)
@@ -205,22 +208,21 @@ def impact_fused(
             )
         inv_l = _gram(w[:n_base], m)
         p = _gram(w[n_base:], m)
-        a = [[_add(inv_l[i][j], p[i][j]) for j in range(m)] for i in range(m)]
-        a = [[_full(x, D) for x in row] for row in a]
+        a = [[_full(_add(inv_l[i][j], p[i][j]), D) for j in range(m)] for i in range(m)]
         det_a = det_entries(a)
         if not np.all(det_a > 0.0):
             raise SingularPoseError(
                 "impact mitigation: J·H⁻¹·Jᵀ is singular (the base and the free joints cannot "
                 "move the contact in every direction; check n_base and the rows of J)"
             )
-        p = [[_full(x, D) for x in row] for row in p]
-        inv_l = [[_full(x, D) for x in row] for row in inv_l]
-        imf, rank, restricted = _closed_form(p, a, det_a, rank_tol)
+        p_full = [[_full(x, D) for x in row] for row in p]
+        inv_l_full = [[_full(x, D) for x in row] for row in inv_l]
+        imf, rank, restricted = _closed_form(p_full, a, det_a, rank_tol)
         x = [float(v) for v in direction]
         mobility = _quad(a, x)
         adj_a = adjugate_entries(a)
-        det_l = det_entries(inv_l)
-        den = np.where(det_l > 0.0, _quad(adjugate_entries(inv_l), x) / det_l, np.inf)
+        det_l = det_entries(inv_l_full)
+        den = np.where(det_l > 0.0, _quad(adjugate_entries(inv_l_full), x) / det_l, np.inf)
         ratio = (_quad(adj_a, x) / det_a) / den
         direc = np.where(np.isfinite(den), np.clip(1.0 - ratio, 0.0, 1.0), 1.0)
     return FusedImpact(
