@@ -46,6 +46,7 @@ def test_size_refuses_the_project_file_and_leaves_it_byte_for_byte(tmp_path):
     assert (d / "project.toml").read_bytes() == before
 
 
+@pytest.mark.slow
 def test_existing_out_needs_force(tmp_path):
     d = _leg(tmp_path)
     out = tmp_path / "best.toml"
@@ -73,6 +74,7 @@ def test_frontier_out_and_plot_need_force(tmp_path):
     assert r.exit_code == 2 and "input files" in r.output
 
 
+@pytest.mark.slow
 def test_report_needs_force_over_an_existing_report_and_never_takes_an_input(tmp_path):
     d = _leg(tmp_path)
     args = ["report", d / "project.toml", "--design", d / "design.toml", "--out", tmp_path / "r"]
@@ -133,6 +135,7 @@ values = ["4.0 kg"]
 """
 
 
+@pytest.mark.slow
 def test_study_csv_needs_force_and_never_takes_an_input(tmp_path):
     d = _leg(tmp_path)
     study = d / "study.toml"
@@ -156,6 +159,7 @@ def test_study_csv_needs_force_and_never_takes_an_input(tmp_path):
     )
 
 
+@pytest.mark.slow
 def test_a_report_that_fails_half_way_leaves_the_old_one(tmp_path, monkeypatch):
     d = _leg(tmp_path)
     args = ["report", d / "project.toml", "--design", d / "design.toml", "--out", tmp_path / "r"]

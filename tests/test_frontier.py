@@ -68,6 +68,7 @@ def check_front(project, f):
         assert 0 <= f.knee < len(f.points)
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("method", ["exhaustive", "sweep"])
 @settings(
     max_examples=6, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]

@@ -294,6 +294,7 @@ def test_panda_arm_with_unactuated_gripper(tmp_path):
     assert 0 < hit.metrics["effective_mass"] <= 40
 
 
+@pytest.mark.slow
 def test_panda_free_finger_yields_and_carries_nothing_it_cannot(tmp_path):
     # a free finger carries no torque: a force at the finger tip along its sliding axis cannot be
     # held (payload 0, limited by the finger), and the same push back-drives it with no force
@@ -377,6 +378,7 @@ pose = "stand"
     assert 0.0 <= land.metrics["imf"] <= 1.0
 
 
+@pytest.mark.slow
 def test_talos_legs_inside_the_whole_humanoid(tmp_path):
     # example-robot-data talos_reduced.urdf: a humanoid; size its 12 leg joints, the torso, arms,
     # head and grippers stay held (not sized)

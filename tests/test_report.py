@@ -30,8 +30,13 @@ from jointwright.project import load_project
 from jointwright.report import build_report
 from jointwright.report.markup import PERCENT_REQUIREMENTS
 
-# the quadruped has 12 joints and stance cases (cone programs): a few seconds more
-EXAMPLES = ("leg", "arm", pytest.param("quadruped", marks=pytest.mark.slow))
+# the quadruped has 12 joints and stance cases (cone programs): a few seconds more; the arm's
+# report takes about 4 s to build: both run with the slow tests, the leg by default
+EXAMPLES = (
+    "leg",
+    pytest.param("arm", marks=pytest.mark.slow),
+    pytest.param("quadruped", marks=pytest.mark.slow),
+)
 #: 4 significant digits: a shown number is within half a unit of its 4th digit, rel ≤ 5e-4 [trade]
 SHOWN_RTOL = 6e-4
 #: duty metrics that are fractions, shown in % (the report's own list must agree with this one)
@@ -295,6 +300,7 @@ def test_shown_numbers_read_back_to_four_digits(x):
     assert shown == x if math.isinf(x) else abs(shown - x) <= 5e-4 * abs(x) + 1e-300
 
 
+@pytest.mark.slow
 def test_report_verb_writes_the_files(tmp_path):
     folder = _new(tmp_path / "leg", "leg")
     r = CliRunner().invoke(
@@ -424,6 +430,7 @@ length = "60 mm"
 """
 
 
+@pytest.mark.slow
 def test_self_locking_joint_shows_infinity_and_the_caution(tmp_path):
     # worm, Shigley ch. 13 [mem]: self-locking when f ≥ cos φ_n·tan λ; 0.1 ≥ cos 20°·tan 5° = 0.0822
     folder = _new(tmp_path / "leg", "leg")
@@ -447,6 +454,7 @@ def test_self_locking_joint_shows_infinity_and_the_caution(tmp_path):
     assert not re.search(r"\bnan\b", re.sub(r'src="data:[^"]*"', "", html), flags=re.IGNORECASE)
 
 
+@pytest.mark.slow
 def test_sizing_and_frontier_sections_join_the_report(tmp_path):
     folder = _new(tmp_path / "leg", "leg")
     project = load_project(folder / "project.toml")
@@ -499,6 +507,7 @@ def test_duty_cycle_section_plots_the_project_duty_case(built):
         assert (built["path"].parent / "figures" / f"duty-{c['name']}.png").is_file()
 
 
+@pytest.mark.slow
 def test_same_input_same_files(tmp_path):
     folder = _new(tmp_path / "arm", "arm")
     project = load_project(folder / "project.toml")

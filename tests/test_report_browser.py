@@ -268,7 +268,7 @@ def _build(tmp: Path, example: str, **extra) -> Path:
     scope="module",
     params=[
         "leg-everything",
-        "arm",
+        pytest.param("arm", marks=pytest.mark.slow),
         pytest.param("quadruped", marks=pytest.mark.slow),
         pytest.param("self-locking", marks=pytest.mark.slow),
     ],

@@ -260,6 +260,7 @@ def test_runner_ups_hook_reads_the_sizing_result_form():
         hooks.runner_ups_section({"status": "optimal"})
 
 
+@pytest.mark.slow
 def test_duty_hook_table_and_bad_series(tmp_path):
     data = {
         "case": "trot",
@@ -303,6 +304,7 @@ STUDY = {
 }
 
 
+@pytest.mark.slow
 def test_study_hook_table_has_units_best_case_and_rejects_bad_rows(tmp_path):
     s = hooks.study_section(STUDY, tmp_path)
     text = re.sub(r'src="data:[^"]*"', "", s.body)
@@ -369,6 +371,7 @@ def test_duty_plot_series_has_the_assessed_rms_and_peak(example):
             assert float(np.abs(x).max()) == pytest.approx(row["peak_torque"], rel=1e-9)
 
 
+@pytest.mark.slow
 def test_study_store_becomes_the_study_section(tmp_path):
     import sys
     from pathlib import Path

@@ -49,6 +49,7 @@ def test_bad_arguments_name_the_field(small, kwargs, field):
     assert e.value.field == field
 
 
+@pytest.mark.slow
 def test_objective_table_is_read_and_checked(small):
     p = dataclasses.replace(small, objective={"maximize": "mass"})
     assert size(p, explain=False).objective_kind == "mass"
@@ -58,11 +59,13 @@ def test_objective_table_is_read_and_checked(small):
         size(dataclasses.replace(small, objective={"maximize": "fun"}), explain=False)
 
 
+@pytest.mark.slow
 def test_same_input_same_design(small):
     a, b = size(small, explain=False), size(small, explain=False)
     assert a.design == b.design and a.objective == b.objective
 
 
+@pytest.mark.slow
 def test_result_is_reevaluated_and_explained(small):
     r = size(small)
     if r.status != "optimal":
@@ -121,6 +124,7 @@ def test_cli_bad_time_limit_exits_2(tmp_path):
     assert r.exit_code == 2 and "--time-limit" in r.output
 
 
+@pytest.mark.slow
 def test_continuous_ratio_range_is_gridded_then_refined(small):
     """A stage with a ratio range is searched on the R20 grid (ISO 3 [pub]) and then refined:
     the refined design is feasible, inside the range and at least as good as the grid optimum."""
@@ -149,6 +153,7 @@ def test_time_limit_covers_option_building(small):
     assert "time limit" in r.message
 
 
+@pytest.mark.slow
 def test_runner_ups_change_a_shared_group_as_a_whole(small):
     """With joints shared, a runner-up gives the whole group the other option: its objective is
     the one of the design with every joint of the group changed (scored by the evaluator)."""
@@ -174,6 +179,7 @@ def test_runner_ups_change_a_shared_group_as_a_whole(small):
         assert s.objective[0] == pytest.approx(a.objective, rel=1e-12)
 
 
+@pytest.mark.slow
 def test_cli_no_explain_skips_the_runner_ups(tmp_path):
     runner = CliRunner()
     runner.invoke(main, ["new", str(tmp_path / "leg")])
@@ -183,6 +189,7 @@ def test_cli_no_explain_skips_the_runner_ups(tmp_path):
     assert data["alternatives"] == [] and data["diagnosis"] == []
 
 
+@pytest.mark.slow
 def test_bundled_leg_maximizes_the_payload_mass_every_case_carries():
     # the default objective is the payload mass (kg) every payload case carries, each case reading
     # its force through required = fixed_load + payload_share·m_p·g_n; the raw minimum over the
@@ -216,6 +223,7 @@ def test_bundled_leg_maximizes_the_payload_mass_every_case_carries():
     assert raw_min > 300.0
 
 
+@pytest.mark.slow
 def test_progress_is_told_every_phase(small):
     """A progress object with a phase method hears each phase in order (the command line shows
     them on stderr)."""

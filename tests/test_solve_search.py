@@ -125,6 +125,7 @@ def agree(project, kind, pins=None, shared=None):
     return res
 
 
+@pytest.mark.slow
 @settings(
     max_examples=10, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
 )
@@ -138,6 +139,7 @@ def test_leg_instances_match_enumeration(leg, seed, kind):
     agree(project, kind)
 
 
+@pytest.mark.slow
 @settings(
     max_examples=6, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
 )
@@ -200,6 +202,7 @@ def planar_arm(rng):
     return Robot.from_links(table, file="random-arm.toml")
 
 
+@pytest.mark.slow
 @settings(
     max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
 )
@@ -247,6 +250,7 @@ def test_random_planar_arms_match_enumeration(arm, seed, kind):
     agree(project, kind)
 
 
+@pytest.mark.slow
 def test_arm_with_pins_and_shared_joints_matches_enumeration(arm):
     rng = np.random.default_rng(7)
     project = dataclasses.replace(
@@ -295,6 +299,7 @@ def test_time_limit_reports_a_bound_and_gap(arm):
         assert res.gap >= 0.0
 
 
+@pytest.mark.slow
 @settings(
     max_examples=6, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
 )
@@ -363,6 +368,7 @@ def test_impact_bounds_hold_for_every_completion(leg, seed):
                 assert np.all(np.asarray(ev[name]["imf_direction"]) <= xd + 1e-12)
 
 
+@pytest.mark.slow
 @settings(
     max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
 )
@@ -454,6 +460,7 @@ def test_payload_mass_objective_matches_enumeration_with_case_transforms(arm, se
         assert res.objective == pytest.approx(min(carried), rel=1e-9, abs=1e-9)
 
 
+@pytest.mark.slow
 @settings(
     max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
 )
@@ -490,6 +497,7 @@ def test_budget_bounds_are_above_the_enumerated_optimum(leg, seed):
     assert b["objective"].max() >= ref.objective - slack
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("seed, kind", [(1, "payload"), (2, "mass")])
 def test_quadruped_with_stance_cases_matches_enumeration(seed, kind):
     """The bundled quadruped (floating base, legs shared, two stance cases with friction cones,

@@ -463,6 +463,7 @@ def test_stroke_speed_constant_acceleration_closed_form():
     assert r.speed == pytest.approx(600.0 * L / N, rel=1e-12) == r.steady_speed
 
 
+@pytest.mark.slow
 def test_stroke_speed_on_the_motor_line_matches_the_integral():
     # unloaded joint on the DC line: α(v) = (A − b·v)/m with A the stall torque, so
     # x(v) = m·(−v/b − (A/b²)·ln(1 − b·v/A)) [derived, ∫ w/α(w) dw]; the coarse grid

@@ -54,6 +54,7 @@ def test_study_verb_sizes_every_case_once_and_matches_the_api(study_dir):
         assert row.metrics["objective"] == pytest.approx(direct.objective, rel=1e-12)
 
 
+@pytest.mark.slow
 def test_refuses_to_overwrite_a_store_without_resume(study_dir):
     runner = CliRunner()
     bad = study_dir / "study.toml"

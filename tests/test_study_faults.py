@@ -71,6 +71,7 @@ def test_second_writer_is_refused_with_the_first_ones_pid_and_host(tmp_path):
     assert out.done_total == 4
 
 
+@pytest.mark.slow
 def test_two_concurrent_writers_one_runs_one_is_refused_nothing_duplicated(tmp_path):
     path = make_study(tmp_path, "sleep = 0.05", n_thigh=4)  # 16 cases
     store = tmp_path / "s.sqlite"

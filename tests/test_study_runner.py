@@ -247,6 +247,7 @@ def _interrupt_part_way(proc: subprocess.Popen, store: Path, sig: int, *, group:
     return code
 
 
+@pytest.mark.slow
 @pytest.mark.skipif(not Path("/proc/self/stat").exists(), reason="reads process states from /proc")
 @pytest.mark.parametrize(
     "sig, group", [(signal.SIGKILL, False), (signal.SIGINT, True)], ids=["kill", "ctrl-c"]

@@ -186,6 +186,7 @@ def test_case_project_applies_assignments_on_a_copy(tmp_path):
     assert spec.base_project == before
 
 
+@pytest.mark.slow
 @given(
     st.lists(
         st.one_of(

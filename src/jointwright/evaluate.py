@@ -30,7 +30,11 @@ duty cycles move the actuated joints only; held and free joints stay at their po
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+import os
+import threading
+from concurrent.futures import ThreadPoolExecutor
+from dataclasses import dataclass, fields
+from typing import cast
 
 import numpy as np
 
@@ -39,6 +43,12 @@ from .dutycase import evaluate_duty, prepare_duty
 from .metrics.backdrive import backdrive_force
 from .metrics.contact_safety import transient_contact
 from .metrics.gear_shock import gear_shock_torque, link_velocity_step
+from .metrics.impact_fused import (
+    FusedImpact,
+    entries_batch_last,
+    impact_fused,
+    mass_matrix_entries,
+)
 from .metrics.inertia import effective_mass, forward_effective_mass, impact_mitigation
 from .metrics.linalg_small import inv_small
 from .metrics.payload import payload_along, torque_bounds
@@ -49,10 +59,39 @@ from .metrics.speed import (
     payload_at_speed,
     speed_within_stroke,
 )
-from .robot.basis import gravity, mass_matrix, pose_basis
+from .robot.basis import PoseBasis, gravity, mass_matrix, pose_basis
 
 #: joint velocity components below this fraction of the largest count as zero (holding)
 VELOCITY_TOLERANCE = 1e-9
+#: designs per call of the fused impact kernel (its entry rows stay in the core's cache)
+IMPACT_CHUNK = 4096
+#: threads that share a batch of designs, or the chunks of the fused impact kernel (numpy
+#: releases the GIL inside its loops); 1, the default, runs everything on the calling thread:
+#: two threads did not pay on the shared 2-core machine (docs/benchmarks.md)
+THREADS = 1
+_POOL: dict[int, ThreadPoolExecutor] = {}  # per process id: a forked child makes its own
+#: batches of at least this many designs are evaluated on THREADS threads
+PARALLEL_MIN = 2048
+_LOCAL = threading.local()
+
+
+def _join(values: list[object], sizes: list[int]) -> object:
+    """Per-design results of consecutive design slices joined along the design axis."""
+    per_design = all(
+        isinstance(v, np.ndarray) and v.ndim and v.shape[0] == n
+        for v, n in zip(values, sizes, strict=True)
+    )
+    return np.concatenate(cast(list[np.ndarray], values), axis=0) if per_design else values[0]
+
+
+def _pool() -> ThreadPoolExecutor:
+    pid = os.getpid()
+    if pid not in _POOL:
+        _POOL.clear()
+        _POOL[pid] = ThreadPoolExecutor(THREADS, thread_name_prefix="jointwright-eval")
+    return _POOL[pid]
+
+
 #: a free joint's gravity torque at or below this is rounding, taken as 0 (N·m or N)
 FREE_JOINT_TOLERANCE = 1e-9
 
@@ -80,6 +119,10 @@ class Evaluator:
     ----------
     project : Project
     """
+
+    #: impact cases of floating-base robots through metrics.impact_fused (False: the generic
+    #: metrics.inertia.impact_mitigation path, kept as the reference)
+    fused_impact: bool = True
 
     def __init__(self, project):
         self.project = project
@@ -143,7 +186,11 @@ class Evaluator:
 
         ``detail=False`` computes only what requirements and objectives use (the case's own
         power-flow mode); ``True`` adds the other modes and the frictionless comparison.
+        A batch of at least :data:`PARALLEL_MIN` designs is split between :data:`THREADS`
+        threads (every design's metrics are its own, so the result is the same).
         """
+        if THREADS > 1 and d.mass.shape[0] >= PARALLEL_MIN and not _LOCAL.__dict__.get("inner"):
+            return self._evaluate_threads(d, detail)
         out = {}
         for pc in self.cases:
             kind = pc.case.kind
@@ -160,6 +207,27 @@ class Evaluator:
         for pd in self.duty:
             out[pd.case.name] = evaluate_duty(pd, d, detail=detail)
         return out
+
+    def _evaluate_threads(self, d: DesignArrays, detail: bool) -> dict[str, dict[str, np.ndarray]]:
+        """:meth:`evaluate` on :data:`THREADS` slices of the designs at once (numpy releases the
+        GIL inside its loops, so the slices share the cores), results joined in order."""
+        D = d.mass.shape[0]
+        cuts = np.linspace(0, D, THREADS + 1).astype(int)
+        parts = [d.take(slice(a, b)) for a, b in zip(cuts[:-1], cuts[1:], strict=True)]
+
+        def run(part: DesignArrays) -> dict[str, dict[str, np.ndarray]]:
+            _LOCAL.inner = True
+            try:
+                return self.evaluate(part, detail=detail)
+            finally:
+                _LOCAL.inner = False
+
+        results = list(_pool().map(run, parts))
+        sizes = [p.mass.shape[0] for p in parts]
+        return {
+            name: {key: _join([r[name][key] for r in results], sizes) for key in results[0][name]}
+            for name in results[0]
+        }
 
     def _payload(
         self, pc: PreparedCase, d: DesignArrays, detail: bool = True
@@ -333,6 +401,11 @@ class Evaluator:
         for mode in ("frictionless", "backdriven") if detail else ("backdriven",):
             refl = d.reflected_inertia(mode)
             refl = np.where(np.isfinite(refl), refl, 0.0)
+            lock = locked if mode == "backdriven" else structure
+            suffix = "" if mode == "backdriven" else f"_{mode}"
+            if self.floating and self.fused_impact and pc.J.shape[0] <= 3:
+                out.update(self._impact_fused(pc, d, refl, lock, suffix))
+                continue
             H = mass_matrix(
                 pc.basis,
                 d.mass,
@@ -341,8 +414,6 @@ class Evaluator:
                 ratio=d.ratio,
                 coupling=self.project.rotor_coupling,
             )
-            lock = locked if mode == "backdriven" else structure
-            suffix = "" if mode == "backdriven" else f"_{mode}"
             if self.floating:
                 J = np.broadcast_to(pc.J, H.shape[:-2] + pc.J.shape)
                 imf = impact_mitigation(H, J, 6, lock[..., 6:], direction=pc.u)
@@ -394,6 +465,48 @@ class Evaluator:
             "shock_torque": torque,
             "shock_use_joint": use,
             "shock_joint_speed": dq[..., self.v_index],
+        }
+
+    def _impact_fused(
+        self, pc: PreparedCase, d: DesignArrays, refl: np.ndarray, lock: np.ndarray, suffix: str
+    ) -> dict[str, np.ndarray]:
+        """The floating-base fields of :meth:`_impact` for one mode through the fused kernel
+        (metrics.impact_fused; equal to the generic path to round-off), designs in chunks of
+        :data:`IMPACT_CHUNK`, the chunks shared between :data:`THREADS` threads."""
+        D = d.mass.shape[0]
+        n_base = self.robot.n_base
+        coupling = self.project.rotor_coupling
+        basis = cast(PoseBasis, pc.basis)
+
+        def run(sl: slice) -> FusedImpact:
+            if coupling:
+                H = mass_matrix(
+                    basis,
+                    d.mass[sl],
+                    refl[sl],
+                    rotor_inertia=d.rotor_inertia[sl],
+                    ratio=d.ratio[sl],
+                    coupling=True,
+                )
+                h = entries_batch_last(np.ascontiguousarray(np.moveaxis(H, 0, -1)))
+            else:
+                h = mass_matrix_entries(basis.M0, basis.M_mass, d.mass[sl], basis.v_index, refl[sl])
+            return impact_fused(h, pc.J, n_base, lock[sl, n_base:], cast(np.ndarray, pc.u))
+
+        slices = [slice(s, min(s + IMPACT_CHUNK, D)) for s in range(0, D, IMPACT_CHUNK)]
+        if THREADS > 1 and len(slices) > 1 and not _LOCAL.__dict__.get("inner"):
+            parts = list(_pool().map(run, slices))
+        else:
+            parts = [run(sl) for sl in slices]
+        res = {
+            f.name: np.concatenate([getattr(r, f.name) for r in parts]) for f in fields(FusedImpact)
+        }
+        return {
+            "imf" + suffix: res["imf"],
+            "imf_restricted" + suffix: res["imf_restricted"],
+            "imf_direction" + suffix: res["imf_direction"],
+            "contact_rank" + suffix: res["rank"],
+            "effective_mass" + suffix: 1.0 / res["mobility"],
         }
 
     def _forward_effective_mass(

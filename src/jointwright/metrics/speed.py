@@ -471,6 +471,21 @@ def _first_rise(start, end, c2, c1, c0):
     return np.where(out_at_start, start, first)
 
 
+def _first_rise_linear(start, end, c1, c0):
+    """:func:`_first_rise` for q(x) = c1·x + c0 (c2 = 0), with the same arithmetic on the terms
+    that remain, so the same numbers: the quadratic roots, which do not exist here, are never
+    formed (the acceleration limits are linear in α, and this is most of the stroke figure's
+    work)."""
+    c1, c0 = np.asarray(c1, dtype=float), np.asarray(c0, dtype=float)
+    scale = np.abs(c0) + 1e-300
+    with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
+        out_at_start = c1 * start + c0 > 1e-12 * scale
+        c0_safe = np.where(np.isfinite(c0), c0, -np.inf)
+        rl = np.where(c1 > 0, -c0_safe / np.where(c1 != 0, c1, 1.0), np.inf)
+        ok = np.isfinite(rl) & (rl >= start) & (rl <= end)
+    return np.where(out_at_start, start, np.where(ok, rl, np.inf))
+
+
 @dataclass(frozen=True)
 class LoadedAcceleration:
     """Largest end-point acceleration along u from rest with the load carried (arrays over ``...``).
@@ -586,14 +601,15 @@ def _acceleration_exits(t0, k, a, sigma, n, eta_f, eta_b, ir, hi, lo, gear):
         p0 = s * f * t0 / n
         p1 = s * (f * k / n + n * ir * a)
         return np.minimum(
-            _first_rise(start, end, zero, p1, p0 - hi), _first_rise(start, end, zero, -p1, -p0 - lo)
+            _first_rise_linear(start, end, p1, p0 - hi),
+            _first_rise_linear(start, end, -p1, -p0 - lo),
         )
 
     first = piece(zero, brk)
     second = piece(np.where(np.isfinite(brk), brk, 0.0), inf)
     motor_exit = np.where(np.isfinite(first), first, np.where(np.isfinite(brk), second, np.inf))
     gear_exit = np.minimum(
-        _first_rise(zero, inf, zero, k, t0 - gear), _first_rise(zero, inf, zero, -k, -t0 - gear)
+        _first_rise_linear(zero, inf, k, t0 - gear), _first_rise_linear(zero, inf, -k, -t0 - gear)
     )
     return np.minimum(motor_exit, gear_exit)
 
