@@ -59,6 +59,7 @@ from .metrics.speed import (
     payload_at_speed,
     speed_within_stroke,
 )
+from .project import Case
 from .robot.basis import PoseBasis, gravity, mass_matrix, pose_basis
 
 #: joint velocity components below this fraction of the largest count as zero (holding)
@@ -100,8 +101,8 @@ FREE_JOINT_TOLERANCE = 1e-9
 class PreparedCase:
     """Pose terms of one case, computed once."""
 
-    case: object
-    basis: object  # PoseBasis
+    case: Case
+    basis: PoseBasis
     J: np.ndarray  # (3, nv) tip point Jacobian, world axes
     Jj: np.ndarray  # (3, n_act) columns of the actuated joints
     u: np.ndarray | None  # (3,) unit direction
