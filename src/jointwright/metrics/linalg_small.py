@@ -19,6 +19,7 @@ Two representations are used:
 from __future__ import annotations
 
 import math
+from typing import cast
 
 import numpy as np
 
@@ -142,7 +143,7 @@ def gram_entries(w: list[list[np.ndarray]]) -> list[list[np.ndarray]]:
 def quad_entries(a: list[list[np.ndarray]], x: list[np.ndarray]) -> np.ndarray:
     """xᵀ·A·x for a square entry list A and an entry vector x."""
     k = len(x)
-    total = 0.0
+    total: np.ndarray = np.zeros(())
     for i in range(k):
         row = a[i][0] * x[0]
         for j in range(1, k):
@@ -209,8 +210,8 @@ def whiten(h: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         False where H is not symmetric (to 1e-8 of its largest diagonal entry) or not positive
         definite; W is meaningless there.
     """
-    w, valid = whiten_entries(h, b)
-    w = stack_entries(w)
+    w_entries, valid = whiten_entries(h, b)
+    w = stack_entries(w_entries)
     return w, np.broadcast_to(valid, w.shape[:-2])
 
 
@@ -225,8 +226,8 @@ def whiten_entries(h: np.ndarray, b: np.ndarray) -> tuple[list[list[np.ndarray]]
     batch = np.broadcast_shapes(h.shape[:-2], b.shape[:-2])
     h = np.broadcast_to(h, batch + h.shape[-2:])
     valid = (np.linalg.eigvalsh(h)[..., 0] > 0.0) & symmetric
-    low = np.linalg.cholesky(np.where(valid[..., None, None], h, np.eye(h.shape[-1])))
-    return entries(np.linalg.solve(low, np.broadcast_to(b, batch + b.shape[-2:]))), valid
+    factor = np.linalg.cholesky(np.where(valid[..., None, None], h, np.eye(h.shape[-1])))
+    return entries(np.linalg.solve(factor, np.broadcast_to(b, batch + b.shape[-2:]))), valid
 
 
 def is_symmetric(h: np.ndarray, rtol: float = 1e-8) -> np.ndarray:
@@ -286,7 +287,9 @@ def map_chunks(fn, arrays, core_ndims, out_core_ndims, chunk: int | None = None)
         outs = fn(*args)
         for p, o, k in zip(pieces, outs, out_core_ndims, strict=True):
             p.append(_fit(o, (sl.stop - sl.start,) + sub, k))
-    return tuple(None if p[0] is None else np.concatenate(p, axis=0) for p in pieces)
+    return tuple(
+        None if p[0] is None else np.concatenate(cast(list[np.ndarray], p), axis=0) for p in pieces
+    )
 
 
 def _fit(o, batch, core):
@@ -336,7 +339,7 @@ def check_size(a: np.ndarray, name: str, axis: int, size: int, what: str) -> Non
 
 def batch_shape(**named: tuple[np.ndarray | None, int]) -> tuple[int, ...]:
     """Broadcast batch shape of named ``(array, core_ndim)`` pairs, or InputError naming them."""
-    items = {k: v for k, v in named.items() if v[0] is not None}
+    items = {k: (a, n) for k, (a, n) in named.items() if a is not None}
     try:
         return np.broadcast_shapes(*[a.shape[: a.ndim - k] for a, k in items.values()])
     except ValueError:
