@@ -9,6 +9,7 @@ import numpy as np
 
 from .design import Design, arrays_from_designs
 from .evaluate import Evaluator
+from .metrics.drive import binding_limit, envelope_uses
 from .problem import carried_payload, checks, feasible
 
 CAUTION = (
@@ -40,6 +41,14 @@ class JointSummary:
     breakaway_torque: float  # N·m joint side, inf when self-locking
     max_joint_speed: float  # rad/s
     cost: float = 0.0  # catalog currency units (0 when the catalog gives no costs)
+    # the motor as its drive feeds it (catalog.drives.fed_motor); without a drive, its own
+    drive: str | None = None
+    motor_peak_torque: float = math.nan  # N·m, min(motor, Kt·I_peak)
+    motor_continuous_torque: float = math.nan  # N·m, min(motor, Kt·I_cont)
+    motor_max_speed: float = math.nan  # rad/s, min(motor, V_bus/Kt)
+    peak_torque_by: str = "motor"  # "motor" or "drive": whose limit is lower
+    continuous_torque_by: str = "motor"
+    max_speed_by: str = "motor"
 
 
 @dataclass(frozen=True)
@@ -125,6 +134,13 @@ def joint_summary(joint: str, a) -> JointSummary:
         breakaway_torque=a.breakaway_torque,
         max_joint_speed=a.max_joint_speed,
         cost=a.cost,
+        drive=None if a.drive is None else a.drive.name,
+        motor_peak_torque=a.fed.peak_torque,
+        motor_continuous_torque=a.fed.continuous_torque,
+        motor_max_speed=a.fed.max_speed,
+        peak_torque_by=a.fed.peak_by,
+        continuous_torque_by=a.fed.continuous_by,
+        max_speed_by=a.fed.speed_by,
     )
 
 
@@ -164,6 +180,10 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
         if case.kind in ("payload", "stance") and "payload" in metrics:
             # the robot payload mass this case's force carries (problem.carried_payload), kg
             metrics["payload_carried"] = float(carried_payload(case, metrics["payload"]))
+        if case.kind == "speed" and limiting in names:
+            metrics["envelope_limit"] = _envelope_limit(
+                design.actuator(limiting), metrics, limiting
+            )
         note = _zero_payload_note(project, case, metrics, limiting)
         cases.append(CaseResult(case.name, case.kind, metrics, limiting, modes, note))
     cl = checks(project, arrays, ev)
@@ -206,6 +226,27 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
         feasible=bool(feasible(cl, 1)[0]),
         cautions=tuple(cautions),
     )
+
+
+def _envelope_limit(a, metrics: dict, joint: str) -> str | None:
+    """Which part of the limiting joint's torque–speed envelope sets a speed case, and whether
+    the motor or its drive sets it (metrics.drive); None without the operating point."""
+    tau, w = metrics.get(f"motor_torque:{joint}"), metrics.get(f"motor_speed:{joint}")
+    if tau is None or w is None or not (math.isfinite(tau) and math.isfinite(w)):
+        return None
+    m, fed = a.motor, a.fed
+    electrical = None not in (m.torque_constant, m.resistance, fed.bus_voltage)
+    uses = envelope_uses(
+        tau,
+        w,
+        peak_torque=fed.peak_torque,
+        max_speed=fed.max_speed,
+        torque_constant=m.torque_constant if electrical else None,
+        resistance=m.resistance if electrical else None,
+        bus_voltage=fed.bus_voltage if electrical else None,
+        winding_temperature=m.winding_temperature_max,
+    )
+    return binding_limit(uses, fed, a.drive is not None)
 
 
 def _zero_payload_note(project, case, metrics: dict, limiting: str | None) -> str | None:

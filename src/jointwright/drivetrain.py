@@ -21,6 +21,7 @@ from functools import cached_property
 
 import numpy as np
 
+from .catalog.drives import Drive, FedMotor, fed_motor
 from .catalog.model import Motor, StageFrame, StageType
 
 #: power-flow modes, in the order the metrics report them
@@ -86,10 +87,18 @@ class StageChoice:
 
 @dataclass(frozen=True)
 class Actuator:
-    """A motor driving a joint through a stack of stages (possibly empty: direct drive)."""
+    """A motor driving a joint through a stack of stages (possibly empty: direct drive), fed by
+    a drive (None: the motor's own ratings apply, see :mod:`jointwright.catalog.drives`)."""
 
     motor: Motor
     stages: tuple[StageChoice, ...] = ()
+    drive: Drive | None = None
+
+    # --- motor as fed by its drive (catalog.drives) ---------------------------------------------
+    @cached_property
+    def fed(self) -> FedMotor:
+        """The motor's ratings under its drive's current and voltage limits."""
+        return fed_motor(self.motor, self.drive)
 
     # --- ratios and efficiencies -------------------------------------------------------------
     @cached_property
@@ -149,12 +158,14 @@ class Actuator:
 
     @cached_property
     def mass(self) -> float:
-        """Motor plus stage masses (kg)."""
-        return self.motor.mass + sum(s.frame.mass for s in self.stages)
+        """Motor plus stage masses (kg), plus the drive's when it has one."""
+        own = self.drive.mass if self.drive is not None else 0.0
+        return self.motor.mass + sum(s.frame.mass for s in self.stages) + own
 
     @cached_property
     def cost(self) -> float:
-        return self.motor.cost + sum(s.frame.cost for s in self.stages)
+        own = self.drive.cost if self.drive is not None else 0.0
+        return self.motor.cost + sum(s.frame.cost for s in self.stages) + own
 
     @cached_property
     def diameter(self) -> float:
@@ -189,7 +200,7 @@ class Actuator:
     def capacity(self, mode: str, *, continuous: bool = False) -> float:
         """Joint torque capacity (N·m) in a mode, capped by the gear rating; see
         :func:`torque_capacity`."""
-        tau_m = self.motor.continuous_torque if continuous else self.motor.peak_torque
+        tau_m = self.fed.continuous_torque if continuous else self.fed.peak_torque
         gear = self.gear_continuous_torque if continuous else self.gear_peak_torque
         return float(
             torque_capacity(
@@ -220,8 +231,9 @@ class Actuator:
 
     @cached_property
     def max_joint_speed(self) -> float:
-        """Joint speed at the motor's maximum speed (rad/s)."""
-        return self.motor.max_speed / self.ratio
+        """Joint speed at the motor's maximum speed (rad/s), its drive's no-load speed cap
+        included."""
+        return self.fed.max_speed / self.ratio
 
     @cached_property
     def stiffness(self) -> float:
@@ -240,4 +252,5 @@ class Actuator:
 
     def label(self) -> str:
         stack = " + ".join(s.label() for s in self.stages) or "direct drive"
-        return f"{self.motor.name} | {stack}"
+        tail = f" | drive {self.drive.name}" if self.drive is not None else ""
+        return f"{self.motor.name} | {stack}{tail}"

@@ -12,6 +12,7 @@ from typing import Any
 
 import numpy as np
 
+from .catalog.drives import drives_from_table
 from .errors import InputError
 from .progress import report
 from .tomlfile import Table, is_file, load_toml
@@ -133,6 +134,9 @@ class Project:
     stage_kinds: tuple[str, ...] | None = None
     rotor_coupling: bool = False
     summary: str = ""
+    #: per actuated joint the drive names it may use (one: fixed, several: the optimizer
+    #: chooses); None: no drives, every motor on its own ratings (catalog.drives)
+    drives: dict[str, tuple[str, ...]] | None = None
     objective: dict = field(default_factory=dict)
 
     @property
@@ -190,6 +194,7 @@ def project_from_dict(data: dict, path: Path) -> Project:
     coupling = model.bool("rotor_coupling", False)
     model.done()
     requirements = _load_requirements(top.table("requirements", {}), robot)
+    drives = drives_from_table(top.table("drives", {}), tuple(robot.actuated), catalog)
     poses = _load_poses(top.table("poses", {}), robot)
     tables = top.tables("case")
     cases = []
@@ -221,6 +226,7 @@ def project_from_dict(data: dict, path: Path) -> Project:
         rotor_coupling=coupling,
         summary=summary,
         objective=dict(objective),
+        drives=drives,
     )
 
 

@@ -29,6 +29,7 @@ import numpy as np
 from ..errors import InputError
 from ..tomlfile import Table, is_file, load_toml
 from ..units import positive, registry
+from .drives import drive_from_table
 from .efficiency import efficiency_from_dict
 from .model import STAGE_KINDS, Catalog, Motor, MotorFamily, StageFrame, StageType
 
@@ -86,7 +87,15 @@ MODEL_KINDS = {
     "planetary_basic_train": ("planetary",),
 }
 
-_TOP_KEYS = ("description", "motor", "motor_family", "stage", "motors_csv", "frames_csv")
+_TOP_KEYS = (
+    "description",
+    "motor",
+    "motor_family",
+    "stage",
+    "motors_csv",
+    "frames_csv",
+    "drive",
+)
 _STAGE_KEYS = ("name", "kind", "ratios", "ratio_range", "efficiency", "frame")
 
 
@@ -102,6 +111,7 @@ class _Part(NamedTuple):
     families: list[tuple[MotorFamily, _Where]]
     stages: list[tuple[StageType, _Where]]
     notes: list[str]
+    drives: tuple | list = ()  # (catalog.drives.Drive, _Where) pairs
 
 
 # --- public API ----------------------------------------------------------------------------
@@ -183,7 +193,8 @@ def _toml_part(path: Path) -> _Part:
     _check_keys(top, _TOP_KEYS)
     if top.has("description") and not isinstance(top.raw("description"), str):
         raise InputError(file, "description", "must be a string")
-    part = _Part([], [], [], [])
+    drives = [(drive_from_table(t), _Where(file, t.path)) for t in top.tables("drive")]
+    part = _Part([], [], [], [], drives)
     for t in top.tables("motor"):
         part.motors.append((_motor(t), _Where(file, t.path)))
     for csv_path in _paths(top, "motors_csv", path.parent):
@@ -213,8 +224,8 @@ def _paths(top: Table, key: str, base: Path) -> list[Path]:
 
 
 def _require_content(part: _Part, path: Path) -> None:
-    if not (part.motors or part.families or part.stages):
-        raise InputError(str(path), "(top level)", "defines no motor, motor_family or stage")
+    if not (part.motors or part.families or part.stages or part.drives):
+        raise InputError(str(path), "(top level)", "defines no motor, motor_family, stage or drive")
 
 
 # --- CSV -----------------------------------------------------------------------------------
@@ -579,12 +590,15 @@ def _merge(parts: list[_Part], *, source: str) -> Catalog:
                 claim("motor", member.name, _Where(where.file, f"{where.field}.sizes"))
         for stage, where in part.stages:
             claim("stage", stage.name, where)
+        for drive, where in part.drives:
+            claim("drive", drive.name, where)
     return Catalog(
         motors=tuple(m for p in parts for m, _ in p.motors),
         stages=tuple(s for p in parts for s, _ in p.stages),
         families=tuple(f for p in parts for f, _ in p.families),
         source=source,
         notes=tuple(n for p in parts for n in p.notes),
+        drives=tuple(d for p in parts for d, _ in p.drives),
     )
 
 

@@ -215,6 +215,8 @@ class Catalog:
     families: tuple[MotorFamily, ...] = ()
     source: str = "<api>"
     notes: tuple[str, ...] = field(default=())
+    #: motor drives (catalog.drives.Drive); empty when the catalog lists none
+    drives: tuple = ()
 
     def all_motors(self) -> tuple[Motor, ...]:
         """Catalog motors followed by every offered member of every family."""
@@ -233,4 +235,11 @@ class Catalog:
         for s in self.stages:
             if s.name == name:
                 return s
+        raise KeyError(name)
+
+    def drive(self, name: str):
+        """The drive (catalog.drives.Drive) named ``name``; KeyError when none."""
+        for d in self.drives:
+            if d.name == name:
+                return d
         raise KeyError(name)

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from pathlib import Path
 
 import click
@@ -129,13 +130,15 @@ def print_assessment(a) -> None:
     con.print(
         table(
             "Joint torque and reflected inertia",
-            ["joint", "drive", "holding", "refl. inertia", "back-driven"],
+            ["joint", "driving", "holding", "refl. inertia", "back-driven"],
             caps,
-            caption="drive = η_f·N·τ_peak (motoring); holding = N·τ_peak/η_b while the load "
+            caption="driving = η_f·N·τ_peak (motoring); holding = N·τ_peak/η_b while the load "
             "back-drives; both capped by the gear torque limit (peak). refl. inertia = "
             "N²·I_r (frictionless); back-driven = N²·I_r/η_b, what an impact meets.",
         )
     )
+    if any(j.drive is not None for j in a.joints):
+        con.print(_drives_table(a))
     for c in a.cases:
         rows = []
         for key, label, unit in SHOWN.get(c.kind, []):
@@ -163,6 +166,8 @@ def print_assessment(a) -> None:
             ]
             quantity = str(c.metrics.get("limiting_quantity", "—"))
             rows += [["limiting quantity", LIMITING_QUANTITY.get(quantity, quantity)]]
+        if c.metrics.get("envelope_limit"):
+            rows.append(["limit on the limiting joint's envelope", c.metrics["envelope_limit"]])
         if c.note:
             extra.append(f"[red]carries nothing:[/red] {c.note}")
         elif c.limiting_joint:
@@ -231,6 +236,32 @@ def command(project: Path, design_file: Path, as_json: bool):
         emit_json(a.to_dict())
     else:
         print_assessment(a)
+
+
+def _drives_table(a):
+    """Per joint: its drive and the motor ratings as the drive feeds them, with the side that
+    sets each (catalog.drives.fed_motor)."""
+
+    def by(value, unit, side):
+        return f"{num(value, unit)} ({side})"
+
+    rows = [
+        [
+            j.joint,
+            j.drive or "— (motor's own ratings)",
+            by(j.motor_peak_torque, "N·m", j.peak_torque_by),
+            by(j.motor_continuous_torque, "N·m", j.continuous_torque_by),
+            by(j.motor_max_speed * 60 / (2 * math.pi), "rpm", j.max_speed_by),
+        ]
+        for j in a.joints
+    ]
+    return table(
+        "Drives and the motor ratings they allow",
+        ["joint", "drive", "peak torque", "continuous torque", "top speed"],
+        rows,
+        caption="motor side: τ_peak = min(motor, Kt·I_peak), τ_cont = min(motor, Kt·I_cont), "
+        "top speed = min(motor, V_bus/Kt); (drive) marks where the drive's limit is the lower.",
+    )
 
 
 def _column_groups(rows: list[list[str]], joints: list[str], width: int) -> list[list[int]]:
