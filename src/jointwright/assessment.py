@@ -180,10 +180,8 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
         if case.kind in ("payload", "stance") and "payload" in metrics:
             # the robot payload mass this case's force carries (problem.carried_payload), kg
             metrics["payload_carried"] = float(carried_payload(case, metrics["payload"]))
-        if case.kind == "speed" and limiting in names:
-            metrics["envelope_limit"] = _envelope_limit(
-                design.actuator(limiting), metrics, limiting
-            )
+        if case.kind == "speed":
+            metrics["envelope_limit"] = _envelope_limit(design, metrics)
         note = _zero_payload_note(project, case, metrics, limiting)
         cases.append(CaseResult(case.name, case.kind, metrics, limiting, modes, note))
     cl = checks(project, arrays, ev)
@@ -228,25 +226,31 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
     )
 
 
-def _envelope_limit(a, metrics: dict, joint: str) -> str | None:
-    """Which part of the limiting joint's torque–speed envelope sets a speed case, and whether
-    the motor or its drive sets it (metrics.drive); None without the operating point."""
-    tau, w = metrics.get(f"motor_torque:{joint}"), metrics.get(f"motor_speed:{joint}")
-    if tau is None or w is None or not (math.isfinite(tau) and math.isfinite(w)):
-        return None
-    m, fed = a.motor, a.fed
-    electrical = None not in (m.torque_constant, m.resistance, fed.bus_voltage)
-    uses = envelope_uses(
-        tau,
-        w,
-        peak_torque=fed.peak_torque,
-        max_speed=fed.max_speed,
-        torque_constant=m.torque_constant if electrical else None,
-        resistance=m.resistance if electrical else None,
-        bus_voltage=fed.bus_voltage if electrical else None,
-        winding_temperature=m.winding_temperature_max,
-    )
-    return binding_limit(uses, fed, a.drive is not None)
+def _envelope_limit(design, metrics: dict) -> str | None:
+    """At a speed case's steady loaded speed: the joint whose motor is at its envelope, the
+    part of the envelope it is on and whether the motor or its drive sets that part
+    (metrics.drive), as "joint: part"; None without the operating points."""
+    best = None
+    for joint, a in zip(design.joints, design.actuators, strict=True):
+        tau, w = metrics.get(f"motor_torque:{joint}"), metrics.get(f"motor_speed:{joint}")
+        if tau is None or w is None or not (math.isfinite(tau) and math.isfinite(w)):
+            continue
+        m, fed = a.motor, a.fed
+        electrical = None not in (m.torque_constant, m.resistance, fed.bus_voltage)
+        uses = envelope_uses(
+            tau,
+            w,
+            peak_torque=fed.peak_torque,
+            max_speed=fed.max_speed,
+            torque_constant=m.torque_constant if electrical else None,
+            resistance=m.resistance if electrical else None,
+            bus_voltage=fed.bus_voltage if electrical else None,
+            winding_temperature=m.winding_temperature_max,
+        )
+        top = max(uses.values())
+        if best is None or top > best[0] + 1e-9:
+            best = (top, f"{joint}: {binding_limit(uses, fed, a.drive is not None)}")
+    return None if best is None else best[1]
 
 
 def _zero_payload_note(project, case, metrics: dict, limiting: str | None) -> str | None:

@@ -167,7 +167,7 @@ def print_assessment(a) -> None:
             quantity = str(c.metrics.get("limiting_quantity", "—"))
             rows += [["limiting quantity", LIMITING_QUANTITY.get(quantity, quantity)]]
         if c.metrics.get("envelope_limit"):
-            rows.append(["limit on the limiting joint's envelope", c.metrics["envelope_limit"]])
+            rows.append(["motor at its envelope at steady speed", c.metrics["envelope_limit"]])
         if c.note:
             extra.append(f"[red]carries nothing:[/red] {c.note}")
         elif c.limiting_joint:
