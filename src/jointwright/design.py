@@ -15,6 +15,7 @@ Every evaluation of a design goes through :mod:`jointwright.evaluate`, which wor
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass, fields
 from pathlib import Path
@@ -220,6 +221,12 @@ class DesignArrays:
     diameter: np.ndarray
     length: np.ndarray
     cost: np.ndarray
+    # efficiency band of each stack (catalog.bands; the nominal values where no stage has one)
+    eta_forward_low: np.ndarray
+    eta_forward_high: np.ndarray
+    eta_backward_low: np.ndarray
+    eta_backward_high: np.ndarray
+    breakaway_motor_side: np.ndarray  # N·m at the motor shaft (cogging + stage breakaways)
 
     @property
     def count(self) -> int:
@@ -227,6 +234,43 @@ class DesignArrays:
 
     def take(self, index) -> "DesignArrays":
         return DesignArrays(**{f.name: getattr(self, f.name)[index] for f in fields(self)})
+
+    @property
+    def has_band(self) -> bool:
+        """Whether any stack's efficiency band has a width (else every end is the nominal)."""
+        return not (
+            np.array_equal(self.eta_forward_low, self.eta_forward)
+            and np.array_equal(self.eta_forward_high, self.eta_forward)
+            and np.array_equal(self.eta_backward_low, self.eta_backward)
+            and np.array_equal(self.eta_backward_high, self.eta_backward)
+        )
+
+    def at_band(self, forward: str, backward: str) -> "DesignArrays":
+        """The designs with every stack's efficiencies at an end of its band: ``forward`` and
+        ``backward`` each "low", "high" or "nominal". Self-locking and the joint-side breakaway
+        torque N·Σ/η_b follow the backward value (docs/metrics.md, "Efficiency bands")."""
+        ef = {"low": self.eta_forward_low, "high": self.eta_forward_high}.get(
+            forward, self.eta_forward
+        )
+        eb = {"low": self.eta_backward_low, "high": self.eta_backward_high}.get(
+            backward, self.eta_backward
+        )
+        if ef is self.eta_forward and eb is self.eta_backward:
+            return self
+        locked = eb <= 0
+        with np.errstate(divide="ignore", invalid="ignore"):
+            breakaway = np.where(
+                locked,
+                np.inf,
+                self.ratio * self.breakaway_motor_side / np.where(locked, 1.0, eb),
+            )
+        return dataclasses.replace(
+            self,
+            eta_forward=ef,
+            eta_backward=eb,
+            self_locking=locked,
+            breakaway_torque=breakaway,
+        )
 
     # -- joint-side capacities per mode (N·m) ---------------------------------------------------
     def capacity(self, mode: str, *, continuous: bool = False) -> np.ndarray:
@@ -272,6 +316,11 @@ _ACTUATOR_FIELDS = {
     "diameter": lambda a: a.diameter,
     "length": lambda a: a.length,
     "cost": lambda a: a.cost,
+    "eta_forward_low": lambda a: a.efficiency_band[0],
+    "eta_forward_high": lambda a: a.efficiency_band[1],
+    "eta_backward_low": lambda a: a.efficiency_band[2],
+    "eta_backward_high": lambda a: a.efficiency_band[3],
+    "breakaway_motor_side": lambda a: a.breakaway_motor_side,
 }
 
 

@@ -49,6 +49,7 @@ from .metrics.speed import (
     speed_within_stroke,
 )
 from .robot.basis import gravity, mass_matrix, pose_basis
+from .robust import ends_for, worst_of
 
 #: joint velocity components below this fraction of the largest count as zero (holding)
 VELOCITY_TOLERANCE = 1e-9
@@ -137,28 +138,45 @@ class Evaluator:
         )
 
     # ------------------------------------------------------------------------------------------
-    def evaluate(self, d: DesignArrays, *, detail: bool = True) -> dict[str, dict[str, np.ndarray]]:
+    def evaluate(
+        self, d: DesignArrays, *, detail: bool = True, band: str | None = None
+    ) -> dict[str, dict[str, np.ndarray]]:
         """Metrics per case name: dict of arrays with leading dimension D (designs).
 
         ``detail=False`` computes only what requirements and objectives use (the case's own
         power-flow mode); ``True`` adds the other modes and the frictionless comparison.
+        ``band``: "nominal" (the stages' nominal efficiencies) or "worst" (each metric at the
+        worst end of the stacks' efficiency bands, :mod:`jointwright.robust`); by default
+        "worst" when the project's requirements hold across the band, else "nominal".
         """
+        if band is None:
+            band = "worst" if self.project.requirements.efficiency_band else "nominal"
+        worst = band == "worst" and d.has_band
         out = {}
-        for pc in self.cases:
+        for pc in self.cases + self.duty:
             kind = pc.case.kind
-            if kind == "payload":
-                out[pc.case.name] = self._payload(pc, d, detail)
-            elif kind == "stance":
-                out[pc.case.name] = self._stance(pc, d, detail)
-            elif kind == "impact":
-                out[pc.case.name] = self._impact(pc, d, detail)
-            elif kind == "backdrive":
-                out[pc.case.name] = self._backdrive(pc, d)
-            elif kind == "speed":
-                out[pc.case.name] = self._speed(pc, d, detail)
-        for pd in self.duty:
-            out[pd.case.name] = evaluate_duty(pd, d, detail=detail)
+            if not worst:
+                out[pc.case.name] = self._case(pc, d, detail)
+                continue
+            ends = ends_for(kind, detail)
+            out[pc.case.name] = worst_of(
+                kind, [self._case(pc, d.at_band(f, b), detail) for f, b in ends]
+            )
         return out
+
+    def _case(self, pc, d: DesignArrays, detail: bool) -> dict[str, np.ndarray]:
+        kind = pc.case.kind
+        if kind == "payload":
+            return self._payload(pc, d, detail)
+        if kind == "stance":
+            return self._stance(pc, d, detail)
+        if kind == "impact":
+            return self._impact(pc, d, detail)
+        if kind == "backdrive":
+            return self._backdrive(pc, d)
+        if kind == "speed":
+            return self._speed(pc, d, detail)
+        return evaluate_duty(pc, d, detail=detail)
 
     def _payload(
         self, pc: PreparedCase, d: DesignArrays, detail: bool = True

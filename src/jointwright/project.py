@@ -115,6 +115,9 @@ class Requirements:
     total_mass_max: float = math.inf
     total_cost_max: float = math.inf
     joints: dict[str, JointLimits] = field(default_factory=dict)
+    #: every requirement holds across the stages' efficiency bands (robust.py), not only at
+    #: their nominal efficiencies
+    efficiency_band: bool = False
 
     def joint(self, name: str) -> JointLimits:
         return self.joints.get(name, JointLimits())
@@ -292,6 +295,7 @@ def _load_catalog(t: Table, base_dir: Path):
 def _load_requirements(t: Table, robot) -> Requirements:
     total = t.quantity("total_mass_max", "mass", math.inf, sign="positive")
     cost = t.quantity("total_cost_max", "dimensionless", math.inf, sign="positive")
+    band = t.bool("efficiency_band", False)
     joints = {}
     jt = t.table("joint", {})
     for jname in list(jt.data):
@@ -322,7 +326,9 @@ def _load_requirements(t: Table, robot) -> Requirements:
         sub.done()
     jt.done()
     t.done()
-    return Requirements(total_mass_max=total, total_cost_max=cost, joints=joints)
+    return Requirements(
+        total_mass_max=total, total_cost_max=cost, joints=joints, efficiency_band=band
+    )
 
 
 def _read_pose(pt: Table, robot) -> dict[str, float]:

@@ -29,6 +29,7 @@ import numpy as np
 from ..errors import InputError
 from ..tomlfile import Table, is_file, load_toml
 from ..units import positive, registry
+from .bands import band_from_dict, check_band
 from .drives import drive_from_table
 from .efficiency import efficiency_from_dict
 from .model import STAGE_KINDS, Catalog, Motor, MotorFamily, StageFrame, StageType
@@ -96,7 +97,7 @@ _TOP_KEYS = (
     "frames_csv",
     "drive",
 )
-_STAGE_KEYS = ("name", "kind", "ratios", "ratio_range", "efficiency", "frame")
+_STAGE_KEYS = ("name", "kind", "ratios", "ratio_range", "efficiency", "frame", "efficiency_band")
 
 
 class _Where(NamedTuple):
@@ -448,6 +449,13 @@ class _StageDraft:
             key = "ratios" if self.ratios is not None else "ratio_range"
             check(self.ratios or self.ratio_range, file=t.file, field=t.field(key))
         self.frames = [(_frame(ft), ft) for ft in t.tables("frame")]
+        self.band = None  # efficiency band (catalog.bands), None when the stage states none
+        if t.has("efficiency_band"):
+            where = t.field("efficiency_band")
+            self.band = band_from_dict(
+                t.raw("efficiency_band"), self.efficiency, file=t.file, field=where
+            )
+            check_band(self.band, self.ratios, self.ratio_range, file=t.file, field=where)
 
     def build(self) -> StageType:
         if not self.frames:
@@ -473,6 +481,7 @@ class _StageDraft:
             frames=tuple(f for f, _ in self.frames),
             ratios=self.ratios,
             ratio_range=self.ratio_range,
+            efficiency_band=self.band,
         )
 
 

@@ -137,6 +137,8 @@ class StageType:
     frames: tuple[StageFrame, ...]
     ratios: tuple[float, ...] | None = None
     ratio_range: tuple[float, float] | None = None
+    #: the band the efficiencies move over (catalog.bands.EfficiencyBand); None: no band
+    efficiency_band: object | None = None
 
     def frame(self, name: str) -> StageFrame:
         for f in self.frames:
