@@ -263,6 +263,7 @@ def test_bundled_quadruped_uses_its_drives():
     assert {d.name for d in q.catalog.drives} >= {n for v in q.drives.values() for n in v}
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("seed, kind", [(3, "payload"), (11, "mass")])
 def test_drive_choice_matches_enumeration(seed, kind):
     """The search over motor × stage × drive agrees with exhaustive enumeration (the option
@@ -299,3 +300,24 @@ def test_drive_choice_matches_enumeration(seed, kind):
     if res.design is not None:
         assert all(a.drive is not None for a in res.design.actuators)
     assert math.isfinite(res.objective) or res.status == "infeasible"
+
+
+def test_documented_drive_and_band_example_loads(tmp_path):
+    """docs/catalog-format.md, "Complete example: drives and efficiency bands": the file loads
+    and the numbers its text quotes come out (Kt·I and V/Kt, DC motor equations [mem])."""
+    import re
+    from pathlib import Path
+
+    text = (Path(__file__).parents[1] / "docs" / "catalog-format.md").read_text(encoding="utf-8")
+    block = re.search(r"```toml\n# file: drives-and-bands.toml\n(.*?)```", text, flags=re.S)
+    f = tmp_path / "drives-and-bands.toml"
+    f.write_text(block.group(1), encoding="utf-8")
+    cat = load_catalog(f)
+    m = cat.motor("RX-45")
+    small, big = fed_motor(m, cat.drive("VX-12")), fed_motor(m, cat.drive("VX-30"))
+    assert (small.peak_torque, small.continuous_torque) == pytest.approx((0.84, 0.35))
+    assert small.max_speed == pytest.approx(24 / 0.07)
+    assert (big.peak_torque, big.continuous_torque) == pytest.approx((2.1, 0.8))
+    assert big.max_speed == pytest.approx(3600 * 2 * math.pi / 60)
+    assert cat.stage("WG1").efficiency_band is not None
+    assert cat.stage("HD1").efficiency_band.forward_change == (-0.08, 0.03)

@@ -76,9 +76,12 @@ def frames(family, rows, backlash, stiffness):
     return out
 
 
-def stage_block(name, kind, ratios, efficiency, frame_rows):
+def stage_block(name, kind, ratios, efficiency, frame_rows, band=None):
     lines = ["[[stage]]", f'name = "{name}"', f'kind = "{kind}"', f"ratios = {ratios!r}",
-             f"efficiency = {efficiency}", ""]
+             f"efficiency = {efficiency}"]
+    if band is not None:  # the range the efficiencies move over (temperature, load, wear)
+        lines.append(f"efficiency_band = {band}")
+    lines.append("")
     for fr in frame_rows:
         lines.append(toml_table("[[stage.frame]]", fr))
         lines.append("")
@@ -150,10 +153,12 @@ def arm():
                     frames("Lobe", [(1, 60, 0.6, 0.25, 0.05, 60, 35), (2, 140, 1.1, 0.6, 0.08, 80, 42)], 1, 120)),
         stage_block("Flexring", "strain_wave", [30, 40, 50, 60, 70, 80, 90, 100, 110, 120, 140, 160],
                     '{ model = "table", rows = [[30, 0.80, 0.72], [50, 0.76, 0.66], [80, 0.72, 0.60], [120, 0.66, 0.52], [160, 0.60, 0.44]] }',
-                    frames("Flexring", [(1, 28, 0.18, 0.03, 0.04, 50, 30), (2, 80, 0.45, 0.15, 0.07, 70, 34)], 0.5, 150)),
+                    frames("Flexring", [(1, 28, 0.18, 0.03, 0.04, 50, 30), (2, 80, 0.45, 0.15, 0.07, 70, 34)], 0.5, 150),
+                    band='{ forward_change = [-0.08, 0.03], backward_change = [-0.10, 0.03] }'),
         stage_block("Spiral", "worm", [10, 15, 20, 25, 30, 40, 50, 60, 70, 80, 90, 100],
                     '{ model = "worm", lead_angle = "3.5 deg", friction = 0.07, normal_pressure_angle = "20 deg" }',
-                    frames("Spiral", [(1, 40, 0.5, 0.08, 0.05, 60, 55), (2, 90, 0.9, 0.2, 0.08, 75, 65)], 15, 60)),
+                    frames("Spiral", [(1, 40, 0.5, 0.08, 0.05, 60, 55), (2, 90, 0.9, 0.2, 0.08, 75, 65)], 15, 60),
+                    band="{ friction = [0.05, 0.1] }"),
     ]
     write(ROOT / "arm" / "catalog.toml", ARM_HEADER, motors, stages)
 

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import asdict, dataclass
 
@@ -49,6 +50,9 @@ class JointSummary:
     peak_torque_by: str = "motor"  # "motor" or "drive": whose limit is lower
     continuous_torque_by: str = "motor"
     max_speed_by: str = "motor"
+    # efficiency band of the stack (low, high) per direction; equal ends without a band
+    eta_forward_band: tuple[float, float] = (math.nan, math.nan)
+    eta_backward_band: tuple[float, float] = (math.nan, math.nan)
 
 
 @dataclass(frozen=True)
@@ -61,6 +65,12 @@ class CheckResult:
     unit: str
     margin: float
     ok: bool
+    # with an efficiency band (robust.py): the value and margin at the nominal efficiencies and
+    # at the band's worst end; None when no stage of the design states a band
+    achieved_nominal: float | None = None
+    margin_nominal: float | None = None
+    achieved_worst: float | None = None
+    margin_worst: float | None = None
 
 
 @dataclass(frozen=True)
@@ -84,6 +94,8 @@ class Assessment:
     total_cost: float
     feasible: bool
     cautions: tuple[str, ...]
+    #: "nominal" (no band), "nominal, worst end shown" or "worst end of the band" (robust)
+    efficiency: str = "nominal"
 
     def to_dict(self) -> dict:
         return _jsonable(asdict(self))
@@ -141,6 +153,8 @@ def joint_summary(joint: str, a) -> JointSummary:
         peak_torque_by=a.fed.peak_by,
         continuous_torque_by=a.fed.continuous_by,
         max_speed_by=a.fed.speed_by,
+        eta_forward_band=a.efficiency_band[:2],
+        eta_backward_band=a.efficiency_band[2:],
     )
 
 
@@ -185,6 +199,28 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
         note = _zero_payload_note(project, case, metrics, limiting)
         cases.append(CaseResult(case.name, case.kind, metrics, limiting, modes, note))
     cl = checks(project, arrays, ev)
+    robust = project.requirements.efficiency_band
+    if arrays.has_band:  # each margin at the nominal efficiencies and at the band's worst end
+        efficiency = "worst end of the band" if robust else "nominal, worst end shown"
+        cl_nom = checks(project, arrays, evaluator.evaluate(arrays, detail=False, band="nominal"))
+        worst_project = dataclasses.replace(
+            project,
+            requirements=dataclasses.replace(project.requirements, efficiency_band=True),
+        )
+        worst_ev = evaluator.evaluate(arrays, detail=False, band="worst")
+        cl_worst = checks(worst_project, arrays, worst_ev)
+        ends = [
+            dict(
+                achieved_nominal=float(n.achieved[0]),
+                margin_nominal=float(n.margin[0]),
+                achieved_worst=float(w.achieved[0]),
+                margin_worst=float(w.margin[0]),
+            )
+            for n, w in zip(cl_nom, cl_worst, strict=True)
+        ]
+    else:
+        efficiency = "nominal"
+        ends = [{} for _ in cl]
     results = tuple(
         CheckResult(
             c.subject,
@@ -195,8 +231,9 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
             c.unit,
             float(c.margin[0]),
             bool(c.ok[0]),
+            **e,
         )
-        for c in cl
+        for c, e in zip(cl, ends, strict=True)
     )
     cautions = [CAUTION]
     if any(getattr(c, "body_region", None) is not None for c in project.cases):
@@ -207,6 +244,14 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
             "and licensed engineering practice."
         )
     for j, a in zip(names, design.actuators, strict=True):
+        b_lo, b_hi = a.efficiency_band[2:]
+        if b_lo <= 0 < b_hi:
+            cautions.append(
+                f"{j}: the backward efficiency band ({b_lo:.2f} to {b_hi:.2f}) crosses 0: the "
+                "joint may or may not self-lock depending on temperature, load and wear. Do not "
+                "rely on it to hold a load or to yield to a push; provide a brake or a tested "
+                "holding means under the applicable safety standards."
+            )
         if a.self_locking:
             cautions.append(
                 f"{j}: self-locking transmission (backward efficiency {a.eta_backward:.2f} ≤ 0). It "
@@ -223,6 +268,7 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
         total_cost=design.cost,
         feasible=bool(feasible(cl, 1)[0]),
         cautions=tuple(cautions),
+        efficiency=efficiency,
     )
 
 

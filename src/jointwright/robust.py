@@ -69,6 +69,14 @@ WORSE = {
     "acceleration": "min",
     "stroke_time": "max",
     "rating_use": "max",
+    # duty cycles, per joint (D, n): each joint at its own worst end
+    "rms_torque": "max",
+    "peak_torque": "max",
+    "peak_temperature": "max",
+    "rms_ratio": "max",
+    "peak_ratio": "max",
+    "envelope_ratio": "max",
+    "thermal_ratio": "max",
 }
 
 

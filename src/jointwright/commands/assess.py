@@ -105,7 +105,7 @@ def print_assessment(a) -> None:
                 j.motor,
                 " + ".join(j.stages) or "direct",
                 f"{j.ratio:g}:1",
-                f"{j.eta_forward:.3f} / {j.eta_backward:.3f}{lock}",
+                f"{j.eta_forward:.3f} / {j.eta_backward:.3f}{lock}{_band_text(j)}",
                 num(j.mass, "kg"),
             ]
             + ([num(j.cost)] if costs else [])
@@ -209,8 +209,41 @@ def print_assessment(a) -> None:
         ]
         for c in a.checks
     ]
+    banded = any(c.margin_worst is not None for c in a.checks)
+    if banded:  # each value and margin at the nominal efficiencies and at the band's worst end
+        rows = [
+            [
+                c.subject,
+                c.requirement.replace("_", " "),
+                shown(c, c.achieved_nominal),
+                shown(c, c.achieved_worst),
+                shown(c, c.limit),
+                pct(c.margin_nominal),
+                pct(c.margin_worst),
+                "[green]ok[/green]" if c.ok else "[red]MISSED[/red]",
+            ]
+            for c in a.checks
+        ]
     con.print(
-        table("Requirements", ["subject", "requirement", "achieved", "limit", "margin", ""], rows)
+        table(
+            "Requirements",
+            ["subject", "requirement", "nominal", "worst end", "limit", "margin", "at worst", ""]
+            if banded
+            else ["subject", "requirement", "achieved", "limit", "margin", ""],
+            rows,
+            caption=(
+                "nominal: the stages' nominal efficiencies; worst end: each requirement at the "
+                "worst end of the stages' efficiency bands (docs/metrics.md, Efficiency bands); "
+                + (
+                    "ok / MISSED at the worst end (requirements.efficiency_band = true)"
+                    if a.efficiency.startswith("worst")
+                    else "ok / MISSED at the nominal efficiencies (requirements.efficiency_band "
+                    "= true requires the worst end)"
+                )
+            )
+            if banded
+            else None,
+        )
     )
     for text in a.cautions:
         con.print(f"[yellow]caution:[/yellow] {text}")
@@ -236,6 +269,14 @@ def command(project: Path, design_file: Path, as_json: bool):
         emit_json(a.to_dict())
     else:
         print_assessment(a)
+
+
+def _band_text(j) -> str:
+    """ " (band 0.70–0.83 / 0.56–0.69)" when the stack's efficiencies have a band, else ""."""
+    (f_lo, f_hi), (b_lo, b_hi) = j.eta_forward_band, j.eta_backward_band
+    if f_lo == f_hi == j.eta_forward and b_lo == b_hi == j.eta_backward:
+        return ""
+    return f" (band {f_lo:.2f}–{f_hi:.2f} / {b_lo:.2f}–{b_hi:.2f})"
 
 
 def _drives_table(a):
