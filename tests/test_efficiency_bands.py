@@ -152,9 +152,21 @@ def test_speed_and_duty_worst_of_the_ends_bounds_the_interior(arm_sample):
     p, d = arm_sample
     rob = Evaluator(robust(p)).evaluate(d)
     ev = Evaluator(p)
+    # the same speed case without its stroke: the steady speed from two corners only
+    steady = tuple(
+        dataclasses.replace(c, name=c.name + "-steady", stroke=0.0)
+        for c in p.cases
+        if c.kind == "speed"
+    )
+    ps = dataclasses.replace(p, cases=steady)
+    rob_s, ev_s = Evaluator(robust(ps)).evaluate(d), Evaluator(ps)
     rng = np.random.default_rng(4)
     for _ in range(5):
-        inside = ev.evaluate(interior(d, rng))
+        x = interior(d, rng)
+        inside, inside_s = ev.evaluate(x), ev_s.evaluate(x)
+        for c in steady:
+            for key in ("speed", "acceleration"):
+                assert np.all(rob_s[c.name][key] <= inside_s[c.name][key] * (1 + TOL) + TOL)
         for c in p.cases:
             if c.kind == "speed":
                 for key in ("speed_steady", "acceleration"):

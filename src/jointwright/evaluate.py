@@ -158,7 +158,7 @@ class Evaluator:
             if not worst:
                 out[pc.case.name] = self._case(pc, d, detail)
                 continue
-            ends = ends_for(kind, detail)
+            ends = ends_for(kind, detail, pc.case)
             out[pc.case.name] = worst_of(
                 kind, [self._case(pc, d.at_band(f, b), detail) for f, b in ends]
             )

@@ -16,8 +16,10 @@ checked numerically in tests/test_efficiency_bands.py:
   N·Σ/η_b falls with η_b, so the back-drive force is largest at the low end. Exact. The
   forward-driving effective mass (``effective_mass_motoring``, no requirement reads it) is shown
   as the largest over the four corners.
-* speed, duty: the four corners and the nominal point, the worst of each metric. Exact for the
-  steady loaded speed, the acceleration from rest, the peak and RMS motor torque (each joint's
+* speed without a stroke: (low, low) and (high, high), each joint's motor torque depends on one
+  efficiency (its mode's), so these two hold both ends of it for every joint.
+* speed with a stroke, duty: the four corners and the nominal point, the worst of each metric.
+  Exact for the steady loaded speed, the acceleration from rest, the peak and RMS motor torque (each joint's
   motor torque is affine in 1/η_f or in η_b, so its square is convex and its maximum over an
   interval sits at an end); for the speed within a stroke and the envelope and thermal use of a
   duty cycle it is the worst over these five points, not a proven bound over the interior.
@@ -80,10 +82,17 @@ WORSE = {
 }
 
 
-def ends_for(kind: str, detail: bool) -> tuple[tuple[str, str], ...]:
-    """The band ends a case of ``kind`` is evaluated at."""
+#: a speed case without a stroke: per joint one efficiency matters (its mode's), and the two
+#: uniform corners hold both ends of it for every joint
+STEADY = (("low", "low"), ("high", "high"))
+
+
+def ends_for(kind: str, detail: bool, case=None) -> tuple[tuple[str, str], ...]:
+    """The band ends a case of ``kind`` is evaluated at (``case``: the case, for its stroke)."""
     if kind == "impact" and detail:
         return IMPACT_DETAIL
+    if kind == "speed" and case is not None and getattr(case, "stroke", 0.0) <= 0:
+        return STEADY
     return ENDS[kind]
 
 
