@@ -16,13 +16,15 @@ checked numerically in tests/test_efficiency_bands.py:
   N·Σ/η_b falls with η_b, so the back-drive force is largest at the low end. Exact. The
   forward-driving effective mass (``effective_mass_motoring``, no requirement reads it) is shown
   as the largest over the four corners.
-* speed without a stroke: (low, low) and (high, high), each joint's motor torque depends on one
-  efficiency (its mode's), so these two hold both ends of it for every joint.
+* speed without a stroke: (low, low) and (high, high). At any one speed each joint's motor
+  torque depends on one efficiency (its mode's) and is affine in 1/η_f or in η_b, and the
+  admissible torques form an interval, so the two uniform corners hold both ends of it for every
+  joint: the steady loaded speed and the acceleration from rest are exact.
 * speed with a stroke, duty: the four corners and the nominal point, the worst of each metric.
-  Exact for the steady loaded speed, the acceleration from rest, the peak and RMS motor torque (each joint's
-  motor torque is affine in 1/η_f or in η_b, so its square is convex and its maximum over an
-  interval sits at an end); for the speed within a stroke and the envelope and thermal use of a
-  duty cycle it is the worst over these five points, not a proven bound over the interior.
+  Exact for the peak and RMS motor torque of a duty cycle (their squares are convex in
+  (1/η_f, η_b), so the maximum sits at a corner); for the speed within a stroke and the envelope
+  and thermal use of a duty cycle it is the worst over these five points, not a proven bound
+  over the interior.
 """
 
 from __future__ import annotations
