@@ -338,7 +338,92 @@ CSV += [
 ]
 
 # ------------------------------------------------------------------------------------ design
+# drives and efficiency bands (docs/catalog-format.md, [[drive]] and "Efficiency bands")
+_DRIVE = '[[drive]]\nname = "D-1"\npeak_current = "20 A"\n'
+CATALOG += [
+    _one(
+        "catalog",
+        "drive continuous above peak",
+        "catalog.toml",
+        "",
+        _DRIVE + 'continuous_current = "30 A"\nbus_voltage = "48 V"\n\n',
+        "check",
+        "drive[0].continuous_current",
+        "must not exceed peak_current",
+    ),
+    _one(
+        "catalog",
+        "drive without bus voltage",
+        "catalog.toml",
+        "",
+        _DRIVE + 'continuous_current = "8 A"\n\n',
+        "check",
+        "drive[0].bus_voltage",
+        "is required",
+    ),
+    _one(
+        "catalog",
+        "drive key misspelt",
+        "catalog.toml",
+        "",
+        _DRIVE + 'continuous_current = "8 A"\nbus_voltage = "48 V"\nvolts = 3\n\n',
+        "check",
+        "drive[0].volts",
+        "unknown field",
+    ),
+    _one(
+        "catalog",
+        "drive current in volts",
+        "catalog.toml",
+        "",
+        _DRIVE + 'continuous_current = "8 V"\nbus_voltage = "48 V"\n\n',
+        "check",
+        "drive[0].continuous_current",
+        "A",
+    ),
+    _one(
+        "catalog",
+        "band misses the nominal value",
+        "catalog.toml",
+        "basic_efficiency = 0.965 }",
+        "basic_efficiency = 0.965 }\nefficiency_band = { basic_efficiency = [0.97, 0.98] }",
+        "check",
+        "stage[0].efficiency_band.basic_efficiency",
+        "must contain the nominal value",
+    ),
+    _one(
+        "catalog",
+        "band change above zero",
+        "catalog.toml",
+        "basic_efficiency = 0.965 }",
+        "basic_efficiency = 0.965 }\nefficiency_band = { forward_change = [0.01, 0.02] }",
+        "check",
+        "stage[0].efficiency_band.forward_change",
+        "low ≤ 0 ≤ high",
+    ),
+    _one(
+        "catalog",
+        "band lifts efficiency above 1",
+        "catalog.toml",
+        "basic_efficiency = 0.965 }",
+        "basic_efficiency = 0.965 }\nefficiency_band = { forward_change = [-0.01, 0.2] }",
+        "check",
+        "stage[0].efficiency_band",
+        "at most 1",
+    ),
+]
+
 DESIGN = [
+    _one(
+        "design",
+        "unknown drive",
+        "design.toml",
+        'motor = "Flatwind-6"',
+        'motor = "Flatwind-6"\ndrive = "D-9"',
+        "assess",
+        "joint.hip_ab.drive",
+        "unknown drive",
+    ),
     _one(
         "design",
         "unknown motor",

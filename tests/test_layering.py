@@ -20,6 +20,7 @@ LAYERS = {
     "catalog": 2,
     "drivetrain": 3,
     "robot": 3,
+    "robust": 5,
     "trajectory": 3,
     "metrics": 4,
     "project": 5,

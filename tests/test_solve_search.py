@@ -57,7 +57,7 @@ def small_catalog(catalog, rng, motors=2, kinds=2, ratios=2):
             )
         )
         stages.append(dataclasses.replace(s, frames=fr, ratios=rs))
-    return Catalog(motors=tuple(ms), stages=tuple(stages))
+    return Catalog(motors=tuple(ms), stages=tuple(stages), drives=catalog.drives)
 
 
 def oracle(project, kind, pins=None, shared_idx=()):

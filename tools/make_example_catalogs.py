@@ -90,7 +90,7 @@ def frames(family, rows, backlash, stiffness, life=None):
     return out
 
 
-def stage_block(name, kind, ratios, efficiency, frame_rows, life_exponent=None):
+def stage_block(name, kind, ratios, efficiency, frame_rows, life_exponent=None, band=None):
     lines = [
         "[[stage]]",
         f'name = "{name}"',
@@ -100,6 +100,8 @@ def stage_block(name, kind, ratios, efficiency, frame_rows, life_exponent=None):
     ]
     if life_exponent is not None:
         lines.append(f'life_exponent = "{life_exponent}"')
+    if band is not None:  # the range the efficiencies move over (temperature, load, wear)
+        lines.append(f"efficiency_band = {band}")
     lines.append("")
     for fr in frame_rows:
         lines.append(toml_table("[[stage.frame]]", fr))
@@ -288,6 +290,7 @@ def arm():
                 0.5,
                 150,
             ),
+            band="{ forward_change = [-0.08, 0.03], backward_change = [-0.10, 0.03] }",
         ),
         stage_block(
             "Spiral",
@@ -300,6 +303,7 @@ def arm():
                 15,
                 60,
             ),
+            band="{ friction = [0.05, 0.1] }",
         ),
     ]
     write(ROOT / "arm" / "catalog.toml", ARM_HEADER, motors, stages)

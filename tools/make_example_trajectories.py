@@ -32,11 +32,15 @@ def gait(path: Path):
     peak = mean_load * math.pi / (2 * duty)
     fz = np.where(stance, peak * np.sin(math.pi * t / (duty * period)), 0.0)
     fx = np.where(stance, -0.1 * fz * np.cos(math.pi * t / (duty * period)), 0.0)
-    rows = ["# QL-3 trot cycle (invented), 0.5 s, stance 60 %. Ground reaction force on the foot in world axes.",
-            "t [s],q:hip_ab [deg],q:hip_fe [deg],q:knee [deg],f:foot:x [N],f:foot:y [N],f:foot:z [N]"]
+    rows = [
+        "# QL-3 trot cycle (invented), 0.5 s, stance 60 %. Ground reaction force on the foot in world axes.",
+        "t [s],q:hip_ab [deg],q:hip_fe [deg],q:knee [deg],f:foot:x [N],f:foot:y [N],f:foot:z [N]",
+    ]
     for i in range(n):
-        rows.append(f"{t[i]:.4f},{math.degrees(hip_ab[i]):.5f},{math.degrees(hip_fe[i]):.5f},"
-                    f"{math.degrees(knee[i]):.5f},{fx[i]:.4f},0,{fz[i]:.4f}")
+        rows.append(
+            f"{t[i]:.4f},{math.degrees(hip_ab[i]):.5f},{math.degrees(hip_fe[i]):.5f},"
+            f"{math.degrees(knee[i]):.5f},{fx[i]:.4f},0,{fz[i]:.4f}"
+        )
     path.write_text("\n".join(rows) + "\n")
 
 
@@ -74,7 +78,10 @@ def pick_place(path: Path):
     for j in moves:
         header += [f"q:{j} [rad]", f"qd:{j} [rad/s]", f"qdd:{j} [rad/s^2]"]
     header += ["f:tool:x [N]", "f:tool:y [N]", "f:tool:z [N]"]
-    rows = ["# MA-6 pick-and-place cycle (invented): 3 kg carried from 0.1 s to 1.9 s.", ",".join(header)]
+    rows = [
+        "# MA-6 pick-and-place cycle (invented): 3 kg carried from 0.1 s to 1.9 s.",
+        ",".join(header),
+    ]
     for i in range(n):
         vals = [f"{t[i]:.4f}"]
         for j in moves:

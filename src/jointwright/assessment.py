@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import asdict, dataclass
 
@@ -9,6 +10,7 @@ import numpy as np
 
 from .design import Design, arrays_from_designs
 from .evaluate import Evaluator
+from .metrics.drive import binding_limit, envelope_uses
 from .problem import carried_payload, checks, feasible
 
 CAUTION = (
@@ -40,6 +42,17 @@ class JointSummary:
     breakaway_torque: float  # N·m joint side, inf when self-locking
     max_joint_speed: float  # rad/s
     cost: float = 0.0  # catalog currency units (0 when the catalog gives no costs)
+    # the motor as its drive feeds it (catalog.drives.fed_motor); without a drive, its own
+    drive: str | None = None
+    motor_peak_torque: float = math.nan  # N·m, min(motor, Kt·I_peak)
+    motor_continuous_torque: float = math.nan  # N·m, min(motor, Kt·I_cont)
+    motor_max_speed: float = math.nan  # rad/s, min(motor, V_bus/Kt)
+    peak_torque_by: str = "motor"  # "motor" or "drive": whose limit is lower
+    continuous_torque_by: str = "motor"
+    max_speed_by: str = "motor"
+    # efficiency band of the stack (low, high) per direction; equal ends without a band
+    eta_forward_band: tuple[float, float] = (math.nan, math.nan)
+    eta_backward_band: tuple[float, float] = (math.nan, math.nan)
 
 
 @dataclass(frozen=True)
@@ -52,6 +65,12 @@ class CheckResult:
     unit: str | None
     margin: float
     ok: bool
+    # with an efficiency band (robust.py): the value and margin at the nominal efficiencies and
+    # at the band's worst end; None when no stage of the design states a band
+    achieved_nominal: float | None = None
+    margin_nominal: float | None = None
+    achieved_worst: float | None = None
+    margin_worst: float | None = None
 
 
 @dataclass(frozen=True)
@@ -75,6 +94,8 @@ class Assessment:
     total_cost: float
     feasible: bool
     cautions: tuple[str, ...]
+    #: "nominal" (no band), "nominal, worst end shown" or "worst end of the band" (robust)
+    efficiency: str = "nominal"
 
     def to_dict(self) -> dict:
         return _jsonable(asdict(self))
@@ -125,6 +146,15 @@ def joint_summary(joint: str, a) -> JointSummary:
         breakaway_torque=a.breakaway_torque,
         max_joint_speed=a.max_joint_speed,
         cost=a.cost,
+        drive=None if a.drive is None else a.drive.name,
+        motor_peak_torque=a.fed.peak_torque,
+        motor_continuous_torque=a.fed.continuous_torque,
+        motor_max_speed=a.fed.max_speed,
+        peak_torque_by=a.fed.peak_by,
+        continuous_torque_by=a.fed.continuous_by,
+        max_speed_by=a.fed.speed_by,
+        eta_forward_band=a.efficiency_band[:2],
+        eta_backward_band=a.efficiency_band[2:],
     )
 
 
@@ -164,9 +194,33 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
         if case.kind in ("payload", "stance") and "payload" in metrics:
             # the robot payload mass this case's force carries (problem.carried_payload), kg
             metrics["payload_carried"] = float(carried_payload(case, metrics["payload"]))
+        if case.kind == "speed":
+            metrics["envelope_limit"] = _envelope_limit(design, metrics)
         note = _zero_payload_note(project, case, metrics, limiting)
         cases.append(CaseResult(case.name, case.kind, metrics, limiting, modes, note))
     cl = checks(project, arrays, ev)
+    robust = project.requirements.efficiency_band
+    if arrays.has_band:  # each margin at the nominal efficiencies and at the band's worst end
+        efficiency = "worst end of the band" if robust else "nominal, worst end shown"
+        cl_nom = checks(project, arrays, evaluator.evaluate(arrays, detail=False, band="nominal"))
+        worst_project = dataclasses.replace(
+            project,
+            requirements=dataclasses.replace(project.requirements, efficiency_band=True),
+        )
+        worst_ev = evaluator.evaluate(arrays, detail=False, band="worst")
+        cl_worst = checks(worst_project, arrays, worst_ev)
+        ends = [
+            dict(
+                achieved_nominal=float(n.achieved[0]),
+                margin_nominal=float(n.margin[0]),
+                achieved_worst=float(w.achieved[0]),
+                margin_worst=float(w.margin[0]),
+            )
+            for n, w in zip(cl_nom, cl_worst, strict=True)
+        ]
+    else:
+        efficiency = "nominal"
+        ends = [{} for _ in cl]
     results = tuple(
         CheckResult(
             c.subject,
@@ -177,8 +231,9 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
             c.unit,
             float(c.margin[0]),
             bool(c.ok[0]),
+            **e,
         )
-        for c in cl
+        for c, e in zip(cl, ends, strict=True)
     )
     cautions = [CAUTION]
     if any(getattr(c, "body_region", None) is not None for c in project.cases):
@@ -191,6 +246,14 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
         )
     cautions.extend(gear_cautions(project))
     for j, a in zip(names, design.actuators, strict=True):
+        b_lo, b_hi = a.efficiency_band[2:]
+        if b_lo <= 0 < b_hi:
+            cautions.append(
+                f"{j}: the backward efficiency band ({b_lo:.2f} to {b_hi:.2f}) crosses 0: the "
+                "joint may or may not self-lock depending on temperature, load and wear. Do not "
+                "rely on it to hold a load or to yield to a push; provide a brake or a tested "
+                "holding means under the applicable safety standards."
+            )
         if a.self_locking:
             cautions.append(
                 f"{j}: self-locking transmission (backward efficiency {a.eta_backward:.2f} ≤ 0). "
@@ -208,6 +271,7 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
         total_cost=design.cost,
         feasible=bool(feasible(cl, 1)[0]),
         cautions=tuple(cautions),
+        efficiency=efficiency,
     )
 
 
@@ -235,6 +299,33 @@ def gear_cautions(project) -> list[str]:
     if getattr(project.requirements, "life_min", 0.0) > 0:
         out.append(LIFE_CAUTION)
     return out
+
+
+def _envelope_limit(design, metrics: dict) -> str | None:
+    """At a speed case's steady loaded speed: the joint whose motor is at its envelope, the
+    part of the envelope it is on and whether the motor or its drive sets that part
+    (metrics.drive), as "joint: part"; None without the operating points."""
+    best = None
+    for joint, a in zip(design.joints, design.actuators, strict=True):
+        tau, w = metrics.get(f"motor_torque:{joint}"), metrics.get(f"motor_speed:{joint}")
+        if tau is None or w is None or not (math.isfinite(tau) and math.isfinite(w)):
+            continue
+        m, fed = a.motor, a.fed
+        electrical = None not in (m.torque_constant, m.resistance, fed.bus_voltage)
+        uses = envelope_uses(
+            tau,
+            w,
+            peak_torque=fed.peak_torque,
+            max_speed=fed.max_speed,
+            torque_constant=m.torque_constant if electrical else None,
+            resistance=m.resistance if electrical else None,
+            bus_voltage=fed.bus_voltage if electrical else None,
+            winding_temperature=m.winding_temperature_max,
+        )
+        top = max(uses.values())
+        if best is None or top > best[0] + 1e-9:
+            best = (top, f"{joint}: {binding_limit(uses, fed, a.drive is not None)}")
+    return None if best is None else best[1]
 
 
 def _zero_payload_note(project, case, metrics: dict, limiting: str | None) -> str | None:

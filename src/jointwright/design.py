@@ -15,12 +15,14 @@ Every evaluation of a design goes through :mod:`jointwright.evaluate`, which wor
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass, fields
 from pathlib import Path
 
 import numpy as np
 
+from .catalog.drives import drive_incompatibility
 from .drivetrain import Actuator, StageChoice, reflected_inertia, torque_capacity
 from .errors import InputError
 from .tomlfile import Table, load_toml
@@ -72,14 +74,23 @@ def design_from_dict(data: dict, project, file: str = "<api>") -> Design:
             raise InputError(
                 file, jt.field(j), "is required: every actuated joint needs an actuator"
             )
-        acts.append(_actuator(jt.table(j), catalog, project.max_stages))
+        acts.append(
+            _actuator(jt.table(j), catalog, project.max_stages, _allowed_drives(project, j))
+        )
     jt.done()
     top.done()
     return Design(name=name, joints=tuple(robot.actuated), actuators=tuple(acts))
 
 
-def _actuator(t: Table, catalog, max_stages: int) -> Actuator:
-    t.expect("motor", "stages")
+def _allowed_drives(project, joint: str) -> tuple[str, ...] | None:
+    drives = getattr(project, "drives", None)
+    return None if drives is None else drives[joint]
+
+
+def _actuator(
+    t: Table, catalog, max_stages: int, drives: tuple[str, ...] | None = None
+) -> Actuator:
+    t.expect("motor", "stages", "drive")
     mname = t.text("motor")
     try:
         motor = catalog.motor(mname)
@@ -127,8 +138,42 @@ def _actuator(t: Table, catalog, max_stages: int) -> Actuator:
             )
         st.done()
         stages.append(StageChoice(stage, frame, ratio))
+    drive = _drive(t, catalog, motor, drives)
     t.done()
-    return Actuator(motor, tuple(stages))
+    return Actuator(motor, tuple(stages), drive)
+
+
+def _drive(t: Table, catalog, motor, allowed: tuple[str, ...] | None):
+    """The joint's drive: the design's ``drive``, else the project's one fixed drive, else None
+    (no drives in the project: the motor's own ratings)."""
+    if not t.has("drive"):
+        if allowed is None:
+            return None
+        if len(allowed) > 1:
+            raise InputError(
+                t.file,
+                t.field("drive"),
+                f"is required: the project lets this joint use {', '.join(allowed)}",
+            )
+        name = allowed[0]
+    else:
+        name = t.text("drive")
+        if allowed is not None and name not in allowed:
+            raise InputError(
+                t.file,
+                t.field("drive"),
+                f"drive {name!r} is not one the project allows here ({', '.join(allowed)})",
+            )
+    try:
+        drive = catalog.drive(name)
+    except KeyError:
+        raise InputError(
+            t.file, t.field("drive"), f"unknown drive {name!r}; not in the catalog"
+        ) from None
+    why = drive_incompatibility(motor, drive)
+    if why is not None:
+        raise InputError(t.file, t.field("drive"), why)
+    return drive
 
 
 def design_to_toml(design: Design) -> str:
@@ -142,6 +187,8 @@ def design_to_toml(design: Design) -> str:
             for s in a.stages
         )
         lines.append(f"stages = [{st}]")
+        if a.drive is not None:
+            lines.append(f'drive = "{a.drive.name}"')
         lines.append("")
     return "\n".join(lines)
 
@@ -183,6 +230,12 @@ class DesignArrays:
     life_exponent: np.ndarray
     gear_momentary_torque: np.ndarray  # joint side; inf direct drive, NaN when unrated
     stiffness: np.ndarray  # joint side, N·m/rad; inf when unknown
+    # efficiency band of each stack (catalog.bands; the nominal values where no stage has one)
+    eta_forward_low: np.ndarray
+    eta_forward_high: np.ndarray
+    eta_backward_low: np.ndarray
+    eta_backward_high: np.ndarray
+    breakaway_motor_side: np.ndarray  # N·m at the motor shaft (cogging + stage breakaways)
 
     @property
     def count(self) -> int:
@@ -190,6 +243,43 @@ class DesignArrays:
 
     def take(self, index) -> "DesignArrays":
         return DesignArrays(**{f.name: getattr(self, f.name)[index] for f in fields(self)})
+
+    @property
+    def has_band(self) -> bool:
+        """Whether any stack's efficiency band has a width (else every end is the nominal)."""
+        return not (
+            np.array_equal(self.eta_forward_low, self.eta_forward)
+            and np.array_equal(self.eta_forward_high, self.eta_forward)
+            and np.array_equal(self.eta_backward_low, self.eta_backward)
+            and np.array_equal(self.eta_backward_high, self.eta_backward)
+        )
+
+    def at_band(self, forward: str, backward: str) -> "DesignArrays":
+        """The designs with every stack's efficiencies at an end of its band: ``forward`` and
+        ``backward`` each "low", "high" or "nominal". Self-locking and the joint-side breakaway
+        torque N·Σ/η_b follow the backward value (docs/metrics.md, "Efficiency bands")."""
+        ef = {"low": self.eta_forward_low, "high": self.eta_forward_high}.get(
+            forward, self.eta_forward
+        )
+        eb = {"low": self.eta_backward_low, "high": self.eta_backward_high}.get(
+            backward, self.eta_backward
+        )
+        if ef is self.eta_forward and eb is self.eta_backward:
+            return self
+        locked = eb <= 0
+        with np.errstate(divide="ignore", invalid="ignore"):
+            breakaway = np.where(
+                locked,
+                np.inf,
+                self.ratio * self.breakaway_motor_side / np.where(locked, 1.0, eb),
+            )
+        return dataclasses.replace(
+            self,
+            eta_forward=ef,
+            eta_backward=eb,
+            self_locking=locked,
+            breakaway_torque=breakaway,
+        )
 
     # -- joint-side capacities per mode (N·m) ---------------------------------------------------
     def capacity(self, mode: str, *, continuous: bool = False) -> np.ndarray:
@@ -222,15 +312,16 @@ _ACTUATOR_FIELDS = {
     "eta_backward": lambda a: a.eta_backward,
     "self_locking": lambda a: a.self_locking,
     "rotor_inertia": lambda a: a.rotor_inertia,
-    "motor_peak_torque": lambda a: a.motor.peak_torque,
-    "motor_continuous_torque": lambda a: a.motor.continuous_torque,
+    # the motor as its drive feeds it (catalog.drives.fed_motor; the motor's own without a drive)
+    "motor_peak_torque": lambda a: a.fed.peak_torque,
+    "motor_continuous_torque": lambda a: a.fed.continuous_torque,
     "gear_peak_torque": lambda a: a.gear_peak_torque,
     "gear_continuous_torque": lambda a: a.gear_continuous_torque,
     "breakaway_torque": lambda a: a.breakaway_torque,
-    "motor_max_speed": lambda a: a.motor.max_speed,
+    "motor_max_speed": lambda a: a.fed.max_speed,
     "torque_constant": lambda a: _nan(a.motor.torque_constant),
     "resistance": lambda a: _nan(a.motor.resistance),
-    "bus_voltage": lambda a: _nan(a.motor.bus_voltage),
+    "bus_voltage": lambda a: _nan(a.fed.bus_voltage),
     "thermal_resistance": lambda a: _nan(a.motor.thermal_resistance),
     "thermal_time_constant": lambda a: _nan(a.motor.thermal_time_constant),
     "winding_temperature_max": lambda a: a.motor.winding_temperature_max,
@@ -243,6 +334,11 @@ _ACTUATOR_FIELDS = {
     "life_exponent": lambda a: _slots(a, 3, 3.0),
     "gear_momentary_torque": lambda a: a.gear_momentary_torque,
     "stiffness": lambda a: a.stiffness,
+    "eta_forward_low": lambda a: a.efficiency_band[0],
+    "eta_forward_high": lambda a: a.efficiency_band[1],
+    "eta_backward_low": lambda a: a.efficiency_band[2],
+    "eta_backward_high": lambda a: a.efficiency_band[3],
+    "breakaway_motor_side": lambda a: a.breakaway_motor_side,
 }
 
 #: stage slots of the life arrays: the most stages a stack may have (project max_stages ≤ 3)

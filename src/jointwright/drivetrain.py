@@ -21,6 +21,7 @@ from functools import cached_property
 
 import numpy as np
 
+from .catalog.drives import Drive, FedMotor, fed_motor
 from .catalog.model import Motor, StageFrame, StageType
 
 #: power-flow modes, in the order the metrics report them
@@ -67,6 +68,15 @@ def reflected_inertia(mode, ratio, eta_forward, eta_backward, self_locking, roto
     raise ValueError(f"unknown mode {mode!r}; expected one of {MODES}")
 
 
+def stack_backward(values) -> float:
+    """Backward efficiency of stages in series: Π η_b,k; when any stage self-locks (η_b ≤ 0) the
+    most-locking stage's value times the product of those that pass power (two locking stages
+    must not multiply to a positive number)."""
+    if any(v <= 0 for v in values):
+        return float(min(values) * math.prod(v for v in values if v > 0))
+    return float(math.prod(values))
+
+
 @dataclass(frozen=True)
 class StageChoice:
     """One stage of a stack: its type, frame size and ratio (input speed / output speed)."""
@@ -80,16 +90,34 @@ class StageChoice:
         f, b = self.stage.efficiency.pair(np.asarray(self.ratio, dtype=float))
         return float(f), float(b)
 
+    @cached_property
+    def band(self) -> tuple[float, float, float, float]:
+        """(η_f low, η_f high, η_b low, η_b high) of the stage's efficiency band at this ratio;
+        the nominal pair four times when the stage states no band (catalog.bands)."""
+        band = self.stage.efficiency_band
+        if band is None:
+            f, b = self.efficiencies
+            return f, f, b, b
+        return tuple(float(x) for x in band.ends(np.asarray(self.ratio, dtype=float)))
+
     def label(self) -> str:
         return f"{self.stage.name}/{self.frame.name} {self.ratio:g}:1"
 
 
 @dataclass(frozen=True)
 class Actuator:
-    """A motor driving a joint through a stack of stages (possibly empty: direct drive)."""
+    """A motor driving a joint through a stack of stages (possibly empty: direct drive), fed by
+    a drive (None: the motor's own ratings apply, see :mod:`jointwright.catalog.drives`)."""
 
     motor: Motor
     stages: tuple[StageChoice, ...] = ()
+    drive: Drive | None = None
+
+    # --- motor as fed by its drive (catalog.drives) ---------------------------------------------
+    @cached_property
+    def fed(self) -> FedMotor:
+        """The motor's ratings under its drive's current and voltage limits."""
+        return fed_motor(self.motor, self.drive)
 
     # --- ratios and efficiencies -------------------------------------------------------------
     @cached_property
@@ -112,12 +140,28 @@ class Actuator:
         """Stack backward efficiency Π η_b,k (power joint -> motor); ≤ 0 when self-locking."""
         if not self.stages:
             return 1.0
-        values = [s.efficiencies[1] for s in self.stages]
-        if self.self_locking:
-            # two locking stages must not multiply to a positive number: keep the sign of the
-            # most-locking stage and scale it by the others that pass power
-            return float(min(values) * math.prod(v for v in values if v > 0))
-        return float(math.prod(values))
+        return stack_backward([s.efficiencies[1] for s in self.stages])
+
+    @cached_property
+    def efficiency_band(self) -> tuple[float, float, float, float]:
+        """Stack (η_f low, η_f high, η_b low, η_b high): every stage at the same end of its band
+        (catalog.bands); the nominal pair four times when no stage states a band."""
+        if not self.stages:
+            return 1.0, 1.0, 1.0, 1.0
+        bands = [s.band for s in self.stages]
+        return (
+            float(math.prod(b[0] for b in bands)),
+            float(math.prod(b[1] for b in bands)),
+            stack_backward([b[2] for b in bands]),
+            stack_backward([b[3] for b in bands]),
+        )
+
+    @cached_property
+    def breakaway_motor_side(self) -> float:
+        """Motor cogging plus each stage's breakaway torque referred to the motor shaft (N·m)."""
+        return self.motor.cogging_torque + sum(
+            s.frame.breakaway_torque / self._ratio_before(k) for k, s in enumerate(self.stages)
+        )
 
     def _ratio_before(self, k: int) -> float:
         return float(math.prod(s.ratio for s in self.stages[:k])) if k else 1.0
@@ -149,12 +193,14 @@ class Actuator:
 
     @cached_property
     def mass(self) -> float:
-        """Motor plus stage masses (kg)."""
-        return self.motor.mass + sum(s.frame.mass for s in self.stages)
+        """Motor plus stage masses (kg), plus the drive's when it has one."""
+        own = self.drive.mass if self.drive is not None else 0.0
+        return self.motor.mass + sum(s.frame.mass for s in self.stages) + own
 
     @cached_property
     def cost(self) -> float:
-        return self.motor.cost + sum(s.frame.cost for s in self.stages)
+        own = self.drive.cost if self.drive is not None else 0.0
+        return self.motor.cost + sum(s.frame.cost for s in self.stages) + own
 
     @cached_property
     def diameter(self) -> float:
@@ -189,7 +235,7 @@ class Actuator:
     def capacity(self, mode: str, *, continuous: bool = False) -> float:
         """Joint torque capacity (N·m) in a mode, capped by the gear rating; see
         :func:`torque_capacity`."""
-        tau_m = self.motor.continuous_torque if continuous else self.motor.peak_torque
+        tau_m = self.fed.continuous_torque if continuous else self.fed.peak_torque
         gear = self.gear_continuous_torque if continuous else self.gear_peak_torque
         return float(
             torque_capacity(
@@ -220,8 +266,9 @@ class Actuator:
 
     @cached_property
     def max_joint_speed(self) -> float:
-        """Joint speed at the motor's maximum speed (rad/s)."""
-        return self.motor.max_speed / self.ratio
+        """Joint speed at the motor's maximum speed (rad/s), its drive's no-load speed cap
+        included."""
+        return self.fed.max_speed / self.ratio
 
     @cached_property
     def stiffness(self) -> float:
@@ -283,4 +330,5 @@ class Actuator:
 
     def label(self) -> str:
         stack = " + ".join(s.label() for s in self.stages) or "direct drive"
-        return f"{self.motor.name} | {stack}"
+        tail = f" | drive {self.drive.name}" if self.drive is not None else ""
+        return f"{self.motor.name} | {stack}{tail}"

@@ -61,6 +61,7 @@ from .metrics.speed import (
 )
 from .project import Case
 from .robot.basis import PoseBasis, gravity, mass_matrix, pose_basis
+from .robust import ends_for, worst_of
 
 #: joint velocity components below this fraction of the largest count as zero (holding)
 VELOCITY_TOLERANCE = 1e-9
@@ -182,34 +183,39 @@ class Evaluator:
         )
 
     # ------------------------------------------------------------------------------------------
-    def evaluate(self, d: DesignArrays, *, detail: bool = True) -> dict[str, dict[str, np.ndarray]]:
+    def evaluate(
+        self, d: DesignArrays, *, detail: bool = True, band: str | None = None
+    ) -> dict[str, dict[str, np.ndarray]]:
         """Metrics per case name: dict of arrays with leading dimension D (designs).
 
         ``detail=False`` computes only what requirements and objectives use (the case's own
         power-flow mode); ``True`` adds the other modes and the frictionless comparison.
+        ``band``: "nominal" (the stages' nominal efficiencies) or "worst" (each metric at the
+        worst end of the stacks' efficiency bands, :mod:`jointwright.robust`); by default
+        "worst" when the project's requirements hold across the band, else "nominal".
         A batch of at least :data:`PARALLEL_MIN` designs is split between :data:`THREADS`
         threads (every design's metrics are its own, so the result is the same).
         """
+        if band is None:
+            band = "worst" if self.project.requirements.efficiency_band else "nominal"
         if THREADS > 1 and d.mass.shape[0] >= PARALLEL_MIN and not _LOCAL.__dict__.get("inner"):
-            return self._evaluate_threads(d, detail)
+            return self._evaluate_threads(d, detail, band)
+        worst = band == "worst" and d.has_band
         out = {}
-        for pc in self.cases:
+        for pc in self.cases + self.duty:
             kind = pc.case.kind
-            if kind == "payload":
-                out[pc.case.name] = self._payload(pc, d, detail)
-            elif kind == "stance":
-                out[pc.case.name] = self._stance(pc, d, detail)
-            elif kind == "impact":
-                out[pc.case.name] = self._impact(pc, d, detail)
-            elif kind == "backdrive":
-                out[pc.case.name] = self._backdrive(pc, d)
-            elif kind == "speed":
-                out[pc.case.name] = self._speed(pc, d, detail)
-        for pd in self.duty:
-            out[pd.case.name] = evaluate_duty(pd, d, detail=detail)
+            if not worst:
+                out[pc.case.name] = self._case(pc, d, detail)
+                continue
+            ends = ends_for(kind, detail, pc.case)
+            out[pc.case.name] = worst_of(
+                kind, [self._case(pc, d.at_band(f, b), detail) for f, b in ends]
+            )
         return out
 
-    def _evaluate_threads(self, d: DesignArrays, detail: bool) -> dict[str, dict[str, np.ndarray]]:
+    def _evaluate_threads(
+        self, d: DesignArrays, detail: bool, band: str
+    ) -> dict[str, dict[str, np.ndarray]]:
         """:meth:`evaluate` on :data:`THREADS` slices of the designs at once (numpy releases the
         GIL inside its loops, so the slices share the cores), results joined in order."""
         D = d.mass.shape[0]
@@ -219,7 +225,7 @@ class Evaluator:
         def run(part: DesignArrays) -> dict[str, dict[str, np.ndarray]]:
             _LOCAL.inner = True
             try:
-                return self.evaluate(part, detail=detail)
+                return self.evaluate(part, detail=detail, band=band)
             finally:
                 _LOCAL.inner = False
 
@@ -229,6 +235,20 @@ class Evaluator:
             name: {key: _join([r[name][key] for r in results], sizes) for key in results[0][name]}
             for name in results[0]
         }
+
+    def _case(self, pc, d: DesignArrays, detail: bool) -> dict[str, np.ndarray]:
+        kind = pc.case.kind
+        if kind == "payload":
+            return self._payload(pc, d, detail)
+        if kind == "stance":
+            return self._stance(pc, d, detail)
+        if kind == "impact":
+            return self._impact(pc, d, detail)
+        if kind == "backdrive":
+            return self._backdrive(pc, d)
+        if kind == "speed":
+            return self._speed(pc, d, detail)
+        return evaluate_duty(pc, d, detail=detail)
 
     def _payload(
         self, pc: PreparedCase, d: DesignArrays, detail: bool = True

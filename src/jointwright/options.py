@@ -21,6 +21,7 @@ from dataclasses import dataclass, fields
 
 import numpy as np
 
+from .catalog.drives import drive_incompatibility
 from .design import DesignArrays, actuator_row
 from .drivetrain import Actuator, StageChoice
 from .errors import InputError
@@ -147,7 +148,10 @@ def build_table(project, exclude=(), deadline=None) -> OptionTable:
         for s in stage_choices(project)
         if s.stage.name not in banned and s.frame.name not in banned
     ]
-    count = len(motors) * sum(len(singles) ** k for k in range(project.max_stages + 1))
+    feeds = motor_drives(project, motors)
+    count = sum(len(f) for f in feeds) * sum(
+        len(singles) ** k for k in range(project.max_stages + 1)
+    )
     if count > MAX_OPTIONS:
         raise InputError(
             str(project.file),
@@ -161,8 +165,9 @@ def build_table(project, exclude=(), deadline=None) -> OptionTable:
     acts, motor_index = [], []
     for i, m in enumerate(motors):
         for stack in stacks:
-            acts.append(Actuator(m, tuple(stack)))
-            motor_index.append(i)
+            for drive in feeds[i]:
+                acts.append(Actuator(m, tuple(stack), drive))
+                motor_index.append(i)
     rows_list = []
     for k, a in enumerate(acts):
         if deadline is not None and k % 2048 == 0 and time.perf_counter() > deadline:
@@ -177,9 +182,22 @@ def build_table(project, exclude=(), deadline=None) -> OptionTable:
     )
 
 
+def motor_drives(project, motors) -> list[tuple]:
+    """Per motor, the drives an option may pair it with: ``(None,)`` for a project without
+    drives, else every drive some joint may use that can feed the motor (catalog.drives); a
+    motor no such drive can feed gets none, so it drops out of the table."""
+    if getattr(project, "drives", None) is None:
+        return [(None,)] * len(motors)
+    used = {name for names in project.drives.values() for name in names}
+    drives = [d for d in project.catalog.drives if d.name in used]
+    return [tuple(d for d in drives if drive_incompatibility(m, d) is None) for m in motors]
+
+
 def option_key(a: Actuator) -> tuple:
-    """Identity of an option: motor name and (stage, frame, ratio) per stage."""
-    return (a.motor.name,) + tuple((s.stage.name, s.frame.name, s.ratio) for s in a.stages)
+    """Identity of an option: motor name and (stage, frame, ratio) per stage (and the drive's
+    name last when it has one)."""
+    key = (a.motor.name,) + tuple((s.stage.name, s.frame.name, s.ratio) for s in a.stages)
+    return key if a.drive is None else key + (("drive", a.drive.name),)
 
 
 def matches_pin(a: Actuator, pin: dict) -> bool:
@@ -281,6 +299,16 @@ def joint_candidates(
         masks = []
         if name in pins:
             masks.append(("pin", np.array([matches_pin(a, pins[name]) for a in table.actuators])))
+        if getattr(project, "drives", None) is not None:
+            allowed = set(project.drives[name])
+            masks.append(
+                (
+                    "drive",
+                    np.array(
+                        [a.drive is not None and a.drive.name in allowed for a in table.actuators]
+                    ),
+                )
+            )
         masks += _joint_limit_masks(project, table, name)
         masks += [(label, m) for jj, label, m in speed if jj == j]
         for label, m in masks:

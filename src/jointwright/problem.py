@@ -85,6 +85,8 @@ def checks(project, arrays, evaluation) -> list[Check]:
             )
         )
     refl = arrays.reflected_inertia("backdriven")
+    if req.efficiency_band:  # largest at the low end of the backward band (robust.py)
+        refl = arrays.at_band("low", "low").reflected_inertia("backdriven")
     for j, name in enumerate(project.robot.actuated):
         lim = req.joint(name)
         per = [

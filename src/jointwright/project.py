@@ -12,6 +12,7 @@ from typing import Any
 
 import numpy as np
 
+from .catalog.drives import drives_from_table
 from .errors import InputError
 from .progress import report
 from .tomlfile import Table, is_file, load_toml
@@ -126,6 +127,9 @@ class Requirements:
     #: least gear life of every joint over the duty cycles (s; Miner's rule with the cycles'
     #: life shares, metrics/gear_life.py); 0 = no requirement
     life_min: float = 0.0
+    #: every requirement holds across the stages' efficiency bands (robust.py), not only at
+    #: their nominal efficiencies
+    efficiency_band: bool = False
 
     def joint(self, name: str) -> JointLimits:
         return self.joints.get(name, JointLimits())
@@ -145,6 +149,9 @@ class Project:
     stage_kinds: tuple[str, ...] | None = None
     rotor_coupling: bool = False
     summary: str = ""
+    #: per actuated joint the drive names it may use (one: fixed, several: the optimizer
+    #: chooses); None: no drives, every motor on its own ratings (catalog.drives)
+    drives: dict[str, tuple[str, ...]] | None = None
     objective: dict = field(default_factory=dict)
 
     @property
@@ -202,6 +209,7 @@ def project_from_dict(data: dict, path: Path) -> Project:
     coupling = model.flag("rotor_coupling", False)
     model.done()
     requirements = _load_requirements(top.table("requirements", {}), robot)
+    drives = drives_from_table(top.table("drives", {}), tuple(robot.actuated), catalog)
     poses = _load_poses(top.table("poses", {}), robot)
     tables = top.tables("case")
     read: list[Case] = []
@@ -234,6 +242,7 @@ def project_from_dict(data: dict, path: Path) -> Project:
         rotor_coupling=coupling,
         summary=summary,
         objective=dict(objective),
+        drives=drives,
     )
 
 
@@ -300,6 +309,7 @@ def _load_requirements(t: Table, robot) -> Requirements:
     total = t.quantity("total_mass_max", "mass", math.inf, sign="positive")
     cost = t.quantity("total_cost_max", "dimensionless", math.inf, sign="positive")
     life = t.quantity("life_min", "time", 0.0, sign="positive")
+    band = t.flag("efficiency_band", False)
     joints = {}
     jt = t.table("joint", {})
     for jname in list(jt.data):
@@ -330,7 +340,13 @@ def _load_requirements(t: Table, robot) -> Requirements:
         sub.done()
     jt.done()
     t.done()
-    return Requirements(total_mass_max=total, total_cost_max=cost, joints=joints, life_min=life)
+    return Requirements(
+        total_mass_max=total,
+        total_cost_max=cost,
+        joints=joints,
+        life_min=life,
+        efficiency_band=band,
+    )
 
 
 #: life shares of the counted duty cases must sum to 1 within this

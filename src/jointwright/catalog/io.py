@@ -28,6 +28,8 @@ import numpy as np
 from ..errors import InputError, did_you_mean, unknown_name
 from ..tomlfile import Table, is_file, load_toml
 from ..units import positive, registry
+from .bands import band_from_dict, check_band
+from .drives import drive_from_table
 from .efficiency import efficiency_from_dict
 from .model import LIFE_BASES, STAGE_KINDS, Catalog, Motor, MotorFamily, StageFrame, StageType
 
@@ -95,8 +97,25 @@ MODEL_KINDS = {
     "planetary_basic_train": ("planetary",),
 }
 
-_TOP_KEYS = ("description", "motor", "motor_family", "stage", "motors_csv", "frames_csv")
-_STAGE_KEYS = ("name", "kind", "ratios", "ratio_range", "efficiency", "frame", "life_exponent")
+_TOP_KEYS = (
+    "description",
+    "motor",
+    "motor_family",
+    "stage",
+    "motors_csv",
+    "frames_csv",
+    "drive",
+)
+_STAGE_KEYS = (
+    "name",
+    "kind",
+    "ratios",
+    "ratio_range",
+    "efficiency",
+    "frame",
+    "life_exponent",
+    "efficiency_band",
+)
 
 
 class _Where(NamedTuple):
@@ -111,6 +130,7 @@ class _Part(NamedTuple):
     families: list[tuple[MotorFamily, _Where]]
     stages: list[tuple[StageType, _Where]]
     notes: list[str]
+    drives: tuple | list = ()  # (catalog.drives.Drive, _Where) pairs
 
 
 # --- public API ----------------------------------------------------------------------------
@@ -192,7 +212,8 @@ def _toml_part(path: Path) -> _Part:
     _check_keys(top, _TOP_KEYS)
     if top.has("description") and not isinstance(top.raw("description"), str):
         raise InputError(file, "description", "must be a string")
-    part = _Part([], [], [], [])
+    drives = [(drive_from_table(t), _Where(file, t.path)) for t in top.tables("drive")]
+    part = _Part([], [], [], [], drives)
     for t in top.tables("motor"):
         part.motors.append((_motor(t), _Where(file, t.path)))
     for csv_path in _paths(top, "motors_csv", path.parent):
@@ -222,8 +243,8 @@ def _paths(top: Table, key: str, base: Path) -> list[Path]:
 
 
 def _require_content(part: _Part, path: Path) -> None:
-    if not (part.motors or part.families or part.stages):
-        raise InputError(str(path), "(top level)", "defines no motor, motor_family or stage")
+    if not (part.motors or part.families or part.stages or part.drives):
+        raise InputError(str(path), "(top level)", "defines no motor, motor_family, stage or drive")
 
 
 # --- CSV -----------------------------------------------------------------------------------
@@ -537,6 +558,13 @@ class _StageDraft:
             check(self.ratios or self.ratio_range, file=t.file, field=t.field(key))
         self.frames = [(_frame(ft), ft) for ft in t.tables("frame")]
         self.life_exponent = _life_exponent(t)
+        self.band = None  # efficiency band (catalog.bands), None when the stage states none
+        if t.has("efficiency_band"):
+            where = t.field("efficiency_band")
+            self.band = band_from_dict(
+                t.raw("efficiency_band"), self.efficiency, file=t.file, field=where
+            )
+            check_band(self.band, self.ratios, self.ratio_range, file=t.file, field=where)
 
     def build(self) -> StageType:
         if not self.frames:
@@ -572,6 +600,7 @@ class _StageDraft:
             ratios=self.ratios,
             ratio_range=self.ratio_range,
             life_exponent=self.life_exponent,
+            efficiency_band=self.band,
         )
 
 
@@ -690,12 +719,15 @@ def _merge(parts: list[_Part], *, source: str) -> Catalog:
                 claim("motor", member.name, _Where(where.file, f"{where.field}.sizes"))
         for stage, where in part.stages:
             claim("stage", stage.name, where)
+        for drive, where in part.drives:
+            claim("drive", drive.name, where)
     return Catalog(
         motors=tuple(m for p in parts for m, _ in p.motors),
         stages=tuple(s for p in parts for s, _ in p.stages),
         families=tuple(f for p in parts for f, _ in p.families),
         source=source,
         notes=tuple(n for p in parts for n in p.notes),
+        drives=tuple(d for p in parts for d, _ in p.drives),
     )
 
 

@@ -169,6 +169,8 @@ class StageType:
     #: life exponent p of the stage's life equation (LIFE_BASES, or the supplier's); None when
     #: no frame states a rated life
     life_exponent: float | None = None
+    #: the band the efficiencies move over (catalog.bands.EfficiencyBand); None: no band
+    efficiency_band: object | None = None
 
     def frame(self, name: str) -> StageFrame:
         for f in self.frames:
@@ -266,6 +268,8 @@ class Catalog:
     families: tuple[MotorFamily, ...] = ()
     source: str = "<api>"
     notes: tuple[str, ...] = field(default=())
+    #: motor drives (catalog.drives.Drive); empty when the catalog lists none
+    drives: tuple = ()
 
     def all_motors(self) -> tuple[Motor, ...]:
         """Catalog motors followed by every offered member of every family."""
@@ -284,4 +288,11 @@ class Catalog:
         for s in self.stages:
             if s.name == name:
                 return s
+        raise KeyError(name)
+
+    def drive(self, name: str):
+        """The drive (catalog.drives.Drive) named ``name``; KeyError when none."""
+        for d in self.drives:
+            if d.name == name:
+                return d
         raise KeyError(name)

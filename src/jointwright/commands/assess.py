@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from pathlib import Path
 
 import click
@@ -106,7 +107,7 @@ def print_assessment(a) -> None:
                 j.motor,
                 " + ".join(j.stages) or "direct",
                 f"{j.ratio:g}:1",
-                f"{j.eta_forward:.3f} / {j.eta_backward:.3f}{lock}",
+                f"{j.eta_forward:.3f} / {j.eta_backward:.3f}{lock}{_band_text(j)}",
                 num(j.mass, "kg"),
             ]
             + ([num(j.cost)] if costs else [])
@@ -131,13 +132,15 @@ def print_assessment(a) -> None:
     con.print(
         table(
             "Joint torque and reflected inertia",
-            ["joint", "drive", "holding", "refl. inertia", "back-driven"],
+            ["joint", "driving", "holding", "refl. inertia", "back-driven"],
             caps,
-            caption="drive = η_f·N·τ_peak (motoring); holding = N·τ_peak/η_b while the load "
+            caption="driving = η_f·N·τ_peak (motoring); holding = N·τ_peak/η_b while the load "
             "back-drives; both capped by the gear torque limit (peak). refl. inertia = "
             "N²·I_r (frictionless); back-driven = N²·I_r/η_b, what an impact meets.",
         )
     )
+    if any(j.drive is not None for j in a.joints):
+        con.print(_drives_table(a))
     for c in a.cases:
         rows = []
         for key, label, unit in SHOWN.get(c.kind, []):
@@ -176,6 +179,8 @@ def print_assessment(a) -> None:
                         f"{num(torque, 'N·m')} ({num(_scaled(use, 100.0), '%')} of momentary)",
                     ]
                 )
+        if c.metrics.get("envelope_limit"):
+            rows.append(["motor at its envelope at steady speed", c.metrics["envelope_limit"]])
         if c.note:
             extra.append(f"[red]carries nothing:[/red] {c.note}")
         elif c.limiting_joint:
@@ -218,8 +223,41 @@ def print_assessment(a) -> None:
         ]
         for c in a.checks
     ]
+    banded = any(c.margin_worst is not None for c in a.checks)
+    if banded:  # each value and margin at the nominal efficiencies and at the band's worst end
+        rows = [
+            [
+                c.subject,
+                c.requirement.replace("_", " "),
+                shown(c, c.achieved_nominal),
+                shown(c, c.achieved_worst),
+                shown(c, c.limit),
+                pct(c.margin_nominal),
+                pct(c.margin_worst),
+                "[green]ok[/green]" if c.ok else "[red]MISSED[/red]",
+            ]
+            for c in a.checks
+        ]
     con.print(
-        table("Requirements", ["subject", "requirement", "achieved", "limit", "margin", ""], rows)
+        table(
+            "Requirements",
+            ["subject", "requirement", "nominal", "worst end", "limit", "margin", "at worst", ""]
+            if banded
+            else ["subject", "requirement", "achieved", "limit", "margin", ""],
+            rows,
+            caption=(
+                "nominal: the stages' nominal efficiencies; worst end: each requirement at the "
+                "worst end of the stages' efficiency bands (docs/metrics.md, Efficiency bands); "
+                + (
+                    "ok / MISSED at the worst end (requirements.efficiency_band = true)"
+                    if a.efficiency.startswith("worst")
+                    else "ok / MISSED at the nominal efficiencies (requirements.efficiency_band "
+                    "= true requires the worst end)"
+                )
+            )
+            if banded
+            else None,
+        )
     )
     for text in a.cautions:
         con.print(f"[yellow]caution:[/yellow] {text}")
@@ -245,6 +283,40 @@ def command(project: Path, design_file: Path, as_json: bool):
         emit_json(a.to_dict())
     else:
         print_assessment(a)
+
+
+def _band_text(j) -> str:
+    """ " (band 0.70–0.83 / 0.56–0.69)" when the stack's efficiencies have a band, else ""."""
+    (f_lo, f_hi), (b_lo, b_hi) = j.eta_forward_band, j.eta_backward_band
+    if f_lo == f_hi == j.eta_forward and b_lo == b_hi == j.eta_backward:
+        return ""
+    return f" (band {f_lo:.2f}–{f_hi:.2f} / {b_lo:.2f}–{b_hi:.2f})"
+
+
+def _drives_table(a):
+    """Per joint: its drive and the motor ratings as the drive feeds them, with the side that
+    sets each (catalog.drives.fed_motor)."""
+
+    def by(value, unit, side):
+        return f"{num(value, unit)} ({side})"
+
+    rows = [
+        [
+            j.joint,
+            j.drive or "— (motor's own ratings)",
+            by(j.motor_peak_torque, "N·m", j.peak_torque_by),
+            by(j.motor_continuous_torque, "N·m", j.continuous_torque_by),
+            by(j.motor_max_speed * 60 / (2 * math.pi), "rpm", j.max_speed_by),
+        ]
+        for j in a.joints
+    ]
+    return table(
+        "Drives and the motor ratings they allow",
+        ["joint", "drive", "peak torque", "continuous torque", "top speed"],
+        rows,
+        caption="motor side: τ_peak = min(motor, Kt·I_peak), τ_cont = min(motor, Kt·I_cont), "
+        "top speed = min(motor, V_bus/Kt); (drive) marks where the drive's limit is the lower.",
+    )
 
 
 def _column_groups(rows: list[list[str]], joints: list[str], width: int) -> list[list[int]]:

@@ -60,11 +60,16 @@ def project_summary(p, evaluator=None) -> dict:
                     "ratios": list(s.ratios) if s.ratios is not None else None,
                     "ratio_range": list(s.ratio_range) if s.ratio_range is not None else None,
                     "efficiency": s.efficiency.describe(),
+                    "efficiency_band": None
+                    if s.efficiency_band is None
+                    else s.efficiency_band.describe(),
                 }
                 for s in stages
             ],
             "max_stages": p.max_stages,
             "notes": list(cat.notes),
+            # per joint the drives it may use; None: no drives, every motor on its own ratings
+            "drives": None if p.drives is None else {j: list(v) for j, v in p.drives.items()},
         },
         "cases": [
             {
@@ -85,6 +90,7 @@ def project_summary(p, evaluator=None) -> dict:
         "requirements": {
             "total_mass_max": p.requirements.total_mass_max,
             "life_min": p.requirements.life_min,
+            "efficiency_band": p.requirements.efficiency_band,
             "joints": {
                 j: {k: v for k, v in vars(lim).items() if math.isfinite(v) and v != 0}
                 for j, lim in p.requirements.joints.items()
@@ -174,12 +180,21 @@ def command(project: Path, as_json: bool):
                     ", ".join(f"{x:g}" for x in t["ratios"])
                     if t["ratios"]
                     else f"{t['ratio_range'][0]:g} to {t['ratio_range'][1]:g} (continuous)",
-                    t["efficiency"],
+                    t["efficiency"] + (f"; {t['efficiency_band']}" if t["efficiency_band"] else ""),
                 ]
                 for t in c["stage_types"]
             ],
         )
     )
+    if c["drives"] is not None:
+        con.print(
+            "Drives: "
+            + "; ".join(f"{j} {' or '.join(v)}" for j, v in c["drives"].items())
+            + " (the motor's torque capped at Kt × the drive's current, its line at the drive's "
+            "bus voltage)"
+        )
+    if s["requirements"]["efficiency_band"]:
+        con.print("Requirements hold across the stages' efficiency bands (worst end per metric).")
     units = {
         "payload_min": "N",
         "imf_min": "",

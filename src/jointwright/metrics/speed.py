@@ -457,8 +457,14 @@ def _first_rise(start, end, c2, c1, c0):
         sq = np.sqrt(np.where(disc >= 0, disc, 0.0))
         quad = c2 != 0
         c2s = np.where(quad, c2, 1.0)
-        r1 = np.where(quad & (disc >= 0), (-c1 - sq) / (2.0 * c2s), np.inf)
-        r2 = np.where(quad & (disc >= 0), (-c1 + sq) / (2.0 * c2s), np.inf)
+        # the two roots without cancellation (Press et al., Numerical Recipes, 3rd ed., §5.6):
+        # h = −(c1 + sgn(c1)·√disc)/2, roots h/c2 and c0/h; the textbook form loses the small
+        # root when c2 is rounding noise (it came out as −0.0 and stopped a joint at rest)
+        h = -0.5 * (c1 + np.where(c1 >= 0, 1.0, -1.0) * sq)
+        hs = np.where(h != 0, h, 1.0)
+        real = quad & (disc >= 0)
+        r1 = np.where(real, h / c2s, np.inf)
+        r2 = np.where(real & (h != 0), c0_safe / hs, np.where(real, 0.0, np.inf))
         c1s = np.where(c1 != 0, c1, 1.0)
         rl = np.where(~quad & (c1 > 0), -c0_safe / c1s, np.inf)  # linear: rises where c1 > 0
         cands = []

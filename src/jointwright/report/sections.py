@@ -265,13 +265,33 @@ def requirements_section(a: dict) -> Section:
                 Cell("met" if c["ok"] else "MISSED", "ok" if c["ok"] else "bad"),
             ]
         )
-    body = table(
-        ["subject", "requirement", "achieved", "limit", "margin", "status"],
-        rows,
-        caption="Margin = (achieved − limit)/|limit| for a minimum, "
+    head = ["subject", "requirement", "achieved", "limit", "margin", "status"]
+    caption = (
+        "Margin = (achieved − limit)/|limit| for a minimum, "
         "(limit − achieved)/|limit| for a maximum; a requirement is met when its "
-        "margin is ≥ 0. IMF values are dimensionless.",
+        "margin is ≥ 0. IMF values are dimensionless."
     )
+    if any(c.get("margin_worst") is not None for c in a["checks"]):
+        # efficiency bands (docs/metrics.md): each margin at nominal and at the worst end
+        for r, c in zip(rows, a["checks"], strict=True):
+            r[5:5] = [
+                Cell(check_value(c, "achieved_nominal"), "num"),
+                Cell(pct(c["margin_nominal"]), "num"),
+                Cell(check_value(c, "achieved_worst"), "num"),
+                Cell(pct(c["margin_worst"]), "num"),
+            ]
+        head[5:5] = ["nominal η", "margin", "worst end of the band", "margin"]
+        judged = (
+            "the worst end (the project requires the whole band)"
+            if str(a.get("efficiency", "")).startswith("worst")
+            else "the nominal efficiencies (the project does not require the band)"
+        )
+        caption += (
+            " The stages' efficiencies have bands: each requirement is shown at the nominal "
+            "efficiencies and at the end of the band that is worst for it (docs/metrics.md, "
+            f"Efficiency bands); achieved, margin and status are at {judged}."
+        )
+    body = table(head, rows, caption=caption)
     return Section("requirements", "Requirements versus achieved", body)
 
 
@@ -381,7 +401,36 @@ def joints_section(a: dict) -> Section:
         caption=_DRIVE_CAPTION,
         cls="wide",
     ) + table(head, inertia, caption=caption, cls="wide")
+    body += _drives_table(a)
     return Section("joints", "Per-joint choices", body)
+
+
+def _drives_table(a: dict) -> str:
+    """The motor drives and the ratings they allow, with the side that sets each ("" when the
+    design has no drives: every motor then runs on its own ratings)."""
+    if not any(j.get("drive") for j in a["joints"]):
+        return ""
+    rows = [
+        [
+            j["joint"],
+            j.get("drive") or "none (motor's own ratings)",
+            Cell(f"{fmt(j['motor_peak_torque'], 'N·m')} ({j['peak_torque_by']})", "num"),
+            Cell(
+                f"{fmt(j['motor_continuous_torque'], 'N·m')} ({j['continuous_torque_by']})", "num"
+            ),
+            Cell(f"{fmt(j['motor_max_speed'], 'rad/s')} ({j['max_speed_by']})", "num"),
+        ]
+        for j in a["joints"]
+    ]
+    return table(
+        ["joint", "drive", "motor peak torque", "motor continuous torque", "motor top speed"],
+        rows,
+        caption="Motor ratings as the drive feeds them (docs/metrics.md, Drive limits): peak "
+        "min(motor, Kt·I_peak), continuous min(motor, Kt·I_cont), top speed min(motor, "
+        "V_bus/Kt); in brackets the side whose limit is lower. The torque–speed line runs from "
+        "the drive's bus voltage.",
+        cls="wide",
+    )
 
 
 _DRIVE_CAPTION = (
@@ -429,6 +478,8 @@ def _case_notes(c: dict) -> list[str]:
         notes.append(f"limited by {c['limiting_joint']}")
     if c.get("joint_modes"):
         notes.append("modes: " + ", ".join(f"{j} {m}" for j, m in c["joint_modes"].items()))
+    if c["metrics"].get("envelope_limit"):
+        notes.append(f"motor at its envelope at steady speed: {c['metrics']['envelope_limit']}")
     if c["kind"] == "impact" and c["metrics"].get("contact_rank", 3) < 3:
         notes.append(
             "the joints cannot move the contact in every direction, so the determinant "

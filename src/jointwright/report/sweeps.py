@@ -138,7 +138,18 @@ def efficiency_sensitivity(
                 target[row, j] = float(np.clip(want, low, 1.0))
                 clipped[j, f, s] = not np.isclose(target[row, j], want)
     locking = eb <= 0.0
-    moved = replace(many, eta_forward=ef, eta_backward=eb, self_locking=locking)
+    # an efficiency band moves with its nominal value (a robust project reads the band's ends)
+    df, db = ef - many.eta_forward, eb - many.eta_backward
+    moved = replace(
+        many,
+        eta_forward=ef,
+        eta_backward=eb,
+        self_locking=locking,
+        eta_forward_low=np.clip(many.eta_forward_low + df, 0.01, 1.0),
+        eta_forward_high=np.clip(many.eta_forward_high + df, 0.01, 1.0),
+        eta_backward_low=np.minimum(many.eta_backward_low + db, 1.0),
+        eta_backward_high=np.minimum(many.eta_backward_high + db, 1.0),
+    )
     values = _summaries(project, evaluator, moved)
     changed = (locking != arrays.self_locking[:1])[1:].any(axis=1).reshape(n, 2, 2)
     return Sensitivity(

@@ -113,6 +113,8 @@ class SizingModel:
         self.mass = table.rows["mass"]
         self.cost = table.rows["cost"]
         self.breakaway = table.rows["breakaway_torque"]
+        if project.requirements.efficiency_band:  # the robust back-drive force's own breakaway
+            self.breakaway = self._band(np.arange(len(table)), "low").breakaway_torque[:, 0]
         self.backdrive = tuple(
             (np.abs(pc.Jj.T @ (pc.u / np.linalg.norm(pc.u))), pc.case.limits["backdrive_force_max"])
             for pc in self.evaluator.cases
@@ -130,12 +132,20 @@ class SizingModel:
         self.total_mass_max = req.total_mass_max
         self.total_cost_max = req.total_cost_max
 
+    def _band(self, options: np.ndarray, backward: str):
+        """DesignArrays of single options (O, 1) at the low forward end and ``backward``."""
+        return self.table.arrays(np.asarray(options)[:, None]).at_band("low", backward)
+
     # ------------------------------------------------------------------------------------------
     def _payload_terms(self, pc) -> PayloadTerms:
         t = self.table
         n_options = len(t)
         # every joint with every option: the evaluator's own capacity formulas (tip speed included)
         arr = t.arrays(np.repeat(np.arange(n_options)[:, None], self.n, axis=1))
+        if self.project.requirements.efficiency_band:
+            # a robust payload is the payload at (η_f low, η_b high) (robust.py): bounds from
+            # that end's capacities bound it exactly as nominal ones bound the nominal payload
+            arr = arr.at_band("low", "high")
         if getattr(pc.case, "tip_speed", 0.0) > 0:
             cap_m, cap_b = self.evaluator.capacity_at_speed(pc, arr)
         else:

@@ -63,7 +63,7 @@ def refine(model, design: Design, pinned=(), deadline=None) -> Design:
                     stages = list(act.stages)
                     stages[k] = StageChoice(st.stage, st.frame, float(r))
                     acts = list(current.actuators)
-                    acts[j] = Actuator(act.motor, tuple(stages))
+                    acts[j] = Actuator(act.motor, tuple(stages), act.drive)
                     trials.append(Design(current.name, current.joints, tuple(acts)))
                 s = key(trials)
                 for i in np.flatnonzero(s.feasible):
