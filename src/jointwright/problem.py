@@ -26,6 +26,7 @@ _CASE_METRIC = {
     "acceleration_min": ("acceleration", "m/s²"),
     "contact_speed_min": ("contact_speed", "m/s"),
     "rating_use_max": ("rating_use", ""),
+    "torque_ratio_min": ("torque_ratio", ""),
 }
 
 OBJECTIVES = ("payload", "mass", "imf")

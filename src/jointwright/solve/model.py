@@ -141,10 +141,14 @@ class SizingModel:
         sign = {"along": along, "against": -along, "hold": np.zeros_like(along)}[pc.case.motion]
         lo, hi = torque_bounds(np.broadcast_to(sign, (O, self.n)), cap_m, cap_b)
         vi = np.asarray(pc.basis.v_index)
+        a = pc.Jj.T @ (pc.u / np.linalg.norm(pc.u))
+        g0 = np.asarray(pc.basis.g0)[vi]
+        if getattr(pc, "load_a", None) is not None:  # a wrench case (metrics.loads)
+            a, g0 = pc.load_a[vi], g0 + pc.tau_fixed[vi]
         return PayloadTerms(
             name=pc.case.name,
-            a=pc.Jj.T @ (pc.u / np.linalg.norm(pc.u)),
-            g0=np.asarray(pc.basis.g0)[vi],
+            a=a,
+            g0=g0,
             G=np.asarray(pc.basis.g_mass)[:, vi],
             lo=np.asarray(lo).T.copy(),
             hi=np.asarray(hi).T.copy(),
