@@ -13,7 +13,7 @@ from ..project import load_project
 from ._format import console, emit_json, num, pct, requirement_num, table
 from ._output import check_target, project_inputs, write_text
 
-UNITS = {"payload": "kg", "mass": "kg", "imf": ""}
+UNITS = {"payload": "kg", "mass": "kg", "imf": "", "cost": "", "margin": ""}
 
 
 class Progress:

@@ -7,7 +7,7 @@ import math
 
 import numpy as np
 
-from ..problem import checks, feasible
+from ..problem import MINIMIZED, checks, feasible
 from ..project import STANDARD_GRAVITY, JointLimits, Requirements
 from .result import Alternative, Diagnosis
 
@@ -78,7 +78,7 @@ def alternatives(
 
     table = model.table
     out = []
-    sense = -1.0 if model.kind == "mass" else 1.0
+    sense = -1.0 if model.kind in MINIMIZED else 1.0
     costly = bool(model.duty or model.stance)
     names = project.robot.actuated
     for unit in _units(model):
@@ -301,7 +301,7 @@ def diagnose(project, model, kind: str, time_limit, deadline=None) -> tuple[Diag
     budget_end = time.perf_counter() + min(DIAGNOSIS_BUDGET, 4 * (time_limit or DIAGNOSIS_BUDGET))
     if deadline is not None and time_limit is not None:  # a time limit bounds the whole run
         budget_end = min(budget_end, deadline)
-    sense_ = -1.0 if kind == "mass" else 1.0
+    sense_ = -1.0 if kind in MINIMIZED else 1.0
     sense = {
         "payload_min": "min",
         "imf_min": "min",

@@ -22,7 +22,7 @@ import numpy as np
 
 from ..evaluate import Evaluator
 from ..metrics.payload import torque_bounds
-from ..problem import carried_payload, checks, feasible, objective
+from ..problem import checks, feasible, objective, objective_transform
 
 #: designs whose duty cases are checked per oracle call
 DUTY_CHUNK = 32
@@ -74,7 +74,10 @@ class SizingModel:
     def __init__(self, project, table, candidates, kind="payload", shared=()):
         self.project = project
         self.table = table
-        self.kind = kind
+        #: the user's objective; "margin" runs on the payload machinery with its own per-case
+        #: transform (case_value), so every payload bound below serves it unchanged
+        self.objective_kind = kind
+        self.kind = "payload" if kind == "margin" else kind
         self.n = len(project.robot.actuated)
         self.shared = tuple(tuple(g) for g in shared)
         #: "metric@case" kinds (frontier): maximize sign·metric of one case
@@ -103,7 +106,8 @@ class SizingModel:
         # the payload objective is the payload mass every case carries: each case's force bound
         # goes through its own increasing transform (problem.carried_payload) before the min
         self.carry = tuple(
-            lambda f, c=project.case(t.name): carried_payload(c, f) for t in self.payload
+            objective_transform(project, self.objective_kind, project.case(t.name))
+            for t in self.payload
         )
         self.candidates = [np.asarray(c, dtype=np.int64) for c in candidates]
         self.reflected = table.reflected_backdriven
@@ -180,12 +184,12 @@ class SizingModel:
         if self.measure is not None:
             metric, case, sign = self.measure
             f = sign * np.asarray(ev[case][metric], dtype=float)
-        elif self.kind == "payload" and not any(
+        elif self.objective_kind == "payload" and not any(
             c.kind in ("payload", "stance") for c in project.cases
         ):
             f = np.full(index.shape[0], np.inf)  # screen without stance cases: no payload bound yet
         else:
-            f = np.asarray(objective(project, arrays, ev, self.kind), dtype=float)
+            f = np.asarray(objective(project, arrays, ev, self.objective_kind), dtype=float)
         f = np.where(np.isnan(f), -np.inf, f)
         refl = arrays.reflected_inertia("backdriven").sum(axis=1)
         return Scored(index, f, ok, arrays.mass.sum(axis=1), refl)
@@ -446,6 +450,8 @@ class SizingModel:
             f = worst
         elif self.kind == "mass":
             f = -mass_lb
+        elif self.kind == "cost":  # cost is separable per joint like mass: a lower bound
+            f = -(self.cost[idx[A]].sum() + st["cmin"][F].sum() + len(unit) * self.cost[options])
         elif self.measure is not None and self.measure[0] == "backdrive_force":
             pc = next(p for p in self.evaluator.cases if p.case.name == self.measure[1])
             absa = np.abs(pc.Jj.T @ (pc.u / np.linalg.norm(pc.u)))
