@@ -64,6 +64,7 @@ def instance(base, seed, objective=None):
     return dataclasses.replace(project, cases=cases), rng
 
 
+@pytest.mark.slow
 @settings(**SETTINGS)
 @given(seed=st.integers(0, 2**31 - 1))
 def test_margin_objective_matches_enumeration(leg, seed):  # noqa: F811
@@ -80,6 +81,7 @@ def test_margin_objective_matches_enumeration(leg, seed):  # noqa: F811
     assert res.objective == pytest.approx(worst, rel=1e-12)
 
 
+@pytest.mark.slow
 @settings(**SETTINGS)
 @given(seed=st.integers(0, 2**31 - 1), budget=st.booleans())
 def test_cost_objective_and_budget_match_enumeration(leg, seed, budget):  # noqa: F811
@@ -103,6 +105,7 @@ def test_cost_objective_and_budget_match_enumeration(leg, seed, budget):  # noqa
         assert res.objective == pytest.approx(res.assessment.total_cost)
 
 
+@pytest.mark.slow
 @settings(**SETTINGS)
 @given(seed=st.integers(0, 2**31 - 1))
 def test_payload_of_one_named_case_with_the_others_as_constraints(leg, seed):  # noqa: F811
@@ -119,6 +122,7 @@ def test_payload_of_one_named_case_with_the_others_as_constraints(leg, seed):  #
     assert res.objective >= every.objective - 1e-9  # fewer cases in the min: never lower
 
 
+@pytest.mark.slow
 @settings(**SETTINGS)
 @given(seed=st.integers(0, 2**31 - 1), kind=st.sampled_from(["payload", "mass"]))
 def test_wrench_torque_and_region_cases_inside_the_optimizer(leg, seed, kind):  # noqa: F811

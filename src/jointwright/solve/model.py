@@ -21,6 +21,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..evaluate import Evaluator
+from ..metrics.loads import MOTION_SIGN, torque_ratio
 from ..metrics.payload import torque_bounds
 from ..problem import checks, feasible, objective, objective_transform
 
@@ -127,6 +128,9 @@ class SizingModel:
         from .duty_bound import DutyBound
 
         self.duty_bound = DutyBound(self.evaluator, table)
+        #: torque cases: (joint, options that carry its torque with the case's factor) per named
+        #: joint; a per-joint requirement, so a unit's option that misses it fails every completion
+        self.torque_ok = self._torque_terms(project)
         req = project.requirements
         self.total_mass_max = req.total_mass_max
         self.total_cost_max = req.total_cost_max
@@ -158,6 +162,28 @@ class SizingModel:
             hi=np.asarray(hi).T.copy(),
             minimum=float(pc.case.limits.get("payload_min", 0.0)),
         )
+
+    def _torque_terms(self, project) -> tuple:
+        cases = [c for c in project.cases if c.kind == "torque"]
+        if not cases:
+            return ()
+        n_opt = len(self.table)
+        arr = self.table.arrays(np.repeat(np.arange(n_opt)[:, None], self.n, axis=1))
+        cap_m, cap_b = arr.capacity("motoring"), arr.capacity("backdriven")
+        names = list(project.robot.actuated)
+        out = []
+        for c in cases:
+            limit = c.limits.get("torque_ratio_min", 1.0)
+            for (jn, tau), (_, motion) in zip(c.joint_torques, c.joint_motions, strict=True):
+                j = names.index(jn)
+                r = torque_ratio(
+                    np.array([tau]),
+                    np.array([MOTION_SIGN[motion]]),
+                    cap_m[:, j : j + 1],
+                    cap_b[:, j : j + 1],
+                )[:, 0]
+                out.append((j, r >= limit * (1 - 1e-12)))  # the check's own tolerance
+        return tuple(out)
 
     # ------------------------------------------------------------------------------------------
     def score(self, index: np.ndarray, *, full: bool = True) -> Scored:
@@ -427,6 +453,9 @@ class SizingModel:
         if math.isfinite(self.total_cost_max):
             cost_lb = self.cost[idx[A]].sum() + st["cmin"][F].sum() + len(unit) * self.cost[options]
             ok &= cost_lb <= self.total_cost_max * (1 + 1e-9)
+        for j, good in self.torque_ok:
+            if j in unit:
+                ok &= good[options]
         worst = np.full(K, np.inf)
         b_lo = []
         for c, t in enumerate(self.payload):
