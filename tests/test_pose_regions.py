@@ -122,3 +122,32 @@ def test_bad_regions_name_the_field(patch, field):
         project_from_dict(data, ARM / "project.toml")
     assert field in str(e.value)
     assert not math.isnan(0.0)
+
+
+def test_the_documented_examples_load_and_assess(tmp_path):
+    """The TOML examples of docs/project-format.md ("Regions of poses", "A full wrench and a
+    joint-space load") added to the bundled arm: they load, and every case is assessed."""
+    import re
+    import shutil
+
+    doc = (Path(__file__).parents[1] / "docs" / "project-format.md").read_text(encoding="utf-8")
+    part = doc.split("### Regions of poses")[1].split("### `[objective]`")[0]
+    blocks = re.findall(r"```toml\n(.*?)```", part, re.S)
+    assert len(blocks) == 2
+    for f in ARM.iterdir():
+        if f.is_file():
+            shutil.copy(f, tmp_path / f.name)
+    text = (ARM / "project.toml").read_text(encoding="utf-8")
+    reach = (
+        '\n[poses.reach]\nshoulder_yaw = 0\nshoulder_pitch = "50 deg"\nelbow = "50 deg"\n'
+        'wrist_pitch = "-10 deg"\nwrist_yaw = 0\nwrist_flex = 0\n'
+    )
+    (tmp_path / "project.toml").write_text(text + reach + "\n".join(blocks), encoding="utf-8")
+    from jointwright.project import load_project
+
+    project = load_project(tmp_path / "project.toml")
+    a = assess(project, load_design(tmp_path / "design.toml", project))
+    assert set(a.regions) == {"reach-region", "transfer-path"}
+    assert a.regions["reach-region"]["poses"] == 20
+    names = {c.name for c in a.cases}
+    assert {"drill", "held-out", "gearbox-supplier"} <= names

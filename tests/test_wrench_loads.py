@@ -166,3 +166,61 @@ def test_bad_wrench_fields_name_the_field(extra, field):
     with pytest.raises(InputError) as e:
         arm_project([wrench_case(**extra)])
     assert field in str(e.value)
+
+
+def test_stance_wrench_balances_the_whole_robot():
+    """A stance case with an offset and a moment on frictionless feet (vertical contact forces
+    only): the ground forces carry the weight plus the load, and their moments about the world
+    axes balance the load's moment s·(p + r) × u + M and the weight's at the centre of mass
+    (static equilibrium of the whole robot [pub, rigid-body mechanics]; positions and the
+    centre of mass from Pinocchio)."""
+    import dataclasses
+    from importlib import resources
+
+    from jointwright.project import load_project
+
+    with resources.as_file(resources.files("jointwright.examples") / "quadruped") as folder:
+        project = load_project(folder / "project.toml")
+        design = load_design(folder / "design.toml", project)
+    base = project.case("stand-carry")
+    r = np.array([0.05, 0.02, 0.0])
+    M = np.array([3.0, -2.0, 0.0])
+    case = dataclasses.replace(
+        base,
+        contacts=tuple((f, 0.0, n) for f, _mu, n in base.contacts),
+        offset=tuple(r),
+        moment=tuple(M),
+    )
+    project = dataclasses.replace(project, cases=(case,))
+    ev = Evaluator(project)
+    out = ev.evaluate(arrays_from_designs([design]))[case.name]
+    assert out["self_supporting"][0]
+    s = float(out["payload"][0])
+    assert s > 0
+    fz = out["contact_force_z"][0]
+    model = project.robot.with_actuator_masses([a.mass for a in design.actuators])
+    data = model.createData()
+    q = project.robot.configuration(case.pose, case.base_xyz, case.base_rpy)
+    pin.framesForwardKinematics(model, data, q)
+    com = pin.centerOfMass(model, data, q)
+    g = 9.81  # the robot's gravity
+    weight = pin.computeTotalMass(model) * g
+    pc = [np.array(data.oMf[project.robot.frame_id(f)].translation) for f, _, _ in case.contacts]
+    p = np.array(data.oMf[project.robot.frame_id(case.frame)].translation) + r
+    u = np.array(case.direction)
+    assert fz.sum() == pytest.approx(weight + s, rel=1e-5)
+    # x: Σ y_c f_c − (p_y)·s·u_z − M_x − W·y_com = 0; y: −Σ x_c f_c + p_x·s·u_z − M_y + W·x_com = 0
+    mx = (
+        sum(c[1] * f for c, f in zip(pc, fz, strict=True))
+        - p[1] * s * u[2]
+        - M[0]
+        - weight * com[1]
+    )
+    my = (
+        -sum(c[0] * f for c, f in zip(pc, fz, strict=True))
+        + p[0] * s * u[2]
+        - M[1]
+        + weight * com[0]
+    )
+    scale = weight * 0.3
+    assert abs(mx) < 1e-4 * scale and abs(my) < 1e-4 * scale
