@@ -203,32 +203,38 @@ def smallest_margin(project, evaluation) -> np.ndarray:
     return np.min(values, axis=0)
 
 
-def objective_transform(project, kind: str, case):
+def objective_names(project, kind: str) -> set[str]:
+    """Names of the payload and stance cases that set a payload or margin objective."""
+    if kind == "margin":
+        return {c.name for c in margin_cases(project) if c.limits.get("payload_min", 0.0) > 0}
+    return {c.name for c in payload_objective_cases(project)}
+
+
+def objective_transform(project, kind: str, case, names: set[str] | None = None):
     """The increasing map from a payload case's force (N) to its value in the objective, which
     is the minimum of these values over the cases (+inf: the case does not set it).
 
     payload: the payload mass it carries (:func:`carried_payload`); margin: force/payload_min.
-    Any nondecreasing map keeps every bound of the optimizer valid (docs/optimizer.md)."""
-    if kind == "margin":
-        limit = case.limits.get("payload_min", 0.0)
-        if limit > 0 and case.name in {c.name for c in margin_cases(project)}:
+    Any nondecreasing map keeps every bound of the optimizer valid (docs/optimizer.md).
+    ``names``: :func:`objective_names`, when the caller has it (one set for many cases)."""
+    names = objective_names(project, kind) if names is None else names
+    if case.name in names:
+        if kind == "margin":
+            limit = case.limits["payload_min"]
             return lambda f: np.asarray(f, dtype=float) / limit
-    elif case.name in {c.name for c in payload_objective_cases(project)}:
         return lambda f: carried_payload(case, f)
     return lambda f: np.full(np.shape(f), np.inf)
 
 
-def force_for_objective(project, kind: str, case, value):
+def force_for_objective(project, kind: str, case, value, names: set[str] | None = None):
     """The force (N) a payload case must reach for the objective value ``value`` (the inverse of
     :func:`objective_transform`), or None when the case does not set the objective."""
-    if kind == "margin":
-        limit = case.limits.get("payload_min", 0.0)
-        if limit > 0 and case.name in {c.name for c in margin_cases(project)}:
-            return limit * value
+    names = objective_names(project, kind) if names is None else names
+    if case.name not in names:
         return None
-    if case.name in {c.name for c in payload_objective_cases(project)}:
-        return case.fixed_load + case.payload_share * STANDARD_GRAVITY * value
-    return None
+    if kind == "margin":
+        return case.limits["payload_min"] * value
+    return case.fixed_load + case.payload_share * STANDARD_GRAVITY * value
 
 
 def payload_mass(project, evaluation) -> np.ndarray:

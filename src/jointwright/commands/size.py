@@ -153,7 +153,7 @@ def print_result(r, project=None) -> None:
 @click.argument("project", type=click.Path(path_type=Path))
 @click.option(
     "--objective",
-    type=click.Choice(["payload", "mass", "imf"]),
+    type=click.Choice(["payload", "margin", "mass", "cost", "imf"]),
     default=None,
     help="default: the project's [objective] maximize, else payload",
 )

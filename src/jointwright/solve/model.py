@@ -23,7 +23,7 @@ import numpy as np
 from ..evaluate import Evaluator
 from ..metrics.loads import MOTION_SIGN, torque_ratio
 from ..metrics.payload import torque_bounds
-from ..problem import checks, feasible, objective, objective_transform
+from ..problem import checks, feasible, objective, objective_names, objective_transform
 
 #: designs whose duty cases are checked per oracle call
 DUTY_CHUNK = 32
@@ -68,7 +68,7 @@ class SizingModel:
     project : Project
     table : OptionTable
     candidates : list of int arrays, per joint
-    kind : "payload", "mass" or "imf"
+    kind : "payload", "margin", "mass", "cost", "imf" or "metric@case" (frontier)
     shared : list of tuples of joint indices that must take the same option
     """
 
@@ -106,8 +106,10 @@ class SizingModel:
         )
         # the payload objective is the payload mass every case carries: each case's force bound
         # goes through its own increasing transform (problem.carried_payload) before the min
+        names = objective_names(project, self.objective_kind)
+        by_name = {c.name: c for c in project.cases}
         self.carry = tuple(
-            objective_transform(project, self.objective_kind, project.case(t.name))
+            objective_transform(project, self.objective_kind, by_name[t.name], names)
             for t in self.payload
         )
         self.candidates = [np.asarray(c, dtype=np.int64) for c in candidates]

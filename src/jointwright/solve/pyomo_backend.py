@@ -28,7 +28,7 @@ import time
 import numpy as np
 
 from ..errors import InputError
-from ..problem import force_for_objective
+from ..problem import force_for_objective, objective_names
 from .model import SizingModel, tie_tol
 from .result import SolveOutcome
 
@@ -86,10 +86,12 @@ def build_milp(model: SizingModel, units, deadline=math.inf):
         m.budget.add(total(model.cost) <= model.total_cost_max)
     m.s = pe.Var(bounds=(0, None))
     m.torque = pe.ConstraintList()
+    names = objective_names(model.project, model.objective_kind)
+    by_name = {c.name: c for c in model.project.cases}
     for t in model.payload:
-        case = model.project.case(t.name)  # m.s is the payload mass (kg): the force it needs
+        case = by_name[t.name]  # m.s is the payload mass (kg): the force it needs
         need = (
-            force_for_objective(model.project, model.objective_kind, case, m.s)
+            force_for_objective(model.project, model.objective_kind, case, m.s, names)
             if model.kind == "payload"
             else None
         )

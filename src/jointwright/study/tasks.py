@@ -20,7 +20,7 @@ _OPTIONS = {"objective", "backend", "time_limit", "measure", "points", "case"}
 
 
 _CHOICES = {
-    "objective": ("payload", "mass", "imf"),
+    "objective": ("payload", "margin", "mass", "cost", "imf"),
     "backend": ("search", "pyomo"),
     "measure": ("imf", "effective_mass", "backdrive_force"),
 }
