@@ -181,3 +181,23 @@ def test_objective_cases_are_checked(leg):  # noqa: F811
             read_objective(p)
         assert field in str(e.value)
     assert math.isfinite(1.0)
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("seed", [1, 2])
+def test_pyomo_cost_and_named_case_payload_match_enumeration(leg, seed):  # noqa: F811
+    """The Pyomo/HiGHS back-end (linear total cost; the payload rows of the named case only)
+    against enumeration; it refuses the margin objective."""
+    project, _ = instance(leg, seed)
+    for kind, objective in (("cost", {}), ("payload", {"cases": ["landing-absorb"]})):
+        p = dataclasses.replace(project, objective=objective)
+        ref, _model = oracle(p, kind)
+        res = size(p, objective=kind, backend="pyomo", explain=False)
+        if ref.status == "infeasible":
+            assert res.status == "infeasible"
+            continue
+        assert res.status == "optimal"
+        sense = -1.0 if kind in MINIMIZED else 1.0
+        assert sense * res.objective == pytest.approx(ref.objective, rel=1e-9, abs=1e-9)
+    with pytest.raises(InputError, match="margin"):
+        size(project, objective="margin", backend="pyomo", explain=False)
