@@ -26,6 +26,9 @@ def region_project():
     data["case"].append(
         {"name": "supplier", "kind": "torque", "torques": {"elbow": "10 N*m"}, "motion": "along"}
     )
+    wrench = copy.deepcopy(data["case"][0])
+    wrench.update(name="held-out", offset=[0.1, 0, 0], moment=[0, 0, "2 N*m"])
+    data["case"].append(wrench)
     return project_from_dict(data, ARM / "project.toml")
 
 
@@ -44,6 +47,7 @@ def test_report_draws_the_worst_pose_and_shows_kg_and_n(tmp_path):
     assert "payload mass it carries" in html
     assert "payload mass " in html and "kg)" in html  # payload_min read as a payload mass
     assert "smallest achieved ÷ required joint torque" in html
+    assert "Force capability at the pose of held-out" in html  # its own polytope
     lift = next(c for c in a.cases if c.name == "reach-lift")
     case = project.case("reach-lift")
     want = (lift.metrics["payload"] - case.fixed_load) / (case.payload_share * STANDARD_GRAVITY)

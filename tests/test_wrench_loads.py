@@ -224,3 +224,16 @@ def test_stance_wrench_balances_the_whole_robot():
     )
     scale = weight * 0.3
     assert abs(mx) < 1e-4 * scale and abs(my) < 1e-4 * scale
+
+
+def test_offset_point_jacobian_gives_the_same_torques():
+    """The force s·u at the offset point r: its point Jacobian J_v − [r]×·J_ω (velocity
+    v + ω × r, rigid-body kinematics [pub]) gives the same per-newton torques as J6ᵀ·(u, r × u)
+    (the report's polytope of a wrench case uses the former)."""
+    rng = np.random.default_rng(3)
+    J6 = rng.normal(size=(6, 5))
+    r = rng.normal(size=3)
+    u = rng.normal(size=3)
+    u /= np.linalg.norm(u)
+    skew = np.array([[0.0, -r[2], r[1]], [r[2], 0.0, -r[0]], [-r[1], r[0], 0.0]])
+    np.testing.assert_allclose((J6[:3] - skew @ J6[3:]).T @ u, torque_per_force(J6, u, r))
