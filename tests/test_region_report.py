@@ -9,6 +9,8 @@ import json
 import tomllib
 from pathlib import Path
 
+import pytest
+
 import jointwright.examples as examples
 from jointwright.assessment import assess
 from jointwright.design import load_design
@@ -32,6 +34,7 @@ def region_project():
     return project_from_dict(data, ARM / "project.toml")
 
 
+@pytest.mark.slow
 def test_report_draws_the_worst_pose_and_shows_kg_and_n(tmp_path):
     from jointwright.report.build import build_report
 
