@@ -1126,6 +1126,108 @@ BAD = [
 ]
 
 
+# --- loads that reach every joint, regions of poses, objective cases (docs/project-format.md)
+JUMP_MIN = 'payload_min = "150 N"'
+TORQUE_CASE = 'ambient = "30 degC"\n\n[[case]]\nname = "supplier"\nkind = "torque"\n'
+
+
+def _jump(id, extra, field, rule, verb="check"):
+    return Bad(
+        id,
+        (("project.toml", JUMP_MIN, JUMP_MIN + "\n" + extra),),
+        verb,
+        "project.toml",
+        field,
+        rule,
+    )
+
+
+BAD += [
+    _jump("moment of two components", "moment = [1, 2]", "case[0].moment", "list of 3 numbers"),
+    _jump("moment in newtons", 'moment = ["1 N", 0, 0]', "case[0].moment[0]", "N*m"),
+    _jump("offset in kilograms", 'offset = ["1 kg", 0, 0]', "case[0].offset[0]", "m"),
+    _jump("grid count zero", "grid = { knee = [1.0, 2.0, 0] }", "case[0].grid.knee[2]", ">= 1"),
+    _jump(
+        "grid beyond the joint limits",
+        "grid = { knee = [1.0, 3.5, 3] }",
+        "case[0].grid.knee[1]",
+        "outside the joint's limits",
+    ),
+    _jump("grid of two numbers", "grid = { knee = [1.0, 2.0] }", "case[0].grid.knee", "[low"),
+    _jump(
+        "grid of an unknown joint", "grid = { ankle = [0, 1, 2] }", "case[0].grid.ankle", "ankle"
+    ),
+    _jump("poses next to pose", 'poses = ["stand"]', "case[0].pose", "not both"),
+    _jump("every without a trajectory", "every = 2", "case[0].every", "trajectory_poses"),
+    _jump(
+        "region trajectory missing",
+        'trajectory_poses = "sweep.csv"',
+        "case[0].trajectory_poses",
+        "file not found",
+    ),
+    _jump(
+        "two region fields",
+        'grid = { knee = [1.0, 2.0, 2] }\ntrajectory_poses = "gait.csv"',
+        "case[0].trajectory_poses",
+        "give one of",
+    ),
+    Bad(
+        "case name with @",
+        (("project.toml", 'name = "jump-push"', 'name = "jump@push"'),),
+        "check",
+        "project.toml",
+        "case[0].name",
+        "must not contain '@'",
+    ),
+    Bad(
+        "torque case of an unknown joint",
+        (("project.toml", 'ambient = "30 degC"', TORQUE_CASE + "torques = { ankle = 3.0 }"),),
+        "check",
+        "project.toml",
+        "case[7].torques.ankle",
+        "unknown actuated joint",
+    ),
+    Bad(
+        "torque case in kilograms",
+        (("project.toml", 'ambient = "30 degC"', TORQUE_CASE + 'torques = { knee = "3 kg" }'),),
+        "check",
+        "project.toml",
+        "case[7].torques.knee",
+        "N*m",
+    ),
+    Bad(
+        "torque case without torques",
+        (("project.toml", 'ambient = "30 degC"', TORQUE_CASE + 'motion = "hold"'),),
+        "check",
+        "project.toml",
+        "case[7].torques",
+        "is required",
+    ),
+    Bad(
+        "torque case with a pose region",
+        (
+            (
+                "project.toml",
+                'ambient = "30 degC"',
+                TORQUE_CASE + 'torques = { knee = 3.0 }\nposes = ["x"]',
+            ),
+        ),
+        "check",
+        "project.toml",
+        "case[7].poses",
+        "no pose region",
+    ),
+    Bad(
+        "objective case unknown",
+        (("project.toml", "", '[objective]\ncases = ["nope"]\n'),),
+        "size",
+        "project.toml",
+        "objective.cases[0]",
+        "unknown case",
+    ),
+]
+
+
 @pytest.mark.parametrize("bad", BAD, ids=[b.id for b in BAD])
 def test_bad_input_gives_one_clear_line(bad: Bad, examples, tmp_path):
     message = _one_error_line(_run_broken(bad, examples, tmp_path))

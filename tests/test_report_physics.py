@@ -251,8 +251,9 @@ SIZING = {
 
 def test_runner_ups_hook_reads_the_sizing_result_form():
     s = hooks.runner_ups_section(SIZING)
-    assert "loses 10 N" in s.body and "misses touchdown: imf min" in s.body and "250 N" in s.body
-    assert "+0.0 %" in s.body and "230 N" in s.body
+    # the payload objective is the payload mass every case carries, in kg
+    assert "loses 10 kg" in s.body and "misses touchdown: imf min" in s.body and "250 kg" in s.body
+    assert "+0.0 %" in s.body and "230 kg" in s.body
     bad = {**SIZING, "alternatives": [_alternative("m", "high", None, None)]}
     with pytest.raises(InputError, match=r"alternatives\[0\]\.objective"):
         hooks.runner_ups_section(bad)
@@ -424,12 +425,12 @@ def test_study_store_becomes_the_study_section(tmp_path):
     assert params["requirements.mass_budget"]["unit"] == "kg"
     # "3000 g" is shown in the parameter's unit, kg
     assert sorted({c["values"]["requirements.mass_budget"] for c in data["cases"]}) == [2.0, 3.0]
-    assert [r["unit"] for r in data["results"]] == ["N", "kg"]
+    assert [r["unit"] for r in data["results"]] == ["kg", "kg"]  # payload mass, actuator mass
     assert {c["variant"] for c in data["cases"]} == {"short", "long"}
     section = hooks.study_section(data, tmp_path)
     text = re.sub(r'src="data:[^"]*"', "", section.body)
-    assert "largest worst-case payload (N)" in text and "300 N" in text
-    assert 'data-study-best="short">300 N<' in text and 'data-study-best="long">300 N<' in text
+    assert "payload mass every case carries (kg)" in text and "300 kg" in text
+    assert 'data-study-best="short">300 kg<' in text and 'data-study-best="long">300 kg<' in text
     assert not re.search(r"\bnan\b", text, flags=re.I)
     # the same store through the command line, beside a design report
     r = CliRunner().invoke(main, ["new", str(tmp_path / "leg"), "--example", "leg"])

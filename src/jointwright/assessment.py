@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
-from dataclasses import asdict, dataclass
+from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
@@ -96,6 +96,9 @@ class Assessment:
     cautions: tuple[str, ...]
     #: "nominal" (no band), "nominal, worst end shown" or "worst end of the band" (robust)
     efficiency: str = "nominal"
+    #: cases over a region of poses (jointwright.regions): user case name -> its worst pose
+    #: {"index", "case", "margin", "poses", "pose"}; the member cases stay in ``cases``
+    regions: dict = field(default_factory=dict)
 
     def to_dict(self) -> dict:
         return _jsonable(asdict(self))
@@ -187,6 +190,13 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
                 )
                 if case.kind == "payload":
                     modes = _payload_modes(evaluator, case.name, tau)
+            elif k == "joint_torque_ratio" and case.kind == "torque":
+                metrics.update(
+                    {
+                        f"torque_ratio:{j}": float(x)
+                        for (j, _), x in zip(case.joint_torques, v.reshape(-1), strict=True)
+                    }
+                )
             elif v.ndim == 2 and v.shape == (1, len(names)):
                 metrics.update({f"{k}:{n}": float(x) for n, x in zip(names, v[0], strict=True)})
             elif v.ndim >= 1 and v.shape[0] == 1:
@@ -272,6 +282,7 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
         feasible=bool(feasible(cl, 1)[0]),
         cautions=tuple(cautions),
         efficiency=efficiency,
+        regions=_regions(project, results),
     )
 
 
@@ -326,6 +337,21 @@ def _envelope_limit(design, metrics: dict) -> str | None:
         if best is None or top > best[0] + 1e-9:
             best = (top, f"{joint}: {binding_limit(uses, fed, a.drive is not None)}")
     return None if best is None else best[1]
+
+
+def _regions(project, results) -> dict:
+    """The worst pose of each region case: the lowest smallest-margin over its poses."""
+    from .regions import worst_poses
+
+    if not any(c.region for c in project.cases):
+        return {}
+    margins: dict[str, float] = {}
+    for r in results:
+        margins[r.subject] = min(margins.get(r.subject, math.inf), r.margin)
+    out = worst_poses(project.cases, margins)
+    for info in out.values():
+        info["pose"] = dict(project.case(info["case"]).pose)
+    return out
 
 
 def _zero_payload_note(project, case, metrics: dict, limiting: str | None) -> str | None:

@@ -51,6 +51,7 @@ from .metrics.impact_fused import (
 )
 from .metrics.inertia import effective_mass, forward_effective_mass, impact_mitigation
 from .metrics.linalg_small import inv_small
+from .metrics.loads import MOTION_SIGN, torque_of_moment, torque_per_force, torque_ratio
 from .metrics.payload import payload_along, torque_bounds
 from .metrics.speed import (
     acceleration_from_rest,
@@ -112,6 +113,10 @@ class PreparedCase:
     #: speed cases: (1 + n_act, n_act) Coriolis and centrifugal torques at the actuated joints per
     #: (end-point speed)², links only (row 0) and per kg of each actuator's mass (rows 1...)
     speed_terms: np.ndarray | None = None
+    #: payload and stance cases with a ``moment`` or ``offset`` (metrics.loads): joint torques
+    #: per newton of the case's force, (nv,), and the fixed moment's joint torques, (nv,)
+    load_a: np.ndarray | None = None
+    tau_fixed: np.ndarray | None = None
 
 
 class Evaluator:
@@ -142,7 +147,11 @@ class Evaluator:
         )
         #: joints a limiting-joint index of a payload or back-drive result refers to
         self.limit_joints = tuple(robot.actuated) + tuple(robot.free)
-        self.cases = tuple(self._prepare(c) for c in project.cases if c.kind != "duty")
+        self.cases = tuple(
+            self._prepare(c) for c in project.cases if c.kind not in ("duty", "torque")
+        )
+        #: joint-space cases (required torque per joint): no pose terms
+        self.torque_cases = tuple(c for c in project.cases if c.kind == "torque")
         self.duty = tuple(
             prepare_duty(robot, c, str(project.file)) for c in project.cases if c.kind == "duty"
         )
@@ -171,6 +180,11 @@ class Evaluator:
         if case.kind == "stance" and case.motion != "hold":
             sign = _stance_velocity_sign(contact_J, J, u, case.motion, self.v_index)
         speed_terms = _speed_terms(robot, q, Jj, u) if case.kind == "speed" else None
+        load_a = tau_fixed = None
+        if case.kind in ("payload", "stance") and case.has_wrench:
+            J6 = basis.J[0]
+            load_a = torque_per_force(J6, u, case.offset)
+            tau_fixed = torque_of_moment(J6, case.moment)
         return PreparedCase(
             case=case,
             basis=basis,
@@ -180,6 +194,8 @@ class Evaluator:
             velocity_sign=sign,
             contact_J=contact_J,
             speed_terms=speed_terms,
+            load_a=load_a,
+            tau_fixed=tau_fixed,
         )
 
     # ------------------------------------------------------------------------------------------
@@ -211,6 +227,8 @@ class Evaluator:
             out[pc.case.name] = worst_of(
                 kind, [self._case(pc, d.at_band(f, b), detail) for f, b in ends]
             )
+        for case in self.torque_cases:  # at (η_f low, η_b high) when robust: least capacity
+            out[case.name] = self._torque(case, d.at_band("low", "high") if worst else d)
         return out
 
     def _evaluate_threads(
@@ -260,21 +278,27 @@ class Evaluator:
         ways. ``payload`` is the one the case's ``motion`` names.
         """
         g = gravity(pc.basis, d.mass)
+        if pc.tau_fixed is not None:  # the case's fixed moment loads the joints like gravity
+            g = g + pc.tau_fixed
         bias = g[..., self.v_index]
         cap_m, cap_b = d.capacity("motoring"), d.capacity("backdriven")
         if pc.case.tip_speed > 0:
             cap_m, cap_b = self.capacity_at_speed(pc, d)
-        a = pc.Jj.T @ pc.u
+        a = pc.Jj.T @ pc.u if pc.load_a is None else pc.load_a[self.v_index]
         # velocity_sign already points the way the case moves; flip it for the opposite motion
         along = pc.velocity_sign if pc.case.motion != "against" else -pc.velocity_sign
         own = {"along": "raise", "against": "lower", "hold": "hold"}[pc.case.motion]
         Jx, bias_x = self._with_free(pc, g, bias)
+        ray = pc.u
+        if pc.load_a is not None:  # a wrench: the ray is τ_bias + s·a, one row a per newton
+            Jx = np.concatenate([a, pc.load_a[self.free_index]])[None, :]
+            ray = np.ones(1)
         results = {}
         for label, s in (("raise", along), ("lower", -along), ("hold", np.zeros_like(along))):
             if detail or label == own:
                 lo, hi = torque_bounds(np.broadcast_to(s, bias.shape), cap_m, cap_b)
                 lo, hi = self._free_bounds(lo, hi)
-                results[label] = payload_along(Jx, bias_x, lo, hi, pc.u)
+                results[label] = payload_along(Jx, bias_x, lo, hi, ray)
         main = results[own]
         out = {
             "payload": main.force,
@@ -284,12 +308,29 @@ class Evaluator:
         if detail:
             cap_0 = d.capacity("frictionless")
             lo0, hi0 = self._free_bounds(-cap_0, cap_0)
-            out["payload_frictionless"] = payload_along(Jx, bias_x, lo0, hi0, pc.u).force
+            out["payload_frictionless"] = payload_along(Jx, bias_x, lo0, hi0, ray).force
             for label in ("raise", "lower", "hold"):
                 out[f"payload_{label}"] = results[label].force
             force = np.where(np.isfinite(main.force), main.force, 0.0)
             out["joint_torque"] = bias + force[..., None] * a
         return out
+
+    def _torque(self, case, d: DesignArrays) -> dict[str, np.ndarray]:
+        """A joint-space case: per named joint, its capacity in the case's power-flow mode over
+        the required torque (metrics.loads.torque_ratio); the smallest ratio and its joint."""
+        names = list(self.robot.actuated)
+        cols = np.array([names.index(j) for j, _ in case.joint_torques], dtype=int)
+        tau = np.array([v for _, v in case.joint_torques])
+        sigma = np.array([MOTION_SIGN[m] for _, m in case.joint_motions])
+        r = torque_ratio(
+            tau, sigma, d.capacity("motoring")[..., cols], d.capacity("backdriven")[..., cols]
+        )
+        worst = np.min(r, axis=-1)
+        return {
+            "torque_ratio": worst,
+            "limiting_joint": np.where(np.isfinite(worst), cols[np.argmin(r, axis=-1)], -1),
+            "joint_torque_ratio": r,
+        }
 
     def _free_gravity(self, g: np.ndarray) -> np.ndarray:
         """Gravity torques of the free joints from the full vector ``g``; rounding taken as 0."""
@@ -324,6 +365,11 @@ class Evaluator:
         from .metrics.contacts import solve_batch
 
         g = gravity(pc.basis, d.mass)
+        p_jac, p_wrench = pc.J, -pc.u
+        if pc.load_a is not None:  # a wrench (metrics.loads): force at the offset, fixed moment
+            g = g + pc.tau_fixed
+            p_jac = pc.basis.J[0]
+            p_wrench = -np.concatenate([pc.u, np.cross(pc.case.offset, pc.u)])
         lo, hi = torque_bounds(
             np.broadcast_to(pc.velocity_sign, d.mass.shape),
             d.capacity("motoring"),
@@ -342,8 +388,8 @@ class Evaluator:
             contact_jacobians=pc.contact_J,
             normals=np.array([c[2] for c in frames]),
             friction=np.array([c[1] for c in frames]),
-            payload_jacobian=pc.J,
-            payload_wrench=-pc.u,
+            payload_jacobian=p_jac,
+            payload_wrench=p_wrench,
             tau_low=lo,
             tau_high=hi,
         )
@@ -364,8 +410,8 @@ class Evaluator:
                     contact_jacobians=pc.contact_J,
                     normals=np.array([c[2] for c in frames]),
                     friction=np.array([c[1] for c in frames]),
-                    payload_jacobian=pc.J,
-                    payload_wrench=-pc.u,
+                    payload_jacobian=p_jac,
+                    payload_wrench=p_wrench,
                     tau_low=-inf,
                     tau_high=inf,
                 )

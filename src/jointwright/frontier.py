@@ -281,7 +281,7 @@ def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=
     ``upper``: a known bound from the neighbouring point, which ends the search when reached.
     Only the optimal value matters here, so ties are not searched.
     """
-    from .problem import load_for_payload
+    from .problem import load_for_payload, payload_objective_cases
     from .sizing import build_model, design_of, read_objective, units_of
     from .solve.search import BranchAndBound
 
@@ -289,6 +289,8 @@ def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=
     if payload_floor is not None:
         # the floor is a payload mass (kg); each case must reach the force that carries it
         floor = payload_floor - 1e-9 * abs(payload_floor) - 1e-12
+        # the cases that set the payload objective ([objective] cases, when given)
+        chosen = {c.name for c in payload_objective_cases(project) if c.kind == "payload"}
         p = dataclasses.replace(
             project,
             cases=tuple(
@@ -301,7 +303,7 @@ def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=
                         ),
                     },
                 )
-                if c.kind == "payload" and c.payload_share > 0
+                if c.name in chosen
                 else c
                 for c in project.cases
             ),

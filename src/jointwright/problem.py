@@ -28,9 +28,12 @@ _CASE_METRIC = {
     "contact_speed_min": ("contact_speed", "m/s"),
     "rating_use_max": ("rating_use", ""),
     "shock_use_max": ("shock_use", ""),
+    "torque_ratio_min": ("torque_ratio", ""),
 }
 
-OBJECTIVES = ("payload", "mass", "imf")
+OBJECTIVES = ("payload", "mass", "imf", "cost", "margin")
+#: objectives that minimize a total: the value maximized is minus the total
+MINIMIZED = ("mass", "cost")
 
 
 @dataclass(frozen=True)
@@ -167,9 +170,106 @@ def load_for_payload(case, mass) -> np.ndarray:
     return case.fixed_load + case.payload_share * STANDARD_GRAVITY * np.asarray(mass, dtype=float)
 
 
+def objective_case_names(project) -> set[str] | None:
+    """The cases the objective reads (``[objective] cases``), region cases expanded to their
+    poses; None when the field is absent (every case of the objective's kind)."""
+    names = project.objective.get("cases") if isinstance(project.objective, dict) else None
+    if names is None:
+        return None
+    chosen = set(names)
+    return {c.name for c in project.cases if c.name in chosen or c.region in chosen}
+
+
 def payload_objective_cases(project) -> list:
-    """Payload and stance cases whose load grows with the payload (payload_share > 0)."""
-    return [c for c in project.cases if c.kind in ("payload", "stance") and c.payload_share > 0]
+    """Payload and stance cases whose load grows with the payload (payload_share > 0), only the
+    named ones when ``[objective] cases`` is given (the others stay constraints)."""
+    names = objective_case_names(project)
+    return [
+        c
+        for c in project.cases
+        if c.kind in ("payload", "stance")
+        and c.payload_share > 0
+        and (names is None or c.name in names)
+    ]
+
+
+def margin_cases(project) -> list:
+    """Cases of the normalized-margin objective: the named ones (``[objective] cases``), else
+    every payload and stance case with a payload_min > 0."""
+    names = objective_case_names(project)
+    if names is None:
+        return [
+            c
+            for c in project.cases
+            if c.kind in ("payload", "stance") and c.limits.get("payload_min", 0.0) > 0
+        ]
+    return [c for c in project.cases if c.name in names]
+
+
+def normalized_margin(case, evaluation) -> np.ndarray | None:
+    """Achieved ÷ required over the case's requirements, the smallest, (D,): a "min" limit
+    gives achieved/limit, a "max" limit limit/achieved (≥ 1 exactly when the requirement is
+    met). None when the case has no requirement with a positive limit in ``evaluation``."""
+    ev = evaluation.get(case.name)
+    if ev is None:
+        return None
+    out = None
+    for key, limit in case.limits.items():
+        metric = _CASE_METRIC.get(key, (None, None))[0]
+        if metric is None or metric not in ev or not limit > 0:
+            continue
+        a = np.asarray(ev[metric], dtype=float)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            r = a / limit if CASE_LIMITS[case.kind][key][1] == "min" else limit / a
+        r = np.where(np.isnan(r), -np.inf, r)
+        out = r if out is None else np.minimum(out, r)
+    return out
+
+
+def smallest_margin(project, evaluation) -> np.ndarray:
+    """The smallest normalized margin over :func:`margin_cases` (cases not evaluated, e.g. a
+    screen without stance cases, are left out, which can only raise it), (D,)."""
+    values = [normalized_margin(c, evaluation) for c in margin_cases(project)]
+    values = [v for v in values if v is not None]
+    if not values:
+        d = next(iter(evaluation.values()))
+        size = np.asarray(next(iter(d.values()))).shape[0] if d else 1
+        return np.full(size, np.inf)
+    return np.min(values, axis=0)
+
+
+def objective_names(project, kind: str) -> set[str]:
+    """Names of the payload and stance cases that set a payload or margin objective."""
+    if kind == "margin":
+        return {c.name for c in margin_cases(project) if c.limits.get("payload_min", 0.0) > 0}
+    return {c.name for c in payload_objective_cases(project)}
+
+
+def objective_transform(project, kind: str, case, names: set[str] | None = None):
+    """The increasing map from a payload case's force (N) to its value in the objective, which
+    is the minimum of these values over the cases (+inf: the case does not set it).
+
+    payload: the payload mass it carries (:func:`carried_payload`); margin: force/payload_min.
+    Any nondecreasing map keeps every bound of the optimizer valid (docs/optimizer.md).
+    ``names``: :func:`objective_names`, when the caller has it (one set for many cases)."""
+    names = objective_names(project, kind) if names is None else names
+    if case.name in names:
+        if kind == "margin":
+            limit = case.limits["payload_min"]
+            return lambda f: np.asarray(f, dtype=float) / limit
+        return lambda f: carried_payload(case, f)
+    return lambda f: np.full(np.shape(f), np.inf)
+
+
+def force_for_objective(project, kind: str, case, value, names: set[str] | None = None):
+    """The force (N) a payload case must reach for the objective value ``value`` (the inverse of
+    :func:`objective_transform`), or None when the case does not set the objective."""
+    names = objective_names(project, kind) if names is None else names
+    if case.name not in names:
+        return None
+    if kind == "margin":
+        return case.limits["payload_min"] * value
+    return case.fixed_load + case.payload_share * STANDARD_GRAVITY * value
 
 
 def payload_mass(project, evaluation) -> np.ndarray:
@@ -181,20 +281,30 @@ def payload_mass(project, evaluation) -> np.ndarray:
         for c in payload_objective_cases(project)
         if c.name in evaluation
     ]
+    if not values:  # only stance cases set it and this is a screen without them: no bound yet
+        d = next(iter(evaluation.values()), {})
+        size = np.asarray(next(iter(d.values()))).shape[0] if d else 1
+        return np.full(size, np.inf)
     return np.min(values, axis=0)
 
 
 def objective(project, arrays, evaluation, kind: str = "payload") -> np.ndarray:
     """Objective values to maximize, (D,).
 
-    payload: the payload mass every payload and stance case carries (kg, :func:`payload_mass`);
-    mass: minus total actuator mass (kg); imf: the worst impact mitigation factor over the
-    impact cases.
+    payload: the payload mass every payload and stance case carries (kg, :func:`payload_mass`;
+    the named cases only with ``[objective] cases``); mass: minus total actuator mass (kg);
+    cost: minus total actuator cost (catalog currency); margin: the smallest normalized margin
+    (achieved ÷ required) over :func:`margin_cases`; imf: the worst impact mitigation factor
+    over the impact cases.
     """
     if kind == "payload":
         return payload_mass(project, evaluation)
     if kind == "mass":
         return -arrays.mass.sum(axis=1)
+    if kind == "cost":
+        return -arrays.cost.sum(axis=1)
+    if kind == "margin":
+        return smallest_margin(project, evaluation)
     if kind == "imf":
         names = [
             c.name for c in project.cases if c.kind == "impact" and "imf" in evaluation[c.name]

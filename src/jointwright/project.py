@@ -17,7 +17,7 @@ from .errors import InputError
 from .progress import report
 from .tomlfile import Table, is_file, load_toml
 
-CASE_KINDS = ("payload", "stance", "impact", "backdrive", "speed", "duty")
+CASE_KINDS = ("payload", "stance", "impact", "backdrive", "speed", "duty", "torque")
 MOTIONS = ("along", "against", "hold")
 STANDARD_GRAVITY = 9.80665
 
@@ -87,6 +87,27 @@ class Case:
     weight_equivalent: bool = False
     #: stance cases: (frame, friction coefficient, unit normal from the ground into the robot)
     contacts: tuple[tuple[str, float, tuple[float, float, float]], ...] = ()
+    #: payload and stance cases: moment the robot exerts on the environment with the force (N·m,
+    #: world-aligned axes, about the origin of ``frame``); fixed, it does not grow with the load
+    moment: tuple[float, float, float] = (0.0, 0.0, 0.0)
+    #: payload and stance cases: where the force acts, from the origin of ``frame`` (m,
+    #: world-aligned axes), e.g. the payload's centre of mass; the force s·u there adds the
+    #: moment s·(offset × u) at the frame, so it grows with the load (docs/metrics.md)
+    offset: tuple[float, float, float] = (0.0, 0.0, 0.0)
+    #: torque cases: required joint torque (N·m, N for a prismatic joint) per actuated joint
+    joint_torques: tuple[tuple[str, float], ...] = ()
+    #: torque cases: per joint, how it moves while carrying the torque: "along" (motoring),
+    #: "against" (back-driven) or "hold"
+    joint_motions: tuple[tuple[str, str], ...] = ()
+    #: a case expanded from a region (``poses``, ``grid`` or ``trajectory_poses``): the user
+    #: case's name and this pose's place in the region; "" for an ordinary case
+    region: str = ""
+    region_index: int = -1
+
+    @property
+    def has_wrench(self) -> bool:
+        """Whether the case's load carries a moment (a ``moment`` or an ``offset``)."""
+        return any(x != 0.0 for x in self.moment) or any(x != 0.0 for x in self.offset)
 
 
 #: per kind: requirement key -> (dimension, sense); sense "min" means achieved >= limit
@@ -103,6 +124,8 @@ CASE_LIMITS: dict[str, dict[str, tuple[str, str]]] = {
     },
     "backdrive": {"backdrive_force_max": ("force", "max")},
     "speed": {"speed_min": ("velocity", "min"), "acceleration_min": ("acceleration", "min")},
+    # achieved ÷ required joint torque, the smallest over the case's joints
+    "torque": {"torque_ratio_min": ("dimensionless", "min")},
     # rating use: the worst of RMS/continuous, peak/peak torque, speed/max speed, torque/envelope
     # and temperature rise/allowed rise over the joints; 1.0 uses a rating fully
     "duty": {"rating_use_max": ("dimensionless", "max")},
@@ -214,7 +237,7 @@ def project_from_dict(data: dict, path: Path) -> Project:
     tables = top.tables("case")
     read: list[Case] = []
     for i, t in enumerate(tables):
-        read.append(_load_case(t, robot, path.parent, poses))
+        read.extend(_load_cases(t, robot, path.parent, poses))
         if i % 500 == 499:
             report("reading cases", i + 1, len(tables))
     cases = tuple(read)
@@ -477,15 +500,45 @@ def _load_contacts(t: Table, robot) -> tuple:
     return tuple(out)
 
 
-def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Case:
+def _load_cases(t: Table, robot, base_dir: Path, poses: dict | None = None) -> list[Case]:
+    """One [[case]] table: one case, or one per pose of a region (jointwright.regions)."""
+    from .regions import REGION_KEYS, read_region
+
+    kind = t.raw("kind", None)
+    if kind in ("duty", "torque"):
+        for key in REGION_KEYS:
+            if t.has(key):
+                raise InputError(t.file, t.field(key), f"a {kind} case has no pose region")
+        return [_load_case(t, robot, base_dir, poses)]
+    region = read_region(t, robot, base_dir, poses or {}, _read_pose)
+    case = _load_case(t, robot, base_dir, poses, region_pose=None if region is None else region[0])
+    if region is None:
+        return [case]
+    from dataclasses import replace
+
+    return [
+        replace(case, name=f"{case.name}@{k}", pose=p, region=case.name, region_index=k)
+        for k, p in enumerate(region)
+    ]
+
+
+def _load_case(
+    t: Table, robot, base_dir: Path, poses: dict | None = None, region_pose: dict | None = None
+) -> Case:
     name = t.text("name")
+    if "@" in name:
+        raise InputError(t.file, t.field("name"), f"must not contain '@' (got {name!r})")
     kind = t.text("kind", choices=CASE_KINDS)
+    if kind == "torque":
+        return _torque_case(t, robot, name)
     frame = None
     if kind != "duty":
         frame = t.text("frame")
         robot.frame_id(frame, file=t.file, field=t.field("frame"))
     pose = {}
-    if kind != "duty":
+    if region_pose is not None:
+        pose = dict(region_pose)
+    elif kind != "duty":
         raw = t.raw("pose")
         if isinstance(raw, str):
             poses = poses or {}
@@ -603,6 +656,10 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
             "that applies; jointwright ships no values)",
         )
     weight = bool(direction is not None and abs(abs(direction[2]) - 1.0) < 1e-9)
+    moment, offset = (0.0, 0.0, 0.0), (0.0, 0.0, 0.0)
+    if kind in ("payload", "stance"):
+        moment = t.vector("moment", 3, (0.0, 0.0, 0.0), "torque")
+        offset = t.vector("offset", 3, (0.0, 0.0, 0.0), "length")
     t.done()
     return Case(
         name=name,
@@ -629,6 +686,53 @@ def _load_case(t: Table, robot, base_dir: Path, poses: dict | None = None) -> Ca
         life_share=life_share,
         impact_speed=impact_speed,
         restitution=restitution,
+        moment=tuple(float(x) for x in moment),
+        offset=tuple(float(x) for x in offset),
+    )
+
+
+def _torque_case(t: Table, robot, name: str) -> Case:
+    """A joint-space case: required torque per joint by name, each joint in its power-flow mode
+    (docs/project-format.md, "Torque cases")."""
+    tt = t.table("torques")
+    if not tt.data:
+        raise InputError(t.file, t.field("torques"), "must name at least one actuated joint")
+    torques = []
+    for jn in list(tt.data):
+        if jn not in robot.actuated:
+            raise InputError(
+                t.file,
+                tt.field(jn),
+                f"unknown actuated joint {jn!r}; the robot has {', '.join(robot.actuated)}",
+            )
+        revolute = robot.revolute[robot.joint_names.index(jn)]
+        value = tt.quantity(jn, "torque" if revolute else "force")
+        torques.append((jn, float(value)))
+    tt.done()
+    motion = t.text("motion", "hold", choices=MOTIONS)
+    mt = t.table("motions", {})
+    motions = []
+    for jn, _ in torques:
+        motions.append((jn, mt.text(jn, motion, choices=MOTIONS) if mt.has(jn) else motion))
+    for jn in list(mt.data):
+        if jn not in dict(torques):
+            raise InputError(t.file, mt.field(jn), f"joint {jn!r} has no entry in torques")
+    mt.done()
+    limits = {"torque_ratio_min": 1.0}
+    if t.has("torque_ratio_min"):
+        limits["torque_ratio_min"] = t.quantity(
+            "torque_ratio_min", "dimensionless", sign="positive"
+        )
+    t.done()
+    return Case(
+        name=name,
+        kind="torque",
+        frame=None,
+        pose={},
+        motion=motion,
+        limits=limits,
+        joint_torques=tuple(torques),
+        joint_motions=tuple(motions),
     )
 
 

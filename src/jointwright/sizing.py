@@ -19,19 +19,16 @@ from .assessment import assess, unloaded_joints
 from .design import Design, arrays_from_designs
 from .errors import InputError
 from .options import JointCandidates, OutOfTime, build_table, joint_candidates
-from .problem import OBJECTIVES, payload_objective_cases
+from .problem import MINIMIZED, OBJECTIVES, margin_cases, payload_objective_cases
 from .solve.model import SizingModel
 from .solve.result import SizingResult, SolveOutcome, relative_gap
 
 BACKENDS = ("search", "pyomo", "enumerate")
-_OBJECTIVE_KEYS = ("maximize", "pin", "exclude", "shared", "ratio_grid")
+_OBJECTIVE_KEYS = ("maximize", "pin", "exclude", "shared", "ratio_grid", "cases")
 
 
 def read_objective(project) -> dict:
-    """The project file's ``[objective]`` table, checked.
-
-    Fields: maximize, pin, exclude, shared, ratio_grid.
-    """
+    """The project file's ``[objective]`` table, checked (fields: docs/optimizer.md)."""
     raw, file = dict(project.objective), str(project.file)
     joints = list(project.robot.actuated)
     for key in raw:
@@ -59,7 +56,36 @@ def read_objective(project) -> dict:
     if not isinstance(out["exclude"], list) or not all(isinstance(x, str) for x in out["exclude"]):
         raise InputError(file, "objective.exclude", "must be a list of motor, stage or frame names")
     check_shared(out["shared"], joints, file, "objective.shared")
+    if "cases" in raw:
+        out["cases"] = check_objective_cases(raw["cases"], project, out["maximize"], file)
     return out
+
+
+def check_objective_cases(names, project, kind: str, file: str) -> list[str]:
+    """``[objective] cases``: the cases that set a payload or margin objective (a region case by
+    its own name); the other cases stay constraints."""
+    field = "objective.cases"
+    if not isinstance(names, list) or not names or not all(isinstance(n, str) for n in names):
+        raise InputError(file, field, "must be a non-empty list of case names")
+    if kind not in ("payload", "margin"):
+        raise InputError(file, field, f"only for the payload and margin objectives, not {kind}")
+    known = {c.region or c.name: c for c in project.cases}
+    for i, n in enumerate(names):
+        c = known.get(n)
+        if c is None:
+            raise InputError(file, f"{field}[{i}]", f"unknown case {n!r}")
+        if kind == "payload" and not (c.kind in ("payload", "stance") and c.payload_share > 0):
+            raise InputError(
+                file,
+                f"{field}[{i}]",
+                f"case {n!r} carries no payload (the payload objective reads payload and stance "
+                "cases with payload_share > 0)",
+            )
+        if kind == "margin" and not any(v > 0 for v in c.limits.values()):
+            raise InputError(
+                file, f"{field}[{i}]", f"case {n!r} has no requirement with a positive limit"
+            )
+    return list(names)
 
 
 def check_pins(pins, project, file: str, field: str) -> None:
@@ -327,7 +353,7 @@ def size(
             project, kind, pins, exclude, shared, deadline=deadline, phase=phase
         )
     except OutOfTime as e:
-        sense = -1.0 if kind == "mass" else 1.0
+        sense = -1.0 if kind in MINIMIZED else 1.0
         return SizingResult(
             "time_limit",
             kind,
@@ -361,6 +387,13 @@ def _check_objective_cases(project, kind: str) -> None:
             "objective payload (the payload mass every case carries) "
             "needs a payload or stance case with payload_share > 0",
         )
+    if kind == "margin" and not margin_cases(project):
+        raise InputError(
+            str(project.file),
+            "case",
+            "objective margin needs a payload or stance case with payload_min > 0, or "
+            "[objective] cases naming cases with requirements",
+        )
     if kind == "imf" and not (
         project.robot.n_base == 6 and any(c.kind == "impact" for c in project.cases)
     ):
@@ -386,7 +419,7 @@ def finish(
     if not isinstance(plan, Plan):
         plan = Plan(start, plan, explain)
     phase = phase or (lambda text: None)
-    sense = -1.0 if kind == "mass" else 1.0
+    sense = -1.0 if kind in MINIMIZED else 1.0
     options = {
         j: int(c.size) for j, c in zip(project.robot.actuated, model.candidates, strict=True)
     }
@@ -453,8 +486,8 @@ def finish(
 
 
 def _message(status, kind, value, diag) -> str:
-    unit = {"payload": "kg", "mass": "kg", "imf": ""}[kind]
-    kind = "payload mass" if kind == "payload" else kind
+    unit = {"payload": "kg", "mass": "kg", "imf": "", "cost": "", "margin": ""}[kind]
+    kind = {"payload": "payload mass", "margin": "smallest normalized margin"}.get(kind, kind)
     if status == "optimal":
         return f"proven optimum over the discrete options: {kind} {value:.6g} {unit}".rstrip()
     if status == "time_limit" and value is None:

@@ -51,6 +51,7 @@ SHOWN = {
         ("acceleration", "acceleration along the direction from rest, with the load", "m/s²"),
         ("speed_no_load", "no-load speed (motor top speed / ratio; for reference only)", "m/s"),
     ],
+    "torque": [("torque_ratio", "smallest achieved ÷ required joint torque", "")],
     "duty": [
         ("rating_use", "largest rating use over joints (100 % = a rating fully used)", "%"),
         ("cycle_energy_no_regen", "electrical energy per cycle, no regeneration", "J"),
@@ -151,9 +152,21 @@ def print_assessment(a) -> None:
                 rows.append([label, num(value, unit)])
         extra = []
         if c.kind in ("payload", "stance") and c.metrics.get("payload") not in (None, "inf"):
+            carried = c.metrics.get("payload_carried")
             rows.append(
-                ["as a mass at standard gravity", num(float(c.metrics["payload"]) / 9.80665, "kg")]
+                [
+                    "payload mass it carries, (F − fixed load)/(share·g_n)",
+                    "— (share 0: the load does not grow with the payload)"
+                    if carried is None or carried == float("inf")
+                    else num(carried, "kg"),
+                ]
             )
+        if c.kind == "torque":
+            rows += [
+                [f"achieved ÷ required at {k.split(':', 1)[1]}", num(v, "")]
+                for k, v in c.metrics.items()
+                if k.startswith("torque_ratio:")
+            ]
         if c.kind == "stance":
             rows += [
                 [f"ground force on {k.split(':', 1)[1]} (vertical)", num(v, "N")]
@@ -259,6 +272,23 @@ def print_assessment(a) -> None:
             else None,
         )
     )
+    if a.regions:
+        con.print(
+            table(
+                "Regions of poses: the worst pose decides",
+                ["region case", "poses", "worst pose", "its margin", "joint positions"],
+                [
+                    [
+                        name,
+                        str(r["poses"]),
+                        r["case"],
+                        pct(r["margin"]),
+                        ", ".join(f"{j} {v:.4g}" for j, v in r["pose"].items()),
+                    ]
+                    for name, r in a.regions.items()
+                ],
+            )
+        )
     for text in a.cautions:
         con.print(f"[yellow]caution:[/yellow] {text}")
 

@@ -18,7 +18,7 @@ from ..project import load_project
 from ._format import console, emit_json, num, pct, requirement_num, table
 from ._output import check_target, project_inputs, write_text
 
-UNITS = {"payload": "kg", "mass": "kg", "imf": ""}
+UNITS = {"payload": "kg", "mass": "kg", "imf": "", "cost": "", "margin": ""}
 
 
 class Progress:
@@ -160,7 +160,7 @@ def print_result(r, project=None) -> None:
 @click.argument("project", type=click.Path(path_type=Path))
 @click.option(
     "--objective",
-    type=click.Choice(["payload", "mass", "imf"]),
+    type=click.Choice(["payload", "margin", "mass", "cost", "imf"]),
     default=None,
     help="default: the project's [objective] maximize, else payload",
 )

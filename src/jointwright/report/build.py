@@ -84,6 +84,9 @@ def build_report(
         plots.ratio_section(project, evaluator, arrays, fig_dir),
         plots.sensitivity_section(project, evaluator, arrays, fig_dir, sens=sens),
     ]
+    region = plots.region_section(project, a, fig_dir)
+    if region is not None:
+        parts.append(region)
     duties = plots.duty_data(evaluator, arrays, a) + list(duty or [])
     parts += [hooks.duty_section(d, fig_dir) for d in duties]
     if study is not None:

@@ -17,7 +17,7 @@ import numpy as np
 from matplotlib import rc_context
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
-from matplotlib.ticker import NullFormatter
+from matplotlib.ticker import MaxNLocator, NullFormatter
 
 #: power-flow modes: colour, line style, legend label
 MODE_STYLE = {
@@ -405,4 +405,44 @@ def frontier_figure(
     _label(ax, x_label, y_label)
     _title(ax, title)
     _legend(fig, [ax], ncols=3)
+    return fig
+
+
+def region_figure(
+    margins, worst: int, chain, tip, direction, *, title: str, plane: tuple[int, int] = (0, 2)
+) -> Figure:
+    """A region case: its smallest requirement margin per pose (worst marked), and a side view
+    of the robot at the worst pose (joint origins joined parent to child, the tip and the
+    case's direction)."""
+    fig, (ax, side) = _figure(ncols=2, height=3.8)
+    k = np.arange(len(margins))
+    m = 100.0 * np.asarray(margins, dtype=float)
+    ax.plot(k, m, "o-", color=JOINT_COLOURS[0], ms=3, lw=1, label="smallest margin at the pose")
+    ax.axhline(0.0, color=INK, lw=0.8, ls=":")
+    ax.plot([worst], [m[worst]], "o", ms=9, mfc="none", mec="#c0392b", mew=1.6, label="worst pose")
+    ax.xaxis.set_major_locator(MaxNLocator(integer=True))
+    _label(ax, "pose index in the region", "margin (%)")
+    _title(ax, title, 40)
+    i, j = plane
+    for a, b in chain:
+        side.plot([a[i], b[i]], [a[j], b[j]], "-", color=INK, lw=2)
+        side.plot([b[i]], [b[j]], "o", color=JOINT_COLOURS[1], ms=4)
+    side.plot([tip[i]], [tip[j]], "s", color="#c0392b", ms=6, label="case frame")
+    span = max(
+        1e-3,
+        max(abs(p[i]) for seg in chain for p in seg),
+        max(abs(p[j]) for seg in chain for p in seg),
+    )
+    d = np.asarray(direction, dtype=float)
+    side.annotate(
+        "",
+        xy=(tip[i] + 0.25 * span * d[i], tip[j] + 0.25 * span * d[j]),
+        xytext=(tip[i], tip[j]),
+        arrowprops={"arrowstyle": "->", "color": "#c0392b", "lw": 1.4},
+    )
+    side.set_aspect("equal", adjustable="datalim")
+    names = "xyz"
+    _label(side, f"{names[i]} (m)", f"{names[j]} (m)")
+    _title(side, "worst pose, side view", 40)
+    _legend(fig, [ax, side])
     return fig

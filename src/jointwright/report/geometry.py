@@ -105,16 +105,26 @@ def polytope_sections(evaluator, arrays, payload) -> list[PolytopeSection]:
         if pc.case.kind != "payload":
             continue
         c = pc.case
-        key = (c.frame, tuple(sorted(c.pose.items())), c.base_xyz, c.base_rpy)
+        # a wrench case (offset, moment) has its own polytope: the force acts at the offset point
+        # and the fixed moment's torques join the bias (metrics.loads)
+        key = (c.frame, tuple(sorted(c.pose.items())), c.base_xyz, c.base_rpy, c.offset, c.moment)
         groups.setdefault(key, []).append(pc)
     caps = {m: arrays.capacity(m)[0] for m in MODES}
     out = []
     for pcs in groups.values():
         first = pcs[0]
-        plane = plane_for([p.u for p in pcs], first.Jj)
-        B = _basis(plane)
-        J2 = B.T @ first.Jj
+        Jp = first.Jj
         bias = gravity(first.basis, arrays.mass)[0][evaluator.v_index]
+        if first.load_a is not None:
+            J6 = first.basis.J[0]
+            r = np.asarray(first.case.offset, dtype=float)
+            skew = np.array([[0.0, -r[2], r[1]], [r[2], 0.0, -r[0]], [-r[1], r[0], 0.0]])
+            # velocity of the offset point: v + ω × r = (J_v − [r]×·J_ω)·q̇
+            Jp = (J6[:3] - skew @ J6[3:])[:, evaluator.v_index]
+            bias = bias + first.tau_fixed[evaluator.v_index]
+        plane = plane_for([p.u for p in pcs], Jp)
+        B = _basis(plane)
+        J2 = B.T @ Jp
         verts, clipped = {}, {}
         for mode in MODES:
             poly = force_polytope(J2, -caps[mode], caps[mode], bias)

@@ -32,8 +32,9 @@ def _need(data, key: str, kind, file: str, where: str):
     return value
 
 
-#: unit of the sizing objective per kind (payload N, total mass kg, IMF dimensionless)
-OBJECTIVE_UNITS = {"payload": "N", "mass": "kg", "imf": ""}
+#: unit of the sizing objective per kind (payload mass kg, total mass kg, cost in the catalog's
+#: currency, IMF and normalized margin dimensionless)
+OBJECTIVE_UNITS = {"payload": "kg", "mass": "kg", "imf": "", "cost": "", "margin": ""}
 
 
 def _optional(data, key: str, file: str, where: str):

@@ -262,3 +262,93 @@ def duty_data(evaluator, arrays, a: dict) -> list[dict]:
             }
         )
     return out
+
+
+REGION_GUIDE = (
+    "A case over a region of poses (a list, a grid over joint ranges or trajectory samples) must "
+    "meet its requirements at every pose. Left: the smallest requirement margin of the case at "
+    "each pose, in region order; the circled pose is the worst, the one that decides. Right: the "
+    "robot at that pose seen from the side (x–z plane, joint origins joined parent to child), "
+    "with the case's frame and direction."
+)
+
+
+def _robot_chain(robot, case):
+    """Joint-origin segments (parent, child) and the case frame's position at the case's pose."""
+    import pinocchio as pin
+
+    model = robot.model
+    data = model.createData()
+    q = robot.configuration(case.pose, case.base_xyz, case.base_rpy)
+    pin.forwardKinematics(model, data, q)
+    pin.updateFramePlacements(model, data)
+    chain = []
+    for jid in range(1, model.njoints):
+        parent = model.parents[jid]
+        chain.append(
+            (
+                np.array(data.oMi[parent].translation),
+                np.array(data.oMi[jid].translation),
+            )
+        )
+    fid = robot.frame_id(case.frame)
+    tip = np.array(data.oMf[fid].translation)
+    chain.append((np.array(data.oMi[model.frames[fid].parentJoint].translation), tip))
+    return chain, tip
+
+
+def region_section(project, a: dict, fig_dir: Path) -> Section | None:
+    """The worst pose of every region case: margins over the region and the pose drawn."""
+    regions = a.get("regions") or {}
+    if not regions:
+        return None
+    parts = [paragraph(REGION_GUIDE)]
+    rows = []
+    for k, (name, info) in enumerate(regions.items()):
+        members = [c for c in project.cases if c.region == name]
+        per = {}
+        for c in a["checks"]:
+            m = c["margin"]
+            m = {"inf": np.inf, "-inf": -np.inf}.get(m, m) if isinstance(m, str) else m
+            per[c["subject"]] = min(per.get(c["subject"], np.inf), float(m))
+        margins = [per.get(c.name, np.inf) for c in members]
+        worst = project.case(info["case"])
+        rows.append(
+            [
+                name,
+                str(info["poses"]),
+                worst.name,
+                Cell(fmt(100.0 * float(info["margin"]), "%"), "num"),
+                ", ".join(f"{j} {number(v, 4)}" for j, v in worst.pose.items()),
+            ]
+        )
+        if worst.frame is None or not np.all(np.isfinite(margins)):
+            continue
+        chain, tip = _robot_chain(project.robot, worst)
+        fig = figures.region_figure(
+            margins,
+            int(info["index"]),
+            chain,
+            tip,
+            worst.direction or (0.0, 0.0, 0.0),
+            title=f"{name}: smallest margin per pose",
+        )
+        fname = f"region-{k + 1}"
+        png = figures.save(fig, fig_dir, fname)
+        parts.append(
+            figure(
+                png,
+                fname,
+                f"Region {name}",
+                f"Case {name} over {info['poses']} poses; worst pose {worst.name} "
+                f"(margin {fmt(100.0 * float(info['margin']), '%')}).",
+            )
+        )
+    parts.insert(
+        1,
+        table(
+            ["region case", "poses", "worst pose", "its margin", "joint positions (rad or m)"],
+            rows,
+        ),
+    )
+    return Section("regions", "Regions of poses: the worst pose", "".join(parts))

@@ -17,6 +17,7 @@ G0 = 9.80665  # m/s², standard gravity (ISO 80000-3), for weight-equivalent pay
 CASE_METRICS = {
     "payload": (
         ("payload", "payload along the direction, case motion", "N"),
+        ("payload_carried", "payload mass it carries, (F − fixed load)/(share·g_n)", "kg"),
         ("payload_raise", "… tip moving along the force", "N"),
         ("payload_lower", "… tip yielding to the force", "N"),
         ("payload_hold", "… holding still", "N"),
@@ -24,6 +25,7 @@ CASE_METRICS = {
     ),
     "stance": (
         ("payload", "payload carried by the body, case motion", "N"),
+        ("payload_carried", "payload mass it carries, (F − fixed load)/(share·g_n)", "kg"),
         ("payload_frictionless", "… frictionless gears (reference)", "N"),
     ),
     "impact": (
@@ -38,6 +40,7 @@ CASE_METRICS = {
     ),
     "backdrive": (("backdrive_force", "tip force that starts the unpowered robot moving", "N"),),
     "speed": (("speed", "end-point speed along the direction", "m/s"),),
+    "torque": (("torque_ratio", "smallest achieved ÷ required joint torque", ""),),
 }
 
 
@@ -50,7 +53,8 @@ def job_section(project) -> Section:
     rows = []
     for c in project.cases:
         limits = ", ".join(
-            f"{k.replace('_', ' ')} {_limit_text(k, v)}" for k, v in c.limits.items()
+            f"{k.replace('_', ' ')} {_limit_text(k, v)}{_as_payload_mass(c, k, v)}"
+            for k, v in c.limits.items()
         )
         direction = (
             "—" if c.direction is None else "(" + ", ".join(number(x, 3) for x in c.direction) + ")"
@@ -108,6 +112,14 @@ def _budgets(req) -> list[str]:
     return out
 
 
+def _as_payload_mass(case, key: str, value) -> str:
+    """A payload or stance case's payload_min read as the payload mass it means, in words."""
+    if key != "payload_min" or case.kind not in ("payload", "stance") or case.payload_share <= 0:
+        return ""
+    mass = (value - case.fixed_load) / (case.payload_share * G0)
+    return f" (payload mass {fmt(mass, 'kg')})"
+
+
 def _limit_text(key: str, value) -> str:
     """A case limit with its unit; a rating use (a fraction) in %."""
     if key in ("rating_use_max", "shock_use_max"):
@@ -121,6 +133,7 @@ def _limit_unit(key: str) -> str:
         "effective_mass_max": "kg",
         "backdrive_force_max": "N",
         "speed_min": "m/s",
+        "acceleration_min": "m/s²",
         "temperature_margin_min": "°C",
         "rating_use_max": "",
     }.get(key, "")
@@ -503,10 +516,18 @@ def cases_section(a: dict) -> Section:
                 for k in c["metrics"]
                 if k.startswith("normal_force:")
             ]
+        if c["kind"] == "torque":
+            shown += [
+                (k, f"achieved ÷ required at {k.split(':', 1)[1]}", "")
+                for k in c["metrics"]
+                if k.startswith("torque_ratio:")
+            ]
         rows = [
             [label, Cell(fmt(c["metrics"][k], unit), "num", (("case", c["name"]), ("metric", k)))]
             for k, label, unit in shown
+            # a share-0 case carries no payload mass: its +inf is not shown as a mass
             if c["metrics"].get(k) is not None
+            and not (k == "payload_carried" and c["metrics"][k] == "inf")
         ]
         parts.append(head + table(["metric", "value"], rows, caption="; ".join(_case_notes(c))))
     return Section("cases", "Every case", "".join(parts))

@@ -19,9 +19,11 @@ from ..units import registry
 
 #: sizing objective kind -> (label, unit, which is better)
 OBJECTIVES: dict[str | None, tuple[str, str, str | None]] = {
-    "payload": ("largest worst-case payload", "N", "max"),
+    "payload": ("payload mass every case carries", "kg", "max"),
     "mass": ("least actuator mass", "kg", "min"),
     "imf": ("best impact mitigation factor", "", "max"),
+    "cost": ("least actuator cost", "", "min"),
+    "margin": ("smallest normalized margin", "", "max"),
 }
 #: frontier measure -> unit
 MEASURE_UNITS = {"imf": "", "effective_mass": "kg", "backdrive_force": "N"}

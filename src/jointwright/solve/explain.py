@@ -11,7 +11,7 @@ from typing import Callable
 
 import numpy as np
 
-from ..problem import checks, feasible
+from ..problem import MINIMIZED, checks, feasible
 from ..project import STANDARD_GRAVITY, JointLimits, Requirements
 from .result import Alternative, Diagnosis, SolveOutcome
 
@@ -85,7 +85,7 @@ def alternatives(
 
     table = model.table
     out = []
-    sense = -1.0 if model.kind == "mass" else 1.0
+    sense = -1.0 if model.kind in MINIMIZED else 1.0
     costly = bool(model.duty or model.stance)
     names = project.robot.actuated
     for unit in _units(model):
@@ -319,7 +319,7 @@ def diagnose(
     budget_end = time.perf_counter() + min(DIAGNOSIS_BUDGET, 4 * (time_limit or DIAGNOSIS_BUDGET))
     if deadline is not None and time_limit is not None:  # a time limit bounds the whole run
         budget_end = min(budget_end, deadline)
-    sense_ = -1.0 if kind == "mass" else 1.0
+    sense_ = -1.0 if kind in MINIMIZED else 1.0
     sense = {
         "payload_min": "min",
         "imf_min": "min",

@@ -21,19 +21,15 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..evaluate import Evaluator
+from ..metrics.loads import MOTION_SIGN, torque_ratio
 from ..metrics.payload import torque_bounds
-from ..problem import carried_payload, checks, feasible, objective
+from ..problem import checks, feasible, objective, objective_names, objective_transform
 
 #: designs whose duty cases are checked per oracle call
 DUTY_CHUNK = 32
 
 #: relative tolerance under which two objective (or mass) values count as a tie
 TIE_TOLERANCE = 1e-9
-
-
-def _carried(case):
-    """The increasing map from a payload case's force bound to the payload mass it carries."""
-    return lambda f: carried_payload(case, f)
 
 
 def tie_tol(value: float) -> float:
@@ -72,14 +68,17 @@ class SizingModel:
     project : Project
     table : OptionTable
     candidates : list of int arrays, per joint
-    kind : "payload", "mass" or "imf"
+    kind : "payload", "margin", "mass", "cost", "imf" or "metric@case" (frontier)
     shared : list of tuples of joint indices that must take the same option
     """
 
     def __init__(self, project, table, candidates, kind="payload", shared=()):
         self.project = project
         self.table = table
-        self.kind = kind
+        #: the user's objective; "margin" runs on the payload machinery with its own per-case
+        #: transform (case_value), so every payload bound below serves it unchanged
+        self.objective_kind = kind
+        self.kind = "payload" if kind == "margin" else kind
         self.n = len(project.robot.actuated)
         self.shared = tuple(tuple(g) for g in shared)
         #: "metric@case" kinds (frontier): maximize sign·metric of one case
@@ -107,7 +106,12 @@ class SizingModel:
         )
         # the payload objective is the payload mass every case carries: each case's force bound
         # goes through its own increasing transform (problem.carried_payload) before the min
-        self.carry = tuple(_carried(project.case(t.name)) for t in self.payload)
+        names = objective_names(project, self.objective_kind)
+        by_name = {c.name: c for c in project.cases}
+        self.carry = tuple(
+            objective_transform(project, self.objective_kind, by_name[t.name], names)
+            for t in self.payload
+        )
         self.candidates = [np.asarray(c, dtype=np.int64) for c in candidates]
         self.reflected = table.reflected_backdriven
         self.mass = table.rows["mass"]
@@ -128,6 +132,9 @@ class SizingModel:
         from .duty_bound import DutyBound
 
         self.duty_bound = DutyBound(self.evaluator, table)
+        #: torque cases: (joint, options that carry its torque with the case's factor) per named
+        #: joint; a per-joint requirement, so a unit's option that misses it fails every completion
+        self.torque_ok = self._torque_terms(project)
         req = project.requirements
         self.total_mass_max = req.total_mass_max
         self.total_cost_max = req.total_cost_max
@@ -154,15 +161,41 @@ class SizingModel:
         sign = {"along": along, "against": -along, "hold": np.zeros_like(along)}[pc.case.motion]
         lo, hi = torque_bounds(np.broadcast_to(sign, (n_options, self.n)), cap_m, cap_b)
         vi = np.asarray(pc.basis.v_index)
+        a = pc.Jj.T @ (pc.u / np.linalg.norm(pc.u))
+        g0 = np.asarray(pc.basis.g0)[vi]
+        if getattr(pc, "load_a", None) is not None:  # a wrench case (metrics.loads)
+            a, g0 = pc.load_a[vi], g0 + pc.tau_fixed[vi]
         return PayloadTerms(
             name=pc.case.name,
-            a=pc.Jj.T @ (pc.u / np.linalg.norm(pc.u)),
-            g0=np.asarray(pc.basis.g0)[vi],
+            a=a,
+            g0=g0,
             G=np.asarray(pc.basis.g_mass)[:, vi],
             lo=np.asarray(lo).T.copy(),
             hi=np.asarray(hi).T.copy(),
             minimum=float(pc.case.limits.get("payload_min", 0.0)),
         )
+
+    def _torque_terms(self, project) -> tuple:
+        cases = [c for c in project.cases if c.kind == "torque"]
+        if not cases:
+            return ()
+        n_opt = len(self.table)
+        arr = self.table.arrays(np.repeat(np.arange(n_opt)[:, None], self.n, axis=1))
+        cap_m, cap_b = arr.capacity("motoring"), arr.capacity("backdriven")
+        names = list(project.robot.actuated)
+        out = []
+        for c in cases:
+            limit = c.limits.get("torque_ratio_min", 1.0)
+            for (jn, tau), (_, motion) in zip(c.joint_torques, c.joint_motions, strict=True):
+                j = names.index(jn)
+                r = torque_ratio(
+                    np.array([tau]),
+                    np.array([MOTION_SIGN[motion]]),
+                    cap_m[:, j : j + 1],
+                    cap_b[:, j : j + 1],
+                )[:, 0]
+                out.append((j, r >= limit * (1 - 1e-12)))  # the check's own tolerance
+        return tuple(out)
 
     # ------------------------------------------------------------------------------------------
     def score(self, index: np.ndarray, *, full: bool = True) -> Scored:
@@ -189,12 +222,12 @@ class SizingModel:
         if self.measure is not None:
             metric, case, sign = self.measure
             f = sign * np.asarray(ev[case][metric], dtype=float)
-        elif self.kind == "payload" and not any(
+        elif self.objective_kind == "payload" and not any(
             c.kind in ("payload", "stance") for c in project.cases
         ):
             f = np.full(index.shape[0], np.inf)  # screen without stance cases: no payload bound yet
         else:
-            f = np.asarray(objective(project, arrays, ev, self.kind), dtype=float)
+            f = np.asarray(objective(project, arrays, ev, self.objective_kind), dtype=float)
         f = np.where(np.isnan(f), -np.inf, f)
         refl = arrays.reflected_inertia("backdriven").sum(axis=1)
         return Scored(index, f, ok, arrays.mass.sum(axis=1), refl)
@@ -432,6 +465,9 @@ class SizingModel:
         if math.isfinite(self.total_cost_max):
             cost_lb = self.cost[idx[A]].sum() + st["cmin"][F].sum() + len(unit) * self.cost[options]
             ok &= cost_lb <= self.total_cost_max * (1 + 1e-9)
+        for j, good in self.torque_ok:
+            if j in unit:
+                ok &= good[options]
         worst = np.full(K, np.inf)
         b_lo = []
         for c, t in enumerate(self.payload):
@@ -455,6 +491,8 @@ class SizingModel:
             f = worst
         elif self.kind == "mass":
             f = -mass_lb
+        elif self.kind == "cost":  # cost is separable per joint like mass: a lower bound
+            f = -(self.cost[idx[A]].sum() + st["cmin"][F].sum() + len(unit) * self.cost[options])
         elif self.measure is not None and self.measure[0] == "backdrive_force":
             pc = next(p for p in self.evaluator.cases if p.case.name == self.measure[1])
             absa = np.abs(pc.Jj.T @ (pc.u / np.linalg.norm(pc.u)))

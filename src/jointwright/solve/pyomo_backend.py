@@ -31,7 +31,7 @@ import time
 import numpy as np
 
 from ..errors import InputError
-from ..project import STANDARD_GRAVITY
+from ..problem import force_for_objective, objective_names
 from .model import SizingModel, tie_tol
 from .result import SolveOutcome
 
@@ -89,13 +89,16 @@ def build_milp(model: SizingModel, units, deadline=math.inf):
         m.budget.add(total(model.cost) <= model.total_cost_max)
     m.s = pe.Var(bounds=(0, None))
     m.torque = pe.ConstraintList()
+    names = objective_names(model.project, model.objective_kind)
+    by_name = {c.name: c for c in model.project.cases}
     for t in model.payload:
-        case = model.project.case(t.name)  # m.s is the payload mass (kg): the force it needs
-        levels = (
-            [case.fixed_load + case.payload_share * STANDARD_GRAVITY * m.s]
-            if model.kind == "payload" and case.payload_share > 0
-            else []
+        case = by_name[t.name]  # m.s is the payload mass (kg): the force it needs
+        need = (
+            force_for_objective(model.project, model.objective_kind, case, m.s, names)
+            if model.kind == "payload"
+            else None
         )
+        levels = [] if need is None else [need]
         if t.minimum > 0:
             levels.append(t.minimum)  # the case's own requirement payload_c ≥ payload_min
         for j in range(n):
@@ -120,6 +123,8 @@ def build_milp(model: SizingModel, units, deadline=math.inf):
     if model.kind == "payload":
         m.obj = pe.Objective(expr=m.s, sense=pe.maximize)
         m.s.setub(BIG)
+    elif model.kind == "cost":
+        m.obj = pe.Objective(expr=total(model.cost), sense=pe.minimize)
     else:
         m.obj = pe.Objective(expr=total(model.mass), sense=pe.minimize)
     m.cuts = pe.ConstraintList()
@@ -170,12 +175,12 @@ def solve_pyomo(model: SizingModel, units, *, time_limit=None, max_rounds=10_000
     import pyomo.environ  # noqa: F401  (registers the solvers)
     from pyomo.contrib.solver.common.factory import SolverFactory
 
-    if model.kind == "imf":
+    if model.kind == "imf" or model.objective_kind == "margin":
         raise InputError(
             "<api>",
             "backend",
-            "the pyomo back-end handles the payload and mass objectives; "
-            "use backend search for imf",
+            "the pyomo back-end handles the payload, mass and cost objectives; "
+            "use backend search for imf and margin",
         )
     start = time.perf_counter()
     deadline = math.inf if time_limit is None else start + time_limit

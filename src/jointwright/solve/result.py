@@ -78,7 +78,7 @@ class SizingResult:
     """The answer of :func:`jointwright.sizing.size`.
 
     status : "optimal", "time_limit", "infeasible" or "error"
-    objective_kind : "payload", "mass" or "imf"
+    objective_kind : "payload", "margin", "mass", "cost" or "imf"
     design : Design or None
     assessment : Assessment of ``design`` by the numpy physics, or None
     objective : achieved objective (payload N; total mass kg for "mass"; IMF)

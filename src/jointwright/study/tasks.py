@@ -4,8 +4,8 @@ Called by the runner in a worker process as ``run_case(project, base_dir, task, 
 ``project`` is the base project's TOML as a dict with the case's values set. The project is
 validated like any project file (a bad value fails the case with its one-line message).
 
-options (all optional): ``objective`` (payload / mass / imf), ``backend`` (search / pyomo),
-``time_limit`` (s per case), ``measure`` and ``points`` for frontier tasks.
+options (all optional): ``objective`` (payload / margin / mass / cost / imf), ``backend``
+(search / pyomo), ``time_limit`` (s per case), ``measure`` and ``points`` for frontier tasks.
 """
 
 from __future__ import annotations
@@ -20,7 +20,7 @@ _OPTIONS = {"objective", "backend", "time_limit", "measure", "points", "case"}
 
 
 _CHOICES = {
-    "objective": ("payload", "mass", "imf"),
+    "objective": ("payload", "margin", "mass", "cost", "imf"),
     "backend": ("search", "pyomo"),
     "measure": ("imf", "effective_mass", "backdrive_force"),
 }
@@ -147,6 +147,8 @@ def _size(p, options: dict) -> dict:
         for c in a.cases:
             for key in (
                 "payload",
+                "payload_carried",
+                "torque_ratio",
                 "imf",
                 "effective_mass",
                 "speed",
