@@ -98,7 +98,8 @@ class StageChoice:
         if band is None:
             f, b = self.efficiencies
             return f, f, b, b
-        return tuple(float(x) for x in band.ends(np.asarray(self.ratio, dtype=float)))
+        f_lo, f_hi, b_lo, b_hi = band.ends(np.asarray(self.ratio, dtype=float))
+        return float(f_lo), float(f_hi), float(b_lo), float(b_hi)
 
     def label(self) -> str:
         return f"{self.stage.name}/{self.frame.name} {self.ratio:g}:1"

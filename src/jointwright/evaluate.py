@@ -33,8 +33,8 @@ from __future__ import annotations
 import os
 import threading
 from concurrent.futures import ThreadPoolExecutor
-from dataclasses import dataclass, fields
-from typing import cast
+from dataclasses import dataclass, field, fields
+from typing import Any, cast
 
 import numpy as np
 
@@ -78,7 +78,7 @@ PARALLEL_MIN = 2048
 _LOCAL = threading.local()
 
 
-def _join(values: list[object], sizes: list[int]) -> object:
+def _join(values: list, sizes: list[int]) -> Any:
     """Per-design results of consecutive design slices joined along the design axis."""
     per_design = all(
         isinstance(v, np.ndarray) and v.ndim and v.shape[0] == n
@@ -107,12 +107,12 @@ class PreparedCase:
     basis: PoseBasis
     J: np.ndarray  # (3, nv) tip point Jacobian, world axes
     Jj: np.ndarray  # (3, n_act) columns of the actuated joints
-    u: np.ndarray | None  # (3,) unit direction
+    u: np.ndarray  # (3,) unit direction (zeros for a case without one: duty, stance)
     velocity_sign: np.ndarray  # (n_act,) for payload and stance cases
     contact_J: np.ndarray | None = None  # stance: (k, 3, nv) contact point Jacobians
     #: speed cases: (1 + n_act, n_act) Coriolis and centrifugal torques at the actuated joints per
     #: (end-point speed)², links only (row 0) and per kg of each actuator's mass (rows 1...)
-    speed_terms: np.ndarray | None = None
+    speed_terms: np.ndarray = field(default_factory=lambda: np.zeros((0, 0)))
     #: payload and stance cases with a ``moment`` or ``offset`` (metrics.loads): joint torques
     #: per newton of the case's force, (nv,), and the fixed moment's joint torques, (nv,)
     load_a: np.ndarray | None = None
@@ -169,7 +169,7 @@ class Evaluator:
         basis = pose_basis(robot, q, [case.frame] + contact_frames)
         J = basis.J[0, :3, :]
         Jj = J[:, self.v_index]
-        u = np.asarray(case.direction, dtype=float) if case.direction is not None else None
+        u = np.asarray(case.direction if case.direction is not None else (0.0, 0.0, 0.0), float)
         sign = np.zeros(len(self.v_index))
         if case.kind == "payload" and case.motion != "hold":
             qd = np.linalg.pinv(Jj) @ u
@@ -179,7 +179,7 @@ class Evaluator:
         contact_J = basis.J[1:, :3, :] if case.kind == "stance" else None
         if case.kind == "stance" and case.motion != "hold":
             sign = _stance_velocity_sign(contact_J, J, u, case.motion, self.v_index)
-        speed_terms = _speed_terms(robot, q, Jj, u) if case.kind == "speed" else None
+        speed_terms = _speed_terms(robot, q, Jj, u) if case.kind == "speed" else np.zeros((0, 0))
         load_a = tau_fixed = None
         if case.kind in ("payload", "stance") and case.has_wrench:
             J6 = basis.J[0]
@@ -369,7 +369,7 @@ class Evaluator:
         if pc.load_a is not None:  # a wrench (metrics.loads): force at the offset, fixed moment
             g = g + pc.tau_fixed
             p_jac = pc.basis.J[0]
-            p_wrench = -np.concatenate([pc.u, np.cross(pc.case.offset, pc.u)])
+            p_wrench = -np.concatenate([pc.u, np.cross(np.asarray(pc.case.offset), pc.u)])
         lo, hi = torque_bounds(
             np.broadcast_to(pc.velocity_sign, d.mass.shape),
             d.capacity("motoring"),
@@ -456,7 +456,7 @@ class Evaluator:
         reading of E_f⁻¹·M + R per joint power-flow sign (metrics.inertia.forward_effective_mass);
         it has no IMF (an impact back-drives the joints).
         """
-        out = {}
+        out: dict[str, Any] = {}
         nv = self.robot.nv
         # locked in an impact: held joints always, self-locking transmissions back-driven
         structure = np.zeros(d.self_locking.shape[:-1] + (nv,), dtype=bool)

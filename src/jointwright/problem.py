@@ -229,8 +229,9 @@ def normalized_margin(case, evaluation) -> np.ndarray | None:
 def smallest_margin(project, evaluation) -> np.ndarray:
     """The smallest normalized margin over :func:`margin_cases` (cases not evaluated, e.g. a
     screen without stance cases, are left out, which can only raise it), (D,)."""
-    values = [normalized_margin(c, evaluation) for c in margin_cases(project)]
-    values = [v for v in values if v is not None]
+    values = [
+        v for c in margin_cases(project) if (v := normalized_margin(c, evaluation)) is not None
+    ]
     if not values:
         d = next(iter(evaluation.values()))
         size = np.asarray(next(iter(d.values()))).shape[0] if d else 1
@@ -282,7 +283,7 @@ def payload_mass(project, evaluation) -> np.ndarray:
         if c.name in evaluation
     ]
     if not values:  # only stance cases set it and this is a screen without them: no bound yet
-        d = next(iter(evaluation.values()), {})
+        d: dict = next(iter(evaluation.values()), {})
         size = np.asarray(next(iter(d.values()))).shape[0] if d else 1
         return np.full(size, np.inf)
     return np.min(values, axis=0)

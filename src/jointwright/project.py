@@ -686,8 +686,8 @@ def _load_case(
         life_share=life_share,
         impact_speed=impact_speed,
         restitution=restitution,
-        moment=tuple(float(x) for x in moment),
-        offset=tuple(float(x) for x in offset),
+        moment=(float(moment[0]), float(moment[1]), float(moment[2])),
+        offset=(float(offset[0]), float(offset[1]), float(offset[2])),
     )
 
 

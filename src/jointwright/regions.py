@@ -113,7 +113,7 @@ def _pose_list(t: Table, robot, named, read_pose) -> list[dict[str, float]]:
 
 def _grid(t: Table, robot, named, read_pose) -> list[dict[str, float]]:
     g = t.table("grid")
-    base = _base_pose(t, robot, named, read_pose, required=True)
+    base = _base_pose(t, robot, named, read_pose, required=True) or {}
     if not g.data:
         raise InputError(t.file, t.field("grid"), "must name at least one joint")
     axes: list[tuple[str, np.ndarray]] = []

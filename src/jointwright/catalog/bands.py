@@ -25,6 +25,7 @@ import dataclasses
 import itertools
 import math
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -47,7 +48,7 @@ class EfficiencyBand:
     intervals : parameter name -> (low, high), for describing the band
     """
 
-    nominal: object
+    nominal: Any  # an efficiency model (catalog.efficiency): pair(ratio)
     corners: tuple = ()
     forward_change: tuple[float, float] = (0.0, 0.0)
     backward_change: tuple[float, float] = (0.0, 0.0)

@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import MISSING, dataclass, field
-from typing import Any, ClassVar
+from typing import TYPE_CHECKING, Any, ClassVar
 
 import numpy as np
 
@@ -246,8 +246,13 @@ class _SlidingThread:
     Subclasses provide ``lead_angle_rad`` (λ) and ``friction_angle_tan`` (f').
     """
 
-    lead_angle_rad: float
-    friction_angle_tan: float
+    if TYPE_CHECKING:  # read-only properties of the subclasses
+
+        @property
+        def lead_angle_rad(self) -> float: ...
+
+        @property
+        def friction_angle_tan(self) -> float: ...
 
     def _check_drivable(self) -> None:
         """η_f > 0 needs λ + φ < 90°, i.e. f'·tan λ < 1."""
@@ -331,6 +336,7 @@ class ScrewEfficiency(_SlidingThread):
         """λ, rad."""
         if self.lead_angle is not None:
             return self.lead_angle
+        assert self.lead is not None and self.mean_diameter is not None  # checked on creation
         return math.atan(self.lead / (math.pi * self.mean_diameter))
 
     @property
@@ -549,7 +555,7 @@ def efficiency_from_dict(d: dict, *, file: str, field: str):
         raise InputError(
             file, f"{field}.model", f"must be one of {', '.join(MODELS)}; got {got}{hint}"
         )
-    cls = MODELS[name]
+    cls: Any = MODELS[name]
     kwargs: dict[str, Any] = {}
     for key, value in d.items():
         if key == "model":

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
-from typing import Protocol, runtime_checkable
+from typing import Any, Protocol, runtime_checkable
 
 import numpy as np
 
@@ -170,7 +170,7 @@ class StageType:
     #: no frame states a rated life
     life_exponent: float | None = None
     #: the band the efficiencies move over (catalog.bands.EfficiencyBand); None: no band
-    efficiency_band: object | None = None
+    efficiency_band: Any = None  # catalog.bands.EfficiencyBand | None
 
     def frame(self, name: str) -> StageFrame:
         for f in self.frames:

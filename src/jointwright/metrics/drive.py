@@ -37,7 +37,12 @@ def envelope_uses(
     """
     tau, w = abs(float(torque)), abs(float(speed))
     out = {"torque": tau / peak_torque, "speed": w / max_speed if max_speed > 0 else math.inf}
-    if None not in (torque_constant, resistance, bus_voltage) and math.isfinite(bus_voltage):
+    if (
+        torque_constant is not None
+        and resistance is not None
+        and bus_voltage is not None
+        and math.isfinite(bus_voltage)
+    ):
         r = float(winding_resistance(resistance, winding_temperature))
         line = (bus_voltage - r * tau / torque_constant) / torque_constant
         out["voltage"] = w / line if line > 0 else math.inf

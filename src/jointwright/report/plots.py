@@ -306,7 +306,7 @@ def region_section(project, a: dict, fig_dir: Path) -> Section | None:
     rows = []
     for k, (name, info) in enumerate(regions.items()):
         members = [c for c in project.cases if c.region == name]
-        per = {}
+        per: dict[str, float] = {}
         for c in a["checks"]:
             m = c["margin"]
             m = {"inf": np.inf, "-inf": -np.inf}.get(m, m) if isinstance(m, str) else m
