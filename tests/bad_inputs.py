@@ -1277,7 +1277,7 @@ STUDIES = [
         "time_limit = 30",
         'objective = "speed"',
         "options.objective",
-        "must be one of payload, mass, imf",
+        "must be one of payload, margin, mass, cost, imf",
     ),
     _study(
         "backend unknown",
