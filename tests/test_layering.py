@@ -24,6 +24,7 @@ LAYERS = {
     "trajectory": 3,
     "metrics": 4,
     "project": 5,
+    "cases": 5,
     "regions": 5,
     "design": 5,
     "dutycase": 6,

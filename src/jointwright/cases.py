@@ -1,0 +1,537 @@
+"""The operating cases of a project: the :class:`Case` record, its kinds and requirement keys,
+and reading ``[[case]]`` tables (poses, contacts, wrenches, regions, joint torques, impacts).
+
+Format in docs/project-format.md; :mod:`jointwright.project` reads the rest of the file.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from .errors import InputError
+from .tomlfile import Table, is_file
+
+CASE_KINDS = ("payload", "stance", "impact", "backdrive", "speed", "duty", "torque")
+MOTIONS = ("along", "against", "hold")
+STANDARD_GRAVITY = 9.80665
+#: ambient temperatures the copper-resistance and thermal models cover, °C
+AMBIENT_RANGE = (-100.0, 200.0)
+
+
+@dataclass(frozen=True)
+class Case:
+    """One operating case: a pose (or trajectory), a tip frame, a direction and its requirements.
+
+    kind
+        ``payload``: largest force the tip can exert along ``direction`` (N), with the end point
+        moving ``motion`` = along / against the force, or holding still.
+        ``impact``: effective mass along ``direction`` and, for a floating base, the impact
+        mitigation factor at the contact point ``frame``; back-driven reflected inertia.
+        ``backdrive``: tip force along ``direction`` that starts the unpowered robot moving.
+        ``speed``: end-point speed along ``direction`` reachable while the joints carry the
+        case's load (gravity, ``payload_mass``, ``acceleration``) inside each motor's
+        torque–speed envelope; also the acceleration along ``direction`` from rest.
+        ``duty``: a trajectory (CSV) for RMS/peak torque, temperature and energy.
+        ``stance``: robot-level payload: the largest load at ``frame`` (the robot holding it with
+        a force along ``direction``) over every contact-force distribution on ``contacts``
+        within friction cones and each joint's mode-dependent torque capacity.
+    """
+
+    name: str
+    kind: str
+    frame: str | None
+    pose: dict[str, float]
+    base_xyz: tuple[float, float, float] = (0.0, 0.0, 0.0)
+    base_rpy: tuple[float, float, float] = (0.0, 0.0, 0.0)
+    direction: tuple[float, ...] | None = None
+    motion: str = "along"
+    trajectory: Path | None = None
+    ambient: float = 25.0
+    #: payload cases: end-point speed (m/s) during the motion; the motors' torque–speed
+    #: envelope at that speed then sets the capacity (0 = static capacity)
+    tip_speed: float = 0.0
+    #: payload and stance cases: how the required load grows with the robot's payload mass m_p:
+    #: required = fixed_load + payload_share·m_p·g_n (N); the payload-mass objective reads the
+    #: case's achieved force F as the payload it carries, (F − fixed_load)/(payload_share·g_n).
+    #: payload_share = 0: the load does not grow with the payload (a constraint only)
+    fixed_load: float = 0.0
+    payload_share: float = 1.0
+    #: speed cases: mass carried at the frame (kg; its weight, and its inertia when accelerating)
+    payload_mass: float = 0.0
+    #: speed cases: force the end point exerts on the environment during the motion (N, world
+    #: axes), e.g. pushing a cart or pressing a tool; added to the payload's weight
+    tip_force: tuple[float, float, float] = (0.0, 0.0, 0.0)
+    #: speed cases: end-point acceleration along ``direction`` held during the motion (m/s²)
+    acceleration: float = 0.0
+    #: speed cases: distance along ``direction`` over which the end point gets up to speed from
+    #: rest (m); 0 = the steady loaded speed, however long it takes to reach
+    stroke: float = 0.0
+    #: impact cases: the body region a person may be hit on, as the user's applicable standard
+    #: gives it (ISO/TS 15066 two-body transient contact): (largest permissible force N,
+    #: effective spring constant N/m, effective body-region mass kg); None: no contact check
+    body_region: tuple[float, float, float] | None = None
+    #: requirement name -> limit, e.g. {"payload_min": 150.0} (SI)
+    limits: dict[str, float] = field(default_factory=dict)
+    #: duty cases: share of the operating time spent in this cycle, for the gear life of
+    #: ``[requirements] life_min`` (Miner's rule over the cycles); None: not counted
+    life_share: float | None = None
+    #: impact cases: approach speed along ``direction`` (m/s) and restitution of the impact, for
+    #: the peak gear torque (metrics/gear_shock.py); 0: no gear shock check
+    impact_speed: float = 0.0
+    restitution: float = 0.0
+    #: for payload cases: the force is reported as a mass too when the direction is vertical
+    weight_equivalent: bool = False
+    #: stance cases: (frame, friction coefficient, unit normal from the ground into the robot)
+    contacts: tuple[tuple[str, float, tuple[float, float, float]], ...] = ()
+    #: payload and stance cases: moment the robot exerts on the environment with the force (N·m,
+    #: world-aligned axes, about the origin of ``frame``); fixed, it does not grow with the load
+    moment: tuple[float, float, float] = (0.0, 0.0, 0.0)
+    #: payload and stance cases: where the force acts, from the origin of ``frame`` (m,
+    #: world-aligned axes), e.g. the payload's centre of mass; the force s·u there adds the
+    #: moment s·(offset × u) at the frame, so it grows with the load (docs/metrics.md)
+    offset: tuple[float, float, float] = (0.0, 0.0, 0.0)
+    #: torque cases: required joint torque (N·m, N for a prismatic joint) per actuated joint
+    joint_torques: tuple[tuple[str, float], ...] = ()
+    #: torque cases: per joint, how it moves while carrying the torque: "along" (motoring),
+    #: "against" (back-driven) or "hold"
+    joint_motions: tuple[tuple[str, str], ...] = ()
+    #: a case expanded from a region (``poses``, ``grid`` or ``trajectory_poses``): the user
+    #: case's name and this pose's place in the region; "" for an ordinary case
+    region: str = ""
+    region_index: int = -1
+
+    @property
+    def has_wrench(self) -> bool:
+        """Whether the case's load carries a moment (a ``moment`` or an ``offset``)."""
+        return any(x != 0.0 for x in self.moment) or any(x != 0.0 for x in self.offset)
+
+
+#: per kind: requirement key -> (dimension, sense); sense "min" means achieved >= limit
+CASE_LIMITS: dict[str, dict[str, tuple[str, str]]] = {
+    "payload": {"payload_min": ("force", "min")},
+    "stance": {"payload_min": ("force", "min")},
+    "impact": {
+        "imf_min": ("dimensionless", "min"),
+        "directional_imf_min": ("dimensionless", "min"),
+        "effective_mass_max": ("mass", "max"),
+        "contact_speed_min": ("velocity", "min"),
+        # peak gear torque at the impact over the momentary rating, worst joint (1 = at rating)
+        "shock_use_max": ("dimensionless", "max"),
+    },
+    "backdrive": {"backdrive_force_max": ("force", "max")},
+    "speed": {"speed_min": ("velocity", "min"), "acceleration_min": ("acceleration", "min")},
+    # achieved ÷ required joint torque, the smallest over the case's joints
+    "torque": {"torque_ratio_min": ("dimensionless", "min")},
+    # rating use: the worst of RMS/continuous, peak/peak torque, speed/max speed, torque/envelope
+    # and temperature rise/allowed rise over the joints; 1.0 uses a rating fully
+    "duty": {"rating_use_max": ("dimensionless", "max")},
+}
+
+
+def _read_pose(pt: Table, robot) -> dict[str, float]:
+    """Joint positions of a pose: every actuated joint, optionally the others.
+
+    See docs/project-format.md.
+
+    A plain number is radians (metres for a prismatic joint); a revolute joint's plain number
+    beyond ±2π is refused as a likely angle in degrees. Positions must lie within the joint's
+    limits. Joints not given take :meth:`Robot.rest_position`.
+    """
+    pose = {}
+    for jn in list(pt.data):
+        if jn not in robot.joint_names:
+            mimic = {f: lead for f, lead, *_ in robot.mimic}
+            if jn in mimic:
+                raise InputError(
+                    pt.file,
+                    pt.field(jn),
+                    f"{jn!r} is a mimic joint: it follows "
+                    f"{mimic[jn]!r}; give the leader's position",
+                )
+            raise InputError(
+                pt.file,
+                pt.field(jn),
+                f"unknown joint {jn!r}; the robot's joints are {', '.join(robot.joint_names)}",
+            )
+        revolute = robot.revolute[robot.joint_names.index(jn)]
+        raw = pt.raw(jn)
+        value = pt.quantity(jn, "angle" if revolute else "length")
+        if revolute and not isinstance(raw, str) and abs(value) > 2 * math.pi:
+            raise InputError(
+                pt.file,
+                pt.field(jn),
+                f"a plain number is radians and {raw!r} rad is "
+                'more than a full turn; write the unit, e.g. "90 deg"',
+            )
+        lo, hi = robot.position_limits(jn)
+        if not lo - 1e-9 <= value <= hi + 1e-9:
+            if revolute:
+                got = f"{value:.6g} rad ({math.degrees(value):.4g} deg)"
+                lim = (
+                    f"[{lo:.6g}, {hi:.6g}] rad ([{math.degrees(lo):.4g}, "
+                    f"{math.degrees(hi):.4g}] deg)"
+                )
+            else:
+                got, lim = f"{value:.6g} m", f"[{lo:.6g}, {hi:.6g}] m"
+            raise InputError(
+                pt.file,
+                pt.field(jn),
+                f"{got} is outside the joint's limits {lim} (from {robot.file})",
+            )
+        pose[jn] = value
+    missing = [j for j in robot.actuated if j not in pose]
+    if missing:
+        raise InputError(
+            pt.file, pt.field(missing[0]), "is required (every actuated joint needs a position)"
+        )
+    pt.done()
+    return pose
+
+
+def load_poses(t: Table, robot) -> dict[str, dict[str, float]]:
+    """Named poses (``[poses.NAME]`` tables) that cases refer to with ``pose = "NAME"``."""
+    out = {name: _read_pose(t.table(name), robot) for name in list(t.data)}
+    t.done()
+    return out
+
+
+def _load_contacts(t: Table, robot) -> tuple:
+    entries = t.tables("contacts")
+    if not entries:
+        raise InputError(t.file, t.field("contacts"), "a stance case needs at least one contact")
+    out = []
+    for c in entries:
+        frame = c.text("frame")
+        robot.frame_id(frame, file=c.file, field=c.field("frame"))
+        mu = c.quantity("friction", "dimensionless", sign="nonnegative")
+        n = np.asarray(c.vector("normal", 3, (0.0, 0.0, 1.0)))
+        if not np.linalg.norm(n) > 0:
+            raise InputError(c.file, c.field("normal"), "must not be the zero vector")
+        c.done()
+        out.append((frame, mu, tuple(float(x) for x in n / np.linalg.norm(n))))
+    names = [f for f, _, _ in out]
+    for i, f in enumerate(names):
+        if f in names[:i]:
+            raise InputError(
+                t.file, f"{t.field('contacts')}[{i}].frame", f"duplicate contact {f!r}"
+            )
+    return tuple(out)
+
+
+def load_cases(t: Table, robot, base_dir: Path, poses: dict | None = None) -> list[Case]:
+    """One [[case]] table: one case, or one per pose of a region (jointwright.regions)."""
+    from .regions import REGION_KEYS, read_region
+
+    kind = t.raw("kind", None)
+    if kind in ("duty", "torque"):
+        for key in REGION_KEYS:
+            if t.has(key):
+                raise InputError(t.file, t.field(key), f"a {kind} case has no pose region")
+        return [_load_case(t, robot, base_dir, poses)]
+    region = read_region(t, robot, base_dir, poses or {}, _read_pose)
+    case = _load_case(t, robot, base_dir, poses, region_pose=None if region is None else region[0])
+    if region is None:
+        return [case]
+    from dataclasses import replace
+
+    return [
+        replace(case, name=f"{case.name}@{k}", pose=p, region=case.name, region_index=k)
+        for k, p in enumerate(region)
+    ]
+
+
+def _load_case(
+    t: Table, robot, base_dir: Path, poses: dict | None = None, region_pose: dict | None = None
+) -> Case:
+    name = t.text("name")
+    if "@" in name:
+        raise InputError(t.file, t.field("name"), f"must not contain '@' (got {name!r})")
+    kind = t.text("kind", choices=CASE_KINDS)
+    if kind == "torque":
+        return _torque_case(t, robot, name)
+    frame = None
+    if kind != "duty":
+        frame = t.text("frame")
+        robot.frame_id(frame, file=t.file, field=t.field("frame"))
+    pose = {}
+    if region_pose is not None:
+        pose = dict(region_pose)
+    elif kind != "duty":
+        raw = t.raw("pose")
+        if isinstance(raw, str):
+            poses = poses or {}
+            if raw not in poses:
+                raise InputError(
+                    t.file,
+                    t.field("pose"),
+                    f"unknown pose {raw!r}; named poses are "
+                    f"{', '.join(poses) if poses else 'none ([poses.NAME] tables)'}",
+                )
+            pose = dict(poses[raw])
+        else:
+            pose = _read_pose(t.table("pose"), robot)
+    base_xyz = t.vector("base_xyz", 3, (0.0, 0.0, 0.0), "length")
+    base_rpy = t.vector("base_rpy", 3, (0.0, 0.0, 0.0), "angle")
+    for key in ("base_xyz", "base_rpy"):
+        if t.has(key) and robot.base != "floating":
+            raise InputError(
+                t.file, t.field(key), "only for a floating base; a fixed base is the world frame"
+            )
+    direction = None
+    if kind in ("payload", "stance", "impact", "backdrive", "speed"):
+        d = np.asarray(t.vector("direction", 3))
+        scale = float(np.abs(d).max())
+        if scale == 0:
+            raise InputError(t.file, t.field("direction"), "must not be the zero vector")
+        d = d / scale  # scaled first: huge components must not overflow the norm
+        direction = tuple(float(x) for x in d / np.linalg.norm(d))
+    motion = (
+        t.text("motion", "along", choices=MOTIONS) if kind in ("payload", "stance") else "along"
+    )
+    contacts = _load_contacts(t, robot) if kind == "stance" else ()
+    trajectory = None
+    if kind == "duty":
+        trajectory = base_dir / t.text("trajectory")
+        if not is_file(trajectory, t.file, t.field("trajectory")):
+            raise InputError(t.file, t.field("trajectory"), f"file not found: {trajectory}")
+    ambient = t.quantity("ambient", "temperature", 25.0)
+    if not AMBIENT_RANGE[0] <= ambient <= AMBIENT_RANGE[1]:
+        raise InputError(
+            t.file,
+            t.field("ambient"),
+            f"must be from {AMBIENT_RANGE[0]:g} to "
+            f"{AMBIENT_RANGE[1]:g} degC (the range of the winding resistance and "
+            f"thermal models), got {ambient:g} degC",
+        )
+    tip_speed = (
+        t.quantity("tip_speed", "velocity", 0.0, sign="nonnegative") if kind == "payload" else 0.0
+    )
+    if tip_speed > 0 and motion == "hold":
+        raise InputError(
+            t.file,
+            t.field("tip_speed"),
+            "a payload held still has no tip speed; use motion = along or against",
+        )
+    fixed_load, payload_share = 0.0, 1.0
+    if kind in ("payload", "stance"):
+        fixed_load = _force_or_weight(t, "fixed_load") if t.has("fixed_load") else 0.0
+        payload_share = t.quantity("payload_share", "dimensionless", 1.0, sign="nonnegative")
+    payload_mass = (
+        t.quantity("payload_mass", "mass", 0.0, sign="nonnegative") if kind == "speed" else 0.0
+    )
+    acceleration = (
+        t.quantity("acceleration", "acceleration", 0.0, sign="nonnegative")
+        if kind == "speed"
+        else 0.0
+    )
+    stroke = (
+        t.quantity("stroke", "length", 0.0, sign="positive")
+        if kind == "speed" and t.has("stroke")
+        else 0.0
+    )
+    tip_force = (
+        t.vector("tip_force", 3, (0.0, 0.0, 0.0), "force") if kind == "speed" else (0.0, 0.0, 0.0)
+    )
+    if stroke > 0 and acceleration > 0:
+        raise InputError(
+            t.file,
+            t.field("stroke"),
+            "give either stroke (reach the speed from rest within "
+            "it) or acceleration (keep accelerating at speed), not both",
+        )
+    limits = {}
+    t.allow(*CASE_LIMITS[kind])
+    for key, (dim, _sense) in CASE_LIMITS[kind].items():
+        if t.has(key):
+            if kind in ("payload", "stance") and key == "payload_min":
+                limits[key] = _force_or_weight(t, key)
+            else:
+                limits[key] = t.quantity(key, dim, sign="nonnegative")
+            if key.endswith("imf_min") and robot.base != "floating":
+                raise InputError(
+                    t.file,
+                    t.field(key),
+                    "needs a floating base: with a fixed base the "
+                    "locked-joint inertia is unbounded and the IMF is 1; use effective_mass_max",
+                )
+    if kind == "duty" and "rating_use_max" not in limits:
+        limits["rating_use_max"] = 1.0
+    life_share = None
+    if kind == "duty" and t.has("life_share"):
+        life_share = t.quantity("life_share", "dimensionless", sign="positive")
+        if life_share > 1:
+            raise InputError(
+                t.file, t.field("life_share"), f"must be from 0 to 1, got {life_share:g}"
+            )
+    body_region = _body_region(t) if kind == "impact" else None
+    impact_speed, restitution = _impact_shock(t, limits) if kind == "impact" else (0.0, 0.0)
+    if "contact_speed_min" in limits and body_region is None:
+        raise InputError(
+            t.file,
+            t.field("contact_speed_min"),
+            "needs the body region's "
+            "body_force_max, body_stiffness and body_mass (from the safety standard "
+            "that applies; jointwright ships no values)",
+        )
+    weight = bool(direction is not None and abs(abs(direction[2]) - 1.0) < 1e-9)
+    moment, offset = (0.0, 0.0, 0.0), (0.0, 0.0, 0.0)
+    if kind in ("payload", "stance"):
+        moment = t.vector("moment", 3, (0.0, 0.0, 0.0), "torque")
+        offset = t.vector("offset", 3, (0.0, 0.0, 0.0), "length")
+    t.done()
+    return Case(
+        name=name,
+        kind=kind,
+        frame=frame,
+        pose=pose,
+        base_xyz=base_xyz,
+        base_rpy=base_rpy,
+        direction=direction,
+        motion=motion,
+        trajectory=trajectory,
+        ambient=ambient,
+        tip_speed=tip_speed,
+        limits=limits,
+        weight_equivalent=weight,
+        contacts=contacts,
+        payload_mass=payload_mass,
+        acceleration=acceleration,
+        stroke=stroke,
+        tip_force=tip_force,
+        fixed_load=fixed_load,
+        payload_share=payload_share,
+        body_region=body_region,
+        life_share=life_share,
+        impact_speed=impact_speed,
+        restitution=restitution,
+        moment=(float(moment[0]), float(moment[1]), float(moment[2])),
+        offset=(float(offset[0]), float(offset[1]), float(offset[2])),
+    )
+
+
+def _torque_case(t: Table, robot, name: str) -> Case:
+    """A joint-space case: required torque per joint by name, each joint in its power-flow mode
+    (docs/project-format.md, "Torque cases")."""
+    tt = t.table("torques")
+    if not tt.data:
+        raise InputError(t.file, t.field("torques"), "must name at least one actuated joint")
+    torques = []
+    for jn in list(tt.data):
+        if jn not in robot.actuated:
+            raise InputError(
+                t.file,
+                tt.field(jn),
+                f"unknown actuated joint {jn!r}; the robot has {', '.join(robot.actuated)}",
+            )
+        revolute = robot.revolute[robot.joint_names.index(jn)]
+        value = tt.quantity(jn, "torque" if revolute else "force")
+        torques.append((jn, float(value)))
+    tt.done()
+    motion = t.text("motion", "hold", choices=MOTIONS)
+    mt = t.table("motions", {})
+    motions = []
+    for jn, _ in torques:
+        motions.append((jn, mt.text(jn, motion, choices=MOTIONS) if mt.has(jn) else motion))
+    for jn in list(mt.data):
+        if jn not in dict(torques):
+            raise InputError(t.file, mt.field(jn), f"joint {jn!r} has no entry in torques")
+    mt.done()
+    limits = {"torque_ratio_min": 1.0}
+    if t.has("torque_ratio_min"):
+        limits["torque_ratio_min"] = t.quantity(
+            "torque_ratio_min", "dimensionless", sign="positive"
+        )
+    t.done()
+    return Case(
+        name=name,
+        kind="torque",
+        frame=None,
+        pose={},
+        motion=motion,
+        limits=limits,
+        joint_torques=tuple(torques),
+        joint_motions=tuple(motions),
+    )
+
+
+def _impact_shock(t: Table, limits: dict) -> tuple[float, float]:
+    """An impact case's ``impact_speed`` and ``restitution`` (both or neither); ``shock_use_max``
+    needs them."""
+    given = [k for k in ("impact_speed", "restitution") if t.has(k)]
+    if not given:
+        t.allow("impact_speed", "restitution")
+        if "shock_use_max" in limits:
+            raise InputError(
+                t.file,
+                t.field("impact_speed"),
+                "is required with shock_use_max (with restitution): the approach speed of the "
+                "impact along direction",
+            )
+        return 0.0, 0.0
+    if len(given) == 1:
+        missing = "restitution" if given[0] == "impact_speed" else "impact_speed"
+        raise InputError(
+            t.file,
+            t.field(missing),
+            f"is required with {given[0]}: a gear-shock impact needs its approach speed and its "
+            "restitution (0 = plastic, the foot stays down; 1 = elastic)",
+        )
+    speed = t.quantity("impact_speed", "velocity", sign="positive")
+    e = t.quantity("restitution", "dimensionless", sign="nonnegative")
+    if e > 1:
+        raise InputError(t.file, t.field("restitution"), f"must be from 0 to 1, got {e:g}")
+    return speed, e
+
+
+#: fields of an impact case's body region (transient contact, ISO/TS 15066 two-body model)
+BODY_REGION = (
+    ("body_force_max", "force"),
+    ("body_stiffness", "stiffness_linear"),
+    ("body_mass", "mass"),
+)
+
+
+def _body_region(t: Table) -> tuple[float, float, float] | None:
+    """The user's body-region values of an impact case, all three or none.
+
+    See docs/project-format.md.
+    """
+    given = [key for key, _ in BODY_REGION if t.has(key)]
+    if not given:
+        t.allow(*(key for key, _ in BODY_REGION))
+        return None
+    missing = [key for key, _ in BODY_REGION if key not in given]
+    if missing:
+        raise InputError(
+            t.file,
+            t.field(missing[0]),
+            f"is required with {', '.join(given)}: a body region needs force, stiffness and mass",
+        )
+    force, stiffness, mass = (t.quantity(key, dim, sign="positive") for key, dim in BODY_REGION)
+    return force, stiffness, mass
+
+
+def _force_or_weight(t: Table, key: str) -> float:
+    """A payload requirement as a force ("150 N") or as a mass ("15 kg", weight at standard g)."""
+    from .units import quantity
+
+    v = t.raw(key)
+    try:
+        force = quantity(v, "force", file=t.file, field=t.field(key))
+    except InputError:
+        try:
+            force = quantity(v, "mass", file=t.file, field=t.field(key)) * STANDARD_GRAVITY
+        except InputError:
+            raise InputError(
+                t.file,
+                t.field(key),
+                "must be a force (N) or a mass (kg, taken as its "
+                f"weight at standard gravity), got {v!r}",
+            ) from None
+    if force < 0:
+        raise InputError(t.file, t.field(key), f"must be >= 0 N (or kg), got {v!r}")
+    return force
