@@ -17,7 +17,6 @@ stage kind are not errors: they become lines in :attr:`Catalog.notes`.
 
 from __future__ import annotations
 
-import csv
 import math
 from dataclasses import MISSING, fields
 from pathlib import Path
@@ -26,9 +25,10 @@ from typing import Any, NamedTuple
 import numpy as np
 
 from ..errors import InputError, did_you_mean, unknown_name
-from ..tomlfile import Table, is_file, load_toml
-from ..units import positive, registry
+from ..tomlfile import Table, load_toml
+from ..units import positive
 from .bands import band_from_dict, check_band
+from .csvfile import CsvRow, csv_lines, csv_rows, read_csv, split_header
 from .drives import drive_from_table
 from .efficiency import efficiency_from_dict
 from .model import LIFE_BASES, STAGE_KINDS, Catalog, Motor, MotorFamily, StageFrame, StageType
@@ -190,8 +190,8 @@ def _load_part(path: Path) -> _Part:
     if suffix == ".toml":
         return _toml_part(path)
     if suffix == ".csv":
-        header_line, header, lines = _csv_lines(path)
-        if any(_split_header(cell)[0] == "stage" for cell in header):
+        header_line, header, lines = csv_lines(path)
+        if any(split_header(cell)[0] == "stage" for cell in header):
             raise InputError(
                 str(path),
                 f"row {header_line}, column stage",
@@ -199,7 +199,7 @@ def _load_part(path: Path) -> _Part:
                 "table cannot be loaded on its own: name it in a catalog TOML "
                 "(frames_csv = ...)",
             )
-        rows = _csv_rows(str(path), header_line, header, lines, ("name", *MOTOR_FIELDS))
+        rows = csv_rows(str(path), header_line, header, lines, ("name", *MOTOR_FIELDS))
         part = _Part([(_motor(row), _Where(row.file, row.path)) for row in rows], [], [], [])
         _require_content(part, path)
         return part
@@ -217,7 +217,7 @@ def _toml_part(path: Path) -> _Part:
     for t in top.tables("motor"):
         part.motors.append((_motor(t), _Where(file, t.path)))
     for csv_path in _paths(top, "motors_csv", path.parent):
-        for row in _read_csv(csv_path, allowed=("name", *MOTOR_FIELDS)):
+        for row in read_csv(csv_path, allowed=("name", *MOTOR_FIELDS)):
             part.motors.append((_motor(row), _Where(row.file, row.path)))
     for t in top.tables("motor_family"):
         part.families.append((_family(t), _Where(file, t.path)))
@@ -245,107 +245,6 @@ def _paths(top: Table, key: str, base: Path) -> list[Path]:
 def _require_content(part: _Part, path: Path) -> None:
     if not (part.motors or part.families or part.stages or part.drives):
         raise InputError(str(path), "(top level)", "defines no motor, motor_family, stage or drive")
-
-
-# --- CSV -----------------------------------------------------------------------------------
-
-
-class _Row(Table):
-    """One CSV row as a table; fields read ``row 7, column mass``."""
-
-    def field(self, key: str) -> str:
-        return f"{self.path}, column {key}"
-
-
-def _read_csv(path: Path, *, allowed: tuple[str, ...]) -> list[_Row]:
-    """Rows of a CSV table as :class:`_Row` tables (empty cells left out, header units applied)."""
-    return _csv_rows(str(path), *_csv_lines(path), allowed)
-
-
-def _csv_lines(path: Path) -> tuple[int, list[str], list[tuple[int, list[str]]]]:
-    """(header line number, header cells, [(line number, cells)]) of a CSV file.
-
-    Blank lines and lines whose first cell starts with ``#`` (comments) are skipped.
-    """
-    file = str(path)
-    if not is_file(path):
-        raise InputError(file, "(file)", "file not found")
-    try:
-        with path.open(newline="", encoding="utf-8-sig") as fh:
-            reader = csv.reader(fh)
-            lines = [
-                (reader.line_num, cells)
-                for cells in reader
-                if any(c.strip() for c in cells) and not cells[0].lstrip().startswith("#")
-            ]
-    except UnicodeDecodeError:
-        raise InputError(file, "(encoding)", "must be UTF-8 text") from None
-    except OSError as exc:
-        raise InputError(file, "(file)", f"cannot be read ({exc.strerror or exc})") from None
-    except csv.Error as exc:
-        raise InputError(file, "(syntax)", f"malformed CSV: {exc}") from None
-    if not lines:
-        raise InputError(file, "row 1", "the file has no header row")
-    return lines[0][0], lines[0][1], lines[1:]
-
-
-def _csv_rows(file: str, header_line: int, header: list[str], lines, allowed) -> list[_Row]:
-    columns = [_column(cell, i, header_line, file, allowed) for i, cell in enumerate(header)]
-    names = [name for name, _ in columns]
-    for i, name in enumerate(names):
-        if name in names[:i]:
-            raise InputError(
-                file, f"row {header_line}, column {name}", "appears twice in the header"
-            )
-    rows = []
-    for line, cells in lines:
-        if len(cells) != len(columns):
-            raise InputError(
-                file,
-                f"row {line}",
-                f"has {len(cells)} cells, the header has "
-                f"{len(columns)} (check for a stray comma or a missing cell)",
-            )
-        data = {}
-        for (name, unit), cell in zip(columns, cells, strict=True):
-            cell = cell.strip()
-            if cell:
-                data[name] = f"{cell} {unit}" if unit and _is_number(cell) else cell
-        rows.append(_Row(data, file, f"row {line}"))
-    return rows
-
-
-def _split_header(cell: str) -> tuple[str, str]:
-    """``"peak_torque [N*m]"`` -> ``("peak_torque", "N*m")``; no brackets -> empty unit."""
-    text = cell.strip()
-    if text.endswith("]") and "[" in text:
-        name, unit = text[:-1].split("[", 1)
-        return name.strip(), unit.strip()
-    return text, ""
-
-
-def _column(cell: str, i: int, line: int, file: str, allowed) -> tuple[str, str]:
-    """Split a header cell ``name [unit]`` and check both parts."""
-    name, unit = _split_header(cell)
-    where = f"row {line}, column {name or i + 1}"
-    if name not in allowed:
-        raise unknown_name(file, where, name, allowed, "column")
-    if unit:
-        if name in ("name", "stage"):
-            raise InputError(file, where, "a name column takes no unit")
-        try:
-            registry().parse_units(unit)
-        except Exception:
-            raise InputError(file, where, f"unknown unit {unit!r}") from None
-    return name, unit
-
-
-def _is_number(text: str) -> bool:
-    try:
-        float(text)
-    except ValueError:
-        return False
-    return True
 
 
 # --- motors --------------------------------------------------------------------------------
@@ -641,7 +540,7 @@ def _ratios(t: Table):
 
 def _attach_frames(stages: list[_StageDraft], path: Path, toml_file: str) -> None:
     by_name = {d.name: d for d in stages}
-    for row in _read_csv(path, allowed=("stage", "name", *FRAME_FIELDS)):
+    for row in read_csv(path, allowed=("stage", "name", *FRAME_FIELDS)):
         stage = row.text("stage")
         if stage not in by_name:
             raise InputError(
@@ -650,7 +549,7 @@ def _attach_frames(stages: list[_StageDraft], path: Path, toml_file: str) -> Non
                 f"no [[stage]] named {stage!r} in {toml_file}{did_you_mean(stage, by_name)}",
             )
         data = {k: v for k, v in row.data.items() if k != "stage"}
-        frame_row = _Row(data, row.file, row.path)
+        frame_row = CsvRow(data, row.file, row.path)
         by_name[stage].frames.append((_frame(frame_row), frame_row))
 
 
