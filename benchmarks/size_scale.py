@@ -16,8 +16,9 @@ invented stage types; no real product):
 
 Every back-end gets the same wall-clock limit (``--limit``, default 60 s); random sampling gets
 the CPU time the default search used; enumeration runs where the filtered candidates' product is
-at most ENUMERATE_MAX designs (none of a-g: the line then gives the count). Prints one line per instance and back-end: status,
-objective, bound, gap, wall and CPU seconds. Results: docs/benchmarks.md.
+at most ENUMERATE_MAX designs (none of a-g: the line then gives the count). Prints one line per
+instance and back-end: status, objective, bound, gap, wall and CPU seconds, and the load average
+after each instance. Results: docs/benchmarks.md.
 
     python benchmarks/size_scale.py [--only a,c] [--limit 60] [--no-pyomo]
 """
