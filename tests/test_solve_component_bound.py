@@ -109,13 +109,26 @@ def test_component_bound_is_never_below_the_enumerated_optimum(seed, cost):
 
 
 @pytest.mark.slow
-@pytest.mark.parametrize("seed", [7, 8])
-def test_search_with_component_bound_matches_enumeration(seed):
+@pytest.mark.parametrize("seed, milp", [(7, False), (8, False), (7, True), (9, True)])
+def test_search_with_component_bound_matches_enumeration(seed, milp, monkeypatch):
+    """Without the MILP hand-over the branch and bound (with the per-limb bound) must find the
+    enumerated optimum; with it (the instance suits it: payload objective, budget, 12 joints,
+    payload cases only) the answer must be within the MILP's relative gap of 1e-4."""
+    import jointwright.solve.handover as handover
+
     project, table = _instance(seed, False)
+    model, _ = build_model(project, "payload", {}, [], project.objective["shared"])
+    assert handover.milp_suits(model)
+    if not milp:
+        monkeypatch.setattr(handover, "milp_suits", lambda model: False)
     key = _enumerate(project, table)
     res = size(project, explain=False)
     if key is None:
         assert res.status == "infeasible"
         return
-    assert res.status == "optimal"
-    assert res.objective == pytest.approx(key[0], rel=1e-9, abs=1e-9)
+    assert res.status == "optimal" and res.assessment.feasible
+    assert ("hand-over" in res.native_status) == milp
+    tol = 1e-4 if milp else 1e-9
+    assert res.objective == pytest.approx(key[0], rel=tol, abs=1e-9)
+    assert res.objective <= key[0] + 1e-9 * max(1.0, abs(key[0]))
+    assert res.gap <= tol

@@ -17,7 +17,7 @@ import math
 from .model import SizingModel
 
 #: share of the time left that the MILP may use before the search takes over
-MILP_SHARE = 0.75
+MILP_SHARE = 0.9
 #: the MILP's time without a time limit (s)
 MILP_SECONDS = 60.0
 #: joints at least (a small robot proves out in the search within seconds)

@@ -88,12 +88,12 @@ class BranchAndBound:
         # a bound on every design (budget, item 4b), within a tenth of the time limit
         cap_end = math.inf if time_limit is None else time.perf_counter() + 0.1 * time_limit
         self.cap = model.budget_cap(self.st, deadline=cap_end)
-        # the per-component budget bound (item 4c), within another tenth of the limit
+        # the per-component budget bound (item 4c), within a quarter of the limit
         self.levels = None
         if model.kind == "payload" and model.payload and math.isfinite(self.cap):
             from .component_bound import ComponentLevels, level_grid
 
-            end = math.inf if time_limit is None else time.perf_counter() + 0.1 * time_limit
+            end = math.inf if time_limit is None else time.perf_counter() + 0.25 * time_limit
             low = min(0.0, incumbent[0]) if incumbent is not None else 0.0
             grid = level_grid(low, self.cap, None if incumbent is None else incumbent[0])
             self.levels = ComponentLevels(model, model.candidates, grid, deadline=end)
