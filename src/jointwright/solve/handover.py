@@ -23,7 +23,7 @@ MILP_SECONDS = 60.0
 #: joints at least (a small robot proves out in the search within seconds)
 MILP_MIN_JOINTS = 6
 #: candidate options summed over the joints at most (model size: x[j, o] binaries)
-MILP_MAX_OPTIONS = 100_000
+MILP_MAX_OPTIONS = 40_000
 #: relative gap at which a MILP answer is accepted as proven (HiGHS's default MIP gap)
 MILP_GAP = 1e-4
 
