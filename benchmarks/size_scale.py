@@ -15,8 +15,10 @@ invented stage types; no real product):
     torso and neck chain) on a floating base.
 
 Every back-end gets the same wall-clock limit (``--limit``, default 60 s); random sampling gets
-the CPU time the default search used. Prints one line per instance and back-end: status,
-objective, bound, gap, wall and CPU seconds. Results: docs/benchmarks.md.
+the CPU time the default search used; enumeration runs where the filtered candidates' product is
+at most ENUMERATE_MAX designs (none of a-g: the line then gives the count). Prints one line per
+instance and back-end: status, objective, bound, gap, wall and CPU seconds, and the load average
+after each instance. Results: docs/benchmarks.md.
 
     python benchmarks/size_scale.py [--only a,c] [--limit 60] [--no-pyomo]
 """
@@ -36,6 +38,9 @@ from jointwright.catalog.model import Catalog
 from jointwright.project import Case, Requirements, load_project
 
 FEET = ("fl", "fr", "hl", "hr")
+
+#: designs enumeration is run on at most (the filtered candidates' product)
+ENUMERATE_MAX = 2e7
 
 
 def example(name):
@@ -305,7 +310,8 @@ def random_sampling(project, kind, seconds, seed=0):
             if model.better(key, best):
                 best = key
     sense = -1.0 if kind == "mass" else 1.0
-    return (None if best is None else sense * best[0]), count, found
+    space = math.prod(float(c.size) for c in model.candidates)
+    return (None if best is None else sense * best[0]), count, found, space
 
 
 def run(name, limit, pyomo=True):
@@ -331,7 +337,7 @@ def run(name, limit, pyomo=True):
         print(f"    {backend:8s} {text}  wall {t1 - t0:6.1f} s  CPU {c1 - c0:6.1f} s", flush=True)
     cpu_search = rows[0][1]
     try:
-        best, count, found = random_sampling(p, kind, max(cpu_search, 1.0))
+        best, count, found, space = random_sampling(p, kind, max(cpu_search, 1.0))
     except Exception as e:
         print(f"    random   refused: {str(e)[:90]}")
         return
@@ -340,6 +346,42 @@ def run(name, limit, pyomo=True):
         f"{'—' if best is None else f'{best:.4f}'}",
         flush=True,
     )
+    if space <= ENUMERATE_MAX:
+        from jointwright.sizing import size
+
+        c0 = cpu()
+        r = size(p, backend="enumerate", explain=False)
+        print(f"    enumerate {r.status} objective {r.objective:.4f}  CPU {cpu() - c0:.1f} s")
+    else:
+        print(f"    enumerate does not fit: {space:.3g} designs over the filtered candidates")
+
+
+def table_building():
+    """The bundled leg with 2-stage stacks: the numpy-built option table against the per-option
+    formulas it replaces (CPU seconds and peak traced memory)."""
+    import tracemalloc
+
+    from jointwright.design import actuator_row
+    from jointwright.options import build_table
+
+    p = dataclasses.replace(example("leg"), max_stages=2)
+    tracemalloc.start()
+    c0 = time.process_time()
+    table = build_table(p)
+    c1 = time.process_time()
+    peak = tracemalloc.get_traced_memory()[1]
+    tracemalloc.stop()
+    tracemalloc.start()
+    c2 = time.process_time()
+    rows = [actuator_row(a) for a in table.actuators]
+    c3 = time.process_time()
+    peak2 = tracemalloc.get_traced_memory()[1]
+    tracemalloc.stop()
+    print(
+        f"option table, leg with 2-stage stacks, {len(table)} options: numpy {c1 - c0:.2f} CPU-s, "
+        f"peak {peak / 1e6:.1f} MB; per-option formulas {c3 - c2:.2f} CPU-s, peak "
+        f"{peak2 / 1e6:.1f} MB ({len(rows)} rows)"
+    )
 
 
 def main():
@@ -347,12 +389,17 @@ def main():
     ap.add_argument("--only", default=",".join(INSTANCES))
     ap.add_argument("--limit", type=float, default=60.0)
     ap.add_argument("--no-pyomo", action="store_true")
+    ap.add_argument("--table", action="store_true", help="time the option-table building only")
     a = ap.parse_args()
+    if a.table:
+        table_building()
+        return
     print(
         f"load average {os.getloadavg()[0]:.2f} on {os.cpu_count()} cores; time limit {a.limit} s"
     )
     for name in a.only.split(","):
         run(name, a.limit, not a.no_pyomo)
+        print(f"    load average {os.getloadavg()[0]:.2f}", flush=True)
 
 
 if __name__ == "__main__":

@@ -17,12 +17,14 @@ from __future__ import annotations
 import itertools
 import math
 import time
+from collections.abc import Sequence
 from dataclasses import dataclass, fields
 
 import numpy as np
 
-from .catalog.drives import drive_incompatibility
-from .design import DesignArrays, actuator_row
+from .catalog.drives import drive_incompatibility, fed_motor
+from .catalog.model import Motor
+from .design import _ACTUATOR_FIELDS, DesignArrays, actuator_row
 from .drivetrain import Actuator, StageChoice
 from .errors import InputError
 
@@ -50,8 +52,9 @@ R20 = (
     9.00,
 )
 
-#: largest number of options the table may hold (memory and build time)
-MAX_OPTIONS = 250_000
+#: largest number of options the table may hold (memory: a whole sizing run of the 3-joint leg
+#: with 645,280 options peaked at 0.7 GB resident, docs/benchmarks.md instance (f))
+MAX_OPTIONS = 1_000_000
 
 #: filters never remove an option whose margin is above this (looser than the checks' −1e-12)
 FILTER_SLACK = 1e-9
@@ -85,7 +88,7 @@ class OptionTable:
 
     Attributes
     ----------
-    actuators : tuple of Actuator, length O
+    actuators : sequence of Actuator, length O (an :class:`ActuatorList`: made when indexed)
     motor : int array (O,), index into ``motors``
     motors : tuple of str, motor names in catalog order
     rows : dict of field name -> array (O,), the :class:`DesignArrays` fields (SI)
@@ -161,24 +164,17 @@ def build_table(project, exclude=(), deadline=None) -> OptionTable:
         )
     stacks: list[tuple[StageChoice, ...]] = [()]
     for k in range(1, project.max_stages + 1):
-        stacks.extend(itertools.product(singles, repeat=k))
-    acts, motor_index = [], []
-    for i, m in enumerate(motors):
-        for stack in stacks:
-            for drive in feeds[i]:
-                acts.append(Actuator(m, tuple(stack), drive))
-                motor_index.append(i)
-    rows_list = []
-    for k, a in enumerate(acts):
-        if deadline is not None and k % 2048 == 0 and time.perf_counter() > deadline:
-            raise OutOfTime(f"the time limit ran out while building {len(acts)} options")
-        rows_list.append(actuator_row(a))
-    rows = {}
-    for f in fields(DesignArrays):
-        dtype = bool if f.name == "self_locking" else float
-        rows[f.name] = np.array([r[f.name] for r in rows_list], dtype=dtype)
+        stacks.extend(tuple(x) for x in itertools.product(singles, repeat=k))
+    # a unit is a motor with one of the drives that may feed it (None: no drives in the project)
+    units = [(m, drive) for i, m in enumerate(motors) for drive in feeds[i]]
+    rows = option_rows(units, stacks, deadline)
+    unit_motor = [i for i, _m in enumerate(motors) for _drive in feeds[i]]
+    motor_index = np.repeat(np.asarray(unit_motor, dtype=np.int64), len(stacks))
     return OptionTable(
-        tuple(acts), np.array(motor_index, dtype=np.int64), tuple(m.name for m in motors), rows
+        ActuatorList(tuple(units), tuple(stacks)),
+        motor_index,
+        tuple(m.name for m in motors),
+        rows,
     )
 
 
@@ -191,6 +187,162 @@ def motor_drives(project, motors) -> list[tuple]:
     used = {name for names in project.drives.values() for name in names}
     drives = [d for d in project.catalog.drives if d.name in used]
     return [tuple(d for d in drives if drive_incompatibility(m, d) is None) for m in motors]
+
+
+#: a motor for the stack-only parts of an option (ratio, efficiencies, gear ratings)
+_NO_MOTOR = Motor(
+    name="-", peak_torque=1.0, continuous_torque=1.0, rotor_inertia=0.0, mass=0.0, max_speed=1.0
+)
+
+
+class ActuatorList(Sequence):
+    """The table's options as Actuators, made when asked for (unit-major, then stacks in order;
+    a unit is a motor with its drive, or with None): a table of a million options keeps two short
+    lists, not a million objects."""
+
+    def __init__(self, units: tuple, stacks: tuple) -> None:
+        self.units, self.stacks = units, stacks
+
+    def __len__(self) -> int:
+        return len(self.units) * len(self.stacks)
+
+    def __getitem__(self, i):  # type: ignore[override]
+        if isinstance(i, slice):
+            return tuple(self[k] for k in range(*i.indices(len(self))))
+        i = int(i)
+        if i < 0:
+            i += len(self)
+        if not 0 <= i < len(self):
+            raise IndexError("option index out of range")
+        u, k = divmod(i, len(self.stacks))
+        motor, drive = self.units[u]
+        return Actuator(motor, self.stacks[k], drive)
+
+
+def _stack_row(stack: tuple) -> dict[str, float]:
+    """A stack's own parts of the option fields, computed with the operations (and their order)
+    of :class:`~jointwright.drivetrain.Actuator`, so a motor's fields combine with them to the
+    same floating-point numbers."""
+    a = Actuator(_NO_MOTOR, stack)
+    before = [float(math.prod(s.ratio for s in stack[:k])) if k else 1.0 for k in range(len(stack))]
+    return {
+        "ratio": a.ratio,
+        "eta_forward": a.eta_forward,
+        "eta_backward": a.eta_backward,
+        "self_locking": a.self_locking,
+        "inertia": sum(s.frame.input_inertia / before[k] ** 2 for k, s in enumerate(stack)),
+        "mass": sum(s.frame.mass for s in stack),
+        "cost": sum(s.frame.cost for s in stack),
+        "length": sum(s.frame.length for s in stack),
+        "diameter": max([s.frame.diameter for s in stack], default=-math.inf),
+        "gear_peak_torque": a.gear_peak_torque,
+        "gear_continuous_torque": a.gear_continuous_torque,
+        "breakaway": sum(s.frame.breakaway_torque / before[k] for k, s in enumerate(stack)),
+        **{name: _ACTUATOR_FIELDS[name](a) for name in _STACK_ONLY},
+    }
+
+
+#: option fields that depend on the stack alone (gear life and shock ratings, stiffness, bands)
+_STACK_ONLY = (
+    "life_torque",
+    "life_speed",
+    "life_rated",
+    "life_exponent",
+    "gear_momentary_torque",
+    "stiffness",
+    "eta_forward_low",
+    "eta_forward_high",
+    "eta_backward_low",
+    "eta_backward_high",
+)
+
+
+def _unit_value(motor, drive, attr: str) -> float:
+    """A unit's (motor with its drive) part of an option field: the motor's ratings as the drive
+    feeds them (catalog.drives.fed_motor), the drive's mass and cost added."""
+    if attr in ("peak_torque", "continuous_torque", "max_speed", "bus_voltage"):
+        value = getattr(fed_motor(motor, drive), attr)
+    elif attr in ("drive_mass", "drive_cost"):
+        value = 0.0 if drive is None else getattr(drive, attr.removeprefix("drive_"))
+    else:
+        value = getattr(motor, attr)
+    return math.nan if value is None else value
+
+
+def option_rows(units: list, stacks: list, deadline=None) -> dict[str, np.ndarray]:
+    """The :class:`DesignArrays` fields of every unit × stack (unit-major), as arrays (O,);
+    a unit is ``(motor, drive)`` with drive None when the project has no drives.
+
+    Stack parts are computed once per stack (:func:`_stack_row`), motor parts once per motor, and
+    combined by broadcasting with the operations of :func:`jointwright.design.actuator_row`
+    (equal to it bit for bit; tests/test_options_vectorized.py). A further dimension (another
+    part of an option) joins the same way: one more axis before the final ravel."""
+    srow = []
+    for k, st in enumerate(stacks):
+        if deadline is not None and k % 512 == 0 and time.perf_counter() > deadline:
+            raise OutOfTime(
+                f"the time limit ran out while building {len(units) * len(stacks)} options"
+            )
+        srow.append(_stack_row(st))
+    S = {key: np.array([r[key] for r in srow]) for key in srow[0]}
+    S["self_locking"] = S["self_locking"].astype(bool)
+
+    def motor(attr: str) -> np.ndarray:
+        return np.array([_unit_value(m, d, attr) for m, d in units], dtype=float)[:, None]
+
+    shape = (len(units), len(stacks))
+
+    def both(x) -> np.ndarray:
+        return np.broadcast_to(x, shape).ravel().copy()
+
+    def stack_only(name: str) -> np.ndarray:
+        s = np.asarray([r[name] for r in srow], dtype=float)  # (S,) or (S, slots)
+        full = np.broadcast_to(s[None], (len(units), *s.shape))
+        return full.reshape(len(units) * len(stacks), *s.shape[1:]).copy()
+
+    locked = S["self_locking"][None, :]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        breakaway = np.where(
+            locked,
+            np.inf,
+            S["ratio"][None, :]
+            * (motor("cogging_torque") + S["breakaway"][None, :])
+            / S["eta_backward"][None, :],
+        )
+    # the Actuator adds the drive's mass and cost last: same order, same rounding
+    mass = motor("mass") + S["mass"][None, :] + motor("drive_mass")
+    cost = motor("cost") + S["cost"][None, :] + motor("drive_cost")
+    rows = {
+        "mass": both(mass),
+        "ratio": both(S["ratio"][None, :]),
+        "eta_forward": both(S["eta_forward"][None, :]),
+        "eta_backward": both(S["eta_backward"][None, :]),
+        "self_locking": both(locked),
+        "rotor_inertia": both(motor("rotor_inertia") + S["inertia"][None, :]),
+        "motor_peak_torque": both(motor("peak_torque")),
+        "motor_continuous_torque": both(motor("continuous_torque")),
+        "gear_peak_torque": both(S["gear_peak_torque"][None, :]),
+        "gear_continuous_torque": both(S["gear_continuous_torque"][None, :]),
+        "breakaway_torque": both(breakaway),
+        "motor_max_speed": both(motor("max_speed")),
+        "torque_constant": both(motor("torque_constant")),
+        "resistance": both(motor("resistance")),
+        "bus_voltage": both(motor("bus_voltage")),
+        "thermal_resistance": both(motor("thermal_resistance")),
+        "thermal_time_constant": both(motor("thermal_time_constant")),
+        "winding_temperature_max": both(motor("winding_temperature_max")),
+        "diameter": both(np.maximum(motor("diameter"), S["diameter"][None, :])),
+        "length": both(motor("length") + S["length"][None, :]),
+        "cost": both(cost),
+        "breakaway_motor_side": both(motor("cogging_torque") + S["breakaway"][None, :]),
+        **{name: stack_only(name) for name in _STACK_ONLY},
+    }
+    missing = {f.name for f in fields(DesignArrays)} - set(rows)
+    if missing:  # a field added to DesignArrays: built per option until it is added here
+        acts = [Actuator(m, st, d) for m, d in units for st in stacks]
+        for name in sorted(missing):
+            rows[name] = np.array([actuator_row(a)[name] for a in acts])
+    return rows
 
 
 def option_key(a: Actuator) -> tuple:

@@ -232,16 +232,27 @@ def run_backend(
     model: SizingModel, units, backend: str, time_limit, progress, phase=None
 ) -> SolveOutcome:
     if backend == "search":
+        from .solve.handover import milp_suits
         from .solve.search import BranchAndBound
 
+        milp, incumbent = None, None
+        if milp_suits(model):
+            milp, incumbent = _milp_first(model, units, time_limit, incumbent, phase)
+            if milp.status == "optimal":
+                return milp
+            if time_limit is not None:
+                time_limit = max(time_limit - milp.seconds, 1e-3)
         t0 = time.perf_counter()
-        incumbent = first_design(model, units, time_limit, phase)
+        first = first_design(model, units, time_limit, phase)
+        if first is not None and model.better(first, incumbent):
+            incumbent = first
         if time_limit is not None:
             time_limit = max(time_limit - (time.perf_counter() - t0), 1e-3)
         (phase or (lambda text: None))("searching")
-        return BranchAndBound(
+        out = BranchAndBound(
             model, units, time_limit=time_limit, progress=progress, incumbent=incumbent
         ).run()
+        return out if milp is None else _with_milp_bound(out, milp)
     if backend == "pyomo":
         from .solve.pyomo_backend import solve_pyomo
 
@@ -249,6 +260,47 @@ def run_backend(
     from .solve.enumerate import enumerate_all
 
     return enumerate_all(model)
+
+
+def _milp_first(model: SizingModel, units, time_limit, incumbent, phase):
+    """The MILP hand-over (solve/handover.py): Pyomo/HiGHS for its share of the time; its design
+    (scored by the physics like any) becomes the search's incumbent when it is better. An answer
+    within the MILP's gap counts as proven (status ``optimal``)."""
+    from .solve.handover import MILP_GAP, milp_time
+    from .solve.pyomo_backend import solve_pyomo
+
+    (phase or (lambda text: None))("searching (MILP)")
+    out = solve_pyomo(model, units, time_limit=milp_time(time_limit))
+    if out.index is not None:
+        key = model.best_key(np.asarray(out.index)[None, :])
+        if key is not None and model.better(key, incumbent):
+            incumbent = key
+    if (
+        out.index is not None
+        and math.isfinite(out.bound)
+        and relative_gap(out.objective, out.bound) <= MILP_GAP
+    ):
+        out = SolveOutcome(
+            "optimal",
+            out.index,
+            out.objective,
+            out.bound,
+            out.seconds,
+            f"Pyomo/HiGHS hand-over: {out.native}",
+            out.nodes,
+        )
+    return out, incumbent
+
+
+def _with_milp_bound(out: SolveOutcome, milp: SolveOutcome) -> SolveOutcome:
+    """The search's outcome with the MILP's bound when that is lower (both hold for every design
+    with a positive payload, and the MILP's only when it is ≥ 0: a design that cannot hold
+    itself has a payload objective ≤ 0)."""
+    native = f"{out.native}; after Pyomo/HiGHS: {milp.native}"
+    bound = out.bound
+    if out.status == "time_limit" and math.isfinite(milp.bound) and milp.bound >= 0:
+        bound = max(min(out.bound, milp.bound), out.objective)
+    return SolveOutcome(out.status, out.index, out.objective, bound, out.seconds, native, out.nodes)
 
 
 #: share of the time limit kept for the explanation (runner-ups, diagnosis) when it is asked for
@@ -472,7 +524,8 @@ def finish(
         assessment=a,
         objective=sense * value,
         bound=sense * max(outcome.bound, value),
-        gap=0.0 if status == "optimal" else relative_gap(value, max(outcome.bound, value)),
+        # 0 for the search's proof; the MILP hand-over proves within its relative gap (≤ 1e-4)
+        gap=relative_gap(value, max(outcome.bound, value)),
         seconds=time.perf_counter() - start,
         backend=backend,
         native_status=outcome.native,

@@ -28,6 +28,9 @@ from ..problem import checks, feasible, objective, objective_names, objective_tr
 #: designs whose duty cases are checked per oracle call
 DUTY_CHUNK = 32
 
+#: mass groups per free joint in the IMF bound, and group combinations per bound at most
+IMF_GROUPS, IMF_COMBOS = 4, 16
+
 #: relative tolerance under which two objective (or mass) values count as a tie
 TIE_TOLERANCE = 1e-9
 
@@ -821,8 +824,6 @@ class SizingModel:
         if first.size < K0:
             sub = self.impact_bounds(idx, unit, options[first], st)
             return {k: (v[0][back], v[1][back]) for k, v in sub.items()}
-        from ..robot.basis import mass_matrix
-
         K = options.size
         unit = list(unit)
         full = np.broadcast_to(idx, (K, self.n)).copy()
@@ -832,6 +833,57 @@ class SizingModel:
         m_lo = np.where(free, st["mmin"][None, :], self.mass[safe])
         m_hi = np.where(free, st["mmax"][None, :], self.mass[safe])
         r_lo = np.where(free, st["rmin"][None, :], self.reflected[safe])
+        # each free joint's candidates split into mass groups: every completion takes, at each
+        # free joint, an option of one group, so the largest bound over the group combinations
+        # bounds it (docs/optimizer.md, item 8); one combination is the plain bound
+        F = np.flatnonzero(free[0]) if K else np.zeros(0, dtype=np.int64)
+        out = None
+        for combo in self._imf_combos(F, st):
+            m_lo[:, F], m_hi[:, F], r_lo[:, F] = combo
+            got = self._impact_bounds_at(K, m_lo, m_hi, r_lo.copy())
+            if out is None:
+                out = got
+            else:
+                out = {
+                    k: (np.maximum(out[k][0], v[0]), np.maximum(out[k][1], v[1]))
+                    for k, v in got.items()
+                }
+        return out
+
+    def _imf_combos(self, F: np.ndarray, st: dict):
+        """(m_min, m_max, r_min) rows over the free joints F, one per combination of mass groups
+        (at most :data:`IMF_COMBOS`); one row of the plain extremes when F is empty."""
+        if F.size == 0:
+            yield (np.zeros(0), np.zeros(0), np.zeros(0))
+            return
+        per = max(1, min(IMF_GROUPS, int(math.floor(IMF_COMBOS ** (1.0 / F.size) + 1e-9))))
+        groups = []
+        for j in F:
+            c = self.candidates[j]
+            m = self.mass[c]
+            u = np.unique(m)
+            if per == 1 or u.size < 2:
+                groups.append([(st["mmin"][j], st["mmax"][j], st["rmin"][j])])
+                continue
+            cuts = u[np.linspace(0, u.size, min(per, u.size) + 1).astype(int)[1:-1]]
+            g = np.searchsorted(cuts, m, side="right")
+            groups.append(
+                [
+                    (m[g == k].min(), m[g == k].max(), self.reflected[c][g == k].min())
+                    for k in range(cuts.size + 1)
+                    if np.any(g == k)
+                ]
+            )
+        import itertools
+
+        for combo in itertools.product(*groups):
+            arr = np.array(combo, dtype=float)
+            yield arr[:, 0], arr[:, 1], arr[:, 2]
+
+    def _impact_bounds_at(self, K: int, m_lo, m_hi, r_lo) -> dict:
+        """:meth:`impact_bounds` for given mass and reflected-inertia extremes (K, n)."""
+        from ..robot.basis import mass_matrix
+
         locked = ~np.isfinite(r_lo)
         r_lo = np.where(locked, 0.0, r_lo)
         out = {}

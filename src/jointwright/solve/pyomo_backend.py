@@ -38,6 +38,12 @@ from .result import SolveOutcome
 #: finite stand-in for an infinite torque bound (N·m); no real joint comes near it
 BIG = 1e9
 
+#: binaries per second the MILP is built at, at least (measured on our 2-core machine under a
+#: load of 9-14: 30,720 in 6 s, 76,800 in 15 s; docs/benchmarks.md); a model whose estimated
+#: building time times seven (building, then handing it to HiGHS: up to six times as long)
+#: exceeds the time limit is not started
+BUILD_RATE = 5_000.0
+
 
 @contextlib.contextmanager
 def _quiet_stdout():
@@ -187,6 +193,20 @@ def solve_pyomo(model: SizingModel, units, *, time_limit=None, max_rounds=10_000
     if any(c.size == 0 for c in model.candidates):
         return SolveOutcome(
             "infeasible", None, -math.inf, -math.inf, 0.0, "a joint has no option", 0
+        )
+    binaries = sum(int(c.size) for c in model.candidates)
+    guess = binaries / BUILD_RATE
+    if time_limit is not None and 7.0 * guess > time_limit:
+        # building (checked only between blocks of rows) and handing over would overrun
+        return SolveOutcome(
+            "time_limit",
+            None,
+            -math.inf,
+            math.inf,
+            time.perf_counter() - start,
+            f"the MILP's {binaries} binaries would take about {guess:.0f} s to build; "
+            "no time to build and solve it",
+            0,
         )
     try:
         m, opts = build_milp(model, units, deadline)

@@ -88,6 +88,24 @@ class BranchAndBound:
         # a bound on every design (budget, item 4b), within a tenth of the time limit
         cap_end = math.inf if time_limit is None else time.perf_counter() + 0.1 * time_limit
         self.cap = model.budget_cap(self.st, deadline=cap_end)
+        # the per-component budget bound (item 4c), within a quarter of the limit
+        self.levels = None
+        if model.kind == "payload" and model.payload and math.isfinite(self.cap):
+            from .component_bound import ComponentLevels, level_grid
+
+            end = math.inf if time_limit is None else time.perf_counter() + 0.25 * time_limit
+            low = min(0.0, incumbent[0]) if incumbent is not None else 0.0
+            grid = level_grid(low, self.cap, None if incumbent is None else incumbent[0])
+            self.levels = ComponentLevels(model, model.candidates, grid, deadline=end)
+            self.cap = min(self.cap, self.levels.cap())
+        # stance cases: one linear program per case and node (item 9)
+        self.stance = None
+        if model.kind == "payload" and model.stance:
+            from .stance_bound import StanceBound
+
+            self.stance = StanceBound(model)
+            root = np.full(model.n, -1, dtype=np.int64)
+            self.cap = min(self.cap, self.stance.bound(root, (), np.empty(0, dtype=np.int64)))
         self.nodes = 0
         self.scored = 0
         self.open_bound = -math.inf
@@ -157,6 +175,11 @@ class BranchAndBound:
             floor = self.best_key[0] - tie_tol(self.best_key[0])
         b = self.model.child_bounds(idx, unit, opts, self.st, floor)
         b["objective"] = np.minimum(b["objective"], self.cap)
+        if self.levels is not None and opts.size:
+            st = dict(self.st, mmin=self.model.useful_mmin(self.st, floor))
+            b["objective"] = np.minimum(b["objective"], self.levels.bound(idx, unit, opts, st))
+        if self.stance is not None and opts.size:
+            b["objective"] = np.minimum(b["objective"], self.stance.bound(idx, unit, opts))
         keep = self._prune(b)
         opts, b = opts[keep], {k: v[keep] for k, v in b.items()}
         if opts.size:

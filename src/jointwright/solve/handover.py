@@ -1,0 +1,53 @@
+"""When the default back-end hands an instance to the MILP (Pyomo/HiGHS) first.
+
+The branch and bound bounds a payload objective under a budget shared by many joints through
+relaxations (docs/optimizer.md, items 4a-4c); the MILP sees the budget and the gravity coupling
+exactly in one linear program per node. When the MILP models *every* requirement of the instance
+(payload cases with their minimums, mass and cost budgets; every per-joint limit is already in
+the candidates), so no lazy cut is needed, and the instance couples many joints through a
+budget, HiGHS usually closes where the search stops at a gap (docs/benchmarks.md). The default
+then runs the MILP first, for a share of the time left, and continues with the primal heuristics
+and the branch and bound from the MILP's design when the MILP did not prove the optimum.
+"""
+
+from __future__ import annotations
+
+import math
+
+from .model import SizingModel
+
+#: share of the time left that the MILP may use before the search takes over
+MILP_SHARE = 0.9
+#: the MILP's time without a time limit (s)
+MILP_SECONDS = 60.0
+#: joints at least (a small robot proves out in the search within seconds)
+MILP_MIN_JOINTS = 6
+#: candidate options summed over the joints at most (model size: x[j, o] binaries)
+MILP_MAX_OPTIONS = 40_000
+#: relative gap at which a MILP answer is accepted as proven (HiGHS's default MIP gap)
+MILP_GAP = 1e-4
+
+
+def milp_suits(model: SizingModel) -> bool:
+    """Whether the MILP models every requirement of ``model`` exactly and the instance is the
+    kind it closes: payload objective, a finite mass or cost budget, at least
+    :data:`MILP_MIN_JOINTS` joints, no case limit other than a payload minimum or a speed minimum
+    (any other would need lazy cuts: correct, but slow) and at most :data:`MILP_MAX_OPTIONS`
+    candidates. Per-joint limits are in the candidates already."""
+    if model.kind != "payload" or model.measure is not None or not model.payload:
+        return False
+    if not (math.isfinite(model.total_mass_max) or math.isfinite(model.total_cost_max)):
+        return False
+    if model.n < MILP_MIN_JOINTS or model.stance or model.duty or model.backdrive:
+        return False
+    exact = {"payload": {"payload_min"}, "speed": {"speed_min"}}  # the MILP's rows, the filters
+    if any(not set(c.limits) <= exact.get(c.kind, set()) for c in model.project.cases):
+        return False
+    if model.project.rotor_coupling:
+        return False
+    return sum(int(c.size) for c in model.candidates) <= MILP_MAX_OPTIONS
+
+
+def milp_time(time_left: float | None) -> float:
+    """Seconds the MILP gets: a share of the time left, or :data:`MILP_SECONDS` without a limit."""
+    return MILP_SECONDS if time_left is None else MILP_SHARE * time_left
