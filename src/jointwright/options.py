@@ -94,7 +94,7 @@ class OptionTable:
     rows : dict of field name -> array (O,), the :class:`DesignArrays` fields (SI)
     """
 
-    actuators: tuple
+    actuators: Sequence  # ActuatorList (made when indexed) or a tuple of Actuator
     motor: np.ndarray
     motors: tuple
     rows: dict

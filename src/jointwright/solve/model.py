@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -270,7 +271,7 @@ class SizingModel:
                 best = None
                 if done.any():
                     r = self.best(dataclasses.replace(s, feasible=done, objective=f))
-                    best = self.key(current, r)
+                    best = None if r is None else self.key(current, r)
                 return best, float(f[left].max())
             todo = [row] + [r for r in order if ok[r] and not known[r] and r != row][
                 : DUTY_CHUNK - 1
@@ -414,7 +415,7 @@ class SizingModel:
         _u, first = np.unique(good, axis=0, return_index=True)  # equal reaches: keep one
         first = np.sort(first)
         order = first[np.lexsort(good[first].T[::-1])[::-1]]
-        front = []
+        front: list = []
         block = np.empty((0, good.shape[1]))
         for i in order:
             g = good[i]
@@ -428,7 +429,7 @@ class SizingModel:
     def child_bounds(
         self,
         idx: np.ndarray,
-        unit: tuple,
+        unit: Sequence[int],
         options: np.ndarray,
         st: dict,
         floor: float | None = None,
@@ -550,8 +551,8 @@ class SizingModel:
         set F (the search meets few distinct sets: one per depth)."""
         key = (id(st["own"]), F.tobytes())
         store = cache
-        cache = self.__dict__.setdefault("_levels", {})
-        hit = cache.get(key) if store else None
+        levels_cache: dict = self.__dict__.setdefault("_levels", {})
+        hit = levels_cache.get(key) if store else None
         if hit is not None and hit[0] is st["own"]:  # the reference held keeps the id unique
             return hit[1]
         entries = [st["own"][j] for j in F]
@@ -565,9 +566,9 @@ class SizingModel:
             g_mass += np.where(count > 0, run_m[np.maximum(count - 1, 0)], np.inf)
             g_cost += np.where(count > 0, run_c[np.maximum(count - 1, 0)], np.inf)
         if store:
-            if len(cache) > 256:
-                cache.pop(next(iter(cache)))
-            cache[key] = (st["own"], (levels, g_mass, g_cost))
+            if len(levels_cache) > 256:
+                levels_cache.pop(next(iter(levels_cache)))
+            levels_cache[key] = (st["own"], (levels, g_mass, g_cost))
         return levels, g_mass, g_cost
 
     def budget_cap(
@@ -687,7 +688,7 @@ class SizingModel:
             out = np.minimum(out, np.maximum(bound, 0.0))
         return out
 
-    def _payload_bound(self, t, c, idx, A, F, unit, options, st) -> np.ndarray:
+    def _payload_bound(self, t, c, idx, A, F, unit, options, st) -> tuple:
         """Upper bound on the payload of case t over all completions (interval arithmetic).
 
         Only the joints of the unit and the joints its mass loads differ between the K
@@ -777,7 +778,7 @@ class SizingModel:
             rows = np.flatnonzero(ok)
             sub = None if bounds is None else {"objective": bounds["objective"][rows]}
             ok[rows] = self.impact_ok(idx, unit, options[rows], st, sub)
-            if sub is not None:
+            if sub is not None and bounds is not None:
                 bounds["objective"][rows] = sub["objective"]
                 bounds["objective"][~ok] = np.minimum(bounds["objective"][~ok], -np.inf)
         if self.duty_bound and ok.any():
@@ -799,7 +800,9 @@ class SizingModel:
             "imf_min" in c.limits or "directional_imf_min" in c.limits for c in self.impact_cases
         )
 
-    def impact_bounds(self, idx: np.ndarray, unit: tuple, options: np.ndarray, st: dict) -> dict:
+    def impact_bounds(
+        self, idx: np.ndarray, unit: Sequence[int], options: np.ndarray, st: dict
+    ) -> dict:
         """Upper bounds (K,) on the IMF ξ and the directional IMF ξ_x of every impact case over
         all completions of the K children (docs/optimizer.md, item 8).
 
@@ -837,11 +840,11 @@ class SizingModel:
         # free joint, an option of one group, so the largest bound over the group combinations
         # bounds it (docs/optimizer.md, item 8); one combination is the plain bound
         F = np.flatnonzero(free[0]) if K else np.zeros(0, dtype=np.int64)
-        out = None
+        out: dict = {}
         for combo in self._imf_combos(F, st):
             m_lo[:, F], m_hi[:, F], r_lo[:, F] = combo
             got = self._impact_bounds_at(K, m_lo, m_hi, r_lo.copy())
-            if out is None:
+            if not out:
                 out = got
             else:
                 out = {
@@ -903,7 +906,7 @@ class SizingModel:
             both = keep[:, :, None] & keep[:, None, :]
             H_lo = np.where(both, H_lo, np.eye(nv))
             Jt = np.where(keep[:, :, None], np.broadcast_to(J.T, (K,) + J.T.shape), 0.0)
-            A = np.einsum("ij,kjl->kil", J, np.linalg.solve(H_lo, Jt)) if J.ndim == 2 else None
+            A = np.einsum("ij,kjl->kil", J, np.linalg.solve(H_lo, Jt))
             Jb = J[:, :nb]
             rhs = np.broadcast_to(Jb.T, (K,) + Jb.T.shape)
             B = np.einsum("ij,kjl->kil", Jb, np.linalg.solve(H_hi[:, :nb, :nb], rhs))
