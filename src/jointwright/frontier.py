@@ -1,17 +1,23 @@
-"""Payload versus back-drivability: the Pareto frontier by exact ε-constraint sweeps.
+"""Payload versus back-drivability: the Pareto frontier, complete and proven.
 
-Each point is an exact :func:`jointwright.sizing.size` (payload objective) with the chosen
-measure of one case turned into a constraint: ``imf`` ≥ ε, ``effective_mass`` ≤ ε or
-``backdrive_force`` ≤ ε; every other requirement of the project stays. The sweep starts with the
-measure free (the largest payload), then asks each time for a measure strictly better than the
-last point's (by a relative step of 1e-7) until nothing is feasible. Each step has two exact
-solves: the largest payload P under ε, then the best measure among designs with payload ≥ P
-(a search with the measure as its objective), so each point is non-dominated. Over the discrete
-options this yields every non-dominated (payload, measure) pair: for a non-dominated (P*, μ*),
-the step whose ε lies between the previous point's measure and μ* has largest payload ≥ P* and,
-by non-dominance, exactly P*, and its second stage reaches μ*. Points whose successor has the
-same payload (within 1e-9) are dropped as dominated (a safeguard). When the sweep stops early (``points`` or the time limit) the
-set is a sample, and ``complete`` says so.
+Three exact methods (docs/frontier.md, "Choosing the method"):
+
+* ``branch-and-bound`` (the default): a bi-objective branch and bound over joints
+  (:mod:`jointwright.solve.biobjective`) that cuts a partial design when its bound box is
+  dominated by the front found so far; complete and proven; a run stopped by the time limit
+  returns the proven part of the front and the region still unexplored.
+* ``exhaustive``: every candidate combination scored (:mod:`jointwright.solve.pareto`).
+* ``sweep``: exact ε-constraint solves. Each point is an exact :func:`jointwright.sizing.size`
+  (payload objective) with the chosen measure of one case turned into a constraint: ``imf`` ≥ ε,
+  ``effective_mass`` ≤ ε or ``backdrive_force`` ≤ ε; every other requirement of the project
+  stays. The sweep starts with the measure free (the largest payload), then asks each time for a
+  measure strictly better than the last point's (by a relative step of 1e-7) until nothing is
+  feasible. Each step has two exact solves: the largest payload P under ε, then the best measure
+  among designs with payload ≥ P, so each point is non-dominated; over the discrete options this
+  yields every non-dominated (payload, measure) pair. When the sweep stops early (``points`` or
+  the time limit) the set is a sample, and ``complete`` says so.
+
+Near-duplicate neighbours may be merged for display (``merge``, a fraction of each axis's span).
 """
 
 from __future__ import annotations
@@ -43,6 +49,8 @@ class FrontierPoint:
     design: object  # Design
     mass: float  # kg
     changes: tuple  # joints whose actuator differs from the previous point's
+    #: (joint, previous point's actuator label, this point's) for each joint in ``changes``
+    changed: tuple = ()
 
 
 @dataclass(frozen=True)
@@ -55,8 +63,13 @@ class Frontier:
     knee: int | None  # index into points
     seconds: float
     solves: int
-    method: str = "sweep"  # "exhaustive" (every combination scored) or "sweep" (ε-constraint)
-    scored: int = 0  # designs scored by the exhaustive method
+    method: str = "sweep"  # "branch-and-bound", "exhaustive" or "sweep" (ε-constraint)
+    scored: int = 0  # designs scored by the exhaustive method or the branch and bound
+    #: a stopped branch and bound: every missing point has payload ≤ unexplored[0] (kg) and a
+    #: measure no better than unexplored[1]; the points returned are proven. None otherwise
+    unexplored: tuple | None = None
+    merged: int = 0  # front points merged into a neighbour as near-duplicates
+    merge_tolerance: float = 0.0  # fraction of each axis's span (docs/frontier.md)
 
     def to_dict(self) -> dict:
         from .assessment import _jsonable
@@ -73,12 +86,18 @@ class Frontier:
                 "solves": self.solves,
                 "method": self.method,
                 "designs_scored": self.scored,
+                "unexplored": None
+                if self.unexplored is None
+                else {"payload_max": self.unexplored[0], "measure_bound": self.unexplored[1]},
+                "merged": self.merged,
+                "merge_tolerance": self.merge_tolerance,
                 "points": [
                     {
                         "payload": p.payload,
                         "measure": p.measure,
                         "mass": p.mass,
                         "changes": list(p.changes),
+                        "changed": {j: [old, new] for j, old, new in p.changed},
                         "actuators": {
                             j: a.label()
                             for j, a in zip(p.design.joints, p.design.actuators, strict=True)
@@ -138,6 +157,7 @@ def frontier(
     time_limit: float | None = None,
     backend: str = "search",
     method: str = "auto",
+    merge: float = 0.0,
 ) -> Frontier:
     """Payload versus ``measure`` at ``case``: the non-dominated designs, largest payload first.
 
@@ -149,9 +169,12 @@ def frontier(
     points : most sizing solves (the frontier is marked incomplete when it is reached)
     time_limit : s for the whole sweep
     backend : passed to :func:`jointwright.sizing.size` (sweep)
-    method : "exhaustive" (score every candidate combination: complete and proven), "sweep"
-        (exact ε-constraint solves) or "auto" (exhaustive up to :data:`EXHAUSTIVE_MAX` candidate
-        designs, else the sweep)
+    method : "branch-and-bound" (bi-objective branch and bound: complete and proven; past the
+        time limit the proven part and the region still unexplored), "exhaustive" (score every
+        candidate combination: complete and proven), "sweep" (exact ε-constraint solves) or
+        "auto" (the branch and bound; docs/frontier.md, "Choosing the method")
+    merge : neighbouring points closer than this fraction of the front's span on both axes are
+        merged into one (the larger payload stays; both ends always stay); 0 keeps every point
 
     Returns
     -------
@@ -167,18 +190,20 @@ def frontier(
     _kind, key, metric, sense = MEASURES[measure]
     start = time.perf_counter()
     deadline = math.inf if time_limit is None else start + time_limit
-    if method not in ("auto", "exhaustive", "sweep"):
-        raise InputError("<api>", "method", f"must be auto, exhaustive or sweep, got {method!r}")
+    if method not in METHODS:
+        raise InputError("<api>", "method", f"must be one of {', '.join(METHODS)}, got {method!r}")
+    if not isinstance(merge, (int, float)) or not 0.0 <= merge < 1.0:
+        raise InputError("<api>", "merge", f"must be a fraction in [0, 1), got {merge!r}")
     from .options import build_table
     from .sizing import read_objective
 
     # one option table for every solve: it depends on the catalog and the exclusions only
     table = build_table(project, read_objective(project)["exclude"])
-    if method != "sweep":
-        limit = EXHAUSTIVE_MAX if method == "auto" else math.inf
-        exhaustive = _exhaustive(project, c.name, key, metric, sense, deadline, start, limit, table)
-        if exhaustive is not None:
-            return exhaustive
+    if method in ("auto", "branch-and-bound"):
+        return _merged(_bnb(project, c.name, key, metric, sense, deadline, start, table), merge)
+    if method == "exhaustive":
+        out = _exhaustive(project, c.name, key, metric, sense, deadline, start, math.inf, table)
+        return _merged(out, merge)
     found, eps, solves, complete = [], None, 0, False
     while solves < points:
         left = deadline - time.perf_counter()
@@ -217,8 +242,83 @@ def frontier(
             complete = True
             break
     pts = _points(found)
-    return Frontier(
+    out = Frontier(
         measure, c.name, sense, pts, complete, knee(pts, sense), time.perf_counter() - start, solves
+    )
+    return _merged(out, merge)
+
+
+#: the methods :func:`frontier` offers
+METHODS = ("auto", "branch-and-bound", "exhaustive", "sweep")
+
+
+def _bnb(
+    project, case: str, key: str, metric: str, sense: str, deadline: float, start: float, table
+) -> Frontier:
+    """The complete front by bi-objective branch and bound (:mod:`.solve.biobjective`)."""
+    from .sizing import build_model, design_of, read_objective, units_of
+    from .solve.biobjective import BiObjectiveSearch
+
+    free = with_limit(project, case, key, None)
+    cfg = read_objective(project)
+    model, _ = build_model(free, "payload", cfg["pin"], cfg["exclude"], cfg["shared"], table=table)
+    units = units_of(model.n, model.shared)
+    out = BiObjectiveSearch(model, units, case, metric, sense, deadline=deadline).run()
+    found = [
+        (payload, mu, design_of(project, model, idx, "frontier point"))
+        for payload, mu, idx, _mass in out.points
+    ]
+    pts = _points(found)
+    unexplored = None if out.complete else (out.open_payload, out.open_measure)
+    return Frontier(
+        MEASURES_NAME[metric],
+        case,
+        sense,
+        pts,
+        out.complete,
+        knee(pts, sense),
+        time.perf_counter() - start,
+        0,
+        "branch-and-bound",
+        out.scored,
+        unexplored,
+    )
+
+
+def _merged(f: Frontier, tol: float) -> Frontier:
+    """``f`` with near-duplicate neighbours merged: walking from the largest payload, a point
+    within ``tol`` of the front's span on both axes of the last point kept is dropped; the last
+    point (the most back-drivable) always stays, and replaces the last kept one when that is
+    within the tolerance and is not the first. Knee and joints changed follow the points kept."""
+    pts = f.points
+    if tol <= 0 or len(pts) < 3:
+        return dataclasses.replace(f, merge_tolerance=float(tol))
+    p = [q.payload for q in pts]
+    m = [q.measure for q in pts]
+    span_p = (max(p) - min(p)) or 1.0
+    span_m = (max(m) - min(m)) or 1.0
+
+    def near(a, b) -> bool:
+        return (
+            abs(a.payload - b.payload) <= tol * span_p
+            and abs(a.measure - b.measure) <= tol * span_m
+        )
+
+    keep = [pts[0]]
+    for q in pts[1:-1]:
+        if not near(q, keep[-1]):
+            keep.append(q)
+    if len(keep) > 1 and near(pts[-1], keep[-1]):
+        keep[-1] = pts[-1]
+    elif len(keep) == 1 or not near(pts[-1], keep[-1]):
+        keep.append(pts[-1])
+    kept = _points([(q.payload, q.measure, q.design) for q in keep], dedupe=False)
+    return dataclasses.replace(
+        f,
+        points=kept,
+        knee=knee(kept, f.sense),
+        merged=len(pts) - len(kept),
+        merge_tolerance=float(tol),
     )
 
 
@@ -324,11 +424,11 @@ def _measure(project, design, case: str, metric: str) -> float:
     return float(next(c for c in a.cases if c.name == case).metrics[metric])
 
 
-def _points(found) -> tuple:
+def _points(found, dedupe: bool = True) -> tuple:
     keep = [
         f
         for i, f in enumerate(found)
-        if i + 1 == len(found) or found[i + 1][0] < f[0] - tie_tol(f[0])
+        if not dedupe or i + 1 == len(found) or found[i + 1][0] < f[0] - tie_tol(f[0])
     ]
     out, prev = [], None
     for payload, mu, d in keep:
@@ -339,7 +439,16 @@ def _points(found) -> tuple:
                 j for j, a, b in zip(d.joints, d.actuators, prev.actuators, strict=True) if a != b
             )
         )
-        out.append(FrontierPoint(payload, mu, d, d.mass, changes))
+        changed = (
+            ()
+            if prev is None
+            else tuple(
+                (j, b.label(), a.label())
+                for j, a, b in zip(d.joints, d.actuators, prev.actuators, strict=True)
+                if a != b
+            )
+        )
+        out.append(FrontierPoint(payload, mu, d, d.mass, changes, changed))
         prev = d
     return tuple(out)
 
