@@ -125,3 +125,24 @@ def test_text_plot_numbers_every_point_and_marks_the_turning_point(leg):
     if f.knee is not None:
         assert "◆" in text and f"turning point of the trade-off (point {f.knee + 1})" in text
     assert "─" in text  # steps, not straight lines
+
+
+def test_cli_time_limit_states_the_region_not_searched(tmp_path):
+    # a limit far below the preparation time: the search stops before its first entry, returns
+    # no unproven point, and says which region is left
+    import json
+
+    from click.testing import CliRunner
+
+    from jointwright.cli import main
+
+    runner = CliRunner()
+    assert runner.invoke(main, ["new", str(tmp_path / "leg")]).exit_code == 0
+    project = str(tmp_path / "leg" / "project.toml")
+    r = runner.invoke(main, ["frontier", project, "--time-limit", "0.001"])
+    assert r.exit_code == 0, r.output
+    assert "stopped by the time limit" in r.output and "every point shown is proven" in r.output
+    r = runner.invoke(main, ["frontier", project, "--time-limit", "0.001", "--json"])
+    data = json.loads(r.output)
+    assert data["complete"] is False and data["method"] == "branch-and-bound"
+    assert data["unexplored"]["payload_max"] > 0 and data["points"] == []

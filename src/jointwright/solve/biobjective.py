@@ -100,6 +100,12 @@ class BiObjectiveSearch:
         self.st = model.stats(model.candidates)
         cap_end = min(deadline, time.perf_counter() + 2.0)
         self.cap = model.budget_cap(self.st, deadline=cap_end)
+        self.levels, self.stance = shared_payload_bounds(model, self.cap, deadline)
+        if self.levels is not None:
+            self.cap = min(self.cap, self.levels.cap())
+        if self.stance is not None:
+            root = np.full(model.n, -1, dtype=np.int64)
+            self.cap = min(self.cap, self.stance.bound(root, (), np.empty(0, dtype=np.int64)))
         self.lazy = bool(model.duty or model.stance)
         n = model.n
         # the front: fully checked feasible designs, non-dominated, sorted by payload ascending
@@ -122,7 +128,8 @@ class BiObjectiveSearch:
         opts = [self._unit_options(u) for u in self.units]
         if all(o.size for o in opts):
             root = (np.full(n, -1, dtype=np.int64), -1)
-            heap.append((-math.inf, -math.inf, 0.0, 0.0, next(tick), NODE, root, 0))
+            top = 1.0 if self.mmodel.measure[0] == "imf" else 0.0  # the trivial measure bound
+            heap.append((-self.cap, -top, 0.0, 0.0, next(tick), NODE, root, 0))
         self.leaves: list = []  # complete designs not yet scored, by their (near-exact) boxes
         pops = 0
         while heap or self.leaves:
@@ -227,6 +234,10 @@ class BiObjectiveSearch:
         boxes (payload upper bound, measure bound, internal sense)."""
         b = self.model.child_bounds(idx, unit, opts, self.st)
         p = np.minimum(b["objective"], self.cap)
+        if self.levels is not None and opts.size:
+            p = np.minimum(p, self.levels.bound(idx, unit, opts, self.st))
+        if self.stance is not None and opts.size:
+            p = np.minimum(p, self.stance.bound(idx, unit, opts))
         keep = b["ok"] & (p > -np.inf)
         if self.mmodel.measure[0] == "backdrive_force":
             mb = self.mmodel.child_bounds(idx, unit, opts[keep], self.st)["objective"]
@@ -297,6 +308,31 @@ class BiObjectiveSearch:
             heapq.heappush(
                 heap, (-pay[k], -mu[k], mass[k], refl[k], next(tick), kind, chunk[k], last)
             )
+
+
+def shared_payload_bounds(model: SizingModel, cap: float, deadline: float):
+    """The single-objective search's further payload bounds, shared where this build has them:
+    the per-component budget levels (``solve/component_bound.py``) and the stance-case linear
+    program (``solve/stance_bound.py``), built as :class:`.search.BranchAndBound` builds them.
+    Returns (levels or None, stance or None); without those modules both are None (fewer cuts,
+    the same front)."""
+    levels = stance = None
+    if model.payload and math.isfinite(cap):
+        try:
+            from .component_bound import ComponentLevels, level_grid
+        except ImportError:
+            ComponentLevels = None
+        if ComponentLevels is not None:
+            end = min(deadline, time.perf_counter() + 2.0)
+            levels = ComponentLevels(model, model.candidates, level_grid(0.0, cap, None), end)
+    if model.stance:
+        try:
+            from .stance_bound import StanceBound
+        except ImportError:
+            StanceBound = None
+        if StanceBound is not None:
+            stance = StanceBound(model)
+    return levels, stance
 
 
 def _mtol(m: float) -> float:
