@@ -77,11 +77,13 @@ def compare(project, measure: str, limit: float, methods, reference: str | None)
             lambda m=method: frontier(project, measure, method=m, points=10_000, time_limit=limit)
         )
         got[method] = (f, wall, cpu)
-    ref = got.get(reference, (None,))[0] if reference else None
+    # the reference: the named method when it completed, else any other complete method
+    order = ([reference] if reference else []) + [m for m in got if m != reference]
+    ref_name = next((m for m in order if got[m][0].complete), None)
     for method, (f, wall, cpu) in got.items():
         note = ""
-        if ref is not None and method != reference and f.complete and ref.complete:
-            note = f"; same set as {reference}: {same_points(f.points, ref.points)}"
+        if ref_name is not None and method != ref_name and f.complete:
+            note = f"; same set as {ref_name}: {same_points(f.points, got[ref_name][0].points)}"
         line(method, f, wall, cpu, note)
     return got
 

@@ -211,7 +211,7 @@ def frontier(
             break
         current = with_limit(project, c.name, key, eps)
         upper = found[-1][0] if found else None  # the neighbour's payload bounds this one
-        status, payload, design = _solve(
+        status, payload, design, _i = _solve(
             current, "payload", None, time_limit and left, upper, backend, table
         )
         solves += 1
@@ -225,7 +225,7 @@ def frontier(
                 found.append((payload, _measure(project, design, c.name, metric), design))
             break
         left = None if time_limit is None else max(deadline - time.perf_counter(), 1e-3)
-        status2, _value, best = _solve(
+        status2, _value, best, _i = _solve(
             current, f"{metric}@{c.name}", payload, left, None, "search", table
         )
         solves += 1
@@ -251,6 +251,10 @@ def frontier(
 #: the methods :func:`frontier` offers
 METHODS = ("auto", "branch-and-bound", "exhaustive", "sweep")
 
+#: the branch and bound seeds its front with the strongest point (two single-objective solves)
+#: from this many candidate designs on (docs/frontier.md)
+SEED_MIN = 10_000_000
+
 
 def _bnb(
     project, case: str, key: str, metric: str, sense: str, deadline: float, start: float, table
@@ -258,12 +262,45 @@ def _bnb(
     """The complete front by bi-objective branch and bound (:mod:`.solve.biobjective`)."""
     from .sizing import build_model, design_of, read_objective, units_of
     from .solve.biobjective import BiObjectiveSearch
+    from .solve.pareto import count
 
     free = with_limit(project, case, key, None)
     cfg = read_objective(project)
     model, _ = build_model(free, "payload", cfg["pin"], cfg["exclude"], cfg["shared"], table=table)
     units = units_of(model.n, model.shared)
-    out = BiObjectiveSearch(model, units, case, metric, sense, deadline=deadline).run()
+    search = BiObjectiveSearch(model, units, case, metric, sense, deadline=deadline)
+    # on large option spaces the strongest end first, by the single-objective search and its
+    # heuristics: the largest payload, then the best measure at that payload (the sweep's first
+    # step; both proven). On small ones the two solves cost more than they save (measured:
+    # docs/benchmarks.md)
+    if count(model, units) < SEED_MIN:
+        status = "skipped"
+    else:
+        left = deadline - time.perf_counter()
+        status, payload, _d, _top = _solve(
+            free, "payload", None, _left(left), None, "search", table
+        )
+    if status == "infeasible":  # nothing is feasible: the empty front, proven
+        return Frontier(
+            MEASURES_NAME[metric],
+            case,
+            sense,
+            (),
+            True,
+            None,
+            time.perf_counter() - start,
+            1,
+            "branch-and-bound",
+        )
+    if status == "optimal":
+        left = deadline - time.perf_counter()
+        status2, _v, _d, best = _solve(
+            free, f"{metric}@{case}", payload, _left(left), None, "search", table
+        )
+        if status2 == "optimal":
+            search.seed(best)
+    out = search.run()
+    solves = 0 if status == "skipped" else 1 + int(status == "optimal")
     found = [
         (payload, mu, design_of(project, model, idx, "frontier point"))
         for payload, mu, idx, _mass in out.points
@@ -278,7 +315,7 @@ def _bnb(
         out.complete,
         knee(pts, sense),
         time.perf_counter() - start,
-        0,
+        solves,
         "branch-and-bound",
         out.scored,
         unexplored,
@@ -320,12 +357,6 @@ def _merged(f: Frontier, tol: float) -> Frontier:
         merged=len(pts) - len(kept),
         merge_tolerance=float(tol),
     )
-
-
-#: the exhaustive front is used when the candidates combine into at most this many designs:
-#: scoring runs at about 0.3-1 M designs per CPU-second on the bundled examples, against
-#: about 1-2 CPU-s per ε-constraint point (docs/frontier.md, "Choosing the method")
-EXHAUSTIVE_MAX = 2_000_000
 
 
 def _exhaustive(
@@ -371,8 +402,13 @@ def _exhaustive(
     )
 
 
+def _left(seconds: float) -> float | None:
+    """A time limit from what is left of the run (None: no limit)."""
+    return None if not math.isfinite(seconds) else max(seconds, 1e-3)
+
+
 def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=None):
-    """One exact solve of the sweep: (status, objective, design).
+    """One exact solve of the sweep: (status, objective, design, option index per joint).
 
     ``payload_floor``: every payload case must reach it (the lexicographic second stage);
     ``upper``: a known bound from the neighbouring point, which ends the search when reached.
@@ -413,8 +449,11 @@ def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=
 
         out = run_backend(model, units, backend, time_limit, None)
     if out.index is None:
-        return out.status, None, None
-    return out.status, out.objective, design_of(project, model, out.index, "frontier point")
+        return out.status, None, None, None
+    import numpy as np
+
+    index = np.asarray(out.index, dtype=np.int64)
+    return out.status, out.objective, design_of(project, model, index, "frontier point"), index
 
 
 def _measure(project, design, case: str, metric: str) -> float:

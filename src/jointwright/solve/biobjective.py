@@ -165,7 +165,7 @@ class BiObjectiveSearch:
             live = rest[~self.dominated(rest[:, 0], rest[:, 1])]
             if live.size:
                 open_p = float(live[:, 0].max())
-                open_m = self.sign * float(live[:, 1].max())
+                open_m = self.sign * float(live[:, 1].max()) + 0.0  # no negative zero
             self.stopped = bool(live.size)
         order = np.argsort(-self.fp, kind="stable")
         pts = tuple(
@@ -187,6 +187,25 @@ class BiObjectiveSearch:
             open_p,
             open_m,
         )
+
+    def seed(self, index: np.ndarray) -> None:
+        """Start from a proven front point: ``index`` has the largest payload of all designs
+        and the best measure among those of that payload (two single-objective searches, the
+        sweep's first step). No design has more payload, so the cap falls to it, and every box
+        whose measure bound is no better is dominated from the start."""
+        model = self.model
+        index = np.asarray(index, dtype=np.int64)[None, :]
+        full = model.score(index, full=True)
+        if not full.feasible[0]:
+            return
+        arrays = model.table.arrays(index)
+        ev = model.static_evaluator.evaluate(arrays, detail=False)
+        m = self.sign * float(np.asarray(ev[self.case][self.metric], dtype=float)[0])
+        p = float(full.objective[0])
+        if not (math.isfinite(p) and math.isfinite(m)):
+            return
+        self.cap = min(self.cap, p + tie_tol(p))
+        self._add(p, m, index[0], float(full.mass[0]), float(full.reflected[0]))
 
     def _add(self, p: float, m: float, idx: np.ndarray, mass: float, refl: float) -> None:
         """A fully checked design joins the front: every design of larger payload is known, so
