@@ -51,6 +51,9 @@ class FrontierPoint:
     changes: tuple  # joints whose actuator differs from the previous point's
     #: (joint, previous point's actuator label, this point's) for each joint in ``changes``
     changed: tuple = ()
+    #: False only for the one design a stopped branch and bound returns when it has no proven
+    #: point yet (the single-objective search's best design so far)
+    proven: bool = True
 
 
 @dataclass(frozen=True)
@@ -98,6 +101,7 @@ class Frontier:
                         "mass": p.mass,
                         "changes": list(p.changes),
                         "changed": {j: [old, new] for j, old, new in p.changed},
+                        "proven": p.proven,
                         "actuators": {
                             j: a.label()
                             for j, a in zip(p.design.joints, p.design.actuators, strict=True)
@@ -273,13 +277,13 @@ def _bnb(
     # heuristics: the largest payload, then the best measure at that payload (the sweep's first
     # step; both proven). On small ones the two solves cost more than they save (measured:
     # docs/benchmarks.md)
+    top = None
     if count(model, units) < SEED_MIN:
         status = "skipped"
     else:
         left = deadline - time.perf_counter()
-        status, payload, _d, _top = _solve(
-            free, "payload", None, _left(left), None, "search", table
-        )
+        status, payload, top, _i = _solve(free, "payload", None, _left(left), None, "search", table)
+        top = None if top is None else (payload, top)
     if status == "infeasible":  # nothing is feasible: the empty front, proven
         return Frontier(
             MEASURES_NAME[metric],
@@ -307,6 +311,12 @@ def _bnb(
     ]
     pts = _points(found)
     unexplored = None if out.complete else (out.open_payload, out.open_measure)
+    if not pts and not out.complete and top is not None:
+        # stopped before the first proof: the single-objective search's best design is still a
+        # feasible design to start from, returned marked as not proven
+        d = top[1]
+        mu = _measure(free, d, case, metric)
+        pts = (FrontierPoint(top[0], mu, d, d.mass, (), (), False),)
     return Frontier(
         MEASURES_NAME[metric],
         case,

@@ -23,8 +23,10 @@ def describe_run(f) -> str:
     }.get(f.method, f.method)
     if f.complete:
         state = "complete (proven)"
-    elif f.unexplored is not None:
+    elif f.unexplored is not None and all(p.proven for p in f.points):
         state = "stopped: the points shown are proven"
+    elif f.unexplored is not None:
+        state = "stopped before the first proof: the best design found, not proven"
     else:
         state = "sampled (stopped early)"
     text = f"{len(f.points)} non-dominated designs, {state}; {how}, {f.seconds:.1f} s"
@@ -44,8 +46,8 @@ def unexplored_text(f) -> str | None:
     side = "≤" if f.sense == "min" else "≥"
     return (
         f"stopped by the time limit: designs with payload ≤ {num(pmax, 'kg')} and {f.measure} "
-        f"{side} {num(bound, UNITS[f.measure])} were not all searched and may add points there; "
-        "every point shown is proven non-dominated"
+        f"{side} {num(bound, UNITS[f.measure])} were not all searched and may add points there"
+        + ("; every point shown is proven non-dominated" if all(p.proven for p in f.points) else "")
     )
 
 
@@ -119,7 +121,7 @@ def print_frontier(f) -> None:
     rows = []
     costs = any(p.design.cost > 0 for p in f.points)  # the catalog gives costs
     for i, p in enumerate(f.points):
-        mark = " ◆" if i == f.knee else ""
+        mark = (" ◆" if i == f.knee else "") + ("" if p.proven else " (not proven)")
         changed = p.changed or tuple((j, "?", "?") for j in p.changes)
         rows.append(
             [
