@@ -1,26 +1,23 @@
 """The payload versus back-drivability front by bi-objective branch and bound: complete, proven.
 
-Joints are assigned in the single-objective search's order (:func:`.search.search_order`). At
-each node every option of the next unit gets a **bound box**: an upper bound on the payload of
-every completion (:meth:`SizingModel.child_bounds` of the payload model with the budget cap,
+Joints are assigned in the single-objective search's order (:func:`.search.search_order`). Every
+option of the next unit of a partial design gets a **bound box**: an upper bound on the payload
+of every completion (:meth:`SizingModel.child_bounds` of the payload model with the budget cap,
 the bounds the single-objective search prunes with) and a bound on the best measure of every
-completion (the same model's measure bounds: the Loewner-order IMF upper bound
+completion (the same model with the measure as objective: the Loewner-order IMF upper bound
 :meth:`SizingModel.impact_bounds`, the effective-mass lower bound with every free joint at its
 lightest, least-inertia option, the back-drive force lower bound from the least breakaway
-torques). Both objectives are maximized internally (payload, sign·measure). A child is cut when
+torques). Both objectives are maximized internally (payload, sign·measure).
 
-* some requirement is provably missed by every completion (the single-objective cuts), or
-* a fully checked design on the current front weakly dominates the box's best corner: every
-  completion is then dominated by, or equal in both values to, a point already found.
-
-Complete designs are scored in batches by the physics oracle on the static cases; the costly
-ones (duty cycles, stance) are checked only for designs that would join the front, as in
-:mod:`.pareto`. The front therefore holds only fully checked designs, and every cut is valid
-for every completion: the front at the end of the search is the complete non-dominated set over
-the discrete options (docs/optimizer.md, "Bi-objective branch and bound").
-
-Past the deadline the search stops; the boxes of the children not yet explored are kept, and
-each found point says whether an open box could still hold a design that dominates it.
+Boxes wait in a priority queue, largest payload bound first (best first). An entry is dropped
+when a front point weakly dominates its best corner, or when some requirement is provably missed
+(the single-objective cuts). Complete designs are scored in batches by the physics oracle on the
+static cases; the costly ones (duty cycles, stance) are checked when the design reaches the head
+of the queue, and its full payload (never above the static one) puts it back. A fully checked
+design at the head joins the front: every design of larger payload has been resolved by then,
+so each point is final when found (proof: docs/frontier.md, "Method: bi-objective branch and
+bound"). Past the deadline the search stops: the points found are proven, and the entries left
+bound the region where points may be missing.
 """
 
 from __future__ import annotations
