@@ -80,7 +80,9 @@ def plot_text(f, width: int = 64, height: int = 16) -> str:
             grid[r][c] = "─"
         ra, rb = sorted((row(ys[a]), row(ys[b])))
         for r2 in range(ra, rb + 1):
-            grid[r2][at] = "│" if grid[r2][at] == " " else "┼" if grid[r2][at] == "─" else "│"
+            grid[r2][at] = "┼" if grid[r2][at] == "─" else "│"
+        if ra != rb:  # the corner where the step turns
+            grid[r][at] = "└" if f.sense == "min" else "┘"
     for i in range(len(xs)):
         label = "◆" if i == f.knee else str(i + 1)
         r, c = row(ys[i]), col(xs[i])
