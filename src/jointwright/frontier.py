@@ -282,7 +282,9 @@ def _bnb(
         status = "skipped"
     else:
         left = deadline - time.perf_counter()
-        status, payload, top, _i = _solve(free, "payload", None, _left(left), None, "search", table)
+        status, payload, top, _i = _solve(
+            free, "payload", None, _left(left), None, "search", table, bound=search
+        )
         top = None if top is None else (payload, top)
     if status == "infeasible":  # nothing is feasible: the empty front, proven
         return Frontier(
@@ -417,10 +419,12 @@ def _left(seconds: float) -> float | None:
     return None if not math.isfinite(seconds) else max(seconds, 1e-3)
 
 
-def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=None):
+def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=None, bound=None):
     """One exact solve of the sweep: (status, objective, design, option index per joint).
 
     ``payload_floor``: every payload case must reach it (the lexicographic second stage);
+    ``bound``: a :class:`~.solve.biobjective.BiObjectiveSearch` whose payload cap takes the
+    search's proven bound (payload objective only);
     ``upper``: a known bound from the neighbouring point, which ends the search when reached.
     Only the optimal value matters here, so ties are not searched.
     """
@@ -458,6 +462,10 @@ def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=
         from .sizing import run_backend
 
         out = run_backend(model, units, backend, time_limit, None)
+    if bound is not None and kind == "payload" and math.isfinite(out.bound):
+        # a proven bound on every design's payload, even from a stopped search: the branch
+        # and bound's boxes start below it
+        bound.cap = min(bound.cap, float(out.bound) + tie_tol(float(out.bound)))
     if out.index is None:
         return out.status, None, None, None
     import numpy as np
