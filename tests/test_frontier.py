@@ -14,6 +14,7 @@ import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
+from test_solve_search import build_table, example, planar_arm, set_limits, small_catalog
 
 from jointwright.assessment import assess
 from jointwright.errors import InputError
@@ -21,7 +22,6 @@ from jointwright.frontier import MEASURES, dominates, frontier, with_limit
 from jointwright.problem import checks, feasible, objective
 from jointwright.solve.enumerate import combinations
 from jointwright.solve.model import SizingModel
-from test_solve_search import build_table, example, planar_arm, set_limits, small_catalog
 
 
 @pytest.fixture(scope="module")
@@ -48,9 +48,10 @@ def brute_front(project, measure, case):
     for i in np.lexsort((-good, -pay)):
         if not front or good[i] > front[-1][2] + 1e-7 * max(abs(good[i]), 1e-12):
             front.append((pay[i], mu[i], good[i]))
-    # keep only pairs not dominated by a later (smaller-payload, better-measure) one with equal payload
+    # keep only pairs not dominated by a later (smaller payload, better measure) one of equal
+    # payload
     out = []
-    for k, (pp, mm, gg) in enumerate(front):
+    for k, (pp, mm, _gg) in enumerate(front):
         if k + 1 < len(front) and abs(front[k + 1][0] - pp) <= 1e-9 * max(1.0, abs(pp)):
             continue
         out.append((pp, mm))
@@ -69,7 +70,7 @@ def check_front(project, f):
 
 
 @pytest.mark.slow
-@pytest.mark.parametrize("method", ["exhaustive", "sweep"])
+@pytest.mark.parametrize("method", ["branch-and-bound", "exhaustive", "sweep"])
 @settings(
     max_examples=6, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
 )
@@ -92,7 +93,7 @@ def test_leg_frontier_equals_enumerated_front(leg, method, seed, measure):
     assert f.complete
     got = [(pt.payload, pt.measure) for pt in f.points]
     assert len(got) == len(ref)
-    for (pa, ma), (pb, mb) in zip(got, ref):
+    for (pa, ma), (pb, mb) in zip(got, ref, strict=True):
         assert pa == pytest.approx(pb, rel=1e-9, abs=1e-9)
         assert ma == pytest.approx(mb, rel=1e-6, abs=1e-9)
 
@@ -119,7 +120,7 @@ def test_arm_effective_mass_frontier_matches_enumeration():
         requirements=Requirements(),
     )
     ref = brute_front(p, "effective_mass", "bump")
-    for method in ("exhaustive", "sweep"):
+    for method in ("branch-and-bound", "exhaustive", "sweep"):
         f = frontier(p, "effective_mass", method=method)
         check_front(p, f)
         assert [round(x, 6) for x, _ in ref] == [round(pt.payload, 6) for pt in f.points]

@@ -1,18 +1,23 @@
-"""Payload versus back-drivability: the Pareto frontier by exact ε-constraint sweeps.
+"""Payload versus back-drivability: the Pareto frontier, complete and proven.
 
-Each point is an exact :func:`jointwright.sizing.size` (payload objective) with the chosen
-measure of one case turned into a constraint: ``imf`` ≥ ε, ``effective_mass`` ≤ ε or
-``backdrive_force`` ≤ ε; every other requirement of the project stays. The sweep starts with the
-measure free (the largest payload), then asks each time for a measure strictly better than the
-last point's (by a relative step of 1e-7) until nothing is feasible. Each step has two exact
-solves: the largest payload P under ε, then the best measure among designs with payload ≥ P
-(a search with the measure as its objective), so each point is non-dominated. Over the discrete
-options this yields every non-dominated (payload, measure) pair: for a non-dominated (P*, μ*),
-the step whose ε lies between the previous point's measure and μ* has largest payload ≥ P* and,
-by non-dominance, exactly P*, and its second stage reaches μ*. Points whose successor has the
-same payload (within 1e-9) are dropped as dominated (a safeguard).
-When the sweep stops early (``points`` or the time limit) the
-set is a sample, and ``complete`` says so.
+Three exact methods (docs/frontier.md, "Choosing the method"):
+
+* ``branch-and-bound`` (the default): a bi-objective branch and bound over joints
+  (:mod:`jointwright.solve.biobjective`) that cuts a partial design when its bound box is
+  dominated by the front found so far; complete and proven; a run stopped by the time limit
+  returns the proven part of the front and the region still unexplored.
+* ``exhaustive``: every candidate combination scored (:mod:`jointwright.solve.pareto`).
+* ``sweep``: exact ε-constraint solves. Each point is an exact :func:`jointwright.sizing.size`
+  (payload objective) with the chosen measure of one case turned into a constraint: ``imf`` ≥ ε,
+  ``effective_mass`` ≤ ε or ``backdrive_force`` ≤ ε; every other requirement of the project
+  stays. The sweep starts with the measure free (the largest payload), then asks each time for a
+  measure strictly better than the last point's (by a relative step of 1e-7) until nothing is
+  feasible. Each step has two exact solves: the largest payload P under ε, then the best measure
+  among designs with payload ≥ P, so each point is non-dominated; over the discrete options this
+  yields every non-dominated (payload, measure) pair. When the sweep stops early (``points`` or
+  the time limit) the set is a sample, and ``complete`` says so.
+
+Near-duplicate neighbours may be merged for display (``merge``, a fraction of each axis's span).
 """
 
 from __future__ import annotations
@@ -44,6 +49,11 @@ class FrontierPoint:
     design: object  # Design
     mass: float  # kg
     changes: tuple  # joints whose actuator differs from the previous point's
+    #: (joint, previous point's actuator label, this point's) for each joint in ``changes``
+    changed: tuple = ()
+    #: False only for the one design a stopped branch and bound returns when it has no proven
+    #: point yet (the single-objective search's best design so far)
+    proven: bool = True
 
 
 @dataclass(frozen=True)
@@ -56,8 +66,13 @@ class Frontier:
     knee: int | None  # index into points
     seconds: float
     solves: int
-    method: str = "sweep"  # "exhaustive" (every combination scored) or "sweep" (ε-constraint)
-    scored: int = 0  # designs scored by the exhaustive method
+    method: str = "sweep"  # "branch-and-bound", "exhaustive" or "sweep" (ε-constraint)
+    scored: int = 0  # designs scored by the exhaustive method or the branch and bound
+    #: a stopped branch and bound: every missing point has payload ≤ unexplored[0] (kg) and a
+    #: measure no better than unexplored[1]; the points returned are proven. None otherwise
+    unexplored: tuple | None = None
+    merged: int = 0  # front points merged into a neighbour as near-duplicates
+    merge_tolerance: float = 0.0  # fraction of each axis's span (docs/frontier.md)
 
     def to_dict(self) -> dict:
         from .assessment import _jsonable
@@ -74,12 +89,19 @@ class Frontier:
                 "solves": self.solves,
                 "method": self.method,
                 "designs_scored": self.scored,
+                "unexplored": None
+                if self.unexplored is None
+                else {"payload_max": self.unexplored[0], "measure_bound": self.unexplored[1]},
+                "merged": self.merged,
+                "merge_tolerance": self.merge_tolerance,
                 "points": [
                     {
                         "payload": p.payload,
                         "measure": p.measure,
                         "mass": p.mass,
                         "changes": list(p.changes),
+                        "changed": {j: [old, new] for j, old, new in p.changed},
+                        "proven": p.proven,
                         "actuators": {
                             j: a.label()
                             for j, a in zip(p.design.joints, p.design.actuators, strict=True)
@@ -139,6 +161,7 @@ def frontier(
     time_limit: float | None = None,
     backend: str = "search",
     method: str = "auto",
+    merge: float = 0.0,
 ) -> Frontier:
     """Payload versus ``measure`` at ``case``: the non-dominated designs, largest payload first.
 
@@ -150,9 +173,12 @@ def frontier(
     points : most sizing solves (the frontier is marked incomplete when it is reached)
     time_limit : s for the whole sweep
     backend : passed to :func:`jointwright.sizing.size` (sweep)
-    method : "exhaustive" (score every candidate combination: complete and proven), "sweep"
-        (exact ε-constraint solves) or "auto" (exhaustive up to :data:`EXHAUSTIVE_MAX` candidate
-        designs, else the sweep)
+    method : "branch-and-bound" (bi-objective branch and bound: complete and proven; past the
+        time limit the proven part and the region still unexplored), "exhaustive" (score every
+        candidate combination: complete and proven), "sweep" (exact ε-constraint solves) or
+        "auto" (the branch and bound; docs/frontier.md, "Choosing the method")
+    merge : neighbouring points closer than this fraction of the front's span on both axes are
+        merged into one (the larger payload stays; both ends always stay); 0 keeps every point
 
     Returns
     -------
@@ -168,18 +194,21 @@ def frontier(
     _kind, key, metric, sense = MEASURES[measure]
     start = time.perf_counter()
     deadline = math.inf if time_limit is None else start + time_limit
-    if method not in ("auto", "exhaustive", "sweep"):
-        raise InputError("<api>", "method", f"must be auto, exhaustive or sweep, got {method!r}")
+    if method not in METHODS:
+        raise InputError("<api>", "method", f"must be one of {', '.join(METHODS)}, got {method!r}")
+    if not isinstance(merge, (int, float)) or not 0.0 <= merge < 1.0:
+        raise InputError("<api>", "merge", f"must be a fraction in [0, 1), got {merge!r}")
     from .options import build_table
     from .sizing import read_objective
 
     # one option table for every solve: it depends on the catalog and the exclusions only
     table = build_table(project, read_objective(project)["exclude"])
-    if method != "sweep":
-        limit = EXHAUSTIVE_MAX if method == "auto" else math.inf
-        exhaustive = _exhaustive(project, c.name, key, metric, sense, deadline, start, limit, table)
-        if exhaustive is not None:
-            return exhaustive
+    if method in ("auto", "branch-and-bound"):
+        return _merged(_bnb(project, c.name, key, metric, sense, deadline, start, table), merge)
+    if method == "exhaustive":
+        out = _exhaustive(project, c.name, key, metric, sense, deadline, start, math.inf, table)
+        assert out is not None  # no size limit: it always answers
+        return _merged(out, merge)
     found: list[tuple] = []
     eps: float | None = None
     solves, complete = 0, False
@@ -189,7 +218,7 @@ def frontier(
             break
         current = with_limit(project, c.name, key, eps)
         upper = found[-1][0] if found else None  # the neighbour's payload bounds this one
-        status, payload, design = _solve(
+        status, payload, design, _i = _solve(
             current, "payload", None, time_limit and left, upper, backend, table
         )
         solves += 1
@@ -203,7 +232,7 @@ def frontier(
                 found.append((payload, _measure(project, design, c.name, metric), design))
             break
         rest = None if time_limit is None else max(deadline - time.perf_counter(), 1e-3)
-        status2, _value, best = _solve(
+        status2, _value, best, _i = _solve(
             current, f"{metric}@{c.name}", payload, rest, None, "search", table
         )
         solves += 1
@@ -220,15 +249,129 @@ def frontier(
             complete = True
             break
     pts = _points(found)
-    return Frontier(
+    out = Frontier(
         measure, c.name, sense, pts, complete, knee(pts, sense), time.perf_counter() - start, solves
+    )
+    return _merged(out, merge)
+
+
+#: the methods :func:`frontier` offers
+METHODS = ("auto", "branch-and-bound", "exhaustive", "sweep")
+
+#: the branch and bound seeds its front with the strongest point (two single-objective solves)
+#: from this many candidate designs on (docs/frontier.md)
+SEED_MIN = 10_000_000
+
+
+def _bnb(
+    project, case: str, key: str, metric: str, sense: str, deadline: float, start: float, table
+) -> Frontier:
+    """The complete front by bi-objective branch and bound (:mod:`.solve.biobjective`)."""
+    from .sizing import build_model, design_of, read_objective, units_of
+    from .solve.biobjective import BiObjectiveSearch
+    from .solve.pareto import count
+
+    free = with_limit(project, case, key, None)
+    cfg = read_objective(project)
+    model, _ = build_model(free, "payload", cfg["pin"], cfg["exclude"], cfg["shared"], table=table)
+    units = units_of(model.n, model.shared)
+    search = BiObjectiveSearch(model, units, case, metric, sense, deadline=deadline)
+    # on large option spaces the strongest end first, by the single-objective search and its
+    # heuristics: the largest payload, then the best measure at that payload (the sweep's first
+    # step; both proven). On small ones the two solves cost more than they save (measured:
+    # docs/benchmarks.md)
+    top = None
+    if count(model, units) < SEED_MIN:
+        status = "skipped"
+    else:
+        left = deadline - time.perf_counter()
+        status, payload, top, _i = _solve(
+            free, "payload", None, _left(left), None, "search", table, bound=search
+        )
+        top = None if top is None else (payload, top)
+    if status == "infeasible":  # nothing is feasible: the empty front, proven
+        return Frontier(
+            MEASURES_NAME[metric],
+            case,
+            sense,
+            (),
+            True,
+            None,
+            time.perf_counter() - start,
+            1,
+            "branch-and-bound",
+        )
+    if status == "optimal":
+        left = deadline - time.perf_counter()
+        status2, _v, _d, best = _solve(
+            free, f"{metric}@{case}", payload, _left(left), None, "search", table
+        )
+        if status2 == "optimal":
+            search.seed(best)
+    out = search.run()
+    solves = 0 if status == "skipped" else 1 + int(status == "optimal")
+    found = [
+        (payload, mu, design_of(project, model, idx, "frontier point"))
+        for payload, mu, idx, _mass in out.points
+    ]
+    pts = _points(found)
+    unexplored = None if out.complete else (out.open_payload, out.open_measure)
+    if not pts and not out.complete and top is not None:
+        # stopped before the first proof: the single-objective search's best design is still a
+        # feasible design to start from, returned marked as not proven
+        d = top[1]
+        mu = _measure(free, d, case, metric)
+        pts = (FrontierPoint(top[0], mu, d, d.mass, (), (), False),)
+    return Frontier(
+        MEASURES_NAME[metric],
+        case,
+        sense,
+        pts,
+        out.complete,
+        knee(pts, sense),
+        time.perf_counter() - start,
+        solves,
+        "branch-and-bound",
+        out.scored,
+        unexplored,
     )
 
 
-#: the exhaustive front is used when the candidates combine into at most this many designs:
-#: scoring runs at about 0.3-1 M designs per CPU-second on the bundled examples, against
-#: about 1-2 CPU-s per ε-constraint point (docs/frontier.md, "Choosing the method")
-EXHAUSTIVE_MAX = 2_000_000
+def _merged(f: Frontier, tol: float) -> Frontier:
+    """``f`` with near-duplicate neighbours merged: walking from the largest payload, a point
+    within ``tol`` of the front's span on both axes of the last point kept is dropped; the last
+    point (the most back-drivable) always stays, and replaces the last kept one when that is
+    within the tolerance and is not the first. Knee and joints changed follow the points kept."""
+    pts = f.points
+    if tol <= 0 or len(pts) < 3:
+        return dataclasses.replace(f, merge_tolerance=float(tol))
+    p = [q.payload for q in pts]
+    m = [q.measure for q in pts]
+    span_p = (max(p) - min(p)) or 1.0
+    span_m = (max(m) - min(m)) or 1.0
+
+    def near(a, b) -> bool:
+        return (
+            abs(a.payload - b.payload) <= tol * span_p
+            and abs(a.measure - b.measure) <= tol * span_m
+        )
+
+    keep = [pts[0]]
+    for q in pts[1:-1]:
+        if not near(q, keep[-1]):
+            keep.append(q)
+    if len(keep) > 1 and near(pts[-1], keep[-1]):
+        keep[-1] = pts[-1]
+    elif len(keep) == 1 or not near(pts[-1], keep[-1]):
+        keep.append(pts[-1])
+    kept = _points([(q.payload, q.measure, q.design) for q in keep], dedupe=False)
+    return dataclasses.replace(
+        f,
+        points=kept,
+        knee=knee(kept, f.sense),
+        merged=len(pts) - len(kept),
+        merge_tolerance=float(tol),
+    )
 
 
 def _exhaustive(
@@ -274,10 +417,17 @@ def _exhaustive(
     )
 
 
-def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=None):
-    """One exact solve of the sweep: (status, objective, design).
+def _left(seconds: float) -> float | None:
+    """A time limit from what is left of the run (None: no limit)."""
+    return None if not math.isfinite(seconds) else max(seconds, 1e-3)
+
+
+def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=None, bound=None):
+    """One exact solve of the sweep: (status, objective, design, option index per joint).
 
     ``payload_floor``: every payload case must reach it (the lexicographic second stage);
+    ``bound``: a :class:`~.solve.biobjective.BiObjectiveSearch` whose payload cap takes the
+    search's proven bound (payload objective only);
     ``upper``: a known bound from the neighbouring point, which ends the search when reached.
     Only the optimal value matters here, so ties are not searched.
     """
@@ -317,9 +467,16 @@ def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=
         from .sizing import run_backend
 
         out = run_backend(model, units, backend, time_limit, None)
+    if bound is not None and kind == "payload" and math.isfinite(out.bound):
+        # a proven bound on every design's payload, even from a stopped search: the branch
+        # and bound's boxes start below it
+        bound.cap = min(bound.cap, float(out.bound) + tie_tol(float(out.bound)))
     if out.index is None:
-        return out.status, None, None
-    return out.status, out.objective, design_of(project, model, out.index, "frontier point")
+        return out.status, None, None, None
+    import numpy as np
+
+    index = np.asarray(out.index, dtype=np.int64)
+    return out.status, out.objective, design_of(project, model, index, "frontier point"), index
 
 
 def _measure(project, design, case: str, metric: str) -> float:
@@ -329,11 +486,11 @@ def _measure(project, design, case: str, metric: str) -> float:
     return float(next(c for c in a.cases if c.name == case).metrics[metric])
 
 
-def _points(found) -> tuple:
+def _points(found, dedupe: bool = True) -> tuple:
     keep = [
         f
         for i, f in enumerate(found)
-        if i + 1 == len(found) or found[i + 1][0] < f[0] - tie_tol(f[0])
+        if not dedupe or i + 1 == len(found) or found[i + 1][0] < f[0] - tie_tol(f[0])
     ]
     out, prev = [], None
     for payload, mu, d in keep:
@@ -344,7 +501,16 @@ def _points(found) -> tuple:
                 j for j, a, b in zip(d.joints, d.actuators, prev.actuators, strict=True) if a != b
             )
         )
-        out.append(FrontierPoint(payload, mu, d, d.mass, changes))
+        changed = (
+            ()
+            if prev is None
+            else tuple(
+                (j, b.label(), a.label())
+                for j, a, b in zip(d.joints, d.actuators, prev.actuators, strict=True)
+                if a != b
+            )
+        )
+        out.append(FrontierPoint(payload, mu, d, d.mass, changes, changed))
         prev = d
     return tuple(out)
 

@@ -14,47 +14,143 @@ from ._output import atomic_folder, check_target, project_inputs, write_text
 UNITS = {"imf": "", "effective_mass": "kg", "backdrive_force": "N"}
 
 
+def describe_run(f) -> str:
+    """One sentence: how many points, whether complete, how they were found."""
+    how = {
+        "exhaustive": f"every one of {f.scored:,} candidate designs scored",
+        "branch-and-bound": f"bi-objective branch and bound, {f.scored:,} complete designs scored",
+        "sweep": f"{f.solves} exact solves",
+    }.get(f.method, f.method)
+    if f.complete:
+        state = "complete (proven)"
+    elif f.unexplored is not None and all(p.proven for p in f.points):
+        state = "stopped: the points shown are proven"
+    elif f.unexplored is not None:
+        state = "stopped before the first proof: the best design found, not proven"
+    else:
+        state = "sampled (stopped early)"
+    text = f"{len(f.points)} non-dominated designs, {state}; {how}, {f.seconds:.1f} s"
+    if f.merge_tolerance > 0:
+        text += (
+            f"; {f.merged} near-duplicate point{'s' if f.merged != 1 else ''} merged (within "
+            f"{100 * f.merge_tolerance:g} % of the front's span on both axes)"
+        )
+    return text
+
+
+def unexplored_text(f) -> str | None:
+    """The region a stopped branch and bound did not search, in words, or None."""
+    if f.unexplored is None:
+        return None
+    pmax, bound = f.unexplored
+    side = "≤" if f.sense == "min" else "≥"
+    return (
+        f"stopped by the time limit: designs with payload ≤ {num(pmax, 'kg')} and {f.measure} "
+        f"{side} {num(bound, UNITS[f.measure])} were not all searched and may add points there"
+        + ("; every point shown is proven non-dominated" if all(p.proven for p in f.points) else "")
+    )
+
+
+def plot_text(f, width: int = 64, height: int = 16) -> str:
+    """The frontier as a text staircase (measure across, payload up), the same steps, numbers
+    and turning-point symbol as the figure (:func:`write_plot`)."""
+    xs = [p.measure for p in f.points]
+    ys = [p.payload for p in f.points]
+    x0, x1 = min(xs), max(xs)
+    y0, y1 = min(ys), max(ys)
+    sx = (x1 - x0) or 1.0
+    sy = (y1 - y0) or 1.0
+    grid = [[" "] * width for _ in range(height)]
+
+    def col(x: float) -> int:
+        return round((x - x0) / sx * (width - 1))
+
+    def row(y: float) -> int:
+        return height - 1 - round((y - y0) / sy * (height - 1))
+
+    order = sorted(range(len(xs)), key=lambda i: xs[i])
+    for a, b in zip(order, order[1:], strict=False):
+        ca, cb = col(xs[a]), col(xs[b])
+        # "post" (smaller measure better): the payload holds from a point to the right, then
+        # rises at the next; "pre" (larger better): it falls at a point, then holds
+        level = ys[a] if f.sense == "max" else ys[b]
+        at = cb if f.sense == "max" else ca
+        r = row(level)
+        for c in range(ca, cb + 1):
+            grid[r][c] = "─"
+        ra, rb = sorted((row(ys[a]), row(ys[b])))
+        for r2 in range(ra, rb + 1):
+            grid[r2][at] = "┼" if grid[r2][at] == "─" else "│"
+        if ra != rb:  # the corner where the step turns
+            grid[r][at] = "└" if f.sense == "min" else "┘"
+    for i in range(len(xs)):
+        label = "◆" if i == f.knee else str(i + 1)
+        r, c = row(ys[i]), col(xs[i])
+        c = min(c, width - len(label))
+        for k, ch in enumerate(label):
+            grid[r][c + k] = ch
+    unit = UNITS[f.measure]
+    lines = []
+    for r in range(height):
+        y = y1 - r / (height - 1) * sy
+        tick = f"{y:8.3g} ┤" if r in (0, height // 2, height - 1) else "         │"
+        lines.append(tick + "".join(grid[r]))
+    lines.append("         └" + "─" * width)
+    left, right = f"{x0:.4g}", f"{x1:.4g}"
+    lines.append("          " + left + " " * max(1, width - len(left) - len(right)) + right)
+    lines.append(
+        f"          payload (kg) against {f.measure}{f' ({unit})' if unit else ''} at case "
+        f"{f.case}; numbers: the points of the table"
+        + (
+            "; ◆ the turning point of the trade-off" + (f" (point {f.knee + 1})")
+            if f.knee is not None
+            else ""
+        )
+    )
+    return "\n".join(lines)
+
+
 def print_frontier(f) -> None:
     con = console()
     better = "higher" if f.sense == "min" else "lower"
     con.print(
         f"[bold]frontier[/bold]: payload versus {f.measure} at case {f.case} ({better} is more "
-        f"back-drivable); {len(f.points)} non-dominated designs, "
-        f"{'complete' if f.complete else 'sampled (stopped early)'}; "
-        + (
-            f"every one of {f.scored:,} candidate designs scored"
-            if f.method == "exhaustive"
-            else f"{f.solves} exact solves"
-        )
-        + f", {f.seconds:.1f} s"
+        f"back-drivable); {describe_run(f)}"
     )
+    region = unexplored_text(f)
+    if region:
+        con.print(f"[yellow]{region}[/yellow]")
     rows = []
     costs = any(p.design.cost > 0 for p in f.points)  # the catalog gives costs
     for i, p in enumerate(f.points):
-        mark = " ◆" if i == f.knee else ""
+        mark = (" ◆" if i == f.knee else "") + ("" if p.proven else " (not proven)")
+        changed = p.changed or tuple((j, "?", "?") for j in p.changes)
         rows.append(
             [
-                str(i) + mark,
+                str(i + 1) + mark,
                 num(p.payload, "kg"),
                 num(p.measure, UNITS[f.measure]),
                 num(p.mass, "kg"),
             ]
             + ([num(p.design.cost)] if costs else [])
             + [
-                ", ".join(p.changes) or ("—" if i else "first point"),
+                "; ".join(f"{j}: {a} → {b}" for j, a, b in changed)
+                or ("—" if i else "first point"),
                 "; ".join(
                     f"{j}: {a.label()}"
                     for j, a in zip(p.design.joints, p.design.actuators, strict=True)
                 ),
             ]
         )
+    if rows:
+        con.print(plot_text(f))
     caption = (
-        "each point: the largest payload with the measure at least this good; "
-        "every other requirement of "
-        "the project is kept"
+        "each point: the largest payload with the measure at least this good; every other "
+        "requirement of the project is kept"
         + ("; cost in the catalog's currency units" if costs else "")
         + (
-            "; ◆ the turning point of the trade-off (farthest from the line joining the two ends)"
+            "; ◆ the turning point of the trade-off (farthest from the line joining the two ends); "
+            "numbers as in the plot"
             if f.knee is not None
             else ""
         )
@@ -70,9 +166,9 @@ def print_frontier(f) -> None:
         )
     )
     con.print(
-        "[yellow]caution:[/yellow] back-drivability figures are concept-stage estimates; "
-        "contact safety "
-        "must be assessed under the applicable collaborative-robot and machinery safety standards."
+        "[yellow]caution:[/yellow] back-drivability figures are concept-stage estimates; contact "
+        "safety must be assessed under the applicable collaborative-robot and machinery safety "
+        "standards."
     )
 
 
@@ -86,10 +182,17 @@ def print_frontier(f) -> None:
 )
 @click.option(
     "--method",
-    type=click.Choice(["auto", "exhaustive", "sweep"]),
+    type=click.Choice(["auto", "branch-and-bound", "exhaustive", "sweep"]),
     default="auto",
-    help="exhaustive: score every candidate design (complete); sweep: exact ε-constraint "
-    "solves; auto: exhaustive up to 2 million candidate designs",
+    help="branch-and-bound: bi-objective branch and bound (complete, proven); exhaustive: score "
+    "every candidate design; sweep: exact ε-constraint solves; auto: branch-and-bound",
+)
+@click.option(
+    "--merge",
+    type=click.FloatRange(min=0.0, max=1.0, max_open=True),
+    default=0.01,
+    show_default=True,
+    help="merge neighbouring points closer than this fraction of the front's span on both axes",
 )
 @click.option(
     "--points",
@@ -98,7 +201,13 @@ def print_frontier(f) -> None:
     show_default=True,
     help="most exact solves (sweep)",
 )
-@click.option("--time-limit", type=float, default=None, help="seconds for the whole sweep")
+@click.option(
+    "--time-limit",
+    type=float,
+    default=None,
+    help="seconds for the whole run; a stopped run shows the proven points and the region "
+    "not yet searched",
+)
 @click.option("--json", "as_json", is_flag=True, help="machine-readable output")
 @click.option(
     "--out", type=click.Path(path_type=Path), default=None, help="write the frontier as JSON here"
@@ -121,6 +230,7 @@ def command(
     measure,
     case_name,
     method,
+    merge,
     points,
     time_limit,
     as_json,
@@ -142,12 +252,26 @@ def command(
         check_target(out, "--out", inputs=inputs, force=force)
     if plot_dir is not None:
         check_target(plot_dir, "--plot", inputs=inputs, force=force, exists_hint="frontier.png")
-    f = frontier(p, measure, case=case_name, points=points, time_limit=time_limit, method=method)
+    f = frontier(
+        p,
+        measure,
+        case=case_name,
+        points=points,
+        time_limit=time_limit,
+        method=method,
+        merge=merge,
+    )
     data = f.to_dict()
     ideal = None
     if frictionless:
         ideal = frontier(
-            frictionless_project(p), measure, case=case_name, points=points, time_limit=time_limit
+            frictionless_project(p),
+            measure,
+            case=case_name,
+            points=points,
+            time_limit=time_limit,
+            method=method,
+            merge=merge,
         )
         data["frictionless"] = ideal.to_dict()
     if plot_dir is not None:
@@ -164,8 +288,8 @@ def command(
             con.print(
                 f"frictionless gears: {len(ideal.points)} non-dominated designs; largest payload "
                 f"{num(ideal.points[0].payload if ideal.points else None, 'kg')} against "
-                f"{num(f.points[0].payload if f.points else None, 'kg')} "
-                "with the catalog's efficiencies"
+                f"{num(f.points[0].payload if f.points else None, 'kg')} with the catalog's "
+                "efficiencies"
             )
         if out is not None:
             console().print(f"frontier written to {out}")
@@ -211,5 +335,6 @@ def write_plot(f, ideal, folder: Path) -> None:
         title=f"Payload versus {label}: non-dominated designs "
         f"({'complete' if f.complete else 'sampled'})",
         steps="pre" if f.sense == "min" else "post",
+        numbered=True,
     )
     figures.save(fig, folder, "frontier")

@@ -373,13 +373,24 @@ def series_figure(time, series, limits, *, y_label: str, title: str) -> Figure:
 
 
 def frontier_figure(
-    series, knee=None, *, x_label: str, y_label: str, title: str, steps: str = "post"
+    series,
+    knee=None,
+    *,
+    x_label: str,
+    y_label: str,
+    title: str,
+    steps: str = "post",
+    numbered: bool = False,
+    chosen=None,
 ) -> Figure:
-    """Frontiers as staircases through their points, one per label; ``knee`` (x, y) ringed.
+    """Frontiers as staircases through their points, one per label; ``knee`` (x, y) marked
+    with a diamond and its own legend entry.
 
     ``series`` = {label: (xs, ys)}; the first is drawn in the main colour, the others (e.g. the
     frictionless-transmission frontier) dashed for comparison. ``steps`` "post" when a smaller
     x is better (each payload holds from its point to the right), "pre" when a larger x is.
+    ``numbered``: the first series' points carry their numbers 1, 2, … in the given order (the
+    numbering of the tables); ``chosen`` (x, y) is ringed.
     """
     fig, (ax,) = _figure(height=4.4)
     for k, (label, (xs, ys)) in enumerate(series.items()):
@@ -391,6 +402,18 @@ def frontier_figure(
             else dict(color="#8a8a8a", lw=1.2, ms=4, ls="--")
         )
         ax.plot(xs[order], ys[order], marker="o", label=label, drawstyle=f"steps-{steps}", **style)
+        if k == 0 and numbered:
+            for i, (px, py) in enumerate(zip(xs, ys, strict=True)):
+                ax.annotate(
+                    str(i + 1),
+                    (px, py),
+                    textcoords="offset points",
+                    xytext=(4, 4),
+                    fontsize=7,
+                    color="#2b4f77",
+                )
+    if chosen is not None:
+        ax.plot(*chosen, "o", ms=12, mfc="none", mec="#5b8c3a", mew=2.0, label="chosen design")
     if knee is not None:
         ax.plot(
             *knee,

@@ -94,8 +94,7 @@ def runner_ups_section(data: dict, file: str = "<sizing>", units: dict | None = 
                 ["joint", "runner-up actuator", "change", f"objective ({kind})", "why it lost"],
                 rows,
                 caption="Each runner-up changes one joint of the chosen design and keeps the rest; "
-                "it "
-                "is re-evaluated with the full physics.",
+                "it is re-evaluated with the full physics.",
             )
         )
     diag = []
@@ -181,10 +180,23 @@ def frontier_section(data: dict, fig_dir: Path, file: str = "<frontier>") -> Sec
     chosen = _chosen(data, xy, file)
     xl, yl = _axis_label(x, "x"), _axis_label(y, "y")
     title = f"{y.get('label', 'y')} against {x.get('label', 'x')}: non-dominated designs"
-    png = figures.save(
-        figures.points_figure(xy, chosen, x_label=xl, y_label=yl, title=title), fig_dir, "frontier"
-    )
     knee = data.get("knee")
+    knee = knee if isinstance(knee, int) and not isinstance(knee, bool) else None
+    steps = data.get("steps")
+    if steps in ("pre", "post"):  # discrete designs: the staircase of the command line's plot
+        fig = figures.frontier_figure(
+            {"non-dominated designs": ([p[0] for p in xy], [p[1] for p in xy])},
+            None if knee is None or not 0 <= knee < len(xy) else xy[knee],
+            x_label=xl,
+            y_label=yl,
+            title=title,
+            steps=steps,
+            numbered=True,
+            chosen=chosen,
+        )
+    else:
+        fig = figures.points_figure(xy, chosen, x_label=xl, y_label=yl, title=title)
+    png = figures.save(fig, fig_dir, "frontier")
     rows = [
         [
             str(k + 1),
@@ -199,11 +211,19 @@ def frontier_section(data: dict, fig_dir: Path, file: str = "<frontier>") -> Sec
     caption = (
         "Each point is a design no other design beats on both axes; the ring is the chosen design."
     )
-    if data.get("complete") is False:
+    if knee is not None:
+        caption += " The diamond marks the turning point of the trade-off."
+    region = data.get("unexplored")
+    if data.get("complete") is False and isinstance(region, str):
+        caption += f" The search stopped at its time limit: every point shown is proven; {region}."
+    elif data.get("complete") is False:
         caption += (
             " This frontier is a sample: its computation stopped early (point budget or "
             "time limit), so designs between and beyond these points may be missing."
         )
+    merged = data.get("merged")
+    if isinstance(merged, int) and not isinstance(merged, bool) and merged > 0:
+        caption += f" {merged} near-duplicate point{'s' if merged != 1 else ''} merged."
     body = figure(png, "frontier", "frontier", caption) + table(
         ["#", xl, yl, "design", "what changes", "note"], rows
     )
@@ -545,7 +565,20 @@ def frontier_from_sweep(data: dict, assessment: dict, file: str = "<frontier>") 
         "points": points,
         "knee": data.get("knee"),
         "complete": data.get("complete", True),
+        # larger IMF is better: a payload holds up to its point ("pre"); else from it ("post")
+        "steps": "pre" if measure == "imf" else "post",
     }
+    region = data.get("unexplored")
+    if isinstance(region, dict) and all(
+        isinstance(region.get(k), (int, float)) for k in ("payload_max", "measure_bound")
+    ):
+        side = "≤" if measure == "imf" else "≥"
+        out["unexplored"] = (
+            f"designs with payload ≤ {region['payload_max']:.4g} kg and {label} {side} "
+            f"{region['measure_bound']:.4g}{f' {unit}' if unit else ''} were not all searched"
+        )
+    if isinstance(data.get("merged"), int) and data.get("merged"):
+        out["merged"] = data["merged"]
     cases = {c["name"]: c for c in assessment.get("cases", [])}
     payloads = [
         c["metrics"].get("payload_carried")

@@ -1,0 +1,351 @@
+"""The payload versus back-drivability front by bi-objective branch and bound: complete, proven.
+
+Joints are assigned in the single-objective search's order (:func:`.search.search_order`). Every
+option of the next unit of a partial design gets a **bound box**: an upper bound on the payload
+of every completion (:meth:`SizingModel.child_bounds` of the payload model with the budget cap,
+the bounds the single-objective search prunes with) and a bound on the best measure of every
+completion (the same model with the measure as objective: the Loewner-order IMF upper bound
+:meth:`SizingModel.impact_bounds`, the effective-mass lower bound with every free joint at its
+lightest, least-inertia option, the back-drive force lower bound from the least breakaway
+torques). Both objectives are maximized internally (payload, sign·measure).
+
+Boxes wait in a priority queue, largest payload bound first (best first). An entry is dropped
+when a front point weakly dominates its best corner, or when some requirement is provably missed
+(the single-objective cuts). Complete designs are scored in batches by the physics oracle on the
+static cases; the costly ones (duty cycles, stance) are checked when the design reaches the head
+of the queue, and its full payload (never above the static one) puts it back. A fully checked
+design at the head joins the front: every design of larger payload has been resolved by then,
+so each point is final when found (proof: docs/frontier.md, "Method: bi-objective branch and
+bound"). Past the deadline the search stops: the points found are proven, and the entries left
+bound the region where points may be missing.
+"""
+
+from __future__ import annotations
+
+import copy
+import heapq
+import itertools
+import math
+import time
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..problem import checks, feasible
+from .model import SizingModel, tie_tol
+from .pareto import _payload
+from .search import search_order
+
+#: complete designs scored per oracle call at the last level
+LEAF_CHUNK = 512
+#: kinds of queue entries: a partial design, a complete design that passed the static cases,
+#: a complete design fully checked
+NODE, SCREENED, FINAL = 0, 1, 2
+
+
+@dataclass(frozen=True)
+class BiOutcome:
+    """Front points (payload, measure, index, mass), largest payload first."""
+
+    points: tuple  # (payload kg, measure, index (n,), mass kg): proven even when stopped
+    complete: bool  # the whole tree was searched
+    scored: int  # complete designs scored by the oracle (static cases)
+    checked: int  # designs through the costly cases (duty, stance)
+    nodes: int
+    seconds: float
+    #: when stopped: every missing point has payload ≤ open_payload and a measure no better
+    #: than open_measure (the largest bounds over the boxes left open); None when complete
+    open_payload: float | None
+    open_measure: float | None
+
+
+def measure_model(model: SizingModel, case: str, metric: str) -> SizingModel:
+    """The payload model with its measure set to ``metric`` at ``case`` (for the measure bounds
+    of :meth:`SizingModel.child_bounds` and :meth:`SizingModel.costly_ok`); shares every array."""
+    m = copy.copy(model)
+    m.kind = f"{metric}@{case}"
+    m.measure = (metric, case, 1.0 if metric == "imf" else -1.0)
+    # the duty-cycle bound costs a trajectory pass per node and only removes designs that the
+    # costly check at the leaves rejects anyway: left out of the inner nodes (fewer cuts only)
+    m.duty_bound = None
+    return m
+
+
+class BiObjectiveSearch:
+    """Depth-first bi-objective branch and bound; see the module docstring.
+
+    ``model``: built for the payload objective with the measure's own limit removed;
+    ``sense`` "min": larger measure is better (IMF), "max": smaller is better.
+    """
+
+    def __init__(
+        self,
+        model: SizingModel,
+        units: list[tuple],
+        case: str,
+        metric: str,
+        sense: str,
+        *,
+        deadline: float = math.inf,
+    ):
+        self.model = model
+        self.mmodel = measure_model(model, case, metric)
+        self.units = search_order(model, units)
+        self.case, self.metric = case, metric
+        self.sign = 1.0 if sense == "min" else -1.0
+        self.deadline = deadline
+        self.st = model.stats(model.candidates)
+        cap_end = min(deadline, time.perf_counter() + 2.0)
+        self.cap = model.budget_cap(self.st, deadline=cap_end)
+        self.levels, self.stance = shared_payload_bounds(model, self.cap, deadline)
+        if self.levels is not None:
+            self.cap = min(self.cap, self.levels.cap())
+        if self.stance is not None:
+            root = np.full(model.n, -1, dtype=np.int64)
+            self.cap = min(self.cap, self.stance.bound(root, (), np.empty(0, dtype=np.int64)))
+        self.lazy = bool(model.duty or model.stance)
+        n = model.n
+        # the front: fully checked feasible designs, non-dominated, sorted by payload ascending
+        self.fp = np.zeros(0)
+        self.fm = np.zeros(0)
+        self.fi = np.zeros((0, n), dtype=np.int64)
+        self.fmass = np.zeros(0)
+        self.frefl = np.zeros(0)
+        self.nodes = self.scored = self.checked = 0
+        #: most queue entries taken (a stop that does not depend on the clock, for tests)
+        self.max_pops: float = math.inf
+        self.stopped = False
+
+    # ------------------------------------------------------------------------------------------
+    def run(self) -> BiOutcome:
+        start = time.perf_counter()
+        n = self.model.n
+        heap: list = []
+        tick = itertools.count()
+        opts = [self._unit_options(u) for u in self.units]
+        if all(o.size for o in opts):
+            root = (np.full(n, -1, dtype=np.int64), -1)
+            top = 1.0 if self.mmodel.measure[0] == "imf" else 0.0  # the trivial measure bound
+            heap.append((-self.cap, -top, 0.0, 0.0, next(tick), NODE, root, 0))
+        self.leaves: list = []  # complete designs not yet scored, by their (near-exact) boxes
+        pops = 0
+        while heap or self.leaves:
+            pops += 1
+            if time.perf_counter() > self.deadline or pops > self.max_pops:
+                self.stopped = True
+                break
+            if self.leaves and (not heap or self.leaves[0][:2] <= heap[0][:2]):
+                self._score_leaves(heap, tick)
+                continue
+            negp, negm, mass, refl, _t, kind, idx, level = heapq.heappop(heap)
+            p, m = -negp, -negm
+            if self.dominated1(p, m):
+                continue
+            if kind == NODE:
+                parent, option = idx
+                child = parent.copy()
+                if level:
+                    child[list(self.units[level - 1])] = option
+                self._expand(heap, tick, child, level)
+            elif kind == SCREENED:  # static cases passed: the costly ones decide
+                full = self.model.score(idx[None, :], full=True)
+                self.checked += 1
+                if full.feasible[0]:
+                    q = min(p, float(full.objective[0]))
+                    heapq.heappush(heap, (-q, negm, mass, refl, next(tick), FINAL, idx, level))
+            else:
+                self._add(p, m, idx, mass, refl)
+        open_p = open_m = None
+        if self.stopped:
+            keys = [h[:2] for h in heap] + [h[:2] for h in self.leaves]
+            rest = -np.array(keys, dtype=float).reshape(-1, 2)
+            live = rest[~self.dominated(rest[:, 0], rest[:, 1])]
+            if live.size:
+                open_p = float(live[:, 0].max())
+                open_m = self.sign * float(live[:, 1].max()) + 0.0  # no negative zero
+            self.stopped = bool(live.size)
+        order = np.argsort(-self.fp, kind="stable")
+        pts = tuple(
+            (
+                float(self.fp[k]),
+                self.sign * float(self.fm[k]),
+                self.fi[k].copy(),
+                float(self.fmass[k]),
+            )
+            for k in order
+        )
+        return BiOutcome(
+            pts,
+            not self.stopped,
+            self.scored,
+            self.checked,
+            self.nodes,
+            time.perf_counter() - start,
+            open_p,
+            open_m,
+        )
+
+    def seed(self, index: np.ndarray) -> None:
+        """Start from a proven front point: ``index`` has the largest payload of all designs
+        and the best measure among those of that payload (two single-objective searches, the
+        sweep's first step). No design has more payload, so the cap falls to it, and every box
+        whose measure bound is no better is dominated from the start."""
+        model = self.model
+        index = np.asarray(index, dtype=np.int64)[None, :]
+        full = model.score(index, full=True)
+        if not full.feasible[0]:
+            return
+        arrays = model.table.arrays(index)
+        ev = model.static_evaluator.evaluate(arrays, detail=False)
+        m = self.sign * float(np.asarray(ev[self.case][self.metric], dtype=float)[0])
+        p = float(full.objective[0])
+        if not (math.isfinite(p) and math.isfinite(m)):
+            return
+        self.cap = min(self.cap, p + tie_tol(p))
+        self._add(p, m, index[0], float(full.mass[0]), float(full.reflected[0]))
+
+    def _add(self, p: float, m: float, idx: np.ndarray, mass: float, refl: float) -> None:
+        """A fully checked design joins the front: every design of larger payload is known, so
+        it is final. Payloads within the tie tolerance of the last point are one point (the
+        better measure stays, as in :func:`.pareto._front`)."""
+        if self.fp.size and abs(self.fp[0] - p) <= tie_tol(self.fp[0]):
+            self.fp, self.fm, self.fi = self.fp[1:], self.fm[1:], self.fi[1:]
+            self.fmass, self.frefl = self.fmass[1:], self.frefl[1:]
+        self.fp = np.concatenate([[p], self.fp])
+        self.fm = np.concatenate([[m], self.fm])
+        self.fi = np.concatenate([idx[None, :], self.fi])
+        self.fmass = np.concatenate([[mass], self.fmass])
+        self.frefl = np.concatenate([[refl], self.frefl])
+
+    def _unit_options(self, unit) -> np.ndarray:
+        opts = self.model.candidates[unit[0]]
+        for j in unit[1:]:
+            opts = np.intersect1d(opts, self.model.candidates[j])
+        return opts
+
+    # --- dominance by the current front --------------------------------------------------------
+    def dominated(self, p: np.ndarray, m: np.ndarray) -> np.ndarray:
+        """Whether a front point weakly dominates each box corner (p, m), within the tie
+        tolerance on payload (payloads that close count as one point, docs/frontier.md)."""
+        if self.fp.size == 0:
+            return np.zeros(p.shape, dtype=bool)
+        tol = np.where(np.isfinite(p), 1e-9 * np.maximum(1.0, np.abs(p)), 0.0)
+        # front sorted by payload ascending has its measure descending: the first front point
+        # with payload ≥ p − tol has the best measure among all those with payload ≥ p − tol
+        k = np.searchsorted(self.fp, p - tol, side="left")
+        inside = k < self.fp.size
+        best = np.where(inside, self.fm[np.minimum(k, self.fp.size - 1)], -np.inf)
+        return inside & (best >= m - _mtol_arr(m))
+
+    def dominated1(self, p: float, m: float) -> bool:
+        """:meth:`dominated` for one box."""
+        if self.fp.size == 0:
+            return False
+        tol = tie_tol(p)
+        k = int(np.searchsorted(self.fp, p - tol, side="left"))
+        return k < self.fp.size and float(self.fm[k]) >= m - _mtol(m)
+
+    def _boxes(self, idx: np.ndarray, unit: tuple, opts: np.ndarray, last: bool):
+        """Children of ``unit`` that survive every cut, largest payload bound first, with their
+        boxes (payload upper bound, measure bound, internal sense)."""
+        b = self.model.child_bounds(idx, unit, opts, self.st)
+        p = np.minimum(b["objective"], self.cap)
+        if self.levels is not None and opts.size:
+            p = np.minimum(p, self.levels.bound(idx, unit, opts, self.st))
+        if self.stance is not None and opts.size:
+            p = np.minimum(p, self.stance.bound(idx, unit, opts))
+        keep = b["ok"] & (p > -np.inf)
+        if self.mmodel.measure[0] == "backdrive_force":
+            mb = self.mmodel.child_bounds(idx, unit, opts[keep], self.st)["objective"]
+        else:
+            # the trivial bounds: an IMF is at most 1, a mass or a force at least 0
+            mb = np.full(int(keep.sum()), 1.0 if self.mmodel.measure[0] == "imf" else 0.0)
+        opts, p = opts[keep], p[keep]
+        keep = ~self.dominated(p, mb)
+        opts, p, mb = opts[keep], p[keep], mb[keep]
+        if opts.size and (self.fp.size or last):
+            # the measure bounds cost an oracle call; above the last level, before the first
+            # front point, they cut nothing (no box is dominated): they start with it there
+            # (skipping a cut is safe); complete designs always get theirs
+            bounds = {"objective": mb.copy()}
+            ok = self.mmodel.costly_ok(idx, unit, opts, self.st, bounds)
+            mb = np.minimum(mb, bounds["objective"])
+            ok &= ~self.dominated(p, mb)
+            opts, p, mb = opts[ok], p[ok], mb[ok]
+        order = np.lexsort((opts, -mb, -p))
+        return opts[order], p[order], mb[order]
+
+    def _expand(self, heap: list, tick, idx: np.ndarray, level: int) -> None:
+        """Bound every option of the next unit; push the surviving children, or score the
+        complete designs at the last level in one batch and push the feasible ones."""
+        self.nodes += 1
+        unit = self.units[level]
+        opts, p, mb = self._boxes(idx, unit, self._unit_options(unit), level + 1 == len(self.units))
+        if not opts.size:
+            return
+        if level + 1 < len(self.units):  # children share the parent's array
+            for k in range(opts.size):
+                heapq.heappush(
+                    heap,
+                    (-p[k], -mb[k], 0.0, 0.0, next(tick), NODE, (idx, int(opts[k])), level + 1),
+                )
+            return
+        rows = np.broadcast_to(idx, (opts.size, self.model.n)).copy()
+        rows[:, list(unit)] = opts[:, None]
+        for k in range(opts.size):
+            heapq.heappush(self.leaves, (-p[k], -mb[k], next(tick), rows[k]))
+
+    def _score_leaves(self, heap: list, tick) -> None:
+        """Score the best leaf boxes not dominated by the front (up to :data:`LEAF_CHUNK`, in
+        one oracle call) and push the feasible designs with their static values."""
+        picked: list[np.ndarray] = []
+        while self.leaves and len(picked) < LEAF_CHUNK:
+            negp, negm, _t, row = heapq.heappop(self.leaves)
+            if not self.dominated1(-negp, -negm):
+                picked.append(row)
+        if not picked:
+            return
+        model = self.model
+        chunk = np.stack(picked)
+        arrays = model.table.arrays(chunk)
+        ev = model.static_evaluator.evaluate(arrays, detail=False)
+        ok = feasible(checks(model.static_project, arrays, ev), chunk.shape[0])
+        pay = _payload(model, arrays, ev, chunk.shape[0])
+        mu = self.sign * np.asarray(ev[self.case][self.metric], dtype=float)
+        ok &= np.isfinite(mu) & ~np.isnan(pay)
+        self.scored += chunk.shape[0]
+        keep = np.flatnonzero(ok)
+        keep = keep[~self.dominated(pay[keep], mu[keep])]
+        mass = arrays.mass.sum(axis=1)
+        refl = arrays.reflected_inertia("backdriven").sum(axis=1)
+        kind = SCREENED if self.lazy else FINAL
+        last = len(self.units)
+        for k in keep:
+            heapq.heappush(
+                heap, (-pay[k], -mu[k], mass[k], refl[k], next(tick), kind, chunk[k], last)
+            )
+
+
+def shared_payload_bounds(model: SizingModel, cap: float, deadline: float):
+    """The single-objective search's further payload bounds, shared: the per-component budget
+    levels (``solve/component_bound.py``) and the stance-case linear program
+    (``solve/stance_bound.py``), built as :class:`.search.BranchAndBound` builds them.
+    Returns (levels or None, stance or None)."""
+    from .component_bound import ComponentLevels, level_grid
+    from .stance_bound import StanceBound
+
+    levels = stance = None
+    if model.payload and math.isfinite(cap):
+        end = min(deadline, time.perf_counter() + 2.0)
+        levels = ComponentLevels(model, model.candidates, level_grid(0.0, cap, None), end)
+    if model.stance:
+        stance = StanceBound(model)
+    return levels, stance
+
+
+def _mtol(m: float) -> float:
+    return 1e-12 * max(1.0, abs(m)) if math.isfinite(m) else 0.0
+
+
+def _mtol_arr(m: np.ndarray) -> np.ndarray:
+    return np.where(np.isfinite(m), 1e-12 * np.maximum(1.0, np.abs(m)), 0.0)
