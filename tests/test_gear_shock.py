@@ -230,3 +230,20 @@ def test_shock_use_max_is_a_sizing_constraint_the_search_honours():
     assert res.status == "optimal"  # a design meets the tighter limit (payload may fall)
     check = next(c for c in res.assessment.checks if c.requirement == "shock_use_max")
     assert check.achieved <= limit * (1 + 1e-9) and res.design != free.design
+
+
+@pytest.mark.slow
+def test_frontier_points_carry_their_gear_shock_use():
+    """Each point of the payload–IMF front states its gear shock use at the leg's touchdown,
+    equal to what assess computes for that design (the same physics oracle)."""
+    from jointwright.frontier import frontier
+    from jointwright.project import load_example
+
+    project = load_example("leg")
+    f = frontier(project, "imf", time_limit=120)
+    assert f.points
+    for p in f.points:
+        a = assess(project, p.design)
+        worst = max(c.metrics["shock_use"] for c in a.cases if "shock_use" in c.metrics)
+        assert p.shock_use == pytest.approx(worst, rel=1e-12)
+    assert f.to_dict()["points"][0]["shock_use"] == pytest.approx(f.points[0].shock_use)

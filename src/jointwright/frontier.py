@@ -54,6 +54,9 @@ class FrontierPoint:
     #: False only for the one design a stopped branch and bound returns when it has no proven
     #: point yet (the single-objective search's best design so far)
     proven: bool = True
+    #: the design's largest peak gear torque at an impact over the stage's momentary rating,
+    #: over the impact cases with an impact speed (metrics/gear_shock.py); None without such a case
+    shock_use: float | None = None
 
 
 @dataclass(frozen=True)
@@ -102,6 +105,7 @@ class Frontier:
                         "changes": list(p.changes),
                         "changed": {j: [old, new] for j, old, new in p.changed},
                         "proven": p.proven,
+                        "shock_use": p.shock_use,
                         "actuators": {
                             j: a.label()
                             for j, a in zip(p.design.joints, p.design.actuators, strict=True)
@@ -204,11 +208,13 @@ def frontier(
     # one option table for every solve: it depends on the catalog and the exclusions only
     table = build_table(project, read_objective(project)["exclude"])
     if method in ("auto", "branch-and-bound"):
-        return _merged(_bnb(project, c.name, key, metric, sense, deadline, start, table), merge)
+        return _finish(
+            project, _bnb(project, c.name, key, metric, sense, deadline, start, table), merge
+        )
     if method == "exhaustive":
         out = _exhaustive(project, c.name, key, metric, sense, deadline, start, math.inf, table)
         assert out is not None  # no size limit: it always answers
-        return _merged(out, merge)
+        return _finish(project, out, merge)
     found: list[tuple] = []
     eps: float | None = None
     solves, complete = 0, False
@@ -252,7 +258,7 @@ def frontier(
     out = Frontier(
         measure, c.name, sense, pts, complete, knee(pts, sense), time.perf_counter() - start, solves
     )
-    return _merged(out, merge)
+    return _finish(project, out, merge)
 
 
 #: the methods :func:`frontier` offers
@@ -335,6 +341,32 @@ def _bnb(
         out.scored,
         unexplored,
     )
+
+
+def _finish(project, f: Frontier, merge: float) -> Frontier:
+    """The front as returned: near-duplicates merged, each point's gear shock use added."""
+    return _with_shock(project, _merged(f, merge))
+
+
+def _with_shock(project, f: Frontier) -> Frontier:
+    """Each point with its gear shock use at the project's impacts (the worst over the impact
+    cases that state an impact speed): how back-drivability trades against gear survival at
+    touchdown or collision (docs/frontier.md). Unchanged when no case states an impact speed."""
+    cases = [c.name for c in project.cases if c.kind == "impact" and c.impact_speed > 0]
+    if not cases or not f.points:
+        return f
+    import numpy as np
+
+    from .design import arrays_from_designs
+    from .evaluate import Evaluator
+
+    arrays = arrays_from_designs([p.design for p in f.points])
+    ev = Evaluator(project).evaluate(arrays, detail=False)
+    use = np.max([np.asarray(ev[c]["shock_use"], dtype=float) for c in cases], axis=0)
+    points = tuple(
+        dataclasses.replace(p, shock_use=float(u)) for p, u in zip(f.points, use, strict=True)
+    )
+    return dataclasses.replace(f, points=points)
 
 
 def _merged(f: Frontier, tol: float) -> Frontier:

@@ -122,6 +122,7 @@ def print_frontier(f) -> None:
         con.print(f"[yellow]{region}[/yellow]")
     rows = []
     costs = any(p.design.cost > 0 for p in f.points)  # the catalog gives costs
+    shock = any(p.shock_use is not None for p in f.points)  # an impact case states a speed
     for i, p in enumerate(f.points):
         mark = (" ◆" if i == f.knee else "") + ("" if p.proven else " (not proven)")
         changed = p.changed or tuple((j, "?", "?") for j in p.changes)
@@ -133,6 +134,8 @@ def print_frontier(f) -> None:
                 num(p.mass, "kg"),
             ]
             + ([num(p.design.cost)] if costs else [])
+            + ([num(100.0 * p.shock_use, "%")] if shock and p.shock_use is not None else [])
+            + (["—"] if shock and p.shock_use is None else [])
             + [
                 "; ".join(f"{j}: {a} → {b}" for j, a, b in changed)
                 or ("—" if i else "first point"),
@@ -149,6 +152,12 @@ def print_frontier(f) -> None:
         "requirement of the project is kept"
         + ("; cost in the catalog's currency units" if costs else "")
         + (
+            "; gear shock: the largest peak gear torque at the project's impacts over the stage's "
+            "momentary rating (over 100 % the gear is expected to break)"
+            if shock
+            else ""
+        )
+        + (
             "; ◆ the turning point of the trade-off (farthest from the line joining the two ends); "
             "numbers as in the plot"
             if f.knee is not None
@@ -160,6 +169,7 @@ def print_frontier(f) -> None:
             "Frontier (largest payload first)",
             ["#", "payload mass", f.measure, "mass"]
             + (["cost"] if costs else [])
+            + (["gear shock"] if shock else [])
             + ["joints changed", "design"],
             rows,
             caption=caption,
