@@ -245,13 +245,18 @@ def test_summary_comes_first_with_the_decision_and_the_tightest_margins(built):
 
 
 def test_cost_is_shown_beside_mass_and_adds_up_from_the_catalog(built):
-    # each actuator's cost is its motor's plus its frames' catalog costs (catalog-format.md)
+    # each actuator's cost is its motor's plus its frames' plus its drive's catalog costs
+    # (catalog-format.md)
     project, a = built["project"], built["assessment"]
     motors = {m.name: m.cost for m in project.catalog.motors}
     frames = {f.name: f.cost for st in project.catalog.stages for f in st.frames}
+    drives = {d.name: d.cost for d in project.catalog.drives}
     design = load_design(built["path"].parents[1] / "design.toml", project)
     want = sum(
-        motors[x.motor.name] + sum(frames[s.frame.name] for s in x.stages) for x in design.actuators
+        motors[x.motor.name]
+        + sum(frames[s.frame.name] for s in x.stages)
+        + (drives[x.drive.name] if x.drive is not None else 0.0)
+        for x in design.actuators
     )
     assert want > 0, "the example catalogs give costs"
     cells = _parse(built["html"]).cells
@@ -492,7 +497,8 @@ def test_sizing_and_frontier_sections_join_the_report(tmp_path):
     path = build_report(project, design, tmp_path / "out", sizing=sizing, frontier=frontier)
     html = path.read_text("utf-8")
     assert 'id="runner-ups"' in html and 'id="frontier"' in html
-    assert "proven bound 80 N" in html and "loses 4.96 N" in html
+    # the payload objective is a payload mass (kg)
+    assert "proven bound 80 kg" in html and "loses 4.96 kg" in html
     assert "561.2 N" in html  # the diagnosis takes the requirement's unit from the assessment
     p = _parse(html)
     for src in p.images:
@@ -566,3 +572,13 @@ def test_summary_risks_order_and_thresholds():
     assert got[-1].startswith("Assumed:")
     flat = risks(a, {"points": 5, "change": 0.0, "joint": "hip", "efficiency": "η_f"})
     assert "leaves the smallest payload unchanged" in " ".join(flat)
+
+
+def test_decision_names_each_joints_drive(built):
+    # with drives in the project (the bundled quadruped), the decision table names the drive
+    a = built["assessment"]
+    drives = {j["drive"] for j in a["joints"] if j.get("drive")}
+    html = built["html"]
+    decision = html[html.index("Decision: the actuator of each joint") : html.index("Tightest")]
+    assert ("<th>drive</th>" in decision) == bool(drives)
+    assert all(d in decision for d in drives)

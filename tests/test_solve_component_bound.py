@@ -52,7 +52,7 @@ def _instance(seed: int, cost: bool):
     )
     project = dataclasses.replace(
         q,
-        catalog=Catalog(motors=motors, stages=tuple(stages)),
+        catalog=Catalog(motors=motors, stages=tuple(stages), drives=q.catalog.drives),
         cases=cases,
         objective={"maximize": "payload", "shared": q.objective["shared"]},
         requirements=Requirements(),

@@ -41,7 +41,7 @@ def _quadruped(seed: int):
     cases = tuple(dataclasses.replace(c, limits={}) for c in q.cases if c.kind == "stance")
     return dataclasses.replace(
         q,
-        catalog=Catalog(motors=motors, stages=tuple(stages)),
+        catalog=Catalog(motors=motors, stages=tuple(stages), drives=q.catalog.drives),
         cases=cases,
         objective={},
         requirements=Requirements(),

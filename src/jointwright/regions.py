@@ -74,7 +74,9 @@ def _base_pose(t: Table, robot, named, read_pose, required: bool) -> dict[str, f
     if not t.has("pose"):
         if required:
             raise InputError(
-                t.file, t.field("pose"), "is required: it gives the joints the grid leaves out"
+                t.file,
+                t.field("pose"),
+                "is required: a full pose, whose gridded joints the grid replaces",
             )
         return None
     raw = t.raw("pose")

@@ -546,7 +546,8 @@ def _message(status, kind, value, diag) -> str:
     if status == "time_limit" and value is None:
         return "time limit reached before any design met every requirement"
     if status == "time_limit":
-        return f"time limit reached: best {kind} {value:.6g} {unit}, see bound and gap".rstrip()
+        shown = f"{value:.6g} {unit}".rstrip()
+        return f"time limit reached: best {kind} {shown}, see bound and gap"
     if status == "infeasible":
         return "no design meets every requirement" + ("; see the diagnosis" if diag else "")
     return "the back-end's design failed re-evaluation by the physics; not reported as a solution"

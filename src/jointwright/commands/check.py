@@ -194,7 +194,16 @@ def command(project: Path, as_json: bool):
             "bus voltage)"
         )
     if s["requirements"]["efficiency_band"]:
-        con.print("Requirements hold across the stages' efficiency bands (worst end per metric).")
+        if any(t["efficiency_band"] for t in c["stage_types"]):
+            con.print(
+                "Requirements hold across the stages' efficiency bands (worst end per metric)."
+            )
+        else:
+            con.print(
+                "[yellow]warning:[/yellow] requirements.efficiency_band is true but no stage of "
+                "the catalog states an efficiency_band: every metric is at the nominal "
+                'efficiencies (docs/catalog-format.md, "Efficiency bands")'
+            )
     units = {
         "payload_min": "N",
         "imf_min": "",

@@ -18,7 +18,12 @@ def describe_run(f) -> str:
     """One sentence: how many points, whether complete, how they were found."""
     how = {
         "exhaustive": f"every one of {f.scored:,} candidate designs scored",
-        "branch-and-bound": f"bi-objective branch and bound, {f.scored:,} complete designs scored",
+        "branch-and-bound": (
+            f"bi-objective branch and bound, {f.scored:,} complete designs scored"
+            if f.scored
+            else "bi-objective branch and bound, stopped in its first single-objective search "
+            "(the strongest design)"
+        ),
         "sweep": f"{f.solves} exact solves",
     }.get(f.method, f.method)
     if f.complete:
@@ -29,7 +34,9 @@ def describe_run(f) -> str:
         state = "stopped before the first proof: the best design found, not proven"
     else:
         state = "sampled (stopped early)"
-    text = f"{len(f.points)} non-dominated designs, {state}; {how}, {f.seconds:.1f} s"
+    n = len(f.points)
+    what = "non-dominated " if all(p.proven for p in f.points) else ""
+    text = f"{n} {what}design{'' if n == 1 else 's'}, {state}; {how}, {f.seconds:.1f} s"
     if f.merge_tolerance > 0:
         text += (
             f"; {f.merged} near-duplicate point{'s' if f.merged != 1 else ''} merged (within "
@@ -58,8 +65,15 @@ def plot_text(f, width: int = 64, height: int = 16) -> str:
     ys = [p.payload for p in f.points]
     x0, x1 = min(xs), max(xs)
     y0, y1 = min(ys), max(ys)
-    sx = (x1 - x0) or 1.0
-    sy = (y1 - y0) or 1.0
+    # one value on an axis (a single point, or equal measures): a span of ±5 % around it, so
+    # the point sits mid-axis and the ticks read its value
+    if x1 == x0:
+        pad = 0.05 * max(abs(x0), 1e-9)
+        x0, x1 = x0 - pad, x1 + pad
+    if y1 == y0:
+        pad = 0.05 * max(abs(y0), 1e-9)
+        y0, y1 = y0 - pad, y1 + pad
+    sx, sy = x1 - x0, y1 - y0
     grid = [[" "] * width for _ in range(height)]
 
     def col(x: float) -> int:

@@ -43,6 +43,11 @@ CASE_METRICS = {
     "torque": (("torque_ratio", "smallest achieved ÷ required joint torque", ""),),
 }
 
+#: the duty quantities of the report's per-joint table: the CLI's list without the
+#: torque-speed-line use, so ten columns fit an A4 page (the case's limiting quantity row names
+#: the envelope when it is the one that binds)
+REPORT_DUTY = tuple(q for q in DUTY_QUANTITIES if q[0] != "envelope_ratio")
+
 
 def _f(x) -> float:
     return float({"inf": math.inf, "-inf": -math.inf}.get(x, x)) if x is not None else math.nan
@@ -462,7 +467,7 @@ def _duty_table(c: dict, joints: list[str]) -> str:
     rows = []
     for j in joints:
         row: list = [j]
-        for key, _col, unit, scale in DUTY_QUANTITIES:
+        for key, _col, unit, scale in REPORT_DUTY:
             v = m.get(f"{key}:{j}")
             if isinstance(v, (int, float)) and not isinstance(v, bool):
                 v = scale * v
@@ -481,7 +486,7 @@ def _duty_table(c: dict, joints: list[str]) -> str:
         shown = ", ".join(f"{j} {fmt(_f(v) / 3600.0, 'h')}" for j, v in lives)
         cap += f" Gear life on this cycle alone (rated-life equation, docs/metrics.md): {shown}."
     return table(
-        ["joint"] + [col for _k, col, _u, _s in DUTY_QUANTITIES], rows, caption=cap, cls="wide"
+        ["joint"] + [col for _k, col, _u, _s in REPORT_DUTY], rows, caption=cap, cls="wide"
     )
 
 

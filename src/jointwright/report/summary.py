@@ -66,6 +66,7 @@ def _groups(joints: list[dict]) -> list[list[dict]]:
 def decision_table(a: dict) -> str:
     """The actuator per joint with its mass (and cost when the catalog gives costs)."""
     costs = has_costs(a)
+    drives = any(j.get("drive") for j in a["joints"])  # the project names drives
     rows = []
     groups = _groups(a["joints"])
     shared = any(len(g) > 1 for g in groups)
@@ -79,6 +80,8 @@ def decision_table(a: dict) -> str:
             (" + ".join(j["stages"]) or "direct drive") + lock,
             Cell(f"{number(j['ratio'])} : 1", "num"),
         ]
+        if drives:
+            row.append(j.get("drive") or "—")
         if shared:
             row.append(Cell(f"{len(g)} ×", "num"))
         row.append(Cell(fmt(j["mass"], "kg"), "num", (("summary-joint", names), ("field", "mass"))))
@@ -87,7 +90,7 @@ def decision_table(a: dict) -> str:
                 Cell(cost_text(j.get("cost")), "num", (("summary-joint", names), ("field", "cost")))
             )
         rows.append(row)
-    total = [Cell("total", "num"), "", "", ""] + ([""] if shared else [])
+    total = [Cell("total", "num"), "", "", ""] + ([""] if drives else []) + ([""] if shared else [])
     total.append(Cell(fmt(a["total_mass"], "kg"), "num", (("field", "summary_total_mass"),)))
     if costs:
         total.append(Cell(cost_text(a["total_cost"]), "num", (("field", "summary_total_cost"),)))
@@ -95,6 +98,7 @@ def decision_table(a: dict) -> str:
     each = " each" if shared else ""
     head = (
         ["joints" if shared else "joint", "motor", "gear stages", "ratio"]
+        + (["drive"] if drives else [])
         + (["count"] if shared else [])
         + [f"mass{each}"]
         + ([f"cost{each}"] if costs else [])
@@ -102,6 +106,8 @@ def decision_table(a: dict) -> str:
     notes = []
     if shared:
         notes.append("Joints with the same actuator share a row.")
+    if drives:
+        notes.append("Mass and cost include the drive's.")
     if costs:
         notes.append("Cost in the catalog's currency units.")
     return table(head, rows, caption=" ".join(notes), cls="compact")
