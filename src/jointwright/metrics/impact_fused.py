@@ -27,8 +27,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError, SingularPoseError
-from .inertia import RANK_TOL, _spectral
-from .linalg_small import API, adjugate_entries, det_entries, stack_entries
+from .inertia import RANK_TOL, classified_imf
+from .linalg_small import API, adjugate_entries, det_entries
 
 #: an entry: a row over the designs, or a number shared by all of them (0.0: structural zero)
 Entry = np.ndarray | float
@@ -308,44 +308,11 @@ def _quad(a: list[list[np.ndarray]], x: list[float]) -> Entry:
     return total
 
 
-def _trace_product(x: list[list[np.ndarray]], y: list[list[np.ndarray]]) -> np.ndarray:
-    k = len(x)
-    return sum(x[i][j] * y[j][i] for i in range(k) for j in range(k))
-
-
 def _closed_form(
     p: list[list[np.ndarray]], a: list[list[np.ndarray]], det_a: np.ndarray, tol: float
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """ξ, rank and restricted ξ by cofactors: the rule of
     :func:`jointwright.metrics.inertia._closed_form` (elementary symmetric functions of the
     eigenvalues of Λ·P), without forming Λ or Λ_L."""
-    m = len(a)
-    det_p = det_entries(p)
-    adj_p = adjugate_entries(p)
-    imf = det_p / det_a
-    adj_a = adjugate_entries(a)
-    chain: list[Entry] = [1.0]
-    if m >= 2:
-        chain.append(_trace_product(adj_a, p) / det_a)
-    if m == 3:
-        chain.append(_trace_product(adj_p, a) / det_a)
-    chain.append(imf)
-    batch = np.shape(imf)
-    below = np.ones(batch, dtype=bool)
-    for k in range(1, m - 1):
-        below = below & (chain[k] > tol * chain[k - 1])
-    full = below & (chain[m - 1] > tol * chain[m - 2]) & (chain[m] > tol * chain[m - 1])
-    short = below & (chain[m - 1] > 2.0 * tol * chain[m - 2]) & (chain[m] <= tol / m * chain[m - 1])
-    rank = np.where(full, m, m - 1)
-    if m >= 2:
-        tr_adj_p = sum(adj_p[i][i] for i in range(m))
-        cut = tr_adj_p**2 / _trace_product(adj_a, adj_p)
-    else:
-        cut = 0.0
-    restricted = np.array(np.broadcast_to(np.where(full, imf, cut), batch))
-    imf = np.array(np.broadcast_to(np.where(full, imf, 0.0), batch))
-    doubt = ~(full | short)
-    if doubt.any():
-        pa, aa = stack_entries(p)[doubt], stack_entries(a)[doubt]
-        imf[doubt], rank[doubt], restricted[doubt] = _spectral(pa, aa, tol)
+    imf, rank, restricted, _adj_a = classified_imf(p, a, det_a, tol)
     return imf, rank, restricted

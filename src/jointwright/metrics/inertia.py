@@ -523,7 +523,7 @@ def _contact_movable(a):
 
 
 def _closed_form(p, a, inv_l, tol):
-    """ξ, rank, restricted ξ, Λ, Λ_L for m ≤ 3 by cofactors.
+    """ξ, rank, restricted ξ, Λ, Λ_L for m ≤ 3 by cofactors (:func:`classified_imf`).
 
     With e_k the elementary symmetric functions of the eigenvalues λ of Λ·P (e_k = sum of its
     principal k-minors, e_0 = 1), e_m/e_(m−1) lies in [λ_min/m, λ_min]. Items are sorted into
@@ -534,8 +534,18 @@ def _closed_form(p, a, inv_l, tol):
     direction of P, and for an orthonormal basis Q of n⊥, det(Qᵀ·X·Q) = nᵀ·adj(X)·n, so the
     restricted factor is tr(adj P)² / tr(adj(Λ⁻¹)·adj(P)).
     """
+    det_a = det_entries(a)
+    imf, rank, restricted, adj_a = classified_imf(p, a, det_a, tol)
+    lam = stack_entries([[v / det_a for v in row] for row in adj_a])
+    lam_l = _inverse_or_inf(stack_entries(inv_l))
+    return imf, rank, restricted, lam, lam_l
+
+
+def classified_imf(p, a, det_a, tol):
+    """ξ, rank and restricted ξ of entry lists P and A = Λ⁻¹ (det A given), and adj(A), by the
+    rule of :func:`_closed_form`; shared with the fused kernel (metrics/impact_fused.py)."""
     m = len(a)
-    det_a, det_p = det_entries(a), det_entries(p)
+    det_p = det_entries(p)
     adj_a, adj_p = adjugate_entries(a), adjugate_entries(p)
     imf = det_p / det_a
     chain = [1.0]
@@ -550,8 +560,6 @@ def _closed_form(p, a, inv_l, tol):
         below = below & (chain[k] > tol * chain[k - 1])
     full = below & (chain[m - 1] > tol * chain[m - 2]) & (chain[m] > tol * chain[m - 1])
     short = below & (chain[m - 1] > 2.0 * tol * chain[m - 2]) & (chain[m] <= tol / m * chain[m - 1])
-    lam = stack_entries([[v / det_a for v in row] for row in adj_a])
-    lam_l = _inverse_or_inf(stack_entries(inv_l))
     rank = np.where(full, m, m - 1)
     if m >= 2:
         tr_adj_p = sum(adj_p[i][i] for i in range(m))
@@ -564,7 +572,7 @@ def _closed_form(p, a, inv_l, tol):
     if doubt.any():
         pa, aa = stack_entries(p)[doubt], stack_entries(a)[doubt]
         imf[doubt], rank[doubt], restricted[doubt] = _spectral(pa, aa, tol)
-    return imf, rank, restricted, lam, lam_l
+    return imf, rank, restricted, adj_a
 
 
 def _trace_product(x, y):
