@@ -18,20 +18,19 @@ stage kind are not errors: they become lines in :attr:`Catalog.notes`.
 from __future__ import annotations
 
 import math
-from dataclasses import MISSING, fields
 from pathlib import Path
-from typing import Any, NamedTuple
+from typing import NamedTuple
 
 import numpy as np
 
-from ..errors import InputError, did_you_mean, unknown_name
+from ..errors import InputError, did_you_mean
 from ..tomlfile import Table, load_toml
 from ..units import positive
-from .bands import band_from_dict, check_band
 from .csvfile import CsvRow, csv_lines, csv_rows, read_csv, split_header
 from .drives import drive_from_table
-from .efficiency import efficiency_from_dict
-from .model import LIFE_BASES, STAGE_KINDS, Catalog, Motor, MotorFamily, StageFrame, StageType
+from .entries import at_most, check_entry_keys, entry_name, read_values
+from .model import Catalog, Motor, MotorFamily, StageType
+from .stage_table import FRAME_FIELDS, StageDraft, read_frame
 
 #: Motor field -> (dimension for units.quantity, sign rule)
 MOTOR_FIELDS: dict[str, tuple[str, str]] = {
@@ -51,30 +50,6 @@ MOTOR_FIELDS: dict[str, tuple[str, str]] = {
     "length": ("length", "nonnegative"),
     "cost": ("dimensionless", "nonnegative"),
 }
-
-#: StageFrame field -> (dimension, sign rule)
-FRAME_FIELDS: dict[str, tuple[str, str]] = {
-    "rated_peak_torque": ("torque", "positive"),
-    "rated_continuous_torque": ("torque", "positive"),
-    "mass": ("mass", "positive"),
-    "input_inertia": ("inertia", "nonnegative"),
-    "breakaway_torque": ("torque", "nonnegative"),
-    "backlash": ("angle", "nonnegative"),
-    "stiffness": ("stiffness_torsional", "positive"),
-    "diameter": ("length", "nonnegative"),
-    "length": ("length", "nonnegative"),
-    "cost": ("dimensionless", "nonnegative"),
-}
-
-#: StageFrame life and shock ratings (docs/catalog-format.md, "Life and shock ratings")
-FRAME_RATING_FIELDS: dict[str, tuple[str, str]] = {
-    "rated_life_torque": ("torque", "positive"),
-    "rated_life_speed": ("angular_velocity", "positive"),
-    "rated_life_input_speed": ("angular_velocity", "positive"),
-    "rated_life": ("time", "positive"),
-    "rated_momentary_torque": ("torque", "positive"),
-}
-FRAME_FIELDS.update(FRAME_RATING_FIELDS)
 
 #: typical single-stage ratio (low, high) and forward efficiency (low, high) per stage kind
 #: [trade, see REFERENCES.md]; None where no range is customary (screws: the ratio is rad/m)
@@ -105,16 +80,6 @@ _TOP_KEYS = (
     "motors_csv",
     "frames_csv",
     "drive",
-)
-_STAGE_KEYS = (
-    "name",
-    "kind",
-    "ratios",
-    "ratio_range",
-    "efficiency",
-    "frame",
-    "life_exponent",
-    "efficiency_band",
 )
 
 
@@ -209,7 +174,7 @@ def _load_part(path: Path) -> _Part:
 def _toml_part(path: Path) -> _Part:
     file = str(path)
     top = Table(load_toml(path), file, "")
-    _check_keys(top, _TOP_KEYS)
+    check_entry_keys(top, _TOP_KEYS)
     if top.has("description") and not isinstance(top.raw("description"), str):
         raise InputError(file, "description", "must be a string")
     drives = [(drive_from_table(t), _Where(file, t.path)) for t in top.tables("drive")]
@@ -221,7 +186,7 @@ def _toml_part(path: Path) -> _Part:
             part.motors.append((_motor(row), _Where(row.file, row.path)))
     for t in top.tables("motor_family"):
         part.families.append((_family(t), _Where(file, t.path)))
-    stages = [_StageDraft(t) for t in top.tables("stage")]
+    stages = [StageDraft(t) for t in top.tables("stage")]
     for csv_path in _paths(top, "frames_csv", path.parent):
         _attach_frames(stages, csv_path, file)
     for draft in stages:
@@ -250,29 +215,6 @@ def _require_content(part: _Part, path: Path) -> None:
 # --- motors --------------------------------------------------------------------------------
 
 
-def _defaults(cls) -> dict[str, Any]:
-    return {f.name: f.default for f in fields(cls)}
-
-
-def _values(t: Table, spec: dict[str, tuple[str, str]], cls) -> dict[str, Any]:
-    """Read every field of ``spec`` present in ``t`` (required when ``cls`` has no default)."""
-    defaults = _defaults(cls)
-    out = {}
-    for key, (dim, sign) in spec.items():
-        if t.has(key) or defaults[key] is MISSING:
-            out[key] = t.quantity(key, dim, sign=sign)
-    return out
-
-
-def _name(t: Table, default: str | None = None) -> str:
-    if default is not None and not t.has("name"):
-        return default
-    name = t.text("name")
-    if not name.strip():
-        raise InputError(t.file, t.field("name"), "must not be empty")
-    return name.strip()
-
-
 def _motor(t: Table, default_name: str | None = None) -> Motor:
     for key in ("family", "size"):
         if t.has(key):
@@ -282,9 +224,9 @@ def _motor(t: Table, default_name: str | None = None) -> Motor:
                 "is set by the catalog for members of a "
                 "[[motor_family]]; a plain motor does not take it",
             )
-    _check_keys(t, ("name", *MOTOR_FIELDS))
-    kw = _values(t, MOTOR_FIELDS, Motor)
-    _at_most(t, kw, "continuous_torque", "peak_torque", "N·m")
+    check_entry_keys(t, ("name", *MOTOR_FIELDS))
+    kw = read_values(t, MOTOR_FIELDS, Motor)
+    at_most(t, kw, "continuous_torque", "peak_torque", "N·m")
     if kw.get("cogging_torque", 0.0) >= kw["continuous_torque"]:
         raise InputError(
             t.file,
@@ -299,21 +241,12 @@ def _motor(t: Table, default_name: str | None = None) -> Motor:
             t.field("winding_temperature_max"),
             f"must be above 20 °C (the winding reference temperature), got {t_max:g} °C",
         )
-    return Motor(name=_name(t, default_name), **kw)
-
-
-def _at_most(t: Table, kw: dict, small: str, big: str, unit: str) -> None:
-    if kw[small] > kw[big]:
-        raise InputError(
-            t.file,
-            t.field(small),
-            f"must not exceed {big} ({kw[big]:g} {unit}), got {kw[small]:g} {unit}",
-        )
+    return Motor(name=entry_name(t, default_name), **kw)
 
 
 def _family(t: Table) -> MotorFamily:
-    _check_keys(t, ("name", "reference", "sizes", *FAMILY_SPEED_FIELDS))
-    name = _name(t)
+    check_entry_keys(t, ("name", "reference", "sizes", *FAMILY_SPEED_FIELDS))
+    name = entry_name(t)
     reference = _motor(t.table("reference"), default_name=name)
     raw = t.array("sizes")
     if not raw:
@@ -367,178 +300,10 @@ def _family_speed(t: Table) -> dict[str, float]:
     return {"speed_limit": limit, "speed_limit_scaling": scaling}
 
 
-# --- stages --------------------------------------------------------------------------------
+# --- stage frames from a CSV table ----------------------------------------------------------
 
 
-def _frame(t: Table) -> StageFrame:
-    _check_keys(t, ("name", *FRAME_FIELDS))
-    kw = _values(t, FRAME_FIELDS, StageFrame)
-    _at_most(t, kw, "rated_continuous_torque", "rated_peak_torque", "N·m")
-    _frame_ratings(t, kw)
-    return StageFrame(name=_name(t), **kw)
-
-
-# --- stages: life and shock ratings ---------------------------------------------------------
-
-_LIFE_KEYS = ("rated_life_torque", "rated_life")
-_LIFE_SPEEDS = ("rated_life_speed", "rated_life_input_speed")
-
-
-def _frame_ratings(t: Table, kw: dict) -> None:
-    """A rated life needs its torque, life and exactly one speed; ratings order with the peak."""
-    life = [k for k in (*_LIFE_KEYS, *_LIFE_SPEEDS) if k in kw]
-    speeds = [k for k in _LIFE_SPEEDS if k in kw]
-    if len(speeds) == 2:
-        raise InputError(
-            t.file,
-            t.field(speeds[1]),
-            "give the rated life's speed once: at the output (rated_life_speed) or at the "
-            "input (rated_life_input_speed)",
-        )
-    if life:
-        missing = [k for k in _LIFE_KEYS if k not in kw] or (
-            ["rated_life_speed"] if not speeds else []
-        )
-        if missing:
-            raise InputError(
-                t.file,
-                t.field(missing[0]),
-                f"is required with {life[0]}: a rated life needs rated_life_torque, rated_life "
-                "and rated_life_speed (or rated_life_input_speed)",
-            )
-        if kw["rated_life_torque"] > kw["rated_peak_torque"]:
-            raise InputError(
-                t.file,
-                t.field("rated_life_torque"),
-                f"must not exceed rated_peak_torque ({kw['rated_peak_torque']:g} N·m), got "
-                f"{kw['rated_life_torque']:g} N·m",
-            )
-    if kw.get("rated_momentary_torque", math.inf) < kw["rated_peak_torque"]:
-        raise InputError(
-            t.file,
-            t.field("rated_momentary_torque"),
-            f"must be at least rated_peak_torque ({kw['rated_peak_torque']:g} N·m, the repeated "
-            f"peak), got {kw['rated_momentary_torque']:g} N·m",
-        )
-
-
-def _life_exponent(t: Table) -> float | None:
-    """A stage's ``life_exponent``: a number > 0 or a named basis (LIFE_BASES)."""
-    if not t.has("life_exponent"):
-        return None
-    raw = t.raw("life_exponent")
-    if isinstance(raw, str) and raw in LIFE_BASES:
-        return LIFE_BASES[raw]
-    if isinstance(raw, (int, float)) and not isinstance(raw, bool) and 0 < raw <= 20:
-        return float(raw)
-    raise InputError(
-        t.file,
-        t.field("life_exponent"),
-        f"must be {' or '.join(repr(k) for k in LIFE_BASES)} or a number from 0 to 20 (the "
-        f"supplier's life exponent), got {raw!r}",
-    )
-
-
-class _StageDraft:
-    """A ``[[stage]]`` table read up to its frames, which CSV rows may still add to."""
-
-    def __init__(self, t: Table):
-        _check_keys(t, _STAGE_KEYS)
-        self.t = t
-        self.name = _name(t)
-        self.kind = t.text("kind", choices=STAGE_KINDS)
-        self.ratios, self.ratio_range = _ratios(t)
-        self.efficiency = efficiency_from_dict(
-            t.raw("efficiency"), file=t.file, field=t.field("efficiency")
-        )
-        check = getattr(self.efficiency, "check_ratios", None)
-        if check is not None:
-            key = "ratios" if self.ratios is not None else "ratio_range"
-            check(self.ratios or self.ratio_range, file=t.file, field=t.field(key))
-        self.frames = [(_frame(ft), ft) for ft in t.tables("frame")]
-        self.life_exponent = _life_exponent(t)
-        self.band = None  # efficiency band (catalog.bands), None when the stage states none
-        if t.has("efficiency_band"):
-            where = t.field("efficiency_band")
-            self.band = band_from_dict(
-                t.raw("efficiency_band"), self.efficiency, file=t.file, field=where
-            )
-            check_band(self.band, self.ratios, self.ratio_range, file=t.file, field=where)
-
-    def build(self) -> StageType:
-        if not self.frames:
-            raise InputError(
-                self.t.file,
-                self.t.field("frame"),
-                "a stage needs at least one "
-                "frame size ([[stage.frame]] or a row of a frames_csv table)",
-            )
-        seen: dict[str, Table] = {}
-        for frame, ft in self.frames:
-            if frame.name in seen:
-                raise InputError(
-                    ft.file,
-                    ft.field("name"),
-                    f"duplicate frame name {frame.name!r} in stage {self.name!r}",
-                )
-            seen[frame.name] = ft
-        rated = [ft for frame, ft in self.frames if frame.rated_life is not None]
-        if rated and self.life_exponent is None:
-            raise InputError(
-                self.t.file,
-                self.t.field("life_exponent"),
-                f"is required: frame {rated[0].path} states a rated life; give the life "
-                'exponent ("ball_bearing" = 3, "roller_bearing" = 10/3 per ISO 281, or the '
-                "supplier's number)",
-            )
-        return StageType(
-            name=self.name,
-            kind=self.kind,
-            efficiency=self.efficiency,
-            frames=tuple(f for f, _ in self.frames),
-            ratios=self.ratios,
-            ratio_range=self.ratio_range,
-            life_exponent=self.life_exponent,
-            efficiency_band=self.band,
-        )
-
-
-def _ratios(t: Table):
-    """``(ratios, None)`` or ``(None, (low, high))``; exactly one of the two keys is given."""
-    if t.has("ratios") == t.has("ratio_range"):
-        raise InputError(
-            t.file,
-            t.field("ratios"),
-            "give exactly one of ratios = [...] "
-            "(discrete) or ratio_range = [low, high] (continuous)",
-        )
-    if t.has("ratios"):
-        raw = t.array("ratios")
-        if not raw:
-            raise InputError(t.file, t.field("ratios"), "must list at least one ratio")
-        values = [
-            positive(v, "ratio", file=t.file, field=f"{t.field('ratios')}[{i}]")
-            for i, v in enumerate(raw)
-        ]
-        for i in range(1, len(values)):
-            if values[i] <= values[i - 1]:
-                raise InputError(
-                    t.file,
-                    f"{t.field('ratios')}[{i}]",
-                    f"ratios must be strictly ascending, got {values[i]:g} after {values[i - 1]:g}",
-                )
-        return tuple(values), None
-    lo, hi = t.vector("ratio_range", 2, dimension="ratio")
-    if not lo > 0:
-        raise InputError(t.file, f"{t.field('ratio_range')}[0]", f"must be > 0, got {lo:g}")
-    if not hi > lo:
-        raise InputError(
-            t.file, t.field("ratio_range"), f"low must be below high, got [{lo:g}, {hi:g}]"
-        )
-    return None, (lo, hi)
-
-
-def _attach_frames(stages: list[_StageDraft], path: Path, toml_file: str) -> None:
+def _attach_frames(stages: list[StageDraft], path: Path, toml_file: str) -> None:
     by_name = {d.name: d for d in stages}
     for row in read_csv(path, allowed=("stage", "name", *FRAME_FIELDS)):
         stage = row.text("stage")
@@ -550,7 +315,7 @@ def _attach_frames(stages: list[_StageDraft], path: Path, toml_file: str) -> Non
             )
         data = {k: v for k, v in row.data.items() if k != "stage"}
         frame_row = CsvRow(data, row.file, row.path)
-        by_name[stage].frames.append((_frame(frame_row), frame_row))
+        by_name[stage].frames.append((read_frame(frame_row), frame_row))
 
 
 # --- notes ---------------------------------------------------------------------------------
@@ -628,10 +393,3 @@ def _merge(parts: list[_Part], *, source: str) -> Catalog:
         notes=tuple(n for p in parts for n in p.notes),
         drives=tuple(d for p in parts for d, _ in p.drives),
     )
-
-
-def _check_keys(t: Table, allowed) -> None:
-    """Unknown keys are typos until proven otherwise."""
-    for key in t.data:
-        if key not in allowed:
-            raise unknown_name(t.file, t.field(key), key, allowed)
