@@ -10,12 +10,8 @@ from .efficiency import (
     CoulombEfficiency,
     PlanetaryBasicTrainEfficiency,
     ProportionalEfficiency,
-    ScrewEfficiency,
     TableEfficiency,
-    WormEfficiency,
     efficiency_from_dict,
-    screw_lower_torque,
-    screw_raise_torque,
 )
 from .io import load_catalog, load_catalogs
 from .model import (
@@ -26,6 +22,12 @@ from .model import (
     MotorFamily,
     StageFrame,
     StageType,
+)
+from .thread_efficiency import (
+    ScrewEfficiency,
+    WormEfficiency,
+    screw_lower_torque,
+    screw_raise_torque,
 )
 
 __all__ = [

@@ -9,80 +9,32 @@ be below −1 for a strongly self-locking screw or worm).
 
 Parameters are validated when a model is built, from Python or from a catalog file through
 :func:`efficiency_from_dict`; a bad value raises :class:`~jointwright.errors.InputError` naming the
-file and the field. The formulas and their sources are listed in docs/catalog-format.md.
+file and the field. The formulas and their sources are listed in docs/catalog-format.md. The
+sliding-thread models (power screw, worm) live in :mod:`.thread_efficiency`; :data:`MODELS`
+registers every model.
 """
 
 from __future__ import annotations
 
-import math
 from dataclasses import MISSING, dataclass, field
-from typing import TYPE_CHECKING, Any, ClassVar
+from typing import Any, ClassVar
 
 import numpy as np
 
 from ..errors import InputError, did_you_mean
-from ..units import quantity, registry
+from ..units import quantity
+from .efficiency_checks import API_ORIGIN, check_number, constant_pair, model_error
+from .thread_efficiency import ScrewEfficiency, WormEfficiency, lead_per_revolution
 
-_DEG = math.pi / 180.0
-
-#: (file, field) of the model's own table, used in error messages
-_API = ("<api>", "efficiency")
-
-
-def _num(
-    model: Any,
-    name: str,
-    lo: float,
-    hi: float,
-    *,
-    lo_open: bool,
-    hi_open: bool,
-    angle: bool = False,
-) -> float:
-    """Check ``model.<name>`` is a real number in the interval; store and return it as float.
-
-    Angles are checked in rad and shown in degrees in the message.
-    """
-    value = getattr(model, name)
-    file, where = model.origin
-    scale, unit = (1 / _DEG, "°") if angle else (1.0, "")
-    left, right = "(" if lo_open else "[", ")" if hi_open else "]"
-    interval = f"{left}{lo * scale:g}{unit}, {hi * scale:g}{unit}{right}"
-    if isinstance(value, bool) or not isinstance(value, (int, float, np.floating, np.integer)):
-        raise InputError(file, f"{where}.{name}", f"must be a number in {interval}, got {value!r}")
-    value = float(value)
-    ok = (value > lo if lo_open else value >= lo) and (value < hi if hi_open else value <= hi)
-    if not ok or math.isnan(value):
-        hint = ' (a plain number is read as radians; write e.g. "5 deg")' if angle else ""
-        raise InputError(
-            file, f"{where}.{name}", f"must be in {interval}, got {value * scale:g}{unit}{hint}"
-        )
-    object.__setattr__(model, name, value)
-    return value
-
-
-def _fail(model: Any, name: str, rule: str) -> InputError:
-    file, where = model.origin
-    return InputError(file, f"{where}.{name}" if name else where, rule)
-
-
-def _full(ratio: Any, forward: float, backward: float) -> tuple[np.ndarray, np.ndarray]:
-    shape = np.shape(ratio)
-    return np.full(shape, forward), np.full(shape, backward)
-
-
-def _summary(model: Any) -> str:
-    """``forward 0.503, backward 0.026[, self-locking]`` for a ratio-independent model."""
-    f, b = (float(x) for x in model.pair(1.0))
-    return f"forward {f:.3f}, backward {b:.3f}" + (", self-locking" if b <= 0 else "")
-
+# the power-screw torques are public API here too (jointwright.catalog, docs/catalog-format.md)
+from .thread_efficiency import screw_lower_torque as screw_lower_torque
+from .thread_efficiency import screw_raise_torque as screw_raise_torque
 
 _BACKWARD_ABOVE_FORWARD = (
     "must not exceed the forward efficiency ({f:g}), got {b:g}: a friction loss does not shrink "
     'when the load drives the stage. For data where it does, use model = "proportional" '
     "(loss proportional to the input torque, backward = 1/(2 - forward))"
 )
-
 
 # --- ratio-independent models --------------------------------------------------------------
 
@@ -100,16 +52,16 @@ class ConstantEfficiency:
 
     forward: float
     backward: float
-    origin: tuple[str, str] = field(default=_API, compare=False, repr=False)
+    origin: tuple[str, str] = field(default=API_ORIGIN, compare=False, repr=False)
 
     def __post_init__(self):
-        f = _num(self, "forward", 0.0, 1.0, lo_open=True, hi_open=False)
-        b = _num(self, "backward", -1.0, 1.0, lo_open=True, hi_open=False)
+        f = check_number(self, "forward", 0.0, 1.0, lo_open=True, hi_open=False)
+        b = check_number(self, "backward", -1.0, 1.0, lo_open=True, hi_open=False)
         if b > f:
-            raise _fail(self, "backward", _BACKWARD_ABOVE_FORWARD.format(f=f, b=b))
+            raise model_error(self, "backward", _BACKWARD_ABOVE_FORWARD.format(f=f, b=b))
 
     def pair(self, ratio):
-        return _full(ratio, self.forward, self.backward)
+        return constant_pair(ratio, self.forward, self.backward)
 
     def describe(self) -> str:
         return f"constant: forward {self.forward:.3f}, backward {self.backward:.3f}"
@@ -127,17 +79,17 @@ class CoulombEfficiency:
     params: ClassVar[dict[str, str]] = {"forward": "dimensionless"}
 
     forward: float
-    origin: tuple[str, str] = field(default=_API, compare=False, repr=False)
+    origin: tuple[str, str] = field(default=API_ORIGIN, compare=False, repr=False)
 
     def __post_init__(self):
-        _num(self, "forward", 0.0, 1.0, lo_open=True, hi_open=False)
+        check_number(self, "forward", 0.0, 1.0, lo_open=True, hi_open=False)
 
     @property
     def backward(self) -> float:
         return 2.0 - 1.0 / self.forward
 
     def pair(self, ratio):
-        return _full(ratio, self.forward, self.backward)
+        return constant_pair(ratio, self.forward, self.backward)
 
     def describe(self) -> str:
         return f"coulomb: forward {self.forward:.3f}, backward 2 - 1/forward = {self.backward:.3f}"
@@ -151,249 +103,22 @@ class ProportionalEfficiency:
     params: ClassVar[dict[str, str]] = {"forward": "dimensionless"}
 
     forward: float
-    origin: tuple[str, str] = field(default=_API, compare=False, repr=False)
+    origin: tuple[str, str] = field(default=API_ORIGIN, compare=False, repr=False)
 
     def __post_init__(self):
-        _num(self, "forward", 0.0, 1.0, lo_open=True, hi_open=False)
+        check_number(self, "forward", 0.0, 1.0, lo_open=True, hi_open=False)
 
     @property
     def backward(self) -> float:
         return 1.0 / (2.0 - self.forward)
 
     def pair(self, ratio):
-        return _full(ratio, self.forward, self.backward)
+        return constant_pair(ratio, self.forward, self.backward)
 
     def describe(self) -> str:
         return (
             f"proportional: forward {self.forward:.3f}, "
             f"backward 1/(2 - forward) = {self.backward:.3f}"
-        )
-
-
-# --- power screw ---------------------------------------------------------------------------
-
-
-def screw_raise_torque(
-    load,
-    lead,
-    mean_diameter,
-    friction,
-    *,
-    thread_half_angle=0.0,
-    collar_friction=0.0,
-    collar_diameter=0.0,
-):
-    """Torque to raise a load with a power screw (thread plus thrust collar).
-
-    T_R = (F·d_m/2)·(l + π·f'·d_m)/(π·d_m − f'·l) + F·f_c·d_c/2, with f' = f·sec α
-    (Budynas & Nisbett, Shigley's Mechanical Engineering Design, ch. 8).
-
-    Parameters
-    ----------
-    load : axial load F, N
-    lead : advance l per revolution, m
-    mean_diameter : mean thread diameter d_m, m
-    friction : thread friction coefficient f (≥ 0)
-    thread_half_angle : thread half-angle α, rad (0 square thread, 14.5° Acme)
-    collar_friction, collar_diameter : f_c and mean collar diameter d_c, m (0 = no collar)
-
-    Returns
-    -------
-    torque, N·m (array-like, broadcast over the inputs)
-    """
-    fe = np.asarray(friction) / np.cos(thread_half_angle)
-    thread = (
-        load
-        * mean_diameter
-        / 2
-        * (lead + np.pi * fe * mean_diameter)
-        / (np.pi * mean_diameter - fe * lead)
-    )
-    return thread + load * collar_friction * collar_diameter / 2
-
-
-def screw_lower_torque(
-    load,
-    lead,
-    mean_diameter,
-    friction,
-    *,
-    thread_half_angle=0.0,
-    collar_friction=0.0,
-    collar_diameter=0.0,
-):
-    """Torque to lower a load with a power screw (thread plus thrust collar).
-
-    T_L = (F·d_m/2)·(π·f'·d_m − l)/(π·d_m + f'·l) + F·f_c·d_c/2, with f' = f·sec α; a negative
-    thread term means the load lowers itself (the thread is not self-locking). Parameters as
-    :func:`screw_raise_torque`; returns N·m.
-    """
-    fe = np.asarray(friction) / np.cos(thread_half_angle)
-    thread = (
-        load
-        * mean_diameter
-        / 2
-        * (np.pi * fe * mean_diameter - lead)
-        / (np.pi * mean_diameter + fe * lead)
-    )
-    return thread + load * collar_friction * collar_diameter / 2
-
-
-class _SlidingThread:
-    """Screw and worm: a sliding thread with lead angle λ and friction f' (angles folded in).
-
-    φ = atan f'; η_f = tan λ/tan(λ + φ), η_b = tan(λ − φ)/tan λ (Shigley ch. 8 and ch. 13).
-    Subclasses provide ``lead_angle_rad`` (λ) and ``friction_angle_tan`` (f').
-    """
-
-    if TYPE_CHECKING:  # read-only properties of the subclasses
-
-        @property
-        def lead_angle_rad(self) -> float: ...
-
-        @property
-        def friction_angle_tan(self) -> float: ...
-
-    def _check_drivable(self) -> None:
-        """η_f > 0 needs λ + φ < 90°, i.e. f'·tan λ < 1."""
-        if self.friction_angle_tan * math.tan(self.lead_angle_rad) >= 1.0:
-            raise _fail(
-                self,
-                "friction",
-                "lead angle + friction angle must be below 90°: the stage cannot be driven forward",
-            )
-
-    def pair(self, ratio):
-        lam, phi = self.lead_angle_rad, math.atan(self.friction_angle_tan)
-        return _full(
-            ratio, math.tan(lam) / math.tan(lam + phi), math.tan(lam - phi) / math.tan(lam)
-        )
-
-
-def _lead_per_revolution(value: Any, *, file: str, field: str) -> float:
-    """A screw lead in m per revolution; "8 mm", "8 mm/turn" and "1.27 mm/rad" all work.
-
-    A plain number is metres per revolution. Angles are dimensionless for pint, so an angle in the
-    denominator is converted explicitly instead of being dropped.
-    """
-    if isinstance(value, str):
-        try:
-            q = registry().Quantity(value.strip())
-            per_angle = any(
-                exp < 0 and not registry().get_dimensionality(unit) for unit, exp in q.unit_items()
-            )
-        except Exception:
-            per_angle = False
-        if per_angle:
-            return quantity(q.to("m/turn").magnitude, "length", file=file, field=field)
-    return quantity(value, "length", file=file, field=field)
-
-
-@dataclass(frozen=True, kw_only=True)
-class ScrewEfficiency(_SlidingThread):
-    """Power screw (sliding lead screw, or a ball screw with its rolling friction coefficient).
-
-    tan λ = l/(π·d_m) (or λ given), φ = atan(f·sec α); η_f = tan λ/tan(λ + φ),
-    η_b = tan(λ − φ)/tan λ, self-locking (η_b ≤ 0) when f·sec α ≥ tan λ (Shigley ch. 8).
-    Thrust-bearing (collar) losses are not included. Independent of the stage ratio.
-
-    Give either ``lead`` (m per revolution) and ``mean_diameter`` (m), or ``lead_angle`` (rad).
-    """
-
-    kind: ClassVar[str] = "screw"
-    params: ClassVar[dict[str, str]] = {
-        "friction": "dimensionless",
-        "lead": "lead",
-        "mean_diameter": "length",
-        "lead_angle": "angle",
-        "thread_half_angle": "angle",
-    }
-
-    friction: float
-    thread_half_angle: float
-    lead: float | None = None
-    mean_diameter: float | None = None
-    lead_angle: float | None = None
-    origin: tuple[str, str] = field(default=_API, compare=False, repr=False)
-
-    def __post_init__(self):
-        _num(self, "friction", 0.0, math.inf, lo_open=False, hi_open=True)
-        _num(self, "thread_half_angle", 0.0, 60 * _DEG, lo_open=False, hi_open=True, angle=True)
-        geometric = self.lead is not None or self.mean_diameter is not None
-        if geometric == (self.lead_angle is not None):
-            raise _fail(self, "lead_angle", "give either lead and mean_diameter, or lead_angle")
-        if geometric:
-            for name, other in (("lead", "mean_diameter"), ("mean_diameter", "lead")):
-                if getattr(self, name) is None:
-                    raise _fail(self, name, f"is required together with {other}")
-                _num(self, name, 0.0, math.inf, lo_open=True, hi_open=True)
-        else:
-            _num(self, "lead_angle", 0.0, 90 * _DEG, lo_open=True, hi_open=True, angle=True)
-        self._check_drivable()
-
-    @property
-    def lead_angle_rad(self) -> float:
-        """λ, rad."""
-        if self.lead_angle is not None:
-            return self.lead_angle
-        assert self.lead is not None and self.mean_diameter is not None  # checked on creation
-        return math.atan(self.lead / (math.pi * self.mean_diameter))
-
-    @property
-    def friction_angle_tan(self) -> float:
-        """tan φ = f·sec α."""
-        return self.friction / math.cos(self.thread_half_angle)
-
-    def describe(self) -> str:
-        return (
-            f"screw: lead angle {self.lead_angle_rad / _DEG:.2f}°, friction angle "
-            f"{math.atan(self.friction_angle_tan) / _DEG:.2f}° -> {_summary(self)}"
-        )
-
-
-# --- worm ----------------------------------------------------------------------------------
-
-
-@dataclass(frozen=True, kw_only=True)
-class WormEfficiency(_SlidingThread):
-    """Worm and wheel, worm on the motor side (Shigley ch. 13).
-
-    η_f = e_W = (cos φ_n − f·tan λ)/(cos φ_n + f·cot λ) (worm driving);
-    η_b = e_G = (cos φ_n − f·cot λ)/(cos φ_n + f·tan λ) (wheel driving), self-locking (≤ 0) when
-    f ≥ cos φ_n·tan λ. Independent of the stage ratio.
-    """
-
-    kind: ClassVar[str] = "worm"
-    params: ClassVar[dict[str, str]] = {
-        "lead_angle": "angle",
-        "friction": "dimensionless",
-        "normal_pressure_angle": "angle",
-    }
-
-    lead_angle: float
-    friction: float
-    normal_pressure_angle: float
-    origin: tuple[str, str] = field(default=_API, compare=False, repr=False)
-
-    def __post_init__(self):
-        _num(self, "lead_angle", 0.0, 90 * _DEG, lo_open=True, hi_open=True, angle=True)
-        _num(self, "friction", 0.0, math.inf, lo_open=False, hi_open=True)
-        _num(self, "normal_pressure_angle", 0.0, 45 * _DEG, lo_open=False, hi_open=True, angle=True)
-        self._check_drivable()
-
-    @property
-    def lead_angle_rad(self) -> float:
-        return self.lead_angle
-
-    @property
-    def friction_angle_tan(self) -> float:
-        """f' = f/cos φn: dividing e_W and e_G through by cos φn gives the thread formulas."""
-        return self.friction / math.cos(self.normal_pressure_angle)
-
-    def describe(self) -> str:
-        return (
-            f"worm: lead angle {self.lead_angle / _DEG:.2f}°, f {self.friction:.3f}, "
-            f"φn {self.normal_pressure_angle / _DEG:.1f}° -> {_summary(self)}"
         )
 
 
@@ -413,10 +138,10 @@ class PlanetaryBasicTrainEfficiency:
     params: ClassVar[dict[str, str]] = {"basic_efficiency": "dimensionless"}
 
     basic_efficiency: float
-    origin: tuple[str, str] = field(default=_API, compare=False, repr=False)
+    origin: tuple[str, str] = field(default=API_ORIGIN, compare=False, repr=False)
 
     def __post_init__(self):
-        _num(self, "basic_efficiency", 0.0, 1.0, lo_open=True, hi_open=False)
+        check_number(self, "basic_efficiency", 0.0, 1.0, lo_open=True, hi_open=False)
 
     def check_ratios(self, ratios, *, file: str, field: str) -> None:
         """Raise InputError unless every ratio is > 1 (Z_r/Z_s = N − 1 > 0)."""
@@ -455,12 +180,14 @@ class TableEfficiency:
     params: ClassVar[dict[str, str]] = {"rows": "rows"}
 
     rows: tuple[tuple[float, float, float], ...]
-    origin: tuple[str, str] = field(default=_API, compare=False, repr=False)
+    origin: tuple[str, str] = field(default=API_ORIGIN, compare=False, repr=False)
 
     def __post_init__(self):
         rows = self.rows
         if not isinstance(rows, (list, tuple)) or len(rows) < 2:
-            raise _fail(self, "rows", "must list at least two [ratio, forward, backward] rows")
+            raise model_error(
+                self, "rows", "must list at least two [ratio, forward, backward] rows"
+            )
         file, field_ = self.origin
         clean: list[tuple[float, float, float]] = []
         for i, row in enumerate(rows):
@@ -569,7 +296,7 @@ def efficiency_from_dict(d: dict, *, file: str, field: str):
             )
         dim = cls.params[key]
         if dim == "lead":
-            kwargs[key] = _lead_per_revolution(value, file=file, field=where)
+            kwargs[key] = lead_per_revolution(value, file=file, field=where)
         elif dim == "rows":
             kwargs[key] = value
         else:
