@@ -21,8 +21,9 @@ import numpy as np
 import pinocchio as pin
 
 from .errors import InputError
-from .metrics.duty import duty_summary, weights
+from .metrics.duty import duty_summary
 from .metrics.gear_life import stack_life
+from .metrics.signals import weights
 from .progress import report
 from .trajectory import Trajectory, load_trajectory
 

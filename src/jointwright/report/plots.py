@@ -225,7 +225,8 @@ def duty_data(evaluator, arrays, a: dict) -> list[dict]:
     same standstill threshold as the duty summary.
     """
     from ..dutycase import joint_torques
-    from ..metrics.duty import STANDSTILL, motor_torque, peak
+    from ..metrics.duty import STANDSTILL, motor_torque
+    from ..metrics.signals import peak
 
     out = []
     cases = {c["name"]: c for c in a["cases"]}
