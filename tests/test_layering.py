@@ -25,6 +25,8 @@ LAYERS = {
     "metrics": 4,
     "project": 5,
     "cases": 5,
+    "case_table": 5,
+    "poses": 5,
     "regions": 5,
     "design": 5,
     "dutycase": 6,

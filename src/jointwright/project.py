@@ -10,18 +10,11 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from .cases import (
-    BODY_REGION,
-    CASE_KINDS,
-    CASE_LIMITS,
-    MOTIONS,
-    STANDARD_GRAVITY,
-    Case,
-    load_cases,
-    load_poses,
-)
+from .case_table import load_cases
+from .cases import BODY_REGION, CASE_KINDS, CASE_LIMITS, MOTIONS, STANDARD_GRAVITY, Case
 from .catalog.drives import drives_from_table
 from .errors import InputError
+from .poses import load_poses
 from .progress import report
 from .tomlfile import Table, load_toml
 
