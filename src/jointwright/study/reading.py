@@ -10,10 +10,8 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from .store import METRIC_PREFIX, PARAM_PREFIX, _query, _read_study_row
-
-#: version of the store layout written by this module (readers refuse newer versions)
-
+from .store import METRIC_PREFIX, PARAM_PREFIX
+from .store_file import query, read_study_row
 
 # ----------------------------------------------------------------------------- reading
 
@@ -58,7 +56,7 @@ class StoredCase:
 
 def read_study(path: str | Path) -> StoredStudy:
     """The study description held in a store."""
-    row = _read_study_row(Path(path))
+    row = read_study_row(Path(path))
     return StoredStudy(
         Path(path), row["format_version"], row["study_hash"], row["name"],
         json.loads(row["definition"]), row["base_file"], json.loads(row["base_project"]),
@@ -69,8 +67,8 @@ def read_study(path: str | Path) -> StoredStudy:
 
 def read_cases(path: str | Path, *, results: bool = False) -> list[StoredCase]:
     """Every case in the store in expansion order; ``results=True`` also parses the results."""
-    _read_study_row(Path(path))
-    rows = _query(path, "SELECT * FROM cases ORDER BY case_index")
+    read_study_row(Path(path))
+    rows = query(path, "SELECT * FROM cases ORDER BY case_index")
     return [_stored_case(row, results) for row in rows]
 
 
@@ -91,5 +89,5 @@ def _stored_case(row: dict, results: bool) -> StoredCase:
 
 def read_runs(path: str | Path) -> list[dict]:
     """Every run recorded in the store, oldest first."""
-    _read_study_row(Path(path))
-    return _query(path, "SELECT * FROM runs ORDER BY run_id")
+    read_study_row(Path(path))
+    return query(path, "SELECT * FROM runs ORDER BY run_id")

@@ -233,7 +233,7 @@ def _fault(path: Path, exc: BaseException) -> InputError:
     if isinstance(exc, sqlite3.DatabaseError) and any(
         w in text for w in ("malformed", "corrupt", "not a database")
     ):
-        from .store import damaged
+        from .store_file import damaged
 
         return damaged(path, exc)
     return InputError(
