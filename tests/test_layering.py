@@ -33,6 +33,7 @@ LAYERS = {
     "evaluate": 6,
     "problem": 7,
     "assessment": 7,
+    "cautions": 7,
     "options": 8,
     "solve": 8,
     "sizing": 8,

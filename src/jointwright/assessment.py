@@ -8,16 +8,11 @@ from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
+from .cautions import design_cautions
 from .design import Design, arrays_from_designs
 from .evaluate import Evaluator
 from .metrics.drive import binding_limit, envelope_uses
 from .problem import carried_payload, checks, feasible
-
-CAUTION = (
-    "Concept-stage sizing aid. Verify every selection against the supplier's data and by test. "
-    "A self-locking or high-ratio joint can trap or crush; apply the applicable machinery and "
-    "collaborative-robot safety standards, local codes and licensed engineering practice."
-)
 
 
 @dataclass(frozen=True)
@@ -245,32 +240,6 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
         )
         for c, e in zip(cl, ends, strict=True)
     )
-    cautions = [CAUTION]
-    if any(getattr(c, "body_region", None) is not None for c in project.cases):
-        cautions.append(
-            "Contact speeds use the two-body transient-contact model of ISO/TS 15066 with the body-"
-            "region values given in the project: they do not cover clamping, pressure limits, the "
-            "robot's stopping time or the risk assessment, which stay with the applicable "
-            "standards "
-            "and licensed engineering practice."
-        )
-    cautions.extend(gear_cautions(project))
-    for j, a in zip(names, design.actuators, strict=True):
-        b_lo, b_hi = a.efficiency_band[2:]
-        if b_lo <= 0 < b_hi:
-            cautions.append(
-                f"{j}: the backward efficiency band ({b_lo:.2f} to {b_hi:.2f}) crosses 0: the "
-                "joint may or may not self-lock depending on temperature, load and wear. Do not "
-                "rely on it to hold a load or to yield to a push; provide a brake or a tested "
-                "holding means under the applicable safety standards."
-            )
-        if a.self_locking:
-            cautions.append(
-                f"{j}: self-locking transmission (backward efficiency {a.eta_backward:.2f} ≤ 0). "
-                "It holds its load when unpowered and cannot be pushed back by a person or an "
-                "obstacle: "
-                "pinch and crush hazard. Apply the applicable safety standards."
-            )
     return Assessment(
         project=project.name,
         design=design.name,
@@ -280,36 +249,10 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
         total_mass=design.mass,
         total_cost=design.cost,
         feasible=bool(feasible(cl, 1)[0]),
-        cautions=tuple(cautions),
+        cautions=tuple(design_cautions(project, design)),
         efficiency=efficiency,
         regions=_regions(project, results),
     )
-
-
-#: cautions for the gear life and landing-shock checks (docs/metrics.md)
-SHOCK_CAUTION = (
-    "Gear shock at impacts is a concept-stage estimate (rigid contact, the links take the impulse "
-    "before the rotors move, an undamped gear spring; backlash, a softer or harder contact and "
-    "repeated impacts are not in it) compared with the supplier's momentary rating. A gear that "
-    "breaks at an impact can drop the robot or release its load: hurting someone nearby. Verify "
-    "by the supplier's data and by test, and apply the applicable machinery safety standards and "
-    "licensed engineering practice."
-)
-LIFE_CAUTION = (
-    "Gear life uses the rated-life equation with the catalog's rated point and life exponent and "
-    "Miner's rule over the duty cycles; lubrication, temperature, misalignment and shock loads "
-    "change real lives. Confirm with the supplier and by test before relying on it."
-)
-
-
-def gear_cautions(project) -> list[str]:
-    """The usual cautions for the gear-shock and gear-life checks a project makes."""
-    out = []
-    if any(getattr(c, "impact_speed", 0.0) > 0 for c in project.cases):
-        out.append(SHOCK_CAUTION)
-    if getattr(project.requirements, "life_min", 0.0) > 0:
-        out.append(LIFE_CAUTION)
-    return out
 
 
 def _envelope_limit(design, metrics: dict) -> str | None:

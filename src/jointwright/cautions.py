@@ -1,0 +1,71 @@
+"""The usual cautions that go with an assessment: what a concept-stage sizing leaves to the
+supplier's data, tests, the applicable safety standards, local codes and licensed engineering
+practice, and the hazards a design's own joints raise (self-locking, an efficiency band that
+crosses 0, gear shock and gear life).
+"""
+
+from __future__ import annotations
+
+CAUTION = (
+    "Concept-stage sizing aid. Verify every selection against the supplier's data and by test. "
+    "A self-locking or high-ratio joint can trap or crush; apply the applicable machinery and "
+    "collaborative-robot safety standards, local codes and licensed engineering practice."
+)
+
+
+#: cautions for the gear life and landing-shock checks (docs/metrics.md)
+SHOCK_CAUTION = (
+    "Gear shock at impacts is a concept-stage estimate (rigid contact, the links take the impulse "
+    "before the rotors move, an undamped gear spring; backlash, a softer or harder contact and "
+    "repeated impacts are not in it) compared with the supplier's momentary rating. A gear that "
+    "breaks at an impact can drop the robot or release its load: hurting someone nearby. Verify "
+    "by the supplier's data and by test, and apply the applicable machinery safety standards and "
+    "licensed engineering practice."
+)
+LIFE_CAUTION = (
+    "Gear life uses the rated-life equation with the catalog's rated point and life exponent and "
+    "Miner's rule over the duty cycles; lubrication, temperature, misalignment and shock loads "
+    "change real lives. Confirm with the supplier and by test before relying on it."
+)
+
+
+def gear_cautions(project) -> list[str]:
+    """The usual cautions for the gear-shock and gear-life checks a project makes."""
+    out = []
+    if any(getattr(c, "impact_speed", 0.0) > 0 for c in project.cases):
+        out.append(SHOCK_CAUTION)
+    if getattr(project.requirements, "life_min", 0.0) > 0:
+        out.append(LIFE_CAUTION)
+    return out
+
+
+def design_cautions(project, design) -> list[str]:
+    """Every caution for ``design`` on ``project``: the general one first, then contact, gear
+    shock and life, then each joint's own (a backward efficiency band crossing 0, self-locking)."""
+    out = [CAUTION]
+    if any(getattr(c, "body_region", None) is not None for c in project.cases):
+        out.append(
+            "Contact speeds use the two-body transient-contact model of ISO/TS 15066 with the body-"
+            "region values given in the project: they do not cover clamping, pressure limits, the "
+            "robot's stopping time or the risk assessment, which stay with the applicable "
+            "standards "
+            "and licensed engineering practice."
+        )
+    out.extend(gear_cautions(project))
+    for j, a in zip(project.robot.actuated, design.actuators, strict=True):
+        b_lo, b_hi = a.efficiency_band[2:]
+        if b_lo <= 0 < b_hi:
+            out.append(
+                f"{j}: the backward efficiency band ({b_lo:.2f} to {b_hi:.2f}) crosses 0: the "
+                "joint may or may not self-lock depending on temperature, load and wear. Do not "
+                "rely on it to hold a load or to yield to a push; provide a brake or a tested "
+                "holding means under the applicable safety standards."
+            )
+        if a.self_locking:
+            out.append(
+                f"{j}: self-locking transmission (backward efficiency {a.eta_backward:.2f} ≤ 0). "
+                "It holds its load when unpowered and cannot be pushed back by a person or an "
+                "obstacle: "
+                "pinch and crush hazard. Apply the applicable safety standards."
+            )
+    return out
