@@ -37,6 +37,7 @@ LAYERS = {
     "options": 8,
     "solve": 8,
     "sizing": 8,
+    "objective": 8,
     "frontier": 10,
     "study": 11,
     "report": 11,
