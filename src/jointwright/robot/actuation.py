@@ -256,3 +256,51 @@ def _rotor_axis(model, jid: int, body_joint: int) -> np.ndarray:
     col = joint_jacobian(model, data, jid)[:, model.joints[jid].idx_v]
     axis = col[3:] if _is_revolute(model, jid) else col[:3]
     return np.array(data.oMi[body_joint].rotation).T @ axis
+
+
+def resolve_actuation(
+    model,
+    file: str,
+    actuated,
+    specs: dict,
+    act_field: str,
+    *,
+    unactuated=None,
+    included=None,
+    prefix: str = "robot",
+    mimic=None,
+) -> dict[str, Any]:
+    """The robot's joints and actuation on a built model, as keyword fields of
+    :class:`~jointwright.robot.model.Robot`: ``actuated``, ``mounts``, ``joint_names``,
+    ``revolute``, ``link_names``, ``frame_names``, ``held``, ``free``, ``included_mass``,
+    ``mimic``. Actuator masses already in the links are taken out of ``model`` at their mounts.
+    """
+    one_dof = [j for j in range(1, model.njoints) if model.joints[j].nv == 1]
+    joint_names = tuple(model.names[j] for j in one_dof)
+    mimic = dict(mimic or {})
+    _check_not_followers(actuated, mimic, file, act_field)
+    act = _actuated_list(actuated, joint_names, model, file, act_field)
+    for name, (_, where) in specs.items():
+        if name not in joint_names:
+            raise InputError(file, where, f"no 1-dof joint named {name!r} in the robot")
+        if name not in act:
+            raise InputError(file, where, f"joint {name!r} is not actuated: no mount needed")
+    at = f"{prefix}." if prefix else ""
+    roles = _roles(unactuated, joint_names, act, mimic, file, f"{at}unactuated")
+    mounts = tuple(_resolve_mount(model, j, *specs.get(j, ({}, j)), file) for j in act)
+    inc = _included_masses(included, act, file, f"{at}included")
+    _remove_included(model, mounts, inc, file, f"{at}included")
+    links = tuple(f.name for f in model.frames if f.type == pin.FrameType.BODY)
+    named = tuple(f.name for f in model.frames if f.type == pin.FrameType.OP_FRAME)
+    return {
+        "actuated": act,
+        "mounts": mounts,
+        "joint_names": joint_names,
+        "revolute": tuple(_is_revolute(model, j) for j in one_dof),
+        "link_names": links,
+        "frame_names": named + links,
+        "held": tuple(j for j in joint_names if roles.get(j) == "held"),
+        "free": tuple(j for j in joint_names if roles.get(j) == "free"),
+        "included_mass": inc,
+        "mimic": tuple((f, *v) for f, v in mimic.items()),
+    }

@@ -26,20 +26,9 @@ import pinocchio as pin
 
 from ..errors import InputError
 from ..units import quantity
-from .actuation import (
-    Mount,
-    _actuated_list,
-    _check_not_followers,
-    _included_masses,
-    _is_revolute,
-    _mount_specs,
-    _remove_included,
-    _resolve_mount,
-    _roles,
-    joint_jacobian,
-)
-from .table import _BIG, BASE_JOINT, DEFAULT_GRAVITY, _add_frames, _build_from_table, _vec3
-from .urdf import read_urdf
+from .actuation import Mount, joint_jacobian, resolve_actuation
+from .table import _BIG, BASE_JOINT, DEFAULT_GRAVITY, _build_from_table, _vec3
+from .urdf import build_from_urdf
 
 __all__ = ["BASE_JOINT", "DEFAULT_GRAVITY", "Mount", "Robot", "joint_jacobian"]
 
@@ -150,41 +139,26 @@ class Robot:
         """
         urdf = str(path)
         file = str(file_for_messages or file or urdf)
-        at = f"{prefix}." if prefix else ""
-        prepared = read_urdf(urdf)
-        if prepared.floating_joint is not None:
-            if floating is False:
-                raise InputError(
-                    file,
-                    f"{at}base",
-                    f"is 'fixed', but {urdf} declares the floating "
-                    f'joint {prepared.floating_joint!r}: write base = "floating" or '
-                    "leave base out",
-                )
-            floating = True
-        try:
-            if floating:
-                model = pin.buildModelFromXML(prepared.text, pin.JointModelFreeFlyer(), mimic=True)
-            else:
-                model = pin.buildModelFromXML(prepared.text, mimic=True)
-        except (ValueError, RuntimeError) as exc:
-            raise InputError(urdf, "urdf", f"not a valid URDF model ({exc})") from None
-        g = DEFAULT_GRAVITY if gravity is None else gravity
-        model.gravity.linear = _vec3(g, "acceleration", file, f"{at}gravity")
-        _add_frames(model, frames or (), file, f"{at}frames")
-        specs = {} if mounts is None else _mount_specs(mounts, file, f"{at}mounts")
-        base = "floating" if floating else "fixed"
+        model, base, specs, mimic = build_from_urdf(
+            urdf,
+            floating=floating,
+            gravity=gravity,
+            frames=frames,
+            mounts=mounts,
+            file=file,
+            prefix=prefix,
+        )
         robot = cls._finish(
             model,
             file,
             base,
             actuated,
             specs,
-            f"{at}actuated",
+            f"{prefix}.actuated" if prefix else "actuated",
             unactuated=unactuated,
             included=included,
             prefix=prefix,
-            mimic=prepared.mimic,
+            mimic=mimic,
         )
         return dataclasses.replace(robot, file=urdf)
 
@@ -230,41 +204,18 @@ class Robot:
         prefix="robot",
         mimic=None,
     ) -> Robot:
-        one_dof = [j for j in range(1, model.njoints) if model.joints[j].nv == 1]
-        joint_names = tuple(model.names[j] for j in one_dof)
-        mimic = dict(mimic or {})
-        _check_not_followers(actuated, mimic, file, act_field)
-        act = _actuated_list(actuated, joint_names, model, file, act_field)
-        for name, (_, where) in specs.items():
-            if name not in joint_names:
-                raise InputError(file, where, f"no 1-dof joint named {name!r} in the robot")
-            if name not in act:
-                raise InputError(file, where, f"joint {name!r} is not actuated: no mount needed")
-        at = f"{prefix}." if prefix else ""
-        roles = _roles(unactuated, joint_names, act, mimic, file, f"{at}unactuated")
-        mounts = tuple(_resolve_mount(model, j, *specs.get(j, ({}, j)), file) for j in act)
-        inc = _included_masses(included, act, file, f"{at}included")
-        _remove_included(model, mounts, inc, file, f"{at}included")
-        links = tuple(f.name for f in model.frames if f.type == pin.FrameType.BODY)
-        named = tuple(f.name for f in model.frames if f.type == pin.FrameType.OP_FRAME)
-        revolute = tuple(_is_revolute(model, j) for j in one_dof)
-        held = tuple(j for j in joint_names if roles.get(j) == "held")
-        free = tuple(j for j in joint_names if roles.get(j) == "free")
-        return cls(
+        fields = resolve_actuation(
             model,
             file,
-            base,
-            act,
-            mounts,
-            joint_names,
-            revolute,
-            links,
-            named + links,
-            held=held,
-            free=free,
-            included_mass=inc,
-            mimic=tuple((f, *v) for f, v in mimic.items()),
+            actuated,
+            specs,
+            act_field,
+            unactuated=unactuated,
+            included=included,
+            prefix=prefix,
+            mimic=mimic,
         )
+        return cls(model, file, base, **fields)
 
     # ------------------------------------------------------------------ sizes and names
     @property

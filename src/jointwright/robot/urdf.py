@@ -1,5 +1,5 @@
-"""URDF text: reading, the checks made before Pinocchio parses it, and the robot's own floating
-joint.
+"""URDF text: reading, the checks made before Pinocchio parses it, the robot's own floating
+joint, and the Pinocchio model built from it (:func:`build_from_urdf`).
 
 A URDF may declare the free motion of its base itself, as a ``floating`` joint from a massless
 root link (often named ``world``) to the trunk. jointwright gives a floating robot exactly one
@@ -11,11 +11,16 @@ joints are read by Pinocchio as followers of their leader (no degree of freedom 
 from __future__ import annotations
 
 import xml.etree.ElementTree as ET
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
+import pinocchio as pin
 
 from ..errors import InputError
+from .actuation import _mount_specs
+from .table import DEFAULT_GRAVITY, _add_frames, _vec3
 
 #: joint types of the URDF specification
 JOINT_TYPES = ("revolute", "continuous", "prismatic", "fixed", "floating", "planar")
@@ -231,3 +236,46 @@ def _urdf_numbers(text: str | None, count: int, file: str, field: str) -> np.nda
     if values.size != count or not np.all(np.isfinite(values)):
         raise InputError(file, field, f"must be {count} finite number(s), got {text!r}")
     return values
+
+
+def build_from_urdf(
+    urdf: str,
+    *,
+    floating: bool | None,
+    gravity: Sequence[Any] | None,
+    frames: Sequence[Mapping[str, Any]] | None,
+    mounts: Mapping[str, Any] | None,
+    file: str,
+    prefix: str,
+):
+    """URDF file -> (pinocchio.Model, base, mount specs, mimic joints), the URDF counterpart of
+    the project tables' route (:mod:`.table`); arguments as :meth:`Robot.from_urdf`.
+
+    ``file`` and ``prefix`` name where ``floating``, ``gravity``, ``frames`` and ``mounts`` were
+    given; errors in the URDF itself name ``urdf``.
+    """
+    at = f"{prefix}." if prefix else ""
+    prepared = read_urdf(urdf)
+    if prepared.floating_joint is not None:
+        if floating is False:
+            raise InputError(
+                file,
+                f"{at}base",
+                f"is 'fixed', but {urdf} declares the floating "
+                f'joint {prepared.floating_joint!r}: write base = "floating" or '
+                "leave base out",
+            )
+        floating = True
+    try:
+        if floating:
+            model = pin.buildModelFromXML(prepared.text, pin.JointModelFreeFlyer(), mimic=True)
+        else:
+            model = pin.buildModelFromXML(prepared.text, mimic=True)
+    except (ValueError, RuntimeError) as exc:
+        raise InputError(urdf, "urdf", f"not a valid URDF model ({exc})") from None
+    g = DEFAULT_GRAVITY if gravity is None else gravity
+    model.gravity.linear = _vec3(g, "acceleration", file, f"{at}gravity")
+    _add_frames(model, frames or (), file, f"{at}frames")
+    specs = {} if mounts is None else _mount_specs(mounts, file, f"{at}mounts")
+    base = "floating" if floating else "fixed"
+    return model, base, specs, prepared.mimic
