@@ -262,7 +262,8 @@ def _stroke(p, top, stroke, nodes, force):
     # end of α's last piece, and a single speed does not change the integral
     v_eval = np.concatenate([v[:, :-1], v[:, -1:] * (1.0 - LEFT_LIMIT)], axis=1)
     alpha, joint = _alpha_at(p, v_eval)
-    at_joint = {name: np.take_along_axis(x, joint, axis=1) for name, x in p.items()}
+    flat = np.arange(D)[:, None] * p["t0"].shape[1] + joint  # the limiting joint per node
+    at_joint = {name: x.reshape(-1)[flat] for name, x in p.items()}
     coef = _exit_quadratic(at_joint, v_eval, alpha)
     with np.errstate(invalid="ignore"):
         miss = np.abs(_poly(coef, v_eval) - alpha)
