@@ -106,13 +106,17 @@ def test_speed_dependent_load_matches_numerical_integration():
 
     def x(v):
         parts = [(0.0, min(v, kink)), (kink, v)] if v > kink else [(0.0, v)]
-        return sum(quad(lambda w: w / alpha(w), a, b, epsabs=0, epsrel=1e-12, limit=200)[0] for a, b in parts)
+        return sum(
+            quad(lambda w: w / alpha(w), a, b, epsabs=0, epsrel=1e-12, limit=200)[0]
+            for a, b in parts
+        )
 
     want = brentq(lambda v: x(v) - 0.2, 1e-9, 0.9 * top, xtol=1e-14, rtol=1e-14)
     assert 0 < kink < want < top  # the stroke ends on the motor line, past the kink
     assert r.speed == pytest.approx(want, rel=1e-9)
     t_want = sum(
-        quad(lambda w: 1 / alpha(w), a, b, epsrel=1e-12, limit=200)[0] for a, b in ((0, kink), (kink, want))
+        quad(lambda w: 1 / alpha(w), a, b, epsrel=1e-12, limit=200)[0]
+        for a, b in ((0, kink), (kink, want))
     )
     assert r.time == pytest.approx(t_want, rel=1e-8)
 
