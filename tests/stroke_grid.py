@@ -33,6 +33,7 @@ def grid_speed_within_stroke(
     rotor_inertia=0.0,
     gear_rating=math.inf,
     steps=64,
+    steady=None,  # the evaluator passes its loaded speed; recomputed here as before
     **motor,
 ) -> StrokeSpeed:
     """Speed the end point reaches from rest along u within a stroke, carrying the load.
