@@ -9,6 +9,10 @@ Paths compared in one run:
   ``metrics.impact_fused`` (designs on the last axis, structural zeros skipped), its chunks of
   ``evaluate.IMPACT_CHUNK`` designs shared between ``evaluate.THREADS`` threads.
 
+With ``--reference`` the speed case also runs its stroke figure on the grid it used before the
+closed form (``tests/stroke_grid.py``: the largest acceleration at 65 speeds per joint), per
+case, in the flop count and as a fourth path of the whole evaluation (fused, 1 thread).
+
 The other case kinds run the same code on every path. Each figure is the median of
 ``--repeat`` runs; wall and process CPU seconds are both shown (CPU time does not count other
 jobs on the machine, wall time does). Flops are counted, not estimated: the fused kernel runs
@@ -17,7 +21,8 @@ root, plus 2·k·n_act for the matrix product that assembles H (k entries vary w
 The peak is 2 cores × 16 double-precision flops per cycle (two 256-bit FMA pipes, or one
 512-bit) × the clock in /proc/cpuinfo.
 
-Usage: ``python benchmarks/evaluate_batch.py [--designs 20000] [--chunk 10000] [--repeat 5]``.
+Usage: ``python benchmarks/evaluate_batch.py [--designs 20000] [--chunk 10000] [--repeat 5]
+[--reference]``.
 """
 
 from __future__ import annotations
@@ -38,6 +43,7 @@ from typing import Any
 import numpy as np
 
 import jointwright.evaluate as evaluate_module
+import jointwright.speedcase as speedcase_module
 from jointwright.design import DesignArrays, actuator_row, arrays_from_rows
 from jointwright.drivetrain import Actuator, StageChoice
 from jointwright.evaluate import Evaluator
@@ -117,7 +123,8 @@ def count_flops(ev: Evaluator, run: Callable[[DesignArrays], object], d: DesignA
     modules = [
         m
         for name, m in list(sys.modules.items())
-        if name.startswith("jointwright.") and getattr(m, "np", None) is np
+        if (name.startswith("jointwright.") or name == "stroke_grid")
+        and getattr(m, "np", None) is np
     ]
     counted = dataclasses.replace(
         d,
@@ -151,11 +158,30 @@ def timed(fn: Callable[[], object], repeat: int) -> tuple[float, float]:
 
 
 PATHS = (("generic", False, 1), ("fused, 1 thread", True, 1), ("fused, 2 threads", True, 2))
+#: the whole evaluation with the stroke figure on its former grid (``--reference``)
+GRID = "grid stroke"
+CLOSED_FORM = speedcase_module.speed_within_stroke
 
 
-def set_path(ev: Evaluator, fused: bool, threads: int) -> None:
+def shown(kind: str, label: str) -> str:
+    """Path label of a per-case row: only the impact case has several kernels."""
+    if kind == "impact" or label == GRID:
+        return label
+    return "closed form" if kind == "speed" else "(one path)"
+
+
+def grid_stroke() -> Callable[..., Any]:
+    """The former grid computation of the stroke figure, kept in the tests as the reference."""
+    sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "tests"))
+    from stroke_grid import grid_speed_within_stroke
+
+    return grid_speed_within_stroke
+
+
+def set_path(ev: Evaluator, fused: bool, threads: int, grid: Callable[..., Any] | None = None):
     ev.fused_impact = fused
     evaluate_module.THREADS = threads
+    speedcase_module.speed_within_stroke = grid or CLOSED_FORM  # type: ignore[assignment]
 
 
 def main() -> None:
@@ -164,7 +190,11 @@ def main() -> None:
     ap.add_argument("--chunk", type=int, default=10_000, help="designs per evaluate() call")
     ap.add_argument("--repeat", type=int, default=5)
     ap.add_argument("--loop", type=int, default=200, help="designs timed in the per-design loop")
+    ap.add_argument(
+        "--reference", action="store_true", help="also time the stroke figure on its former grid"
+    )
     args = ap.parse_args()
+    grid = grid_stroke() if args.reference else None
     load0 = os.getloadavg()
     with resources.as_file(
         resources.files("jointwright.examples") / "leg" / "project.toml"
@@ -202,19 +232,21 @@ def main() -> None:
     print()
     print("per case (requirement metrics only, detail=False); M/s = million designs per second")
     head = f"{'case':<16}{'kind':<10}{'path':<18}{'wall s':>9}{'CPU s':>9}"
-    print(head + f"{'M/s wall':>10}{'M/s CPU':>10}{'vs generic':>12}")
+    print(head + f"{'M/s wall':>10}{'M/s CPU':>10}{'vs first':>12}")
     per_case: dict[str, dict[str, tuple[float, float]]] = {}
     for pc in ev.cases:
         fn = kinds[pc.case.kind]
         paths = PATHS if pc.case.kind == "impact" else PATHS[:1]
         per_case[pc.case.name] = {}
-        for label, fused, threads in paths:
-            set_path(ev, fused, threads)
+        with_grid = [(GRID, True, 1, grid)] if grid and pc.case.kind == "speed" else []
+        for label, fused, threads, stroke in [(*p, None) for p in paths] + with_grid:
+            set_path(ev, fused, threads, stroke)
             wall, cpu = timed(lambda: [fn(pc, c) for c in chunks], args.repeat)  # noqa: B023
             per_case[pc.case.name][label] = (wall, cpu)
             base = per_case[pc.case.name]["generic"][0]
             print(
-                f"{pc.case.name:<16}{pc.case.kind:<10}{label:<18}{wall:>9.4f}{cpu:>9.4f}"
+                f"{pc.case.name:<16}{pc.case.kind:<10}{shown(pc.case.kind, label):<18}"
+                f"{wall:>9.4f}{cpu:>9.4f}"
                 f"{D / wall / 1e6:>10.2f}{D / cpu / 1e6:>10.2f}{base / wall:>11.1f}x"
             )
 
@@ -233,12 +265,21 @@ def main() -> None:
         fn = kinds[pc.case.kind]
         flops = count_flops(ev, lambda d: fn(pc, d), sample)  # noqa: B023
         total_flops += flops
-        best = min(w for w, _ in per_case[pc.case.name].values())
+        best = min(w for label, (w, _) in per_case[pc.case.name].items() if label != GRID)
         rate = D / best
         print(
             f"{pc.case.name:<16}{pc.case.kind:<10}{flops:>10,.0f}{peak / flops / 1e6:>10.1f}"
             f"{rate / 1e6:>13.2f}{100 * rate * flops / peak:>8.2f}%"
         )
+        if grid and pc.case.kind == "speed":
+            set_path(ev, True, 1, grid)
+            flops_g = count_flops(ev, lambda d: fn(pc, d), sample)  # noqa: B023
+            rate_g = D / per_case[pc.case.name][GRID][0]
+            print(
+                f"{'  (grid stroke)':<26}{flops_g:>10,.0f}{peak / flops_g / 1e6:>10.1f}"
+                f"{rate_g / 1e6:>13.2f}{100 * rate_g * flops_g / peak:>8.2f}%"
+            )
+            set_path(ev, True, 1)
     print(
         f"all {n_cases} cases: {total_flops:,.0f} flops per design; at the peak "
         f"{n_cases * peak / total_flops / 1e6:.1f} M design·cases/s"
@@ -249,17 +290,18 @@ def main() -> None:
     print("whole evaluation of the static cases (Evaluator.evaluate, detail=False)")
     print(f"{'path':<22}{'wall s':>9}{'CPU s':>9}{'M cases/s wall':>16}{'M cases/s CPU':>15}")
     # the paths take turns within each repetition, so a change of load hits all of them
-    runs: dict[str, list[tuple[float, float]]] = {label: [] for label, _, _ in PATHS}
+    whole = [(*p, None) for p in PATHS] + ([(GRID, True, 1, grid)] if grid else [])
+    runs: dict[str, list[tuple[float, float]]] = {label: [] for label, *_ in whole}
     for rep in range(args.repeat + 1):
-        for label, fused, threads in PATHS:
-            set_path(ev, fused, threads)
+        for label, fused, threads, stroke in whole:
+            set_path(ev, fused, threads, stroke)
             w0, c0 = time.perf_counter(), time.process_time()
             for c in chunks:
                 ev.evaluate(c, detail=False)
             if rep:  # the first round warms up
                 runs[label].append((time.perf_counter() - w0, time.process_time() - c0))
     totals = {}
-    for label, _, _ in PATHS:
+    for label, *_ in whole:
         wall = statistics.median(w for w, _ in runs[label])
         cpu = statistics.median(c for _, c in runs[label])
         totals[label] = wall

@@ -233,7 +233,8 @@ def test_speed_case_under_load_matches_pinocchio_terms(arm):
     # payload's weight and inertia through Jᵀ, then the loaded-speed metric; DESIGN.md §2.4
     import dataclasses as dc
 
-    from jointwright.metrics.speed import acceleration_from_rest, loaded_endpoint_speed
+    from jointwright.metrics.acceleration import acceleration_from_rest
+    from jointwright.metrics.loaded import loaded_endpoint_speed
 
     project, design = arm
     base = next(c for c in project.cases if c.kind == "speed")
@@ -301,7 +302,7 @@ def test_speed_case_under_load_matches_pinocchio_terms(arm):
     ev6 = Evaluator(dc.replace(project, cases=(heavy,))).evaluate(arrays)[case.name]
     assert ev6["speed"][0] <= ev["speed"][0] and ev6["acceleration"][0] < ev["acceleration"][0]
     # within a stroke: the same terms through speed_within_stroke, never above the steady speed
-    from jointwright.metrics.speed import speed_within_stroke
+    from jointwright.metrics.stroke import speed_within_stroke
 
     stroke = dc.replace(case, acceleration=0.0, stroke=0.2, tip_force=(0.0, 0.0, 0.0))
     evs = Evaluator(dc.replace(project, cases=(stroke,))).evaluate(arrays)[case.name]

@@ -227,13 +227,9 @@ def test_envelope_and_payload_agree():
 # ----------------------------------------------------------------------------------------------
 # speed and acceleration while carrying a load
 # ----------------------------------------------------------------------------------------------
+from jointwright.metrics.acceleration import acceleration_from_rest  # noqa: E402
 from jointwright.metrics.envelope import speed_at_torque, winding_resistance  # noqa: E402
-from jointwright.metrics.speed import (  # noqa: E402
-    BACKDRIVEN,
-    MOTORING,
-    acceleration_from_rest,
-    loaded_endpoint_speed,
-)
+from jointwright.metrics.loaded import BACKDRIVEN, MOTORING, loaded_endpoint_speed  # noqa: E402
 
 # one-joint drive of an invented motor: Kt = 0.1 N·m/A, R20 = 0.5 Ω, 48 V, peak 3 N·m, 6000 rpm
 ONE = dict(
@@ -418,79 +414,3 @@ def test_speed_under_load_never_exceeds_motor_speed_over_ratio_times_lever():
         assert r.speed <= omega_loaded / N * L * (1 + 1e-12)
         speeds.append(float(r.speed))
     assert speeds[0] > speeds[1] > speeds[2] > 0
-
-
-# ----------------------------------------------------------------------------------------------
-# speed reached within a stroke
-# ----------------------------------------------------------------------------------------------
-from scipy.optimize import brentq  # noqa: E402
-
-from jointwright.metrics.speed import speed_within_stroke  # noqa: E402
-
-
-def test_stroke_speed_constant_acceleration_closed_form():
-    # corner-point motor: the acceleration does not fall with speed, so v = √(2·α·s) (uniform
-    # acceleration [trade]) until the speed limit ω_max·L/N; α from the one-joint formula
-    L, W, IL, Ir, N, ef = 0.3, 40.0, 0.2, 3e-5, 20.0, 0.8
-    motor = dict(peak_torque=[3.0], max_speed=[600.0])
-    alpha = (3.0 - W * L / (ef * N)) / (IL / (L * ef * N) + N * Ir / L)
-    for s in (0.01, 0.05):
-        r = speed_within_stroke(
-            [[L]],
-            [W * L],
-            [IL / L],
-            [1.0],
-            [N],
-            s,
-            eta_f=[ef],
-            eta_b=[0.6],
-            rotor_inertia=[Ir],
-            **motor,
-        )
-        assert r.speed == pytest.approx(min(math.sqrt(2 * alpha * s), 600.0 * L / N), rel=1e-12)
-    r = speed_within_stroke(
-        [[L]],
-        [W * L],
-        [IL / L],
-        [1.0],
-        [N],
-        5.0,
-        eta_f=[ef],
-        eta_b=[0.6],
-        rotor_inertia=[Ir],
-        **motor,
-    )
-    assert r.speed == pytest.approx(600.0 * L / N, rel=1e-12) == r.steady_speed
-
-
-@pytest.mark.slow
-def test_stroke_speed_on_the_motor_line_matches_the_integral():
-    # unloaded joint on the DC line: α(v) = (A − b·v)/m with A the stall torque, so
-    # x(v) = m·(−v/b − (A/b²)·ln(1 − b·v/A)) [derived, ∫ w/α(w) dw]; the coarse grid
-    # underestimates the speed, a fine one converges to the integral
-    L, IL, N = 0.3, 0.05, 10.0
-    R = float(winding_resistance(0.5, 120.0))
-    A_m = 0.1 * 48 / R  # stall torque at the motor, N·m (below the 30 N·m peak)
-    motor = dict(
-        peak_torque=[30.0],
-        max_speed=[1e4],
-        torque_constant=[0.1],
-        resistance=[0.5],
-        bus_voltage=[48.0],
-        winding_temperature=120.0,
-    )
-    # per unit tip speed the motor runs at N/L rad/s; tip force from motor torque τ: τ·N/L
-    m = IL / L**2
-    A = A_m * N / L
-    b = (0.1 * 0.1 / R) * (N / L) ** 2
-    s = 0.05
-
-    def x(v):
-        return m * (-v / b - (A / b**2) * math.log(1 - b * v / A))
-
-    v_exact = brentq(lambda v: x(v) - s, 1e-9, A / b * (1 - 1e-12))
-    coarse = speed_within_stroke([[L]], [0.0], [IL / L], [1.0], [N], s, **motor)
-    fine = speed_within_stroke([[L]], [0.0], [IL / L], [1.0], [N], s, steps=4096, **motor)
-    assert coarse.speed <= v_exact * (1 + 1e-12)
-    assert fine.speed == pytest.approx(v_exact, rel=2e-3)
-    assert fine.speed < fine.steady_speed

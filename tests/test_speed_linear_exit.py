@@ -1,6 +1,6 @@
 """The linear exit finder of the acceleration limits equals the general one with c2 = 0.
 
-Reference: metrics.speed._first_rise (first x in [start, end] where c2·x² + c1·x + c0 turns
+Reference: metrics.loaded._first_rise (first x in [start, end] where c2·x² + c1·x + c0 turns
 positive), itself checked against integrals and Pinocchio terms in tests/test_speed.py. The
 acceleration limits are linear in α, so the speed case's stroke figure calls the linear form;
 its results must be the same numbers, including zeros, infinities and tiny values.
@@ -10,7 +10,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from jointwright.metrics.speed import _first_rise, _first_rise_linear
+from jointwright.metrics.acceleration import _first_rise_linear
+from jointwright.metrics.loaded import _first_rise
 
 
 def test_linear_exit_equals_the_general_root_finder():
