@@ -25,7 +25,8 @@ from jointwright.options import build_table
 from jointwright.problem import carried_payload
 from jointwright.project import Requirements, load_project
 from jointwright.solve.model import SizingModel
-from jointwright.solve.stance_bound import GROUPS, StanceBound, option_groups, upper_hull
+from jointwright.solve.stance_bound import GROUPS, StanceBound, option_groups
+from jointwright.solve.stance_program import upper_hull
 
 
 def _quadruped(seed: int, budget: float = math.inf, shared=()):

@@ -136,6 +136,9 @@ class Heuristic:
             idx = self.greedy_at(None, st, search_order(self.model, self.units))
             if idx is not None:
                 self.offer(idx[None, :])
+        if self.stance is not None:  # designs read off the stance program's solution
+            for idx in self.stance.rounded(self.units):
+                self.offer(idx[None, :])
         if time.perf_counter() <= self.deadline:  # its first draws whatever the CPU budget
             self.sample_and_improve()
         return self.best
