@@ -14,6 +14,10 @@ only uses it as its first incumbent (a cut against it is as safe as against any 
   (a joint or a shared group) at a time to the option that scores best with the rest kept
   (feasible first, then objective, then least mass; an infeasible design moves to the option with
   the least total requirement violation).
+* **Stance cases alone** (no static payload case sets the objective): designs are first read off
+  the stance program's root solution (:meth:`.stance_bound.StanceBound.rounded`), and sampled
+  designs and moves are screened by each design's own stance linear program (an upper bound
+  within the friction pyramid's gap of its cone value); only the best few are scored in full.
 
 Budget: the phases are measured in CPU time of the process (``time.process_time``), so a loaded
 machine, which gives the process only part of a core, does not leave the sampling fewer designs
@@ -86,8 +90,8 @@ class Heuristic:
     ):
         """``deadline``: wall-clock end (``time.perf_counter``), a hard stop; ``cpu``: the CPU
         seconds of the process the heuristics may use (None: until ``deadline``). ``extend``:
-        keep sampling while no design is found until half that budget is used (80 % when designs
-        are scored in full); otherwise a fixed number of samples."""
+        keep sampling while no design is found until half that budget is used; otherwise a fixed
+        number of samples."""
         self.model = model
         self.extend = extend
         self.units = units

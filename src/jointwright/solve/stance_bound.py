@@ -140,7 +140,8 @@ class StanceBound:
         model = self.model
         n = model.n
         root = np.full(n, -1, dtype=np.int64)
-        if not math.isfinite(float(self._solve(root, [], np.empty(0), np.empty(0))[0])):
+        self._solve(root, [], np.empty(0), np.empty(0))
+        if not self.program.solved():
             return np.empty((0, n), dtype=np.int64)
         x = np.asarray(self.program.h.getSolution().col_value)
         taus = [x[c : c + n] for c in self.program.tau_cols]

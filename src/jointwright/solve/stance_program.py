@@ -181,6 +181,12 @@ class StanceProgram:
             np.concatenate(row_hi),
         )
 
+    def solved(self) -> bool:
+        """Whether the last solve ended at an optimum (its solution can be read)."""
+        import highspy
+
+        return bool(self.h.getModelStatus() == highspy.HighsModelStatus.kOptimal)
+
     def solve(self, t_lo, t_hi, m_lo, m_hi) -> float:
         """The bound on the least carried payload with these column bounds: ``t_lo``/``t_hi``
         one (n,) array per case, ``m_lo``/``m_hi`` (n,). +inf when unbounded or failed."""
