@@ -106,6 +106,8 @@ class Heuristic:
             self.stance = StanceBound(model)
         #: designs drawn by the sampling phase
         self.sampled = 0
+        #: designs read off the stance program (local search starts from them first)
+        self.seeds: list[np.ndarray] = []
         self.rng = np.random.default_rng(seed)
         self.best: tuple | None = None
         self.tried = 0
@@ -141,7 +143,8 @@ class Heuristic:
             if idx is not None:
                 self.offer(idx[None, :])
         if self.stance is not None:  # designs read off the stance program's solution
-            for idx in self.stance.rounded(self.units):
+            self.seeds = list(self.stance.rounded(self.units))
+            for idx in self.seeds:
                 self.offer(idx[None, :])
         if time.perf_counter() <= self.deadline:  # its first draws whatever the CPU budget
             self.sample_and_improve()
@@ -240,10 +243,20 @@ class Heuristic:
         if pool:
             idx_all, *merit = (np.concatenate(x) for x in zip(*pool, strict=True))
             pool = list(idx_all[_order(*merit)[:starts]])  # type: ignore[arg-type]
+        if self.seeds:  # the designs read off the stance program first, best screen first
+            seeds = np.array(self.seeds)
+            ok, f, mass, viol = _merit(model, seeds, self.stance)
+            rows = [r for r in _order(ok, f, mass, viol) if ok[r] and f[r] > 0]
+            pool = [seeds[r] for r in rows] + pool
         if self.best is not None:
             pool.insert(0, np.array(self.best[3]))  # type: ignore[arg-type]
-        for start in pool[: starts + 1]:
-            if self.out_of_time():
+        seen = set()
+        for start in pool:
+            key = tuple(np.asarray(start).tolist())
+            if key in seen:
+                continue
+            seen.add(key)
+            if len(seen) > starts + 1 or self.out_of_time():
                 break
             self.improve(np.array(start))
 
