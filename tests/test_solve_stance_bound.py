@@ -166,6 +166,13 @@ def test_search_with_stance_bounds_matches_enumeration(seed):
         return
     assert out.status == "optimal"
     assert out.objective == pytest.approx(key[0], rel=1e-9, abs=1e-9)
+    # the whole run: heuristics reading designs off the stance program and screening by it,
+    # then the search; the design reported is re-assessed
+    from jointwright.sizing import size
+
+    res = size(project, explain=False)
+    assert res.status == "optimal" and res.assessment.feasible
+    assert res.objective == pytest.approx(key[0], rel=1e-9, abs=1e-9)
 
 
 def load_project_example():
