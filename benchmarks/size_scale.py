@@ -103,7 +103,11 @@ def stages(base_catalog, types: int, frames: int, seed: int = 1):
 def quadruped(n_motors=40, types=4, frames=3, stance=False):
     q = example("quadruped")
     leg = example("leg")
-    cat = Catalog(motors=motors(leg.catalog, n_motors), stages=stages(q.catalog, types, frames))
+    cat = Catalog(
+        motors=motors(leg.catalog, n_motors),
+        stages=stages(q.catalog, types, frames),
+        drives=q.catalog.drives,
+    )
     pose = next(c.pose for c in q.cases if c.kind == "stance")
     cases = [
         Case(f"{f}-push", "payload", f"{f}_foot", pose, direction=(-0.3, 0.0, -1.0), motion="along")

@@ -14,6 +14,14 @@ only uses it as its first incumbent (a cut against it is as safe as against any 
   (a joint or a shared group) at a time to the option that scores best with the rest kept
   (feasible first, then objective, then least mass; an infeasible design moves to the option with
   the least total requirement violation).
+* **Stance cases alone** (no static payload case sets the objective): designs are first read off
+  the stance program's root solution (:meth:`.stance_bound.StanceBound.rounded`), and sampled
+  designs and moves are screened by each design's own stance linear program (an upper bound
+  within the friction pyramid's gap of its cone value); only the best few are scored in full.
+
+Budget: the phases are measured in CPU time of the process (``time.process_time``), so a loaded
+machine, which gives the process only part of a core, does not leave the sampling fewer designs
+than its share; a wall-clock ``deadline`` (the user's time limit) stops everything regardless.
 """
 
 from __future__ import annotations
@@ -30,23 +38,30 @@ from .model import SizingModel
 BATCH = 1024
 #: options tried per unit and local-search move (a random subset when there are more)
 MOVE_OPTIONS = 2048
-#: the same when every design must be scored in full (cone programs)
-MOVE_OPTIONS_FULL = 48
+#: the same when stance cases alone set the objective (a linear program per design and case)
+MOVE_OPTIONS_STANCE = 256
+#: designs of a sampled batch scored in full (cone programs) when stance cases alone set the
+#: objective: the best by their linear programs
+OFFER_STANCE = 4
 
 
-def _merit(model: SizingModel, index: np.ndarray):
+def _merit(model: SizingModel, index: np.ndarray, stance=None):
     """(screen-feasible, objective, mass, total violation) of designs ``index`` (D, n) with the
-    static cases (duty and stance cases left out: a screen)."""
+    static cases (duty and stance cases left out: a screen). With ``stance`` (a
+    :class:`.stance_bound.StanceBound`, when stance cases alone set the objective) the objective
+    is each design's stance linear program, an upper bound within the friction pyramid's gap of
+    its cone value, instead of the cone programs themselves."""
     arrays = model.table.arrays(index)
-    full = blind_screen(model)
+    full = blind_screen(model) and stance is None
     ev = (model.evaluator if full else model.static_evaluator).evaluate(arrays, detail=False)
     cl = checks(model.project if full else model.static_project, arrays, ev)
     s = model.score_arrays(arrays, index, full=full, evaluation=ev)
+    f = s.objective if stance is None else np.minimum(s.objective, stance.complete(index))
     viol = np.zeros(index.shape[0])
     for c in cl:
         m = c.margin
         viol += np.where(m < -1e-12, np.minimum(-m, 1e6), 0.0)
-    return s.feasible, s.objective, s.mass, viol
+    return s.feasible, f, s.mass, viol
 
 
 def blind_screen(model: SizingModel) -> bool:
@@ -71,13 +86,28 @@ class Heuristic:
         deadline: float,
         seed: int = 0,
         extend: bool = False,
+        cpu: float | None = None,
     ):
-        """``extend``: keep sampling until half the time to ``deadline`` is used (a run with a
-        time limit); otherwise a fixed number of samples."""
+        """``deadline``: wall-clock end (``time.perf_counter``), a hard stop; ``cpu``: the CPU
+        seconds of the process the heuristics may use (None: until ``deadline``). ``extend``:
+        keep sampling while no design is found until half that budget is used; otherwise a fixed
+        number of samples."""
         self.model = model
         self.extend = extend
         self.units = units
         self.deadline = deadline
+        self.cpu_end = math.inf if cpu is None else time.process_time() + cpu
+        #: stance cases alone set the objective: designs are screened by their stance linear
+        #: programs (solve/stance_bound.py) and only the best are scored in full
+        self.stance = None
+        if blind_screen(model):
+            from .stance_bound import StanceBound
+
+            self.stance = StanceBound(model)
+        #: designs drawn by the sampling phase
+        self.sampled = 0
+        #: designs read off the stance program (local search starts from them first)
+        self.seeds: list[np.ndarray] = []
         self.rng = np.random.default_rng(seed)
         self.best: tuple | None = None
         self.tried = 0
@@ -89,7 +119,7 @@ class Heuristic:
             self.options.append(opts)
 
     def out_of_time(self) -> bool:
-        return time.perf_counter() > self.deadline
+        return time.perf_counter() > self.deadline or time.process_time() > self.cpu_end
 
     def offer(self, index: np.ndarray) -> None:
         """Score designs in full (best first among them) and keep the best feasible one."""
@@ -112,7 +142,11 @@ class Heuristic:
             idx = self.greedy_at(None, st, search_order(self.model, self.units))
             if idx is not None:
                 self.offer(idx[None, :])
-        if not self.out_of_time():
+        if self.stance is not None:  # designs read off the stance program's solution
+            self.seeds = list(self.stance.rounded(self.units))
+            for idx in self.seeds:
+                self.offer(idx[None, :])
+        if time.perf_counter() <= self.deadline:  # its first draws whatever the CPU budget
             self.sample_and_improve()
         return self.best
 
@@ -166,31 +200,37 @@ class Heuristic:
 
     def sample_and_improve(self, samples: int = 4 * BATCH, starts: int = 3) -> None:
         """Random designs: at least ``samples``, and, with ``extend`` and no design yet, more until
-        half of the time left has been used (80 % when designs are scored in full); then local
-        search from the best few."""
+        half of the budget left has been used (CPU time when the budget is set in CPU time, else
+        wall time); then local search from the best few. The first ``samples`` designs (a quarter
+        of them when stance cases alone set the objective) are drawn whatever the CPU budget,
+        unless the wall-clock deadline strikes."""
         model = self.model
         pool = []
-        t0 = time.perf_counter()
-        # scored in full (stance cases alone set the objective), one-unit moves cost a cone
-        # program per option and gain little: sampling gets most of the time
-        share = 0.8 if blind_screen(model) else 0.5
+        share = 0.5
         # longer sampling only when the greedy found nothing (random designs rarely beat it)
         extend = self.extend and self.best is None
-        half = t0 + share * max(self.deadline - t0, 0.0) if extend else t0
-        batches = 0
-        while batches < max(1, samples // BATCH) or time.perf_counter() < half:
-            batches += 1
-            if self.out_of_time():
+        if math.isfinite(self.cpu_end):
+            clock, end = time.process_time, self.cpu_end
+        else:
+            clock, end = time.perf_counter, self.deadline
+        t0 = clock()
+        half = t0 + share * max(end - t0, 0.0) if extend else t0
+        blind = blind_screen(model)
+        size = 256 if blind else BATCH
+        least = max(1, samples // BATCH) * size
+        while self.sampled < least or clock() < half:
+            if time.perf_counter() > self.deadline or (
+                self.sampled >= least and self.out_of_time()
+            ):
                 break
-            blind = blind_screen(model)
-            size = 256 if blind else BATCH
             index = np.empty((size, model.n), dtype=np.int64)
             for u, opts in zip(self.units, self.options, strict=True):
                 index[:, list(u)] = self.rng.choice(opts, size)[:, None]
-            ok, f, mass, viol = _merit(model, index)
+            ok, f, mass, viol = _merit(model, index, self.stance)
+            self.sampled += size
             order = _order(ok, f, mass, viol)
-            # scored in full already when blind: only the batch's best is offered (re-scored)
-            self.offer(index[order[: 1 if blind else 32]])
+            # screened by linear programs when blind: only the batch's best few are scored in full
+            self.offer(index[order[: OFFER_STANCE if blind else 32]])
             pool.append(
                 (
                     index[order[:starts]],
@@ -203,31 +243,41 @@ class Heuristic:
         if pool:
             idx_all, *merit = (np.concatenate(x) for x in zip(*pool, strict=True))
             pool = list(idx_all[_order(*merit)[:starts]])  # type: ignore[arg-type]
+        if self.seeds:  # the designs read off the stance program first, best screen first
+            seeds = np.array(self.seeds)
+            ok, f, mass, viol = _merit(model, seeds, self.stance)
+            rows = [r for r in _order(ok, f, mass, viol) if ok[r] and f[r] > 0]
+            pool = [seeds[r] for r in rows] + pool
         if self.best is not None:
             pool.insert(0, np.array(self.best[3]))  # type: ignore[arg-type]
-        for start in pool[: starts + 1]:
-            if self.out_of_time():
+        seen = set()
+        for start in pool:
+            key = tuple(np.asarray(start).tolist())
+            if key in seen:
+                continue
+            seen.add(key)
+            if len(seen) > starts + 1 or self.out_of_time():
                 break
             self.improve(np.array(start))
 
     def improve(self, index: np.ndarray, passes: int = 4) -> None:
         """One-unit moves, best move per unit, until a pass changes nothing."""
         model = self.model
-        cur = _merit(model, index[None, :])
+        cur = _merit(model, index[None, :], self.stance)
         for _ in range(passes):
             moved = False
             for u, opts in zip(self.units, self.options, strict=True):
                 if self.out_of_time():
                     self.offer(index[None, :])
                     return
-                cap = MOVE_OPTIONS_FULL if blind_screen(model) else MOVE_OPTIONS
+                cap = MOVE_OPTIONS_STANCE if blind_screen(model) else MOVE_OPTIONS
                 if opts.size > cap:
                     opts = np.unique(
                         np.concatenate([self.rng.choice(opts, cap, replace=False), [index[u[0]]]])
                     )
                 trial = np.broadcast_to(index, (opts.size, model.n)).copy()
                 trial[:, list(u)] = opts[:, None]
-                ok, f, mass, viol = _merit(model, trial)
+                ok, f, mass, viol = _merit(model, trial, self.stance)
                 row = int(_order(ok, f, mass, viol)[0])
                 cand = (ok[row], f[row], mass[row], viol[row])
                 if _better_merit(cand, tuple(x[0] for x in cur)):

@@ -179,7 +179,8 @@ class BranchAndBound:
             st = dict(self.st, mmin=self.model.useful_mmin(self.st, floor))
             b["objective"] = np.minimum(b["objective"], self.levels.bound(idx, unit, opts, st))
         if self.stance is not None and opts.size:
-            b["objective"] = np.minimum(b["objective"], self.stance.bound(idx, unit, opts))
+            stance = self.stance.bound(idx, unit, opts, floor)
+            b["objective"] = np.minimum(b["objective"], stance)
         keep = self._prune(b)
         opts, b = opts[keep], {k: v[keep] for k, v in b.items()}
         if opts.size:
@@ -228,6 +229,7 @@ class BranchAndBound:
             chunk_opts = opts[:LEAF_CHUNK]
             if chunk_opts.size == 0:
                 return
+            chunk_bound = float(b["objective"][:LEAF_CHUNK].max())
             full = np.broadcast_to(idx, (chunk_opts.size, model.n)).copy()
             full[:, list(unit)] = chunk_opts[:, None]
             opts, b = opts[LEAF_CHUNK:], {k: v[LEAF_CHUNK:] for k, v in b.items()}
@@ -237,7 +239,8 @@ class BranchAndBound:
             self.scored += full.shape[0]
             if left > -math.inf:  # the limit struck inside the costly checks of this chunk
                 self.stopped = True
-                self.open_bound = max(self.open_bound, left)
+                # the chunk's own bounds hold for its unchecked designs too
+                self.open_bound = max(self.open_bound, min(left, chunk_bound))
             if key is not None:
                 if model.better(key, self.best_key):
                     self.best_key = key

@@ -1,17 +1,31 @@
-"""An upper bound on the payload of stance (several-contact) cases over a partial design.
+"""Upper bounds on the payload of stance (several-contact) cases over a partial design.
 
-The stance payload of a complete design is the largest s ≥ 0 with
+The stance payload of a complete design is, per stance case, the largest s ≥ 0 with
 
     Sᵀτ + Σ_k J_kᵀ f_k + s·J_pᵀw = g(m),   lo_j ≤ τ_j ≤ hi_j,   f_k in its friction cone,
 
 g(m) = g0 + Σ_i m_i·g_i linear in the actuator masses (robot/basis.py; metrics/contacts.py,
-Evaluator._stance). For a partial design every unassigned joint's mass lies in
-[m_min, m_max] over its candidates and its torque bounds in [min lo, max hi]; making the masses
-variables of the program inside that box, widening each torque range to that hull and replacing
-each cone by the circumscribed 8-sided pyramid (metrics.contacts.pyramid_bounds, ``outer``) only
-enlarges the feasible set, so the linear program's optimum bounds the stance payload of every
-completion from above (docs/optimizer.md, item 9). An infeasible program means no completion can
-hold itself: payload 0. One program per stance case and node (scipy ``linprog``, HiGHS).
+Evaluator._stance); the objective's stance part is the least over the cases of the carried
+payload T_c(s_c) (problem.carried_payload, affine and increasing). One linear program relaxes
+all cases at once for every completion of a partial design (docs/optimizer.md, item 9): each
+case has its own torques, forces and s_c, the masses are shared, t ≤ T_c(s_c) for every case,
+maximize t; and
+
+* an assigned joint's mass is fixed, a free joint's lies in [m_min, m_max] over its candidates;
+* a free joint's torque lies in the hull [min lo, max hi] over its candidates and under the
+  concave upper envelope of its candidates' (mass, hi) points (above the convex lower envelope of
+  (mass, lo)): every candidate lies on or under (over) those lines, so they cut no completion;
+* the masses sum to at most the actuator mass budget (``total_mass_max``);
+* each cone becomes the circumscribed 8-sided pyramid (``pyramid_bounds``, ``outer``).
+
+Every completion whose cases all hold is feasible for the program, so its optimum bounds the
+objective's stance part; one whose case c cannot hold itself has at most T_c(0). The options of
+the joints being decided are bounded per group: options sorted by mass and by torque range fall
+into at most ``GROUPS`` groups, and each group's program takes the hull of its own options, so
+the children of a node are ordered and cut by their group's bound; when the unit's joints are
+the last ones free, every distinct option gets its own program (the design's own program:
+complete designs are cut before their cone programs are solved). The program is built once in
+HiGHS (highspy); a node only changes column bounds and re-solves from the previous basis.
 """
 
 from __future__ import annotations
@@ -21,126 +35,159 @@ import math
 import numpy as np
 
 from ..metrics.payload import torque_bounds
+from .stance_program import StanceProgram
 
-#: faces of the circumscribed friction pyramid
-SIDES = 8
+#: option groups bounded per node (mass bins × torque bins)
+MASS_BINS, TORQUE_BINS = 4, 4
+GROUPS = MASS_BINS * TORQUE_BINS
+#: torque margins of the designs read off the root program (:meth:`StanceBound.rounded`)
+ROUNDING_MARGINS = (1.0, 1.03, 1.06, 1.1, 0.97)
+
+
+def option_groups(mass: np.ndarray, torque: np.ndarray) -> np.ndarray:
+    """Group number of each option: mass quantile bin, then torque quantile bin within it."""
+    count = mass.size
+    group = np.zeros(count, dtype=np.int64)
+    if count <= GROUPS:
+        return np.arange(count)
+    by_mass = np.argsort(mass, kind="stable")
+    for b, rows in enumerate(np.array_split(by_mass, MASS_BINS)):
+        by_t = rows[np.argsort(torque[rows], kind="stable")]
+        for t, sub in enumerate(np.array_split(by_t, TORQUE_BINS)):
+            group[sub] = b * TORQUE_BINS + t
+    return group
 
 
 class StanceBound:
-    """Per stance case of ``model``: the program's fixed parts and every option's torque range."""
+    """The stance cases of ``model``: their joint program and every option's torque ranges."""
 
     def __init__(self, model) -> None:
-        from ..metrics.contacts import ContactStatics
-
         self.model = model
         ev = model.evaluator
         table = model.table
         count, n = len(table), model.n
         arr = table.arrays(np.repeat(np.arange(count)[:, None], n, axis=1))
         cap_m, cap_b = arr.capacity("motoring"), arr.capacity("backdriven")
-        self.cases = []
+        pcs, self.lo, self.hi = [], [], []
         for pc in ev.cases:
             if pc.case.kind != "stance":
                 continue
             lo, hi = torque_bounds(np.broadcast_to(pc.velocity_sign, (count, n)), cap_m, cap_b)
-            rows = np.asarray(ev.v_index)
-            held = np.asarray(ev.held_index)
-            rows_all = np.concatenate([rows, held]) if held.size else rows
-            g0 = np.asarray(pc.basis.g0, dtype=float)
-            g_mass = np.asarray(pc.basis.g_mass, dtype=float)  # (n, nv)
-            frames = pc.case.contacts
-            inf = np.full(rows_all.size, np.inf)
-            st = ContactStatics(
-                gravity=g0,
-                contact_jacobians=pc.contact_J,
-                normals=np.array([c[2] for c in frames]),
-                friction=np.array([c[1] for c in frames]),
-                payload_jacobian=pc.J,
-                payload_wrench=-np.asarray(pc.u, dtype=float),
-                tau_low=-inf,
-                tau_high=inf,
-                actuated=rows_all,
-            )
-            normal, t1, t2 = st.contact_columns(scaled=False)
-            k = normal.shape[1]
-            nr = rows_all.size
-            a_eq = np.hstack(
+            pcs.append(pc)
+            self.lo.append(np.asarray(lo).T.copy())  # (n, O)
+            self.hi.append(np.asarray(hi).T.copy())
+        self.program = StanceProgram(pcs, ev, model, list(zip(self.lo, self.hi, strict=True)))
+        # each free joint's hulls over its candidates
+        cands = model.candidates
+        self.m_free = np.array(
+            [[model.mass[c].min(), model.mass[c].max()] if c.size else [0, 0] for c in cands]
+        )
+        self.t_free = [
+            np.array(
                 [
-                    st.selection_transpose(),
-                    normal,
-                    t1,
-                    t2,
-                    (st.payload_jacobian.T @ st.payload_wrench)[:, None],
-                    -g_mass.T,
+                    [lo[j, c].min(), hi[j, c].max()] if c.size else [0, 0]
+                    for j, c in enumerate(cands)
                 ]
             )
-            phi = 2 * np.arange(SIDES) * math.pi / SIDES
-            a_ub = np.zeros((SIDES * k, a_eq.shape[1]))
-            for c in range(k):
-                r = slice(c * SIDES, (c + 1) * SIDES)
-                a_ub[r, nr + c] = -st.friction[c]
-                a_ub[r, nr + k + c], a_ub[r, nr + 2 * k + c] = np.cos(phi), np.sin(phi)
-            self.cases.append(
-                {
-                    "case": pc.case,
-                    "lo": np.asarray(lo).T.copy(),  # (n, O)
-                    "hi": np.asarray(hi).T.copy(),
-                    "n_held": held.size,
-                    "k": k,
-                    "a_eq": a_eq,
-                    "b_eq": g0,
-                    "a_ub": a_ub,
-                }
-            )
+            for lo, hi in zip(self.lo, self.hi, strict=True)
+        ]
 
-    def bound(self, idx: np.ndarray, unit, options: np.ndarray) -> float:
+    def bound(self, idx: np.ndarray, unit, options: np.ndarray, floor: float | None = None):
         """An upper bound on the payload objective's stance part (the least over stance cases of
-        the carried payload) for every completion of ``idx`` with the unit in ``options``."""
-        from scipy.optimize import linprog
+        the carried payload): a number for every completion of ``idx`` when ``unit`` is empty,
+        else one per option in ``options`` for every completion with the unit at that option.
+        With ``floor``, at the last joints only the options whose group bound reaches it are
+        solved option by option (the others keep their group's, valid, bound)."""
+        model = self.model
+        unit = list(unit)
+        options = np.asarray(options, dtype=np.int64)
+        if not unit or options.size == 0:
+            return float(self._solve(idx, [], options, np.zeros(0, dtype=np.int64))[0])
+        width = (self.hi[0][unit][:, options] - self.lo[0][unit][:, options]).sum(axis=0)
+        out = self._solve(idx, unit, options, option_groups(model.mass[options], width))
+        fixed = idx >= 0
+        fixed[unit] = False
+        if np.count_nonzero(fixed) + len(unit) < model.n:
+            return out
+        # the last joints: every distinct option gets its own (the design's own) program
+        live = np.flatnonzero(out >= floor) if floor is not None else np.arange(options.size)
+        if live.size:
+            o = options[live]
+            key = np.column_stack([model.mass[o]] + [v[unit][:, o].T for v in (*self.lo, *self.hi)])
+            _, fine = np.unique(key, axis=0, return_inverse=True)
+            out[live] = np.minimum(out[live], self._solve(idx, unit, o, fine.reshape(-1)))
+        return out
 
-        from ..problem import carried_payload
+    def complete(self, index: np.ndarray) -> np.ndarray:
+        """The bound of each complete design of ``index`` (D, n): its own program (the design's
+        statics with circumscribed pyramids, so within the pyramid's gap of its cone value).
+        A cheap screen: one small linear program per design instead of a cone program per case."""
+        index = np.asarray(index, dtype=np.int64)
+        out = np.empty(index.shape[0])
+        cols = np.arange(self.model.n)
+        for r, row in enumerate(index):
+            m = self.model.mass[row]
+            out[r] = self.program.solve(
+                [lo[cols, row] for lo in self.lo], [hi[cols, row] for hi in self.hi], m, m
+            )
+        return out
 
+    def rounded(self, units, margins=ROUNDING_MARGINS) -> np.ndarray:
+        """Designs (R, n) read off the root program's solution: per unit and margin f, the
+        lightest common option of its joints whose torque range holds f·τ*_c,j for every case c
+        (τ* the program's torques); a unit with none takes its option covering the most. A
+        heuristic: the designs are scored in full by the caller, nothing is proven."""
         model = self.model
         n = model.n
-        unit = list(unit)
-        cand = []
-        for j in range(n):
-            if j in unit:
-                cand.append(options)
-            elif idx[j] >= 0:
-                cand.append(np.array([idx[j]]))
-            else:
-                cand.append(model.candidates[j])
-        m_lo = np.array([model.mass[c].min() for c in cand])
-        m_hi = np.array([model.mass[c].max() for c in cand])
-        out = math.inf
-        for d in self.cases:
-            t_lo = np.array([d["lo"][j, c].min() for j, c in enumerate(cand)])
-            t_hi = np.array([d["hi"][j, c].max() for j, c in enumerate(cand)])
-            k = d["k"]
-            bounds = [
-                (None if math.isinf(a) else a, None if math.isinf(b) else b)
-                for a, b in zip(t_lo, t_hi, strict=True)
-            ]
-            bounds += [(None, None)] * d["n_held"]
-            bounds += [(0, None)] * k + [(None, None)] * (2 * k) + [(0, None)]
-            bounds += list(zip(m_lo.tolist(), m_hi.tolist(), strict=True))
-            cost = np.zeros(d["a_eq"].shape[1])
-            cost[d["a_eq"].shape[1] - n - 1] = -1.0
-            res = linprog(
-                cost,
-                A_ub=d["a_ub"] if k else None,
-                b_ub=np.zeros(d["a_ub"].shape[0]) if k else None,
-                A_eq=d["a_eq"],
-                b_eq=d["b_eq"],
-                bounds=bounds,
-                method="highs",
-            )
-            if res.status == 2:  # infeasible: no completion holds itself
-                s = 0.0
-            elif res.status == 0:
-                s = float(-res.fun) * (1 + 1e-7) + 1e-9  # round-off slack
-            else:  # unbounded or a solver failure: no bound from this case
+        root = np.full(n, -1, dtype=np.int64)
+        self._solve(root, [], np.empty(0), np.empty(0))
+        if not self.program.solved():
+            return np.empty((0, n), dtype=np.int64)
+        x = np.asarray(self.program.h.getSolution().col_value)
+        taus = [x[c : c + n] for c in self.program.tau_cols]
+        out = []
+        for f in margins:
+            idx = np.full(n, -1, dtype=np.int64)
+            for u in units:
+                opts = model.candidates[u[0]]
+                for j in u[1:]:
+                    opts = np.intersect1d(opts, model.candidates[j])
+                if opts.size == 0:
+                    return np.empty((0, n), dtype=np.int64)
+                cover = np.zeros(opts.size)
+                for j in u:
+                    for lo, hi, t in zip(self.lo, self.hi, taus, strict=True):
+                        cover += (lo[j, opts] <= f * t[j] + 1e-9) & (hi[j, opts] >= f * t[j] - 1e-9)
+                best = opts[cover == cover.max()]
+                idx[list(u)] = best[np.argmin(model.mass[best])]
+            out.append(idx)
+        return np.unique(np.array(out), axis=0)
+
+    def _solve(self, idx, unit: list, options, group_of) -> np.ndarray:
+        """Per option (one value when ``unit`` is empty): the bound of its group's program
+        (``group_of``: the group of each option)."""
+        model = self.model
+        fixed = idx >= 0
+        fixed[unit] = False
+        a = np.flatnonzero(fixed)
+        m_lo, m_hi = self.m_free[:, 0].copy(), self.m_free[:, 1].copy()
+        m_lo[a] = m_hi[a] = model.mass[idx[a]]
+        t_lo = [t[:, 0].copy() for t in self.t_free]
+        t_hi = [t[:, 1].copy() for t in self.t_free]
+        for c, (lo, hi) in enumerate(zip(self.lo, self.hi, strict=True)):
+            t_lo[c][a], t_hi[c][a] = lo[a, idx[a]], hi[a, idx[a]]
+        if not unit:
+            return np.array([self.program.solve(t_lo, t_hi, m_lo, m_hi)])
+        order = np.argsort(group_of, kind="stable")
+        groups = np.split(order, np.cumsum(np.bincount(group_of))[:-1])
+        out = np.full(len(groups), math.inf)
+        for g, rows in enumerate(groups):
+            if rows.size == 0:
                 continue
-            out = min(out, float(carried_payload(d["case"], s)))
-        return out
+            o = options[rows]
+            m_lo[unit], m_hi[unit] = model.mass[o].min(), model.mass[o].max()
+            for c, (lo, hi) in enumerate(zip(self.lo, self.hi, strict=True)):
+                t_lo[c][unit] = lo[unit][:, o].min(axis=1)
+                t_hi[c][unit] = hi[unit][:, o].max(axis=1)
+            out[g] = self.program.solve(t_lo, t_hi, m_lo, m_hi)
+        return out[group_of]

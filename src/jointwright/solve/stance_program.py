@@ -1,0 +1,244 @@
+"""The stance cases' linear program: every case's statics with shared actuator masses.
+
+Columns [case 1 (τ, λ, ν1, ν2, s), case 2 …, m (n), t]; maximize t with t ≤ T_c(s_c) for every
+case (problem.carried_payload, affine and increasing), the statics of each case with the
+circumscribed friction pyramid, each joint's mass–torque envelopes over its candidates and the
+actuator mass budget. Built once in HiGHS (highspy); a solve changes only the torque and mass
+column bounds and starts from the previous basis. Proofs: docs/optimizer.md, item 9.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+#: faces of the circumscribed friction pyramid
+SIDES = 8
+#: relative and absolute slack on an optimum (solver tolerances)
+REL_SLACK, ABS_SLACK = 1e-6, 1e-6
+
+
+def upper_hull(x: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Lines (slope, intercept) whose minimum is the concave upper envelope of the points (x, y)
+    on [min x, max x]: every point lies on or under every line. Empty when x takes one value."""
+    xs = np.unique(x)
+    if xs.size < 2:
+        return np.empty(0), np.empty(0)
+    top = np.full(xs.size, -np.inf)
+    np.maximum.at(top, np.searchsorted(xs, x), y)
+    hull: list[int] = []
+    for i in range(xs.size):  # monotone chain, upper part
+        while len(hull) >= 2:
+            a, b = hull[-2], hull[-1]
+            cross = (xs[b] - xs[a]) * (top[i] - top[a]) - (top[b] - top[a]) * (xs[i] - xs[a])
+            if cross >= 0:
+                hull.pop()
+            else:
+                break
+        hull.append(i)
+    h = np.array(hull)
+    slope = np.diff(top[h]) / np.diff(xs[h])
+    return slope, top[h[:-1]] - slope * xs[h[:-1]]
+
+
+def case_rows(pc, ev, model, lo: np.ndarray, hi: np.ndarray):
+    """One stance case's rows over its own columns [τ (rows), λ, ν1, ν2, s] and the shared mass
+    columns: (A own, A mass, row low, row high, column low, column high, index of s)."""
+    from ..metrics.contacts import ContactStatics
+
+    n = model.n
+    rows = np.asarray(ev.v_index)
+    held = np.asarray(ev.held_index)
+    rows_all = np.concatenate([rows, held]) if held.size else rows
+    g0 = np.asarray(pc.basis.g0, dtype=float)
+    if pc.load_a is not None:  # a wrench (metrics.loads), as the evaluator states it
+        g0 = g0 + np.asarray(pc.tau_fixed, dtype=float)
+        p_jac = pc.basis.J[0]
+        p_wrench = -np.concatenate([pc.u, np.cross(np.asarray(pc.case.offset), pc.u)])
+    else:
+        p_jac, p_wrench = pc.J, -np.asarray(pc.u, dtype=float)
+    frames = pc.case.contacts
+    inf = np.full(rows_all.size, np.inf)
+    st = ContactStatics(
+        gravity=g0,
+        contact_jacobians=pc.contact_J,
+        normals=np.array([c[2] for c in frames]),
+        friction=np.array([c[1] for c in frames]),
+        payload_jacobian=p_jac,
+        payload_wrench=p_wrench,
+        tau_low=-inf,
+        tau_high=inf,
+        actuated=rows_all,
+    )
+    normal, t1, t2 = st.contact_columns(scaled=False)
+    k, nr = normal.shape[1], rows_all.size
+    ncol = nr + 3 * k + 1
+    own = [
+        np.hstack(
+            [
+                st.selection_transpose(),
+                normal,
+                t1,
+                t2,
+                (st.payload_jacobian.T @ st.payload_wrench)[:, None],
+            ]
+        )
+    ]
+    mass_part = [-np.asarray(pc.basis.g_mass, dtype=float).T]  # (nv, n)
+    row_lo, row_hi = [g0], [g0]
+    phi = 2 * np.arange(SIDES) * math.pi / SIDES
+    for c in range(k):  # outer pyramid: cos φ·ν1 + sin φ·ν2 − μ·λ ≤ 0
+        a = np.zeros((SIDES, ncol))
+        a[:, nr + c] = -st.friction[c]
+        a[:, nr + k + c], a[:, nr + 2 * k + c] = np.cos(phi), np.sin(phi)
+        own.append(a)
+        mass_part.append(np.zeros((SIDES, n)))
+        row_lo.append(np.full(SIDES, -np.inf))
+        row_hi.append(np.zeros(SIDES))
+    for j in range(n):  # torque envelopes over each joint's candidates
+        c = model.candidates[j]
+        for side, values in ((1.0, hi[j, c]), (-1.0, -lo[j, c])):
+            if c.size == 0 or not np.all(np.isfinite(values)):
+                continue
+            slope, icpt = upper_hull(model.mass[c], values)
+            a = np.zeros((slope.size, ncol))
+            a[:, j] = side
+            b = np.zeros((slope.size, n))
+            b[:, j] = -slope
+            own.append(a)
+            mass_part.append(b)
+            row_lo.append(np.full(slope.size, -np.inf))
+            row_hi.append(icpt)
+    col_lo = np.concatenate([np.full(nr, -np.inf), np.zeros(k), np.full(2 * k, -np.inf), [0.0]])
+    return (
+        np.vstack(own),
+        np.vstack(mass_part),
+        np.concatenate(row_lo),
+        np.concatenate(row_hi),
+        col_lo,
+        np.full(ncol, np.inf),
+        nr + 3 * k,
+    )
+
+
+class StanceProgram:
+    """Every stance case's statics in one HiGHS program with shared mass columns:
+    columns [case 1 (τ, λ, ν1, ν2, s), case 2 …, m (n), t]; maximize t with
+    t ≤ carried payload of s_c for every case c (affine and increasing, problem.carried_payload)."""
+
+    def __init__(self, pcs, ev, model, bounds) -> None:
+        import highspy
+
+        from ..problem import STANDARD_GRAVITY
+
+        n = model.n
+        parts = [case_rows(pc, ev, model, lo, hi) for pc, (lo, hi) in zip(pcs, bounds, strict=True)]
+        self.cases = [pc.case for pc in pcs]
+        widths = [p[0].shape[1] for p in parts]
+        offsets = np.concatenate([[0], np.cumsum(widths)]).astype(int)
+        self.tau_cols = [int(o) for o in offsets[:-1]]  # τ_j of case c: tau_cols[c] + j
+        self.m_col = int(offsets[-1])
+        self.t_col = self.m_col + n
+        ncol = self.t_col + 1
+        blocks, row_lo, row_hi = [], [], []
+        for c, (own, mass_part, rlo, rhi, _, _, s_at) in enumerate(parts):
+            a = np.zeros((own.shape[0], ncol))
+            a[:, offsets[c] : offsets[c + 1]] = own
+            a[:, self.m_col : self.t_col] = mass_part
+            blocks.append(a)
+            row_lo.append(rlo)
+            row_hi.append(rhi)
+            case = pcs[c].case
+            if case.payload_share > 0:  # t ≤ (s − fixed_load)/(payload_share·g_n)
+                scale = case.payload_share * STANDARD_GRAVITY
+                a = np.zeros((1, ncol))
+                a[0, self.t_col] = 1.0
+                a[0, offsets[c] + s_at] = -1.0 / scale
+                blocks.append(a)
+                row_lo.append(np.array([-np.inf]))
+                row_hi.append(np.array([-case.fixed_load / scale]))
+        if math.isfinite(model.total_mass_max):  # Σ m ≤ budget
+            a = np.zeros((1, ncol))
+            a[0, self.m_col : self.t_col] = 1.0
+            blocks.append(a)
+            row_lo.append(np.array([-np.inf]))
+            row_hi.append(np.array([model.total_mass_max * (1 + 1e-9)]))
+        col_lo = np.concatenate([p[4] for p in parts] + [np.zeros(n), [-np.inf]])
+        col_hi = np.full(ncol, np.inf)
+        cost = np.zeros(ncol)
+        cost[self.t_col] = 1.0
+        self.n = n
+        #: the bound when the program is infeasible: some case holds nothing in every completion
+        self.none = max(float(carried_payload_of(c, 0.0)) for c in self.cases)
+        self.h = _highs(
+            highspy,
+            cost,
+            col_lo,
+            col_hi,
+            np.vstack(blocks),
+            np.concatenate(row_lo),
+            np.concatenate(row_hi),
+        )
+
+    def solved(self) -> bool:
+        """Whether the last solve ended at an optimum (its solution can be read)."""
+        import highspy
+
+        return bool(self.h.getModelStatus() == highspy.HighsModelStatus.kOptimal)
+
+    def solve(self, t_lo, t_hi, m_lo, m_hi) -> float:
+        """The bound on the least carried payload with these column bounds: ``t_lo``/``t_hi``
+        one (n,) array per case, ``m_lo``/``m_hi`` (n,). +inf when unbounded or failed."""
+        import highspy
+
+        n = self.n
+        cols = np.concatenate(
+            [c + np.arange(n) for c in self.tau_cols] + [self.m_col + np.arange(n)]
+        ).astype(np.int32)
+        lo = np.concatenate([*t_lo, m_lo]).astype(float)
+        hi = np.concatenate([*t_hi, m_hi]).astype(float)
+        self.h.changeColsBounds(cols.size, cols, lo, hi)
+        self.h.run()
+        status = self.h.getModelStatus()
+        if status == highspy.HighsModelStatus.kOptimal:
+            t = float(self.h.getInfo().objective_function_value)
+            t = t + REL_SLACK * abs(t) + ABS_SLACK
+            return max(t, self.none)
+        if status == highspy.HighsModelStatus.kInfeasible:
+            return self.none
+        return math.inf
+
+
+def carried_payload_of(case, force: float) -> float:
+    from ..problem import carried_payload
+
+    return float(carried_payload(case, force))
+
+
+def _highs(highspy, cost, col_lo, col_hi, a, row_lo, row_hi):
+    """A HiGHS object holding max cost·x over the rows and column bounds (quiet, dense → CSC);
+    its start-up banner goes to stderr, as the MILP back-end's output does."""
+    from .pyomo_backend import _quiet_stdout
+
+    with _quiet_stdout():
+        h = highspy.Highs()
+    h.setOptionValue("output_flag", False)
+    lp = highspy.HighsLp()
+    lp.num_col_, lp.num_row_ = a.shape[1], a.shape[0]
+    lp.col_cost_ = cost
+    lp.col_lower_, lp.col_upper_ = col_lo, col_hi
+    lp.row_lower_, lp.row_upper_ = row_lo, row_hi
+    lp.sense_ = highspy.ObjSense.kMaximize
+    start, index, value = [0], [], []
+    for j in range(a.shape[1]):
+        nz = np.flatnonzero(a[:, j])
+        index.extend(nz.tolist())
+        value.extend(a[nz, j].tolist())
+        start.append(len(index))
+    lp.a_matrix_.format_ = highspy.MatrixFormat.kColwise
+    lp.a_matrix_.start_ = np.array(start, dtype=np.int32)
+    lp.a_matrix_.index_ = np.array(index, dtype=np.int32)
+    lp.a_matrix_.value_ = np.array(value, dtype=float)
+    h.passModel(lp)
+    return h
