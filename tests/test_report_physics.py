@@ -252,7 +252,11 @@ SIZING = {
 def test_runner_ups_hook_reads_the_sizing_result_form():
     s = hooks.runner_ups_section(SIZING)
     # the payload objective is the payload mass every case carries, in kg
-    assert "loses 10 kg" in s.body and "misses touchdown: imf min" in s.body and "250 kg" in s.body
+    assert (
+        "−10 kg payload against the chosen design" in s.body
+        and "misses touchdown: imf min" in s.body
+        and "250 kg" in s.body
+    )
     assert "+0.0 %" in s.body and "230 kg" in s.body
     bad = {**SIZING, "alternatives": [_alternative("m", "high", None, None)]}
     with pytest.raises(InputError, match=r"alternatives\[0\]\.objective"):

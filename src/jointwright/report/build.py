@@ -10,7 +10,7 @@ from ..design import arrays_from_designs
 from ..errors import InputError
 from ..evaluate import Evaluator
 from . import hooks, plots, sections, summary
-from .markup import PERCENT_REQUIREMENTS, page
+from .markup import PERCENT_REQUIREMENTS, page, unknown_gap
 from .sweeps import efficiency_sensitivity
 
 REPORT_FILE = "report.html"
@@ -72,7 +72,8 @@ def build_report(
             else c["unit"]
             for c in a["checks"]
         }
-        parts.append(hooks.runner_ups_section(sizing, units=units))
+        note = unknown_gap(project, str(sizing.get("objective_kind", "")))
+        parts.append(hooks.runner_ups_section(sizing, units=units, gap_note=note))
     if frontier is not None:
         if "measure" in frontier:  # written by `jointwright frontier --out`
             frontier = hooks.frontier_from_sweep(frontier, a)

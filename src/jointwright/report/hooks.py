@@ -13,7 +13,17 @@ from pathlib import Path
 
 from ..errors import InputError
 from . import figures
-from .markup import Cell, Section, figure, fmt, paragraph, pct, table
+from .markup import (
+    Cell,
+    Section,
+    figure,
+    fmt,
+    objective_change,
+    paragraph,
+    pct,
+    table,
+    unknown_gap,
+)
 
 
 def _need(data, key: str, kind, file: str, where: str):
@@ -42,7 +52,9 @@ def _optional(data, key: str, file: str, where: str):
     return None if data.get(key) is None else _need(data, key, float, file, where)
 
 
-def runner_ups_section(data: dict, file: str = "<sizing>", units: dict | None = None) -> Section:
+def runner_ups_section(
+    data: dict, file: str = "<sizing>", units: dict | None = None, gap_note: str = ""
+) -> Section:
     """How the design was chosen, the per-joint runner-ups and why they lost.
 
     ``data`` is the JSON form of a sizing result (``SizingResult.to_dict()``): ``status``,
@@ -51,7 +63,8 @@ def runner_ups_section(data: dict, file: str = "<sizing>", units: dict | None = 
     infeasible problem, ``diagnosis`` = [{requirement, limit, best_achievable, shortfall,
     relaxed_objective}]. Only ``status`` and ``objective_kind`` are required. ``units`` maps a
     requirement label ("case: payload min") to its unit for the diagnosis table ("%" for a
-    fraction such as a rating use, shown ×100).
+    fraction such as a rating use, shown ×100). ``gap_note``: why the gap is not known when
+    the bound is infinite (markup.unknown_gap for the project), else a general sentence.
     """
     units = units or {}
     status = _need(data, "status", str, file, "")
@@ -60,10 +73,16 @@ def runner_ups_section(data: dict, file: str = "<sizing>", units: dict | None = 
     head = [f"Search status: {status}"]
     if data.get("objective") is not None:
         head.append(f"objective ({kind}) {fmt(_need(data, 'objective', float, file, ''), unit)}")
-    if data.get("bound") is not None:
-        head.append(f"proven bound {fmt(_need(data, 'bound', float, file, ''), unit)}")
-    if data.get("gap") is not None:
-        head.append(f"relative gap {pct(_need(data, 'gap', float, file, ''))}")
+    bound = None if data.get("bound") is None else _need(data, "bound", float, file, "")
+    gap = None if data.get("gap") is None else _need(data, "gap", float, file, "")
+    if bound is not None and gap is not None and not (math.isfinite(bound) and math.isfinite(gap)):
+        # no finite bound when the search stopped: the gap is not known (never shown as ∞)
+        head.append(gap_note or unknown_gap(None, kind))
+    else:
+        if bound is not None:
+            head.append(f"proven bound {fmt(bound, unit)}")
+        if gap is not None:
+            head.append(f"relative gap {pct(gap)}")
     if data.get("backend"):
         head.append(f"back-end {data['backend']}")
     parts = [paragraph("; ".join(head) + "."), paragraph(str(data.get("message", "")))]
@@ -72,10 +91,14 @@ def runner_ups_section(data: dict, file: str = "<sizing>", units: dict | None = 
         where = f"alternatives[{k}]."
         value = _optional(r, "objective", file, where)
         loss = _optional(r, "loss", file, where)
+        change = objective_change(kind, loss, unit)
         why = (
             f"misses {r['ruled_out_by']}"
             if r.get("ruled_out_by")
-            else f"loses {fmt(loss, unit)}"
+            else "ties with the chosen design; lost the tie-break (least mass, then least "
+            "back-driven reflected inertia)"
+            if change == "tie"
+            else f"{change} against the chosen design"
             if loss is not None
             else "—"
         )

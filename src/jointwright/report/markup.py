@@ -12,7 +12,7 @@ import html
 import math
 from dataclasses import dataclass
 
-from ..units import format_number
+from ..units import format_hours, format_number
 
 #: unit spellings of the input files -> as shown
 _UNIT_TEXT = {"kg*m^2": "kg·m²", "kg·m²": "kg·m²", "N*m": "N·m", "-": "", "1": ""}
@@ -45,10 +45,64 @@ def check_value(c: dict, key: str) -> str:
 
 
 def fmt(value, unit: str = "", digits: int = 4) -> str:
-    """A number and its unit, e.g. ``235.5 N``; dimensionless quantities have no suffix."""
+    """A number and its unit, e.g. ``235.5 N``; dimensionless quantities have no suffix; hours
+    (gear lives) readable, "32,400 h" (units.format_hours)."""
+    if unit == "h":
+        return format_hours(value, minus="−")
     text = number(value, digits)
     u = unit_text(unit)
     return f"{text} {u}" if u and text != "—" else text
+
+
+#: per objective: does it maximize, and the words for a runner-up worse or better than the choice
+_CHANGE_WORDS = {
+    "payload": (True, "payload", "payload"),
+    "imf": (True, "IMF", "IMF"),
+    "margin": (True, "margin", "margin"),
+    "mass": (False, "heavier", "lighter"),
+    "cost": (False, "costlier", "cheaper"),
+}
+
+
+def objective_change(kind: str, loss, unit: str = "", *, minus: str = "−") -> str:
+    """A runner-up's objective against the chosen design's, signed as the objective reads:
+    ``loss`` ≥ 0 is how much worse it is (in the maximized sense, solve.result.Alternative).
+    Payload (maximized): "−0.12 kg payload"; mass (minimized): "+0.12 kg heavier"; equal to
+    within 1e-9 (relative) or at the shown digits: "tie"; None: "—"."""
+    if loss is None:
+        return "—"
+    loss = float({"inf": math.inf, "-inf": -math.inf}.get(loss, loss))
+    if math.isnan(loss):
+        return "—"
+    maximized, worse, better = _CHANGE_WORDS.get(kind, (True, kind, kind))
+    size = format_number(abs(loss), 3)
+    if math.isfinite(loss) and (abs(loss) <= 1e-9 or float(size) == 0.0):
+        return "tie"
+    change = -loss if maximized else loss  # the runner-up's objective minus the choice's
+    sign = "+" if change > 0 else minus
+    word = worse if loss > 0 else better
+    return " ".join(x for x in (f"{sign}{size}", unit_text(unit), word) if x)
+
+
+def unknown_gap(project, kind: str) -> str:
+    """Why a search that stopped early has no finite bound (bound ∞), in words: the relative
+    gap of its best design to the optimum is then not known, never shown as "∞"."""
+    if kind == "margin" and project is not None:
+        from ..problem import margin_cases
+
+        others = [c for c in margin_cases(project) if c.kind not in ("payload", "stance")]
+        if others:
+            named = ", ".join(f"{c.name} ({c.kind})" for c in others)
+            return (
+                "gap not known: the search bounds the margins of payload and stance cases only, "
+                f"and the margin objective also takes {named}, whose margin has no bound before "
+                "a design is scored; the best design found is not proven optimal (a run without "
+                "a time limit searches every option and proves the optimum)"
+            )
+    return (
+        "gap not known: the search had no finite bound on the objective when it stopped; the "
+        "best design found is not proven optimal"
+    )
 
 
 def pct(margin) -> str:
