@@ -189,3 +189,74 @@ def test_frontier_tables_fit_100_columns(leg_project, capsys, monkeypatch):
     assert "joints changed" in out and "hip_ab, knee" in out
     # the designs: the first point in full, then only the changed joints
     assert "Frontier designs" in out and out.count("Flexring/Flexring-2 100:1") == 4
+
+
+@pytest.fixture(scope="module")
+def wrench_leg(tmp_path_factory):
+    """The leg example with its jump-push force acting 50 mm ahead of and 20 mm below the foot
+    frame, and a 3 N·m moment about −y with it (docs/project-format.md, `offset`, `moment`)."""
+    from click.testing import CliRunner
+
+    from jointwright.cli import main
+    from jointwright.project import load_project
+
+    folder = tmp_path_factory.mktemp("wrench") / "leg"
+    assert CliRunner().invoke(main, ["new", str(folder), "--example", "leg"]).exit_code == 0
+    path = folder / "project.toml"
+    text = path.read_text("utf-8")
+    at = text.index("pose =", text.index('name = "jump-push"'))
+    text = text[:at] + 'offset = [0.05, 0, -0.02]\nmoment = [0, "-3 N*m", 0]\n' + text[at:]
+    path.write_text(text, "utf-8")
+    return load_project(path)
+
+
+WRENCH = "at (0.05, 0, -0.02) m from foot; moment (0, -3, 0) N·m (world axes)"
+
+
+def test_check_shows_offset_and_moment(wrench_leg):
+    import json
+
+    from click.testing import CliRunner
+
+    from jointwright.cli import main
+
+    out = " ".join(CliRunner().invoke(main, ["check", str(wrench_leg.file)]).output.split())
+    assert f"where the force acts and the moment with it: jump-push {WRENCH}" in out
+    assert "landing-absorb at" not in out  # the other cases act at their frame
+    data = json.loads(CliRunner().invoke(main, ["check", str(wrench_leg.file), "--json"]).output)
+    case = next(c for c in data["cases"] if c["name"] == "jump-push")
+    assert case["offset"] == [0.05, 0.0, -0.02] and case["moment"] == [0.0, -3.0, 0.0]
+
+
+def test_assess_size_and_report_show_offset_and_moment(wrench_leg, capsys, monkeypatch):
+    from importlib import resources
+
+    from jointwright.assessment import assess
+    from jointwright.commands import _format
+    from jointwright.commands.assess import print_assessment
+    from jointwright.design import load_design
+    from jointwright.report import sections
+
+    with resources.as_file(resources.files("jointwright.examples") / "leg" / "design.toml") as p:
+        design = load_design(p, wrench_leg)
+    a = assess(wrench_leg, design)
+    monkeypatch.setenv("COLUMNS", "250")
+    monkeypatch.setattr(_format, "_console", None)
+    print_assessment(a, wrench_leg)
+    out = capsys.readouterr().out
+    assert out.count(WRENCH) == 1  # in the jump-push case's table only
+    rows = size_cmd.payload_rows(wrench_leg, a)
+    assert [r[-1] for r in rows] == [WRENCH, "at the frame, no moment", "at the frame, no moment"]
+    # every force at its frame: no column for it
+    assert [len(r) for r in size_cmd.payload_rows(_plain(wrench_leg), a)] == [5, 5, 5]
+    shown = WRENCH.replace("-", "−")  # the report's minus sign
+    assert shown in sections.job_section(wrench_leg).body
+    assert sections.cases_section(a.to_dict(), wrench_leg).body.count(shown) == 1
+
+
+def _plain(project):
+    """The same project with every force at its frame and no moment."""
+    cases = tuple(
+        dataclasses.replace(c, offset=(0.0,) * 3, moment=(0.0,) * 3) for c in project.cases
+    )
+    return dataclasses.replace(project, cases=cases)

@@ -11,6 +11,7 @@ from ..assessment import assess
 from ..design import load_design
 from ..dutycase import DUTY_QUANTITIES
 from ..project import load_project
+from ..report.markup import wrench_text
 from ._format import console, emit_json, num, pct, table
 from ._progress import status_line
 
@@ -88,7 +89,9 @@ def _scaled(value, scale: float):
     )
 
 
-def print_assessment(a) -> None:
+def print_assessment(a, project=None) -> None:
+    """The assessment's tables; with ``project``, each payload and stance case also says where
+    its force acts and the moment with it."""
     con = console()
     verdict = (
         "[green]meets every requirement[/green]" if a.feasible else "[red]misses requirements[/red]"
@@ -142,6 +145,7 @@ def print_assessment(a) -> None:
     )
     if any(j.drive is not None for j in a.joints):
         con.print(_drives_table(a))
+    cases = {} if project is None else {c.name: c for c in project.cases}
     for c in a.cases:
         rows = []
         for key, label, unit in SHOWN.get(c.kind, []):
@@ -151,6 +155,9 @@ def print_assessment(a) -> None:
                     value = _scaled(value, 100.0)
                 rows.append([label, num(value, unit)])
         extra = []
+        wrench = wrench_text(cases.get(c.name), minus="-")
+        if wrench:
+            rows.insert(0, ["where the force acts, the moment with it", wrench])
         if c.kind in ("payload", "stance") and c.metrics.get("payload") not in (None, "inf"):
             carried = c.metrics.get("payload_carried")
             rows.append(
@@ -312,7 +319,7 @@ def command(project: Path, design_file: Path, as_json: bool):
     if as_json:
         emit_json(a.to_dict())
     else:
-        print_assessment(a)
+        print_assessment(a, p)
 
 
 def _band_text(j) -> str:

@@ -8,6 +8,7 @@ from pathlib import Path
 import click
 
 from ..project import load_project
+from ..report.markup import wrench_text
 from ._format import console, emit_json, num, table
 from ._progress import status_line
 
@@ -84,6 +85,10 @@ def project_summary(p, evaluator=None) -> dict:
                     if c.kind in ("payload", "stance")
                     else None
                 ),
+                # where the force acts (from the frame's origin, m) and the moment with it (N·m),
+                # world-aligned axes
+                "offset": list(c.offset) if c.kind in ("payload", "stance") else None,
+                "moment": list(c.moment) if c.kind in ("payload", "stance") else None,
             }
             for c in p.cases
         ],
@@ -251,6 +256,14 @@ def command(project: Path, as_json: bool):
                 f"{x['payload_growth']['payload_share']:g}·m_p·g"
                 for x in grows
             )
+        )
+    wrenches = [
+        (c.name, text) for c in p.cases[:SHOWN_CASES] if (text := wrench_text(c, minus="-"))
+    ]
+    if wrenches:
+        con.print(
+            "where the force acts and the moment with it: "
+            + "; ".join(f"{name} {text}" for name, text in wrenches)
         )
     req = s["requirements"]
     line = (

@@ -16,7 +16,7 @@ import click
 from ..design import design_to_toml
 from ..errors import InputError
 from ..project import load_project
-from ..report.markup import objective_change, unknown_gap
+from ..report.markup import objective_change, unknown_gap, wrench_text
 from ._format import console, emit_json, num, pct, requirement_num, table
 from ._output import check_target, project_inputs, write_text
 
@@ -83,8 +83,11 @@ def payload_rows(project, assessment) -> list[list[str]]:
                 num(case.fixed_load, "N"),
                 f"{share:g}",
                 "not limiting (share 0)" if share == 0 else num(carried, "kg"),
+                wrench_text(case, minus="-") or "at the frame, no moment",
             ]
         )
+    if not any(project.case(r[0]).has_wrench for r in rows):
+        rows = [r[:-1] for r in rows]  # every force acts at its frame: no column for it
     return rows
 
 
@@ -108,6 +111,7 @@ def print_result(r, project=None) -> None:
         + ", ".join(f"{j} {k}" for j, k in r.options.items())
     )
     if r.objective_kind == "payload" and r.assessment is not None and project is not None:
+        rows = payload_rows(project, r.assessment)
         con.print(
             table(
                 "Payload mass carried per case (the objective is the smallest)",
@@ -117,12 +121,13 @@ def print_result(r, project=None) -> None:
                     "fixed load",
                     "share of payload weight",
                     "payload carried",
-                ],
-                payload_rows(project, r.assessment),
+                    "force acts",
+                ][: len(rows[0]) if rows else 5],
+                rows,
             )
         )
     if r.assessment is not None:
-        print_assessment(r.assessment)
+        print_assessment(r.assessment, project)
     if r.binding:
         con.print("[bold]binding requirements[/bold] (smallest margins): " + "; ".join(r.binding))
     if r.alternatives:

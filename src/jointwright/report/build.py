@@ -92,7 +92,7 @@ def build_report(
     parts += [hooks.duty_section(d, fig_dir) for d in duties]
     if study is not None:
         parts.append(hooks.study_section(study, fig_dir))
-    parts += [sections.cases_section(a), sections.cautions_section(a, project)]
+    parts += [sections.cases_section(a, project), sections.cautions_section(a, project)]
     top = summary.summary_section(
         a, fig_dir, frontier=frontier, sensitivity=summary.payload_sensitivity(sens)
     )

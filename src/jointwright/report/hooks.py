@@ -547,7 +547,13 @@ def study_section(data: dict, fig_dir: Path, file: str = "<study>") -> Section:
                 r["label"],
                 "Each line joins the cases that share every other parameter"
                 + (" and the variant" if variants else "")
-                + "; a lone marker is a case with no such neighbour."
+                + "; a lone marker is a case with no such neighbour"
+                + (
+                    f"; a panel of more than {figures.STUDY_LEGEND_MAX} lines has no legend "
+                    "(the table above lists the cases)."
+                    if any(len(g) > figures.STUDY_LEGEND_MAX for _x, g in panels)
+                    else "."
+                )
                 + note,
             )
         )

@@ -84,6 +84,25 @@ def objective_change(kind: str, loss, unit: str = "", *, minus: str = "−") -> 
     return " ".join(x for x in (f"{sign}{size}", unit_text(unit), word) if x)
 
 
+def vector_text(v, unit: str, *, minus: str = "−") -> str:
+    """A 3-vector with its unit, e.g. "(0.12, 0, 0) m"."""
+    return "(" + ", ".join(format_number(x, 4, minus=minus) for x in v) + f") {unit_text(unit)}"
+
+
+def wrench_text(case, *, minus: str = "−") -> str:
+    """Where a payload or stance case's force acts and the moment with it, in words ("" when
+    the force acts at the frame's origin with no moment): "at (0.12, 0, 0) m from tool;
+    moment (0, 0, 4) N·m (world axes)"."""
+    if not getattr(case, "has_wrench", False):
+        return ""
+    parts = []
+    if any(x != 0.0 for x in case.offset):
+        parts.append(f"at {vector_text(case.offset, 'm', minus=minus)} from {case.frame}")
+    if any(x != 0.0 for x in case.moment):
+        parts.append(f"moment {vector_text(case.moment, 'N·m', minus=minus)}")
+    return "; ".join(parts) + " (world axes)"
+
+
 def unknown_gap(project, kind: str) -> str:
     """Why a search that stopped early has no finite bound (bound ∞), in words: the relative
     gap of its best design to the optimum is then not known, never shown as "∞"."""

@@ -9,7 +9,19 @@ from __future__ import annotations
 import math
 
 from ..dutycase import DUTY_QUANTITIES
-from .markup import Cell, Section, bullets, check_value, esc, fmt, number, paragraph, pct, table
+from .markup import (
+    Cell,
+    Section,
+    bullets,
+    check_value,
+    esc,
+    fmt,
+    number,
+    paragraph,
+    pct,
+    table,
+    wrench_text,
+)
 
 G0 = 9.80665  # m/s², standard gravity (ISO 80000-3), for weight-equivalent payloads
 
@@ -64,6 +76,8 @@ def job_section(project) -> Section:
         direction = (
             "—" if c.direction is None else "(" + ", ".join(number(x, 3) for x in c.direction) + ")"
         )
+        if c.has_wrench:  # where the force acts and the moment with it
+            direction += "; " + wrench_text(c)
         motion = c.motion if c.kind in ("payload", "stance") else "—"
         rows.append([c.name, c.kind, c.frame or "—", direction, motion, limits or "none"])
     base = "floating base (free-flying trunk)" if project.robot.base == "floating" else "fixed base"
@@ -80,7 +94,9 @@ def job_section(project) -> Section:
             ["case", "kind", "tip frame", "direction (world)", "motion", "requirements"],
             rows,
             caption="Directions are unit vectors in world axes; a payload is the "
-            "force the tip exerts on its surroundings along the direction.",
+            "force the tip exerts on its surroundings along the direction, at the tip frame's "
+            "origin unless an offset says where it acts (with the moment it adds), together with "
+            "any moment the case states.",
         )
         + "<h3>Budgets</h3>"
         + bullets(_budgets(project.requirements) or ["no mass or size budgets set"])
@@ -506,8 +522,10 @@ def _case_notes(c: dict) -> list[str]:
     return notes
 
 
-def cases_section(a: dict) -> Section:
-    """Every metric of every case, with the limiting joint and the power-flow mode per joint."""
+def cases_section(a: dict, project=None) -> Section:
+    """Every metric of every case, with the limiting joint and the power-flow mode per joint;
+    with ``project``, where each payload and stance case's force acts and the moment with it."""
+    cases = {} if project is None else {c.name: c for c in project.cases}
     parts = []
     for c in a["cases"]:
         head = f"<h3>{esc(c['name'])} ({esc(c['kind'])})</h3>"
@@ -534,6 +552,9 @@ def cases_section(a: dict) -> Section:
             if c["metrics"].get(k) is not None
             and not (k == "payload_carried" and c["metrics"][k] == "inf")
         ]
+        wrench = wrench_text(cases.get(c["name"]))
+        if wrench:
+            rows.insert(0, ["where the force acts, the moment with it", wrench])
         parts.append(head + table(["metric", "value"], rows, caption="; ".join(_case_notes(c))))
     return Section("cases", "Every case", "".join(parts))
 
