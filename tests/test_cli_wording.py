@@ -14,7 +14,8 @@ import pytest
 
 from jointwright.commands import size as size_cmd
 from jointwright.commands._format import num, requirement_num
-from jointwright.report.markup import fmt, objective_change, unknown_gap
+from jointwright.report.markup import fmt
+from jointwright.report.wording import objective_change, unknown_gap
 from jointwright.units import format_hours
 
 

@@ -11,7 +11,7 @@ from ..assessment import assess
 from ..design import load_design
 from ..dutycase import DUTY_QUANTITIES
 from ..project import load_project
-from ..report.markup import wrench_text
+from ..report.wording import torque_rows, wrench_text
 from ._format import console, emit_json, num, pct, table
 from ._progress import status_line
 
@@ -146,6 +146,11 @@ def print_assessment(a, project=None) -> None:
     if any(j.drive is not None for j in a.joints):
         con.print(_drives_table(a))
     cases = {} if project is None else {c.name: c for c in project.cases}
+    revolute = (
+        {}
+        if project is None
+        else dict(zip(project.robot.joint_names, project.robot.revolute, strict=True))
+    )
     for c in a.cases:
         rows = []
         for key, label, unit in SHOWN.get(c.kind, []):
@@ -168,7 +173,10 @@ def print_assessment(a, project=None) -> None:
                     else num(carried, "kg"),
                 ]
             )
-        if c.kind == "torque":
+        torques = []
+        if c.kind == "torque" and c.name in cases:
+            torques = torque_rows(cases[c.name], c.metrics, revolute, minus="-")
+        elif c.kind == "torque":
             rows += [
                 [f"achieved ÷ required at {k.split(':', 1)[1]}", num(v, "")]
                 for k, v in c.metrics.items()
@@ -213,6 +221,18 @@ def print_assessment(a, project=None) -> None:
                 "see the directional IMF"
             )
         con.print(table(f"Case {c.name} ({c.kind})", ["metric", "value"], rows))
+        if torques:
+            con.print(
+                table(
+                    f"Case {c.name}: required and available torque per joint",
+                    ["joint", "required", "available", "available ÷ required", "mode"],
+                    torques,
+                    caption="available: the joint's torque capacity on the side of the required "
+                    "torque in its power-flow mode (motoring η_f·N·τ_peak, back-driven "
+                    "N·τ_peak/η_b, holding N·τ_peak/η_b both ways, ∞ when self-locking), "
+                    "capped by the gear's peak rating",
+                )
+            )
         if c.kind == "duty":
             for part, cols in enumerate(_column_groups(drows, joints, con.width)):
                 title = f"Case {c.name}: per joint (steady periodic cycle)" + (

@@ -8,7 +8,7 @@ from pathlib import Path
 import click
 
 from ..project import load_project
-from ..report.markup import wrench_text
+from ..report.wording import wrench_text
 from ._format import console, emit_json, num, table
 from ._progress import status_line
 

@@ -16,7 +16,7 @@ import click
 from ..design import design_to_toml
 from ..errors import InputError
 from ..project import load_project
-from ..report.markup import objective_change, unknown_gap, wrench_text
+from ..report.wording import objective_change, unknown_gap, wrench_text
 from ._format import console, emit_json, num, pct, requirement_num, table
 from ._output import check_target, project_inputs, write_text
 

@@ -10,8 +10,9 @@ from ..design import arrays_from_designs
 from ..errors import InputError
 from ..evaluate import Evaluator
 from . import hooks, plots, sections, summary
-from .markup import PERCENT_REQUIREMENTS, page, unknown_gap
+from .markup import PERCENT_REQUIREMENTS, page
 from .sweeps import efficiency_sensitivity
+from .wording import unknown_gap
 
 REPORT_FILE = "report.html"
 FIGURE_DIR = "figures"

@@ -18,12 +18,11 @@ from .markup import (
     Section,
     figure,
     fmt,
-    objective_change,
     paragraph,
     pct,
     table,
-    unknown_gap,
 )
+from .wording import objective_change, unknown_gap
 
 
 def _need(data, key: str, kind, file: str, where: str):

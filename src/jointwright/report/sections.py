@@ -20,8 +20,8 @@ from .markup import (
     paragraph,
     pct,
     table,
-    wrench_text,
 )
+from .wording import torque_rows, wrench_text
 
 G0 = 9.80665  # m/s², standard gravity (ISO 80000-3), for weight-equivalent payloads
 
@@ -522,10 +522,40 @@ def _case_notes(c: dict) -> list[str]:
     return notes
 
 
+def _torque_table(c: dict, case, revolute: dict) -> str:
+    """A torque case: per joint the required and the available torque, their ratio, the mode."""
+    rows = [
+        [
+            j,
+            Cell(req, "num"),
+            Cell(avail, "num"),
+            Cell(ratio, "num", (("case", c["name"]), ("metric", f"torque_ratio:{j}"))),
+            mode,
+        ]
+        for j, req, avail, ratio, mode in torque_rows(case, c["metrics"], revolute)
+    ]
+    worst = c["metrics"].get("torque_ratio")
+    cap = (
+        f"Smallest available ÷ required {number(worst)}, at {c.get('limiting_joint') or '—'} "
+        "(torque_ratio_min passes at or above its limit, 1 by default). Available: the joint's "
+        "torque capacity on the side of the required torque in its power-flow mode (motoring "
+        "η_f·N·τ_peak, back-driven N·τ_peak/η_b, holding N·τ_peak/η_b both ways, ∞ when "
+        "self-locking), capped by the gear's peak rating."
+    )
+    return table(
+        ["joint", "required", "available", "available ÷ required", "mode"], rows, caption=cap
+    )
+
+
 def cases_section(a: dict, project=None) -> Section:
     """Every metric of every case, with the limiting joint and the power-flow mode per joint;
     with ``project``, where each payload and stance case's force acts and the moment with it."""
     cases = {} if project is None else {c.name: c for c in project.cases}
+    revolute = (
+        {}
+        if project is None
+        else dict(zip(project.robot.joint_names, project.robot.revolute, strict=True))
+    )
     parts = []
     for c in a["cases"]:
         head = f"<h3>{esc(c['name'])} ({esc(c['kind'])})</h3>"
@@ -539,6 +569,9 @@ def cases_section(a: dict, project=None) -> Section:
                 for k in c["metrics"]
                 if k.startswith("normal_force:")
             ]
+        if c["kind"] == "torque" and c["name"] in cases:
+            parts.append(head + _torque_table(c, cases[c["name"]], revolute))
+            continue
         if c["kind"] == "torque":
             shown += [
                 (k, f"achieved ÷ required at {k.split(':', 1)[1]}", "")
