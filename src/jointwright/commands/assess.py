@@ -11,7 +11,7 @@ from ..assessment import assess
 from ..design import load_design
 from ..dutycase import DUTY_QUANTITIES
 from ..project import load_project
-from ..report.wording import torque_rows, wrench_text
+from ..report.wording import pose_text, torque_rows, wrench_text
 from ._format import console, emit_json, num, pct, table
 from ._progress import status_line
 
@@ -303,14 +303,14 @@ def print_assessment(a, project=None) -> None:
         con.print(
             table(
                 "Regions of poses: the worst pose decides",
-                ["region case", "poses", "worst pose", "its margin", "joint positions"],
+                ["region case", "poses", "worst pose", "its margin", "joint positions (° or m)"],
                 [
                     [
                         name,
                         str(r["poses"]),
                         r["case"],
                         pct(r["margin"]),
-                        ", ".join(f"{j} {v:.4g}" for j, v in r["pose"].items()),
+                        pose_text(r["pose"], revolute, minus="-"),
                     ]
                     for name, r in a.regions.items()
                 ],

@@ -62,7 +62,7 @@ def build_report(
     parts = [
         sections.job_section(project),
         sections.outcome_section(a, project),
-        sections.requirements_section(a),
+        sections.requirements_section(a, project),
         sections.binding_section(a),
         sections.joints_section(a),
     ]

@@ -78,11 +78,25 @@ class Cell:
         return f"<{tag}{attrs}>{esc(self.text)}</{tag}>"
 
 
-def table(headers: list[str], rows: list[list], *, caption: str = "", cls: str = "") -> str:
-    """A table; cells are strings or :class:`Cell`; numeric-looking columns align right."""
+@dataclass(frozen=True)
+class Group:
+    """A row of a table that heads the rows after it (the poses of one region case)."""
+
+    text: str
+
+
+def table(headers: list[str], rows: list, *, caption: str = "", cls: str = "") -> str:
+    """A table; cells are strings or :class:`Cell`; numeric-looking columns align right; a
+    :class:`Group` in place of a row heads the rows after it across the whole width."""
     head = "".join(f"<th>{esc(h)}</th>" for h in headers)
     body = []
     for row in rows:
+        if isinstance(row, Group):
+            body.append(
+                f'<tr class="group"><th colspan="{len(headers)}" scope="rowgroup">'
+                f"{esc(row.text)}</th></tr>"
+            )
+            continue
         cells = [c if isinstance(c, Cell) else Cell(str(c)) for c in row]
         body.append("<tr>" + "".join(c.render() for c in cells) + "</tr>")
     cap = f"<caption>{esc(caption)}</caption>" if caption else ""
@@ -147,6 +161,8 @@ caption { caption-side: bottom; text-align: left; color: var(--muted); font-size
 th, td { border-bottom: 1px solid var(--line); padding: 4px 9px; text-align: left;
          vertical-align: top; overflow-wrap: break-word; }
 th { background: var(--band); font-weight: 600; }
+tr.group th { background: #e8eef6; font-weight: 600; padding-top: 6px; }
+td.grouped { padding-left: 22px; }
 td.num { text-align: right; white-space: nowrap; font-variant-numeric: tabular-nums; }
 td.ok { color: var(--ok); font-weight: 600; }
 td.bad { color: var(--bad); font-weight: 600; }

@@ -11,6 +11,7 @@ import math
 from ..dutycase import DUTY_QUANTITIES
 from .markup import (
     Cell,
+    Group,
     Section,
     bullets,
     check_value,
@@ -21,7 +22,7 @@ from .markup import (
     pct,
     table,
 )
-from .wording import torque_rows, wrench_text
+from .wording import region_groups, torque_rows, wrench_text
 
 G0 = 9.80665  # m/s², standard gravity (ISO 80000-3), for weight-equivalent payloads
 
@@ -68,7 +69,16 @@ def _f(x) -> float:
 def job_section(project) -> Section:
     """Who the robot is for and what it must do: summary, cases and budgets."""
     rows = []
+    sizes: dict[str, int] = {}
+    shown: set[str] = set()
     for c in project.cases:
+        if c.region:
+            sizes[c.region] = sizes.get(c.region, 0) + 1
+    for c in project.cases:
+        if c.region in shown:
+            continue  # a region case is one row: its poses share kind, frame, load and limits
+        if c.region:
+            shown.add(c.region)
         limits = ", ".join(
             f"{k.replace('_', ' ')} {_limit_text(k, v)}{_as_payload_mass(c, k, v)}"
             for k, v in c.limits.items()
@@ -79,7 +89,8 @@ def job_section(project) -> Section:
         if c.has_wrench:  # where the force acts and the moment with it
             direction += "; " + wrench_text(c)
         motion = c.motion if c.kind in ("payload", "stance") else "—"
-        rows.append([c.name, c.kind, c.frame or "—", direction, motion, limits or "none"])
+        name = f"{c.region} ({sizes[c.region]} poses)" if c.region else c.name
+        rows.append([name, c.kind, c.frame or "—", direction, motion, limits or "none"])
     base = "floating base (free-flying trunk)" if project.robot.base == "floating" else "fixed base"
     joints = ", ".join(project.robot.actuated)
     summary = project.summary.replace("\n", " ").strip() or "(no summary in the project file)"
@@ -284,8 +295,39 @@ def outcome_section(a: dict, project) -> Section:
     return Section("outcome", "Outcome", body)
 
 
-def requirements_section(a: dict) -> Section:
-    """Every requirement, achieved value, limit and relative margin."""
+def _grouped_rows(rows: list, subjects: list[str], a: dict, project) -> list:
+    """``rows`` (one per subject, in order) with the poses of each region case together under a
+    :class:`Group` row naming the region, its poses and its worst pose; other rows unchanged."""
+    regions = a.get("regions") or {}
+    if not regions or project is None:
+        return rows
+    index: dict[str, list[int]] = {}
+    for k, s in enumerate(subjects):
+        index.setdefault(s, []).append(k)
+    out: list = []
+    for region, names in region_groups(list(dict.fromkeys(subjects)), project):
+        picked = [rows[k] for n in names for k in index[n]]
+        if not region:
+            out += picked
+            continue
+        info = regions.get(region, {})
+        out.append(
+            Group(
+                f"{region}: a region of {info.get('poses', len(names))} poses; the worst pose "
+                f"decides ({info.get('case', '—')}, margin {pct(info.get('margin'))})"
+            )
+        )
+        for row in picked:
+            first = row[0]
+            text = first.text if isinstance(first, Cell) else str(first)
+            out.append([Cell(text, "grouped", first.data if isinstance(first, Cell) else ())])
+            out[-1] += row[1:]
+    return out
+
+
+def requirements_section(a: dict, project=None) -> Section:
+    """Every requirement, achieved value, limit and relative margin; with ``project``, the poses
+    of a region case grouped under their region."""
     rows = []
     for c in a["checks"]:
         key = (("check", f"{c['subject']}:{c['requirement']}"),)
@@ -325,6 +367,7 @@ def requirements_section(a: dict) -> Section:
             "efficiencies and at the end of the band that is worst for it (docs/metrics.md, "
             f"Efficiency bands); achieved, margin and status are at {judged}."
         )
+    rows = _grouped_rows(rows, [c["subject"] for c in a["checks"]], a, project)
     body = table(head, rows, caption=caption)
     return Section("requirements", "Requirements versus achieved", body)
 
@@ -557,8 +600,21 @@ def cases_section(a: dict, project=None) -> Section:
         else dict(zip(project.robot.joint_names, project.robot.revolute, strict=True))
     )
     parts = []
+    regions = a.get("regions") or {}
+    headed: set[str] = set()
     for c in a["cases"]:
         head = f"<h3>{esc(c['name'])} ({esc(c['kind'])})</h3>"
+        region = getattr(cases.get(c["name"]), "region", "")
+        if region:  # the poses of a region case under one heading, each pose a subheading
+            head = f"<h4>{esc(c['name'])}</h4>"
+            if region not in headed:
+                headed.add(region)
+                info = regions.get(region, {})
+                head = (
+                    f"<h3>{esc(region)} ({esc(c['kind'])}, a region of "
+                    f"{esc(info.get('poses', '—'))} poses; the worst is "
+                    f"{esc(info.get('case', '—'))})</h3>" + head
+                )
         if c["kind"] == "duty":
             parts.append(head + _duty_table(c, [j["joint"] for j in a["joints"]]))
             continue
@@ -569,10 +625,7 @@ def cases_section(a: dict, project=None) -> Section:
                 for k in c["metrics"]
                 if k.startswith("normal_force:")
             ]
-        if c["kind"] == "torque" and c["name"] in cases:
-            parts.append(head + _torque_table(c, cases[c["name"]], revolute))
-            continue
-        if c["kind"] == "torque":
+        if c["kind"] == "torque" and c["name"] not in cases:
             shown += [
                 (k, f"achieved ÷ required at {k.split(':', 1)[1]}", "")
                 for k in c["metrics"]
@@ -589,6 +642,8 @@ def cases_section(a: dict, project=None) -> Section:
         if wrench:
             rows.insert(0, ["where the force acts, the moment with it", wrench])
         parts.append(head + table(["metric", "value"], rows, caption="; ".join(_case_notes(c))))
+        if c["kind"] == "torque" and c["name"] in cases:
+            parts.append(_torque_table(c, cases[c["name"]], revolute))
     return Section("cases", "Every case", "".join(parts))
 
 

@@ -116,3 +116,33 @@ def torque_rows(case, metrics: dict, revolute: dict, *, minus: str = "−") -> l
             ]
         )
     return out
+
+
+def pose_text(pose: dict, revolute: dict, *, minus: str = "−") -> str:
+    """Joint positions as people read them: a revolute joint in degrees, a prismatic one in m
+    ("shoulder_pitch 51.57°, slide 0.12 m"); ``revolute``: joint -> True for a revolute joint."""
+    out = []
+    for joint, q in pose.items():
+        if revolute.get(joint, True):
+            out.append(f"{joint} {format_number(math.degrees(float(q)), 4, minus=minus)}°")
+        else:
+            out.append(f"{joint} {format_number(float(q), 4, minus=minus)} m")
+    return ", ".join(out)
+
+
+def region_groups(names: list[str], project) -> list:
+    """``names`` (case names, in order) grouped by region: [(region or "", [names])], a region's
+    poses together at the place of its first pose, other cases each on their own."""
+    region = {c.name: c.region for c in project.cases} if project is not None else {}
+    groups: list = []
+    where: dict[str, list] = {}
+    for n in names:
+        r = region.get(n, "")
+        if not r:
+            groups.append(("", [n]))
+        elif r in where:
+            where[r].append(n)
+        else:
+            where[r] = [n]
+            groups.append((r, where[r]))
+    return groups
