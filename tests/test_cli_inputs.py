@@ -972,6 +972,9 @@ BAD = [
         (
             ("project.toml", "payload_share = 1.0", "payload_share = 0"),
             ("project.toml", "payload_share = 1.0", "payload_share = 0"),
+            # a payload mass needs a share > 0 (its own error): the requirements in N
+            ("project.toml", 'payload_min = "3 kg"', 'payload_min = "30 N"'),
+            ("project.toml", 'payload_min = "5 kg"', 'payload_min = "50 N"'),
         ),
         "size",
         "project.toml",

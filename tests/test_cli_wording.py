@@ -134,15 +134,15 @@ def test_runner_ups_signed_in_the_terminal(leg_project, capsys):
 
 
 def test_report_says_why_the_gap_is_unknown(leg_project):
-    from jointwright.report import hooks
+    from jointwright.report import sizing_result
 
     sizing = {"status": "time_limit", "objective_kind": "margin", "objective": 1.32}
     sizing |= {"bound": "inf", "gap": "inf"}
     objective = {"maximize": "margin", "cases": ["touchdown"]}
     note = unknown_gap(dataclasses.replace(leg_project, objective=objective), "margin")
-    body = hooks.runner_ups_section(sizing, gap_note=note).body
+    body = sizing_result.runner_ups_section(sizing, gap_note=note).body
     assert "∞" not in body and "touchdown (impact)" in body
-    assert "gap not known" in hooks.runner_ups_section(sizing).body
+    assert "gap not known" in sizing_result.runner_ups_section(sizing).body
 
 
 def _frontier(project):
@@ -236,7 +236,7 @@ def test_assess_size_and_report_show_offset_and_moment(wrench_leg, capsys, monke
     from jointwright.commands import _format
     from jointwright.commands.assess import print_assessment
     from jointwright.design import load_design
-    from jointwright.report import sections
+    from jointwright.report import case_tables, job
 
     with resources.as_file(resources.files("jointwright.examples") / "leg" / "design.toml") as p:
         design = load_design(p, wrench_leg)
@@ -251,8 +251,8 @@ def test_assess_size_and_report_show_offset_and_moment(wrench_leg, capsys, monke
     # every force at its frame: no column for it
     assert [len(r) for r in size_cmd.payload_rows(_plain(wrench_leg), a)] == [5, 5, 5]
     shown = WRENCH.replace("-", "−")  # the report's minus sign
-    assert shown in sections.job_section(wrench_leg).body
-    assert sections.cases_section(a.to_dict(), wrench_leg).body.count(shown) == 1
+    assert shown in job.job_section(wrench_leg).body
+    assert case_tables.cases_section(a.to_dict(), wrench_leg).body.count(shown) == 1
 
 
 def _plain(project):

@@ -80,7 +80,7 @@ def test_region_poses_read_in_degrees_and_group_under_their_region(capsys, monke
 
     from jointwright.commands import _format
     from jointwright.commands.assess import print_assessment
-    from jointwright.report import sections
+    from jointwright.report import job, outcome
     from jointwright.report.wording import pose_text, region_groups
     from jointwright.units import format_number
 
@@ -105,10 +105,10 @@ def test_region_poses_read_in_degrees_and_group_under_their_region(capsys, monke
     assert ("reach-region", [f"reach-region@{k}" for k in range(3)]) in groups
     assert sum(len(n) for _r, n in groups) == len(names)
     d = a.to_dict()
-    body = sections.requirements_section(d, project).body
+    body = outcome.requirements_section(d, project).body
     head = body.index('scope="rowgroup">reach-region: a region of 3 poses')
     at = [body.index(f'data-check="reach-region@{k}:payload_min"') for k in range(3)]
     assert head < at[0] < at[1] < at[2]
     assert body.count("rowgroup") == 1 and body[head : at[2]].count("<tr") == 3
-    job = sections.job_section(project).body
+    job = job.job_section(project).body
     assert "reach-region (3 poses)" in job and "reach-region@1" not in job

@@ -54,6 +54,23 @@ def test_summary_frontier_thumbnail_without_layout_warnings(tmp_path):
         warnings.simplefilter("error")
         html = summary.frontier_thumbnail(frontier, tmp_path)
     assert "summary-frontier" in html and (tmp_path / "summary-frontier.png").is_file()
+    # every label inside the figure: a long y label in the small thumbnail is wrapped, not cut
+    fig = figures.points_figure(
+        [(p["x"], p["y"]) for p in frontier["points"]],
+        None,
+        x_label="impact mitigation factor at case touchdown-on-rough-ground (dimensionless)",
+        y_label="payload mass every payload and stance case carries (kg)",
+        title="Frontier of non-dominated designs",
+        width=4.8,
+        height=2.8,
+    )
+    fig.canvas.draw()  # the layout at the PNG's resolution
+    renderer = fig.canvas.get_renderer()
+    box = fig.bbox
+    for label in (fig.axes[0].xaxis.label, fig.axes[0].yaxis.label):
+        ext = label.get_window_extent(renderer)
+        assert box.x0 - 1 <= ext.x0 and ext.x1 <= box.x1 + 1, label.get_text()
+        assert box.y0 - 1 <= ext.y0 and ext.y1 <= box.y1 + 1, label.get_text()
 
 
 @pytest.mark.slow

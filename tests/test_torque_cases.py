@@ -82,7 +82,7 @@ def test_torque_case_shows_required_and_available_torque(capsys, monkeypatch):
     back-driven, each capped by the gear's peak rating) and their ratio, in N·m."""
     from jointwright.commands import _format
     from jointwright.commands.assess import print_assessment
-    from jointwright.report import sections
+    from jointwright.report import case_tables
     from jointwright.units import format_number
 
     case = {
@@ -111,6 +111,6 @@ def test_torque_case_shows_required_and_available_torque(capsys, monkeypatch):
     assert cells[3] == format_number(avail_yaw / 20.0)
     elbow = next(x for x in lines if x.startswith("│ elbow "))
     assert "-30 N·m" in elbow and "back-driven" in elbow
-    body = sections.cases_section(a.to_dict(), project).body
+    body = case_tables.cases_section(a.to_dict(), project).body
     assert f"{format_number(avail_yaw, minus='−')} N·m" in body and "−30 N·m" in body
     assert "back-driven" in body and "available ÷ required" in body

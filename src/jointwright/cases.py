@@ -526,29 +526,30 @@ def _payload_requirement(t: Table, fixed_load: float, payload_share: float) -> f
     field = t.field("payload_min")
     try:
         force = quantity(v, "force", file=t.file, field=field)
+    except InputError:  # not a force: a payload mass, or an error
+        force = None
+    if force is not None:
+        if force < 0:
+            raise InputError(t.file, field, f"must be >= 0 N (or kg), got {v!r}")
+        return force
+    try:
+        mass = quantity(v, "mass", file=t.file, field=field)
     except InputError:
-        try:
-            mass = quantity(v, "mass", file=t.file, field=field)
-        except InputError:
-            raise InputError(
-                t.file,
-                field,
-                "must be a force (N) or a payload mass (kg, carried on top of fixed_load), "
-                f"got {v!r}",
-            ) from None
-        if mass < 0:
-            raise InputError(t.file, field, f"must be >= 0 kg, got {v!r}")
-        if payload_share == 0:
-            raise InputError(
-                t.file,
-                field,
-                f"a payload mass ({v!r}) needs payload_share > 0: with payload_share = 0 the load "
-                "does not grow with the payload; give the force the case must reach in N",
-            )
-        force = fixed_load + payload_share * mass * STANDARD_GRAVITY
-    if force < 0:
-        raise InputError(t.file, field, f"must be >= 0 N (or kg), got {v!r}")
-    return force
+        raise InputError(
+            t.file,
+            field,
+            f"must be a force (N) or a payload mass (kg, carried on top of fixed_load), got {v!r}",
+        ) from None
+    if mass < 0:
+        raise InputError(t.file, field, f"must be >= 0 kg, got {v!r}")
+    if payload_share == 0:
+        raise InputError(
+            t.file,
+            field,
+            f"a payload mass ({v!r}) needs payload_share > 0: with payload_share = 0 the load "
+            "does not grow with the payload; give the force the case must reach in N",
+        )
+    return fixed_load + payload_share * mass * STANDARD_GRAVITY
 
 
 def _force_or_weight(t: Table, key: str) -> float:

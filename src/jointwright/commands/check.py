@@ -301,7 +301,7 @@ def command(project: Path, as_json: bool):
 
 
 def _carries(case: dict, key: str, force: float) -> str:
-    """" (carries 3 kg)" after a payload requirement: the payload mass the required force
+    """ " (carries 3 kg)" after a payload requirement: the payload mass the required force
     stands for, (F − fixed_load)/(payload_share·g_n), as the payload objective reads it."""
     growth = case.get("payload_growth")
     if key != "payload_min" or not growth or growth["payload_share"] <= 0:

@@ -294,7 +294,13 @@ def points_figure(
     ax.plot(pts[order, 0], pts[order, 1], "o-", color="#3b6ea5", lw=1.4, ms=4.5, label=label)
     if chosen is not None:
         ax.plot(*chosen, "o", ms=11, mfc="none", mec="#c0703c", mew=2.0, label="chosen design")
-    _label(ax, x_label, y_label)
+    # labels wrapped to the figure (about 8 characters an inch of height for the y label, 12 of
+    # width for the x label): a long label in a small figure (the summary's) is never clipped
+    _label(
+        ax,
+        textwrap.fill(x_label, max(24, int(12 * width)), break_on_hyphens=False),
+        textwrap.fill(y_label, max(16, int(8 * height)), break_on_hyphens=False),
+    )
     _title(ax, title, width=int(70 * width / WIDTH))
     _legend(fig, [ax], ncols=3 if width >= WIDTH else 2)
     return fig

@@ -35,6 +35,11 @@ def number(value, digits: int = 4) -> str:
 PERCENT_REQUIREMENTS = ("rating_use_max", "shock_use_max", "gear_peak_use_max")
 
 
+def as_float(x) -> float:
+    """A number from the report's dicts: JSON's "inf"/"-inf" strings as infinities, None as NaN."""
+    return float({"inf": math.inf, "-inf": -math.inf}.get(x, x)) if x is not None else math.nan
+
+
 def check_value(c: dict, key: str) -> str:
     """A requirement check's ``achieved`` or ``limit`` with its unit (rating uses in %)."""
     v = c[key]

@@ -219,7 +219,7 @@ _DUTY_SUMMARY = ("rms_torque", "peak_torque", "peak_temperature", "backdriven_sh
 
 
 def duty_data(evaluator, arrays, a: dict) -> list[dict]:
-    """The duty-cycle hook's dicts (see :func:`.hooks.duty_section`) for the project's duty cases.
+    """The duty section's dicts (:func:`.duty_view.duty_section`) for the project's duty cases.
 
     Motor torque per sample follows the power-flow law of :func:`metrics.duty.motor_torque` on
     the joint torques of the case's inverse dynamics with this design's actuator masses, with the
