@@ -155,6 +155,7 @@ h2 { font-size: 1.22em; margin: 34px 0 8px; padding-bottom: 3px;
      border-bottom: 1px solid var(--line); }
 h2.appendix { font-size: 1.4em; margin-top: 48px; border-bottom: 3px solid var(--accent); }
 h3 { font-size: 1.04em; margin: 20px 0 6px; }
+h4 { font-size: 0.96em; margin: 12px 0 4px 14px; color: var(--muted); }
 .sub { color: var(--muted); margin: 0; }
 nav ul { columns: 2; margin: 8px 0 0; padding-left: 0; list-style: none; color: var(--muted); }
 nav a { color: var(--accent); text-decoration: none; }
