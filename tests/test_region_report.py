@@ -95,9 +95,15 @@ def test_region_poses_read_in_degrees_and_group_under_their_region(capsys, monke
     print_assessment(a, project)
     out = capsys.readouterr().out
     assert deg in out and "joint positions (° or m)" in out
-    assert (
-        pose_text({"slide": 0.12, "knee": math.pi / 2}, {"slide": False})
-        == "slide 0.12 m, knee 90°"
+    # the terminal's requirements table: the region's row, then its poses indented under it
+    table = out[out.index("Requirements") :]
+    head = table.index("│ reach-region ")
+    poses = [table.index(f"│   reach-region@{k} ") for k in range(3)]
+    assert head < poses[0] < poses[1] < poses[2] < table.index("│ supplier ")
+    assert "region of 3 poses" in table[head : poses[0]]
+    # a revolute joint in degrees, a prismatic one in m
+    assert pose_text({"slide": 0.12, "knee": math.pi / 2}, {"slide": False}) == (
+        "slide 0.12 m, knee 90°"
     )
     # grouping: the poses together, where the first one stood
     names = [c.name for c in project.cases]

@@ -11,7 +11,7 @@ from ..assessment import assess
 from ..design import load_design
 from ..dutycase import DUTY_QUANTITIES
 from ..project import load_project
-from ..report.wording import pose_text, torque_rows, wrench_text
+from ..report.wording import pose_text, region_groups, torque_rows, wrench_text
 from ._format import console, emit_json, num, pct, table
 from ._progress import status_line
 
@@ -278,6 +278,7 @@ def print_assessment(a, project=None) -> None:
             ]
             for c in a.checks
         ]
+    rows = _grouped(rows, [c.subject for c in a.checks], a.regions, project)
     con.print(
         table(
             "Requirements",
@@ -340,6 +341,26 @@ def command(project: Path, design_file: Path, as_json: bool):
         emit_json(a.to_dict())
     else:
         print_assessment(a, p)
+
+
+def _grouped(rows: list[list[str]], subjects: list[str], regions: dict, project) -> list:
+    """Requirement rows with the poses of each region case together, under a row naming the
+    region, its poses and its worst pose (report.wording.region_groups)."""
+    if not regions or project is None:
+        return rows
+    index: dict[str, list[int]] = {}
+    for k, s in enumerate(subjects):
+        index.setdefault(s, []).append(k)
+    out = []
+    for region, names in region_groups(list(dict.fromkeys(subjects)), project):
+        picked = [rows[k] for n in names for k in index[n]]
+        if region:
+            info = regions.get(region, {})
+            head = f"region of {info.get('poses', len(names))} poses, worst {info.get('case')}"
+            out.append([f"[bold]{region}[/bold]", head] + [""] * (len(rows[0]) - 2))
+            picked = [["  " + r[0]] + r[1:] for r in picked]
+        out += picked
+    return out
 
 
 def _band_text(j) -> str:
