@@ -126,14 +126,18 @@ def test_check_json_converts_units(folders, tmp_path):
     )  # unit vectors
 
 
-def test_check_arm_payload_in_kg_is_its_weight(folders):
-    # payload_min = "3 kg" is a weight at standard gravity g_n = 9.80665 m/s²
-    # (3rd CGPM 1901; ISO 80000-3 [pub]): 3 × 9.80665 = 29.41995 N
+def test_check_arm_payload_in_kg_is_the_payload_carried(folders):
+    # payload_min = "3 kg" is the payload the case must carry, read as the payload objective
+    # reads it: fixed_load + payload_share·m·g_n with g_n = 9.80665 m/s² (3rd CGPM 1901;
+    # ISO 80000-3 [pub]); the arm's gripper, fixed_load = "0.4 kg", share 1:
+    # (0.4 + 3) × 9.80665 = 33.34261 N, (0.4 + 5) × 9.80665 = 52.95591 N
     data = json.loads(_run(["check", str(folders["arm"] / "project.toml"), "--json"]).stdout)
     cases = {c["name"]: c for c in data["cases"]}
     assert STANDARD_GRAVITY == 9.80665
-    assert cases["reach-lift"]["limits"]["payload_min"] == pytest.approx(29.41995, rel=1e-12)
-    assert cases["close-lift"]["limits"]["payload_min"] == pytest.approx(49.03325, rel=1e-12)
+    assert cases["reach-lift"]["limits"]["payload_min"] == pytest.approx(33.34261, rel=1e-12)
+    assert cases["close-lift"]["limits"]["payload_min"] == pytest.approx(52.95591, rel=1e-12)
+    text = " ".join(_run(["check", str(folders["arm"] / "project.toml")]).stdout.split())
+    assert "payload min 33.34 N (carries 3 kg)" in text
 
 
 @pytest.mark.parametrize("name", EXAMPLES)
@@ -280,7 +284,10 @@ def test_leg_study_covers_every_budget_and_threshold():
 def test_arm_study_crosses_payloads_with_architectures():
     seen = set()
     for case, p in _study_projects("arm"):
-        kg = p.case("reach-lift").limits["payload_min"] / STANDARD_GRAVITY  # a weight at g_n
+        lift = p.case("reach-lift")  # payload_min in kg: the payload mass carried
+        kg = (lift.limits["payload_min"] - lift.fixed_load) / (
+            lift.payload_share * STANDARD_GRAVITY
+        )
         seen.add((case.variant, p.stage_kinds, round(kg, 9)))
         assert p.objective == {"maximize": "mass"}
     kinds = {

@@ -847,6 +847,15 @@ BAD = [
         example="arm",
     ),
     Bad(
+        "arm: payload mass with nothing that grows with the payload",
+        (("project.toml", "payload_share = 1.0\npayload_min", "payload_share = 0\npayload_min"),),
+        "check",
+        "project.toml",
+        "case[0].payload_min",
+        "needs payload_share > 0",
+        example="arm",
+    ),
+    Bad(
         "arm: IMF on a fixed base",
         (("project.toml", 'effective_mass_max = "4 kg"', "imf_min = 0.3"),),
         "check",
@@ -963,6 +972,9 @@ BAD = [
         (
             ("project.toml", "payload_share = 1.0", "payload_share = 0"),
             ("project.toml", "payload_share = 1.0", "payload_share = 0"),
+            # a payload mass needs a share > 0 (its own error): the requirements in N
+            ("project.toml", 'payload_min = "3 kg"', 'payload_min = "30 N"'),
+            ("project.toml", 'payload_min = "5 kg"', 'payload_min = "50 N"'),
         ),
         "size",
         "project.toml",

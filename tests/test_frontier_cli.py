@@ -51,7 +51,7 @@ def test_frontier_plot_and_frictionless_comparison(tmp_path):
 
 
 def test_report_reads_the_frontier_file_and_marks_the_design(tmp_path):
-    from jointwright.report.hooks import frontier_from_sweep
+    from jointwright.report.frontier_map import frontier_from_sweep
 
     # frontier payloads are the payload mass every case carries (kg), and so is the chosen point
     sweep = {

@@ -67,3 +67,16 @@ def test_table_rows_equal_the_per_actuator_formulas(name, stages, bare):
     assert table.actuators[-1] == table.actuators[len(table) - 1]
     with pytest.raises(IndexError):
         table.actuators[len(table)]
+
+
+def test_option_fields_have_one_source():
+    """design's field tables name every DesignArrays field once (motor, stack or combined), and
+    the option table builds exactly those fields: the motor and stack ones taken from design."""
+    from jointwright.design import _ACTUATOR_FIELDS, COMBINED_FIELDS, MOTOR_FIELDS, STACK_FIELDS
+
+    parts = [set(MOTOR_FIELDS), set(STACK_FIELDS), set(COMBINED_FIELDS)]
+    assert sum(len(p) for p in parts) == len(set().union(*parts))  # disjoint
+    names = {f.name for f in fields(DesignArrays)}
+    assert set().union(*parts) == names == set(_ACTUATOR_FIELDS)
+    table = build_table(dataclasses.replace(_example("leg"), max_stages=1))
+    assert set(table.rows) == names

@@ -58,7 +58,8 @@ def test_grid_worst_pose_matches_brute_evaluation():
     assert worst["index"] == int(np.argmin(brute))
     assert worst["poses"] == 12
     assert worst["pose"]["elbow"] == pytest.approx(members[worst["index"]].pose["elbow"])
-    limit = 9.80665
+    # payload_min "1 kg" on top of the gripper's fixed_load "0.4 kg", share 1: 1.4 kg at g_n
+    limit = 1.4 * 9.80665
     assert worst["margin"] == pytest.approx((min(brute) - limit) / limit, rel=1e-9)
     # the requirement holds at every pose: feasible only if the worst pose meets it
     region_checks = [c for c in a.checks if c.subject.startswith("reach-region@")]

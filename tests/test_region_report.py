@@ -36,7 +36,10 @@ def region_project():
 
 @pytest.mark.slow
 def test_report_draws_the_worst_pose_and_shows_kg_and_n(tmp_path):
+    import math
+
     from jointwright.report.build import build_report
+    from jointwright.units import format_number
 
     project = region_project()
     design = load_design(ARM / "design.toml", project)
@@ -46,6 +49,10 @@ def test_report_draws_the_worst_pose_and_shows_kg_and_n(tmp_path):
     worst = a.regions["reach-region"]
     assert "Regions of poses: the worst pose" in html
     assert worst["case"] in html
+    # the worst pose in degrees (the grid moves shoulder_pitch between 0.3 and 0.9 rad)
+    q = project.case(worst["case"]).pose["shoulder_pitch"]
+    assert "joint positions (° or m)" in html
+    assert f"shoulder_pitch {format_number(math.degrees(q), minus='−')}°" in html
     assert (tmp_path / "figures" / "region-1.png").is_file()
     assert "payload mass it carries" in html
     assert "payload mass " in html and "kg)" in html  # payload_min read as a payload mass
@@ -64,3 +71,50 @@ def test_assess_json_has_regions():
     r = d["regions"]["reach-region"]
     assert r["poses"] == 3 and r["case"].startswith("reach-region@")
     assert set(r["pose"]) >= {"shoulder_pitch", "elbow"}
+
+
+def test_region_poses_read_in_degrees_and_group_under_their_region(capsys, monkeypatch):
+    """The worst pose in degrees (revolute; m for prismatic) in the terminal and the report, and
+    the report's requirements and job tables group a region's poses under the region."""
+    import math
+
+    from jointwright.commands import _format
+    from jointwright.commands.assess import print_assessment
+    from jointwright.report import job, outcome
+    from jointwright.report.wording import pose_text, region_groups
+    from jointwright.units import format_number
+
+    project = region_project()
+    design = load_design(ARM / "design.toml", project)
+    a = assess(project, design)
+    worst = project.case(a.regions["reach-region"]["case"])
+    q = worst.pose["shoulder_pitch"]  # a grid over 0.3 to 0.9 rad
+    deg = f"shoulder_pitch {format_number(math.degrees(q))}°"
+    monkeypatch.setenv("COLUMNS", "250")
+    monkeypatch.setattr(_format, "_console", None)
+    print_assessment(a, project)
+    out = capsys.readouterr().out
+    assert deg in out and "joint positions (° or m)" in out
+    # the terminal's requirements table: the region's row, then its poses indented under it
+    table = out[out.index("Requirements") :]
+    head = table.index("│ reach-region ")
+    poses = [table.index(f"│   reach-region@{k} ") for k in range(3)]
+    assert head < poses[0] < poses[1] < poses[2] < table.index("│ supplier ")
+    assert "region of 3 poses" in table[head : poses[0]]
+    # a revolute joint in degrees, a prismatic one in m
+    assert pose_text({"slide": 0.12, "knee": math.pi / 2}, {"slide": False}) == (
+        "slide 0.12 m, knee 90°"
+    )
+    # grouping: the poses together, where the first one stood
+    names = [c.name for c in project.cases]
+    groups = region_groups(names, project)
+    assert ("reach-region", [f"reach-region@{k}" for k in range(3)]) in groups
+    assert sum(len(n) for _r, n in groups) == len(names)
+    d = a.to_dict()
+    body = outcome.requirements_section(d, project).body
+    head = body.index('scope="rowgroup">reach-region: a region of 3 poses')
+    at = [body.index(f'data-check="reach-region@{k}:payload_min"') for k in range(3)]
+    assert head < at[0] < at[1] < at[2]
+    assert body.count("rowgroup") == 1 and body[head : at[2]].count("<tr") == 3
+    job = job.job_section(project).body
+    assert "reach-region (3 poses)" in job and "reach-region@1" not in job

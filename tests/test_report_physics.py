@@ -31,7 +31,7 @@ from jointwright.errors import InputError
 from jointwright.evaluate import Evaluator
 from jointwright.metrics.payload import payload_along
 from jointwright.project import load_project
-from jointwright.report import figures, hooks
+from jointwright.report import duty_view, figures, frontier_map, sizing_result, study_results
 from jointwright.report.geometry import MODES, ellipse_sections, plane_for, polytope_sections
 from jointwright.report.sweeps import efficiency_sensitivity, impact_metric, ratio_sweep
 from jointwright.robot.basis import gravity
@@ -197,15 +197,15 @@ FRONTIER = {
 
 
 def test_frontier_hook_draws_points_and_rejects_bad_points(tmp_path):
-    s = hooks.frontier_section(FRONTIER, tmp_path)
+    s = frontier_map.frontier_section(FRONTIER, tmp_path)
     assert (
         "200 N" in s.body and "◆ turning point" in s.body and (tmp_path / "frontier.svg").is_file()
     )
     bad = {**FRONTIER, "points": [{"x": 0.1, "y": 300.0}, {"x": 0.3, "y": "lots"}]}
     with pytest.raises(InputError, match=r"points\[1\]\.y"):
-        hooks.frontier_section(bad, tmp_path)
+        frontier_map.frontier_section(bad, tmp_path)
     with pytest.raises(InputError, match="chosen"):
-        hooks.frontier_section({**FRONTIER, "chosen": 7}, tmp_path)
+        frontier_map.frontier_section({**FRONTIER, "chosen": 7}, tmp_path)
 
 
 def _alternative(actuator, objective, loss, ruled_out_by, change="other motor"):
@@ -250,15 +250,19 @@ SIZING = {
 
 
 def test_runner_ups_hook_reads_the_sizing_result_form():
-    s = hooks.runner_ups_section(SIZING)
+    s = sizing_result.runner_ups_section(SIZING)
     # the payload objective is the payload mass every case carries, in kg
-    assert "loses 10 kg" in s.body and "misses touchdown: imf min" in s.body and "250 kg" in s.body
+    assert (
+        "−10 kg payload against the chosen design" in s.body
+        and "misses touchdown: imf min" in s.body
+        and "250 kg" in s.body
+    )
     assert "+0.0 %" in s.body and "230 kg" in s.body
     bad = {**SIZING, "alternatives": [_alternative("m", "high", None, None)]}
     with pytest.raises(InputError, match=r"alternatives\[0\]\.objective"):
-        hooks.runner_ups_section(bad)
+        sizing_result.runner_ups_section(bad)
     with pytest.raises(InputError, match="objective_kind"):
-        hooks.runner_ups_section({"status": "optimal"})
+        sizing_result.runner_ups_section({"status": "optimal"})
 
 
 @pytest.mark.slow
@@ -270,14 +274,14 @@ def test_duty_hook_table_and_bad_series(tmp_path):
         "limits": {"knee continuous": 0.3},
         "summary": [{"joint": "knee", "rms_torque": 0.25, "backdriven_share": 0.4}],
     }
-    d = hooks.duty_section(data, tmp_path)
+    d = duty_view.duty_section(data, tmp_path)
     assert "0.25 N·m" in d.body and "40 %" in d.body
-    odd = hooks.duty_section({**data, "case": "walk / run 2"}, tmp_path)
+    odd = duty_view.duty_section({**data, "case": "walk / run 2"}, tmp_path)
     assert odd.anchor == "duty-walk-run-2" and (tmp_path / "duty-walk-run-2.png").is_file()
     with pytest.raises(InputError, match="motor_torque.knee"):
-        hooks.duty_section({**data, "motor_torque": {"knee": [1.0]}}, tmp_path)
+        duty_view.duty_section({**data, "motor_torque": {"knee": [1.0]}}, tmp_path)
     with pytest.raises(InputError, match=r"time\[1\]"):
-        hooks.duty_section({**data, "time": [0.0, "x", 1.0]}, tmp_path)
+        duty_view.duty_section({**data, "time": [0.0, "x", 1.0]}, tmp_path)
 
 
 STUDY = {
@@ -307,7 +311,7 @@ STUDY = {
 
 @pytest.mark.slow
 def test_study_hook_table_has_units_best_case_and_rejects_bad_rows(tmp_path):
-    s = hooks.study_section(STUDY, tmp_path)
+    s = study_results.study_section(STUDY, tmp_path)
     text = re.sub(r'src="data:[^"]*"', "", s.body)
     # every header names its unit; every number carries it
     for head in (
@@ -323,10 +327,10 @@ def test_study_hook_table_has_units_best_case_and_rejects_bad_rows(tmp_path):
     assert "Flatwind-6 | Orbit/Orbit-2 12:1" in text
     assert (tmp_path / "study-1.png").is_file() and (tmp_path / "study-2.png").is_file()
     with pytest.raises(InputError, match=r"cases\[0\]\.values"):
-        hooks.study_section({**STUDY, "cases": [{"case": "x", "results": {}}]}, tmp_path)
+        study_results.study_section({**STUDY, "cases": [{"case": "x", "results": {}}]}, tmp_path)
     bad = {**STUDY["cases"][0], "results": {"objective": [1, 2]}}
     with pytest.raises(InputError, match=r"cases\[0\]\.results\.objective"):
-        hooks.study_section({**STUDY, "cases": [bad]}, tmp_path)
+        study_results.study_section({**STUDY, "cases": [bad]}, tmp_path)
 
 
 def test_study_lines_join_only_cases_that_share_the_other_parameters():
@@ -334,7 +338,7 @@ def test_study_lines_join_only_cases_that_share_the_other_parameters():
     # designs; each group must hold one value of every other parameter
     for param, other in (("ratio", "budget"), ("budget", "ratio")):
         p = next(x for x in STUDY["parameters"] if x["key"] == param)
-        groups = hooks._study_groups(
+        groups = study_results._study_groups(
             STUDY["cases"], STUDY["parameters"], p, STUDY["results"][0], variants=False
         )
         n_other = len({c["values"][other] for c in STUDY["cases"]})
@@ -427,7 +431,7 @@ def test_study_store_becomes_the_study_section(tmp_path):
     assert sorted({c["values"]["requirements.mass_budget"] for c in data["cases"]}) == [2.0, 3.0]
     assert [r["unit"] for r in data["results"]] == ["kg", "kg"]  # payload mass, actuator mass
     assert {c["variant"] for c in data["cases"]} == {"short", "long"}
-    section = hooks.study_section(data, tmp_path)
+    section = study_results.study_section(data, tmp_path)
     text = re.sub(r'src="data:[^"]*"', "", section.body)
     assert "payload mass every case carries (kg)" in text and "300 kg" in text
     assert 'data-study-best="short">300 kg<' in text and 'data-study-best="long">300 kg<' in text

@@ -74,3 +74,43 @@ def test_bad_torque_cases_name_the_field(patch, field):
     with pytest.raises(InputError) as e:
         project_with(case)
     assert field in str(e.value)
+
+
+def test_torque_case_shows_required_and_available_torque(capsys, monkeypatch):
+    """The terminal and the report show each joint's required torque, the torque available on
+    its side in its power-flow mode (by hand as above: η_f·N·τ_m motoring, N·τ_m/η_b
+    back-driven, each capped by the gear's peak rating) and their ratio, in N·m."""
+    from jointwright.commands import _format
+    from jointwright.commands.assess import print_assessment
+    from jointwright.report import case_tables
+    from jointwright.units import format_number
+
+    case = {
+        "name": "supplier-loads",
+        "kind": "torque",
+        "torques": {"shoulder_yaw": "20 N*m", "elbow": "-30 N*m"},
+        "motion": "along",
+        "motions": {"elbow": "against"},
+    }
+    project = project_with(case)
+    design = load_design(ARM / "design.toml", project)
+    a = assess(project, design)
+    acts = dict(zip(project.robot.actuated, design.actuators, strict=True))
+    yaw = acts["shoulder_yaw"]
+    avail_yaw = min(yaw.eta_forward * yaw.ratio * yaw.motor.peak_torque, yaw.gear_peak_torque)
+    monkeypatch.setenv("COLUMNS", "160")
+    monkeypatch.setattr(_format, "_console", None)
+    print_assessment(a, project)
+    out = capsys.readouterr().out
+    head = "Case supplier-loads: required and available torque per joint"
+    lines = out[out.index(head) :].splitlines()
+    row = next(x for x in lines if x.startswith("│ shoulder_yaw "))
+    cells = [x.strip() for x in row.split("│")[1:-1]]
+    assert cells[:2] == ["shoulder_yaw", "20 N·m"]
+    assert cells[2] == f"{format_number(avail_yaw)} N·m" and cells[4] == "motoring"
+    assert cells[3] == format_number(avail_yaw / 20.0)
+    elbow = next(x for x in lines if x.startswith("│ elbow "))
+    assert "-30 N·m" in elbow and "back-driven" in elbow
+    body = case_tables.cases_section(a.to_dict(), project).body
+    assert f"{format_number(avail_yaw, minus='−')} N·m" in body and "−30 N·m" in body
+    assert "back-driven" in body and "available ÷ required" in body

@@ -173,7 +173,7 @@ def _load_case(
     for key, (dim, _sense) in CASE_LIMITS[kind].items():
         if t.has(key):
             if kind in ("payload", "stance") and key == "payload_min":
-                limits[key] = _force_or_weight(t, key)
+                limits[key] = _payload_requirement(t, fixed_load, payload_share)
             else:
                 limits[key] = t.quantity(key, dim, sign="nonnegative")
             if key.endswith("imf_min") and robot.base != "floating":
@@ -332,8 +332,45 @@ def _body_region(t: Table) -> tuple[float, float, float] | None:
     return force, stiffness, mass
 
 
+def _payload_requirement(t: Table, fixed_load: float, payload_share: float) -> float:
+    """``payload_min`` as the force the case must reach (N): a force ("150 N") as written; a
+    mass ("3 kg") is the payload the case must carry, the same reading as the payload
+    objective's: fixed_load + payload_share·m·g_n (with no fixed load and share 1, the mass's
+    weight). A mass needs payload_share > 0 (with 0 the load does not grow with the payload)."""
+    from .units import quantity
+
+    v = t.raw("payload_min")
+    field = t.field("payload_min")
+    try:
+        force = quantity(v, "force", file=t.file, field=field)
+    except InputError:  # not a force: a payload mass, or an error
+        force = None
+    if force is not None:
+        if force < 0:
+            raise InputError(t.file, field, f"must be >= 0 N (or kg), got {v!r}")
+        return force
+    try:
+        mass = quantity(v, "mass", file=t.file, field=field)
+    except InputError:
+        raise InputError(
+            t.file,
+            field,
+            f"must be a force (N) or a payload mass (kg, carried on top of fixed_load), got {v!r}",
+        ) from None
+    if mass < 0:
+        raise InputError(t.file, field, f"must be >= 0 kg, got {v!r}")
+    if payload_share == 0:
+        raise InputError(
+            t.file,
+            field,
+            f"a payload mass ({v!r}) needs payload_share > 0: with payload_share = 0 the load "
+            "does not grow with the payload; give the force the case must reach in N",
+        )
+    return fixed_load + payload_share * mass * STANDARD_GRAVITY
+
+
 def _force_or_weight(t: Table, key: str) -> float:
-    """A payload requirement as a force ("150 N") or as a mass ("15 kg", weight at standard g)."""
+    """A load as a force ("150 N") or as a mass ("0.4 kg", its weight at standard gravity)."""
     from .units import quantity
 
     v = t.raw(key)

@@ -17,8 +17,10 @@ from __future__ import annotations
 
 import dataclasses
 import math
+from collections.abc import Callable
 from dataclasses import dataclass, fields
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 
@@ -305,29 +307,28 @@ class DesignArrays:
         )
 
 
-_ACTUATOR_FIELDS = {
-    "mass": lambda a: a.mass,
+#: option fields of the motor alone, as its drive feeds it: field -> (source, attribute), source
+#: "fed" for the ratings a drive can lower (catalog.drives.fed_motor), "motor" for the motor's own
+MOTOR_FIELDS: dict[str, tuple[str, str]] = {
+    "motor_peak_torque": ("fed", "peak_torque"),
+    "motor_continuous_torque": ("fed", "continuous_torque"),
+    "motor_max_speed": ("fed", "max_speed"),
+    "torque_constant": ("motor", "torque_constant"),
+    "resistance": ("motor", "resistance"),
+    "bus_voltage": ("fed", "bus_voltage"),
+    "thermal_resistance": ("motor", "thermal_resistance"),
+    "thermal_time_constant": ("motor", "thermal_time_constant"),
+    "winding_temperature_max": ("motor", "winding_temperature_max"),
+}
+
+#: option fields of the stage stack alone (any motor gives the same value)
+STACK_FIELDS: dict[str, Callable[[Actuator], Any]] = {
     "ratio": lambda a: a.ratio,
     "eta_forward": lambda a: a.eta_forward,
     "eta_backward": lambda a: a.eta_backward,
     "self_locking": lambda a: a.self_locking,
-    "rotor_inertia": lambda a: a.rotor_inertia,
-    # the motor as its drive feeds it (catalog.drives.fed_motor; the motor's own without a drive)
-    "motor_peak_torque": lambda a: a.fed.peak_torque,
-    "motor_continuous_torque": lambda a: a.fed.continuous_torque,
     "gear_peak_torque": lambda a: a.gear_peak_torque,
     "gear_continuous_torque": lambda a: a.gear_continuous_torque,
-    "breakaway_torque": lambda a: a.breakaway_torque,
-    "motor_max_speed": lambda a: a.fed.max_speed,
-    "torque_constant": lambda a: _nan(a.motor.torque_constant),
-    "resistance": lambda a: _nan(a.motor.resistance),
-    "bus_voltage": lambda a: _nan(a.fed.bus_voltage),
-    "thermal_resistance": lambda a: _nan(a.motor.thermal_resistance),
-    "thermal_time_constant": lambda a: _nan(a.motor.thermal_time_constant),
-    "winding_temperature_max": lambda a: a.motor.winding_temperature_max,
-    "diameter": lambda a: a.diameter,
-    "length": lambda a: a.length,
-    "cost": lambda a: a.cost,
     "life_torque": lambda a: _slots(a, 0, math.inf),
     "life_speed": lambda a: _slots(a, 1, 1.0),
     "life_rated": lambda a: _slots(a, 2, math.inf),
@@ -338,7 +339,33 @@ _ACTUATOR_FIELDS = {
     "eta_forward_high": lambda a: a.efficiency_band[1],
     "eta_backward_low": lambda a: a.efficiency_band[2],
     "eta_backward_high": lambda a: a.efficiency_band[3],
+}
+
+#: option fields that combine motor, drive and stack; options.option_rows composes each of
+#: these from its motor and stack parts (the only fields it spells out)
+COMBINED_FIELDS: dict[str, Callable[[Actuator], Any]] = {
+    "mass": lambda a: a.mass,
+    "rotor_inertia": lambda a: a.rotor_inertia,
+    "breakaway_torque": lambda a: a.breakaway_torque,
     "breakaway_motor_side": lambda a: a.breakaway_motor_side,
+    "diameter": lambda a: a.diameter,
+    "length": lambda a: a.length,
+    "cost": lambda a: a.cost,
+}
+
+
+def _motor_field(source: str, attr: str) -> Callable[[Actuator], float]:
+    def value(a: Actuator) -> float:
+        return _nan(getattr(a.fed if source == "fed" else a.motor, attr))
+
+    return value
+
+
+#: every option field (the :class:`DesignArrays` fields) -> its value for one actuator
+_ACTUATOR_FIELDS: dict[str, Callable[[Actuator], Any]] = {
+    **{k: _motor_field(*v) for k, v in MOTOR_FIELDS.items()},
+    **STACK_FIELDS,
+    **COMBINED_FIELDS,
 }
 
 #: stage slots of the life arrays: the most stages a stack may have (project max_stages ≤ 3)

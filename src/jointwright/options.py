@@ -24,7 +24,7 @@ import numpy as np
 
 from .catalog.drives import drive_incompatibility, fed_motor
 from .catalog.model import Motor
-from .design import _ACTUATOR_FIELDS, DesignArrays, actuator_row
+from .design import COMBINED_FIELDS, MOTOR_FIELDS, STACK_FIELDS, DesignArrays
 from .drivetrain import Actuator, StageChoice
 from .errors import InputError
 
@@ -226,41 +226,21 @@ def _stack_row(stack: tuple) -> dict[str, float]:
     a = Actuator(_NO_MOTOR, stack)
     before = [float(math.prod(s.ratio for s in stack[:k])) if k else 1.0 for k in range(len(stack))]
     return {
-        "ratio": a.ratio,
-        "eta_forward": a.eta_forward,
-        "eta_backward": a.eta_backward,
-        "self_locking": a.self_locking,
+        **{name: value(a) for name, value in STACK_FIELDS.items()},
         "inertia": sum(s.frame.input_inertia / before[k] ** 2 for k, s in enumerate(stack)),
         "mass": sum(s.frame.mass for s in stack),
         "cost": sum(s.frame.cost for s in stack),
         "length": sum(s.frame.length for s in stack),
         "diameter": max([s.frame.diameter for s in stack], default=-math.inf),
-        "gear_peak_torque": a.gear_peak_torque,
-        "gear_continuous_torque": a.gear_continuous_torque,
         "breakaway": sum(s.frame.breakaway_torque / before[k] for k, s in enumerate(stack)),
-        **{name: _ACTUATOR_FIELDS[name](a) for name in _STACK_ONLY},
     }
 
 
-#: option fields that depend on the stack alone (gear life and shock ratings, stiffness, bands)
-_STACK_ONLY = (
-    "life_torque",
-    "life_speed",
-    "life_rated",
-    "life_exponent",
-    "gear_momentary_torque",
-    "stiffness",
-    "eta_forward_low",
-    "eta_forward_high",
-    "eta_backward_low",
-    "eta_backward_high",
-)
-
-
-def _unit_value(motor, drive, attr: str) -> float:
-    """A unit's (motor with its drive) part of an option field: the motor's ratings as the drive
-    feeds them (catalog.drives.fed_motor), the drive's mass and cost added."""
-    if attr in ("peak_torque", "continuous_torque", "max_speed", "bus_voltage"):
+def _unit_value(motor, drive, attr: str, source: str = "motor") -> float:
+    """A unit's (motor with its drive) part of an option field: from the motor's ratings as the
+    drive feeds them (source "fed", catalog.drives.fed_motor), the drive's mass and cost
+    ("drive_mass", "drive_cost"), else the motor's own attribute."""
+    if source == "fed":
         value = getattr(fed_motor(motor, drive), attr)
     elif attr in ("drive_mass", "drive_cost"):
         value = 0.0 if drive is None else getattr(drive, attr.removeprefix("drive_"))
@@ -287,8 +267,8 @@ def option_rows(units: list, stacks: list, deadline=None) -> dict[str, np.ndarra
     S = {key: np.array([r[key] for r in srow]) for key in srow[0]}
     S["self_locking"] = S["self_locking"].astype(bool)
 
-    def motor(attr: str) -> np.ndarray:
-        return np.array([_unit_value(m, d, attr) for m, d in units], dtype=float)[:, None]
+    def motor(attr: str, source: str = "motor") -> np.ndarray:
+        return np.array([_unit_value(m, d, attr, source) for m, d in units], dtype=float)[:, None]
 
     shape = (len(units), len(stacks))
 
@@ -312,36 +292,24 @@ def option_rows(units: list, stacks: list, deadline=None) -> dict[str, np.ndarra
     # the Actuator adds the drive's mass and cost last: same order, same rounding
     mass = motor("mass") + S["mass"][None, :] + motor("drive_mass")
     cost = motor("cost") + S["cost"][None, :] + motor("drive_cost")
+    # every field but the few that combine motor and stack comes from design's field tables
     rows = {
-        "mass": both(mass),
-        "ratio": both(S["ratio"][None, :]),
-        "eta_forward": both(S["eta_forward"][None, :]),
-        "eta_backward": both(S["eta_backward"][None, :]),
-        "self_locking": both(locked),
-        "rotor_inertia": both(motor("rotor_inertia") + S["inertia"][None, :]),
-        "motor_peak_torque": both(motor("peak_torque")),
-        "motor_continuous_torque": both(motor("continuous_torque")),
-        "gear_peak_torque": both(S["gear_peak_torque"][None, :]),
-        "gear_continuous_torque": both(S["gear_continuous_torque"][None, :]),
-        "breakaway_torque": both(breakaway),
-        "motor_max_speed": both(motor("max_speed")),
-        "torque_constant": both(motor("torque_constant")),
-        "resistance": both(motor("resistance")),
-        "bus_voltage": both(motor("bus_voltage")),
-        "thermal_resistance": both(motor("thermal_resistance")),
-        "thermal_time_constant": both(motor("thermal_time_constant")),
-        "winding_temperature_max": both(motor("winding_temperature_max")),
-        "diameter": both(np.maximum(motor("diameter"), S["diameter"][None, :])),
-        "length": both(motor("length") + S["length"][None, :]),
-        "cost": both(cost),
-        "breakaway_motor_side": both(motor("cogging_torque") + S["breakaway"][None, :]),
-        **{name: stack_only(name) for name in _STACK_ONLY},
+        **{name: both(motor(attr, source)) for name, (source, attr) in MOTOR_FIELDS.items()},
+        **{name: stack_only(name) for name in STACK_FIELDS},
     }
-    missing = {f.name for f in fields(DesignArrays)} - set(rows)
-    if missing:  # a field added to DesignArrays: built per option until it is added here
-        acts = [Actuator(m, st, d) for m, d in units for st in stacks]
-        for name in sorted(missing):
-            rows[name] = np.array([actuator_row(a)[name] for a in acts])
+    rows["self_locking"] = rows["self_locking"].astype(bool)
+    combined = {
+        "mass": mass,
+        "rotor_inertia": motor("rotor_inertia") + S["inertia"][None, :],
+        "breakaway_torque": breakaway,
+        "breakaway_motor_side": motor("cogging_torque") + S["breakaway"][None, :],
+        "diameter": np.maximum(motor("diameter"), S["diameter"][None, :]),
+        "length": motor("length") + S["length"][None, :],
+        "cost": cost,
+    }
+    if combined.keys() != COMBINED_FIELDS.keys():  # a new combined field needs its rule here
+        raise KeyError(f"option_rows composes {sorted(combined)}, not {sorted(COMBINED_FIELDS)}")
+    rows |= {name: both(value) for name, value in combined.items()}
     return rows
 
 

@@ -171,3 +171,28 @@ def format_number(value, digits: int = 4, *, minus: str = "-") -> str:
     if math.isinf(v):
         return "∞" if v > 0 else f"{minus}∞"
     return f"{v:.{digits}g}".replace("-", minus)
+
+
+#: lives past this many hours are shown as "> 10⁶ h" (over a century of running)
+HOURS_SHOWN_MAX = 1e6
+
+
+def format_hours(hours, *, minus: str = "-") -> str:
+    """A life in hours for people to read: four significant digits (as every number shown) with
+    thousands separated ("32,380 h", "850 h", "0.42 h"); lives beyond :data:`HOURS_SHOWN_MAX`
+    (∞ included: an unloaded gear) are "> 10⁶ h"; None and NaN are "—"."""
+    if hours is None:
+        return "—"
+    if isinstance(hours, str):
+        hours = {"inf": math.inf, "-inf": -math.inf}.get(hours, hours)
+        if isinstance(hours, str):
+            return hours
+    v = float(hours)
+    if math.isnan(v):
+        return "—"
+    if v > HOURS_SHOWN_MAX:
+        return "> 10⁶ h"
+    if v < 0:
+        return f"{minus}{format_hours(-v)}"
+    v = float(f"{v:.4g}")  # four significant digits, then thousands separated
+    return f"{v:,.0f} h" if v >= 1000.0 else f"{v:g} h"

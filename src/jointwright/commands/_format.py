@@ -10,7 +10,7 @@ import sys
 from rich.console import Console
 from rich.table import Table
 
-from ..units import format_number
+from ..units import format_hours, format_number
 
 _console = None
 
@@ -37,7 +37,10 @@ def console() -> Console:
 
 
 def num(value, unit: str = "", digits: int = 4) -> str:
-    """A number with its unit; infinities written out (a self-locking capacity is ∞)."""
+    """A number with its unit; infinities written out (a self-locking capacity is ∞); hours
+    (gear lives) readable, "32,400 h" (units.format_hours)."""
+    if unit == "h":
+        return format_hours(value)
     text = format_number(value, digits)
     return text if text == "—" else f"{text} {unit}".strip()
 

@@ -11,6 +11,7 @@ from ..assessment import assess
 from ..design import load_design
 from ..dutycase import DUTY_QUANTITIES
 from ..project import load_project
+from ..report.wording import pose_text, region_groups, torque_rows, wrench_text
 from ._format import console, emit_json, num, pct, table
 from ._progress import status_line
 
@@ -88,7 +89,9 @@ def _scaled(value, scale: float):
     )
 
 
-def print_assessment(a) -> None:
+def print_assessment(a, project=None) -> None:
+    """The assessment's tables; with ``project``, each payload and stance case also says where
+    its force acts and the moment with it."""
     con = console()
     verdict = (
         "[green]meets every requirement[/green]" if a.feasible else "[red]misses requirements[/red]"
@@ -142,6 +145,12 @@ def print_assessment(a) -> None:
     )
     if any(j.drive is not None for j in a.joints):
         con.print(_drives_table(a))
+    cases = {} if project is None else {c.name: c for c in project.cases}
+    revolute = (
+        {}
+        if project is None
+        else dict(zip(project.robot.joint_names, project.robot.revolute, strict=True))
+    )
     for c in a.cases:
         rows = []
         for key, label, unit in SHOWN.get(c.kind, []):
@@ -151,6 +160,9 @@ def print_assessment(a) -> None:
                     value = _scaled(value, 100.0)
                 rows.append([label, num(value, unit)])
         extra = []
+        wrench = wrench_text(cases.get(c.name), minus="-")
+        if wrench:
+            rows.insert(0, ["where the force acts, the moment with it", wrench])
         if c.kind in ("payload", "stance") and c.metrics.get("payload") not in (None, "inf"):
             carried = c.metrics.get("payload_carried")
             rows.append(
@@ -161,7 +173,10 @@ def print_assessment(a) -> None:
                     else num(carried, "kg"),
                 ]
             )
-        if c.kind == "torque":
+        torques = []
+        if c.kind == "torque" and c.name in cases:
+            torques = torque_rows(cases[c.name], c.metrics, revolute, minus="-")
+        elif c.kind == "torque":
             rows += [
                 [f"achieved ÷ required at {k.split(':', 1)[1]}", num(v, "")]
                 for k, v in c.metrics.items()
@@ -206,6 +221,18 @@ def print_assessment(a) -> None:
                 "see the directional IMF"
             )
         con.print(table(f"Case {c.name} ({c.kind})", ["metric", "value"], rows))
+        if torques:
+            con.print(
+                table(
+                    f"Case {c.name}: required and available torque per joint",
+                    ["joint", "required", "available", "available ÷ required", "mode"],
+                    torques,
+                    caption="available: the joint's torque capacity on the side of the required "
+                    "torque in its power-flow mode (motoring η_f·N·τ_peak, back-driven "
+                    "N·τ_peak/η_b, holding N·τ_peak/η_b both ways, ∞ when self-locking), "
+                    "capped by the gear's peak rating",
+                )
+            )
         if c.kind == "duty":
             for part, cols in enumerate(_column_groups(drows, joints, con.width)):
                 title = f"Case {c.name}: per joint (steady periodic cycle)" + (
@@ -251,6 +278,7 @@ def print_assessment(a) -> None:
             ]
             for c in a.checks
         ]
+    rows = _grouped(rows, [c.subject for c in a.checks], a.regions, project)
     con.print(
         table(
             "Requirements",
@@ -276,14 +304,14 @@ def print_assessment(a) -> None:
         con.print(
             table(
                 "Regions of poses: the worst pose decides",
-                ["region case", "poses", "worst pose", "its margin", "joint positions"],
+                ["region case", "poses", "worst pose", "its margin", "joint positions (° or m)"],
                 [
                     [
                         name,
                         str(r["poses"]),
                         r["case"],
                         pct(r["margin"]),
-                        ", ".join(f"{j} {v:.4g}" for j, v in r["pose"].items()),
+                        pose_text(r["pose"], revolute, minus="-"),
                     ]
                     for name, r in a.regions.items()
                 ],
@@ -312,7 +340,27 @@ def command(project: Path, design_file: Path, as_json: bool):
     if as_json:
         emit_json(a.to_dict())
     else:
-        print_assessment(a)
+        print_assessment(a, p)
+
+
+def _grouped(rows: list[list[str]], subjects: list[str], regions: dict, project) -> list:
+    """Requirement rows with the poses of each region case together, under a row naming the
+    region, its poses and its worst pose (report.wording.region_groups)."""
+    if not regions or project is None:
+        return rows
+    index: dict[str, list[int]] = {}
+    for k, s in enumerate(subjects):
+        index.setdefault(s, []).append(k)
+    out = []
+    for region, names in region_groups(list(dict.fromkeys(subjects)), project):
+        picked = [rows[k] for n in names for k in index[n]]
+        if region:
+            info = regions.get(region, {})
+            head = f"region of {info.get('poses', len(names))} poses, worst {info.get('case')}"
+            out.append([f"[bold]{region}[/bold]", head] + [""] * (len(rows[0]) - 2))
+            picked = [["  " + r[0]] + r[1:] for r in picked]
+        out += picked
+    return out
 
 
 def _band_text(j) -> str:

@@ -7,7 +7,9 @@ from pathlib import Path
 
 import click
 
+from ..cases import STANDARD_GRAVITY
 from ..project import load_project
+from ..report.wording import wrench_text
 from ._format import console, emit_json, num, table
 from ._progress import status_line
 
@@ -84,6 +86,10 @@ def project_summary(p, evaluator=None) -> dict:
                     if c.kind in ("payload", "stance")
                     else None
                 ),
+                # where the force acts (from the frame's origin, m) and the moment with it (N·m),
+                # world-aligned axes
+                "offset": list(c.offset) if c.kind in ("payload", "stance") else None,
+                "moment": list(c.moment) if c.kind in ("payload", "stance") else None,
             }
             for c in p.cases
         ],
@@ -229,7 +235,7 @@ def command(project: Path, as_json: bool):
                     else "(" + ", ".join(f"{v:.3g}" for v in x["direction"]) + ")",
                     x["motion"] or "—",
                     "; ".join(
-                        f"{k.replace('_', ' ')} {num(v, units.get(k, ''))}"
+                        f"{k.replace('_', ' ')} {num(v, units.get(k, ''))}{_carries(x, k, v)}"
                         for k, v in x["limits"].items()
                     )
                     or "—",
@@ -251,6 +257,14 @@ def command(project: Path, as_json: bool):
                 f"{x['payload_growth']['payload_share']:g}·m_p·g"
                 for x in grows
             )
+        )
+    wrenches = [
+        (c.name, text) for c in p.cases[:SHOWN_CASES] if (text := wrench_text(c, minus="-"))
+    ]
+    if wrenches:
+        con.print(
+            "where the force acts and the moment with it: "
+            + "; ".join(f"{name} {text}" for name, text in wrenches)
         )
     req = s["requirements"]
     line = (
@@ -284,6 +298,16 @@ def command(project: Path, as_json: bool):
             "smallest actuator that meets its own limits; add a case that loads it (a payload, "
             "stance or duty case) or a joint requirement"
         )
+
+
+def _carries(case: dict, key: str, force: float) -> str:
+    """ " (carries 3 kg)" after a payload requirement: the payload mass the required force
+    stands for, (F − fixed_load)/(payload_share·g_n), as the payload objective reads it."""
+    growth = case.get("payload_growth")
+    if key != "payload_min" or not growth or growth["payload_share"] <= 0:
+        return ""
+    mass = (force - growth["fixed_load"]) / (growth["payload_share"] * STANDARD_GRAVITY)
+    return f" (carries {num(mass, 'kg')})" if mass >= 0 else ""
 
 
 def _joint_row(name: str, x: dict) -> list[str]:

@@ -134,7 +134,8 @@ def print_frontier(f) -> None:
     region = unexplored_text(f)
     if region:
         con.print(f"[yellow]{region}[/yellow]")
-    rows = []
+    rows: list[list[str]] = []
+    designs: list[list[str]] = []
     costs = any(p.design.cost > 0 for p in f.points)  # the catalog gives costs
     shock = any(p.shock_use is not None for p in f.points)  # an impact case states a speed
     for i, p in enumerate(f.points):
@@ -150,15 +151,17 @@ def print_frontier(f) -> None:
             + ([num(p.design.cost)] if costs else [])
             + ([num(100.0 * p.shock_use, "%")] if shock and p.shock_use is not None else [])
             + (["—"] if shock and p.shock_use is None else [])
-            + [
-                "; ".join(f"{j}: {a} → {b}" for j, a, b in changed)
-                or ("—" if i else "first point"),
-                "; ".join(
-                    f"{j}: {a.label()}"
-                    for j, a in zip(p.design.joints, p.design.actuators, strict=True)
-                ),
-            ]
+            + [", ".join(j for j, _a, _b in changed) or ("—" if i else "first point")]
         )
+        # the designs go into a second table, one joint a row, so the first fits 100 columns:
+        # the first point in full, then each joint a point changes
+        if i == 0:
+            designs += [
+                ["1", j, a.label(), "—"]
+                for j, a in zip(p.design.joints, p.design.actuators, strict=True)
+            ]
+        else:
+            designs += [[str(i + 1), j, b, a] for j, a, b in changed]
     if rows:
         con.print(plot_text(f))
     caption = (
@@ -184,11 +187,21 @@ def print_frontier(f) -> None:
             ["#", "payload mass", f.measure, "mass"]
             + (["cost"] if costs else [])
             + (["gear shock"] if shock else [])
-            + ["joints changed", "design"],
+            + ["joints changed"],
             rows,
             caption=caption,
         )
     )
+    if designs:
+        con.print(
+            table(
+                "Frontier designs: the first point in full, then what each point changes",
+                ["#", "joint", "actuator", "replaces"],
+                designs,
+                caption="actuator: motor | stage type/frame ratio; replaces: the joint's actuator "
+                "at the point before",
+            )
+        )
     con.print(
         "[yellow]caution:[/yellow] back-drivability figures are concept-stage estimates; contact "
         "safety must be assessed under the applicable collaborative-robot and machinery safety "

@@ -7,6 +7,7 @@ from typing import TYPE_CHECKING
 if TYPE_CHECKING:
     from rich.status import Status
 
+import math
 import time
 from pathlib import Path
 
@@ -15,10 +16,20 @@ import click
 from ..design import design_to_toml
 from ..errors import InputError
 from ..project import load_project
+from ..report.wording import objective_change, unknown_gap, wrench_text
 from ._format import console, emit_json, num, pct, requirement_num, table
 from ._output import check_target, project_inputs, write_text
 
 UNITS = {"payload": "kg", "mass": "kg", "imf": "", "cost": "", "margin": ""}
+
+#: how the signed objective change of a runner-up reads, per objective
+CHANGE_HINT = {
+    "payload": "negative = less payload carried",
+    "mass": "positive = heavier",
+    "cost": "positive = costlier",
+    "imf": "negative = a lower worst IMF",
+    "margin": "negative = a smaller margin",
+}
 
 
 class Progress:
@@ -72,8 +83,11 @@ def payload_rows(project, assessment) -> list[list[str]]:
                 num(case.fixed_load, "N"),
                 f"{share:g}",
                 "not limiting (share 0)" if share == 0 else num(carried, "kg"),
+                wrench_text(case, minus="-") or "at the frame, no moment",
             ]
         )
+    if not any(project.case(r[0]).has_wrench for r in rows):
+        rows = [r[:-1] for r in rows]  # every force acts at its frame: no column for it
     return rows
 
 
@@ -83,15 +97,21 @@ def print_result(r, project=None) -> None:
     con = console()
     unit = UNITS[r.objective_kind]
     con.print(f"[bold]size[/bold] ({r.backend}, objective {r.objective_kind}): {r.message}")
+    # an infinite bound (no bound known when the search stopped) leaves the gap unknown: say why
+    known = math.isfinite(r.bound) and math.isfinite(r.gap)
+    bound = f"bound {num(r.bound, unit)}; gap {pct(r.gap)}" if known else "bound —; gap —"
     con.print(
-        f"status {r.status}; objective {num(r.objective, unit)}; bound {num(r.bound, unit)}; "
-        f"gap {pct(r.gap) if r.gap == r.gap else '—'}; {r.seconds:.2f} s; {r.native_status}"
+        f"status {r.status}; objective {num(r.objective, unit)}; {bound}; "
+        f"{r.seconds:.2f} s; {r.native_status}"
     )
+    if r.objective is not None and not known:
+        con.print(unknown_gap(project, r.objective_kind))
     con.print(
         "options per joint after its own filters: "
         + ", ".join(f"{j} {k}" for j, k in r.options.items())
     )
     if r.objective_kind == "payload" and r.assessment is not None and project is not None:
+        rows = payload_rows(project, r.assessment)
         con.print(
             table(
                 "Payload mass carried per case (the objective is the smallest)",
@@ -101,12 +121,13 @@ def print_result(r, project=None) -> None:
                     "fixed load",
                     "share of payload weight",
                     "payload carried",
-                ],
-                payload_rows(project, r.assessment),
+                    "force acts",
+                ][: len(rows[0]) if rows else 5],
+                rows,
             )
         )
     if r.assessment is not None:
-        print_assessment(r.assessment)
+        print_assessment(r.assessment, project)
     if r.binding:
         con.print("[bold]binding requirements[/bold] (smallest margins): " + "; ".join(r.binding))
     if r.alternatives:
@@ -116,18 +137,26 @@ def print_result(r, project=None) -> None:
                 a.change.replace("other ", ""),
                 a.actuator.replace(" | ", " + "),
                 a.ruled_out_by
-                or ("—" if a.loss is None else f"{num(a.objective, unit)} (−{num(a.loss, unit)})"),
-                f"{a.mass_change:+.3f} kg",
+                or (
+                    "—"
+                    if a.loss is None
+                    else f"{num(a.objective, unit)} "
+                    f"({objective_change(r.objective_kind, a.loss, unit, minus='-')})"
+                ),
+                "same" if abs(a.mass_change) < 5e-4 else f"{a.mass_change:+.3f} kg",
             ]
             for a in r.alternatives
         ]
         con.print(
             table(
                 "Runner-ups per joint (rest of the design kept)",
-                ["joint", "other", "actuator", "objective (loss) or ruled out by", "Δ mass"],
+                ["joint", "other", "actuator", "objective (vs chosen) or ruled out by", "Δ mass"],
                 rows,
-                caption="loss 0: the joint does not limit the objective; the choice was made by "
-                "the tie-break (least mass, then least back-driven reflected inertia)",
+                caption="vs chosen: the runner-up's objective minus the chosen design's (for "
+                f"{r.objective_kind}: {CHANGE_HINT.get(r.objective_kind, 'signed')}); tie: the "
+                "joint does not limit the objective and the choice was made by the tie-break "
+                "(least mass, then least back-driven reflected inertia); Δ mass: the runner-up's "
+                "total actuator mass minus the chosen one's",
             )
         )
     if r.diagnosis:

@@ -9,9 +9,21 @@ from ..assessment import assess
 from ..design import arrays_from_designs
 from ..errors import InputError
 from ..evaluate import Evaluator
-from . import hooks, plots, sections, summary
+from . import (
+    case_tables,
+    duty_view,
+    frontier_map,
+    job,
+    joints,
+    outcome,
+    plots,
+    sizing_result,
+    study_results,
+    summary,
+)
 from .markup import PERCENT_REQUIREMENTS, page
 from .sweeps import efficiency_sensitivity
+from .wording import unknown_gap
 
 REPORT_FILE = "report.html"
 FIGURE_DIR = "figures"
@@ -59,11 +71,11 @@ def build_report(
     arrays = arrays_from_designs([design])
     a = assess(project, design, evaluator).to_dict()
     parts = [
-        sections.job_section(project),
-        sections.outcome_section(a, project),
-        sections.requirements_section(a),
-        sections.binding_section(a),
-        sections.joints_section(a),
+        job.job_section(project),
+        outcome.outcome_section(a, project),
+        outcome.requirements_section(a, project),
+        outcome.binding_section(a),
+        joints.joints_section(a),
     ]
     if sizing is not None:
         units = {
@@ -72,11 +84,12 @@ def build_report(
             else c["unit"]
             for c in a["checks"]
         }
-        parts.append(hooks.runner_ups_section(sizing, units=units))
+        note = unknown_gap(project, str(sizing.get("objective_kind", "")))
+        parts.append(sizing_result.runner_ups_section(sizing, units=units, gap_note=note))
     if frontier is not None:
         if "measure" in frontier:  # written by `jointwright frontier --out`
-            frontier = hooks.frontier_from_sweep(frontier, a)
-        parts.append(hooks.frontier_section(frontier, fig_dir))
+            frontier = frontier_map.frontier_from_sweep(frontier, a)
+        parts.append(frontier_map.frontier_section(frontier, fig_dir))
     sens = efficiency_sensitivity(project, evaluator, arrays)
     parts += [
         plots.polytope_section(evaluator, arrays, a, fig_dir),
@@ -88,10 +101,10 @@ def build_report(
     if region is not None:
         parts.append(region)
     duties = plots.duty_data(evaluator, arrays, a) + list(duty or [])
-    parts += [hooks.duty_section(d, fig_dir) for d in duties]
+    parts += [duty_view.duty_section(d, fig_dir) for d in duties]
     if study is not None:
-        parts.append(hooks.study_section(study, fig_dir))
-    parts += [sections.cases_section(a), sections.cautions_section(a, project)]
+        parts.append(study_results.study_section(study, fig_dir))
+    parts += [case_tables.cases_section(a, project), job.cautions_section(a, project)]
     top = summary.summary_section(
         a, fig_dir, frontier=frontier, sensitivity=summary.payload_sensitivity(sens)
     )

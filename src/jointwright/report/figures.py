@@ -294,7 +294,13 @@ def points_figure(
     ax.plot(pts[order, 0], pts[order, 1], "o-", color="#3b6ea5", lw=1.4, ms=4.5, label=label)
     if chosen is not None:
         ax.plot(*chosen, "o", ms=11, mfc="none", mec="#c0703c", mew=2.0, label="chosen design")
-    _label(ax, x_label, y_label)
+    # labels wrapped to the figure (about 8 characters an inch of height for the y label, 12 of
+    # width for the x label): a long label in a small figure (the summary's) is never clipped
+    _label(
+        ax,
+        textwrap.fill(x_label, max(24, int(12 * width)), break_on_hyphens=False),
+        textwrap.fill(y_label, max(16, int(8 * height)), break_on_hyphens=False),
+    )
     _title(ax, title, width=int(70 * width / WIDTH))
     _legend(fig, [ax], ncols=3 if width >= WIDTH else 2)
     return fig
@@ -320,13 +326,19 @@ def grouped_figure(groups, *, x_label: str, y_label: str, title: str) -> Figure:
     return fig
 
 
+#: a study panel with more lines than this has no legend (one line per combination of the other
+#: parameters: the table beside the figure names them)
+STUDY_LEGEND_MAX = 6
+
+
 def study_figure(panels, *, y_label: str, title: str) -> Figure:
     """One result against each varied parameter, one panel per parameter.
 
     ``panels`` = [(x_label, groups)] with ``groups`` = {label: (xs, ys)}: the cases that share
     every other parameter (and variant). Each group is drawn as markers joined in order of x
     (a group of one case is a lone marker), so a line never joins unrelated cases; groups keep
-    their colour and marker across panels of one figure only by label.
+    their colour and marker across panels of one figure only by label. A panel of more than
+    :data:`STUDY_LEGEND_MAX` lines has no legend.
     """
     fig, axes = _figure(ncols=len(panels), height=3.6)
     markers = ("o", "s", "^", "D", "v", "P", "X", "*")
@@ -347,7 +359,11 @@ def study_figure(panels, *, y_label: str, title: str) -> Figure:
             )
         ax.margins(x=0.08, y=0.12)
         _label(ax, x_label, y_label if ax is axes[0] else "")
-        ax.legend(fontsize=_RC["legend.fontsize"] - 1, frameon=False, loc="best")
+        if len(groups) <= STUDY_LEGEND_MAX:
+            legend = ax.legend(fontsize=_RC["legend.fontsize"] - 1, frameon=False, loc="best")
+            # drawn over the data area: it takes no room from the layout, so a long legend in a
+            # narrow panel can never collapse the panels (constrained layout)
+            legend.set_in_layout(False)
     fig.suptitle(
         textwrap.fill(title, 90), fontsize=_RC["axes.titlesize"], color=INK, x=0.01, ha="left"
     )

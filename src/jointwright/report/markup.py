@@ -12,7 +12,7 @@ import html
 import math
 from dataclasses import dataclass
 
-from ..units import format_number
+from ..units import format_hours, format_number
 
 #: unit spellings of the input files -> as shown
 _UNIT_TEXT = {"kg*m^2": "kg·m²", "kg·m²": "kg·m²", "N*m": "N·m", "-": "", "1": ""}
@@ -35,6 +35,11 @@ def number(value, digits: int = 4) -> str:
 PERCENT_REQUIREMENTS = ("rating_use_max", "shock_use_max", "gear_peak_use_max")
 
 
+def as_float(x) -> float:
+    """A number from the report's dicts: JSON's "inf"/"-inf" strings as infinities, None as NaN."""
+    return float({"inf": math.inf, "-inf": -math.inf}.get(x, x)) if x is not None else math.nan
+
+
 def check_value(c: dict, key: str) -> str:
     """A requirement check's ``achieved`` or ``limit`` with its unit (rating uses in %)."""
     v = c[key]
@@ -45,7 +50,10 @@ def check_value(c: dict, key: str) -> str:
 
 
 def fmt(value, unit: str = "", digits: int = 4) -> str:
-    """A number and its unit, e.g. ``235.5 N``; dimensionless quantities have no suffix."""
+    """A number and its unit, e.g. ``235.5 N``; dimensionless quantities have no suffix; hours
+    (gear lives) readable, "32,400 h" (units.format_hours)."""
+    if unit == "h":
+        return format_hours(value, minus="−")
     text = number(value, digits)
     u = unit_text(unit)
     return f"{text} {u}" if u and text != "—" else text
@@ -75,11 +83,25 @@ class Cell:
         return f"<{tag}{attrs}>{esc(self.text)}</{tag}>"
 
 
-def table(headers: list[str], rows: list[list], *, caption: str = "", cls: str = "") -> str:
-    """A table; cells are strings or :class:`Cell`; numeric-looking columns align right."""
+@dataclass(frozen=True)
+class Group:
+    """A row of a table that heads the rows after it (the poses of one region case)."""
+
+    text: str
+
+
+def table(headers: list[str], rows: list, *, caption: str = "", cls: str = "") -> str:
+    """A table; cells are strings or :class:`Cell`; numeric-looking columns align right; a
+    :class:`Group` in place of a row heads the rows after it across the whole width."""
     head = "".join(f"<th>{esc(h)}</th>" for h in headers)
     body = []
     for row in rows:
+        if isinstance(row, Group):
+            body.append(
+                f'<tr class="group"><th colspan="{len(headers)}" scope="rowgroup">'
+                f"{esc(row.text)}</th></tr>"
+            )
+            continue
         cells = [c if isinstance(c, Cell) else Cell(str(c)) for c in row]
         body.append("<tr>" + "".join(c.render() for c in cells) + "</tr>")
     cap = f"<caption>{esc(caption)}</caption>" if caption else ""
@@ -133,6 +155,7 @@ h2 { font-size: 1.22em; margin: 34px 0 8px; padding-bottom: 3px;
      border-bottom: 1px solid var(--line); }
 h2.appendix { font-size: 1.4em; margin-top: 48px; border-bottom: 3px solid var(--accent); }
 h3 { font-size: 1.04em; margin: 20px 0 6px; }
+h4 { font-size: 0.96em; margin: 12px 0 4px 14px; color: var(--muted); }
 .sub { color: var(--muted); margin: 0; }
 nav ul { columns: 2; margin: 8px 0 0; padding-left: 0; list-style: none; color: var(--muted); }
 nav a { color: var(--accent); text-decoration: none; }
@@ -144,6 +167,8 @@ caption { caption-side: bottom; text-align: left; color: var(--muted); font-size
 th, td { border-bottom: 1px solid var(--line); padding: 4px 9px; text-align: left;
          vertical-align: top; overflow-wrap: break-word; }
 th { background: var(--band); font-weight: 600; }
+tr.group th { background: #e8eef6; font-weight: 600; padding-top: 6px; }
+td.grouped { padding-left: 22px; }
 td.num { text-align: right; white-space: nowrap; font-variant-numeric: tabular-nums; }
 td.ok { color: var(--ok); font-weight: 600; }
 td.bad { color: var(--bad); font-weight: 600; }

@@ -13,8 +13,9 @@ import numpy as np
 
 from . import figures
 from .geometry import ellipse_sections, plane_label, polytope_sections
-from .markup import Cell, Section, figure, fmt, number, paragraph, table
+from .markup import Cell, Section, figure, fmt, number, paragraph, pct, table
 from .sweeps import efficiency_sensitivity, impact_metric, ratio_sweep
+from .wording import pose_text
 
 MODE_WORDS = {
     "frictionless": "frictionless",
@@ -218,7 +219,7 @@ _DUTY_SUMMARY = ("rms_torque", "peak_torque", "peak_temperature", "backdriven_sh
 
 
 def duty_data(evaluator, arrays, a: dict) -> list[dict]:
-    """The duty-cycle hook's dicts (see :func:`.hooks.duty_section`) for the project's duty cases.
+    """The duty section's dicts (:func:`.duty_view.duty_section`) for the project's duty cases.
 
     Motor torque per sample follows the power-flow law of :func:`metrics.duty.motor_torque` on
     the joint torques of the case's inverse dynamics with this design's actuator masses, with the
@@ -304,6 +305,7 @@ def region_section(project, a: dict, fig_dir: Path) -> Section | None:
     if not regions:
         return None
     parts = [paragraph(REGION_GUIDE)]
+    revolute = dict(zip(project.robot.joint_names, project.robot.revolute, strict=True))
     rows = []
     for k, (name, info) in enumerate(regions.items()):
         members = [c for c in project.cases if c.region == name]
@@ -319,8 +321,8 @@ def region_section(project, a: dict, fig_dir: Path) -> Section | None:
                 name,
                 str(info["poses"]),
                 worst.name,
-                Cell(fmt(100.0 * float(info["margin"]), "%"), "num"),
-                ", ".join(f"{j} {number(v, 4)}" for j, v in worst.pose.items()),
+                Cell(pct(info["margin"]), "num"),
+                pose_text(worst.pose, revolute),
             ]
         )
         if worst.frame is None or not np.all(np.isfinite(margins)):
@@ -348,7 +350,7 @@ def region_section(project, a: dict, fig_dir: Path) -> Section | None:
     parts.insert(
         1,
         table(
-            ["region case", "poses", "worst pose", "its margin", "joint positions (rad or m)"],
+            ["region case", "poses", "worst pose", "its margin", "joint positions (° or m)"],
             rows,
         ),
     )

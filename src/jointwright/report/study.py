@@ -1,4 +1,5 @@
-"""The study section's plain dict from a study store (SQLite), for :func:`.hooks.study_section`.
+"""The study section's plain dict from a study store (SQLite), for
+:func:`.study_results.study_section`.
 
 Reads the store through :mod:`jointwright.study.store`: the varied parameters (with their units:
 the unit written in the study file, or the one the parameter's name implies), a few headline

@@ -1,0 +1,69 @@
+"""A duty cycle in the report: motor torque and speed over the cycle against the ratings."""
+
+from __future__ import annotations
+
+import re
+from pathlib import Path
+
+from . import figures
+from .jsonfields import need, numbers
+from .markup import (
+    Cell,
+    Section,
+    figure,
+    fmt,
+    table,
+)
+
+
+def duty_section(data: dict, fig_dir: Path, file: str = "<duty>") -> Section:
+    """Motor torque over a duty cycle per joint, against ratings.
+
+    ``data``: ``{"case": str, "time": [s], "motor_torque": {joint: [N·m]}, "limits": {label: N·m},
+    "summary": [{"joint", "rms_torque", "peak_torque", "peak_temperature", "backdriven_share"}]}``.
+    """
+    case = need(data, "case", str, file, "")
+    time = numbers(data, "time", file, "")
+    torque = need(data, "motor_torque", dict, file, "")
+    series = {j: numbers(torque, j, file, "motor_torque.", len(time)) for j in torque}
+    limits = {k: need(data["limits"], k, float, file, "limits.") for k in data.get("limits", {})}
+    fig = figures.series_figure(
+        time,
+        series,
+        limits,
+        y_label="motor torque (N·m)",
+        title=f"Motor torque over the duty cycle {case}",
+    )
+    name = "duty-" + (re.sub(r"[^A-Za-z0-9_.-]+", "-", case).strip("-.") or "case")
+    png = figures.save(fig, fig_dir, name)
+    rows = []
+    for s in data.get("summary", []):
+        share = s.get("backdriven_share")
+        rows.append(
+            [
+                s.get("joint", ""),
+                Cell(fmt(s.get("rms_torque"), "N·m"), "num"),
+                Cell(fmt(s.get("peak_torque"), "N·m"), "num"),
+                Cell(fmt(s.get("peak_temperature"), "°C"), "num"),
+                Cell(fmt(None if share is None else 100 * share, "%"), "num"),
+            ]
+        )
+    body = figure(
+        png,
+        name,
+        f"duty cycle {case}",
+        "Motor torque per joint over the cycle, by the "
+        "power-flow law sample by sample; red lines are ratings (±).",
+    )
+    if rows:
+        body += table(
+            [
+                "joint",
+                "RMS motor torque",
+                "highest motor torque",
+                "hottest winding",
+                "time back-driven",
+            ],
+            rows,
+        )
+    return Section(name, f"Duty cycle {case}", body)

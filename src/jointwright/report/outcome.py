@@ -1,0 +1,246 @@
+"""What the design achieves: the outcome in words, every requirement against its limit (a region's
+poses grouped under it) and the binding constraints."""
+
+from __future__ import annotations
+
+import math
+
+from ..cases import STANDARD_GRAVITY as G0
+from .markup import (
+    Cell,
+    Group,
+    Section,
+    as_float,
+    check_value,
+    fmt,
+    number,
+    paragraph,
+    pct,
+    table,
+)
+from .wording import region_groups
+
+
+def _check_label(c: dict) -> str:
+    return f"{c['subject']}: {c['requirement'].replace('_', ' ')}"
+
+
+def _limiting_reason(a: dict, case: dict) -> str:
+    """Why the limiting joint of a payload case stops: its motor or its gear rating."""
+    j = next((x for x in a["joints"] if x["joint"] == case["limiting_joint"]), None)
+    if j is None:
+        return ""
+    mode = (case.get("joint_modes") or {}).get(j["joint"])
+    cap = as_float(
+        j["capacity_motoring"] if mode in (None, "motoring") else j["capacity_backdriven"]
+    )
+    gear = as_float(j["gear_peak_torque"])
+    who = "it is" if mode is None else f"it is {mode} and"
+    if math.isfinite(gear) and math.isclose(cap, gear, rel_tol=1e-9):
+        return (
+            f"{who} at its gear torque limit (peak) ({fmt(gear, 'N·m')}): a larger "
+            "gear frame raises the payload, a larger motor or ratio does not"
+        )
+    what = "drive torque" if mode is None else "motor's peak torque through the gear"
+    return (
+        f"{who} at its {what} ({fmt(cap, 'N·m')}): a larger motor or a higher ratio raises "
+        "the payload"
+    )
+
+
+def _impact_words(case: dict) -> str:
+    """One sentence on what an impact at the case's contact feels (back-driven transmissions)."""
+    m = case["metrics"]
+    text = f"An impact in case {case['name']} meets"
+    if m.get("imf") is not None:
+        text += (
+            f" an impact mitigation factor of {number(m['imf'])} (back-driven; 0 is no "
+            "better than locked joints)"
+        )
+        if m.get("contact_rank", 3) < 3 and m.get("imf_restricted") is not None:
+            text += f", {number(m['imf_restricted'])} over the directions the limb can move"
+        text += " and"
+    text += f" an effective mass of {fmt(m.get('effective_mass'), 'kg')} along its direction."
+    return text + _shock_words(m)
+
+
+def _shock_words(m: dict) -> str:
+    """The landing or collision shock on the gears, when the case states an impact speed."""
+    use = m.get("shock_use")
+    if use is None and "shock_limiting_joint" not in m:
+        return ""
+    who = m.get("shock_limiting_joint") or "—"
+    torque = m.get(f"shock_torque:{who}")
+    use = 100.0 * use if isinstance(use, (int, float)) and not isinstance(use, bool) else use
+    return (
+        f" At its impact speed the gear teeth of {who} take the largest share of their momentary "
+        f"(emergency-stop) rating: {fmt(torque, 'N·m')}, {fmt(use, '%')} (docs/metrics.md, gear "
+        "shock; a rigid contact and an undamped gear spring, an estimate to verify by test)."
+    )
+
+
+def _payload_words(a: dict, project) -> list[str]:
+    payload = [
+        c
+        for c in a["cases"]
+        if c["kind"] in ("payload", "stance") and c["metrics"].get("payload") is not None
+    ]
+    if not payload:
+        return []
+    margins = {
+        c["subject"]: as_float(c["margin"])
+        for c in a["checks"]
+        if c["requirement"] == "payload_min"
+    }
+    if any(c["name"] in margins for c in payload):
+        # the tightest against its own requirement, which need not be the smallest force
+        worst = min((c for c in payload if c["name"] in margins), key=lambda c: margins[c["name"]])
+        lead = f"Payload is tightest against its requirement in case {worst['name']}"
+    else:
+        worst = min(payload, key=lambda c: as_float(c["metrics"]["payload"]))
+        lead = f"The smallest payload is in case {worst['name']}"
+    value = as_float(worst["metrics"]["payload"])
+    kg = ""
+    if project.case(worst["name"]).weight_equivalent and math.isfinite(value):
+        kg = f" (the weight of {fmt(value / G0, 'kg')} at standard gravity)"
+    text = f"{lead}: {fmt(value, 'N')}{kg}"
+    if worst["limiting_joint"]:
+        text += f", limited by joint {worst['limiting_joint']}: {_limiting_reason(a, worst)}"
+    return [text + "."]
+
+
+def outcome_section(a: dict, project) -> Section:
+    """The outcome in plain words: missed requirements, what limits payload, self-locking joints."""
+    checks = a["checks"]
+    missed = [c for c in checks if not c["ok"]]
+    name = a["design"]
+    if not missed:
+        words = [f"The design “{name}” meets all {len(checks)} requirements."]
+    else:
+        items = "; ".join(
+            f"{_check_label(c)} {check_value(c, 'achieved')} against "
+            f"{check_value(c, 'limit')} ({pct(c['margin'])})"
+            for c in missed
+        )
+        words = [
+            f"The design “{name}” misses {len(missed)} of {len(checks)} requirements: {items}."
+        ]
+    words += _payload_words(a, project)
+    words += [_impact_words(c) for c in a["cases"] if c["kind"] == "impact"]
+    locking = [j for j in a["joints"] if j["self_locking"]]
+    if locking:
+        names = ", ".join(
+            f"{j['joint']} (backward efficiency {number(j['eta_backward'], 3)})" for j in locking
+        )
+        words.append(
+            f"Self-locking joints: {names}. They hold their load unpowered and cannot be "
+            "pushed back by a person or an obstacle."
+        )
+    else:
+        words.append("No joint is self-locking: every transmission can be back-driven by its load.")
+    cost = (
+        f" and cost {fmt(a['total_cost'])} (catalog currency units)"
+        if as_float(a.get("total_cost", 0.0)) > 0
+        else ""
+    )
+    words.append(f"Actuator mass {fmt(a['total_mass'], 'kg')}{cost} in total.")
+    cls = "verdict" if not missed else "verdict bad"
+    body = f'<div class="{cls}">' + "".join(paragraph(w) for w in words) + "</div>"
+    return Section("outcome", "Outcome", body)
+
+
+def _grouped_rows(rows: list, subjects: list[str], a: dict, project) -> list:
+    """``rows`` (one per subject, in order) with the poses of each region case together under a
+    :class:`Group` row naming the region, its poses and its worst pose; other rows unchanged."""
+    regions = a.get("regions") or {}
+    if not regions or project is None:
+        return rows
+    index: dict[str, list[int]] = {}
+    for k, s in enumerate(subjects):
+        index.setdefault(s, []).append(k)
+    out: list = []
+    for region, names in region_groups(list(dict.fromkeys(subjects)), project):
+        picked = [rows[k] for n in names for k in index[n]]
+        if not region:
+            out += picked
+            continue
+        info = regions.get(region, {})
+        out.append(
+            Group(
+                f"{region}: a region of {info.get('poses', len(names))} poses; the worst pose "
+                f"decides ({info.get('case', '—')}, margin {pct(info.get('margin'))})"
+            )
+        )
+        for row in picked:
+            first = row[0]
+            text = first.text if isinstance(first, Cell) else str(first)
+            out.append([Cell(text, "grouped", first.data if isinstance(first, Cell) else ())])
+            out[-1] += row[1:]
+    return out
+
+
+def requirements_section(a: dict, project=None) -> Section:
+    """Every requirement, achieved value, limit and relative margin; with ``project``, the poses
+    of a region case grouped under their region."""
+    rows = []
+    for c in a["checks"]:
+        key = (("check", f"{c['subject']}:{c['requirement']}"),)
+        rows.append(
+            [
+                c["subject"],
+                c["requirement"].replace("_", " "),
+                Cell(check_value(c, "achieved"), "num", key + (("field", "achieved"),)),
+                Cell(check_value(c, "limit"), "num", key + (("field", "limit"),)),
+                Cell(pct(c["margin"]), "num", key + (("field", "margin"),)),
+                Cell("met" if c["ok"] else "MISSED", "ok" if c["ok"] else "bad"),
+            ]
+        )
+    head = ["subject", "requirement", "achieved", "limit", "margin", "status"]
+    caption = (
+        "Margin = (achieved − limit)/|limit| for a minimum, "
+        "(limit − achieved)/|limit| for a maximum; a requirement is met when its "
+        "margin is ≥ 0. IMF values are dimensionless."
+    )
+    if any(c.get("margin_worst") is not None for c in a["checks"]):
+        # efficiency bands (docs/metrics.md): each margin at nominal and at the worst end
+        for r, c in zip(rows, a["checks"], strict=True):
+            r[5:5] = [
+                Cell(check_value(c, "achieved_nominal"), "num"),
+                Cell(pct(c["margin_nominal"]), "num"),
+                Cell(check_value(c, "achieved_worst"), "num"),
+                Cell(pct(c["margin_worst"]), "num"),
+            ]
+        head[5:5] = ["nominal η", "margin", "worst end of the band", "margin"]
+        judged = (
+            "the worst end (the project requires the whole band)"
+            if str(a.get("efficiency", "")).startswith("worst")
+            else "the nominal efficiencies (the project does not require the band)"
+        )
+        caption += (
+            " The stages' efficiencies have bands: each requirement is shown at the nominal "
+            "efficiencies and at the end of the band that is worst for it (docs/metrics.md, "
+            f"Efficiency bands); achieved, margin and status are at {judged}."
+        )
+    rows = _grouped_rows(rows, [c["subject"] for c in a["checks"]], a, project)
+    body = table(head, rows, caption=caption)
+    return Section("requirements", "Requirements versus achieved", body)
+
+
+def binding_section(a: dict, count: int = 3) -> Section:
+    """The requirements with the smallest margins and the joint that sets each."""
+    order = sorted(a["checks"], key=lambda c: as_float(c["margin"]))[:count]
+    cases = {c["name"]: c for c in a["cases"]}
+    joints = [j["joint"] for j in a["joints"]]
+    rows = []
+    for c in order:
+        case = cases.get(c["subject"])
+        if case and case.get("limiting_joint"):
+            by = case["limiting_joint"]
+        else:
+            by = c["subject"] if c["subject"] in joints else "—"
+        rows.append([_check_label(c), Cell(pct(c["margin"]), "num"), by])
+    body = paragraph(
+        "These requirements are closest to their limits (or furthest past them): "
+        "any change of the design or the assumptions moves them first."
+    ) + table(["requirement", "margin", "set by joint"], rows)
+    return Section("binding", "Binding constraints", body)

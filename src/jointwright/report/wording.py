@@ -1,0 +1,148 @@
+"""Words and numbers the terminal and the report share: a runner-up's objective change, why a
+gap is not known, where a case's force acts, a torque case's required and available torques.
+
+Each takes ``minus``: "−" in the report, "-" in the terminal (as every number there).
+"""
+
+from __future__ import annotations
+
+import math
+
+from ..units import format_number
+from .markup import unit_text
+
+#: per objective: does it maximize, and the words for a runner-up worse or better than the choice
+_CHANGE_WORDS = {
+    "payload": (True, "payload", "payload"),
+    "imf": (True, "IMF", "IMF"),
+    "margin": (True, "margin", "margin"),
+    "mass": (False, "heavier", "lighter"),
+    "cost": (False, "costlier", "cheaper"),
+}
+
+
+def objective_change(kind: str, loss, unit: str = "", *, minus: str = "−") -> str:
+    """A runner-up's objective against the chosen design's, signed as the objective reads:
+    ``loss`` ≥ 0 is how much worse it is (in the maximized sense, solve.result.Alternative).
+    Payload (maximized): "−0.12 kg payload"; mass (minimized): "+0.12 kg heavier"; equal to
+    within 1e-9 (relative) or at the shown digits: "tie"; None: "—"."""
+    if loss is None:
+        return "—"
+    loss = float({"inf": math.inf, "-inf": -math.inf}.get(loss, loss))
+    if math.isnan(loss):
+        return "—"
+    maximized, worse, better = _CHANGE_WORDS.get(kind, (True, kind, kind))
+    size = format_number(abs(loss), 3)
+    if math.isfinite(loss) and (abs(loss) <= 1e-9 or float(size) == 0.0):
+        return "tie"
+    change = -loss if maximized else loss  # the runner-up's objective minus the choice's
+    sign = "+" if change > 0 else minus
+    word = worse if loss > 0 else better
+    return " ".join(x for x in (f"{sign}{size}", unit_text(unit), word) if x)
+
+
+def vector_text(v, unit: str, *, minus: str = "−") -> str:
+    """A 3-vector with its unit, e.g. "(0.12, 0, 0) m"."""
+    return "(" + ", ".join(format_number(x, 4, minus=minus) for x in v) + f") {unit_text(unit)}"
+
+
+def wrench_text(case, *, minus: str = "−") -> str:
+    """Where a payload or stance case's force acts and the moment with it, in words ("" when
+    the force acts at the frame's origin with no moment): "at (0.12, 0, 0) m from tool;
+    moment (0, 0, 4) N·m (world axes)"."""
+    if not getattr(case, "has_wrench", False):
+        return ""
+    parts = []
+    if any(x != 0.0 for x in case.offset):
+        parts.append(f"at {vector_text(case.offset, 'm', minus=minus)} from {case.frame}")
+    if any(x != 0.0 for x in case.moment):
+        parts.append(f"moment {vector_text(case.moment, 'N·m', minus=minus)}")
+    return "; ".join(parts) + " (world axes)"
+
+
+def unknown_gap(project, kind: str) -> str:
+    """Why a search that stopped early has no finite bound (bound ∞), in words: the relative
+    gap of its best design to the optimum is then not known, never shown as "∞"."""
+    if kind == "margin" and project is not None:
+        from ..problem import margin_cases
+
+        others = [c for c in margin_cases(project) if c.kind not in ("payload", "stance")]
+        if others:
+            named = ", ".join(f"{c.name} ({c.kind})" for c in others)
+            return (
+                "gap not known: the search bounds the margins of payload and stance cases only, "
+                f"and the margin objective also takes {named}, whose margin has no bound before "
+                "a design is scored; the best design found is not proven optimal (a run without "
+                "a time limit searches every option and proves the optimum)"
+            )
+    return (
+        "gap not known: the search had no finite bound on the objective when it stopped; the "
+        "best design found is not proven optimal"
+    )
+
+
+#: a torque case's joint motion -> the joint's power-flow mode while it carries the torque
+TORQUE_MODES = {"along": "motoring", "against": "back-driven", "hold": "holding"}
+
+
+def torque_rows(case, metrics: dict, revolute: dict, *, minus: str = "−") -> list[list[str]]:
+    """Per joint of a torque case: [joint, required, available, achieved ÷ required, mode].
+
+    Required: the case's joint torque (N·m; N for a prismatic joint), signed; available: the
+    joint's capacity on the side of that torque in its power-flow mode, |τ| × the ratio the
+    assessment reports (metrics.loads.torque_ratio); ∞ for a self-locking joint that holds."""
+    out = []
+    motions = dict(case.joint_motions)
+    for joint, tau in case.joint_torques:
+        unit = "N·m" if revolute.get(joint, True) else "N"
+        ratio = metrics.get(f"torque_ratio:{joint}")
+        if isinstance(ratio, str):  # JSON's infinities
+            ratio = {"inf": math.inf, "-inf": -math.inf}.get(ratio, ratio)
+        available = None
+        if isinstance(ratio, (int, float)) and tau != 0:
+            available = abs(tau) * float(ratio)
+
+        def text(v, u=unit):
+            shown = format_number(v, 4, minus=minus)
+            return shown if shown == "—" or not u else f"{shown} {u}"
+
+        out.append(
+            [
+                joint,
+                text(tau),
+                text(available),
+                text(ratio, ""),
+                TORQUE_MODES.get(motions.get(joint, "along"), "motoring"),
+            ]
+        )
+    return out
+
+
+def pose_text(pose: dict, revolute: dict, *, minus: str = "−") -> str:
+    """Joint positions as people read them: a revolute joint in degrees, a prismatic one in m
+    ("shoulder_pitch 51.57°, slide 0.12 m"); ``revolute``: joint -> True for a revolute joint."""
+    out = []
+    for joint, q in pose.items():
+        if revolute.get(joint, True):
+            out.append(f"{joint} {format_number(math.degrees(float(q)), 4, minus=minus)}°")
+        else:
+            out.append(f"{joint} {format_number(float(q), 4, minus=minus)} m")
+    return ", ".join(out)
+
+
+def region_groups(names: list[str], project) -> list:
+    """``names`` (case names, in order) grouped by region: [(region or "", [names])], a region's
+    poses together at the place of its first pose, other cases each on their own."""
+    region = {c.name: c.region for c in project.cases} if project is not None else {}
+    groups: list = []
+    where: dict[str, list] = {}
+    for n in names:
+        r = region.get(n, "")
+        if not r:
+            groups.append(("", [n]))
+        elif r in where:
+            where[r].append(n)
+        else:
+            where[r] = [n]
+            groups.append((r, where[r]))
+    return groups

@@ -1,0 +1,263 @@
+"""How numbers read in the terminal and the report: gear lives in plain hours, runner-ups'
+objective changes signed as their objective reads, and an unknown gap said in words.
+
+Expected texts are the project's own conventions [trade]: four significant digits (as
+every number shown) with thousands separated, as a life is written in a supplier's rating table."""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from types import SimpleNamespace
+
+import pytest
+
+from jointwright.commands import size as size_cmd
+from jointwright.commands._format import num, requirement_num
+from jointwright.report.markup import fmt
+from jointwright.report.wording import objective_change, unknown_gap
+from jointwright.units import format_hours
+
+
+@pytest.mark.parametrize(
+    ("hours", "text"),
+    [
+        (1.2e5, "120,000 h"),
+        (32_384.0, "32,380 h"),
+        (10_000.0, "10,000 h"),
+        (9999.9, "10,000 h"),  # rounds up into the thousands
+        (850.0, "850 h"),
+        (12.345, "12.35 h"),
+        (0.42, "0.42 h"),
+        (1e6, "1,000,000 h"),
+        (123_456.0, "123,500 h"),
+        (1.7e6, "> 10⁶ h"),
+        (math.inf, "> 10⁶ h"),  # no load: no wear
+        ("inf", "> 10⁶ h"),  # JSON's infinity
+        (None, "—"),
+        (math.nan, "—"),
+    ],
+)
+def test_hours_read_plainly(hours, text):
+    assert format_hours(hours) == text
+    assert num(hours, "h") == text
+    assert fmt(hours, "h") == text
+    assert "e+" not in format_hours(hours)
+
+
+def test_life_requirement_in_hours():
+    # life_min is kept in s inside (SI) and shown in h
+    assert requirement_num("hip_fe: life min", 3.6e7) == "10,000 h"
+
+
+@pytest.mark.parametrize(
+    ("kind", "loss", "unit", "text"),
+    [
+        ("payload", 0.12, "kg", "−0.12 kg payload"),  # less payload carried
+        ("payload", 0.0, "kg", "tie"),  # never "−0 kg"
+        ("payload", 1e-13, "kg", "tie"),
+        ("mass", 0.12, "kg", "+0.12 kg heavier"),  # minimized: a loss is more mass
+        ("mass", -0.05, "kg", "−0.05 kg lighter"),
+        ("cost", 12.0, "", "+12 costlier"),
+        ("imf", 0.0213, "", "−0.0213 IMF"),
+        ("margin", 0.5, "", "−0.5 margin"),
+        ("payload", None, "kg", "—"),
+    ],
+)
+def test_objective_change_reads_right(kind, loss, unit, text):
+    assert objective_change(kind, loss, unit) == text
+
+
+def _stopped_result(kind: str) -> SimpleNamespace:
+    """A search stopped by its time limit with no finite bound (as a margin run over an impact
+    case stops)."""
+    return SimpleNamespace(
+        objective_kind=kind,
+        backend="search",
+        message="time limit reached",
+        status="time_limit",
+        objective=1.32,
+        bound=math.inf,
+        gap=math.inf,
+        seconds=8.0,
+        native_status="50 nodes",
+        options={"hip_ab": 99},
+        assessment=None,
+        binding=(),
+        alternatives=(),
+        diagnosis=(),
+    )
+
+
+def test_unknown_gap_said_in_words(leg_project, capsys):
+    objective = {"maximize": "margin", "cases": ["touchdown"]}
+    project = dataclasses.replace(leg_project, objective=objective)
+    size_cmd.print_result(_stopped_result("margin"), project)
+    out = " ".join(capsys.readouterr().out.split())
+    assert "∞" not in out and "inf" not in out.replace("infeasible", "")
+    assert "bound —; gap —" in out
+    assert "gap not known" in out and "touchdown (impact)" in out
+    # the same words in the report
+    assert "touchdown (impact)" in unknown_gap(project, "margin")
+
+
+def test_unknown_gap_generic(leg_project):
+    text = unknown_gap(leg_project, "payload")
+    assert text.startswith("gap not known") and "not proven optimal" in text
+
+
+def test_finite_gap_still_shown(leg_project, capsys):
+    result = _stopped_result("payload")
+    result.bound, result.gap = 1.5, (1.5 - 1.32) / 1.32
+    size_cmd.print_result(result, leg_project)
+    out = capsys.readouterr().out
+    assert "bound 1.5 kg; gap +13.6 %" in out and "gap not known" not in out
+
+
+def test_runner_ups_signed_in_the_terminal(leg_project, capsys):
+    alt = SimpleNamespace(
+        joint="knee",
+        change="other motor",
+        actuator="M | S",
+        ruled_out_by=None,
+        objective=3.05,
+        loss=0.128,
+        mass_change=0.128,
+    )
+    tie = SimpleNamespace(**{**vars(alt), "loss": 0.0})
+    result = _stopped_result("mass")
+    result.bound, result.gap, result.alternatives = 2.9, 0.0, (alt, tie)
+    size_cmd.print_result(result, leg_project)
+    out = capsys.readouterr().out
+    assert "+0.128 kg heavier" in out and "(tie)" in out
+    assert "−0 kg" not in out and "-0 kg" not in out
+
+
+def test_report_says_why_the_gap_is_unknown(leg_project):
+    from jointwright.report import sizing_result
+
+    sizing = {"status": "time_limit", "objective_kind": "margin", "objective": 1.32}
+    sizing |= {"bound": "inf", "gap": "inf"}
+    objective = {"maximize": "margin", "cases": ["touchdown"]}
+    note = unknown_gap(dataclasses.replace(leg_project, objective=objective), "margin")
+    body = sizing_result.runner_ups_section(sizing, gap_note=note).body
+    assert "∞" not in body and "touchdown (impact)" in body
+    assert "gap not known" in sizing_result.runner_ups_section(sizing).body
+
+
+def _frontier(project):
+    """Three frontier points of the leg's design (their numbers need not be optimal: this is about
+    layout), each later one changing two joints."""
+    from importlib import resources
+
+    from jointwright.design import load_design
+    from jointwright.frontier import Frontier, FrontierPoint
+
+    with resources.as_file(resources.files("jointwright.examples") / "leg" / "design.toml") as p:
+        design = load_design(p, project)
+    labels = [a.label() for a in design.actuators]
+    long_ = "Flatwind-9 | Flexring/Flexring-2 100:1"  # as long as an actuator label gets
+    changed = (("hip_ab", labels[0], long_), ("knee", labels[2], long_))
+    points = tuple(
+        FrontierPoint(
+            27.0 - k,
+            0.14 + 0.005 * k,
+            design,
+            3.9,
+            () if k == 0 else ("hip_ab", "knee"),
+            () if k == 0 else changed,
+            shock_use=0.7556,
+        )
+        for k in range(3)
+    )
+    return Frontier("imf", "touchdown", "min", points, True, 1, 12.3, 0, "branch-and-bound", 584)
+
+
+def test_frontier_tables_fit_100_columns(leg_project, capsys, monkeypatch):
+    from jointwright.commands import _format
+    from jointwright.commands.frontier import print_frontier
+
+    monkeypatch.setenv("COLUMNS", "100")
+    monkeypatch.setattr(_format, "_console", None)
+    print_frontier(_frontier(leg_project))
+    out = capsys.readouterr().out
+    lines = out.splitlines()
+    assert max(len(x) for x in lines) <= 100
+    # one line a point: no cell of the frontier table wraps
+    first = next(k for k, x in enumerate(lines) if x.startswith("Frontier (largest"))
+    body = [x for x in lines[first + 4 : first + 7]]
+    assert [x.split("│")[1].strip() for x in body] == ["1", "2 ◆", "3"]
+    assert "joints changed" in out and "hip_ab, knee" in out
+    # the designs: the first point in full, then only the changed joints
+    assert "Frontier designs" in out and out.count("Flexring/Flexring-2 100:1") == 4
+
+
+@pytest.fixture(scope="module")
+def wrench_leg(tmp_path_factory):
+    """The leg example with its jump-push force acting 50 mm ahead of and 20 mm below the foot
+    frame, and a 3 N·m moment about −y with it (docs/project-format.md, `offset`, `moment`)."""
+    from click.testing import CliRunner
+
+    from jointwright.cli import main
+    from jointwright.project import load_project
+
+    folder = tmp_path_factory.mktemp("wrench") / "leg"
+    assert CliRunner().invoke(main, ["new", str(folder), "--example", "leg"]).exit_code == 0
+    path = folder / "project.toml"
+    text = path.read_text("utf-8")
+    at = text.index("pose =", text.index('name = "jump-push"'))
+    text = text[:at] + 'offset = [0.05, 0, -0.02]\nmoment = [0, "-3 N*m", 0]\n' + text[at:]
+    path.write_text(text, "utf-8")
+    return load_project(path)
+
+
+WRENCH = "at (0.05, 0, -0.02) m from foot; moment (0, -3, 0) N·m (world axes)"
+
+
+def test_check_shows_offset_and_moment(wrench_leg):
+    import json
+
+    from click.testing import CliRunner
+
+    from jointwright.cli import main
+
+    out = " ".join(CliRunner().invoke(main, ["check", str(wrench_leg.file)]).output.split())
+    assert f"where the force acts and the moment with it: jump-push {WRENCH}" in out
+    assert "landing-absorb at" not in out  # the other cases act at their frame
+    data = json.loads(CliRunner().invoke(main, ["check", str(wrench_leg.file), "--json"]).output)
+    case = next(c for c in data["cases"] if c["name"] == "jump-push")
+    assert case["offset"] == [0.05, 0.0, -0.02] and case["moment"] == [0.0, -3.0, 0.0]
+
+
+def test_assess_size_and_report_show_offset_and_moment(wrench_leg, capsys, monkeypatch):
+    from importlib import resources
+
+    from jointwright.assessment import assess
+    from jointwright.commands import _format
+    from jointwright.commands.assess import print_assessment
+    from jointwright.design import load_design
+    from jointwright.report import case_tables, job
+
+    with resources.as_file(resources.files("jointwright.examples") / "leg" / "design.toml") as p:
+        design = load_design(p, wrench_leg)
+    a = assess(wrench_leg, design)
+    monkeypatch.setenv("COLUMNS", "250")
+    monkeypatch.setattr(_format, "_console", None)
+    print_assessment(a, wrench_leg)
+    out = capsys.readouterr().out
+    assert out.count(WRENCH) == 1  # in the jump-push case's table only
+    rows = size_cmd.payload_rows(wrench_leg, a)
+    assert [r[-1] for r in rows] == [WRENCH, "at the frame, no moment", "at the frame, no moment"]
+    # every force at its frame: no column for it
+    assert [len(r) for r in size_cmd.payload_rows(_plain(wrench_leg), a)] == [5, 5, 5]
+    shown = WRENCH.replace("-", "−")  # the report's minus sign
+    assert shown in job.job_section(wrench_leg).body
+    assert case_tables.cases_section(a.to_dict(), wrench_leg).body.count(shown) == 1
+
+
+def _plain(project):
+    """The same project with every force at its frame and no moment."""
+    cases = tuple(
+        dataclasses.replace(c, offset=(0.0,) * 3, moment=(0.0,) * 3) for c in project.cases
+    )
+    return dataclasses.replace(project, cases=cases)
