@@ -123,3 +123,22 @@ def test_filters_only_remove_options_that_miss_a_requirement(leg):
             ok &= c.ok
         assert not ok.any()
         assert sum(cands.removed[j].values()) == removed.size
+
+
+def test_no_usable_motor_is_an_input_error_not_a_crash(leg):
+    # every motor excluded: one line naming the field, no empty table reaching the filters
+    names = [m.name for m in leg.catalog.all_motors()]
+    with pytest.raises(InputError, match="every motor of the catalog is excluded"):
+        build_table(leg, exclude=names)
+
+
+def test_no_drive_can_feed_a_motor_is_an_input_error():
+    quad = example("quadruped")
+    assert quad.drives, "the bundled quadruped fixes a drive per joint"
+    bare = tuple(dataclasses.replace(m, torque_constant=None) for m in quad.catalog.motors)
+    p = dataclasses.replace(
+        quad, catalog=dataclasses.replace(quad.catalog, motors=bare, families=())
+    )
+    with pytest.raises(InputError, match="torque_constant") as err:
+        build_table(p)
+    assert err.value.field == "drives"

@@ -152,6 +152,27 @@ def build_table(project, exclude=(), deadline=None) -> OptionTable:
         if s.stage.name not in banned and s.frame.name not in banned
     ]
     feeds = motor_drives(project, motors)
+    if not any(feeds):
+        if not motors:
+            raise InputError(
+                str(project.file),
+                "objective.exclude",
+                "no motor is left to size with: every motor of the catalog is excluded",
+            )
+        reasons = sorted(
+            {
+                str(drive_incompatibility(m, d))
+                for m in motors
+                for d in project.catalog.drives
+                if drive_incompatibility(m, d) is not None
+            }
+        )
+        raise InputError(
+            str(project.file),
+            "drives",
+            "no drive the joints may use can feed any motor of the catalog"
+            + (f" ({reasons[0]})" if reasons else ""),
+        )
     count = sum(len(f) for f in feeds) * sum(
         len(singles) ** k for k in range(project.max_stages + 1)
     )
