@@ -9,14 +9,14 @@ Functions of a :class:`~jointwright.solve.model.SizingModel` (``model``).
 from __future__ import annotations
 
 import dataclasses
-import itertools
 import math
 from collections.abc import Sequence
 
 import numpy as np
 
-#: mass groups per free joint in the IMF bound, and group combinations per bound at most
-IMF_GROUPS, IMF_COMBOS = 4, 16
+#: box evaluations per child at most: the plain IMF bound, and the screen against the limits and
+#: the incumbent
+IMF_BOXES, IMF_SCREEN_BOXES = 16, 48
 
 
 def imf_limits_or_objective(model) -> bool:
@@ -45,7 +45,67 @@ def impact_bounds(
     reflected inertia (locking is the limit of infinite inertia), so A is largest with every
     unassigned joint at its least mass and least back-driven reflected inertia, and B is
     smallest with every unassigned joint at its greatest mass (B does not see the reflected
-    inertia). Evaluating ξ at (A_max, B_min) bounds every completion."""
+    inertia). Evaluating ξ at (A_max, B_min) bounds every completion; the free joints' mass
+    ranges are split into boxes (:func:`box_bounds`, about :data:`IMF_BOXES` per child)."""
+    return box_bounds(model, idx, unit, options, st, budget=IMF_BOXES)[0]
+
+
+def _mass_table(model, j: int):
+    """Joint j's candidates by distinct mass: the sorted masses and a range-minimum table of
+    the least back-driven reflected inertia per mass (level k: minima over 2^k masses)."""
+    cands = model.candidates[j]
+    cache = model.__dict__.setdefault("_imf_mass_tables", {})
+    hit = cache.get(j)
+    if hit is not None and hit[0] is cands:
+        return hit[1]
+    u, inv = np.unique(model.mass[cands], return_inverse=True)
+    rmin = np.full(u.size, np.inf)
+    np.minimum.at(rmin, np.asarray(inv).reshape(-1), model.reflected[cands])
+    levels = [rmin]
+    while 2 ** len(levels) <= u.size:
+        h = 2 ** (len(levels) - 1)
+        levels.append(np.minimum(levels[-1][:-h], levels[-1][h:]))
+    cache[j] = (cands, (u, levels))
+    return u, levels
+
+
+def _range_min(levels: list, a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """min of levels[0][a:b] for every pair (a < b), two table look-ups each."""
+    k = np.floor(np.log2(b - a)).astype(np.int64)
+    out = np.empty(a.size)
+    for kk in np.unique(k):
+        rows = k == kk
+        table = levels[kk]
+        out[rows] = np.minimum(table[a[rows]], table[b[rows] - 2**kk])
+    return out
+
+
+def box_bounds(
+    model,
+    idx: np.ndarray,
+    unit: Sequence[int],
+    options: np.ndarray,
+    st: dict,
+    *,
+    floor: float | None = None,
+    limits: bool = False,
+    budget: int = IMF_BOXES,
+):
+    """IMF bounds over boxes of the free joints' masses (docs/optimizer.md, item 8).
+
+    Each free joint's candidates, sorted by distinct mass, form a range; a box is one range per
+    free joint, bounded by ξ(A_max, B_min) with every free joint at its range's least mass and
+    least reflected inertia (for A) and greatest mass (for B). Every completion lies in one box,
+    so the largest bound over a child's boxes bounds it. Boxes are halved at the free joint with
+    the most masses left, breadth first, while they matter: with ``limits`` a box whose bound
+    misses an IMF limit holds no feasible completion and is dropped; a box whose objective bound
+    is below ``floor`` holds no improving one and is kept as it is; a box of one mass per free
+    joint is exact (its bound is the IMF of a real completion) and, when it meets the limits and
+    the floor, ends its child's refinement. At most ``budget`` box evaluations per child.
+
+    Returns (per impact case (ξ bound, ξ_x bound), objective bound or None, live): maxima over
+    the child's live boxes (−inf where none is live; live False: every completion misses an
+    IMF limit)."""
     K0 = options.size
     # children differ only in the unit's mass and reflected inertia: bound each pair once
     pairs = np.stack(
@@ -58,62 +118,98 @@ def impact_bounds(
     _u, first, back = np.unique(pairs, axis=0, return_index=True, return_inverse=True)
     back = np.asarray(back).reshape(-1)
     if first.size < K0:
-        sub = impact_bounds(model, idx, unit, options[first], st)
-        return {k: (v[0][back], v[1][back]) for k, v in sub.items()}
-    K = options.size
-    unit = list(unit)
-    full = np.broadcast_to(idx, (K, model.n)).copy()
-    full[:, unit] = options[:, None]
-    free = full < 0
-    safe = np.where(free, 0, full)
-    m_lo = np.where(free, st["mmin"][None, :], model.mass[safe])
-    m_hi = np.where(free, st["mmax"][None, :], model.mass[safe])
-    r_lo = np.where(free, st["rmin"][None, :], model.reflected[safe])
-    # each free joint's candidates split into mass groups: every completion takes, at each
-    # free joint, an option of one group, so the largest bound over the group combinations
-    # bounds it (docs/optimizer.md, item 8); one combination is the plain bound
-    F = np.flatnonzero(free[0]) if K else np.zeros(0, dtype=np.int64)
-    out: dict = {}
-    for combo in _imf_combos(model, F, st):
-        m_lo[:, F], m_hi[:, F], r_lo[:, F] = combo
-        got = _impact_bounds_at(model, K, m_lo, m_hi, r_lo.copy())
-        if not out:
-            out = got
-        else:
-            out = {
-                k: (np.maximum(out[k][0], v[0]), np.maximum(out[k][1], v[1]))
-                for k, v in got.items()
-            }
-    return out
-
-
-def _imf_combos(model, F: np.ndarray, st: dict):
-    """(m_min, m_max, r_min) rows over the free joints F, one per combination of mass groups
-    (at most :data:`IMF_COMBOS`); one row of the plain extremes when F is empty."""
-    if F.size == 0:
-        yield (np.zeros(0), np.zeros(0), np.zeros(0))
-        return
-    per = max(1, min(IMF_GROUPS, int(math.floor(IMF_COMBOS ** (1.0 / F.size) + 1e-9))))
-    groups = []
-    for j in F:
-        c = model.candidates[j]
-        m = model.mass[c]
-        u = np.unique(m)
-        if per == 1 or u.size < 2:
-            groups.append([(st["mmin"][j], st["mmax"][j], st["rmin"][j])])
-            continue
-        cuts = u[np.linspace(0, u.size, min(per, u.size) + 1).astype(int)[1:-1]]
-        g = np.searchsorted(cuts, m, side="right")
-        groups.append(
-            [
-                (m[g == k].min(), m[g == k].max(), model.reflected[c][g == k].min())
-                for k in range(cuts.size + 1)
-                if np.any(g == k)
-            ]
+        per, obj, live = box_bounds(
+            model, idx, unit, options[first], st, floor=floor, limits=limits, budget=budget
         )
-    for combo in itertools.product(*groups):
-        arr = np.array(combo, dtype=float)
-        yield arr[:, 0], arr[:, 1], arr[:, 2]
+        per = {k: (v[0][back], v[1][back]) for k, v in per.items()}
+        return per, (None if obj is None else obj[back]), live[back]
+    K = options.size
+    full = np.broadcast_to(idx, (K, model.n)).copy()
+    full[:, list(unit)] = options[:, None]
+    safe = np.where(full < 0, 0, full)
+    base_m, base_r = model.mass[safe], model.reflected[safe]
+    F = np.flatnonzero(full[0] < 0) if K else np.zeros(0, dtype=np.int64)
+    tables = [_mass_table(model, int(j)) for j in F]
+    sizes = np.array([t[0].size for t in tables], dtype=np.int64)
+    names = [pc.case.name for pc in model.impact_evaluator.cases if pc.case.kind == "impact"]
+    per = {n: (np.full(K, -np.inf), np.full(K, -np.inf)) for n in names}
+    obj_kind = model.kind == "imf" or (model.measure is not None and model.measure[0] == "imf")
+    best = np.full(K, -np.inf)
+    live = np.zeros(K, dtype=bool)
+    if np.any(sizes == 0):  # a free joint without candidates: no completion at all
+        return per, (best if obj_kind else None), live
+    settled = np.zeros(K, dtype=bool)
+    # first round: the whole box of every child and, as a witness, the completion with every
+    # free joint at its least reflected inertia (a real design: its exact IMF may settle the
+    # child at once; a sub-box adds nothing above the whole box's bound)
+    witness = np.array([int(np.argmin(t[1][0])) for t in tables], dtype=np.int64)
+    child = np.concatenate([np.arange(K), np.arange(K) if F.size else np.zeros(0, np.int64)])
+    lo = np.zeros((child.size, F.size), dtype=np.int64)
+    hi = np.broadcast_to(sizes, (child.size, F.size)).copy()
+    lo[K:], hi[K:] = witness, witness + 1
+    spent, cap = 0, budget * K
+    while child.size:
+        m_lo, m_hi, r_lo = base_m[child], base_m[child], base_r[child]
+        for i, j in enumerate(F):
+            u, levels = tables[i]
+            m_lo[:, j], m_hi[:, j] = u[lo[:, i]], u[hi[:, i] - 1]
+            r_lo[:, j] = _range_min(levels, lo[:, i], hi[:, i])
+        got = _impact_bounds_at(model, child.size, m_lo, m_hi, r_lo)
+        spent += child.size
+        dead = np.zeros(child.size, dtype=bool)
+        if limits:
+            dead = ~_meets_limits(model, got, child.size)
+        obj = _objective_of(model, got) if obj_kind else None
+        high = np.ones(child.size, dtype=bool)
+        if obj is not None and floor is not None:
+            high = obj >= floor
+        exact = np.all(hi - lo == 1, axis=1)
+        settled[child[~dead & exact & high]] = True
+        split = ~dead & ~exact & high & ~settled[child]
+        if spent + 2 * int(np.count_nonzero(split)) > cap:
+            split[:] = False
+        done = ~split & ~dead
+        for n in names:
+            np.maximum.at(per[n][0], child[done], got[n][0][done])
+            np.maximum.at(per[n][1], child[done], got[n][1][done])
+        if obj is not None:
+            np.maximum.at(best, child[done], obj[done])
+        live[child[done]] = True
+        # halve every box still open at its free joint with the most masses left
+        rows = np.flatnonzero(split)
+        if rows.size == 0:
+            break
+        at = np.argmax(hi[rows] - lo[rows], axis=1)
+        mid = (lo[rows, at] + hi[rows, at]) // 2
+        left_hi, right_lo = hi[rows].copy(), lo[rows].copy()
+        left_hi[np.arange(rows.size), at] = mid
+        right_lo[np.arange(rows.size), at] = mid
+        child = np.concatenate([child[rows], child[rows]])
+        lo = np.concatenate([lo[rows], right_lo])
+        hi = np.concatenate([left_hi, hi[rows]])
+    return per, (best if obj_kind else None), live
+
+
+def _meets_limits(model, got: dict, P: int) -> np.ndarray:
+    """Where the bounds reach every IMF limit (the checks' tolerance)."""
+    ok = np.ones(P, dtype=bool)
+    for c in model.impact_cases:
+        if c.name not in got:
+            continue
+        xi, xd = got[c.name]
+        if "imf_min" in c.limits:
+            ok &= xi >= c.limits["imf_min"] * (1 - 1e-9) - 1e-12
+        if "directional_imf_min" in c.limits:
+            ok &= xd >= c.limits["directional_imf_min"] * (1 - 1e-9) - 1e-12
+    return ok
+
+
+def _objective_of(model, got: dict) -> np.ndarray:
+    """The objective's bound from the cases' bounds: the worst case's ξ for ``imf``, the
+    measured case's ξ for an IMF measure."""
+    if model.kind == "imf":
+        return np.min([v[0] for v in got.values()], axis=0)
+    return got[model.measure[1]][0]
 
 
 def _impact_bounds_at(model, K: int, m_lo, m_hi, r_lo) -> dict:
@@ -162,30 +258,20 @@ def _impact_bounds_at(model, K: int, m_lo, m_hi, r_lo) -> dict:
     return out
 
 
-def impact_ok(model, idx, unit, options, st, bounds=None) -> np.ndarray:
+def impact_ok(model, idx, unit, options, st, bounds=None, floor=None) -> np.ndarray:
     """False where an IMF limit is provably missed by every completion; for the ``imf``
     objective (and an IMF measure) the objective bound in ``bounds`` is lowered to the
-    worst case's bound (:func:`impact_bounds`)."""
+    largest bound over the live boxes (:func:`box_bounds`, refined against the limits and
+    ``floor``, the objective an improving design must reach)."""
     K = options.size
-    ok = np.ones(K, dtype=bool)
     if K == 0:
-        return ok
-    ub = impact_bounds(model, idx, unit, options, st)
-    for c in model.impact_cases:
-        if c.name not in ub:
-            continue
-        xi, xd = ub[c.name]
-        if "imf_min" in c.limits:
-            ok &= xi >= c.limits["imf_min"] * (1 - 1e-9) - 1e-12
-        if "directional_imf_min" in c.limits:
-            ok &= xd >= c.limits["directional_imf_min"] * (1 - 1e-9) - 1e-12
-    if bounds is not None:
-        if model.kind == "imf":
-            f = np.min([ub[n][0] for n in ub], axis=0) if ub else np.ones(K)
-            bounds["objective"] = np.minimum(bounds["objective"], f)
-        elif model.measure is not None and model.measure[0] == "imf" and model.measure[1] in ub:
-            bounds["objective"] = np.minimum(bounds["objective"], ub[model.measure[1]][0])
-    return ok
+        return np.ones(K, dtype=bool)
+    _per, obj, live = box_bounds(
+        model, idx, unit, options, st, floor=floor, limits=True, budget=IMF_SCREEN_BOXES
+    )
+    if bounds is not None and obj is not None:
+        bounds["objective"] = np.minimum(bounds["objective"], obj)
+    return live
 
 
 def effective_mass_ok(

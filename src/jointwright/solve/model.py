@@ -531,14 +531,16 @@ class SizingModel:
         options: np.ndarray,
         st: dict,
         bounds: dict | None = None,
+        floor: float | None = None,
     ) -> np.ndarray:
         """The bounds that cost an oracle call or a trajectory: effective mass, then duty.
-        For an effective-mass objective the objective bound in ``bounds`` is set here."""
+        For an effective-mass objective the objective bound in ``bounds`` is set here; ``floor``:
+        the objective an improving design must reach (the IMF bound refines up to it)."""
         ok = impact_bound.effective_mass_ok(self, idx, unit, options, st, bounds)
         if ok.any() and impact_bound.imf_limits_or_objective(self):
             rows = np.flatnonzero(ok)
             sub = None if bounds is None else {"objective": bounds["objective"][rows]}
-            ok[rows] = impact_bound.impact_ok(self, idx, unit, options[rows], st, sub)
+            ok[rows] = impact_bound.impact_ok(self, idx, unit, options[rows], st, sub, floor)
             if sub is not None and bounds is not None:
                 bounds["objective"][rows] = sub["objective"]
                 bounds["objective"][~ok] = np.minimum(bounds["objective"][~ok], -np.inf)
@@ -554,3 +556,7 @@ class SizingModel:
     def impact_bounds(self, idx, unit, options, st) -> dict:
         """Upper bounds on the IMF of every impact case (:func:`impact_bound.impact_bounds`)."""
         return impact_bound.impact_bounds(self, idx, unit, options, st)
+
+    def imf_limits_or_objective(self) -> bool:
+        """Whether the IMF bounds apply (:func:`impact_bound.imf_limits_or_objective`)."""
+        return impact_bound.imf_limits_or_objective(self)
