@@ -197,14 +197,14 @@ class BranchAndBound:
     def _node_candidates(self, idx: np.ndarray, level: int, cands: list, st: dict):
         """The candidates of the units still open below a node with IMF limits: options that
         miss a limit in every completion of the node are dropped (docs/optimizer.md, item 8), and
-        the statistics follow. (None, None) when a unit has no option left. Only where two or
-        more units are open: the last unit's options are screened as children anyway."""
+        the statistics follow. (None, None) when a unit has no option left. The node's own unit
+        is left out: its options are screened as children, after the cheap cuts."""
         if not self.imf_limits or level == 0 or level + 2 > len(self.units):
             return cands, st
         from .impact_bound import impact_ok
 
         out = list(cands)
-        for unit in self.units[level:]:
+        for unit in self.units[level + 1 :]:
             opts = out[unit[0]]
             for j in unit[1:]:
                 opts = np.intersect1d(opts, out[j])
