@@ -14,9 +14,9 @@ from collections.abc import Sequence
 
 import numpy as np
 
-#: box evaluations per child at most: the plain IMF bound, and the screen against the limits and
-#: the incumbent
-IMF_BOXES, IMF_SCREEN_BOXES = 16, 48
+#: box evaluations per child at most: the plain IMF bound and the screen against the limits, and
+#: the screen where the IMF is the objective (its bound must fall below the incumbent's value)
+IMF_BOXES, IMF_OBJECTIVE_BOXES = 16, 96
 
 
 def imf_limits_or_objective(model) -> bool:
@@ -214,6 +214,7 @@ def _objective_of(model, got: dict) -> np.ndarray:
 
 def _impact_bounds_at(model, K: int, m_lo, m_hi, r_lo) -> dict:
     """:func:`impact_bounds` for given mass and reflected-inertia extremes (K, n)."""
+    from ..metrics.linalg_small import det_small, inv_small, whiten
     from ..robot.basis import mass_matrix
 
     locked = ~np.isfinite(r_lo)
@@ -227,7 +228,7 @@ def _impact_bounds_at(model, K: int, m_lo, m_hi, r_lo) -> dict:
         H_hi = mass_matrix(pc.basis, m_hi, np.zeros_like(r_lo))
         J = np.asarray(pc.J, dtype=float)
         nv = H_lo.shape[-1]
-        # moving coordinates: the base, free joints, and actuated joints that do not model-lock
+        # moving coordinates: the base, free joints, and actuated joints that do not self-lock
         # (held joints never move: they join the locked set, as in the evaluator)
         keep = np.ones((K, nv), dtype=bool)
         keep[:, model.evaluator.held_index] = False
@@ -235,19 +236,27 @@ def _impact_bounds_at(model, K: int, m_lo, m_hi, r_lo) -> dict:
         both = keep[:, :, None] & keep[:, None, :]
         H_lo = np.where(both, H_lo, np.eye(nv))
         Jt = np.where(keep[:, :, None], np.broadcast_to(J.T, (K,) + J.T.shape), 0.0)
-        A = np.einsum("ij,kjl->kil", J, np.linalg.solve(H_lo, Jt))
+        # A = J·H⁻¹·Jᵀ = WᵀW with W = L⁻¹Jᵀ (Cholesky, entry by entry over the batch)
+        W, good_a = whiten(H_lo, Jt)
+        A = np.swapaxes(W, 1, 2) @ W
         Jb = J[:, :nb]
-        rhs = np.broadcast_to(Jb.T, (K,) + Jb.T.shape)
-        B = np.einsum("ij,kjl->kil", Jb, np.linalg.solve(H_hi[:, :nb, :nb], rhs))
+        V, good_b = whiten(H_hi[:, :nb, :nb], np.broadcast_to(Jb.T, (K,) + Jb.T.shape))
+        B = np.swapaxes(V, 1, 2) @ V
         A = 0.5 * (A + np.swapaxes(A, 1, 2))
         B = 0.5 * (B + np.swapaxes(B, 1, 2))
-        det_a = np.linalg.det(A)
+        small = A.shape[-1] <= 3
+        det = det_small if small else np.linalg.det
+        inv = inv_small if small else np.linalg.inv
+        det_a = det(A)
         with np.errstate(divide="ignore", invalid="ignore"):
-            xi = np.linalg.det(A - B) / det_a
+            xi = det(A - B) / det_a
             x = np.asarray(pc.u, dtype=float) / np.linalg.norm(pc.u)
-            qa = np.einsum("i,kij,j->k", x, np.linalg.inv(A), x)
-            qb = np.einsum("i,kij,j->k", x, np.linalg.inv(B), x)
+            qa = np.einsum("i,kij,j->k", x, inv(A), x)
+            qb = np.einsum("i,kij,j->k", x, inv(B), x)
             xd = np.where(qb > 0, 1.0 - qa / qb, 1.0)
+        # a factorization that failed (round-off) proves nothing: the trivial bound 1
+        xi = np.where(good_a & good_b, xi, np.nan)
+        xd = np.where(good_a & good_b, xd, np.nan)
         xi = np.where(np.isfinite(xi), np.clip(xi, 0.0, 1.0), 1.0)
         xd = np.where(np.isfinite(xd), np.clip(xd, 0.0, 1.0), 1.0)
         # round-off: a relative slack on both
@@ -266,8 +275,10 @@ def impact_ok(model, idx, unit, options, st, bounds=None, floor=None) -> np.ndar
     K = options.size
     if K == 0:
         return np.ones(K, dtype=bool)
+    imf_objective = model.kind == "imf" or (model.measure is not None and model.measure[0] == "imf")
+    budget = IMF_OBJECTIVE_BOXES if imf_objective else IMF_BOXES
     _per, obj, live = box_bounds(
-        model, idx, unit, options, st, floor=floor, limits=True, budget=IMF_SCREEN_BOXES
+        model, idx, unit, options, st, floor=floor, limits=True, budget=budget
     )
     if bounds is not None and obj is not None:
         bounds["objective"] = np.minimum(bounds["objective"], obj)
