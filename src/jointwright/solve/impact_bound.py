@@ -14,6 +14,16 @@ from collections.abc import Sequence
 
 import numpy as np
 
+from ..metrics.linalg_small import (
+    adjugate_entries,
+    cholesky_entries,
+    det_entries,
+    forward_entries,
+    gram_entries,
+    quad_entries,
+    stack_entries,
+)
+
 #: box evaluations per child at most: the plain IMF bound and the screen against the limits, and
 #: the screen where the IMF is the objective (its bound must fall below the incumbent's value)
 IMF_BOXES, IMF_OBJECTIVE_BOXES = 16, 96
@@ -214,7 +224,6 @@ def _objective_of(model, got: dict) -> np.ndarray:
 
 def _impact_bounds_at(model, K: int, m_lo, m_hi, r_lo) -> dict:
     """:func:`impact_bounds` for given mass and reflected-inertia extremes (K, n)."""
-    from ..metrics.linalg_small import det_small, inv_small, whiten
     from ..robot.basis import mass_matrix
 
     locked = ~np.isfinite(r_lo)
@@ -236,23 +245,26 @@ def _impact_bounds_at(model, K: int, m_lo, m_hi, r_lo) -> dict:
         both = keep[:, :, None] & keep[:, None, :]
         H_lo = np.where(both, H_lo, np.eye(nv))
         Jt = np.where(keep[:, :, None], np.broadcast_to(J.T, (K,) + J.T.shape), 0.0)
-        # A = J·H⁻¹·Jᵀ = WᵀW with W = L⁻¹Jᵀ (Cholesky, entry by entry over the batch)
-        W, good_a = whiten(H_lo, Jt)
-        A = np.swapaxes(W, 1, 2) @ W
+        # A = J·H⁻¹·Jᵀ = WᵀW with W = L⁻¹Jᵀ (Cholesky, entry by entry over the batch, which
+        # sits on the last axis so that every entry is one contiguous array)
         Jb = J[:, :nb]
-        V, good_b = whiten(H_hi[:, :nb, :nb], np.broadcast_to(Jb.T, (K,) + Jb.T.shape))
-        B = np.swapaxes(V, 1, 2) @ V
-        A = 0.5 * (A + np.swapaxes(A, 1, 2))
-        B = 0.5 * (B + np.swapaxes(B, 1, 2))
-        small = A.shape[-1] <= 3
-        det = det_small if small else np.linalg.det
-        inv = inv_small if small else np.linalg.inv
-        det_a = det(A)
+        A, good_a = _gram(np.moveaxis(H_lo, 0, -1), np.moveaxis(Jt, 0, -1))
+        B, good_b = _gram(np.moveaxis(H_hi[:, :nb, :nb], 0, -1), Jb.T)
+        x = list(np.asarray(pc.u, dtype=float) / np.linalg.norm(pc.u))
         with np.errstate(divide="ignore", invalid="ignore"):
-            xi = det(A - B) / det_a
-            x = np.asarray(pc.u, dtype=float) / np.linalg.norm(pc.u)
-            qa = np.einsum("i,kij,j->k", x, inv(A), x)
-            qb = np.einsum("i,kij,j->k", x, inv(B), x)
+            if len(A) <= 3:
+                det_a = det_entries(A)
+                diff = [
+                    [p - q for p, q in zip(r, t, strict=True)] for r, t in zip(A, B, strict=True)
+                ]
+                xi = det_entries(diff) / det_a
+                qa = quad_entries(adjugate_entries(A), x) / det_a
+                qb = quad_entries(adjugate_entries(B), x) / det_entries(B)
+            else:  # a contact of more than 3 directions: the generic routines
+                Am, Bm = stack_entries(A), stack_entries(B)
+                xi = np.linalg.det(Am - Bm) / np.linalg.det(Am)
+                qa = np.einsum("i,...ij,j->...", np.asarray(x), np.linalg.inv(Am), np.asarray(x))
+                qb = np.einsum("i,...ij,j->...", np.asarray(x), np.linalg.inv(Bm), np.asarray(x))
             xd = np.where(qb > 0, 1.0 - qa / qb, 1.0)
         # a factorization that failed (round-off) proves nothing: the trivial bound 1
         xi = np.where(good_a & good_b, xi, np.nan)
@@ -265,6 +277,15 @@ def _impact_bounds_at(model, K: int, m_lo, m_hi, r_lo) -> dict:
             np.minimum(xd * (1 + 1e-7) + 1e-9, 1.0),
         )
     return out
+
+
+def _gram(h: np.ndarray, b: np.ndarray):
+    """Entries of Bᵀ·H⁻¹·B (c×c) and where H is positive definite; ``h`` (n, n, K) symmetric,
+    ``b`` (n, c) or (n, c, K), the batch on the last axis."""
+    n = h.shape[0]
+    low, positive = cholesky_entries([[h[i, j] for j in range(n)] for i in range(n)])
+    w = forward_entries(low, [[b[i, j] for j in range(b.shape[1])] for i in range(n)])
+    return gram_entries(w), positive
 
 
 def impact_ok(model, idx, unit, options, st, bounds=None, floor=None) -> np.ndarray:
