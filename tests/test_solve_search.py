@@ -533,3 +533,80 @@ def test_quadruped_with_stance_cases_matches_enumeration(seed, kind):
     assert res.status == "optimal" and res.assessment.feasible
     sense = -1.0 if kind == "mass" else 1.0
     assert sense * res.objective == pytest.approx(key[0], rel=1e-9, abs=1e-9)
+
+
+@settings(
+    max_examples=6, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
+@given(seed=st.integers(0, 2**31 - 1))
+def test_refined_imf_bounds_hold_for_every_completion_that_meets_the_limits(leg, seed):
+    """The IMF boxes refined against the limits and a floor (docs/optimizer.md, item 8;
+    IMF definition: Wensing et al., IEEE T-RO 33(3), 2017 [pub]) against enumeration of every
+    completion of random partial designs: a child with a completion that meets imf_min and
+    directional_imf_min stays live, and its bounds are at or above that completion's IMF,
+    directional IMF and objective (the worst case's IMF), whatever the floor and the budget."""
+    from itertools import product
+
+    from jointwright.solve.impact_bound import box_bounds
+
+    rng = np.random.default_rng(seed)
+    project = dataclasses.replace(
+        leg,
+        catalog=small_catalog(leg.catalog, rng, motors=3, kinds=2, ratios=2),
+        max_stages=1,
+        stage_kinds=None,
+        objective={},
+        cases=tuple(c for c in leg.cases if c.kind != "duty"),
+    )
+    table = build_table(project)
+    n, n_opt = len(project.robot.actuated), len(table)
+    every = np.array(list(product(range(n_opt), repeat=n)), dtype=np.int64)
+    free_model = SizingModel(project, table, [np.arange(n_opt)] * n, "imf")
+    ev = free_model.impact_evaluator.evaluate(table.arrays(every), detail=False)
+    names = [c.name for c in project.cases if c.kind == "impact"]
+    # limits at random quantiles of the enumerated values: some bind, some do not
+    limits = {
+        nm: {
+            "imf_min": float(np.quantile(ev[nm]["imf"], rng.uniform(0.0, 0.9))),
+            "directional_imf_min": float(np.quantile(ev[nm]["imf_direction"], rng.uniform(0, 0.9))),
+        }
+        for nm in names
+    }
+    project = dataclasses.replace(
+        project,
+        cases=tuple(
+            dataclasses.replace(c, limits=limits[c.name]) if c.name in limits else c
+            for c in project.cases
+        ),
+    )
+    model = SizingModel(project, table, [np.arange(n_opt)] * n, "imf")
+    st_ = model.stats(model.candidates)
+    meets = np.ones(every.shape[0], dtype=bool)
+    for nm in names:
+        meets &= np.asarray(ev[nm]["imf"]) >= limits[nm]["imf_min"] * (1 - 1e-9) - 1e-12
+        meets &= (
+            np.asarray(ev[nm]["imf_direction"])
+            >= limits[nm]["directional_imf_min"] * (1 - 1e-9) - 1e-12
+        )
+    objective = np.min([np.asarray(ev[nm]["imf"]) for nm in names], axis=0)
+    for _ in range(4):
+        idx = np.full(n, -1, dtype=np.int64)
+        assigned = rng.random(n) < 0.4
+        idx[assigned] = rng.integers(0, n_opt, int(assigned.sum()))
+        free = np.flatnonzero(idx < 0)
+        unit = (int(rng.choice(free)),) if free.size else (0,)
+        options = np.arange(n_opt)
+        floor = None if rng.random() < 0.3 else float(rng.uniform(0.0, objective.max()))
+        budget = int(rng.choice([1, 4, 48]))
+        per, obj, live = box_bounds(
+            model, idx, unit, options, st_, floor=floor, limits=True, budget=budget
+        )
+        fixed = np.flatnonzero((idx >= 0) & ~np.isin(np.arange(n), unit))
+        rows = np.all(every[:, fixed] == idx[fixed], axis=1) & meets
+        for r in np.flatnonzero(rows):
+            k = int(every[r, unit[0]])
+            assert live[k]
+            assert obj[k] >= objective[r] - 1e-12
+            for nm in names:
+                assert per[nm][0][k] >= ev[nm]["imf"][r] - 1e-12
+                assert per[nm][1][k] >= ev[nm]["imf_direction"][r] - 1e-12

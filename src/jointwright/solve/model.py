@@ -25,12 +25,10 @@ from ..evaluate import Evaluator
 from ..metrics.loads import MOTION_SIGN, torque_ratio
 from ..metrics.payload import torque_bounds
 from ..problem import checks, feasible, objective, objective_names, objective_transform
+from . import budget_bound, impact_bound
 
 #: designs whose duty cases are checked per oracle call
 DUTY_CHUNK = 32
-
-#: mass groups per free joint in the IMF bound, and group combinations per bound at most
-IMF_GROUPS, IMF_COMBOS = 4, 16
 
 #: relative tolerance under which two objective (or mass) values count as a tie
 TIE_TOLERANCE = 1e-9
@@ -475,14 +473,18 @@ class SizingModel:
         worst = np.full(K, np.inf)
         b_lo = []
         for c, t in enumerate(self.payload):
-            bound, bias_lo, bias_hi = self._payload_bound(t, c, idx, A, F, unit, options, st)
+            bound, bias_lo, bias_hi = budget_bound.payload_bound(
+                self, t, c, idx, A, F, unit, options, st
+            )
             ok &= bound >= t.minimum * (1 - 1e-9) - 1e-12
             worst = np.minimum(worst, self.case_value(c, bound))
             b_lo.append(np.where((t.a > 0), bias_lo, bias_hi))
         if self.kind == "payload" and F.size and self.payload:
-            worst = np.minimum(worst, self._free_bound(F, b_lo, st))
+            worst = np.minimum(worst, budget_bound.free_bound(self, F, b_lo, st))
         if self.kind == "payload" and F.size and self.payload:
-            worst = np.minimum(worst, self.budget_level_bound(F, idx, A, unit, options, st))
+            worst = np.minimum(
+                worst, budget_bound.budget_level_bound(self, F, idx, A, unit, options, st)
+            )
         for absa, fmax in self.backdrive:
             b = np.empty((K, n))
             b[:, A] = self.breakaway[idx[A]]
@@ -522,247 +524,6 @@ class SizingModel:
         that force (:func:`jointwright.problem.carried_payload`), increasing in the force."""
         return self.carry[c](bound)
 
-    def _node_level_table(self, F: np.ndarray, idx: np.ndarray, A: np.ndarray, st: dict):
-        """:meth:`_level_table` with the own bounds of the free joints recomputed at this node:
-        the assigned joints' masses are known exactly, which narrows the bias interval of the
-        joints they load (the unit's and the free joints' masses keep their ranges)."""
-        key = (idx.tobytes(), F.tobytes(), st["mmin"].tobytes())
-        cache = self.__dict__.setdefault("_node_levels", {})
-        if key in cache:
-            return cache[key]
-        node = dict(st)
-        node["mmin"], node["mmax"] = st["mmin"].copy(), st["mmax"].copy()
-        node["mmin"][A] = self.mass[idx[A]]
-        node["mmax"][A] = self.mass[idx[A]]
-        own = list(st["own"])
-        for j in F:
-            own[j] = self._own_bounds(int(j), self.candidates[j], node)
-        node["own"] = own
-        out = self._level_table(F, node, cache=False)
-        if len(cache) > 512:
-            cache.pop(next(iter(cache)))
-        cache[key] = out
-        return out
-
-    def _level_table(self, F: np.ndarray, st: dict, cache: bool = True):
-        """For the free joints F: the candidate levels (every own bound of their options,
-        descending) and, at each level f, the least total mass and cost of options of F whose
-        own bound reaches f (the per-joint least over the useful options, summed). Cached per
-        set F (the search meets few distinct sets: one per depth)."""
-        key = (id(st["own"]), F.tobytes())
-        store = cache
-        levels_cache: dict = self.__dict__.setdefault("_levels", {})
-        hit = levels_cache.get(key) if store else None
-        if hit is not None and hit[0] is st["own"]:  # the reference held keeps the id unique
-            return hit[1]
-        entries = [st["own"][j] for j in F]
-        if any(e is None for e in entries):
-            return None
-        levels = np.unique(np.concatenate([e[0][np.isfinite(e[0])] for e in entries]))[::-1]
-        g_mass = np.zeros(levels.size)
-        g_cost = np.zeros(levels.size)
-        for own, run_m, run_c, _m in entries:
-            count = np.searchsorted(-own, -levels, side="right")  # options with own ≥ level
-            g_mass += np.where(count > 0, run_m[np.maximum(count - 1, 0)], np.inf)
-            g_cost += np.where(count > 0, run_c[np.maximum(count - 1, 0)], np.inf)
-        if store:
-            if len(levels_cache) > 256:
-                levels_cache.pop(next(iter(levels_cache)))
-            levels_cache[key] = (st["own"], (levels, g_mass, g_cost))
-        return levels, g_mass, g_cost
-
-    def budget_cap(
-        self,
-        st: dict,
-        idx: np.ndarray | None = None,
-        rounds: int = 3,
-        steps: int = 40,
-        deadline: float = math.inf,
-    ) -> float:
-        """A bound on the payload objective of every design (completion of ``idx``) that sees the
-        budgets with consistent loader masses (docs/optimizer.md, item 4b).
-
-        For a level f, lb_k starts at each joint's least mass; a design reaching f has, at every
-        joint j, an option whose own bound with every mass k in [lb_k, m_max,k] is ≥ f, so its
-        mass is ≥ the least such option's: that is the next lb_j; and ≤ the heaviest such option
-        that leaves room for the others' lb within the mass budget: the next ub_j. Repeating
-        keeps [lb_k, ub_k] an interval holding joint k's mass in any design reaching f; it only
-        narrows as f grows. The largest f with Σ lb ≤ total_mass_max (and likewise cost) is
-        found by bisection."""
-        if (
-            self.kind != "payload"
-            or not self.payload
-            or not (math.isfinite(self.total_mass_max) or math.isfinite(self.total_cost_max))
-        ):
-            return math.inf
-        n = self.n
-        idx = np.full(n, -1, dtype=np.int64) if idx is None else idx
-        fixed = idx >= 0
-        cands = [np.array([idx[j]]) if fixed[j] else self.candidates[j] for j in range(n)]
-        if any(c.size == 0 for c in cands):
-            return math.inf
-        mmax = np.array([self.mass[c].max() for c in cands])
-        mmin0 = np.array([self.mass[c].min() for c in cands])
-
-        budget = self.total_mass_max * (1 + 1e-9)
-
-        def fits(f: float) -> bool:
-            lb, ub = mmin0.copy(), mmax.copy()
-            cost = None
-            for _ in range(rounds):
-                node = dict(st, mmin=lb, mmax=ub)
-                new, new_ub, cost = lb.copy(), ub.copy(), 0.0
-                for j in range(n):
-                    entry = self._own_bounds(j, cands[j], node)
-                    if entry is None:
-                        continue
-                    own, run_m, run_c, m_sorted = entry
-                    count = int(np.searchsorted(-own, -f, side="right"))
-                    if count == 0:
-                        return False
-                    new[j] = max(lb[j], run_m[count - 1])
-                    cost += run_c[count - 1]
-                    # the heaviest option that reaches f and leaves room for the others' least
-                    room = budget - (lb.sum() - lb[j])
-                    useful = m_sorted[:count]
-                    useful = useful[useful <= room]
-                    if useful.size == 0:
-                        return False
-                    new_ub[j] = min(ub[j], float(useful.max()))
-                lb, ub = new, np.maximum(new_ub, new)
-            ok = lb.sum() <= self.total_mass_max * (1 + 1e-9)
-            if math.isfinite(self.total_cost_max):
-                ok = ok and cost <= self.total_cost_max * (1 + 1e-9)
-            return ok
-
-        ents = [self._own_bounds(j, cands[j], dict(st, mmin=mmin0, mmax=mmax)) for j in range(n)]
-        tops = [float(e[0][0]) for e in ents if e is not None and e[0].size]
-        hi = min(tops) if tops else math.inf
-        if not math.isfinite(hi) or hi <= 0:
-            return math.inf
-        hi = hi * (1 + 1e-12) + 1e-12  # no design reaches above every joint's best own bound
-        lo = 0.0
-        if fits(hi):
-            return math.inf
-        import time
-
-        for _ in range(steps):
-            if time.perf_counter() > deadline:  # every hi so far is a valid bound
-                break
-            mid = 0.5 * (lo + hi)
-            if fits(mid):
-                lo = mid
-            else:
-                hi = mid
-        return hi
-
-    def budget_level_bound(self, F, idx, A, unit, options, st) -> np.ndarray:
-        """Upper bound on the payload objective that sees the mass and cost budgets (K,).
-
-        A design with objective ≥ f has, at every joint j, an option whose own bound (the most
-        favourable bias over all designs, :meth:`_own_bounds`) is ≥ f, so the free joints weigh
-        at least g(f) = Σ_j least mass over those options; g never decreases with f. With the
-        mass already fixed by the assigned joints and the unit's option, the objective is at
-        most the largest level f with fixed + g(f) ≤ total_mass_max (likewise for cost): a
-        relaxation of the multiple-choice knapsack over per-joint options."""
-        K = options.size
-        out = np.full(K, np.inf)
-        budgets = [(self.mass, self.total_mass_max, 1), (self.cost, self.total_cost_max, 2)]
-        if not any(math.isfinite(b[1]) for b in budgets):
-            return out
-        table = self._node_level_table(F, idx, A, st) if A.size else self._level_table(F, st)
-        if table is None or table[0].size == 0:
-            return out
-        levels = table[0]
-        for values, limit, col in budgets:
-            if not math.isfinite(limit):
-                continue
-            fixed = values[idx[A]].sum() + len(unit) * values[options]
-            room = limit * (1 + 1e-9) - fixed
-            g = table[col]  # nonincreasing along the descending levels
-            first = np.searchsorted(-g, -room, side="left")  # first level whose g fits the room
-            bound = np.where(
-                first < levels.size, levels[np.minimum(first, levels.size - 1)], -np.inf
-            )
-            # the payload is never below 0: a design of payload 0 needs no level
-            out = np.minimum(out, np.maximum(bound, 0.0))
-        return out
-
-    def _payload_bound(self, t, c, idx, A, F, unit, options, st) -> tuple:
-        """Upper bound on the payload of case t over all completions (interval arithmetic).
-
-        Only the joints of the unit and the joints its mass loads differ between the K
-        children; every other joint's ratio bound is computed once."""
-        K = options.size
-        Gm_lo = np.minimum(st["mmin"][F, None] * t.G[F], st["mmax"][F, None] * t.G[F]).sum(axis=0)
-        Gm_hi = np.maximum(st["mmin"][F, None] * t.G[F], st["mmax"][F, None] * t.G[F]).sum(axis=0)
-        base = t.g0 + self.mass[idx[A]] @ t.G[A]
-        load = t.G[unit].sum(axis=0)
-        add = self.mass[options][:, None] * load
-        b_lo, b_hi = base + Gm_lo + add, base + Gm_hi + add
-        hi1 = np.empty(self.n)
-        lo1 = np.empty(self.n)
-        hi1[A], lo1[A] = t.hi[A, idx[A]], t.lo[A, idx[A]]
-        hi1[F], lo1[F] = st["hi"][c][F], st["lo"][c][F]
-        moving = np.zeros(self.n, dtype=bool)
-        moving[unit] = True
-        moving |= load != 0
-        cols = np.flatnonzero(moving)
-        still = np.flatnonzero(~moving)
-        a = t.a
-
-        def ratio(hi, lo, blo, bhi, av):
-            eps = 1e-9 * (np.abs(blo) + np.abs(bhi) + 1.0)
-            with np.errstate(invalid="ignore"):
-                cannot = (hi < blo - eps) | (lo > bhi + eps)
-            with np.errstate(divide="ignore", invalid="ignore"):
-                s_ = np.where(av > 0, (hi - blo) / av, np.where(av < 0, (lo - bhi) / av, np.inf))
-            return cannot, np.where(np.isnan(s_), np.inf, s_)
-
-        # joints no child changes: one value for all children
-        c_still, s_still = ratio(
-            hi1[still],
-            lo1[still],
-            b_lo[0, still] - add[0, still],
-            b_hi[0, still] - add[0, still],
-            a[still],
-        )
-        hi = np.broadcast_to(hi1[cols], (K, cols.size)).copy()
-        lo = np.broadcast_to(lo1[cols], (K, cols.size)).copy()
-        pos = {j: i for i, j in enumerate(cols)}
-        for j in unit:
-            hi[:, pos[j]], lo[:, pos[j]] = t.hi[j, options], t.lo[j, options]
-        c_move, s_move = ratio(hi, lo, b_lo[:, cols], b_hi[:, cols], a[cols])
-        cannot_hold = c_move.any(axis=1) | bool(c_still.any())
-        smin = s_move.min(axis=1) if cols.size else np.full(K, np.inf)
-        if still.size:
-            smin = np.minimum(smin, s_still.min())
-        bound = np.maximum(smin, 0.0)
-        return np.where(cannot_hold, 0.0, bound), b_lo, b_hi
-
-    def _free_bound(self, F, bias, st) -> np.ndarray:
-        """max over options of min over cases of each free joint's ratio bound; min over joints.
-
-        ``bias[c]`` (K, n) is the least favourable-to-nothing bias per case: its lower end where
-        a_j > 0, upper end where a_j < 0, so each ratio bound is optimistic."""
-        K = bias[0].shape[0]
-        out = np.full(K, np.inf)
-        for j in F:
-            R = st["reach"][j]  # (P, C)
-            if R.shape[0] == 0:
-                continue
-            per = []
-            for c, t in enumerate(self.payload):
-                a = t.a[j]
-                if a == 0:
-                    continue
-                with np.errstate(invalid="ignore"):
-                    v = (R[None, :, c] - bias[c][:, j, None]) / a  # (K, P)
-                per.append(self.case_value(c, np.where(np.isnan(v), np.inf, v)))
-            if per:
-                out = np.minimum(out, np.maximum(np.min(per, axis=0).max(axis=1), 0.0))
-        return out
-
     def costly_ok(
         self,
         idx: np.ndarray,
@@ -770,14 +531,16 @@ class SizingModel:
         options: np.ndarray,
         st: dict,
         bounds: dict | None = None,
+        floor: float | None = None,
     ) -> np.ndarray:
         """The bounds that cost an oracle call or a trajectory: effective mass, then duty.
-        For an effective-mass objective the objective bound in ``bounds`` is set here."""
-        ok = self.effective_mass_ok(idx, unit, options, st, bounds)
-        if ok.any() and self.imf_limits_or_objective():
+        For an effective-mass objective the objective bound in ``bounds`` is set here; ``floor``:
+        the objective an improving design must reach (the IMF bound refines up to it)."""
+        ok = impact_bound.effective_mass_ok(self, idx, unit, options, st, bounds)
+        if ok.any() and impact_bound.imf_limits_or_objective(self):
             rows = np.flatnonzero(ok)
             sub = None if bounds is None else {"objective": bounds["objective"][rows]}
-            ok[rows] = self.impact_ok(idx, unit, options[rows], st, sub)
+            ok[rows] = impact_bound.impact_ok(self, idx, unit, options[rows], st, sub, floor)
             if sub is not None and bounds is not None:
                 bounds["objective"][rows] = sub["objective"]
                 bounds["objective"][~ok] = np.minimum(bounds["objective"][~ok], -np.inf)
@@ -786,210 +549,14 @@ class SizingModel:
             ok[rows] = self.duty_bound.ok(idx, unit, options[rows], st, self.mass)
         return ok
 
-    # --- impact mitigation bounds --------------------------------------------------------------
+    def budget_cap(self, st: dict, **kwargs) -> float:
+        """A bound on the payload objective of every design (:func:`budget_bound.budget_cap`)."""
+        return budget_bound.budget_cap(self, st, **kwargs)
+
+    def impact_bounds(self, idx, unit, options, st) -> dict:
+        """Upper bounds on the IMF of every impact case (:func:`impact_bound.impact_bounds`)."""
+        return impact_bound.impact_bounds(self, idx, unit, options, st)
+
     def imf_limits_or_objective(self) -> bool:
-        if (
-            self.impact_evaluator is None
-            or self.project.rotor_coupling
-            or not self.impact_evaluator.floating
-        ):
-            return False
-        if self.kind == "imf" or (self.measure is not None and self.measure[0] == "imf"):
-            return True
-        return any(
-            "imf_min" in c.limits or "directional_imf_min" in c.limits for c in self.impact_cases
-        )
-
-    def impact_bounds(
-        self, idx: np.ndarray, unit: Sequence[int], options: np.ndarray, st: dict
-    ) -> dict:
-        """Upper bounds (K,) on the IMF ξ and the directional IMF ξ_x of every impact case over
-        all completions of the K children (docs/optimizer.md, item 8).
-
-        With A = Λ⁻¹ = J·H⁻¹·Jᵀ (base and unlocked joints) and B = Λ_L⁻¹ = J_b·H_bb⁻¹·J_bᵀ,
-        ξ = det(A − B)/det(A) grows with A and falls with B in the Loewner order, and
-        ξ_x = 1 − xᵀA⁻¹x / xᵀB⁻¹x likewise. H only grows with every actuator mass and every
-        reflected inertia (locking is the limit of infinite inertia), so A is largest with every
-        unassigned joint at its least mass and least back-driven reflected inertia, and B is
-        smallest with every unassigned joint at its greatest mass (B does not see the reflected
-        inertia). Evaluating ξ at (A_max, B_min) bounds every completion."""
-        K0 = options.size
-        # children differ only in the unit's mass and reflected inertia: bound each pair once
-        pairs = np.stack(
-            [
-                self.mass[options],
-                np.where(np.isfinite(self.reflected[options]), self.reflected[options], -1.0),
-            ],
-            axis=1,
-        )
-        _u, first, back = np.unique(pairs, axis=0, return_index=True, return_inverse=True)
-        back = np.asarray(back).reshape(-1)
-        if first.size < K0:
-            sub = self.impact_bounds(idx, unit, options[first], st)
-            return {k: (v[0][back], v[1][back]) for k, v in sub.items()}
-        K = options.size
-        unit = list(unit)
-        full = np.broadcast_to(idx, (K, self.n)).copy()
-        full[:, unit] = options[:, None]
-        free = full < 0
-        safe = np.where(free, 0, full)
-        m_lo = np.where(free, st["mmin"][None, :], self.mass[safe])
-        m_hi = np.where(free, st["mmax"][None, :], self.mass[safe])
-        r_lo = np.where(free, st["rmin"][None, :], self.reflected[safe])
-        # each free joint's candidates split into mass groups: every completion takes, at each
-        # free joint, an option of one group, so the largest bound over the group combinations
-        # bounds it (docs/optimizer.md, item 8); one combination is the plain bound
-        F = np.flatnonzero(free[0]) if K else np.zeros(0, dtype=np.int64)
-        out: dict = {}
-        for combo in self._imf_combos(F, st):
-            m_lo[:, F], m_hi[:, F], r_lo[:, F] = combo
-            got = self._impact_bounds_at(K, m_lo, m_hi, r_lo.copy())
-            if not out:
-                out = got
-            else:
-                out = {
-                    k: (np.maximum(out[k][0], v[0]), np.maximum(out[k][1], v[1]))
-                    for k, v in got.items()
-                }
-        return out
-
-    def _imf_combos(self, F: np.ndarray, st: dict):
-        """(m_min, m_max, r_min) rows over the free joints F, one per combination of mass groups
-        (at most :data:`IMF_COMBOS`); one row of the plain extremes when F is empty."""
-        if F.size == 0:
-            yield (np.zeros(0), np.zeros(0), np.zeros(0))
-            return
-        per = max(1, min(IMF_GROUPS, int(math.floor(IMF_COMBOS ** (1.0 / F.size) + 1e-9))))
-        groups = []
-        for j in F:
-            c = self.candidates[j]
-            m = self.mass[c]
-            u = np.unique(m)
-            if per == 1 or u.size < 2:
-                groups.append([(st["mmin"][j], st["mmax"][j], st["rmin"][j])])
-                continue
-            cuts = u[np.linspace(0, u.size, min(per, u.size) + 1).astype(int)[1:-1]]
-            g = np.searchsorted(cuts, m, side="right")
-            groups.append(
-                [
-                    (m[g == k].min(), m[g == k].max(), self.reflected[c][g == k].min())
-                    for k in range(cuts.size + 1)
-                    if np.any(g == k)
-                ]
-            )
-        import itertools
-
-        for combo in itertools.product(*groups):
-            arr = np.array(combo, dtype=float)
-            yield arr[:, 0], arr[:, 1], arr[:, 2]
-
-    def _impact_bounds_at(self, K: int, m_lo, m_hi, r_lo) -> dict:
-        """:meth:`impact_bounds` for given mass and reflected-inertia extremes (K, n)."""
-        from ..robot.basis import mass_matrix
-
-        locked = ~np.isfinite(r_lo)
-        r_lo = np.where(locked, 0.0, r_lo)
-        out = {}
-        for pc in self.impact_evaluator.cases:
-            if pc.case.kind != "impact":
-                continue
-            nb = 6
-            H_lo = mass_matrix(pc.basis, m_lo, r_lo)
-            H_hi = mass_matrix(pc.basis, m_hi, np.zeros_like(r_lo))
-            J = np.asarray(pc.J, dtype=float)
-            nv = H_lo.shape[-1]
-            # moving coordinates: the base, free joints, and actuated joints that do not self-lock
-            # (held joints never move: they join the locked set, as in the evaluator)
-            keep = np.ones((K, nv), dtype=bool)
-            keep[:, self.evaluator.held_index] = False
-            keep[:, self.evaluator.v_index] = ~locked
-            both = keep[:, :, None] & keep[:, None, :]
-            H_lo = np.where(both, H_lo, np.eye(nv))
-            Jt = np.where(keep[:, :, None], np.broadcast_to(J.T, (K,) + J.T.shape), 0.0)
-            A = np.einsum("ij,kjl->kil", J, np.linalg.solve(H_lo, Jt))
-            Jb = J[:, :nb]
-            rhs = np.broadcast_to(Jb.T, (K,) + Jb.T.shape)
-            B = np.einsum("ij,kjl->kil", Jb, np.linalg.solve(H_hi[:, :nb, :nb], rhs))
-            A = 0.5 * (A + np.swapaxes(A, 1, 2))
-            B = 0.5 * (B + np.swapaxes(B, 1, 2))
-            det_a = np.linalg.det(A)
-            with np.errstate(divide="ignore", invalid="ignore"):
-                xi = np.linalg.det(A - B) / det_a
-                x = np.asarray(pc.u, dtype=float) / np.linalg.norm(pc.u)
-                qa = np.einsum("i,kij,j->k", x, np.linalg.inv(A), x)
-                qb = np.einsum("i,kij,j->k", x, np.linalg.inv(B), x)
-                xd = np.where(qb > 0, 1.0 - qa / qb, 1.0)
-            xi = np.where(np.isfinite(xi), np.clip(xi, 0.0, 1.0), 1.0)
-            xd = np.where(np.isfinite(xd), np.clip(xd, 0.0, 1.0), 1.0)
-            # round-off: a relative slack on both
-            out[pc.case.name] = (
-                np.minimum(xi * (1 + 1e-7) + 1e-9, 1.0),
-                np.minimum(xd * (1 + 1e-7) + 1e-9, 1.0),
-            )
-        return out
-
-    def impact_ok(self, idx, unit, options, st, bounds=None) -> np.ndarray:
-        """False where an IMF limit is provably missed by every completion; for the ``imf``
-        objective (and an IMF measure) the objective bound in ``bounds`` is lowered to the
-        worst case's bound (:meth:`impact_bounds`)."""
-        K = options.size
-        ok = np.ones(K, dtype=bool)
-        if K == 0:
-            return ok
-        ub = self.impact_bounds(idx, unit, options, st)
-        for c in self.impact_cases:
-            if c.name not in ub:
-                continue
-            xi, xd = ub[c.name]
-            if "imf_min" in c.limits:
-                ok &= xi >= c.limits["imf_min"] * (1 - 1e-9) - 1e-12
-            if "directional_imf_min" in c.limits:
-                ok &= xd >= c.limits["directional_imf_min"] * (1 - 1e-9) - 1e-12
-        if bounds is not None:
-            if self.kind == "imf":
-                f = np.min([ub[n][0] for n in ub], axis=0) if ub else np.ones(K)
-                bounds["objective"] = np.minimum(bounds["objective"], f)
-            elif self.measure is not None and self.measure[0] == "imf" and self.measure[1] in ub:
-                bounds["objective"] = np.minimum(bounds["objective"], ub[self.measure[1]][0])
-        return ok
-
-    def effective_mass_ok(
-        self,
-        idx: np.ndarray,
-        unit: tuple,
-        options: np.ndarray,
-        st: dict,
-        bounds: dict | None = None,
-    ) -> np.ndarray:
-        """False where the effective mass with every unassigned joint at its lightest mass and
-        least reflected inertia already exceeds a limit (effective mass grows with the mass
-        matrix in the Loewner order, so no completion can do better). True without limits or
-        with rotor coupling (then the bound is not proven)."""
-        K = options.size
-        em_kind = self.measure is not None and self.measure[0] == "effective_mass"
-        if not (self.effective_mass_limits or em_kind) or self.project.rotor_coupling or K == 0:
-            return np.ones(K, dtype=bool)
-        full = np.broadcast_to(idx, (K, self.n)).copy()
-        full[:, list(unit)] = options[:, None]
-        free = np.flatnonzero(full[0] < 0)
-        safe = np.where(full < 0, 0, full)
-        arrays = self.table.arrays(safe)
-        fields_ = {f.name: getattr(arrays, f.name).copy() for f in dataclasses.fields(arrays)}
-        for k in free:
-            fields_["mass"][:, k] = st["mmin"][k]
-            fields_["ratio"][:, k] = 1.0
-            fields_["eta_backward"][:, k] = 1.0
-            fields_["eta_forward"][:, k] = 1.0
-            locked = not math.isfinite(st["rmin"][k])
-            fields_["self_locking"][:, k] = locked
-            fields_["rotor_inertia"][:, k] = 0.0 if locked else st["rmin"][k]
-        virtual = type(arrays)(**fields_)
-        ev = self.impact_evaluator.evaluate(virtual, detail=False)
-        ok = np.ones(K, dtype=bool)
-        for name, limit in self.effective_mass_limits:
-            ok &= np.asarray(ev[name]["effective_mass"]) <= limit * (1 + 1e-9) + 1e-12
-        if em_kind and bounds is not None:
-            bounds["objective"] = np.minimum(
-                bounds["objective"], -np.asarray(ev[self.measure[1]]["effective_mass"])
-            )
-        return ok
+        """Whether the IMF bounds apply (:func:`impact_bound.imf_limits_or_objective`)."""
+        return impact_bound.imf_limits_or_objective(self)

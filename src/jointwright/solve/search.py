@@ -113,6 +113,10 @@ class BranchAndBound:
         self.ties = ties
         self.reached = False
         self.upper = math.inf if upper is None else upper
+        # IMF limits: each node drops the open units' options that miss one (item 8)
+        self.imf_limits = model.imf_limits_or_objective() and any(
+            "imf_min" in c.limits or "directional_imf_min" in c.limits for c in model.impact_cases
+        )
 
     def unit_options(self, unit) -> np.ndarray:
         opts = self.model.candidates[unit[0]]
@@ -168,34 +172,66 @@ class BranchAndBound:
                 )
         return keep
 
-    def _children(self, idx: np.ndarray, unit: tuple, opts: np.ndarray):
-        """Options of ``unit`` that survive every cut, best bound first, with their bounds."""
+    def _children(self, idx: np.ndarray, unit: tuple, opts: np.ndarray, st: dict):
+        """Options of ``unit`` that survive every cut, best bound first, with their bounds;
+        ``st``: the statistics of the node's candidates (:meth:`_node_candidates`)."""
         floor = None
         if self.best_key is not None:
             floor = self.best_key[0] - tie_tol(self.best_key[0])
-        b = self.model.child_bounds(idx, unit, opts, self.st, floor)
+        b = self.model.child_bounds(idx, unit, opts, st, floor)
         b["objective"] = np.minimum(b["objective"], self.cap)
         if self.levels is not None and opts.size:
-            st = dict(self.st, mmin=self.model.useful_mmin(self.st, floor))
-            b["objective"] = np.minimum(b["objective"], self.levels.bound(idx, unit, opts, st))
+            st_ = dict(st, mmin=self.model.useful_mmin(st, floor))
+            b["objective"] = np.minimum(b["objective"], self.levels.bound(idx, unit, opts, st_))
         if self.stance is not None and opts.size:
             stance = self.stance.bound(idx, unit, opts, floor)
             b["objective"] = np.minimum(b["objective"], stance)
         keep = self._prune(b)
         opts, b = opts[keep], {k: v[keep] for k, v in b.items()}
         if opts.size:
-            em = self.model.costly_ok(idx, unit, opts, self.st, b)
+            em = self.model.costly_ok(idx, unit, opts, st, b, floor)
             em &= self._prune(b)
             opts, b = opts[em], {k: v[em] for k, v in b.items()}
         order = np.lexsort((opts, b["mass"], -b["objective"]))
         return opts[order], {k: v[order] for k, v in b.items()}
 
-    def _node(self, idx: np.ndarray, level: int) -> None:
+    def _node_candidates(self, idx: np.ndarray, level: int, cands: list, st: dict):
+        """The candidates of the units still open below a node with IMF limits: options that
+        miss a limit in every completion of the node are dropped (docs/optimizer.md, item 8), and
+        the statistics follow. (None, None) when a unit has no option left. The node's own unit
+        is left out: its options are screened as children, after the cheap cuts."""
+        if not self.imf_limits or level == 0 or level + 2 > len(self.units):
+            return cands, st
+        from .impact_bound import impact_ok
+
+        out = list(cands)
+        for unit in self.units[level + 1 :]:
+            opts = out[unit[0]]
+            for j in unit[1:]:
+                opts = np.intersect1d(opts, out[j])
+            keep = opts[impact_ok(self.model, idx, unit, opts, st)] if opts.size else opts
+            if keep.size == 0:
+                return None, None
+            for j in unit:
+                out[j] = keep
+        if all(a.size == b.size for a, b in zip(out, cands, strict=True)):
+            return cands, st
+        return out, self.model.stats(out)
+
+    def _node(self, idx: np.ndarray, level: int, cands=None, st=None) -> None:
         self.nodes += 1
         if self.progress is not None and self.nodes % 200 == 0:
             self.progress(self.nodes, self.best_key[0] if self.best_key else None)
+        cands, st = self._node_candidates(
+            idx, level, self.model.candidates if cands is None else cands, st or self.st
+        )
+        if cands is None or st is None:
+            return
         unit = self.units[level]
-        opts, b = self._children(idx, unit, self.unit_options(unit))
+        opts = cands[unit[0]]
+        for j in unit[1:]:
+            opts = np.intersect1d(opts, cands[j])
+        opts, b = self._children(idx, unit, opts, st)
         if level + 1 == len(self.units):
             self._leaves(idx, unit, opts, b)
             return
@@ -204,7 +240,7 @@ class BranchAndBound:
         while i < opts.size:
             if self.best_key is not version:  # a better incumbent: re-bound what is left
                 version = self.best_key
-                opts, b = self._children(idx, unit, opts[i:])
+                opts, b = self._children(idx, unit, opts[i:], st)
                 i = 0
                 continue
             if self.reached:
@@ -217,7 +253,7 @@ class BranchAndBound:
             if self._prune({k: v[i : i + 1] for k, v in b.items()})[0]:
                 child = idx.copy()
                 child[list(unit)] = opts[i]
-                self._node(child, level + 1)
+                self._node(child, level + 1, cands, st)
             i += 1
 
     def _leaves(self, idx: np.ndarray, unit: tuple, opts: np.ndarray, b: dict) -> None:
