@@ -3,7 +3,7 @@ impact kernels side by side, beside the machine's estimated peak.
 
 Paths compared in one run:
 
-* **generic**: the impact case through ``metrics.inertia.impact_mitigation`` (entry lists over
+* **generic**: the impact case through ``metrics.impact_mitigation.impact_mitigation`` (entry lists over
   ``(designs, nv, nv)`` arrays), one thread — the path before the fused kernel;
 * **fused, 1 thread** and **fused, N threads**: the impact case through
   ``metrics.impact_fused`` (designs on the last axis, structural zeros skipped), its chunks of

@@ -1,6 +1,6 @@
 """The fused impact kernel (metrics.impact_fused) equals the generic path to 1e-9.
 
-Reference: metrics.inertia.impact_mitigation (the generic entry-list path, itself checked
+Reference: metrics.impact_mitigation.impact_mitigation (the generic entry-list path, itself checked
 against numpy.linalg on Pinocchio mass matrices and against the impact mitigation factor
 ξ = det(I − Λ·Λ_L⁻¹) of Wensing et al., IEEE T-RO 33(3), 2017 [pub] in tests/test_evaluate.py
 and tests/test_metrics_inertia.py). The evaluator runs either path (``Evaluator.fused_impact``).
@@ -17,7 +17,7 @@ import jointwright.evaluate as evaluate_module
 from jointwright.errors import InputError, SingularPoseError
 from jointwright.evaluate import Evaluator
 from jointwright.metrics.impact_fused import entries_batch_last, impact_fused
-from jointwright.metrics.inertia import impact_mitigation
+from jointwright.metrics.impact_mitigation import impact_mitigation
 
 RTOL = 1e-9
 

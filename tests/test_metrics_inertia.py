@@ -15,9 +15,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from jointwright.errors import InputError, SingularPoseError
+from jointwright.metrics.impact_mitigation import impact_mitigation
 from jointwright.metrics.inertia import (
     effective_mass,
-    impact_mitigation,
     inertia_ellipsoid,
     task_space_inertia,
     task_space_inertia_strict,
@@ -316,7 +316,7 @@ def test_planar_leg_restricted_equals_reduced_jacobian():
 
 def test_rank_deficient_batch_paths_agree():
     # closed-form "one short" path vs the eigen-decomposition path, over a batch
-    from jointwright.metrics.inertia import _spectral
+    from jointwright.metrics.impact_mitigation import _spectral
 
     H, J, _ = random_system(5, 8, 3, (300,))
     res = impact_mitigation(H, J)

@@ -100,7 +100,7 @@ class Evaluator:
     """
 
     #: impact cases of floating-base robots through metrics.impact_fused (False: the generic
-    #: metrics.inertia.impact_mitigation path, kept as the reference)
+    #: metrics.impact_mitigation.impact_mitigation path, kept as the reference)
     fused_impact: bool = True
 
     def __init__(self, project):

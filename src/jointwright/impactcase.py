@@ -14,7 +14,8 @@ import numpy as np
 from .design import DesignArrays
 from .metrics.contact_safety import transient_contact
 from .metrics.gear_shock import gear_shock_torque, link_velocity_step
-from .metrics.inertia import effective_mass, forward_effective_mass, impact_mitigation
+from .metrics.impact_mitigation import impact_mitigation
+from .metrics.inertia import effective_mass, forward_effective_mass
 from .metrics.linalg_small import inv_small
 from .preparedcase import PreparedCase
 from .robot.basis import mass_matrix

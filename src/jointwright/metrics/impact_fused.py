@@ -1,6 +1,6 @@
 """The impact mitigation factor of many designs in one fused pass, designs on the last axis.
 
-:func:`jointwright.metrics.inertia.impact_mitigation` is the reference: it takes mass matrices
+:func:`.impact_mitigation.impact_mitigation` is the reference: it takes mass matrices
 shaped ``(..., nv, nv)`` with any batch shape, checks them, and works through generic entry
 lists. The evaluator's impact case is narrower — one contact Jacobian shared by every design,
 mass matrices that are symmetric by construction — and this module does that case with the
@@ -27,7 +27,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError, SingularPoseError
-from .inertia import RANK_TOL, classified_imf
+from .impact_mitigation import classified_imf
+from .inertia import RANK_TOL
 from .linalg_small import API, adjugate_entries, det_entries
 
 #: an entry: a row over the designs, or a number shared by all of them (0.0: structural zero)
@@ -41,7 +42,7 @@ class FusedImpact:
     Attributes
     ----------
     imf, rank, imf_restricted
-        As in :class:`jointwright.metrics.inertia.ImpactMitigation`.
+        As in :class:`jointwright.metrics.impact_mitigation.ImpactMitigation`.
     imf_direction : ξ_x along the given direction
     mobility : xᵀ·Λ⁻¹·x = xᵀ·J·H⁻¹·Jᵀ·x, 1/kg; the effective mass along x is its inverse
     """
@@ -154,7 +155,7 @@ def impact_fused(
         Joints locked in the impact (their rows and columns leave H, their columns leave J).
     direction : array (m,), x (normally a unit vector; ξ_x does not depend on its length)
     rank_tol : float
-        As in :func:`jointwright.metrics.inertia.impact_mitigation`.
+        As in :func:`jointwright.metrics.impact_mitigation.impact_mitigation`.
 
     Returns
     -------
@@ -312,7 +313,7 @@ def _closed_form(
     p: list[list[np.ndarray]], a: list[list[np.ndarray]], det_a: np.ndarray, tol: float
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """ξ, rank and restricted ξ by cofactors: the rule of
-    :func:`jointwright.metrics.inertia._closed_form` (elementary symmetric functions of the
+    :func:`.impact_mitigation._closed_form` (elementary symmetric functions of the
     eigenvalues of Λ·P), without forming Λ or Λ_L."""
     imf, rank, restricted, _adj_a = classified_imf(p, a, det_a, tol)
     return imf, rank, restricted
