@@ -30,11 +30,15 @@ from dataclasses import dataclass
 from .errors import InputError
 from .solve.model import tie_tol
 
-#: measure -> (case kind, case-limit key, metric in the assessment, sense: "min" = larger is better)
+#: measure -> (case kind, limit key, metric, sense: "min" = larger is better). The robot-level
+#: measures (total actuator mass, total cost) have no case (kind None); their limit is the
+#: project's requirement of that name
 MEASURES = {
     "imf": ("impact", "imf_min", "imf", "min"),
     "effective_mass": ("impact", "effective_mass_max", "effective_mass", "max"),
     "backdrive_force": ("backdrive", "backdrive_force_max", "backdrive_force", "max"),
+    "mass": (None, "total_mass_max", "mass", "max"),
+    "cost": (None, "total_cost_max", "cost", "max"),
 }
 #: metric name in the evaluation -> measure name
 MEASURES_NAME = {v[2]: k for k, v in MEASURES.items()}
@@ -62,7 +66,7 @@ class FrontierPoint:
 @dataclass(frozen=True)
 class Frontier:
     measure: str
-    case: str
+    case: str | None  # None for the robot-level measures (total mass, cost)
     sense: str  # "min": larger measure is better; "max": smaller is better
     points: tuple  # FrontierPoint, largest payload first
     complete: bool
@@ -119,7 +123,14 @@ class Frontier:
 
 
 def _case(project, measure: str, case: str | None):
+    """The case whose measure is traded (None for total mass and cost, which have no case)."""
     kind = MEASURES[measure][0]
+    if kind is None:
+        if case is not None:
+            raise InputError(
+                "<api>", "case", f"measure {measure} is the robot's total and takes no case"
+            )
+        return None
     if measure == "imf" and project.robot.n_base != 6:
         raise InputError(
             str(project.file),
@@ -143,8 +154,14 @@ def _case(project, measure: str, case: str | None):
     return c
 
 
-def with_limit(project, case_name: str, key: str, value: float | None):
-    """The project with one limit of one case set (None: removed)."""
+def with_limit(project, case_name: str | None, key: str, value: float | None):
+    """The project with one limit of one case set (None: removed); with ``case_name`` None, the
+    requirement ``key`` of the whole robot (total mass or cost; removed: no limit)."""
+    if case_name is None:
+        req = dataclasses.replace(
+            project.requirements, **{key: math.inf if value is None else float(value)}
+        )
+        return dataclasses.replace(project, requirements=req)
     cases = []
     for c in project.cases:
         if c.name == case_name:
@@ -172,8 +189,10 @@ def frontier(
     Parameters
     ----------
     project : Project
-    measure : "imf" (floating base), "effective_mass" (kg) or "backdrive_force" (N)
-    case : name of the impact / back-drive case; default the first of that kind
+    measure : "imf" (floating base), "effective_mass" (kg), "backdrive_force" (N), "mass"
+        (total actuator mass, kg) or "cost" (total actuator cost, the catalog's currency units)
+    case : name of the impact / back-drive case; default the first of that kind; none for
+        "mass" and "cost"
     points : most sizing solves (the frontier is marked incomplete when it is reached)
     time_limit : s for the whole sweep
     backend : passed to :func:`jointwright.sizing.size` (sweep)
@@ -195,6 +214,7 @@ def frontier(
     if not isinstance(points, int) or points < 1:
         raise InputError("<api>", "points", f"must be a whole number >= 1, got {points!r}")
     c = _case(project, measure, case)
+    name = None if c is None else c.name
     _kind, key, metric, sense = MEASURES[measure]
     start = time.perf_counter()
     deadline = math.inf if time_limit is None else start + time_limit
@@ -209,10 +229,10 @@ def frontier(
     table = build_table(project, read_objective(project)["exclude"])
     if method in ("auto", "branch-and-bound"):
         return _finish(
-            project, _bnb(project, c.name, key, metric, sense, deadline, start, table), merge
+            project, _bnb(project, name, key, metric, sense, deadline, start, table), merge
         )
     if method == "exhaustive":
-        out = _exhaustive(project, c.name, key, metric, sense, deadline, start, math.inf, table)
+        out = _exhaustive(project, name, key, metric, sense, deadline, start, math.inf, table)
         assert out is not None  # no size limit: it always answers
         return _finish(project, out, merge)
     found: list[tuple] = []
@@ -222,7 +242,7 @@ def frontier(
         left = deadline - time.perf_counter()
         if left <= 0:
             break
-        current = with_limit(project, c.name, key, eps)
+        current = with_limit(project, name, key, eps)
         upper = found[-1][0] if found else None  # the neighbour's payload bounds this one
         status, payload, design, _i = _solve(
             current, "payload", None, time_limit and left, upper, backend, table
@@ -235,16 +255,16 @@ def frontier(
             if design is not None and not found:
                 # stopped before the first proof: the best design found is still a feasible
                 # point the architect can start from (the frontier is marked sampled)
-                found.append((payload, _measure(project, design, c.name, metric), design))
+                found.append((payload, _measure(project, design, name, metric), design))
             break
         rest = None if time_limit is None else max(deadline - time.perf_counter(), 1e-3)
         status2, _value, best, _i = _solve(
-            current, f"{metric}@{c.name}", payload, rest, None, "search", table
+            current, objective_kind(metric, name), payload, rest, None, "search", table
         )
         solves += 1
         if status2 == "optimal":
             design = best
-        mu = _measure(project, design, c.name, metric)
+        mu = _measure(project, design, name, metric)
         found.append((payload, mu, design))
         if not math.isfinite(mu):
             complete = sense == "max" and False
@@ -256,7 +276,7 @@ def frontier(
             break
     pts = _points(found)
     out = Frontier(
-        measure, c.name, sense, pts, complete, knee(pts, sense), time.perf_counter() - start, solves
+        measure, name, sense, pts, complete, knee(pts, sense), time.perf_counter() - start, solves
     )
     return _finish(project, out, merge)
 
@@ -269,8 +289,21 @@ METHODS = ("auto", "branch-and-bound", "exhaustive", "sweep")
 SEED_MIN = 10_000_000
 
 
+def objective_kind(metric: str, case: str | None) -> str:
+    """The single-objective search's objective for a measure: "mass" and "cost" are its own
+    objectives; a case's measure is "metric@case"."""
+    return metric if case is None else f"{metric}@{case}"
+
+
 def _bnb(
-    project, case: str, key: str, metric: str, sense: str, deadline: float, start: float, table
+    project,
+    case: str | None,
+    key: str,
+    metric: str,
+    sense: str,
+    deadline: float,
+    start: float,
+    table,
 ) -> Frontier:
     """The complete front by bi-objective branch and bound (:mod:`.solve.biobjective`)."""
     from .sizing import build_model, design_of, read_objective, units_of
@@ -310,7 +343,7 @@ def _bnb(
     if status == "optimal":
         left = deadline - time.perf_counter()
         status2, _v, _d, best = _solve(
-            free, f"{metric}@{case}", payload, _left(left), None, "search", table
+            free, objective_kind(metric, case), payload, _left(left), None, "search", table
         )
         if status2 == "optimal":
             search.seed(best)
@@ -408,7 +441,7 @@ def _merged(f: Frontier, tol: float) -> Frontier:
 
 def _exhaustive(
     project,
-    case: str,
+    case: str | None,
     key: str,
     metric: str,
     sense: str,
@@ -511,9 +544,11 @@ def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=
     return out.status, out.objective, design_of(project, model, index, "frontier point"), index
 
 
-def _measure(project, design, case: str, metric: str) -> float:
+def _measure(project, design, case: str | None, metric: str) -> float:
     from .assessment import assess
 
+    if case is None:  # total actuator mass or cost
+        return float(design.mass if metric == "mass" else design.cost)
     a = assess(project, design)
     return float(next(c for c in a.cases if c.name == case).metrics[metric])
 

@@ -33,11 +33,13 @@ import numpy as np
 
 from ..problem import checks, feasible
 from .model import SizingModel, tie_tol
-from .pareto import _payload
+from .pareto import _payload, measure_values
 from .search import search_order
 
 #: complete designs scored per oracle call at the last level
 LEAF_CHUNK = 512
+#: the robot-level measures: sums of per-joint values, bounded exactly by the per-joint minima
+SEPARABLE = ("mass", "cost")
 #: kinds of queue entries: a partial design, a complete design that passed the static cases,
 #: a complete design fully checked
 NODE, SCREENED, FINAL = 0, 1, 2
@@ -59,12 +61,17 @@ class BiOutcome:
     open_measure: float | None
 
 
-def measure_model(model: SizingModel, case: str, metric: str) -> SizingModel:
+def measure_model(model: SizingModel, case: str | None, metric: str) -> SizingModel:
     """The payload model with its measure set to ``metric`` at ``case`` (for the measure bounds
-    of :meth:`SizingModel.child_bounds` and :meth:`SizingModel.costly_ok`); shares every array."""
+    of :meth:`SizingModel.child_bounds` and :meth:`SizingModel.costly_ok`); shares every array.
+    The robot-level measures (total mass, cost; ``case`` None) are the model's own objectives
+    "mass" and "cost", whose bound is the exact sum of the per-joint least values."""
     m = copy.copy(model)
-    m.kind = f"{metric}@{case}"
-    m.measure = (metric, case, 1.0 if metric == "imf" else -1.0)
+    if metric in SEPARABLE:
+        m.kind, m.measure = metric, None
+    else:
+        m.kind = f"{metric}@{case}"
+        m.measure = (metric, case, 1.0 if metric == "imf" else -1.0)
     # the duty-cycle bound costs a trajectory pass per node and only removes designs that the
     # costly check at the leaves rejects anyway: left out of the inner nodes (fewer cuts only)
     m.duty_bound = None
@@ -82,7 +89,7 @@ class BiObjectiveSearch:
         self,
         model: SizingModel,
         units: list[tuple],
-        case: str,
+        case: str | None,
         metric: str,
         sense: str,
         *,
@@ -125,7 +132,7 @@ class BiObjectiveSearch:
         opts = [self._unit_options(u) for u in self.units]
         if all(o.size for o in opts):
             root = (np.full(n, -1, dtype=np.int64), -1)
-            top = 1.0 if self.mmodel.measure[0] == "imf" else 0.0  # the trivial measure bound
+            top = 1.0 if self.metric == "imf" else 0.0  # the trivial measure bound
             heap.append((-self.cap, -top, 0.0, 0.0, next(tick), NODE, root, 0))
         self.leaves: list = []  # complete designs not yet scored, by their (near-exact) boxes
         pops = 0
@@ -197,7 +204,7 @@ class BiObjectiveSearch:
             return
         arrays = model.table.arrays(index)
         ev = model.static_evaluator.evaluate(arrays, detail=False)
-        m = self.sign * float(np.asarray(ev[self.case][self.metric], dtype=float)[0])
+        m = self.sign * float(measure_values(arrays, ev, self.case, self.metric)[0])
         p = float(full.objective[0])
         if not (math.isfinite(p) and math.isfinite(m)):
             return
@@ -255,21 +262,25 @@ class BiObjectiveSearch:
         if self.stance is not None and opts.size:
             p = np.minimum(p, self.stance.bound(idx, unit, opts))
         keep = b["ok"] & (p > -np.inf)
-        if self.mmodel.measure[0] == "backdrive_force":
+        if self.metric in SEPARABLE or self.metric == "backdrive_force":
+            # total mass or cost: the assigned joints' values plus each free joint's least one
+            # (exact for a complete design); back-drive force: the least breakaway torques
             mb = self.mmodel.child_bounds(idx, unit, opts[keep], self.st)["objective"]
         else:
-            # the trivial bounds: an IMF is at most 1, a mass or a force at least 0
-            mb = np.full(int(keep.sum()), 1.0 if self.mmodel.measure[0] == "imf" else 0.0)
+            # the trivial bounds: an IMF is at most 1, an effective mass at least 0
+            mb = np.full(int(keep.sum()), 1.0 if self.metric == "imf" else 0.0)
         opts, p = opts[keep], p[keep]
         keep = ~self.dominated(p, mb)
         opts, p, mb = opts[keep], p[keep], mb[keep]
         if opts.size and (self.fp.size or last):
             # the measure bounds cost an oracle call; above the last level, before the first
             # front point, they cut nothing (no box is dominated): they start with it there
-            # (skipping a cut is safe); complete designs always get theirs
-            bounds = {"objective": mb.copy()}
+            # (skipping a cut is safe); complete designs always get theirs. Total mass and cost
+            # have theirs already (exact sums): the call checks the other limits only
+            bounds = None if self.metric in SEPARABLE else {"objective": mb.copy()}
             ok = self.mmodel.costly_ok(idx, unit, opts, self.st, bounds)
-            mb = np.minimum(mb, bounds["objective"])
+            if bounds is not None:
+                mb = np.minimum(mb, bounds["objective"])
             ok &= ~self.dominated(p, mb)
             opts, p, mb = opts[ok], p[ok], mb[ok]
         order = np.lexsort((opts, -mb, -p))
@@ -311,7 +322,7 @@ class BiObjectiveSearch:
         ev = model.static_evaluator.evaluate(arrays, detail=False)
         ok = feasible(checks(model.static_project, arrays, ev), chunk.shape[0])
         pay = _payload(model, arrays, ev, chunk.shape[0])
-        mu = self.sign * np.asarray(ev[self.case][self.metric], dtype=float)
+        mu = self.sign * measure_values(arrays, ev, self.case, self.metric)
         ok &= np.isfinite(mu) & ~np.isnan(pay)
         self.scored += chunk.shape[0]
         keep = np.flatnonzero(ok)
