@@ -316,17 +316,19 @@ def _bnb(
     units = units_of(model.n, model.shared)
     search = BiObjectiveSearch(model, units, case, metric, sense, deadline=deadline)
     # on large option spaces the strongest end first, by the single-objective search and its
-    # heuristics: the largest payload, then the best measure at that payload (the sweep's first
-    # step; both proven). On small ones the two solves cost more than they save (measured:
-    # docs/benchmarks.md)
+    # heuristics: the largest payload (proven: it caps every box) and a design that reaches it,
+    # whose measure prunes every box it beats (BiObjectiveSearch.incumbent). On small ones the
+    # solve costs more than it saves (measured: docs/benchmarks.md)
     top = None
     if count(model, units) < SEED_MIN:
         status = "skipped"
     else:
         left = deadline - time.perf_counter()
-        status, payload, top, _i = _solve(
+        status, payload, top, first = _solve(
             free, "payload", None, _left(left), None, "search", table, bound=search
         )
+        if first is not None:  # a feasible design of the largest payload found: it prunes
+            search.incumbent(first)
         top = None if top is None else (payload, top)
     if status == "infeasible":  # nothing is feasible: the empty front, proven
         return Frontier(
@@ -340,15 +342,8 @@ def _bnb(
             1,
             "branch-and-bound",
         )
-    if status == "optimal":
-        left = deadline - time.perf_counter()
-        status2, _v, _d, best = _solve(
-            free, objective_kind(metric, case), payload, _left(left), None, "search", table
-        )
-        if status2 == "optimal":
-            search.seed(best)
     out = search.run()
-    solves = 0 if status == "skipped" else 1 + int(status == "optimal")
+    solves = 0 if status == "skipped" else 1
     found = [
         (payload, mu, design_of(project, model, idx, "frontier point"))
         for payload, mu, idx, _mass in out.points
