@@ -179,7 +179,12 @@ def test_incumbent_of_largest_payload_and_worst_measure_keeps_the_front(leg, see
     cfg = read_objective(p)
     free = with_limit(p, case, key, None)
     model, _ = build_model(
-        free, "payload", cfg["pin"], cfg["exclude"], cfg["shared"], table=build_options(p, cfg["exclude"])
+        free,
+        "payload",
+        cfg["pin"],
+        cfg["exclude"],
+        cfg["shared"],
+        table=build_options(p, cfg["exclude"]),
     )
     units = units_of(model.n, model.shared)
     opts = unit_options(model, units)
