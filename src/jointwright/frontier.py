@@ -317,9 +317,10 @@ def _bnb(
     search = BiObjectiveSearch(model, units, case, metric, sense, deadline=deadline)
     # on large option spaces the strongest end first, by the single-objective search and its
     # heuristics: the largest payload (proven: it caps every box) and a design that reaches it,
-    # whose measure prunes every box it beats (BiObjectiveSearch.incumbent). On small ones the
-    # solve costs more than it saves (measured: docs/benchmarks.md)
-    top = None
+    # whose measure prunes every box it beats (BiObjectiveSearch.incumbent); then, within half
+    # the time left, the best measure at that payload (a proven front point when it finishes).
+    # On small ones the solves cost more than they save (measured: docs/benchmarks.md)
+    top = first = None
     if count(model, units) < SEED_MIN:
         status = "skipped"
     else:
@@ -327,8 +328,6 @@ def _bnb(
         status, payload, top, first = _solve(
             free, "payload", None, _left(left), None, "search", table, bound=search
         )
-        if first is not None:  # a feasible design of the largest payload found: it prunes
-            search.incumbent(first)
         top = None if top is None else (payload, top)
     if status == "infeasible":  # nothing is feasible: the empty front, proven
         return Frontier(
@@ -342,8 +341,29 @@ def _bnb(
             1,
             "branch-and-bound",
         )
-    out = search.run()
     solves = 0 if status == "skipped" else 1
+    if status == "optimal":
+        # the best measure at the largest payload, with at most half the time left: when it
+        # is proven, (P*, μ*) is a front point; else the best design it found (payload P*, a
+        # measure at least as good as the first design's) prunes as an incumbent
+        left = deadline - time.perf_counter()
+        status2, _v, _d, best = _solve(
+            free,
+            objective_kind(metric, case),
+            payload,
+            _left(left / 2),
+            None,
+            "search",
+            table,
+        )
+        solves += 1
+        if status2 == "optimal" and best is not None:
+            search.seed(best)
+        elif best is not None:
+            search.incumbent(best)
+    if first is not None and not search.fp.size:
+        search.incumbent(first)
+    out = search.run()
     found = [
         (payload, mu, design_of(project, model, idx, "frontier point"))
         for payload, mu, idx, _mass in out.points

@@ -205,36 +205,53 @@ class BiObjectiveSearch:
             open_m,
         )
 
-    def incumbent(self, index: np.ndarray, heap: list | None = None) -> bool:
+    def _point(self, index: np.ndarray):
+        """(payload, internal measure, mass, inertia) of a fully checked feasible design, or
+        None."""
+        model = self.model
+        index = np.asarray(index, dtype=np.int64)[None, :]
+        full = model.score(index, full=True)
+        if not full.feasible[0]:
+            return None
+        arrays = model.table.arrays(index)
+        ev = model.static_evaluator.evaluate(arrays, detail=False)
+        m = self.sign * float(measure_values(arrays, ev, self.case, self.metric)[0])
+        p = float(full.objective[0])
+        if not (math.isfinite(p) and math.isfinite(m)):
+            return None
+        return p, m, float(full.mass[0]), float(full.reflected[0])
+
+    def seed(self, index: np.ndarray) -> bool:
+        """Start from a proven front point: ``index`` has the largest payload of all designs
+        and the best measure among those of that payload (two single-objective searches, the
+        sweep's first step). No design has more payload, so the cap falls to it, and every box
+        whose measure bound is no better is dominated from the start."""
+        point = self._point(index)
+        if point is None:
+            return False
+        p, m, mass, refl = point
+        self.cap = min(self.cap, p + tie_tol(p))
+        self._add(p, m, np.asarray(index, dtype=np.int64).copy(), mass, refl)
+        return True
+
+    def incumbent(self, index: np.ndarray) -> bool:
         """Start from a feasible design of largest payload (the single-objective search's, the
         sweep's first step). Its point (P, μ) prunes every box that it beats strictly in
         measure with payload bound ≤ P: every design inside has payload ≤ P and a worse
         measure, so none is on the front. Boxes equal to it in measure stay, so the point at
         payload P with the best measure is still found; the design itself waits in the queue
         as a fully checked entry and joins the front when it reaches the head, unless a design
-        of the same payload and a better measure came first. Returns whether it was taken."""
-        model = self.model
-        index = np.asarray(index, dtype=np.int64)[None, :]
-        full = model.score(index, full=True)
-        if not full.feasible[0]:
+        of the same payload and a better measure came first. Of two incumbents the one of
+        larger payload, then better measure, stays. Returns whether it was taken."""
+        point = self._point(index)
+        if point is None:
             return False
-        arrays = model.table.arrays(index)
-        ev = model.static_evaluator.evaluate(arrays, detail=False)
-        m = self.sign * float(measure_values(arrays, ev, self.case, self.metric)[0])
-        p = float(full.objective[0])
-        if not (math.isfinite(p) and math.isfinite(m)):
+        p, m, mass, refl = point
+        if self.inc is not None and (self.inc[0], self.inc[1]) >= (p, m):
             return False
         self.inc = (p, m)
-        self.inc_entry = (
-            -p,
-            -m,
-            float(full.mass[0]),
-            float(full.reflected[0]),
-            -1,
-            FINAL,
-            index[0].copy(),
-            len(self.units),
-        )
+        idx = np.asarray(index, dtype=np.int64).copy()
+        self.inc_entry = (-p, -m, mass, refl, -1, FINAL, idx, len(self.units))
         return True
 
     def _add(self, p: float, m: float, idx: np.ndarray, mass: float, refl: float) -> None:
