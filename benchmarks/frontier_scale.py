@@ -82,7 +82,9 @@ def line(name: str, f, wall: float, cpu: float, note: str = "") -> None:
     if len(RUNS) > 1:
         extra += " (CPU-s per run: " + ", ".join(f"{c:.2f}" for c in RUNS) + ")"
     print(
-        f"  {name:17s} {cpu:8.2f} CPU-s {wall:8.2f} wall-s  {len(f.points):3d} points, {state}"
+        f"  {name:17s} {cpu:8.2f} CPU-s {wall:8.2f} wall-s  {len(f.points):3d} points"
+        + ("" if all(p.proven for p in f.points) else " (not proven)")
+        + f", {state}"
         f"{extra}{note}",
         flush=True,
     )
