@@ -79,7 +79,7 @@ def check_front(project, f):
 )
 @given(
     seed=st.integers(0, 2**31 - 1),
-    measure=st.sampled_from(["imf", "effective_mass", "backdrive_force"]),
+    measure=st.sampled_from(["imf", "effective_mass", "backdrive_force", "mass", "cost"]),
 )
 def test_leg_frontier_equals_enumerated_front(leg, method, seed, measure):
     # both methods (every candidate scored after the proven filters; exact ε-constraint solves)
