@@ -116,6 +116,8 @@ def test_cli_mass_front_json_table_and_report(tmp_path):
     r = runner.invoke(main, ["frontier", project, "--measure", "mass", "--case", "touchdown"])
     assert r.exit_code == 2 and "takes no case" in r.output
     # the report's frontier section: x axis without a case, the reported design at its total
-    drawn = frontier_from_sweep(data, {"cases": [], "total_cost": 1234.0})
-    assert drawn["x"]["label"] == "total actuator cost"
+    carry = {"name": "carry", "kind": "payload", "metrics": {"payload_carried": 5.0}}
+    drawn = frontier_from_sweep(data, {"cases": [carry], "total_cost": 1234.0})
+    assert drawn["x"] == {"label": "total actuator cost", "unit": "currency units"}
+    assert drawn["chosen"] == {"x": 1234.0, "y": 5.0}
     assert len(drawn["points"]) == len(costs)

@@ -536,7 +536,7 @@ _MEASURE_AXES = {
     "effective_mass": ("back-driven effective mass", "kg"),
     "backdrive_force": ("back-drive force", "N"),
     "mass": ("total actuator mass", "kg"),
-    "cost": ("total actuator cost", ""),
+    "cost": ("total actuator cost", "currency units"),
 }
 #: the robot-level measures: the assessment's totals, no case
 _MEASURE_TOTALS = {"mass": "total_mass", "cost": "total_cost"}
