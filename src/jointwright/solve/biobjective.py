@@ -9,9 +9,11 @@ completion (the same model with the measure as objective: the Loewner-order IMF 
 lightest, least-inertia option, the back-drive force lower bound from the least breakaway
 torques). Both objectives are maximized internally (payload, sign·measure).
 
-Boxes wait in a priority queue, largest payload bound first (best first). An entry is dropped
-when a front point weakly dominates its best corner, or when some requirement is provably missed
-(the single-objective cuts). Complete designs are scored in batches by the physics oracle on the
+Boxes wait in a priority queue, largest payload bound first (best first); the children of a
+node wait as one entry keyed by the best not yet taken. An entry is dropped when a front point
+weakly dominates its best corner, when a known feasible design (an incumbent) beats it strictly,
+or when some requirement is provably missed (the single-objective cuts). Total mass and cost are
+bounded exactly by the assigned values plus each free joint's least value. Complete designs are scored in batches by the physics oracle on the
 static cases; the costly ones (duty cycles, stance) are checked when the design reaches the head
 of the queue, and its full payload (never above the static one) puts it back. A fully checked
 design at the head joins the front: every design of larger payload has been resolved by then,
@@ -80,7 +82,7 @@ def measure_model(model: SizingModel, case: str | None, metric: str) -> SizingMo
 
 
 class BiObjectiveSearch:
-    """Depth-first bi-objective branch and bound; see the module docstring.
+    """Best-first bi-objective branch and bound; see the module docstring.
 
     ``model``: built for the payload objective with the measure's own limit removed;
     ``sense`` "min": larger measure is better (IMF), "max": smaller is better.
