@@ -13,13 +13,14 @@ Boxes wait in a priority queue, largest payload bound first (best first); the ch
 node wait as one entry keyed by the best not yet taken. An entry is dropped when a front point
 weakly dominates its best corner, when a known feasible design (an incumbent) beats it strictly,
 or when some requirement is provably missed (the single-objective cuts). Total mass and cost are
-bounded exactly by the assigned values plus each free joint's least value. Complete designs are scored in batches by the physics oracle on the
-static cases; the costly ones (duty cycles, stance) are checked when the design reaches the head
-of the queue, and its full payload (never above the static one) puts it back. A fully checked
-design at the head joins the front: every design of larger payload has been resolved by then,
-so each point is final when found (proof: docs/frontier.md, "Method: bi-objective branch and
-bound"). Past the deadline the search stops: the points found are proven, and the entries left
-bound the region where points may be missing.
+bounded exactly by the assigned values plus each free joint's least value. Complete designs
+are scored in batches by the physics oracle on the static cases; the costly ones (duty cycles,
+stance) are checked when the design reaches the head of the queue, and its full payload (never
+above the static one) puts it back. A fully checked design at the head joins the front: every
+design of larger payload has been resolved by then, so each point is final when found (proof:
+docs/frontier.md, "Method: bi-objective branch and bound"). Past the deadline the search
+stops: the points found are proven, and the entries left bound the region where points may be
+missing.
 """
 
 from __future__ import annotations
