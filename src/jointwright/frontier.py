@@ -173,6 +173,11 @@ def with_limit(project, case_name: str | None, key: str, value: float | None):
     return dataclasses.replace(project, cases=tuple(cases))
 
 
+#: most candidate combinations the exhaustive method scores (with stance or duty-cycle cases
+#: every feasible one is kept until its costly check: memory grows with the count)
+EXHAUSTIVE_MAX = 20_000_000
+
+
 def frontier(
     project,
     measure: str = "imf",
@@ -232,8 +237,15 @@ def frontier(
             project, _bnb(project, name, key, metric, sense, deadline, start, table), merge
         )
     if method == "exhaustive":
-        out = _exhaustive(project, name, key, metric, sense, deadline, start, math.inf, table)
-        assert out is not None  # no size limit: it always answers
+        out = _exhaustive(project, name, key, metric, sense, deadline, start, EXHAUSTIVE_MAX, table)
+        if out is None:
+            raise InputError(
+                str(project.file),
+                "method",
+                f"exhaustive scores every candidate combination and this project has more than "
+                f"{EXHAUSTIVE_MAX:,} of them; use the branch and bound (method auto), which "
+                "proves the same front",
+            )
         return _finish(project, out, merge)
     found: list[tuple] = []
     eps: float | None = None
@@ -519,8 +531,9 @@ def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=
     if payload_floor is not None:
         # the floor is a payload mass (kg); each case must reach the force that carries it
         floor = payload_floor - 1e-9 * abs(payload_floor) - 1e-12
-        # the cases that set the payload objective ([objective] cases, when given)
-        chosen = {c.name for c in payload_objective_cases(project) if c.kind == "payload"}
+        # the cases that set the payload objective ([objective] cases, when given): payload
+        # and stance cases alike, so the second stage never trades a stance case's payload
+        chosen = {c.name for c in payload_objective_cases(project)}
         p = dataclasses.replace(
             project,
             cases=tuple(
