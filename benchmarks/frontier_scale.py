@@ -9,14 +9,17 @@ Side by side in one run, each method with the same wall-clock limit (``--limit``
    it scores every candidate left by the proven filters);
 3. the bundled arm, payload versus effective mass;
 4. the bundled quadruped (legs shared), payload versus IMF;
-5. the leg with 40 motors (benchmarks/size_scale.py's generated catalog), payload versus IMF.
+5. the leg with 40 motors (benchmarks/size_scale.py's generated catalog), payload versus IMF;
+6. payload versus total actuator mass and cost: the bundled leg (exhaustive as the reference)
+   and the bundled arm.
 
-Prints, per method: CPU and wall seconds, points, complete or not (and the region left
+Prints, per method: CPU and wall seconds (medians of ``--repeat`` runs, each run's CPU seconds
+listed), points, complete or not (and the region left
 unexplored), and whether the point set equals the reference. The load average (``uptime``) is
 printed before and after: the machine is shared, so CPU seconds are the figures to compare.
 Results: docs/benchmarks.md.
 
-    cd benchmarks && python frontier_scale.py [--limit 60] [--only 1,2,...]
+    cd benchmarks && python frontier_scale.py [--limit 60] [--only 1,2,...] [--repeat 3]
 """
 
 from __future__ import annotations
@@ -24,6 +27,7 @@ from __future__ import annotations
 import argparse
 import math
 import os
+import statistics
 import time
 
 from frontier import brute, instance, same
@@ -39,10 +43,22 @@ def load() -> str:
     return f"load average {one:.2f}, {five:.2f}, {fifteen:.2f} (1, 5, 15 min) on {cores} cores"
 
 
+#: runs per measurement (``--repeat``); the medians are printed
+REPEAT = 1
+#: each run's CPU seconds of the last measurement, for the printed line
+RUNS: list[float] = []
+
+
 def timed(fn):
-    wall, cpu = time.perf_counter(), time.process_time()
-    out = fn()
-    return out, time.perf_counter() - wall, time.process_time() - cpu
+    """The result of the last of :data:`REPEAT` runs, median wall and CPU seconds."""
+    walls, cpus = [], []
+    for _ in range(REPEAT):
+        wall, cpu = time.perf_counter(), time.process_time()
+        out = fn()
+        walls.append(time.perf_counter() - wall)
+        cpus.append(time.process_time() - cpu)
+    RUNS[:] = cpus
+    return out, statistics.median(walls), statistics.median(cpus)
 
 
 def key(points) -> list[tuple[float, float]]:
@@ -63,20 +79,25 @@ def line(name: str, f, wall: float, cpu: float, note: str = "") -> None:
         pmax, bound = f.unexplored
         state += f" (unexplored: payload ≤ {pmax:.4g} kg, measure bound {bound:.4g})"
     extra = f", {f.scored:,} designs scored" if f.method != "sweep" else f", {f.solves} solves"
+    if len(RUNS) > 1:
+        extra += " (CPU-s per run: " + ", ".join(f"{c:.2f}" for c in RUNS) + ")"
     print(
-        f"  {name:17s} {cpu:8.2f} CPU-s {wall:8.2f} wall-s  {len(f.points):3d} points, {state}"
+        f"  {name:17s} {cpu:8.2f} CPU-s {wall:8.2f} wall-s  {len(f.points):3d} points"
+        + ("" if all(p.proven for p in f.points) else " (not proven)")
+        + f", {state}"
         f"{extra}{note}",
         flush=True,
     )
 
 
 def compare(project, measure: str, limit: float, methods, reference: str | None) -> dict:
-    got = {}
+    got, runs = {}, {}
     for method in methods:
         f, wall, cpu = timed(
             lambda m=method: frontier(project, measure, method=m, points=10_000, time_limit=limit)
         )
         got[method] = (f, wall, cpu)
+        runs[method] = list(RUNS)
     # the reference: the named method when it completed, else any other complete method
     order = ([reference] if reference else []) + [m for m in got if m != reference]
     ref_name = next((m for m in order if got[m][0].complete), None)
@@ -84,6 +105,7 @@ def compare(project, measure: str, limit: float, methods, reference: str | None)
         note = ""
         if ref_name is not None and method != ref_name and f.complete:
             note = f"; same set as {ref_name}: {same_points(f.points, got[ref_name][0].points)}"
+        RUNS[:] = runs[method]
         line(method, f, wall, cpu, note)
     return got
 
@@ -91,8 +113,11 @@ def compare(project, measure: str, limit: float, methods, reference: str | None)
 def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--limit", type=float, default=60.0, help="seconds per method and instance")
-    ap.add_argument("--only", default="1,2,3,4,5", help="instances to run, e.g. 1,2")
+    ap.add_argument("--only", default="1,2,3,4,5,6", help="instances to run, e.g. 1,2")
+    ap.add_argument("--repeat", type=int, default=1, help="runs per measurement (medians)")
     args = ap.parse_args()
+    global REPEAT
+    REPEAT = max(1, args.repeat)
     only = {int(x) for x in args.only.split(",")}
     print(f"start: {load()}", flush=True)
     bnb = "branch-and-bound"
@@ -101,7 +126,8 @@ def main() -> None:
         (ref, total), w_b, c_b = timed(lambda: brute(p, "touchdown"))
         print(
             f"1. small leg, {total:,} designs, payload vs IMF: brute force {c_b:.2f} CPU-s "
-            f"{w_b:.2f} wall-s, {len(ref)} points",
+            f"{w_b:.2f} wall-s, {len(ref)} points"
+            + (f" (CPU-s per run: {', '.join(f'{c:.2f}' for c in RUNS)})" if REPEAT > 1 else ""),
             flush=True,
         )
         for method in (bnb, "exhaustive", "sweep"):
@@ -130,6 +156,13 @@ def main() -> None:
     if 5 in only:
         print("5. leg with 40 motors, payload vs IMF:", flush=True)
         compare(generated_leg(40), "imf", args.limit, (bnb, "sweep"), None)
+    if 6 in only:
+        leg = example("leg")
+        for measure in ("mass", "cost"):
+            print(f"6. bundled leg, payload vs total {measure}:", flush=True)
+            compare(leg, measure, args.limit, (bnb, "exhaustive"), "exhaustive")
+        print("6. bundled arm, payload vs total mass:", flush=True)
+        compare(example("arm"), "mass", args.limit, (bnb,), None)
     print(f"end: {load()}", flush=True)
 
 

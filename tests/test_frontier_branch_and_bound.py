@@ -149,10 +149,11 @@ def test_cli_time_limit_states_the_region_not_searched(tmp_path):
 
 
 @pytest.mark.parametrize("seed", [3, 29, 71])
-@pytest.mark.parametrize("measure", ["imf", "effective_mass"])
+@pytest.mark.parametrize("measure", ["imf", "effective_mass", "mass"])
 def test_front_seeded_with_its_strongest_point_equals_brute_force(leg, seed, measure, monkeypatch):
-    # large option spaces start from the two single-objective solves; forced here on small
-    # instances, the front is still the brute-force non-dominated set
+    # large option spaces start from the two single-objective solves (the payload optimum caps
+    # the boxes; the best measure at it is a front point, or its design an incumbent); forced
+    # here on small instances, the front is still the brute-force non-dominated set
     import jointwright.frontier as fr
 
     monkeypatch.setattr(fr, "SEED_MIN", 0)
@@ -161,3 +162,48 @@ def test_front_seeded_with_its_strongest_point_equals_brute_force(leg, seed, mea
     assert f.complete and (f.solves == 2 or not f.points)
     check_front(p, f)
     same_front([(pt.payload, pt.measure) for pt in f.points], brute_front(p, measure, f.case))
+
+
+@pytest.mark.parametrize("seed", [5, 12, 14, 17, 24, 28])  # instances with fronts of 2-7 points
+@pytest.mark.parametrize("measure", ["effective_mass", "backdrive_force"])
+def test_incumbent_of_largest_payload_and_worst_measure_keeps_the_front(leg, seed, measure):
+    # the incumbent prunes what it beats strictly; given the design of largest payload with
+    # the WORST measure, the search must still find the best measure at that payload and the
+    # rest of the front (brute force as the reference)
+    from jointwright.solve.enumerate import combinations
+    from jointwright.solve.pareto import unit_options
+
+    p = random_instance(leg, seed, keep_duty=bool(seed % 2))
+    _kind, key, metric, sense = MEASURES[measure]
+    case = next(c.name for c in p.cases if c.kind == MEASURES[measure][0])
+    cfg = read_objective(p)
+    free = with_limit(p, case, key, None)
+    model, _ = build_model(
+        free,
+        "payload",
+        cfg["pin"],
+        cfg["exclude"],
+        cfg["shared"],
+        table=build_options(p, cfg["exclude"]),
+    )
+    units = units_of(model.n, model.shared)
+    opts = unit_options(model, units)
+    rows = combinations(opts, 0, int(np.prod([o.size for o in opts])))
+    index = np.empty((rows.shape[0], model.n), dtype=np.int64)
+    for k, unit in enumerate(units):
+        index[:, list(unit)] = rows[:, [k]]
+    if not index.shape[0]:  # the proven filters leave no design: nothing to start from
+        pytest.skip("no candidate design in this instance")
+    s = model.score(index, full=True)
+    if not s.feasible.any():
+        pytest.skip("no feasible design in this instance")
+    pay = np.where(s.feasible, s.objective, -np.inf)
+    top = np.flatnonzero(pay >= pay.max() - 1e-9 * max(1.0, abs(pay.max())))
+    ev = model.evaluator.evaluate(model.table.arrays(index[top]), detail=False)
+    mu = np.asarray(ev[case][metric], dtype=float)
+    worst = top[int(np.argmax(mu))]  # larger effective mass / force: the worst
+    search = BiObjectiveSearch(model, units, case, metric, sense)
+    assert search.incumbent(index[worst])
+    out = search.run()
+    assert out.complete
+    same_front([(q[0], q[1]) for q in out.points], brute_front(p, measure, case))

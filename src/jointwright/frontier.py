@@ -30,11 +30,15 @@ from dataclasses import dataclass
 from .errors import InputError
 from .solve.model import tie_tol
 
-#: measure -> (case kind, case-limit key, metric in the assessment, sense: "min" = larger is better)
+#: measure -> (case kind, limit key, metric, sense: "min" = larger is better). The robot-level
+#: measures (total actuator mass, total cost) have no case (kind None); their limit is the
+#: project's requirement of that name
 MEASURES = {
     "imf": ("impact", "imf_min", "imf", "min"),
     "effective_mass": ("impact", "effective_mass_max", "effective_mass", "max"),
     "backdrive_force": ("backdrive", "backdrive_force_max", "backdrive_force", "max"),
+    "mass": (None, "total_mass_max", "mass", "max"),
+    "cost": (None, "total_cost_max", "cost", "max"),
 }
 #: metric name in the evaluation -> measure name
 MEASURES_NAME = {v[2]: k for k, v in MEASURES.items()}
@@ -62,7 +66,7 @@ class FrontierPoint:
 @dataclass(frozen=True)
 class Frontier:
     measure: str
-    case: str
+    case: str | None  # None for the robot-level measures (total mass, cost)
     sense: str  # "min": larger measure is better; "max": smaller is better
     points: tuple  # FrontierPoint, largest payload first
     complete: bool
@@ -119,7 +123,14 @@ class Frontier:
 
 
 def _case(project, measure: str, case: str | None):
+    """The case whose measure is traded (None for total mass and cost, which have no case)."""
     kind = MEASURES[measure][0]
+    if kind is None:
+        if case is not None:
+            raise InputError(
+                "<api>", "case", f"measure {measure} is the robot's total and takes no case"
+            )
+        return None
     if measure == "imf" and project.robot.n_base != 6:
         raise InputError(
             str(project.file),
@@ -143,8 +154,14 @@ def _case(project, measure: str, case: str | None):
     return c
 
 
-def with_limit(project, case_name: str, key: str, value: float | None):
-    """The project with one limit of one case set (None: removed)."""
+def with_limit(project, case_name: str | None, key: str, value: float | None):
+    """The project with one limit of one case set (None: removed); with ``case_name`` None, the
+    requirement ``key`` of the whole robot (total mass or cost; removed: no limit)."""
+    if case_name is None:
+        req = dataclasses.replace(
+            project.requirements, **{key: math.inf if value is None else float(value)}
+        )
+        return dataclasses.replace(project, requirements=req)
     cases = []
     for c in project.cases:
         if c.name == case_name:
@@ -154,6 +171,11 @@ def with_limit(project, case_name: str, key: str, value: float | None):
             c = dataclasses.replace(c, limits=limits)
         cases.append(c)
     return dataclasses.replace(project, cases=tuple(cases))
+
+
+#: most candidate combinations the exhaustive method scores (with stance or duty-cycle cases
+#: every feasible one is kept until its costly check: memory grows with the count)
+EXHAUSTIVE_MAX = 20_000_000
 
 
 def frontier(
@@ -172,8 +194,10 @@ def frontier(
     Parameters
     ----------
     project : Project
-    measure : "imf" (floating base), "effective_mass" (kg) or "backdrive_force" (N)
-    case : name of the impact / back-drive case; default the first of that kind
+    measure : "imf" (floating base), "effective_mass" (kg), "backdrive_force" (N), "mass"
+        (total actuator mass, kg) or "cost" (total actuator cost, the catalog's currency units)
+    case : name of the impact / back-drive case; default the first of that kind; none for
+        "mass" and "cost"
     points : most sizing solves (the frontier is marked incomplete when it is reached)
     time_limit : s for the whole sweep
     backend : passed to :func:`jointwright.sizing.size` (sweep)
@@ -195,6 +219,7 @@ def frontier(
     if not isinstance(points, int) or points < 1:
         raise InputError("<api>", "points", f"must be a whole number >= 1, got {points!r}")
     c = _case(project, measure, case)
+    name = None if c is None else c.name
     _kind, key, metric, sense = MEASURES[measure]
     start = time.perf_counter()
     deadline = math.inf if time_limit is None else start + time_limit
@@ -209,11 +234,18 @@ def frontier(
     table = build_table(project, read_objective(project)["exclude"])
     if method in ("auto", "branch-and-bound"):
         return _finish(
-            project, _bnb(project, c.name, key, metric, sense, deadline, start, table), merge
+            project, _bnb(project, name, key, metric, sense, deadline, start, table), merge
         )
     if method == "exhaustive":
-        out = _exhaustive(project, c.name, key, metric, sense, deadline, start, math.inf, table)
-        assert out is not None  # no size limit: it always answers
+        out = _exhaustive(project, name, key, metric, sense, deadline, start, EXHAUSTIVE_MAX, table)
+        if out is None:
+            raise InputError(
+                str(project.file),
+                "method",
+                f"exhaustive scores every candidate combination and this project has more than "
+                f"{EXHAUSTIVE_MAX:,} of them; use the branch and bound (method auto), which "
+                "proves the same front",
+            )
         return _finish(project, out, merge)
     found: list[tuple] = []
     eps: float | None = None
@@ -222,7 +254,7 @@ def frontier(
         left = deadline - time.perf_counter()
         if left <= 0:
             break
-        current = with_limit(project, c.name, key, eps)
+        current = with_limit(project, name, key, eps)
         upper = found[-1][0] if found else None  # the neighbour's payload bounds this one
         status, payload, design, _i = _solve(
             current, "payload", None, time_limit and left, upper, backend, table
@@ -235,16 +267,16 @@ def frontier(
             if design is not None and not found:
                 # stopped before the first proof: the best design found is still a feasible
                 # point the architect can start from (the frontier is marked sampled)
-                found.append((payload, _measure(project, design, c.name, metric), design))
+                found.append((payload, _measure(project, design, name, metric), design))
             break
         rest = None if time_limit is None else max(deadline - time.perf_counter(), 1e-3)
         status2, _value, best, _i = _solve(
-            current, f"{metric}@{c.name}", payload, rest, None, "search", table
+            current, objective_kind(metric, name), payload, rest, None, "search", table
         )
         solves += 1
         if status2 == "optimal":
             design = best
-        mu = _measure(project, design, c.name, metric)
+        mu = _measure(project, design, name, metric)
         found.append((payload, mu, design))
         if not math.isfinite(mu):
             complete = sense == "max" and False
@@ -256,7 +288,7 @@ def frontier(
             break
     pts = _points(found)
     out = Frontier(
-        measure, c.name, sense, pts, complete, knee(pts, sense), time.perf_counter() - start, solves
+        measure, name, sense, pts, complete, knee(pts, sense), time.perf_counter() - start, solves
     )
     return _finish(project, out, merge)
 
@@ -269,8 +301,21 @@ METHODS = ("auto", "branch-and-bound", "exhaustive", "sweep")
 SEED_MIN = 10_000_000
 
 
+def objective_kind(metric: str, case: str | None) -> str:
+    """The single-objective search's objective for a measure: "mass" and "cost" are its own
+    objectives; a case's measure is "metric@case"."""
+    return metric if case is None else f"{metric}@{case}"
+
+
 def _bnb(
-    project, case: str, key: str, metric: str, sense: str, deadline: float, start: float, table
+    project,
+    case: str | None,
+    key: str,
+    metric: str,
+    sense: str,
+    deadline: float,
+    start: float,
+    table,
 ) -> Frontier:
     """The complete front by bi-objective branch and bound (:mod:`.solve.biobjective`)."""
     from .sizing import build_model, design_of, read_objective, units_of
@@ -283,15 +328,16 @@ def _bnb(
     units = units_of(model.n, model.shared)
     search = BiObjectiveSearch(model, units, case, metric, sense, deadline=deadline)
     # on large option spaces the strongest end first, by the single-objective search and its
-    # heuristics: the largest payload, then the best measure at that payload (the sweep's first
-    # step; both proven). On small ones the two solves cost more than they save (measured:
-    # docs/benchmarks.md)
-    top = None
+    # heuristics: the largest payload (proven: it caps every box) and a design that reaches it,
+    # whose measure prunes every box it beats (BiObjectiveSearch.incumbent); then, within half
+    # the time left, the best measure at that payload (a proven front point when it finishes).
+    # On small ones the solves cost more than they save (measured: docs/benchmarks.md)
+    top = first = None
     if count(model, units) < SEED_MIN:
         status = "skipped"
     else:
         left = deadline - time.perf_counter()
-        status, payload, top, _i = _solve(
+        status, payload, top, first = _solve(
             free, "payload", None, _left(left), None, "search", table, bound=search
         )
         top = None if top is None else (payload, top)
@@ -307,15 +353,29 @@ def _bnb(
             1,
             "branch-and-bound",
         )
+    solves = 0 if status == "skipped" else 1
     if status == "optimal":
+        # the best measure at the largest payload, with at most half the time left: when it
+        # is proven, (P*, μ*) is a front point; else the best design it found (payload P*, a
+        # measure at least as good as the first design's) prunes as an incumbent
         left = deadline - time.perf_counter()
         status2, _v, _d, best = _solve(
-            free, f"{metric}@{case}", payload, _left(left), None, "search", table
+            free,
+            objective_kind(metric, case),
+            payload,
+            _left(left / 2),
+            None,
+            "search",
+            table,
         )
-        if status2 == "optimal":
+        solves += 1
+        if status2 == "optimal" and best is not None:
             search.seed(best)
+        elif best is not None:
+            search.incumbent(best)
+    if first is not None and not search.fp.size:
+        search.incumbent(first)
     out = search.run()
-    solves = 0 if status == "skipped" else 1 + int(status == "optimal")
     found = [
         (payload, mu, design_of(project, model, idx, "frontier point"))
         for payload, mu, idx, _mass in out.points
@@ -408,7 +468,7 @@ def _merged(f: Frontier, tol: float) -> Frontier:
 
 def _exhaustive(
     project,
-    case: str,
+    case: str | None,
     key: str,
     metric: str,
     sense: str,
@@ -471,8 +531,9 @@ def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=
     if payload_floor is not None:
         # the floor is a payload mass (kg); each case must reach the force that carries it
         floor = payload_floor - 1e-9 * abs(payload_floor) - 1e-12
-        # the cases that set the payload objective ([objective] cases, when given)
-        chosen = {c.name for c in payload_objective_cases(project) if c.kind == "payload"}
+        # the cases that set the payload objective ([objective] cases, when given): payload
+        # and stance cases alike, so the second stage never trades a stance case's payload
+        chosen = {c.name for c in payload_objective_cases(project)}
         p = dataclasses.replace(
             project,
             cases=tuple(
@@ -511,9 +572,11 @@ def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=
     return out.status, out.objective, design_of(project, model, index, "frontier point"), index
 
 
-def _measure(project, design, case: str, metric: str) -> float:
+def _measure(project, design, case: str | None, metric: str) -> float:
     from .assessment import assess
 
+    if case is None:  # total actuator mass or cost
+        return float(design.mass if metric == "mass" else design.cost)
     a = assess(project, design)
     return float(next(c for c in a.cases if c.name == case).metrics[metric])
 

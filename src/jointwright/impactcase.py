@@ -151,9 +151,17 @@ def effective_mass_locked(J, H, u, locked) -> np.ndarray:
     """Effective mass 1/(uᵀ·J·H⁻¹·Jᵀ·u) with locked joints removed (fixed base)."""
     D = H.shape[0]
     out = np.empty(D)
-    patterns = {tuple(row) for row in np.asarray(locked, dtype=bool)}
-    for pat in patterns:
-        rows = np.all(locked == np.array(pat), axis=1)
+    locked = np.asarray(locked, dtype=bool)
+    if locked.shape[1] < 63:  # each row's pattern as one integer: its distinct values
+        code = locked @ (np.int64(1) << np.arange(locked.shape[1], dtype=np.int64))
+        _, first, which = np.unique(code, return_index=True, return_inverse=True)
+        groups = [(locked[f], which == k) for k, f in enumerate(first)]
+    else:
+        groups = [
+            (np.array(pat), np.all(locked == np.array(pat), axis=1))
+            for pat in {tuple(row) for row in locked}
+        ]
+    for pat, rows in groups:
         free = ~np.array(pat, dtype=bool)
         if not free.any():
             out[rows] = np.inf

@@ -1,4 +1,5 @@
-"""``jointwright frontier PROJECT --measure ...``: payload versus back-drivability, exactly."""
+"""``jointwright frontier PROJECT --measure ...``: payload versus back-drivability, total mass
+or cost, exactly."""
 
 from __future__ import annotations
 
@@ -11,7 +12,33 @@ from ..project import load_project
 from ._format import console, emit_json, num, table
 from ._output import atomic_folder, check_target, project_inputs, write_text
 
-UNITS = {"imf": "", "effective_mass": "kg", "backdrive_force": "N"}
+UNITS = {"imf": "", "effective_mass": "kg", "backdrive_force": "N", "mass": "kg", "cost": ""}
+#: axis and title names of each measure
+LABELS = {
+    "imf": "impact mitigation factor",
+    "effective_mass": "back-driven effective mass",
+    "backdrive_force": "back-drive force",
+    "mass": "total actuator mass",
+    "cost": "total actuator cost",
+}
+#: what a better value of each measure means, the sense "min" (larger better) or "max"
+BETTER = {"min": "higher is more back-drivable", "max": "lower is more back-drivable"}
+BETTER_TOTAL = {"mass": "lower is lighter", "cost": "lower is cheaper"}
+
+
+def better_text(f) -> str:
+    """What a better measure means, e.g. "lower is more back-drivable"."""
+    return BETTER_TOTAL.get(f.measure) or BETTER[f.sense]
+
+
+def measure_name(f) -> str:
+    """The measure as the command line names it; the totals in words (not "mass" alone)."""
+    return LABELS[f.measure] if f.case is None else f.measure
+
+
+def at_case(f) -> str:
+    """ " at case NAME", or nothing for the robot-level measures (total mass, cost)."""
+    return "" if f.case is None else f" at case {f.case}"
 
 
 def describe_run(f) -> str:
@@ -113,8 +140,9 @@ def plot_text(f, width: int = 64, height: int = 16) -> str:
     left, right = f"{x0:.4g}", f"{x1:.4g}"
     lines.append("          " + left + " " * max(1, width - len(left) - len(right)) + right)
     lines.append(
-        f"          payload (kg) against {f.measure}{f' ({unit})' if unit else ''} at case "
-        f"{f.case}; numbers: the points of the table"
+        f"          payload (kg) against {measure_name(f)}{f' ({unit})' if unit else ''}"
+        f"{at_case(f)}; "
+        "numbers: the points of the table"
         + (
             "; ◆ the turning point of the trade-off" + (f" (point {f.knee + 1})")
             if f.knee is not None
@@ -126,17 +154,20 @@ def plot_text(f, width: int = 64, height: int = 16) -> str:
 
 def print_frontier(f) -> None:
     con = console()
-    better = "higher" if f.sense == "min" else "lower"
     con.print(
-        f"[bold]frontier[/bold]: payload versus {f.measure} at case {f.case} ({better} is more "
-        f"back-drivable); {describe_run(f)}"
+        f"[bold]frontier[/bold]: payload versus {measure_name(f)}{at_case(f)} "
+        f"({better_text(f)}); "
+        f"{describe_run(f)}"
     )
     region = unexplored_text(f)
     if region:
         con.print(f"[yellow]{region}[/yellow]")
     rows: list[list[str]] = []
     designs: list[list[str]] = []
-    costs = any(p.design.cost > 0 for p in f.points)  # the catalog gives costs
+    # the mass and cost columns, unless they are the measure itself (cost: when the catalog
+    # gives costs)
+    masses = f.measure != "mass"
+    costs = f.measure != "cost" and any(p.design.cost > 0 for p in f.points)
     shock = any(p.shock_use is not None for p in f.points)  # an impact case states a speed
     for i, p in enumerate(f.points):
         mark = (" ◆" if i == f.knee else "") + ("" if p.proven else " (not proven)")
@@ -146,8 +177,8 @@ def print_frontier(f) -> None:
                 str(i + 1) + mark,
                 num(p.payload, "kg"),
                 num(p.measure, UNITS[f.measure]),
-                num(p.mass, "kg"),
             ]
+            + ([num(p.mass, "kg")] if masses else [])
             + ([num(p.design.cost)] if costs else [])
             + ([num(100.0 * p.shock_use, "%")] if shock and p.shock_use is not None else [])
             + (["—"] if shock and p.shock_use is None else [])
@@ -167,7 +198,7 @@ def print_frontier(f) -> None:
     caption = (
         "each point: the largest payload with the measure at least this good; every other "
         "requirement of the project is kept"
-        + ("; cost in the catalog's currency units" if costs else "")
+        + ("; cost in the catalog's currency units" if costs or f.measure == "cost" else "")
         + (
             "; gear shock: the largest peak gear torque at the project's impacts over the stage's "
             "momentary rating (over 100 % the gear is expected to break)"
@@ -184,7 +215,8 @@ def print_frontier(f) -> None:
     con.print(
         table(
             "Frontier (largest payload first)",
-            ["#", "payload mass", f.measure, "mass"]
+            ["#", "payload mass", f.measure]
+            + (["mass"] if masses else [])
             + (["cost"] if costs else [])
             + (["gear shock"] if shock else [])
             + ["joints changed"],
@@ -212,10 +244,17 @@ def print_frontier(f) -> None:
 @click.command("frontier")
 @click.argument("project", type=click.Path(path_type=Path))
 @click.option(
-    "--measure", type=click.Choice(["imf", "effective_mass", "backdrive_force"]), default="imf"
+    "--measure",
+    type=click.Choice(["imf", "effective_mass", "backdrive_force", "mass", "cost"]),
+    default="imf",
+    help="imf, effective_mass (impact case), backdrive_force (back-drive case), or the robot's "
+    "total actuator mass or cost",
 )
 @click.option(
-    "--case", "case_name", default=None, help="impact or back-drive case (default: the first)"
+    "--case",
+    "case_name",
+    default=None,
+    help="impact or back-drive case (default: the first; none for mass and cost)",
 )
 @click.option(
     "--method",
@@ -276,8 +315,8 @@ def command(
     frictionless,
     force,
 ):
-    """Payload versus MEASURE over the non-dominated designs of PROJECT (exhaustive or exact
-    ε-constraint sweep)."""
+    """Payload versus MEASURE over the non-dominated designs of PROJECT (bi-objective branch
+    and bound by default; exhaustive scoring or exact ε-constraint sweep on request)."""
     from ..errors import InputError
     from ..frontier import frontier
 
@@ -349,11 +388,7 @@ def write_plot(f, ideal, folder: Path) -> None:
     from ..report import figures
 
     unit = UNITS[f.measure]
-    label = {
-        "imf": "impact mitigation factor",
-        "effective_mass": "back-driven effective mass",
-        "backdrive_force": "back-drive force",
-    }[f.measure]
+    label = LABELS[f.measure]
     series = {
         "catalog efficiencies": ([p.measure for p in f.points], [p.payload for p in f.points])
     }
@@ -363,11 +398,10 @@ def write_plot(f, ideal, folder: Path) -> None:
             [p.payload for p in ideal.points],
         )
     knee = None if f.knee is None else (f.points[f.knee].measure, f.points[f.knee].payload)
-    better = "higher is more back-drivable" if f.sense == "min" else "lower is more back-drivable"
     fig = figures.frontier_figure(
         series,
         knee,
-        x_label=f"{label}{f' ({unit})' if unit else ''} at case {f.case}; {better}",
+        x_label=f"{label}{f' ({unit})' if unit else ''}{at_case(f)}; {better_text(f)}",
         y_label="payload mass every payload case carries (kg)",
         title=f"Payload versus {label}: non-dominated designs "
         f"({'complete' if f.complete else 'sampled'})",

@@ -108,7 +108,11 @@ _MEASURE_AXES = {
     "imf": ("impact mitigation factor", ""),
     "effective_mass": ("back-driven effective mass", "kg"),
     "backdrive_force": ("back-drive force", "N"),
+    "mass": ("total actuator mass", "kg"),
+    "cost": ("total actuator cost", "currency units"),
 }
+#: the robot-level measures: the assessment's totals, no case
+_MEASURE_TOTALS = {"mass": "total_mass", "cost": "total_cost"}
 
 
 def frontier_from_sweep(data: dict, assessment: dict, file: str = "<frontier>") -> dict:
@@ -133,7 +137,7 @@ def frontier_from_sweep(data: dict, assessment: dict, file: str = "<frontier>") 
             }
         )
     out = {
-        "x": {"label": f"{label} at case {case}", "unit": unit},
+        "x": {"label": label if case is None else f"{label} at case {case}", "unit": unit},
         "y": {"label": "payload mass every case carries", "unit": "kg"},
         "points": points,
         "knee": data.get("knee"),
@@ -158,7 +162,10 @@ def frontier_from_sweep(data: dict, assessment: dict, file: str = "<frontier>") 
         for c in cases.values()
         if c["kind"] in ("payload", "stance") and "payload_carried" in c["metrics"]
     ]
-    own = cases.get(case, {}).get("metrics", {}).get(measure)
+    if measure in _MEASURE_TOTALS:
+        own = assessment.get(_MEASURE_TOTALS[measure])
+    else:
+        own = cases.get(case, {}).get("metrics", {}).get(measure)
     if (
         payloads
         and all(isinstance(v, (int, float)) for v in payloads)

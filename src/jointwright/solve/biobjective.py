@@ -9,15 +9,18 @@ completion (the same model with the measure as objective: the Loewner-order IMF 
 lightest, least-inertia option, the back-drive force lower bound from the least breakaway
 torques). Both objectives are maximized internally (payload, sign·measure).
 
-Boxes wait in a priority queue, largest payload bound first (best first). An entry is dropped
-when a front point weakly dominates its best corner, or when some requirement is provably missed
-(the single-objective cuts). Complete designs are scored in batches by the physics oracle on the
-static cases; the costly ones (duty cycles, stance) are checked when the design reaches the head
-of the queue, and its full payload (never above the static one) puts it back. A fully checked
-design at the head joins the front: every design of larger payload has been resolved by then,
-so each point is final when found (proof: docs/frontier.md, "Method: bi-objective branch and
-bound"). Past the deadline the search stops: the points found are proven, and the entries left
-bound the region where points may be missing.
+Boxes wait in a priority queue, largest payload bound first (best first); the children of a
+node wait as one entry keyed by the best not yet taken. An entry is dropped when a front point
+weakly dominates its best corner, when a known feasible design (an incumbent) beats it strictly,
+or when some requirement is provably missed (the single-objective cuts). Total mass and cost are
+bounded exactly by the assigned values plus each free joint's least value. Complete designs
+are scored in batches by the physics oracle on the static cases; the costly ones (duty cycles,
+stance) are checked when the design reaches the head of the queue, and its full payload (never
+above the static one) puts it back. A fully checked design at the head joins the front: every
+design of larger payload has been resolved by then, so each point is final when found (proof:
+docs/frontier.md, "Method: bi-objective branch and bound"). Past the deadline the search
+stops: the points found are proven, and the entries left bound the region where points may be
+missing.
 """
 
 from __future__ import annotations
@@ -33,13 +36,16 @@ import numpy as np
 
 from ..problem import checks, feasible
 from .model import SizingModel, tie_tol
-from .pareto import _payload
+from .pareto import _payload, measure_values
 from .search import search_order
 
 #: complete designs scored per oracle call at the last level
 LEAF_CHUNK = 512
-#: kinds of queue entries: a partial design, a complete design that passed the static cases,
-#: a complete design fully checked
+#: the robot-level measures: sums of per-joint values, bounded exactly by the per-joint minima
+SEPARABLE = ("mass", "cost")
+#: kinds of queue entries: the children of a partial design not yet taken (one entry, keyed by
+#: the best of them), a complete design that passed the static cases, a complete design fully
+#: checked
 NODE, SCREENED, FINAL = 0, 1, 2
 
 
@@ -59,12 +65,17 @@ class BiOutcome:
     open_measure: float | None
 
 
-def measure_model(model: SizingModel, case: str, metric: str) -> SizingModel:
+def measure_model(model: SizingModel, case: str | None, metric: str) -> SizingModel:
     """The payload model with its measure set to ``metric`` at ``case`` (for the measure bounds
-    of :meth:`SizingModel.child_bounds` and :meth:`SizingModel.costly_ok`); shares every array."""
+    of :meth:`SizingModel.child_bounds` and :meth:`SizingModel.costly_ok`); shares every array.
+    The robot-level measures (total mass, cost; ``case`` None) are the model's own objectives
+    "mass" and "cost", whose bound is the exact sum of the per-joint least values."""
     m = copy.copy(model)
-    m.kind = f"{metric}@{case}"
-    m.measure = (metric, case, 1.0 if metric == "imf" else -1.0)
+    if metric in SEPARABLE:
+        m.kind, m.measure = metric, None
+    else:
+        m.kind = f"{metric}@{case}"
+        m.measure = (metric, case, 1.0 if metric == "imf" else -1.0)
     # the duty-cycle bound costs a trajectory pass per node and only removes designs that the
     # costly check at the leaves rejects anyway: left out of the inner nodes (fewer cuts only)
     m.duty_bound = None
@@ -72,7 +83,7 @@ def measure_model(model: SizingModel, case: str, metric: str) -> SizingModel:
 
 
 class BiObjectiveSearch:
-    """Depth-first bi-objective branch and bound; see the module docstring.
+    """Best-first bi-objective branch and bound; see the module docstring.
 
     ``model``: built for the payload objective with the measure's own limit removed;
     ``sense`` "min": larger measure is better (IMF), "max": smaller is better.
@@ -82,7 +93,7 @@ class BiObjectiveSearch:
         self,
         model: SizingModel,
         units: list[tuple],
-        case: str,
+        case: str | None,
         metric: str,
         sense: str,
         *,
@@ -111,6 +122,10 @@ class BiObjectiveSearch:
         self.fi = np.zeros((0, n), dtype=np.int64)
         self.fmass = np.zeros(0)
         self.frefl = np.zeros(0)
+        #: a feasible design's (payload, measure) that prunes what it beats strictly
+        #: (:meth:`incumbent`), and its queue entry
+        self.inc: tuple[float, float] | None = None
+        self.inc_entry: tuple | None = None
         self.nodes = self.scored = self.checked = 0
         #: most queue entries taken (a stop that does not depend on the clock, for tests)
         self.max_pops: float = math.inf
@@ -124,9 +139,11 @@ class BiObjectiveSearch:
         tick = itertools.count()
         opts = [self._unit_options(u) for u in self.units]
         if all(o.size for o in opts):
-            root = (np.full(n, -1, dtype=np.int64), -1)
-            top = 1.0 if self.mmodel.measure[0] == "imf" else 0.0  # the trivial measure bound
+            top = 1.0 if self.metric == "imf" else 0.0  # the trivial measure bound
+            root = (np.full(n, -1, dtype=np.int64), None, [self.cap], [top], 0)
             heap.append((-self.cap, -top, 0.0, 0.0, next(tick), NODE, root, 0))
+            if self.inc_entry is not None:
+                heapq.heappush(heap, self.inc_entry)
         self.leaves: list = []  # complete designs not yet scored, by their (near-exact) boxes
         pops = 0
         while heap or self.leaves:
@@ -139,13 +156,15 @@ class BiObjectiveSearch:
                 continue
             negp, negm, mass, refl, _t, kind, idx, level = heapq.heappop(heap)
             p, m = -negp, -negm
+            if kind == NODE:  # the best child not yet taken; its siblings wait behind it
+                self._next_sibling(heap, tick, idx, level)
             if self.dominated1(p, m):
                 continue
             if kind == NODE:
-                parent, option = idx
+                parent, options, _pb, _mbs, k = idx
                 child = parent.copy()
-                if level:
-                    child[list(self.units[level - 1])] = option
+                if options is not None:
+                    child[list(self.units[level - 1])] = options[k]
                 self._expand(heap, tick, child, level)
             elif kind == SCREENED:  # static cases passed: the costly ones decide
                 full = self.model.score(idx[None, :], full=True)
@@ -157,7 +176,11 @@ class BiObjectiveSearch:
                 self._add(p, m, idx, mass, refl)
         open_p = open_m = None
         if self.stopped:
-            keys = [h[:2] for h in heap] + [h[:2] for h in self.leaves]
+            keys = [h[:2] for h in heap if h[5] != NODE] + [h[:2] for h in self.leaves]
+            for h in heap:  # every child a sibling entry still holds
+                if h[5] == NODE:
+                    _parent, _options, pb, mbs, k = h[6]
+                    keys += [(-pb[i], -mbs[i]) for i in range(k, len(pb))]
             rest = -np.array(keys, dtype=float).reshape(-1, 2)
             live = rest[~self.dominated(rest[:, 0], rest[:, 1])]
             if live.size:
@@ -185,24 +208,54 @@ class BiObjectiveSearch:
             open_m,
         )
 
-    def seed(self, index: np.ndarray) -> None:
-        """Start from a proven front point: ``index`` has the largest payload of all designs
-        and the best measure among those of that payload (two single-objective searches, the
-        sweep's first step). No design has more payload, so the cap falls to it, and every box
-        whose measure bound is no better is dominated from the start."""
+    def _point(self, index: np.ndarray):
+        """(payload, internal measure, mass, inertia) of a fully checked feasible design, or
+        None."""
         model = self.model
         index = np.asarray(index, dtype=np.int64)[None, :]
         full = model.score(index, full=True)
         if not full.feasible[0]:
-            return
+            return None
         arrays = model.table.arrays(index)
         ev = model.static_evaluator.evaluate(arrays, detail=False)
-        m = self.sign * float(np.asarray(ev[self.case][self.metric], dtype=float)[0])
+        m = self.sign * float(measure_values(arrays, ev, self.case, self.metric)[0])
         p = float(full.objective[0])
         if not (math.isfinite(p) and math.isfinite(m)):
-            return
+            return None
+        return p, m, float(full.mass[0]), float(full.reflected[0])
+
+    def seed(self, index: np.ndarray) -> bool:
+        """Start from a proven front point: ``index`` has the largest payload of all designs
+        and the best measure among those of that payload (two single-objective searches, the
+        sweep's first step). No design has more payload, so the cap falls to it, and every box
+        whose measure bound is no better is dominated from the start."""
+        point = self._point(index)
+        if point is None:
+            return False
+        p, m, mass, refl = point
         self.cap = min(self.cap, p + tie_tol(p))
-        self._add(p, m, index[0], float(full.mass[0]), float(full.reflected[0]))
+        self._add(p, m, np.asarray(index, dtype=np.int64).copy(), mass, refl)
+        return True
+
+    def incumbent(self, index: np.ndarray) -> bool:
+        """Start from a feasible design of largest payload (the single-objective search's, the
+        sweep's first step). Its point (P, μ) prunes every box that it beats strictly in
+        measure with payload bound ≤ P: every design inside has payload ≤ P and a worse
+        measure, so none is on the front. Boxes equal to it in measure stay, so the point at
+        payload P with the best measure is still found; the design itself waits in the queue
+        as a fully checked entry and joins the front when it reaches the head, unless a design
+        of the same payload and a better measure came first. Of two incumbents the one of
+        larger payload, then better measure, stays. Returns whether it was taken."""
+        point = self._point(index)
+        if point is None:
+            return False
+        p, m, mass, refl = point
+        if self.inc is not None and (self.inc[0], self.inc[1]) >= (p, m):
+            return False
+        self.inc = (p, m)
+        idx = np.asarray(index, dtype=np.int64).copy()
+        self.inc_entry = (-p, -m, mass, refl, -1, FINAL, idx, len(self.units))
+        return True
 
     def _add(self, p: float, m: float, idx: np.ndarray, mass: float, refl: float) -> None:
         """A fully checked design joins the front: every design of larger payload is known, so
@@ -227,18 +280,26 @@ class BiObjectiveSearch:
     def dominated(self, p: np.ndarray, m: np.ndarray) -> np.ndarray:
         """Whether a front point weakly dominates each box corner (p, m), within the tie
         tolerance on payload (payloads that close count as one point, docs/frontier.md)."""
+        out = np.zeros(p.shape, dtype=bool)
+        if self.inc is not None:  # beaten strictly in measure by a known feasible design
+            ip, im = self.inc
+            out = (p <= ip + tie_tol(ip)) & (m < im - _mtol(im))
         if self.fp.size == 0:
-            return np.zeros(p.shape, dtype=bool)
+            return out
         tol = np.where(np.isfinite(p), 1e-9 * np.maximum(1.0, np.abs(p)), 0.0)
         # front sorted by payload ascending has its measure descending: the first front point
         # with payload ≥ p − tol has the best measure among all those with payload ≥ p − tol
         k = np.searchsorted(self.fp, p - tol, side="left")
         inside = k < self.fp.size
         best = np.where(inside, self.fm[np.minimum(k, self.fp.size - 1)], -np.inf)
-        return inside & (best >= m - _mtol_arr(m))
+        return out | (inside & (best >= m - _mtol_arr(m)))
 
     def dominated1(self, p: float, m: float) -> bool:
         """:meth:`dominated` for one box."""
+        if self.inc is not None:
+            ip, im = self.inc
+            if p <= ip + tie_tol(ip) and m < im - _mtol(im):
+                return True
         if self.fp.size == 0:
             return False
         tol = tie_tol(p)
@@ -255,21 +316,25 @@ class BiObjectiveSearch:
         if self.stance is not None and opts.size:
             p = np.minimum(p, self.stance.bound(idx, unit, opts))
         keep = b["ok"] & (p > -np.inf)
-        if self.mmodel.measure[0] == "backdrive_force":
+        if self.metric in SEPARABLE or self.metric == "backdrive_force":
+            # total mass or cost: the assigned joints' values plus each free joint's least one
+            # (exact for a complete design); back-drive force: the least breakaway torques
             mb = self.mmodel.child_bounds(idx, unit, opts[keep], self.st)["objective"]
         else:
-            # the trivial bounds: an IMF is at most 1, a mass or a force at least 0
-            mb = np.full(int(keep.sum()), 1.0 if self.mmodel.measure[0] == "imf" else 0.0)
+            # the trivial bounds: an IMF is at most 1, an effective mass at least 0
+            mb = np.full(int(keep.sum()), 1.0 if self.metric == "imf" else 0.0)
         opts, p = opts[keep], p[keep]
         keep = ~self.dominated(p, mb)
         opts, p, mb = opts[keep], p[keep], mb[keep]
-        if opts.size and (self.fp.size or last):
+        if opts.size and (self.fp.size or self.inc is not None or last):
             # the measure bounds cost an oracle call; above the last level, before the first
             # front point, they cut nothing (no box is dominated): they start with it there
-            # (skipping a cut is safe); complete designs always get theirs
-            bounds = {"objective": mb.copy()}
+            # (skipping a cut is safe); complete designs always get theirs. Total mass and cost
+            # have theirs already (exact sums): the call checks the other limits only
+            bounds = None if self.metric in SEPARABLE else {"objective": mb.copy()}
             ok = self.mmodel.costly_ok(idx, unit, opts, self.st, bounds)
-            mb = np.minimum(mb, bounds["objective"])
+            if bounds is not None:
+                mb = np.minimum(mb, bounds["objective"])
             ok &= ~self.dominated(p, mb)
             opts, p, mb = opts[ok], p[ok], mb[ok]
         order = np.lexsort((opts, -mb, -p))
@@ -283,17 +348,52 @@ class BiObjectiveSearch:
         opts, p, mb = self._boxes(idx, unit, self._unit_options(unit), level + 1 == len(self.units))
         if not opts.size:
             return
-        if level + 1 < len(self.units):  # children share the parent's array
-            for k in range(opts.size):
-                heapq.heappush(
-                    heap,
-                    (-p[k], -mb[k], 0.0, 0.0, next(tick), NODE, (idx, int(opts[k])), level + 1),
-                )
+        if level + 1 < len(self.units):
+            # one queue entry for all the children, keyed by the best: they are sorted by
+            # payload bound, then measure bound, the queue's own order, so taking them one at a
+            # time (:meth:`_next_sibling`) visits them exactly as single entries would. Among
+            # equal boxes the deeper node goes first (third key −depth; complete designs carry
+            # their mass ≥ 0 there, so a node still precedes them)
+            heapq.heappush(
+                heap,
+                (
+                    -p[0],
+                    -mb[0],
+                    -(level + 1.0),
+                    0.0,
+                    next(tick),
+                    NODE,
+                    (idx, opts, p, mb, 0),
+                    level + 1,
+                ),
+            )
             return
         rows = np.broadcast_to(idx, (opts.size, self.model.n)).copy()
         rows[:, list(unit)] = opts[:, None]
         for k in range(opts.size):
             heapq.heappush(self.leaves, (-p[k], -mb[k], next(tick), rows[k]))
+
+    def _next_sibling(self, heap: list, tick, entry: tuple, level: int) -> None:
+        """Queue the next child of a sibling entry (the one after ``entry``'s), skipping the
+        children the front already dominates (the front only grows: they stay dominated)."""
+        parent, options, pb, mbs, k = entry
+        k += 1
+        while k < len(pb) and self.dominated1(float(pb[k]), float(mbs[k])):
+            k += 1
+        if k < len(pb):
+            heapq.heappush(
+                heap,
+                (
+                    -pb[k],
+                    -mbs[k],
+                    -float(level),
+                    0.0,
+                    next(tick),
+                    NODE,
+                    (parent, options, pb, mbs, k),
+                    level,
+                ),
+            )
 
     def _score_leaves(self, heap: list, tick) -> None:
         """Score the best leaf boxes not dominated by the front (up to :data:`LEAF_CHUNK`, in
@@ -311,7 +411,7 @@ class BiObjectiveSearch:
         ev = model.static_evaluator.evaluate(arrays, detail=False)
         ok = feasible(checks(model.static_project, arrays, ev), chunk.shape[0])
         pay = _payload(model, arrays, ev, chunk.shape[0])
-        mu = self.sign * np.asarray(ev[self.case][self.metric], dtype=float)
+        mu = self.sign * measure_values(arrays, ev, self.case, self.metric)
         ok &= np.isfinite(mu) & ~np.isnan(pay)
         self.scored += chunk.shape[0]
         keep = np.flatnonzero(ok)

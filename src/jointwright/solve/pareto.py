@@ -58,7 +58,7 @@ def count(model: SizingModel, units: list[tuple]) -> int:
 def pareto_front(
     model: SizingModel,
     units: list[tuple],
-    case: str,
+    case: str | None,
     metric: str,
     sense: str,
     *,
@@ -67,9 +67,10 @@ def pareto_front(
     """Non-dominated (payload, measure) designs over every combination of the candidates.
 
     ``sense`` "min": a larger measure is better (IMF); "max": a smaller one is (effective mass,
-    back-drive force). ``model`` must be built for the payload objective with the measure's own
-    requirement removed. Past ``deadline`` (``time.perf_counter()`` value) the front of what was
-    scored is returned with ``complete=False``.
+    back-drive force, total mass or cost, ``case`` None for the last two). ``model`` must be
+    built for the payload objective with the measure's own requirement removed. Past
+    ``deadline`` (``time.perf_counter()`` value) the front of what was scored is returned with
+    ``complete=False``.
     """
     start = time.perf_counter()
     opts = unit_options(model, units)
@@ -90,7 +91,7 @@ def pareto_front(
         ev = model.static_evaluator.evaluate(arrays, detail=False)
         ok = feasible(checks(model.static_project, arrays, ev), index.shape[0])
         payload = _payload(model, arrays, ev, index.shape[0])
-        mu = sign * np.asarray(ev[case][metric], dtype=float)
+        mu = sign * measure_values(arrays, ev, case, metric)
         ok &= np.isfinite(mu) & ~np.isnan(payload)
         scored += index.shape[0]
         if not ok.any():
@@ -132,6 +133,16 @@ def pareto_front(
         (float(p[k]), float(sign * m[k]), idx[k].copy(), float(mass[k])) for k in front[order]
     )
     return ParetoOutcome(pts, complete, scored, time.perf_counter() - start)
+
+
+def measure_values(arrays, ev, case: str | None, metric: str) -> np.ndarray:
+    """The frontier measure of each design: ``metric`` of ``case`` in the evaluation, or, for
+    the robot-level measures (``case`` None), the total actuator mass (kg) or cost."""
+    if metric == "mass":
+        return np.asarray(arrays.mass.sum(axis=1), dtype=float)
+    if metric == "cost":
+        return np.asarray(arrays.cost.sum(axis=1), dtype=float)
+    return np.asarray(ev[case][metric], dtype=float)
 
 
 def _payload(model: SizingModel, arrays, ev, count: int) -> np.ndarray:
