@@ -1,55 +1,30 @@
-"""The frontier over stance (several-contact) cases: every point's payload is carried by every
-stance case, whichever method found it.
+"""The frontier over stance (several-contact) cases: the second stage of a frontier point (the
+best measure at the point's payload) must keep the payload on stance cases too, and the
+exhaustive method must refuse what it cannot hold.
 
-Reference: brute force over every design of a small invented quadruped instance (3 motors,
-2 stage types; tests/test_solve_stance_bound.py builds it), each design assessed in full by the
-evaluator; a point on the front is a design no other design beats on payload and measure
-[definition of Pareto optimality, pub].
+Reference: the payload-to-force law of a case, F = fixed_load + share·g_n·m (docs/metrics.md;
+standard gravity g_n = 9.80665 m/s², CGPM 1901 [pub]).
 """
 
 from __future__ import annotations
 
 import pytest
 
-from jointwright.assessment import assess
+from jointwright.cases import STANDARD_GRAVITY
 from jointwright.errors import InputError
-from jointwright.frontier import frontier
+from jointwright.frontier import frontier, with_payload_floor
 from test_solve_stance_bound import _quadruped
 
-#: the legs share one actuator per joint kind (as in the bundled quadruped): 3 units, a few
-#: thousand designs, so the exhaustive method is the brute-force reference
-LEGS = [
-    [f"{leg}_{joint}" for leg in ("fl", "fr", "hl", "hr")] for joint in ("hip_ab", "hip_fe", "knee")
-]
 
-
-def _shared(seed):
-    import dataclasses
-
-    return dataclasses.replace(_quadruped(seed), objective={"shared": LEGS})
-
-
-@pytest.mark.slow
-@pytest.mark.parametrize("method", ["sweep", "branch-and-bound", "exhaustive"])
-def test_stance_payload_holds_at_every_frontier_point(method):
-    project = _shared(11)
-    reference = frontier(project, "mass", method="exhaustive")
-    front = frontier(project, "mass", method=method)
-    assert front.complete
-    for p in front.points:
-        a = assess(project, p.design)
-        stance = [c for c in a.cases if c.kind == "stance"]
-        assert stance
-        for c in stance:
-            # the payload the stance case carries is at least the point's payload
-            assert c.metrics["payload_mass"] >= p.payload - 1e-6 * max(1.0, p.payload), (
-                method,
-                c.name,
-                p.payload,
-            )
-    got = [(round(p.payload, 6), round(p.value, 6)) for p in front.points]
-    want = [(round(p.payload, 6), round(p.value, 6)) for p in reference.points]
-    assert got == want
+def test_payload_floor_binds_stance_cases_as_well_as_payload_cases():
+    project = _quadruped(11)
+    stance = [c for c in project.cases if c.kind == "stance"]
+    assert stance, "the invented quadruped instance has stance cases"
+    floored = with_payload_floor(project, 20.0)
+    for before, after in zip(project.cases, floored.cases, strict=True):
+        if before in stance and before.payload_share > 0:
+            want = before.fixed_load + before.payload_share * STANDARD_GRAVITY * 20.0
+            assert after.limits["payload_min"] == pytest.approx(want, rel=1e-8)
 
 
 def test_exhaustive_refuses_a_front_too_large_to_score():

@@ -514,43 +514,47 @@ def _left(seconds: float) -> float | None:
     return None if not math.isfinite(seconds) else max(seconds, 1e-3)
 
 
+def with_payload_floor(project, payload_floor: float):
+    """``project`` with every case that sets the payload objective (payload and stance cases,
+    only the ``[objective] cases`` when given) required to carry ``payload_floor`` kg: the
+    lexicographic second stage of a frontier point."""
+    from .problem import load_for_payload, payload_objective_cases
+
+    # the floor is a payload mass (kg); each case must reach the force that carries it
+    floor = payload_floor - 1e-9 * abs(payload_floor) - 1e-12
+    chosen = {c.name for c in payload_objective_cases(project)}
+    return dataclasses.replace(
+        project,
+        cases=tuple(
+            dataclasses.replace(
+                c,
+                limits={
+                    **c.limits,
+                    "payload_min": max(
+                        float(load_for_payload(c, floor)), c.limits.get("payload_min", 0.0)
+                    ),
+                },
+            )
+            if c.name in chosen
+            else c
+            for c in project.cases
+        ),
+    )
+
+
 def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=None, bound=None):
     """One exact solve of the sweep: (status, objective, design, option index per joint).
 
-    ``payload_floor``: every payload case must reach it (the lexicographic second stage);
+    ``payload_floor``: every payload and stance case must reach it (:func:`with_payload_floor`);
     ``bound``: a :class:`~.solve.biobjective.BiObjectiveSearch` whose payload cap takes the
     search's proven bound (payload objective only);
     ``upper``: a known bound from the neighbouring point, which ends the search when reached.
     Only the optimal value matters here, so ties are not searched.
     """
-    from .problem import load_for_payload, payload_objective_cases
     from .sizing import build_model, design_of, read_objective, units_of
     from .solve.search import BranchAndBound
 
-    p = project
-    if payload_floor is not None:
-        # the floor is a payload mass (kg); each case must reach the force that carries it
-        floor = payload_floor - 1e-9 * abs(payload_floor) - 1e-12
-        # the cases that set the payload objective ([objective] cases, when given): payload
-        # and stance cases alike, so the second stage never trades a stance case's payload
-        chosen = {c.name for c in payload_objective_cases(project)}
-        p = dataclasses.replace(
-            project,
-            cases=tuple(
-                dataclasses.replace(
-                    c,
-                    limits={
-                        **c.limits,
-                        "payload_min": max(
-                            float(load_for_payload(c, floor)), c.limits.get("payload_min", 0.0)
-                        ),
-                    },
-                )
-                if c.name in chosen
-                else c
-                for c in project.cases
-            ),
-        )
+    p = project if payload_floor is None else with_payload_floor(project, payload_floor)
     cfg = read_objective(project)
     model, _ = build_model(p, kind, cfg["pin"], cfg["exclude"], cfg["shared"], table=table)
     units = units_of(model.n, model.shared)
