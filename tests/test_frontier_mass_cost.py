@@ -95,7 +95,7 @@ def test_cli_mass_front_json_table_and_report(tmp_path):
     from click.testing import CliRunner
 
     from jointwright.cli import main
-    from jointwright.report.hooks import frontier_from_sweep
+    from jointwright.report.frontier_map import frontier_from_sweep
 
     runner = CliRunner()
     assert runner.invoke(main, ["new", str(tmp_path / "leg")]).exit_code == 0
