@@ -14,7 +14,8 @@ import numpy as np
 
 from jointwright.metrics.acceleration import _acceleration_exits
 from jointwright.metrics.envelope import REFERENCE_TEMPERATURE, _line, check_positive
-from jointwright.metrics.loaded import _direction_rates, loaded_endpoint_speed
+from jointwright.metrics.loaded import loaded_endpoint_speed
+from jointwright.metrics.speed import _direction_rates
 from jointwright.metrics.speed import check_efficiencies
 from jointwright.metrics.stroke import StrokeSpeed
 

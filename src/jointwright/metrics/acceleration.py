@@ -12,8 +12,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from .envelope import check_positive
-from .loaded import _direction_rates, _mode_factor, _motor_torque, _standstill_torque
-from .speed import check_efficiencies
+from .loaded import _mode_factor, _motor_torque, _standstill_torque
+from .speed import _direction_rates, check_efficiencies
 
 
 def _first_rise_linear(start, end, c1, c0):

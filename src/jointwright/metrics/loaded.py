@@ -12,9 +12,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..errors import InputError
 from .envelope import REFERENCE_TEMPERATURE, _line, check_positive, torque_speed_envelope
-from .speed import REACH_TOLERANCE, check_efficiencies
+from .speed import _direction_rates, check_efficiencies
 
 #: joint power-flow modes reported by the loaded metrics
 MOTORING, BACKDRIVEN, HOLDING = 1, -1, 0
@@ -54,22 +53,6 @@ class LoadedSpeed:
     motor_speed: np.ndarray
     mode: np.ndarray
     joint_speeds: np.ndarray
-
-
-def _direction_rates(J, u):
-    """a = J⁺·û (joint rates per unit end-point speed) and whether û is in the range of J."""
-    J = np.asarray(J, dtype=float)
-    if J.ndim < 2:
-        raise InputError("<api>", "J", f"must have shape (..., m, n), got {J.shape}")
-    u = np.asarray(u, dtype=float)
-    norm = np.linalg.norm(u, axis=-1, keepdims=True)
-    if np.any(~(norm > 0)) or not np.all(np.isfinite(u)):
-        raise InputError("<api>", "u", "must be a finite non-zero direction")
-    u = u / norm
-    a = np.einsum("...ij,...j->...i", np.linalg.pinv(J), u)
-    back = np.einsum("...ij,...j->...i", J, a)
-    reachable = np.linalg.norm(back - u, axis=-1) <= REACH_TOLERANCE * (1.0 + np.abs(a).max(-1))
-    return a, reachable
 
 
 def _motor_torque(tau_j, moving_sign, ratio, eta_f, eta_b, rotor_term):

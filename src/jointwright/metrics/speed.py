@@ -45,6 +45,22 @@ class EndpointSpeed:
     reachable: np.ndarray
 
 
+def _direction_rates(J, u):
+    """a = J⁺·û (joint rates per unit end-point speed) and whether û is in the range of J."""
+    J = np.asarray(J, dtype=float)
+    if J.ndim < 2:
+        raise InputError("<api>", "J", f"must have shape (..., m, n), got {J.shape}")
+    u = np.asarray(u, dtype=float)
+    norm = np.linalg.norm(u, axis=-1, keepdims=True)
+    if np.any(~(norm > 0)) or not np.all(np.isfinite(u)):
+        raise InputError("<api>", "u", "must be a finite non-zero direction")
+    u = u / norm
+    a = np.einsum("...ij,...j->...i", np.linalg.pinv(J), u)
+    back = np.einsum("...ij,...j->...i", J, a)
+    reachable = np.linalg.norm(back - u, axis=-1) <= REACH_TOLERANCE * (1.0 + np.abs(a).max(-1))
+    return a, reachable
+
+
 def endpoint_speed(J, joint_speed_limit, u) -> EndpointSpeed:
     """Largest end-point speed along a unit direction u with |q̇_i| ≤ limit_i.
 
@@ -70,14 +86,7 @@ def endpoint_speed(J, joint_speed_limit, u) -> EndpointSpeed:
     if J.ndim < 2:
         raise InputError("<api>", "J", f"must have shape (..., m, n), got {J.shape}")
     lim = check_positive("joint_speed_limit", joint_speed_limit, allow_inf=True)
-    u = np.asarray(u, dtype=float)
-    norm = np.linalg.norm(u, axis=-1, keepdims=True)
-    if np.any(~(norm > 0)) or not np.all(np.isfinite(u)):
-        raise InputError("<api>", "u", "must be a finite non-zero direction")
-    u = u / norm
-    a = np.einsum("...ij,...j->...i", np.linalg.pinv(J), u)
-    back = np.einsum("...ij,...j->...i", J, a)
-    reachable = np.linalg.norm(back - u, axis=-1) <= REACH_TOLERANCE * (1.0 + np.abs(a).max(-1))
+    a, reachable = _direction_rates(J, u)
     absa = np.abs(a)
     with np.errstate(divide="ignore"):
         bound = np.where(absa > 0, lim / absa, np.inf)

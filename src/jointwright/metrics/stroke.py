@@ -28,8 +28,8 @@ import numpy as np
 from ..errors import InputError
 from .acceleration import _acceleration_exits
 from .envelope import REFERENCE_TEMPERATURE, _line, check_positive
-from .loaded import LoadedSpeed, _direction_rates, loaded_endpoint_speed
-from .speed import check_efficiencies
+from .loaded import LoadedSpeed, loaded_endpoint_speed
+from .speed import _direction_rates, check_efficiencies
 from .stroke_integrals import invert_distance, piece_integrals
 
 #: speeds (intervals) of the first pass; a design whose pieces are not resolved there is
