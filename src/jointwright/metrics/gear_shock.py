@@ -59,19 +59,28 @@ def link_velocity_step(J, M, u, speed, restitution, locked=None):
     Mf, Jf = M.reshape(-1, nv, nv), J.reshape(-1, 3, nv)
     impulse = np.empty(flat_lock.shape[0])
     dq = np.zeros((flat_lock.shape[0], nv))
-    for pattern in np.unique(flat_lock, axis=0):
-        rows = np.all(flat_lock == pattern, axis=1)
+    # one lock pattern for the whole batch is the usual case: no sort, no row selection
+    one = flat_lock.shape[0] == 0 or bool((flat_lock == flat_lock[:1]).all())
+    for pattern in flat_lock[:1] if one else np.unique(flat_lock, axis=0):
+        rows = np.ones(flat_lock.shape[0], bool) if one else np.all(flat_lock == pattern, axis=1)
         free = ~pattern
-        a = Jf[rows][:, :, free].transpose(0, 2, 1) @ u  # (k, f) Jᵀ·u
-        x = np.linalg.solve(Mf[rows][:, free][:, :, free], a[..., None])[..., 0]  # M⁻¹·Jᵀ·u
+        Jr, Mr = (Jf, Mf) if one else (Jf[rows], Mf[rows])
+        if not free.all():
+            Jr, Mr = Jr[:, :, free], Mr[:, free][:, :, free]
+        a = Jr.transpose(0, 2, 1) @ u  # (k, f) Jᵀ·u
+        x = np.linalg.solve(Mr, a[..., None])[..., 0]  # M⁻¹·Jᵀ·u
         mobility = np.einsum("kf,kf->k", a, x)  # uᵀ·J·M⁻¹·Jᵀ·u = 1/m_link
         scale = np.abs(a).max(axis=-1, initial=0.0)
         moves = mobility > 1e-12 * np.maximum(scale * scale, 1e-300)
         p = np.where(moves, (1.0 + restitution) * speed / np.where(moves, mobility, 1.0), np.inf)
         impulse[rows] = p
-        step = np.zeros((int(rows.sum()), nv))
-        step[:, free] = np.where(moves[:, None], x * np.where(moves, p, 0.0)[:, None], 0.0)
-        dq[rows] = step
+        step = np.where(moves[:, None], x * np.where(moves, p, 0.0)[:, None], 0.0)
+        if one and free.all():
+            dq[:] = step
+        else:
+            full = np.zeros((step.shape[0], nv))
+            full[:, free] = step
+            dq[rows] = full
     return impulse.reshape(batch), dq.reshape(batch + (nv,))
 
 
