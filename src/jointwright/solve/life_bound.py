@@ -21,7 +21,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..metrics.duty import weights
+from ..metrics.signals import weights
 from ..metrics.gear_life import equivalent_torque, miner_life, rated_life
 from ..project import life_shares
 
