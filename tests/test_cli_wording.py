@@ -106,6 +106,37 @@ def test_unknown_gap_generic(leg_project):
     assert text.startswith("gap not known") and "not proven optimal" in text
 
 
+def test_size_json_says_why_the_bound_is_infinite(leg_project):
+    """``size --json``: an infinite bound stays the string "inf" (valid JSON, no bare Infinity)
+    and ``gap_unknown_reason`` says why; null with a finite bound."""
+    import json
+
+    objective = {"maximize": "margin", "cases": ["touchdown"]}
+    project = dataclasses.replace(leg_project, objective=objective)
+    result = _stopped_result("margin")
+    result.to_dict = lambda: {"bound": "inf", "gap": "inf"}
+    d = json.loads(json.dumps(size_cmd.result_json(result, project), allow_nan=False))
+    assert d["bound"] == "inf" and d["gap_unknown_reason"].startswith("gap not known")
+    assert "touchdown (impact)" in d["gap_unknown_reason"]
+    result.objective = math.nan  # stopped before any design: no "best design found"
+    reason = size_cmd.result_json(result, project)["gap_unknown_reason"]
+    assert "before it found a design" in reason and "best design found" not in reason
+    result.objective, result.bound, result.gap = 1.32, 1.5, 0.136
+    assert size_cmd.result_json(result, project)["gap_unknown_reason"] is None
+
+
+def test_report_reads_the_reason_from_the_sizing_json():
+    from jointwright.report import sizing_result
+
+    sizing = {"status": "time_limit", "objective_kind": "payload", "objective": 1.32}
+    sizing |= {"bound": "inf", "gap": "inf", "gap_unknown_reason": "gap not known: because"}
+    assert "gap not known: because" in sizing_result.runner_ups_section(sizing).body
+    from jointwright.errors import InputError
+
+    with pytest.raises(InputError, match="gap_unknown_reason"):
+        sizing_result.runner_ups_section(sizing | {"gap_unknown_reason": 3})
+
+
 def test_finite_gap_still_shown(leg_project, capsys):
     result = _stopped_result("payload")
     result.bound, result.gap = 1.5, (1.5 - 1.32) / 1.32
@@ -261,3 +292,57 @@ def _plain(project):
         dataclasses.replace(c, offset=(0.0,) * 3, moment=(0.0,) * 3) for c in project.cases
     )
     return dataclasses.replace(project, cases=cases)
+
+
+@pytest.mark.parametrize(
+    ("margin", "limit", "sense", "text"),
+    [
+        (0.018, 1.0, "max", "+1.8 %"),
+        (-0.25, 200.0, "min", "−25.0 %"),
+        (0.999, 150.0, "min", "+99.9 %"),
+        (1.497, 150.0, "min", "2.5× the limit"),  # 374.5 N against 150 N
+        (2.238, 10_000.0, "min", "3.24× the limit"),  # a gear life of 32,380 h against 10,000 h
+        (168.977, 10_000.0, "min", "> 100× the limit"),  # 1.7e6 h against 10,000 h
+        (99.0, 10_000.0, "min", "> 100× the limit"),
+        (5.0, 0.0, "min", "+500.0 %"),  # no multiple of a zero limit
+        (5.0, -2.0, "min", "+500.0 %"),  # nor of a negative one
+        (math.inf, 1.0, "min", "+∞ %"),
+        ("inf", 1.0, "min", "+∞ %"),
+        (None, 1.0, "min", "—"),
+        (math.nan, 1.0, "min", "—"),
+    ],
+)
+def test_large_margins_read_as_multiples(margin, limit, sense, text):
+    """Margin = (achieved − limit)/|limit| (docs/report.md); past +100 % a minimum is shown as
+    achieved ÷ limit, from 100 on as "> 100×" [trade]."""
+    from jointwright.report.wording import margin_text
+
+    assert margin_text(margin, limit, sense) == text
+    assert margin_text(margin, limit, sense, minus="-") == text.replace("−", "-")
+
+
+def test_region_poses_fold_into_their_worst_pose():
+    from jointwright.report.wording import check_label, worst_per_region
+
+    def check(subject, requirement, margin):
+        return {"subject": subject, "requirement": requirement, "margin": margin}
+
+    regions = {"reach": {"poses": 3, "case": "reach@1", "margin": 0.05}}
+    checks = [
+        check("reach@0", "payload_min", 0.30),
+        check("lift", "payload_min", 0.20),
+        check("reach@1", "payload_min", 0.05),
+        check("reach@2", "payload_min", "inf"),
+        check("reach@1", "speed_min", 0.50),
+        check("not@aregion", "payload_min", 0.01),  # not a region's pose: stays itself
+    ]
+    out = worst_per_region(checks, regions)
+    assert [(c["subject"], c["requirement"], r, n) for c, r, n in out] == [
+        ("reach@1", "payload_min", "reach", 3),
+        ("lift", "payload_min", "", 1),
+        ("reach@1", "speed_min", "reach", 3),
+        ("not@aregion", "payload_min", "", 1),
+    ]
+    c, region, poses = out[0]
+    assert check_label(c, region, poses) == "reach: payload min (worst of 3 poses: reach@1)"
+    assert check_label(out[1][0]) == "lift: payload min"
