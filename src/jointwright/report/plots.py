@@ -1,8 +1,9 @@
 """Figure sections of a design report: polytopes, ellipses, ratio trade and efficiency sensitivity.
 
 Each function computes its numbers (:mod:`.geometry`, :mod:`.sweeps`), draws them
-(:mod:`.capability_figures`, :mod:`.sweep_figures`), writes the PNG and SVG files into the figures folder and returns a
-:class:`~.markup.Section` with the figure embedded and a reading guide.
+(:mod:`.capability_figures`, :mod:`.sweep_figures`), writes the PNG and SVG files into the
+figures folder and returns a :class:`~.markup.Section` with the figure embedded and a reading
+guide.
 """
 
 from __future__ import annotations
@@ -165,8 +166,10 @@ def _sensitivity_table(sens, columns, titles, units) -> str:
             for k in columns:
                 low, high = sens.values[k][j, f]
                 row.append(Cell(f"{number(low)} / {fmt(high, units[k])}", "num"))
+            # a move past the efficiency's range stops at its end (sweeps.efficiency_sensitivity)
+            ends = ("0.01", "1") if f == 0 else ("−∞", "1")
             flags = [
-                f"{sign}{pts} limited by a bound"
+                f"{sign}{pts}: stops at {fname} = {ends[s]}"
                 for s, sign in enumerate("−+")
                 if sens.clipped[j, f, s]
             ]

@@ -13,6 +13,7 @@ import math
 from pathlib import Path
 
 from . import figures
+from .frontier_map import dominating_point
 from .markup import Cell, Section, bullets, check_value, figure, fmt, number, paragraph, table
 from .wording import check_label, margin_text, worst_per_region
 
@@ -275,6 +276,9 @@ def frontier_thumbnail(frontier: dict, fig_dir: Path) -> str:
         if chosen is not None
         else "this design is not placed on it (its measures are not both known)"
     )
+    better = dominating_point(xy, chosen, frontier.get("steps"))
+    if better is not None:
+        where += f", inside the frontier (point {better + 1} is at least as good on both axes)"
     return figure(png, "summary-frontier", "frontier thumbnail", f"Non-dominated designs; {where}.")
 
 
