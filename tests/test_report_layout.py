@@ -91,3 +91,25 @@ def test_full_report_draws_without_warnings(tmp_path):
             study=browser._study(tmp_path),
         )
     assert path.is_file()
+
+
+def test_sensitivity_bars_keep_no_change_mid_panel(tmp_path):
+    """Changes of one sign only (every move lowers the payload) still put the zero line in the
+    middle of the panel, so a bar is never read as running off the axis."""
+    from types import SimpleNamespace
+
+    import numpy as np
+
+    from jointwright.report import sweep_figures
+
+    values = np.full((2, 2, 2), 100.0)
+    values[0, 1, 1], values[1, 0, 0] = 97.0, 97.4  # −3 % and −2.6 %: all on one side
+    sens = SimpleNamespace(
+        joints=("hip", "knee"), step=0.05, base={"payload": 100.0}, values={"payload": values}
+    )
+    fig = sweep_figures.sensitivity_figure(sens, [("payload", "Smallest payload")])
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        figures.save(fig, tmp_path, "sensitivity")
+    low, high = fig.axes[0].get_xlim()
+    assert low == pytest.approx(-high) and high >= 3.0

@@ -63,6 +63,11 @@ def sensitivity_figure(sens, panels) -> Figure:
         ax.barh(y + 0.18, rel[:, 0], height=0.34, color="#8a94a3", label=f"−{pts} points")
         ax.barh(y - 0.18, rel[:, 1], height=0.34, color="#3b6ea5", label=f"+{pts} points")
         ax.axvline(0.0, color=INK, lw=0.8)
+        # symmetric about no change, so the zero line sits mid-panel even when every change has
+        # one sign (matplotlib would end the axis at 0)
+        reach = float(np.max(np.abs(rel))) if rel.size else 0.0
+        if reach > 1e-9:
+            ax.set_xlim(-1.15 * reach, 1.15 * reach)
         ax.set_yticks(y, labels=labels if ax is axes[0] else [""] * len(labels))
         if not np.any(np.abs(rel) > 1e-9):
             ax.text(
