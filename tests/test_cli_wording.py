@@ -346,3 +346,34 @@ def test_region_poses_fold_into_their_worst_pose():
     c, region, poses = out[0]
     assert check_label(c, region, poses) == "reach: payload min (worst of 3 poses: reach@1)"
     assert check_label(out[1][0]) == "lift: payload min"
+
+
+def test_a_stroke_speed_case_says_which_speed_is_which(leg_project, capsys, monkeypatch):
+    """The leg's swing has a 0.1 m stroke: the speed reached at its end is the requirement's;
+    the loaded steady speed is what the motors could sustain with no stroke limit and must not
+    read as the foot's speed (terminal and report say the same)."""
+    from importlib import resources
+
+    from jointwright.assessment import assess
+    from jointwright.commands import _format
+    from jointwright.commands.assess import print_assessment
+    from jointwright.design import load_design
+    from jointwright.report.case_tables import cases_section
+
+    with resources.as_file(resources.files("jointwright.examples") / "leg" / "design.toml") as p:
+        design = load_design(p, leg_project)
+    a = assess(leg_project, design)
+    swing = next(c for c in a.cases if c.name == "swing")
+    assert swing.metrics["speed_steady"] >= swing.metrics["speed"]  # the stroke ends below it
+    monkeypatch.setenv("COLUMNS", "200")
+    monkeypatch.setattr(_format, "_console", None)
+    print_assessment(a, leg_project)
+    out = capsys.readouterr().out
+    assert "end-point speed at the end of the stroke, with the load" in out
+    assert "speed the motors could sustain with an unlimited stroke" in out
+    assert "steady speed with no stroke limit" not in out
+    if swing.metrics.get("envelope_limit"):
+        assert "envelope at the speed it could sustain with an unlimited stroke" in out
+    body = cases_section(a.to_dict(), leg_project).body
+    assert "speed the motors could sustain with an unlimited stroke" in body
+    assert "time to cover the stroke from rest" in body

@@ -6,7 +6,7 @@ from __future__ import annotations
 from rich.console import Console
 
 from ..dutycase import DUTY_QUANTITIES
-from ..report.wording import torque_rows, wrench_text
+from ..report.wording import envelope_speed, torque_rows, wrench_text
 from ._format import num, table
 
 #: metric -> (label, unit) in the order shown
@@ -145,7 +145,9 @@ def print_case(con: Console, c, a, cases: dict, revolute: dict) -> None:
                 ]
             )
     if c.metrics.get("envelope_limit"):
-        rows.append(["motor at its envelope at steady speed", c.metrics["envelope_limit"]])
+        rows.append(
+            [f"motor at its envelope {envelope_speed(c.metrics)}", c.metrics["envelope_limit"]]
+        )
     if c.note:
         extra.append(f"[red]carries nothing:[/red] {c.note}")
     elif c.limiting_joint:

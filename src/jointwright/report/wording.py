@@ -70,6 +70,14 @@ def margin_text(margin, limit=None, sense: str | None = None, *, minus: str = "â
     return f"{100 * m:+.1f} %".replace("-", minus)
 
 
+def envelope_speed(metrics: dict) -> str:
+    """Where a speed case's motor meets its torque-speed envelope, in words: at the steady speed,
+    which with a stroke is the speed the motors could sustain beyond it, not the one reached."""
+    if metrics.get("speed_steady") is not None:
+        return "at the speed it could sustain with an unlimited stroke"
+    return "at steady speed"
+
+
 def vector_text(v, unit: str, *, minus: str = "âˆ’") -> str:
     """A 3-vector with its unit, e.g. "(0.12, 0, 0) m"."""
     return "(" + ", ".join(format_number(x, 4, minus=minus) for x in v) + f") {unit_text(unit)}"
