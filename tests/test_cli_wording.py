@@ -300,10 +300,10 @@ def _plain(project):
         (0.018, 1.0, "max", "+1.8 %"),
         (-0.25, 200.0, "min", "−25.0 %"),
         (0.999, 150.0, "min", "+99.9 %"),
-        (1.497, 150.0, "min", "2.5× the limit"),  # 374.5 N against 150 N
-        (2.238, 10_000.0, "min", "3.24× the limit"),  # a gear life of 32,380 h against 10,000 h
-        (168.977, 10_000.0, "min", "> 100× the limit"),  # 1.7e6 h against 10,000 h
-        (99.0, 10_000.0, "min", "> 100× the limit"),
+        (1.497, 150.0, "min", "2.5× limit"),  # 374.5 N against 150 N
+        (2.238, 10_000.0, "min", "3.24× limit"),  # a gear life of 32,380 h against 10,000 h
+        (168.977, 10_000.0, "min", "> 100× limit"),  # 1.7e6 h against 10,000 h
+        (99.0, 10_000.0, "min", "> 100× limit"),
         (5.0, 0.0, "min", "+500.0 %"),  # no multiple of a zero limit
         (5.0, -2.0, "min", "+500.0 %"),  # nor of a negative one
         (math.inf, 1.0, "min", "+∞ %"),
@@ -377,3 +377,30 @@ def test_a_stroke_speed_case_says_which_speed_is_which(leg_project, capsys, monk
     body = cases_section(a.to_dict(), leg_project).body
     assert "speed the motors could sustain with an unlimited stroke" in body
     assert "time to cover the stroke from rest" in body
+
+
+def test_duty_gear_rows_only_where_the_catalog_gives_a_number(capsys, monkeypatch):
+    """The arm's catalog states no rated gear life (each life is NaN: unknown) but a
+    repeated-peak rating: the terminal shows the gear rows it has numbers for, never a row
+    of dashes."""
+    from importlib import resources
+
+    from jointwright.assessment import assess
+    from jointwright.commands import _format
+    from jointwright.commands.assess import print_assessment
+    from jointwright.design import load_design
+    from jointwright.project import load_project
+
+    arm = resources.files("jointwright.examples") / "arm"
+    with resources.as_file(arm / "project.toml") as p, resources.as_file(arm / "design.toml") as d:
+        project = load_project(p)
+        a = assess(project, load_design(d, project))
+    duty = next(c for c in a.cases if c.kind == "duty")
+    lives = [duty.metrics[f"gear_life:{j.joint}"] for j in a.joints]
+    assert all(math.isnan(v) for v in lives)  # no rated life in the arm's catalog
+    monkeypatch.setenv("COLUMNS", "200")
+    monkeypatch.setattr(_format, "_console", None)
+    print_assessment(a, project)
+    out = capsys.readouterr().out
+    assert "gear life on this cycle alone" not in out
+    assert "gear repeated-peak rating used" in out

@@ -3,6 +3,8 @@ tables of a torque case and a duty cycle (the ``assess`` and ``size`` commands p
 
 from __future__ import annotations
 
+import math
+
 from rich.console import Console
 
 from ..dutycase import DUTY_QUANTITIES
@@ -72,9 +74,14 @@ DUTY_GEAR = [
 ]
 
 
-def _rated(c, joints) -> bool:
-    """Whether a duty case has a gear life for any joint (some stage states a rated life)."""
-    return any(isinstance(c.metrics.get(f"gear_life:{j}"), (int, float)) for j in joints)
+def _gear_rows(c, joints) -> list:
+    """The gear rows a duty case has a number for at some joint: the life only where a stage
+    states a rated life (NaN otherwise), the repeated-peak use where it states a rating."""
+
+    def known(v) -> bool:
+        return isinstance(v, (int, float)) and not isinstance(v, bool) and not math.isnan(v)
+
+    return [r for r in DUTY_GEAR if any(known(c.metrics.get(f"{r[0]}:{j}")) for j in joints)]
 
 
 def _scaled(value, scale: float):
@@ -129,8 +136,7 @@ def print_case(con: Console, c, a, cases: dict, revolute: dict) -> None:
         joints = [j.joint for j in a.joints]
         drows = [
             [label] + [num(_scaled(c.metrics.get(f"{key}:{j}"), scale), unit) for j in joints]
-            for key, label, unit, scale in list(DUTY_QUANTITIES)
-            + (DUTY_GEAR if _rated(c, joints) else [])
+            for key, label, unit, scale in list(DUTY_QUANTITIES) + _gear_rows(c, joints)
         ]
         quantity = str(c.metrics.get("limiting_quantity", "—"))
         rows += [["limiting quantity", LIMITING_QUANTITY.get(quantity, quantity)]]

@@ -206,7 +206,8 @@ def requirements_section(a: dict, project=None) -> Section:
     caption = (
         "Margin = (achieved − limit)/|limit| for a minimum, "
         "(limit − achieved)/|limit| for a maximum; a requirement is met when its "
-        "margin is ≥ 0. IMF values are dimensionless."
+        "margin is ≥ 0; past +100 %, a minimum's margin is shown as achieved ÷ limit "
+        '("2.5× limit"). IMF values are dimensionless.'
     )
     if any(c.get("margin_worst") is not None for c in a["checks"]):
         # efficiency bands (docs/metrics.md): each margin at nominal and at the worst end

@@ -43,14 +43,14 @@ def objective_change(kind: str, loss, unit: str = "", *, minus: str = "−") -> 
 
 #: a margin beyond this (+100 %: the achieved value is twice a minimum) reads as a multiple
 MULTIPLE_FROM = 1.0
-#: multiples from this one on read "> 100× the limit" (a life past a century of the required)
+#: multiples from this one on read "> 100× limit" (a life past a century of the required)
 MULTIPLE_SHOWN_MAX = 100.0
 
 
 def margin_text(margin, limit=None, sense: str | None = None, *, minus: str = "−") -> str:
     """A requirement's relative margin as an architect reads it at a glance: "+12.3 %" up to
     +100 %; beyond that, a minimum met many times over reads as the achieved value's multiple
-    of the limit, "3.24× the limit", and from 100 times on "> 100× the limit" (a gear life of
+    of the limit, "3.24× limit", and from 100 times on "> 100× limit" (a gear life of
     10⁶ h against 10,000 h is not "+9900.0 %"). The multiple needs a positive limit of a
     "min" requirement (margin = achieved / limit − 1); any other margin stays in %. None and
     NaN are "—"; infinities "+∞ %" / "−∞ %"."""
@@ -65,8 +65,8 @@ def margin_text(margin, limit=None, sense: str | None = None, *, minus: str = "�
     if m > MULTIPLE_FROM and sense == "min" and lim is not None and 0.0 < lim < math.inf:
         times = 1.0 + m
         if times >= MULTIPLE_SHOWN_MAX:
-            return f"> {MULTIPLE_SHOWN_MAX:g}× the limit"
-        return f"{times:.3g}× the limit"
+            return f"> {MULTIPLE_SHOWN_MAX:g}× limit"
+        return f"{times:.3g}× limit"
     return f"{100 * m:+.1f} %".replace("-", minus)
 
 
