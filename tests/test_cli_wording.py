@@ -404,3 +404,30 @@ def test_duty_gear_rows_only_where_the_catalog_gives_a_number(capsys, monkeypatc
     out = capsys.readouterr().out
     assert "gear life on this cycle alone" not in out
     assert "gear repeated-peak rating used" in out
+
+
+def test_names_stay_whole_while_the_table_fits(monkeypatch):
+    """A case name is never folded mid-word when the table fits the console; when it cannot,
+    the names fold and every column (the ok / MISSED mark last) is still shown."""
+    from rich.console import Console
+
+    from jointwright.commands import _format
+
+    monkeypatch.setenv("COLUMNS", "100")
+    monkeypatch.setattr(_format, "_console", None)
+    rows = [["unpowered-push", "backdrive force max", "4.859 N", "40 N", "+87.9 %", "ok"]]
+    wide = rows[0][:2] + ["9.145 N", "10.78 N", "80 N", "+88.6 %", "+86.5 %", "[red]MISSED[/red]"]
+
+    def shown(columns, body):
+        con = Console(width=100, record=True, soft_wrap=False)
+        con.print(_format.table("Requirements", columns, body))
+        return con.export_text()
+
+    text = shown(["subject", "requirement", "achieved", "limit", "margin", ""], rows)
+    assert "unpowered-push" in text
+    cols = ["subject", "requirement", "nominal", "worst end", "limit", "margin", "at worst", ""]
+    name = "unpowered-push-at-dock-2"  # 24 characters: with the rest, more than 100 columns
+    many = [[name] + wide[1:5] + ["2.84× limit", "2.84× limit", wide[7]]]
+    text = shown(cols, many)
+    assert "MISSED" in text and all(len(line) <= 100 for line in text.splitlines())
+    assert name not in text  # folded, so that the table fits

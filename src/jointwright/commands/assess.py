@@ -189,7 +189,8 @@ def _grouped(rows: list[list[str]], subjects: list[str], regions: dict, project)
         picked = [rows[k] for n in names for k in index[n]]
         if region:
             info = regions.get(region, {})
-            head = f"region of {info.get('poses', len(names))} poses, worst {info.get('case')}"
+            worst = str(info.get("case", "—")).removeprefix(region)  # "@k": its worst pose
+            head = f"region of {info.get('poses', len(names))} poses, worst {worst}"
             out.append([f"[bold]{region}[/bold]", head] + [""] * (len(rows[0]) - 2))
             picked = [["  " + r[0]] + r[1:] for r in picked]
         out += picked
