@@ -431,3 +431,16 @@ def test_names_stay_whole_while_the_table_fits(monkeypatch):
     text = shown(cols, many)
     assert "MISSED" in text and all(len(line) <= 100 for line in text.splitlines())
     assert name not in text  # folded, so that the table fits
+
+
+def test_modes_group_by_mode_and_fold_a_long_last_group():
+    from jointwright.report.wording import modes_text
+
+    leg = {"hip_ab": "holding", "hip_fe": "back-driven", "knee": "motoring"}
+    assert modes_text(leg) == "motoring: knee; back-driven: hip_fe; holding: hip_ab"
+    robot = {"fl_hip_fe": "motoring", "fl_knee": "motoring"}
+    robot |= {f"j{k}": "holding" for k in range(10)}
+    assert modes_text(robot) == "motoring: fl_hip_fe, fl_knee; holding: the other 10 joints"
+    # a single group is listed, never "the other"
+    every = {f"j{k}": "motoring" for k in range(6)}
+    assert modes_text(every) == "motoring: " + ", ".join(every)

@@ -8,7 +8,7 @@ import math
 from rich.console import Console
 
 from ..dutycase import DUTY_QUANTITIES
-from ..report.wording import envelope_speed, torque_rows, wrench_text
+from ..report.wording import envelope_speed, modes_text, torque_rows, wrench_text
 from ._format import num, table
 
 #: metric -> (label, unit) in the order shown
@@ -159,7 +159,7 @@ def print_case(con: Console, c, a, cases: dict, revolute: dict) -> None:
     elif c.limiting_joint:
         extra.append(f"limited by {c.limiting_joint}")
     if c.joint_modes:
-        extra.append("modes: " + ", ".join(f"{j} {m}" for j, m in c.joint_modes.items()))
+        extra.append("modes: " + modes_text(c.joint_modes))
     if c.kind == "impact" and c.metrics.get("contact_rank", 3) < 3:
         extra.append(
             "the joints cannot move the contact in every direction: determinant IMF is 0; "

@@ -13,7 +13,7 @@ from .markup import (
     number,
     table,
 )
-from .wording import envelope_speed, torque_rows, wrench_text
+from .wording import envelope_speed, modes_text, torque_rows, wrench_text
 
 #: case metrics shown per kind: (key, label, unit)
 CASE_METRICS = {
@@ -91,7 +91,7 @@ def _case_notes(c: dict) -> list[str]:
     if c.get("limiting_joint"):
         notes.append(f"limited by {c['limiting_joint']}")
     if c.get("joint_modes"):
-        notes.append("modes: " + ", ".join(f"{j} {m}" for j, m in c["joint_modes"].items()))
+        notes.append("modes: " + modes_text(c["joint_modes"]))
     if c["metrics"].get("envelope_limit"):
         notes.append(
             f"motor at its envelope {envelope_speed(c['metrics'])}: "

@@ -78,6 +78,31 @@ def envelope_speed(metrics: dict) -> str:
     return "at steady speed"
 
 
+#: modes in the order a reader scans them: the joints doing work first
+MODE_ORDER = ("motoring", "back-driven", "holding")
+#: a last group of more joints than this reads "the other N joints"
+MODE_LIST_MAX = 4
+
+
+def modes_text(joint_modes: dict) -> str:
+    """A payload case's power-flow mode per joint, grouped by mode: "motoring: knee;
+    back-driven: hip_fe; holding: hip_ab". On a whole robot the long last group (the other legs,
+    holding) reads "holding: the other 10 joints"."""
+    groups: dict[str, list[str]] = {}
+    for joint, mode in joint_modes.items():
+        groups.setdefault(str(mode), []).append(joint)
+    order = [m for m in MODE_ORDER if m in groups] + [m for m in groups if m not in MODE_ORDER]
+    parts = []
+    for k, mode in enumerate(order):
+        joints = groups[mode]
+        last = k == len(order) - 1 and k > 0
+        if last and len(joints) > MODE_LIST_MAX:
+            parts.append(f"{mode}: the other {len(joints)} joints")
+        else:
+            parts.append(f"{mode}: {', '.join(joints)}")
+    return "; ".join(parts)
+
+
 def vector_text(v, unit: str, *, minus: str = "−") -> str:
     """A 3-vector with its unit, e.g. "(0.12, 0, 0) m"."""
     return "(" + ", ".join(format_number(x, 4, minus=minus) for x in v) + f") {unit_text(unit)}"
