@@ -142,7 +142,7 @@ def test_finite_gap_still_shown(leg_project, capsys):
     result.bound, result.gap = 1.5, (1.5 - 1.32) / 1.32
     size_cmd.print_result(result, leg_project)
     out = capsys.readouterr().out
-    assert "bound 1.5 kg; gap +13.6 %" in out and "gap not known" not in out
+    assert "bound 1.5 kg; gap 13.6 %" in out and "gap not known" not in out
 
 
 def test_runner_ups_signed_in_the_terminal(leg_project, capsys):
@@ -444,3 +444,13 @@ def test_modes_group_by_mode_and_fold_a_long_last_group():
     # a single group is listed, never "the other"
     every = {f"j{k}": "motoring" for k in range(6)}
     assert modes_text(every) == "motoring: " + ", ".join(every)
+
+
+@pytest.mark.parametrize(
+    ("gap", "text"), [(0.0, "0 %"), (0.136, "13.6 %"), (2e-5, "0.002 %"), (1.0, "100 %")]
+)
+def test_gap_reads_unsigned(gap, text):
+    """A relative gap |bound − objective| / |objective| is never negative: no sign."""
+    from jointwright.report.wording import gap_text
+
+    assert gap_text(gap) == text

@@ -292,7 +292,7 @@ def test_runner_ups_hook_reads_the_sizing_result_form():
         and "misses touchdown: imf min" in s.body
         and "250 kg" in s.body
     )
-    assert "+0.0 %" in s.body and "230 kg" in s.body
+    assert "relative gap 0 %" in s.body and "230 kg" in s.body  # proven: no sign, no decimals
     bad = {**SIZING, "alternatives": [_alternative("m", "high", None, None)]}
     with pytest.raises(InputError, match=r"alternatives\[0\]\.objective"):
         sizing_result.runner_ups_section(bad)

@@ -18,6 +18,7 @@ from ..errors import InputError
 from ..project import load_project
 from ..report.wording import (
     check_label,
+    gap_text,
     margin_text,
     objective_change,
     unknown_gap,
@@ -140,7 +141,9 @@ def print_result(r, project=None) -> None:
     con.print(f"[bold]size[/bold] ({r.backend}, objective {r.objective_kind}): {r.message}")
     # an infinite bound (no bound known when the search stopped) leaves the gap unknown: say why
     reason = gap_reason(r, project)
-    bound = f"bound {num(r.bound, unit)}; gap {pct(r.gap)}" if reason is None else "bound —; gap —"
+    bound = (
+        f"bound {num(r.bound, unit)}; gap {gap_text(r.gap)}" if reason is None else "bound —; gap —"
+    )
     con.print(
         f"status {r.status}; objective {num(r.objective, unit)}; {bound}; "
         f"{r.seconds:.2f} s; {r.native_status}"

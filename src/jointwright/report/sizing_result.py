@@ -14,7 +14,7 @@ from .markup import (
     pct,
     table,
 )
-from .wording import objective_change, unknown_gap
+from .wording import gap_text, objective_change, unknown_gap
 
 #: unit of the sizing objective per kind (payload mass kg, total mass kg, cost in the catalog's
 #: currency, IMF and normalized margin dimensionless)
@@ -55,7 +55,7 @@ def runner_ups_section(
         if bound is not None:
             head.append(f"proven bound {fmt(bound, unit)}")
         if gap is not None:
-            head.append(f"relative gap {pct(gap)}")
+            head.append(f"relative gap {gap_text(gap)}")
     if data.get("backend"):
         head.append(f"back-end {data['backend']}")
     parts = [paragraph("; ".join(head) + "."), paragraph(str(data.get("message", "")))]

@@ -122,6 +122,13 @@ def wrench_text(case, *, minus: str = "−") -> str:
     return "; ".join(parts) + " (world axes)"
 
 
+def gap_text(gap) -> str:
+    """A search's relative gap to the proven bound, unsigned (it is never negative): "0 %" when
+    proven optimal, "13.6 %", "0.002 %"."""
+    g = float(gap)
+    return "0 %" if g == 0 else f"{100 * g:.3g} %"
+
+
 def unknown_gap(project, kind: str) -> str:
     """Why a search that stopped early has no finite bound (bound ∞), in words: the relative
     gap of its best design to the optimum is then not known, never shown as "∞"."""
