@@ -454,3 +454,27 @@ def test_gap_reads_unsigned(gap, text):
     from jointwright.report.wording import gap_text
 
     assert gap_text(gap) == text
+
+
+def test_limiting_quantity_reads_the_same_everywhere():
+    """The duty cycle's binding rating in the terminal, the case table and the summary's risk:
+    "continuous torque (RMS)", never the key "rms torque"."""
+    from jointwright.report import summary
+    from jointwright.report.wording import limiting_quantity_text
+
+    assert limiting_quantity_text("rms_torque") == "continuous torque (RMS)"
+    assert limiting_quantity_text("new_check") == "new check" and limiting_quantity_text(None) == "—"
+    a = {
+        "checks": [],
+        "joints": [],
+        "cases": [
+            {
+                "name": "trot",
+                "kind": "duty",
+                "limiting_joint": "hip_fe",
+                "metrics": {"rating_use": 0.98, "limiting_quantity": "rms_torque"},
+            }
+        ],
+    }
+    risk = " ".join(summary.risks(a))
+    assert "hip_fe uses 98 % of its motor's continuous torque (RMS)" in risk

@@ -8,7 +8,13 @@ import math
 from rich.console import Console
 
 from ..dutycase import DUTY_QUANTITIES
-from ..report.wording import envelope_speed, modes_text, torque_rows, wrench_text
+from ..report.wording import (
+    envelope_speed,
+    limiting_quantity_text,
+    modes_text,
+    torque_rows,
+    wrench_text,
+)
 from ._format import num, table
 
 #: metric -> (label, unit) in the order shown
@@ -54,15 +60,6 @@ SHOWN = {
         ("cycle_energy_no_regen", "electrical energy per cycle, no regeneration", "J"),
         ("cycle_energy_regen", "electrical energy per cycle, with regeneration", "J"),
     ],
-}
-
-#: duty-cycle rating checks (metrics.duty.CHECKS) in words
-LIMITING_QUANTITY = {
-    "rms_torque": "continuous torque (RMS)",
-    "peak_torque": "peak torque",
-    "speed": "motor top speed",
-    "envelope": "torque-speed line",
-    "temperature": "winding temperature",
 }
 
 #: per-joint gear life rows of a duty case, shown when a stage states a rated life
@@ -139,7 +136,7 @@ def print_case(con: Console, c, a, cases: dict, revolute: dict) -> None:
             for key, label, unit, scale in list(DUTY_QUANTITIES) + _gear_rows(c, joints)
         ]
         quantity = str(c.metrics.get("limiting_quantity", "—"))
-        rows += [["limiting quantity", LIMITING_QUANTITY.get(quantity, quantity)]]
+        rows += [["limiting quantity", limiting_quantity_text(quantity)]]
     if c.kind == "impact" and "shock_use" in c.metrics:
         for j in a.joints:
             torque = c.metrics.get(f"shock_torque:{j.joint}")

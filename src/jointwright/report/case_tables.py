@@ -13,7 +13,13 @@ from .markup import (
     number,
     table,
 )
-from .wording import envelope_speed, modes_text, torque_rows, wrench_text
+from .wording import (
+    envelope_speed,
+    limiting_quantity_text,
+    modes_text,
+    torque_rows,
+    wrench_text,
+)
 
 #: case metrics shown per kind: (key, label, unit)
 CASE_METRICS = {
@@ -69,7 +75,7 @@ def _duty_table(c: dict, joints: list[str]) -> str:
                 v = scale * v
             row.append(Cell(fmt(v, unit), "num", (("case", c["name"]), ("metric", f"{key}:{j}"))))
         rows.append(row)
-    quantity = str(m.get("limiting_quantity", "—")).replace("_", " ")
+    quantity = limiting_quantity_text(m.get("limiting_quantity"))
     use = m.get("rating_use")
     use = 100.0 * use if isinstance(use, (int, float)) and not isinstance(use, bool) else use
     cap = (

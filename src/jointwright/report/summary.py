@@ -15,7 +15,7 @@ from pathlib import Path
 from . import figures
 from .frontier_map import dominating_point
 from .markup import Cell, Section, bullets, check_value, figure, fmt, number, paragraph, table
-from .wording import check_label, margin_text, worst_per_region
+from .wording import check_label, limiting_quantity_text, margin_text, worst_per_region
 
 #: a met requirement with a relative margin below this is called thin (10 %) [trade]
 THIN_MARGIN = 0.10
@@ -192,10 +192,11 @@ def risks(a: dict, sensitivity: dict | None = None) -> list[str]:
     for c in a["cases"]:
         use = c["metrics"].get("rating_use") if c["kind"] == "duty" else None
         if isinstance(use, (int, float)) and HIGH_RATING_USE < use <= 1.0:
-            quantity = str(c["metrics"].get("limiting_quantity", "")).replace("_", " ")
+            key = c["metrics"].get("limiting_quantity")
+            quantity = limiting_quantity_text(key) if key else "rating"
             out.append(
                 f"Duty cycle {c['name']}: {c.get('limiting_joint') or 'a joint'} uses "
-                f"{fmt(100 * use, '%')} of its motor's {quantity or 'rating'}; a hotter "
+                f"{fmt(100 * use, '%')} of its motor's {quantity}; a hotter "
                 "room or a longer cycle can overheat it."
             )
     if sensitivity:

@@ -103,6 +103,24 @@ def modes_text(joint_modes: dict) -> str:
     return "; ".join(parts)
 
 
+#: the duty-cycle rating checks (metrics.duty) in words
+LIMITING_QUANTITY = {
+    "rms_torque": "continuous torque (RMS)",
+    "peak_torque": "peak torque",
+    "speed": "motor top speed",
+    "envelope": "torque-speed line",
+    "temperature": "winding temperature",
+}
+
+
+def limiting_quantity_text(key) -> str:
+    """The rating a duty cycle uses most, in words ("rms_torque" -> "continuous torque (RMS)");
+    an unknown key with its underscores as spaces, none as "—"."""
+    if key is None or key == "":
+        return "—"
+    return LIMITING_QUANTITY.get(str(key), str(key).replace("_", " "))
+
+
 def vector_text(v, unit: str, *, minus: str = "−") -> str:
     """A 3-vector with its unit, e.g. "(0.12, 0, 0) m"."""
     return "(" + ", ".join(format_number(x, 4, minus=minus) for x in v) + f") {unit_text(unit)}"
