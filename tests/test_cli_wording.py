@@ -463,7 +463,8 @@ def test_limiting_quantity_reads_the_same_everywhere():
     from jointwright.report.wording import limiting_quantity_text
 
     assert limiting_quantity_text("rms_torque") == "continuous torque (RMS)"
-    assert limiting_quantity_text("new_check") == "new check" and limiting_quantity_text(None) == "—"
+    assert limiting_quantity_text("new_check") == "new check"
+    assert limiting_quantity_text(None) == "—"
     a = {
         "checks": [],
         "joints": [],
