@@ -113,3 +113,19 @@ def test_sensitivity_bars_keep_no_change_mid_panel(tmp_path):
         figures.save(fig, tmp_path, "sensitivity")
     low, high = fig.axes[0].get_xlim()
     assert low == pytest.approx(-high) and high >= 3.0
+
+
+def test_study_lines_with_the_same_results_stay_visible(tmp_path):
+    """Two groups with equal results (a budget that does not bind): the one drawn first is wider
+    with larger markers, so the later one shows inside it instead of hiding it."""
+    same = {
+        "budget 3.4 kg": ([0.05, 0.1], [26.9, 26.9]),
+        "budget 3.8 kg": ([0.05, 0.1], [26.9, 26.9]),
+    }
+    fig = figures.study_figure([("imf min", same)], y_label="payload (kg)", title="study")
+    first, second = fig.axes[0].get_lines()[:2]
+    assert first.get_markersize() > second.get_markersize()
+    assert first.get_linewidth() > second.get_linewidth()
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        figures.save(fig, tmp_path, "study-same")

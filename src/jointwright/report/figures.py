@@ -148,25 +148,31 @@ def study_figure(panels, *, y_label: str, title: str) -> Figure:
     ``panels`` = [(x_label, groups)] with ``groups`` = {label: (xs, ys)}: the cases that share
     every other parameter (and variant). Each group is drawn as markers joined in order of x
     (a group of one case is a lone marker), so a line never joins unrelated cases; groups keep
-    their colour and marker across panels of one figure only by label. A panel of more than
-    :data:`STUDY_LEGEND_MAX` lines has no legend.
+    their colour and marker across panels of one figure only by label. In a panel of up to
+    :data:`STUDY_LEGEND_MAX` lines, earlier lines are wider with larger markers, so groups with
+    the same results stay visible one inside the other; a panel of more lines has no legend.
     """
     fig, axes = new_figure(ncols=len(panels), height=3.6)
     markers = ("o", "s", "^", "D", "v", "P", "X", "*")
     for ax, (x_label, groups) in zip(axes, panels, strict=True):
+        n = len(groups)
         for k, (label, (xs, ys)) in enumerate(groups.items()):
             xs, ys = np.asarray(xs, dtype=float), np.asarray(ys, dtype=float)
             order = np.argsort(xs, kind="stable")
             style = joint_style(k)
+            # lines drawn first are wider with larger markers: where groups give the same
+            # results (a budget that does not bind) the later ones sit inside, all visible
+            wider = n - 1 - k if n <= STUDY_LEGEND_MAX else 0
             ax.plot(
                 xs[order],
                 ys[order],
                 marker=markers[k % len(markers)],
-                ms=4.5,
-                lw=1.3,
+                ms=4.5 + 2.0 * wider,
+                lw=1.3 + 0.9 * wider,
                 color=style["color"],
                 ls=style["ls"],
                 label=label,
+                alpha=0.9,
             )
         ax.margins(x=0.08, y=0.12)
         set_labels(ax, x_label, y_label if ax is axes[0] else "")
