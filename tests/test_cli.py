@@ -97,6 +97,19 @@ def test_check_json_matches_the_loaded_project(name, folders):
         assert data["requirements"]["total_mass_max"] == project.requirements.total_mass_max
 
 
+def test_check_shows_the_motion_of_every_case_that_has_one(folders):
+    """payload, stance and torque cases take a motion (docs/project-format.md): shown as read;
+    the quadruped's walk-carry stance case holds ("hold")."""
+    path = folders["quadruped"] / "project.toml"
+    data = json.loads(_run(["check", str(path), "--json"]).stdout)
+    project = load_project(path)
+    for c in data["cases"]:
+        case = project.case(c["name"])
+        want = case.motion if case.kind in ("payload", "stance", "torque") else None
+        assert c["motion"] == want, c["name"]
+    assert {c["name"]: c["motion"] for c in data["cases"]}["walk-carry"] == "hold"
+
+
 def test_check_json_converts_units(folders, tmp_path):
     # quantities with units in the project file arrive in SI: conversions by hand
     folder = tmp_path / "leg"

@@ -1455,16 +1455,19 @@ def test_subprocess_exit_code_and_single_line(verb, examples, tmp_path):
     [
         (["new", "somewhere", "--example", "hexapod"], "Invalid value for '--example'"),
         (["assess", "project.toml"], "Missing option '--design'"),
-        (["chek", "project.toml"], "No such command 'chek'"),
+        (["chek", "project.toml"], "No such command 'chek' (did you mean 'check'?)"),
+        (["size", "project.toml", "--objectiv", "mass"], "No such option '--objectiv'"),
     ],
 )
 def test_usage_errors_exit_2_without_traceback(args, says):
-    # click's usage errors: exit code 2, the usage line and one "Error:" line, no traceback
+    # a command-line mistake is bad input too: exit code 2 and one line naming the option and
+    # the rule, with where the options are listed; no traceback
     result = _run(args)
     assert result.exit_code == 2
-    assert "Traceback" not in result.stderr
-    errors = [ln for ln in result.stderr.splitlines() if ln.startswith("Error:")]
-    assert len(errors) == 1 and says in errors[0]
+    assert "Traceback" not in result.stderr and result.stdout == ""
+    lines = result.stderr.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith("jointwright: error: <command line>: ")
+    assert says in lines[0] and "--help)" in lines[0]
 
 
 # --- property: any one value replaced by a hostile one ends cleanly --------------------------

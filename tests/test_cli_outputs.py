@@ -189,3 +189,30 @@ def test_a_report_that_fails_half_way_leaves_the_old_one(tmp_path, monkeypatch):
         if p.is_file()
     }
     assert after == before
+
+
+@pytest.mark.parametrize("option", ["--sizing", "--frontier"])
+def test_a_bad_result_file_is_named_and_leaves_no_new_folder(tmp_path, monkeypatch, option):
+    """A mistyped field of a --sizing or --frontier file: one line naming that file (not the
+    report's "<sizing>") and the field, exit 2; the --out folder the run made is gone again."""
+    d = _leg(tmp_path)
+    bad = tmp_path / "result.json"
+    bad.write_text(json.dumps({"status": 3, "x": 1}), encoding="utf-8")
+    out = tmp_path / "r"
+    import jointwright.report as report_pkg
+
+    def reader_fails(project, design, out_dir, **kw):  # as the section readers fail
+        (Path(out_dir) / "figures").mkdir()
+        raise InputError(f"<{option[2:]}>", "status", "must be a str, got int")
+
+    monkeypatch.setattr(report_pkg, "build_report", reader_fails)
+    args = ["report", d / "project.toml", "--design", d / "design.toml", "--out", out, option, bad]
+    r = _run(args)
+    assert r.exit_code == 2 and "Traceback" not in r.output
+    assert f"{bad}: status: must be a str" in r.output and "<" not in r.output
+    assert not out.exists()
+    # an existing folder stays, with what it held
+    out.mkdir(parents=True)
+    (out / "notes.txt").write_text("keep", encoding="utf-8")
+    assert _run(args).exit_code == 2
+    assert [p.name for p in out.iterdir()] == ["notes.txt"]

@@ -106,12 +106,43 @@ def test_unknown_gap_generic(leg_project):
     assert text.startswith("gap not known") and "not proven optimal" in text
 
 
+def test_size_json_says_why_the_bound_is_infinite(leg_project):
+    """``size --json``: an infinite bound stays the string "inf" (valid JSON, no bare Infinity)
+    and ``gap_unknown_reason`` says why; null with a finite bound."""
+    import json
+
+    objective = {"maximize": "margin", "cases": ["touchdown"]}
+    project = dataclasses.replace(leg_project, objective=objective)
+    result = _stopped_result("margin")
+    result.to_dict = lambda: {"bound": "inf", "gap": "inf"}
+    d = json.loads(json.dumps(size_cmd.result_json(result, project), allow_nan=False))
+    assert d["bound"] == "inf" and d["gap_unknown_reason"].startswith("gap not known")
+    assert "touchdown (impact)" in d["gap_unknown_reason"]
+    result.objective = math.nan  # stopped before any design: no "best design found"
+    reason = size_cmd.result_json(result, project)["gap_unknown_reason"]
+    assert "before it found a design" in reason and "best design found" not in reason
+    result.objective, result.bound, result.gap = 1.32, 1.5, 0.136
+    assert size_cmd.result_json(result, project)["gap_unknown_reason"] is None
+
+
+def test_report_reads_the_reason_from_the_sizing_json():
+    from jointwright.report import sizing_result
+
+    sizing = {"status": "time_limit", "objective_kind": "payload", "objective": 1.32}
+    sizing |= {"bound": "inf", "gap": "inf", "gap_unknown_reason": "gap not known: because"}
+    assert "gap not known: because" in sizing_result.runner_ups_section(sizing).body
+    from jointwright.errors import InputError
+
+    with pytest.raises(InputError, match="gap_unknown_reason"):
+        sizing_result.runner_ups_section(sizing | {"gap_unknown_reason": 3})
+
+
 def test_finite_gap_still_shown(leg_project, capsys):
     result = _stopped_result("payload")
     result.bound, result.gap = 1.5, (1.5 - 1.32) / 1.32
     size_cmd.print_result(result, leg_project)
     out = capsys.readouterr().out
-    assert "bound 1.5 kg; gap +13.6 %" in out and "gap not known" not in out
+    assert "bound 1.5 kg; gap 13.6 %" in out and "gap not known" not in out
 
 
 def test_runner_ups_signed_in_the_terminal(leg_project, capsys):
@@ -261,3 +292,190 @@ def _plain(project):
         dataclasses.replace(c, offset=(0.0,) * 3, moment=(0.0,) * 3) for c in project.cases
     )
     return dataclasses.replace(project, cases=cases)
+
+
+@pytest.mark.parametrize(
+    ("margin", "limit", "sense", "text"),
+    [
+        (0.018, 1.0, "max", "+1.8 %"),
+        (-0.25, 200.0, "min", "−25.0 %"),
+        (0.999, 150.0, "min", "+99.9 %"),
+        (1.497, 150.0, "min", "2.5× limit"),  # 374.5 N against 150 N
+        (2.238, 10_000.0, "min", "3.24× limit"),  # a gear life of 32,380 h against 10,000 h
+        (168.977, 10_000.0, "min", "> 100× limit"),  # 1.7e6 h against 10,000 h
+        (99.0, 10_000.0, "min", "> 100× limit"),
+        (5.0, 0.0, "min", "+500.0 %"),  # no multiple of a zero limit
+        (5.0, -2.0, "min", "+500.0 %"),  # nor of a negative one
+        (math.inf, 1.0, "min", "+∞ %"),
+        ("inf", 1.0, "min", "+∞ %"),
+        (None, 1.0, "min", "—"),
+        (math.nan, 1.0, "min", "—"),
+    ],
+)
+def test_large_margins_read_as_multiples(margin, limit, sense, text):
+    """Margin = (achieved − limit)/|limit| (docs/report.md); past +100 % a minimum is shown as
+    achieved ÷ limit, from 100 on as "> 100×" [trade]."""
+    from jointwright.report.wording import margin_text
+
+    assert margin_text(margin, limit, sense) == text
+    assert margin_text(margin, limit, sense, minus="-") == text.replace("−", "-")
+
+
+def test_region_poses_fold_into_their_worst_pose():
+    from jointwright.report.wording import check_label, worst_per_region
+
+    def check(subject, requirement, margin):
+        return {"subject": subject, "requirement": requirement, "margin": margin}
+
+    regions = {"reach": {"poses": 3, "case": "reach@1", "margin": 0.05}}
+    checks = [
+        check("reach@0", "payload_min", 0.30),
+        check("lift", "payload_min", 0.20),
+        check("reach@1", "payload_min", 0.05),
+        check("reach@2", "payload_min", "inf"),
+        check("reach@1", "speed_min", 0.50),
+        check("not@aregion", "payload_min", 0.01),  # not a region's pose: stays itself
+    ]
+    out = worst_per_region(checks, regions)
+    assert [(c["subject"], c["requirement"], r, n) for c, r, n in out] == [
+        ("reach@1", "payload_min", "reach", 3),
+        ("lift", "payload_min", "", 1),
+        ("reach@1", "speed_min", "reach", 3),
+        ("not@aregion", "payload_min", "", 1),
+    ]
+    c, region, poses = out[0]
+    assert check_label(c, region, poses) == "reach: payload min (worst of 3 poses: reach@1)"
+    assert check_label(out[1][0]) == "lift: payload min"
+
+
+def test_a_stroke_speed_case_says_which_speed_is_which(leg_project, capsys, monkeypatch):
+    """The leg's swing has a 0.1 m stroke: the speed reached at its end is the requirement's;
+    the loaded steady speed is what the motors could sustain with no stroke limit and must not
+    read as the foot's speed (terminal and report say the same)."""
+    from importlib import resources
+
+    from jointwright.assessment import assess
+    from jointwright.commands import _format
+    from jointwright.commands.assess import print_assessment
+    from jointwright.design import load_design
+    from jointwright.report.case_tables import cases_section
+
+    with resources.as_file(resources.files("jointwright.examples") / "leg" / "design.toml") as p:
+        design = load_design(p, leg_project)
+    a = assess(leg_project, design)
+    swing = next(c for c in a.cases if c.name == "swing")
+    assert swing.metrics["speed_steady"] >= swing.metrics["speed"]  # the stroke ends below it
+    monkeypatch.setenv("COLUMNS", "200")
+    monkeypatch.setattr(_format, "_console", None)
+    print_assessment(a, leg_project)
+    out = capsys.readouterr().out
+    assert "end-point speed at the end of the stroke, with the load" in out
+    assert "speed the motors could sustain with an unlimited stroke" in out
+    assert "steady speed with no stroke limit" not in out
+    if swing.metrics.get("envelope_limit"):
+        assert "envelope at the speed it could sustain with an unlimited stroke" in out
+    body = cases_section(a.to_dict(), leg_project).body
+    assert "speed the motors could sustain with an unlimited stroke" in body
+    assert "time to cover the stroke from rest" in body
+
+
+def test_duty_gear_rows_only_where_the_catalog_gives_a_number(capsys, monkeypatch):
+    """The arm's catalog states no rated gear life (each life is NaN: unknown) but a
+    repeated-peak rating: the terminal shows the gear rows it has numbers for, never a row
+    of dashes."""
+    from importlib import resources
+
+    from jointwright.assessment import assess
+    from jointwright.commands import _format
+    from jointwright.commands.assess import print_assessment
+    from jointwright.design import load_design
+    from jointwright.project import load_project
+
+    arm = resources.files("jointwright.examples") / "arm"
+    with resources.as_file(arm / "project.toml") as p, resources.as_file(arm / "design.toml") as d:
+        project = load_project(p)
+        a = assess(project, load_design(d, project))
+    duty = next(c for c in a.cases if c.kind == "duty")
+    lives = [duty.metrics[f"gear_life:{j.joint}"] for j in a.joints]
+    assert all(math.isnan(v) for v in lives)  # no rated life in the arm's catalog
+    monkeypatch.setenv("COLUMNS", "200")
+    monkeypatch.setattr(_format, "_console", None)
+    print_assessment(a, project)
+    out = capsys.readouterr().out
+    assert "gear life on this cycle alone" not in out
+    assert "gear repeated-peak rating used" in out
+
+
+def test_names_stay_whole_while_the_table_fits(monkeypatch):
+    """A case name is never folded mid-word when the table fits the console; when it cannot,
+    the names fold and every column (the ok / MISSED mark last) is still shown."""
+    from rich.console import Console
+
+    from jointwright.commands import _format
+
+    monkeypatch.setenv("COLUMNS", "100")
+    monkeypatch.setattr(_format, "_console", None)
+    rows = [["unpowered-push", "backdrive force max", "4.859 N", "40 N", "+87.9 %", "ok"]]
+    wide = rows[0][:2] + ["9.145 N", "10.78 N", "80 N", "+88.6 %", "+86.5 %", "[red]MISSED[/red]"]
+
+    def shown(columns, body):
+        con = Console(width=100, record=True, soft_wrap=False)
+        con.print(_format.table("Requirements", columns, body))
+        return con.export_text()
+
+    text = shown(["subject", "requirement", "achieved", "limit", "margin", ""], rows)
+    assert "unpowered-push" in text
+    cols = ["subject", "requirement", "nominal", "worst end", "limit", "margin", "at worst", ""]
+    name = "unpowered-push-at-dock-2"  # 24 characters: with the rest, more than 100 columns
+    many = [[name] + wide[1:5] + ["2.84× limit", "2.84× limit", wide[7]]]
+    text = shown(cols, many)
+    assert "MISSED" in text and all(len(line) <= 100 for line in text.splitlines())
+    assert name not in text  # folded, so that the table fits
+
+
+def test_modes_group_by_mode_and_fold_a_long_last_group():
+    from jointwright.report.wording import modes_text
+
+    leg = {"hip_ab": "holding", "hip_fe": "back-driven", "knee": "motoring"}
+    assert modes_text(leg) == "motoring: knee; back-driven: hip_fe; holding: hip_ab"
+    robot = {"fl_hip_fe": "motoring", "fl_knee": "motoring"}
+    robot |= {f"j{k}": "holding" for k in range(10)}
+    assert modes_text(robot) == "motoring: fl_hip_fe, fl_knee; holding: the other 10 joints"
+    # a single group is listed, never "the other"
+    every = {f"j{k}": "motoring" for k in range(6)}
+    assert modes_text(every) == "motoring: " + ", ".join(every)
+
+
+@pytest.mark.parametrize(
+    ("gap", "text"), [(0.0, "0 %"), (0.136, "13.6 %"), (2e-5, "0.002 %"), (1.0, "100 %")]
+)
+def test_gap_reads_unsigned(gap, text):
+    """A relative gap |bound − objective| / |objective| is never negative: no sign."""
+    from jointwright.report.wording import gap_text
+
+    assert gap_text(gap) == text
+
+
+def test_limiting_quantity_reads_the_same_everywhere():
+    """The duty cycle's binding rating in the terminal, the case table and the summary's risk:
+    "continuous torque (RMS)", never the key "rms torque"."""
+    from jointwright.report import summary
+    from jointwright.report.wording import limiting_quantity_text
+
+    assert limiting_quantity_text("rms_torque") == "continuous torque (RMS)"
+    assert limiting_quantity_text("new_check") == "new check"
+    assert limiting_quantity_text(None) == "—"
+    a = {
+        "checks": [],
+        "joints": [],
+        "cases": [
+            {
+                "name": "trot",
+                "kind": "duty",
+                "limiting_joint": "hip_fe",
+                "metrics": {"rating_use": 0.98, "limiting_quantity": "rms_torque"},
+            }
+        ],
+    }
+    risk = " ".join(summary.risks(a))
+    assert "hip_fe uses 98 % of its motor's continuous torque (RMS)" in risk

@@ -118,3 +118,37 @@ def test_region_poses_read_in_degrees_and_group_under_their_region(capsys, monke
     assert body.count("rowgroup") == 1 and body[head : at[2]].count("<tr") == 3
     job = job.job_section(project).body
     assert "reach-region (3 poses)" in job and "reach-region@1" not in job
+
+
+def test_tightest_margins_and_risks_name_a_region_once_by_its_worst_pose():
+    """The summary's tightest margins and risks, the binding constraints and the terminal's
+    binding line count a region once, by its worst pose (named), as the case tables group it."""
+    import re
+
+    from jointwright.commands.size import binding_labels
+    from jointwright.report import outcome, summary
+
+    project = region_project()
+    design = load_design(ARM / "design.toml", project)
+    a = assess(project, design)
+    d = json.loads(json.dumps(a.to_dict()))
+    worst = d["regions"]["reach-region"]["case"]
+    poses = [c for c in d["checks"] if c["subject"].startswith("reach-region@")]
+    assert len(poses) == 3  # one payload_min per pose
+    low = min(poses, key=lambda c: float(c["margin"]))
+    assert low["subject"] == worst
+    # every check margin made the tightest: each list shows the region once
+    for c in d["checks"]:
+        c["margin"] = 0.01 if c["subject"].startswith("reach-region@") else 0.5
+        c["ok"] = True
+    next(c for c in d["checks"] if c["subject"] == worst)["margin"] = 0.001
+    table = summary.margins_table(d)
+    assert table.count('data-summary-check="reach-region@') == 1  # one row, its worst pose
+    assert f"reach-region: payload min (worst of 3 poses: {worst})" in table
+    risk = " ".join(summary.risks(d))
+    assert len(re.findall(r"reach-region@\d", risk)) == 1 and worst in risk
+    binding = outcome.binding_section(d).body
+    assert len(re.findall(r"reach-region@\d", binding)) == 1 and worst in binding
+    labels = binding_labels(a)
+    assert sum("reach-region" in x for x in labels) <= 1
+    assert not any(re.search(r"^reach-region@\d", x) for x in labels)

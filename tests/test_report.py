@@ -143,9 +143,17 @@ def test_requirement_values_equal_the_assessment(built):
         assert _close(_value(achieved), _scaled(c["achieved"], scale)), key
         assert _close(_value(_cell(cells, check=key, field="limit")), _scaled(c["limit"], scale))
         assert scale == 1.0 or achieved.endswith(" %"), key
-        margin = _value(_cell(cells, check=key, field="margin"))
-        # margins are shown in % to one decimal: within 0.05 percentage points [trade]
-        assert abs(margin - 100 * c["margin"]) <= 0.05 + 1e-9, key
+        shown = _cell(cells, check=key, field="margin")
+        m = float({"inf": math.inf, "-inf": -math.inf}.get(c["margin"], c["margin"]))
+        if shown.startswith("> 100×"):  # a minimum met 100 times over (wording.margin_text)
+            assert c["sense"] == "min" and 1.0 + m >= 100.0, key
+        elif shown.endswith("× limit"):  # past +100 %: achieved ÷ limit, 3 digits
+            times = float(shown.split("×")[0])
+            assert c["sense"] == "min" and m > 1.0, key
+            assert math.isclose(times, 1.0 + m, rel_tol=5e-3), key
+        else:
+            # margins are shown in % to one decimal: within 0.05 percentage points [trade]
+            assert abs(_value(shown) - 100 * m) <= 0.05 + 1e-9, key
 
 
 def test_joint_table_and_total_mass_equal_the_assessment(built):

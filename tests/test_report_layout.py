@@ -91,3 +91,41 @@ def test_full_report_draws_without_warnings(tmp_path):
             study=browser._study(tmp_path),
         )
     assert path.is_file()
+
+
+def test_sensitivity_bars_keep_no_change_mid_panel(tmp_path):
+    """Changes of one sign only (every move lowers the payload) still put the zero line in the
+    middle of the panel, so a bar is never read as running off the axis."""
+    from types import SimpleNamespace
+
+    import numpy as np
+
+    from jointwright.report import sweep_figures
+
+    values = np.full((2, 2, 2), 100.0)
+    values[0, 1, 1], values[1, 0, 0] = 97.0, 97.4  # −3 % and −2.6 %: all on one side
+    sens = SimpleNamespace(
+        joints=("hip", "knee"), step=0.05, base={"payload": 100.0}, values={"payload": values}
+    )
+    fig = sweep_figures.sensitivity_figure(sens, [("payload", "Smallest payload")])
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        figures.save(fig, tmp_path, "sensitivity")
+    low, high = fig.axes[0].get_xlim()
+    assert low == pytest.approx(-high) and high >= 3.0
+
+
+def test_study_lines_with_the_same_results_stay_visible(tmp_path):
+    """Two groups with equal results (a budget that does not bind): the one drawn first is wider
+    with larger markers, so the later one shows inside it instead of hiding it."""
+    same = {
+        "budget 3.4 kg": ([0.05, 0.1], [26.9, 26.9]),
+        "budget 3.8 kg": ([0.05, 0.1], [26.9, 26.9]),
+    }
+    fig = figures.study_figure([("imf min", same)], y_label="payload (kg)", title="study")
+    first, second = fig.axes[0].get_lines()[:2]
+    assert first.get_markersize() > second.get_markersize()
+    assert first.get_linewidth() > second.get_linewidth()
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        figures.save(fig, tmp_path, "study-same")

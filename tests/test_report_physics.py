@@ -180,6 +180,22 @@ def test_sensitivity_flags_a_joint_that_becomes_self_locking(example):
     assert not sens.locking_changed[0, 1, 1] and not sens.locking_changed[1:].any()
 
 
+def test_sensitivity_note_says_where_a_move_stops(example):
+    """η_f 0.969 + 5 points would pass 1: the move stops at η_f = 1 and the note says so
+    (sweeps.efficiency_sensitivity keeps η_f in [0.01, 1], η_b ≤ 1)."""
+    from jointwright.report.plots import _sensitivity_table
+
+    sens = efficiency_sensitivity(example["project"], example["ev"], example["arrays"])
+    ef, eb = example["arrays"].eta_forward[0], example["arrays"].eta_backward[0]
+    text = _sensitivity_table(sens, ["payload"], {"payload": "Smallest payload"}, {"payload": "N"})
+    for j in range(len(sens.joints)):
+        assert sens.clipped[j, 0, 1] == (ef[j] + sens.step > 1.0)
+        assert sens.clipped[j, 1, 1] == (eb[j] + sens.step > 1.0)
+    if sens.clipped[:, 0, 1].any():
+        assert "+5: stops at η_f = 1" in text
+    assert "limited by a bound" not in text
+
+
 def test_plane_keeps_the_case_directions():
     J = np.array([[0.3, 0.0], [0.0, 0.0], [0.0, 0.2]])
     assert plane_for([np.array([0, 0, -1.0]), np.array([0, -1.0, 0])], J) == (1, 2)
@@ -206,6 +222,25 @@ def test_frontier_hook_draws_points_and_rejects_bad_points(tmp_path):
         frontier_map.frontier_section(bad, tmp_path)
     with pytest.raises(InputError, match="chosen"):
         frontier_map.frontier_section({**FRONTIER, "chosen": 7}, tmp_path)
+
+
+def test_a_dominated_chosen_design_is_said_to_lie_inside_the_frontier(tmp_path):
+    """Pareto dominance (at least as good on both axes, strictly on one) [trade]: a ring off
+    the frontier names the point that beats it; on the frontier, nothing is added."""
+    from jointwright.report.frontier_map import dominating_point
+
+    xy = [(0.14, 26.9), (0.149, 24.4), (0.15, 22.1)]
+    assert dominating_point(xy, (0.104, 26.9), "pre") == 0  # IMF: larger is better
+    assert dominating_point(xy, (0.145, 23.0), "pre") == 1  # the larger payload of two
+    assert dominating_point(xy, xy[1], "pre") is None  # a frontier point: not dominated
+    assert dominating_point(xy, (0.104, 26.9), "post") is None  # smaller x better: 0.104 wins
+    assert dominating_point(xy, (0.2, 20.0), "post") == 0
+    assert dominating_point(xy, (0.104, 26.9), None) is None  # direction not known
+    assert dominating_point(xy, None, "pre") is None
+    data = {**FRONTIER, "chosen": {"x": 0.05, "y": 250.0}, "steps": "pre"}
+    body = frontier_map.frontier_section(data, tmp_path).body
+    assert "inside the frontier: point 1 carries" in body
+    assert "inside the frontier" not in frontier_map.frontier_section(FRONTIER, tmp_path).body
 
 
 def _alternative(actuator, objective, loss, ruled_out_by, change="other motor"):
@@ -257,7 +292,7 @@ def test_runner_ups_hook_reads_the_sizing_result_form():
         and "misses touchdown: imf min" in s.body
         and "250 kg" in s.body
     )
-    assert "+0.0 %" in s.body and "230 kg" in s.body
+    assert "relative gap 0 %" in s.body and "230 kg" in s.body  # proven: no sign, no decimals
     bad = {**SIZING, "alternatives": [_alternative("m", "high", None, None)]}
     with pytest.raises(InputError, match=r"alternatives\[0\]\.objective"):
         sizing_result.runner_ups_section(bad)

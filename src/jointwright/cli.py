@@ -11,7 +11,7 @@ import sys
 
 import click
 
-from .errors import InputError
+from .errors import InputError, did_you_mean
 
 VERBS = {
     "new": "write a bundled example project into a folder",
@@ -33,11 +33,25 @@ class _Verbs(click.Group):
             return None
         return importlib.import_module(f"jointwright.commands.{name}").command
 
+    def resolve_command(self, ctx, args):
+        name = args[0] if args else None
+        if name is not None and name not in VERBS and not name.startswith("-"):
+            raise click.UsageError(f"No such command '{name}'{did_you_mean(name, VERBS)}.", ctx)
+        return super().resolve_command(ctx, args)
+
     def invoke(self, ctx):
         try:
             return super().invoke(ctx)
         except InputError as exc:
             click.echo(f"jointwright: error: {exc}", err=True)
+            ctx.exit(2)
+        except click.UsageError as exc:
+            # a mistyped option, choice or verb: one line too, with where to read the options
+            where = exc.ctx.command_path if exc.ctx is not None else "jointwright"
+            message = " ".join(exc.format_message().split())
+            click.echo(
+                f"jointwright: error: <command line>: {message} (see {where} --help)", err=True
+            )
             ctx.exit(2)
         except KeyboardInterrupt:
             click.echo("jointwright: interrupted", err=True)

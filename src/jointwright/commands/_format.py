@@ -87,21 +87,38 @@ def pct(margin: float) -> str:
 
 #: cells up to this long (numbers with units, short names) are never broken across lines
 UNBROKEN = 12
+#: one-word cells up to this long (case and joint names: "unpowered-push", "reach@12") are
+#: never folded mid-word either
+NAME_MAX = 24
 
 
 def table(
     title: str, columns: list[str], rows: list[list[str]], *, caption: str | None = None
 ) -> Table:
     """A rich table that fits the console: short cells (numbers with units) stay whole, long
-    text (design strings, notes) wraps inside its own cell at spaces, folding only long words."""
-    t = Table(title=title, title_justify="left", caption=caption, caption_justify="left")
+    text (design strings, notes) wraps inside its own cell at spaces, folding only long words;
+    a column of one-word names (case, joint) stays whole too while the table still fits."""
+    from rich.text import Text
+
+    plain = [[Text.from_markup(str(x)).plain for x in r] for r in rows]
+    spec = []  # per column: (short, a name column, width it needs when whole, when wrapped)
     for k, c in enumerate(columns):
-        cells = [str(r[k]) for r in rows if k < len(r)]
+        cells = [r[k] for r in plain if k < len(r)]
+        head = min(UNBROKEN, max([len(w) for w in c.split()] + [1]))
         short = all(len(x) <= UNBROKEN for x in cells)
+        name = not short and all(len(x.strip()) <= NAME_MAX and " " not in x.strip() for x in cells)
+        whole = max([len(x) for x in cells] + [len(c) if short or name else head])
+        words = max([len(w) for x in cells for w in x.split()] + [head])
+        spec.append((short, name, whole, min(words, UNBROKEN) if not short else whole))
+    # names stay whole only when every column that does not wrap still fits the console
+    needed = sum((w if s or n else least) + 3 for s, n, w, least in spec) + 1
+    keep_names = needed <= console().width
+    t = Table(title=title, title_justify="left", caption=caption, caption_justify="left")
+    for c, (short, name, _whole, _least) in zip(columns, spec, strict=True):
         t.add_column(
             c,
             overflow="fold",
-            no_wrap=short,
+            no_wrap=short or (name and keep_names),
             min_width=min(UNBROKEN, max([len(w) for w in c.split()] + [1])),
         )
     for r in rows:

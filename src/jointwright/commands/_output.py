@@ -166,16 +166,19 @@ def atomic_folder(target: Path, option: str = "--out") -> Iterator[Path]:
     When the block ends without error every file built there is moved to the same relative
     place under ``target``, each by an atomic rename, sub-folders first and top-level files
     last (so a report's HTML appears only once its figures are in place). On error nothing in
-    ``target`` is changed. The temporary folder is removed either way.
+    ``target`` is changed, and a ``target`` this call created is removed again (it is empty).
+    The temporary folder is removed either way.
     """
     target = Path(target)
     if target.exists() and not target.is_dir():
         raise InputError(str(target), option, "must be a folder, not a file")
+    created = not target.exists()  # a folder this call makes goes again if nothing lands in it
     try:
         target.mkdir(parents=True, exist_ok=True)
         tmp = Path(tempfile.mkdtemp(prefix=".partial-", dir=target))
     except OSError as exc:
         raise InputError(str(target), option, f"cannot write here: {exc.strerror or exc}") from None
+    done = False
     try:
         yield tmp
         files = sorted(
@@ -186,9 +189,13 @@ def atomic_folder(target: Path, option: str = "--out") -> Iterator[Path]:
             dest = target / f.relative_to(tmp)
             dest.parent.mkdir(parents=True, exist_ok=True)
             os.replace(f, dest)
+        done = True
     except OSError as exc:
         raise InputError(
             str(target), option, f"cannot be written ({exc.strerror or exc})"
         ) from None
     finally:
         shutil.rmtree(tmp, ignore_errors=True)
+        if created and not done:
+            with contextlib.suppress(OSError):  # only when empty: never data
+                target.rmdir()

@@ -79,7 +79,7 @@ def project_summary(p, evaluator=None) -> dict:
                 "kind": c.kind,
                 "frame": c.frame,
                 "direction": c.direction,
-                "motion": c.motion if c.kind == "payload" else None,
+                "motion": c.motion if c.kind in ("payload", "stance", "torque") else None,
                 "limits": c.limits,
                 "payload_growth": (
                     {"fixed_load": c.fixed_load, "payload_share": c.payload_share}

@@ -96,8 +96,16 @@ def command(
             raise InputError(str(study_store), "--study", "no such study store (SQLite file)")
         study = study_data(study_store)
     sizing, frontier = _json(sizing_file, "--sizing"), _json(frontier_file, "--frontier")
-    with atomic_folder(out, "--out") as tmp:
-        built = build_report(p, d, tmp, sizing=sizing, frontier=frontier, study=study)
+    # the report's readers name a plain dict "<sizing>" / "<frontier>": name the file given
+    given_files = {"<sizing>": sizing_file, "<frontier>": frontier_file}
+    try:
+        with atomic_folder(out, "--out") as tmp:
+            built = build_report(p, d, tmp, sizing=sizing, frontier=frontier, study=study)
+    except InputError as exc:
+        source = given_files.get(exc.file)
+        if source is None:
+            raise
+        raise InputError(str(source), exc.field, exc.rule) from None
     path = out / built.relative_to(tmp)
     # the figures this report links (a reused folder may hold older ones)
     names = sorted(set(re.findall(r"figures/([^/\s)]+)\.png", path.read_text(encoding="utf-8"))))

@@ -16,7 +16,15 @@ import click
 from ..design import design_to_toml
 from ..errors import InputError
 from ..project import load_project
-from ..report.wording import objective_change, unknown_gap, wrench_text
+from ..report.wording import (
+    check_label,
+    gap_text,
+    margin_text,
+    objective_change,
+    unknown_gap,
+    worst_per_region,
+    wrench_text,
+)
 from ._format import console, emit_json, num, pct, requirement_num, table
 from ._output import check_target, project_inputs, write_text
 
@@ -91,6 +99,40 @@ def payload_rows(project, assessment) -> list[list[str]]:
     return rows
 
 
+def result_json(r, project) -> dict:
+    """The sizing result as JSON (SizingResult.to_dict) with ``gap_unknown_reason``: why no
+    finite bound exists when ``bound`` or ``gap`` is "inf" (a search stopped early), else null
+    (docs/report.md, Runner-ups)."""
+    d = r.to_dict()
+    d["gap_unknown_reason"] = gap_reason(r, project)
+    return d
+
+
+def gap_reason(r, project) -> str | None:
+    """Why the result has no finite bound and gap, in words; None when both are finite."""
+    if math.isfinite(r.bound) and math.isfinite(r.gap):
+        return None
+    if r.objective is None or not math.isfinite(r.objective):  # no design found
+        return (
+            "gap not known: the search stopped before it found a design or a bound on the "
+            "objective (a longer --time-limit, or none, lets it finish)"
+        )
+    return unknown_gap(project, r.objective_kind)
+
+
+def binding_labels(assessment, count: int = 3) -> list[str]:
+    """The requirements with the smallest finite margins, a region of poses once by its worst
+    pose (named): "trot: rating use max (margin +1.8 %)"."""
+    checks = [c for c in assessment.checks if math.isfinite(c.margin)]
+    items = worst_per_region(checks, assessment.regions or {})
+    items.sort(key=lambda item: item[0].margin)
+    return [
+        f"{check_label(c, region, poses)} "
+        f"(margin {margin_text(c.margin, c.limit, c.sense, minus='-')})"
+        for c, region, poses in items[:count]
+    ]
+
+
 def print_result(r, project=None) -> None:
     from .assess import print_assessment
 
@@ -98,18 +140,21 @@ def print_result(r, project=None) -> None:
     unit = UNITS[r.objective_kind]
     con.print(f"[bold]size[/bold] ({r.backend}, objective {r.objective_kind}): {r.message}")
     # an infinite bound (no bound known when the search stopped) leaves the gap unknown: say why
-    known = math.isfinite(r.bound) and math.isfinite(r.gap)
-    bound = f"bound {num(r.bound, unit)}; gap {pct(r.gap)}" if known else "bound —; gap —"
+    reason = gap_reason(r, project)
+    bound = (
+        f"bound {num(r.bound, unit)}; gap {gap_text(r.gap)}" if reason is None else "bound —; gap —"
+    )
     con.print(
         f"status {r.status}; objective {num(r.objective, unit)}; {bound}; "
         f"{r.seconds:.2f} s; {r.native_status}"
     )
-    if r.objective is not None and not known:
-        con.print(unknown_gap(project, r.objective_kind))
-    con.print(
-        "options per joint after its own filters: "
-        + ", ".join(f"{j} {k}" for j, k in r.options.items())
-    )
+    if reason is not None:
+        con.print(reason)
+    if r.options:
+        con.print(
+            "options per joint after its own filters: "
+            + ", ".join(f"{j} {k}" for j, k in r.options.items())
+        )
     if r.objective_kind == "payload" and r.assessment is not None and project is not None:
         rows = payload_rows(project, r.assessment)
         con.print(
@@ -128,8 +173,9 @@ def print_result(r, project=None) -> None:
         )
     if r.assessment is not None:
         print_assessment(r.assessment, project)
-    if r.binding:
-        con.print("[bold]binding requirements[/bold] (smallest margins): " + "; ".join(r.binding))
+    binding = binding_labels(r.assessment) if r.assessment is not None else list(r.binding)
+    if binding:
+        con.print("[bold]binding requirements[/bold] (smallest margins): " + "; ".join(binding))
     if r.alternatives:
         rows = [
             [
@@ -235,7 +281,7 @@ def command(project: Path, objective, backend, time_limit, no_explain, out, forc
         write_text(out, design_to_toml(r.design) + "\n")
     unloaded = r.unloaded_joints
     if as_json:
-        emit_json(r.to_dict())
+        emit_json(result_json(r, p))
     else:
         print_result(r, p)
         for j in unloaded:

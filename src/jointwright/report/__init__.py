@@ -1,6 +1,7 @@
 """The report layer: the HTML report of a design (and of a sizing, frontier or study) with figures.
 
-The only part of the package that draws (matplotlib, in :mod:`.figures`). ``build_report`` is
+The only part of the package that draws (matplotlib, in :mod:`.figures`, :mod:`.capability_figures`
+and :mod:`.sweep_figures`). ``build_report`` is
 loaded on first use, so the command line can take the report's wording helpers (:mod:`.markup`)
 without the physics the report builds on.
 """

@@ -13,7 +13,13 @@ from .markup import (
     number,
     table,
 )
-from .wording import torque_rows, wrench_text
+from .wording import (
+    envelope_speed,
+    limiting_quantity_text,
+    modes_text,
+    torque_rows,
+    wrench_text,
+)
 
 #: case metrics shown per kind: (key, label, unit)
 CASE_METRICS = {
@@ -41,7 +47,13 @@ CASE_METRICS = {
         ("impulse", "contact impulse (links only, rotors not yet moving)", "N·s"),
     ),
     "backdrive": (("backdrive_force", "tip force that starts the unpowered robot moving", "N"),),
-    "speed": (("speed", "end-point speed along the direction", "m/s"),),
+    "speed": (
+        ("speed", "end-point speed along the direction", "m/s"),
+        # with a stroke (the rows are absent without one): what the motors could sustain
+        # beyond it, and the time the stroke takes
+        ("speed_steady", "… speed the motors could sustain with an unlimited stroke", "m/s"),
+        ("stroke_time", "… time to cover the stroke from rest", "s"),
+    ),
     "torque": (("torque_ratio", "smallest achieved ÷ required joint torque", ""),),
 }
 
@@ -63,7 +75,7 @@ def _duty_table(c: dict, joints: list[str]) -> str:
                 v = scale * v
             row.append(Cell(fmt(v, unit), "num", (("case", c["name"]), ("metric", f"{key}:{j}"))))
         rows.append(row)
-    quantity = str(m.get("limiting_quantity", "—")).replace("_", " ")
+    quantity = limiting_quantity_text(m.get("limiting_quantity"))
     use = m.get("rating_use")
     use = 100.0 * use if isinstance(use, (int, float)) and not isinstance(use, bool) else use
     cap = (
@@ -85,9 +97,12 @@ def _case_notes(c: dict) -> list[str]:
     if c.get("limiting_joint"):
         notes.append(f"limited by {c['limiting_joint']}")
     if c.get("joint_modes"):
-        notes.append("modes: " + ", ".join(f"{j} {m}" for j, m in c["joint_modes"].items()))
+        notes.append("modes: " + modes_text(c["joint_modes"]))
     if c["metrics"].get("envelope_limit"):
-        notes.append(f"motor at its envelope at steady speed: {c['metrics']['envelope_limit']}")
+        notes.append(
+            f"motor at its envelope {envelope_speed(c['metrics'])}: "
+            f"{c['metrics']['envelope_limit']}"
+        )
     if c["kind"] == "impact" and c["metrics"].get("contact_rank", 3) < 3:
         notes.append(
             "the joints cannot move the contact in every direction, so the determinant "

@@ -5,7 +5,7 @@ from __future__ import annotations
 import re
 from pathlib import Path
 
-from . import figures
+from . import figures, sweep_figures
 from .jsonfields import need, numbers
 from .markup import (
     Cell,
@@ -27,7 +27,7 @@ def duty_section(data: dict, fig_dir: Path, file: str = "<duty>") -> Section:
     torque = need(data, "motor_torque", dict, file, "")
     series = {j: numbers(torque, j, file, "motor_torque.", len(time)) for j in torque}
     limits = {k: need(data["limits"], k, float, file, "limits.") for k in data.get("limits", {})}
-    fig = figures.series_figure(
+    fig = sweep_figures.series_figure(
         time,
         series,
         limits,

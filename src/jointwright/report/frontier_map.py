@@ -39,6 +39,25 @@ def _chosen(data, xy, file):
     return None
 
 
+def dominating_point(xy, chosen, steps) -> int | None:
+    """The frontier point that beats ``chosen`` on both axes (one of them strictly), or None.
+
+    ``steps`` says which x is better: "pre" a larger one (IMF), "post" a smaller one (effective
+    mass, back-drive force, mass, cost); any other value: not known, None. Of several, the one
+    with the largest payload."""
+    if chosen is None or steps not in ("pre", "post"):
+        return None
+    cx, cy = chosen
+    sign = 1.0 if steps == "pre" else -1.0
+    tol = 1e-9 * max(1.0, abs(cx), abs(cy))
+    found = [
+        k
+        for k, (px, py) in enumerate(xy)
+        if sign * (px - cx) >= -tol and py >= cy - tol and (sign * (px - cx) > tol or py > cy + tol)
+    ]
+    return max(found, key=lambda k: xy[k][1]) if found else None
+
+
 def _axis_label(axis: dict, default: str) -> str:
     return f"{axis.get('label', default)} ({axis.get('unit') or 'dimensionless'})"
 
@@ -87,6 +106,14 @@ def frontier_section(data: dict, fig_dir: Path, file: str = "<frontier>") -> Sec
     )
     if knee is not None:
         caption += " The diamond marks the turning point of the trade-off."
+    better = dominating_point(xy, chosen, steps)
+    if better is not None:
+        caption += (
+            f" The ring lies inside the frontier: point {better + 1} carries at least as much "
+            f"payload with a {x.get('label', 'measure')} at least as good; it may be heavier or "
+            "costlier, which this plot does not show (the sizing breaks payload ties by the "
+            "least mass)."
+        )
     region = data.get("unexplored")
     if data.get("complete") is False and isinstance(region, str):
         caption += f" The search stopped at its time limit: every point shown is proven; {region}."

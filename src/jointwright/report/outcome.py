@@ -18,11 +18,19 @@ from .markup import (
     pct,
     table,
 )
-from .wording import region_groups
+from .wording import check_label, margin_text, region_groups, worst_per_region
 
 
-def _check_label(c: dict) -> str:
-    return f"{c['subject']}: {c['requirement'].replace('_', ' ')}"
+def _worst_first(a: dict, checks: list[dict]) -> list[tuple[dict, str]]:
+    """``checks`` with each region's poses folded into its worst pose per requirement (named),
+    smallest margin first: [(check, label)]."""
+    items = worst_per_region(checks, a.get("regions") or {})
+    items.sort(key=lambda item: as_float(item[0]["margin"]))
+    return [(c, check_label(c, region, poses)) for c, region, poses in items]
+
+
+def _margin(c: dict) -> str:
+    return margin_text(c["margin"], c["limit"], c.get("sense"))
 
 
 def _limiting_reason(a: dict, case: dict) -> str:
@@ -118,9 +126,8 @@ def outcome_section(a: dict, project) -> Section:
         words = [f"The design “{name}” meets all {len(checks)} requirements."]
     else:
         items = "; ".join(
-            f"{_check_label(c)} {check_value(c, 'achieved')} against "
-            f"{check_value(c, 'limit')} ({pct(c['margin'])})"
-            for c in missed
+            f"{label} {check_value(c, 'achieved')} against {check_value(c, 'limit')} ({_margin(c)})"
+            for c, label in _worst_first(a, missed)
         )
         words = [
             f"The design “{name}” misses {len(missed)} of {len(checks)} requirements: {items}."
@@ -191,7 +198,7 @@ def requirements_section(a: dict, project=None) -> Section:
                 c["requirement"].replace("_", " "),
                 Cell(check_value(c, "achieved"), "num", key + (("field", "achieved"),)),
                 Cell(check_value(c, "limit"), "num", key + (("field", "limit"),)),
-                Cell(pct(c["margin"]), "num", key + (("field", "margin"),)),
+                Cell(_margin(c), "num", key + (("field", "margin"),)),
                 Cell("met" if c["ok"] else "MISSED", "ok" if c["ok"] else "bad"),
             ]
         )
@@ -199,16 +206,17 @@ def requirements_section(a: dict, project=None) -> Section:
     caption = (
         "Margin = (achieved − limit)/|limit| for a minimum, "
         "(limit − achieved)/|limit| for a maximum; a requirement is met when its "
-        "margin is ≥ 0. IMF values are dimensionless."
+        "margin is ≥ 0; past +100 %, a minimum's margin is shown as achieved ÷ limit "
+        '("2.5× limit"). IMF values are dimensionless.'
     )
     if any(c.get("margin_worst") is not None for c in a["checks"]):
         # efficiency bands (docs/metrics.md): each margin at nominal and at the worst end
         for r, c in zip(rows, a["checks"], strict=True):
             r[5:5] = [
                 Cell(check_value(c, "achieved_nominal"), "num"),
-                Cell(pct(c["margin_nominal"]), "num"),
+                Cell(margin_text(c["margin_nominal"], c["limit"], c.get("sense")), "num"),
                 Cell(check_value(c, "achieved_worst"), "num"),
-                Cell(pct(c["margin_worst"]), "num"),
+                Cell(margin_text(c["margin_worst"], c["limit"], c.get("sense")), "num"),
             ]
         head[5:5] = ["nominal η", "margin", "worst end of the band", "margin"]
         judged = (
@@ -227,18 +235,19 @@ def requirements_section(a: dict, project=None) -> Section:
 
 
 def binding_section(a: dict, count: int = 3) -> Section:
-    """The requirements with the smallest margins and the joint that sets each."""
-    order = sorted(a["checks"], key=lambda c: as_float(c["margin"]))[:count]
+    """The requirements with the smallest margins and the joint that sets each; a region of
+    poses counts once, by its worst pose (named)."""
+    order = _worst_first(a, a["checks"])[:count]
     cases = {c["name"]: c for c in a["cases"]}
     joints = [j["joint"] for j in a["joints"]]
     rows = []
-    for c in order:
+    for c, label in order:
         case = cases.get(c["subject"])
         if case and case.get("limiting_joint"):
             by = case["limiting_joint"]
         else:
             by = c["subject"] if c["subject"] in joints else "—"
-        rows.append([_check_label(c), Cell(pct(c["margin"]), "num"), by])
+        rows.append([label, Cell(_margin(c), "num"), by])
     body = paragraph(
         "These requirements are closest to their limits (or furthest past them): "
         "any change of the design or the assumptions moves them first."

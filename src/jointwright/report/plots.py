@@ -1,8 +1,9 @@
 """Figure sections of a design report: polytopes, ellipses, ratio trade and efficiency sensitivity.
 
 Each function computes its numbers (:mod:`.geometry`, :mod:`.sweeps`), draws them
-(:mod:`.figures`), writes the PNG and SVG files into the figures folder and returns a
-:class:`~.markup.Section` with the figure embedded and a reading guide.
+(:mod:`.capability_figures`, :mod:`.sweep_figures`), writes the PNG and SVG files into the
+figures folder and returns a :class:`~.markup.Section` with the figure embedded and a reading
+guide.
 """
 
 from __future__ import annotations
@@ -11,7 +12,7 @@ from pathlib import Path
 
 import numpy as np
 
-from . import figures
+from . import capability_figures, figures, sweep_figures
 from .geometry import ellipse_sections, plane_label, polytope_sections
 from .markup import Cell, Section, figure, fmt, number, paragraph, pct, table
 from .sweeps import efficiency_sensitivity, impact_metric, ratio_sweep
@@ -102,7 +103,7 @@ def polytope_section(evaluator, arrays, a: dict, fig_dir: Path) -> Section:
         parts.append(paragraph(NO_POLYTOPE))
     for k, s in enumerate(drawn):
         name = f"polytope-{k + 1}"
-        png = figures.save(figures.polytope_figure(s), fig_dir, name)
+        png = figures.save(capability_figures.polytope_figure(s), fig_dir, name)
         parts.append(figure(png, name, s.title, _polytope_caption(s)))
     return Section("polytopes", "Force capability polytopes", "".join(parts))
 
@@ -123,7 +124,7 @@ def ellipse_section(evaluator, arrays, fig_dir: Path) -> Section:
     locked = [j for j, x in zip(evaluator.robot.actuated, arrays.self_locking[0], strict=True) if x]
     for k, s in enumerate(ellipse_sections(evaluator, arrays)):
         name = f"inertia-{k + 1}"
-        png = figures.save(figures.ellipse_figure(s), fig_dir, name)
+        png = figures.save(capability_figures.ellipse_figure(s), fig_dir, name)
         masses = "; ".join(f"{MODE_WORDS[m]} {fmt(v, 'kg')}" for m, v in s.mass_along.items())
         cap = (
             f"Inertia ellipse sections in the {plane_label(s.plane)} plane through the contact "
@@ -149,7 +150,7 @@ def ratio_section(project, evaluator, arrays, fig_dir: Path) -> Section:
     if not panels:
         body = paragraph("The project has no payload or impact case.")
         return Section("ratio", "Gear ratio trade", body)
-    png = figures.save(figures.ratio_figure(sweep, panels), fig_dir, "ratio-trade")
+    png = figures.save(sweep_figures.ratio_figure(sweep, panels), fig_dir, "ratio-trade")
     body = paragraph(RATIO_GUIDE) + figure(
         png, "ratio-trade", "metrics against gear ratio per joint", RATIO_CAPTION
     )
@@ -165,8 +166,10 @@ def _sensitivity_table(sens, columns, titles, units) -> str:
             for k in columns:
                 low, high = sens.values[k][j, f]
                 row.append(Cell(f"{number(low)} / {fmt(high, units[k])}", "num"))
+            # a move past the efficiency's range stops at its end (sweeps.efficiency_sensitivity)
+            ends = ("0.01", "1") if f == 0 else ("−∞", "1")
             flags = [
-                f"{sign}{pts} limited by a bound"
+                f"{sign}{pts}: stops at {fname} = {ends[s]}"
                 for s, sign in enumerate("−+")
                 if sens.clipped[j, f, s]
             ]
@@ -200,7 +203,7 @@ def sensitivity_section(project, evaluator, arrays, fig_dir: Path, sens=None) ->
     pts = round(100 * sens.step)
     parts = [paragraph(SENSITIVITY_GUIDE.format(pts=pts))]
     if keys:
-        fig = figures.sensitivity_figure(sens, [(k, titles[k]) for k in keys])
+        fig = sweep_figures.sensitivity_figure(sens, [(k, titles[k]) for k in keys])
         png = figures.save(fig, fig_dir, "efficiency-sensitivity")
         parts.append(
             figure(
@@ -328,7 +331,7 @@ def region_section(project, a: dict, fig_dir: Path) -> Section | None:
         if worst.frame is None or not np.all(np.isfinite(margins)):
             continue
         chain, tip = _robot_chain(project.robot, worst)
-        fig = figures.region_figure(
+        fig = sweep_figures.region_figure(
             margins,
             int(info["index"]),
             chain,

@@ -14,7 +14,7 @@ from .markup import (
     pct,
     table,
 )
-from .wording import objective_change, unknown_gap
+from .wording import gap_text, objective_change, unknown_gap
 
 #: unit of the sizing objective per kind (payload mass kg, total mass kg, cost in the catalog's
 #: currency, IMF and normalized margin dimensionless)
@@ -28,7 +28,8 @@ def runner_ups_section(
 
     ``data`` is the JSON form of a sizing result (``SizingResult.to_dict()``): ``status``,
     ``objective_kind``, ``objective``, ``bound``, ``gap``, ``backend``, ``seconds``, ``message``,
-    ``alternatives`` = [{joint, actuator, change, objective, loss, ruled_out_by}] and, for an
+    ``gap_unknown_reason`` (why the bound is "inf", or null), ``alternatives`` = [{joint,
+    actuator, change, objective, loss, ruled_out_by}] and, for an
     infeasible problem, ``diagnosis`` = [{requirement, limit, best_achievable, shortfall,
     relaxed_objective}]. Only ``status`` and ``objective_kind`` are required. ``units`` maps a
     requirement label ("case: payload min") to its unit for the diagnosis table ("%" for a
@@ -46,12 +47,15 @@ def runner_ups_section(
     gap = None if data.get("gap") is None else need(data, "gap", float, file, "")
     if bound is not None and gap is not None and not (math.isfinite(bound) and math.isfinite(gap)):
         # no finite bound when the search stopped: the gap is not known (never shown as ∞)
-        head.append(gap_note or unknown_gap(None, kind))
+        reason = data.get("gap_unknown_reason")
+        if reason is not None:  # the sizing command's words why (a string, or null)
+            reason = need(data, "gap_unknown_reason", str, file, "")
+        head.append(gap_note or reason or unknown_gap(None, kind))
     else:
         if bound is not None:
             head.append(f"proven bound {fmt(bound, unit)}")
         if gap is not None:
-            head.append(f"relative gap {pct(gap)}")
+            head.append(f"relative gap {gap_text(gap)}")
     if data.get("backend"):
         head.append(f"back-end {data['backend']}")
     parts = [paragraph("; ".join(head) + "."), paragraph(str(data.get("message", "")))]

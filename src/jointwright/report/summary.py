@@ -13,7 +13,9 @@ import math
 from pathlib import Path
 
 from . import figures
-from .markup import Cell, Section, bullets, check_value, figure, fmt, number, paragraph, pct, table
+from .frontier_map import dominating_point
+from .markup import Cell, Section, bullets, check_value, figure, fmt, number, paragraph, table
+from .wording import check_label, limiting_quantity_text, margin_text, worst_per_region
 
 #: a met requirement with a relative margin below this is called thin (10 %) [trade]
 THIN_MARGIN = 0.10
@@ -45,8 +47,16 @@ def cost_text(value) -> str:
     return fmt(value, "", digits=4)
 
 
-def _label(c: dict) -> str:
-    return f"{c['subject']}: {c['requirement'].replace('_', ' ')}"
+def _grouped(a: dict, checks: list[dict]) -> list[tuple]:
+    """``checks`` with each region's poses folded into its worst pose per requirement, sorted
+    by margin, smallest first: [(check, label)]."""
+    items = worst_per_region(checks, a.get("regions") or {})
+    items.sort(key=lambda item: _f(item[0]["margin"]))
+    return [(c, check_label(c, region, poses)) for c, region, poses in items]
+
+
+def _margin(c: dict) -> str:
+    return margin_text(c["margin"], c["limit"], c.get("sense"))
 
 
 #: with more joints than this, joints with the same actuator share one row of the decision table
@@ -130,20 +140,20 @@ def _verdict(a: dict) -> tuple[str, bool]:
 
 
 def margins_table(a: dict, count: int = 3) -> str:
-    """The ``count`` requirements with the smallest margins."""
-    order = sorted(a["checks"], key=lambda c: _f(c["margin"]))[:count]
+    """The ``count`` requirements with the smallest margins; a region of poses counts once,
+    by its worst pose (named)."""
     rows = [
         [
-            _label(c),
+            label,
             Cell(check_value(c, "achieved"), "num"),
             Cell(check_value(c, "limit"), "num"),
             Cell(
-                pct(c["margin"]),
+                _margin(c),
                 "num" + ("" if c["ok"] else " bad"),
                 (("summary-check", f"{c['subject']}:{c['requirement']}"),),
             ),
         ]
-        for c in order
+        for c, label in _grouped(a, a["checks"])[:count]
     ]
     if not rows:
         return paragraph("The project states no requirement.")
@@ -160,10 +170,10 @@ def risks(a: dict, sensitivity: dict | None = None) -> list[str]:
     margins, duty cycles close to the motor's limits, the efficiency assumption."""
     out = []
     missed = [c for c in a["checks"] if not c["ok"]]
-    for c in sorted(missed, key=lambda c: _f(c["margin"])):
+    for c, label in _grouped(a, missed):
         out.append(
-            f"Missed: {_label(c)} is {check_value(c, 'achieved')} against "
-            f"{check_value(c, 'limit')} ({pct(c['margin'])})."
+            f"Missed: {label} is {check_value(c, 'achieved')} against "
+            f"{check_value(c, 'limit')} ({_margin(c)})."
         )
     locking = [j["joint"] for j in a["joints"] if j["self_locking"]]
     if locking:
@@ -174,9 +184,7 @@ def risks(a: dict, sensitivity: dict | None = None) -> list[str]:
         )
     thin = [c for c in a["checks"] if c["ok"] and _f(c["margin"]) < THIN_MARGIN]
     if thin:
-        items = ", ".join(
-            f"{_label(c)} ({pct(c['margin'])})" for c in sorted(thin, key=lambda c: _f(c["margin"]))
-        )
+        items = ", ".join(f"{label} ({_margin(c)})" for c, label in _grouped(a, thin))
         out.append(
             f"Thin margins (below {100 * THIN_MARGIN:.0f} %): {items}; a small change of "
             "load, catalog data or efficiency can miss them."
@@ -184,10 +192,11 @@ def risks(a: dict, sensitivity: dict | None = None) -> list[str]:
     for c in a["cases"]:
         use = c["metrics"].get("rating_use") if c["kind"] == "duty" else None
         if isinstance(use, (int, float)) and HIGH_RATING_USE < use <= 1.0:
-            quantity = str(c["metrics"].get("limiting_quantity", "")).replace("_", " ")
+            key = c["metrics"].get("limiting_quantity")
+            quantity = limiting_quantity_text(key) if key else "rating"
             out.append(
                 f"Duty cycle {c['name']}: {c.get('limiting_joint') or 'a joint'} uses "
-                f"{fmt(100 * use, '%')} of its motor's {quantity or 'rating'}; a hotter "
+                f"{fmt(100 * use, '%')} of its motor's {quantity}; a hotter "
                 "room or a longer cycle can overheat it."
             )
     if sensitivity:
@@ -268,6 +277,9 @@ def frontier_thumbnail(frontier: dict, fig_dir: Path) -> str:
         if chosen is not None
         else "this design is not placed on it (its measures are not both known)"
     )
+    better = dominating_point(xy, chosen, frontier.get("steps"))
+    if better is not None:
+        where += f", inside the frontier (point {better + 1} is at least as good on both axes)"
     return figure(png, "summary-frontier", "frontier thumbnail", f"Non-dominated designs; {where}.")
 
 

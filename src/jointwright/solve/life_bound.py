@@ -21,8 +21,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..metrics.duty import weights
 from ..metrics.gear_life import equivalent_torque, miner_life, rated_life
+from ..metrics.signals import weights
 from ..project import life_shares
 
 #: an option is removed only when its bound misses the limit by more than this (relative)
