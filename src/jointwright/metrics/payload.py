@@ -162,7 +162,7 @@ def payload_along(J, tau_bias, tau_low, tau_high, u) -> PayloadAlong:
     slack_low = low - bias
     violation = np.maximum(-slack_high, slack_low)
     feasible = ~np.any(violation > 0.0, axis=-1)
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):  # a → 0: no limit
         ratio = np.where(a > 0, slack_high / a, np.where(a < 0, slack_low / a, np.inf))
     ratio = np.where(np.isnan(ratio), np.inf, np.maximum(ratio, 0.0))
     joint = np.argmin(ratio, axis=-1)
