@@ -315,14 +315,14 @@ def _plain(project):
 def test_large_margins_read_as_multiples(margin, limit, sense, text):
     """Margin = (achieved − limit)/|limit| (docs/report.md); past +100 % a minimum is shown as
     achieved ÷ limit, from 100 on as "> 100×" [trade]."""
-    from jointwright.report.wording import margin_text
+    from jointwright.margin_words import margin_text
 
     assert margin_text(margin, limit, sense) == text
     assert margin_text(margin, limit, sense, minus="-") == text.replace("−", "-")
 
 
 def test_region_poses_fold_into_their_worst_pose():
-    from jointwright.report.wording import check_label, worst_per_region
+    from jointwright.margin_words import check_label, worst_per_region
 
     def check(subject, requirement, margin):
         return {"subject": subject, "requirement": requirement, "margin": margin}
@@ -479,3 +479,38 @@ def test_limiting_quantity_reads_the_same_everywhere():
     }
     risk = " ".join(summary.risks(a))
     assert "hip_fe uses 98 % of its motor's continuous torque (RMS)" in risk
+
+
+def test_binding_labels_read_large_margins_as_multiples():
+    """The sizing result's binding requirements (terminal, --json, study store) read margins as
+    the report does: a gear life 169 times the required one is "> 100× limit", not "+16800.0 %"."""
+    from jointwright.margin_words import binding_labels
+
+    checks = [
+        {
+            "subject": "hip",
+            "requirement": "gear_life_min",
+            "margin": 168.0,
+            "limit": 10_000.0,
+            "sense": "min",
+        },
+        {
+            "subject": "knee",
+            "requirement": "payload_min",
+            "margin": 0.05,
+            "limit": 2.0,
+            "sense": "min",
+        },
+        {
+            "subject": "ankle",
+            "requirement": "imf_min",
+            "margin": "inf",
+            "limit": 0.2,
+            "sense": "min",
+        },
+    ]
+    labels = binding_labels(checks, {}, count=3)
+    assert labels == [
+        "knee: payload min (margin +5.0 %)",
+        "hip: gear life min (margin > 100× limit)",
+    ]

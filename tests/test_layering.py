@@ -37,6 +37,7 @@ LAYERS = {
     "evaluate": 6,
     "problem": 7,
     "assessment": 7,
+    "margin_words": 5,
     "cautions": 7,
     "options": 8,
     "solve": 8,

@@ -125,8 +125,8 @@ def test_tightest_margins_and_risks_name_a_region_once_by_its_worst_pose():
     binding line count a region once, by its worst pose (named), as the case tables group it."""
     import re
 
-    from jointwright.commands.size import binding_labels
     from jointwright.report import outcome, summary
+    from jointwright.solve.explain import binding as binding_of
 
     project = region_project()
     design = load_design(ARM / "design.toml", project)
@@ -149,6 +149,6 @@ def test_tightest_margins_and_risks_name_a_region_once_by_its_worst_pose():
     assert len(re.findall(r"reach-region@\d", risk)) == 1 and worst in risk
     binding = outcome.binding_section(d).body
     assert len(re.findall(r"reach-region@\d", binding)) == 1 and worst in binding
-    labels = binding_labels(a)
+    labels = binding_of(a)  # the sizing result's binding requirements (terminal, JSON, study)
     assert sum("reach-region" in x for x in labels) <= 1
     assert not any(re.search(r"^reach-region@\d", x) for x in labels)

@@ -9,8 +9,9 @@ import click
 
 from ..assessment import assess
 from ..design import load_design
+from ..margin_words import margin_text
 from ..project import load_project
-from ..report.wording import margin_text, pose_text, region_groups
+from ..report.wording import pose_text, region_groups
 from ._case_view import print_case
 from ._format import console, emit_json, num, pct, table
 from ._progress import status_line

@@ -16,15 +16,7 @@ import click
 from ..design import design_to_toml
 from ..errors import InputError
 from ..project import load_project
-from ..report.wording import (
-    check_label,
-    gap_text,
-    margin_text,
-    objective_change,
-    unknown_gap,
-    worst_per_region,
-    wrench_text,
-)
+from ..report.wording import gap_text, objective_change, unknown_gap, wrench_text
 from ._format import console, emit_json, num, pct, requirement_num, table
 from ._output import check_target, project_inputs, write_text
 
@@ -120,19 +112,6 @@ def gap_reason(r, project) -> str | None:
     return unknown_gap(project, r.objective_kind)
 
 
-def binding_labels(assessment, count: int = 3) -> list[str]:
-    """The requirements with the smallest finite margins, a region of poses once by its worst
-    pose (named): "trot: rating use max (margin +1.8 %)"."""
-    checks = [c for c in assessment.checks if math.isfinite(c.margin)]
-    items = worst_per_region(checks, assessment.regions or {})
-    items.sort(key=lambda item: item[0].margin)
-    return [
-        f"{check_label(c, region, poses)} "
-        f"(margin {margin_text(c.margin, c.limit, c.sense, minus='-')})"
-        for c, region, poses in items[:count]
-    ]
-
-
 def print_result(r, project=None) -> None:
     from .assess import print_assessment
 
@@ -173,7 +152,7 @@ def print_result(r, project=None) -> None:
         )
     if r.assessment is not None:
         print_assessment(r.assessment, project)
-    binding = binding_labels(r.assessment) if r.assessment is not None else list(r.binding)
+    binding = list(r.binding)
     if binding:
         con.print("[bold]binding requirements[/bold] (smallest margins): " + "; ".join(binding))
     if r.alternatives:

@@ -6,6 +6,7 @@ from __future__ import annotations
 import math
 
 from ..cases import STANDARD_GRAVITY as G0
+from ..margin_words import check_label, margin_text, worst_per_region
 from .markup import (
     Cell,
     Group,
@@ -18,7 +19,7 @@ from .markup import (
     pct,
     table,
 )
-from .wording import check_label, margin_text, region_groups, worst_per_region
+from .wording import region_groups
 
 
 def _worst_first(a: dict, checks: list[dict]) -> list[tuple[dict, str]]:

@@ -12,10 +12,11 @@ from __future__ import annotations
 import math
 from pathlib import Path
 
+from ..margin_words import check_label, margin_text, worst_per_region
 from . import figures
 from .frontier_map import dominating_point
 from .markup import Cell, Section, bullets, check_value, figure, fmt, number, paragraph, table
-from .wording import check_label, limiting_quantity_text, margin_text, worst_per_region
+from .wording import limiting_quantity_text
 
 #: a met requirement with a relative margin below this is called thin (10 %) [trade]
 THIN_MARGIN = 0.10

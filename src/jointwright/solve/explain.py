@@ -11,6 +11,7 @@ from typing import Callable
 
 import numpy as np
 
+from ..margin_words import binding_labels
 from ..problem import MINIMIZED, checks, feasible
 from ..project import STANDARD_GRAVITY, JointLimits, Requirements
 from .result import Alternative, Diagnosis, SolveOutcome
@@ -26,12 +27,9 @@ DIAGNOSIS_BUDGET = 90.0
 
 
 def binding(assessment, count: int = 3) -> tuple[str, ...]:
-    """Labels of the requirements with the smallest margins (the ones that decide the design)."""
-    rows = sorted((c for c in assessment.checks if math.isfinite(c.margin)), key=lambda c: c.margin)
-    return tuple(
-        f"{c.subject}: {c.requirement.replace('_', ' ')} (margin {100 * c.margin:+.1f} %)"
-        for c in rows[:count]
-    )
+    """Labels of the requirements with the smallest margins (the ones that decide the design), a
+    region of poses once by its worst pose: "trot: rating use max (margin +1.8 %)"."""
+    return tuple(binding_labels(assessment.checks, assessment.regions or {}, count))
 
 
 def _stack_kind(a) -> str:
