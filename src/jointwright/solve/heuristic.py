@@ -103,7 +103,7 @@ class Heuristic:
         if blind_screen(model):
             from .stance_bound import StanceBound
 
-            self.stance = StanceBound(model)
+            self.stance = StanceBound.of(model)
         #: designs drawn by the sampling phase
         self.sampled = 0
         #: designs read off the stance program (local search starts from them first)

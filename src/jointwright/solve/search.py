@@ -103,7 +103,7 @@ class BranchAndBound:
         if model.kind == "payload" and model.stance:
             from .stance_bound import StanceBound
 
-            self.stance = StanceBound(model)
+            self.stance = StanceBound.of(model)
             root = np.full(model.n, -1, dtype=np.int64)
             self.cap = min(self.cap, self.stance.bound(root, (), np.empty(0, dtype=np.int64)))
         self.nodes = 0

@@ -31,6 +31,7 @@ HiGHS (highspy); a node only changes column bounds and re-solves from the previo
 from __future__ import annotations
 
 import math
+import weakref
 
 import numpy as np
 
@@ -58,8 +59,30 @@ def option_groups(mass: np.ndarray, torque: np.ndarray) -> np.ndarray:
     return group
 
 
+#: each model's stance bound, with the candidates and budget it was built for (StanceBound.of)
+_BUILT: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
+
+
+def _built_for(model) -> tuple:
+    """What a stance bound is built from besides the model's fixed cases and options: each
+    joint's candidates and the actuator mass budget."""
+    return (tuple(c.tobytes() for c in model.candidates), float(model.total_mass_max))
+
+
 class StanceBound:
     """The stance cases of ``model``: their joint program and every option's torque ranges."""
+
+    @classmethod
+    def of(cls, model) -> StanceBound:
+        """The stance bound of ``model``, built once and shared (the primal heuristics and the
+        search use the same program) while the candidates and the budget stay the same."""
+        key = _built_for(model)
+        held = _BUILT.get(model)
+        if held is not None and held[0] == key:
+            return held[1]
+        bound = cls(model)
+        _BUILT[model] = (key, bound)
+        return bound
 
     def __init__(self, model) -> None:
         self.model = model
@@ -180,8 +203,8 @@ class StanceBound:
             return np.array([self.program.solve(t_lo, t_hi, m_lo, m_hi)])
         order = np.argsort(group_of, kind="stable")
         groups = np.split(order, np.cumsum(np.bincount(group_of))[:-1])
-        out = np.full(len(groups), math.inf)
-        for g, rows in enumerate(groups):
+        out = np.full(options.size, math.inf)
+        for rows in groups:
             if rows.size == 0:
                 continue
             o = options[rows]
@@ -189,5 +212,17 @@ class StanceBound:
             for c, (lo, hi) in enumerate(zip(self.lo, self.hi, strict=True)):
                 t_lo[c][unit] = lo[unit][:, o].min(axis=1)
                 t_hi[c][unit] = hi[unit][:, o].max(axis=1)
-            out[g] = self.program.solve(t_lo, t_hi, m_lo, m_hi)
-        return out[group_of]
+            value = self.program.solve(t_lo, t_hi, m_lo, m_hi)
+            out[rows] = value
+            if rows.size > 1 and math.isfinite(value):  # each option from the group's duals
+                box_lo, box_hi = self.boxes(unit, o)
+                out[rows] = self.program.option_bounds(value, unit, box_lo, box_hi)
+        return out
+
+    def boxes(self, unit: list, options: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Each option's box over the unit's columns (:meth:`StanceProgram.columns`): its torque
+        range in every case, then its mass (O, K)."""
+        mass = np.repeat(self.model.mass[options][:, None], len(unit), axis=1)
+        lo = [lo[unit][:, options].T for lo in self.lo] + [mass]
+        hi = [hi[unit][:, options].T for hi in self.hi] + [mass]
+        return np.hstack(lo), np.hstack(hi)
