@@ -125,9 +125,9 @@ class StanceBound:
         unit = list(unit)
         options = np.asarray(options, dtype=np.int64)
         if not unit or options.size == 0:
-            return float(self._solve(idx, [], options, np.zeros(0, dtype=np.int64))[0])
+            return float(self.group_bounds(idx, [], options, np.zeros(0, dtype=np.int64))[0])
         width = (self.hi[0][unit][:, options] - self.lo[0][unit][:, options]).sum(axis=0)
-        out = self._solve(idx, unit, options, option_groups(model.mass[options], width))
+        out = self.group_bounds(idx, unit, options, option_groups(model.mass[options], width))
         fixed = idx >= 0
         fixed[unit] = False
         if np.count_nonzero(fixed) + len(unit) < model.n:
@@ -138,7 +138,7 @@ class StanceBound:
             o = options[live]
             key = np.column_stack([model.mass[o]] + [v[unit][:, o].T for v in (*self.lo, *self.hi)])
             _, fine = np.unique(key, axis=0, return_inverse=True)
-            out[live] = np.minimum(out[live], self._solve(idx, unit, o, fine.reshape(-1)))
+            out[live] = np.minimum(out[live], self.group_bounds(idx, unit, o, fine.reshape(-1)))
         return out
 
     def complete(self, index: np.ndarray) -> np.ndarray:
@@ -163,7 +163,7 @@ class StanceBound:
         model = self.model
         n = model.n
         root = np.full(n, -1, dtype=np.int64)
-        self._solve(root, [], np.empty(0), np.empty(0))
+        self.group_bounds(root, [], np.empty(0), np.empty(0))
         if not self.program.solved():
             return np.empty((0, n), dtype=np.int64)
         x = np.asarray(self.program.h.getSolution().col_value)
@@ -186,9 +186,10 @@ class StanceBound:
             out.append(idx)
         return np.unique(np.array(out), axis=0)
 
-    def _solve(self, idx, unit: list, options, group_of) -> np.ndarray:
+    def group_bounds(self, idx, unit: list, options, group_of) -> np.ndarray:
         """Per option (one value when ``unit`` is empty): the bound of its group's program
-        (``group_of``: the group of each option)."""
+        (``group_of``: the group of each option), lowered per option by that program's duals
+        (:meth:`.stance_program.StanceProgram.option_bounds`)."""
         model = self.model
         fixed = idx >= 0
         fixed[unit] = False
