@@ -143,7 +143,10 @@ class Heuristic:
             if idx is not None:
                 self.offer(idx[None, :])
         if self.stance is not None:  # designs read off the stance program's solution
-            self.seeds = list(self.stance.rounded(self.units))
+            from .search import search_order
+
+            dive = self.stance.dive(search_order(self.model, self.units))
+            self.seeds = ([dive] if dive.size else []) + list(self.stance.rounded(self.units))
             for idx in self.seeds:
                 self.offer(idx[None, :])
         if time.perf_counter() <= self.deadline:  # its first draws whatever the CPU budget

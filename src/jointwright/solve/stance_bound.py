@@ -41,6 +41,8 @@ from .stance_program import StanceProgram
 #: option groups bounded per node (mass bins × torque bins)
 MASS_BINS, TORQUE_BINS = 4, 4
 GROUPS = MASS_BINS * TORQUE_BINS
+#: the options of a node solved by their own programs, best by their group's duals first
+LEAD = 32
 #: torque margins of the designs read off the root program (:meth:`StanceBound.rounded`)
 ROUNDING_MARGINS = (1.0, 1.03, 1.06, 1.1, 0.97)
 
@@ -115,12 +117,16 @@ class StanceBound:
             for lo, hi in zip(self.lo, self.hi, strict=True)
         ]
 
-    def bound(self, idx: np.ndarray, unit, options: np.ndarray, floor: float | None = None):
+    def bound(
+        self, idx: np.ndarray, unit, options: np.ndarray, floor: float | None = None, lead=LEAD
+    ):
         """An upper bound on the payload objective's stance part (the least over stance cases of
         the carried payload): a number for every completion of ``idx`` when ``unit`` is empty,
         else one per option in ``options`` for every completion with the unit at that option.
-        With ``floor``, at the last joints only the options whose group bound reaches it are
-        solved option by option (the others keep their group's, valid, bound)."""
+        Each option's bound is its group's, lowered by that program's duals; the ``lead`` best
+        (reaching ``floor``) are solved by their own programs. At the last joints every
+        option reaching ``floor`` is solved by its own program (the others keep their group's,
+        valid, bound)."""
         model = self.model
         unit = list(unit)
         options = np.asarray(options, dtype=np.int64)
@@ -131,6 +137,13 @@ class StanceBound:
         fixed = idx >= 0
         fixed[unit] = False
         if np.count_nonzero(fixed) + len(unit) < model.n:
+            if lead > 0:  # the leading options by their group's duals: their own programs
+                ahead = np.lexsort((model.mass[options], -out))[:lead]
+                if floor is not None:
+                    ahead = ahead[out[ahead] >= floor]
+                if ahead.size:
+                    own = self.group_bounds(idx, unit, options[ahead], np.arange(ahead.size))
+                    out[ahead] = np.minimum(out[ahead], own)
             return out
         # the last joints: every distinct option gets its own (the design's own) program
         live = np.flatnonzero(out >= floor) if floor is not None else np.arange(options.size)
@@ -185,6 +198,23 @@ class StanceBound:
                 idx[list(u)] = best[np.argmin(model.mass[best])]
             out.append(idx)
         return np.unique(np.array(out), axis=0)
+
+    def dive(self, units, floor: float | None = None) -> np.ndarray:
+        """A design read off the programs (a heuristic: the caller scores it in full): the units,
+        in the order given, each take the option of best bound given the ones already taken
+        (:meth:`bound`, least mass among equals). ``floor``: passed to :meth:`bound`."""
+        model = self.model
+        idx = np.full(model.n, -1, dtype=np.int64)
+        for u in units:
+            opts = model.candidates[u[0]]
+            for j in u[1:]:
+                opts = np.intersect1d(opts, model.candidates[j])
+            if opts.size == 0:
+                return np.empty(0, dtype=np.int64)
+            b = self.bound(idx, u, opts, floor)
+            top = np.flatnonzero(b >= b.max() - 1e-9 * max(1.0, abs(b.max())))
+            idx[list(u)] = opts[top[np.argmin(model.mass[opts[top]])]]
+        return idx
 
     def group_bounds(self, idx, unit: list, options, group_of) -> np.ndarray:
         """Per option (one value when ``unit`` is empty): the bound of its group's program
