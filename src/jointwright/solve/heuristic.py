@@ -15,7 +15,8 @@ only uses it as its first incumbent (a cut against it is as safe as against any 
   (feasible first, then objective, then least mass; an infeasible design moves to the option with
   the least total requirement violation).
 * **Stance cases alone** (no static payload case sets the objective): designs are first read off
-  the stance program's root solution (:meth:`.stance_bound.StanceBound.rounded`), and sampled
+  the stance programs, by a dive along their bounds (:meth:`.stance_bound.StanceBound.dive`) and
+  from the root solution (:meth:`.stance_bound.StanceBound.rounded`), and sampled
   designs and moves are screened by each design's own stance linear program (an upper bound
   within the friction pyramid's gap of its cone value); only the best few are scored in full.
 

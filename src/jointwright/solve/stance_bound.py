@@ -41,7 +41,8 @@ from .stance_program import StanceProgram
 #: option groups bounded per node (mass bins × torque bins)
 MASS_BINS, TORQUE_BINS = 4, 4
 GROUPS = MASS_BINS * TORQUE_BINS
-#: the options of a node solved by their own programs, best by their group's duals first
+#: the options of a unit solved by their own programs in a dive, best by their group's duals
+#: first (the search uses the duals' bounds alone: measured no better with them, at half the nodes)
 LEAD = 32
 #: torque margins of the designs read off the root program (:meth:`StanceBound.rounded`)
 ROUNDING_MARGINS = (1.0, 1.03, 1.06, 1.1, 0.97)
@@ -117,9 +118,7 @@ class StanceBound:
             for lo, hi in zip(self.lo, self.hi, strict=True)
         ]
 
-    def bound(
-        self, idx: np.ndarray, unit, options: np.ndarray, floor: float | None = None, lead=LEAD
-    ):
+    def bound(self, idx: np.ndarray, unit, options: np.ndarray, floor: float | None = None, lead=0):
         """An upper bound on the payload objective's stance part (the least over stance cases of
         the carried payload): a number for every completion of ``idx`` when ``unit`` is empty,
         else one per option in ``options`` for every completion with the unit at that option.
@@ -211,7 +210,7 @@ class StanceBound:
                 opts = np.intersect1d(opts, model.candidates[j])
             if opts.size == 0:
                 return np.empty(0, dtype=np.int64)
-            b = self.bound(idx, u, opts, floor)
+            b = self.bound(idx, u, opts, floor, LEAD)
             top = np.flatnonzero(b >= b.max() - 1e-9 * max(1.0, abs(b.max())))
             idx[list(u)] = opts[top[np.argmin(model.mass[opts[top]])]]
         return idx
