@@ -15,7 +15,8 @@ only uses it as its first incumbent (a cut against it is as safe as against any 
   (feasible first, then objective, then least mass; an infeasible design moves to the option with
   the least total requirement violation).
 * **Stance cases alone** (no static payload case sets the objective): designs are first read off
-  the stance programs, by a dive along their bounds (:meth:`.stance_bound.StanceBound.dive`) and
+  the stance programs, by dives along their bounds (:meth:`.stance_bound.StanceBound.dive`, in
+  the search order and in its reverse) and
   from the root solution (:meth:`.stance_bound.StanceBound.rounded`), and sampled
   designs and moves are screened by each design's own stance linear program (an upper bound
   within the friction pyramid's gap of its cone value); only the best few are scored in full.
@@ -146,8 +147,9 @@ class Heuristic:
         if self.stance is not None:  # designs read off the stance program's solution
             from .search import search_order
 
-            dive = self.stance.dive(search_order(self.model, self.units))
-            self.seeds = ([dive] if dive.size else []) + list(self.stance.rounded(self.units))
+            order = search_order(self.model, self.units)
+            dives = [self.stance.dive(o) for o in (order, order[::-1]) if not self.out_of_time()]
+            self.seeds = [d for d in dives if d.size] + list(self.stance.rounded(self.units))
             for idx in self.seeds:
                 self.offer(idx[None, :])
         if time.perf_counter() <= self.deadline:  # its first draws whatever the CPU budget
