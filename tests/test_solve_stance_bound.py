@@ -229,6 +229,43 @@ def test_search_with_stance_bounds_matches_enumeration(seed):
     assert res.objective == pytest.approx(key[0], rel=1e-9, abs=1e-9)
 
 
+@pytest.mark.slow
+@pytest.mark.parametrize("seed", [21, 45])
+def test_root_probing_keeps_every_design_that_reaches_the_floor(seed):
+    """Root probing (docs/optimizer.md, item 9) drops the options whose own root program is
+    below a floor, in rounds over ever smaller candidates: every design (legs shared, every
+    combination enumerated and scored in full within a binding budget) whose payload reaches
+    the floor must keep all its options, and some option must go [derived]."""
+    q = load_project_example()
+    shared = [[list(q.robot.actuated).index(j) for j in g] for g in q.objective["shared"]]
+    probe_project = _quadruped(seed, shared=q.objective["shared"])
+    mass = build_table(probe_project).rows["mass"]
+    budget = float(4 * (mass.min() + mass.max()) + 4 * np.median(mass))
+    project = _quadruped(seed, budget, shared=q.objective["shared"])
+    table = build_table(project)
+    n = len(project.robot.actuated)
+    model = SizingModel(project, table, [np.arange(len(table))] * n, "payload", shared)
+    rows = []
+    for combo in itertools.product(range(len(table)), repeat=len(shared)):
+        idx = np.empty(n, dtype=np.int64)
+        for g, o in zip(shared, combo, strict=True):
+            idx[g] = o
+        rows.append(idx)
+    designs = np.array(rows)
+    s = model.score(designs)
+    value = np.where(s.feasible, s.objective, -np.inf)
+    assert np.isfinite(value).any() and value.max() > 0
+    for share in (0.9, 0.98):
+        floor = share * float(value.max())
+        cands, bound = StanceBound(model).probe([tuple(g) for g in shared], floor)
+        for j in range(n):
+            reach = designs[value >= floor, j]
+            assert np.all(np.isin(reach, cands[j]))
+        assert sum(c.size for c in cands) < n * len(table)
+        root = bound.bound(np.full(n, -1, dtype=np.int64), (), np.empty(0, dtype=np.int64))
+        assert root >= value.max() - 1e-6 * max(1.0, value.max())
+
+
 def load_project_example():
     with resources.as_file(resources.files("jointwright.examples") / "quadruped") as folder:
         return load_project(folder / "project.toml")

@@ -30,7 +30,9 @@ HiGHS (highspy); a node only changes column bounds and re-solves from the previo
 
 from __future__ import annotations
 
+import copy
 import math
+import time
 import weakref
 
 import numpy as np
@@ -102,21 +104,68 @@ class StanceBound:
             pcs.append(pc)
             self.lo.append(np.asarray(lo).T.copy())  # (n, O)
             self.hi.append(np.asarray(hi).T.copy())
-        self.program = StanceProgram(pcs, ev, model, list(zip(self.lo, self.hi, strict=True)))
-        # each free joint's hulls over its candidates
-        cands = model.candidates
+        self.pcs = pcs
+        self._build(list(model.candidates))
+
+    def _build(self, candidates: list) -> None:
+        """The program and the free joints' hulls over ``candidates`` (one array per joint)."""
+        model = self.model
+        self.candidates = candidates
+        self.program = StanceProgram(
+            self.pcs, model.evaluator, model, list(zip(self.lo, self.hi, strict=True)), candidates
+        )
         self.m_free = np.array(
-            [[model.mass[c].min(), model.mass[c].max()] if c.size else [0, 0] for c in cands]
+            [[model.mass[c].min(), model.mass[c].max()] if c.size else [0, 0] for c in candidates]
         )
         self.t_free = [
             np.array(
                 [
                     [lo[j, c].min(), hi[j, c].max()] if c.size else [0, 0]
-                    for j, c in enumerate(cands)
+                    for j, c in enumerate(candidates)
                 ]
             )
             for lo, hi in zip(self.lo, self.hi, strict=True)
         ]
+
+    def restricted(self, candidates: list) -> StanceBound:
+        """The same cases over fewer candidates (each joint's a subset of this one's): the
+        envelopes and hulls are those of the subsets, so they bound only completions drawn
+        from them."""
+        out = copy.copy(self)
+        out._build(list(candidates))
+        return out
+
+    def probe(self, units, floor: float, rounds: int = 6, deadline: float = math.inf):
+        """Each unit's options whose own program at the root (every other joint free) is below
+        ``floor`` can be in no design reaching it; drop them, rebuild the program over what is
+        left (tighter envelopes and hulls) and repeat while something is dropped (at most
+        ``rounds`` times, until ``deadline``, a ``time.perf_counter`` value). Returns the
+        candidates left (one array per joint) and the bound over them; stopping early is safe
+        (docs/optimizer.md, item 9, root probing)."""
+        bound = self
+        root = np.full(self.model.n, -1, dtype=np.int64)
+        for _ in range(rounds):
+            cands = list(bound.candidates)
+            for u in units:
+                if time.perf_counter() > deadline:
+                    return cands, bound
+                opts = cands[u[0]]
+                for j in u[1:]:
+                    opts = np.intersect1d(opts, cands[j])
+                if opts.size == 0:
+                    return [np.empty(0, dtype=np.int64)] * len(cands), bound
+                b = bound.bound(root, u, opts, floor)
+                live = np.flatnonzero(b >= floor)
+                own = bound.group_bounds(root, list(u), opts[live], np.arange(live.size))
+                keep = opts[live[own >= floor]]
+                for j in u:
+                    cands[j] = np.intersect1d(cands[j], keep) if len(u) > 1 else keep
+            if all(a.size == b.size for a, b in zip(cands, bound.candidates, strict=True)):
+                return cands, bound
+            if any(c.size == 0 for c in cands):
+                return cands, bound
+            bound = bound.restricted(cands)
+        return list(bound.candidates), bound
 
     def bound(self, idx: np.ndarray, unit, options: np.ndarray, floor: float | None = None, lead=0):
         """An upper bound on the payload objective's stance part (the least over stance cases of
@@ -184,9 +233,9 @@ class StanceBound:
         for f in margins:
             idx = np.full(n, -1, dtype=np.int64)
             for u in units:
-                opts = model.candidates[u[0]]
+                opts = self.candidates[u[0]]
                 for j in u[1:]:
-                    opts = np.intersect1d(opts, model.candidates[j])
+                    opts = np.intersect1d(opts, self.candidates[j])
                 if opts.size == 0:
                     return np.empty((0, n), dtype=np.int64)
                 cover = np.zeros(opts.size)
@@ -205,9 +254,9 @@ class StanceBound:
         model = self.model
         idx = np.full(model.n, -1, dtype=np.int64)
         for u in units:
-            opts = model.candidates[u[0]]
+            opts = self.candidates[u[0]]
             for j in u[1:]:
-                opts = np.intersect1d(opts, model.candidates[j])
+                opts = np.intersect1d(opts, self.candidates[j])
             if opts.size == 0:
                 return np.empty(0, dtype=np.int64)
             b = self.bound(idx, u, opts, floor, LEAD)

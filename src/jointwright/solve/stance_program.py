@@ -42,7 +42,7 @@ def upper_hull(x: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return slope, top[h[:-1]] - slope * xs[h[:-1]]
 
 
-def case_rows(pc, ev, model, lo: np.ndarray, hi: np.ndarray):
+def case_rows(pc, ev, model, lo: np.ndarray, hi: np.ndarray, candidates):
     """One stance case's rows over its own columns [τ (rows), λ, ν1, ν2, s] and the shared mass
     columns: (A own, A mass, row low, row high, column low, column high, index of s, joint of
     each row: j for the mass–torque envelope rows of joint j, −1 for the others)."""
@@ -100,7 +100,7 @@ def case_rows(pc, ev, model, lo: np.ndarray, hi: np.ndarray):
         row_hi.append(np.zeros(SIDES))
         joint_of.append(np.full(SIDES, -1))
     for j in range(n):  # torque envelopes over each joint's candidates
-        c = model.candidates[j]
+        c = candidates[j]
         for side, values in ((1.0, hi[j, c]), (-1.0, -lo[j, c])):
             if c.size == 0 or not np.all(np.isfinite(values)):
                 continue
@@ -132,13 +132,16 @@ class StanceProgram:
     columns [case 1 (τ, λ, ν1, ν2, s), case 2 …, m (n), t]; maximize t with
     t ≤ carried payload of s_c for every case c (affine and increasing, problem.carried_payload)."""
 
-    def __init__(self, pcs, ev, model, bounds) -> None:
+    def __init__(self, pcs, ev, model, bounds, candidates) -> None:
         import highspy
 
         from ..problem import STANDARD_GRAVITY
 
         n = model.n
-        parts = [case_rows(pc, ev, model, lo, hi) for pc, (lo, hi) in zip(pcs, bounds, strict=True)]
+        parts = [
+            case_rows(pc, ev, model, lo, hi, candidates)
+            for pc, (lo, hi) in zip(pcs, bounds, strict=True)
+        ]
         self.cases = [pc.case for pc in pcs]
         widths = [p[0].shape[1] for p in parts]
         offsets = np.concatenate([[0], np.cumsum(widths)]).astype(int)
