@@ -14,7 +14,7 @@ import math
 import numpy as np
 
 #: faces of the circumscribed friction pyramid
-SIDES = 8
+SIDES = 32
 #: relative and absolute slack on an optimum (solver tolerances)
 REL_SLACK, ABS_SLACK = 1e-6, 1e-6
 
