@@ -16,16 +16,20 @@ maximize t; and
   concave upper envelope of its candidates' (mass, hi) points (above the convex lower envelope of
   (mass, lo)): every candidate lies on or under (over) those lines, so they cut no completion;
 * the masses sum to at most the actuator mass budget (``total_mass_max``);
-* each cone becomes the circumscribed 8-sided pyramid (``pyramid_bounds``, ``outer``).
+* each cone becomes the circumscribed pyramid of ``stance_program.SIDES`` sides.
 
 Every completion whose cases all hold is feasible for the program, so its optimum bounds the
 objective's stance part; one whose case c cannot hold itself has at most T_c(0). The options of
 the joints being decided are bounded per group: options sorted by mass and by torque range fall
-into at most ``GROUPS`` groups, and each group's program takes the hull of its own options, so
-the children of a node are ordered and cut by their group's bound; when the unit's joints are
-the last ones free, every distinct option gets its own program (the design's own program:
-complete designs are cut before their cone programs are solved). The program is built once in
-HiGHS (highspy); a node only changes column bounds and re-solves from the previous basis.
+into at most ``GROUPS`` groups, each group's program takes the hull of its own options, and
+each option's bound is its group's lowered by that program's duals (weak duality), so the
+children of a node are ordered and cut option by option; when the unit's joints are the last
+ones free, every distinct option gets its own program (the design's own program: complete
+designs are cut before their cone programs are solved). With an incumbent, root probing
+(:meth:`StanceBound.probe`) drops the options whose own root program is below it, in rounds
+over the ever smaller candidates. The program is built once in HiGHS (highspy), shared by the
+heuristics and the search; a node only changes column bounds and re-solves from the previous
+basis. Proofs: docs/optimizer.md, item 9.
 """
 
 from __future__ import annotations
