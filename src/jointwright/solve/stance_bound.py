@@ -251,10 +251,11 @@ class StanceBound:
             out.append(idx)
         return np.unique(np.array(out), axis=0)
 
-    def dive(self, units, floor: float | None = None) -> np.ndarray:
+    def dive(self, units) -> np.ndarray:
         """A design read off the programs (a heuristic: the caller scores it in full): the units,
         in the order given, each take the option of best bound given the ones already taken
-        (:meth:`bound`, least mass among equals). ``floor``: passed to :meth:`bound`."""
+        (:meth:`bound` with the ``LEAD`` best solved by their own programs; least mass among
+        equals). Empty when a unit has no option."""
         model = self.model
         idx = np.full(model.n, -1, dtype=np.int64)
         for u in units:
@@ -263,7 +264,7 @@ class StanceBound:
                 opts = np.intersect1d(opts, self.candidates[j])
             if opts.size == 0:
                 return np.empty(0, dtype=np.int64)
-            b = self.bound(idx, u, opts, floor, LEAD)
+            b = self.bound(idx, u, opts, None, LEAD)
             top = np.flatnonzero(b >= b.max() - 1e-9 * max(1.0, abs(b.max())))
             idx[list(u)] = opts[top[np.argmin(model.mass[opts[top]])]]
         return idx
