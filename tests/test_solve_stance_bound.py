@@ -134,6 +134,60 @@ def test_stance_bound_holds_for_every_completion(seed):
             assert b <= value / 0.92 + 1.0
 
 
+@pytest.mark.parametrize(
+    "seed", [45, pytest.param(42, marks=pytest.mark.slow), pytest.param(48, marks=pytest.mark.slow)]
+)
+def test_option_bounds_from_duals_hold_against_enumeration(seed):
+    """Every option of the joint being decided in one group: each option's bound from the
+    group program's duals (weak duality, the unit's envelope rows dropped; docs/optimizer.md,
+    item 9) must lie between that option's own program and the group's bound, and above the
+    carried payload of every completion of the partial design (two joints free, every
+    combination within the budget scored by the evaluator's cone programs) [derived]."""
+    n = len(_quadruped(seed).robot.actuated)
+    probe = StanceBound(
+        SizingModel(_quadruped(seed), build_table(_quadruped(seed)), [np.arange(15)] * n, "payload")
+    )
+    strong = np.argsort(-probe.hi[0], axis=1)[:, :4]  # the 4 strongest options of each joint
+    model0 = probe.model
+    budget = 1.02 * float(model0.mass[strong[:, 0]].sum())
+    project = _quadruped(seed, budget)
+    table = build_table(project)
+    model = SizingModel(project, table, [np.arange(len(table))] * n, "payload")
+    bound = StanceBound(model)
+    opts = np.arange(len(table))
+    rng = np.random.default_rng(seed)
+    checked, lowered, held = 0, 0, 0
+    for _ in range(3):
+        idx = strong[np.arange(n), rng.integers(0, 4, n)]
+        free = rng.choice(n, 2, replace=False)
+        idx[free] = -1
+        unit = [int(free[0])]
+        one = bound.group_bounds(idx, unit, opts, np.zeros(opts.size, dtype=np.int64))
+        own = bound.group_bounds(idx, unit, opts, np.arange(opts.size))
+        group = bound.group_bounds(idx, unit, opts[:1], np.zeros(1, dtype=np.int64))
+        whole = bound.bound(idx, (), np.empty(0, dtype=np.int64))
+        assert np.all(one >= own - 1e-6 * np.maximum(1.0, np.abs(own)))
+        assert np.all(one <= whole + 1e-6 * max(1.0, abs(whole)))
+        assert group[0] >= own[0] - 1e-6 * max(1.0, abs(own[0]))
+        lowered += int(np.count_nonzero(one < one.max() - 1e-3))
+        designs = np.broadcast_to(idx, (opts.size**2, n)).copy()
+        designs[:, free[0]] = np.repeat(opts, opts.size)
+        designs[:, free[1]] = np.tile(opts, opts.size)
+        designs = designs[model.mass[designs].sum(axis=1) <= budget]
+        if designs.shape[0] == 0:
+            continue
+        ev = model.evaluator.evaluate(table.arrays(designs), detail=False)
+        value = np.min(
+            [carried_payload(c, np.asarray(ev[c.name]["payload"])) for c in model.stance], axis=0
+        )
+        limit = one[designs[:, free[0]]]
+        assert np.all(value <= limit + 1e-6 * np.maximum(1.0, np.abs(limit)))
+        checked += value.size
+        held += int(np.count_nonzero(value > 0))
+    assert checked > 0 and held > 0  # some completions carry a payload: the check bites
+    assert lowered > 0  # the duals tell the options apart
+
+
 @pytest.mark.slow
 @pytest.mark.parametrize("seed", [21, 22, 23])
 def test_search_with_stance_bounds_matches_enumeration(seed):
@@ -173,6 +227,43 @@ def test_search_with_stance_bounds_matches_enumeration(seed):
     res = size(project, explain=False)
     assert res.status == "optimal" and res.assessment.feasible
     assert res.objective == pytest.approx(key[0], rel=1e-9, abs=1e-9)
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("seed", [21, 45])
+def test_root_probing_keeps_every_design_that_reaches_the_floor(seed):
+    """Root probing (docs/optimizer.md, item 9) drops the options whose own root program is
+    below a floor, in rounds over ever smaller candidates: every design (legs shared, every
+    combination enumerated and scored in full within a binding budget) whose payload reaches
+    the floor must keep all its options, and some option must go [derived]."""
+    q = load_project_example()
+    shared = [[list(q.robot.actuated).index(j) for j in g] for g in q.objective["shared"]]
+    probe_project = _quadruped(seed, shared=q.objective["shared"])
+    mass = build_table(probe_project).rows["mass"]
+    budget = float(4 * (mass.min() + mass.max()) + 4 * np.median(mass))
+    project = _quadruped(seed, budget, shared=q.objective["shared"])
+    table = build_table(project)
+    n = len(project.robot.actuated)
+    model = SizingModel(project, table, [np.arange(len(table))] * n, "payload", shared)
+    rows = []
+    for combo in itertools.product(range(len(table)), repeat=len(shared)):
+        idx = np.empty(n, dtype=np.int64)
+        for g, o in zip(shared, combo, strict=True):
+            idx[g] = o
+        rows.append(idx)
+    designs = np.array(rows)
+    s = model.score(designs)
+    value = np.where(s.feasible, s.objective, -np.inf)
+    assert np.isfinite(value).any() and value.max() > 0
+    for share in (0.9, 0.98):
+        floor = share * float(value.max())
+        cands, bound = StanceBound(model).probe([tuple(g) for g in shared], floor)
+        for j in range(n):
+            reach = designs[value >= floor, j]
+            assert np.all(np.isin(reach, cands[j]))
+        assert sum(c.size for c in cands) < n * len(table)
+        root = bound.bound(np.full(n, -1, dtype=np.int64), (), np.empty(0, dtype=np.int64))
+        assert root >= value.max() - 1e-6 * max(1.0, value.max())
 
 
 def load_project_example():

@@ -15,7 +15,9 @@ only uses it as its first incumbent (a cut against it is as safe as against any 
   (feasible first, then objective, then least mass; an infeasible design moves to the option with
   the least total requirement violation).
 * **Stance cases alone** (no static payload case sets the objective): designs are first read off
-  the stance program's root solution (:meth:`.stance_bound.StanceBound.rounded`), and sampled
+  the stance programs, by dives along their bounds (:meth:`.stance_bound.StanceBound.dive`, in
+  the search order and in its reverse) and
+  from the root solution (:meth:`.stance_bound.StanceBound.rounded`), and sampled
   designs and moves are screened by each design's own stance linear program (an upper bound
   within the friction pyramid's gap of its cone value); only the best few are scored in full.
 
@@ -103,7 +105,7 @@ class Heuristic:
         if blind_screen(model):
             from .stance_bound import StanceBound
 
-            self.stance = StanceBound(model)
+            self.stance = StanceBound.of(model)
         #: designs drawn by the sampling phase
         self.sampled = 0
         #: designs read off the stance program (local search starts from them first)
@@ -143,7 +145,11 @@ class Heuristic:
             if idx is not None:
                 self.offer(idx[None, :])
         if self.stance is not None:  # designs read off the stance program's solution
-            self.seeds = list(self.stance.rounded(self.units))
+            from .search import search_order
+
+            order = search_order(self.model, self.units)
+            dives = [self.stance.dive(o) for o in (order, order[::-1]) if not self.out_of_time()]
+            self.seeds = [d for d in dives if d.size] + list(self.stance.rounded(self.units))
             for idx in self.seeds:
                 self.offer(idx[None, :])
         if time.perf_counter() <= self.deadline:  # its first draws whatever the CPU budget

@@ -103,7 +103,7 @@ class BranchAndBound:
         if model.kind == "payload" and model.stance:
             from .stance_bound import StanceBound
 
-            self.stance = StanceBound(model)
+            self.stance = StanceBound.of(model)
             root = np.full(model.n, -1, dtype=np.int64)
             self.cap = min(self.cap, self.stance.bound(root, (), np.empty(0, dtype=np.int64)))
         self.nodes = 0
@@ -141,7 +141,9 @@ class BranchAndBound:
                 "requirement)",
                 0,
             )
-        self._node(np.full(n, -1, dtype=np.int64), 0)
+        cands, st = self._stance_probe()
+        if all(c.size for c in cands):  # else no design reaches the incumbent
+            self._node(np.full(n, -1, dtype=np.int64), 0, cands, st)
         elapsed = time.perf_counter() - start
         best = self.best_key
         if self.stopped:
@@ -157,6 +159,22 @@ class BranchAndBound:
         )
 
     # ------------------------------------------------------------------------------------------
+    def _stance_probe(self):
+        """The candidates the search starts from, and their statistics: with stance cases and an
+        incumbent, each unit's options whose own stance program at the root is below it are
+        dropped, in rounds (:meth:`.stance_bound.StanceBound.probe`; docs/optimizer.md, item 9),
+        within half of the time left; the stance bound is then the one over what is left."""
+        model = self.model
+        if self.stance is None or self.best_key is None:
+            return model.candidates, self.st
+        now = time.perf_counter()
+        end = now + 0.5 * (self.deadline - now) if math.isfinite(self.deadline) else math.inf
+        floor = self.best_key[0] - tie_tol(self.best_key[0])
+        cands, self.stance = self.stance.probe(self.units, floor, deadline=end)
+        if not all(c.size for c in cands):
+            return cands, self.st
+        return cands, model.stats(cands)
+
     def _prune(self, b: dict) -> np.ndarray:
         keep = b["ok"].copy()
         if self.best_key is not None:

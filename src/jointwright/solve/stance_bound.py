@@ -16,21 +16,28 @@ maximize t; and
   concave upper envelope of its candidates' (mass, hi) points (above the convex lower envelope of
   (mass, lo)): every candidate lies on or under (over) those lines, so they cut no completion;
 * the masses sum to at most the actuator mass budget (``total_mass_max``);
-* each cone becomes the circumscribed 8-sided pyramid (``pyramid_bounds``, ``outer``).
+* each cone becomes the circumscribed pyramid of ``stance_program.SIDES`` sides.
 
 Every completion whose cases all hold is feasible for the program, so its optimum bounds the
 objective's stance part; one whose case c cannot hold itself has at most T_c(0). The options of
 the joints being decided are bounded per group: options sorted by mass and by torque range fall
-into at most ``GROUPS`` groups, and each group's program takes the hull of its own options, so
-the children of a node are ordered and cut by their group's bound; when the unit's joints are
-the last ones free, every distinct option gets its own program (the design's own program:
-complete designs are cut before their cone programs are solved). The program is built once in
-HiGHS (highspy); a node only changes column bounds and re-solves from the previous basis.
+into at most ``GROUPS`` groups, each group's program takes the hull of its own options, and
+each option's bound is its group's lowered by that program's duals (weak duality), so the
+children of a node are ordered and cut option by option; when the unit's joints are the last
+ones free, every distinct option gets its own program (the design's own program: complete
+designs are cut before their cone programs are solved). With an incumbent, root probing
+(:meth:`StanceBound.probe`) drops the options whose own root program is below it, in rounds
+over the ever smaller candidates. The program is built once in HiGHS (highspy), shared by the
+heuristics and the search; a node only changes column bounds and re-solves from the previous
+basis. Proofs: docs/optimizer.md, item 9.
 """
 
 from __future__ import annotations
 
+import copy
 import math
+import time
+import weakref
 
 import numpy as np
 
@@ -40,6 +47,9 @@ from .stance_program import StanceProgram
 #: option groups bounded per node (mass bins × torque bins)
 MASS_BINS, TORQUE_BINS = 4, 4
 GROUPS = MASS_BINS * TORQUE_BINS
+#: the options of a unit solved by their own programs in a dive, best by their group's duals
+#: first (the search uses the duals' bounds alone: measured no better with them, at half the nodes)
+LEAD = 32
 #: torque margins of the designs read off the root program (:meth:`StanceBound.rounded`)
 ROUNDING_MARGINS = (1.0, 1.03, 1.06, 1.1, 0.97)
 
@@ -58,8 +68,30 @@ def option_groups(mass: np.ndarray, torque: np.ndarray) -> np.ndarray:
     return group
 
 
+#: each model's stance bound, with the candidates and budget it was built for (StanceBound.of)
+_BUILT: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
+
+
+def _built_for(model) -> tuple:
+    """What a stance bound is built from besides the model's fixed cases and options: each
+    joint's candidates and the actuator mass budget."""
+    return (tuple(c.tobytes() for c in model.candidates), float(model.total_mass_max))
+
+
 class StanceBound:
     """The stance cases of ``model``: their joint program and every option's torque ranges."""
+
+    @classmethod
+    def of(cls, model) -> StanceBound:
+        """The stance bound of ``model``, built once and shared (the primal heuristics and the
+        search use the same program) while the candidates and the budget stay the same."""
+        key = _built_for(model)
+        held = _BUILT.get(model)
+        if held is not None and held[0] == key:
+            return held[1]
+        bound = cls(model)
+        _BUILT[model] = (key, bound)
+        return bound
 
     def __init__(self, model) -> None:
         self.model = model
@@ -76,38 +108,94 @@ class StanceBound:
             pcs.append(pc)
             self.lo.append(np.asarray(lo).T.copy())  # (n, O)
             self.hi.append(np.asarray(hi).T.copy())
-        self.program = StanceProgram(pcs, ev, model, list(zip(self.lo, self.hi, strict=True)))
-        # each free joint's hulls over its candidates
-        cands = model.candidates
+        self.pcs = pcs
+        self._build(list(model.candidates))
+
+    def _build(self, candidates: list) -> None:
+        """The program and the free joints' hulls over ``candidates`` (one array per joint)."""
+        model = self.model
+        self.candidates = candidates
+        self.program = StanceProgram(
+            self.pcs, model.evaluator, model, list(zip(self.lo, self.hi, strict=True)), candidates
+        )
         self.m_free = np.array(
-            [[model.mass[c].min(), model.mass[c].max()] if c.size else [0, 0] for c in cands]
+            [[model.mass[c].min(), model.mass[c].max()] if c.size else [0, 0] for c in candidates]
         )
         self.t_free = [
             np.array(
                 [
                     [lo[j, c].min(), hi[j, c].max()] if c.size else [0, 0]
-                    for j, c in enumerate(cands)
+                    for j, c in enumerate(candidates)
                 ]
             )
             for lo, hi in zip(self.lo, self.hi, strict=True)
         ]
 
-    def bound(self, idx: np.ndarray, unit, options: np.ndarray, floor: float | None = None):
+    def restricted(self, candidates: list) -> StanceBound:
+        """The same cases over fewer candidates (each joint's a subset of this one's): the
+        envelopes and hulls are those of the subsets, so they bound only completions drawn
+        from them."""
+        out = copy.copy(self)
+        out._build(list(candidates))
+        return out
+
+    def probe(self, units, floor: float, rounds: int = 6, deadline: float = math.inf):
+        """Each unit's options whose own program at the root (every other joint free) is below
+        ``floor`` can be in no design reaching it; drop them, rebuild the program over what is
+        left (tighter envelopes and hulls) and repeat while something is dropped (at most
+        ``rounds`` times, until ``deadline``, a ``time.perf_counter`` value). Returns the
+        candidates left (one array per joint) and the bound over them; stopping early is safe
+        (docs/optimizer.md, item 9, root probing)."""
+        bound = self
+        root = np.full(self.model.n, -1, dtype=np.int64)
+        for _ in range(rounds):
+            cands = list(bound.candidates)
+            for u in units:
+                if time.perf_counter() > deadline:
+                    return cands, bound
+                opts = cands[u[0]]
+                for j in u[1:]:
+                    opts = np.intersect1d(opts, cands[j])
+                if opts.size == 0:
+                    return [np.empty(0, dtype=np.int64)] * len(cands), bound
+                b = bound.bound(root, u, opts, floor)
+                live = np.flatnonzero(b >= floor)
+                own = bound.group_bounds(root, list(u), opts[live], np.arange(live.size))
+                keep = opts[live[own >= floor]]
+                for j in u:
+                    cands[j] = np.intersect1d(cands[j], keep) if len(u) > 1 else keep
+            if all(a.size == b.size for a, b in zip(cands, bound.candidates, strict=True)):
+                return cands, bound
+            if any(c.size == 0 for c in cands):
+                return cands, bound
+            bound = bound.restricted(cands)
+        return list(bound.candidates), bound
+
+    def bound(self, idx: np.ndarray, unit, options: np.ndarray, floor: float | None = None, lead=0):
         """An upper bound on the payload objective's stance part (the least over stance cases of
         the carried payload): a number for every completion of ``idx`` when ``unit`` is empty,
         else one per option in ``options`` for every completion with the unit at that option.
-        With ``floor``, at the last joints only the options whose group bound reaches it are
-        solved option by option (the others keep their group's, valid, bound)."""
+        Each option's bound is its group's, lowered by that program's duals; the ``lead`` best
+        (reaching ``floor``) are solved by their own programs. At the last joints every
+        option reaching ``floor`` is solved by its own program (the others keep their group's,
+        valid, bound)."""
         model = self.model
         unit = list(unit)
         options = np.asarray(options, dtype=np.int64)
         if not unit or options.size == 0:
-            return float(self._solve(idx, [], options, np.zeros(0, dtype=np.int64))[0])
+            return float(self.group_bounds(idx, [], options, np.zeros(0, dtype=np.int64))[0])
         width = (self.hi[0][unit][:, options] - self.lo[0][unit][:, options]).sum(axis=0)
-        out = self._solve(idx, unit, options, option_groups(model.mass[options], width))
+        out = self.group_bounds(idx, unit, options, option_groups(model.mass[options], width))
         fixed = idx >= 0
         fixed[unit] = False
         if np.count_nonzero(fixed) + len(unit) < model.n:
+            if lead > 0:  # the leading options by their group's duals: their own programs
+                ahead = np.lexsort((model.mass[options], -out))[:lead]
+                if floor is not None:
+                    ahead = ahead[out[ahead] >= floor]
+                if ahead.size:
+                    own = self.group_bounds(idx, unit, options[ahead], np.arange(ahead.size))
+                    out[ahead] = np.minimum(out[ahead], own)
             return out
         # the last joints: every distinct option gets its own (the design's own) program
         live = np.flatnonzero(out >= floor) if floor is not None else np.arange(options.size)
@@ -115,7 +203,7 @@ class StanceBound:
             o = options[live]
             key = np.column_stack([model.mass[o]] + [v[unit][:, o].T for v in (*self.lo, *self.hi)])
             _, fine = np.unique(key, axis=0, return_inverse=True)
-            out[live] = np.minimum(out[live], self._solve(idx, unit, o, fine.reshape(-1)))
+            out[live] = np.minimum(out[live], self.group_bounds(idx, unit, o, fine.reshape(-1)))
         return out
 
     def complete(self, index: np.ndarray) -> np.ndarray:
@@ -140,7 +228,7 @@ class StanceBound:
         model = self.model
         n = model.n
         root = np.full(n, -1, dtype=np.int64)
-        self._solve(root, [], np.empty(0), np.empty(0))
+        self.group_bounds(root, [], np.empty(0), np.empty(0))
         if not self.program.solved():
             return np.empty((0, n), dtype=np.int64)
         x = np.asarray(self.program.h.getSolution().col_value)
@@ -149,9 +237,9 @@ class StanceBound:
         for f in margins:
             idx = np.full(n, -1, dtype=np.int64)
             for u in units:
-                opts = model.candidates[u[0]]
+                opts = self.candidates[u[0]]
                 for j in u[1:]:
-                    opts = np.intersect1d(opts, model.candidates[j])
+                    opts = np.intersect1d(opts, self.candidates[j])
                 if opts.size == 0:
                     return np.empty((0, n), dtype=np.int64)
                 cover = np.zeros(opts.size)
@@ -163,9 +251,28 @@ class StanceBound:
             out.append(idx)
         return np.unique(np.array(out), axis=0)
 
-    def _solve(self, idx, unit: list, options, group_of) -> np.ndarray:
+    def dive(self, units) -> np.ndarray:
+        """A design read off the programs (a heuristic: the caller scores it in full): the units,
+        in the order given, each take the option of best bound given the ones already taken
+        (:meth:`bound` with the ``LEAD`` best solved by their own programs; least mass among
+        equals). Empty when a unit has no option."""
+        model = self.model
+        idx = np.full(model.n, -1, dtype=np.int64)
+        for u in units:
+            opts = self.candidates[u[0]]
+            for j in u[1:]:
+                opts = np.intersect1d(opts, self.candidates[j])
+            if opts.size == 0:
+                return np.empty(0, dtype=np.int64)
+            b = self.bound(idx, u, opts, None, LEAD)
+            top = np.flatnonzero(b >= b.max() - 1e-9 * max(1.0, abs(b.max())))
+            idx[list(u)] = opts[top[np.argmin(model.mass[opts[top]])]]
+        return idx
+
+    def group_bounds(self, idx, unit: list, options, group_of) -> np.ndarray:
         """Per option (one value when ``unit`` is empty): the bound of its group's program
-        (``group_of``: the group of each option)."""
+        (``group_of``: the group of each option), lowered per option by that program's duals
+        (:meth:`.stance_program.StanceProgram.option_bounds`)."""
         model = self.model
         fixed = idx >= 0
         fixed[unit] = False
@@ -180,8 +287,8 @@ class StanceBound:
             return np.array([self.program.solve(t_lo, t_hi, m_lo, m_hi)])
         order = np.argsort(group_of, kind="stable")
         groups = np.split(order, np.cumsum(np.bincount(group_of))[:-1])
-        out = np.full(len(groups), math.inf)
-        for g, rows in enumerate(groups):
+        out = np.full(options.size, math.inf)
+        for rows in groups:
             if rows.size == 0:
                 continue
             o = options[rows]
@@ -189,5 +296,17 @@ class StanceBound:
             for c, (lo, hi) in enumerate(zip(self.lo, self.hi, strict=True)):
                 t_lo[c][unit] = lo[unit][:, o].min(axis=1)
                 t_hi[c][unit] = hi[unit][:, o].max(axis=1)
-            out[g] = self.program.solve(t_lo, t_hi, m_lo, m_hi)
-        return out[group_of]
+            value = self.program.solve(t_lo, t_hi, m_lo, m_hi)
+            out[rows] = value
+            if rows.size > 1 and math.isfinite(value):  # each option from the group's duals
+                box_lo, box_hi = self.boxes(unit, o)
+                out[rows] = self.program.option_bounds(value, unit, box_lo, box_hi)
+        return out
+
+    def boxes(self, unit: list, options: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Each option's box over the unit's columns (:meth:`StanceProgram.columns`): its torque
+        range in every case, then its mass (O, K)."""
+        mass = np.repeat(self.model.mass[options][:, None], len(unit), axis=1)
+        lo = [lo[unit][:, options].T for lo in self.lo] + [mass]
+        hi = [hi[unit][:, options].T for hi in self.hi] + [mass]
+        return np.hstack(lo), np.hstack(hi)

@@ -14,7 +14,7 @@ import math
 import numpy as np
 
 #: faces of the circumscribed friction pyramid
-SIDES = 8
+SIDES = 32
 #: relative and absolute slack on an optimum (solver tolerances)
 REL_SLACK, ABS_SLACK = 1e-6, 1e-6
 
@@ -42,9 +42,10 @@ def upper_hull(x: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return slope, top[h[:-1]] - slope * xs[h[:-1]]
 
 
-def case_rows(pc, ev, model, lo: np.ndarray, hi: np.ndarray):
+def case_rows(pc, ev, model, lo: np.ndarray, hi: np.ndarray, candidates):
     """One stance case's rows over its own columns [τ (rows), λ, ν1, ν2, s] and the shared mass
-    columns: (A own, A mass, row low, row high, column low, column high, index of s)."""
+    columns: (A own, A mass, row low, row high, column low, column high, index of s, joint of
+    each row: j for the mass–torque envelope rows of joint j, −1 for the others)."""
     from ..metrics.contacts import ContactStatics
 
     n = model.n
@@ -87,6 +88,7 @@ def case_rows(pc, ev, model, lo: np.ndarray, hi: np.ndarray):
     ]
     mass_part = [-np.asarray(pc.basis.g_mass, dtype=float).T]  # (nv, n)
     row_lo, row_hi = [g0], [g0]
+    joint_of = [np.full(g0.size, -1)]
     phi = 2 * np.arange(SIDES) * math.pi / SIDES
     for c in range(k):  # outer pyramid: cos φ·ν1 + sin φ·ν2 − μ·λ ≤ 0
         a = np.zeros((SIDES, ncol))
@@ -96,8 +98,9 @@ def case_rows(pc, ev, model, lo: np.ndarray, hi: np.ndarray):
         mass_part.append(np.zeros((SIDES, n)))
         row_lo.append(np.full(SIDES, -np.inf))
         row_hi.append(np.zeros(SIDES))
+        joint_of.append(np.full(SIDES, -1))
     for j in range(n):  # torque envelopes over each joint's candidates
-        c = model.candidates[j]
+        c = candidates[j]
         for side, values in ((1.0, hi[j, c]), (-1.0, -lo[j, c])):
             if c.size == 0 or not np.all(np.isfinite(values)):
                 continue
@@ -110,6 +113,7 @@ def case_rows(pc, ev, model, lo: np.ndarray, hi: np.ndarray):
             mass_part.append(b)
             row_lo.append(np.full(slope.size, -np.inf))
             row_hi.append(icpt)
+            joint_of.append(np.full(slope.size, j))
     col_lo = np.concatenate([np.full(nr, -np.inf), np.zeros(k), np.full(2 * k, -np.inf), [0.0]])
     return (
         np.vstack(own),
@@ -119,6 +123,7 @@ def case_rows(pc, ev, model, lo: np.ndarray, hi: np.ndarray):
         col_lo,
         np.full(ncol, np.inf),
         nr + 3 * k,
+        np.concatenate(joint_of),
     )
 
 
@@ -127,13 +132,16 @@ class StanceProgram:
     columns [case 1 (τ, λ, ν1, ν2, s), case 2 …, m (n), t]; maximize t with
     t ≤ carried payload of s_c for every case c (affine and increasing, problem.carried_payload)."""
 
-    def __init__(self, pcs, ev, model, bounds) -> None:
+    def __init__(self, pcs, ev, model, bounds, candidates) -> None:
         import highspy
 
         from ..problem import STANDARD_GRAVITY
 
         n = model.n
-        parts = [case_rows(pc, ev, model, lo, hi) for pc, (lo, hi) in zip(pcs, bounds, strict=True)]
+        parts = [
+            case_rows(pc, ev, model, lo, hi, candidates)
+            for pc, (lo, hi) in zip(pcs, bounds, strict=True)
+        ]
         self.cases = [pc.case for pc in pcs]
         widths = [p[0].shape[1] for p in parts]
         offsets = np.concatenate([[0], np.cumsum(widths)]).astype(int)
@@ -141,14 +149,15 @@ class StanceProgram:
         self.m_col = int(offsets[-1])
         self.t_col = self.m_col + n
         ncol = self.t_col + 1
-        blocks, row_lo, row_hi = [], [], []
-        for c, (own, mass_part, rlo, rhi, _, _, s_at) in enumerate(parts):
+        blocks, row_lo, row_hi, joint_of = [], [], [], []
+        for c, (own, mass_part, rlo, rhi, _, _, s_at, env) in enumerate(parts):
             a = np.zeros((own.shape[0], ncol))
             a[:, offsets[c] : offsets[c + 1]] = own
             a[:, self.m_col : self.t_col] = mass_part
             blocks.append(a)
             row_lo.append(rlo)
             row_hi.append(rhi)
+            joint_of.append(env)
             case = pcs[c].case
             if case.payload_share > 0:  # t ≤ (s − fixed_load)/(payload_share·g_n)
                 scale = case.payload_share * STANDARD_GRAVITY
@@ -158,17 +167,25 @@ class StanceProgram:
                 blocks.append(a)
                 row_lo.append(np.array([-np.inf]))
                 row_hi.append(np.array([-case.fixed_load / scale]))
+                joint_of.append(np.array([-1]))
         if math.isfinite(model.total_mass_max):  # Σ m ≤ budget
             a = np.zeros((1, ncol))
             a[0, self.m_col : self.t_col] = 1.0
             blocks.append(a)
             row_lo.append(np.array([-np.inf]))
             row_hi.append(np.array([model.total_mass_max * (1 + 1e-9)]))
+            joint_of.append(np.array([-1]))
         col_lo = np.concatenate([p[4] for p in parts] + [np.zeros(n), [-np.inf]])
         col_hi = np.full(ncol, np.inf)
         cost = np.zeros(ncol)
         cost[self.t_col] = 1.0
         self.n = n
+        self.col_lo, self.col_hi = col_lo.copy(), col_hi.copy()  # as of the last solve
+        self.row_hi = np.concatenate(row_hi)
+        self.a = np.vstack(blocks)
+        self.cost = cost
+        #: the joint of each mass–torque envelope row, −1 for every other row
+        self.envelope_of = np.concatenate(joint_of).astype(np.int64)
         #: the bound when the program is infeasible: some case holds nothing in every completion
         self.none = max(float(carried_payload_of(c, 0.0)) for c in self.cases)
         self.h = _highs(
@@ -176,7 +193,7 @@ class StanceProgram:
             cost,
             col_lo,
             col_hi,
-            np.vstack(blocks),
+            self.a,
             np.concatenate(row_lo),
             np.concatenate(row_hi),
         )
@@ -199,6 +216,7 @@ class StanceProgram:
         lo = np.concatenate([*t_lo, m_lo]).astype(float)
         hi = np.concatenate([*t_hi, m_hi]).astype(float)
         self.h.changeColsBounds(cols.size, cols, lo, hi)
+        self.col_lo[cols], self.col_hi[cols] = lo, hi
         self.h.run()
         status = self.h.getModelStatus()
         if status == highspy.HighsModelStatus.kOptimal:
@@ -208,6 +226,43 @@ class StanceProgram:
         if status == highspy.HighsModelStatus.kInfeasible:
             return self.none
         return math.inf
+
+    def columns(self, joints) -> np.ndarray:
+        """The columns of ``joints``: τ_j of case 1 for j in ``joints``, of case 2 …, then m_j."""
+        joints = np.asarray(joints, dtype=np.int64)
+        return np.concatenate([c + joints for c in self.tau_cols] + [self.m_col + joints])
+
+    def option_bounds(self, value: float, joints, box_lo: np.ndarray, box_hi: np.ndarray):
+        """Bounds from the last optimum's duals (``value``: its bound, :meth:`solve`) for the
+        programs that restrict the columns of ``joints`` (:meth:`columns`) to the boxes
+        ``box_lo``/``box_hi`` (O, K), one per option, inside their current bounds.
+
+        Weak duality with the row duals y' of the last optimum, the envelope rows of ``joints``
+        set to 0: every x of a restricted program has c·x ≤ Σ_i y'_i·(row bound) + Σ_k max over
+        the box of d'_k·x_k, d' = c − Aᵀy'. Against the optimum's own dual bound (y, current
+        bounds, ≈ the optimum) only the envelope rows and the columns of ``joints`` differ, so
+        bound = value − P_now + P_box. Valid for any y; the envelope rows are dropped because
+        every option's box lies under its joints' envelopes (docs/optimizer.md, item 9)."""
+        if not self.solved():
+            return np.full(box_lo.shape[0], value)
+        cols = self.columns(joints)
+        y = np.asarray(self.h.getSolution().row_dual, dtype=float)
+        d = self.cost[cols] - self.a[:, cols].T @ y
+        env = np.isin(self.envelope_of, np.asarray(joints))
+        y_env = np.where(env, y, 0.0)
+        d_box = d + self.a[:, cols].T @ y_env  # the reduced costs with those rows dropped
+        with np.errstate(invalid="ignore", over="ignore"):
+            now = float(np.maximum(y_env, 0.0) @ np.where(env, self.row_hi, 0.0))
+            now += float(_support(d, self.col_lo[cols], self.col_hi[cols]).sum())
+            box = _support(d_box, box_lo, box_hi).sum(axis=1)
+            out = value - now + box
+        out = np.where(np.isfinite(out), out, value)
+        return np.maximum(np.minimum(out + ABS_SLACK, value), self.none)
+
+
+def _support(d: np.ndarray, lo: np.ndarray, hi: np.ndarray) -> np.ndarray:
+    """max of d·x over lo ≤ x ≤ hi, elementwise (a zero price costs nothing at any bound)."""
+    return np.where(d > 0, d * hi, np.where(d < 0, d * lo, 0.0))
 
 
 def carried_payload_of(case, force: float) -> float:
