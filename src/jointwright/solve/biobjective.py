@@ -35,6 +35,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..problem import checks, feasible
+from .floor_bound import floor_applies, floor_bounds
 from .model import SizingModel, tie_tol
 from .pareto import _payload, measure_values
 from .search import search_order
@@ -47,6 +48,8 @@ SEPARABLE = ("mass", "cost")
 #: the best of them), a complete design that passed the static cases, a complete design fully
 #: checked
 NODE, SCREENED, FINAL = 0, 1, 2
+#: payload floors per partial design taken from the queue (:meth:`BiObjectiveSearch._floor_key`)
+FLOOR_LEVELS = 8
 
 
 @dataclass(frozen=True)
@@ -126,7 +129,9 @@ class BiObjectiveSearch:
         #: (:meth:`incumbent`), and its queue entry
         self.inc: tuple[float, float] | None = None
         self.inc_entry: tuple | None = None
-        self.nodes = self.scored = self.checked = 0
+        self.nodes = self.scored = self.checked = self.floor_calls = self.floor_waits = 0
+        #: payload floors (:meth:`_floor_key`) for the measures :mod:`.floor_bound` bounds
+        self.floors = floor_applies(model, metric)
         #: most queue entries taken (a stop that does not depend on the clock, for tests)
         self.max_pops: float = math.inf
         self.stopped = False
@@ -165,6 +170,16 @@ class BiObjectiveSearch:
                 child = parent.copy()
                 if options is not None:
                     child[list(self.units[level - 1])] = options[k]
+                    q = self._floor_key(child, p, m)
+                    if q == -np.inf:  # every completion is dominated
+                        continue
+                    if q < p:  # every completion of payload > q is dominated: wait at q
+                        self.floor_waits += 1
+                        entry = (parent, options[k : k + 1], np.array([q]), np.array([m]), 0)
+                        heapq.heappush(
+                            heap, (-q, negm, -float(level), 0.0, next(tick), NODE, entry, level)
+                        )
+                        continue
                 self._expand(heap, tick, child, level)
             elif kind == SCREENED:  # static cases passed: the costly ones decide
                 full = self.model.score(idx[None, :], full=True)
@@ -207,6 +222,32 @@ class BiObjectiveSearch:
             open_p,
             open_m,
         )
+
+    def _floor_key(self, child: np.ndarray, p: float, m: float) -> float:
+        """The payload below which the partial design ``child`` (box (p, m)) may still hold a
+        front point (docs/frontier.md, "Payload floors"). With floors f_1 > … > f_L = 0 below p
+        and b_i bounding the measure of every completion of payload ≥ f_i
+        (:func:`.floor_bound.floor_bounds`), the completions of payload in (f_(i+1), f_i] lie
+        in the box (f_i, b_(i+1)), those above f_1 in (p, b_1), those at most f_L in (f_L, m).
+        Returns p when the first box is not dominated, else the f_i of the first box that is
+        not (every completion above it is dominated by, or equal to, a known point or strictly
+        beaten by the incumbent); the remaining completions have payload ≤ f_i and measure
+        bound m."""
+        if not self.floors or not (self.fp.size or self.inc is not None):
+            return p
+        if not (math.isfinite(p) and p > 0):
+            return p
+        f = p * (1.0 - (np.arange(1, FLOOR_LEVELS + 1) / FLOOR_LEVELS) ** 2)
+        b = floor_bounds(self.model, self.metric, self.case, child, f, self.st)
+        if b is None:
+            return p
+        self.floor_calls += 1
+        tops = np.concatenate([[p], f])
+        lows = np.concatenate([b, [m]])
+        for i in range(tops.size):
+            if lows[i] > -np.inf and not self.dominated1(float(tops[i]), float(lows[i])):
+                return p if i == 0 else float(tops[i])
+        return -np.inf  # every completion is dominated
 
     def _point(self, index: np.ndarray):
         """(payload, internal measure, mass, inertia) of a fully checked feasible design, or
