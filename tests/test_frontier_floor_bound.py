@@ -62,19 +62,28 @@ def test_floor_bound_holds_for_every_completion_that_reaches_the_floor(leg, seed
         idx = np.full(model.n, -1, dtype=np.int64)
         for j in rng.choice(model.n, int(rng.integers(0, model.n)), replace=False):
             idx[j] = rng.choice(model.candidates[j])
+        free = np.flatnonzero(idx < 0)
+        if free.size == 0:
+            continue
+        unit = (int(rng.choice(free)),)
+        options = model.candidates[unit[0]]
         rows = feasible & np.all((idx < 0) | (grid == idx), axis=1)
         pay = scored.objective[rows]
-        floors = np.concatenate([[0.0], np.quantile(pay, [0.3, 0.7, 1.0]) if pay.size else []])
-        floors = np.concatenate([floors, [float(pay.max()) * 1.01 + 1.0 if pay.size else 1.0]])
-        b = floor_bounds(model, metric, case, idx, floors, st)
-        assert b is not None and b.shape == floors.shape
-        for f, bound in zip(floors, b, strict=True):
-            reach = good[rows][pay >= f]
-            if bound == -np.inf:  # no completion reaches the floor
-                assert reach.size == 0
-                continue
-            compared += reach.size
-            assert np.all(reach <= bound + 1e-7 * max(1.0, abs(bound)))
+        if pay.size == 0:
+            continue
+        floors = np.concatenate([[0.0], np.quantile(pay, [0.3, 0.7, 1.0])])
+        floors = np.sort(np.concatenate([floors, [float(pay.max()) * 1.01 + 1.0]]))[::-1]
+        b = floor_bounds(model, metric, case, idx, unit, options, floors, st)
+        assert b is not None and b.shape == (options.size, floors.size)
+        for k, option in enumerate(options):
+            mine = rows & (grid[:, unit[0]] == option)
+            for f, bound in zip(floors, b[k], strict=True):
+                reach = good[mine][scored.objective[mine] >= f]
+                if bound == -np.inf:  # no completion reaches the floor
+                    assert reach.size == 0
+                    continue
+                compared += reach.size
+                assert np.all(reach <= bound + 1e-7 * max(1.0, abs(bound)))
     assert compared > 0
 
 

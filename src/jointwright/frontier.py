@@ -551,13 +551,24 @@ def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=
     ``upper``: a known bound from the neighbouring point, which ends the search when reached.
     Only the optimal value matters here, so ties are not searched.
     """
+    from .options import OutOfTime
     from .sizing import build_model, design_of, read_objective, units_of
     from .solve.search import BranchAndBound
 
+    # the limit covers the model's preparation too (filters and tightening take seconds on
+    # large catalogs): the search gets what is left of it
+    end = None if time_limit is None else time.perf_counter() + time_limit
     p = project if payload_floor is None else with_payload_floor(project, payload_floor)
     cfg = read_objective(project)
-    model, _ = build_model(p, kind, cfg["pin"], cfg["exclude"], cfg["shared"], table=table)
+    try:
+        model, _ = build_model(
+            p, kind, cfg["pin"], cfg["exclude"], cfg["shared"], table=table, deadline=end
+        )
+    except OutOfTime:
+        return "time_limit", None, None, None
     units = units_of(model.n, model.shared)
+    if end is not None:
+        time_limit = max(end - time.perf_counter(), 1e-3)
     if backend == "search" or "@" in kind:
         out = BranchAndBound(model, units, time_limit=time_limit, ties=False, upper=upper).run()
     else:

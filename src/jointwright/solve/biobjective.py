@@ -50,6 +50,8 @@ SEPARABLE = ("mass", "cost")
 NODE, SCREENED, FINAL = 0, 1, 2
 #: payload floors per partial design taken from the queue (:meth:`BiObjectiveSearch._floor_key`)
 FLOOR_LEVELS = 8
+#: children whose floor bounds are computed per oracle call
+FLOOR_CHUNK = 256
 
 
 @dataclass(frozen=True)
@@ -145,7 +147,7 @@ class BiObjectiveSearch:
         opts = [self._unit_options(u) for u in self.units]
         if all(o.size for o in opts):
             top = 1.0 if self.metric == "imf" else 0.0  # the trivial measure bound
-            root = (np.full(n, -1, dtype=np.int64), None, [self.cap], [top], 0)
+            root = (np.full(n, -1, dtype=np.int64), None, [self.cap], [top], 0, None)
             heap.append((-self.cap, -top, 0.0, 0.0, next(tick), NODE, root, 0))
             if self.inc_entry is not None:
                 heapq.heappush(heap, self.inc_entry)
@@ -166,16 +168,17 @@ class BiObjectiveSearch:
             if self.dominated1(p, m):
                 continue
             if kind == NODE:
-                parent, options, _pb, _mbs, k = idx
+                parent, options, _pb, _mbs, k, stairs = idx
                 child = parent.copy()
                 if options is not None:
                     child[list(self.units[level - 1])] = options[k]
-                    q = self._floor_key(child, p, m)
+                    q = self._floor_key(idx, level, p, m)
                     if q == -np.inf:  # every completion is dominated
                         continue
                     if q < p:  # every completion of payload > q is dominated: wait at q
                         self.floor_waits += 1
-                        entry = (parent, options[k : k + 1], np.array([q]), np.array([m]), 0)
+                        one = {"grid": stairs["grid"], "b": stairs["b"][k : k + 1]}
+                        entry = (parent, options[k : k + 1], np.array([q]), np.array([m]), 0, one)
                         heapq.heappush(
                             heap, (-q, negm, -float(level), 0.0, next(tick), NODE, entry, level)
                         )
@@ -194,7 +197,7 @@ class BiObjectiveSearch:
             keys = [h[:2] for h in heap if h[5] != NODE] + [h[:2] for h in self.leaves]
             for h in heap:  # every child a sibling entry still holds
                 if h[5] == NODE:
-                    _parent, _options, pb, mbs, k = h[6]
+                    _parent, _options, pb, mbs, k, _stairs = h[6]
                     keys += [(-pb[i], -mbs[i]) for i in range(k, len(pb))]
             rest = -np.array(keys, dtype=float).reshape(-1, 2)
             live = rest[~self.dominated(rest[:, 0], rest[:, 1])]
@@ -223,31 +226,53 @@ class BiObjectiveSearch:
             open_m,
         )
 
-    def _floor_key(self, child: np.ndarray, p: float, m: float) -> float:
-        """The payload below which the partial design ``child`` (box (p, m)) may still hold a
-        front point (docs/frontier.md, "Payload floors"). With floors f_1 > … > f_L = 0 below p
+    def _floor_key(self, entry: tuple, level: int, p: float, m: float) -> float:
+        """The payload below which child ``k`` of a sibling ``entry`` (box (p, m)) may still
+        hold a front point (docs/frontier.md, "Payload floors"). With floors f_1 > … > f_L = 0
         and b_i bounding the measure of every completion of payload ≥ f_i
         (:func:`.floor_bound.floor_bounds`), the completions of payload in (f_(i+1), f_i] lie
-        in the box (f_i, b_(i+1)), those above f_1 in (p, b_1), those at most f_L in (f_L, m).
-        Returns p when the first box is not dominated, else the f_i of the first box that is
-        not (every completion above it is dominated by, or equal to, a known point or strictly
-        beaten by the incumbent); the remaining completions have payload ≤ f_i and measure
-        bound m."""
+        in the box (f_i, b_(i+1)), those above the first floor below p in (p, b), those at
+        most f_L in (f_L, m). Returns p when the first box is not dominated, else the top of
+        the first box that is not (every completion above it is dominated by, or equal to, a
+        known point or strictly beaten by the incumbent; the rest have payload ≤ it and
+        measure bound m), −inf when none is. The floors of a sibling entry are one grid below
+        its best child's payload bound; the children's bounds are computed :data:`FLOOR_CHUNK`
+        at a time in one oracle call, once, and kept with the entry."""
+        parent, options, pb, _mbs, k, stairs = entry
         if not self.floors or not (self.fp.size or self.inc is not None):
             return p
         if not (math.isfinite(p) and p > 0):
             return p
-        f = p * (1.0 - (np.arange(1, FLOOR_LEVELS + 1) / FLOOR_LEVELS) ** 2)
-        b = floor_bounds(self.model, self.metric, self.case, child, f, self.st)
-        if b is None:
-            return p
-        self.floor_calls += 1
-        tops = np.concatenate([[p], f])
-        lows = np.concatenate([b, [m]])
+        if stairs["grid"] is None:
+            top = float(pb[0]) if math.isfinite(pb[0]) else p
+            frac = np.arange(1, FLOOR_LEVELS + 1) / FLOOR_LEVELS
+            stairs["grid"] = top * (1.0 - frac**2)
+            stairs["b"] = np.full((len(options), FLOOR_LEVELS), np.nan)
+        grid, b = stairs["grid"], stairs["b"]
+        if np.isnan(b[k, 0]):
+            end = min(k + FLOOR_CHUNK, len(options))
+            got = floor_bounds(
+                self.model,
+                self.metric,
+                self.case,
+                parent,
+                self.units[level - 1],
+                options[k:end],
+                grid,
+                self.st,
+            )
+            if got is None:
+                self.floors = False
+                return p
+            self.floor_calls += 1
+            b[k:end] = got
+        below = grid < p - tie_tol(p)
+        tops = np.concatenate([[p], grid[below]])
+        lows = np.concatenate([b[k][below], [m]])
         for i in range(tops.size):
             if lows[i] > -np.inf and not self.dominated1(float(tops[i]), float(lows[i])):
                 return p if i == 0 else float(tops[i])
-        return -np.inf  # every completion is dominated
+        return -np.inf
 
     def _point(self, index: np.ndarray):
         """(payload, internal measure, mass, inertia) of a fully checked feasible design, or
@@ -404,7 +429,7 @@ class BiObjectiveSearch:
                     0.0,
                     next(tick),
                     NODE,
-                    (idx, opts, p, mb, 0),
+                    (idx, opts, p, mb, 0, {"grid": None, "b": None}),
                     level + 1,
                 ),
             )
@@ -417,7 +442,7 @@ class BiObjectiveSearch:
     def _next_sibling(self, heap: list, tick, entry: tuple, level: int) -> None:
         """Queue the next child of a sibling entry (the one after ``entry``'s), skipping the
         children the front already dominates (the front only grows: they stay dominated)."""
-        parent, options, pb, mbs, k = entry
+        parent, options, pb, mbs, k, stairs = entry
         k += 1
         while k < len(pb) and self.dominated1(float(pb[k]), float(mbs[k])):
             k += 1
@@ -431,7 +456,7 @@ class BiObjectiveSearch:
                     0.0,
                     next(tick),
                     NODE,
-                    (parent, options, pb, mbs, k),
+                    (parent, options, pb, mbs, k, stairs),
                     level,
                 ),
             )

@@ -47,24 +47,21 @@ def floor_applies(model, metric: str) -> bool:
     return True
 
 
-def useful_extremes(model, idx: np.ndarray, floors: np.ndarray, st: dict) -> dict:
-    """Per floor (L,) and joint: the extremes of the free joints' useful options (L, n) —
-    ``mmin``, ``mmax``, ``rmin``, ``cmin`` — and ``empty`` (L,): some free joint has no useful
-    option (no completion reaches that floor). Assigned joints (``idx`` ≥ 0) keep their own
-    option's values."""
+def useful_extremes(model, known: np.ndarray, free, floors: np.ndarray, st: dict) -> dict:
+    """Per floor (L,) the extremes (L, n) of the useful options of the joints ``free`` —
+    ``mmin``, ``mmax``, ``rmin``, ``cmin`` — and ``empty`` (L,): one of them has no useful
+    option (no completion reaches that floor). The own bounds take the joints of ``known``
+    (index ≥ 0) at their option's mass and every other joint over its whole mass range; the
+    rows' other columns are left 0. Empty dict without payload terms."""
     n, L = model.n, floors.size
-    A = np.flatnonzero(idx >= 0)
-    F = np.flatnonzero(idx < 0)
+    A = np.flatnonzero(known >= 0)
     node = dict(st)
     node["mmin"], node["mmax"] = st["mmin"].copy(), st["mmax"].copy()
-    node["mmin"][A] = node["mmax"][A] = model.mass[idx[A]]
+    node["mmin"][A] = node["mmax"][A] = model.mass[known[A]]
     out = {k: np.zeros((L, n)) for k in ("mmin", "mmax", "rmin", "cmin")}
-    for key, values in (("mmin", model.mass), ("mmax", model.mass), ("rmin", model.reflected)):
-        out[key][:, A] = values[idx[A]]
-    out["cmin"][:, A] = model.cost[idx[A]]
     empty = np.zeros(L, dtype=bool)
     slack = 1e-9 * np.maximum(1.0, np.abs(floors)) + 1e-12
-    for j in F:
+    for j in free:
         cands = model.candidates[j]
         got = model.own_order(int(j), cands, node)
         if got is None:
@@ -84,33 +81,58 @@ def useful_extremes(model, idx: np.ndarray, floors: np.ndarray, st: dict) -> dic
     return out
 
 
-def floor_bounds(model, metric: str, case: str | None, idx: np.ndarray, floors, st: dict):
-    """Bounds (L,) on the measure of every completion of the partial design ``idx`` (−1 at the
-    free joints) whose payload objective reaches each of ``floors``, in the frontier's internal
-    sense (larger is better: −effective mass, −mass, −cost, +IMF); −inf where no completion
-    reaches the floor. None where :func:`floor_applies` is False."""
+def floor_bounds(
+    model,
+    metric: str,
+    case: str | None,
+    parent: np.ndarray,
+    unit,
+    options: np.ndarray,
+    floors,
+    st: dict,
+):
+    """Bounds (K, L) on the measure of every completion of each child of ``parent`` (−1 at the
+    free joints; child k gives the joints of ``unit`` option ``options[k]``) whose payload
+    objective reaches each of ``floors`` (L,), in the frontier's internal sense (larger is
+    better: −effective mass, −mass, −cost, +IMF); −inf where no completion reaches the floor.
+    The useful options of the free joints are taken over the parent's completions (the unit's
+    mass over its whole range in the own bounds), which holds for every child. None where
+    :func:`floor_applies` is False or a joint has no candidates."""
     floors = np.asarray(floors, dtype=float)
+    options = np.asarray(options, dtype=np.int64)
     if not floor_applies(model, metric):
         return None
-    ext = useful_extremes(model, idx, floors, st)
+    unit = list(unit)
+    free = [int(j) for j in np.flatnonzero(parent < 0) if j not in unit]
+    ext = useful_extremes(model, parent, free, floors, st)
     if not ext:
         return None
-    L = floors.size
+    K, L = options.size, floors.size
+    out = np.full((K, L), -np.inf)
     live = ~ext["empty"]
-    out = np.full(L, -np.inf)
-    if not live.any():
+    if not live.any() or K == 0:
         return out
+    fl = np.flatnonzero(live)
+    rows = np.broadcast_to(parent, (K, fl.size, model.n)).copy()
+    rows[:, :, unit] = options[:, None, None]
+    rows = rows.reshape(-1, model.n)
+    ends = {}
+    for key in ("mmin", "mmax", "rmin", "cmin"):
+        e = np.broadcast_to(ext[key][fl], (K, fl.size, model.n)).reshape(-1, model.n)
+        ends[key] = np.where(rows >= 0, 0.0, e)
     if metric in ("mass", "cost"):
-        key = "mmin" if metric == "mass" else "cmin"
-        out[live] = -ext[key][live].sum(axis=1)
-        return out
-    rows = np.broadcast_to(idx, (int(live.sum()), model.n)).copy()
-    if metric == "effective_mass":
-        em = impact_bound.virtual_effective_mass(model, rows, ext["mmin"][live], ext["rmin"][live])
-        out[live] = -em[case]
-        return out
-    got = impact_bound._impact_bounds_at(
-        model, rows.shape[0], ext["mmin"][live], ext["mmax"][live], ext["rmin"][live]
-    )
-    out[live] = got[case][0]
+        values = model.mass if metric == "mass" else model.cost
+        own = np.where(rows >= 0, values[np.maximum(rows, 0)], 0.0).sum(axis=1)
+        got = -(own + ends["mmin" if metric == "mass" else "cmin"].sum(axis=1))
+    elif metric == "effective_mass":
+        em = impact_bound.virtual_effective_mass(model, rows, ends["mmin"], ends["rmin"])
+        got = -em[case]
+    else:
+        safe = np.maximum(rows, 0)
+        assigned = rows >= 0
+        m_lo = np.where(assigned, model.mass[safe], ends["mmin"])
+        m_hi = np.where(assigned, model.mass[safe], ends["mmax"])
+        r_lo = np.where(assigned, model.reflected[safe], ends["rmin"])
+        got = impact_bound._impact_bounds_at(model, rows.shape[0], m_lo, m_hi, r_lo)[case][0]
+    out[:, fl] = np.asarray(got, dtype=float).reshape(K, fl.size)
     return out
