@@ -126,13 +126,13 @@ def floor_bounds(
         got = -(own + ends["mmin" if metric == "mass" else "cmin"].sum(axis=1))
     elif metric == "effective_mass":
         em = impact_bound.virtual_effective_mass(model, rows, ends["mmin"], ends["rmin"])
-        got = -em[case]
+        got = -em[str(case)]
     else:
         safe = np.maximum(rows, 0)
         assigned = rows >= 0
         m_lo = np.where(assigned, model.mass[safe], ends["mmin"])
         m_hi = np.where(assigned, model.mass[safe], ends["mmax"])
         r_lo = np.where(assigned, model.reflected[safe], ends["rmin"])
-        got = impact_bound._impact_bounds_at(model, rows.shape[0], m_lo, m_hi, r_lo)[case][0]
+        got = impact_bound._impact_bounds_at(model, rows.shape[0], m_lo, m_hi, r_lo)[str(case)][0]
     out[:, fl] = np.asarray(got, dtype=float).reshape(K, fl.size)
     return out
