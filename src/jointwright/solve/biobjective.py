@@ -173,16 +173,19 @@ class BiObjectiveSearch(FrontArchive):
         open_p = open_m = None
         if self.stopped:
             keys = [h[:2] for h in heap if h[5] != NODE] + [h[:2] for h in self.leaves]
-            for h in heap:  # every child a sibling entry still holds
+            single = -np.array(keys, dtype=float).reshape(-1, 2)
+            ps, ms = [single[:, 0]], [single[:, 1]]
+            for h in heap:  # every child a sibling entry still holds (arrays: millions of them)
                 if h[5] == NODE:
                     _parent, _options, pb, mbs, k, _stairs = h[6]
-                    keys += [(-pb[i], -mbs[i]) for i in range(k, len(pb))]
-            rest = -np.array(keys, dtype=float).reshape(-1, 2)
-            live = rest[~self.dominated(rest[:, 0], rest[:, 1])]
-            if live.size:
-                open_p = float(live[:, 0].max())
-                open_m = self.sign * float(live[:, 1].max()) + 0.0  # no negative zero
-            self.stopped = bool(live.size)
+                    ps.append(np.asarray(pb[k:], dtype=float))
+                    ms.append(np.asarray(mbs[k:], dtype=float))
+            rest_p, rest_m = np.concatenate(ps), np.concatenate(ms)
+            live = ~self.dominated(rest_p, rest_m)
+            if live.any():
+                open_p = float(rest_p[live].max())
+                open_m = self.sign * float(rest_m[live].max()) + 0.0  # no negative zero
+            self.stopped = bool(live.any())
         order = np.argsort(-self.fp, kind="stable")
         pts = tuple(
             (
