@@ -5,10 +5,10 @@ front point.
 References: the Loewner-order monotonicity of the effective mass 1/(uᵀJH⁻¹Jᵀu) and of the
 impact mitigation factor in the mass matrix H (Wensing et al., "Proprioceptive actuator design
 in the MIT Cheetah", IEEE T-RO 2017, for the IMF; Khatib, "Inertial properties in robotic
-manipulation", IJRR 1995, for the operational-space inertia) — checked here by enumeration:
-every completion of seeded small instances is scored by the evaluator, and the bound must hold
-for every one whose payload reaches the floor. The front is compared with brute force as in
-tests/test_frontier_branch_and_bound.py (the definition of Pareto optimality).
+manipulation", IJRR 1995, for the operational-space inertia; both citations [mem]) — checked
+here by enumeration: every completion of seeded small instances is scored by the evaluator, and
+the bound must hold for every one whose payload reaches the floor. The front is compared with
+brute force as in tests/test_frontier_branch_and_bound.py (the definition of Pareto optimality).
 """
 
 from __future__ import annotations

@@ -1,5 +1,5 @@
 """Measure bounds over the completions of a partial design that reach a payload floor
-(docs/optimizer.md, item 12; docs/frontier.md, "Payload floors").
+(docs/optimizer.md and docs/frontier.md, "Payload floors").
 
 A completion whose payload objective reaches f uses, at every free joint j, an option whose own
 payload bound reaches f (:meth:`SizingModel.own_order`, the bias taken over the free joints'
