@@ -172,15 +172,20 @@ class BiObjectiveSearch(FrontArchive):
                 self._add(p, m, idx, mass, refl)
         open_p = open_m = None
         if self.stopped:
-            keys = [h[:2] for h in heap if h[5] != NODE] + [h[:2] for h in self.leaves]
+            # every entry's box; a sibling entry holds one box per child not yet taken (arrays:
+            # millions of them), an entry of one child (a waiting one) its key
+            keys = [h[:2] for h in self.leaves]
+            ps, ms = [], []
+            for h in heap:
+                pb = h[6][2] if h[5] == NODE else ()
+                if len(pb) - (h[6][4] if h[5] == NODE else 0) > 1:
+                    ps.append(np.asarray(pb[h[6][4] :], dtype=float))
+                    ms.append(np.asarray(h[6][3][h[6][4] :], dtype=float))
+                else:
+                    keys.append(h[:2])
             single = -np.array(keys, dtype=float).reshape(-1, 2)
-            ps, ms = [single[:, 0]], [single[:, 1]]
-            for h in heap:  # every child a sibling entry still holds (arrays: millions of them)
-                if h[5] == NODE:
-                    _parent, _options, pb, mbs, k, _stairs = h[6]
-                    ps.append(np.asarray(pb[k:], dtype=float))
-                    ms.append(np.asarray(mbs[k:], dtype=float))
-            rest_p, rest_m = np.concatenate(ps), np.concatenate(ms)
+            rest_p = np.concatenate([single[:, 0], *ps])
+            rest_m = np.concatenate([single[:, 1], *ms])
             live = ~self.dominated(rest_p, rest_m)
             if live.any():
                 open_p = float(rest_p[live].max())
