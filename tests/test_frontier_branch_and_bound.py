@@ -154,7 +154,7 @@ def test_front_seeded_with_its_strongest_point_equals_brute_force(leg, seed, mea
     # large option spaces start from the two single-objective solves (the payload optimum caps
     # the boxes; the best measure at it is a front point, or its design an incumbent); forced
     # here on small instances, the front is still the brute-force non-dominated set
-    import jointwright.frontier as fr
+    import jointwright.frontier_methods as fr
 
     monkeypatch.setattr(fr, "SEED_MIN", 0)
     p = random_instance(leg, seed, keep_duty=bool(seed % 2))

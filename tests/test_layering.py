@@ -44,6 +44,8 @@ LAYERS = {
     "sizing": 8,
     "objective": 8,
     "frontier": 10,
+    "frontier_methods": 10,
+    "frontier_result": 10,
     "study": 11,
     "report": 11,
     "commands": 12,

@@ -25,7 +25,6 @@ missing.
 
 from __future__ import annotations
 
-import copy
 import heapq
 import itertools
 import math
@@ -35,18 +34,19 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..problem import checks, feasible
+from .bound_models import SEPARABLE, measure_model, shared_payload_bounds
+from .floor_bound import floor_applies, floor_bounds
+from .front_archive import FINAL, NODE, SCREENED, FrontArchive
 from .model import SizingModel, tie_tol
 from .pareto import _payload, measure_values
 from .search import search_order
 
 #: complete designs scored per oracle call at the last level
 LEAF_CHUNK = 512
-#: the robot-level measures: sums of per-joint values, bounded exactly by the per-joint minima
-SEPARABLE = ("mass", "cost")
-#: kinds of queue entries: the children of a partial design not yet taken (one entry, keyed by
-#: the best of them), a complete design that passed the static cases, a complete design fully
-#: checked
-NODE, SCREENED, FINAL = 0, 1, 2
+#: payload floors per partial design taken from the queue (:meth:`BiObjectiveSearch._floor_key`)
+FLOOR_LEVELS = 8
+#: children whose floor bounds are computed per oracle call
+FLOOR_CHUNK = 256
 
 
 @dataclass(frozen=True)
@@ -65,24 +65,7 @@ class BiOutcome:
     open_measure: float | None
 
 
-def measure_model(model: SizingModel, case: str | None, metric: str) -> SizingModel:
-    """The payload model with its measure set to ``metric`` at ``case`` (for the measure bounds
-    of :meth:`SizingModel.child_bounds` and :meth:`SizingModel.costly_ok`); shares every array.
-    The robot-level measures (total mass, cost; ``case`` None) are the model's own objectives
-    "mass" and "cost", whose bound is the exact sum of the per-joint least values."""
-    m = copy.copy(model)
-    if metric in SEPARABLE:
-        m.kind, m.measure = metric, None
-    else:
-        m.kind = f"{metric}@{case}"
-        m.measure = (metric, case, 1.0 if metric == "imf" else -1.0)
-    # the duty-cycle bound costs a trajectory pass per node and only removes designs that the
-    # costly check at the leaves rejects anyway: left out of the inner nodes (fewer cuts only)
-    m.duty_bound = None
-    return m
-
-
-class BiObjectiveSearch:
+class BiObjectiveSearch(FrontArchive):
     """Best-first bi-objective branch and bound; see the module docstring.
 
     ``model``: built for the payload objective with the measure's own limit removed;
@@ -126,7 +109,9 @@ class BiObjectiveSearch:
         #: (:meth:`incumbent`), and its queue entry
         self.inc: tuple[float, float] | None = None
         self.inc_entry: tuple | None = None
-        self.nodes = self.scored = self.checked = 0
+        self.nodes = self.scored = self.checked = self.floor_calls = self.floor_waits = 0
+        #: payload floors (:meth:`_floor_key`) for the measures :mod:`.floor_bound` bounds
+        self.floors = floor_applies(model, metric)
         #: most queue entries taken (a stop that does not depend on the clock, for tests)
         self.max_pops: float = math.inf
         self.stopped = False
@@ -140,7 +125,7 @@ class BiObjectiveSearch:
         opts = [self._unit_options(u) for u in self.units]
         if all(o.size for o in opts):
             top = 1.0 if self.metric == "imf" else 0.0  # the trivial measure bound
-            root = (np.full(n, -1, dtype=np.int64), None, [self.cap], [top], 0)
+            root = (np.full(n, -1, dtype=np.int64), None, [self.cap], [top], 0, None)
             heap.append((-self.cap, -top, 0.0, 0.0, next(tick), NODE, root, 0))
             if self.inc_entry is not None:
                 heapq.heappush(heap, self.inc_entry)
@@ -161,10 +146,21 @@ class BiObjectiveSearch:
             if self.dominated1(p, m):
                 continue
             if kind == NODE:
-                parent, options, _pb, _mbs, k = idx
+                parent, options, _pb, _mbs, k, stairs = idx
                 child = parent.copy()
                 if options is not None:
                     child[list(self.units[level - 1])] = options[k]
+                    q = self._floor_key(idx, level, p, m)
+                    if q == -np.inf:  # every completion is dominated
+                        continue
+                    if q < p:  # every completion of payload > q is dominated: wait at q
+                        self.floor_waits += 1
+                        one = {"grid": stairs["grid"], "b": stairs["b"][k : k + 1]}
+                        entry = (parent, options[k : k + 1], np.array([q]), np.array([m]), 0, one)
+                        heapq.heappush(
+                            heap, (-q, negm, -float(level), 0.0, next(tick), NODE, entry, level)
+                        )
+                        continue
                 self._expand(heap, tick, child, level)
             elif kind == SCREENED:  # static cases passed: the costly ones decide
                 full = self.model.score(idx[None, :], full=True)
@@ -176,17 +172,25 @@ class BiObjectiveSearch:
                 self._add(p, m, idx, mass, refl)
         open_p = open_m = None
         if self.stopped:
-            keys = [h[:2] for h in heap if h[5] != NODE] + [h[:2] for h in self.leaves]
-            for h in heap:  # every child a sibling entry still holds
-                if h[5] == NODE:
-                    _parent, _options, pb, mbs, k = h[6]
-                    keys += [(-pb[i], -mbs[i]) for i in range(k, len(pb))]
-            rest = -np.array(keys, dtype=float).reshape(-1, 2)
-            live = rest[~self.dominated(rest[:, 0], rest[:, 1])]
-            if live.size:
-                open_p = float(live[:, 0].max())
-                open_m = self.sign * float(live[:, 1].max()) + 0.0  # no negative zero
-            self.stopped = bool(live.size)
+            # every entry's box; a sibling entry holds one box per child not yet taken (arrays:
+            # millions of them), an entry of one child (a waiting one) its key
+            keys = [h[:2] for h in self.leaves]
+            ps, ms = [], []
+            for h in heap:
+                pb = h[6][2] if h[5] == NODE else ()
+                if len(pb) - (h[6][4] if h[5] == NODE else 0) > 1:
+                    ps.append(np.asarray(pb[h[6][4] :], dtype=float))
+                    ms.append(np.asarray(h[6][3][h[6][4] :], dtype=float))
+                else:
+                    keys.append(h[:2])
+            single = -np.array(keys, dtype=float).reshape(-1, 2)
+            rest_p = np.concatenate([single[:, 0], *ps])
+            rest_m = np.concatenate([single[:, 1], *ms])
+            live = ~self.dominated(rest_p, rest_m)
+            if live.any():
+                open_p = float(rest_p[live].max())
+                open_m = self.sign * float(rest_m[live].max()) + 0.0  # no negative zero
+            self.stopped = bool(live.any())
         order = np.argsort(-self.fp, kind="stable")
         pts = tuple(
             (
@@ -208,103 +212,59 @@ class BiObjectiveSearch:
             open_m,
         )
 
-    def _point(self, index: np.ndarray):
-        """(payload, internal measure, mass, inertia) of a fully checked feasible design, or
-        None."""
-        model = self.model
-        index = np.asarray(index, dtype=np.int64)[None, :]
-        full = model.score(index, full=True)
-        if not full.feasible[0]:
-            return None
-        arrays = model.table.arrays(index)
-        ev = model.static_evaluator.evaluate(arrays, detail=False)
-        m = self.sign * float(measure_values(arrays, ev, self.case, self.metric)[0])
-        p = float(full.objective[0])
-        if not (math.isfinite(p) and math.isfinite(m)):
-            return None
-        return p, m, float(full.mass[0]), float(full.reflected[0])
-
-    def seed(self, index: np.ndarray) -> bool:
-        """Start from a proven front point: ``index`` has the largest payload of all designs
-        and the best measure among those of that payload (two single-objective searches, the
-        sweep's first step). No design has more payload, so the cap falls to it, and every box
-        whose measure bound is no better is dominated from the start."""
-        point = self._point(index)
-        if point is None:
-            return False
-        p, m, mass, refl = point
-        self.cap = min(self.cap, p + tie_tol(p))
-        self._add(p, m, np.asarray(index, dtype=np.int64).copy(), mass, refl)
-        return True
-
-    def incumbent(self, index: np.ndarray) -> bool:
-        """Start from a feasible design of largest payload (the single-objective search's, the
-        sweep's first step). Its point (P, μ) prunes every box that it beats strictly in
-        measure with payload bound ≤ P: every design inside has payload ≤ P and a worse
-        measure, so none is on the front. Boxes equal to it in measure stay, so the point at
-        payload P with the best measure is still found; the design itself waits in the queue
-        as a fully checked entry and joins the front when it reaches the head, unless a design
-        of the same payload and a better measure came first. Of two incumbents the one of
-        larger payload, then better measure, stays. Returns whether it was taken."""
-        point = self._point(index)
-        if point is None:
-            return False
-        p, m, mass, refl = point
-        if self.inc is not None and (self.inc[0], self.inc[1]) >= (p, m):
-            return False
-        self.inc = (p, m)
-        idx = np.asarray(index, dtype=np.int64).copy()
-        self.inc_entry = (-p, -m, mass, refl, -1, FINAL, idx, len(self.units))
-        return True
-
-    def _add(self, p: float, m: float, idx: np.ndarray, mass: float, refl: float) -> None:
-        """A fully checked design joins the front: every design of larger payload is known, so
-        it is final. Payloads within the tie tolerance of the last point are one point (the
-        better measure stays, as in :func:`.pareto._front`)."""
-        if self.fp.size and abs(self.fp[0] - p) <= tie_tol(self.fp[0]):
-            self.fp, self.fm, self.fi = self.fp[1:], self.fm[1:], self.fi[1:]
-            self.fmass, self.frefl = self.fmass[1:], self.frefl[1:]
-        self.fp = np.concatenate([[p], self.fp])
-        self.fm = np.concatenate([[m], self.fm])
-        self.fi = np.concatenate([idx[None, :], self.fi])
-        self.fmass = np.concatenate([[mass], self.fmass])
-        self.frefl = np.concatenate([[refl], self.frefl])
+    def _floor_key(self, entry: tuple, level: int, p: float, m: float) -> float:
+        """The payload below which child ``k`` of a sibling ``entry`` (box (p, m)) may still
+        hold a front point (docs/frontier.md, "Payload floors"). With floors f_1 > … > f_L = 0
+        and b_i bounding the measure of every completion of payload ≥ f_i
+        (:func:`.floor_bound.floor_bounds`), the completions of payload in (f_(i+1), f_i] lie
+        in the box (f_i, b_(i+1)), those above the first floor below p in (p, b), those at
+        most f_L in (f_L, m). Returns p when the first box is not dominated, else the top of
+        the first box that is not (every completion above it is dominated by, or equal to, a
+        known point or strictly beaten by the incumbent; the rest have payload ≤ it and
+        measure bound m), −inf when none is. The floors of a sibling entry are one grid below
+        its best child's payload bound; the children's bounds are computed :data:`FLOOR_CHUNK`
+        at a time in one oracle call, once, and kept with the entry."""
+        parent, options, pb, _mbs, k, stairs = entry
+        if not self.floors or not (self.fp.size or self.inc is not None):
+            return p
+        if not (math.isfinite(p) and p > 0):
+            return p
+        if stairs["grid"] is None:
+            top = float(pb[0]) if math.isfinite(pb[0]) else p
+            frac = np.arange(1, FLOOR_LEVELS + 1) / FLOOR_LEVELS
+            stairs["grid"] = top * (1.0 - frac**2)
+            stairs["b"] = np.full((len(options), FLOOR_LEVELS), np.nan)
+        grid, b = stairs["grid"], stairs["b"]
+        if np.isnan(b[k, 0]):
+            end = min(k + FLOOR_CHUNK, len(options))
+            got = floor_bounds(
+                self.model,
+                self.metric,
+                self.case,
+                parent,
+                self.units[level - 1],
+                options[k:end],
+                grid,
+                self.st,
+            )
+            if got is None:
+                self.floors = False
+                return p
+            self.floor_calls += 1
+            b[k:end] = got
+        below = grid < p - tie_tol(p)
+        tops = np.concatenate([[p], grid[below]])
+        lows = np.concatenate([b[k][below], [m]])
+        for i in range(tops.size):
+            if lows[i] > -np.inf and not self.dominated1(float(tops[i]), float(lows[i])):
+                return p if i == 0 else float(tops[i])
+        return -np.inf
 
     def _unit_options(self, unit) -> np.ndarray:
         opts = self.model.candidates[unit[0]]
         for j in unit[1:]:
             opts = np.intersect1d(opts, self.model.candidates[j])
         return opts
-
-    # --- dominance by the current front --------------------------------------------------------
-    def dominated(self, p: np.ndarray, m: np.ndarray) -> np.ndarray:
-        """Whether a front point weakly dominates each box corner (p, m), within the tie
-        tolerance on payload (payloads that close count as one point, docs/frontier.md)."""
-        out = np.zeros(p.shape, dtype=bool)
-        if self.inc is not None:  # beaten strictly in measure by a known feasible design
-            ip, im = self.inc
-            out = (p <= ip + tie_tol(ip)) & (m < im - _mtol(im))
-        if self.fp.size == 0:
-            return out
-        tol = np.where(np.isfinite(p), 1e-9 * np.maximum(1.0, np.abs(p)), 0.0)
-        # front sorted by payload ascending has its measure descending: the first front point
-        # with payload ≥ p − tol has the best measure among all those with payload ≥ p − tol
-        k = np.searchsorted(self.fp, p - tol, side="left")
-        inside = k < self.fp.size
-        best = np.where(inside, self.fm[np.minimum(k, self.fp.size - 1)], -np.inf)
-        return out | (inside & (best >= m - _mtol_arr(m)))
-
-    def dominated1(self, p: float, m: float) -> bool:
-        """:meth:`dominated` for one box."""
-        if self.inc is not None:
-            ip, im = self.inc
-            if p <= ip + tie_tol(ip) and m < im - _mtol(im):
-                return True
-        if self.fp.size == 0:
-            return False
-        tol = tie_tol(p)
-        k = int(np.searchsorted(self.fp, p - tol, side="left"))
-        return k < self.fp.size and float(self.fm[k]) >= m - _mtol(m)
 
     def _boxes(self, idx: np.ndarray, unit: tuple, opts: np.ndarray, last: bool):
         """Children of ``unit`` that survive every cut, largest payload bound first, with their
@@ -363,7 +323,7 @@ class BiObjectiveSearch:
                     0.0,
                     next(tick),
                     NODE,
-                    (idx, opts, p, mb, 0),
+                    (idx, opts, p, mb, 0, {"grid": None, "b": None}),
                     level + 1,
                 ),
             )
@@ -376,7 +336,7 @@ class BiObjectiveSearch:
     def _next_sibling(self, heap: list, tick, entry: tuple, level: int) -> None:
         """Queue the next child of a sibling entry (the one after ``entry``'s), skipping the
         children the front already dominates (the front only grows: they stay dominated)."""
-        parent, options, pb, mbs, k = entry
+        parent, options, pb, mbs, k, stairs = entry
         k += 1
         while k < len(pb) and self.dominated1(float(pb[k]), float(mbs[k])):
             k += 1
@@ -390,7 +350,7 @@ class BiObjectiveSearch:
                     0.0,
                     next(tick),
                     NODE,
-                    (parent, options, pb, mbs, k),
+                    (parent, options, pb, mbs, k, stairs),
                     level,
                 ),
             )
@@ -424,28 +384,3 @@ class BiObjectiveSearch:
             heapq.heappush(
                 heap, (-pay[k], -mu[k], mass[k], refl[k], next(tick), kind, chunk[k], last)
             )
-
-
-def shared_payload_bounds(model: SizingModel, cap: float, deadline: float):
-    """The single-objective search's further payload bounds, shared: the per-component budget
-    levels (``solve/component_bound.py``) and the stance-case linear program
-    (``solve/stance_bound.py``), built as :class:`.search.BranchAndBound` builds them.
-    Returns (levels or None, stance or None)."""
-    from .component_bound import ComponentLevels, level_grid
-    from .stance_bound import StanceBound
-
-    levels = stance = None
-    if model.payload and math.isfinite(cap):
-        end = min(deadline, time.perf_counter() + 2.0)
-        levels = ComponentLevels(model, model.candidates, level_grid(0.0, cap, None), end)
-    if model.stance:
-        stance = StanceBound(model)
-    return levels, stance
-
-
-def _mtol(m: float) -> float:
-    return 1e-12 * max(1.0, abs(m)) if math.isfinite(m) else 0.0
-
-
-def _mtol_arr(m: np.ndarray) -> np.ndarray:
-    return np.where(np.isfinite(m), 1e-12 * np.maximum(1.0, np.abs(m)), 0.0)

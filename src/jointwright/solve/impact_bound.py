@@ -9,7 +9,6 @@ Functions of a :class:`~jointwright.solve.model.SizingModel` (``model``).
 from __future__ import annotations
 
 import dataclasses
-import math
 from collections.abc import Sequence
 
 import numpy as np
@@ -324,25 +323,42 @@ def effective_mass_ok(
         return np.ones(K, dtype=bool)
     full = np.broadcast_to(idx, (K, model.n)).copy()
     full[:, list(unit)] = options[:, None]
-    free = np.flatnonzero(full[0] < 0)
+    lows = np.broadcast_to(st["mmin"], full.shape), np.broadcast_to(st["rmin"], full.shape)
+    em = virtual_effective_mass(model, full, *lows)
+    ok = np.ones(K, dtype=bool)
+    for name, limit in model.effective_mass_limits:
+        ok &= em[name] <= limit * (1 + 1e-9) + 1e-12
+    if em_kind and bounds is not None:
+        bounds["objective"] = np.minimum(bounds["objective"], -em[model.measure[1]])
+    return ok
+
+
+def virtual_effective_mass(
+    model, full: np.ndarray, m_lo: np.ndarray, r_lo: np.ndarray
+) -> dict[str, np.ndarray]:
+    """Per impact case, the effective mass (R,) of the virtual designs ``full`` (R, n): the
+    assigned joints (index ≥ 0) at their options, every free joint (−1) at mass ``m_lo`` and
+    back-driven reflected inertia ``r_lo`` (R, n; infinite: locked). The effective mass grows
+    with the mass matrix in the Loewner order, so with each free joint's least mass and least
+    reflected inertia over a set of its options this bounds from below every completion that
+    takes its free joints from those sets."""
+    R = full.shape[0]
     safe = np.where(full < 0, 0, full)
     arrays = model.table.arrays(safe)
     fields_ = {f.name: getattr(arrays, f.name).copy() for f in dataclasses.fields(arrays)}
-    for k in free:
-        fields_["mass"][:, k] = st["mmin"][k]
-        fields_["ratio"][:, k] = 1.0
-        fields_["eta_backward"][:, k] = 1.0
-        fields_["eta_forward"][:, k] = 1.0
-        locked = not math.isfinite(st["rmin"][k])
-        fields_["self_locking"][:, k] = locked
-        fields_["rotor_inertia"][:, k] = 0.0 if locked else st["rmin"][k]
+    free = full < 0
+    if free.any():
+        locked = ~np.isfinite(r_lo)
+        fields_["mass"][free] = m_lo[free]
+        fields_["ratio"][free] = 1.0
+        fields_["eta_backward"][free] = 1.0
+        fields_["eta_forward"][free] = 1.0
+        fields_["self_locking"][free] = locked[free]
+        fields_["rotor_inertia"][free] = np.where(locked, 0.0, r_lo)[free]
     virtual = type(arrays)(**fields_)
     ev = model.impact_evaluator.evaluate(virtual, detail=False)
-    ok = np.ones(K, dtype=bool)
-    for name, limit in model.effective_mass_limits:
-        ok &= np.asarray(ev[name]["effective_mass"]) <= limit * (1 + 1e-9) + 1e-12
-    if em_kind and bounds is not None:
-        bounds["objective"] = np.minimum(
-            bounds["objective"], -np.asarray(ev[model.measure[1]]["effective_mass"])
-        )
-    return ok
+    return {
+        pc.case.name: np.asarray(ev[pc.case.name]["effective_mass"], dtype=float).reshape(R)
+        for pc in model.impact_evaluator.cases
+        if pc.case.kind == "impact"
+    }

@@ -351,6 +351,22 @@ class SizingModel:
         """Options of joint j sorted by their own payload bound (most favourable bias over all
         designs), descending, with the running least mass: an improving design needs
         min over cases of joint j's ratio bound ≥ the incumbent, so only that prefix is useful."""
+        got = self.own_order(j, cands, st)
+        if got is None:
+            return None
+        own, order = got
+        return (
+            own,
+            np.minimum.accumulate(self.mass[cands][order]),
+            np.minimum.accumulate(self.cost[cands][order]),
+            self.mass[cands][order],
+        )
+
+    def own_order(self, j: int, cands: np.ndarray, st: dict):
+        """(own payload bound of each of joint j's options, descending; the order that sorts
+        ``cands`` so), or None without payload cases. A design whose payload objective reaches
+        f uses at joint j an option whose own bound reaches f (the bias over ``st``'s mass
+        ranges is the most favourable)."""
         if self.kind != "payload" or not self.payload or cands.size == 0:
             return None
         own = np.full(cands.size, np.inf)
@@ -369,12 +385,7 @@ class SizingModel:
             elif a < 0:
                 own = np.minimum(own, self.case_value(c, (t.lo[j, cands] - hi_b) / a))
         order = np.argsort(-own, kind="stable")
-        return (
-            own[order],
-            np.minimum.accumulate(self.mass[cands][order]),
-            np.minimum.accumulate(self.cost[cands][order]),
-            self.mass[cands][order],
-        )
+        return own[order], order
 
     def useful_mmin(self, st: dict, floor: float | None) -> np.ndarray:
         """Least mass per joint over the options that can still reach objective ``floor``."""
