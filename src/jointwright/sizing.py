@@ -19,7 +19,8 @@ from .assessment import assess, unloaded_joints
 from .design import Design, arrays_from_designs
 from .errors import InputError
 from .objective import check_objective_kind, check_pins, check_shared, read_objective
-from .options import JointCandidates, OutOfTime, build_table, joint_candidates
+from .option_rows import OutOfTime
+from .options import JointCandidates, build_table, joint_candidates
 from .problem import MINIMIZED, OBJECTIVES
 from .solve.model import SizingModel
 from .solve.result import SizingResult, SolveOutcome, relative_gap
@@ -47,7 +48,9 @@ def build_model(
         import cvxpy  # noqa: F401
     if table is None:
         phase("building options")
-        table = build_table(project, exclude, deadline=deadline)
+        # stack dominance keeps a pinned stage list only when no pin names one
+        stages_pinned = any("stages" in pin for pin in pins.values())
+        table = build_table(project, exclude, deadline=deadline, dominance=not stages_pinned)
     n = len(project.robot.actuated)
     joints = list(project.robot.actuated)
     shared_idx = [tuple(joints.index(j) for j in g) for g in shared]
