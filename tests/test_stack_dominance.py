@@ -15,10 +15,10 @@ import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
+from test_solve_search import agree, example, set_limits, small_catalog
 
 from jointwright.options import build_table
 from jointwright.stack_dominance import stack_rules, undominated
-from test_solve_search import agree, example, set_limits, small_catalog
 
 #: option fields (DesignArrays) and the stack rule each follows; the unit's own fields are equal
 #: for the same unit, so they are checked as "equal"
@@ -93,6 +93,7 @@ def test_every_dropped_option_has_a_kept_option_no_worse_in_every_field(leg, see
     assert 0 < len(kept) <= len(full)
     units = full.actuators.units
     n_full, n_kept = len(full.actuators.stacks), len(kept.actuators.stacks)
+
     def key(stack):
         return tuple((x.stage.name, x.frame.name, x.ratio) for x in stack)
 
@@ -121,7 +122,6 @@ def test_every_dropped_option_has_a_kept_option_no_worse_in_every_field(leg, see
     assert dropped == len(units) * (n_full - n_kept)
     if seed % 2:  # reversed stage orders are dropped once the inertia is monotone
         assert dropped > 0
-
 
 
 def test_a_stack_is_kept_when_all_its_fields_tie_with_a_later_one_only():
@@ -154,7 +154,9 @@ def test_reversed_stage_order_with_the_same_parts_is_dominated_when_inertia_is_m
 
 
 @pytest.mark.slow
-@settings(max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@settings(
+    max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
 @given(seed=st.integers(0, 2**31 - 1), kind=st.sampled_from(["payload", "mass"]))
 def test_filtered_two_stage_optimum_matches_enumeration_of_every_option(leg, seed, kind):
     rng = np.random.default_rng(seed)

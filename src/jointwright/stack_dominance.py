@@ -68,10 +68,23 @@ def stack_rules(project) -> dict[str, str]:
     """Field -> "equal" | "low" | "high" | "ignore" for the stack fields of ``project``."""
     kinds = {c.kind for c in project.cases}
     rules = dict(_ALWAYS)
-    rules["inertia"] = "low" if kinds <= INERTIA_MONOTONE_KINDS else "equal"
+    inertia_read = [c for c in project.cases if not _inertia_neutral(c)]
+    monotone = all(c.kind in INERTIA_MONOTONE_KINDS for c in inertia_read)
+    rules["inertia"] = "low" if monotone else "equal"
     for name in _LIFE:
         rules[name] = "equal" if "duty" in kinds else "ignore"
     return rules
+
+
+def _inertia_neutral(case) -> bool:
+    """A speed case without commanded acceleration, stroke or acceleration limit: its checked
+    figure (the loaded end-point speed, rotor term N·I_r·q̈ with q̈ = 0) does not read I_r."""
+    return (
+        case.kind == "speed"
+        and case.acceleration == 0
+        and case.stroke == 0
+        and "acceleration_min" not in case.limits
+    )
 
 
 def _columns(parts: dict[str, np.ndarray], names) -> np.ndarray:

@@ -287,6 +287,30 @@ class ComponentLevels:
             out = np.minimum(out, self.first_over(need, room))
         return out
 
+    def mass_floor(self, idx: np.ndarray, unit, options: np.ndarray, st: dict, floor: float):
+        """Per child (K,): a lower bound on the total mass of every completion whose payload
+        objective reaches ``floor``: the assigned masses, the components untouched by the
+        assigned joints and the unit at their least mass for the largest grid level ≤ ``floor``
+        (M_C never falls as the level grows), every other unassigned joint at ``st['mmin']``
+        (its least useful mass); −inf when no grid level lies at or below ``floor``."""
+        model = self.model
+        k = int(np.searchsorted(self.levels, floor, side="right")) - 1
+        if k < 0:
+            return np.full(options.size, -np.inf)
+        unit = list(unit)
+        assigned = idx >= 0
+        assigned[unit] = False
+        A = np.flatnonzero(assigned)
+        touched = np.zeros(len(self.comps), dtype=bool)
+        touched[self.of_joint[A]] = True
+        touched[self.of_joint[unit]] = True
+        free_comps = np.flatnonzero(~touched)
+        rest = ~assigned & ~np.isin(self.of_joint, free_comps)
+        rest[unit] = False
+        need = self.at(free_comps)[0][k]
+        fixed = model.mass[idx[A]].sum() + st["mmin"][rest].sum() + need
+        return fixed + len(unit) * model.mass[options]
+
 
 def level_grid(low: float, high: float, incumbent: float | None, count: int = 160) -> np.ndarray:
     """Ascending levels: a coarse grid over [low, high] and a fine one between the incumbent (or
