@@ -213,6 +213,8 @@ def loaded_mass_rise(model, F, idx, A, unit, options, st, floor: float) -> np.nd
     out = np.zeros(K)
     if F.size == 0 or model.kind != "payload" or not model.payload:
         return out
+    if not np.all(np.isfinite(st["mmin"][F])):  # a free joint cannot reach the floor at all
+        return out
     unit = list(unit)
     masses, inverse = np.unique(model.mass[options], return_inverse=True)
     at_zero = [float(model.case_value(c, np.array(0.0))) for c in range(len(model.payload))]
