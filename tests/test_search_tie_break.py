@@ -102,7 +102,7 @@ def test_node_mass_bounds_hold_for_every_completion_reaching_the_floor(seed):
                 idx[order[:depth]] = row[order[:depth]]
                 unit = (order[depth],)
                 opts = cands[unit[0]]
-                bound = bb._mass_floor(idx, unit, opts, bb.st, float(floor))
+                bound = bb._mass_floor(idx, unit, opts, bb.st, float(floor), per_child=True)
                 for k, o in enumerate(opts):
                     sel = np.all(grid[:, order[:depth]] == row[order[:depth]], axis=1)
                     sel &= (grid[:, unit[0]] == o) & (f >= floor)

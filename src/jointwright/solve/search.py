@@ -22,6 +22,9 @@ from .result import SolveOutcome
 #: complete designs scored per oracle call at the last level
 LEAF_CHUNK = 512
 
+#: relative gap under which a node's children are judged by the tie-break's per-child mass bound
+TIE_BREAK_GAP = 1e-4
+
 
 def search_order(model: SizingModel, units: list[tuple]) -> list[tuple]:
     """Units (groups of joints decided together) ordered so that influencers come first.
@@ -191,7 +194,15 @@ class BranchAndBound:
             stance = self.stance.bound(idx, unit, opts, floor)
             b["objective"] = np.minimum(b["objective"], stance)
         if floor is not None and opts.size:
-            b["mass"] = np.maximum(b["mass"], self._mass_floor(idx, unit, opts, st, floor))
+            # no child can beat the incumbent by more than TIE_BREAK_GAP: the mass decides, so
+            # it is bounded per child (costlier; valid whenever it is used)
+            f0 = self.best_key[0]
+            top = f0 + TIE_BREAK_GAP * max(1.0, abs(f0)) + 2 * tie_tol(f0)
+            ties_only = bool(b["objective"].max() <= top)
+            mass = self._mass_floor(idx, unit, opts, st, floor, per_child=ties_only)
+            b["mass"] = np.maximum(b["mass"], mass)
+            # as child_bounds' budget cut: no completion reaching the floor fits the budget
+            b["ok"] = b["ok"] & (b["mass"] <= self.model.total_mass_max * (1 + 1e-9))
         keep = self._prune(b)
         opts, b = opts[keep], {k: v[keep] for k, v in b.items()}
         if opts.size:
@@ -201,10 +212,10 @@ class BranchAndBound:
         order = np.lexsort((opts, b["mass"], -b["objective"]))
         return opts[order], {k: v[order] for k, v in b.items()}
 
-    def _mass_floor(self, idx, unit, opts, st, floor: float) -> np.ndarray:
-        """Least mass of every completion reaching ``floor`` (K,), with the free joints' least
-        useful masses taken at the node (budget_bound.free_mass_at_level); −inf when the node
-        gives nothing tighter than :meth:`SizingModel.child_bounds`."""
+    def _mass_floor(self, idx, unit, opts, st, floor: float, per_child: bool) -> np.ndarray:
+        """Least mass of every completion reaching ``floor`` (K,) (docs/optimizer.md, item 4d):
+        the free joints' least useful masses at the node, the untouched limbs' least masses at
+        the floor and, with ``per_child``, the joints the unit loads judged per child mass."""
         model = self.model
         assigned = idx >= 0
         assigned[list(unit)] = False
@@ -215,7 +226,10 @@ class BranchAndBound:
         own = model.mass[idx[A]].sum() + len(unit) * model.mass[opts]
         # the joints the unit loads, per child mass, the others at their useful least
         out = own + st_["mmin"][F].sum()
-        out = out + budget_bound.loaded_mass_rise(model, F, idx, A, unit, opts, st_, floor)
+        if per_child:
+            out = out + budget_bound.loaded_mass_rise(
+                model, F, idx, A, unit, opts, st_, floor, self.deadline
+            )
         rest = budget_bound.free_mass_at_level(model, F, idx, A, st_, floor)
         if rest is not None:
             out = np.maximum(out, own + rest)
