@@ -89,6 +89,7 @@ class ComponentLevels:
         self.model = model
         self.levels = np.asarray(levels, dtype=float)
         self.comps = components(model)
+        self.deadline = deadline  # checked between bins and blocks of a joint too
         L = self.levels.size
         self.mass = np.zeros((len(self.comps), L))
         self.cost = np.zeros((len(self.comps), L))
@@ -149,6 +150,8 @@ class ComponentLevels:
         wm = np.full((T, L), np.inf)
         wc = np.full((T, L), np.inf)
         for b in range(lo_m[pos].size):
+            if time.perf_counter() > self.deadline:
+                raise _Late
             rows = np.flatnonzero(tuples[:, pos] == b)
             opts = self._front(j, cands[bin_of == b])
             own = np.full((rows.size, opts.size), np.inf)
@@ -224,6 +227,8 @@ class ComponentLevels:
         V, opts = V[first], opts[first]
         keep = np.ones(opts.size, dtype=bool)
         for s in range(0, opts.size, 256):
+            if time.perf_counter() > self.deadline:
+                raise _Late
             blk = V[s : s + 256]
             ge = np.all(V[None, :, :] >= blk[:, None, :], axis=2)  # (b, N): row dominates blk
             gt = np.any(V[None, :, :] > blk[:, None, :], axis=2)
