@@ -223,6 +223,8 @@ class BranchAndBound:
         free[list(unit)] = False
         A, F = np.flatnonzero(assigned), np.flatnonzero(free)
         st_ = dict(st, mmin=model.useful_mmin(st, floor))  # as child_bounds: its cached table
+        if not np.all(np.isfinite(st_["mmin"][np.r_[F, list(unit)]])):
+            return np.full(opts.size, np.inf)  # an open joint cannot reach the floor at all
         own = model.mass[idx[A]].sum() + len(unit) * model.mass[opts]
         # the joints the unit loads, per child mass, the others at their useful least
         out = own + st_["mmin"][F].sum()
