@@ -172,3 +172,28 @@ def test_filtered_two_stage_optimum_matches_enumeration_quick(leg, seed):
     project = set_limits(project, rng, build_table(project), keep_duty=False)
     assert len(build_table(project, dominance=True)) < len(build_table(project))
     agree(project, "payload")
+
+
+def test_a_pinned_stage_list_keeps_its_stack_even_when_dominated(leg):
+    from jointwright.options import matches_pin
+    from jointwright.sizing import build_model
+
+    project = two_stage(leg, np.random.default_rng(1), inertia_monotone=True)
+    full, kept = build_table(project), build_table(project, dominance=True)
+
+    def key(stack):
+        return tuple((x.stage.name, x.frame.name, x.ratio) for x in stack)
+
+    kept_keys = {key(st) for st in kept.actuators.stacks}
+    dropped = [st for st in full.actuators.stacks if key(st) not in kept_keys]
+    assert dropped
+    pin = {
+        "stages": [
+            {"stage": s.stage.name, "frame": s.frame.name, "ratio": s.ratio} for s in dropped[0]
+        ]
+    }
+    joint = project.robot.actuated[0]
+    model, cands = build_model(project, "payload", {joint: pin}, [], [])
+    assert len(model.table) == len(full)  # no stack dropped while a pin names a stage list
+    assert all(matches_pin(model.table.actuators[int(o)], pin) for o in cands.index[0])
+    assert cands.index[0].size > 0
