@@ -225,15 +225,7 @@ class ComponentLevels:
         _u, first = np.unique(V, axis=0, return_index=True)
         first = np.sort(first)
         V, opts = V[first], opts[first]
-        keep = np.ones(opts.size, dtype=bool)
-        for s in range(0, opts.size, 256):
-            if time.perf_counter() > self.deadline:
-                raise _Late
-            blk = V[s : s + 256]
-            ge = np.all(V[None, :, :] >= blk[:, None, :], axis=2)  # (b, N): row dominates blk
-            gt = np.any(V[None, :, :] > blk[:, None, :], axis=2)
-            keep[s : s + 256] = ~np.any(ge & gt, axis=1)
-        return opts[keep]
+        return opts[np.sort(pareto_front(V, self.deadline))]
 
     # ------------------------------------------------------------------------------------------
     def at(self, which: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -315,6 +307,25 @@ class ComponentLevels:
         need = self.at(free_comps)[0][k]
         fixed = model.mass[idx[A]].sum() + st["mmin"][rest].sum() + need
         return fixed + len(unit) * model.mass[options]
+
+
+def pareto_front(V: np.ndarray, deadline: float = math.inf) -> np.ndarray:
+    """Rows of ``V`` (N, k), distinct, that no other row dominates (no smaller in every column,
+    larger in one), as indices. Rows are taken in descending lexicographic order, where a
+    dominating row always comes first, and each is compared with the front kept so far only: a
+    row dominated by a dropped row is dominated by the front row that dropped it. Raises
+    :class:`_Late` past ``deadline``."""
+    order = np.lexsort(V.T[::-1])[::-1]
+    front: list[int] = []
+    block = np.empty((0, V.shape[1]))
+    for count, i in enumerate(order):
+        if count % 1024 == 0 and time.perf_counter() > deadline:
+            raise _Late
+        if block.shape[0] and np.any(np.all(block >= V[i], axis=1)):
+            continue
+        front.append(int(i))
+        block = np.vstack([block, V[i][None, :]])
+    return np.asarray(front, dtype=np.int64)
 
 
 def level_grid(low: float, high: float, incumbent: float | None, count: int = 160) -> np.ndarray:
