@@ -22,9 +22,6 @@ from .result import SolveOutcome
 #: complete designs scored per oracle call at the last level
 LEAF_CHUNK = 512
 
-#: relative gap under which a node's children are judged by the tie-break's per-child mass bound
-TIE_BREAK_GAP = 1e-4
-
 
 def search_order(model: SizingModel, units: list[tuple]) -> list[tuple]:
     """Units (groups of joints decided together) ordered so that influencers come first.
@@ -194,11 +191,9 @@ class BranchAndBound:
             stance = self.stance.bound(idx, unit, opts, floor)
             b["objective"] = np.minimum(b["objective"], stance)
         if floor is not None and opts.size:
-            # no child can beat the incumbent by more than TIE_BREAK_GAP: the mass decides, so
-            # it is bounded per child (costlier; valid whenever it is used)
-            f0 = self.best_key[0]
-            top = f0 + TIE_BREAK_GAP * max(1.0, abs(f0)) + 2 * tie_tol(f0)
-            ties_only = bool(b["objective"].max() <= top)
+            # no child can beat the incumbent, only tie it: the mass decides, so it is bounded
+            # per child (costlier; valid wherever it is used)
+            ties_only = bool(b["objective"].max() <= floor + 2 * tie_tol(self.best_key[0]))
             mass = self._mass_floor(idx, unit, opts, st, floor, per_child=ties_only)
             b["mass"] = np.maximum(b["mass"], mass)
             # as child_bounds' budget cut: no completion reaching the floor fits the budget
