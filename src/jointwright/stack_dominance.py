@@ -13,9 +13,10 @@ Each stack field an option is built from (:func:`jointwright.option_rows.stack_p
 * ``"low"``: every reader prefers less. Cost, length and diameter (sums, maxima and limits);
   the stages' breakaway torque (the back-drive force only, limited from above); the gear
   stiffness (the impact's gear shock T = |Δq̇|·√(k·I) only); the stages' input inertia when
-  every case is a payload, stance, impact or back-drive case (reflected-inertia limits, the
-  effective mass, the IMF and the shock grow with it), else ``"equal"`` (a commanded
-  acceleration or a trajectory can make the rotor term N·I_r·q̈ work with the load);
+  every case that reads it is a payload, stance, impact or back-drive case (reflected-inertia
+  limits, the effective mass, the IMF and the shock grow with it; a speed case without
+  commanded acceleration, stroke or acceleration limit does not read it), else ``"equal"`` (a
+  commanded acceleration or a trajectory can make the rotor term N·I_r·q̈ work with the load);
 * ``"high"``: every reader prefers more. The joint-side gear ratings (capacities are
   min(…, rating); uses are torque ÷ rating);
 * ``"ignore"``: no requirement of the project reads it (the life slots without duty cases).
