@@ -21,6 +21,7 @@ instance and back-end: status, objective, bound, gap, wall and CPU seconds, and 
 after each instance. Results: docs/benchmarks.md.
 
     python benchmarks/size_scale.py [--only a,c] [--limit 60] [--no-pyomo]
+    python benchmarks/size_scale.py --table | --three-stage
 """
 
 from __future__ import annotations
@@ -388,15 +389,54 @@ def table_building():
     )
 
 
+def three_stage_tables():
+    """The bundled leg with 3-stage stacks: the stacks left by dominance (stack_dominance.py)
+    with the leg's own cases and without its duty and stroke speed cases (which read the stages'
+    inertia in both directions), CPU seconds and peak resident memory of building each table."""
+    import resource
+
+    import jointwright.options as options
+
+    lg = example("leg")
+    ceiling = options.MAX_OPTIONS
+    options.MAX_OPTIONS = 10**8  # measured, not sized: the ceiling is checked by size() itself
+    try:
+        for label, cases in (
+            ("the leg's cases", lg.cases),
+            (
+                "without duty and speed",
+                tuple(c for c in lg.cases if c.kind not in ("duty", "speed")),
+            ),
+        ):
+            p = dataclasses.replace(lg, max_stages=3, stage_kinds=None, cases=cases)
+            c0 = time.process_time()
+            t = options.build_table(p, dominance=True)
+            c1 = time.process_time()
+            rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1e6
+            print(
+                f"3-stage leg, {label}: {len(t.actuators.stacks)} stacks kept, {len(t)} options "
+                f"({'over' if len(t) > ceiling else 'within'} the {ceiling} ceiling); "
+                f"{c1 - c0:.1f} CPU-s, peak resident so far {rss:.2f} GB"
+            )
+    finally:
+        options.MAX_OPTIONS = ceiling
+
+
 def main():
     ap = argparse.ArgumentParser()
     ap.add_argument("--only", default=",".join(INSTANCES))
     ap.add_argument("--limit", type=float, default=60.0)
     ap.add_argument("--no-pyomo", action="store_true")
     ap.add_argument("--table", action="store_true", help="time the option-table building only")
+    ap.add_argument(
+        "--three-stage", action="store_true", help="the 3-stage leg tables after stack dominance"
+    )
     a = ap.parse_args()
     if a.table:
         table_building()
+        return
+    if a.three_stage:
+        three_stage_tables()
         return
     print(
         f"load average {os.getloadavg()[0]:.2f} on {os.cpu_count()} cores; time limit {a.limit} s"

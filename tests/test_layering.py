@@ -40,6 +40,8 @@ LAYERS = {
     "margin_words": 5,
     "cautions": 7,
     "options": 8,
+    "option_rows": 8,
+    "stack_dominance": 8,
     "solve": 8,
     "sizing": 8,
     "objective": 8,

@@ -132,3 +132,17 @@ def test_search_with_component_bound_matches_enumeration(seed, milp, monkeypatch
     assert res.objective == pytest.approx(key[0], rel=tol, abs=1e-9)
     assert res.objective <= key[0] + 1e-9 * max(1.0, abs(key[0]))
     assert res.gap <= tol
+
+
+@pytest.mark.parametrize("seed", range(8))
+def test_pareto_front_equals_the_pairwise_definition(seed):
+    from jointwright.solve.component_bound import pareto_front
+
+    rng = np.random.default_rng(seed)
+    V = np.round(rng.normal(size=(int(rng.integers(1, 300)), int(rng.integers(1, 6)))), 1)
+    if seed % 2:
+        V[rng.random(V.shape[0]) < 0.2, 0] = -np.inf  # NaN bounds enter as −inf
+    V = np.unique(V, axis=0)
+    ge = np.all(V[None] >= V[:, None], axis=2)
+    gt = np.any(V[None] > V[:, None], axis=2)
+    assert np.array_equal(np.sort(pareto_front(V)), np.flatnonzero(~np.any(ge & gt, axis=1)))

@@ -16,17 +16,17 @@ from __future__ import annotations
 
 import itertools
 import math
-import time
 from collections.abc import Sequence
 from dataclasses import dataclass, fields
 
 import numpy as np
 
-from .catalog.drives import drive_incompatibility, fed_motor
-from .catalog.model import Motor
-from .design import COMBINED_FIELDS, MOTOR_FIELDS, STACK_FIELDS, DesignArrays
+from .catalog.drives import drive_incompatibility
+from .design import DesignArrays
 from .drivetrain import Actuator, StageChoice
 from .errors import InputError
+from .option_rows import ActuatorList, option_rows, stack_parts
+from .stack_dominance import stack_rules, undominated
 
 #: ISO 3 Renard R20 basic series over one decade [pub]
 R20 = (
@@ -56,12 +56,12 @@ R20 = (
 #: with 645,280 options peaked at 0.7 GB resident, docs/benchmarks.md instance (f))
 MAX_OPTIONS = 1_000_000
 
+#: largest number of stage stacks examined for dominance before the options are built (each
+#: costs one Python row, about 20 µs, and a few hundred bytes)
+MAX_STACKS = 200_000
+
 #: filters never remove an option whose margin is above this (looser than the checks' −1e-12)
 FILTER_SLACK = 1e-9
-
-
-class OutOfTime(Exception):
-    """The caller's time limit ran out while options were built or prepared."""
 
 
 def preferred_ratios(low: float, high: float) -> tuple[float, ...]:
@@ -133,7 +133,7 @@ def stage_choices(project) -> list[StageChoice]:
     return out
 
 
-def build_table(project, exclude=(), deadline=None) -> OptionTable:
+def build_table(project, exclude=(), deadline=None, dominance=False) -> OptionTable:
     """Every motor × stack of 0..max_stages stages (order: motor, then stack length, then stages).
 
     Parameters
@@ -143,6 +143,10 @@ def build_table(project, exclude=(), deadline=None) -> OptionTable:
         Motor, stage-type or frame names never to use.
     deadline : float, optional
         A ``time.perf_counter()`` value; :class:`OutOfTime` is raised once it has passed.
+    dominance : bool
+        Drop the stacks another stack dominates for every requirement of the project
+        (:mod:`jointwright.stack_dominance`). Off for callers that pin stage lists or need every
+        option (the enumeration oracle).
     """
     banned = set(exclude)
     motors = [m for m in project.catalog.all_motors() if m.name not in banned]
@@ -153,42 +157,26 @@ def build_table(project, exclude=(), deadline=None) -> OptionTable:
     ]
     feeds = motor_drives(project, motors)
     if not any(feeds):
-        if not motors:
-            raise InputError(
-                str(project.file),
-                "objective.exclude",
-                "no motor is left to size with: every motor of the catalog is excluded",
-            )
-        reasons = sorted(
-            {
-                str(drive_incompatibility(m, d))
-                for m in motors
-                for d in project.catalog.drives
-                if drive_incompatibility(m, d) is not None
-            }
-        )
-        raise InputError(
-            str(project.file),
-            "drives",
-            "no drive the joints may use can feed any motor of the catalog"
-            + (f" ({reasons[0]})" if reasons else ""),
-        )
-    count = sum(len(f) for f in feeds) * sum(
-        len(singles) ** k for k in range(project.max_stages + 1)
-    )
-    if count > MAX_OPTIONS:
-        raise InputError(
-            str(project.file),
-            "catalog.max_stages",
-            f"{count} motor × stage-stack options exceed the limit of {MAX_OPTIONS}; "
-            "lower max_stages, restrict stage_kinds or exclude stages",
-        )
+        _no_unit(project, motors)
+    n_units = sum(len(f) for f in feeds)
+    n_stacks = sum(len(singles) ** k for k in range(project.max_stages + 1))
+    if n_units * n_stacks > MAX_OPTIONS and not dominance:
+        _too_many(project, n_units * n_stacks)
+    if n_stacks > MAX_STACKS:
+        _too_many(project, n_units * n_stacks, f"{n_stacks} stage stacks exceed {MAX_STACKS}; ")
     stacks: list[tuple[StageChoice, ...]] = [()]
     for k in range(1, project.max_stages + 1):
         stacks.extend(tuple(x) for x in itertools.product(singles, repeat=k))
+    parts = stack_parts(stacks, deadline, n_units * n_stacks)
+    if dominance:
+        kept = undominated(parts, stack_rules(project))
+        stacks = [stacks[i] for i in kept]
+        parts = {k: v[kept] for k, v in parts.items()}
+        if n_units * len(stacks) > MAX_OPTIONS:
+            _too_many(project, n_units * len(stacks), "after dominance: ")
     # a unit is a motor with one of the drives that may feed it (None: no drives in the project)
     units = [(m, drive) for i, m in enumerate(motors) for drive in feeds[i]]
-    rows = option_rows(units, stacks, deadline)
+    rows = option_rows(units, parts)
     unit_motor = [i for i, _m in enumerate(motors) for _drive in feeds[i]]
     motor_index = np.repeat(np.asarray(unit_motor, dtype=np.int64), len(stacks))
     return OptionTable(
@@ -196,6 +184,38 @@ def build_table(project, exclude=(), deadline=None) -> OptionTable:
         motor_index,
         tuple(m.name for m in motors),
         rows,
+    )
+
+
+def _no_unit(project, motors) -> None:
+    if not motors:
+        raise InputError(
+            str(project.file),
+            "objective.exclude",
+            "no motor is left to size with: every motor of the catalog is excluded",
+        )
+    reasons = sorted(
+        {
+            str(drive_incompatibility(m, d))
+            for m in motors
+            for d in project.catalog.drives
+            if drive_incompatibility(m, d) is not None
+        }
+    )
+    raise InputError(
+        str(project.file),
+        "drives",
+        "no drive the joints may use can feed any motor of the catalog"
+        + (f" ({reasons[0]})" if reasons else ""),
+    )
+
+
+def _too_many(project, count: int, why: str = "") -> None:
+    raise InputError(
+        str(project.file),
+        "catalog.max_stages",
+        f"{why}{count} motor × stage-stack options exceed the limit of {MAX_OPTIONS}; "
+        "lower max_stages, restrict stage_kinds or exclude stages",
     )
 
 
@@ -208,130 +228,6 @@ def motor_drives(project, motors) -> list[tuple]:
     used = {name for names in project.drives.values() for name in names}
     drives = [d for d in project.catalog.drives if d.name in used]
     return [tuple(d for d in drives if drive_incompatibility(m, d) is None) for m in motors]
-
-
-#: a motor for the stack-only parts of an option (ratio, efficiencies, gear ratings)
-_NO_MOTOR = Motor(
-    name="-", peak_torque=1.0, continuous_torque=1.0, rotor_inertia=0.0, mass=0.0, max_speed=1.0
-)
-
-
-class ActuatorList(Sequence):
-    """The table's options as Actuators, made when asked for (unit-major, then stacks in order;
-    a unit is a motor with its drive, or with None): a table of a million options keeps two short
-    lists, not a million objects."""
-
-    def __init__(self, units: tuple, stacks: tuple) -> None:
-        self.units, self.stacks = units, stacks
-
-    def __len__(self) -> int:
-        return len(self.units) * len(self.stacks)
-
-    def __getitem__(self, i):  # type: ignore[override]
-        if isinstance(i, slice):
-            return tuple(self[k] for k in range(*i.indices(len(self))))
-        i = int(i)
-        if i < 0:
-            i += len(self)
-        if not 0 <= i < len(self):
-            raise IndexError("option index out of range")
-        u, k = divmod(i, len(self.stacks))
-        motor, drive = self.units[u]
-        return Actuator(motor, self.stacks[k], drive)
-
-
-def _stack_row(stack: tuple) -> dict[str, float]:
-    """A stack's own parts of the option fields, computed with the operations (and their order)
-    of :class:`~jointwright.drivetrain.Actuator`, so a motor's fields combine with them to the
-    same floating-point numbers."""
-    a = Actuator(_NO_MOTOR, stack)
-    before = [float(math.prod(s.ratio for s in stack[:k])) if k else 1.0 for k in range(len(stack))]
-    return {
-        **{name: value(a) for name, value in STACK_FIELDS.items()},
-        "inertia": sum(s.frame.input_inertia / before[k] ** 2 for k, s in enumerate(stack)),
-        "mass": sum(s.frame.mass for s in stack),
-        "cost": sum(s.frame.cost for s in stack),
-        "length": sum(s.frame.length for s in stack),
-        "diameter": max([s.frame.diameter for s in stack], default=-math.inf),
-        "breakaway": sum(s.frame.breakaway_torque / before[k] for k, s in enumerate(stack)),
-    }
-
-
-def _unit_value(motor, drive, attr: str, source: str = "motor") -> float:
-    """A unit's (motor with its drive) part of an option field: from the motor's ratings as the
-    drive feeds them (source "fed", catalog.drives.fed_motor), the drive's mass and cost
-    ("drive_mass", "drive_cost"), else the motor's own attribute."""
-    if source == "fed":
-        value = getattr(fed_motor(motor, drive), attr)
-    elif attr in ("drive_mass", "drive_cost"):
-        value = 0.0 if drive is None else getattr(drive, attr.removeprefix("drive_"))
-    else:
-        value = getattr(motor, attr)
-    return math.nan if value is None else value
-
-
-def option_rows(units: list, stacks: list, deadline=None) -> dict[str, np.ndarray]:
-    """The :class:`DesignArrays` fields of every unit × stack (unit-major), as arrays (O,);
-    a unit is ``(motor, drive)`` with drive None when the project has no drives.
-
-    Stack parts are computed once per stack (:func:`_stack_row`), motor parts once per motor, and
-    combined by broadcasting with the operations of :func:`jointwright.design.actuator_row`
-    (equal to it bit for bit; tests/test_options_vectorized.py). A further dimension (another
-    part of an option) joins the same way: one more axis before the final ravel."""
-    srow = []
-    for k, st in enumerate(stacks):
-        if deadline is not None and k % 512 == 0 and time.perf_counter() > deadline:
-            raise OutOfTime(
-                f"the time limit ran out while building {len(units) * len(stacks)} options"
-            )
-        srow.append(_stack_row(st))
-    S = {key: np.array([r[key] for r in srow]) for key in srow[0]}
-    S["self_locking"] = S["self_locking"].astype(bool)
-
-    def motor(attr: str, source: str = "motor") -> np.ndarray:
-        return np.array([_unit_value(m, d, attr, source) for m, d in units], dtype=float)[:, None]
-
-    shape = (len(units), len(stacks))
-
-    def both(x) -> np.ndarray:
-        return np.broadcast_to(x, shape).ravel().copy()
-
-    def stack_only(name: str) -> np.ndarray:
-        s = np.asarray([r[name] for r in srow], dtype=float)  # (S,) or (S, slots)
-        full = np.broadcast_to(s[None], (len(units), *s.shape))
-        return full.reshape(len(units) * len(stacks), *s.shape[1:]).copy()
-
-    locked = S["self_locking"][None, :]
-    with np.errstate(divide="ignore", invalid="ignore"):
-        breakaway = np.where(
-            locked,
-            np.inf,
-            S["ratio"][None, :]
-            * (motor("cogging_torque") + S["breakaway"][None, :])
-            / S["eta_backward"][None, :],
-        )
-    # the Actuator adds the drive's mass and cost last: same order, same rounding
-    mass = motor("mass") + S["mass"][None, :] + motor("drive_mass")
-    cost = motor("cost") + S["cost"][None, :] + motor("drive_cost")
-    # every field but the few that combine motor and stack comes from design's field tables
-    rows = {
-        **{name: both(motor(attr, source)) for name, (source, attr) in MOTOR_FIELDS.items()},
-        **{name: stack_only(name) for name in STACK_FIELDS},
-    }
-    rows["self_locking"] = rows["self_locking"].astype(bool)
-    combined = {
-        "mass": mass,
-        "rotor_inertia": motor("rotor_inertia") + S["inertia"][None, :],
-        "breakaway_torque": breakaway,
-        "breakaway_motor_side": motor("cogging_torque") + S["breakaway"][None, :],
-        "diameter": np.maximum(motor("diameter"), S["diameter"][None, :]),
-        "length": motor("length") + S["length"][None, :],
-        "cost": cost,
-    }
-    if combined.keys() != COMBINED_FIELDS.keys():  # a new combined field needs its rule here
-        raise KeyError(f"option_rows composes {sorted(combined)}, not {sorted(COMBINED_FIELDS)}")
-    rows |= {name: both(value) for name, value in combined.items()}
-    return rows
 
 
 def option_key(a: Actuator) -> tuple:

@@ -181,6 +181,111 @@ def budget_level_bound(model, F, idx, A, unit, options, st) -> np.ndarray:
     return out
 
 
+def free_mass_at_level(model, F, idx, A, st, floor: float) -> float | None:
+    """Least total mass of the free joints F over the completions of a node whose payload
+    objective reaches ``floor``: every free joint then takes an option whose own bound at the
+    node (the assigned masses fixed, the others in their ranges) is ≥ ``floor``, so the sum of
+    the least such masses bounds theirs from below (docs/optimizer.md, item 4d). None when the
+    levels give nothing tighter (no payload bounds, or ``floor`` above every finite level)."""
+    if F.size == 0 or model.kind != "payload" or not model.payload:
+        return None
+    table = _node_level_table(model, F, idx, A, st) if A.size else _level_table(model, F, st)
+    if table is None or table[0].size == 0:
+        return None
+    levels, g_mass = table[0], table[1]
+    k = int(np.searchsorted(-levels, -floor, side="right")) - 1  # last level ≥ floor
+    return None if k < 0 else float(g_mass[k])
+
+
+def loaded_mass_rise(
+    model, F, idx, A, unit, options, st, floor: float, deadline: float = math.inf
+) -> np.ndarray:
+    """How much the least useful mass of the free joints the unit loads rises with each
+    child's own mass (K,), kg (docs/optimizer.md, item 4d).
+
+    For a free joint j loaded by the unit (G[u, j] ≠ 0 in a case), the bias of j in case c is
+    exact in the assigned masses and the option's own mass, m·ΣG[u, j] for the child's mass m
+    taken over the interval of the child's mass bin, and an interval [b⁻, b⁺] over the ranges
+    [mmin, mmax] of the other free joints. A
+    completion whose objective reaches ``floor`` gives j an option o that holds the bias in
+    every case whose objective value at payload 0 is below ``floor`` (hi_o ≥ b⁻, lo_o ≤ b⁺,
+    item 2: else the payload is 0) and whose ratio bound reaches ``floor`` in every case, so j
+    weighs at least the least such option: least_j(m). Returned: Σ_j (least_j(m) − mmin_j), to
+    add to a mass bound that counts mmin_j for j (``st``). Past ``deadline`` the joints left
+    add nothing (the trivial bound)."""
+    K = options.size
+    out = np.zeros(K)
+    if F.size == 0 or model.kind != "payload" or not model.payload:
+        return out
+    if not np.all(np.isfinite(st["mmin"][F])):  # a free joint cannot reach the floor at all
+        return out
+    unit = list(unit)
+    # the children's masses in at most RISE_BINS bins, each judged over its mass interval
+    masses, inverse = np.unique(model.mass[options], return_inverse=True)
+    edges = np.unique(np.linspace(0, masses.size, min(RISE_BINS, masses.size) + 1).astype(int))
+    bin_of = np.searchsorted(edges, np.arange(masses.size), side="right") - 1
+    m_lo, m_hi = masses[edges[:-1]], masses[edges[1:] - 1]
+    at_zero = [float(model.case_value(c, np.array(0.0))) for c in range(len(model.payload))]
+    for j in F:
+        loads = [float(t.G[unit, j].sum()) for t in model.payload]
+        cands = model.candidates[j]
+        if not any(loads) or cands.size == 0:
+            continue
+        if time.perf_counter() > deadline:
+            break
+        cands = cands[np.argsort(model.mass[cands], kind="stable")]
+        least = np.full(m_lo.size, np.inf)
+        todo = np.arange(m_lo.size)
+        # lightest options first, in blocks: a bin is settled by its first useful option
+        for s in range(0, cands.size, RISE_BLOCK):
+            block = cands[s : s + RISE_BLOCK]
+            ok = _useful(
+                model, j, F, idx, A, (m_lo[todo], m_hi[todo]), loads, block, st, floor, at_zero
+            )
+            hit = ok.any(axis=1)
+            least[todo[hit]] = model.mass[block][np.argmax(ok[hit], axis=1)]
+            todo = todo[~hit]
+            if todo.size == 0:
+                break
+        out += least[bin_of[inverse]] - st["mmin"][j]
+    return out
+
+
+#: options of a free joint judged at once, and bins of the children's masses, in
+#: :func:`loaded_mass_rise`
+RISE_BLOCK, RISE_BINS = 512, 1024
+
+
+def _useful(model, j, F, idx, A, unit_mass, loads, cands, st, floor, at_zero) -> np.ndarray:
+    """(bins, options): whether option ``cands`` of free joint j can serve a completion reaching
+    ``floor`` when the unit's mass lies in [lo, hi] = ``unit_mass`` (per bin; see
+    :func:`loaded_mass_rise`)."""
+    others = F[F != j]
+    m_lo, m_hi = unit_mass
+    useful = np.ones((m_lo.size, cands.size), dtype=bool)
+    for c, (t, load) in enumerate(zip(model.payload, loads, strict=True)):
+        g = t.G[:, j]
+        base = t.g0[j] + model.mass[idx[A]] @ g[A]
+        lo_f = np.minimum(st["mmin"][others] * g[others], st["mmax"][others] * g[others]).sum()
+        hi_f = np.maximum(st["mmin"][others] * g[others], st["mmax"][others] * g[others]).sum()
+        # the unit's mass interval per row, the option's own mass per column
+        own = base + (model.mass[cands] * g[j])[None, :]
+        b_lo = own + (np.minimum(m_lo * load, m_hi * load) + lo_f)[:, None]
+        b_hi = own + (np.maximum(m_lo * load, m_hi * load) + hi_f)[:, None]
+        hi, lo, a = t.hi[j, cands][None, :], t.lo[j, cands][None, :], t.a[j]
+        if at_zero[c] < floor:  # a payload of 0 misses the floor: the joint must hold
+            eps = 1e-9 * (np.abs(b_lo) + np.abs(b_hi) + 1.0)
+            with np.errstate(invalid="ignore"):
+                useful &= ~((hi < b_lo - eps) | (lo > b_hi + eps))
+        if a == 0:
+            continue
+        with np.errstate(invalid="ignore", divide="ignore"):
+            s_ = (hi - b_lo) / a if a > 0 else (lo - b_hi) / a
+        s_ = np.where(np.isnan(s_), np.inf, s_)
+        useful &= model.case_value(c, s_) >= floor
+    return useful
+
+
 def payload_bound(model, t, c, idx, A, F, unit, options, st) -> tuple:
     """Upper bound on the payload of case t over all completions (interval arithmetic).
 

@@ -89,6 +89,7 @@ class ComponentLevels:
         self.model = model
         self.levels = np.asarray(levels, dtype=float)
         self.comps = components(model)
+        self.deadline = deadline  # checked between bins and blocks of a joint too
         L = self.levels.size
         self.mass = np.zeros((len(self.comps), L))
         self.cost = np.zeros((len(self.comps), L))
@@ -149,6 +150,8 @@ class ComponentLevels:
         wm = np.full((T, L), np.inf)
         wc = np.full((T, L), np.inf)
         for b in range(lo_m[pos].size):
+            if time.perf_counter() > self.deadline:
+                raise _Late
             rows = np.flatnonzero(tuples[:, pos] == b)
             opts = self._front(j, cands[bin_of == b])
             own = np.full((rows.size, opts.size), np.inf)
@@ -222,13 +225,7 @@ class ComponentLevels:
         _u, first = np.unique(V, axis=0, return_index=True)
         first = np.sort(first)
         V, opts = V[first], opts[first]
-        keep = np.ones(opts.size, dtype=bool)
-        for s in range(0, opts.size, 256):
-            blk = V[s : s + 256]
-            ge = np.all(V[None, :, :] >= blk[:, None, :], axis=2)  # (b, N): row dominates blk
-            gt = np.any(V[None, :, :] > blk[:, None, :], axis=2)
-            keep[s : s + 256] = ~np.any(ge & gt, axis=1)
-        return opts[keep]
+        return opts[np.sort(pareto_front(V, self.deadline))]
 
     # ------------------------------------------------------------------------------------------
     def at(self, which: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -286,6 +283,49 @@ class ComponentLevels:
             room = limit * (1 + 1e-9) - fixed
             out = np.minimum(out, self.first_over(need, room))
         return out
+
+    def mass_floor(self, idx: np.ndarray, unit, options: np.ndarray, st: dict, floor: float):
+        """Per child (K,): a lower bound on the total mass of every completion whose payload
+        objective reaches ``floor``: the assigned masses, the components untouched by the
+        assigned joints and the unit at their least mass for the largest grid level ≤ ``floor``
+        (M_C never falls as the level grows), every other unassigned joint at ``st['mmin']``
+        (its least useful mass); −inf when no grid level lies at or below ``floor``."""
+        model = self.model
+        k = int(np.searchsorted(self.levels, floor, side="right")) - 1
+        if k < 0:
+            return np.full(options.size, -np.inf)
+        unit = list(unit)
+        assigned = idx >= 0
+        assigned[unit] = False
+        A = np.flatnonzero(assigned)
+        touched = np.zeros(len(self.comps), dtype=bool)
+        touched[self.of_joint[A]] = True
+        touched[self.of_joint[unit]] = True
+        free_comps = np.flatnonzero(~touched)
+        rest = ~assigned & ~np.isin(self.of_joint, free_comps)
+        rest[unit] = False
+        need = self.at(free_comps)[0][k]
+        fixed = model.mass[idx[A]].sum() + st["mmin"][rest].sum() + need
+        return fixed + len(unit) * model.mass[options]
+
+
+def pareto_front(V: np.ndarray, deadline: float = math.inf) -> np.ndarray:
+    """Rows of ``V`` (N, k), distinct, that no other row dominates (no smaller in every column,
+    larger in one), as indices. Rows are taken in descending lexicographic order, where a
+    dominating row always comes first, and each is compared with the front kept so far only: a
+    row dominated by a dropped row is dominated by the front row that dropped it. Raises
+    :class:`_Late` past ``deadline``."""
+    order = np.lexsort(V.T[::-1])[::-1]
+    front: list[int] = []
+    block = np.empty((0, V.shape[1]))
+    for count, i in enumerate(order):
+        if count % 1024 == 0 and time.perf_counter() > deadline:
+            raise _Late
+        if block.shape[0] and np.any(np.all(block >= V[i], axis=1)):
+            continue
+        front.append(int(i))
+        block = np.vstack([block, V[i][None, :]])
+    return np.asarray(front, dtype=np.int64)
 
 
 def level_grid(low: float, high: float, incumbent: float | None, count: int = 160) -> np.ndarray:

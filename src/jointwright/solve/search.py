@@ -15,6 +15,7 @@ import time
 
 import numpy as np
 
+from . import budget_bound
 from .model import SizingModel, tie_tol
 from .result import SolveOutcome
 
@@ -96,6 +97,9 @@ class BranchAndBound:
             end = math.inf if time_limit is None else time.perf_counter() + 0.25 * time_limit
             low = min(0.0, incumbent[0]) if incumbent is not None else 0.0
             grid = level_grid(low, self.cap, None if incumbent is None else incumbent[0])
+            if incumbent is not None and math.isfinite(incumbent[0]):
+                # the tie floor itself: the least-mass tie-break bounds completions reaching it
+                grid = np.union1d(grid, [incumbent[0] - tie_tol(incumbent[0])])
             self.levels = ComponentLevels(model, model.candidates, grid, deadline=end)
             self.cap = min(self.cap, self.levels.cap())
         # stance cases: one linear program per case and node (item 9)
@@ -204,6 +208,14 @@ class BranchAndBound:
         if self.stance is not None and opts.size:
             stance = self.stance.bound(idx, unit, opts, floor)
             b["objective"] = np.minimum(b["objective"], stance)
+        if floor is not None and opts.size:
+            # no child can beat the incumbent, only tie it: the mass decides, so it is bounded
+            # per child (costlier; valid wherever it is used)
+            ties_only = bool(b["objective"].max() <= floor + 2 * tie_tol(self.best_key[0]))
+            mass = self._mass_floor(idx, unit, opts, st, floor, per_child=ties_only)
+            b["mass"] = np.maximum(b["mass"], mass)
+            # as child_bounds' budget cut: no completion reaching the floor fits the budget
+            b["ok"] = b["ok"] & (b["mass"] <= self.model.total_mass_max * (1 + 1e-9))
         keep = self._prune(b)
         opts, b = opts[keep], {k: v[keep] for k, v in b.items()}
         if opts.size:
@@ -212,6 +224,33 @@ class BranchAndBound:
             opts, b = opts[em], {k: v[em] for k, v in b.items()}
         order = np.lexsort((opts, b["mass"], -b["objective"]))
         return opts[order], {k: v[order] for k, v in b.items()}
+
+    def _mass_floor(self, idx, unit, opts, st, floor: float, per_child: bool) -> np.ndarray:
+        """Least mass of every completion reaching ``floor`` (K,) (docs/optimizer.md, item 4d):
+        the free joints' least useful masses at the node, the untouched limbs' least masses at
+        the floor and, with ``per_child``, the joints the unit loads judged per child mass."""
+        model = self.model
+        assigned = idx >= 0
+        assigned[list(unit)] = False
+        free = ~assigned
+        free[list(unit)] = False
+        A, F = np.flatnonzero(assigned), np.flatnonzero(free)
+        st_ = dict(st, mmin=model.useful_mmin(st, floor))  # as child_bounds: its cached table
+        if not np.all(np.isfinite(st_["mmin"][np.r_[F, list(unit)]])):
+            return np.full(opts.size, np.inf)  # an open joint cannot reach the floor at all
+        own = model.mass[idx[A]].sum() + len(unit) * model.mass[opts]
+        # the joints the unit loads, per child mass, the others at their useful least
+        out = own + st_["mmin"][F].sum()
+        if per_child:
+            out = out + budget_bound.loaded_mass_rise(
+                model, F, idx, A, unit, opts, st_, floor, self.deadline
+            )
+        rest = budget_bound.free_mass_at_level(model, F, idx, A, st_, floor)
+        if rest is not None:
+            out = np.maximum(out, own + rest)
+        if self.levels is not None:
+            out = np.maximum(out, self.levels.mass_floor(idx, unit, opts, st_, floor))
+        return out
 
     def _node_candidates(self, idx: np.ndarray, level: int, cands: list, st: dict):
         """The candidates of the units still open below a node with IMF limits: options that
