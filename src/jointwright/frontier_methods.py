@@ -225,7 +225,7 @@ def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=
     ``upper``: a known bound from the neighbouring point, which ends the search when reached.
     Only the optimal value matters here, so ties are not searched.
     """
-    from .options import OutOfTime
+    from .option_rows import OutOfTime
     from .sizing import build_model, design_of, read_objective, units_of
     from .solve.search import BranchAndBound
 
