@@ -200,3 +200,11 @@ def test_more_sweep_points_never_lose_a_frontier_point(leg, seed, small):
             for a, b in got
         )
     assert len(many.points) >= len(few.points)
+
+
+def test_a_solve_whose_limit_ends_while_its_options_are_built_reports_the_time_limit(leg):
+    """A sweep solve whose time limit is spent before its option table is built answers
+    "time_limit" with no design, as a stopped run must, instead of failing."""
+    from jointwright.frontier_methods import _solve
+
+    assert _solve(leg, "payload", None, 1e-9, None, "search") == ("time_limit", None, None, None)
