@@ -25,6 +25,7 @@ from .problem import MINIMIZED, OBJECTIVES
 from .solve.engines import run_backend
 from .solve.model import SizingModel
 from .solve.result import SizingResult, SolveOutcome, relative_gap
+from .units import format_number
 
 BACKENDS = ("search", "pyomo", "enumerate")
 
@@ -319,11 +320,12 @@ def _message(status, kind, value, diag) -> str:
     unit = {"payload": "kg", "mass": "kg", "imf": "", "cost": "", "margin": ""}[kind]
     kind = {"payload": "payload mass", "margin": "smallest normalized margin"}.get(kind, kind)
     if status == "optimal":
-        return f"proven optimum over the discrete options: {kind} {value:.6g} {unit}".rstrip()
+        shown = f"{format_number(value)} {unit}".rstrip()
+        return f"proven optimum over the discrete options: {kind} {shown}"
     if status == "time_limit" and value is None:
         return "time limit reached before any design met every requirement"
     if status == "time_limit":
-        shown = f"{value:.6g} {unit}".rstrip()
+        shown = f"{format_number(value)} {unit}".rstrip()
         return f"time limit reached: best {kind} {shown}, see bound and gap"
     if status == "infeasible":
         return "no design meets every requirement" + ("; see the diagnosis" if diag else "")

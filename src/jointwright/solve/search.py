@@ -156,7 +156,10 @@ class BranchAndBound:
         else:
             bound = best[0] if best else -math.inf
             status = "optimal" if best else "infeasible"
-        native = f"{self.nodes} nodes, {self.scored} designs scored"
+        native = (
+            f"{self.nodes} node{'s' * (self.nodes != 1)}, "
+            f"{self.scored} design{'s' * (self.scored != 1)} scored"
+        )
         index = np.array(best[3]) if best else None
         return SolveOutcome(
             status, index, best[0] if best else -math.inf, bound, elapsed, native, self.nodes
