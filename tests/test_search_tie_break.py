@@ -53,7 +53,7 @@ def test_quadruped_tie_break_matches_enumeration(seed, monkeypatch):
     _search_alone(project, key[0], key[1])
 
 
-@pytest.mark.parametrize("seed", [1, 2, 5, 9, 14, 21])
+@pytest.mark.parametrize("seed", [2, 3, 5, 7, 9, 14])
 def test_leg_tie_break_matches_enumeration(seed):
     leg = example("leg")
     rng = np.random.default_rng(seed)
@@ -66,8 +66,7 @@ def test_leg_tie_break_matches_enumeration(seed):
     )
     project = set_limits(project, rng, build_table(project), keep_duty=False)
     ref, model = oracle(project, "payload")
-    if ref.status == "infeasible":
-        pytest.skip("no feasible design")
+    assert ref.status == "optimal"  # seeds chosen with a feasible design: nothing is skipped
     mass = float(model.mass[np.asarray(ref.index)].sum())
     _check(size(project, objective="payload", explain=False), ref.objective, mass)
     _search_alone(dataclasses.replace(project, objective={}), ref.objective, mass)
