@@ -21,7 +21,7 @@ instance and back-end: status, objective, bound, gap, wall and CPU seconds, and 
 after each instance. Results: docs/benchmarks.md.
 
     python benchmarks/size_scale.py [--only a,c] [--limit 60] [--no-pyomo]
-    python benchmarks/size_scale.py --table | --three-stage
+    python benchmarks/size_scale.py --table | --three-stage | --handover [--only a]
 """
 
 from __future__ import annotations
@@ -422,6 +422,54 @@ def three_stage_tables():
         options.MAX_OPTIONS = ceiling
 
 
+def handover(names, limit):
+    """The MILP hand-over's engines side by side on one instance: the algebraic Pyomo model, the
+    matrix-form model (solve/milp_matrix.py) from scratch, and the matrix-form model from the
+    primal heuristics' design (what the default runs); wall and CPU seconds of each."""
+    from jointwright.sizing import build_model, read_objective, units_of
+    from jointwright.solve.engines import first_design
+    from jointwright.solve.milp_matrix import solve_matrix_milp
+    from jointwright.solve.pyomo_backend import solve_pyomo
+
+    for name in names:
+        label, make = INSTANCES[name]
+        p = make()
+        cfg = read_objective(p)
+        model, _ = build_model(p, "payload", cfg["pin"], cfg["exclude"], cfg["shared"])
+        print(f"({name}) {label}: {sum(int(c.size) for c in model.candidates)} binaries")
+        c0, t0 = cpu(), time.perf_counter()
+        key = first_design(model, units_of(model.n, model.shared), limit)
+        heur = (time.perf_counter() - t0, cpu() - c0)
+        print(
+            f"    heuristics  {'—' if key is None else f'{key[0]:.4f}'}  wall {heur[0]:6.1f} s  "
+            f"CPU {heur[1]:6.1f} s"
+        )
+        runs = (
+            ("pyomo", lambda: solve_pyomo(model, None, time_limit=limit)),
+            ("matrix", lambda: solve_matrix_milp(model, time_limit=limit)),
+            (
+                "matrix+start",
+                lambda: solve_matrix_milp(
+                    model, time_limit=limit, start=None if key is None else np.asarray(key[3])
+                ),
+            ),
+        )
+        base = None
+        for label_, fn in runs:
+            c0, t0 = cpu(), time.perf_counter()
+            out = fn()
+            wall, used = time.perf_counter() - t0, cpu() - c0
+            if label_ == "matrix+start":
+                wall, used = wall + heur[0], used + heur[1]  # the default pays for the start
+            base = base or wall
+            print(
+                f"    {label_:12s} {out.status:10s} {out.objective:10.4f} bound {out.bound:10.4f}  "
+                f"wall {wall:6.1f} s  CPU {used:6.1f} s  ({base / wall:.2f}x the Pyomo wall)",
+                flush=True,
+            )
+        print(f"    load average {os.getloadavg()[0]:.2f}", flush=True)
+
+
 def main():
     ap = argparse.ArgumentParser()
     ap.add_argument("--only", default=",".join(INSTANCES))
@@ -431,7 +479,13 @@ def main():
     ap.add_argument(
         "--three-stage", action="store_true", help="the 3-stage leg tables after stack dominance"
     )
+    ap.add_argument(
+        "--handover", action="store_true", help="the MILP hand-over's engines side by side"
+    )
     a = ap.parse_args()
+    if a.handover:
+        handover(a.only.split(",") if a.only != ",".join(INSTANCES) else ["a"], a.limit)
+        return
     if a.table:
         table_building()
         return

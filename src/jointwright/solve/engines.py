@@ -57,18 +57,18 @@ def run_backend(
         from .search import BranchAndBound
 
         milp, incumbent = None, None
+        t0 = time.perf_counter()
+        first = first_design(model, units, time_limit, phase)
+        if first is not None:
+            incumbent = first
+        if time_limit is not None:
+            time_limit = max(time_limit - (time.perf_counter() - t0), 1e-3)
         if milp_suits(model):
             milp, incumbent = _milp_first(model, units, time_limit, incumbent, phase)
             if milp.status == "optimal":
                 return milp
             if time_limit is not None:
                 time_limit = max(time_limit - milp.seconds, 1e-3)
-        t0 = time.perf_counter()
-        first = first_design(model, units, time_limit, phase)
-        if first is not None and model.better(first, incumbent):
-            incumbent = first
-        if time_limit is not None:
-            time_limit = max(time_limit - (time.perf_counter() - t0), 1e-3)
         (phase or (lambda text: None))("searching")
         out = BranchAndBound(
             model, units, time_limit=time_limit, progress=progress, incumbent=incumbent
@@ -84,30 +84,32 @@ def run_backend(
 
 
 def _milp_first(model: SizingModel, units, time_limit, incumbent, phase):
-    """The MILP hand-over (solve/handover.py): Pyomo/HiGHS for its share of the time; its design
-    (scored by the physics like any) becomes the search's incumbent when it is better. An answer
-    within the MILP's gap counts as proven (status ``optimal``)."""
+    """The MILP hand-over (solve/handover.py): HiGHS on the matrix-form MILP
+    (solve/milp_matrix.py) for its share of the time, started from the heuristics' design; its
+    design (scored by the physics like any) becomes the search's incumbent when it is better. An
+    answer within the MILP's gap counts as proven (status ``optimal``)."""
     from .handover import MILP_GAP, milp_time
-    from .pyomo_backend import solve_pyomo
+    from .milp_matrix import solve_matrix_milp
 
     (phase or (lambda text: None))("searching (MILP)")
-    out = solve_pyomo(model, units, time_limit=milp_time(time_limit))
+    start = None if incumbent is None else np.asarray(incumbent[3])
+    out = solve_matrix_milp(model, time_limit=milp_time(time_limit), start=start)
     if out.index is not None:
         key = model.best_key(np.asarray(out.index)[None, :])
         if key is not None and model.better(key, incumbent):
             incumbent = key
     if (
-        out.index is not None
+        incumbent is not None
         and math.isfinite(out.bound)
-        and relative_gap(out.objective, out.bound) <= MILP_GAP
+        and relative_gap(incumbent[0], out.bound) <= MILP_GAP
     ):
         out = SolveOutcome(
             "optimal",
-            out.index,
-            out.objective,
-            out.bound,
+            np.asarray(incumbent[3]),
+            incumbent[0],
+            max(out.bound, incumbent[0]),
             out.seconds,
-            f"Pyomo/HiGHS hand-over: {out.native}",
+            f"HiGHS hand-over: {out.native}",
             out.nodes,
         )
     return out, incumbent
@@ -117,7 +119,7 @@ def _with_milp_bound(out: SolveOutcome, milp: SolveOutcome) -> SolveOutcome:
     """The search's outcome with the MILP's bound when that is lower (both hold for every design
     with a positive payload, and the MILP's only when it is ≥ 0: a design that cannot hold
     itself has a payload objective ≤ 0)."""
-    native = f"{out.native}; after Pyomo/HiGHS: {milp.native}"
+    native = f"{out.native}; after the HiGHS hand-over: {milp.native}"
     bound = out.bound
     if out.status == "time_limit" and math.isfinite(milp.bound) and milp.bound >= 0:
         bound = max(min(out.bound, milp.bound), out.objective)

@@ -1,4 +1,4 @@
-"""When the default back-end hands an instance to the MILP (Pyomo/HiGHS) first.
+"""When the default back-end hands an instance to the MILP (HiGHS, solve/milp_matrix.py).
 
 The branch and bound bounds a payload objective under a budget shared by many joints through
 relaxations (docs/optimizer.md, items 4a-4c); the MILP sees the budget and the gravity coupling
@@ -6,8 +6,9 @@ exactly in one linear program per node. When the MILP models *every* requirement
 (payload cases with their minimums, mass and cost budgets; every per-joint limit is already in
 the candidates), so no lazy cut is needed, and the instance couples many joints through a
 budget, HiGHS usually closes where the search stops at a gap (docs/benchmarks.md). The default
-then runs the MILP first, for a share of the time left, and continues with the primal heuristics
-and the branch and bound from the MILP's design when the MILP did not prove the optimum.
+then runs the MILP after the primal heuristics, from their design, for a share of the time left,
+and continues with the branch and bound from the best design when the MILP did not prove the
+optimum.
 """
 
 from __future__ import annotations
@@ -22,7 +23,8 @@ MILP_SHARE = 0.9
 MILP_SECONDS = 60.0
 #: joints at least (a small robot proves out in the search within seconds)
 MILP_MIN_JOINTS = 6
-#: candidate options summed over the joints at most (model size: x[j, o] binaries)
+#: candidate options summed over the joints at most (model size: x[u, o] binaries); HiGHS's
+#: presolve on much larger models can overrun its time limit (docs/optimizer.md)
 MILP_MAX_OPTIONS = 40_000
 #: relative gap at which a MILP answer is accepted as proven (HiGHS's default MIP gap)
 MILP_GAP = 1e-4

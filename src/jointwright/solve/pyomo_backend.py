@@ -46,7 +46,7 @@ BUILD_RATE = 5_000.0
 
 
 @contextlib.contextmanager
-def _quiet_stdout():
+def quiet_stdout():
     """Send solver output written to file descriptor 1 to stderr (keeps --json clean)."""
     sys.stdout.flush()
     saved = os.dup(1)
@@ -241,7 +241,7 @@ def solve_pyomo(model: SizingModel, units, *, time_limit=None, max_rounds=10_000
         left = deadline - time.perf_counter()
         if left <= 0:
             break
-        with _quiet_stdout():
+        with quiet_stdout():
             res = solver.solve(
                 m,
                 time_limit=min(left, 1e7),

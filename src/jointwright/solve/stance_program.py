@@ -274,9 +274,9 @@ def carried_payload_of(case, force: float) -> float:
 def _highs(highspy, cost, col_lo, col_hi, a, row_lo, row_hi):
     """A HiGHS object holding max cost·x over the rows and column bounds (quiet, dense → CSC);
     its start-up banner goes to stderr, as the MILP back-end's output does."""
-    from .pyomo_backend import _quiet_stdout
+    from .pyomo_backend import quiet_stdout
 
-    with _quiet_stdout():
+    with quiet_stdout():
         h = highspy.Highs()
     h.setOptionValue("output_flag", False)
     lp = highspy.HighsLp()

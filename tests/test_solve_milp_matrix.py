@@ -1,0 +1,70 @@
+"""The hand-over's matrix-form MILP (solve/milp_matrix.py) against exhaustive enumeration and
+against the Pyomo model of the same relaxation (solve/pyomo_backend.py).
+
+Instances: the bundled quadruped with one payload case per foot, its leg joints shared across
+the legs, a random small catalog and a random mass or cost budget (tests/
+test_solve_component_bound.py builds them). With payload cases and a budget only, the MILP models
+every requirement exactly, so its optimum is the enumerated one within HiGHS's relative gap of
+1e-4, and its bound is never below the enumerated optimum.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from test_solve_component_bound import _enumerate, _instance
+
+from jointwright.sizing import build_model
+from jointwright.solve.handover import MILP_GAP
+from jointwright.solve.milp_matrix import solve_matrix_milp
+from jointwright.solve.pyomo_backend import solve_pyomo
+
+
+def _model(seed, cost):
+    project, table = _instance(seed, cost)
+    model, _ = build_model(project, "payload", {}, [], project.objective["shared"])
+    return project, table, model
+
+
+@pytest.mark.parametrize(
+    "seed, cost", [(3, False), (4, False), (5, True), (6, False), (7, False), (8, True), (9, True)]
+)
+def test_matrix_milp_finds_the_enumerated_optimum(seed, cost, capfd):
+    project, table, model = _model(seed, cost)
+    key = _enumerate(project, table)
+    out = solve_matrix_milp(model)
+    assert capfd.readouterr().out == ""  # HiGHS's banner and log stay off stdout (--json)
+    if key is None or key[0] <= 0:  # no design carries a positive payload: the MILP says so
+        assert out.status == "infeasible" and out.index is None
+        return
+    f_star = key[0]
+    assert out.status == "optimal"
+    assert out.bound >= f_star - 1e-9 * max(1.0, abs(f_star))  # a valid bound
+    assert out.objective == pytest.approx(f_star, rel=MILP_GAP, abs=1e-9)
+    assert out.objective <= f_star + 1e-9 * max(1.0, abs(f_star))
+    # the shared joints take one option
+    for g in model.shared:
+        assert len(set(out.index[list(g)].tolist())) == 1
+
+
+@pytest.mark.parametrize("seed, cost", [(3, False), (8, True)])
+def test_matrix_milp_agrees_with_the_pyomo_model(seed, cost):
+    """The two builds of one relaxation reach one optimum (within the MIP gap) and bound."""
+    _, _, model = _model(seed, cost)
+    a = solve_matrix_milp(model)
+    b = solve_pyomo(model, None)
+    assert a.status == b.status
+    if a.index is not None:
+        assert a.objective == pytest.approx(b.objective, rel=MILP_GAP)
+
+
+def test_matrix_milp_starts_from_a_given_design():
+    """A start design is taken as HiGHS's first incumbent: the answer is never worse than it."""
+    project, table, model = _model(4, False)
+    key = _enumerate(project, table)
+    assert key is not None
+    out = solve_matrix_milp(model, start=np.asarray(key[3]))
+    assert out.objective >= key[0] * (1 - MILP_GAP)
+    assert math.isfinite(out.bound)
