@@ -447,10 +447,19 @@ def test_modes_group_by_mode_and_fold_a_long_last_group():
 
 
 @pytest.mark.parametrize(
-    ("gap", "text"), [(0.0, "0 %"), (0.136, "13.6 %"), (2e-5, "0.002 %"), (1.0, "100 %")]
+    ("gap", "text"),
+    [
+        (0.0, "0 %"),
+        (0.136, "13.6 %"),
+        (2e-5, "0.002 %"),
+        (1.0, "100 %"),
+        (1.11e-15, "0 %"),  # a MILP bound off by double-precision rounding
+        (1e-9, "1e-07 %"),
+    ],
 )
 def test_gap_reads_unsigned(gap, text):
-    """A relative gap |bound − objective| / |objective| is never negative: no sign."""
+    """A relative gap |bound − objective| / |objective| is never negative: no sign; a gap at
+    the rounding of double precision reads as 0."""
     from jointwright.report.wording import gap_text
 
     assert gap_text(gap) == text

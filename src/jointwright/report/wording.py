@@ -111,11 +111,17 @@ def wrench_text(case, *, minus: str = "−") -> str:
     return "; ".join(parts) + " (world axes)"
 
 
+#: a relative gap this small is the rounding of the objective and the bound in double precision
+#: (a MILP's bound carried through its own arithmetic), not a distance to the optimum
+ROUNDING_GAP = 1e-12
+
+
 def gap_text(gap) -> str:
     """A search's relative gap to the proven bound, unsigned (it is never negative): "0 %" when
-    proven optimal, "13.6 %", "0.002 %"."""
+    proven optimal or when the bound differs from the value by rounding only (below
+    :data:`ROUNDING_GAP`), "13.6 %", "0.002 %"."""
     g = float(gap)
-    return "0 %" if g == 0 else f"{100 * g:.3g} %"
+    return "0 %" if abs(g) < ROUNDING_GAP else f"{100 * g:.3g} %"
 
 
 def unknown_gap(project, kind: str) -> str:

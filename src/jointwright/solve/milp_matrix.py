@@ -166,7 +166,7 @@ def solve_matrix_milp(
 ) -> SolveOutcome:
     """Build and solve the payload MILP, from the design ``start`` (option per joint) when given;
     the MILP's design is scored by the numpy physics like any."""
-    with quiet_stdout():  # HiGHS prints its banner on stdout (keeps --json clean)
+    with quiet_stdout(discard=True):  # HiGHS prints its banner on stdout (keeps --json clean)
         import highspy
 
     t0 = time.perf_counter()
@@ -187,7 +187,7 @@ def solve_matrix_milp(
             0,
         )
     a = sp.csc_array(rows.A)
-    with quiet_stdout():
+    with quiet_stdout(discard=True):
         h = highspy.Highs()
     h.setOptionValue("output_flag", False)
     h.setOptionValue("mip_rel_gap", MILP_GAP)
@@ -220,7 +220,7 @@ def solve_matrix_milp(
             value = np.zeros(int(offset[-1]))
             value[cols] = 1.0
             h.setSolution(value.size, np.arange(value.size, dtype=np.int32), value)
-    with quiet_stdout():
+    with quiet_stdout(discard=True):
         h.run()
     seconds = time.perf_counter() - t0
     info = h.getInfo()

@@ -46,17 +46,21 @@ BUILD_RATE = 5_000.0
 
 
 @contextlib.contextmanager
-def quiet_stdout():
-    """Send solver output written to file descriptor 1 to stderr (keeps --json clean)."""
+def quiet_stdout(discard: bool = False):
+    """Send solver output written to file descriptor 1 to stderr (keeps --json clean), or to
+    nowhere with ``discard`` (a solver's banner when its log is off)."""
     sys.stdout.flush()
     saved = os.dup(1)
+    target = os.open(os.devnull, os.O_WRONLY) if discard else 2
     try:
-        os.dup2(2, 1)
+        os.dup2(target, 1)
         yield
     finally:
         sys.stdout.flush()
         os.dup2(saved, 1)
         os.close(saved)
+        if discard:
+            os.close(target)
 
 
 class _OutOfTime(Exception):
