@@ -44,7 +44,7 @@ def _search_alone(project, objective, mass):
 def test_quadruped_tie_break_matches_enumeration(seed, monkeypatch):
     import jointwright.solve.handover as handover
 
-    monkeypatch.setattr(handover, "milp_suits", lambda model: False)
+    monkeypatch.setattr(handover, "milp_models", lambda model: False)
     project, table = _instance(seed, False)
     key = _enumerate(project, table)
     if key is None:

@@ -120,7 +120,7 @@ def test_search_with_component_bound_matches_enumeration(seed, milp, monkeypatch
     model, _ = build_model(project, "payload", {}, [], project.objective["shared"])
     assert handover.milp_suits(model)
     if not milp:
-        monkeypatch.setattr(handover, "milp_suits", lambda model: False)
+        monkeypatch.setattr(handover, "milp_models", lambda model: False)
     key = _enumerate(project, table)
     res = size(project, explain=False)
     if key is None:

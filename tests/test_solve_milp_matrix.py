@@ -68,3 +68,66 @@ def test_matrix_milp_starts_from_a_given_design():
     out = solve_matrix_milp(model, start=np.asarray(key[3]))
     assert out.objective >= key[0] * (1 - MILP_GAP)
     assert math.isfinite(out.bound)
+
+
+@pytest.mark.parametrize("seed, cost", [(4, False), (7, False), (9, True)])
+def test_root_candidates_keep_every_design_at_least_the_incumbent(seed, cost):
+    """The options the hand-over passes to HiGHS (the search's root cuts with an incumbent)
+    hold every design that beats the incumbent (a greater payload, or a tie with less mass:
+    the tie-break): checked over every enumerated design, with the optimum and with a weaker
+    feasible design as the incumbent."""
+    import itertools
+
+    from jointwright.sizing import units_of
+    from jointwright.solve.search import BranchAndBound
+
+    project, table, model = _model(seed, cost)
+    groups = [list(g) for g in model.shared]
+    rows = []
+    for combo in itertools.product(*(model.candidates[g[0]] for g in groups)):
+        idx = np.empty(model.n, dtype=np.int64)
+        for g, o in zip(groups, combo, strict=True):
+            idx[g] = o
+        rows.append(idx)
+    rows = np.array(rows)
+    s = model.score(rows)
+    value = np.where(s.feasible, s.objective, -np.inf)
+    order = np.argsort(-value)
+    good = [int(r) for r in order if np.isfinite(value[r]) and value[r] > 0]
+    assert len(good) >= 2
+    units = units_of(model.n, model.shared)
+    for r in (good[0], good[len(good) // 2]):
+        incumbent = model.key(s, r)
+        kept = BranchAndBound(model, units, incumbent=incumbent).root_candidates()
+        reach = value >= incumbent[0] - 1e-9 * max(1.0, abs(incumbent[0]))
+        beats = [d for d in np.flatnonzero(reach) if model.better(model.key(s, d), incumbent)]
+        assert r == good[0] or beats  # a weaker incumbent leaves designs that beat it
+        for d in [*beats, r]:
+            assert all(rows[d, j] in kept[j] for j in range(model.n))
+
+
+@pytest.mark.parametrize(
+    "seed, cost, squeeze", [(5, True, False), (7, False, False), (7, False, True)]
+)
+def test_size_through_the_hand_over_matches_enumeration(seed, cost, squeeze):
+    """`size` with the hand-over (root cuts, MILP, then the search) reaches the enumerated
+    optimum, also when no design carries a positive payload and when the budget fits no design
+    at all (no incumbent for the root cuts)."""
+    import dataclasses
+
+    from jointwright.project import Requirements
+    from jointwright.sizing import size
+
+    project, table, model = _model(seed, cost)
+    if squeeze:  # below the lightest design: nothing fits
+        light = float(model.n * table.rows["mass"].min())
+        project = dataclasses.replace(
+            project, requirements=Requirements(total_mass_max=0.5 * light)
+        )
+    key = _enumerate(project, table)
+    res = size(project, explain=False)
+    if key is None:
+        assert res.status == "infeasible" and res.design is None
+        return
+    assert res.status == "optimal" and res.assessment.feasible
+    assert res.objective == pytest.approx(key[0], rel=MILP_GAP, abs=1e-9)

@@ -6,12 +6,13 @@ far; or the Pyomo back-end, or enumeration. Time shares: docs/optimizer.md, "The
 
 from __future__ import annotations
 
+import copy
 import math
 import time
 
 import numpy as np
 
-from .model import SizingModel
+from .model import SizingModel, tie_tol
 from .result import SolveOutcome, relative_gap
 
 #: share of the search's time given to the primal heuristics, and its cap in seconds
@@ -53,26 +54,25 @@ def run_backend(
     model: SizingModel, units, backend: str, time_limit, progress, phase=None
 ) -> SolveOutcome:
     if backend == "search":
-        from .handover import milp_suits
+        from .handover import milp_models
         from .search import BranchAndBound
 
-        milp, incumbent = None, None
         t0 = time.perf_counter()
-        first = first_design(model, units, time_limit, phase)
-        if first is not None:
-            incumbent = first
+        incumbent = first_design(model, units, time_limit, phase)
         if time_limit is not None:
             time_limit = max(time_limit - (time.perf_counter() - t0), 1e-3)
-        if milp_suits(model):
-            milp, incumbent = _milp_first(model, units, time_limit, incumbent, phase)
-            if milp.status == "optimal":
-                return milp
-            if time_limit is not None:
-                time_limit = max(time_limit - milp.seconds, 1e-3)
         (phase or (lambda text: None))("searching")
-        out = BranchAndBound(
+        search = BranchAndBound(
             model, units, time_limit=time_limit, progress=progress, incumbent=incumbent
-        ).run()
+        )
+        milp = None
+        if milp_models(model):
+            milp, incumbent = _milp_first(model, search, incumbent, phase)
+            if milp is not None and milp.status == "optimal":
+                return milp
+            if incumbent is not None and model.better(incumbent, search.best_key):
+                search.best_key = incumbent
+        out = search.run()
         return out if milp is None else _with_milp_bound(out, milp)
     if backend == "pyomo":
         from .pyomo_backend import solve_pyomo
@@ -83,36 +83,50 @@ def run_backend(
     return enumerate_all(model)
 
 
-def _milp_first(model: SizingModel, units, time_limit, incumbent, phase):
-    """The MILP hand-over (solve/handover.py): HiGHS on the matrix-form MILP
-    (solve/milp_matrix.py) for its share of the time, started from the heuristics' design; its
-    design (scored by the physics like any) becomes the search's incumbent when it is better. An
-    answer within the MILP's gap counts as proven (status ``optimal``)."""
-    from .handover import MILP_GAP, milp_time
+def _milp_first(model: SizingModel, search, incumbent, phase):
+    """The MILP hand-over (solve/handover.py): the options that survive the search's root cuts
+    with the heuristics' design (:meth:`.search.BranchAndBound.root_candidates`), when they fit
+    the MILP, go to HiGHS in matrix form (solve/milp_matrix.py) for its share of the time, from
+    that design. Its design (scored by the physics like any) becomes the incumbent when it is
+    better. Every design that beats the incumbent less its tie tolerance takes only those
+    options, so the optimum is at most the larger of that floor and the MILP's bound; an answer
+    within the MILP's gap of it counts as proven (status ``optimal``). None when the options left
+    do not fit."""
+    from .handover import MILP_GAP, milp_fits, milp_time
     from .milp_matrix import solve_matrix_milp
 
+    t0 = time.perf_counter()
+    reduced, floor = model, -math.inf
+    if incumbent is not None:
+        reduced = copy.copy(model)
+        reduced.candidates = search.root_candidates()
+        floor = incumbent[0] - tie_tol(incumbent[0])
+    if not milp_fits(reduced.candidates):
+        return None, incumbent
+    left = None if math.isinf(search.deadline) else max(search.deadline - time.perf_counter(), 1e-3)
     (phase or (lambda text: None))("searching (MILP)")
     start = None if incumbent is None else np.asarray(incumbent[3])
-    out = solve_matrix_milp(model, time_limit=milp_time(time_limit), start=start)
+    out = solve_matrix_milp(reduced, time_limit=milp_time(left), start=start)
+    # every design: payload ≤ 0, or in the reduced MILP (≤ its bound), or below the floor
+    bound = max(0.0 if out.status == "infeasible" else max(out.bound, 0.0), floor)
     if out.index is not None:
         key = model.best_key(np.asarray(out.index)[None, :])
         if key is not None and model.better(key, incumbent):
             incumbent = key
-    if (
-        incumbent is not None
-        and math.isfinite(out.bound)
-        and relative_gap(incumbent[0], out.bound) <= MILP_GAP
-    ):
-        out = SolveOutcome(
-            "optimal",
-            np.asarray(incumbent[3]),
-            incumbent[0],
-            max(out.bound, incumbent[0]),
-            out.seconds,
-            f"HiGHS hand-over: {out.native}",
-            out.nodes,
-        )
-    return out, incumbent
+    seconds = time.perf_counter() - t0
+    if incumbent is None:
+        return SolveOutcome("time_limit", None, -math.inf, bound, seconds, out.native, 0), None
+    proven = math.isfinite(bound) and relative_gap(incumbent[0], bound) <= MILP_GAP
+    outcome = SolveOutcome(
+        "optimal" if proven else "time_limit",
+        np.asarray(incumbent[3]),
+        incumbent[0],
+        max(bound, incumbent[0]),
+        seconds,
+        f"HiGHS hand-over: {out.native}" if proven else out.native,
+        out.nodes,
+    )
+    return outcome, incumbent
 
 
 def _with_milp_bound(out: SolveOutcome, milp: SolveOutcome) -> SolveOutcome:

@@ -6,9 +6,9 @@ exactly in one linear program per node. When the MILP models *every* requirement
 (payload cases with their minimums, mass and cost budgets; every per-joint limit is already in
 the candidates), so no lazy cut is needed, and the instance couples many joints through a
 budget, HiGHS usually closes where the search stops at a gap (docs/benchmarks.md). The default
-then runs the MILP after the primal heuristics, from their design, for a share of the time left,
-and continues with the branch and bound from the best design when the MILP did not prove the
-optimum.
+then cuts the options at the search's root with the primal heuristics' design, runs the MILP
+over the options left, from that design, for a share of the time left, and continues with the
+branch and bound from the best design when the MILP did not prove the optimum.
 """
 
 from __future__ import annotations
@@ -30,12 +30,12 @@ MILP_MAX_OPTIONS = 40_000
 MILP_GAP = 1e-4
 
 
-def milp_suits(model: SizingModel) -> bool:
+def milp_models(model: SizingModel) -> bool:
     """Whether the MILP models every requirement of ``model`` exactly and the instance is the
     kind it closes: payload objective, a finite mass or cost budget, at least
     :data:`MILP_MIN_JOINTS` joints, no case limit other than a payload minimum or a speed minimum
-    (any other would need lazy cuts: correct, but slow) and at most :data:`MILP_MAX_OPTIONS`
-    candidates. Per-joint limits are in the candidates already."""
+    (any other would need lazy cuts: correct, but slow). Per-joint limits are in the candidates
+    already."""
     if model.kind != "payload" or model.measure is not None or not model.payload:
         return False
     if not (math.isfinite(model.total_mass_max) or math.isfinite(model.total_cost_max)):
@@ -45,9 +45,18 @@ def milp_suits(model: SizingModel) -> bool:
     exact = {"payload": {"payload_min"}, "speed": {"speed_min"}}  # the MILP's rows, the filters
     if any(not set(c.limits) <= exact.get(c.kind, set()) for c in model.project.cases):
         return False
-    if model.project.rotor_coupling:
-        return False
-    return sum(int(c.size) for c in model.candidates) <= MILP_MAX_OPTIONS
+    return not model.project.rotor_coupling
+
+
+def milp_fits(candidates) -> bool:
+    """Whether the options left per joint make a MILP of at most :data:`MILP_MAX_OPTIONS`
+    binaries."""
+    return sum(int(c.size) for c in candidates) <= MILP_MAX_OPTIONS
+
+
+def milp_suits(model: SizingModel) -> bool:
+    """:func:`milp_models` and :func:`milp_fits` on the model's own candidates."""
+    return milp_models(model) and milp_fits(model.candidates)
 
 
 def milp_time(time_left: float | None) -> float:

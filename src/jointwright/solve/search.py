@@ -165,6 +165,18 @@ class BranchAndBound:
             status, index, best[0] if best else -math.inf, bound, elapsed, native, self.nodes
         )
 
+    def root_candidates(self) -> list[np.ndarray]:
+        """Per joint, the options that survive the root's cuts (:meth:`_children` at the root,
+        each unit in turn): every design that beats the incumbent, or ties it with less mass,
+        takes only these; the rest cannot reach the incumbent less its tie tolerance."""
+        root = np.full(self.model.n, -1, dtype=np.int64)
+        out = list(self.model.candidates)
+        for u in self.units:
+            kept, _ = self._children(root, u, self.unit_options(u), self.st)
+            for j in u:
+                out[j] = np.sort(kept)
+        return out
+
     # ------------------------------------------------------------------------------------------
     def _stance_probe(self):
         """The candidates the search starts from, and their statistics: with stance cases and an
