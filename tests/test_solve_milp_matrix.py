@@ -10,6 +10,7 @@ every requirement exactly, so its optimum is the enumerated one within HiGHS's r
 
 from __future__ import annotations
 
+import functools
 import math
 
 import numpy as np
@@ -76,20 +77,17 @@ def test_root_candidates_keep_every_design_at_least_the_incumbent(seed, cost):
     hold every design that beats the incumbent (a greater payload, or a tie with less mass:
     the tie-break): checked over every enumerated design, with the optimum and with a weaker
     feasible design as the incumbent."""
-    import itertools
-
     from jointwright.sizing import units_of
+    from jointwright.solve.enumerate import combinations
     from jointwright.solve.search import BranchAndBound
 
     project, table, model = _model(seed, cost)
     groups = [list(g) for g in model.shared]
-    rows = []
-    for combo in itertools.product(*(model.candidates[g[0]] for g in groups)):
-        idx = np.empty(model.n, dtype=np.int64)
-        for g, o in zip(groups, combo, strict=True):
-            idx[g] = o
-        rows.append(idx)
-    rows = np.array(rows)
+    per_group = [functools.reduce(np.intersect1d, [model.candidates[j] for j in g]) for g in groups]
+    combos = combinations(per_group, 0, int(np.prod([o.size for o in per_group])))
+    rows = np.empty((combos.shape[0], model.n), dtype=np.int64)
+    for k, g in enumerate(groups):
+        rows[:, g] = combos[:, [k]]
     s = model.score(rows)
     value = np.where(s.feasible, s.objective, -np.inf)
     order = np.argsort(-value)
