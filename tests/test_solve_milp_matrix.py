@@ -129,3 +129,17 @@ def test_size_through_the_hand_over_matches_enumeration(seed, cost, squeeze):
         return
     assert res.status == "optimal" and res.assessment.feasible
     assert res.objective == pytest.approx(key[0], rel=MILP_GAP, abs=1e-9)
+
+
+@pytest.mark.parametrize("seed, cost", [(4, False), (9, True)])
+def test_a_proven_upper_bound_keeps_the_optimum_and_caps_the_bound(seed, cost):
+    """The payload column's upper bound (the search's root bound in the hand-over) cuts off no
+    design: with the enumerated optimum itself as the bound, HiGHS still reaches it, and its
+    bound is then the optimum."""
+    project, table, model = _model(seed, cost)
+    key = _enumerate(project, table)
+    f_star = key[0]
+    out = solve_matrix_milp(model, upper=f_star)
+    assert out.status == "optimal"
+    assert out.objective == pytest.approx(f_star, rel=MILP_GAP)
+    assert f_star - 1e-9 <= out.bound <= f_star * (1 + 1e-9)

@@ -106,9 +106,11 @@ def _milp_first(model: SizingModel, search, incumbent, phase):
     left = None if math.isinf(search.deadline) else max(search.deadline - time.perf_counter(), 1e-3)
     (phase or (lambda text: None))("searching (MILP)")
     start = None if incumbent is None else np.asarray(incumbent[3])
-    out = solve_matrix_milp(reduced, time_limit=milp_time(left), start=start)
+    # the search's root bound (items 4b, 4c, 9) holds for every design: the payload's upper bound
+    out = solve_matrix_milp(reduced, time_limit=milp_time(left), start=start, upper=search.cap)
     # every design: payload ≤ 0, or in the reduced MILP (≤ its bound), or below the floor
     bound = max(0.0 if out.status == "infeasible" else max(out.bound, 0.0), floor)
+    bound = min(bound, search.cap)
     if out.index is not None:
         key = model.best_key(np.asarray(out.index)[None, :])
         if key is not None and model.better(key, incumbent):

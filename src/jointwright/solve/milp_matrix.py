@@ -82,9 +82,11 @@ def _units(model: SizingModel):
     return unit_of, options
 
 
-def build(model: SizingModel):
+def build(model: SizingModel, upper: float = math.inf):
     """The MILP's arrays: (objective vector, integrality, bounds, constraint, the x columns'
-    offset per unit, the options per unit, the unit of each joint)."""
+    offset per unit, the options per unit, the unit of each joint). ``upper``: a proven bound
+    on every design's payload, the payload column's upper bound (every design keeps its own
+    payload in the MILP, so none is cut off; HiGHS's bound and gap then start from it)."""
     n = model.n
     unit_of, options = _units(model)
     offset = np.concatenate([[0], np.cumsum([o.size for o in options])]).astype(np.int64)
@@ -157,15 +159,20 @@ def build(model: SizingModel):
     lb = np.full(n_all, -np.inf)
     ub = np.full(n_all, np.inf)
     lb[:n_x], ub[:n_x] = 0.0, 1.0
-    lb[col_s], ub[col_s] = 0.0, BIG
+    lb[col_s], ub[col_s] = 0.0, min(BIG, upper)
     return c, integrality, Bounds(lb, ub), rows.constraint(n_all), offset, options, unit_of
 
 
 def solve_matrix_milp(
-    model: SizingModel, *, time_limit: float | None = None, start: np.ndarray | None = None
+    model: SizingModel,
+    *,
+    time_limit: float | None = None,
+    start: np.ndarray | None = None,
+    upper: float = math.inf,
 ) -> SolveOutcome:
-    """Build and solve the payload MILP, from the design ``start`` (option per joint) when given;
-    the MILP's design is scored by the numpy physics like any."""
+    """Build and solve the payload MILP, from the design ``start`` (option per joint) when given,
+    with the payload at most ``upper`` (a proven bound, :func:`build`); the MILP's design is
+    scored by the numpy physics like any."""
     with quiet_stdout(discard=True):  # HiGHS prints its banner on stdout (keeps --json clean)
         import highspy
 
@@ -174,7 +181,7 @@ def solve_matrix_milp(
         return SolveOutcome(
             "infeasible", None, -math.inf, -math.inf, 0.0, "a joint has no option", 0
         )
-    c, integrality, bounds, rows, offset, options, unit_of = build(model)
+    c, integrality, bounds, rows, offset, options, unit_of = build(model, upper)
     left = math.inf if time_limit is None else time_limit - (time.perf_counter() - t0)
     if left <= 0:
         return SolveOutcome(
