@@ -87,9 +87,17 @@ def test_stage_kinds_and_exclusions(leg):
     assert all(s.frame.name != "Orbit-1" for a in table.actuators for s in a.stages)
 
 
-def test_too_many_options_is_an_input_error(leg):
-    with pytest.raises(InputError, match="max_stages"):
-        build_table(dataclasses.replace(leg, max_stages=3))
+def test_too_many_options_is_an_input_error(leg, monkeypatch):
+    """Above the ceiling the table is refused with one message naming the field and the rule,
+    with stack dominance (the count after it) and without."""
+    import jointwright.options as options
+
+    monkeypatch.setattr(options, "MAX_OPTIONS", 5_000)
+    for dominance in (False, True):
+        with pytest.raises(InputError, match="max_stages") as err:
+            build_table(dataclasses.replace(leg, max_stages=2), dominance=dominance)
+        assert "exceed the limit of 5000" in str(err.value)
+    assert len(build_table(dataclasses.replace(leg, max_stages=1))) <= 5_000
 
 
 def test_pins_match_motor_and_stages(leg):

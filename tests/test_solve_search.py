@@ -610,3 +610,31 @@ def test_refined_imf_bounds_hold_for_every_completion_that_meets_the_limits(leg,
             for nm in names:
                 assert per[nm][0][k] >= ev[nm]["imf"][r] - 1e-12
                 assert per[nm][1][k] >= ev[nm]["imf_direction"][r] - 1e-12
+
+
+def test_impact_bounds_in_pieces_equal_the_bounds_in_one(leg, monkeypatch):
+    """The IMF bounds of many rows are computed in pieces (memory); each row is bounded on its
+    own, so the pieces give the same bounds as one batch, to the last bit."""
+    import jointwright.solve.impact_bound as impact_bound
+
+    rng = np.random.default_rng(5)
+    project = dataclasses.replace(
+        leg,
+        catalog=small_catalog(leg.catalog, rng, motors=4, kinds=2, ratios=3),
+        max_stages=1,
+        stage_kinds=None,
+        objective={},
+    )
+    table = build_table(project)
+    n = len(project.robot.actuated)
+    model = SizingModel(project, table, [np.arange(len(table))] * n, "imf")
+    rows = rng.integers(0, len(table), (200, n))
+    m_lo, r_lo = model.mass[rows], model.reflected[rows]
+    m_hi = m_lo * rng.uniform(1.0, 1.5, m_lo.shape)
+    whole = impact_bound._impact_bounds_at(model, 200, m_lo, m_hi, r_lo)
+    monkeypatch.setattr(impact_bound, "BOUND_CHUNK", 7)  # 29 pieces, the last one short
+    pieces = impact_bound._impact_bounds_at(model, 200, m_lo, m_hi, r_lo)
+    assert whole.keys() == pieces.keys() and whole
+    for name in whole:
+        for a, b in zip(whole[name], pieces[name], strict=True):
+            assert a.shape == (200,) and np.array_equal(a, b)

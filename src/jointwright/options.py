@@ -53,8 +53,8 @@ R20 = (
 )
 
 #: largest number of options the table may hold (memory: a whole sizing run of the 3-joint leg
-#: with 645,280 options peaked at 0.7 GB resident, docs/benchmarks.md instance (f))
-MAX_OPTIONS = 1_000_000
+#: with 3-stage stacks, 1,147,959 options, peaked at 2.3 GB resident, docs/benchmarks.md)
+MAX_OPTIONS = 2_000_000
 
 #: largest number of stage stacks examined for dominance before the options are built (each
 #: costs one Python row, about 20 µs, and a few hundred bytes)

@@ -221,8 +221,33 @@ def _objective_of(model, got: dict) -> np.ndarray:
     return got[model.measure[1]][0]
 
 
+#: rows of mass and inertia extremes bounded at once: each row holds a few mass matrices and
+#: their factors (kilobytes), so a table of a million options is bounded in pieces
+BOUND_CHUNK = 16_384
+
+
 def _impact_bounds_at(model, K: int, m_lo, m_hi, r_lo) -> dict:
-    """:func:`impact_bounds` for given mass and reflected-inertia extremes (K, n)."""
+    """:func:`impact_bounds` for given mass and reflected-inertia extremes (K, n), in pieces of
+    :data:`BOUND_CHUNK` rows (each row is bounded on its own)."""
+    if K <= BOUND_CHUNK:
+        return _impact_bounds_rows(model, K, m_lo, m_hi, r_lo)
+    m_lo, m_hi, r_lo = (np.broadcast_to(a, (K, model.n)) for a in (m_lo, m_hi, r_lo))
+    parts = [
+        _impact_bounds_rows(
+            model,
+            min(K, s + BOUND_CHUNK) - s,
+            *(a[s : s + BOUND_CHUNK] for a in (m_lo, m_hi, r_lo)),
+        )
+        for s in range(0, K, BOUND_CHUNK)
+    ]
+    return {
+        name: tuple(np.concatenate([p[name][i] for p in parts]) for i in range(2))
+        for name in parts[0]
+    }
+
+
+def _impact_bounds_rows(model, K: int, m_lo, m_hi, r_lo) -> dict:
+    """:func:`_impact_bounds_at` on one piece."""
     from ..robot.basis import mass_matrix
 
     locked = ~np.isfinite(r_lo)
