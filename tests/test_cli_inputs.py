@@ -1285,6 +1285,13 @@ def test_size_time_limit_must_be_positive(examples):
     _assert_names(message, "<command line>", "--time-limit", "must be > 0 s")
 
 
+@pytest.mark.parametrize("gap", ["-0.5", "1", "3"])
+def test_size_gap_must_be_a_fraction(examples, gap):
+    project = examples["arm"] / "project.toml"
+    message = _one_error_line(_run(["size", str(project), "--gap", gap]))
+    _assert_names(message, "<command line>", "--gap", "must be at least 0 and below 1")
+
+
 def test_new_into_a_folder_that_is_not_empty(tmp_path):
     (tmp_path / "notes.txt").write_text("keep me")
     message = _one_error_line(_run(["new", str(tmp_path)]))

@@ -18,7 +18,7 @@ import pytest
 from test_solve_component_bound import _enumerate, _instance
 
 from jointwright.sizing import build_model
-from jointwright.solve.handover import MILP_GAP
+from jointwright.solve.result import OPTIMALITY_GAP as MILP_GAP
 from jointwright.solve.milp_matrix import solve_matrix_milp
 from jointwright.solve.pyomo_backend import solve_pyomo
 

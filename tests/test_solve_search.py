@@ -60,6 +60,17 @@ def small_catalog(catalog, rng, motors=2, kinds=2, ratios=2):
     return Catalog(motors=tuple(ms), stages=tuple(stages), drives=catalog.drives)
 
 
+def small_leg(leg, rng, **sizes):
+    """The leg with a random small catalog (:func:`small_catalog`), one stage, no objective."""
+    return dataclasses.replace(
+        leg,
+        catalog=small_catalog(leg.catalog, rng, **sizes),
+        max_stages=1,
+        stage_kinds=None,
+        objective={},
+    )
+
+
 def oracle(project, kind, pins=None, shared_idx=()):
     """Enumeration over every unfiltered option (pins applied), the reference optimum."""
     table = build_table(project)
@@ -112,7 +123,7 @@ def agree(project, kind, pins=None, shared=None):
     joints = list(project.robot.actuated)
     shared_idx = [tuple(joints.index(j) for j in g) for g in (shared or [])]
     ref, model = oracle(project, kind, pins, shared_idx)
-    res = size(project, objective=kind, pins=pins or {}, shared=shared or [], explain=False)
+    res = size(project, objective=kind, pins=pins or {}, shared=shared or [], explain=False, gap=0)
     if ref.status == "infeasible":
         assert res.status == "infeasible"
         return res
@@ -132,11 +143,84 @@ def agree(project, kind, pins=None, shared=None):
 @given(seed=st.integers(0, 2**31 - 1), kind=st.sampled_from(["payload", "mass", "imf"]))
 def test_leg_instances_match_enumeration(leg, seed, kind):
     rng = np.random.default_rng(seed)
-    project = dataclasses.replace(
-        leg, catalog=small_catalog(leg.catalog, rng), max_stages=1, stage_kinds=None, objective={}
-    )
+    project = small_leg(leg, rng)
     project = set_limits(project, rng, build_table(project), keep_duty=rng.random() < 0.5)
     agree(project, kind)
+
+
+@settings(
+    max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
+@given(
+    seed=st.integers(0, 2**31 - 1),
+    kind=st.sampled_from(["payload", "mass", "imf"]),
+    gap=st.sampled_from([1e-4, 0.01, 0.05, 0.2]),
+)
+def test_optimality_gap_holds_against_enumeration(leg, seed, kind, gap):
+    """With a relative gap the search may stop short of the optimum, never by more than the gap,
+    and its bound still holds: bound ≥ the enumerated optimum ≥ objective ≥ bound − gap·|objective|
+    (the MIP convention of a relative gap; checked here against every design of the instance)."""
+    rng = np.random.default_rng(seed)
+    project = small_leg(leg, rng)
+    project = set_limits(project, rng, build_table(project), keep_duty=False)
+    ref, _ = oracle(project, kind)
+    res = size(project, objective=kind, explain=False, gap=gap)
+    if ref.status == "infeasible":
+        assert res.status == "infeasible"
+        return
+    assert res.status == "optimal"
+    assert res.assessment.feasible
+    sense = -1.0 if kind == "mass" else 1.0
+    value, bound = sense * res.objective, sense * res.bound
+    tol = 1e-9 * max(1.0, abs(ref.objective))
+    assert bound >= ref.objective - tol  # the bound holds
+    assert value <= ref.objective + tol  # no design beats the optimum
+    assert value >= bound - gap * abs(value) - tol  # within the gap asked for
+    assert res.gap <= gap + 1e-12
+
+
+@pytest.mark.slow
+@settings(
+    max_examples=15, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
+@given(
+    seed=st.integers(0, 2**31 - 1),
+    kind=st.sampled_from(["payload", "mass"]),
+    gap=st.sampled_from([0.02, 0.1, 0.3]),
+)
+def test_search_with_a_gap_keeps_a_valid_bound(leg, seed, kind, gap):
+    """The branch and bound alone, from the worst of a few random designs, so that its incumbent
+    is often within a large gap of the optimum without being optimal and the nodes left out for
+    the gap decide the bound: the bound must still hold for every enumerated design, and the
+    value stay within the gap."""
+    from jointwright.sizing import units_of
+    from jointwright.solve.search import BranchAndBound
+
+    rng = np.random.default_rng(seed)
+    project = small_leg(leg, rng, motors=3, kinds=2, ratios=3)
+    project = set_limits(project, rng, build_table(project), keep_duty=False)
+    ref, model = oracle(project, kind)
+    if ref.status == "infeasible":
+        return
+    # a first design: the worst feasible one of a few random ones, usually short of the optimum
+    keys = [model.best_key(row[None]) for row in rng.integers(0, len(model.table), (64, model.n))]
+    keys = [k for k in keys if k is not None]
+    first = min(keys, key=lambda k: k[0]) if keys else None
+    out = BranchAndBound(model, units_of(model.n, ()), gap=gap, incumbent=first).run()
+    assert out.status == "optimal"
+    tol = 1e-9 * max(1.0, abs(ref.objective))
+    assert out.bound >= ref.objective - tol
+    assert out.objective <= ref.objective + tol
+    assert out.objective >= out.bound - gap * abs(out.objective) - tol
+
+
+def test_gap_is_checked():
+    from jointwright.errors import InputError
+
+    leg_ = example("leg")
+    for bad in (-0.1, 1.0, "0.01", True):
+        with pytest.raises(InputError, match="gap"):
+            size(leg_, gap=bad, explain=False)
 
 
 @pytest.mark.slow
@@ -312,9 +396,7 @@ def test_first_design_is_feasible_and_never_beats_the_optimum(leg, seed, kind):
     from jointwright.solve.heuristic import Heuristic
 
     rng = np.random.default_rng(seed)
-    project = dataclasses.replace(
-        leg, catalog=small_catalog(leg.catalog, rng), max_stages=1, stage_kinds=None, objective={}
-    )
+    project = small_leg(leg, rng)
     project = set_limits(project, rng, build_table(project), keep_duty=rng.random() < 0.5)
     ref, _ = oracle(project, kind)
     model, _ = build_model(project, kind, {}, [], [])
@@ -337,13 +419,7 @@ def test_impact_bounds_hold_for_every_completion(leg, seed):
     IMF definition: Wensing et al., IEEE T-RO 33(3), 2017 [pub]) are at or above the IMF and the
     directional IMF the evaluator computes for random completions of it."""
     rng = np.random.default_rng(seed)
-    project = dataclasses.replace(
-        leg,
-        catalog=small_catalog(leg.catalog, rng, motors=3, kinds=2, ratios=3),
-        max_stages=1,
-        stage_kinds=None,
-        objective={},
-    )
+    project = small_leg(leg, rng, motors=3, kinds=2, ratios=3)
     table = build_table(project)
     n = len(project.robot.actuated)
     model = SizingModel(project, table, [np.arange(len(table))] * n, "imf")
@@ -526,7 +602,7 @@ def test_quadruped_with_stance_cases_matches_enumeration(seed, kind):
             idx[g] = o
         rows.append(idx)
     key = model.best_key(np.array(rows))
-    res = size(project, explain=False)
+    res = size(project, explain=False, gap=0)
     if key is None:
         assert res.status == "infeasible"
         return

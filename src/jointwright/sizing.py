@@ -24,7 +24,7 @@ from .options import JointCandidates, build_table, joint_candidates
 from .problem import MINIMIZED, OBJECTIVES
 from .solve.engines import run_backend
 from .solve.model import SizingModel
-from .solve.result import SizingResult, SolveOutcome, relative_gap
+from .solve.result import OPTIMALITY_GAP, ROUNDING_GAP, SizingResult, SolveOutcome, relative_gap
 from .units import format_number
 
 BACKENDS = ("search", "pyomo", "enumerate")
@@ -62,6 +62,10 @@ def build_model(
     model.candidates = list(cands.index)
     _check_deadline(deadline)
     phase("tightening")
+    if deadline is not None:
+        # a share of the time left: the cuts are optional, a first design is not
+        now = time.perf_counter()
+        deadline = now + TIGHTEN_SHARE * max(deadline - now, 0.0)
     tighten(model, units_of(n, shared_idx), deadline=deadline)
     return model, cands
 
@@ -71,9 +75,16 @@ def _check_deadline(deadline) -> None:
         raise OutOfTime("the time limit ran out while the options were prepared")
 
 
+#: share of the time left after the filters that the root tightening may take
+TIGHTEN_SHARE = 0.5
+#: options of a unit judged at once by the tightening (the clock is read between pieces)
+TIGHTEN_CHUNK = 65_536
+
+
 def tighten(model: SizingModel, units: list[tuple], rounds: int = 10, deadline=None) -> None:
     """Remove options that miss a requirement for every completion; repeat until nothing changes
-    (or ``deadline`` passes: every round only removes options, so stopping early is safe)."""
+    (or ``deadline`` passes, checked between pieces of :data:`TIGHTEN_CHUNK` options: every
+    piece only removes options, so stopping early, with the rest kept, is safe)."""
     root = np.full(model.n, -1, dtype=np.int64)
     for _ in range(rounds):
         changed = False
@@ -88,8 +99,14 @@ def tighten(model: SizingModel, units: list[tuple], rounds: int = 10, deadline=N
                 opts = np.intersect1d(opts, model.candidates[j])
             if opts.size == 0:
                 return
-            ok = model.child_bounds(root, unit, opts, st)["ok"]
-            ok[ok] = model.costly_ok(root, unit, opts[ok], st)
+            ok = np.ones(opts.size, dtype=bool)
+            for lo in range(0, opts.size, TIGHTEN_CHUNK):
+                if deadline is not None and time.perf_counter() > deadline:
+                    break  # the pieces not judged keep their options
+                piece = opts[lo : lo + TIGHTEN_CHUNK]
+                judged = model.child_bounds(root, unit, piece, st)["ok"]
+                judged[judged] = model.costly_ok(root, unit, piece[judged], st)
+                ok[lo : lo + piece.size] = judged
             keep = opts[ok]
             for j in unit:
                 if keep.size != model.candidates[j].size:
@@ -158,6 +175,7 @@ def size(
     shared=None,
     progress=None,
     explain=True,
+    gap=OPTIMALITY_GAP,
 ) -> SizingResult:
     """Choose motor, stage stack and ratio for every actuated joint.
 
@@ -178,6 +196,10 @@ def size(
     progress : callable(nodes, best objective or None), optional; when it also has a ``phase``
         method, ``phase(text)`` is called as each phase starts
     explain : compute alternatives and, when infeasible, the per-requirement diagnosis
+    gap : relative optimality gap of the default back-end, 0 ≤ gap < 1 (default 1e-4): the run
+        ends once the proven bound is within ``gap``·|objective| of the best design, status
+        ``optimal``; 0 proves the exact optimum and breaks its ties by least mass
+        (docs/optimizer.md, "Ties and the optimality gap")
 
     Returns
     -------
@@ -198,6 +220,8 @@ def size(
         raise InputError(
             "<api>", "time_limit", f"must be a positive number of seconds, got {time_limit!r}"
         )
+    if isinstance(gap, bool) or not (isinstance(gap, (int, float)) and 0 <= gap < 1):
+        raise InputError("<api>", "gap", f"must be a number with 0 ≤ gap < 1, got {gap!r}")
     pins = cfg["pin"] if pins is None else pins
     check_pins(pins, project, "<api>", "pins")
     exclude = cfg["exclude"] if exclude is None else list(exclude)
@@ -230,7 +254,7 @@ def size(
     units = units_of(model.n, model.shared)
     if backend != "search":
         phase("searching")
-    outcome = run_backend(model, units, backend, plan.solve_left(), progress, phase)
+    outcome = run_backend(model, units, backend, plan.solve_left(), progress, phase, float(gap))
     return finish(project, model, cands, outcome, kind, backend, start, explain, plan, phase)
 
 
@@ -302,7 +326,7 @@ def finish(
         assessment=a,
         objective=sense * value,
         bound=sense * max(outcome.bound, value),
-        # 0 for the search's proof; the MILP hand-over proves within its relative gap (≤ 1e-4)
+        # within the optimality gap asked for (``gap``; 0 when the exact optimum is proven)
         gap=relative_gap(value, max(outcome.bound, value)),
         seconds=time.perf_counter() - start,
         backend=backend,
@@ -311,16 +335,23 @@ def finish(
         binding=binding(a),
         alternatives=alts,
         options=options,
-        message=_message(status, kind, sense * value, ()),
+        message=_message(
+            status, kind, sense * value, (), relative_gap(value, max(outcome.bound, value))
+        ),
         unloaded_joints=unloaded_joints(project, model.evaluator),
     )
 
 
-def _message(status, kind, value, diag) -> str:
+def _message(status, kind, value, diag, gap=0.0) -> str:
     unit = {"payload": "kg", "mass": "kg", "imf": "", "cost": "", "margin": ""}[kind]
     kind = {"payload": "payload mass", "margin": "smallest normalized margin"}.get(kind, kind)
     if status == "optimal":
         shown = f"{format_number(value)} {unit}".rstrip()
+        if gap >= ROUNDING_GAP:
+            return (
+                f"proven optimum over the discrete options to within a gap of "
+                f"{100 * gap:.3g} %: {kind} {shown}"
+            )
         return f"proven optimum over the discrete options: {kind} {shown}"
     if status == "time_limit" and value is None:
         return "time limit reached before any design met every requirement"

@@ -226,6 +226,13 @@ def print_result(r, project=None) -> None:
     help="seconds for the whole run (explanation included); then best design with bound and gap",
 )
 @click.option(
+    "--gap",
+    type=float,
+    default=None,
+    help="relative optimality gap at which the run ends, 0 ≤ gap < 1 (default 1e-4; 0: the "
+    "exact optimum, ties broken by least mass)",
+)
+@click.option(
     "--no-explain", is_flag=True, help="skip the runner-ups and the infeasibility diagnosis"
 )
 @click.option(
@@ -235,12 +242,14 @@ def print_result(r, project=None) -> None:
     "--force", is_flag=True, help="replace an existing --out file (inputs are never replaced)"
 )
 @click.option("--json", "as_json", is_flag=True, help="machine-readable output")
-def command(project: Path, objective, backend, time_limit, no_explain, out, force, as_json):
+def command(project: Path, objective, backend, time_limit, gap, no_explain, out, force, as_json):
     """Choose motor, stage stack and ratio for every joint of PROJECT (proven optimum)."""
     from ..sizing import size
 
     if time_limit is not None and time_limit <= 0:
         raise InputError("<command line>", "--time-limit", f"must be > 0 s, got {time_limit}")
+    if gap is not None and not 0 <= gap < 1:
+        raise InputError("<command line>", "--gap", f"must be at least 0 and below 1, got {gap}")
     p = load_project(project)
     if out is not None:
         check_target(out, "--out", inputs=project_inputs(p), force=force)
@@ -253,6 +262,7 @@ def command(project: Path, objective, backend, time_limit, no_explain, out, forc
             time_limit=time_limit,
             progress=progress,
             explain=not no_explain,
+            **({} if gap is None else {"gap": gap}),
         )
     finally:
         progress.stop()

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import math
 
+from ..solve.result import ROUNDING_GAP
 from ..units import format_number
 from .markup import unit_text
 
@@ -109,11 +110,6 @@ def wrench_text(case, *, minus: str = "−") -> str:
     if any(x != 0.0 for x in case.moment):
         parts.append(f"moment {vector_text(case.moment, 'N·m', minus=minus)}")
     return "; ".join(parts) + " (world axes)"
-
-
-#: a relative gap this small is the rounding of the objective and the bound in double precision
-#: (a MILP's bound carried through its own arithmetic), not a distance to the optimum
-ROUNDING_GAP = 1e-12
 
 
 def gap_text(gap) -> str:

@@ -51,8 +51,10 @@ def first_design(model: SizingModel, units, time_limit, phase=None):
 
 
 def run_backend(
-    model: SizingModel, units, backend: str, time_limit, progress, phase=None
+    model: SizingModel, units, backend: str, time_limit, progress, phase=None, gap=0.0
 ) -> SolveOutcome:
+    """The back-end's outcome; ``gap``: the relative optimality gap of the default back-end
+    (:data:`.result.OPTIMALITY_GAP` in ``size``; 0: the exact optimum and its tie-break)."""
     if backend == "search":
         from .handover import milp_models
         from .search import BranchAndBound
@@ -63,11 +65,11 @@ def run_backend(
             time_limit = max(time_limit - (time.perf_counter() - t0), 1e-3)
         (phase or (lambda text: None))("searching")
         search = BranchAndBound(
-            model, units, time_limit=time_limit, progress=progress, incumbent=incumbent
+            model, units, time_limit=time_limit, progress=progress, incumbent=incumbent, gap=gap
         )
         milp = None
         if milp_models(model):
-            milp, incumbent = _milp_first(model, search, incumbent, phase)
+            milp, incumbent = _milp_first(model, search, incumbent, phase, gap)
             if milp is not None and milp.status == "optimal":
                 return milp
             if incumbent is not None and model.better(incumbent, search.best_key):
@@ -83,16 +85,16 @@ def run_backend(
     return enumerate_all(model)
 
 
-def _milp_first(model: SizingModel, search, incumbent, phase):
+def _milp_first(model: SizingModel, search, incumbent, phase, gap: float):
     """The MILP hand-over (solve/handover.py): the options that survive the search's root cuts
     with the heuristics' design (:meth:`.search.BranchAndBound.root_candidates`), when they fit
     the MILP, go to HiGHS in matrix form (solve/milp_matrix.py) for its share of the time, from
     that design. Its design (scored by the physics like any) becomes the incumbent when it is
     better. Every design that beats the incumbent less its tie tolerance takes only those
     options, so the optimum is at most the larger of that floor and the MILP's bound; an answer
-    within the MILP's gap of it counts as proven (status ``optimal``). None when the options left
-    do not fit."""
-    from .handover import MILP_GAP, milp_fits, milp_time
+    within ``gap`` of it counts as proven (status ``optimal``). None when the options left do not
+    fit."""
+    from .handover import milp_fits, milp_time
     from .milp_matrix import solve_matrix_milp
 
     t0 = time.perf_counter()
@@ -107,7 +109,9 @@ def _milp_first(model: SizingModel, search, incumbent, phase):
     (phase or (lambda text: None))("searching (MILP)")
     start = None if incumbent is None else np.asarray(incumbent[3])
     # the search's root bound (items 4b, 4c, 9) holds for every design: the payload's upper bound
-    out = solve_matrix_milp(reduced, time_limit=milp_time(left), start=start, upper=search.cap)
+    out = solve_matrix_milp(
+        reduced, time_limit=milp_time(left), start=start, upper=search.cap, gap=gap
+    )
     # every design: payload ≤ 0, or in the reduced MILP (≤ its bound), or below the floor
     bound = max(0.0 if out.status == "infeasible" else max(out.bound, 0.0), floor)
     bound = min(bound, search.cap)
@@ -118,7 +122,7 @@ def _milp_first(model: SizingModel, search, incumbent, phase):
     seconds = time.perf_counter() - t0
     if incumbent is None:
         return SolveOutcome("time_limit", None, -math.inf, bound, seconds, out.native, 0), None
-    proven = math.isfinite(bound) and relative_gap(incumbent[0], bound) <= MILP_GAP
+    proven = math.isfinite(bound) and relative_gap(incumbent[0], bound) <= gap
     outcome = SolveOutcome(
         "optimal" if proven else "time_limit",
         np.asarray(incumbent[3]),

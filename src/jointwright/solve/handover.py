@@ -26,8 +26,6 @@ MILP_MIN_JOINTS = 6
 #: candidate options summed over the joints at most (model size: x[u, o] binaries); HiGHS's
 #: presolve on much larger models can overrun its time limit (docs/optimizer.md)
 MILP_MAX_OPTIONS = 40_000
-#: relative gap at which a MILP answer is accepted as proven (HiGHS's default MIP gap)
-MILP_GAP = 1e-4
 
 
 def milp_models(model: SizingModel) -> bool:

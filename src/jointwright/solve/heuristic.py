@@ -110,6 +110,9 @@ class Heuristic:
         self.sampled = 0
         #: designs read off the stance program (local search starts from them first)
         self.seeds: list[np.ndarray] = []
+        #: the level greedy's designs that failed a check the bounds do not see (a speed or a
+        #: duty case, an impact limit): local search starts from them when nothing is feasible
+        self.near_misses: list[np.ndarray] = []
         self.rng = np.random.default_rng(seed)
         self.best: tuple | None = None
         self.tried = 0
@@ -185,8 +188,13 @@ class Heuristic:
         lo = 0.0
         if not math.isfinite(hi) or hi <= 0:
             return
+        # at most half of the CPU budget: sampling and local search get the rest
+        now = time.process_time()
+        half = now + 0.5 * (self.cpu_end - now) if math.isfinite(self.cpu_end) else math.inf
         for _ in range(24):
-            if self.out_of_time() or hi - lo <= 1e-4 * max(hi, 1e-9):
+            if self.out_of_time() or time.process_time() > half:
+                break
+            if hi - lo <= 1e-4 * max(hi, 1e-9):
                 break
             level = 0.5 * (lo + hi)
             idx = self.greedy_at(level, st, order)
@@ -203,6 +211,7 @@ class Heuristic:
                 lo = max(lo, self.best[0])
             else:
                 hi = level
+                self.near_misses.append(idx)
 
     def sample_and_improve(self, samples: int = 4 * BATCH, starts: int = 3) -> None:
         """Random designs: at least ``samples``, and, with ``extend`` and no design yet, more until
@@ -211,7 +220,7 @@ class Heuristic:
         of them when stance cases alone set the objective) are drawn whatever the CPU budget,
         unless the wall-clock deadline strikes."""
         model = self.model
-        pool = []
+        drawn: list[tuple] = []  # per batch: its best few designs and their merits
         share = 0.5
         # longer sampling only when the greedy found nothing (random designs rarely beat it)
         extend = self.extend and self.best is None
@@ -237,7 +246,7 @@ class Heuristic:
             order = _order(ok, f, mass, viol)
             # screened by linear programs when blind: only the batch's best few are scored in full
             self.offer(index[order[: OFFER_STANCE if blind else 32]])
-            pool.append(
+            drawn.append(
                 (
                     index[order[:starts]],
                     ok[order[:starts]],
@@ -246,16 +255,20 @@ class Heuristic:
                     viol[order[:starts]],
                 )
             )
-        if pool:
-            idx_all, *merit = (np.concatenate(x) for x in zip(*pool, strict=True))
-            pool = list(idx_all[_order(*merit)[:starts]])  # type: ignore[arg-type]
+        pool: list[np.ndarray] = []
+        if drawn:
+            idx_all, *merit = (np.concatenate(x) for x in zip(*drawn, strict=True))
+            pool = list(idx_all[_order(*merit)[:starts]])
         if self.seeds:  # the designs read off the stance program first, best screen first
             seeds = np.array(self.seeds)
             ok, f, mass, viol = _merit(model, seeds, self.stance)
             rows = [r for r in _order(ok, f, mass, viol) if ok[r] and f[r] > 0]
             pool = [seeds[r] for r in rows] + pool
+        if self.best is None and self.near_misses:
+            # the lowest level's miss first: the least to repair
+            pool = [self.near_misses[-1]] + pool
         if self.best is not None:
-            pool.insert(0, np.array(self.best[3]))  # type: ignore[arg-type]
+            pool.insert(0, np.array(self.best[3]))
         seen = set()
         for start in pool:
             key = tuple(np.asarray(start).tolist())

@@ -30,10 +30,9 @@ import scipy.sparse as sp
 from scipy.optimize import Bounds, LinearConstraint
 
 from ..problem import force_for_objective, objective_names
-from .handover import MILP_GAP
 from .model import SizingModel
 from .pyomo_backend import quiet_stdout
-from .result import SolveOutcome
+from .result import OPTIMALITY_GAP, SolveOutcome
 
 #: finite stand-in for an infinite torque bound (N·m); no real joint comes near it
 BIG = 1e9
@@ -169,10 +168,11 @@ def solve_matrix_milp(
     time_limit: float | None = None,
     start: np.ndarray | None = None,
     upper: float = math.inf,
+    gap: float = OPTIMALITY_GAP,
 ) -> SolveOutcome:
     """Build and solve the payload MILP, from the design ``start`` (option per joint) when given,
-    with the payload at most ``upper`` (a proven bound, :func:`build`); the MILP's design is
-    scored by the numpy physics like any."""
+    with the payload at most ``upper`` (a proven bound, :func:`build`), to the relative ``gap``;
+    the MILP's design is scored by the numpy physics like any."""
     with quiet_stdout(discard=True):  # HiGHS prints its banner on stdout (keeps --json clean)
         import highspy
 
@@ -197,7 +197,7 @@ def solve_matrix_milp(
     with quiet_stdout(discard=True):
         h = highspy.Highs()
     h.setOptionValue("output_flag", False)
-    h.setOptionValue("mip_rel_gap", MILP_GAP)
+    h.setOptionValue("mip_rel_gap", float(gap))
     if math.isfinite(left):
         h.setOptionValue("time_limit", float(left))
     h.passModel(

@@ -20,6 +20,15 @@ if TYPE_CHECKING:
 #: why a solve stopped
 STATUSES = ("optimal", "time_limit", "infeasible", "error")
 
+#: the default relative optimality gap of ``size``: an answer whose proven bound is within this
+#: fraction of its objective counts as optimal (common practice: the default MIP gap of HiGHS
+#: and of most MILP solvers); ``size(..., gap=0)`` proves the exact optimum and its tie-break
+OPTIMALITY_GAP = 1e-4
+
+#: a relative gap this small is the rounding of the objective and the bound in double precision
+#: (a MILP's bound carried through its own arithmetic), not a distance to the optimum
+ROUNDING_GAP = 1e-12
+
 
 @dataclass(frozen=True)
 class SolveOutcome:

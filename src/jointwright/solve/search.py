@@ -75,11 +75,14 @@ class BranchAndBound:
         ties=True,
         upper=None,
         incumbent=None,
+        gap=0.0,
     ):
         """``ties=False`` proves only the optimal value (ties are not searched for the preferred
         design); ``upper`` is a known upper bound on the optimum: reaching it ends the search;
         ``incumbent`` the key (:meth:`SizingModel.key`) of a design known to be feasible (from
-        the primal heuristics) to start from."""
+        the primal heuristics) to start from; ``gap`` the relative optimality gap: a node whose
+        bound is within ``gap``·|incumbent| of the incumbent is not searched (its bound enters
+        the proven bound; with a gap > 0 the tie-break is not searched either)."""
         self.model = model
         self.units = search_order(model, units)
         self.st = model.stats(model.candidates)
@@ -113,6 +116,9 @@ class BranchAndBound:
         self.nodes = 0
         self.scored = 0
         self.open_bound = -math.inf
+        self.gap = float(gap)
+        # the largest bound of the nodes left unsearched because they are within the gap
+        self.gap_bound = -math.inf
         self.stopped = False
         self.ties = ties
         self.reached = False
@@ -151,10 +157,10 @@ class BranchAndBound:
         elapsed = time.perf_counter() - start
         best = self.best_key
         if self.stopped:
-            bound = max(self.open_bound, best[0] if best else -math.inf)
+            bound = max(self.open_bound, self.gap_bound, best[0] if best else -math.inf)
             status = "time_limit"
         else:
-            bound = best[0] if best else -math.inf
+            bound = max(self.gap_bound, best[0]) if best else -math.inf
             status = "optimal" if best else "infeasible"
         native = (
             f"{self.nodes} node{'s' * (self.nodes != 1)}, "
@@ -171,10 +177,14 @@ class BranchAndBound:
         takes only these; the rest cannot reach the incumbent less its tie tolerance."""
         root = np.full(self.model.n, -1, dtype=np.int64)
         out = list(self.model.candidates)
-        for u in self.units:
-            kept, _ = self._children(root, u, self.unit_options(u), self.st)
-            for j in u:
-                out[j] = np.sort(kept)
+        gap, self.gap = self.gap, 0.0  # exact cuts: the designs within the gap stay
+        try:
+            for u in self.units:
+                kept, _ = self._children(root, u, self.unit_options(u), self.st)
+                for j in u:
+                    out[j] = np.sort(kept)
+        finally:
+            self.gap = gap
         return out
 
     # ------------------------------------------------------------------------------------------
@@ -207,6 +217,12 @@ class BranchAndBound:
                 keep &= ~(
                     tie & (b["mass"] >= m0 - tie_tol(m0)) & (b["reflected"] > r0 + tie_tol(r0))
                 )
+            if self.gap > 0:
+                # within the gap: not searched; the bound of what is left out is kept
+                near = keep & (b["objective"] <= f0 + self.gap * abs(f0))
+                if near.any():
+                    self.gap_bound = max(self.gap_bound, float(b["objective"][near].max()))
+                    keep &= ~near
         return keep
 
     def _children(self, idx: np.ndarray, unit: tuple, opts: np.ndarray, st: dict):

@@ -273,10 +273,10 @@ def carried_payload_of(case, force: float) -> float:
 
 def _highs(highspy, cost, col_lo, col_hi, a, row_lo, row_hi):
     """A HiGHS object holding max cost·x over the rows and column bounds (quiet, dense → CSC);
-    its start-up banner goes to stderr, as the MILP back-end's output does."""
+    its start-up banner is discarded, as the hand-over's is (its log is off)."""
     from .pyomo_backend import quiet_stdout
 
-    with quiet_stdout():
+    with quiet_stdout(discard=True):
         h = highspy.Highs()
     h.setOptionValue("output_flag", False)
     lp = highspy.HighsLp()

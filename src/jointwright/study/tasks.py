@@ -5,7 +5,8 @@ Called by the runner in a worker process as ``run_case(project, base_dir, task, 
 validated like any project file (a bad value fails the case with its one-line message).
 
 options (all optional): ``objective`` (payload / margin / mass / cost / imf), ``backend``
-(search / pyomo), ``time_limit`` (s per case), ``measure`` and ``points`` for frontier tasks.
+(search / pyomo), ``time_limit`` (s per case), ``gap`` (the relative optimality gap of size
+tasks, default 1e-4), ``measure`` and ``points`` for frontier tasks.
 """
 
 from __future__ import annotations
@@ -16,7 +17,7 @@ from pathlib import Path
 from ..errors import InputError, unknown_name
 
 TASKS = ("size", "frontier")
-_OPTIONS = {"objective", "backend", "time_limit", "measure", "points", "case"}
+_OPTIONS = {"objective", "backend", "time_limit", "gap", "measure", "points", "case"}
 
 
 _CHOICES = {
@@ -43,6 +44,10 @@ def check_options(options: dict, file: str, field: str) -> None:
             ok = isinstance(value, (int, float)) and not isinstance(value, bool)
             if not ok or abs(value) > 1e300 or not math.isfinite(value) or value <= 0:
                 raise InputError(file, where, f"must be a number of seconds > 0, got {value!r}")
+        elif key == "gap":
+            ok = isinstance(value, (int, float)) and not isinstance(value, bool)
+            if not ok or not 0 <= value < 1:
+                raise InputError(file, where, f"must be a number with 0 ≤ gap < 1, got {value!r}")
         elif key == "points":
             if not isinstance(value, int) or isinstance(value, bool) or value < 1:
                 raise InputError(file, where, f"must be a whole number >= 1, got {value!r}")
@@ -133,6 +138,7 @@ def _size(p, options: dict) -> dict:
         backend=options.get("backend", "search"),
         time_limit=options.get("time_limit"),
         explain=False,
+        **({"gap": options["gap"]} if "gap" in options else {}),
     )
     metrics = {
         "sizing_status": r.status,
