@@ -20,7 +20,7 @@ at most ENUMERATE_MAX designs (none of a-g: the line then gives the count). Prin
 instance and back-end: status, objective, bound, gap, wall and CPU seconds, and the load average
 after each instance. Results: docs/benchmarks.md.
 
-    python benchmarks/size_scale.py [--only a,c] [--limit 60] [--no-pyomo]
+    python benchmarks/size_scale.py [--only a,c] [--limit 60] [--no-pyomo] [--explain]
     python benchmarks/size_scale.py --table | --three-stage | --handover [--only a]
 """
 
@@ -319,7 +319,7 @@ def random_sampling(project, kind, seconds, seed=0):
     return (None if best is None else sense * best[0]), count, found, space
 
 
-def run(name, limit, pyomo=True):
+def run(name, limit, pyomo=True, explain=False):
     from jointwright.sizing import size
 
     label, make = INSTANCES[name]
@@ -330,11 +330,13 @@ def run(name, limit, pyomo=True):
     for backend in ("search", "pyomo") if pyomo and kind != "imf" else ("search",):
         c0, t0 = cpu(), time.perf_counter()
         try:
-            r = size(p, backend=backend, time_limit=limit, explain=False)
+            r = size(p, backend=backend, time_limit=limit, explain=explain)
             text = (
                 f"{r.status:10s} objective {r.objective:10.4f} bound {r.bound:10.4f} gap {r.gap:9.2e}"
                 f"  ({r.native_status})"
             )
+            if explain:
+                text += f"; {len(r.alternatives)} runner-ups"
         except Exception as e:  # a back-end refusing the instance is a result too
             text = f"refused: {str(e)[:90]}"
         c1, t1 = cpu(), time.perf_counter()
@@ -475,6 +477,9 @@ def main():
     ap.add_argument("--only", default=",".join(INSTANCES))
     ap.add_argument("--limit", type=float, default=60.0)
     ap.add_argument("--no-pyomo", action="store_true")
+    ap.add_argument(
+        "--explain", action="store_true", help="size with the explanation, as the CLI does"
+    )
     ap.add_argument("--table", action="store_true", help="time the option-table building only")
     ap.add_argument(
         "--three-stage", action="store_true", help="the 3-stage leg tables after stack dominance"
@@ -496,7 +501,7 @@ def main():
         f"load average {os.getloadavg()[0]:.2f} on {os.cpu_count()} cores; time limit {a.limit} s"
     )
     for name in a.only.split(","):
-        run(name, a.limit, not a.no_pyomo)
+        run(name, a.limit, not a.no_pyomo, a.explain)
         print(f"    load average {os.getloadavg()[0]:.2f}", flush=True)
 
 
