@@ -28,7 +28,7 @@ def _node_level_table(model, F: np.ndarray, idx: np.ndarray, A: np.ndarray, st: 
     node["mmax"][A] = model.mass[idx[A]]
     own = list(st["own"])
     for j in F:
-        own[j] = model._own_bounds(int(j), model.candidates[j], node)
+        own[j] = model.own_bounds(int(j), model.candidates[j], node)
     node["own"] = own
     out = _level_table(model, F, node, cache=False)
     if len(cache) > 512:
@@ -107,7 +107,7 @@ def budget_cap(
             node = dict(st, mmin=lb, mmax=ub)
             new, new_ub, cost = lb.copy(), ub.copy(), 0.0
             for j in range(n):
-                entry = model._own_bounds(j, cands[j], node)
+                entry = model.own_bounds(j, cands[j], node)
                 if entry is None:
                     continue
                 own, run_m, run_c, m_sorted = entry
@@ -129,7 +129,7 @@ def budget_cap(
             ok = ok and cost <= model.total_cost_max * (1 + 1e-9)
         return ok
 
-    ents = [model._own_bounds(j, cands[j], dict(st, mmin=mmin0, mmax=mmax)) for j in range(n)]
+    ents = [model.own_bounds(j, cands[j], dict(st, mmin=mmin0, mmax=mmax)) for j in range(n)]
     tops = [float(e[0][0]) for e in ents if e is not None and e[0].size]
     hi = min(tops) if tops else math.inf
     if not math.isfinite(hi) or hi <= 0:
@@ -154,7 +154,7 @@ def budget_level_bound(model, F, idx, A, unit, options, st) -> np.ndarray:
     """Upper bound on the payload objective that sees the mass and cost budgets (K,).
 
     A design with objective ≥ f has, at every joint j, an option whose own bound (the most
-    favourable bias over all designs, ``model._own_bounds``) is ≥ f, so the free joints weigh
+    favourable bias over all designs, ``model.own_bounds``) is ≥ f, so the free joints weigh
     at least g(f) = Σ_j least mass over those options; g never decreases with f. With the
     mass already fixed by the assigned joints and the unit's option, the objective is at
     most the largest level f with fixed + g(f) ≤ total_mass_max (likewise for cost): a

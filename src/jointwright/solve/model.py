@@ -7,9 +7,10 @@ Payload cases are linear in the actuator masses (robot/basis.py): with a = Jᵀu
 
 and the case's payload is the largest s ≥ 0 with lo_j ≤ τ_j(s) ≤ hi_j for every joint (0 when
 s = 0 already fails), lo/hi the mode-dependent bounds of joint j's option
-(metrics.payload.torque_bounds). This module keeps those terms, the interval bounds the search
-prunes with, and :meth:`SizingModel.score`, which scores complete designs with the one physics
-oracle (:class:`~jointwright.evaluate.Evaluator`) and the project's checks.
+(metrics.payload.torque_bounds). This module keeps those terms and :meth:`SizingModel.score`,
+which scores complete designs with the one physics oracle
+(:class:`~jointwright.evaluate.Evaluator`) and the project's checks; the interval bounds the
+search prunes with are in solve/node_bounds.py (reached through the model's methods).
 """
 
 from __future__ import annotations
@@ -25,7 +26,7 @@ from ..evaluate import Evaluator
 from ..metrics.loads import MOTION_SIGN, torque_ratio
 from ..metrics.payload import torque_bounds
 from ..problem import checks, feasible, objective, objective_names, objective_transform
-from . import budget_bound, impact_bound
+from . import budget_bound, impact_bound, node_bounds
 
 #: designs whose duty cases are checked per oracle call
 DUTY_CHUNK = 32
@@ -321,119 +322,22 @@ class SizingModel:
             tuple(int(v) for v in s.index[row]),
         )
 
-    # --- bounds over partial designs -----------------------------------------------------------
+    # --- bounds over partial designs (solve/node_bounds.py) ------------------------------------
     def stats(self, candidates) -> dict:
-        """Per joint, extremes over its candidate options (what an unassigned joint can reach)."""
+        """Per joint, extremes over its candidate options (:func:`.node_bounds.stats`)."""
+        return node_bounds.stats(self, candidates)
 
-        def ext(values, fn):
-            return np.array([fn(values[c]) if c.size else np.nan for c in candidates])
-
-        out = {
-            "mmin": ext(self.mass, np.min),
-            "mmax": ext(self.mass, np.max),
-            "cmin": ext(self.cost, np.min),
-            "rmin": ext(self.reflected, np.min),
-            "bmin": ext(self.breakaway, np.min),
-            "hi": [
-                np.array([t.hi[j, c].max() if c.size else np.nan for j, c in enumerate(candidates)])
-                for t in self.payload
-            ],
-            "lo": [
-                np.array([t.lo[j, c].min() if c.size else np.nan for j, c in enumerate(candidates)])
-                for t in self.payload
-            ],
-            "reach": [self._reach_front(j, c) for j, c in enumerate(candidates)],
-        }
-        out["own"] = [self._own_bounds(j, c, out) for j, c in enumerate(candidates)]
-        return out
-
-    def _own_bounds(self, j: int, cands: np.ndarray, st: dict):
-        """Options of joint j sorted by their own payload bound (most favourable bias over all
-        designs), descending, with the running least mass: an improving design needs
-        min over cases of joint j's ratio bound ≥ the incumbent, so only that prefix is useful."""
-        got = self.own_order(j, cands, st)
-        if got is None:
-            return None
-        own, order = got
-        return (
-            own,
-            np.minimum.accumulate(self.mass[cands][order]),
-            np.minimum.accumulate(self.cost[cands][order]),
-            self.mass[cands][order],
-        )
+    def own_bounds(self, j: int, cands: np.ndarray, st: dict):
+        """Joint j's own payload bounds, running least masses (:func:`.node_bounds.own_bounds`)."""
+        return node_bounds.own_bounds(self, j, cands, st)
 
     def own_order(self, j: int, cands: np.ndarray, st: dict):
-        """(own payload bound of each of joint j's options, descending; the order that sorts
-        ``cands`` so), or None without payload cases. A design whose payload objective reaches
-        f uses at joint j an option whose own bound reaches f (the bias over ``st``'s mass
-        ranges is the most favourable)."""
-        if self.kind != "payload" or not self.payload or cands.size == 0:
-            return None
-        own = np.full(cands.size, np.inf)
-        for c, t in enumerate(self.payload):
-            lo_b = (
-                t.g0[j]
-                + np.minimum(st["mmin"][:, None] * t.G, st["mmax"][:, None] * t.G).sum(axis=0)[j]
-            )
-            hi_b = (
-                t.g0[j]
-                + np.maximum(st["mmin"][:, None] * t.G, st["mmax"][:, None] * t.G).sum(axis=0)[j]
-            )
-            a = t.a[j]
-            if a > 0:
-                own = np.minimum(own, self.case_value(c, (t.hi[j, cands] - lo_b) / a))
-            elif a < 0:
-                own = np.minimum(own, self.case_value(c, (t.lo[j, cands] - hi_b) / a))
-        order = np.argsort(-own, kind="stable")
-        return own[order], order
+        """Joint j's options by their own payload bound (:func:`.node_bounds.own_order`)."""
+        return node_bounds.own_order(self, j, cands, st)
 
     def useful_mmin(self, st: dict, floor: float | None) -> np.ndarray:
-        """Least mass per joint over the options that can still reach objective ``floor``."""
-        if floor is None or self.kind != "payload":
-            return st["mmin"]
-        out = st["mmin"].copy()
-        for j, entry in enumerate(st["own"]):
-            if entry is None:
-                continue
-            own, run = entry[0], entry[1]
-            count = int(np.searchsorted(-own, -floor, side="right"))
-            out[j] = run[count - 1] if count else np.inf
-        return out
-
-    def _reach_front(self, j: int, cands: np.ndarray) -> np.ndarray:
-        """(P, C) non-dominated 'reach' of joint j's options over the payload cases.
-
-        Reach in case c is the bound the ray meets first: hi for a_j > 0, lo for a_j < 0
-        (stored signed so that (reach − τ_bias)/a_j is the joint's ratio bound); +inf where
-        a_j = 0. Options whose reach is no better in every case are dropped: they can never
-        give a larger bound."""
-        if not self.payload or cands.size == 0:
-            return np.zeros((0, len(self.payload)))
-        cols = []
-        for t in self.payload:
-            a = t.a[j]
-            cols.append(
-                t.hi[j, cands]
-                if a > 0
-                else (t.lo[j, cands] if a < 0 else np.full(cands.size, np.inf))
-            )
-        R = np.stack(cols, axis=1)
-        signs = np.array([1.0 if t.a[j] >= 0 else -1.0 for t in self.payload])
-        good = R * signs  # larger is better in every column
-        good = np.where(np.isnan(good), -np.inf, good)
-        _u, first = np.unique(good, axis=0, return_index=True)  # equal reaches: keep one
-        first = np.sort(first)
-        order = first[np.lexsort(good[first].T[::-1])[::-1]]
-        front: list = []
-        block = np.empty((0, good.shape[1]))
-        for i in order:
-            g = good[i]
-            if block.shape[0] and np.any(np.all(block >= g, axis=1)):
-                continue
-            keep = ~np.all(g >= block, axis=1) if block.shape[0] else np.zeros(0, dtype=bool)
-            front = [f for f, k in zip(front, keep, strict=True) if k] + [i]
-            block = np.vstack([block[keep], g[None, :]])
-        return R[np.array(front, dtype=int)]
+        """Least mass per joint that can reach ``floor`` (:func:`.node_bounds.useful_mmin`)."""
+        return node_bounds.useful_mmin(self, st, floor)
 
     def child_bounds(
         self,
@@ -443,89 +347,8 @@ class SizingModel:
         st: dict,
         floor: float | None = None,
     ) -> dict:
-        """Bounds for giving the joints of ``unit`` each option in ``options`` (K,).
-
-        ``idx`` (n,) holds the option of every assigned joint and −1 elsewhere; ``st`` the
-        :meth:`stats` of the candidates. Returned arrays are (K,): ``objective`` an upper bound
-        on the objective of every completion, ``mass``/``reflected`` lower bounds, ``ok`` False
-        where some requirement is provably missed by every completion. Exact when every joint
-        is assigned (up to rounding). With ``floor`` (payload objective) only completions whose
-        objective reaches ``floor`` are bounded, so free joints count their useful options only
-        (:meth:`useful_mmin`); the mass bound then holds for those completions.
-        """
-        if floor is not None and self.kind == "payload":
-            st = dict(st, mmin=self.useful_mmin(st, floor))
-        n, K = self.n, options.size
-        unit = list(unit)
-        assigned = idx >= 0
-        assigned[unit] = False
-        free = ~assigned
-        free[unit] = False
-        A, F = np.flatnonzero(assigned), np.flatnonzero(free)
-        if not np.all(np.isfinite(st["mmin"][F])):  # a free joint cannot reach the floor
-            none = np.zeros(K, dtype=bool)
-            return {
-                "objective": np.full(K, -np.inf),
-                "mass": np.full(K, np.inf),
-                "reflected": np.full(K, np.inf),
-                "ok": none,
-            }
-        mass_lb = self.mass[idx[A]].sum() + st["mmin"][F].sum() + len(unit) * self.mass[options]
-        refl_lb = (
-            self.reflected[idx[A]].sum() + st["rmin"][F].sum() + len(unit) * self.reflected[options]
-        )
-        ok = (mass_lb <= self.total_mass_max * (1 + 1e-9)) & np.isfinite(mass_lb)
-        if math.isfinite(self.total_cost_max):
-            cost_lb = self.cost[idx[A]].sum() + st["cmin"][F].sum() + len(unit) * self.cost[options]
-            ok &= cost_lb <= self.total_cost_max * (1 + 1e-9)
-        for j, good in self.torque_ok:
-            if j in unit:
-                ok &= good[options]
-        worst = np.full(K, np.inf)
-        b_lo = []
-        for c, t in enumerate(self.payload):
-            bound, bias_lo, bias_hi = budget_bound.payload_bound(
-                self, t, c, idx, A, F, unit, options, st
-            )
-            ok &= bound >= t.minimum * (1 - 1e-9) - 1e-12
-            worst = np.minimum(worst, self.case_value(c, bound))
-            b_lo.append(np.where((t.a > 0), bias_lo, bias_hi))
-        if self.kind == "payload" and F.size and self.payload:
-            worst = np.minimum(worst, budget_bound.free_bound(self, F, b_lo, st))
-        if self.kind == "payload" and F.size and self.payload:
-            worst = np.minimum(
-                worst, budget_bound.budget_level_bound(self, F, idx, A, unit, options, st)
-            )
-        for absa, fmax in self.backdrive:
-            b = np.empty((K, n))
-            b[:, A] = self.breakaway[idx[A]]
-            b[:, F] = st["bmin"][F]
-            b[:, unit] = self.breakaway[options][:, None]
-            with np.errstate(divide="ignore", invalid="ignore"):
-                force = np.where(absa > 0, b / absa, np.inf).min(axis=1)
-            ok &= force <= fmax * (1 + 1e-9) + 1e-12
-        if self.kind == "payload":
-            f = worst
-        elif self.kind == "mass":
-            f = -mass_lb
-        elif self.kind == "cost":  # cost is separable per joint like mass: a lower bound
-            f = -(self.cost[idx[A]].sum() + st["cmin"][F].sum() + len(unit) * self.cost[options])
-        elif self.measure is not None and self.measure[0] == "backdrive_force":
-            pc = next(p for p in self.evaluator.cases if p.case.name == self.measure[1])
-            absa = np.abs(pc.Jj.T @ (pc.u / np.linalg.norm(pc.u)))
-            b = np.empty((K, n))
-            b[:, A], b[:, F], b[:, unit] = (
-                self.breakaway[idx[A]],
-                st["bmin"][F],
-                self.breakaway[options][:, None],
-            )
-            with np.errstate(divide="ignore", invalid="ignore"):
-                f = -np.where(absa > 0, b / absa, np.inf).min(axis=1)
-        elif self.measure is not None and self.measure[0] == "effective_mass":
-            f = np.full(K, np.inf)  # bounded in costly_ok
-        else:
-            f = np.ones(K)  # the IMF is at most 1; no tighter proven bound is used
-        return {"objective": f, "mass": mass_lb, "reflected": refl_lb, "ok": ok}
+        """Bounds for giving ``unit`` each of ``options`` (:func:`.node_bounds.child_bounds`)."""
+        return node_bounds.child_bounds(self, idx, unit, options, st, floor)
 
     def case_value(self, c: int, bound: np.ndarray) -> np.ndarray:
         """The objective's value of payload case ``c`` given an upper bound on its payload (N):
