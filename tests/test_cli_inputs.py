@@ -1285,7 +1285,7 @@ def test_size_time_limit_must_be_positive(examples):
     _assert_names(message, "<command line>", "--time-limit", "must be > 0 s")
 
 
-@pytest.mark.parametrize("gap", ["-0.5", "1", "3"])
+@pytest.mark.parametrize("gap", ["-0.5", "1", "3", "nan"])
 def test_size_gap_must_be_a_fraction(examples, gap):
     project = examples["arm"] / "project.toml"
     message = _one_error_line(_run(["size", str(project), "--gap", gap]))

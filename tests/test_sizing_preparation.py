@@ -55,6 +55,43 @@ def test_stopped_tightening_keeps_every_option_it_did_not_judge(leg):
         np.testing.assert_array_equal(a, b)
 
 
+def test_tightening_stopped_between_pieces_keeps_the_pieces_not_judged(leg, monkeypatch):
+    """The clock strikes after the first piece of the first unit: that piece is tightened, every
+    later option is kept, and the result lies between the filters' and the full tightening's."""
+    full = _filtered(leg)
+    sizing.tighten(full, units_of(full.n, []))
+    filtered = [c.copy() for c in _filtered(leg).candidates]
+    model = _filtered(leg)
+    monkeypatch.setattr(sizing, "TIGHTEN_CHUNK", 8)
+    ticks = iter(range(10**6))
+    monkeypatch.setattr(sizing.time, "perf_counter", lambda: float(next(ticks)))
+    # reads: before the first unit (0), before its first piece (1), before its second (2) ...
+    sizing.tighten(model, units_of(model.n, []), deadline=1.5)
+    cut = False
+    for j, (f, m, t) in enumerate(zip(filtered, model.candidates, full.candidates, strict=True)):
+        assert set(t) <= set(m) <= set(f)
+        if j == 0:  # only its first piece was judged: the rest is kept whole
+            np.testing.assert_array_equal(m[m >= f[8]] if f.size > 8 else m[:0], f[8:])
+            cut = cut or m.size < f.size
+        else:
+            np.testing.assert_array_equal(m, f)
+    assert cut  # the first piece did lose options
+
+
+def test_the_near_miss_is_the_first_start_of_the_local_search(leg, monkeypatch):
+    """With no feasible design from the level greedy nor from the sampling, the local search
+    starts from the greedy's miss at the lowest level before any sampled design."""
+    model, _ = build_model(leg, "payload", {}, [], [])
+    heuristic = Heuristic(model, units_of(model.n, []), time.perf_counter() + 60.0, extend=False)
+    heuristic.level_greedy()
+    assert heuristic.best is None and heuristic.near_misses
+    starts = []
+    monkeypatch.setattr(heuristic, "improve", lambda index: starts.append(index.copy()))
+    monkeypatch.setattr(heuristic, "offer", lambda index: None)  # sampling finds nothing either
+    heuristic.sample_and_improve(samples=1024)
+    np.testing.assert_array_equal(starts[0], heuristic.near_misses[-1])
+
+
 def test_tightening_takes_a_share_of_the_time_left(leg, monkeypatch):
     """build_model gives the tightening TIGHTEN_SHARE of the time left after the filters."""
     seen = {}

@@ -122,7 +122,7 @@ def test_search_with_component_bound_matches_enumeration(seed, milp, monkeypatch
     if not milp:
         monkeypatch.setattr(handover, "milp_models", lambda model: False)
     key = _enumerate(project, table)
-    res = size(project, explain=False)
+    res = size(project, explain=False, gap=0)
     if key is None:
         assert res.status == "infeasible"
         return

@@ -96,7 +96,8 @@ def test_root_candidates_keep_every_design_at_least_the_incumbent(seed, cost):
     units = units_of(model.n, model.shared)
     for r in (good[0], good[len(good) // 2]):
         incumbent = model.key(s, r)
-        kept = BranchAndBound(model, units, incumbent=incumbent).root_candidates()
+        # a gap must not cut the root: the MILP bound has to cover the designs within it
+        kept = BranchAndBound(model, units, incumbent=incumbent, gap=0.05).root_candidates()
         reach = value >= incumbent[0] - 1e-9 * max(1.0, abs(incumbent[0]))
         beats = [d for d in np.flatnonzero(reach) if model.better(model.key(s, d), incumbent)]
         assert r == good[0] or beats  # a weaker incumbent leaves designs that beat it
@@ -129,6 +130,7 @@ def test_size_through_the_hand_over_matches_enumeration(seed, cost, squeeze):
         return
     assert res.status == "optimal" and res.assessment.feasible
     assert res.objective == pytest.approx(key[0], rel=MILP_GAP, abs=1e-9)
+    assert res.bound >= key[0] - 1e-9 * max(1.0, abs(key[0]))  # the bound holds
 
 
 @pytest.mark.parametrize("seed, cost", [(4, False), (9, True)])

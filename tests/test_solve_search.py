@@ -193,6 +193,18 @@ def test_search_with_a_gap_keeps_a_valid_bound(leg, seed, kind, gap):
     is often within a large gap of the optimum without being optimal and the nodes left out for
     the gap decide the bound: the bound must still hold for every enumerated design, and the
     value stay within the gap."""
+    _gap_case(leg, seed, kind, gap)
+
+
+@pytest.mark.parametrize("seed", [2, 9])
+def test_a_gap_that_stops_short_of_the_optimum_keeps_a_valid_bound(leg, seed):
+    """Two fixed instances of the test above where the search does stop short of the optimum
+    (checked), so the nodes left out for the gap decide the bound."""
+    out, ref = _gap_case(leg, seed, "payload", 0.3)
+    assert out.objective < ref.objective  # the gap was used
+
+
+def _gap_case(leg, seed, kind, gap):
     from jointwright.sizing import units_of
     from jointwright.solve.search import BranchAndBound
 
@@ -201,7 +213,7 @@ def test_search_with_a_gap_keeps_a_valid_bound(leg, seed, kind, gap):
     project = set_limits(project, rng, build_table(project), keep_duty=False)
     ref, model = oracle(project, kind)
     if ref.status == "infeasible":
-        return
+        return None, ref
     # a first design: the worst feasible one of a few random ones, usually short of the optimum
     keys = [model.best_key(row[None]) for row in rng.integers(0, len(model.table), (64, model.n))]
     keys = [k for k in keys if k is not None]
@@ -212,13 +224,43 @@ def test_search_with_a_gap_keeps_a_valid_bound(leg, seed, kind, gap):
     assert out.bound >= ref.objective - tol
     assert out.objective <= ref.objective + tol
     assert out.objective >= out.bound - gap * abs(out.objective) - tol
+    return out, ref
+
+
+@pytest.mark.slow
+def test_default_gap_keeps_the_least_mass_tie_break(arm, monkeypatch):
+    """The bundled arm from a first design of the optimal payload but a heavier joint whose mass
+    loads no other joint (a tie): with the default gap the search must still find the lighter
+    design that the exact run (gap 0) returns."""
+    import jointwright.solve.engines as engines
+
+    exact = size(arm, gap=0, explain=False)
+    first_design = engines.first_design
+
+    def heavier(model, units, time_limit, phase=None):
+        key = first_design(model, units, time_limit, phase)
+        idx, j = np.array(key[3]), 0
+        cands = model.candidates[j]
+        rows = np.broadcast_to(idx, (cands.size, model.n)).copy()
+        rows[:, j] = cands
+        s = model.score(rows)
+        ok = s.feasible & (np.abs(s.objective - key[0]) <= 1e-12 * abs(key[0]))
+        heavy = np.flatnonzero(ok)[np.argmax(model.mass[cands[ok]])]
+        assert model.mass[cands[heavy]] > model.mass[idx[j]]  # a heavier tie exists
+        return model.key(s, heavy)
+
+    monkeypatch.setattr(engines, "first_design", heavier)
+    res = size(arm, explain=False)
+    assert res.status == "optimal"
+    assert res.objective == pytest.approx(exact.objective, rel=1e-9)
+    assert res.design.mass == pytest.approx(exact.design.mass, rel=1e-9)
 
 
 def test_gap_is_checked():
     from jointwright.errors import InputError
 
     leg_ = example("leg")
-    for bad in (-0.1, 1.0, "0.01", True):
+    for bad in (-0.1, 1.0, "0.01", True, float("nan"), float("inf")):
         with pytest.raises(InputError, match="gap"):
             size(leg_, gap=bad, explain=False)
 
@@ -364,7 +406,7 @@ def test_arm_with_pins_and_shared_joints_matches_enumeration(arm):
 def test_search_design_is_feasible_and_no_sampled_design_beats_it(arm):
     """The bundled arm: proven optimum, re-evaluated feasible, and none of 20,000 random
     feasible designs has a larger objective (a check that cannot pass by construction)."""
-    res = size(arm, explain=False)
+    res = size(arm, explain=False, gap=0)
     assert res.status == "optimal" and res.gap == 0.0
     assert res.assessment.feasible
     table = build_table(arm)

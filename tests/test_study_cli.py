@@ -101,6 +101,7 @@ def _leg_study(
     ("time_limt = 5", '["4 kg"]', "requirements.total_mass_max", "options.time_limt", "did you mean 'time_limit'"),
     ("time_limit = -5", '["4 kg"]', "requirements.total_mass_max", "options.time_limit", "> 0"),
     ("gap = 1.5", '["4 kg"]', "requirements.total_mass_max", "options.gap", "0 ≤ gap < 1"),
+    ("gap = nan", '["4 kg"]', "requirements.total_mass_max", "options.gap", "0 ≤ gap < 1"),
     ("objective = 'speed'", '["4 kg"]', "requirements.total_mass_max", "options.objective", "one of payload"),
     ("", '["3 m", "4 m"]', "requirements.total_mass_max", "vary[0].values", "convertible to kg"),
     ("", '["leg A", "leg B"]', "project.name", "vary[0].path", "only numbers and quantities"),

@@ -285,7 +285,7 @@ def test_floating_robot_with_an_unactuated_joint_sized_under_an_imf_limit(tmp_pa
     path.write_text(text)
     p = load_project(path)
     assert p.robot.base == "floating"
-    search = size(p, explain=False)
+    search = size(p, explain=False, gap=0)
     exhaustive = size(p, backend="enumerate", explain=False)
     assert search.status == exhaustive.status
     if search.status == "optimal":

@@ -198,8 +198,8 @@ def size(
     explain : compute alternatives and, when infeasible, the per-requirement diagnosis
     gap : relative optimality gap of the default back-end, 0 ≤ gap < 1 (default 1e-4): the run
         ends once the proven bound is within ``gap``·|objective| of the best design, status
-        ``optimal``; 0 proves the exact optimum and breaks its ties by least mass
-        (docs/optimizer.md, "Ties and the optimality gap")
+        ``optimal``; 0 proves the exact optimum (docs/optimizer.md, "Ties and the optimality
+        gap"); ties are broken by least mass at any gap except in a MILP hand-over's answer
 
     Returns
     -------
@@ -221,6 +221,7 @@ def size(
             "<api>", "time_limit", f"must be a positive number of seconds, got {time_limit!r}"
         )
     if isinstance(gap, bool) or not (isinstance(gap, (int, float)) and 0 <= gap < 1):
+        # (NaN fails 0 <= gap)
         raise InputError("<api>", "gap", f"must be a number with 0 ≤ gap < 1, got {gap!r}")
     pins = cfg["pin"] if pins is None else pins
     check_pins(pins, project, "<api>", "pins")
@@ -349,8 +350,8 @@ def _message(status, kind, value, diag, gap=0.0) -> str:
         shown = f"{format_number(value)} {unit}".rstrip()
         if gap >= ROUNDING_GAP:
             return (
-                f"proven optimum over the discrete options to within a gap of "
-                f"{100 * gap:.3g} %: {kind} {shown}"
+                f"proven within {100 * gap:.3g} % of the optimum over the discrete options: "
+                f"{kind} {shown}"
             )
         return f"proven optimum over the discrete options: {kind} {shown}"
     if status == "time_limit" and value is None:

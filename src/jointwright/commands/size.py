@@ -180,8 +180,9 @@ def print_result(r, project=None) -> None:
                 caption="vs chosen: the runner-up's objective minus the chosen design's (for "
                 f"{r.objective_kind}: {CHANGE_HINT.get(r.objective_kind, 'signed')}); tie: the "
                 "joint does not limit the objective and the choice was made by the tie-break "
-                "(least mass, then least back-driven reflected inertia); Δ mass: the runner-up's "
-                "total actuator mass minus the chosen one's",
+                "(least mass, then least back-driven reflected inertia; a tie with a negative Δ "
+                "mass: the MILP hand-over's design, whose ties are broken only with --gap 0); "
+                "Δ mass: the runner-up's total actuator mass minus the chosen one's",
             )
         )
     if r.diagnosis:
@@ -229,8 +230,8 @@ def print_result(r, project=None) -> None:
     "--gap",
     type=float,
     default=None,
-    help="relative optimality gap at which the run ends, 0 ≤ gap < 1 (default 1e-4; 0: the "
-    "exact optimum, ties broken by least mass)",
+    help="relative optimality gap at which the default back-end's run ends, 0 ≤ gap < 1 "
+    "(default 1e-4; 0: the exact optimum)",
 )
 @click.option(
     "--no-explain", is_flag=True, help="skip the runner-ups and the infeasibility diagnosis"

@@ -68,6 +68,8 @@ def runner_ups_section(
         why = (
             f"misses {r['ruled_out_by']}"
             if r.get("ruled_out_by")
+            else "tie, lighter: ties of the MILP hand-over's design are broken only with gap 0"
+            if change == "tie" and (optional(r, "mass_change", file, where) or 0.0) < 0
             else "tie: lost the tie-break"
             if change == "tie"
             else f"{change} against the chosen design"

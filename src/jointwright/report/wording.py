@@ -133,7 +133,7 @@ def unknown_gap(project, kind: str) -> str:
                 "gap not known: the search bounds the margins of payload and stance cases only, "
                 f"and the margin objective also takes {named}, whose margin has no bound before "
                 "a design is scored; the best design found is not proven optimal (a run without "
-                "a time limit searches every option and proves the optimum)"
+                "a time limit searches every option and proves the optimum within its gap)"
             )
     return (
         "gap not known: the search had no finite bound on the objective when it stopped; the "

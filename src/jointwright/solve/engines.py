@@ -122,7 +122,8 @@ def _milp_first(model: SizingModel, search, incumbent, phase, gap: float):
     seconds = time.perf_counter() - t0
     if incumbent is None:
         return SolveOutcome("time_limit", None, -math.inf, bound, seconds, out.native, 0), None
-    proven = math.isfinite(bound) and relative_gap(incumbent[0], bound) <= gap
+    # with gap 0 the search still runs after it, for the exact tie-break by least mass
+    proven = gap > 0 and math.isfinite(bound) and relative_gap(incumbent[0], bound) <= gap
     outcome = SolveOutcome(
         "optimal" if proven else "time_limit",
         np.asarray(incumbent[3]),

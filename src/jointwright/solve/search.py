@@ -218,8 +218,14 @@ class BranchAndBound:
                     tie & (b["mass"] >= m0 - tie_tol(m0)) & (b["reflected"] > r0 + tie_tol(r0))
                 )
             if self.gap > 0:
-                # within the gap: not searched; the bound of what is left out is kept
-                near = keep & (b["objective"] <= f0 + self.gap * abs(f0))
+                # within the gap and no lighter than the incumbent: not searched (the bound of
+                # what is left out is kept); a node that may hold a lighter design is, so the
+                # tie-break by least mass stays exact
+                near = (
+                    keep
+                    & (b["objective"] <= f0 + self.gap * abs(f0))
+                    & (b["mass"] >= m0 - tie_tol(m0))
+                )
                 if near.any():
                     self.gap_bound = max(self.gap_bound, float(b["objective"][near].max()))
                     keep &= ~near
