@@ -241,3 +241,15 @@ def test_progress_is_told_every_phase(small):
     assert "searching" in seen
     if r.design is not None:
         assert seen[-1] == "explaining"
+
+
+def test_a_stopped_run_says_whether_its_value_is_proven():
+    """Status time_limit with a gap within the one asked for: the value is proven and only the
+    tie-break is unfinished (docs/optimizer.md, "The time limit"); a larger gap points to it."""
+    from jointwright.sizing import _message
+
+    proven = _message("time_limit", "payload", 26.93, (), 0.0, 1e-4)
+    assert "proven within the gap" in proven and "tie-break" in proven
+    open_ = _message("time_limit", "payload", 26.93, (), 0.05, 1e-4)
+    assert "see bound and gap" in open_ and "proven" not in open_
+    assert "proven within 0.05 %" in _message("optimal", "payload", 26.93, (), 5e-4, 1e-3)

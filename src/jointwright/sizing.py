@@ -136,8 +136,9 @@ class Plan:
     gets the rest of the limit, and never more than the time already spent (at least 1 s when
     there is no limit)."""
 
-    def __init__(self, start: float, time_limit, explain: bool):
+    def __init__(self, start: float, time_limit, explain: bool, gap: float = OPTIMALITY_GAP):
         self.start = start
+        self.gap = gap  # the relative optimality gap asked for
         self.limit = time_limit
         self.end = math.inf if time_limit is None else start + time_limit
         self.solve_end = (
@@ -229,7 +230,7 @@ def size(
     shared = cfg["shared"] if shared is None else [list(g) for g in shared]
     check_shared(shared, list(project.robot.actuated), "<api>", "shared")
     check_objective_kind(project, kind)
-    plan = Plan(start, time_limit, explain)
+    plan = Plan(start, time_limit, explain, float(gap))
     phase = _phase_of(progress)
     deadline = None if math.isinf(plan.solve_end) else plan.solve_end
     try:
@@ -337,13 +338,18 @@ def finish(
         alternatives=alts,
         options=options,
         message=_message(
-            status, kind, sense * value, (), relative_gap(value, max(outcome.bound, value))
+            status,
+            kind,
+            sense * value,
+            (),
+            relative_gap(value, max(outcome.bound, value)),
+            plan.gap,
         ),
         unloaded_joints=unloaded_joints(project, model.evaluator),
     )
 
 
-def _message(status, kind, value, diag, gap=0.0) -> str:
+def _message(status, kind, value, diag, gap=0.0, asked=0.0) -> str:
     unit = {"payload": "kg", "mass": "kg", "imf": "", "cost": "", "margin": ""}[kind]
     kind = {"payload": "payload mass", "margin": "smallest normalized margin"}.get(kind, kind)
     if status == "optimal":
@@ -358,6 +364,11 @@ def _message(status, kind, value, diag, gap=0.0) -> str:
         return "time limit reached before any design met every requirement"
     if status == "time_limit":
         shown = f"{format_number(value)} {unit}".rstrip()
+        if gap <= asked or gap < ROUNDING_GAP:
+            return (
+                f"time limit reached: {kind} {shown}, its value proven within the gap asked for; "
+                "the tie-break among designs of that value (least mass) was not finished"
+            )
         return f"time limit reached: best {kind} {shown}, see bound and gap"
     if status == "infeasible":
         return "no design meets every requirement" + ("; see the diagnosis" if diag else "")
