@@ -10,7 +10,7 @@ The operations of the command line, as Python functions (docs/api.md)::
     import jointwright as jw
 
     project = jw.load_example("leg")            # or jw.load_project("my/project.toml")
-    result = jw.size(project, time_limit=60)     # proven optimum, or best design with its gap
+    result = jw.size(project, time_limit=60)     # proven optimum (gap ≤ 1e-4) or best design
     report = jw.assess(project, result.design)   # every metric, every requirement with margin
     front = jw.sweep_frontier(project, "imf")    # payload against impact mitigation
     jw.build_report(project, result.design, "out/")
