@@ -137,6 +137,25 @@ def test_report_reads_the_reason_from_the_sizing_json():
         sizing_result.runner_ups_section(sizing | {"gap_unknown_reason": 3})
 
 
+def test_report_names_lighter_ties_and_better_runner_ups_within_the_gap():
+    """A runner-up's label in the report: a tie lost the tie-break; a lighter tie comes from a
+    MILP hand-over design; a better one lies within the optimality gap (docs/optimizer.md, "Ties
+    and the optimality gap")."""
+    from jointwright.report import sizing_result
+
+    sizing = {"status": "optimal", "objective_kind": "payload", "objective": 20.0, "bound": 20.0}
+    sizing |= {"gap": 0.0, "backend": "search", "seconds": 1.0, "message": "proven"}
+
+    def why(alt):
+        one = {"joint": "knee", "actuator": "M / S 9:1", "change": "other motor"} | alt
+        return sizing_result.runner_ups_section(sizing | {"alternatives": [one]}).body
+
+    assert "lost the tie-break" in why({"objective": 20.0, "loss": 0.0, "mass_change": 0.2})
+    assert "tie, lighter" in why({"objective": 20.0, "loss": 0.0, "mass_change": -0.2})
+    assert "within the optimality gap" in why({"objective": 20.002, "loss": -0.002})
+    assert "against the chosen design" in why({"objective": 19.0, "loss": 1.0})
+
+
 def test_finite_gap_still_shown(leg_project, capsys):
     result = _stopped_result("payload")
     result.bound, result.gap = 1.5, (1.5 - 1.32) / 1.32

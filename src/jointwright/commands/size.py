@@ -181,7 +181,8 @@ def print_result(r, project=None) -> None:
                 f"{r.objective_kind}: {CHANGE_HINT.get(r.objective_kind, 'signed')}); tie: the "
                 "joint does not limit the objective and the choice was made by the tie-break "
                 "(least mass, then least back-driven reflected inertia; a tie with a negative Δ "
-                "mass: the MILP hand-over's design, whose ties are broken only with --gap 0); "
+                "mass: the MILP hand-over's design, whose ties are broken only with --gap 0); a "
+                "better runner-up lies within the optimality gap (--gap 0 searches it); "
                 "Δ mass: the runner-up's total actuator mass minus the chosen one's",
             )
         )

@@ -72,6 +72,8 @@ def runner_ups_section(
             if change == "tie" and (optional(r, "mass_change", file, where) or 0.0) < 0
             else "tie: lost the tie-break"
             if change == "tie"
+            else f"{change}: better, within the optimality gap (gap 0 searches it)"
+            if loss is not None and loss < 0
             else f"{change} against the chosen design"
             if loss is not None
             else "—"
