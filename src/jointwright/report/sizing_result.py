@@ -95,7 +95,9 @@ def runner_ups_section(
                 caption="Each runner-up changes one joint of the chosen design and keeps the rest; "
                 "it is re-evaluated with the full physics. A tie has the chosen design's "
                 "objective and lost the tie-break (least mass, then least back-driven reflected "
-                "inertia); a loss is signed as the objective reads.",
+                "inertia); a lighter tie marks a MILP hand-over's design (ties broken only with "
+                "gap 0), a better runner-up one within the optimality gap; a loss is signed as "
+                "the objective reads.",
             )
         )
     diag = []
