@@ -111,6 +111,13 @@ def check_shared(shared, joints, file: str, field: str) -> None:
             seen.add(j)
 
 
+def check_gap(gap, file: str, field: str) -> None:
+    """A relative optimality gap: a number with 0 ≤ gap < 1 (NaN and booleans refused)."""
+    number = isinstance(gap, (int, float)) and not isinstance(gap, bool)
+    if not (number and 0 <= gap < 1):
+        raise InputError(file, field, f"must be at least 0 and below 1 (0 ≤ gap < 1), got {gap!r}")
+
+
 def check_objective_kind(project, kind: str) -> None:
     """The project has the cases objective ``kind`` reads (a payload, margin or impact case)."""
     if kind == "payload" and not any(c.kind in ("payload", "stance") for c in project.cases):

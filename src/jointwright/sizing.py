@@ -18,7 +18,7 @@ import numpy as np
 from .assessment import assess, unloaded_joints
 from .design import Design, arrays_from_designs
 from .errors import InputError
-from .objective import check_objective_kind, check_pins, check_shared, read_objective
+from .objective import check_gap, check_objective_kind, check_pins, check_shared, read_objective
 from .option_rows import OutOfTime
 from .options import JointCandidates, build_table, joint_candidates
 from .problem import MINIMIZED, OBJECTIVES
@@ -221,9 +221,7 @@ def size(
         raise InputError(
             "<api>", "time_limit", f"must be a positive number of seconds, got {time_limit!r}"
         )
-    if isinstance(gap, bool) or not (isinstance(gap, (int, float)) and 0 <= gap < 1):
-        # (NaN fails 0 <= gap)
-        raise InputError("<api>", "gap", f"must be a number with 0 ≤ gap < 1, got {gap!r}")
+    check_gap(gap, "<api>", "gap")
     pins = cfg["pin"] if pins is None else pins
     check_pins(pins, project, "<api>", "pins")
     exclude = cfg["exclude"] if exclude is None else list(exclude)
@@ -321,6 +319,8 @@ def finish(
     if explain:
         phase("explaining")
         alts = alternatives(project, model, outcome.index, value, deadline=plan.explain_end())
+    # within the optimality gap asked for (``plan.gap``; 0 when the exact optimum is proven)
+    gap = relative_gap(value, max(outcome.bound, value))
     return SizingResult(
         status=status,
         objective_kind=kind,
@@ -328,8 +328,7 @@ def finish(
         assessment=a,
         objective=sense * value,
         bound=sense * max(outcome.bound, value),
-        # within the optimality gap asked for (``gap``; 0 when the exact optimum is proven)
-        gap=relative_gap(value, max(outcome.bound, value)),
+        gap=gap,
         seconds=time.perf_counter() - start,
         backend=backend,
         native_status=outcome.native,
@@ -337,14 +336,7 @@ def finish(
         binding=binding(a),
         alternatives=alts,
         options=options,
-        message=_message(
-            status,
-            kind,
-            sense * value,
-            (),
-            relative_gap(value, max(outcome.bound, value)),
-            plan.gap,
-        ),
+        message=_message(status, kind, sense * value, (), gap, plan.gap),
         unloaded_joints=unloaded_joints(project, model.evaluator),
     )
 

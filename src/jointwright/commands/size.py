@@ -15,8 +15,10 @@ import click
 
 from ..design import design_to_toml
 from ..errors import InputError
+from ..objective import check_gap
 from ..project import load_project
 from ..report.wording import gap_text, objective_change, unknown_gap, wrench_text
+from ..solve.result import OPTIMALITY_GAP
 from ._format import console, emit_json, num, pct, requirement_num, table
 from ._output import check_target, project_inputs, write_text
 
@@ -230,9 +232,10 @@ def print_result(r, project=None) -> None:
 @click.option(
     "--gap",
     type=float,
-    default=None,
+    default=OPTIMALITY_GAP,
+    show_default=True,
     help="relative optimality gap at which the default back-end's run ends, 0 ≤ gap < 1 "
-    "(default 1e-4; 0: the exact optimum)",
+    "(0: the exact optimum)",
 )
 @click.option(
     "--no-explain", is_flag=True, help="skip the runner-ups and the infeasibility diagnosis"
@@ -250,8 +253,7 @@ def command(project: Path, objective, backend, time_limit, gap, no_explain, out,
 
     if time_limit is not None and time_limit <= 0:
         raise InputError("<command line>", "--time-limit", f"must be > 0 s, got {time_limit}")
-    if gap is not None and not 0 <= gap < 1:
-        raise InputError("<command line>", "--gap", f"must be at least 0 and below 1, got {gap}")
+    check_gap(gap, "<command line>", "--gap")
     p = load_project(project)
     if out is not None:
         check_target(out, "--out", inputs=project_inputs(p), force=force)
@@ -264,7 +266,7 @@ def command(project: Path, objective, backend, time_limit, gap, no_explain, out,
             time_limit=time_limit,
             progress=progress,
             explain=not no_explain,
-            **({} if gap is None else {"gap": gap}),
+            gap=gap,
         )
     finally:
         progress.stop()

@@ -81,8 +81,9 @@ class BranchAndBound:
         design); ``upper`` is a known upper bound on the optimum: reaching it ends the search;
         ``incumbent`` the key (:meth:`SizingModel.key`) of a design known to be feasible (from
         the primal heuristics) to start from; ``gap`` the relative optimality gap: a node whose
-        bound is within ``gap``·|incumbent| of the incumbent is not searched (its bound enters
-        the proven bound; with a gap > 0 the tie-break is not searched either)."""
+        bound is within ``gap``·|incumbent| of the incumbent and whose mass bound is no lighter
+        is not searched (its bound enters the proven bound; the least-mass tie-break stays
+        exact, the reflected-inertia one only with gap 0)."""
         self.model = model
         self.units = search_order(model, units)
         self.st = model.stats(model.candidates)

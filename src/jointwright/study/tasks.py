@@ -45,9 +45,9 @@ def check_options(options: dict, file: str, field: str) -> None:
             if not ok or abs(value) > 1e300 or not math.isfinite(value) or value <= 0:
                 raise InputError(file, where, f"must be a number of seconds > 0, got {value!r}")
         elif key == "gap":
-            ok = isinstance(value, (int, float)) and not isinstance(value, bool)
-            if not ok or not 0 <= value < 1:
-                raise InputError(file, where, f"must be a number with 0 ≤ gap < 1, got {value!r}")
+            from ..objective import check_gap
+
+            check_gap(value, file, where)
         elif key == "points":
             if not isinstance(value, int) or isinstance(value, bool) or value < 1:
                 raise InputError(file, where, f"must be a whole number >= 1, got {value!r}")
@@ -131,6 +131,7 @@ def run_case(project: dict, base_dir: Path, task: str, options: dict) -> dict:
 
 def _size(p, options: dict) -> dict:
     from ..sizing import size
+    from ..solve.result import OPTIMALITY_GAP
 
     r = size(
         p,
@@ -138,7 +139,7 @@ def _size(p, options: dict) -> dict:
         backend=options.get("backend", "search"),
         time_limit=options.get("time_limit"),
         explain=False,
-        **({"gap": options["gap"]} if "gap" in options else {}),
+        gap=options.get("gap", OPTIMALITY_GAP),
     )
     metrics = {
         "sizing_status": r.status,
