@@ -104,3 +104,68 @@ def test_closed_form_motor_torque_matches_the_metric(setup):
         r["rotor_inertia"][o][:, None],
     )
     np.testing.assert_allclose(got, ref, rtol=1e-12, atol=1e-12)
+
+
+@settings(
+    max_examples=15, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
+@given(seed=st.integers(0, 2**31 - 1))
+def test_upper_bound_holds_over_every_inner_interval(setup, seed):
+    """The safe-option test's bound (module docstring of solve/duty_bound.py) is never below
+    the lower bound over any interval inside the one it was computed for."""
+    _p, table, model = setup
+    pd, _limit = model.duty_bound.cases[0]
+    rng = np.random.default_rng(seed)
+    o = rng.integers(0, len(table), 30)
+    T = pd.qd.shape[1]
+    for j in range(3):
+        a, b = rng.normal(0, 20, (2, T))
+        lo, hi = np.minimum(a, b), np.maximum(a, b)
+        up = model.duty_bound.upper_bound(pd, j, o, lo[None, :], hi[None, :])
+        s, w = rng.uniform(0, 1, (2, 30, T))
+        inner_lo = lo + (hi - lo) * s * w
+        inner_hi = inner_lo + (hi - inner_lo) * rng.uniform(0, 1, (30, T))
+        lb = model.duty_bound.lower_bound(pd, j, o, inner_lo, inner_hi)
+        assert np.all(lb <= up * (1 + 1e-12) + 1e-12)
+        point = model.duty_bound.lower_bound(pd, j, o, inner_lo, inner_lo)
+        assert np.all(point <= up * (1 + 1e-12) + 1e-12)
+
+
+def _judge_everything(bound):
+    """``bound`` with no option ever taken as safe: every option judged per node."""
+    bound.safe = lambda c, j, options, lo, hi: np.zeros(options.size, dtype=bool)
+    return bound
+
+
+@pytest.mark.parametrize("limit", [0.3, 0.6, 1.0])
+def test_safe_options_change_no_decision(setup, limit):
+    """Pruning by the duty bound with the safe options skipped keeps exactly the options the
+    full per-node judgement keeps, at random partial designs (every option, every level)."""
+    from jointwright.solve.duty_bound import DutyBound
+
+    p, table, _model = setup
+    cases = tuple(
+        dataclasses.replace(c, limits={"rating_use_max": limit}) if c.kind == "duty" else c
+        for c in p.cases
+    )
+    q = dataclasses.replace(p, cases=cases)
+    model = SizingModel(q, table, [np.arange(len(table))] * 3)
+    fast = DutyBound(model.evaluator, table)
+    slow = _judge_everything(DutyBound(model.evaluator, table))
+    st_ = model.stats(model.candidates)
+    rng = np.random.default_rng(int(limit * 10))
+    options = np.arange(len(table))
+    kept = 0
+    for _ in range(20):
+        unit = (int(rng.integers(0, 3)),)
+        idx = np.full(3, -1, dtype=np.int64)
+        for k in range(3):
+            if k != unit[0] and rng.uniform() < 0.5:
+                idx[k] = rng.integers(0, len(table))
+        a = fast.ok(idx, unit, options, st_, model.mass)
+        b = slow.ok(idx, unit, options, st_, model.mass)
+        np.testing.assert_array_equal(a, b)
+        kept += int(a.sum())
+    assert 0 < kept  # the instance keeps some options ...
+    if limit < 1.0:
+        assert kept < 20 * len(table)  # ... and prunes some: the decisions are not trivial

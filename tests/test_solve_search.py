@@ -756,3 +756,34 @@ def test_impact_bounds_in_pieces_equal_the_bounds_in_one(leg, monkeypatch):
     for name in whole:
         for a, b in zip(whole[name], pieces[name], strict=True):
             assert a.shape == (200,) and np.array_equal(a, b)
+
+
+def test_measure_objectives_assign_the_joints_that_move_the_bound_first():
+    """The least effective mass of the bundled arm's side collision (impact along y with the
+    arm in its x-z plane) at a payload floor is moved almost only by the shoulder's yaw joint,
+    the one joint of the payload order (:func:`search_order`, distal first) that no payload
+    case loads, so it comes last there; :func:`spread_order` puts it first. Reference for the
+    physics: the operational-space inertia (Khatib 1987) along y sees the reflected inertia of
+    the joints that move the tool along y. The payload objective keeps its own order."""
+    from jointwright.frontier_methods import with_limit, with_payload_floor
+    from jointwright.sizing import build_model, units_of
+    from jointwright.solve.search import root_spreads, search_order, spread_order
+
+    arm = with_limit(example("arm"), "side-collision", "effective_mass_max", None)
+    floored = with_payload_floor(arm, 12.0)
+    model, _ = build_model(floored, "effective_mass@side-collision", {}, [], [])
+    units = units_of(model.n, model.shared)
+    order = search_order(model, units)
+    joints = list(model.project.robot.actuated)
+    yaw = (joints.index("shoulder_yaw"),)
+    assert order[-1] == yaw
+    spreads = root_spreads(model, order)
+    ordered = spread_order(model, order)
+    assert ordered[0] == yaw
+    assert sorted(ordered) == sorted(order)
+    values = [spreads[u] for u in ordered]
+    assert all(a >= b for a, b in zip(values, values[1:], strict=False))
+    assert spreads[yaw] > 0
+    payload_model, _ = build_model(arm, "payload", {}, [], [])
+    porder = search_order(payload_model, units)
+    assert spread_order(payload_model, porder) == porder

@@ -2,7 +2,8 @@
 
 Joints are assigned in an order where every actuator whose mass loads a joint is chosen before
 that joint (distal first on a chain), so a joint's payload bound is exact the moment it is
-assigned. At each node all options of the next joint are bounded in one numpy call
+assigned; for other objectives the units whose choice moves the root's bound the most go first
+(:func:`spread_order`). At each node all options of the next joint are bounded in one numpy call
 (:meth:`SizingModel.child_bounds`); children whose bound cannot beat the incumbent (objective,
 then least mass) or that provably miss a requirement are cut. Complete designs are scored in
 batches by the physics oracle. Proofs of every cut: docs/optimizer.md.
@@ -62,6 +63,59 @@ def search_order(model: SizingModel, units: list[tuple]) -> list[tuple]:
     return out
 
 
+#: share of the time limit the root spreads of :func:`spread_order` may take
+SPREAD_SHARE = 0.05
+#: options bounded at once by :func:`spread_order` (the clock is read between pieces)
+SPREAD_CHUNK = 65_536
+
+
+def spread_order(model: SizingModel, order: list[tuple], deadline: float = math.inf):
+    """For an objective other than the payload: the units whose option moves the root's bound
+    on the objective the most go first (the rest keep ``order``, a stable sort).
+
+    The bound of a partial design is loose while the units that move the objective are free,
+    and the payload order (:func:`search_order`) can leave such a unit to the last level, where
+    every node below its siblings is visited before its choice is seen: on the bundled arm the
+    least effective mass at the largest payload depends almost only on the shoulder's yaw joint,
+    the last in the payload order (measured: docs/benchmarks.md). The spread of a unit is the
+    range of the root bounds of its options that survive the root's cuts; the order only
+    changes how soon the search proves, never what it proves. Past ``deadline`` the order is
+    kept as it is.
+    """
+    if model.kind == "payload" or len(order) < 2:
+        return order
+    spread = root_spreads(model, order, deadline)
+    return order if spread is None else sorted(order, key=lambda u: -spread[u])
+
+
+def root_spreads(model: SizingModel, units: list[tuple], deadline: float = math.inf):
+    """Per unit, the range of the root bounds on the objective over its options that survive
+    the root's cuts (0 when fewer than two bounds are finite); None past ``deadline``."""
+    root = np.full(model.n, -1, dtype=np.int64)
+    st = model.stats(model.candidates)
+    spread = {}
+    for u in units:
+        opts = model.candidates[u[0]]
+        for j in u[1:]:
+            opts = np.intersect1d(opts, model.candidates[j])
+        lo, hi = math.inf, -math.inf
+        for s in range(0, opts.size, SPREAD_CHUNK):
+            if time.perf_counter() > deadline:
+                return None
+            piece = opts[s : s + SPREAD_CHUNK]
+            b = model.child_bounds(root, u, piece, st)
+            rows = np.flatnonzero(b["ok"])
+            if rows.size:
+                sub = {"objective": b["objective"][rows]}
+                good = model.costly_ok(root, u, piece[rows], st, sub)
+                vals = sub["objective"][good]
+                vals = vals[np.isfinite(vals)]
+                if vals.size:
+                    lo, hi = min(lo, float(vals.min())), max(hi, float(vals.max()))
+        spread[u] = hi - lo if hi >= lo else 0.0
+    return spread
+
+
 class BranchAndBound:
     """Depth-first branch and bound; see the module docstring."""
 
@@ -85,9 +139,12 @@ class BranchAndBound:
         is not searched (its bound enters the proven bound; the least-mass tie-break stays
         exact, the reflected-inertia one only with gap 0)."""
         self.model = model
-        self.units = search_order(model, units)
         self.st = model.stats(model.candidates)
         self.deadline = math.inf if time_limit is None else time.perf_counter() + time_limit
+        spread_end = (
+            math.inf if time_limit is None else time.perf_counter() + SPREAD_SHARE * time_limit
+        )
+        self.units = spread_order(model, search_order(model, units), spread_end)
         self.progress = progress
         self.best_key = incumbent
         # a bound on every design (budget, item 4b), within a tenth of the time limit
