@@ -44,7 +44,7 @@ def arm():
 def run(order: str, safe: bool, limit: float) -> None:
     spread, judge = search.spread_order, duty_bound.DutyBound.safe
     if order == "payload":
-        search.spread_order = lambda model, order, deadline=None: order
+        search.spread_order = lambda model, order, *rest: order
     if not safe:
         duty_bound.DutyBound.safe = lambda self, c, j, options, lo, hi: np.zeros(
             options.size, dtype=bool

@@ -58,12 +58,12 @@ class DutyBound:
     def __bool__(self) -> bool:
         return bool(self.cases)
 
-    def _uses(self, pd, j: int, options: np.ndarray, lo_v, hi_v) -> np.ndarray:
-        """The rating-use formulas from per-sample least |τ_m| and its sign pattern."""
+    def _uses(self, pd, j: int, options: np.ndarray, least, same) -> np.ndarray:
+        """The rating-use formulas from per-sample |τ_m| values ``least`` (K, T) and ``same``
+        (K, T-1): True where a step keeps one sign (the tighter RMS term applies)."""
         r = self.table.rows
         n = r["ratio"][options][:, None]
         qd, t = pd.qd[j], pd.trajectory.t
-        least, same = lo_v, hi_v
         a, b = least[:, :-1], least[:, 1:]
         sq = np.where(same, (a * a + a * b + b * b) / 3.0, (a * a + b * b) / 6.0)
         h = np.diff(t)

@@ -69,7 +69,9 @@ SPREAD_SHARE = 0.05
 SPREAD_CHUNK = 65_536
 
 
-def spread_order(model: SizingModel, order: list[tuple], deadline: float = math.inf):
+def spread_order(
+    model: SizingModel, order: list[tuple], deadline: float = math.inf, st: dict | None = None
+):
     """For an objective other than the payload: the units whose option moves the root's bound
     on the objective the most go first (the rest keep ``order``, a stable sort).
 
@@ -84,15 +86,18 @@ def spread_order(model: SizingModel, order: list[tuple], deadline: float = math.
     """
     if model.kind == "payload" or len(order) < 2:
         return order
-    spread = root_spreads(model, order, deadline)
+    spread = root_spreads(model, order, deadline, st)
     return order if spread is None else sorted(order, key=lambda u: -spread[u])
 
 
-def root_spreads(model: SizingModel, units: list[tuple], deadline: float = math.inf):
+def root_spreads(
+    model: SizingModel, units: list[tuple], deadline: float = math.inf, st: dict | None = None
+):
     """Per unit, the range of the root bounds on the objective over its options that survive
-    the root's cuts (0 when fewer than two bounds are finite); None past ``deadline``."""
+    the root's cuts (0 when fewer than two bounds are finite); None past ``deadline``.
+    ``st``: the statistics of the model's candidates, when already computed."""
     root = np.full(model.n, -1, dtype=np.int64)
-    st = model.stats(model.candidates)
+    st = model.stats(model.candidates) if st is None else st
     spread = {}
     for u in units:
         opts = model.candidates[u[0]]
@@ -144,7 +149,7 @@ class BranchAndBound:
         spread_end = (
             math.inf if time_limit is None else time.perf_counter() + SPREAD_SHARE * time_limit
         )
-        self.units = spread_order(model, search_order(model, units), spread_end)
+        self.units = spread_order(model, search_order(model, units), spread_end, self.st)
         self.progress = progress
         self.best_key = incumbent
         # a bound on every design (budget, item 4b), within a tenth of the time limit
