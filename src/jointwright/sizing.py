@@ -197,10 +197,10 @@ def size(
     progress : callable(nodes, best objective or None), optional; when it also has a ``phase``
         method, ``phase(text)`` is called as each phase starts
     explain : compute alternatives and, when infeasible, the per-requirement diagnosis
-    gap : relative optimality gap of the default back-end, 0 ≤ gap < 1 (default 1e-4): the run
-        ends once the proven bound is within ``gap``·|objective| of the best design, status
-        ``optimal``; 0 proves the exact optimum (docs/optimizer.md, "Ties and the optimality
-        gap"); ties are broken by least mass at any gap except in a MILP hand-over's answer
+    gap : relative optimality gap, 0 ≤ gap < 1 (default 1e-4): the run ends once the proven
+        bound is within ``gap``·|objective| of the best design, status ``optimal``; 0 proves
+        the exact optimum (docs/optimizer.md, "Ties and the optimality gap"); the default
+        back-end breaks ties by least mass at any gap except in a MILP hand-over's answer
 
     Returns
     -------

@@ -234,7 +234,7 @@ def print_result(r, project=None) -> None:
     type=float,
     default=OPTIMALITY_GAP,
     show_default=True,
-    help="relative optimality gap at which the default back-end's run ends, 0 ≤ gap < 1 "
+    help="relative optimality gap at which the run ends (either back-end), 0 ≤ gap < 1 "
     "(0: the exact optimum)",
 )
 @click.option(

@@ -53,8 +53,9 @@ def first_design(model: SizingModel, units, time_limit, phase=None):
 def run_backend(
     model: SizingModel, units, backend: str, time_limit, progress, phase=None, gap=0.0
 ) -> SolveOutcome:
-    """The back-end's outcome; ``gap``: the relative optimality gap of the default back-end
-    (:data:`.result.OPTIMALITY_GAP` in ``size``; 0: the exact optimum and its tie-break)."""
+    """The back-end's outcome; ``gap``: the relative optimality gap of the default and Pyomo
+    back-ends (:data:`.result.OPTIMALITY_GAP` in ``size``; 0: the exact optimum and, in the
+    default back-end, its tie-break)."""
     if backend == "search":
         from .handover import milp_models
         from .search import BranchAndBound
@@ -79,7 +80,7 @@ def run_backend(
     if backend == "pyomo":
         from .pyomo_backend import solve_pyomo
 
-        return solve_pyomo(model, units, time_limit=time_limit)
+        return solve_pyomo(model, units, time_limit=time_limit, gap=gap)
     from .enumerate import enumerate_all
 
     return enumerate_all(model)

@@ -180,8 +180,20 @@ def cut_sets(model: SizingModel, index: np.ndarray, opts) -> list[list[np.ndarra
     return out
 
 
-def solve_pyomo(model: SizingModel, units, *, time_limit=None, max_rounds=10_000) -> SolveOutcome:
-    """Solve by MILP plus lazy no-good cuts (see the module notes)."""
+def _slack(value: float, bound: float, gap: float) -> float:
+    """How far below the bound a design may stay and count as proven: the tie tolerance, or the
+    relative gap asked for, whichever is larger."""
+    return max(tie_tol(bound), gap * abs(value))
+
+
+def solve_pyomo(
+    model: SizingModel, units, *, time_limit=None, gap: float = 0.0, max_rounds=10_000
+) -> SolveOutcome:
+    """Solve by MILP plus lazy no-good cuts (see the module notes).
+
+    ``gap``: the relative optimality gap, passed to HiGHS (``mip_rel_gap``) and used to end the
+    cut loop: the run stops, status ``optimal``, once the best design is within
+    ``gap``·|objective| of the bound (0: the exact optimum, as far as HiGHS proves it)."""
     import pyomo.environ  # noqa: F401  (registers the solvers)
     from pyomo.contrib.solver.common.factory import SolverFactory
 
@@ -249,6 +261,7 @@ def solve_pyomo(model: SizingModel, units, *, time_limit=None, max_rounds=10_000
             res = solver.solve(
                 m,
                 time_limit=min(left, 1e7),
+                solver_options={"mip_rel_gap": float(gap)},
                 load_solutions=False,
                 raise_exception_on_nonoptimal_result=False,
             )
@@ -268,12 +281,12 @@ def solve_pyomo(model: SizingModel, units, *, time_limit=None, max_rounds=10_000
         key = model.best_key(index[None, :])
         if key is not None and model.better(key, best):
             best = key
-        if best is not None and best[0] >= bound - tie_tol(bound):
+        if best is not None and best[0] >= bound - _slack(best[0], bound, gap):
             break
         for group in cut_sets(model, index, opts):
             m.cuts.add(sum(m.x[j, int(o)] for j in range(model.n) for o in group[j]) <= model.n - 1)
     seconds = time.perf_counter() - start
-    proven = best is not None and best[0] >= bound - tie_tol(bound)
+    proven = best is not None and best[0] >= bound - _slack(best[0], bound, gap)
     if best is None:
         status = "infeasible" if bound == -math.inf else "time_limit"
         return SolveOutcome(
