@@ -171,7 +171,7 @@ def test_incumbent_of_largest_payload_and_worst_measure_keeps_the_front(leg, see
     # the WORST measure, the search must still find the best measure at that payload and the
     # rest of the front (brute force as the reference)
     from jointwright.solve.enumerate import combinations
-    from jointwright.solve.pareto import unit_options
+    from jointwright.solve.pareto import units_options
 
     p = random_instance(leg, seed, keep_duty=bool(seed % 2))
     _kind, key, metric, sense = MEASURES[measure]
@@ -187,7 +187,7 @@ def test_incumbent_of_largest_payload_and_worst_measure_keeps_the_front(leg, see
         table=build_options(p, cfg["exclude"]),
     )
     units = units_of(model.n, model.shared)
-    opts = unit_options(model, units)
+    opts = units_options(model, units)
     rows = combinations(opts, 0, int(np.prod([o.size for o in opts])))
     index = np.empty((rows.shape[0], model.n), dtype=np.int64)
     for k, unit in enumerate(units):

@@ -25,6 +25,7 @@ from jointwright.frontier import frontier, with_limit
 from jointwright.options import build_table
 from jointwright.sizing import build_model, read_objective, units_of
 from jointwright.solve.biobjective import BiObjectiveSearch
+from jointwright.solve.model import unit_options
 
 
 @pytest.fixture(scope="module")
@@ -72,7 +73,7 @@ def test_mass_bound_of_a_partial_design_is_the_sum_of_least_values(leg):
     search = BiObjectiveSearch(model, units, None, "mass", "max")
     idx = np.full(model.n, -1, dtype=np.int64)
     for level, unit in enumerate(search.units):
-        opts = search._unit_options(unit)
+        opts = unit_options(model.candidates, unit)
         got, _pay, bound = search._boxes(idx, unit, opts, level + 1 == len(search.units))
         least = sum(model.mass[model.candidates[j]].min() for j in range(model.n) if idx[j] < 0)
         if not got.size:

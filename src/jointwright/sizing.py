@@ -23,7 +23,7 @@ from .option_rows import OutOfTime
 from .options import JointCandidates, build_table, joint_candidates
 from .problem import MINIMIZED, OBJECTIVES
 from .solve.engines import run_backend
-from .solve.model import SizingModel
+from .solve.model import SizingModel, unit_options
 from .solve.result import OPTIMALITY_GAP, ROUNDING_GAP, SizingResult, SolveOutcome, relative_gap
 from .units import format_number
 
@@ -94,9 +94,7 @@ def tighten(model: SizingModel, units: list[tuple], rounds: int = 10, deadline=N
         for unit in units:
             if deadline is not None and time.perf_counter() > deadline:
                 return
-            opts = model.candidates[unit[0]]
-            for j in unit[1:]:
-                opts = np.intersect1d(opts, model.candidates[j])
+            opts = unit_options(model.candidates, unit)
             if opts.size == 0:
                 return
             ok = np.ones(opts.size, dtype=bool)

@@ -37,7 +37,7 @@ from ..problem import checks, feasible
 from .bound_models import SEPARABLE, measure_model, shared_payload_bounds
 from .floor_bound import floor_applies, floor_bounds
 from .front_archive import FINAL, NODE, SCREENED, FrontArchive
-from .model import SizingModel, tie_tol
+from .model import SizingModel, tie_tol, unit_options
 from .pareto import _payload, measure_values
 from .search import search_order
 
@@ -122,7 +122,7 @@ class BiObjectiveSearch(FrontArchive):
         n = self.model.n
         heap: list = []
         tick = itertools.count()
-        opts = [self._unit_options(u) for u in self.units]
+        opts = [unit_options(self.model.candidates, u) for u in self.units]
         if all(o.size for o in opts):
             top = 1.0 if self.metric == "imf" else 0.0  # the trivial measure bound
             root = (np.full(n, -1, dtype=np.int64), None, [self.cap], [top], 0, None)
@@ -260,12 +260,6 @@ class BiObjectiveSearch(FrontArchive):
                 return p if i == 0 else float(tops[i])
         return -np.inf
 
-    def _unit_options(self, unit) -> np.ndarray:
-        opts = self.model.candidates[unit[0]]
-        for j in unit[1:]:
-            opts = np.intersect1d(opts, self.model.candidates[j])
-        return opts
-
     def _boxes(self, idx: np.ndarray, unit: tuple, opts: np.ndarray, last: bool):
         """Children of ``unit`` that survive every cut, largest payload bound first, with their
         boxes (payload upper bound, measure bound, internal sense)."""
@@ -305,7 +299,9 @@ class BiObjectiveSearch(FrontArchive):
         complete designs at the last level in one batch and push the feasible ones."""
         self.nodes += 1
         unit = self.units[level]
-        opts, p, mb = self._boxes(idx, unit, self._unit_options(unit), level + 1 == len(self.units))
+        opts, p, mb = self._boxes(
+            idx, unit, unit_options(self.model.candidates, unit), level + 1 == len(self.units)
+        )
         if not opts.size:
             return
         if level + 1 < len(self.units):

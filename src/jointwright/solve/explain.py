@@ -14,6 +14,7 @@ import numpy as np
 from ..margin_words import binding_labels
 from ..problem import MINIMIZED, checks, feasible
 from ..project import STANDARD_GRAVITY, JointLimits, Requirements
+from .model import unit_options
 from .result import Alternative, Diagnosis, SolveOutcome
 
 #: the exact value search a re-solve runs: (project, kind, *, table, time_limit) -> outcome
@@ -92,9 +93,7 @@ def alternatives(
         label = ", ".join(names[j] for j in unit)
         ulist = list(unit)
         chosen = table.actuators[int(index[unit[0]])]
-        cand = model.candidates[unit[0]]
-        for j in unit[1:]:
-            cand = np.intersect1d(cand, model.candidates[j])
+        cand = unit_options(model.candidates, unit)
         cand = cand[cand != index[unit[0]]]
         # screen every candidate (static cases), in chunks
         scr_ok, scr_f = np.zeros(cand.size, bool), np.full(cand.size, -np.inf)

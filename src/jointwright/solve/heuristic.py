@@ -34,7 +34,7 @@ import time
 import numpy as np
 
 from ..problem import checks
-from .model import SizingModel
+from .model import SizingModel, unit_options
 
 #: designs per oracle call
 BATCH = 1024
@@ -116,12 +116,7 @@ class Heuristic:
         self.rng = np.random.default_rng(seed)
         self.best: tuple | None = None
         self.tried = 0
-        self.options = []
-        for u in units:
-            opts = model.candidates[u[0]]
-            for j in u[1:]:
-                opts = np.intersect1d(opts, model.candidates[j])
-            self.options.append(opts)
+        self.options = [unit_options(model.candidates, u) for u in units]
 
     def out_of_time(self) -> bool:
         return time.perf_counter() > self.deadline or time.process_time() > self.cpu_end

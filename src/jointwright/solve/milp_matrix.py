@@ -30,7 +30,7 @@ import scipy.sparse as sp
 from scipy.optimize import Bounds, LinearConstraint
 
 from ..problem import force_for_objective, objective_names
-from .model import SizingModel
+from .model import SizingModel, unit_options
 from .pyomo_backend import quiet_stdout
 from .result import OPTIMALITY_GAP, SolveOutcome
 
@@ -69,11 +69,8 @@ def _units(model: SizingModel):
     unit_of = np.full(model.n, -1, dtype=np.int64)
     options: list[np.ndarray] = []
     for g in model.shared:
-        common = model.candidates[g[0]]
-        for j in g[1:]:
-            common = np.intersect1d(common, model.candidates[j])
         unit_of[list(g)] = len(options)
-        options.append(np.asarray(common, dtype=np.int64))
+        options.append(unit_options(model.candidates, g))
     for j in range(model.n):
         if unit_of[j] < 0:
             unit_of[j] = len(options)

@@ -35,6 +35,15 @@ DUTY_CHUNK = 32
 TIE_TOLERANCE = 1e-9
 
 
+def unit_options(candidates: Sequence[np.ndarray], unit: Sequence[int]) -> np.ndarray:
+    """The options a decision unit (a shared group or a lone joint) may take: those every one of
+    its joints allows in ``candidates`` (one array of option indices per joint), as int64."""
+    opts = candidates[unit[0]]
+    for j in unit[1:]:
+        opts = np.intersect1d(opts, candidates[j])
+    return np.asarray(opts, dtype=np.int64)
+
+
 def tie_tol(value: float) -> float:
     return TIE_TOLERANCE * max(1.0, abs(value)) if math.isfinite(value) else 0.0
 

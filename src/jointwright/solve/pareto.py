@@ -23,7 +23,7 @@ import numpy as np
 
 from ..problem import checks, feasible, objective
 from .enumerate import combinations
-from .model import SizingModel, tie_tol
+from .model import SizingModel, tie_tol, unit_options
 
 #: designs per oracle call
 BATCH = 20_000
@@ -39,20 +39,14 @@ class ParetoOutcome:
     seconds: float
 
 
-def unit_options(model: SizingModel, units: list[tuple]) -> list[np.ndarray]:
+def units_options(model: SizingModel, units: list[tuple]) -> list[np.ndarray]:
     """Candidates of each decision unit: a shared group takes an option all its joints allow."""
-    out = []
-    for unit in units:
-        opts = model.candidates[unit[0]]
-        for j in unit[1:]:
-            opts = np.intersect1d(opts, model.candidates[j])
-        out.append(np.asarray(opts, dtype=np.int64))
-    return out
+    return [unit_options(model.candidates, unit) for unit in units]
 
 
 def count(model: SizingModel, units: list[tuple]) -> int:
     """Number of designs the exhaustive front would score."""
-    return math.prod(o.size for o in unit_options(model, units))
+    return math.prod(o.size for o in units_options(model, units))
 
 
 def pareto_front(
@@ -73,7 +67,7 @@ def pareto_front(
     ``complete=False``.
     """
     start = time.perf_counter()
-    opts = unit_options(model, units)
+    opts = units_options(model, units)
     total = math.prod(o.size for o in opts)
     sign = 1.0 if sense == "min" else -1.0
     keep_p, keep_m, keep_i, keep_mass, keep_refl = [], [], [], [], []

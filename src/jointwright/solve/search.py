@@ -17,7 +17,7 @@ import time
 import numpy as np
 
 from . import budget_bound
-from .model import SizingModel, tie_tol
+from .model import SizingModel, tie_tol, unit_options
 from .result import SolveOutcome
 
 #: complete designs scored per oracle call at the last level
@@ -100,9 +100,7 @@ def root_spreads(
     st = model.stats(model.candidates) if st is None else st
     spread = {}
     for u in units:
-        opts = model.candidates[u[0]]
-        for j in u[1:]:
-            opts = np.intersect1d(opts, model.candidates[j])
+        opts = unit_options(model.candidates, u)
         lo, hi = math.inf, -math.inf
         for s in range(0, opts.size, SPREAD_CHUNK):
             if time.perf_counter() > deadline:
@@ -191,16 +189,10 @@ class BranchAndBound:
             "imf_min" in c.limits or "directional_imf_min" in c.limits for c in model.impact_cases
         )
 
-    def unit_options(self, unit) -> np.ndarray:
-        opts = self.model.candidates[unit[0]]
-        for j in unit[1:]:
-            opts = np.intersect1d(opts, self.model.candidates[j])
-        return opts
-
     def run(self) -> SolveOutcome:
         start = time.perf_counter()
         n = self.model.n
-        empty = [u for u in self.units if self.unit_options(u).size == 0]
+        empty = [u for u in self.units if unit_options(self.model.candidates, u).size == 0]
         if empty:
             names = ", ".join(self.model.project.robot.actuated[j] for j in empty[0])
             return SolveOutcome(
@@ -243,7 +235,7 @@ class BranchAndBound:
         gap, self.gap = self.gap, 0.0  # exact cuts: the designs within the gap stay
         try:
             for u in self.units:
-                kept, _ = self._children(root, u, self.unit_options(u), self.st)
+                kept, _ = self._children(root, u, unit_options(self.model.candidates, u), self.st)
                 for j in u:
                     out[j] = np.sort(kept)
         finally:
@@ -363,9 +355,7 @@ class BranchAndBound:
 
         out = list(cands)
         for unit in self.units[level + 1 :]:
-            opts = out[unit[0]]
-            for j in unit[1:]:
-                opts = np.intersect1d(opts, out[j])
+            opts = unit_options(out, unit)
             keep = opts[impact_ok(self.model, idx, unit, opts, st)] if opts.size else opts
             if keep.size == 0:
                 return None, None
@@ -385,10 +375,7 @@ class BranchAndBound:
         if cands is None or st is None:
             return
         unit = self.units[level]
-        opts = cands[unit[0]]
-        for j in unit[1:]:
-            opts = np.intersect1d(opts, cands[j])
-        opts, b = self._children(idx, unit, opts, st)
+        opts, b = self._children(idx, unit, unit_options(cands, unit), st)
         if level + 1 == len(self.units):
             self._leaves(idx, unit, opts, b)
             return

@@ -42,6 +42,7 @@ import weakref
 import numpy as np
 
 from ..metrics.payload import torque_bounds
+from .model import unit_options
 from .stance_program import StanceProgram
 
 #: option groups bounded per node (mass bins × torque bins)
@@ -153,9 +154,7 @@ class StanceBound:
             for u in units:
                 if time.perf_counter() > deadline:
                     return cands, bound
-                opts = cands[u[0]]
-                for j in u[1:]:
-                    opts = np.intersect1d(opts, cands[j])
+                opts = unit_options(cands, u)
                 if opts.size == 0:
                     return [np.empty(0, dtype=np.int64)] * len(cands), bound
                 b = bound.bound(root, u, opts, floor)
@@ -237,9 +236,7 @@ class StanceBound:
         for f in margins:
             idx = np.full(n, -1, dtype=np.int64)
             for u in units:
-                opts = self.candidates[u[0]]
-                for j in u[1:]:
-                    opts = np.intersect1d(opts, self.candidates[j])
+                opts = unit_options(self.candidates, u)
                 if opts.size == 0:
                     return np.empty((0, n), dtype=np.int64)
                 cover = np.zeros(opts.size)
@@ -259,9 +256,7 @@ class StanceBound:
         model = self.model
         idx = np.full(model.n, -1, dtype=np.int64)
         for u in units:
-            opts = self.candidates[u[0]]
-            for j in u[1:]:
-                opts = np.intersect1d(opts, self.candidates[j])
+            opts = unit_options(self.candidates, u)
             if opts.size == 0:
                 return np.empty(0, dtype=np.int64)
             b = self.bound(idx, u, opts, None, LEAD)
