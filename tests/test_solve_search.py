@@ -196,10 +196,12 @@ def test_search_with_a_gap_keeps_a_valid_bound(leg, seed, kind, gap):
     _gap_case(leg, seed, kind, gap)
 
 
-@pytest.mark.parametrize("seed", [2, 9])
+@pytest.mark.parametrize("seed", [44, 69])
 def test_a_gap_that_stops_short_of_the_optimum_keeps_a_valid_bound(leg, seed):
     """Two fixed instances of the test above where the search does stop short of the optimum
-    (checked), so the nodes left out for the gap decide the bound."""
+    (checked), so the nodes left out for the gap decide the bound. (The seeds are re-chosen
+    when the search improves: with the payload probe, docs/optimizer.md item 10, the earlier
+    seeds 2 and 9 reach the optimum itself.)"""
     out, ref = _gap_case(leg, seed, "payload", 0.3)
     assert out.objective < ref.objective  # the gap was used
 
@@ -496,12 +498,15 @@ def test_impact_limits_and_budgets_match_enumeration(leg, seed, kind):
     total-mass budget: the search (IMF bounds, effective-mass bound, budget level bound) finds
     the enumerated optimum."""
     rng = np.random.default_rng(seed)
+    limits = {"imf_min": 1.0, "directional_imf_min": 1.0, "effective_mass_max": 1.0}
+    agree(leg_with_impact_limits(leg, rng, limits), kind)
+
+
+def leg_with_impact_limits(leg, rng, limits):
+    """A small leg instance without its duty case, with ``limits`` kinds on the impact case;
+    their levels, and the budget's, drawn by :func:`set_limits` from random designs."""
     cases = tuple(
-        dataclasses.replace(
-            c, limits={"imf_min": 1.0, "directional_imf_min": 1.0, "effective_mass_max": 1.0}
-        )
-        if c.kind == "impact"
-        else c
+        dataclasses.replace(c, limits=dict(limits)) if c.kind == "impact" else c
         for c in leg.cases
         if c.kind != "duty"
     )
@@ -513,8 +518,7 @@ def test_impact_limits_and_budgets_match_enumeration(leg, seed, kind):
         objective={},
         cases=cases,
     )
-    project = set_limits(project, rng, build_table(project), keep_duty=False)
-    agree(project, kind)
+    return set_limits(project, rng, build_table(project), keep_duty=False)
 
 
 @settings(

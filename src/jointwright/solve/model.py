@@ -355,9 +355,10 @@ class SizingModel:
         options: np.ndarray,
         st: dict,
         floor: float | None = None,
+        levels: bool = True,
     ) -> dict:
         """Bounds for giving ``unit`` each of ``options`` (:func:`.node_bounds.child_bounds`)."""
-        return node_bounds.child_bounds(self, idx, unit, options, st, floor)
+        return node_bounds.child_bounds(self, idx, unit, options, st, floor, levels)
 
     def case_value(self, c: int, bound: np.ndarray) -> np.ndarray:
         """The objective's value of payload case ``c`` given an upper bound on its payload (N):

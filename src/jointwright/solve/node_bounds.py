@@ -44,6 +44,33 @@ def stats(model, candidates) -> dict:
     return out
 
 
+def narrowed(model, st: dict, candidates) -> dict:
+    """:func:`stats` of ``candidates``, subsets of those ``st`` describes, for the price of the
+    extremes only: the least and greatest masses, costs, reflected inertias, breakaway forces
+    and torque bounds are taken over the subsets; the payload reach fronts and own bounds stay
+    the superset's, which still hold for every subset (looser, never wrong)."""
+
+    def ext(values, fn):
+        return np.array([fn(values[c]) if c.size else np.nan for c in candidates])
+
+    return dict(
+        st,
+        mmin=ext(model.mass, np.min),
+        mmax=ext(model.mass, np.max),
+        cmin=ext(model.cost, np.min),
+        rmin=ext(model.reflected, np.min),
+        bmin=ext(model.breakaway, np.min),
+        hi=[
+            np.array([t.hi[j, c].max() if c.size else np.nan for j, c in enumerate(candidates)])
+            for t in model.payload
+        ],
+        lo=[
+            np.array([t.lo[j, c].min() if c.size else np.nan for j, c in enumerate(candidates)])
+            for t in model.payload
+        ],
+    )
+
+
 def own_bounds(model, j: int, cands: np.ndarray, st: dict):
     """Options of joint j sorted by their own payload bound (most favourable bias over all
     designs), descending, with the running least mass: an improving design needs
@@ -96,7 +123,9 @@ def useful_mmin(model, st: dict, floor: float | None) -> np.ndarray:
             continue
         own, run = entry[0], entry[1]
         count = int(np.searchsorted(-own, -floor, side="right"))
-        out[j] = run[count - 1] if count else np.inf
+        # the own bounds may describe a superset of the candidates (:func:`narrowed`): the
+        # candidates' own least mass bounds the useful ones too
+        out[j] = max(run[count - 1], out[j]) if count else np.inf
     return out
 
 
@@ -141,6 +170,7 @@ def child_bounds(
     options: np.ndarray,
     st: dict,
     floor: float | None = None,
+    levels: bool = True,
 ) -> dict:
     """Bounds for giving the joints of ``unit`` each option in ``options`` (K,).
 
@@ -191,7 +221,7 @@ def child_bounds(
         b_lo.append(np.where((t.a > 0), bias_lo, bias_hi))
     if model.kind == "payload" and F.size and model.payload:
         worst = np.minimum(worst, budget_bound.free_bound(model, F, b_lo, st))
-    if model.kind == "payload" and F.size and model.payload:
+    if levels and model.kind == "payload" and F.size and model.payload:
         worst = np.minimum(
             worst, budget_bound.budget_level_bound(model, F, idx, A, unit, options, st)
         )

@@ -18,6 +18,7 @@ import numpy as np
 
 from . import budget_bound
 from .model import SizingModel, tie_tol, unit_options
+from .node_bounds import narrowed
 from .result import SolveOutcome
 
 #: complete designs scored per oracle call at the last level
@@ -188,6 +189,12 @@ class BranchAndBound:
         self.imf_limits = model.imf_limits_or_objective() and any(
             "imf_min" in c.limits or "directional_imf_min" in c.limits for c in model.impact_cases
         )
+        # the payload probe at each node (:meth:`_node_candidates`)
+        self.probe = model.kind == "payload" and (
+            bool(model.effective_mass_limits)
+            or self.imf_limits
+            or math.isfinite(model.total_mass_max)
+        )
 
     def run(self) -> SolveOutcome:
         start = time.perf_counter()
@@ -345,24 +352,49 @@ class BranchAndBound:
         return out
 
     def _node_candidates(self, idx: np.ndarray, level: int, cands: list, st: dict):
-        """The candidates of the units still open below a node with IMF limits: options that
-        miss a limit in every completion of the node are dropped (docs/optimizer.md, item 8), and
-        the statistics follow. (None, None) when a unit has no option left. The node's own unit
-        is left out: its options are screened as children, after the cheap cuts."""
-        if not self.imf_limits or level == 0 or level + 2 > len(self.units):
-            return cands, st
-        from .impact_bound import impact_ok
+        """The candidates of the units still open below a node, and their statistics; (None,
+        None) when a unit has no option left. The node's own unit is left out: its options are
+        screened as children, after the cheap cuts.
 
+        - Payload probe (docs/optimizer.md, item 10): with a payload objective, an incumbent and
+          a bound that reads the open joints' least masses (effective-mass or IMF limits, a
+          total-mass budget), each open unit keeps only the options whose bound at this node
+          (:meth:`SizingModel.child_bounds` without the budget tables) can still reach the
+          incumbent less its tie tolerance and meets the cheap requirements; the strong
+          options are the heavy ones, so the least masses rise and those bounds tighten.
+        - IMF limits: options that miss a limit in every completion of the node are dropped
+          (docs/optimizer.md, item 8).
+        """
+        if not (self.probe or self.imf_limits) or level == 0 or level + 2 > len(self.units):
+            return cands, st
         out = list(cands)
-        for unit in self.units[level + 1 :]:
-            opts = unit_options(out, unit)
-            keep = opts[impact_ok(self.model, idx, unit, opts, st)] if opts.size else opts
-            if keep.size == 0:
-                return None, None
-            for j in unit:
-                out[j] = keep
+        probed = self.probe and self.best_key is not None
+        if probed:
+            floor = self.best_key[0] - tie_tol(self.best_key[0])
+            for unit in self.units[level + 1 :]:
+                opts = unit_options(out, unit)
+                b = self.model.child_bounds(idx, unit, opts, st, floor, levels=False)
+                keep = opts[b["ok"] & (np.minimum(b["objective"], self.cap) >= floor)]
+                if keep.size == 0:
+                    return None, None
+                for j in unit:
+                    out[j] = keep
+        if self.imf_limits:
+            from .impact_bound import impact_ok
+
+            for unit in self.units[level + 1 :]:
+                opts = unit_options(out, unit)
+                keep = opts[impact_ok(self.model, idx, unit, opts, st)] if opts.size else opts
+                if keep.size == 0:
+                    return None, None
+                for j in unit:
+                    out[j] = keep
         if all(a.size == b.size for a, b in zip(out, cands, strict=True)):
             return cands, st
+        if probed:
+            # the extremes only: at every node the full statistics would cost more than the
+            # probe saves (measured: docs/benchmarks.md)
+            return out, narrowed(self.model, st, out)
         return out, self.model.stats(out)
 
     def _node(self, idx: np.ndarray, level: int, cands=None, st=None) -> None:
