@@ -166,7 +166,7 @@ def frontier(
             break
         current = with_limit(project, name, key, eps)
         upper = found[-1][0] if found else None  # the neighbour's payload bounds this one
-        status, payload, design, _i = _solve(
+        status, payload, design, first = _solve(
             current, "payload", None, time_limit and left, upper, backend, table
         )
         solves += 1
@@ -181,10 +181,19 @@ def frontier(
             break
         rest = None if time_limit is None else max(deadline - time.perf_counter(), 1e-3)
         status2, _value, best, _i = _solve(
-            current, objective_kind(metric, name), payload, rest, None, "search", table
+            current,
+            objective_kind(metric, name),
+            payload,
+            rest,
+            None,
+            "search",
+            table,
+            start=first,
         )
         solves += 1
-        if status2 == "optimal":
+        if best is not None:
+            # proven (status optimal) or, when stopped, the best measure found at this payload:
+            # never worse than the first design, which starts the search
             design = best
         mu = _measure(project, design, name, metric)
         found.append((payload, mu, design))

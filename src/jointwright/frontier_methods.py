@@ -104,6 +104,7 @@ def _bnb(
             None,
             "search",
             table,
+            start=first,
         )
         solves += 1
         if status2 == "optimal" and best is not None:
@@ -216,13 +217,25 @@ def with_payload_floor(project, payload_floor: float):
     )
 
 
-def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=None, bound=None):
+def _solve(
+    project,
+    kind: str,
+    payload_floor,
+    time_limit,
+    upper,
+    backend,
+    table=None,
+    bound=None,
+    start=None,
+):
     """One exact solve of the sweep: (status, objective, design, option index per joint).
 
     ``payload_floor``: every payload and stance case must reach it (:func:`with_payload_floor`);
     ``bound``: a :class:`~.solve.biobjective.BiObjectiveSearch` whose payload cap takes the
     search's proven bound (payload objective only);
-    ``upper``: a known bound from the neighbouring point, which ends the search when reached.
+    ``upper``: a known bound from the neighbouring point, which ends the search when reached;
+    ``start``: the option index of a design to start from (the search's first incumbent when it
+    meets every requirement of this solve; a stopped search returns it or a better one).
     Only the optimal value matters here, so ties are not searched.
     """
     from .option_rows import OutOfTime
@@ -244,7 +257,12 @@ def _solve(project, kind: str, payload_floor, time_limit, upper, backend, table=
     if end is not None:
         time_limit = max(end - time.perf_counter(), 1e-3)
     if backend == "search" or "@" in kind:
-        out = BranchAndBound(model, units, time_limit=time_limit, ties=False, upper=upper).run()
+        import numpy as np
+
+        key = None if start is None else model.best_key(np.asarray(start, dtype=np.int64)[None, :])
+        out = BranchAndBound(
+            model, units, time_limit=time_limit, ties=False, upper=upper, incumbent=key
+        ).run()
     else:
         from .sizing import run_backend
 
