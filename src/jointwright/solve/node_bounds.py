@@ -20,11 +20,27 @@ from . import budget_bound
 
 def stats(model, candidates) -> dict:
     """Per joint, extremes over its candidate options (what an unassigned joint can reach)."""
+    out = _extremes(model, candidates)
+    out["reach"] = [_reach_front(model, j, c) for j, c in enumerate(candidates)]
+    out["own"] = [own_bounds(model, j, c, out) for j, c in enumerate(candidates)]
+    return out
+
+
+def narrowed(model, st: dict, candidates) -> dict:
+    """:func:`stats` of ``candidates``, subsets of those ``st`` describes, for the price of the
+    extremes only: the least and greatest masses, costs, reflected inertias, breakaway forces
+    and torque bounds are taken over the subsets; the payload reach fronts and own bounds stay
+    the superset's, which still hold for every subset (looser, never wrong)."""
+    return dict(st, **_extremes(model, candidates))
+
+
+def _extremes(model, candidates) -> dict:
+    """The least and greatest values per joint over its candidate options."""
 
     def ext(values, fn):
         return np.array([fn(values[c]) if c.size else np.nan for c in candidates])
 
-    out = {
+    return {
         "mmin": ext(model.mass, np.min),
         "mmax": ext(model.mass, np.max),
         "cmin": ext(model.cost, np.min),
@@ -38,37 +54,7 @@ def stats(model, candidates) -> dict:
             np.array([t.lo[j, c].min() if c.size else np.nan for j, c in enumerate(candidates)])
             for t in model.payload
         ],
-        "reach": [_reach_front(model, j, c) for j, c in enumerate(candidates)],
     }
-    out["own"] = [own_bounds(model, j, c, out) for j, c in enumerate(candidates)]
-    return out
-
-
-def narrowed(model, st: dict, candidates) -> dict:
-    """:func:`stats` of ``candidates``, subsets of those ``st`` describes, for the price of the
-    extremes only: the least and greatest masses, costs, reflected inertias, breakaway forces
-    and torque bounds are taken over the subsets; the payload reach fronts and own bounds stay
-    the superset's, which still hold for every subset (looser, never wrong)."""
-
-    def ext(values, fn):
-        return np.array([fn(values[c]) if c.size else np.nan for c in candidates])
-
-    return dict(
-        st,
-        mmin=ext(model.mass, np.min),
-        mmax=ext(model.mass, np.max),
-        cmin=ext(model.cost, np.min),
-        rmin=ext(model.reflected, np.min),
-        bmin=ext(model.breakaway, np.min),
-        hi=[
-            np.array([t.hi[j, c].max() if c.size else np.nan for j, c in enumerate(candidates)])
-            for t in model.payload
-        ],
-        lo=[
-            np.array([t.lo[j, c].min() if c.size else np.nan for j, c in enumerate(candidates)])
-            for t in model.payload
-        ],
-    )
 
 
 def own_bounds(model, j: int, cands: np.ndarray, st: dict):
@@ -180,7 +166,9 @@ def child_bounds(
     where some requirement is provably missed by every completion. Exact when every joint
     is assigned (up to rounding). With ``floor`` (payload objective) only completions whose
     objective reaches ``floor`` are bounded, so free joints count their useful options only
-    (:func:`useful_mmin`); the mass bound then holds for those completions.
+    (:func:`useful_mmin`); the mass bound then holds for those completions. ``levels=False``
+    leaves out the budget level bound (:func:`.budget_bound.budget_level_bound`): a looser,
+    cheaper bound, still valid.
     """
     if floor is not None and model.kind == "payload":
         st = dict(st, mmin=useful_mmin(model, st, floor))
