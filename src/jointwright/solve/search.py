@@ -367,28 +367,22 @@ class BranchAndBound:
         """
         if not (self.probe or self.imf_limits) or level == 0 or level + 2 > len(self.units):
             return cands, st
+        from .impact_bound import impact_ok
+
         out = list(cands)
         probed = self.probe and self.best_key is not None
-        if probed:
-            floor = self.best_key[0] - tie_tol(self.best_key[0])
-            for unit in self.units[level + 1 :]:
-                opts = unit_options(out, unit)
+        floor = self.best_key[0] - tie_tol(self.best_key[0]) if probed else None
+        for unit in self.units[level + 1 :]:
+            opts = unit_options(out, unit)
+            if probed:
                 b = self.model.child_bounds(idx, unit, opts, st, floor, levels=False)
-                keep = opts[b["ok"] & (np.minimum(b["objective"], self.cap) >= floor)]
-                if keep.size == 0:
-                    return None, None
-                for j in unit:
-                    out[j] = keep
-        if self.imf_limits:
-            from .impact_bound import impact_ok
-
-            for unit in self.units[level + 1 :]:
-                opts = unit_options(out, unit)
-                keep = opts[impact_ok(self.model, idx, unit, opts, st)] if opts.size else opts
-                if keep.size == 0:
-                    return None, None
-                for j in unit:
-                    out[j] = keep
+                opts = opts[b["ok"] & (np.minimum(b["objective"], self.cap) >= floor)]
+            if self.imf_limits and opts.size:
+                opts = opts[impact_ok(self.model, idx, unit, opts, st)]
+            if opts.size == 0:
+                return None, None
+            for j in unit:
+                out[j] = opts
         if all(a.size == b.size for a, b in zip(out, cands, strict=True)):
             return cands, st
         if probed:
