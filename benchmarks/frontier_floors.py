@@ -37,7 +37,9 @@ def main() -> None:
     cfg = read_objective(free)
     model, _ = build_model(free, "payload", cfg["pin"], cfg["exclude"], cfg["shared"])
     units = units_of(model.n, model.shared)
-    status, payload, _design, index = _solve(free, "payload", None, None, None, "search")
+    status, payload, _design, index, _bound = _solve(
+        free, "payload", None, None, None, "search"
+    )
     print(f"largest payload: {payload:.4f} kg ({status})", flush=True)
     for floors in (True, False):
         search = BiObjectiveSearch(model, units, case, metric, sense)

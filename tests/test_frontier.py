@@ -207,27 +207,33 @@ def test_a_solve_whose_limit_ends_while_its_options_are_built_reports_the_time_l
     "time_limit" with no design, as a stopped run must, instead of failing."""
     from jointwright.frontier_methods import _solve
 
-    assert _solve(leg, "payload", None, 1e-9, None, "search") == ("time_limit", None, None, None)
+    out = _solve(leg, "payload", None, 1e-9, None, "search")
+    assert out[:4] == ("time_limit", None, None, None) and out[4] == float("inf")
 
 
 def test_a_stopped_second_stage_keeps_the_design_it_started_from(leg, monkeypatch):
     """The sweep's second stage (the best measure at the payload just proven) starts from the
     first stage's design: stopped before its first node it still returns that design, which
-    meets the payload floor and every requirement, instead of no design."""
+    meets the payload floor and every requirement, instead of no design; without a start, the
+    primal heuristics' design."""
     from jointwright.frontier_methods import _solve
     from jointwright.solve import search
 
     free = with_limit(leg, "touchdown", "imf_min", None)
-    status, payload, design, first = _solve(free, "payload", None, None, None, "search")
-    assert status == "optimal" and first is not None
+    status, payload, design, first, bound = _solve(free, "payload", None, None, None, "search")
+    assert status == "optimal" and first is not None and bound >= payload
 
     def stop(self, idx, level, cands=None, st=None):
         self.stopped = True
 
     monkeypatch.setattr(search.BranchAndBound, "_node", stop)
     kind = "imf@touchdown"
-    assert _solve(free, kind, payload, None, None, "search")[2] is None
-    status2, _value, again, index = _solve(free, kind, payload, None, None, "search", start=first)
+    # without a start, the primal heuristics' design (found before the search) is returned
+    status1, _v1, design1, _i1, _b1 = _solve(free, kind, payload, None, None, "search")
+    assert status1 == "time_limit" and design1 is not None
+    status2, _value, again, index, _b = _solve(
+        free, kind, payload, None, None, "search", start=first
+    )
     assert status2 == "time_limit"
     assert np.array_equal(index, first)
     assert assess(free, again).feasible

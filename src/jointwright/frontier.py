@@ -2,12 +2,13 @@
 
 Three exact methods (docs/frontier.md, "Choosing the method"):
 
-* ``branch-and-bound`` (the default): a bi-objective branch and bound over joints
-  (:mod:`jointwright.solve.biobjective`) that cuts a partial design when its bound box is
-  dominated by the front found so far; complete and proven; a run stopped by the time limit
-  returns the proven part of the front and the region still unexplored.
+* ``branch-and-bound`` (the default below 10 M candidate designs): a bi-objective branch and
+  bound over joints (:mod:`jointwright.solve.biobjective`) that cuts a partial design when its
+  bound box is dominated by the front found so far; complete and proven; a run stopped by the
+  time limit returns the proven part of the front and the region still unexplored.
 * ``exhaustive``: every candidate combination scored (:mod:`jointwright.solve.pareto`).
-* ``sweep``: exact ε-constraint solves. Each point is an exact :func:`jointwright.sizing.size`
+* ``sweep`` (the default from 10 M candidate designs on): exact ε-constraint solves.
+  Each point is an exact :func:`jointwright.sizing.size`
   (payload objective) with the chosen measure of one case turned into a constraint: ``imf`` ≥ ε,
   ``effective_mass`` ≤ ε or ``backdrive_force`` ≤ ε; every other requirement of the project
   stays. The sweep starts with the measure free (the largest payload), then asks each time for a
@@ -15,7 +16,9 @@ Three exact methods (docs/frontier.md, "Choosing the method"):
   feasible. Each step has two exact solves: the largest payload P under ε, then the best measure
   among designs with payload ≥ P, so each point is non-dominated; over the discrete options this
   yields every non-dominated (payload, measure) pair. When the sweep stops early (``points`` or
-  the time limit) the set is a sample, and ``complete`` says so.
+  the time limit) ``complete`` says so, the points found are proven (a point whose second
+  solve was stopped is marked not proven) and ``unexplored`` names the region left: every
+  missing point has a payload no larger than the last point's and a better measure.
 
 Near-duplicate neighbours may be merged for display (``merge``, a fraction of each axis's span).
 """
@@ -114,7 +117,8 @@ def frontier(
     method : "branch-and-bound" (bi-objective branch and bound: complete and proven; past the
         time limit the proven part and the region still unexplored), "exhaustive" (score every
         candidate combination: complete and proven), "sweep" (exact ε-constraint solves) or
-        "auto" (the branch and bound; docs/frontier.md, "Choosing the method")
+        "auto" (the branch and bound below 10 M candidate designs, the sweep from there on;
+        docs/frontier.md, "Choosing the method")
     merge : neighbouring points closer than this fraction of the front's span on both axes are
         merged into one (the larger payload stays; both ends always stay); 0 keeps every point
 
@@ -142,7 +146,9 @@ def frontier(
 
     # one option table for every solve: it depends on the catalog and the exclusions only
     table = build_table(project, read_objective(project)["exclude"])
-    if method in ("auto", "branch-and-bound"):
+    if method == "auto":
+        method = auto_method(project, name, key, table, deadline)
+    if method == "branch-and-bound":
         return _finish(
             project, _bnb(project, name, key, metric, sense, deadline, start, table), merge
         )
@@ -153,20 +159,67 @@ def frontier(
                 str(project.file),
                 "method",
                 f"exhaustive scores every candidate combination and this project has more than "
-                f"{EXHAUSTIVE_MAX:,} of them; use the branch and bound (method auto), which "
-                "proves the same front",
+                f"{EXHAUSTIVE_MAX:,} of them; use method auto (the branch and bound or the "
+                "sweep), which proves the same front",
             )
         return _finish(project, out, merge)
+    return _finish(
+        project,
+        _sweep(
+            project, name, key, metric, sense, points, deadline, start, time_limit, backend, table
+        ),
+        merge,
+    )
+
+
+def auto_method(project, case: str | None, key: str, table, deadline: float) -> str:
+    """The method "auto" runs: the bi-objective branch and bound below
+    :data:`~.frontier_methods.SEED_MIN` candidate designs (after the proven filters), the
+    ε-constraint sweep from there on, where each of its exact solves prunes with a single
+    objective's bounds and the branch and bound's boxes stay open (measured:
+    docs/benchmarks.md, "Frontier at scale"). The branch and bound when the filters do not
+    finish in the time limit."""
+    from .option_rows import OutOfTime
+    from .sizing import build_model, read_objective, units_of
+    from .solve.pareto import count
+
+    free = with_limit(project, case, key, None)
+    cfg = read_objective(project)
+    try:
+        model, _ = build_model(
+            free,
+            "payload",
+            cfg["pin"],
+            cfg["exclude"],
+            cfg["shared"],
+            table=table,
+            deadline=None if math.isinf(deadline) else deadline,
+        )
+    except OutOfTime:  # the branch and bound states the region left from its root bound
+        return "branch-and-bound"
+    small = count(model, units_of(model.n, model.shared)) < SEED_MIN
+    return "branch-and-bound" if small else "sweep"
+
+
+#: the measure no missing point can beat, for a stopped sweep's unexplored region (an IMF is at
+#: most 1; an effective mass, a back-drive force, a mass or a cost at least 0)
+TRIVIAL_BOUND = {"imf": 1.0}
+
+
+def _sweep(project, name, key, metric, sense, points, deadline, start, time_limit, backend, table):
+    """The ε-constraint sweep (module docstring): a :class:`Frontier`; when stopped, the points
+    found (each proven unless its least-measure solve was stopped) and the region left."""
     found: list[tuple] = []
     eps: float | None = None
     solves, complete = 0, False
+    open_payload = math.inf  # a proven bound on the payload of every point not yet found
     while solves < points:
         left = deadline - time.perf_counter()
         if left <= 0:
             break
         current = with_limit(project, name, key, eps)
         upper = found[-1][0] if found else None  # the neighbour's payload bounds this one
-        status, payload, design, first = _solve(
+        status, payload, design, first, bound = _solve(
             current, "payload", None, time_limit and left, upper, backend, table
         )
         solves += 1
@@ -174,13 +227,14 @@ def frontier(
             complete = True
             break
         if status != "optimal":
+            open_payload = min(open_payload, bound)
             if design is not None and not found:
                 # stopped before the first proof: the best design found is still a feasible
-                # point the architect can start from (the frontier is marked sampled)
-                found.append((payload, _measure(project, design, name, metric), design))
+                # point the architect can start from (marked not proven)
+                found.append((payload, _measure(project, design, name, metric), design, False))
             break
         rest = None if time_limit is None else max(deadline - time.perf_counter(), 1e-3)
-        status2, _value, best, _i = _solve(
+        status2, _value, best, _i, _b = _solve(
             current,
             objective_kind(metric, name),
             payload,
@@ -196,9 +250,10 @@ def frontier(
             # never worse than the first design, which starts the search
             design = best
         mu = _measure(project, design, name, metric)
-        found.append((payload, mu, design))
+        found.append((payload, mu, design, status2 == "optimal"))
+        # every point still missing has a better measure than this one, so a payload no larger
+        open_payload = payload
         if not math.isfinite(mu):
-            complete = sense == "max" and False
             break
         step = STEP * max(abs(mu), 1e-12)
         eps = mu + step if sense == "min" else mu - step
@@ -206,10 +261,20 @@ def frontier(
             complete = True
             break
     pts = _points(found)
-    out = Frontier(
-        measure, name, sense, pts, complete, knee(pts, sense), time.perf_counter() - start, solves
+    unexplored = None
+    if not complete and math.isfinite(open_payload):
+        unexplored = (open_payload, TRIVIAL_BOUND.get(metric, 0.0))
+    return Frontier(
+        MEASURES_NAME[metric],
+        name,
+        sense,
+        pts,
+        complete,
+        knee(pts, sense),
+        time.perf_counter() - start,
+        solves,
+        unexplored=unexplored,
     )
-    return _finish(project, out, merge)
 
 
 #: the methods :func:`frontier` offers

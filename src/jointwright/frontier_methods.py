@@ -74,7 +74,7 @@ def _bnb(
         status = "skipped"
     else:
         left = deadline - time.perf_counter()
-        status, payload, top, first = _solve(
+        status, payload, top, first, _b = _solve(
             free, "payload", None, _left(left), None, "search", table, bound=search
         )
         top = None if top is None else (payload, top)
@@ -96,7 +96,7 @@ def _bnb(
         # is proven, (P*, μ*) is a front point; else the best design it found (payload P*, a
         # measure at least as good as the first design's) prunes as an incumbent
         left = deadline - time.perf_counter()
-        status2, _v, _d, best = _solve(
+        status2, _v, _d, best, _b2 = _solve(
             free,
             objective_kind(metric, case),
             payload,
@@ -228,7 +228,8 @@ def _solve(
     bound=None,
     start=None,
 ):
-    """One exact solve of the sweep: (status, objective, design, option index per joint).
+    """One exact solve of the sweep: (status, objective, design, option index per joint,
+    proven upper bound on the objective (inf when none)).
 
     ``payload_floor``: every payload and stance case must reach it (:func:`with_payload_floor`);
     ``bound``: a :class:`~.solve.biobjective.BiObjectiveSearch` whose payload cap takes the
@@ -252,7 +253,7 @@ def _solve(
             p, kind, cfg["pin"], cfg["exclude"], cfg["shared"], table=table, deadline=end
         )
     except OutOfTime:
-        return "time_limit", None, None, None
+        return "time_limit", None, None, None, math.inf
     units = units_of(model.n, model.shared)
     if end is not None:
         time_limit = max(end - time.perf_counter(), 1e-3)
@@ -260,6 +261,15 @@ def _solve(
         import numpy as np
 
         key = None if start is None else model.best_key(np.asarray(start, dtype=np.int64)[None, :])
+        if key is None:
+            # no design to start from: the primal heuristics' first design, as ``size`` runs
+            # them (a share of the limit), so that a stopped solve still has a design
+            from .solve.engines import first_design
+
+            t0 = time.perf_counter()
+            key = first_design(model, units, time_limit)
+            if time_limit is not None:
+                time_limit = max(time_limit - (time.perf_counter() - t0), 1e-3)
         out = BranchAndBound(
             model, units, time_limit=time_limit, ties=False, upper=upper, incumbent=key
         ).run()
@@ -271,12 +281,14 @@ def _solve(
         # a proven bound on every design's payload, even from a stopped search: the branch
         # and bound's boxes start below it
         bound.cap = min(bound.cap, float(out.bound) + tie_tol(float(out.bound)))
+    bound = float(out.bound) if math.isfinite(out.bound) else math.inf
     if out.index is None:
-        return out.status, None, None, None
+        return out.status, None, None, None, bound
     import numpy as np
 
     index = np.asarray(out.index, dtype=np.int64)
-    return out.status, out.objective, design_of(project, model, index, "frontier point"), index
+    design = design_of(project, model, index, "frontier point")
+    return out.status, out.objective, design, index, bound
 
 
 def _measure(project, design, case: str | None, metric: str) -> float:

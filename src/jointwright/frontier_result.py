@@ -36,8 +36,10 @@ class FrontierPoint:
     changes: tuple  # joints whose actuator differs from the previous point's
     #: (joint, previous point's actuator label, this point's) for each joint in ``changes``
     changed: tuple = ()
-    #: False only for the one design a stopped branch and bound returns when it has no proven
-    #: point yet (the single-objective search's best design so far)
+    #: False for the one design a stopped branch and bound returns when it has no proven point
+    #: yet (the single-objective search's best design so far), and for a sweep's point whose
+    #: least-measure solve was stopped (its payload is proven, a better measure at that
+    #: payload may exist)
     proven: bool = True
     #: the design's largest peak gear torque at an impact over the stage's momentary rating,
     #: over the impact cases with an impact speed (metrics/gear_shock.py); None without such a case
@@ -56,8 +58,9 @@ class Frontier:
     solves: int
     method: str = "sweep"  # "branch-and-bound", "exhaustive" or "sweep" (ε-constraint)
     scored: int = 0  # designs scored by the exhaustive method or the branch and bound
-    #: a stopped branch and bound: every missing point has payload ≤ unexplored[0] (kg) and a
-    #: measure no better than unexplored[1]; the points returned are proven. None otherwise
+    #: a stopped branch and bound or sweep: every missing point has payload ≤ unexplored[0]
+    #: (kg) and a measure no better than unexplored[1]; the points returned are proven unless
+    #: marked otherwise. None otherwise
     unexplored: tuple | None = None
     merged: int = 0  # front points merged into a neighbour as near-duplicates
     merge_tolerance: float = 0.0  # fraction of each axis's span (docs/frontier.md)
@@ -156,7 +159,7 @@ def _merged(f: Frontier, tol: float) -> Frontier:
         keep[-1] = pts[-1]
     elif len(keep) == 1 or not near(pts[-1], keep[-1]):
         keep.append(pts[-1])
-    kept = _points([(q.payload, q.measure, q.design) for q in keep], dedupe=False)
+    kept = _points([(q.payload, q.measure, q.design, q.proven) for q in keep], dedupe=False)
     return dataclasses.replace(
         f,
         points=kept,
@@ -167,13 +170,16 @@ def _merged(f: Frontier, tol: float) -> Frontier:
 
 
 def _points(found, dedupe: bool = True) -> tuple:
+    """Frontier points from (payload, measure, design[, proven]) tuples, largest payload
+    first; with ``dedupe`` a point whose successor ties its payload is dropped."""
     keep = [
         f
         for i, f in enumerate(found)
         if not dedupe or i + 1 == len(found) or found[i + 1][0] < f[0] - tie_tol(f[0])
     ]
     out, prev = [], None
-    for payload, mu, d in keep:
+    for payload, mu, d, *rest in keep:
+        proven = bool(rest[0]) if rest else True
         changes = (
             ()
             if prev is None
@@ -190,7 +196,7 @@ def _points(found, dedupe: bool = True) -> tuple:
                 if a != b
             )
         )
-        out.append(FrontierPoint(payload, mu, d, d.mass, changes, changed))
+        out.append(FrontierPoint(payload, mu, d, d.mass, changes, changed, proven))
         prev = d
     return tuple(out)
 

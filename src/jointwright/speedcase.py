@@ -29,14 +29,10 @@ def speed_case(ev, pc: PreparedCase, d: DesignArrays, detail: bool = True) -> di
     """
     case = pc.case
     n_act = len(ev.v_index)
-    zeros = np.zeros_like(d.mass)
-    M = mass_matrix(pc.basis, d.mass, zeros)[..., ev.v_index[:, None], ev.v_index]
     a = np.linalg.pinv(pc.Jj) @ pc.u
-    g_vec = ev.robot.gravity
-    weight = case.payload_mass * (-g_vec)  # force the tip exerts to carry the payload, N
+    weight = case.payload_mass * (-ev.robot.gravity)  # force the tip exerts to carry the payload
     g = gravity(pc.basis, d.mass)
-    tau_rest = g[..., ev.v_index] + pc.Jj.T @ (weight + np.asarray(case.tip_force, dtype=float))
-    tau_per_acc = M @ a + case.payload_mass * (pc.Jj.T @ pc.u)
+    tau_rest, tau_per_acc, c2 = load_terms(ev, pc, d.mass, g)
     acc = case.acceleration
     known = ~(np.isnan(d.torque_constant) | np.isnan(d.resistance) | np.isnan(d.bus_voltage))
     motor = dict(
@@ -53,7 +49,6 @@ def speed_case(ev, pc: PreparedCase, d: DesignArrays, detail: bool = True) -> di
         rotor_inertia=d.rotor_inertia,
         gear_rating=d.gear_peak_torque,
     )
-    c2 = pc.speed_terms[0] + d.mass @ pc.speed_terms[1:]
     loaded = loaded_endpoint_speed(
         pc.Jj,
         tau_rest + acc * tau_per_acc,
@@ -109,6 +104,24 @@ def speed_case(ev, pc: PreparedCase, d: DesignArrays, detail: bool = True) -> di
         out["motor_torque"] = loaded.motor_torque
         out["motor_speed"] = loaded.motor_speed
     return out
+
+
+def load_terms(ev, pc: PreparedCase, mass: np.ndarray, g: np.ndarray | None = None):
+    """The joint torques of a speed case at the actuated joints, for actuator masses ``mass``
+    (..., n_act): at rest (gravity of links and actuators, the payload's weight, the tip
+    force), per unit end-point acceleration along u (M·a + m_p·Jᵀ·u, a = J⁺·u) and per
+    (end-point speed)² (Coriolis and centrifugal terms). Each is affine in the masses.
+    ``g``: the generalized gravity for ``mass`` when the caller has it."""
+    case = pc.case
+    zeros = np.zeros_like(mass)
+    M = mass_matrix(pc.basis, mass, zeros)[..., ev.v_index[:, None], ev.v_index]
+    a = np.linalg.pinv(pc.Jj) @ pc.u
+    weight = case.payload_mass * (-ev.robot.gravity)
+    g = gravity(pc.basis, mass) if g is None else g
+    tau_rest = g[..., ev.v_index] + pc.Jj.T @ (weight + np.asarray(case.tip_force, dtype=float))
+    tau_per_acc = M @ a + case.payload_mass * (pc.Jj.T @ pc.u)
+    c2 = pc.speed_terms[0] + mass @ pc.speed_terms[1:]
+    return tau_rest, tau_per_acc, c2
 
 
 def speed_terms(robot, q, Jj, u) -> np.ndarray:

@@ -261,7 +261,8 @@ def print_frontier(f) -> None:
     type=click.Choice(["auto", "branch-and-bound", "exhaustive", "sweep"]),
     default="auto",
     help="branch-and-bound: bi-objective branch and bound (complete, proven); exhaustive: score "
-    "every candidate design; sweep: exact ε-constraint solves; auto: branch-and-bound",
+    "every candidate design; sweep: exact ε-constraint solves; auto: branch-and-bound below 10 M "
+    "candidate designs, sweep from there on",
 )
 @click.option(
     "--merge",

@@ -142,6 +142,10 @@ class SizingModel:
             if "effective_mass_max" in c.limits
         )
         from .duty_bound import DutyBound
+        from .stroke_bound import StrokeBound
+
+        #: the acceleration the speed cases' strokes and minimums need (item 11), or None
+        self.stroke_bound = StrokeBound.of(self)
 
         self.duty_bound = DutyBound(self.evaluator, table)
         #: torque cases: (joint, options that carry its torque with the case's factor) per named
@@ -377,7 +381,8 @@ class SizingModel:
         bounds: dict | None = None,
         floor: float | None = None,
     ) -> np.ndarray:
-        """The bounds that cost an oracle call or a trajectory: effective mass, then duty.
+        """The bounds that cost an oracle call or a trajectory: effective mass, IMF, the speed
+        cases' acceleration (item 11), then duty.
         For an effective-mass objective the objective bound in ``bounds`` is set here; ``floor``:
         the objective an improving design must reach (the IMF bound refines up to it)."""
         ok = impact_bound.effective_mass_ok(self, idx, unit, options, st, bounds)
@@ -388,6 +393,9 @@ class SizingModel:
             if sub is not None and bounds is not None:
                 bounds["objective"][rows] = sub["objective"]
                 bounds["objective"][~ok] = np.minimum(bounds["objective"][~ok], -np.inf)
+        if self.stroke_bound is not None and ok.any():
+            rows = np.flatnonzero(ok)
+            ok[rows] = self.stroke_bound.ok(idx, unit, options[rows], st)
         if self.duty_bound and ok.any():
             rows = np.flatnonzero(ok)
             ok[rows] = self.duty_bound.ok(idx, unit, options[rows], st, self.mass)
