@@ -202,6 +202,23 @@ def test_more_sweep_points_never_lose_a_frontier_point(leg, seed, small):
     assert len(many.points) >= len(few.points)
 
 
+def test_a_stopped_sweep_states_the_region_left_and_misses_nothing_outside_it(leg):
+    """A sweep stopped by its solve budget returns proven points and the region left; every
+    point of the complete front that it lacks has a payload no larger than the region's bound
+    and a better IMF than the last point found (the sweep walks towards better measures)."""
+    whole = frontier(leg, "imf", method="sweep")
+    assert whole.complete and whole.unexplored is None and len(whole.points) >= 3
+    part = frontier(leg, "imf", method="sweep", points=2)
+    assert not part.complete and len(part.points) == 1 and part.points[0].proven
+    pmax, bound = part.unexplored
+    last = part.points[-1]
+    assert pmax == pytest.approx(last.payload) and bound == 1.0
+    for q in whole.points:
+        if any(q.payload == pytest.approx(p.payload, rel=1e-9) for p in part.points):
+            continue
+        assert q.payload <= pmax * (1 + 1e-9) and q.measure > last.measure
+
+
 def test_a_solve_whose_limit_ends_while_its_options_are_built_reports_the_time_limit(leg):
     """A sweep solve whose time limit is spent before its option table is built answers
     "time_limit" with no design, as a stopped run must, instead of failing."""

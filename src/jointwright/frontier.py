@@ -233,7 +233,9 @@ def _sweep(project, name, key, metric, sense, points, deadline, start, time_limi
                 # point the architect can start from (marked not proven)
                 found.append((payload, _measure(project, design, name, metric), design, False))
             break
-        rest = None if time_limit is None else max(deadline - time.perf_counter(), 1e-3)
+        # the best measure at that payload, with at most half the time left: a stopped one
+        # keeps the best design it found (the point is marked not proven) and the sweep goes on
+        rest = None if time_limit is None else max(0.5 * (deadline - time.perf_counter()), 1e-3)
         status2, _value, best, _i, _b = _solve(
             current,
             objective_kind(metric, name),

@@ -57,6 +57,12 @@ def describe_run(f) -> str:
         state = "complete (proven)"
     elif f.unexplored is not None and all(p.proven for p in f.points):
         state = "stopped: the points shown are proven"
+    elif f.unexplored is not None and f.method == "sweep":
+        weak = sum(not p.proven for p in f.points)
+        state = (
+            f"stopped: {len(f.points) - weak} point{'s' * (len(f.points) - weak != 1)} proven, "
+            f"{weak} not (the best design of a stopped search: a better one may exist there)"
+        )
     elif f.unexplored is not None:
         state = "stopped before the first proof: the best design found, not proven"
     else:
