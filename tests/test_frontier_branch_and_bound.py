@@ -112,7 +112,7 @@ def test_merge_keeps_both_ends_and_counts_what_it_merged(leg):
 
 
 def test_text_plot_numbers_every_point_and_marks_the_turning_point(leg):
-    from jointwright.commands.frontier import plot_text
+    from jointwright.commands.frontier_text import plot_text
 
     for seed in (3, 11, 29, 47):
         f = frontier(random_instance(leg, seed, False), "effective_mass")

@@ -7,7 +7,8 @@ Payload cases are linear in the actuator masses (robot/basis.py): with a = Jᵀu
 
 and the case's payload is the largest s ≥ 0 with lo_j ≤ τ_j(s) ≤ hi_j for every joint (0 when
 s = 0 already fails), lo/hi the mode-dependent bounds of joint j's option
-(metrics.payload.torque_bounds). This module keeps those terms and :meth:`SizingModel.score`,
+(metrics.payload.torque_bounds; the terms are built in solve/case_terms.py). This module keeps
+them and :meth:`SizingModel.score`,
 which scores complete designs with the one physics oracle
 (:class:`~jointwright.evaluate.Evaluator`) and the project's checks; the interval bounds the
 search prunes with are in solve/node_bounds.py (reached through the model's methods).
@@ -23,10 +24,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..evaluate import Evaluator
-from ..metrics.loads import MOTION_SIGN, torque_ratio
-from ..metrics.payload import torque_bounds
 from ..problem import checks, feasible, objective, objective_names, objective_transform
 from . import budget_bound, impact_bound, node_bounds
+from .case_terms import payload_terms, torque_terms
 
 #: designs whose duty cases are checked per oracle call
 DUTY_CHUNK = 32
@@ -46,19 +46,6 @@ def unit_options(candidates: Sequence[np.ndarray], unit: Sequence[int]) -> np.nd
 
 def tie_tol(value: float) -> float:
     return TIE_TOLERANCE * max(1.0, abs(value)) if math.isfinite(value) else 0.0
-
-
-@dataclass(frozen=True, eq=False)
-class PayloadTerms:
-    """One payload case: τ_j(s) = g0_j + Σ_k m_k·G[k, j] + s·a_j against [lo, hi] per option."""
-
-    name: str
-    a: np.ndarray  # (n,)
-    g0: np.ndarray  # (n,)
-    G: np.ndarray  # (n, n): G[k, j] torque at joint j per kg of actuator k
-    lo: np.ndarray  # (n, O)
-    hi: np.ndarray  # (n, O)
-    minimum: float  # payload_min (0 when none)
 
 
 @dataclass(frozen=True)
@@ -114,7 +101,7 @@ class SizingModel:
         )
         self.static_evaluator = Evaluator(self.static_project)
         self.payload = tuple(
-            self._payload_terms(pc) for pc in self.evaluator.cases if pc.case.kind == "payload"
+            payload_terms(self, pc) for pc in self.evaluator.cases if pc.case.kind == "payload"
         )
         # the payload objective is the payload mass every case carries: each case's force bound
         # goes through its own increasing transform (problem.carried_payload) before the min
@@ -150,7 +137,7 @@ class SizingModel:
         self.duty_bound = DutyBound(self.evaluator, table)
         #: torque cases: (joint, options that carry its torque with the case's factor) per named
         #: joint; a per-joint requirement, so a unit's option that misses it fails every completion
-        self.torque_ok = self._torque_terms(project)
+        self.torque_ok = torque_terms(self, project)
         req = project.requirements
         self.total_mass_max = req.total_mass_max
         self.total_cost_max = req.total_cost_max
@@ -159,61 +146,6 @@ class SizingModel:
         """DesignArrays of single options (O, 1) at the low forward end and ``backward``."""
         return self.table.arrays(np.asarray(options)[:, None]).at_band("low", backward)
 
-    # ------------------------------------------------------------------------------------------
-    def _payload_terms(self, pc) -> PayloadTerms:
-        t = self.table
-        n_options = len(t)
-        # every joint with every option: the evaluator's own capacity formulas (tip speed included)
-        arr = t.arrays(np.repeat(np.arange(n_options)[:, None], self.n, axis=1))
-        if self.project.requirements.efficiency_band:
-            # a robust payload is the payload at (η_f low, η_b high) (robust.py): bounds from
-            # that end's capacities bound it exactly as nominal ones bound the nominal payload
-            arr = arr.at_band("low", "high")
-        if getattr(pc.case, "tip_speed", 0.0) > 0:
-            cap_m, cap_b = self.evaluator.capacity_at_speed(pc, arr)
-        else:
-            cap_m, cap_b = arr.capacity("motoring"), arr.capacity("backdriven")
-        along = pc.velocity_sign if pc.case.motion != "against" else -pc.velocity_sign
-        sign = {"along": along, "against": -along, "hold": np.zeros_like(along)}[pc.case.motion]
-        lo, hi = torque_bounds(np.broadcast_to(sign, (n_options, self.n)), cap_m, cap_b)
-        vi = np.asarray(pc.basis.v_index)
-        a = pc.Jj.T @ (pc.u / np.linalg.norm(pc.u))
-        g0 = np.asarray(pc.basis.g0)[vi]
-        if getattr(pc, "load_a", None) is not None:  # a wrench case (metrics.loads)
-            a, g0 = pc.load_a[vi], g0 + pc.tau_fixed[vi]
-        return PayloadTerms(
-            name=pc.case.name,
-            a=a,
-            g0=g0,
-            G=np.asarray(pc.basis.g_mass)[:, vi],
-            lo=np.asarray(lo).T.copy(),
-            hi=np.asarray(hi).T.copy(),
-            minimum=float(pc.case.limits.get("payload_min", 0.0)),
-        )
-
-    def _torque_terms(self, project) -> tuple:
-        cases = [c for c in project.cases if c.kind == "torque"]
-        if not cases:
-            return ()
-        n_opt = len(self.table)
-        arr = self.table.arrays(np.repeat(np.arange(n_opt)[:, None], self.n, axis=1))
-        cap_m, cap_b = arr.capacity("motoring"), arr.capacity("backdriven")
-        names = list(project.robot.actuated)
-        out = []
-        for c in cases:
-            limit = c.limits.get("torque_ratio_min", 1.0)
-            for (jn, tau), (_, motion) in zip(c.joint_torques, c.joint_motions, strict=True):
-                j = names.index(jn)
-                r = torque_ratio(
-                    np.array([tau]),
-                    np.array([MOTION_SIGN[motion]]),
-                    cap_m[:, j : j + 1],
-                    cap_b[:, j : j + 1],
-                )[:, 0]
-                out.append((j, r >= limit * (1 - 1e-12)))  # the check's own tolerance
-        return tuple(out)
-
-    # ------------------------------------------------------------------------------------------
     def score(self, index: np.ndarray, *, full: bool = True) -> Scored:
         """Objective, feasibility, mass and reflected-inertia sum of complete designs (physics
         oracle). ``full=False`` leaves the duty cases out of the feasibility (a cheaper screen)."""
