@@ -771,7 +771,7 @@ def test_measure_objectives_assign_the_joints_that_move_the_bound_first():
     the joints that move the tool along y. The payload objective keeps its own order."""
     from jointwright.frontier_methods import with_limit, with_payload_floor
     from jointwright.sizing import build_model, units_of
-    from jointwright.solve.search import root_spreads, search_order, spread_order
+    from jointwright.solve.unit_order import root_spreads, search_order, spread_order
 
     arm = with_limit(example("arm"), "side-collision", "effective_mass_max", None)
     floored = with_payload_floor(arm, 12.0)

@@ -279,7 +279,7 @@ def test_sampler_draws_its_designs_whatever_the_cpu_budget(name):
     import time
 
     from jointwright.solve.heuristic import BATCH, Heuristic, blind_screen
-    from jointwright.solve.search import search_order
+    from jointwright.solve.unit_order import search_order
 
     if name == "quadruped":
         project = _quadruped(31, budget=12.0)

@@ -39,7 +39,7 @@ from .floor_bound import floor_applies, floor_bounds
 from .front_archive import FINAL, NODE, SCREENED, FrontArchive
 from .model import SizingModel, tie_tol, unit_options
 from .pareto import _payload, measure_values
-from .search import search_order
+from .unit_order import search_order
 
 #: complete designs scored per oracle call at the last level
 LEAF_CHUNK = 512

@@ -136,14 +136,14 @@ class Heuristic:
         if self.model.kind == "payload" and self.model.payload:
             self.level_greedy(stats)
         elif self.model.kind == "mass":
-            from .search import search_order
+            from .unit_order import search_order
 
             st = stats if stats is not None else self.model.stats(self.model.candidates)
             idx = self.greedy_at(None, st, search_order(self.model, self.units))
             if idx is not None:
                 self.offer(idx[None, :])
         if self.stance is not None:  # designs read off the stance program's solution
-            from .search import search_order
+            from .unit_order import search_order
 
             order = search_order(self.model, self.units)
             dives = [self.stance.dive(o) for o in (order, order[::-1]) if not self.out_of_time()]
@@ -170,7 +170,7 @@ class Heuristic:
         return idx
 
     def level_greedy(self, st=None) -> None:
-        from .search import search_order
+        from .unit_order import search_order
 
         model = self.model
         st = st if st is not None else model.stats(model.candidates)
