@@ -35,6 +35,7 @@ from .frontier_methods import (  # noqa: F401  (the public names of jointwright.
     _exhaustive,
     _measure,
     _solve,
+    free_model,
     objective_kind,
     with_limit,
     with_payload_floor,
@@ -146,12 +147,12 @@ def frontier(
 
     # one option table for every solve: it depends on the catalog and the exclusions only
     table = build_table(project, read_objective(project)["exclude"])
+    model = None  # the branch and bound's root model, when "auto" has built it
     if method == "auto":
-        method = auto_method(project, name, key, table, deadline)
+        method, model = auto_method(project, name, key, table, deadline)
     if method == "branch-and-bound":
-        return _finish(
-            project, _bnb(project, name, key, metric, sense, deadline, start, table), merge
-        )
+        front = _bnb(project, name, key, metric, sense, deadline, start, table, model)
+        return _finish(project, front, merge)
     if method == "exhaustive":
         out = _exhaustive(project, name, key, metric, sense, deadline, start, EXHAUSTIVE_MAX, table)
         if out is None:
@@ -172,33 +173,26 @@ def frontier(
     )
 
 
-def auto_method(project, case: str | None, key: str, table, deadline: float) -> str:
-    """The method "auto" runs: the bi-objective branch and bound below
-    :data:`~.frontier_methods.SEED_MIN` candidate designs (after the proven filters), the
-    ε-constraint sweep from there on, where each of its exact solves prunes with a single
-    objective's bounds and the branch and bound's boxes stay open (measured:
-    docs/benchmarks.md, "Frontier at scale"). The branch and bound when the filters do not
-    finish in the time limit."""
+def auto_method(project, case: str | None, key: str, table, deadline: float):
+    """The method "auto" runs, and the root model when it is the branch and bound: the
+    bi-objective branch and bound below :data:`~.frontier_methods.SEED_MIN` candidate designs
+    (after the proven filters), the ε-constraint sweep from there on, where each of its exact
+    solves prunes with a single objective's bounds and the branch and bound's boxes stay open
+    (measured: docs/benchmarks.md, "Frontier at scale"). The branch and bound when the filters
+    do not finish in the time limit."""
     from .option_rows import OutOfTime
-    from .sizing import build_model, read_objective, units_of
+    from .sizing import units_of
     from .solve.pareto import count
 
-    free = with_limit(project, case, key, None)
-    cfg = read_objective(project)
     try:
-        model, _ = build_model(
-            free,
-            "payload",
-            cfg["pin"],
-            cfg["exclude"],
-            cfg["shared"],
-            table=table,
-            deadline=None if math.isinf(deadline) else deadline,
+        model = free_model(
+            project, case, key, table, deadline=None if math.isinf(deadline) else deadline
         )
     except OutOfTime:  # the branch and bound states the region left from its root bound
-        return "branch-and-bound"
-    small = count(model, units_of(model.n, model.shared)) < SEED_MIN
-    return "branch-and-bound" if small else "sweep"
+        return "branch-and-bound", None
+    if count(model, units_of(model.n, model.shared)) < SEED_MIN:
+        return "branch-and-bound", model
+    return "sweep", None
 
 
 #: the measure no missing point can beat, for a stopped sweep's unexplored region (an IMF is at

@@ -44,6 +44,20 @@ def objective_kind(metric: str, case: str | None) -> str:
     return metric if case is None else f"{metric}@{case}"
 
 
+def free_model(project, case: str | None, key: str, table, deadline: float | None = None):
+    """The payload-objective model with the frontier's measure limit removed (the root of the
+    branch and bound and of the exhaustive method; "auto" counts its candidates).
+    ``deadline``: a ``time.perf_counter()`` value; the filters raise ``OutOfTime`` past it."""
+    from .sizing import build_model, read_objective
+
+    free = with_limit(project, case, key, None)
+    cfg = read_objective(project)
+    model, _ = build_model(
+        free, "payload", cfg["pin"], cfg["exclude"], cfg["shared"], table=table, deadline=deadline
+    )
+    return model
+
+
 def _bnb(
     project,
     case: str | None,
@@ -53,15 +67,16 @@ def _bnb(
     deadline: float,
     start: float,
     table,
+    model=None,
 ) -> Frontier:
-    """The complete front by bi-objective branch and bound (:mod:`.solve.biobjective`)."""
-    from .sizing import build_model, design_of, read_objective, units_of
+    """The complete front by bi-objective branch and bound (:mod:`.solve.biobjective`);
+    ``model``: :func:`free_model`'s, when the caller has built it."""
+    from .sizing import design_of, units_of
     from .solve.biobjective import BiObjectiveSearch
     from .solve.pareto import count
 
     free = with_limit(project, case, key, None)
-    cfg = read_objective(project)
-    model, _ = build_model(free, "payload", cfg["pin"], cfg["exclude"], cfg["shared"], table=table)
+    model = free_model(project, case, key, table) if model is None else model
     units = units_of(model.n, model.shared)
     search = BiObjectiveSearch(model, units, case, metric, sense, deadline=deadline)
     # on large option spaces the strongest end first, by the single-objective search and its
@@ -154,12 +169,10 @@ def _exhaustive(
 ) -> Frontier | None:
     """The complete front by scoring every candidate combination, or None when there are too
     many (the ε-constraint sweep takes over)."""
-    from .sizing import build_model, design_of, read_objective, units_of
+    from .sizing import design_of, units_of
     from .solve.pareto import count, pareto_front
 
-    free = with_limit(project, case, key, None)
-    cfg = read_objective(project)
-    model, _ = build_model(free, "payload", cfg["pin"], cfg["exclude"], cfg["shared"], table=table)
+    model = free_model(project, case, key, table)
     units = units_of(model.n, model.shared)
     total = count(model, units)
     if total > limit:

@@ -34,14 +34,13 @@ def speed_case(ev, pc: PreparedCase, d: DesignArrays, detail: bool = True) -> di
     g = gravity(pc.basis, d.mass)
     tau_rest, tau_per_acc, c2 = load_terms(ev, pc, d.mass, g)
     acc = case.acceleration
-    known = ~(np.isnan(d.torque_constant) | np.isnan(d.resistance) | np.isnan(d.bus_voltage))
-    motor = dict(
-        peak_torque=d.motor_peak_torque,
-        max_speed=d.motor_max_speed,
-        torque_constant=np.where(known, d.torque_constant, 1.0),
-        resistance=np.where(known, d.resistance, 1.0),
-        bus_voltage=np.where(known, d.bus_voltage, np.inf),
-        winding_temperature=d.winding_temperature_max,
+    motor = motor_of(
+        d.motor_peak_torque,
+        d.motor_max_speed,
+        d.torque_constant,
+        d.resistance,
+        d.bus_voltage,
+        d.winding_temperature_max,
     )
     trans = dict(
         eta_f=d.eta_forward,
@@ -104,6 +103,21 @@ def speed_case(ev, pc: PreparedCase, d: DesignArrays, detail: bool = True) -> di
         out["motor_torque"] = loaded.motor_torque
         out["motor_speed"] = loaded.motor_speed
     return out
+
+
+def motor_of(peak, max_speed, torque_constant, resistance, bus_voltage, winding_temperature):
+    """The motor arguments of the speed metrics (metrics/loaded.py, metrics/stroke.py): a motor
+    without electrical data (any of Kt, R, V missing) gets an infinite bus voltage, so its
+    envelope is the corner-point one."""
+    known = ~(np.isnan(torque_constant) | np.isnan(resistance) | np.isnan(bus_voltage))
+    return dict(
+        peak_torque=peak,
+        max_speed=max_speed,
+        torque_constant=np.where(known, torque_constant, 1.0),
+        resistance=np.where(known, resistance, 1.0),
+        bus_voltage=np.where(known, bus_voltage, np.inf),
+        winding_temperature=winding_temperature,
+    )
 
 
 def load_terms(ev, pc: PreparedCase, mass: np.ndarray, g: np.ndarray | None = None):

@@ -33,7 +33,7 @@ from ..metrics.acceleration import _acceleration_exits, _first_rise_linear
 from ..metrics.envelope import _line
 from ..metrics.speed import _direction_rates
 from ..options import FILTER_SLACK
-from ..speedcase import load_terms
+from ..speedcase import load_terms, motor_of
 
 
 class StrokeBound:
@@ -46,13 +46,16 @@ class StrokeBound:
         #: k (base, per kg), c2 (base, per kg)); base (n,), per kg (n, n): row i per kg at i
         self.cases = cases
         r = model.table.rows
-        known = ~(np.isnan(r["torque_constant"]) | np.isnan(r["resistance"]))
-        known &= ~np.isnan(r["bus_voltage"])
-        line = _line(
-            np.where(known, r["torque_constant"], 1.0),
-            np.where(known, r["resistance"], 1.0),
-            np.where(known, r["bus_voltage"], np.inf),
+        m = motor_of(
+            r["motor_peak_torque"],
+            r["motor_max_speed"],
+            r["torque_constant"],
+            r["resistance"],
+            r["bus_voltage"],
             r["winding_temperature_max"],
+        )
+        line = _line(
+            m["torque_constant"], m["resistance"], m["bus_voltage"], m["winding_temperature"]
         )
         assert line is not None
         kt, v_bus, r_hot = line
