@@ -203,20 +203,44 @@ def test_more_sweep_points_never_lose_a_frontier_point(leg, seed, small):
 
 
 def test_a_stopped_sweep_states_the_region_left_and_misses_nothing_outside_it(leg):
-    """A sweep stopped by its solve budget returns proven points and the region left; every
-    point of the complete front that it lacks has a payload no larger than the region's bound
-    and a better IMF than the last point found (the sweep walks towards better measures)."""
+    """A sweep stopped by its solve budget returns points of the complete front and the region
+    left; every point of the complete front that it lacks has a payload no larger than the
+    region's bound and a measure no better than its measure bound, for every budget."""
     whole = frontier(leg, "imf", method="sweep")
     assert whole.complete and whole.unexplored is None and len(whole.points) >= 3
+    assert whole.solves > 4
+    for budget in range(2, whole.solves):
+        part = frontier(leg, "imf", method="sweep", points=budget)
+        assert not part.complete and part.solves == budget
+        pmax, bound = part.unexplored
+        for p in part.points:  # each a point of the complete front
+            assert any(
+                p.payload == pytest.approx(q.payload, rel=1e-9)
+                and p.measure == pytest.approx(q.measure, rel=1e-6)
+                for q in whole.points
+            )
+        for q in whole.points:
+            if any(q.payload == pytest.approx(p.payload, rel=1e-9) for p in part.points):
+                continue
+            assert q.payload <= pmax * (1 + 1e-9) and q.measure <= bound * (1 + 1e-9)
+    # two solves: the strongest end alone, the measure bound still the trivial one
     part = frontier(leg, "imf", method="sweep", points=2)
-    assert not part.complete and len(part.points) == 1 and part.points[0].proven
-    pmax, bound = part.unexplored
-    last = part.points[-1]
-    assert pmax == pytest.approx(last.payload) and bound == 1.0
-    for q in whole.points:
-        if any(q.payload == pytest.approx(p.payload, rel=1e-9) for p in part.points):
-            continue
-        assert q.payload <= pmax * (1 + 1e-9) and q.measure > last.measure
+    assert len(part.points) == 1 and part.unexplored == (pytest.approx(whole.points[0].payload), 1.0)
+
+
+def test_a_sweep_solves_both_ends_first(leg):
+    """After the strongest end the sweep solves the most back-drivable one (the best measure
+    with every other requirement kept, then the largest payload at it): four solves already
+    show the front's whole range, both ends proven, and the region left lies between them."""
+    whole = frontier(leg, "imf", method="sweep")
+    part = frontier(leg, "imf", method="sweep", points=4)
+    assert len(part.points) == 2 and all(p.proven for p in part.points)
+    for p, q in ((part.points[0], whole.points[0]), (part.points[-1], whole.points[-1])):
+        assert p.payload == pytest.approx(q.payload, rel=1e-9)
+        assert p.measure == pytest.approx(q.measure, rel=1e-6)
+    pmax, bound = part.unexplored  # between the ends: the best measure is proven
+    assert pmax == pytest.approx(whole.points[0].payload)
+    assert bound == pytest.approx(whole.points[-1].measure)
 
 
 def test_a_solve_whose_limit_ends_while_its_options_are_built_reports_the_time_limit(leg):

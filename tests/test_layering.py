@@ -48,6 +48,7 @@ LAYERS = {
     "frontier": 10,
     "frontier_methods": 10,
     "frontier_result": 10,
+    "frontier_sweep": 10,
     "study": 11,
     "report": 11,
     "commands": 12,

@@ -7,18 +7,15 @@ Three exact methods (docs/frontier.md, "Choosing the method"):
   bound box is dominated by the front found so far; complete and proven; a run stopped by the
   time limit returns the proven part of the front and the region still unexplored.
 * ``exhaustive``: every candidate combination scored (:mod:`jointwright.solve.pareto`).
-* ``sweep`` (the default from 10 M candidate designs on): exact ε-constraint solves.
-  Each point is an exact :func:`jointwright.sizing.size`
-  (payload objective) with the chosen measure of one case turned into a constraint: ``imf`` ≥ ε,
-  ``effective_mass`` ≤ ε or ``backdrive_force`` ≤ ε; every other requirement of the project
-  stays. The sweep starts with the measure free (the largest payload), then asks each time for a
-  measure strictly better than the last point's (by a relative step of 1e-7) until nothing is
-  feasible. Each step has two exact solves: the largest payload P under ε, then the best measure
-  among designs with payload ≥ P, so each point is non-dominated; over the discrete options this
-  yields every non-dominated (payload, measure) pair. When the sweep stops early (``points`` or
-  the time limit) ``complete`` says so, the points found are proven (a point whose second
-  solve was stopped is marked not proven) and ``unexplored`` names the region left: every
-  missing point has a payload no larger than the last point's and a better measure.
+* ``sweep`` (the default from 10 M candidate designs on): exact ε-constraint solves
+  (:mod:`jointwright.frontier_sweep`): each point is the largest payload with the chosen
+  measure of one case turned into a constraint (``imf`` ≥ ε, ``effective_mass`` ≤ ε or
+  ``backdrive_force`` ≤ ε; every other requirement of the project stays), then the best measure
+  among the designs that carry it. Both ends of the front first, then the gaps between points,
+  widest first; over the discrete options it yields every non-dominated (payload, measure)
+  pair. When stopped early (``points`` or the time limit) ``complete`` says so, the points
+  found are proven (a point whose second solve was stopped is marked not proven) and
+  ``unexplored`` names the region left.
 
 Near-duplicate neighbours may be merged for display (``merge``, a fraction of each axis's span).
 """
@@ -50,9 +47,7 @@ from .frontier_result import (  # noqa: F401
     dominates,
     knee,
 )
-
-#: relative step by which each new point must improve the measure
-STEP = 1e-7
+from .frontier_sweep import STEP, _sweep  # noqa: F401
 
 
 def _case(project, measure: str, case: str | None):
@@ -193,84 +188,6 @@ def auto_method(project, case: str | None, key: str, table, deadline: float):
     if count(model, units_of(model.n, model.shared)) < SEED_MIN:
         return "branch-and-bound", model
     return "sweep", None
-
-
-#: the measure no missing point can beat, for a stopped sweep's unexplored region (an IMF is at
-#: most 1; an effective mass, a back-drive force, a mass or a cost at least 0)
-TRIVIAL_BOUND = {"imf": 1.0}
-
-
-def _sweep(project, name, key, metric, sense, points, deadline, start, time_limit, backend, table):
-    """The ε-constraint sweep (module docstring): a :class:`Frontier`; when stopped, the points
-    found (each proven unless its least-measure solve was stopped) and the region left."""
-    found: list[tuple] = []
-    eps: float | None = None
-    solves, complete = 0, False
-    open_payload = math.inf  # a proven bound on the payload of every point not yet found
-    while solves < points:
-        left = deadline - time.perf_counter()
-        if left <= 0:
-            break
-        current = with_limit(project, name, key, eps)
-        upper = found[-1][0] if found else None  # the neighbour's payload bounds this one
-        status, payload, design, first, bound = _solve(
-            current, "payload", None, time_limit and left, upper, backend, table
-        )
-        solves += 1
-        if status == "infeasible":
-            complete = True
-            break
-        if status != "optimal":
-            open_payload = min(open_payload, bound)
-            if design is not None and not found:
-                # stopped before the first proof: the best design found is still a feasible
-                # point the architect can start from (marked not proven)
-                found.append((payload, _measure(project, design, name, metric), design, False))
-            break
-        # the best measure at that payload, with at most half the time left: a stopped one
-        # keeps the best design it found (the point is marked not proven) and the sweep goes on
-        rest = None if time_limit is None else max(0.5 * (deadline - time.perf_counter()), 1e-3)
-        status2, _value, best, _i, _b = _solve(
-            current,
-            objective_kind(metric, name),
-            payload,
-            rest,
-            None,
-            "search",
-            table,
-            start=first,
-        )
-        solves += 1
-        if best is not None:
-            # proven (status optimal) or, when stopped, the best measure found at this payload:
-            # never worse than the first design, which starts the search
-            design = best
-        mu = _measure(project, design, name, metric)
-        found.append((payload, mu, design, status2 == "optimal"))
-        # every point still missing has a better measure than this one, so a payload no larger
-        open_payload = payload
-        if not math.isfinite(mu):
-            break
-        step = STEP * max(abs(mu), 1e-12)
-        eps = mu + step if sense == "min" else mu - step
-        if sense == "max" and eps < 0:
-            complete = True
-            break
-    pts = _points(found)
-    unexplored = None
-    if not complete and math.isfinite(open_payload):
-        unexplored = (open_payload, TRIVIAL_BOUND.get(metric, 0.0))
-    return Frontier(
-        MEASURES_NAME[metric],
-        name,
-        sense,
-        pts,
-        complete,
-        knee(pts, sense),
-        time.perf_counter() - start,
-        solves,
-        unexplored=unexplored,
-    )
 
 
 #: the methods :func:`frontier` offers
