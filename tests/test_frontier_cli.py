@@ -79,3 +79,31 @@ def test_report_reads_the_frontier_file_and_marks_the_design(tmp_path):
     assert [(p["x"], p["y"]) for p in data["points"]] == [(0.02, 24.0), (0.05, 20.0)]
     assert data["chosen"] == {"x": 0.07, "y": 18.0}
     assert data["y"]["unit"] == "kg" and data["knee"] == 1 and data["complete"] is False
+
+
+def test_the_report_says_which_points_of_a_stopped_front_are_not_proven(tmp_path):
+    """A stopped front's points whose search stopped (``proven: false`` in the frontier file)
+    are marked in the report's table and caption; the caption claims every point proven only
+    when none is marked."""
+    from jointwright.report.frontier_map import frontier_from_sweep, frontier_section
+
+    def front(proven):
+        return {
+            "measure": "imf",
+            "case": "touchdown",
+            "sense": "min",
+            "knee": None,
+            "complete": False,
+            "unexplored": {"payload_max": 24.0, "measure_bound": 0.9},
+            "points": [
+                {"payload": 24.0, "measure": 0.02, "actuators": {"knee": "A"}, "proven": True},
+                {"payload": 20.0, "measure": 0.05, "actuators": {"knee": "B"}, "proven": proven},
+            ],
+        }
+
+    weak = frontier_section(frontier_from_sweep(front(False), {"cases": []}), tmp_path / "a")
+    strong = frontier_section(frontier_from_sweep(front(True), {"cases": []}), tmp_path / "b")
+    assert "1 of the 2 points are marked not proven" in weak.body
+    assert "every point shown is proven" not in weak.body
+    assert weak.body.count("not proven") >= 2  # the caption and the point's row
+    assert "every point shown is proven" in strong.body and "not proven" not in strong.body

@@ -66,7 +66,8 @@ def frontier_section(data: dict, fig_dir: Path, file: str = "<frontier>") -> Sec
     """Payload versus back-drivability frontier with the chosen design marked.
 
     ``data``: ``{"x": {"label", "unit"}, "y": {"label", "unit"}, "points": [{"x", "y", "design",
-    "changes"}], "chosen": index or {"x", "y"}, "knee": index}``.
+    "changes", "proven" (optional, default true)}], "chosen": index or {"x", "y"}, "knee":
+    index}``.
     """
     x, y = need(data, "x", dict, file, ""), need(data, "y", dict, file, "")
     pts, xy = _points(data, file)
@@ -97,7 +98,14 @@ def frontier_section(data: dict, fig_dir: Path, file: str = "<frontier>") -> Sec
             Cell(fmt(py, y.get("unit", "")), "num"),
             str(p.get("design", "")),
             str(p.get("changes", "")),
-            "◆ turning point" if k == knee else "",
+            "; ".join(
+                w
+                for w in (
+                    "◆ turning point" if k == knee else "",
+                    "not proven" if p.get("proven", True) is False else "",
+                )
+                if w
+            ),
         ]
         for k, (p, (px, py)) in enumerate(zip(pts, xy, strict=True))
     ]
@@ -115,7 +123,14 @@ def frontier_section(data: dict, fig_dir: Path, file: str = "<frontier>") -> Sec
             "least mass)."
         )
     region = data.get("unexplored")
-    if data.get("complete") is False and isinstance(region, str):
+    weak = sum(1 for p in pts if isinstance(p, dict) and p.get("proven", True) is False)
+    if data.get("complete") is False and isinstance(region, str) and weak:
+        caption += (
+            f" The search stopped at its time limit; {region}. {weak} of the {len(pts)} points "
+            "are marked not proven: a search stopped on each, so a design that beats it may "
+            "exist; the others are proven non-dominated."
+        )
+    elif data.get("complete") is False and isinstance(region, str):
         caption += f" The search stopped at its time limit: every point shown is proven; {region}."
     elif data.get("complete") is False:
         caption += (
@@ -161,6 +176,7 @@ def frontier_from_sweep(data: dict, assessment: dict, file: str = "<frontier>") 
                 "y": p["payload"],
                 "design": "; ".join(f"{j}: {a}" for j, a in p.get("actuators", {}).items()),
                 "changes": ", ".join(p.get("changes", [])),
+                "proven": p.get("proven", True) is not False,
             }
         )
     out = {
