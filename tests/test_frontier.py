@@ -243,6 +243,30 @@ def test_a_sweep_solves_both_ends_first(leg):
     assert bound == pytest.approx(whole.points[-1].measure)
 
 
+def test_step_solves_alone_prove_the_front_when_every_measure_solve_stops(leg, monkeypatch):
+    """With every solve whose objective is the measure stopped before it finds a design (the
+    second stages and the most back-drivable end), the payload solves alone still give the
+    complete front: a step past a point either finds a design of the same payload with a better
+    measure, which replaces it, or proves it non-dominated."""
+    import jointwright.frontier_sweep as sweep
+
+    whole = frontier(leg, "imf", method="sweep")
+    real = sweep._solve
+
+    def payload_only(project, kind, *args, **kw):
+        if "@" in kind:
+            return "time_limit", None, None, None, float("inf")
+        return real(project, kind, *args, **kw)
+
+    monkeypatch.setattr(sweep, "_solve", payload_only)
+    alone = frontier(leg, "imf", method="sweep")
+    assert alone.complete and all(p.proven for p in alone.points)
+    assert [(p.payload, p.measure) for p in alone.points] == [
+        (pytest.approx(q.payload, rel=1e-9), pytest.approx(q.measure, rel=1e-6))
+        for q in whole.points
+    ]
+
+
 def test_a_solve_whose_limit_ends_while_its_options_are_built_reports_the_time_limit(leg):
     """A sweep solve whose time limit is spent before its option table is built answers
     "time_limit" with no design, as a stopped run must, instead of failing."""

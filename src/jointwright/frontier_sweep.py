@@ -141,7 +141,7 @@ def _sweep(
             run, project, name, key, metric, sign, strong, gaps[0].high, share, backend, table
         )
         found[:] = _ends(gaps)
-        gaps = [gp for gp in gaps if not _closed(gp)]
+        gaps = _open(gaps)
 
     # 3. the gaps, widest first (the one beyond the last point only when no other is open)
     while gaps and run.left() and not out_of_time():
@@ -161,9 +161,7 @@ def _sweep(
             # (left, ε); a step solve so closes the gap, which proves the left point
             gap.high = eps
             gap.split = False
-            if _closed(gap):
-                gap.left.proven = gap.left.payload_proven
-                gaps.remove(gap)
+            gaps = _open(gaps)
             continue
         if status != "optimal":
             break  # the time limit: the gap stays open
@@ -182,7 +180,7 @@ def _sweep(
             found.insert(found.index(gap.left) + 1, point)
             gaps.append(_Gap(gap.left, point, eps, gap.split))
         gaps.append(_Gap(point, gap.right, gap.high, gap.split))
-        gaps = [gp for gp in gaps if not _closed(gp)]
+        gaps = _open(gaps)
     return result(not gaps, gaps)
 
 
@@ -306,6 +304,15 @@ def _slack(g: float) -> float:
 
 def _closed(gap: _Gap) -> bool:
     return gap.high <= gap.left.g + _step(gap.left.g)
+
+
+def _open(gaps: list[_Gap]) -> list[_Gap]:
+    """The gaps still open. A closed gap proves its left point non-dominated when that point's
+    payload is proven: no design with a better measure carries as much (module docstring)."""
+    for gp in gaps:
+        if _closed(gp):
+            gp.left.proven = gp.left.proven or gp.left.payload_proven
+    return [gp for gp in gaps if not _closed(gp)]
 
 
 def _spans(found: list[_Point]) -> tuple[float, float]:
