@@ -154,8 +154,13 @@ class Plan:
         """Stop explaining here: within the limit (less 5 % kept for the last oracle call to
         finish) and after no more time than the run has spent so far."""
         now = time.perf_counter()
-        end = self.end if self.limit is None else self.end - 0.05 * self.limit
-        return min(end, now + max(now - self.start, 1.0))
+        return min(self.diagnosis_end(), now + max(now - self.start, 1.0))
+
+    def diagnosis_end(self) -> float:
+        """Stop diagnosing an infeasible project here: the rest of the limit (less 5 %), or
+        no end of its own without one (the diagnosis caps itself). When nothing is feasible
+        the diagnosis is the answer, so it may take longer than the search that proved it."""
+        return self.end if self.limit is None else self.end - 0.05 * self.limit
 
 
 def _phase_of(progress):
@@ -279,8 +284,14 @@ def finish(
         diag: tuple = ()
         if explain and outcome.status == "infeasible":
             phase("diagnosing")
+            end = plan.diagnosis_end()
             diag = diagnose(
-                project, model, kind, plan.limit, resolve=solve_value, deadline=plan.explain_end()
+                project,
+                model,
+                kind,
+                plan.limit,
+                resolve=solve_value,
+                deadline=end if math.isfinite(end) else None,
             )
         return SizingResult(
             outcome.status,
@@ -361,5 +372,19 @@ def _message(status, kind, value, diag, gap=0.0, asked=0.0) -> str:
             )
         return f"time limit reached: best {kind} {shown}, see bound and gap"
     if status == "infeasible":
-        return "no design meets every requirement" + ("; see the diagnosis" if diag else "")
+        if not diag:
+            return "no design meets every requirement"
+        # the requirements whose removal alone makes the project feasible (the relaxations
+        # the diagnosis solved), else those no design meets even alone
+        culprits = [d.requirement for d in diag if d.relaxed_objective is not None]
+        if culprits:
+            return (
+                "no design meets every requirement; feasible without "
+                + " or without ".join(culprits)
+                + " (see the diagnosis)"
+            )
+        alone = [d.requirement for d in diag if d.shortfall == d.shortfall and d.shortfall > 0]
+        if alone:
+            return f"no design meets every requirement; {', '.join(alone)} cannot be met even alone"
+        return "no design meets every requirement; see the diagnosis"
     return "the back-end's design failed re-evaluation by the physics; not reported as a solution"

@@ -104,8 +104,8 @@ def result_json(r, project) -> dict:
 
 def gap_reason(r, project) -> str | None:
     """Why the result has no finite bound and gap, in words; None when both are finite."""
-    if math.isfinite(r.bound) and math.isfinite(r.gap):
-        return None
+    if (math.isfinite(r.bound) and math.isfinite(r.gap)) or r.status == "infeasible":
+        return None  # an infeasible project has no gap: the diagnosis says why
     if r.objective is None or not math.isfinite(r.objective):  # no design found
         return (
             "gap not known: the search stopped before it found a design or a bound on the "
@@ -122,9 +122,8 @@ def print_result(r, project=None) -> None:
     con.print(f"[bold]size[/bold] ({r.backend}, objective {r.objective_kind}): {r.message}")
     # an infinite bound (no bound known when the search stopped) leaves the gap unknown: say why
     reason = gap_reason(r, project)
-    bound = (
-        f"bound {num(r.bound, unit)}; gap {gap_text(r.gap)}" if reason is None else "bound —; gap —"
-    )
+    known = reason is None and r.status != "infeasible"
+    bound = f"bound {num(r.bound, unit)}; gap {gap_text(r.gap)}" if known else "bound —; gap —"
     con.print(
         f"status {r.status}; objective {num(r.objective, unit)}; {bound}; "
         f"{r.seconds:.2f} s; {r.native_status}"
@@ -195,7 +194,7 @@ def print_result(r, project=None) -> None:
                 requirement_num(d.requirement, d.limit),
                 requirement_num(d.requirement, d.best_achievable),
                 "—" if d.shortfall != d.shortfall else pct(-d.shortfall),
-                "infeasible / not solved"
+                ("still infeasible" if d.relaxed_proven else "not solved in its time")
                 if d.relaxed_objective is None
                 else num(d.relaxed_objective, unit)
                 + ("" if d.relaxed_proven else " (bound, time out)"),

@@ -294,7 +294,22 @@ def _alone(project, model, subject, key, limit, seconds, solve_value: Resolve) -
         best = float((r["motor_max_speed"] / r["ratio"]).max())
         with np.errstate(divide="ignore"):
             return float(np.min(np.where(a > 0, best / a, np.inf)))
-    return math.nan  # impact measures: no closed form; see the relaxation column
+    if key in ("imf_min", "effective_mass_max") and case.kind == "impact" and seconds > 0:
+        # the measure itself as the objective over every option, with no other requirement: its
+        # optimum, or the search's proven bound when the time runs out (never short of the best)
+        metric = key.removesuffix("_min").removesuffix("_max")
+        bare = dataclasses.replace(
+            project,
+            cases=(dataclasses.replace(case, limits={}),),
+            requirements=Requirements(),
+            objective={},
+        )
+        res = solve_value(bare, f"{metric}@{subject}", table=model.table, time_limit=seconds)
+        value = res.objective if res.status == "optimal" else res.bound
+        if not math.isfinite(value):
+            return math.nan
+        return float(value) if metric == "imf" else -float(value)  # the search maximizes −m
+    return math.nan  # no closed form (directional IMF, shock, life): see the relaxation column
 
 
 def diagnose(

@@ -107,7 +107,8 @@ class BranchAndBound:
         n = self.model.n
         empty = [u for u in self.units if unit_options(self.model.candidates, u).size == 0]
         if empty:
-            names = ", ".join(self.model.project.robot.actuated[j] for j in empty[0])
+            joints = [self.model.project.robot.actuated[j] for u in empty for j in u]
+            names = joints[0] if len(joints) == 1 else f"{', '.join(joints[:-1])} or {joints[-1]}"
             return SolveOutcome(
                 "infeasible",
                 None,
