@@ -1228,6 +1228,13 @@ def _study(id, old, new, field, rule):
 
 STUDIES = [
     _study("format 2", "format = 1", "format = 2", "study.format", "must be 1"),
+    _study(
+        "vary path's last key misspelt",
+        'path = "requirements.total_mass_max"',
+        'path = "requirements.total_mass_mxa"',
+        "vary[0].path",
+        "did you mean 'total_mass_max'",
+    ),
     _study("no name", 'name = "leg corpus"\n', "", "study.name", "is required"),
     _study(
         "base missing", 'base = "project.toml"', 'base = "nowhere.toml"', "study.base", "not found"

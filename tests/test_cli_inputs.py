@@ -101,6 +101,14 @@ CYCLE = (
 BAD = [
     # --- project file: types, signs, dimensions, names -------------------------------------
     Bad(
+        "IMF limit above 1",
+        (("project.toml", "imf_min = 0.1", "imf_min = 1.5"),),
+        "check",
+        "project.toml",
+        "case[3].imf_min",
+        "must be from 0 to 1",
+    ),
+    Bad(
         "mass budget not a quantity",
         (("project.toml", 'total_mass_max = "4.0 kg"', "total_mass_max = true"),),
         "check",

@@ -176,6 +176,14 @@ def _load_case(
                 limits[key] = _payload_requirement(t, fixed_load, payload_share)
             else:
                 limits[key] = t.quantity(key, dim, sign="nonnegative")
+            if key.endswith("imf_min") and limits[key] > 1:
+                # ξ = det(I − Λ·Λ_L⁻¹) lies in [0, 1] (Wensing et al. 2017)
+                raise InputError(
+                    t.file,
+                    t.field(key),
+                    f"must be from 0 to 1 (the impact mitigation factor is a fraction), "
+                    f"got {limits[key]:g}",
+                )
             if key.endswith("imf_min") and robot.base != "floating":
                 raise InputError(
                     t.file,

@@ -154,6 +154,7 @@ def parse_study(definition: dict, *, file: str = "<api>", study_dir: str | Path 
     variants = tuple(_variant(t, base, file) for t in top.tables("variant"))
     top.done()
     _check_structure(parameters, variants, combine, file)
+    _check_new_keys(parameters, variants, base, base_file, file)
     canonical = {"definition": definition, "base_project": base}
     if digests:
         canonical["inputs"] = digests
@@ -162,6 +163,44 @@ def parse_study(definition: dict, *, file: str = "<api>", study_dir: str | Path 
         file, name, description, base_file, base, task, options, combine,
         parameters, variants, copy.deepcopy(definition), digest,
     )  # fmt: skip
+
+
+def _check_new_keys(parameters, variants, base: dict, base_file: Path, file: str) -> None:
+    """A path whose last key the base project lacks adds that key: the base project is read
+    once with it (the first value) so a misspelt key is named here, against the study file,
+    instead of failing every case of the run. Paths the base project already has need no read."""
+    from ..project import project_from_dict
+
+    added = [
+        (f"vary[{j}].path", p.path, p.values[0])
+        for j, p in enumerate(parameters)
+        if _adds_key(base, p.path)
+    ]
+    for k, v in enumerate(variants):
+        added += [(f"variant[{k}].set", path, value) for path, value in v.assignments]
+    for field, path, value in added:
+        if not _adds_key(base, path):
+            continue
+        trial = copy.deepcopy(base)
+        set_path(trial, path, value)
+        try:
+            project_from_dict(trial, base_file)
+        except InputError as e:
+            last = parse_path(path)[-1]
+            if e.field == path or e.field.endswith(f".{last}") or e.field == str(last):
+                raise InputError(
+                    file,
+                    field,
+                    f"{path!r} adds {last!r}, which the base project does not have: {e.rule}",
+                ) from None
+
+
+def _adds_key(base: dict, path: str) -> bool:
+    steps = parse_path(path)
+    node: Any = base
+    for step in steps[:-1]:
+        node = node[step]
+    return isinstance(node, dict) and steps[-1] not in node
 
 
 def _input_digests(inputs: list, folder: Path, file: str) -> dict[str, str]:
