@@ -790,6 +790,16 @@ for j, col in enumerate(TRAJ_COLS):
 TRAJECTORY += [
     _one(
         "trajectory",
+        "knee column without its unit: radians outside the limits",
+        "gait.csv",
+        None,
+        _traj(TRAJ_HEADER.replace("q:knee [deg]", "q:knee")),
+        "assess",
+        "row 1 (line 2), column 'q:knee'",
+        "is outside the joint's limits [0.2, 2.8] rad",
+    ),
+    _one(
+        "trajectory",
         "no time column",
         "gait.csv",
         None,

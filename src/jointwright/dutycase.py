@@ -41,7 +41,14 @@ class PreparedDuty:
 def prepare_duty(robot, case, file: str) -> PreparedDuty:
     """Read the case's trajectory and compute its inverse-dynamics terms."""
     revolute = [robot.revolute[robot.joint_names.index(j)] for j in robot.actuated]
-    traj = load_trajectory(case.trajectory, robot.actuated, frames=None, revolute=revolute)
+    traj = load_trajectory(
+        case.trajectory,
+        robot.actuated,
+        frames=None,
+        revolute=revolute,
+        limits=[robot.position_limits(j) for j in robot.actuated],
+        source=robot.file,
+    )
     for frame in traj.frames:
         robot.frame_id(frame, file=str(case.trajectory), field=f"wrench column for frame {frame!r}")
     n, T = robot.n_act, traj.t.size

@@ -185,7 +185,14 @@ def _trajectory(t: Table, robot, base_dir: Path, named, read_pose) -> list[dict[
         raise InputError(t.file, t.field("every"), f"must be a whole number >= 1, got {every!r}")
     base = _base_pose(t, robot, named, read_pose, required=False) or {}
     revolute = [robot.revolute[robot.joint_names.index(j)] for j in robot.actuated]
-    traj = load_trajectory(path, robot.actuated, frames=None, revolute=revolute)
+    traj = load_trajectory(
+        path,
+        robot.actuated,
+        frames=None,
+        revolute=revolute,
+        limits=[robot.position_limits(j) for j in robot.actuated],
+        source=robot.file,
+    )
     out = []
     for s in range(0, traj.t.size, every):
         p = dict(base)

@@ -220,6 +220,36 @@ def _joint_signals(t, columns, joint, file, n_samples):
     return q, qd, qdd, f"{joint}: " + ", ".join(said)
 
 
+def _check_limits(columns, joints, limits, revolute, rows, header, keys, file, source) -> None:
+    """Every sample of each joint's q inside its position limits (as case poses are)."""
+    revolute = [None] * len(joints) if revolute is None else list(revolute)
+    for joint, (lo, hi), rev in zip(joints, limits, revolute, strict=True):
+        q = columns[("q", joint)]
+        out = np.flatnonzero((q < lo - 1e-9) | (q > hi + 1e-9))
+        if not out.size:
+            continue
+        i = int(out[0])
+        raw = header[keys.index(("q", joint))].strip()
+        if rev:
+            got = f"{q[i]:.6g} rad ({math.degrees(q[i]):.4g} deg)"
+            lim = f"[{lo:.6g}, {hi:.6g}] rad ([{math.degrees(lo):.4g}, {math.degrees(hi):.4g}] deg)"
+        else:
+            unit = "" if rev is None else " m"
+            got, lim = f"{q[i]:.6g}{unit}", f"[{lo:.6g}, {hi:.6g}]{unit}"
+        hint = ""
+        if "[" not in raw:
+            hint = (
+                f"; a column without a unit is in SI (rad or m): write it, e.g. 'q:{joint} [deg]'"
+            )
+        raise InputError(
+            file,
+            f"row {i + 1} (line {rows[i][0]}), column {raw!r}",
+            f"{got} is outside the joint's limits {lim}"
+            + (f" (from {source})" if source else "")
+            + f"; {out.size} of {q.size} samples are outside{hint}",
+        )
+
+
 def _header(header, file, joints, frames):
     keys, factors, dims = [], [], {}
     for raw in header:
@@ -266,7 +296,9 @@ def _frozen(x: np.ndarray) -> np.ndarray:
     return x
 
 
-def load_trajectory(path, joint_names, *, frames=None, revolute=None) -> Trajectory:
+def load_trajectory(
+    path, joint_names, *, frames=None, revolute=None, limits=None, source=None
+) -> Trajectory:
     """Read a duty-cycle CSV into a :class:`Trajectory` (SI units).
 
     Parameters
@@ -281,6 +313,11 @@ def load_trajectory(path, joint_names, *, frames=None, revolute=None) -> Traject
     revolute : sequence of bool, optional
         Per joint, True for a revolute joint (its columns must carry angular units) and False
         for a prismatic one (linear units); not checked when None.
+    limits : sequence of (lower, upper), optional
+        Per joint, its position limits (rad or m; ±inf where none): every sample of ``q`` must
+        lie within them; not checked when None.
+    source : str, optional
+        Where the limits come from (the robot's file), for the message.
 
     Returns
     -------
@@ -291,7 +328,8 @@ def load_trajectory(path, joint_names, *, frames=None, revolute=None) -> Traject
     InputError
         Missing file; missing, unknown, duplicated or malformed column; a unit of the wrong
         dimension; a ragged row; a non-numeric, NaN or infinite cell; time not strictly
-        increasing; too few samples (2, or 4 when derivatives must be computed).
+        increasing; too few samples (2, or 4 when derivatives must be computed); a position
+        outside the joint's limits.
     """
     file = str(path)
     joints = tuple(joint_names)
@@ -319,6 +357,8 @@ def load_trajectory(path, joint_names, *, frames=None, revolute=None) -> Traject
     columns = {k: data[:, j] for j, k in enumerate(keys)}
     t = columns[("t",)]
     _check_time(t, rows[1:], file)
+    if limits is not None:
+        _check_limits(columns, joints, limits, revolute, rows[1:], header, keys, file, source)
     found_frames, wrench = _wrenches(columns, file)
     signals = [_joint_signals(t, columns, j, file, t.size) for j in joints]
     q, qd, qdd = (np.stack([s[i] for s in signals], axis=1) for i in range(3))
