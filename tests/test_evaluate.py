@@ -320,3 +320,16 @@ def test_speed_case_under_load_matches_pinocchio_terms(arm):
     assert evs["speed"][0] == pytest.approx(float(within.speed), rel=1e-9)
     assert 0 < evs["speed"][0] < evs["speed_steady"][0] <= evs["speed_no_load"][0]
     assert evs["stroke_time"][0] > 0.2 / evs["speed_steady"][0]
+
+
+def test_a_project_without_a_duty_case_says_its_thermal_load_is_not_checked(leg):
+    """Peak, speed and impact cases say nothing of continuous torque or winding temperature:
+    an assessment of a project without a duty case carries that caution, and one with a duty
+    case does not."""
+    project, design = leg
+    with_duty = assess(project, design)
+    assert any(c.kind == "duty" for c in project.cases)
+    assert not any(c.startswith("No duty case") for c in with_duty.cautions)
+    peaks = dataclasses.replace(project, cases=tuple(c for c in project.cases if c.kind != "duty"))
+    without = assess(peaks, design)
+    assert any(c.startswith("No duty case") and "winding temperature" in c for c in without.cautions)

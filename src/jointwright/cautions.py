@@ -29,6 +29,15 @@ LIFE_CAUTION = (
 )
 
 
+#: a project without a duty case checks peaks only
+NO_DUTY_CAUTION = (
+    "No duty case: continuous (RMS) torque, winding temperature and gear life over a working "
+    "cycle are not checked, only the peak, speed and impact cases. A design that meets them can "
+    'still overheat when it holds or repeats a load; add a case of kind "duty" with the '
+    "working cycle (docs/duty-cycle.md)."
+)
+
+
 def gear_cautions(project) -> list[str]:
     """The usual cautions for the gear-shock and gear-life checks a project makes."""
     out = []
@@ -52,6 +61,8 @@ def design_cautions(project, design) -> list[str]:
             "and licensed engineering practice."
         )
     out.extend(gear_cautions(project))
+    if not any(c.kind == "duty" for c in project.cases):
+        out.append(NO_DUTY_CAUTION)
     for j, a in zip(project.robot.actuated, design.actuators, strict=True):
         b_lo, b_hi = a.efficiency_band[2:]
         if b_lo <= 0 < b_hi:
