@@ -292,6 +292,9 @@ def test_outcome_names_missed_requirements_and_the_limiting_joint(built):
     case = next(c for c in a["cases"] if c["name"] == worst)
     assert f"tightest against its requirement in case {worst}" in outcome
     assert f"limited by joint {case['limiting_joint']}" in outcome
+    # the force is read as the payload mass it carries with the case's fixed load (the sizing's
+    # objective), not as the force over g
+    assert "carries a payload of" in outcome and "at standard gravity" not in outcome
     assert "self-locking" in outcome
 
 
@@ -583,7 +586,7 @@ def test_summary_risks_order_and_thresholds():
     assert "4.68 %" in got[4] and "η_f of hip" in got[4]
     assert got[-1].startswith("Assumed:")
     flat = risks(a, {"points": 5, "change": 0.0, "joint": "hip", "efficiency": "η_f"})
-    assert "leaves the smallest payload unchanged" in " ".join(flat)
+    assert "leaves the payload mass every case carries unchanged" in " ".join(flat)
 
 
 def test_decision_names_each_joints_drive(built):

@@ -107,7 +107,7 @@ def test_sensitivity_bars_keep_no_change_mid_panel(tmp_path):
     sens = SimpleNamespace(
         joints=("hip", "knee"), step=0.05, base={"payload": 100.0}, values={"payload": values}
     )
-    fig = sweep_figures.sensitivity_figure(sens, [("payload", "Smallest payload")])
+    fig = sweep_figures.sensitivity_figure(sens, [("payload", "Payload mass")])
     with warnings.catch_warnings():
         warnings.simplefilter("error")
         figures.save(fig, tmp_path, "sensitivity")

@@ -135,8 +135,10 @@ def test_ratio_sweep_at_the_design_ratio_equals_the_assessment(example):
     sweep = ratio_sweep(example["project"], example["ev"], example["arrays"])
     k = int(np.argmin(np.abs(np.log(sweep.factors))))
     assert sweep.factors[k] == pytest.approx(1.0)
-    worst = min(_payloads(example).values())
-    assert np.allclose(sweep.values["payload"][:, k], worst, rtol=1e-12)
+    # "payload": the payload mass every case carries (kg), the sizing's objective: the least
+    # payload carried over the payload cases of the assessment
+    carried = [c.metrics["payload_carried"] for c in example["a"].cases if c.kind == "payload"]
+    assert np.allclose(sweep.values["payload"][:, k], min(carried), rtol=1e-12)
     for case, (key, _s, _u) in impact_metric(example["project"], example["ev"]).items():
         expected = example["cases"][case].metrics[key]
         assert np.allclose(sweep.values[case][:, k], expected, rtol=1e-12)
@@ -187,7 +189,7 @@ def test_sensitivity_note_says_where_a_move_stops(example):
 
     sens = efficiency_sensitivity(example["project"], example["ev"], example["arrays"])
     ef, eb = example["arrays"].eta_forward[0], example["arrays"].eta_backward[0]
-    text = _sensitivity_table(sens, ["payload"], {"payload": "Smallest payload"}, {"payload": "N"})
+    text = _sensitivity_table(sens, ["payload"], {"payload": "Payload mass"}, {"payload": "kg"})
     for j in range(len(sens.joints)):
         assert sens.clipped[j, 0, 1] == (ef[j] + sens.step > 1.0)
         assert sens.clipped[j, 1, 1] == (eb[j] + sens.step > 1.0)

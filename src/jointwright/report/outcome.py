@@ -109,8 +109,13 @@ def _payload_words(a: dict, project) -> list[str]:
         worst = min(payload, key=lambda c: as_float(c["metrics"]["payload"]))
         lead = f"The smallest payload is in case {worst['name']}"
     value = as_float(worst["metrics"]["payload"])
+    carried = worst["metrics"].get("payload_carried")
     kg = ""
-    if project.case(worst["name"]).weight_equivalent and math.isfinite(value):
+    if isinstance(carried, (int, float)) and math.isfinite(carried):
+        # the force holds the case's fixed load and its share of the payload's weight: say
+        # which payload mass that is (the sizing's objective reads it), not the force over g
+        kg = f" (with its fixed load, it carries a payload of {fmt(carried, 'kg')})"
+    elif project.case(worst["name"]).weight_equivalent and math.isfinite(value):
         kg = f" (the weight of {fmt(value / G0, 'kg')} at standard gravity)"
     text = f"{lead}: {fmt(value, 'N')}{kg}"
     if worst["limiting_joint"]:

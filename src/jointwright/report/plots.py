@@ -138,11 +138,11 @@ def ellipse_section(evaluator, arrays, fig_dir: Path) -> Section:
 
 
 def ratio_section(project, evaluator, arrays, fig_dir: Path) -> Section:
-    """Smallest payload and impact metrics against each joint's ratio."""
+    """The payload mass every case carries and the impact metrics against each joint's ratio."""
     sweep = ratio_sweep(project, evaluator, arrays)
     panels = []
     if "payload" in sweep.values:
-        panels.append(("payload", "Smallest payload", "payload over the payload cases (N)", None))
+        panels.append(("payload", "Payload mass", "payload mass every case carries (kg)", None))
     for case, (key, short, unit) in impact_metric(project, evaluator).items():
         limit = project.case(case).limits.get("imf_min" if key == "imf" else "effective_mass_max")
         ylabel = f"back-driven {short} ({unit or 'dimensionless'})"
@@ -193,9 +193,9 @@ def sensitivity_section(project, evaluator, arrays, fig_dir: Path, sens=None) ->
     sens = sens if sens is not None else efficiency_sensitivity(project, evaluator, arrays)
     metrics = impact_metric(project, evaluator)
     keys = [k for k in ["payload", *metrics] if k in sens.base]
-    titles = {"payload": "Smallest payload"}
+    titles = {"payload": "Payload mass"}
     titles.update({c: panel_title(short, c) for c, (_k, short, _u) in metrics.items()})
-    units = {"payload": "N"}
+    units = {"payload": "kg"}
     units.update({c: u for c, (_k, _l, u) in metrics.items()})
     cases = [k for k in sens.base if k.startswith("payload:")]
     titles.update({k: f"Payload, {k.split(':', 1)[1]}" for k in cases})

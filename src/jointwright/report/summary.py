@@ -211,7 +211,8 @@ def risks(a: dict, sensitivity: dict | None = None) -> list[str]:
 
 
 def payload_sensitivity(sens) -> dict | None:
-    """The largest relative change of the smallest payload in a :class:`.sweeps.Sensitivity`,
+    """The largest relative change of the payload mass every case carries in a
+    :class:`.sweeps.Sensitivity`,
     as the dict :func:`sensitivity_risk` reads; None without a finite, nonzero payload."""
     import numpy as np
 
@@ -232,18 +233,18 @@ def payload_sensitivity(sens) -> dict | None:
 def sensitivity_risk(s: dict) -> str:
     """One sentence on how far the payload moves when one gear efficiency moves by a few points.
 
-    ``s`` = {"points": percentage points, "change": largest |relative change| of the smallest
-    payload, "joint": its joint, "efficiency": "η_f" or "η_b"}.
+    ``s`` = {"points": percentage points, "change": largest |relative change| of the payload
+    mass every case carries, "joint": its joint, "efficiency": "η_f" or "η_b"}.
     """
     if s["change"] < 5e-4:  # below the 4th shown digit
         return (
             f"Efficiency assumption: moving any one gear efficiency by ±{s['points']} points "
-            "leaves the smallest payload unchanged; impact figures may still move "
+            "leaves the payload mass every case carries unchanged; impact figures may still move "
             "(Appendix: sensitivity)."
         )
     return (
         f"Efficiency assumption: moving one gear efficiency by ±{s['points']} points moves "
-        f"the smallest payload by up to {fmt(100 * s['change'], '%', 3)} "
+        f"the payload mass every case carries by up to {fmt(100 * s['change'], '%', 3)} "
         f"({s['efficiency']} of {s['joint']})."
     )
 

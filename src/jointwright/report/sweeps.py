@@ -14,7 +14,7 @@ from dataclasses import dataclass, fields, replace
 import numpy as np
 
 from ..design import DesignArrays
-from ..problem import payload_cases
+from ..problem import payload_cases, payload_mass
 
 #: ratio multipliers of the sweep (log-spaced, includes 1)
 RATIO_FACTORS = np.geomspace(0.25, 4.0, 25)
@@ -48,14 +48,15 @@ def impact_metric(project, evaluator) -> dict[str, tuple[str, str, str]]:
 
 
 def _summaries(project, evaluator, arrays) -> dict[str, np.ndarray]:
-    """Worst payload over the payload cases (N), each case's payload ("payload:<case>") and each
-    impact metric, per design."""
+    """The payload mass every case carries (kg, the sizing's payload objective:
+    :func:`~jointwright.problem.payload_mass`), each case's payload force ("payload:<case>",
+    N) and each impact metric, per design."""
     ev = evaluator.evaluate(arrays, detail=False)
     out = {}
     names = payload_cases(project)
     if names:
         each = [np.asarray(ev[n]["payload"], dtype=float) for n in names]
-        out["payload"] = np.min(each, axis=0)
+        out["payload"] = np.asarray(payload_mass(project, ev), dtype=float)
         out.update({f"payload:{n}": v for n, v in zip(names, each, strict=True)})
     for case, (key, _label, _unit) in impact_metric(project, evaluator).items():
         out[case] = np.asarray(ev[case][key], dtype=float)
@@ -66,8 +67,9 @@ def _summaries(project, evaluator, arrays) -> dict[str, np.ndarray]:
 class RatioSweep:
     """Metrics against each joint's ratio, the other joints held.
 
-    ``values[metric]`` is (n_joints, len(factors)); metric "payload" is the worst payload (N),
-    the others are impact case names (their metric from :func:`impact_metric`).
+    ``values[metric]`` is (n_joints, len(factors)); metric "payload" is the payload mass every
+    case carries (kg), the others are impact case names (their metric from
+    :func:`impact_metric`).
     """
 
     joints: tuple[str, ...]
