@@ -153,6 +153,9 @@ def print_case(con: Console, c, a, cases: dict, revolute: dict) -> None:
         )
     if c.note:
         extra.append(f"[red]carries nothing:[/red] {c.note}")
+    elif c.limiting_joint and c.kind == "speed":
+        # the checked figure's joint; the envelope row above names the sustained speed's
+        extra.append(f"the checked end-point speed is limited by {c.limiting_joint}")
     elif c.limiting_joint:
         extra.append(f"limited by {c.limiting_joint}")
     if c.joint_modes:

@@ -154,7 +154,9 @@ def command(project: Path, as_json: bool):
                 for f, m in r["mimic"].items()
             ],
             caption="held: not actuated, locked by structure or brake; free: not actuated, "
-            "moves without torque; limits from the robot file (— where none)",
+            "moves without torque; limits from the robot file (— where none); the sizing reads "
+            "the position limits only: effort and velocity are shown for comparison, and the "
+            "actuators it picks are not held to them",
         )
     )
     con.print(
