@@ -374,3 +374,19 @@ def test_self_locking_joint_is_infinite_not_nan_in_table_and_json(folders, tmp_p
     out = _run(args).stdout
     assert "self-locking" in out and "∞" in out and "nan" not in out.lower()
     assert "pinch and crush hazard" in out
+
+
+def test_output_folders_given_a_file_name_are_refused_before_any_work(folders, tmp_path):
+    """report --out and frontier --plot take folders; a name ending in .html or .png (not an
+    existing folder) is one clear error naming the option, and nothing is written."""
+    leg = folders["leg"]
+    cases = [
+        ["report", str(leg / "project.toml"), "--design", str(leg / "design.toml")],
+        ["frontier", str(leg / "project.toml")],
+    ]
+    for args, option, name in zip(cases, ["--out", "--plot"], ["r.html", "f.png"], strict=True):
+        target = tmp_path / name
+        result = CliRunner().invoke(main, [*args, option, str(target)])
+        assert result.exit_code == 2
+        assert f"{option}: is " in result.output + result.stderr and "folder" in result.stderr
+        assert not target.exists()

@@ -199,6 +199,13 @@ def command(
     if out is not None:
         check_target(out, "--out", inputs=inputs, force=force)
     if plot_dir is not None:
+        if not plot_dir.exists() and plot_dir.suffix.lower() in (".png", ".svg", ".pdf", ".jpg"):
+            raise InputError(
+                str(plot_dir),
+                "--plot",
+                "is a folder (frontier.png and frontier.svg are written into it), not a file "
+                f"name: give e.g. {str(plot_dir.with_suffix(''))!r}",
+            )
         check_target(plot_dir, "--plot", inputs=inputs, force=force, exists_hint="frontier.png")
     f = frontier(
         p,

@@ -87,6 +87,13 @@ def command(
     inputs = project_inputs(p) | {Path(f) for f in given if f}
     if out.exists() and not out.is_dir() and _key(out) not in {_key(f) for f in inputs}:
         raise InputError(str(out), "--out", "must be a folder, not a file")
+    if not out.exists() and out.suffix.lower() in (".html", ".htm", ".pdf"):
+        raise InputError(
+            str(out),
+            "--out",
+            "is the report's folder (report.html and figures/ are written into it), not a file "
+            f"name: give e.g. {str(out.with_suffix(''))!r}",
+        )
     check_target(out, "--out", inputs=inputs, force=force, exists_hint="report.html")
     study = None
     if study_store is not None:
