@@ -101,6 +101,14 @@ CYCLE = (
 BAD = [
     # --- project file: types, signs, dimensions, names -------------------------------------
     Bad(
+        "robot section misspelt",
+        (("project.toml", "[robot]", "[robt]"),),
+        "check",
+        "project.toml",
+        "robt",
+        "did you mean 'robot'",
+    ),
+    Bad(
         "IMF limit above 1",
         (("project.toml", "imf_min = 0.1", "imf_min = 1.5"),),
         "check",

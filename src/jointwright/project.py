@@ -120,6 +120,11 @@ def load_example(name: str) -> Project:
 def project_from_dict(data: dict, path: Path) -> Project:
     file = str(path)
     top = Table(data, file, "")
+    # an unknown section fails first, with its likely meaning, before a required one is missed
+    top.expect(
+        "project", "robot", "catalog", "model", "requirements", "drives", "poses", "case",
+        "objective",
+    )  # fmt: skip
     head = top.table("project", {})
     name = head.text("name", path.stem)
     summary = head.text("summary", "")
