@@ -107,3 +107,22 @@ def test_the_report_says_which_points_of_a_stopped_front_are_not_proven(tmp_path
     assert "every point shown is proven" not in weak.body
     assert weak.body.count("not proven") >= 2  # the caption and the point's row
     assert "every point shown is proven" in strong.body and "not proven" not in strong.body
+
+
+@pytest.mark.slow
+def test_frontier_without_a_measure_takes_the_one_the_base_allows(tmp_path):
+    """A fixed-base arm's IMF is always 1, so without --measure the frontier of the bundled arm
+    trades the back-driven effective mass (the leg, on a floating base, the IMF)."""
+    import json
+
+    from click.testing import CliRunner
+
+    from jointwright.cli import main
+
+    runner = CliRunner()
+    assert runner.invoke(main, ["new", str(tmp_path / "arm"), "--example", "arm"]).exit_code == 0
+    out = tmp_path / "front.json"
+    args = ["--method", "sweep", "--points", "2", "--out", str(out)]
+    r = runner.invoke(main, ["frontier", str(tmp_path / "arm" / "project.toml"), *args])
+    assert r.exit_code == 0, r.output
+    assert json.loads(out.read_text())["measure"] == "effective_mass"

@@ -66,7 +66,7 @@ SHOWN = {
 DUTY_GEAR = [
     ("gear_life", "gear life on this cycle alone", "h", 1.0 / 3600.0),
     ("gear_equivalent_torque", "gear equivalent torque (life)", "N·m", 1.0),
-    ("gear_average_speed", "gear average speed", "rad/s", 1.0),
+    ("gear_average_speed", "gear average output speed", "rad/s", 1.0),
     ("gear_peak_use", "gear repeated-peak rating used", "%", 100.0),
 ]
 

@@ -117,9 +117,10 @@ def print_frontier(f) -> None:
 @click.option(
     "--measure",
     type=click.Choice(["imf", "effective_mass", "backdrive_force", "mass", "cost"]),
-    default="imf",
+    default=None,
     help="imf, effective_mass (impact case), backdrive_force (back-drive case), or the robot's "
-    "total actuator mass or cost",
+    "total actuator mass or cost (default: imf on a floating base, effective_mass on a fixed "
+    "one, where the IMF is always 1)",
 )
 @click.option(
     "--case",
@@ -195,6 +196,8 @@ def command(
     if time_limit is not None and time_limit <= 0:
         raise InputError("<command line>", "--time-limit", f"must be > 0 s, got {time_limit}")
     p = load_project(project)
+    if measure is None:
+        measure = "imf" if p.robot.n_base == 6 else "effective_mass"
     inputs = project_inputs(p)
     if out is not None:
         check_target(out, "--out", inputs=inputs, force=force)
