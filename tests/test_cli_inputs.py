@@ -969,6 +969,36 @@ BAD = [
         example="arm",
     ),
     Bad(
+        "objective: minimize an objective that is maximized",
+        (
+            (
+                "project.toml",
+                "max_stages = 1",
+                'max_stages = 1\n\n[objective]\nminimize = "payload"\n',
+            ),
+        ),
+        "check",
+        "project.toml",
+        "objective.minimize",
+        "must be one of cost, mass",
+        example="arm",
+    ),
+    Bad(
+        "objective: maximize and minimize both given",
+        (
+            (
+                "project.toml",
+                "max_stages = 1",
+                'max_stages = 1\n\n[objective]\nmaximize = "mass"\nminimize = "mass"\n',
+            ),
+        ),
+        "check",
+        "project.toml",
+        "objective.minimize",
+        "not both",
+        example="arm",
+    ),
+    Bad(
         "objective: unknown objective",
         (
             (

@@ -5,23 +5,33 @@ checked, and whether the project has the cases an objective needs (docs/optimize
 
 from __future__ import annotations
 
-from .errors import InputError
-from .problem import OBJECTIVES, margin_cases, payload_objective_cases
+from .errors import InputError, check_keys
+from .problem import MINIMIZED, OBJECTIVES, margin_cases, payload_objective_cases
 
-_OBJECTIVE_KEYS = ("maximize", "pin", "exclude", "shared", "ratio_grid", "cases")
+_OBJECTIVE_KEYS = ("maximize", "minimize", "pin", "exclude", "shared", "ratio_grid", "cases")
 
 
 def read_objective(project) -> dict:
-    """The project file's ``[objective]`` table, checked (fields: docs/optimizer.md)."""
+    """The project file's ``[objective]`` table, checked (fields: docs/optimizer.md).
+
+    ``minimize = "mass"`` (or ``"cost"``) is the plain spelling of ``maximize = "mass"``: both
+    ask for the lightest (cheapest) design; the result's ``maximize`` holds the objective kind.
+    """
     raw, file = dict(project.objective), str(project.file)
     joints = list(project.robot.actuated)
-    for key in raw:
-        if key not in _OBJECTIVE_KEYS:
+    check_keys(raw, _OBJECTIVE_KEYS, file, "objective")
+    if "minimize" in raw:
+        if "maximize" in raw:
+            raise InputError(file, "objective.minimize", "give maximize or minimize, not both")
+        if raw["minimize"] not in MINIMIZED:
             raise InputError(
-                file, f"objective.{key}", f"unknown field; known: {', '.join(_OBJECTIVE_KEYS)}"
+                file,
+                "objective.minimize",
+                f"must be one of {', '.join(sorted(MINIMIZED))} (the others are maximized: "
+                f"maximize = ...), got {raw['minimize']!r}",
             )
     out = {
-        "maximize": raw.get("maximize", "payload"),
+        "maximize": raw.get("minimize", raw.get("maximize", "payload")),
         "pin": raw.get("pin", {}),
         "exclude": raw.get("exclude", []),
         "shared": raw.get("shared", []),

@@ -111,12 +111,14 @@ def project_summary(p, evaluator=None) -> dict:
 def command(project: Path, as_json: bool):
     """Validate PROJECT (robot, catalogs, cases, requirements) and summarize it."""
     from ..evaluate import Evaluator
+    from ..objective import read_objective
 
     with status_line():
         p = load_project(project)
-        # the same preparation assess and size make (poses, trajectories):
-        # check rejects what they would
+        # the same preparation assess and size make (poses, trajectories, the objective
+        # table): check rejects what they would
         evaluator = Evaluator(p)
+        read_objective(p)
     s = project_summary(p, evaluator)
     if as_json:
         emit_json(_finite(s))
