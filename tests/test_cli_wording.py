@@ -242,6 +242,17 @@ def test_frontier_tables_fit_100_columns(leg_project, capsys, monkeypatch):
     assert "Frontier designs" in out and out.count("Flexring/Flexring-2 100:1") == 4
 
 
+def test_frontier_tables_show_a_shared_group_once():
+    """Joints that share one actuator change together: the frontier's tables name the group's
+    first joint with the count of the others, and keep a group that does not change whole."""
+    from jointwright.commands.frontier import _grouped
+
+    shared = [["fl_knee", "fr_knee"], ["fl_hip", "fr_hip"]]
+    rows = [("fl_knee", "A", "B"), ("fr_knee", "A", "B"), ("fl_hip", "C", "D")]
+    assert _grouped(rows, shared) == [("fl_knee (+1 shared)", "A", "B"), ("fl_hip", "C", "D")]
+    assert _grouped(rows, []) == rows
+
+
 @pytest.fixture(scope="module")
 def wrench_leg(tmp_path_factory):
     """The leg example with its jump-push force acting 50 mm ahead of and 20 mm below the foot

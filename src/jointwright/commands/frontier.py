@@ -23,7 +23,26 @@ from .frontier_text import (
 )
 
 
-def print_frontier(f) -> None:
+def _grouped(rows: list, shared) -> list:
+    """``rows`` (joint first) with each shared group that appears whole with equal other
+    fields cut to its first joint, named "joint (+N shared)"."""
+    out, skip = [], set()
+    by_joint = {r[0]: r for r in rows}
+    for r in rows:
+        if r[0] in skip:
+            continue
+        group = next((g for g in shared if r[0] in g), None)
+        if group and all(j in by_joint and by_joint[j][1:] == r[1:] for j in group):
+            skip.update(group)
+            out.append((f"{r[0]} (+{len(group) - 1} shared)", *r[1:]))
+        else:
+            out.append(tuple(r))
+    return out
+
+
+def print_frontier(f, shared=()) -> None:
+    """The frontier as text; ``shared``: the project's groups of joints that share one actuator
+    (each shown once, as its first joint with the count of the others)."""
     con = console()
     con.print(
         f"[bold]frontier[/bold]: payload versus {measure_name(f)}{at_case(f)} "
@@ -42,7 +61,7 @@ def print_frontier(f) -> None:
     shock = any(p.shock_use is not None for p in f.points)  # an impact case states a speed
     for i, p in enumerate(f.points):
         mark = (" ◆" if i == f.knee else "") + ("" if p.proven else " (not proven)")
-        changed = p.changed or tuple((j, "?", "?") for j in p.changes)
+        changed = _grouped(list(p.changed or tuple((j, "?", "?") for j in p.changes)), shared)
         rows.append(
             [
                 str(i + 1) + mark,
@@ -58,10 +77,10 @@ def print_frontier(f) -> None:
         # the designs go into a second table, one joint a row, so the first fits 100 columns:
         # the first point in full, then each joint a point changes
         if i == 0:
-            designs += [
-                ["1", j, a.label(), "—"]
-                for j, a in zip(p.design.joints, p.design.actuators, strict=True)
+            first = [
+                (j, a.label()) for j, a in zip(p.design.joints, p.design.actuators, strict=True)
             ]
+            designs += [["1", j, label, "—"] for j, label in _grouped(first, shared)]
         else:
             designs += [[str(i + 1), j, b, a] for j, a, b in changed]
     if rows:
@@ -192,6 +211,7 @@ def command(
     and bound by default; exhaustive scoring or exact ε-constraint sweep on request)."""
     from ..errors import InputError
     from ..frontier import frontier
+    from ..objective import read_objective
 
     if time_limit is not None and time_limit <= 0:
         raise InputError("<command line>", "--time-limit", f"must be > 0 s, got {time_limit}")
@@ -240,7 +260,7 @@ def command(
     if as_json:
         emit_json(data)
     else:
-        print_frontier(f)
+        print_frontier(f, read_objective(p)["shared"])
         if ideal is not None:
             con = console()
             con.print(
