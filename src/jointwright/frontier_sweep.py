@@ -23,12 +23,15 @@ h ≤ g_B: every front point still missing there has g_A < g < h and P_B < P < P
   (g_A, ε) and (g_C, h).
 
 Every point found is a non-dominated design unless marked not proven (its second stage was
-stopped); a stopped run reports the open gaps as the region not yet searched.
+stopped, or, at the most back-drivable end, its payload solve); a stopped run reports the open
+gaps as the region not yet searched. tests/test_frontier_sweep_stops.py holds the bookkeeping to
+the definition of Pareto optimality with solves that stop at random.
 """
 
 from __future__ import annotations
 
 import math
+import sys
 import time
 from dataclasses import dataclass
 
@@ -98,11 +101,12 @@ def _sweep(
 
     run = _Run(points)
     found: list[_Point] = []
+    top = math.inf  # the largest payload of any design, once proven
     project = with_limit(project, name, key, None)  # the measure is free at both ends
 
     def result(complete: bool, gaps: list[_Gap], payload_bound: float = math.inf) -> Frontier:
         pts = _points([(p.payload, sign * p.g, p.design, p.proven) for p in found])
-        unexplored = None if complete else _region(gaps, sign, metric, payload_bound)
+        unexplored = None if complete else _region(gaps, sign, metric, payload_bound, top)
         return Frontier(
             MEASURES_NAME[metric],
             name,
@@ -130,6 +134,7 @@ def _sweep(
             mu = _measure(project, design, name, metric)
             found.append(_Point(payload, sign * mu, design, first, False))
         return result(False, [], bound)
+    top = payload  # proven: no design carries more
     strong = run.second_stage(project, name, metric, payload, first, design, share, sign, table)
     found.append(strong)
     gaps = [_Gap(strong, None, sign * TRIVIAL_BOUND.get(metric, 0.0))]
@@ -147,10 +152,13 @@ def _sweep(
     while gaps and run.left() and not out_of_time():
         gap = _widest(gaps, found)
         split = gap.split and gap.right is not None and _wide(gap, found)
-        eps = 0.5 * (gap.left.g + gap.high) if split else gap.left.g + _step(gap.left.g)
+        eps = 0.5 * (gap.left.g + gap.high) if split else _above(gap.left.g)
         start_index = None if gap.right is None else gap.right.index
+        # the left point's payload bounds every design past its measure when it is proven;
+        # else (a stopped payload solve at the far end) the strongest payload does
+        upper = gap.left.payload if gap.left.payload_proven else top
         status, payload, design, first, _b = run.solve(
-            limit_at(eps), "payload", None, share(), gap.left.payload, backend, table, start_index
+            limit_at(eps), "payload", None, share(), upper, backend, table, start_index
         )
         if status == "infeasible" or (
             status == "optimal"
@@ -179,7 +187,16 @@ def _sweep(
         else:
             found.insert(found.index(gap.left) + 1, point)
             gaps.append(_Gap(gap.left, point, eps, gap.split))
-        gaps.append(_Gap(point, gap.right, gap.high, gap.split))
+        if gap.right is not None and point.g >= gap.right.g - _step(gap.right.g):
+            # the right point's payload solve had stopped (a proven one carries the most of
+            # any design this back-drivable): this design carries more with a measure at least
+            # as good, so it takes the right point's place
+            found.remove(gap.right)
+            for other in gaps:
+                if other.left is gap.right:
+                    other.left = point
+        else:
+            gaps.append(_Gap(point, gap.right, gap.high, gap.split))
         gaps = _open(gaps)
     return result(not gaps, gaps)
 
@@ -206,7 +223,7 @@ def _far_end(run, project, name, key, metric, sign, strong, high, share, backend
     g_end = sign * _measure(project, best, name, metric)
     if proven:
         high = g_end
-    if g_end <= strong.g + _step(strong.g) or not run.left():
+    if g_end <= _above(strong.g) or not run.left():
         return [_Gap(strong, None, high)]
     status, payload, design, index, _b = run.solve(
         with_limit(project, name, key, sign * (g_end - _slack(g_end))),
@@ -229,7 +246,7 @@ def _far_end(run, project, name, key, metric, sign, strong, high, share, backend
     # a stopped payload solve leaves the far point's own measure open too (a design as
     # back-drivable may carry more); beyond the far point: closed when the best measure is
     # proven (high = its g)
-    inner = far.g if done else far.g + 2 * _step(far.g)
+    inner = far.g if done else _above(_above(far.g))
     return [_Gap(strong, far, inner), _Gap(far, None, high)]
 
 
@@ -294,7 +311,13 @@ class _Run:
 
 
 def _step(g: float) -> float:
-    return STEP * max(abs(g), 1e-12)
+    return STEP * max(abs(g), 1e-12) if math.isfinite(g) else 0.0
+
+
+def _above(g: float) -> float:
+    """The least goodness a step past ``g`` asks for: ``g`` improved by :data:`STEP`; past an
+    infinite measure (a self-locking or immovable joint: g = −inf), any finite one."""
+    return g + _step(g) if math.isfinite(g) else -sys.float_info.max
 
 
 def _slack(g: float) -> float:
@@ -303,7 +326,7 @@ def _slack(g: float) -> float:
 
 
 def _closed(gap: _Gap) -> bool:
-    return gap.high <= gap.left.g + _step(gap.left.g)
+    return gap.high <= _above(gap.left.g)
 
 
 def _open(gaps: list[_Gap]) -> list[_Gap]:
@@ -316,13 +339,18 @@ def _open(gaps: list[_Gap]) -> list[_Gap]:
 
 
 def _spans(found: list[_Point]) -> tuple[float, float]:
-    p = [q.payload for q in found]
-    g = [q.g for q in found]
-    return (max(p) - min(p)) or 1.0, (max(g) - min(g)) or 1.0
+    """The front's spans in payload and goodness, over its finite values (1 when none)."""
+    p = [q.payload for q in found if math.isfinite(q.payload)]
+    g = [q.g for q in found if math.isfinite(q.g)]
+    span_p = (max(p) - min(p)) if len(p) > 1 else 0.0
+    span_g = (max(g) - min(g)) if len(g) > 1 else 0.0
+    return span_p or 1.0, span_g or 1.0
 
 
 def _wide(gap: _Gap, found: list[_Point]) -> bool:
     assert gap.right is not None
+    if not (math.isfinite(gap.left.g) and math.isfinite(gap.high)):
+        return False  # no middle to split at: a step asks for any finite measure first
     span_p, span_g = _spans(found)
     return (gap.left.payload - gap.right.payload) > SPLIT_MIN * span_p and (
         gap.high - gap.left.g
@@ -340,19 +368,21 @@ def _widest(gaps: list[_Gap], found: list[_Point]) -> _Gap:
 
     def width(gp: _Gap) -> float:
         assert gp.right is not None
-        return max((gp.left.payload - gp.right.payload) / span_p, (gp.high - gp.left.g) / span_g)
+        wide_g = (gp.high - gp.left.g) / span_g
+        return max((gp.left.payload - gp.right.payload) / span_p, wide_g if wide_g == wide_g else 0)
 
     return max(inner, key=width)
 
 
-def _region(gaps, sign: float, metric: str, payload_bound: float) -> tuple | None:
+def _region(gaps, sign: float, metric: str, payload_bound: float, top: float) -> tuple | None:
     """(payload bound, measure bound) of the region a stopped sweep left: every missing point
-    has a payload no larger and a measure no better (the corner of the open gaps' boxes);
-    None when nothing bounds it (stopped before its first solve ended)."""
+    has a payload no larger and a measure no better (the corner of the open gaps' boxes; a gap
+    whose stronger point's payload is not proven takes the strongest payload ``top``); None
+    when nothing bounds it (stopped before its first solve ended)."""
     if not gaps:  # stopped in the first solve: its proven payload bound, any measure
         if not math.isfinite(payload_bound):
             return None
         return (float(payload_bound), TRIVIAL_BOUND.get(metric, 0.0))
-    payload = max(gp.left.payload for gp in gaps)
+    payload = max(gp.left.payload if gp.left.payload_proven else top for gp in gaps)
     high = max(gp.high for gp in gaps)
     return (payload, sign * high)
