@@ -103,7 +103,7 @@ def test_the_report_says_which_points_of_a_stopped_front_are_not_proven(tmp_path
 
     weak = frontier_section(frontier_from_sweep(front(False), {"cases": []}), tmp_path / "a")
     strong = frontier_section(frontier_from_sweep(front(True), {"cases": []}), tmp_path / "b")
-    assert "1 of the 2 points are marked not proven" in weak.body
+    assert "1 of the 2 points is marked not proven" in weak.body
     assert "every point shown is proven" not in weak.body
     assert weak.body.count("not proven") >= 2  # the caption and the point's row
     assert "every point shown is proven" in strong.body and "not proven" not in strong.body

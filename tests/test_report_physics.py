@@ -135,9 +135,16 @@ def test_ratio_sweep_at_the_design_ratio_equals_the_assessment(example):
     sweep = ratio_sweep(example["project"], example["ev"], example["arrays"])
     k = int(np.argmin(np.abs(np.log(sweep.factors))))
     assert sweep.factors[k] == pytest.approx(1.0)
-    # "payload": the payload mass every case carries (kg), the sizing's objective: the least
-    # payload carried over the payload cases of the assessment
-    carried = [c.metrics["payload_carried"] for c in example["a"].cases if c.kind == "payload"]
+    # "payload": the payload mass every case carries (kg), the sizing's objective: each case's
+    # force F read as (F − fixed_load)/(payload_share·g_n), g_n = 9.80665 m/s² (docs/report.md,
+    # docs/project-format.md; standard gravity, CGPM 1901), the least over the payload cases
+    carried = [
+        (c.metrics["payload"] - case.fixed_load) / (case.payload_share * 9.80665)
+        for c in example["a"].cases
+        if c.kind == "payload"
+        for case in [example["project"].case(c.name)]
+        if case.payload_share > 0
+    ]
     assert np.allclose(sweep.values["payload"][:, k], min(carried), rtol=1e-12)
     for case, (key, _s, _u) in impact_metric(example["project"], example["ev"]).items():
         expected = example["cases"][case].metrics[key]

@@ -371,3 +371,25 @@ def test_bad_files_name_the_file(tmp_path):
     with pytest.raises(InputError) as info:
         load_study(path)
     assert info.value.file.endswith("leg.toml")
+
+
+def test_a_variant_that_adds_keys_is_read_with_all_its_settings(tmp_path):
+    """A variant's settings are checked together: on the bundled (fixed-base) arm, a variant
+    that floats the base and adds an IMF limit loads, while a misspelt added key is named
+    against the study file."""
+    import shutil
+    from importlib import resources
+
+    with resources.as_file(resources.files("jointwright.examples") / "arm") as src:
+        shutil.copytree(src, tmp_path / "arm")
+    body = (
+        '[study]\nname = "t"\nbase = "arm/project.toml"\n[[variant]]\nname = "floating"\n'
+        'set = {{ "robot.base" = "floating", "case[2].{key}" = 0.3 }}\n'
+    )
+    path = tmp_path / "study.toml"
+    path.write_text(body.format(key="imf_min"))
+    assert [v.name for v in load_study(path).variants] == ["floating"]
+    path.write_text(body.format(key="imf_mni"))
+    with pytest.raises(InputError) as e:
+        load_study(path)
+    assert e.value.field == "variant[0].set" and "did you mean 'imf_min'" in e.value.rule

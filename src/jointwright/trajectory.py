@@ -238,8 +238,10 @@ def _check_limits(columns, joints, limits, revolute, rows, header, keys, file, s
             got, lim = f"{q[i]:.6g}{unit}", f"[{lo:.6g}, {hi:.6g}]{unit}"
         hint = ""
         if "[" not in raw:
+            example = "mm" if rev is False else "deg"
             hint = (
-                f"; a column without a unit is in SI (rad or m): write it, e.g. 'q:{joint} [deg]'"
+                "; a column without a unit is in SI (rad or m): write it, e.g. "
+                f"'q:{joint} [{example}]'"
             )
         raise InputError(
             file,

@@ -109,8 +109,11 @@ def frontier_section(data: dict, fig_dir: Path, file: str = "<frontier>") -> Sec
         ]
         for k, (p, (px, py)) in enumerate(zip(pts, xy, strict=True))
     ]
+    weak = sum(1 for p in pts if isinstance(p, dict) and p.get("proven", True) is False)
     caption = (
-        "Each point is a design no other design beats on both axes; the ring is the chosen design."
+        "Each point is a design no other design beats on both axes"
+        + (" (except those marked not proven)" if weak else "")
+        + "; the ring is the chosen design."
     )
     if knee is not None:
         caption += " The diamond marks the turning point of the trade-off."
@@ -123,15 +126,22 @@ def frontier_section(data: dict, fig_dir: Path, file: str = "<frontier>") -> Sec
             "least mass)."
         )
     region = data.get("unexplored")
-    weak = sum(1 for p in pts if isinstance(p, dict) and p.get("proven", True) is False)
+    marked = (
+        f"{weak} of the {len(pts)} points {'is' if weak == 1 else 'are'} marked not proven: a "
+        "search stopped on each, so a design that beats it may exist"
+    )
     if data.get("complete") is False and isinstance(region, str) and weak:
         caption += (
-            f" The search stopped at its time limit; {region}. {weak} of the {len(pts)} points "
-            "are marked not proven: a search stopped on each, so a design that beats it may "
-            "exist; the others are proven non-dominated."
+            f" The search stopped early (time limit or solve budget); {region}. {marked}; the "
+            "others are proven non-dominated."
         )
     elif data.get("complete") is False and isinstance(region, str):
-        caption += f" The search stopped at its time limit: every point shown is proven; {region}."
+        caption += (
+            " The search stopped early (time limit or solve budget): every point shown is "
+            f"proven; {region}."
+        )
+    elif weak:
+        caption += f" {marked}."
     elif data.get("complete") is False:
         caption += (
             " This frontier is a sample: its computation stopped early (point budget or "

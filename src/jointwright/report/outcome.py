@@ -105,9 +105,13 @@ def _payload_words(a: dict, project) -> list[str]:
         # the tightest against its own requirement, which need not be the smallest force
         worst = min((c for c in payload if c["name"] in margins), key=lambda c: margins[c["name"]])
         lead = f"Payload is tightest against its requirement in case {worst['name']}"
+    elif all(isinstance(c["metrics"].get("payload_carried"), (int, float)) for c in payload):
+        # the case that sets the payload objective: the least payload mass carried
+        worst = min(payload, key=lambda c: as_float(c["metrics"]["payload_carried"]))
+        lead = f"The smallest payload mass is carried in case {worst['name']}"
     else:
         worst = min(payload, key=lambda c: as_float(c["metrics"]["payload"]))
-        lead = f"The smallest payload is in case {worst['name']}"
+        lead = f"The smallest payload force is in case {worst['name']}"
     value = as_float(worst["metrics"]["payload"])
     carried = worst["metrics"].get("payload_carried")
     kg = ""

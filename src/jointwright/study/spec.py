@@ -167,32 +167,39 @@ def parse_study(definition: dict, *, file: str = "<api>", study_dir: str | Path 
 
 def _check_new_keys(parameters, variants, base: dict, base_file: Path, file: str) -> None:
     """A path whose last key the base project lacks adds that key: the base project is read
-    once with it (the first value) so a misspelt key is named here, against the study file,
-    instead of failing every case of the run. Paths the base project already has need no read."""
+    with it (a parameter's first value; a variant's settings all together) so a misspelt key
+    is named here, against the study file, instead of failing every case of the run. Only an
+    unknown-name error is reported here (other rules may depend on values the study combines);
+    paths the base project already has need no read."""
     from ..project import project_from_dict
 
-    added = [
-        (f"vary[{j}].path", p.path, p.values[0])
+    trials = [
+        (f"vary[{j}].path", ((p.path, p.values[0]),))
         for j, p in enumerate(parameters)
         if _adds_key(base, p.path)
     ]
-    for k, v in enumerate(variants):
-        added += [(f"variant[{k}].set", path, value) for path, value in v.assignments]
-    for field, path, value in added:
-        if not _adds_key(base, path):
-            continue
+    trials += [
+        (f"variant[{k}].set", v.assignments)
+        for k, v in enumerate(variants)
+        if any(_adds_key(base, path) for path, _value in v.assignments)
+    ]
+    for field, assignments in trials:
         trial = copy.deepcopy(base)
-        set_path(trial, path, value)
+        for path, value in assignments:
+            set_path(trial, path, value)
         try:
             project_from_dict(trial, base_file)
         except InputError as e:
-            last = parse_path(path)[-1]
-            if e.field == path or e.field.endswith(f".{last}") or e.field == str(last):
-                raise InputError(
-                    file,
-                    field,
-                    f"{path!r} adds {last!r}, which the base project does not have: {e.rule}",
-                ) from None
+            if not e.rule.startswith("unknown field"):
+                continue
+            for path, _value in assignments:
+                last = parse_path(path)[-1]
+                if _adds_key(base, path) and (e.field == path or e.field.endswith(f".{last}")):
+                    raise InputError(
+                        file,
+                        field,
+                        f"{path!r} adds {last!r}, which the base project does not have: {e.rule}",
+                    ) from None
 
 
 def _adds_key(base: dict, path: str) -> bool:
