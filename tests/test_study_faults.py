@@ -240,3 +240,35 @@ def test_a_store_killed_before_its_first_commit_starts_afresh(tmp_path, content)
         store.write_bytes(content)
     out = run_study(path, store, workers=1, case_fn=LEG, progress=False)
     assert out.done_total == 4
+
+
+def test_a_refused_writer_names_a_holder_that_writes_its_name_just_after_locking(tmp_path):
+    """A writer takes the lock, then writes its name: a second writer refused in between waits
+    for the name instead of reporting an unnamed holder (the race two runs started together
+    hit)."""
+    import json
+    import threading
+    import time
+
+    from jointwright.study.lock import WriterLock, _try_lock
+
+    store = tmp_path / "s.sqlite"
+    holder = WriterLock(store)
+    fh = open(holder.path, "a+", encoding="utf-8")
+    assert _try_lock(fh)  # locked, no name yet
+
+    def name_later():
+        time.sleep(0.05)
+        fh.seek(0)
+        fh.truncate()
+        fh.write(json.dumps({"pid": 4321, "host": "bench", "since": "now"}))
+        fh.flush()
+
+    writer = threading.Thread(target=name_later)
+    writer.start()
+    try:
+        with pytest.raises(InputError, match=r"another run is writing to this store \(process 4321"):
+            WriterLock(store).acquire(store)
+    finally:
+        writer.join()
+        fh.close()

@@ -6,6 +6,7 @@ import datetime as _dt
 import json
 import os
 import socket
+import time
 from pathlib import Path
 from typing import Any
 
@@ -41,8 +42,13 @@ class WriterLock:
                 f"cannot create the writer lock {self.path.name} ({exc.strerror or exc})",
             ) from None
         if not _try_lock(fh):
-            fh.seek(0)
-            holder = _holder(fh.read())
+            # the holder writes its name just after it takes the lock: give it a moment
+            for _ in range(HOLDER_WAITS):
+                fh.seek(0)
+                holder = _holder(fh.read())
+                if holder != UNNAMED:
+                    break
+                time.sleep(0.01)
             fh.close()
             raise InputError(
                 str(store), "(lock)",
@@ -108,9 +114,15 @@ def _unlock(fh) -> None:
     fcntl.flock(fh.fileno(), fcntl.LOCK_UN)
 
 
+#: the holder named in the message when its lock file has no name (yet)
+UNNAMED = "a process that has not yet written its name"
+#: reads of the lock file (10 ms apart) for a holder that has just taken the lock
+HOLDER_WAITS = 100
+
+
 def _holder(text: str) -> str:
     try:
         info = json.loads(text)
         return f"process {int(info['pid'])} on host {info['host']}, since {info['since']}"
     except (ValueError, KeyError, TypeError):
-        return "a process that has not yet written its name"
+        return UNNAMED
