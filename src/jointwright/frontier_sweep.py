@@ -241,7 +241,9 @@ def _far_end(run, project, name, key, metric, sign, strong, high, share, backend
     done = status == "optimal"
     far = _Point(payload, g, design, index, proven and done, payload_proven=done)
     if payload >= strong.payload - tie_tol(strong.payload):
-        # the strongest design is also the most back-drivable: one point
+        # the strongest design is also the most back-drivable: one point; it carries the
+        # strongest payload, proven by the first solve, even when this solve stopped
+        far.payload_proven, far.proven = True, proven
         return [_Gap(far, None, high)]
     # a stopped payload solve leaves the far point's own measure open too (a design as
     # back-drivable may carry more); beyond the far point: closed when the best measure is

@@ -53,7 +53,8 @@ def duty_section(data: dict, fig_dir: Path, file: str = "<duty>") -> Section:
         name,
         f"duty cycle {case}",
         "Motor torque per joint over the cycle, by the "
-        "power-flow law sample by sample; red lines are ratings (±).",
+        "power-flow law sample by sample; red lines are the ratings (±) of the joint that "
+        "limits the case (each joint's motor has its own; the table gives every joint's use).",
     )
     if rows:
         body += table(
