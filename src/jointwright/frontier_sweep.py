@@ -301,16 +301,6 @@ class _Run:
         g = sign * _measure(project, design, name, metric)
         return _Point(payload, g, design, first, proven)
 
-    def largest_payload(self, project, upper, start, limit, backend, table):
-        """(payload, design, index, proven) of the largest payload in ``project``, started from
-        the design ``start``; None without a design."""
-        status, payload, design, index, _b = self.solve(
-            project, "payload", None, limit, upper, backend, table, start
-        )
-        if design is None:
-            return None
-        return payload, design, index, status == "optimal"
-
 
 def _step(g: float) -> float:
     return STEP * max(abs(g), 1e-12) if math.isfinite(g) else 0.0

@@ -107,6 +107,21 @@ def check_target(
         raise InputError(str(target), option, f"folder {str(target.parent)!r} does not exist")
 
 
+def check_folder_name(target: Path, option: str, writes: str, suffixes: tuple) -> None:
+    """A folder option given a file name (``report.html``, ``front.png``) that is not an
+    existing folder: one clear error instead of a folder of that name. ``writes``: what the
+    folder receives, for the message."""
+    from ..errors import InputError
+
+    if not target.exists() and target.suffix.lower() in suffixes:
+        raise InputError(
+            str(target),
+            option,
+            f"is a folder ({writes} are written into it), not a file name: give e.g. "
+            f"{str(target.with_suffix(''))!r}",
+        )
+
+
 def write_text(target: Path, text: str, option: str = "--out") -> None:
     """Write ``text`` (UTF-8) to ``target`` through a temporary file in the same folder."""
     write_bytes(target, text.encode("utf-8"), option)

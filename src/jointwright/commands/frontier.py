@@ -10,7 +10,13 @@ import click
 
 from ..project import load_project
 from ._format import console, emit_json, num, table
-from ._output import atomic_folder, check_target, project_inputs, write_text
+from ._output import (
+    atomic_folder,
+    check_folder_name,
+    check_target,
+    project_inputs,
+    write_text,
+)
 from .frontier_text import (
     LABELS,
     UNITS,
@@ -222,13 +228,9 @@ def command(
     if out is not None:
         check_target(out, "--out", inputs=inputs, force=force)
     if plot_dir is not None:
-        if not plot_dir.exists() and plot_dir.suffix.lower() in (".png", ".svg", ".pdf", ".jpg"):
-            raise InputError(
-                str(plot_dir),
-                "--plot",
-                "is a folder (frontier.png and frontier.svg are written into it), not a file "
-                f"name: give e.g. {str(plot_dir.with_suffix(''))!r}",
-            )
+        check_folder_name(
+            plot_dir, "--plot", "frontier.png and frontier.svg", (".png", ".svg", ".pdf", ".jpg")
+        )
         check_target(plot_dir, "--plot", inputs=inputs, force=force, exists_hint="frontier.png")
     f = frontier(
         p,

@@ -13,7 +13,7 @@ from ..errors import InputError
 from ..project import load_project
 from ..tomlfile import is_file
 from ._format import console, emit_json, table
-from ._output import _key, atomic_folder, check_target, project_inputs
+from ._output import _key, atomic_folder, check_folder_name, check_target, project_inputs
 
 
 def _json(path: Path | None, option: str):
@@ -87,13 +87,7 @@ def command(
     inputs = project_inputs(p) | {Path(f) for f in given if f}
     if out.exists() and not out.is_dir() and _key(out) not in {_key(f) for f in inputs}:
         raise InputError(str(out), "--out", "must be a folder, not a file")
-    if not out.exists() and out.suffix.lower() in (".html", ".htm", ".pdf"):
-        raise InputError(
-            str(out),
-            "--out",
-            "is the report's folder (report.html and figures/ are written into it), not a file "
-            f"name: give e.g. {str(out.with_suffix(''))!r}",
-        )
+    check_folder_name(out, "--out", "report.html and figures/", (".html", ".htm", ".pdf"))
     check_target(out, "--out", inputs=inputs, force=force, exists_hint="report.html")
     study = None
     if study_store is not None:
