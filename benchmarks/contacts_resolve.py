@@ -1,18 +1,25 @@
-"""Re-solving one compiled multi-contact payload problem against rebuilding it per design.
+"""The multi-contact payload program: the library's direct conic form against cvxpy models.
 
 A quadruped-like case (floating body, 4 limbs of 3 joints, friction cones) is varied into many
 designs (joint torque bounds and the joint rows of gravity scaled per joint, seeded) over a few
-stance poses. Each design × pose is solved (a) on one `MultiContactPayload` compiled once
-(cvxpy parameters, DPP) and (b) by building a fresh problem each time; the pyramid linear
-programs (scipy/HiGHS, 8 sides) are timed alongside. Prints time per solve and the ratios.
+stance poses. Each design × pose is solved, side by side in one run, (a) by
+``MultiContactPayload.resolve`` (the scaled program written straight into Clarabel's form, the
+library's path), (b) on one cvxpy problem compiled once with every number a parameter (DPP; the
+path before, ``tests/contact_cvxpy.CompiledReference``), (c) by a cvxpy model built per design
+in the original force coordinates (``tests/contact_cvxpy.reference_payload``), and (d) as the
+pyramid linear programs (scipy/HiGHS, 8 sides). Prints time per solve, ratios against (a) and
+the largest payload difference. Wall and process CPU time are both shown.
 
-Run: PYTHONPATH=src python benchmarks/contacts_resolve.py [--designs 100] [--poses 3]
+Run: python benchmarks/contacts_resolve.py [--designs 100] [--poses 3] [--repeat 3]
 """
 
 from __future__ import annotations
 
 import argparse
+import os
 import platform
+import statistics
+import sys
 import time
 
 import numpy as np
@@ -62,49 +69,60 @@ def cases(designs: int, poses: int, seed: int = 1) -> list[mc.ContactStatics]:
     return out
 
 
-def timed(fn, items):
-    start = time.perf_counter()
-    results = [fn(item) for item in items]
-    return results, (time.perf_counter() - start) / len(items)
+def timed(fn, items, repeat):
+    """Results of the last run, median wall and CPU seconds per solve."""
+    walls, cpus = [], []
+    for _ in range(repeat):
+        w, c = time.perf_counter(), time.process_time()
+        results = [fn(item) for item in items]
+        walls.append((time.perf_counter() - w) / len(items))
+        cpus.append((time.process_time() - c) / len(items))
+    return results, statistics.median(walls), statistics.median(cpus)
 
 
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--designs", type=int, default=100)
     parser.add_argument("--poses", type=int, default=3)
+    parser.add_argument("--repeat", type=int, default=3)
     args = parser.parse_args()
-    items = cases(args.designs, args.poses)
-    start = time.perf_counter()
-    import cvxpy  # noqa: F401  (the library imports it lazily; timed apart here)
+    sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "tests"))
+    from contact_cvxpy import CompiledReference, reference_payload
 
-    t_import = time.perf_counter() - start
-    start = time.perf_counter()
-    problem = mc.MultiContactPayload.for_statics(items[0])
-    problem.resolve(items[0])  # first solve compiles the parameter map
-    first = time.perf_counter() - start
-    fast, t_resolve = timed(problem.resolve, items)
-    slow, t_rebuild = timed(mc.solve, items)
-    _, t_lp = timed(lambda st: mc.pyramid_bounds(st, sides=8), items)
-    pay_fast = np.array([r.payload for r in fast])
-    pay_slow = np.array([r.payload for r in slow])
-    solver = np.nanmean([r.solver_time for r in fast])
+    items = cases(args.designs, args.poses)
     print(
         f"machine: {platform.processor() or platform.machine()}, python "
         f"{platform.python_version()}; {len(items)} solves ({args.designs} designs × "
-        f"{args.poses} poses), nv = 18, 4 contacts, 12 joints"
+        f"{args.poses} poses), nv = 18, 4 contacts, 12 joints; medians of {args.repeat} runs; "
+        f"load average at start {os.getloadavg()[0]:.2f}"
     )
-    print(
-        f"statuses: {sorted(set(r.status for r in fast))}; payload range "
-        f"{np.nanmin(pay_fast):.1f}..{np.nanmax(pay_fast):.1f} N; "
-        f"max |resolve - rebuild| / payload = {np.nanmax(abs(pay_fast - pay_slow) / pay_slow):.1e}"
-    )
-    print(f"{'method':34s} {'ms / solve':>10s} {'ratio':>8s}")
-    print(f"{'import cvxpy (once per process)':34s} {1e3 * t_import:10.2f}")
-    print(f"{'compile once + first solve':34s} {1e3 * first:10.2f}")
-    print(f"{'resolve (parameters)':34s} {1e3 * t_resolve:10.2f} {1.0:8.2f}")
-    print(f"{'rebuild per design':34s} {1e3 * t_rebuild:10.2f} {t_rebuild / t_resolve:8.2f}")
-    print(f"{'pyramid LPs, inner+outer (p = 8)':34s} {1e3 * t_lp:10.2f} {t_lp / t_resolve:8.2f}")
-    print(f"{'  of which the cone solver itself':34s} {1e3 * solver:10.2f}")
+    direct = mc.MultiContactPayload.for_statics(items[0])
+    direct.resolve(items[0])  # first call imports the solver
+    start = time.perf_counter()
+    compiled = CompiledReference(items[0])
+    compiled.resolve(items[0])  # first solve compiles the parameter map
+    first = time.perf_counter() - start
+    rows = [
+        ("(a) direct conic form (library)", lambda st: direct.resolve(st).payload),
+        ("(b) cvxpy, compiled once (DPP)", compiled.resolve),
+        ("(c) cvxpy, built per design", lambda st: reference_payload(st)[1]),
+        ("(d) pyramid LPs inner+outer p=8", lambda st: mc.pyramid_bounds(st, sides=8)),
+    ]
+    base_pay, base_cpu = None, None
+    print(f"{'path':34s} {'wall ms':>8s} {'CPU ms':>8s} {'CPU / (a)':>10s} {'max rel diff':>13s}")
+    for name, fn in rows:
+        out, wall, cpu = timed(fn, items, args.repeat)
+        diff = ""
+        if not name.startswith("(d)"):
+            pay = np.array(out, dtype=float)
+            if base_pay is None:
+                base_pay = pay
+            diff = f"{np.nanmax(abs(pay - base_pay) / base_pay):13.1e}"
+        base_cpu = cpu if base_cpu is None else base_cpu
+        print(f"{name:34s} {1e3 * wall:8.3f} {1e3 * cpu:8.3f} {cpu / base_cpu:10.2f} {diff}")
+    print(f"(b) compile once + first solve: {1e3 * first:.1f} ms")
+    print(f"payload range {np.nanmin(base_pay):.1f}..{np.nanmax(base_pay):.1f} N; "
+          f"load average at end {os.getloadavg()[0]:.2f}")
 
 
 if __name__ == "__main__":

@@ -46,8 +46,8 @@ def build_model(
     each phase as it starts."""
     phase = phase or (lambda text: None)
     if any(c.kind == "stance" for c in project.cases):
-        phase("loading the cone solver")  # its import takes seconds: count it inside the limit
-        import cvxpy  # noqa: F401
+        phase("loading the cone solver")  # its import: count it inside the limit
+        import clarabel  # noqa: F401
     if table is None:
         phase("building options")
         # stack dominance keeps a pinned stage list only when no pin names one

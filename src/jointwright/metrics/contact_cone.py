@@ -1,9 +1,11 @@
-"""The several-contact payload as a second-order cone program (cvxpy, compiled once per shape).
+"""The several-contact payload as a second-order cone program, solved by Clarabel directly.
 
 In the scaled contact coordinates ``f_k = λ_k·n_k + μ_k·(ν_k1·t_k1 + ν_k2·t_k2)`` every cone is
-the standard one ``‖ν_k‖ ≤ λ_k`` and every number of a case enters as a cvxpy ``Parameter``
-(DPP), so one compiled problem re-solves for many designs and poses (docs/contacts.md). cvxpy
-is imported on first use.
+the standard one ``‖ν_k‖ ≤ λ_k`` (docs/contacts.md). The program is small (1 + n_joints + 3k
+variables), so it is written straight into the conic solver's form ``A·x + s = b``,
+``s ∈ K`` for every design: no modelling layer, no compile step, and the same numbers as the
+modelled program (tests/test_contacts.py checks it against a cvxpy model of the original
+coordinates). Clarabel is imported on first use.
 """
 
 from __future__ import annotations
@@ -19,24 +21,25 @@ from ..errors import InputError
 from .contact_result import (
     ACTIVE_RTOL,
     ContactPayloadResult,
-    contact_forces,
     failed_result,
     torque_activity,
 )
-from .contact_statics import API_SOURCE, ContactStatics
+from .contact_statics import API_SOURCE, ContactStatics, tangent_basis
 
-_CVXPY_STATUS = {
-    "optimal": "optimal",
-    "optimal_inaccurate": "optimal",
-    "infeasible": "infeasible",
-    "infeasible_inaccurate": "infeasible",
-    "unbounded": "unbounded",
-    "unbounded_inaccurate": "unbounded",
+#: the solver's statuses in the shared vocabulary (anything else is "error")
+_STATUS = {
+    "Solved": "optimal",
+    "AlmostSolved": "optimal",
+    "PrimalInfeasible": "infeasible",
+    "AlmostPrimalInfeasible": "infeasible",
+    "DualInfeasible": "unbounded",
+    "AlmostDualInfeasible": "unbounded",
 }
+SOLVER = "Clarabel"
 
 
 class MultiContactPayload:
-    """A compiled cone program for one problem shape; :meth:`resolve` solves a case quickly.
+    """The cone program of one problem shape; :meth:`resolve` solves one case of that shape.
 
     Parameters
     ----------
@@ -44,8 +47,7 @@ class MultiContactPayload:
     n_joints : number of actuated rows
     n_contacts : number of point contacts k (0 allowed)
     payload_dim : 3 (force) or 6 (force and moment)
-    solver : a cvxpy solver name, CLARABEL by default
-    solver_options : extra keyword arguments for ``Problem.solve``
+    settings : Clarabel settings to change from its defaults, e.g. ``{"tol_gap_rel": 1e-9}``
     """
 
     def __init__(
@@ -55,8 +57,7 @@ class MultiContactPayload:
         n_contacts: int,
         *,
         payload_dim: int = 3,
-        solver: str = "CLARABEL",
-        solver_options: dict[str, Any] | None = None,
+        settings: dict[str, Any] | None = None,
     ):
         for name, val, low, high in (
             ("nv", nv, 1, math.inf),
@@ -74,111 +75,140 @@ class MultiContactPayload:
         if payload_dim not in (3, 6):
             raise InputError(API_SOURCE, "payload_dim", f"must be 3 or 6, got {payload_dim!r}")
         self.shape = (int(nv), int(n_joints), int(n_contacts), int(payload_dim))
-        self.solver = str(solver)
-        self.solver_options = dict(solver_options or {})
-        self._build()
+        import clarabel
+
+        self._clarabel = clarabel
+        self.settings = clarabel.DefaultSettings()
+        self.settings.verbose = False
+        for key, value in (settings or {}).items():
+            if not hasattr(self.settings, key):
+                raise InputError(API_SOURCE, "settings", f"Clarabel has no setting {key!r}")
+            setattr(self.settings, key, value)
+        nj, k = self.shape[1], self.shape[2]
+        self._n = 1 + nj + 3 * k  # x = (s, τ, then (λ_k, ν_k1, ν_k2) per contact)
+        self._soc_rows = np.zeros((3 * k, self._n))
+        self._soc_rows[np.arange(3 * k), 1 + nj + np.arange(3 * k)] = -1.0  # s = x_cone ∈ SOC
+        self._q = np.zeros(self._n)
+        self._q[0] = -1.0  # maximize s
+        from scipy import sparse
+
+        self._p = sparse.csc_matrix((self._n, self._n))  # no quadratic term
+        self._geometry: tuple[bytes, np.ndarray, tuple] | None = None  # the last case's
 
     @classmethod
     def for_statics(cls, statics: ContactStatics, **kwargs: Any) -> MultiContactPayload:
-        """A problem compiled for the shape of ``statics``."""
+        """A problem for the shape of ``statics``."""
         nv, nj, k, m = statics.shape
         return cls(nv, nj, k, payload_dim=m, **kwargs)
 
-    def _build(self) -> None:
-        import cvxpy as cp
-
+    def _data(self, st: ContactStatics):
+        """The conic form ``A·x + s = b``: equilibrium (zero cone), s ≥ 0 and the finite
+        torque bounds (nonnegative cone), one 3-dimensional second-order cone per contact."""
         nv, nj, k, _ = self.shape
-        self._cp = cp
-        self._s = cp.Variable(nonneg=True, name="s")
-        p = self._par = {"g": cp.Parameter(nv, name="g"), "b": cp.Parameter(nv, name="b")}
-        lhs = p["b"] * self._s
-        cons = []
-        if nj:
-            self._tau = cp.Variable(nj, name="tau")
-            p["St"] = cp.Parameter((nv, nj), name="St")
-            for key in ("lo_mask", "lo_val", "hi_mask", "hi_val"):
-                p[key] = cp.Parameter(nj, name=key)
-            lhs = lhs + p["St"] @ self._tau
-            self._lo = cp.multiply(p["lo_mask"], self._tau) >= p["lo_val"]
-            self._hi = cp.multiply(p["hi_mask"], self._tau) <= p["hi_val"]
-            cons += [self._lo, self._hi]
-        if k:
-            names = ("lam", "nu1", "nu2")
-            self._lam, self._nu1, self._nu2 = (cp.Variable(k, name=v) for v in names)
-            for key in ("An", "At1", "At2"):
-                p[key] = cp.Parameter((nv, k), name=key)
-            lhs = lhs + p["An"] @ self._lam + p["At1"] @ self._nu1 + p["At2"] @ self._nu2
-            cons.append(cp.SOC(self._lam, cp.vstack([self._nu1, self._nu2]), axis=0))
-        cons.append(lhs == p["g"])
-        self.problem = cp.Problem(cp.Maximize(self._s), cons)
+        eq, _basis = self._equilibrium(st)
+        low = np.flatnonzero(np.isfinite(st.tau_low))
+        high = np.flatnonzero(np.isfinite(st.tau_high))
+        rows = 1 + low.size + high.size
+        ineq = np.zeros((rows, self._n))
+        ineq[0, 0] = -1.0  # s ≥ 0
+        ineq[1 + np.arange(low.size), 1 + low] = -1.0  # −τ ≤ −τ_low
+        ineq[1 + low.size + np.arange(high.size), 1 + high] = 1.0  # τ ≤ τ_high
+        rhs = np.concatenate([[0.0], -st.tau_low[low], st.tau_high[high]])
+        a = np.vstack([eq, ineq, self._soc_rows])
+        b = np.concatenate([st.gravity, rhs, np.zeros(3 * k)])
+        cl = self._clarabel
+        cones = [cl.ZeroConeT(nv), cl.NonnegativeConeT(rows)]
+        cones += [cl.SecondOrderConeT(3)] * k
+        return a, b, cones, low, high
 
-    def _load(self, st: ContactStatics) -> None:
-        if st.shape != self.shape:
-            raise InputError(
-                API_SOURCE,
-                "statics",
-                f"has shape {st.shape}, problem built for "
-                f"{self.shape} (nv, n_joints, k, payload_dim)",
+    def _equilibrium(self, st: ContactStatics) -> tuple[np.ndarray, tuple]:
+        """The equilibrium rows and the contact frames; a batch of designs in one pose shares
+        them, so the last case's are kept and reused when its geometry is the same."""
+        key = b"".join(
+            np.ascontiguousarray(a).tobytes()
+            for a in (
+                st.contact_jacobians,
+                st.normals,
+                st.friction,
+                st.payload_jacobian,
+                st.payload_wrench,
+                st.actuated,
             )
-        p = self._par
-        p["g"].value = np.array(st.gravity)
-        p["b"].value = st.payload_jacobian.T @ st.payload_wrench
-        if self.shape[1]:
-            p["St"].value = st.selection_transpose()
-            for side, vals in (("lo", st.tau_low), ("hi", st.tau_high)):
-                finite = np.isfinite(vals)
-                p[f"{side}_mask"].value = finite.astype(float)
-                p[f"{side}_val"].value = np.where(finite, vals, 0.0)
-        if self.shape[2]:
-            p["An"].value, p["At1"].value, p["At2"].value = st.contact_columns()
+        )
+        if self._geometry is not None and self._geometry[0] == key:
+            return self._geometry[1], self._geometry[2]
+        nv, nj, k, _ = self.shape
+        eq = np.zeros((nv, self._n))
+        eq[:, 0] = st.payload_jacobian.T @ st.payload_wrench
+        eq[st.actuated, 1 + np.arange(nj)] = 1.0
+        if k:
+            cols = 1 + nj + 3 * np.arange(k)
+            eq[:, cols], eq[:, cols + 1], eq[:, cols + 2] = st.contact_columns()
+        basis = tangent_basis(st.normals) if k else ()
+        eq.setflags(write=False)
+        self._geometry = (key, eq, basis)
+        return eq, basis
 
     def resolve(self, statics: ContactStatics) -> ContactPayloadResult:
-        """Solve the case ``statics`` on the compiled problem (parameters only change).
+        """Solve the case ``statics`` (of this problem's shape).
 
         Returns
         -------
         ContactPayloadResult
             In batch use a failed solve is a status, not an exception.
         """
-        self._load(statics)
+        from scipy import sparse
+
+        if statics.shape != self.shape:
+            raise InputError(
+                API_SOURCE,
+                "statics",
+                f"has shape {statics.shape}, problem built for "
+                f"{self.shape} (nv, n_joints, k, payload_dim)",
+            )
         _, nj, k, _ = self.shape
         start = time.perf_counter()
+        a, b, cones, low, high = self._data(statics)
         try:
-            self.problem.solve(solver=self.solver, **self.solver_options)
-        except self._cp.error.SolverError as exc:
+            solver = self._clarabel.DefaultSolver(
+                self._p, self._q, sparse.csc_matrix(a), b, cones, self.settings
+            )
+            sol = solver.solve()
+        except Exception as exc:  # noqa: BLE001 - a failed solve is a status in batch use
             wall = time.perf_counter() - start
-            return failed_result("error", f"solver_error: {exc}", nj, k, wall, self.solver)
+            return failed_result("error", f"solver_error: {exc}", nj, k, wall, SOLVER)
         wall = time.perf_counter() - start
-        native = str(self.problem.status)
-        status = _CVXPY_STATUS.get(native, "error")
+        native = str(sol.status)
+        status = _STATUS.get(native, "error")
         if status != "optimal":
             payload = math.inf if status == "unbounded" else math.nan
-            return failed_result(status, native, nj, k, wall, self.solver, payload)
-        return self._result(statics, native, wall)
+            return failed_result(status, native, nj, k, wall, SOLVER, payload)
+        return self._result(statics, sol, native, wall, low, high)
 
-    def _result(self, st: ContactStatics, native: str, wall: float) -> ContactPayloadResult:
+    def _result(self, st, sol, native, wall, low, high) -> ContactPayloadResult:
         _, nj, k, _ = self.shape
-        tau = np.array(self._tau.value) if nj else np.zeros(0)
+        nv = self.shape[0]
+        x, z = np.asarray(sol.x), np.asarray(sol.z)
+        tau = x[1 : 1 + nj]
         at_low, at_high = torque_activity(st, tau)
-        # a masked (infinite) bound is the void row 0 <= 0: its dual means nothing, report 0
-        mult_lo = np.where(np.isfinite(st.tau_low), self._lo.dual_value, 0.0) if nj else tau
-        mult_hi = np.where(np.isfinite(st.tau_high), self._hi.dual_value, 0.0) if nj else tau
-        if k:
-            lam, nu1, nu2 = (np.array(v.value) for v in (self._lam, self._nu1, self._nu2))
-        else:
-            lam = nu1 = nu2 = np.zeros(0)
-        forces = contact_forces(st, lam, st.friction * nu1, st.friction * nu2)
+        # multipliers of the finite bounds: payload gained per unit the bound is relaxed
+        mult_lo, mult_hi = np.zeros(nj), np.zeros(nj)
+        mult_lo[low] = z[nv + 1 : nv + 1 + low.size]
+        mult_hi[high] = z[nv + 1 + low.size : nv + 1 + low.size + high.size]
+        cone = x[1 + nj :].reshape(k, 3)
+        lam, nu1, nu2 = cone[:, 0], cone[:, 1], cone[:, 2]
+        t1, t2, n = self._equilibrium(st)[1] if k else (np.zeros((0, 3)),) * 3
+        mu = st.friction
+        forces = lam[:, None] * n + (mu * nu1)[:, None] * t1 + (mu * nu2)[:, None] * t2
         tol = ACTIVE_RTOL * max(1.0, float(np.max(lam, initial=0.0)))
         unloaded = lam <= tol
         slip = (st.friction > 0) & ~unloaded & (lam - np.hypot(nu1, nu2) <= tol)
-        stats = self.problem.solver_stats
-        solver_time = float(stats.solve_time) if stats.solve_time is not None else math.nan
         return ContactPayloadResult(
             "optimal",
             native,
-            float(np.asarray(self._s.value)),
+            float(x[0]),
             forces,
-            tau,
+            tau.copy(),
             at_low,
             at_high,
             np.maximum(mult_lo, 0.0),
@@ -186,18 +216,14 @@ class MultiContactPayload:
             slip,
             unloaded,
             wall,
-            solver_time,
-            self.solver,
+            float(sol.solve_time),
+            SOLVER,
         )
 
 
 def solve(statics: ContactStatics, **kwargs: Any) -> ContactPayloadResult:
-    """One-off solve: compile a problem for the shape of ``statics`` and solve it.
-
-    Keyword arguments go to :class:`MultiContactPayload` (``solver``, ``solver_options``).
-    For many cases of one shape build the problem once and call :meth:`~MultiContactPayload.
-    resolve`, or use :func:`solve_batch`.
-    """
+    """One-off solve of ``statics``; keyword arguments go to :class:`MultiContactPayload`
+    (``settings``). For many cases of one shape use :func:`solve_batch`."""
     return MultiContactPayload.for_statics(statics, **kwargs).resolve(statics)
 
 
@@ -236,13 +262,15 @@ class ContactPayloadBatch:
     solve_time: float
 
 
-def solve_batch(*, actuated: Any, solver: str = "CLARABEL", **arrays: Any) -> ContactPayloadBatch:
-    """Re-solve one compiled problem over every case of broadcast batch dimensions.
+def solve_batch(
+    *, actuated: Any, settings: dict[str, Any] | None = None, **arrays: Any
+) -> ContactPayloadBatch:
+    """Solve the cone program for every case of broadcast batch dimensions.
 
     Parameters
     ----------
     actuated : (n_joints,) actuated row indices, shared by all cases
-    solver : cvxpy solver name
+    settings : Clarabel settings, as for :class:`MultiContactPayload`
     **arrays : the array fields of :class:`ContactStatics` (gravity, contact_jacobians,
         normals, friction, payload_jacobian, payload_wrench, tau_low, tau_high), each with
         optional leading batch dimensions that broadcast together, e.g. gravity (D, P, nv)
@@ -277,7 +305,7 @@ def solve_batch(*, actuated: Any, solver: str = "CLARABEL", **arrays: Any) -> Co
         ContactStatics(**{n: a[idx] for n, a in cases.items()}, actuated=actuated)
         for idx in np.ndindex(*batch)
     ]
-    problem = MultiContactPayload.for_statics(statics[0], solver=solver)
+    problem = MultiContactPayload.for_statics(statics[0], settings=settings)
     return _stack([problem.resolve(st) for st in statics], batch)
 
 

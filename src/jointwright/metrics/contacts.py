@@ -19,8 +19,8 @@ coordinates ``v`` of size nv; a floating base puts its 6 rows first)::
 
 The program maximizes ``s ≥ 0``. In the scaled contact coordinates
 ``f_k = λ_k·n_k + μ_k·(ν_k1·t_k1 + ν_k2·t_k2)`` every cone is the standard one ``‖ν_k‖ ≤ λ_k``
-and every number of a case enters as a cvxpy ``Parameter`` (DPP), so one compiled problem
-re-solves for many designs and poses. :func:`pyramid_bounds` solves the same statics as two
+and the program is written straight into the conic form of the Clarabel solver (no modelling
+layer, no compile step; docs/contacts.md). :func:`pyramid_bounds` solves the same statics as two
 linear programs (scipy/HiGHS) with inscribed and circumscribed p-sided friction pyramids: an
 inner and an outer bound on the cone result.
 
