@@ -14,6 +14,7 @@ import numpy as np
 import pytest
 
 import jointwright.evaluate as evaluate_module
+import jointwright.impactcase as impactcase_module
 from jointwright.errors import InputError, SingularPoseError
 from jointwright.evaluate import Evaluator
 from jointwright.metrics.impact_fused import entries_batch_last, impact_fused
@@ -114,7 +115,9 @@ def test_kernel_reports_a_contact_that_cannot_move():
         impact_fused(entries_batch_last(np.ascontiguousarray(np.moveaxis(H, 0, -1))), J, 6, None, x)
 
 
-def test_a_single_design(leg_project, random_designs):
+def test_a_single_design(leg_project, random_designs, monkeypatch):
+    # the evaluator sends small batches the generic way; force the fused kernel on one design
+    monkeypatch.setattr(impactcase_module, "FUSED_IMPACT_MIN", 1)
     d = random_designs(leg_project, 1, 2)
     ev = Evaluator(leg_project)
     pc = next(p for p in ev.cases if p.case.kind == "impact")
