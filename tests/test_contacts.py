@@ -551,3 +551,19 @@ def test_import_does_not_load_the_cone_solver():
     code = "import sys, jointwright.metrics.contacts; print('clarabel' in sys.modules)"
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == "False"
+
+
+def test_with_design_equals_a_fresh_case_and_checks_its_fields():
+    st = _stance(2, 0.6)
+    g = st.gravity * 1.1
+    other = st.with_design(g, st.tau_low * 0.9, st.tau_high * 0.9)
+    fresh = mc.ContactStatics(
+        **{**_fields(st), "gravity": g, "tau_low": st.tau_low * 0.9, "tau_high": st.tau_high * 0.9}
+    )
+    assert mc.solve(other).payload == mc.solve(fresh).payload
+    with pytest.raises(InputError) as err:
+        st.with_design(np.full_like(g, np.nan), st.tau_low, st.tau_high)
+    assert err.value.field == "gravity"
+    with pytest.raises(InputError) as err:
+        st.with_design(g, st.tau_high, st.tau_low)
+    assert err.value.field == "tau_low[0]"

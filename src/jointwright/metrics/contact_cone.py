@@ -93,7 +93,7 @@ class MultiContactPayload:
         from scipy import sparse
 
         self._p = sparse.csc_matrix((self._n, self._n))  # no quadratic term
-        self._geometry: tuple[bytes, np.ndarray, tuple] | None = None  # the last case's
+        self._geometry: tuple[bytes, tuple] | None = None  # the last case's (:meth:`_matrix`)
 
     @classmethod
     def for_statics(cls, statics: ContactStatics, **kwargs: Any) -> MultiContactPayload:
@@ -101,29 +101,13 @@ class MultiContactPayload:
         nv, nj, k, m = statics.shape
         return cls(nv, nj, k, payload_dim=m, **kwargs)
 
-    def _data(self, st: ContactStatics):
-        """The conic form ``A·x + s = b``: equilibrium (zero cone), s ≥ 0 and the finite
-        torque bounds (nonnegative cone), one 3-dimensional second-order cone per contact."""
-        nv, nj, k, _ = self.shape
-        eq, _basis = self._equilibrium(st)
-        low = np.flatnonzero(np.isfinite(st.tau_low))
-        high = np.flatnonzero(np.isfinite(st.tau_high))
-        rows = 1 + low.size + high.size
-        ineq = np.zeros((rows, self._n))
-        ineq[0, 0] = -1.0  # s ≥ 0
-        ineq[1 + np.arange(low.size), 1 + low] = -1.0  # −τ ≤ −τ_low
-        ineq[1 + low.size + np.arange(high.size), 1 + high] = 1.0  # τ ≤ τ_high
-        rhs = np.concatenate([[0.0], -st.tau_low[low], st.tau_high[high]])
-        a = np.vstack([eq, ineq, self._soc_rows])
-        b = np.concatenate([st.gravity, rhs, np.zeros(3 * k)])
-        cl = self._clarabel
-        cones = [cl.ZeroConeT(nv), cl.NonnegativeConeT(rows)]
-        cones += [cl.SecondOrderConeT(3)] * k
-        return a, b, cones, low, high
-
-    def _equilibrium(self, st: ContactStatics) -> tuple[np.ndarray, tuple]:
-        """The equilibrium rows and the contact frames; a batch of designs in one pose shares
-        them, so the last case's are kept and reused when its geometry is the same."""
+    def _matrix(self, st: ContactStatics) -> tuple:
+        """The conic form's matrix ``A`` (sparse) and cones of ``A·x + s = b``: equilibrium
+        (zero cone); s ≥ 0 and the finite torque bounds (nonnegative cone); one 3-dimensional
+        second-order cone per contact. With the index arrays of the finite lower and upper
+        bounds and the contact frames. A batch of designs in one pose shares all of it (only
+        ``b`` changes), so the last case's are kept and reused while the geometry and the
+        pattern of finite bounds stay the same."""
         key = b"".join(
             np.ascontiguousarray(a).tobytes()
             for a in (
@@ -133,10 +117,14 @@ class MultiContactPayload:
                 st.payload_jacobian,
                 st.payload_wrench,
                 st.actuated,
+                np.isfinite(st.tau_low),
+                np.isfinite(st.tau_high),
             )
         )
         if self._geometry is not None and self._geometry[0] == key:
-            return self._geometry[1], self._geometry[2]
+            return self._geometry[1]
+        from scipy import sparse
+
         nv, nj, k, _ = self.shape
         eq = np.zeros((nv, self._n))
         eq[:, 0] = st.payload_jacobian.T @ st.payload_wrench
@@ -144,10 +132,19 @@ class MultiContactPayload:
         if k:
             cols = 1 + nj + 3 * np.arange(k)
             eq[:, cols], eq[:, cols + 1], eq[:, cols + 2] = st.contact_columns()
-        basis = tangent_basis(st.normals) if k else ()
-        eq.setflags(write=False)
-        self._geometry = (key, eq, basis)
-        return eq, basis
+        low = np.flatnonzero(np.isfinite(st.tau_low))
+        high = np.flatnonzero(np.isfinite(st.tau_high))
+        rows = 1 + low.size + high.size
+        ineq = np.zeros((rows, self._n))
+        ineq[0, 0] = -1.0  # s ≥ 0
+        ineq[1 + np.arange(low.size), 1 + low] = -1.0  # −τ ≤ −τ_low
+        ineq[1 + low.size + np.arange(high.size), 1 + high] = 1.0  # τ ≤ τ_high
+        a = sparse.csc_matrix(np.vstack([eq, ineq, self._soc_rows]))
+        cl = self._clarabel
+        cones = [cl.ZeroConeT(nv), cl.NonnegativeConeT(rows)] + [cl.SecondOrderConeT(3)] * k
+        basis = tangent_basis(st.normals) if k else (np.zeros((0, 3)),) * 3
+        self._geometry = (key, (a, cones, low, high, basis))
+        return self._geometry[1]
 
     def resolve(self, statics: ContactStatics) -> ContactPayloadResult:
         """Solve the case ``statics`` (of this problem's shape).
@@ -157,8 +154,6 @@ class MultiContactPayload:
         ContactPayloadResult
             In batch use a failed solve is a status, not an exception.
         """
-        from scipy import sparse
-
         if statics.shape != self.shape:
             raise InputError(
                 API_SOURCE,
@@ -168,11 +163,18 @@ class MultiContactPayload:
             )
         _, nj, k, _ = self.shape
         start = time.perf_counter()
-        a, b, cones, low, high = self._data(statics)
+        a, cones, low, high, basis = self._matrix(statics)
+        b = np.concatenate(
+            [
+                statics.gravity,
+                [0.0],
+                -statics.tau_low[low],
+                statics.tau_high[high],
+                np.zeros(3 * k),
+            ]
+        )
         try:
-            solver = self._clarabel.DefaultSolver(
-                self._p, self._q, sparse.csc_matrix(a), b, cones, self.settings
-            )
+            solver = self._clarabel.DefaultSolver(self._p, self._q, a, b, cones, self.settings)
             sol = solver.solve()
         except Exception as exc:  # noqa: BLE001 - a failed solve is a status in batch use
             wall = time.perf_counter() - start
@@ -183,9 +185,9 @@ class MultiContactPayload:
         if status != "optimal":
             payload = math.inf if status == "unbounded" else math.nan
             return failed_result(status, native, nj, k, wall, SOLVER, payload)
-        return self._result(statics, sol, native, wall, low, high)
+        return self._result(statics, sol, native, wall, low, high, basis)
 
-    def _result(self, st, sol, native, wall, low, high) -> ContactPayloadResult:
+    def _result(self, st, sol, native, wall, low, high, basis) -> ContactPayloadResult:
         _, nj, k, _ = self.shape
         nv = self.shape[0]
         x, z = np.asarray(sol.x), np.asarray(sol.z)
@@ -197,7 +199,7 @@ class MultiContactPayload:
         mult_hi[high] = z[nv + 1 + low.size : nv + 1 + low.size + high.size]
         cone = x[1 + nj :].reshape(k, 3)
         lam, nu1, nu2 = cone[:, 0], cone[:, 1], cone[:, 2]
-        t1, t2, n = self._equilibrium(st)[1] if k else (np.zeros((0, 3)),) * 3
+        t1, t2, n = basis
         mu = st.friction
         forces = lam[:, None] * n + (mu * nu1)[:, None] * t1 + (mu * nu2)[:, None] * t2
         tol = ACTIVE_RTOL * max(1.0, float(np.max(lam, initial=0.0)))
@@ -301,12 +303,25 @@ def solve_batch(
     except ValueError:
         raise InputError(API_SOURCE, "batch dimensions", f"do not broadcast: {lead}") from None
     cases = {n: np.broadcast_to(a, batch + a.shape[len(lead[n]) :]) for n, a in arr.items()}
-    statics = [
-        ContactStatics(**{n: a[idx] for n, a in cases.items()}, actuated=actuated)
-        for idx in np.ndindex(*batch)
-    ]
+    # the contacts and payload point are validated once per distinct geometry (a batch of
+    # designs in one pose has one); each design's gravity and torque bounds on their own
+    varying = [n for n in _CORE_NDIM if n not in _DESIGN_FIELDS and lead[n]]
+    statics: list[ContactStatics] = []
+    last: tuple[bytes, ContactStatics] | None = None
+    for idx in np.ndindex(*batch):
+        key = b"".join(np.ascontiguousarray(cases[n][idx]).tobytes() for n in varying)
+        if last is None or key != last[0]:
+            st = ContactStatics(**{n: cases[n][idx] for n in _CORE_NDIM}, actuated=actuated)
+            last = (key, st)
+        else:
+            st = last[1].with_design(**{n: cases[n][idx] for n in _DESIGN_FIELDS})
+        statics.append(st)
     problem = MultiContactPayload.for_statics(statics[0], settings=settings)
     return _stack([problem.resolve(st) for st in statics], batch)
+
+
+#: the fields of :func:`solve_batch` that differ from design to design in one pose
+_DESIGN_FIELDS = ("gravity", "tau_low", "tau_high")
 
 
 def _stack(results: list[ContactPayloadResult], batch: tuple[int, ...]) -> ContactPayloadBatch:

@@ -8,6 +8,7 @@ holds and checks one case's numbers; :func:`tangent_basis` gives each contact's 
 
 from __future__ import annotations
 
+import copy
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -193,6 +194,21 @@ class ContactStatics:
                 API_SOURCE, f"tau_low[{bad}]", f"must be <= tau_high[{bad}] (low, high)"
             )
         return lo, hi
+
+    def with_design(self, gravity: Any, tau_low: Any, tau_high: Any) -> ContactStatics:
+        """The same contacts and payload point with another design's gravity and torque bounds
+        (validated as in the constructor; the geometry is not checked again)."""
+        g = _array(gravity, "gravity", 1)
+        _shape(g, "gravity", self.gravity.shape)
+        _finite(g, "gravity")
+        out = copy.copy(self)
+        object.__setattr__(out, "tau_low", tau_low)
+        object.__setattr__(out, "tau_high", tau_high)
+        lo, hi = out._bounds(self.actuated.size)
+        for name, arr in (("gravity", g), ("tau_low", lo), ("tau_high", hi)):
+            arr.setflags(write=False)
+            object.__setattr__(out, name, arr)
+        return out
 
     @property
     def shape(self) -> tuple[int, int, int, int]:
