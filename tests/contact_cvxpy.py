@@ -36,6 +36,7 @@ def reference_payload(st: ContactStatics) -> tuple[str, float, np.ndarray]:
         f = forces[c]
         lhs = lhs + st.contact_jacobians[c].T @ f
         normal = n @ f
+        cons.append(normal >= 0)  # a contact pushes, never pulls (also when μ = 0)
         cons.append(cp.norm(f - normal * n) <= st.friction[c] * normal)
     cons.append(lhs == st.gravity)
     problem = cp.Problem(cp.Maximize(s), cons)

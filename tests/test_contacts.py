@@ -428,27 +428,123 @@ def test_cone_between_pyramids_on_random_robots(seed, k, mu, planted):
 def test_cone_program_matches_a_cvxpy_model_of_the_contact_forces(seed):
     # cvxpy (general-purpose convex modelling) in the original coordinates f_k against the
     # library's scaled program written straight into the solver's form: same payload, same
-    # statuses; resolving on one problem object gives the same numbers as a fresh solve
+    # statuses, including frictionless contacts (μ = 0) and unbounded torques; resolving on one
+    # problem object gives the same numbers as a fresh solve
     rng = np.random.default_rng(seed)
     legs = 2 if seed % 2 else 4
     problem = mc.MultiContactPayload.for_statics(_stance(legs, 0.6))
-    for _ in range(3):
-        st = _stance(legs, rng.uniform(0.0, 1.0, legs), yaw=rng.uniform(-0.5, 0.5))
-        scaled = mc.ContactStatics(
-            **{
-                **_fields(st),
-                "tau_high": st.tau_high * rng.uniform(0.3, 1.5, st.tau_high.size),
-                "tau_low": st.tau_low * rng.uniform(0.3, 1.5, st.tau_low.size),
-            }
-        )
+    statuses = set()
+    for trial in range(4):
+        mu = rng.uniform(0.0, 1.0, legs)
+        mu[rng.random(legs) < 0.4] = 0.0
+        st = _stance(legs, mu, yaw=rng.uniform(-0.5, 0.5))
+        low = st.tau_low * rng.uniform(0.3, 1.5, st.tau_low.size)
+        high = st.tau_high * rng.uniform(0.3, 1.5, st.tau_high.size)
+        if trial == 3:  # some joints without a bound on one side
+            free = rng.random(low.size) < 0.3
+            low, high = np.where(free, -np.inf, low), np.where(free[::-1], np.inf, high)
+        scaled = mc.ContactStatics(**{**_fields(st), "tau_high": high, "tau_low": low})
         status, payload, _tau = reference_payload(scaled)
         mine = problem.resolve(scaled)
-        assert mine.status == {"optimal": "optimal", "infeasible": "infeasible"}[status]
+        statuses.add(mine.status)
+        assert mine.status == {"optimal": "optimal", "infeasible": "infeasible",
+                               "unbounded": "unbounded"}[status]
         if status == "optimal":
             assert mine.payload == pytest.approx(payload, rel=1e-6, abs=1e-6)
-            assert mine.payload == mc.solve(scaled).payload
+            fresh = mc.solve(scaled)
+            assert mine.payload == fresh.payload
+            np.testing.assert_array_equal(mine.contact_forces, fresh.contact_forces)
+            np.testing.assert_array_equal(
+                mine.torque_multiplier_high, fresh.torque_multiplier_high
+            )
+    assert "optimal" in statuses
     with pytest.raises(InputError, match="problem built for"):
         problem.resolve(_stance(6 - legs, 0.6))
+
+
+@pytest.mark.parametrize(
+    "case",
+    ["lifted point mass", "no joints, 6-dim payload", "no contacts", "pulling contact"],
+)
+def test_edge_cases_match_the_cvxpy_model(case):
+    # small statics worked by hand: a 1 kg point on one frictionless floor contact lifted by a
+    # force s: it holds s ≤ 9.81 N (then the contact unloads); a rigid 100 N box on four
+    # frictionless corners under a downward moment-free load (6-dim wrench, no joints) carries
+    # any load (unbounded); a fixed-base joint with no contact; a point whose bias force pulls
+    # it up (g_z < 0) over a floor contact that cannot pull, the load pulling up too: it cannot
+    # be held even without payload (infeasible)
+    if case == "lifted point mass":
+        st = mc.ContactStatics(
+            gravity=[0, 0, 9.81], contact_jacobians=np.eye(3)[None], normals=[[0, 0, 1.0]],
+            friction=0.0, payload_jacobian=np.eye(3), payload_wrench=[0, 0, 1.0],
+            tau_low=[], tau_high=[], actuated=[],
+        )
+        expect = ("optimal", 9.81)
+    elif case == "no joints, 6-dim payload":
+        corners = np.array([[0.5, 0.4, 0], [0.5, -0.4, 0], [-0.5, -0.4, 0], [-0.5, 0.4, 0]])
+        st = mc.ContactStatics(
+            gravity=[0, 0, 100.0, 0, 0, 0], contact_jacobians=mc.rigid_point_jacobian(corners),
+            normals=np.tile([0, 0, 1.0], (4, 1)), friction=0.0,
+            payload_jacobian=mc.rigid_point_jacobian(np.zeros(3), angular=True),
+            payload_wrench=[0, 0, -1.0, 0, 0, 0], tau_low=[], tau_high=[], actuated=[],
+        )
+        expect = ("unbounded", math.inf)
+    elif case == "no contacts":  # one joint 0.5 m from a mass: 2 N·m holds s·0.5 + 0 ≤ 2
+        st = mc.ContactStatics(
+            gravity=[0.0], contact_jacobians=np.zeros((0, 3, 1)), normals=np.zeros((0, 3)),
+            friction=[], payload_jacobian=[[0.0], [0.0], [0.5]], payload_wrench=[0, 0, -1.0],
+            tau_low=[-2.0], tau_high=[2.0], actuated=[0],
+        )
+        expect = ("optimal", 4.0)
+    else:
+        st = mc.ContactStatics(
+            gravity=[0, 0, -9.81], contact_jacobians=np.eye(3)[None], normals=[[0, 0, 1.0]],
+            friction=0.5, payload_jacobian=np.eye(3), payload_wrench=[0, 0, 1.0],
+            tau_low=[], tau_high=[], actuated=[],
+        )
+        expect = ("infeasible", math.nan)
+    status, payload, _ = reference_payload(st)
+    mine = mc.solve(st)
+    assert (mine.status, status) == (expect[0], expect[0])
+    if expect[0] == "optimal":
+        assert mine.payload == pytest.approx(expect[1], rel=1e-6)
+        assert payload == pytest.approx(expect[1], rel=1e-6)
+
+
+def test_a_batch_reuses_its_pose_and_gives_fresh_numbers():
+    # designs in one pose whose pattern of finite bounds changes between them: forces,
+    # torques and multipliers equal a fresh solve of each design
+    st = _stance(4, 0.5)
+    rng = np.random.default_rng(3)
+    scale = rng.uniform(0.5, 1.5, (5, st.tau_low.size))
+    low, high = st.tau_low * scale, st.tau_high * scale
+    low[2, :3] = -np.inf
+    high[3, 4:6] = np.inf
+    base = _fields(st)
+    out = mc.solve_batch(
+        **{n: v for n, v in base.items() if n not in ("tau_low", "tau_high")},
+        tau_low=low,
+        tau_high=high,
+    )
+    problem = mc.MultiContactPayload.for_statics(st)
+    for d in range(5):
+        one = problem.resolve(mc.ContactStatics(**{**base, "tau_low": low[d], "tau_high": high[d]}))
+        assert out.payload[d] == one.payload
+        np.testing.assert_array_equal(out.contact_forces[d], one.contact_forces)
+        np.testing.assert_array_equal(out.joint_torques[d], one.joint_torques)
+    assert out.status.tolist() == ["optimal"] * 5
+
+
+def test_settings_are_checked_when_the_problem_is_made():
+    with pytest.raises(InputError, match="no setting"):
+        mc.MultiContactPayload(6, 0, 1, settings={"tolerance": 1e-9})
+    with pytest.raises(InputError) as err:
+        mc.MultiContactPayload(6, 0, 1, settings={"max_iter": "many"})
+    assert err.value.field == "settings.max_iter"
+    tight = mc.MultiContactPayload.for_statics(_stance(2, 0.6), settings={"tol_gap_rel": 1e-10})
+    assert tight.resolve(_stance(2, 0.6)).payload == pytest.approx(
+        mc.solve(_stance(2, 0.6)).payload, rel=1e-7
+    )
 
 
 def _fields(st: mc.ContactStatics) -> dict:
@@ -567,3 +663,15 @@ def test_with_design_equals_a_fresh_case_and_checks_its_fields():
     with pytest.raises(InputError) as err:
         st.with_design(g, st.tau_high, st.tau_low)
     assert err.value.field == "tau_low[0]"
+    for bad, field in (
+        ((np.full_like(g, np.inf), st.tau_low, st.tau_high), "gravity"),
+        ((g[:-1], st.tau_low, st.tau_high), "gravity"),
+        ((g, st.tau_low[:-1], st.tau_high), "tau_low"),
+    ):
+        with pytest.raises(InputError) as err:
+            st.with_design(*bad)
+        assert err.value.field == field
+    for name in ("gravity", "tau_low", "tau_high", "contact_jacobians"):
+        assert not getattr(other, name).flags.writeable
+    with pytest.raises(AttributeError):
+        other.gravity = g  # frozen

@@ -22,7 +22,9 @@ from .robot.basis import mass_matrix
 
 #: batches of fewer designs take the generic path: the fused kernel's loops over matrix entries
 #: cost about 1.5 ms per call whatever the batch (the bundled quadruped's impact case, CPU per
-#: call: 16 designs 1.57 ms fused against 0.84 generic, 64 designs 1.53 against 1.64)
+#: call: 16 designs 1.57 ms fused against 0.84 generic, 64 designs 1.53 against 1.64, one
+#: machine). The two paths agree to round-off (tests/test_impact_fused.py), so a design's
+#: figures may differ in the last digits with the size of the batch it is scored in
 FUSED_IMPACT_MIN = 48
 
 

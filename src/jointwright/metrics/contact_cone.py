@@ -36,6 +36,8 @@ _STATUS = {
     "AlmostDualInfeasible": "unbounded",
 }
 SOLVER = "Clarabel"
+#: conic matrices kept per problem (one per pose and pattern of finite torque bounds)
+MATRICES_KEPT = 16
 
 
 class MultiContactPayload:
@@ -83,7 +85,12 @@ class MultiContactPayload:
         for key, value in (settings or {}).items():
             if not hasattr(self.settings, key):
                 raise InputError(API_SOURCE, "settings", f"Clarabel has no setting {key!r}")
-            setattr(self.settings, key, value)
+            try:
+                setattr(self.settings, key, value)
+            except (TypeError, ValueError, OverflowError):
+                raise InputError(
+                    API_SOURCE, f"settings.{key}", f"Clarabel refuses the value {value!r}"
+                ) from None
         nj, k = self.shape[1], self.shape[2]
         self._n = 1 + nj + 3 * k  # x = (s, τ, then (λ_k, ν_k1, ν_k2) per contact)
         self._soc_rows = np.zeros((3 * k, self._n))
@@ -93,7 +100,16 @@ class MultiContactPayload:
         from scipy import sparse
 
         self._p = sparse.csc_matrix((self._n, self._n))  # no quadratic term
-        self._geometry: tuple[bytes, tuple] | None = None  # the last case's (:meth:`_matrix`)
+        self._matrices: dict[bytes, tuple] = {}  # by geometry (:meth:`_matrix`)
+        if settings:  # a value Clarabel accepts field by field may still be refused as a whole
+            probe = np.zeros(self._n)
+            zero = sparse.csc_matrix((1, self._n))
+            try:
+                clarabel.DefaultSolver(
+                    self._p, probe, zero, np.zeros(1), [clarabel.ZeroConeT(1)], self.settings
+                )
+            except Exception as exc:  # noqa: BLE001 - the solver's own words, as one message
+                raise InputError(API_SOURCE, "settings", f"refused by Clarabel: {exc}") from None
 
     @classmethod
     def for_statics(cls, statics: ContactStatics, **kwargs: Any) -> MultiContactPayload:
@@ -105,9 +121,9 @@ class MultiContactPayload:
         """The conic form's matrix ``A`` (sparse) and cones of ``A·x + s = b``: equilibrium
         (zero cone); s ≥ 0 and the finite torque bounds (nonnegative cone); one 3-dimensional
         second-order cone per contact. With the index arrays of the finite lower and upper
-        bounds and the contact frames. A batch of designs in one pose shares all of it (only
-        ``b`` changes), so the last case's are kept and reused while the geometry and the
-        pattern of finite bounds stay the same."""
+        bounds and the contact frames. Designs in one pose share all of it (only ``b``
+        changes), so it is kept per geometry and pattern of finite bounds (the latest
+        :data:`MATRICES_KEPT`)."""
         key = b"".join(
             np.ascontiguousarray(a).tobytes()
             for a in (
@@ -121,8 +137,9 @@ class MultiContactPayload:
                 np.isfinite(st.tau_high),
             )
         )
-        if self._geometry is not None and self._geometry[0] == key:
-            return self._geometry[1]
+        known = self._matrices.get(key)
+        if known is not None:
+            return known
         from scipy import sparse
 
         nv, nj, k, _ = self.shape
@@ -143,8 +160,10 @@ class MultiContactPayload:
         cl = self._clarabel
         cones = [cl.ZeroConeT(nv), cl.NonnegativeConeT(rows)] + [cl.SecondOrderConeT(3)] * k
         basis = tangent_basis(st.normals) if k else (np.zeros((0, 3)),) * 3
-        self._geometry = (key, (a, cones, low, high, basis))
-        return self._geometry[1]
+        if len(self._matrices) >= MATRICES_KEPT:
+            self._matrices.pop(next(iter(self._matrices)))  # the oldest
+        self._matrices[key] = out = (a, cones, low, high, basis)
+        return out
 
     def resolve(self, statics: ContactStatics) -> ContactPayloadResult:
         """Solve the case ``statics`` (of this problem's shape).
@@ -307,14 +326,14 @@ def solve_batch(
     # designs in one pose has one); each design's gravity and torque bounds on their own
     varying = [n for n in _CORE_NDIM if n not in _DESIGN_FIELDS and lead[n]]
     statics: list[ContactStatics] = []
-    last: tuple[bytes, ContactStatics] | None = None
+    seen: dict[bytes, ContactStatics] = {}
     for idx in np.ndindex(*batch):
         key = b"".join(np.ascontiguousarray(cases[n][idx]).tobytes() for n in varying)
-        if last is None or key != last[0]:
-            st = ContactStatics(**{n: cases[n][idx] for n in _CORE_NDIM}, actuated=actuated)
-            last = (key, st)
+        if key in seen:
+            st = seen[key].with_design(**{n: cases[n][idx] for n in _DESIGN_FIELDS})
         else:
-            st = last[1].with_design(**{n: cases[n][idx] for n in _DESIGN_FIELDS})
+            st = ContactStatics(**{n: cases[n][idx] for n in _CORE_NDIM}, actuated=actuated)
+            seen[key] = st
         statics.append(st)
     problem = MultiContactPayload.for_statics(statics[0], settings=settings)
     return _stack([problem.resolve(st) for st in statics], batch)
