@@ -38,6 +38,9 @@ def reference_payload(st: ContactStatics) -> tuple[str, float, np.ndarray]:
         normal = n @ f
         cons.append(normal >= 0)  # a contact pushes, never pulls (also when μ = 0)
         cons.append(cp.norm(f - normal * n) <= st.friction[c] * normal)
+    if k and st.share_min > 0:  # every contact takes its share of the total normal force
+        normals = cp.hstack([st.normals[c] @ forces[c] for c in range(k)])
+        cons.append(normals >= st.share_min * cp.sum(normals))
     cons.append(lhs == st.gravity)
     problem = cp.Problem(cp.Maximize(s), cons)
     problem.solve(solver="CLARABEL")

@@ -232,6 +232,48 @@ def test_rigid_body_tips_over_an_edge():
     assert bounds.outer.payload == pytest.approx(100.0, rel=1e-9)
 
 
+@pytest.mark.parametrize("share", [0.0, 0.2, 0.25])
+def test_least_contact_share_moves_the_tipping_point(share):
+    # The same box and load with every corner taking at least ρ of the total normal force
+    # N = W + s (statics by hand, frictionless: vertical forces only). The centre of pressure
+    # is furthest towards +x when the two +x corners take 1 − 2ρ and the others ρ each:
+    # x_p = A·(1 − 2ρ) − A·2ρ = A·(1 − 4ρ); moments about the origin: s·1.0 = (W + s)·x_p,
+    # so s* = W·x_p / (1 − x_p). ρ = 0: 100 N (tipping, as above); ρ = 0.2: x_p = 0.1,
+    # s* = 11.11 N; ρ = 0.25 = 1/k: equal shares, x_p = 0, no off-centre load at all.
+    st = mc.ContactStatics(**{**_fields(_box(0.0, [1.0, 0.0, 0.0], [0, 0, -1.0])), "share_min": share})
+    x_p = A * (1 - 4 * share)
+    expect = W * x_p / (1.0 - x_p)
+    res = mc.solve(st)
+    assert res.payload == pytest.approx(expect, rel=1e-6, abs=1e-6)
+    fz = res.contact_forces[:, 2]
+    assert (fz >= share * fz.sum() - 1e-6).all()
+    status, payload, _ = reference_payload(st)  # cvxpy in force coordinates, same constraint
+    assert status == "optimal" and payload == pytest.approx(expect, rel=1e-6, abs=1e-6)
+    bounds = mc.pyramid_bounds(st, sides=4)  # frictionless: the pyramids equal the cone
+    assert bounds.inner.payload == pytest.approx(expect, rel=1e-7, abs=1e-7)
+    assert bounds.outer.payload == pytest.approx(expect, rel=1e-7, abs=1e-7)
+
+
+def test_least_contact_share_on_a_legged_stance_matches_the_cvxpy_model():
+    # the four-legged stance with two weak legs: a share keeps the strong pair from carrying
+    # everything, so the payload drops; cvxpy in force coordinates agrees, pyramids bracket it
+    st = _stance(4, 0.6)
+    weak = np.repeat([1.0, 0.2, 0.2, 1.0], 3)
+    base = {**_fields(st), "tau_low": st.tau_low * weak, "tau_high": st.tau_high * weak}
+    free = mc.solve(mc.ContactStatics(**base)).payload
+    shared = mc.ContactStatics(**base, share_min=0.2)
+    res = mc.solve(shared)
+    assert res.status == "optimal" and res.payload < free
+    _status, payload, _ = reference_payload(shared)
+    assert res.payload == pytest.approx(payload, rel=1e-6)
+    bounds = mc.pyramid_bounds(shared, sides=16)
+    assert bounds.inner.payload <= res.payload * (1 + 1e-6)
+    assert res.payload <= bounds.outer.payload * (1 + 1e-6)
+    with pytest.raises(InputError) as err:
+        mc.ContactStatics(**base, share_min=0.3)  # 4 × 0.3 > 1
+    assert err.value.field == "share_min"
+
+
 def test_rigid_body_pure_moment_payload():
     # A 6-D payload: pure moment s about +y ON the body, frictionless. Moment balance about y:
     # Σ x_k f_k = s with f_k ≥ 0, Σ f_k = W → s* = A·W = 50 N·m.

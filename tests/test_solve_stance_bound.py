@@ -300,3 +300,34 @@ def test_sampler_draws_its_designs_whatever_the_cpu_budget(name):
         assert again is not None and again[0] == pytest.approx(best[0], rel=1e-9)
     late = Heuristic(model, units, time.perf_counter() - 1.0, extend=True, cpu=100.0)
     assert late.run() is None and late.sampled == 0
+
+
+@pytest.mark.parametrize("seed", [21, 22])
+def test_stance_bound_with_a_least_contact_share_holds_and_binds(seed):
+    # the stance case asks every foot to take at least 20 % of the ground force: the linear
+    # program carries the same rows, so a complete design's bound still lies on or above its
+    # cone value (scored by the evaluator), and no design's value rises with the share
+    q = _quadruped(seed)
+    # the four-foot case alone (on three feet these random designs carry nothing)
+    plain = dataclasses.replace(q, cases=tuple(c for c in q.cases if c.name == "stand-carry"))
+    share = dataclasses.replace(
+        plain,
+        cases=tuple(dataclasses.replace(c, contact_share_min=0.2) for c in plain.cases),
+    )
+    rng = np.random.default_rng(seed)
+    values = {}
+    for name, project in (("plain", plain), ("share", share)):
+        table = build_table(project)
+        n = len(project.robot.actuated)
+        model = SizingModel(project, table, [np.arange(len(table))] * n, "payload")
+        index = rng.integers(0, len(table), (24, n)) if name == "plain" else values["index"]
+        values["index"] = index
+        scored = model.score(index)
+        own = StanceBound(model).complete(index)
+        value = np.where(np.isfinite(scored.objective), scored.objective, -np.inf)
+        assert np.all(own >= value - 1e-6 * np.maximum(1.0, np.abs(value)))
+        values[name], values[name + " bound"] = value, own
+    assert np.all(values["share"] <= values["plain"] + 1e-6 * np.maximum(1.0, values["plain"]))
+    assert np.any(values["share"] < values["plain"] - 1e-3)  # the share binds somewhere
+    # and the program sees it: its bounds drop too
+    assert np.any(values["share bound"] < values["plain bound"] - 1e-3)

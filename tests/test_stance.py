@@ -70,3 +70,45 @@ def test_stance_is_the_objective_of_payload_projects(quadruped):
     assert objective(project, arrays, ev, "payload")[0] == pytest.approx(min(carried))
     # the starting design carries the 10 kg walking load
     assert ev["walk-carry"]["payload"][0] / STANDARD_GRAVITY > 10.0
+
+
+def _quadruped_copy(tmp_path, edit):
+    import shutil
+
+    with resources.as_file(resources.files("jointwright.examples") / "quadruped") as folder:
+        shutil.copytree(folder, tmp_path / "q")
+    path = tmp_path / "q" / "project.toml"
+    path.write_text(edit(path.read_text()))
+    return path
+
+
+def test_contact_share_is_read_checked_and_warned_about(quadruped, tmp_path):
+    from jointwright.assessment import assess
+    from jointwright.errors import InputError
+
+    project, design = quadruped
+    # the shipped design leans on two diagonal feet when three are down (the trunk's centre
+    # lies on the line between them): the assessment says so and names the unloaded foot
+    warned = [c for c in assess(project, design).cautions if "walk-carry" in c]
+    assert len(warned) == 1 and "fr_foot" in warned[0] and "contact_share_min" in warned[0]
+    walk = '[[case]]\nname = "walk-carry"\nkind = "stance"'
+    path = _quadruped_copy(
+        tmp_path, lambda s: s.replace(walk, walk + "\ncontact_share_min = 0.01", 1)
+    )
+    p = load_project(path)
+    assert p.case("walk-carry").contact_share_min == 0.01
+    assert not [c for c in assess(p, load_design(path.parent / "design.toml", p)).cautions
+                if "walk-carry" in c]
+    too_much = _quadruped_copy(
+        tmp_path / "b", lambda s: s.replace(walk, walk + "\ncontact_share_min = 0.4", 1)
+    )
+    with pytest.raises(InputError) as err:
+        load_project(too_much)
+    assert err.value.field.endswith("contact_share_min") and "at most 1/3" in str(err.value)
+    push = '[[case]]\nname = "leg-push"'
+    on_payload = _quadruped_copy(
+        tmp_path / "c", lambda s: s.replace(push, push + "\ncontact_share_min = 0.1", 1)
+    )
+    with pytest.raises(InputError) as err:
+        load_project(on_payload)
+    assert "contact_share_min" in err.value.field

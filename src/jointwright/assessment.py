@@ -8,7 +8,7 @@ from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
-from .cautions import design_cautions
+from .cautions import design_cautions, stance_cautions
 from .design import Design, arrays_from_designs
 from .evaluate import Evaluator
 from .metrics.drive import binding_limit, envelope_uses
@@ -249,7 +249,7 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
         total_mass=design.mass,
         total_cost=design.cost,
         feasible=bool(feasible(cl, 1)[0]),
-        cautions=tuple(design_cautions(project, design)),
+        cautions=tuple(design_cautions(project, design) + stance_cautions(project, cases)),
         efficiency=efficiency,
         regions=_regions(project, results),
     )

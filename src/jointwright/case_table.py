@@ -215,6 +215,16 @@ def _load_case(
     if kind in ("payload", "stance"):
         moment = t.vector("moment", 3, (0.0, 0.0, 0.0), "torque")
         offset = t.vector("offset", 3, (0.0, 0.0, 0.0), "length")
+    share_min = 0.0
+    if kind == "stance":
+        share_min = t.quantity("contact_share_min", "dimensionless", 0.0, sign="nonnegative")
+        if share_min * len(contacts) > 1.0 + 1e-12:
+            raise InputError(
+                t.file,
+                t.field("contact_share_min"),
+                f"must be at most 1/{len(contacts)} (every one of the {len(contacts)} contacts "
+                f"takes at least this share of the total), got {share_min:g}",
+            )
     t.done()
     return Case(
         name=name,
@@ -231,6 +241,7 @@ def _load_case(
         limits=limits,
         weight_equivalent=weight,
         contacts=contacts,
+        contact_share_min=float(share_min),
         payload_mass=payload_mass,
         acceleration=acceleration,
         stroke=stroke,

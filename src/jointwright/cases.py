@@ -81,6 +81,10 @@ class Case:
     weight_equivalent: bool = False
     #: stance cases: (frame, friction coefficient, unit normal from the ground into the robot)
     contacts: tuple[tuple[str, float, tuple[float, float, float]], ...] = ()
+    #: stance cases: each contact carries at least this fraction of the contacts' total normal
+    #: force (0: any distribution, even one that leans the whole load on two diagonal feet with
+    #: no margin against tipping; at most 1/len(contacts))
+    contact_share_min: float = 0.0
     #: payload and stance cases: moment the robot exerts on the environment with the force (N·m,
     #: world-aligned axes, about the origin of ``frame``); fixed, it does not grow with the load
     moment: tuple[float, float, float] = (0.0, 0.0, 0.0)

@@ -80,3 +80,37 @@ def design_cautions(project, design) -> list[str]:
                 "pinch and crush hazard. Apply the applicable safety standards."
             )
     return out
+
+
+#: a stance contact taking less than this share of the ground force is "nearly unloaded"
+LEANING_SHARE = 0.05
+
+
+def stance_cautions(project, cases) -> list[str]:
+    """For each stance case without ``contact_share_min`` whose solution leaves some contacts
+    nearly unloaded (under :data:`LEANING_SHARE` of the vertical ground force) while others
+    carry the load: the robot balances with no margin, e.g. on two diagonal feet with the
+    centre of mass on the line between them. ``cases``: the assessment's case results (name,
+    metrics with ``normal_force:<frame>``)."""
+    by_name = {c.name: c for c in cases}
+    out = []
+    for case in project.cases:
+        if case.kind != "stance" or case.contact_share_min > 0 or case.name not in by_name:
+            continue
+        metrics = by_name[case.name].metrics
+        force = {f: metrics.get(f"normal_force:{f}", float("nan")) for f, _, _ in case.contacts}
+        total = sum(max(v, 0.0) for v in force.values())
+        if not total > 0:
+            continue
+        light = [f for f, v in force.items() if v < LEANING_SHARE * total]
+        if light and len(light) < len(force):
+            out.append(
+                f"stance case {case.name!r}: {', '.join(light)} "
+                f"{'carries' if len(light) == 1 else 'carry'} under "
+                f"{LEANING_SHARE:.0%} of the ground force ({total:.4g} N); the robot balances "
+                "on the other contacts with little or no margin against tipping, a misplaced "
+                "foot or a shifting load. To size for a spread load, set contact_share_min on "
+                "the case (each contact's least share of the total, e.g. 0.15) [common "
+                "practice]; a robot that loses balance with a load can fall on someone."
+            )
+    return out

@@ -140,8 +140,10 @@ def stance_case(
         inf = np.full(lo.shape[:-1] + (ev.held_index.size,), np.inf)
         lo, hi = np.concatenate([lo, -inf], axis=-1), np.concatenate([hi, inf], axis=-1)
     frames = pc.case.contacts
+    share = pc.case.contact_share_min
     res = solve_batch(
         actuated=rows,
+        share_min=share,
         gravity=g,
         contact_jacobians=pc.contact_J,
         normals=np.array([c[2] for c in frames]),
@@ -164,6 +166,7 @@ def stance_case(
             inf = np.full(lo.shape[:-1] + (rows.size,), np.inf)
             rigid = solve_batch(
                 actuated=rows,
+                share_min=share,
                 gravity=g,
                 contact_jacobians=pc.contact_J,
                 normals=np.array([c[2] for c in frames]),

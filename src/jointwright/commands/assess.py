@@ -6,6 +6,7 @@ import math
 from pathlib import Path
 
 import click
+from rich.markup import escape
 
 from ..assessment import assess
 from ..design import load_design
@@ -151,8 +152,8 @@ def print_assessment(a, project=None) -> None:
                 ],
             )
         )
-    for text in a.cautions:
-        con.print(f"[yellow]caution:[/yellow] {text}")
+    for text in a.cautions:  # plain text: a "[trade]" tag is not console markup
+        con.print(f"[yellow]caution:[/yellow] {escape(text)}")
 
 
 @click.command("assess")

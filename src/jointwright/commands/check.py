@@ -6,6 +6,7 @@ import math
 from pathlib import Path
 
 import click
+from rich.markup import escape
 
 from ..cases import STANDARD_GRAVITY
 from ..project import load_project
@@ -90,6 +91,8 @@ def project_summary(p, evaluator=None) -> dict:
                 # world-aligned axes
                 "offset": list(c.offset) if c.kind in ("payload", "stance") else None,
                 "moment": list(c.moment) if c.kind in ("payload", "stance") else None,
+                # each contact's least share of the total normal force (stance cases)
+                "contact_share_min": c.contact_share_min if c.kind == "stance" else None,
             }
             for c in p.cases
         ],
@@ -294,8 +297,8 @@ def command(project: Path, as_json: bool):
                 f"{k.replace('_', ' ')} {num(v, joint_units.get(k, ''))}" for k, v in lim.items()
             )
         )
-    for n in c["notes"]:
-        con.print(f"[yellow]note:[/yellow] {n}")
+    for n in c["notes"]:  # plain text: the "[trade]" tags are not console markup
+        con.print(f"[yellow]note:[/yellow] {escape(n)}")
     for j in r["unloaded"]:
         con.print(
             f"[yellow]warning:[/yellow] no case loads joint {j}: sizing would give it the "

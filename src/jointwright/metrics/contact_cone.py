@@ -135,6 +135,7 @@ class MultiContactPayload:
                 st.actuated,
                 np.isfinite(st.tau_low),
                 np.isfinite(st.tau_high),
+                np.array([st.share_min]),
             )
         )
         known = self._matrices.get(key)
@@ -156,6 +157,13 @@ class MultiContactPayload:
         ineq[0, 0] = -1.0  # s ≥ 0
         ineq[1 + np.arange(low.size), 1 + low] = -1.0  # −τ ≤ −τ_low
         ineq[1 + low.size + np.arange(high.size), 1 + high] = 1.0  # τ ≤ τ_high
+        if st.share_min > 0 and k:  # ρ·Σ_j λ_j − λ_k ≤ 0: each contact its share of the total
+            share = np.zeros((k, self._n))
+            lam = 1 + nj + 3 * np.arange(k)
+            share[:, lam] = st.share_min
+            share[np.arange(k), lam] -= 1.0
+            ineq = np.vstack([ineq, share])
+            rows += k
         a = sparse.csc_matrix(np.vstack([eq, ineq, self._soc_rows]))
         cl = self._clarabel
         cones = [cl.ZeroConeT(nv), cl.NonnegativeConeT(rows)] + [cl.SecondOrderConeT(3)] * k
@@ -189,7 +197,7 @@ class MultiContactPayload:
                 [0.0],
                 -statics.tau_low[low],
                 statics.tau_high[high],
-                np.zeros(3 * k),
+                np.zeros((k if statics.share_min > 0 else 0) + 3 * k),  # shares, cones
             ]
         )
         try:
@@ -284,13 +292,18 @@ class ContactPayloadBatch:
 
 
 def solve_batch(
-    *, actuated: Any, settings: dict[str, Any] | None = None, **arrays: Any
+    *,
+    actuated: Any,
+    share_min: float = 0.0,
+    settings: dict[str, Any] | None = None,
+    **arrays: Any,
 ) -> ContactPayloadBatch:
     """Solve the cone program for every case of broadcast batch dimensions.
 
     Parameters
     ----------
     actuated : (n_joints,) actuated row indices, shared by all cases
+    share_min : each contact's least share of the total normal force, shared by all cases
     settings : Clarabel settings, as for :class:`MultiContactPayload`
     **arrays : the array fields of :class:`ContactStatics` (gravity, contact_jacobians,
         normals, friction, payload_jacobian, payload_wrench, tau_low, tau_high), each with
@@ -332,7 +345,9 @@ def solve_batch(
         if key in seen:
             st = seen[key].with_design(**{n: cases[n][idx] for n in _DESIGN_FIELDS})
         else:
-            st = ContactStatics(**{n: cases[n][idx] for n in _CORE_NDIM}, actuated=actuated)
+            st = ContactStatics(
+                **{n: cases[n][idx] for n in _CORE_NDIM}, actuated=actuated, share_min=share_min
+            )
             seen[key] = st
         statics.append(st)
     problem = MultiContactPayload.for_statics(statics[0], settings=settings)

@@ -94,6 +94,10 @@ def _pyramid_lp(st: ContactStatics, p: int, *, inner: bool) -> ContactPayloadRes
         rows = slice(c * p, (c + 1) * p)
         a_ub[rows, nj + c] = -st.friction[c] * reach
         a_ub[rows, nj + k + c], a_ub[rows, nj + 2 * k + c] = np.cos(phi), np.sin(phi)
+    a_share = np.zeros((k if st.share_min > 0 else 0, nj + 3 * k + 1))
+    if a_share.shape[0]:  # ρ·Σ_j f_n,j − f_n,k ≤ 0: each contact its share of the total
+        a_share[:, nj : nj + k] = st.share_min
+        a_share[np.arange(k), nj + np.arange(k)] -= 1.0
     bounds = [
         (None if math.isinf(lo) else lo, None if math.isinf(hi) else hi)
         for lo, hi in zip(st.tau_low, st.tau_high, strict=True)
@@ -104,8 +108,8 @@ def _pyramid_lp(st: ContactStatics, p: int, *, inner: bool) -> ContactPayloadRes
     start = time.perf_counter()
     res = linprog(
         cost,
-        A_ub=a_ub if k else None,
-        b_ub=np.zeros(p * k) if k else None,
+        A_ub=np.vstack([a_ub, a_share]) if k else None,
+        b_ub=np.zeros(p * k + a_share.shape[0]) if k else None,
         A_eq=a_eq,
         b_eq=st.gravity,
         bounds=bounds,

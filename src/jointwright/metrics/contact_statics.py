@@ -106,6 +106,8 @@ class ContactStatics:
     payload_wrench : (m,) nonzero direction w of the wrench the payload exerts ON the robot
     tau_low, tau_high : (n_joints,) joint torque bounds, N·m (or N); ±inf for no bound
     actuated : (n_joints,) distinct row indices of the actuated coordinates in ``range(nv)``
+    share_min : every contact's normal force is at least this fraction of the contacts' total
+        (0 ≤ share_min ≤ 1/k; 0: any distribution)
     """
 
     gravity: np.ndarray
@@ -117,6 +119,7 @@ class ContactStatics:
     tau_low: np.ndarray
     tau_high: np.ndarray
     actuated: np.ndarray = field(default=None)  # type: ignore[arg-type]
+    share_min: float = 0.0
 
     def __post_init__(self) -> None:
         g = _array(self.gravity, "gravity", 1)
@@ -149,6 +152,12 @@ class ContactStatics:
             raise InputError(API_SOURCE, "payload_wrench", "must be a nonzero direction")
         act = self._actuated(nv)
         lo, hi = self._bounds(act.size)
+        share = self.share_min
+        if not (isinstance(share, (int, float)) and 0.0 <= share and share * k <= 1.0 + 1e-12):
+            raise InputError(
+                API_SOURCE, "share_min", f"must be a number in [0, 1/k] (k = {k}), got {share!r}"
+            )
+        object.__setattr__(self, "share_min", float(share))
         values = dict(
             gravity=g,
             contact_jacobians=jc,

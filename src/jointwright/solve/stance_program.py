@@ -2,8 +2,9 @@
 
 Columns [case 1 (τ, λ, ν1, ν2, s), case 2 …, m (n), t]; maximize t with t ≤ T_c(s_c) for every
 case (problem.carried_payload, affine and increasing), the statics of each case with the
-circumscribed friction pyramid, each joint's mass–torque envelopes over its candidates and the
-actuator mass budget. Built once in HiGHS (highspy); a solve changes only the torque and mass
+circumscribed friction pyramid (and each contact's least share of the normal force, when the
+case sets one), each joint's mass–torque envelopes over its candidates and the actuator mass
+budget. Built once in HiGHS (highspy); a solve changes only the torque and mass
 column bounds and starts from the previous basis. Proofs: docs/optimizer.md, item 9.
 """
 
@@ -99,6 +100,16 @@ def case_rows(pc, ev, model, lo: np.ndarray, hi: np.ndarray, candidates):
         row_lo.append(np.full(SIDES, -np.inf))
         row_hi.append(np.zeros(SIDES))
         joint_of.append(np.full(SIDES, -1))
+    share = pc.case.contact_share_min
+    if share > 0 and k:  # each contact its share of the total normal force: ρ·Σλ − λ_c ≤ 0
+        a = np.zeros((k, ncol))
+        a[:, nr : nr + k] = share
+        a[np.arange(k), nr + np.arange(k)] -= 1.0
+        own.append(a)
+        mass_part.append(np.zeros((k, n)))
+        row_lo.append(np.full(k, -np.inf))
+        row_hi.append(np.zeros(k))
+        joint_of.append(np.full(k, -1))
     for j in range(n):  # torque envelopes over each joint's candidates
         c = candidates[j]
         for side, values in ((1.0, hi[j, c]), (-1.0, -lo[j, c])):
