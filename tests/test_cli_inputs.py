@@ -1645,3 +1645,8 @@ def test_frontier_imf_on_a_fixed_base_gives_one_clear_line(examples):
         _run(["frontier", str(examples["arm"] / "project.toml"), "--measure", "imf"])
     )
     assert "imf" in message
+
+
+def test_a_project_folder_instead_of_its_file_is_named_as_such(examples):
+    line = _one_error_line(_run(["check", str(examples["leg"])]))
+    assert "is a folder" in line and "project.toml" in line

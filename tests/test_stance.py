@@ -97,7 +97,14 @@ def test_contact_share_is_read_checked_and_warned_about(quadruped, tmp_path):
     )
     p = load_project(path)
     assert p.case("walk-carry").contact_share_min == 0.01
-    assert not [c for c in assess(p, load_design(path.parent / "design.toml", p)).cautions
+    # a share under the caution's 5 % still leaves the foot nearly unloaded: still cautioned
+    assert [c for c in assess(p, load_design(path.parent / "design.toml", p)).cautions
+            if "walk-carry" in c]
+    five = _quadruped_copy(
+        tmp_path / "d", lambda s: s.replace(walk, walk + "\ncontact_share_min = 0.05", 1)
+    )
+    p = load_project(five)
+    assert not [c for c in assess(p, load_design(five.parent / "design.toml", p)).cautions
                 if "walk-carry" in c]
     too_much = _quadruped_copy(
         tmp_path / "b", lambda s: s.replace(walk, walk + "\ncontact_share_min = 0.4", 1)
@@ -111,4 +118,56 @@ def test_contact_share_is_read_checked_and_warned_about(quadruped, tmp_path):
     )
     with pytest.raises(InputError) as err:
         load_project(on_payload)
-    assert "contact_share_min" in err.value.field
+    assert "contact_share_min" in err.value.field and "only for stance cases" in str(err.value)
+
+
+def test_a_share_the_support_cannot_give_is_named_as_the_reason(quadruped, tmp_path):
+    from jointwright.assessment import assess
+
+    project, design = quadruped
+    walk = '[[case]]\nname = "walk-carry"\nkind = "stance"'
+    # three feet, the trunk's centre on the fl–hr diagonal: fr_foot cannot take 15 % of the
+    # ground force (rigid statics: the centre of pressure must stay under the centre of mass)
+    path = _quadruped_copy(tmp_path, lambda s: s.replace(walk, walk + "\ncontact_share_min = 0.15"))
+    p = load_project(path)
+    a = assess(p, load_design(path.parent / "design.toml", p))
+    walk_case = next(c for c in a.cases if c.name == "walk-carry")
+    assert walk_case.metrics["payload"] == 0.0
+    assert "at least 0.15 of the ground" in walk_case.note
+    # a share it can give binds at fr_foot and lowers the load it carries
+    light = _quadruped_copy(
+        tmp_path / "b", lambda s: s.replace(walk, walk + "\ncontact_share_min = 0.02")
+    )
+    p = load_project(light)
+    a = assess(p, load_design(light.parent / "design.toml", p))
+    shared = next(c for c in a.cases if c.name == "walk-carry").metrics
+    plain = next(c for c in assess(project, design).cases if c.name == "walk-carry").metrics
+    assert shared["contacts_at_share"] == 1
+    assert 0 < shared["payload"] < plain["payload"]
+    total = sum(shared[f"normal_force:{f}"] for f in ("fl_foot", "fr_foot", "hr_foot"))
+    assert shared["normal_force:fr_foot"] == pytest.approx(0.02 * total, rel=1e-4)
+
+
+def test_a_contact_off_the_ground_is_cautioned(quadruped, tmp_path):
+    from jointwright.assessment import assess
+
+    project, design = quadruped
+    assert not [c for c in assess(project, design).cautions if "not every contact" in c]
+
+    def lift(text):  # walk-carry's fr leg folded up: its foot leaves the ground plane
+        pose = text[text.index("[poses.stand]") : text.index("[[case]]")]
+        lifted = pose.replace("[poses.stand]", "[poses.lifted]")
+        lifted = lifted.replace('fr_hip_fe = "-40 deg"', 'fr_hip_fe = "-70 deg"')
+        lifted = lifted.replace('fr_knee = "80 deg"', 'fr_knee = "140 deg"')
+        text = text.replace(pose, pose + lifted)
+        walk = 'name = "walk-carry"\nkind = "stance"\npose = "stand"'
+        return text.replace(walk, walk.replace('"stand"', '"lifted"'))
+
+    path = _quadruped_copy(tmp_path, lift)
+    p = load_project(path)
+    warned = [
+        c
+        for c in assess(p, load_design(path.parent / "design.toml", p)).cautions
+        if "not every contact" in c
+    ]
+    assert len(warned) == 1 and "walk-carry" in warned[0] and "fr_foot" in warned[0]

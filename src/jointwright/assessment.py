@@ -8,7 +8,7 @@ from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
-from .cautions import design_cautions, stance_cautions
+from .cautions import contact_heights, design_cautions, ground_cautions, stance_cautions
 from .design import Design, arrays_from_designs
 from .evaluate import Evaluator
 from .metrics.drive import binding_limit, envelope_uses
@@ -249,7 +249,11 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
         total_mass=design.mass,
         total_cost=design.cost,
         feasible=bool(feasible(cl, 1)[0]),
-        cautions=tuple(design_cautions(project, design) + stance_cautions(project, cases)),
+        cautions=tuple(
+            design_cautions(project, design)
+            + stance_cautions(project, cases)
+            + ground_cautions(contact_heights(evaluator))
+        ),
         efficiency=efficiency,
         regions=_regions(project, results),
     )
@@ -328,6 +332,13 @@ def _zero_payload_note(project, case, metrics: dict, limiting: str | None) -> st
             "free joint holds none (make it held or actuated, or change the pose)"
         )
     if not metrics.get("self_supporting", True):
+        if case.kind == "stance" and metrics.get("holds_without_share", False):
+            return (
+                f"with every contact taking at least {case.contact_share_min:g} of the ground "
+                "force the robot cannot hold itself, though its joints hold it without that "
+                "share: the centre of mass lies too near the edge of the support for this "
+                "share (lower contact_share_min, or shift the pose over the support)"
+            )
         if case.kind == "stance" and not metrics.get("holds_with_unlimited_torque", True):
             free = (
                 f", or a free joint ({', '.join(robot.free)}) would need torque"

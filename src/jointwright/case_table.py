@@ -216,6 +216,12 @@ def _load_case(
         moment = t.vector("moment", 3, (0.0, 0.0, 0.0), "torque")
         offset = t.vector("offset", 3, (0.0, 0.0, 0.0), "length")
     share_min = 0.0
+    if kind != "stance" and t.has("contact_share_min"):
+        raise InputError(
+            t.file,
+            t.field("contact_share_min"),
+            f"only for stance cases (a load held on several contacts); this case is a {kind} case",
+        )
     if kind == "stance":
         share_min = t.quantity("contact_share_min", "dimensionless", 0.0, sign="nonnegative")
         if share_min * len(contacts) > 1.0 + 1e-12:

@@ -86,6 +86,48 @@ def design_cautions(project, design) -> list[str]:
 LEANING_SHARE = 0.05
 
 
+#: contacts further apart than this along their common normal are not on one ground plane, m
+GROUND_TOLERANCE = 0.01
+
+
+def contact_heights(evaluator) -> dict[str, dict[str, float]]:
+    """Per stance case whose contacts share one normal: each contact's height along it (m)
+    above the lowest, at the case's pose (a foot off the ground is still taken as touching)."""
+    out = {}
+    for pc in evaluator.cases:
+        case = pc.case
+        if case.kind != "stance" or pc.basis is None:
+            continue
+        normals = [n for _, _, n in case.contacts]
+        if any(max(abs(a - b) for a, b in zip(n, normals[0], strict=True)) > 1e-9 for n in normals):
+            continue
+        pos = getattr(pc.basis, "frame_positions", None)
+        if pos is None or len(pos) < len(normals) + 1:
+            continue
+        h = [
+            sum(p * n for p, n in zip(x, normals[0], strict=True))
+            for x in pos[1 : 1 + len(normals)]
+        ]
+        low = min(h)
+        out[case.name] = {f: float(v - low) for (f, _, _), v in zip(case.contacts, h, strict=True)}
+    return out
+
+
+def ground_cautions(heights: dict[str, dict[str, float]]) -> list[str]:
+    """Stance contacts that are not on one ground plane at their case's pose."""
+    out = []
+    for name, h in heights.items():
+        high = {f: v for f, v in h.items() if v > GROUND_TOLERANCE}
+        if high:
+            listed = ", ".join(f"{f} {v * 1000:.0f} mm" for f, v in high.items())
+            out.append(
+                f"stance case {name!r}: not every contact is on the ground at this pose "
+                f"({listed} above the lowest, along the contact normal); each is still taken "
+                "as touching and pushing. Check the pose or the contact list."
+            )
+    return out
+
+
 def stance_cautions(project, cases) -> list[str]:
     """For each stance case without ``contact_share_min`` whose solution leaves some contacts
     nearly unloaded (under :data:`LEANING_SHARE` of the vertical ground force) while others
@@ -95,7 +137,9 @@ def stance_cautions(project, cases) -> list[str]:
     by_name = {c.name: c for c in cases}
     out = []
     for case in project.cases:
-        if case.kind != "stance" or case.contact_share_min > 0 or case.name not in by_name:
+        if case.kind != "stance" or case.contact_share_min >= LEANING_SHARE:
+            continue
+        if case.name not in by_name:
             continue
         metrics = by_name[case.name].metrics
         force = {f: metrics.get(f"normal_force:{f}", float("nan")) for f, _, _ in case.contacts}
@@ -110,7 +154,10 @@ def stance_cautions(project, cases) -> list[str]:
                 f"{LEANING_SHARE:.0%} of the ground force ({total:.4g} N); the robot balances "
                 "on the other contacts with little or no margin against tipping, a misplaced "
                 "foot or a shifting load. To size for a spread load, set contact_share_min on "
-                "the case (each contact's least share of the total, e.g. 0.15) [common "
-                "practice]; a robot that loses balance with a load can fall on someone."
+                "the case (each contact's least share of the total, e.g. 0.1 to 0.2 [common "
+                "practice]); where the centre of mass lies on the edge of the support (three "
+                "feet of a quadruped with its trunk centred) no share is possible: shift the "
+                "pose over the support. A robot that loses balance with a load can fall on "
+                "someone."
             )
     return out

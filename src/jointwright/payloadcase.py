@@ -153,6 +153,7 @@ def stance_case(
         tau_low=lo,
         tau_high=hi,
     )
+    lo_all, hi_all = lo, hi  # with the held joints' rows
     lo, hi = lo[..., :n], hi[..., :n]
     ok = res.status == "optimal"
     payload = np.where(ok, np.nan_to_num(res.payload, nan=0.0), 0.0)
@@ -177,8 +178,28 @@ def stance_case(
                 tau_high=inf,
             )
             out["holds_with_unlimited_torque"] = rigid.status != "infeasible"
+            if share > 0:  # is it the share? the same joints, any distribution of the load
+                loose = solve_batch(
+                    actuated=rows,
+                    gravity=g,
+                    contact_jacobians=pc.contact_J,
+                    normals=np.array([c[2] for c in frames]),
+                    friction=np.array([c[1] for c in frames]),
+                    payload_jacobian=p_jac,
+                    payload_wrench=p_wrench,
+                    tau_low=lo_all,
+                    tau_high=hi_all,
+                )
+                out["holds_without_share"] = loose.status == "optimal"
         out["contact_force_z"] = res.contact_forces[..., 2]
         out["slipping_contacts"] = res.cone_binding.sum(axis=-1)
+        if share > 0:  # contacts held at their least share of the total normal force
+            normal = np.einsum(
+                "...kc,kc->...k", res.contact_forces, np.array([c[2] for c in frames])
+            )
+            total = normal.sum(axis=-1, keepdims=True)
+            at = ok[..., None] & (normal <= share * total + 1e-6 * np.maximum(1.0, total))
+            out["contacts_at_share"] = at.sum(axis=-1)
         out["joint_torque"] = res.joint_torques[..., :n]
     return out
 

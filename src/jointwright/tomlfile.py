@@ -27,6 +27,10 @@ def load_toml(path: str | Path) -> dict:
     """Parse a TOML file; a missing or malformed file raises InputError naming it."""
     path = Path(path)
     if not is_file(path):
+        if path.is_dir():
+            inside = sorted(p.name for p in path.glob("*.toml"))
+            hint = f"; it holds {', '.join(inside)}" if inside else ""
+            raise InputError(str(path), "(file)", f"is a folder: name the TOML file in it{hint}")
         raise InputError(str(path), "(file)", "file not found")
     try:
         with path.open("rb") as fh:

@@ -29,6 +29,7 @@ SHOWN = {
     "stance": [
         ("payload", "load carried at the frame (robot-level)", "N"),
         ("slipping_contacts", "contacts at the friction limit", ""),
+        ("contacts_at_share", "contacts at their least share (contact_share_min)", ""),
     ],
     "impact": [
         ("imf", "impact mitigation factor (back-driven)", ""),

@@ -45,6 +45,17 @@ def _limiting_reason(a: dict, case: dict) -> str:
     )
     gear = as_float(j["gear_peak_torque"])
     who = "it is" if mode is None else f"it is {mode} and"
+    tau = abs(as_float((case.get("metrics") or {}).get(f"joint_torque:{j['joint']}", math.nan)))
+    if mode is None and math.isfinite(tau):  # a stance case: the torque it reached says which
+        drive, hold = as_float(j["capacity_motoring"]), as_float(j["capacity_backdriven"])
+        cap = min((drive, hold), key=lambda c: abs(c - tau) if math.isfinite(c) else math.inf)
+        if math.isclose(cap, hold, rel_tol=1e-6) and not math.isclose(cap, drive, rel_tol=1e-6):
+            if not (math.isfinite(gear) and math.isclose(cap, gear, rel_tol=1e-9)):
+                return (
+                    f"it is held against the load at its holding torque ({fmt(cap, 'N·m')}, "
+                    "the motor's peak torque back-driven through the gear): a larger motor or a "
+                    "higher ratio raises the payload"
+                )
     if math.isfinite(gear) and math.isclose(cap, gear, rel_tol=1e-9):
         return (
             f"{who} at its gear torque limit (peak) ({fmt(gear, 'N·m')}): a larger "
