@@ -171,3 +171,19 @@ def test_a_contact_off_the_ground_is_cautioned(quadruped, tmp_path):
         if "not every contact" in c
     ]
     assert len(warned) == 1 and "walk-carry" in warned[0] and "fr_foot" in warned[0]
+
+
+def test_friction_use_per_foot_agrees_with_the_slipping_count(quadruped):
+    # tangential ÷ μ·normal at each foot: inside the cone (≤ 1), and 1 exactly at the feet the
+    # cone program marks as about to slip (friction cone, Coulomb's law [pub])
+    from jointwright.assessment import assess
+
+    project, design = quadruped
+    for case in assess(project, design).cases:
+        if case.kind != "stance":
+            continue
+        use = [v for k, v in case.metrics.items() if k.startswith("friction_use:")]
+        assert len(use) == len(project.case(case.name).contacts)
+        assert all(0.0 <= u <= 1.0 + 1e-6 for u in use)
+        at_limit = sum(u > 1.0 - 1e-4 for u in use)
+        assert at_limit == case.metrics["slipping_contacts"]

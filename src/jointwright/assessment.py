@@ -175,9 +175,10 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
             elif k.endswith("_limiting_joint"):
                 idx = int(v.reshape(-1)[0])
                 metrics[k] = names[idx] if idx >= 0 else None
-            elif k == "contact_force_z":
+            elif k in ("contact_force_z", "friction_use"):
+                name = "normal_force" if k == "contact_force_z" else k
                 for (frame, _, _), f in zip(case.contacts, v.reshape(-1), strict=True):
-                    metrics[f"normal_force:{frame}"] = float(f)
+                    metrics[f"{name}:{frame}"] = float(f)
             elif k == "joint_torque":
                 tau = v.reshape(-1, len(names))[0]
                 metrics.update(

@@ -141,18 +141,17 @@ def stance_case(
         lo, hi = np.concatenate([lo, -inf], axis=-1), np.concatenate([hi, inf], axis=-1)
     frames = pc.case.contacts
     share = pc.case.contact_share_min
-    res = solve_batch(
+    normals = np.array([c[2] for c in frames])
+    statics = dict(  # the pose's contacts and load: the same for every solve below
         actuated=rows,
-        share_min=share,
         gravity=g,
         contact_jacobians=pc.contact_J,
-        normals=np.array([c[2] for c in frames]),
+        normals=normals,
         friction=np.array([c[1] for c in frames]),
         payload_jacobian=p_jac,
         payload_wrench=p_wrench,
-        tau_low=lo,
-        tau_high=hi,
     )
+    res = solve_batch(**statics, share_min=share, tau_low=lo, tau_high=hi)
     lo_all, hi_all = lo, hi  # with the held joints' rows
     lo, hi = lo[..., :n], hi[..., :n]
     ok = res.status == "optimal"
@@ -165,38 +164,23 @@ def stance_case(
     if detail:
         if not np.all(ok):  # why not: is it the joints, or the contacts and balance?
             inf = np.full(lo.shape[:-1] + (rows.size,), np.inf)
-            rigid = solve_batch(
-                actuated=rows,
-                share_min=share,
-                gravity=g,
-                contact_jacobians=pc.contact_J,
-                normals=np.array([c[2] for c in frames]),
-                friction=np.array([c[1] for c in frames]),
-                payload_jacobian=p_jac,
-                payload_wrench=p_wrench,
-                tau_low=-inf,
-                tau_high=inf,
-            )
+            rigid = solve_batch(**statics, share_min=share, tau_low=-inf, tau_high=inf)
             out["holds_with_unlimited_torque"] = rigid.status != "infeasible"
             if share > 0:  # is it the share? the same joints, any distribution of the load
-                loose = solve_batch(
-                    actuated=rows,
-                    gravity=g,
-                    contact_jacobians=pc.contact_J,
-                    normals=np.array([c[2] for c in frames]),
-                    friction=np.array([c[1] for c in frames]),
-                    payload_jacobian=p_jac,
-                    payload_wrench=p_wrench,
-                    tau_low=lo_all,
-                    tau_high=hi_all,
-                )
+                loose = solve_batch(**statics, tau_low=lo_all, tau_high=hi_all)
                 out["holds_without_share"] = loose.status == "optimal"
         out["contact_force_z"] = res.contact_forces[..., 2]
         out["slipping_contacts"] = res.cone_binding.sum(axis=-1)
-        if share > 0:  # contacts held at their least share of the total normal force
-            normal = np.einsum(
-                "...kc,kc->...k", res.contact_forces, np.array([c[2] for c in frames])
+        # friction used: tangential force over μ·(normal force), 1 at the cone (about to slip)
+        f_n = np.einsum("...kc,kc->...k", res.contact_forces, normals)
+        f_t = np.linalg.norm(res.contact_forces - f_n[..., None] * normals, axis=-1)
+        mu = np.array([c[1] for c in frames])
+        with np.errstate(divide="ignore", invalid="ignore"):
+            out["friction_use"] = np.where(
+                f_t <= 1e-9 * np.maximum(1.0, f_n), 0.0, f_t / (mu * f_n)
             )
+        if share > 0:  # contacts held at their least share of the total normal force
+            normal = np.einsum("...kc,kc->...k", res.contact_forces, normals)
             total = normal.sum(axis=-1, keepdims=True)
             at = ok[..., None] & (normal <= share * total + 1e-6 * np.maximum(1.0, total))
             out["contacts_at_share"] = at.sum(axis=-1)

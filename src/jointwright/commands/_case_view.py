@@ -130,6 +130,11 @@ def print_case(con: Console, c, a, cases: dict, revolute: dict) -> None:
             for k, v in c.metrics.items()
             if k.startswith("normal_force:")
         ]
+        rows += [
+            [f"friction used at {k.split(':', 1)[1]} (tangential ÷ μ·normal)", num(v, "")]
+            for k, v in c.metrics.items()
+            if k.startswith("friction_use:")
+        ]
     if c.kind == "duty":
         joints = [j.joint for j in a.joints]
         drows = [

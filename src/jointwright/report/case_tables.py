@@ -171,6 +171,11 @@ def cases_section(a: dict, project=None) -> Section:
                 for k in c["metrics"]
                 if k.startswith("normal_force:")
             ]
+            shown += [
+                (k, f"friction used at {k.split(':', 1)[1]} (tangential ÷ μ·normal)", "")
+                for k in c["metrics"]
+                if k.startswith("friction_use:")
+            ]
         if c["kind"] == "torque" and c["name"] not in cases:
             shown += [
                 (k, f"achieved ÷ required at {k.split(':', 1)[1]}", "")
