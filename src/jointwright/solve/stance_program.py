@@ -3,9 +3,10 @@
 Columns [case 1 (τ, λ, ν1, ν2, s), case 2 …, m (n), t]; maximize t with t ≤ T_c(s_c) for every
 case (problem.carried_payload, affine and increasing), the statics of each case with the
 circumscribed friction pyramid (and each contact's least share of the normal force, when the
-case sets one), each joint's mass–torque envelopes over its candidates and the actuator mass
-budget. Built once in HiGHS (highspy); a solve changes only the torque and mass
-column bounds and starts from the previous basis. Proofs: docs/optimizer.md, item 9.
+case sets one), each joint's mass–torque envelopes over its candidates, equal masses within each
+shared group and the actuator mass budget. Built once in HiGHS (highspy); a solve changes only
+the torque and mass column bounds and starts from the previous basis. Proofs: docs/optimizer.md,
+item 9.
 """
 
 from __future__ import annotations
@@ -178,6 +179,14 @@ class StanceProgram:
                 blocks.append(a)
                 row_lo.append(np.array([-np.inf]))
                 row_hi.append(np.array([-case.fixed_load / scale]))
+                joint_of.append(np.array([-1]))
+        for group in model.shared:  # a shared group's joints carry one option: equal masses
+            for j in group[1:]:
+                a = np.zeros((1, ncol))
+                a[0, self.m_col + j], a[0, self.m_col + group[0]] = 1.0, -1.0
+                blocks.append(a)
+                row_lo.append(np.zeros(1))
+                row_hi.append(np.zeros(1))
                 joint_of.append(np.array([-1]))
         if math.isfinite(model.total_mass_max):  # Σ m ≤ budget
             a = np.zeros((1, ncol))
