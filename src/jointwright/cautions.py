@@ -129,7 +129,8 @@ def ground_cautions(heights: dict[str, dict[str, float]]) -> list[str]:
 
 
 def stance_cautions(project, cases) -> list[str]:
-    """For each stance case without ``contact_share_min`` whose solution leaves some contacts
+    """For each stance case with no ``contact_share_min`` (or one under :data:`LEANING_SHARE`)
+    whose solution leaves some contacts
     nearly unloaded (under :data:`LEANING_SHARE` of the vertical ground force) while others
     carry the load: the robot balances with no margin, e.g. on two diagonal feet with the
     centre of mass on the line between them. ``cases``: the assessment's case results (name,

@@ -1,0 +1,38 @@
+"""The report's sentence on why the limiting joint of a payload or stance case stops.
+
+Reference: the transmission law of DEVELOPERS.md (motoring τ_j = η_f·N·τ_m, back-driven
+τ_j = N·τ_m/η_b, both capped by the gear's peak rating): a joint held against its load stops at
+its holding torque, or at the gear rating when that is lower [pub, gear efficiency]."""
+
+from __future__ import annotations
+
+from jointwright.report.outcome import _limiting_reason
+
+
+def _assessment(hold: float, gear: float) -> dict:
+    joint = {
+        "joint": "knee",
+        "capacity_motoring": 20.0,
+        "capacity_backdriven": hold,
+        "gear_peak_torque": gear,
+    }
+    return {"joints": [joint]}
+
+
+def _stance(torque: float) -> dict:
+    return {"limiting_joint": "knee", "joint_modes": None, "metrics": {"joint_torque:knee": torque}}
+
+
+def test_a_stance_joint_held_at_its_holding_torque():
+    text = _limiting_reason(_assessment(hold=25.0, gear=40.0), _stance(-25.0))
+    assert "holding torque (25 N·m" in text
+
+
+def test_a_stance_joint_held_at_its_gear_rating():
+    text = _limiting_reason(_assessment(hold=28.0, gear=28.0), _stance(-28.0))
+    assert "gear torque limit" in text and "larger motor or ratio does not" in text
+
+
+def test_a_stance_joint_driving_at_its_drive_torque():
+    text = _limiting_reason(_assessment(hold=25.0, gear=40.0), _stance(20.0))
+    assert "drive torque (20 N·m)" in text
