@@ -6,6 +6,8 @@ crosses 0, gear shock and gear life).
 
 from __future__ import annotations
 
+import numpy as np
+
 CAUTION = (
     "Concept-stage sizing aid. Verify every selection against the supplier's data and by test. "
     "A self-locking or high-ratio joint can trap or crush; apply the applicable machinery and "
@@ -98,18 +100,12 @@ def contact_heights(evaluator) -> dict[str, dict[str, float]]:
         case = pc.case
         if case.kind != "stance" or pc.basis is None:
             continue
-        normals = [n for _, _, n in case.contacts]
-        if any(max(abs(a - b) for a, b in zip(n, normals[0], strict=True)) > 1e-9 for n in normals):
+        normals = np.array([n for _, _, n in case.contacts])
+        if not np.allclose(normals, normals[0], rtol=0.0, atol=1e-9):
             continue
-        pos = getattr(pc.basis, "frame_positions", None)
-        if pos is None or len(pos) < len(normals) + 1:
-            continue
-        h = [
-            sum(p * n for p, n in zip(x, normals[0], strict=True))
-            for x in pos[1 : 1 + len(normals)]
-        ]
-        low = min(h)
-        out[case.name] = {f: float(v - low) for (f, _, _), v in zip(case.contacts, h, strict=True)}
+        h = pc.basis.frame_positions[1 : 1 + len(normals)] @ normals[0]  # contacts follow frame
+        h = h - h.min()
+        out[case.name] = {f: float(v) for (f, _, _), v in zip(case.contacts, h, strict=True)}
     return out
 
 

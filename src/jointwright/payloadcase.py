@@ -174,15 +174,13 @@ def stance_case(
         # friction used: tangential force over μ·(normal force), 1 at the cone (about to slip)
         f_n = np.einsum("...kc,kc->...k", res.contact_forces, normals)
         f_t = np.linalg.norm(res.contact_forces - f_n[..., None] * normals, axis=-1)
-        mu = np.array([c[1] for c in frames])
         with np.errstate(divide="ignore", invalid="ignore"):
             out["friction_use"] = np.where(
-                f_t <= 1e-9 * np.maximum(1.0, f_n), 0.0, f_t / (mu * f_n)
+                f_t <= 1e-9 * np.maximum(1.0, f_n), 0.0, f_t / (statics["friction"] * f_n)
             )
         if share > 0:  # contacts held at their least share of the total normal force
-            normal = np.einsum("...kc,kc->...k", res.contact_forces, normals)
-            total = normal.sum(axis=-1, keepdims=True)
-            at = ok[..., None] & (normal <= share * total + 1e-6 * np.maximum(1.0, total))
+            total = f_n.sum(axis=-1, keepdims=True)
+            at = ok[..., None] & (f_n <= share * total + 1e-6 * np.maximum(1.0, total))
             out["contacts_at_share"] = at.sum(axis=-1)
         out["joint_torque"] = res.joint_torques[..., :n]
     return out

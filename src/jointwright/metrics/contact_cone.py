@@ -21,6 +21,7 @@ from ..errors import InputError
 from .contact_result import (
     ACTIVE_RTOL,
     ContactPayloadResult,
+    contact_forces,
     failed_result,
     torque_activity,
 )
@@ -167,7 +168,7 @@ class MultiContactPayload:
         a = sparse.csc_matrix(np.vstack([eq, ineq, self._soc_rows]))
         cl = self._clarabel
         cones = [cl.ZeroConeT(nv), cl.NonnegativeConeT(rows)] + [cl.SecondOrderConeT(3)] * k
-        basis = tangent_basis(st.normals) if k else (np.zeros((0, 3)),) * 3
+        basis = tangent_basis(st.normals) if k else None
         if len(self._matrices) >= MATRICES_KEPT:
             self._matrices.pop(next(iter(self._matrices)))  # the oldest
         self._matrices[key] = out = (a, cones, low, high, basis)
@@ -226,9 +227,7 @@ class MultiContactPayload:
         mult_hi[high] = z[nv + 1 + low.size : nv + 1 + low.size + high.size]
         cone = x[1 + nj :].reshape(k, 3)
         lam, nu1, nu2 = cone[:, 0], cone[:, 1], cone[:, 2]
-        t1, t2, n = basis
-        mu = st.friction
-        forces = lam[:, None] * n + (mu * nu1)[:, None] * t1 + (mu * nu2)[:, None] * t2
+        forces = contact_forces(st, lam, st.friction * nu1, st.friction * nu2, basis)
         tol = ACTIVE_RTOL * max(1.0, float(np.max(lam, initial=0.0)))
         unloaded = lam <= tol
         slip = (st.friction > 0) & ~unloaded & (lam - np.hypot(nu1, nu2) <= tol)

@@ -97,10 +97,11 @@ def torque_activity(st: ContactStatics, tau: np.ndarray) -> tuple[np.ndarray, np
 
 
 def contact_forces(
-    st: ContactStatics, normal: np.ndarray, tan1: np.ndarray, tan2: np.ndarray
+    st: ContactStatics, normal: np.ndarray, tan1: np.ndarray, tan2: np.ndarray, basis=None
 ) -> np.ndarray:
-    """World-aligned contact forces (k, 3) from components along n, t1, t2 (N)."""
+    """World-aligned contact forces (k, 3) from components along n, t1, t2 (N); ``basis``:
+    :func:`tangent_basis` of ``st.normals`` when the caller has it already."""
     if not normal.size:
         return np.zeros((0, 3))
-    t1, t2, n = tangent_basis(st.normals)
+    t1, t2, n = tangent_basis(st.normals) if basis is None else basis
     return normal[:, None] * n + tan1[:, None] * t1 + tan2[:, None] * t2
