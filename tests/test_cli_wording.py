@@ -379,9 +379,11 @@ def test_region_poses_fold_into_their_worst_pose():
 
 
 def test_a_stroke_speed_case_says_which_speed_is_which(leg_project, capsys, monkeypatch):
-    """The leg's swing has a 0.1 m stroke: the speed reached at its end is the requirement's;
-    the loaded steady speed is what the motors could sustain with no stroke limit and must not
-    read as the foot's speed (terminal and report say the same)."""
+    """The leg's swing has a 0.1 m stroke: the speed reached at its end is the requirement's and
+    the only speed in the table. The loaded steady speed (the ceiling of the motion linearized
+    at the pose, tens of m/s on a sized arm) and the no-load speed are not speeds the foot
+    reaches: no table row shows them; one note says what lies beyond the stroke (terminal and
+    report say the same)."""
     from importlib import resources
 
     from jointwright.assessment import assess
@@ -389,6 +391,7 @@ def test_a_stroke_speed_case_says_which_speed_is_which(leg_project, capsys, monk
     from jointwright.commands.assess import print_assessment
     from jointwright.design import load_design
     from jointwright.report.case_tables import cases_section
+    from jointwright.units import format_number
 
     with resources.as_file(resources.files("jointwright.examples") / "leg" / "design.toml") as p:
         design = load_design(p, leg_project)
@@ -399,13 +402,15 @@ def test_a_stroke_speed_case_says_which_speed_is_which(leg_project, capsys, monk
     monkeypatch.setattr(_format, "_console", None)
     print_assessment(a, leg_project)
     out = capsys.readouterr().out
+    steady = format_number(swing.metrics["speed_steady"], 4)
     assert "end-point speed at the end of the stroke, with the load" in out
-    assert "speed the motors could sustain with an unlimited stroke" in out
-    assert "steady speed with no stroke limit" not in out
-    if swing.metrics.get("envelope_limit"):
-        assert "envelope at the speed it could sustain with an unlimited stroke" in out
+    for gone in ("unlimited stroke", "no-load speed", "steady speed with no stroke limit"):
+        assert gone not in out
+    assert f"beyond the stroke the motors would keep accelerating toward {steady} m/s" in out
+    assert "not a speed it reaches" in out
     body = cases_section(a.to_dict(), leg_project).body
-    assert "speed the motors could sustain with an unlimited stroke" in body
+    assert "unlimited stroke" not in body
+    assert f"toward {steady} m/s" in body and "not a speed it reaches" in body
     assert "time to cover the stroke from rest" in body
 
 

@@ -9,6 +9,7 @@ from rich.console import Console
 
 from ..dutycase import DUTY_QUANTITIES
 from ..report.wording import (
+    beyond_stroke,
     envelope_speed,
     limiting_quantity_text,
     modes_text,
@@ -50,10 +51,8 @@ SHOWN = {
     "backdrive": [("backdrive_force", "force to back-drive, unpowered", "N")],
     "speed": [
         ("speed", "end-point speed carrying the case's load", "m/s"),
-        ("speed_steady", "speed the motors could sustain with an unlimited stroke", "m/s"),
         ("stroke_time", "time to cover the stroke from rest", "s"),
         ("acceleration", "acceleration along the direction from rest, with the load", "m/s²"),
-        ("speed_no_load", "no-load speed (motor top speed / ratio; for reference only)", "m/s"),
     ],
     "torque": [("torque_ratio", "smallest achieved ÷ required joint torque", "")],
     "duty": [
@@ -153,7 +152,8 @@ def print_case(con: Console, c, a, cases: dict, revolute: dict) -> None:
                     f"{num(torque, 'N·m')} ({num(_scaled(use, 100.0), '%')} of momentary)",
                 ]
             )
-    if c.metrics.get("envelope_limit"):
+    beyond = beyond_stroke(c.metrics)
+    if c.metrics.get("envelope_limit") and not beyond:
         rows.append(
             [f"motor at its envelope {envelope_speed(c.metrics)}", c.metrics["envelope_limit"]]
         )
@@ -162,6 +162,8 @@ def print_case(con: Console, c, a, cases: dict, revolute: dict) -> None:
     elif c.limiting_joint and c.kind == "speed":
         # the checked figure's joint; the envelope row above names the sustained speed's
         extra.append(f"the checked end-point speed is limited by {c.limiting_joint}")
+    if beyond:
+        extra.append(beyond)
     elif c.limiting_joint:
         extra.append(f"limited by {c.limiting_joint}")
     if c.joint_modes:

@@ -14,6 +14,7 @@ from .markup import (
     table,
 )
 from .wording import (
+    beyond_stroke,
     envelope_speed,
     limiting_quantity_text,
     modes_text,
@@ -49,9 +50,8 @@ CASE_METRICS = {
     "backdrive": (("backdrive_force", "tip force that starts the unpowered robot moving", "N"),),
     "speed": (
         ("speed", "end-point speed along the direction", "m/s"),
-        # with a stroke (the rows are absent without one): what the motors could sustain
-        # beyond it, and the time the stroke takes
-        ("speed_steady", "… speed the motors could sustain with an unlimited stroke", "m/s"),
+        # with a stroke (the row is absent without one): the time it takes; what lies beyond
+        # it is a note (wording.beyond_stroke), not a result
         ("stroke_time", "… time to cover the stroke from rest", "s"),
     ),
     "torque": (("torque_ratio", "smallest achieved ÷ required joint torque", ""),),
@@ -98,7 +98,10 @@ def _case_notes(c: dict) -> list[str]:
         notes.append(f"limited by {c['limiting_joint']}")
     if c.get("joint_modes"):
         notes.append("modes: " + modes_text(c["joint_modes"]))
-    if c["metrics"].get("envelope_limit"):
+    beyond = beyond_stroke(c["metrics"])
+    if beyond:
+        notes.append(beyond)
+    elif c["metrics"].get("envelope_limit"):
         notes.append(
             f"motor at its envelope {envelope_speed(c['metrics'])}: "
             f"{c['metrics']['envelope_limit']}"

@@ -43,11 +43,30 @@ def objective_change(kind: str, loss, unit: str = "", *, minus: str = "−") -> 
 
 
 def envelope_speed(metrics: dict) -> str:
-    """Where a speed case's motor meets its torque-speed envelope, in words: at the steady speed,
-    which with a stroke is the speed the motors could sustain beyond it, not the one reached."""
-    if metrics.get("speed_steady") is not None:
-        return "at the speed it could sustain with an unlimited stroke"
+    """Where a speed case's motor meets its torque-speed envelope, in words (a case without a
+    stroke: at the steady speed it checks; with a stroke see :func:`beyond_stroke`)."""
     return "at steady speed"
+
+
+def beyond_stroke(metrics: dict, *, minus: str = "-") -> str:
+    """A speed case with a stroke: what lies beyond it, in one sentence ("" without a stroke).
+
+    The motors' steady speed at the case's pose is the ceiling of the motion linearized there
+    (the Jacobian held at the pose). A stroke long enough to reach it would carry the robot far
+    out of the pose, so it is not a speed the robot reaches: a direct-drive wrist at a short
+    lever gives tens of m/s. It is kept out of the metric table, where it read as a result."""
+    steady = metrics.get("speed_steady")
+    if steady is None:
+        return ""
+    text = (
+        f"beyond the stroke the motors would keep accelerating toward "
+        f"{format_number(steady, 4, minus=minus)} m/s, the ceiling of the motion linearized at "
+        "this pose (the robot leaves the pose long before: not a speed it reaches)"
+    )
+    joint, _sep, part = str(metrics.get("envelope_limit") or "").partition(": ")
+    if part:
+        text += f"; there {joint}'s motor is at its envelope ({part})"
+    return text
 
 
 #: modes in the order a reader scans them: the joints doing work first
