@@ -126,3 +126,39 @@ def test_frontier_without_a_measure_takes_the_one_the_base_allows(tmp_path):
     r = runner.invoke(main, ["frontier", str(tmp_path / "arm" / "project.toml"), *args])
     assert r.exit_code == 0, r.output
     assert json.loads(out.read_text())["measure"] == "effective_mass"
+
+
+def test_points_beyond_the_projects_own_limit_are_marked(capsys):
+    """The frontier drops the project's limit on its measure to show the whole trade-off; a
+    point that misses that limit is marked † with the limit in the caption, so the strongest
+    end is not read as a design that meets the project (a larger payload than `size` proves
+    under the limit). Limits from the bundled arm: effective mass at most 4 kg in
+    side-collision, total actuator mass at most 6.5 kg."""
+    from types import SimpleNamespace
+
+    from jointwright.commands import _format
+    from jointwright.commands.frontier import beyond_limit, own_limit, print_frontier
+    from jointwright.frontier_result import Frontier, FrontierPoint
+    from jointwright.project import load_example
+
+    arm = load_example("arm")
+    em = SimpleNamespace(measure="effective_mass", case="side-collision", sense="max")
+    assert own_limit(arm, em) == pytest.approx(4.0)
+    assert own_limit(arm, SimpleNamespace(measure="mass", case=None, sense="max")) == 6.5
+    assert own_limit(arm, SimpleNamespace(measure="cost", case=None, sense="max")) is None
+    assert beyond_limit(em, SimpleNamespace(measure=4.5), 4.0)
+    assert not beyond_limit(em, SimpleNamespace(measure=4.0), 4.0)
+    imf = SimpleNamespace(measure="imf", sense="min")
+    assert beyond_limit(imf, SimpleNamespace(measure=0.2), 0.3)
+    assert not beyond_limit(imf, SimpleNamespace(measure=0.2), None)
+    design = SimpleNamespace(joints=(), actuators=(), cost=0.0)
+    points = tuple(
+        FrontierPoint(payload=p, measure=m, design=design, mass=1.0, changes=())
+        for p, m in ((12.0, 5.0), (11.0, 3.0))
+    )
+    f = Frontier("effective_mass", "side-collision", "max", points, True, None, 1.0, 2)
+    _format._console = None
+    print_frontier(f, (), 4.0)
+    out = capsys.readouterr().out
+    assert "1 †" in out and "2 †" not in out
+    assert "† beyond the project's own limit on effective_mass (4 kg)" in " ".join(out.split())

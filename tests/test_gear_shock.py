@@ -247,3 +247,53 @@ def test_frontier_points_carry_their_gear_shock_use():
         worst = max(c.metrics["shock_use"] for c in a.cases if "shock_use" in c.metrics)
         assert p.shock_use == pytest.approx(worst, rel=1e-12)
     assert f.to_dict()["points"][0]["shock_use"] == pytest.approx(f.points[0].shock_use)
+
+
+def test_an_unrated_stage_is_filtered_out_under_a_shock_limit(tmp_path):
+    """A stage stating no momentary rating has an unknown shock use, which the check counts as
+    missed whatever the rest of the design: the per-joint filter drops exactly those options
+    (a direct drive has no gear and stays), so a catalog with no rated stage ends at once in
+    "no option can meet every requirement" instead of a search to the time limit."""
+    from jointwright.design import arrays_from_designs
+    from jointwright.evaluate import Evaluator
+    from jointwright.options import build_table, joint_candidates
+
+    (tmp_path / "catalog.toml").write_text(
+        CATALOG.replace('rated_momentary_torque = "{momentary} N*m"\n', ""), encoding="utf-8"
+    )
+    path = tmp_path / "project.toml"
+    path.write_text(PROJECT.replace("{extra}", SHOCK), encoding="utf-8")
+    p = load_project(path)
+    table = build_table(p)
+    cands = joint_candidates(p, table, Evaluator(p))
+    kept = set(cands.index[0].tolist())
+    label = "shock_use_max (bump): no momentary rating"
+    geared = [k for k, a in enumerate(table.actuators) if a.stages]
+    assert geared and cands.removed[0][label] == len(geared)
+    assert not kept & set(geared)
+    assert all(not table.actuators[k].stages for k in kept)
+    # the evaluator agrees: a geared option's shock use is unknown (counted as infinite)
+    ev = Evaluator(p).evaluate(arrays_from_designs([_design(p)]))
+    assert np.isinf(ev["bump"]["shock_use"][0])
+
+
+def test_the_outcome_names_an_unrated_stage_as_unrated(tmp_path):
+    """The report's outcome sentence: with no momentary rating the joint's share is unknown and
+    it is named as unrated, with the largest gear torque (52 N·m, the closed form above), never
+    as "the largest share" of a rating that does not exist."""
+    from jointwright.report.outcome import _shock_words
+
+    (tmp_path / "catalog.toml").write_text(
+        CATALOG.replace('rated_momentary_torque = "{momentary} N*m"\n', ""), encoding="utf-8"
+    )
+    path = tmp_path / "project.toml"
+    path.write_text(PROJECT.replace("{extra}", SHOCK), encoding="utf-8")
+    p = load_project(path)
+    bump = next(c for c in assess(p, _design(p)).to_dict()["cases"] if c["name"] == "bump")
+    text = _shock_words(bump["metrics"])
+    assert "largest gear torque is 52 N·m, at q" in text
+    assert "the stages of q state no momentary" in text and "largest share" not in text
+    (tmp_path / "r").mkdir()
+    rated = _project(tmp_path / "r")
+    bump = next(c for c in assess(rated, _design(rated)).to_dict()["cases"] if c["name"] == "bump")
+    assert "gear teeth of q take the largest share" in _shock_words(bump["metrics"])

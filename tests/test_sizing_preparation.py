@@ -65,8 +65,9 @@ def test_tightening_stopped_between_pieces_keeps_the_pieces_not_judged(leg, monk
     monkeypatch.setattr(sizing, "TIGHTEN_CHUNK", 8)
     ticks = iter(range(10**6))
     monkeypatch.setattr(sizing.time, "perf_counter", lambda: float(next(ticks)))
-    # reads: before the first unit (0), before its first piece (1), before its second (2) ...
-    sizing.tighten(model, units_of(model.n, []), deadline=1.5)
+    # reads: before the round (0), before the first unit (1), before its first piece (2), before
+    # its second (3) ...
+    sizing.tighten(model, units_of(model.n, []), deadline=2.5)
     cut = False
     for j, (f, m, t) in enumerate(zip(filtered, model.candidates, full.candidates, strict=True)):
         assert set(t) <= set(m) <= set(f)

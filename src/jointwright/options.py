@@ -309,6 +309,19 @@ def _speed_masks(evaluator, table: OptionTable) -> list[tuple[int, str, np.ndarr
     return out
 
 
+def _shock_masks(project, table: OptionTable) -> list[tuple[str, np.ndarray]]:
+    """(label, keep mask) per impact case with ``shock_use_max``: an option whose stages state
+    no momentary rating (NaN) has an unknown shock use, which the evaluator counts as missing
+    the limit at every joint whatever the rest of the design (impactcase.gear_shock); direct
+    drive (no gear, rating +inf) passes."""
+    rated = ~np.isnan(table.rows["gear_momentary_torque"])
+    return [
+        (f"shock_use_max ({c.name}): no momentary rating", rated)
+        for c in project.cases
+        if c.kind == "impact" and "shock_use_max" in c.limits
+    ]
+
+
 def joint_candidates(
     project, table: OptionTable, evaluator, pins: dict | None = None
 ) -> JointCandidates:
@@ -329,6 +342,7 @@ def joint_candidates(
 
     pins = pins or {}
     speed = _speed_masks(evaluator, table) + life_masks(project, table, evaluator)
+    shock = _shock_masks(project, table)
     index, removed = [], []
     for j, name in enumerate(project.robot.actuated):
         keep = np.ones(len(table), dtype=bool)
@@ -346,7 +360,7 @@ def joint_candidates(
                     ),
                 )
             )
-        masks += _joint_limit_masks(project, table, name)
+        masks += _joint_limit_masks(project, table, name) + shock
         masks += [(label, m) for jj, label, m in speed if jj == j]
         for label, m in masks:
             counts[label] = counts.get(label, 0) + int(np.count_nonzero(keep & ~m))

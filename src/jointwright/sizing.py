@@ -88,6 +88,8 @@ def tighten(model: SizingModel, units: list[tuple], rounds: int = 10, deadline=N
     root = np.full(model.n, -1, dtype=np.int64)
     for _ in range(rounds):
         changed = False
+        if deadline is not None and time.perf_counter() > deadline:
+            return
         # statistics of the candidates at the start of the round: a superset of the current
         # ones, so every bound from them still holds for every completion
         st = model.stats(model.candidates)

@@ -81,6 +81,15 @@ def _gear_rows(c, joints) -> list:
     return [r for r in DUTY_GEAR if any(known(c.metrics.get(f"{r[0]}:{j}")) for j in joints)]
 
 
+def _unrated_joints(c) -> list[str]:
+    """The joints of an impact case whose stages state no momentary rating (shock use NaN)."""
+    return [
+        k.split(":", 1)[1]
+        for k, v in c.metrics.items()
+        if k.startswith("shock_use_joint:") and isinstance(v, float) and math.isnan(v)
+    ]
+
+
 def _scaled(value, scale: float):
     return (
         value * scale if isinstance(value, (int, float)) and not isinstance(value, bool) else value
@@ -97,6 +106,10 @@ def print_case(con: Console, c, a, cases: dict, revolute: dict) -> None:
             label = "end-point speed at the end of the stroke, with the load"
         if key in c.metrics and c.metrics[key] is not None:
             value = c.metrics[key]
+            unrated = _unrated_joints(c) if key == "shock_use" else []
+            if unrated:  # an unknown share is not an infinite one
+                rows.append([label, f"unknown: no momentary rating at {', '.join(unrated)}"])
+                continue
             if unit == "%":  # a fraction shown in per cent, as in the requirements table
                 value = _scaled(value, 100.0)
             rows.append([label, num(value, unit)])
@@ -146,11 +159,14 @@ def print_case(con: Console, c, a, cases: dict, revolute: dict) -> None:
         for j in a.joints:
             torque = c.metrics.get(f"shock_torque:{j.joint}")
             use = c.metrics.get(f"shock_use_joint:{j.joint}")
+            if not j.stages:
+                share = "direct drive: no gear"
+            elif isinstance(use, float) and math.isnan(use):
+                share = "no momentary rating"
+            else:
+                share = f"{num(_scaled(use, 100.0), '%')} of momentary"
             rows.append(
-                [
-                    f"peak gear torque at the impact, {j.joint}",
-                    f"{num(torque, 'N·m')} ({num(_scaled(use, 100.0), '%')} of momentary)",
-                ]
+                [f"peak gear torque at the impact, {j.joint}", f"{num(torque, 'N·m')} ({share})"]
             )
     beyond = beyond_stroke(c.metrics)
     if c.metrics.get("envelope_limit") and not beyond:

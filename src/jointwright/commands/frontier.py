@@ -4,6 +4,7 @@ or cost, exactly."""
 from __future__ import annotations
 
 import json
+import math
 from pathlib import Path
 
 import click
@@ -46,9 +47,32 @@ def _grouped(rows: list, shared) -> list:
     return out
 
 
-def print_frontier(f, shared=()) -> None:
+def own_limit(project, f) -> float | None:
+    """The project's own limit on the frontier's measure (the frontier drops it to show the
+    whole trade-off), or None when the project sets none."""
+    from ..frontier_result import MEASURES
+
+    kind, key, _metric, _sense = MEASURES[f.measure]
+    if kind is None:
+        value = getattr(project.requirements, key, None)
+    else:
+        value = project.case(f.case).limits.get(key) if f.case is not None else None
+    return float(value) if value is not None and math.isfinite(float(value)) else None
+
+
+def beyond_limit(f, p, limit: float | None) -> bool:
+    """Whether front point ``p`` misses the project's own ``limit`` on the measure."""
+    if limit is None:
+        return False
+    if f.sense == "max":  # smaller is better: a limit from above
+        return p.measure > limit * (1 + 1e-9) + 1e-12
+    return p.measure < limit * (1 - 1e-9) - 1e-12
+
+
+def print_frontier(f, shared=(), limit: float | None = None) -> None:
     """The frontier as text; ``shared``: the project's groups of joints that share one actuator
-    (each shown once, as its first joint with the count of the others)."""
+    (each shown once, as its first joint with the count of the others); ``limit``: the
+    project's own limit on the measure (:func:`own_limit`), whose misses are marked."""
     con = console()
     con.print(
         f"[bold]frontier[/bold]: payload versus {measure_name(f)}{at_case(f)} "
@@ -66,7 +90,11 @@ def print_frontier(f, shared=()) -> None:
     costs = f.measure != "cost" and any(p.design.cost > 0 for p in f.points)
     shock = any(p.shock_use is not None for p in f.points)  # an impact case states a speed
     for i, p in enumerate(f.points):
-        mark = (" ◆" if i == f.knee else "") + ("" if p.proven else " (not proven)")
+        mark = (
+            (" ◆" if i == f.knee else "")
+            + (" †" if beyond_limit(f, p, limit) else "")
+            + ("" if p.proven else " (not proven)")
+        )
         changed = _grouped(list(p.changed or tuple((j, "?", "?") for j in p.changes)), shared)
         rows.append(
             [
@@ -99,6 +127,13 @@ def print_frontier(f, shared=()) -> None:
             "; gear shock: the largest peak gear torque at the project's impacts over the stage's "
             "momentary rating (over 100 % the gear is expected to break)"
             if shock
+            else ""
+        )
+        + (
+            f"; † beyond the project's own limit on {f.measure} "
+            f"({num(limit, UNITS[f.measure])}): the frontier drops that limit to show the whole "
+            "trade-off, so such a point does not meet the project"
+            if any(beyond_limit(f, p, limit) for p in f.points)
             else ""
         )
         + (
@@ -262,7 +297,7 @@ def command(
     if as_json:
         emit_json(data)
     else:
-        print_frontier(f, read_objective(p)["shared"])
+        print_frontier(f, read_objective(p)["shared"], own_limit(p, f))
         if ideal is not None:
             con = console()
             con.print(

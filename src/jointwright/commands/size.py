@@ -207,7 +207,10 @@ def print_result(r, project=None) -> None:
                 ["requirement", "limit", "best alone", "margin alone", "optimum without it"],
                 rows,
                 caption=(
-                    "margin alone < 0: no design meets it even ignoring every other requirement"
+                    "margin alone < 0: no design meets it even ignoring every other requirement; "
+                    "— : its best alone is not computed (no closed form: gear shock use, "
+                    "directional IMF, gear life, or no time left): the last column still says "
+                    "whether dropping it makes the project feasible"
                 ),
             )
         )

@@ -85,18 +85,54 @@ def _impact_words(case: dict) -> str:
 
 
 def _shock_words(m: dict) -> str:
-    """The landing or collision shock on the gears, when the case states an impact speed."""
+    """The landing or collision shock on the gears, when the case states an impact speed. A
+    stage with no momentary rating has an unknown share (its joint is named as unrated, never
+    as the one taking the largest share); the largest torque is then named on its own."""
     use = m.get("shock_use")
     if use is None and "shock_limiting_joint" not in m:
         return ""
+    note = (
+        " (docs/metrics.md, gear shock; a rigid contact and an undamped gear spring, an "
+        "estimate to verify by test)."
+    )
+    torques = {k.split(":", 1)[1]: v for k, v in m.items() if k.startswith("shock_torque:")}
+    unrated = [j for j in torques if _unknown(m.get(f"shock_use_joint:{j}"))]
+    if unrated:
+        rated = {j: m.get(f"shock_use_joint:{j}") for j in torques if j not in unrated}
+        top = max(torques, key=lambda j: _value(torques[j]))
+        text = (
+            f" At its impact speed the largest gear torque is {fmt(torques[top], 'N·m')}, at "
+            f"{top}; the stages of {', '.join(unrated)} state no momentary (emergency-stop) "
+            "rating, so their share of it is unknown"
+        )
+        if any(_value(u) > 0 for u in rated.values()):
+            worst = max(rated, key=lambda j: _value(rated[j]))
+            text += (
+                f"; of the rated ones {worst} takes the largest share, "
+                f"{fmt(100.0 * _value(rated[worst]), '%')}"
+            )
+        return text + note
     who = m.get("shock_limiting_joint") or "—"
     torque = m.get(f"shock_torque:{who}")
     use = 100.0 * use if isinstance(use, (int, float)) and not isinstance(use, bool) else use
     return (
         f" At its impact speed the gear teeth of {who} take the largest share of their momentary "
-        f"(emergency-stop) rating: {fmt(torque, 'N·m')}, {fmt(use, '%')} (docs/metrics.md, gear "
-        "shock; a rigid contact and an undamped gear spring, an estimate to verify by test)."
+        f"(emergency-stop) rating: {fmt(torque, 'N·m')}, {fmt(use, '%')}" + note
     )
+
+
+def _unknown(value) -> bool:
+    """A per-joint shock use that is not a number: an unrated stage (NaN, or None in JSON)."""
+    return value is None or (isinstance(value, float) and math.isnan(value)) or value == "nan"
+
+
+def _value(value) -> float:
+    """A metric as a float for ordering (unknown and non-numbers lowest)."""
+    try:
+        out = float(value)
+    except (TypeError, ValueError):
+        return -math.inf
+    return -math.inf if math.isnan(out) else out
 
 
 def _payload_words(a: dict, project) -> list[str]:

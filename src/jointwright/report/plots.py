@@ -165,6 +165,12 @@ def _sensitivity_table(sens, columns, titles, units) -> str:
             row = [joint, fname]
             for k in columns:
                 low, high = sens.values[k][j, f]
+                if k == "payload" and min(low, high) <= 0 < sens.base[k]:
+                    # below every case's fixed load: no payload, not a negative mass
+                    low_t = "none" if low <= 0 else number(low)
+                    high_t = "none" if high <= 0 else fmt(high, units[k])
+                    row.append(Cell(f"{low_t} / {high_t}", "num"))
+                    continue
                 row.append(Cell(f"{number(low)} / {fmt(high, units[k])}", "num"))
             # a move past the efficiency's range stops at its end (sweeps.efficiency_sensitivity)
             ends = ("0.01", "1") if f == 0 else ("−∞", "1")
@@ -180,7 +186,8 @@ def _sensitivity_table(sens, columns, titles, units) -> str:
     return table(
         ["joint", "efficiency"] + [titles[k] for k in columns] + ["note"],
         rows,
-        caption=f"Each cell: value with the efficiency −{pts} / +{pts} points. "
+        caption=f"Each cell: value with the efficiency −{pts} / +{pts} points; none: no "
+        "payload at all (a case no longer carries its own fixed load). "
         f"Design values: {base}.",
     )
 

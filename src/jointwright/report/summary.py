@@ -222,11 +222,15 @@ def payload_sensitivity(sens) -> dict | None:
     rel = np.abs(np.asarray(sens.values["payload"], dtype=float) - base) / abs(base)
     rel = np.where(np.isfinite(rel), rel, 0.0)
     j, f, _s = np.unravel_index(int(np.argmax(rel)), rel.shape)
+    moved = float(np.asarray(sens.values["payload"], dtype=float)[j, f, _s])
     return {
         "points": round(100 * sens.step),
         "change": float(rel[j, f, _s]),
         "joint": sens.joints[j],
         "efficiency": ("η_f", "η_b")[f],
+        # the move leaves no payload: some case no longer carries its own fixed load
+        "loses": bool(base > 0 and moved <= 0),
+        "sign": "−+"[_s],
     }
 
 
@@ -241,6 +245,13 @@ def sensitivity_risk(s: dict) -> str:
             f"Efficiency assumption: moving any one gear efficiency by ±{s['points']} points "
             "leaves the payload mass every case carries unchanged; impact figures may still move "
             "(Appendix: sensitivity)."
+        )
+    if s.get("loses"):
+        return (
+            f"Efficiency assumption: {s['efficiency']} of {s['joint']} "
+            f"{s['sign']}{s['points']} points leaves no payload at all: a case no longer "
+            "carries its own fixed load (the joint holds it only through gear friction; "
+            "Appendix: sensitivity)."
         )
     return (
         f"Efficiency assumption: moving one gear efficiency by ±{s['points']} points moves "

@@ -30,16 +30,23 @@ def payload_terms(model, pc) -> PayloadTerms:
     table at every joint: the evaluator's own capacity formulas (tip speed included)."""
     t = model.table
     n_options = len(t)
-    # every joint with every option: the evaluator's own capacity formulas (tip speed included)
-    arr = t.arrays(np.repeat(np.arange(n_options)[:, None], model.n, axis=1))
+    # every joint with every option: the evaluator's own capacity formulas (tip speed included).
+    # Without a tip speed an option's capacities do not depend on its joint: one column,
+    # broadcast over the joints (a table of 500,000 options took 2.7 s and a gigabyte per case
+    # when gathered for every joint)
+    per_joint = getattr(pc.case, "tip_speed", 0.0) > 0
+    columns = model.n if per_joint else 1
+    arr = t.arrays(np.repeat(np.arange(n_options)[:, None], columns, axis=1))
     if model.project.requirements.efficiency_band:
         # a robust payload is the payload at (η_f low, η_b high) (robust.py): bounds from
         # that end's capacities bound it exactly as nominal ones bound the nominal payload
         arr = arr.at_band("low", "high")
-    if getattr(pc.case, "tip_speed", 0.0) > 0:
+    if per_joint:
         cap_m, cap_b = model.evaluator.capacity_at_speed(pc, arr)
     else:
-        cap_m, cap_b = arr.capacity("motoring"), arr.capacity("backdriven")
+        shape = (n_options, model.n)
+        cap_m = np.broadcast_to(arr.capacity("motoring"), shape)
+        cap_b = np.broadcast_to(arr.capacity("backdriven"), shape)
     along = pc.velocity_sign if pc.case.motion != "against" else -pc.velocity_sign
     sign = {"along": along, "against": -along, "hold": np.zeros_like(along)}[pc.case.motion]
     lo, hi = torque_bounds(np.broadcast_to(sign, (n_options, model.n)), cap_m, cap_b)

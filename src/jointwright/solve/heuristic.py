@@ -131,8 +131,8 @@ class Heuristic:
             self.best = key
 
     def run(self, stats=None) -> tuple | None:
-        if any(o.size == 0 for o in self.options):
-            return None
+        if any(o.size == 0 for o in self.options) or time.perf_counter() > self.deadline:
+            return self.best
         if self.model.kind == "payload" and self.model.payload:
             self.level_greedy(stats)
         elif self.model.kind == "mass":

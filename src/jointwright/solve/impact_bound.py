@@ -9,6 +9,7 @@ Functions of a :class:`~jointwright.solve.model.SizingModel` (``model``).
 from __future__ import annotations
 
 import dataclasses
+import time
 from collections.abc import Sequence
 
 import numpy as np
@@ -337,24 +338,31 @@ def effective_mass_ok(
     options: np.ndarray,
     st: dict,
     bounds: dict | None = None,
+    deadline: float | None = None,
 ) -> np.ndarray:
     """False where the effective mass with every unassigned joint at its lightest mass and
     least reflected inertia already exceeds a limit (effective mass grows with the mass
     matrix in the Loewner order, so no completion can do better). True without limits or
-    with rotor coupling (then the bound is not proven)."""
+    with rotor coupling (then the bound is not proven). Options are bounded
+    :data:`BOUND_CHUNK` at a time; past ``deadline`` (``time.perf_counter()``) the rest are
+    left uncut and their objective bounds as they were (skipping a cut is safe)."""
     K = options.size
     em_kind = model.measure is not None and model.measure[0] == "effective_mass"
-    if not (model.effective_mass_limits or em_kind) or model.project.rotor_coupling or K == 0:
-        return np.ones(K, dtype=bool)
-    full = np.broadcast_to(idx, (K, model.n)).copy()
-    full[:, list(unit)] = options[:, None]
-    lows = np.broadcast_to(st["mmin"], full.shape), np.broadcast_to(st["rmin"], full.shape)
-    em = virtual_effective_mass(model, full, *lows)
     ok = np.ones(K, dtype=bool)
-    for name, limit in model.effective_mass_limits:
-        ok &= em[name] <= limit * (1 + 1e-9) + 1e-12
-    if em_kind and bounds is not None:
-        bounds["objective"] = np.minimum(bounds["objective"], -em[model.measure[1]])
+    if not (model.effective_mass_limits or em_kind) or model.project.rotor_coupling or K == 0:
+        return ok
+    for start in range(0, K, BOUND_CHUNK):
+        if deadline is not None and time.perf_counter() > deadline:
+            break
+        part = slice(start, min(start + BOUND_CHUNK, K))
+        full = np.broadcast_to(idx, (part.stop - start, model.n)).copy()
+        full[:, list(unit)] = options[part, None]
+        lows = np.broadcast_to(st["mmin"], full.shape), np.broadcast_to(st["rmin"], full.shape)
+        em = virtual_effective_mass(model, full, *lows)
+        for name, limit in model.effective_mass_limits:
+            ok[part] &= em[name] <= limit * (1 + 1e-9) + 1e-12
+        if em_kind and bounds is not None:
+            bounds["objective"][part] = np.minimum(bounds["objective"][part], -em[model.measure[1]])
     return ok
 
 

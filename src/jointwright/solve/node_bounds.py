@@ -134,18 +134,15 @@ def _reach_front(model, j: int, cands: np.ndarray) -> np.ndarray:
     signs = np.array([1.0 if t.a[j] >= 0 else -1.0 for t in model.payload])
     good = R * signs  # larger is better in every column
     good = np.where(np.isnan(good), -np.inf, good)
-    _u, first = np.unique(good, axis=0, return_index=True)  # equal reaches: keep one
-    first = np.sort(first)
-    order = first[np.lexsort(good[first].T[::-1])[::-1]]
+    # lexicographically best first: no row is dominated by a later one (that would make it
+    # lexicographically larger), so each row the front so far does not dominate joins it, and
+    # the rows a new member dominates (its equals among them) drop out, all at once
+    remaining = np.lexsort(good.T[::-1])[::-1]
     front: list = []
-    block = np.empty((0, good.shape[1]))
-    for i in order:
-        g = good[i]
-        if block.shape[0] and np.any(np.all(block >= g, axis=1)):
-            continue
-        keep = ~np.all(g >= block, axis=1) if block.shape[0] else np.zeros(0, dtype=bool)
-        front = [f for f, k in zip(front, keep, strict=True) if k] + [i]
-        block = np.vstack([block[keep], g[None, :]])
+    while remaining.size:
+        i, rest = remaining[0], remaining[1:]
+        front.append(i)
+        remaining = rest[~np.all(good[rest] <= good[i], axis=1)]
     return R[np.array(front, dtype=int)]
 
 

@@ -120,9 +120,14 @@ class BranchAndBound:
                 "requirement)",
                 0,
             )
-        cands, st = self._stance_probe()
-        if all(c.size for c in cands):  # else no design reaches the incumbent
-            self._node(np.full(n, -1, dtype=np.int64), 0, cands, st)
+        if time.perf_counter() > self.deadline:
+            # the preparation took the whole limit: the root bound holds for every design
+            self.stopped = True
+            self.open_bound = max(self.open_bound, self.cap)
+        else:
+            cands, st = self._stance_probe()
+            if all(c.size for c in cands):  # else no design reaches the incumbent
+                self._node(np.full(n, -1, dtype=np.int64), 0, cands, st)
         elapsed = time.perf_counter() - start
         best = self.best_key
         if self.stopped:
@@ -225,7 +230,8 @@ class BranchAndBound:
         keep = self._prune(b)
         opts, b = opts[keep], {k: v[keep] for k, v in b.items()}
         if opts.size:
-            em = self.model.costly_ok(idx, unit, opts, st, b, floor)
+            deadline = self.deadline if math.isfinite(self.deadline) else None
+            em = self.model.costly_ok(idx, unit, opts, st, b, floor, deadline)
             em &= self._prune(b)
             opts, b = opts[em], {k: v[em] for k, v in b.items()}
         order = np.lexsort((opts, b["mass"], -b["objective"]))
