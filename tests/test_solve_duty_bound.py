@@ -133,7 +133,7 @@ def test_upper_bound_holds_over_every_inner_interval(setup, seed):
 
 def _judge_everything(bound):
     """``bound`` with no option ever taken as safe: every option judged per node."""
-    bound.safe = lambda c, j, options, lo, hi: np.zeros(options.size, dtype=bool)
+    bound.safe = lambda c, j, options, lo, hi, deadline=None: np.zeros(options.size, dtype=bool)
     return bound
 
 
@@ -169,3 +169,29 @@ def test_safe_options_change_no_decision(setup, limit):
     assert 0 < kept  # the instance keeps some options ...
     if limit < 1.0:
         assert kept < 20 * len(table)  # ... and prunes some: the decisions are not trivial
+
+
+def test_a_bound_stopped_by_its_deadline_cuts_nothing_it_did_not_judge(setup):
+    """Past the deadline the duty bound keeps every option it has not judged (skipping a cut is
+    safe): with the clock already past, nothing is cut; with no deadline the same node cuts
+    some options (a tight limit), and a later call still judges them all."""
+    import time
+
+    from jointwright.solve.duty_bound import DutyBound
+
+    p, table, _model = setup
+    cases = tuple(
+        dataclasses.replace(c, limits={"rating_use_max": 0.3}) if c.kind == "duty" else c
+        for c in p.cases
+    )
+    model = SizingModel(dataclasses.replace(p, cases=cases), table, [np.arange(len(table))] * 3)
+    bound = DutyBound(model.evaluator, table)
+    st_ = model.stats(model.candidates)
+    idx = np.full(3, -1, dtype=np.int64)
+    options = np.arange(len(table))
+    late = bound.ok(idx, (0,), options, st_, model.mass, time.perf_counter() - 1.0)
+    assert late.all()
+    full = bound.ok(idx, (0,), options, st_, model.mass)
+    assert not full.all()
+    fresh = DutyBound(model.evaluator, table).ok(idx, (0,), options, st_, model.mass)
+    np.testing.assert_array_equal(full, fresh)

@@ -25,6 +25,8 @@ only the other options are judged per node: the same decisions, fewer passes.
 
 from __future__ import annotations
 
+import time
+
 import numpy as np
 
 from ..metrics.duty import STANDSTILL
@@ -121,9 +123,12 @@ class DutyBound:
         self._ranges[c] = (lo, hi)
         return lo, hi
 
-    def safe(self, c: int, j: int, options: np.ndarray, lo: np.ndarray, hi: np.ndarray):
+    def safe(
+        self, c: int, j: int, options: np.ndarray, lo: np.ndarray, hi: np.ndarray, deadline=None
+    ):
         """(K,) True where joint ``j``'s option passes case ``c``'s bound at every node whose
-        actuator masses lie within [lo, hi] per joint."""
+        actuator masses lie within [lo, hi] per joint. Past ``deadline`` (a
+        ``time.perf_counter()`` value) the options not yet judged read False (not shown safe)."""
         pd, limit = self.cases[c]
         lo, hi = self._range(c, lo, hi)
         key = (c, j)
@@ -137,16 +142,20 @@ class DutyBound:
             tau_lo = pd.tau_links[j] + np.minimum(lo[:, None] * tm, hi[:, None] * tm).sum(0)
             tau_hi = pd.tau_links[j] + np.maximum(lo[:, None] * tm, hi[:, None] * tm).sum(0)
             for s in range(0, todo.size, SAFE_CHUNK):
+                if _late(deadline):
+                    break
                 part = todo[s : s + SAFE_CHUNK]
                 up = self.upper_bound(pd, j, part, tau_lo[None, :], tau_hi[None, :])
                 safe[part] = up <= limit * (1 + 1e-9) + 1e-12
-            known[todo] = True
+                known[part] = True
         return safe[options]
 
-    def ok(self, idx, unit, options, st, mass) -> np.ndarray:
+    def ok(self, idx, unit, options, st, mass, deadline=None) -> np.ndarray:
         """False where a limited duty case's rating use provably exceeds its limit.
 
-        That is, for every completion of the partial design.
+        That is, for every completion of the partial design. Past ``deadline`` (a
+        ``time.perf_counter()`` value) the options not yet judged are kept (skipping a cut is
+        safe): the bounds are computed :data:`SAFE_CHUNK` options at a time.
         """
         K = options.size
         keep = np.ones(K, dtype=bool)
@@ -169,7 +178,11 @@ class DutyBound:
             judge = {}  # joint -> rows of ``options`` its bound must judge
             for j in sorted(touched):
                 opts = options if j in unit else idx[j : j + 1]
-                passed = self.safe(c, int(j), opts, lo, hi) if finite else np.zeros(1, bool)
+                if _late(deadline):
+                    return keep
+                passed = (
+                    self.safe(c, int(j), opts, lo, hi, deadline) if finite else np.zeros(1, bool)
+                )
                 if j in unit:
                     rows = np.flatnonzero(~passed & keep)
                 elif passed.all():
@@ -192,14 +205,22 @@ class DutyBound:
                 st["mmin"][F, None, None] * tm[F], st["mmax"][F, None, None] * tm[F]
             ).sum(axis=0)
             own = tm[unit].sum(axis=0)  # (n, T): per unit of the unit's actuator mass
-            for j, rows in judge.items():
-                opts = options[rows] if j in unit else np.full(rows.size, idx[j])
-                add = mass[options[rows]][:, None] * own[j]  # (R, T)
-                lb = self.lower_bound(
-                    pd, int(j), opts, base[j] + lo_f[j] + add, base[j] + hi_f[j] + add
-                )
-                keep[rows] &= lb <= limit * (1 + 1e-9) + 1e-12
+            for j, all_rows in judge.items():
+                for s in range(0, all_rows.size, SAFE_CHUNK):
+                    if _late(deadline):
+                        return keep
+                    rows = all_rows[s : s + SAFE_CHUNK]
+                    opts = options[rows] if j in unit else np.full(rows.size, idx[j])
+                    add = mass[options[rows]][:, None] * own[j]  # (R, T)
+                    lb = self.lower_bound(
+                        pd, int(j), opts, base[j] + lo_f[j] + add, base[j] + hi_f[j] + add
+                    )
+                    keep[rows] &= lb <= limit * (1 + 1e-9) + 1e-12
         return keep
+
+
+def _late(deadline) -> bool:
+    return deadline is not None and time.perf_counter() > deadline
 
 
 #: options judged at once when the safe options are found

@@ -331,8 +331,8 @@ class SizingModel:
         cases' acceleration (item 11), then duty.
         For an effective-mass objective the objective bound in ``bounds`` is set here; ``floor``:
         the objective an improving design must reach (the IMF bound refines up to it);
-        ``deadline`` (``time.perf_counter()``): the effective-mass bounds of a large node stop
-        there, leaving the rest of its options uncut (safe)."""
+        ``deadline`` (``time.perf_counter()``): the effective-mass and duty bounds of a large
+        node stop there, leaving the rest of its options uncut (safe)."""
         ok = impact_bound.effective_mass_ok(self, idx, unit, options, st, bounds, deadline)
         if ok.any() and impact_bound.imf_limits_or_objective(self):
             rows = np.flatnonzero(ok)
@@ -346,7 +346,7 @@ class SizingModel:
             ok[rows] = self.stroke_bound.ok(idx, unit, options[rows], st)
         if self.duty_bound and ok.any():
             rows = np.flatnonzero(ok)
-            ok[rows] = self.duty_bound.ok(idx, unit, options[rows], st, self.mass)
+            ok[rows] = self.duty_bound.ok(idx, unit, options[rows], st, self.mass, deadline)
         return ok
 
     def budget_cap(self, st: dict, **kwargs) -> float:
