@@ -558,3 +558,16 @@ def test_binding_labels_read_large_margins_as_multiples():
         "knee: payload min (margin +5.0 %)",
         "hip: gear life min (margin > 100× limit)",
     ]
+
+
+def test_a_speed_case_without_stroke_says_how_long_its_speed_takes_at_least():
+    """Without a stroke the checked speed is the one the motors sustain, however long it takes;
+    the acceleration from rest is the largest on the way, so the time is at least v/a₀:
+    2.208 / 0.1463 = 15.09 s (worked by hand). With a stroke, or for other kinds, no note."""
+    from jointwright.report.wording import without_stroke
+
+    text = without_stroke("speed", {"speed": 2.208, "acceleration": 0.1463})
+    assert "however long it takes to reach" in text and "v/a₀ = 15.1 s" in text
+    assert "set stroke" in text
+    assert without_stroke("speed", {"speed": 1.1, "acceleration": 3.1, "speed_steady": 11.3}) == ""
+    assert without_stroke("payload", {"speed": 1.0, "acceleration": 1.0}) == ""

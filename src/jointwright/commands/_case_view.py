@@ -14,6 +14,7 @@ from ..report.wording import (
     limiting_quantity_text,
     modes_text,
     torque_rows,
+    without_stroke,
     wrench_text,
 )
 from ._format import num, table
@@ -180,6 +181,8 @@ def print_case(con: Console, c, a, cases: dict, revolute: dict) -> None:
         extra.append(f"the checked end-point speed is limited by {c.limiting_joint}")
     if beyond:
         extra.append(beyond)
+    if without_stroke(c.kind, c.metrics):
+        extra.append(without_stroke(c.kind, c.metrics))
     elif c.limiting_joint:
         extra.append(f"limited by {c.limiting_joint}")
     if c.joint_modes:

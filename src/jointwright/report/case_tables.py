@@ -19,6 +19,7 @@ from .wording import (
     limiting_quantity_text,
     modes_text,
     torque_rows,
+    without_stroke,
     wrench_text,
 )
 
@@ -101,6 +102,8 @@ def _case_notes(c: dict) -> list[str]:
     beyond = beyond_stroke(c["metrics"])
     if beyond:
         notes.append(beyond)
+    if without_stroke(c["kind"], c["metrics"]):
+        notes.append(without_stroke(c["kind"], c["metrics"]))
     elif c["metrics"].get("envelope_limit"):
         notes.append(
             f"motor at its envelope {envelope_speed(c['metrics'])}: "

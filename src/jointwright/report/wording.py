@@ -69,6 +69,31 @@ def beyond_stroke(metrics: dict, *, minus: str = "-") -> str:
     return text
 
 
+def without_stroke(kind: str, metrics: dict, *, minus: str = "-") -> str:
+    """A speed case without a stroke: its speed is the one the motors sustain at the pose with
+    the load, however long it takes to reach. The acceleration from rest a₀ is the largest
+    along the way (the torque left for accelerating only falls as the speed rises), so
+    reaching v takes at least v/a₀; one sentence says so ("" otherwise)."""
+    if kind != "speed" or metrics.get("speed_steady") is not None:
+        return ""
+    raw_v, raw_a = metrics.get("speed"), metrics.get("acceleration")
+    if not all(isinstance(x, (int, float)) and not isinstance(x, bool) for x in (raw_v, raw_a)):
+        return ""
+    v, a0 = float(raw_v), float(raw_a)  # type: ignore[arg-type]
+    if not (math.isfinite(v) and v > 0):
+        return ""
+    text = (
+        "no stroke: the speed the motors sustain at this pose with the load, however long it "
+        "takes to reach"
+    )
+    if math.isfinite(a0) and a0 > 0:
+        text += (
+            f" (at least v/a₀ = {format_number(v / a0, 3, minus=minus)} s from rest at the "
+            f"{format_number(a0, 4, minus=minus)} m/s² it starts with)"
+        )
+    return text + "; set stroke to check the speed reached within a distance"
+
+
 #: modes in the order a reader scans them: the joints doing work first
 MODE_ORDER = ("motoring", "back-driven", "holding")
 #: a last group of more joints than this reads "the other N joints"

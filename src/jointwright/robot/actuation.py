@@ -166,8 +166,17 @@ def _remove_included(model, mounts, masses, file, field) -> None:
         if mass <= 0:
             continue
         body = model.inertias[mount.body_joint]
-        if mount.body_joint == 0 or mass > body.mass * (1 + 1e-12):
-            have = 0.0 if mount.body_joint == 0 else body.mass
+        if mount.body_joint == 0:
+            raise InputError(
+                file,
+                f"{field}.{mount.joint}",
+                f"the actuator is mounted on {mount.link}, which is part of the fixed base (the "
+                "world): its mass is not in any moving link, so there is nothing to take out; "
+                "leave this joint out of included (or mount the actuator on the moving side, "
+                "robot.mounts)",
+            )
+        if mass > body.mass * (1 + 1e-12):
+            have = body.mass
             raise InputError(
                 file,
                 f"{field}.{mount.joint}",
