@@ -152,3 +152,29 @@ def test_the_documented_examples_load_and_assess(tmp_path):
     assert a.regions["reach-region"]["poses"] == 20
     names = {c.name for c in a.cases}
     assert {"drill", "held-out", "gearbox-supplier"} <= names
+
+
+def test_check_shows_a_region_of_alike_poses_once(tmp_path):
+    """`check` lists a region whose poses read alike (same kind, frame, direction, motion,
+    requirements, load growth) as one row "region (N poses)", not N equal rows; its load line
+    likewise. A 12-pose grid added to the bundled arm."""
+    import shutil
+
+    from click.testing import CliRunner
+
+    from jointwright.cli import main
+
+    shutil.copytree(ARM, tmp_path / "arm")
+    path = tmp_path / "arm" / "project.toml"
+    path.write_text(
+        path.read_text()
+        + '\n[[case]]\nname = "reach-region"\nkind = "payload"\nframe = "tool"\n'
+        "direction = [0, 0, 1]\nmotion = \"along\"\npayload_min = \"1 kg\"\n"
+        "grid = { shoulder_pitch = [0.2, 0.9, 4], elbow = [0.5, 1.5, 3] }\n"
+        "pose = { shoulder_yaw = 0, shoulder_pitch = 0, elbow = 0, wrist_pitch = 0, "
+        "wrist_yaw = 0, wrist_flex = 0 }\n"
+    )
+    out = CliRunner().invoke(main, ["check", str(path)], env={"COLUMNS": "200"})
+    assert out.exit_code == 0, out.output
+    assert out.output.count("reach-region (12 poses)") == 2  # the table row and the load line
+    assert "reach-region@" not in out.output

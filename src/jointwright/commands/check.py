@@ -18,6 +18,23 @@ from ._progress import status_line
 SHOWN_CASES = 200
 
 
+def _by_region(entries: list, project, rows: bool = True) -> list:
+    """``entries`` [(case name, [fields])] with the poses of a region that read alike shown
+    once, as "region (N poses)" (a 10,000-pose grid would otherwise print 10,000 equal rows);
+    a region whose poses differ keeps one entry per pose. ``rows``: table rows (name first)
+    rather than (name, fields) pairs."""
+    from ..report.wording import region_groups
+
+    fields = dict(entries)
+    out = []
+    for region, names in region_groups([n for n, _f in entries], project):
+        if region and len(names) > 1 and all(fields[n] == fields[names[0]] for n in names):
+            out.append((f"{region} ({len(names)} poses)", fields[names[0]]))
+        else:
+            out += [(n, fields[n]) for n in names]
+    return [[name, *f] for name, f in out] if rows else out
+
+
 def project_summary(p, evaluator=None) -> dict:
     from ..assessment import unloaded_joints
 
@@ -232,23 +249,29 @@ def command(project: Path, as_json: bool):
         table(
             "Cases",
             ["case", "kind", "frame", "direction", "motion", "requirements"],
-            [
+            _by_region(
                 [
-                    x["name"],
-                    x["kind"],
-                    x["frame"] or "—",
-                    "—"
-                    if x["direction"] is None
-                    else "(" + ", ".join(f"{v:.3g}" for v in x["direction"]) + ")",
-                    x["motion"] or "—",
-                    "; ".join(
-                        f"{k.replace('_', ' ')} {num(v, units.get(k, ''))}{_carries(x, k, v)}"
-                        for k, v in x["limits"].items()
+                    (
+                        x["name"],
+                        [
+                            x["kind"],
+                            x["frame"] or "—",
+                            "—"
+                            if x["direction"] is None
+                            else "(" + ", ".join(f"{v:.3g}" for v in x["direction"]) + ")",
+                            x["motion"] or "—",
+                            "; ".join(
+                                f"{k.replace('_', ' ')} {num(v, units.get(k, ''))}"
+                                f"{_carries(x, k, v)}"
+                                for k, v in x["limits"].items()
+                            )
+                            or "—",
+                        ],
                     )
-                    or "—",
-                ]
-                for x in s["cases"][:SHOWN_CASES]
-            ],
+                    for x in s["cases"][:SHOWN_CASES]
+                ],
+                p,
+            ),
             caption=f"the first {SHOWN_CASES} of {len(s['cases']):,} cases; --json lists all"
             if more > 0
             else None,
@@ -260,9 +283,21 @@ def command(project: Path, as_json: bool):
             "load per payload mass m_p "
             "(the payload objective reads each case's force as kg carried): "
             + "; ".join(
-                f"{x['name']} {num(x['payload_growth']['fixed_load'], 'N')} + "
-                f"{x['payload_growth']['payload_share']:g}·m_p·g"
-                for x in grows
+                f"{name} {text[0]}"
+                for name, text in _by_region(
+                    [
+                        (
+                            x["name"],
+                            [
+                                f"{num(x['payload_growth']['fixed_load'], 'N')} + "
+                                f"{x['payload_growth']['payload_share']:g}·m_p·g"
+                            ],
+                        )
+                        for x in grows
+                    ],
+                    p,
+                    rows=False,
+                )
             )
         )
     wrenches = [
@@ -271,7 +306,10 @@ def command(project: Path, as_json: bool):
     if wrenches:
         con.print(
             "where the force acts and the moment with it: "
-            + "; ".join(f"{name} {text}" for name, text in wrenches)
+            + "; ".join(
+                f"{name} {text[0]}"
+                for name, text in _by_region([(n, [t]) for n, t in wrenches], p, rows=False)
+            )
         )
     req = s["requirements"]
     line = (
