@@ -64,3 +64,18 @@ def test_wrong_units_still_fail_with_the_rule(text, dim, rule):
 def test_a_whole_number_beyond_float_range_is_one_error():
     with pytest.raises(InputError, match="must be finite, got a 400-digit number"):
         quantity(10**399, "mass", file="p.toml", field="requirements.total_mass_max")
+
+
+def test_large_numbers_are_written_in_full_with_grouped_thousands():
+    """Four significant digits as everywhere, but a cost of 13,280 reads "13,280", not
+    "1.328e+04"; rounding that reaches the next power of ten is grouped as well; small and
+    very large numbers keep their usual form [common practice in engineering tables]."""
+    from jointwright.units import format_number
+
+    assert format_number(13280.4) == "13,280"
+    assert format_number(-45678.9, minus="−") == "−45,680"
+    assert format_number(9999.5) == "10,000"
+    assert format_number(1328.04) == "1328"
+    assert format_number(1328.04, 3) == "1,330"
+    assert format_number(2.54e-05) == "2.54e-05"
+    assert format_number(1.2e9) == "1.2e+09"

@@ -170,7 +170,16 @@ def format_number(value, digits: int = 4, *, minus: str = "-") -> str:
         return "—"
     if math.isinf(v):
         return "∞" if v > 0 else f"{minus}∞"
+    rounded = float(f"{v:.{digits}g}")
+    if 10.0**digits <= abs(rounded) < GROUPED_MAX:
+        # a large number in full with its thousands grouped ("13,280", not "1.328e+04"),
+        # still rounded to ``digits`` significant digits
+        return f"{rounded:,.0f}".replace("-", minus)
     return f"{v:.{digits}g}".replace("-", minus)
+
+
+#: numbers from 10^digits up to this are written in full with grouped thousands
+GROUPED_MAX = 1e9
 
 
 #: lives past this many hours are shown as "> 10⁶ h" (over a century of running)

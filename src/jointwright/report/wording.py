@@ -34,7 +34,7 @@ def objective_change(kind: str, loss, unit: str = "", *, minus: str = "−") -> 
         return "—"
     maximized, worse, better = _CHANGE_WORDS.get(kind, (True, kind, kind))
     size = format_number(abs(loss), 3)
-    if math.isfinite(loss) and (abs(loss) <= 1e-9 or float(size) == 0.0):
+    if math.isfinite(loss) and (abs(loss) <= 1e-9 or float(f"{abs(loss):.3g}") == 0.0):
         return "tie"
     change = -loss if maximized else loss  # the runner-up's objective minus the choice's
     sign = "+" if change > 0 else minus

@@ -99,8 +99,11 @@ class StanceBound:
         ev = model.evaluator
         table = model.table
         count, n = len(table), model.n
-        arr = table.arrays(np.repeat(np.arange(count)[:, None], n, axis=1))
-        cap_m, cap_b = arr.capacity("motoring"), arr.capacity("backdriven")
+        # an option's capacities do not depend on its joint: one column, broadcast over the
+        # joints (gathered for every joint, a large table cost a gigabyte here)
+        arr = table.arrays(np.arange(count)[:, None])
+        cap_m = np.broadcast_to(arr.capacity("motoring"), (count, n))
+        cap_b = np.broadcast_to(arr.capacity("backdriven"), (count, n))
         pcs, self.lo, self.hi = [], [], []
         for pc in ev.cases:
             if pc.case.kind != "stance":
