@@ -216,3 +216,40 @@ def test_a_bad_result_file_is_named_and_leaves_no_new_folder(tmp_path, monkeypat
     (out / "notes.txt").write_text("keep", encoding="utf-8")
     assert _run(args).exit_code == 2
     assert [p.name for p in out.iterdir()] == ["notes.txt"]
+
+
+def test_results_of_another_project_are_refused_by_the_report(tmp_path):
+    """A sizing result, a frontier or a binary file given to the leg's report that belongs to
+    the arm (or is no JSON at all): one line naming that file, the field and what differs,
+    exit 2, no traceback and no report folder."""
+    d = _leg(tmp_path)
+    with resources.as_file(resources.files("jointwright.examples") / "arm") as src:
+        shutil.copytree(src, tmp_path / "arm")
+    arm = tmp_path / "arm"
+    sizing = tmp_path / "arm-sizing.json"
+    front = tmp_path / "arm-front.json"
+    binary = tmp_path / "store.bin"
+    binary.write_bytes(bytes(range(256)))
+    r = _run(["size", arm / "project.toml", "--time-limit", "30", "--no-explain", "--json"])
+    sizing.write_text(r.output[r.output.index("{") :], encoding="utf-8")
+    front.write_text(
+        json.dumps(
+            {
+                "measure": "effective_mass",
+                "case": "side-collision",
+                "points": [{"actuators": {"shoulder_yaw": "x"}, "payload": 1.0}],
+            }
+        ),
+        encoding="utf-8",
+    )
+    base = ["report", d / "project.toml", "--design", d / "design.toml"]
+    for option, path, field, words in (
+        ("--sizing", sizing, "assessment.project", "names project 'MA-6"),
+        ("--frontier", front, "case", "trades a measure of case 'side-collision'"),
+        ("--frontier", binary, "--frontier", "is not a text (JSON) file"),
+    ):
+        out = tmp_path / f"r{option}{path.stem}"
+        r = _run([*base, option, path, "--out", out])
+        assert r.exit_code == 2 and "Traceback" not in r.output, r.output
+        assert f"{path}: {field}: {words}" in " ".join(r.output.split())
+        assert not out.exists()

@@ -162,3 +162,38 @@ def test_points_beyond_the_projects_own_limit_are_marked(capsys):
     out = capsys.readouterr().out
     assert "1 †" in out and "2 †" not in out
     assert "† beyond the project's own limit on effective_mass (4 kg)" in " ".join(out.split())
+
+
+def test_points_with_a_self_locking_joint_are_marked(capsys):
+    """A frontier point whose design has a self-locking transmission (η_b ≤ 0, a worm of the
+    arm's catalog: cos 20°·tan 3.5° = 0.0575 ≤ f = 0.07, Shigley ch. 13 [mem]) is marked ⊘ in
+    the terminal, named per joint in the JSON, and noted in the report's table: its
+    back-drivability figure says nothing about a push at that joint."""
+    from jointwright.commands import _format
+    from jointwright.commands.frontier import print_frontier
+    from jointwright.design import design_from_dict
+    from jointwright.frontier_result import Frontier, FrontierPoint
+    from jointwright.project import load_example
+    from jointwright.report.frontier_map import frontier_from_sweep
+
+    arm = load_example("arm")
+    worm = [{"stage": "Spiral", "frame": "Spiral-2", "ratio": 90}]
+    joint = {"motor": "Ringwind-12", "stages": worm}
+    free = {"motor": "Ringwind-01", "stages": []}
+    names = list(arm.robot.actuated)
+    locked = design_from_dict({"joint": {j: joint if j == "elbow" else free for j in names}}, arm)
+    plain = design_from_dict({"joint": dict.fromkeys(names, free)}, arm)
+    points = (
+        FrontierPoint(payload=12.0, measure=2.0, design=locked, mass=1.0, changes=()),
+        FrontierPoint(payload=11.0, measure=1.5, design=plain, mass=1.0, changes=()),
+    )
+    f = Frontier("effective_mass", "side-collision", "max", points, True, None, 1.0, 2)
+    data = f.to_dict()
+    assert data["points"][0]["self_locking"] == ["elbow"]
+    assert data["points"][1]["self_locking"] == []
+    _format._console = None
+    print_frontier(f)
+    out = " ".join(capsys.readouterr().out.split())
+    assert "1 ⊘" in out and "2 ⊘" not in out and "point 1: elbow" in out
+    form = frontier_from_sweep(data, {"cases": [], "total_mass": 1.0}, "f.json")
+    assert form["points"][0]["self_locking"] == ["elbow"]

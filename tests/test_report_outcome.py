@@ -36,3 +36,32 @@ def test_a_stance_joint_held_at_its_gear_rating():
 def test_a_stance_joint_driving_at_its_drive_torque():
     text = _limiting_reason(_assessment(hold=25.0, gear=40.0), _stance(20.0))
     assert "drive torque (20 N·m)" in text
+
+
+def test_the_outcome_leads_with_the_payload_every_case_carries():
+    """The sizing's payload objective is the least payload mass over the payload cases: the
+    outcome states it first (12.88 kg in reach-lift), even when another case is tightest
+    against its own requirement (close-lift, 13.2 kg carried against a 5 kg requirement)."""
+    from jointwright.project import load_example
+    from jointwright.report.outcome import _payload_words
+
+    arm = load_example("arm")
+
+    def case(name: str, force: float, carried: float) -> dict:
+        metrics = {"payload": force, "payload_carried": carried}
+        return {"name": name, "kind": "payload", "metrics": metrics, "limiting_joint": None}
+
+    a = {
+        "cases": [case("reach-lift", 130.3, 12.88), case("close-lift", 133.4, 13.2)],
+        "checks": [
+            {"subject": "reach-lift", "requirement": "payload_min", "margin": 2.91},
+            {"subject": "close-lift", "requirement": "payload_min", "margin": 1.52},
+        ],
+        "joints": [],
+    }
+    head, detail = _payload_words(a, arm)
+    assert head == (
+        "The design carries a payload of 12.88 kg in every payload case (the least, in case "
+        "reach-lift)."
+    )
+    assert detail.startswith("Payload is tightest against its requirement in case close-lift")

@@ -500,3 +500,15 @@ def test_study_store_becomes_the_study_section(tmp_path):
     assert r.exit_code == 0, r.output
     html = (tmp_path / "out" / "report.html").read_text(encoding="utf-8")
     assert 'id="study"' in html and "Variants side by side" in html
+
+
+def test_the_study_section_counts_cases_that_found_no_design(tmp_path):
+    """A case that ran to the end and found no design (infeasible) is neither "a result" nor a
+    case that failed to run: the count says which is which (6 cases: 4 with a design, 1
+    infeasible, 1 failed)."""
+    cases = [dict(c) for c in STUDY["cases"]]
+    cases[1] = {**cases[1], "status": "infeasible", "results": {"objective": None}}
+    cases[2] = {**cases[2], "status": "failed", "results": {}}
+    s = study_results.study_section({**STUDY, "cases": cases}, tmp_path)
+    assert "6 cases: 4 with a design, 1 that ran and found none" in s.body
+    assert "1 that did not run to the end" in s.body

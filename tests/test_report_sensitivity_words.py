@@ -44,3 +44,21 @@ def test_an_ordinary_move_keeps_its_percentage():
     # |190 − 200| / 200 = 5 %, the largest change
     assert not s["loses"] and abs(s["change"] - 0.05) < 1e-12
     assert "by up to 5 %" in sensitivity_risk(s)
+
+
+def test_the_ratio_plot_shows_no_negative_payload_mass():
+    """The ratio trade's payload panel: below a case's fixed load the payload is none, drawn at
+    0 with a note, never as a negative mass (the formula (F − fixed_load)/(share·g_n) would go
+    negative there)."""
+    from jointwright.report.sweep_figures import ratio_figure
+
+    sweep = SimpleNamespace(
+        joints=("knee",),
+        factors=np.array([0.25, 1.0, 4.0]),
+        design_ratio=np.array([9.0]),
+        values={"payload": np.array([[-9.0, 11.0, 27.0]])},
+    )
+    fig = ratio_figure(sweep, [("payload", "Payload mass", "kg", None)])
+    ax = fig.axes[0]
+    assert min(float(min(line.get_ydata())) for line in ax.get_lines()) >= 0.0
+    assert any("no payload" in t.get_text() for t in ax.texts)

@@ -99,11 +99,23 @@ class Frontier:
                             for j, a in zip(p.design.joints, p.design.actuators, strict=True)
                         },
                         "design_toml": design_to_toml(p.design),
+                        # joints whose transmission self-locks: not back-drivable there
+                        "self_locking": self_locking_joints(p.design),
                     }
                     for p in self.points
                 ],
             }
         )
+
+
+def self_locking_joints(design) -> list[str]:
+    """The joints of ``design`` whose transmission self-locks (η_b ≤ 0): a push there does not
+    back-drive the joint, whatever the point's back-drivability figure."""
+    return [
+        j
+        for j, a in zip(design.joints, design.actuators, strict=True)
+        if getattr(a, "self_locking", False)
+    ]
 
 
 def _finish(project, f: Frontier, merge: float) -> Frontier:

@@ -9,6 +9,7 @@ from pathlib import Path
 
 import click
 
+from ..frontier_result import self_locking_joints
 from ..project import load_project
 from ._format import console, emit_json, num, table
 from ._output import (
@@ -93,6 +94,7 @@ def print_frontier(f, shared=(), limit: float | None = None) -> None:
         mark = (
             (" ◆" if i == f.knee else "")
             + (" †" if beyond_limit(f, p, limit) else "")
+            + (" ⊘" if self_locking_joints(p.design) else "")
             + ("" if p.proven else " (not proven)")
         )
         changed = _grouped(list(p.changed or tuple((j, "?", "?") for j in p.changes)), shared)
@@ -127,6 +129,18 @@ def print_frontier(f, shared=(), limit: float | None = None) -> None:
             "; gear shock: the largest peak gear torque at the project's impacts over the stage's "
             "momentary rating (over 100 % the gear is expected to break)"
             if shock
+            else ""
+        )
+        + (
+            "; ⊘ a joint of the design self-locks ("
+            + "; ".join(
+                f"point {k + 1}: {', '.join(self_locking_joints(q.design))}"
+                for k, q in enumerate(f.points)
+                if self_locking_joints(q.design)
+            )
+            + "): it cannot be back-driven there, whatever the point's figure; it holds "
+            "unpowered and can trap or crush"
+            if any(self_locking_joints(q.design) for q in f.points)
             else ""
         )
         + (

@@ -23,9 +23,48 @@ def _json(path: Path | None, option: str):
         return json.loads(path.read_text(encoding="utf-8"))
     except OSError as exc:
         raise InputError(str(path), option, f"cannot be read: {exc.strerror}") from None
+    except UnicodeDecodeError:
+        raise InputError(str(path), option, "is not a text (JSON) file") from None
     except json.JSONDecodeError as exc:
         rule = f"is not valid JSON (line {exc.lineno}: {exc.msg})"
         raise InputError(str(path), option, rule) from None
+
+
+def _same_project(p, sizing, sizing_file, frontier, frontier_file, study_store) -> None:
+    """The results given with ``--sizing``, ``--frontier`` and ``--study`` belong to project
+    ``p``: its name (sizing result, study) and its actuated joints and cases (frontier), or one
+    message naming the file, the field and what differs."""
+    joints = list(p.robot.actuated)
+
+    def other(file, field, what: str) -> InputError:
+        return InputError(
+            str(file),
+            field,
+            f"{what}; it belongs to another project (report of {p.name!r}, {p.file.name})",
+        )
+
+    if isinstance(sizing, dict) and isinstance(sizing.get("assessment"), dict):
+        a = sizing["assessment"]
+        if a.get("project") not in (None, p.name):
+            raise other(sizing_file, "assessment.project", f"names project {a['project']!r}")
+        named = [str(j.get("joint")) for j in a.get("joints", []) if isinstance(j, dict)]
+        if named and named != joints:
+            raise other(sizing_file, "assessment.joints", f"sizes joints {', '.join(named)}")
+    if isinstance(frontier, dict):
+        case = frontier.get("case")
+        if case is not None and case not in {c.name for c in p.cases}:
+            raise other(frontier_file, "case", f"trades a measure of case {case!r}")
+        for k, point in enumerate(frontier.get("points") or []):
+            named = list((point or {}).get("actuators") or {}) if isinstance(point, dict) else []
+            if named and named != joints:
+                raise other(frontier_file, f"points[{k}].actuators", f"has joints {named}")
+    if study_store is not None:
+        from ..study.reading import read_study
+
+        base = read_study(study_store).base_project
+        name = (base.get("project") or {}).get("name") if isinstance(base, dict) else None
+        if name is not None and name != p.name:
+            raise other(study_store, "base project", f"studies project {name!r}")
 
 
 @click.command("report")
@@ -97,6 +136,7 @@ def command(
             raise InputError(str(study_store), "--study", "no such study store (SQLite file)")
         study = study_data(study_store)
     sizing, frontier = _json(sizing_file, "--sizing"), _json(frontier_file, "--frontier")
+    _same_project(p, sizing, sizing_file, frontier, frontier_file, study_store)
     # the report's readers name a plain dict "<sizing>" / "<frontier>": name the file given
     given_files = {"<sizing>": sizing_file, "<frontier>": frontier_file}
     try:
@@ -120,7 +160,7 @@ def command(
     console().print(
         table(
             "Report written",
-            ["", ""],
+            ["written", "where"],
             rows,
             caption="open report.html in any browser; it needs no network",
         )

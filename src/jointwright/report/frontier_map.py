@@ -103,6 +103,13 @@ def frontier_section(data: dict, fig_dir: Path, file: str = "<frontier>") -> Sec
                 for w in (
                     "◆ turning point" if k == knee else "",
                     "not proven" if p.get("proven", True) is False else "",
+                    (
+                        "self-locking at "
+                        + ", ".join(p["self_locking"])
+                        + ": not back-drivable there; holds unpowered, can trap or crush"
+                    )
+                    if isinstance(p, dict) and p.get("self_locking")
+                    else "",
                 )
                 if w
             ),
@@ -119,11 +126,13 @@ def frontier_section(data: dict, fig_dir: Path, file: str = "<frontier>") -> Sec
         caption += " The diamond marks the turning point of the trade-off."
     better = dominating_point(xy, chosen, steps)
     if better is not None:
+        label = str(x.get("label", "measure"))
+        article = "an" if label[:1].lower() in "aeiou" else "a"
         caption += (
             f" The ring lies inside the frontier: point {better + 1} carries at least as much "
-            f"payload with a {x.get('label', 'measure')} at least as good; it may be heavier or "
-            "costlier, which this plot does not show (the sizing breaks payload ties by the "
-            "least mass)."
+            f"payload with {article} {label} at least as good; it may be heavier or costlier, "
+            "which this plot does not show (the sizing picks by its own objective, which may be "
+            "the least mass or cost, and breaks payload ties by the least mass)."
         )
     region = data.get("unexplored")
     marked = (
@@ -187,6 +196,7 @@ def frontier_from_sweep(data: dict, assessment: dict, file: str = "<frontier>") 
                 "design": "; ".join(f"{j}: {a}" for j, a in p.get("actuators", {}).items()),
                 "changes": ", ".join(p.get("changes", [])),
                 "proven": p.get("proven", True) is not False,
+                "self_locking": [str(j) for j in p.get("self_locking") or []],
             }
         )
     out = {

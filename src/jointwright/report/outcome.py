@@ -171,6 +171,21 @@ def _payload_words(a: dict, project) -> list[str]:
     text = f"{lead}: {fmt(value, 'N')}{kg}"
     if worst["limiting_joint"]:
         text += f", limited by joint {worst['limiting_joint']}: {_limiting_reason(a, worst)}"
+    # the headline: the payload mass every case carries (the sizing's payload objective), which
+    # the tightest margin above need not name
+    carried_by = {
+        c["name"]: as_float(c["metrics"].get("payload_carried"))
+        for c in payload
+        if isinstance(c["metrics"].get("payload_carried"), (int, float))
+    }
+    finite = {k: v for k, v in carried_by.items() if math.isfinite(v)}
+    if len(finite) > 1:
+        least = min(finite, key=lambda k: finite[k])
+        head = (
+            f"The design carries a payload of {fmt(finite[least], 'kg')} in every payload "
+            f"case (the least, in case {least})."
+        )
+        return [head, text + "."]
     return [text + "."]
 
 

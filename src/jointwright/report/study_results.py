@@ -142,13 +142,18 @@ def study_section(data: dict, fig_dir: Path, file: str = "<study>") -> Section:
     variants = any(c.get("variant") for c in cases)
     done = [c for c in cases if c.get("status") not in ("failed", "pending", "running")]
     failed = len(cases) - len(done)
+    # a case that ran but found no design (infeasible, or stopped before one) has no values
+    empty = [
+        c for c in done if all(c["results"].get(r["key"]) is None for r in results) and results
+    ]
     parts = []
     if data.get("description"):
         parts.append(paragraph(str(data["description"]).replace("\n", " ")))
     parts.append(
         paragraph(
-            f"{len(cases)} cases, {failed} without a result; every value with "
-            "its unit (parameters as written in the study file, results in SI)."
+            f"{len(cases)} cases: {len(done) - len(empty)} with a design, {len(empty)} that ran "
+            f"and found none (see their status), {failed} that did not run to the end; every "
+            "value with its unit (parameters as written in the study file, results in SI)."
         )
     )
 

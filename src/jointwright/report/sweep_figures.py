@@ -28,6 +28,18 @@ def ratio_figure(sweep, panels) -> Figure:
     fig, axes = new_figure(ncols=len(panels), height=4.6)
     for ax, (key, title, ylabel, limit) in zip(axes, panels, strict=True):
         values = sweep.values[key]
+        if key == "payload" and np.nanmin(values) < 0:
+            # below some case's fixed load there is no payload, not a negative mass
+            values = np.maximum(values, 0.0)
+            ax.text(
+                0.02,
+                0.97,
+                "0: no payload (a case below its fixed load)",
+                transform=ax.transAxes,
+                va="top",
+                fontsize=8,
+                color="#5b6470",
+            )
         for k, joint in enumerate(sweep.joints):
             ax.plot(
                 sweep.factors,
