@@ -131,3 +131,22 @@ def test_failed_cases_give_exit_3_with_the_count_and_first_errors(tmp_path):
     data = json.loads(res.output[res.output.index("{") : res.output.rindex("}") + 1])
     assert data["failed"] == 2 and len(data["failures"]) == 2
     assert all("total_mass_max" in f["error"] for f in data["failures"])
+
+
+def test_a_mistake_in_a_variant_is_caught_before_any_case_runs(tmp_path):
+    """A misspelt stage kind in a variant's settings: one line naming the study file, the
+    variant and the field the project refuses, exit 2, no store; before, every case of the
+    variant ran and failed, and the advised --resume was refused once the study was fixed."""
+    study = _leg_study(tmp_path)
+    study.write_text(
+        study.read_text()
+        + '[[variant]]\nname = "free"\n[[variant]]\nname = "planetary-only"\n'
+        'set = { "catalog.stage_kinds" = ["planetry"] }\n',
+        encoding="utf-8",
+    )
+    res = CliRunner().invoke(main, ["study", str(study), "--workers", "1"])
+    assert res.exit_code == 2, res.output
+    text = " ".join(res.output.split())
+    assert f"{study}: variant[1].set: catalog.stage_kinds = ['planetry'] (planetary-only)" in text
+    assert "unknown stage kind 'planetry'" in text and "Traceback" not in text
+    assert not (study.parent / "results.sqlite").exists()

@@ -139,8 +139,10 @@ def print_failures(failures: list[dict], stored: int, store: Path) -> None:
         label = f"{f['case_id']}" + (f" ({f['variant']})" if f["variant"] else "")
         click.echo(f"  {label} [{where}]: {f['error']}", err=True)
     click.echo(
-        f"  all errors and tracebacks: the cases table of {store}; after a fix, run again "
-        "with --resume --retry-failed",
+        f"  all errors and tracebacks: the cases table of {store}. To run them again as they "
+        "are (a fault of the machine, a stopped worker): --resume --retry-failed; after "
+        "changing the study file or its inputs: --restart (the store is tied to their "
+        "content; the old store is kept as a backup)",
         err=True,
     )
 

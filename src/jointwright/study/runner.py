@@ -211,10 +211,11 @@ def run_study(
     fn_ref = DEFAULT_CASE_FN if case_fn is None else (case_fn if isinstance(case_fn, str) else fn)
     cases = expand(spec)
     if fn_ref == DEFAULT_CASE_FN:
-        from .tasks import check_study_options, check_study_values
+        from .tasks import check_study_options, check_study_values, check_variants
 
         check_study_options(spec)
         check_study_values(spec)
+        check_variants(spec)
     store = StudyStore.open(store_path, spec, len(cases), restart=restart)
     try:
         todo = _select(cases, store.statuses(), Path(store_path), resume, retry_failed)

@@ -89,6 +89,35 @@ def check_study_values(spec) -> None:
             ) from None
 
 
+def check_variants(spec) -> None:
+    """Load the base project once per variant with its settings (every ``set`` path at its
+    value): an error in one of those settings (a misspelt stage kind, a value the project
+    refuses there) is reported before any case runs, naming the study file and the variant, not
+    after every case of the variant has failed. Errors elsewhere in the project are left to the
+    cases, which record them."""
+    import copy
+
+    from ..project import project_from_dict
+    from .paths import set_path
+
+    for k, v in enumerate(spec.variants):
+        if not v.assignments:
+            continue
+        project = copy.deepcopy(spec.base_project)
+        for path, value in v.assignments:
+            set_path(project, path, value)
+        try:
+            project_from_dict(project, spec.base_dir / "project (study case).toml")
+        except InputError as exc:
+            for path, value in v.assignments:
+                if exc.field == path or exc.field.startswith((path + ".", path + "[")):
+                    raise InputError(
+                        spec.file,
+                        f"variant[{k}].set",
+                        f"{path} = {value!r} ({v.name}): {exc.field}: {exc.rule}",
+                    ) from None
+
+
 def _number(text: str):
     try:
         return int(text)
