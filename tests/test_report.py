@@ -597,3 +597,27 @@ def test_decision_names_each_joints_drive(built):
     decision = html[html.index("Decision: the actuator of each joint") : html.index("Tightest")]
     assert ("<th>drive</th>" in decision) == bool(drives)
     assert all(d in decision for d in drives)
+
+
+def test_summary_risks_name_the_worst_band_end_an_uncertain_lock_and_no_duty_cycle():
+    """A margin thin only at the worst end of the efficiency band (+11.2 % nominal, +5.5 % at
+    the worst end: relative margin (achieved − limit)/|limit| [trade]) is a thin margin; a
+    joint whose backward efficiency band crosses 0 may or may not self-lock; a project without
+    a duty cycle says so instead of claiming thermal limits over the cycles given."""
+    from jointwright.report.summary import risks
+
+    speed = {**_check("transfer", "speed_min", 1.112, 1.0, 0.112, "m/s"), "margin_worst": 0.055}
+    a = {
+        "checks": [speed],
+        "joints": [
+            {"joint": "elbow", "self_locking": True, "eta_backward_band": [-0.74, 0.13]},
+            {"joint": "wrist", "self_locking": False, "eta_backward_band": [0.5, 0.6]},
+        ],
+        "cases": [{"name": "lift", "kind": "payload", "metrics": {}}],
+    }
+    got = " | ".join(risks(a))
+    assert "Self-locking: elbow cannot be pushed back" in got and "it holds its load" in got
+    assert "Uncertain self-locking: the backward efficiency band of elbow crosses 0" in got
+    assert "wrist" not in got
+    assert "transfer: speed min (+11.2 %, +5.5 % at the worst end)" in got
+    assert "No duty cycle" in got and "thermal limits not checked (no duty cycle given)" in got

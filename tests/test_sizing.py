@@ -292,3 +292,15 @@ def test_a_stopped_run_says_whether_its_value_is_proven():
     open_ = _message("time_limit", "payload", 26.93, (), 0.05, 1e-4)
     assert "see bound and gap" in open_ and "proven" not in open_
     assert "proven within 0.05 %" in _message("optimal", "payload", 26.93, (), 5e-4, 1e-3)
+
+
+@pytest.mark.slow
+def test_a_runner_up_is_shown_once_per_joint():
+    """The best option of another motor can also be the best of another stage type; it is shown
+    once per joint (as the stage type's, since it changes the stack too), not twice."""
+    from jointwright.project import load_example
+    from jointwright.sizing import size
+
+    res = size(load_example("arm"), time_limit=60)
+    seen = [(a.joint, a.actuator) for a in res.alternatives]
+    assert seen and len(seen) == len(set(seen))

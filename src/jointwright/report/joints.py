@@ -42,7 +42,7 @@ def joints_section(a: dict) -> Section:
                 Cell(number(j["eta_backward"], 3) + lock, "num"),
                 _tagged(j["capacity_motoring"], "N·m", name, "drive"),
                 _tagged(j["capacity_backdriven"], "N·m", name, "holding"),
-                Cell(fmt(j["gear_peak_torque"], "N·m"), "num"),
+                Cell(fmt(j["gear_peak_torque"], "N·m") if j["stages"] else "— (no gear)", "num"),
             ]
         )
         row = (

@@ -60,6 +60,15 @@ def _margin(c: dict) -> str:
     return margin_text(c["margin"], c["limit"], c.get("sense"))
 
 
+def _margin_both(c: dict) -> str:
+    """The margin, and the one at the worst end of the efficiency band when that is lower."""
+    text = _margin(c)
+    worst = c.get("margin_worst")
+    if worst is not None and _f(worst) < _f(c["margin"]) - 1e-12:
+        text += f", {margin_text(worst, c['limit'], c.get('sense'))} at the worst end"
+    return text
+
+
 #: with more joints than this, joints with the same actuator share one row of the decision table
 GROUP_ABOVE = 8
 
@@ -178,17 +187,38 @@ def risks(a: dict, sensitivity: dict | None = None) -> list[str]:
         )
     locking = [j["joint"] for j in a["joints"] if j["self_locking"]]
     if locking:
+        one = len(locking) == 1
         out.append(
             f"Self-locking: {', '.join(locking)} cannot be pushed back by a person or an "
-            "obstacle and hold their load unpowered only as long as the gear friction "
-            "lasts; treat them as pinch and crush points."
+            f"obstacle; {'it holds' if one else 'each holds'} its load unpowered only as long "
+            "as its gear friction lasts (it varies with load, temperature and wear). Treat "
+            f"{'it as a pinch and crush point' if one else 'them as pinch and crush points'}."
         )
-    thin = [c for c in a["checks"] if c["ok"] and _f(c["margin"]) < THIN_MARGIN]
-    if thin:
-        items = ", ".join(f"{label} ({_margin(c)})" for c, label in _grouped(a, thin))
+    unsure = [
+        j["joint"]
+        for j in a["joints"]
+        if isinstance(j.get("eta_backward_band"), list)
+        and len(j["eta_backward_band"]) == 2
+        and _f(j["eta_backward_band"][0]) <= 0.0 < _f(j["eta_backward_band"][1])
+    ]
+    if unsure:
         out.append(
-            f"Thin margins (below {100 * THIN_MARGIN:.0f} %): {items}; a small change of "
-            "load, catalog data or efficiency can miss them."
+            f"Uncertain self-locking: the backward efficiency band of {', '.join(unsure)} "
+            "crosses 0, so the joint may or may not self-lock with temperature, load and wear; "
+            "rely on neither holding nor yielding (Appendix: cautions)."
+        )
+    # thin at the nominal efficiencies or at the worst end of the efficiency band
+    thin = [
+        c
+        for c in a["checks"]
+        if c["ok"] and min(_f(c["margin"]), _f(c.get("margin_worst", c["margin"]))) < THIN_MARGIN
+    ]
+    if thin:
+        items = ", ".join(f"{label} ({_margin_both(c)})" for c, label in _grouped(a, thin))
+        out.append(
+            f"Thin margins (below {100 * THIN_MARGIN:.0f} %, nominal or at the worst end of "
+            f"the efficiency band): {items}; a small change of load, catalog data or "
+            "efficiency can miss them."
         )
     for c in a["cases"]:
         use = c["metrics"].get("rating_use") if c["kind"] == "duty" else None
@@ -200,12 +230,20 @@ def risks(a: dict, sensitivity: dict | None = None) -> list[str]:
                 f"{fmt(100 * use, '%')} of its motor's {quantity}; a hotter "
                 "room or a longer cycle can overheat it."
             )
+    duty = any(c["kind"] == "duty" for c in a["cases"])
+    if not duty:
+        out.append(
+            "No duty cycle: continuous (RMS) torque, winding temperature and gear life are not "
+            "checked, only peaks; a design that meets them can still overheat when it holds or "
+            "repeats a load."
+        )
     if sensitivity:
         out.append(sensitivity_risk(sensitivity))
     out.append(
-        "Assumed: rigid links and gears, the catalog's efficiencies and peak ratings at "
-        "any speed; thermal limits only over the duty cycles given (Appendix: "
-        "assumptions, limits and cautions)."
+        "Assumed: rigid links and gears, the catalog's efficiencies and peak ratings at any "
+        "speed; thermal limits "
+        + ("only over the duty cycles given" if duty else "not checked (no duty cycle given)")
+        + " (Appendix: assumptions, limits and cautions)."
     )
     return out[:MAX_RISKS]
 

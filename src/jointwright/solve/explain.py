@@ -183,6 +183,10 @@ def alternatives(
             else:
                 o_pos, why = 0, None
             picks[change].append((key, int(first[o_pos]), None, why))
+        # an option that is the best of another motor and of another stage type at once is
+        # shown once, as the stage type's (it changes the stack too)
+        by_stage = {p[1] for p in picks["other stage type"]}
+        picks["other motor"] = [p for p in picks["other motor"] if p[1] not in by_stage]
         for change in ("other motor", "other stage type"):
             picked = picks[change]
             picked.sort(key=lambda p: (p[2] is None, -(p[2] or 0.0), p[1]))
