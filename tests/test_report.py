@@ -248,6 +248,17 @@ def test_summary_comes_first_with_the_decision_and_the_tightest_margins(built):
         else f"misses {missed} of {len(a['checks'])} requirements"
     )
     assert verdict in top
+    # the verdict states the sizing's payload objective: the least payload mass over the cases
+    from jointwright.report.markup import fmt
+
+    carried = [
+        float(c["metrics"]["payload_carried"])
+        for c in a["cases"]
+        if c["kind"] in ("payload", "stance")
+        and isinstance(c["metrics"].get("payload_carried"), (int, float))
+    ]
+    if carried:
+        assert f"payload {fmt(min(carried), 'kg')} in every payload case" in top
     # the three smallest margins, smallest first
     shown = [k for k in re.findall(r'data-summary-check="([^"]+)"', top)]
     order = sorted(a["checks"], key=lambda c: float(c["margin"]))[:3]

@@ -139,6 +139,15 @@ def _verdict(a: dict) -> tuple[str, bool]:
     totals = f"actuators {fmt(a['total_mass'], 'kg')}"
     if has_costs(a):
         totals += f", cost {cost_text(a['total_cost'])} (catalog currency)"
+    carried = [
+        _f(c["metrics"].get("payload_carried"))
+        for c in a.get("cases", [])
+        if c.get("kind") in ("payload", "stance")
+        and isinstance(c["metrics"].get("payload_carried"), (int, float))
+    ]
+    carried = [v for v in carried if math.isfinite(v)]
+    if carried:  # the sizing's payload objective: the least payload mass over the cases
+        totals = f"payload {fmt(min(carried), 'kg')} in every payload case; " + totals
     if not checks:
         return f"The design “{a['design']}” is assessed against no requirement; {totals}.", True
     if not missed:
