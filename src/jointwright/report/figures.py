@@ -116,15 +116,21 @@ def points_figure(
     label: str = "non-dominated designs",
     width: float = WIDTH,
     height: float = 4.2,
+    steps: str | None = None,
 ) -> Figure:
-    """Points (x, y) joined in order of x (a frontier), ``chosen`` ringed; ``width`` and
-    ``height`` in inches (the summary's thumbnail is smaller)."""
+    """Points (x, y) joined in order of x (a frontier), ``chosen`` ringed (in the colour of
+    :func:`frontier_figure`'s ring); ``width`` and ``height`` in inches (the summary's thumbnail
+    is smaller); ``steps`` "pre"/"post": a staircase between discrete designs, as
+    :func:`frontier_figure` draws it."""
     fig, (ax,) = new_figure(height=height, width=width)
     pts = np.asarray(points, dtype=float).reshape(-1, 2)
     order = np.argsort(pts[:, 0], kind="stable")
-    ax.plot(pts[order, 0], pts[order, 1], "o-", color="#3b6ea5", lw=1.4, ms=4.5, label=label)
+    draw = {"drawstyle": f"steps-{steps}"} if steps in ("pre", "post") else {}
+    ax.plot(
+        pts[order, 0], pts[order, 1], "o-", color="#3b6ea5", lw=1.4, ms=4.5, label=label, **draw
+    )
     if chosen is not None:
-        ax.plot(*chosen, "o", ms=11, mfc="none", mec="#c0703c", mew=2.0, label="chosen design")
+        ax.plot(*chosen, "o", ms=11, mfc="none", mec="#5b8c3a", mew=2.0, label="chosen design")
     # labels wrapped to the figure (about 8 characters an inch of height for the y label, 12 of
     # width for the x label): a long label in a small figure (the summary's) is never clipped
     set_labels(

@@ -330,6 +330,7 @@ def frontier_thumbnail(frontier: dict, fig_dir: Path) -> str:
         title="Frontier of non-dominated designs",
         width=4.8,
         height=2.8,
+        steps=frontier.get("steps"),
     )
     png = figures.save(fig, fig_dir, "summary-frontier")
     where = (
