@@ -150,3 +150,36 @@ def test_a_mistake_in_a_variant_is_caught_before_any_case_runs(tmp_path):
     assert f"{study}: variant[1].set: catalog.stage_kinds = ['planetry'] (planetary-only)" in text
     assert "unknown stage kind 'planetry'" in text and "Traceback" not in text
     assert not (study.parent / "results.sqlite").exists()
+
+
+def test_the_terminal_table_keeps_to_what_varies(monkeypatch):
+    """A variant's own setting (a list of stage kinds) is named by the variant, not repeated as
+    a column in Python's list form; the gap column appears only when a case stopped at its time
+    limit; the table fits 100 columns (nothing cut at the right edge)."""
+    from types import SimpleNamespace
+
+    from jointwright.commands import _format
+    from jointwright.commands.study import _param_text, case_table
+
+    def row(i, variant, mass, kinds, status="optimal"):
+        params = {"requirements.total_mass_max": mass}
+        if kinds is not None:
+            params["catalog.stage_kinds"] = kinds
+        metrics = {"sizing_status": status, "objective": 8.1, "gap": 2e-3, "total_mass": 2.9}
+        return SimpleNamespace(
+            index=i, variant=variant, params=params, status="done", metrics=metrics, wall_time=4.0
+        )
+
+    rows = [
+        row(0, "free", "3.0 kg", None),
+        row(1, "planetary-only", "3.0 kg", ["planetary"]),
+        row(2, "planetary-only", "3.6 kg", ["planetary"]),
+    ]
+    assert _param_text(["planetary", "cycloidal"]) == "planetary, cycloidal"
+    monkeypatch.setenv("COLUMNS", "100")
+    monkeypatch.setattr(_format, "_console", None)
+    t = case_table("s", rows, max_rows=10)
+    names = [c.header for c in t.columns]
+    assert "stage_kinds" not in names and "gap" not in names and "time" in names
+    stopped = case_table("s", [*rows[:2], row(2, "free", "3.6 kg", None, "time_limit")], max_rows=9)
+    assert "gap" in [c.header for c in stopped.columns]

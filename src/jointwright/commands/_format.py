@@ -113,12 +113,15 @@ def table(
     # names stay whole only when every column that does not wrap still fits the console
     needed = sum((w if s or n else least) + 3 for s, n, w, least in spec) + 1
     keep_names = needed <= console().width
+    # short cells stay whole unless even those alone overflow the console: then they fold too,
+    # rather than the table being cut off at its right edge
+    keep_short = sum((w if s else least) + 3 for s, _n, w, least in spec) + 1 <= console().width
     t = Table(title=title, title_justify="left", caption=caption, caption_justify="left")
     for c, (short, name, _whole, _least) in zip(columns, spec, strict=True):
         t.add_column(
             c,
             overflow="fold",
-            no_wrap=short or (name and keep_names),
+            no_wrap=(short and keep_short) or (name and keep_names),
             min_width=min(UNBROKEN, max([len(w) for w in c.split()] + [1])),
         )
     for r in rows:

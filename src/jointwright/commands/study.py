@@ -158,13 +158,26 @@ def case_table(name: str, rows, *, max_rows: int):
     from ..units import format_number
 
     params = list(dict.fromkeys(k for r in rows for k in r.params))
-    short = {k: k.rsplit(".", 1)[-1] for k in params}
     variants = any(r.variant for r in rows)
+    if variants:  # a value fixed within every variant is its setting: the variant names it
+        params = [
+            k
+            for k in params
+            if any(
+                len({_param_text(r.params.get(k, "")) for r in rows if r.variant == v}) > 1
+                for v in {r.variant for r in rows}
+            )
+        ]
+    short = {k: k.rsplit(".", 1)[-1] for k in params}
+    # the gap only when a case stopped at its time limit (an optimal case is within the gap)
+    stopped = any(r.metrics.get("sizing_status") == "time_limit" for r in rows[:max_rows])
     cols = (
         ["#"]
         + (["variant"] if variants else [])
         + [short[k] for k in params]
-        + ["status", "objective", "gap", "actuators", "time"]
+        + ["status", "objective"]
+        + (["gap"] if stopped else [])
+        + ["actuators", "time"]
     )
     body = []
     for r in rows[:max_rows]:
@@ -178,13 +191,21 @@ def case_table(name: str, rows, *, max_rows: int):
         body.append(
             [str(r.index + 1)]
             + ([r.variant or ""] if variants else [])
-            + [str(r.params.get(k, "")) for k in params]
+            + [_param_text(r.params.get(k, "")) for k in params]
             + [
                 status,
                 format_number(m.get("objective"), 4) if m.get("objective") is not None else "—",
-                f"{100 * gap:.2g} %"
-                if isinstance(gap, (int, float)) and gap == gap and abs(gap) != float("inf")
-                else "—",
+            ]
+            + (
+                [
+                    f"{100 * gap:.2g} %"
+                    if isinstance(gap, (int, float)) and gap == gap and abs(gap) != float("inf")
+                    else "—"
+                ]
+                if stopped
+                else []
+            )
+            + [
                 num(m.get("total_mass"), "kg") if m.get("total_mass") is not None else "—",
                 f"{r.wall_time:.3g} s" if isinstance(r.wall_time, (int, float)) else "—",
             ]
@@ -192,6 +213,13 @@ def case_table(name: str, rows, *, max_rows: int):
     more = len(rows) - max_rows
     caption = f"the first {max_rows} of {len(rows)} cases" if more > 0 else None
     return table(f"study {name}", cols, body, caption=caption)
+
+
+def _param_text(value) -> str:
+    """A varied value as written: a list of names as "planetary, cycloidal", not Python's."""
+    if isinstance(value, (list, tuple)):
+        return ", ".join(str(v) for v in value)
+    return str(value)
 
 
 def _slots(count: int, backend: str) -> str:
