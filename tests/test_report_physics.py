@@ -512,3 +512,29 @@ def test_the_study_section_counts_cases_that_found_no_design(tmp_path):
     s = study_results.study_section({**STUDY, "cases": cases}, tmp_path)
     assert "6 cases: 4 with a design, 1 that ran and found none" in s.body
     assert "1 that did not run to the end" in s.body
+
+
+def test_variants_that_tie_at_the_best_are_both_marked():
+    """Two variants with the same lead result (8.122 kg both, as shown) at one setting: both
+    are the best, marked as a tie; a strictly better one alone is marked best."""
+    lead = {"key": "objective", "label": "payload", "unit": "kg", "better": "max"}
+    params = [{"key": "budget", "label": "budget", "unit": "kg"}]
+
+    def case(name, variant, budget, value):
+        return {
+            "case": name,
+            "variant": variant,
+            "status": "optimal",
+            "values": {"budget": budget},
+            "results": {"objective": value},
+        }
+
+    cases = [
+        case("a", "free", 3.0, 8.1221),
+        case("b", "planetary-only", 3.0, 8.1219),
+        case("c", "free", 3.6, 26.93),
+        case("d", "planetary-only", 3.6, 20.97),
+    ]
+    html = study_results._variant_pivot(cases, params, lead)
+    assert html.count("(best, tie)") == 2
+    assert "26.93 kg (best)" in html and "20.97 kg (best" not in html

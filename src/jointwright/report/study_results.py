@@ -67,6 +67,14 @@ def _study_groups(cases, params, param, result, variants: bool):
     return groups
 
 
+def _shown(case: dict, lead: dict) -> str | None:
+    """A case's lead result as the table shows it (None without a number)."""
+    v = case["results"].get(lead["key"])
+    if not isinstance(v, (int, float)) or isinstance(v, bool):
+        return None
+    return _study_value(v, lead.get("unit"))
+
+
 def _variant_pivot(cases: list[dict], params: list[dict], lead: dict) -> str:
     """The lead result of every variant side by side, one row per setting of the parameters,
     the best variant of each row marked."""
@@ -90,10 +98,13 @@ def _variant_pivot(cases: list[dict], params: list[dict], lead: dict) -> str:
                 if isinstance(value, (int, float)) and not isinstance(value, bool)
                 else str(c.get("status") or "—").replace("_", " ")
             )
-            mark = c is best
+            # every variant equal to the best (to the shown digits) is marked: a tie is a tie
+            shown_best = None if best is None else _shown(best, lead)
+            mark = c is best or (shown_best is not None and _shown(c, lead) == shown_best)
+            tie = mark and sum(_shown(o, lead) == shown_best for o in by.values()) > 1
             row.append(
                 Cell(
-                    text + (" (best)" if mark else ""),
+                    text + ((" (best, tie)" if tie else " (best)") if mark else ""),
                     "num ok" if mark else "num",
                     (("study-pivot", f"{c['case']}"),),
                 )
