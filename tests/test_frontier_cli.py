@@ -107,6 +107,12 @@ def test_the_report_says_which_points_of_a_stopped_front_are_not_proven(tmp_path
     assert "every point shown is proven" not in weak.body
     assert weak.body.count("not proven") >= 2  # the caption and the point's row
     assert "every point shown is proven" in strong.body and "not proven" not in strong.body
+    assert "the others are proven non-dominated" in weak.body
+    # every point unproven: no "others" to speak of
+    none = front(False)
+    none["points"][0]["proven"] = False
+    both = frontier_section(frontier_from_sweep(none, {"cases": []}), tmp_path / "c")
+    assert "All 2 points are marked not proven" in both.body and "others" not in both.body
 
 
 @pytest.mark.slow

@@ -135,15 +135,19 @@ def frontier_section(data: dict, fig_dir: Path, file: str = "<frontier>") -> Sec
             "the least mass or cost, and breaks payload ties by the least mass)."
         )
     region = data.get("unexplored")
-    marked = (
-        f"{weak} of the {len(pts)} points {'is' if weak == 1 else 'are'} marked not proven: a "
-        "search stopped on each, so a design that beats it may exist"
-    )
-    if data.get("complete") is False and isinstance(region, str) and weak:
-        caption += (
-            f" The search stopped early (time limit or solve budget); {region}. {marked}; the "
-            "others are proven non-dominated."
+    if weak == len(pts):
+        marked = (
+            f"{'The point is' if weak == 1 else f'All {weak} points are'} marked not proven: a "
+            "search stopped on each, so a design that beats it may exist"
         )
+    else:
+        marked = (
+            f"{weak} of the {len(pts)} points {'is' if weak == 1 else 'are'} marked not proven: "
+            "a search stopped on each, so a design that beats it may exist; the others are "
+            "proven non-dominated"
+        )
+    if data.get("complete") is False and isinstance(region, str) and weak:
+        caption += f" The search stopped early (time limit or solve budget); {region}. {marked}."
     elif data.get("complete") is False and isinstance(region, str):
         caption += (
             " The search stopped early (time limit or solve budget): every point shown is "
