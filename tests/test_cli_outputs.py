@@ -253,3 +253,21 @@ def test_results_of_another_project_are_refused_by_the_report(tmp_path):
         assert r.exit_code == 2 and "Traceback" not in r.output, r.output
         assert f"{path}: {field}: {words}" in " ".join(r.output.split())
         assert not out.exists()
+
+
+def test_a_renamed_copy_of_an_unnamed_project_takes_its_own_sizing(tmp_path):
+    """A project without [project] name is named after its file: the sizing result of
+    project.toml is that of final.toml too (same joints), so the report takes it."""
+    d = _leg(tmp_path)
+    text = (d / "project.toml").read_text()
+    start = text.index("[project]")
+    end = text.index("\n[", start + 1)
+    (d / "project.toml").write_text(text[:start] + text[end + 1 :])
+    sizing = tmp_path / "size.json"
+    r = _run(["size", d / "project.toml", "--time-limit", "30", "--no-explain", "--json"])
+    assert r.exit_code == 0, r.output
+    sizing.write_text(r.output[r.output.index("{") :], encoding="utf-8")
+    shutil.copy(d / "project.toml", d / "final.toml")
+    r = _run(["report", d / "final.toml", "--design", d / "design.toml", "--sizing", sizing,
+              "--out", tmp_path / "rep"])  # fmt: skip
+    assert r.exit_code == 0, r.output

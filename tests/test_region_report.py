@@ -142,6 +142,8 @@ def test_tightest_margins_and_risks_name_a_region_once_by_its_worst_pose():
         c["margin"] = 0.01 if c["subject"].startswith("reach-region@") else 0.5
         c["ok"] = True
     next(c for c in d["checks"] if c["subject"] == worst)["margin"] = 0.001
+    for c in d["checks"]:  # the efficiency band's worst end as the nominal (no band here)
+        c["margin_worst"] = c["margin"]
     table = summary.margins_table(d)
     assert table.count('data-summary-check="reach-region@') == 1  # one row, its worst pose
     assert f"reach-region: payload min (worst of 3 poses: {worst})" in table

@@ -623,12 +623,48 @@ def test_summary_risks_name_the_worst_band_end_an_uncertain_lock_and_no_duty_cyc
         "joints": [
             {"joint": "elbow", "self_locking": True, "eta_backward_band": [-0.74, 0.13]},
             {"joint": "wrist", "self_locking": False, "eta_backward_band": [0.5, 0.6]},
+            {"joint": "hip", "self_locking": False, "eta_backward_band": [-0.05, 0.4]},
         ],
         "cases": [{"name": "lift", "kind": "payload", "metrics": {}}],
     }
     got = " | ".join(risks(a))
     assert "Self-locking: elbow cannot be pushed back" in got and "it holds its load" in got
-    assert "Uncertain self-locking: the backward efficiency band of elbow crosses 0" in got
-    assert "wrist" not in got
+    assert "Uncertain self-locking: the backward efficiency band of hip crosses 0" in got
+    assert "wrist" not in got and "band of elbow" not in got
     assert "transfer: speed min (+11.2 %, +5.5 % at the worst end)" in got
     assert "No duty cycle" in got and "thermal limits not checked (no duty cycle given)" in got
+
+
+def test_summary_names_a_miss_at_the_band_end_and_no_payload_below_the_fixed_load():
+    """A check met nominally but missed at the worst end of the efficiency band is said to be
+    missed there, not "thin"; a nominally self-locking joint is not also "uncertain"; a design
+    below a case's fixed load carries no payload (never "−24 kg")."""
+    from jointwright.report.outcome import _payload_words
+    from jointwright.report.summary import _verdict, risks
+
+    edge = {**_check("lift", "payload_min", 130.0, 100.0, 0.30), "margin_worst": -0.08}
+    a = {
+        "checks": [edge],
+        "joints": [{"joint": "elbow", "self_locking": True, "eta_backward_band": [-0.7, 0.1]}],
+        "cases": [
+            {"name": "lift", "kind": "payload", "metrics": {"payload_carried": -24.0}},
+            {"name": "push", "kind": "payload", "metrics": {"payload_carried": 3.0}},
+        ],
+        "design": "d",
+        "total_mass": 1.0,
+        "total_cost": 0.0,
+    }
+    got = " | ".join(risks(a))
+    assert "Missed at the worst end of the efficiency band: lift: payload min" in got
+    assert "Thin margins" not in got and "Uncertain self-locking" not in got
+    text, _ok = _verdict(a)
+    assert "no payload (a case does not carry its own fixed load)" in text and "-24" not in text
+    cases = [
+        {"name": n, "kind": "payload", "limiting_joint": None,
+         "metrics": {"payload": f, "payload_carried": m}}
+        for n, f, m in (("lift", 10.0, -24.0), ("push", 50.0, 3.0))
+    ]  # fmt: skip
+    from jointwright.project import load_example
+
+    head = _payload_words({"cases": cases, "checks": [], "joints": []}, load_example("leg"))[0]
+    assert head == "The design carries no payload: case lift does not carry its own fixed load."

@@ -183,3 +183,28 @@ def test_the_terminal_table_keeps_to_what_varies(monkeypatch):
     assert "stage_kinds" not in names and "gap" not in names and "time" in names
     stopped = case_table("s", [*rows[:2], row(2, "free", "3.6 kg", None, "time_limit")], max_rows=9)
     assert "gap" in [c.header for c in stopped.columns]
+    # a [[vary]] parameter of a single value is the same in every case of every variant: kept
+    one = [row(i, v, "3.0 kg", None) for i, v in enumerate(("free", "other"))]
+    assert "total_mass_max" in [c.header for c in case_table("s", one, max_rows=9).columns]
+
+
+def test_a_variant_setting_valid_with_the_varied_values_is_not_refused(tmp_path):
+    """The variant's check loads its first real case (the varied values applied): a setting
+    that conflicts only with the base value of a varied field (knee ratio_min 20 against a base
+    ratio_max of 10, varied to 30 and 40) is valid and the study is not refused for it."""
+    from jointwright.study import load_study
+    from jointwright.study.tasks import check_variants
+
+    study = _leg_study(
+        tmp_path, path="requirements.joint.knee.ratio_max", values="[30, 40]"
+    )
+    project = study.parent / "project.toml"
+    text = project.read_text()
+    assert 'mass_max = "1.6 kg"' in text
+    project.write_text(text.replace('mass_max = "1.6 kg"', 'mass_max = "1.6 kg"\nratio_max = 10'))
+    study.write_text(
+        study.read_text()
+        + '[[variant]]\nname = "geared"\nset = { "requirements.joint.knee.ratio_min" = 20 }\n',
+        encoding="utf-8",
+    )
+    check_variants(load_study(study))  # no error: every case of the variant loads

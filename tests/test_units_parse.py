@@ -79,3 +79,5 @@ def test_large_numbers_are_written_in_full_with_grouped_thousands():
     assert format_number(1328.04, 3) == "1,330"
     assert format_number(2.54e-05) == "2.54e-05"
     assert format_number(1.2e9) == "1.2e+09"
+    # inside a list of numbers the commas separate entries: no grouping there
+    assert format_number(12000, group=False) == "1.2e+04"

@@ -152,12 +152,14 @@ def nonnegative(value: Any, dimension: str, *, file: str = "<api>", field: str =
     return out
 
 
-def format_number(value, digits: int = 4, *, minus: str = "-") -> str:
+def format_number(value, digits: int = 4, *, minus: str = "-", group: bool = True) -> str:
     """``value`` with ``digits`` significant digits for people to read.
 
     Infinities are written ∞ / −∞ (a self-locking holding capacity is infinite, never NaN);
     None and NaN are "—" (not assessed); strings "inf"/"-inf" from JSON count as infinities and
-    other strings pass through. ``minus`` is the sign used for negative numbers.
+    other strings pass through. ``minus`` is the sign used for negative numbers; ``group``:
+    numbers from 10^digits on in full with grouped thousands ("13,280"); off inside a list of
+    numbers, where the commas separate the entries.
     """
     if value is None:
         return "—"
@@ -171,7 +173,7 @@ def format_number(value, digits: int = 4, *, minus: str = "-") -> str:
     if math.isinf(v):
         return "∞" if v > 0 else f"{minus}∞"
     rounded = float(f"{v:.{digits}g}")
-    if 10.0**digits <= abs(rounded) < GROUPED_MAX:
+    if group and 10.0**digits <= abs(rounded) < GROUPED_MAX:
         # a large number in full with its thousands grouped ("13,280", not "1.328e+04"),
         # still rounded to ``digits`` significant digits
         return f"{rounded:,.0f}".replace("-", minus)

@@ -45,7 +45,10 @@ def _same_project(p, sizing, sizing_file, frontier, frontier_file, study_store) 
 
     if isinstance(sizing, dict) and isinstance(sizing.get("assessment"), dict):
         a = sizing["assessment"]
-        if a.get("project") not in (None, p.name):
+        # a project without [project] name is named after its file: a copy under another
+        # name is the same project, so only an explicit name is compared (the joints always)
+        named = p.name != p.file.stem
+        if named and a.get("project") not in (None, p.name):
             raise other(sizing_file, "assessment.project", f"names project {a['project']!r}")
         named = [str(j.get("joint")) for j in a.get("joints", []) if isinstance(j, dict)]
         if named and named != joints:

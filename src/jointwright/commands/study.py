@@ -159,15 +159,17 @@ def case_table(name: str, rows, *, max_rows: int):
 
     params = list(dict.fromkeys(k for r in rows for k in r.params))
     variants = any(r.variant for r in rows)
-    if variants:  # a value fixed within every variant is its setting: the variant names it
-        params = [
-            k
-            for k in params
-            if any(
+    if variants:  # a value fixed within every variant but not across them is the variant's
+        # setting: the variant names it (a [[vary]] parameter of one value stays)
+        def varies(k: str) -> bool:
+            everywhere = {_param_text(r.params[k]) if k in r.params else None for r in rows}
+            within = any(
                 len({_param_text(r.params.get(k, "")) for r in rows if r.variant == v}) > 1
                 for v in {r.variant for r in rows}
             )
-        ]
+            return within or (len(everywhere) == 1 and None not in everywhere)
+
+        params = [k for k in params if varies(k)]
     short = {k: k.rsplit(".", 1)[-1] for k in params}
     # the gap only when a case stopped at its time limit (an optimal case is within the gap)
     stopped = any(r.metrics.get("sizing_status") == "time_limit" for r in rows[:max_rows])

@@ -182,7 +182,9 @@ def _payload_words(a: dict, project) -> list[str]:
     if len(finite) > 1:
         least = min(finite, key=lambda k: finite[k])
         head = (
-            f"The design carries a payload of {fmt(finite[least], 'kg')} in every payload "
+            f"The design carries no payload: case {least} does not carry its own fixed load."
+            if finite[least] < 0
+            else f"The design carries a payload of {fmt(finite[least], 'kg')} in every payload "
             f"case (the least, in case {least})."
         )
         return [head, text + "."]

@@ -146,7 +146,9 @@ def _verdict(a: dict) -> tuple[str, bool]:
         and isinstance(c["metrics"].get("payload_carried"), (int, float))
     ]
     carried = [v for v in carried if math.isfinite(v)]
-    if carried:  # the sizing's payload objective: the least payload mass over the cases
+    if carried and min(carried) < 0:  # below a case's fixed load: no payload, not a negative one
+        totals = "no payload (a case does not carry its own fixed load); " + totals
+    elif carried:  # the sizing's payload objective: the least payload mass over the cases
         totals = f"payload {fmt(min(carried), 'kg')} in every payload case; " + totals
     if not checks:
         return f"The design “{a['design']}” is assessed against no requirement; {totals}.", True
@@ -206,7 +208,8 @@ def risks(a: dict, sensitivity: dict | None = None) -> list[str]:
     unsure = [
         j["joint"]
         for j in a["joints"]
-        if isinstance(j.get("eta_backward_band"), list)
+        if not j["self_locking"]  # a nominal lock is named above already
+        and isinstance(j.get("eta_backward_band"), list)
         and len(j["eta_backward_band"]) == 2
         and _f(j["eta_backward_band"][0]) <= 0.0 < _f(j["eta_backward_band"][1])
     ]
@@ -216,11 +219,24 @@ def risks(a: dict, sensitivity: dict | None = None) -> list[str]:
             "crosses 0, so the joint may or may not self-lock with temperature, load and wear; "
             "rely on neither holding nor yielding (Appendix: cautions)."
         )
+    # met at the nominal efficiencies but missed at the worst end of the efficiency band
+    edge = [c for c in a["checks"] if c["ok"] and _f(c.get("margin_worst", c["margin"])) < 0]
+    if edge:
+        items = ", ".join(f"{label} ({_margin_both(c)})" for c, label in _grouped(a, edge))
+        out.append(
+            f"Missed at the worst end of the efficiency band: {items}; met only at the "
+            "nominal efficiencies."
+        )
     # thin at the nominal efficiencies or at the worst end of the efficiency band
+    # a region of poses is named once: among the misses at the band's end when a pose is there
+    at_edge = {c["subject"].split("@")[0] for c in edge if "@" in c["subject"]}
     thin = [
         c
         for c in a["checks"]
-        if c["ok"] and min(_f(c["margin"]), _f(c.get("margin_worst", c["margin"]))) < THIN_MARGIN
+        if c["ok"]
+        and c not in edge
+        and not ("@" in c["subject"] and c["subject"].split("@")[0] in at_edge)
+        and min(_f(c["margin"]), _f(c.get("margin_worst", c["margin"]))) < THIN_MARGIN
     ]
     if thin:
         items = ", ".join(f"{label} ({_margin_both(c)})" for c, label in _grouped(a, thin))

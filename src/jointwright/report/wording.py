@@ -139,7 +139,11 @@ def limiting_quantity_text(key) -> str:
 
 def vector_text(v, unit: str, *, minus: str = "−") -> str:
     """A 3-vector with its unit, e.g. "(0.12, 0, 0) m"."""
-    return "(" + ", ".join(format_number(x, 4, minus=minus) for x in v) + f") {unit_text(unit)}"
+    return (
+        "("
+        + ", ".join(format_number(x, 4, minus=minus, group=False) for x in v)
+        + f") {unit_text(unit)}"
+    )
 
 
 def wrench_text(case, *, minus: str = "−") -> str:

@@ -90,24 +90,27 @@ def check_study_values(spec) -> None:
 
 
 def check_variants(spec) -> None:
-    """Load the base project once per variant with its settings (every ``set`` path at its
-    value): an error in one of those settings (a misspelt stage kind, a value the project
-    refuses there) is reported before any case runs, naming the study file and the variant, not
-    after every case of the variant has failed. Errors elsewhere in the project are left to the
-    cases, which record them."""
-    import copy
-
+    """Load each variant's first case (its settings and the first values of every ``[[vary]]``
+    parameter): an error in one of the variant's own settings (a misspelt stage kind, a value
+    the project refuses there) is reported before any case runs, naming the study file and the
+    variant, not after every case of the variant has failed. Errors elsewhere, and errors the
+    varied values cause, are left to the cases, which record them."""
     from ..project import project_from_dict
-    from .paths import set_path
+    from .spec import case_project, expand
 
+    if not spec.variants:
+        return
+    first: dict = {}
+    for case in expand(spec):
+        first.setdefault(case.variant, case)
     for k, v in enumerate(spec.variants):
-        if not v.assignments:
+        found = first.get(v.name)
+        if found is None or not v.assignments:
             continue
-        project = copy.deepcopy(spec.base_project)
-        for path, value in v.assignments:
-            set_path(project, path, value)
         try:
-            project_from_dict(project, spec.base_dir / "project (study case).toml")
+            project_from_dict(
+                case_project(spec, found), spec.base_dir / "project (study case).toml"
+            )
         except InputError as exc:
             for path, value in v.assignments:
                 if exc.field == path or exc.field.startswith((path + ".", path + "[")):
