@@ -408,8 +408,12 @@ def test_a_stroke_speed_case_says_which_speed_is_which(leg_project, capsys, monk
         assert gone not in out
     assert f"beyond the stroke the motors would keep accelerating toward {steady} m/s" in out
     assert "not a speed it reaches" in out
+    # the limiting joint is named once, and the envelope only inside the note on the stroke
+    lines = [x.strip() for x in out.splitlines()]
+    at = lines.index(f"the checked end-point speed is limited by {swing.limiting_joint}")
+    assert not lines[at + 1].startswith("limited by")
     body = cases_section(a.to_dict(), leg_project).body
-    assert "unlimited stroke" not in body
+    assert "unlimited stroke" not in body and "at steady speed" not in body
     assert f"toward {steady} m/s" in body and "not a speed it reaches" in body
     assert "time to cover the stroke from rest" in body
 

@@ -179,12 +179,10 @@ def print_case(con: Console, c, a, cases: dict, revolute: dict) -> None:
     elif c.limiting_joint and c.kind == "speed":
         # the checked figure's joint; the envelope row above names the sustained speed's
         extra.append(f"the checked end-point speed is limited by {c.limiting_joint}")
-    if beyond:
-        extra.append(beyond)
-    if without_stroke(c.kind, c.metrics):
-        extra.append(without_stroke(c.kind, c.metrics))
     elif c.limiting_joint:
         extra.append(f"limited by {c.limiting_joint}")
+    # a speed case's reading: what lies beyond its stroke, or how long its speed takes
+    extra += [t for t in (beyond, without_stroke(c.kind, c.metrics)) if t]
     if c.joint_modes:
         extra.append("modes: " + modes_text(c.joint_modes))
     if c.kind == "impact" and c.metrics.get("contact_rank", 3) < 3:

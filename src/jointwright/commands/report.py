@@ -47,12 +47,11 @@ def _same_project(p, sizing, sizing_file, frontier, frontier_file, study_store) 
         a = sizing["assessment"]
         # a project without [project] name is named after its file: a copy under another
         # name is the same project, so only an explicit name is compared (the joints always)
-        named = p.name != p.file.stem
-        if named and a.get("project") not in (None, p.name):
+        if p.name != p.file.stem and a.get("project") not in (None, p.name):
             raise other(sizing_file, "assessment.project", f"names project {a['project']!r}")
-        named = [str(j.get("joint")) for j in a.get("joints", []) if isinstance(j, dict)]
-        if named and named != joints:
-            raise other(sizing_file, "assessment.joints", f"sizes joints {', '.join(named)}")
+        sized = [str(j.get("joint")) for j in a.get("joints", []) if isinstance(j, dict)]
+        if sized and sized != joints:
+            raise other(sizing_file, "assessment.joints", f"sizes joints {', '.join(sized)}")
     if isinstance(frontier, dict):
         case = frontier.get("case")
         if case is not None and case not in {c.name for c in p.cases}:

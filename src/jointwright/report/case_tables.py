@@ -100,15 +100,13 @@ def _case_notes(c: dict) -> list[str]:
     if c.get("joint_modes"):
         notes.append("modes: " + modes_text(c["joint_modes"]))
     beyond = beyond_stroke(c["metrics"])
-    if beyond:
-        notes.append(beyond)
-    if without_stroke(c["kind"], c["metrics"]):
-        notes.append(without_stroke(c["kind"], c["metrics"]))
-    elif c["metrics"].get("envelope_limit"):
+    if c["metrics"].get("envelope_limit") and not beyond:  # with a stroke: in ``beyond``
         notes.append(
             f"motor at its envelope {envelope_speed(c['metrics'])}: "
             f"{c['metrics']['envelope_limit']}"
         )
+    # a speed case's reading: what lies beyond its stroke, or how long its speed takes
+    notes += [t for t in (beyond, without_stroke(c["kind"], c["metrics"])) if t]
     if c["kind"] == "impact" and c["metrics"].get("contact_rank", 3) < 3:
         notes.append(
             "the joints cannot move the contact in every direction, so the determinant "

@@ -19,7 +19,7 @@ from .markup import (
     pct,
     table,
 )
-from .wording import region_groups
+from .wording import carried_payloads, region_groups
 
 
 def _worst_first(a: dict, checks: list[dict]) -> list[tuple[dict, str]]:
@@ -173,12 +173,7 @@ def _payload_words(a: dict, project) -> list[str]:
         text += f", limited by joint {worst['limiting_joint']}: {_limiting_reason(a, worst)}"
     # the headline: the payload mass every case carries (the sizing's payload objective), which
     # the tightest margin above need not name
-    carried_by = {
-        c["name"]: as_float(c["metrics"].get("payload_carried"))
-        for c in payload
-        if isinstance(c["metrics"].get("payload_carried"), (int, float))
-    }
-    finite = {k: v for k, v in carried_by.items() if math.isfinite(v)}
+    finite = carried_payloads(a)
     if len(finite) > 1:
         least = min(finite, key=lambda k: finite[k])
         head = (

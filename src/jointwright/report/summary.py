@@ -16,7 +16,7 @@ from ..margin_words import check_label, margin_text, worst_per_region
 from . import figures
 from .frontier_map import dominating_point
 from .markup import Cell, Section, bullets, check_value, figure, fmt, number, paragraph, table
-from .wording import limiting_quantity_text
+from .wording import carried_payloads, limiting_quantity_text
 
 #: a met requirement with a relative margin below this is called thin (10 %) [trade]
 THIN_MARGIN = 0.10
@@ -139,13 +139,7 @@ def _verdict(a: dict) -> tuple[str, bool]:
     totals = f"actuators {fmt(a['total_mass'], 'kg')}"
     if has_costs(a):
         totals += f", cost {cost_text(a['total_cost'])} (catalog currency)"
-    carried = [
-        _f(c["metrics"].get("payload_carried"))
-        for c in a.get("cases", [])
-        if c.get("kind") in ("payload", "stance")
-        and isinstance(c["metrics"].get("payload_carried"), (int, float))
-    ]
-    carried = [v for v in carried if math.isfinite(v)]
+    carried = carried_payloads(a).values()
     if carried and min(carried) < 0:  # below a case's fixed load: no payload, not a negative one
         totals = "no payload (a case does not carry its own fixed load); " + totals
     elif carried:  # the sizing's payload objective: the least payload mass over the cases

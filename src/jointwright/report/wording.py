@@ -94,6 +94,18 @@ def without_stroke(kind: str, metrics: dict, *, minus: str = "-") -> str:
     return text + "; set stroke to check the speed reached within a distance"
 
 
+def carried_payloads(a: dict) -> dict[str, float]:
+    """Per payload or stance case of assessment dict ``a``, the payload mass it carries (kg,
+    finite values only): their least is the sizing's payload objective, negative when a case
+    does not carry its own fixed load."""
+    out = {}
+    for c in a.get("cases", []):
+        v = c["metrics"].get("payload_carried") if c.get("kind") in ("payload", "stance") else None
+        if isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v):
+            out[c["name"]] = float(v)
+    return out
+
+
 #: modes in the order a reader scans them: the joints doing work first
 MODE_ORDER = ("motoring", "back-driven", "holding")
 #: a last group of more joints than this reads "the other N joints"
