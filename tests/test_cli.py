@@ -390,3 +390,20 @@ def test_output_folders_given_a_file_name_are_refused_before_any_work(folders, t
         assert result.exit_code == 2
         assert f"{option}: is " in result.output + result.stderr and "folder" in result.stderr
         assert not target.exists()
+
+
+def test_motor_top_speed_reads_the_same_in_terminal_and_report(folders, api, tmp_path):
+    """The drive table's motor top speed in rad/s and in rpm, in the terminal and the report
+    alike (1 rpm = 2π/60 rad/s, the definition of the revolution per minute)."""
+    folder = folders["quadruped"]
+    project, result = api["quadruped"]
+    args = ["--design", str(folder / "design.toml")]
+    out = _run(["assess", str(folder / "project.toml"), *args]).stdout
+    _run(["report", str(folder / "project.toml"), *args, "--out", str(tmp_path / "r")])
+    html = (tmp_path / "r" / "report.html").read_text()
+    speeds = {j.motor_max_speed for j in result.joints}
+    assert speeds
+    for w in speeds:
+        cell = f"{w:.4g} rad/s = {w * 60 / (2 * math.pi):.4g} rpm"
+        assert cell in out
+        assert cell in html

@@ -330,6 +330,6 @@ class Actuator:
         return math.nan if any(math.isnan(v) for v in values) else min(values)
 
     def label(self) -> str:
-        stack = " + ".join(s.label() for s in self.stages) or "direct drive"
-        tail = f" | drive {self.drive.name}" if self.drive is not None else ""
+        stack = " + ".join(s.label() for s in self.stages) or "no gear (direct drive)"
+        tail = f" | fed by drive {self.drive.name}" if self.drive is not None else ""
         return f"{self.motor.name} | {stack}{tail}"

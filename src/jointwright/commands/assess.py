@@ -220,7 +220,8 @@ def _drives_table(a):
             j.drive or "— (motor's own ratings)",
             by(j.motor_peak_torque, "N·m", j.peak_torque_by),
             by(j.motor_continuous_torque, "N·m", j.continuous_torque_by),
-            by(j.motor_max_speed * 60 / (2 * math.pi), "rpm", j.max_speed_by),
+            f"{num(j.motor_max_speed, 'rad/s')} = "
+            + by(j.motor_max_speed * 60 / (2 * math.pi), "rpm", j.max_speed_by),
         ]
         for j in a.joints
     ]

@@ -161,7 +161,7 @@ def print_result(r, project=None) -> None:
             [
                 a.joint,
                 a.change.replace("other ", ""),
-                a.actuator.replace(" | ", " + "),
+                a.actuator.replace(" | ", ", "),
                 a.ruled_out_by
                 or (
                     "—"

@@ -3,6 +3,8 @@ inertias and, with drives, the motor ratings the drive allows."""
 
 from __future__ import annotations
 
+import math
+
 from .markup import (
     Cell,
     Section,
@@ -116,7 +118,12 @@ def _drives_table(a: dict) -> str:
             Cell(
                 f"{fmt(j['motor_continuous_torque'], 'N·m')} ({j['continuous_torque_by']})", "num"
             ),
-            Cell(f"{fmt(j['motor_max_speed'], 'rad/s')} ({j['max_speed_by']})", "num"),
+            Cell(
+                f"{fmt(j['motor_max_speed'], 'rad/s')} = "
+                f"{fmt(as_float(j['motor_max_speed']) * 60 / (2 * math.pi), 'rpm')} "
+                f"({j['max_speed_by']})",
+                "num",
+            ),
         ]
         for j in a["joints"]
     ]
