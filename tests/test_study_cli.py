@@ -148,7 +148,8 @@ def test_a_mistake_in_a_variant_is_caught_before_any_case_runs(tmp_path):
     assert res.exit_code == 2, res.output
     text = " ".join(res.output.split())
     assert f"{study}: variant[1].set: catalog.stage_kinds = ['planetry'] (planetary-only)" in text
-    assert "unknown stage kind 'planetry'" in text and "Traceback" not in text
+    assert "unknown stage kind 'planetry' (did you mean 'planetary'?)" in text
+    assert "Traceback" not in text
     assert not (study.parent / "results.sqlite").exists()
 
 

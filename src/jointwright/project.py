@@ -13,7 +13,7 @@ from typing import Any
 from .case_table import load_cases
 from .cases import BODY_REGION, CASE_KINDS, CASE_LIMITS, MOTIONS, STANDARD_GRAVITY, Case
 from .catalog.drives import drives_from_table
-from .errors import InputError
+from .errors import InputError, unknown_name
 from .poses import load_poses
 from .progress import report
 from .tomlfile import Table, load_toml
@@ -222,10 +222,8 @@ def _load_catalog(t: Table, base_dir: Path):
     if kinds is not None:
         for i, k in enumerate(kinds):
             if k not in STAGE_KINDS:
-                raise InputError(
-                    t.file,
-                    f"{t.field('stage_kinds')}[{i}]",
-                    f"unknown stage kind {k!r}; known: {', '.join(STAGE_KINDS)}",
+                raise unknown_name(
+                    t.file, f"{t.field('stage_kinds')}[{i}]", k, STAGE_KINDS, "stage kind"
                 )
         kinds = tuple(kinds)
     t.done()
