@@ -1498,6 +1498,16 @@ CATALOG += [
     ),
     _one(
         "catalog",
+        "rated life without its unit (hours by habit, seconds if read plain)",
+        "catalog.toml",
+        'rated_life = "5000 h"',
+        "rated_life = 5000",
+        "check",
+        "stage[0].frame[0].rated_life",
+        "needs its unit, got 5000",
+    ),
+    _one(
+        "catalog",
         "rated life speed given twice",
         "catalog.toml",
         'rated_life_input_speed = "3000 rpm"',

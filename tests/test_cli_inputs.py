@@ -165,6 +165,14 @@ BAD = [
         "whole number from 0 to 3",
     ),
     Bad(
+        "life_min without its unit",
+        (("project.toml", 'life_min = "10000 h"', 'life_min = "10000"'),),
+        "check",
+        "project.toml",
+        "requirements.life_min",
+        'needs its unit, got \'10000\': a life is commonly stated in hours',
+    ),
+    Bad(
         "too many stages allowed",
         (("project.toml", "max_stages = 1", "max_stages = 4"),),
         "check",

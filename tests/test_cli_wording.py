@@ -406,16 +406,25 @@ def test_a_stroke_speed_case_says_which_speed_is_which(leg_project, capsys, monk
     assert "end-point speed at the end of the stroke, with the load" in out
     for gone in ("unlimited stroke", "no-load speed", "steady speed with no stroke limit"):
         assert gone not in out
-    assert f"beyond the stroke the motors would keep accelerating toward {steady} m/s" in out
-    assert "not a speed it reaches" in out
+    # the ceiling is named but not given: a figure far above any speed the foot reaches
+    assert "beyond the stroke the motors would keep accelerating" in out
+    assert f"{steady} m/s" not in out and "no speed it reaches" in out
     # the limiting joint is named once, and the envelope only inside the note on the stroke
     lines = [x.strip() for x in out.splitlines()]
     at = lines.index(f"the checked end-point speed is limited by {swing.limiting_joint}")
     assert not lines[at + 1].startswith("limited by")
     body = cases_section(a.to_dict(), leg_project).body
     assert "unlimited stroke" not in body and "at steady speed" not in body
-    assert f"toward {steady} m/s" in body and "not a speed it reaches" in body
+    assert f"{steady} m/s" not in body and "no speed it reaches" in body
     assert "time to cover the stroke from rest" in body
+    # the report's case tables carry what the terminal prints: the acceleration from rest and
+    # each joint's peak gear torque at the touchdown (its impact speed), with its rating share
+    assert "acceleration along the direction from rest, with the load" in body
+    touchdown = next(c for c in a.cases if c.name == "touchdown")
+    for j in a.joints:
+        torque = format_number(touchdown.metrics[f"shock_torque:{j.joint}"], 4)
+        assert f"peak gear torque at the impact, {j.joint}" in body
+        assert f"{torque} N·m (" in body
 
 
 def test_duty_gear_rows_only_where_the_catalog_gives_a_number(capsys, monkeypatch):
@@ -443,6 +452,25 @@ def test_duty_gear_rows_only_where_the_catalog_gives_a_number(capsys, monkeypatc
     out = capsys.readouterr().out
     assert "gear life on this cycle alone" not in out
     assert "gear repeated-peak rating used" in out
+    # a direct drive has no gear: its gear rows say so, in the terminal and the report
+    import dataclasses
+
+    from jointwright.report.case_tables import cases_section
+
+    with resources.as_file(arm / "design.toml") as d:
+        design = load_design(d, project)
+    k = design.joints.index("wrist_yaw")
+    direct = dataclasses.replace(design.actuators[k], stages=())
+    design = dataclasses.replace(
+        design, actuators=design.actuators[:k] + (direct,) + design.actuators[k + 1 :]
+    )
+    b = assess(project, design)
+    print_assessment(b, project)
+    out = capsys.readouterr().out
+    row = next(x for x in out.splitlines() if "gear repeated-peak rating used" in x)
+    assert row.count("no gear") == 1 and "0 %" not in row
+    body = cases_section(b.to_dict(), project).body
+    assert "wrist_yaw no gear" in body
 
 
 def test_names_stay_whole_while_the_table_fits(monkeypatch):

@@ -203,3 +203,30 @@ def test_points_with_a_self_locking_joint_are_marked(capsys):
     assert "1 ⊘" in out and "2 ⊘" not in out and "point 1: elbow" in out
     form = frontier_from_sweep(data, {"cases": [], "total_mass": 1.0}, "f.json")
     assert form["points"][0]["self_locking"] == ["elbow"]
+
+
+@pytest.mark.parametrize(
+    "case, rule",
+    [
+        ("swing", "measure imf needs an impact case; 'swing' is speed"),
+        ("swng", "unknown case 'swng' (did you mean 'swing'?)"),
+    ],
+)
+def test_a_wrong_case_names_the_option(tmp_path, case, rule):
+    folder = tmp_path / "leg"
+    with resources.as_file(resources.files("jointwright.examples") / "leg") as src:
+        shutil.copytree(src, folder)
+    res = CliRunner().invoke(main, ["frontier", str(folder / "project.toml"), "--case", case])
+    assert res.exit_code == 2
+    assert f"<command line>: --case: {rule}" in res.stderr and "Traceback" not in res.output
+
+
+def test_neighbouring_measures_read_differently():
+    """Points whose measures differ only past the 4th digit get the digits that tell them apart
+    (up to 7); equal measures and well separated ones keep 4."""
+    from jointwright.commands.frontier import _distinct_digits
+
+    assert _distinct_digits([2.243, 2.23884, 2.23862, 2.23851, 2.2307]) == 5
+    assert _distinct_digits([0.5, 0.4, 0.3]) == 4
+    assert _distinct_digits([1.0, 1.0]) == 4
+    assert _distinct_digits([1.0, 1.0 + 1e-12]) == 7

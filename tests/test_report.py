@@ -258,7 +258,7 @@ def test_summary_comes_first_with_the_decision_and_the_tightest_margins(built):
         and isinstance(c["metrics"].get("payload_carried"), (int, float))
     ]
     if carried:
-        assert f"payload {fmt(min(carried), 'kg')} in every payload case" in top
+        assert f"payload at least {fmt(min(carried), 'kg')} in every payload case" in top
     # the three smallest margins, smallest first
     shown = [k for k in re.findall(r'data-summary-check="([^"]+)"', top)]
     order = sorted(a["checks"], key=lambda c: float(c["margin"]))[:3]

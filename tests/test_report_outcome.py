@@ -61,7 +61,7 @@ def test_the_outcome_leads_with_the_payload_every_case_carries():
     }
     head, detail = _payload_words(a, arm)
     assert head == (
-        "The design carries a payload of 12.88 kg in every payload case (the least, in case "
-        "reach-lift)."
+        "The design carries a payload of at least 12.88 kg in every payload case (the least, "
+        "in case reach-lift)."
     )
     assert detail.startswith("Payload is tightest against its requirement in case close-lift")

@@ -304,3 +304,30 @@ def test_a_runner_up_is_shown_once_per_joint():
     res = size(load_example("arm"), time_limit=60)
     seen = [(a.joint, a.actuator) for a in res.alternatives]
     assert seen and len(seen) == len(set(seen))
+
+
+def test_diagnosis_never_shows_a_no_load_speed_as_reached():
+    """The leg with an IMF floor no option meets (0.25 with a 4 kg budget): the swing's speed row
+    of the diagnosis gives no 'best alone' figure, since the only closed form is the no-load
+    speed through the lowest ratio, an upper bound on the loaded speed (a speed within the
+    motor's torque-speed envelope never exceeds its no-load speed, docs/metrics.md) far above
+    anything a loaded foot reaches; a limit above even that bound is shown with it."""
+    leg = example("leg")
+    cases = tuple(
+        dataclasses.replace(c, limits={**c.limits, "imf_min": 0.25}) if c.kind == "impact" else c
+        for c in leg.cases
+    )
+    r = size(dataclasses.replace(leg, cases=cases), time_limit=30)
+    assert r.status == "infeasible"
+    row = next(d for d in r.diagnosis if d.requirement == "swing: speed min")
+    assert math.isnan(row.best_achievable) and math.isnan(row.shortfall)
+    fast = tuple(
+        dataclasses.replace(c, limits={**c.limits, "speed_min": 1e5}) if c.kind == "speed" else c
+        for c in cases
+    )
+    row = next(
+        d
+        for d in size(dataclasses.replace(leg, cases=fast), time_limit=30).diagnosis
+        if d.requirement == "swing: speed min"
+    )
+    assert 0 < row.best_achievable < 1e5 and row.shortfall > 0

@@ -8,7 +8,13 @@ from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
-from .cautions import contact_heights, design_cautions, ground_cautions, stance_cautions
+from .cautions import (
+    contact_heights,
+    design_cautions,
+    friction_cautions,
+    ground_cautions,
+    stance_cautions,
+)
 from .design import Design, arrays_from_designs
 from .evaluate import Evaluator
 from .metrics.drive import binding_limit, envelope_uses
@@ -252,6 +258,7 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
         feasible=bool(feasible(cl, 1)[0]),
         cautions=tuple(
             design_cautions(project, design)
+            + friction_cautions(cases)
             + stance_cautions(project, cases)
             + ground_cautions(contact_heights(evaluator))
         ),

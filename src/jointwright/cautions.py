@@ -6,6 +6,8 @@ crosses 0, gear shock and gear life).
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 CAUTION = (
@@ -80,6 +82,40 @@ def design_cautions(project, design) -> list[str]:
                 "It holds its load when unpowered and cannot be pushed back by a person or an "
                 "obstacle: "
                 "pinch and crush hazard. Apply the applicable safety standards."
+            )
+    return out
+
+
+def friction_cautions(cases) -> list[str]:
+    """For each payload case that carries a payload only through gear friction (no payload with
+    frictionless gears), and for each that cannot lower its load under control (no payload
+    while lowering or yielding): what that means and the usual caution. ``cases``: the
+    assessment's case results (name, kind, metrics with ``payload``, ``payload_frictionless``,
+    ``payload_lower`` in N)."""
+    out = []
+    for case in cases:
+        if case.kind != "payload":
+            continue
+        m = case.metrics
+        carried = m.get("payload", math.nan)
+        if not carried > 0:
+            continue
+        if m.get("payload_frictionless", math.nan) <= 0:
+            out.append(
+                f"case {case.name!r}: with frictionless gears the joints carry no payload; the "
+                f"{carried:.4g} N it reaches rest on gear friction (a self-locking or nearly "
+                "self-locking transmission holds what the motor cannot). Friction changes with "
+                "temperature, lubrication, load and wear, and so does what it holds: check the "
+                "case at the low end of the efficiency band, and do not rely on gear friction "
+                "to hold a load near people; provide a brake or a tested holding means under the "
+                "applicable safety standards."
+            )
+        if m.get("payload_lower", math.nan) <= 0:
+            out.append(
+                f"case {case.name!r}: while lowering or yielding the joints carry no payload "
+                "(0 N): the design raises or holds this load but cannot lower it under control. "
+                "Resize the limiting joint or treat the case as hold-only, with the applicable "
+                "safety standards for a load that may not be set down."
             )
     return out
 

@@ -25,7 +25,7 @@ from __future__ import annotations
 import math
 import time
 
-from .errors import InputError
+from .errors import InputError, unknown_name
 from .frontier_methods import (  # noqa: F401  (the public names of jointwright.frontier)
     SEED_MIN,
     _bnb,
@@ -70,16 +70,21 @@ def _case(project, measure: str, case: str | None):
         for c in project.cases:
             if c.kind == kind:
                 return c
-        raise InputError(str(project.file), "case", f"measure {measure} needs a {kind} case")
+        raise InputError(str(project.file), "case", f"measure {measure} needs {_a(kind)} case")
     try:
         c = project.case(case)
     except KeyError:
-        raise InputError("<api>", "case", f"no case named {case!r}") from None
+        raise unknown_name("<api>", "case", case, [c.name for c in project.cases], "case") from None
     if c.kind != kind:
         raise InputError(
-            "<api>", "case", f"measure {measure} needs a {kind} case; {case!r} is {c.kind}"
+            "<api>", "case", f"measure {measure} needs {_a(kind)} case; {case!r} is {c.kind}"
         )
     return c
+
+
+def _a(word: str) -> str:
+    """The indefinite article with ``word`` ("an impact", "a backdrive")."""
+    return f"{'an' if word[:1] in 'aeiou' else 'a'} {word}"
 
 
 #: most candidate combinations the exhaustive method scores (with stance or duty-cycle cases

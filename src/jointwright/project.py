@@ -233,7 +233,7 @@ def _load_catalog(t: Table, base_dir: Path):
 def _load_requirements(t: Table, robot) -> Requirements:
     total = t.quantity("total_mass_max", "mass", math.inf, sign="positive")
     cost = t.quantity("total_cost_max", "dimensionless", math.inf, sign="positive")
-    life = t.quantity("life_min", "time", 0.0, sign="positive")
+    life = t.quantity("life_min", "lifetime", 0.0, sign="positive")
     band = t.flag("efficiency_band", False)
     joints = {}
     jt = t.table("joint", {})

@@ -22,6 +22,7 @@ SI_UNITS: dict[str, str] = {
     "area": "m**2",
     "angle": "rad",
     "time": "s",
+    "lifetime": "s",  # a rated or required life: hours by habit, so its unit must be written
     "force": "N",
     "torque": "N*m",
     "inertia": "kg*m**2",
@@ -64,6 +65,13 @@ def quantity(value: Any, dimension: str, *, file: str = "<api>", field: str = "v
     if dimension not in SI_UNITS:
         raise KeyError(f"unknown dimension {dimension!r}")
     si = SI_UNITS[dimension]
+    if dimension == "lifetime" and _plain(value):
+        raise InputError(
+            file,
+            field,
+            f"needs its unit, got {value!r}: a life is commonly stated in hours, and a plain "
+            'number would be read as seconds; write e.g. "20000 h"',
+        )
     if isinstance(value, bool):
         raise InputError(file, field, f"must be a number or a quantity in {si}, got {value!r}")
     if isinstance(value, (int, float)):
@@ -83,6 +91,21 @@ def quantity(value: Any, dimension: str, *, file: str = "<api>", field: str = "v
     if not math.isfinite(out):
         raise InputError(file, field, f"must be finite, got {value!r}")
     return out
+
+
+def _plain(value: Any) -> bool:
+    """A number, or a string that is only a number (no unit)."""
+    if isinstance(value, bool):
+        return False
+    if isinstance(value, (int, float)):
+        return True
+    if isinstance(value, str):
+        try:
+            float(value.strip())
+        except ValueError:
+            return False
+        return True
+    return False
 
 
 #: "<number> <unit>" with a unit that starts with a letter: the unit's factor is looked up once

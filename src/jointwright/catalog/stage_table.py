@@ -37,7 +37,7 @@ FRAME_RATING_FIELDS: dict[str, tuple[str, str]] = {
     "rated_life_torque": ("torque", "positive"),
     "rated_life_speed": ("angular_velocity", "positive"),
     "rated_life_input_speed": ("angular_velocity", "positive"),
-    "rated_life": ("time", "positive"),
+    "rated_life": ("lifetime", "positive"),
     "rated_momentary_torque": ("torque", "positive"),
 }
 FRAME_FIELDS.update(FRAME_RATING_FIELDS)

@@ -150,9 +150,17 @@ def print_case(con: Console, c, a, cases: dict, revolute: dict) -> None:
         ]
     if c.kind == "duty":
         joints = [j.joint for j in a.joints]
+        geared = {j.joint for j in a.joints if j.stages}
         drows = [
             [label] + [num(_scaled(c.metrics.get(f"{key}:{j}"), scale), unit) for j in joints]
-            for key, label, unit, scale in list(DUTY_QUANTITIES) + _gear_rows(c, joints)
+            for key, label, unit, scale in DUTY_QUANTITIES
+        ] + [
+            [label]
+            + [
+                num(_scaled(c.metrics.get(f"{key}:{j}"), scale), unit) if j in geared else "no gear"
+                for j in joints
+            ]
+            for key, label, unit, scale in _gear_rows(c, joints)
         ]
         quantity = str(c.metrics.get("limiting_quantity", "—"))
         rows += [["limiting quantity", limiting_quantity_text(quantity)]]

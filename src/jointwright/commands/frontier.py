@@ -70,6 +70,19 @@ def beyond_limit(f, p, limit: float | None) -> bool:
     return p.measure < limit * (1 - 1e-9) - 1e-12
 
 
+def _distinct_digits(values: list[float], least: int = 4, most: int = 7) -> int:
+    """Significant digits (from ``least`` to ``most``) at which neighbouring points whose
+    measures differ also read differently: a front whose points differ by 0.1 % of their
+    value would otherwise show one figure for several points."""
+    for digits in range(least, most + 1):
+        if all(
+            a == b or f"{a:.{digits}g}" != f"{b:.{digits}g}"
+            for a, b in zip(values, values[1:], strict=False)
+        ):
+            return digits
+    return most
+
+
 def print_frontier(f, shared=(), limit: float | None = None) -> None:
     """The frontier as text; ``shared``: the project's groups of joints that share one actuator
     (each shown once, as its first joint with the count of the others); ``limit``: the
@@ -90,6 +103,7 @@ def print_frontier(f, shared=(), limit: float | None = None) -> None:
     masses = f.measure != "mass"
     costs = f.measure != "cost" and any(p.design.cost > 0 for p in f.points)
     shock = any(p.shock_use is not None for p in f.points)  # an impact case states a speed
+    digits = _distinct_digits([p.measure for p in f.points])
     for i, p in enumerate(f.points):
         mark = (
             (" ◆" if i == f.knee else "")
@@ -102,7 +116,7 @@ def print_frontier(f, shared=(), limit: float | None = None) -> None:
             [
                 str(i + 1) + mark,
                 num(p.payload, "kg"),
-                num(p.measure, UNITS[f.measure]),
+                num(p.measure, UNITS[f.measure], digits),
             ]
             + ([num(p.mass, "kg")] if masses else [])
             + ([num(p.design.cost)] if costs else [])
@@ -160,7 +174,7 @@ def print_frontier(f, shared=(), limit: float | None = None) -> None:
     con.print(
         table(
             "Frontier (largest payload first)",
-            ["#", "payload mass", f.measure]
+            ["#", "payload mass", measure_name(f)]
             + (["mass"] if masses else [])
             + (["cost"] if costs else [])
             + (["gear shock"] if shock else [])
@@ -281,27 +295,28 @@ def command(
             plot_dir, "--plot", "frontier.png and frontier.svg", (".png", ".svg", ".pdf", ".jpg")
         )
         check_target(plot_dir, "--plot", inputs=inputs, force=force, exists_hint="frontier.png")
-    f = frontier(
-        p,
-        measure,
-        case=case_name,
-        points=points,
-        time_limit=time_limit,
-        method=method,
-        merge=merge,
-    )
+
+    def run(proj):
+        try:
+            return frontier(
+                proj,
+                measure,
+                case=case_name,
+                points=points,
+                time_limit=time_limit,
+                method=method,
+                merge=merge,
+            )
+        except InputError as e:  # the API's "case" argument is this command's --case option
+            if e.file == "<api>" and e.field == "case":
+                raise InputError("<command line>", "--case", e.rule) from None
+            raise
+
+    f = run(p)
     data = f.to_dict()
     ideal = None
     if frictionless:
-        ideal = frontier(
-            frictionless_project(p),
-            measure,
-            case=case_name,
-            points=points,
-            time_limit=time_limit,
-            method=method,
-            merge=merge,
-        )
+        ideal = run(frictionless_project(p))
         data["frictionless"] = ideal.to_dict()
     if plot_dir is not None:
         with atomic_folder(plot_dir, "--plot") as tmp:

@@ -26,8 +26,8 @@ def better_text(f) -> str:
 
 
 def measure_name(f) -> str:
-    """The measure as the command line names it; the totals in words (not "mass" alone)."""
-    return LABELS[f.measure] if f.case is None else f.measure
+    """The measure in words ("back-driven effective mass", "total actuator mass")."""
+    return LABELS[f.measure]
 
 
 def at_case(f) -> str:

@@ -129,7 +129,8 @@ def command(
     if out.exists() and not out.is_dir() and _key(out) not in {_key(f) for f in inputs}:
         raise InputError(str(out), "--out", "must be a folder, not a file")
     check_folder_name(out, "--out", "report.html and figures/", (".html", ".htm", ".pdf"))
-    check_target(out, "--out", inputs=inputs, force=force, exists_hint="report.html")
+    option = "--out" if out_dir is not None else "--out (default: report/ beside the project)"
+    check_target(out, option, inputs=inputs, force=force, exists_hint="report.html")
     study = None
     if study_store is not None:
         from ..report.study import study_data

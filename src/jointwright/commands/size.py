@@ -161,7 +161,7 @@ def print_result(r, project=None) -> None:
             [
                 a.joint,
                 a.change.replace("other ", ""),
-                a.actuator.replace(" | ", ", "),
+                a.actuator,
                 a.ruled_out_by
                 or (
                     "—"
@@ -173,18 +173,29 @@ def print_result(r, project=None) -> None:
             ]
             for a in r.alternatives
         ]
+        caption = (
+            "vs chosen: the runner-up's objective minus the chosen design's (for "
+            f"{r.objective_kind}: {CHANGE_HINT.get(r.objective_kind, 'signed')}). "
+        )
+        if any(row[3].endswith("(tie)") for row in rows):
+            caption += (
+                "tie: the joint does not limit the objective and the choice was made by the "
+                "tie-break (least mass, then least back-driven reflected inertia; a tie with a "
+                "negative Δ mass: the MILP hand-over's design, whose ties are broken only with "
+                "--gap 0). "
+            )
+        if any(_better(a.loss) for a in r.alternatives):
+            caption += (
+                "A runner-up better than the chosen design is one within the optimality gap: "
+                "--gap 0 searches for it. "
+            )
+        caption += "Δ mass: the runner-up's total actuator mass minus the chosen one's."
         con.print(
             table(
                 "Runner-ups per joint (rest of the design kept)",
                 ["joint", "other", "actuator", "objective (vs chosen) or ruled out by", "Δ mass"],
                 rows,
-                caption="vs chosen: the runner-up's objective minus the chosen design's (for "
-                f"{r.objective_kind}: {CHANGE_HINT.get(r.objective_kind, 'signed')}); tie: the "
-                "joint does not limit the objective and the choice was made by the tie-break "
-                "(least mass, then least back-driven reflected inertia; a tie with a negative Δ "
-                "mass: the MILP hand-over's design, whose ties are broken only with --gap 0); a "
-                "better runner-up lies within the optimality gap (--gap 0 searches it); "
-                "Δ mass: the runner-up's total actuator mass minus the chosen one's",
+                caption=caption,
             )
         )
     if r.diagnosis:
@@ -209,11 +220,21 @@ def print_result(r, project=None) -> None:
                 caption=(
                     "margin alone < 0: no design meets it even ignoring every other requirement; "
                     "— : its best alone is not computed (no closed form: gear shock use, "
-                    "directional IMF, gear life, or no time left): the last column still says "
-                    "whether dropping it makes the project feasible"
+                    "directional IMF, gear life, a speed the no-load bound cannot rule out, or "
+                    "no time left): the last column still says whether dropping it makes the "
+                    "project feasible"
                 ),
             )
         )
+
+
+def _better(loss) -> bool:
+    """A runner-up's ``loss`` (≥ 0: worse, solve.result.Alternative) says it is better, beyond
+    a tie (wording.objective_change)."""
+    if loss is None:
+        return False
+    value = float({"inf": math.inf, "-inf": -math.inf}.get(loss, loss))
+    return value < 0 and objective_change("payload", value) != "tie"
 
 
 @click.command("size")
@@ -281,8 +302,9 @@ def command(project: Path, objective, backend, time_limit, gap, no_explain, out,
         print_result(r, p)
         for j in unloaded:
             console().print(
-                f"[yellow]note:[/yellow] no case loads joint {j}: its choice is the "
-                "smallest actuator that meets its own limits, not a sized one"
+                f"[yellow]note:[/yellow] no case puts a torque on joint {j}: its choice is "
+                "the smallest actuator that meets its own limits and the speed, impact and "
+                "back-drive cases, not one sized for a load"
             )
         if out is not None:
             console().print(

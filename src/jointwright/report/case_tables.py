@@ -46,6 +46,8 @@ CASE_METRICS = {
         ("effective_mass", "effective mass, back-driven", "kg"),
         ("effective_mass_motoring", "effective mass, motoring", "kg"),
         ("effective_mass_frictionless", "effective mass, frictionless", "kg"),
+        ("contact_speed", "largest transient contact speed (two-body model)", "m/s"),
+        ("contact_energy", "energy the body region takes at that speed", "J"),
         ("impulse", "contact impulse (links only, rotors not yet moving)", "N·s"),
     ),
     "backdrive": (("backdrive_force", "tip force that starts the unpowered robot moving", "N"),),
@@ -54,6 +56,7 @@ CASE_METRICS = {
         # with a stroke (the row is absent without one): the time it takes; what lies beyond
         # it is a note (wording.beyond_stroke), not a result
         ("stroke_time", "… time to cover the stroke from rest", "s"),
+        ("acceleration", "acceleration along the direction from rest, with the load", "m/s²"),
     ),
     "torque": (("torque_ratio", "smallest achieved ÷ required joint torque", ""),),
 }
@@ -65,7 +68,9 @@ CASE_METRICS = {
 REPORT_DUTY = tuple(q for q in DUTY_QUANTITIES if q[0] != "envelope_ratio")
 
 
-def _duty_table(c: dict, joints: list[str]) -> str:
+def _duty_table(c: dict, joints: list[str], geared: set[str] | None = None) -> str:
+    """A duty case's per-joint table; ``geared``: the joints with a gear (a direct drive's gear
+    life reads "no gear"; None: every joint)."""
     m = c["metrics"]
     rows = []
     for j in joints:
@@ -86,11 +91,45 @@ def _duty_table(c: dict, joints: list[str]) -> str:
     )
     lives = [(j, m.get(f"gear_life:{j}")) for j in joints]
     if any(v is not None for _j, v in lives):
-        shown = ", ".join(f"{j} {fmt(as_float(v) / 3600.0, 'h')}" for j, v in lives)
+        shown = ", ".join(
+            f"{j} {fmt(as_float(v) / 3600.0, 'h')}"
+            if geared is None or j in geared
+            else f"{j} no gear"
+            for j, v in lives
+        )
         cap += f" Gear life on this cycle alone (rated-life equation, docs/metrics.md): {shown}."
     return table(
         ["joint"] + [col for _k, col, _u, _s in REPORT_DUTY], rows, caption=cap, cls="wide"
     )
+
+
+def _shock_rows(c: dict, joints: list[dict]) -> list[list]:
+    """An impact case with an impact speed: the peak gear torque at each joint and its share of
+    the stages' momentary rating (as ``assess`` prints them; [] otherwise)."""
+    m = c["metrics"]
+    if c["kind"] != "impact" or "shock_use" not in m:
+        return []
+    rows: list[list] = []
+    for j in joints:
+        name = j["joint"]
+        use = m.get(f"shock_use_joint:{name}")
+        if not j["stages"]:
+            share = "direct drive: no gear"
+        elif use is None or (isinstance(use, float) and use != use) or use == "nan":
+            share = "no momentary rating"
+        else:
+            share = f"{fmt(100.0 * as_float(use), '%')} of momentary"
+        rows.append(
+            [
+                f"peak gear torque at the impact, {name}",
+                Cell(
+                    f"{fmt(m.get(f'shock_torque:{name}'), 'N·m')} ({share})",
+                    "num",
+                    (("case", c["name"]), ("metric", f"shock_torque:{name}")),
+                ),
+            ]
+        )
+    return rows
 
 
 def _case_notes(c: dict) -> list[str]:
@@ -166,7 +205,14 @@ def cases_section(a: dict, project=None) -> Section:
                     f"{esc(info.get('case', '—'))})</h3>" + head
                 )
         if c["kind"] == "duty":
-            parts.append(head + _duty_table(c, [j["joint"] for j in a["joints"]]))
+            parts.append(
+                head
+                + _duty_table(
+                    c,
+                    [j["joint"] for j in a["joints"]],
+                    {j["joint"] for j in a["joints"] if j["stages"]},
+                )
+            )
             continue
         shown = list(CASE_METRICS.get(c["kind"], ()))
         if c["kind"] == "stance":
@@ -193,6 +239,7 @@ def cases_section(a: dict, project=None) -> Section:
             if c["metrics"].get(k) is not None
             and not (k == "payload_carried" and c["metrics"][k] == "inf")
         ]
+        rows += _shock_rows(c, a["joints"])
         wrench = wrench_text(cases.get(c["name"]))
         if wrench:
             rows.insert(0, ["where the force acts, the moment with it", wrench])

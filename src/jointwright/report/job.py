@@ -125,14 +125,17 @@ def _limit_unit(key: str) -> str:
 ASSUMPTIONS = (
     "Rigid links and rigid transmissions; joint friction only as the gear's forward/backward "
     "efficiency (and breakaway torque for back-driving); no backlash or compliance in the "
-    "metrics.",
+    "metrics, except the gear shock of an impact case with an impact speed, which springs "
+    "each gear with its catalog stiffness (an estimate).",
     "Power-flow law per joint: motoring τ_j = η_f·N·τ_m, back-driven τ_j = N·τ_m/η_b, "
     "self-locking when η_b ≤ 0; the mode follows the sign of τ_j·q̇_j of the case's intended "
     "motion.",
     "Payload cases hold the base still; impact cases free a floating base (Wensing et al. 2017 "
     "impact mitigation factor); a fixed base reports back-driven effective mass instead.",
-    "Peak torques are the catalog's peak ratings at any speed; thermal limits are only checked "
-    "by duty-cycle cases.",
+    "Motor torques are the catalog's peak ratings, along each motor's torque–speed envelope "
+    "at its hot winding (bus voltage and back-EMF) where a case moves at speed (speed cases, "
+    "payload cases with a tip speed, duty cycles), at standstill otherwise. Thermal limits "
+    "are only checked by duty-cycle cases.",
     "Efficiencies are the catalog's constants or models at the chosen ratio; real gears lose "
     "efficiency at low load, low temperature and high speed (see the sensitivity section).",
 )

@@ -22,7 +22,6 @@ def _tagged(value, unit: str, joint: str, field: str) -> Cell:
 _INERTIAS = (
     "rotor_inertia",
     "reflected_frictionless",
-    "reflected_motoring",
     "reflected_backdriven",
 )
 
@@ -66,7 +65,6 @@ def joints_section(a: dict) -> Section:
         "",
         "",
         "",
-        "",
         Cell(fmt(a["total_mass"], "kg"), "num", (("field", "total_mass"),)),
     ]
     if costs:
@@ -77,7 +75,6 @@ def joints_section(a: dict) -> Section:
             "joint",
             "rotor-side inertia I_r",
             "reflected N²·I_r",
-            "motoring η_f·N²·I_r",
             "back-driven N²·I_r/η_b",
             "mass",
         ]

@@ -179,8 +179,8 @@ def _payload_words(a: dict, project) -> list[str]:
         head = (
             f"The design carries no payload: case {least} does not carry its own fixed load."
             if finite[least] < 0
-            else f"The design carries a payload of {fmt(finite[least], 'kg')} in every payload "
-            f"case (the least, in case {least})."
+            else f"The design carries a payload of at least {fmt(finite[least], 'kg')} in every "
+            f"payload case (the least, in case {least})."
         )
         return [head, text + "."]
     return [text + "."]

@@ -59,10 +59,10 @@ RATIO_CAPTION = (
 )
 SENSITIVITY_GUIDE = (
     "Catalog efficiencies are assumptions. Each joint's forward (η_f) and backward (η_b) "
-    "efficiency is moved by ±{pts} percentage points in turn (η_f kept in (0, 1], η_b at most 1; "
-    "η_b ≤ 0 makes the joint self-locking) and the design re-evaluated. Forward efficiency moves "
-    "the drive torque and the motoring inertia; backward efficiency moves the holding torque and "
-    "the back-driven inertia that impacts feel."
+    "efficiency is moved by ±{pts} percentage points in turn (η_f kept in [0.01, 1], η_b at "
+    "most 1; η_b ≤ 0 makes the joint self-locking) and the design re-evaluated. Forward "
+    "efficiency moves the drive torque; backward efficiency moves the holding torque and the "
+    "back-driven inertia that impacts feel."
 )
 
 

@@ -143,7 +143,7 @@ def _verdict(a: dict) -> tuple[str, bool]:
     if carried and min(carried) < 0:  # below a case's fixed load: no payload, not a negative one
         totals = "no payload (a case does not carry its own fixed load); " + totals
     elif carried:  # the sizing's payload objective: the least payload mass over the cases
-        totals = f"payload {fmt(min(carried), 'kg')} in every payload case; " + totals
+        totals = f"payload at least {fmt(min(carried), 'kg')} in every payload case; " + totals
     if not checks:
         return f"The design “{a['design']}” is assessed against no requirement; {totals}.", True
     if not missed:

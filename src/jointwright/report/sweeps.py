@@ -108,7 +108,7 @@ class Sensitivity:
 
     ``base[metric]`` is the design's value; ``values[metric]`` is (n_joints, 2 fields, 2 signs)
     with fields (η_f, η_b) and signs (−step, +step); ``clipped`` (same shape) marks a change
-    limited by the bounds η_f ∈ (0, 1], η_b ≤ 1; ``locking_changed`` marks a joint whose
+    limited by the bounds η_f ∈ [0.01, 1], η_b ≤ 1; ``locking_changed`` marks a joint whose
     self-locking flag the change flips.
     """
 

@@ -54,18 +54,19 @@ def beyond_stroke(metrics: dict, *, minus: str = "-") -> str:
     The motors' steady speed at the case's pose is the ceiling of the motion linearized there
     (the Jacobian held at the pose). A stroke long enough to reach it would carry the robot far
     out of the pose, so it is not a speed the robot reaches: a direct-drive wrist at a short
-    lever gives tens of m/s. It is kept out of the metric table, where it read as a result."""
+    lever gives tens of m/s. It is kept out of the metric table and the text, where it read as
+    a result; the JSON output keeps it."""
     steady = metrics.get("speed_steady")
     if steady is None:
         return ""
     text = (
-        f"beyond the stroke the motors would keep accelerating toward "
-        f"{format_number(steady, 4, minus=minus)} m/s, the ceiling of the motion linearized at "
-        "this pose (the robot leaves the pose long before: not a speed it reaches)"
+        "beyond the stroke the motors would keep accelerating, but the robot leaves this pose "
+        "long before they would settle: the steady speed of the motion linearized here is no "
+        "speed it reaches, and is given only in the JSON output (speed_steady)"
     )
     joint, _sep, part = str(metrics.get("envelope_limit") or "").partition(": ")
     if part:
-        text += f"; there {joint}'s motor is at its envelope ({part})"
+        text += f"; at that speed {joint}'s motor would be at its envelope ({part})"
     return text
 
 

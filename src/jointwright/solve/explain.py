@@ -297,7 +297,10 @@ def _alone(project, model, subject, key, limit, seconds, solve_value: Resolve) -
         a = np.abs(np.linalg.pinv(pc.Jj) @ (pc.u / np.linalg.norm(pc.u)))
         best = float((r["motor_max_speed"] / r["ratio"]).max())
         with np.errstate(divide="ignore"):
-            return float(np.min(np.where(a > 0, best / a, np.inf)))
+            bound = float(np.min(np.where(a > 0, best / a, np.inf)))
+        # the no-load speed bounds the loaded one from above: shown only when even it falls
+        # short (a proof that no design meets the limit), never as a speed a design reaches
+        return bound if bound < limit else math.nan
     if key in ("imf_min", "effective_mass_max") and case.kind == "impact" and seconds > 0:
         # the measure itself as the objective over every option, with no other requirement: its
         # optimum, or the search's proven bound when the time runs out (never short of the best)
