@@ -331,3 +331,27 @@ def test_diagnosis_never_shows_a_no_load_speed_as_reached():
         if d.requirement == "swing: speed min"
     )
     assert 0 < row.best_achievable < 1e5 and row.shortfall > 0
+
+
+def test_cli_size_points_to_the_frontier_when_runner_ups_tie(tmp_path):
+    """The bundled leg's payload optimum has runner-ups that tie on payload (joints that do not
+    limit it); the tie-break took the lightest, and the note says where the designs that keep
+    the payload with a better measure are mapped. The leg's frontier's first point carries the
+    same payload with an IMF at least as good (the front's largest-payload end)."""
+    from jointwright.frontier import frontier
+
+    runner = CliRunner()
+    assert runner.invoke(main, ["new", str(tmp_path / "leg"), "--example", "leg"]).exit_code == 0
+    project = tmp_path / "leg" / "project.toml"
+    r = runner.invoke(main, ["size", str(project), "--time-limit", "60"])
+    assert r.exit_code == 0, r.output
+    text = " ".join(r.output.split())
+    assert "(tie)" in text and "`jointwright frontier` maps" in text
+    from jointwright.project import load_project
+
+    p = load_project(project)
+    chosen = size(p, time_limit=60)
+    imf = chosen.assessment.cases[[c.kind for c in chosen.assessment.cases].index("impact")]
+    first = frontier(p, "imf", time_limit=60).points[0]
+    assert first.payload == pytest.approx(chosen.objective, rel=1e-6)
+    assert first.measure >= imf.metrics["imf"] - 1e-9

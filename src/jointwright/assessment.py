@@ -13,6 +13,7 @@ from .cautions import (
     design_cautions,
     friction_cautions,
     ground_cautions,
+    slow_speed_cautions,
     stance_cautions,
 )
 from .design import Design, arrays_from_designs
@@ -259,6 +260,7 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
         cautions=tuple(
             design_cautions(project, design)
             + friction_cautions(cases)
+            + slow_speed_cautions(cases)
             + stance_cautions(project, cases)
             + ground_cautions(contact_heights(evaluator))
         ),

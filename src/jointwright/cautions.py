@@ -120,6 +120,35 @@ def friction_cautions(cases) -> list[str]:
     return out
 
 
+#: a speed case without a stroke whose speed takes longer than this to reach from rest, s
+#: (rule of thumb: a pick, place, swing or step lasts well under a second or two)
+SLOW_REACH = 1.0
+
+
+def slow_speed_cautions(cases) -> list[str]:
+    """For each speed case without a stroke whose checked speed v takes at least v/a₀ >
+    :data:`SLOW_REACH` to reach from rest (a₀: the acceleration it starts with, the largest
+    along the way): its requirement may pass on a speed the robot never reaches in use."""
+    out = []
+    for case in cases:
+        m = case.metrics
+        if case.kind != "speed" or m.get("speed_steady") is not None:
+            continue
+        v, a0 = m.get("speed", math.nan), m.get("acceleration", math.nan)
+        if not (isinstance(v, float) and isinstance(a0, float) and v > 0 and a0 > 0):
+            continue
+        if v / a0 > SLOW_REACH:
+            out.append(
+                f"case {case.name!r}: the speed it checks, {v:.4g} m/s, takes at least "
+                f"{v / a0:.3g} s to reach from rest (v/a₀ at the {a0:.4g} m/s² it starts "
+                f"with), longer than most robot motions (over {SLOW_REACH:g} s, a rule of "
+                "thumb): its speed requirement may pass on a speed the robot never reaches in "
+                "use. Set the case's stroke (the distance the motion has) to check the speed "
+                "reached within it."
+            )
+    return out
+
+
 #: a stance contact taking less than this share of the ground force is "nearly unloaded"
 LEANING_SHARE = 0.05
 

@@ -198,6 +198,13 @@ def print_result(r, project=None) -> None:
                 caption=caption,
             )
         )
+        if r.objective_kind == "payload" and any(row[3].endswith("(tie)") for row in rows):
+            con.print(
+                "note: designs that tie on payload differ in mass and back-drivability, and the "
+                "tie-break takes the lightest; `jointwright frontier` maps how much payload "
+                "each step of back-drivability costs, and which designs keep the payload with a "
+                "better impact mitigation factor or effective mass"
+            )
     if r.diagnosis:
         rows = [
             [

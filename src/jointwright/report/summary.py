@@ -259,8 +259,9 @@ def risks(a: dict, sensitivity: dict | None = None) -> list[str]:
     if sensitivity:
         out.append(sensitivity_risk(sensitivity))
     out.append(
-        "Assumed: rigid links and gears, the catalog's efficiencies and peak ratings at any "
-        "speed; thermal limits "
+        "Assumed: rigid links and gears, the catalog's efficiencies, its peak ratings at "
+        "standstill and along the torque–speed envelope where a case moves at speed; thermal "
+        "limits "
         + ("only over the duty cycles given" if duty else "not checked (no duty cycle given)")
         + " (Appendix: assumptions, limits and cautions)."
     )

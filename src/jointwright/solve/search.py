@@ -138,7 +138,12 @@ class BranchAndBound:
             status = "optimal" if best else "infeasible"
         native = (
             f"{self.nodes} node{'s' * (self.nodes != 1)}, "
-            f"{self.scored} design{'s' * (self.scored != 1)} scored"
+            f"{self.scored} design{'s' * (self.scored != 1)} scored in the tree"
+            + (
+                " (a design found before the tree search, proven optimal by its bounds)"
+                if best and self.scored == 0 and not self.stopped
+                else ""
+            )
         )
         index = np.array(best[3]) if best else None
         return SolveOutcome(

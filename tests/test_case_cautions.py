@@ -1,4 +1,5 @@
-"""The cautions for a payload held only through gear friction, and for one the design cannot lower.
+"""The cautions a case's results raise: a payload held only through gear friction, one the design
+cannot lower, and a speed reached only after longer than a robot's motions last.
 
 A transmission whose backward efficiency is at or below 0 holds its load by friction alone
 (self-locking; Shigley's Mechanical Engineering Design, ch. 13, worm gearing [mem]); what it
@@ -53,3 +54,19 @@ def test_the_bundled_arm_gets_no_friction_caution():
         a.cases[0], metrics={**a.cases[0].metrics, "payload_frictionless": 0.0}
     )
     assert a.cases[0].kind == "payload" and friction_cautions([weak])
+
+
+def test_a_speed_reached_only_after_long_is_named():
+    """v/a₀ bounds the time to reach v from rest from below, since the acceleration only falls
+    as the speed rises (docs/metrics.md, speed within a stroke); over a second [rule of thumb]
+    the case is named, with a stroke (speed_steady present) or a quick one it is not."""
+    from jointwright.cautions import slow_speed_cautions
+
+    def speed(name, **m):
+        return CaseResult(name, "speed", m, None, None)
+
+    slow = speed("move", speed=2.476, acceleration=0.01015)
+    quick = speed("dash", speed=1.0, acceleration=5.0)
+    stroke = speed("swing", speed=6.9, acceleration=0.01, speed_steady=15.2)
+    text = slow_speed_cautions([slow, quick, stroke])
+    assert len(text) == 1 and "'move'" in text[0] and "at least 244 s" in text[0]
