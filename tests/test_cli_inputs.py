@@ -165,6 +165,14 @@ BAD = [
         "whole number from 0 to 3",
     ),
     Bad(
+        "a region key misspelt",
+        (("project.toml", 'payload_min = "150 N"', 'payload_min = "150 N"\nposes_x = 1'),),
+        "check",
+        "project.toml",
+        "case[0].poses_x",
+        "(did you mean 'poses'?)",
+    ),
+    Bad(
         "life_min without its unit",
         (("project.toml", 'life_min = "10000 h"', 'life_min = "10000"'),),
         "check",

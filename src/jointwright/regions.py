@@ -42,7 +42,7 @@ def read_region(
     """
     given = [k for k in REGION_KEYS if t.has(k)]
     if not given:
-        t.allow("every")
+        t.allow("every", *REGION_KEYS)  # known fields, for the hint on a misspelt one
         if t.has("every"):
             raise InputError(t.file, t.field("every"), "only with trajectory_poses")
         return None
