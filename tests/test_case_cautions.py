@@ -40,8 +40,15 @@ def test_a_load_the_design_cannot_lower_is_named():
 def test_no_caution_when_the_motors_alone_carry_the_load_or_nothing_is_carried():
     fine = _case("lift", payload=128.8, payload_frictionless=150.0, payload_lower=150.0)
     none = _case("lift", payload=0.0, payload_frictionless=0.0, payload_lower=0.0)
+    endless = _case("lift", payload=float("inf"), payload_frictionless=0.0, payload_lower=0.0)
     other = CaseResult("hit", "impact", {"payload_frictionless": 0.0}, None, None)
-    assert friction_cautions([fine, none, other]) == []
+    assert friction_cautions([fine, none, endless, other]) == []
+
+
+def test_a_stance_held_by_gear_friction_is_named():
+    stand = CaseResult("stand", "stance", {"payload": 300.0, "payload_frictionless": 0.0}, None, None)
+    text = friction_cautions([stand])
+    assert len(text) == 1 and "'stand'" in text[0] and "least-friction end" in text[0]
 
 
 def test_the_bundled_arm_gets_no_friction_caution():
@@ -49,7 +56,10 @@ def test_the_bundled_arm_gets_no_friction_caution():
         project = load_project(folder / "project.toml")
         design = load_design(folder / "design.toml", project)
     a = assess(project, design)
-    assert not any("gear friction" in c or "under control" in c for c in a.cautions)
+    assert not any(
+        "gear friction" in c or "under control" in c or "to reach from rest" in c
+        for c in a.cautions
+    )
     weak = dataclasses.replace(
         a.cases[0], metrics={**a.cases[0].metrics, "payload_frictionless": 0.0}
     )
@@ -68,5 +78,8 @@ def test_a_speed_reached_only_after_long_is_named():
     slow = speed("move", speed=2.476, acceleration=0.01015)
     quick = speed("dash", speed=1.0, acceleration=5.0)
     stroke = speed("swing", speed=6.9, acceleration=0.01, speed_steady=15.2)
-    text = slow_speed_cautions([slow, quick, stroke])
+    endless = speed("free", speed=float("inf"), acceleration=1.0)
+    whole = speed("whole", speed=3, acceleration=1)  # whole numbers read as numbers
+    text = slow_speed_cautions([slow, quick, stroke, endless])
+    assert len(slow_speed_cautions([whole])) == 1
     assert len(text) == 1 and "'move'" in text[0] and "at least 244 s" in text[0]

@@ -395,6 +395,8 @@ def test_output_folders_given_a_file_name_are_refused_before_any_work(folders, t
 def test_motor_top_speed_reads_the_same_in_terminal_and_report(folders, api, tmp_path):
     """The drive table's motor top speed in rad/s and in rpm, in the terminal and the report
     alike (1 rpm = 2π/60 rad/s, the definition of the revolution per minute)."""
+    from jointwright.units import format_number
+
     folder = folders["quadruped"]
     project, result = api["quadruped"]
     args = ["--design", str(folder / "design.toml")]
@@ -404,6 +406,6 @@ def test_motor_top_speed_reads_the_same_in_terminal_and_report(folders, api, tmp
     speeds = {j.motor_max_speed for j in result.joints}
     assert speeds
     for w in speeds:
-        cell = f"{w:.4g} rad/s = {w * 60 / (2 * math.pi):.4g} rpm"
+        cell = f"{format_number(w, 4)} rad/s = {format_number(w * 60 / (2 * math.pi), 4)} rpm"
         assert cell in out
         assert cell in html

@@ -167,7 +167,7 @@ def test_points_beyond_the_projects_own_limit_are_marked(capsys):
     print_frontier(f, (), 4.0)
     out = capsys.readouterr().out
     assert "1 †" in out and "2 †" not in out
-    assert "† beyond the project's own limit on effective_mass (4 kg)" in " ".join(out.split())
+    assert "† beyond the project's own limit on effective mass (4 kg)" in " ".join(out.split())
 
 
 def test_points_with_a_self_locking_joint_are_marked(capsys):

@@ -106,6 +106,7 @@ def _leg_study(
     ("", '["3 m", "4 m"]', "requirements.total_mass_max", "vary[0].values", "convertible to kg"),
     ("", '["leg A", "leg B"]', "project.name", "vary[0].path", "only numbers and quantities"),
     ("", '["a", "b"]', "requirements.total_mass_max", "vary[0].values[0]", "quantity string"),
+    ("", "[36000000, 72000000]", "requirements.life_min", "vary[0].values", "needs its unit"),
 ])  # fmt: skip
 def test_study_file_mistakes_are_caught_before_any_case_runs(
     tmp_path, options, values, path, field, rule

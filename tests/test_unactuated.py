@@ -190,6 +190,11 @@ def test_unloaded_joint_is_reported(tmp_path):
 
     r = size(load_project(path), explain=False)
     assert r.unloaded_joints == ("q1",) and r.to_dict()["unloaded_joints"] == ["q1"]
+    # a torque case that requires a torque of q1 loads it (the joint is then sized for it)
+    torque = '\n[[case]]\nname = "spec"\nkind = "torque"\ntorques = { q1 = "2 N*m" }\n'
+    torque += 'motion = "along"\n'
+    path.write_text(text + torque)
+    assert unloaded_joints(load_project(path)) == ()
 
 
 @pytest.mark.parametrize(

@@ -378,21 +378,25 @@ def unloaded_joints(project, evaluator: Evaluator | None = None) -> tuple[str, .
     """Actuated joints that no case loads: sized against nothing but their own limits.
 
     A payload or stance case loads joint i when the case's force reaches it
-    (|J_iᵀ·u| > 0) or the links' weight does (|g_0,i| > 0) at the case's pose; a duty cycle loads
-    every joint it moves or whose links' weight it carries. Impact and speed cases load none
-    (they set inertia and speed, not torque), nor do back-drive cases (an upper limit on breakaway).
-    Thresholds: 1e-9 of the largest term of the case.
+    (|J_iᵀ·u| > 0) or the links' weight does (|g_0,i| > 0) at the case's pose; a speed case when
+    the links' weight does (it carries it along the motion); a torque case every joint it
+    requires a non-zero torque of; a duty cycle every joint it moves or whose links' weight it
+    carries. Impact cases load none (they set inertia, not torque), nor do back-drive cases (an
+    upper limit on breakaway). Thresholds: 1e-9 of the largest term of the case.
     """
     evaluator = evaluator or Evaluator(project)
     names = project.robot.actuated
     loaded = np.zeros(len(names), dtype=bool)
     for pc in evaluator.cases:
-        if pc.case.kind not in ("payload", "stance"):
+        if pc.case.kind not in ("payload", "stance", "speed"):
             continue
-        a = np.abs(pc.Jj.T @ pc.u)
         g = np.abs(np.asarray(pc.basis.g0)[evaluator.v_index])
-        for term in (a, g):
+        terms = (g,) if pc.case.kind == "speed" else (np.abs(pc.Jj.T @ pc.u), g)
+        for term in terms:
             loaded |= term > 1e-9 * max(float(term.max(initial=0.0)), 1e-300)
+    for case in evaluator.torque_cases:
+        required = dict(case.joint_torques)
+        loaded |= np.array([required.get(n, 0.0) != 0.0 for n in names])
     for pd in evaluator.duty:  # torques of the links' motion and weight, (n_act, T)
         peak = np.abs(np.asarray(pd.tau_links)).max(axis=-1)
         loaded |= peak > 1e-9 * max(float(peak.max(initial=0.0)), 1e-300)

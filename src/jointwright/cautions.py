@@ -86,31 +86,37 @@ def design_cautions(project, design) -> list[str]:
     return out
 
 
+def _number(x) -> bool:
+    """A real number (not a flag, not NaN): a metric's value as the cautions read it."""
+    return isinstance(x, (int, float)) and not isinstance(x, bool) and not math.isnan(x)
+
+
 def friction_cautions(cases) -> list[str]:
-    """For each payload case that carries a payload only through gear friction (no payload with
-    frictionless gears), and for each that cannot lower its load under control (no payload
-    while lowering or yielding): what that means and the usual caution. ``cases``: the
-    assessment's case results (name, kind, metrics with ``payload``, ``payload_frictionless``,
-    ``payload_lower`` in N)."""
+    """For each payload or stance case that carries a payload only through gear friction (no
+    payload with frictionless gears), and for each payload case that cannot lower its load under
+    control (no payload while lowering or yielding): what that means and the usual caution.
+    ``cases``: the assessment's case results (name, kind, metrics with ``payload``,
+    ``payload_frictionless``, ``payload_lower`` in N)."""
     out = []
     for case in cases:
-        if case.kind != "payload":
+        if case.kind not in ("payload", "stance"):
             continue
         m = case.metrics
         carried = m.get("payload", math.nan)
-        if not carried > 0:
+        if not (_number(carried) and 0 < carried < math.inf):
             continue
-        if m.get("payload_frictionless", math.nan) <= 0:
+        if _number(m.get("payload_frictionless")) and m["payload_frictionless"] <= 0:
             out.append(
                 f"case {case.name!r}: with frictionless gears the joints carry no payload; the "
                 f"{carried:.4g} N it reaches rest on gear friction (a self-locking or nearly "
                 "self-locking transmission holds what the motor cannot). Friction changes with "
                 "temperature, lubrication, load and wear, and so does what it holds: check the "
-                "case at the low end of the efficiency band, and do not rely on gear friction "
-                "to hold a load near people; provide a brake or a tested holding means under the "
-                "applicable safety standards."
+                "case at the worst end of the efficiency band (requirements.efficiency_band; "
+                "for a load held by friction, the least-friction end), and do not rely on gear "
+                "friction to hold a load near people; provide a brake or a tested holding means "
+                "under the applicable safety standards."
             )
-        if m.get("payload_lower", math.nan) <= 0:
+        if _number(m.get("payload_lower")) and m["payload_lower"] <= 0:
             out.append(
                 f"case {case.name!r}: while lowering or yielding the joints carry no payload "
                 "(0 N): the design raises or holds this load but cannot lower it under control. "
@@ -134,8 +140,8 @@ def slow_speed_cautions(cases) -> list[str]:
         m = case.metrics
         if case.kind != "speed" or m.get("speed_steady") is not None:
             continue
-        v, a0 = m.get("speed", math.nan), m.get("acceleration", math.nan)
-        if not (isinstance(v, float) and isinstance(a0, float) and v > 0 and a0 > 0):
+        v, a0 = m.get("speed"), m.get("acceleration")
+        if not (_number(v) and _number(a0) and 0 < v < math.inf and 0 < a0 < math.inf):
             continue
         if v / a0 > SLOW_REACH:
             out.append(

@@ -70,7 +70,8 @@ def quantity(value: Any, dimension: str, *, file: str = "<api>", field: str = "v
             file,
             field,
             f"needs its unit, got {value!r}: a life is commonly stated in hours, and a plain "
-            'number would be read as seconds; write e.g. "20000 h"',
+            'number would be read as seconds; write e.g. "20000 h" (in a CSV table, or a '
+            "header unit such as [h])",
         )
     if isinstance(value, bool):
         raise InputError(file, field, f"must be a number or a quantity in {si}, got {value!r}")

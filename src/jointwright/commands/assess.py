@@ -38,7 +38,7 @@ def print_assessment(a, project=None) -> None:
             [
                 j.joint,
                 j.motor,
-                " + ".join(j.stages) or "direct",
+                " + ".join(j.stages) or "direct drive (no gear)",
                 f"{j.ratio:g}:1",
                 f"{j.eta_forward:.3f} / {j.eta_backward:.3f}{lock}{_band_text(j)}",
                 num(j.mass, "kg"),

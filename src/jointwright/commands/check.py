@@ -339,11 +339,11 @@ def command(project: Path, as_json: bool):
         con.print(f"[yellow]note:[/yellow] {escape(n)}")
     for j in r["unloaded"]:
         con.print(
-            f"[yellow]warning:[/yellow] no case puts a torque on joint {j} (no payload or "
-            "stance force, link weight or duty cycle reaches it): only its own limits and the "
-            "speed, impact and back-drive cases shape its choice, and sizing gives it the "
-            "smallest actuator that passes them; add a case that loads it (a payload, stance "
-            "or duty case) or a joint requirement"
+            f"[yellow]warning:[/yellow] no case loads joint {j} (no payload or stance force, "
+            "link weight, required joint torque or duty cycle reaches it): only its own limits "
+            "and the speed, impact and back-drive cases shape its choice, and sizing gives it "
+            "the smallest actuator that passes them; add a case that loads it (a payload, "
+            "stance, torque or duty case) or a joint requirement"
         )
 
 

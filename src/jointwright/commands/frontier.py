@@ -20,6 +20,7 @@ from ._output import (
     write_text,
 )
 from .frontier_text import (
+    HEADINGS,
     LABELS,
     UNITS,
     at_case,
@@ -158,7 +159,7 @@ def print_frontier(f, shared=(), limit: float | None = None) -> None:
             else ""
         )
         + (
-            f"; † beyond the project's own limit on {f.measure} "
+            f"; † beyond the project's own limit on {HEADINGS[f.measure]} "
             f"({num(limit, UNITS[f.measure])}): the frontier drops that limit to show the whole "
             "trade-off, so such a point does not meet the project"
             if any(beyond_limit(f, p, limit) for p in f.points)
@@ -174,7 +175,7 @@ def print_frontier(f, shared=(), limit: float | None = None) -> None:
     con.print(
         table(
             "Frontier (largest payload first)",
-            ["#", "payload mass", measure_name(f)]
+            ["#", "payload mass", HEADINGS[f.measure]]
             + (["mass"] if masses else [])
             + (["cost"] if costs else [])
             + (["gear shock"] if shock else [])

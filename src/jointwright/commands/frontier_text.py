@@ -15,6 +15,14 @@ LABELS = {
     "mass": "total actuator mass",
     "cost": "total actuator cost",
 }
+#: the measure's column heading in the frontier table (short: the table fits 100 columns)
+HEADINGS = {
+    "imf": "IMF",
+    "effective_mass": "effective mass",
+    "backdrive_force": "back-drive force",
+    "mass": "total mass",
+    "cost": "total cost",
+}
 #: what a better value of each measure means, the sense "min" (larger better) or "max"
 BETTER = {"min": "higher is more back-drivable", "max": "lower is more back-drivable"}
 BETTER_TOTAL = {"mass": "lower is lighter", "cost": "lower is cheaper"}
@@ -79,8 +87,9 @@ def unexplored_text(f) -> str | None:
     pmax, bound = f.unexplored
     side = "≤" if f.sense == "min" else "≥"
     return (
-        f"stopped by the time limit: designs with payload ≤ {num(pmax, 'kg')} and {f.measure} "
-        f"{side} {num(bound, UNITS[f.measure])} were not all searched and may add points there"
+        f"stopped by the time limit: designs with payload ≤ {num(pmax, 'kg')} and "
+        f"{HEADINGS[f.measure]} {side} {num(bound, UNITS[f.measure])} were not all searched and "
+        "may add points there"
         + ("; every point shown is proven non-dominated" if all(p.proven for p in f.points) else "")
     )
 

@@ -200,10 +200,10 @@ def print_result(r, project=None) -> None:
         )
         if r.objective_kind == "payload" and any(row[3].endswith("(tie)") for row in rows):
             con.print(
-                "note: designs that tie on payload differ in mass and back-drivability, and the "
-                "tie-break takes the lightest; `jointwright frontier` maps how much payload "
-                "each step of back-drivability costs, and which designs keep the payload with a "
-                "better impact mitigation factor or effective mass"
+                "note: designs that tie on payload differ in mass and back-drivability; "
+                "`jointwright frontier` maps how much payload each step of back-drivability "
+                "costs, and which designs keep the payload with a better impact mitigation "
+                "factor or effective mass"
             )
     if r.diagnosis:
         rows = [
@@ -229,7 +229,8 @@ def print_result(r, project=None) -> None:
                     "— : its best alone is not computed (no closed form: gear shock use, "
                     "directional IMF, gear life, a speed the no-load bound cannot rule out, or "
                     "no time left): the last column still says whether dropping it makes the "
-                    "project feasible"
+                    "project feasible; a speed shown is that no-load bound, an upper bound that "
+                    "falls short of the limit, not a speed a design reaches"
                 ),
             )
         )
@@ -309,9 +310,9 @@ def command(project: Path, objective, backend, time_limit, gap, no_explain, out,
         print_result(r, p)
         for j in unloaded:
             console().print(
-                f"[yellow]note:[/yellow] no case puts a torque on joint {j}: its choice is "
-                "the smallest actuator that meets its own limits and the speed, impact and "
-                "back-drive cases, not one sized for a load"
+                f"[yellow]note:[/yellow] no case loads joint {j}: its choice is the smallest "
+                "actuator that meets its own limits and the speed, impact and back-drive "
+                "cases, not one sized for a load"
             )
         if out is not None:
             console().print(

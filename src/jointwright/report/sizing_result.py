@@ -123,14 +123,16 @@ def runner_ups_section(
                 [
                     "requirement",
                     "limit",
-                    "best achievable alone",
+                    "best alone",
                     "shortfall",
                     "objective without it",
                 ],
                 diag,
                 caption="One requirement at a time: its best value over all options (shortfall "
-                "relative to the limit; ≤ 0 means it alone can be met), and what "
-                "dropping it buys.",
+                "relative to the limit; ≤ 0 means it alone can be met), and what dropping it "
+                "buys. —: not computed (no closed form: gear shock use, directional IMF, gear "
+                "life, or no time left); a speed is shown only when even the no-load bound (an "
+                "upper bound, not a speed a design reaches) falls short of the limit.",
             )
         )
     return Section(

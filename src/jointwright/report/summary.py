@@ -259,7 +259,8 @@ def risks(a: dict, sensitivity: dict | None = None) -> list[str]:
     if sensitivity:
         out.append(sensitivity_risk(sensitivity))
     out.append(
-        "Assumed: rigid links and gears, the catalog's efficiencies, its peak ratings at "
+        "Assumed: rigid links and gears (but for the estimate of an impact's gear shock), the "
+        "catalog's efficiencies, its peak ratings at "
         "standstill and along the torque–speed envelope where a case moves at speed; thermal "
         "limits "
         + ("only over the duty cycles given" if duty else "not checked (no duty cycle given)")

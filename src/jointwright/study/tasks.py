@@ -64,20 +64,28 @@ def check_study_options(spec) -> None:
 
 
 def check_study_values(spec) -> None:
-    """Load the base project once per varied parameter written with units, with that
-    parameter's first value set: a unit the project cannot take there (``"3 m"`` for a mass) is
-    rejected before any case runs, naming the study file and the ``[[vary]]`` entry. (The
-    values of one parameter share one dimension, so the first stands for all.) Other problems
-    of that project are left to the cases, which record them."""
+    """Load the base project once per varied parameter, with that parameter's first value set:
+    a unit the project cannot take there (``"3 m"`` for a mass), or a plain number where it
+    needs the unit written (a life), is rejected before any case runs, naming the study file and
+    the ``[[vary]]`` entry. (The values of one parameter share one dimension, so the first
+    stands for all.) Other problems of that project are left to the cases, which record them."""
     for i, p in enumerate(spec.parameters):
         value = p.values[0]
-        if not isinstance(value, str):
+        plain = not isinstance(value, str)
+        if not plain:
+            try:
+                float(value)
+                plain = True
+            except ValueError:
+                pass
+        if plain:
+            # a plain number where the project needs the unit written (a life: hours by habit)
+            error = _load_error(spec, p.path, value)
+            if error is not None and error.field == p.path and "needs its unit" in error.rule:
+                raise InputError(
+                    spec.file, f"vary[{i}].{p.source}", f"{value!r} for {p.path}: {error.rule}"
+                )
             continue
-        try:
-            float(value)
-            continue
-        except ValueError:
-            pass
         error = _load_error(spec, p.path, value)
         if error is None or error.field != p.path:
             continue
