@@ -1152,9 +1152,9 @@ URDF = [
         "URDF file missing",
         (("project.toml", 'urdf = "leg.urdf"', 'urdf = "legs.urdf"'),),
         "check",
-        "legs.urdf",
-        "urdf",
-        "cannot read the file",
+        "project.toml",
+        "robot.urdf",
+        "no such file",
     ),
     _one(
         "URDF",

@@ -332,9 +332,9 @@ BAD = [
         "missing URDF",
         (("project.toml", 'urdf = "leg.urdf"', 'urdf = "legs.urdf"'),),
         "check",
-        "legs.urdf",
-        "urdf",
-        "cannot read the file",
+        "project.toml",
+        "robot.urdf",
+        "no such file",
     ),
     Bad(
         "missing catalog",

@@ -603,3 +603,57 @@ def test_a_speed_case_without_stroke_says_how_long_its_speed_takes_at_least():
     assert "set stroke" in text
     assert without_stroke("speed", {"speed": 1.1, "acceleration": 3.1, "speed_steady": 11.3}) == ""
     assert without_stroke("payload", {"speed": 1.0, "acceleration": 1.0}) == ""
+
+
+def test_a_force_below_the_fixed_load_is_no_payload_not_a_negative_mass(
+    leg_project, capsys, monkeypatch
+):
+    """(F − fixed load)/(share·g_n) < 0 when the force falls short of the case's fixed load
+    (the payload objective's definition, docs/project-format.md): the terminal, the report's
+    case table and its outcome say the case carries no payload, never a negative mass."""
+    from importlib import resources
+
+    from jointwright.assessment import assess
+    from jointwright.commands import _format
+    from jointwright.commands.assess import print_assessment
+    from jointwright.design import load_design
+    from jointwright.report.case_tables import cases_section
+    from jointwright.report.wording import NO_PAYLOAD
+    from jointwright.units import format_number
+
+    cases = tuple(
+        dataclasses.replace(c, fixed_load=1000.0) if c.name == "side-step" else c
+        for c in leg_project.cases
+    )
+    project = dataclasses.replace(leg_project, cases=cases)
+    with resources.as_file(resources.files("jointwright.examples") / "leg" / "design.toml") as p:
+        design = load_design(p, project)
+    a = assess(project, design)
+    step = next(c for c in a.cases if c.name == "side-step")
+    assert step.metrics["payload_carried"] < 0 < step.metrics["payload"] < 1000.0
+    monkeypatch.setenv("COLUMNS", "200")
+    monkeypatch.setattr(_format, "_console", None)
+    print_assessment(a, project)
+    out = capsys.readouterr().out
+    negative = format_number(-step.metrics["payload_carried"], 4) + " kg"
+    assert NO_PAYLOAD in " ".join(out.split()) and f"-{negative}" not in out
+    body = " ".join(cases_section(a.to_dict(), project).body.split())
+    assert NO_PAYLOAD.replace("'", "&#x27;") in body and f"−{negative}" not in body
+
+
+def test_an_unrated_gear_struck_past_its_repeated_peak_rating_says_so():
+    """A stage with no momentary rating, struck at an impact with more torque than its
+    repeated-peak rating: the share of that rating is named (10.12 / 6 = 168.7 %), since the
+    stage is rated for cycles below it and states no emergency-stop limit above it."""
+    from jointwright.report.wording import shock_share
+
+    def pct(v):
+        return f"{v:.4g} %"
+
+    assert shock_share(True, float("nan"), 10.12, 6.0, pct) == (
+        "no momentary rating; 168.7 % of the repeated-peak rating"
+    )
+    assert shock_share(True, None, -10.12, 6.0, pct).endswith("168.7 % of the repeated-peak rating")
+    assert shock_share(True, "nan", 3.0, 6.0, pct) == "no momentary rating"
+    assert shock_share(True, 0.5925, 71.1, 120.0, pct) == "59.25 % of momentary"
+    assert shock_share(False, float("nan"), 0.0, float("inf"), pct) == "direct drive: no gear"

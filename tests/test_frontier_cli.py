@@ -230,3 +230,28 @@ def test_neighbouring_measures_read_differently():
     assert _distinct_digits([0.5, 0.4, 0.3]) == 4
     assert _distinct_digits([1.0, 1.0]) == 4
     assert _distinct_digits([1.0, 1.0 + 1e-12]) == 7
+
+
+def test_an_unrated_gear_shock_reads_unknown_not_infinite(capsys, monkeypatch):
+    """A stage with no momentary rating has an unknown share of the impact's gear torque (the
+    evaluator's use is then not finite): the frontier table and JSON say "unknown", never ∞ %
+    (which the caption reads as a gear expected to break)."""
+    import dataclasses
+
+    from jointwright.commands import _format
+    from jointwright.commands.frontier import print_frontier
+    from jointwright.frontier import frontier
+    from jointwright.project import load_project
+
+    with resources.as_file(resources.files("jointwright.examples") / "leg") as src:
+        leg = load_project(src / "project.toml")
+    f = frontier(leg, "imf", time_limit=60)
+    assert all(p.shock_use is not None and 0 <= p.shock_use < 10 for p in f.points)
+    first = dataclasses.replace(f.points[0], shock_use=float("inf"))
+    f = dataclasses.replace(f, points=(first, *f.points[1:]))
+    assert f.to_dict()["points"][0]["shock_use"] == "unknown"
+    monkeypatch.setenv("COLUMNS", "200")
+    monkeypatch.setattr(_format, "_console", None)
+    print_frontier(f)
+    out = capsys.readouterr().out
+    assert "unknown (unrated)" in out and "∞ %" not in out

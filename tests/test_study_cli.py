@@ -138,20 +138,25 @@ def test_a_mistake_in_a_variant_is_caught_before_any_case_runs(tmp_path):
     """A misspelt stage kind in a variant's settings: one line naming the study file, the
     variant and the field the project refuses, exit 2, no store; before, every case of the
     variant ran and failed, and the advised --resume was refused once the study was fixed."""
+    study, text = _refused_variant(tmp_path, "planetary-only", '"catalog.stage_kinds" = ["planetry"]')
+    assert f"{study}: variant[1].set: catalog.stage_kinds = ['planetry'] (planetary-only)" in text
+    assert "unknown stage kind 'planetry' (did you mean 'planetary'?)" in text
+
+
+def _refused_variant(tmp_path, name: str, setting: str):
+    """A study whose second variant sets ``setting``: the study command refuses it before any
+    case runs (exit 2, no traceback, no store); (study path, output as one line)."""
     study = _leg_study(tmp_path)
     study.write_text(
         study.read_text()
-        + '[[variant]]\nname = "free"\n[[variant]]\nname = "planetary-only"\n'
-        'set = { "catalog.stage_kinds" = ["planetry"] }\n',
+        + f'[[variant]]\nname = "free"\n[[variant]]\nname = "{name}"\nset = {{ {setting} }}\n',
         encoding="utf-8",
     )
     res = CliRunner().invoke(main, ["study", str(study), "--workers", "1"])
     assert res.exit_code == 2, res.output
     text = " ".join(res.output.split())
-    assert f"{study}: variant[1].set: catalog.stage_kinds = ['planetry'] (planetary-only)" in text
-    assert "unknown stage kind 'planetry' (did you mean 'planetary'?)" in text
-    assert "Traceback" not in text
-    assert not (study.parent / "results.sqlite").exists()
+    assert "Traceback" not in text and not (study.parent / "results.sqlite").exists()
+    return study, text
 
 
 def test_the_terminal_table_keeps_to_what_varies(monkeypatch):
@@ -188,6 +193,23 @@ def test_the_terminal_table_keeps_to_what_varies(monkeypatch):
     # a [[vary]] parameter of a single value is the same in every case of every variant: kept
     one = [row(i, v, "3.0 kg", None) for i, v in enumerate(("free", "other"))]
     assert "total_mass_max" in [c.header for c in case_table("s", one, max_rows=9).columns]
+    # the columns follow the study file's [[vary]] order, not the store's (sorted) keys; a
+    # value written "kg*m**2" reads kg·m²
+    two = [
+        SimpleNamespace(
+            index=i,
+            variant=None,
+            params={"a.total_mass_max": f"{m} kg", "z.reflected_inertia_max": f"{j} kg*m**2"},
+            status="done",
+            metrics={"sizing_status": "optimal", "objective": 8.0, "total_mass": 2.9},
+            wall_time=1.0,
+        )
+        for i, (m, j) in enumerate(((3, 0.02), (4, 0.04)))
+    ]
+    t = case_table("s", two, max_rows=9, order=["z.reflected_inertia_max", "a.total_mass_max"])
+    names = [c.header for c in t.columns]
+    assert names.index("reflected_inertia_max") < names.index("total_mass_max")
+    assert "0.02 kg·m²" in list(t.columns[names.index("reflected_inertia_max")].cells)
 
 
 def test_a_variant_setting_valid_with_the_varied_values_is_not_refused(tmp_path):
@@ -210,3 +232,11 @@ def test_a_variant_setting_valid_with_the_varied_values_is_not_refused(tmp_path)
         encoding="utf-8",
     )
     check_variants(load_study(study))  # no error: every case of the variant loads
+
+
+def test_a_variant_naming_a_missing_urdf_is_caught_before_any_case_runs(tmp_path):
+    """A variant that points the robot at a URDF file that does not exist: refused before any
+    case runs, naming the variant and robot.urdf (the error names the project's field, not the
+    missing file as if it were the culprit)."""
+    _study, text = _refused_variant(tmp_path, "other-leg", '"robot.urdf" = "nothere.urdf"')
+    assert "variant[1].set" in text and "robot.urdf" in text and "no such file" in text

@@ -81,3 +81,17 @@ def test_large_numbers_are_written_in_full_with_grouped_thousands():
     assert format_number(1.2e9) == "1.2e+09"
     # inside a list of numbers the commas separate entries: no grouping there
     assert format_number(12000, group=False) == "1.2e+04"
+
+
+def test_units_are_shown_as_a_reader_writes_them():
+    """ISO 80000-1 (quantities and units, general) writes a product of units with a half-high
+    dot and powers as superscripts [pub]: "kg*m**2" reads "kg·m²" wherever a study value is
+    shown, and what the project loader parses is left as written."""
+    from jointwright.units import pretty_unit, quantity
+
+    assert pretty_unit("0.02 kg*m**2") == "0.02 kg·m²"
+    assert pretty_unit("kg*m^2") == "kg·m²"
+    assert pretty_unit("m/s**2") == "m/s²"
+    assert pretty_unit("N*m/A") == "N·m/A"
+    assert pretty_unit("4 kg") == "4 kg"
+    assert quantity("0.02 kg*m**2", "inertia") == 0.02

@@ -93,7 +93,10 @@ class Frontier:
                         "changes": list(p.changes),
                         "changed": {j: [old, new] for j, old, new in p.changed},
                         "proven": p.proven,
-                        "shock_use": p.shock_use,
+                        # "unknown": a stage with no momentary rating (not an infinite use)
+                        "shock_use": p.shock_use
+                        if p.shock_use is None or math.isfinite(p.shock_use)
+                        else "unknown",
                         "actuators": {
                             j: a.label()
                             for j, a in zip(p.design.joints, p.design.actuators, strict=True)

@@ -178,6 +178,13 @@ def _load_robot(t: Table, base_dir: Path):
 
     if t.has("urdf"):
         urdf = base_dir / t.text("urdf")
+        if not urdf.is_file():  # named against the project file and its field, not the URDF
+            raise InputError(
+                t.file,
+                t.field("urdf"),
+                f"no such file: {str(urdf)!r} (a relative path is read from the project "
+                "file's folder)",
+            )
         base = t.text("base", None, choices=("fixed", "floating"))
         actuated = t.array("actuated", None)
         mounts = t.raw("mounts", None)

@@ -10,6 +10,7 @@ docs/optimizer.md.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import time
 
@@ -279,9 +280,18 @@ def finish(
         plan = Plan(start, plan, explain)
     phase = phase or (lambda text: None)
     sense = -1.0 if kind in MINIMIZED else 1.0
-    options = {
-        j: int(c.size) for j, c in zip(project.robot.actuated, model.candidates, strict=True)
-    }
+    # the options each joint keeps after its own filters (not after the coupled tightening,
+    # which empties every joint once one is empty)
+    own = model.candidates if cands is None else cands.index
+    options = {j: int(np.size(c)) for j, c in zip(project.robot.actuated, own, strict=True)}
+    empty = [j for j, k in options.items() if k == 0]
+    if outcome.index is None and outcome.status == "infeasible" and empty:
+        names = empty[0] if len(empty) == 1 else f"{', '.join(empty[:-1])} or {empty[-1]}"
+        outcome = dataclasses.replace(
+            outcome,
+            native=f"no option of {names} meets the joint's own requirements (per-joint "
+            "filters; the diagnosis names the requirement)",
+        )
     if outcome.index is None:
         diag: tuple = ()
         if explain and outcome.status == "infeasible":

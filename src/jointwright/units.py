@@ -109,6 +109,17 @@ def _plain(value: Any) -> bool:
     return False
 
 
+_SUPERSCRIPTS = str.maketrans("0123456789-", "⁰¹²³⁴⁵⁶⁷⁸⁹⁻")
+
+
+def pretty_unit(text: str) -> str:
+    """A unit (or a quantity) as written for code, "kg*m**2", as a reader writes it, "kg·m²":
+    powers as superscripts, products as a middle dot. For display only (not parsed back)."""
+    out = re.sub(r"\*\*\s*(-?\d+)", lambda m: m.group(1).translate(_SUPERSCRIPTS), text)
+    out = re.sub(r"\^\s*(-?\d+)", lambda m: m.group(1).translate(_SUPERSCRIPTS), out)
+    return out.replace("*", "·")
+
+
 #: "<number> <unit>" with a unit that starts with a letter: the unit's factor is looked up once
 _NUMBER_UNIT = re.compile(
     r"\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)"

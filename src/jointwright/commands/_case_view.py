@@ -10,9 +10,11 @@ from rich.console import Console
 from ..dutycase import DUTY_QUANTITIES
 from ..report.wording import (
     beyond_stroke,
+    carried_text,
     envelope_speed,
     limiting_quantity_text,
     modes_text,
+    shock_share,
     torque_rows,
     without_stroke,
     wrench_text,
@@ -125,7 +127,7 @@ def print_case(con: Console, c, a, cases: dict, revolute: dict) -> None:
                 "payload mass it carries, (F − fixed load)/(share·g_n)",
                 "— (share 0: the load does not grow with the payload)"
                 if carried is None or carried == float("inf")
-                else num(carried, "kg"),
+                else carried_text(carried, lambda v: num(v, "kg")),
             ]
         )
     torques = []
@@ -168,12 +170,9 @@ def print_case(con: Console, c, a, cases: dict, revolute: dict) -> None:
         for j in a.joints:
             torque = c.metrics.get(f"shock_torque:{j.joint}")
             use = c.metrics.get(f"shock_use_joint:{j.joint}")
-            if not j.stages:
-                share = "direct drive: no gear"
-            elif isinstance(use, float) and math.isnan(use):
-                share = "no momentary rating"
-            else:
-                share = f"{num(_scaled(use, 100.0), '%')} of momentary"
+            share = shock_share(
+                bool(j.stages), use, torque, j.gear_peak_torque, lambda v: num(v, "%")
+            )
             rows.append(
                 [f"peak gear torque at the impact, {j.joint}", f"{num(torque, 'N·m')} ({share})"]
             )

@@ -121,7 +121,15 @@ def print_frontier(f, shared=(), limit: float | None = None) -> None:
             ]
             + ([num(p.mass, "kg")] if masses else [])
             + ([num(p.design.cost)] if costs else [])
-            + ([num(100.0 * p.shock_use, "%")] if shock and p.shock_use is not None else [])
+            + (
+                [
+                    num(100.0 * p.shock_use, "%")
+                    if math.isfinite(p.shock_use)
+                    else "unknown (unrated)"
+                ]
+                if shock and p.shock_use is not None
+                else []
+            )
             + (["—"] if shock and p.shock_use is None else [])
             + [", ".join(j for j, _a, _b in changed) or ("—" if i else "first point")]
         )
@@ -142,7 +150,8 @@ def print_frontier(f, shared=(), limit: float | None = None) -> None:
         + ("; cost in the catalog's currency units" if costs or f.measure == "cost" else "")
         + (
             "; gear shock: the largest peak gear torque at the project's impacts over the stage's "
-            "momentary rating (over 100 % the gear is expected to break)"
+            "momentary rating (over 100 % the gear is expected to break; unknown where a stage "
+            "states no momentary rating)"
             if shock
             else ""
         )
@@ -373,7 +382,7 @@ def write_plot(f, ideal, folder: Path) -> None:
         x_label=f"{label}{f' ({unit})' if unit else ''}{at_case(f)}; {better_text(f)}",
         y_label="payload mass every payload case carries (kg)",
         title=f"Payload versus {label}: non-dominated designs "
-        f"({'complete' if f.complete else 'sampled'})",
+        f"({'complete' if f.complete else 'not complete: stopped before the whole front'})",
         steps="pre" if f.sense == "min" else "post",
         numbered=True,
     )

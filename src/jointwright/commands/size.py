@@ -17,7 +17,13 @@ from ..design import design_to_toml
 from ..errors import InputError
 from ..objective import check_gap
 from ..project import load_project
-from ..report.wording import gap_text, objective_change, unknown_gap, wrench_text
+from ..report.wording import (
+    carried_text,
+    gap_text,
+    objective_change,
+    unknown_gap,
+    wrench_text,
+)
 from ..solve.result import OPTIMALITY_GAP
 from ._format import console, emit_json, num, pct, requirement_num, table
 from ._output import check_target, project_inputs, write_text
@@ -84,7 +90,9 @@ def payload_rows(project, assessment) -> list[list[str]]:
                 num(c.metrics.get("payload"), "N"),
                 num(case.fixed_load, "N"),
                 f"{share:g}",
-                "not limiting (share 0)" if share == 0 else num(carried, "kg"),
+                "not limiting (share 0)"
+                if share == 0
+                else carried_text(carried, lambda v: num(v, "kg")),
                 wrench_text(case, minus="-") or "at the frame, no moment",
             ]
         )

@@ -6,6 +6,7 @@ from pathlib import Path
 
 import click
 
+from ..units import pretty_unit
 from ._format import console, emit_json, num, table
 
 #: exit status when the study ran but some or all of its cases failed (bad input: 2)
@@ -112,7 +113,7 @@ def command(
         f"{outcome.total} cases ({outcome.skipped} already stored); {outcome.wall_time:.1f} s "
         f"on {_slots(outcome.workers, outcome.backend)}; results in {outcome.store}"
     )
-    con.print(case_table(spec.name, rows, max_rows=40))
+    con.print(case_table(spec.name, rows, max_rows=40, order=[p.path for p in spec.parameters]))
     con.print(
         "objective: the payload mass every case carries (kg) when sizing for payload, the "
         "actuator mass (kg) for mass, the IMF for imf. All metrics: --csv FILE, or open the "
@@ -151,13 +152,14 @@ def print_failures(failures: list[dict], stored: int, store: Path) -> None:
 _STATUS = {"optimal": "optimal", "infeasible": "infeasible", "time_limit": "time limit"}
 
 
-def case_table(name: str, rows, *, max_rows: int):
+def case_table(name: str, rows, *, max_rows: int, order=()):
     """The cases as a table that fits the terminal: the varied values (named by their last path
-    part), status, objective, gap, actuator mass and time; identifiers and every other metric
-    stay in the store and the CSV export."""
+    part, in the study file's ``[[vary]]`` order ``order``), status, objective, gap, actuator
+    mass and time; identifiers and every other metric stay in the store and the CSV export."""
     from ..units import format_number
 
-    params = list(dict.fromkeys(k for r in rows for k in r.params))
+    seen = list(dict.fromkeys(k for r in rows for k in r.params))
+    params = [k for k in order if k in seen] + [k for k in seen if k not in order]
     variants = any(r.variant for r in rows)
     if variants:  # a value fixed within every variant but not across them is the variant's
         # setting: the variant names it (a [[vary]] parameter of one value stays)
@@ -221,7 +223,7 @@ def _param_text(value) -> str:
     """A varied value as written: a list of names as "planetary, cycloidal", not Python's."""
     if isinstance(value, (list, tuple)):
         return ", ".join(str(v) for v in value)
-    return str(value)
+    return pretty_unit(str(value))
 
 
 def _slots(count: int, backend: str) -> str:

@@ -15,9 +15,11 @@ from .markup import (
 )
 from .wording import (
     beyond_stroke,
+    carried_text,
     envelope_speed,
     limiting_quantity_text,
     modes_text,
+    shock_share,
     torque_rows,
     without_stroke,
     wrench_text,
@@ -112,13 +114,13 @@ def _shock_rows(c: dict, joints: list[dict]) -> list[list]:
     rows: list[list] = []
     for j in joints:
         name = j["joint"]
-        use = m.get(f"shock_use_joint:{name}")
-        if not j["stages"]:
-            share = "direct drive: no gear"
-        elif use is None or (isinstance(use, float) and use != use) or use == "nan":
-            share = "no momentary rating"
-        else:
-            share = f"{fmt(100.0 * as_float(use), '%')} of momentary"
+        share = shock_share(
+            bool(j["stages"]),
+            m.get(f"shock_use_joint:{name}"),
+            m.get(f"shock_torque:{name}"),
+            j.get("gear_peak_torque"),
+            lambda v: fmt(v, "%"),
+        )
         rows.append(
             [
                 f"peak gear torque at the impact, {name}",
@@ -233,7 +235,16 @@ def cases_section(a: dict, project=None) -> Section:
                 if k.startswith("torque_ratio:")
             ]
         rows = [
-            [label, Cell(fmt(c["metrics"][k], unit), "num", (("case", c["name"]), ("metric", k)))]
+            [
+                label,
+                Cell(
+                    carried_text(c["metrics"][k], lambda v: fmt(v, "kg"))
+                    if k == "payload_carried"
+                    else fmt(c["metrics"][k], unit),
+                    "num",
+                    (("case", c["name"]), ("metric", k)),
+                ),
+            ]
             for k, label, unit in shown
             # a share-0 case carries no payload mass: its +inf is not shown as a mass
             if c["metrics"].get(k) is not None

@@ -165,7 +165,11 @@ def _payload_words(a: dict, project) -> list[str]:
     if isinstance(carried, (int, float)) and math.isfinite(carried):
         # the force holds the case's fixed load and its share of the payload's weight: say
         # which payload mass that is (the sizing's objective reads it), not the force over g
-        kg = f" (with its fixed load, it carries a payload of {fmt(carried, 'kg')})"
+        kg = (
+            f" (with its fixed load, it carries a payload of {fmt(carried, 'kg')})"
+            if carried >= 0
+            else " (it carries no payload: the force falls short of the case's fixed load)"
+        )
     elif project.case(worst["name"]).weight_equivalent and math.isfinite(value):
         kg = f" (the weight of {fmt(value / G0, 'kg')} at standard gravity)"
     text = f"{lead}: {fmt(value, 'N')}{kg}"

@@ -157,15 +157,20 @@ def ratio_section(project, evaluator, arrays, fig_dir: Path) -> Section:
     return Section("ratio", "Gear ratio trade", body)
 
 
-def _sensitivity_table(sens, columns, titles, units) -> str:
+def _sensitivity_table(sens, columns, titles, units, gearless=frozenset()) -> str:
+    """The sensitivity table; ``gearless``: joints without a gear (direct drives), which have
+    no efficiency to move and get one row saying so."""
     pts = round(100 * sens.step)
     rows = []
     for j, joint in enumerate(sens.joints):
+        if joint in gearless:
+            rows.append([joint, "—"] + ["" for _k in columns] + ["no gear: nothing to vary"])
+            continue
         for f, fname in enumerate(("η_f", "η_b")):
             row = [joint, fname]
             for k in columns:
                 low, high = sens.values[k][j, f]
-                if k == "payload" and min(low, high) <= 0 < sens.base[k]:
+                if k == "payload" and min(low, high) <= 0:
                     # below every case's fixed load: no payload, not a negative mass
                     low_t = "none" if low <= 0 else number(low)
                     high_t = "none" if high <= 0 else fmt(high, units[k])
@@ -182,7 +187,11 @@ def _sensitivity_table(sens, columns, titles, units) -> str:
             if sens.locking_changed[j, f].any():
                 flags.append("self-locking changes")
             rows.append(row + [", ".join(flags)])
-    base = "; ".join(f"{titles[k]} {fmt(sens.base[k], units[k])}" for k in columns)
+    base = "; ".join(
+        f"{titles[k]} "
+        + ("none" if k == "payload" and sens.base[k] <= 0 else fmt(sens.base[k], units[k]))
+        for k in columns
+    )
     return table(
         ["joint", "efficiency"] + [titles[k] for k in columns] + ["note"],
         rows,
@@ -221,7 +230,12 @@ def sensitivity_section(project, evaluator, arrays, fig_dir: Path, sens=None) ->
                 f"moves by −{pts} (grey) or +{pts} (blue) percentage points.",
             )
         )
-    parts.append(_sensitivity_table(sens, keys[:1] + cases + keys[1:], titles, units))
+    gearless = frozenset(
+        joint
+        for j, joint in enumerate(sens.joints)
+        if not np.isfinite(np.asarray(arrays.gear_peak_torque)[0, j])
+    )
+    parts.append(_sensitivity_table(sens, keys[:1] + cases + keys[1:], titles, units, gearless))
     return Section("sensitivity", "Sensitivity to efficiency assumptions", "".join(parts))
 
 

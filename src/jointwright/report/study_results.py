@@ -6,6 +6,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from ..errors import InputError
+from ..units import pretty_unit
 from . import figures
 from .jsonfields import need
 from .markup import (
@@ -20,13 +21,13 @@ from .markup import (
 
 def _study_value(v, unit: str | None = None, scale: float = 1.0):
     if isinstance(v, (int, float)) and not isinstance(v, bool):
-        u = "" if unit in (None, "as computed") else unit
+        u = "" if unit in (None, "as computed") else pretty_unit(unit)
         return fmt(scale * v, u)
-    return "—" if v in (None, "") else str(v)
+    return "—" if v in (None, "") else pretty_unit(str(v))
 
 
 def _unit_words(unit) -> str:
-    return "dimensionless" if unit == "" else ("as written" if unit is None else unit)
+    return "dimensionless" if unit == "" else ("as written" if unit is None else pretty_unit(unit))
 
 
 def _head(label: str, unit) -> str:

@@ -125,13 +125,17 @@ def efficiency_sensitivity(
 ) -> Sensitivity:
     """Re-evaluate with η_f,j or η_b,j changed by ±``step`` (absolute), one at a time.
 
-    η_f stays in [0.01, 1]; η_b at most 1 and the self-locking flag follows η_b ≤ 0.
+    η_f stays in [0.01, 1]; η_b at most 1 and the self-locking flag follows η_b ≤ 0. A joint
+    without a gear (a direct drive) keeps its efficiencies of 1: there is nothing to move.
     """
     n = arrays.ratio.shape[1]
     many = repeat(arrays, 4 * n + 1)
     ef, eb = many.eta_forward.copy(), many.eta_backward.copy()
     clipped = np.zeros((n, 2, 2), dtype=bool)
+    gearless = ~np.isfinite(np.asarray(arrays.gear_peak_torque)[0])
     for j in range(n):
+        if gearless[j]:  # a direct drive: no gear, no efficiency to move (its rows = the design)
+            continue
         for f, target in enumerate((ef, eb)):
             for s, sign in enumerate((-1.0, 1.0)):
                 row = 1 + 4 * j + 2 * f + s

@@ -7,6 +7,7 @@ Each takes ``minus``: "−" in the report, "-" in the terminal (as every number 
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 
 from ..solve.result import ROUNDING_GAP
 from ..units import format_number
@@ -93,6 +94,41 @@ def without_stroke(kind: str, metrics: dict, *, minus: str = "-") -> str:
             f"{format_number(a0, 4, minus=minus)} m/s² it starts with)"
         )
     return text + "; set stroke to check the speed reached within a distance"
+
+
+def shock_share(has_gear: bool, use, torque, repeated_peak, percent: Callable[[float], str]):
+    """A joint's share of its gear's rating at an impact, in words: of the momentary rating;
+    with no momentary rating, how far the torque exceeds the repeated-peak rating when it does
+    (a stage sized for cycles, struck past them with no stated emergency-stop limit); "no
+    gear" for a direct drive. ``percent`` formats a percentage."""
+    if not has_gear:
+        return "direct drive: no gear"
+
+    def value(x) -> float:
+        try:
+            return float({"inf": math.inf, "-inf": -math.inf}.get(x, x))
+        except (TypeError, ValueError):
+            return math.nan
+
+    u, tau, peak = value(use), abs(value(torque)), value(repeated_peak)
+    if math.isnan(u):
+        text = "no momentary rating"
+        if 0 < peak < tau < math.inf:
+            text += f"; {percent(100.0 * tau / peak)} of the repeated-peak rating"
+        return text
+    return f"{percent(100.0 * u)} of momentary"
+
+
+#: how a negative payload mass reads: the force does not reach the case's own fixed load
+NO_PAYLOAD = "none (the force falls short of the case's fixed load)"
+
+
+def carried_text(carried, number: Callable[[float], str]) -> str:
+    """The payload mass a case carries as text: ``number(carried)``, or :data:`NO_PAYLOAD` when
+    it is negative (a force below the fixed load is no payload, not a negative mass)."""
+    if isinstance(carried, (int, float)) and not isinstance(carried, bool) and carried < 0:
+        return NO_PAYLOAD
+    return number(carried)
 
 
 def carried_payloads(a: dict) -> dict[str, float]:

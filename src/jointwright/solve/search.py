@@ -109,16 +109,15 @@ class BranchAndBound:
         if empty:
             joints = [self.model.project.robot.actuated[j] for u in empty for j in u]
             names = joints[0] if len(joints) == 1 else f"{', '.join(joints[:-1])} or {joints[-1]}"
+            what = (
+                "no design meets every requirement: the per-joint filters and proven bounds "
+                "rule out every option of every joint (the diagnosis names the requirement)"
+                if len(joints) == n
+                else f"no option of {names} can meet every requirement in any design "
+                "(per-joint filters and proven bounds; the diagnosis names the requirement)"
+            )
             return SolveOutcome(
-                "infeasible",
-                None,
-                -math.inf,
-                -math.inf,
-                time.perf_counter() - start,
-                f"no option of {names} can meet every requirement in any design "
-                "(per-joint filters and proven bounds; the diagnosis names the "
-                "requirement)",
-                0,
+                "infeasible", None, -math.inf, -math.inf, time.perf_counter() - start, what, 0
             )
         if time.perf_counter() > self.deadline:
             # the preparation took the whole limit: the root bound holds for every design
