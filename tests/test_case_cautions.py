@@ -45,12 +45,6 @@ def test_no_caution_when_the_motors_alone_carry_the_load_or_nothing_is_carried()
     assert friction_cautions([fine, none, endless, other]) == []
 
 
-def test_a_stance_held_by_gear_friction_is_named():
-    stand = CaseResult("stand", "stance", {"payload": 300.0, "payload_frictionless": 0.0}, None, None)
-    text = friction_cautions([stand])
-    assert len(text) == 1 and "'stand'" in text[0] and "least-friction end" in text[0]
-
-
 def test_the_bundled_arm_gets_no_friction_caution():
     with resources.as_file(resources.files("jointwright.examples") / "arm") as folder:
         project = load_project(folder / "project.toml")

@@ -232,23 +232,33 @@ def test_neighbouring_measures_read_differently():
     assert _distinct_digits([1.0, 1.0 + 1e-12]) == 7
 
 
-def test_an_unrated_gear_shock_reads_unknown_not_infinite(capsys, monkeypatch):
-    """A stage with no momentary rating has an unknown share of the impact's gear torque (the
-    evaluator's use is then not finite): the frontier table and JSON say "unknown", never ∞ %
-    (which the caption reads as a gear expected to break)."""
-    import dataclasses
+def test_an_unrated_gear_shock_reads_unknown_not_infinite(tmp_path, capsys, monkeypatch):
+    """The bundled leg's design with every momentary rating removed from its catalog: the
+    evaluator's use per joint is unknown (NaN) there, so the frontier table and JSON say
+    "unknown", never ∞ % (which the caption reads as a gear expected to break); the catalog as
+    bundled gives a finite use."""
+    import re
 
     from jointwright.commands import _format
     from jointwright.commands.frontier import print_frontier
-    from jointwright.frontier import frontier
+    from jointwright.design import load_design
+    from jointwright.frontier_result import Frontier, FrontierPoint, _with_shock
     from jointwright.project import load_project
 
+    folder = tmp_path / "leg"
     with resources.as_file(resources.files("jointwright.examples") / "leg") as src:
-        leg = load_project(src / "project.toml")
-    f = frontier(leg, "imf", time_limit=60)
-    assert all(p.shock_use is not None and 0 <= p.shock_use < 10 for p in f.points)
-    first = dataclasses.replace(f.points[0], shock_use=float("inf"))
-    f = dataclasses.replace(f, points=(first, *f.points[1:]))
+        shutil.copytree(src, folder)
+
+    def point_of(project):
+        design = load_design(folder / "design.toml", project)
+        one = FrontierPoint(20.0, 0.2, design, design.mass, ())
+        return _with_shock(project, Frontier("imf", "touchdown", "min", (one,), True, None, 0, 0))
+
+    rated = point_of(load_project(folder / "project.toml"))
+    assert 0 < rated.points[0].shock_use < 10
+    catalog = folder / "catalog.toml"
+    catalog.write_text(re.sub(r"(?m)^rated_momentary_torque = .*\n", "", catalog.read_text()))
+    f = point_of(load_project(folder / "project.toml"))
     assert f.to_dict()["points"][0]["shock_use"] == "unknown"
     monkeypatch.setenv("COLUMNS", "200")
     monkeypatch.setattr(_format, "_console", None)

@@ -538,3 +538,26 @@ def test_variants_that_tie_at_the_best_are_both_marked():
     html = study_results._variant_pivot(cases, params, lead)
     assert html.count("(best, tie)") == 2
     assert "26.93 kg (best)" in html and "20.97 kg (best" not in html
+
+
+def test_sensitivity_leaves_a_direct_drive_alone(example):
+    """A direct drive (no gear: η_f = η_b = 1 by definition of the transmission law, DESIGN.md
+    §2.3) has no efficiency assumption to move: its values equal the design's, and its table
+    row says so; a payload pushed below the fixed load reads "none", never a negative mass."""
+    from jointwright.report.plots import _sensitivity_table
+
+    design = example["design"]
+    direct = replace(design.actuators[0], stages=())
+    d = replace(design, actuators=(direct, *design.actuators[1:]))
+    arrays = arrays_from_designs([d])
+    sens = efficiency_sensitivity(example["project"], example["ev"], arrays)
+    for k, v in sens.values.items():
+        assert np.allclose(v[0], sens.base[k], rtol=0, atol=1e-12, equal_nan=True), k
+    joint = sens.joints[0]
+    text = _sensitivity_table(
+        sens, ["payload"], {"payload": "Payload mass"}, {"payload": "kg"}, frozenset({joint})
+    )
+    assert "no gear: nothing to vary" in text
+    low = replace(sens, base={**sens.base, "payload": -0.5})
+    text = _sensitivity_table(low, ["payload"], {"payload": "Payload mass"}, {"payload": "kg"})
+    assert "Design values: Payload mass none" in text

@@ -355,3 +355,27 @@ def test_cli_size_points_to_the_frontier_when_runner_ups_tie(tmp_path):
     first = frontier(p, "imf", time_limit=60).points[0]
     assert first.payload == pytest.approx(chosen.objective, rel=1e-6)
     assert first.measure >= imf.metrics["imf"] - 1e-9
+
+
+def test_infeasible_counts_options_by_each_joints_own_filters():
+    """A knee mass limit no knee option meets (0.1 kg) empties the knee by its own filter: the
+    result counts each joint's options after its own filters (the hips keep theirs) and names
+    the knee. A knee reflected-inertia limit that keeps some options alone but no complete
+    design (0.002 kg·m²) leaves every joint options of its own, and the message says the proven
+    bounds rule out every option of every joint."""
+    leg = example("leg")
+
+    def with_knee(**limits):
+        lim = dataclasses.replace(leg.requirements.joint("knee"), **limits)
+        req = dataclasses.replace(
+            leg.requirements, joints={**leg.requirements.joints, "knee": lim}
+        )
+        return size(dataclasses.replace(leg, requirements=req), time_limit=30, explain=False)
+
+    r = with_knee(mass_max=0.1)
+    assert r.status == "infeasible" and r.options["knee"] == 0
+    assert r.options["hip_ab"] > 0 and r.options["hip_fe"] > 0
+    assert "no option of knee meets the joint's own requirements" in r.native_status
+    r = with_knee(reflected_inertia_max=0.002)
+    assert r.status == "infeasible" and all(k > 0 for k in r.options.values())
+    assert "rule out every option of every joint" in r.native_status

@@ -138,7 +138,8 @@ def test_a_mistake_in_a_variant_is_caught_before_any_case_runs(tmp_path):
     """A misspelt stage kind in a variant's settings: one line naming the study file, the
     variant and the field the project refuses, exit 2, no store; before, every case of the
     variant ran and failed, and the advised --resume was refused once the study was fixed."""
-    study, text = _refused_variant(tmp_path, "planetary-only", '"catalog.stage_kinds" = ["planetry"]')
+    setting = '"catalog.stage_kinds" = ["planetry"]'
+    study, text = _refused_variant(tmp_path, "planetary-only", setting)
     assert f"{study}: variant[1].set: catalog.stage_kinds = ['planetry'] (planetary-only)" in text
     assert "unknown stage kind 'planetry' (did you mean 'planetary'?)" in text
 

@@ -195,6 +195,13 @@ def test_unloaded_joint_is_reported(tmp_path):
     torque += 'motion = "along"\n'
     path.write_text(text + torque)
     assert unloaded_joints(load_project(path)) == ()
+    # so does a speed case whose tip pushes along y (|J_q1ᵀ·F| = (l1 + l2)·200 N at q = 0)
+    speed = '\n[[case]]\nname = "swing-out"\nkind = "speed"\nframe = "tip"\ndirection = [0, 1, 0]\n'
+    speed += 'tip_force = ["0 N", "200 N", "0 N"]\npose = { q1 = 0, q2 = 0 }\n'
+    path.write_text(text + speed)
+    assert unloaded_joints(load_project(path)) == ()
+    path.write_text(text + speed.replace('"200 N"', '"0 N"'))
+    assert unloaded_joints(load_project(path)) == ("q1",)
 
 
 @pytest.mark.parametrize(

@@ -379,7 +379,8 @@ def unloaded_joints(project, evaluator: Evaluator | None = None) -> tuple[str, .
 
     A payload or stance case loads joint i when the case's force reaches it
     (|J_iᵀ·u| > 0) or the links' weight does (|g_0,i| > 0) at the case's pose; a speed case when
-    the links' weight does (it carries it along the motion); a torque case every joint it
+    the links' weight or the force its tip exerts (the payload's weight, ``tip_force``) does
+    (it carries them along the motion); a torque case every joint it
     requires a non-zero torque of; a duty cycle every joint it moves or whose links' weight it
     carries. Impact cases load none (they set inertia, not torque), nor do back-drive cases (an
     upper limit on breakaway). Thresholds: 1e-9 of the largest term of the case.
@@ -391,7 +392,12 @@ def unloaded_joints(project, evaluator: Evaluator | None = None) -> tuple[str, .
         if pc.case.kind not in ("payload", "stance", "speed"):
             continue
         g = np.abs(np.asarray(pc.basis.g0)[evaluator.v_index])
-        terms = (g,) if pc.case.kind == "speed" else (np.abs(pc.Jj.T @ pc.u), g)
+        if pc.case.kind == "speed":  # the force the tip exerts: the payload's weight, tip_force
+            c = pc.case
+            force = c.payload_mass * -np.asarray(evaluator.robot.gravity, dtype=float)
+            terms = (g, np.abs(pc.Jj.T @ (force + np.asarray(c.tip_force, dtype=float))))
+        else:
+            terms = (np.abs(pc.Jj.T @ pc.u), g)
         for term in terms:
             loaded |= term > 1e-9 * max(float(term.max(initial=0.0)), 1e-300)
     for case in evaluator.torque_cases:

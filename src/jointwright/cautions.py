@@ -92,14 +92,15 @@ def _number(x) -> bool:
 
 
 def friction_cautions(cases) -> list[str]:
-    """For each payload or stance case that carries a payload only through gear friction (no
-    payload with frictionless gears), and for each payload case that cannot lower its load under
-    control (no payload while lowering or yielding): what that means and the usual caution.
+    """For each payload case that carries a payload only through gear friction (no payload with
+    frictionless gears), and for each that cannot lower its load under control (no payload
+    while lowering or yielding): what that means and the usual caution. (Stance cases give no
+    frictionless figure; their self-locking joints get the joint's own caution.)
     ``cases``: the assessment's case results (name, kind, metrics with ``payload``,
     ``payload_frictionless``, ``payload_lower`` in N)."""
     out = []
     for case in cases:
-        if case.kind not in ("payload", "stance"):
+        if case.kind != "payload":
             continue
         m = case.metrics
         carried = m.get("payload", math.nan)

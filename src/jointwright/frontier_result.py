@@ -93,10 +93,10 @@ class Frontier:
                         "changes": list(p.changes),
                         "changed": {j: [old, new] for j, old, new in p.changed},
                         "proven": p.proven,
-                        # "unknown": a stage with no momentary rating (not an infinite use)
-                        "shock_use": p.shock_use
-                        if p.shock_use is None or math.isfinite(p.shock_use)
-                        else "unknown",
+                        # "unknown": a stage with no momentary rating (NaN, not a use)
+                        "shock_use": "unknown"
+                        if p.shock_use is not None and math.isnan(p.shock_use)
+                        else p.shock_use,
                         "actuators": {
                             j: a.label()
                             for j, a in zip(p.design.joints, p.design.actuators, strict=True)
@@ -128,8 +128,10 @@ def _finish(project, f: Frontier, merge: float) -> Frontier:
 
 def _with_shock(project, f: Frontier) -> Frontier:
     """Each point with its gear shock use at the project's impacts (the worst over the impact
-    cases that state an impact speed): how back-drivability trades against gear survival at
-    touchdown or collision (docs/frontier.md). Unchanged when no case states an impact speed."""
+    cases that state an impact speed and their joints): how back-drivability trades against gear
+    survival at touchdown or collision (docs/frontier.md); NaN (unknown) when a stage states no
+    momentary rating and no rated one is already unbounded. Unchanged when no case states an
+    impact speed."""
     cases = [c.name for c in project.cases if c.kind == "impact" and c.impact_speed > 0]
     if not cases or not f.points:
         return f
@@ -140,7 +142,12 @@ def _with_shock(project, f: Frontier) -> Frontier:
 
     arrays = arrays_from_designs([p.design for p in f.points])
     ev = Evaluator(project).evaluate(arrays, detail=False)
-    use = np.max([np.asarray(ev[c]["shock_use"], dtype=float) for c in cases], axis=0)
+    # per joint: NaN where a stage states no momentary rating (unknown), ∞ where the torque is
+    # unbounded in the model (a stiffness not given, a self-locking stack)
+    joint = np.concatenate([np.asarray(ev[c]["shock_use_joint"], dtype=float) for c in cases], 1)
+    rated = np.where(np.isnan(joint), -np.inf, joint).max(axis=1)
+    unknown = np.isnan(joint).any(axis=1)
+    use = np.where(unknown & (rated < np.inf), np.nan, np.maximum(rated, 0.0))
     points = tuple(
         dataclasses.replace(p, shock_use=float(u)) for p, u in zip(f.points, use, strict=True)
     )

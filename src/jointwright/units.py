@@ -70,8 +70,8 @@ def quantity(value: Any, dimension: str, *, file: str = "<api>", field: str = "v
             file,
             field,
             f"needs its unit, got {value!r}: a life is commonly stated in hours, and a plain "
-            'number would be read as seconds; write e.g. "20000 h" (in a CSV table, or a '
-            "header unit such as [h])",
+            'number would be read as seconds; write e.g. "20000 h" (in a catalog CSV table, '
+            "that in the cell or the unit in the header: rated_life [h])",
         )
     if isinstance(value, bool):
         raise InputError(file, field, f"must be a number or a quantity in {si}, got {value!r}")

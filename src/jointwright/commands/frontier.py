@@ -122,11 +122,7 @@ def print_frontier(f, shared=(), limit: float | None = None) -> None:
             + ([num(p.mass, "kg")] if masses else [])
             + ([num(p.design.cost)] if costs else [])
             + (
-                [
-                    num(100.0 * p.shock_use, "%")
-                    if math.isfinite(p.shock_use)
-                    else "unknown (unrated)"
-                ]
+                ["unknown (unrated)" if math.isnan(p.shock_use) else num(100.0 * p.shock_use, "%")]
                 if shock and p.shock_use is not None
                 else []
             )
@@ -151,7 +147,8 @@ def print_frontier(f, shared=(), limit: float | None = None) -> None:
         + (
             "; gear shock: the largest peak gear torque at the project's impacts over the stage's "
             "momentary rating (over 100 % the gear is expected to break; unknown where a stage "
-            "states no momentary rating)"
+            "states no momentary rating; ∞ where a stage's stiffness is not given or the stack "
+            "self-locks)"
             if shock
             else ""
         )

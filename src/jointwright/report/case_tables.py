@@ -38,7 +38,6 @@ CASE_METRICS = {
     "stance": (
         ("payload", "payload carried by the body, case motion", "N"),
         ("payload_carried", "payload mass it carries, (F − fixed load)/(share·g_n)", "kg"),
-        ("payload_frictionless", "… frictionless gears (reference)", "N"),
     ),
     "impact": (
         ("imf", "impact mitigation factor, back-driven (dimensionless)", ""),
