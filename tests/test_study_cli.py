@@ -241,3 +241,17 @@ def test_a_variant_naming_a_missing_urdf_is_caught_before_any_case_runs(tmp_path
     missing file as if it were the culprit)."""
     _study, text = _refused_variant(tmp_path, "other-leg", '"robot.urdf" = "nothere.urdf"')
     assert "variant[1].set" in text and "robot.urdf" in text and "no such file" in text
+
+
+def test_the_study_table_says_why_a_case_is_infeasible(tmp_path):
+    """A knee mass limit no knee option meets (0.1 kg) makes that case infeasible: the line
+    under the table names the case and the reason the search gives (the knee's own filters),
+    the feasible case gets none."""
+    study = _leg_study(
+        tmp_path, path="requirements.joint.knee.mass_max", values='["0.1 kg", "1.6 kg"]'
+    )
+    res = CliRunner().invoke(main, ["study", str(study), "--workers", "1"])
+    assert res.exit_code == 0, res.output
+    text = " ".join(res.output.split())
+    assert "infeasible (#1): no option of knee meets the joint's own requirements" in text
+    assert "(#2)" not in text

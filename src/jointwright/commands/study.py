@@ -114,6 +114,8 @@ def command(
         f"on {_slots(outcome.workers, outcome.backend)}; results in {outcome.store}"
     )
     con.print(case_table(spec.name, rows, max_rows=40, order=[p.path for p in spec.parameters]))
+    for why, numbers in infeasible_reasons(rows).items():
+        con.print(f"infeasible ({_case_list(numbers)}): {why}")
     con.print(
         "objective: the payload mass every case carries (kg) when sizing for payload, the "
         "actuator mass (kg) for mass, the IMF for imf. All metrics: --csv FILE, or open the "
@@ -146,6 +148,21 @@ def print_failures(failures: list[dict], stored: int, store: Path) -> None:
         "content; the old store is kept as a backup)",
         err=True,
     )
+
+
+def infeasible_reasons(rows) -> dict[str, list[int]]:
+    """The infeasible cases' reasons as the search gave them (without the diagnosis, which a
+    study does not run), each with the case numbers (1-based, as in the table)."""
+    out: dict[str, list[int]] = {}
+    for r in rows:
+        if r.metrics.get("sizing_status") == "infeasible" and r.metrics.get("why"):
+            out.setdefault(str(r.metrics["why"]), []).append(r.index + 1)
+    return out
+
+
+def _case_list(numbers: list[int], shown: int = 8) -> str:
+    head = ", ".join(f"#{k}" for k in numbers[:shown])
+    return head + (f" and {len(numbers) - shown} more" if len(numbers) > shown else "")
 
 
 #: short status words for the terminal table

@@ -188,6 +188,8 @@ def _size(p, options: dict) -> dict:
         "gap": r.gap,
         "seconds": r.seconds,
     }
+    if r.status == "infeasible":  # why, as far as the search knows it without the diagnosis
+        metrics["why"] = r.native_status
     if r.assessment is not None:
         a = r.assessment
         metrics["total_mass"] = a.total_mass
