@@ -255,3 +255,12 @@ def test_the_study_table_says_why_a_case_is_infeasible(tmp_path):
     text = " ".join(res.output.split())
     assert "infeasible (#1): no option of knee meets the joint's own requirements" in text
     assert "(#2)" not in text
+    # the report's study section gives the same reason
+    from jointwright.report.study import study_data
+
+    from jointwright.report.study_results import study_section
+
+    data = study_data(study.parent / "results.sqlite")
+    assert [c["why"] != "" for c in data["cases"]] == [True, False]
+    body = " ".join(study_section(data, tmp_path / "figures").body.split())
+    assert "Case 1: no option of knee meets the joint&#x27;s own requirements" in body

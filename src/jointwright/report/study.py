@@ -205,6 +205,7 @@ def study_data(store: str | Path, metrics=None, parameters=None) -> dict:
                 "values": {p["key"]: _value_in(c.values.get(p["key"]), p["unit"]) for p in params},
                 "results": {r["key"]: c.metrics.get(r["key"]) for r in results},
                 "design": "; ".join(f"{j}: {c.metrics[f'{j}:actuator']}" for j in joints),
+                "why": str(c.metrics.get("why") or ""),  # an infeasible case: the search's reason
             }
         )
     return {

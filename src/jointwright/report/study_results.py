@@ -161,11 +161,20 @@ def study_section(data: dict, fig_dir: Path, file: str = "<study>") -> Section:
     parts = []
     if data.get("description"):
         parts.append(paragraph(str(data["description"]).replace("\n", " ")))
+    reasons: dict[str, list[int]] = {}
+    for k, c in enumerate(cases):
+        if c.get("why"):
+            reasons.setdefault(str(c["why"]), []).append(k + 1)
+    why = "".join(
+        f" Case{'s' * (len(ks) > 1)} {', '.join(str(k) for k in ks[:8])}"
+        f"{f' and {len(ks) - 8} more' if len(ks) > 8 else ''}: {reason}."
+        for reason, ks in reasons.items()
+    )
     parts.append(
         paragraph(
             f"{len(cases)} cases: {len(done) - len(empty)} with a design, {len(empty)} that ran "
             f"and found none (see their status), {failed} that did not run to the end; every "
-            "value with its unit (parameters as written in the study file, results in SI)."
+            "value with its unit (parameters as written in the study file, results in SI)." + why
         )
     )
 
