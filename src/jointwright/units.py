@@ -65,7 +65,7 @@ def quantity(value: Any, dimension: str, *, file: str = "<api>", field: str = "v
     if dimension not in SI_UNITS:
         raise KeyError(f"unknown dimension {dimension!r}")
     si = SI_UNITS[dimension]
-    if dimension == "lifetime" and _plain(value):
+    if dimension == "lifetime" and plain_number(value):
         raise InputError(
             file,
             field,
@@ -94,7 +94,7 @@ def quantity(value: Any, dimension: str, *, file: str = "<api>", field: str = "v
     return out
 
 
-def _plain(value: Any) -> bool:
+def plain_number(value: Any) -> bool:
     """A number, or a string that is only a number (no unit)."""
     if isinstance(value, bool):
         return False

@@ -17,6 +17,7 @@ from ..design import design_to_toml
 from ..errors import InputError
 from ..objective import check_gap
 from ..project import load_project
+from ..report.markup import as_float
 from ..report.wording import (
     carried_text,
     gap_text,
@@ -247,9 +248,7 @@ def print_result(r, project=None) -> None:
 def _better(loss) -> bool:
     """A runner-up's ``loss`` (≥ 0: worse, solve.result.Alternative) says it is better, beyond
     a tie (wording.objective_change)."""
-    if loss is None:
-        return False
-    value = float({"inf": math.inf, "-inf": -math.inf}.get(loss, loss))
+    value = as_float(loss)
     return value < 0 and objective_change("payload", value) != "tie"
 
 

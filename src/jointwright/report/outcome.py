@@ -123,15 +123,12 @@ def _shock_words(m: dict) -> str:
 
 def _unknown(value) -> bool:
     """A per-joint shock use that is not a number: an unrated stage (NaN, or None in JSON)."""
-    return value is None or (isinstance(value, float) and math.isnan(value)) or value == "nan"
+    return math.isnan(as_float(value))
 
 
 def _value(value) -> float:
-    """A metric as a float for ordering (unknown and non-numbers lowest)."""
-    try:
-        out = float(value)
-    except (TypeError, ValueError):
-        return -math.inf
+    """A metric as a float for ordering (unknown values lowest)."""
+    out = as_float(value)
     return -math.inf if math.isnan(out) else out
 
 

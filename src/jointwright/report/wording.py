@@ -11,7 +11,7 @@ from collections.abc import Callable
 
 from ..solve.result import ROUNDING_GAP
 from ..units import format_number
-from .markup import unit_text
+from .markup import as_float, unit_text
 
 #: per objective: does it maximize, and the words for a runner-up worse or better than the choice
 _CHANGE_WORDS = {
@@ -103,14 +103,7 @@ def shock_share(has_gear: bool, use, torque, repeated_peak, percent: Callable[[f
     gear" for a direct drive. ``percent`` formats a percentage."""
     if not has_gear:
         return "direct drive: no gear"
-
-    def value(x) -> float:
-        try:
-            return float({"inf": math.inf, "-inf": -math.inf}.get(x, x))
-        except (TypeError, ValueError):
-            return math.nan
-
-    u, tau, peak = value(use), abs(value(torque)), value(repeated_peak)
+    u, tau, peak = as_float(use), abs(as_float(torque)), as_float(repeated_peak)
     if math.isnan(u):
         text = "no momentary rating"
         if 0 < peak < tau < math.inf:

@@ -15,6 +15,7 @@ import re
 from pathlib import Path
 
 from ..errors import InputError, unknown_name
+from ..units import plain_number
 
 TASKS = ("size", "frontier")
 _OPTIONS = {"objective", "backend", "time_limit", "gap", "measure", "points", "case"}
@@ -71,20 +72,15 @@ def check_study_values(spec) -> None:
     stands for all.) Other problems of that project are left to the cases, which record them."""
     for i, p in enumerate(spec.parameters):
         value = p.values[0]
-        plain = not isinstance(value, str)
-        if not plain:
-            try:
-                float(value)
-                plain = True
-            except ValueError:
-                pass
-        if plain:
+        if plain_number(value):
             # a plain number where the project needs the unit written (a life: hours by habit)
             error = _load_error(spec, p.path, value)
             if error is not None and error.field == p.path and "needs its unit" in error.rule:
                 raise InputError(
                     spec.file, f"vary[{i}].{p.source}", f"{value!r} for {p.path}: {error.rule}"
                 )
+            continue
+        if not isinstance(value, str):
             continue
         error = _load_error(spec, p.path, value)
         if error is None or error.field != p.path:
