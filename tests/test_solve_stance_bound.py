@@ -196,25 +196,10 @@ def test_search_with_stance_bounds_matches_enumeration(seed):
     the best of every combination scored in full."""
     from jointwright.solve.search import BranchAndBound
 
-    q = load_project_example()
-    shared = [[list(q.robot.actuated).index(j) for j in g] for g in q.objective["shared"]]
-    probe = _quadruped(seed, shared=q.objective["shared"])
-    table = build_table(probe)
-    mass = table.rows["mass"]
-    # between the lightest and the heaviest design: some combinations are over budget
-    budget = float(4 * (mass.min() + mass.max()) + 4 * np.median(mass))
-    project = _quadruped(seed, budget, shared=q.objective["shared"])
-    table = build_table(project)
-    n = len(project.robot.actuated)
-    model = SizingModel(project, table, [np.arange(len(table))] * n, "payload", shared)
-    rows = []
-    for combo in itertools.product(range(len(table)), repeat=len(shared)):
-        idx = np.empty(n, dtype=np.int64)
-        for g, o in zip(shared, combo, strict=True):
-            idx[g] = o
-        rows.append(idx)
-    key = model.best_key(np.array(rows))
-    out = BranchAndBound(model, [tuple(g) for g in shared]).run()
+    model, units, designs = shared_instance(seed)
+    project = model.project
+    key = model.best_key(designs)
+    out = BranchAndBound(model, units).run()
     if key is None:
         assert out.status == "infeasible"
         return
@@ -236,28 +221,14 @@ def test_root_probing_keeps_every_design_that_reaches_the_floor(seed):
     below a floor, in rounds over ever smaller candidates: every design (legs shared, every
     combination enumerated and scored in full within a binding budget) whose payload reaches
     the floor must keep all its options, and some option must go [derived]."""
-    q = load_project_example()
-    shared = [[list(q.robot.actuated).index(j) for j in g] for g in q.objective["shared"]]
-    probe_project = _quadruped(seed, shared=q.objective["shared"])
-    mass = build_table(probe_project).rows["mass"]
-    budget = float(4 * (mass.min() + mass.max()) + 4 * np.median(mass))
-    project = _quadruped(seed, budget, shared=q.objective["shared"])
-    table = build_table(project)
-    n = len(project.robot.actuated)
-    model = SizingModel(project, table, [np.arange(len(table))] * n, "payload", shared)
-    rows = []
-    for combo in itertools.product(range(len(table)), repeat=len(shared)):
-        idx = np.empty(n, dtype=np.int64)
-        for g, o in zip(shared, combo, strict=True):
-            idx[g] = o
-        rows.append(idx)
-    designs = np.array(rows)
+    model, units, designs = shared_instance(seed)
+    n, table = model.n, model.table
     s = model.score(designs)
     value = np.where(s.feasible, s.objective, -np.inf)
     assert np.isfinite(value).any() and value.max() > 0
     for share in (0.9, 0.98):
         floor = share * float(value.max())
-        cands, bound = StanceBound(model).probe([tuple(g) for g in shared], floor)
+        cands, bound = StanceBound(model).probe(units, floor)
         for j in range(n):
             reach = designs[value >= floor, j]
             assert np.all(np.isin(reach, cands[j]))
@@ -269,6 +240,27 @@ def test_root_probing_keeps_every_design_that_reaches_the_floor(seed):
 def load_project_example():
     with resources.as_file(resources.files("jointwright.examples") / "quadruped") as folder:
         return load_project(folder / "project.toml")
+
+
+def shared_instance(seed: int):
+    """The quadruped with legs shared (three groups), a random small catalog and a budget
+    between the lightest and the heaviest design (some combinations are over it): the model,
+    its units and every design (one per combination of the groups' options)."""
+    q = load_project_example()
+    shared = [[list(q.robot.actuated).index(j) for j in g] for g in q.objective["shared"]]
+    mass = build_table(_quadruped(seed, shared=q.objective["shared"])).rows["mass"]
+    budget = float(4 * (mass.min() + mass.max()) + 4 * np.median(mass))
+    project = _quadruped(seed, budget, shared=q.objective["shared"])
+    table = build_table(project)
+    n = len(project.robot.actuated)
+    model = SizingModel(project, table, [np.arange(len(table))] * n, "payload", shared)
+    designs = []
+    for combo in itertools.product(range(len(table)), repeat=len(shared)):
+        idx = np.empty(n, dtype=np.int64)
+        for g, o in zip(shared, combo, strict=True):
+            idx[g] = o
+        designs.append(idx)
+    return model, [tuple(g) for g in shared], np.array(designs)
 
 
 @pytest.mark.parametrize("name", ["quadruped", "leg"])

@@ -58,6 +58,7 @@ def run_backend(
     default back-end, its tie-break)."""
     if backend == "search":
         from .handover import milp_models
+        from .heuristic import blind_screen
         from .search import BranchAndBound
 
         t0 = time.perf_counter()
@@ -71,7 +72,10 @@ def run_backend(
         milp = None
         if milp_models(model):
             milp, incumbent = _milp_first(model, search, incumbent, phase, gap)
-            if milp is not None and milp.status == "optimal":
+        elif blind_screen(model) and incumbent is not None:
+            milp, incumbent = _stance_milp_first(model, search, incumbent, phase, gap)
+        if milp is not None:
+            if milp.status == "optimal":
                 return milp
             if incumbent is not None and model.better(incumbent, search.best_key):
                 search.best_key = incumbent
@@ -116,14 +120,49 @@ def _milp_first(model: SizingModel, search, incumbent, phase, gap: float):
     # every design: payload ≤ 0, or in the reduced MILP (≤ its bound), or below the floor
     bound = max(0.0 if out.status == "infeasible" else max(out.bound, 0.0), floor)
     bound = min(bound, search.cap)
-    if out.index is not None:
-        key = model.best_key(np.asarray(out.index)[None, :])
+    native = (f"HiGHS hand-over: {out.native}", out.native)
+    return _handed_back(model, incumbent, out.index, bound, gap, t0, native, out.nodes)
+
+
+def _stance_milp_first(model: SizingModel, search, incumbent, phase, gap: float):
+    """The stance MILP (solve/stance_milp.py) when stance cases alone set the payload objective:
+    the search's root probing with the heuristics' design (:meth:`.search.BranchAndBound.probed`)
+    leaves each unit a few options; when they fit, HiGHS maximizes the stance cases' least
+    carried payload over them for a share of the time left, from that design. Its design
+    (scored by the physics like any) becomes the incumbent when it is better. Every design that
+    beats the incumbent less its tie tolerance takes only the options left, so the optimum is at
+    most the larger of that floor and the MILP's bound; an answer within ``gap`` of it counts as
+    proven (status ``optimal``). (None, incumbent) when the options left do not fit."""
+    from .handover import milp_time
+    from .stance_milp import fits, solve_stance_milp
+
+    t0 = time.perf_counter()
+    floor = incumbent[0] - tie_tol(incumbent[0])
+    cands, _ = search.probed()
+    if not all(c.size for c in cands) or not fits(search.stance, search.units):
+        return None, incumbent
+    left = None if math.isinf(search.deadline) else max(search.deadline - time.perf_counter(), 1e-3)
+    (phase or (lambda text: None))("searching (stance MILP)")
+    out = solve_stance_milp(
+        search.stance, search.units, milp_time(left), start=np.asarray(incumbent[3]), gap=gap / 2
+    )
+    bound = min(max(out.bound, floor), search.cap)
+    words = f"HiGHS stance MILP over {sum(c.size for c in cands):,} options, {out.nodes} nodes"
+    return _handed_back(model, incumbent, out.index, bound, gap, t0, (words, words), out.nodes)
+
+
+def _handed_back(model: SizingModel, incumbent, index, bound, gap, t0, native, nodes):
+    """(outcome, incumbent) after a MILP: its design ``index`` (scored by the physics like any)
+    becomes the incumbent when better; status ``optimal`` when the incumbent is within ``gap``
+    of ``bound`` (with gap 0 the search still runs after it, for the exact tie-break by least
+    mass), else ``time_limit``. ``native``: the words when proven, and otherwise."""
+    if index is not None:
+        key = model.best_key(np.asarray(index)[None, :])
         if key is not None and model.better(key, incumbent):
             incumbent = key
     seconds = time.perf_counter() - t0
     if incumbent is None:
-        return SolveOutcome("time_limit", None, -math.inf, bound, seconds, out.native, 0), None
-    # with gap 0 the search still runs after it, for the exact tie-break by least mass
+        return SolveOutcome("time_limit", None, -math.inf, bound, seconds, native[1], 0), None
     proven = gap > 0 and math.isfinite(bound) and relative_gap(incumbent[0], bound) <= gap
     outcome = SolveOutcome(
         "optimal" if proven else "time_limit",
@@ -131,8 +170,8 @@ def _milp_first(model: SizingModel, search, incumbent, phase, gap: float):
         incumbent[0],
         max(bound, incumbent[0]),
         seconds,
-        f"HiGHS hand-over: {out.native}" if proven else out.native,
-        out.nodes,
+        native[0] if proven else native[1],
+        nodes,
     )
     return outcome, incumbent
 

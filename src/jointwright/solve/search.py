@@ -88,6 +88,7 @@ class BranchAndBound:
         # the largest bound of the nodes left unsearched because they are within the gap
         self.gap_bound = -math.inf
         self.stopped = False
+        self._probed = None
         self.ties = ties
         self.reached = False
         self.upper = math.inf if upper is None else upper
@@ -125,7 +126,7 @@ class BranchAndBound:
             self.stopped = True
             self.open_bound = max(self.open_bound, self.cap)
         else:
-            cands, st = self._stance_probe()
+            cands, st = self.probed()
             if all(c.size for c in cands):  # else no design reaches the incumbent
                 self._node(np.full(n, -1, dtype=np.int64), 0, cands, st)
         elapsed = time.perf_counter() - start
@@ -167,11 +168,18 @@ class BranchAndBound:
         return out
 
     # ------------------------------------------------------------------------------------------
-    def _stance_probe(self):
+    def probed(self):
         """The candidates the search starts from, and their statistics: with stance cases and an
         incumbent, each unit's options whose own stance program at the root is below it are
         dropped, in rounds (:meth:`.stance_bound.StanceBound.probe`; docs/optimizer.md, item 9),
-        within half of the time left; the stance bound is then the one over what is left."""
+        within half of the time left; the stance bound is then the one over what is left.
+        Probed once: a later, better incumbent keeps these candidates (cut against a lower
+        floor, so still every design that reaches it)."""
+        if self._probed is None:
+            self._probed = self._stance_probe()
+        return self._probed
+
+    def _stance_probe(self):
         model = self.model
         if self.stance is None or self.best_key is None:
             return model.candidates, self.st

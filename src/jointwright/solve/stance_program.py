@@ -201,7 +201,7 @@ class StanceProgram:
         cost[self.t_col] = 1.0
         self.n = n
         self.col_lo, self.col_hi = col_lo.copy(), col_hi.copy()  # as of the last solve
-        self.row_hi = np.concatenate(row_hi)
+        self.row_lo, self.row_hi = np.concatenate(row_lo), np.concatenate(row_hi)
         self.a = np.vstack(blocks)
         self.cost = cost
         #: the joint of each mass–torque envelope row, −1 for every other row
@@ -214,8 +214,8 @@ class StanceProgram:
             col_lo,
             col_hi,
             self.a,
-            np.concatenate(row_lo),
-            np.concatenate(row_hi),
+            self.row_lo,
+            self.row_hi,
         )
 
     def solved(self) -> bool:

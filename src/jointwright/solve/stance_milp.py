@@ -1,0 +1,163 @@
+"""The stance cases as a mixed-integer linear program over the options left after root probing.
+
+The stance program (solve/stance_program.py) relaxes every completion of a partial design with
+interval masses and torque envelopes; deep in a whole robot's tree those relaxations stay loose
+while many joints trade mass against strength, and the branch and bound then enumerates
+(docs/benchmarks.md, instance (e)). Here the same rows get one binary per option of each unit
+(a joint, or a shared group taking one option), x[u, o], and the mass and torque columns are
+tied to them exactly:
+
+    m_j = Σ_o m_o·x[u(j), o],   Σ_o lo_c[j, o]·x[u(j), o] ≤ τ_cj ≤ Σ_o hi_c[j, o]·x[u(j), o],
+    Σ_o x[u, o] = 1.
+
+For a fixed choice of options the program is the design's own stance program (the statics of
+every stance case with circumscribed friction pyramids, the shared mass columns, the budget row),
+whose value is at least the design's cone value; so the MILP's dual bound is an upper bound on
+the stance part of the payload objective for every design drawn from these options whose cases
+all hold, and one whose case cannot hold itself has at most the program's ``none``. HiGHS
+(highspy) branches on the binaries with its own cuts and heuristics. Proof and measurements:
+docs/optimizer.md, item 12.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.sparse as sp
+
+from .model import unit_options
+from .stance_program import ABS_SLACK, REL_SLACK
+
+#: finite stand-in for an infinite torque bound (N·m) in a coefficient; no real joint nears it
+BIG = 1e9
+#: binaries at most (options summed over the units); larger models are left to the search
+MAX_OPTIONS = 4_000
+
+
+@dataclass(frozen=True)
+class StanceMilpOutcome:
+    """What the MILP proved: ``bound`` holds for the stance part of every design drawn from the
+    options it was given (solver slack added); ``index`` the best design it found (n,) or None,
+    with its program value ``value``."""
+
+    status: str  # "optimal", "time_limit" or "infeasible"
+    index: np.ndarray | None
+    value: float
+    bound: float
+    nodes: int
+
+
+def fits(bound, units) -> bool:
+    """Whether the options left make a MILP of at most :data:`MAX_OPTIONS` binaries."""
+    return sum(int(unit_options(bound.candidates, u).size) for u in units) <= MAX_OPTIONS
+
+
+def solve_stance_milp(
+    bound, units, time_limit: float, start=None, gap: float = 0.0
+) -> StanceMilpOutcome:
+    """Maximize the least carried payload of the stance cases over the options of
+    ``bound.candidates`` (``bound``: a :class:`.stance_bound.StanceBound`), for ``time_limit``
+    seconds, from the design ``start`` (n,) when given; ``gap``: HiGHS's relative MIP gap."""
+    import highspy
+
+    from .pyomo_backend import quiet_stdout
+
+    program, model = bound.program, bound.model
+    n = model.n
+    opts = [unit_options(bound.candidates, u) for u in units]
+    if any(o.size == 0 for o in opts):
+        return StanceMilpOutcome("infeasible", None, -math.inf, program.none, 0)
+    first = np.concatenate([[0], np.cumsum([o.size for o in opts])]).astype(np.int64)
+    base = program.a.shape[1]
+    nx = int(first[-1])
+    col_lo = np.concatenate([program.col_lo, np.zeros(nx)])
+    col_hi = np.concatenate([program.col_hi, np.ones(nx)])
+    m_cols = program.m_col + np.arange(n)
+    col_lo[m_cols], col_hi[m_cols] = bound.m_free[:, 0], bound.m_free[:, 1]
+    for c, hull in enumerate(bound.t_free):
+        col_lo[program.tau_cols[c] + np.arange(n)] = hull[:, 0]
+        col_hi[program.tau_cols[c] + np.arange(n)] = hull[:, 1]
+    rows: list[np.ndarray] = []
+    cols: list[np.ndarray] = []
+    vals: list[np.ndarray] = []
+    lo: list[float] = []
+    hi: list[float] = []
+
+    def add(columns, values, low, high):
+        rows.append(np.full(len(columns), len(lo), dtype=np.int64))
+        cols.append(np.asarray(columns, dtype=np.int64))
+        vals.append(np.asarray(values, dtype=float))
+        lo.append(low)
+        hi.append(high)
+
+    for k, u in enumerate(units):
+        o = opts[k]
+        x = base + first[k] + np.arange(o.size)
+        add(x, np.ones(o.size), 1.0, 1.0)
+        for j in u:
+            add(np.r_[program.m_col + j, x], np.r_[1.0, -model.mass[o]], 0.0, 0.0)
+            for c, (t_lo, t_hi) in enumerate(zip(bound.lo, bound.hi, strict=True)):
+                tau = program.tau_cols[c] + j
+                if np.any(np.isfinite(t_hi[j, o])):
+                    add(np.r_[tau, x], np.r_[1.0, -np.minimum(t_hi[j, o], BIG)], -np.inf, 0.0)
+                if np.any(np.isfinite(t_lo[j, o])):
+                    add(np.r_[tau, x], np.r_[1.0, -np.maximum(t_lo[j, o], -BIG)], 0.0, np.inf)
+    old = sp.coo_array(program.a)
+    extra = sp.coo_array(
+        (np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))),
+        shape=(len(lo), base + nx),
+    )
+    a = sp.vstack([sp.hstack([old, sp.coo_array((old.shape[0], nx))]), extra]).tocsc()
+    with quiet_stdout(discard=True):
+        h = highspy.Highs()
+    h.setOptionValue("output_flag", False)
+    h.setOptionValue("time_limit", max(float(time_limit), 1e-3))
+    h.setOptionValue("mip_rel_gap", float(gap))
+    lp = highspy.HighsLp()
+    lp.num_col_, lp.num_row_ = a.shape[1], a.shape[0]
+    cost = np.zeros(a.shape[1])
+    cost[: program.cost.size] = program.cost
+    lp.col_cost_ = cost
+    lp.col_lower_, lp.col_upper_ = col_lo, col_hi
+    lp.row_lower_ = np.concatenate([program.row_lo, lo])
+    lp.row_upper_ = np.concatenate([program.row_hi, hi])
+    lp.sense_ = highspy.ObjSense.kMaximize
+    lp.a_matrix_.format_ = highspy.MatrixFormat.kColwise
+    lp.a_matrix_.start_ = a.indptr.astype(np.int32)
+    lp.a_matrix_.index_ = a.indices.astype(np.int32)
+    lp.a_matrix_.value_ = a.data.astype(float)
+    lp.integrality_ = [highspy.HighsVarType.kContinuous] * base + [
+        highspy.HighsVarType.kInteger
+    ] * nx
+    h.passModel(lp)
+    if start is not None:
+        where = []
+        for k, u in enumerate(units):
+            hit = np.flatnonzero(opts[k] == start[u[0]])
+            if hit.size:
+                where.append(base + first[k] + int(hit[0]))
+        if len(where) == len(units):
+            h.setSolution(
+                len(where), np.array(where, dtype=np.int32), np.ones(len(where), dtype=float)
+            )
+    h.run()
+    status = h.getModelStatus()
+    info = h.getInfo()
+    nodes = int(info.mip_node_count)
+    if status == highspy.HighsModelStatus.kInfeasible:
+        return StanceMilpOutcome("infeasible", None, -math.inf, program.none, nodes)
+    upper = float(info.mip_dual_bound)
+    upper = upper + REL_SLACK * abs(upper) + ABS_SLACK if math.isfinite(upper) else math.inf
+    index, value = None, -math.inf
+    if info.primal_solution_status == 2:  # feasible
+        x = np.asarray(h.getSolution().col_value)[base:]
+        index = np.full(n, -1, dtype=np.int64)
+        for k, u in enumerate(units):
+            index[list(u)] = opts[k][int(np.argmax(x[first[k] : first[k + 1]]))]
+        value = float(info.objective_function_value)
+    done = status == highspy.HighsModelStatus.kOptimal
+    return StanceMilpOutcome(
+        "optimal" if done else "time_limit", index, value, max(upper, program.none), nodes
+    )
