@@ -12,7 +12,9 @@ invented stage types; no real product):
 (e) the 12-joint quadruped with its 2 stance cases, no sharing;
 (f) the leg, 2-stage stacks over 160 motors;
 (g) a 30-joint invented humanoid-like tree (two 6-joint legs, two 7-joint arms, a 4-joint
-    torso and neck chain) on a floating base.
+    torso and neck chain) on a floating base;
+(h) the bundled quadruped as shipped, legs not shared, maximizing the payload (its two stance
+    cases and its leg payload case set it; its touchdown IMF limit and budget apply).
 
 Every back-end gets the same wall-clock limit (``--limit``, default 60 s); random sampling gets
 the CPU time the default search used; enumeration runs where the filtered candidates' product is
@@ -127,6 +129,14 @@ def quadruped(n_motors=40, types=4, frames=3, stance=False):
         max_stages=1,
         stage_kinds=None,
     )
+
+
+def bundled_unshared():
+    """The bundled quadruped as shipped (its catalog, 13 kg budget, two stance cases, the leg
+    payload case, the touchdown IMF limit) with its legs not shared, maximizing the payload."""
+    q = example("quadruped")
+    objective = {"maximize": "payload"}
+    return dataclasses.replace(q, objective=objective)
 
 
 def leg(n_motors=40, kind="payload", imf_min=None, budget=None, max_stages=1, types=4, frames=3):
@@ -286,6 +296,10 @@ INSTANCES = {
     "e": ("quadruped, 2 stance cases, no sharing", lambda: quadruped(40, 4, 3, stance=True)),
     "f": ("leg, 2-stage stacks, 160 motors x 4 types x 3 frames", lambda: leg(160, max_stages=2)),
     "g": ("30-joint humanoid, 40 motors, 38 kg, 4 payload + impact", lambda: humanoid()),
+    "h": (
+        "bundled quadruped, legs not shared, payload objective (2 stance + 1 payload case)",
+        lambda: bundled_unshared(),
+    ),
 }
 
 

@@ -9,11 +9,12 @@ scored in full, must be the enumerated optimum up to the pyramid's over-approxim
 
 from __future__ import annotations
 
+import dataclasses
 import itertools
 
 import numpy as np
 import pytest
-from test_solve_stance_bound import _quadruped, shared_instance
+from test_solve_stance_bound import _quadruped, load_project_example, shared_instance
 
 from jointwright.options import build_table
 from jointwright.solve.model import SizingModel
@@ -66,6 +67,24 @@ def test_stance_milp_with_every_joint_its_own_unit_matches_enumeration(seed):
     designs = np.array(list(itertools.product(*cands)))
     assert np.any(model.mass[designs].sum(axis=1) > model.total_mass_max)
     _check(model, [(j,) for j in range(n)], designs)
+
+
+@pytest.mark.parametrize("seed", [21, pytest.param(45, marks=pytest.mark.slow)])
+def test_stance_milp_with_a_payload_case_matches_enumeration(seed):
+    """The bundled leg payload case (a fixed load, a quarter of the payload's weight, a payload
+    minimum) beside the stance cases: the objective is the least of the three cases' carried
+    payloads, and the MILP's rows for the payload case come from the hand-over's MILP."""
+    model, units, _ = shared_instance(seed)
+    leg = next(c for c in load_project_example().cases if c.name == "leg-push")
+    project = dataclasses.replace(model.project, cases=(*model.project.cases, leg))
+    model = SizingModel(project, model.table, model.candidates, "payload", model.shared)
+    assert model.payload and model.stance
+    designs = shared_instance(seed)[2]
+    best, _ = _check(model, units, designs)
+    # the payload case binds some designs: the objective is not the stance part alone
+    s = model.score(designs)
+    stance_only = shared_instance(seed)[0].score(designs)
+    assert np.any(s.objective < stance_only.objective - 1e-6)
 
 
 def test_size_proves_a_stance_objective_through_the_milp():

@@ -58,8 +58,8 @@ def run_backend(
     default back-end, its tie-break)."""
     if backend == "search":
         from .handover import milp_models
-        from .heuristic import blind_screen
         from .search import BranchAndBound
+        from .stance_milp import stance_milp_models
 
         t0 = time.perf_counter()
         incumbent = first_design(model, units, time_limit, phase)
@@ -72,7 +72,7 @@ def run_backend(
         milp = None
         if milp_models(model):
             milp, incumbent = _milp_first(model, search, incumbent, phase, gap)
-        elif blind_screen(model) and incumbent is not None:
+        elif stance_milp_models(model) and incumbent is not None:
             milp, incumbent = _stance_milp_first(model, search, incumbent, phase, gap)
         if milp is not None:
             if milp.status == "optimal":
@@ -125,7 +125,7 @@ def _milp_first(model: SizingModel, search, incumbent, phase, gap: float):
 
 
 def _stance_milp_first(model: SizingModel, search, incumbent, phase, gap: float):
-    """The stance MILP (solve/stance_milp.py) when stance cases alone set the payload objective:
+    """The stance MILP (solve/stance_milp.py) when stance cases set the payload objective:
     the search's root probing with the heuristics' design (:meth:`.search.BranchAndBound.probed`)
     leaves each unit a few options; when they fit, HiGHS maximizes the stance cases' least
     carried payload over them for a share of the time left, from that design. Its design

@@ -38,7 +38,7 @@ from .result import OPTIMALITY_GAP, SolveOutcome
 BIG = 1e9
 
 
-class _Rows:
+class Rows:
     """Sparse rows collected as triplets, with their lower and upper sides."""
 
     def __init__(self) -> None:
@@ -78,39 +78,14 @@ def _units(model: SizingModel):
     return unit_of, options
 
 
-def build(model: SizingModel, upper: float = math.inf):
-    """The MILP's arrays: (objective vector, integrality, bounds, constraint, the x columns'
-    offset per unit, the options per unit, the unit of each joint). ``upper``: a proven bound
-    on every design's payload, the payload column's upper bound (every design keeps its own
-    payload in the MILP, so none is cut off; HiGHS's bound and gap then start from it)."""
+def payload_rows(model: SizingModel, rows: Rows, weighted, col_m: int, col_s: int, n_cols: int):
+    """Each static payload case's rows (module notes) added to ``rows``: per joint j its torque
+    bound columns H_tj, L_tj (numbered from ``n_cols`` on) tied to the options by
+    ``weighted(j, values)`` (the x columns of j's unit and their coefficients), the robot holding
+    itself, and the force the case needs for the objective value in column ``col_s`` and for its
+    payload minimum, with the actuator masses in columns ``col_m + j``. Returns the next free
+    column. A design that holds itself meets them with the objective column at its payload."""
     n = model.n
-    unit_of, options = _units(model)
-    offset = np.concatenate([[0], np.cumsum([o.size for o in options])]).astype(np.int64)
-    n_x = int(offset[-1])
-    col_m = n_x  # M_j at col_m + j
-    col_s = n_x + n  # the payload s
-    n_cols = col_s + 1  # then the torque-bound columns H_tj, L_tj, numbered as they are made
-    rows = _Rows()
-    for u, opts in enumerate(options):
-        rows.add(offset[u] + np.arange(opts.size), np.ones(opts.size), 1.0, 1.0)
-
-    def weighted(j: int, values: np.ndarray):
-        u = unit_of[j]
-        return offset[u] + np.arange(options[u].size), np.asarray(values, dtype=float)[options[u]]
-
-    for j in range(n):  # M_j − Σ m_o x = 0
-        cols, vals = weighted(j, model.mass)
-        rows.add(np.append(cols, col_m + j), np.append(-vals, 1.0), 0.0, 0.0)
-    if math.isfinite(model.total_mass_max):
-        rows.add(np.arange(col_m, col_m + n), np.ones(n), -np.inf, float(model.total_mass_max))
-    if math.isfinite(model.total_cost_max):
-        parts = [weighted(j, model.cost) for j in range(n)]
-        rows.add(
-            np.concatenate([p[0] for p in parts]),
-            np.concatenate([p[1] for p in parts]),
-            -np.inf,
-            float(model.total_cost_max),
-        )
     names = objective_names(model.project, model.objective_kind)
     by_name = {c.name: c for c in model.project.cases}
     for t in model.payload:
@@ -147,6 +122,43 @@ def build(model: SizingModel, upper: float = math.inf):
                 vals = np.append(gm_vals, [-1.0, slope * a])
                 rhs = -g0 - const * a
                 rows.add(cols, vals, -np.inf if a > 0 else rhs, rhs if a > 0 else np.inf)
+    return n_cols
+
+
+def build(model: SizingModel, upper: float = math.inf):
+    """The MILP's arrays: (objective vector, integrality, bounds, constraint, the x columns'
+    offset per unit, the options per unit, the unit of each joint). ``upper``: a proven bound
+    on every design's payload, the payload column's upper bound (every design keeps its own
+    payload in the MILP, so none is cut off; HiGHS's bound and gap then start from it)."""
+    n = model.n
+    unit_of, options = _units(model)
+    offset = np.concatenate([[0], np.cumsum([o.size for o in options])]).astype(np.int64)
+    n_x = int(offset[-1])
+    col_m = n_x  # M_j at col_m + j
+    col_s = n_x + n  # the payload s
+    n_cols = col_s + 1  # then the torque-bound columns H_tj, L_tj, numbered as they are made
+    rows = Rows()
+    for u, opts in enumerate(options):
+        rows.add(offset[u] + np.arange(opts.size), np.ones(opts.size), 1.0, 1.0)
+
+    def weighted(j: int, values: np.ndarray):
+        u = unit_of[j]
+        return offset[u] + np.arange(options[u].size), np.asarray(values, dtype=float)[options[u]]
+
+    for j in range(n):  # M_j − Σ m_o x = 0
+        cols, vals = weighted(j, model.mass)
+        rows.add(np.append(cols, col_m + j), np.append(-vals, 1.0), 0.0, 0.0)
+    if math.isfinite(model.total_mass_max):
+        rows.add(np.arange(col_m, col_m + n), np.ones(n), -np.inf, float(model.total_mass_max))
+    if math.isfinite(model.total_cost_max):
+        parts = [weighted(j, model.cost) for j in range(n)]
+        rows.add(
+            np.concatenate([p[0] for p in parts]),
+            np.concatenate([p[1] for p in parts]),
+            -np.inf,
+            float(model.total_cost_max),
+        )
+    n_cols = payload_rows(model, rows, weighted, col_m, col_s, n_cols)
     n_all = n_cols
     c = np.zeros(n_all)
     c[col_s] = -1.0  # maximize s

@@ -10,11 +10,14 @@ tied to them exactly:
     m_j = Σ_o m_o·x[u(j), o],   Σ_o lo_c[j, o]·x[u(j), o] ≤ τ_cj ≤ Σ_o hi_c[j, o]·x[u(j), o],
     Σ_o x[u, o] = 1.
 
-For a fixed choice of options the program is the design's own stance program (the statics of
-every stance case with circumscribed friction pyramids, the shared mass columns, the budget row),
-whose value is at least the design's cone value; so the MILP's dual bound is an upper bound on
-the stance part of the payload objective for every design drawn from these options whose cases
-all hold, and one whose case cannot hold itself has at most the program's ``none``. HiGHS
+The static payload cases of the objective add the hand-over MILP's rows (solve/milp_matrix.py,
+``payload_rows``) with the objective column t in place of its payload. For a fixed choice of
+options the program is then the design's own: the statics of every stance case with
+circumscribed friction pyramids (the shared mass columns, the budget row), whose value is at least
+the design's cone value, and each payload case's torque rows, which hold with t at its payload;
+so the MILP's dual bound is an upper bound on the payload objective of every design drawn from
+these options whose cases all hold. One whose stance case cannot hold itself has at most the
+program's ``none``; one that cannot hold itself in a payload case carries no payload (≤ 0). HiGHS
 (highspy) branches on the binaries with its own cuts and heuristics. Proof and measurements:
 docs/optimizer.md, item 12.
 """
@@ -27,13 +30,14 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.sparse as sp
 
+from .milp_matrix import Rows, payload_rows
 from .model import unit_options
 from .stance_program import ABS_SLACK, REL_SLACK
 
 #: finite stand-in for an infinite torque bound (N·m) in a coefficient; no real joint nears it
 BIG = 1e9
 #: binaries at most (options summed over the units); larger models are left to the search
-MAX_OPTIONS = 4_000
+MAX_OPTIONS = 10_000
 
 
 @dataclass(frozen=True)
@@ -47,6 +51,13 @@ class StanceMilpOutcome:
     value: float
     bound: float
     nodes: int
+
+
+def stance_milp_models(model) -> bool:
+    """Whether the MILP bounds ``model``'s objective: the payload objective, some stance case
+    among the cases that set it. Other requirements (an IMF or speed limit, a duty cycle) are
+    not rows: the MILP's design is scored in full, and its bound holds regardless."""
+    return model.kind == "payload" and model.measure is None and bool(model.stance)
 
 
 def fits(bound, units) -> bool:
@@ -66,9 +77,12 @@ def solve_stance_milp(
 
     program, model = bound.program, bound.model
     n = model.n
+    # a design the program cannot hold: a stance case holds nothing, or a static payload case
+    # not even the robot itself (a payload ≤ 0, as for the hand-over's MILP)
+    least = max(program.none, 0.0) if model.payload else program.none
     opts = [unit_options(bound.candidates, u) for u in units]
     if any(o.size == 0 for o in opts):
-        return StanceMilpOutcome("infeasible", None, -math.inf, program.none, 0)
+        return StanceMilpOutcome("infeasible", None, -math.inf, least, 0)
     first = np.concatenate([[0], np.cumsum([o.size for o in opts])]).astype(np.int64)
     base = program.a.shape[1]
     nx = int(first[-1])
@@ -79,37 +93,36 @@ def solve_stance_milp(
     for c, hull in enumerate(bound.t_free):
         col_lo[program.tau_cols[c] + np.arange(n)] = hull[:, 0]
         col_hi[program.tau_cols[c] + np.arange(n)] = hull[:, 1]
-    rows: list[np.ndarray] = []
-    cols: list[np.ndarray] = []
-    vals: list[np.ndarray] = []
-    lo: list[float] = []
-    hi: list[float] = []
-
-    def add(columns, values, low, high):
-        rows.append(np.full(len(columns), len(lo), dtype=np.int64))
-        cols.append(np.asarray(columns, dtype=np.int64))
-        vals.append(np.asarray(values, dtype=float))
-        lo.append(low)
-        hi.append(high)
-
+    rows = Rows()
+    for r in range(program.a.shape[0]):  # the stance program's own rows
+        nz = np.flatnonzero(program.a[r])
+        rows.add(nz, program.a[r, nz], program.row_lo[r], program.row_hi[r])
+    unit_at = np.empty(n, dtype=np.int64)
     for k, u in enumerate(units):
         o = opts[k]
         x = base + first[k] + np.arange(o.size)
-        add(x, np.ones(o.size), 1.0, 1.0)
+        unit_at[list(u)] = k
+        rows.add(x, np.ones(o.size), 1.0, 1.0)
         for j in u:
-            add(np.r_[program.m_col + j, x], np.r_[1.0, -model.mass[o]], 0.0, 0.0)
+            rows.add(np.r_[program.m_col + j, x], np.r_[1.0, -model.mass[o]], 0.0, 0.0)
             for c, (t_lo, t_hi) in enumerate(zip(bound.lo, bound.hi, strict=True)):
                 tau = program.tau_cols[c] + j
                 if np.any(np.isfinite(t_hi[j, o])):
-                    add(np.r_[tau, x], np.r_[1.0, -np.minimum(t_hi[j, o], BIG)], -np.inf, 0.0)
+                    rows.add(np.r_[tau, x], np.r_[1.0, -np.minimum(t_hi[j, o], BIG)], -np.inf, 0.0)
                 if np.any(np.isfinite(t_lo[j, o])):
-                    add(np.r_[tau, x], np.r_[1.0, -np.maximum(t_lo[j, o], -BIG)], 0.0, np.inf)
-    old = sp.coo_array(program.a)
-    extra = sp.coo_array(
-        (np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))),
-        shape=(len(lo), base + nx),
-    )
-    a = sp.vstack([sp.hstack([old, sp.coo_array((old.shape[0], nx))]), extra]).tocsc()
+                    rows.add(np.r_[tau, x], np.r_[1.0, -np.maximum(t_lo[j, o], -BIG)], 0.0, np.inf)
+
+    def weighted(j: int, values: np.ndarray):
+        k = unit_at[j]
+        return base + first[k] + np.arange(opts[k].size), np.asarray(values, dtype=float)[opts[k]]
+
+    # the static payload cases: the objective column t is at most each one's payload too
+    width = payload_rows(model, rows, weighted, program.m_col, program.t_col, base + nx)
+    grow = width - col_lo.size
+    col_lo = np.concatenate([col_lo, np.full(grow, -np.inf)])
+    col_hi = np.concatenate([col_hi, np.full(grow, np.inf)])
+    con = rows.constraint(width)
+    a = sp.csc_array(con.A)
     with quiet_stdout(discard=True):
         h = highspy.Highs()
     h.setOptionValue("output_flag", False)
@@ -121,16 +134,18 @@ def solve_stance_milp(
     cost[: program.cost.size] = program.cost
     lp.col_cost_ = cost
     lp.col_lower_, lp.col_upper_ = col_lo, col_hi
-    lp.row_lower_ = np.concatenate([program.row_lo, lo])
-    lp.row_upper_ = np.concatenate([program.row_hi, hi])
+    lp.row_lower_ = np.asarray(con.lb, dtype=float)
+    lp.row_upper_ = np.asarray(con.ub, dtype=float)
     lp.sense_ = highspy.ObjSense.kMaximize
     lp.a_matrix_.format_ = highspy.MatrixFormat.kColwise
     lp.a_matrix_.start_ = a.indptr.astype(np.int32)
     lp.a_matrix_.index_ = a.indices.astype(np.int32)
     lp.a_matrix_.value_ = a.data.astype(float)
-    lp.integrality_ = [highspy.HighsVarType.kContinuous] * base + [
-        highspy.HighsVarType.kInteger
-    ] * nx
+    lp.integrality_ = (
+        [highspy.HighsVarType.kContinuous] * base
+        + [highspy.HighsVarType.kInteger] * nx
+        + [highspy.HighsVarType.kContinuous] * grow
+    )
     h.passModel(lp)
     if start is not None:
         where = []
@@ -147,17 +162,17 @@ def solve_stance_milp(
     info = h.getInfo()
     nodes = int(info.mip_node_count)
     if status == highspy.HighsModelStatus.kInfeasible:
-        return StanceMilpOutcome("infeasible", None, -math.inf, program.none, nodes)
+        return StanceMilpOutcome("infeasible", None, -math.inf, least, nodes)
     upper = float(info.mip_dual_bound)
     upper = upper + REL_SLACK * abs(upper) + ABS_SLACK if math.isfinite(upper) else math.inf
     index, value = None, -math.inf
     if info.primal_solution_status == 2:  # feasible
-        x = np.asarray(h.getSolution().col_value)[base:]
+        x = np.asarray(h.getSolution().col_value)[base : base + nx]
         index = np.full(n, -1, dtype=np.int64)
         for k, u in enumerate(units):
             index[list(u)] = opts[k][int(np.argmax(x[first[k] : first[k + 1]]))]
         value = float(info.objective_function_value)
     done = status == highspy.HighsModelStatus.kOptimal
     return StanceMilpOutcome(
-        "optimal" if done else "time_limit", index, value, max(upper, program.none), nodes
+        "optimal" if done else "time_limit", index, value, max(upper, least), nodes
     )
