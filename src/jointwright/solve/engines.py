@@ -22,16 +22,13 @@ HEURISTIC_SHARE, HEURISTIC_SECONDS = 0.25, 10.0
 #: share of the wall-clock limit the heuristics may stretch to when the process gets less than
 #: a core (their CPU budget is then reached later; the search keeps the rest)
 HEURISTIC_WALL_SHARE = 0.5
-#: the same two shares (CPU seconds of the limit, wall) when stance cases alone set the objective
-BLIND_CPU_SHARE, BLIND_WALL_SHARE = 0.6, 0.8
 
 
 def first_design(model: SizingModel, units, time_limit, phase=None):
     """A feasible design from the primal heuristics (solve/heuristic.py), as a search key, or
     None; it takes a quarter of ``time_limit`` in CPU seconds of the process (at most 10 s,
-    10 s without a limit), within half of ``time_limit`` in wall time; 60 % of the limit in CPU
-    seconds within 80 % in wall time when stance cases alone set the objective."""
-    from .heuristic import Heuristic, blind_screen
+    10 s without a limit), within half of ``time_limit`` in wall time."""
+    from .heuristic import Heuristic
 
     (phase or (lambda text: None))("first designs")
     share = (
@@ -40,11 +37,6 @@ def first_design(model: SizingModel, units, time_limit, phase=None):
         else min(HEURISTIC_SHARE * time_limit, HEURISTIC_SECONDS)
     )
     wall = share if time_limit is None else max(share, HEURISTIC_WALL_SHARE * time_limit)
-    if blind_screen(model) and time_limit is not None:
-        # stance cases alone set the objective: the search's bounds (item 9) are loose at shallow
-        # depth and each node costs linear programs, so the heuristics, which screen designs by
-        # those programs and local search, get most of the run
-        share, wall = BLIND_CPU_SHARE * time_limit, BLIND_WALL_SHARE * time_limit
     return Heuristic(
         model, units, time.perf_counter() + wall, extend=time_limit is not None, cpu=share
     ).run()
