@@ -87,6 +87,85 @@ def test_stance_milp_with_a_payload_case_matches_enumeration(seed):
     assert np.any(s.objective < stance_only.objective - 1e-6)
 
 
+@pytest.mark.parametrize(
+    ("seed", "with_minimum"),
+    [(21, False), (45, True), pytest.param(45, False, marks=pytest.mark.slow)],
+)
+def test_stance_cases_left_out_of_the_objective_bound_nothing(seed, with_minimum):
+    """``[objective] cases`` naming only the payload case: the stance cases are then only
+    checked, so neither the stance bounds nor the MILP may cap the payload by them; with a
+    payload minimum (the median stance force of the designs that hold one: it binds) they hold it as a
+    requirement. The search alone and ``size`` must find the enumerated optimum [derived]."""
+    from jointwright.solve.search import BranchAndBound
+    from jointwright.sizing import size
+
+    model, units, designs = shared_instance(seed)
+    leg = next(c for c in load_project_example().cases if c.name == "leg-push")
+    cases = model.project.cases
+    if with_minimum:
+        ev = model.evaluator.evaluate(model.table.arrays(designs), detail=False)
+        force = {c.name: np.asarray(ev[c.name]["payload"], dtype=float) for c in model.stance}
+
+        def held(f):
+            return f[np.isfinite(f) & (f > 0)]
+
+        cases = tuple(
+            dataclasses.replace(c, limits={"payload_min": float(np.median(held(force[c.name])))})
+            if c.kind == "stance"
+            else c
+            for c in cases
+        )
+    objective = {**model.project.objective, "cases": ["leg-push"]}
+    project = dataclasses.replace(model.project, cases=(*cases, leg), objective=objective)
+    model = SizingModel(project, model.table, model.candidates, "payload", model.shared)
+    assert not model.stance_objective
+    assert bool(model.stance) == bool(model.stance_bounded) == with_minimum
+    value = _values(model, designs)
+    best = float(value.max())
+    if with_minimum:  # the minimums rule out the optimum of the payload case alone
+        free = dataclasses.replace(project, cases=(*model.project.cases[:-1], leg))
+        free = dataclasses.replace(
+            free,
+            cases=tuple(
+                dataclasses.replace(c, limits={}) if c.kind == "stance" else c
+                for c in free.cases
+            ),
+        )
+        alone = SizingModel(free, model.table, model.candidates, "payload", model.shared)
+        assert best < float(_values(alone, designs).max()) - 1e-6
+    out = BranchAndBound(model, units).run()  # the search alone, without a first design
+    assert out.status == "optimal"
+    assert out.objective == pytest.approx(best, rel=1e-9)
+    for gap in (0.0, 1e-4):
+        res = size(project, explain=False, gap=gap)
+        assert res.status == "optimal"
+        assert res.objective >= best * (1 - gap) - 1e-9
+        assert res.bound >= best - 1e-6 * best
+
+
+@pytest.mark.parametrize("seed", [21, pytest.param(45, marks=pytest.mark.slow)])
+def test_margin_objective_over_stance_cases_matches_enumeration(seed):
+    """The normalized-margin objective (achieved ÷ required force) with stance cases alone: the
+    stance bounds, which are in kg of payload, must not bound it, and the screen without the
+    stance cases has no case at all; the search and ``size`` find the enumerated optimum."""
+    from jointwright.solve.search import BranchAndBound
+    from jointwright.sizing import size
+
+    model, units, designs = shared_instance(seed)
+    cases = tuple(
+        dataclasses.replace(c, limits={"payload_min": 50.0}) if c.kind == "stance" else c
+        for c in model.project.cases
+    )
+    project = dataclasses.replace(model.project, cases=cases)
+    model = SizingModel(project, model.table, model.candidates, "margin", model.shared)
+    assert model.stance and not model.stance_objective
+    best = float(_values(model, designs).max())
+    out = BranchAndBound(model, units).run()
+    assert out.status == "optimal" and out.objective == pytest.approx(best, rel=1e-9)
+    res = size(project, objective="margin", explain=False, gap=0)
+    assert res.status == "optimal" and res.objective == pytest.approx(best, rel=1e-9)
+
+
 def test_size_proves_a_stance_objective_through_the_milp():
     """The whole run (heuristics, root probing, the MILP): status optimal within the default gap,
     the enumerated optimum, the design re-assessed feasible."""

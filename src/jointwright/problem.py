@@ -226,17 +226,24 @@ def normalized_margin(case, evaluation) -> np.ndarray | None:
     return out
 
 
-def smallest_margin(project, evaluation) -> np.ndarray:
+def smallest_margin(project, evaluation, count: int | None = None) -> np.ndarray:
     """The smallest normalized margin over :func:`margin_cases` (cases not evaluated, e.g. a
-    screen without stance cases, are left out, which can only raise it), (D,)."""
+    screen without stance cases, are left out, which can only raise it), (D,); ``count``: D,
+    needed when the evaluation holds no case (a screen of stance cases only)."""
     values = [
         v for c in margin_cases(project) if (v := normalized_margin(c, evaluation)) is not None
     ]
     if not values:
-        d = next(iter(evaluation.values()))
-        size = np.asarray(next(iter(d.values()))).shape[0] if d else 1
-        return np.full(size, np.inf)
+        return np.full(_count(evaluation, count), np.inf)
     return np.min(values, axis=0)
+
+
+def _count(evaluation, count: int | None) -> int:
+    """The number of designs: ``count`` when given, else read off the evaluation (1 when empty)."""
+    if count is not None:
+        return count
+    d: dict = next(iter(evaluation.values()), {})
+    return np.asarray(next(iter(d.values()))).shape[0] if d else 1
 
 
 def objective_names(project, kind: str) -> set[str]:
@@ -273,7 +280,7 @@ def force_for_objective(project, kind: str, case, value, names: set[str] | None 
     return case.fixed_load + case.payload_share * STANDARD_GRAVITY * value
 
 
-def payload_mass(project, evaluation) -> np.ndarray:
+def payload_mass(project, evaluation, count: int | None = None) -> np.ndarray:
     """The payload mass every case carries (kg), (D,): min over the payload and stance cases of
     :func:`carried_payload` of each case's achieved force. Cases not in ``evaluation`` (a screen
     without the stance cases) are left out, which can only raise the value."""
@@ -283,9 +290,7 @@ def payload_mass(project, evaluation) -> np.ndarray:
         if c.name in evaluation
     ]
     if not values:  # only stance cases set it and this is a screen without them: no bound yet
-        d: dict = next(iter(evaluation.values()), {})
-        size = np.asarray(next(iter(d.values()))).shape[0] if d else 1
-        return np.full(size, np.inf)
+        return np.full(_count(evaluation, count), np.inf)
     return np.min(values, axis=0)
 
 
@@ -298,14 +303,15 @@ def objective(project, arrays, evaluation, kind: str = "payload") -> np.ndarray:
     (achieved ÷ required) over :func:`margin_cases`; imf: the worst impact mitigation factor
     over the impact cases.
     """
+    count = arrays.mass.shape[0]
     if kind == "payload":
-        return payload_mass(project, evaluation)
+        return payload_mass(project, evaluation, count)
     if kind == "mass":
         return -arrays.mass.sum(axis=1)
     if kind == "cost":
         return -arrays.cost.sum(axis=1)
     if kind == "margin":
-        return smallest_margin(project, evaluation)
+        return smallest_margin(project, evaluation, count)
     if kind == "imf":
         names = [
             c.name for c in project.cases if c.kind == "impact" and "imf" in evaluation[c.name]

@@ -44,6 +44,6 @@ def shared_payload_bounds(model: SizingModel, cap: float, deadline: float):
     if model.payload and math.isfinite(cap):
         end = min(deadline, time.perf_counter() + 2.0)
         levels = ComponentLevels(model, model.candidates, level_grid(0.0, cap, None), end)
-    if model.stance:
+    if model.stance_bounded:
         stance = StanceBound(model)
     return levels, stance

@@ -1,7 +1,8 @@
-"""The engines behind ``size``'s default back-end, in order: the MILP hand-over when the
-instance suits it (solve/handover.py), the primal heuristics for a first design
-(solve/heuristic.py), then the exact branch and bound (solve/search.py) from the best design so
-far; or the Pyomo back-end, or enumeration. Time shares: docs/optimizer.md, "The time limit".
+"""The engines behind ``size``'s default back-end, in order: the primal heuristics for a first
+design (solve/heuristic.py); the MILP hand-over when the instance suits it (solve/handover.py),
+or the stance MILP when stance cases set the payload objective (solve/stance_milp.py); then the
+exact branch and bound (solve/search.py) from the best design so far; or the Pyomo back-end, or
+enumeration. Time shares: docs/optimizer.md, "The time limit".
 """
 
 from __future__ import annotations
@@ -112,35 +113,66 @@ def _milp_first(model: SizingModel, search, incumbent, phase, gap: float):
     # every design: payload ≤ 0, or in the reduced MILP (≤ its bound), or below the floor
     bound = max(0.0 if out.status == "infeasible" else max(out.bound, 0.0), floor)
     bound = min(bound, search.cap)
-    native = (f"HiGHS hand-over: {out.native}", out.native)
+    native = (f"HiGHS hand-over: {out.native}", f"the HiGHS hand-over: {out.native}")
     return _handed_back(model, incumbent, out.index, bound, gap, t0, native, out.nodes)
 
 
 def _stance_milp_first(model: SizingModel, search, incumbent, phase, gap: float):
     """The stance MILP (solve/stance_milp.py) when stance cases set the payload objective:
     the search's root probing with the heuristics' design (:meth:`.search.BranchAndBound.probed`)
-    leaves each unit a few options; when they fit, HiGHS maximizes the stance cases' least
-    carried payload over them for a share of the time left, from that design. Its design
-    (scored by the physics like any) becomes the incumbent when it is better. Every design that
-    beats the incumbent less its tie tolerance takes only the options left, so the optimum is at
-    most the larger of that floor and the MILP's bound; an answer within ``gap`` of it counts as
-    proven (status ``optimal``). (None, incumbent) when the options left do not fit."""
+    leaves each unit a few options; when they fit, HiGHS maximizes the payload objective (the
+    stance cases' and the static payload cases' least carried payload) over them for a share of
+    the time left, from that design. Its design (scored by the physics like any) becomes the
+    incumbent when it is better. Every design that beats the incumbent less its tie tolerance
+    takes only the options left, so the optimum is at most the larger of that floor and the
+    MILP's bound; an answer within ``gap`` of it counts as proven (status ``optimal``).
+    (None, incumbent) when the options left do not fit."""
     from .handover import milp_time
     from .stance_milp import fits, solve_stance_milp
 
     t0 = time.perf_counter()
     floor = incumbent[0] - tie_tol(incumbent[0])
     cands, _ = search.probed()
-    if not all(c.size for c in cands) or not fits(search.stance, search.units):
+    if not all(c.size for c in cands):
+        return None, incumbent
+    bound = search.stance
+    if any(a.size != b.size for a, b in zip(cands, bound.candidates, strict=True)):
+        # the probing stopped at its deadline within a round: the program over what it left
+        bound = bound.restricted(cands)
+    if not fits(bound, search.units):
         return None, incumbent
     left = None if math.isinf(search.deadline) else max(search.deadline - time.perf_counter(), 1e-3)
     (phase or (lambda text: None))("searching (stance MILP)")
     out = solve_stance_milp(
-        search.stance, search.units, milp_time(left), start=np.asarray(incumbent[3]), gap=gap / 2
+        bound, search.units, milp_time(left), start=np.asarray(incumbent[3]), gap=gap / 2
     )
-    bound = min(max(out.bound, floor), search.cap)
-    words = f"HiGHS stance MILP over {sum(c.size for c in cands):,} options, {out.nodes} nodes"
-    return _handed_back(model, incumbent, out.index, bound, gap, t0, (words, words), out.nodes)
+    words = (
+        f"HiGHS stance MILP over the {out.options:,} options left after probing "
+        f"({_units_text(model, search.units)}), {_count(out.nodes, 'node')}"
+        + (", stopped at its time share" if out.status == "time_limit" else "")
+    )
+    return _handed_back(
+        model,
+        incumbent,
+        out.index,
+        min(max(out.bound, floor), search.cap),
+        gap,
+        t0,
+        (words, f"the {words}"),
+        out.nodes,
+    )
+
+
+def _count(k: int, noun: str) -> str:
+    return f"{k:,} {noun}{'s' * (k != 1)}"
+
+
+def _units_text(model: SizingModel, units) -> str:
+    """What the options are of: "12 joints", "3 shared groups", "3 shared groups and 2 joints"."""
+    groups = sum(1 for u in units if len(u) > 1)
+    lone = len(units) - groups
+    parts = [_count(groups, "shared group")] if groups else []
+    return " and ".join(parts + ([_count(lone, "joint")] if lone else []))
 
 
 def _handed_back(model: SizingModel, incumbent, index, bound, gap, t0, native, nodes):
@@ -172,7 +204,7 @@ def _with_milp_bound(out: SolveOutcome, milp: SolveOutcome) -> SolveOutcome:
     """The search's outcome with the MILP's bound when that is lower (both hold for every design
     with a positive payload, and the MILP's only when it is ≥ 0: a design that cannot hold
     itself has a payload objective ≤ 0)."""
-    native = f"{out.native}; after the HiGHS hand-over: {milp.native}"
+    native = f"{out.native}; after {milp.native}"
     bound = out.bound
     if out.status == "time_limit" and math.isfinite(milp.bound) and milp.bound >= 0:
         bound = max(min(out.bound, milp.bound), out.objective)

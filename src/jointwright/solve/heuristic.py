@@ -102,7 +102,7 @@ class Heuristic:
         #: stance cases alone set the objective: designs are screened by their stance linear
         #: programs (solve/stance_bound.py) and only the best are scored in full
         self.stance = None
-        if blind_screen(model):
+        if blind_screen(model) and model.stance_objective:
             from .stance_bound import StanceBound
 
             self.stance = StanceBound.of(model)

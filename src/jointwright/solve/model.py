@@ -94,8 +94,12 @@ class SizingModel:
         # duty cases set no objective; only those with a limit take part in the search
         self.duty = tuple(c for c in project.cases if c.kind == "duty" and c.limits)
         # stance cases (a cone program per design) are checked lazily like duty cycles; their
-        # payload joins the objective only there, so the screen's objective is an upper bound
-        self.stance = tuple(c for c in project.cases if c.kind == "stance")
+        # payload joins the objective only there, so the screen's objective is an upper bound;
+        # like duty cases, only those with a limit or in the objective take part in the search
+        names = objective_names(project, self.objective_kind)
+        self.stance = tuple(
+            c for c in project.cases if c.kind == "stance" and (c.limits or c.name in names)
+        )
         self.static_project = dataclasses.replace(
             project, cases=tuple(c for c in project.cases if c.kind not in ("duty", "stance"))
         )
@@ -105,11 +109,25 @@ class SizingModel:
         )
         # the payload objective is the payload mass every case carries: each case's force bound
         # goes through its own increasing transform (problem.carried_payload) before the min
-        names = objective_names(project, self.objective_kind)
         by_name = {c.name: c for c in project.cases}
         self.carry = tuple(
             objective_transform(project, self.objective_kind, by_name[t.name], names)
             for t in self.payload
+        )
+        # the stance cases whose carried payload (kg) is part of the payload objective: the
+        # stance bounds (solve/stance_bound.py, stance_milp.py) bound those alone; a stance case
+        # left out by ``[objective] cases``, or under the margin objective, is only checked
+        self.stance_objective = tuple(
+            c for c in self.stance if self.objective_kind == "payload" and c.name in names
+        )
+        # the stance cases the programs hold: those of the objective, and under the payload
+        # objective those with a payload minimum (a row s_c ≥ minimum: a requirement every
+        # feasible design meets, so the programs still bound every feasible completion)
+        self.stance_bounded = tuple(
+            c
+            for c in self.stance
+            if c in self.stance_objective
+            or (self.objective_kind == "payload" and c.limits.get("payload_min", 0.0) > 0)
         )
         self.candidates = [np.asarray(c, dtype=np.int64) for c in candidates]
         self.reflected = table.reflected_backdriven

@@ -75,7 +75,7 @@ class BranchAndBound:
             self.cap = min(self.cap, self.levels.cap())
         # stance cases: one linear program per case and node (item 9)
         self.stance = None
-        if model.kind == "payload" and model.stance:
+        if model.stance_bounded:
             from .stance_bound import StanceBound
 
             self.stance = StanceBound.of(model)

@@ -105,8 +105,9 @@ class StanceBound:
         cap_m = np.broadcast_to(arr.capacity("motoring"), (count, n))
         cap_b = np.broadcast_to(arr.capacity("backdriven"), (count, n))
         pcs, self.lo, self.hi = [], [], []
+        names = {c.name for c in model.stance_bounded}
         for pc in ev.cases:
-            if pc.case.kind != "stance":
+            if pc.case.name not in names:
                 continue
             lo, hi = torque_bounds(np.broadcast_to(pc.velocity_sign, (count, n)), cap_m, cap_b)
             pcs.append(pc)
@@ -120,7 +121,12 @@ class StanceBound:
         model = self.model
         self.candidates = candidates
         self.program = StanceProgram(
-            self.pcs, model.evaluator, model, list(zip(self.lo, self.hi, strict=True)), candidates
+            self.pcs,
+            model.evaluator,
+            model,
+            list(zip(self.lo, self.hi, strict=True)),
+            candidates,
+            objective={c.name for c in model.stance_objective},
         )
         self.m_free = np.array(
             [[model.mass[c].min(), model.mass[c].max()] if c.size else [0, 0] for c in candidates]

@@ -17,7 +17,9 @@ circumscribed friction pyramids (the shared mass columns, the budget row), whose
 the design's cone value, and each payload case's torque rows, which hold with t at its payload;
 so the MILP's dual bound is an upper bound on the payload objective of every design drawn from
 these options whose cases all hold. One whose stance case cannot hold itself has at most the
-program's ``none``; one that cannot hold itself in a payload case carries no payload (≤ 0). HiGHS
+program's ``none``; one that cannot hold itself in a payload case carries no payload (≤ 0).
+A stance case outside the objective with a payload minimum only keeps its force s_c at least
+that minimum (a requirement of every feasible design; solve/stance_program.py). HiGHS
 (highspy) branches on the binaries with its own cuts and heuristics. Proof and measurements:
 docs/optimizer.md, item 12.
 """
@@ -42,22 +44,24 @@ MAX_OPTIONS = 10_000
 
 @dataclass(frozen=True)
 class StanceMilpOutcome:
-    """What the MILP proved: ``bound`` holds for the stance part of every design drawn from the
-    options it was given (solver slack added); ``index`` the best design it found (n,) or None,
-    with its program value ``value``."""
+    """What the MILP proved: ``bound`` holds for the payload objective of every design drawn
+    from the options it was given (solver slack added); ``index`` the best design it found (n,)
+    or None, with its program value ``value``; ``options`` the binaries (options summed over
+    the units)."""
 
-    status: str  # "optimal", "time_limit" or "infeasible"
+    status: str  # "optimal", "time_limit" (or any other stop of HiGHS) or "infeasible"
     index: np.ndarray | None
     value: float
     bound: float
     nodes: int
+    options: int
 
 
 def stance_milp_models(model) -> bool:
     """Whether the MILP bounds ``model``'s objective: the payload objective, some stance case
     among the cases that set it. Other requirements (an IMF or speed limit, a duty cycle) are
     not rows: the MILP's design is scored in full, and its bound holds regardless."""
-    return model.kind == "payload" and model.measure is None and bool(model.stance)
+    return model.kind == "payload" and model.measure is None and bool(model.stance_bounded)
 
 
 def fits(bound, units) -> bool:
@@ -68,9 +72,10 @@ def fits(bound, units) -> bool:
 def solve_stance_milp(
     bound, units, time_limit: float, start=None, gap: float = 0.0
 ) -> StanceMilpOutcome:
-    """Maximize the least carried payload of the stance cases over the options of
-    ``bound.candidates`` (``bound``: a :class:`.stance_bound.StanceBound`), for ``time_limit``
-    seconds, from the design ``start`` (n,) when given; ``gap``: HiGHS's relative MIP gap."""
+    """Maximize the payload objective (the least carried payload of the objective's stance and
+    static payload cases) over the options of ``bound.candidates`` (``bound``: a
+    :class:`.stance_bound.StanceBound`), for ``time_limit`` seconds, from the design ``start``
+    (n,) when given; ``gap``: HiGHS's relative MIP gap."""
     import highspy
 
     from .pyomo_backend import quiet_stdout
@@ -82,7 +87,7 @@ def solve_stance_milp(
     least = max(program.none, 0.0) if model.payload else program.none
     opts = [unit_options(bound.candidates, u) for u in units]
     if any(o.size == 0 for o in opts):
-        return StanceMilpOutcome("infeasible", None, -math.inf, least, 0)
+        return StanceMilpOutcome("infeasible", None, -math.inf, least, 0, 0)
     first = np.concatenate([[0], np.cumsum([o.size for o in opts])]).astype(np.int64)
     base = program.a.shape[1]
     nx = int(first[-1])
@@ -131,7 +136,7 @@ def solve_stance_milp(
     lp = highspy.HighsLp()
     lp.num_col_, lp.num_row_ = a.shape[1], a.shape[0]
     cost = np.zeros(a.shape[1])
-    cost[: program.cost.size] = program.cost
+    cost[program.t_col] = 1.0  # maximize t (the program itself may only test feasibility)
     lp.col_cost_ = cost
     lp.col_lower_, lp.col_upper_ = col_lo, col_hi
     lp.row_lower_ = np.asarray(con.lb, dtype=float)
@@ -162,7 +167,7 @@ def solve_stance_milp(
     info = h.getInfo()
     nodes = int(info.mip_node_count)
     if status == highspy.HighsModelStatus.kInfeasible:
-        return StanceMilpOutcome("infeasible", None, -math.inf, least, nodes)
+        return StanceMilpOutcome("infeasible", None, -math.inf, least, nodes, nx)
     upper = float(info.mip_dual_bound)
     upper = upper + REL_SLACK * abs(upper) + ABS_SLACK if math.isfinite(upper) else math.inf
     index, value = None, -math.inf
@@ -174,5 +179,5 @@ def solve_stance_milp(
         value = float(info.objective_function_value)
     done = status == highspy.HighsModelStatus.kOptimal
     return StanceMilpOutcome(
-        "optimal" if done else "time_limit", index, value, max(upper, least), nodes
+        "optimal" if done else "time_limit", index, value, max(upper, least), nodes, nx
     )

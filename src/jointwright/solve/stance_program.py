@@ -4,9 +4,11 @@ Columns [case 1 (τ, λ, ν1, ν2, s), case 2 …, m (n), t]; maximize t with t 
 case (problem.carried_payload, affine and increasing), the statics of each case with the
 circumscribed friction pyramid (and each contact's least share of the normal force, when the
 case sets one), each joint's mass–torque envelopes over its candidates, equal masses within each
-shared group and the actuator mass budget. Built once in HiGHS (highspy); a solve changes only
-the torque and mass column bounds and starts from the previous basis. Proofs: docs/optimizer.md,
-item 9.
+shared group and the actuator mass budget; a case outside the objective bounds no t, and a case
+with a payload minimum keeps s_c at least that force (a requirement; without any case bounding t
+the program only tells feasible from infeasible). Built once in HiGHS (highspy); a solve changes
+only the torque and mass column bounds and starts from the previous basis. Proofs:
+docs/optimizer.md, item 9.
 """
 
 from __future__ import annotations
@@ -144,7 +146,9 @@ class StanceProgram:
     columns [case 1 (τ, λ, ν1, ν2, s), case 2 …, m (n), t]; maximize t with
     t ≤ carried payload of s_c for every case c (affine and increasing, problem.carried_payload)."""
 
-    def __init__(self, pcs, ev, model, bounds, candidates) -> None:
+    def __init__(self, pcs, ev, model, bounds, candidates, objective=None) -> None:
+        """``objective``: the names of the cases whose carried payload bounds t (every case
+        when None); the others, and these too, keep s_c at least their ``payload_min``."""
         import highspy
 
         from ..problem import STANDARD_GRAVITY
@@ -162,6 +166,8 @@ class StanceProgram:
         self.t_col = self.m_col + n
         ncol = self.t_col + 1
         blocks, row_lo, row_hi, joint_of = [], [], [], []
+        #: whether a case bounds t (else the program only tells feasible from infeasible)
+        self.bounds_t = False
         for c, (own, mass_part, rlo, rhi, _, _, s_at, env) in enumerate(parts):
             a = np.zeros((own.shape[0], ncol))
             a[:, offsets[c] : offsets[c + 1]] = own
@@ -171,7 +177,12 @@ class StanceProgram:
             row_hi.append(rhi)
             joint_of.append(env)
             case = pcs[c].case
-            if case.payload_share > 0:  # t ≤ (s − fixed_load)/(payload_share·g_n)
+            minimum = float(case.limits.get("payload_min", 0.0))
+            if minimum > 0:  # a requirement: s_c ≥ payload_min (N)
+                parts[c][4][parts[c][6]] = minimum
+            if case.payload_share > 0 and (objective is None or case.name in objective):
+                # t ≤ (s − fixed_load)/(payload_share·g_n)
+                self.bounds_t = True
                 scale = case.payload_share * STANDARD_GRAVITY
                 a = np.zeros((1, ncol))
                 a[0, self.t_col] = 1.0
@@ -198,7 +209,7 @@ class StanceProgram:
         col_lo = np.concatenate([p[4] for p in parts] + [np.zeros(n), [-np.inf]])
         col_hi = np.full(ncol, np.inf)
         cost = np.zeros(ncol)
-        cost[self.t_col] = 1.0
+        cost[self.t_col] = 1.0 if self.bounds_t else 0.0  # else a feasibility program
         self.n = n
         self.col_lo, self.col_hi = col_lo.copy(), col_hi.copy()  # as of the last solve
         self.row_lo, self.row_hi = np.concatenate(row_lo), np.concatenate(row_hi)
@@ -206,8 +217,16 @@ class StanceProgram:
         self.cost = cost
         #: the joint of each mass–torque envelope row, −1 for every other row
         self.envelope_of = np.concatenate(joint_of).astype(np.int64)
-        #: the bound when the program is infeasible: some case holds nothing in every completion
-        self.none = max(float(carried_payload_of(c, 0.0)) for c in self.cases)
+        #: the bound when the program is infeasible: some objective case holds nothing in
+        #: every completion, or a payload minimum is out of reach (no feasible completion)
+        self.none = max(
+            (
+                float(carried_payload_of(c, 0.0))
+                for c in self.cases
+                if objective is None or c.name in objective
+            ),
+            default=-math.inf,
+        )
         self.h = _highs(
             highspy,
             cost,
@@ -240,6 +259,8 @@ class StanceProgram:
         self.h.run()
         status = self.h.getModelStatus()
         if status == highspy.HighsModelStatus.kOptimal:
+            if not self.bounds_t:  # feasible: nothing is bounded
+                return math.inf
             t = float(self.h.getInfo().objective_function_value)
             t = t + REL_SLACK * abs(t) + ABS_SLACK
             return max(t, self.none)
