@@ -127,7 +127,7 @@ def _stance_milp_first(model: SizingModel, search, incumbent, phase, gap: float)
     takes only the options left, so the optimum is at most the larger of that floor and the
     MILP's bound; an answer within ``gap`` of it counts as proven (status ``optimal``).
     (None, incumbent) when the options left do not fit."""
-    from .handover import milp_time
+    from .handover import milp_time, models_every_limit
     from .stance_milp import fits, solve_stance_milp
 
     t0 = time.perf_counter()
@@ -144,7 +144,11 @@ def _stance_milp_first(model: SizingModel, search, incumbent, phase, gap: float)
     left = None if math.isinf(search.deadline) else max(search.deadline - time.perf_counter(), 1e-3)
     (phase or (lambda text: None))("searching (stance MILP)")
     out = solve_stance_milp(
-        bound, search.units, milp_time(left), start=np.asarray(incumbent[3]), gap=gap / 2
+        bound,
+        search.units,
+        milp_time(left, models_every_limit(model)),
+        start=np.asarray(incumbent[3]),
+        gap=gap / 2,
     )
     words = (
         f"HiGHS stance MILP over the {out.options:,} options left after probing "

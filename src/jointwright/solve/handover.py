@@ -38,12 +38,9 @@ def milp_models(model: SizingModel) -> bool:
         return False
     if not (math.isfinite(model.total_mass_max) or math.isfinite(model.total_cost_max)):
         return False
-    if model.n < MILP_MIN_JOINTS or model.stance or model.duty or model.backdrive:
+    if model.n < MILP_MIN_JOINTS or model.stance:
         return False
-    exact = {"payload": {"payload_min"}, "speed": {"speed_min"}}  # the MILP's rows, the filters
-    if any(not set(c.limits) <= exact.get(c.kind, set()) for c in model.project.cases):
-        return False
-    return not model.project.rotor_coupling
+    return models_every_limit(model)
 
 
 def milp_fits(candidates) -> bool:
@@ -57,6 +54,24 @@ def milp_suits(model: SizingModel) -> bool:
     return milp_models(model) and milp_fits(model.candidates)
 
 
-def milp_time(time_left: float | None) -> float:
-    """Seconds the MILP gets: a share of the time left, or :data:`MILP_SECONDS` without a limit."""
-    return MILP_SECONDS if time_left is None else MILP_SHARE * time_left
+#: the share when the MILP leaves some requirement to the physics (its design may miss it)
+MILP_SHARE_PARTIAL = 0.5
+
+
+def milp_time(time_left: float | None, exact: bool = True) -> float:
+    """Seconds the MILP gets: a share of the time left (:data:`MILP_SHARE`, or
+    :data:`MILP_SHARE_PARTIAL` when it does not model every requirement, ``exact`` False), or
+    :data:`MILP_SECONDS` without a limit."""
+    if time_left is None:
+        return MILP_SECONDS
+    return (MILP_SHARE if exact else MILP_SHARE_PARTIAL) * time_left
+
+
+def models_every_limit(model: SizingModel) -> bool:
+    """Whether the MILP's rows hold every case limit of ``model``: a payload minimum of a payload
+    or stance case, a speed minimum (a per-joint filter); no duty, back-drive or rotor
+    coupling."""
+    if model.duty or model.backdrive or model.project.rotor_coupling:
+        return False
+    exact = {"payload": {"payload_min"}, "stance": {"payload_min"}, "speed": {"speed_min"}}
+    return all(set(c.limits) <= exact.get(c.kind, set()) for c in model.project.cases)
