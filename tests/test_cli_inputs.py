@@ -921,6 +921,21 @@ BAD = [
         example="quadruped",
     ),
     Bad(
+        "quadruped: contact key misspelt",
+        (
+            (
+                "project.toml",
+                '{ frame = "fl_foot", friction = 0.6 },\n',
+                '{ frame = "fl_foot", fricton = 0.6 },\n',
+            ),
+        ),
+        "check",
+        "project.toml",
+        "case[0].contacts[0].friction",
+        "the table has 'fricton': a misspelling?",
+        example="quadruped",
+    ),
+    Bad(
         "quadruped: negative friction",
         (
             (

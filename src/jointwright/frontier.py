@@ -176,10 +176,11 @@ def frontier(
 def auto_method(project, case: str | None, key: str, table, deadline: float):
     """The method "auto" runs, and the root model when it is the branch and bound: the
     bi-objective branch and bound below :data:`~.frontier_methods.SEED_MIN` candidate designs
-    (after the proven filters), the ε-constraint sweep from there on, where each of its exact
-    solves prunes with a single objective's bounds and the branch and bound's boxes stay open
-    (measured: docs/benchmarks.md, "Frontier at scale"). The branch and bound when the filters
-    do not finish in the time limit."""
+    (after the proven filters) or when stance cases bound the payload (their programs bound its
+    boxes closely), the ε-constraint sweep otherwise, where each of its exact solves prunes with
+    a single objective's bounds and the branch and bound's boxes stay open (measured:
+    docs/benchmarks.md, "Frontier at scale"). The branch and bound when the filters do not
+    finish in the time limit."""
     from .option_rows import OutOfTime
     from .sizing import units_of
     from .solve.pareto import count
@@ -190,7 +191,7 @@ def auto_method(project, case: str | None, key: str, table, deadline: float):
         )
     except OutOfTime:  # the branch and bound states the region left from its root bound
         return "branch-and-bound", None
-    if count(model, units_of(model.n, model.shared)) < SEED_MIN:
+    if model.stance_bounded or count(model, units_of(model.n, model.shared)) < SEED_MIN:
         return "branch-and-bound", model
     return "sweep", None
 

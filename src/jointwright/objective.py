@@ -51,7 +51,10 @@ def read_objective(project) -> dict:
         raise InputError(file, "objective.exclude", "must be a list of motor, stage or frame names")
     check_shared(out["shared"], joints, file, "objective.shared")
     if "cases" in raw:
-        out["cases"] = check_objective_cases(raw["cases"], project, out["maximize"], file)
+        # under the mass, cost or IMF objective they are read by the payload objective only (a
+        # frontier's payload axis, ``size --objective payload``): checked as for it
+        reads = out["maximize"] if out["maximize"] in ("payload", "margin") else "payload"
+        out["cases"] = check_objective_cases(raw["cases"], project, reads, file)
     return out
 
 
@@ -61,8 +64,6 @@ def check_objective_cases(names, project, kind: str, file: str) -> list[str]:
     field = "objective.cases"
     if not isinstance(names, list) or not names or not all(isinstance(n, str) for n in names):
         raise InputError(file, field, "must be a non-empty list of case names")
-    if kind not in ("payload", "margin"):
-        raise InputError(file, field, f"only for the payload and margin objectives, not {kind}")
     known = {c.region or c.name: c for c in project.cases}
     for i, n in enumerate(names):
         c = known.get(n)
@@ -129,7 +130,12 @@ def check_gap(gap, file: str, field: str) -> None:
 
 
 def check_objective_kind(project, kind: str) -> None:
-    """The project has the cases objective ``kind`` reads (a payload, margin or impact case)."""
+    """The project has the cases objective ``kind`` reads (a payload, margin or impact case),
+    and ``[objective] cases``, when given, suits ``kind`` (a run's objective may differ from the
+    project's: ``size --objective``)."""
+    names = project.objective.get("cases") if isinstance(project.objective, dict) else None
+    if names is not None and kind in ("payload", "margin"):
+        check_objective_cases(names, project, kind, str(project.file))
     if kind == "payload" and not any(c.kind in ("payload", "stance") for c in project.cases):
         raise InputError(
             str(project.file), "case", "objective payload needs at least one payload or stance case"

@@ -322,7 +322,9 @@ def finish(
             message=_message(outcome.status, kind, None, diag),
             unloaded_joints=unloaded_joints(project, model.evaluator),
         )
-    design = design_of(project, model, outcome.index, f"{kind} optimum")
+    # only a proven design is called an optimum (a stopped run's is the best found so far)
+    name = f"{kind} optimum" if outcome.status == "optimal" else f"best {kind} found (not proven)"
+    design = design_of(project, model, outcome.index, name)
     value = float(model.score(outcome.index[None, :]).objective[0])
     if any(s.stage.ratio_range is not None for a_ in design.actuators for s in a_.stages):
         from .solve.refine import refine

@@ -5,6 +5,7 @@ Unknown keys, wrong types and bad quantities name file and field.
 
 from __future__ import annotations
 
+import difflib
 import tomllib
 from pathlib import Path
 from typing import Any
@@ -66,7 +67,10 @@ class Table:
         self._seen.add(key)
         if key not in self.data:
             if default is ...:
-                raise InputError(self.file, self.field(key), "is required")
+                # a misspelt key is the usual cause: name the key the table has instead
+                near = difflib.get_close_matches(key, [str(k) for k in self.data], n=1)
+                hint = f" (the table has {near[0]!r}: a misspelling?)" if near else ""
+                raise InputError(self.file, self.field(key), "is required" + hint)
             return default
         return self.data[key]
 

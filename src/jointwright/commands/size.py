@@ -123,6 +123,20 @@ def gap_reason(r, project) -> str | None:
     return unknown_gap(project, r.objective_kind)
 
 
+def _carried_caption(project) -> str:
+    """The per-case payload table's caption: which cases the objective is the smallest over."""
+    from ..problem import objective_case_names, payload_objective_cases
+
+    if objective_case_names(project) is None:
+        return "Payload mass carried per case (the objective is the smallest)"
+    names = [c.name for c in payload_objective_cases(project)]
+    over = names[0] if len(names) == 1 else "the smallest of " + ", ".join(names)
+    return (
+        f"Payload mass carried per case (the objective is {over}, as objective.cases names; "
+        "the others are only checked)"
+    )
+
+
 def print_result(r, project=None) -> None:
     from .assess import print_assessment
 
@@ -148,7 +162,7 @@ def print_result(r, project=None) -> None:
         rows = payload_rows(project, r.assessment)
         con.print(
             table(
-                "Payload mass carried per case (the objective is the smallest)",
+                _carried_caption(project),
                 [
                     "case",
                     "force reached",

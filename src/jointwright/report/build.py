@@ -106,7 +106,11 @@ def build_report(
         parts.append(study_results.study_section(study, fig_dir))
     parts += [case_tables.cases_section(a, project), job.cautions_section(a, project)]
     top = summary.summary_section(
-        a, fig_dir, frontier=frontier, sensitivity=summary.payload_sensitivity(sens)
+        a,
+        fig_dir,
+        frontier=frontier,
+        sensitivity=summary.payload_sensitivity(sens),
+        sizing=sizing,
     )
     text = page(
         title=f"{project.name}: design report",

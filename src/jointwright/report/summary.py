@@ -15,7 +15,18 @@ from pathlib import Path
 from ..margin_words import check_label, margin_text, worst_per_region
 from . import figures
 from .frontier_map import dominating_point
-from .markup import Cell, Section, bullets, check_value, figure, fmt, number, paragraph, table
+from .markup import (
+    Cell,
+    Section,
+    as_float,
+    bullets,
+    check_value,
+    figure,
+    fmt,
+    number,
+    paragraph,
+    table,
+)
 from .wording import carried_payloads, limiting_quantity_text
 
 #: a met requirement with a relative margin below this is called thin (10 %) [trade]
@@ -356,11 +367,39 @@ def frontier_thumbnail(frontier: dict, fig_dir: Path) -> str:
     return figure(png, "summary-frontier", "frontier thumbnail", f"Non-dominated designs; {where}.")
 
 
+def search_note(sizing: dict | None) -> str | None:
+    """One sentence when the sizing run that chose the design stopped before proving it: the
+    best design found, with the proven bound and gap (None for a proven or an unknown run)."""
+    if sizing is None or sizing.get("status") != "time_limit":
+        return None
+    gap = as_float(sizing.get("gap"))
+    within = (
+        f"; the proven bound leaves a gap of {100 * gap:.3g} % to the optimum"
+        if gap is not None and math.isfinite(gap)
+        else "; how far it is from the optimum is not known"
+    )
+    return (
+        "The sizing search stopped at its time limit: this design is the best found, not a "
+        f"proven optimum{within} (see “How the design was chosen”). Run it again with a longer "
+        "limit before relying on it."
+    )
+
+
 def summary_section(
-    a: dict, fig_dir: Path, *, frontier: dict | None = None, sensitivity: dict | None = None
+    a: dict,
+    fig_dir: Path,
+    *,
+    frontier: dict | None = None,
+    sensitivity: dict | None = None,
+    sizing: dict | None = None,
 ) -> Section:
-    """The one-page summary (see the module docstring)."""
+    """The one-page summary (see the module docstring); ``sizing``: the JSON form of the sizing
+    result that chose the design, when the report has it (a stopped search is said)."""
     words, ok = _verdict(a)
+    note = search_note(sizing)
+    if note is not None:
+        words = f"{words} {note}"
+        ok = False
     parts = [
         f'<div class="{"verdict" if ok else "verdict bad"}">{paragraph(words)}</div>',
         "<h3>Decision: the actuator of each joint</h3>",

@@ -267,8 +267,6 @@ class BiObjectiveSearch(FrontArchive):
         p = np.minimum(b["objective"], self.cap)
         if self.levels is not None and opts.size:
             p = np.minimum(p, self.levels.bound(idx, unit, opts, self.st))
-        if self.stance is not None and opts.size:
-            p = np.minimum(p, self.stance.bound(idx, unit, opts))
         keep = b["ok"] & (p > -np.inf)
         if self.metric in SEPARABLE or self.metric == "backdrive_force":
             # total mass or cost: the assigned joints' values plus each free joint's least one
@@ -291,6 +289,12 @@ class BiObjectiveSearch(FrontArchive):
                 mb = np.minimum(mb, bounds["objective"])
             ok &= ~self.dominated(p, mb)
             opts, p, mb = opts[ok], p[ok], mb[ok]
+        if self.stance is not None and opts.size:
+            # the stance programs (a linear program per option group, per option at the last
+            # joints) last, on the boxes the cheaper bounds left undominated
+            p = np.minimum(p, self.stance.bound(idx, unit, opts))
+            keep = (p > -np.inf) & ~self.dominated(p, mb)
+            opts, p, mb = opts[keep], p[keep], mb[keep]
         order = np.lexsort((opts, -mb, -p))
         return opts[order], p[order], mb[order]
 

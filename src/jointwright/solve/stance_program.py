@@ -217,13 +217,16 @@ class StanceProgram:
         self.cost = cost
         #: the joint of each mass–torque envelope row, −1 for every other row
         self.envelope_of = np.concatenate(joint_of).astype(np.int64)
-        #: the bound when the program is infeasible: some objective case holds nothing in
-        #: every completion, or a payload minimum is out of reach (no feasible completion)
+        #: the bound when the program is infeasible: in every completion some case either
+        #: misses its payload minimum (no feasible design) or, without one, holds nothing
+        #: (objective ≤ its carried payload at zero force); −inf when every objective case has
+        #: a minimum
         self.none = max(
             (
                 float(carried_payload_of(c, 0.0))
                 for c in self.cases
-                if objective is None or c.name in objective
+                if (objective is None or c.name in objective)
+                and not c.limits.get("payload_min", 0.0) > 0
             ),
             default=-math.inf,
         )
