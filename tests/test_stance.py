@@ -9,9 +9,9 @@ only enlarge the set of admissible contact forces (a cone contains its axis).
 from __future__ import annotations
 
 import dataclasses
+import math
 from importlib import resources
 
-import numpy as np
 import pinocchio as pin
 import pytest
 
@@ -212,3 +212,27 @@ def test_friction_use_per_foot_agrees_with_the_slipping_count(quadruped):
         assert all(0.0 <= u <= 1.0 + 1e-6 for u in use)
         at_limit = sum(u > 1.0 - 1e-4 for u in use)
         assert at_limit == case.metrics["slipping_contacts"]
+
+
+def test_normal_force_is_along_the_contact_normal_on_a_slope(quadruped):
+    """Every foot on a 15° slope (each contact normal tilted by θ about the x axis) and the
+    load vertical: the contact forces sum to a vertical force W (translational statics of the
+    whole robot), so the forces along the common normal n sum to n·W = cos θ·W. The assessment's
+    ``normal_force`` must be that component, not the vertical one [rigid-body statics]."""
+    from jointwright.assessment import assess
+
+    project, design = quadruped
+    theta = math.radians(15.0)
+    n = (0.0, math.sin(theta), math.cos(theta))
+    stand = project.case("stand-carry")
+    slope = dataclasses.replace(
+        stand, name="slope", contacts=tuple((f, mu, n) for f, mu, _ in stand.contacts)
+    )
+    p = dataclasses.replace(project, cases=(slope,))
+    ev = Evaluator(p).evaluate(arrays_from_designs([design]))["slope"]
+    assert ev["self_supporting"][0] and ev["payload"][0] > 0
+    vertical = float(ev["contact_force_z"][0].sum())
+    metrics = next(c for c in assess(p, design).cases if c.name == "slope").metrics
+    normal = sum(metrics[f"normal_force:{f}"] for f, _, _ in slope.contacts)
+    assert normal == pytest.approx(math.cos(theta) * vertical, rel=1e-5)
+    assert normal < vertical * 0.97  # the vertical sum would be wrong by 1 − cos 15° ≈ 3.4 %

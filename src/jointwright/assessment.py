@@ -182,8 +182,8 @@ def assess(project, design: Design, evaluator: Evaluator | None = None) -> Asses
             elif k.endswith("_limiting_joint"):
                 idx = int(v.reshape(-1)[0])
                 metrics[k] = names[idx] if idx >= 0 else None
-            elif k in ("contact_force_z", "friction_use"):
-                name = "normal_force" if k == "contact_force_z" else k
+            elif k in ("contact_force_normal", "friction_use"):
+                name = "normal_force" if k == "contact_force_normal" else k
                 for (frame, _, _), f in zip(case.contacts, v.reshape(-1), strict=True):
                     metrics[f"{name}:{frame}"] = float(f)
             elif k == "joint_torque":

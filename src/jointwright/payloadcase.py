@@ -169,10 +169,11 @@ def stance_case(
             if share > 0:  # is it the share? the same joints, any distribution of the load
                 loose = solve_batch(**statics, tau_low=lo_all, tau_high=hi_all)
                 out["holds_without_share"] = loose.status == "optimal"
-        out["contact_force_z"] = res.contact_forces[..., 2]
+        out["contact_force_z"] = res.contact_forces[..., 2]  # the vertical (world z) part
         out["slipping_contacts"] = res.cone_binding.sum(axis=-1)
         # friction used: tangential force over μ·(normal force), 1 at the cone (about to slip)
         f_n = np.einsum("...kc,kc->...k", res.contact_forces, normals)
+        out["contact_force_normal"] = f_n  # along each contact's own normal (a slope's too)
         f_t = np.linalg.norm(res.contact_forces - f_n[..., None] * normals, axis=-1)
         with np.errstate(divide="ignore", invalid="ignore"):
             out["friction_use"] = np.where(

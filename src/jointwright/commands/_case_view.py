@@ -141,7 +141,7 @@ def print_case(con: Console, c, a, cases: dict, revolute: dict) -> None:
         ]
     if c.kind == "stance":
         rows += [
-            [f"ground force on {k.split(':', 1)[1]} (vertical)", num(v, "N")]
+            [f"normal force on {k.split(':', 1)[1]} (along its contact normal)", num(v, "N")]
             for k, v in c.metrics.items()
             if k.startswith("normal_force:")
         ]
