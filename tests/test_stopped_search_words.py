@@ -42,3 +42,40 @@ def test_a_stopped_run_names_its_design_best_found(monkeypatch):
     assert res.status == "time_limit"
     assert res.design.name == "best payload found (not proven)"
     assert math.isfinite(res.gap) and res.gap == pytest.approx(0.05, rel=1e-3)
+
+
+def test_a_best_alone_from_a_stopped_search_is_marked_as_a_bound():
+    """The diagnosis's "best alone" of an IMF limit comes from a search of its own; when that
+    search stops at its time share its bound is no design's value: ``best_proven`` is False and
+    the table marks it "≤" (its margin alone "≤" too); a finished search's value is unmarked."""
+    from types import SimpleNamespace
+
+    from jointwright.commands.size import bound_mark
+    from jointwright.project import load_example
+    from jointwright.sizing import build_model
+    from jointwright.solve.explain import diagnose
+
+    leg = load_example("leg")
+    p = dataclasses.replace(
+        leg,
+        cases=tuple(
+            dataclasses.replace(c, limits={"imf_min": 0.9}) if c.name == "touchdown" else c
+            for c in leg.cases
+        ),
+    )
+    model, _ = build_model(p, "payload", {}, [], [])
+    for status, proven in (("time_limit", False), ("optimal", True)):
+
+        def resolve(project, kind, table=None, time_limit=None, status=status):
+            # the IMF alone: 0.5 found, 0.95 its bound; every other re-solve: nothing
+            if kind.startswith("imf@"):
+                return SimpleNamespace(status=status, objective=0.5, bound=0.95, index=[0])
+            return SimpleNamespace(
+                status="infeasible", objective=-math.inf, bound=-math.inf, index=None
+            )
+
+        rows = diagnose(p, model, "payload", None, resolve=resolve)
+        row = next(d for d in rows if d.requirement == "touchdown: imf min")
+        assert row.best_proven is proven
+        assert row.best_achievable == pytest.approx(0.95 if not proven else 0.5)
+        assert bound_mark(row) == ("" if proven else "≤ ")

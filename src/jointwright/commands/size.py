@@ -233,8 +233,10 @@ def print_result(r, project=None) -> None:
             [
                 d.requirement,
                 requirement_num(d.requirement, d.limit),
-                requirement_num(d.requirement, d.best_achievable),
-                "—" if d.shortfall != d.shortfall else pct(-d.shortfall),
+                bound_mark(d) + requirement_num(d.requirement, d.best_achievable),
+                "—"
+                if d.shortfall != d.shortfall
+                else ("" if d.best_proven else "≤ ") + pct(-d.shortfall),
                 ("still infeasible" if d.relaxed_proven else "not solved in its time")
                 if d.relaxed_objective is None
                 else num(d.relaxed_objective, unit)
@@ -249,6 +251,9 @@ def print_result(r, project=None) -> None:
                 rows,
                 caption=(
                     "margin alone < 0: no design meets it even ignoring every other requirement; "
+                    "≤ or ≥: a bound, not a value some design reaches (the search for it alone "
+                    "ran out of its time share), so the margin alone is at most the one shown "
+                    "and the requirement may be out of reach even alone; "
                     "— : its best alone is not computed (no closed form: gear shock use, "
                     "directional IMF, gear life, a speed the no-load bound cannot rule out, or "
                     "no time left): the last column still says whether dropping it makes the "
@@ -257,6 +262,14 @@ def print_result(r, project=None) -> None:
                 ),
             )
         )
+
+
+def bound_mark(d) -> str:
+    """ "≤ " before a best-alone value that is only an upper bound (a minimum requirement), "≥ "
+    for a maximum one (the least value found bounds it from below); "" for a reached value."""
+    if d.best_proven:
+        return ""
+    return "≥ " if d.requirement.endswith(" max") else "≤ "
 
 
 def _better(loss) -> bool:

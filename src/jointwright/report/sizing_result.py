@@ -107,12 +107,16 @@ def runner_ups_section(
         u = units.get(label, "")
         scale = 100.0 if u == "%" else 1.0  # rating uses are fractions, shown in %
         best = optional(r, "best_achievable", file, where)
+        # a bound, not a value some design reaches: marked (and its shortfall is at least that)
+        bound = r.get("best_proven", True) is False and best is not None
+        mark = ("≥ " if label.endswith(" max") else "≤ ") if bound else ""
+        short = pct(optional(r, "shortfall", file, where))
         diag.append(
             [
                 label,
                 Cell(fmt(scale * need(r, "limit", float, file, where), u), "num"),
-                Cell(fmt(None if best is None else scale * best, u), "num"),
-                Cell(pct(optional(r, "shortfall", file, where)), "num"),
+                Cell(mark + fmt(None if best is None else scale * best, u), "num"),
+                Cell(("≥ " if bound and short != "—" else "") + short, "num"),
                 Cell(fmt(optional(r, "relaxed_objective", file, where), unit), "num"),
             ]
         )
@@ -129,10 +133,12 @@ def runner_ups_section(
                 ],
                 diag,
                 caption="One requirement at a time: its best value over all options (shortfall "
-                "relative to the limit; ≤ 0 means it alone can be met), and what dropping it "
-                "buys. —: not computed (no closed form: gear shock use, directional IMF, gear "
-                "life, or no time left); a speed is shown only when even the no-load bound (an "
-                "upper bound, not a speed a design reaches) falls short of the limit.",
+                "relative to the limit; ≤ 0 means it alone can be met, unless the value is "
+                "marked ≤ or ≥: a bound from a search stopped by its time share, not a value "
+                "some design reaches, so the shortfall is at least the one shown), and what "
+                "dropping it buys. —: not computed (no closed form: gear shock use, directional "
+                "IMF, gear life, or no time left); a speed is shown only when even the no-load "
+                "bound (an upper bound, not a speed a design reaches) falls short of the limit.",
             )
         )
     return Section(

@@ -253,8 +253,15 @@ def relax(project, subject: str, key: str):
     return dataclasses.replace(project, cases=cases)
 
 
-def _alone(project, model, subject, key, limit, seconds, solve_value: Resolve) -> float:
-    """Best value of one requirement over all options, ignoring every other requirement."""
+def _alone(project, model, subject, key, limit, seconds, solve_value: Resolve):
+    """(best value of one requirement over all options, ignoring every other requirement;
+    whether a design reaches it: False when it is only an upper bound)."""
+    best = _alone_value(project, model, subject, key, limit, seconds, solve_value)
+    return best if isinstance(best, tuple) else (best, True)
+
+
+def _alone_value(project, model, subject, key, limit, seconds, solve_value: Resolve):
+    """:func:`_alone`'s value, or (value, reached) where it may be a bound."""
 
     r = model.table.rows
     if subject == "robot" and key == "life_min":
@@ -287,7 +294,8 @@ def _alone(project, model, subject, key, limit, seconds, solve_value: Resolve) -
             bare, cases=(dataclasses.replace(case, limits={}, fixed_load=0.0, payload_share=1.0),)
         )
         res = solve_value(one, "payload", table=model.table, time_limit=seconds)
-        return res.bound * STANDARD_GRAVITY  # kg carried with share 1, no fixed load -> N
+        # kg carried with share 1, no fixed load -> N; a stopped search's bound is no design's
+        return res.bound * STANDARD_GRAVITY, res.status == "optimal"
     if key == "backdrive_force_max":
         absa = next(a for a, _f in model.backdrive)
         with np.errstate(divide="ignore"):
@@ -300,7 +308,7 @@ def _alone(project, model, subject, key, limit, seconds, solve_value: Resolve) -
             bound = float(np.min(np.where(a > 0, best / a, np.inf)))
         # the no-load speed bounds the loaded one from above: shown only when even it falls
         # short (a proof that no design meets the limit), never as a speed a design reaches
-        return bound if bound < limit else math.nan
+        return (bound, False) if bound < limit else math.nan
     if key in ("imf_min", "effective_mass_max") and case.kind == "impact" and seconds > 0:
         # the measure itself as the objective over every option, with no other requirement: its
         # optimum, or the search's proven bound when the time runs out (never short of the best)
@@ -312,10 +320,12 @@ def _alone(project, model, subject, key, limit, seconds, solve_value: Resolve) -
             objective={},
         )
         res = solve_value(bare, f"{metric}@{subject}", table=model.table, time_limit=seconds)
-        value = res.objective if res.status == "optimal" else res.bound
+        reached = res.status == "optimal"
+        value = res.objective if reached else res.bound
         if not math.isfinite(value):
             return math.nan
-        return float(value) if metric == "imf" else -float(value)  # the search maximizes −m
+        # the search maximizes −m for the effective mass
+        return (float(value) if metric == "imf" else -float(value)), reached
     return math.nan  # no closed form (directional IMF, shock, life): see the relaxation column
 
 
@@ -351,7 +361,7 @@ def diagnose(
     for i, (subject, key, limit) in enumerate(reqs):
         share = (budget_end - time.perf_counter()) / (2 * (len(reqs) - i))
         seconds = min(DIAGNOSIS_SECONDS, max(share, 0.0))
-        best = _alone(project, model, subject, key, limit, seconds, resolve)
+        best, reached = _alone(project, model, subject, key, limit, seconds, resolve)
         scale = abs(limit) if limit else 1.0
         if math.isnan(best):
             short = math.nan
@@ -372,6 +382,8 @@ def diagnose(
             if res.index is not None:
                 rel = sense_ * (res.objective if proven else res.bound)
         out.append(
-            Diagnosis(f"{subject}: {key.replace('_', ' ')}", limit, best, short, rel, proven)
+            Diagnosis(
+                f"{subject}: {key.replace('_', ' ')}", limit, best, short, rel, proven, reached
+            )
         )
     return tuple(out)

@@ -80,6 +80,9 @@ class Diagnosis:
         float | None
     )  # optimum with only this requirement dropped (None: infeasible or no time)
     relaxed_proven: bool = True  # False: the re-solve ran out of time and this is its bound
+    #: False: ``best_achievable`` is an upper bound (a search stopped by its time share, or the
+    #: no-load speed), not a value some design reaches; the requirement may be out of reach
+    best_proven: bool = True
 
 
 @dataclass(frozen=True)
