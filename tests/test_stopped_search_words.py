@@ -50,8 +50,8 @@ def test_a_best_alone_from_a_stopped_search_is_marked_as_a_bound():
     the table marks it "≤" (its margin alone "≤" too); a finished search's value is unmarked."""
     from types import SimpleNamespace
 
-    from jointwright.commands.size import bound_mark
     from jointwright.project import load_example
+    from jointwright.report.wording import bound_mark
     from jointwright.sizing import build_model
     from jointwright.solve.explain import diagnose
 
@@ -78,4 +78,4 @@ def test_a_best_alone_from_a_stopped_search_is_marked_as_a_bound():
         row = next(d for d in rows if d.requirement == "touchdown: imf min")
         assert row.best_proven is proven
         assert row.best_achievable == pytest.approx(0.95 if not proven else 0.5)
-        assert bound_mark(row) == ("" if proven else "≤ ")
+        assert bound_mark(row.requirement, row.best_proven) == ("" if proven else "≤ ")

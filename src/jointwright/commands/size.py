@@ -19,6 +19,7 @@ from ..objective import check_gap
 from ..project import load_project
 from ..report.markup import as_float
 from ..report.wording import (
+    bound_mark,
     carried_text,
     gap_text,
     objective_change,
@@ -233,7 +234,8 @@ def print_result(r, project=None) -> None:
             [
                 d.requirement,
                 requirement_num(d.requirement, d.limit),
-                bound_mark(d) + requirement_num(d.requirement, d.best_achievable),
+                bound_mark(d.requirement, d.best_proven)
+                + requirement_num(d.requirement, d.best_achievable),
                 "—"
                 if d.shortfall != d.shortfall
                 else ("" if d.best_proven else "≤ ") + pct(-d.shortfall),
@@ -262,14 +264,6 @@ def print_result(r, project=None) -> None:
                 ),
             )
         )
-
-
-def bound_mark(d) -> str:
-    """ "≤ " before a best-alone value that is only an upper bound (a minimum requirement), "≥ "
-    for a maximum one (the least value found bounds it from below); "" for a reached value."""
-    if d.best_proven:
-        return ""
-    return "≥ " if d.requirement.endswith(" max") else "≤ "
 
 
 def _better(loss) -> bool:

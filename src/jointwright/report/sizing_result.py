@@ -14,7 +14,7 @@ from .markup import (
     pct,
     table,
 )
-from .wording import gap_text, objective_change, unknown_gap
+from .wording import bound_mark, gap_text, objective_change, unknown_gap
 
 #: unit of the sizing objective per kind (payload mass kg, total mass kg, cost in the catalog's
 #: currency, IMF and normalized margin dimensionless)
@@ -109,7 +109,7 @@ def runner_ups_section(
         best = optional(r, "best_achievable", file, where)
         # a bound, not a value some design reaches: marked (and its shortfall is at least that)
         bound = r.get("best_proven", True) is False and best is not None
-        mark = ("≥ " if label.endswith(" max") else "≤ ") if bound else ""
+        mark = bound_mark(label, not bound)
         short = pct(optional(r, "shortfall", file, where))
         diag.append(
             [

@@ -375,7 +375,7 @@ def search_note(sizing: dict | None) -> str | None:
     gap = as_float(sizing.get("gap"))
     within = (
         f"; the proven bound leaves a gap of {100 * gap:.3g} % to the optimum"
-        if gap is not None and math.isfinite(gap)
+        if math.isfinite(gap)
         else "; how far it is from the optimum is not known"
     )
     return (

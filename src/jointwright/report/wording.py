@@ -96,6 +96,15 @@ def without_stroke(kind: str, metrics: dict, *, minus: str = "-") -> str:
     return text + "; set stroke to check the speed reached within a distance"
 
 
+def bound_mark(requirement: str, reached: bool) -> str:
+    """The mark before a diagnosis's best-alone value (solve.result.Diagnosis.best_proven): ""
+    for a value some design reaches; for a bound, "≤ " on a minimum requirement (an upper bound)
+    and "≥ " on a maximum one ("… max": the least value found bounds it from below)."""
+    if reached:
+        return ""
+    return "≥ " if requirement.endswith(" max") else "≤ "
+
+
 def shock_share(has_gear: bool, use, torque, repeated_peak, percent: Callable[[float], str]):
     """A joint's share of its gear's rating at an impact, in words: of the momentary rating;
     with no momentary rating, how far the torque exceeds the repeated-peak rating when it does

@@ -256,20 +256,12 @@ def relax(project, subject: str, key: str):
 def _alone(project, model, subject, key, limit, seconds, solve_value: Resolve):
     """(best value of one requirement over all options, ignoring every other requirement;
     whether a design reaches it: False when it is only an upper bound)."""
-    best = _alone_value(project, model, subject, key, limit, seconds, solve_value)
-    return best if isinstance(best, tuple) else (best, True)
-
-
-def _alone_value(project, model, subject, key, limit, seconds, solve_value: Resolve):
-    """:func:`_alone`'s value, or (value, reached) where it may be a bound."""
-
     r = model.table.rows
     if subject == "robot" and key == "life_min":
-        return math.nan  # coupled through every actuator's mass: see the relaxation column
+        return math.nan, True  # coupled through every actuator's mass: see the relaxation column
     if subject == "robot":
-        return sum(
-            float(r["mass" if key == "total_mass_max" else "cost"].min()) for _ in range(model.n)
-        )
+        lightest = float(r["mass" if key == "total_mass_max" else "cost"].min())
+        return sum(lightest for _ in range(model.n)), True
     if key in [f.name for f in dataclasses.fields(JointLimits)]:
         values = {
             "mass_max": r["mass"],
@@ -279,7 +271,7 @@ def _alone_value(project, model, subject, key, limit, seconds, solve_value: Reso
             "ratio_min": r["ratio"],
             "ratio_max": r["ratio"],
         }[key]
-        return float(values.max() if key == "ratio_min" else values.min())
+        return float(values.max() if key == "ratio_min" else values.min()), True
     case = project.case(subject)
     if key == "payload_min":
         bare = dataclasses.replace(
@@ -289,7 +281,7 @@ def _alone_value(project, model, subject, key, limit, seconds, solve_value: Reso
             objective={},
         )
         if seconds <= 0:
-            return math.nan
+            return math.nan, True
         one = dataclasses.replace(
             bare, cases=(dataclasses.replace(case, limits={}, fixed_load=0.0, payload_share=1.0),)
         )
@@ -299,7 +291,7 @@ def _alone_value(project, model, subject, key, limit, seconds, solve_value: Reso
     if key == "backdrive_force_max":
         absa = next(a for a, _f in model.backdrive)
         with np.errstate(divide="ignore"):
-            return float(np.min(np.where(absa > 0, model.breakaway.min() / absa, np.inf)))
+            return float(np.min(np.where(absa > 0, model.breakaway.min() / absa, np.inf))), True
     if key == "speed_min":
         pc = next(p for p in model.evaluator.cases if p.case.name == subject)
         a = np.abs(np.linalg.pinv(pc.Jj) @ (pc.u / np.linalg.norm(pc.u)))
@@ -308,7 +300,7 @@ def _alone_value(project, model, subject, key, limit, seconds, solve_value: Reso
             bound = float(np.min(np.where(a > 0, best / a, np.inf)))
         # the no-load speed bounds the loaded one from above: shown only when even it falls
         # short (a proof that no design meets the limit), never as a speed a design reaches
-        return (bound, False) if bound < limit else math.nan
+        return (bound, False) if bound < limit else (math.nan, True)
     if key in ("imf_min", "effective_mass_max") and case.kind == "impact" and seconds > 0:
         # the measure itself as the objective over every option, with no other requirement: its
         # optimum, or the search's proven bound when the time runs out (never short of the best)
@@ -323,10 +315,13 @@ def _alone_value(project, model, subject, key, limit, seconds, solve_value: Reso
         reached = res.status == "optimal"
         value = res.objective if reached else res.bound
         if not math.isfinite(value):
-            return math.nan
+            return math.nan, True
         # the search maximizes −m for the effective mass
         return (float(value) if metric == "imf" else -float(value)), reached
-    return math.nan  # no closed form (directional IMF, shock, life): see the relaxation column
+    return (
+        math.nan,
+        True,
+    )  # no closed form (directional IMF, shock, life): see the relaxation column
 
 
 def diagnose(

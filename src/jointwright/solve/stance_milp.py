@@ -30,11 +30,10 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-import scipy.sparse as sp
 
 from .milp_matrix import Rows, payload_rows
 from .model import unit_options
-from .stance_program import ABS_SLACK, REL_SLACK
+from .stance_program import ABS_SLACK, REL_SLACK, highs_model
 
 #: finite stand-in for an infinite torque bound (N·m) in a coefficient; no real joint nears it
 BIG = 1e9
@@ -58,10 +57,11 @@ class StanceMilpOutcome:
 
 
 def stance_milp_models(model) -> bool:
-    """Whether the MILP bounds ``model``'s objective: the payload objective, some stance case
-    among the cases that set it. Other requirements (an IMF or speed limit, a duty cycle) are
-    not rows: the MILP's design is scored in full, and its bound holds regardless."""
-    return model.kind == "payload" and model.measure is None and bool(model.stance_bounded)
+    """Whether the MILP bounds ``model``'s objective: the payload objective with stance cases in
+    the programs (``SizingModel.stance_bounded``, empty under any other objective). Other
+    requirements (an IMF or speed limit, a duty cycle) are not rows: the MILP's design is scored
+    in full, and its bound holds regardless."""
+    return bool(model.stance_bounded)
 
 
 def fits(bound, units) -> bool:
@@ -77,8 +77,6 @@ def solve_stance_milp(
     :class:`.stance_bound.StanceBound`), for ``time_limit`` seconds, from the design ``start``
     (n,) when given; ``gap``: HiGHS's relative MIP gap."""
     import highspy
-
-    from .pyomo_backend import quiet_stdout
 
     program, model = bound.program, bound.model
     n = model.n
@@ -127,31 +125,13 @@ def solve_stance_milp(
     col_lo = np.concatenate([col_lo, np.full(grow, -np.inf)])
     col_hi = np.concatenate([col_hi, np.full(grow, np.inf)])
     con = rows.constraint(width)
-    a = sp.csc_array(con.A)
-    with quiet_stdout(discard=True):
-        h = highspy.Highs()
-    h.setOptionValue("output_flag", False)
+    cost = np.zeros(width)
+    cost[program.t_col] = 1.0  # maximize t (the program itself may only test feasibility)
+    integer = np.zeros(width, dtype=bool)
+    integer[base : base + nx] = True
+    h = highs_model(highspy, cost, col_lo, col_hi, con.A, con.lb, con.ub, integer)
     h.setOptionValue("time_limit", max(float(time_limit), 1e-3))
     h.setOptionValue("mip_rel_gap", float(gap))
-    lp = highspy.HighsLp()
-    lp.num_col_, lp.num_row_ = a.shape[1], a.shape[0]
-    cost = np.zeros(a.shape[1])
-    cost[program.t_col] = 1.0  # maximize t (the program itself may only test feasibility)
-    lp.col_cost_ = cost
-    lp.col_lower_, lp.col_upper_ = col_lo, col_hi
-    lp.row_lower_ = np.asarray(con.lb, dtype=float)
-    lp.row_upper_ = np.asarray(con.ub, dtype=float)
-    lp.sense_ = highspy.ObjSense.kMaximize
-    lp.a_matrix_.format_ = highspy.MatrixFormat.kColwise
-    lp.a_matrix_.start_ = a.indptr.astype(np.int32)
-    lp.a_matrix_.index_ = a.indices.astype(np.int32)
-    lp.a_matrix_.value_ = a.data.astype(float)
-    lp.integrality_ = (
-        [highspy.HighsVarType.kContinuous] * base
-        + [highspy.HighsVarType.kInteger] * nx
-        + [highspy.HighsVarType.kContinuous] * grow
-    )
-    h.passModel(lp)
     if start is not None:
         where = []
         for k, u in enumerate(units):

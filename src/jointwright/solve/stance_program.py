@@ -230,7 +230,7 @@ class StanceProgram:
             ),
             default=-math.inf,
         )
-        self.h = _highs(
+        self.h = highs_model(
             highspy,
             cost,
             col_lo,
@@ -315,29 +315,31 @@ def carried_payload_of(case, force: float) -> float:
     return float(carried_payload(case, force))
 
 
-def _highs(highspy, cost, col_lo, col_hi, a, row_lo, row_hi):
-    """A HiGHS object holding max cost·x over the rows and column bounds (quiet, dense → CSC);
+def highs_model(highspy, cost, col_lo, col_hi, a, row_lo, row_hi, integer=None):
+    """A HiGHS object holding max cost·x over the rows and column bounds (quiet; ``a`` dense or
+    scipy.sparse, passed column-wise; ``integer``: a mask of the integer columns, for a MILP);
     its start-up banner is discarded, as the hand-over's is (its log is off)."""
+    import scipy.sparse as sp
+
     from .pyomo_backend import quiet_stdout
 
     with quiet_stdout(discard=True):
         h = highspy.Highs()
     h.setOptionValue("output_flag", False)
+    a = sp.csc_array(a)
+    a.sort_indices()
     lp = highspy.HighsLp()
     lp.num_col_, lp.num_row_ = a.shape[1], a.shape[0]
     lp.col_cost_ = cost
     lp.col_lower_, lp.col_upper_ = col_lo, col_hi
     lp.row_lower_, lp.row_upper_ = row_lo, row_hi
     lp.sense_ = highspy.ObjSense.kMaximize
-    start, index, value = [0], [], []
-    for j in range(a.shape[1]):
-        nz = np.flatnonzero(a[:, j])
-        index.extend(nz.tolist())
-        value.extend(a[nz, j].tolist())
-        start.append(len(index))
     lp.a_matrix_.format_ = highspy.MatrixFormat.kColwise
-    lp.a_matrix_.start_ = np.array(start, dtype=np.int32)
-    lp.a_matrix_.index_ = np.array(index, dtype=np.int32)
-    lp.a_matrix_.value_ = np.array(value, dtype=float)
+    lp.a_matrix_.start_ = a.indptr.astype(np.int32)
+    lp.a_matrix_.index_ = a.indices.astype(np.int32)
+    lp.a_matrix_.value_ = a.data.astype(float)
+    if integer is not None:
+        kinds = (highspy.HighsVarType.kContinuous, highspy.HighsVarType.kInteger)
+        lp.integrality_ = [kinds[int(i)] for i in integer]
     h.passModel(lp)
     return h
