@@ -291,8 +291,10 @@ class BiObjectiveSearch(FrontArchive):
             opts, p, mb = opts[ok], p[ok], mb[ok]
         if self.stance is not None and opts.size:
             # the stance programs (a linear program per option group, per option at the last
-            # joints) last, on the boxes the cheaper bounds left undominated
-            p = np.minimum(p, self.stance.bound(idx, unit, opts))
+            # joints) last, on the boxes the cheaper bounds left undominated; at the last joints
+            # an option whose group bound already puts its box below the front's floor keeps
+            # that bound (dominated) instead of its own program
+            p = np.minimum(p, self.stance.bound(idx, unit, opts, self.payload_floor(mb)))
             keep = (p > -np.inf) & ~self.dominated(p, mb)
             opts, p, mb = opts[keep], p[keep], mb[keep]
         order = np.lexsort((opts, -mb, -p))

@@ -118,6 +118,23 @@ class FrontArchive:
         best = np.where(inside, self.fm[np.minimum(k, self.fp.size - 1)], -np.inf)
         return out | (inside & (best >= m - _mtol_arr(m)))
 
+    def payload_floor(self, m: np.ndarray) -> np.ndarray:
+        """Per measure bound ``m``: a payload at or below which a box (p, m) is dominated
+        (:meth:`dominated`; −inf when no payload is). The front point of largest payload whose
+        measure is at least as good as m, or the incumbent when it beats m strictly; the payload
+        tolerance of :meth:`dominated` is left out, so a box at the floor may still be
+        dominated, never the other way round."""
+        m = np.asarray(m, dtype=float)
+        out = np.full(m.shape, -np.inf)
+        if self.inc is not None:
+            ip, im = self.inc
+            out = np.where(m < im - _mtol(im), ip, out)
+        if self.fp.size:
+            # measures descend along the front: the first k points are those at least as good
+            k = np.searchsorted(-self.fm, -(m - _mtol_arr(m)), side="right")
+            out = np.maximum(out, np.where(k > 0, self.fp[np.maximum(k - 1, 0)], -np.inf))
+        return out
+
     def dominated1(self, p: float, m: float) -> bool:
         """:meth:`dominated` for one box."""
         if self.inc is not None:

@@ -179,14 +179,14 @@ class StanceBound:
             bound = bound.restricted(cands)
         return list(bound.candidates), bound
 
-    def bound(self, idx: np.ndarray, unit, options: np.ndarray, floor: float | None = None, lead=0):
+    def bound(self, idx: np.ndarray, unit, options: np.ndarray, floor=None, lead=0):
         """An upper bound on the payload objective's stance part (the least over stance cases of
         the carried payload): a number for every completion of ``idx`` when ``unit`` is empty,
         else one per option in ``options`` for every completion with the unit at that option.
         Each option's bound is its group's, lowered by that program's duals; the ``lead`` best
         (reaching ``floor``) are solved by their own programs. At the last joints every
         option reaching ``floor`` is solved by its own program (the others keep their group's,
-        valid, bound)."""
+        valid, bound). ``floor``: a payload, or one per option."""
         model = self.model
         unit = list(unit)
         options = np.asarray(options, dtype=np.int64)
@@ -200,7 +200,7 @@ class StanceBound:
             if lead > 0:  # the leading options by their group's duals: their own programs
                 ahead = np.lexsort((model.mass[options], -out))[:lead]
                 if floor is not None:
-                    ahead = ahead[out[ahead] >= floor]
+                    ahead = ahead[out[ahead] >= np.broadcast_to(floor, out.shape)[ahead]]
                 if ahead.size:
                     own = self.group_bounds(idx, unit, options[ahead], np.arange(ahead.size))
                     out[ahead] = np.minimum(out[ahead], own)
