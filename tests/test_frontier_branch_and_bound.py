@@ -207,3 +207,56 @@ def test_incumbent_of_largest_payload_and_worst_measure_keeps_the_front(leg, see
     out = search.run()
     assert out.complete
     same_front([(q[0], q[1]) for q in out.points], brute_front(p, measure, case))
+
+
+def test_text_plot_never_writes_a_number_over_another():
+    """71 points on a 64-column plot (the size of the bundled quadruped's front): every label
+    written is one of the points' numbers with a blank cell on each side, the rest are drawn as
+    • and counted in the caption."""
+    import re
+    from types import SimpleNamespace
+
+    from jointwright.commands.frontier_text import plot_text
+
+    n = 71
+    points = [
+        SimpleNamespace(payload=119.0 - 1.5 * k, measure=0.28 + 0.0075 * k) for k in range(n)
+    ]
+    f = SimpleNamespace(points=points, sense="min", knee=17, measure="imf", case="touchdown")
+    text = plot_text(f)
+    body = [line[10:] for line in text.splitlines()[:16]]  # the grid, right of the axis
+    labels = [m.group(0) for line in body for m in re.finditer(r"\d+", line)]
+    assert labels and all(1 <= int(x) <= n for x in labels)
+    assert len(set(labels)) == len(labels)  # no two numbers run together into a third
+    assert "1" in labels and str(n) in labels and "◆" in text
+    dots = sum(line.count("•") for line in body)
+    assert dots > 0 and f"{n - 1 - len(labels)} of them" in text
+
+
+def test_figure_numbers_do_not_overlap():
+    """The figure of a dense front (71 points): the numbers written have disjoint boxes on the
+    page, both ends are numbered, and the ones left out are counted in the axes."""
+    import matplotlib
+
+    matplotlib.use("Agg")
+    from jointwright.report import figures
+
+    k = np.arange(71)
+    xs, ys = 0.28 + 0.0075 * k, 119.0 - 1.5 * k
+    fig = figures.frontier_figure(
+        {"catalog efficiencies": (xs, ys)},
+        None,
+        x_label="IMF",
+        y_label="payload (kg)",
+        title="front",
+        steps="pre",
+        numbered=True,
+    )
+    ax = fig.axes[0]
+    fig.canvas.draw()
+    notes = [t for t in ax.texts if t.get_text().isdigit()]
+    boxes = [t.get_window_extent() for t in notes]
+    assert {"1", "71"} <= {t.get_text() for t in notes}
+    assert all(not a.overlaps(b) for i, a in enumerate(boxes) for b in boxes[i + 1 :])
+    left = [t.get_text() for t in ax.texts if "left out" in t.get_text()]
+    assert left == [f"{71 - len(notes)} point numbers left out where they would overlap"]

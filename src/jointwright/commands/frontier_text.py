@@ -133,12 +133,7 @@ def plot_text(f, width: int = 64, height: int = 16) -> str:
             grid[r2][at] = "┼" if grid[r2][at] == "─" else "│"
         if ra != rb:  # the corner where the step turns
             grid[r][at] = "└" if f.sense == "min" else "┘"
-    for i in range(len(xs)):
-        label = "◆" if i == f.knee else str(i + 1)
-        r, c = row(ys[i]), col(xs[i])
-        c = min(c, width - len(label))
-        for k, ch in enumerate(label):
-            grid[r][c + k] = ch
+    omitted = _label_points(grid, f, [row(y) for y in ys], [col(x) for x in xs], width)
     unit = UNITS[f.measure]
     lines = []
     for r in range(height):
@@ -152,6 +147,7 @@ def plot_text(f, width: int = 64, height: int = 16) -> str:
         f"          payload (kg) against {measure_name(f)}{f' ({unit})' if unit else ''}"
         f"{at_case(f)}; "
         "numbers: the points of the table"
+        + (f" (• a point whose number would overlap another: {omitted} of them)" if omitted else "")
         + (
             "; ◆ the turning point of the trade-off" + (f" (point {f.knee + 1})")
             if f.knee is not None
@@ -159,3 +155,27 @@ def plot_text(f, width: int = 64, height: int = 16) -> str:
         )
     )
     return "\n".join(lines)
+
+
+def _label_points(grid: list, f, rows: list, cols: list, width: int) -> int:
+    """Write each point's number (◆ for the turning point) at its cell, keeping one blank cell
+    between labels: the turning point, the two ends, then the rest in the table's order; a
+    point whose label would touch one already written gets • instead. Returns how many did."""
+    n = len(rows)
+    taken: set[tuple[int, int]] = set()
+    first = [i for i in (f.knee, 0, n - 1) if i is not None]
+    order = list(dict.fromkeys(first + list(range(n))))
+    dots = []
+    for i in order:
+        label = "◆" if i == f.knee else str(i + 1)
+        r, c = rows[i], min(cols[i], width - len(label))
+        if any((r, k) in taken for k in range(c - 1, c + len(label) + 1)):
+            dots.append(i)
+            continue
+        for k, ch in enumerate(label):
+            grid[r][c + k] = ch
+            taken.add((r, c + k))
+    for i in dots:
+        if (rows[i], cols[i]) not in taken:
+            grid[rows[i]][cols[i]] = "•"
+    return len(dots)

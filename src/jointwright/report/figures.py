@@ -193,6 +193,44 @@ def study_figure(panels, *, y_label: str, title: str) -> Figure:
     return fig
 
 
+def _number_points(ax, xs: np.ndarray, ys: np.ndarray, fontsize: float = 7.0) -> None:
+    """Each point's number 1, 2, … beside it, the ends first, leaving out a number whose box
+    would overlap one already written (said in the axes' corner when any is left out)."""
+    ax.figure.canvas.draw()  # the data limits, so that positions on the page are final
+    at = ax.transData.transform(np.column_stack([xs, ys]))
+    px = fontsize * ax.figure.dpi / 72.0  # a character's height; its width about 0.6 of it
+    n = len(xs)
+    boxes: list[tuple[float, float, float, float]] = []
+    left_out = 0
+    for i in dict.fromkeys([0, n - 1, *range(n)]):
+        text = str(i + 1)
+        x0, y0 = at[i, 0] + 4 * px / fontsize, at[i, 1] + 4 * px / fontsize
+        box = (x0, y0, x0 + 0.6 * px * len(text), y0 + px)
+        if any(box[0] < b[2] and b[0] < box[2] and box[1] < b[3] and b[1] < box[3] for b in boxes):
+            left_out += 1
+            continue
+        boxes.append(box)
+        ax.annotate(
+            text,
+            (xs[i], ys[i]),
+            textcoords="offset points",
+            xytext=(4, 4),
+            fontsize=fontsize,
+            color="#2b4f77",
+        )
+    if left_out:
+        ax.text(
+            0.99,
+            0.01,
+            f"{left_out} point numbers left out where they would overlap",
+            transform=ax.transAxes,
+            ha="right",
+            va="bottom",
+            fontsize=fontsize,
+            color="#555555",
+        )
+
+
 def frontier_figure(
     series,
     knee=None,
@@ -224,15 +262,7 @@ def frontier_figure(
         )
         ax.plot(xs[order], ys[order], marker="o", label=label, drawstyle=f"steps-{steps}", **style)
         if k == 0 and numbered:
-            for i, (px, py) in enumerate(zip(xs, ys, strict=True)):
-                ax.annotate(
-                    str(i + 1),
-                    (px, py),
-                    textcoords="offset points",
-                    xytext=(4, 4),
-                    fontsize=7,
-                    color="#2b4f77",
-                )
+            _number_points(ax, xs, ys)
     if chosen is not None:
         ax.plot(*chosen, "o", ms=12, mfc="none", mec="#5b8c3a", mew=2.0, label="chosen design")
     if knee is not None:
