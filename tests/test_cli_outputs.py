@@ -264,10 +264,19 @@ def test_a_renamed_copy_of_an_unnamed_project_takes_its_own_sizing(tmp_path):
     end = text.index("\n[", start + 1)
     (d / "project.toml").write_text(text[:start] + text[end + 1 :])
     sizing = tmp_path / "size.json"
-    r = _run(["size", d / "project.toml", "--time-limit", "30", "--no-explain", "--json"])
+    r = _run(["size", d / "project.toml", "--time-limit", "30", "--no-explain", "--json",
+              "--out", d / "best.toml"])  # fmt: skip
     assert r.exit_code == 0, r.output
     sizing.write_text(r.output[r.output.index("{") :], encoding="utf-8")
     shutil.copy(d / "project.toml", d / "final.toml")
-    r = _run(["report", d / "final.toml", "--design", d / "design.toml", "--sizing", sizing,
+    r = _run(["report", d / "final.toml", "--design", d / "best.toml", "--sizing", sizing,
               "--out", tmp_path / "rep"])  # fmt: skip
     assert r.exit_code == 0, r.output
+    # the sizing's runner-ups and proof are about the design it chose: another design is
+    # refused, naming the first joint that differs, and no report is written
+    r = _run(["report", d / "final.toml", "--design", d / "design.toml", "--sizing", sizing,
+              "--out", tmp_path / "other"])  # fmt: skip
+    assert r.exit_code == 2 and "Traceback" not in r.output, r.output
+    words = " ".join(r.output.split())
+    assert f"{sizing}: assessment.joints[0].actuator: the sizing chose" in words
+    assert "at hip_ab, the design" in words and not (tmp_path / "other").exists()

@@ -260,3 +260,32 @@ def test_figure_numbers_do_not_overlap():
     assert all(not a.overlaps(b) for i, a in enumerate(boxes) for b in boxes[i + 1 :])
     left = [t.get_text() for t in ax.texts if "left out" in t.get_text()]
     assert left == [f"{71 - len(notes)} point numbers left out where they would overlap"]
+
+
+@pytest.mark.parametrize("sense", ["min", "max"])
+def test_turning_point_bulges_toward_the_ideal_corner(sense):
+    """The turning point lies on the ideal corner's side of the chord between the ends (most
+    payload, best measure), never on a sunken corner; a front with no point on that side has
+    none (definition: docs/frontier.md, "Turning point")."""
+    from types import SimpleNamespace
+
+    from jointwright.frontier_result import knee
+
+    # largest payload first, as the fronts are listed; the measure worsens with payload
+    better = 1.0 if sense == "min" else -1.0  # the measure's "better" direction
+    pay = [30.0, 29.0, 10.0, 9.0]
+
+    def front(measures):
+        return [SimpleNamespace(payload=a, measure=better * b) for a, b in zip(pay, measures)]
+
+    # a sharp bulge: one step of measure costs 1 kg, the next 19 kg; the turning point is the
+    # second point, not the sunken third
+    assert knee(front([0.0, 0.5, 0.6, 1.0]), sense) == 1
+    # the second point sunken (1 kg lost for no gain in measure) deeper than
+    # the third bulges: the third is the turning point (farthest by distance alone: the second)
+    assert knee(front([0.0, 0.0, 0.99, 1.0]), sense) == 2
+    # every inner point sunken: none
+    assert knee(front([0.0, 0.02, 0.9, 1.0]), sense) is None
+    # every point on the chord: no turning point
+    line = [SimpleNamespace(payload=30.0 - 10 * k, measure=better * k) for k in range(4)]
+    assert knee(line, sense) is None

@@ -224,7 +224,10 @@ def _points(found, dedupe: bool = True) -> tuple:
 
 
 def knee(points, sense: str) -> int | None:
-    """The point farthest from the chord between the two ends, both axes scaled to [0, 1]."""
+    """The turning point of the trade-off: with both axes scaled to [0, 1], the point farthest
+    from the chord between the two ends on the side of the ideal corner (most payload, best
+    measure); None for fewer than three points or when no point lies on that side (a front
+    that sags: no step trades better than the straight line between its ends)."""
     if len(points) < 3:
         return None
     p = [pt.payload for pt in points]
@@ -237,10 +240,16 @@ def knee(points, sense: str) -> int | None:
     ys = [(v - min(m)) / span_m for v in m]
     (x0, y0), (x1, y1) = (xs[0], ys[0]), (xs[-1], ys[-1])
     norm = math.hypot(x1 - x0, y1 - y0) or 1.0
-    dist = [
-        abs((x1 - x0) * (y0 - y) - (x0 - x) * (y1 - y0)) / norm for x, y in zip(xs, ys, strict=True)
-    ]
-    return int(max(range(len(points)), key=lambda i: (dist[i], -i)))
+
+    def side(x: float, y: float) -> float:
+        return ((x1 - x0) * (y - y0) - (y1 - y0) * (x - x0)) / norm
+
+    # the ideal corner: the largest payload, and the largest measure when larger is better
+    # (sense "min": a lower limit, e.g. the IMF), else the smallest
+    toward = math.copysign(1.0, side(1.0, 1.0 if sense == "min" else 0.0))
+    dist = [toward * side(x, y) for x, y in zip(xs, ys, strict=True)]
+    best = max(range(len(points)), key=lambda i: (dist[i], -i))
+    return int(best) if dist[best] > 1e-12 else None
 
 
 def dominates(a, b, sense: str) -> bool:

@@ -30,10 +30,30 @@ def _json(path: Path | None, option: str):
         raise InputError(str(path), option, rule) from None
 
 
-def _same_project(p, sizing, sizing_file, frontier, frontier_file, study_store) -> None:
+def _same_design(design, design_file, assessment: dict, sizing_file) -> None:
+    """The sizing result's runner-ups and proof are about the design it chose: refuse a report
+    of another design with it, naming the first joint that differs."""
+    for k, j in enumerate(assessment.get("joints") or []):
+        if not isinstance(j, dict) or not isinstance(j.get("actuator"), str):
+            continue
+        name = str(j.get("joint"))
+        if name in design.joints and design.actuator(name).label() != j["actuator"]:
+            raise InputError(
+                str(sizing_file),
+                f"assessment.joints[{k}].actuator",
+                f"the sizing chose {j['actuator']} at {name}, the design "
+                f"{design_file} has {design.actuator(name).label()}: give --sizing the result "
+                "that chose this design (or --design the design it chose)",
+            )
+
+
+def _same_project(
+    p, design, design_file, sizing, sizing_file, frontier, frontier_file, study_store
+) -> None:
     """The results given with ``--sizing``, ``--frontier`` and ``--study`` belong to project
-    ``p``: its name (sizing result, study) and its actuated joints and cases (frontier), or one
-    message naming the file, the field and what differs."""
+    ``p``: its name (sizing result, study) and its actuated joints and cases (frontier), and the
+    sizing result chose ``design``; or one message naming the file, the field and what
+    differs."""
     joints = list(p.robot.actuated)
 
     def other(file, field, what: str) -> InputError:
@@ -52,6 +72,7 @@ def _same_project(p, sizing, sizing_file, frontier, frontier_file, study_store) 
         sized = [str(j.get("joint")) for j in a.get("joints", []) if isinstance(j, dict)]
         if sized and sized != joints:
             raise other(sizing_file, "assessment.joints", f"sizes joints {', '.join(sized)}")
+        _same_design(design, design_file, a, sizing_file)
     if isinstance(frontier, dict):
         case = frontier.get("case")
         if case is not None and case not in {c.name for c in p.cases}:
@@ -139,7 +160,7 @@ def command(
             raise InputError(str(study_store), "--study", "no such study store (SQLite file)")
         study = study_data(study_store)
     sizing, frontier = _json(sizing_file, "--sizing"), _json(frontier_file, "--frontier")
-    _same_project(p, sizing, sizing_file, frontier, frontier_file, study_store)
+    _same_project(p, d, design_file, sizing, sizing_file, frontier, frontier_file, study_store)
     # the report's readers name a plain dict "<sizing>" / "<frontier>": name the file given
     given_files = {"<sizing>": sizing_file, "<frontier>": frontier_file}
     try:
