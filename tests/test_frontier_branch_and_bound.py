@@ -289,3 +289,27 @@ def test_turning_point_bulges_toward_the_ideal_corner(sense):
     # every point on the chord: no turning point
     line = [SimpleNamespace(payload=30.0 - 10 * k, measure=better * k) for k in range(4)]
     assert knee(line, sense) is None
+
+
+def test_figure_marks_self_locking_points():
+    """A point whose design self-locks a joint is marked in the figure as in the table (⊘),
+    with its own legend entry: a safety-relevant fact the picture must not drop."""
+    import matplotlib
+
+    matplotlib.use("Agg")
+    from jointwright.report import figures
+
+    xs, ys = np.array([1.6, 1.7, 1.8]), np.array([6.0, 11.0, 12.9])
+    fig = figures.frontier_figure(
+        {"catalog efficiencies": (xs, ys)},
+        None,
+        x_label="effective mass",
+        y_label="payload (kg)",
+        title="front",
+        steps="post",
+        numbered=True,
+        self_locking=[2],
+    )
+    marks = [ln for ln in fig.axes[0].lines if "self-locks" in str(ln.get_label())]
+    assert len(marks) == 1
+    assert marks[0].get_xdata().tolist() == [1.8] and marks[0].get_ydata().tolist() == [12.9]

@@ -382,5 +382,6 @@ def write_plot(f, ideal, folder: Path) -> None:
         f"({'complete' if f.complete else 'not complete: stopped before the whole front'})",
         steps="pre" if f.sense == "min" else "post",
         numbered=True,
+        self_locking=[k for k, q in enumerate(f.points) if self_locking_joints(q.design)],
     )
     figures.save(fig, folder, "frontier")

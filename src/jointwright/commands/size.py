@@ -179,7 +179,10 @@ def print_result(r, project=None) -> None:
         print_assessment(r.assessment, project)
     binding = list(r.binding)
     if binding:
-        con.print("[bold]binding requirements[/bold] (smallest margins): " + "; ".join(binding))
+        con.print(
+            "[bold]tightest margins[/bold] (the requirements closest to deciding the design): "
+            + "; ".join(binding)
+        )
     if r.alternatives:
         rows = [
             [

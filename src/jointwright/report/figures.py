@@ -241,6 +241,7 @@ def frontier_figure(
     steps: str = "post",
     numbered: bool = False,
     chosen=None,
+    self_locking=(),
 ) -> Figure:
     """Frontiers as staircases through their points, one per label; ``knee`` (x, y) marked
     with a diamond and its own legend entry.
@@ -249,7 +250,8 @@ def frontier_figure(
     frictionless-transmission frontier) dashed for comparison. ``steps`` "post" when a smaller
     x is better (each payload holds from its point to the right), "pre" when a larger x is.
     ``numbered``: the first series' points carry their numbers 1, 2, … in the given order (the
-    numbering of the tables); ``chosen`` (x, y) is ringed.
+    numbering of the tables); ``chosen`` (x, y) is ringed; ``self_locking``: indices of the
+    first series' points where a joint self-locks, marked ⊘ with a legend entry.
     """
     fig, (ax,) = new_figure(height=4.4)
     for k, (label, (xs, ys)) in enumerate(series.items()):
@@ -263,6 +265,17 @@ def frontier_figure(
         ax.plot(xs[order], ys[order], marker="o", label=label, drawstyle=f"steps-{steps}", **style)
         if k == 0 and numbered:
             _number_points(ax, xs, ys)
+        if k == 0 and len(self_locking):
+            at = np.asarray(list(self_locking), dtype=int)
+            ax.plot(
+                xs[at],
+                ys[at],
+                ls="none",
+                marker=r"$\oslash$",
+                ms=13,
+                color="#b0413e",
+                label="a joint self-locks (cannot be back-driven)",
+            )
     if chosen is not None:
         ax.plot(*chosen, "o", ms=12, mfc="none", mec="#5b8c3a", mew=2.0, label="chosen design")
     if knee is not None:

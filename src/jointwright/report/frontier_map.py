@@ -87,6 +87,11 @@ def frontier_section(data: dict, fig_dir: Path, file: str = "<frontier>") -> Sec
             steps=steps,
             numbered=True,
             chosen=chosen,
+            self_locking=[
+                k
+                for k, p in enumerate(data.get("points") or [])
+                if isinstance(p, dict) and p.get("self_locking")
+            ],
         )
     else:
         fig = figures.points_figure(xy, chosen, x_label=xl, y_label=yl, title=title)

@@ -19,6 +19,9 @@ from .figures import (
     set_title,
 )
 
+#: the ratio trade's x axis
+RATIO_AXIS = "ratio ÷ design ratio (log scale, 1)"
+
 
 def ratio_figure(sweep, panels) -> Figure:
     """Metric against ratio multiplier per joint.
@@ -29,17 +32,12 @@ def ratio_figure(sweep, panels) -> Figure:
     for ax, (key, title, ylabel, limit) in zip(axes, panels, strict=True):
         values = sweep.values[key]
         if key == "payload" and np.nanmin(values) < 0:
-            # below some case's fixed load there is no payload, not a negative mass
+            # below some case's fixed load there is no payload, not a negative mass; said under
+            # the axis, where no curve runs
             values = np.maximum(values, 0.0)
-            ax.text(
-                0.02,
-                0.97,
-                "0: no payload (a case below its fixed load)",
-                transform=ax.transAxes,
-                va="top",
-                fontsize=8,
-                color="#5b6470",
-            )
+            xlabel = f"{RATIO_AXIS}\n0 kg: no payload (a case below its fixed load)"
+        else:
+            xlabel = RATIO_AXIS
         for k, joint in enumerate(sweep.joints):
             ax.plot(
                 sweep.factors,
@@ -54,7 +52,7 @@ def ratio_figure(sweep, panels) -> Figure:
         ax.set_xscale("log")
         ax.set_xticks([0.25, 0.5, 1, 2, 4], labels=["¼", "½", "1", "2", "4"])
         ax.xaxis.set_minor_formatter(NullFormatter())
-        set_labels(ax, "ratio ÷ design ratio (log scale, 1)", ylabel)
+        set_labels(ax, xlabel, ylabel)
         set_title(ax, title, 70 // len(panels))
     figure_legend(fig, axes, ncols=3)
     return fig
