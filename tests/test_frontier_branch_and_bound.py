@@ -233,25 +233,29 @@ def test_text_plot_never_writes_a_number_over_another():
     assert dots > 0 and f"{n - 1 - len(labels)} of them" in text
 
 
-def test_figure_numbers_do_not_overlap():
-    """The figure of a dense front (71 points): the numbers written have disjoint boxes on the
-    page, both ends are numbered, and the ones left out are counted in the axes."""
+def _front_figure(xs, ys, steps: str, self_locking=()):
     import matplotlib
 
     matplotlib.use("Agg")
     from jointwright.report import figures
 
-    k = np.arange(71)
-    xs, ys = 0.28 + 0.0075 * k, 119.0 - 1.5 * k
-    fig = figures.frontier_figure(
+    return figures.frontier_figure(
         {"catalog efficiencies": (xs, ys)},
         None,
-        x_label="IMF",
+        x_label="measure",
         y_label="payload (kg)",
         title="front",
-        steps="pre",
+        steps=steps,
         numbered=True,
+        self_locking=self_locking,
     )
+
+
+def test_figure_numbers_do_not_overlap():
+    """The figure of a dense front (71 points): the numbers written have disjoint boxes on the
+    page, both ends are numbered, and the ones left out are counted in the axes."""
+    k = np.arange(71)
+    fig = _front_figure(0.28 + 0.0075 * k, 119.0 - 1.5 * k, "pre")
     ax = fig.axes[0]
     fig.canvas.draw()
     notes = [t for t in ax.texts if t.get_text().isdigit()]
@@ -294,22 +298,7 @@ def test_turning_point_bulges_toward_the_ideal_corner(sense):
 def test_figure_marks_self_locking_points():
     """A point whose design self-locks a joint is marked in the figure as in the table (⊘),
     with its own legend entry: a safety-relevant fact the picture must not drop."""
-    import matplotlib
-
-    matplotlib.use("Agg")
-    from jointwright.report import figures
-
-    xs, ys = np.array([1.6, 1.7, 1.8]), np.array([6.0, 11.0, 12.9])
-    fig = figures.frontier_figure(
-        {"catalog efficiencies": (xs, ys)},
-        None,
-        x_label="effective mass",
-        y_label="payload (kg)",
-        title="front",
-        steps="post",
-        numbered=True,
-        self_locking=[2],
-    )
+    fig = _front_figure(np.array([1.6, 1.7, 1.8]), np.array([6.0, 11.0, 12.9]), "post", [2])
     marks = [ln for ln in fig.axes[0].lines if "self-locks" in str(ln.get_label())]
     assert len(marks) == 1
     assert marks[0].get_xdata().tolist() == [1.8] and marks[0].get_ydata().tolist() == [12.9]
