@@ -79,3 +79,31 @@ def test_a_best_alone_from_a_stopped_search_is_marked_as_a_bound():
         assert row.best_proven is proven
         assert row.best_achievable == pytest.approx(0.95 if not proven else 0.5)
         assert bound_mark(row.requirement, row.best_proven) == ("" if proven else "≤ ")
+
+
+def test_the_diagnosis_lists_every_requirement_assess_checks():
+    """Every requirement assess checks on the bundled leg has a row of its own in the
+    diagnosis (the duty cycle's rating use included; the per-joint life and gear peak use
+    checks of the life requirement as its one row, "robot: life min"); dropping the duty rating
+    removes its requirement and no other."""
+    from jointwright.assessment import assess
+    from jointwright.design import load_design
+    from jointwright.project import load_example
+    from jointwright.solve.explain import relax, requirement_list
+
+    leg = load_example("leg")
+    design = load_design(leg.base_dir / "design.toml", leg)
+
+    # the life requirement is checked per joint (life and gear peak use), relaxed as one
+    checked = {
+        "robot: life_min"
+        if c.requirement in ("life_min", "gear_peak_use_max")
+        else f"{c.subject}: {c.requirement}"
+        for c in assess(leg, design).checks
+    }
+    listed = {f"{s}: {k}" for s, k, _ in requirement_list(leg)}
+    assert checked <= listed and "trot: rating_use_max" in listed
+    dropped = relax(leg, "trot", "rating_use_max")
+    assert {f"{s}: {k}" for s, k, _ in requirement_list(dropped)} == listed - {
+        "trot: rating_use_max"
+    }

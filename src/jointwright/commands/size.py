@@ -259,11 +259,11 @@ def print_result(r, project=None) -> None:
                     "≤ or ≥: a bound, not a value some design reaches (the search for it alone "
                     "ran out of its time share), so the margin alone is at most the one shown "
                     "and the requirement may be out of reach even alone; "
-                    "— : its best alone is not computed (no closed form: gear shock use, "
-                    "directional IMF, gear life, a speed the no-load bound cannot rule out, or "
-                    "no time left): the last column still says whether dropping it makes the "
-                    "project feasible; a speed shown is that no-load bound, an upper bound that "
-                    "falls short of the limit, not a speed a design reaches"
+                    "— : its best alone is not computed (no closed form: gear shock use, duty "
+                    "rating use, directional IMF, gear life, a speed the no-load bound cannot "
+                    "rule out, or no time left): the last column still says whether dropping it "
+                    "makes the project feasible; a speed shown is that no-load bound, an upper "
+                    "bound that falls short of the limit, not a speed a design reaches"
                 ),
             )
         )

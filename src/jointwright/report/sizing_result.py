@@ -136,9 +136,10 @@ def runner_ups_section(
                 "relative to the limit; ≤ 0 means it alone can be met, unless the value is "
                 "marked ≤ or ≥: a bound from a search stopped by its time share, not a value "
                 "some design reaches, so the shortfall is at least the one shown), and what "
-                "dropping it buys. —: not computed (no closed form: gear shock use, directional "
-                "IMF, gear life, or no time left); a speed is shown only when even the no-load "
-                "bound (an upper bound, not a speed a design reaches) falls short of the limit.",
+                "dropping it buys. —: not computed (no closed form: gear shock use, duty rating "
+                "use, directional IMF, gear life, or no time left); a speed is shown only when "
+                "even the no-load bound (an upper bound, not a speed a design reaches) falls "
+                "short of the limit.",
             )
         )
     return Section(

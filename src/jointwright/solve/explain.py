@@ -213,8 +213,7 @@ def requirement_list(project) -> list[tuple[str, str, float]]:
     out = []
     for c in project.cases:
         for key, limit in c.limits.items():
-            if c.kind != "duty":
-                out.append((c.name, key, limit))
+            out.append((c.name, key, limit))
     req = project.requirements
     if math.isfinite(req.total_mass_max):
         out.append(("robot", "total_mass_max", req.total_mass_max))
@@ -321,7 +320,7 @@ def _alone(project, model, subject, key, limit, seconds, solve_value: Resolve):
     return (
         math.nan,
         True,
-    )  # no closed form (directional IMF, shock, life): see the relaxation column
+    )  # no closed form (directional IMF, shock, life, duty rating use): see the relaxation column
 
 
 def diagnose(
