@@ -247,6 +247,9 @@ def test_results_of_another_project_are_refused_by_the_report(tmp_path):
         ("--sizing", sizing, "assessment.project", "names project 'MA-6"),
         ("--frontier", front, "case", "trades a measure of case 'side-collision'"),
         ("--frontier", binary, "--frontier", "is not a text (JSON) file"),
+        # a result given to the other option: which option takes it
+        ("--sizing", front, "--sizing", "is a frontier result (jointwright frontier --out)"),
+        ("--frontier", sizing, "--frontier", "is a sizing result (jointwright size --json)"),
     ):
         out = tmp_path / f"r{option}{path.stem}"
         r = _run([*base, option, path, "--out", out])

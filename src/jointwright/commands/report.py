@@ -30,6 +30,30 @@ def _json(path: Path | None, option: str):
         raise InputError(str(path), option, rule) from None
 
 
+def _right_option(sizing, sizing_file, frontier, frontier_file) -> None:
+    """A frontier result given as --sizing, or a sizing result as --frontier: one line saying
+    which option takes it, instead of the first missing field."""
+
+    def looks_like_frontier(data) -> bool:
+        return isinstance(data, dict) and "measure" in data and "points" in data
+
+    def looks_like_sizing(data) -> bool:
+        return isinstance(data, dict) and "status" in data and "objective_kind" in data
+
+    if looks_like_frontier(sizing) and not looks_like_sizing(sizing):
+        raise InputError(
+            str(sizing_file),
+            "--sizing",
+            "is a frontier result (jointwright frontier --out): give it with --frontier",
+        )
+    if looks_like_sizing(frontier) and not looks_like_frontier(frontier):
+        raise InputError(
+            str(frontier_file),
+            "--frontier",
+            "is a sizing result (jointwright size --json): give it with --sizing",
+        )
+
+
 def _same_design(design, design_file, assessment: dict, sizing_file) -> None:
     """The sizing result's runner-ups and proof are about the design it chose: refuse a report
     of another design with it, naming the first joint that differs."""
@@ -160,6 +184,7 @@ def command(
             raise InputError(str(study_store), "--study", "no such study store (SQLite file)")
         study = study_data(study_store)
     sizing, frontier = _json(sizing_file, "--sizing"), _json(frontier_file, "--frontier")
+    _right_option(sizing, sizing_file, frontier, frontier_file)
     _same_project(p, d, design_file, sizing, sizing_file, frontier, frontier_file, study_store)
     # the report's readers name a plain dict "<sizing>" / "<frontier>": name the file given
     given_files = {"<sizing>": sizing_file, "<frontier>": frontier_file}
