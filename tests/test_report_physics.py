@@ -328,6 +328,32 @@ def test_duty_hook_table_and_bad_series(tmp_path):
         duty_view.duty_section({**data, "time": [0.0, "x", 1.0]}, tmp_path)
 
 
+def test_duty_figure_draws_each_joint_against_its_own_peak_rating(tmp_path, monkeypatch):
+    """With every joint's peak rating given, each joint's motor torque is drawn as a share of
+    its own rating (100·τ/τ_peak) against ±100 % lines, so no joint's curve is read against
+    another joint's rating."""
+    drawn = {}
+    real = duty_view.sweep_figures.series_figure
+
+    def spy(time, series, limits, **kw):
+        drawn.update(series=series, limits=limits, **kw)
+        return real(time, series, limits, **kw)
+
+    monkeypatch.setattr(duty_view.sweep_figures, "series_figure", spy)
+    data = {
+        "case": "trot",
+        "time": [0.0, 0.5, 1.0],
+        "motor_torque": {"hip": [0.5, -1.0, 0.25], "knee": [0.1, 0.4, 0.1]},
+        "limits": {"knee peak rating": 0.8},
+        "peak_rating": {"hip": 2.0, "knee": 0.8},
+    }
+    d = duty_view.duty_section(data, tmp_path)
+    assert drawn["series"]["hip"] == pytest.approx([25.0, -50.0, 12.5])
+    assert drawn["series"]["knee"] == pytest.approx([12.5, 50.0, 12.5])
+    assert drawn["limits"] == {"each joint's peak rating": 100.0}
+    assert "as a share of its own motor" in d.body and "lines are ±100 %" in d.body
+
+
 STUDY = {
     "name": "knee sweep",
     "description": "knee ratio against budget",

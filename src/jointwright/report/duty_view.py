@@ -20,19 +20,44 @@ def duty_section(data: dict, fig_dir: Path, file: str = "<duty>") -> Section:
     """Motor torque over a duty cycle per joint, against ratings.
 
     ``data``: ``{"case": str, "time": [s], "motor_torque": {joint: [N·m]}, "limits": {label: N·m},
-    "summary": [{"joint", "rms_torque", "peak_torque", "peak_temperature", "backdriven_share"}]}``.
+    "summary": [{"joint", "rms_torque", "peak_torque", "peak_temperature", "backdriven_share"}]}``;
+    with ``"peak_rating": {joint: N·m}`` for every joint, each joint is drawn as a share of its
+    own peak rating instead (``limits`` then unused).
     """
     case = need(data, "case", str, file, "")
     time = numbers(data, "time", file, "")
     torque = need(data, "motor_torque", dict, file, "")
     series = {j: numbers(torque, j, file, "motor_torque.", len(time)) for j in torque}
     limits = {k: need(data["limits"], k, float, file, "limits.") for k in data.get("limits", {})}
+    peak = data.get("peak_rating")
+    if isinstance(peak, dict) and set(series) <= set(peak):
+        # each joint against its own motor's peak rating: one pair of lines holds for all
+        ratings = {j: need(peak, j, float, file, "peak_rating.") for j in series}
+        series = {j: [100.0 * v / ratings[j] for v in vs] for j, vs in series.items()}
+        limits = {"each joint's peak rating": 100.0}
+        y_label, what = (
+            "motor torque ÷ its peak rating (%)",
+            "Motor torque, share of its peak rating,",
+        )
+        caption = (
+            "Each joint's motor torque over the cycle as a share of its own motor's peak rating "
+            "(under the drive that feeds it), by the power-flow law sample by sample; the red "
+            "lines are ±100 %. The continuous rating applies to the RMS torque: the table gives "
+            "every joint's."
+        )
+    else:
+        y_label, what = "motor torque (N·m)", "Motor torque"
+        caption = (
+            "Motor torque per joint over the cycle, by the power-flow law sample by sample; red "
+            "lines are the ratings (±) of the joint that limits the case (each joint's motor has "
+            "its own; the table gives every joint's use)."
+        )
     fig = sweep_figures.series_figure(
         time,
         series,
         limits,
-        y_label="motor torque (N·m)",
-        title=f"Motor torque over the duty cycle {case}",
+        y_label=y_label,
+        title=f"{what} over the duty cycle {case}",
     )
     name = "duty-" + (re.sub(r"[^A-Za-z0-9_.-]+", "-", case).strip("-.") or "case")
     png = figures.save(fig, fig_dir, name)
@@ -52,9 +77,7 @@ def duty_section(data: dict, fig_dir: Path, file: str = "<duty>") -> Section:
         png,
         name,
         f"duty cycle {case}",
-        "Motor torque per joint over the cycle, by the "
-        "power-flow law sample by sample; red lines are the ratings (±) of the joint that "
-        "limits the case (each joint's motor has its own; the table gives every joint's use).",
+        caption,
     )
     if rows:
         body += table(

@@ -284,6 +284,9 @@ def duty_data(evaluator, arrays, a: dict) -> list[dict]:
                 "time": pd.trajectory.t.tolist(),
                 "motor_torque": {j: tm[k].tolist() for k, j in enumerate(joints)},
                 "limits": limits,
+                "peak_rating": {
+                    j: float(arrays.motor_peak_torque[0, k]) for k, j in enumerate(joints)
+                },
                 "summary": summary,
             }
         )
