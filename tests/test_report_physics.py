@@ -151,6 +151,30 @@ def test_ratio_sweep_at_the_design_ratio_equals_the_assessment(example):
         assert np.allclose(sweep.values[case][:, k], expected, rtol=1e-12)
 
 
+def test_ratio_sweep_scales_a_shared_group_together():
+    """The bundled quadruped shares each leg joint across its four legs: the sweep has one
+    curve per group, and its values are those of the design with the whole group's ratio
+    scaled (evaluated directly)."""
+    from jointwright.project import load_example
+
+    p = load_example("quadruped")
+    design = load_design(p.base_dir / "design.toml", p)
+    ev = Evaluator(p)
+    arrays = arrays_from_designs([design])
+    factors = np.array([0.5, 1.0, 2.0])
+    sweep = ratio_sweep(p, ev, arrays, factors)
+    assert len(sweep.joints) == 3 and all(j.endswith("(+3 shared)") for j in sweep.joints)
+    joints = list(p.robot.actuated)
+    group = [joints.index(j) for j in joints if j.endswith("_knee")]
+    k = sweep.joints.index(next(j for j in sweep.joints if "knee" in j))
+    scaled = replace(arrays, ratio=arrays.ratio.copy())
+    scaled.ratio[0, group] *= 2.0
+    direct = ev.evaluate(scaled, detail=False)
+    from jointwright.problem import payload_mass
+
+    assert sweep.values["payload"][k, 2] == pytest.approx(float(payload_mass(p, direct)[0]))
+
+
 def test_ratio_sweep_is_monotone(example):
     # capacity η_f·N·τ_m (capped) widens the torque box as N grows: payload never falls
     # (Chiacchio LP over a growing feasible set); N²·I_r grows H: IMF never rises and back-driven

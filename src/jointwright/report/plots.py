@@ -47,7 +47,8 @@ ELLIPSE_GUIDE = (
 )
 RATIO_GUIDE = (
     "One joint's total ratio is scaled from ¼ to 4 times the design value while every other "
-    "joint keeps its design; each curve is re-evaluated with the same physics as the "
+    "joint keeps its design (joints that share one actuator are scaled together, one curve "
+    "labelled by the first of them); each curve is re-evaluated with the same physics as the "
     "assessment. A higher ratio raises a joint's drive torque until the gear rating caps it, and "
     "raises its reflected inertia N²·I_r, which lowers the impact mitigation factor (or raises "
     "the back-driven effective mass for a fixed base)."

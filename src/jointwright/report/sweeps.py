@@ -67,19 +67,38 @@ def _summaries(project, evaluator, arrays) -> dict[str, np.ndarray]:
 class RatioSweep:
     """Metrics against each joint's ratio, the other joints held.
 
-    ``values[metric]`` is (n_joints, len(factors)); metric "payload" is the payload mass every
+    ``values[metric]`` is (units, len(factors)); metric "payload" is the payload mass every
     case carries (kg), the others are impact case names (their metric from
-    :func:`impact_metric`).
+    :func:`impact_metric`). A unit is a joint, or a group of joints that share one actuator
+    (``[objective] shared``), varied together and labelled by its first joint and the count of
+    the others ("fl_knee (+3 shared)").
     """
 
-    joints: tuple[str, ...]
-    design_ratio: np.ndarray  # (n_joints,)
+    joints: tuple[str, ...]  # unit labels
+    design_ratio: np.ndarray  # (units,), the unit's first joint's
     factors: np.ndarray
     values: dict
 
 
+def sweep_units(project) -> list[tuple[int, ...]]:
+    """The joints varied together: each shared group (``[objective] shared``) once, at its first
+    joint's place, every other joint alone; in the robot's joint order."""
+    from ..objective import read_objective
+
+    joints = list(project.robot.actuated)
+    groups = [tuple(joints.index(j) for j in g) for g in read_objective(project)["shared"]]
+    of = {j: g for g in groups for j in g}
+    out: list[tuple[int, ...]] = []
+    for j in range(len(joints)):
+        unit = of.get(j, (j,))
+        if unit not in out:
+            out.append(unit)
+    return out
+
+
 def ratio_sweep(project, evaluator, arrays, factors=RATIO_FACTORS) -> RatioSweep:
-    """Vary one joint's total ratio N → k·N at a time (k in ``factors``) and re-evaluate.
+    """Vary one unit's total ratio N → k·N at a time (k in ``factors``: every joint of a shared
+    group together) and re-evaluate.
 
     Parameters
     ----------
@@ -87,16 +106,19 @@ def ratio_sweep(project, evaluator, arrays, factors=RATIO_FACTORS) -> RatioSweep
     factors : 1-D array of positive multipliers
     """
     factors = np.asarray(factors, dtype=float)
-    n = arrays.ratio.shape[1]
-    K = factors.size
+    units = sweep_units(project)
+    n, K = len(units), factors.size
     many = repeat(arrays, n * K)
     ratio = many.ratio.copy()
-    for j in range(n):
-        ratio[j * K : (j + 1) * K, j] *= factors
+    for k, unit in enumerate(units):
+        ratio[k * K : (k + 1) * K, list(unit)] *= factors[:, None]
     values = _summaries(project, evaluator, replace(many, ratio=ratio))
+    names = list(project.robot.actuated)
     return RatioSweep(
-        joints=tuple(project.robot.actuated),
-        design_ratio=arrays.ratio[0].copy(),
+        joints=tuple(
+            names[u[0]] + (f" (+{len(u) - 1} shared)" if len(u) > 1 else "") for u in units
+        ),
+        design_ratio=arrays.ratio[0, [u[0] for u in units]].copy(),
         factors=factors,
         values={k: v.reshape(n, K) for k, v in values.items()},
     )
