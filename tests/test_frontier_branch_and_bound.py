@@ -302,3 +302,22 @@ def test_figure_marks_self_locking_points():
     marks = [ln for ln in fig.axes[0].lines if "self-locks" in str(ln.get_label())]
     assert len(marks) == 1
     assert marks[0].get_xdata().tolist() == [1.8] and marks[0].get_ydata().tolist() == [12.9]
+
+
+def test_a_narrow_front_is_said_to_be_narrow():
+    """A front whose measure moves by less than 5 % of its size gets a note with the span; a
+    wide one gets none (the bundled leg's effective-mass front spans 2.216–2.243 kg, 1.2 %)."""
+    from types import SimpleNamespace
+
+    from jointwright.commands.frontier_text import narrow_text
+
+    def front(measures):
+        return SimpleNamespace(
+            measure="effective_mass",
+            points=[SimpleNamespace(payload=30.0 - k, measure=m) for k, m in enumerate(measures)],
+        )
+
+    note = narrow_text(front([2.243, 2.239, 2.216]))
+    assert note is not None and "only 1.2 %" in note and "2.216 kg to 2.243 kg" in note
+    assert narrow_text(front([2.4, 2.0, 1.6])) is None
+    assert narrow_text(front([2.2])) is None

@@ -27,6 +27,7 @@ from .frontier_text import (
     better_text,
     describe_run,
     measure_name,
+    narrow_text,
     plot_text,
     unexplored_text,
 )
@@ -97,6 +98,9 @@ def print_frontier(f, shared=(), limit: float | None = None) -> None:
     region = unexplored_text(f)
     if region:
         con.print(f"[yellow]{region}[/yellow]")
+    narrow = narrow_text(f) if f.measure not in ("mass", "cost") else None
+    if narrow:
+        con.print(f"note: {narrow}")
     rows: list[list[str]] = []
     designs: list[list[str]] = []
     # the mass and cost columns, unless they are the measure itself (cost: when the catalog

@@ -4,6 +4,8 @@ run left, and the plot drawn in characters."""
 
 from __future__ import annotations
 
+import math
+
 from ._format import num
 
 UNITS = {"imf": "", "effective_mass": "kg", "backdrive_force": "N", "mass": "kg", "cost": ""}
@@ -78,6 +80,29 @@ def describe_run(f) -> str:
             f"{100 * f.merge_tolerance:g} % of the front's span on both axes)"
         )
     return text
+
+
+#: a front whose measure changes by less than this share of its size is called narrow
+NARROW_SPAN = 0.05
+
+
+def narrow_text(f) -> str | None:
+    """A note when the measure barely changes along the whole front (less than
+    :data:`NARROW_SPAN` of its size): the designs then trade payload for almost no
+    back-drivability, and the steps, though real, matter little. None otherwise."""
+    values = [p.measure for p in f.points if math.isfinite(p.measure)]
+    if len(values) < 2:
+        return None
+    lo, hi = min(values), max(values)
+    size = max(abs(lo), abs(hi))
+    if size == 0 or (hi - lo) / size >= NARROW_SPAN:
+        return None
+    unit = UNITS[f.measure]
+    return (
+        f"the {HEADINGS[f.measure]} changes by only {100 * (hi - lo) / size:.2g} % along the whole "
+        f"front ({num(lo, unit)} to {num(hi, unit)}): at this case the actuator choice barely "
+        "changes it, so trading payload for it buys little"
+    )
 
 
 def unexplored_text(f) -> str | None:
