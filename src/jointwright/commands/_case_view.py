@@ -55,7 +55,11 @@ SHOWN = {
     "speed": [
         ("speed", "end-point speed carrying the case's load", "m/s"),
         ("stroke_time", "time to cover the stroke from rest", "s"),
-        ("acceleration", "acceleration along the direction from rest, with the load", "m/s²"),
+        (
+            "acceleration",
+            "acceleration along the direction from rest, under gravity and the case's load",
+            "m/s²",
+        ),
     ],
     "torque": [("torque_ratio", "smallest achieved ÷ required joint torque", "")],
     "duty": [

@@ -57,7 +57,11 @@ CASE_METRICS = {
         # with a stroke (the row is absent without one): the time it takes; what lies beyond
         # it is a note (wording.beyond_stroke), not a result
         ("stroke_time", "… time to cover the stroke from rest", "s"),
-        ("acceleration", "acceleration along the direction from rest, with the load", "m/s²"),
+        (
+            "acceleration",
+            "acceleration along the direction from rest, under gravity and the case's load",
+            "m/s²",
+        ),
     ),
     "torque": (("torque_ratio", "smallest achieved ÷ required joint torque", ""),),
 }

@@ -85,8 +85,8 @@ def without_stroke(kind: str, metrics: dict, *, minus: str = "-") -> str:
     if not (math.isfinite(v) and v > 0):
         return ""
     text = (
-        "no stroke: the speed the motors sustain at this pose with the load, however long it "
-        "takes to reach"
+        "no stroke: the speed the motors sustain at this pose under gravity and the case's load, "
+        "however long it takes to reach"
     )
     if math.isfinite(a0) and a0 > 0:
         text += (
