@@ -15,6 +15,8 @@ Run: python benchmarks/contacts_resolve.py [--designs 100] [--poses 3] [--repeat
 
 from __future__ import annotations
 
+import jointwright  # noqa: F401, I001  (first: the command line's BLAS thread default, set before numpy loads)
+
 import argparse
 import os
 import platform

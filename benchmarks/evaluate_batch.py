@@ -27,6 +27,8 @@ Usage: ``python benchmarks/evaluate_batch.py [--designs 20000] [--chunk 10000] [
 
 from __future__ import annotations
 
+import jointwright  # noqa: F401, I001  (first: the command line's BLAS thread default, set before numpy loads)
+
 import argparse
 import dataclasses
 import itertools

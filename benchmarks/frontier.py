@@ -10,6 +10,8 @@ IMF, duty cycle included), where brute force does not fit. Results: docs/benchma
 
 from __future__ import annotations
 
+import jointwright  # noqa: F401, I001  (first: the command line's BLAS thread default, set before numpy loads)
+
 import dataclasses
 import time
 

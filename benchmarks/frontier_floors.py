@@ -13,6 +13,8 @@ floors"; results: docs/benchmarks.md).
 
 from __future__ import annotations
 
+import jointwright  # noqa: F401, I001  (first: the command line's BLAS thread default, set before numpy loads)
+
 import argparse
 import os
 import time

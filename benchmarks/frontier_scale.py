@@ -24,6 +24,8 @@ Results: docs/benchmarks.md.
 
 from __future__ import annotations
 
+import jointwright  # noqa: F401, I001  (first: the command line's BLAS thread default, set before numpy loads)
+
 import argparse
 import math
 import os

@@ -10,6 +10,8 @@ Usage: ``python benchmarks/large_inputs.py [--cases 5000 10000 20000] [--rows 75
 
 from __future__ import annotations
 
+import jointwright  # noqa: F401, I001  (first: the command line's BLAS thread default, set before numpy loads)
+
 import argparse
 import math
 import re

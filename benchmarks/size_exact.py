@@ -11,6 +11,8 @@ Prints times, ratios and the objectives, which must be equal. Results: docs/benc
 
 from __future__ import annotations
 
+import jointwright  # noqa: F401, I001  (first: the command line's BLAS thread default, set before numpy loads)
+
 import dataclasses
 import time
 from importlib import resources

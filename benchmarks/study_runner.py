@@ -16,6 +16,8 @@ Usage: ``python benchmarks/study_runner.py [--cases 200] [--ms 50] [--repeat 3]`
 
 from __future__ import annotations
 
+import jointwright  # noqa: F401, I001  (first: the command line's BLAS thread default, set before numpy loads)
+
 import argparse
 import os
 import tempfile

@@ -13,6 +13,8 @@ Results: docs/benchmarks.md, "The time limit on large option tables".
 
 from __future__ import annotations
 
+import jointwright  # noqa: F401, I001  (first: the command line's BLAS thread default, set before numpy loads)
+
 import argparse
 import json
 import os

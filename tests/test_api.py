@@ -54,3 +54,20 @@ def test_example_assessed_through_the_api():
     assert isinstance(a, jw.Assessment) and a.joints and a.checks
     with pytest.raises(jw.InputError):
         jw.load_example("hexapod")
+
+
+def test_import_sets_one_blas_thread_unless_the_user_chose():
+    """``import jointwright`` sets OPENBLAS_NUM_THREADS=1 when it is unset (the physics' small
+    matrices gain nothing from the BLAS library's threads: docs/benchmarks.md, "One BLAS
+    thread") and keeps a value the user set."""
+    import os
+    import subprocess
+    import sys
+
+    code = "import os, jointwright; print(os.environ['OPENBLAS_NUM_THREADS'])"
+    env = {k: v for k, v in os.environ.items() if k != "OPENBLAS_NUM_THREADS"}
+    out = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True)
+    assert out.stdout.strip() == "1", out.stderr
+    env["OPENBLAS_NUM_THREADS"] = "3"
+    out = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True)
+    assert out.stdout.strip() == "3", out.stderr

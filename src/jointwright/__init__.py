@@ -21,7 +21,14 @@ Names are loaded on first use, so ``import jointwright`` stays cheap.
 from __future__ import annotations
 
 import importlib
+import os
 from typing import Any
+
+# The physics works on batches of small matrices (3 to 30 joints), where the BLAS library's own
+# threads only spin: on the bundled quadruped's frontier they took 71 CPU-s for 44 s wall against
+# 44 CPU-s with one thread (docs/benchmarks.md). One thread, unless the user chose a number; read
+# when numpy loads, so it holds wherever jointwright is imported first (the command line).
+os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
 
 __version__ = "0.1.0"
 
