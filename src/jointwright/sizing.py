@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
+import re
 import time
 
 import numpy as np
@@ -291,6 +292,17 @@ def finish(
             outcome,
             native=f"no option of {names} meets the joint's own requirements (per-joint "
             "filters; the diagnosis names the requirement)",
+        )
+    if outcome.index is None and not explain and outcome.native:
+        # no diagnosis in this run (--no-explain, a study's cases): say how to get it instead
+        # of pointing to one that is not there
+        outcome = dataclasses.replace(
+            outcome,
+            native=re.sub(
+                r"\s*\([^()]*diagnosis[^()]*\)",
+                " (no diagnosis in this run: size the project with the explanation on for it)",
+                outcome.native,
+            ),
         )
     if outcome.index is None:
         diag: tuple = ()
