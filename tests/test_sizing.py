@@ -92,6 +92,30 @@ def test_infeasible_requirement_is_diagnosed(small):
 
 
 @pytest.mark.slow
+def leg_with_touchdown_imf_min(value: float):
+    """The bundled leg with its touchdown case's IMF limit set to ``value``."""
+    leg = example("leg")
+    return dataclasses.replace(
+        leg,
+        cases=tuple(
+            dataclasses.replace(c, limits={**c.limits, "imf_min": value})
+            if c.name == "touchdown"
+            else c
+            for c in leg.cases
+        ),
+    )
+
+
+def test_a_run_without_the_explanation_does_not_point_to_a_diagnosis():
+    """The leg with imf_min 0.25 is infeasible; sized without the explanation (``--no-explain``,
+    a study's cases) its message says how to get the diagnosis instead of pointing to one that
+    is not there."""
+    bare = size(leg_with_touchdown_imf_min(0.25), explain=False, time_limit=30)
+    assert bare.status == "infeasible" and not bare.diagnosis
+    assert "diagnosis shows" not in bare.native_status
+    assert "no diagnosis in this run" in bare.native_status
+
+
 def test_an_impact_limit_no_design_meets_is_named_as_the_cause():
     """The bundled leg with its touchdown's IMF limit raised to 0.25 (every other requirement
     as shipped): the search proves it infeasible in about a second, and the diagnosis, which
@@ -101,15 +125,7 @@ def test_an_impact_limit_no_design_meets_is_named_as_the_cause():
     from jointwright.commands.size import gap_reason
 
     leg = example("leg")
-    p = dataclasses.replace(
-        leg,
-        cases=tuple(
-            dataclasses.replace(c, limits={**c.limits, "imf_min": 0.25})
-            if c.name == "touchdown"
-            else c
-            for c in leg.cases
-        ),
-    )
+    p = leg_with_touchdown_imf_min(0.25)
     r = size(p, time_limit=60)
     assert r.status == "infeasible"
     row = next(d for d in r.diagnosis if d.requirement == "touchdown: imf min")

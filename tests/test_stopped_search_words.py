@@ -108,25 +108,3 @@ def test_the_diagnosis_lists_every_requirement_assess_checks():
         "trot: rating_use_max"
     }
 
-
-def test_a_run_without_the_explanation_does_not_point_to_a_diagnosis():
-    """The bundled leg with imf_min 0.25 at touchdown is infeasible; sized without the
-    explanation (``--no-explain``, a study's cases) its message says how to get the diagnosis
-    instead of pointing to one that is not there."""
-    from jointwright.project import load_example
-    from jointwright.sizing import size
-
-    leg = load_example("leg")
-    p = dataclasses.replace(
-        leg,
-        cases=tuple(
-            dataclasses.replace(c, limits={**c.limits, "imf_min": 0.25})
-            if c.name == "touchdown"
-            else c
-            for c in leg.cases
-        ),
-    )
-    bare = size(p, explain=False, time_limit=30)
-    assert bare.status == "infeasible" and not bare.diagnosis
-    assert "diagnosis shows" not in bare.native_status
-    assert "no diagnosis in this run" in bare.native_status
