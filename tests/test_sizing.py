@@ -120,7 +120,8 @@ def test_an_impact_limit_no_design_meets_is_named_as_the_cause():
     """The bundled leg with its touchdown's IMF limit raised to 0.25 (every other requirement
     as shipped): the search proves it infeasible in about a second, and the diagnosis, which
     may take the rest of the time limit, finds that dropping the IMF limit alone makes it
-    feasible, with the optimum a sizing of the project without that limit finds, and the best
+    feasible (and so does dropping the trot's rating use), each with the optimum a sizing of the
+    project without that limit finds, and the best
     IMF over every option ignoring every other requirement (a search of its own, not "—")."""
     from jointwright.commands.size import gap_reason
 
@@ -140,8 +141,19 @@ def test_an_impact_limit_no_design_meets_is_named_as_the_cause():
     assert direct.status == "optimal" and row.relaxed_proven
     assert row.relaxed_objective == pytest.approx(direct.objective, rel=1e-9)
     assert 0.25 < row.best_achievable <= 1.0 and row.shortfall < 0
+    # the one other way out: the trot's rating (the low ratios the IMF asks for overload the
+    # motors in the trot); its row's optimum is that of the project without that limit
     others = [d for d in r.diagnosis if d is not row and d.relaxed_objective is not None]
-    assert not others  # no other single requirement's removal makes it feasible
+    assert [d.requirement for d in others] == ["trot: rating use max"]
+    no_trot = dataclasses.replace(
+        p,
+        cases=tuple(
+            dataclasses.replace(c, limits={}) if c.kind == "duty" else c for c in p.cases
+        ),
+    )
+    direct = size(no_trot, explain=False)
+    assert direct.status == "optimal" and others[0].relaxed_proven
+    assert others[0].relaxed_objective == pytest.approx(direct.objective, rel=1e-9)
     assert "feasible without touchdown: imf min" in r.message
     assert gap_reason(r, p) is None  # proven infeasible: no "longer time limit" hint
 
