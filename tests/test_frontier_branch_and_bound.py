@@ -233,15 +233,16 @@ def test_text_plot_never_writes_a_number_over_another():
     assert dots > 0 and f"{n - 1 - len(labels)} of them" in text
 
 
-def _front_figure(xs, ys, steps: str, self_locking=()):
+def _front_figure(xs, ys, steps: str, self_locking=(), more=None, chosen=None):
     import matplotlib
 
     matplotlib.use("Agg")
     from jointwright.report import figures
 
     return figures.frontier_figure(
-        {"catalog efficiencies": (xs, ys)},
+        {"catalog efficiencies": (xs, ys), **(more or {})},
         None,
+        chosen=chosen,
         x_label="measure",
         y_label="payload (kg)",
         title="front",
@@ -251,11 +252,20 @@ def _front_figure(xs, ys, steps: str, self_locking=()):
     )
 
 
-def test_figure_numbers_do_not_overlap():
+@pytest.mark.parametrize("extra", ["none", "chosen", "second series"])
+def test_figure_numbers_do_not_overlap(extra):
     """The figure of a dense front (71 points): the numbers written have disjoint boxes on the
-    page, both ends are numbered, and the ones left out are counted in the axes."""
+    page, both ends are numbered, and the ones left out are counted in the axes; also when a
+    chosen design or a second front (the frictionless one) rescales the axes."""
     k = np.arange(71)
-    fig = _front_figure(0.28 + 0.0075 * k, 119.0 - 1.5 * k, "pre")
+    xs, ys = 0.28 + 0.0075 * k, 119.0 - 1.5 * k
+    fig = _front_figure(
+        xs,
+        ys,
+        "pre",
+        more={"frictionless": (4 * xs, 4 * ys)} if extra == "second series" else None,
+        chosen=(-2.0, 10.0) if extra == "chosen" else None,
+    )
     ax = fig.axes[0]
     fig.canvas.draw()
     notes = [t for t in ax.texts if t.get_text().isdigit()]

@@ -34,3 +34,105 @@ def test_exhaustive_refuses_a_front_too_large_to_score():
     with pytest.raises(InputError, match="branch and bound") as err:
         frontier(project, "mass", method="exhaustive")
     assert err.value.field == "method"
+
+
+def _small_quadruped(seed: int, budget_share: float):
+    """The bundled quadruped (legs shared; stance, payload and impact cases) cut to 3 of its
+    motors and 2 stage types with one frame and two ratios each, every case limit removed, and a
+    total-mass budget: 15 options per leg joint, 3,375 designs, small enough to score them all."""
+    import dataclasses
+    import math
+
+    import numpy as np
+
+    from jointwright.catalog.model import Catalog
+    from jointwright.options import build_table
+    from jointwright.project import Requirements, load_example
+
+    q = load_example("quadruped")
+    rng = np.random.default_rng(seed)
+    chosen = sorted(rng.choice(len(q.catalog.motors), 3, replace=False))
+    motors = tuple(q.catalog.motors[i] for i in chosen)
+    stages = []
+    for s in q.catalog.stages[:2]:
+        frames = (s.frames[int(rng.integers(len(s.frames)))],)
+        ratios = s.ratios
+        if ratios is not None:
+            ratios = tuple(sorted(float(r) for r in rng.choice(ratios, 2, replace=False)))
+        stages.append(dataclasses.replace(s, frames=frames, ratios=ratios))
+    p = dataclasses.replace(
+        q,
+        catalog=Catalog(motors=motors, stages=tuple(stages), drives=q.catalog.drives),
+        cases=tuple(dataclasses.replace(c, limits={}) for c in q.cases),
+        objective={"maximize": "payload", "shared": q.objective["shared"]},
+        requirements=Requirements(total_mass_max=math.inf),
+        max_stages=1,
+        stage_kinds=None,
+    )
+    mass = build_table(p).rows["mass"]
+    budget = float(4 * (mass.min() + mass.max()) + 4 * np.median(mass)) * budget_share
+    return dataclasses.replace(p, requirements=Requirements(total_mass_max=budget))
+
+
+def _brute_front(p, measure: str, case):
+    """The non-dominated (payload, measure) set by scoring every design with the full physics
+    (stance cone programs included): the definition of the front, computed directly."""
+    import itertools
+
+    import numpy as np
+
+    from jointwright.frontier import MEASURES, with_limit
+    from jointwright.options import build_table
+    from jointwright.problem import checks, feasible, objective
+    from jointwright.solve.model import SizingModel
+
+    _kind, key, metric, sense = MEASURES[measure]
+    p = with_limit(p, case, key, None)
+    table = build_table(p)
+    joints = list(p.robot.actuated)
+    groups = [[joints.index(j) for j in g] for g in p.objective["shared"]]
+    rows = []
+    for combo in itertools.product(range(len(table)), repeat=len(groups)):
+        idx = np.empty(len(joints), dtype=np.int64)
+        for g, o in zip(groups, combo, strict=True):
+            idx[g] = o
+        rows.append(idx)
+    idx = np.array(rows)
+    model = SizingModel(p, table, [np.arange(len(table))] * len(joints))
+    arrays = table.arrays(idx)
+    ev = model.evaluator.evaluate(arrays, detail=False)
+    ok = feasible(checks(p, arrays, ev), idx.shape[0])
+    pay = np.asarray(objective(p, arrays, ev, "payload"))[ok]
+    if case is None:
+        mu = np.asarray(getattr(arrays, metric).sum(axis=1), dtype=float)[ok]
+    else:
+        mu = np.asarray(ev[case][metric], dtype=float)[ok]
+    good = mu if sense == "min" else -mu
+    front: list = []
+    for i in np.lexsort((-good, -pay)):
+        if not front or good[i] > front[-1][2] + 1e-7 * max(abs(good[i]), 1e-12):
+            front.append((pay[i], mu[i], good[i]))
+    return [
+        (p_, m_)
+        for k, (p_, m_, _g) in enumerate(front)
+        if not (k + 1 < len(front) and abs(front[k + 1][0] - p_) <= 1e-9 * max(1.0, abs(p_)))
+    ]
+
+
+@pytest.mark.parametrize(
+    ("seed", "share", "measure"),
+    [(1, 0.9, "imf"), (2, 1.2, "imf"), (3, 1.0, "effective_mass"), (4, 1.0, "mass")],
+)
+def test_branch_and_bound_equals_brute_force_with_stance_cases(seed, share, measure):
+    """With stance cases the branch and bound prunes with the stance programs (skipping the
+    boxes below the front's floor) and keys designs awaiting their cone programs by their leaf
+    box: its front must still equal the one found by scoring every design."""
+    p = _small_quadruped(seed, share)
+    case = None if measure in ("mass", "cost") else "fl-touchdown"
+    ref = _brute_front(p, measure, case)
+    f = frontier(p, measure, case=case, method="branch-and-bound")
+    got = [(q.payload, q.measure) for q in f.points]
+    assert f.complete and len(got) == len(ref) > 1
+    for (pa, ma), (pb, mb) in zip(got, ref, strict=True):
+        assert pa == pytest.approx(pb, rel=1e-9, abs=1e-9)
+        assert ma == pytest.approx(mb, rel=1e-6)

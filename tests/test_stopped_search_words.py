@@ -108,3 +108,26 @@ def test_the_diagnosis_lists_every_requirement_assess_checks():
         "trot: rating_use_max"
     }
 
+
+
+def test_dropping_a_duty_rating_keeps_the_life_requirement_on_its_cycle():
+    """With the trot's rating use dropped, the trot is still the cycle the life requirement
+    counts: the search of the relaxed project keeps checking gear life and gear peak use on it,
+    so its design meets every requirement the relaxed project states (the bundled leg with
+    life_min raised to 50,000 h, where the life binds at hip_fe)."""
+    from jointwright.assessment import assess
+    from jointwright.project import load_example
+    from jointwright.sizing import size
+    from jointwright.solve.explain import relax
+
+    leg = load_example("leg")
+    p = dataclasses.replace(
+        leg, requirements=dataclasses.replace(leg.requirements, life_min=50_000 * 3600.0)
+    )
+    dropped = relax(p, "trot", "rating_use_max")
+    r = size(dropped, explain=False, time_limit=60)
+    assert r.status == "optimal"
+    a = assess(dropped, r.design)
+    assert a.feasible
+    lives = [c for c in a.checks if c.requirement == "life_min"]
+    assert lives and all(c.ok for c in lives)

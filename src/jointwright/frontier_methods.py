@@ -88,8 +88,9 @@ def _bnb(
     search = BiObjectiveSearch(model, units, case, metric, sense, deadline=deadline)
     # on large option spaces the strongest end first, by the single-objective search and its
     # heuristics: the largest payload (proven: it caps every box) and a design that reaches it,
-    # whose measure prunes every box it beats (BiObjectiveSearch.incumbent); then, within half
-    # the time left, the best measure at that payload (a proven front point when it finishes).
+    # whose measure prunes every box it beats (BiObjectiveSearch.incumbent); then, within its
+    # share of the time (SEED_SHARE, SEED_SECONDS), the best measure at that payload (a proven
+    # front point when it finishes).
     # On small ones the solves cost more than they save (measured: docs/benchmarks.md)
     top = first = None
     if count(model, units) < SEED_MIN:

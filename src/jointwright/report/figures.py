@@ -194,30 +194,29 @@ def study_figure(panels, *, y_label: str, title: str) -> Figure:
 
 
 def _number_points(ax, xs: np.ndarray, ys: np.ndarray, fontsize: float = 7.0) -> None:
-    """Each point's number 1, 2, … beside it, the ends first, leaving out a number whose box
-    would overlap one already written (said in the axes' corner when any is left out)."""
-    ax.figure.canvas.draw()  # the data limits, so that positions on the page are final
-    at = ax.transData.transform(np.column_stack([xs, ys]))
-    px = fontsize * ax.figure.dpi / 72.0  # a character's height; its width about 0.6 of it
+    """Each point's number 1, 2, … beside it, the ends first, leaving out a number whose box on
+    the page would overlap one already written (said in the axes' corner when any is)."""
+    fig = ax.figure
+    fig.canvas.draw()  # the data limits and layout, so that places on the page are final
+    renderer = fig.canvas.get_renderer()
     n = len(xs)
-    boxes: list[tuple[float, float, float, float]] = []
+    boxes: list = []
     left_out = 0
     for i in dict.fromkeys([0, n - 1, *range(n)]):
-        text = str(i + 1)
-        x0, y0 = at[i, 0] + 4 * px / fontsize, at[i, 1] + 4 * px / fontsize
-        box = (x0, y0, x0 + 0.6 * px * len(text), y0 + px)
-        if any(box[0] < b[2] and b[0] < box[2] and box[1] < b[3] and b[1] < box[3] for b in boxes):
-            left_out += 1
-            continue
-        boxes.append(box)
-        ax.annotate(
-            text,
+        note = ax.annotate(
+            str(i + 1),
             (xs[i], ys[i]),
             textcoords="offset points",
             xytext=(4, 4),
             fontsize=fontsize,
             color="#2b4f77",
         )
+        box = note.get_window_extent(renderer)
+        if any(box.overlaps(b) for b in boxes):
+            note.remove()
+            left_out += 1
+            continue
+        boxes.append(box)
     if left_out:
         ax.text(
             0.99,
@@ -254,6 +253,7 @@ def frontier_figure(
     first series' points where a joint self-locks, marked ⊘ with a legend entry.
     """
     fig, (ax,) = new_figure(height=4.4)
+    first = (np.zeros(0), np.zeros(0))
     for k, (label, (xs, ys)) in enumerate(series.items()):
         xs, ys = np.asarray(xs, dtype=float), np.asarray(ys, dtype=float)
         order = np.argsort(xs, kind="stable")
@@ -263,8 +263,8 @@ def frontier_figure(
             else dict(color="#8a8a8a", lw=1.2, ms=4, ls="--")
         )
         ax.plot(xs[order], ys[order], marker="o", label=label, drawstyle=f"steps-{steps}", **style)
-        if k == 0 and numbered:
-            _number_points(ax, xs, ys)
+        if k == 0:
+            first = (xs, ys)
         if k == 0 and len(self_locking):
             at = np.asarray(list(self_locking), dtype=int)
             ax.plot(
@@ -292,4 +292,7 @@ def frontier_figure(
     set_labels(ax, x_label, y_label)
     set_title(ax, title)
     figure_legend(fig, [ax], ncols=3)
+    if numbered and series:
+        # last: every artist is drawn, so the axes' limits and the numbers' places are final
+        _number_points(ax, *first)
     return fig

@@ -14,10 +14,12 @@ node wait as one entry keyed by the best not yet taken. An entry is dropped when
 weakly dominates its best corner, when a known feasible design (an incumbent) beats it strictly,
 or when some requirement is provably missed (the single-objective cuts). Total mass and cost are
 bounded exactly by the assigned values plus each free joint's least value. Complete designs
-are scored in batches by the physics oracle on the static cases; the costly ones (duty cycles,
-stance) are checked when the design reaches the head of the queue, and its full payload (never
-above the static one) puts it back. A fully checked design at the head joins the front: every
-design of larger payload has been resolved by then, so each point is final when found (proof:
+are scored in batches by the physics oracle on the static cases and wait keyed by the smaller of
+their static payload and their leaf box (whose stance programs bound the stance cases); the
+costly ones (duty cycles, stance) are checked when the design reaches the head of the queue, and
+its full payload (never above that key past the tie tolerance) puts it back. A fully checked
+design at the head joins the front: every design of larger payload has been resolved by then,
+so each point is final when found (proof:
 docs/frontier.md, "Method: bi-objective branch and bound"). Past the deadline the search
 stops: the points found are proven, and the entries left bound the region where points may be
 missing.
@@ -166,8 +168,9 @@ class BiObjectiveSearch(FrontArchive):
                 full = self.model.score(idx[None, :], full=True)
                 self.checked += 1
                 if full.feasible[0]:
-                    # its full payload (p, the key, may be a stance program's bound above it)
-                    q = float(full.objective[0])
+                    # its full payload (p, the key, may be a stance program's bound above it;
+                    # never above the key past the tie tolerance, so the front stays ordered)
+                    q = min(float(full.objective[0]), p + tie_tol(p))
                     heapq.heappush(heap, (-q, negm, mass, refl, next(tick), FINAL, idx, level))
             else:
                 self._add(p, m, idx, mass, refl)

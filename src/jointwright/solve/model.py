@@ -25,6 +25,7 @@ import numpy as np
 
 from ..evaluate import Evaluator
 from ..problem import checks, feasible, objective, objective_names, objective_transform
+from ..project import life_shares
 from . import budget_bound, impact_bound, node_bounds
 from .case_terms import payload_terms, torque_terms
 
@@ -91,8 +92,13 @@ class SizingModel:
         self.impact_evaluator = (
             Evaluator(dataclasses.replace(project, cases=impact)) if impact else None
         )
-        # duty cases set no objective; only those with a limit take part in the search
-        self.duty = tuple(c for c in project.cases if c.kind == "duty" and c.limits)
+        # duty cases set no objective; only those with a limit, or counted by the gear-life
+        # requirement (its per-joint life and gear peak use read their cycles), take part
+        life = project.requirements.life_min > 0
+        counted = {name for name, _share in life_shares(project)} if life else set()
+        self.duty = tuple(
+            c for c in project.cases if c.kind == "duty" and (c.limits or c.name in counted)
+        )
         # stance cases (a cone program per design) are checked lazily like duty cycles; their
         # payload joins the objective only there, so the screen's objective is an upper bound;
         # like duty cases, only those with a limit or in the objective take part in the search
