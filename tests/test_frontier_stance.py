@@ -9,11 +9,11 @@ standard gravity g_n = 9.80665 m/s², CGPM 1901 [pub]).
 from __future__ import annotations
 
 import pytest
+from test_solve_stance_bound import _quadruped
 
 from jointwright.cases import STANDARD_GRAVITY
 from jointwright.errors import InputError
 from jointwright.frontier import frontier, with_payload_floor
-from test_solve_stance_bound import _quadruped
 
 
 def test_payload_floor_binds_stance_cases_as_well_as_payload_cases():
@@ -77,9 +77,8 @@ def _small_quadruped(seed: int, budget_share: float):
 def _brute_front(p, measure: str, case):
     """The non-dominated (payload, measure) set by scoring every design with the full physics
     (stance cone programs included): the definition of the front, computed directly."""
-    import itertools
-
     import numpy as np
+    from test_solve_search import grouped_designs
 
     from jointwright.frontier import MEASURES, with_limit
     from jointwright.options import build_table
@@ -91,13 +90,7 @@ def _brute_front(p, measure: str, case):
     table = build_table(p)
     joints = list(p.robot.actuated)
     groups = [[joints.index(j) for j in g] for g in p.objective["shared"]]
-    rows = []
-    for combo in itertools.product(range(len(table)), repeat=len(groups)):
-        idx = np.empty(len(joints), dtype=np.int64)
-        for g, o in zip(groups, combo, strict=True):
-            idx[g] = o
-        rows.append(idx)
-    idx = np.array(rows)
+    idx = grouped_designs(len(joints), groups, len(table))
     model = SizingModel(p, table, [np.arange(len(table))] * len(joints))
     arrays = table.arrays(idx)
     ev = model.evaluator.evaluate(arrays, detail=False)

@@ -11,11 +11,11 @@ using it must still find the enumerated optimum.
 from __future__ import annotations
 
 import dataclasses
-import itertools
 from importlib import resources
 
 import numpy as np
 import pytest
+from test_solve_search import grouped_designs
 
 from jointwright.catalog.model import Catalog
 from jointwright.options import build_table
@@ -71,13 +71,7 @@ def _enumerate(project, table):
     joints = list(project.robot.actuated)
     groups = [[joints.index(j) for j in g] for g in project.objective["shared"]]
     model = SizingModel(project, table, [np.arange(len(table))] * len(joints), "payload", groups)
-    rows = []
-    for combo in itertools.product(range(len(table)), repeat=len(groups)):
-        idx = np.empty(len(joints), dtype=np.int64)
-        for g, o in zip(groups, combo, strict=True):
-            idx[g] = o
-        rows.append(idx)
-    return model.best_key(np.array(rows))
+    return model.best_key(grouped_designs(len(joints), groups, len(table)))
 
 
 @pytest.mark.slow

@@ -12,6 +12,7 @@ arms built with Robot.from_links.
 from __future__ import annotations
 
 import dataclasses
+import itertools
 import math
 from importlib import resources
 
@@ -625,7 +626,6 @@ def test_quadruped_with_stance_cases_matches_enumeration(seed, kind):
     """The bundled quadruped (floating base, legs shared, two stance cases with friction cones,
     a leg payload case and an IMF limit) on a small random catalog: the search's optimum equals
     the best of every combination of the three shared groups' options, each scored in full."""
-    import itertools
 
     q = example("quadruped")
     rng = np.random.default_rng(seed)
@@ -641,13 +641,7 @@ def test_quadruped_with_stance_cases_matches_enumeration(seed, kind):
     joints = list(project.robot.actuated)
     groups = [[joints.index(j) for j in g] for g in q.objective["shared"]]
     model = SizingModel(project, table, [np.arange(len(table))] * len(joints), kind, groups)
-    rows = []
-    for combo in itertools.product(range(len(table)), repeat=len(groups)):
-        idx = np.empty(len(joints), dtype=np.int64)
-        for g, o in zip(groups, combo, strict=True):
-            idx[g] = o
-        rows.append(idx)
-    key = model.best_key(np.array(rows))
+    key = model.best_key(grouped_designs(len(joints), groups, len(table)))
     res = size(project, explain=False, gap=0)
     if key is None:
         assert res.status == "infeasible"
@@ -791,3 +785,15 @@ def test_measure_objectives_assign_the_joints_that_move_the_bound_first():
     payload_model, _ = build_model(arm, "payload", {}, [], [])
     porder = search_order(payload_model, units)
     assert spread_order(payload_model, porder) == porder
+
+
+def grouped_designs(n: int, groups, options: int) -> np.ndarray:
+    """Every design (D, n) in which each group of joints (lists of joint indices covering all
+    n) takes one of ``options`` options together: the enumeration of a shared-leg robot."""
+    rows = []
+    for combo in itertools.product(range(options), repeat=len(groups)):
+        idx = np.empty(n, dtype=np.int64)
+        for g, o in zip(groups, combo, strict=True):
+            idx[g] = o
+        rows.append(idx)
+    return np.array(rows)
