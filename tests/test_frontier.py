@@ -302,3 +302,22 @@ def test_a_stopped_second_stage_keeps_the_design_it_started_from(leg, monkeypatc
     assert status2 == "time_limit"
     assert np.array_equal(index, first)
     assert assess(free, again).feasible
+
+
+def test_the_sweep_is_capped_by_solves_only_without_a_time_limit(leg, monkeypatch):
+    """``points`` left out: a run bounded by its time limit has no cap on solves (the time
+    bounds it: the arm's cost front needs 91 solves, docs/benchmarks.md), a run without one at
+    most DEFAULT_SOLVES; a number given is kept either way."""
+    import jointwright.frontier as fr
+
+    seen = []
+
+    def fake(project, name, key, metric, sense, points, *rest):
+        seen.append(points)
+        raise RuntimeError("stop")
+
+    monkeypatch.setattr(fr, "_sweep", fake)
+    for kwargs in ({"time_limit": 30.0}, {}, {"time_limit": 30.0, "points": 7}):
+        with pytest.raises(RuntimeError, match="stop"):
+            fr.frontier(leg, "imf", method="sweep", **kwargs)
+    assert seen[0] > 10**9 and seen[1] == fr.DEFAULT_SOLVES and seen[2] == 7

@@ -23,6 +23,7 @@ Near-duplicate neighbours may be merged for display (``merge``, a fraction of ea
 from __future__ import annotations
 
 import math
+import sys
 import time
 
 from .errors import InputError, unknown_name
@@ -92,12 +93,16 @@ def _a(word: str) -> str:
 EXHAUSTIVE_MAX = 20_000_000
 
 
+#: the sweep's most solves when neither ``points`` nor a time limit bounds it
+DEFAULT_SOLVES = 50
+
+
 def frontier(
     project,
     measure: str = "imf",
     *,
     case: str | None = None,
-    points: int = 50,
+    points: int | None = None,
     time_limit: float | None = None,
     backend: str = "search",
     method: str = "auto",
@@ -112,7 +117,8 @@ def frontier(
         (total actuator mass, kg) or "cost" (total actuator cost, the catalog's currency units)
     case : name of the impact / back-drive case; default the first of that kind; none for
         "mass" and "cost"
-    points : most sizing solves (the frontier is marked incomplete when it is reached)
+    points : most sizing solves of the sweep (the frontier is marked incomplete when it is
+        reached); None: no cap when ``time_limit`` bounds the run, else :data:`DEFAULT_SOLVES`
     time_limit : s for the whole sweep
     backend : passed to :func:`jointwright.sizing.size` (sweep)
     method : "branch-and-bound" (bi-objective branch and bound: complete and proven; past the
@@ -131,7 +137,9 @@ def frontier(
         raise InputError(
             "<api>", "measure", f"must be one of {', '.join(MEASURES)}, got {measure!r}"
         )
-    if not isinstance(points, int) or points < 1:
+    if points is None:
+        points = DEFAULT_SOLVES if time_limit is None else sys.maxsize
+    if isinstance(points, bool) or not isinstance(points, int) or points < 1:
         raise InputError("<api>", "points", f"must be a whole number >= 1, got {points!r}")
     c = _case(project, measure, case)
     name = None if c is None else c.name

@@ -245,9 +245,8 @@ def print_frontier(f, shared=(), limit: float | None = None) -> None:
 @click.option(
     "--points",
     type=click.IntRange(min=1),
-    default=50,
-    show_default=True,
-    help="most exact solves (sweep)",
+    default=None,
+    help="most exact solves (sweep); default: no cap with --time-limit, else 50",
 )
 @click.option(
     "--time-limit",
