@@ -37,38 +37,18 @@ def test_exhaustive_refuses_a_front_too_large_to_score():
 
 
 def _small_quadruped(seed: int, budget_share: float):
-    """The bundled quadruped (legs shared; stance, payload and impact cases) cut to 3 of its
-    motors and 2 stage types with one frame and two ratios each, every case limit removed, and a
-    total-mass budget: 15 options per leg joint, 3,375 designs, small enough to score them all."""
+    """The bundled quadruped (legs shared; stance, payload and impact cases) cut as in
+    test_solve_stance_bound, every case limit removed, and a total-mass budget: 15 options per
+    leg joint, 3,375 designs, small enough to score them all."""
     import dataclasses
-    import math
 
     import numpy as np
 
-    from jointwright.catalog.model import Catalog
     from jointwright.options import build_table
     from jointwright.project import Requirements, load_example
 
-    q = load_example("quadruped")
-    rng = np.random.default_rng(seed)
-    chosen = sorted(rng.choice(len(q.catalog.motors), 3, replace=False))
-    motors = tuple(q.catalog.motors[i] for i in chosen)
-    stages = []
-    for s in q.catalog.stages[:2]:
-        frames = (s.frames[int(rng.integers(len(s.frames)))],)
-        ratios = s.ratios
-        if ratios is not None:
-            ratios = tuple(sorted(float(r) for r in rng.choice(ratios, 2, replace=False)))
-        stages.append(dataclasses.replace(s, frames=frames, ratios=ratios))
-    p = dataclasses.replace(
-        q,
-        catalog=Catalog(motors=motors, stages=tuple(stages), drives=q.catalog.drives),
-        cases=tuple(dataclasses.replace(c, limits={}) for c in q.cases),
-        objective={"maximize": "payload", "shared": q.objective["shared"]},
-        requirements=Requirements(total_mass_max=math.inf),
-        max_stages=1,
-        stage_kinds=None,
-    )
+    shared = load_example("quadruped").objective["shared"]
+    p = _quadruped(seed, shared=shared, kinds=None)
     mass = build_table(p).rows["mass"]
     budget = float(4 * (mass.min() + mass.max()) + 4 * np.median(mass)) * budget_share
     return dataclasses.replace(p, requirements=Requirements(total_mass_max=budget))

@@ -29,7 +29,9 @@ from jointwright.solve.stance_bound import GROUPS, StanceBound, option_groups
 from jointwright.solve.stance_program import upper_hull
 
 
-def _quadruped(seed: int, budget: float = math.inf, shared=()):
+def _quadruped(seed: int, budget: float = math.inf, shared=(), kinds=("stance",)):
+    """The bundled quadruped cut to 3 of its motors and 2 stage types (one frame, two ratios
+    each), its cases of ``kinds`` (None: all) with their limits removed."""
     with resources.as_file(resources.files("jointwright.examples") / "quadruped") as folder:
         q = load_project(folder / "project.toml")
     rng = np.random.default_rng(seed)
@@ -43,7 +45,9 @@ def _quadruped(seed: int, budget: float = math.inf, shared=()):
         if ratios is not None:
             ratios = tuple(sorted(float(r) for r in rng.choice(ratios, 2, replace=False)))
         stages.append(dataclasses.replace(s, frames=fr, ratios=ratios))
-    cases = tuple(dataclasses.replace(c, limits={}) for c in q.cases if c.kind == "stance")
+    cases = tuple(
+        dataclasses.replace(c, limits={}) for c in q.cases if kinds is None or c.kind in kinds
+    )
     return dataclasses.replace(
         q,
         catalog=Catalog(motors=motors, stages=tuple(stages), drives=q.catalog.drives),

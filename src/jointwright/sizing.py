@@ -12,7 +12,6 @@ from __future__ import annotations
 
 import dataclasses
 import math
-import re
 import time
 
 import numpy as np
@@ -290,18 +289,18 @@ def finish(
         names = empty[0] if len(empty) == 1 else f"{', '.join(empty[:-1])} or {empty[-1]}"
         outcome = dataclasses.replace(
             outcome,
-            native=f"no option of {names} meets the joint's own requirements (per-joint "
-            "filters; the diagnosis names the requirement)",
+            native=f"no option of {names} meets the joint's own requirements (per-joint filters)",
         )
-    if outcome.index is None and not explain and outcome.native:
-        # no diagnosis in this run (--no-explain, a study's cases): say how to get it instead
-        # of pointing to one that is not there
+    if outcome.index is None and outcome.status == "infeasible":
+        # where to read why: the diagnosis when this run computes it (the explanation), else
+        # how to get it (--no-explain, a study's cases)
         outcome = dataclasses.replace(
             outcome,
-            native=re.sub(
-                r"\s*\([^()]*diagnosis[^()]*\)",
-                " (no diagnosis in this run: size the project with the explanation on for it)",
-                outcome.native,
+            native=f"{outcome.native}; "
+            + (
+                "the diagnosis shows each requirement's part"
+                if explain
+                else "no diagnosis in this run: size the project with the explanation on for it"
             ),
         )
     if outcome.index is None:

@@ -84,16 +84,11 @@ def sweep_units(project) -> list[tuple[int, ...]]:
     """The joints varied together: each shared group (``[objective] shared``) once, at its first
     joint's place, every other joint alone; in the robot's joint order."""
     from ..objective import read_objective
+    from ..solve.model import units_in_joint_order
 
     joints = list(project.robot.actuated)
     groups = [tuple(joints.index(j) for j in g) for g in read_objective(project)["shared"]]
-    of = {j: g for g in groups for j in g}
-    out: list[tuple[int, ...]] = []
-    for j in range(len(joints)):
-        unit = of.get(j, (j,))
-        if unit not in out:
-            out.append(unit)
-    return out
+    return units_in_joint_order(len(joints), groups)
 
 
 def ratio_sweep(project, evaluator, arrays, factors=RATIO_FACTORS) -> RatioSweep:

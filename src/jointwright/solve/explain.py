@@ -14,7 +14,7 @@ import numpy as np
 from ..margin_words import binding_labels
 from ..problem import MINIMIZED, checks, feasible
 from ..project import STANDARD_GRAVITY, JointLimits, Requirements
-from .model import unit_options
+from .model import unit_options, units_in_joint_order
 from .result import Alternative, Diagnosis, SolveOutcome
 
 #: the exact value search a re-solve runs: (project, kind, *, table, time_limit) -> outcome
@@ -43,14 +43,7 @@ SCREEN_CHUNK = 4096
 
 def _units(model) -> list[tuple]:
     """Decision units in joint order: a shared group is changed as a whole."""
-    grouped = {j: tuple(g) for g in model.shared for j in g}
-    out, seen = [], set()
-    for j in range(model.n):
-        u = grouped.get(j, (j,))
-        if u not in seen:
-            seen.add(u)
-            out.append(u)
-    return out
+    return units_in_joint_order(model.n, model.shared)
 
 
 def _evaluate(model, full_idx: np.ndarray, costly: bool):

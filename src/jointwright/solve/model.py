@@ -45,6 +45,18 @@ def unit_options(candidates: Sequence[np.ndarray], unit: Sequence[int]) -> np.nd
     return np.asarray(opts, dtype=np.int64)
 
 
+def units_in_joint_order(n: int, shared) -> list[tuple[int, ...]]:
+    """Decision units in joint order: each shared group (tuples of joint indices) once, at its
+    first joint's place, every other joint alone."""
+    grouped = {j: tuple(g) for g in shared for j in g}
+    out: list[tuple[int, ...]] = []
+    for j in range(n):
+        unit = grouped.get(j, (j,))
+        if unit not in out:
+            out.append(unit)
+    return out
+
+
 def tie_tol(value: float) -> float:
     return TIE_TOLERANCE * max(1.0, abs(value)) if math.isfinite(value) else 0.0
 

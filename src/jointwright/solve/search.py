@@ -112,11 +112,10 @@ class BranchAndBound:
             names = joints[0] if len(joints) == 1 else f"{', '.join(joints[:-1])} or {joints[-1]}"
             what = (
                 "no design meets every requirement: the per-joint filters and proven bounds "
-                "rule out every option of every joint (the diagnosis shows each requirement's "
-                "part)"
+                "rule out every option of every joint"
                 if len(joints) == n
                 else f"no option of {names} can meet every requirement in any design "
-                "(per-joint filters and proven bounds; the diagnosis names the requirement)"
+                "(per-joint filters and proven bounds)"
             )
             return SolveOutcome(
                 "infeasible", None, -math.inf, -math.inf, time.perf_counter() - start, what, 0
